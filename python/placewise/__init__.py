@@ -1,0 +1,27 @@
+"""placewise: geometric optimisation of where things go.
+
+Choose sites for weighted demand (Fermat–Weber point, p-median), see worst-case coverage
+(enclosing circle and ellipse, minimax point, p-center), split a region into service areas
+(Delaunay, clipped Voronoi cells, nearest-site allocation) and design the shortest network
+linking sites (minimum spanning tree, Steiner tree).
+
+Results are planning aids under the stated model — straight-line (or city-block) distance
+and the given weights — and do not replace local regulations or licensed professional
+judgement.
+"""
+
+from __future__ import annotations
+
+from . import _core
+from ._core import DegenerateInputError, InputError
+from .median import WeberPoint, WeberPoints, weber_point
+
+__version__: str = _core.__version__
+
+__all__ = [
+    "DegenerateInputError",
+    "InputError",
+    "WeberPoint",
+    "WeberPoints",
+    "weber_point",
+]

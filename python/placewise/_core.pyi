@@ -1,0 +1,27 @@
+# Type stubs of the compiled module placewise._core (src/py/). Each family's section is
+# kept beside the others in the order of src/py/mod.rs.
+from typing import Any
+
+import numpy as np
+from numpy.typing import ArrayLike
+
+__version__: str
+
+class InputError(ValueError): ...
+class DegenerateInputError(InputError): ...
+
+# --- median (src/py/median.rs) ---
+def weber_point_single(
+    points: ArrayLike, weights: ArrayLike | None, metric: str, tol: float, max_iter: int
+) -> tuple[np.ndarray, float, float, int, bool]: ...
+def weber_point_grouped(
+    points: ArrayLike, weights: ArrayLike | None, groups: ArrayLike, metric: str, tol: float, max_iter: int
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray]: ...
+
+# --- enclose (src/py/enclose.rs) ---
+
+# --- partition (src/py/partition.rs) ---
+
+# --- network (src/py/network.rs) ---
+
+# --- multi (src/py/multi.rs) ---

@@ -1,0 +1,2 @@
+//! Enclosing shapes: smallest enclosing circle, weighted minimax point, minimum-volume
+//! enclosing ellipse.

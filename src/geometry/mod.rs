@@ -1,0 +1,148 @@
+//! Shared point and vector helpers, input validation and the exact predicates.
+//!
+//! Points are `[f64; 2]`: a C-contiguous `(n, 2)` float64 numpy array is reinterpreted as
+//! `&[Point]` without a copy by the binding layer.
+
+pub mod predicates;
+pub mod sum;
+pub mod validate;
+
+pub use sum::CompensatedSum;
+pub use validate::{validate_points, validate_weights, Weights};
+
+/// A planar point or vector `[x, y]`.
+pub type Point = [f64; 2];
+
+/// `a - b`.
+#[inline]
+pub fn sub(a: Point, b: Point) -> Point {
+    [a[0] - b[0], a[1] - b[1]]
+}
+
+/// `a + b`.
+#[inline]
+pub fn add(a: Point, b: Point) -> Point {
+    [a[0] + b[0], a[1] + b[1]]
+}
+
+/// `s * a`.
+#[inline]
+pub fn scale(a: Point, s: f64) -> Point {
+    [a[0] * s, a[1] * s]
+}
+
+/// Euclidean norm, without intermediate overflow or underflow.
+#[inline]
+pub fn norm(a: Point) -> f64 {
+    a[0].hypot(a[1])
+}
+
+/// Euclidean distance between two points.
+#[inline]
+pub fn distance(a: Point, b: Point) -> f64 {
+    norm(sub(a, b))
+}
+
+/// Squared Euclidean distance (no square root; for comparisons).
+#[inline]
+pub fn distance_squared(a: Point, b: Point) -> f64 {
+    let d = sub(a, b);
+    d[0] * d[0] + d[1] * d[1]
+}
+
+/// Dot product.
+#[inline]
+pub fn dot(a: Point, b: Point) -> f64 {
+    a[0] * b[0] + a[1] * b[1]
+}
+
+/// Axis-aligned bounding box of a point set.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct BoundingBox {
+    /// Smallest x and y.
+    pub min: Point,
+    /// Largest x and y.
+    pub max: Point,
+}
+
+impl BoundingBox {
+    /// The box of `points`; `None` when there are none.
+    pub fn of(points: &[Point]) -> Option<BoundingBox> {
+        let first = *points.first()?;
+        let mut b = BoundingBox { min: first, max: first };
+        for p in &points[1..] {
+            b.min[0] = b.min[0].min(p[0]);
+            b.min[1] = b.min[1].min(p[1]);
+            b.max[0] = b.max[0].max(p[0]);
+            b.max[1] = b.max[1].max(p[1]);
+        }
+        Some(b)
+    }
+
+    /// Centre of the box.
+    pub fn center(&self) -> Point {
+        [0.5 * (self.min[0] + self.max[0]), 0.5 * (self.min[1] + self.max[1])]
+    }
+
+    /// Length of the diagonal.
+    pub fn diagonal(&self) -> f64 {
+        distance(self.min, self.max)
+    }
+
+    /// The box grown by `fraction` of its width and height on every side.
+    pub fn grown(&self, fraction: f64) -> BoundingBox {
+        let dx = (self.max[0] - self.min[0]) * fraction;
+        let dy = (self.max[1] - self.min[1]) * fraction;
+        BoundingBox { min: [self.min[0] - dx, self.min[1] - dy], max: [self.max[0] + dx, self.max[1] + dy] }
+    }
+}
+
+/// Points shifted so that the centre of their bounding box is the origin.
+///
+/// Why: projected coordinates such as (500 000, 6 000 000) leave only ~9 significant
+/// digits for differences at the metre scale once squared; every kernel that forms
+/// squares, circumcircles or moment matrices works relative to this local origin and
+/// shifts its answer back.
+pub fn to_local_frame(points: &[Point]) -> (Point, Vec<Point>) {
+    let origin = BoundingBox::of(points).map(|b| b.center()).unwrap_or([0.0, 0.0]);
+    (origin, points.iter().map(|&p| sub(p, origin)).collect())
+}
+
+/// Signed area of a closed ring (counter-clockwise positive), by the shoelace formula
+/// evaluated relative to the first vertex.
+pub fn ring_signed_area(ring: &[Point]) -> f64 {
+    if ring.len() < 3 {
+        return 0.0;
+    }
+    let o = ring[0];
+    let mut twice = 0.0;
+    for i in 1..ring.len() - 1 {
+        let a = sub(ring[i], o);
+        let b = sub(ring[i + 1], o);
+        twice += a[0] * b[1] - a[1] * b[0];
+    }
+    0.5 * twice
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn ring_area_of_unit_square_is_one_ccw_and_minus_one_cw() {
+        // Closed form: the unit square has area 1.
+        let sq = [[0.0, 0.0], [1.0, 0.0], [1.0, 1.0], [0.0, 1.0]];
+        assert_eq!(ring_signed_area(&sq), 1.0);
+        let mut cw = sq;
+        cw.reverse();
+        assert_eq!(ring_signed_area(&cw), -1.0);
+    }
+
+    #[test]
+    fn local_frame_centres_bounding_box() {
+        let pts = [[500_000.0, 6_000_000.0], [500_010.0, 6_000_020.0]];
+        let (o, local) = to_local_frame(&pts);
+        assert_eq!(o, [500_005.0, 6_000_010.0]);
+        assert_eq!(local, vec![[-5.0, -10.0], [5.0, 10.0]]);
+    }
+}

@@ -1,0 +1,68 @@
+//! Exact orientation and in-circle tests.
+//!
+//! Every sign decision in the crate goes through here. Both use Shewchuk's adaptive
+//! exact arithmetic (Shewchuk 1997, "Adaptive Precision Floating-Point Arithmetic and Fast
+//! Robust Geometric Predicates") via the `robust` crate: the sign is exact for every pair of
+//! finite f64 inputs whose products do not overflow (|coordinate| below about 1e150).
+
+use super::Point;
+use robust::Coord;
+
+#[inline]
+fn coord(p: Point) -> Coord<f64> {
+    Coord { x: p[0], y: p[1] }
+}
+
+/// Turn of `a → b → c`: positive when counter-clockwise, negative when clockwise,
+/// exactly zero when collinear. The magnitude is twice the triangle's signed area
+/// (approximately, when it is tiny).
+#[inline]
+pub fn orient2d(a: Point, b: Point, c: Point) -> f64 {
+    robust::orient2d(coord(a), coord(b), coord(c))
+}
+
+/// Positive when `d` lies strictly inside the circle through `a, b, c` (given
+/// counter-clockwise), negative outside, exactly zero on it.
+#[inline]
+pub fn incircle(a: Point, b: Point, c: Point, d: Point) -> f64 {
+    robust::incircle(coord(a), coord(b), coord(c), coord(d))
+}
+
+/// True when every point lies on one line (fewer than three points count as collinear).
+pub fn all_collinear(points: &[Point]) -> bool {
+    let Some(&a) = points.first() else { return true };
+    let Some(&b) = points.iter().find(|&&p| p != a) else { return true };
+    points.iter().all(|&c| orient2d(a, b, c) == 0.0)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn orientation_sign_is_exact_for_nearly_collinear_points() {
+        // Classic failure case of naive evaluation: points on y = x with tiny offsets
+        // (Kettner et al. 2008, "Classroom examples of robustness problems").
+        let a = [0.5, 0.5];
+        let b = [12.0, 12.0];
+        let c = [24.0, 24.0];
+        assert_eq!(orient2d(a, b, c), 0.0);
+        let c2 = [24.0, 24.0 + 24.0 * f64::EPSILON];
+        assert!(orient2d(a, b, c2) > 0.0);
+    }
+
+    #[test]
+    fn incircle_of_unit_square_corner_is_zero() {
+        // Closed form: the four corners of a square are cocircular.
+        let sq = [[0.0, 0.0], [1.0, 0.0], [1.0, 1.0], [0.0, 1.0]];
+        assert_eq!(incircle(sq[0], sq[1], sq[2], sq[3]), 0.0);
+        assert!(incircle(sq[0], sq[1], sq[2], [0.5, 0.5]) > 0.0);
+    }
+
+    #[test]
+    fn collinear_detection() {
+        assert!(all_collinear(&[[0.0, 0.0], [1.0, 1.0], [2.0, 2.0], [1.0, 1.0]]));
+        assert!(!all_collinear(&[[0.0, 0.0], [1.0, 1.0], [2.0, 2.0], [1.0, 0.0]]));
+        assert!(all_collinear(&[[3.0, 3.0], [3.0, 3.0]]));
+    }
+}

@@ -1,0 +1,1 @@
+//! Many sites at once: continuous p-median (multisource Weber) and p-center.

@@ -1,0 +1,1 @@
+//! Networks linking sites: Euclidean minimum spanning tree and Euclidean Steiner trees.

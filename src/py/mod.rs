@@ -1,0 +1,25 @@
+//! PyO3 bindings: numpy ⇄ slices, GIL release, errors → exceptions. No geometry here.
+//!
+//! One file per kernel family, each with a `register` function called below; every
+//! wrapper converts its arguments with [`convert`], runs the pure kernel through
+//! [`run_detached`] and returns plain numpy arrays and scalars that the Python package
+//! wraps into result objects.
+
+use pyo3::prelude::*;
+
+mod convert;
+mod errors;
+mod median;
+
+pub(crate) use convert::{labels_arg, points_arg, weights_arg};
+pub(crate) use errors::run_detached;
+
+/// The compiled module `placewise._core`.
+#[pymodule]
+#[pyo3(name = "_core")]
+fn core_module(m: &Bound<'_, PyModule>) -> PyResult<()> {
+    errors::register(m)?;
+    median::register(m)?;
+    m.add("__version__", env!("CARGO_PKG_VERSION"))?;
+    Ok(())
+}
