@@ -108,6 +108,9 @@ struct Problem<'a> {
     weights: Weights<'a>,
     origin: Point,
     total_weight: f64,
+    /// True when the points' extent is small enough that `dx² + dy²` cannot overflow, so
+    /// the plain square root can replace the slower `hypot`.
+    squares_are_safe: bool,
 }
 
 impl Problem<'_> {
@@ -125,16 +128,17 @@ impl Problem<'_> {
             }
             let a = sub(p, self.origin);
             let delta = sub(x, a);
-            let d = norm(delta);
+            let d = if self.squares_are_safe { (delta[0] * delta[0] + delta[1] * delta[1]).sqrt() } else { norm(delta) };
             if d == 0.0 {
                 pass.eta += w;
                 continue;
             }
+            let inv_d = 1.0 / d;
             pass.cost.add(w * d);
-            let u = [delta[0] / d, delta[1] / d];
+            let wd = w * inv_d;
+            let u = [delta[0] * inv_d, delta[1] * inv_d];
             pass.grad[0].add(w * u[0]);
             pass.grad[1].add(w * u[1]);
-            let wd = w / d;
             pass.inv += wd;
             pass.inv_a[0] += wd * a[0];
             pass.inv_a[1] += wd * a[1];
@@ -226,7 +230,8 @@ fn data_point_looks_optimal(problem: &Problem<'_>, x: Point, pass: &Pass) -> boo
 
 /// Solve. Inputs are validated; at least one weight is positive.
 pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: usize) -> WeberPoint {
-    let origin = BoundingBox::of(points).map(|b| b.center()).unwrap_or([0.0, 0.0]);
+    let bbox = BoundingBox::of(points).expect("validated: at least one point");
+    let origin = bbox.center();
     let mut total = CompensatedSum::default();
     let mut heaviest = 0;
     for i in 0..points.len() {
@@ -235,7 +240,13 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
             heaviest = i;
         }
     }
-    let problem = Problem { points, weights, origin, total_weight: total.total() };
+    let problem = Problem {
+        points,
+        weights,
+        origin,
+        total_weight: total.total(),
+        squares_are_safe: bbox.diagonal() < 1e150,
+    };
     let finish = |x: Point, pass: &Pass, iterations: usize, converged: bool| WeberPoint {
         location: add(x, origin),
         cost: pass.cost(),
