@@ -15,6 +15,7 @@ from __future__ import annotations
 from . import _core
 from ._core import DegenerateInputError, InputError
 from .median import WeberPoint, WeberPoints, weber_point
+from .runtime import set_threads, thread_count
 
 __version__: str = _core.__version__
 
@@ -23,5 +24,7 @@ __all__ = [
     "InputError",
     "WeberPoint",
     "WeberPoints",
+    "set_threads",
+    "thread_count",
     "weber_point",
 ]

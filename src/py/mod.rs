@@ -10,15 +10,17 @@ use pyo3::prelude::*;
 mod convert;
 mod errors;
 mod median;
+mod runtime;
 
 pub(crate) use convert::{labels_arg, points_arg, weights_arg};
-pub(crate) use errors::run_detached;
+pub(crate) use runtime::run_detached;
 
 /// The compiled module `placewise._core`.
 #[pymodule]
 #[pyo3(name = "_core")]
 fn core_module(m: &Bound<'_, PyModule>) -> PyResult<()> {
     errors::register(m)?;
+    runtime::register(m)?;
     median::register(m)?;
     m.add("__version__", env!("CARGO_PKG_VERSION"))?;
     Ok(())
