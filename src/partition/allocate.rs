@@ -1,0 +1,207 @@
+//! Nearest-site allocation: every demand point to its closest site, with the demand load of
+//! each site and the total weighted distance.
+//!
+//! The sites go into an R*-tree (Beckmann et al. 1990) built by `rstar`'s overlap-minimising
+//! bulk load (Leutenegger et al. 1997, sort-tile-recursive); the points are queried in
+//! parallel, borrowed as given.
+
+use rayon::prelude::*;
+use rstar::primitives::GeomWithData;
+use rstar::RTree;
+
+use crate::error::Result;
+use crate::geometry::{distance, validate_points, validate_weights, CompensatedSum, Point, Weights};
+
+/// Which site serves each point, how far away it is and how much demand each site gets.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Allocation {
+    /// `index[i]`: the site nearest to point `i` (the smallest site index among equally near ones).
+    pub index: Vec<usize>,
+    /// `distance[i]`: Euclidean distance from point `i` to its site.
+    pub distance: Vec<f64>,
+    /// `load[j]`: summed weight of the points allocated to site `j`.
+    pub load: Vec<f64>,
+    /// `Σ wᵢ · distance[i]`.
+    pub cost: f64,
+}
+
+type Site = GeomWithData<Point, usize>;
+
+/// Points per parallel task: large enough to amortise scheduling, small enough to balance.
+const CHUNK: usize = 4096;
+
+/// The sites' R*-tree, built once and queried many times.
+#[derive(Debug, Clone)]
+pub struct SiteIndex {
+    tree: RTree<Site>,
+    len: usize,
+}
+
+impl SiteIndex {
+    /// Index `sites` (validated: at least one, all finite).
+    ///
+    /// # Errors
+    /// [`crate::Error::TooFewPoints`] when `sites` is empty, [`crate::Error::NonFiniteCoordinate`].
+    ///
+    /// # Runtime
+    /// O(k log k) for k sites.
+    pub fn new(sites: &[Point]) -> Result<SiteIndex> {
+        validate_points("sites", sites, 1)?;
+        let items = sites.iter().enumerate().map(|(j, &s)| GeomWithData::new(s, j)).collect();
+        Ok(SiteIndex { tree: RTree::bulk_load(items), len: sites.len() })
+    }
+
+    /// Number of sites.
+    pub fn len(&self) -> usize {
+        self.len
+    }
+
+    /// Always false: an index holds at least one site.
+    pub fn is_empty(&self) -> bool {
+        self.len == 0
+    }
+
+    /// The nearest site to `p` (smallest index among equally near ones) and its distance.
+    #[inline]
+    pub fn nearest(&self, p: Point) -> (usize, f64) {
+        let mut candidates = self.tree.nearest_neighbor_iter_with_distance_2(p);
+        let (first, d2) = candidates.next().expect("a site index is never empty");
+        // Equally near sites come next in the distance order; keep the smallest index.
+        let best = candidates.take_while(|&(_, e2)| e2 == d2).fold(first.data, |b, (s, _)| b.min(s.data));
+        // Tied sites share the squared distance; the first one's position gives the distance.
+        (best, distance(p, *first.geom()))
+    }
+}
+
+/// Allocate every point to its nearest site.
+///
+/// # Errors
+/// - [`crate::Error::TooFewPoints`] when `points` or `sites` is empty;
+/// - [`crate::Error::NonFiniteCoordinate`] for a NaN or infinite coordinate in either;
+/// - [`crate::Error::LengthMismatch`], [`crate::Error::InvalidWeight`],
+///   [`crate::Error::AllWeightsZero`] for bad weights.
+///
+/// # Runtime
+/// O(k log k + n log k), the n queries in parallel.
+pub fn nearest_site(points: &[Point], sites: &[Point], weights: Weights<'_>) -> Result<Allocation> {
+    validate_points("points", points, 1)?;
+    validate_weights("weights", weights, points.len())?;
+    let index = SiteIndex::new(sites)?;
+    Ok(allocate(points, &index, weights))
+}
+
+/// [`nearest_site`] with a prebuilt site index and already-validated points and weights
+/// (for solvers that allocate the same demand to changing sites many times).
+pub fn allocate(points: &[Point], sites: &SiteIndex, weights: Weights<'_>) -> Allocation {
+    let n = points.len();
+    let mut index = vec![0usize; n];
+    let mut dist = vec![0.0f64; n];
+    index.par_chunks_mut(CHUNK).zip(dist.par_chunks_mut(CHUNK)).zip(points.par_chunks(CHUNK)).for_each(
+        |((idx, d), pts)| {
+            for ((slot, dslot), &p) in idx.iter_mut().zip(d.iter_mut()).zip(pts) {
+                let (j, dj) = sites.nearest(p);
+                *slot = j;
+                *dslot = dj;
+            }
+        },
+    );
+    let k = sites.len();
+    let (load, cost) = (0..n.div_ceil(CHUNK))
+        .into_par_iter()
+        .fold(
+            || (vec![0.0f64; k], CompensatedSum::default()),
+            |(mut load, mut cost), c| {
+                let range = c * CHUNK..((c + 1) * CHUNK).min(n);
+                for i in range {
+                    let w = weights.get(i);
+                    load[index[i]] += w;
+                    cost.add(w * dist[i]);
+                }
+                (load, cost)
+            },
+        )
+        .reduce(
+            || (vec![0.0f64; k], CompensatedSum::default()),
+            |(mut a, mut ca), (b, cb)| {
+                for (x, y) in a.iter_mut().zip(b) {
+                    *x += y;
+                }
+                ca.merge(cb);
+                (a, ca)
+            },
+        );
+    Allocation { index, distance: dist, load, cost: cost.total() }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::error::Error;
+    use proptest::prelude::*;
+
+    fn brute_force(p: Point, sites: &[Point]) -> (usize, f64) {
+        let mut best = (0, f64::INFINITY);
+        for (j, &s) in sites.iter().enumerate() {
+            let d = crate::geometry::distance_squared(p, s);
+            if d < best.1 {
+                best = (j, d);
+            }
+        }
+        (best.0, best.1.sqrt())
+    }
+
+    #[test]
+    fn ties_go_to_the_smaller_site_index() {
+        // The centre of a square is equally far from its four corners.
+        let sites = [[1.0, 1.0], [0.0, 0.0], [1.0, 0.0], [0.0, 1.0]];
+        let a = nearest_site(&[[0.5, 0.5], [0.5, 0.0]], &sites, Weights::Unit).unwrap();
+        assert_eq!(a.index, vec![0, 1]);
+        // Duplicate sites: the first copy wins.
+        let a = nearest_site(&[[5.0, 5.0]], &[[0.0, 0.0], [4.0, 4.0], [4.0, 4.0]], Weights::Unit).unwrap();
+        assert_eq!(a.index, vec![1]);
+    }
+
+    #[test]
+    fn loads_and_cost_follow_weights() {
+        let sites = [[0.0, 0.0], [10.0, 0.0]];
+        let pts = [[1.0, 0.0], [9.0, 0.0], [8.0, 0.0]];
+        let a = nearest_site(&pts, &sites, Weights::Given(&[2.0, 1.0, 0.5])).unwrap();
+        assert_eq!(a.index, vec![0, 1, 1]);
+        assert_eq!(a.load, vec![2.0, 1.5]);
+        assert_eq!(a.cost, 2.0 * 1.0 + 1.0 * 1.0 + 0.5 * 2.0);
+    }
+
+    #[test]
+    fn bad_input_is_refused() {
+        assert!(matches!(nearest_site(&[], &[[0.0, 0.0]], Weights::Unit), Err(Error::TooFewPoints { .. })));
+        assert!(matches!(nearest_site(&[[0.0, 0.0]], &[], Weights::Unit), Err(Error::TooFewPoints { .. })));
+        assert!(matches!(
+            nearest_site(&[[0.0, 0.0]], &[[f64::INFINITY, 0.0]], Weights::Unit),
+            Err(Error::NonFiniteCoordinate { argument: "sites", .. })
+        ));
+        assert!(matches!(
+            nearest_site(&[[0.0, 0.0]], &[[0.0, 0.0]], Weights::Given(&[1.0, 2.0])),
+            Err(Error::LengthMismatch { .. })
+        ));
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(64))]
+        #[test]
+        fn matches_brute_force(
+            sites in proptest::collection::vec((-50i32..50, -50i32..50), 1..40),
+            pts in proptest::collection::vec((-60.0f64..60.0, -60.0f64..60.0), 1..200),
+        ) {
+            // Integer sites make exact ties common; brute force takes the first minimum.
+            let sites: Vec<Point> = sites.iter().map(|&(x, y)| [x as f64, y as f64]).collect();
+            let pts: Vec<Point> = pts.iter().map(|&(x, y)| [x.round() / 2.0, y.round() / 2.0]).collect();
+            let a = nearest_site(&pts, &sites, Weights::Unit).unwrap();
+            for (i, &p) in pts.iter().enumerate() {
+                let (j, d) = brute_force(p, &sites);
+                prop_assert_eq!(a.index[i], j);
+                prop_assert!((a.distance[i] - d).abs() <= 1e-12 * d.max(1.0));
+            }
+            prop_assert_eq!(a.load.iter().sum::<f64>(), pts.len() as f64);
+        }
+    }
+}
