@@ -3,7 +3,9 @@
 //! Points are `[f64; 2]`: a C-contiguous `(n, 2)` float64 numpy array is reinterpreted as
 //! `&[Point]` without a copy by the binding layer.
 
+pub mod hull;
 pub mod predicates;
+pub mod random;
 pub mod sum;
 pub mod validate;
 
