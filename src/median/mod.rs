@@ -100,3 +100,55 @@ fn validate_options(options: &WeberOptions) -> Result<()> {
     }
     Ok(())
 }
+
+#[cfg(test)]
+mod properties {
+    use super::*;
+    use crate::geometry::distance;
+    use proptest::prelude::*;
+
+    fn cloud() -> impl Strategy<Value = Vec<Point>> {
+        prop::collection::vec((-1e3f64..1e3, -1e3f64..1e3).prop_map(|(x, y)| [x, y]), 1..40)
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig { cases: 64, ..ProptestConfig::default() })]
+
+        #[test]
+        fn gap_bounds_the_error(points in cloud()) {
+            let rough = weber_point(&points, Weights::Unit, &WeberOptions { tol: 1e-3, ..Default::default() }).unwrap();
+            let fine = weber_point(&points, Weights::Unit, &WeberOptions { tol: 1e-13, ..Default::default() }).unwrap();
+            prop_assert!(rough.cost - (fine.cost - fine.gap) <= rough.gap * (1.0 + 1e-9) + 1e-9);
+        }
+
+        #[test]
+        fn translation_moves_the_location(points in cloud(), dx in -1e5f64..1e5, dy in -1e5f64..1e5) {
+            let a = weber_point(&points, Weights::Unit, &WeberOptions { tol: 1e-12, ..Default::default() }).unwrap();
+            let moved: Vec<Point> = points.iter().map(|p| [p[0] + dx, p[1] + dy]).collect();
+            let b = weber_point(&moved, Weights::Unit, &WeberOptions { tol: 1e-12, ..Default::default() }).unwrap();
+            prop_assert!((a.cost - b.cost).abs() <= 1e-7 * a.cost.max(1.0));
+        }
+
+        #[test]
+        fn location_is_never_worse_than_any_data_point(points in cloud()) {
+            let r = weber_point(&points, Weights::Unit, &WeberOptions::default()).unwrap();
+            let best_data_point = points
+                .iter()
+                .map(|&c| points.iter().map(|&p| distance(p, c)).sum::<f64>())
+                .fold(f64::INFINITY, f64::min);
+            prop_assert!(r.cost <= best_data_point * (1.0 + 1e-12) + 1e-12);
+        }
+
+        #[test]
+        fn grouped_equals_separate(points in cloud(), seed in 0u64..1000) {
+            let labels: Vec<i64> = (0..points.len() as u64).map(|i| ((i * 31 + seed) % 4) as i64).collect();
+            let options = WeberOptions::default();
+            let grouped = weber_points(&points, Weights::Unit, &labels, &options).unwrap();
+            for (label, result) in grouped.labels.iter().zip(&grouped.results) {
+                let members: Vec<Point> = points.iter().zip(&labels).filter(|(_, l)| *l == label).map(|(p, _)| *p).collect();
+                let single = weber_point(&members, Weights::Unit, &options).unwrap();
+                prop_assert_eq!(single, *result);
+            }
+        }
+    }
+}
