@@ -1,0 +1,100 @@
+"""One hostile-input suite over every public kernel.
+
+Every public function, given any entry of the shared catalogue (tests/hostile.py) or any
+array hypothesis can draw — NaN, ±inf, empty, wrong shapes and dtypes, non-contiguous and
+Fortran-ordered arrays, huge and tiny scales, far offsets, duplicates, collinear and
+cocircular sets — returns an answer or raises ``placewise.InputError``: never another
+exception, never a crash.
+"""
+
+from __future__ import annotations
+
+from typing import Any, Callable
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from hypothesis.extra.numpy import array_shapes, arrays
+
+import placewise as pw
+from hostile import AWKWARD_POINTS, BAD_POINTS, BAD_WEIGHTS
+
+SITES = np.array([[0.0, 0.0], [3.0, 1.0], [-2.0, 2.0]])
+
+# name -> how to call it with a points argument (and, where it takes them, weights)
+KERNELS: dict[str, Callable[..., Any]] = {
+    "weber_point": lambda p, w=None: pw.weber_point(p, w),
+    "weber_point(manhattan)": lambda p, w=None: pw.weber_point(p, w, metric="manhattan"),
+    "enclosing_circle": lambda p, w=None: pw.enclosing_circle(p),
+    "minimax_point": lambda p, w=None: pw.minimax_point(p, w),
+    "enclosing_ellipse": lambda p, w=None: pw.enclosing_ellipse(p),
+    "delaunay": lambda p, w=None: pw.delaunay(p),
+    "voronoi_cells": lambda p, w=None: pw.voronoi_cells(p),
+    "nearest_site": lambda p, w=None: pw.nearest_site(p, SITES, w),
+    "nearest_site(sites)": lambda p, w=None: pw.nearest_site(SITES, p),
+    "spanning_tree": lambda p, w=None: pw.spanning_tree(p),
+    "steiner_tree": lambda p, w=None: pw.steiner_tree(p),
+    "p_median": lambda p, w=None: pw.p_median(p, 2, w),
+    "p_center": lambda p, w=None: pw.p_center(p, 2, w),
+}
+WEIGHTED = {"weber_point", "weber_point(manhattan)", "minimax_point", "nearest_site", "p_median", "p_center"}
+
+
+def _available(name: str) -> bool:
+    return hasattr(pw, name.split("(")[0])
+
+
+NAMES = [n for n in KERNELS if _available(n)]
+
+
+@pytest.mark.parametrize("kernel", NAMES)
+@pytest.mark.parametrize("case, points", BAD_POINTS, ids=[n for n, _ in BAD_POINTS])
+def test_bad_points_raise_input_error(kernel: str, case: str, points: Any) -> None:
+    with pytest.raises(pw.InputError):
+        KERNELS[kernel](points)
+
+
+@pytest.mark.parametrize("kernel", NAMES)
+@pytest.mark.parametrize("case, points", AWKWARD_POINTS, ids=[n for n, _ in AWKWARD_POINTS])
+def test_awkward_points_answer_or_input_error(kernel: str, case: str, points: Any) -> None:
+    try:
+        result = KERNELS[kernel](points)
+    except pw.InputError:
+        return
+    assert result is not None
+    repr(result)  # every result prints
+
+
+@pytest.mark.parametrize("kernel", [n for n in NAMES if n in WEIGHTED])
+@pytest.mark.parametrize("case, make", BAD_WEIGHTS, ids=[n for n, _ in BAD_WEIGHTS])
+def test_bad_weights_raise_input_error(kernel: str, case: str, make: Callable[[int], np.ndarray]) -> None:
+    pts = np.random.default_rng(1).normal(size=(8, 2))
+    with pytest.raises(pw.InputError):
+        KERNELS[kernel](pts, make(8))
+
+
+hostile_floats = st.one_of(
+    st.floats(allow_nan=True, allow_infinity=True),
+    st.floats(-1e12, 1e12),
+    st.sampled_from([0.0, -0.0, 1e-300, 5e-324, 1e300, 6_000_000.0]),
+)
+hostile_arrays = st.one_of(
+    arrays(np.float64, array_shapes(min_dims=1, max_dims=3, min_side=0, max_side=12), elements=hostile_floats),
+    arrays(np.float64, st.tuples(st.integers(0, 30), st.just(2)), elements=hostile_floats),
+    arrays(np.int64, st.tuples(st.integers(0, 30), st.just(2)), elements=st.integers(-(2**40), 2**40)),
+    arrays(np.float32, st.tuples(st.integers(0, 30), st.just(2)), elements=st.floats(-1e6, 1e6, width=32)),
+    arrays(np.float64, st.tuples(st.integers(0, 30), st.just(2)), elements=st.sampled_from([0.0, 1.0, 2.0])),
+)
+
+
+@pytest.mark.parametrize("kernel", NAMES)
+@settings(max_examples=40)
+@given(points=hostile_arrays, fortran=st.booleans())
+def test_property_never_anything_but_answer_or_input_error(kernel: str, points: np.ndarray, fortran: bool) -> None:
+    if fortran and points.ndim == 2:
+        points = np.asfortranarray(points)
+    try:
+        KERNELS[kernel](points)
+    except pw.InputError:
+        pass
