@@ -42,7 +42,7 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--quick", action="store_true", help="smaller sizes, fewer repeats")
     parser.add_argument("--only", default="", help="comma-separated families (default: all)")
     args = parser.parse_args(argv)
-    families = [f for f in args.only.split(",") if f] or _families()
+    families = [f for f in args.only.split(",") if f and f != "memory"] or _families()
 
     print(f"machine: {platform.machine()}, {os.cpu_count()} cores, Python {platform.python_version()}")
     header = f"| {'kernel':<34} | {'size':<22} | {'placewise':>10} | {'reference':>10} | {'ratio':>8} | {'target':>7} | {'met':<3} | note"
@@ -71,6 +71,10 @@ def main(argv: list[str] | None = None) -> int:
                 flush=True,
             )
     print(f"targets missed: {failures}")
+    if not args.only or "memory" in args.only.split(","):
+        import memory
+
+        memory.main(["--points", "1000000" if args.quick else "10000000"])
     return 0
 
 
