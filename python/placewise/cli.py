@@ -75,21 +75,20 @@ def _read_csv_points(path: Path, args: argparse.Namespace) -> Any:
     if args.crs is None and not args.planar:
         raise UserError(f"{path}: CSV coordinates need --crs (for example --crs EPSG:4326) or --planar")
     geometry = gpd.points_from_xy(coords[0], coords[1])
-    frame = gpd.GeoDataFrame(table.drop(columns=[args.x, args.y]), geometry=geometry, crs=args.crs)
-    _check_columns(frame, path, args)
-    return frame
+    return gpd.GeoDataFrame(table.drop(columns=[args.x, args.y]), geometry=geometry, crs=args.crs)
 
 
-def _check_columns(frame: Any, path: Path, args: argparse.Namespace) -> None:
-    """The --weight and --by columns exist (named with the file, before any work)."""
-    for flag in ("weight", "by"):
+def _check_columns(frame: Any, path: Path, args: argparse.Namespace, flags: Sequence[str]) -> None:
+    """The columns named by ``flags`` (--weight, --by) exist, checked before any work."""
+    for flag in flags:
         column = getattr(args, flag, None)
         if column is not None and column not in frame.columns:
             shown = ", ".join(str(c) for c in frame.columns if c != frame.geometry.name)
             raise UserError(f"{path}: no column {column!r} for --{flag} (columns: {shown or 'none'})")
 
 
-def read_points(path_text: str, args: argparse.Namespace, what: str = "input") -> Any:
+def read_points(path_text: str, args: argparse.Namespace, what: str = "input",
+                flags: Sequence[str] = ("weight", "by")) -> Any:
     """Read a frame of geometries from CSV, GeoJSON or GeoParquet."""
     import geopandas as gpd
 
@@ -98,13 +97,15 @@ def read_points(path_text: str, args: argparse.Namespace, what: str = "input") -
     if not path.is_file():
         raise UserError(f"{path}: no such file" if not path.exists() else f"{path}: not a file")
     if kind == "csv":
-        return _read_csv_points(path, args)
+        frame = _read_csv_points(path, args)
+        _check_columns(frame, path, args, flags)
+        return frame
     try:
         frame = gpd.read_file(path) if kind == "geojson" else gpd.read_parquet(path)
     except Exception as exc:  # pyogrio and pyarrow raise several types for unreadable files
         first = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
         raise UserError(f"{path}: not readable as {kind} ({first})") from None
-    _check_columns(frame, path, args)
+    _check_columns(frame, path, args, flags)
     if args.crs is not None:
         if frame.crs is None:
             frame = frame.set_crs(args.crs)
@@ -217,9 +218,9 @@ def _cmd_enclosing_ellipse(args: argparse.Namespace) -> None:
 def _cmd_voronoi_cells(args: argparse.Namespace) -> None:
     from . import gis
 
-    sites = read_points(args.input, args, "the sites")
-    region = None if args.region is None else read_points(args.region, args, "the region")
-    demand = None if args.demand is None else read_points(args.demand, args, "the demand")
+    sites = read_points(args.input, args, "the sites", ())
+    region = None if args.region is None else read_points(args.region, args, "the region", ())
+    demand = None if args.demand is None else read_points(args.demand, args, "the demand", ("weight",))
     out = gis.voronoi_cells(sites, region, demand=demand, weight=args.weight, **_common(args))
     write_frame(out, args.output, args)
     _note(args, f"{len(out)} cell(s); total area {out['area'].sum():.6g}")
@@ -229,7 +230,7 @@ def _cmd_nearest_site(args: argparse.Namespace) -> None:
     from . import gis
 
     demand = read_points(args.input, args, "the demand")
-    sites = read_points(args.sites, args, "the sites")
+    sites = read_points(args.sites, args, "the sites", ())
     out = gis.nearest_site(demand, sites, args.weight, **_common(args))
     write_frame(out, args.output, args)
     _note(args, f"{len(out)} row(s) assigned to {len(sites)} site(s); total weighted distance {out.attrs['cost']:.6g}")
@@ -265,7 +266,7 @@ def _plan_command(kind: str, args: argparse.Namespace) -> None:
     if kind == "median":
         options["effort"] = args.effort
         if args.fixed is not None:
-            options["fixed"] = read_points(args.fixed, args, "the existing sites")
+            options["fixed"] = read_points(args.fixed, args, "the existing sites", ())
         plan = gis.p_median(frame, args.p, args.weight, **_by(args), **_common(args), **options)
     else:
         plan = gis.p_center(frame, args.p, args.weight, **_by(args), **_common(args), **options)
