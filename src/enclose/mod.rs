@@ -7,9 +7,9 @@
 //!   Todd–Yildirim (2007) away steps and the Kumar–Yildirim (2005) start, on the hull.
 
 pub mod circle;
-
+pub mod ellipse;
 pub mod minimax;
 
 pub use circle::{enclosing_circle, enclosing_circle_with, enclosing_circles, Circle, CircleOptions};
-
+pub use ellipse::{enclosing_ellipse, enclosing_ellipses, Ellipse};
 pub use minimax::{minimax_point, minimax_points, MinimaxPoint};

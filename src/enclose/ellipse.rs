@@ -1,0 +1,367 @@
+//! Minimum-area enclosing ellipse (the Löwner–John ellipse of a planar point set).
+//!
+//! Khachiyan's (1996) barycentric coordinate ascent on the dual, with the away steps of Todd
+//! and Yildirim (2007), "On Khachiyan's algorithm for the computation of minimum-volume
+//! enclosing ellipsoids", and the initial core set of Kumar and Yildirim (2005),
+//! "Minimum-volume enclosing ellipsoids and core sets": the extreme points along one
+//! direction and along a direction orthogonal to the first pair.
+//!
+//! The dual variables `u` (a probability vector over the points) give the mean
+//! `c = Σ uᵢ aᵢ`, the covariance `Σ(u) = Σ uᵢ (aᵢ − c)(aᵢ − c)ᵀ` and the Mahalanobis
+//! distances `mᵢ = (aᵢ − c)ᵀ Σ⁻¹ (aᵢ − c)`. The ellipse `(x − c)ᵀ Σ⁻¹ (x − c) ≤ max mᵢ`
+//! covers every point, and weak duality bounds every covering ellipse's area from below by
+//! `2π √det Σ` (from `1 ≥ Σ uᵢ (aᵢ − z)ᵀ A (aᵢ − z) ≥ tr(AΣ) ≥ 2 √det(AΣ)`), so
+//! `max mᵢ / 2 − 1` is a certified bound on the relative area gap. Iterations stop when it
+//! is at most `tol` and no point carrying weight lies far inside (Todd and Yildirim's
+//! approximate complementarity), so the points that carry weight are on the boundary.
+//!
+//! The ellipse depends only on the convex hull's vertices, so the iteration runs on those
+//! (see [`crate::geometry::hull`]), in a frame centred on the bounding box and scaled to unit
+//! size.
+
+use crate::batch::{run_grouped, Grouped};
+use crate::error::{Error, Result};
+use crate::geometry::hull::hull_vertices;
+use crate::geometry::{sub, validate_points, BoundingBox, Point, Weights};
+
+/// Iteration limit; the certified `gap` is reported whether or not it was reached.
+const MAX_ITERATIONS: usize = 200_000;
+
+/// The minimum-area ellipse enclosing a point set.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Ellipse {
+    /// Centre `c`.
+    pub center: Point,
+    /// Symmetric positive definite `A` with `(x − c)ᵀ A (x − c) ≤ 1` for every input point.
+    pub shape: [[f64; 2]; 2],
+    /// Semi-axis lengths, major first.
+    pub semi_axes: [f64; 2],
+    /// Direction of the major axis, radians from +x, in `(−π/2, π/2]`.
+    pub angle: f64,
+    /// `π · major · minor`.
+    pub area: f64,
+    /// Indices of the input points (hull vertices) that carry the dual weight, in
+    /// increasing order; they lie on the boundary up to `tol`.
+    pub support: Vec<usize>,
+    /// Certified bound on `area / (minimum area) − 1`.
+    pub gap: f64,
+    /// Iterations (coordinate steps) taken.
+    pub iterations: usize,
+    /// True when `gap ≤ tol` was reached within the iteration limit.
+    pub converged: bool,
+}
+
+/// The minimum-area enclosing ellipse of `points`, to a relative area gap of `tol`.
+///
+/// # Errors
+/// - [`Error::TooFewPoints`] when `points` is empty or holds fewer than three distinct points;
+/// - [`Error::Degenerate`] when all points are collinear (no ellipse of positive area);
+/// - [`Error::NonFiniteCoordinate`] for a NaN or infinite coordinate;
+/// - [`Error::InvalidParameter`] unless `0 < tol < 1`.
+///
+/// # Runtime
+/// O(n log n) for the hull, then O(h) per iteration on its h vertices; the away steps give
+/// linear convergence, so the iteration count grows like `log(1/tol)` times a factor of the
+/// hull's size.
+pub fn enclosing_ellipse(points: &[Point], tol: f64) -> Result<Ellipse> {
+    validate_tol(tol)?;
+    validate_points("points", points, 1)?;
+    solve(points, tol)
+}
+
+/// [`enclosing_ellipse`] for every group of a labelled cloud, in parallel (see
+/// [`crate::batch`]); support indices refer to the whole input.
+///
+/// # Errors
+/// As [`enclosing_ellipse`], with [`Error::InGroup`] naming the group; and
+/// [`Error::LengthMismatch`] when `labels` does not have one entry per point.
+pub fn enclosing_ellipses(points: &[Point], labels: &[i64], tol: f64) -> Result<Grouped<Ellipse>> {
+    validate_tol(tol)?;
+    run_grouped(points, Weights::Unit, labels, |group| {
+        let mut e = solve(group.points, tol)?;
+        for s in &mut e.support {
+            *s = group.members[*s];
+        }
+        e.support.sort_unstable();
+        Ok(e)
+    })
+}
+
+fn validate_tol(tol: f64) -> Result<()> {
+    if !(tol > 0.0 && tol < 1.0) {
+        return Err(Error::InvalidParameter { name: "tol", reason: format!("must satisfy 0 < tol < 1; got {tol:?}") });
+    }
+    Ok(())
+}
+
+/// Mean, covariance (xx, xy, yy) and its inverse of the points under weights `u`.
+struct Moments {
+    mean: Point,
+    inverse: [f64; 3],
+    det: f64,
+}
+
+fn moments(q: &[Point], u: &[f64]) -> Moments {
+    let (mut mx, mut my) = (0.0, 0.0);
+    for (p, &w) in q.iter().zip(u) {
+        mx += w * p[0];
+        my += w * p[1];
+    }
+    let (mut sxx, mut sxy, mut syy) = (0.0, 0.0, 0.0);
+    for (p, &w) in q.iter().zip(u) {
+        let (dx, dy) = (p[0] - mx, p[1] - my);
+        sxx += w * dx * dx;
+        sxy += w * dx * dy;
+        syy += w * dy * dy;
+    }
+    let det = sxx * syy - sxy * sxy;
+    Moments { mean: [mx, my], inverse: [syy / det, -sxy / det, sxx / det], det }
+}
+
+#[inline]
+fn mahalanobis(m: &Moments, p: Point) -> f64 {
+    let (dx, dy) = (p[0] - m.mean[0], p[1] - m.mean[1]);
+    m.inverse[0] * dx * dx + 2.0 * m.inverse[1] * dx * dy + m.inverse[2] * dy * dy
+}
+
+fn degenerate_input(points: &[Point], hull: &[usize]) -> Error {
+    let distinct = match hull.len() {
+        0 | 1 => hull.len(),
+        _ => {
+            let (a, b) = (points[hull[0]], points[hull[1]]);
+            if points.iter().any(|&p| p != a && p != b) {
+                3
+            } else {
+                2
+            }
+        }
+    };
+    if distinct < 3 {
+        Error::TooFewPoints { argument: "points", needed: 3, got: distinct, counted: "distinct points" }
+    } else {
+        Error::Degenerate {
+            argument: "points",
+            reason: "all points are collinear; no ellipse of positive area encloses them".into(),
+        }
+    }
+}
+
+/// Solve; points are validated and `tol` is in range.
+fn solve(points: &[Point], tol: f64) -> Result<Ellipse> {
+    let hull = hull_vertices(points);
+    if hull.len() < 3 {
+        return Err(degenerate_input(points, &hull));
+    }
+    let hull_points: Vec<Point> = hull.iter().map(|&i| points[i]).collect();
+    let bbox = BoundingBox::of(&hull_points).expect("hull is not empty");
+    let origin = bbox.center();
+    let unit = 0.5 * (bbox.max[0] - bbox.min[0]).max(bbox.max[1] - bbox.min[1]);
+    let q: Vec<Point> = hull_points.iter().map(|&p| { let d = sub(p, origin); [d[0] / unit, d[1] / unit] }).collect();
+    let h = q.len();
+
+    // Kumar–Yildirim start: extremes along x, then along the normal of that pair.
+    let arg = |key: &dyn Fn(Point) -> f64, largest: bool| -> usize {
+        let mut best = 0;
+        for k in 1..h {
+            let (a, b) = (key(q[k]), key(q[best]));
+            if (largest && a > b) || (!largest && a < b) {
+                best = k;
+            }
+        }
+        best
+    };
+    let (i_hi, i_lo) = (arg(&|p| p[0], true), arg(&|p| p[0], false));
+    let dir = sub(q[i_hi], q[i_lo]);
+    let normal = [-dir[1], dir[0]];
+    let along = move |p: Point| normal[0] * p[0] + normal[1] * p[1];
+    let (j_hi, j_lo) = (arg(&along, true), arg(&along, false));
+    let mut u = vec![0.0; h];
+    for k in [i_hi, i_lo, j_hi, j_lo] {
+        u[k] += 0.25;
+    }
+
+    // Optimality targets: gap = 1.5 ε₊ in the plane (lifted dimension 3), so ε = tol / 1.5.
+    let eps = tol / 1.5;
+    let mut omega = vec![0.0; h];
+    let mut iterations = 0;
+    let mut converged = false;
+    loop {
+        let m = moments(&q, &u);
+        let (mut hi, mut lo) = (0usize, usize::MAX);
+        for k in 0..h {
+            // Lifted ω = 1 + Mahalanobis distance.
+            omega[k] = 1.0 + mahalanobis(&m, q[k]);
+            if omega[k] > omega[hi] {
+                hi = k;
+            }
+            if u[k] > 0.0 && (lo == usize::MAX || omega[k] < omega[lo]) {
+                lo = k;
+            }
+        }
+        let (kappa_hi, kappa_lo) = (omega[hi], omega[lo]);
+        let eps_plus = kappa_hi / 3.0 - 1.0;
+        let eps_minus = 1.0 - kappa_lo / 3.0;
+        if eps_plus <= eps && eps_minus <= eps {
+            converged = true;
+            break;
+        }
+        if iterations >= MAX_ITERATIONS || !kappa_hi.is_finite() {
+            break;
+        }
+        iterations += 1;
+        if eps_plus > eps_minus {
+            // Khachiyan's step towards the farthest point.
+            let tau = (kappa_hi - 3.0) / (3.0 * (kappa_hi - 1.0));
+            for w in &mut u {
+                *w *= 1.0 - tau;
+            }
+            u[hi] += tau;
+        } else {
+            // Todd–Yildirim away step from the nearest weighted point (a drop step when
+            // its weight runs out).
+            let full = (3.0 - kappa_lo) / (3.0 * (kappa_lo - 1.0));
+            let limit = u[lo] / (1.0 - u[lo]);
+            let tau = full.min(limit);
+            for w in &mut u {
+                *w *= 1.0 + tau;
+            }
+            if tau >= limit {
+                u[lo] = 0.0;
+            } else {
+                u[lo] -= tau;
+            }
+        }
+    }
+
+    let m = moments(&q, &u);
+    let reach = (0..h).map(|k| mahalanobis(&m, q[k])).fold(0.0f64, f64::max);
+    let s2 = unit * unit;
+    let center = [origin[0] + unit * m.mean[0], origin[1] + unit * m.mean[1]];
+    let mut shape = [m.inverse[0] / (reach * s2), m.inverse[1] / (reach * s2), m.inverse[2] / (reach * s2)];
+    // Cover exactly in the caller's coordinates (rounding of the frame change).
+    let worst = points.iter().map(|&p| form(shape, sub(p, center))).fold(0.0f64, f64::max);
+    if worst > 1.0 {
+        for v in &mut shape {
+            *v /= worst;
+        }
+    }
+    let [a, b, c] = shape;
+    let det = a * c - b * b;
+    let area = std::f64::consts::PI / det.sqrt();
+    let lower = 2.0 * std::f64::consts::PI * m.det.sqrt() * s2;
+    let gap = (area / lower - 1.0).max(0.0);
+    // Eigen-decomposition of the 2×2 form: the major axis belongs to the smaller eigenvalue.
+    let mean_eig = 0.5 * (a + c);
+    let spread = (0.5 * (a - c)).hypot(b);
+    let large = mean_eig + spread;
+    let small = det / large;
+    let mut angle = 0.5 * (2.0 * b).atan2(a - c) + std::f64::consts::FRAC_PI_2;
+    if angle > std::f64::consts::FRAC_PI_2 {
+        angle -= std::f64::consts::PI;
+    }
+    if spread == 0.0 {
+        angle = 0.0;
+    }
+    let mut support: Vec<usize> = (0..h).filter(|&k| u[k] > 0.0).map(|k| hull[k]).collect();
+    support.sort_unstable();
+    Ok(Ellipse {
+        center,
+        shape: [[a, b], [b, c]],
+        semi_axes: [1.0 / small.sqrt(), 1.0 / large.sqrt()],
+        angle,
+        area,
+        support,
+        gap,
+        iterations,
+        converged: converged && gap <= tol,
+    })
+}
+
+#[inline]
+fn form(shape: [f64; 3], d: Point) -> f64 {
+    shape[0] * d[0] * d[0] + 2.0 * shape[1] * d[0] * d[1] + shape[2] * d[1] * d[1]
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::geometry::random::SplitMix64;
+
+    fn value(e: &Ellipse, p: Point) -> f64 {
+        let d = sub(p, e.center);
+        form([e.shape[0][0], e.shape[0][1], e.shape[1][1]], d)
+    }
+
+    #[test]
+    fn triangle_gives_its_steiner_circumellipse() {
+        // Closed form: the minimum-area ellipse of a triangle is its Steiner circumellipse,
+        // centred at the centroid, of area 4π/(3√3) times the triangle's; for (0,0), (1,0),
+        // (0,1) its matrix is A = [[3, 1.5], [1.5, 3]] (from (x−c)ᵀA(x−c) = 1 through the
+        // vertices with c = (1/3, 1/3)).
+        let e = enclosing_ellipse(&[[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]], 1e-10).unwrap();
+        assert!((e.center[0] - 1.0 / 3.0).abs() < 1e-9 && (e.center[1] - 1.0 / 3.0).abs() < 1e-9);
+        for (got, want) in [(e.shape[0][0], 3.0), (e.shape[0][1], 1.5), (e.shape[1][1], 3.0)] {
+            assert!((got - want).abs() < 1e-8, "{:?}", e.shape);
+        }
+        let want_area = 4.0 * std::f64::consts::PI / (3.0 * 3f64.sqrt()) * 0.5;
+        assert!((e.area - want_area).abs() < 1e-9 * want_area);
+        assert_eq!(e.support, vec![0, 1, 2]);
+        assert!(e.converged && e.gap <= 1e-10);
+    }
+
+    #[test]
+    fn rectangle_gives_semi_axes_a_over_root_two() {
+        // Closed form: the minimum-area ellipse of an a × b rectangle is the affine image of
+        // the square's circumcircle, with semi-axes a/√2 and b/√2.
+        let (a, b) = (6.0, 2.0);
+        let pts = [[0.0, 0.0], [a, 0.0], [a, b], [0.0, b], [1.0, 1.0], [3.0, 0.0]];
+        let e = enclosing_ellipse(&pts, 1e-10).unwrap();
+        assert!((e.semi_axes[0] - a / 2f64.sqrt()).abs() < 1e-8 * a);
+        assert!((e.semi_axes[1] - b / 2f64.sqrt()).abs() < 1e-8 * b);
+        assert!(e.angle.abs() < 1e-8);
+        assert_eq!(e.support, vec![0, 1, 2, 3]);
+    }
+
+    #[test]
+    fn covers_every_point_and_support_is_on_the_boundary_far_from_origin() {
+        let mut g = SplitMix64::new(23);
+        let pts: Vec<Point> =
+            (0..5000).map(|_| [500_000.0 + 30.0 * g.next_f64(), 6_000_000.0 + 10.0 * g.next_f64()]).collect();
+        let tol = 1e-7;
+        let e = enclosing_ellipse(&pts, tol).unwrap();
+        assert!(e.converged && e.gap <= tol);
+        assert!(pts.iter().all(|&p| value(&e, p) <= 1.0 + 1e-12));
+        for &s in &e.support {
+            assert!(value(&e, pts[s]) >= 1.0 - 4.0 * tol, "{}", value(&e, pts[s]));
+        }
+    }
+
+    #[test]
+    fn degenerate_inputs_say_why() {
+        let e = enclosing_ellipse(&[[0.0, 0.0], [1.0, 1.0], [1.0, 1.0]], 1e-7).unwrap_err();
+        assert_eq!(e.to_string(), "points must hold at least 3 distinct points; got 2");
+        let line: Vec<Point> = (0..9).map(|i| [i as f64, 3.0]).collect();
+        let e = enclosing_ellipse(&line, 1e-7).unwrap_err();
+        assert!(e.to_string().contains("collinear"));
+        assert!(enclosing_ellipse(&line, 0.0).is_err());
+        assert!(enclosing_ellipse(&line, f64::NAN).is_err());
+    }
+
+    #[test]
+    fn rotated_ellipse_points_give_that_ellipse() {
+        // Points on an ellipse (semi-axes 5 and 2, major axis at 0.6 rad) spread all round it:
+        // the ellipse itself is the smallest one containing them (it is the MVEE of its own
+        // boundary, by affine equivariance of the circle case).
+        let (ra, rb, th) = (5.0, 2.0, 0.6f64);
+        let pts: Vec<Point> = (0..40)
+            .map(|k| {
+                let t = k as f64 * std::f64::consts::TAU / 40.0;
+                let (x, y) = (ra * t.cos(), rb * t.sin());
+                [x * th.cos() - y * th.sin(), x * th.sin() + y * th.cos()]
+            })
+            .collect();
+        let e = enclosing_ellipse(&pts, 1e-12).unwrap();
+        assert!((e.semi_axes[0] - ra).abs() < 1e-8 && (e.semi_axes[1] - rb).abs() < 1e-8, "{:?}", e.semi_axes);
+        assert!((e.angle - th).abs() < 1e-8);
+    }
+}
