@@ -8,6 +8,7 @@ local planar grid (x east, y north) with its origin at the district's south-west
 from __future__ import annotations
 
 import dataclasses
+from typing import Any
 
 import numpy as np
 
@@ -34,8 +35,8 @@ class Scenario:
     """
 
     name: str
-    region: object
-    lake: object
+    region: Any
+    lake: Any
     town_names: list[str]
     towns: np.ndarray
     town_people: np.ndarray

@@ -19,6 +19,7 @@ Examples
 from __future__ import annotations
 
 import argparse
+import functools
 import sys
 from pathlib import Path
 from typing import Any, Callable, NoReturn, Sequence
@@ -325,7 +326,7 @@ def build_parser() -> argparse.ArgumentParser:
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     sub.required = True
 
-    io = argparse.ArgumentParser(add_help=False)
+    io = _Parser(add_help=False)
     io.add_argument("input", help=f"points to read: {_FORMATS}")
     io.add_argument("-o", "--output", metavar="FILE", help="where to write the result (format by extension); "
                     "CSV on standard output without it")
@@ -335,15 +336,15 @@ def build_parser() -> argparse.ArgumentParser:
     io.add_argument("--planar", action="store_true", help="coordinates are planar; no CRS needed")
     io.add_argument("--centroids", action="store_true", help="use centroids of non-point geometries")
     io.add_argument("-q", "--quiet", action="store_true", help="no progress bar or summary line on stderr")
-    weight = argparse.ArgumentParser(add_help=False)
+    weight = _Parser(add_help=False)
     weight.add_argument("--weight", metavar="COLUMN", help="column of non-negative demand per row (default 1)")
-    by = argparse.ArgumentParser(add_help=False)
+    by = _Parser(add_help=False)
     by.add_argument("--by", metavar="COLUMN", help="column whose values split the rows into groups; one answer each")
-    seed = argparse.ArgumentParser(add_help=False)
+    seed = _Parser(add_help=False)
     seed.add_argument("--seed", type=int, default=0, help="seed of the randomised search [0]")
 
     def command(name: str, run: Callable[[argparse.Namespace], None], text: str,
-                parents: Sequence[argparse.ArgumentParser]) -> argparse.ArgumentParser:
+                parents: Sequence[_Parser]) -> argparse.ArgumentParser:
         p = sub.add_parser(name, help=text, description=text, parents=[io, *parents])
         p.set_defaults(run=run)
         return p
@@ -371,7 +372,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--time-limit", type=_positive_float, metavar="SECONDS", help="time allowed for the exact search")
     for name, kind, text in (("p-median", "median", "p sites minimising total weighted distance"),
                              ("p-center", "center", "p sites minimising the largest weighted distance")):
-        p = command(name, lambda a, kind=kind: _plan_command(kind, a), text, [weight, by, seed])
+        p = command(name, functools.partial(_plan_command, kind), text, [weight, by, seed])
         p.add_argument("-p", type=_positive_int, required=True, help="number of sites (per group)")
         p.add_argument("--assignment", metavar="FILE", help="also write the input rows with their site and distance")
         if kind == "median":

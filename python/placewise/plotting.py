@@ -111,6 +111,6 @@ def draw_segments(ax: Any, starts: np.ndarray, ends: np.ndarray, **style: Any) -
 
     ax = axes(ax)
     segments = np.stack([np.asarray(starts, float).reshape(-1, 2), np.asarray(ends, float).reshape(-1, 2)], axis=1)
-    ax.add_collection(LineCollection(segments, **{"colors": INK, "linewidths": 1.2, **style}))
+    ax.add_collection(LineCollection(list(segments), **{"colors": INK, "linewidths": 1.2, **style}))
     ax.autoscale_view()
     return ax
