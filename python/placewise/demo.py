@@ -38,7 +38,7 @@ import placewise as pw
 from . import plotting
 from ._scenario import Scenario, orsavel
 
-__all__ = ["DISCLAIMER", "run"]
+__all__ = ["DISCLAIMER", "Scenario", "run", "scenario"]
 
 DISCLAIMER = (
     "These results are planning aids under a model: straight-line distance and the given "
@@ -52,6 +52,19 @@ _SHORT_NOTE = (
 )
 _GRID = "metres on the invented district's local planar grid (x east, y north)"
 DEPOTS = 5
+
+
+def scenario(seed: int = 7, households: int = 12_000) -> Scenario:
+    """The demo's invented district of Orsavel (see :class:`Scenario`), for notebooks and examples.
+
+    Examples
+    --------
+    >>> from placewise.demo import scenario
+    >>> s = scenario(households=500)
+    >>> s.name, s.households.shape, len(s.region.interiors)    # one lake
+    ('Orsavel', (500, 2), 1)
+    """
+    return orsavel(seed, households)
 
 
 def _have(*names: str) -> bool:
@@ -372,7 +385,7 @@ def run(out: str | Path, *, quiet: bool = False, seed: int = 0) -> str:
     out = Path(out)
     out.mkdir(parents=True, exist_ok=True)
     w = _Writer(out, quiet)
-    s = orsavel()
+    s = scenario()
     w.say(f"{s.name}: {len(s.people):,} households, {s.people.sum():,.0f} people in {len(s.towns)} towns and around")
     import shapely
 

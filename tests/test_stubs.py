@@ -1,0 +1,30 @@
+"""The type stubs match the compiled module and the package (mypy.stubtest)."""
+
+from __future__ import annotations
+
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+pytest.importorskip("mypy")
+
+HERE = Path(__file__).resolve().parent / "stubtest"
+
+
+def test_stubtest():
+    # mypy.stubtest imports the modules and compares every name and signature with the stubs
+    # (_core.pyi for the compiled module, the typed sources for the package).
+    done = subprocess.run(
+        [sys.executable, "-m", "mypy.stubtest", "placewise", "placewise._core", "--mypy-config-file", str(HERE / "mypy.ini"),
+         "--allowlist", str(HERE / "allowlist.txt")],
+        capture_output=True, text=True, timeout=600,
+    )
+    assert done.returncode == 0, done.stdout + done.stderr
+
+
+def test_package_is_marked_typed():
+    import placewise
+
+    assert (Path(placewise.__file__).parent / "py.typed").is_file()
