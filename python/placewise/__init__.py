@@ -14,16 +14,36 @@ from __future__ import annotations
 
 from . import _core
 from ._core import DegenerateInputError, InputError
+from .enclose import (
+    Circle,
+    Circles,
+    Ellipse,
+    Ellipses,
+    MinimaxPoint,
+    MinimaxPoints,
+    enclosing_circle,
+    enclosing_ellipse,
+    minimax_point,
+)
 from .median import WeberPoint, WeberPoints, weber_point
 from .runtime import set_threads, thread_count
 
 __version__: str = _core.__version__
 
 __all__ = [
+    "Circle",
+    "Circles",
     "DegenerateInputError",
+    "Ellipse",
+    "Ellipses",
     "InputError",
+    "MinimaxPoint",
+    "MinimaxPoints",
     "WeberPoint",
     "WeberPoints",
+    "enclosing_circle",
+    "enclosing_ellipse",
+    "minimax_point",
     "set_threads",
     "thread_count",
     "weber_point",

@@ -22,6 +22,23 @@ def weber_point_grouped(
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray]: ...
 
 # --- enclose (src/py/enclose.rs) ---
+def enclosing_circle_single(points: ArrayLike, seed: int | None) -> tuple[np.ndarray, float, np.ndarray]: ...
+def enclosing_circle_grouped(
+    points: ArrayLike, groups: ArrayLike, seed: int | None
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray]: ...
+def minimax_point_single(points: ArrayLike, weights: ArrayLike | None) -> tuple[np.ndarray, float, np.ndarray]: ...
+def minimax_point_grouped(
+    points: ArrayLike, weights: ArrayLike | None, groups: ArrayLike
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray]: ...
+def enclosing_ellipse_single(
+    points: ArrayLike, tol: float
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, float, float, np.ndarray, float, int, bool]: ...
+def enclosing_ellipse_grouped(
+    points: ArrayLike, groups: ArrayLike, tol: float
+) -> tuple[
+    np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray,
+    np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray,
+]: ...
 
 # --- partition (src/py/partition.rs) ---
 

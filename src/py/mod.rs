@@ -8,8 +8,10 @@
 use pyo3::prelude::*;
 
 mod convert;
+mod enclose;
 mod errors;
 mod median;
+mod partition;
 mod runtime;
 
 pub(crate) use convert::{labels_arg, points_arg, weights_arg};
@@ -22,6 +24,8 @@ fn core_module(m: &Bound<'_, PyModule>) -> PyResult<()> {
     errors::register(m)?;
     runtime::register(m)?;
     median::register(m)?;
+    partition::register(m)?;
+    enclose::register(m)?;
     m.add("__version__", env!("CARGO_PKG_VERSION"))?;
     Ok(())
 }
