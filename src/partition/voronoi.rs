@@ -1,0 +1,504 @@
+//! Voronoi cells of sites, clipped to a study region (non-convex, with holes, in several
+//! parts).
+//!
+//! Each site's cell is the intersection of the region's bounding box with the half-planes
+//! closer to the site than to each of its Delaunay neighbours (the Voronoi cell is determined
+//! by the Delaunay neighbours alone: Delaunay 1934, Voronoi 1908), cut one half-plane at a
+//! time (Sutherland & Hodgman 1974) in a local frame scaled by a power of two. A rectangular
+//! region ends there. Any other region is normalised once and every cell that meets its
+//! boundary is intersected with it by `i_overlay` on a 64-bit integer grid shared by all
+//! cells; cells clear of the boundary are kept or dropped whole after one ray-crossing test.
+
+use std::collections::HashMap;
+
+use i_overlay::core::fill_rule::FillRule;
+use i_overlay::core::overlay::ShapeType;
+use i_overlay::core::overlay_rule::OverlayRule;
+use i_overlay::core::solver::Solver;
+use i_overlay::float::overlay::{FloatOverlay, OverlayOptions};
+use i_overlay::i_float::adapter::FloatPointAdapter;
+use i_overlay::i_float::float::rect::FloatRect;
+use rayon::prelude::*;
+use rstar::primitives::{GeomWithData, Line};
+use rstar::{RTree, AABB};
+
+use super::delaunay::delaunay;
+use crate::error::{Error, Result};
+use crate::geometry::predicates::{all_collinear, orient2d};
+use crate::geometry::{dot, ring_signed_area, sub, validate_points, BoundingBox, Point};
+
+/// A study region as closed rings (exteriors and holes alike; a point is inside when it is
+/// enclosed by an odd number of rings). Ring `r` is `vertices[ring_offsets[r]..ring_offsets[r + 1]]`;
+/// a ring may repeat its first vertex at its end.
+#[derive(Debug, Clone, Copy)]
+pub struct Region<'a> {
+    /// Every ring's vertices, one ring after another.
+    pub vertices: &'a [Point],
+    /// `R + 1` ascending offsets into `vertices`, from 0 to `vertices.len()`.
+    pub ring_offsets: &'a [usize],
+}
+
+/// Voronoi cells clipped to a region, as rings of vertices.
+///
+/// Cell `i` is the rings `parts[r]..parts[r + 1]` lying in `vertices[offsets[i]..offsets[i + 1]]`:
+/// each piece is a counter-clockwise exterior ring followed by its clockwise holes. Rings are
+/// not closed (the first vertex is not repeated); an empty cell has no rings.
+#[derive(Debug, Clone, PartialEq)]
+pub struct VoronoiCells {
+    /// All ring vertices.
+    pub vertices: Vec<Point>,
+    /// `n + 1` offsets into `vertices`, one cell per site.
+    pub offsets: Vec<usize>,
+    /// `R + 1` offsets into `vertices`, one ring after another (every cell offset is one of them).
+    pub parts: Vec<usize>,
+    /// Area of each cell (exteriors minus holes).
+    pub area: Vec<f64>,
+}
+
+/// Largest magnitude of a coordinate in the local frame: frame coordinates lie in [-1, 1],
+/// so squares and products in the clipping stay far from overflow and underflow.
+fn frame_scale(extent: f64) -> f64 {
+    if extent > 0.0 {
+        2f64.powi(-(extent.log2().ceil() as i32).clamp(-1000, 1000))
+    } else {
+        1.0
+    }
+}
+
+/// Translation to the region's box centre and exact power-of-two scaling to unit size.
+#[derive(Debug, Clone, Copy)]
+struct Frame {
+    origin: Point,
+    scale: f64,
+}
+
+impl Frame {
+    #[inline]
+    fn to_local(self, p: Point) -> Point {
+        let d = sub(p, self.origin);
+        [d[0] * self.scale, d[1] * self.scale]
+    }
+
+    #[inline]
+    fn to_world(self, p: Point) -> Point {
+        [p[0] / self.scale + self.origin[0], p[1] / self.scale + self.origin[1]]
+    }
+}
+
+/// The region's rings with closing repeats removed, and whether it is one axis-aligned rectangle.
+fn region_rings(sites: &[Point], region: Option<Region<'_>>) -> Result<Vec<Vec<Point>>> {
+    let Some(region) = region else {
+        let b = BoundingBox::of(sites).expect("sites validated non-empty");
+        let (w, h) = (b.max[0] - b.min[0], b.max[1] - b.min[1]);
+        // A flat box (sites on one horizontal or vertical line) grows by a tenth of its length
+        // across as well.
+        let grow = 0.1 * w.max(h);
+        if grow <= 0.0 || grow.is_nan() {
+            return Err(Error::Degenerate {
+                argument: "region",
+                reason: "the sites' bounding box has no extent (all sites coincide); pass a region".into(),
+            });
+        }
+        let (dx, dy) = (if w > 0.0 { 0.1 * w } else { grow }, if h > 0.0 { 0.1 * h } else { grow });
+        let (lo, hi) = ([b.min[0] - dx, b.min[1] - dy], [b.max[0] + dx, b.max[1] + dy]);
+        return Ok(vec![vec![lo, [hi[0], lo[1]], hi, [lo[0], hi[1]]]]);
+    };
+    validate_points("region", region.vertices, 0)?;
+    let offsets = region.ring_offsets;
+    let bad = |reason: String| Error::InvalidParameter { name: "region", reason };
+    if offsets.first() != Some(&0) || offsets.last() != Some(&region.vertices.len()) {
+        return Err(bad(format!(
+            "ring offsets must run from 0 to the number of vertices ({})",
+            region.vertices.len()
+        )));
+    }
+    if let Some(r) = offsets.windows(2).position(|w| w[0] > w[1]) {
+        return Err(bad(format!("ring offsets must be ascending; offset {} > offset {}", r, r + 1)));
+    }
+    Ok(offsets
+        .windows(2)
+        .map(|w| {
+            let mut ring = region.vertices[w[0]..w[1]].to_vec();
+            while ring.len() > 1 && ring.first() == ring.last() {
+                ring.pop();
+            }
+            ring
+        })
+        .filter(|ring| ring.len() >= 3)
+        .collect())
+}
+
+/// True when the rings are one rectangle with axis-aligned sides.
+fn is_axis_rectangle(rings: &[Vec<Point>]) -> bool {
+    let [ring] = rings else { return false };
+    if ring.len() != 4 {
+        return false;
+    }
+    let b = BoundingBox::of(ring).expect("four vertices");
+    let corner = |p: &Point| (p[0] == b.min[0] || p[0] == b.max[0]) && (p[1] == b.min[1] || p[1] == b.max[1]);
+    let axis_step = |p: Point, q: Point| (p[0] == q[0]) != (p[1] == q[1]);
+    b.min[0] < b.max[0]
+        && b.min[1] < b.max[1]
+        && ring.iter().all(corner)
+        && (0..4).all(|i| axis_step(ring[i], ring[(i + 1) % 4]))
+}
+
+/// Refuse repeated sites, naming the first repeat.
+fn check_distinct(sites: &[Point]) -> Result<()> {
+    let mut seen: HashMap<(u64, u64), usize> = HashMap::with_capacity(sites.len());
+    for (j, p) in sites.iter().enumerate() {
+        // `+ 0.0` makes -0.0 and 0.0 one key.
+        if let Some(&i) = seen.get(&((p[0] + 0.0).to_bits(), (p[1] + 0.0).to_bits())) {
+            return Err(Error::Degenerate {
+                argument: "sites",
+                reason: format!("sites[{j}] repeats sites[{i}]; every site needs its own location"),
+            });
+        }
+        seen.insert(((p[0] + 0.0).to_bits(), (p[1] + 0.0).to_bits()), j);
+    }
+    Ok(())
+}
+
+/// Voronoi neighbours of every site as CSR (offsets, indices): the Delaunay neighbours, or
+/// the previous and next site along the line when all sites are collinear.
+fn neighbours(sites: &[Point]) -> Result<(Vec<usize>, Vec<usize>)> {
+    let n = sites.len();
+    let mut pairs: Vec<[usize; 2]> = Vec::new();
+    if n >= 3 && !all_collinear(sites) {
+        pairs = delaunay(sites)?.edges;
+    } else if n >= 2 {
+        let dir = sub(sites[1], sites[0]);
+        let mut order: Vec<usize> = (0..n).collect();
+        order.sort_by(|&a, &b| dot(sub(sites[a], sites[0]), dir).total_cmp(&dot(sub(sites[b], sites[0]), dir)));
+        pairs.extend(order.windows(2).map(|w| [w[0], w[1]]));
+    }
+    let mut offsets = vec![0usize; n + 1];
+    for &[a, b] in &pairs {
+        offsets[a + 1] += 1;
+        offsets[b + 1] += 1;
+    }
+    for i in 0..n {
+        offsets[i + 1] += offsets[i];
+    }
+    let mut fill = offsets.clone();
+    let mut adjacent = vec![0usize; offsets[n]];
+    for &[a, b] in &pairs {
+        adjacent[fill[a]] = b;
+        fill[a] += 1;
+        adjacent[fill[b]] = a;
+        fill[b] += 1;
+    }
+    Ok((offsets, adjacent))
+}
+
+/// Keep the part of convex polygon `poly` no farther from `v` than from `u`
+/// (one Sutherland–Hodgman step against the perpendicular bisector of `v u`).
+fn clip_to_bisector(poly: &[Point], v: Point, u: Point, out: &mut Vec<Point>) {
+    out.clear();
+    let d = sub(u, v);
+    let m = [0.5 * (u[0] + v[0]), 0.5 * (u[1] + v[1])];
+    let side = |p: Point| dot(sub(p, m), d);
+    let n = poly.len();
+    for i in 0..n {
+        let (p, q) = (poly[i], poly[(i + 1) % n]);
+        let (sp, sq) = (side(p), side(q));
+        if sp <= 0.0 {
+            out.push(p);
+        }
+        if (sp < 0.0 && sq > 0.0) || (sp > 0.0 && sq < 0.0) {
+            let t = sp / (sp - sq);
+            out.push([p[0] + t * (q[0] - p[0]), p[1] + t * (q[1] - p[1])]);
+        }
+    }
+    out.dedup();
+    while out.len() > 1 && out.first() == out.last() {
+        out.pop();
+    }
+}
+
+/// The cell of `sites[i]` within the convex polygon `start` (all in the local frame).
+fn convex_cell(i: usize, sites: &[Point], adjacent: &[usize], start: &[Point], buffers: &mut (Vec<Point>, Vec<Point>)) -> Vec<Point> {
+    let (a, b) = buffers;
+    a.clear();
+    a.extend_from_slice(start);
+    for &j in adjacent {
+        clip_to_bisector(a, sites[i], sites[j], b);
+        std::mem::swap(a, b);
+        if a.len() < 3 {
+            return Vec::new();
+        }
+    }
+    if ring_signed_area(a) > 0.0 {
+        a.clone()
+    } else {
+        Vec::new()
+    }
+}
+
+type Edge = GeomWithData<Line<Point>, ()>;
+
+/// The normalised region: rings (exteriors counter-clockwise, holes clockwise) and an index
+/// of its edges.
+struct ClipRegion {
+    shapes: Vec<Vec<Vec<Point>>>,
+    edges: RTree<Edge>,
+    adapter: FloatPointAdapter<Point, i64>,
+    max_x: f64,
+}
+
+impl ClipRegion {
+    fn new(rings: &[Vec<Point>], bounds: BoundingBox) -> Result<ClipRegion> {
+        let rect = FloatRect::new(bounds.min[0], bounds.max[0], bounds.min[1], bounds.max[1]).map_err(|e| {
+            Error::Degenerate { argument: "region", reason: format!("region bounds rejected by the clipper ({e:?})") }
+        })?;
+        let adapter = FloatPointAdapter::<Point, i64>::new(rect);
+        let capacity = rings.iter().map(Vec::len).sum();
+        let mut overlay = FloatOverlay::new_custom(adapter.clone(), OverlayOptions::ogc(), Solver::default(), capacity);
+        for ring in rings {
+            overlay = overlay.unsafe_add_contour(ring, ShapeType::Subject);
+        }
+        let shapes = overlay.overlay(OverlayRule::Subject, FillRule::EvenOdd);
+        let area: f64 = shapes.iter().flatten().map(|ring| ring_signed_area(ring)).sum();
+        if area <= 0.0 || area.is_nan() {
+            return Err(Error::Degenerate { argument: "region", reason: "the region has no area".into() });
+        }
+        let segments: Vec<Edge> = shapes
+            .iter()
+            .flatten()
+            .flat_map(|ring| (0..ring.len()).map(move |k| Line::new(ring[k], ring[(k + 1) % ring.len()])))
+            .map(|line| GeomWithData::new(line, ()))
+            .collect();
+        Ok(ClipRegion { shapes, edges: RTree::bulk_load(segments), adapter, max_x: bounds.max[0] })
+    }
+
+    /// Point-in-region by crossing parity of a ray towards +x (exact orientation tests).
+    fn contains(&self, p: Point) -> bool {
+        let ray = AABB::from_corners(p, [self.max_x.max(p[0]), p[1]]);
+        let mut inside = false;
+        for e in self.edges.locate_in_envelope_intersecting(ray) {
+            let (a, b) = (e.geom().from, e.geom().to);
+            if (a[1] > p[1]) != (b[1] > p[1]) {
+                let (lo, hi) = if a[1] < b[1] { (a, b) } else { (b, a) };
+                if orient2d(lo, hi, p) > 0.0 {
+                    inside = !inside;
+                }
+            }
+        }
+        inside
+    }
+
+    /// The convex cell intersected with the region, as pieces (exterior, then holes).
+    fn clip(&self, cell: Vec<Point>) -> Vec<Vec<Vec<Point>>> {
+        if cell.is_empty() {
+            return Vec::new();
+        }
+        let b = BoundingBox::of(&cell).expect("non-empty cell");
+        let envelope = AABB::from_corners(b.min, b.max);
+        if self.edges.locate_in_envelope_intersecting(envelope).next().is_none() {
+            // Clear of the boundary: wholly inside or wholly outside.
+            return if self.contains(cell[0]) { vec![vec![cell]] } else { Vec::new() };
+        }
+        let capacity = cell.len() + self.shapes.iter().flatten().map(Vec::len).sum::<usize>();
+        let mut overlay = FloatOverlay::new_custom(self.adapter.clone(), OverlayOptions::ogc(), Solver::default(), capacity)
+            .unsafe_add_contour(&cell, ShapeType::Subject);
+        for ring in self.shapes.iter().flatten() {
+            overlay = overlay.unsafe_add_contour(ring, ShapeType::Clip);
+        }
+        overlay.overlay(OverlayRule::Intersect, FillRule::EvenOdd)
+    }
+}
+
+/// Voronoi cells of `sites` clipped to `region` (default: the sites' bounding box grown by
+/// 10 % on every side).
+///
+/// A site outside the region keeps its clipped, possibly empty, cell. The cells tile the
+/// region: their areas sum to the region's area, up to rounding.
+///
+/// # Errors
+/// - [`Error::TooFewPoints`] when `sites` is empty;
+/// - [`Error::NonFiniteCoordinate`] for a NaN or infinite coordinate (sites or region);
+/// - [`Error::Degenerate`] for repeated sites, a region without area, or (without a region)
+///   sites that all coincide;
+/// - [`Error::InvalidParameter`] for ring offsets that do not describe the vertices.
+///
+/// # Runtime
+/// O(n log n) for the triangulation plus O(n) half-plane cuts; with a non-rectangular region,
+/// O(m) more for each of the cells meeting its m-vertex boundary.
+pub fn voronoi_cells(sites: &[Point], region: Option<Region<'_>>) -> Result<VoronoiCells> {
+    validate_points("sites", sites, 1)?;
+    let rings = region_rings(sites, region)?;
+    if rings.is_empty() {
+        return Err(Error::Degenerate { argument: "region", reason: "the region has no area".into() });
+    }
+    check_distinct(sites)?;
+    let (offsets, adjacent) = neighbours(sites)?;
+
+    let world_box = BoundingBox::of(&rings.concat()).expect("rings are non-empty");
+    let origin = world_box.center();
+    let extent = sites.iter().chain(rings.iter().flatten()).fold(0.0f64, |m, &p| {
+        let d = sub(p, origin);
+        m.max(d[0].abs()).max(d[1].abs())
+    });
+    let frame = Frame { origin, scale: frame_scale(extent) };
+    let local_sites: Vec<Point> = sites.iter().map(|&p| frame.to_local(p)).collect();
+    let local_rings: Vec<Vec<Point>> = rings.iter().map(|r| r.iter().map(|&p| frame.to_local(p)).collect()).collect();
+    let b = BoundingBox::of(&local_rings.concat()).expect("rings are non-empty");
+    if !(b.min[0] < b.max[0] && b.min[1] < b.max[1]) {
+        return Err(Error::Degenerate { argument: "region", reason: "the region has no area".into() });
+    }
+    let start = [b.min, [b.max[0], b.min[1]], b.max, [b.min[0], b.max[1]]];
+    let rectangle = is_axis_rectangle(&rings);
+    let clip_region = if rectangle { None } else { Some(ClipRegion::new(&local_rings, b)?) };
+
+    let pieces: Vec<Vec<Vec<Vec<Point>>>> = (0..sites.len())
+        .into_par_iter()
+        .map_init(
+            || (Vec::with_capacity(16), Vec::with_capacity(16)),
+            |buffers, i| {
+                let cell = convex_cell(i, &local_sites, &adjacent[offsets[i]..offsets[i + 1]], &start, buffers);
+                match &clip_region {
+                    None if cell.is_empty() => Vec::new(),
+                    None => vec![vec![cell]],
+                    Some(region) => region.clip(cell),
+                }
+            },
+        )
+        .collect();
+
+    let inverse_area = 1.0 / (frame.scale * frame.scale);
+    let total_vertices = pieces.iter().flatten().flatten().map(Vec::len).sum();
+    let mut cells = VoronoiCells {
+        vertices: Vec::with_capacity(total_vertices),
+        offsets: Vec::with_capacity(sites.len() + 1),
+        parts: vec![0],
+        area: Vec::with_capacity(sites.len()),
+    };
+    cells.offsets.push(0);
+    for cell in &pieces {
+        let mut area = 0.0;
+        for ring in cell.iter().flatten() {
+            area += ring_signed_area(ring);
+            cells.vertices.extend(ring.iter().map(|&p| frame.to_world(p)));
+            cells.parts.push(cells.vertices.len());
+        }
+        cells.area.push(area * inverse_area);
+        cells.offsets.push(cells.vertices.len());
+    }
+    Ok(cells)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn lcg_cloud(n: usize, seed: u64, offset: Point, size: f64) -> Vec<Point> {
+        let mut s = seed;
+        let mut next = || {
+            s = s.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+            (s >> 11) as f64 / (1u64 << 53) as f64
+        };
+        (0..n).map(|_| [offset[0] + size * next(), offset[1] + size * next()]).collect()
+    }
+
+    fn ring_of(cells: &VoronoiCells, i: usize) -> Vec<&[Point]> {
+        let (lo, hi) = (cells.offsets[i], cells.offsets[i + 1]);
+        cells
+            .parts
+            .windows(2)
+            .filter(|w| w[0] >= lo && w[1] <= hi && w[0] < w[1])
+            .map(|w| &cells.vertices[w[0]..w[1]])
+            .collect()
+    }
+
+    fn inside_ring(ring: &[Point], p: Point) -> bool {
+        let mut inside = false;
+        for k in 0..ring.len() {
+            let (a, b) = (ring[k], ring[(k + 1) % ring.len()]);
+            if (a[1] > p[1]) != (b[1] > p[1]) {
+                let (lo, hi) = if a[1] < b[1] { (a, b) } else { (b, a) };
+                if orient2d(lo, hi, p) > 0.0 {
+                    inside = !inside;
+                }
+            }
+        }
+        inside
+    }
+
+    #[test]
+    fn voronoi_cells_of_a_box_sum_to_its_area_and_hold_their_sites() {
+        for offset in [[0.0, 0.0], [500_000.0, 6_000_000.0]] {
+            let sites = lcg_cloud(500, 5, offset, 100.0);
+            let square = [offset, [offset[0] + 100.0, offset[1]], [offset[0] + 100.0, offset[1] + 100.0], [offset[0], offset[1] + 100.0]];
+            let region = Region { vertices: &square, ring_offsets: &[0, 4] };
+            let cells = voronoi_cells(&sites, Some(region)).unwrap();
+            let total: f64 = cells.area.iter().sum();
+            // Closed form: the square's area is 100².
+            assert!((total - 10_000.0).abs() < 1e-6, "total {total}");
+            for (i, &s) in sites.iter().enumerate() {
+                let rings = ring_of(&cells, i);
+                assert_eq!(rings.len(), 1);
+                assert!(ring_signed_area(rings[0]) > 0.0);
+                assert!(inside_ring(rings[0], s), "site {i} outside its cell");
+            }
+        }
+    }
+
+    #[test]
+    fn voronoi_cells_union_covers_region_with_hole() {
+        // An L-shaped region (a 10 × 10 square without its upper-right 5 × 5 quarter) with a
+        // 2 × 2 square hole: area 75 − 4 = 71 (closed form).
+        let outer = [[0.0, 0.0], [10.0, 0.0], [10.0, 5.0], [5.0, 5.0], [5.0, 10.0], [0.0, 10.0]];
+        let hole = [[1.0, 1.0], [1.0, 3.0], [3.0, 3.0], [3.0, 1.0]];
+        let vertices: Vec<Point> = outer.iter().chain(hole.iter()).copied().collect();
+        let region = Region { vertices: &vertices, ring_offsets: &[0, 6, 10] };
+        let sites = lcg_cloud(200, 11, [-1.0, -1.0], 12.0);
+        let cells = voronoi_cells(&sites, Some(region)).unwrap();
+        let total: f64 = cells.area.iter().sum();
+        assert!((total - 71.0).abs() < 1e-9, "total {total}");
+        assert_eq!(cells.offsets.len(), sites.len() + 1);
+        assert_eq!(*cells.parts.last().unwrap(), cells.vertices.len());
+    }
+
+    #[test]
+    fn one_two_and_collinear_sites() {
+        let square = [[0.0, 0.0], [4.0, 0.0], [4.0, 4.0], [0.0, 4.0]];
+        let region = Region { vertices: &square, ring_offsets: &[0, 4] };
+        let one = voronoi_cells(&[[1.0, 1.0]], Some(region)).unwrap();
+        assert_eq!(one.area, vec![16.0]);
+        // Two sites: the bisector x = 1 splits the square 4 : 12 (closed form).
+        let two = voronoi_cells(&[[0.0, 2.0], [2.0, 2.0]], Some(region)).unwrap();
+        assert_eq!(two.area, vec![4.0, 12.0]);
+        // Collinear: strips between consecutive bisectors x = 1, 2, 3.
+        let line: Vec<Point> = (0..4).map(|i| [0.5 + i as f64, 3.0]).collect();
+        let strips = voronoi_cells(&line, Some(region)).unwrap();
+        assert_eq!(strips.area, vec![4.0, 4.0, 4.0, 4.0]);
+    }
+
+    #[test]
+    fn refusals() {
+        assert!(matches!(
+            voronoi_cells(&[[0.0, 0.0], [1.0, 1.0], [0.0, 0.0]], None),
+            Err(Error::Degenerate { argument: "sites", .. })
+        ));
+        assert!(matches!(voronoi_cells(&[[0.0, 0.0]], None), Err(Error::Degenerate { argument: "region", .. })));
+        let flat = [[0.0, 0.0], [1.0, 1.0], [2.0, 2.0]];
+        let region = Region { vertices: &flat, ring_offsets: &[0, 3] };
+        assert!(matches!(
+            voronoi_cells(&[[0.0, 0.0], [1.0, 0.0]], Some(region)),
+            Err(Error::Degenerate { argument: "region", .. })
+        ));
+        let region = Region { vertices: &flat, ring_offsets: &[0, 2] };
+        assert!(matches!(voronoi_cells(&[[0.0, 0.0]], Some(region)), Err(Error::InvalidParameter { .. })));
+    }
+
+    #[test]
+    fn grid_sites_give_equal_cells() {
+        // A 5 × 5 grid of unit spacing in the box [-0.5, 4.5]²: every cell is a unit square.
+        let sites: Vec<Point> = (0..25).map(|i| [(i % 5) as f64, (i / 5) as f64]).collect();
+        let square = [[-0.5, -0.5], [4.5, -0.5], [4.5, 4.5], [-0.5, 4.5]];
+        let cells = voronoi_cells(&sites, Some(Region { vertices: &square, ring_offsets: &[0, 4] })).unwrap();
+        for a in &cells.area {
+            assert!((a - 1.0).abs() < 1e-12);
+        }
+    }
+}
