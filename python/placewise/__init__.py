@@ -26,11 +26,13 @@ from .enclose import (
     minimax_point,
 )
 from .median import WeberPoint, WeberPoints, weber_point
+from .partition import Allocation, Triangulation, VoronoiCells, delaunay, nearest_site, voronoi_cells
 from .runtime import set_threads, thread_count
 
 __version__: str = _core.__version__
 
 __all__ = [
+    "Allocation",
     "Circle",
     "Circles",
     "DegenerateInputError",
@@ -39,12 +41,17 @@ __all__ = [
     "InputError",
     "MinimaxPoint",
     "MinimaxPoints",
+    "Triangulation",
+    "VoronoiCells",
     "WeberPoint",
     "WeberPoints",
+    "delaunay",
     "enclosing_circle",
     "enclosing_ellipse",
     "minimax_point",
+    "nearest_site",
     "set_threads",
     "thread_count",
+    "voronoi_cells",
     "weber_point",
 ]

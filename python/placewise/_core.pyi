@@ -41,6 +41,13 @@ def enclosing_ellipse_grouped(
 ]: ...
 
 # --- partition (src/py/partition.rs) ---
+def delaunay_triangulation(points: ArrayLike) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray]: ...
+def voronoi_cells_clipped(
+    sites: ArrayLike, region_vertices: ArrayLike | None, ring_offsets: ArrayLike | None
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]: ...
+def nearest_site_allocation(
+    points: ArrayLike, sites: ArrayLike, weights: ArrayLike | None
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]: ...
 
 # --- network (src/py/network.rs) ---
 

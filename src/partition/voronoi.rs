@@ -326,11 +326,11 @@ impl ClipRegion {
 /// O(m) more for each of the cells meeting its m-vertex boundary.
 pub fn voronoi_cells(sites: &[Point], region: Option<Region<'_>>) -> Result<VoronoiCells> {
     validate_points("sites", sites, 1)?;
+    check_distinct(sites)?;
     let rings = region_rings(sites, region)?;
     if rings.is_empty() {
         return Err(Error::Degenerate { argument: "region", reason: "the region has no area".into() });
     }
-    check_distinct(sites)?;
     let (offsets, adjacent) = neighbours(sites)?;
 
     let world_box = BoundingBox::of(&rings.concat()).expect("rings are non-empty");
