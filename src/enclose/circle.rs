@@ -7,15 +7,18 @@
 //! paper's `mtf_mb`) lets the points that matter be tested first in later passes.
 //!
 //! All arithmetic is relative to the centre of the bounding box, so projected coordinates
-//! such as (500 000, 6 000 000) keep full precision; the reported radius is the largest
-//! distance from the reported (global) centre to any input point, so every point is covered
+//! such as (500 000, 6 000 000) keep full precision, and scaled by a power of two to unit
+//! size, so squared distances neither overflow nor underflow; the reported radius is the
+//! largest distance from the reported centre to any input point, so every point is covered
 //! up to the rounding of one square root.
 
 use crate::batch::{run_grouped, Grouped};
 use crate::error::Result;
 use crate::geometry::predicates::orient2d;
 use crate::geometry::random::SplitMix64;
-use crate::geometry::{add, distance_squared, sub, validate_points, BoundingBox, Point, Weights};
+use crate::geometry::{
+    add, distance_squared, power_of_two_factor, scale, sub, validate_points, BoundingBox, Point, Weights,
+};
 
 /// The seed of the shuffle when none is given: the same input always gives the same answer.
 pub const DEFAULT_SEED: u64 = 0x5EED_C1C1_E000_0001;
@@ -170,16 +173,33 @@ fn move_to_front(list: &mut [(Point, usize)]) -> Trial {
 
 /// Solve. `points` is validated and not empty.
 pub(crate) fn solve(points: &[Point], seed: u64) -> Circle {
-    let origin = BoundingBox::of(points).map(|b| b.center()).unwrap_or([0.0, 0.0]);
-    let mut list: Vec<(Point, usize)> = points.iter().enumerate().map(|(i, &p)| (sub(p, origin), i)).collect();
+    let bbox = BoundingBox::of(points).expect("points is not empty");
+    let origin = bbox.center();
+    let factor = power_of_two_factor((bbox.max[0] - bbox.min[0]).max(bbox.max[1] - bbox.min[1]));
+    let mut list: Vec<(Point, usize)> =
+        points.iter().enumerate().map(|(i, &p)| (scale(sub(p, origin), factor), i)).collect();
     SplitMix64::new(seed).shuffle(&mut list);
     let trial = move_to_front(&mut list);
     drop(list);
-    let center = add(trial.center, origin);
-    let radius_squared = points.iter().fold(0.0f64, |m, &p| m.max(distance_squared(p, center)));
+    let center = add(scale(trial.center, 1.0 / factor), origin);
+    let radius = scaled_max_distance(points, center, factor, |_| 1.0);
     let mut support = trial.support[..trial.support_len].to_vec();
     support.sort_unstable();
-    Circle { center, radius: radius_squared.sqrt(), support }
+    Circle { center, radius, support }
+}
+
+/// `maxᵢ wᵢ‖pᵢ − center‖` over points of positive weight, evaluated in the frame scaled by
+/// `factor` (exact) so that the squares neither overflow nor underflow.
+pub(crate) fn scaled_max_distance(points: &[Point], center: Point, factor: f64, weight: impl Fn(usize) -> f64) -> f64 {
+    let c = scale(center, factor);
+    let mut largest = 0.0f64;
+    for (i, &p) in points.iter().enumerate() {
+        let w = weight(i);
+        if w > 0.0 {
+            largest = largest.max(w * w * distance_squared(scale(p, factor), c));
+        }
+    }
+    largest.sqrt() / factor
 }
 
 #[cfg(test)]
@@ -251,6 +271,15 @@ mod tests {
         for &s in &a.support {
             assert!((distance(pts[s], a.center) - a.radius).abs() <= 1e-12);
         }
+    }
+
+    #[test]
+    fn tiny_and_huge_coordinates_neither_underflow_nor_overflow() {
+        // Found by hypothesis: a squared distance of 1.6e-232 underflowed to zero.
+        let c = enclosing_circle(&[[1.65051432e-232, 0.0], [0.0, 0.0]]).unwrap();
+        assert_eq!(c.radius, 0.5 * 1.65051432e-232);
+        let c = enclosing_circle(&[[1e300, 0.0], [-1e300, 0.0], [0.0, 5e299]]).unwrap();
+        assert_eq!((c.center, c.radius), ([0.0, 0.0], 1e300));
     }
 
     #[test]

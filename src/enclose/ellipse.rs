@@ -22,7 +22,7 @@
 use crate::batch::{run_grouped, Grouped};
 use crate::error::{Error, Result};
 use crate::geometry::hull::hull_vertices;
-use crate::geometry::{sub, validate_points, BoundingBox, Point, Weights};
+use crate::geometry::{add, power_of_two_factor, scale, sub, validate_points, BoundingBox, Point, Weights};
 
 /// Iteration limit; the certified `gap` is reported whether or not it was reached.
 const MAX_ITERATIONS: usize = 200_000;
@@ -155,8 +155,8 @@ fn solve(points: &[Point], tol: f64) -> Result<Ellipse> {
     let hull_points: Vec<Point> = hull.iter().map(|&i| points[i]).collect();
     let bbox = BoundingBox::of(&hull_points).expect("hull is not empty");
     let origin = bbox.center();
-    let unit = 0.5 * (bbox.max[0] - bbox.min[0]).max(bbox.max[1] - bbox.min[1]);
-    let q: Vec<Point> = hull_points.iter().map(|&p| { let d = sub(p, origin); [d[0] / unit, d[1] / unit] }).collect();
+    let factor = power_of_two_factor((bbox.max[0] - bbox.min[0]).max(bbox.max[1] - bbox.min[1]));
+    let q: Vec<Point> = hull_points.iter().map(|&p| scale(sub(p, origin), factor)).collect();
     let h = q.len();
 
     // Kumar–Yildirim start: extremes along x, then along the normal of that pair.
@@ -235,21 +235,31 @@ fn solve(points: &[Point], tol: f64) -> Result<Ellipse> {
 
     let m = moments(&q, &u);
     let reach = (0..h).map(|k| mahalanobis(&m, q[k])).fold(0.0f64, f64::max);
-    let s2 = unit * unit;
-    let center = [origin[0] + unit * m.mean[0], origin[1] + unit * m.mean[1]];
-    let mut shape = [m.inverse[0] / (reach * s2), m.inverse[1] / (reach * s2), m.inverse[2] / (reach * s2)];
-    // Cover exactly in the caller's coordinates (rounding of the frame change).
-    let worst = points.iter().map(|&p| form(shape, sub(p, center))).fold(0.0f64, f64::max);
+    let center = add(scale(m.mean, 1.0 / factor), origin);
+    // The form in the unit frame; cover exactly in the caller's coordinates (the frame
+    // change rounds), evaluating there with the same exact scaling.
+    let mut local = [m.inverse[0] / reach, m.inverse[1] / reach, m.inverse[2] / reach];
+    let c_scaled = scale(center, factor);
+    let worst = points.iter().map(|&p| form(local, sub(scale(p, factor), c_scaled))).fold(0.0f64, f64::max);
     if worst > 1.0 {
-        for v in &mut shape {
+        for v in &mut local {
             *v /= worst;
         }
+    }
+    let f2 = factor * factor;
+    let shape = [local[0] * f2, local[1] * f2, local[2] * f2];
+    let local_det = local[0] * local[2] - local[1] * local[1];
+    if !(shape.iter().all(|v| v.is_finite()) && local_det > 0.0 && shape[0] * shape[2] - shape[1] * shape[1] > 0.0) {
+        return Err(Error::Degenerate {
+            argument: "points",
+            reason: "the ellipse's matrix is not representable in floating point at this coordinate scale".into(),
+        });
     }
     let [a, b, c] = shape;
     let det = a * c - b * b;
     let area = std::f64::consts::PI / det.sqrt();
-    let lower = 2.0 * std::f64::consts::PI * m.det.sqrt() * s2;
-    let gap = (area / lower - 1.0).max(0.0);
+    // Relative gap in the unit frame (the ratio is scale-free): π/√det(local) over 2π√det Σ.
+    let gap = (0.5 / (local_det.sqrt() * m.det.sqrt()) - 1.0).max(0.0);
     // Eigen-decomposition of the 2×2 form: the major axis belongs to the smaller eigenvalue.
     let mean_eig = 0.5 * (a + c);
     let spread = (0.5 * (a - c)).hypot(b);

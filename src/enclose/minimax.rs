@@ -22,7 +22,10 @@ use super::circle;
 use crate::batch::{run_grouped, Grouped};
 use crate::error::Result;
 use crate::geometry::predicates::orient2d;
-use crate::geometry::{add, distance_squared, scale, sub, validate_points, validate_weights, BoundingBox, Point, Weights};
+use crate::geometry::{
+    add, distance_squared, power_of_two_factor, scale, sub, validate_points, validate_weights, BoundingBox, Point,
+    Weights,
+};
 
 /// A point counts as uncovered only when its weighted squared distance exceeds the squared
 /// radius by this relative margin (the reported radius is recomputed over all points).
@@ -85,13 +88,15 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>) -> MinimaxPoint {
     if active.iter().all(|&i| weights.get(i) == first_weight) {
         return equal_weights(points, &active, first_weight);
     }
-    let origin = BoundingBox::of(&active.iter().map(|&i| points[i]).collect::<Vec<_>>())
-        .map(|b| b.center())
-        .unwrap_or([0.0, 0.0]);
+    let bbox = BoundingBox::of(&active.iter().map(|&i| points[i]).collect::<Vec<_>>()).expect("a point is active");
+    let origin = bbox.center();
+    let factor = power_of_two_factor((bbox.max[0] - bbox.min[0]).max(bbox.max[1] - bbox.min[1]));
     let w_max = active.iter().map(|&i| weights.get(i)).fold(0.0f64, f64::max);
-    // Local frame, weights scaled to at most 1: (point, weight, input index).
-    let sites: Vec<Site> =
-        active.iter().map(|&i| Site { at: sub(points[i], origin), w: weights.get(i) / w_max, index: i }).collect();
+    // Local frame of unit size, weights scaled to at most 1: (point, weight, input index).
+    let sites: Vec<Site> = active
+        .iter()
+        .map(|&i| Site { at: scale(sub(points[i], origin), factor), w: weights.get(i) / w_max, index: i })
+        .collect();
 
     // Start from the heaviest site alone.
     let start = (0..sites.len()).max_by(|&a, &b| sites[a].w.total_cmp(&sites[b].w)).unwrap_or(0);
@@ -107,11 +112,8 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>) -> MinimaxPoint {
         }
         basis = next;
     }
-    let location = add(basis.location, origin);
-    let radius = (0..points.len())
-        .filter(|&i| weights.get(i) > 0.0)
-        .map(|i| weights.get(i) * distance_squared(points[i], location).sqrt())
-        .fold(0.0f64, f64::max);
+    let location = add(scale(basis.location, 1.0 / factor), origin);
+    let radius = circle::scaled_max_distance(points, location, factor, |i| weights.get(i));
     let mut support: Vec<usize> = basis.members.iter().map(|&m| sites[m].index).collect();
     support.sort_unstable();
     MinimaxPoint { location, radius, support }

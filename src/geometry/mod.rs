@@ -110,6 +110,20 @@ pub fn to_local_frame(points: &[Point]) -> (Point, Vec<Point>) {
     (origin, points.iter().map(|&p| sub(p, origin)).collect())
 }
 
+/// A power of two `f` such that `extent · f` lies in (0.5, 1], or 1 when `extent` is zero or
+/// not finite.
+///
+/// Why: multiplying by a power of two is exact (away from the subnormal range), so a kernel
+/// can work in a frame of unit size — where squared distances neither overflow (coordinates
+/// near 1e300) nor underflow (coordinates near 1e-300) — and map its answer back exactly.
+pub fn power_of_two_factor(extent: f64) -> f64 {
+    if !(extent > 0.0 && extent.is_finite()) {
+        return 1.0;
+    }
+    let exponent = extent.log2().ceil() as i32;
+    2f64.powi(-exponent.clamp(-1020, 1020))
+}
+
 /// Signed area of a closed ring (counter-clockwise positive), by the shoelace formula
 /// evaluated relative to the first vertex.
 pub fn ring_signed_area(ring: &[Point]) -> f64 {
