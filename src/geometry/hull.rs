@@ -22,9 +22,12 @@ use super::Point;
 /// O(n log n) for the sort, then O(n).
 pub fn hull_vertices(points: &[Point]) -> Vec<usize> {
     let mut order: Vec<usize> = (0..points.len()).collect();
+    // Numeric order, so that -0.0 and 0.0 compare equal (total_cmp would separate them and
+    // break both the lexicographic sweep and the removal of repeated points).
+    let numeric = |a: f64, b: f64| a.partial_cmp(&b).unwrap_or_else(|| a.total_cmp(&b));
     order.sort_by(|&i, &j| {
         let (a, b) = (points[i], points[j]);
-        a[0].total_cmp(&b[0]).then(a[1].total_cmp(&b[1])).then(i.cmp(&j))
+        numeric(a[0], b[0]).then(numeric(a[1], b[1])).then(i.cmp(&j))
     });
     order.dedup_by(|&mut j, &mut i| points[i] == points[j]);
     if order.len() < 3 {
@@ -65,6 +68,13 @@ mod tests {
             [0.5, 0.0], [1.0, 0.5], [0.0, 0.0], [0.0, 0.5], [0.5, 1.0],
         ];
         assert_eq!(hull_vertices(&pts), vec![1, 2, 3, 4]);
+    }
+
+    #[test]
+    fn negative_zero_equals_zero() {
+        // Found by hypothesis: (-0, 0) sorted apart from (0, 0) broke the sweep.
+        let pts = [[1.0, 0.0], [0.0, -1.0], [-0.0, 0.0], [0.0, 0.0]];
+        assert_eq!(hull_vertices(&pts), vec![1, 0, 2]);
     }
 
     #[test]
