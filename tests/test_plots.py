@@ -1,0 +1,62 @@
+"""Every result object draws itself: ``.plot(ax=None, **style)`` on matplotlib axes."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+matplotlib = pytest.importorskip("matplotlib")
+matplotlib.use("Agg")
+import matplotlib.pyplot as plt  # noqa: E402
+
+import placewise as pw  # noqa: E402
+
+RNG = np.random.default_rng(11)
+PTS = RNG.normal(size=(40, 2))
+W = RNG.uniform(1, 2, size=40)
+LABELS = np.repeat([3, 8], 20)
+
+# (public function, call on a small cloud); grouped forms where the function takes groups=.
+CALLS = {
+    "weber_point": [lambda f: f(PTS, W), lambda f: f(PTS, W, groups=LABELS)],
+    "minimax_point": [lambda f: f(PTS, W), lambda f: f(PTS, W, groups=LABELS)],
+    "enclosing_circle": [lambda f: f(PTS), lambda f: f(PTS, groups=LABELS)],
+    "enclosing_ellipse": [lambda f: f(PTS), lambda f: f(PTS, groups=LABELS)],
+    "delaunay": [lambda f: f(PTS)],
+    "voronoi_cells": [lambda f: f(PTS[:12])],
+    "nearest_site": [lambda f: f(PTS, PTS[:4], W)],
+    "spanning_tree": [lambda f: f(PTS)],
+    "steiner_tree": [lambda f: f(PTS[:8])],
+    "p_median": [lambda f: f(PTS, 3, W)],
+    "p_center": [lambda f: f(PTS, 3, W)],
+}
+CASES = [(name, k) for name, calls in CALLS.items() for k in range(len(calls))]
+
+
+@pytest.mark.parametrize("name,k", CASES, ids=[f"{n}-{'grouped' if k else 'single'}" for n, k in CASES])
+def test_result_plots_itself(name, k):
+    if not hasattr(pw, name):
+        pytest.skip(f"placewise.{name} not in this build")
+    result = CALLS[name][k](getattr(pw, name))
+    fig, ax = plt.subplots()
+    try:
+        assert result.plot(ax) is ax
+        assert ax.has_data() or ax.patches or ax.collections or ax.lines
+        new_ax = result.plot()  # new axes when none are given
+        assert new_ax is not ax and (new_ax.has_data() or new_ax.patches or new_ax.collections)
+        styled = result.plot(ax, alpha=0.5)  # style keywords reach matplotlib
+        assert styled is ax
+    finally:
+        plt.close("all")
+
+
+def test_every_public_result_type_is_covered():
+    from placewise._results import Result
+
+    public = {n for n in pw.__all__ if isinstance(getattr(pw, n), type) and issubclass(getattr(pw, n), Result)}
+    produced = set()
+    for name, calls in CALLS.items():
+        if hasattr(pw, name):
+            for call in calls:
+                produced.add(type(call(getattr(pw, name))).__name__)
+    assert public <= produced, public - produced
