@@ -92,7 +92,7 @@ class _Frame:
 
     def back(self, geoms: Sequence[Any] | np.ndarray) -> Any:
         """A GeoSeries of working-CRS geometries, projected back to the caller's CRS."""
-        series = gpd.GeoSeries(list(geoms), crs=self.work)
+        series = gpd.GeoSeries(np.asarray(geoms, dtype=object), crs=self.work)
         if self.crs is not None and self.work is not None and not CRS(self.crs).equals(self.work):
             series = series.to_crs(self.crs)
         return series.reset_index(drop=True)
@@ -255,11 +255,33 @@ def _grouped_fields(
             try:
                 result = kernel(*args, groups=groups.codes[idx], **options)
             except InputError as exc:
-                raise InputError(f"groups {groups.values[g0]!r}..{groups.values[g1 - 1]!r}: {exc}") from exc
+                _name_failing_group(kernel, pf, w, groups, range(g0, g1), options)
+                raise InputError(f"groups {_plain(groups.values[g0])!r} to {_plain(groups.values[g1 - 1])!r}: {exc}") from exc
             for f in fields:
                 parts[f].append(np.asarray(getattr(result, f)))
             bar.update(g1 - g0)
     return {f: np.concatenate(v) for f, v in parts.items()}
+
+
+def _plain(value: Any) -> Any:
+    """A group value as the user wrote it (numpy scalars become Python scalars)."""
+    return value.item() if isinstance(value, np.generic) else value
+
+
+def _name_failing_group(
+    kernel: Callable[..., Any], pf: _Frame, w: np.ndarray | None, groups: _Groups, span: range,
+    options: dict[str, Any],
+) -> None:
+    """After a grouped call failed, find the first group that fails alone and name it.
+
+    The kernel's own message names the internal group code, which the caller never saw.
+    """
+    for g in span:
+        idx = groups.members(g)
+        try:
+            kernel(*((pf.xy[idx],) if w is None else (pf.xy[idx], w[idx])), **options)
+        except InputError as exc:
+            raise InputError(f"group {_plain(groups.values[g])!r}: {exc}") from exc
 
 
 def _each_group(groups: _Groups | None, n: int, progress: bool) -> Iterator[tuple[Any, np.ndarray]]:
@@ -279,7 +301,7 @@ def _in_group(value: Any, groups: _Groups | None, call: Callable[[], Any]) -> An
     except InputError as exc:
         if groups is None:
             raise
-        raise InputError(f"group {value!r}: {exc}") from exc
+        raise InputError(f"group {_plain(value)!r}: {exc}") from exc
 
 
 def _counts(groups: _Groups | None, n: int) -> np.ndarray:
@@ -292,19 +314,18 @@ def _result_frame(pf: _Frame, geoms: Sequence[Any], columns: dict[str, Any], gro
     return gpd.GeoDataFrame(data, geometry=pf.back(geoms))
 
 
-def _circle_ring(center: np.ndarray, radius: float) -> Any:
-    t = np.linspace(0.0, 2.0 * np.pi, _CURVE_VERTICES, endpoint=False)
-    r = radius / np.cos(np.pi / _CURVE_VERTICES)
-    return shapely.Polygon(np.column_stack([center[0] + r * np.cos(t), center[1] + r * np.sin(t)]))
+def _ellipse_rings(center: np.ndarray, semi_axes: np.ndarray, angle: np.ndarray) -> np.ndarray:
+    """Polygons circumscribing ellipses (circles when the semi-axes are equal), all at once.
 
-
-def _ellipse_ring(center: np.ndarray, semi_axes: np.ndarray, angle: float) -> Any:
+    ``center`` (G, 2), ``semi_axes`` (G, 2), ``angle`` (G,) radians; returns (G,) Polygons.
+    """
     t = np.linspace(0.0, 2.0 * np.pi, _CURVE_VERTICES, endpoint=False)
     scale = 1.0 / np.cos(np.pi / _CURVE_VERTICES)
-    u = semi_axes[0] * scale * np.cos(t)
-    v = semi_axes[1] * scale * np.sin(t)
-    c, s = np.cos(angle), np.sin(angle)
-    return shapely.Polygon(np.column_stack([center[0] + c * u - s * v, center[1] + s * u + c * v]))
+    u = semi_axes[:, :1] * scale * np.cos(t)  # (G, N)
+    v = semi_axes[:, 1:] * scale * np.sin(t)
+    c, s = np.cos(angle)[:, None], np.sin(angle)[:, None]
+    ring = np.stack([center[:, :1] + c * u - s * v, center[:, 1:] + s * u + c * v], axis=-1)
+    return shapely.polygons(np.concatenate([ring, ring[:, :1]], axis=1))
 
 
 # --------------------------------------------------------------------------- single sites
@@ -434,7 +455,8 @@ def enclosing_circle(
     else:
         groups = _groups(pf.frame, by, "frame")
         got = _grouped_fields(_pw.enclosing_circle, pf, None, groups, fields, progress)
-    geoms = [_circle_ring(c, r) for c, r in zip(got["center"], got["radius"])]
+    radius = np.asarray(got["radius"], dtype=np.float64)
+    geoms = _ellipse_rings(got["center"].reshape(-1, 2), np.column_stack([radius, radius]), np.zeros(len(radius)))
     columns = {"radius": got["radius"], "area": np.pi * got["radius"] ** 2, "count": _counts(groups, len(pf.xy))}
     return _result_frame(pf, geoms, columns, groups)
 
@@ -471,7 +493,7 @@ def enclosing_ellipse(
         groups = _groups(pf.frame, by, "frame")
         got = _grouped_fields(_pw.enclosing_ellipse, pf, None, groups, fields, progress, tol=tol)
     axes = got["semi_axes"].reshape(-1, 2)
-    geoms = [_ellipse_ring(c, a, t) for c, a, t in zip(got["center"], axes, got["angle"])]
+    geoms = _ellipse_rings(got["center"].reshape(-1, 2), axes, np.asarray(got["angle"], dtype=np.float64))
     columns = {
         "semi_major": axes[:, 0], "semi_minor": axes[:, 1],
         "angle": np.degrees(got["angle"]), "area": got["area"], "count": _counts(groups, len(pf.xy)),
