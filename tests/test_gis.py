@@ -410,3 +410,17 @@ def test_p_center_one_site_is_the_enclosing_circle():
     pts = shapely.multipoints(shapely.get_coordinates(metric.geometry.values))
     assert plan.sites.attrs["radius"] == pytest.approx(shapely.minimum_bounding_radius(pts), rel=1e-7)  # GEOS
     assert plan.demand["distance"].max() == pytest.approx(plan.sites.attrs["radius"], rel=1e-7)
+
+
+@needs("p_median")
+def test_p_median_with_fixed_sites():
+    homes = gpd.GeoSeries(gpd.points_from_xy([0, 1, 10, 11, 20, 21], [0, 0, 0, 0, 0, 0]))
+    existing = gpd.GeoSeries(gpd.points_from_xy([20.5], [0]))
+    plan = gis.p_median(homes, 2, fixed=existing, planar=True)
+    assert len(plan.sites) == 3
+    assert plan.sites["fixed"].tolist() == [False, False, True]
+    assert plan.sites.geometry.iloc[2].equals(existing.iloc[0])
+    # Closed form on a line: the best new sites lie within the two left pairs, each pair costs 1;
+    # the fixed site at 20.5 serves the right pair at cost 1.
+    assert plan.sites.attrs["cost"] == pytest.approx(3.0, rel=1e-9)
+    assert plan.demand["site"].tolist()[-2:] == [2, 2]

@@ -376,7 +376,7 @@ def build_parser() -> argparse.ArgumentParser:
         p.add_argument("-p", type=_positive_int, required=True, help="number of sites (per group)")
         p.add_argument("--assignment", metavar="FILE", help="also write the input rows with their site and distance")
         if kind == "median":
-            p.add_argument("--effort", choices=["quick", "normal", "thorough"], default="normal")
+            p.add_argument("--effort", choices=["fast", "normal", "thorough"], default="normal")
             p.add_argument("--fixed", metavar="FILE", help="existing sites that stay where they are")
 
     p = sub.add_parser("demo", help="run the invented scenario: depots, service areas and a link network",

@@ -735,6 +735,8 @@ def _plan(
         wm = None if w is None else w[members]
         plan = _in_group(value, groups, lambda: kernel(pf.xy[members], int(p), wm, **options))
         sites = np.asarray(plan.sites).reshape(-1, 2)
+        if fixed_xy is not None:  # the assignment indexes the new sites, then the fixed ones
+            sites = np.vstack([sites, fixed_xy])
         assigned = np.asarray(plan.assignment, dtype=np.int64)
         base = len(site_rows["site"])
         k = len(sites)
