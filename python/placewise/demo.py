@@ -125,14 +125,16 @@ def _km(value: float, digits: int = 1) -> str:
     return f"{value / 1000:,.{digits}f}"
 
 
-def _base_map(ax: Any, s: Scenario, title: str) -> None:
+def _base_map(ax: Any, s: Scenario, title: str, bounds: tuple[float, float, float, float] | None = None) -> None:
     from matplotlib.ticker import FuncFormatter
 
     ax.set_facecolor(plotting.SEA)
     plotting.draw_polygons(ax, [s.region], facecolor=plotting.LAND, edgecolor="#6b7a89", linewidth=0.9)
     plotting.draw_polygons(ax, [s.lake], facecolor=plotting.LAKE, edgecolor="#6b7a89", linewidth=0.6)
-    ax.set_xlim(-2_000, 122_000)
-    ax.set_ylim(-2_000, 82_000)
+    x0, y0, x1, y1 = bounds if bounds is not None else s.region.bounds
+    pad = 0.02 * max(x1 - x0, y1 - y0)
+    ax.set_xlim(x0 - pad, x1 + pad)
+    ax.set_ylim(y0 - pad, y1 + pad)
     ax.set_aspect("equal")
     km = FuncFormatter(lambda v, _: f"{v / 1000:.0f}")
     ax.xaxis.set_major_formatter(km)
@@ -210,14 +212,13 @@ def _plans_map(s: Scenario, plans: list[dict[str, Any]], w: _Writer) -> None:
                        linewidth=0.9, zorder=7)
     fig.suptitle(f"{s.name}: where to put the depots\n(dashed circles reach each depot's farthest household)",
                  fontsize=11)
-    fig.tight_layout(rect=(0, 0.06, 1, 0.94))
+    fig.tight_layout(rect=(0, 0.07, 1, 0.93))
     w.figure(fig, "depots")
 
 
-def _service_areas(s: Scenario, plan: dict[str, Any], w: _Writer) -> list[dict[str, Any]]:
+def _service_areas(s: Scenario, plan: dict[str, Any], w: _Writer) -> tuple[list[dict[str, Any]], dict[str, float]]:
     import matplotlib.pyplot as plt
-    from matplotlib import colormaps
-    from matplotlib.colors import Normalize
+    from matplotlib.colors import LinearSegmentedColormap, Normalize
 
     sites = plan["sites"]
     cells = pw.voronoi_cells(sites, s.region)
@@ -237,40 +238,48 @@ def _service_areas(s: Scenario, plan: dict[str, Any], w: _Writer) -> list[dict[s
                                         "households": [r["households"] for r in rows],
                                         "people": [r["people"] for r in rows],
                                         "mean_trip_km": [r["mean_km"] for r in rows]})
-    fig, ax = plt.subplots(figsize=(8.4, 6.2))
-    _base_map(ax, s, f"{s.name}: service areas of the p-median depots, clipped to the land, with their loads")
-    norm = Normalize(vmin=0, vmax=float(load.max()) * 1.15)
-    cmap = colormaps["YlGnBu"]
-    plotting.draw_polygons(ax, polygons, facecolors=[cmap(norm(v)) for v in load], edgecolor="#2e3440",
-                           linewidth=1.0, alpha=0.85, zorder=2)
-    plotting.draw_polygons(ax, [s.lake], facecolor=plotting.LAKE, edgecolor="#6b7a89", linewidth=0.6, zorder=2.5)
-    _towns(ax, s)
-    for i, (x, y) in enumerate(sites):
-        ax.scatter([x], [y], marker="*", s=220, color="#b3473b", edgecolor="white", linewidth=1.0, zorder=7)
-        ax.annotate(f"depot {i + 1}\n{load[i]:,.0f} people", (x, y), xytext=(0, -22), textcoords="offset points",
-                    ha="center", fontsize=7.5, fontweight="bold", color="#2e3440", zorder=8,
-                    bbox={"boxstyle": "round,pad=0.2", "facecolor": "white", "alpha": 0.8, "linewidth": 0})
+    ring = None
+    spread: dict[str, float] = {}
+    bounds = s.region.bounds
     if _have("enclosing_ellipse"):
+        import shapely
+
         e = pw.enclosing_ellipse(s.households)
         t = np.linspace(0, 2 * np.pi, 200)
         a, b = np.asarray(e.semi_axes)
         c, sn = np.cos(e.angle), np.sin(e.angle)
         ring = np.column_stack([a * np.cos(t), b * np.sin(t)]) @ np.array([[c, sn], [-sn, c]]) + np.asarray(e.center)
-        ax.plot(ring[:, 0], ring[:, 1], color="#75508a", linewidth=1.4, linestyle=(0, (6, 2)), zorder=6,
-                label=f"smallest ellipse covering all demand ({e.area / 1e6:,.0f} km²)")
-        import shapely
-
         w.layer("demand_ellipse", [shapely.Polygon(ring[:-1])],
                 {"semi_major_km": [a / 1000], "semi_minor_km": [b / 1000], "angle_deg": [np.degrees(e.angle)],
                  "area_km2": [e.area / 1e6]})
-        ax.legend(loc="upper right", fontsize=7.5, framealpha=0.9)
+        spread = {"semi_major_km": float(a) / 1000, "semi_minor_km": float(b) / 1000,
+                  "angle_deg": float(np.degrees(e.angle)), "area_km2": float(e.area) / 1e6}
+        bounds = (min(bounds[0], ring[:, 0].min()), min(bounds[1], ring[:, 1].min()),
+                  max(bounds[2], ring[:, 0].max()), max(bounds[3], ring[:, 1].max()))
     else:
         w.skipped.append("demand ellipse (placewise.enclosing_ellipse is not in this build)")
+    fig, ax = plt.subplots(figsize=(9.0, 6.4))
+    _base_map(ax, s, f"{s.name}: service areas of the p-median depots, clipped to the land, with their loads", bounds)
+    norm = Normalize(vmin=float(load.min()) * 0.8, vmax=float(load.max()))
+    cmap = LinearSegmentedColormap.from_list("load", ["#f6f1df", "#a9d3c0", "#3f9a8c", "#1b5e5a"])
+    plotting.draw_polygons(ax, polygons, facecolors=[cmap(norm(v)) for v in load], edgecolor="#2e3440",
+                           linewidth=1.0, zorder=2)
+    plotting.draw_polygons(ax, [s.lake], facecolor=plotting.LAKE, edgecolor="#6b7a89", linewidth=0.6, zorder=2.5)
+    _towns(ax, s)
+    for i, (x, y) in enumerate(sites):
+        ax.scatter([x], [y], marker="*", s=220, color="#b3473b", edgecolor="white", linewidth=1.0, zorder=7)
+        ax.annotate(f"depot {i + 1}\n{load[i]:,.0f} people", (x, y), xytext=(0, -24), textcoords="offset points",
+                    ha="center", va="top", fontsize=7.5, fontweight="bold", color="#2e3440", zorder=8,
+                    bbox={"boxstyle": "round,pad=0.25", "facecolor": "white", "alpha": 0.85, "linewidth": 0})
+    if ring is not None:
+        ax.plot(ring[:, 0], ring[:, 1], color="#75508a", linewidth=1.4, linestyle=(0, (6, 2)), zorder=6,
+                label="smallest ellipse covering all households")
+        ax.legend(loc="lower left", fontsize=7.5, framealpha=0.9)
     sm = plt.cm.ScalarMappable(norm=norm, cmap=cmap)
     fig.colorbar(sm, ax=ax, shrink=0.7, label="people served")
-    fig.tight_layout(rect=(0, 0.06, 1, 1))
+    fig.tight_layout(rect=(0, 0.07, 1, 1))
     w.figure(fig, "service_areas")
-    return rows
+    return rows, spread
 
 
 def _network(s: Scenario, depots: np.ndarray, w: _Writer, seed: int) -> dict[str, Any]:
@@ -313,7 +322,7 @@ def _network(s: Scenario, depots: np.ndarray, w: _Writer, seed: int) -> dict[str
     _towns(ax, s)
     ax.scatter(depots[:, 0], depots[:, 1], marker="*", s=200, color="#b3473b", edgecolor="white", zorder=7)
     ax.legend(loc="upper right", fontsize=8, framealpha=0.9)
-    fig.tight_layout(rect=(0, 0.06, 1, 1))
+    fig.tight_layout(rect=(0, 0.07, 1, 1))
     w.figure(fig, "network")
     return result
 
@@ -322,7 +331,7 @@ def _network(s: Scenario, depots: np.ndarray, w: _Writer, seed: int) -> dict[str
 
 
 def _tables(s: Scenario, plans: list[dict[str, Any]], areas: list[dict[str, Any]] | None,
-            net: dict[str, Any] | None) -> tuple[str, list[list[Any]]]:
+            spread: dict[str, float], net: dict[str, Any] | None) -> tuple[str, list[list[Any]]]:
     lines = [f"# {s.name}: depot siting summary", "",
              f"{len(s.people):,} households, {s.people.sum():,.0f} people, {len(s.towns)} towns; "
              f"land area {s.region.area / 1e6:,.0f} km².", ""]
@@ -346,6 +355,11 @@ def _tables(s: Scenario, plans: list[dict[str, Any]], areas: list[dict[str, Any]
                          f"{r['mean_km']:.2f} |")
             rows += [["service areas", k, f"depot {r['depot']}", r[k], u]
                      for k, u in (("area_km2", "km2"), ("households", ""), ("people", ""), ("mean_km", "km"))]
+    if spread:
+        lines += ["", f"Smallest ellipse covering all households: semi-axes {spread['semi_major_km']:.1f} km and "
+                  f"{spread['semi_minor_km']:.1f} km, major axis at {spread['angle_deg']:.0f}° from east, area "
+                  f"{spread['area_km2']:,.0f} km²."]
+        rows += [["demand ellipse", k, "", v, u] for (k, v), u in zip(spread.items(), ["km", "km", "deg", "km2"])]
     if net:
         lines += ["", f"## Link network ({net['terminals']} depots and towns)", "",
                   "| network | length (km) |", "|---|---|", f"| minimum spanning tree | {net['mst_km']:.1f} |"]
@@ -404,9 +418,9 @@ def run(out: str | Path, *, quiet: bool = False, seed: int = 0) -> str:
     _plans_map(s, plans, w)
     w.say("depot maps drawn")
 
-    areas = None
+    areas, spread = None, {}
     if _have("voronoi_cells", "nearest_site") and len(chosen["sites"]) > 1:
-        areas = _service_areas(s, chosen, w)
+        areas, spread = _service_areas(s, chosen, w)
         w.say("service areas drawn")
     else:
         w.skipped.append("service areas (placewise.voronoi_cells / nearest_site or the p-median plan missing)")
@@ -417,7 +431,7 @@ def run(out: str | Path, *, quiet: bool = False, seed: int = 0) -> str:
     else:
         w.skipped.append("link network (placewise.spanning_tree is not in this build)")
 
-    table, rows = _tables(s, plans, areas, net)
+    table, rows = _tables(s, plans, areas, spread, net)
     if w.skipped:
         table += "\nNot run in this build: " + "; ".join(w.skipped) + ".\n"
     (out / "summary.md").write_text(table)
