@@ -374,4 +374,24 @@ mod tests {
         assert!((e.semi_axes[0] - ra).abs() < 1e-8 && (e.semi_axes[1] - rb).abs() < 1e-8, "{:?}", e.semi_axes);
         assert!((e.angle - th).abs() < 1e-8);
     }
+
+    proptest::proptest! {
+        #[test]
+        fn ellipse_covers_certifies_and_support_is_on_the_boundary(
+            raw in proptest::collection::vec((-1e3f64..1e3, -1e3f64..1e3), 3..60)
+        ) {
+            let pts: Vec<Point> = raw.iter().map(|&(x, y)| [x, y]).collect();
+            let tol = 1e-8;
+            match enclosing_ellipse(&pts, tol) {
+                Ok(e) => {
+                    proptest::prop_assert!(pts.iter().all(|&p| value(&e, p) <= 1.0 + 1e-12));
+                    proptest::prop_assert!(e.converged && e.gap <= tol);
+                    for &s in &e.support {
+                        proptest::prop_assert!(value(&e, pts[s]) >= 1.0 - 4.0 * tol);
+                    }
+                }
+                Err(err) => proptest::prop_assert!(err.is_degenerate()),
+            }
+        }
+    }
 }

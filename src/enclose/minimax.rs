@@ -322,4 +322,20 @@ mod tests {
         assert!(no_descent_direction(&pts, &w, m.location, m.radius));
         assert_eq!(m.support.len(), 2);
     }
+
+    proptest::proptest! {
+        #[test]
+        fn minimax_is_optimal_covers_and_is_order_invariant(
+            raw in proptest::collection::vec((-1e3f64..1e3, -1e3f64..1e3, 0.05f64..20.0), 1..40)
+        ) {
+            let pts: Vec<Point> = raw.iter().map(|&(x, y, _)| [x, y]).collect();
+            let w: Vec<f64> = raw.iter().map(|&(_, _, w)| w).collect();
+            let m = minimax_point(&pts, Weights::Given(&w)).unwrap();
+            proptest::prop_assert!((weighted_radius(&pts, &w, m.location) - m.radius).abs() <= 1e-12 * m.radius.max(1e-300));
+            proptest::prop_assert!(no_descent_direction(&pts, &w, m.location, m.radius));
+            let (rp, rw): (Vec<Point>, Vec<f64>) = (pts.iter().rev().copied().collect(), w.iter().rev().copied().collect());
+            let r = minimax_point(&rp, Weights::Given(&rw)).unwrap();
+            proptest::prop_assert!((r.radius - m.radius).abs() <= 1e-9 * m.radius.max(1.0));
+        }
+    }
 }
