@@ -26,6 +26,8 @@ from .enclose import (
     minimax_point,
 )
 from .median import WeberPoint, WeberPoints, weber_point
+from .multi import CenterPlan, MedianPlan, p_center, p_median
+from .network import SpanningTree, SpanningTrees, SteinerTree, SteinerTrees, spanning_tree, steiner_tree
 from .partition import Allocation, Triangulation, VoronoiCells, delaunay, nearest_site, voronoi_cells
 from .runtime import set_threads, thread_count
 
@@ -33,14 +35,20 @@ __version__: str = _core.__version__
 
 __all__ = [
     "Allocation",
+    "CenterPlan",
     "Circle",
     "Circles",
     "DegenerateInputError",
     "Ellipse",
     "Ellipses",
     "InputError",
+    "MedianPlan",
     "MinimaxPoint",
     "MinimaxPoints",
+    "SpanningTree",
+    "SpanningTrees",
+    "SteinerTree",
+    "SteinerTrees",
     "Triangulation",
     "VoronoiCells",
     "WeberPoint",
@@ -50,7 +58,11 @@ __all__ = [
     "enclosing_ellipse",
     "minimax_point",
     "nearest_site",
+    "p_center",
+    "p_median",
     "set_threads",
+    "spanning_tree",
+    "steiner_tree",
     "thread_count",
     "voronoi_cells",
     "weber_point",

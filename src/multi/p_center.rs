@@ -254,7 +254,7 @@ impl Demand {
                     }
                 }
                 let r = self.radius(&moved)?;
-                if !(r < radius * (1.0 - IMPROVEMENT)) {
+                if r >= radius * (1.0 - IMPROVEMENT) {
                     break;
                 }
                 (sites, radius) = (moved, r);
@@ -354,8 +354,8 @@ impl Demand {
             let far = far.expect("an unplaced point");
             placed[far] = true;
             order.push(far);
-            for i in 0..n {
-                reach[i] = reach[i].min(self.weights[i] * distance(self.points[i], self.points[far]));
+            for (r, (&a, &w)) in reach.iter_mut().zip(self.points.iter().zip(&self.weights)) {
+                *r = r.min(w * distance(a, self.points[far]));
             }
         }
         order

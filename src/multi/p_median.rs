@@ -334,7 +334,7 @@ impl Problem<'_> {
         let mut current = self.cooper(sites, SEARCH_TOL, workspace, rounds)?;
         while current.cost > 0.0 {
             let Some((target, site, delta)) = self.best_jump(&current, rng, budget) else { break };
-            if !(delta < -IMPROVEMENT * current.cost) {
+            if delta >= -IMPROVEMENT * current.cost {
                 break;
             }
             let mut sites = current.sites.clone();
@@ -540,7 +540,7 @@ fn unit_distance(a: Point, b: Point) -> f64 {
 /// Index drawn with probability ∝ `scores[i]` (non-negative); `None` when all are zero.
 fn draw_weighted(scores: &[f64], rng: &mut SplitMix64) -> Option<usize> {
     let total: f64 = scores.iter().sum();
-    if !(total > 0.0) {
+    if total <= 0.0 || total.is_nan() {
         return None;
     }
     let mut target = rng.next_f64() * total;

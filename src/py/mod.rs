@@ -11,6 +11,7 @@ mod convert;
 mod enclose;
 mod errors;
 mod median;
+mod multi;
 mod partition;
 mod runtime;
 
@@ -26,6 +27,7 @@ fn core_module(m: &Bound<'_, PyModule>) -> PyResult<()> {
     median::register(m)?;
     partition::register(m)?;
     enclose::register(m)?;
+    multi::register(m)?;
     m.add("__version__", env!("CARGO_PKG_VERSION"))?;
     Ok(())
 }

@@ -1,0 +1,420 @@
+"""Tests of the continuous p-median and p-center (placewise.p_median, placewise.p_center)."""
+
+from __future__ import annotations
+
+import itertools
+from pathlib import Path
+
+import numpy as np
+import pytest
+import scipy.optimize
+import scipy.spatial
+from hypothesis import given
+from hypothesis import strategies as st
+from hypothesis.extra.numpy import arrays
+
+import placewise as pw
+from hostile import AWKWARD_POINTS, BAD_POINTS, BAD_WEIGHTS
+
+DATA = Path(__file__).resolve().parent / "data" / "p654"
+
+
+def p654() -> tuple[np.ndarray, dict[int, float]]:
+    """TSPLIB p654 (Reinelt 1991) with the best-known multisource Weber objectives of
+    Brimberg, Hansen, Mladenović and Taillard (2000); see data/p654/README.md."""
+    points = np.loadtxt(DATA / "points.txt")[:, :2]
+    best = {int(p): float(v) for p, v in np.loadtxt(DATA / "best_known.txt")}
+    return points, best
+
+
+def nearest(points: np.ndarray, sites: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Reference allocation: scipy.spatial.distance.cdist, then the nearest column."""
+    d = scipy.spatial.distance.cdist(points, sites)
+    return d.min(axis=1), d
+
+
+def median_cost(points: np.ndarray, sites: np.ndarray, weights: np.ndarray | None = None) -> float:
+    dmin, _ = nearest(points, sites)
+    return float(np.sum(dmin if weights is None else weights * dmin))
+
+
+def scipy_weber_cost(points: np.ndarray, weights: np.ndarray) -> float:
+    """Reference single-site optimum: scipy.optimize.minimize (Nelder–Mead, then Powell) on
+    the Fermat–Weber objective, in a local frame."""
+    origin = points.mean(axis=0)
+    local = points - origin
+    f = lambda x: float(np.sum(weights * np.hypot(local[:, 0] - x[0], local[:, 1] - x[1])))  # noqa: E731
+    start = np.average(local, axis=0, weights=weights)
+    a = scipy.optimize.minimize(f, start, method="Nelder-Mead", options={"xatol": 1e-12, "fatol": 1e-14, "maxiter": 20_000})
+    b = scipy.optimize.minimize(f, a.x, method="Powell", options={"xtol": 1e-12, "ftol": 1e-15})
+    return min(float(a.fun), float(b.fun))
+
+
+def clustered(n: int, k: int, seed: int) -> np.ndarray:
+    rng = np.random.default_rng(seed)
+    centres = rng.uniform(0, 100, size=(k, 2))
+    return centres[rng.integers(0, k, size=n)] + rng.normal(scale=3.0, size=(n, 2))
+
+
+# --- the published benchmark -------------------------------------------------------------
+
+@pytest.fixture(scope="module")
+def p654_plans() -> dict[int, pw.MedianPlan]:
+    points, best = p654()
+    return {p: pw.p_median(points, p) for p in sorted(best)}
+
+
+def test_p654_within_a_tenth_of_a_percent_of_best_known(p654_plans: dict[int, pw.MedianPlan]) -> None:
+    # Brimberg, Hansen, Mladenović & Taillard (2000), Operations Research 48(3), best-known
+    # objectives for p = 2..10 on TSPLIB p654 (tests/data/p654/best_known.txt).
+    points, best = p654()
+    assert len(points) == 654
+    for p, known in best.items():
+        plan = p654_plans[p]
+        assert plan.cost <= known * 1.001, (p, plan.cost, known)
+        # and the reported cost is the objective of the reported sites (scipy cdist)
+        assert median_cost(points, plan.sites) == pytest.approx(plan.cost, rel=1e-12)
+
+
+def test_p654_cost_never_rises_with_p(p654_plans: dict[int, pw.MedianPlan]) -> None:
+    # The optimum is non-increasing in p (adding a site can only shorten trips).
+    costs = [p654_plans[p].cost for p in sorted(p654_plans)]
+    assert all(b <= a for a, b in zip(costs, costs[1:])), costs
+
+
+def test_p654_plans_meet_both_local_optimality_conditions(p654_plans: dict[int, pw.MedianPlan]) -> None:
+    # Cooper (1964): at a local optimum every point goes to its nearest site and every site is
+    # the Fermat–Weber point of its cluster (checked against scipy.optimize.minimize).
+    points, _ = p654()
+    for p in (3, 7):
+        plan = p654_plans[p]
+        dmin, d = nearest(points, plan.sites)
+        np.testing.assert_allclose(d[np.arange(len(points)), plan.assignment], dmin, rtol=1e-12)
+        for j in range(p):
+            cluster = points[plan.assignment == j]
+            here = float(np.sum(np.hypot(*(cluster - plan.sites[j]).T)))
+            assert here <= scipy_weber_cost(cluster, np.ones(len(cluster))) * (1 + 1e-9)
+
+
+# --- p-median facts --------------------------------------------------------------------------
+
+def test_one_site_equals_weber_point() -> None:
+    # p = 1 is the Fermat–Weber problem by definition.
+    rng = np.random.default_rng(3)
+    pts = rng.normal(size=(200, 2)) * [50, 20] + [500_000, 6_000_000]
+    w = rng.lognormal(size=200)
+    plan = pw.p_median(pts, 1, w)
+    single = pw.weber_point(pts, w)
+    np.testing.assert_array_equal(plan.sites[0], single.location)
+    assert plan.cost == single.cost
+    assert plan.load[0] == pytest.approx(w.sum(), rel=1e-12)
+    assert np.all(plan.assignment == 0)
+
+
+def test_cost_never_rises_with_p_on_clusters() -> None:
+    # The optimum is non-increasing in p; here up to p = 8 on a clustered cloud.
+    pts = clustered(300, 6, 4)
+    costs = [pw.p_median(pts, p).cost for p in range(1, 9)]
+    assert all(b <= a * (1 + 1e-12) for a, b in zip(costs, costs[1:])), costs
+
+
+def test_as_many_sites_as_distinct_points_costs_zero() -> None:
+    # p = n: a site on every point, nothing to travel.
+    pts = np.array([[0.0, 0.0], [3.0, 1.0], [3.0, 1.0], [-2.0, 5.0], [7.0, 7.0]])
+    plan = pw.p_median(pts, 4)
+    assert plan.cost == 0.0
+    assert median_cost(pts, plan.sites) == 0.0
+    np.testing.assert_array_equal(np.sort(plan.load), [1.0, 1.0, 1.0, 2.0])
+
+
+def test_two_far_clusters_get_a_site_each() -> None:
+    # Closed form: collinear pairs {0, 1} and {10, 11} -> any point between each pair, cost 2.
+    plan = pw.p_median([[0, 0], [1, 0], [10, 0], [11, 0]], 2)
+    assert plan.cost == pytest.approx(2.0, rel=1e-12)
+    np.testing.assert_array_equal(plan.load, [2.0, 2.0])
+
+
+def test_fixed_sites_stay_serve_demand_and_count_in_cost() -> None:
+    pts = clustered(240, 4, 5)
+    fixed = np.array([[0.0, 0.0], [100.0, 100.0]])
+    plan = pw.p_median(pts, 3, fixed=fixed)
+    assert plan.sites.shape == (3, 2)
+    assert plan.load.shape == (5,)
+    all_sites = np.vstack([plan.sites, fixed])
+    dmin, d = nearest(pts, all_sites)
+    np.testing.assert_allclose(d[np.arange(len(pts)), plan.assignment], dmin, rtol=1e-12)
+    assert plan.cost == pytest.approx(float(dmin.sum()), rel=1e-12)
+    # fixed sites only help: no worse than the same search without them plus nothing
+    assert plan.cost <= pw.p_median(pts, 3).cost * (1 + 1e-12) + 1e-9
+    np.testing.assert_array_equal(plan.fixed, fixed)
+
+
+def test_fixed_site_on_a_cluster_frees_the_new_sites() -> None:
+    # Two tight clusters; an existing site at one: the single new site goes to the other.
+    a = np.array([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0], [1.0, 1.0]])
+    pts = np.vstack([a, a + 50.0])
+    plan = pw.p_median(pts, 1, fixed=[[0.5, 0.5]])
+    assert np.all(np.abs(plan.sites[0] - 50.5) < 1e-6)
+    # Closed form: the square's centre is its Fermat–Weber point; 8 corners at sqrt(2)/2.
+    assert plan.cost == pytest.approx(8 * np.sqrt(0.5), rel=1e-9)
+
+
+def test_same_seed_same_answer_and_seed_is_used() -> None:
+    pts = clustered(400, 8, 6)
+    a = pw.p_median(pts, 6, seed=17)
+    b = pw.p_median(pts, 6, seed=17)
+    np.testing.assert_array_equal(a.sites, b.sites)
+    np.testing.assert_array_equal(a.assignment, b.assignment)
+    assert a.cost == b.cost and a.iterations == b.iterations
+    assert pw.p_median(pts, 6, seed=-1).cost > 0  # any int is a seed
+
+
+def test_efforts_all_reach_a_local_optimum() -> None:
+    pts = clustered(300, 5, 7)
+    costs = {e: pw.p_median(pts, 5, effort=e).cost for e in ("fast", "normal", "thorough")}
+    for cost in costs.values():
+        assert cost >= min(costs.values())
+    assert costs["thorough"] <= costs["fast"] * (1 + 1e-9)
+
+
+def test_weights_move_sites_toward_heavy_demand() -> None:
+    # Majority theorem (Witzgall 1964), per cluster: a point holding half a cluster's weight
+    # is that cluster's Fermat–Weber point.
+    pts = np.array([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0], [30.0, 0.0], [31.0, 0.0], [30.0, 1.0]])
+    w = np.array([5.0, 1.0, 1.0, 1.0, 1.0, 6.0])
+    plan = pw.p_median(pts, 2, w)
+    assert {tuple(s) for s in plan.sites} == {(0.0, 0.0), (30.0, 1.0)}
+
+
+# --- p-center ------------------------------------------------------------------------------
+
+def enclosing_radius_brute_force(points: np.ndarray) -> float:
+    """Smallest enclosing circle by the textbook characterisation: it is fixed by two points
+    (a diameter) or three (the circumcircle), so the least candidate containing all points."""
+    if len(points) == 1:
+        return 0.0
+    best = np.inf
+    cands = []
+    for i, j in itertools.combinations(range(len(points)), 2):
+        cands.append(((points[i] + points[j]) / 2, np.linalg.norm(points[i] - points[j]) / 2))
+    for i, j, k in itertools.combinations(range(len(points)), 3):
+        a, b, c = points[i], points[j], points[k]
+        d = 2 * (a[0] * (b[1] - c[1]) + b[0] * (c[1] - a[1]) + c[0] * (a[1] - b[1]))
+        if abs(d) < 1e-12:
+            continue
+        ux = ((a @ a) * (b[1] - c[1]) + (b @ b) * (c[1] - a[1]) + (c @ c) * (a[1] - b[1])) / d
+        uy = ((a @ a) * (c[0] - b[0]) + (b @ b) * (a[0] - c[0]) + (c @ c) * (b[0] - a[0])) / d
+        centre = np.array([ux, uy])
+        cands.append((centre, np.linalg.norm(a - centre)))
+    for centre, r in cands:
+        if r < best and np.all(np.linalg.norm(points - centre, axis=1) <= r * (1 + 1e-9) + 1e-12):
+            best = r
+    return float(best)
+
+
+def p_center_brute_force(points: np.ndarray, p: int) -> float:
+    """Exhaustive search over every split of the points into p labelled parts, the largest
+    enclosing circle of the parts minimised."""
+    n = len(points)
+    radius = {}
+    for mask in range(1, 1 << n):
+        radius[mask] = enclosing_radius_brute_force(points[[i for i in range(n) if mask >> i & 1]])
+    best = np.inf
+    for labels in itertools.product(range(p), repeat=n):
+        worst = 0.0
+        for part in range(p):
+            mask = sum(1 << i for i in range(n) if labels[i] == part)
+            if mask:
+                worst = max(worst, radius[mask])
+        best = min(best, worst)
+    return float(best)
+
+
+def test_p_center_one_site_equals_minimax_point() -> None:
+    # p = 1 is the weighted 1-center by definition.
+    rng = np.random.default_rng(8)
+    pts = rng.normal(size=(100, 2))
+    w = rng.uniform(0.5, 3.0, size=100)
+    plan = pw.p_center(pts, 1, w)
+    single = pw.minimax_point(pts, w)
+    np.testing.assert_array_equal(plan.sites[0], single.location)
+    assert plan.radius == pytest.approx(single.radius, rel=1e-12)
+    assert plan.optimal
+
+
+@pytest.mark.parametrize("seed", range(4))
+@pytest.mark.parametrize("p", [2, 3])
+def test_p_center_tiny_instances_match_exhaustive_search(seed: int, p: int) -> None:
+    pts = np.random.default_rng(100 + seed).uniform(0, 10, size=(7, 2))
+    plan = pw.p_center(pts, p)
+    assert plan.optimal
+    assert plan.radius == pytest.approx(p_center_brute_force(pts, p), rel=1e-9)
+    # the radius is the objective of the sites (scipy cdist)
+    dmin, _ = nearest(pts, plan.sites)
+    assert plan.radius == pytest.approx(float(dmin.max()), rel=1e-12)
+
+
+def test_p_center_closed_form_two_squares() -> None:
+    # Each 2 x 2 square's smallest circle has radius sqrt(2) (half the diagonal).
+    sq = np.array([[0, 0], [2, 0], [0, 2], [2, 2]], dtype=float)
+    plan = pw.p_center(np.vstack([sq, sq + [20, 0]]), 2)
+    assert plan.radius == pytest.approx(np.sqrt(2.0), rel=1e-12)
+
+
+def test_p_center_weighted_radius_and_nearest_assignment() -> None:
+    pts = clustered(500, 5, 9)
+    w = np.random.default_rng(9).uniform(1, 4, size=500)
+    plan = pw.p_center(pts, 5, w)
+    dmin, d = nearest(pts, plan.sites)
+    assert plan.radius == pytest.approx(float(np.max(w * dmin)), rel=1e-12)
+    np.testing.assert_allclose(d[np.arange(500), plan.assignment], dmin, rtol=1e-12)
+    # Gonzalez (1985): farthest-first is within a factor 2 of the optimum; our answer is at
+    # least as good as a plain farthest-first start from the heaviest point.
+    sites = [pts[np.argmax(w)]]
+    for _ in range(4):
+        sites.append(pts[np.argmax(w * nearest(pts, np.array(sites))[0])])
+    assert plan.radius <= float(np.max(w * nearest(pts, np.array(sites))[0]))
+
+
+def test_p_center_radius_never_rises_with_p() -> None:
+    pts = clustered(200, 4, 10)
+    radii = [pw.p_center(pts, p).radius for p in range(1, 7)]
+    assert all(b <= a * (1 + 1e-12) for a, b in zip(radii, radii[1:])), radii
+
+
+def test_p_center_same_seed_same_answer() -> None:
+    pts = clustered(300, 6, 11)
+    a, b = pw.p_center(pts, 4, seed=5), pw.p_center(pts, 4, seed=5)
+    np.testing.assert_array_equal(a.sites, b.sites)
+    assert a.radius == b.radius
+
+
+# --- bad and hostile input -----------------------------------------------------------------
+
+SOLVERS = {"p_median": pw.p_median, "p_center": pw.p_center}
+
+
+@pytest.mark.parametrize("solver", SOLVERS)
+@pytest.mark.parametrize("name, points", BAD_POINTS, ids=[n for n, _ in BAD_POINTS])
+def test_bad_points_raise_input_error(solver: str, name: str, points: object) -> None:
+    with pytest.raises(pw.InputError):
+        SOLVERS[solver](points, 1)
+
+
+@pytest.mark.parametrize("solver", SOLVERS)
+@pytest.mark.parametrize("name, make", BAD_WEIGHTS, ids=[n for n, _ in BAD_WEIGHTS])
+def test_bad_weights_raise_input_error(solver: str, name: str, make) -> None:
+    pts = clustered(20, 2, 12)
+    with pytest.raises(pw.InputError):
+        SOLVERS[solver](pts, 2, make(len(pts)))
+
+
+@pytest.mark.parametrize("solver", SOLVERS)
+def test_bad_p_raises_input_error(solver: str) -> None:
+    pts = np.array([[0.0, 0.0], [1.0, 0.0], [1.0, 0.0]])
+    for p in (0, -3):
+        with pytest.raises(pw.InputError, match="p: must be at least 1"):
+            SOLVERS[solver](pts, p)
+    with pytest.raises(pw.DegenerateInputError, match="at least 3 distinct points"):
+        SOLVERS[solver](pts, 3)
+    # zero-weight points do not count as places needing a site
+    with pytest.raises(pw.DegenerateInputError):
+        SOLVERS[solver](pts, 2, [1.0, 0.0, 0.0])
+
+
+def test_bad_fixed_and_effort() -> None:
+    pts = clustered(20, 2, 13)
+    with pytest.raises(pw.InputError, match=r"fixed\[1\]"):
+        pw.p_median(pts, 1, fixed=[[0.0, 0.0], [np.nan, 1.0]])
+    with pytest.raises(pw.InputError, match="fixed must have shape"):
+        pw.p_median(pts, 1, fixed=[[0.0, 0.0, 1.0]])
+    with pytest.raises(pw.InputError, match="effort"):
+        pw.p_median(pts, 1, effort="extreme")  # type: ignore[arg-type]
+
+
+@pytest.mark.parametrize("solver", SOLVERS)
+@pytest.mark.parametrize("name, points", AWKWARD_POINTS, ids=[n for n, _ in AWKWARD_POINTS])
+def test_awkward_points_give_consistent_plans(solver: str, name: str, points: object) -> None:
+    pts = np.asarray(points, dtype=float)
+    distinct = len(np.unique(pts, axis=0))
+    p = min(3, distinct)
+    plan = SOLVERS[solver](points, p)
+    assert plan.sites.shape == (p, 2) and np.all(np.isfinite(plan.sites))
+    dmin, d = nearest(pts, plan.sites)
+    np.testing.assert_allclose(d[np.arange(len(pts)), plan.assignment], dmin, rtol=1e-9, atol=0)
+    scale = max(float(np.abs(pts).max()), 1e-300)
+    if solver == "p_median":
+        assert plan.cost == pytest.approx(float(dmin.sum()), rel=1e-9, abs=1e-12 * scale)
+        if p == distinct:
+            assert plan.cost == 0.0
+    else:
+        assert plan.radius == pytest.approx(float(dmin.max()), rel=1e-9, abs=1e-12 * scale)
+    with pytest.raises(pw.DegenerateInputError):
+        SOLVERS[solver](points, distinct + 1)
+
+
+def test_results_are_frozen_read_only_and_readable() -> None:
+    plan = pw.p_median(clustered(30, 3, 14), 3)
+    with pytest.raises(ValueError):
+        plan.sites[0, 0] = 1.0
+    with pytest.raises(AttributeError):
+        plan.cost = 0.0  # type: ignore[misc]
+    assert repr(plan).startswith("MedianPlan(sites=[[") and "points" not in repr(plan)
+    assert repr(pw.p_center(clustered(30, 3, 14), 2)).startswith("CenterPlan(")
+
+
+# --- properties ------------------------------------------------------------------------------
+
+coords = st.floats(-1e3, 1e3, allow_nan=False, allow_infinity=False)
+clouds = st.integers(1, 30).flatmap(lambda n: arrays(np.float64, (n, 2), elements=coords))
+
+
+@given(clouds, st.integers(1, 4), st.data())
+def test_property_median_plan_is_consistent_and_beats_one_site(pts: np.ndarray, p: int, data: st.DataObject) -> None:
+    w = data.draw(arrays(np.float64, (len(pts),), elements=st.floats(0.0, 10.0)))
+    if not np.any(w > 0):
+        w[0] = 1.0
+    distinct = len(np.unique(pts[w > 0], axis=0))
+    if p > distinct:
+        with pytest.raises(pw.DegenerateInputError):
+            pw.p_median(pts, p, w)
+        return
+    plan = pw.p_median(pts, p, w, effort="fast")
+    dmin, d = nearest(pts, plan.sites)
+    scale = max(1.0, float(np.abs(pts).max())) * float(w.sum())
+    assert plan.cost == pytest.approx(float(np.sum(w * dmin)), rel=1e-9, abs=1e-12 * scale)
+    np.testing.assert_allclose(d[np.arange(len(pts)), plan.assignment], dmin, rtol=1e-9, atol=1e-12 * scale)
+    assert np.sum(plan.load) == pytest.approx(float(w.sum()), rel=1e-12)
+    # more sites never cost more than the single Fermat–Weber site
+    assert plan.cost <= pw.weber_point(pts, w).cost * (1 + 1e-9) + 1e-12 * scale
+
+
+@given(clouds, st.integers(1, 4), st.data())
+def test_property_center_plan_is_consistent(pts: np.ndarray, p: int, data: st.DataObject) -> None:
+    w = data.draw(arrays(np.float64, (len(pts),), elements=st.floats(0.0, 10.0)))
+    if not np.any(w > 0):
+        w[0] = 1.0
+    distinct = len(np.unique(pts[w > 0], axis=0))
+    if p > distinct:
+        with pytest.raises(pw.DegenerateInputError):
+            pw.p_center(pts, p, w)
+        return
+    plan = pw.p_center(pts, p, w)
+    dmin, _ = nearest(pts, plan.sites)
+    scale = max(1.0, float(np.abs(pts).max())) * float(w.max())
+    assert plan.radius == pytest.approx(float(np.max(w * dmin)), rel=1e-9, abs=1e-12 * scale)
+    assert plan.radius <= pw.minimax_point(pts, w).radius * (1 + 1e-9) + 1e-12 * scale
+    if distinct <= 10:
+        assert plan.optimal
+
+
+@given(clouds, st.randoms(use_true_random=False))
+def test_property_p_center_exact_is_order_independent(pts: np.ndarray, rnd) -> None:
+    # Tiny instances are solved exactly, so any order of the same points gives the same radius.
+    pts = pts[:8]
+    p = min(2, len(np.unique(pts, axis=0)))
+    order = list(range(len(pts)))
+    rnd.shuffle(order)
+    a, b = pw.p_center(pts, p), pw.p_center(pts[order], p)
+    scale = max(1.0, float(np.abs(pts).max()))
+    assert b.radius == pytest.approx(a.radius, rel=1e-9, abs=1e-12 * scale)
