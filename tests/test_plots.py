@@ -25,8 +25,8 @@ CALLS = {
     "delaunay": [lambda f: f(PTS)],
     "voronoi_cells": [lambda f: f(PTS[:12])],
     "nearest_site": [lambda f: f(PTS, PTS[:4], W)],
-    "spanning_tree": [lambda f: f(PTS)],
-    "steiner_tree": [lambda f: f(PTS[:8])],
+    "spanning_tree": [lambda f: f(PTS), lambda f: f(PTS, groups=LABELS)],
+    "steiner_tree": [lambda f: f(PTS[:8]), lambda f: f(PTS[:16], groups=LABELS[12:28])],
     "p_median": [lambda f: f(PTS, 3, W)],
     "p_center": [lambda f: f(PTS, 3, W)],
 }

@@ -622,6 +622,7 @@ def _network_frame(
     group_col: list[Any] = []
     geoms: list[Any] = []
     totals = {"length": 0.0, "mst_length": 0.0, "optimal": True, "junctions": 0}
+    row_labels = pf.frame.index.to_numpy(dtype=object)
     for value, members in _each_group(groups, len(pf.xy), progress):
         tree = _in_group(value, groups, lambda: solve(pf.xy[members]))
         edges = np.asarray(tree.edges, dtype=np.int64).reshape(-1, 2)
@@ -629,7 +630,7 @@ def _network_frame(
         lengths = np.hypot(*(nodes[edges[:, 0]] - nodes[edges[:, 1]]).T)
         m = len(members)
         # Terminals are named by the caller's row label, Steiner points by None.
-        labels = np.array([pf.frame.index[i] for i in members] + [None] * (len(nodes) - m), dtype=object)
+        labels = np.concatenate([row_labels[members], np.full(len(nodes) - m, None, dtype=object)])
         rows["from_node"].extend(labels[edges[:, 0]].tolist())
         rows["to_node"].extend(labels[edges[:, 1]].tolist())
         rows["length"].extend(lengths.tolist())
