@@ -302,7 +302,7 @@ def _network(s: Scenario, depots: np.ndarray, w: _Writer, seed: int) -> dict[str
                      label=f"minimum spanning tree {result['mst_km']:.1f} km")
     title = f"{s.name}: linking the depots and towns"
     if _have("steiner_tree"):
-        st = pw.steiner_tree(terminals, seed=seed, time_limit=20.0)
+        st = pw.steiner_tree(terminals, seed=seed, time_limit=5.0)
         nodes = np.asarray(st.nodes)
         edges = np.asarray(st.edges)
         result.update(steiner_km=float(st.length) / 1000, saving=100 * float(st.saving),
