@@ -418,7 +418,8 @@ def run(out: str | Path, *, quiet: bool = False, seed: int = 0) -> str:
     _plans_map(s, plans, w)
     w.say("depot maps drawn")
 
-    areas, spread = None, {}
+    areas: list[dict[str, Any]] | None = None
+    spread: dict[str, float] = {}
     if _have("voronoi_cells", "nearest_site") and len(chosen["sites"]) > 1:
         areas, spread = _service_areas(s, chosen, w)
         w.say("service areas drawn")

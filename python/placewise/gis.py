@@ -35,10 +35,8 @@ try:
     import pandas as pd
     import shapely
     from pyproj import CRS
-except ImportError as exc:  # pragma: no cover - exercised only without the extra
-    raise ImportError(
-        "placewise.gis needs geopandas and pyproj: pip install 'placewise[geo]'"
-    ) from exc
+except ImportError:  # pragma: no cover - exercised only without the extra
+    raise ImportError("placewise.gis needs geopandas and pyproj: pip install 'placewise[geo]'")
 
 import placewise as _pw
 from ._core import InputError
@@ -308,7 +306,7 @@ def _counts(groups: _Groups | None, n: int) -> np.ndarray:
     return np.array([n]) if groups is None else np.diff(groups.start)
 
 
-def _result_frame(pf: _Frame, geoms: Sequence[Any], columns: dict[str, Any], groups: _Groups | None) -> Any:
+def _result_frame(pf: _Frame, geoms: Sequence[Any] | np.ndarray, columns: dict[str, Any], groups: _Groups | None) -> Any:
     data = {} if groups is None else {groups.name: np.asarray(groups.values)}
     data.update(columns)
     return gpd.GeoDataFrame(data, geometry=pf.back(geoms))
