@@ -27,6 +27,7 @@ from .enclose import (
 )
 from .median import WeberPoint, WeberPoints, weber_point
 from .multi import CenterPlan, MedianPlan, p_center, p_median
+from .network import SpanningTree, SpanningTrees, SteinerTree, SteinerTrees, spanning_tree, steiner_tree
 from .partition import Allocation, Triangulation, VoronoiCells, delaunay, nearest_site, voronoi_cells
 from .runtime import set_threads, thread_count
 
@@ -44,6 +45,10 @@ __all__ = [
     "MedianPlan",
     "MinimaxPoint",
     "MinimaxPoints",
+    "SpanningTree",
+    "SpanningTrees",
+    "SteinerTree",
+    "SteinerTrees",
     "Triangulation",
     "VoronoiCells",
     "WeberPoint",
@@ -56,6 +61,8 @@ __all__ = [
     "p_center",
     "p_median",
     "set_threads",
+    "spanning_tree",
+    "steiner_tree",
     "thread_count",
     "voronoi_cells",
     "weber_point",

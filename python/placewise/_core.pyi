@@ -50,6 +50,18 @@ def nearest_site_allocation(
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]: ...
 
 # --- network (src/py/network.rs) ---
+def spanning_tree_single(points: ArrayLike) -> tuple[np.ndarray, np.ndarray, float]: ...
+def spanning_tree_grouped(
+    points: ArrayLike, groups: ArrayLike
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray]: ...
+def steiner_tree_single(
+    points: ArrayLike, exact: bool | None, seed: int, time_limit: float | None
+) -> tuple[np.ndarray, int, np.ndarray, float, float, float, bool]: ...
+def steiner_tree_grouped(
+    points: ArrayLike, groups: ArrayLike, exact: bool | None, seed: int, time_limit: float | None
+) -> tuple[
+    np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray
+]: ...
 
 # --- multi (src/py/multi.rs) ---
 def p_median_plan(

@@ -1,1 +1,443 @@
 //! Networks linking sites: Euclidean minimum spanning tree and Euclidean Steiner trees.
+//!
+//! - [`spanning_tree`]: the Euclidean MST, Kruskal on the Delaunay edges ([`mst`]).
+//! - [`steiner_tree`]: the Euclidean Steiner tree, exact for small sets (full Steiner trees
+//!   and their concatenation) and by Steiner insertion with position re-optimisation for
+//!   large ones ([`steiner`]).
+//! - [`check_steiner_tree`]: the invariant checker the tests call.
+
+pub mod mst;
+pub mod steiner;
+pub mod union_find;
+
+use std::collections::HashMap;
+use std::f64::consts::PI;
+use std::time::{Duration, Instant};
+
+use crate::batch::{run_grouped, Grouped};
+use crate::error::{Error, Result};
+use crate::geometry::predicates::all_collinear;
+use crate::geometry::{distance, scale, to_local_frame, validate_points, BoundingBox, CompensatedSum, Point, Weights};
+use steiner::Network;
+use union_find::UnionFind;
+
+/// A Euclidean minimum spanning tree.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SpanningTree {
+    /// `n − 1` edges as `[smaller row, larger row]` of the input, by non-decreasing length.
+    pub edges: Vec<[usize; 2]>,
+    /// Length of each edge.
+    pub edge_length: Vec<f64>,
+    /// Total length.
+    pub length: f64,
+}
+
+/// The Euclidean minimum spanning tree of `points`.
+///
+/// Repeated locations are joined by zero-length edges; collinear points give the chain
+/// along their line; one point gives no edges.
+///
+/// # Errors
+/// [`Error::TooFewPoints`] when `points` is empty; [`Error::NonFiniteCoordinate`] for a NaN
+/// or infinite coordinate.
+///
+/// # Runtime
+/// O(n log n): a Delaunay triangulation and Kruskal's algorithm on its edges.
+pub fn spanning_tree(points: &[Point]) -> Result<SpanningTree> {
+    validate_points("points", points, 1)?;
+    let edges = mst::mst_edges(points)?;
+    let edge_length: Vec<f64> = edges.iter().map(|e| distance(points[e[0]], points[e[1]])).collect();
+    let mut sum = CompensatedSum::default();
+    edge_length.iter().for_each(|&l| sum.add(l));
+    Ok(SpanningTree { edges, edge_length, length: sum.total() })
+}
+
+/// [`spanning_tree`] of every group of a labelled cloud, in parallel (see [`crate::batch`]).
+/// Edges are given as input rows (of the whole cloud).
+///
+/// # Errors
+/// As [`spanning_tree`], and [`Error::LengthMismatch`] when `labels` does not have one
+/// entry per point.
+pub fn spanning_trees(points: &[Point], labels: &[i64]) -> Result<Grouped<SpanningTree>> {
+    run_grouped(points, Weights::Unit, labels, |group| {
+        let mut tree = spanning_tree(group.points)?;
+        for e in &mut tree.edges {
+            let (a, b) = (group.members[e[0]], group.members[e[1]]);
+            *e = [a.min(b), a.max(b)];
+        }
+        Ok(tree)
+    })
+}
+
+/// How [`steiner_tree`] solves.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum SteinerMethod {
+    /// Exact when the terminal count allows an answer within a few seconds, otherwise the
+    /// heuristic; an exact attempt that runs out of time falls back to the heuristic.
+    #[default]
+    Auto,
+    /// Exact: full Steiner trees and their concatenation (at most 64 distinct terminals).
+    Exact,
+    /// Steiner insertion on Delaunay triangles with position re-optimisation.
+    Heuristic,
+}
+
+/// Options of [`steiner_tree`].
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SteinerOptions {
+    /// Exact, heuristic or automatic choice.
+    pub method: SteinerMethod,
+    /// Orders equal-gain Steiner insertions of the heuristic; the same seed gives the same tree.
+    pub seed: u64,
+    /// Wall-clock budget of an exact attempt, in seconds (`None`: unlimited for
+    /// [`SteinerMethod::Exact`], [`AUTO_BUDGET`] seconds for [`SteinerMethod::Auto`]).
+    /// When it runs out the heuristic's tree is returned, not proven optimal.
+    pub time_limit: Option<f64>,
+}
+
+impl Default for SteinerOptions {
+    fn default() -> Self {
+        SteinerOptions { method: SteinerMethod::Auto, seed: 0, time_limit: None }
+    }
+}
+
+/// Largest distinct terminal count that [`SteinerMethod::Auto`] tries exactly.
+pub const AUTO_EXACT_TERMINALS: usize = 12;
+/// Default time budget (seconds) of an automatic exact attempt.
+pub const AUTO_BUDGET: f64 = 5.0;
+/// Largest distinct terminal count the exact method accepts.
+pub const EXACT_TERMINALS: usize = 64;
+
+/// A Euclidean Steiner tree.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SteinerTree {
+    /// The input points in input order, then the Steiner points.
+    pub nodes: Vec<Point>,
+    /// How many of `nodes` are input points.
+    pub terminal_count: usize,
+    /// Edges as node indices.
+    pub edges: Vec<[usize; 2]>,
+    /// Total length.
+    pub length: f64,
+    /// Length of the minimum spanning tree of the input points.
+    pub mst_length: f64,
+    /// True only when the tree is proven to be a Steiner minimum tree.
+    pub optimal: bool,
+}
+
+impl SteinerTree {
+    /// `1 − length / mst_length` (0 when the MST has no length).
+    pub fn saving(&self) -> f64 {
+        if self.mst_length > 0.0 {
+            1.0 - self.length / self.mst_length
+        } else {
+            0.0
+        }
+    }
+}
+
+/// The Euclidean Steiner tree of `points`: the shortest network joining them when
+/// junctions may be added; every junction joins three edges at 120°.
+///
+/// Repeated locations are joined by zero-length edges (spread so that no row has more than
+/// three edges); collinear points give the chain along their line (optimal); one point
+/// gives no edges.
+///
+/// # Errors
+/// - [`Error::TooFewPoints`] when `points` is empty;
+/// - [`Error::NonFiniteCoordinate`] for a NaN or infinite coordinate;
+/// - [`Error::InvalidParameter`] for a negative or non-finite `time_limit`, or
+///   [`SteinerMethod::Exact`] with more than [`EXACT_TERMINALS`] distinct points.
+///
+/// # Runtime
+/// Heuristic: O(n log n) per insertion round, a handful of rounds. Exact: exponential in
+/// the worst case; 20 uniformly spread terminals take well under a second.
+pub fn steiner_tree(points: &[Point], options: &SteinerOptions) -> Result<SteinerTree> {
+    validate_points("points", points, 1)?;
+    validate_options(options)?;
+    let distinct = Distinct::of(points);
+    if options.method == SteinerMethod::Exact && distinct.points.len() > EXACT_TERMINALS {
+        return Err(Error::InvalidParameter {
+            name: "exact",
+            reason: format!(
+                "the exact method handles at most {EXACT_TERMINALS} distinct points; got {}",
+                distinct.points.len()
+            ),
+        });
+    }
+    let (frame, local) = Frame::of(&distinct.points);
+    let (net, optimal) = solve_distinct(&local, options)?;
+    Ok(distinct.expand(points, &frame, &net, optimal))
+}
+
+/// [`steiner_tree`] of every group of a labelled cloud, in parallel (see [`crate::batch`]).
+/// Each group's tree has the group's points (in input order) as its first nodes.
+///
+/// # Errors
+/// As [`steiner_tree`], and [`Error::LengthMismatch`] when `labels` does not have one entry
+/// per point.
+pub fn steiner_trees(points: &[Point], labels: &[i64], options: &SteinerOptions) -> Result<Grouped<SteinerTree>> {
+    validate_options(options)?;
+    run_grouped(points, Weights::Unit, labels, |group| steiner_tree(group.points, options))
+}
+
+fn validate_options(options: &SteinerOptions) -> Result<()> {
+    if let Some(t) = options.time_limit {
+        if !(t.is_finite() && t >= 0.0) {
+            return Err(Error::InvalidParameter {
+                name: "time_limit",
+                reason: format!("must be finite and >= 0 seconds; got {t:?}"),
+            });
+        }
+    }
+    Ok(())
+}
+
+/// Solve on distinct, normalised terminals: the tree and whether it is proven optimal.
+fn solve_distinct(local: &[Point], options: &SteinerOptions) -> Result<(Network, bool)> {
+    let n = local.len();
+    let chain = |edges: Vec<[usize; 2]>| Network { nodes: local.to_vec(), terminal_count: n, edges };
+    if n < 3 || all_collinear(local) {
+        // A Steiner point would need an angle below 120° between terminals; on a line there is none.
+        return Ok((chain(mst::mst_edges(local)?), true));
+    }
+    let mst_edges = mst::mst_edges(local)?;
+    let exact = match options.method {
+        SteinerMethod::Exact => true,
+        SteinerMethod::Heuristic => false,
+        SteinerMethod::Auto => n <= AUTO_EXACT_TERMINALS,
+    };
+    if exact {
+        let budget = options.time_limit.or((options.method == SteinerMethod::Auto).then_some(AUTO_BUDGET));
+        let deadline = budget.map(|s| Instant::now() + Duration::from_secs_f64(s.min(1e9)));
+        let bottleneck = steiner::fst::Bottleneck::new(local);
+        if let Some(trees) = steiner::fst::full_steiner_trees(local, &bottleneck, deadline) {
+            if let Some((chosen, proven)) = steiner::concatenate::concatenate(n, &trees, deadline) {
+                let net = assemble(local, &trees, &chosen);
+                if net.edges.len() + 1 == net.nodes.len() {
+                    return Ok((net, proven));
+                }
+            }
+        }
+    }
+    let mst_length = chain(mst_edges.clone()).length();
+    let net = steiner::heuristic::heuristic(local, mst_edges.clone(), options.seed);
+    if net.length() <= mst_length {
+        Ok((net, false))
+    } else {
+        Ok((chain(mst_edges), false))
+    }
+}
+
+/// The tree made of the chosen full Steiner trees.
+fn assemble(local: &[Point], trees: &[steiner::fst::FullTree], chosen: &[usize]) -> Network {
+    use steiner::fst::End;
+    let mut net = Network { nodes: local.to_vec(), terminal_count: local.len(), edges: Vec::new() };
+    for &i in chosen {
+        let base = net.nodes.len();
+        net.nodes.extend_from_slice(&trees[i].steiner);
+        let node = |end: End| match end {
+            End::Terminal(t) => t,
+            End::Steiner(k) => base + k,
+        };
+        net.edges.extend(trees[i].edges.iter().map(|&[a, b]| [node(a), node(b)]));
+    }
+    net
+}
+
+/// Distinct locations of the input, in order of first occurrence.
+struct Distinct {
+    points: Vec<Point>,
+    /// Input rows of each distinct location, ascending.
+    rows: Vec<Vec<usize>>,
+}
+
+impl Distinct {
+    fn of(points: &[Point]) -> Distinct {
+        let mut index: HashMap<(u64, u64), usize> = HashMap::with_capacity(points.len());
+        let mut distinct = Distinct { points: Vec::new(), rows: Vec::new() };
+        for (row, &p) in points.iter().enumerate() {
+            // `+ 0.0` makes -0.0 and 0.0 one location.
+            let key = ((p[0] + 0.0).to_bits(), (p[1] + 0.0).to_bits());
+            let k = *index.entry(key).or_insert_with(|| {
+                distinct.points.push(p);
+                distinct.rows.push(Vec::new());
+                distinct.points.len() - 1
+            });
+            distinct.rows[k].push(row);
+        }
+        distinct
+    }
+
+    /// The tree on the input rows: Steiner points back in input coordinates, each repeated
+    /// location a chain of zero-length edges carrying the location's edges at its two ends.
+    fn expand(&self, points: &[Point], frame: &Frame, net: &Network, optimal: bool) -> SteinerTree {
+        let n = points.len();
+        let d = self.points.len();
+        let mut nodes = points.to_vec();
+        nodes.extend(net.nodes[d..].iter().map(|&p| frame.to_input(p)));
+        let mut degree = vec![0usize; d];
+        let mut edges = Vec::with_capacity(n + net.nodes.len() - d);
+        // Node of the distinct location `k` for its next real edge: the first row takes two,
+        // the last row of a repeated location the rest.
+        let mut place = |k: usize| {
+            let rows = &self.rows[k];
+            degree[k] += 1;
+            if degree[k] <= 2 || rows.len() == 1 {
+                rows[0]
+            } else {
+                rows[rows.len() - 1]
+            }
+        };
+        for &[a, b] in &net.edges {
+            let map = |v: usize, place: &mut dyn FnMut(usize) -> usize| if v < d { place(v) } else { n + v - d };
+            let ea = map(a, &mut place);
+            let eb = map(b, &mut place);
+            edges.push([ea, eb]);
+        }
+        for rows in &self.rows {
+            edges.extend(rows.windows(2).map(|w| [w[0], w[1]]));
+        }
+        let length = total_length(&nodes, &edges);
+        let mst_length = spanning_tree(points).map(|t| t.length).unwrap_or(0.0);
+        SteinerTree { nodes, terminal_count: n, edges, length, mst_length, optimal }
+    }
+}
+
+fn total_length(nodes: &[Point], edges: &[[usize; 2]]) -> f64 {
+    let mut sum = CompensatedSum::default();
+    for e in edges {
+        sum.add(distance(nodes[e[0]], nodes[e[1]]));
+    }
+    sum.total()
+}
+
+/// The normalised frame: centred on the bounding box, scaled by a power of two (exact) so
+/// that the diagonal lies in (0.5, 1].
+struct Frame {
+    origin: Point,
+    factor: f64,
+}
+
+impl Frame {
+    fn of(points: &[Point]) -> (Frame, Vec<Point>) {
+        let (origin, local) = to_local_frame(points);
+        let diagonal = BoundingBox::of(&local).map_or(0.0, |b| b.diagonal());
+        let factor = if diagonal > 0.0 && diagonal.is_finite() { 2f64.powi(-(diagonal.log2().ceil() as i32)) } else { 1.0 };
+        let local = local.into_iter().map(|p| scale(p, factor)).collect();
+        (Frame { origin, factor }, local)
+    }
+
+    fn to_input(&self, p: Point) -> Point {
+        let q = scale(p, 1.0 / self.factor);
+        [q[0] + self.origin[0], q[1] + self.origin[1]]
+    }
+}
+
+/// Check that `tree` is a Steiner tree as [`steiner_tree`] promises: a tree on all its
+/// nodes; every Steiner point of degree three with its edges at 120° to within
+/// `angle_tol` radians; no input point with more than three edges; `length` the sum of the
+/// edges and at most `mst_length` (to within a relative 1e-12).
+///
+/// # Errors
+/// A sentence naming the first broken invariant.
+pub fn check_steiner_tree(tree: &SteinerTree, angle_tol: f64) -> std::result::Result<(), String> {
+    let m = tree.nodes.len();
+    if tree.edges.len() + 1 != m.max(1) {
+        return Err(format!("{} edges on {} nodes is not a tree", tree.edges.len(), m));
+    }
+    let mut sets = UnionFind::new(m);
+    let mut adjacency = vec![Vec::new(); m];
+    for &[a, b] in &tree.edges {
+        if a >= m || b >= m {
+            return Err(format!("edge [{a}, {b}] names a node beyond {m}"));
+        }
+        if !sets.union(a, b) {
+            return Err(format!("edge [{a}, {b}] closes a cycle"));
+        }
+        adjacency[a].push(b);
+        adjacency[b].push(a);
+    }
+    for (v, list) in adjacency.iter().enumerate() {
+        if v < tree.terminal_count {
+            if list.len() > 3 {
+                return Err(format!("input point {v} has {} edges", list.len()));
+            }
+            continue;
+        }
+        let [i, j, k] = list[..] else { return Err(format!("Steiner point {v} has degree {}", list.len())) };
+        let p = tree.nodes[v];
+        for (a, b) in [(i, j), (j, k), (k, i)] {
+            let angle = steiner::angle_at(p, tree.nodes[a], tree.nodes[b]);
+            if (angle - 2.0 * PI / 3.0).abs() > angle_tol {
+                return Err(format!("Steiner point {v} has an angle of {angle} rad between nodes {a} and {b}"));
+            }
+        }
+        let shortest = [i, j, k].iter().map(|&a| distance(p, tree.nodes[a])).fold(f64::INFINITY, f64::min);
+        if shortest == 0.0 {
+            return Err(format!("Steiner point {v} coincides with a neighbour"));
+        }
+    }
+    let length = total_length(&tree.nodes, &tree.edges);
+    if (length - tree.length).abs() > 1e-9 * length.max(f64::MIN_POSITIVE) {
+        return Err(format!("length {} differs from the edges' total {length}", tree.length));
+    }
+    if tree.length > tree.mst_length * (1.0 + 1e-12) {
+        return Err(format!("length {} exceeds the MST length {}", tree.length, tree.mst_length));
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::geometry::random::SplitMix64;
+
+    fn uniform(n: usize, seed: u64) -> Vec<Point> {
+        let mut rng = SplitMix64::new(seed);
+        let mut unit = || (rng.next_u64() >> 11) as f64 / (1u64 << 53) as f64;
+        (0..n).map(|_| [unit(), unit()]).collect()
+    }
+
+    fn exact() -> SteinerOptions {
+        SteinerOptions { method: SteinerMethod::Exact, ..SteinerOptions::default() }
+    }
+
+    #[test]
+    #[ignore = "exploration: prints timings and savings"]
+    fn explore_exact_and_heuristic() {
+        let sizes: Vec<usize> = std::env::var("NET_SIZES").map(|v| v.split(',').map(|x| x.parse().unwrap()).collect()).unwrap_or(vec![10, 15, 20]);
+        for &n in &sizes {
+            for seed in 0..3u64 {
+                let pts = uniform(n, seed);
+                let start = Instant::now();
+                let b = steiner::fst::Bottleneck::new(&pts);
+                let trees = steiner::fst::full_steiner_trees(&pts, &b, None).unwrap();
+                let t_fst = start.elapsed();
+                let c = steiner::concatenate::concatenate(n, &trees, None).unwrap();
+                eprintln!("  fsts {} in {:?}, concatenation {:?} chose {}", trees.len(), t_fst, start.elapsed() - t_fst, c.0.len());
+                let start = Instant::now();
+                let t = steiner_tree(&pts, &exact()).unwrap();
+                let te = start.elapsed();
+                let h = steiner_tree(&pts, &SteinerOptions { method: SteinerMethod::Heuristic, ..exact() }).unwrap();
+                eprintln!(
+                    "n={n} seed={seed} exact {:.4}% in {:?} optimal={} | heuristic {:.4}%",
+                    100.0 * t.saving(),
+                    te,
+                    t.optimal,
+                    100.0 * h.saving()
+                );
+                check_steiner_tree(&t, 1e-6).unwrap();
+                check_steiner_tree(&h, 1e-6).unwrap();
+            }
+        }
+        let big: Vec<usize> = std::env::var("NET_BIG").map(|v| v.split(',').map(|x| x.parse().unwrap()).collect()).unwrap_or(vec![1000]);
+        for &n in &big {
+            let pts = uniform(n, 7);
+            let start = Instant::now();
+            let h = steiner_tree(&pts, &SteinerOptions { method: SteinerMethod::Heuristic, ..exact() }).unwrap();
+            eprintln!("n={n} heuristic {:.4}% in {:?}", 100.0 * h.saving(), start.elapsed());
+            check_steiner_tree(&h, 1e-6).unwrap();
+        }
+    }
+}

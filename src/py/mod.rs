@@ -12,6 +12,7 @@ mod enclose;
 mod errors;
 mod median;
 mod multi;
+mod network;
 mod partition;
 mod runtime;
 
@@ -25,6 +26,7 @@ fn core_module(m: &Bound<'_, PyModule>) -> PyResult<()> {
     errors::register(m)?;
     runtime::register(m)?;
     median::register(m)?;
+    network::register(m)?;
     partition::register(m)?;
     enclose::register(m)?;
     multi::register(m)?;

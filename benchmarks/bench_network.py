@@ -1,0 +1,75 @@
+"""Networks: the EMST against scipy's Delaunay + csgraph pipeline, and the Steiner tree's
+saving over the MST on uniform random terminals (heuristic and exact)."""
+
+from __future__ import annotations
+
+import time
+
+import numpy as np
+import scipy.sparse
+import scipy.sparse.csgraph
+import scipy.spatial
+
+import placewise as pw
+from harness import Case
+
+
+def _uniform(n: int, seed: int) -> np.ndarray:
+    return np.random.default_rng(seed).uniform(size=(n, 2))
+
+
+def _scipy_emst(pts: np.ndarray) -> float:
+    """The scipy way: Delaunay (Qhull), its unique edges as a sparse graph, csgraph MST."""
+    simplices = scipy.spatial.Delaunay(pts).simplices
+    edges = np.sort(np.vstack([simplices[:, [0, 1]], simplices[:, [1, 2]], simplices[:, [0, 2]]]), axis=1)
+    edges = np.unique(edges, axis=0)
+    weights = np.hypot(*(pts[edges[:, 0]] - pts[edges[:, 1]]).T)
+    graph = scipy.sparse.coo_matrix((weights, (edges[:, 0], edges[:, 1])), shape=(len(pts), len(pts))).tocsr()
+    return float(scipy.sparse.csgraph.minimum_spanning_tree(graph).sum())
+
+
+def _length_check(ours: object, reference: float) -> str:
+    return f"length ours/scipy - 1 = {ours.length / reference - 1:+.1e}"  # type: ignore[attr-defined]
+
+
+def _savings(n: int, sets: int, exact: bool | None) -> dict[str, float]:
+    savings, optimal, seconds = [], 0, 0.0
+    for seed in range(sets):
+        pts = _uniform(n, 1000 + seed)
+        start = time.perf_counter()
+        t = pw.steiner_tree(pts, exact=exact)
+        seconds += time.perf_counter() - start
+        savings.append(t.saving)
+        optimal += t.optimal
+    return {"mean": float(np.mean(savings)), "min": float(np.min(savings)), "optimal": optimal,
+            "sets": sets, "seconds": seconds / sets}
+
+
+def _saving_note(target: float | None):
+    def note(ours: dict[str, float], _: object) -> str:
+        text = (f"mean saving {100 * ours['mean']:.3f} % (min {100 * ours['min']:.3f} %) over "
+                f"{ours['sets']} sets, {ours['seconds']:.3g} s per set, {ours['optimal']} proven optimal")
+        if target is not None:
+            text += f"; target >= {100 * target:.1f} %: {'met' if ours['mean'] >= target else 'NOT MET'}"
+        return text
+    return note
+
+
+def cases(quick: bool) -> list[Case]:
+    n = 100_000 if quick else 1_000_000
+    pts = _uniform(n, 1)
+    steiner_sizes = [(100, 10), (1_000, 10)] if quick else [(100, 20), (1_000, 20), (10_000, 3), (100_000, 1)]
+    exact_sizes = [(10, 5), (20, 3)] if quick else [(10, 10), (20, 10), (30, 3)]
+    out = [
+        Case("spanning_tree", f"{n:,} uniform points", lambda: pw.spanning_tree(pts), lambda: _scipy_emst(pts),
+             "scipy Delaunay + csgraph minimum_spanning_tree", target=10.0, compare=_length_check),
+    ]
+    for size, sets in steiner_sizes:
+        out.append(Case("steiner_tree heuristic saving", f"{size:,} uniform terminals",
+                        lambda size=size, sets=sets: _savings(size, sets, False), None, "no reference (saving over MST)",
+                        compare=_saving_note(0.029 if size == 1_000 else None), repeat=1))
+    for size, sets in exact_sizes:
+        out.append(Case("steiner_tree exact", f"{size} uniform terminals",
+                        lambda size=size, sets=sets: _savings(size, sets, True), None, "no reference (proven optimum)",
+                        compare=_saving_note(None), repeat=1))
+    return out

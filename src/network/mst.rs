@@ -1,0 +1,173 @@
+//! The Euclidean minimum spanning tree: Kruskal's algorithm (Kruskal 1956) on the edges of
+//! the Delaunay triangulation, which contains every Euclidean MST (Shamos and Hoey 1975).
+//!
+//! Collinear input has no triangulation; its MST is the chain of the points in order along
+//! their line. Repeated locations are joined to their representative by zero-length edges.
+
+use rayon::prelude::*;
+
+use super::union_find::UnionFind;
+use crate::error::Result;
+use crate::geometry::predicates::all_collinear;
+use crate::geometry::{distance, distance_squared, Point};
+use crate::partition::delaunay;
+
+/// Above this many candidate edges the sort runs on all cores.
+const PARALLEL_SORT: usize = 1 << 15;
+
+/// The edges of a Euclidean MST of `points` (validated, at least one point), in order of
+/// non-decreasing length, each as `[smaller index, larger index]`.
+///
+/// # Errors
+/// Only what the triangulation reports for finite input that is neither collinear nor
+/// short of three distinct points, which does not happen.
+///
+/// # Runtime
+/// O(n log n): the triangulation and the sort of its at most 3n − 3 edges.
+pub(crate) fn mst_edges(points: &[Point]) -> Result<Vec<[usize; 2]>> {
+    let n = points.len();
+    if n < 2 {
+        return Ok(Vec::new());
+    }
+    if n < 3 || all_collinear(points) {
+        return Ok(collinear_chain(points));
+    }
+    let triangulation = match delaunay(points) {
+        Ok(t) => t,
+        // Fewer than three distinct points, all on a line, were caught above unless the
+        // distinct ones are exactly two: then the chain is the answer too.
+        Err(e) if e.is_degenerate() => return Ok(collinear_chain(points)),
+        Err(e) => return Err(e),
+    };
+    let mut candidates: Vec<[usize; 2]> = triangulation.edges;
+    for (i, &r) in triangulation.representative.iter().enumerate() {
+        if r != i {
+            candidates.push([r.min(i), r.max(i)]);
+        }
+    }
+    Ok(kruskal(points, candidates))
+}
+
+/// Kruskal on the given candidate edges: the lightest spanning forest of the graph they
+/// form, in order of non-decreasing length (ties broken by the candidates' order).
+pub(crate) fn kruskal(points: &[Point], candidates: Vec<[usize; 2]>) -> Vec<[usize; 2]> {
+    let n = points.len();
+    // Squared lengths are non-negative, so their bit patterns sort as the numbers do; the
+    // candidate's position breaks ties, which makes the order total and the result
+    // independent of the sort's (parallel) schedule.
+    let key = |k: usize, e: &[usize; 2]| -> u128 {
+        ((distance_squared(points[e[0]], points[e[1]]).to_bits() as u128) << 64) | k as u128
+    };
+    let mut keyed: Vec<u128> = if candidates.len() > PARALLEL_SORT {
+        candidates.par_iter().enumerate().map(|(k, e)| key(k, e)).collect()
+    } else {
+        candidates.iter().enumerate().map(|(k, e)| key(k, e)).collect()
+    };
+    if keyed.len() > PARALLEL_SORT {
+        keyed.par_sort_unstable();
+    } else {
+        keyed.sort_unstable();
+    }
+    let mut sets = UnionFind::new(n);
+    let mut tree = Vec::with_capacity(n.saturating_sub(1));
+    for k in keyed {
+        let e = candidates[(k & u64::MAX as u128) as usize];
+        if sets.union(e[0], e[1]) {
+            tree.push(e);
+            if tree.len() + 1 == n {
+                break;
+            }
+        }
+    }
+    tree
+}
+
+/// The MST of collinear points: consecutive points in lexicographic order (which is the
+/// order along their common line), each edge as `[smaller index, larger index]`, sorted by
+/// length.
+fn collinear_chain(points: &[Point]) -> Vec<[usize; 2]> {
+    let mut order: Vec<usize> = (0..points.len()).collect();
+    order.sort_by(|&a, &b| points[a].partial_cmp(&points[b]).expect("coordinates are finite").then(a.cmp(&b)));
+    let mut edges: Vec<[usize; 2]> = order.windows(2).map(|w| [w[0].min(w[1]), w[0].max(w[1])]).collect();
+    edges.sort_by(|a, b| {
+        distance(points[a[0]], points[a[1]]).total_cmp(&distance(points[b[0]], points[b[1]])).then(a.cmp(b))
+    });
+    edges
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::network::union_find::UnionFind;
+
+    fn total(points: &[Point], edges: &[[usize; 2]]) -> f64 {
+        edges.iter().map(|e| distance(points[e[0]], points[e[1]])).sum()
+    }
+
+    fn is_spanning_tree(n: usize, edges: &[[usize; 2]]) -> bool {
+        let mut uf = UnionFind::new(n);
+        edges.len() + 1 == n && edges.iter().all(|e| uf.union(e[0], e[1]))
+    }
+
+    /// Prim's algorithm on the complete graph (Prim 1957): the O(n²) textbook reference.
+    fn prim_length(points: &[Point]) -> f64 {
+        let n = points.len();
+        let mut best = vec![f64::INFINITY; n];
+        let mut done = vec![false; n];
+        best[0] = 0.0;
+        let mut length = 0.0;
+        for _ in 0..n {
+            let u = (0..n).filter(|&i| !done[i]).min_by(|&a, &b| best[a].total_cmp(&best[b])).unwrap();
+            done[u] = true;
+            length += best[u];
+            for v in 0..n {
+                if !done[v] {
+                    best[v] = best[v].min(distance(points[u], points[v]));
+                }
+            }
+        }
+        length
+    }
+
+    #[test]
+    fn grid_mst_has_length_k_squared_minus_one() {
+        // Closed form: a k × k unit grid's MST is k² − 1 unit edges (every spanning tree of
+        // the grid graph is one, and no two grid points are closer than 1).
+        for k in [2usize, 3, 7] {
+            let pts: Vec<Point> = (0..k * k).map(|i| [(i % k) as f64, (i / k) as f64]).collect();
+            let edges = mst_edges(&pts).unwrap();
+            assert!(is_spanning_tree(pts.len(), &edges));
+            assert!((total(&pts, &edges) - (k * k - 1) as f64).abs() < 1e-12);
+        }
+    }
+
+    #[test]
+    fn collinear_duplicate_and_single_point_inputs() {
+        let line: Vec<Point> = [3.0, 0.0, 7.0, 1.0, 3.0].iter().map(|&x| [x, 2.0 * x]).collect();
+        let edges = mst_edges(&line).unwrap();
+        assert!(is_spanning_tree(5, &edges));
+        // Closed form: a chain from x = 0 to x = 7 on y = 2x is 7·√5 long.
+        assert!((total(&line, &edges) - 7.0 * 5f64.sqrt()).abs() < 1e-12);
+        assert!(mst_edges(&[[1.0, 1.0]]).unwrap().is_empty());
+        let dup = [[0.0, 0.0], [1.0, 0.0], [0.0, 1.0], [1.0, 0.0]];
+        let edges = mst_edges(&dup).unwrap();
+        assert!(is_spanning_tree(4, &edges));
+        assert!(edges.contains(&[1, 3]));
+        assert!((total(&dup, &edges) - 2.0).abs() < 1e-12);
+        let same = [[2.0, 2.0]; 4];
+        assert_eq!(total(&same, &mst_edges(&same).unwrap()), 0.0);
+    }
+
+    proptest::proptest! {
+        #[test]
+        fn mst_length_matches_prim_on_the_complete_graph(
+            raw in proptest::collection::vec((-100i32..100, -100i32..100), 1..60)
+        ) {
+            // Integer coordinates make duplicates and collinear triples common.
+            let pts: Vec<Point> = raw.iter().map(|&(x, y)| [x as f64 * 0.5, y as f64 * 0.25]).collect();
+            let edges = mst_edges(&pts).unwrap();
+            proptest::prop_assert!(is_spanning_tree(pts.len(), &edges));
+            proptest::prop_assert!((total(&pts, &edges) - prim_length(&pts)).abs() < 1e-9);
+        }
+    }
+}

@@ -1,0 +1,642 @@
+//! Full Steiner trees (FSTs): Steiner trees in which every terminal is a leaf and every
+//! Steiner point has degree three at 120°. A Steiner minimum tree is a union of FSTs
+//! joined at terminals, so the exact solver generates every FST that can belong to one
+//! and leaves the choice to [`super::concatenate`].
+//!
+//! Generation follows Winter's equilateral-point method (Winter 1985, after Melzak 1961):
+//! two terminals, or two earlier equilateral points, `p` and `q` are replaced by the third
+//! vertex `e` of the equilateral triangle on them; the Steiner point joining them lies on
+//! the circle through `p`, `q` and `e`, on the 120° arc opposite `e`, and a whole FST is
+//! the segment from a root terminal to an equilateral point (Simpson's line), its length
+//! the FST's. The feasible part of every arc is narrowed by the arcs of the children (the
+//! Steiner point must see a child's feasible arc through the child's equilateral point)
+//! and every candidate is put to the pruning tests of Winter and Zachariasen (1997,
+//! "Euclidean Steiner minimum trees: an improved exact algorithm", Networks 30):
+//!
+//! - the bottleneck Steiner distance test: an edge on the tree path between terminals
+//!   `u` and `v` is no longer than the longest edge on the MST path between them;
+//! - the upper bound test: an FST is shorter than the MST of its terminals under the
+//!   bottleneck Steiner distances;
+//! - the lune test: the lune of an edge (the points closer to both ends than they are to
+//!   each other) holds no terminal.
+
+use std::collections::HashMap;
+use std::f64::consts::PI;
+use std::time::Instant;
+
+use super::cross;
+use crate::geometry::{add, distance, dot, scale, sub, Point};
+
+/// Tolerance of the tests, in normalised coordinates (bounding-box diagonal about 1).
+const TOL: f64 = 1e-10;
+/// Angular tolerance for "on the feasible arc".
+const ARC_TOL: f64 = 1e-10;
+const ARC: f64 = 2.0 * PI / 3.0;
+
+/// End of an edge of a full Steiner tree.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(crate) enum End {
+    /// Terminal by index.
+    Terminal(usize),
+    /// Steiner point by its index in [`FullTree::steiner`].
+    Steiner(usize),
+}
+
+/// One full Steiner tree.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct FullTree {
+    /// Its terminals, ascending.
+    pub terminals: Vec<usize>,
+    /// Its Steiner points (`terminals.len() − 2` of them).
+    pub steiner: Vec<Point>,
+    /// Its edges.
+    pub edges: Vec<[End; 2]>,
+    /// Total length.
+    pub length: f64,
+}
+
+/// Bottleneck Steiner distances: `bsd(u, v)` is the longest edge on the path between `u`
+/// and `v` in a minimum spanning tree of the terminals.
+#[derive(Debug, Clone)]
+pub(crate) struct Bottleneck {
+    n: usize,
+    table: Vec<f64>,
+    /// MST edges of the terminals.
+    pub mst: Vec<[usize; 2]>,
+}
+
+impl Bottleneck {
+    /// From the terminals, by Prim's algorithm on the complete graph and one traversal per
+    /// terminal. O(n²) time and space.
+    pub fn new(points: &[Point]) -> Bottleneck {
+        let n = points.len();
+        let mut best = vec![f64::INFINITY; n];
+        let mut from = vec![usize::MAX; n];
+        let mut done = vec![false; n];
+        let mut adjacency = vec![Vec::new(); n];
+        let mut mst = Vec::with_capacity(n.saturating_sub(1));
+        if n > 0 {
+            best[0] = 0.0;
+        }
+        for _ in 0..n {
+            let u = (0..n).filter(|&i| !done[i]).min_by(|&a, &b| best[a].total_cmp(&best[b])).expect("a vertex is left");
+            done[u] = true;
+            if from[u] != usize::MAX {
+                let w = from[u];
+                mst.push([w.min(u), w.max(u)]);
+                adjacency[u].push(w);
+                adjacency[w].push(u);
+            }
+            for v in 0..n {
+                let d = distance(points[u], points[v]);
+                if !done[v] && d < best[v] {
+                    best[v] = d;
+                    from[v] = u;
+                }
+            }
+        }
+        let mut table = vec![0.0; n * n];
+        let mut stack = Vec::new();
+        for root in 0..n {
+            stack.clear();
+            stack.push((root, usize::MAX, 0.0f64));
+            while let Some((u, parent, worst)) = stack.pop() {
+                table[root * n + u] = worst;
+                for &v in &adjacency[u] {
+                    if v != parent {
+                        stack.push((v, u, worst.max(distance(points[u], points[v]))));
+                    }
+                }
+            }
+        }
+        Bottleneck { n, table, mst }
+    }
+
+    /// The bottleneck Steiner distance between terminals `u` and `v`.
+    #[inline]
+    pub fn get(&self, u: usize, v: usize) -> f64 {
+        self.table[u * self.n + v]
+    }
+
+    /// Length of the MST of `terminals` under the bottleneck distances (Prim, O(k²)).
+    fn mst_length(&self, terminals: &[usize]) -> f64 {
+        let k = terminals.len();
+        let mut best = vec![f64::INFINITY; k];
+        let mut done = vec![false; k];
+        best[0] = 0.0;
+        let mut total = 0.0;
+        for _ in 0..k {
+            let u = (0..k).filter(|&i| !done[i]).min_by(|&a, &b| best[a].total_cmp(&best[b])).expect("a vertex is left");
+            done[u] = true;
+            total += best[u];
+            for v in 0..k {
+                if !done[v] {
+                    best[v] = best[v].min(self.get(terminals[u], terminals[v]));
+                }
+            }
+        }
+        total
+    }
+}
+
+/// A terminal or an equilateral point of the generation.
+#[derive(Debug, Clone)]
+struct Item {
+    /// Terminals below it.
+    mask: u64,
+    /// Its location.
+    pos: Point,
+    kind: Kind,
+}
+
+#[derive(Debug, Clone)]
+enum Kind {
+    Terminal(usize),
+    /// Equilateral point on `kids[0] = p`, `kids[1] = q`, right of `p → q`. The Steiner
+    /// point joining `p` and `q` is `centre + radius·(cos(θ_q + u), sin(θ_q + u))` for `u`
+    /// in the feasible interval `[lo, hi] ⊆ [0, 2π/3]` (`u = 0` at `q`, `2π/3` at `p`).
+    Equilateral { kids: [u32; 2], centre: Point, radius: f64, theta_q: f64, lo: f64, hi: f64 },
+}
+
+impl Kind {
+    fn arc_point(centre: Point, radius: f64, theta_q: f64, u: f64) -> Point {
+        let a = theta_q + u;
+        add(centre, [radius * a.cos(), radius * a.sin()])
+    }
+}
+
+/// Signed counter-clockwise angle from `a` to `b` in `(−π, π]`.
+#[inline]
+fn signed_angle(a: Point, b: Point) -> f64 {
+    cross(a, b).atan2(dot(a, b))
+}
+
+/// Parameter `u` of a point `s` on an equilateral point's circle, in `(−π, π]`.
+#[inline]
+fn arc_parameter(s: Point, centre: Point, theta_q: f64) -> f64 {
+    let d = sub(s, centre);
+    let mut u = d[1].atan2(d[0]) - theta_q;
+    while u > PI {
+        u -= 2.0 * PI;
+    }
+    while u <= -PI {
+        u += 2.0 * PI;
+    }
+    u
+}
+
+/// Every full Steiner tree on at least three of `points` (distinct, normalised) that passes
+/// the pruning tests, plus the MST edges as two-terminal FSTs; `None` when `deadline` passes
+/// first.
+///
+/// # Runtime
+/// Exponential in the worst case; the pruning keeps it to a few thousand equilateral points
+/// for 20 uniformly spread terminals.
+pub(crate) fn full_steiner_trees(points: &[Point], bottleneck: &Bottleneck, deadline: Option<Instant>) -> Option<Vec<FullTree>> {
+    let n = points.len();
+    assert!(n <= 64, "exact Steiner trees are limited to 64 terminals");
+    let mut trees: Vec<FullTree> = bottleneck
+        .mst
+        .iter()
+        .map(|&[u, v]| FullTree {
+            terminals: vec![u, v],
+            steiner: Vec::new(),
+            edges: vec![[End::Terminal(u), End::Terminal(v)]],
+            length: distance(points[u], points[v]),
+        })
+        .collect();
+    if n < 3 {
+        return Some(trees);
+    }
+    let mut items: Vec<Item> = Vec::new();
+    let mut by_size: Vec<Vec<u32>> = vec![Vec::new(); n];
+    // The root of every FST is its smallest terminal, so no equilateral point ever needs
+    // terminal 0 below it.
+    for (t, &p) in points.iter().enumerate().skip(1) {
+        by_size[1].push(items.len() as u32);
+        items.push(Item { mask: 1u64 << t, pos: p, kind: Kind::Terminal(t) });
+    }
+    let mut steps = 0usize;
+    let mut mst_of: HashMap<u64, f64> = HashMap::new();
+    // Both edges from a Steiner point to its children are at most the longest MST edge
+    // (the largest bottleneck distance), and the child's own Steiner point is within its
+    // farthest arc distance of its location: two items farther apart than twice that edge
+    // plus their two reaches never pair up. Items are kept sorted by x to sweep for partners.
+    let longest = bottleneck.mst.iter().map(|&[u, v]| distance(points[u], points[v])).fold(0.0, f64::max);
+    let sort_by_x = |list: &mut Vec<u32>, items: &[Item]| {
+        list.sort_by(|&a, &b| items[a as usize].pos[0].total_cmp(&items[b as usize].pos[0]))
+    };
+    sort_by_x(&mut by_size[1], &items);
+    // nearest_bsd[item * n + v]: the smallest bottleneck distance from a terminal below the
+    // item to terminal v.
+    let mut nearest_bsd: Vec<f64> = Vec::with_capacity(items.len() * n);
+    for item in &items {
+        push_nearest(&mut nearest_bsd, item.mask, bottleneck, n);
+    }
+    for k in 2..n {
+        let mut fresh = Vec::new();
+        for i in 1..=k / 2 {
+            let j = k - i;
+            let xs: Vec<f64> = by_size[j].iter().map(|&b| items[b as usize].pos[0]).collect();
+            let widest = by_size[j].iter().map(|&b| reach(&items[b as usize]).1).fold(0.0, f64::max);
+            for (a_pos, &a) in by_size[i].iter().enumerate() {
+                let (pa, far_a) = (items[a as usize].pos, reach(&items[a as usize]).1);
+                let window = 2.0 * longest + far_a + widest + TOL;
+                let first = xs.partition_point(|&x| x < pa[0] - window);
+                let last = xs.partition_point(|&x| x <= pa[0] + window);
+                let first = if i == j { first.max(a_pos + 1) } else { first };
+                for &b in by_size[j].get(first..last).unwrap_or(&[]) {
+                    let ib = &items[b as usize];
+                    if items[a as usize].mask & ib.mask != 0 {
+                        continue;
+                    }
+                    // The same with the smallest bottleneck distance between the two sides.
+                    let mut closest = f64::INFINITY;
+                    let mut rest = ib.mask;
+                    while rest != 0 {
+                        let v = rest.trailing_zeros() as usize;
+                        rest &= rest - 1;
+                        closest = closest.min(nearest_bsd[a as usize * n + v]);
+                    }
+                    if distance(pa, ib.pos) > 2.0 * closest + far_a + reach(ib).1 + TOL {
+                        continue;
+                    }
+                    steps += 1;
+                    if steps % 4096 == 0 && deadline.is_some_and(|d| Instant::now() > d) {
+                        return None;
+                    }
+                    for (p, q) in [(a, b), (b, a)] {
+                        if let Some(item) = equilateral(&items, p, q, bottleneck, points, &mut mst_of) {
+                            fresh.push(item);
+                        }
+                    }
+                }
+            }
+        }
+        for item in fresh {
+            by_size[k].push(items.len() as u32);
+            push_nearest(&mut nearest_bsd, item.mask, bottleneck, n);
+            items.push(item);
+        }
+        let mut list = std::mem::take(&mut by_size[k]);
+        sort_by_x(&mut list, &items);
+        by_size[k] = list;
+    }
+    if std::env::var_os("PLACEWISE_FST_STATS").is_some() {
+        eprintln!("equilateral points: {}, pairs tried: {steps}", items.len());
+    }
+    // Close every equilateral point with each admissible root.
+    for (index, item) in items.iter().enumerate() {
+        if matches!(item.kind, Kind::Terminal(_)) {
+            continue;
+        }
+        let lowest = item.mask.trailing_zeros() as usize;
+        for root in 0..lowest {
+            if let Some(tree) = close(&items, index, root, points) {
+                if passes_tests(&tree, points, bottleneck) {
+                    trees.push(tree);
+                }
+            }
+        }
+        if index % 1024 == 0 && deadline.is_some_and(|d| Instant::now() > d) {
+            return None;
+        }
+    }
+    Some(trees)
+}
+
+/// The equilateral point of `p → q` with its feasible arc, or `None` when no Steiner point
+/// can join them (empty arc, or a terminal edge longer than its bottleneck distance).
+fn equilateral(
+    items: &[Item],
+    p: u32,
+    q: u32,
+    bottleneck: &Bottleneck,
+    points: &[Point],
+    mst_of: &mut HashMap<u64, f64>,
+) -> Option<Item> {
+    let (ip, iq) = (&items[p as usize], &items[q as usize]);
+    let (pp, qq) = (ip.pos, iq.pos);
+    let e = super::equilateral_point(pp, qq);
+    let centre = scale(add(add(pp, qq), e), 1.0 / 3.0);
+    let radius = distance(pp, qq) / 3f64.sqrt();
+    if radius <= TOL {
+        return None;
+    }
+    let dq = sub(qq, centre);
+    let theta_q = dq[1].atan2(dq[0]);
+    let (mut lo, mut hi) = (0.0f64, ARC);
+    // From p the direction to the Steiner point turns counter-clockwise from p → q by u/2.
+    if let Kind::Equilateral { centre: c, radius: r, theta_q: t, lo: l, hi: h, .. } = ip.kind {
+        let base = sub(qq, pp);
+        let f0 = signed_angle(base, sub(Kind::arc_point(c, r, t, l), pp));
+        let f1 = signed_angle(base, sub(Kind::arc_point(c, r, t, h), pp));
+        lo = lo.max(2.0 * f0.min(f1));
+        hi = hi.min(2.0 * f0.max(f1));
+    }
+    // From q the direction turns clockwise from q → p by (2π/3 − u)/2.
+    if let Kind::Equilateral { centre: c, radius: r, theta_q: t, lo: l, hi: h, .. } = iq.kind {
+        let base = sub(pp, qq);
+        let g0 = -signed_angle(base, sub(Kind::arc_point(c, r, t, l), qq));
+        let g1 = -signed_angle(base, sub(Kind::arc_point(c, r, t, h), qq));
+        lo = lo.max(ARC - 2.0 * g0.max(g1));
+        hi = hi.min(ARC - 2.0 * g0.min(g1));
+    }
+    // The Steiner point lies beyond a child's circle as seen from the child's equilateral
+    // point (the child's own Steiner point is between them): at least the child's nearest
+    // arc distance away.
+    let (near_p, far_p) = reach(ip);
+    let (near_q, far_q) = reach(iq);
+    let chord_limit = |near: f64| -> Option<f64> {
+        let x = near / (2.0 * radius);
+        (x < 1.0).then(|| 2.0 * x.asin())
+    };
+    hi = hi.min(ARC - chord_limit(near_p)?);
+    lo = lo.max(chord_limit(near_q)?);
+    if hi - lo <= ARC_TOL {
+        return None;
+    }
+    let mask = ip.mask | iq.mask;
+    // Bottleneck test on the edges from the Steiner point towards each child: at least the
+    // chord to the child's location less the child's farthest arc distance; the edge lies
+    // on the path between every terminal below the child and every terminal of the other
+    // side.
+    for (child, other, shortest) in [
+        (ip, iq, 2.0 * radius * ((ARC - hi) / 2.0).sin() - far_p),
+        (iq, ip, 2.0 * radius * (lo / 2.0).sin() - far_q),
+    ] {
+        if shortest <= TOL {
+            continue;
+        }
+        let mut limit = f64::INFINITY;
+        let mut below = child.mask;
+        while below != 0 {
+            let u = below.trailing_zeros() as usize;
+            below &= below - 1;
+            let mut rest = other.mask;
+            while rest != 0 {
+                let v = rest.trailing_zeros() as usize;
+                rest &= rest - 1;
+                limit = limit.min(bottleneck.get(u, v));
+            }
+        }
+        if shortest > limit + TOL {
+            return None;
+        }
+    }
+    // A terminal child's edge is at least the chord to the nearest end of the feasible arc,
+    // and lies on the path to every other terminal below.
+    for (child, shortest) in [(ip, 2.0 * radius * ((ARC - hi) / 2.0).sin()), (iq, 2.0 * radius * (lo / 2.0).sin())] {
+        if let Kind::Terminal(t) = child.kind {
+            let mut rest = mask & !(1u64 << t);
+            let mut limit = f64::INFINITY;
+            while rest != 0 {
+                let v = rest.trailing_zeros() as usize;
+                rest &= rest - 1;
+                limit = limit.min(bottleneck.get(t, v));
+            }
+            if shortest > limit + TOL {
+                return None;
+            }
+        }
+    }
+    // Upper bound test for the subtree below the Steiner point s, of length |s − e| by
+    // Simpson's construction: were it longer than the MST of its terminals plus a link from
+    // s to the nearest of them, that exchange would shorten any tree holding it. The test
+    // must fail at every s of the feasible arc; it is evaluated at SAMPLES points, and as
+    // |s − e| − min_z |s − z| changes by at most twice the arc length between two points,
+    // the half-spacing slack makes the sampled test exact.
+    if mask.count_ones() >= 3 {
+        const SAMPLES: usize = 12;
+        let tree = *mst_of.entry(mask).or_insert_with(|| euclidean_mst_length(points, mask));
+        let step = (hi - lo) / (SAMPLES - 1) as f64;
+        let slack = radius * step;
+        let mut all_too_long = true;
+        for k in 0..SAMPLES {
+            let sample = Kind::arc_point(centre, radius, theta_q, lo + step * k as f64);
+            let mut link = f64::INFINITY;
+            let mut rest = mask;
+            while rest != 0 {
+                let v = rest.trailing_zeros() as usize;
+                rest &= rest - 1;
+                link = link.min(distance(points[v], sample));
+            }
+            if distance(sample, e) <= tree + link + slack + TOL {
+                all_too_long = false;
+                break;
+            }
+        }
+        if all_too_long {
+            return None;
+        }
+    }
+    Some(Item { mask, pos: e, kind: Kind::Equilateral { kids: [p, q], centre, radius, theta_q, lo, hi } })
+}
+
+/// Append the smallest bottleneck distance from the terminals of `mask` to each terminal.
+fn push_nearest(table: &mut Vec<f64>, mask: u64, bottleneck: &Bottleneck, n: usize) {
+    for v in 0..n {
+        let mut best = f64::INFINITY;
+        let mut rest = mask;
+        while rest != 0 {
+            let u = rest.trailing_zeros() as usize;
+            rest &= rest - 1;
+            best = best.min(bottleneck.get(u, v));
+        }
+        table.push(best);
+    }
+}
+
+/// Nearest and farthest distance from an item's location to its feasible arc (both 0 for
+/// a terminal).
+fn reach(item: &Item) -> (f64, f64) {
+    let Kind::Equilateral { radius, lo, hi, .. } = item.kind else { return (0.0, 0.0) };
+    // The location is at u = 4π/3; the distance to u is 2r·sin(|4π/3 − u| / 2), largest at
+    // the antipode u = π/3.
+    let at = |u: f64| 2.0 * radius * ((4.0 * PI / 3.0 - u) / 2.0).sin();
+    let near = at(lo).min(at(hi));
+    let far = if lo <= PI / 3.0 && PI / 3.0 <= hi { 2.0 * radius } else { at(lo).max(at(hi)) };
+    (near, far)
+}
+
+/// Length of the Euclidean MST of the terminals in `mask` (Prim, O(k²)).
+fn euclidean_mst_length(points: &[Point], mask: u64) -> f64 {
+    let members: Vec<usize> = (0..points.len()).filter(|&v| mask >> v & 1 == 1).collect();
+    let k = members.len();
+    let mut best = vec![f64::INFINITY; k];
+    let mut done = vec![false; k];
+    best[0] = 0.0;
+    let mut total = 0.0;
+    for _ in 0..k {
+        let u = (0..k).filter(|&i| !done[i]).min_by(|&a, &b| best[a].total_cmp(&best[b])).expect("a vertex is left");
+        done[u] = true;
+        total += best[u];
+        for v in 0..k {
+            if !done[v] {
+                best[v] = best[v].min(distance(points[members[u]], points[members[v]]));
+            }
+        }
+    }
+    total
+}
+
+/// The FST rooted at terminal `root` through equilateral point `top`, when every Steiner
+/// point falls on its feasible arc.
+fn close(items: &[Item], top: usize, root: usize, points: &[Point]) -> Option<FullTree> {
+    let mut tree = FullTree { terminals: vec![root], steiner: Vec::new(), edges: Vec::new(), length: 0.0 };
+    let first = hit(&items[top], points[root])?;
+    tree.steiner.push(first);
+    tree.edges.push([End::Terminal(root), End::Steiner(0)]);
+    let mut stack = vec![(top, 0usize)];
+    while let Some((index, s)) = stack.pop() {
+        let Kind::Equilateral { kids, .. } = items[index].kind else { unreachable!("only equilateral points are expanded") };
+        for kid in kids {
+            let child = &items[kid as usize];
+            match child.kind {
+                Kind::Terminal(t) => {
+                    tree.terminals.push(t);
+                    tree.edges.push([End::Steiner(s), End::Terminal(t)]);
+                }
+                Kind::Equilateral { .. } => {
+                    let next = hit(child, tree.steiner[s])?;
+                    tree.steiner.push(next);
+                    let k = tree.steiner.len() - 1;
+                    tree.edges.push([End::Steiner(s), End::Steiner(k)]);
+                    stack.push((kid as usize, k));
+                }
+            }
+        }
+    }
+    tree.terminals.sort_unstable();
+    let at = |end: End| match end {
+        End::Terminal(t) => points[t],
+        End::Steiner(k) => tree.steiner[k],
+    };
+    let mut length = 0.0;
+    for &[a, b] in &tree.edges {
+        let l = distance(at(a), at(b));
+        if l <= TOL {
+            return None;
+        }
+        length += l;
+    }
+    tree.length = length;
+    Some(tree)
+}
+
+/// The Steiner point where the line from `from` to the equilateral point `item` meets
+/// `item`'s circle, when it lies on the feasible arc.
+fn hit(item: &Item, from: Point) -> Option<Point> {
+    let Kind::Equilateral { centre, theta_q, lo, hi, .. } = item.kind else { return None };
+    let s = super::simpson_hit(item.pos, from, centre)?;
+    let u = arc_parameter(s, centre, theta_q);
+    (u >= lo - ARC_TOL && u <= hi + ARC_TOL).then_some(s)
+}
+
+/// Winter and Zachariasen's bottleneck, upper bound and lune tests.
+fn passes_tests(tree: &FullTree, points: &[Point], bottleneck: &Bottleneck) -> bool {
+    if tree.length >= bottleneck.mst_length(&tree.terminals) - TOL {
+        return false;
+    }
+    let at = |end: End| match end {
+        End::Terminal(t) => points[t],
+        End::Steiner(k) => tree.steiner[k],
+    };
+    let node = |end: End| match end {
+        End::Terminal(t) => t,
+        End::Steiner(k) => points.len() + k,
+    };
+    // Lune test.
+    for &[a, b] in &tree.edges {
+        let (pa, pb) = (at(a), at(b));
+        let l = distance(pa, pb) - TOL;
+        let is_end = |z: usize| matches!(a, End::Terminal(t) if t == z) || matches!(b, End::Terminal(t) if t == z);
+        for (z, &pz) in points.iter().enumerate() {
+            if !is_end(z) && distance(pz, pa) < l && distance(pz, pb) < l {
+                return false;
+            }
+        }
+    }
+    // Bottleneck test: the terminals on either side of each edge.
+    let total = points.len() + tree.steiner.len();
+    let mut adjacency: Vec<Vec<usize>> = vec![Vec::new(); total];
+    for &[a, b] in &tree.edges {
+        adjacency[node(a)].push(node(b));
+        adjacency[node(b)].push(node(a));
+    }
+    let mut side = Vec::new();
+    for &[a, b] in &tree.edges {
+        let l = distance(at(a), at(b));
+        side.clear();
+        let mut stack = vec![(node(a), node(b))];
+        while let Some((u, parent)) = stack.pop() {
+            if u < points.len() {
+                side.push(u);
+            }
+            for &v in &adjacency[u] {
+                if v != parent {
+                    stack.push((v, u));
+                }
+            }
+        }
+        for &u in &side {
+            for &v in &tree.terminals {
+                if !side.contains(&v) && l > bottleneck.get(u, v) + TOL {
+                    return false;
+                }
+            }
+        }
+    }
+    true
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::network::steiner::HALF_SQRT3;
+
+    #[test]
+    fn equilateral_triangle_has_one_fst_through_its_centroid() {
+        // Closed form: the Steiner tree of an equilateral triangle of side 1 has one Steiner
+        // point at the centroid and length √3.
+        let pts = [[0.0, 0.0], [1.0, 0.0], [0.5, HALF_SQRT3]];
+        let b = Bottleneck::new(&pts);
+        let trees = full_steiner_trees(&pts, &b, None).unwrap();
+        let full: Vec<&FullTree> = trees.iter().filter(|t| t.terminals.len() == 3).collect();
+        assert_eq!(full.len(), 1);
+        assert!((full[0].length - 3f64.sqrt()).abs() < 1e-12);
+        assert!(distance(full[0].steiner[0], [0.5, HALF_SQRT3 / 3.0]) < 1e-12);
+    }
+
+    #[test]
+    fn unit_square_has_two_four_terminal_fsts_of_length_one_plus_root_three() {
+        // Closed form: the unit square's two full topologies are each 1 + √3 long.
+        let pts = [[0.0, 0.0], [1.0, 0.0], [1.0, 1.0], [0.0, 1.0]];
+        let b = Bottleneck::new(&pts);
+        let trees = full_steiner_trees(&pts, &b, None).unwrap();
+        let four: Vec<&FullTree> = trees.iter().filter(|t| t.terminals.len() == 4).collect();
+        assert_eq!(four.len(), 2);
+        for t in four {
+            assert!((t.length - (1.0 + 3f64.sqrt())).abs() < 1e-12);
+            assert_eq!(t.steiner.len(), 2);
+        }
+    }
+
+    #[test]
+    fn obtuse_triangle_has_no_three_terminal_fst() {
+        // Closed form: an angle of 120° or more puts the Fermat point at that vertex.
+        let pts = [[0.0, 0.0], [-1.0, 0.2], [1.0, 0.2]];
+        let b = Bottleneck::new(&pts);
+        let trees = full_steiner_trees(&pts, &b, None).unwrap();
+        assert!(trees.iter().all(|t| t.terminals.len() == 2));
+    }
+
+    #[test]
+    fn bottleneck_distances_are_the_longest_mst_edge_on_the_path() {
+        let pts = [[0.0, 0.0], [1.0, 0.0], [3.0, 0.0], [3.0, 0.5]];
+        let b = Bottleneck::new(&pts);
+        assert_eq!(b.get(0, 1), 1.0);
+        assert_eq!(b.get(0, 3), 2.0);
+        assert_eq!(b.get(2, 3), 0.5);
+    }
+}

@@ -1,0 +1,208 @@
+//! Steiner trees for large terminal sets: greedy Steiner insertion on Delaunay triangles,
+//! after Smith, Lee and Liebman (1981, "An O(n log n) heuristic for Steiner minimal tree
+//! problems on the Euclidean metric", Networks 11) and Beasley (1992, "A heuristic for
+//! Euclidean and rectilinear Steiner problems", EJOR 58).
+//!
+//! One round: triangulate the current nodes (terminals and Steiner points); for every
+//! triangle, the Fermat point would join its three corners by a star, and adding the star
+//! to the current tree lets the two bottleneck edges of the cycles it closes go (the
+//! longest edge on the tree paths between the corners, and the longest on the remaining
+//! one); the gain is their length less the star's. The best stars that touch disjoint
+//! corners and free distinct edges are added at once, the tree is recomputed as the
+//! spanning tree of the old tree plus the stars, Steiner points of degree one or two are
+//! dropped and the positions re-optimised ([`super::smith`]). Rounds repeat while they
+//! shorten the tree by more than a part in 10⁶.
+
+use super::smith::{drop_thin_steiner_points, optimise_positions, settle};
+use super::{fermat_point, Network};
+use crate::geometry::random::SplitMix64;
+use crate::geometry::{distance, Point};
+use crate::network::mst::kruskal;
+use crate::partition::delaunay;
+
+/// Largest number of insertion rounds.
+const MAX_ROUNDS: usize = 12;
+/// Smith iterations between rounds (the last clean-up runs to convergence).
+const ROUND_ITERATIONS: usize = 40;
+
+/// A Steiner tree of `terminals` (distinct, normalised) starting from their MST `mst`.
+///
+/// `seed` orders insertions of equal gain (a fixed seed gives a fixed tree).
+pub(crate) fn heuristic(terminals: &[Point], mst: Vec<[usize; 2]>, seed: u64) -> Network {
+    let mut net = Network { nodes: terminals.to_vec(), terminal_count: terminals.len(), edges: mst };
+    let mut length = net.length();
+    for _ in 0..MAX_ROUNDS {
+        let Ok(triangulation) = delaunay(&net.nodes) else { break };
+        let lifting = PathMaxima::new(&net);
+        let mut candidates: Vec<(f64, Point, [usize; 3], [usize; 2])> = Vec::new();
+        for &[a, b, c] in &triangulation.triangles {
+            let (pa, pb, pc) = (net.nodes[a], net.nodes[b], net.nodes[c]);
+            let f = fermat_point(pa, pb, pc);
+            if f == pa || f == pb || f == pc {
+                continue;
+            }
+            let star = distance(f, pa) + distance(f, pb) + distance(f, pc);
+            let mut paths = [lifting.query(a, b), lifting.query(b, c), lifting.query(c, a)];
+            paths.sort_by(|x, y| y.0.total_cmp(&x.0));
+            let gain = paths[0].0 + paths[2].0 - star;
+            if gain > 1e-12 {
+                candidates.push((gain, f, [a, b, c], [paths[0].1, paths[2].1]));
+            }
+        }
+        if candidates.is_empty() {
+            break;
+        }
+        let tie = |corners: &[usize; 3]| {
+            SplitMix64::new(seed ^ (corners[0] as u64).wrapping_mul(0x9E37_79B9_7F4A_7C15) ^ (corners[1] as u64) << 21 ^ (corners[2] as u64) << 42)
+                .next_u64()
+        };
+        candidates.sort_by(|x, y| y.0.total_cmp(&x.0).then_with(|| tie(&x.2).cmp(&tie(&y.2))));
+        let mut corner_used = vec![false; net.nodes.len()];
+        let mut edge_freed = vec![false; net.edges.len()];
+        let mut graph = net.edges.clone();
+        for (_, f, corners, freed) in candidates {
+            if corners.iter().any(|&v| corner_used[v]) || freed.iter().any(|&e| edge_freed[e]) || freed[0] == freed[1] {
+                continue;
+            }
+            corners.iter().for_each(|&v| corner_used[v] = true);
+            freed.iter().for_each(|&e| edge_freed[e] = true);
+            let s = net.nodes.len();
+            net.nodes.push(f);
+            graph.extend(corners.iter().map(|&v| [v, s]));
+        }
+        net.edges = kruskal(&net.nodes, graph);
+        drop_thin_steiner_points(&mut net);
+        optimise_positions(&mut net, ROUND_ITERATIONS);
+        let now = net.length();
+        let improved = length - now;
+        length = now;
+        if improved <= 1e-6 * length {
+            break;
+        }
+    }
+    settle(&mut net, 30, 2_000);
+    net
+}
+
+/// Longest edge on tree paths, by binary lifting: O(n log n) to build, O(log n) per query.
+struct PathMaxima {
+    depth: Vec<u32>,
+    /// `up[k][v]`: the 2^k-th ancestor of `v` (the root is its own).
+    up: Vec<Vec<u32>>,
+    /// `worst[k][v]`: the longest edge (length, edge index) on the way up `2^k` steps.
+    worst: Vec<Vec<(f64, u32)>>,
+}
+
+impl PathMaxima {
+    fn new(net: &Network) -> PathMaxima {
+        let n = net.nodes.len();
+        let mut adjacency: Vec<Vec<(usize, usize)>> = vec![Vec::new(); n];
+        for (k, e) in net.edges.iter().enumerate() {
+            adjacency[e[0]].push((e[1], k));
+            adjacency[e[1]].push((e[0], k));
+        }
+        let mut depth = vec![0u32; n];
+        let mut parent = vec![0u32; n];
+        let mut up_edge = vec![(0.0f64, 0u32); n];
+        let mut seen = vec![false; n];
+        for root in 0..n {
+            if seen[root] {
+                continue;
+            }
+            seen[root] = true;
+            parent[root] = root as u32;
+            let mut stack = vec![root];
+            while let Some(u) = stack.pop() {
+                for &(v, k) in &adjacency[u] {
+                    if !seen[v] {
+                        seen[v] = true;
+                        parent[v] = u as u32;
+                        depth[v] = depth[u] + 1;
+                        up_edge[v] = (distance(net.nodes[u], net.nodes[v]), k as u32);
+                        stack.push(v);
+                    }
+                }
+            }
+        }
+        let levels = (usize::BITS - n.max(2).leading_zeros()) as usize;
+        let mut up = vec![parent];
+        let mut worst = vec![up_edge];
+        for k in 1..levels {
+            let (prev_up, prev_worst) = (&up[k - 1], &worst[k - 1]);
+            let next_up: Vec<u32> = (0..n).map(|v| prev_up[prev_up[v] as usize]).collect();
+            let next_worst: Vec<(f64, u32)> = (0..n)
+                .map(|v| {
+                    let a = prev_worst[v];
+                    let b = prev_worst[prev_up[v] as usize];
+                    if b.0 > a.0 { b } else { a }
+                })
+                .collect();
+            up.push(next_up);
+            worst.push(next_worst);
+        }
+        PathMaxima { depth, up, worst }
+    }
+
+    /// The longest edge (length, index) on the tree path between `a` and `b` (`(0, 0)` when
+    /// `a == b`).
+    fn query(&self, mut a: usize, mut b: usize) -> (f64, usize) {
+        let mut best = (0.0f64, 0u32);
+        let mut take = |w: (f64, u32)| {
+            if w.0 > best.0 {
+                best = w;
+            }
+        };
+        if self.depth[a] < self.depth[b] {
+            std::mem::swap(&mut a, &mut b);
+        }
+        let mut diff = self.depth[a] - self.depth[b];
+        let mut k = 0;
+        while diff > 0 {
+            if diff & 1 == 1 {
+                take(self.worst[k][a]);
+                a = self.up[k][a] as usize;
+            }
+            diff >>= 1;
+            k += 1;
+        }
+        if a != b {
+            for k in (0..self.up.len()).rev() {
+                if self.up[k][a] != self.up[k][b] {
+                    take(self.worst[k][a]);
+                    take(self.worst[k][b]);
+                    a = self.up[k][a] as usize;
+                    b = self.up[k][b] as usize;
+                }
+            }
+            take(self.worst[0][a]);
+            take(self.worst[0][b]);
+        }
+        (best.0, best.1 as usize)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::network::mst::mst_edges;
+
+    #[test]
+    fn path_maxima_match_a_walk_along_the_path() {
+        // A path 0-1-2-3-4 with lengths 1, 3, 2, 0.5.
+        let nodes = vec![[0.0, 0.0], [1.0, 0.0], [1.0, 3.0], [3.0, 3.0], [3.0, 3.5]];
+        let net = Network { nodes, terminal_count: 5, edges: vec![[0, 1], [1, 2], [2, 3], [3, 4]] };
+        let pm = PathMaxima::new(&net);
+        assert_eq!(pm.query(0, 4), (3.0, 1));
+        assert_eq!(pm.query(3, 4), (0.5, 3));
+        assert_eq!(pm.query(4, 2), (2.0, 2));
+    }
+
+    #[test]
+    fn heuristic_finds_the_unit_square_steiner_tree() {
+        // Closed form: 1 + √3 with two Steiner points.
+        let pts = [[-0.5, -0.5], [0.5, -0.5], [0.5, 0.5], [-0.5, 0.5]];
+        let net = heuristic(&pts, mst_edges(&pts).unwrap(), 0);
+        assert!((net.length() - (1.0 + 3f64.sqrt())).abs() < 1e-9, "{}", net.length());
+        assert_eq!(net.nodes.len(), 6);
+    }
+}
