@@ -4,7 +4,9 @@
 //! fixed by at most three of its points, and a point outside the circle of the others lies
 //! on the boundary of the circle of all. Processing the points in random order makes the
 //! expected work linear; moving each point found outside to the front of the list (the
-//! paper's `mtf_mb`) lets the points that matter be tested first in later passes.
+//! paper's `mtf_mb`) lets the points that matter be tested first in later passes. Only
+//! points that may be hull vertices take part (see [`hull_candidates`]); the others cannot
+//! be on the circle.
 //!
 //! All arithmetic is relative to the centre of the bounding box, so projected coordinates
 //! such as (500 000, 6 000 000) keep full precision, and scaled by a power of two to unit
@@ -14,6 +16,7 @@
 
 use crate::batch::{run_grouped, Grouped};
 use crate::error::Result;
+use crate::geometry::hull::hull_candidates;
 use crate::geometry::predicates::orient2d;
 use crate::geometry::random::SplitMix64;
 use crate::geometry::{
@@ -61,8 +64,8 @@ pub struct Circle {
 /// - [`crate::Error::NonFiniteCoordinate`] for a NaN or infinite coordinate.
 ///
 /// # Runtime
-/// Expected O(n) (Welzl 1991), plus one O(n) pass for the shift to the local frame and
-/// one for the final radius.
+/// O(n): a linear thinning pass, Welzl's expected-linear method on the points that survive
+/// it, and one pass for the final radius.
 pub fn enclosing_circle(points: &[Point]) -> Result<Circle> {
     enclosing_circle_with(points, &CircleOptions::default())
 }
@@ -176,8 +179,9 @@ pub(crate) fn solve(points: &[Point], seed: u64) -> Circle {
     let bbox = BoundingBox::of(points).expect("points is not empty");
     let origin = bbox.center();
     let factor = power_of_two_factor((bbox.max[0] - bbox.min[0]).max(bbox.max[1] - bbox.min[1]));
+    // The circle depends only on the hull's vertices: shuffle just the points that may be one.
     let mut list: Vec<(Point, usize)> =
-        points.iter().enumerate().map(|(i, &p)| (scale(sub(p, origin), factor), i)).collect();
+        hull_candidates(points).into_iter().map(|i| (scale(sub(points[i], origin), factor), i)).collect();
     SplitMix64::new(seed).shuffle(&mut list);
     let trial = move_to_front(&mut list);
     drop(list);
@@ -257,6 +261,18 @@ mod tests {
         let c = enclosing_circle(&line).unwrap();
         assert_eq!(c.support, vec![0, 19]);
         assert!(covers(&line, &c));
+    }
+
+    #[test]
+    fn large_degenerate_sets_thin_safely() {
+        // Collinear, repeated and cocircular sets above the thinning threshold.
+        let line: Vec<Point> = (0..5000).map(|i| [3.0 * (i % 997) as f64, -2.0 * (i % 997) as f64]).collect();
+        let c = enclosing_circle(&line).unwrap();
+        assert!((c.radius - 0.5 * distance(line[0], line[996])).abs() <= 1e-12 * c.radius);
+        assert!(covers(&line, &c));
+        let rim: Vec<Point> = (0..4000).map(|k| [(k as f64 * 0.01).cos() * 7.0, (k as f64 * 0.01).sin() * 7.0]).collect();
+        let c = enclosing_circle(&rim).unwrap();
+        assert!((c.radius - 7.0).abs() <= 1e-12 * 7.0 && covers(&rim, &c));
     }
 
     #[test]
