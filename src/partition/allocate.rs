@@ -1,16 +1,22 @@
 //! Nearest-site allocation: every demand point to its closest site, with the demand load of
 //! each site and the total weighted distance.
 //!
-//! The sites go into an R*-tree (Beckmann et al. 1990) built by `rstar`'s overlap-minimising
-//! bulk load (Leutenegger et al. 1997, sort-tile-recursive); the points are queried in
-//! parallel, borrowed as given.
+//! The sites go into an R*-tree (Beckmann et al. 1990) built by `rstar`'s bulk load
+//! (sort-tile-recursive, Leutenegger et al. 1997). When the sites span an area, the tree
+//! seeds a grid of starting sites and each query walks the sites' Delaunay graph greedily
+//! from the seed of its grid square: a site with no Delaunay neighbour nearer to the point is
+//! its nearest site (jump-and-walk, Mücke, Saias & Zhu 1996, here walking Voronoi neighbours),
+//! so a query costs a few distance evaluations instead of a tree descent. The points are queried
+//! in parallel, borrowed as given.
 
 use rayon::prelude::*;
 use rstar::primitives::GeomWithData;
 use rstar::RTree;
 
+use super::delaunay::delaunay;
 use crate::error::Result;
-use crate::geometry::{distance, validate_points, validate_weights, CompensatedSum, Point, Weights};
+use crate::geometry::predicates::all_collinear;
+use crate::geometry::{distance, distance_squared, validate_points, validate_weights, BoundingBox, CompensatedSum, Point, Weights};
 
 /// Which site serves each point, how far away it is and how much demand each site gets.
 #[derive(Debug, Clone, PartialEq)]
@@ -30,10 +36,124 @@ type Site = GeomWithData<Point, usize>;
 /// Points per parallel task: large enough to amortise scheduling, small enough to balance.
 const CHUNK: usize = 4096;
 
-/// The sites' R*-tree, built once and queried many times.
+/// The sites' Delaunay graph with a grid of starting sites for greedy walks.
+#[derive(Debug, Clone)]
+struct SiteGraph {
+    sites: Vec<Point>,
+    /// Delaunay neighbours of every site as CSR (empty for repeats of an earlier site).
+    offsets: Vec<usize>,
+    adjacent: Vec<usize>,
+    /// Grid over the sites' bounding box: `seed[row * columns + column]` is the site nearest
+    /// to the square's centre.
+    origin: Point,
+    inverse_step: [f64; 2],
+    columns: usize,
+    rows: usize,
+    seed: Vec<usize>,
+}
+
+impl SiteGraph {
+    /// `None` when the sites do not span an area (fewer than three distinct, or collinear).
+    fn new(sites: &[Point], tree: &RTree<Site>) -> Option<SiteGraph> {
+        if sites.len() < 3 || all_collinear(sites) {
+            return None;
+        }
+        let t = delaunay(sites).ok()?;
+        let k = sites.len();
+        let mut offsets = vec![0usize; k + 1];
+        for &[a, b] in &t.edges {
+            offsets[a + 1] += 1;
+            offsets[b + 1] += 1;
+        }
+        for i in 0..k {
+            offsets[i + 1] += offsets[i];
+        }
+        let mut fill = offsets.clone();
+        let mut adjacent = vec![0usize; offsets[k]];
+        for &[a, b] in &t.edges {
+            adjacent[fill[a]] = b;
+            fill[a] += 1;
+            adjacent[fill[b]] = a;
+            fill[b] += 1;
+        }
+        // About two grid squares per site, shaped like the sites' box.
+        let b = BoundingBox::of(sites)?;
+        let (w, h) = (b.max[0] - b.min[0], b.max[1] - b.min[1]);
+        let squares = (2 * k) as f64;
+        let columns = ((squares * w / h).sqrt().round() as usize).clamp(1, 4 * k);
+        let rows = ((squares / columns as f64).round() as usize).clamp(1, 4 * k);
+        let step = [w / columns as f64, h / rows as f64];
+        let mut seed = Vec::with_capacity(columns * rows);
+        for r in 0..rows {
+            for c in 0..columns {
+                let centre = [b.min[0] + (c as f64 + 0.5) * step[0], b.min[1] + (r as f64 + 0.5) * step[1]];
+                let nearest = tree.nearest_neighbor(centre).expect("non-empty tree");
+                seed.push(t.representative[nearest.data]);
+            }
+        }
+        Some(SiteGraph {
+            sites: sites.to_vec(),
+            offsets,
+            adjacent,
+            origin: b.min,
+            inverse_step: [1.0 / step[0], 1.0 / step[1]],
+            columns,
+            rows,
+            seed,
+        })
+    }
+
+    #[inline]
+    fn neighbours(&self, j: usize) -> &[usize] {
+        &self.adjacent[self.offsets[j]..self.offsets[j + 1]]
+    }
+
+    #[inline]
+    fn nearest(&self, p: Point) -> usize {
+        // Clamped to the grid, so points outside the sites' box start from a border square
+        // (NaN-free input: the float-to-integer casts saturate).
+        let c = (((p[0] - self.origin[0]) * self.inverse_step[0]) as usize).min(self.columns - 1);
+        let r = (((p[1] - self.origin[1]) * self.inverse_step[1]) as usize).min(self.rows - 1);
+        let mut j = self.seed[r * self.columns + c];
+        let mut d = distance_squared(p, self.sites[j]);
+        loop {
+            let before = j;
+            for &u in self.neighbours(before) {
+                let du = distance_squared(p, self.sites[u]);
+                if du < d {
+                    j = u;
+                    d = du;
+                }
+            }
+            if j == before {
+                break;
+            }
+        }
+        // Equally near sites have cells meeting at `p`; around `p` they follow one another
+        // as Delaunay neighbours, so a search through equally near neighbours finds them all.
+        let mut best = j;
+        if self.neighbours(j).iter().any(|&u| distance_squared(p, self.sites[u]) == d) {
+            let mut stack = vec![j];
+            let mut seen = vec![j];
+            while let Some(v) = stack.pop() {
+                for &u in self.neighbours(v) {
+                    if !seen.contains(&u) && distance_squared(p, self.sites[u]) == d {
+                        seen.push(u);
+                        stack.push(u);
+                        best = best.min(u);
+                    }
+                }
+            }
+        }
+        best
+    }
+}
+
+/// The sites indexed for nearest-site queries, built once and queried many times.
 #[derive(Debug, Clone)]
 pub struct SiteIndex {
     tree: RTree<Site>,
+    graph: Option<SiteGraph>,
     len: usize,
 }
 
@@ -48,7 +168,9 @@ impl SiteIndex {
     pub fn new(sites: &[Point]) -> Result<SiteIndex> {
         validate_points("sites", sites, 1)?;
         let items = sites.iter().enumerate().map(|(j, &s)| GeomWithData::new(s, j)).collect();
-        Ok(SiteIndex { tree: RTree::bulk_load(items), len: sites.len() })
+        let tree = RTree::bulk_load(items);
+        let graph = SiteGraph::new(sites, &tree);
+        Ok(SiteIndex { tree, graph, len: sites.len() })
     }
 
     /// Number of sites.
@@ -64,6 +186,10 @@ impl SiteIndex {
     /// The nearest site to `p` (smallest index among equally near ones) and its distance.
     #[inline]
     pub fn nearest(&self, p: Point) -> (usize, f64) {
+        if let Some(graph) = &self.graph {
+            let j = graph.nearest(p);
+            return (j, distance(p, graph.sites[j]));
+        }
         let mut candidates = self.tree.nearest_neighbor_iter_with_distance_2(p);
         let (first, d2) = candidates.next().expect("a site index is never empty");
         // Equally near sites come next in the distance order; keep the smallest index.
