@@ -359,7 +359,7 @@ def test_steiner_tree_of_the_unit_square():
 @needs("steiner_tree", "spanning_tree")
 def test_networks_by_group():
     frame = lonlat_frame(n=45)
-    st = gis.steiner_tree(frame, by="zone")
+    st = gis.steiner_tree(frame, by="zone", exact=False)
     mst = gis.spanning_tree(frame, by="zone")
     assert set(st["zone"]) == set(frame["zone"])
     assert st.attrs["length"] <= st.attrs["mst_length"] * (1 + 1e-12)
@@ -424,3 +424,31 @@ def test_p_median_with_fixed_sites():
     # the fixed site at 20.5 serves the right pair at cost 1.
     assert plan.sites.attrs["cost"] == pytest.approx(3.0, rel=1e-9)
     assert plan.demand["site"].tolist()[-2:] == [2, 2]
+
+
+@needs("steiner_tree", "spanning_tree")
+def test_grouped_networks_equal_one_network_per_group():
+    # 300 groups of about 100 points: several chunks of the grouped kernel call.
+    n = 30_000
+    xy = RNG.random((n, 2)) * 1000
+    frame = gpd.GeoDataFrame({"g": RNG.integers(0, 300, n)}, geometry=gpd.points_from_xy(*xy.T))
+    frame.index = frame.index + 1000  # row labels are not positions
+    mst = gis.spanning_tree(frame, by="g", planar=True)
+    st = gis.steiner_tree(frame, by="g", planar=True, exact=False)
+    for g in (0, 151, 299):
+        part = frame[frame["g"] == g]
+        alone = gis.spanning_tree(part, planar=True)
+        mine = mst[mst["g"] == g]
+        assert mine["length"].sum() == pytest.approx(alone.attrs["length"], rel=1e-12)
+        assert set(mine["from_node"]) | set(mine["to_node"]) == set(part.index)
+        s_alone = gis.steiner_tree(part, planar=True, exact=False)
+        s_mine = st[st["g"] == g]
+        assert s_mine["length"].sum() == pytest.approx(s_alone.attrs["length"], rel=1e-9)
+        # Terminal ends carry the caller's labels and lie on the caller's points.
+        ends = s_mine[~s_mine["from_node"].isna()]
+        pts = part.geometry.loc[ends["from_node"].to_list()].values
+        starts = shapely.points(shapely.get_coordinates(ends.geometry.values).reshape(-1, 2, 2)[:, 0])
+        assert float(shapely.distance(pts, starts).max()) < 1e-9
+    assert len(mst) == n - 300
+    assert st.attrs["length"] <= st.attrs["mst_length"]
+    assert st.attrs["mst_length"] == pytest.approx(mst.attrs["length"], rel=1e-9)

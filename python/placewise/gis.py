@@ -612,36 +612,57 @@ def nearest_site(
 
 
 def _network_frame(
-    pf: _Frame, groups: _Groups | None, progress: bool, solve: Callable[[np.ndarray], Any], steiner: bool,
+    pf: _Frame, groups: _Groups | None, progress: bool, kernel: Callable[..., Any], steiner: bool,
+    options: dict[str, Any],
 ) -> Any:
-    rows: dict[str, list[Any]] = {"from_node": [], "to_node": [], "length": []}
-    if steiner:
-        rows["junction"] = []
-    group_col: list[Any] = []
-    geoms: list[Any] = []
-    totals = {"length": 0.0, "mst_length": 0.0, "optimal": True, "junctions": 0}
+    """Edges of one network per group as LineString rows, from the kernel's ``groups=`` form."""
+    n = len(pf.xy)
+    grouped = groups is not None
+    if groups is None:  # one pseudo-group holding every row
+        groups = _Groups("", pd.Index([0]), np.zeros(n, np.int64), np.arange(n), np.array([0, n]))
     row_labels = pf.frame.index.to_numpy(dtype=object)
-    for value, members in _each_group(groups, len(pf.xy), progress):
-        tree = _in_group(value, groups, lambda: solve(pf.xy[members]))
-        edges = np.asarray(tree.edges, dtype=np.int64).reshape(-1, 2)
-        nodes = np.asarray(tree.nodes) if steiner else pf.xy[members]
-        lengths = np.hypot(*(nodes[edges[:, 0]] - nodes[edges[:, 1]]).T)
-        m = len(members)
-        # Terminals are named by the caller's row label, Steiner points by None.
-        labels = np.concatenate([row_labels[members], np.full(len(nodes) - m, None, dtype=object)])
-        rows["from_node"].extend(labels[edges[:, 0]].tolist())
-        rows["to_node"].extend(labels[edges[:, 1]].tolist())
-        rows["length"].extend(lengths.tolist())
-        if steiner:
-            rows["junction"].extend(((edges[:, 0] >= m) | (edges[:, 1] >= m)).tolist())
-            totals["mst_length"] += float(tree.mst_length)
-            totals["optimal"] = bool(totals["optimal"] and tree.optimal)
-            totals["junctions"] += len(nodes) - m
-        geoms.extend(shapely.linestrings(np.stack([nodes[edges[:, 0]], nodes[edges[:, 1]]], axis=1)))
-        totals["length"] += float(tree.length)
-        group_col.extend([value] * len(edges))
-    data: dict[str, Any] = {} if groups is None else {groups.name: group_col}
-    data.update(rows)
+    parts: dict[str, list[np.ndarray]] = {k: [] for k in ("group", "a", "b", "from", "to", "junction")}
+    totals = {"length": 0.0, "mst_length": 0.0, "optimal": True, "junctions": 0}
+    with _progress(len(groups.values), progress and grouped, "group") as bar:
+        for g0, g1 in _chunks(groups, n):
+            idx = groups.order[groups.start[g0]:groups.start[g1]]
+            try:
+                tree = kernel(pf.xy[idx], groups=groups.codes[idx], **options)
+            except InputError as exc:
+                if grouped:
+                    _name_failing_group(kernel, pf, None, groups, range(g0, g1), options)
+                raise
+            edges = np.asarray(tree.edges, dtype=np.int64).reshape(-1, 2)
+            g = np.repeat(np.arange(g0, g1), np.diff(np.asarray(tree.edge_offsets)))  # group code per edge
+            if steiner:
+                # Group k's nodes: its rows (in input order, as idx holds them), then its junctions.
+                node_start = np.asarray(tree.node_offsets)[g - g0]
+                terminals = np.asarray(tree.terminal_count)[g - g0]
+                nodes = np.asarray(tree.nodes)[node_start[:, None] + edges]
+                is_row = edges < terminals[:, None]
+                rows = (groups.start[g] - groups.start[g0])[:, None] + np.where(is_row, edges, 0)
+                labels = np.where(is_row, row_labels[idx[rows]], None)
+                totals["mst_length"] += float(np.sum(tree.mst_length))
+                totals["optimal"] = bool(totals["optimal"] and np.all(tree.optimal))
+                totals["junctions"] += int(np.sum(np.diff(np.asarray(tree.node_offsets)) - np.asarray(tree.terminal_count)))
+                parts["junction"].append(~is_row.all(axis=1))
+            else:  # edges are rows of the chunk's points
+                nodes = pf.xy[idx][edges]
+                labels = row_labels[idx[edges]]
+            totals["length"] += float(np.sum(tree.length))
+            parts["group"].append(g)
+            parts["a"].append(nodes[:, 0])
+            parts["b"].append(nodes[:, 1])
+            parts["from"].append(labels[:, 0])
+            parts["to"].append(labels[:, 1])
+            bar.update(g1 - g0)
+    a, b = np.concatenate(parts["a"]), np.concatenate(parts["b"])
+    data: dict[str, Any] = {groups.name: np.asarray(groups.values)[np.concatenate(parts["group"])]} if grouped else {}
+    data.update({"from_node": np.concatenate(parts["from"]), "to_node": np.concatenate(parts["to"]),
+                 "length": np.hypot(*(a - b).T)})
+    if steiner:
+        data["junction"] = np.concatenate(parts["junction"])
+    geoms = shapely.linestrings(np.stack([a, b], axis=1))
     out = gpd.GeoDataFrame(data, geometry=pf.back(geoms).values, crs=pf.crs)
     out.attrs["length"] = totals["length"]
     if steiner:
@@ -673,7 +694,7 @@ def spanning_tree(
     """
     pf = _prepare(frame, "frame", planar=planar, centroids=centroids)
     groups = None if by is None else _groups(pf.frame, by, "frame")
-    return _network_frame(pf, groups, progress, _pw.spanning_tree, steiner=False)
+    return _network_frame(pf, groups, progress, _pw.spanning_tree, steiner=False, options={})
 
 
 def steiner_tree(
@@ -706,7 +727,7 @@ def steiner_tree(
     """
     pf = _prepare(frame, "frame", planar=planar, centroids=centroids)
     groups = None if by is None else _groups(pf.frame, by, "frame")
-    return _network_frame(pf, groups, progress, lambda xy: _pw.steiner_tree(xy, **options), steiner=True)
+    return _network_frame(pf, groups, progress, _pw.steiner_tree, steiner=True, options=options)
 
 
 # --------------------------------------------------------------------------- many sites
