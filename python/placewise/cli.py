@@ -313,7 +313,14 @@ def _positive_float(text: str) -> float:
 
 
 def build_parser() -> argparse.ArgumentParser:
-    """The argument parser of the ``placewise`` command."""
+    """The argument parser of the ``placewise`` command.
+
+    Examples
+    --------
+    >>> from placewise.cli import build_parser
+    >>> build_parser().parse_args(["p-median", "homes.csv", "-p", "4"]).p
+    4
+    """
     from . import __version__
 
     parser = _Parser(
@@ -393,7 +400,14 @@ def _one_line(exc: BaseException) -> str:
 
 
 def main(argv: Sequence[str] | None = None) -> int:
-    """Run the command line; returns the exit status (0, 2 for user errors, 1 otherwise)."""
+    """Run the command line; returns the exit status (0, 2 for user errors, 1 otherwise).
+
+    Examples
+    --------
+    >>> from placewise.cli import main
+    >>> main(["weber-point", "no-such-file.csv", "--planar"])   # one line on stderr
+    2
+    """
     parser = build_parser()
     args = parser.parse_args(argv)
     try:

@@ -392,6 +392,11 @@ def run(out: str | Path, *, quiet: bool = False, seed: int = 0) -> str:
     -------
     str
         The summary table (Markdown).
+
+    Examples
+    --------
+    >>> from placewise import demo
+    >>> table = demo.run("demo-output", quiet=True)   # doctest: +SKIP
     """
     import matplotlib
 

@@ -224,7 +224,7 @@ def _groups(frame: Any, by: str, name: str) -> _Groups:
 
 
 def _progress(total: int, enabled: bool, what: str) -> Any:
-    from tqdm.auto import tqdm
+    from tqdm import tqdm
 
     return tqdm(total=total, disable=not enabled, delay=1.0, file=sys.stderr, unit=what, leave=False)
 

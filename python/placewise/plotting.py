@@ -39,12 +39,28 @@ SITE_COLOURS = ("#1b6f6a", "#c9822b", "#75508a", "#b3473b", "#4d7a2e", "#2f5e9c"
 
 
 def site_colour(i: int) -> str:
-    """The colour of site ``i`` (cycling through :data:`SITE_COLOURS`)."""
+    """The colour of site ``i`` (cycling through :data:`SITE_COLOURS`).
+
+    Examples
+    --------
+    >>> from placewise.plotting import SITE_COLOURS, site_colour
+    >>> site_colour(len(SITE_COLOURS)) == site_colour(0)
+    True
+    """
     return SITE_COLOURS[int(i) % len(SITE_COLOURS)]
 
 
 def axes(ax: Any = None, *, equal: bool = True) -> Any:
-    """``ax``, or new matplotlib axes with an equal aspect ratio when it is None."""
+    """``ax``, or new matplotlib axes with an equal aspect ratio when it is None.
+
+    Examples
+    --------
+    >>> import matplotlib
+    >>> matplotlib.use("Agg")
+    >>> from placewise.plotting import axes
+    >>> axes().get_aspect()
+    1.0
+    """
     if ax is None:
         import matplotlib.pyplot as plt
 
@@ -74,6 +90,16 @@ def draw_polygons(ax: Any, geoms: Iterable[Any], **style: Any) -> Any:
 
     ``style`` goes to ``matplotlib.patches.PathPatch`` (``facecolor``, ``edgecolor``,
     ``linewidth``, ``alpha``, …); a ``facecolors`` sequence colours the geometries one by one.
+
+    Examples
+    --------
+    >>> import matplotlib
+    >>> matplotlib.use("Agg")
+    >>> import shapely
+    >>> from placewise.plotting import draw_polygons
+    >>> cells = [shapely.box(0, 0, 1, 1), shapely.MultiPolygon([shapely.box(2, 0, 3, 1), shapely.box(4, 0, 5, 1)])]
+    >>> len(draw_polygons(None, cells, facecolors=["red", "blue"]).patches)   # one patch per geometry
+    2
     """
     from matplotlib.patches import PathPatch
     from matplotlib.path import Path
@@ -106,7 +132,17 @@ def draw_polygons(ax: Any, geoms: Iterable[Any], **style: Any) -> Any:
 
 
 def draw_segments(ax: Any, starts: np.ndarray, ends: np.ndarray, **style: Any) -> Any:
-    """Draw segments ``starts[i] → ends[i]`` (arrays of shape (m, 2)) as one collection."""
+    """Draw segments ``starts[i] → ends[i]`` (arrays of shape (m, 2)) as one collection.
+
+    Examples
+    --------
+    >>> import matplotlib
+    >>> matplotlib.use("Agg")
+    >>> from placewise.plotting import draw_segments
+    >>> ax = draw_segments(None, [[0, 0], [1, 1]], [[1, 0], [2, 2]], colors="black")
+    >>> len(ax.collections[0].get_segments())
+    2
+    """
     from matplotlib.collections import LineCollection
 
     ax = axes(ax)
