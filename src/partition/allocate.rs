@@ -60,22 +60,7 @@ impl SiteGraph {
         }
         let t = delaunay(sites).ok()?;
         let k = sites.len();
-        let mut offsets = vec![0usize; k + 1];
-        for &[a, b] in &t.edges {
-            offsets[a + 1] += 1;
-            offsets[b + 1] += 1;
-        }
-        for i in 0..k {
-            offsets[i + 1] += offsets[i];
-        }
-        let mut fill = offsets.clone();
-        let mut adjacent = vec![0usize; offsets[k]];
-        for &[a, b] in &t.edges {
-            adjacent[fill[a]] = b;
-            fill[a] += 1;
-            adjacent[fill[b]] = a;
-            fill[b] += 1;
-        }
+        let (offsets, adjacent) = t.neighbours();
         // About two grid squares per site, shaped like the sites' box.
         let b = BoundingBox::of(sites)?;
         let (w, h) = (b.max[0] - b.min[0], b.max[1] - b.min[1]);

@@ -195,6 +195,36 @@ fn representatives(points: &[Point], scale: Scale, kept: usize) -> Vec<usize> {
         .collect()
 }
 
+impl Triangulation {
+    /// Every vertex's neighbours (the other ends of its edges) as CSR: the neighbours of row
+    /// `i` are `adjacent[offsets[i]..offsets[i + 1]]`; rows that repeat an earlier location
+    /// have none.
+    pub fn neighbours(&self) -> (Vec<usize>, Vec<usize>) {
+        neighbour_lists(self.representative.len(), &self.edges)
+    }
+}
+
+/// CSR neighbour lists `(offsets, adjacent)` of `n` vertices from undirected edges.
+pub(crate) fn neighbour_lists(n: usize, edges: &[[usize; 2]]) -> (Vec<usize>, Vec<usize>) {
+    let mut offsets = vec![0usize; n + 1];
+    for &[a, b] in edges {
+        offsets[a + 1] += 1;
+        offsets[b + 1] += 1;
+    }
+    for i in 0..n {
+        offsets[i + 1] += offsets[i];
+    }
+    let mut fill = offsets.clone();
+    let mut adjacent = vec![0usize; offsets[n]];
+    for &[a, b] in edges {
+        adjacent[fill[a]] = b;
+        fill[a] += 1;
+        adjacent[fill[b]] = a;
+        fill[b] += 1;
+    }
+    (offsets, adjacent)
+}
+
 /// Check the structural invariants of a triangulation of `points`: counter-clockwise
 /// triangles, symmetric adjacency, the empty-circumcircle property (exact `incircle`),
 /// Euler's counts `t = 2n − 2 − h` and `e = 3n − 3 − h`, a counter-clockwise convex hull and

@@ -23,7 +23,7 @@ use rayon::prelude::*;
 use rstar::primitives::{GeomWithData, Line};
 use rstar::{RTree, AABB};
 
-use super::delaunay::delaunay;
+use super::delaunay::{delaunay, neighbour_lists};
 use crate::error::{Error, Result};
 use crate::geometry::predicates::{all_collinear, orient2d};
 use crate::geometry::{dot, ring_signed_area, sub, validate_points, BoundingBox, Point};
@@ -173,23 +173,7 @@ fn neighbours(sites: &[Point]) -> Result<(Vec<usize>, Vec<usize>)> {
         order.sort_by(|&a, &b| dot(sub(sites[a], sites[0]), dir).total_cmp(&dot(sub(sites[b], sites[0]), dir)));
         pairs.extend(order.windows(2).map(|w| [w[0], w[1]]));
     }
-    let mut offsets = vec![0usize; n + 1];
-    for &[a, b] in &pairs {
-        offsets[a + 1] += 1;
-        offsets[b + 1] += 1;
-    }
-    for i in 0..n {
-        offsets[i + 1] += offsets[i];
-    }
-    let mut fill = offsets.clone();
-    let mut adjacent = vec![0usize; offsets[n]];
-    for &[a, b] in &pairs {
-        adjacent[fill[a]] = b;
-        fill[a] += 1;
-        adjacent[fill[b]] = a;
-        fill[b] += 1;
-    }
-    Ok((offsets, adjacent))
+    Ok(neighbour_lists(n, &pairs))
 }
 
 /// Keep the part of convex polygon `poly` no farther from `v` than from `u`
