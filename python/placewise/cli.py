@@ -107,14 +107,8 @@ def read_points(path_text: str, args: argparse.Namespace, what: str = "input",
         first = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
         raise UserError(f"{path}: not readable as {kind} ({first})") from None
     _check_columns(frame, path, args, flags)
-    if args.crs is not None:
-        if frame.crs is None:
-            frame = frame.set_crs(args.crs)
-        else:
-            from pyproj import CRS
-
-            if not CRS(frame.crs).equals(CRS(args.crs)):
-                raise UserError(f"{path}: the file's CRS {CRS(frame.crs).to_string()} differs from --crs {args.crs}")
+    if args.crs is not None and frame.crs is None:  # a file's own CRS wins; frames are reconciled later
+        frame = frame.set_crs(args.crs)
     return frame
 
 
