@@ -641,11 +641,11 @@ def _network_frame(
                 nodes = np.asarray(tree.nodes)[node_start[:, None] + edges]
                 is_row = edges < terminals[:, None]
                 rows = (groups.start[g] - groups.start[g0])[:, None] + np.where(is_row, edges, 0)
-                labels = np.where(is_row, row_labels[idx[rows]], None)
+                labels: np.ndarray = np.asarray(np.where(is_row, row_labels[idx[rows]], None))
                 totals["mst_length"] += float(np.sum(tree.mst_length))
                 totals["optimal"] = bool(totals["optimal"] and np.all(tree.optimal))
                 totals["junctions"] += int(np.sum(np.diff(np.asarray(tree.node_offsets)) - np.asarray(tree.terminal_count)))
-                parts["junction"].append(~is_row.all(axis=1))
+                parts["junction"].append(np.asarray(~is_row.all(axis=1)))
             else:  # edges are rows of the chunk's points
                 nodes = pf.xy[idx][edges]
                 labels = row_labels[idx[edges]]
