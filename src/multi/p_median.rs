@@ -23,17 +23,21 @@
 //!   new site drawn with probability ∝ `wᵢ · dᵢ`, the k-means++ seeding of Arthur and
 //!   Vassilvitskii 2007 with distances for squared distances) and run in parallel; the best
 //!   is polished with a tight Weber tolerance.
+//! - **Large inputs** (more than 20 000 points) are searched on a seeded uniform sample of
+//!   20 000 points; the full data then refines the sample's best plan by one descent
+//!   (Cooper and jumps) and the polish.
 //!
 //! The same seed gives the same answer: every random draw comes from a seeded
 //! [`SplitMix64`] per start, and the starts are combined in start order.
 
 use rayon::prelude::*;
 
-use super::check_site_count;
+use super::{check_site_count, distinct_weighted};
 use crate::error::Result;
 use crate::geometry::random::SplitMix64;
 use crate::geometry::{
-    add, distance_squared, scale, sub, validate_points, validate_weights, BoundingBox, Point, Weights,
+    add, distance_squared, scale, sub, validate_points, validate_weights, BoundingBox, CompensatedSum, Point,
+    Weights,
 };
 use crate::median::{weber_point, WeberOptions};
 use crate::partition::{allocate, Allocation, SiteIndex};
@@ -74,6 +78,39 @@ impl Effort {
     }
 }
 
+/// Inputs with more points than this are searched on a seeded sample of this size; the
+/// full data only refines the sample's best plan.
+const LARGE_INPUT: usize = 20_000;
+
+/// A seeded uniform sample of the points (without replacement, in input order), weights kept.
+struct Sample {
+    points: Vec<Point>,
+    weights: Vec<f64>,
+    candidates: Vec<usize>,
+}
+
+impl Sample {
+    fn draw(points: &[Point], weights: Weights<'_>, seed: u64) -> Sample {
+        let mut rng = SplitMix64::new(seed ^ 0x5A3B_1E00_D15C_0001);
+        let mut order: Vec<usize> = (0..points.len()).collect();
+        // Partial Fisher–Yates: the first LARGE_INPUT entries are a uniform sample.
+        for k in 0..LARGE_INPUT {
+            let pick = k + rng.below(points.len() - k);
+            order.swap(k, pick);
+        }
+        let mut chosen = order[..LARGE_INPUT].to_vec();
+        chosen.sort_unstable();
+        let sample_points: Vec<Point> = chosen.iter().map(|&i| points[i]).collect();
+        let sample_weights: Vec<f64> = chosen.iter().map(|&i| weights.get(i)).collect();
+        let candidates = if sample_weights.iter().any(|&w| w > 0.0) {
+            distinct_weighted(&sample_points, Weights::Given(&sample_weights))
+        } else {
+            Vec::new()
+        };
+        Sample { points: sample_points, weights: sample_weights, candidates }
+    }
+}
+
 /// Options of [`p_median`].
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub struct MedianOptions {
@@ -102,6 +139,9 @@ pub struct MedianPlan {
 /// Weber tolerance during the search, and for the final polish.
 const SEARCH_TOL: f64 = 1e-7;
 const FINAL_TOL: f64 = 1e-10;
+/// During the search a descent stops once a Cooper round gains less than this fraction of
+/// the cost; the final polish runs until the allocation is stable.
+const SEARCH_SETTLE: f64 = 1e-5;
 /// Cap on Cooper rounds per descent (it converges in finitely many; this guards against
 /// cycling caused by inexact location steps).
 const MAX_ROUNDS: usize = 500;
@@ -123,10 +163,11 @@ const IMPROVEMENT: f64 = 1e-10;
 ///   [`crate::Error::AllWeightsZero`] for bad weights.
 ///
 /// # Runtime
-/// One Cooper round costs O(n log(p + f)) for the allocation plus O(n) per Weber
-/// evaluation; one jump scan costs O(n · c) for c candidate points (every distinct point up
-/// to 2 000, else a sample of 64 to 512 by effort). The search performs a few hundred
-/// descents at the default effort.
+/// One Cooper round costs O(n · (p + f)) for the allocation (only moved sites are
+/// compared once a descent settles) plus O(n) per Weber evaluation; one jump scan costs
+/// O(n · c) for c candidate points (every distinct point up to 2 000, else a sample of 64
+/// to 512 by effort). The global search runs on at most 20 000 points (a seeded sample
+/// beyond), so its cost is bounded; the full data sees one descent and the polish.
 pub fn p_median(
     points: &[Point],
     weights: Weights<'_>,
@@ -167,23 +208,31 @@ pub fn p_median(
         distinct.iter().map(|&i| points[i]).collect()
     } else {
         let budget = options.effort.budget(p);
-        let runs: Vec<Result<(Solution, usize)>> = (0..budget.starts)
-            .into_par_iter()
-            .map(|start| problem.search(start_seed(options.seed, start), &budget))
-            .collect();
-        let mut best: Option<Solution> = None;
-        for run in runs {
-            let (solution, rounds) = run?;
-            iterations += rounds;
-            // Strict: on ties the earlier start wins, so the answer never depends on timing.
-            if best.as_ref().is_none_or(|b| solution.cost < b.cost) {
-                best = Some(solution);
+        // Large inputs: the global search runs on a seeded sample, the full data only
+        // refines its best plan (descent with jumps, then the polish).
+        let sample = (local.len() > LARGE_INPUT).then(|| Sample::draw(&local, weights, options.seed));
+        let searched = match &sample {
+            Some(sample) if sample.candidates.len() > p => {
+                let on_sample = Problem {
+                    points: &sample.points,
+                    weights: Weights::Given(&sample.weights),
+                    fixed: &fixed_local,
+                    p,
+                    candidates: &sample.candidates,
+                };
+                on_sample.best_of_starts(options.seed, &budget, &mut iterations)?
             }
-        }
-        let best = best.expect("at least one start");
+            _ => problem.best_of_starts(options.seed, &budget, &mut iterations)?,
+        };
         let mut workspace = Workspace::default();
-        let polished = problem.cooper(best.sites.clone(), FINAL_TOL, &mut workspace, &mut iterations)?;
-        let chosen = if polished.cost <= best.cost { polished } else { best };
+        let refined = if sample.is_some() {
+            let mut rng = SplitMix64::new(start_seed(options.seed, budget.starts));
+            problem.descend(searched.sites, &mut rng, &budget, &mut workspace, &mut iterations)?
+        } else {
+            searched
+        };
+        let polished = problem.cooper(refined.sites.clone(), FINAL_TOL, 0.0, &mut workspace, &mut iterations)?;
+        let chosen = if polished.cost <= refined.cost { polished } else { refined };
         chosen.sites.iter().map(|&s| add(scale(s, unit), origin)).collect()
     };
 
@@ -218,6 +267,14 @@ struct Solution {
     cost: f64,
 }
 
+/// Nearest site and its distance for every point, with the total weighted distance.
+#[derive(Debug, Clone)]
+struct Served {
+    index: Vec<usize>,
+    distance: Vec<f64>,
+    cost: f64,
+}
+
 /// Reusable buffers of one search: clusters in CSR form and one cluster's points.
 #[derive(Debug, Default)]
 struct Workspace {
@@ -239,9 +296,20 @@ impl Problem<'_> {
         new < old - IMPROVEMENT * old.abs()
     }
 
-    fn allocate(&self, sites: &[Point]) -> Result<Allocation> {
-        let all = with_fixed(sites, self.fixed);
-        Ok(allocate(self.points, &SiteIndex::new(&all)?, self.weights))
+    /// The best of `budget.starts` seeded searches, run in parallel and combined in start
+    /// order (strictly better replaces, so ties go to the earlier start whatever the timing).
+    fn best_of_starts(&self, seed: u64, budget: &Budget, iterations: &mut usize) -> Result<Solution> {
+        let runs: Vec<Result<(Solution, usize)>> =
+            (0..budget.starts).into_par_iter().map(|start| self.search(start_seed(seed, start), budget)).collect();
+        let mut best: Option<Solution> = None;
+        for run in runs {
+            let (solution, rounds) = run?;
+            *iterations += rounds;
+            if best.as_ref().is_none_or(|b| solution.cost < b.cost) {
+                best = Some(solution);
+            }
+        }
+        Ok(best.expect("at least one start"))
     }
 
     /// One seeded search: D-sampling start, descent, then variable neighbourhood search.
@@ -331,7 +399,7 @@ impl Problem<'_> {
         workspace: &mut Workspace,
         rounds: &mut usize,
     ) -> Result<Solution> {
-        let mut current = self.cooper(sites, SEARCH_TOL, workspace, rounds)?;
+        let mut current = self.cooper(sites, SEARCH_TOL, SEARCH_SETTLE, workspace, rounds)?;
         while current.cost > 0.0 {
             let Some((target, site, delta)) = self.best_jump(&current, rng, budget) else { break };
             if delta >= -IMPROVEMENT * current.cost {
@@ -339,7 +407,7 @@ impl Problem<'_> {
             }
             let mut sites = current.sites.clone();
             sites[site] = self.points[target];
-            let trial = self.cooper(sites, SEARCH_TOL, workspace, rounds)?;
+            let trial = self.cooper(sites, SEARCH_TOL, SEARCH_SETTLE, workspace, rounds)?;
             if !Self::improves(trial.cost, current.cost) {
                 break;
             }
@@ -348,15 +416,23 @@ impl Problem<'_> {
         Ok(current)
     }
 
-    /// Cooper's alternating location–allocation from `sites` until the allocation is stable.
-    fn cooper(&self, mut sites: Vec<Point>, tol: f64, ws: &mut Workspace, rounds: &mut usize) -> Result<Solution> {
+    /// Cooper's alternating location–allocation from `sites` until the allocation is stable,
+    /// or — when `settle > 0` — until a round lowers the cost by at most `settle · cost`.
+    fn cooper(
+        &self,
+        mut sites: Vec<Point>,
+        tol: f64,
+        settle: f64,
+        ws: &mut Workspace,
+        rounds: &mut usize,
+    ) -> Result<Solution> {
         let options = WeberOptions { tol, ..WeberOptions::default() };
-        let mut allocation = self.allocate(&sites)?;
+        let mut served = self.served(&sites)?;
         let mut changed = vec![true; self.p];
         for _ in 0..MAX_ROUNDS {
             *rounds += 1;
-            self.gather(&allocation.index, ws);
-            let mut empty = Vec::new();
+            self.gather(&served.index, ws);
+            let (mut moved, mut empty) = (Vec::new(), Vec::new());
             for j in 0..self.p {
                 if !changed[j] {
                     continue;
@@ -375,13 +451,22 @@ impl Problem<'_> {
                     empty.push(j);
                     continue;
                 }
-                sites[j] = weber_point(&ws.cluster_points, Weights::Given(&ws.cluster_weights), &options)?.location;
+                let location =
+                    weber_point(&ws.cluster_points, Weights::Given(&ws.cluster_weights), &options)?.location;
+                if location != sites[j] {
+                    sites[j] = location;
+                    moved.push(j);
+                }
             }
-            let moved = self.refill(&mut sites, &empty, &allocation);
-            let next = self.allocate(&sites)?;
+            let refilled = self.refill(&mut sites, &empty, &served.distance);
+            moved.extend_from_slice(&refilled);
+            if moved.is_empty() {
+                break;
+            }
+            let next = self.reallocate(&sites, &moved, &served)?;
             changed.iter_mut().for_each(|c| *c = false);
-            let mut any = false;
-            for (&a, &b) in allocation.index.iter().zip(&next.index) {
+            let mut any = !refilled.is_empty();
+            for (&a, &b) in served.index.iter().zip(&next.index) {
                 if a != b {
                     any = true;
                     for s in [a, b] {
@@ -391,36 +476,101 @@ impl Problem<'_> {
                     }
                 }
             }
-            for &j in &moved {
+            for &j in &refilled {
                 changed[j] = true;
-                any = true;
             }
-            allocation = next;
-            if !any {
+            let gain = served.cost - next.cost;
+            served = next;
+            if !any || (settle > 0.0 && gain <= settle * served.cost) {
                 break;
             }
         }
-        Ok(Solution { sites, cost: allocation.cost })
+        Ok(Solution { sites, cost: served.cost })
     }
 
     /// Sites whose cluster carries no weight move to the worst-served distinct locations
     /// (largest `wᵢ · dᵢ`), one each; returns the sites moved.
-    fn refill(&self, sites: &mut [Point], empty: &[usize], allocation: &Allocation) -> Vec<usize> {
+    fn refill(&self, sites: &mut [Point], empty: &[usize], distance: &[f64]) -> Vec<usize> {
         if empty.is_empty() {
             return Vec::new();
         }
         let mut worst: Vec<(f64, usize)> = self
             .candidates
             .iter()
-            .map(|&i| (self.weights.get(i) * allocation.distance[i], i))
+            .map(|&i| (self.weights.get(i) * distance[i], i))
             .filter(|&(score, _)| score > 0.0)
             .collect();
         // Largest score first; equal scores by index, so the order is deterministic.
         worst.sort_by(|a, b| b.0.total_cmp(&a.0).then(a.1.cmp(&b.1)));
-        empty.iter().zip(&worst).map(|(&j, &(_, i))| {
-            sites[j] = self.points[i];
-            j
-        }).collect()
+        empty
+            .iter()
+            .zip(&worst)
+            .map(|(&j, &(_, i))| {
+                sites[j] = self.points[i];
+                j
+            })
+            .collect()
+    }
+
+    /// Every point's nearest site (new or fixed) and the cost, from scratch.
+    fn served(&self, sites: &[Point]) -> Result<Served> {
+        let all = with_fixed(sites, self.fixed);
+        let Allocation { index, distance, .. } = allocate(self.points, &SiteIndex::new(&all)?, self.weights);
+        Ok(self.with_cost(index, distance))
+    }
+
+    /// [`Problem::served`] after the new sites in `moved` changed place, updating `before`:
+    /// a point whose site stayed keeps it unless a moved site is now nearer (every other
+    /// site is exactly as far as before); a point whose site moved is looked up afresh — by
+    /// a scan of the sites when they are few, else in the sites' R*-tree.
+    fn reallocate(&self, sites: &[Point], moved: &[usize], before: &Served) -> Result<Served> {
+        const SCAN_MAX_SITES: usize = 48;
+        let all = with_fixed(sites, self.fixed);
+        let tree = if all.len() > SCAN_MAX_SITES { Some(SiteIndex::new(&all)?) } else { None };
+        let mut is_moved = vec![false; all.len()];
+        for &j in moved {
+            is_moved[j] = true;
+        }
+        // Equally near: the smaller index wins, as in the full allocation.
+        let nearer = |best: &mut (usize, f64), j: usize, d: f64| {
+            if d < best.1 || (d == best.1 && j < best.0) {
+                *best = (j, d);
+            }
+        };
+        let updated: Vec<(usize, f64)> = (0..self.points.len())
+            .into_par_iter()
+            .with_min_len(4096)
+            .map(|i| {
+                let a = self.points[i];
+                let old = before.index[i];
+                if is_moved[old] {
+                    if let Some(tree) = &tree {
+                        return tree.nearest(a);
+                    }
+                    let mut best = (usize::MAX, f64::INFINITY);
+                    for (j, &s) in all.iter().enumerate() {
+                        nearer(&mut best, j, unit_distance(a, s));
+                    }
+                    return best;
+                }
+                let mut best = (old, before.distance[i]);
+                for &j in moved {
+                    nearer(&mut best, j, unit_distance(a, all[j]));
+                }
+                best
+            })
+            .collect();
+        let (index, distance) = updated.into_iter().unzip();
+        Ok(self.with_cost(index, distance))
+    }
+
+    /// The cost of an allocation, summed in point order (the same bits on every run).
+    fn with_cost(&self, index: Vec<usize>, distance: Vec<f64>) -> Served {
+        let mut cost = CompensatedSum::default();
+        for (i, &d) in distance.iter().enumerate() {
+            cost.add(self.weights.get(i) * d);
+        }
+        Served { index, distance, cost: cost.total() }
     }
 
     /// Clusters of the new sites as CSR (`offsets`, `order`) by counting sort.
@@ -647,6 +797,25 @@ mod tests {
         let a = p_median(&pts, Weights::Unit, 6, &[], &o).unwrap();
         let b = p_median(&pts, Weights::Unit, 6, &[], &o).unwrap();
         assert_eq!(a, b);
+    }
+
+    #[test]
+    fn large_inputs_search_a_sample_and_refine_on_all_points() {
+        // Four far-apart discs of 6 250 points each: the optimal four sites are one per disc.
+        let mut rng = SplitMix64::new(5);
+        let centres = [[0.0, 0.0], [1000.0, 0.0], [0.0, 1000.0], [1000.0, 1000.0]];
+        let pts: Vec<Point> = (0..25_000)
+            .map(|i| {
+                let c = centres[i % 4];
+                let (r, t) = (rng.next_f64().sqrt() * 10.0, rng.next_f64() * std::f64::consts::TAU);
+                [c[0] + r * t.cos(), c[1] + r * t.sin()]
+            })
+            .collect();
+        let plan = p_median(&pts, Weights::Unit, 4, &[], &MedianOptions { effort: Effort::Fast, seed: 1 }).unwrap();
+        for (i, &a) in pts.iter().enumerate() {
+            assert!(distance(a, plan.sites[plan.assignment[i]]) < 20.0);
+        }
+        assert!((cost(&pts, &plan.sites) - plan.cost).abs() < 1e-9 * plan.cost);
     }
 
     #[test]
