@@ -245,9 +245,10 @@ def steiner_tree(
     points : array_like, shape (n, 2)
         Site locations (planar coordinates).
     exact : bool, optional
-        True: exact (at most 64 distinct points); False: heuristic; None (default): exact
-        when the point count allows an answer within seconds (up to 24 distinct points,
-        trying for 10 s unless ``time_limit`` says otherwise), else the heuristic.
+        True: exact (at most 64 distinct points; 10 take well under a second, each further
+        point roughly doubles the time); False: heuristic; None (default): exact when the
+        point count allows an answer within seconds (up to 12 distinct points, trying for
+        5 s unless ``time_limit`` says otherwise), else the heuristic.
     seed : int
         Orders heuristic insertions of equal gain; the same seed gives the same tree.
     time_limit : float, optional
