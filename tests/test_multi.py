@@ -369,11 +369,17 @@ coords = st.floats(-1e3, 1e3, allow_nan=False, allow_infinity=False)
 clouds = st.integers(1, 30).flatmap(lambda n: arrays(np.float64, (n, 2), elements=coords))
 
 
-@given(clouds, st.integers(1, 4), st.data())
-def test_property_median_plan_is_consistent_and_beats_one_site(pts: np.ndarray, p: int, data: st.DataObject) -> None:
-    w = data.draw(arrays(np.float64, (len(pts),), elements=st.floats(0.0, 10.0)))
+def draw_weights(data: st.DataObject, n: int) -> np.ndarray:
+    """Non-negative weights with at least one positive."""
+    w = data.draw(arrays(np.float64, (n,), elements=st.floats(0.0, 10.0)))
     if not np.any(w > 0):
         w[0] = 1.0
+    return w
+
+
+@given(clouds, st.integers(1, 4), st.data())
+def test_property_median_plan_is_consistent_and_beats_one_site(pts: np.ndarray, p: int, data: st.DataObject) -> None:
+    w = draw_weights(data, len(pts))
     distinct = len(np.unique(pts[w > 0], axis=0))
     if p > distinct:
         with pytest.raises(pw.DegenerateInputError):
@@ -391,9 +397,7 @@ def test_property_median_plan_is_consistent_and_beats_one_site(pts: np.ndarray, 
 
 @given(clouds, st.integers(1, 4), st.data())
 def test_property_center_plan_is_consistent(pts: np.ndarray, p: int, data: st.DataObject) -> None:
-    w = data.draw(arrays(np.float64, (len(pts),), elements=st.floats(0.0, 10.0)))
-    if not np.any(w > 0):
-        w[0] = 1.0
+    w = draw_weights(data, len(pts))
     distinct = len(np.unique(pts[w > 0], axis=0))
     if p > distinct:
         with pytest.raises(pw.DegenerateInputError):

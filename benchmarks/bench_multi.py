@@ -1,0 +1,127 @@
+"""p-median on the published p654 benchmark and on 100,000 weighted points.
+
+placewise's search against a plain scipy/numpy Cooper alternation (k-means++ starts from
+``scipy.cluster.vq.kmeans2``, allocation by ``scipy.spatial.cKDTree``, Weiszfeld location
+steps in numpy), on the same data in the same run. Quality is reported as the excess over
+the best-known objective of Brimberg, Hansen, Mladenović and Taillard (2000) where the
+data holds one (p = 2 … 10), else as the cost ratio to the reference.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import scipy.cluster.vq
+import scipy.spatial
+
+import placewise as pw
+from harness import Case
+
+DATA = Path(__file__).resolve().parent.parent / "tests" / "data" / "p654"
+
+
+def _p654() -> tuple[np.ndarray, dict[int, float]]:
+    """TSPLIB p654 (Reinelt 1991); best-known values from Brimberg et al. (2000)."""
+    points = np.loadtxt(DATA / "points.txt")[:, :2]
+    best = {int(p): float(v) for p, v in np.loadtxt(DATA / "best_known.txt")}
+    return points, best
+
+
+def _weighted_cloud(n: int, seed: int) -> tuple[np.ndarray, np.ndarray]:
+    rng = np.random.default_rng(seed)
+    centres = rng.uniform(0, 40_000, size=(60, 2))
+    pts = centres[rng.integers(0, 60, size=n)] + rng.normal(scale=1_500.0, size=(n, 2))
+    return pts + [512_000.0, 6_180_000.0], rng.lognormal(sigma=1.0, size=n)
+
+
+def _weiszfeld(x: np.ndarray, w: np.ndarray, start: np.ndarray, steps: int = 50) -> np.ndarray:
+    """Plain Weiszfeld steps (distances floored to avoid dividing by zero)."""
+    y = start
+    for _ in range(steps):
+        d = np.maximum(np.hypot(*(x - y).T), 1e-12)
+        q = w / d
+        y_new = (q @ x) / q.sum()
+        if np.allclose(y_new, y, rtol=0, atol=1e-9 * (1 + np.abs(y).max())):
+            return y_new
+        y = y_new
+    return y
+
+
+def scipy_cooper(points: np.ndarray, p: int, weights: np.ndarray | None, starts: int, seed: int = 0) -> float:
+    """Multi-start Cooper (1964) the scipy way: kmeans2 '++' start, cKDTree allocation,
+    numpy Weiszfeld location steps, until the allocation is stable. Returns the best cost."""
+    origin = points.mean(axis=0)
+    x = points - origin
+    w = np.ones(len(x)) if weights is None else weights
+    rng = np.random.default_rng(seed)
+    best = np.inf
+    for _ in range(starts):
+        sites, _ = scipy.cluster.vq.kmeans2(x, p, minit="++", iter=1, seed=rng)
+        labels = None
+        for _ in range(100):
+            d, new = scipy.spatial.cKDTree(sites).query(x)
+            if labels is not None and np.array_equal(new, labels):
+                break
+            labels = new
+            for j in range(p):
+                members = labels == j
+                if members.any():
+                    sites[j] = _weiszfeld(x[members], w[members], sites[j])
+        d, _ = scipy.spatial.cKDTree(sites).query(x)
+        best = min(best, float(w @ d))
+    return best
+
+
+def cases(quick: bool) -> list[Case]:
+    points, best = _p654()
+    out: list[Case] = []
+    ref_starts = 5 if quick else 20
+    for p in (2, 5, 10, 20, 50):
+        known = best.get(p)
+
+        def note(ours: pw.MedianPlan, ref: float, known: float | None = known) -> str:
+            text = f"cost ours/reference - 1 = {ours.cost / ref - 1:+.2e}"
+            if known is not None:
+                text += f"; excess over best known {ours.cost / known - 1:+.2e} (reference {ref / known - 1:+.2e})"
+            else:
+                text += f"; cost {ours.cost:.7g} (no best-known value in the data)"
+            return text
+
+        out.append(Case(
+            "p_median p654", f"654 points, p = {p}",
+            lambda p=p: pw.p_median(points, p),
+            lambda p=p: scipy_cooper(points, p, None, ref_starts),
+            f"scipy/numpy Cooper, {ref_starts} k-means++ starts",
+            compare=note, repeat=1 if p >= 20 else 3,
+        ))
+
+    n = 20_000 if quick else 100_000
+    cloud, w = _weighted_cloud(n, 5)
+
+    def cloud_note(ours: pw.MedianPlan, ref: float) -> str:
+        return f"cost ours/reference - 1 = {ours.cost / ref - 1:+.2e}"
+
+    out.append(Case(
+        "p_median weighted", f"{n:,} weighted points, p = 20",
+        lambda: pw.p_median(cloud, 20, w),
+        lambda: scipy_cooper(cloud, 20, w, 1 if quick else 3),
+        f"scipy/numpy Cooper, {1 if quick else 3} k-means++ starts",
+        compare=cloud_note, repeat=1,
+    ))
+    out.append(Case(
+        "p_median weighted effort=fast", f"{n:,} weighted points, p = 20",
+        lambda: pw.p_median(cloud, 20, w, effort="fast"),
+        lambda: scipy_cooper(cloud, 20, w, 1),
+        "scipy/numpy Cooper, 1 k-means++ start",
+        compare=cloud_note, repeat=1,
+    ))
+    m = 2_000 if quick else 10_000
+    cpts, cw = _weighted_cloud(m, 6)
+    out.append(Case(
+        "p_center weighted", f"{m:,} weighted points, p = 10",
+        lambda: pw.p_center(cpts, 10, cw),
+        None, "no reference (radius only)",
+        compare=lambda ours, _: f"radius {ours.radius:.6g}", repeat=1,
+    ))
+    return out
