@@ -182,12 +182,13 @@ pub fn p_median(
 
     if p == 1 && fixed.is_empty() {
         let single = weber_point(points, weights, &WeberOptions::default())?;
-        let allocation = allocate(points, &SiteIndex::new(&[single.location])?, weights);
+        let mut total = CompensatedSum::default();
+        (0..points.len()).for_each(|i| total.add(weights.get(i)));
         return Ok(MedianPlan {
             sites: vec![single.location],
-            assignment: allocation.index,
+            assignment: vec![0; points.len()],
             cost: single.cost,
-            load: allocation.load,
+            load: vec![total.total()],
             iterations: single.iterations,
         });
     }
@@ -236,8 +237,16 @@ pub fn p_median(
         chosen.sites.iter().map(|&s| add(scale(s, unit), origin)).collect()
     };
 
-    let allocation = allocate(points, &SiteIndex::new(&with_fixed(&sites, fixed))?, weights);
-    Ok(MedianPlan { sites, assignment: allocation.index, cost: allocation.cost, load: allocation.load, iterations })
+    let all_sites = with_fixed(&sites, fixed);
+    let allocation = allocate(points, &SiteIndex::new(&all_sites)?, weights);
+    // Cost and loads summed in point order, so a run gives the same bits on any thread count.
+    let mut cost = CompensatedSum::default();
+    let mut load = vec![0.0; all_sites.len()];
+    for (i, (&j, &d)) in allocation.index.iter().zip(&allocation.distance).enumerate() {
+        cost.add(weights.get(i) * d);
+        load[j] += weights.get(i);
+    }
+    Ok(MedianPlan { sites, assignment: allocation.index, cost: cost.total(), load, iterations })
 }
 
 /// An independent seed for start `start` (SplitMix64's mixer applied to the pair).
