@@ -41,7 +41,7 @@ def _draw_plan(ax: Any, points: np.ndarray, sites: np.ndarray, assignment: np.nd
     colours = palette[assignment % len(palette)]
     if len(points):
         segments = np.stack([points, sites[assignment]], axis=1)
-        ax.add_collection(LineCollection(segments, colors=colours, linewidths=0.3, alpha=0.4))
+        ax.add_collection(LineCollection(list(segments), colors=colours, linewidths=0.3, alpha=0.4))
         ax.scatter(points[:, 0], points[:, 1], **{"c": colours, "s": 6, "linewidths": 0, **style})
     ax.plot(sites[:, 0], sites[:, 1], "k*", markersize=12)
     ax.autoscale_view()
