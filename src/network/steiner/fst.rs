@@ -118,25 +118,33 @@ impl Bottleneck {
         self.table[u * self.n + v]
     }
 
-    /// Length of the MST of `terminals` under the bottleneck distances (Prim, O(k²)).
+    /// Length of the MST of `terminals` under the bottleneck distances.
     fn mst_length(&self, terminals: &[usize]) -> f64 {
-        let k = terminals.len();
-        let mut best = vec![f64::INFINITY; k];
-        let mut done = vec![false; k];
-        best[0] = 0.0;
-        let mut total = 0.0;
-        for _ in 0..k {
-            let u = (0..k).filter(|&i| !done[i]).min_by(|&a, &b| best[a].total_cmp(&best[b])).expect("a vertex is left");
-            done[u] = true;
-            total += best[u];
-            for v in 0..k {
-                if !done[v] {
-                    best[v] = best[v].min(self.get(terminals[u], terminals[v]));
-                }
+        prim_length(terminals.len(), |a, b| self.get(terminals[a], terminals[b]))
+    }
+}
+
+/// Length of the minimum spanning tree of the complete graph on `0..k` with edge weights
+/// `weight(a, b)`: Prim's algorithm (Prim 1957) with an array, O(k²).
+fn prim_length(k: usize, weight: impl Fn(usize, usize) -> f64) -> f64 {
+    let mut best = vec![f64::INFINITY; k];
+    let mut done = vec![false; k];
+    if k == 0 {
+        return 0.0;
+    }
+    best[0] = 0.0;
+    let mut total = 0.0;
+    for _ in 0..k {
+        let u = (0..k).filter(|&i| !done[i]).min_by(|&a, &b| best[a].total_cmp(&best[b])).expect("a vertex is left");
+        done[u] = true;
+        total += best[u];
+        for v in 0..k {
+            if !done[v] {
+                best[v] = best[v].min(weight(u, v));
             }
         }
-        total
     }
+    total
 }
 
 /// A terminal or an equilateral point of the generation.
@@ -475,25 +483,10 @@ fn reach(item: &Item) -> (f64, f64) {
     (near, far)
 }
 
-/// Length of the Euclidean MST of the terminals in `mask` (Prim, O(k²)).
+/// Length of the Euclidean MST of the terminals in `mask`.
 fn euclidean_mst_length(points: &[Point], mask: u64) -> f64 {
     let members: Vec<usize> = (0..points.len()).filter(|&v| mask >> v & 1 == 1).collect();
-    let k = members.len();
-    let mut best = vec![f64::INFINITY; k];
-    let mut done = vec![false; k];
-    best[0] = 0.0;
-    let mut total = 0.0;
-    for _ in 0..k {
-        let u = (0..k).filter(|&i| !done[i]).min_by(|&a, &b| best[a].total_cmp(&best[b])).expect("a vertex is left");
-        done[u] = true;
-        total += best[u];
-        for v in 0..k {
-            if !done[v] {
-                best[v] = best[v].min(distance(points[members[u]], points[members[v]]));
-            }
-        }
-    }
-    total
+    prim_length(members.len(), |a, b| distance(points[members[a]], points[members[b]]))
 }
 
 /// The FST rooted at terminal `root` through equilateral point `top`, when every Steiner

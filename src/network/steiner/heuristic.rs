@@ -80,7 +80,7 @@ pub(crate) fn heuristic(terminals: &[Point], mst: Vec<[usize; 2]>, seed: u64) ->
             break;
         }
     }
-    settle(&mut net, 30, 2_000);
+    settle(&mut net, 30, 200);
     net
 }
 

@@ -124,6 +124,7 @@ fn worst_angle_error(net: &Network, adjacency: &[Vec<usize>]) -> f64 {
 pub(crate) fn settle(net: &mut Network, max_rounds: usize, max_iter: usize) {
     for _ in 0..max_rounds {
         optimise_positions(net, max_iter);
+        polish(net, 1000);
         let mut changed = contract_short_edges(net);
         changed |= drop_thin_steiner_points(net);
         changed |= split_narrow_angles(net);
@@ -134,7 +135,40 @@ pub(crate) fn settle(net: &mut Network, max_rounds: usize, max_iter: usize) {
             }
         }
     }
-    optimise_positions(net, max_iter);
+    polish(net, 1000);
+    contract_short_edges(net);
+    drop_thin_steiner_points(net);
+}
+
+/// Gauss–Seidel sweeps over the Steiner points still off 120°: each is moved to the Fermat
+/// point of its three neighbours (exact for that point, so the tree never lengthens), until
+/// none is off by more than a tenth of [`ANGLE_TOL`] or `max_sweeps` sweeps are done.
+fn polish(net: &mut Network, max_sweeps: usize) {
+    let third = 2.0 * PI / 3.0;
+    let adjacency = net.adjacency();
+    for _ in 0..max_sweeps {
+        let mut moved = false;
+        for s in net.terminal_count..net.nodes.len() {
+            let [i, j, k] = adjacency[s][..] else { continue };
+            let (p, a, b, c) = (net.nodes[s], net.nodes[i], net.nodes[j], net.nodes[k]);
+            if distance(p, a).min(distance(p, b)).min(distance(p, c)) <= SHORT {
+                continue;
+            }
+            let error = (angle_at(p, a, b) - third)
+                .abs()
+                .max((angle_at(p, b, c) - third).abs())
+                .max((angle_at(p, c, a) - third).abs());
+            if error > 0.1 * ANGLE_TOL {
+                // A Fermat point at a neighbour collapses the Steiner point onto it, for the
+                // clean-up to contract.
+                net.nodes[s] = fermat_point(a, b, c);
+                moved = true;
+            }
+        }
+        if !moved {
+            return;
+        }
+    }
 }
 
 /// Merge every Steiner point into a neighbour it has (nearly) reached.
