@@ -296,8 +296,10 @@ def _region_rings(region: Any) -> tuple[np.ndarray | None, np.ndarray | None]:
 def voronoi_cells(sites: ArrayLike, region: Any = None) -> VoronoiCells:
     """Each site's Voronoi cell (the points closer to it than to any other site) inside a region.
 
-    The cells tile the region: valid polygons whose areas sum to the region's area. A site
-    outside the region keeps its clipped, possibly empty, cell. Cells come from the sites'
+    The cells tile the region: valid polygons whose areas sum to the region's area and that
+    form a clean coverage (neighbouring cells share their vertices exactly: copies of a vertex
+    closer than 2**-40 of the region's size are welded into one). A site outside the region
+    keeps its clipped, possibly empty, cell. Cells come from the sites'
     Delaunay neighbours by half-plane cuts; a region that is not an axis-aligned rectangle is
     intersected with the cells that meet its boundary by exact integer-grid polygon clipping.
 
