@@ -615,6 +615,43 @@ mod tests {
         assert!(matches!(voronoi_cells(&[[0.0, 0.0]], Some(region)), Err(Error::InvalidParameter { .. })));
     }
 
+    /// The L-shaped region with a hole of the Python property test, in its scaled frame.
+    fn small_l_with_hole() -> (Vec<Point>, Vec<usize>) {
+        let outer = [[-9.0, -9.0], [11.0, -9.0], [11.0, -1.0], [0.0, -1.0], [0.0, 11.0], [-9.0, 11.0]];
+        let hole = [[-7.0, -7.0], [-7.0, -4.0], [-3.0, -4.0], [-3.0, -7.0]];
+        (outer.iter().chain(hole.iter()).copied().collect(), vec![0, 6, 10])
+    }
+
+    #[test]
+    fn bisector_through_a_hole_corner_gives_simple_rings() {
+        // Regression (found by the Python property test): the bisector of these sites passes
+        // exactly through the hole's corner (-3, -7); welding once pinched the cell's ring there.
+        let (vertices, ring_offsets) = small_l_with_hole();
+        let region = Region { vertices: &vertices, ring_offsets: &ring_offsets };
+        let cells = voronoi_cells(&[[-2.0, 1.0], [1.0, 0.0]], Some(region)).unwrap();
+        for w in cells.parts.windows(2) {
+            let ring = &cells.vertices[w[0]..w[1]];
+            for (k, p) in ring.iter().enumerate() {
+                assert!(!ring[k + 1..].contains(p), "ring visits {p:?} twice");
+            }
+        }
+        // Closed form: 20 × 20 − 11 × 12 − 4 × 3 = 256.
+        assert!((cells.area.iter().sum::<f64>() - 256.0).abs() < 1e-9);
+    }
+
+    #[test]
+    fn region_vertex_on_a_shared_edge_is_kept_on_both_sides() {
+        // Regression: the bisector y = −1 runs along the region's edge, whose vertex (0, −1) is
+        // a corner of the upper cell; the lower cell must keep it too (no T-junction).
+        let (vertices, ring_offsets) = small_l_with_hole();
+        let region = Region { vertices: &vertices, ring_offsets: &ring_offsets };
+        let cells = voronoi_cells(&[[0.0, -2.0], [0.0, 0.0]], Some(region)).unwrap();
+        for i in 0..2 {
+            let cell = &cells.vertices[cells.offsets[i]..cells.offsets[i + 1]];
+            assert!(cell.contains(&[0.0, -1.0]), "cell {i} lacks the region vertex");
+        }
+    }
+
     #[test]
     fn grid_sites_give_equal_cells() {
         // A 5 × 5 grid of unit spacing in the box [-0.5, 4.5]²: every cell is a unit square.
