@@ -405,25 +405,6 @@ fn equilateral(
             }
         }
     }
-    // Lune test on the edge from the Steiner point to a terminal child: a terminal closer
-    // to both ends than they are to each other would shorten the tree. It must hold at every
-    // s of the arc; max(|z − s|, |z − t|) − |s − t| changes by at most twice the arc length
-    // between samples, which the slack covers.
-    let samples = 12usize;
-    let step = (hi - lo) / (samples - 1) as f64;
-    let slack = radius * step;
-    for child in [ip, iq] {
-        let Kind::Terminal(t) = child.kind else { continue };
-        let pt = points[t];
-        let always = (0..samples).all(|k| {
-            let sample = Kind::arc_point(centre, radius, theta_q, lo + step * k as f64);
-            let l = distance(sample, pt) - slack - TOL;
-            points.iter().enumerate().any(|(z, &pz)| z != t && distance(pz, sample) < l && distance(pz, pt) < l)
-        });
-        if always {
-            return None;
-        }
-    }
     // Upper bound test for the subtree below the Steiner point s, of length |s − e| by
     // Simpson's construction: were it longer than the MST of its terminals plus a link from
     // s to the nearest of them, that exchange would shorten any tree holding it. The test
@@ -451,6 +432,25 @@ fn equilateral(
             }
         }
         if all_too_long {
+            return None;
+        }
+    }
+    // Lune test on the edge from the Steiner point to a terminal child: a terminal closer
+    // to both ends than they are to each other would shorten the tree. It must hold at every
+    // s of the arc; max(|z − s|, |z − t|) − |s − t| changes by at most twice the arc length
+    // between samples, which the slack covers.
+    let samples = 12usize;
+    let step = (hi - lo) / (samples - 1) as f64;
+    let slack = radius * step;
+    for child in [ip, iq] {
+        let Kind::Terminal(t) = child.kind else { continue };
+        let pt = points[t];
+        let always = (0..samples).all(|k| {
+            let sample = Kind::arc_point(centre, radius, theta_q, lo + step * k as f64);
+            let l = distance(sample, pt) - slack - TOL;
+            points.iter().enumerate().any(|(z, &pz)| z != t && distance(pz, sample) < l && distance(pz, pt) < l)
+        });
+        if always {
             return None;
         }
     }
