@@ -245,8 +245,8 @@ def steiner_tree(
     points : array_like, shape (n, 2)
         Site locations (planar coordinates).
     exact : bool, optional
-        True: exact (at most 64 distinct points; 10 take well under a second, each further
-        point roughly doubles the time); False: heuristic; None (default): exact when the
+        True: exact (at most 64 distinct points; 10 uniformly spread ones take about 0.1 s,
+        12 about 2 s, 13 about 7 s); False: heuristic; None (default): exact when the
         point count allows an answer within seconds (up to 12 distinct points, trying for
         5 s unless ``time_limit`` says otherwise), else the heuristic.
     seed : int

@@ -151,8 +151,8 @@ impl SteinerTree {
 ///
 /// # Runtime
 /// Heuristic: O(n log n) per insertion round, a handful of rounds, then position
-/// re-optimisation (O(n) per iteration). Exact: exponential; 10 uniformly spread terminals
-/// take well under a second and each further one roughly doubles the time.
+/// re-optimisation (O(n) per iteration). Exact: exponential; uniformly spread terminals
+/// take about 0.1 s for 10, 2 s for 12 and 7 s for 13.
 pub fn steiner_tree(points: &[Point], options: &SteinerOptions) -> Result<SteinerTree> {
     validate_points("points", points, 1)?;
     validate_options(options)?;
