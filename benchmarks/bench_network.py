@@ -59,7 +59,7 @@ def cases(quick: bool) -> list[Case]:
     n = 100_000 if quick else 1_000_000
     pts = _uniform(n, 1)
     steiner_sizes = [(100, 10), (1_000, 10)] if quick else [(100, 20), (1_000, 20), (10_000, 3), (100_000, 1)]
-    exact_sizes = [(8, 5), (10, 3)] if quick else [(10, 10), (12, 5), (13, 3)]
+    exact_sizes = [(8, 5), (10, 3)] if quick else [(10, 10), (12, 5), (14, 3)]
     out = [
         Case("spanning_tree", f"{n:,} uniform points", lambda: pw.spanning_tree(pts), lambda: _scipy_emst(pts),
              "scipy Delaunay + csgraph minimum_spanning_tree", target=10.0, compare=_length_check),
