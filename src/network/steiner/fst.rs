@@ -260,10 +260,7 @@ pub(crate) fn full_steiner_trees(points: &[Point], bottleneck: &Bottleneck, dead
                     }
                     // The same with the smallest bottleneck distance between the two sides.
                     let mut closest = f64::INFINITY;
-                    let mut rest = ib.mask;
-                    while rest != 0 {
-                        let v = rest.trailing_zeros() as usize;
-                        rest &= rest - 1;
+                    for v in bits(ib.mask) {
                         closest = closest.min(nearest_bsd[a as usize * n + v]);
                     }
                     if distance(pa, ib.pos) > 2.0 * closest + far_a + reach(ib).1 + TOL {
@@ -374,14 +371,8 @@ fn equilateral(
             continue;
         }
         let mut limit = f64::INFINITY;
-        let mut below = child.mask;
-        while below != 0 {
-            let u = below.trailing_zeros() as usize;
-            below &= below - 1;
-            let mut rest = other.mask;
-            while rest != 0 {
-                let v = rest.trailing_zeros() as usize;
-                rest &= rest - 1;
+        for u in bits(child.mask) {
+            for v in bits(other.mask) {
                 limit = limit.min(bottleneck.get(u, v));
             }
         }
@@ -393,13 +384,7 @@ fn equilateral(
     // and lies on the path to every other terminal below.
     for (child, shortest) in [(ip, 2.0 * radius * ((ARC - hi) / 2.0).sin()), (iq, 2.0 * radius * (lo / 2.0).sin())] {
         if let Kind::Terminal(t) = child.kind {
-            let mut rest = mask & !(1u64 << t);
-            let mut limit = f64::INFINITY;
-            while rest != 0 {
-                let v = rest.trailing_zeros() as usize;
-                rest &= rest - 1;
-                limit = limit.min(bottleneck.get(t, v));
-            }
+            let limit = bits(mask & !(1u64 << t)).map(|v| bottleneck.get(t, v)).fold(f64::INFINITY, f64::min);
             if shortest > limit + TOL {
                 return None;
             }
@@ -420,10 +405,7 @@ fn equilateral(
         for k in 0..SAMPLES {
             let sample = Kind::arc_point(centre, radius, theta_q, lo + step * k as f64);
             let mut link = f64::INFINITY;
-            let mut rest = mask;
-            while rest != 0 {
-                let v = rest.trailing_zeros() as usize;
-                rest &= rest - 1;
+            for v in bits(mask) {
                 link = link.min(distance(points[v], sample));
             }
             if distance(sample, e) <= tree + link + slack + TOL {
@@ -457,14 +439,23 @@ fn equilateral(
     Some(Item { mask, pos: e, kind: Kind::Equilateral { kids: [p, q], centre, radius, theta_q, lo, hi } })
 }
 
+/// The indices of the set bits of `mask`, ascending.
+fn bits(mask: u64) -> impl Iterator<Item = usize> {
+    let mut rest = mask;
+    std::iter::from_fn(move || {
+        (rest != 0).then(|| {
+            let v = rest.trailing_zeros() as usize;
+            rest &= rest - 1;
+            v
+        })
+    })
+}
+
 /// Append the smallest bottleneck distance from the terminals of `mask` to each terminal.
 fn push_nearest(table: &mut Vec<f64>, mask: u64, bottleneck: &Bottleneck, n: usize) {
     for v in 0..n {
         let mut best = f64::INFINITY;
-        let mut rest = mask;
-        while rest != 0 {
-            let u = rest.trailing_zeros() as usize;
-            rest &= rest - 1;
+        for u in bits(mask) {
             best = best.min(bottleneck.get(u, v));
         }
         table.push(best);
