@@ -12,6 +12,15 @@ import numpy as np
 rng = np.random.default_rng(20261202)
 _cloud = rng.normal(size=(40, 2))
 
+
+def _unaligned(values: np.ndarray) -> np.ndarray:
+    """A C-contiguous float64 array whose data is not 8-byte aligned (as arrays unpickled
+    from out-of-band buffers can be)."""
+    raw = np.zeros(values.size * 8 + 1, dtype=np.uint8)[1:]
+    out = raw.view(np.float64).reshape(values.shape)
+    out[...] = values
+    return out
+
 BAD_POINTS = [
     ("nan", np.array([[0.0, 0.0], [np.nan, 1.0], [2.0, 2.0]])),
     ("plus_inf", np.array([[0.0, 0.0], [1.0, np.inf], [2.0, 2.0]])),
@@ -31,6 +40,7 @@ AWKWARD_POINTS = [
     ("float32", _cloud.astype(np.float32)),
     ("fortran_order", np.asfortranarray(_cloud)),
     ("non_contiguous", np.repeat(_cloud, 2, axis=0)[::2]),
+    ("unaligned", _unaligned(_cloud)),
     ("list_of_lists", _cloud.tolist()),
     ("huge_scale", _cloud * 1e12),
     ("tiny_scale", _cloud * 1e-12),

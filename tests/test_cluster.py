@@ -56,7 +56,8 @@ GROUPED_CASES = [(k, w) for k, w in [
 def test_grouped_equals_in_memory_call(client, table: pd.DataFrame, kernel: str, weighted: bool) -> None:
     if not hasattr(pw, kernel):
         pytest.skip(f"{kernel} is not part of this build")
-    small = table if kernel != "steiner_tree" else table[table["district"] < 40]
+    # Steiner trees: small groups (about 5 terminals each) keep the exact search quick.
+    small = table if kernel != "steiner_tree" else table.iloc[:1_500]
     ddf = dd.from_pandas(small.sample(frac=1.0, random_state=3), npartitions=7)  # shuffled rows, odd partitioning
     out = pc.grouped(ddf, kernel, x="east", y="north", weight="people" if weighted else None, by="district")
     got = out.compute().sort_values("district").reset_index(drop=True)

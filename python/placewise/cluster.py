@@ -32,6 +32,16 @@ GROUPED_KERNELS = (
 )
 
 
+# Batch-result fields that hold input row numbers (rather than positions within a group's
+# own output); in a distributed run they are translated to the table's index labels.
+_ROW_INDEX_FIELDS = {
+    "Circles": ("support_index",),
+    "MinimaxPoints": ("support_index",),
+    "Ellipses": ("support_index",),
+    "SpanningTrees": ("edges",),
+}
+
+
 def _require_dask() -> Any:
     try:
         import dask.dataframe as dd
@@ -56,12 +66,14 @@ def _column_names(name: str, trailing: tuple[int, ...]) -> list[str]:
     return [f"{name}_" + "_".join(map(str, idx)) for idx in np.ndindex(*trailing)]
 
 
-def result_frame(result: Result, label_column: str = "label") -> Any:
+def result_frame(result: Result, label_column: str = "label", row_labels: Any = None) -> Any:
     """One row per group of a batch result (a ``groups=`` call) as a pandas DataFrame.
 
     Per-group arrays become columns (a ``(G, 2)`` field ``location`` becomes ``location_x``
     and ``location_y``); CSR pairs (``<name>_offsets`` with the arrays they index) become
-    columns of per-group lists; scalars are repeated.
+    columns of per-group lists; scalars are repeated. With ``row_labels`` (one label per
+    input row), fields that hold input row numbers (support points, spanning-tree edges)
+    are translated to those labels.
 
     Examples
     --------
@@ -92,6 +104,8 @@ def result_frame(result: Result, label_column: str = "label") -> Any:
                 None,
             )
             if csr is not None and (value.shape[0] != groups or groups == 0):
+                if row_labels is not None and name in _ROW_INDEX_FIELDS.get(type(result).__name__, ()):
+                    value = np.asarray(row_labels)[value]
                 columns[name] = [value[csr[g] : csr[g + 1]].tolist() for g in range(groups)]
             elif value.shape[0] == groups and value.ndim == 1:
                 columns[name] = value
@@ -114,6 +128,9 @@ def _run_partition(
     if len(part) == 0:
         return meta
     fn = _kernel(kernel)
+    # The shuffle does not keep row order; restoring the table's index order makes every
+    # group see its points in the order the in-memory call would, whatever the partitioning.
+    part = part.sort_index(kind="stable")
     # After the shuffle each group sits in exactly one partition, so labels can be coded
     # locally: any hashable label type works.
     codes, uniques = pd.factorize(part[by], sort=True)
@@ -121,7 +138,8 @@ def _run_partition(
     args: list[Any] = [points]
     if weight is not None:
         args.append(part[weight].to_numpy(dtype=np.float64))
-    frame = result_frame(fn(*args, groups=codes, **options), by)
+    # Support indices are rows of this partition: report them as the table's own index labels.
+    frame = result_frame(fn(*args, groups=codes, **options), by, row_labels=part.index.to_numpy())
     frame[by] = uniques.take(frame[by].to_numpy())
     return frame
 

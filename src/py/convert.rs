@@ -1,21 +1,34 @@
 //! numpy → slices. Any numeric dtype and any memory layout is accepted and converted once;
-//! a C-contiguous float64 array is borrowed without a copy.
+//! a C-contiguous, aligned float64 array is borrowed without a copy.
+//!
+//! Invariant: every array these functions return is C-contiguous and aligned, so turning it
+//! into a slice cannot fail. (Arrays unpickled from out-of-band buffers — as Dask workers
+//! receive them — can be contiguous yet unaligned; those are copied once.)
 
-use numpy::{PyArray1, PyArray2, PyArrayMethods, PyReadonlyArray1, PyReadonlyArray2, PyUntypedArrayMethods};
+use numpy::{Element, PyArray, PyArray1, PyArray2, PyArrayMethods, PyReadonlyArray1, PyReadonlyArray2, PyUntypedArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
 
 use super::errors::input_error;
 use crate::geometry::Point;
 
-/// Convert with `numpy.ascontiguousarray(obj, dtype=dtype)`; a failure becomes an
-/// `InputError` naming the argument.
+/// True when the array can be viewed as a slice as it is: C-contiguous and aligned.
+fn borrowable<T: Element, D: numpy::ndarray::Dimension>(array: &Bound<'_, PyArray<T, D>>) -> bool {
+    array.is_c_contiguous() && (array.data() as usize) % std::mem::align_of::<T>() == 0
+}
+
+/// Convert with `numpy.require(obj, dtype, ["C", "A"])` (C-contiguous and aligned, copied
+/// only when needed); a failure becomes an `InputError` naming the argument.
 fn contiguous<'py>(obj: &Bound<'py, PyAny>, argument: &str, dtype: &str) -> PyResult<Bound<'py, PyAny>> {
     let py = obj.py();
     let numpy = py.import("numpy")?;
     let kwargs = PyDict::new(py);
     kwargs.set_item("dtype", dtype)?;
-    numpy.call_method("ascontiguousarray", (obj,), Some(&kwargs)).map_err(|e| {
+    kwargs.set_item("requirements", ["C", "A"])?;
+    let as_array = numpy.call_method1("asarray", (obj,)).map_err(|e| {
+        input_error(format!("{argument} must be a numeric array; it could not be converted to {dtype}: {e}"))
+    })?;
+    numpy.call_method("require", (as_array,), Some(&kwargs)).map_err(|e| {
         input_error(format!("{argument} must be a numeric array; it could not be converted to {dtype}: {e}"))
     })
 }
@@ -28,7 +41,7 @@ fn shape_of(obj: &Bound<'_, PyAny>) -> String {
 /// An empty array of any shape counts as zero points (the kernel then says how many it needs).
 pub(crate) fn points_arg<'py>(obj: &Bound<'py, PyAny>, argument: &str) -> PyResult<PyReadonlyArray2<'py, f64>> {
     if let Ok(array) = obj.cast::<PyArray2<f64>>() {
-        if array.is_c_contiguous() && array.shape()[1] == 2 {
+        if borrowable(array) && array.shape()[1] == 2 {
             return Ok(array.readonly());
         }
     }
@@ -52,7 +65,7 @@ pub(crate) fn points_arg<'py>(obj: &Bound<'py, PyAny>, argument: &str) -> PyResu
 
 /// Reinterpret a C-contiguous `(n, 2)` float64 array as points, without a copy.
 pub(crate) fn as_point_slice<'a>(array: &'a PyReadonlyArray2<'_, f64>) -> &'a [Point] {
-    let flat = array.as_slice().expect("points_arg returns C-contiguous arrays");
+    let flat = array.as_slice().expect("points_arg returns C-contiguous, aligned arrays");
     bytemuck::cast_slice(flat)
 }
 
@@ -63,7 +76,7 @@ pub(crate) fn weights_arg<'py>(
 ) -> PyResult<Option<PyReadonlyArray1<'py, f64>>> {
     let Some(obj) = obj.filter(|o| !o.is_none()) else { return Ok(None) };
     if let Ok(array) = obj.cast::<PyArray1<f64>>() {
-        if array.is_c_contiguous() {
+        if borrowable(array) {
             return Ok(Some(array.readonly()));
         }
     }
@@ -80,7 +93,7 @@ pub(crate) fn weights_arg<'py>(
 /// Group labels of shape `(n,)`: any integer (or boolean) dtype, converted to int64 once.
 pub(crate) fn labels_arg<'py>(obj: &Bound<'py, PyAny>, argument: &str) -> PyResult<PyReadonlyArray1<'py, i64>> {
     if let Ok(array) = obj.cast::<PyArray1<i64>>() {
-        if array.is_c_contiguous() {
+        if borrowable(array) {
             return Ok(array.readonly());
         }
     }
