@@ -114,3 +114,8 @@ pub(crate) fn labels_arg<'py>(obj: &Bound<'py, PyAny>, argument: &str) -> PyResu
         ))),
     }
 }
+
+/// Input-row indices as an int64 numpy array (numpy's default integer, what callers index with).
+pub(crate) fn index_array<'py>(py: Python<'py>, indices: &[usize]) -> Bound<'py, PyArray1<i64>> {
+    PyArray1::from_iter(py, indices.iter().map(|&i| i as i64))
+}

@@ -3,7 +3,7 @@
 use numpy::{PyArray1, PyArray2, PyArray3, PyArrayMethods};
 use pyo3::prelude::*;
 
-use super::convert::as_point_slice;
+use super::convert::{as_point_slice, index_array};
 use super::{labels_arg, points_arg, run_detached, weights_arg};
 use crate::batch::to_csr;
 use crate::enclose::{
@@ -17,9 +17,6 @@ fn circle_options(seed: Option<u64>) -> CircleOptions {
     seed.map_or_else(CircleOptions::default, |seed| CircleOptions { seed })
 }
 
-fn index_array<'py>(py: Python<'py>, indices: &[usize]) -> Bound<'py, PyArray1<i64>> {
-    PyArray1::from_iter(py, indices.iter().map(|&i| i as i64))
-}
 
 /// Support lists of every group as (offsets (G + 1,), indices).
 fn support_csr<'py>(

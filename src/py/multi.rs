@@ -3,7 +3,7 @@
 use numpy::{PyArray1, PyArray2, PyArrayMethods};
 use pyo3::prelude::*;
 
-use super::convert::as_point_slice;
+use super::convert::{as_point_slice, index_array};
 use super::errors::input_error;
 use super::{points_arg, run_detached, weights_arg};
 use crate::error::Error;
@@ -32,9 +32,6 @@ fn sites_array<'py>(py: Python<'py>, sites: &[Point]) -> PyResult<Bound<'py, PyA
     PyArray1::from_vec(py, flat).reshape([sites.len(), 2])
 }
 
-fn index_array<'py>(py: Python<'py>, indices: &[usize]) -> Bound<'py, PyArray1<i64>> {
-    PyArray1::from_iter(py, indices.iter().map(|&i| i as i64))
-}
 
 /// (sites (p, 2), assignment (n,), cost, load (p + f,), iterations)
 type MedianTuple<'py> =
