@@ -76,3 +76,58 @@ mod tests {
         assert!(matches!(check_site_count(&pts, Weights::Unit, 0), Err(Error::InvalidParameter { name: "p", .. })));
     }
 }
+
+#[cfg(test)]
+mod properties {
+    use super::*;
+    use crate::enclose::enclosing_circle;
+    use crate::geometry::{distance, Point, Weights};
+    use proptest::prelude::*;
+
+    fn cloud() -> impl Strategy<Value = Vec<Point>> {
+        prop::collection::vec((-1e3f64..1e3, -1e3f64..1e3).prop_map(|(x, y)| [x, y]), 3..30)
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig { cases: 32, ..ProptestConfig::default() })]
+
+        /// Every point is assigned to a nearest site, the cost is that assignment's cost,
+        /// and loads add up to the total weight.
+        #[test]
+        fn p_median_assignment_is_nearest_and_cost_consistent(points in cloud(), p in 1usize..4) {
+            let options = MedianOptions { effort: Effort::Fast, seed: 3 };
+            let plan = p_median(&points, Weights::Unit, p, &[], &options).unwrap();
+            prop_assert_eq!(plan.sites.len(), p);
+            let mut cost = 0.0;
+            for (i, &a) in points.iter().enumerate() {
+                let assigned = distance(a, plan.sites[plan.assignment[i]]);
+                let nearest = plan.sites.iter().map(|&s| distance(a, s)).fold(f64::INFINITY, f64::min);
+                prop_assert!(assigned <= nearest * (1.0 + 1e-12) + 1e-12);
+                cost += assigned;
+            }
+            prop_assert!((cost - plan.cost).abs() <= 1e-9 * cost.max(1.0));
+            prop_assert!((plan.load.iter().sum::<f64>() - points.len() as f64).abs() < 1e-9);
+        }
+
+        /// The same seed gives the same plan.
+        #[test]
+        fn p_median_is_deterministic(points in cloud()) {
+            let options = MedianOptions { effort: Effort::Fast, seed: 11 };
+            let a = p_median(&points, Weights::Unit, 2, &[], &options).unwrap();
+            let b = p_median(&points, Weights::Unit, 2, &[], &options).unwrap();
+            prop_assert_eq!(a, b);
+        }
+
+        /// The p-center radius covers every point and never exceeds the one-circle radius.
+        #[test]
+        fn p_center_radius_covers_and_beats_one_circle(points in cloud(), p in 1usize..4) {
+            let plan = p_center(&points, Weights::Unit, p, &CenterOptions::default()).unwrap();
+            for &a in &points {
+                let nearest = plan.sites.iter().map(|&s| distance(a, s)).fold(f64::INFINITY, f64::min);
+                prop_assert!(nearest <= plan.radius * (1.0 + 1e-9) + 1e-9);
+            }
+            let one = enclosing_circle(&points).unwrap();
+            prop_assert!(plan.radius <= one.radius * (1.0 + 1e-9) + 1e-9);
+        }
+    }
+}

@@ -482,3 +482,37 @@ mod tests {
         assert!(s.results.iter().all(|t| t.edges.iter().all(|e| labels[e[0]] == labels[e[1]])));
     }
 }
+
+#[cfg(test)]
+mod steiner_properties {
+    use super::*;
+    use proptest::prelude::*;
+
+    fn terminals() -> impl Strategy<Value = Vec<Point>> {
+        prop::collection::vec((-1e3f64..1e3, -1e3f64..1e3).prop_map(|(x, y)| [x, y]), 2..40)
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig { cases: 32, ..ProptestConfig::default() })]
+
+        /// A tree; Steiner points of degree 3 at 120 degrees; no terminal above degree 3;
+        /// never longer than the minimum spanning tree (`check_steiner_tree` states them).
+        #[test]
+        fn heuristic_tree_keeps_the_invariants(points in terminals(), seed in 0u64..100) {
+            let options = SteinerOptions { method: SteinerMethod::Heuristic, seed, time_limit: None };
+            let tree = steiner_tree(&points, &options).unwrap();
+            prop_assert!(check_steiner_tree(&tree, 1e-6).is_ok(), "{:?}", check_steiner_tree(&tree, 1e-6));
+            prop_assert!(tree.length <= tree.mst_length * (1.0 + 1e-12) + 1e-9);
+        }
+
+        /// Exact trees are never longer than heuristic ones on small sets.
+        #[test]
+        fn exact_is_never_longer_than_heuristic(points in prop::collection::vec((-1e3f64..1e3, -1e3f64..1e3).prop_map(|(x, y)| [x, y]), 3..7)) {
+            let exact = steiner_tree(&points, &SteinerOptions { method: SteinerMethod::Exact, seed: 0, time_limit: None }).unwrap();
+            let heuristic = steiner_tree(&points, &SteinerOptions { method: SteinerMethod::Heuristic, seed: 0, time_limit: None }).unwrap();
+            prop_assert!(exact.optimal);
+            prop_assert!(check_steiner_tree(&exact, 1e-6).is_ok());
+            prop_assert!(exact.length <= heuristic.length * (1.0 + 1e-9) + 1e-9);
+        }
+    }
+}
