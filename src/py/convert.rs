@@ -115,6 +115,25 @@ pub(crate) fn labels_arg<'py>(obj: &Bound<'py, PyAny>, argument: &str) -> PyResu
     }
 }
 
+/// Index rows as flat int64 values, reusing the allocation: `usize` and `i64` have the same
+/// size and alignment on 64-bit targets and every index is below 2^63, so the bytes already
+/// are the int64 values (copied only on targets where the sizes differ).
+pub(crate) fn index_rows<const K: usize>(rows: Vec<[usize; K]>) -> Vec<i64> {
+    let flat: Vec<usize> = match bytemuck::allocation::try_cast_vec(rows) {
+        Ok(flat) => flat,
+        Err((_, rows)) => rows.into_iter().flatten().collect(),
+    };
+    index_values(flat)
+}
+
+/// Indices as int64 values, reusing the allocation (see [`index_rows`]).
+pub(crate) fn index_values(flat: Vec<usize>) -> Vec<i64> {
+    match bytemuck::allocation::try_cast_vec(flat) {
+        Ok(values) => values,
+        Err((_, flat)) => flat.into_iter().map(|i| i as i64).collect(),
+    }
+}
+
 /// Input-row indices as an int64 numpy array (numpy's default integer, what callers index with).
 pub(crate) fn index_array<'py>(py: Python<'py>, indices: &[usize]) -> Bound<'py, PyArray1<i64>> {
     PyArray1::from_iter(py, indices.iter().map(|&i| i as i64))

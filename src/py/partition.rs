@@ -3,23 +3,16 @@
 use numpy::{PyArray1, PyArray2, PyArrayMethods};
 use pyo3::prelude::*;
 
-use super::convert::as_point_slice;
+use rayon::prelude::*;
+
+use super::convert::{as_point_slice, index_rows, index_values};
 use super::errors::input_error;
 use super::{labels_arg, points_arg, run_detached, weights_arg};
 use crate::geometry::{Point, Weights};
 use crate::partition::{delaunay, nearest_site, voronoi_cells, Region};
 
-/// Indices as int64, flattened (run while the GIL is released).
-fn flat_indices<const K: usize>(rows: &[[usize; K]]) -> Vec<i64> {
-    rows.iter().flatten().map(|&i| i as i64).collect()
-}
-
 fn flat_points(points: &[Point]) -> Vec<f64> {
     points.iter().flatten().copied().collect()
-}
-
-fn as_i64(values: &[usize]) -> Vec<i64> {
-    values.iter().map(|&i| i as i64).collect()
 }
 
 fn rows<'py>(py: Python<'py>, flat: Vec<i64>, width: usize) -> PyResult<Bound<'py, PyArray2<i64>>> {
@@ -43,8 +36,19 @@ fn delaunay_triangulation<'py>(py: Python<'py>, points: &Bound<'py, PyAny>) -> P
     let pts = as_point_slice(&points);
     let (triangles, adjacent, hull, edges, representative) = run_detached(py, || {
         let t = delaunay(pts)?;
-        let adjacent: Vec<i64> = t.adjacent.iter().flatten().map(|a| a.map_or(-1, |i| i as i64)).collect();
-        Ok((flat_indices(&t.triangles), adjacent, as_i64(&t.hull), flat_indices(&t.edges), as_i64(&t.representative)))
+        let mut adjacent = vec![0i64; 3 * t.adjacent.len()];
+        adjacent.par_chunks_mut(3).zip(t.adjacent.par_iter()).for_each(|(out, across)| {
+            for (o, a) in out.iter_mut().zip(across) {
+                *o = a.map_or(-1, |i| i as i64);
+            }
+        });
+        Ok((
+            index_rows(t.triangles),
+            adjacent,
+            index_values(t.hull),
+            index_rows(t.edges),
+            index_values(t.representative),
+        ))
     })?;
     Ok((
         rows(py, triangles, 3)?,
@@ -86,7 +90,7 @@ fn voronoi_cells_clipped<'py>(
     let region = region.as_ref().map(|(v, o)| Region { vertices: as_point_slice(v), ring_offsets: o });
     let (vertices, offsets, parts, area) = run_detached(py, || {
         let c = voronoi_cells(s, region)?;
-        Ok((flat_points(&c.vertices), as_i64(&c.offsets), as_i64(&c.parts), c.area))
+        Ok((flat_points(&c.vertices), index_values(c.offsets), index_values(c.parts), c.area))
     })?;
     let v = vertices.len() / 2;
     Ok((
@@ -115,7 +119,7 @@ fn nearest_site_allocation<'py>(
     let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
     let (index, a) = run_detached(py, || {
         let mut a = nearest_site(p, s, Weights::from_option(w))?;
-        let index = as_i64(&std::mem::take(&mut a.index));
+        let index = index_values(std::mem::take(&mut a.index));
         Ok((index, a))
     })?;
     Ok((PyArray1::from_vec(py, index), PyArray1::from_vec(py, a.distance), PyArray1::from_vec(py, a.load), a.cost))
