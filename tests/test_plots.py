@@ -60,3 +60,15 @@ def test_every_public_result_type_is_covered():
             for call in calls:
                 produced.add(type(call(getattr(pw, name))).__name__)
     assert public <= produced, public - produced
+
+
+def test_allocation_plot_takes_a_single_colour():
+    # A caller's colour replaces the per-site colours instead of clashing with them.
+    allocation = pw.nearest_site(PTS, PTS[:4], W)
+    fig, ax = plt.subplots()
+    try:
+        allocation.plot(ax, color="grey")
+        points = ax.collections[0]
+        assert np.allclose(points.get_facecolor()[:, :3], matplotlib.colors.to_rgb("grey"))
+    finally:
+        plt.close("all")

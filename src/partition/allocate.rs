@@ -216,31 +216,33 @@ pub fn allocate(points: &[Point], sites: &SiteIndex, weights: Weights<'_>) -> Al
             }
         },
     );
+    // Loads and cost are summed over a number of blocks fixed by `n` alone and merged in
+    // block order, so the sums are bit-identical on every run and thread count (a work-
+    // stealing reduction would add in a varying order). At most 2^24 partial loads in all.
     let k = sites.len();
-    let (load, cost) = (0..n.div_ceil(CHUNK))
+    let blocks = (n / (16 * CHUNK)).clamp(1, 64).min((1usize << 24) / k.max(1)).max(1);
+    let block_len = n.div_ceil(blocks).max(1);
+    let partial: Vec<(Vec<f64>, CompensatedSum)> = (0..blocks)
         .into_par_iter()
-        .fold(
-            || (vec![0.0f64; k], CompensatedSum::default()),
-            |(mut load, mut cost), c| {
-                let range = c * CHUNK..((c + 1) * CHUNK).min(n);
-                for i in range {
-                    let w = weights.get(i);
-                    load[index[i]] += w;
-                    cost.add(w * dist[i]);
-                }
-                (load, cost)
-            },
-        )
-        .reduce(
-            || (vec![0.0f64; k], CompensatedSum::default()),
-            |(mut a, mut ca), (b, cb)| {
-                for (x, y) in a.iter_mut().zip(b) {
-                    *x += y;
-                }
-                ca.merge(cb);
-                (a, ca)
-            },
-        );
+        .map(|b| {
+            let mut load = vec![0.0f64; k];
+            let mut cost = CompensatedSum::default();
+            for i in b * block_len..((b + 1) * block_len).min(n) {
+                let w = weights.get(i);
+                load[index[i]] += w;
+                cost.add(w * dist[i]);
+            }
+            (load, cost)
+        })
+        .collect();
+    let mut load = vec![0.0f64; k];
+    let mut cost = CompensatedSum::default();
+    for (block_load, block_cost) in partial {
+        for (total, part) in load.iter_mut().zip(block_load) {
+            *total += part;
+        }
+        cost.merge(block_cost);
+    }
     Allocation { index, distance: dist, load, cost: cost.total() }
 }
 
@@ -249,6 +251,29 @@ mod tests {
     use super::*;
     use crate::error::Error;
     use proptest::prelude::*;
+
+    #[test]
+    fn loads_and_cost_are_bit_identical_on_any_thread_count() {
+        // Deterministic output: the sums do not depend on how the work is scheduled.
+        let mut s = 5u64;
+        let mut next = || {
+            s = s.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+            (s >> 11) as f64 / (1u64 << 53) as f64
+        };
+        let pts: Vec<Point> = (0..300_000).map(|_| [next(), next()]).collect();
+        let w: Vec<f64> = (0..pts.len()).map(|_| next() * 10.0).collect();
+        let sites: Vec<Point> = (0..100).map(|_| [next(), next()]).collect();
+        let run = |threads: usize| {
+            let pool = rayon::ThreadPoolBuilder::new().num_threads(threads).build().unwrap();
+            pool.install(|| nearest_site(&pts, &sites, Weights::Given(&w)).unwrap())
+        };
+        let one = run(1);
+        for threads in [2, 3, 7] {
+            let other = run(threads);
+            assert_eq!(other.cost.to_bits(), one.cost.to_bits());
+            assert!(other.load.iter().zip(&one.load).all(|(a, b)| a.to_bits() == b.to_bits()));
+        }
+    }
 
     fn brute_force(p: Point, sites: &[Point]) -> (usize, f64) {
         let mut best = (0, f64::INFINITY);
