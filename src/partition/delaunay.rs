@@ -190,16 +190,24 @@ fn edges_of(triangles: &[[usize; 3]], adjacent: &[[Option<usize>; 3]]) -> Vec<[u
         .collect()
 }
 
-/// The inner faces of a spade triangulation as counter-clockwise row triples, and the face
-/// across the edge opposite each corner (by face number, `None` outside).
-fn faces_of<T: SpadeTriangulation<Vertex = Vertex>>(dt: &T) -> (Vec<[usize; 3]>, Vec<[Option<usize>; 3]>) {
+/// The inner faces of a spade triangulation as counter-clockwise row triples, the face
+/// across the edge opposite each corner (by face number, `None` outside), and `judge` of
+/// each face's corner positions (read here, where they are stored in sweep order, rather
+/// than later through the rows, which would miss the cache).
+fn faces_of<T: SpadeTriangulation<Vertex = Vertex>>(
+    dt: &T,
+    judge: impl Fn(Point2<f64>, Point2<f64>, Point2<f64>) -> bool,
+) -> (Vec<[usize; 3]>, Vec<[Option<usize>; 3]>, Vec<bool>) {
     let mut triangles = Vec::with_capacity(dt.num_inner_faces());
     let mut adjacent = Vec::with_capacity(dt.num_inner_faces());
+    let mut verdict = Vec::with_capacity(dt.num_inner_faces());
     for face in dt.inner_faces() {
         // Inner faces are numbered 1.., the outer face is 0.
         debug_assert_eq!(face.fix().index(), triangles.len() + 1);
         let e = face.adjacent_edges();
-        triangles.push([e[0].from().data().row, e[1].from().data().row, e[2].from().data().row]);
+        let corners = [*e[0].from().data(), *e[1].from().data(), *e[2].from().data()];
+        triangles.push(corners.map(|v| v.row));
+        verdict.push(judge(corners[0].position, corners[1].position, corners[2].position));
         // Edge e[k] runs from vertex k to vertex k+1, so the edge opposite vertex k is e[k+1].
         let across = |k: usize| {
             let f = e[(k + 1) % 3].rev().face();
@@ -211,7 +219,7 @@ fn faces_of<T: SpadeTriangulation<Vertex = Vertex>>(dt: &T) -> (Vec<[usize; 3]>,
         };
         adjacent.push([across(0), across(1), across(2)]);
     }
-    (triangles, adjacent)
+    (triangles, adjacent, verdict)
 }
 
 /// The hull of a spade triangulation, counter-clockwise, by row.
@@ -239,7 +247,7 @@ fn whole(positions: &[Point2<f64>]) -> Result<Mesh> {
             reason: "all points are collinear, so no triangle exists".into(),
         });
     }
-    let (triangles, adjacent) = faces_of(&dt);
+    let (triangles, adjacent, _) = faces_of(&dt, |_, _, _| true);
     Ok(Mesh { triangles, adjacent, hull: hull_of(&dt), kept })
 }
 
@@ -262,13 +270,16 @@ fn circle_within(a: Point2<f64>, b: Point2<f64>, c: Point2<f64>, lower: Option<f
     let (b2, c2) = (bx * bx + by * by, cx * cx + cy * cy);
     let ux = (cy * b2 - by * c2) / d;
     let uy = (bx * c2 - cx * b2) / d;
-    let radius = ux.hypot(uy);
+    let radius_squared = (ux * ux + uy * uy) * (1.0 + 1e-8);
     let centre = a.x + ux;
-    if !(radius.is_finite() && centre.is_finite()) {
+    if !(radius_squared.is_finite() && centre.is_finite()) {
         return false;
     }
-    let margin = 1e-9 * (radius + centre.abs() + a.x.abs());
-    lower.is_none_or(|l| centre - radius > l + margin) && upper.is_none_or(|u| centre + radius < u - margin)
+    // Clearance of the circle from a bound: positive, and its square beyond the radius'
+    // (squares rather than a square root: this runs for every triangle).
+    let slack = 1e-9 * (centre.abs() + a.x.abs());
+    let clear = |gap: f64| gap > slack && (gap - slack) * (gap - slack) > radius_squared;
+    lower.is_none_or(|l| clear(centre - l)) && upper.is_none_or(|u| clear(u - centre))
 }
 
 /// The triangulation stitched from `strips` vertical strips triangulated in parallel, or
@@ -326,13 +337,9 @@ fn by_strips(positions: &[Point2<f64>], strips: usize) -> Option<Mesh> {
             if dt.num_inner_faces() == 0 {
                 return None;
             }
-            let (triangles, adjacent) = faces_of(&dt);
             let lower = (j > 0).then(|| highest[j - 1]);
             let upper = (j + 1 < strips).then(|| lowest[j + 1]);
-            let fixed = triangles
-                .iter()
-                .map(|t| circle_within(positions[t[0]], positions[t[1]], positions[t[2]], lower, upper))
-                .collect();
+            let (triangles, adjacent, fixed) = faces_of(&dt, |a, b, c| circle_within(a, b, c, lower, upper));
             Some(Strip { triangles, adjacent, fixed, hull: hull_of(&dt), kept: dt.num_vertices() })
         })
         .collect();
@@ -381,7 +388,7 @@ fn by_strips(positions: &[Point2<f64>], strips: usize) -> Option<Mesh> {
     if conflict || cdt.num_vertices() != seam_rows.len() {
         return None;
     }
-    let (seam_triangles, seam_adjacent) = faces_of(&cdt);
+    let (seam_triangles, seam_adjacent, _) = faces_of(&cdt, |_, _, _| true);
     let is_constraint: Vec<[bool; 3]> = cdt
         .inner_faces()
         .map(|face| {
@@ -844,4 +851,3 @@ mod tests {
         }
     }
 }
-
