@@ -14,11 +14,19 @@
 //! "Euclidean Steiner minimum trees: an improved exact algorithm", Networks 30):
 //!
 //! - the bottleneck Steiner distance test: an edge on the tree path between terminals
-//!   `u` and `v` is no longer than the longest edge on the MST path between them;
-//! - the upper bound test: an FST is shorter than the MST of its terminals under the
-//!   bottleneck Steiner distances;
+//!   `u` and `v` is no longer than the longest edge on the MST path between them; applied
+//!   to the two edges at a new Steiner point it cuts the feasible arc down to an interval;
+//! - the upper bound test: an FST, or the subtree below a Steiner point plus a link to it,
+//!   is no longer than the MST of its terminals under the bottleneck Steiner distances;
 //! - the lune test: the lune of an edge (the points closer to both ends than they are to
-//!   each other) holds no terminal.
+//!   each other) holds no terminal;
+//! - the wedge property: the rest of the tree hangs from a Steiner point inside a 120°
+//!   wedge, and each 60° half of it holds a terminal not yet used.
+//!
+//! The tests on a new equilateral point are applied before it is combined with others, as
+//! the combinations are what grow exponentially, and each narrows the feasible arc rather
+//! than only accepting or rejecting it. Every test is a necessary condition for a part of a
+//! Steiner minimum tree, evaluated with its tolerance on the side of keeping a candidate.
 
 use std::collections::HashMap;
 use std::f64::consts::PI;
@@ -119,7 +127,7 @@ impl Bottleneck {
     }
 
     /// Length of the MST of `terminals` under the bottleneck distances.
-    fn mst_length(&self, terminals: &[usize]) -> f64 {
+    pub(crate) fn mst_length(&self, terminals: &[usize]) -> f64 {
         prim_length(terminals.len(), |a, b| self.get(terminals[a], terminals[b]))
     }
 }
@@ -198,13 +206,24 @@ fn arc_parameter(s: Point, centre: Point, theta_q: f64) -> f64 {
 /// first.
 ///
 /// # Runtime
-/// Exponential: the pruning keeps about 10⁴ equilateral points for 12 uniformly spread
-/// terminals, and the count roughly doubles with each further terminal.
+/// Exponential in the worst case. On uniformly spread terminals the pruning keeps a few
+/// hundred equilateral points for 20 terminals (about 0.2–0.7 s) and about 2–5 FSTs per
+/// terminal, and the growth is much slower than doubling per terminal.
 pub(crate) fn full_steiner_trees(points: &[Point], bottleneck: &Bottleneck, deadline: Option<Instant>) -> Option<Vec<FullTree>> {
+    generate(points, bottleneck, deadline, true)
+}
+
+/// [`full_steiner_trees`]; with `prune` false every pruning test is skipped and only the
+/// geometry (feasible arcs, Simpson lines) is kept, which enumerates every FST and serves
+/// the tests as a reference for the pruning.
+fn generate(points: &[Point], bottleneck: &Bottleneck, deadline: Option<Instant>, prune: bool) -> Option<Vec<FullTree>> {
     let n = points.len();
     assert!(n <= 64, "exact Steiner trees are limited to 64 terminals");
-    let mut trees: Vec<FullTree> = bottleneck
-        .mst
+    // A two-terminal FST of a Steiner minimum tree is an MST edge (it is no longer than its
+    // bottleneck Steiner distance); the unpruned reference keeps every pair.
+    let pairs: Vec<[usize; 2]> =
+        if prune { bottleneck.mst.clone() } else { (0..n).flat_map(|u| (u + 1..n).map(move |v| [u, v])).collect() };
+    let mut trees: Vec<FullTree> = pairs
         .iter()
         .map(|&[u, v]| FullTree {
             terminals: vec![u, v],
@@ -249,7 +268,7 @@ pub(crate) fn full_steiner_trees(points: &[Point], bottleneck: &Bottleneck, dead
             let widest = by_size[j].iter().map(|&b| reach(&items[b as usize]).1).fold(0.0, f64::max);
             for (a_pos, &a) in by_size[i].iter().enumerate() {
                 let (pa, far_a) = (items[a as usize].pos, reach(&items[a as usize]).1);
-                let window = 2.0 * longest + far_a + widest + TOL;
+                let window = if prune { 2.0 * longest + far_a + widest + TOL } else { f64::INFINITY };
                 let first = xs.partition_point(|&x| x < pa[0] - window);
                 let last = xs.partition_point(|&x| x <= pa[0] + window);
                 let first = if i == j { first.max(a_pos + 1) } else { first };
@@ -263,7 +282,7 @@ pub(crate) fn full_steiner_trees(points: &[Point], bottleneck: &Bottleneck, dead
                     for v in bits(ib.mask) {
                         closest = closest.min(nearest_bsd[a as usize * n + v]);
                     }
-                    if distance(pa, ib.pos) > 2.0 * closest + far_a + reach(ib).1 + TOL {
+                    if prune && distance(pa, ib.pos) > 2.0 * closest + far_a + reach(ib).1 + TOL {
                         continue;
                     }
                     steps += 1;
@@ -271,7 +290,7 @@ pub(crate) fn full_steiner_trees(points: &[Point], bottleneck: &Bottleneck, dead
                         return None;
                     }
                     for (p, q) in [(a, b), (b, a)] {
-                        if let Some(item) = equilateral(&items, p, q, bottleneck, points, &mut mst_of) {
+                        if let Some(item) = equilateral(&items, p, q, bottleneck, points, &mut mst_of, prune) {
                             fresh.push(item);
                         }
                     }
@@ -295,7 +314,7 @@ pub(crate) fn full_steiner_trees(points: &[Point], bottleneck: &Bottleneck, dead
         let lowest = item.mask.trailing_zeros() as usize;
         for root in 0..lowest {
             if let Some(tree) = close(&items, index, root, points) {
-                if passes_tests(&tree, points, bottleneck) {
+                if !prune || passes_tests(&tree, points, bottleneck) {
                     trees.push(tree);
                 }
             }
@@ -316,6 +335,7 @@ fn equilateral(
     bottleneck: &Bottleneck,
     points: &[Point],
     mst_of: &mut HashMap<u64, f64>,
+    prune: bool,
 ) -> Option<Item> {
     let (ip, iq) = (&items[p as usize], &items[q as usize]);
     let (pp, qq) = (ip.pos, iq.pos);
@@ -355,88 +375,115 @@ fn equilateral(
     };
     hi = hi.min(ARC - chord_limit(near_p)?);
     lo = lo.max(chord_limit(near_q)?);
+    let mask = ip.mask | iq.mask;
+    let item = |lo: f64, hi: f64| Item { mask, pos: e, kind: Kind::Equilateral { kids: [p, q], centre, radius, theta_q, lo, hi } };
+    if !prune {
+        return (hi - lo > ARC_TOL).then(|| item(lo, hi));
+    }
+    // Bottleneck Steiner distance test (Winter and Zachariasen 1997), as a narrowing of the
+    // arc: both edges at the Steiner point s, towards p's side and towards q's side, lie on
+    // the tree path between every terminal u below p and every terminal v below q, so in a
+    // Steiner minimum tree neither is longer than `limit = min bsd(u, v)`. The edge towards
+    // a child ends at the child's own Steiner point, which lies between s and the child's
+    // location on Simpson's line and at most the child's farthest arc distance from that
+    // location; so |s − p| ≤ limit + far_p is necessary (far = 0 for a terminal). With
+    // |s − q| = 2r·sin(u/2) and |s − p| = 2r·sin((2π/3 − u)/2) each bound is an interval of
+    // u, and the arc shrinks to their intersection; the tolerance is added on the safe side.
+    let mut limit = f64::INFINITY;
+    for u in bits(ip.mask) {
+        for v in bits(iq.mask) {
+            limit = limit.min(bottleneck.get(u, v));
+        }
+    }
+    let arc_within = |bound: f64| -> f64 {
+        let x = bound / (2.0 * radius);
+        if x >= 1.0 {
+            PI
+        } else {
+            2.0 * x.asin()
+        }
+    };
+    lo = lo.max(ARC - arc_within(limit + far_p + TOL));
+    hi = hi.min(arc_within(limit + far_q + TOL));
     if hi - lo <= ARC_TOL {
         return None;
     }
-    let mask = ip.mask | iq.mask;
-    // Bottleneck test on the edges from the Steiner point towards each child: at least the
-    // chord to the child's location less the child's farthest arc distance; the edge lies
-    // on the path between every terminal below the child and every terminal of the other
-    // side.
-    for (child, other, shortest) in [
-        (ip, iq, 2.0 * radius * ((ARC - hi) / 2.0).sin() - far_p),
-        (iq, ip, 2.0 * radius * (lo / 2.0).sin() - far_q),
-    ] {
-        if shortest <= TOL {
-            continue;
-        }
-        let mut limit = f64::INFINITY;
-        for u in bits(child.mask) {
-            for v in bits(other.mask) {
-                limit = limit.min(bottleneck.get(u, v));
-            }
-        }
-        if shortest > limit + TOL {
-            return None;
-        }
-    }
-    // A terminal child's edge is at least the chord to the nearest end of the feasible arc,
-    // and lies on the path to every other terminal below.
-    for (child, shortest) in [(ip, 2.0 * radius * ((ARC - hi) / 2.0).sin()), (iq, 2.0 * radius * (lo / 2.0).sin())] {
-        if let Kind::Terminal(t) = child.kind {
-            let limit = bits(mask & !(1u64 << t)).map(|v| bottleneck.get(t, v)).fold(f64::INFINITY, f64::min);
-            if shortest > limit + TOL {
-                return None;
-            }
-        }
-    }
-    // Upper bound test for the subtree below the Steiner point s, of length |s − e| by
-    // Simpson's construction: were it longer than the MST of its terminals plus a link from
-    // s to the nearest of them, that exchange would shorten any tree holding it. The test
-    // must fail at every s of the feasible arc; it is evaluated at SAMPLES points, and as
-    // |s − e| − min_z |s − z| changes by at most twice the arc length between two points,
-    // the half-spacing slack makes the sampled test exact.
-    if mask.count_ones() >= 3 {
-        const SAMPLES: usize = 12;
-        let tree = *mst_of.entry(mask).or_insert_with(|| euclidean_mst_length(points, mask));
-        let step = (hi - lo) / (SAMPLES - 1) as f64;
-        let slack = radius * step;
-        let mut all_too_long = true;
-        for k in 0..SAMPLES {
-            let sample = Kind::arc_point(centre, radius, theta_q, lo + step * k as f64);
-            let mut link = f64::INFINITY;
-            for v in bits(mask) {
-                link = link.min(distance(points[v], sample));
-            }
-            if distance(sample, e) <= tree + link + slack + TOL {
-                all_too_long = false;
-                break;
-            }
-        }
-        if all_too_long {
-            return None;
-        }
-    }
-    // Lune test on the edge from the Steiner point to a terminal child: a terminal closer
-    // to both ends than they are to each other would shorten the tree. It must hold at every
-    // s of the arc; max(|z − s|, |z − t|) − |s − t| changes by at most twice the arc length
-    // between samples, which the slack covers.
-    let samples = 12usize;
-    let step = (hi - lo) / (samples - 1) as f64;
-    let slack = radius * step;
-    for child in [ip, iq] {
-        let Kind::Terminal(t) = child.kind else { continue };
-        let pt = points[t];
-        let always = (0..samples).all(|k| {
-            let sample = Kind::arc_point(centre, radius, theta_q, lo + step * k as f64);
-            let l = distance(sample, pt) - slack - TOL;
-            points.iter().enumerate().any(|(z, &pz)| z != t && distance(pz, sample) < l && distance(pz, pt) < l)
-        });
-        if always {
-            return None;
-        }
-    }
-    Some(Item { mask, pos: e, kind: Kind::Equilateral { kids: [p, q], centre, radius, theta_q, lo, hi } })
+    // The remaining tests are conditions on the Steiner point s that a Steiner minimum tree
+    // meets at its own s all at once. They are checked at SAMPLES points of the arc, each
+    // relaxed by how much its quantity can change within half a sample spacing, so that the
+    // true s (within half a spacing of some sample) makes that sample pass; the arc is then
+    // narrowed to the passing samples, widened by half a spacing, and the equilateral point
+    // dies when none passes.
+    const SAMPLES: usize = 16;
+    let step = (hi - lo) / (SAMPLES - 1) as f64;
+    // Half a spacing moves s along the circle by at most `shift` and turns every direction
+    // from s to a fixed point of the circle (e, p, q) by `step / 4` (inscribed angles).
+    let shift = radius * step / 2.0;
+    let turn = step / 4.0;
+    // Upper bound test (Winter and Zachariasen 1997) for the subtree below s, of length
+    // |s − e| by Simpson's construction: deleting it leaves each terminal below s in its own
+    // component and s with the rest; a link from s to the nearest terminal below it plus
+    // the MST of those terminals under bottleneck Steiner distances reconnects everything
+    // (each bottleneck edge is realised by an MST edge between two components), so in a
+    // Steiner minimum tree |s − e| ≤ bsd-MST + min_z |s − z|. Both sides change by at most
+    // `shift` over half a spacing.
+    let bsd_tree = *mst_of.entry(mask).or_insert_with(|| bottleneck.mst_length(&bits(mask).collect::<Vec<_>>()));
+    let upper_bound_holds = |s: Point| {
+        let link = bits(mask).map(|v| distance(points[v], s)).fold(f64::INFINITY, f64::min);
+        distance(s, e) <= bsd_tree + link + 2.0 * shift + TOL
+    };
+    // Lune test on the edge from s to a terminal child t: a terminal z with |z − t| and
+    // |z − s| both below |s − t| would replace the longest edge of the cycle s–t–z (Gilbert
+    // and Pollak 1968), so an empty lune is necessary. Moving s by `shift` changes |s − t|
+    // and |z − s| by at most `shift` each.
+    let lune_is_empty = |s: Point| {
+        [ip, iq].iter().all(|child| {
+            let Kind::Terminal(t) = child.kind else { return true };
+            let pt = points[t];
+            let l = distance(s, pt) - 2.0 * shift - TOL;
+            !points.iter().enumerate().any(|(z, &pz)| z != t && distance(pz, s) < l && distance(pz, pt) < l)
+        })
+    };
+    // Wedge property (Winter and Zachariasen 1997): the rest of the tree hangs from s by the
+    // edge along d = s − e (Simpson's line). Walking from s into it and always taking the
+    // branch that turns back (every Steiner point turns a path by ±60°), the edge directions
+    // stay within d and d + 60° (or within d − 60° and d); the walk ends at a terminal, which
+    // therefore lies in each of the two closed 60° cones at s between d and the extensions
+    // s − p and s − q of the child edges. Those terminals are not below s. Over half a
+    // spacing the cones turn by `turn` and the direction from s to a terminal z by at most
+    // asin(shift / |z − s|); terminals within `shift` count as inside.
+    // The angle from d to s − p is the same ±60° at every s of the circle (inscribed
+    // angles); it is read once at the middle of the whole arc, far from p and q, because
+    // s − p has no direction when s is at p.
+    let middle = Kind::arc_point(centre, radius, theta_q, ARC / 2.0);
+    let side_p = signed_angle(sub(middle, e), sub(middle, pp)).signum() * (PI / 3.0);
+    let wedge_holds = |s: Point| {
+        let d = sub(s, e);
+        [side_p, -side_p].iter().all(|&alpha| {
+            bits(!mask & low_bits(points.len())).any(|z| {
+                let w = sub(points[z], s);
+                let gap = dot(w, w).sqrt();
+                if gap <= shift + TOL {
+                    return true;
+                }
+                let slack = turn + (shift / gap).min(1.0).asin() + ARC_TOL;
+                let phi = signed_angle(d, w);
+                if alpha > 0.0 {
+                    phi >= -slack && phi <= alpha + slack
+                } else {
+                    phi <= slack && phi >= alpha - slack
+                }
+            })
+        })
+    };
+    let passing = |k: usize| {
+        let s = Kind::arc_point(centre, radius, theta_q, lo + step * k as f64);
+        upper_bound_holds(s) && lune_is_empty(s) && wedge_holds(s)
+    };
+    let first = (0..SAMPLES).find(|&k| passing(k))?;
+    let last = (first..SAMPLES).rev().find(|&k| passing(k)).unwrap_or(first);
+    let (lo, hi) = (lo.max(lo + step * (first as f64 - 0.5)), hi.min(lo + step * (last as f64 + 0.5)));
+    Some(item(lo, hi))
 }
 
 /// The indices of the set bits of `mask`, ascending.
@@ -449,6 +496,15 @@ fn bits(mask: u64) -> impl Iterator<Item = usize> {
             v
         })
     })
+}
+
+/// The mask of terminals `0..n`.
+fn low_bits(n: usize) -> u64 {
+    if n >= 64 {
+        u64::MAX
+    } else {
+        (1u64 << n) - 1
+    }
 }
 
 /// Append the smallest bottleneck distance from the terminals of `mask` to each terminal.
@@ -472,12 +528,6 @@ fn reach(item: &Item) -> (f64, f64) {
     let near = at(lo).min(at(hi));
     let far = if lo <= PI / 3.0 && PI / 3.0 <= hi { 2.0 * radius } else { at(lo).max(at(hi)) };
     (near, far)
-}
-
-/// Length of the Euclidean MST of the terminals in `mask`.
-fn euclidean_mst_length(points: &[Point], mask: u64) -> f64 {
-    let members: Vec<usize> = (0..points.len()).filter(|&v| mask >> v & 1 == 1).collect();
-    prim_length(members.len(), |a, b| distance(points[members[a]], points[members[b]]))
 }
 
 /// The FST rooted at terminal `root` through equilateral point `top`, when every Steiner
@@ -638,5 +688,60 @@ mod tests {
         assert_eq!(b.get(0, 1), 1.0);
         assert_eq!(b.get(0, 3), 2.0);
         assert_eq!(b.get(2, 3), 0.5);
+    }
+}
+
+#[cfg(test)]
+mod pruning_properties {
+    use super::*;
+    use proptest::prelude::*;
+
+    /// Length of the concatenation of `trees` on `n` terminals, proven optimal.
+    fn concatenated_length(n: usize, trees: &[FullTree]) -> f64 {
+        let (chosen, proven) = crate::network::steiner::concatenate::concatenate(n, trees, None).unwrap();
+        assert!(proven);
+        chosen.iter().map(|&i| trees[i].length).sum()
+    }
+
+    /// Compare the tree from the pruned FSTs with the tree from every FST.
+    fn pruning_keeps_the_optimum(points: &[Point]) -> Result<(), String> {
+        let b = Bottleneck::new(points);
+        let pruned = full_steiner_trees(points, &b, None).unwrap();
+        let every = generate(points, &b, None, false).unwrap();
+        let (short, reference) = (concatenated_length(points.len(), &pruned), concatenated_length(points.len(), &every));
+        if pruned.len() > every.len() || (short - reference).abs() > 1e-9 * reference {
+            return Err(format!("{} pruned FSTs give {short}, all {} give {reference}", pruned.len(), every.len()));
+        }
+        Ok(())
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig { cases: 24, ..ProptestConfig::default() })]
+
+        /// The pruning tests are necessary conditions only: on small sets the Steiner minimum
+        /// tree concatenated from the pruned FSTs is as short as the one from every FST
+        /// (the unpruned enumeration of Melzak's method, which is exact by construction).
+        #[test]
+        fn pruning_never_loses_the_steiner_minimum_tree(
+            points in prop::collection::vec((0.0f64..1.0, 0.0f64..1.0).prop_map(|(x, y)| [x, y]), 5..=8)
+        ) {
+            prop_assert!(pruning_keeps_the_optimum(&points).is_ok(), "{:?}", pruning_keeps_the_optimum(&points));
+        }
+
+        /// The same on lattice points, where collinear and cocircular terminals put the
+        /// tests on their tolerances.
+        #[test]
+        fn pruning_never_loses_the_steiner_minimum_tree_on_a_lattice(
+            raw in prop::collection::vec((0u8..6, 0u8..6).prop_map(|(x, y)| [f64::from(x) / 8.0, f64::from(y) / 8.0]), 5..=9)
+        ) {
+            let mut points: Vec<Point> = Vec::new();
+            for p in raw {
+                if !points.contains(&p) {
+                    points.push(p);
+                }
+            }
+            prop_assume!(points.len() >= 4);
+            prop_assert!(pruning_keeps_the_optimum(&points).is_ok(), "{:?}", pruning_keeps_the_optimum(&points));
+        }
     }
 }
