@@ -476,9 +476,25 @@ fn equilateral(
             })
         })
     };
+    // Bottleneck test on an edge from s to a child's Steiner point s', which Simpson's line
+    // puts where the ray from the child's location c towards s leaves the child's circle:
+    // |s − s'| = |s − c| − |s' − c|, and |s' − c| is the chord 2r'·cos ψ of the child's
+    // circle at angle ψ from the diameter through c. Over half a spacing |s − c| drops by
+    // at most `shift` and the ray turns by at most `turn` (c is on the circle of s), so the
+    // chord is at most 2r'·cos(max(0, ψ − turn)); the edge is on the paths between the
+    // two sides, so it is at most `limit` in a Steiner minimum tree.
+    let child_edges_hold = |s: Point| {
+        [(ip, pp), (iq, qq)].iter().all(|&(child, at)| {
+            let Kind::Equilateral { centre: c, radius: r, .. } = child.kind else { return true };
+            let ray = sub(s, at);
+            let psi = signed_angle(sub(c, at), ray).abs();
+            let chord = if psi - turn >= PI / 2.0 { 0.0 } else { 2.0 * r * (psi - turn).max(0.0).cos() };
+            dot(ray, ray).sqrt() - shift - chord <= limit + TOL
+        })
+    };
     let passing = |k: usize| {
         let s = Kind::arc_point(centre, radius, theta_q, lo + step * k as f64);
-        upper_bound_holds(s) && lune_is_empty(s) && wedge_holds(s)
+        child_edges_hold(s) && upper_bound_holds(s) && lune_is_empty(s) && wedge_holds(s)
     };
     let first = (0..SAMPLES).find(|&k| passing(k))?;
     let last = (first..SAMPLES).rev().find(|&k| passing(k)).unwrap_or(first);
