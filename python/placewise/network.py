@@ -246,7 +246,7 @@ def steiner_tree(
         Site locations (planar coordinates).
     exact : bool, optional
         True: exact (at most 64 distinct points; uniformly spread ones take about 1 ms for
-        10, at most 0.6 s for 20, 1.5 s for 25 and 10 s for 30); False: heuristic; None
+        10, at most about 2 s for 20 and 25, 10 s for 30); False: heuristic; None
         (default): exact when the point count allows an answer within seconds (up to 24
         distinct points, trying for 5 s unless ``time_limit`` says otherwise), else the
         heuristic.

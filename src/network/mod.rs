@@ -102,7 +102,7 @@ impl Default for SteinerOptions {
 }
 
 /// Largest distinct terminal count that [`SteinerMethod::Auto`] tries exactly: uniformly
-/// spread sets of this size are proven optimal in about 0.1–1.5 s, well inside
+/// spread sets of this size are proven optimal in about 0.1–2 s, inside
 /// [`AUTO_BUDGET`]; clustered or unlucky ones that are not fall back to the heuristic.
 pub const AUTO_EXACT_TERMINALS: usize = 24;
 /// Default time budget (seconds) of an automatic exact attempt.
@@ -154,7 +154,7 @@ impl SteinerTree {
 /// # Runtime
 /// Heuristic: O(n log n) per insertion round, a handful of rounds, then position
 /// re-optimisation (O(n) per iteration). Exact: exponential in the worst case; uniformly
-/// spread terminals take about 1 ms for 10, 0.01–0.15 s for 16, 0.06–0.6 s for 20,
+/// spread terminals take about 1–10 ms for 10–14, 0.01–0.15 s for 16, 0.01–2 s for 20,
 /// 0.1–1.5 s for 25 and 0.5–10 s for 30 (full Steiner tree generation dominates).
 pub fn steiner_tree(points: &[Point], options: &SteinerOptions) -> Result<SteinerTree> {
     validate_points("points", points, 1)?;
