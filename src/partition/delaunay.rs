@@ -12,7 +12,7 @@ use rayon::prelude::*;
 use spade::{ConstrainedDelaunayTriangulation, DelaunayTriangulation, HasPosition, Point2, Triangulation as SpadeTriangulation};
 
 use crate::error::{Error, Result};
-use crate::geometry::predicates::incircle;
+use crate::geometry::predicates::{incircle, orient2d};
 use crate::geometry::{validate_points, Point};
 
 /// A Delaunay triangulation, indexed by input point.
@@ -230,12 +230,129 @@ fn hull_of<T: SpadeTriangulation<Vertex = Vertex>>(dt: &T) -> Vec<usize> {
     hull
 }
 
+/// The Delaunay triangulation of `vertices` by the faster construction that suits them.
+///
+/// spade's circle sweep is the fastest on generic clouds, but it sets aside every point that
+/// lies on a line through the sweep's centre and inserts those one by one from scratch at
+/// the end, which is quadratic for points on a few long lines (transects, raster rows,
+/// rounded coordinates): 40,000 points on three lines took a minute. Such input is recognised
+/// by repeated coordinate values in a sample and triangulated by incremental insertion in a
+/// biased randomised insertion order instead (Amenta, Choi & Rote 2003): rounds of doubling
+/// size in random order, each round sorted along a Hilbert curve, every insertion walking
+/// from the previous vertex. Its expected work is O(n log n) whatever the configuration
+/// (Clarkson & Shor 1989).
+fn triangulate(vertices: Vec<Vertex>) -> Option<DelaunayTriangulation<Vertex>> {
+    if !lies_on_lines(&vertices) {
+        return DelaunayTriangulation::bulk_load(vertices).ok();
+    }
+    let n = vertices.len();
+    let (mut low, mut high) = ([f64::INFINITY; 2], [f64::NEG_INFINITY; 2]);
+    for v in &vertices {
+        let p = v.position;
+        low = [low[0].min(p.x), low[1].min(p.y)];
+        high = [high[0].max(p.x), high[1].max(p.y)];
+    }
+    let cells = f64::from(HILBERT_SIDE - 1);
+    let per_unit = [0, 1].map(|k| if high[k] > low[k] { cells / (high[k] - low[k]) } else { 0.0 });
+    let cell = |c: f64, k: usize| (((c - low[k]) * per_unit[k]) as u32).min(HILBERT_SIDE - 1);
+    let rounds = usize::BITS - n.leading_zeros();
+    let mut random = crate::geometry::random::SplitMix64::new(0x5eed_de1a_0a7e);
+    let mut order: Vec<(u32, u64, u32)> = vertices
+        .iter()
+        .enumerate()
+        .map(|(i, v)| {
+            // Round r (counted from the last, largest one) holds each point with probability
+            // 2^-(r+1): the trailing ones of a random word.
+            let r = random.next_u64().trailing_ones().min(rounds);
+            (rounds - r, hilbert_index(cell(v.position.x, 0), cell(v.position.y, 1)), i as u32)
+        })
+        .collect();
+    order.sort_unstable();
+    let mut dt = DelaunayTriangulation::<Vertex>::with_capacity(n, 3 * n, 2 * n);
+    let mut previous = None;
+    for &(_, _, i) in &order {
+        let v = vertices[i as usize];
+        previous = Some(match previous {
+            Some(hint) => dt.insert_with_hint(v, hint).ok()?,
+            None => dt.insert(v).ok()?,
+        });
+    }
+    Some(dt)
+}
+
+/// Cells per side of the Hilbert curve's grid.
+const HILBERT_SIDE: u32 = 1 << 16;
+
+/// Position of cell `(x, y)` along the Hilbert curve (Hilbert 1891) filling the
+/// `HILBERT_SIDE`² grid, by the classic quadrant-by-quadrant rotation.
+fn hilbert_index(mut x: u32, mut y: u32) -> u64 {
+    let mut index = 0u64;
+    let mut s = HILBERT_SIDE / 2;
+    while s > 0 {
+        let rx = u32::from(x & s > 0);
+        let ry = u32::from(y & s > 0);
+        index += u64::from(s) * u64::from(s) * u64::from((3 * rx) ^ ry);
+        if ry == 0 {
+            if rx == 1 {
+                x = HILBERT_SIDE - 1 - x;
+                y = HILBERT_SIDE - 1 - y;
+            }
+            std::mem::swap(&mut x, &mut y);
+        }
+        s /= 2;
+    }
+    index
+}
+
+/// Whether many points share an x or a y value: in an evenly spaced sample of up to 4,096
+/// points, more than a quarter repeat another sample point's x, or its y. (Generic clouds
+/// repeat none.)
+fn lies_on_lines(vertices: &[Vertex]) -> bool {
+    const SAMPLE: usize = 4096;
+    let n = vertices.len();
+    if n < 64 {
+        return false;
+    }
+    let picked: Vec<Point2<f64>> = (0..SAMPLE.min(n)).map(|i| vertices[i * n / SAMPLE.min(n)].position).collect();
+    [0, 1].into_iter().any(|axis| {
+        let mut values: Vec<f64> = picked.iter().map(|p| if axis == 0 { p.x } else { p.y }).collect();
+        values.sort_unstable_by(f64::total_cmp);
+        let repeated = (0..values.len())
+            .filter(|&i| (i > 0 && values[i - 1] == values[i]) || (i + 1 < values.len() && values[i + 1] == values[i]))
+            .count();
+        4 * repeated > values.len()
+    })
+}
+
+/// Whether all positions lie on one line (or one point), by the exact orientation test.
+fn collinear(mut positions: impl Iterator<Item = Point2<f64>> + Clone) -> bool {
+    let at = |p: Point2<f64>| [p.x, p.y];
+    let mut probe = positions.clone();
+    let Some(a) = probe.next() else { return true };
+    let Some(b) = probe.find(|&p| p != a) else { return true };
+    positions.all(|c| orient2d(at(a), at(b), at(c)) == 0.0)
+}
+
 /// All points triangulated at once, with the errors of [`delaunay`].
 fn whole(positions: &[Point2<f64>]) -> Result<Mesh> {
+    // Refused before spade sees it: spade inserts collinear points one by one along its line,
+    // which is quadratic.
+    if collinear(positions.iter().copied()) {
+        let mut distinct: Vec<(u64, u64)> = positions.iter().map(|&p| position_key(p)).collect();
+        distinct.sort_unstable();
+        distinct.dedup();
+        if distinct.len() < 3 {
+            return Err(Error::TooFewPoints { argument: "points", needed: 3, got: distinct.len(), counted: "distinct points" });
+        }
+        return Err(Error::Degenerate {
+            argument: "points",
+            reason: "all points are collinear, so no triangle exists".into(),
+        });
+    }
     let vertices: Vec<Vertex> = positions.iter().enumerate().map(|(row, &position)| Vertex { position, row }).collect();
-    let dt: DelaunayTriangulation<Vertex> = DelaunayTriangulation::bulk_load(vertices).map_err(|e| {
+    let dt = triangulate(vertices).ok_or_else(|| {
         // Unreachable after validation and scaling; reported rather than unwrapped.
-        Error::Degenerate { argument: "points", reason: format!("coordinates rejected by the triangulator ({e})") }
+        Error::Degenerate { argument: "points", reason: "coordinates rejected by the triangulator".into() }
     })?;
     let kept = dt.num_vertices();
     if kept < 3 {
@@ -277,7 +394,10 @@ fn circle_within(a: Point2<f64>, b: Point2<f64>, c: Point2<f64>, lower: Option<f
     }
     // Clearance of the circle from a bound: positive, and its square beyond the radius'
     // (squares rather than a square root: this runs for every triangle).
-    let slack = 1e-9 * (centre.abs() + a.x.abs());
+    // The rounding of the centre's x is a few units in the last place of the coordinates
+    // (the radius' relative error is covered by the factor above); the bound test then
+    // needs only that much slack, even far from the origin.
+    let slack = 1e-14 * (centre.abs() + a.x.abs() + lower.unwrap_or(0.0).abs() + upper.unwrap_or(0.0).abs());
     let clear = |gap: f64| gap > slack && (gap - slack) * (gap - slack) > radius_squared;
     lower.is_none_or(|l| clear(centre - l)) && upper.is_none_or(|u| clear(u - centre))
 }
@@ -333,7 +453,10 @@ fn by_strips(positions: &[Point2<f64>], strips: usize) -> Option<Mesh> {
         .into_par_iter()
         .enumerate()
         .map(|(j, vertices)| {
-            let dt: DelaunayTriangulation<Vertex> = DelaunayTriangulation::bulk_load(vertices).ok()?;
+            if collinear(vertices.iter().map(|v| v.position)) {
+                return None;
+            }
+            let dt = triangulate(vertices)?;
             if dt.num_inner_faces() == 0 {
                 return None;
             }
@@ -366,6 +489,11 @@ fn by_strips(positions: &[Point2<f64>], strips: usize) -> Option<Mesh> {
         }
     }
     let seam_rows: Vec<usize> = (0..n).filter(|&v| on_seam[v]).collect();
+    if 2 * seam_rows.len() > n {
+        // Most triangles cross the cuts (points on a circle, two long lines): stitching
+        // would redo nearly everything, so the cloud is triangulated whole.
+        return None;
+    }
     let mut seam_index = vec![u32::MAX; n];
     for (i, &v) in seam_rows.iter().enumerate() {
         seam_index[v] = i as u32;
@@ -757,6 +885,51 @@ mod tests {
     fn positions(points: &[Point]) -> Vec<Point2<f64>> {
         let scale = Scale::of(points);
         points.iter().map(|&p| scale.apply(p)).collect()
+    }
+
+    #[test]
+    fn points_on_few_lines_take_the_randomised_insertion() {
+        // Three columns and two rows of points: the sweep's worst case. Checked by Euler's
+        // counts and the exact empty-circumcircle test.
+        let mut s = 3u64;
+        let mut next = || {
+            s = s.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+            (s >> 11) as f64 / (1u64 << 53) as f64
+        };
+        let columns: Vec<Point> = (0..6000).map(|i| [(i % 3) as f64, next()]).collect();
+        let rows: Vec<Point> = (0..6000).map(|i| [next() * 100.0, (i % 2) as f64]).collect();
+        for pts in [columns, rows] {
+            let vertices: Vec<Vertex> =
+                positions(&pts).into_iter().enumerate().map(|(row, position)| Vertex { position, row }).collect();
+            assert!(lies_on_lines(&vertices));
+            let t = delaunay(&pts).unwrap();
+            check_triangulation(&pts, &t).unwrap();
+        }
+        let generic: Vec<Vertex> = positions(&lcg_cloud(5000, 4, [0.0, 0.0]))
+            .into_iter()
+            .enumerate()
+            .map(|(row, position)| Vertex { position, row })
+            .collect();
+        assert!(!lies_on_lines(&generic));
+    }
+
+    #[test]
+    fn hilbert_curve_visits_the_corner_square_cell_by_cell() {
+        // Property of the Hilbert curve (Hilbert 1891): its first 4^k cells fill a
+        // 2^k × 2^k corner square, and consecutive cells share a side.
+        let side = 64u32;
+        let mut by_index = vec![None; (side * side) as usize];
+        for x in 0..side {
+            for y in 0..side {
+                let i = hilbert_index(x, y) as usize;
+                assert!(i < by_index.len() && by_index[i].is_none(), "cell ({x}, {y}) -> {i}");
+                by_index[i] = Some((x as i64, y as i64));
+            }
+        }
+        for pair in by_index.windows(2) {
+            let ((x0, y0), (x1, y1)) = (pair[0].unwrap(), pair[1].unwrap());
+            assert_eq!((x0 - x1).abs() + (y0 - y1).abs(), 1);
+        }
     }
 
     #[test]
