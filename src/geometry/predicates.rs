@@ -30,9 +30,16 @@ pub fn incircle(a: Point, b: Point, c: Point, d: Point) -> f64 {
 
 /// True when every point lies on one line (fewer than three points count as collinear).
 pub fn all_collinear(points: &[Point]) -> bool {
-    let Some(&a) = points.first() else { return true };
-    let Some(&b) = points.iter().find(|&&p| p != a) else { return true };
-    points.iter().all(|&c| orient2d(a, b, c) == 0.0)
+    all_collinear_in(points.iter().copied())
+}
+
+/// [`all_collinear`] over points yielded by an iterator (for callers that hold them in
+/// another layout); the iterator is walked at most twice.
+pub fn all_collinear_in(mut points: impl Iterator<Item = Point> + Clone) -> bool {
+    let mut probe = points.clone();
+    let Some(a) = probe.next() else { return true };
+    let Some(b) = probe.find(|&p| p != a) else { return true };
+    points.all(|c| orient2d(a, b, c) == 0.0)
 }
 
 #[cfg(test)]

@@ -170,10 +170,12 @@ pub fn steiner_tree(points: &[Point], options: &SteinerOptions) -> Result<Steine
         });
     }
     let (mut frame, mut local) = Frame::of(&distinct.points);
-    if distinct.merge_nearly_coincident(&local)? {
+    let mut mst_edges = mst::mst_edges(&local)?;
+    if distinct.merge_nearly_coincident(&local, &mst_edges) {
         (frame, local) = Frame::of(&distinct.points);
+        mst_edges = mst::mst_edges(&local)?;
     }
-    let (net, optimal) = solve_distinct(&local, options)?;
+    let (net, optimal) = solve_distinct(&local, mst_edges, options)?;
     Ok(distinct.expand(points, &frame, &net, optimal))
 }
 
@@ -204,15 +206,15 @@ fn validate_options(options: &SteinerOptions) -> Result<()> {
     Ok(())
 }
 
-/// Solve on distinct, normalised terminals: the tree and whether it is proven optimal.
-fn solve_distinct(local: &[Point], options: &SteinerOptions) -> Result<(Network, bool)> {
+/// Solve on distinct, normalised terminals, given their minimum spanning tree: the tree and
+/// whether it is proven optimal.
+fn solve_distinct(local: &[Point], mst_edges: Vec<[usize; 2]>, options: &SteinerOptions) -> Result<(Network, bool)> {
     let n = local.len();
     let chain = |edges: Vec<[usize; 2]>| Network { nodes: local.to_vec(), terminal_count: n, edges };
     if n < 3 || all_collinear(local) {
         // A Steiner point would need an angle below 120° between terminals; on a line there is none.
-        return Ok((chain(mst::mst_edges(local)?), true));
+        return Ok((chain(mst_edges), true));
     }
-    let mst_edges = mst::mst_edges(local)?;
     let exact = match options.method {
         SteinerMethod::Exact => true,
         SteinerMethod::Heuristic => false,
@@ -281,20 +283,19 @@ impl Distinct {
     }
 
     /// Merge locations closer than [`NEARLY_COINCIDENT`] (`local`: the locations in the
-    /// normalised frame) into the earliest of them, as if repeated: their rows are then
-    /// chained by direct edges of that tiny length. Such pairs are edges of the minimum
-    /// spanning tree, so only its edges are examined. Returns whether any were merged.
+    /// normalised frame, `mst_edges` their minimum spanning tree) into the earliest of them,
+    /// as if repeated: their rows are then chained by direct edges of that tiny length. Such
+    /// pairs are edges of the minimum spanning tree, so only its edges are examined.
+    /// Returns whether any were merged.
     ///
     /// The tree is longer than the optimum by at most the merged distances (1e-12 of the
     /// extent), which is below the solvers' own tolerances; without the merge a Steiner point
     /// could be left on top of two such terminals with four edges.
-    fn merge_nearly_coincident(&mut self, local: &[Point]) -> Result<bool> {
-        let close: Vec<[usize; 2]> = mst::mst_edges(local)?
-            .into_iter()
-            .filter(|&[a, b]| distance(local[a], local[b]) <= NEARLY_COINCIDENT)
-            .collect();
+    fn merge_nearly_coincident(&mut self, local: &[Point], mst_edges: &[[usize; 2]]) -> bool {
+        let close: Vec<[usize; 2]> =
+            mst_edges.iter().copied().filter(|&[a, b]| distance(local[a], local[b]) <= NEARLY_COINCIDENT).collect();
         if close.is_empty() {
-            return Ok(false);
+            return false;
         }
         let mut sets = UnionFind::new(local.len());
         for &[a, b] in &close {
@@ -324,7 +325,7 @@ impl Distinct {
         }
         self.points = points;
         self.rows = rows;
-        Ok(true)
+        true
     }
 
     /// The tree on the input rows: Steiner points back in input coordinates, each repeated

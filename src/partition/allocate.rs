@@ -255,11 +255,8 @@ mod tests {
     #[test]
     fn loads_and_cost_are_bit_identical_on_any_thread_count() {
         // Deterministic output: the sums do not depend on how the work is scheduled.
-        let mut s = 5u64;
-        let mut next = || {
-            s = s.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
-            (s >> 11) as f64 / (1u64 << 53) as f64
-        };
+        let mut random = crate::geometry::random::SplitMix64::new(5);
+        let mut next = || random.next_f64();
         let pts: Vec<Point> = (0..300_000).map(|_| [next(), next()]).collect();
         let w: Vec<f64> = (0..pts.len()).map(|_| next() * 10.0).collect();
         let sites: Vec<Point> = (0..100).map(|_| [next(), next()]).collect();

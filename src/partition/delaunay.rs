@@ -12,7 +12,7 @@ use rayon::prelude::*;
 use spade::{ConstrainedDelaunayTriangulation, DelaunayTriangulation, HasPosition, Point2, Triangulation as SpadeTriangulation};
 
 use crate::error::{Error, Result};
-use crate::geometry::predicates::{incircle, orient2d};
+use crate::geometry::predicates::{all_collinear_in, incircle};
 use crate::geometry::{validate_points, Point};
 
 /// A Delaunay triangulation, indexed by input point.
@@ -325,12 +325,8 @@ fn lies_on_lines(vertices: &[Vertex]) -> bool {
 }
 
 /// Whether all positions lie on one line (or one point), by the exact orientation test.
-fn collinear(mut positions: impl Iterator<Item = Point2<f64>> + Clone) -> bool {
-    let at = |p: Point2<f64>| [p.x, p.y];
-    let mut probe = positions.clone();
-    let Some(a) = probe.next() else { return true };
-    let Some(b) = probe.find(|&p| p != a) else { return true };
-    positions.all(|c| orient2d(at(a), at(b), at(c)) == 0.0)
+fn collinear(positions: impl Iterator<Item = Point2<f64>> + Clone) -> bool {
+    all_collinear_in(positions.map(|p| [p.x, p.y]))
 }
 
 /// All points triangulated at once, with the errors of [`delaunay`].
@@ -583,6 +579,7 @@ fn by_strips(positions: &[Point2<f64>], strips: usize) -> Option<Mesh> {
         })
         .collect();
     let seam_first = count;
+    first_of_strip.push(seam_first);
     let mut seam_number = vec![usize::MAX; seam_triangles.len()];
     for t in (0..seam_triangles.len()).filter(|&t| in_seam[t]) {
         seam_number[t] = count;
@@ -602,7 +599,7 @@ fn by_strips(positions: &[Point2<f64>], strips: usize) -> Option<Mesh> {
         let mut rest_adjacent: &mut [[Option<usize>; 3]] = &mut adjacent[..seam_first];
         let mut parts = Vec::with_capacity(strips);
         for (j, s) in built.iter().enumerate() {
-            let size = numbering[j].iter().filter(|&&g| g != usize::MAX).count();
+            let size = first_of_strip[j + 1] - first_of_strip[j];
             let (head, tail) = rest.split_at_mut(size);
             let (head_adjacent, tail_adjacent) = rest_adjacent.split_at_mut(size);
             rest = tail;
@@ -891,13 +888,9 @@ mod tests {
     fn points_on_few_lines_take_the_randomised_insertion() {
         // Three columns and two rows of points: the sweep's worst case. Checked by Euler's
         // counts and the exact empty-circumcircle test.
-        let mut s = 3u64;
-        let mut next = || {
-            s = s.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
-            (s >> 11) as f64 / (1u64 << 53) as f64
-        };
-        let columns: Vec<Point> = (0..6000).map(|i| [(i % 3) as f64, next()]).collect();
-        let rows: Vec<Point> = (0..6000).map(|i| [next() * 100.0, (i % 2) as f64]).collect();
+        let mut random = crate::geometry::random::SplitMix64::new(3);
+        let columns: Vec<Point> = (0..6000).map(|i| [(i % 3) as f64, random.next_f64()]).collect();
+        let rows: Vec<Point> = (0..6000).map(|i| [random.next_f64() * 100.0, (i % 2) as f64]).collect();
         for pts in [columns, rows] {
             let vertices: Vec<Vertex> =
                 positions(&pts).into_iter().enumerate().map(|(row, position)| Vertex { position, row }).collect();
