@@ -64,6 +64,16 @@ pub enum Error {
         /// What is wrong, as a sentence fragment.
         reason: String,
     },
+    /// A point repeats the location of an earlier one where every point needs its own
+    /// location (Voronoi sites): `sites[1] repeats sites[0]`.
+    RepeatedPoint {
+        /// Argument name, e.g. `"sites"`.
+        argument: &'static str,
+        /// Row of the repeat.
+        row: usize,
+        /// Row of the earlier point at the same location.
+        first: usize,
+    },
     /// A tuning parameter is out of range.
     InvalidParameter {
         /// Parameter name, e.g. `"tol"`.
@@ -84,7 +94,7 @@ impl Error {
     /// True when the input is well-formed but geometrically degenerate for the kernel.
     pub fn is_degenerate(&self) -> bool {
         match self {
-            Error::Degenerate { .. } | Error::TooFewPoints { .. } => true,
+            Error::Degenerate { .. } | Error::TooFewPoints { .. } | Error::RepeatedPoint { .. } => true,
             Error::InGroup { source, .. } => source.is_degenerate(),
             _ => false,
         }
@@ -106,33 +116,127 @@ fn describe_non_finite(value: f64) -> &'static str {
     }
 }
 
-impl fmt::Display for Error {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+/// How an error names rows and groups in its message.
+///
+/// The kernels know rows by position and groups by their integer label; a caller that knows
+/// the user's own names (a DataFrame's index labels, the values of a group column) supplies
+/// a namer so that the message speaks of those instead. One message layout serves both.
+pub trait Namer {
+    /// The name of row `row` of `argument`, as written inside brackets: `17` or `'clinic-17'`.
+    fn row(&self, argument: &str, row: usize) -> String;
+    /// The name of the group with integer label `label`: `7` or `'north'`.
+    fn group(&self, label: i64) -> String;
+}
+
+/// Rows and groups named by their positions and integer labels.
+pub struct Positions;
+
+impl Namer for Positions {
+    fn row(&self, _argument: &str, row: usize) -> String {
+        row.to_string()
+    }
+    fn group(&self, label: i64) -> String {
+        label.to_string()
+    }
+}
+
+/// A number for a message: integral values without a fraction, others in full precision.
+fn plain(value: f64) -> String {
+    if value.is_finite() && value == value.trunc() && value.abs() < 1e15 {
+        format!("{}", value as i64)
+    } else {
+        format!("{value}")
+    }
+}
+
+impl Error {
+    /// The message, with rows and groups named by `namer`.
+    pub fn describe(&self, namer: &dyn Namer) -> String {
         match self {
-            Error::NonFiniteCoordinate { argument, index, value } => write!(
-                f,
-                "{argument}[{index}] has {} coordinate; every coordinate must be finite",
+            Error::NonFiniteCoordinate { argument, index, value } => format!(
+                "{argument}[{}] has {} coordinate; every coordinate must be finite",
+                namer.row(argument, *index),
                 describe_non_finite(*value)
             ),
-            Error::InvalidWeight { argument, index, value } => write!(
-                f,
-                "{argument} must be finite and >= 0; {argument}[{index}] = {value:?}"
+            Error::InvalidWeight { argument, index, value } => format!(
+                "{argument} must be finite and >= 0; {argument}[{}] = {}",
+                namer.row(argument, *index),
+                plain(*value)
             ),
             Error::AllWeightsZero { argument } => {
-                write!(f, "{argument} are all zero; at least one weight must be positive")
+                format!("{argument} are all zero; at least one weight must be positive")
             }
-            Error::LengthMismatch { argument, expected, got } => write!(
-                f,
-                "{argument} must have one entry per point ({expected}); got {got}"
+            Error::LengthMismatch { argument, expected, got } => {
+                format!("{argument} must have one entry per point ({expected}); got {got}")
+            }
+            Error::TooFewPoints { argument, needed, got, counted } => {
+                format!("{argument} must hold at least {needed} {counted}; got {got}")
+            }
+            Error::Degenerate { argument, reason } => format!("{argument}: {reason}"),
+            Error::RepeatedPoint { argument, row, first } => format!(
+                "{argument}: {argument}[{}] repeats {argument}[{}]; every site needs its own location",
+                namer.row(argument, *row),
+                namer.row(argument, *first)
             ),
-            Error::TooFewPoints { argument, needed, got, counted } => write!(
-                f,
-                "{argument} must hold at least {needed} {counted}; got {got}"
-            ),
-            Error::Degenerate { argument, reason } => write!(f, "{argument}: {reason}"),
-            Error::InvalidParameter { name, reason } => write!(f, "{name}: {reason}"),
-            Error::InGroup { label, source } => write!(f, "group {label}: {source}"),
+            Error::InvalidParameter { name, reason } => format!("{name}: {reason}"),
+            Error::InGroup { label, source } => format!("group {}: {}", namer.group(*label), source.describe(namer)),
         }
+    }
+
+    /// The argument the error concerns (`"points"`, `"weights"`, `"p"`, ...).
+    pub fn argument(&self) -> &'static str {
+        match self {
+            Error::NonFiniteCoordinate { argument, .. }
+            | Error::InvalidWeight { argument, .. }
+            | Error::AllWeightsZero { argument }
+            | Error::LengthMismatch { argument, .. }
+            | Error::TooFewPoints { argument, .. }
+            | Error::Degenerate { argument, .. }
+            | Error::RepeatedPoint { argument, .. } => argument,
+            Error::InvalidParameter { name, .. } => name,
+            Error::InGroup { source, .. } => source.argument(),
+        }
+    }
+
+    /// The input row the error concerns, when it concerns one.
+    pub fn row(&self) -> Option<usize> {
+        match self {
+            Error::NonFiniteCoordinate { index, .. } | Error::InvalidWeight { index, .. } => Some(*index),
+            Error::RepeatedPoint { row, .. } => Some(*row),
+            Error::InGroup { source, .. } => source.row(),
+            _ => None,
+        }
+    }
+
+    /// The label of the group the error happened in, when it happened in one.
+    pub fn group(&self) -> Option<i64> {
+        match self {
+            Error::InGroup { label, .. } => Some(*label),
+            _ => None,
+        }
+    }
+
+    /// Map row positions within a group's own points to rows of the whole input:
+    /// `members[k]` is the input row of the group's `k`-th point.
+    pub fn rows_from(self, members: &[usize]) -> Error {
+        let map = |k: usize| members.get(k).copied().unwrap_or(k);
+        match self {
+            Error::NonFiniteCoordinate { argument, index, value } => {
+                Error::NonFiniteCoordinate { argument, index: map(index), value }
+            }
+            Error::InvalidWeight { argument, index, value } => Error::InvalidWeight { argument, index: map(index), value },
+            Error::RepeatedPoint { argument, row, first } => {
+                Error::RepeatedPoint { argument, row: map(row), first: map(first) }
+            }
+            Error::InGroup { label, source } => Error::InGroup { label, source: Box::new(source.rows_from(members)) },
+            other => other,
+        }
+    }
+}
+
+impl fmt::Display for Error {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(&self.describe(&Positions))
     }
 }
 
@@ -154,7 +258,10 @@ mod tests {
         let e = Error::NonFiniteCoordinate { argument: "points", index: 17, value: f64::NAN };
         assert_eq!(e.to_string(), "points[17] has a NaN coordinate; every coordinate must be finite");
         let e = Error::InvalidWeight { argument: "weights", index: 3, value: -1.0 };
-        assert_eq!(e.to_string(), "weights must be finite and >= 0; weights[3] = -1.0");
+        assert_eq!(e.to_string(), "weights must be finite and >= 0; weights[3] = -1");
+        let e = Error::RepeatedPoint { argument: "sites", row: 1, first: 0 }.in_group(2).rows_from(&[4, 9]);
+        assert_eq!(e.to_string(), "group 2: sites: sites[9] repeats sites[4]; every site needs its own location");
+        assert_eq!((e.group(), e.row(), e.argument()), (Some(2), Some(9), "sites"));
         let e = Error::Degenerate { argument: "points", reason: "all points are collinear".into() }
             .in_group(4);
         assert_eq!(e.to_string(), "group 4: points: all points are collinear");

@@ -14,7 +14,7 @@
 //! largest distance from the reported centre to any input point, so every point is covered
 //! up to the rounding of one square root.
 
-use crate::batch::{run_grouped, Grouped};
+use crate::batch::{run_grouped, Grouped, OnGroupError};
 use crate::error::Result;
 use crate::geometry::hull::hull_candidates;
 use crate::geometry::predicates::orient2d;
@@ -85,8 +85,13 @@ pub fn enclosing_circle_with(points: &[Point], options: &CircleOptions) -> Resul
 /// # Errors
 /// As [`enclosing_circle`], and [`crate::Error::LengthMismatch`] when `labels` does not
 /// have one entry per point.
-pub fn enclosing_circles(points: &[Point], labels: &[i64], options: &CircleOptions) -> Result<Grouped<Circle>> {
-    run_grouped(points, Weights::Unit, labels, |group| {
+pub fn enclosing_circles(
+    points: &[Point],
+    labels: &[i64],
+    options: &CircleOptions,
+    on_error: OnGroupError,
+) -> Result<Grouped<Circle>> {
+    run_grouped(points, Weights::Unit, labels, on_error, |group| {
         let mut circle = solve(group.points, options.seed);
         for s in &mut circle.support {
             *s = group.members[*s];
@@ -301,11 +306,13 @@ mod tests {
     #[test]
     fn grouped_support_refers_to_input_rows() {
         let pts = [[0.0, 0.0], [9.0, 9.0], [2.0, 0.0], [9.0, 11.0]];
-        let g = enclosing_circles(&pts, &[4, 8, 4, 8], &CircleOptions::default()).unwrap();
-        assert_eq!(g.labels, vec![4, 8]);
-        assert_eq!(g.results[0].support, vec![0, 2]);
-        assert_eq!(g.results[1].center, [9.0, 10.0]);
-        assert_eq!(g.results[1].support, vec![1, 3]);
+        let g = enclosing_circles(&pts, &[4, 8, 4, 8], &CircleOptions::default(), OnGroupError::Raise).unwrap();
+        let group_labels = g.labels.clone();
+        let results = g.into_solved().unwrap();
+        assert_eq!(group_labels, vec![4, 8]);
+        assert_eq!(results[0].support, vec![0, 2]);
+        assert_eq!(results[1].center, [9.0, 10.0]);
+        assert_eq!(results[1].support, vec![1, 3]);
     }
 
     proptest::proptest! {

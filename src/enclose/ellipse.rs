@@ -19,7 +19,7 @@
 //! (see [`crate::geometry::hull`]), in a frame centred on the bounding box and scaled to unit
 //! size.
 
-use crate::batch::{run_grouped, Grouped};
+use crate::batch::{run_grouped, Grouped, OnGroupError};
 use crate::error::{Error, Result};
 use crate::geometry::hull::hull_vertices;
 use crate::geometry::{add, power_of_two_factor, scale, sub, validate_points, BoundingBox, Point, Weights};
@@ -75,9 +75,14 @@ pub fn enclosing_ellipse(points: &[Point], tol: f64) -> Result<Ellipse> {
 /// # Errors
 /// As [`enclosing_ellipse`], with [`Error::InGroup`] naming the group; and
 /// [`Error::LengthMismatch`] when `labels` does not have one entry per point.
-pub fn enclosing_ellipses(points: &[Point], labels: &[i64], tol: f64) -> Result<Grouped<Ellipse>> {
+pub fn enclosing_ellipses(
+    points: &[Point],
+    labels: &[i64],
+    tol: f64,
+    on_error: OnGroupError,
+) -> Result<Grouped<Ellipse>> {
     validate_tol(tol)?;
-    run_grouped(points, Weights::Unit, labels, |group| {
+    run_grouped(points, Weights::Unit, labels, on_error, |group| {
         let mut e = solve(group.points, tol)?;
         for s in &mut e.support {
             *s = group.members[*s];

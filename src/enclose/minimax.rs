@@ -19,7 +19,7 @@
 //! (see [`super::circle`]), computed by Welzl's expected-linear method instead.
 
 use super::circle;
-use crate::batch::{run_grouped, Grouped};
+use crate::batch::{run_grouped, Grouped, OnGroupError};
 use crate::error::Result;
 use crate::geometry::predicates::orient2d;
 use crate::geometry::{
@@ -70,8 +70,13 @@ pub fn minimax_point(points: &[Point], weights: Weights<'_>) -> Result<MinimaxPo
 /// As [`minimax_point`], with [`crate::Error::InGroup`] naming a group whose weights are
 /// all zero; and [`crate::Error::LengthMismatch`] when `labels` does not have one entry per
 /// point.
-pub fn minimax_points(points: &[Point], weights: Weights<'_>, labels: &[i64]) -> Result<Grouped<MinimaxPoint>> {
-    run_grouped(points, weights, labels, |group| {
+pub fn minimax_points(
+    points: &[Point],
+    weights: Weights<'_>,
+    labels: &[i64],
+    on_error: OnGroupError,
+) -> Result<Grouped<MinimaxPoint>> {
+    run_grouped(points, weights, labels, on_error, |group| {
         let mut m = minimax_point(group.points, group.weights)?;
         for s in &mut m.support {
             *s = group.members[*s];

@@ -9,7 +9,7 @@
 pub mod manhattan;
 pub mod weiszfeld;
 
-use crate::batch::{run_grouped, Grouped};
+use crate::batch::{run_grouped, Grouped, OnGroupError};
 use crate::error::{Error, Result};
 use crate::geometry::{validate_points, validate_weights, Point, Weights};
 
@@ -86,12 +86,16 @@ pub fn weber_points(
     weights: Weights<'_>,
     labels: &[i64],
     options: &WeberOptions,
+    on_error: OnGroupError,
 ) -> Result<Grouped<WeberPoint>> {
     validate_options(options)?;
-    run_grouped(points, weights, labels, |group| weber_point(group.points, group.weights, options))
+    run_grouped(points, weights, labels, on_error, |group| weber_point(group.points, group.weights, options))
 }
 
 fn validate_options(options: &WeberOptions) -> Result<()> {
+    if options.max_iter == 0 {
+        return Err(Error::InvalidParameter { name: "max_iter", reason: "must be at least 1; got 0".into() });
+    }
     if !(options.tol.is_finite() && options.tol >= 0.0) {
         return Err(Error::InvalidParameter {
             name: "tol",
@@ -143,11 +147,12 @@ mod properties {
         fn grouped_equals_separate(points in cloud(), seed in 0u64..1000) {
             let labels: Vec<i64> = (0..points.len() as u64).map(|i| ((i * 31 + seed) % 4) as i64).collect();
             let options = WeberOptions::default();
-            let grouped = weber_points(&points, Weights::Unit, &labels, &options).unwrap();
-            for (label, result) in grouped.labels.iter().zip(&grouped.results) {
+            let grouped = weber_points(&points, Weights::Unit, &labels, &options, OnGroupError::Raise).unwrap();
+            let labels_seen = grouped.labels.clone();
+            for (label, result) in labels_seen.iter().zip(grouped.into_solved().unwrap()) {
                 let members: Vec<Point> = points.iter().zip(&labels).filter(|(_, l)| *l == label).map(|(p, _)| *p).collect();
                 let single = weber_point(&members, Weights::Unit, &options).unwrap();
-                prop_assert_eq!(single, *result);
+                prop_assert_eq!(single, result);
             }
         }
     }

@@ -14,7 +14,7 @@ use std::collections::HashMap;
 use std::f64::consts::PI;
 use std::time::{Duration, Instant};
 
-use crate::batch::{run_grouped, Grouped};
+use crate::batch::{run_grouped, Grouped, OnGroupError};
 use crate::error::{Error, Result};
 use crate::geometry::predicates::all_collinear;
 use crate::geometry::{distance, scale, to_local_frame, validate_points, BoundingBox, CompensatedSum, Point, Weights};
@@ -58,8 +58,8 @@ pub fn spanning_tree(points: &[Point]) -> Result<SpanningTree> {
 /// # Errors
 /// As [`spanning_tree`], and [`Error::LengthMismatch`] when `labels` does not have one
 /// entry per point.
-pub fn spanning_trees(points: &[Point], labels: &[i64]) -> Result<Grouped<SpanningTree>> {
-    run_grouped(points, Weights::Unit, labels, |group| {
+pub fn spanning_trees(points: &[Point], labels: &[i64], on_error: OnGroupError) -> Result<Grouped<SpanningTree>> {
+    run_grouped(points, Weights::Unit, labels, on_error, |group| {
         let mut tree = spanning_tree(group.points)?;
         for e in &mut tree.edges {
             let (a, b) = (group.members[e[0]], group.members[e[1]]);
@@ -189,9 +189,14 @@ const NEARLY_COINCIDENT: f64 = 1e-12;
 /// # Errors
 /// As [`steiner_tree`], and [`Error::LengthMismatch`] when `labels` does not have one entry
 /// per point.
-pub fn steiner_trees(points: &[Point], labels: &[i64], options: &SteinerOptions) -> Result<Grouped<SteinerTree>> {
+pub fn steiner_trees(
+    points: &[Point],
+    labels: &[i64],
+    options: &SteinerOptions,
+    on_error: OnGroupError,
+) -> Result<Grouped<SteinerTree>> {
     validate_options(options)?;
-    run_grouped(points, Weights::Unit, labels, |group| steiner_tree(group.points, options))
+    run_grouped(points, Weights::Unit, labels, on_error, |group| steiner_tree(group.points, options))
 }
 
 fn validate_options(options: &SteinerOptions) -> Result<()> {
@@ -562,13 +567,13 @@ mod tests {
         assert!(!t.optimal);
         check_steiner_tree(&t, 1e-6).unwrap();
         let labels: Vec<i64> = (0..70).map(|i| (i % 3) as i64).collect();
-        let g = steiner_trees(&pts, &labels, &SteinerOptions::default()).unwrap();
-        for (k, tree) in g.results.iter().enumerate() {
+        let g = steiner_trees(&pts, &labels, &SteinerOptions::default(), OnGroupError::Raise).unwrap();
+        for (k, tree) in g.into_solved().unwrap().iter().enumerate() {
             let members: Vec<Point> = (0..70).filter(|i| i % 3 == k).map(|i| pts[i]).collect();
             assert_eq!(tree, &steiner_tree(&members, &SteinerOptions::default()).unwrap());
         }
-        let s = spanning_trees(&pts, &labels).unwrap();
-        assert!(s.results.iter().all(|t| t.edges.iter().all(|e| labels[e[0]] == labels[e[1]])));
+        let s = spanning_trees(&pts, &labels, OnGroupError::Raise).unwrap();
+        assert!(s.into_solved().unwrap().iter().all(|t| t.edges.iter().all(|e| labels[e[0]] == labels[e[1]])));
     }
 }
 

@@ -150,10 +150,7 @@ fn check_distinct(sites: &[Point]) -> Result<()> {
     for (j, p) in sites.iter().enumerate() {
         // `+ 0.0` makes -0.0 and 0.0 one key.
         if let Some(&i) = seen.get(&((p[0] + 0.0).to_bits(), (p[1] + 0.0).to_bits())) {
-            return Err(Error::Degenerate {
-                argument: "sites",
-                reason: format!("sites[{j}] repeats sites[{i}]; every site needs its own location"),
-            });
+            return Err(Error::RepeatedPoint { argument: "sites", row: j, first: i });
         }
         seen.insert(((p[0] + 0.0).to_bits(), (p[1] + 0.0).to_bits()), j);
     }
@@ -602,7 +599,7 @@ mod tests {
     fn refusals() {
         assert!(matches!(
             voronoi_cells(&[[0.0, 0.0], [1.0, 1.0], [0.0, 0.0]], None),
-            Err(Error::Degenerate { argument: "sites", .. })
+            Err(Error::RepeatedPoint { argument: "sites", row: 2, first: 0 })
         ));
         assert!(matches!(voronoi_cells(&[[0.0, 0.0]], None), Err(Error::Degenerate { argument: "region", .. })));
         let flat = [[0.0, 0.0], [1.0, 1.0], [2.0, 2.0]];

@@ -138,3 +138,113 @@ pub(crate) fn index_values(flat: Vec<usize>) -> Vec<i64> {
 pub(crate) fn index_array<'py>(py: Python<'py>, indices: &[usize]) -> Bound<'py, PyArray1<i64>> {
     PyArray1::from_iter(py, indices.iter().map(|&i| i as i64))
 }
+
+// ------------------------------------------------------------------ number arguments
+//
+// The one validation path for every number argument (counts, seeds, iteration limits,
+// tolerances, time limits, thread counts): a wrong type or range is an `InputError` naming
+// the argument, with the value printed as the user wrote it (plain numbers, not numpy
+// reprs). Integers accept Python and numpy integers (anything with `__index__`), never a
+// float or a bool: `p = 2.0` is refused rather than silently truncated.
+
+/// The value as the user would write it: `3`, `2.5`, `nan`, `'a'` (numpy scalars unwrapped).
+fn shown(obj: &Bound<'_, PyAny>) -> String {
+    let from_numpy = obj.get_type().getattr("__module__").map(|m| m.to_string() == "numpy").unwrap_or(false);
+    let value = if from_numpy { obj.call_method0("item").unwrap_or_else(|_| obj.clone()) } else { obj.clone() };
+    value.repr().map(|r| r.to_string()).unwrap_or_else(|_| "?".into())
+}
+
+fn type_name(obj: &Bound<'_, PyAny>) -> String {
+    obj.get_type().name().map(|n| n.to_string()).unwrap_or_else(|_| "?".into())
+}
+
+/// An integer argument within `[min, max]`.
+pub(crate) fn int_arg(obj: &Bound<'_, PyAny>, argument: &str, min: i64, max: i64) -> PyResult<i64> {
+    let is_bool = obj.is_instance_of::<pyo3::types::PyBool>()
+        || type_name(obj) == "bool_"
+        || type_name(obj) == "bool";
+    let index = if is_bool { None } else { obj.call_method0("__index__").ok() };
+    let Some(index) = index else {
+        return Err(super::errors::argument_error(
+            argument,
+            format!("{argument} must be an integer; got {} ({})", shown(obj), type_name(obj)),
+        ));
+    };
+    let value: Option<i128> = index.extract().ok();
+    match value {
+        Some(v) if v >= min as i128 && v <= max as i128 => Ok(v as i64),
+        _ => {
+            let range = if max == i64::MAX { format!(">= {min}") } else { format!("from {min} to {max}") };
+            Err(super::errors::argument_error(argument, format!("{argument} must be an integer {range}; got {}", shown(obj))))
+        }
+    }
+}
+
+/// A count argument (`p`, `max_iter`, threads) within `[min, max]`.
+pub(crate) fn count_arg(obj: &Bound<'_, PyAny>, argument: &str, min: usize, max: usize) -> PyResult<usize> {
+    let max = max.min(i64::MAX as usize) as i64;
+    int_arg(obj, argument, min as i64, max).map(|v| v as usize)
+}
+
+/// A seed for a randomised step: any integer from 0 to 2**64 - 1.
+pub(crate) fn seed_arg(obj: &Bound<'_, PyAny>) -> PyResult<u64> {
+    let is_bool = obj.is_instance_of::<pyo3::types::PyBool>() || type_name(obj) == "bool_";
+    let index = if is_bool { None } else { obj.call_method0("__index__").ok() };
+    let value: Option<i128> = index.and_then(|i| i.extract().ok());
+    match value {
+        Some(v) if (0..=u64::MAX as i128).contains(&v) => Ok(v as u64),
+        _ => Err(super::errors::argument_error(
+            "seed",
+            format!("seed must be an integer from 0 to 2**64 - 1; got {}", shown(obj)),
+        )),
+    }
+}
+
+/// A real argument for which `accept(value)` holds; `expected` says what that means
+/// (`"finite and >= 0"`).
+pub(crate) fn float_arg(
+    obj: &Bound<'_, PyAny>,
+    argument: &str,
+    expected: &str,
+    accept: impl Fn(f64) -> bool,
+) -> PyResult<f64> {
+    let is_bool = obj.is_instance_of::<pyo3::types::PyBool>() || type_name(obj) == "bool_";
+    let value: Option<f64> = if is_bool || obj.is_instance_of::<pyo3::types::PyString>() {
+        None
+    } else {
+        obj.call_method0("__float__").ok().and_then(|v| v.extract().ok())
+    };
+    match value {
+        Some(v) if accept(v) => Ok(v),
+        Some(_) => Err(super::errors::argument_error(argument, format!("{argument} must be {expected}; got {}", shown(obj)))),
+        None => Err(super::errors::argument_error(
+            argument,
+            format!("{argument} must be a number ({expected}); got {} ({})", shown(obj), type_name(obj)),
+        )),
+    }
+}
+
+/// An optional real argument: `None` stays `None`.
+pub(crate) fn optional_float_arg(
+    obj: Option<&Bound<'_, PyAny>>,
+    argument: &str,
+    expected: &str,
+    accept: impl Fn(f64) -> bool,
+) -> PyResult<Option<f64>> {
+    match obj.filter(|o| !o.is_none()) {
+        None => Ok(None),
+        Some(o) => float_arg(o, argument, expected, accept).map(Some),
+    }
+}
+
+/// `errors="raise"` or `errors="skip"`: what a grouped run does with a group without an answer.
+pub(crate) fn on_error_arg(obj: &str) -> PyResult<crate::batch::OnGroupError> {
+    match obj {
+        "raise" => Ok(crate::batch::OnGroupError::Raise),
+        "skip" => Ok(crate::batch::OnGroupError::Skip),
+        other => Err(super::errors::argument_error(
+            "errors",
+            format!("errors must be \"raise\" or \"skip\"; got {other:?}"),
+        )),
+    }
+}

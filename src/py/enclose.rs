@@ -3,6 +3,8 @@
 use numpy::{PyArray1, PyArray2, PyArray3, PyArrayMethods};
 use pyo3::prelude::*;
 
+use crate::batch::OnGroupError;
+use super::fields::Solved;
 use super::convert::{as_point_slice, index_array};
 use super::{labels_arg, points_arg, run_detached, weights_arg};
 use crate::batch::to_csr;
@@ -60,7 +62,8 @@ fn enclosing_circle_grouped<'py>(
     let labels = labels_arg(groups, "groups")?;
     let pts = as_point_slice(&points);
     let l = labels.as_slice()?;
-    let g = run_detached(py, || enclosing_circles(pts, l, &circle_options(seed)))?;
+    let g = run_detached(py, || enclosing_circles(pts, l, &circle_options(seed), OnGroupError::Raise))?;
+    let g = Solved { labels: g.labels.clone(), results: g.into_solved()? };
     let center: Vec<f64> = g.results.iter().flat_map(|r| r.center).collect();
     let (offsets, index) = support_csr(py, g.results.iter().map(|r| &r.support));
     Ok((
@@ -101,7 +104,8 @@ fn minimax_point_grouped<'py>(
     let pts = as_point_slice(&points);
     let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
     let l = labels.as_slice()?;
-    let g = run_detached(py, || minimax_points(pts, Weights::from_option(w), l))?;
+    let g = run_detached(py, || minimax_points(pts, Weights::from_option(w), l, OnGroupError::Raise))?;
+    let g = Solved { labels: g.labels.clone(), results: g.into_solved()? };
     let location: Vec<f64> = g.results.iter().flat_map(|r| r.location).collect();
     let (offsets, index) = support_csr(py, g.results.iter().map(|r| &r.support));
     Ok((
@@ -174,7 +178,8 @@ fn enclosing_ellipse_grouped<'py>(
     let labels = labels_arg(groups, "groups")?;
     let pts = as_point_slice(&points);
     let l = labels.as_slice()?;
-    let g = run_detached(py, || enclosing_ellipses(pts, l, tol))?;
+    let g = run_detached(py, || enclosing_ellipses(pts, l, tol, OnGroupError::Raise))?;
+    let g = Solved { labels: g.labels.clone(), results: g.into_solved()? };
     let n = g.results.len();
     let center: Vec<f64> = g.results.iter().flat_map(|r| r.center).collect();
     let shape: Vec<f64> = g.results.iter().flat_map(|r| r.shape.into_iter().flatten()).collect();

@@ -1,30 +1,33 @@
 //! Bindings of the median family (`src/median/`).
 
-use numpy::{PyArray1, PyArray2, PyArrayMethods};
+use numpy::{PyArray1, PyArrayMethods};
 use pyo3::prelude::*;
+use pyo3::types::PyDict;
 
-use super::convert::as_point_slice;
-use super::errors::input_error;
+use super::convert::{as_point_slice, count_arg, float_arg, on_error_arg};
+use super::errors::argument_error;
+use super::fields::Fields;
 use super::{labels_arg, points_arg, run_detached, weights_arg};
 use crate::geometry::Weights;
 use crate::median::{weber_point, weber_points, Metric, WeberOptions};
 
-fn options(metric: &str, tol: f64, max_iter: usize) -> PyResult<WeberOptions> {
+fn options(metric: &str, tol: &Bound<'_, PyAny>, max_iter: &Bound<'_, PyAny>) -> PyResult<WeberOptions> {
     let metric = match metric {
         "euclidean" => Metric::Euclidean,
         "manhattan" => Metric::Manhattan,
         other => {
-            return Err(input_error(format!(
-                "metric must be \"euclidean\" or \"manhattan\"; got {other:?}"
-            )))
+            return Err(argument_error(
+                "metric",
+                format!("metric must be \"euclidean\" or \"manhattan\"; got {other:?}"),
+            ))
         }
     };
+    let tol = float_arg(tol, "tol", "finite and >= 0", |t| t.is_finite() && t >= 0.0)?;
+    let max_iter = count_arg(max_iter, "max_iter", 1, usize::MAX)?;
     Ok(WeberOptions { metric, tol, max_iter })
 }
 
-/// (location, cost, gap, iterations, converged)
-type WeberTuple<'py> = (Bound<'py, PyArray1<f64>>, f64, f64, usize, bool);
-
+/// Fields: location (2,), cost, gap, iterations, converged.
 #[pyfunction]
 #[pyo3(signature = (points, weights, metric, tol, max_iter))]
 fn weber_point_single<'py>(
@@ -32,56 +35,57 @@ fn weber_point_single<'py>(
     points: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
     metric: &str,
-    tol: f64,
-    max_iter: usize,
-) -> PyResult<WeberTuple<'py>> {
+    tol: &Bound<'py, PyAny>,
+    max_iter: &Bound<'py, PyAny>,
+) -> PyResult<Bound<'py, PyDict>> {
     let options = options(metric, tol, max_iter)?;
     let points = points_arg(points, "points")?;
     let weights = weights_arg(weights, "weights")?;
     let pts = as_point_slice(&points);
     let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
     let r = run_detached(py, || weber_point(pts, Weights::from_option(w), &options))?;
-    Ok((PyArray1::from_slice(py, &r.location), r.cost, r.gap, r.iterations, r.converged))
+    Ok(Fields::new(py)
+        .put("location", PyArray1::from_slice(py, &r.location))?
+        .put("cost", r.cost)?
+        .put("gap", r.gap)?
+        .put("iterations", r.iterations)?
+        .put("converged", r.converged)?
+        .done())
 }
 
-/// (labels, location (G, 2), cost, gap, iterations, converged)
-type WeberGroupedTuple<'py> = (
-    Bound<'py, PyArray1<i64>>,
-    Bound<'py, PyArray2<f64>>,
-    Bound<'py, PyArray1<f64>>,
-    Bound<'py, PyArray1<f64>>,
-    Bound<'py, PyArray1<u64>>,
-    Bound<'py, PyArray1<bool>>,
-);
-
+/// Fields: labels (G,), problem (G,), location (G, 2), cost, gap, iterations, converged (G,).
+/// A skipped group has NaN location, cost and gap, 0 iterations and `converged` false.
 #[pyfunction]
-#[pyo3(signature = (points, weights, groups, metric, tol, max_iter))]
+#[pyo3(signature = (points, weights, groups, metric, tol, max_iter, errors))]
+#[allow(clippy::too_many_arguments)]
 fn weber_point_grouped<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
     groups: &Bound<'py, PyAny>,
     metric: &str,
-    tol: f64,
-    max_iter: usize,
-) -> PyResult<WeberGroupedTuple<'py>> {
+    tol: &Bound<'py, PyAny>,
+    max_iter: &Bound<'py, PyAny>,
+    errors: &str,
+) -> PyResult<Bound<'py, PyDict>> {
     let options = options(metric, tol, max_iter)?;
+    let on_error = on_error_arg(errors)?;
     let points = points_arg(points, "points")?;
     let weights = weights_arg(weights, "weights")?;
     let labels = labels_arg(groups, "groups")?;
     let pts = as_point_slice(&points);
     let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
     let l = labels.as_slice()?;
-    let g = run_detached(py, || weber_points(pts, Weights::from_option(w), l, &options))?;
-    let location: Vec<f64> = g.results.iter().flat_map(|r| r.location).collect();
-    Ok((
-        PyArray1::from_vec(py, g.labels),
-        PyArray1::from_vec(py, location).reshape([g.results.len(), 2])?,
-        PyArray1::from_iter(py, g.results.iter().map(|r| r.cost)),
-        PyArray1::from_iter(py, g.results.iter().map(|r| r.gap)),
-        PyArray1::from_iter(py, g.results.iter().map(|r| r.iterations as u64)),
-        PyArray1::from_iter(py, g.results.iter().map(|r| r.converged)),
-    ))
+    let g = run_detached(py, || weber_points(pts, Weights::from_option(w), l, &options, on_error))?;
+    let location: Vec<f64> = g.column([f64::NAN; 2], |r| r.location).into_iter().flatten().collect();
+    Ok(Fields::new(py)
+        .grouped(&g)?
+        .put("location", PyArray1::from_vec(py, location).reshape([g.labels.len(), 2])?)?
+        .put("cost", PyArray1::from_vec(py, g.column(f64::NAN, |r| r.cost)))?
+        .put("gap", PyArray1::from_vec(py, g.column(f64::NAN, |r| r.gap)))?
+        .put("iterations", PyArray1::from_vec(py, g.column(0u64, |r| r.iterations as u64)))?
+        .put("converged", PyArray1::from_vec(py, g.column(false, |r| r.converged)))?
+        .done())
 }
 
 pub(super) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
@@ -89,3 +93,4 @@ pub(super) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(weber_point_grouped, m)?)?;
     Ok(())
 }
+

@@ -10,6 +10,7 @@ use pyo3::prelude::*;
 mod convert;
 mod enclose;
 mod errors;
+mod fields;
 mod median;
 mod multi;
 mod network;

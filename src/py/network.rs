@@ -3,6 +3,8 @@
 use numpy::{PyArray1, PyArray2, PyArrayMethods};
 use pyo3::prelude::*;
 
+use crate::batch::OnGroupError;
+use super::fields::Solved;
 use super::convert::as_point_slice;
 use super::{labels_arg, points_arg, run_detached};
 use crate::batch::to_csr;
@@ -59,7 +61,8 @@ fn spanning_tree_grouped<'py>(
     let labels = labels_arg(groups, "groups")?;
     let pts = as_point_slice(&points);
     let l = labels.as_slice()?;
-    let g = run_detached(py, || spanning_trees(pts, l))?;
+    let g = run_detached(py, || spanning_trees(pts, l, OnGroupError::Raise))?;
+    let g = Solved { labels: g.labels.clone(), results: g.into_solved()? };
     let (offsets, edges) = to_csr(g.results.iter().map(|t| t.edges.as_slice()));
     let (_, lengths) = to_csr(g.results.iter().map(|t| t.edge_length.as_slice()));
     Ok((
@@ -128,7 +131,8 @@ fn steiner_tree_grouped<'py>(
     let labels = labels_arg(groups, "groups")?;
     let pts = as_point_slice(&points);
     let l = labels.as_slice()?;
-    let g = run_detached(py, || steiner_trees(pts, l, &options))?;
+    let g = run_detached(py, || steiner_trees(pts, l, &options, OnGroupError::Raise))?;
+    let g = Solved { labels: g.labels.clone(), results: g.into_solved()? };
     let (node_offsets, nodes) = to_csr(g.results.iter().map(|t| t.nodes.as_slice()));
     let (edge_offsets, edges) = to_csr(g.results.iter().map(|t| t.edges.as_slice()));
     let as_i64 = |v: &[usize]| v.iter().map(|&o| o as i64).collect::<Vec<i64>>();
