@@ -12,6 +12,8 @@ judgement.
 
 from __future__ import annotations
 
+from typing import Any
+
 from . import _core
 from ._core import DegenerateInputError, InputError
 from .enclose import (
@@ -32,6 +34,24 @@ from .partition import Allocation, Triangulation, VoronoiCells, delaunay, neares
 from .runtime import set_threads, thread_count
 
 __version__: str = _core.__version__
+
+# The GeoPandas and Dask layers load on first use (``placewise.gis``, ``placewise.cluster``),
+# so ``import placewise`` stays light and works without the optional extras.
+_LAZY_MODULES = ("gis", "cluster", "cli", "demo", "plotting")
+
+
+def __getattr__(name: str) -> Any:
+    if name in _LAZY_MODULES:
+        import importlib
+
+        module = importlib.import_module(f".{name}", __name__)
+        globals()[name] = module
+        return module
+    raise AttributeError(f"module 'placewise' has no attribute {name!r}")
+
+
+def __dir__() -> list[str]:
+    return sorted([*globals(), *_LAZY_MODULES])
 
 __all__ = [
     "Allocation",

@@ -9,9 +9,15 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from . import _core
-from ._results import Result
+from ._results import Grouped, Result
 
 __all__ = ["WeberPoint", "WeberPoints", "weber_point"]
+
+
+def _site_points(location: np.ndarray) -> Any:
+    import shapely
+
+    return shapely.points(np.asarray(location, dtype=np.float64).reshape(-1, 2))
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
@@ -23,13 +29,19 @@ class WeberPoint(Result):
     location : ndarray, shape (2,)
         The site minimising the total weighted distance.
     cost : float
-        Total weighted distance from ``location`` to the points.
+        Total weighted distance from ``location`` to the points (weight × coordinate unit).
     gap : float
         Proven upper bound on ``cost - optimum``.
+    relative_gap : float
+        ``gap / cost`` (0 when the cost is 0).
     iterations : int
         Passes over the points used.
     converged : bool
         True when ``gap <= tol * cost`` was reached.
+
+    ``to_frame()`` gives one row: ``x``, ``y``, ``cost_<unit>``, ``gap_<unit>``,
+    ``relative_gap``, ``iterations``, ``converged``; ``to_geodataframe()`` adds the site as
+    a Point.
     """
 
     location: np.ndarray
@@ -37,6 +49,24 @@ class WeberPoint(Result):
     gap: float
     iterations: int
     converged: bool
+
+    @property
+    def relative_gap(self) -> float:
+        return self.gap / self.cost if self.cost > 0 else 0.0
+
+    def _columns(self) -> dict[str, Any]:
+        return {
+            "x": [float(self.location[0])],
+            "y": [float(self.location[1])],
+            self._u("cost"): [self.cost],
+            self._u("gap"): [self.gap],
+            "relative_gap": [self.relative_gap],
+            "iterations": [self.iterations],
+            "converged": [self.converged],
+        }
+
+    def _geometry(self) -> Any:
+        return _site_points(self.location)
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
         """Draw the site as a star on matplotlib axes (new axes when ``ax`` is None)."""
@@ -46,8 +76,12 @@ class WeberPoint(Result):
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
-class WeberPoints(Result):
+class WeberPoints(Grouped):
     """Fermat–Weber points of many groups, sorted by label.
+
+    ``len``, iteration and ``points[label]`` give each group's :class:`WeberPoint`;
+    ``to_frame()`` has one row per group with the columns of :class:`WeberPoint` after
+    ``group`` and ``problem``.
 
     Attributes
     ----------
@@ -59,12 +93,40 @@ class WeberPoints(Result):
     converged : ndarray of bool, shape (G,)
     """
 
-    labels: np.ndarray
     location: np.ndarray
     cost: np.ndarray
     gap: np.ndarray
     iterations: np.ndarray
     converged: np.ndarray
+
+    @property
+    def relative_gap(self) -> np.ndarray:
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return np.where(self.cost > 0, self.gap / np.where(self.cost > 0, self.cost, 1.0), 0.0)
+
+    def _item(self, position: int) -> WeberPoint:
+        return WeberPoint(
+            self.location[position].copy(),
+            float(self.cost[position]),
+            float(self.gap[position]),
+            int(self.iterations[position]),
+            bool(self.converged[position]),
+            unit=self.unit,
+        )
+
+    def _columns(self) -> dict[str, Any]:
+        return {
+            "x": self.location[:, 0],
+            "y": self.location[:, 1],
+            self._u("cost"): self.cost,
+            self._u("gap"): self.gap,
+            "relative_gap": self.relative_gap,
+            "iterations": self.iterations,
+            "converged": self.converged,
+        }
+
+    def _geometry(self) -> Any:
+        return _site_points(self.location)
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
         """Draw every group's site as a star."""
@@ -82,6 +144,7 @@ def weber_point(
     metric: Literal["euclidean", "manhattan"] = "euclidean",
     tol: float = 1e-10,
     max_iter: int = 10_000,
+    errors: Literal["raise", "skip"] = "raise",
 ) -> WeberPoint | WeberPoints:
     """The weighted Fermat–Weber point: the site minimising ``sum(w_i * d(x, a_i))``.
 
@@ -101,7 +164,10 @@ def weber_point(
     tol : float
         Stop when the certified gap is at most ``tol * cost``.
     max_iter : int
-        Largest number of passes over the points.
+        Largest number of passes over the points (at least 1).
+    errors : {"raise", "skip"}
+        With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
+        label); ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
 
     Returns
     -------
@@ -111,7 +177,8 @@ def weber_point(
     ------
     InputError
         For NaN/inf coordinates, bad shapes, negative, all-zero or wrong-length weights,
-        or an empty point set.
+        an empty point set, or a ``tol`` / ``max_iter`` of the wrong type or range. Its
+        ``group`` and ``row`` attributes name the group label and input row concerned.
 
     Examples
     --------
@@ -121,8 +188,13 @@ def weber_point(
     7.464101615
     >>> pw.weber_point([[3, 1]]).location   # one point: the point itself
     array([3., 1.])
-    >>> pw.weber_point([[0, 0], [2, 0], [0, 2]], groups=[1, 1, 2]).labels
-    array([1, 2])
+    >>> sites = pw.weber_point([[0, 0], [2, 0], [0, 2]], groups=[1, 1, 2])
+    >>> len(sites), sites.labels.tolist(), sites[2].location.tolist()
+    (2, [1, 2], [0.0, 2.0])
+    >>> sites.to_frame()[["group", "x", "y", "cost_u"]]
+       group    x    y  cost_u
+    0      1  0.0  0.0     2.0
+    1      2  0.0  2.0     0.0
 
     See Also
     --------
@@ -130,8 +202,5 @@ def weber_point(
     p_median : the best p sites.
     """
     if groups is None:
-        location, cost, gap, iterations, converged = _core.weber_point_single(
-            points, weights, metric, float(tol), int(max_iter)
-        )
-        return WeberPoint(location, cost, gap, iterations, converged)
-    return WeberPoints(*_core.weber_point_grouped(points, weights, groups, metric, float(tol), int(max_iter)))
+        return WeberPoint(**_core.weber_point_single(points, weights, metric, tol, max_iter))
+    return WeberPoints._from_core(_core.weber_point_grouped(points, weights, groups, metric, tol, max_iter, errors))

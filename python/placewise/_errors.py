@@ -1,0 +1,90 @@
+"""Errors in the user's terms.
+
+The kernels know rows by position and groups by integer label. The GeoPandas layer, the
+Dask layer and the command line know the user's own names: a DataFrame's index labels and
+the values of a group column. :func:`restate` rewrites a kernel's ``InputError`` with those
+names (one message layout, built by the kernel's own error description), and
+:func:`restate_problems` does the same for the ``problem`` column of groups skipped with
+``errors="skip"``.
+"""
+
+from __future__ import annotations
+
+from typing import Any, Callable, Mapping
+
+import numpy as np
+
+from ._core import DegenerateInputError, InputError
+
+__all__ = ["plain", "restate", "restate_problems"]
+
+
+def plain(value: Any) -> Any:
+    """A value as the user wrote it: numpy scalars become Python scalars."""
+    return value.item() if isinstance(value, np.generic) else value
+
+
+class _Names:
+    """Group and row namers for one call: ``group_values[code]`` and ``row_labels[argument][row]``."""
+
+    def __init__(self, group_values: Any = None, row_labels: Mapping[str, Any] | None = None) -> None:
+        self.group_values = None if group_values is None else np.asarray(group_values, dtype=object)
+        self.row_labels = {k: np.asarray(v, dtype=object) for k, v in (row_labels or {}).items()}
+
+    def group_value(self, code: int | None) -> Any:
+        if code is None or self.group_values is None or not 0 <= code < len(self.group_values):
+            return code
+        return plain(self.group_values[code])
+
+    def row_label(self, argument: str | None, row: int | None) -> Any:
+        labels = self.row_labels.get(argument or "")
+        if row is None or labels is None or not 0 <= row < len(labels):
+            return row
+        return plain(labels[row])
+
+    def group(self) -> Callable[[int], str]:
+        return lambda code: repr(self.group_value(code))
+
+    def row(self) -> Callable[[str, int], str]:
+        return lambda argument, row: repr(self.row_label(argument, row))
+
+
+def restate(exc: InputError, group_values: Any = None, row_labels: Mapping[str, Any] | None = None) -> InputError:
+    """``exc`` restated with the user's group values and row labels.
+
+    Parameters
+    ----------
+    exc : InputError
+        Raised by a kernel; its ``detail`` holds the structured error.
+    group_values : sequence, optional
+        The user's group value of each integer group label ``0..G-1``.
+    row_labels : mapping of str to sequence, optional
+        Per argument name (``"points"``, ``"weights"``, ``"sites"``), the user's label of
+        each input row.
+
+    Returns
+    -------
+    InputError
+        Of the same class, with ``group`` and ``row`` set to the user's values. Errors
+        without structured detail (argument errors) come back unchanged.
+    """
+    detail = getattr(exc, "detail", None)
+    if detail is None:
+        return exc
+    names = _Names(group_values, row_labels)
+    kind = DegenerateInputError if isinstance(exc, DegenerateInputError) else InputError
+    out = kind(detail.describe(names.group(), names.row()))
+    out.argument = detail.argument
+    out.group = names.group_value(detail.group)
+    out.row = names.row_label(detail.argument, detail.row)
+    out.detail = detail
+    return out
+
+
+def restate_problems(details: Any, group_values: Any = None, row_labels: Mapping[str, Any] | None = None) -> np.ndarray:
+    """The ``problem`` messages of a grouped result, restated as :func:`restate` does."""
+    names = _Names(group_values, row_labels)
+    out = np.empty(len(details), dtype=object)
+    for g, detail in enumerate(details):
+        out[g] = None if detail is None else str(detail.describe(names.group(), names.row()))
+    return out
