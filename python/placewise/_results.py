@@ -27,7 +27,7 @@ from typing import Any, Iterator
 
 import numpy as np
 
-__all__ = ["Grouped", "Result"]
+__all__ = ["Grouped", "Result", "as_points"]
 
 _SMALL = 6
 
@@ -47,6 +47,15 @@ def _show(value: Any) -> str:
     if isinstance(value, float):
         return f"{value:.6g}"
     return repr(value)
+
+
+def as_points(points: Any) -> np.ndarray:
+    """The points as an ``(n, 2)`` float64 array, a view when no conversion is needed.
+
+    The one points-to-array helper of the Python package: call it only after the compiled
+    kernel accepted ``points`` (it validated shape and values), so the conversion succeeds.
+    """
+    return np.ascontiguousarray(points, dtype=np.float64).reshape(-1, 2).view()
 
 
 def _require_pandas() -> Any:

@@ -124,6 +124,62 @@ pub fn power_of_two_factor(extent: f64) -> f64 {
     2f64.powi(-exponent.clamp(-1020, 1020))
 }
 
+/// The one working frame: points shifted so the centre of their bounding box is the origin,
+/// then scaled by a power of two ([`power_of_two_factor`]) so the frame has unit size.
+///
+/// Why: the shift keeps differences of far-offset projected coordinates (500 000,
+/// 6 000 000) accurate once squared; the power-of-two scale is exact, so squares neither
+/// overflow nor underflow and answers map back without rounding beyond the shift.
+/// Invariant: `to_world(to_local(p))` is `p` up to the rounding of one subtraction and one
+/// addition; distances scale by exactly `factor`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct WorkingFrame {
+    /// The world point that becomes the local origin.
+    pub origin: Point,
+    /// The exact power-of-two scale from world to local units.
+    pub factor: f64,
+}
+
+impl WorkingFrame {
+    /// The frame of `points` (the identity for an empty set).
+    pub fn of(points: &[Point]) -> WorkingFrame {
+        match BoundingBox::of(points) {
+            Some(b) => WorkingFrame {
+                origin: b.center(),
+                factor: power_of_two_factor((b.max[0] - b.min[0]).max(b.max[1] - b.min[1])),
+            },
+            None => WorkingFrame { origin: [0.0, 0.0], factor: 1.0 },
+        }
+    }
+
+    /// A world point in local coordinates.
+    pub fn to_local(&self, p: Point) -> Point {
+        scale(sub(p, self.origin), self.factor)
+    }
+
+    /// A local point in world coordinates.
+    pub fn to_world(&self, q: Point) -> Point {
+        add(scale(q, 1.0 / self.factor), self.origin)
+    }
+
+    /// Every point in local coordinates.
+    pub fn local(&self, points: &[Point]) -> Vec<Point> {
+        points.iter().map(|&p| self.to_local(p)).collect()
+    }
+
+    /// A local length in world units.
+    pub fn world_length(&self, length: f64) -> f64 {
+        length / self.factor
+    }
+}
+
+/// The one exact location key: two points have the same key exactly when their coordinates
+/// are equal as numbers (`-0.0` and `0.0` are one location; adding `0.0` maps `-0.0` to
+/// `0.0`). Used to find repeated locations with a hash map.
+pub fn location_key(p: Point) -> (u64, u64) {
+    ((p[0] + 0.0).to_bits(), (p[1] + 0.0).to_bits())
+}
+
 /// Signed area of a closed ring (counter-clockwise positive), by the shoelace formula
 /// evaluated relative to the first vertex.
 pub fn ring_signed_area(ring: &[Point]) -> f64 {
@@ -160,5 +216,23 @@ mod tests {
         let (o, local) = to_local_frame(&pts);
         assert_eq!(o, [500_005.0, 6_000_010.0]);
         assert_eq!(local, vec![[-5.0, -10.0], [5.0, 10.0]]);
+    }
+
+    #[test]
+    fn working_frame_is_unit_sized_and_round_trips() {
+        let pts = [[500_000.0, 6_000_000.0], [500_010.0, 6_000_020.0]];
+        let frame = WorkingFrame::of(&pts);
+        assert_eq!(frame.origin, [500_005.0, 6_000_010.0]);
+        // Extent 20 → factor 2^-5 (20 / 32 lies in (0.5, 1]).
+        assert_eq!(frame.factor, 1.0 / 32.0);
+        assert_eq!(frame.local(&pts), vec![[-5.0 / 32.0, -10.0 / 32.0], [5.0 / 32.0, 10.0 / 32.0]]);
+        assert_eq!(frame.to_world(frame.to_local(pts[1])), pts[1]);
+        assert_eq!(frame.world_length(0.5), 16.0);
+    }
+
+    #[test]
+    fn location_key_joins_signed_zeros_only() {
+        assert_eq!(location_key([-0.0, 1.0]), location_key([0.0, 1.0]));
+        assert_ne!(location_key([1.0, 1.0]), location_key([1.0 + f64::EPSILON, 1.0]));
     }
 }

@@ -98,7 +98,7 @@ mod tests {
         assert!(validate_weights("weights", Weights::Given(&[1.0, 0.0]), 2).is_ok());
         assert_eq!(
             validate_weights("weights", Weights::Given(&[1.0, -1.0]), 2).unwrap_err().to_string(),
-            "weights must be finite and >= 0; weights[1] = -1.0"
+            "weights must be finite and >= 0; weights[1] = -1"
         );
         assert!(matches!(
             validate_weights("weights", Weights::Given(&[0.0, 0.0]), 2),
