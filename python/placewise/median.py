@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import dataclasses
-from typing import Any, Literal
+from typing import Any, Literal, overload
 
 import numpy as np
 from numpy.typing import ArrayLike
@@ -134,6 +134,32 @@ class WeberPoints(Grouped):
         ax.plot(self.location[:, 0], self.location[:, 1],
                 **{"marker": "*", "markersize": 10, "color": "crimson", "linestyle": "none", **style})
         return ax
+
+
+@overload
+def weber_point(
+    points: ArrayLike,
+    weights: ArrayLike | None = None,
+    *,
+    groups: None = None,
+    metric: Literal["euclidean", "manhattan"] = "euclidean",
+    tol: float = 1e-10,
+    max_iter: int = 10_000,
+    errors: Literal["raise", "skip"] = "raise",
+) -> WeberPoint: ...
+
+
+@overload
+def weber_point(
+    points: ArrayLike,
+    weights: ArrayLike | None = None,
+    *,
+    groups: ArrayLike,
+    metric: Literal["euclidean", "manhattan"] = "euclidean",
+    tol: float = 1e-10,
+    max_iter: int = 10_000,
+    errors: Literal["raise", "skip"] = "raise",
+) -> WeberPoints: ...
 
 
 def weber_point(
