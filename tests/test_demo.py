@@ -53,11 +53,7 @@ def test_maps_are_real_images(ran):
     import matplotlib.image as mpimg
 
     _, out, _ = ran
-    expected = {"depots.png"}
-    if hasattr(pw, "voronoi_cells") and hasattr(pw, "p_median"):
-        expected.add("service_areas.png")
-    if hasattr(pw, "spanning_tree"):
-        expected.add("network.png")
+    expected = {"depots.png", "catchments.png", "network.png"}
     assert expected <= {p.name for p in out.glob("*.png")}
     for name in expected:
         image = mpimg.imread(out / name)
@@ -74,18 +70,16 @@ def test_scenario_is_inside_its_region():
     np.testing.assert_array_equal(orsavel().households, s.households)  # same seed, same data
 
 
-@pytest.mark.skipif(not (hasattr(pw, "voronoi_cells") and hasattr(pw, "p_median")), reason="kernels not in build")
-def test_service_areas_cover_the_land_and_carry_all_people(ran):
+def test_catchments_cover_the_land_and_carry_all_people(ran):
     _, out, _ = ran
     s = orsavel()
-    doc, cells = layer(out, "service_areas")
+    doc, cells = layer(out, "catchments")
     union = shapely.union_all(cells)
     # shapely reference: the cells tile the region (coast and lake included).
     assert union.symmetric_difference(s.region).area < 1e-6 * s.region.area
     assert sum(f["properties"]["people"] for f in doc["features"]) == pytest.approx(s.people.sum())
 
 
-@pytest.mark.skipif(not (hasattr(pw, "steiner_tree") and hasattr(pw, "p_median")), reason="kernels not in build")
 def test_network_layers_and_saving(ran):
     _, out, _ = ran
     mst_doc, mst = layer(out, "links_mst")

@@ -174,7 +174,29 @@ def _common(args: argparse.Namespace) -> dict[str, Any]:
 
 
 def _by(args: argparse.Namespace) -> dict[str, Any]:
-    return {"by": args.by, "progress": not args.quiet}
+    return {"by": args.by, "errors": args.errors}
+
+
+def _measure(frame: Any, prefix: str) -> tuple[str, str]:
+    """The column holding a measure (``cost_m``) and its unit (``m``), from the column name."""
+    name = next(c for c in frame.columns if str(c).startswith(prefix + "_"))
+    return name, str(name)[len(prefix) + 1:]
+
+
+def _unit_text(unit: str) -> str:
+    return "coordinate units" if unit == "u" else unit
+
+
+def _skipped(args: argparse.Namespace, frame: Any) -> str:
+    if "problem" not in frame.columns:
+        return ""
+    count = int(frame["problem"].notna().sum())
+    return f"; {count} group(s) skipped (see the problem column)" if count else ""
+
+
+def _write_summary(summary: Any, args: argparse.Namespace) -> None:
+    if getattr(args, "summary", None) is not None:
+        write_frame(summary, args.summary, args)
 
 
 def _cmd_weber_point(args: argparse.Namespace) -> None:
@@ -183,7 +205,9 @@ def _cmd_weber_point(args: argparse.Namespace) -> None:
     frame = read_points(args.input, args)
     out = gis.weber_point(frame, args.weight, metric=args.metric, **_by(args), **_common(args))
     write_frame(out, args.output, args)
-    _note(args, f"{len(out)} site(s); total weighted distance {out['cost'].sum():.6g}")
+    cost, unit = _measure(out, "cost")
+    _note(args, f"{len(out)} site(s); total weighted distance {out[cost].sum():.6g} "
+                f"(weight x {_unit_text(unit)}){_skipped(args, out)}")
 
 
 def _cmd_minimax_point(args: argparse.Namespace) -> None:
@@ -191,7 +215,9 @@ def _cmd_minimax_point(args: argparse.Namespace) -> None:
 
     out = gis.minimax_point(read_points(args.input, args), args.weight, **_by(args), **_common(args))
     write_frame(out, args.output, args)
-    _note(args, f"{len(out)} site(s); largest weighted distance {out['radius'].max():.6g}")
+    radius, unit = _measure(out, "weighted_radius")
+    _note(args, f"{len(out)} site(s); largest weighted distance {out[radius].max():.6g} "
+                f"(weight x {_unit_text(unit)}){_skipped(args, out)}")
 
 
 def _cmd_enclosing_circle(args: argparse.Namespace) -> None:
@@ -199,7 +225,8 @@ def _cmd_enclosing_circle(args: argparse.Namespace) -> None:
 
     out = gis.enclosing_circle(read_points(args.input, args), **_by(args), **_common(args))
     write_frame(out, args.output, args)
-    _note(args, f"{len(out)} circle(s); largest radius {out['radius'].max():.6g}")
+    radius, unit = _measure(out, "radius")
+    _note(args, f"{len(out)} circle(s); largest radius {out[radius].max():.6g} {_unit_text(unit)}{_skipped(args, out)}")
 
 
 def _cmd_enclosing_ellipse(args: argparse.Namespace) -> None:
@@ -207,7 +234,9 @@ def _cmd_enclosing_ellipse(args: argparse.Namespace) -> None:
 
     out = gis.enclosing_ellipse(read_points(args.input, args), tol=args.tol, **_by(args), **_common(args))
     write_frame(out, args.output, args)
-    _note(args, f"{len(out)} ellipse(s); total area {out['area'].sum():.6g}")
+    area, unit = _measure(out, "area")
+    _note(args, f"{len(out)} ellipse(s); total area {out[area].sum():.6g} {_unit_text(unit[:-1])} squared"
+                f"{_skipped(args, out)}")
 
 
 def _cmd_voronoi_cells(args: argparse.Namespace) -> None:
@@ -218,7 +247,8 @@ def _cmd_voronoi_cells(args: argparse.Namespace) -> None:
     demand = None if args.demand is None else read_points(args.demand, args, "the demand", ("weight",))
     out = gis.voronoi_cells(sites, region, demand=demand, weight=args.weight, **_common(args))
     write_frame(out, args.output, args)
-    _note(args, f"{len(out)} cell(s); total area {out['area'].sum():.6g}")
+    area, unit = _measure(out, "area")
+    _note(args, f"{len(out)} cell(s); total area {out[area].sum():.6g} {_unit_text(unit[:-1])} squared")
 
 
 def _cmd_nearest_site(args: argparse.Namespace) -> None:
@@ -226,17 +256,37 @@ def _cmd_nearest_site(args: argparse.Namespace) -> None:
 
     demand = read_points(args.input, args, "the demand")
     sites = read_points(args.sites, args, "the sites", ())
-    out = gis.nearest_site(demand, sites, args.weight, **_common(args))
-    write_frame(out, args.output, args)
-    _note(args, f"{len(out)} row(s) assigned to {len(sites)} site(s); total weighted distance {out.attrs['cost']:.6g}")
+    plan = gis.nearest_site(demand, sites, args.weight, **_common(args))
+    write_frame(plan.demand, args.output, args)
+    if args.site_loads is not None:
+        write_frame(plan.sites, args.site_loads, args)
+    _write_summary(plan.summary, args)
+    cost, unit = _measure(plan.summary, "cost")
+    _note(args, f"{len(plan.demand)} row(s) assigned to {len(plan.sites)} site(s); total weighted distance "
+                f"{plan.summary[cost].sum():.6g} (weight x {_unit_text(unit)})")
+
+
+def _network_note(args: argparse.Namespace, net: Any) -> None:
+    s = net.summary
+    length, unit = _measure(s, "length")
+    text = f"{len(net.edges)} edge(s); length {s[length].sum():.6g} {_unit_text(unit)}"
+    if "junctions" in s.columns:
+        mst, _ = _measure(s, "mst_length")
+        total, reference = float(s[length].sum()), float(s[mst].sum())
+        saving = 1.0 - total / reference if reference > 0 else 0.0
+        text = (f"{len(net.edges)} edge(s), {int(s['junctions'].sum())} junction(s); length {total:.6g} "
+                f"{_unit_text(unit)} against minimum spanning tree {reference:.6g}: saving {100 * saving:.2f} %"
+                + ("" if bool(s["optimal"].fillna(False).all()) else " (not proven optimal)"))
+    _note(args, text + _skipped(args, s))
 
 
 def _cmd_spanning_tree(args: argparse.Namespace) -> None:
     from . import gis
 
-    out = gis.spanning_tree(read_points(args.input, args), **_by(args), **_common(args))
-    write_frame(out, args.output, args)
-    _note(args, f"{len(out)} edge(s); length {out.attrs['length']:.6g}")
+    net = gis.spanning_tree(read_points(args.input, args), **_by(args), **_common(args))
+    write_frame(net.edges, args.output, args)
+    _write_summary(net.summary, args)
+    _network_note(args, net)
 
 
 def _cmd_steiner_tree(args: argparse.Namespace) -> None:
@@ -245,12 +295,10 @@ def _cmd_steiner_tree(args: argparse.Namespace) -> None:
     options: dict[str, Any] = {"exact": args.exact, "seed": args.seed}
     if args.time_limit is not None:
         options["time_limit"] = args.time_limit
-    out = gis.steiner_tree(read_points(args.input, args), **_by(args), **_common(args), **options)
-    write_frame(out, args.output, args)
-    a = out.attrs
-    _note(args, f"{len(out)} edge(s), {a['junctions']} junction(s); length {a['length']:.6g} against "
-                f"minimum spanning tree {a['mst_length']:.6g}: saving {100 * a['saving']:.2f} %"
-                + ("" if a["optimal"] else " (not proven optimal)"))
+    net = gis.steiner_tree(read_points(args.input, args), **_by(args), **_common(args), **options)
+    write_frame(net.edges, args.output, args)
+    _write_summary(net.summary, args)
+    _network_note(args, net)
 
 
 def _plan_command(kind: str, args: argparse.Namespace) -> None:
@@ -268,10 +316,15 @@ def _plan_command(kind: str, args: argparse.Namespace) -> None:
     write_frame(plan.sites, args.output, args)
     if args.assignment is not None:
         write_frame(plan.demand, args.assignment, args)
+    _write_summary(plan.summary, args)
     if kind == "median":
-        _note(args, f"{len(plan.sites)} site(s); total weighted distance {plan.sites.attrs['cost']:.6g}")
+        cost, unit = _measure(plan.summary, "cost")
+        _note(args, f"{len(plan.sites)} site(s); total weighted distance {plan.summary[cost].sum():.6g} "
+                    f"(weight x {_unit_text(unit)}){_skipped(args, plan.summary)}")
     else:
-        _note(args, f"{len(plan.sites)} site(s); largest weighted distance {plan.sites.attrs['radius']:.6g}")
+        radius, unit = _measure(plan.summary, "weighted_radius")
+        _note(args, f"{len(plan.sites)} site(s); largest weighted distance {plan.summary[radius].max():.6g} "
+                    f"(weight x {_unit_text(unit)}){_skipped(args, plan.summary)}")
 
 
 def _cmd_demo(args: argparse.Namespace) -> None:
@@ -336,11 +389,16 @@ def build_parser() -> argparse.ArgumentParser:
     io.add_argument("--crs", metavar="CRS", help="CRS of the coordinates (e.g. EPSG:4326) where the file has none")
     io.add_argument("--planar", action="store_true", help="coordinates are planar; no CRS needed")
     io.add_argument("--centroids", action="store_true", help="use centroids of non-point geometries")
-    io.add_argument("-q", "--quiet", action="store_true", help="no progress bar or summary line on stderr")
+    io.add_argument("-q", "--quiet", action="store_true", help="no summary line on stderr")
     weight = _Parser(add_help=False)
     weight.add_argument("--weight", metavar="COLUMN", help="column of non-negative demand per row (default 1)")
     by = _Parser(add_help=False)
     by.add_argument("--by", metavar="COLUMN", help="column whose values split the rows into groups; one answer each")
+    by.add_argument("--errors", choices=["raise", "skip"], default="raise",
+                    help="with --by: stop at the first group without an answer (raise), or keep it as a row "
+                         "whose problem column says why and solve the rest (skip) [raise]")
+    summary = _Parser(add_help=False)
+    summary.add_argument("--summary", metavar="FILE", help="also write the totals table (format by extension)")
     seed = _Parser(add_help=False)
     seed.add_argument("--seed", type=int, default=0, help="seed of the randomised search [0]")
 
@@ -357,15 +415,17 @@ def build_parser() -> argparse.ArgumentParser:
     command("enclosing-circle", _cmd_enclosing_circle, "the smallest circle covering the points", [by])
     p = command("enclosing-ellipse", _cmd_enclosing_ellipse, "the minimum-area ellipse covering the points", [by])
     p.add_argument("--tol", type=_positive_float, default=1e-7, help="relative area gap allowed [1e-7]")
-    p = command("voronoi-cells", _cmd_voronoi_cells, "service areas: each site's Voronoi cell clipped to a region",
+    p = command("voronoi-cells", _cmd_voronoi_cells, "catchments: each site's Voronoi cell clipped to a region",
                 [weight])
     p.add_argument("--region", metavar="FILE", help="polygons of the study region (default: sites' box + 10%%)")
     p.add_argument("--demand", metavar="FILE", help="demand points; adds each cell's load and count")
-    p = command("nearest-site", _cmd_nearest_site, "assign every point to its nearest site", [weight])
+    p = command("nearest-site", _cmd_nearest_site, "assign every point to its nearest site", [weight, summary])
     p.add_argument("--sites", metavar="FILE", required=True, help="the sites to assign to")
-    command("spanning-tree", _cmd_spanning_tree, "the Euclidean minimum spanning tree linking the points", [by])
+    p.add_argument("--site-loads", metavar="FILE", help="also write the sites with their load and count")
+    command("spanning-tree", _cmd_spanning_tree, "the Euclidean minimum spanning tree linking the points",
+            [by, summary])
     p = command("steiner-tree", _cmd_steiner_tree,
-                "the shortest network linking the points, with added junctions (Steiner tree)", [by, seed])
+                "the shortest network linking the points, with added junctions (Steiner tree)", [by, seed, summary])
     mode = p.add_mutually_exclusive_group()
     mode.add_argument("--exact", dest="exact", action="store_const", const=True, default=None,
                       help="insist on a proven optimum")
@@ -373,14 +433,14 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--time-limit", type=_positive_float, metavar="SECONDS", help="time allowed for the exact search")
     for name, kind, text in (("p-median", "median", "p sites minimising total weighted distance"),
                              ("p-center", "center", "p sites minimising the largest weighted distance")):
-        p = command(name, functools.partial(_plan_command, kind), text, [weight, by, seed])
+        p = command(name, functools.partial(_plan_command, kind), text, [weight, by, seed, summary])
         p.add_argument("-p", type=_positive_int, required=True, help="number of sites (per group)")
         p.add_argument("--assignment", metavar="FILE", help="also write the input rows with their site and distance")
         if kind == "median":
             p.add_argument("--effort", choices=["fast", "normal", "thorough"], default="normal")
             p.add_argument("--fixed", metavar="FILE", help="existing sites that stay where they are")
 
-    p = sub.add_parser("demo", help="run the invented scenario: depots, service areas and a link network",
+    p = sub.add_parser("demo", help="run the invented scenario: depots, catchments and a link network",
                        description="Run the invented demo scenario and write maps, layers and a summary table.")
     p.add_argument("--out", required=True, metavar="DIR", help="folder for the maps, layers and summary")
     p.add_argument("-q", "--quiet", action="store_true", help="print only the summary table")

@@ -3,43 +3,41 @@
 
 The same code runs on a laptop and on a cluster: connect a ``distributed.Client`` to
 the scheduler first (``Client("tcp://scheduler:8786")``) and every computation below
-runs there. Requires the ``dask`` extra (``pip install placewise[dask]``).
+runs there. Every partition calls the kernel's grouped form once and builds its rows from
+the result's own table (``to_frame``, ``summary`` or ``sites_frame``); errors and skipped
+groups name the user's group values and the table's own index labels, never positions
+inside a partition. Requires the ``dask`` extra (``pip install placewise[dask]``).
 """
 
 from __future__ import annotations
 
 import dataclasses
 import functools
-import inspect
-from typing import Any, Callable
+from typing import Any, Callable, Literal
 
 import numpy as np
 
 from ._core import InputError
+from ._errors import restate, restate_problems
 from ._results import Result
 
-__all__ = ["DistributedAllocation", "grouped", "nearest_site", "result_frame"]
+__all__ = ["DistributedAllocation", "GROUPED_KERNELS", "grouped", "nearest_site"]
 
-# Kernels that accept ``groups=``; looked up on the package lazily so that families added
-# later join without edits here.
-GROUPED_KERNELS = (
-    "weber_point",
-    "minimax_point",
-    "enclosing_circle",
-    "enclosing_ellipse",
-    "spanning_tree",
-    "steiner_tree",
-)
-
-
-# Batch-result fields that hold input row numbers (rather than positions within a group's
-# own output); in a distributed run they are translated to the table's index labels.
-_ROW_INDEX_FIELDS = {
-    "Circles": ("support_index",),
-    "MinimaxPoints": ("support_index",),
-    "Ellipses": ("support_index",),
-    "SpanningTrees": ("edges",),
+# Kernels with a grouped form over one point table, and the columns of their rows that
+# hold input row positions (translated to the table's index labels).
+GROUPED_KERNELS: dict[str, tuple[str, ...]] = {
+    "weber_point": (),
+    "minimax_point": (),
+    "enclosing_circle": (),
+    "enclosing_ellipse": (),
+    "spanning_tree": ("end_a", "end_b"),
+    "steiner_tree": ("end_a", "end_b"),
+    "delaunay": ("corner_a", "corner_b", "corner_c"),
+    "p_median": (),
+    "p_center": (),
 }
+_WEIGHTED = {"weber_point", "minimax_point", "p_median", "p_center"}
+_TABLES = ("frame", "summary", "sites")
 
 
 def _require_dask() -> Any:
@@ -53,106 +51,65 @@ def _require_dask() -> Any:
 def _kernel(name: str) -> Callable[..., Any]:
     import placewise
 
-    fn = getattr(placewise, name, None)
-    if name not in GROUPED_KERNELS or fn is None or "groups" not in inspect.signature(fn).parameters:
-        available = [k for k in GROUPED_KERNELS if hasattr(placewise, k)]
-        raise InputError(f"kernel must be one of {available}; got {name!r}")
-    return fn
+    if name not in GROUPED_KERNELS:
+        raise InputError(f"kernel must be one of {sorted(GROUPED_KERNELS)}; got {name!r}")
+    return getattr(placewise, name)
 
 
-def _column_names(name: str, trailing: tuple[int, ...]) -> list[str]:
-    if trailing == (2,):
-        return [f"{name}_x", f"{name}_y"]
-    return [f"{name}_" + "_".join(map(str, idx)) for idx in np.ndindex(*trailing)]
+def _table(result: Result, table: str) -> Any:
+    if table == "frame":
+        return result.to_frame()
+    if table == "summary":
+        return result.summary()
+    if not hasattr(result, "sites_frame"):
+        raise InputError(f"table='sites' is only for kernels with sites (p_median, p_center); got {type(result).__name__}")
+    return result.sites_frame()
 
 
-def result_frame(result: Result, label_column: str = "label", row_labels: Any = None) -> Any:
-    """One row per group of a batch result (a ``groups=`` call) as a pandas DataFrame.
-
-    Per-group arrays become columns (a ``(G, 2)`` field ``location`` becomes ``location_x``
-    and ``location_y``); CSR pairs (``<name>_offsets`` with the arrays they index) become
-    columns of per-group lists; scalars are repeated. With ``row_labels`` (one label per
-    input row), fields that hold input row numbers (support points, spanning-tree edges)
-    are translated to those labels.
-
-    Examples
-    --------
-    >>> import placewise as pw
-    >>> r = pw.weber_point([[0, 0], [2, 0], [5, 5]], groups=[1, 1, 2])
-    >>> result_frame(r, "town")[["town", "location_x", "location_y", "cost"]]
-       town  location_x  location_y  cost
-    0     1         0.0         0.0   2.0
-    1     2         5.0         5.0   0.0
-    """
+def _solve(part: Any, kernel: str, x: str, y: str, weight: str | None, by: str, table: str, errors: str,
+           options: dict[str, Any]) -> Any:
+    """One partition holding whole groups: one grouped kernel call, its table in user terms."""
     import pandas as pd
 
-    values = {f.name: getattr(result, f.name) for f in dataclasses.fields(result)}
-    labels = np.asarray(values.pop("labels"))
-    groups = len(labels)
-    columns: dict[str, Any] = {label_column: labels}
-    offsets = {
-        name[: -len("_offsets")]: np.asarray(v)
-        for name, v in values.items()
-        if name.endswith("_offsets") and isinstance(v, np.ndarray) and v.shape == (groups + 1,)
-    }
-    for name, value in values.items():
-        if name.endswith("_offsets") and name[: -len("_offsets")] in offsets:
-            continue
-        if isinstance(value, np.ndarray) and value.ndim >= 1:
-            csr = next(
-                (o for prefix, o in offsets.items() if name.startswith(prefix) and value.shape[0] == o[-1]),
-                None,
-            )
-            if csr is not None and (value.shape[0] != groups or groups == 0):
-                if row_labels is not None and name in _ROW_INDEX_FIELDS.get(type(result).__name__, ()):
-                    value = np.asarray(row_labels)[value]
-                columns[name] = [value[csr[g] : csr[g + 1]].tolist() for g in range(groups)]
-            elif value.shape[0] == groups and value.ndim == 1:
-                columns[name] = value
-            elif value.shape[0] == groups:
-                flat = value.reshape(groups, -1)
-                for k, column in enumerate(_column_names(name, value.shape[1:])):
-                    columns[column] = flat[:, k]
-            else:
-                continue
-        elif not isinstance(value, np.ndarray):
-            columns[name] = [value] * groups
-    return pd.DataFrame(columns)
-
-
-def _run_partition(
-    part: Any, kernel: str, x: str, y: str, weight: str | None, by: str, options: dict, meta: Any
-) -> Any:
-    import pandas as pd
-
-    if len(part) == 0:
-        return meta
     fn = _kernel(kernel)
     # The shuffle does not keep row order; restoring the table's index order makes every
     # group see its points in the order the in-memory call would, whatever the partitioning.
     part = part.sort_index(kind="stable")
-    # After the shuffle each group sits in exactly one partition, so labels can be coded
-    # locally: any hashable label type works.
     codes, uniques = pd.factorize(part[by], sort=True)
     points = part[[x, y]].to_numpy(dtype=np.float64)
-    args: list[Any] = [points]
+    rows = {"points": part.index.to_numpy(), "weights": part.index.to_numpy()}
+    arguments: dict[str, Any] = dict(options)
     if weight is not None:
-        args.append(part[weight].to_numpy(dtype=np.float64))
-    # Support indices are rows of this partition: report them as the table's own index labels.
-    frame = result_frame(fn(*args, groups=codes, **options), by, row_labels=part.index.to_numpy())
-    frame[by] = uniques.take(frame[by].to_numpy())
+        arguments["weights"] = part[weight].to_numpy(dtype=np.float64)
+    try:
+        result = fn(points, groups=codes, errors=errors, **arguments)
+    except InputError as exc:
+        raise restate(exc, uniques, rows) from None
+    frame = _table(result, table)
+    code = frame["group"].to_numpy(dtype=np.int64)
+    frame["problem"] = restate_problems(result.problem_detail, uniques, rows)[code]
+    frame = frame.drop(columns=["group"])
+    frame.insert(0, by, uniques.take(code))
+    labels = part.index.to_numpy()
+    for name in GROUPED_KERNELS[kernel]:
+        if name in frame.columns:
+            positions = frame[name].to_numpy(dtype=np.int64)
+            named = np.full(len(frame), None, dtype=object)
+            named[positions >= 0] = labels[positions[positions >= 0]]
+            frame[name] = named
     return frame
 
 
-def _meta_frame(kernel: str, label_dtype: Any, weighted: bool, by: str, options: dict) -> Any:
+def _meta_frame(kernel: str, label_dtype: Any, weighted: bool, by: str, table: str, options: dict[str, Any]) -> Any:
+    """The output's columns and dtypes, from the kernel run on a tiny group of our own."""
     import pandas as pd
 
-    fn = _kernel(kernel)
-    square = np.array([[0.0, 0.0], [1.0, 0.0], [1.0, 1.0], [0.0, 1.5]])
-    args: list[Any] = [square] + ([np.ones(4)] if weighted else [])
-    frame = result_frame(fn(*args, groups=np.zeros(4, dtype=np.int64), **options), by)
-    frame[by] = pd.Series(pd.array([], dtype=label_dtype)).reindex(range(len(frame))).array
-    return frame.iloc[:0]
+    square = pd.DataFrame({"x": [0.0, 1.0, 1.0, 0.0, 0.5], "y": [0.0, 0.0, 1.0, 1.5, 0.4], "w": 1.0, "g": 0})
+    frame = _solve(square, kernel, "x", "y", "w" if weighted else None, "g", table, "raise", options)
+    frame = frame.rename(columns={"g": by}).iloc[:0]
+    frame[by] = pd.Series(pd.array([], dtype=label_dtype))
+    frame["problem"] = frame["problem"].astype(object)
+    return frame
 
 
 def grouped(
@@ -163,30 +120,39 @@ def grouped(
     y: str,
     weight: str | None = None,
     by: str,
+    table: Literal["frame", "summary", "sites"] = "frame",
+    errors: Literal["raise", "skip"] = "raise",
     **options: Any,
 ) -> Any:
-    """Run a grouped kernel over a Dask DataFrame; one result row per group, lazily.
+    """Run a grouped kernel over a Dask DataFrame, lazily; the rows of the result's table.
 
     The frame may be partitioned any way: it is shuffled so that each group's rows meet in
-    one partition, then every partition runs the in-memory ``groups=`` call. The results
-    equal that call on the whole table.
+    one partition, then every partition runs the in-memory ``groups=`` call once. The
+    result equals that call's table on the whole table.
 
     Parameters
     ----------
     ddf : dask.dataframe.DataFrame
         Points table with coordinate columns ``x``, ``y``, optional ``weight``, and ``by``.
     kernel : str
-        One of ``"weber_point"``, ``"minimax_point"``, ``"enclosing_circle"``,
-        ``"enclosing_ellipse"``, ``"spanning_tree"``, ``"steiner_tree"``.
+        One of :data:`GROUPED_KERNELS`: ``"weber_point"``, ``"minimax_point"``,
+        ``"enclosing_circle"``, ``"enclosing_ellipse"``, ``"spanning_tree"``,
+        ``"steiner_tree"``, ``"delaunay"``, ``"p_median"``, ``"p_center"``.
     x, y, weight, by : str
-        Column names. Group labels may be of any hashable type.
+        Column names. Group labels may be of any sortable type.
+    table : {"frame", "summary", "sites"}
+        Which table of the result: its rows (``to_frame``: one per group for single sites,
+        one per edge for trees), its totals (``summary``), or a plan's sites.
+    errors : {"raise", "skip"}
+        Fail on the first group without an answer, or keep it with its ``problem``.
     **options
-        Passed to the kernel (for example ``tol=1e-8``).
+        Passed to the kernel (for example ``tol=1e-8``, ``p=5``).
 
     Returns
     -------
     dask.dataframe.DataFrame
-        Lazy; columns as :func:`result_frame`, with the group column ``by``.
+        Lazy; the ``by`` column (the user's values), the table's columns, and ``problem``.
+        Columns holding input rows (tree ends) hold the table's index labels.
 
     Examples
     --------
@@ -194,20 +160,28 @@ def grouped(
     >>> import placewise.cluster as pc
     >>> table = pd.DataFrame({"x": [0, 4, 2, 9.0], "y": [0, 0, 4, 9.0], "town": ["a", "a", "a", "b"]})
     >>> out = pc.grouped(dd.from_pandas(table, npartitions=2), "weber_point", x="x", y="y", by="town")
-    >>> out.compute(scheduler="sync").set_index("town").sort_index()["cost"].round(6).to_dict()
+    >>> out.compute(scheduler="sync").set_index("town").sort_index()["cost_u"].round(6).to_dict()
     {'a': 7.464102, 'b': 0.0}
     """
     _require_dask()
     _kernel(kernel)
+    if table not in _TABLES:
+        raise InputError(f"table must be one of {list(_TABLES)}; got {table!r}")
+    if weight is not None and kernel not in _WEIGHTED:
+        raise InputError(f"{kernel} takes no weights; got weight={weight!r}")
     for column in [x, y, by] + ([weight] if weight else []):
         if column not in ddf.columns:
             raise InputError(f"column {column!r} not found; the frame has {list(ddf.columns)}")
-    meta = _meta_frame(kernel, ddf._meta[by].dtype, weight is not None, by, options)
-    shuffled = ddf.shuffle(on=by)
-    run = functools.partial(
-        _run_partition, kernel=kernel, x=x, y=y, weight=weight, by=by, options=options, meta=meta
-    )
-    return shuffled.map_partitions(run, meta=meta)
+    meta = _meta_frame(kernel, ddf._meta[by].dtype, weight is not None, by, table, options)
+    run = functools.partial(_solve_or_meta, kernel=kernel, x=x, y=y, weight=weight, by=by, table=table,
+                            errors=errors, options=options, meta=meta)
+    return ddf.shuffle(on=by).map_partitions(run, meta=meta)
+
+
+def _solve_or_meta(part: Any, meta: Any, **arguments: Any) -> Any:
+    if len(part) == 0:
+        return meta
+    return _solve(part, **arguments)
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
@@ -217,7 +191,8 @@ class DistributedAllocation(Result):
     Attributes
     ----------
     frame : dask.dataframe.DataFrame
-        The input rows with ``site`` (index into ``sites``) and ``distance`` columns (lazy).
+        The input rows with ``site`` (row of ``sites``) and ``distance_u`` (coordinate units)
+        columns (lazy).
     load : dask.delayed.Delayed
         Summed weight per site, shape ``(k,)``, reduced across partitions (``.compute()``).
     cost : dask.delayed.Delayed
@@ -235,20 +210,28 @@ def _allocate_partition(part: Any, sites: np.ndarray, x: str, y: str, weight: st
     part = part.copy()
     if len(part) == 0:
         part["site"] = np.zeros(0, dtype=np.int64)
-        part["distance"] = np.zeros(0)
+        part["distance_u"] = np.zeros(0)
         return part
     w = part[weight].to_numpy(dtype=np.float64) if weight else None
-    allocation = placewise.nearest_site(part[[x, y]].to_numpy(dtype=np.float64), sites, w)
-    part["site"] = np.asarray(allocation.index, dtype=np.int64)
-    part["distance"] = np.asarray(allocation.distance)
+    rows = {"points": part.index.to_numpy(), "weights": part.index.to_numpy()}
+    try:
+        allocation = placewise.nearest_site(part[[x, y]].to_numpy(dtype=np.float64), sites, w)
+    except InputError as exc:
+        raise restate(exc, None, rows) from None
+    points = allocation.to_frame()
+    part["site"] = points["assignment"].to_numpy(dtype=np.int64)
+    part["distance_u"] = points["distance_u"].to_numpy()
     return part
 
 
-def _partition_totals(part: Any, site_count: int, weight: str | None) -> tuple[np.ndarray, float]:
-    w = part[weight].to_numpy(dtype=np.float64) if weight else np.ones(len(part))
-    index = part["site"].to_numpy()
-    load = np.bincount(index, weights=w, minlength=site_count) if len(part) else np.zeros(site_count)
-    return load, float(np.sum(w * part["distance"].to_numpy()))
+def _partition_totals(part: Any, sites: np.ndarray, x: str, y: str, weight: str | None) -> tuple[np.ndarray, float]:
+    import placewise
+
+    if len(part) == 0:
+        return np.zeros(len(sites)), 0.0
+    w = part[weight].to_numpy(dtype=np.float64) if weight else None
+    allocation = placewise.nearest_site(part[[x, y]].to_numpy(dtype=np.float64), sites, w)
+    return np.asarray(allocation.sites_frame()["load"], dtype=np.float64), float(allocation.cost)
 
 
 def _reduce_totals(totals: list[tuple[np.ndarray, float]]) -> tuple[np.ndarray, float]:
@@ -258,6 +241,9 @@ def _reduce_totals(totals: list[tuple[np.ndarray, float]]) -> tuple[np.ndarray, 
 
 def nearest_site(ddf: Any, sites: Any, *, x: str, y: str, weight: str | None = None) -> DistributedAllocation:
     """Allocate every row of a Dask DataFrame to its nearest site; loads reduced across partitions.
+
+    Each partition's loads and cost come from the kernel (a partition whose weights are all
+    zero is valid and adds nothing).
 
     Parameters
     ----------
@@ -292,8 +278,8 @@ def nearest_site(ddf: Any, sites: Any, *, x: str, y: str, weight: str | None = N
             raise InputError(f"column {column!r} not found; the frame has {list(ddf.columns)}")
     meta = ddf._meta.copy()
     meta["site"] = np.zeros(0, dtype=np.int64)
-    meta["distance"] = np.zeros(0)
+    meta["distance_u"] = np.zeros(0)
     frame = ddf.map_partitions(_allocate_partition, site_array, x, y, weight, meta=meta)
-    totals = [dask.delayed(_partition_totals)(part, len(site_array), weight) for part in frame.to_delayed()]
+    totals = [dask.delayed(_partition_totals)(part, site_array, x, y, weight) for part in ddf.to_delayed()]
     reduced = dask.delayed(_reduce_totals)(totals)
     return DistributedAllocation(frame, reduced[0], reduced[1])

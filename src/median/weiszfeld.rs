@@ -417,9 +417,30 @@ mod tests {
     fn parallel_pass_is_deterministic_and_matches_sequential() {
         let n: u64 = 100_000;
         let pts: Vec<Point> = (0..n).map(|i| [((i * 7919) % 10007) as f64, ((i * 104729) % 9973) as f64]).collect();
-        let a = solve(&pts, Weights::Unit, 1e-10, 1000);
-        let b = solve(&pts, Weights::Unit, 1e-10, 1000);
+        let bbox = BoundingBox::of(&pts).unwrap();
+        let problem = Problem {
+            points: &pts,
+            weights: Weights::Unit,
+            origin: bbox.center(),
+            total_weight: n as f64,
+            squares_are_safe: true,
+        };
+        let x = [123.25, -456.5];
+        // The chunked parallel pass against one sequential pass over all points: the same
+        // compensated cost to rounding, and the same nearest point.
+        let parallel = problem.evaluate(x);
+        let sequential = problem.pass_over(x, 0, &pts);
+        assert!(pts.len() >= PARALLEL_MIN_POINTS, "the parallel path must run");
+        assert!((parallel.cost() - sequential.cost()).abs() <= 1e-12 * sequential.cost());
+        assert_eq!(parallel.nearest, sequential.nearest);
+        // Deterministic: the same bits on one thread and on three.
+        let on = |threads: usize| {
+            let pool = rayon::ThreadPoolBuilder::new().num_threads(threads).build().unwrap();
+            pool.install(|| solve(&pts, Weights::Unit, 1e-10, 1000))
+        };
+        let (a, b) = (on(1), on(3));
         assert_eq!(a, b);
         assert!(a.converged);
     }
+
 }

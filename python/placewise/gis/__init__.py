@@ -1,0 +1,47 @@
+"""GeoPandas layer: every kernel on GeoDataFrames, in the frame's own CRS.
+
+Each function takes a ``GeoDataFrame`` (or ``GeoSeries``) of points and returns
+GeoDataFrames in the input's CRS. Coordinates are handled as follows:
+
+* a **projected** CRS is used as it is — distances, costs and areas come out in its units,
+  named in the columns (``distance_m``, ``area_m2``; ``_ft`` for feet);
+* a **geographic** CRS (degrees) is projected to the frame's estimated UTM zone
+  (``GeoDataFrame.estimate_utm_crs``, via pyproj), the kernel runs there, and geometries are
+  projected back — distances and costs are then metres and areas square metres;
+* **no CRS** raises ``InputError`` unless ``planar=True`` says the coordinates are already
+  planar (columns then end in ``_u``: the coordinates' own unit).
+
+Grouped runs (``by=``) call the kernel's grouped form once and return rows sorted by the
+group value, with a ``problem`` column (``None``, or why a group was skipped with
+``errors="skip"``). Errors name the user's group values and row labels. Totals (a plan's
+cost, a tree's length and saving) are columns of a ``summary`` table, never only
+attributes, so every file writer keeps them.
+
+Results are planning aids under the model (straight-line distance in the working CRS and
+the given weights); check them against local regulations and licensed professional
+judgement.
+
+Requires the ``geo`` extra (geopandas, pyproj).
+"""
+
+from __future__ import annotations
+
+from .catchments import voronoi_cells
+from .networks import Network, spanning_tree, steiner_tree
+from .plans import SitePlan, nearest_site, p_center, p_median
+from .sites import enclosing_circle, enclosing_ellipse, minimax_point, weber_point
+
+__all__ = [
+    "Network",
+    "SitePlan",
+    "enclosing_circle",
+    "enclosing_ellipse",
+    "minimax_point",
+    "nearest_site",
+    "p_center",
+    "p_median",
+    "spanning_tree",
+    "steiner_tree",
+    "voronoi_cells",
+    "weber_point",
+]

@@ -1,0 +1,268 @@
+"""Preparing GeoDataFrames for the kernels, and turning kernel results back into frames.
+
+One path for every function of :mod:`placewise.gis`: validate the frame, bring its points
+into the working CRS, code the ``by`` column's values as integer group labels, call the
+kernel's grouped form **once** (one crossing into Rust and back), and build the output from
+the result's own ``to_geodataframe``, with the group codes and row positions restated in the
+user's terms (the ``by`` column's values, the frame's index labels).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from typing import Any, Callable, Mapping, Sequence
+
+import numpy as np
+
+try:
+    import geopandas as gpd
+    import pandas as pd
+    import shapely
+    from pyproj import CRS
+except ImportError:  # pragma: no cover - exercised only without the extra
+    raise ImportError("placewise.gis needs geopandas and pyproj: pip install 'placewise[geo]'") from None
+
+from .._core import InputError
+from .._errors import plain, restate, restate_problems
+
+# Short unit names for column names (``distance_m``), by the CRS axis unit's name.
+_UNIT_NAMES = {
+    "metre": "m",
+    "meter": "m",
+    "kilometre": "km",
+    "foot": "ft",
+    "us survey foot": "usft",
+    "foot_us": "usft",
+}
+
+
+def unit_of(crs: Any) -> str:
+    """The short name of a projected CRS's length unit (``"m"``, ``"ft"``, ``"usft"``);
+    ``"u"`` (the coordinates' own unit) without a CRS."""
+    if crs is None:
+        return "u"
+    axes = CRS(crs).axis_info
+    name = (axes[0].unit_name if axes else "").strip().lower()
+    return _UNIT_NAMES.get(name, "".join(ch for ch in name if ch.isalnum()) or "u")
+
+
+@dataclasses.dataclass
+class Prepared:
+    """Points of one frame, in the working (metric) CRS."""
+
+    frame: Any  # the caller's GeoDataFrame
+    xy: np.ndarray  # (n, 2) float64 in the working CRS
+    crs: Any  # the caller's CRS (None when planar without one)
+    work: Any  # the working CRS (None when planar without one)
+
+    @property
+    def unit(self) -> str:
+        return unit_of(self.work)
+
+    @property
+    def rows(self) -> np.ndarray:
+        """The frame's index labels, by row position."""
+        return self.frame.index.to_numpy(dtype=object)
+
+    def back(self, geoms: Any) -> Any:
+        """Working-CRS geometries as a GeoSeries in the caller's CRS."""
+        series = gpd.GeoSeries(np.asarray(geoms, dtype=object), crs=self.work)
+        if self.crs is not None and self.work is not None and not CRS(self.crs).equals(self.work):
+            series = series.to_crs(self.crs)
+        return series.reset_index(drop=True)
+
+
+def as_frame(obj: Any, name: str) -> Any:
+    if isinstance(obj, gpd.GeoDataFrame):
+        return obj
+    if isinstance(obj, gpd.GeoSeries):
+        return gpd.GeoDataFrame(geometry=obj)
+    raise InputError(f"{name} must be a GeoDataFrame or GeoSeries; got {type(obj).__name__}")
+
+
+def _working_crs(frame: Any, name: str, planar: bool) -> Any:
+    crs = frame.crs
+    if crs is None:
+        if not planar:
+            raise InputError(
+                f"{name} has no CRS: set one with .set_crs(...), or pass planar=True if the "
+                "coordinates are already planar"
+            )
+        return None
+    if planar:
+        raise InputError(f"{name} has a CRS ({CRS(crs).name}); planar=True is only for frames without one")
+    crs = CRS(crs)
+    if crs.is_geographic:
+        try:
+            utm = frame.estimate_utm_crs()
+        except Exception as exc:  # pyproj/geopandas raise several types here
+            raise InputError(f"{name}: cannot estimate a UTM zone for its extent ({exc})") from exc
+        return CRS(utm)
+    if not crs.is_projected:
+        raise InputError(f"{name}: CRS {crs.name!r} is neither geographic nor projected")
+    return crs
+
+
+def _points_of(frame: Any, name: str, centroids: bool) -> np.ndarray:
+    geoms = frame.geometry.values
+    missing = shapely.is_missing(geoms) | shapely.is_empty(geoms)
+    if missing.any():
+        row = plain(frame.index[int(np.argmax(missing))])
+        raise InputError(f"{name}: row {row!r} has a missing or empty geometry")
+    kinds = shapely.get_type_id(geoms)
+    not_point = kinds != shapely.GeometryType.POINT
+    if not_point.any():
+        if not centroids:
+            at = int(np.argmax(not_point))
+            row = plain(frame.index[at])
+            kind = shapely.GeometryType(int(kinds[at])).name.title()
+            raise InputError(
+                f"{name}: row {row!r} is a {kind}, not a Point; pass centroids=True to use the "
+                "centroids of non-point geometries"
+            )
+        geoms = shapely.centroid(geoms)
+    return np.column_stack([shapely.get_x(geoms), shapely.get_y(geoms)]).astype(np.float64)
+
+
+def prepare(obj: Any, name: str, *, planar: bool, centroids: bool, work: Any = "estimate") -> Prepared:
+    """Validate a frame and bring its points into the working CRS.
+
+    ``work="estimate"`` chooses the working CRS from this frame; otherwise the given
+    working CRS (from a companion frame) is used and this frame must agree on having one.
+    """
+    frame = as_frame(obj, name)
+    if len(frame) == 0:
+        raise InputError(f"{name} has no rows")
+    if isinstance(work, str):
+        work = _working_crs(frame, name, planar)
+    elif (work is None) != (frame.crs is None):
+        raise InputError(
+            f"{name}: either every frame has a CRS or none has (planar=True); {name} "
+            + ("has none" if frame.crs is None else "has one while the first frame has none")
+        )
+    projected = frame if work is None or CRS(frame.crs).equals(work) else frame.to_crs(work)
+    return Prepared(frame, _points_of(projected, name, centroids), frame.crs, work)
+
+
+def column(frame: Any, spec: Any, name: str, what: str) -> np.ndarray:
+    """A numeric column named ``spec`` (or an array of the frame's length), as float64."""
+    if isinstance(spec, str):
+        if spec not in frame.columns:
+            raise InputError(f"{name} has no {what} column {spec!r}; columns: {list(frame.columns)}")
+        values = frame[spec]
+        label = f"{what} column {spec!r}"
+    else:
+        values = np.asarray(spec)
+        label = what
+        if values.shape != (len(frame),):
+            raise InputError(f"{name}: {what} must have one value per row ({len(frame)}); got shape {values.shape}")
+    try:
+        out = np.asarray(pd.to_numeric(pd.Series(np.asarray(values)), errors="raise"), dtype=np.float64)
+    except (ValueError, TypeError) as exc:
+        raise InputError(f"{name}: {label} is not numeric ({exc})") from exc
+    bad = ~np.isfinite(out)
+    if bad.any():
+        row = plain(frame.index[int(np.argmax(bad))])
+        raise InputError(f"{name}: {label} has a missing or non-finite value at row {row!r}")
+    return out
+
+
+def weights(prepared: Prepared, weight: Any, name: str) -> np.ndarray | None:
+    return None if weight is None else column(prepared.frame, weight, name, "weight")
+
+
+@dataclasses.dataclass
+class Groups:
+    """A frame's ``by`` column coded as integer labels ``0..G-1`` in sorted order of its values."""
+
+    name: str
+    values: Any  # pandas Index of the G sorted group values
+    codes: np.ndarray  # (n,) int64
+
+    @property
+    def counts(self) -> np.ndarray:
+        return np.bincount(self.codes, minlength=len(self.values))
+
+
+def groups_of(frame: Any, by: str | None, name: str) -> Groups | None:
+    if by is None:
+        return None
+    if by not in frame.columns:
+        raise InputError(f"{name} has no group column {by!r}; columns: {list(frame.columns)}")
+    values = frame[by]
+    if values.isna().any():
+        row = plain(frame.index[int(np.argmax(values.isna().to_numpy()))])
+        raise InputError(f"{name}: group column {by!r} has a missing value at row {row!r}")
+    try:
+        codes, uniques = pd.factorize(values, sort=True)
+    except TypeError as exc:
+        raise InputError(f"{name}: group column {by!r} mixes values that cannot be sorted ({exc})") from exc
+    return Groups(by, pd.Index(uniques, name=by), codes.astype(np.int64))
+
+
+def call(
+    kernel: Callable[..., Any], *args: Any, groups: Groups | None = None,
+    rows: Mapping[str, Any] | None = None, **options: Any,
+) -> Any:
+    """Run a kernel once (its grouped form when ``groups`` is given), restating any
+    ``InputError`` with the user's group values and row labels."""
+    try:
+        if groups is None:
+            return kernel(*args, **options)
+        return kernel(*args, groups=groups.codes, **options)
+    except InputError as exc:
+        raise restate(exc, None if groups is None else groups.values, rows) from None
+
+
+def in_user_terms(
+    table: Any, result: Any, groups: Groups | None, rows: Mapping[str, Any] | None = None,
+    *, count: bool = False,
+) -> Any:
+    """A result's table with its ``group`` column replaced by the ``by`` column (the user's
+    values) and its ``problem`` column restated with the user's group values and row labels."""
+    if groups is None:
+        return table
+    code = table["group"].to_numpy(dtype=np.int64)
+    problems = restate_problems(result.problem_detail, groups.values, rows)
+    table = table.drop(columns=["group", "problem"])
+    table.insert(0, groups.name, groups.values.take(code).to_numpy())
+    if count:
+        table.insert(1, "count", groups.counts[code])
+    table["problem"] = problems[code]
+    return table
+
+
+def with_unit(result: Any, prepared: Prepared) -> Any:
+    """The result with lengths named in the working CRS's unit (``distance_m``)."""
+    return dataclasses.replace(result, unit=prepared.unit)
+
+
+def framed(
+    result: Any, prepared: Prepared, groups: Groups | None, rows: Mapping[str, Any] | None = None,
+    *, count: bool = False, row_columns: Sequence[str] = (),
+) -> Any:
+    """A kernel result as a GeoDataFrame in the caller's CRS, in the user's terms.
+
+    Lengths are named with the working CRS's unit; the ``group`` column becomes the ``by``
+    column holding the user's values, the ``problem`` column speaks of the user's groups and
+    rows, and ``row_columns`` (input row positions, -1 for none) become the frame's index
+    labels (None for none). ``count=True`` adds the rows used (per group).
+    """
+    out = with_unit(result, prepared).to_geodataframe(crs=prepared.work)
+    out = gpd.GeoDataFrame(out.drop(columns=out.geometry.name), geometry=prepared.back(out.geometry.values).values,
+                           crs=prepared.crs)
+    row_labels(out, prepared, row_columns)
+    if groups is None and count:
+        out.insert(0, "count", len(prepared.xy))
+    return in_user_terms(out, result, groups, rows, count=count)
+
+
+def row_labels(table: Any, prepared: Prepared, columns: Sequence[str]) -> None:
+    """Replace columns of input row positions (-1 for none) by the frame's index labels (None)."""
+    labels = prepared.rows
+    for name in columns:
+        positions = table[name].to_numpy()
+        valid = positions >= 0
+        named = np.full(len(table), None, dtype=object)
+        named[valid] = labels[positions[valid].astype(np.int64)]
+        table[name] = named

@@ -1,0 +1,99 @@
+"""Networks linking a GeoDataFrame's points: minimum spanning tree and Steiner tree."""
+
+from __future__ import annotations
+
+from typing import Any, Literal, NamedTuple
+
+import placewise as _pw
+
+from ._frames import call, framed, groups_of, in_user_terms, prepare, with_unit
+
+__all__ = ["Network", "spanning_tree", "steiner_tree"]
+
+
+class Network(NamedTuple):
+    """A network as two layers that every file writer keeps.
+
+    Attributes
+    ----------
+    edges : GeoDataFrame
+        One LineString per edge: ``end_a``, ``end_b`` (the linked rows' index labels; None
+        for an added junction), ``length_<unit>``, plus the ``by`` column and ``problem``
+        for grouped runs.
+    summary : DataFrame
+        One row per tree (per group): ``count`` (rows linked), ``length_<unit>`` and, for
+        Steiner trees, ``mst_length_<unit>``, ``saving`` (1 − length / MST length),
+        ``junctions`` (Steiner points added) and ``optimal`` (proven).
+    """
+
+    edges: Any
+    summary: Any
+
+
+def _network(kernel: Any, frame: Any, by: str | None, planar: bool, centroids: bool, errors: str,
+             options: dict[str, Any]) -> Network:
+    pf = prepare(frame, "frame", planar=planar, centroids=centroids)
+    groups = groups_of(pf.frame, by, "frame")
+    rows = {"points": pf.rows}
+    grouped = {} if groups is None else {"errors": errors}
+    result = call(kernel, pf.xy, groups=groups, rows=rows, **grouped, **options)
+    edges = framed(result, pf, groups, rows, row_columns=("end_a", "end_b"))
+    summary = with_unit(result, pf).summary()
+    if groups is None:
+        summary.insert(0, "count", len(pf.xy))
+    summary = in_user_terms(summary, result, groups, rows, count=True)
+    return Network(edges, summary)
+
+
+def spanning_tree(
+    frame: Any, by: str | None = None, *, planar: bool = False, centroids: bool = False,
+    errors: Literal["raise", "skip"] = "raise",
+) -> Network:
+    """The Euclidean minimum spanning tree linking a frame's points (one per group with ``by``).
+
+    Returns
+    -------
+    Network
+        ``edges`` (LineStrings with ``end_a``, ``end_b`` as the rows' index labels and
+        ``length_<unit>``) and ``summary`` (one row per tree with its total length).
+
+    Examples
+    --------
+    >>> import geopandas as gpd
+    >>> from placewise import gis
+    >>> pts = gpd.GeoSeries(gpd.points_from_xy([0, 1, 1, 0], [0, 0, 1, 1]))
+    >>> float(gis.spanning_tree(pts, planar=True).summary["length_u"].iloc[0])   # three sides
+    3.0
+    """
+    return _network(_pw.spanning_tree, frame, by, planar, centroids, errors, {})
+
+
+def steiner_tree(
+    frame: Any, by: str | None = None, *, planar: bool = False, centroids: bool = False,
+    errors: Literal["raise", "skip"] = "raise", **options: Any,
+) -> Network:
+    """The Euclidean Steiner tree linking a frame's points, with its saving over the MST.
+
+    Parameters
+    ----------
+    **options
+        Passed to :func:`placewise.steiner_tree` (``exact``, ``seed``, ``time_limit``).
+
+    Returns
+    -------
+    Network
+        ``edges`` (an end at an added junction has ``end_a`` / ``end_b`` None) and
+        ``summary`` with ``length_<unit>``, ``mst_length_<unit>``, ``saving``,
+        ``junctions`` and ``optimal``.
+
+    Examples
+    --------
+    >>> import geopandas as gpd
+    >>> from placewise import gis
+    >>> pts = gpd.GeoSeries(gpd.points_from_xy([0, 1, 1, 0], [0, 0, 1, 1]))
+    >>> net = gis.steiner_tree(pts, planar=True)
+    >>> s = net.summary.iloc[0]
+    >>> round(float(s["length_u"]), 9), int(s["junctions"])    # 1 + sqrt(3), two junctions
+    (2.732050808, 2)
+    """
+    return _network(_pw.steiner_tree, frame, by, planar, centroids, errors, options)

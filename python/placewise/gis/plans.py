@@ -1,0 +1,200 @@
+"""Sites serving demand on GeoDataFrames: nearest-site catchments of given sites, and the
+p-median and p-center plans that choose the sites."""
+
+from __future__ import annotations
+
+from typing import Any, Literal, NamedTuple
+
+import numpy as np
+
+import placewise as _pw
+
+from ._frames import Prepared, call, framed, groups_of, in_user_terms, prepare, weights, with_unit
+
+__all__ = ["SitePlan", "nearest_site", "p_center", "p_median"]
+
+
+class SitePlan(NamedTuple):
+    """Sites and the demand they serve, as three tables that every file writer keeps.
+
+    Attributes
+    ----------
+    sites : GeoDataFrame
+        One point per site with its ``load`` (summed weight) and ``count`` (rows served);
+        for plans also ``x``, ``y`` and ``fixed`` (an existing site). Its index labels name
+        the sites.
+    demand : GeoDataFrame
+        A copy of the demand frame with ``site`` (the index label of the serving row of
+        ``sites``) and ``distance_<unit>`` (to that site, in the working CRS's unit).
+    summary : DataFrame
+        One row (per group with ``by``) of totals: ``cost_<unit>`` (total weighted
+        distance) or ``weighted_radius_<unit>`` (largest weighted distance, p-center), the
+        number of ``sites``, and the demand's ``load`` and ``count``.
+    """
+
+    sites: Any
+    demand: Any
+    summary: Any
+
+
+def _demand_layer(pf: Prepared, result: Any, site_labels: np.ndarray) -> Any:
+    """The demand frame with its serving site (by the sites frame's label) and distance."""
+    points = with_unit(result, pf).to_frame()
+    out = pf.frame.copy()
+    assignment = points["assignment"].to_numpy(dtype=np.int64)
+    served = assignment >= 0  # a point of a skipped group has no site
+    site = np.full(len(out), None, dtype=object)
+    site[served] = site_labels[assignment[served]]
+    out["site"] = site
+    distance = [c for c in points.columns if c.startswith("distance_")][0]
+    out[distance] = points[distance].to_numpy()
+    return out
+
+
+def _summary(result: Any, pf: Prepared, groups: Any, rows: Any) -> Any:
+    return in_user_terms(with_unit(result, pf).summary(), result, groups, rows)
+
+
+def nearest_site(
+    demand: Any, sites: Any, weight: Any = None, *, by: str | None = None,
+    planar: bool = False, centroids: bool = False, errors: Literal["raise", "skip"] = "raise",
+) -> SitePlan:
+    """Assign every demand row to its nearest site (straight-line distance in the working CRS).
+
+    Parameters
+    ----------
+    demand, sites : GeoDataFrame or GeoSeries of points
+    weight : str or array_like, optional
+        Demand weight column (or values); default 1 per row.
+    by : str, optional
+        A column of both frames: each demand group is served only by the sites of its group.
+
+    Returns
+    -------
+    SitePlan
+        ``sites`` (the sites frame with ``load`` and ``count``), ``demand`` (with ``site``,
+        the serving site's index label, and ``distance_<unit>``) and ``summary``.
+
+    Examples
+    --------
+    >>> import geopandas as gpd
+    >>> from placewise import gis
+    >>> sites = gpd.GeoSeries(gpd.points_from_xy([0, 10], [0, 0]), index=["west", "east"])
+    >>> homes = gpd.GeoSeries(gpd.points_from_xy([1, 9, 8], [0, 0, 0]))
+    >>> plan = gis.nearest_site(homes, sites, planar=True)
+    >>> plan.demand["site"].tolist(), float(plan.summary["cost_u"].iloc[0])
+    (['west', 'east', 'east'], 4.0)
+    >>> plan.sites["load"].tolist()
+    [1.0, 2.0]
+    """
+    sf = prepare(sites, "sites", planar=planar, centroids=centroids)
+    df = prepare(demand, "demand", planar=planar, centroids=centroids, work=sf.work)
+    groups = groups_of(df.frame, by, "demand")
+    rows = {"points": df.rows, "weights": df.rows, "sites": sf.rows}
+    w = weights(df, weight, "demand")
+    if groups is None:
+        result = call(_pw.nearest_site, df.xy, sf.xy, w, rows=rows)
+    else:
+        site_groups = groups_of(sf.frame, by, "sites")
+        assert site_groups is not None
+        # Code the sites' group values on the demand's codes; a site group without demand is
+        # served by nobody (its sites get load 0), a demand group without sites is a problem.
+        site_codes = groups.values.get_indexer(site_groups.values.take(site_groups.codes))
+        keep = site_codes >= 0
+        if not keep.all():
+            sf = Prepared(sf.frame[keep], sf.xy[keep], sf.crs, sf.work)
+            site_codes = site_codes[keep]
+        result = call(_pw.nearest_site, df.xy, sf.xy, w, groups=groups, rows=rows,
+                      site_groups=site_codes, errors=errors)
+    site_table = with_unit(result, sf).sites_frame()
+    out_sites = sf.frame.copy()
+    out_sites["load"] = site_table["load"].to_numpy()
+    out_sites["count"] = site_table["count"].to_numpy()
+    return SitePlan(out_sites, _demand_layer(df, result, sf.frame.index.to_numpy(dtype=object)),
+                    _summary(result, df, groups, rows))
+
+
+def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bool, centroids: bool,
+          errors: str, options: dict[str, Any], fixed: Any = None) -> SitePlan:
+    pf = prepare(frame, "frame", planar=planar, centroids=centroids)
+    groups = groups_of(pf.frame, by, "frame")
+    rows = {"points": pf.rows, "weights": pf.rows}
+    if fixed is not None:
+        ff = prepare(fixed, "fixed", planar=planar, centroids=centroids, work=pf.work)
+        options = {**options, "fixed": ff.xy}
+        rows["fixed"] = ff.rows
+    grouped = {} if groups is None else {"errors": errors}
+    kernel = _pw.p_median if kind == "median" else _pw.p_center
+    result = call(kernel, pf.xy, p, weights(pf, weight, "frame"), groups=groups, rows=rows, **grouped, **options)
+    sites = with_unit(result, pf).sites_frame()
+    site_layer = framed_sites(sites, pf, result, groups, rows)
+    return SitePlan(site_layer, _demand_layer(pf, result, site_layer.index.to_numpy(dtype=object)),
+                    _summary(result, pf, groups, rows))
+
+
+def framed_sites(sites: Any, pf: Prepared, result: Any, groups: Any, rows: Any) -> Any:
+    """A plan's sites table as points in the caller's CRS, in the user's terms."""
+    import geopandas as gpd
+
+    geometry = pf.back(gpd.points_from_xy(sites["x"], sites["y"])).values
+    out = gpd.GeoDataFrame(sites, geometry=geometry, crs=pf.crs)
+    if groups is not None:
+        out = in_user_terms(out, result, groups, rows)
+    out.index.name = "site"
+    return out
+
+
+def p_median(
+    frame: Any, p: int, weight: Any = None, by: str | None = None, *, fixed: Any = None,
+    planar: bool = False, centroids: bool = False, errors: Literal["raise", "skip"] = "raise", **options: Any,
+) -> SitePlan:
+    """The p sites minimising total weighted straight-line distance (continuous p-median).
+
+    Parameters
+    ----------
+    frame : GeoDataFrame or GeoSeries of demand points
+    p : int
+        Number of new sites (per group with ``by``).
+    weight, by, planar, centroids, errors
+        As in :func:`placewise.gis.weber_point`.
+    fixed : GeoDataFrame or GeoSeries of points, optional
+        Existing sites that stay where they are (``p`` counts only the new ones).
+    **options
+        Passed to :func:`placewise.p_median` (``seed``, ``effort``).
+
+    Returns
+    -------
+    SitePlan
+        ``sites`` (points with ``x``, ``y``, ``load``, ``count``, ``fixed``), ``demand``
+        (a copy with ``site`` and ``distance_<unit>``) and ``summary`` (``cost_<unit>``).
+
+    Examples
+    --------
+    >>> import geopandas as gpd
+    >>> from placewise import gis
+    >>> homes = gpd.GeoSeries(gpd.points_from_xy([0, 0, 10, 10], [0, 1, 0, 1]))
+    >>> plan = gis.p_median(homes, 2, planar=True)
+    >>> plan.demand["site"].nunique(), float(plan.summary["cost_u"].iloc[0])
+    (2, 2.0)
+    """
+    return _plan("median", frame, p, weight, by, planar, centroids, errors, options, fixed)
+
+
+def p_center(
+    frame: Any, p: int, weight: Any = None, by: str | None = None, *,
+    planar: bool = False, centroids: bool = False, errors: Literal["raise", "skip"] = "raise", **options: Any,
+) -> SitePlan:
+    """The p sites minimising the largest weighted straight-line trip (continuous p-center).
+
+    Parameters and result are those of :func:`p_median`, with ``weighted_radius_<unit>``
+    (the largest weight × distance to the nearest site) in the summary in place of the cost.
+
+    Examples
+    --------
+    >>> import geopandas as gpd
+    >>> from placewise import gis
+    >>> homes = gpd.GeoSeries(gpd.points_from_xy([0, 0, 10, 10], [0, 2, 0, 2]))
+    >>> round(float(gis.p_center(homes, 2, planar=True).summary["weighted_radius_u"].iloc[0]), 9)
+    1.0
+    """
+    return _plan("center", frame, p, weight, by, planar, centroids, errors, options)

@@ -1,0 +1,156 @@
+"""Single sites and enclosing shapes of GeoDataFrames: Fermat–Weber point, minimax point,
+smallest enclosing circle, minimum-area enclosing ellipse (one per group with ``by``)."""
+
+from __future__ import annotations
+
+from typing import Any, Literal
+
+import placewise as _pw
+
+from ._frames import call, framed, groups_of, prepare, weights
+
+__all__ = ["enclosing_circle", "enclosing_ellipse", "minimax_point", "weber_point"]
+
+
+def weber_point(
+    frame: Any, weight: Any = None, by: str | None = None, *,
+    planar: bool = False, centroids: bool = False, errors: Literal["raise", "skip"] = "raise", **options: Any,
+) -> Any:
+    """The weighted Fermat–Weber point of a frame's points (one per group with ``by``).
+
+    Parameters
+    ----------
+    frame : GeoDataFrame or GeoSeries of points
+    weight : str or array_like, optional
+        Column name (or values) of the non-negative demand per row. Default: all 1.
+    by : str, optional
+        Column whose values split the rows into groups; one result row per group, sorted
+        by the group value.
+    planar : bool
+        The coordinates are planar; allowed only for frames without a CRS.
+    centroids : bool
+        Use the centroids of non-point geometries instead of raising.
+    errors : {"raise", "skip"}
+        With ``by``: fail on the first group without an answer, or keep it as a row whose
+        ``problem`` says why and solve the rest.
+    **options
+        Passed to :func:`placewise.weber_point` (``metric``, ``tol``, ``max_iter``).
+
+    Returns
+    -------
+    GeoDataFrame
+        Point geometry in the input's CRS; columns ``count`` (rows used), ``x``, ``y`` (in
+        the working CRS), ``cost_<unit>`` (weighted distance in the working CRS's unit:
+        ``cost_m`` for metres), ``gap_<unit>`` (certified bound on the excess),
+        ``relative_gap``, ``iterations``, ``converged``; with ``by``, the ``by`` column
+        first and ``problem`` last.
+
+    Examples
+    --------
+    >>> import geopandas as gpd
+    >>> from placewise import gis
+    >>> towns = gpd.GeoDataFrame({"w": [1, 1, 1]},
+    ...                          geometry=gpd.points_from_xy([0, 4, 2], [0, 0, 4]))
+    >>> round(float(gis.weber_point(towns, "w", planar=True)["cost_u"].iloc[0]), 6)
+    7.464102
+    >>> gis.weber_point(towns)
+    Traceback (most recent call last):
+    ...
+    placewise.InputError: frame has no CRS: ...
+    """
+    pf = prepare(frame, "frame", planar=planar, centroids=centroids)
+    groups = groups_of(pf.frame, by, "frame")
+    rows = {"points": pf.rows, "weights": pf.rows}
+    grouped = {} if groups is None else {"errors": errors}
+    result = call(_pw.weber_point, pf.xy, weights(pf, weight, "frame"), groups=groups, rows=rows, **grouped, **options)
+    return framed(result, pf, groups, rows, count=True)
+
+
+def minimax_point(
+    frame: Any, weight: Any = None, by: str | None = None, *,
+    planar: bool = False, centroids: bool = False, errors: Literal["raise", "skip"] = "raise",
+) -> Any:
+    """The weighted minimax point (1-center): the site whose largest weighted trip is least.
+
+    Parameters are those of :func:`weber_point`.
+
+    Returns
+    -------
+    GeoDataFrame
+        Point geometry and columns ``count``, ``x``, ``y`` and ``weighted_radius_<unit>``
+        (the largest weight × distance at the optimum), plus ``by`` and ``problem``.
+
+    Examples
+    --------
+    >>> import geopandas as gpd
+    >>> from placewise import gis
+    >>> pts = gpd.GeoSeries(gpd.points_from_xy([0, 2, 1], [0, 0, 3]))
+    >>> round(float(gis.minimax_point(pts, planar=True)["weighted_radius_u"].iloc[0]), 6)   # 5/3
+    1.666667
+    """
+    pf = prepare(frame, "frame", planar=planar, centroids=centroids)
+    groups = groups_of(pf.frame, by, "frame")
+    rows = {"points": pf.rows, "weights": pf.rows}
+    grouped = {} if groups is None else {"errors": errors}
+    result = call(_pw.minimax_point, pf.xy, weights(pf, weight, "frame"), groups=groups, rows=rows, **grouped)
+    return framed(result, pf, groups, rows, count=True)
+
+
+def enclosing_circle(
+    frame: Any, by: str | None = None, *,
+    planar: bool = False, centroids: bool = False, errors: Literal["raise", "skip"] = "raise", **options: Any,
+) -> Any:
+    """The smallest circle covering a frame's points (one per group with ``by``).
+
+    Returns
+    -------
+    GeoDataFrame
+        Polygon geometry (a 128-gon circumscribing the circle, so it covers every point)
+        and columns ``count``, ``x``, ``y`` (centre), ``radius_<unit>`` and
+        ``area_<unit>2`` (of the exact circle), plus ``by`` and ``problem``.
+
+    Examples
+    --------
+    >>> import geopandas as gpd
+    >>> from placewise import gis
+    >>> pts = gpd.GeoSeries(gpd.points_from_xy([0, 2, 1], [0, 0, 3]))
+    >>> float(gis.enclosing_circle(pts, planar=True)["radius_u"].iloc[0])
+    1.666666666666...
+    """
+    pf = prepare(frame, "frame", planar=planar, centroids=centroids)
+    groups = groups_of(pf.frame, by, "frame")
+    rows = {"points": pf.rows}
+    grouped = {} if groups is None else {"errors": errors}
+    result = call(_pw.enclosing_circle, pf.xy, groups=groups, rows=rows, **grouped, **options)
+    return framed(result, pf, groups, rows, count=True)
+
+
+def enclosing_ellipse(
+    frame: Any, by: str | None = None, *,
+    planar: bool = False, centroids: bool = False, errors: Literal["raise", "skip"] = "raise", **options: Any,
+) -> Any:
+    """The minimum-area ellipse covering a frame's points (one per group with ``by``).
+
+    Returns
+    -------
+    GeoDataFrame
+        Polygon geometry (a 128-gon circumscribing the ellipse) and columns ``count``,
+        ``x``, ``y`` (centre), ``semi_major_<unit>``, ``semi_minor_<unit>``, ``angle_deg``
+        (major axis, degrees counter-clockwise from the working CRS's +x axis) and
+        ``area_<unit>2`` (of the exact ellipse), plus ``by`` and ``problem``.
+
+    Examples
+    --------
+    >>> import geopandas as gpd
+    >>> from placewise import gis
+    >>> box = gpd.GeoSeries(gpd.points_from_xy([0, 4, 4, 0], [0, 0, 2, 2]))
+    >>> e = gis.enclosing_ellipse(box, planar=True, tol=1e-10)
+    >>> [round(float(e[c].iloc[0]), 5) for c in ("semi_major_u", "semi_minor_u")]   # a/sqrt2, b/sqrt2
+    [2.82843, 1.41421]
+    """
+    pf = prepare(frame, "frame", planar=planar, centroids=centroids)
+    groups = groups_of(pf.frame, by, "frame")
+    rows = {"points": pf.rows}
+    grouped = {} if groups is None else {"errors": errors}
+    result = call(_pw.enclosing_ellipse, pf.xy, groups=groups, rows=rows, **grouped, **options)
+    return framed(result, pf, groups, rows, count=True)
