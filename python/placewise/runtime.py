@@ -13,7 +13,8 @@ def set_threads(threads: int) -> None:
     By default placewise uses one thread per core, or ``RAYON_NUM_THREADS`` when that
     environment variable is set before the first call. Callers who share a machine (for
     example a Dask worker running several tasks) can cap it here; ``0`` restores the default.
-    All kernels give the same answer whatever the thread count.
+    All kernels give the same answer whatever the thread count. ``threads`` must be an
+    integer from 0 to 4096; anything else (``1.5``, ``-1``, ``"2"``) is an ``InputError``.
 
     Examples
     --------
@@ -22,10 +23,12 @@ def set_threads(threads: int) -> None:
     >>> pw.thread_count()
     1
     >>> pw.set_threads(0)   # back to the default pool
+    >>> pw.set_threads(1.5)
+    Traceback (most recent call last):
+    ...
+    placewise.InputError: threads must be an integer; got 1.5 (float)
     """
-    if int(threads) < 0:
-        raise _core.InputError(f"threads must be >= 0; got {threads}")
-    _core.set_threads(int(threads))
+    _core.set_threads(threads)
 
 
 def thread_count() -> int:

@@ -44,7 +44,9 @@ where
 
 /// Use `threads` worker threads for every later call (0: back to the default pool).
 #[pyfunction]
-fn set_threads(threads: usize) -> PyResult<()> {
+fn set_threads(threads: &Bound<'_, PyAny>) -> PyResult<()> {
+    // Far more threads than any machine has cores is a mistake, not a request.
+    let threads = super::convert::count_arg(threads, "threads", 0, 4096)?;
     let pool = if threads == 0 {
         None
     } else {
