@@ -66,7 +66,8 @@ def cases(quick: bool) -> list[Case]:
 
     def ellipse_note(ours: pw.Ellipse, ref: tuple[np.ndarray, np.ndarray, float]) -> str:
         area_ref = np.pi / np.sqrt(np.linalg.det(ref[1]))
-        return f"area ours/numpy - 1 = {ours.area / area_ref - 1:+.1e}, gap {ours.gap:.1e} vs {ref[2]:.1e}"
+        return (f"area ours/numpy - 1 = {ours.area / area_ref - 1:+.1e}, "
+                f"relative gap {ours.relative_gap:.1e} vs {ref[2]:.1e}")
 
     return [
         Case("enclosing_circle", f"{n:,} points", lambda: pw.enclosing_circle(pts),

@@ -1,4 +1,4 @@
-"""Service areas: Delaunay vs scipy.spatial.Delaunay, Voronoi cells vs shapely and scipy,
+"""Catchments: Delaunay vs scipy.spatial.Delaunay, Voronoi cells vs shapely and scipy,
 nearest-site allocation vs scipy.spatial.cKDTree, on the same data in the same run."""
 
 from __future__ import annotations
@@ -9,6 +9,7 @@ import shapely
 
 import placewise as pw
 from harness import Case
+from placewise.partition import Allocation, DelaunayMesh, VoronoiCells
 
 
 def _cloud(n: int, seed: int, offset: tuple[float, float] = (512_000.0, 6_180_000.0)) -> np.ndarray:
@@ -17,14 +18,14 @@ def _cloud(n: int, seed: int, offset: tuple[float, float] = (512_000.0, 6_180_00
     return rng.uniform(0, 1, size=(n, 2)) * [20_000.0, 10_000.0] + offset
 
 
-def _same_triangles(ours: pw.Triangulation, ref: scipy.spatial.Delaunay) -> str:
-    a = np.sort(np.asarray(ours.triangles), axis=1)
+def _same_triangles(ours: DelaunayMesh, ref: scipy.spatial.Delaunay) -> str:
+    a = np.sort(np.asarray(ours.corners), axis=1)
     b = np.sort(ref.simplices, axis=1)
     same = len(a) == len(b) and np.array_equal(a[np.lexsort(a.T[::-1])], b[np.lexsort(b.T[::-1])])
     return f"{len(a):,} triangles, identical to scipy: {'yes' if same else 'NO'}"
 
 
-def _area_check(ours: pw.VoronoiCells, ref: np.ndarray) -> str:
+def _area_check(ours: VoronoiCells, ref: np.ndarray) -> str:
     diff = np.max(np.abs(np.asarray(ours.area) - shapely.area(ref)))
     return f"max |area ours - shapely| = {diff:.1e} m²"
 
@@ -61,8 +62,28 @@ def cases(quick: bool) -> list[Case]:
         distance, index = scipy.spatial.cKDTree(depots).query(demand, workers=-1)
         return distance, index
 
-    def allocation_check(ours: pw.Allocation, ref: tuple[np.ndarray, np.ndarray]) -> str:
-        return f"index equal to cKDTree: {'yes' if np.array_equal(ours.index, ref[1]) else 'NO'}"
+    def allocation_check(ours: Allocation, ref: tuple[np.ndarray, np.ndarray]) -> str:
+        return f"assignment equal to cKDTree: {'yes' if np.array_equal(ours.assignment, ref[1]) else 'NO'}"
+
+    # Grouped: every district's demand served by its own depots, in one call.
+    n_groups = 200 if quick else 2_000
+    district = np.random.default_rng(6).integers(0, n_groups, size=n_points)
+    district_depots = _cloud(5 * n_groups, 7)
+    depot_district = np.repeat(np.arange(n_groups), 5)
+
+    def ckdtree_per_group() -> np.ndarray:
+        # One cKDTree per district, its answers mapped back to depot rows.
+        order = np.argsort(district, kind="stable")
+        starts = np.searchsorted(district[order], np.arange(n_groups + 1))
+        out = np.empty(n_points, dtype=np.int64)
+        for g in range(n_groups):
+            rows = order[starts[g]:starts[g + 1]]
+            _, index = scipy.spatial.cKDTree(district_depots[5 * g:5 * g + 5]).query(demand[rows])
+            out[rows] = 5 * g + index
+        return out
+
+    def grouped_check(ours: pw.partition.Allocations, ref: np.ndarray) -> str:
+        return f"assignment equal to cKDTree per group: {'yes' if np.array_equal(ours.assignment, ref) else 'NO'}"
 
     return [
         Case("delaunay", f"{n_tri:,} points", lambda: pw.delaunay(tri_pts), lambda: scipy.spatial.Delaunay(tri_pts),
@@ -75,4 +96,7 @@ def cases(quick: bool) -> list[Case]:
              lambda: pw.nearest_site(demand, depots, weights), ckdtree,
              "scipy.spatial.cKDTree build + query(workers=-1)", target=1.0, compare=allocation_check,
              reference_repeat=3),
+        Case("nearest_site (groups)", f"{n_points:,} points in {n_groups:,} groups of 5 sites",
+             lambda: pw.nearest_site(demand, district_depots, groups=district, site_groups=depot_district),
+             ckdtree_per_group, "scipy.spatial.cKDTree per group (Python loop)", compare=grouped_check),
     ]

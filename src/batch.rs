@@ -155,45 +155,234 @@ where
     T: Send,
     F: Fn(GroupView<'_>) -> Result<T> + Sync,
 {
+    run_indexed("points", points, weights, labels, on_error, kernel).map(|(grouped, _)| grouped)
+}
+
+/// [`run_grouped`] for a kernel whose points are called `argument` (`"sites"`), also telling
+/// where every input row sits ([`RowPlaces`]), so that per-row outputs can be laid out in
+/// input order.
+///
+/// # Errors
+/// As [`run_grouped`], with the points' errors naming `argument`.
+pub fn run_grouped_placed<T, F>(
+    argument: &'static str,
+    points: &[Point],
+    weights: Weights<'_>,
+    labels: &[i64],
+    on_error: OnGroupError,
+    kernel: F,
+) -> Result<(Grouped<T>, RowPlaces)>
+where
+    T: Send,
+    F: Fn(GroupView<'_>) -> Result<T> + Sync,
+{
+    let (grouped, index) = run_indexed(argument, points, weights, labels, on_error, kernel)?;
+    let places = RowPlaces::of(&index, points.len(), |g| g);
+    Ok((grouped, places))
+}
+
+/// The body of [`run_grouped`], also returning the group index.
+fn run_indexed<T, F>(
+    argument: &'static str,
+    points: &[Point],
+    weights: Weights<'_>,
+    labels: &[i64],
+    on_error: OnGroupError,
+    kernel: F,
+) -> Result<(Grouped<T>, GroupIndex)>
+where
+    T: Send,
+    F: Fn(GroupView<'_>) -> Result<T> + Sync,
+{
     if labels.len() != points.len() {
         return Err(Error::LengthMismatch { argument: "groups", expected: points.len(), got: labels.len() });
     }
-    if let Weights::Given(w) = weights {
-        if w.len() != points.len() {
-            return Err(Error::LengthMismatch { argument: "weights", expected: points.len(), got: w.len() });
-        }
-    }
+    check_weight_count(weights, points.len())?;
     if points.is_empty() {
-        return Err(Error::TooFewPoints { argument: "points", needed: 1, got: 0, counted: "points" });
+        return Err(Error::TooFewPoints { argument, needed: 1, got: 0, counted: "points" });
     }
     let index = GroupIndex::new(labels);
     // Gather once so every group's points are contiguous (kernels take slices).
-    let gathered_points: Vec<Point> = index.order().iter().map(|&i| points[i]).collect();
-    let gathered_weights: Option<Vec<f64>> =
-        weights.as_slice().map(|w| index.order().iter().map(|&i| w[i]).collect());
+    let (gathered_points, gathered_weights) = gather(&index, points, weights);
     let results: Vec<Result<T>> = (0..index.len())
         .into_par_iter()
         .map(|g| {
-            let range = index.offsets()[g]..index.offsets()[g + 1];
             let label = index.labels()[g];
-            let group_points = &gathered_points[range.clone()];
-            let group_weights = match &gathered_weights {
-                Some(w) => Weights::Given(&w[range.clone()]),
-                None => Weights::Unit,
-            };
-            let members = index.members(g);
-            validate_points("points", group_points, 1)
-                .and_then(|()| validate_weights("weights", group_weights, group_points.len()))
-                .and_then(|()| kernel(GroupView { label, points: group_points, weights: group_weights, members }))
-                .map_err(|e| e.rows_from(members).in_group(label))
+            let group = view(&index, g, label, &gathered_points, gathered_weights.as_deref());
+            validate_points(argument, group.points, 1)
+                .and_then(|()| validate_weights("weights", group.weights, group.points.len()))
+                .and_then(|()| kernel(group))
+                .map_err(|e| e.rows_from(group.members).in_group(label))
         })
         .collect();
+    let grouped = Grouped { labels: index.labels.clone(), results };
+    first_error(grouped, on_error).map(|grouped| (grouped, index))
+}
+
+fn check_weight_count(weights: Weights<'_>, n: usize) -> Result<()> {
+    match weights {
+        Weights::Given(w) if w.len() != n => {
+            Err(Error::LengthMismatch { argument: "weights", expected: n, got: w.len() })
+        }
+        _ => Ok(()),
+    }
+}
+
+/// The points (and weights) in group order, so that every group's are contiguous.
+fn gather(index: &GroupIndex, points: &[Point], weights: Weights<'_>) -> (Vec<Point>, Option<Vec<f64>>) {
+    let gathered_points = index.order().iter().map(|&i| points[i]).collect();
+    let gathered_weights = weights.as_slice().map(|w| index.order().iter().map(|&i| w[i]).collect());
+    (gathered_points, gathered_weights)
+}
+
+/// What the kernel sees of group `g` of `index` (its gathered points and weights).
+fn view<'a>(
+    index: &'a GroupIndex,
+    g: usize,
+    label: i64,
+    gathered_points: &'a [Point],
+    gathered_weights: Option<&'a [f64]>,
+) -> GroupView<'a> {
+    let range = index.offsets()[g]..index.offsets()[g + 1];
+    GroupView {
+        label,
+        points: &gathered_points[range.clone()],
+        weights: gathered_weights.map_or(Weights::Unit, |w| Weights::Given(&w[range])),
+        members: index.members(g),
+    }
+}
+
+/// With [`OnGroupError::Raise`], the error of the first failing group.
+fn first_error<T>(grouped: Grouped<T>, on_error: OnGroupError) -> Result<Grouped<T>> {
     if on_error == OnGroupError::Raise {
-        if let Some(Err(first)) = results.iter().find(|r| r.is_err()) {
+        if let Some(Err(first)) = grouped.results.iter().find(|r| r.is_err()) {
             return Err(first.clone());
         }
     }
-    Ok(Grouped { labels: index.labels, results })
+    Ok(grouped)
+}
+
+/// Where every input row sits in a grouped run: the position of its group (in label order)
+/// and its own position among that group's rows (which keep input order).
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct RowPlaces {
+    /// `group[i]`: position in the sorted labels of row `i`'s group.
+    pub group: Vec<usize>,
+    /// `within[i]`: position of row `i` among its group's rows.
+    pub within: Vec<usize>,
+}
+
+impl RowPlaces {
+    /// The places of the `n` rows indexed by `index`, whose group `g` is group `position(g)`
+    /// of the run.
+    fn of(index: &GroupIndex, n: usize, position: impl Fn(usize) -> usize) -> RowPlaces {
+        let mut places = RowPlaces { group: vec![0; n], within: vec![0; n] };
+        for g in 0..index.len() {
+            for (k, &i) in index.members(g).iter().enumerate() {
+                places.group[i] = position(g);
+                places.within[i] = k;
+            }
+        }
+        places
+    }
+
+    /// Number of rows in each of `groups` groups.
+    pub fn sizes(&self, groups: usize) -> Vec<usize> {
+        let mut sizes = vec![0; groups];
+        self.group.iter().for_each(|&g| sizes[g] += 1);
+        sizes
+    }
+
+    /// One value per input row, in input order: `value(result, k)` for the `k`-th row of a
+    /// solved group, `fill` for the rows of a skipped one.
+    pub fn by_row<T: Sync, U: Clone + Send + Sync>(
+        &self,
+        grouped: &Grouped<T>,
+        fill: U,
+        value: impl Fn(&T, usize) -> U + Sync,
+    ) -> Vec<U> {
+        self.group
+            .par_iter()
+            .zip(&self.within)
+            .map(|(&g, &k)| grouped.results[g].as_ref().map_or_else(|_| fill.clone(), |r| value(r, k)))
+            .collect()
+    }
+}
+
+/// Run `kernel` on every group of demand `points` together with the `sites` of the same label
+/// (a demand group is served by the sites of its own label), in parallel.
+///
+/// The groups are the labels found in `labels` or in `site_labels`. Every group's points,
+/// weights and sites are validated (finite coordinates, good weights, at least one site), so
+/// a label with points but no sites is that group's error; a label with sites but no points
+/// reaches the kernel with no points (its sites serve nobody). Errors name rows of the whole
+/// input: a site's row through the sites' members (when the error's argument is
+/// `sites_argument`), any other through the points' members.
+///
+/// # Errors
+/// [`Error::LengthMismatch`] when `labels`, `weights` or `site_labels` have the wrong length,
+/// [`Error::TooFewPoints`] for empty points or sites, or (with `Raise`) the first group's error.
+#[allow(clippy::too_many_arguments)]
+pub fn run_paired<T, F>(
+    points: &[Point],
+    weights: Weights<'_>,
+    labels: &[i64],
+    sites_argument: &'static str,
+    sites: &[Point],
+    site_labels: &[i64],
+    on_error: OnGroupError,
+    kernel: F,
+) -> Result<(Grouped<T>, RowPlaces, RowPlaces)>
+where
+    T: Send,
+    F: Fn(GroupView<'_>, GroupView<'_>) -> Result<T> + Sync,
+{
+    if labels.len() != points.len() {
+        return Err(Error::LengthMismatch { argument: "groups", expected: points.len(), got: labels.len() });
+    }
+    if site_labels.len() != sites.len() {
+        return Err(Error::LengthMismatch { argument: "site_groups", expected: sites.len(), got: site_labels.len() });
+    }
+    check_weight_count(weights, points.len())?;
+    if points.is_empty() {
+        return Err(Error::TooFewPoints { argument: "points", needed: 1, got: 0, counted: "points" });
+    }
+    if sites.is_empty() {
+        return Err(Error::TooFewPoints { argument: sites_argument, needed: 1, got: 0, counted: "points" });
+    }
+    let demand = GroupIndex::new(labels);
+    let supply = GroupIndex::new(site_labels);
+    let mut union: Vec<i64> = demand.labels().iter().chain(supply.labels()).copied().collect();
+    union.sort_unstable();
+    union.dedup();
+    let position = |index: &GroupIndex, g: usize| union.binary_search(&index.labels()[g]).unwrap_or(0);
+    let found = |index: &GroupIndex, label: i64| index.labels().binary_search(&label).ok();
+    let (gathered_points, gathered_weights) = gather(&demand, points, weights);
+    let (gathered_sites, _) = gather(&supply, sites, Weights::Unit);
+    let empty = |label: i64| GroupView { label, points: &[], weights: Weights::Unit, members: &[] };
+    let results: Vec<Result<T>> = union
+        .par_iter()
+        .map(|&label| {
+            let group = found(&demand, label).map_or_else(
+                || empty(label),
+                |g| view(&demand, g, label, &gathered_points, gathered_weights.as_deref()),
+            );
+            let served_by =
+                found(&supply, label).map_or_else(|| empty(label), |g| view(&supply, g, label, &gathered_sites, None));
+            validate_points("points", group.points, 0)
+                .and_then(|()| validate_weights("weights", group.weights, group.points.len()))
+                .and_then(|()| validate_points(sites_argument, served_by.points, 1))
+                .and_then(|()| kernel(group, served_by))
+                .map_err(|e| {
+                    let members = if e.argument() == sites_argument { served_by.members } else { group.members };
+                    e.rows_from(members).in_group(label)
+                })
+        })
+        .collect();
+    let point_places = RowPlaces::of(&demand, points.len(), |g| position(&demand, g));
+    let site_places = RowPlaces::of(&supply, sites.len(), |g| position(&supply, g));
+    let grouped = first_error(Grouped { labels: union, results }, on_error)?;
+    Ok((grouped, point_places, site_places))
 }
 
 /// Ragged per-group lists as CSR: `values[offsets[g]..offsets[g + 1]]` belongs to group `g`.
@@ -272,5 +461,61 @@ mod tests {
         let (offsets, values) = r.csr(|(_, m)| m.as_slice());
         assert_eq!(offsets, vec![0, 2, 4]);
         assert_eq!(values, vec![1, 3, 0, 2]);
+    }
+    #[test]
+    fn row_places_lay_group_values_out_in_input_order() {
+        let pts = [[0.0, 0.0], [1.0, 0.0], [2.0, 0.0], [f64::NAN, 0.0], [4.0, 0.0]];
+        let (g, places) = run_grouped_placed("sites", &pts, Weights::Unit, &[5, 2, 5, 9, 2], OnGroupError::Skip, |g| {
+            Ok(g.members.to_vec())
+        })
+        .unwrap();
+        assert_eq!(places.group, vec![1, 0, 1, 2, 0]);
+        assert_eq!(places.within, vec![0, 0, 1, 0, 1]);
+        assert_eq!(places.sizes(3), vec![2, 2, 1]);
+        // Each solved row finds itself; the skipped group's row gets the fill.
+        assert_eq!(places.by_row(&g, usize::MAX, |members, k| members[k]), vec![0, 1, 2, usize::MAX, 4]);
+        let e = g.results[2].as_ref().unwrap_err();
+        assert_eq!(e.to_string(), "group 9: sites[3] has a NaN coordinate; every coordinate must be finite");
+    }
+
+    #[test]
+    fn paired_groups_meet_by_label_and_name_their_own_rows() {
+        let pts = [[0.0, 0.0], [1.0, 0.0], [2.0, 0.0]];
+        let sites = [[9.0, 9.0], [f64::INFINITY, 0.0], [7.0, 7.0]];
+        let (g, points, served) = run_paired(
+            &pts,
+            Weights::Unit,
+            &[3, 1, 3],
+            "sites",
+            &sites,
+            &[3, 4, 3],
+            OnGroupError::Skip,
+            |group, sites| Ok((group.members.to_vec(), sites.members.to_vec())),
+        )
+        .unwrap();
+        assert_eq!(g.labels, vec![1, 3, 4]);
+        assert_eq!(g.results[1], Ok((vec![0, 2], vec![0, 2])));
+        // Label 1 has points but no sites; label 4 has a site (row 1, infinite) but no points.
+        assert_eq!(g.results[0].as_ref().unwrap_err().to_string(), "group 1: sites must hold at least 1 points; got 0");
+        assert_eq!(
+            g.results[2].as_ref().unwrap_err().to_string(),
+            "group 4: sites[1] has an infinite (+inf) coordinate; every coordinate must be finite"
+        );
+        let (g, _, _) =
+            run_paired(&pts, Weights::Unit, &[3, 3, 3], "sites", &sites[..1], &[8], OnGroupError::Skip, |group, _| {
+                Ok(group.points.len())
+            })
+            .unwrap();
+        assert_eq!((g.labels.clone(), g.results[1].clone()), (vec![3, 8], Ok(0)));
+        assert_eq!((points.group.clone(), points.within.clone()), (vec![1, 0, 1], vec![0, 0, 1]));
+        assert_eq!(served.group, vec![1, 2, 1]);
+        let (g, _, _) =
+            run_paired(&pts, Weights::Unit, &[3, 3, 3], "sites", &sites, &[3, 3, 3], OnGroupError::Skip, |_, _| Ok(()))
+                .unwrap();
+        let e = g.results[0].as_ref().unwrap_err();
+        assert_eq!((e.argument(), e.row()), ("sites", Some(1)));
+        let short =
+            run_paired(&pts, Weights::Unit, &[3, 3, 3], "sites", &sites, &[3, 3], OnGroupError::Raise, |_, _| Ok(()));
+        assert_eq!(short.unwrap_err().to_string(), "site_groups must have one entry per point (3); got 2");
     }
 }

@@ -1,4 +1,8 @@
-"""Tests of the partition family: placewise.delaunay, placewise.voronoi_cells, placewise.nearest_site."""
+"""Tests of the partition family: placewise.delaunay, placewise.voronoi_cells, placewise.nearest_site.
+
+Every check names the outside reference it compares with (scipy.spatial, shapely, a closed
+form, exact rational arithmetic written here).
+"""
 
 from __future__ import annotations
 
@@ -14,7 +18,14 @@ from hypothesis import strategies as st
 
 import placewise as pw
 from hostile import AWKWARD_POINTS, BAD_POINTS, BAD_WEIGHTS
-
+from placewise.partition import (
+    Allocation,
+    Allocations,
+    DelaunayMesh,
+    DelaunayMeshes,
+    VoronoiCells,
+    VoronoiCellSets,
+)
 
 # --- exact predicates for the checks (rational arithmetic on the float inputs) -----------
 
@@ -36,34 +47,34 @@ def exact_incircle(a, b, c, d) -> int:
     return (det > 0) - (det < 0)
 
 
-def check_triangulation(points: np.ndarray, t: pw.Triangulation) -> None:
+def check_triangulation(points: np.ndarray, t: DelaunayMesh) -> None:
     """Invariants, each with its source: Euler's formula for a triangulated point set
     (t = 2n − 2 − h, e = 3n − 3 − h), counter-clockwise triangles, symmetric adjacency, and
     the empty-circumcircle property across every interior edge, which for a triangulation is
     equivalent to the global property (Delaunay 1934)."""
     pts = np.asarray(points, dtype=np.float64)
     kept = np.flatnonzero(t.representative == np.arange(len(pts)))
-    n, h = len(kept), len(t.hull)
-    assert len(t.triangles) == 2 * n - 2 - h
+    n, h = len(kept), len(t.outline)
+    assert len(t.corners) == 2 * n - 2 - h
     assert len(t.edges) == 3 * n - 3 - h
     assert np.all(pts[t.representative] == pts)
-    assert set(np.unique(t.triangles)) == set(kept.tolist())
+    assert set(np.unique(t.corners)) == set(kept.tolist())
     assert len({tuple(e) for e in t.edges.tolist()}) == len(t.edges)
     assert np.all(t.edges[:, 0] < t.edges[:, 1])
-    for ti, tri in enumerate(t.triangles):
+    for ti, tri in enumerate(t.corners):
         a, b, c = pts[tri]
         assert exact_orient(a, b, c) > 0
         for k in range(3):
-            other = t.adjacent[ti, k]
+            other = t.across[ti, k]
             if other < 0:
                 continue
             u, v = tri[(k + 1) % 3], tri[(k + 2) % 3]
-            o = t.triangles[other].tolist()
+            o = t.corners[other].tolist()
             j = [m for m in range(3) if o[(m + 1) % 3] == v and o[(m + 2) % 3] == u]
-            assert len(j) == 1 and t.adjacent[other, j[0]] == ti
+            assert len(j) == 1 and t.across[other, j[0]] == ti
             assert exact_incircle(a, b, c, pts[o[j[0]]]) <= 0
     for i in range(h):
-        assert exact_orient(*pts[t.hull[[i, (i + 1) % h, (i + 2) % h]]]) >= 0
+        assert exact_orient(*pts[t.outline[[i, (i + 1) % h, (i + 2) % h]]]) >= 0
 
 
 def triangle_set(triangles: np.ndarray) -> set[tuple[int, ...]]:
@@ -86,7 +97,7 @@ def test_triangles_equal_scipy_delaunay(name: str) -> None:
     pts = CLOUDS[name](np.random.default_rng(len(name)))
     ours = pw.delaunay(pts)
     ref = scipy.spatial.Delaunay(pts)
-    assert triangle_set(ours.triangles) == triangle_set(ref.simplices)
+    assert triangle_set(ours.corners) == triangle_set(ref.simplices)
     check_triangulation(pts, ours)
 
 
@@ -101,14 +112,14 @@ def test_far_offset_beyond_qhull_precision_equals_scipy_on_the_exactly_shifted_c
     shifted = pts - offset
     assert np.all(shifted + offset == pts)
     ours = pw.delaunay(pts)
-    assert triangle_set(ours.triangles) == triangle_set(scipy.spatial.Delaunay(shifted).simplices)
+    assert triangle_set(ours.corners) == triangle_set(scipy.spatial.Delaunay(shifted).simplices)
     check_triangulation(pts, ours)
 
 
-def test_hull_equals_scipy_convex_hull() -> None:
+def test_outline_equals_scipy_convex_hull() -> None:
     # Reference: scipy.spatial.ConvexHull, whose 2-D vertices are counter-clockwise.
     pts = np.random.default_rng(3).normal(size=(800, 2))
-    ours = pw.delaunay(pts).hull.tolist()
+    ours = pw.delaunay(pts).outline.tolist()
     ref = scipy.spatial.ConvexHull(pts).vertices.tolist()
     start = ours.index(ref[0])
     assert ours[start:] + ours[:start] == ref
@@ -129,11 +140,11 @@ def test_large_clouds_built_in_strips_equal_scipy_delaunay(name: str) -> None:
     # Reference: scipy.spatial.Delaunay (Qhull) on the same cloud, as sets of triangles.
     pts = LARGE_CLOUDS[name](np.random.default_rng(7))
     ours = pw.delaunay(pts)
-    assert triangle_set(ours.triangles) == triangle_set(scipy.spatial.Delaunay(pts).simplices)
+    assert triangle_set(ours.corners) == triangle_set(scipy.spatial.Delaunay(pts).simplices)
     # Adjacency is symmetric: t's neighbour across an edge has t as a neighbour.
-    t_idx, k_idx = np.nonzero(ours.adjacent >= 0)
-    assert np.all((ours.adjacent[ours.adjacent[t_idx, k_idx]] == t_idx[:, None]).any(axis=1))
-    n, h = len(pts), len(ours.hull)
+    t_idx, k_idx = np.nonzero(ours.across >= 0)
+    assert np.all((ours.across[ours.across[t_idx, k_idx]] == t_idx[:, None]).any(axis=1))
+    n, h = len(pts), len(ours.outline)
     assert len(ours.edges) == 3 * n - 3 - h  # Euler's formula
 
 
@@ -143,9 +154,9 @@ def test_large_grid_built_in_strips_gives_two_triangles_per_cell() -> None:
     k = 400
     grid = np.stack(np.meshgrid(np.arange(k, dtype=float), np.arange(k, dtype=float)), axis=-1).reshape(-1, 2)
     t = pw.delaunay(grid)
-    assert len(t.triangles) == 2 * (k - 1) ** 2
-    assert len(t.edges) == 3 * k * k - 3 - len(t.hull) == 3 * k * k - 3 - 4 * (k - 1)
-    a, b, c = (grid[t.triangles[:, i]] for i in range(3))
+    assert len(t.corners) == 2 * (k - 1) ** 2
+    assert len(t.edges) == 3 * k * k - 3 - len(t.outline) == 3 * k * k - 3 - 4 * (k - 1)
+    a, b, c = (grid[t.corners[:, i]] for i in range(3))
     cross = (b[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (b[:, 1] - a[:, 1]) * (c[:, 0] - a[:, 0])
     assert np.all(cross == 1.0)  # every triangle is half a unit cell, counter-clockwise
 
@@ -155,7 +166,7 @@ def test_grid_gives_two_triangles_per_cell(k: int) -> None:
     # Closed form: a k × k grid (all cells cocircular) is split into 2 (k − 1)² triangles.
     grid = np.array([[i, j] for i in range(k) for j in range(k)], dtype=float)
     t = pw.delaunay(grid)
-    assert len(t.triangles) == 2 * (k - 1) ** 2
+    assert len(t.corners) == 2 * (k - 1) ** 2
     check_triangulation(grid, t)
 
 
@@ -164,7 +175,7 @@ def test_points_on_a_circle_give_n_minus_two_triangles() -> None:
     angles = np.arange(24) * 2 * np.pi / 24
     pts = np.column_stack([np.cos(angles), np.sin(angles)]) * 1e3 + [5e5, 5e6]
     t = pw.delaunay(pts)
-    assert len(t.triangles) == 22
+    assert len(t.corners) == 22
     check_triangulation(pts, t)
 
 
@@ -177,7 +188,7 @@ def test_duplicates_map_to_first_row_and_triangulate_the_distinct_points() -> No
     assert t.representative[:300].tolist() == list(range(300))
     assert t.representative[300:400].tolist() == list(range(0, 300, 3))
     assert t.representative[400:].tolist() == list(range(5))
-    assert triangle_set(t.triangles) == triangle_set(scipy.spatial.Delaunay(base).simplices)
+    assert triangle_set(t.corners) == triangle_set(scipy.spatial.Delaunay(base).simplices)
     check_triangulation(pts, t)
 
 
@@ -222,7 +233,7 @@ def test_delaunay_awkward_points_are_triangulated_or_refused_as_degenerate(case,
         # cloud's few remaining digits at that offset.
         shift = np.array([500_000.0, 6_000_000.0]) if case == "far_offset" else np.zeros(2)
         assert np.all((pts - shift) + shift == pts)
-        assert triangle_set(t.triangles) == triangle_set(scipy.spatial.Delaunay(pts - shift).simplices)
+        assert triangle_set(t.corners) == triangle_set(scipy.spatial.Delaunay(pts - shift).simplices)
 
 
 def test_input_array_stays_writeable() -> None:
@@ -230,7 +241,7 @@ def test_input_array_stays_writeable() -> None:
     t = pw.delaunay(pts)
     assert pts.flags.writeable and not t.points.flags.writeable
     with pytest.raises(ValueError):
-        t.triangles[0, 0] = 5
+        t.corners[0, 0] = 5
 
 
 @settings(max_examples=60, deadline=None)
@@ -256,7 +267,7 @@ def test_same_triangles_whatever_the_input_order(seed: int, offset: float) -> No
     perm = rng.permutation(60)
     a = pw.delaunay(pts)
     b = pw.delaunay(pts[perm])
-    assert triangle_set(a.triangles) == {tuple(sorted(perm[list(t)])) for t in b.triangles.tolist()}
+    assert triangle_set(a.corners) == {tuple(sorted(perm[list(t)])) for t in b.corners.tolist()}
 
 
 # --- Voronoi cells -----------------------------------------------------------------------
@@ -384,6 +395,7 @@ def test_to_geojson_round_trips_through_shapely() -> None:
     assert doc["type"] == "FeatureCollection" and len(doc["features"]) == 40
     for i, feature in enumerate(doc["features"]):
         assert feature["properties"]["site"] == i
+        assert feature["properties"]["area_u2"] == cells.area[i]
         if feature["geometry"] is None:
             assert cells.area[i] == 0.0
             continue
@@ -470,18 +482,23 @@ def test_allocation_equals_ckdtree_query(offset: float) -> None:
     w = rng.lognormal(size=len(pts))
     a = pw.nearest_site(pts, sites, w)
     dist, index = scipy.spatial.cKDTree(sites).query(pts)
-    np.testing.assert_array_equal(a.index, index)
+    np.testing.assert_array_equal(a.assignment, index)
     np.testing.assert_allclose(a.distance, dist, rtol=1e-12, atol=1e-9)
     # Loads: numpy.bincount of the weights by site; cost: the weighted sum of distances.
     np.testing.assert_allclose(a.load, np.bincount(index, weights=w, minlength=len(sites)), rtol=1e-12)
+    np.testing.assert_array_equal(a.count, np.bincount(index, minlength=len(sites)))
     assert a.cost == pytest.approx(float(np.sum(w * dist)), rel=1e-12)
+    assert a.total_load == pytest.approx(float(np.sum(w)), rel=1e-12)
 
 
 def test_unit_weights_give_counts() -> None:
+    # Reference: numpy.bincount of cKDTree's nearest sites.
     rng = np.random.default_rng(4)
     sites, pts = rng.normal(size=(30, 2)), rng.normal(size=(5000, 2))
     a = pw.nearest_site(pts, sites)
-    np.testing.assert_array_equal(a.load, np.bincount(a.index, minlength=30))
+    _, index = scipy.spatial.cKDTree(sites).query(pts)
+    np.testing.assert_array_equal(a.load, np.bincount(index, minlength=30))
+    np.testing.assert_array_equal(a.count, np.bincount(index, minlength=30))
 
 
 def test_ties_go_to_the_smaller_site_index() -> None:
@@ -489,8 +506,9 @@ def test_ties_go_to_the_smaller_site_index() -> None:
     # a bisector is equally far from its two sites; repeated sites serve with the first copy.
     sites = np.array([[1.0, 1.0], [-1.0, 1.0], [-1.0, -1.0], [1.0, -1.0], [1.0, 1.0]])
     a = pw.nearest_site([[0.0, 0.0], [0.0, 2.0], [-3.0, 0.0], [2.0, 2.0]], sites)
-    assert a.index.tolist() == [0, 0, 1, 0]
+    assert a.assignment.tolist() == [0, 0, 1, 0]
     assert a.load.tolist() == [3.0, 1.0, 0.0, 0.0, 0.0]
+    assert a.count.tolist() == [3, 1, 0, 0, 0]
 
 
 @settings(max_examples=60, deadline=None)
@@ -504,7 +522,7 @@ def test_allocation_equals_brute_force_first_minimum(sites, pts) -> None:
     s, p = np.array(sites, dtype=float), np.array(pts, dtype=float) / 2
     d2 = ((p[:, None, :] - s[None, :, :]) ** 2).sum(axis=2)
     a = pw.nearest_site(p, s)
-    np.testing.assert_array_equal(a.index, np.argmin(d2, axis=1))
+    np.testing.assert_array_equal(a.assignment, np.argmin(d2, axis=1))
     np.testing.assert_allclose(a.distance, np.sqrt(d2.min(axis=1)), rtol=1e-15)
 
 
@@ -524,7 +542,7 @@ def test_allocation_of_awkward_points_equals_ckdtree(case, points) -> None:
     a = pw.nearest_site(points, sites)
     dist, _ = scipy.spatial.cKDTree(sites).query(pts)
     np.testing.assert_allclose(a.distance, dist, rtol=1e-12, atol=0)
-    assert a.load.sum() == len(pts)
+    assert a.load.sum() == len(pts) == a.count.sum()
 
 
 @pytest.mark.parametrize("case, make", BAD_WEIGHTS, ids=[n for n, _ in BAD_WEIGHTS])
@@ -539,6 +557,281 @@ def test_allocation_plot_and_repr() -> None:
     a = pw.nearest_site([[0, 0], [5, 5], [1, 0]], [[0, 1], [5, 4]])
     ax = a.plot()
     assert len(ax.collections) == 1
-    assert repr(a).startswith("Allocation(index=[0, 1, 0], distance=")
+    assert repr(a).startswith("Allocation(assignment=[0, 1, 0], distance=")
     t = pw.delaunay([[0, 0], [1, 0], [0, 1], [1, 1]])
     assert len(t.plot().lines) >= 1
+
+
+# --- names and tables ------------------------------------------------------------------------
+
+def _field_names(cls: type) -> set[str]:
+    import dataclasses
+
+    return {f.name for f in dataclasses.fields(cls)}
+
+
+def test_renamed_fields_regression() -> None:
+    # Our own names (not Qhull's or scipy's): corners / across / outline, and assignment.
+    assert {"corners", "across", "outline", "edges", "representative"} <= _field_names(DelaunayMesh)
+    assert not {"triangles", "adjacent", "hull", "simplices", "neighbors"} & _field_names(DelaunayMesh)
+    assert {"assignment", "distance", "load", "count", "cost", "total_load"} <= _field_names(Allocation)
+    assert "index" not in _field_names(Allocation)
+    assert pw.delaunay is pw.partition.delaunay and isinstance(pw.delaunay([[0, 0], [1, 0], [0, 1]]), DelaunayMesh)
+
+
+def _all_frames() -> list:
+    """Every frame the partition results give, single and grouped."""
+    pts = np.random.default_rng(1).uniform(0, 10, size=(40, 2))
+    groups = np.arange(40) % 3
+    mesh, meshes = pw.delaunay(pts), pw.delaunay(pts, groups=groups)
+    cells, cell_sets = pw.voronoi_cells(pts[:9]), pw.voronoi_cells(pts[:9], groups=groups[:9])
+    a = pw.nearest_site(pts, pts[:5])
+    grouped = pw.nearest_site(pts, pts[:6], groups=groups, site_groups=groups[:6])
+    return [
+        mesh.to_frame(), mesh.to_geodataframe(), meshes.to_frame(), meshes.to_geodataframe(),
+        cells.to_frame(), cells.to_geodataframe(), cell_sets.to_frame(), cell_sets.to_geodataframe(),
+        a.to_frame(), a.to_geodataframe(), a.sites_frame(), a.summary(),
+        grouped.to_frame(), grouped.to_geodataframe(), grouped.sites_frame(), grouped.summary(),
+    ]
+
+
+def test_no_column_shadows_a_geodataframe_member() -> None:
+    # Reference: the members geopandas.GeoDataFrame adds to pandas.DataFrame (area, length,
+    # distance, crs, ...) and the index.
+    import geopandas
+    import pandas
+
+    spatial = (set(dir(geopandas.GeoDataFrame)) - set(dir(pandas.DataFrame))) | {"index", "geometry"}
+    assert {"area", "length", "distance", "crs"} <= spatial
+    for frame in _all_frames():
+        geometry = frame.geometry.name if isinstance(frame, geopandas.GeoDataFrame) else None
+        columns = [c for c in frame.columns if c != geometry]
+        assert not spatial & set(columns), columns
+
+
+def test_mesh_frame_matches_attributes_and_shapely_areas() -> None:
+    # Reference: shapely.area of the triangles built here from the input rows.
+    pts = np.random.default_rng(8).normal(size=(200, 2)) * 1e3 + [5e5, 6e6]
+    mesh = pw.delaunay(pts)
+    frame = mesh.to_frame()
+    assert list(frame.columns) == ["corner_a", "corner_b", "corner_c", "area_u2"]
+    np.testing.assert_array_equal(frame[["corner_a", "corner_b", "corner_c"]].to_numpy(), mesh.corners)
+    reference = shapely.area(shapely.polygons(pts[mesh.corners]))
+    np.testing.assert_allclose(frame["area_u2"], reference, rtol=1e-9)
+    np.testing.assert_array_equal(frame["area_u2"], mesh.area)
+    # The triangles tile the convex hull (shapely.convex_hull): their areas sum to its area.
+    assert mesh.area.sum() == pytest.approx(shapely.MultiPoint(pts).convex_hull.area, rel=1e-12)
+    gdf = mesh.to_geodataframe(crs="EPSG:32633")
+    assert gdf.crs.to_epsg() == 32633 and gdf.geom_type.eq("Polygon").all()
+    np.testing.assert_allclose(gdf.area, reference, rtol=1e-9)
+    assert shapely.equals(gdf.geometry.values, shapely.polygons(pts[mesh.corners])).all()
+
+
+def test_cells_frame_matches_attributes_and_shapely_areas() -> None:
+    # Reference: shapely.voronoi_polygons intersected with the region, and shapely.area.
+    sites = np.random.default_rng(9).uniform(0, 100, size=(60, 2))
+    cells = pw.voronoi_cells(sites, L_WITH_HOLE)
+    assert isinstance(cells, VoronoiCells) and len(cells) == 60
+    frame = cells.to_frame()
+    assert list(frame.columns) == ["x", "y", "area_u2"]
+    np.testing.assert_array_equal(frame[["x", "y"]].to_numpy(), sites)
+    np.testing.assert_array_equal(frame["area_u2"], cells.area)
+    reference = [r.area for r in reference_cells(sites, L_WITH_HOLE)]
+    np.testing.assert_allclose(frame["area_u2"], reference, rtol=1e-9, atol=1e-9 * L_WITH_HOLE.area)
+    gdf = cells.to_geodataframe()
+    np.testing.assert_allclose(gdf.area, reference, rtol=1e-9, atol=1e-9 * L_WITH_HOLE.area)
+    assert set(gdf.geom_type) <= {"Polygon", "MultiPolygon"}
+
+
+def test_allocation_frames_match_attributes_and_ckdtree() -> None:
+    # Reference: scipy.spatial.cKDTree.query; loads and counts by numpy.bincount of its sites.
+    rng = np.random.default_rng(10)
+    pts, sites, w = rng.uniform(0, 50, size=(3000, 2)), rng.uniform(0, 50, size=(12, 2)), rng.uniform(0, 3, 3000)
+    a = pw.nearest_site(pts, sites, w)
+    dist, index = scipy.spatial.cKDTree(sites).query(pts)
+    frame = a.to_frame()
+    assert list(frame.columns) == ["assignment", "distance_u"]
+    np.testing.assert_array_equal(frame["assignment"], index)
+    np.testing.assert_allclose(frame["distance_u"], dist, rtol=1e-12)
+    gdf = a.to_geodataframe()
+    np.testing.assert_array_equal(shapely.get_coordinates(gdf.geometry.values), pts)
+    site_frame = a.sites_frame()
+    assert list(site_frame.columns) == ["x", "y", "load", "count"]
+    np.testing.assert_allclose(site_frame["load"], np.bincount(index, weights=w, minlength=12), rtol=1e-12)
+    np.testing.assert_array_equal(site_frame["count"], np.bincount(index, minlength=12))
+    summary = a.summary()
+    assert list(summary.columns) == ["cost_u", "load", "count", "sites"] and len(summary) == 1
+    assert summary["cost_u"][0] == pytest.approx(float(np.sum(w * dist)), rel=1e-12)
+    assert summary["load"][0] == pytest.approx(float(w.sum()), rel=1e-12)
+    assert (summary["count"][0], summary["sites"][0]) == (3000, 12)
+
+
+# --- grouped forms -----------------------------------------------------------------------------
+
+@settings(max_examples=40, deadline=None)
+@given(st.lists(st.tuples(st.integers(-5, 5), st.integers(-5, 5), st.sampled_from([-2, 0, 9])),
+                min_size=1, max_size=80))
+def test_grouped_delaunay_equals_separate_calls(raw) -> None:
+    # Reference: separate calls on each group's rows; indices mapped to input rows here.
+    data = np.array(raw, dtype=float)
+    pts, groups = data[:, :2], data[:, 2].astype(int)
+    meshes = pw.delaunay(pts, groups=groups, errors="skip")
+    assert isinstance(meshes, DelaunayMeshes) and meshes.labels.tolist() == sorted(set(groups.tolist()))
+    frame = meshes.to_frame()
+    for g, label in enumerate(meshes.labels):
+        rows = np.flatnonzero(groups == label)
+        try:
+            single = pw.delaunay(pts[rows])
+        except pw.DegenerateInputError as e:
+            assert meshes.problem[g] == f"group {label}: {e}"
+            assert np.all(meshes.representative[rows] == -1)
+            with pytest.raises(pw.InputError):
+                meshes[label]
+            continue
+        assert meshes.problem[g] is None
+        triangles = slice(meshes.triangle_offsets[g], meshes.triangle_offsets[g + 1])
+        np.testing.assert_array_equal(meshes.corners[triangles], rows[single.corners])
+        np.testing.assert_array_equal(meshes.outline[meshes.outline_offsets[g]:meshes.outline_offsets[g + 1]],
+                                      rows[single.outline])
+        np.testing.assert_array_equal(meshes.edges[meshes.edge_offsets[g]:meshes.edge_offsets[g + 1]],
+                                      rows[single.edges])
+        np.testing.assert_array_equal(meshes.representative[rows], rows[single.representative])
+        across = meshes.across[triangles]
+        np.testing.assert_array_equal(np.where(across >= 0, across - triangles.start, -1), single.across)
+        item = meshes[label]
+        for name in ("corners", "across", "outline", "edges", "representative", "area", "points"):
+            np.testing.assert_array_equal(getattr(item, name), getattr(single, name))
+        part = frame[frame["group"] == label]
+        np.testing.assert_array_equal(part["area_u2"], single.area)
+
+
+def test_grouped_delaunay_is_sized_iterable_and_indexed_by_label() -> None:
+    pts = np.array([[0, 0], [1, 0], [0, 1], [5, 5], [6, 5], [5, 6], [6, 6]], dtype=float)
+    meshes = pw.delaunay(pts, groups=[30, 30, 30, -4, -4, -4, -4])
+    assert len(meshes) == 2 and meshes.labels.tolist() == [-4, 30]
+    assert [len(m.corners) for m in meshes] == [2, 1]
+    assert 30 in meshes and 7 not in meshes
+    # Closed forms: a unit square is two triangles of area 1/2; the unit right triangle 1/2.
+    assert meshes[-4].area.tolist() == [0.5, 0.5] and meshes[30].area.tolist() == [0.5]
+    with pytest.raises(KeyError):
+        meshes[7]
+
+
+def test_grouped_delaunay_errors_name_group_and_input_row() -> None:
+    pts = np.array([[0, 0], [1, 0], [0, 1], [5, 5], [np.nan, 5], [5, 6]])
+    with pytest.raises(pw.InputError, match=r"group 2: points\[4\] has a NaN coordinate") as info:
+        pw.delaunay(pts, groups=[1, 1, 1, 2, 2, 2])
+    assert (info.value.group, info.value.row) == (2, 4)
+    skipped = pw.delaunay(pts, groups=[1, 1, 1, 2, 2, 2], errors="skip")
+    assert skipped.skipped.tolist() == [False, True]
+    assert skipped.representative.tolist() == [0, 1, 2, -1, -1, -1]
+    with pytest.raises(pw.InputError, match="errors must be"):
+        pw.delaunay(pts, groups=[1, 1, 1, 2, 2, 2], errors="ignore")
+
+
+@settings(max_examples=30, deadline=None)
+@given(st.sets(st.tuples(st.integers(-8, 8), st.integers(-8, 8)), min_size=1, max_size=40),
+       st.randoms(use_true_random=False))
+def test_grouped_voronoi_equals_separate_calls(raw, rnd) -> None:
+    # Reference: separate calls on each group's sites; and shapely: every group's cells tile
+    # the one region (shapely.area, shapely.coverage_is_valid).
+    sites = np.array(sorted(raw), dtype=float)
+    groups = np.array([rnd.choice([3, 5, 8]) for _ in range(len(sites))])
+    region = shapely.affinity.translate(shapely.affinity.scale(L_WITH_HOLE, 0.2, 0.2, origin=(0, 0)).buffer(0), -9, -9)
+    sets = pw.voronoi_cells(sites, region, groups=groups)
+    assert isinstance(sets, VoronoiCellSets)
+    shapes = sets.to_shapely()
+    frame = sets.to_frame()
+    np.testing.assert_array_equal(frame["group"], groups)
+    for label in sets.labels:
+        rows = np.flatnonzero(groups == label)
+        single = pw.voronoi_cells(sites[rows], region)
+        item = sets[label]
+        for name in ("vertices", "offsets", "parts", "area", "sites"):
+            np.testing.assert_array_equal(getattr(item, name), getattr(single, name))
+        np.testing.assert_array_equal(sets.area[rows], single.area)
+        assert sets.area[rows].sum() == pytest.approx(region.area, rel=1e-9)
+        assert shapely.coverage_is_valid(shapes[rows])
+        assert all(a.equals(b) or (a.is_empty and b.is_empty) for a, b in zip(shapes[rows], single.to_shapely()))
+
+
+def test_grouped_voronoi_repeated_site_names_input_rows() -> None:
+    # Rows 1 and 4 of the input are the same location inside group 7.
+    sites = np.array([[1.0, 1.0], [2.0, 2.0], [3.0, 1.0], [5.0, 5.0], [2.0, 2.0]])
+    groups = [6, 7, 6, 7, 7]
+    with pytest.raises(pw.DegenerateInputError, match=r"^group 7: sites: sites\[4\] repeats sites\[1\]") as info:
+        pw.voronoi_cells(sites, BOX, groups=groups)
+    assert (info.value.group, info.value.row) == (7, 4)
+    skipped = pw.voronoi_cells(sites, BOX, groups=groups, errors="skip")
+    message = "group 7: sites: sites[4] repeats sites[1]; every site needs its own location"
+    assert skipped.problem.tolist() == [None, message]
+    assert np.isnan(skipped.area[[1, 3, 4]]).all()
+    # Closed form: group 6's two cells split the 100 x 60 box.
+    assert skipped.area[[0, 2]].sum() == pytest.approx(BOX.area, rel=1e-12)
+    assert len(skipped) == 2 and len(skipped[6]) == 2
+    doc = skipped.to_geojson()
+    assert [f["properties"]["group"] for f in doc["features"]] == groups
+
+
+@settings(max_examples=40, deadline=None)
+@given(
+    st.lists(st.tuples(st.integers(-20, 20), st.integers(-20, 20), st.integers(0, 2)), min_size=1, max_size=20),
+    st.lists(st.tuples(st.integers(-40, 40), st.integers(-40, 40), st.integers(0, 2)), min_size=1, max_size=80),
+)
+def test_grouped_nearest_site_equals_separate_calls_and_brute_force(sites, pts) -> None:
+    # Reference: separate calls per label, and numpy.argmin over exact squared distances
+    # (small integers are exact in float64) for the site rows.
+    s, p = np.array(sites, dtype=float), np.array(pts, dtype=float)
+    site_groups, groups = s[:, 2].astype(int), p[:, 2].astype(int)
+    s, p = s[:, :2], p[:, :2] / 2
+    w = np.arange(len(p)) % 3 + 0.5
+    out = pw.nearest_site(p, s, w, groups=groups, site_groups=site_groups, errors="skip")
+    assert isinstance(out, Allocations)
+    assert out.labels.tolist() == sorted(set(groups.tolist()) | set(site_groups.tolist()))
+    for g, label in enumerate(out.labels):
+        rows, site_rows = np.flatnonzero(groups == label), np.flatnonzero(site_groups == label)
+        if len(rows) == 0 or len(site_rows) == 0:
+            assert out.problem[g] is not None and np.isnan(out.cost[g])
+            assert np.all(out.assignment[rows] == -1) and np.isnan(out.load[site_rows]).all()
+            continue
+        single = pw.nearest_site(p[rows], s[site_rows], w[rows])
+        d2 = ((p[rows][:, None, :] - s[site_rows][None, :, :]) ** 2).sum(axis=2)
+        np.testing.assert_array_equal(out.assignment[rows], site_rows[np.argmin(d2, axis=1)])
+        np.testing.assert_array_equal(out.assignment[rows], site_rows[single.assignment])
+        np.testing.assert_array_equal(out.distance[rows], single.distance)
+        np.testing.assert_array_equal(out.load[site_rows], single.load)
+        np.testing.assert_array_equal(out.count[site_rows], single.count)
+        assert (out.cost[g], out.total_load[g]) == (single.cost, single.total_load)
+        item = out[label]
+        for name in ("assignment", "distance", "load", "count", "points", "sites"):
+            np.testing.assert_array_equal(getattr(item, name), getattr(single, name))
+        assert (item.cost, item.total_load) == (single.cost, single.total_load)
+
+
+def test_grouped_nearest_site_frames_and_problems() -> None:
+    # Label 4 has a point but no site; label 9 a site but no point. Closed-form distances.
+    pts = np.array([[0.0, 0.0], [3.0, 0.0], [10.0, 0.0], [50.0, 0.0]])
+    sites = np.array([[1.0, 0.0], [11.0, 0.0], [0.0, 0.0], [7.0, 7.0]])
+    out = pw.nearest_site(pts, sites, groups=[1, 1, 2, 4], site_groups=[1, 2, 1, 9], errors="skip")
+    assert out.labels.tolist() == [1, 2, 4, 9]
+    assert out.problem.tolist() == [None, None, "group 4: sites must hold at least 1 points; got 0",
+                                    "group 9: points must hold at least 1 points; got 0"]
+    frame = out.to_frame()
+    # One row per input point, then a row holding the problem of group 9, which has none.
+    assert frame["group"].tolist() == [1, 1, 2, 4, 9]
+    np.testing.assert_array_equal(frame["assignment"], [2, 0, 1, -1, np.nan])
+    np.testing.assert_array_equal(frame["distance_u"], [0.0, 2.0, 1.0, np.nan, np.nan])
+    assert frame["problem"].isna().tolist() == [True, True, True, False, False]
+    sites_frame = out.sites_frame()
+    assert sites_frame["group"].tolist() == [1, 2, 1, 9]
+    np.testing.assert_array_equal(sites_frame["load"], [1.0, 1.0, 1.0, np.nan])
+    assert sites_frame["count"].tolist() == [1, 1, 1, 0]
+    summary = out.summary()
+    assert summary["count"].tolist() == [2, 1, 1, 0] and summary["sites"].tolist() == [2, 1, 0, 1]
+    np.testing.assert_array_equal(summary["cost_u"], [2.0, 1.0, np.nan, np.nan])
+    with pytest.raises(pw.InputError, match="group 4: sites must hold"):
+        pw.nearest_site(pts, sites, groups=[1, 1, 2, 4], site_groups=[1, 2, 1, 9])
+    with pytest.raises(pw.InputError, match="given together"):
+        pw.nearest_site(pts, sites, groups=[1, 1, 2, 4])
+    with pytest.raises(pw.InputError, match=r"group 1: weights must be finite and >= 0; weights\[1\] = -1"):
+        pw.nearest_site(pts, sites, [1, -1, 1, 1], groups=[1, 1, 2, 2], site_groups=[1, 1, 2, 2])

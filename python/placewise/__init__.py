@@ -28,7 +28,7 @@ from .enclose import (
     minimax_point,
 )
 from .median import WeberPoint, WeberPoints, weber_point
-from .multi import CenterPlan, MedianPlan, p_center, p_median
+from .multi import CenterPlan, CenterPlans, MedianPlan, MedianPlans, p_center, p_median
 from .network import SpanningTree, SpanningTrees, SteinerTree, SteinerTrees, spanning_tree, steiner_tree
 from .partition import Allocation, Triangulation, VoronoiCells, delaunay, nearest_site, voronoi_cells
 from .runtime import set_threads, thread_count
@@ -56,6 +56,7 @@ def __dir__() -> list[str]:
 __all__ = [
     "Allocation",
     "CenterPlan",
+    "CenterPlans",
     "Circle",
     "Circles",
     "DegenerateInputError",
@@ -63,6 +64,7 @@ __all__ = [
     "Ellipses",
     "InputError",
     "MedianPlan",
+    "MedianPlans",
     "MinimaxPoint",
     "MinimaxPoints",
     "SpanningTree",

@@ -218,11 +218,12 @@ class Grouped(Result):
         """Group position of every row of :meth:`_columns` (one row per group by default)."""
         return np.arange(len(self))
 
-    def _framed(self, columns: dict[str, Any], geometry: Any = None, crs: Any = None) -> Any:
+    def _framed(self, columns: dict[str, Any], geometry: Any = None, crs: Any = None, rows: Any = None) -> Any:
         """``columns`` with ``group`` and ``problem`` in front; a skipped group with no rows
-        of its own keeps one row holding its problem."""
+        of its own keeps one row holding its problem. ``rows`` is the group position of every
+        row (default :meth:`_row_groups`), for a result's second table (a plan's sites)."""
         pd = _require_pandas()
-        rows = self._row_groups()
+        rows = self._row_groups() if rows is None else np.asarray(rows)
         data = {"group": self.labels[rows], "problem": self.problem[rows], **columns}
         if geometry is not None:
             import geopandas as gpd

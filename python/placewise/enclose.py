@@ -2,18 +2,26 @@
 
 The smallest circle covering a cloud, the site whose largest (weighted) trip is least, and
 the smallest ellipse covering a cloud.
+
+Every result knows its rows (``to_frame()``, ``to_geodataframe(crs=...)``): one row per
+point set (per group with ``groups=``), lengths suffixed with the coordinates' unit
+(``radius_u``, ``semi_major_u``, ``area_u2``) and angles in degrees (``angle_deg``,
+counter-clockwise from the +x axis). A circle's or ellipse's geometry is a 128-gon that
+circumscribes the exact curve, so every point the curve covers is inside the polygon.
+``support`` (the input rows that fix the shape) is ragged, so it is an attribute rather
+than a column.
 """
 
 from __future__ import annotations
 
 import dataclasses
-from typing import Any
+from typing import Any, ClassVar, Literal, overload
 
 import numpy as np
 from numpy.typing import ArrayLike
 
 from . import _core
-from ._results import Result
+from ._results import Grouped, Result
 
 __all__ = [
     "Circle",
@@ -27,30 +35,123 @@ __all__ = [
     "minimax_point",
 ]
 
-_RING = np.linspace(0.0, 2.0 * np.pi, 181)
+# Vertices of the polygon standing for a circle or ellipse. The regular N-gon whose
+# vertices lie at radius r / cos(pi / N) has its edges tangent to the circle of radius r, so
+# it contains the disk; an affine map keeps containment and tangency, so the same holds for
+# the image of the unit circle's polygon under an ellipse's axes and rotation.
+_VERTICES = 128
+_UNIT_RING = np.exp(1j * np.linspace(0.0, 2.0 * np.pi, _VERTICES, endpoint=False)) / np.cos(np.pi / _VERTICES)
 
 
-def _circle_xy(center: np.ndarray, radius: float) -> tuple[np.ndarray, np.ndarray]:
-    return center[0] + radius * np.cos(_RING), center[1] + radius * np.sin(_RING)
+def _rings(center: Any, semi_major: Any, semi_minor: Any, angle_deg: Any) -> np.ndarray:
+    """Closed rings (G, N + 1, 2) of the polygons circumscribing G ellipses (circles when the
+    semi-axes are equal); ``angle_deg`` is the major axis, degrees counter-clockwise from +x."""
+    center = np.asarray(center, dtype=np.float64).reshape(-1, 2)
+    a = np.asarray(semi_major, dtype=np.float64).reshape(-1, 1)
+    b = np.asarray(semi_minor, dtype=np.float64).reshape(-1, 1)
+    turn = np.exp(1j * np.radians(np.asarray(angle_deg, dtype=np.float64).reshape(-1, 1)))
+    ring = (a * _UNIT_RING.real + 1j * b * _UNIT_RING.imag) * turn + (center[:, :1] + 1j * center[:, 1:])
+    ring = np.concatenate([ring, ring[:, :1]], axis=1)
+    return np.stack([ring.real, ring.imag], axis=-1)
 
 
-def _ellipse_xy(center: np.ndarray, semi_axes: np.ndarray, angle: float) -> tuple[np.ndarray, np.ndarray]:
-    a, b = semi_axes
-    c, s = np.cos(angle), np.sin(angle)
-    x, y = a * np.cos(_RING), b * np.sin(_RING)
-    return center[0] + c * x - s * y, center[1] + s * x + c * y
-
-
-def _support_of(offsets: np.ndarray, index: np.ndarray, g: int) -> np.ndarray:
-    return index[offsets[g]:offsets[g + 1]]
+def _geometries(build: Any, coords: np.ndarray) -> np.ndarray:
+    """``build(coords[g])`` for every row of ``coords`` (G, ..., 2) as one object array,
+    None where a coordinate is missing (a group skipped with ``errors="skip"``)."""
+    missing = ~np.isfinite(coords.reshape(len(coords), -1)).all(axis=1)
+    out = np.empty(len(coords), dtype=object)
+    if (~missing).any():
+        out[~missing] = build(coords[~missing])
+    return out
 
 
 _OUTLINE = {"color": "#3b6ea8", "linewidth": 1.4}
 _MARK = {"marker": "+", "markersize": 10, "color": "#3b6ea8", "linestyle": "none"}
+_STAR = {"marker": "*", "color": "crimson", "linestyle": "none"}
+
+
+def _xy(points: Any) -> dict[str, np.ndarray]:
+    points = np.asarray(points, dtype=np.float64).reshape(-1, 2)
+    return {"x": points[:, 0], "y": points[:, 1]}
+
+
+def _one(value: Any) -> np.ndarray:
+    return np.atleast_1d(np.asarray(value))
+
+
+class _Outlined:
+    """Table and drawing of results shaped as ellipses (circles included), shared by the
+    single and grouped forms: ``_outline()`` gives (center, semi_major, semi_minor,
+    angle in degrees) per row."""
+
+    def _outline(self) -> tuple[Any, Any, Any, Any]:
+        raise NotImplementedError
+
+    def _geometry(self) -> Any:
+        import shapely
+
+        return _geometries(shapely.polygons, _rings(*self._outline()))
+
+    def _draw(self, ax: Any, style: dict[str, Any]) -> None:
+        for ring in _rings(*self._outline()):
+            if np.isfinite(ring).all():
+                ax.plot(ring[:, 0], ring[:, 1], **style)
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
-class Circle(Result):
+class _GroupedWithSupport(Grouped):
+    """Grouped results whose groups each name their support rows, in CSR layout; the single
+    result of a group (``_single``) has the same field names, holding that group's values.
+
+    Attributes
+    ----------
+    support_offsets : ndarray of int, shape (G + 1,)
+    support_index : ndarray of int
+        Group ``g``'s support rows (indices into the whole input) are
+        ``support_index[support_offsets[g]:support_offsets[g + 1]]``; :meth:`support`
+        gives them by label.
+    """
+
+    _single: ClassVar[type[Result]]
+
+    support_offsets: np.ndarray = dataclasses.field(repr=False)
+    support_index: np.ndarray = dataclasses.field(repr=False)
+
+    def _support_at(self, position: int) -> np.ndarray:
+        return self.support_index[self.support_offsets[position]:self.support_offsets[position + 1]].copy()
+
+    def support(self, label: Any) -> np.ndarray:
+        """Support rows (indices into the whole input) of the group labelled ``label``;
+        empty for a group skipped with ``errors="skip"``."""
+        return self._support_at(self.position(label))
+
+    def _item(self, position: int) -> Any:
+        values: dict[str, Any] = {"support": self._support_at(position)}
+        for field in dataclasses.fields(self._single):
+            if field.name not in values and field.init and not field.kw_only:
+                value = getattr(self, field.name)[position]
+                values[field.name] = value.copy() if isinstance(value, np.ndarray) else value.item()
+        return self._single(**values, unit=self.unit)
+
+
+# ------------------------------------------------------------------------------- circle
+
+
+class _CircleTable(_Outlined):
+    center: Any
+    radius: Any
+    area: Any
+    _u: Any
+
+    def _outline(self) -> tuple[Any, Any, Any, Any]:
+        return self.center, self.radius, self.radius, 0.0
+
+    def _columns(self) -> dict[str, Any]:
+        return {**_xy(self.center), self._u("radius"): _one(self.radius), self._u("area", 2): _one(self.area)}
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class Circle(_CircleTable, Result):
     """The smallest circle containing a point set.
 
     Attributes
@@ -58,117 +159,174 @@ class Circle(Result):
     center : ndarray, shape (2,)
     radius : float
         The largest distance from ``center`` to an input point.
+    area : float
+        ``pi * radius**2``.
     support : ndarray of int, shape (k,)
-        Indices of the 1 (all points coincide), 2 (a diameter) or 3 input points that
-        define the circle.
+        Input rows of the 1 (all points coincide), 2 (a diameter) or 3 points that define
+        the circle.
+
+    ``to_frame()`` gives one row: ``x``, ``y`` (the centre), ``radius_<unit>``,
+    ``area_<unit>2``; ``to_geodataframe()`` adds the circle as a 128-gon circumscribing it.
     """
 
     center: np.ndarray
     radius: float
+    area: float
     support: np.ndarray
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
         """Draw the circle and mark its centre (new axes when ``ax`` is None)."""
         ax = self._plot_axes(ax)
-        ax.plot(*_circle_xy(self.center, self.radius), **{**_OUTLINE, **style})
+        self._draw(ax, {**_OUTLINE, **style})
         ax.plot(*self.center, **_MARK)
         return ax
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
-class Circles(Result):
+class Circles(_CircleTable, _GroupedWithSupport):
     """Smallest enclosing circles of many groups, sorted by label.
+
+    ``len``, iteration and ``circles[label]`` give each group's :class:`Circle`;
+    ``to_frame()`` has one row per group with the columns of :class:`Circle` after
+    ``group`` and ``problem``.
 
     Attributes
     ----------
     labels : ndarray, shape (G,)
         Sorted unique group labels.
     center : ndarray, shape (G, 2)
-    radius : ndarray, shape (G,)
-    support_offsets : ndarray of int, shape (G + 1,)
-    support_index : ndarray of int
-        Group ``g``'s support is ``support_index[support_offsets[g]:support_offsets[g + 1]]``
-        (indices into the whole input).
+    radius, area : ndarray, shape (G,)
+    support_offsets, support_index : ndarray of int
+        Every group's support rows (indices into the whole input) in CSR layout: group
+        ``g``'s are ``support_index[support_offsets[g]:support_offsets[g + 1]]``;
+        :meth:`support` gives them by label.
     """
 
-    labels: np.ndarray
+    _single = Circle
+
     center: np.ndarray
     radius: np.ndarray
-    support_offsets: np.ndarray
-    support_index: np.ndarray
-
-    def support(self, g: int) -> np.ndarray:
-        """Support indices of the ``g``-th group (in label order)."""
-        return _support_of(self.support_offsets, self.support_index, g)
+    area: np.ndarray
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
         """Draw every group's circle."""
         ax = self._plot_axes(ax)
-        for c, r in zip(self.center, self.radius):
-            ax.plot(*_circle_xy(c, r), **{**_OUTLINE, "linewidth": 0.8, **style})
+        self._draw(ax, {**_OUTLINE, "linewidth": 0.8, **style})
         return ax
 
 
+# ------------------------------------------------------------------------------- minimax
+
+
+class _MinimaxTable:
+    location: Any
+    weighted_radius: Any
+    _u: Any
+
+    def _columns(self) -> dict[str, Any]:
+        return {**_xy(self.location), self._u("weighted_radius"): _one(self.weighted_radius)}
+
+    def _geometry(self) -> Any:
+        import shapely
+
+        return _geometries(shapely.points, np.asarray(self.location, dtype=np.float64).reshape(-1, 2))
+
+    def _draw(self, ax: Any, style: dict[str, Any]) -> None:
+        at = np.asarray(self.location).reshape(-1, 2)
+        ax.plot(at[:, 0], at[:, 1], **{**_STAR, **style})
+
+
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
-class MinimaxPoint(Result):
+class MinimaxPoint(_MinimaxTable, Result):
     """The weighted minimax point (weighted Euclidean 1-center).
 
     Attributes
     ----------
     location : ndarray, shape (2,)
         The site minimising the largest weighted distance ``w_i * |x - a_i|``.
-    radius : float
-        That largest weighted distance.
+    weighted_radius : float
+        That largest weighted distance (weight × coordinate unit).
     support : ndarray of int, shape (k,)
-        Indices of the 1–3 points whose weighted distances fix the optimum (all equal
-        ``radius``).
+        Input rows of the 1–3 points whose weighted distances fix the optimum (all equal
+        ``weighted_radius``).
+
+    ``to_frame()`` gives one row: ``x``, ``y``, ``weighted_radius_<unit>``;
+    ``to_geodataframe()`` adds the site as a Point.
     """
 
     location: np.ndarray
-    radius: float
+    weighted_radius: float
     support: np.ndarray
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
         """Draw the site as a star (new axes when ``ax`` is None)."""
         ax = self._plot_axes(ax)
-        ax.plot(*self.location, **{"marker": "*", "markersize": 14, "color": "crimson", "linestyle": "none", **style})
+        self._draw(ax, {"markersize": 14, **style})
         return ax
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
-class MinimaxPoints(Result):
+class MinimaxPoints(_MinimaxTable, _GroupedWithSupport):
     """Weighted minimax points of many groups, sorted by label.
+
+    ``len``, iteration and ``sites[label]`` give each group's :class:`MinimaxPoint`;
+    ``to_frame()`` has one row per group with the columns of :class:`MinimaxPoint` after
+    ``group`` and ``problem``.
 
     Attributes
     ----------
     labels : ndarray, shape (G,)
     location : ndarray, shape (G, 2)
-    radius : ndarray, shape (G,)
-    support_offsets : ndarray of int, shape (G + 1,)
-    support_index : ndarray of int
-        CSR layout as in :class:`Circles`.
+    weighted_radius : ndarray, shape (G,)
+    support_offsets, support_index : ndarray of int
+        Support rows in CSR layout as in :class:`Circles`; :meth:`support` gives a
+        group's rows by label.
     """
 
-    labels: np.ndarray
-    location: np.ndarray
-    radius: np.ndarray
-    support_offsets: np.ndarray
-    support_index: np.ndarray
+    _single = MinimaxPoint
 
-    def support(self, g: int) -> np.ndarray:
-        """Support indices of the ``g``-th group (in label order)."""
-        return _support_of(self.support_offsets, self.support_index, g)
+    location: np.ndarray
+    weighted_radius: np.ndarray
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
         """Draw every group's site as a star."""
         ax = self._plot_axes(ax)
-        ax.plot(self.location[:, 0], self.location[:, 1],
-                **{"marker": "*", "markersize": 10, "color": "crimson", "linestyle": "none", **style})
+        self._draw(ax, {"markersize": 10, **style})
         return ax
 
 
+# ------------------------------------------------------------------------------- ellipse
+
+
+class _EllipseTable(_Outlined):
+    center: Any
+    semi_major: Any
+    semi_minor: Any
+    angle: Any
+    area: Any
+    relative_gap: Any
+    iterations: Any
+    converged: Any
+    _u: Any
+
+    def _outline(self) -> tuple[Any, Any, Any, Any]:
+        return self.center, self.semi_major, self.semi_minor, self.angle
+
+    def _columns(self) -> dict[str, Any]:
+        return {
+            **_xy(self.center),
+            self._u("semi_major"): _one(self.semi_major),
+            self._u("semi_minor"): _one(self.semi_minor),
+            "angle_deg": _one(self.angle),
+            self._u("area", 2): _one(self.area),
+            "relative_gap": _one(self.relative_gap),
+            "iterations": _one(self.iterations),
+            "converged": _one(self.converged),
+        }
+
+
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
-class Ellipse(Result):
+class Ellipse(_EllipseTable, Result):
     """The minimum-area ellipse containing a point set.
 
     Attributes
@@ -177,83 +335,109 @@ class Ellipse(Result):
     shape : ndarray, shape (2, 2)
         Symmetric positive definite ``A`` with ``(x - center) @ A @ (x - center) <= 1`` for
         every input point.
-    semi_axes : ndarray, shape (2,)
-        Semi-axis lengths, major first.
+    semi_major, semi_minor : float
+        Semi-axis lengths (``semi_major >= semi_minor``).
     angle : float
-        Direction of the major axis in radians from +x, in (-pi/2, pi/2].
+        Direction of the major axis in degrees counter-clockwise from the +x axis, in
+        (-90, 90]; 0 for a circle.
     area : float
+        ``pi * semi_major * semi_minor``.
     support : ndarray of int
-        Indices of the hull vertices carrying the optimal dual weight (on the boundary).
-    gap : float
+        Input rows of the hull vertices carrying the optimal dual weight (on the boundary).
+    relative_gap : float
         Certified bound on ``area / minimum_area - 1``.
     iterations : int
     converged : bool
-        True when ``gap <= tol`` was reached.
+        True when ``relative_gap <= tol`` was reached.
+
+    ``to_frame()`` gives one row: ``x``, ``y`` (the centre), ``semi_major_<unit>``,
+    ``semi_minor_<unit>``, ``angle_deg``, ``area_<unit>2``, ``relative_gap``,
+    ``iterations``, ``converged``; ``to_geodataframe()`` adds the ellipse as a 128-gon
+    circumscribing it.
     """
 
     center: np.ndarray
     shape: np.ndarray
-    semi_axes: np.ndarray
+    semi_major: float
+    semi_minor: float
     angle: float
     area: float
     support: np.ndarray
-    gap: float
+    relative_gap: float
     iterations: int
     converged: bool
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
         """Draw the ellipse and mark its centre (new axes when ``ax`` is None)."""
         ax = self._plot_axes(ax)
-        ax.plot(*_ellipse_xy(self.center, self.semi_axes, self.angle), **{**_OUTLINE, **style})
+        self._draw(ax, {**_OUTLINE, **style})
         ax.plot(*self.center, **_MARK)
         return ax
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
-class Ellipses(Result):
+class Ellipses(_EllipseTable, _GroupedWithSupport):
     """Minimum-area enclosing ellipses of many groups, sorted by label.
+
+    ``len``, iteration and ``ellipses[label]`` give each group's :class:`Ellipse`;
+    ``to_frame()`` has one row per group with the columns of :class:`Ellipse` after
+    ``group`` and ``problem``.
 
     Attributes
     ----------
     labels : ndarray, shape (G,)
     center : ndarray, shape (G, 2)
     shape : ndarray, shape (G, 2, 2)
-    semi_axes : ndarray, shape (G, 2)
-    angle, area : ndarray, shape (G,)
-    support_offsets : ndarray of int, shape (G + 1,)
-    support_index : ndarray of int
-        CSR layout as in :class:`Circles`.
-    gap : ndarray, shape (G,)
+    semi_major, semi_minor, angle, area : ndarray, shape (G,)
+        ``angle`` in degrees counter-clockwise from the +x axis.
+    support_offsets, support_index : ndarray of int
+        Support rows in CSR layout as in :class:`Circles`; :meth:`support` gives a
+        group's rows by label.
+    relative_gap : ndarray, shape (G,)
     iterations : ndarray, shape (G,)
     converged : ndarray of bool, shape (G,)
     """
 
-    labels: np.ndarray
+    _single = Ellipse
+
     center: np.ndarray
     shape: np.ndarray
-    semi_axes: np.ndarray
+    semi_major: np.ndarray
+    semi_minor: np.ndarray
     angle: np.ndarray
     area: np.ndarray
-    support_offsets: np.ndarray
-    support_index: np.ndarray
-    gap: np.ndarray
+    relative_gap: np.ndarray
     iterations: np.ndarray
     converged: np.ndarray
-
-    def support(self, g: int) -> np.ndarray:
-        """Support indices of the ``g``-th group (in label order)."""
-        return _support_of(self.support_offsets, self.support_index, g)
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
         """Draw every group's ellipse."""
         ax = self._plot_axes(ax)
-        for c, a, t in zip(self.center, self.semi_axes, self.angle):
-            ax.plot(*_ellipse_xy(c, a, t), **{**_OUTLINE, "linewidth": 0.8, **style})
+        self._draw(ax, {**_OUTLINE, "linewidth": 0.8, **style})
         return ax
 
 
+# ------------------------------------------------------------------------------- functions
+
+
+@overload
 def enclosing_circle(
-    points: ArrayLike, *, groups: ArrayLike | None = None, seed: int | None = None
+    points: ArrayLike, *, groups: None = None, seed: int | None = None, errors: Literal["raise", "skip"] = "raise"
+) -> Circle: ...
+
+
+@overload
+def enclosing_circle(
+    points: ArrayLike, *, groups: ArrayLike, seed: int | None = None, errors: Literal["raise", "skip"] = "raise"
+) -> Circles: ...
+
+
+def enclosing_circle(
+    points: ArrayLike,
+    *,
+    groups: ArrayLike | None = None,
+    seed: int | None = None,
+    errors: Literal["raise", "skip"] = "raise",
 ) -> Circle | Circles:
     """The smallest circle containing every point.
 
@@ -268,8 +452,12 @@ def enclosing_circle(
     groups : array_like of int, shape (n,), optional
         Group labels: one circle per group, computed in parallel, returned as ``Circles``.
     seed : int, optional
-        Seed of the shuffle (default: a fixed seed). The circle is unique; the seed can only
-        change which of several cocircular points are reported as support.
+        Seed of the shuffle, from 0 to 2**64 - 1 (default: a fixed seed). The circle is
+        unique; the seed can only change which of several cocircular points are reported
+        as support.
+    errors : {"raise", "skip"}
+        With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
+        label); ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
 
     Returns
     -------
@@ -278,7 +466,9 @@ def enclosing_circle(
     Raises
     ------
     InputError
-        For NaN/inf coordinates, a shape other than (n, 2), or no points.
+        For NaN/inf coordinates, a shape other than (n, 2), no points, or a ``seed`` that
+        is not an integer from 0 to 2**64 - 1. Its ``group`` and ``row`` attributes name
+        the group label and input row concerned.
 
     Examples
     --------
@@ -288,22 +478,50 @@ def enclosing_circle(
     (array([2., 0.]), 2.0, array([0, 1]))
     >>> pw.enclosing_circle([[3, 1]]).radius                 # one point: radius zero
     0.0
+    >>> circles = pw.enclosing_circle([[0, 0], [2, 0], [5, 5], [5, 7]], groups=[1, 1, 2, 2])
+    >>> len(circles), circles[2].radius, circles.support(2).tolist()
+    (2, 1.0, [2, 3])
+    >>> circles.to_frame()
+       group problem    x    y  radius_u  area_u2
+    0      1    None  1.0  0.0       1.0  3.141593
+    1      2    None  5.0  6.0       1.0  3.141593
 
     See Also
     --------
     minimax_point : the weighted form (the site minimising the largest weighted distance).
     enclosing_ellipse : the smallest covering ellipse.
     """
-    if seed is not None:
-        seed = int(seed) & 0xFFFF_FFFF_FFFF_FFFF
     if groups is None:
-        center, radius, support = _core.enclosing_circle_single(points, seed)
-        return Circle(center, radius, support)
-    return Circles(*_core.enclosing_circle_grouped(points, groups, seed))
+        return Circle(**_core.enclosing_circle_single(points, seed))
+    return Circles._from_core(_core.enclosing_circle_grouped(points, groups, seed, errors))
+
+
+@overload
+def minimax_point(
+    points: ArrayLike,
+    weights: ArrayLike | None = None,
+    *,
+    groups: None = None,
+    errors: Literal["raise", "skip"] = "raise",
+) -> MinimaxPoint: ...
+
+
+@overload
+def minimax_point(
+    points: ArrayLike,
+    weights: ArrayLike | None = None,
+    *,
+    groups: ArrayLike,
+    errors: Literal["raise", "skip"] = "raise",
+) -> MinimaxPoints: ...
 
 
 def minimax_point(
-    points: ArrayLike, weights: ArrayLike | None = None, *, groups: ArrayLike | None = None
+    points: ArrayLike,
+    weights: ArrayLike | None = None,
+    *,
+    groups: ArrayLike | None = None,
+    errors: Literal["raise", "skip"] = "raise",
 ) -> MinimaxPoint | MinimaxPoints:
     """The weighted minimax point: the site minimising ``max(w_i * |x - a_i|)``.
 
@@ -316,9 +534,12 @@ def minimax_point(
     ----------
     points : array_like, shape (n, 2)
     weights : array_like, shape (n,), optional
-        Finite, non-negative, not all zero. Default: all 1.
+        Finite, non-negative, not all zero (per group with ``groups``). Default: all 1.
     groups : array_like of int, shape (n,), optional
         Group labels: one site per group, returned as ``MinimaxPoints``.
+    errors : {"raise", "skip"}
+        With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
+        label); ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
 
     Returns
     -------
@@ -334,10 +555,19 @@ def minimax_point(
     --------
     >>> import placewise as pw
     >>> m = pw.minimax_point([[0, 0], [3, 0]], [2, 1])   # divides the segment 1 : 2
-    >>> m.location, m.radius
+    >>> m.location, m.weighted_radius
     (array([1., 0.]), 2.0)
     >>> pw.minimax_point([[0, 0], [9, 9]], [1, 0]).location   # zero weight: ignored
     array([0., 0.])
+    >>> sites = pw.minimax_point([[0, 0], [3, 0], [7, 7]], [2, 1, 0], groups=[5, 5, 6],
+    ...                          errors="skip")
+    >>> frame = sites.to_frame()
+    >>> frame[["group", "x", "y", "weighted_radius_u"]]
+       group    x    y  weighted_radius_u
+    0      5  1.0  0.0                2.0
+    1      6  NaN  NaN                NaN
+    >>> print(frame["problem"][1])
+    group 6: weights are all zero; at least one weight must be positive
 
     See Also
     --------
@@ -345,19 +575,34 @@ def minimax_point(
     weber_point : the site minimising the total weighted distance.
     """
     if groups is None:
-        location, radius, support = _core.minimax_point_single(points, weights)
-        return MinimaxPoint(location, radius, support)
-    return MinimaxPoints(*_core.minimax_point_grouped(points, weights, groups))
+        return MinimaxPoint(**_core.minimax_point_single(points, weights))
+    return MinimaxPoints._from_core(_core.minimax_point_grouped(points, weights, groups, errors))
+
+
+@overload
+def enclosing_ellipse(
+    points: ArrayLike, *, tol: float = 1e-7, groups: None = None, errors: Literal["raise", "skip"] = "raise"
+) -> Ellipse: ...
+
+
+@overload
+def enclosing_ellipse(
+    points: ArrayLike, *, tol: float = 1e-7, groups: ArrayLike, errors: Literal["raise", "skip"] = "raise"
+) -> Ellipses: ...
 
 
 def enclosing_ellipse(
-    points: ArrayLike, *, tol: float = 1e-7, groups: ArrayLike | None = None
+    points: ArrayLike,
+    *,
+    tol: float = 1e-7,
+    groups: ArrayLike | None = None,
+    errors: Literal["raise", "skip"] = "raise",
 ) -> Ellipse | Ellipses:
     """The minimum-area ellipse containing every point (the Löwner–John ellipse).
 
     Khachiyan's algorithm with the Todd–Yildirim (2007) away steps and the Kumar–Yildirim
     (2005) start, run on the convex hull's vertices only. The result carries a certified
-    bound ``gap`` on its relative excess area.
+    bound ``relative_gap`` on its relative excess area.
 
     Parameters
     ----------
@@ -366,6 +611,10 @@ def enclosing_ellipse(
         Target bound on ``area / minimum_area - 1``; ``0 < tol < 1``.
     groups : array_like of int, shape (n,), optional
         Group labels: one ellipse per group, returned as ``Ellipses``.
+    errors : {"raise", "skip"}
+        With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
+        label); ``"skip"`` keeps such a group (fewer than three distinct points, all
+        collinear) with its ``problem`` and solves the rest.
 
     Returns
     -------
@@ -377,7 +626,8 @@ def enclosing_ellipse(
         When there are fewer than three distinct points or all points are collinear (no
         ellipse of positive area exists).
     InputError
-        For NaN/inf coordinates, bad shapes, no points or ``tol`` out of range.
+        For NaN/inf coordinates, bad shapes, no points or a ``tol`` that is not a number
+        with ``0 < tol < 1``.
 
     Examples
     --------
@@ -386,15 +636,26 @@ def enclosing_ellipse(
     >>> e.shape.round(6)
     array([[3. , 1.5],
            [1.5, 3. ]])
+    >>> round(e.angle, 6)      # major axis along the diagonal x = y
+    -45.0
     >>> pw.enclosing_ellipse([[0, 0], [1, 1], [2, 2]])
     Traceback (most recent call last):
     ...
     placewise.DegenerateInputError: points: all points are collinear; no ellipse of positive area encloses them
+    >>> box = [[0, 0], [4, 0], [4, 2], [0, 2], [9, 9]]   # a 4 x 2 box, and one lone point
+    >>> ellipses = pw.enclosing_ellipse(box, groups=[1, 1, 1, 1, 2], tol=1e-10, errors="skip")
+    >>> frame = ellipses.to_frame()
+    >>> frame[["group", "semi_major_u", "semi_minor_u", "angle_deg"]].round(6)   # 4/√2, 2/√2
+       group  semi_major_u  semi_minor_u  angle_deg
+    0      1      2.828427      1.414214        0.0
+    1      2           NaN           NaN        NaN
+    >>> print(frame["problem"][1])
+    group 2: points must hold at least 3 distinct points; got 1
 
     See Also
     --------
     enclosing_circle : the smallest covering circle.
     """
     if groups is None:
-        return Ellipse(*_core.enclosing_ellipse_single(points, float(tol)))
-    return Ellipses(*_core.enclosing_ellipse_grouped(points, groups, float(tol)))
+        return Ellipse(**_core.enclosing_ellipse_single(points, tol))
+    return Ellipses._from_core(_core.enclosing_ellipse_grouped(points, groups, tol, errors))

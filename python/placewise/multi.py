@@ -2,41 +2,61 @@
 
 Where to put ``p`` depots so that the total weighted travel is least (p-median), or so
 that the worst weighted trip is shortest (p-center).
+
+Every plan knows three tables, all computed by the kernel (no distance or load is
+recomputed here):
+
+* ``to_frame()`` — one row per demand point, in input order: ``assignment`` (the row of
+  :meth:`~MedianPlan.sites_frame` serving it) and ``distance_<unit>`` (to that site);
+  ``to_geodataframe()`` adds the demand point as a Point;
+* ``sites_frame()`` — one row per site: ``x``, ``y``, ``load`` (summed weight served),
+  ``count`` (points served), ``fixed`` (an existing site); ``sites_geodataframe()`` adds
+  the site as a Point;
+* ``summary()`` — the totals in one row: ``cost_<unit>`` (p-median) or
+  ``weighted_radius_<unit>`` and ``radius_<unit>`` (p-center), the number of ``sites``, the
+  ``load`` and ``count`` of demand served.
+
+Grouped plans (``groups=``) have the same tables with ``group`` and ``problem`` columns in
+front: ``to_frame`` keeps input order, ``sites_frame`` lists every group's sites in label
+order (a group skipped with ``errors="skip"`` keeps one row holding its problem), and
+``summary`` has one row per group.
 """
 
 from __future__ import annotations
 
 import dataclasses
-import operator
-from typing import Any, Literal
+from typing import Any, Literal, overload
 
 import numpy as np
 from numpy.typing import ArrayLike
 
 from . import _core
-from ._results import Result
+from ._results import Grouped, Result, as_points
 
-__all__ = ["CenterPlan", "MedianPlan", "p_center", "p_median"]
-
-_SEED_MASK = (1 << 64) - 1
+__all__ = ["CenterPlan", "CenterPlans", "MedianPlan", "MedianPlans", "p_center", "p_median"]
 
 
-def _seed(seed: int) -> int:
-    """Any Python int as the 64-bit seed of the kernels (negative seeds wrap around)."""
-    return operator.index(seed) & _SEED_MASK
+def _point_geometry(xy: np.ndarray) -> np.ndarray:
+    """One shapely Point per row of ``xy``; None where a coordinate is missing."""
+    import shapely
 
-
-def _as_points(points: ArrayLike) -> np.ndarray:
-    """The (already validated) points as an (n, 2) float array, kept for plotting."""
-    return np.asarray(points, dtype=float).reshape(-1, 2)
+    xy = np.asarray(xy, dtype=np.float64).reshape(-1, 2)
+    out = np.empty(len(xy), dtype=object)
+    present = np.isfinite(xy).all(axis=1)
+    if present.any():
+        out[present] = shapely.points(xy[present])
+    return out
 
 
 def _draw_plan(ax: Any, points: np.ndarray, sites: np.ndarray, assignment: np.ndarray, style: dict[str, Any]) -> None:
-    """Points coloured by their site, a thin line from each point to its site, sites as stars."""
+    """Points coloured by their site, a thin line from each point to its site, sites as
+    stars; points without a site (``assignment`` -1) are left out."""
     from matplotlib.collections import LineCollection
 
     from .plotting import SITE_COLOURS
 
+    served = assignment >= 0
+    points, assignment = points[served], assignment[served]
     palette = np.asarray(SITE_COLOURS)
     colours = palette[assignment % len(palette)]
     if len(points):
@@ -47,9 +67,187 @@ def _draw_plan(ax: Any, points: np.ndarray, sites: np.ndarray, assignment: np.nd
     ax.autoscale_view()
 
 
+# ------------------------------------------------------------------------------- tables
+
+
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
-class MedianPlan(Result):
-    """A p-median plan: new sites and the allocation of every point.
+class _Plan(Result):
+    """What :class:`MedianPlan` and :class:`CenterPlan` share: the sites, how every point is
+    served, and the tables built from them."""
+
+    sites: np.ndarray
+    assignment: np.ndarray
+    distance: np.ndarray
+    load: np.ndarray
+    count: np.ndarray
+    total_load: float
+    iterations: int
+    points: np.ndarray = dataclasses.field(repr=False)
+
+    def _site_xy(self) -> np.ndarray:
+        """Every site's coordinates, in the order of ``assignment``."""
+        return self.sites
+
+    def _site_fixed(self) -> np.ndarray:
+        return np.zeros(len(self.load), dtype=bool)
+
+    def _objective(self) -> dict[str, Any]:
+        """The plan's objective(s) as named one-row columns."""
+        raise NotImplementedError
+
+    def _columns(self) -> dict[str, Any]:
+        return {"assignment": self.assignment, self._u("distance"): self.distance}
+
+    def _geometry(self) -> Any:
+        return _point_geometry(self.points)
+
+    def _site_columns(self) -> dict[str, Any]:
+        xy = self._site_xy()
+        return {"x": xy[:, 0], "y": xy[:, 1], "load": self.load, "count": self.count, "fixed": self._site_fixed()}
+
+    def sites_frame(self) -> Any:
+        """One row per site (``x``, ``y``, ``load``, ``count``, ``fixed``); the row position is
+        the site index that ``assignment`` and ``to_frame()["assignment"]`` hold."""
+        import pandas as pd
+
+        return pd.DataFrame(self._site_columns())
+
+    def sites_geodataframe(self, crs: Any = None) -> Any:
+        """:meth:`sites_frame` with every site as a Point, as a GeoDataFrame in ``crs``."""
+        import geopandas as gpd
+
+        geometry = gpd.GeoSeries(_point_geometry(self._site_xy()), crs=crs).values
+        return gpd.GeoDataFrame(self._site_columns(), geometry=geometry, crs=crs)
+
+    def summary(self) -> Any:
+        """The plan's totals in one row: its objective, ``sites``, ``load``, ``count`` and
+        ``iterations``."""
+        import pandas as pd
+
+        return pd.DataFrame({
+            **self._objective(),
+            "sites": [len(self.load)],
+            "load": [self.total_load],
+            "count": [len(self.assignment)],
+            "iterations": [self.iterations],
+        })
+
+    def plot(self, ax: Any = None, **style: Any) -> Any:
+        """Draw the points coloured by their site, their links to it and the sites as black
+        stars (fixed sites also as grey squares); new axes when ``ax`` is None."""
+        ax = self._plot_axes(ax)
+        xy = self._site_xy()
+        _draw_plan(ax, self.points, xy, self.assignment, style)
+        fixed = self._site_fixed()
+        if fixed.any():
+            ax.plot(xy[fixed, 0], xy[fixed, 1], "s", color="0.45", markersize=8)
+        return ax
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class _GroupedPlan(Grouped):
+    """What :class:`MedianPlans` and :class:`CenterPlans` share: every group's sites (in CSR
+    layout), how every input point is served, and the tables built from them."""
+
+    sites: np.ndarray
+    load: np.ndarray
+    count: np.ndarray
+    total_load: np.ndarray
+    iterations: np.ndarray
+    site_offsets: np.ndarray = dataclasses.field(repr=False)
+    point_group: np.ndarray = dataclasses.field(repr=False)
+    assignment: np.ndarray = dataclasses.field(repr=False)
+    distance: np.ndarray = dataclasses.field(repr=False)
+    points: np.ndarray = dataclasses.field(repr=False)
+
+    def _site_fixed(self) -> np.ndarray:
+        return np.zeros(len(self.load), dtype=bool)
+
+    def _objective(self) -> dict[str, Any]:
+        """The groups' objective(s) as named columns."""
+        raise NotImplementedError
+
+    def _row_groups(self) -> np.ndarray:
+        return self.point_group
+
+    def _columns(self) -> dict[str, Any]:
+        # sites_frame() keeps one row for each skipped group (which has no sites), so a site's
+        # row there is its index in `sites` plus the skipped groups before its own.
+        before = np.cumsum(self.skipped) - self.skipped
+        served = self.assignment >= 0
+        row = np.where(served, self.assignment + before[self.point_group], -1)
+        return {"assignment": row, self._u("distance"): self.distance}
+
+    def _geometry(self) -> Any:
+        return _point_geometry(self.points)
+
+    def _site_frame(self, crs: Any, geometry: bool) -> Any:
+        rows = np.repeat(np.arange(len(self.labels)), np.diff(self.site_offsets))
+        columns = {
+            "x": self.sites[:, 0],
+            "y": self.sites[:, 1],
+            "load": self.load,
+            "count": self.count,
+            "fixed": self._site_fixed(),
+        }
+        return self._framed(columns, _point_geometry(self.sites) if geometry else None, crs, rows=rows)
+
+    def sites_frame(self) -> Any:
+        """One row per site of every group (``group``, ``problem``, ``x``, ``y``, ``load``,
+        ``count``, ``fixed``), groups in label order; a skipped group keeps one row holding
+        its problem. The row position is what ``to_frame()["assignment"]`` holds."""
+        return self._site_frame(None, geometry=False)
+
+    def sites_geodataframe(self, crs: Any = None) -> Any:
+        """:meth:`sites_frame` with every site as a Point, as a GeoDataFrame in ``crs``."""
+        return self._site_frame(crs, geometry=True)
+
+    def summary(self) -> Any:
+        """One row per group: ``group``, ``problem``, the objective, ``sites``, ``load``,
+        ``count`` (points in the group) and ``iterations``."""
+        g = len(self.labels)
+        columns = {
+            **self._objective(),
+            "sites": np.diff(self.site_offsets),
+            "load": self.total_load,
+            "count": np.bincount(self.point_group, minlength=g),
+            "iterations": self.iterations,
+        }
+        return self._framed(columns, rows=np.arange(g))
+
+    def _served(self, position: int) -> tuple[slice, dict[str, Any]]:
+        """The rows of ``sites`` of the group at ``position``, and the fields its single plan
+        shares with every plan (its points in input order, site indices made its own)."""
+        at = slice(int(self.site_offsets[position]), int(self.site_offsets[position + 1]))
+        members = np.flatnonzero(self.point_group == position)
+        return at, {
+            "assignment": self.assignment[members] - at.start,
+            "distance": self.distance[members].copy(),
+            "load": self.load[at].copy(),
+            "count": self.count[at].copy(),
+            "total_load": float(self.total_load[position]),
+            "iterations": int(self.iterations[position]),
+            "points": self.points[members].copy(),
+            "unit": self.unit,
+        }
+
+    def plot(self, ax: Any = None, **style: Any) -> Any:
+        """Draw every group's points coloured by their site and every site as a black star
+        (fixed sites also as grey squares)."""
+        ax = self._plot_axes(ax)
+        _draw_plan(ax, self.points, self.sites, self.assignment, style)
+        fixed = self._site_fixed()
+        if fixed.any():
+            ax.plot(self.sites[fixed, 0], self.sites[fixed, 1], "s", color="0.45", markersize=8)
+        return ax
+
+
+# ------------------------------------------------------------------------------ p-median
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class MedianPlan(_Plan):
+    """A p-median plan: new sites and how every point is served.
 
     Attributes
     ----------
@@ -58,67 +256,124 @@ class MedianPlan(Result):
     assignment : ndarray of int64, shape (n,)
         The nearest site of each point, indexing the new sites followed by the fixed ones
         (``0 .. p-1`` new, ``p .. p+f-1`` fixed).
-    cost : float
-        Total weighted distance ``sum(w_i * distance to the nearest site)``, fixed sites included.
+    distance : ndarray, shape (n,)
+        Distance from each point to its site.
     load : ndarray, shape (p + f,)
         Summed weight served by each site, in the order of ``assignment``.
+    count : ndarray of int64, shape (p + f,)
+        Points served by each site (weight zero included).
+    total_load : float
+        Summed weight of all points.
     iterations : int
         Allocation–location rounds of Cooper's local step over the whole search.
-    points, fixed : ndarray
-        The demand points and the fixed sites (not shown in the repr).
+    points : ndarray, shape (n, 2)
+        The demand points (not shown in the repr).
+    fixed : ndarray, shape (f, 2)
+        The existing sites that served demand beside the new ones.
+    cost : float
+        Total weighted distance ``sum(w_i * distance_i)``, fixed sites included.
+
+    ``to_frame()`` has one row per point (``assignment``, ``distance_<unit>``),
+    ``sites_frame()`` one row per site (``x``, ``y``, ``load``, ``count``, ``fixed``) and
+    ``summary()`` one row (``cost_<unit>``, ``sites``, ``load``, ``count``, ``iterations``).
     """
 
-    sites: np.ndarray
-    assignment: np.ndarray
+    fixed: np.ndarray
     cost: float
-    load: np.ndarray
-    iterations: int
-    points: np.ndarray = dataclasses.field(repr=False)
-    fixed: np.ndarray = dataclasses.field(repr=False)
 
-    def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Draw the points coloured by their site, their links to it, the new sites as black
-        stars and the fixed sites as grey squares (new axes when ``ax`` is None)."""
-        ax = self._plot_axes(ax)
-        _draw_plan(ax, self.points, np.vstack([self.sites, self.fixed]), self.assignment, style)
-        if len(self.fixed):
-            ax.plot(self.fixed[:, 0], self.fixed[:, 1], "s", color="0.45", markersize=8)
-        return ax
+    def _site_xy(self) -> np.ndarray:
+        return np.vstack([self.sites, self.fixed])
+
+    def _site_fixed(self) -> np.ndarray:
+        return np.arange(len(self.load)) >= len(self.sites)
+
+    def _objective(self) -> dict[str, Any]:
+        return {self._u("cost"): [self.cost]}
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
-class CenterPlan(Result):
-    """A p-center plan: sites and the allocation of every point.
+class MedianPlans(_GroupedPlan):
+    """p-median plans of many groups, sorted by label.
+
+    ``len``, iteration and ``plans[label]`` give each group's :class:`MedianPlan`. The
+    arrays hold every group at once:
 
     Attributes
     ----------
-    sites : ndarray, shape (p, 2)
+    labels : ndarray of int64, shape (G,)
+        Sorted unique group labels.
+    sites : ndarray, shape (S, 2)
+        Every group's sites, groups in label order: its ``p`` new sites, then its fixed
+        sites (in their order in ``fixed``); a skipped group has none.
+    load : ndarray, shape (S,)
+    count : ndarray of int64, shape (S,)
+    total_load : ndarray, shape (G,)
+        Per group (NaN when skipped).
+    iterations : ndarray of int64, shape (G,)
+    site_offsets : ndarray of int64, shape (G + 1,)
+        Group ``g``'s sites are rows ``site_offsets[g]:site_offsets[g + 1]``.
+    point_group : ndarray of int64, shape (n,)
+        Position (in ``labels``) of every input point's group.
     assignment : ndarray of int64, shape (n,)
-        The nearest site of each point.
-    radius : float
-        The largest weighted distance ``w_i * distance`` from a point to its nearest site.
-    optimal : bool
-        True when the plan is proven optimal (instances of at most 10 distinct points of
-        positive weight are solved exactly, as are ``p = 1`` and ``p`` = that count).
-    iterations : int
-        Allocation–minimax rounds performed.
-    points : ndarray
+        Row of ``sites`` serving each input point; -1 in a skipped group.
+    distance : ndarray, shape (n,)
+        Distance from each input point to its site; NaN in a skipped group.
+    points : ndarray, shape (n, 2)
         The demand points (not shown in the repr).
+    fixed : ndarray of bool, shape (S,)
+        True for an existing (fixed) site.
+    cost : ndarray, shape (G,)
+        Per group (NaN when skipped).
     """
 
-    sites: np.ndarray
-    assignment: np.ndarray
-    radius: float
-    optimal: bool
-    iterations: int
-    points: np.ndarray = dataclasses.field(repr=False)
+    fixed: np.ndarray
+    cost: np.ndarray
 
-    def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Draw the points coloured by their site, their links to it and the sites as stars
-        (new axes when ``ax`` is None)."""
-        ax = self._plot_axes(ax)
-        _draw_plan(ax, self.points, self.sites, self.assignment, style)
-        return ax
+    def _site_fixed(self) -> np.ndarray:
+        return self.fixed
+
+    def _objective(self) -> dict[str, Any]:
+        return {self._u("cost"): self.cost}
+
+    def _item(self, position: int) -> MedianPlan:
+        at, served = self._served(position)
+        fixed = self.fixed[at]
+        return MedianPlan(
+            sites=self.sites[at][~fixed].copy(),
+            fixed=self.sites[at][fixed].copy(),
+            cost=float(self.cost[position]),
+            **served,
+        )
+
+
+@overload
+def p_median(
+    points: ArrayLike,
+    p: int,
+    weights: ArrayLike | None = None,
+    *,
+    groups: None = None,
+    fixed: ArrayLike | None = None,
+    fixed_groups: None = None,
+    seed: int = 0,
+    effort: Literal["fast", "normal", "thorough"] = "normal",
+    errors: Literal["raise", "skip"] = "raise",
+) -> MedianPlan: ...
+
+
+@overload
+def p_median(
+    points: ArrayLike,
+    p: int,
+    weights: ArrayLike | None = None,
+    *,
+    groups: ArrayLike,
+    fixed: ArrayLike | None = None,
+    fixed_groups: ArrayLike | None = None,
+    seed: int = 0,
+    effort: Literal["fast", "normal", "thorough"] = "normal",
+    errors: Literal["raise", "skip"] = "raise",
+) -> MedianPlans: ...
 
 
 def p_median(
@@ -126,16 +381,20 @@ def p_median(
     p: int,
     weights: ArrayLike | None = None,
     *,
+    groups: ArrayLike | None = None,
     fixed: ArrayLike | None = None,
+    fixed_groups: ArrayLike | None = None,
     seed: int = 0,
     effort: Literal["fast", "normal", "thorough"] = "normal",
-) -> MedianPlan:
+    errors: Literal["raise", "skip"] = "raise",
+) -> MedianPlan | MedianPlans:
     """The best ``p`` sites for weighted demand: least total weighted distance to the nearest site.
 
     The continuous p-median (multisource Weber) problem. Cooper's alternating
     location–allocation (1964) — every point to its nearest site, every site to the
     Fermat–Weber point of its cluster — is the local step inside a global search: seeded
-    multi-start, j-means jumps of one site to an unoccupied demand point (Hansen and
+    multi-start from D-sampling (the k-means++ seeding of Arthur and Vassilvitskii 2007,
+    with distances), j-means jumps of one site to an unoccupied demand point (Hansen and
     Mladenović 2001) and variable neighbourhood search (Brimberg, Hansen, Mladenović and
     Taillard 2000). The same seed gives the same answer. ``p = 1`` without fixed sites is
     :func:`weber_point`.
@@ -145,30 +404,42 @@ def p_median(
     points : array_like, shape (n, 2)
         Demand locations (planar coordinates, e.g. projected metres).
     p : int
-        Number of new sites, at least 1 and at most the number of distinct points with
-        positive weight.
+        Number of new sites (per group with ``groups``), at least 1 and at most the number
+        of distinct points with positive weight.
     weights : array_like, shape (n,), optional
         Finite, non-negative demand per point, not all zero. Default: all 1.
+    groups : array_like of int, shape (n,), optional
+        Group labels: plan every group at once (in parallel, the same ``p`` for each) and
+        return ``MedianPlans``.
     fixed : array_like, shape (f, 2), optional
         Existing sites that stay where they are and serve demand too; ``p`` counts only the
         new ones.
+    fixed_groups : array_like of int, shape (f,), optional
+        With ``groups`` and ``fixed`` (and required then): the group label of each fixed
+        site. A fixed site serves only its own group; one whose label has no points serves
+        nobody.
     seed : int
-        Seed of the randomised search.
+        Seed of the randomised search, from 0 to 2**64 - 1.
     effort : {"fast", "normal", "thorough"}
         Time against quality: "fast" is one short search; "thorough" runs more and longer
         searches and examines more jump targets on large inputs.
+    errors : {"raise", "skip"}
+        With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
+        label); ``"skip"`` keeps such a group with its ``problem`` and plans the rest.
 
     Returns
     -------
-    MedianPlan
+    MedianPlan, or MedianPlans when ``groups`` is given.
 
     Raises
     ------
     InputError
         For NaN/inf coordinates, bad shapes, negative, all-zero or wrong-length weights,
-        ``p < 1`` or an unknown ``effort``.
+        ``p`` or ``seed`` not an integer in range, an unknown ``effort``, or ``fixed`` with
+        ``groups`` but without ``fixed_groups``. Its ``group`` and ``row`` attributes name
+        the group label and input row concerned.
     DegenerateInputError
-        When fewer than ``p`` distinct points carry positive weight.
+        When fewer than ``p`` distinct points carry positive weight (in a group).
 
     Examples
     --------
@@ -176,58 +447,227 @@ def p_median(
     >>> plan = pw.p_median([[0, 0], [1, 0], [10, 0], [11, 0]], 2)
     >>> float(plan.cost)          # each pair's site anywhere between the two points
     2.0
-    >>> plan.load
-    array([2., 2.])
+    >>> plan.load, plan.count
+    (array([2., 2.]), array([2, 2]))
     >>> pw.p_median([[0, 0], [5, 5]], 2).cost     # one site per point: nothing to travel
     0.0
-    >>> pw.p_median([[0, 0], [1, 0], [10, 0]], 1, fixed=[[10, 0]]).assignment
-    array([0, 0, 1])
+    >>> near = pw.p_median([[0, 0], [2, 0], [1, 0], [10, 0]], 1, fixed=[[10, 0]])
+    >>> near.to_frame()                    # the new site at the middle point, (1, 0)
+       assignment  distance_u
+    0           0         1.0
+    1           0         1.0
+    2           0         0.0
+    3           1         0.0
+    >>> near.sites_frame()
+          x    y  load  count  fixed
+    0   1.0  0.0   3.0      3  False
+    1  10.0  0.0   1.0      1   True
+    >>> line = [[0, 0], [1, 0], [2, 0], [5, 5], [5, 6], [5, 7]]
+    >>> plans = pw.p_median(line, 1, groups=[1, 1, 1, 2, 2, 2])
+    >>> plans.summary()[["group", "cost_u", "sites", "load"]]
+       group  cost_u  sites  load
+    0      1     2.0      1   3.0
+    1      2     2.0      1   3.0
+    >>> plans[2].sites
+    array([[5., 6.]])
+    >>> skipped = pw.p_median(line, 2, groups=[1, 1, 1, 2, 2, 2], weights=[1, 1, 1, 1, 0, 0], errors="skip")
+    >>> skipped.problem[1]
+    'group 2: points must hold at least 2 distinct points with positive weight (one per site); got 1'
 
     See Also
     --------
     weber_point : the best single site.
     p_center : the ``p`` sites minimising the worst weighted trip.
     """
-    sites, assignment, cost, load, iterations = _core.p_median_plan(
-        points, operator.index(p), weights, fixed, _seed(seed), effort
-    )
-    fixed_array = np.empty((0, 2)) if fixed is None else _as_points(fixed)
-    return MedianPlan(sites, assignment, cost, load, iterations, _as_points(points), fixed_array)
+    if groups is None:
+        if fixed_groups is not None:
+            error = _core.InputError("fixed_groups is given without groups: it names the group each fixed site serves")
+            error.argument = "fixed_groups"
+            raise error
+        fields = _core.p_median_single(points, p, weights, fixed, seed, effort)
+        return MedianPlan(**fields, points=as_points(points))
+    fields = _core.p_median_grouped(points, p, weights, groups, fixed, fixed_groups, seed, effort, errors)
+    return MedianPlans._from_core(fields, points=as_points(points))
 
 
-def p_center(points: ArrayLike, p: int, weights: ArrayLike | None = None, *, seed: int = 0) -> CenterPlan:
+# ------------------------------------------------------------------------------ p-center
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class CenterPlan(_Plan):
+    """A p-center plan: sites and how every point is served.
+
+    Attributes
+    ----------
+    sites : ndarray, shape (p, 2)
+    assignment : ndarray of int64, shape (n,)
+        The nearest site of each point.
+    distance : ndarray, shape (n,)
+        Distance from each point to its site.
+    load : ndarray, shape (p,)
+        Summed weight served by each site.
+    count : ndarray of int64, shape (p,)
+        Points served by each site (weight zero included).
+    total_load : float
+        Summed weight of all points.
+    iterations : int
+        Allocation–minimax rounds performed.
+    points : ndarray, shape (n, 2)
+        The demand points (not shown in the repr).
+    weighted_radius : float
+        The objective: the largest weighted distance ``w_i * distance_i``.
+    radius : float
+        The largest distance ``distance_i`` (every point lies within it of its site); equal
+        to ``weighted_radius`` for unit weights.
+    optimal : bool
+        True when the plan is proven optimal (instances of at most 10 distinct points of
+        positive weight are solved exactly, as are ``p = 1`` and ``p`` = that count).
+
+    ``to_frame()`` has one row per point (``assignment``, ``distance_<unit>``),
+    ``sites_frame()`` one row per site (``x``, ``y``, ``load``, ``count``, ``fixed``, always
+    False) and ``summary()`` one row (``weighted_radius_<unit>``, ``radius_<unit>``,
+    ``optimal``, ``sites``, ``load``, ``count``, ``iterations``).
+    """
+
+    weighted_radius: float
+    radius: float
+    optimal: bool
+
+    def _objective(self) -> dict[str, Any]:
+        return {
+            self._u("weighted_radius"): [self.weighted_radius],
+            self._u("radius"): [self.radius],
+            "optimal": [self.optimal],
+        }
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class CenterPlans(_GroupedPlan):
+    """p-center plans of many groups, sorted by label.
+
+    ``len``, iteration and ``plans[label]`` give each group's :class:`CenterPlan`.
+
+    Attributes
+    ----------
+    labels : ndarray of int64, shape (G,)
+        Sorted unique group labels.
+    sites : ndarray, shape (S, 2)
+        Every group's ``p`` sites, groups in label order; a skipped group has none.
+    load : ndarray, shape (S,)
+    count : ndarray of int64, shape (S,)
+    total_load : ndarray, shape (G,)
+        Per group (NaN when skipped).
+    iterations : ndarray of int64, shape (G,)
+    site_offsets : ndarray of int64, shape (G + 1,)
+        Group ``g``'s sites are rows ``site_offsets[g]:site_offsets[g + 1]``.
+    point_group : ndarray of int64, shape (n,)
+        Position (in ``labels``) of every input point's group.
+    assignment : ndarray of int64, shape (n,)
+        Row of ``sites`` serving each input point; -1 in a skipped group.
+    distance : ndarray, shape (n,)
+        Distance from each input point to its site; NaN in a skipped group.
+    points : ndarray, shape (n, 2)
+        The demand points (not shown in the repr).
+    weighted_radius, radius : ndarray, shape (G,)
+        Per group (NaN when skipped).
+    optimal : ndarray of bool, shape (G,)
+    """
+
+    weighted_radius: np.ndarray
+    radius: np.ndarray
+    optimal: np.ndarray
+
+    def _objective(self) -> dict[str, Any]:
+        return {
+            self._u("weighted_radius"): self.weighted_radius,
+            self._u("radius"): self.radius,
+            "optimal": self.optimal,
+        }
+
+    def _item(self, position: int) -> CenterPlan:
+        at, served = self._served(position)
+        return CenterPlan(
+            sites=self.sites[at].copy(),
+            weighted_radius=float(self.weighted_radius[position]),
+            radius=float(self.radius[position]),
+            optimal=bool(self.optimal[position]),
+            **served,
+        )
+
+
+@overload
+def p_center(
+    points: ArrayLike,
+    p: int,
+    weights: ArrayLike | None = None,
+    *,
+    groups: None = None,
+    seed: int = 0,
+    errors: Literal["raise", "skip"] = "raise",
+) -> CenterPlan: ...
+
+
+@overload
+def p_center(
+    points: ArrayLike,
+    p: int,
+    weights: ArrayLike | None = None,
+    *,
+    groups: ArrayLike,
+    seed: int = 0,
+    errors: Literal["raise", "skip"] = "raise",
+) -> CenterPlans: ...
+
+
+def p_center(
+    points: ArrayLike,
+    p: int,
+    weights: ArrayLike | None = None,
+    *,
+    groups: ArrayLike | None = None,
+    seed: int = 0,
+    errors: Literal["raise", "skip"] = "raise",
+) -> CenterPlan | CenterPlans:
     """``p`` sites minimising the largest weighted distance from a point to its nearest site.
 
     The continuous (weighted) p-center problem. Drezner's alternating method (1984) — every
     point to its nearest site, every site to the minimax point of its cluster — with a
     hand-over of the points fixing the largest circle to neighbouring clusters, from 16
-    seeded restarts. Instances with at most 10 distinct points of positive weight are solved
-    exactly by branch and bound over all splits into ``p`` clusters. ``p = 1`` is
-    :func:`minimax_point`.
+    seeded restarts (farthest-first, Gonzalez 1985, and D-sampling starts). Instances with
+    at most 10 distinct points of positive weight are solved exactly by branch and bound
+    over all splits into ``p`` clusters. ``p = 1`` is :func:`minimax_point`.
 
     Parameters
     ----------
     points : array_like, shape (n, 2)
         Demand locations (planar coordinates).
     p : int
-        Number of sites, at least 1 and at most the number of distinct points with positive
-        weight.
+        Number of sites (per group with ``groups``), at least 1 and at most the number of
+        distinct points with positive weight.
     weights : array_like, shape (n,), optional
         Finite, non-negative weights, not all zero: the objective is ``max(w_i * d_i)``.
         Points of weight zero are allocated but do not pull the sites. Default: all 1.
+    groups : array_like of int, shape (n,), optional
+        Group labels: plan every group at once (in parallel, the same ``p`` for each) and
+        return ``CenterPlans``.
     seed : int
-        Seed of the restarts.
+        Seed of the restarts, from 0 to 2**64 - 1.
+    errors : {"raise", "skip"}
+        With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
+        label); ``"skip"`` keeps such a group with its ``problem`` and plans the rest.
 
     Returns
     -------
-    CenterPlan
+    CenterPlan, or CenterPlans when ``groups`` is given.
 
     Raises
     ------
     InputError
-        For NaN/inf coordinates, bad shapes, bad weights or ``p < 1``.
+        For NaN/inf coordinates, bad shapes, bad weights, or ``p`` or ``seed`` not an
+        integer in range. Its ``group`` and ``row`` attributes name the group label and
+        input row concerned.
     DegenerateInputError
-        When fewer than ``p`` distinct points carry positive weight.
+        When fewer than ``p`` distinct points carry positive weight (in a group).
 
     Examples
     --------
@@ -235,15 +675,27 @@ def p_center(points: ArrayLike, p: int, weights: ArrayLike | None = None, *, see
     >>> square = [[0, 0], [2, 0], [0, 2], [2, 2]]
     >>> far = [[20, 0], [22, 0], [20, 2], [22, 2]]
     >>> plan = pw.p_center(square + far, 2)
-    >>> round(plan.radius, 12), plan.optimal     # each square's circle: radius sqrt(2)
+    >>> round(plan.weighted_radius, 12), plan.optimal     # each square's circle: radius sqrt(2)
     (1.414213562373, True)
-    >>> pw.p_center([[1, 1], [1, 1], [4, 5]], 2).radius   # a site on each distinct point
+    >>> plan.count
+    array([4, 4])
+    >>> pw.p_center([[1, 1], [1, 1], [4, 5]], 2).weighted_radius   # a site on each distinct point
     0.0
+    >>> heavy = pw.p_center([[0, 0], [4, 0]], 1, [3, 1])    # the site moves toward the heavy point
+    >>> heavy.sites, heavy.weighted_radius, heavy.radius
+    (array([[1., 0.]]), 3.0, 3.0)
+    >>> plans = pw.p_center(square + far, 1, groups=[0] * 4 + [1] * 4)
+    >>> plans.summary()[["group", "weighted_radius_u", "sites", "count"]].round(6)
+       group  weighted_radius_u  sites  count
+    0      0           1.414214      1      4
+    1      1           1.414214      1      4
 
     See Also
     --------
     minimax_point : the best single site for the worst trip.
     p_median : the ``p`` sites minimising the total weighted trip.
     """
-    sites, assignment, radius, optimal, iterations = _core.p_center_plan(points, operator.index(p), weights, _seed(seed))
-    return CenterPlan(sites, assignment, radius, optimal, iterations, _as_points(points))
+    if groups is None:
+        return CenterPlan(**_core.p_center_single(points, p, weights, seed), points=as_points(points))
+    fields = _core.p_center_grouped(points, p, weights, groups, seed, errors)
+    return CenterPlans._from_core(fields, points=as_points(points))

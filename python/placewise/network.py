@@ -1,193 +1,361 @@
-"""Networks linking sites: the Euclidean minimum spanning tree and the Euclidean Steiner tree."""
+"""Networks linking sites: the Euclidean minimum spanning tree and the Euclidean Steiner tree.
+
+Every tree's rows are its edges. An edge is undirected: its ends are ``end_a`` and
+``end_b``, smaller first. In a spanning tree both ends are input rows. In a Steiner tree an
+end may also be a *junction* (a Steiner point, added where three edges meet at 120°); such
+an end has ``end_a`` / ``end_b`` equal to -1 and its junction number (a row of
+``junctions``) in ``junction_a`` / ``junction_b``, which is -1 for an input-row end. Input
+rows come before junctions, so ``end_a`` is an input row unless both ends are junctions.
+
+In grouped results (``groups=``) the ends are rows of the whole input, never positions
+inside a group, and junctions are numbered within their group's tree.
+"""
 
 from __future__ import annotations
 
 import dataclasses
-from typing import Any
+from typing import Any, Literal, overload
 
 import numpy as np
 from numpy.typing import ArrayLike
 
 from . import _core
-from ._results import Result
+from ._results import Grouped, Result, _require_pandas, as_points
 
 __all__ = ["SpanningTree", "SpanningTrees", "SteinerTree", "SteinerTrees", "spanning_tree", "steiner_tree"]
 
 
-def _draw_edges(ax: Any, nodes: np.ndarray, edges: np.ndarray, style: dict[str, Any]) -> None:
-    from matplotlib.collections import LineCollection
+def _end_xy(points: np.ndarray, junctions: np.ndarray, row: np.ndarray, junction: np.ndarray) -> np.ndarray:
+    """Coordinates of edge ends: ``points[row]`` for an input-row end (``row >= 0``), else
+    ``junctions[junction]``."""
+    xy = np.empty((len(row), 2))
+    is_row = row >= 0
+    xy[is_row] = points[row[is_row]]
+    xy[~is_row] = junctions[junction[~is_row]]
+    return xy
 
-    if len(edges):
-        ax.add_collection(LineCollection(nodes[edges], **{"colors": "steelblue", "linewidths": 1.2, **style}))
-    ax.autoscale_view()
+
+def _edge_groups(edge_offsets: np.ndarray) -> np.ndarray:
+    """Group position of every edge, from CSR offsets."""
+    return np.repeat(np.arange(len(edge_offsets) - 1), np.diff(edge_offsets))
+
+
+def _summary_columns(tree: Result, length: Any, mst_length: Any, saving: Any, junctions: Any, edges: Any,
+                     optimal: Any = None) -> dict[str, Any]:
+    """The per-tree totals as named columns (one entry per tree)."""
+    columns = {
+        tree._u("length"): np.atleast_1d(length),
+        tree._u("mst_length"): np.atleast_1d(mst_length),
+        "saving": np.atleast_1d(saving),
+        "junctions": np.atleast_1d(junctions),
+    }
+    if optimal is not None:
+        columns["optimal"] = np.atleast_1d(optimal)
+    columns["edges"] = np.atleast_1d(edges)
+    return columns
+
+
+def _group_summary(trees: Grouped, columns: dict[str, Any]) -> Any:
+    """One row per group: ``group``, ``problem``, then the totals."""
+    return _require_pandas().DataFrame({"group": trees.labels, "problem": trees.problem, **columns})
+
+
+def _plot(result: Result, ax: Any, segments: np.ndarray, points: np.ndarray, junctions: np.ndarray | None,
+          style: dict[str, Any]) -> Any:
+    from .plotting import draw_segments
+
+    ax = result._plot_axes(ax)
+    draw_segments(ax, segments[:, 0], segments[:, 1], **{"colors": "steelblue", **style})
+    ax.plot(points[:, 0], points[:, 1], "o", color="black", markersize=3)
+    if junctions is not None and len(junctions):
+        ax.plot(junctions[:, 0], junctions[:, 1], "s", markerfacecolor="none", markeredgecolor="crimson",
+                markersize=4)
+    return ax
+
+
+# --------------------------------------------------------------------------- spanning trees
+
+
+class _Edges(Result):
+    """Rows are edges: the shared table of both tree kinds, single and grouped."""
+
+    end_a: np.ndarray
+    end_b: np.ndarray
+    edge_length: np.ndarray
+    points: np.ndarray
+
+    def _segments(self) -> np.ndarray:
+        """The two end coordinates of every edge, shape (E, 2, 2)."""
+        return np.stack([self.points[self.end_a], self.points[self.end_b]], axis=1)
+
+    def _end_columns(self) -> dict[str, Any]:
+        return {"end_a": self.end_a, "end_b": self.end_b}
+
+    def _columns(self) -> dict[str, Any]:
+        return {**self._end_columns(), self._u("length"): self.edge_length}
+
+    def _geometry(self) -> Any:
+        import shapely
+
+        return shapely.linestrings(self._segments())
+
+
+class _SteinerEdges(_Edges):
+    """Edges whose ends may be junctions."""
+
+    junctions: np.ndarray
+    junction_a: np.ndarray
+    junction_b: np.ndarray
+
+    def _junction_base(self) -> Any:
+        """What to add to each edge's junction numbers to index ``junctions`` (0 for one tree)."""
+        return 0
+
+    def _segments(self) -> np.ndarray:
+        base = self._junction_base()
+        a = _end_xy(self.points, self.junctions, self.end_a, base + self.junction_a)
+        b = _end_xy(self.points, self.junctions, self.end_b, base + self.junction_b)
+        return np.stack([a, b], axis=1)
+
+    def _end_columns(self) -> dict[str, Any]:
+        return {"end_a": self.end_a, "end_b": self.end_b, "junction_a": self.junction_a,
+                "junction_b": self.junction_b}
+
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
-class SpanningTree(Result):
+class SpanningTree(_Edges, Result):
     """A Euclidean minimum spanning tree.
 
     Attributes
     ----------
-    edges : ndarray of int64, shape (n - 1, 2)
-        Pairs of input rows (smaller first), by non-decreasing length.
+    end_a, end_b : ndarray of int64, shape (n - 1,)
+        The input rows each edge joins, smaller first; edges by non-decreasing length.
     edge_length : ndarray, shape (n - 1,)
         Length of each edge.
     length : float
         Total length.
+
+    ``to_frame()`` has one row per edge: ``end_a``, ``end_b``, ``length_<unit>``;
+    ``to_geodataframe()`` adds each edge as a LineString. ``summary()`` has one row:
+    ``length_<unit>``, ``mst_length_<unit>`` (the same), ``saving`` (0), ``junctions`` (0)
+    and ``edges`` (count), the columns of :meth:`SteinerTree.summary` without ``optimal``.
     """
 
-    edges: np.ndarray
+    end_a: np.ndarray
+    end_b: np.ndarray
     edge_length: np.ndarray
     length: float
     points: np.ndarray = dataclasses.field(repr=False)
 
+    def summary(self) -> Any:
+        """The tree's totals as a one-row DataFrame."""
+        columns = _summary_columns(self, self.length, self.length, 0.0, 0, len(self.end_a))
+        return _require_pandas().DataFrame(columns)
+
     def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Draw the edges (and the points) on matplotlib axes (new axes when ``ax`` is None)."""
-        ax = self._plot_axes(ax)
-        _draw_edges(ax, self.points, self.edges, style)
-        ax.plot(self.points[:, 0], self.points[:, 1], "o", color="black", markersize=3)
-        return ax
+        """Draw the edges and the points on matplotlib axes (new axes when ``ax`` is None)."""
+        return _plot(self, ax, self._segments(), self.points, None, style)
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
-class SpanningTrees(Result):
+class SpanningTrees(_Edges, Grouped):
     """Minimum spanning trees of many groups, sorted by label.
+
+    ``len``, iteration and ``trees[label]`` give each group's :class:`SpanningTree` (its
+    ends are rows of the whole input). ``to_frame()`` has one row per edge, with ``group``
+    and ``problem`` before the columns of :class:`SpanningTree`; ``summary()`` one row per
+    group.
 
     Attributes
     ----------
     labels : ndarray, shape (G,)
         Sorted unique group labels.
     edge_offsets : ndarray of int64, shape (G + 1,)
-        Group ``g``'s edges are ``edges[edge_offsets[g]:edge_offsets[g + 1]]``.
-    edges : ndarray of int64, shape (E, 2)
-        Pairs of input rows (of the whole point set).
+        Group ``g``'s edges are ``edge_offsets[g]:edge_offsets[g + 1]``.
+    end_a, end_b : ndarray of int64, shape (E,)
+        Input rows (of the whole point set), smaller first.
     edge_length : ndarray, shape (E,)
     length : ndarray, shape (G,)
-        Total length per group.
+        Total length per group (NaN for a skipped group, which has no edges).
     """
 
-    labels: np.ndarray
     edge_offsets: np.ndarray
-    edges: np.ndarray
+    end_a: np.ndarray
+    end_b: np.ndarray
     edge_length: np.ndarray
     length: np.ndarray
     points: np.ndarray = dataclasses.field(repr=False)
 
+    def _item(self, position: int) -> SpanningTree:
+        edges = slice(self.edge_offsets[position], self.edge_offsets[position + 1])
+        return SpanningTree(self.end_a[edges].copy(), self.end_b[edges].copy(), self.edge_length[edges].copy(),
+                            float(self.length[position]), self.points, unit=self.unit)
+
+    def _row_groups(self) -> np.ndarray:
+        return _edge_groups(self.edge_offsets)
+
+    def summary(self) -> Any:
+        """One row per group: ``group``, ``problem`` and the totals of :meth:`SpanningTree.summary`."""
+        saving = np.where(self.skipped, np.nan, 0.0)
+        columns = _summary_columns(self, self.length, self.length, saving, np.zeros(len(self), np.int64),
+                                   np.diff(self.edge_offsets))
+        return _group_summary(self, columns)
+
     def plot(self, ax: Any = None, **style: Any) -> Any:
         """Draw every group's edges."""
-        ax = self._plot_axes(ax)
-        _draw_edges(ax, self.points, self.edges, style)
-        ax.plot(self.points[:, 0], self.points[:, 1], "o", color="black", markersize=2)
-        return ax
+        return _plot(self, ax, self._segments(), self.points, None, style)
+
+
+# --------------------------------------------------------------------------- Steiner trees
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
-class SteinerTree(Result):
+class SteinerTree(_SteinerEdges, Result):
     """A Euclidean Steiner tree: junctions (Steiner points) of three edges at 120°.
 
     Attributes
     ----------
-    nodes : ndarray, shape (m, 2)
-        The input points in input order, then the Steiner points.
-    terminal_count : int
-        How many of ``nodes`` are input points.
-    edges : ndarray of int64, shape (m - 1, 2)
-        Pairs of node indices.
+    junctions : ndarray, shape (k, 2)
+        The junctions added (at most ``n - 2``).
+    end_a, end_b : ndarray of int64, shape (E,)
+        The input row at each end of an edge, or -1 where that end is a junction. Input
+        rows come before junctions, so ``end_a`` is -1 only when both ends are junctions.
+    junction_a, junction_b : ndarray of int64, shape (E,)
+        The junction (row of ``junctions``) at each end, or -1 where that end is an input row.
+    edge_length : ndarray, shape (E,)
+        Length of each edge.
     length : float
         Total length.
     mst_length : float
         Length of the minimum spanning tree of the input points.
     saving : float
-        ``1 - length / mst_length``.
+        ``1 - length / mst_length`` (0 when the spanning tree has no length).
     optimal : bool
         True only when the tree is proven to be a Steiner minimum tree.
+
+    ``to_frame()`` has one row per edge: ``end_a``, ``end_b``, ``junction_a``,
+    ``junction_b``, ``length_<unit>``; ``to_geodataframe()`` adds each edge as a
+    LineString. ``summary()`` has one row: ``length_<unit>``, ``mst_length_<unit>``,
+    ``saving``, ``junctions`` (count), ``optimal``, ``edges`` (count).
     """
 
-    nodes: np.ndarray
-    terminal_count: int
-    edges: np.ndarray
+    junctions: np.ndarray
+    end_a: np.ndarray
+    end_b: np.ndarray
+    junction_a: np.ndarray
+    junction_b: np.ndarray
+    edge_length: np.ndarray
     length: float
     mst_length: float
     saving: float
     optimal: bool
+    points: np.ndarray = dataclasses.field(repr=False)
 
-    @property
-    def steiner_points(self) -> np.ndarray:
-        """The added junctions, shape (m - terminal_count, 2)."""
-        return self.nodes[self.terminal_count:]
+    def summary(self) -> Any:
+        """The tree's totals as a one-row DataFrame."""
+        columns = _summary_columns(self, self.length, self.mst_length, self.saving, len(self.junctions),
+                                   len(self.end_a), self.optimal)
+        return _require_pandas().DataFrame(columns)
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Draw the edges, the input points (dots) and the Steiner points (open squares)."""
-        ax = self._plot_axes(ax)
-        _draw_edges(ax, self.nodes, self.edges, style)
-        t = self.nodes[: self.terminal_count]
-        s = self.steiner_points
-        ax.plot(t[:, 0], t[:, 1], "o", color="black", markersize=3)
-        ax.plot(s[:, 0], s[:, 1], "s", markerfacecolor="none", markeredgecolor="crimson", markersize=4)
-        return ax
+        """Draw the edges, the input points (dots) and the junctions (open squares)."""
+        return _plot(self, ax, self._segments(), self.points, self.junctions, style)
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
-class SteinerTrees(Result):
+class SteinerTrees(_SteinerEdges, Grouped):
     """Steiner trees of many groups, sorted by label.
 
-    Group ``g``'s nodes are ``nodes[node_offsets[g]:node_offsets[g + 1]]`` — its input
-    points in input order, then its Steiner points — and its edges,
-    ``edges[edge_offsets[g]:edge_offsets[g + 1]]``, index into those nodes.
+    ``len``, iteration and ``trees[label]`` give each group's :class:`SteinerTree` (its
+    ``end_a``/``end_b`` are rows of the whole input; its junctions are its own).
+    ``to_frame()`` has one row per edge, with ``group`` and ``problem`` before the columns
+    of :class:`SteinerTree`; ``summary()`` one row per group.
 
     Attributes
     ----------
     labels : ndarray, shape (G,)
-    node_offsets : ndarray of int64, shape (G + 1,)
-    nodes : ndarray, shape (M, 2)
-    terminal_count : ndarray of int64, shape (G,)
+        Sorted unique group labels.
+    junction_offsets : ndarray of int64, shape (G + 1,)
+        Group ``g``'s junctions are ``junctions[junction_offsets[g]:junction_offsets[g + 1]]``.
+    junctions : ndarray, shape (K, 2)
     edge_offsets : ndarray of int64, shape (G + 1,)
-    edges : ndarray of int64, shape (E, 2)
+        Group ``g``'s edges are ``edge_offsets[g]:edge_offsets[g + 1]``.
+    end_a, end_b : ndarray of int64, shape (E,)
+        Input rows (of the whole point set), or -1 for a junction end.
+    junction_a, junction_b : ndarray of int64, shape (E,)
+        Junction numbers within the edge's group, or -1 for an input-row end.
+    edge_length : ndarray, shape (E,)
     length, mst_length, saving : ndarray, shape (G,)
+        NaN for a skipped group (which has no junctions and no edges).
     optimal : ndarray of bool, shape (G,)
     """
 
-    labels: np.ndarray
-    node_offsets: np.ndarray
-    nodes: np.ndarray
-    terminal_count: np.ndarray
+    junction_offsets: np.ndarray
+    junctions: np.ndarray
     edge_offsets: np.ndarray
-    edges: np.ndarray
+    end_a: np.ndarray
+    end_b: np.ndarray
+    junction_a: np.ndarray
+    junction_b: np.ndarray
+    edge_length: np.ndarray
     length: np.ndarray
     mst_length: np.ndarray
     saving: np.ndarray
     optimal: np.ndarray
+    points: np.ndarray = dataclasses.field(repr=False)
 
-    def __len__(self) -> int:
-        return len(self.labels)
-
-    def __getitem__(self, g: int) -> SteinerTree:
-        """Group ``g``'s tree (by position in ``labels``) as a ``SteinerTree``."""
-        n0, n1 = self.node_offsets[g], self.node_offsets[g + 1]
-        e0, e1 = self.edge_offsets[g], self.edge_offsets[g + 1]
+    def _item(self, position: int) -> SteinerTree:
+        nodes = slice(self.junction_offsets[position], self.junction_offsets[position + 1])
+        edges = slice(self.edge_offsets[position], self.edge_offsets[position + 1])
         return SteinerTree(
-            self.nodes[n0:n1].copy(), int(self.terminal_count[g]), self.edges[e0:e1].copy(),
-            float(self.length[g]), float(self.mst_length[g]), float(self.saving[g]), bool(self.optimal[g]),
+            self.junctions[nodes].copy(), self.end_a[edges].copy(), self.end_b[edges].copy(),
+            self.junction_a[edges].copy(), self.junction_b[edges].copy(), self.edge_length[edges].copy(),
+            float(self.length[position]), float(self.mst_length[position]), float(self.saving[position]),
+            bool(self.optimal[position]), self.points, unit=self.unit,
         )
+
+    def _row_groups(self) -> np.ndarray:
+        return _edge_groups(self.edge_offsets)
+
+    def _junction_base(self) -> Any:
+        # Junction numbers are per group: shift them to rows of the concatenated junctions.
+        return self.junction_offsets[self._row_groups()]
+
+    def summary(self) -> Any:
+        """One row per group: ``group``, ``problem`` and the totals of :meth:`SteinerTree.summary`."""
+        columns = _summary_columns(self, self.length, self.mst_length, self.saving,
+                                   np.diff(self.junction_offsets), np.diff(self.edge_offsets), self.optimal)
+        return _group_summary(self, columns)
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
         """Draw every group's tree."""
-        ax = self._plot_axes(ax)
-        for g in range(len(self)):
-            self[g].plot(ax, **style)
-        return ax
+        return _plot(self, ax, self._segments(), self.points, self.junctions, style)
 
 
-def _as_points(points: ArrayLike) -> np.ndarray:
-    return np.ascontiguousarray(points, dtype=np.float64).reshape(-1, 2)
+# --------------------------------------------------------------------------- functions
 
 
-def spanning_tree(points: ArrayLike, *, groups: ArrayLike | None = None) -> SpanningTree | SpanningTrees:
+@overload
+def spanning_tree(
+    points: ArrayLike, *, groups: None = None, errors: Literal["raise", "skip"] = "raise"
+) -> SpanningTree: ...
+
+
+@overload
+def spanning_tree(
+    points: ArrayLike, *, groups: ArrayLike, errors: Literal["raise", "skip"] = "raise"
+) -> SpanningTrees: ...
+
+
+def spanning_tree(
+    points: ArrayLike, *, groups: ArrayLike | None = None, errors: Literal["raise", "skip"] = "raise"
+) -> SpanningTree | SpanningTrees:
     """The Euclidean minimum spanning tree: the shortest network of straight links between sites.
 
-    Kruskal's algorithm on the Delaunay edges (the Euclidean MST is a subgraph of the
-    Delaunay triangulation). Repeated locations are joined by zero-length edges; collinear
-    points give the chain along their line.
+    Kruskal's algorithm (Kruskal 1956) on the Delaunay edges (the Euclidean MST is a
+    subgraph of the Delaunay triangulation: Shamos and Hoey 1975). Repeated locations are
+    joined by zero-length edges; collinear points give the chain along their line.
 
     Parameters
     ----------
@@ -195,6 +363,9 @@ def spanning_tree(points: ArrayLike, *, groups: ArrayLike | None = None) -> Span
         Site locations (planar coordinates).
     groups : array_like of int, shape (n,), optional
         Group labels: one tree per group (in parallel), returned as ``SpanningTrees``.
+    errors : {"raise", "skip"}
+        With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
+        label); ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
 
     Returns
     -------
@@ -203,7 +374,8 @@ def spanning_tree(points: ArrayLike, *, groups: ArrayLike | None = None) -> Span
     Raises
     ------
     InputError
-        For NaN/inf coordinates, bad shapes or an empty point set.
+        For NaN/inf coordinates, bad shapes or an empty point set; its ``group`` and
+        ``row`` name the group label and input row concerned.
 
     Examples
     --------
@@ -211,17 +383,61 @@ def spanning_tree(points: ArrayLike, *, groups: ArrayLike | None = None) -> Span
     >>> t = pw.spanning_tree([[0, 0], [1, 0], [0, 1], [1, 1]])
     >>> t.length                      # three unit links
     3.0
-    >>> pw.spanning_tree([[2, 3]]).edges.shape   # one site: no links
-    (0, 2)
+    >>> t.to_frame()
+       end_a  end_b  length_u
+    0      1      3       1.0
+    1      2      3       1.0
+    2      0      2       1.0
+    >>> len(pw.spanning_tree([[2, 3]]).end_a)   # one site: no links
+    0
+
+    Grouped, with a two-point group (one link) and a one-point group (none); the ends are
+    rows of the whole input:
+
+    >>> trees = pw.spanning_tree([[0, 0], [9, 9], [3, 4], [5, 5]], groups=[1, 2, 1, 3])
+    >>> len(trees), trees[1].length
+    (3, 5.0)
+    >>> trees.to_frame()
+       group problem  end_a  end_b  length_u
+    0      1    None      0      2       5.0
+    >>> trees.summary()[["group", "length_u", "edges"]]
+       group  length_u  edges
+    0      1       5.0      1
+    1      2       0.0      0
+    2      3       0.0      0
 
     See Also
     --------
     steiner_tree : shorter networks with added junctions.
     """
     if groups is None:
-        edges, edge_length, length = _core.spanning_tree_single(points)
-        return SpanningTree(edges, edge_length, length, _as_points(points))
-    return SpanningTrees(*_core.spanning_tree_grouped(points, groups), _as_points(points))
+        return SpanningTree(**_core.spanning_tree_single(points), points=as_points(points))
+    fields = _core.spanning_tree_grouped(points, groups, errors)
+    return SpanningTrees._from_core(fields, points=as_points(points))
+
+
+@overload
+def steiner_tree(
+    points: ArrayLike,
+    *,
+    exact: bool | None = None,
+    seed: int = 0,
+    time_limit: float | None = None,
+    groups: None = None,
+    errors: Literal["raise", "skip"] = "raise",
+) -> SteinerTree: ...
+
+
+@overload
+def steiner_tree(
+    points: ArrayLike,
+    *,
+    exact: bool | None = None,
+    seed: int = 0,
+    time_limit: float | None = None,
+    groups: ArrayLike,
+    errors: Literal["raise", "skip"] = "raise",
+) -> SteinerTrees: ...
 
 
 def steiner_tree(
@@ -231,13 +447,14 @@ def steiner_tree(
     seed: int = 0,
     time_limit: float | None = None,
     groups: ArrayLike | None = None,
+    errors: Literal["raise", "skip"] = "raise",
 ) -> SteinerTree | SteinerTrees:
     """The Euclidean Steiner tree: the shortest network joining the sites when junctions may be added.
 
     Every junction (Steiner point) joins three edges at 120°. The exact method generates the
     full Steiner trees that can be part of an optimum, with the pruning tests of Winter and
     Zachariasen (1997), and concatenates them by an integer program; the heuristic inserts
-    Steiner points on Delaunay triangles (Smith, Lee and Liebman 1981; Beasley 1992) and
+    junctions on Delaunay triangles (Smith, Lee and Liebman 1981; Beasley 1992) and
     re-optimises their positions (Smith 1992), round after round while it pays.
 
     Parameters
@@ -251,12 +468,16 @@ def steiner_tree(
         distinct points, trying for 5 s unless ``time_limit`` says otherwise), else the
         heuristic.
     seed : int
-        Orders heuristic insertions of equal gain; the same seed gives the same tree.
+        Orders heuristic insertions of equal gain (0 to 2**64 - 1); the same seed gives the
+        same tree.
     time_limit : float, optional
-        Seconds allowed for an exact attempt; when they run out the heuristic's tree is
-        returned with ``optimal=False``.
+        Seconds allowed for an exact attempt (finite, >= 0); when they run out the
+        heuristic's tree is returned with ``optimal=False``.
     groups : array_like of int, shape (n,), optional
         Group labels: one tree per group (in parallel), returned as ``SteinerTrees``.
+    errors : {"raise", "skip"}
+        With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
+        label); ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
 
     Returns
     -------
@@ -265,24 +486,47 @@ def steiner_tree(
     Raises
     ------
     InputError
-        For NaN/inf coordinates, bad shapes, an empty point set, a negative
-        ``time_limit``, or ``exact=True`` with more than 64 distinct points.
+        For NaN/inf coordinates, bad shapes, an empty point set, ``exact`` other than
+        True/False/None, a ``seed`` or ``time_limit`` of the wrong type or range, or
+        ``exact=True`` with more than 64 distinct points. Its ``argument`` names the
+        argument; ``group`` and ``row`` the group label and input row concerned.
 
     Examples
     --------
     >>> import placewise as pw
     >>> t = pw.steiner_tree([[0, 0], [1, 0], [1, 1], [0, 1]])
-    >>> round(t.length, 9), len(t.steiner_points), t.optimal   # 1 + sqrt(3)
+    >>> round(t.length, 9), len(t.junctions), t.optimal   # 1 + sqrt(3)
     (2.732050808, 2, True)
+    >>> t.to_frame().round(4)          # four edges to the two junctions, one between them
+       end_a  end_b  junction_a  junction_b  length_u
+    0      0     -1          -1           0    0.5774
+    1      1     -1          -1           0    0.5774
+    2      2     -1          -1           1    0.5774
+    3      3     -1          -1           1    0.5774
+    4     -1     -1           0           1    0.4226
     >>> pw.steiner_tree([[0, 0], [1, 0], [2, 0]]).saving        # collinear: nothing to gain
     0.0
+
+    Grouped, with a two-point group (one edge, no junction) and a one-point group (no
+    edges); ends are rows of the whole input:
+
+    >>> trees = pw.steiner_tree([[0, 0], [9, 9], [3, 4], [5, 5]], groups=[1, 2, 1, 3])
+    >>> trees.to_frame()
+       group problem  end_a  end_b  junction_a  junction_b  length_u
+    0      1    None      0      2          -1          -1       5.0
+    >>> trees.summary()[["group", "length_u", "junctions", "optimal", "edges"]]
+       group  length_u  junctions  optimal  edges
+    0      1       5.0          0     True      1
+    1      2       0.0          0     True      0
+    2      3       0.0          0     True      0
 
     See Also
     --------
     spanning_tree : the network without junctions.
     weber_point : the best single junction for all sites.
     """
-    limit = None if time_limit is None else float(time_limit)
     if groups is None:
-        return SteinerTree(*_core.steiner_tree_single(points, exact, int(seed), limit))
-    return SteinerTrees(*_core.steiner_tree_grouped(points, groups, exact, int(seed), limit))
+        fields = _core.steiner_tree_single(points, exact, seed, time_limit)
+        return SteinerTree(**fields, points=as_points(points))
+    fields = _core.steiner_tree_grouped(points, groups, exact, seed, time_limit, errors)
+    return SteinerTrees._from_core(fields, points=as_points(points))

@@ -1,72 +1,361 @@
-"""Service areas: Delaunay triangulation, Voronoi cells clipped to a region, nearest-site allocation.
+"""Catchments: Delaunay triangulation, Voronoi cells clipped to a region, nearest-site allocation.
 
-A planner splitting a region among sites needs each site's area (its Voronoi cell inside the
-study region), which demand each site serves (the nearest site) and the triangulation that
-links neighbouring sites.
+A planner splitting a region among sites needs each site's catchment (its Voronoi cell inside
+the study region), which demand each site serves (the nearest site) and the triangulation
+that links neighbouring sites.
+
+Every function takes ``groups=`` to run on many groups at once (in parallel, in Rust). In a
+grouped result every index is a row of the whole input (never a position inside a group),
+per-row arrays follow the input's row order, and ``result[label]`` is the single result of
+that group: exactly what a separate call on the group's own rows gives, indexed by position
+within the group.
 """
 
 from __future__ import annotations
 
 import dataclasses
-from typing import Any
+from typing import Any, Literal, overload
 
 import numpy as np
 from numpy.typing import ArrayLike
 
 from . import _core
 from ._core import InputError
-from ._results import Result
+from ._results import Grouped, Result, _require_pandas, as_points
 
-__all__ = ["Allocation", "Triangulation", "VoronoiCells", "delaunay", "nearest_site", "voronoi_cells"]
+__all__ = [
+    "Allocation",
+    "Allocations",
+    "DelaunayMesh",
+    "DelaunayMeshes",
+    "VoronoiCellSets",
+    "VoronoiCells",
+    "delaunay",
+    "nearest_site",
+    "voronoi_cells",
+]
 
 
-def _coordinates(points: ArrayLike) -> np.ndarray:
-    """The points as an (n, 2) float64 array, a view when no conversion is needed.
-
-    Called only after the compiled kernel accepted the input, so the conversion succeeds.
-    """
-    return np.ascontiguousarray(points, dtype=np.float64).reshape(-1, 2).view()
+def _members(row_group: np.ndarray, position: int) -> np.ndarray:
+    """Input rows of the group at ``position`` (ascending)."""
+    return np.flatnonzero(row_group == position)
 
 
-@dataclasses.dataclass(frozen=True, repr=False, eq=False)
-class Triangulation(Result):
-    """A Delaunay triangulation, indexed by input row.
+def _group_slice(offsets: np.ndarray, position: int) -> slice:
+    return slice(int(offsets[position]), int(offsets[position + 1]))
 
-    Attributes
-    ----------
-    triangles : ndarray of int64, shape (m, 3)
-        Counter-clockwise vertex triples.
-    adjacent : ndarray of int64, shape (m, 3)
-        ``adjacent[t, k]`` is the triangle across the edge of ``t`` opposite its vertex ``k``;
-        -1 on the hull.
-    hull : ndarray of int64, shape (h,)
-        Hull vertices, counter-clockwise from the smallest index (vertices lying on a hull
-        edge included).
-    edges : ndarray of int64, shape (e, 2)
-        Every edge once, as (smaller index, larger index).
-    representative : ndarray of int64, shape (n,)
-        The vertex kept for each input row: the row itself, or the first row at the same
-        location when the input repeats it.
-    points : ndarray, shape (n, 2)
-        The input coordinates (not shown in the repr).
-    """
 
-    triangles: np.ndarray
-    adjacent: np.ndarray
-    hull: np.ndarray
-    edges: np.ndarray
-    representative: np.ndarray
-    points: np.ndarray = dataclasses.field(repr=False)
+# --------------------------------------------------------------------------- Delaunay
+
+
+class _Triangles(Result):
+    """Rows are triangles: the shared table of single and grouped meshes."""
+
+    corners: np.ndarray
+    area: np.ndarray
+    points: np.ndarray
+
+    def _columns(self) -> dict[str, Any]:
+        return {
+            "corner_a": self.corners[:, 0],
+            "corner_b": self.corners[:, 1],
+            "corner_c": self.corners[:, 2],
+            self._u("area", 2): self.area,
+        }
+
+    def _geometry(self) -> Any:
+        import shapely
+
+        return shapely.polygons(self.points[self.corners])
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
         """Draw the triangles' edges (new axes when ``ax`` is None)."""
         ax = self._plot_axes(ax)
-        ax.triplot(self.points[:, 0], self.points[:, 1], self.triangles, **{"color": "#3b6ea8", "linewidth": 0.6, **style})
+        options = {"color": "#3b6ea8", "linewidth": 0.6, **style}
+        ax.triplot(self.points[:, 0], self.points[:, 1], self.corners, **options)
         return ax
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
-class VoronoiCells(Result):
+class DelaunayMesh(_Triangles, Result):
+    """A Delaunay triangulation, indexed by input row.
+
+    Attributes
+    ----------
+    corners : ndarray of int64, shape (m, 3)
+        Every triangle's corners (input rows), counter-clockwise.
+    across : ndarray of int64, shape (m, 3)
+        ``across[t, k]`` is the triangle across the edge of ``t`` opposite its corner ``k``;
+        -1 on the outline.
+    outline : ndarray of int64, shape (h,)
+        The boundary (convex hull) vertices, counter-clockwise from the smallest row, vertices
+        lying on a boundary edge included.
+    edges : ndarray of int64, shape (e, 2)
+        Every edge once, as (smaller row, larger row).
+    representative : ndarray of int64, shape (n,)
+        The vertex kept for each input row: the row itself, or the first row at the same
+        location when the input repeats it.
+    area : ndarray, shape (m,)
+        Area of every triangle (squared coordinate units).
+    points : ndarray, shape (n, 2)
+        The input coordinates (not shown in the repr).
+
+    ``to_frame()`` has one row per triangle: ``corner_a``, ``corner_b``, ``corner_c``,
+    ``area_<unit>2``; ``to_geodataframe()`` adds the triangle as a Polygon.
+    """
+
+    corners: np.ndarray
+    across: np.ndarray
+    outline: np.ndarray
+    edges: np.ndarray
+    representative: np.ndarray
+    area: np.ndarray = dataclasses.field(repr=False)
+    points: np.ndarray = dataclasses.field(repr=False)
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class DelaunayMeshes(_Triangles, Grouped):
+    """Delaunay triangulations of many groups, sorted by label.
+
+    ``len``, iteration and ``meshes[label]`` give each group's :class:`DelaunayMesh` (as a
+    separate call on the group's rows gives it). ``to_frame()`` has one row per triangle,
+    with ``group`` and ``problem`` before the columns of :class:`DelaunayMesh`.
+
+    Attributes
+    ----------
+    labels : ndarray, shape (G,)
+        Sorted unique group labels.
+    corners : ndarray of int64, shape (M, 3)
+        Every group's triangles in label order, corners as rows of the whole input; group
+        ``g``'s are ``corners[triangle_offsets[g]:triangle_offsets[g + 1]]``.
+    across : ndarray of int64, shape (M, 3)
+        The row of ``corners`` across each edge; -1 on an outline.
+    triangle_offsets : ndarray of int64, shape (G + 1,)
+    outline : ndarray of int64, shape (H,)
+        Every group's outline (input rows); group ``g``'s is
+        ``outline[outline_offsets[g]:outline_offsets[g + 1]]``.
+    outline_offsets : ndarray of int64, shape (G + 1,)
+    edges : ndarray of int64, shape (E, 2)
+        Every group's edges (input rows, smaller first), by ``edge_offsets``.
+    edge_offsets : ndarray of int64, shape (G + 1,)
+    representative : ndarray of int64, shape (n,)
+        The vertex kept for each input row (-1 for the rows of a skipped group).
+    area : ndarray, shape (M,)
+        Area of every triangle.
+    """
+
+    corners: np.ndarray
+    across: np.ndarray
+    triangle_offsets: np.ndarray
+    outline: np.ndarray
+    outline_offsets: np.ndarray
+    edges: np.ndarray
+    edge_offsets: np.ndarray
+    representative: np.ndarray
+    area: np.ndarray = dataclasses.field(repr=False)
+    row_group: np.ndarray = dataclasses.field(repr=False)
+    points: np.ndarray = dataclasses.field(repr=False)
+
+    def _item(self, position: int) -> DelaunayMesh:
+        rows = _members(self.row_group, position)
+        triangles = _group_slice(self.triangle_offsets, position)
+        across = self.across[triangles]
+        return DelaunayMesh(
+            np.searchsorted(rows, self.corners[triangles]),
+            np.where(across >= 0, across - triangles.start, -1),
+            np.searchsorted(rows, self.outline[_group_slice(self.outline_offsets, position)]),
+            np.searchsorted(rows, self.edges[_group_slice(self.edge_offsets, position)]),
+            np.searchsorted(rows, self.representative[rows]),
+            self.area[triangles].copy(),
+            self.points[rows],
+            unit=self.unit,
+        )
+
+    def _row_groups(self) -> np.ndarray:
+        return np.repeat(np.arange(len(self)), np.diff(self.triangle_offsets))
+
+
+@overload
+def delaunay(points: ArrayLike, *, groups: None = None, errors: Literal["raise", "skip"] = "raise") -> DelaunayMesh: ...
+
+
+@overload
+def delaunay(points: ArrayLike, *, groups: ArrayLike, errors: Literal["raise", "skip"] = "raise") -> DelaunayMeshes: ...
+
+
+def delaunay(
+    points: ArrayLike, *, groups: ArrayLike | None = None, errors: Literal["raise", "skip"] = "raise"
+) -> DelaunayMesh | DelaunayMeshes:
+    """The Delaunay triangulation of a point set.
+
+    Every triangle's circumcircle holds no input point inside it. Built by a circle sweep
+    (Biniaz & Dastghaibyfard 2012) with exact orientation and in-circle tests, so the answer
+    is exact for any finite input, including far-offset coordinates. From 100,000 points the
+    cloud is cut into vertical strips triangulated in parallel, and the seams between them
+    are re-triangulated and verified. Cocircular sets (grids) get one of their Delaunay
+    triangulations, the same one on every call and on every machine.
+
+    Parameters
+    ----------
+    points : array_like, shape (n, 2)
+        Planar coordinates. Repeated locations are allowed; see ``representative``.
+    groups : array_like of int, shape (n,), optional
+        Group labels: triangulate every group's points on their own (in parallel) and return
+        ``DelaunayMeshes``.
+    errors : {"raise", "skip"}
+        With ``groups``: ``"raise"`` fails on the first group without a triangulation
+        (smallest label); ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
+
+    Returns
+    -------
+    DelaunayMesh, or DelaunayMeshes when ``groups`` is given.
+
+    Raises
+    ------
+    InputError
+        For NaN/inf coordinates or bad shapes; its ``group`` and ``row`` name the group label
+        and input row concerned.
+    DegenerateInputError
+        With fewer than three distinct points, or when all points are collinear.
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> mesh = pw.delaunay([[0, 0], [1, 0], [1, 1], [0, 1], [0, 0]])
+    >>> len(mesh.corners), mesh.outline.tolist()   # a square: two triangles; row 4 repeats row 0
+    (2, [0, 1, 2, 3])
+    >>> mesh.representative.tolist()
+    [0, 1, 2, 3, 0]
+    >>> mesh.to_frame()
+       corner_a  corner_b  corner_c  area_u2
+    0         3         0         1      0.5
+    1         2         3         1      0.5
+    >>> pw.delaunay([[0, 0], [1, 1], [2, 2]])
+    Traceback (most recent call last):
+    ...
+    placewise.DegenerateInputError: points: all points are collinear, so no triangle exists
+    >>> meshes = pw.delaunay([[0, 0], [5, 5], [2, 0], [0, 2], [6, 6], [7, 7]],
+    ...                      groups=[1, 2, 1, 1, 2, 2], errors="skip")
+    >>> meshes.to_frame()[["group", "corner_a", "corner_b", "corner_c", "area_u2"]]
+       group  corner_a  corner_b  corner_c  area_u2
+    0      1       3.0       0.0       2.0      2.0
+    1      2       NaN       NaN       NaN      NaN
+    >>> meshes.problem[1]
+    'group 2: points: all points are collinear, so no triangle exists'
+    >>> meshes[1].corners.tolist()   # group 1 alone: rows 0, 2, 3 are its points 0, 1, 2
+    [[2, 0, 1]]
+
+    See Also
+    --------
+    voronoi_cells : the dual subdivision, clipped to a region.
+    """
+    if groups is None:
+        return DelaunayMesh(**_core.delaunay_single(points), points=as_points(points))
+    return DelaunayMeshes._from_core(_core.delaunay_grouped(points, groups, errors), points=as_points(points))
+
+
+# --------------------------------------------------------------------------- Voronoi cells
+
+
+class _Cells(Result):
+    """Rows are sites, each with its cell stored as rings of vertices."""
+
+    vertices: np.ndarray
+    offsets: np.ndarray
+    parts: np.ndarray
+    area: np.ndarray
+    sites: np.ndarray
+
+    def pieces(self, i: int) -> list[list[np.ndarray]]:
+        """Cell ``i`` as a list of pieces, each a list of rings (exterior first, then holes)."""
+        lo, hi = int(self.offsets[i]), int(self.offsets[i + 1])
+        first, last = np.searchsorted(self.parts, [lo, hi])
+        pieces: list[list[np.ndarray]] = []
+        for r in range(first, last):
+            ring = self.vertices[self.parts[r]:self.parts[r + 1]]
+            x, y = ring[:, 0], ring[:, 1]
+            # Orientation only (the sign of the shoelace sum): the areas come from Rust.
+            signed = float(np.dot(x - x[0], np.roll(y, -1) - y[0]) - np.dot(y - y[0], np.roll(x, -1) - x[0]))
+            if signed > 0 or not pieces:
+                pieces.append([ring])
+            else:
+                pieces[-1].append(ring)
+        return pieces
+
+    def to_shapely(self) -> np.ndarray:
+        """One shapely Polygon or MultiPolygon per site (an empty Polygon for an empty cell)."""
+        import shapely
+
+        out = np.empty(len(self.area), dtype=object)
+        for i in range(len(self.area)):
+            polygons = [shapely.Polygon(rings[0], rings[1:]) for rings in self.pieces(i)]
+            if not polygons:
+                out[i] = shapely.Polygon()
+            elif len(polygons) == 1:
+                out[i] = polygons[0]
+            else:
+                out[i] = shapely.MultiPolygon(polygons)
+        return out
+
+    def _properties(self, i: int) -> dict[str, Any]:
+        return {"site": i, self._u("area", 2): float(self.area[i])}
+
+    def to_geojson(self) -> dict[str, Any]:
+        """A GeoJSON FeatureCollection: one feature per site with ``site`` (its row) and
+        ``area_<unit>2`` properties.
+
+        Rings are closed and exteriors counter-clockwise, as RFC 7946 asks; an empty cell
+        has a ``null`` geometry.
+        """
+
+        def closed(ring: np.ndarray) -> list[list[float]]:
+            return [*ring.tolist(), ring[0].tolist()]
+
+        features = []
+        for i in range(len(self.area)):
+            pieces = [[closed(r) for r in rings] for rings in self.pieces(i)]
+            if not pieces:
+                geometry = None
+            elif len(pieces) == 1:
+                geometry = {"type": "Polygon", "coordinates": pieces[0]}
+            else:
+                geometry = {"type": "MultiPolygon", "coordinates": pieces}
+            features.append({"type": "Feature", "geometry": geometry, "properties": self._properties(i)})
+        return {"type": "FeatureCollection", "features": features}
+
+    def _columns(self) -> dict[str, Any]:
+        return {"x": self.sites[:, 0], "y": self.sites[:, 1], self._u("area", 2): self.area}
+
+    def _geometry(self) -> Any:
+        return self.to_shapely()
+
+    def plot(self, ax: Any = None, **style: Any) -> Any:
+        """Fill every cell (holes kept) and mark the sites (new axes when ``ax`` is None)."""
+        from matplotlib.collections import PatchCollection
+        from matplotlib.patches import PathPatch
+        from matplotlib.path import Path
+
+        from .plotting import site_colour
+
+        ax = self._plot_axes(ax)
+        patches, colours = [], []
+        for i in range(len(self.area)):
+            rings = [ring for rings in self.pieces(i) for ring in rings]
+            if not rings:
+                continue
+            codes = [np.r_[Path.MOVETO, np.full(len(r) - 1, Path.LINETO), Path.CLOSEPOLY] for r in rings]
+            verts = [np.vstack([r, r[:1]]) for r in rings]
+            patches.append(PathPatch(Path(np.vstack(verts), np.concatenate(codes).astype(np.uint8))))
+            colours.append(site_colour(i))
+        options = {"facecolors": colours, "edgecolor": "white", "linewidth": 0.8, "alpha": 0.6, **style}
+        ax.add_collection(PatchCollection(patches, **options))
+        ax.plot(self.sites[:, 0], self.sites[:, 1], "k.", markersize=3)
+        ax.autoscale_view()
+        return ax
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class VoronoiCells(_Cells, Result):
     """Voronoi cells of sites clipped to a region, stored as rings of vertices.
 
     Cell ``i`` is the rings starting at the entries of ``parts`` that lie in
@@ -86,6 +375,10 @@ class VoronoiCells(Result):
         Area of each cell (exteriors minus holes).
     sites : ndarray, shape (n, 2)
         The sites (not shown in the repr).
+
+    ``len(cells)`` is the number of sites. ``to_frame()`` has one row per site: ``x``,
+    ``y``, ``area_<unit>2``; ``to_geodataframe()`` adds the cell as a Polygon or
+    MultiPolygon (empty for an empty cell).
     """
 
     vertices: np.ndarray
@@ -97,174 +390,50 @@ class VoronoiCells(Result):
     def __len__(self) -> int:
         return len(self.area)
 
-    def pieces(self, i: int) -> list[list[np.ndarray]]:
-        """Cell ``i`` as a list of pieces, each a list of rings (exterior first, then holes)."""
-        lo, hi = int(self.offsets[i]), int(self.offsets[i + 1])
-        first, last = np.searchsorted(self.parts, [lo, hi])
-        pieces: list[list[np.ndarray]] = []
-        for r in range(first, last):
-            ring = self.vertices[self.parts[r]:self.parts[r + 1]]
-            x, y = ring[:, 0], ring[:, 1]
-            signed = 0.5 * float(np.dot(x - x[0], np.roll(y, -1) - y[0]) - np.dot(y - y[0], np.roll(x, -1) - x[0]))
-            if signed > 0 or not pieces:
-                pieces.append([ring])
-            else:
-                pieces[-1].append(ring)
-        return pieces
-
-    def to_shapely(self) -> np.ndarray:
-        """One shapely Polygon or MultiPolygon per site (an empty Polygon for an empty cell).
-
-        Requires shapely (the ``test`` extra installs it).
-        """
-        try:
-            import shapely
-        except ImportError as e:  # pragma: no cover - depends on the environment
-            raise ImportError("VoronoiCells.to_shapely needs shapely (pip install shapely)") from e
-        out = np.empty(len(self), dtype=object)
-        for i in range(len(self)):
-            polygons = [shapely.Polygon(rings[0], rings[1:]) for rings in self.pieces(i)]
-            if not polygons:
-                out[i] = shapely.Polygon()
-            elif len(polygons) == 1:
-                out[i] = polygons[0]
-            else:
-                out[i] = shapely.MultiPolygon(polygons)
-        return out
-
-    def to_geojson(self) -> dict[str, Any]:
-        """A GeoJSON FeatureCollection: one feature per site with ``site`` and ``area`` properties.
-
-        Rings are closed and exteriors counter-clockwise, as RFC 7946 asks; an empty cell
-        has a ``null`` geometry.
-        """
-
-        def closed(ring: np.ndarray) -> list[list[float]]:
-            return [*ring.tolist(), ring[0].tolist()]
-
-        features = []
-        for i in range(len(self)):
-            pieces = [[closed(r) for r in rings] for rings in self.pieces(i)]
-            if not pieces:
-                geometry = None
-            elif len(pieces) == 1:
-                geometry = {"type": "Polygon", "coordinates": pieces[0]}
-            else:
-                geometry = {"type": "MultiPolygon", "coordinates": pieces}
-            features.append(
-                {"type": "Feature", "geometry": geometry, "properties": {"site": i, "area": float(self.area[i])}}
-            )
-        return {"type": "FeatureCollection", "features": features}
-
-    def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Fill every cell (holes kept) and mark the sites (new axes when ``ax`` is None)."""
-        from matplotlib.collections import PatchCollection
-        from matplotlib.patches import PathPatch
-        from matplotlib.path import Path
-
-        from .plotting import site_colour
-
-        ax = self._plot_axes(ax)
-        patches, colours = [], []
-        for i in range(len(self)):
-            rings = [ring for rings in self.pieces(i) for ring in rings]
-            if not rings:
-                continue
-            codes = [np.r_[Path.MOVETO, np.full(len(r) - 1, Path.LINETO), Path.CLOSEPOLY] for r in rings]
-            verts = [np.vstack([r, r[:1]]) for r in rings]
-            patches.append(PathPatch(Path(np.vstack(verts), np.concatenate(codes).astype(np.uint8))))
-            colours.append(site_colour(i))
-        options = {"facecolors": colours, "edgecolor": "white", "linewidth": 0.8, "alpha": 0.6, **style}
-        ax.add_collection(PatchCollection(patches, **options))
-        ax.plot(self.sites[:, 0], self.sites[:, 1], "k.", markersize=3)
-        ax.autoscale_view()
-        return ax
-
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
-class Allocation(Result):
-    """Every demand point allocated to its nearest site.
+class VoronoiCellSets(_Cells, Grouped):
+    """Voronoi cells of many groups of sites, each group clipped to the one region.
+
+    The cells follow the sites' input rows: cell ``i`` (rings as in :class:`VoronoiCells`)
+    belongs to site row ``i``; a skipped group's sites have empty cells and NaN area.
+    ``len``, iteration and ``cells[label]`` give each group's :class:`VoronoiCells` (as a
+    separate call on the group's sites gives them). ``to_frame()`` has one row per site in
+    input order, with ``group`` and ``problem`` before the columns of :class:`VoronoiCells`.
 
     Attributes
     ----------
-    index : ndarray of int64, shape (n,)
-        The nearest site of each point (the smallest site index among equally near ones).
-    distance : ndarray, shape (n,)
-        Distance from each point to its site.
-    load : ndarray, shape (k,)
-        Summed weight of the points allocated to each site.
-    cost : float
-        Total weighted distance ``sum(w_i * distance_i)``.
-    points, sites : ndarray
-        The inputs (not shown in the repr).
+    labels : ndarray, shape (G,)
+        Sorted unique group labels.
+    vertices : ndarray, shape (V, 2)
+    offsets : ndarray of int64, shape (k + 1,)
+    parts : ndarray of int64, shape (R + 1,)
+    area : ndarray, shape (k,)
+        Area of each site's cell.
     """
 
-    index: np.ndarray
-    distance: np.ndarray
-    load: np.ndarray
-    cost: float
-    points: np.ndarray = dataclasses.field(repr=False)
+    vertices: np.ndarray
+    offsets: np.ndarray
+    parts: np.ndarray
+    area: np.ndarray
+    site_group: np.ndarray = dataclasses.field(repr=False)
     sites: np.ndarray = dataclasses.field(repr=False)
 
-    def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Draw the points coloured by their site and the sites as stars."""
-        from .plotting import SITE_COLOURS
+    def _properties(self, i: int) -> dict[str, Any]:
+        return {"group": int(self.labels[self.site_group[i]]), **super()._properties(i)}
 
-        ax = self._plot_axes(ax)
-        options: dict[str, Any] = {"s": 4, "linewidths": 0, **style}
-        if "color" not in options and "c" not in options:
-            # One colour per site unless the caller chose one (matplotlib refuses both).
-            options["c"] = np.asarray(SITE_COLOURS)[self.index % len(SITE_COLOURS)]
-        ax.scatter(self.points[:, 0], self.points[:, 1], **options)
-        ax.plot(self.sites[:, 0], self.sites[:, 1], "k*", markersize=10)
-        return ax
+    def _item(self, position: int) -> VoronoiCells:
+        rows = _members(self.site_group, position)
+        lo, hi = self.offsets[rows], self.offsets[rows + 1]
+        vertices = np.concatenate([self.vertices[a:b] for a, b in zip(lo, hi)] + [np.empty((0, 2))])
+        offsets = np.concatenate([[0], np.cumsum(hi - lo)]).astype(np.int64)
+        # Ring ends of each cell, moved by the shift of the cell's first vertex.
+        ends = [self.parts[(self.parts > a) & (self.parts <= b)] - a + start for a, b, start in zip(lo, hi, offsets)]
+        parts = np.concatenate([[0], *ends]).astype(np.int64)
+        return VoronoiCells(vertices, offsets, parts, self.area[rows].copy(), self.sites[rows], unit=self.unit)
 
-
-def delaunay(points: ArrayLike) -> Triangulation:
-    """The Delaunay triangulation of a point set.
-
-    Every triangle's circumcircle holds no input point inside it. Built by a circle sweep
-    (Biniaz & Dastghaibyfard 2012) with exact orientation and in-circle tests, so the answer
-    is exact for any finite input, including far-offset coordinates. From 100,000 points the
-    cloud is cut into vertical strips triangulated in parallel, and the seams between them
-    are re-triangulated and verified. Cocircular sets (grids) get one of their Delaunay
-    triangulations, the same one on every call and on every machine.
-
-    Parameters
-    ----------
-    points : array_like, shape (n, 2)
-        Planar coordinates. Repeated locations are allowed; see ``representative``.
-
-    Returns
-    -------
-    Triangulation
-
-    Raises
-    ------
-    InputError
-        For NaN/inf coordinates or bad shapes.
-    DegenerateInputError
-        With fewer than three distinct points, or when all points are collinear.
-
-    Examples
-    --------
-    >>> import placewise as pw
-    >>> t = pw.delaunay([[0, 0], [1, 0], [1, 1], [0, 1], [0, 0]])
-    >>> len(t.triangles), t.hull.tolist()   # a square: two triangles; row 4 repeats row 0
-    (2, [0, 1, 2, 3])
-    >>> t.representative.tolist()
-    [0, 1, 2, 3, 0]
-    >>> pw.delaunay([[0, 0], [1, 1], [2, 2]])
-    Traceback (most recent call last):
-    ...
-    placewise.DegenerateInputError: points: all points are collinear, so no triangle exists
-
-    See Also
-    --------
-    voronoi_cells : the dual subdivision, clipped to a region.
-    """
-    triangles, adjacent, hull, edges, representative = _core.delaunay_triangulation(points)
-    return Triangulation(triangles, adjacent, hull, edges, representative, _coordinates(points))
+    def _row_groups(self) -> np.ndarray:
+        return self.site_group
 
 
 def _region_rings(region: Any) -> tuple[np.ndarray | None, np.ndarray | None]:
@@ -299,8 +468,27 @@ def _region_rings(region: Any) -> tuple[np.ndarray | None, np.ndarray | None]:
     return vertices, offsets
 
 
-def voronoi_cells(sites: ArrayLike, region: Any = None) -> VoronoiCells:
-    """Each site's Voronoi cell (the points closer to it than to any other site) inside a region.
+@overload
+def voronoi_cells(
+    sites: ArrayLike, region: Any = None, *, groups: None = None, errors: Literal["raise", "skip"] = "raise"
+) -> VoronoiCells: ...
+
+
+@overload
+def voronoi_cells(
+    sites: ArrayLike, region: Any = None, *, groups: ArrayLike, errors: Literal["raise", "skip"] = "raise"
+) -> VoronoiCellSets: ...
+
+
+def voronoi_cells(
+    sites: ArrayLike,
+    region: Any = None,
+    *,
+    groups: ArrayLike | None = None,
+    errors: Literal["raise", "skip"] = "raise",
+) -> VoronoiCells | VoronoiCellSets:
+    """Each site's catchment: its Voronoi cell (the points closer to it than to any other
+    site) inside a region.
 
     The cells tile the region: valid polygons whose areas sum to the region's area and that
     form a clean coverage (neighbouring cells share their vertices exactly: copies of a vertex
@@ -315,11 +503,18 @@ def voronoi_cells(sites: ArrayLike, region: Any = None) -> VoronoiCells:
         Distinct site locations.
     region : shapely Polygon or MultiPolygon, or array_like of shape (m, 2), optional
         The study region: non-convex, with holes, in several parts; or one ring of vertices.
-        Default: the sites' bounding box grown by 10 % on every side.
+        Default: the sites' bounding box (of each group, with ``groups``) grown by 10 % on
+        every side.
+    groups : array_like of int, shape (n,), optional
+        Group labels: split the region among every group's sites on their own (in parallel)
+        and return ``VoronoiCellSets``.
+    errors : {"raise", "skip"}
+        With ``groups``: ``"raise"`` fails on the first group without cells (smallest label);
+        ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
 
     Returns
     -------
-    VoronoiCells
+    VoronoiCells, or VoronoiCellSets when ``groups`` is given.
 
     Raises
     ------
@@ -335,12 +530,26 @@ def voronoi_cells(sites: ArrayLike, region: Any = None) -> VoronoiCells:
     >>> cells = pw.voronoi_cells([[1, 1], [3, 1]], region=[[0, 0], [4, 0], [4, 2], [0, 2]])
     >>> cells.area.tolist()         # the bisector x = 2 halves the 4 x 2 box
     [4.0, 4.0]
+    >>> cells.to_frame()
+         x    y  area_u2
+    0  1.0  1.0      4.0
+    1  3.0  1.0      4.0
     >>> pw.voronoi_cells([[5, 5]], region=[[0, 0], [10, 0], [10, 10]]).area.tolist()  # one site: the region
     [50.0]
     >>> pw.voronoi_cells([[0, 0], [0, 0]])
     Traceback (most recent call last):
     ...
     placewise.DegenerateInputError: sites: sites[1] repeats sites[0]; every site needs its own location
+    >>> sets = pw.voronoi_cells([[1, 1], [3, 3], [3, 1], [3, 3]], region=[[0, 0], [4, 0], [4, 2], [0, 2]],
+    ...                         groups=[7, 8, 7, 8], errors="skip")
+    >>> sets.to_frame()[["group", "x", "y", "area_u2"]]
+       group    x    y  area_u2
+    0      7  1.0  1.0      4.0
+    1      8  3.0  3.0      NaN
+    2      7  3.0  1.0      4.0
+    3      8  3.0  3.0      NaN
+    >>> sets.problem[1]     # rows are input rows, groups the labels
+    'group 8: sites: sites[3] repeats sites[1]; every site needs its own location'
 
     See Also
     --------
@@ -348,16 +557,213 @@ def voronoi_cells(sites: ArrayLike, region: Any = None) -> VoronoiCells:
     delaunay : the triangulation dual to the cells.
     """
     vertices, offsets = _region_rings(region)
-    out = _core.voronoi_cells_clipped(sites, vertices, offsets)
-    return VoronoiCells(*out, _coordinates(sites))
+    if groups is None:
+        return VoronoiCells(**_core.voronoi_cells_single(sites, vertices, offsets), sites=as_points(sites))
+    fields = _core.voronoi_cells_grouped(sites, groups, vertices, offsets, errors)
+    return VoronoiCellSets._from_core(fields, sites=as_points(sites))
 
 
-def nearest_site(points: ArrayLike, sites: ArrayLike, weights: ArrayLike | None = None) -> Allocation:
+# --------------------------------------------------------------------------- allocation
+
+
+class _Assigned(Result):
+    """Rows are demand points, each with its site."""
+
+    assignment: np.ndarray
+    distance: np.ndarray
+    load: np.ndarray
+    count: np.ndarray
+    points: np.ndarray
+    sites: np.ndarray
+
+    def _columns(self) -> dict[str, Any]:
+        return {"assignment": self.assignment, self._u("distance"): self.distance}
+
+    def _geometry(self) -> Any:
+        import shapely
+
+        return shapely.points(self.points)
+
+    def _site_columns(self) -> dict[str, Any]:
+        return {"x": self.sites[:, 0], "y": self.sites[:, 1], "load": self.load, "count": self.count}
+
+    def plot(self, ax: Any = None, **style: Any) -> Any:
+        """Draw the points coloured by their site and the sites as stars."""
+        from .plotting import SITE_COLOURS
+
+        ax = self._plot_axes(ax)
+        options: dict[str, Any] = {"s": 4, "linewidths": 0, **style}
+        if "color" not in options and "c" not in options:
+            # One colour per site unless the caller chose one (matplotlib refuses both).
+            served = self.assignment >= 0
+            options["c"] = np.asarray(SITE_COLOURS)[np.where(served, self.assignment, 0) % len(SITE_COLOURS)]
+        ax.scatter(self.points[:, 0], self.points[:, 1], **options)
+        ax.plot(self.sites[:, 0], self.sites[:, 1], "k*", markersize=10)
+        return ax
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class Allocation(_Assigned, Result):
+    """Every demand point allocated to its nearest site.
+
+    Attributes
+    ----------
+    assignment : ndarray of int64, shape (n,)
+        The nearest site (row of ``sites``) of each point; the smallest row among equally
+        near sites.
+    distance : ndarray, shape (n,)
+        Distance from each point to its site.
+    load : ndarray, shape (k,)
+        Summed weight of the points in each site's catchment.
+    count : ndarray of int64, shape (k,)
+        Number of points in each site's catchment.
+    cost : float
+        Total weighted distance ``sum(w_i * distance_i)``.
+    total_load : float
+        Total weight of the points.
+    points, sites : ndarray
+        The inputs (not shown in the repr).
+
+    ``to_frame()`` has one row per demand point: ``assignment``, ``distance_<unit>``
+    (``to_geodataframe()`` adds the point); ``sites_frame()`` one row per site: ``x``,
+    ``y``, ``load``, ``count``; ``summary()`` one row: ``cost_<unit>``, ``load``, ``count``
+    (points) and ``sites``.
+    """
+
+    assignment: np.ndarray
+    distance: np.ndarray
+    load: np.ndarray
+    count: np.ndarray
+    cost: float
+    total_load: float
+    points: np.ndarray = dataclasses.field(repr=False)
+    sites: np.ndarray = dataclasses.field(repr=False)
+
+    def sites_frame(self) -> Any:
+        """One row per site: ``x``, ``y``, ``load``, ``count``."""
+        return _require_pandas().DataFrame(self._site_columns())
+
+    def summary(self) -> Any:
+        """One row: ``cost_<unit>``, ``load`` (total weight), ``count`` (points), ``sites``."""
+        return _require_pandas().DataFrame(
+            {self._u("cost"): [self.cost], "load": [self.total_load], "count": [len(self.assignment)],
+             "sites": [len(self.load)]}
+        )
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class Allocations(_Assigned, Grouped):
+    """Nearest-site allocations of many groups: each group's points served by the sites of
+    the same label.
+
+    Per-point and per-site arrays follow the input rows; ``assignment`` names rows of the
+    whole ``sites`` input. ``len``, iteration and ``allocations[label]`` give each group's
+    :class:`Allocation` (as a separate call on the group's points and sites gives it).
+    ``to_frame()`` has one row per demand point in input order, ``sites_frame()`` one row
+    per site, ``summary()`` one row per group, each with ``group`` and ``problem`` first.
+
+    Attributes
+    ----------
+    labels : ndarray, shape (G,)
+        Sorted unique labels of the points and the sites.
+    assignment : ndarray of int64, shape (n,)
+        Site row of each point (-1 in a skipped group).
+    distance : ndarray, shape (n,)
+        Distance to it (NaN in a skipped group).
+    load : ndarray, shape (k,)
+        Summed weight of each site's catchment (NaN in a skipped group).
+    count : ndarray of int64, shape (k,)
+        Points in each site's catchment (0 in a skipped group).
+    cost, total_load : ndarray, shape (G,)
+        Per group (NaN when skipped).
+    point_count, site_count : ndarray of int64, shape (G,)
+        Points and sites of each group.
+    """
+
+    assignment: np.ndarray = dataclasses.field(repr=False)
+    distance: np.ndarray = dataclasses.field(repr=False)
+    point_group: np.ndarray = dataclasses.field(repr=False)
+    load: np.ndarray = dataclasses.field(repr=False)
+    count: np.ndarray = dataclasses.field(repr=False)
+    site_group: np.ndarray = dataclasses.field(repr=False)
+    cost: np.ndarray
+    total_load: np.ndarray
+    point_count: np.ndarray
+    site_count: np.ndarray
+    points: np.ndarray = dataclasses.field(repr=False)
+    sites: np.ndarray = dataclasses.field(repr=False)
+
+    def _item(self, position: int) -> Allocation:
+        rows = _members(self.point_group, position)
+        site_rows = _members(self.site_group, position)
+        return Allocation(
+            np.searchsorted(site_rows, self.assignment[rows]),
+            self.distance[rows],
+            self.load[site_rows],
+            self.count[site_rows],
+            float(self.cost[position]),
+            float(self.total_load[position]),
+            self.points[rows],
+            self.sites[site_rows],
+            unit=self.unit,
+        )
+
+    def _row_groups(self) -> np.ndarray:
+        return self.point_group
+
+    def sites_frame(self) -> Any:
+        """One row per site in input order: ``group``, ``problem``, ``x``, ``y``, ``load``, ``count``."""
+        at = self.site_group
+        return _require_pandas().DataFrame(
+            {"group": self.labels[at], "problem": self.problem[at], **self._site_columns()}
+        )
+
+    def summary(self) -> Any:
+        """One row per group: ``group``, ``problem``, ``cost_<unit>``, ``load``, ``count``, ``sites``."""
+        return _require_pandas().DataFrame(
+            {"group": self.labels, "problem": self.problem, self._u("cost"): self.cost, "load": self.total_load,
+             "count": self.point_count, "sites": self.site_count}
+        )
+
+
+@overload
+def nearest_site(
+    points: ArrayLike,
+    sites: ArrayLike,
+    weights: ArrayLike | None = None,
+    *,
+    groups: None = None,
+    site_groups: None = None,
+    errors: Literal["raise", "skip"] = "raise",
+) -> Allocation: ...
+
+
+@overload
+def nearest_site(
+    points: ArrayLike,
+    sites: ArrayLike,
+    weights: ArrayLike | None = None,
+    *,
+    groups: ArrayLike,
+    site_groups: ArrayLike,
+    errors: Literal["raise", "skip"] = "raise",
+) -> Allocations: ...
+
+
+def nearest_site(
+    points: ArrayLike,
+    sites: ArrayLike,
+    weights: ArrayLike | None = None,
+    *,
+    groups: ArrayLike | None = None,
+    site_groups: ArrayLike | None = None,
+    errors: Literal["raise", "skip"] = "raise",
+) -> Allocation | Allocations:
     """Allocate every demand point to its nearest site.
 
     The sites go into an R*-tree (bulk loaded); the points are queried on all cores, read in
     place when they are a C-contiguous float64 array. Equally near sites go to the smaller
-    site index.
+    site row.
 
     Parameters
     ----------
@@ -367,28 +773,62 @@ def nearest_site(points: ArrayLike, sites: ArrayLike, weights: ArrayLike | None 
         Site locations (repeats allowed; the first copy serves).
     weights : array_like, shape (n,), optional
         Finite, non-negative demand per point, not all zero. Default: all 1.
+    groups, site_groups : array_like of int, shapes (n,) and (k,), optional
+        Labels of the points and of the sites, given together: every group of points is
+        served by the sites with the same label (in parallel), and ``Allocations`` is
+        returned. A label with points but no sites, or sites but no points, is that group's
+        problem.
+    errors : {"raise", "skip"}
+        With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
+        label); ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
 
     Returns
     -------
-    Allocation
+    Allocation, or Allocations when ``groups`` and ``site_groups`` are given.
 
     Raises
     ------
     InputError
-        For NaN/inf coordinates, bad shapes, empty points or sites, or bad weights.
+        For NaN/inf coordinates, bad shapes, empty points or sites, bad weights, or only one
+        of ``groups`` and ``site_groups``.
 
     Examples
     --------
     >>> import placewise as pw
     >>> a = pw.nearest_site([[0, 0], [9, 0], [6, 0]], [[1, 0], [8, 0]], weights=[1, 1, 2])
-    >>> a.index.tolist(), a.load.tolist(), a.cost
-    ([0, 1, 1], [1.0, 3.0], 6.0)
-    >>> pw.nearest_site([[0, 1]], [[1, 0], [-1, 0]]).index.tolist()  # a tie: the smaller index
+    >>> a.assignment.tolist(), a.load.tolist(), a.count.tolist(), a.cost
+    ([0, 1, 1], [1.0, 3.0], [1, 2], 6.0)
+    >>> a.summary()
+       cost_u  load  count  sites
+    0     6.0   4.0      3      2
+    >>> pw.nearest_site([[0, 1]], [[1, 0], [-1, 0]]).assignment.tolist()  # a tie: the smaller row
     [0]
+    >>> groups = pw.nearest_site([[0, 0], [2, 0], [9, 0]], [[0, 0], [8, 0]], groups=[1, 1, 2], site_groups=[1, 2])
+    >>> groups.to_frame()[["group", "assignment", "distance_u"]]
+       group  assignment  distance_u
+    0      1           0         0.0
+    1      1           0         2.0
+    2      2           1         1.0
+    >>> skipped = pw.nearest_site([[0, 0], [9, 0]], [[0, 0]], groups=[1, 2], site_groups=[1], errors="skip")
+    >>> skipped.summary()[["group", "cost_u", "load", "count", "sites"]]
+       group  cost_u  load  count  sites
+    0      1     0.0   1.0      1      1
+    1      2     NaN   NaN      1      0
+    >>> skipped.problem[1]
+    'group 2: sites must hold at least 1 points; got 0'
 
     See Also
     --------
-    voronoi_cells : the region each site serves.
+    voronoi_cells : the catchment of each site as a region.
     """
-    index, distance, load, cost = _core.nearest_site_allocation(points, sites, weights)
-    return Allocation(index, distance, load, cost, _coordinates(points), _coordinates(sites))
+    if groups is None or site_groups is None:
+        if groups is not None or site_groups is not None:
+            raise InputError("groups and site_groups must be given together (labels of the points and of the sites)")
+        return Allocation(**_core.nearest_site_single(points, sites, weights), points=as_points(points),
+                          sites=as_points(sites))
+    fields = _core.nearest_site_grouped(points, sites, weights, groups, site_groups, errors)
+    return Allocations._from_core(fields, points=as_points(points), sites=as_points(sites))
+
+
+# Former name of DelaunayMesh, kept only while the package root still imports it.
+Triangulation = DelaunayMesh

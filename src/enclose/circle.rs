@@ -8,23 +8,22 @@
 //! points that may be hull vertices take part (see [`hull_candidates`]); the others cannot
 //! be on the circle.
 //!
-//! All arithmetic is relative to the centre of the bounding box, so projected coordinates
-//! such as (500 000, 6 000 000) keep full precision, and scaled by a power of two to unit
-//! size, so squared distances neither overflow nor underflow; the reported radius is the
-//! largest distance from the reported centre to any input point, so every point is covered
-//! up to the rounding of one square root.
+//! All arithmetic is in the points' [`WorkingFrame`] (shifted to the bounding box's centre,
+//! so projected coordinates such as (500 000, 6 000 000) keep full precision, and scaled by
+//! a power of two to unit size, so squared distances neither overflow nor underflow); the
+//! reported radius is the largest distance from the reported centre to any input point, so
+//! every point is covered up to the rounding of one square root.
 
-use crate::batch::{run_grouped, Grouped, OnGroupError};
+use super::{run_supported, Supported};
+use crate::batch::{Grouped, OnGroupError};
 use crate::error::Result;
 use crate::geometry::hull::hull_candidates;
 use crate::geometry::predicates::orient2d;
 use crate::geometry::random::SplitMix64;
-use crate::geometry::{
-    add, distance_squared, power_of_two_factor, scale, sub, validate_points, BoundingBox, Point, Weights,
-};
+use crate::geometry::{add, distance_squared, scale, sub, validate_points, Point, Weights, WorkingFrame};
 
 /// The seed of the shuffle when none is given: the same input always gives the same answer.
-pub const DEFAULT_SEED: u64 = 0x5EED_C1C1_E000_0001;
+pub(super) const DEFAULT_SEED: u64 = 0x5EED_C1C1_E000_0001;
 
 /// A point counts as outside a trial circle only when its squared distance exceeds the
 /// squared radius by this relative margin; points inside the margin are covered by the
@@ -52,6 +51,8 @@ pub struct Circle {
     pub center: Point,
     /// Radius: the largest distance from `center` to an input point.
     pub radius: f64,
+    /// `π · radius²`, the area of the disk.
+    pub area: f64,
     /// Indices of the input points that define the circle: one (all points coincide), two
     /// (a diameter) or three (on the boundary, not collinear), in increasing order.
     pub support: Vec<usize>,
@@ -91,14 +92,13 @@ pub fn enclosing_circles(
     options: &CircleOptions,
     on_error: OnGroupError,
 ) -> Result<Grouped<Circle>> {
-    run_grouped(points, Weights::Unit, labels, on_error, |group| {
-        let mut circle = solve(group.points, options.seed);
-        for s in &mut circle.support {
-            *s = group.members[*s];
-        }
-        circle.support.sort_unstable();
-        Ok(circle)
-    })
+    run_supported(points, Weights::Unit, labels, on_error, |group| Ok(solve(group.points, options.seed)))
+}
+
+impl Supported for Circle {
+    fn support_mut(&mut self) -> &mut Vec<usize> {
+        &mut self.support
+    }
 }
 
 /// A trial circle in the local frame, as centre and squared radius, with its defining points.
@@ -132,7 +132,10 @@ impl Trial {
         let twice_area = orient2d(p.0, q.0, r.0);
         if twice_area == 0.0 {
             let candidates = [Trial::two(p, q), Trial::two(p, r), Trial::two(q, r)];
-            return candidates.into_iter().max_by(|a, b| a.radius_squared.total_cmp(&b.radius_squared)).unwrap_or(Trial::two(p, q));
+            return candidates
+                .into_iter()
+                .max_by(|a, b| a.radius_squared.total_cmp(&b.radius_squared))
+                .unwrap_or(Trial::two(p, q));
         }
         let b = sub(q.0, p.0);
         let c = sub(r.0, p.0);
@@ -140,9 +143,8 @@ impl Trial {
         let d = 2.0 * twice_area;
         let offset = [(c[1] * bb - b[1] * cc) / d, (b[0] * cc - c[0] * bb) / d];
         let center = add(p.0, offset);
-        let radius_squared = distance_squared(p.0, center)
-            .max(distance_squared(q.0, center))
-            .max(distance_squared(r.0, center));
+        let radius_squared =
+            distance_squared(p.0, center).max(distance_squared(q.0, center)).max(distance_squared(r.0, center));
         Trial { center, radius_squared, support: [p.1, q.1, r.1], support_len: 3 }
     }
 }
@@ -180,26 +182,33 @@ fn move_to_front(list: &mut [(Point, usize)]) -> Trial {
 }
 
 /// Solve. `points` is validated and not empty.
-pub(crate) fn solve(points: &[Point], seed: u64) -> Circle {
-    let bbox = BoundingBox::of(points).expect("points is not empty");
-    let origin = bbox.center();
-    let factor = power_of_two_factor((bbox.max[0] - bbox.min[0]).max(bbox.max[1] - bbox.min[1]));
+pub(super) fn solve(points: &[Point], seed: u64) -> Circle {
+    let frame = WorkingFrame::of(points);
     // The circle depends only on the hull's vertices: shuffle just the points that may be one.
     let mut list: Vec<(Point, usize)> =
-        hull_candidates(points).into_iter().map(|i| (scale(sub(points[i], origin), factor), i)).collect();
+        hull_candidates(points).into_iter().map(|i| (frame.to_local(points[i]), i)).collect();
     SplitMix64::new(seed).shuffle(&mut list);
     let trial = move_to_front(&mut list);
     drop(list);
-    let center = add(scale(trial.center, 1.0 / factor), origin);
-    let radius = scaled_max_distance(points, center, factor, |_| 1.0);
+    let center = frame.to_world(trial.center);
+    let radius = scaled_max_distance(points, center, frame, |_| 1.0);
     let mut support = trial.support[..trial.support_len].to_vec();
     support.sort_unstable();
-    Circle { center, radius, support }
+    Circle { center, radius, area: std::f64::consts::PI * radius * radius, support }
 }
 
-/// `maxᵢ wᵢ‖pᵢ − center‖` over points of positive weight, evaluated in the frame scaled by
-/// `factor` (exact) so that the squares neither overflow nor underflow.
-pub(crate) fn scaled_max_distance(points: &[Point], center: Point, factor: f64, weight: impl Fn(usize) -> f64) -> f64 {
+/// `maxᵢ wᵢ‖pᵢ − center‖` over points of positive weight, in the caller's coordinates.
+///
+/// Why not in the shifted frame: the reported radius must cover the points as given, so it
+/// is measured without the shift's rounding; only the frame's power-of-two scale is applied
+/// (exact), so the squares neither overflow nor underflow.
+pub(super) fn scaled_max_distance(
+    points: &[Point],
+    center: Point,
+    frame: WorkingFrame,
+    weight: impl Fn(usize) -> f64,
+) -> f64 {
+    let factor = frame.factor;
     let c = scale(center, factor);
     let mut largest = 0.0f64;
     for (i, &p) in points.iter().enumerate() {
@@ -208,7 +217,7 @@ pub(crate) fn scaled_max_distance(points: &[Point], center: Point, factor: f64, 
             largest = largest.max(w * w * distance_squared(scale(p, factor), c));
         }
     }
-    largest.sqrt() / factor
+    frame.world_length(largest.sqrt())
 }
 
 #[cfg(test)]
@@ -275,7 +284,8 @@ mod tests {
         let c = enclosing_circle(&line).unwrap();
         assert!((c.radius - 0.5 * distance(line[0], line[996])).abs() <= 1e-12 * c.radius);
         assert!(covers(&line, &c));
-        let rim: Vec<Point> = (0..4000).map(|k| [(k as f64 * 0.01).cos() * 7.0, (k as f64 * 0.01).sin() * 7.0]).collect();
+        let rim: Vec<Point> =
+            (0..4000).map(|k| [(k as f64 * 0.01).cos() * 7.0, (k as f64 * 0.01).sin() * 7.0]).collect();
         let c = enclosing_circle(&rim).unwrap();
         assert!((c.radius - 7.0).abs() <= 1e-12 * 7.0 && covers(&rim, &c));
     }

@@ -16,15 +16,19 @@
 //! approximate complementarity), so the points that carry weight are on the boundary.
 //!
 //! The ellipse depends only on the convex hull's vertices, so the iteration runs on those
-//! (see [`crate::geometry::hull`]), in a frame centred on the bounding box and scaled to unit
-//! size.
+//! (see [`crate::geometry::hull`]), in their [`WorkingFrame`] (centred on the bounding box
+//! and scaled by a power of two to unit size). The 2×2 algebra (the covariance's inverse,
+//! the eigen-decomposition of the final form) is nalgebra's.
 
-use crate::batch::{run_grouped, Grouped, OnGroupError};
+use nalgebra::{Matrix2, SymmetricEigen, Vector2};
+
+use super::{run_supported, Supported};
+use crate::batch::{Grouped, OnGroupError};
 use crate::error::{Error, Result};
 use crate::geometry::hull::hull_vertices;
-use crate::geometry::{add, power_of_two_factor, scale, sub, validate_points, BoundingBox, Point, Weights};
+use crate::geometry::{scale, sub, validate_points, Point, Weights, WorkingFrame};
 
-/// Iteration limit; the certified `gap` is reported whether or not it was reached.
+/// Iteration limit; the certified `relative_gap` is reported whether or not it was reached.
 const MAX_ITERATIONS: usize = 200_000;
 
 /// The minimum-area ellipse enclosing a point set.
@@ -34,20 +38,23 @@ pub struct Ellipse {
     pub center: Point,
     /// Symmetric positive definite `A` with `(x − c)ᵀ A (x − c) ≤ 1` for every input point.
     pub shape: [[f64; 2]; 2],
-    /// Semi-axis lengths, major first.
-    pub semi_axes: [f64; 2],
-    /// Direction of the major axis, radians from +x, in `(−π/2, π/2]`.
+    /// Length of the semi-major axis.
+    pub semi_major: f64,
+    /// Length of the semi-minor axis (`≤ semi_major`).
+    pub semi_minor: f64,
+    /// Direction of the major axis in degrees counter-clockwise from the +x axis, in
+    /// `(−90, 90]`; 0 for a circle.
     pub angle: f64,
-    /// `π · major · minor`.
+    /// `π · semi_major · semi_minor`.
     pub area: f64,
     /// Indices of the input points (hull vertices) that carry the dual weight, in
     /// increasing order; they lie on the boundary up to `tol`.
     pub support: Vec<usize>,
     /// Certified bound on `area / (minimum area) − 1`.
-    pub gap: f64,
+    pub relative_gap: f64,
     /// Iterations (coordinate steps) taken.
     pub iterations: usize,
-    /// True when `gap ≤ tol` was reached within the iteration limit.
+    /// True when `relative_gap ≤ tol` was reached within the iteration limit.
     pub converged: bool,
 }
 
@@ -82,14 +89,13 @@ pub fn enclosing_ellipses(
     on_error: OnGroupError,
 ) -> Result<Grouped<Ellipse>> {
     validate_tol(tol)?;
-    run_grouped(points, Weights::Unit, labels, on_error, |group| {
-        let mut e = solve(group.points, tol)?;
-        for s in &mut e.support {
-            *s = group.members[*s];
-        }
-        e.support.sort_unstable();
-        Ok(e)
-    })
+    run_supported(points, Weights::Unit, labels, on_error, |group| solve(group.points, tol))
+}
+
+impl Supported for Ellipse {
+    fn support_mut(&mut self) -> &mut Vec<usize> {
+        &mut self.support
+    }
 }
 
 fn validate_tol(tol: f64) -> Result<()> {
@@ -99,34 +105,33 @@ fn validate_tol(tol: f64) -> Result<()> {
     Ok(())
 }
 
-/// Mean, covariance (xx, xy, yy) and its inverse of the points under weights `u`.
+/// Mean, covariance `Σ(u)` and its inverse of the points under weights `u`.
 struct Moments {
-    mean: Point,
-    inverse: [f64; 3],
+    mean: Vector2<f64>,
+    /// `Σ⁻¹`; NaN when `Σ` is singular (then no distance is finite and the iteration stops).
+    inverse: Matrix2<f64>,
     det: f64,
 }
 
 fn moments(q: &[Point], u: &[f64]) -> Moments {
-    let (mut mx, mut my) = (0.0, 0.0);
-    for (p, &w) in q.iter().zip(u) {
-        mx += w * p[0];
-        my += w * p[1];
-    }
-    let (mut sxx, mut sxy, mut syy) = (0.0, 0.0, 0.0);
-    for (p, &w) in q.iter().zip(u) {
-        let (dx, dy) = (p[0] - mx, p[1] - my);
-        sxx += w * dx * dx;
-        sxy += w * dx * dy;
-        syy += w * dy * dy;
-    }
-    let det = sxx * syy - sxy * sxy;
-    Moments { mean: [mx, my], inverse: [syy / det, -sxy / det, sxx / det], det }
+    let mean: Vector2<f64> = q.iter().zip(u).map(|(p, &w)| Vector2::new(p[0], p[1]) * w).sum();
+    let covariance: Matrix2<f64> = q
+        .iter()
+        .zip(u)
+        .map(|(p, &w)| {
+            let d = Vector2::new(p[0], p[1]) - mean;
+            d * d.transpose() * w
+        })
+        .sum();
+    let inverse = covariance.try_inverse().unwrap_or_else(|| Matrix2::from_element(f64::NAN));
+    Moments { mean, inverse, det: covariance.determinant() }
 }
 
+/// The squared Mahalanobis distance `(p − c)ᵀ Σ⁻¹ (p − c)`.
 #[inline]
 fn mahalanobis(m: &Moments, p: Point) -> f64 {
-    let (dx, dy) = (p[0] - m.mean[0], p[1] - m.mean[1]);
-    m.inverse[0] * dx * dx + 2.0 * m.inverse[1] * dx * dy + m.inverse[2] * dy * dy
+    let d = Vector2::new(p[0], p[1]) - m.mean;
+    d.dot(&(m.inverse * d))
 }
 
 fn degenerate_input(points: &[Point], hull: &[usize]) -> Error {
@@ -158,10 +163,10 @@ fn solve(points: &[Point], tol: f64) -> Result<Ellipse> {
         return Err(degenerate_input(points, &hull));
     }
     let hull_points: Vec<Point> = hull.iter().map(|&i| points[i]).collect();
-    let bbox = BoundingBox::of(&hull_points).expect("hull is not empty");
-    let origin = bbox.center();
-    let factor = power_of_two_factor((bbox.max[0] - bbox.min[0]).max(bbox.max[1] - bbox.min[1]));
-    let q: Vec<Point> = hull_points.iter().map(|&p| scale(sub(p, origin), factor)).collect();
+    // The hull's bounding box is the set's, so this is the points' own working frame.
+    let frame = WorkingFrame::of(&hull_points);
+    let factor = frame.factor;
+    let q = frame.local(&hull_points);
     let h = q.len();
 
     // Kumar–Yildirim start: extremes along x, then along the normal of that pair.
@@ -240,61 +245,77 @@ fn solve(points: &[Point], tol: f64) -> Result<Ellipse> {
 
     let m = moments(&q, &u);
     let reach = (0..h).map(|k| mahalanobis(&m, q[k])).fold(0.0f64, f64::max);
-    let center = add(scale(m.mean, 1.0 / factor), origin);
+    let center = frame.to_world([m.mean.x, m.mean.y]);
     // The form in the unit frame; cover exactly in the caller's coordinates (the frame
-    // change rounds), evaluating there with the same exact scaling.
-    let mut local = [m.inverse[0] / reach, m.inverse[1] / reach, m.inverse[2] / reach];
+    // change rounds), evaluating there with only the frame's exact power-of-two scaling.
+    let mut local = m.inverse / reach;
     let c_scaled = scale(center, factor);
-    let worst = points.iter().map(|&p| form(local, sub(scale(p, factor), c_scaled))).fold(0.0f64, f64::max);
+    let worst = points.iter().map(|&p| form(&local, sub(scale(p, factor), c_scaled))).fold(0.0f64, f64::max);
     if worst > 1.0 {
-        for v in &mut local {
-            *v /= worst;
-        }
+        local /= worst;
     }
-    let f2 = factor * factor;
-    let shape = [local[0] * f2, local[1] * f2, local[2] * f2];
-    let local_det = local[0] * local[2] - local[1] * local[1];
-    if !(shape.iter().all(|v| v.is_finite()) && local_det > 0.0 && shape[0] * shape[2] - shape[1] * shape[1] > 0.0) {
+    let shape = local * (factor * factor);
+    let local_det = local.determinant();
+    let det = shape.determinant();
+    if !(shape.iter().all(|v| v.is_finite()) && local_det > 0.0 && det > 0.0) {
         return Err(Error::Degenerate {
             argument: "points",
             reason: "the ellipse's matrix is not representable in floating point at this coordinate scale".into(),
         });
     }
-    let [a, b, c] = shape;
-    let det = a * c - b * b;
     let area = std::f64::consts::PI / det.sqrt();
     // Relative gap in the unit frame (the ratio is scale-free): π/√det(local) over 2π√det Σ.
-    let gap = (0.5 / (local_det.sqrt() * m.det.sqrt()) - 1.0).max(0.0);
-    // Eigen-decomposition of the 2×2 form: the major axis belongs to the smaller eigenvalue.
-    let mean_eig = 0.5 * (a + c);
-    let spread = (0.5 * (a - c)).hypot(b);
-    let large = mean_eig + spread;
-    let small = det / large;
-    let mut angle = 0.5 * (2.0 * b).atan2(a - c) + std::f64::consts::FRAC_PI_2;
-    if angle > std::f64::consts::FRAC_PI_2 {
-        angle -= std::f64::consts::PI;
-    }
-    if spread == 0.0 {
-        angle = 0.0;
-    }
+    let relative_gap = (0.5 / (local_det.sqrt() * m.det.sqrt()) - 1.0).max(0.0);
+    let (semi_major, semi_minor, angle) = axes(shape, det);
     let mut support: Vec<usize> = (0..h).filter(|&k| u[k] > 0.0).map(|k| hull[k]).collect();
     support.sort_unstable();
     Ok(Ellipse {
         center,
-        shape: [[a, b], [b, c]],
-        semi_axes: [1.0 / small.sqrt(), 1.0 / large.sqrt()],
+        shape: [[shape[(0, 0)], shape[(0, 1)]], [shape[(1, 0)], shape[(1, 1)]]],
+        semi_major,
+        semi_minor,
         angle,
         area,
         support,
-        gap,
+        relative_gap,
         iterations,
-        converged: converged && gap <= tol,
+        converged: converged && relative_gap <= tol,
     })
 }
 
+/// Semi-major axis, semi-minor axis and the major axis's direction (degrees
+/// counter-clockwise from +x, in `(−90, 90]`) of `{d : dᵀ A d ≤ 1}`, from the
+/// eigen-decomposition of the positive definite `A` (determinant `det`): a semi-axis is
+/// `1/√λ` along its eigenvector, so the major axis belongs to the smaller eigenvalue.
+fn axes(shape: Matrix2<f64>, det: f64) -> (f64, f64, f64) {
+    let eigen = SymmetricEigen::new(shape);
+    let (minor, major) = if eigen.eigenvalues[0] <= eigen.eigenvalues[1] { (1, 0) } else { (0, 1) };
+    let large = eigen.eigenvalues[minor];
+    // The smaller eigenvalue from the determinant: relatively accurate however elongated the
+    // ellipse (the difference of the quadratic formula cancels).
+    let small = det / large;
+    let direction = eigen.eigenvectors.column(major);
+    let mut angle = direction.y.atan2(direction.x).to_degrees();
+    if angle > 90.0 {
+        angle -= 180.0;
+    } else if angle <= -90.0 {
+        angle += 180.0;
+    }
+    if eigen.eigenvalues[0] == eigen.eigenvalues[1] {
+        // A circle: every direction is an axis; report the +x axis.
+        angle = 0.0;
+    }
+    (1.0 / small.sqrt(), 1.0 / large.sqrt(), angle)
+}
+
+/// `dᵀ A d`, expanded as `a dx² + 2b dx dy + c dy²`.
+///
+/// Why expanded rather than `d · (A d)`: for a thin ellipse the terms cancel, so the last
+/// bits depend on the order of evaluation; the cover is certified in this, the textbook
+/// order of the quadratic form (the one the documentation states and callers write).
 #[inline]
-fn form(shape: [f64; 3], d: Point) -> f64 {
-    shape[0] * d[0] * d[0] + 2.0 * shape[1] * d[0] * d[1] + shape[2] * d[1] * d[1]
+fn form(shape: &Matrix2<f64>, d: Point) -> f64 {
+    shape[(0, 0)] * d[0] * d[0] + 2.0 * shape[(0, 1)] * d[0] * d[1] + shape[(1, 1)] * d[1] * d[1]
 }
 
 #[cfg(test)]
@@ -304,7 +325,7 @@ mod tests {
 
     fn value(e: &Ellipse, p: Point) -> f64 {
         let d = sub(p, e.center);
-        form([e.shape[0][0], e.shape[0][1], e.shape[1][1]], d)
+        e.shape[0][0] * d[0] * d[0] + 2.0 * e.shape[0][1] * d[0] * d[1] + e.shape[1][1] * d[1] * d[1]
     }
 
     #[test]
@@ -321,7 +342,7 @@ mod tests {
         let want_area = 4.0 * std::f64::consts::PI / (3.0 * 3f64.sqrt()) * 0.5;
         assert!((e.area - want_area).abs() < 1e-9 * want_area);
         assert_eq!(e.support, vec![0, 1, 2]);
-        assert!(e.converged && e.gap <= 1e-10);
+        assert!(e.converged && e.relative_gap <= 1e-10);
     }
 
     #[test]
@@ -331,9 +352,9 @@ mod tests {
         let (a, b) = (6.0, 2.0);
         let pts = [[0.0, 0.0], [a, 0.0], [a, b], [0.0, b], [1.0, 1.0], [3.0, 0.0]];
         let e = enclosing_ellipse(&pts, 1e-10).unwrap();
-        assert!((e.semi_axes[0] - a / 2f64.sqrt()).abs() < 1e-8 * a);
-        assert!((e.semi_axes[1] - b / 2f64.sqrt()).abs() < 1e-8 * b);
-        assert!(e.angle.abs() < 1e-8);
+        assert!((e.semi_major - a / 2f64.sqrt()).abs() < 1e-8 * a);
+        assert!((e.semi_minor - b / 2f64.sqrt()).abs() < 1e-8 * b);
+        assert!(e.angle.abs() < 1e-6);
         assert_eq!(e.support, vec![0, 1, 2, 3]);
     }
 
@@ -344,7 +365,7 @@ mod tests {
             (0..5000).map(|_| [500_000.0 + 30.0 * g.next_f64(), 6_000_000.0 + 10.0 * g.next_f64()]).collect();
         let tol = 1e-7;
         let e = enclosing_ellipse(&pts, tol).unwrap();
-        assert!(e.converged && e.gap <= tol);
+        assert!(e.converged && e.relative_gap <= tol);
         assert!(pts.iter().all(|&p| value(&e, p) <= 1.0 + 1e-12));
         for &s in &e.support {
             assert!(value(&e, pts[s]) >= 1.0 - 4.0 * tol, "{}", value(&e, pts[s]));
@@ -363,6 +384,19 @@ mod tests {
     }
 
     #[test]
+    fn a_degenerate_group_is_skipped_and_the_others_solved() {
+        // A one-point group has no ellipse: with Skip it becomes that group's outcome
+        // (labelled with the group), and the triangle group is still solved.
+        let pts = [[0.0, 0.0], [5.0, 5.0], [1.0, 0.0], [0.0, 1.0]];
+        let g = enclosing_ellipses(&pts, &[1, 2, 1, 1], 1e-9, OnGroupError::Skip).unwrap();
+        assert_eq!(g.labels, vec![1, 2]);
+        assert_eq!(g.results[0].as_ref().unwrap().support, vec![0, 2, 3]);
+        let e = g.results[1].as_ref().unwrap_err();
+        assert_eq!(e.to_string(), "group 2: points must hold at least 3 distinct points; got 1");
+        assert!(enclosing_ellipses(&pts, &[1, 2, 1, 1], 1e-9, OnGroupError::Raise).is_err());
+    }
+
+    #[test]
     fn rotated_ellipse_points_give_that_ellipse() {
         // Points on an ellipse (semi-axes 5 and 2, major axis at 0.6 rad) spread all round it:
         // the ellipse itself is the smallest one containing them (it is the MVEE of its own
@@ -376,8 +410,8 @@ mod tests {
             })
             .collect();
         let e = enclosing_ellipse(&pts, 1e-12).unwrap();
-        assert!((e.semi_axes[0] - ra).abs() < 1e-8 && (e.semi_axes[1] - rb).abs() < 1e-8, "{:?}", e.semi_axes);
-        assert!((e.angle - th).abs() < 1e-8);
+        assert!((e.semi_major - ra).abs() < 1e-8 && (e.semi_minor - rb).abs() < 1e-8, "{e:?}");
+        assert!((e.angle - th.to_degrees()).abs() < 1e-6);
     }
 
     proptest::proptest! {
@@ -390,7 +424,7 @@ mod tests {
             match enclosing_ellipse(&pts, tol) {
                 Ok(e) => {
                     proptest::prop_assert!(pts.iter().all(|&p| value(&e, p) <= 1.0 + 1e-12));
-                    proptest::prop_assert!(e.converged && e.gap <= tol);
+                    proptest::prop_assert!(e.converged && e.relative_gap <= tol);
                     for &s in &e.support {
                         proptest::prop_assert!(value(&e, pts[s]) >= 1.0 - 4.0 * tol);
                     }

@@ -18,13 +18,12 @@
 //! When all positive weights are equal, the answer is the smallest enclosing circle's centre
 //! (see [`super::circle`]), computed by Welzl's expected-linear method instead.
 
-use super::circle;
-use crate::batch::{run_grouped, Grouped, OnGroupError};
+use super::{circle, run_supported, Supported};
+use crate::batch::{Grouped, OnGroupError};
 use crate::error::Result;
 use crate::geometry::predicates::orient2d;
 use crate::geometry::{
-    add, distance_squared, power_of_two_factor, scale, sub, validate_points, validate_weights, BoundingBox, Point,
-    Weights,
+    add, distance_squared, scale, sub, validate_points, validate_weights, Point, Weights, WorkingFrame,
 };
 
 /// A point counts as uncovered only when its weighted squared distance exceeds the squared
@@ -76,32 +75,27 @@ pub fn minimax_points(
     labels: &[i64],
     on_error: OnGroupError,
 ) -> Result<Grouped<MinimaxPoint>> {
-    run_grouped(points, weights, labels, on_error, |group| {
-        let mut m = minimax_point(group.points, group.weights)?;
-        for s in &mut m.support {
-            *s = group.members[*s];
-        }
-        m.support.sort_unstable();
-        Ok(m)
-    })
+    run_supported(points, weights, labels, on_error, |group| Ok(solve(group.points, group.weights)))
+}
+
+impl Supported for MinimaxPoint {
+    fn support_mut(&mut self) -> &mut Vec<usize> {
+        &mut self.support
+    }
 }
 
 /// Solve; inputs are validated.
-pub(crate) fn solve(points: &[Point], weights: Weights<'_>) -> MinimaxPoint {
+fn solve(points: &[Point], weights: Weights<'_>) -> MinimaxPoint {
     let active: Vec<usize> = (0..points.len()).filter(|&i| weights.get(i) > 0.0).collect();
     let first_weight = weights.get(active[0]);
     if active.iter().all(|&i| weights.get(i) == first_weight) {
         return equal_weights(points, &active, first_weight);
     }
-    let bbox = BoundingBox::of(&active.iter().map(|&i| points[i]).collect::<Vec<_>>()).expect("a point is active");
-    let origin = bbox.center();
-    let factor = power_of_two_factor((bbox.max[0] - bbox.min[0]).max(bbox.max[1] - bbox.min[1]));
+    let frame = WorkingFrame::of(&active.iter().map(|&i| points[i]).collect::<Vec<_>>());
     let w_max = active.iter().map(|&i| weights.get(i)).fold(0.0f64, f64::max);
     // Local frame of unit size, weights scaled to at most 1: (point, weight, input index).
-    let sites: Vec<Site> = active
-        .iter()
-        .map(|&i| Site { at: scale(sub(points[i], origin), factor), w: weights.get(i) / w_max, index: i })
-        .collect();
+    let sites: Vec<Site> =
+        active.iter().map(|&i| Site { at: frame.to_local(points[i]), w: weights.get(i) / w_max, index: i }).collect();
 
     // Start from the heaviest site alone.
     let start = (0..sites.len()).max_by(|&a, &b| sites[a].w.total_cmp(&sites[b].w)).unwrap_or(0);
@@ -111,14 +105,16 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>) -> MinimaxPoint {
         if worst_value <= basis.radius_squared * (1.0 + UNCOVERED_MARGIN) {
             break;
         }
-        let Some(next) = pivot(&sites, &basis.members, worst) else { break };
+        let Some(next) = pivot(&sites, &basis.members, worst) else {
+            break;
+        };
         if next.radius_squared <= basis.radius_squared {
             break;
         }
         basis = next;
     }
-    let location = add(scale(basis.location, 1.0 / factor), origin);
-    let radius = circle::scaled_max_distance(points, location, factor, |i| weights.get(i));
+    let location = frame.to_world(basis.location);
+    let radius = circle::scaled_max_distance(points, location, frame, |i| weights.get(i));
     let mut support: Vec<usize> = basis.members.iter().map(|&m| sites[m].index).collect();
     support.sort_unstable();
     MinimaxPoint { location, radius, support }
@@ -271,13 +267,15 @@ mod tests {
     }
 
     #[test]
-    fn unit_weights_give_the_enclosing_circle_centre() {
-        let mut g = SplitMix64::new(5);
-        let pts: Vec<Point> = (0..300).map(|_| [g.next_f64(), g.next_f64()]).collect();
-        let m = minimax_point(&pts, Weights::Unit).unwrap();
-        let c = circle::enclosing_circle(&pts).unwrap();
-        assert_eq!(m.location, c.center);
-        assert_eq!(m.radius, c.radius);
+    fn equal_weights_give_the_circumcentre_of_an_acute_triangle() {
+        // Closed form: with equal weights w the optimum of an acute triangle is its
+        // circumcentre and the radius w times the circumradius; for (0,0), (4,0), (1,3) the
+        // circumcentre is (2, 1) and the circumradius √5.
+        let pts = [[0.0, 0.0], [4.0, 0.0], [1.0, 3.0], [2.0, 1.5]];
+        let m = minimax_point(&pts, Weights::Given(&[3.0, 3.0, 3.0, 3.0])).unwrap();
+        assert!(distance(m.location, [2.0, 1.0]) <= 1e-14);
+        assert!((m.radius - 3.0 * 5f64.sqrt()).abs() <= 1e-14);
+        assert_eq!(m.support, vec![0, 1, 2]);
     }
 
     #[test]

@@ -6,14 +6,19 @@
 pub struct UnionFind {
     parent: Vec<u32>,
     size: Vec<u32>,
-    sets: usize,
 }
 
 impl UnionFind {
     /// `n` singleton sets.
     pub fn new(n: usize) -> UnionFind {
-        assert!(n <= u32::MAX as usize, "union-find supports at most 2^32 - 1 elements");
-        UnionFind { parent: (0..n as u32).collect(), size: vec![1; n], sets: n }
+        assert!(
+            n <= u32::MAX as usize,
+            "union-find supports at most 2^32 - 1 elements"
+        );
+        UnionFind {
+            parent: (0..n as u32).collect(),
+            size: vec![1; n],
+        }
     }
 
     /// The representative of `x`'s set.
@@ -39,13 +44,7 @@ impl UnionFind {
         }
         self.parent[rb] = ra as u32;
         self.size[ra] += self.size[rb];
-        self.sets -= 1;
         true
-    }
-
-    /// Number of disjoint sets.
-    pub fn set_count(&self) -> usize {
-        self.sets
     }
 }
 
@@ -54,16 +53,14 @@ mod tests {
     use super::*;
 
     #[test]
-    fn unions_merge_sets_and_count_them() {
+    fn unions_merge_sets() {
         let mut uf = UnionFind::new(5);
         assert!(uf.union(0, 1));
         assert!(uf.union(3, 4));
         assert!(!uf.union(1, 0));
-        assert_eq!(uf.set_count(), 3);
         assert_eq!(uf.find(0), uf.find(1));
         assert_ne!(uf.find(1), uf.find(3));
         assert!(uf.union(1, 4));
         assert_eq!(uf.find(0), uf.find(3));
-        assert_eq!(uf.set_count(), 2);
     }
 }

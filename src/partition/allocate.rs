@@ -1,5 +1,5 @@
-//! Nearest-site allocation: every demand point to its closest site, with the demand load of
-//! each site and the total weighted distance.
+//! Nearest-site allocation: every demand point to its closest site, with the demand load and
+//! point count of each site's catchment and the total weighted distance.
 //!
 //! The sites go into an R*-tree (Beckmann et al. 1990) built by `rstar`'s bulk load
 //! (sort-tile-recursive, Leutenegger et al. 1997). When the sites span an area, the tree
@@ -14,9 +14,12 @@ use rstar::primitives::GeomWithData;
 use rstar::RTree;
 
 use super::delaunay::delaunay;
+use crate::batch::{run_paired, Grouped, OnGroupError, RowPlaces};
 use crate::error::Result;
 use crate::geometry::predicates::all_collinear;
-use crate::geometry::{distance, distance_squared, validate_points, validate_weights, BoundingBox, CompensatedSum, Point, Weights};
+use crate::geometry::{
+    distance, distance_squared, validate_points, validate_weights, BoundingBox, CompensatedSum, Point, Weights,
+};
 
 /// Which site serves each point, how far away it is and how much demand each site gets.
 #[derive(Debug, Clone, PartialEq)]
@@ -27,8 +30,12 @@ pub struct Allocation {
     pub distance: Vec<f64>,
     /// `load[j]`: summed weight of the points allocated to site `j`.
     pub load: Vec<f64>,
+    /// `count[j]`: number of points allocated to site `j`.
+    pub count: Vec<usize>,
     /// `Σ wᵢ · distance[i]`.
     pub cost: f64,
+    /// `Σ wᵢ`: the demand allocated, summed once (compensated) rather than from the loads.
+    pub total_load: f64,
 }
 
 type Site = GeomWithData<Point, usize>;
@@ -201,6 +208,66 @@ pub fn nearest_site(points: &[Point], sites: &[Point], weights: Weights<'_>) -> 
     Ok(allocate(points, &index, weights))
 }
 
+/// [`nearest_site`] for every group of demand points, each served by the sites of the same
+/// label (see [`crate::batch::run_paired`]).
+#[derive(Debug, Clone)]
+pub struct SiteAllocations {
+    /// Per group (every label of the points or the sites, sorted): its allocation, with
+    /// `index` naming input rows of the sites and `load`, `count` following the group's sites
+    /// in input order.
+    pub grouped: Grouped<Allocation>,
+    /// Where every demand row sits (its group, its place among the group's points).
+    pub points: RowPlaces,
+    /// Where every site row sits.
+    pub sites: RowPlaces,
+}
+
+/// Allocate every group of demand points to its nearest site among the sites of its own
+/// label, in parallel.
+///
+/// Each group's allocation is what a separate call on its points and its sites gives, with
+/// the site index mapped to the site's input row. A label with points but no sites is that
+/// group's error; a label with sites but no points is solved: its sites serve nobody (load
+/// and count 0, cost 0).
+///
+/// # Errors
+/// [`crate::Error::LengthMismatch`] when `labels`, `weights` or `site_labels` have the wrong
+/// length, [`crate::Error::TooFewPoints`] for empty points or sites; with
+/// [`OnGroupError::Raise`], the errors of [`nearest_site`] for the failing group with the
+/// smallest label, naming input rows (with `Skip`, they are that group's outcome).
+///
+/// # Runtime
+/// That of [`nearest_site`] on each group, the groups in parallel, plus two O(n log n) sorts.
+pub fn nearest_site_grouped(
+    points: &[Point],
+    weights: Weights<'_>,
+    labels: &[i64],
+    sites: &[Point],
+    site_labels: &[i64],
+    on_error: OnGroupError,
+) -> Result<SiteAllocations> {
+    let (grouped, points, sites) =
+        run_paired(points, weights, labels, "sites", sites, site_labels, on_error, |group, served| {
+            if group.points.is_empty() {
+                let k = served.points.len();
+                let (load, count) = (vec![0.0; k], vec![0; k]);
+                return Ok(Allocation { index: vec![], distance: vec![], load, count, cost: 0.0, total_load: 0.0 });
+            }
+            let allocation = nearest_site(group.points, served.points, group.weights)?;
+            Ok(allocation.in_rows(served.members))
+        })?;
+    Ok(SiteAllocations { grouped, points, sites })
+}
+
+impl Allocation {
+    /// The allocation with its site indices mapped to rows of a larger set of sites:
+    /// `rows[j]` is the row of site `j`.
+    fn in_rows(mut self, rows: &[usize]) -> Allocation {
+        self.index.iter_mut().for_each(|j| *j = rows[*j]);
+        self
+    }
+}
+
 /// [`nearest_site`] with a prebuilt site index and already-validated points and weights
 /// (for solvers that allocate the same demand to changing sites many times).
 pub fn allocate(points: &[Point], sites: &SiteIndex, weights: Weights<'_>) -> Allocation {
@@ -216,34 +283,65 @@ pub fn allocate(points: &[Point], sites: &SiteIndex, weights: Weights<'_>) -> Al
             }
         },
     );
-    // Loads and cost are summed over a number of blocks fixed by `n` alone and merged in
+    // Loads and cost are summed over a number of blocks fixed by `n` and `k` alone and merged in
     // block order, so the sums are bit-identical on every run and thread count (a work-
-    // stealing reduction would add in a varying order). At most 2^24 partial loads in all.
+    // stealing reduction would add in a varying order). At most 2^23 partial loads and as many
+    // partial counts in all.
     let k = sites.len();
-    let blocks = (n / (16 * CHUNK)).clamp(1, 64).min((1usize << 24) / k.max(1)).max(1);
+    let blocks = (n / (16 * CHUNK)).clamp(1, 64).min((1usize << 23) / k.max(1)).max(1);
     let block_len = n.div_ceil(blocks).max(1);
-    let partial: Vec<(Vec<f64>, CompensatedSum)> = (0..blocks)
+    let partial: Vec<Totals> = (0..blocks)
         .into_par_iter()
         .map(|b| {
-            let mut load = vec![0.0f64; k];
-            let mut cost = CompensatedSum::default();
+            let mut block = Totals::new(k);
             for i in b * block_len..((b + 1) * block_len).min(n) {
                 let w = weights.get(i);
-                load[index[i]] += w;
-                cost.add(w * dist[i]);
+                block.load[index[i]] += w;
+                block.count[index[i]] += 1;
+                block.cost.add(w * dist[i]);
+                block.demand.add(w);
             }
-            (load, cost)
+            block
         })
         .collect();
-    let mut load = vec![0.0f64; k];
-    let mut cost = CompensatedSum::default();
-    for (block_load, block_cost) in partial {
-        for (total, part) in load.iter_mut().zip(block_load) {
+    let mut totals = Totals::new(k);
+    for block in partial {
+        for (total, part) in totals.load.iter_mut().zip(block.load) {
             *total += part;
         }
-        cost.merge(block_cost);
+        for (total, part) in totals.count.iter_mut().zip(block.count) {
+            *total += part;
+        }
+        totals.cost.merge(block.cost);
+        totals.demand.merge(block.demand);
     }
-    Allocation { index, distance: dist, load, cost: cost.total() }
+    Allocation {
+        index,
+        distance: dist,
+        load: totals.load,
+        count: totals.count,
+        cost: totals.cost.total(),
+        total_load: totals.demand.total(),
+    }
+}
+
+/// Per-site loads and counts, the cost and the demand of a block of points.
+struct Totals {
+    load: Vec<f64>,
+    count: Vec<usize>,
+    cost: CompensatedSum,
+    demand: CompensatedSum,
+}
+
+impl Totals {
+    fn new(k: usize) -> Totals {
+        Totals {
+            load: vec![0.0; k],
+            count: vec![0; k],
+            cost: CompensatedSum::default(),
+            demand: CompensatedSum::default(),
+        }
+    }
 }
 
 #[cfg(test)]
@@ -301,7 +399,30 @@ mod tests {
         let a = nearest_site(&pts, &sites, Weights::Given(&[2.0, 1.0, 0.5])).unwrap();
         assert_eq!(a.index, vec![0, 1, 1]);
         assert_eq!(a.load, vec![2.0, 1.5]);
+        assert_eq!(a.count, vec![1, 2]);
         assert_eq!(a.cost, 2.0 * 1.0 + 1.0 * 1.0 + 0.5 * 2.0);
+        assert_eq!(a.total_load, 3.5);
+    }
+
+    #[test]
+    fn grouped_sites_serve_their_own_label_and_errors_name_input_rows() {
+        // Label 2 has points but no sites; label 5's demand goes to its own far site (row 2),
+        // not to label 1's nearer one (row 0).
+        let pts = [[0.0, 0.0], [1.0, 0.0], [0.5, 0.0], [3.0, 0.0]];
+        let sites = [[0.0, 0.0], [4.0, 0.0], [100.0, 0.0]];
+        let r =
+            nearest_site_grouped(&pts, Weights::Unit, &[1, 5, 2, 1], &sites, &[1, 1, 5], OnGroupError::Skip).unwrap();
+        assert_eq!(r.grouped.labels, vec![1, 2, 5]);
+        let (first, last) = (r.grouped.results[0].as_ref().unwrap(), r.grouped.results[2].as_ref().unwrap());
+        assert_eq!((first.index.clone(), first.count.clone()), (vec![0, 1], vec![1, 1]));
+        assert_eq!((last.index.clone(), last.distance.clone()), (vec![2], vec![99.0]));
+        let e = r.grouped.results[1].as_ref().unwrap_err();
+        assert_eq!(e.to_string(), "group 2: sites must hold at least 1 points; got 0");
+        assert_eq!(r.points.by_row(&r.grouped, usize::MAX, |a, k| a.index[k]), vec![0, 2, usize::MAX, 1]);
+        assert_eq!(r.sites.by_row(&r.grouped, f64::NAN, |a, k| a.load[k]), vec![1.0, 1.0, 1.0]);
+        let w = [1.0, 1.0, 1.0, -2.0];
+        let e = nearest_site_grouped(&pts, Weights::Given(&w), &[1, 5, 2, 1], &sites, &[1, 1, 5], OnGroupError::Raise);
+        assert_eq!(e.unwrap_err().to_string(), "group 1: weights must be finite and >= 0; weights[3] = -2");
     }
 
     #[test]
@@ -335,6 +456,43 @@ mod tests {
                 prop_assert!((a.distance[i] - d).abs() <= 1e-12 * d.max(1.0));
             }
             prop_assert_eq!(a.load.iter().sum::<f64>(), pts.len() as f64);
+            prop_assert_eq!(a.count.iter().sum::<usize>(), pts.len());
+        }
+
+        #[test]
+        fn grouped_equals_separate_calls(
+            sites in proptest::collection::vec((-20i32..20, -20i32..20, 0i64..3), 1..30),
+            pts in proptest::collection::vec((-30i32..30, -30i32..30, 0i64..3, 0u8..4), 1..120),
+        ) {
+            // Each group's allocation from a separate call on its own points and sites, with
+            // the site index mapped to the site's input row here.
+            let (site_xy, site_labels): (Vec<Point>, Vec<i64>) = sites.iter().map(|&(x, y, g)| ([x as f64, y as f64], g)).unzip();
+            let xy: Vec<Point> = pts.iter().map(|&(x, y, _, _)| [x as f64 / 2.0, y as f64 / 2.0]).collect();
+            let labels: Vec<i64> = pts.iter().map(|&(_, _, g, _)| g).collect();
+            let w: Vec<f64> = pts.iter().map(|&(_, _, _, w)| f64::from(w) + 0.5).collect();
+            let r = nearest_site_grouped(&xy, Weights::Given(&w), &labels, &site_xy, &site_labels, OnGroupError::Skip).unwrap();
+            for (&label, outcome) in r.grouped.labels.iter().zip(&r.grouped.results) {
+                let rows: Vec<usize> = (0..xy.len()).filter(|&i| labels[i] == label).collect();
+                let site_rows: Vec<usize> = (0..site_xy.len()).filter(|&j| site_labels[j] == label).collect();
+                let own: Vec<Point> = rows.iter().map(|&i| xy[i]).collect();
+                let own_w: Vec<f64> = rows.iter().map(|&i| w[i]).collect();
+                let own_sites: Vec<Point> = site_rows.iter().map(|&j| site_xy[j]).collect();
+                if rows.is_empty() {
+                    // Sites without demand serve nobody.
+                    let ours = outcome.as_ref().unwrap();
+                    prop_assert!(ours.load.iter().all(|&l| l == 0.0) && ours.count.iter().all(|&c| c == 0));
+                    prop_assert_eq!((ours.load.len(), ours.cost, ours.total_load), (site_rows.len(), 0.0, 0.0));
+                    continue;
+                }
+                match (nearest_site(&own, &own_sites, Weights::Given(&own_w)), outcome) {
+                    (Ok(mut a), Ok(ours)) => {
+                        a.index.iter_mut().for_each(|j| *j = site_rows[*j]);
+                        prop_assert_eq!(&a, ours);
+                    }
+                    (Err(_), Err(ours)) => prop_assert!(site_rows.is_empty(), "{}", ours),
+                    (single, grouped) => prop_assert!(false, "separate {:?}, grouped {:?}", single, grouped),
+                }
+            }
         }
     }
 }

@@ -1,15 +1,35 @@
-//! Service areas: Delaunay triangulation, Voronoi cells clipped to a region, nearest-site
+//! Catchments: Delaunay triangulation, Voronoi cells clipped to a region, nearest-site
 //! allocation.
 //!
 //! - [`delaunay()`]: the Delaunay triangulation, indexed by input row (on `spade`).
 //! - [`voronoi_cells`]: Voronoi cells clipped to a region, with holes and several parts
 //!   (half-plane cuts, then `i_overlay` for non-rectangular regions).
 //! - [`nearest_site`]: every demand point to its closest site, with loads and cost (on `rstar`).
+//!
+//! Each has a grouped form (`*_grouped`) that runs it on every group of a labelled input
+//! through [`crate::batch`].
 
-pub mod allocate;
-pub mod delaunay;
-pub mod voronoi;
+mod allocate;
+mod delaunay;
+mod voronoi;
 
-pub use allocate::{allocate, nearest_site, Allocation, SiteIndex};
-pub use delaunay::{check_triangulation, delaunay, Triangulation};
-pub use voronoi::{voronoi_cells, Region, VoronoiCells};
+pub use allocate::{allocate, nearest_site, nearest_site_grouped, Allocation, SiteAllocations, SiteIndex};
+pub use delaunay::{check_triangulation, delaunay, delaunay_grouped, Triangulation, STRIPS_FROM};
+pub use voronoi::{voronoi_cells, voronoi_cells_grouped, Region, VoronoiCells};
+
+/// Helpers shared by the tests of this family.
+#[cfg(test)]
+pub(crate) mod testing {
+    use crate::geometry::Point;
+
+    /// `n` points uniform in the square `[offset, offset + size]²`, from a linear
+    /// congruential generator (Knuth's MMIX constants) seeded with `seed`.
+    pub(crate) fn lcg_cloud(n: usize, seed: u64, offset: Point, size: f64) -> Vec<Point> {
+        let mut s = seed;
+        let mut next = || {
+            s = s.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+            (s >> 11) as f64 / (1u64 << 53) as f64
+        };
+        (0..n).map(|_| [offset[0] + size * next(), offset[1] + size * next()]).collect()
+    }
+}

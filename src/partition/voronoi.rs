@@ -24,9 +24,12 @@ use rstar::primitives::{GeomWithData, Line};
 use rstar::{RTree, AABB};
 
 use super::delaunay::{delaunay, neighbour_lists};
+use crate::batch::{run_grouped_placed, Grouped, OnGroupError, RowPlaces};
 use crate::error::{Error, Result};
 use crate::geometry::predicates::{all_collinear, orient2d};
-use crate::geometry::{dot, ring_signed_area, sub, validate_points, BoundingBox, Point};
+use crate::geometry::{
+    dot, location_key, ring_signed_area, sub, validate_points, BoundingBox, Point, Weights, WorkingFrame,
+};
 
 /// A study region as closed rings (exteriors and holes alike; a point is inside when it is
 /// enclosed by an odd number of rings). Ring `r` is `vertices[ring_offsets[r]..ring_offsets[r + 1]]`;
@@ -56,67 +59,61 @@ pub struct VoronoiCells {
     pub area: Vec<f64>,
 }
 
-/// Largest magnitude of a coordinate in the local frame: frame coordinates lie in [-1, 1],
-/// so squares and products in the clipping stay far from overflow and underflow.
-fn frame_scale(extent: f64) -> f64 {
-    if extent > 0.0 {
-        2f64.powi(-(extent.log2().ceil() as i32).clamp(-1000, 1000))
-    } else {
-        1.0
-    }
-}
-
-/// Translation to the region's box centre and exact power-of-two scaling to unit size.
-#[derive(Debug, Clone, Copy)]
-struct Frame {
-    origin: Point,
-    scale: f64,
-}
-
-impl Frame {
-    #[inline]
-    fn to_local(self, p: Point) -> Point {
-        let d = sub(p, self.origin);
-        [d[0] * self.scale, d[1] * self.scale]
-    }
-
-    #[inline]
-    fn to_world(self, p: Point) -> Point {
-        [p[0] / self.scale + self.origin[0], p[1] / self.scale + self.origin[1]]
-    }
-}
-
-/// The region's rings with closing repeats removed, and whether it is one axis-aligned rectangle.
-fn region_rings(sites: &[Point], region: Option<Region<'_>>) -> Result<Vec<Vec<Point>>> {
-    let Some(region) = region else {
-        let b = BoundingBox::of(sites).expect("sites validated non-empty");
-        let (w, h) = (b.max[0] - b.min[0], b.max[1] - b.min[1]);
-        // A flat box (sites on one horizontal or vertical line) grows by a tenth of its length
-        // across as well.
-        let grow = 0.1 * w.max(h);
-        if grow <= 0.0 || grow.is_nan() {
-            return Err(Error::Degenerate {
-                argument: "region",
-                reason: "the sites' bounding box has no extent (all sites coincide); pass a region".into(),
-            });
+impl VoronoiCells {
+    /// The cells of a grouped run ([`voronoi_cells_grouped`]) laid out by input row: cell `i`
+    /// is that of site row `i`. The sites of a skipped group have empty cells and a NaN area.
+    pub fn by_row(grouped: &Grouped<VoronoiCells>, places: &RowPlaces) -> VoronoiCells {
+        let mut out = VoronoiCells { vertices: Vec::new(), offsets: vec![0], parts: vec![0], area: Vec::new() };
+        for (&g, &k) in places.group.iter().zip(&places.within) {
+            match &grouped.results[g] {
+                Ok(cells) => {
+                    let (lo, hi) = (cells.offsets[k], cells.offsets[k + 1]);
+                    let shift = out.vertices.len() - lo;
+                    let first = cells.parts.partition_point(|&p| p <= lo);
+                    let last = cells.parts.partition_point(|&p| p <= hi);
+                    out.parts.extend(cells.parts[first..last].iter().map(|&p| p + shift));
+                    out.vertices.extend_from_slice(&cells.vertices[lo..hi]);
+                    out.area.push(cells.area[k]);
+                }
+                Err(_) => out.area.push(f64::NAN),
+            }
+            out.offsets.push(out.vertices.len());
         }
-        let (dx, dy) = (if w > 0.0 { 0.1 * w } else { grow }, if h > 0.0 { 0.1 * h } else { grow });
-        let (lo, hi) = ([b.min[0] - dx, b.min[1] - dy], [b.max[0] + dx, b.max[1] + dy]);
-        return Ok(vec![vec![lo, [hi[0], lo[1]], hi, [lo[0], hi[1]]]]);
-    };
+        out
+    }
+}
+
+/// The default region: the sites' bounding box grown by 10 % on every side.
+fn default_rings(sites: &[Point]) -> Result<Vec<Vec<Point>>> {
+    let b = BoundingBox::of(sites).expect("sites validated non-empty");
+    let (w, h) = (b.max[0] - b.min[0], b.max[1] - b.min[1]);
+    // A flat box (sites on one horizontal or vertical line) grows by a tenth of its length
+    // across as well.
+    let grow = 0.1 * w.max(h);
+    if grow <= 0.0 || grow.is_nan() {
+        return Err(Error::Degenerate {
+            argument: "region",
+            reason: "the sites' bounding box has no extent (all sites coincide); pass a region".into(),
+        });
+    }
+    let (dx, dy) = (if w > 0.0 { 0.1 * w } else { grow }, if h > 0.0 { 0.1 * h } else { grow });
+    let (lo, hi) = ([b.min[0] - dx, b.min[1] - dy], [b.max[0] + dx, b.max[1] + dy]);
+    Ok(vec![vec![lo, [hi[0], lo[1]], hi, [lo[0], hi[1]]]])
+}
+
+/// The region's rings with closing repeats removed (rings of fewer than three vertices
+/// dropped), after checking its vertices and ring offsets.
+fn region_rings(region: Region<'_>) -> Result<Vec<Vec<Point>>> {
     validate_points("region", region.vertices, 0)?;
     let offsets = region.ring_offsets;
     let bad = |reason: String| Error::InvalidParameter { name: "region", reason };
     if offsets.first() != Some(&0) || offsets.last() != Some(&region.vertices.len()) {
-        return Err(bad(format!(
-            "ring offsets must run from 0 to the number of vertices ({})",
-            region.vertices.len()
-        )));
+        return Err(bad(format!("ring offsets must run from 0 to the number of vertices ({})", region.vertices.len())));
     }
     if let Some(r) = offsets.windows(2).position(|w| w[0] > w[1]) {
         return Err(bad(format!("ring offsets must be ascending; offset {} > offset {}", r, r + 1)));
     }
-    Ok(offsets
+    let rings: Vec<Vec<Point>> = offsets
         .windows(2)
         .map(|w| {
             let mut ring = region.vertices[w[0]..w[1]].to_vec();
@@ -126,7 +123,11 @@ fn region_rings(sites: &[Point], region: Option<Region<'_>>) -> Result<Vec<Vec<P
             ring
         })
         .filter(|ring| ring.len() >= 3)
-        .collect())
+        .collect();
+    if rings.is_empty() {
+        return Err(Error::Degenerate { argument: "region", reason: "the region has no area".into() });
+    }
+    Ok(rings)
 }
 
 /// True when the rings are one rectangle with axis-aligned sides.
@@ -147,12 +148,11 @@ fn is_axis_rectangle(rings: &[Vec<Point>]) -> bool {
 /// Refuse repeated sites, naming the first repeat.
 fn check_distinct(sites: &[Point]) -> Result<()> {
     let mut seen: HashMap<(u64, u64), usize> = HashMap::with_capacity(sites.len());
-    for (j, p) in sites.iter().enumerate() {
-        // `+ 0.0` makes -0.0 and 0.0 one key.
-        if let Some(&i) = seen.get(&((p[0] + 0.0).to_bits(), (p[1] + 0.0).to_bits())) {
+    for (j, &p) in sites.iter().enumerate() {
+        if let Some(&i) = seen.get(&location_key(p)) {
             return Err(Error::RepeatedPoint { argument: "sites", row: j, first: i });
         }
-        seen.insert(((p[0] + 0.0).to_bits(), (p[1] + 0.0).to_bits()), j);
+        seen.insert(location_key(p), j);
     }
     Ok(())
 }
@@ -199,7 +199,13 @@ fn clip_to_bisector(poly: &[Point], v: Point, u: Point, out: &mut Vec<Point>) {
 }
 
 /// The cell of `sites[i]` within the convex polygon `start` (all in the local frame).
-fn convex_cell(i: usize, sites: &[Point], adjacent: &[usize], start: &[Point], buffers: &mut (Vec<Point>, Vec<Point>)) -> Vec<Point> {
+fn convex_cell(
+    i: usize,
+    sites: &[Point],
+    adjacent: &[usize],
+    start: &[Point],
+    buffers: &mut (Vec<Point>, Vec<Point>),
+) -> Vec<Point> {
     let (a, b) = buffers;
     a.clear();
     a.extend_from_slice(start);
@@ -256,7 +262,8 @@ impl ClipRegion {
     /// Point-in-region by crossing parity of a ray towards +x (exact orientation tests).
     fn contains(&self, p: Point) -> bool {
         let ray = AABB::from_corners(p, [self.max_x.max(p[0]), p[1]]);
-        let crossings = self.edges.locate_in_envelope_intersecting(ray).filter(|e| ray_crosses(e.geom().from, e.geom().to, p));
+        let crossings =
+            self.edges.locate_in_envelope_intersecting(ray).filter(|e| ray_crosses(e.geom().from, e.geom().to, p));
         crossings.count() % 2 == 1
     }
 
@@ -333,7 +340,7 @@ impl Welder {
     }
 
     fn point(&mut self, p: Point) -> Point {
-        let bits = (p[0].to_bits(), p[1].to_bits());
+        let bits = location_key(p);
         if let Some(&q) = self.exact.get(&bits) {
             return q;
         }
@@ -418,7 +425,8 @@ fn repair(cell: Vec<Vec<Vec<Point>>>) -> Vec<Vec<Vec<Point>>> {
                 [0.5 * (a[0] + b[0]), 0.5 * (a[1] + b[1])]
             })
             .collect();
-        let best = (0..pieces.len()).max_by_key(|&e| midpoints.iter().filter(|&&m| ring_contains(&pieces[e][0], m)).count());
+        let best =
+            (0..pieces.len()).max_by_key(|&e| midpoints.iter().filter(|&&m| ring_contains(&pieces[e][0], m)).count());
         if let Some(e) = best {
             pieces[e].push(hole);
         }
@@ -445,29 +453,64 @@ fn repair(cell: Vec<Vec<Vec<Point>>>) -> Vec<Vec<Vec<Point>>> {
 /// O(n log n) for the triangulation plus O(n) half-plane cuts; with a non-rectangular region,
 /// O(m) more for each of the cells meeting its m-vertex boundary.
 pub fn voronoi_cells(sites: &[Point], region: Option<Region<'_>>) -> Result<VoronoiCells> {
+    let rings = region.map(region_rings).transpose()?;
+    cells_within(sites, rings.as_deref())
+}
+
+/// [`voronoi_cells`] of every group of labelled sites, all clipped to the one `region` (or,
+/// without one, each group to its own sites' grown bounding box), in parallel (see
+/// [`crate::batch`]).
+///
+/// Each group's cells are those a separate call on its sites gives; errors name input rows
+/// (`sites[9] repeats sites[4]`). [`VoronoiCells::by_row`] lays the cells out by input row.
+///
+/// # Errors
+/// The region's own errors ([`Error::NonFiniteCoordinate`], [`Error::InvalidParameter`],
+/// [`Error::Degenerate`] for a region without rings) for the whole run;
+/// [`Error::LengthMismatch`] when `labels` does not have one entry per site; with
+/// [`OnGroupError::Raise`], the errors of [`voronoi_cells`] for the failing group with the
+/// smallest label (with `Skip`, they are that group's outcome).
+///
+/// # Runtime
+/// That of [`voronoi_cells`] on each group, the groups in parallel.
+pub fn voronoi_cells_grouped(
+    sites: &[Point],
+    labels: &[i64],
+    region: Option<Region<'_>>,
+    on_error: OnGroupError,
+) -> Result<(Grouped<VoronoiCells>, RowPlaces)> {
+    let rings = region.map(region_rings).transpose()?;
+    run_grouped_placed("sites", sites, Weights::Unit, labels, on_error, |group| {
+        cells_within(group.points, rings.as_deref())
+    })
+}
+
+/// The cells of `sites` within the region `rings` (checked by [`region_rings`]), or within
+/// their grown bounding box.
+fn cells_within(sites: &[Point], rings: Option<&[Vec<Point>]>) -> Result<VoronoiCells> {
     validate_points("sites", sites, 1)?;
     check_distinct(sites)?;
-    let rings = region_rings(sites, region)?;
-    if rings.is_empty() {
-        return Err(Error::Degenerate { argument: "region", reason: "the region has no area".into() });
-    }
+    let default;
+    let rings = match rings {
+        Some(rings) => rings,
+        None => {
+            default = default_rings(sites)?;
+            &default
+        }
+    };
     let (offsets, adjacent) = neighbours(sites)?;
 
-    let world_box = BoundingBox::of(&rings.concat()).expect("rings are non-empty");
-    let origin = world_box.center();
-    let extent = sites.iter().chain(rings.iter().flatten()).fold(0.0f64, |m, &p| {
-        let d = sub(p, origin);
-        m.max(d[0].abs()).max(d[1].abs())
-    });
-    let frame = Frame { origin, scale: frame_scale(extent) };
-    let local_sites: Vec<Point> = sites.iter().map(|&p| frame.to_local(p)).collect();
-    let local_rings: Vec<Vec<Point>> = rings.iter().map(|r| r.iter().map(|&p| frame.to_local(p)).collect()).collect();
+    // One working frame for the sites and the region: far-offset coordinates lose no digits
+    // in the bisector cuts, and the power-of-two scale keeps squares clear of overflow.
+    let frame = WorkingFrame::of(&sites.iter().chain(rings.iter().flatten()).copied().collect::<Vec<Point>>());
+    let local_sites = frame.local(sites);
+    let local_rings: Vec<Vec<Point>> = rings.iter().map(|r| frame.local(r)).collect();
     let b = BoundingBox::of(&local_rings.concat()).expect("rings are non-empty");
     if !(b.min[0] < b.max[0] && b.min[1] < b.max[1]) {
         return Err(Error::Degenerate { argument: "region", reason: "the region has no area".into() });
     }
     let start = [b.min, [b.max[0], b.min[1]], b.max, [b.min[0], b.max[1]]];
-    let rectangle = is_axis_rectangle(&rings);
+    let rectangle = is_axis_rectangle(rings);
     let clip_region = if rectangle { None } else { Some(ClipRegion::new(&local_rings, b)?) };
 
     let convex: Vec<Vec<Point>> = (0..sites.len())
@@ -500,7 +543,6 @@ pub fn voronoi_cells(sites: &[Point], region: Option<Region<'_>>) -> Result<Voro
         }
     };
 
-    let inverse_area = 1.0 / (frame.scale * frame.scale);
     let total_vertices = pieces.iter().flatten().flatten().map(Vec::len).sum();
     let mut cells = VoronoiCells {
         vertices: Vec::with_capacity(total_vertices),
@@ -516,7 +558,8 @@ pub fn voronoi_cells(sites: &[Point], region: Option<Region<'_>>) -> Result<Voro
             cells.vertices.extend(ring.iter().map(|&p| frame.to_world(p)));
             cells.parts.push(cells.vertices.len());
         }
-        cells.area.push(area * inverse_area);
+        // Areas scale by the factor squared: divided twice, so the square cannot overflow.
+        cells.area.push(frame.world_length(frame.world_length(area)));
         cells.offsets.push(cells.vertices.len());
     }
     Ok(cells)
@@ -525,15 +568,7 @@ pub fn voronoi_cells(sites: &[Point], region: Option<Region<'_>>) -> Result<Voro
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    fn lcg_cloud(n: usize, seed: u64, offset: Point, size: f64) -> Vec<Point> {
-        let mut s = seed;
-        let mut next = || {
-            s = s.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
-            (s >> 11) as f64 / (1u64 << 53) as f64
-        };
-        (0..n).map(|_| [offset[0] + size * next(), offset[1] + size * next()]).collect()
-    }
+    use crate::partition::testing::lcg_cloud;
 
     fn ring_of(cells: &VoronoiCells, i: usize) -> Vec<&[Point]> {
         let (lo, hi) = (cells.offsets[i], cells.offsets[i + 1]);
@@ -549,7 +584,12 @@ mod tests {
     fn voronoi_cells_of_a_box_sum_to_its_area_and_hold_their_sites() {
         for offset in [[0.0, 0.0], [500_000.0, 6_000_000.0]] {
             let sites = lcg_cloud(500, 5, offset, 100.0);
-            let square = [offset, [offset[0] + 100.0, offset[1]], [offset[0] + 100.0, offset[1] + 100.0], [offset[0], offset[1] + 100.0]];
+            let square = [
+                offset,
+                [offset[0] + 100.0, offset[1]],
+                [offset[0] + 100.0, offset[1] + 100.0],
+                [offset[0], offset[1] + 100.0],
+            ];
             let region = Region { vertices: &square, ring_offsets: &[0, 4] };
             let cells = voronoi_cells(&sites, Some(region)).unwrap();
             let total: f64 = cells.area.iter().sum();
@@ -657,6 +697,71 @@ mod tests {
         let cells = voronoi_cells(&sites, Some(Region { vertices: &square, ring_offsets: &[0, 4] })).unwrap();
         for a in &cells.area {
             assert!((a - 1.0).abs() < 1e-12);
+        }
+    }
+
+    #[test]
+    fn grouped_repeat_names_input_rows_and_skips_its_group() {
+        // Rows 1 and 4 (group 7) share a location; group 3 is fine.
+        let sites = [[0.0, 0.0], [1.0, 1.0], [5.0, 5.0], [9.0, 0.0], [1.0, 1.0], [2.0, 0.0]];
+        let labels = [3, 7, 7, 3, 7, 3];
+        let square = [[-1.0, -1.0], [10.0, -1.0], [10.0, 10.0], [-1.0, 10.0]];
+        let region = Region { vertices: &square, ring_offsets: &[0, 4] };
+        let e = voronoi_cells_grouped(&sites, &labels, Some(region), OnGroupError::Raise).unwrap_err();
+        assert_eq!(e.to_string(), "group 7: sites: sites[4] repeats sites[1]; every site needs its own location");
+        let (g, places) = voronoi_cells_grouped(&sites, &labels, Some(region), OnGroupError::Skip).unwrap();
+        let rows = VoronoiCells::by_row(&g, &places);
+        let alone = voronoi_cells(&[[0.0, 0.0], [9.0, 0.0], [2.0, 0.0]], Some(region)).unwrap();
+        assert_eq!(g.results[0].as_ref().unwrap(), &alone);
+        // Closed form: the group's cells tile the 11 × 11 square.
+        assert!((rows.area[0] + rows.area[3] + rows.area[5] - 121.0).abs() < 1e-9);
+        assert!(rows.area[1].is_nan() && rows.offsets[1] == rows.offsets[2]);
+        assert_eq!(rows.offsets.len(), sites.len() + 1);
+        assert_eq!(
+            &rows.vertices[rows.offsets[3]..rows.offsets[4]],
+            &alone.vertices[alone.offsets[1]..alone.offsets[2]]
+        );
+        // A bad region fails the whole run, whatever `errors` says.
+        let flat = Region { vertices: &square[..2], ring_offsets: &[0, 2] };
+        assert!(matches!(
+            voronoi_cells_grouped(&sites, &labels, Some(flat), OnGroupError::Skip),
+            Err(Error::Degenerate { argument: "region", .. })
+        ));
+    }
+
+    proptest::proptest! {
+        #![proptest_config(proptest::prelude::ProptestConfig::with_cases(48))]
+        #[test]
+        fn grouped_equals_separate_calls(
+            raw in proptest::collection::vec((-8i32..8, -8i32..8, 0i64..3), 1..60),
+            with_region in proptest::bool::ANY,
+        ) {
+            // Each group's cells from a separate call on its own sites, laid out by input row
+            // here; errors with their rows mapped to input rows.
+            let sites: Vec<Point> = raw.iter().map(|&(x, y, _)| [x as f64, y as f64]).collect();
+            let labels: Vec<i64> = raw.iter().map(|&(_, _, g)| g).collect();
+            let (vertices, ring_offsets) = small_l_with_hole();
+            let region = with_region.then_some(Region { vertices: &vertices, ring_offsets: &ring_offsets });
+            let (grouped, places) = voronoi_cells_grouped(&sites, &labels, region, OnGroupError::Skip).unwrap();
+            let by_row = VoronoiCells::by_row(&grouped, &places);
+            for (&label, outcome) in grouped.labels.iter().zip(&grouped.results) {
+                let rows: Vec<usize> = (0..sites.len()).filter(|&i| labels[i] == label).collect();
+                let own: Vec<Point> = rows.iter().map(|&i| sites[i]).collect();
+                match (voronoi_cells(&own, region), outcome) {
+                    (Ok(cells), Ok(ours)) => {
+                        proptest::prop_assert_eq!(&cells, ours);
+                        for (k, &i) in rows.iter().enumerate() {
+                            proptest::prop_assert_eq!(by_row.area[i], cells.area[k]);
+                            proptest::prop_assert_eq!(
+                                &by_row.vertices[by_row.offsets[i]..by_row.offsets[i + 1]],
+                                &cells.vertices[cells.offsets[k]..cells.offsets[k + 1]]
+                            );
+                        }
+                    }
+                    (Err(e), Err(ours)) => proptest::prop_assert_eq!(ours, &e.rows_from(&rows).in_group(label)),
+                    (single, grouped) => proptest::prop_assert!(false, "separate {:?}, grouped {:?}", single, grouped),
+                }
+            }
         }
     }
 }

@@ -1,203 +1,205 @@
 //! Bindings of the enclose family (`src/enclose/`).
+//!
+//! Every binding returns named fields ([`Fields`]); support indices are rows of the input.
+//! Grouped forms add `labels` and `problem` and give ragged supports as CSR
+//! (`support_offsets` (G + 1,), `support_index`); a group skipped with `errors="skip"` has
+//! NaN values and an empty support.
 
-use numpy::{PyArray1, PyArray2, PyArray3, PyArrayMethods};
+use numpy::{PyArray1, PyArrayMethods};
 use pyo3::prelude::*;
+use pyo3::types::PyDict;
 
-use crate::batch::OnGroupError;
-use super::fields::Solved;
-use super::convert::{as_point_slice, index_array};
+use super::convert::{as_point_slice, float_arg, index_array, index_values, on_error_arg, seed_arg};
+use super::fields::Fields;
 use super::{labels_arg, points_arg, run_detached, weights_arg};
-use crate::batch::to_csr;
+use crate::batch::Grouped;
 use crate::enclose::{
     enclosing_circle_with, enclosing_circles, enclosing_ellipse, enclosing_ellipses, minimax_point, minimax_points,
     CircleOptions,
 };
 use crate::geometry::Weights;
 
-/// Options with the given seed, or the default one.
-fn circle_options(seed: Option<u64>) -> CircleOptions {
-    seed.map_or_else(CircleOptions::default, |seed| CircleOptions { seed })
+/// Options with the given seed (validated), or the default one.
+fn circle_options(seed: Option<&Bound<'_, PyAny>>) -> PyResult<CircleOptions> {
+    match seed.filter(|s| !s.is_none()) {
+        None => Ok(CircleOptions::default()),
+        Some(seed) => Ok(CircleOptions { seed: seed_arg(seed)? }),
+    }
 }
 
-
-/// Support lists of every group as (offsets (G + 1,), indices).
-fn support_csr<'py>(
-    py: Python<'py>,
-    lists: impl IntoIterator<Item = impl AsRef<[usize]>>,
-) -> (Bound<'py, PyArray1<i64>>, Bound<'py, PyArray1<i64>>) {
-    let (offsets, values) = to_csr(lists);
-    (index_array(py, &offsets), index_array(py, &values))
+/// The ellipse's relative area tolerance, `0 < tol < 1`.
+fn tol_arg(tol: &Bound<'_, PyAny>) -> PyResult<f64> {
+    float_arg(tol, "tol", "> 0 and < 1", |t| t > 0.0 && t < 1.0)
 }
 
-/// (center, radius, support)
-type CircleTuple<'py> = (Bound<'py, PyArray1<f64>>, f64, Bound<'py, PyArray1<i64>>);
+/// `labels`, `problem` and the CSR of every group's support (skipped groups: empty).
+fn grouped_support<'py, T>(py: Python<'py>, g: &Grouped<T>, support: impl Fn(&T) -> &[usize]) -> PyResult<Fields<'py>> {
+    let (offsets, index) = g.csr(support);
+    Fields::new(py)
+        .grouped(g)?
+        .put("support_offsets", PyArray1::from_vec(py, index_values(offsets)))?
+        .put("support_index", PyArray1::from_vec(py, index_values(index)))
+}
 
+/// One value per group as a (G,) array; NaN for skipped groups.
+fn floats<'py, T>(py: Python<'py>, g: &Grouped<T>, value: impl Fn(&T) -> f64) -> Bound<'py, PyArray1<f64>> {
+    PyArray1::from_vec(py, g.column(f64::NAN, value))
+}
+
+/// One point per group as a (G, 2) array; NaN for skipped groups.
+fn point_column<'py, T>(py: Python<'py>, g: &Grouped<T>, at: impl Fn(&T) -> [f64; 2]) -> PyResult<Bound<'py, PyAny>> {
+    let flat: Vec<f64> = g.column([f64::NAN; 2], at).into_iter().flatten().collect();
+    Ok(PyArray1::from_vec(py, flat).reshape([g.labels.len(), 2])?.into_any())
+}
+
+/// Fields: center (2,), radius, area, support (k,).
 #[pyfunction]
 #[pyo3(signature = (points, seed))]
-fn enclosing_circle_single<'py>(py: Python<'py>, points: &Bound<'py, PyAny>, seed: Option<u64>) -> PyResult<CircleTuple<'py>> {
+fn enclosing_circle_single<'py>(
+    py: Python<'py>,
+    points: &Bound<'py, PyAny>,
+    seed: Option<&Bound<'py, PyAny>>,
+) -> PyResult<Bound<'py, PyDict>> {
+    let options = circle_options(seed)?;
     let points = points_arg(points, "points")?;
     let pts = as_point_slice(&points);
-    let c = run_detached(py, || enclosing_circle_with(pts, &circle_options(seed)))?;
-    Ok((PyArray1::from_slice(py, &c.center), c.radius, index_array(py, &c.support)))
+    let c = run_detached(py, || enclosing_circle_with(pts, &options))?;
+    Ok(Fields::new(py)
+        .put("center", PyArray1::from_slice(py, &c.center))?
+        .put("radius", c.radius)?
+        .put("area", c.area)?
+        .put("support", index_array(py, &c.support))?
+        .done())
 }
 
-/// (labels, center (G, 2), radius (G,), support_offsets, support_index)
-type CirclesTuple<'py> = (
-    Bound<'py, PyArray1<i64>>,
-    Bound<'py, PyArray2<f64>>,
-    Bound<'py, PyArray1<f64>>,
-    Bound<'py, PyArray1<i64>>,
-    Bound<'py, PyArray1<i64>>,
-);
-
+/// Fields: labels, problem, center (G, 2), radius, area (G,), support_offsets, support_index.
 #[pyfunction]
-#[pyo3(signature = (points, groups, seed))]
+#[pyo3(signature = (points, groups, seed, errors))]
 fn enclosing_circle_grouped<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     groups: &Bound<'py, PyAny>,
-    seed: Option<u64>,
-) -> PyResult<CirclesTuple<'py>> {
+    seed: Option<&Bound<'py, PyAny>>,
+    errors: &str,
+) -> PyResult<Bound<'py, PyDict>> {
+    let options = circle_options(seed)?;
+    let on_error = on_error_arg(errors)?;
     let points = points_arg(points, "points")?;
     let labels = labels_arg(groups, "groups")?;
     let pts = as_point_slice(&points);
     let l = labels.as_slice()?;
-    let g = run_detached(py, || enclosing_circles(pts, l, &circle_options(seed), OnGroupError::Raise))?;
-    let g = Solved { labels: g.labels.clone(), results: g.into_solved()? };
-    let center: Vec<f64> = g.results.iter().flat_map(|r| r.center).collect();
-    let (offsets, index) = support_csr(py, g.results.iter().map(|r| &r.support));
-    Ok((
-        PyArray1::from_vec(py, g.labels),
-        PyArray1::from_vec(py, center).reshape([g.results.len(), 2])?,
-        PyArray1::from_iter(py, g.results.iter().map(|r| r.radius)),
-        offsets,
-        index,
-    ))
+    let g = run_detached(py, || enclosing_circles(pts, l, &options, on_error))?;
+    Ok(grouped_support(py, &g, |c| &c.support)?
+        .put("center", point_column(py, &g, |c| c.center)?)?
+        .put("radius", floats(py, &g, |c| c.radius))?
+        .put("area", floats(py, &g, |c| c.area))?
+        .done())
 }
 
+/// Fields: location (2,), weighted_radius, support (k,).
 #[pyfunction]
 #[pyo3(signature = (points, weights))]
 fn minimax_point_single<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
-) -> PyResult<CircleTuple<'py>> {
+) -> PyResult<Bound<'py, PyDict>> {
     let points = points_arg(points, "points")?;
     let weights = weights_arg(weights, "weights")?;
     let pts = as_point_slice(&points);
     let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
     let m = run_detached(py, || minimax_point(pts, Weights::from_option(w)))?;
-    Ok((PyArray1::from_slice(py, &m.location), m.radius, index_array(py, &m.support)))
+    Ok(Fields::new(py)
+        .put("location", PyArray1::from_slice(py, &m.location))?
+        .put("weighted_radius", m.radius)?
+        .put("support", index_array(py, &m.support))?
+        .done())
 }
 
+/// Fields: labels, problem, location (G, 2), weighted_radius (G,), support_offsets,
+/// support_index.
 #[pyfunction]
-#[pyo3(signature = (points, weights, groups))]
+#[pyo3(signature = (points, weights, groups, errors))]
 fn minimax_point_grouped<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
     groups: &Bound<'py, PyAny>,
-) -> PyResult<CirclesTuple<'py>> {
+    errors: &str,
+) -> PyResult<Bound<'py, PyDict>> {
+    let on_error = on_error_arg(errors)?;
     let points = points_arg(points, "points")?;
     let weights = weights_arg(weights, "weights")?;
     let labels = labels_arg(groups, "groups")?;
     let pts = as_point_slice(&points);
     let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
     let l = labels.as_slice()?;
-    let g = run_detached(py, || minimax_points(pts, Weights::from_option(w), l, OnGroupError::Raise))?;
-    let g = Solved { labels: g.labels.clone(), results: g.into_solved()? };
-    let location: Vec<f64> = g.results.iter().flat_map(|r| r.location).collect();
-    let (offsets, index) = support_csr(py, g.results.iter().map(|r| &r.support));
-    Ok((
-        PyArray1::from_vec(py, g.labels),
-        PyArray1::from_vec(py, location).reshape([g.results.len(), 2])?,
-        PyArray1::from_iter(py, g.results.iter().map(|r| r.radius)),
-        offsets,
-        index,
-    ))
+    let g = run_detached(py, || minimax_points(pts, Weights::from_option(w), l, on_error))?;
+    Ok(grouped_support(py, &g, |m| &m.support)?
+        .put("location", point_column(py, &g, |m| m.location)?)?
+        .put("weighted_radius", floats(py, &g, |m| m.radius))?
+        .done())
 }
 
-/// (center, shape (2, 2), semi_axes, angle, area, support, gap, iterations, converged)
-type EllipseTuple<'py> = (
-    Bound<'py, PyArray1<f64>>,
-    Bound<'py, PyArray2<f64>>,
-    Bound<'py, PyArray1<f64>>,
-    f64,
-    f64,
-    Bound<'py, PyArray1<i64>>,
-    f64,
-    usize,
-    bool,
-);
-
+/// Fields: center (2,), shape (2, 2), semi_major, semi_minor, angle (degrees), area,
+/// support (k,), relative_gap, iterations, converged.
 #[pyfunction]
 #[pyo3(signature = (points, tol))]
-fn enclosing_ellipse_single<'py>(py: Python<'py>, points: &Bound<'py, PyAny>, tol: f64) -> PyResult<EllipseTuple<'py>> {
+fn enclosing_ellipse_single<'py>(
+    py: Python<'py>,
+    points: &Bound<'py, PyAny>,
+    tol: &Bound<'py, PyAny>,
+) -> PyResult<Bound<'py, PyDict>> {
+    let tol = tol_arg(tol)?;
     let points = points_arg(points, "points")?;
     let pts = as_point_slice(&points);
     let e = run_detached(py, || enclosing_ellipse(pts, tol))?;
     let shape: Vec<f64> = e.shape.iter().flatten().copied().collect();
-    Ok((
-        PyArray1::from_slice(py, &e.center),
-        PyArray1::from_vec(py, shape).reshape([2, 2])?,
-        PyArray1::from_slice(py, &e.semi_axes),
-        e.angle,
-        e.area,
-        index_array(py, &e.support),
-        e.gap,
-        e.iterations,
-        e.converged,
-    ))
+    Ok(Fields::new(py)
+        .put("center", PyArray1::from_slice(py, &e.center))?
+        .put("shape", PyArray1::from_vec(py, shape).reshape([2, 2])?)?
+        .put("semi_major", e.semi_major)?
+        .put("semi_minor", e.semi_minor)?
+        .put("angle", e.angle)?
+        .put("area", e.area)?
+        .put("support", index_array(py, &e.support))?
+        .put("relative_gap", e.relative_gap)?
+        .put("iterations", e.iterations)?
+        .put("converged", e.converged)?
+        .done())
 }
 
-/// (labels, center (G, 2), shape (G, 2, 2), semi_axes (G, 2), angle, area, support_offsets,
-/// support_index, gap, iterations, converged)
-type EllipsesTuple<'py> = (
-    Bound<'py, PyArray1<i64>>,
-    Bound<'py, PyArray2<f64>>,
-    Bound<'py, PyArray3<f64>>,
-    Bound<'py, PyArray2<f64>>,
-    Bound<'py, PyArray1<f64>>,
-    Bound<'py, PyArray1<f64>>,
-    Bound<'py, PyArray1<i64>>,
-    Bound<'py, PyArray1<i64>>,
-    Bound<'py, PyArray1<f64>>,
-    Bound<'py, PyArray1<u64>>,
-    Bound<'py, PyArray1<bool>>,
-);
-
+/// Fields: labels, problem, center (G, 2), shape (G, 2, 2), semi_major, semi_minor, angle,
+/// area (G,), support_offsets, support_index, relative_gap, iterations, converged (G,).
+/// A skipped group has NaN values, 0 iterations and `converged` false.
 #[pyfunction]
-#[pyo3(signature = (points, groups, tol))]
+#[pyo3(signature = (points, groups, tol, errors))]
 fn enclosing_ellipse_grouped<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     groups: &Bound<'py, PyAny>,
-    tol: f64,
-) -> PyResult<EllipsesTuple<'py>> {
+    tol: &Bound<'py, PyAny>,
+    errors: &str,
+) -> PyResult<Bound<'py, PyDict>> {
+    let tol = tol_arg(tol)?;
+    let on_error = on_error_arg(errors)?;
     let points = points_arg(points, "points")?;
     let labels = labels_arg(groups, "groups")?;
     let pts = as_point_slice(&points);
     let l = labels.as_slice()?;
-    let g = run_detached(py, || enclosing_ellipses(pts, l, tol, OnGroupError::Raise))?;
-    let g = Solved { labels: g.labels.clone(), results: g.into_solved()? };
-    let n = g.results.len();
-    let center: Vec<f64> = g.results.iter().flat_map(|r| r.center).collect();
-    let shape: Vec<f64> = g.results.iter().flat_map(|r| r.shape.into_iter().flatten()).collect();
-    let semi_axes: Vec<f64> = g.results.iter().flat_map(|r| r.semi_axes).collect();
-    let (offsets, index) = support_csr(py, g.results.iter().map(|r| &r.support));
-    Ok((
-        PyArray1::from_vec(py, g.labels),
-        PyArray1::from_vec(py, center).reshape([n, 2])?,
-        PyArray1::from_vec(py, shape).reshape([n, 2, 2])?,
-        PyArray1::from_vec(py, semi_axes).reshape([n, 2])?,
-        PyArray1::from_iter(py, g.results.iter().map(|r| r.angle)),
-        PyArray1::from_iter(py, g.results.iter().map(|r| r.area)),
-        offsets,
-        index,
-        PyArray1::from_iter(py, g.results.iter().map(|r| r.gap)),
-        PyArray1::from_iter(py, g.results.iter().map(|r| r.iterations as u64)),
-        PyArray1::from_iter(py, g.results.iter().map(|r| r.converged)),
-    ))
+    let g = run_detached(py, || enclosing_ellipses(pts, l, tol, on_error))?;
+    let shape: Vec<f64> = g.column([[f64::NAN; 2]; 2], |e| e.shape).into_iter().flatten().flatten().collect();
+    Ok(grouped_support(py, &g, |e| &e.support)?
+        .put("center", point_column(py, &g, |e| e.center)?)?
+        .put("shape", PyArray1::from_vec(py, shape).reshape([g.labels.len(), 2, 2])?)?
+        .put("semi_major", floats(py, &g, |e| e.semi_major))?
+        .put("semi_minor", floats(py, &g, |e| e.semi_minor))?
+        .put("angle", floats(py, &g, |e| e.angle))?
+        .put("area", floats(py, &g, |e| e.area))?
+        .put("relative_gap", floats(py, &g, |e| e.relative_gap))?
+        .put("iterations", PyArray1::from_vec(py, g.column(0u64, |e| e.iterations as u64)))?
+        .put("converged", PyArray1::from_vec(py, g.column(false, |e| e.converged)))?
+        .done())
 }
 
 pub(super) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {

@@ -1,93 +1,232 @@
 //! Bindings of the multi family (`src/multi/`).
 
-use numpy::{PyArray1, PyArray2, PyArrayMethods};
+use numpy::{PyArray1, PyArrayMethods};
 use pyo3::prelude::*;
+use pyo3::types::PyDict;
 
-use super::convert::{as_point_slice, index_array};
-use super::errors::input_error;
-use super::{points_arg, run_detached, weights_arg};
-use crate::error::Error;
+use super::convert::{as_point_slice, count_arg, index_values, on_error_arg, seed_arg};
+use super::errors::argument_error;
+use super::fields::Fields;
+use super::{labels_arg, points_arg, run_detached, weights_arg};
+use crate::batch::{Grouped, RowPlaces};
 use crate::geometry::{Point, Weights};
-use crate::multi::{p_center, p_median, CenterOptions, Effort, MedianOptions};
+use crate::multi::{p_center, p_centers, p_median, p_medians, CenterOptions, Effort, MedianOptions, Service};
 
-/// `p` as a count of sites; below 1 is the kernel's own parameter error.
-fn site_count(p: i64) -> Result<usize, Error> {
-    usize::try_from(p)
-        .ok()
-        .filter(|&p| p >= 1)
-        .ok_or_else(|| Error::InvalidParameter { name: "p", reason: format!("must be at least 1; got {p}") })
-}
-
-fn effort(name: &str) -> PyResult<Effort> {
+fn effort_arg(name: &str) -> PyResult<Effort> {
     match name {
         "fast" => Ok(Effort::Fast),
         "normal" => Ok(Effort::Normal),
         "thorough" => Ok(Effort::Thorough),
-        other => Err(input_error(format!("effort must be \"fast\", \"normal\" or \"thorough\"; got {other:?}"))),
+        other => {
+            Err(argument_error("effort", format!("effort must be \"fast\", \"normal\" or \"thorough\"; got {other:?}")))
+        }
     }
 }
 
-fn sites_array<'py>(py: Python<'py>, sites: &[Point]) -> PyResult<Bound<'py, PyArray2<f64>>> {
-    let flat: Vec<f64> = sites.iter().flatten().copied().collect();
-    PyArray1::from_vec(py, flat).reshape([sites.len(), 2])
+/// `p`, the number of new sites: an integer of at least 1.
+fn p_arg(p: &Bound<'_, PyAny>) -> PyResult<usize> {
+    count_arg(p, "p", 1, usize::MAX)
 }
 
+/// Points as an `(m, 2)` float64 array.
+fn points_array<'py>(py: Python<'py>, points: impl Iterator<Item = Point>) -> PyResult<Bound<'py, PyAny>> {
+    let flat: Vec<f64> = points.flatten().collect();
+    let rows = flat.len() / 2;
+    Ok(PyArray1::from_vec(py, flat).reshape([rows, 2])?.into_any())
+}
 
-/// (sites (p, 2), assignment (n,), cost, load (p + f,), iterations)
-type MedianTuple<'py> =
-    (Bound<'py, PyArray2<f64>>, Bound<'py, PyArray1<i64>>, f64, Bound<'py, PyArray1<f64>>, usize);
+/// The per-point and per-site fields of one plan's service.
+fn service_fields<'py>(py: Python<'py>, fields: Fields<'py>, service: &Service) -> PyResult<Fields<'py>> {
+    fields
+        .put("assignment", PyArray1::from_vec(py, index_values(service.assignment.clone())))?
+        .put("distance", PyArray1::from_slice(py, &service.distance))?
+        .put("load", PyArray1::from_slice(py, &service.load))?
+        .put("count", PyArray1::from_vec(py, index_values(service.count.clone())))?
+        .put("total_load", service.total_load)
+}
 
+/// The fields of a grouped run's services: per site (every group's sites in label order,
+/// `site_offsets` (G + 1,) delimiting them) `load`, `count`; per input point, in input order,
+/// `point_group` (position of its group), `assignment` (row of its site in the per-site
+/// arrays; -1 in a skipped group) and `distance` (NaN in a skipped group); per group
+/// `total_load` (NaN when skipped).
+fn grouped_service_fields<'py, T: Sync>(
+    py: Python<'py>,
+    fields: Fields<'py>,
+    grouped: &Grouped<T>,
+    places: &RowPlaces,
+    service: impl Fn(&T) -> &Service + Sync,
+) -> PyResult<Fields<'py>> {
+    let (site_offsets, load) = grouped.csr(|r| service(r).load.as_slice());
+    let (_, count) = grouped.csr(|r| service(r).count.as_slice());
+    let assignment = places.by_row(grouped, -1i64, |r, k| service(r).assignment[k] as i64);
+    let assignment: Vec<i64> = assignment
+        .into_iter()
+        .zip(&places.group)
+        .map(|(a, &g)| if a < 0 { a } else { a + site_offsets[g] as i64 })
+        .collect();
+    fields
+        .put("site_offsets", PyArray1::from_vec(py, index_values(site_offsets)))?
+        .put("load", PyArray1::from_vec(py, load))?
+        .put("count", PyArray1::from_vec(py, index_values(count)))?
+        .put("point_group", PyArray1::from_vec(py, index_values(places.group.clone())))?
+        .put("assignment", PyArray1::from_vec(py, assignment))?
+        .put("distance", PyArray1::from_vec(py, places.by_row(grouped, f64::NAN, |r, k| service(r).distance[k])))?
+        .put("total_load", PyArray1::from_vec(py, grouped.column(f64::NAN, |r| service(r).total_load)))
+}
+
+/// Fields: sites (p, 2), fixed (f, 2), assignment (n,), distance (n,), load (p + f,),
+/// count (p + f,), cost, total_load, iterations.
 #[pyfunction]
-#[pyo3(signature = (points, p, weights, fixed, seed, effort_name))]
-fn p_median_plan<'py>(
+#[pyo3(signature = (points, p, weights, fixed, seed, effort))]
+fn p_median_single<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
-    p: i64,
+    p: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
     fixed: Option<&Bound<'py, PyAny>>,
-    seed: u64,
-    effort_name: &str,
-) -> PyResult<MedianTuple<'py>> {
-    let options = MedianOptions { effort: effort(effort_name)?, seed };
+    seed: &Bound<'py, PyAny>,
+    effort: &str,
+) -> PyResult<Bound<'py, PyDict>> {
+    let p = p_arg(p)?;
+    let options = MedianOptions { effort: effort_arg(effort)?, seed: seed_arg(seed)? };
     let points = points_arg(points, "points")?;
     let weights = weights_arg(weights, "weights")?;
     let fixed = fixed.filter(|f| !f.is_none()).map(|f| points_arg(f, "fixed")).transpose()?;
     let pts = as_point_slice(&points);
     let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
     let fixed_sites: &[Point] = fixed.as_ref().map_or(&[], as_point_slice);
-    let plan = run_detached(py, || p_median(pts, Weights::from_option(w), site_count(p)?, fixed_sites, &options))?;
-    Ok((
-        sites_array(py, &plan.sites)?,
-        index_array(py, &plan.assignment),
-        plan.cost,
-        PyArray1::from_vec(py, plan.load),
-        plan.iterations,
-    ))
+    let plan = run_detached(py, || p_median(pts, Weights::from_option(w), p, fixed_sites, &options))?;
+    let fields = Fields::new(py)
+        .put("sites", points_array(py, plan.sites.iter().copied())?)?
+        .put("fixed", points_array(py, plan.fixed.iter().copied())?)?
+        .put("cost", plan.service.cost)?
+        .put("iterations", plan.iterations)?;
+    Ok(service_fields(py, fields, &plan.service)?.done())
 }
 
-/// (sites (p, 2), assignment (n,), radius, optimal, iterations)
-type CenterTuple<'py> = (Bound<'py, PyArray2<f64>>, Bound<'py, PyArray1<i64>>, f64, bool, usize);
-
+/// Fields: labels (G,), problem (G,); per site (S = every group's new sites then its fixed
+/// ones) sites (S, 2), fixed (S,) bool, load, count, site_offsets (G + 1,); per point
+/// point_group, assignment (row in the per-site arrays), distance; per group cost,
+/// total_load, iterations. Skipped groups have no sites, NaN totals and 0 iterations.
 #[pyfunction]
-#[pyo3(signature = (points, p, weights, seed))]
-fn p_center_plan<'py>(
+#[pyo3(signature = (points, p, weights, groups, fixed, fixed_groups, seed, effort, errors))]
+#[allow(clippy::too_many_arguments)]
+fn p_median_grouped<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
-    p: i64,
+    p: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
-    seed: u64,
-) -> PyResult<CenterTuple<'py>> {
-    let options = CenterOptions { seed, ..CenterOptions::default() };
+    groups: &Bound<'py, PyAny>,
+    fixed: Option<&Bound<'py, PyAny>>,
+    fixed_groups: Option<&Bound<'py, PyAny>>,
+    seed: &Bound<'py, PyAny>,
+    effort: &str,
+    errors: &str,
+) -> PyResult<Bound<'py, PyDict>> {
+    let p = p_arg(p)?;
+    let options = MedianOptions { effort: effort_arg(effort)?, seed: seed_arg(seed)? };
+    let on_error = on_error_arg(errors)?;
+    let points = points_arg(points, "points")?;
+    let weights = weights_arg(weights, "weights")?;
+    let labels = labels_arg(groups, "groups")?;
+    let fixed = fixed.filter(|f| !f.is_none()).map(|f| points_arg(f, "fixed")).transpose()?;
+    let fixed_groups = fixed_groups.filter(|f| !f.is_none()).map(|f| labels_arg(f, "fixed_groups")).transpose()?;
+    let fixed_sites: &[Point] = fixed.as_ref().map_or(&[], as_point_slice);
+    let fixed_labels: &[i64] = fixed_groups.as_ref().map(|f| f.as_slice()).transpose()?.unwrap_or(&[]);
+    if !fixed_sites.is_empty() && fixed_groups.is_none() {
+        return Err(argument_error(
+            "fixed_groups",
+            "fixed_groups must be given with fixed and groups: the group label each fixed site serves".into(),
+        ));
+    }
+    let pts = as_point_slice(&points);
+    let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
+    let l = labels.as_slice()?;
+    let (g, places) = run_detached(py, || {
+        p_medians(pts, Weights::from_option(w), l, p, fixed_sites, fixed_labels, &options, on_error)
+    })?;
+    let solved = || g.results.iter().filter_map(|r| r.as_ref().ok());
+    let sites = points_array(py, solved().flat_map(|r| r.sites.iter().chain(&r.fixed).copied()))?;
+    let is_fixed: Vec<bool> = solved()
+        .flat_map(|r| std::iter::repeat_n(false, r.sites.len()).chain(std::iter::repeat_n(true, r.fixed.len())))
+        .collect();
+    let fields = Fields::new(py)
+        .grouped(&g)?
+        .put("sites", sites)?
+        .put("fixed", PyArray1::from_vec(py, is_fixed))?
+        .put("cost", PyArray1::from_vec(py, g.column(f64::NAN, |r| r.service.cost)))?
+        .put("iterations", PyArray1::from_vec(py, g.column(0u64, |r| r.iterations as u64)))?;
+    Ok(grouped_service_fields(py, fields, &g, &places, |r| &r.service)?.done())
+}
+
+/// Fields: sites (p, 2), assignment (n,), distance (n,), load (p,), count (p,),
+/// weighted_radius, radius, total_load, optimal, iterations.
+#[pyfunction]
+#[pyo3(signature = (points, p, weights, seed))]
+fn p_center_single<'py>(
+    py: Python<'py>,
+    points: &Bound<'py, PyAny>,
+    p: &Bound<'py, PyAny>,
+    weights: Option<&Bound<'py, PyAny>>,
+    seed: &Bound<'py, PyAny>,
+) -> PyResult<Bound<'py, PyDict>> {
+    let p = p_arg(p)?;
+    let options = CenterOptions { seed: seed_arg(seed)?, ..CenterOptions::default() };
     let points = points_arg(points, "points")?;
     let weights = weights_arg(weights, "weights")?;
     let pts = as_point_slice(&points);
     let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
-    let plan = run_detached(py, || p_center(pts, Weights::from_option(w), site_count(p)?, &options))?;
-    Ok((sites_array(py, &plan.sites)?, index_array(py, &plan.assignment), plan.radius, plan.optimal, plan.iterations))
+    let plan = run_detached(py, || p_center(pts, Weights::from_option(w), p, &options))?;
+    let fields = Fields::new(py)
+        .put("sites", points_array(py, plan.sites.iter().copied())?)?
+        .put("weighted_radius", plan.service.weighted_radius)?
+        .put("radius", plan.service.radius)?
+        .put("optimal", plan.optimal)?
+        .put("iterations", plan.iterations)?;
+    Ok(service_fields(py, fields, &plan.service)?.done())
+}
+
+/// Fields: labels (G,), problem (G,); per site sites (S, 2), load, count, site_offsets
+/// (G + 1,); per point point_group, assignment (row in the per-site arrays), distance; per
+/// group weighted_radius, radius, total_load, optimal, iterations.
+#[pyfunction]
+#[pyo3(signature = (points, p, weights, groups, seed, errors))]
+fn p_center_grouped<'py>(
+    py: Python<'py>,
+    points: &Bound<'py, PyAny>,
+    p: &Bound<'py, PyAny>,
+    weights: Option<&Bound<'py, PyAny>>,
+    groups: &Bound<'py, PyAny>,
+    seed: &Bound<'py, PyAny>,
+    errors: &str,
+) -> PyResult<Bound<'py, PyDict>> {
+    let p = p_arg(p)?;
+    let options = CenterOptions { seed: seed_arg(seed)?, ..CenterOptions::default() };
+    let on_error = on_error_arg(errors)?;
+    let points = points_arg(points, "points")?;
+    let weights = weights_arg(weights, "weights")?;
+    let labels = labels_arg(groups, "groups")?;
+    let pts = as_point_slice(&points);
+    let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
+    let l = labels.as_slice()?;
+    let (g, places) = run_detached(py, || p_centers(pts, Weights::from_option(w), l, p, &options, on_error))?;
+    let sites =
+        points_array(py, g.results.iter().filter_map(|r| r.as_ref().ok()).flat_map(|r| r.sites.iter().copied()))?;
+    let fields = Fields::new(py)
+        .grouped(&g)?
+        .put("sites", sites)?
+        .put("weighted_radius", PyArray1::from_vec(py, g.column(f64::NAN, |r| r.service.weighted_radius)))?
+        .put("radius", PyArray1::from_vec(py, g.column(f64::NAN, |r| r.service.radius)))?
+        .put("optimal", PyArray1::from_vec(py, g.column(false, |r| r.optimal)))?
+        .put("iterations", PyArray1::from_vec(py, g.column(0u64, |r| r.iterations as u64)))?;
+    Ok(grouped_service_fields(py, fields, &g, &places, |r| &r.service)?.done())
 }
 
 pub(super) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
-    m.add_function(wrap_pyfunction!(p_median_plan, m)?)?;
-    m.add_function(wrap_pyfunction!(p_center_plan, m)?)?;
+    m.add_function(wrap_pyfunction!(p_median_single, m)?)?;
+    m.add_function(wrap_pyfunction!(p_median_grouped, m)?)?;
+    m.add_function(wrap_pyfunction!(p_center_single, m)?)?;
+    m.add_function(wrap_pyfunction!(p_center_grouped, m)?)?;
     Ok(())
 }

@@ -2,152 +2,238 @@
 
 use numpy::{PyArray1, PyArray2, PyArrayMethods};
 use pyo3::prelude::*;
+use pyo3::types::{PyBool, PyDict, PyString};
 
-use crate::batch::OnGroupError;
-use super::fields::Solved;
-use super::convert::as_point_slice;
+use super::convert::{as_point_slice, index_values, on_error_arg, optional_float_arg, seed_arg};
+use super::errors::argument_error;
+use super::fields::Fields;
 use super::{labels_arg, points_arg, run_detached};
-use crate::batch::to_csr;
-use crate::network::{spanning_tree, spanning_trees, steiner_tree, steiner_trees, SteinerMethod, SteinerOptions};
+use crate::geometry::Point;
+use crate::network::{
+    spanning_tree, spanning_trees, steiner_tree, steiner_trees, EdgeEnd, SteinerMethod,
+    SteinerOptions,
+};
 
-fn edge_array<'py>(py: Python<'py>, edges: &[[usize; 2]]) -> PyResult<Bound<'py, PyArray2<i64>>> {
-    let flat: Vec<i64> = edges.iter().flat_map(|e| [e[0] as i64, e[1] as i64]).collect();
-    PyArray1::from_vec(py, flat).reshape([edges.len(), 2])
+fn point_array<'py>(py: Python<'py>, points: &[Point]) -> PyResult<Bound<'py, PyArray2<f64>>> {
+    PyArray1::from_vec(py, points.iter().flatten().copied().collect()).reshape([points.len(), 2])
 }
 
-fn point_array<'py>(py: Python<'py>, points: &[[f64; 2]]) -> PyResult<Bound<'py, PyArray2<f64>>> {
-    let flat: Vec<f64> = points.iter().flatten().copied().collect();
-    PyArray1::from_vec(py, flat).reshape([points.len(), 2])
-}
-
-fn options(exact: Option<bool>, seed: u64, time_limit: Option<f64>) -> SteinerOptions {
-    let method = match exact {
-        None => SteinerMethod::Auto,
-        Some(true) => SteinerMethod::Exact,
-        Some(false) => SteinerMethod::Heuristic,
+/// `exact`: True, False or None (numpy booleans too); anything else is refused by name.
+fn method_arg(exact: Option<&Bound<'_, PyAny>>) -> PyResult<SteinerMethod> {
+    let Some(exact) = exact.filter(|e| !e.is_none()) else {
+        return Ok(SteinerMethod::Auto);
     };
-    SteinerOptions { method, seed, time_limit }
+    let type_name = exact
+        .get_type()
+        .name()
+        .map(|n| n.to_string())
+        .unwrap_or_default();
+    if exact.is_instance_of::<PyBool>() || type_name == "bool" || type_name == "bool_" {
+        return Ok(if exact.is_truthy()? {
+            SteinerMethod::Exact
+        } else {
+            SteinerMethod::Heuristic
+        });
+    }
+    // str() prints numpy scalars as plain numbers; strings are quoted so they read as such.
+    let shown = if exact.is_instance_of::<PyString>() {
+        exact.repr()?
+    } else {
+        exact.str()?
+    };
+    Err(argument_error(
+        "exact",
+        format!("exact must be True, False or None; got {shown} ({type_name})"),
+    ))
 }
 
-/// (edges (E, 2), edge_length (E,), length)
-type SpanningTuple<'py> = (Bound<'py, PyArray2<i64>>, Bound<'py, PyArray1<f64>>, f64);
+fn options(
+    exact: Option<&Bound<'_, PyAny>>,
+    seed: &Bound<'_, PyAny>,
+    time_limit: Option<&Bound<'_, PyAny>>,
+) -> PyResult<SteinerOptions> {
+    Ok(SteinerOptions {
+        method: method_arg(exact)?,
+        seed: seed_arg(seed)?,
+        time_limit: optional_float_arg(
+            time_limit,
+            "time_limit",
+            "finite and >= 0 (seconds)",
+            |t| t.is_finite() && t >= 0.0,
+        )?,
+    })
+}
 
+/// The ends of Steiner tree edges as four int64 columns: `end_a`, `end_b` (input row, or -1
+/// where the end is a junction) and `junction_a`, `junction_b` (junction number, or -1 where
+/// the end is an input row).
+fn steiner_ends(edges: &[[EdgeEnd; 2]]) -> [Vec<i64>; 4] {
+    let split = |e: EdgeEnd| match e {
+        EdgeEnd::Row(r) => (r as i64, -1),
+        EdgeEnd::Junction(j) => (-1, j as i64),
+    };
+    let mut columns: [Vec<i64>; 4] = Default::default();
+    for &[a, b] in edges {
+        let ((ra, ja), (rb, jb)) = (split(a), split(b));
+        for (column, value) in columns.iter_mut().zip([ra, rb, ja, jb]) {
+            column.push(value);
+        }
+    }
+    columns
+}
+
+fn put_steiner_ends<'py>(
+    fields: Fields<'py>,
+    py: Python<'py>,
+    edges: &[[EdgeEnd; 2]],
+) -> PyResult<Fields<'py>> {
+    let [end_a, end_b, junction_a, junction_b] = steiner_ends(edges);
+    fields
+        .put("end_a", PyArray1::from_vec(py, end_a))?
+        .put("end_b", PyArray1::from_vec(py, end_b))?
+        .put("junction_a", PyArray1::from_vec(py, junction_a))?
+        .put("junction_b", PyArray1::from_vec(py, junction_b))
+}
+
+fn spanning_ends(edges: &[[usize; 2]]) -> (Vec<i64>, Vec<i64>) {
+    edges.iter().map(|e| (e[0] as i64, e[1] as i64)).unzip()
+}
+
+/// Fields: end_a, end_b (E,) input rows (smaller first), edge_length (E,), length.
 #[pyfunction]
 #[pyo3(signature = (points))]
-fn spanning_tree_single<'py>(py: Python<'py>, points: &Bound<'py, PyAny>) -> PyResult<SpanningTuple<'py>> {
+fn spanning_tree_single<'py>(
+    py: Python<'py>,
+    points: &Bound<'py, PyAny>,
+) -> PyResult<Bound<'py, PyDict>> {
     let points = points_arg(points, "points")?;
     let pts = as_point_slice(&points);
     let t = run_detached(py, || spanning_tree(pts))?;
-    Ok((edge_array(py, &t.edges)?, PyArray1::from_vec(py, t.edge_length), t.length))
+    let (end_a, end_b) = spanning_ends(&t.edges);
+    Ok(Fields::new(py)
+        .put("end_a", PyArray1::from_vec(py, end_a))?
+        .put("end_b", PyArray1::from_vec(py, end_b))?
+        .put("edge_length", PyArray1::from_vec(py, t.edge_length))?
+        .put("length", t.length)?
+        .done())
 }
 
-/// (labels, edge_offsets (G + 1,), edges (E, 2), edge_length (E,), length (G,))
-type SpanningGroupedTuple<'py> = (
-    Bound<'py, PyArray1<i64>>,
-    Bound<'py, PyArray1<i64>>,
-    Bound<'py, PyArray2<i64>>,
-    Bound<'py, PyArray1<f64>>,
-    Bound<'py, PyArray1<f64>>,
-);
-
+/// Fields: labels, problem (G,), edge_offsets (G + 1,), end_a, end_b (E,) input rows of the
+/// whole cloud, edge_length (E,), length (G,). A skipped group has no edges and NaN length.
 #[pyfunction]
-#[pyo3(signature = (points, groups))]
+#[pyo3(signature = (points, groups, errors))]
 fn spanning_tree_grouped<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     groups: &Bound<'py, PyAny>,
-) -> PyResult<SpanningGroupedTuple<'py>> {
+    errors: &str,
+) -> PyResult<Bound<'py, PyDict>> {
+    let on_error = on_error_arg(errors)?;
     let points = points_arg(points, "points")?;
     let labels = labels_arg(groups, "groups")?;
     let pts = as_point_slice(&points);
     let l = labels.as_slice()?;
-    let g = run_detached(py, || spanning_trees(pts, l, OnGroupError::Raise))?;
-    let g = Solved { labels: g.labels.clone(), results: g.into_solved()? };
-    let (offsets, edges) = to_csr(g.results.iter().map(|t| t.edges.as_slice()));
-    let (_, lengths) = to_csr(g.results.iter().map(|t| t.edge_length.as_slice()));
-    Ok((
-        PyArray1::from_vec(py, g.labels),
-        PyArray1::from_iter(py, offsets.iter().map(|&o| o as i64)),
-        edge_array(py, &edges)?,
-        PyArray1::from_vec(py, lengths),
-        PyArray1::from_iter(py, g.results.iter().map(|t| t.length)),
-    ))
+    let g = run_detached(py, || spanning_trees(pts, l, on_error))?;
+    let (offsets, edges) = g.csr(|t| t.edges.as_slice());
+    let (_, edge_length) = g.csr(|t| t.edge_length.as_slice());
+    let (end_a, end_b) = spanning_ends(&edges);
+    Ok(Fields::new(py)
+        .grouped(&g)?
+        .put(
+            "edge_offsets",
+            PyArray1::from_vec(py, index_values(offsets)),
+        )?
+        .put("end_a", PyArray1::from_vec(py, end_a))?
+        .put("end_b", PyArray1::from_vec(py, end_b))?
+        .put("edge_length", PyArray1::from_vec(py, edge_length))?
+        .put(
+            "length",
+            PyArray1::from_vec(py, g.column(f64::NAN, |t| t.length)),
+        )?
+        .done())
 }
 
-/// (nodes (m, 2), terminal_count, edges (E, 2), length, mst_length, saving, optimal)
-type SteinerTuple<'py> = (Bound<'py, PyArray2<f64>>, usize, Bound<'py, PyArray2<i64>>, f64, f64, f64, bool);
-
+/// Fields: junctions (k, 2), end_a, end_b, junction_a, junction_b (E,) (see
+/// [`steiner_ends`]), edge_length (E,), length, mst_length, saving, optimal.
 #[pyfunction]
 #[pyo3(signature = (points, exact, seed, time_limit))]
 fn steiner_tree_single<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
-    exact: Option<bool>,
-    seed: u64,
-    time_limit: Option<f64>,
-) -> PyResult<SteinerTuple<'py>> {
-    let options = options(exact, seed, time_limit);
+    exact: Option<&Bound<'py, PyAny>>,
+    seed: &Bound<'py, PyAny>,
+    time_limit: Option<&Bound<'py, PyAny>>,
+) -> PyResult<Bound<'py, PyDict>> {
+    let options = options(exact, seed, time_limit)?;
     let points = points_arg(points, "points")?;
     let pts = as_point_slice(&points);
     let t = run_detached(py, || steiner_tree(pts, &options))?;
-    Ok((
-        point_array(py, &t.nodes)?,
-        t.terminal_count,
-        edge_array(py, &t.edges)?,
-        t.length,
-        t.mst_length,
-        t.saving(),
-        t.optimal,
-    ))
+    let fields = Fields::new(py).put("junctions", point_array(py, &t.junctions)?)?;
+    Ok(put_steiner_ends(fields, py, &t.edges)?
+        .put("edge_length", PyArray1::from_vec(py, t.edge_length.clone()))?
+        .put("length", t.length)?
+        .put("mst_length", t.mst_length)?
+        .put("saving", t.saving())?
+        .put("optimal", t.optimal)?
+        .done())
 }
 
-/// (labels, node_offsets, nodes, terminal_count, edge_offsets, edges, length, mst_length,
-/// saving, optimal)
-type SteinerGroupedTuple<'py> = (
-    Bound<'py, PyArray1<i64>>,
-    Bound<'py, PyArray1<i64>>,
-    Bound<'py, PyArray2<f64>>,
-    Bound<'py, PyArray1<i64>>,
-    Bound<'py, PyArray1<i64>>,
-    Bound<'py, PyArray2<i64>>,
-    Bound<'py, PyArray1<f64>>,
-    Bound<'py, PyArray1<f64>>,
-    Bound<'py, PyArray1<f64>>,
-    Bound<'py, PyArray1<bool>>,
-);
-
+/// Fields: labels, problem (G,), junction_offsets (G + 1,), junctions (K, 2), edge_offsets
+/// (G + 1,), end_a, end_b (input rows of the whole cloud, or -1), junction_a, junction_b
+/// (junction number within the group, or -1) (E,), edge_length (E,), length, mst_length,
+/// saving (G,), optimal (G,). A skipped group has no junctions or edges, NaN totals and
+/// `optimal` false.
 #[pyfunction]
-#[pyo3(signature = (points, groups, exact, seed, time_limit))]
+#[pyo3(signature = (points, groups, exact, seed, time_limit, errors))]
 fn steiner_tree_grouped<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     groups: &Bound<'py, PyAny>,
-    exact: Option<bool>,
-    seed: u64,
-    time_limit: Option<f64>,
-) -> PyResult<SteinerGroupedTuple<'py>> {
-    let options = options(exact, seed, time_limit);
+    exact: Option<&Bound<'py, PyAny>>,
+    seed: &Bound<'py, PyAny>,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    errors: &str,
+) -> PyResult<Bound<'py, PyDict>> {
+    let options = options(exact, seed, time_limit)?;
+    let on_error = on_error_arg(errors)?;
     let points = points_arg(points, "points")?;
     let labels = labels_arg(groups, "groups")?;
     let pts = as_point_slice(&points);
     let l = labels.as_slice()?;
-    let g = run_detached(py, || steiner_trees(pts, l, &options, OnGroupError::Raise))?;
-    let g = Solved { labels: g.labels.clone(), results: g.into_solved()? };
-    let (node_offsets, nodes) = to_csr(g.results.iter().map(|t| t.nodes.as_slice()));
-    let (edge_offsets, edges) = to_csr(g.results.iter().map(|t| t.edges.as_slice()));
-    let as_i64 = |v: &[usize]| v.iter().map(|&o| o as i64).collect::<Vec<i64>>();
-    Ok((
-        PyArray1::from_vec(py, g.labels),
-        PyArray1::from_vec(py, as_i64(&node_offsets)),
-        point_array(py, &nodes)?,
-        PyArray1::from_iter(py, g.results.iter().map(|t| t.terminal_count as i64)),
-        PyArray1::from_vec(py, as_i64(&edge_offsets)),
-        edge_array(py, &edges)?,
-        PyArray1::from_iter(py, g.results.iter().map(|t| t.length)),
-        PyArray1::from_iter(py, g.results.iter().map(|t| t.mst_length)),
-        PyArray1::from_iter(py, g.results.iter().map(|t| t.saving())),
-        PyArray1::from_iter(py, g.results.iter().map(|t| t.optimal)),
-    ))
+    let g = run_detached(py, || steiner_trees(pts, l, &options, on_error))?;
+    let (junction_offsets, junctions) = g.csr(|t| t.junctions.as_slice());
+    let (edge_offsets, edges) = g.csr(|t| t.edges.as_slice());
+    let (_, edge_length) = g.csr(|t| t.edge_length.as_slice());
+    let fields = Fields::new(py)
+        .grouped(&g)?
+        .put(
+            "junction_offsets",
+            PyArray1::from_vec(py, index_values(junction_offsets)),
+        )?
+        .put("junctions", point_array(py, &junctions)?)?
+        .put(
+            "edge_offsets",
+            PyArray1::from_vec(py, index_values(edge_offsets)),
+        )?;
+    Ok(put_steiner_ends(fields, py, &edges)?
+        .put("edge_length", PyArray1::from_vec(py, edge_length))?
+        .put(
+            "length",
+            PyArray1::from_vec(py, g.column(f64::NAN, |t| t.length)),
+        )?
+        .put(
+            "mst_length",
+            PyArray1::from_vec(py, g.column(f64::NAN, |t| t.mst_length)),
+        )?
+        .put(
+            "saving",
+            PyArray1::from_vec(py, g.column(f64::NAN, |t| t.saving())),
+        )?
+        .put(
+            "optimal",
+            PyArray1::from_vec(py, g.column(false, |t| t.optimal)),
+        )?
+        .done())
 }
 
 pub(super) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {

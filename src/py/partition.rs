@@ -1,15 +1,25 @@
 //! Bindings of the partition family (`src/partition/`).
+//!
+//! Every function returns named fields (see `fields.rs`). Grouped forms lay per-row values out
+//! in input order (`-1`, NaN or empty for the rows of a skipped group) and say where each row
+//! sits: `row_group` / `point_group` / `site_group` give the position of its group in `labels`.
 
-use numpy::{PyArray1, PyArray2, PyArrayMethods};
+use numpy::{PyArray1, PyArray2, PyArrayMethods, PyReadonlyArray2};
 use pyo3::prelude::*;
+use pyo3::types::PyDict;
 
 use rayon::prelude::*;
 
-use super::convert::{as_point_slice, index_rows, index_values};
+use super::convert::{as_point_slice, index_rows, index_values, on_error_arg};
 use super::errors::input_error;
+use super::fields::Fields;
 use super::{labels_arg, points_arg, run_detached, weights_arg};
+use crate::batch::RowPlaces;
 use crate::geometry::{Point, Weights};
-use crate::partition::{delaunay, nearest_site, voronoi_cells, Region};
+use crate::partition::{
+    delaunay, delaunay_grouped as delaunay_groups, nearest_site, nearest_site_grouped as nearest_site_groups,
+    voronoi_cells, voronoi_cells_grouped as voronoi_cells_groups, Region, Triangulation, VoronoiCells,
+};
 
 fn flat_points(points: &[Point]) -> Vec<f64> {
     points.iter().flatten().copied().collect()
@@ -20,60 +30,98 @@ fn rows<'py>(py: Python<'py>, flat: Vec<i64>, width: usize) -> PyResult<Bound<'p
     PyArray1::from_vec(py, flat).reshape([n, width])
 }
 
-/// (triangles (m, 3), adjacent (m, 3) with -1 on the hull, hull (h,), edges (e, 2), representative (n,))
-type TriangulationTuple<'py> = (
-    Bound<'py, PyArray2<i64>>,
-    Bound<'py, PyArray2<i64>>,
-    Bound<'py, PyArray1<i64>>,
-    Bound<'py, PyArray2<i64>>,
-    Bound<'py, PyArray1<i64>>,
-);
-
-#[pyfunction]
-#[pyo3(signature = (points,))]
-fn delaunay_triangulation<'py>(py: Python<'py>, points: &Bound<'py, PyAny>) -> PyResult<TriangulationTuple<'py>> {
-    let points = points_arg(points, "points")?;
-    let pts = as_point_slice(&points);
-    let (triangles, adjacent, hull, edges, representative) = run_detached(py, || {
-        let t = delaunay(pts)?;
-        let mut adjacent = vec![0i64; 3 * t.adjacent.len()];
-        adjacent.par_chunks_mut(3).zip(t.adjacent.par_iter()).for_each(|(out, across)| {
-            for (o, a) in out.iter_mut().zip(across) {
-                *o = a.map_or(-1, |i| i as i64);
-            }
-        });
-        Ok((
-            index_rows(t.triangles),
-            adjacent,
-            index_values(t.hull),
-            index_rows(t.edges),
-            index_values(t.representative),
-        ))
-    })?;
-    Ok((
-        rows(py, triangles, 3)?,
-        rows(py, adjacent, 3)?,
-        PyArray1::from_vec(py, hull),
-        rows(py, edges, 2)?,
-        PyArray1::from_vec(py, representative),
-    ))
+/// `across[t][k]` as int64, `-1` on the outline, with `first` added to every triangle number
+/// (the position of the triangulation's first triangle among all groups' triangles).
+fn across_values(adjacent: &[[Option<usize>; 3]], first: usize) -> Vec<i64> {
+    let mut out = vec![0i64; 3 * adjacent.len()];
+    out.par_chunks_mut(3).zip(adjacent.par_iter()).for_each(|(out, across)| {
+        for (o, a) in out.iter_mut().zip(across) {
+            *o = a.map_or(-1, |i| (i + first) as i64);
+        }
+    });
+    out
 }
 
-/// (vertices (V, 2), offsets (n + 1,), parts (R + 1,), area (n,))
-type CellsTuple<'py> =
-    (Bound<'py, PyArray2<f64>>, Bound<'py, PyArray1<i64>>, Bound<'py, PyArray1<i64>>, Bound<'py, PyArray1<f64>>);
+/// The group position of every row, as int64.
+fn positions(places: &RowPlaces) -> Vec<i64> {
+    places.group.iter().map(|&g| g as i64).collect()
+}
 
+/// Fields: corners (m, 3), across (m, 3) with -1 on the outline, outline (h,), edges (e, 2),
+/// representative (n,), area (m,).
 #[pyfunction]
-#[pyo3(signature = (sites, region_vertices, ring_offsets))]
-fn voronoi_cells_clipped<'py>(
+#[pyo3(signature = (points,))]
+fn delaunay_single<'py>(py: Python<'py>, points: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyDict>> {
+    let points = points_arg(points, "points")?;
+    let pts = as_point_slice(&points);
+    let (area, t) = run_detached(py, || {
+        let t = delaunay(pts)?;
+        Ok((t.areas(pts), t))
+    })?;
+    let across = across_values(&t.adjacent, 0);
+    let Triangulation { triangles, hull, edges, representative, .. } = t;
+    Ok(Fields::new(py)
+        .put("corners", rows(py, index_rows(triangles), 3)?)?
+        .put("across", rows(py, across, 3)?)?
+        .put("outline", PyArray1::from_vec(py, index_values(hull)))?
+        .put("edges", rows(py, index_rows(edges), 2)?)?
+        .put("representative", PyArray1::from_vec(py, index_values(representative)))?
+        .put("area", PyArray1::from_vec(py, area))?
+        .done())
+}
+
+/// Fields: labels (G,), problem (G,), corners (M, 3) and edges (E, 2) of every group in label
+/// order (input rows) with triangle_offsets / edge_offsets (G + 1,), across (M, 3) naming rows of
+/// `corners` (-1 on an outline), area (M,), outline (H,) with outline_offsets (G + 1,),
+/// representative (n,) (-1 for rows of a skipped group), row_group (n,).
+#[pyfunction]
+#[pyo3(signature = (points, groups, errors))]
+fn delaunay_grouped<'py>(
     py: Python<'py>,
-    sites: &Bound<'py, PyAny>,
+    points: &Bound<'py, PyAny>,
+    groups: &Bound<'py, PyAny>,
+    errors: &str,
+) -> PyResult<Bound<'py, PyDict>> {
+    let on_error = on_error_arg(errors)?;
+    let points = points_arg(points, "points")?;
+    let labels = labels_arg(groups, "groups")?;
+    let pts = as_point_slice(&points);
+    let l = labels.as_slice()?;
+    let (g, places) = run_detached(py, || delaunay_groups(pts, l, on_error))?;
+    let (triangle_offsets, corners) = g.csr(|t| t.triangles.as_slice());
+    let (edge_offsets, edges) = g.csr(|t| t.edges.as_slice());
+    let (outline_offsets, outline) = g.csr(|t| t.hull.as_slice());
+    let (across, area) = run_detached(py, || {
+        let solved =
+            g.results.iter().zip(&triangle_offsets).filter_map(|(r, &first)| r.as_ref().ok().map(|t| (t, first)));
+        let across: Vec<i64> = solved.clone().flat_map(|(t, first)| across_values(&t.adjacent, first)).collect();
+        let area: Vec<f64> = solved.flat_map(|(t, _)| t.areas(pts)).collect();
+        Ok((across, area))
+    })?;
+    let representative = places.by_row(&g, -1i64, |t, k| t.representative[k] as i64);
+    Ok(Fields::new(py)
+        .grouped(&g)?
+        .put("corners", rows(py, index_rows(corners), 3)?)?
+        .put("across", rows(py, across, 3)?)?
+        .put("area", PyArray1::from_vec(py, area))?
+        .put("triangle_offsets", PyArray1::from_vec(py, index_values(triangle_offsets)))?
+        .put("outline", PyArray1::from_vec(py, index_values(outline)))?
+        .put("outline_offsets", PyArray1::from_vec(py, index_values(outline_offsets)))?
+        .put("edges", rows(py, index_rows(edges), 2)?)?
+        .put("edge_offsets", PyArray1::from_vec(py, index_values(edge_offsets)))?
+        .put("representative", PyArray1::from_vec(py, representative))?
+        .put("row_group", PyArray1::from_vec(py, positions(&places)))?
+        .done())
+}
+
+/// The region's vertices and ring offsets, both given or both absent.
+type RegionArrays<'py> = Option<(PyReadonlyArray2<'py, f64>, Vec<usize>)>;
+
+fn region_arg<'py>(
     region_vertices: Option<&Bound<'py, PyAny>>,
     ring_offsets: Option<&Bound<'py, PyAny>>,
-) -> PyResult<CellsTuple<'py>> {
-    let sites = points_arg(sites, "sites")?;
-    let s = as_point_slice(&sites);
-    let region = match (region_vertices.filter(|r| !r.is_none()), ring_offsets.filter(|r| !r.is_none())) {
+) -> PyResult<RegionArrays<'py>> {
+    match (region_vertices.filter(|r| !r.is_none()), ring_offsets.filter(|r| !r.is_none())) {
         (Some(vertices), Some(offsets)) => {
             let offsets = labels_arg(offsets, "region ring offsets")?;
             let offsets: Vec<usize> = offsets
@@ -82,52 +130,148 @@ fn voronoi_cells_clipped<'py>(
                 .map(|&o| usize::try_from(o))
                 .collect::<Result<_, _>>()
                 .map_err(|_| input_error("region ring offsets must be >= 0".into()))?;
-            Some((points_arg(vertices, "region")?, offsets))
+            Ok(Some((points_arg(vertices, "region")?, offsets)))
         }
-        (None, None) => None,
-        _ => return Err(input_error("region vertices and ring offsets must be given together".into())),
-    };
-    let region = region.as_ref().map(|(v, o)| Region { vertices: as_point_slice(v), ring_offsets: o });
-    let (vertices, offsets, parts, area) = run_detached(py, || {
-        let c = voronoi_cells(s, region)?;
-        Ok((flat_points(&c.vertices), index_values(c.offsets), index_values(c.parts), c.area))
-    })?;
-    let v = vertices.len() / 2;
-    Ok((
-        PyArray1::from_vec(py, vertices).reshape([v, 2])?,
-        PyArray1::from_vec(py, offsets),
-        PyArray1::from_vec(py, parts),
-        PyArray1::from_vec(py, area),
-    ))
+        (None, None) => Ok(None),
+        _ => Err(input_error("region vertices and ring offsets must be given together".into())),
+    }
 }
 
-/// (index (n,), distance (n,), load (k,), cost)
-type AllocationTuple<'py> = (Bound<'py, PyArray1<i64>>, Bound<'py, PyArray1<f64>>, Bound<'py, PyArray1<f64>>, f64);
+/// The cells' rings as fields: vertices (V, 2), offsets (n + 1,), parts (R + 1,), area (n,).
+fn cell_fields<'py>(py: Python<'py>, fields: Fields<'py>, cells: VoronoiCells) -> PyResult<Fields<'py>> {
+    let v = cells.vertices.len();
+    fields
+        .put("vertices", PyArray1::from_vec(py, flat_points(&cells.vertices)).reshape([v, 2])?)?
+        .put("offsets", PyArray1::from_vec(py, index_values(cells.offsets)))?
+        .put("parts", PyArray1::from_vec(py, index_values(cells.parts)))?
+        .put("area", PyArray1::from_vec(py, cells.area))
+}
 
+/// Fields: vertices (V, 2), offsets (n + 1,), parts (R + 1,), area (n,).
+#[pyfunction]
+#[pyo3(signature = (sites, region_vertices, ring_offsets))]
+fn voronoi_cells_single<'py>(
+    py: Python<'py>,
+    sites: &Bound<'py, PyAny>,
+    region_vertices: Option<&Bound<'py, PyAny>>,
+    ring_offsets: Option<&Bound<'py, PyAny>>,
+) -> PyResult<Bound<'py, PyDict>> {
+    let sites = points_arg(sites, "sites")?;
+    let s = as_point_slice(&sites);
+    let region = region_arg(region_vertices, ring_offsets)?;
+    let region = region.as_ref().map(|(v, o)| Region { vertices: as_point_slice(v), ring_offsets: o });
+    let cells = run_detached(py, || voronoi_cells(s, region))?;
+    Ok(cell_fields(py, Fields::new(py), cells)?.done())
+}
+
+/// Fields: labels (G,), problem (G,), the cells of every site row in input order as
+/// vertices (V, 2), offsets (k + 1,), parts (R + 1,), area (k,) (a skipped group's sites have
+/// empty cells and NaN area), site_group (k,).
+#[pyfunction]
+#[pyo3(signature = (sites, groups, region_vertices, ring_offsets, errors))]
+fn voronoi_cells_grouped<'py>(
+    py: Python<'py>,
+    sites: &Bound<'py, PyAny>,
+    groups: &Bound<'py, PyAny>,
+    region_vertices: Option<&Bound<'py, PyAny>>,
+    ring_offsets: Option<&Bound<'py, PyAny>>,
+    errors: &str,
+) -> PyResult<Bound<'py, PyDict>> {
+    let on_error = on_error_arg(errors)?;
+    let sites = points_arg(sites, "sites")?;
+    let labels = labels_arg(groups, "groups")?;
+    let s = as_point_slice(&sites);
+    let l = labels.as_slice()?;
+    let region = region_arg(region_vertices, ring_offsets)?;
+    let region = region.as_ref().map(|(v, o)| Region { vertices: as_point_slice(v), ring_offsets: o });
+    let (g, places, cells) = run_detached(py, || {
+        let (g, places) = voronoi_cells_groups(s, l, region, on_error)?;
+        let cells = VoronoiCells::by_row(&g, &places);
+        Ok((g, places, cells))
+    })?;
+    let fields = Fields::new(py).grouped(&g)?;
+    Ok(cell_fields(py, fields, cells)?.put("site_group", PyArray1::from_vec(py, positions(&places)))?.done())
+}
+
+/// Fields: assignment (n,), distance (n,), load (k,), count (k,), cost, total_load.
 #[pyfunction]
 #[pyo3(signature = (points, sites, weights))]
-fn nearest_site_allocation<'py>(
+fn nearest_site_single<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     sites: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
-) -> PyResult<AllocationTuple<'py>> {
+) -> PyResult<Bound<'py, PyDict>> {
     let points = points_arg(points, "points")?;
     let sites = points_arg(sites, "sites")?;
     let weights = weights_arg(weights, "weights")?;
     let (p, s) = (as_point_slice(&points), as_point_slice(&sites));
     let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
-    let (index, a) = run_detached(py, || {
-        let mut a = nearest_site(p, s, Weights::from_option(w))?;
-        let index = index_values(std::mem::take(&mut a.index));
-        Ok((index, a))
-    })?;
-    Ok((PyArray1::from_vec(py, index), PyArray1::from_vec(py, a.distance), PyArray1::from_vec(py, a.load), a.cost))
+    let a = run_detached(py, || nearest_site(p, s, Weights::from_option(w)))?;
+    Ok(Fields::new(py)
+        .put("assignment", PyArray1::from_vec(py, index_values(a.index)))?
+        .put("distance", PyArray1::from_vec(py, a.distance))?
+        .put("load", PyArray1::from_vec(py, a.load))?
+        .put("count", PyArray1::from_vec(py, index_values(a.count)))?
+        .put("cost", a.cost)?
+        .put("total_load", a.total_load)?
+        .done())
+}
+
+/// Fields: labels (G,), problem (G,); per demand row assignment (n,) (the site's input row;
+/// -1 in a skipped group), distance (n,) (NaN there), point_group (n,); per site row load (k,)
+/// (NaN in a skipped group), count (k,) (0 there), site_group (k,); per group cost,
+/// total_load (G,) (NaN when skipped), point_count, site_count (G,).
+#[pyfunction]
+#[pyo3(signature = (points, sites, weights, groups, site_groups, errors))]
+#[allow(clippy::too_many_arguments)]
+fn nearest_site_grouped<'py>(
+    py: Python<'py>,
+    points: &Bound<'py, PyAny>,
+    sites: &Bound<'py, PyAny>,
+    weights: Option<&Bound<'py, PyAny>>,
+    groups: &Bound<'py, PyAny>,
+    site_groups: &Bound<'py, PyAny>,
+    errors: &str,
+) -> PyResult<Bound<'py, PyDict>> {
+    let on_error = on_error_arg(errors)?;
+    let points = points_arg(points, "points")?;
+    let sites = points_arg(sites, "sites")?;
+    let weights = weights_arg(weights, "weights")?;
+    let labels = labels_arg(groups, "groups")?;
+    let site_labels = labels_arg(site_groups, "site_groups")?;
+    let (p, s) = (as_point_slice(&points), as_point_slice(&sites));
+    let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
+    let (l, sl) = (labels.as_slice()?, site_labels.as_slice()?);
+    let r = run_detached(py, || nearest_site_groups(p, Weights::from_option(w), l, s, sl, on_error))?;
+    let g = &r.grouped;
+    let assignment = r.points.by_row(g, -1i64, |a, k| a.index[k] as i64);
+    let distance = r.points.by_row(g, f64::NAN, |a, k| a.distance[k]);
+    let load = r.sites.by_row(g, f64::NAN, |a, k| a.load[k]);
+    let count = r.sites.by_row(g, 0i64, |a, k| a.count[k] as i64);
+    let groups = g.labels.len();
+    let sizes = |places: &RowPlaces| index_values(places.sizes(groups));
+    Ok(Fields::new(py)
+        .grouped(g)?
+        .put("assignment", PyArray1::from_vec(py, assignment))?
+        .put("distance", PyArray1::from_vec(py, distance))?
+        .put("point_group", PyArray1::from_vec(py, positions(&r.points)))?
+        .put("load", PyArray1::from_vec(py, load))?
+        .put("count", PyArray1::from_vec(py, count))?
+        .put("site_group", PyArray1::from_vec(py, positions(&r.sites)))?
+        .put("cost", PyArray1::from_vec(py, g.column(f64::NAN, |a| a.cost)))?
+        .put("total_load", PyArray1::from_vec(py, g.column(f64::NAN, |a| a.total_load)))?
+        .put("point_count", PyArray1::from_vec(py, sizes(&r.points)))?
+        .put("site_count", PyArray1::from_vec(py, sizes(&r.sites)))?
+        .done())
 }
 
 pub(super) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
-    m.add_function(wrap_pyfunction!(delaunay_triangulation, m)?)?;
-    m.add_function(wrap_pyfunction!(voronoi_cells_clipped, m)?)?;
-    m.add_function(wrap_pyfunction!(nearest_site_allocation, m)?)?;
+    m.add_function(wrap_pyfunction!(delaunay_single, m)?)?;
+    m.add_function(wrap_pyfunction!(delaunay_grouped, m)?)?;
+    m.add_function(wrap_pyfunction!(voronoi_cells_single, m)?)?;
+    m.add_function(wrap_pyfunction!(voronoi_cells_grouped, m)?)?;
+    m.add_function(wrap_pyfunction!(nearest_site_single, m)?)?;
+    m.add_function(wrap_pyfunction!(nearest_site_grouped, m)?)?;
     Ok(())
 }

@@ -123,6 +123,12 @@ def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bo
         ff = prepare(fixed, "fixed", planar=planar, centroids=centroids, work=pf.work)
         options = {**options, "fixed": ff.xy}
         rows["fixed"] = ff.rows
+        if groups is not None:
+            # Each existing site serves only the demand of its own group; one whose group
+            # value has no demand (code -1) serves nobody.
+            fixed_groups = groups_of(ff.frame, by, "fixed")
+            assert fixed_groups is not None
+            options["fixed_groups"] = groups.values.get_indexer(fixed_groups.values.take(fixed_groups.codes))
     grouped = {} if groups is None else {"errors": errors}
     kernel = _pw.p_median if kind == "median" else _pw.p_center
     result = call(kernel, pf.xy, p, weights(pf, weight, "frame"), groups=groups, rows=rows, **grouped, **options)

@@ -8,23 +8,27 @@
 //! - [`heuristic`]: Steiner insertion on Delaunay triangles for large terminal sets.
 //! - [`smith`]: re-optimisation of Steiner point positions for a fixed topology, and the
 //!   clean-up that restores the 120° rule.
+//! - [`solve`]: the choice between the exact solver and the heuristic.
 //!
-//! Everything here works on distinct terminals in a normalised frame (see
-//! [`super::steiner_tree`]): coordinates centred and scaled by a power of two so that the
-//! terminals' bounding box has a diagonal in (0.5, 1], which makes the absolute
-//! tolerances below meaningful.
+//! Everything here works on distinct terminals in the one working frame
+//! ([`crate::geometry::WorkingFrame`], see [`super::steiner_tree`]): coordinates centred and
+//! scaled by a power of two so that the longer side of the terminals' bounding box lies in
+//! (0.5, 1], which makes the absolute tolerances below meaningful.
 
-pub mod concatenate;
-pub mod fst;
-pub mod heuristic;
-pub mod smith;
+mod concatenate;
+mod fst;
+mod heuristic;
+mod smith;
+mod solve;
+
+pub(super) use solve::solve_distinct;
 
 use crate::geometry::{add, distance, scale, sub, Point};
 
 /// `√3 / 2`.
 pub(crate) const HALF_SQRT3: f64 = 0.866_025_403_784_438_6;
 
-/// A tree on terminals `0..terminal_count` and Steiner points after them, in a normalised frame.
+/// A tree on terminals `0..terminal_count` and Steiner points after them, in the working frame.
 #[derive(Debug, Clone, PartialEq)]
 pub(crate) struct Network {
     /// Terminals first, then Steiner points.
@@ -61,7 +65,13 @@ impl Network {
 #[inline]
 pub(crate) fn equilateral_point(p: Point, q: Point) -> Point {
     let d = sub(q, p);
-    add(p, [0.5 * d[0] + HALF_SQRT3 * d[1], -HALF_SQRT3 * d[0] + 0.5 * d[1]])
+    add(
+        p,
+        [
+            0.5 * d[0] + HALF_SQRT3 * d[1],
+            -HALF_SQRT3 * d[0] + 0.5 * d[1],
+        ],
+    )
 }
 
 /// Cross product `a × b` (the z-component), a magnitude for angle computations; signs
@@ -90,7 +100,11 @@ pub(crate) fn fermat_point(a: Point, b: Point, c: Point) -> Point {
         }
     }
     // Orient b → c so that the equilateral point falls on the side away from a.
-    let (p, q) = if crate::geometry::predicates::orient2d(b, c, a) > 0.0 { (b, c) } else { (c, b) };
+    let (p, q) = if crate::geometry::predicates::orient2d(b, c, a) > 0.0 {
+        (b, c)
+    } else {
+        (c, b)
+    };
     let e = equilateral_point(p, q);
     let centre = scale(add(add(p, q), e), 1.0 / 3.0);
     simpson_hit(e, a, centre).unwrap_or(centre)

@@ -13,7 +13,7 @@ use std::f64::consts::PI;
 use super::{angle_at, fermat_point, Network};
 use crate::geometry::{add, distance, scale, sub, Point};
 
-/// Edges shorter than this (normalised coordinates) are contracted.
+/// Edges shorter than this (working-frame coordinates) are contracted.
 const SHORT: f64 = 1e-9;
 /// Smallest edge length used in the weights.
 const FLOOR: f64 = 1e-15;
@@ -88,7 +88,11 @@ pub(crate) fn optimise_positions(net: &mut Network, max_iter: usize) -> usize {
             }
         }
         for &s in &order {
-            let x = if parent[s] == usize::MAX { a[s] } else { add(a[s], scale(net.nodes[parent[s]], b[s])) };
+            let x = if parent[s] == usize::MAX {
+                a[s]
+            } else {
+                add(a[s], scale(net.nodes[parent[s]], b[s]))
+            };
             net.nodes[s] = x;
         }
     }
@@ -99,8 +103,8 @@ pub(crate) fn optimise_positions(net: &mut Network, max_iter: usize) -> usize {
 fn worst_angle_error(net: &Network, adjacency: &[Vec<usize>]) -> f64 {
     let third = 2.0 * PI / 3.0;
     let mut worst: f64 = 0.0;
-    for s in net.terminal_count..net.nodes.len() {
-        if let [i, j, k] = adjacency[s][..] {
+    for (s, around) in adjacency.iter().enumerate().skip(net.terminal_count) {
+        if let [i, j, k] = around[..] {
             let (p, a, b, c) = (net.nodes[s], net.nodes[i], net.nodes[j], net.nodes[k]);
             if distance(p, a).min(distance(p, b)).min(distance(p, c)) <= SHORT {
                 return f64::INFINITY;
@@ -148,8 +152,8 @@ fn polish(net: &mut Network, max_sweeps: usize) {
     let adjacency = net.adjacency();
     for _ in 0..max_sweeps {
         let mut moved = false;
-        for s in net.terminal_count..net.nodes.len() {
-            let [i, j, k] = adjacency[s][..] else { continue };
+        for (s, around) in adjacency.iter().enumerate().skip(net.terminal_count) {
+            let [i, j, k] = around[..] else { continue };
             let (p, a, b, c) = (net.nodes[s], net.nodes[i], net.nodes[j], net.nodes[k]);
             if distance(p, a).min(distance(p, b)).min(distance(p, c)) <= SHORT {
                 continue;
@@ -255,7 +259,9 @@ pub(crate) fn drop_thin_steiner_points(net: &mut Network) -> bool {
     let t = net.terminal_count;
     let mut adjacency: Vec<Vec<usize>> = net.adjacency();
     let mut removed = vec![false; net.nodes.len()];
-    let mut queue: Vec<usize> = (t..net.nodes.len()).filter(|&s| adjacency[s].len() <= 2).collect();
+    let mut queue: Vec<usize> = (t..net.nodes.len())
+        .filter(|&s| adjacency[s].len() <= 2)
+        .collect();
     let mut changed = false;
     while let Some(s) = queue.pop() {
         if removed[s] || adjacency[s].len() > 2 {
@@ -304,12 +310,17 @@ fn split_narrow_angles(net: &mut Network) -> bool {
         }
         loop {
             let narrowest = narrowest_pair(net.nodes[v], &adjacency[v], &net.nodes);
-            let Some((a, b, angle)) = narrowest else { break };
+            let Some((a, b, angle)) = narrowest else {
+                break;
+            };
             if angle >= limit {
                 break;
             }
             let f = fermat_point(net.nodes[v], net.nodes[a], net.nodes[b]);
-            if distance(f, net.nodes[v]) <= SHORT || distance(f, net.nodes[a]) <= SHORT || distance(f, net.nodes[b]) <= SHORT {
+            if distance(f, net.nodes[v]) <= SHORT
+                || distance(f, net.nodes[a]) <= SHORT
+                || distance(f, net.nodes[b]) <= SHORT
+            {
                 break;
             }
             let s = net.nodes.len();
@@ -394,7 +405,11 @@ mod tests {
         };
         settle(&mut net, 50, 5_000);
         assert_eq!(net.nodes.len(), 6);
-        assert!((net.length() - (1.0 + 3f64.sqrt())).abs() < 1e-9, "{}", net.length());
+        assert!(
+            (net.length() - (1.0 + 3f64.sqrt())).abs() < 1e-9,
+            "{}",
+            net.length()
+        );
     }
 
     #[test]

@@ -1,0 +1,129 @@
+//! The p-center heuristic: the alternating method of Drezner (1984), "The p-centre problem
+//! — heuristic and optimal algorithms", J. Operational Research Society 35(8). Allocate
+//! every point to its nearest site, move every site to the weighted minimax point of its
+//! cluster ([`minimax_point`](crate::enclose::minimax_point)), repeat while the radius
+//! falls. A local optimum is then improved by handing a point that fixes the largest circle
+//! (a support point of the critical cluster) to a neighbouring cluster and re-solving both,
+//! again while the radius falls. Restarts alternate weighted farthest-first starts (Gonzalez
+//! 1985; the first from the heaviest location, later ones from a random one) with
+//! D-sampling starts; the best plan wins.
+
+use super::{CenterOptions, Demand, Plan, IMPROVEMENT, MAX_ROUNDS};
+use crate::error::Result;
+use crate::geometry::random::SplitMix64;
+use crate::geometry::{distance, Point, Weights};
+use crate::multi::seeding::d_sampling;
+use crate::partition::{allocate, SiteIndex};
+
+impl Demand {
+    /// The best of `options.restarts` descents from seeded starts.
+    pub(super) fn restarts(&self, p: usize, options: &CenterOptions, iterations: &mut usize) -> Result<Plan> {
+        let mut rng = SplitMix64::new(options.seed);
+        let mut best: Option<Plan> = None;
+        for restart in 0..options.restarts.max(1) {
+            let start = if restart % 2 == 0 {
+                let first = if restart == 0 { self.heaviest() } else { rng.below(self.len()) };
+                self.farthest_first(first, p).iter().map(|&i| self.points[i]).collect()
+            } else {
+                d_sampling(&self.points, Weights::Given(&self.weights), &self.all, &[], p, &mut rng)
+            };
+            let plan = self.descend(start, iterations)?;
+            if best.as_ref().is_none_or(|b| plan.radius < b.radius * (1.0 - IMPROVEMENT)) {
+                best = Some(plan);
+            }
+        }
+        Ok(best.expect("at least one restart"))
+    }
+
+    /// Clusters of the nearest-site allocation (members per site, in point order).
+    fn clusters(&self, sites: &[Point]) -> Result<Vec<Vec<usize>>> {
+        let allocation = allocate(&self.points, &SiteIndex::new(sites)?, Weights::Given(&self.weights));
+        let mut clusters = vec![Vec::new(); sites.len()];
+        for (i, &j) in allocation.index.iter().enumerate() {
+            clusters[j].push(i);
+        }
+        Ok(clusters)
+    }
+
+    /// Drezner's alternation to a local optimum, then support-point hand-overs while they help.
+    fn descend(&self, mut sites: Vec<Point>, iterations: &mut usize) -> Result<Plan> {
+        let mut buffer = (Vec::new(), Vec::new());
+        let mut radius = self.radius(&sites)?;
+        loop {
+            // Alternation: minimax point of every cluster, while the radius falls.
+            for _ in 0..MAX_ROUNDS {
+                *iterations += 1;
+                let clusters = self.clusters(&sites)?;
+                let mut moved = sites.clone();
+                for (j, members) in clusters.iter().enumerate() {
+                    if !members.is_empty() {
+                        moved[j] = self.minimax(members, &mut buffer)?.location;
+                    }
+                }
+                let r = self.radius(&moved)?;
+                if r >= radius * (1.0 - IMPROVEMENT) {
+                    break;
+                }
+                (sites, radius) = (moved, r);
+            }
+            match self.hand_over(&sites, radius, &mut buffer)? {
+                Some((better, r)) => (sites, radius) = (better, r),
+                None => return Ok(Plan { sites, radius }),
+            }
+        }
+    }
+
+    /// Try handing each support point of the critical cluster to one of the three nearest
+    /// other sites; return the first resulting plan with a smaller radius.
+    fn hand_over(
+        &self,
+        sites: &[Point],
+        radius: f64,
+        buffer: &mut (Vec<Point>, Vec<f64>),
+    ) -> Result<Option<(Vec<Point>, f64)>> {
+        let clusters = self.clusters(sites)?;
+        let mut critical = None;
+        let mut worst = -1.0;
+        let mut solved = Vec::with_capacity(clusters.len());
+        for (j, members) in clusters.iter().enumerate() {
+            if members.is_empty() {
+                solved.push(None);
+                continue;
+            }
+            let m = self.minimax(members, buffer)?;
+            if m.radius > worst {
+                (worst, critical) = (m.radius, Some(j));
+            }
+            solved.push(Some(m));
+        }
+        let Some(c) = critical else { return Ok(None) };
+        let support = solved[c].as_ref().expect("critical cluster is solved").support.clone();
+        for &s in &support {
+            let mut others: Vec<usize> = (0..sites.len()).filter(|&j| j != c).collect();
+            others.sort_by(|&a, &b| {
+                distance(self.points[s], sites[a]).total_cmp(&distance(self.points[s], sites[b])).then(a.cmp(&b))
+            });
+            let rest: Vec<usize> = clusters[c].iter().copied().filter(|&i| i != s).collect();
+            if rest.is_empty() {
+                continue;
+            }
+            let shrunk = self.minimax(&rest, buffer)?;
+            for &j in others.iter().take(3) {
+                let mut grown_members = clusters[j].clone();
+                grown_members.push(s);
+                let grown = self.minimax(&grown_members, buffer)?;
+                if grown.radius.max(shrunk.radius) >= radius {
+                    continue;
+                }
+                let mut trial = sites.to_vec();
+                trial[c] = shrunk.location;
+                trial[j] = grown.location;
+                let r = self.radius(&trial)?;
+                if r < radius * (1.0 - IMPROVEMENT) {
+                    return Ok(Some((trial, r)));
+                }
+            }
+        }
+        Ok(None)
+    }
+}

@@ -1,0 +1,314 @@
+//! Continuous p-center: `p` sites minimising the largest weighted distance
+//! `maxᵢ wᵢ · minⱼ ‖sⱼ − aᵢ‖` from a demand point to its nearest site.
+//!
+//! - `drezner` — the heuristic: Drezner's (1984) alternation of nearest-site clusters and
+//!   their minimax points, with hand-overs of the points fixing the largest circle, from
+//!   restarts alternating farthest-first (Gonzalez 1985) and D-sampling starts.
+//! - `exact` — tiny instances (at most [`EXACT_MAX_POINTS`] distinct points of positive
+//!   weight) by branch and bound over all splits into at most `p` clusters.
+//!
+//! Only the distinct locations of positive weight matter, each with the largest weight found
+//! there (a largest weighted distance depends on nothing else): the search runs on those.
+
+mod drezner;
+mod exact;
+
+use super::{check_site_count, Location, Service};
+use crate::batch::{run_grouped_placed, Grouped, OnGroupError, RowPlaces};
+use crate::enclose::{minimax_point, MinimaxPoint};
+use crate::error::Result;
+use crate::geometry::{distance, validate_points, validate_weights, Point, Weights};
+use crate::partition::{allocate, SiteIndex};
+
+/// Instances with at most this many distinct points of positive weight are solved exactly.
+pub const EXACT_MAX_POINTS: usize = 10;
+
+/// Options of [`p_center`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct CenterOptions {
+    /// Seed of the restarts: the same seed gives the same answer.
+    pub seed: u64,
+    /// Number of restarts of the heuristic.
+    pub restarts: usize,
+}
+
+impl Default for CenterOptions {
+    fn default() -> Self {
+        CenterOptions { seed: 0, restarts: 16 }
+    }
+}
+
+/// A p-center plan.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CenterPlan {
+    /// The `p` sites.
+    pub sites: Vec<Point>,
+    /// How the sites serve the demand; the plan's objective is `service.weighted_radius`.
+    pub service: Service,
+    /// True when the plan is proven optimal (tiny instances, solved exactly).
+    pub optimal: bool,
+    /// Alternation rounds (allocation + minimax-point steps) performed.
+    pub iterations: usize,
+}
+
+/// Cap on alternation rounds per descent.
+const MAX_ROUNDS: usize = 200;
+/// A plan replaces the incumbent only when its radius is smaller by this relative margin.
+const IMPROVEMENT: f64 = 1e-12;
+
+/// `p` sites minimising the largest weighted distance from a point to its nearest site.
+///
+/// `p = 1` is the weighted minimax point itself ([`minimax_point`]). Points of weight zero
+/// are served (they get an assignment) but do not influence the sites.
+///
+/// # Errors
+/// - [`crate::Error::TooFewPoints`] when `points` is empty, or when fewer than `p` distinct
+///   points carry positive weight;
+/// - [`crate::Error::InvalidParameter`] when `p = 0`;
+/// - [`crate::Error::NonFiniteCoordinate`] for a NaN or infinite coordinate;
+/// - [`crate::Error::LengthMismatch`], [`crate::Error::InvalidWeight`],
+///   [`crate::Error::AllWeightsZero`] for bad weights.
+///
+/// # Runtime
+/// Each alternation round costs O(n log p) for the allocation and O(n) (expected) for the
+/// minimax points; a descent takes a few to a few dozen rounds, times `restarts`. The exact
+/// search on at most [`EXACT_MAX_POINTS`] points visits at most the Bell number
+/// B₁₀ = 115 975 splits, usually far fewer.
+pub fn p_center(points: &[Point], weights: Weights<'_>, p: usize, options: &CenterOptions) -> Result<CenterPlan> {
+    validate_points("points", points, 1)?;
+    validate_weights("weights", weights, points.len())?;
+    let distinct = check_site_count(points, weights, p)?;
+
+    let mut iterations = 0;
+    let (sites, optimal) = if p == 1 {
+        (vec![minimax_point(points, weights)?.location], true)
+    } else {
+        let demand = Demand::of(points, &distinct);
+        if demand.len() == p {
+            (demand.points.clone(), true)
+        } else {
+            let heuristic = demand.restarts(p, options, &mut iterations)?;
+            if demand.len() <= EXACT_MAX_POINTS {
+                (demand.exact(p, heuristic)?.sites, true)
+            } else {
+                (heuristic.sites, false)
+            }
+        }
+    };
+    let service = Service::of(points, weights, &sites)?;
+    Ok(CenterPlan { sites, service, optimal, iterations })
+}
+
+/// [`p_center`] on every group of `points` (labels `labels`), in parallel, with the same `p`
+/// for every group. Every group's plan equals a separate [`p_center`] call on its points; the
+/// [`RowPlaces`] say where every input row sits.
+///
+/// # Errors
+/// The errors of [`run_grouped_placed`]; with [`OnGroupError::Raise`] the first
+/// group's error of [`p_center`].
+pub fn p_centers(
+    points: &[Point],
+    weights: Weights<'_>,
+    labels: &[i64],
+    p: usize,
+    options: &CenterOptions,
+    on_error: OnGroupError,
+) -> Result<(Grouped<CenterPlan>, RowPlaces)> {
+    run_grouped_placed("points", points, weights, labels, on_error, |group| {
+        p_center(group.points, group.weights, p, options)
+    })
+}
+
+/// The distinct locations of positive weight, each with the largest weight found there.
+struct Demand {
+    points: Vec<Point>,
+    weights: Vec<f64>,
+    /// `0..len()`: every location is a candidate site of D-sampling.
+    all: Vec<usize>,
+}
+
+/// Sites with the radius they achieve on the demand.
+#[derive(Debug, Clone)]
+struct Plan {
+    sites: Vec<Point>,
+    radius: f64,
+}
+
+impl Demand {
+    fn of(points: &[Point], distinct: &[Location]) -> Demand {
+        Demand {
+            points: distinct.iter().map(|l| points[l.first]).collect(),
+            weights: distinct.iter().map(|l| l.heaviest).collect(),
+            all: (0..distinct.len()).collect(),
+        }
+    }
+
+    fn len(&self) -> usize {
+        self.points.len()
+    }
+
+    /// Largest weighted distance to the nearest of `sites`.
+    fn radius(&self, sites: &[Point]) -> Result<f64> {
+        let allocation = allocate(&self.points, &SiteIndex::new(sites)?, Weights::Given(&self.weights));
+        Ok(self.weights.iter().zip(&allocation.distance).map(|(w, d)| w * d).fold(0.0, f64::max))
+    }
+
+    /// The minimax point of the demand points `members`, its support named by demand index.
+    fn minimax(&self, members: &[usize], buffer: &mut (Vec<Point>, Vec<f64>)) -> Result<MinimaxPoint> {
+        buffer.0.clear();
+        buffer.1.clear();
+        for &i in members {
+            buffer.0.push(self.points[i]);
+            buffer.1.push(self.weights[i]);
+        }
+        let mut m = minimax_point(&buffer.0, Weights::Given(&buffer.1))?;
+        for s in &mut m.support {
+            *s = members[*s];
+        }
+        Ok(m)
+    }
+
+    /// Weighted farthest-first traversal (Gonzalez 1985, "Clustering to minimize the maximum
+    /// intercluster distance", Theoretical Computer Science 38): from `first`, each next
+    /// location is the one of largest weighted distance to those taken so far (the first
+    /// such in demand order); `count` locations in all, by demand index.
+    fn farthest_first(&self, first: usize, count: usize) -> Vec<usize> {
+        let mut order = vec![first];
+        let mut taken = vec![false; self.len()];
+        taken[first] = true;
+        let mut reach: Vec<f64> =
+            (0..self.len()).map(|i| self.weights[i] * distance(self.points[i], self.points[first])).collect();
+        while order.len() < count {
+            let far = (0..self.len())
+                .filter(|&i| !taken[i])
+                .fold(None, |b: Option<usize>, i| match b {
+                    Some(b) if reach[b] >= reach[i] => Some(b),
+                    _ => Some(i),
+                })
+                .expect("count never exceeds the number of locations");
+            taken[far] = true;
+            order.push(far);
+            for (r, (&a, &w)) in reach.iter_mut().zip(self.points.iter().zip(&self.weights)) {
+                *r = r.min(w * distance(a, self.points[far]));
+            }
+        }
+        order
+    }
+
+    /// The heaviest location (the first such in demand order).
+    fn heaviest(&self) -> usize {
+        (0..self.len()).fold(0, |b, i| if self.weights[i] > self.weights[b] { i } else { b })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::enclose::enclosing_circle;
+    use crate::error::Error;
+    use crate::geometry::random::SplitMix64;
+
+    /// Exhaustive reference: every assignment of points to p labels, the largest enclosing
+    /// circle radius of the parts (Welzl's circle per part), minimised.
+    fn brute_force(points: &[Point], p: usize) -> f64 {
+        let n = points.len();
+        let mut best = f64::INFINITY;
+        let mut labels = vec![0usize; n];
+        loop {
+            let mut worst: f64 = 0.0;
+            for part in 0..p {
+                let members: Vec<Point> = (0..n).filter(|&i| labels[i] == part).map(|i| points[i]).collect();
+                if !members.is_empty() {
+                    worst = worst.max(enclosing_circle(&members).unwrap().radius);
+                }
+            }
+            best = best.min(worst);
+            let mut k = 0;
+            while k < n {
+                labels[k] += 1;
+                if labels[k] < p {
+                    break;
+                }
+                labels[k] = 0;
+                k += 1;
+            }
+            if k == n {
+                return best;
+            }
+        }
+    }
+
+    fn cloud(n: usize, seed: u64) -> Vec<Point> {
+        let mut rng = SplitMix64::new(seed);
+        (0..n).map(|_| [rng.next_f64() * 10.0, rng.next_f64() * 6.0]).collect()
+    }
+
+    #[test]
+    fn one_site_is_the_minimax_point() {
+        // p = 1 is the weighted 1-center by definition.
+        let pts = cloud(30, 1);
+        let w: Vec<f64> = (0..30).map(|i| 1.0 + (i % 4) as f64).collect();
+        let plan = p_center(&pts, Weights::Given(&w), 1, &CenterOptions::default()).unwrap();
+        let single = minimax_point(&pts, Weights::Given(&w)).unwrap();
+        assert_eq!(plan.sites, vec![single.location]);
+        assert!((plan.service.weighted_radius - single.radius).abs() <= 1e-12 * single.radius);
+    }
+
+    #[test]
+    fn tiny_instances_match_exhaustive_search_over_all_splits() {
+        for seed in 0..6 {
+            let pts = cloud(7, seed);
+            for p in 2..=3 {
+                let plan = p_center(&pts, Weights::Unit, p, &CenterOptions::default()).unwrap();
+                let reference = brute_force(&pts, p);
+                let r = plan.service.weighted_radius;
+                assert!(plan.optimal);
+                assert!((r - reference).abs() <= 1e-9 * reference, "seed {seed} p {p}: {r} vs {reference}");
+            }
+        }
+    }
+
+    #[test]
+    fn heuristic_is_never_worse_than_its_farthest_first_start() {
+        // Gonzalez (1985): farthest-first is a 2-approximation; our descent only improves on it.
+        let pts = cloud(400, 3);
+        let plan = p_center(&pts, Weights::Unit, 6, &CenterOptions::default()).unwrap();
+        let demand = Demand::of(&pts, &check_site_count(&pts, Weights::Unit, 6).unwrap());
+        let start: Vec<Point> = demand.farthest_first(demand.heaviest(), 6).iter().map(|&i| demand.points[i]).collect();
+        assert!(plan.service.weighted_radius <= demand.radius(&start).unwrap());
+        assert!(!plan.optimal);
+    }
+
+    #[test]
+    fn two_far_groups_get_one_site_each() {
+        // Closed form: two unit squares' corner sets far apart; each square's circle has
+        // radius √2 / 2.
+        let pts = [[0.0, 0.0], [1.0, 0.0], [0.0, 1.0], [1.0, 1.0], [50.0, 0.0], [51.0, 0.0], [50.0, 1.0], [51.0, 1.0]];
+        let plan = p_center(&pts, Weights::Unit, 2, &CenterOptions::default()).unwrap();
+        assert!((plan.service.weighted_radius - 0.5f64.sqrt()).abs() < 1e-12);
+        assert_eq!(plan.service.count, vec![4, 4]);
+    }
+
+    #[test]
+    fn weighted_radius_and_plain_radius_differ_with_weights() {
+        // Closed form: sites at the two points; the zero-weight point at distance 3 from its
+        // site sets the plain radius, no weighted one.
+        let pts = [[0.0, 0.0], [10.0, 0.0], [3.0, 0.0]];
+        let w = [2.0, 1.0, 0.0];
+        let plan = p_center(&pts, Weights::Given(&w), 2, &CenterOptions::default()).unwrap();
+        assert_eq!((plan.service.weighted_radius, plan.service.radius), (0.0, 3.0));
+        assert_eq!(plan.service.load, vec![2.0, 1.0]);
+    }
+
+    #[test]
+    fn bad_p_is_refused() {
+        let pts = [[0.0, 0.0], [1.0, 0.0], [1.0, 0.0]];
+        assert!(matches!(
+            p_center(&pts, Weights::Unit, 0, &CenterOptions::default()),
+            Err(Error::InvalidParameter { .. })
+        ));
+        assert!(matches!(p_center(&pts, Weights::Unit, 3, &CenterOptions::default()), Err(Error::TooFewPoints { .. })));
+        let plan = p_center(&pts, Weights::Unit, 2, &CenterOptions::default()).unwrap();
+        assert_eq!(plan.service.weighted_radius, 0.0);
+    }
+}

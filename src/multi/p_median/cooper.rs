@@ -1,0 +1,141 @@
+//! Cooper's local step: Cooper (1964), "Heuristic methods for location–allocation
+//! problems", SIAM Review 6(1). Alternate *allocation* (each point to its nearest site) and
+//! *location* (each site to the Fermat–Weber point of its cluster, by [`weber_point`]) until
+//! the allocation no longer changes. Only clusters whose membership changed are re-solved,
+//! and only the points a moved site could gain or lose are re-allocated
+//! ([`Problem::reallocate`]).
+//!
+//! Invariant: at the end every point is allocated to a nearest site and every new site with
+//! a weighted cluster is that cluster's Fermat–Weber point (to the Weber tolerance) — the
+//! two conditions of a local optimum.
+
+use super::{Problem, Solution, MAX_ROUNDS};
+use crate::error::Result;
+use crate::geometry::{Point, Weights};
+use crate::median::{weber_point, WeberOptions};
+
+/// Reusable buffers of one search: clusters in CSR form and one cluster's points.
+#[derive(Debug, Default)]
+pub(super) struct Workspace {
+    offsets: Vec<usize>,
+    order: Vec<usize>,
+    cluster_points: Vec<Point>,
+    cluster_weights: Vec<f64>,
+}
+
+impl Problem<'_> {
+    /// Cooper's alternating location–allocation from `sites` until the allocation is stable,
+    /// or — when `settle > 0` — until a round lowers the cost by at most `settle · cost`.
+    pub(super) fn cooper(
+        &self,
+        mut sites: Vec<Point>,
+        tol: f64,
+        settle: f64,
+        ws: &mut Workspace,
+        rounds: &mut usize,
+    ) -> Result<Solution> {
+        let options = WeberOptions { tol, ..WeberOptions::default() };
+        let mut served = self.served(&sites)?;
+        let mut changed = vec![true; self.p];
+        for _ in 0..MAX_ROUNDS {
+            *rounds += 1;
+            self.gather(&served.index, ws);
+            let (mut moved, mut empty) = (Vec::new(), Vec::new());
+            for j in 0..self.p {
+                if !changed[j] {
+                    continue;
+                }
+                let members = &ws.order[ws.offsets[j]..ws.offsets[j + 1]];
+                ws.cluster_points.clear();
+                ws.cluster_weights.clear();
+                for &i in members {
+                    let w = self.weights.get(i);
+                    if w > 0.0 {
+                        ws.cluster_points.push(self.points[i]);
+                        ws.cluster_weights.push(w);
+                    }
+                }
+                if ws.cluster_points.is_empty() {
+                    empty.push(j);
+                    continue;
+                }
+                let location = weber_point(&ws.cluster_points, Weights::Given(&ws.cluster_weights), &options)?.location;
+                if location != sites[j] {
+                    sites[j] = location;
+                    moved.push(j);
+                }
+            }
+            let refilled = self.refill(&mut sites, &empty, &served.distance);
+            moved.extend_from_slice(&refilled);
+            if moved.is_empty() {
+                break;
+            }
+            let next = self.reallocate(&sites, &moved, &served)?;
+            changed.iter_mut().for_each(|c| *c = false);
+            let mut any = !refilled.is_empty();
+            for (&a, &b) in served.index.iter().zip(&next.index) {
+                if a != b {
+                    any = true;
+                    for s in [a, b] {
+                        if s < self.p {
+                            changed[s] = true;
+                        }
+                    }
+                }
+            }
+            for &j in &refilled {
+                changed[j] = true;
+            }
+            let gain = served.cost - next.cost;
+            served = next;
+            if !any || (settle > 0.0 && gain <= settle * served.cost) {
+                break;
+            }
+        }
+        Ok(Solution { sites, cost: served.cost })
+    }
+
+    /// Sites whose cluster carries no weight move to the worst-served distinct locations
+    /// (largest `wᵢ · dᵢ`), one each; returns the sites moved.
+    fn refill(&self, sites: &mut [Point], empty: &[usize], distance: &[f64]) -> Vec<usize> {
+        if empty.is_empty() {
+            return Vec::new();
+        }
+        let mut worst: Vec<(f64, usize)> = self
+            .candidates
+            .iter()
+            .map(|&i| (self.weights.get(i) * distance[i], i))
+            .filter(|&(score, _)| score > 0.0)
+            .collect();
+        // Largest score first; equal scores by index, so the order is deterministic.
+        worst.sort_by(|a, b| b.0.total_cmp(&a.0).then(a.1.cmp(&b.1)));
+        empty
+            .iter()
+            .zip(&worst)
+            .map(|(&j, &(_, i))| {
+                sites[j] = self.points[i];
+                j
+            })
+            .collect()
+    }
+
+    /// Clusters of the sites as CSR (`offsets`, `order`) by counting sort.
+    fn gather(&self, index: &[usize], ws: &mut Workspace) {
+        let m = self.p + self.fixed.len();
+        ws.offsets.clear();
+        ws.offsets.resize(m + 1, 0);
+        for &j in index {
+            ws.offsets[j + 1] += 1;
+        }
+        for j in 0..m {
+            ws.offsets[j + 1] += ws.offsets[j];
+        }
+        ws.order.clear();
+        ws.order.resize(index.len(), 0);
+        let mut next = ws.offsets.clone();
+        for (i, &j) in index.iter().enumerate() {
+            ws.order[next[j]] = i;
+            next[j] += 1;
+        }
+    }
+}

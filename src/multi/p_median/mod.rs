@@ -1,0 +1,441 @@
+//! Continuous p-median (the multisource Weber problem): `p` sites minimising
+//! `Σ wᵢ · minⱼ ‖sⱼ − aᵢ‖`, optionally beside fixed existing sites.
+//!
+//! The objective is not convex and has very many local minima, so a local step runs inside
+//! a global search, one file per algorithm:
+//!
+//! - `cooper` — the local step: Cooper (1964), "Heuristic methods for location–allocation
+//!   problems", SIAM Review 6(1): alternate *allocation* (each point to its nearest site)
+//!   and *location* (each site to the Fermat–Weber point of its cluster) until the
+//!   allocation no longer changes.
+//! - `reallocate` — incremental allocation after some sites moved.
+//! - `jump` — j-means jumps (Hansen and Mladenović 2001) priced exactly from the nearest and
+//!   second-nearest distances (Whitaker 1983).
+//! - `search` — the global search: seeded multi-start from D-sampling
+//!   ([`super::seeding`]), descent (Cooper and jumps), variable neighbourhood search
+//!   (Brimberg, Hansen, Mladenović and Taillard 2000).
+//! - `sample` — large inputs are searched on a seeded sample; the full data refines.
+//!
+//! Everything runs in the instance's [`WorkingFrame`] (unit size, so squared distances
+//! neither overflow nor underflow) and maps back at the end. The same seed gives the same
+//! answer: every random draw comes from a seeded [`SplitMix64`] per start, and the starts
+//! are combined in start order.
+
+mod cooper;
+mod jump;
+mod reallocate;
+mod sample;
+mod search;
+
+use super::{check_site_count, Location, Service};
+use crate::batch::{run_grouped_placed, GroupIndex, Grouped, OnGroupError, RowPlaces};
+use crate::error::{Error, Result};
+use crate::geometry::random::SplitMix64;
+use crate::geometry::{validate_points, validate_weights, Point, Weights, WorkingFrame};
+use crate::median::{weber_point, WeberOptions};
+use sample::{Sample, LARGE_INPUT};
+
+/// How much search [`p_median`] spends for quality.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Effort {
+    /// One start, a short search: a good local optimum quickly.
+    Fast,
+    /// A few starts and a moderate search (the default).
+    #[default]
+    Normal,
+    /// More starts, a long search and more jump candidates on large inputs.
+    Thorough,
+}
+
+/// Search budget of one effort level.
+#[derive(Debug, Clone, Copy)]
+struct Budget {
+    /// Independent searches, each from its own seeded start.
+    starts: usize,
+    /// Consecutive failed shakes after which a search stops.
+    patience: usize,
+    /// Largest shake (number of random jumps).
+    k_max: usize,
+    /// Jump candidates examined per scan when there are more distinct demand points.
+    candidates: usize,
+}
+
+impl Effort {
+    fn budget(self, p: usize) -> Budget {
+        let k_max = p.clamp(1, 10);
+        match self {
+            Effort::Fast => Budget { starts: 1, patience: k_max, k_max, candidates: 64 },
+            Effort::Normal => Budget { starts: 2, patience: 2 * k_max + 10, k_max, candidates: 128 },
+            Effort::Thorough => Budget { starts: 8, patience: 10 * k_max + 40, k_max, candidates: 512 },
+        }
+    }
+}
+
+/// Options of [`p_median`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub struct MedianOptions {
+    /// Time against quality.
+    pub effort: Effort,
+    /// Seed of every random choice: the same seed gives the same answer.
+    pub seed: u64,
+}
+
+/// A p-median plan.
+#[derive(Debug, Clone, PartialEq)]
+pub struct MedianPlan {
+    /// The `p` new sites.
+    pub sites: Vec<Point>,
+    /// The fixed (existing) sites that served the demand beside the new ones.
+    pub fixed: Vec<Point>,
+    /// How the sites serve the demand. Site indices (`assignment`, `load`, `count`) run over
+    /// the new sites followed by the fixed ones (`0..p` new, `p..p + f` fixed); the plan's
+    /// objective is `service.cost`.
+    pub service: Service,
+    /// Alternations of Cooper's local step (allocation + location rounds) over the whole search.
+    pub iterations: usize,
+}
+
+/// Weber tolerance during the search, and for the final polish.
+const SEARCH_TOL: f64 = 1e-7;
+const FINAL_TOL: f64 = 1e-10;
+/// During the search a descent stops once a Cooper round gains less than this fraction of
+/// the cost; the final polish runs until the allocation is stable.
+const SEARCH_SETTLE: f64 = 1e-5;
+/// Cap on Cooper rounds per descent (it converges in finitely many; this guards against
+/// cycling caused by inexact location steps).
+const MAX_ROUNDS: usize = 500;
+/// A new solution replaces the incumbent only when better by this relative margin.
+const IMPROVEMENT: f64 = 1e-10;
+
+/// `p` new sites minimising the total weighted distance from every point to its nearest
+/// site, new or `fixed`.
+///
+/// `p = 1` without fixed sites is the convex single-site problem, answered by
+/// [`weber_point`] itself.
+///
+/// # Errors
+/// - [`crate::Error::TooFewPoints`] when `points` is empty, or when fewer than `p` distinct
+///   points carry positive weight;
+/// - [`crate::Error::InvalidParameter`] when `p = 0`;
+/// - [`crate::Error::NonFiniteCoordinate`] for a NaN or infinite coordinate in `points` or `fixed`;
+/// - [`crate::Error::LengthMismatch`], [`crate::Error::InvalidWeight`],
+///   [`crate::Error::AllWeightsZero`] for bad weights.
+///
+/// # Runtime
+/// One Cooper round costs O(n · (p + f)) for the allocation (only moved sites are
+/// compared once a descent settles) plus O(n) per Weber evaluation; one jump scan costs
+/// O(n · c) for c candidate points (every distinct point up to 2 000, else a sample of 64
+/// to 512 by effort). The global search runs on at most 20 000 points (a seeded sample
+/// beyond), so its cost is bounded; the full data sees one descent and the polish.
+pub fn p_median(
+    points: &[Point],
+    weights: Weights<'_>,
+    p: usize,
+    fixed: &[Point],
+    options: &MedianOptions,
+) -> Result<MedianPlan> {
+    validate_points("points", points, 1)?;
+    validate_weights("weights", weights, points.len())?;
+    validate_points("fixed", fixed, 0)?;
+    let distinct = check_site_count(points, weights, p)?;
+
+    let mut iterations = 0;
+    let sites: Vec<Point> = if p == 1 && fixed.is_empty() {
+        let single = weber_point(points, weights, &WeberOptions::default())?;
+        iterations = single.iterations;
+        vec![single.location]
+    } else if distinct.len() == p {
+        // One site on every distinct location of positive weight: cost zero.
+        distinct.iter().map(|l| points[l.first]).collect()
+    } else {
+        let frame = WorkingFrame::of(points);
+        let local = frame.local(points);
+        let fixed_local = frame.local(fixed);
+        let candidates: Vec<usize> = distinct.iter().map(|l: &Location| l.first).collect();
+        let problem = Problem { points: &local, weights, fixed: &fixed_local, p, candidates: &candidates };
+        let best = problem.solve(options, &mut iterations)?;
+        best.sites.iter().map(|&s| frame.to_world(s)).collect()
+    };
+
+    let all_sites: Vec<Point> = sites.iter().chain(fixed).copied().collect();
+    let service = Service::of(points, weights, &all_sites)?;
+    Ok(MedianPlan { sites, fixed: fixed.to_vec(), service, iterations })
+}
+
+/// [`p_median`] on every group of `points` (labels `labels`), in parallel, with the same
+/// `p` for every group.
+///
+/// Fixed sites serve only their own group: `fixed_labels[k]` is the group label of
+/// `fixed[k]` (one label per fixed site; both empty for none). A group's fixed sites are the
+/// fixed sites with its label, in their input order; a fixed site whose label has no points
+/// serves nobody. Every group's plan equals a separate [`p_median`] call on that group's
+/// points and fixed sites. The [`RowPlaces`] say where every input row sits, so per-point
+/// values can be laid out in input order.
+///
+/// # Errors
+/// [`crate::Error::InvalidParameter`] (`fixed_groups`) when `fixed_labels` does not have one
+/// label per fixed site; [`crate::Error::NonFiniteCoordinate`] for a bad fixed site (naming
+/// its row in `fixed`); the errors of [`run_grouped_placed`]; with
+/// [`OnGroupError::Raise`] the first group's error of [`p_median`].
+#[allow(clippy::too_many_arguments)]
+pub fn p_medians(
+    points: &[Point],
+    weights: Weights<'_>,
+    labels: &[i64],
+    p: usize,
+    fixed: &[Point],
+    fixed_labels: &[i64],
+    options: &MedianOptions,
+    on_error: OnGroupError,
+) -> Result<(Grouped<MedianPlan>, RowPlaces)> {
+    if fixed_labels.len() != fixed.len() {
+        return Err(Error::InvalidParameter {
+            name: "fixed_groups",
+            reason: format!(
+                "must hold the group label of every fixed site ({}); got {}",
+                fixed.len(),
+                fixed_labels.len()
+            ),
+        });
+    }
+    // Rows of `fixed` are named before grouping: inside a group they would be renumbered.
+    validate_points("fixed", fixed, 0)?;
+    let by_group = GroupIndex::new(fixed_labels);
+    run_grouped_placed("points", points, weights, labels, on_error, |group| {
+        let own: Vec<Point> = match by_group.labels().binary_search(&group.label) {
+            Ok(g) => by_group.members(g).iter().map(|&k| fixed[k]).collect(),
+            Err(_) => Vec::new(),
+        };
+        p_median(group.points, group.weights, p, &own, options)
+    })
+}
+
+/// An independent seed for start `start` (SplitMix64's mixer applied to the pair).
+fn start_seed(seed: u64, start: usize) -> u64 {
+    SplitMix64::new(seed ^ (start as u64).wrapping_mul(0xD1B5_4A32_D192_ED03)).next_u64()
+}
+
+/// The instance in its working frame.
+struct Problem<'a> {
+    points: &'a [Point],
+    weights: Weights<'a>,
+    fixed: &'a [Point],
+    p: usize,
+    /// One index per distinct location of positive weight (jump and shake targets).
+    candidates: &'a [usize],
+}
+
+/// New sites and their cost.
+#[derive(Debug, Clone)]
+struct Solution {
+    sites: Vec<Point>,
+    cost: f64,
+}
+
+impl Problem<'_> {
+    fn improves(new: f64, old: f64) -> bool {
+        new < old - IMPROVEMENT * old.abs()
+    }
+
+    /// `sites` followed by the fixed sites.
+    fn with_fixed(&self, sites: &[Point]) -> Vec<Point> {
+        sites.iter().chain(self.fixed).copied().collect()
+    }
+
+    /// The global search, then the polish. Large inputs: the global search runs on a seeded
+    /// sample, the full data only refines its best plan (descent with jumps, then the polish).
+    fn solve(&self, options: &MedianOptions, iterations: &mut usize) -> Result<Solution> {
+        let budget = options.effort.budget(self.p);
+        let sample = (self.points.len() > LARGE_INPUT).then(|| Sample::draw(self.points, self.weights, options.seed));
+        let searched = match &sample {
+            Some(sample) if sample.candidates.len() > self.p => {
+                let on_sample = Problem {
+                    points: &sample.points,
+                    weights: Weights::Given(&sample.weights),
+                    fixed: self.fixed,
+                    p: self.p,
+                    candidates: &sample.candidates,
+                };
+                on_sample.best_of_starts(options.seed, &budget, iterations)?
+            }
+            _ => self.best_of_starts(options.seed, &budget, iterations)?,
+        };
+        let mut workspace = cooper::Workspace::default();
+        let refined = if sample.is_some() {
+            let mut rng = SplitMix64::new(start_seed(options.seed, budget.starts));
+            self.descend(searched.sites, &mut rng, &budget, &mut workspace, iterations)?
+        } else {
+            searched
+        };
+        let polished = self.cooper(refined.sites.clone(), FINAL_TOL, 0.0, &mut workspace, iterations)?;
+        Ok(if polished.cost <= refined.cost { polished } else { refined })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::geometry::distance;
+
+    fn cost(points: &[Point], sites: &[Point]) -> f64 {
+        points.iter().map(|&a| sites.iter().map(|&s| distance(a, s)).fold(f64::INFINITY, f64::min)).sum()
+    }
+
+    /// Two tight clusters far apart: the two sites must split them.
+    fn two_clusters() -> Vec<Point> {
+        let mut pts = Vec::new();
+        for i in 0..20 {
+            let t = i as f64 * 0.9;
+            pts.push([t.cos(), t.sin()]);
+            pts.push([100.0 + t.cos(), 50.0 + t.sin()]);
+        }
+        pts
+    }
+
+    #[test]
+    fn one_site_is_the_weber_point() {
+        // p = 1 is the single-site problem by definition.
+        let pts = two_clusters();
+        let plan = p_median(&pts, Weights::Unit, 1, &[], &MedianOptions::default()).unwrap();
+        let single = weber_point(&pts, Weights::Unit, &WeberOptions::default()).unwrap();
+        assert_eq!(plan.sites, vec![single.location]);
+        assert!((plan.service.cost - single.cost).abs() <= 1e-12 * single.cost);
+    }
+
+    #[test]
+    fn two_sites_split_two_far_clusters() {
+        // By symmetry each ring's Weber point is its centre region; both rings get a site.
+        let pts = two_clusters();
+        let plan = p_median(&pts, Weights::Unit, 2, &[], &MedianOptions::default()).unwrap();
+        let s = &plan.service;
+        assert!((s.load[0] - 20.0).abs() < 1e-12 && (s.load[1] - 20.0).abs() < 1e-12);
+        assert_eq!(s.count, vec![20, 20]);
+        assert!((cost(&pts, &plan.sites) - s.cost).abs() < 1e-9 * s.cost);
+        assert!(s.cost < 2.0 * 20.0 * 1.0 + 1e-9);
+    }
+
+    #[test]
+    fn sites_are_weber_points_of_their_clusters_and_points_go_to_nearest() {
+        // Cooper's two conditions for a local optimum of the p-median.
+        let pts: Vec<Point> = (0..300)
+            .map(|i| [((i * 7919) % 1013) as f64, ((i * 104_729) % 997) as f64 + (i % 3) as f64 * 500.0])
+            .collect();
+        let plan = p_median(&pts, Weights::Unit, 5, &[], &MedianOptions::default()).unwrap();
+        let assignment = &plan.service.assignment;
+        for (i, &a) in pts.iter().enumerate() {
+            let d = distance(a, plan.sites[assignment[i]]);
+            assert!(plan.sites.iter().all(|&s| d <= distance(a, s) + 1e-9));
+        }
+        for j in 0..5 {
+            let cluster: Vec<Point> = (0..pts.len()).filter(|&i| assignment[i] == j).map(|i| pts[i]).collect();
+            let w = weber_point(&cluster, Weights::Unit, &WeberOptions::default()).unwrap();
+            let here: f64 = cluster.iter().map(|&a| distance(a, plan.sites[j])).sum();
+            assert!(here - w.cost <= 1e-8 * w.cost + w.gap, "site {j}: {here} vs {}", w.cost);
+        }
+    }
+
+    #[test]
+    fn fixed_sites_stay_and_count_in_the_cost() {
+        let pts = two_clusters();
+        // An existing site at the centre of the first ring: the one new site serves the second.
+        let plan = p_median(&pts, Weights::Unit, 1, &[[0.0, 0.0]], &MedianOptions::default()).unwrap();
+        let s = &plan.service;
+        assert!(distance(plan.sites[0], [100.0, 50.0]) < 1.0);
+        assert_eq!(plan.fixed, vec![[0.0, 0.0]]);
+        assert_eq!(s.load.len(), 2);
+        assert!((s.load[1] - 20.0).abs() < 1e-12);
+        assert!(s.assignment.iter().all(|&j| j < 2));
+        assert!((cost(&pts, &[plan.sites[0], [0.0, 0.0]]) - s.cost).abs() < 1e-9 * s.cost);
+    }
+
+    #[test]
+    fn as_many_sites_as_distinct_points_costs_zero() {
+        let pts = [[0.0, 0.0], [1.0, 0.0], [0.0, 0.0], [5.0, 5.0]];
+        let plan = p_median(&pts, Weights::Unit, 3, &[], &MedianOptions::default()).unwrap();
+        assert_eq!(plan.service.cost, 0.0);
+        assert_eq!(plan.service.count, vec![2, 1, 1]);
+        assert!(matches!(
+            p_median(&pts, Weights::Unit, 4, &[], &MedianOptions::default()),
+            Err(Error::TooFewPoints { needed: 4, got: 3, .. })
+        ));
+    }
+
+    #[test]
+    fn same_seed_same_plan() {
+        let pts: Vec<Point> = (0..500).map(|i| [((i * 37) % 101) as f64, ((i * 53) % 89) as f64]).collect();
+        let o = MedianOptions { seed: 9, ..MedianOptions::default() };
+        let a = p_median(&pts, Weights::Unit, 6, &[], &o).unwrap();
+        let b = p_median(&pts, Weights::Unit, 6, &[], &o).unwrap();
+        assert_eq!(a, b);
+    }
+
+    #[test]
+    fn large_inputs_search_a_sample_and_refine_on_all_points() {
+        // Four far-apart discs of 6 250 points each: the optimal four sites are one per disc.
+        let mut rng = SplitMix64::new(5);
+        let centres = [[0.0, 0.0], [1000.0, 0.0], [0.0, 1000.0], [1000.0, 1000.0]];
+        let pts: Vec<Point> = (0..25_000)
+            .map(|i| {
+                let c = centres[i % 4];
+                let (r, t) = (rng.next_f64().sqrt() * 10.0, rng.next_f64() * std::f64::consts::TAU);
+                [c[0] + r * t.cos(), c[1] + r * t.sin()]
+            })
+            .collect();
+        let plan = p_median(&pts, Weights::Unit, 4, &[], &MedianOptions { effort: Effort::Fast, seed: 1 }).unwrap();
+        for (i, &a) in pts.iter().enumerate() {
+            assert!(distance(a, plan.sites[plan.service.assignment[i]]) < 20.0);
+        }
+        assert!((cost(&pts, &plan.sites) - plan.service.cost).abs() < 1e-9 * plan.service.cost);
+    }
+
+    #[test]
+    fn zero_weight_points_do_not_pull_sites() {
+        let pts = [[0.0, 0.0], [1.0, 0.0], [10.0, 0.0], [11.0, 0.0], [1000.0, 1000.0]];
+        let w = [1.0, 1.0, 1.0, 1.0, 0.0];
+        let plan = p_median(&pts, Weights::Given(&w), 2, &[], &MedianOptions::default()).unwrap();
+        // Closed form: each pair's median segment; total cost 1 + 1.
+        assert!((plan.service.cost - 2.0).abs() < 1e-9, "{plan:?}");
+    }
+
+    #[test]
+    fn grouped_fixed_sites_need_one_label_each_and_name_their_rows() {
+        let pts = [[0.0, 0.0], [1.0, 0.0], [5.0, 0.0]];
+        let o = MedianOptions::default();
+        let e = p_medians(&pts, Weights::Unit, &[1, 1, 2], 1, &[[0.0, 0.0]], &[], &o, OnGroupError::Raise).unwrap_err();
+        assert_eq!(e.argument(), "fixed_groups");
+        let bad = [[0.0, 0.0], [f64::NAN, 0.0]];
+        let e = p_medians(&pts, Weights::Unit, &[1, 1, 2], 1, &bad, &[2, 1], &o, OnGroupError::Raise).unwrap_err();
+        assert_eq!((e.argument(), e.row(), e.group()), ("fixed", Some(1), None));
+    }
+}
+
+#[cfg(test)]
+mod p654 {
+    use super::*;
+
+    /// TSPLIB p654 (Reinelt 1991) and the best-known objectives of Brimberg, Hansen,
+    /// Mladenović and Taillard (2000); see tests/data/p654/README.md.
+    fn instance() -> (Vec<Point>, Vec<(usize, f64)>) {
+        let numbers = |line: &str| -> Vec<f64> { line.split_whitespace().map(|x| x.parse().unwrap()).collect() };
+        let points = include_str!("../../../tests/data/p654/points.txt").lines().map(|l| {
+            let v = numbers(l);
+            [v[0], v[1]]
+        });
+        let best = include_str!("../../../tests/data/p654/best_known.txt").lines().map(|l| {
+            let v = numbers(l);
+            (v[0] as usize, v[1])
+        });
+        (points.collect(), best.collect())
+    }
+
+    #[test]
+    fn p654_fast_effort_within_a_tenth_of_a_percent_of_best_known() {
+        let (points, best) = instance();
+        assert_eq!(points.len(), 654);
+        for &(p, known) in &best {
+            let options = MedianOptions { effort: Effort::Fast, seed: 0 };
+            let plan = p_median(&points, Weights::Unit, p, &[], &options).unwrap();
+            assert!(plan.service.cost <= known * 1.001, "p = {p}: {} vs best known {known}", plan.service.cost);
+        }
+    }
+}

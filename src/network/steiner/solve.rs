@@ -1,0 +1,81 @@
+//! The choice between the exact solver and the heuristic, on distinct terminals in the
+//! working frame.
+//!
+//! Invariant: the tree returned is never longer than the terminals' minimum spanning tree
+//! (the heuristic's tree is replaced by the spanning tree when it is not shorter), and it is
+//! reported optimal only when the exact solver proved it so (or the terminals are collinear
+//! or fewer than three, where the spanning tree is the Steiner minimum tree).
+
+use std::time::{Duration, Instant};
+
+use super::{concatenate, fst, heuristic, Network};
+use crate::geometry::predicates::all_collinear;
+use crate::geometry::Point;
+use crate::network::{SteinerMethod, SteinerOptions, AUTO_BUDGET, AUTO_EXACT_TERMINALS};
+
+/// Solve on distinct terminals `local` in the working frame, given their minimum spanning
+/// tree: the tree and whether it is proven optimal.
+pub(crate) fn solve_distinct(
+    local: &[Point],
+    mst_edges: Vec<[usize; 2]>,
+    options: &SteinerOptions,
+) -> (Network, bool) {
+    let n = local.len();
+    let chain = |edges: Vec<[usize; 2]>| Network {
+        nodes: local.to_vec(),
+        terminal_count: n,
+        edges,
+    };
+    if n < 3 || all_collinear(local) {
+        // A Steiner point would need an angle below 120° between terminals; on a line there is none.
+        return (chain(mst_edges), true);
+    }
+    let exact = match options.method {
+        SteinerMethod::Exact => true,
+        SteinerMethod::Heuristic => false,
+        SteinerMethod::Auto => n <= AUTO_EXACT_TERMINALS,
+    };
+    if exact {
+        let budget = options
+            .time_limit
+            .or((options.method == SteinerMethod::Auto).then_some(AUTO_BUDGET));
+        let deadline = budget.map(|s| Instant::now() + Duration::from_secs_f64(s.min(1e9)));
+        let bottleneck = fst::Bottleneck::new(local);
+        if let Some(trees) = fst::full_steiner_trees(local, &bottleneck, deadline) {
+            if let Some((chosen, proven)) = concatenate::concatenate(n, &trees, deadline) {
+                let net = assemble(local, &trees, &chosen);
+                if net.edges.len() + 1 == net.nodes.len() {
+                    return (net, proven);
+                }
+            }
+        }
+    }
+    let mst_length = chain(mst_edges.clone()).length();
+    let net = heuristic::heuristic(local, mst_edges.clone(), options.seed);
+    if net.length() <= mst_length {
+        (net, false)
+    } else {
+        (chain(mst_edges), false)
+    }
+}
+
+/// The tree made of the chosen full Steiner trees.
+fn assemble(local: &[Point], trees: &[fst::FullTree], chosen: &[usize]) -> Network {
+    use fst::End;
+    let mut net = Network {
+        nodes: local.to_vec(),
+        terminal_count: local.len(),
+        edges: Vec::new(),
+    };
+    for &i in chosen {
+        let base = net.nodes.len();
+        net.nodes.extend_from_slice(&trees[i].steiner);
+        let node = |end: End| match end {
+            End::Terminal(t) => t,
+            End::Steiner(k) => base + k,
+        };
+        net.edges
+            .extend(trees[i].edges.iter().map(|&[a, b]| [node(a), node(b)]));
+    }
+    net
+}
