@@ -51,10 +51,6 @@ impl GroupIndex {
         self.labels.len()
     }
 
-    /// True when there are no groups (no points).
-    pub fn is_empty(&self) -> bool {
-        self.labels.is_empty()
-    }
 
     /// Sorted unique labels.
     pub fn labels(&self) -> &[i64] {
@@ -412,7 +408,7 @@ mod tests {
     #[test]
     fn empty_labels_give_no_groups() {
         let index = GroupIndex::new(&[]);
-        assert!(index.is_empty());
+        assert_eq!(index.len(), 0);
         assert_eq!(index.offsets(), &[0]);
     }
 

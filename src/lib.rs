@@ -2,33 +2,58 @@
 //!
 //! Pure Rust kernels, one family a module (see DESIGN.md):
 //!
-//! - [`median`]: the weighted Fermat–Weber point (Weiszfeld with the Vardi–Zhang step).
-//! - [`enclose`]: smallest enclosing circle, weighted minimax point, minimum-volume enclosing ellipse.
-//! - [`partition`]: Delaunay triangulation, clipped Voronoi cells, nearest-site allocation.
-//! - [`network`]: Euclidean minimum spanning tree and Steiner trees.
-//! - [`multi`]: continuous p-median and p-center.
-//! - [`batch`]: the grouped runner every kernel uses for many groups at once.
-//! - [`geometry`]: shared point helpers and the exact predicates.
-//! - [`error`]: the crate's one error type.
+//! - `median`: the weighted Fermat–Weber point (Weiszfeld with the Vardi–Zhang step).
+//! - `enclose`: smallest enclosing circle, weighted minimax point, minimum-volume enclosing ellipse.
+//! - `partition`: Delaunay triangulation, clipped Voronoi cells, nearest-site allocation (catchments).
+//! - `network`: Euclidean minimum spanning tree and Steiner trees.
+//! - `multi`: continuous p-median and p-center.
+//! - `batch`: the grouped runner every kernel uses for many groups at once.
+//! - `geometry`: shared point helpers, the one working frame and location key, exact predicates.
+//! - `error`: the crate's one error type.
+//!
+//! The modules are private; the kernels, their options and results are re-exported below.
 //!
 //! The Python binding layer lives in `py` behind the `python` feature; nothing else in the
 //! crate knows about Python.
 // Kernels are safe Rust; only the PyO3 macro expansions in `py` need `unsafe`.
 #![deny(unsafe_code)]
 #![warn(missing_docs)]
+// `!(x > 0.0)` is written on purpose throughout: it is true for NaN, which `x <= 0.0` is not,
+// so a NaN from degenerate arithmetic takes the safe branch.
+#![allow(clippy::neg_cmp_op_on_partial_ord)]
 
-pub mod batch;
-pub mod enclose;
-pub mod error;
-pub mod geometry;
-pub mod median;
-pub mod multi;
-pub mod network;
-pub mod partition;
+mod batch;
+mod enclose;
+mod error;
+mod geometry;
+mod median;
+mod multi;
+mod network;
+mod partition;
 
 #[cfg(feature = "python")]
 #[allow(unsafe_code)]
 mod py;
 
-pub use error::{Error, Result};
-pub use geometry::Point;
+// The public Rust interface: the kernels, their options and results, and the types they
+// share. Everything else (helpers, frames, predicates) is private to the crate.
+pub use batch::{Grouped, OnGroupError};
+pub use enclose::{
+    enclosing_circle, enclosing_circle_with, enclosing_circles, enclosing_ellipse, enclosing_ellipses, minimax_point,
+    minimax_points, Circle, CircleOptions, Ellipse, MinimaxPoint,
+};
+pub use error::{Error, Namer, Positions, Result};
+pub use geometry::{Point, Weights};
+pub use median::{weber_point, weber_points, Metric, WeberOptions, WeberPoint};
+pub use multi::{
+    p_center, p_centers, p_median, p_medians, CenterOptions, CenterPlan, Effort, MedianOptions, MedianPlan, Service,
+    EXACT_MAX_POINTS,
+};
+pub use network::{
+    check_steiner_tree, spanning_tree, spanning_trees, steiner_tree, steiner_trees, EdgeEnd, SpanningTree,
+    SteinerMethod, SteinerOptions, SteinerTree, AUTO_BUDGET, AUTO_EXACT_TERMINALS, EXACT_TERMINALS,
+};
+pub use partition::{
+    allocate, check_triangulation, delaunay, delaunay_grouped, nearest_site, nearest_site_grouped, voronoi_cells,
+    voronoi_cells_grouped, Allocation, Region, SiteAllocations, SiteIndex, Triangulation, VoronoiCells, STRIPS_FROM,
+};

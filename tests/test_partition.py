@@ -747,7 +747,7 @@ def test_grouped_voronoi_equals_separate_calls(raw, rnd) -> None:
         rows = np.flatnonzero(groups == label)
         single = pw.voronoi_cells(sites[rows], region)
         item = sets[label]
-        for name in ("vertices", "offsets", "parts", "area", "sites"):
+        for name in ("vertices", "offsets", "parts", "area", "exterior", "sites"):
             np.testing.assert_array_equal(getattr(item, name), getattr(single, name))
         np.testing.assert_array_equal(sets.area[rows], single.area)
         assert sets.area[rows].sum() == pytest.approx(region.area, rel=1e-9)
@@ -790,9 +790,14 @@ def test_grouped_nearest_site_equals_separate_calls_and_brute_force(sites, pts) 
     assert out.labels.tolist() == sorted(set(groups.tolist()) | set(site_groups.tolist()))
     for g, label in enumerate(out.labels):
         rows, site_rows = np.flatnonzero(groups == label), np.flatnonzero(site_groups == label)
-        if len(rows) == 0 or len(site_rows) == 0:
-            assert out.problem[g] is not None and np.isnan(out.cost[g])
-            assert np.all(out.assignment[rows] == -1) and np.isnan(out.load[site_rows]).all()
+        if len(site_rows) == 0:
+            assert out.problem[g] == f"group {label}: sites must hold at least 1 points; got 0"
+            assert np.isnan(out.cost[g]) and np.all(out.assignment[rows] == -1)
+            continue
+        if len(rows) == 0:
+            # Sites without demand serve nobody.
+            assert out.problem[g] is None and (out.cost[g], out.total_load[g]) == (0.0, 0.0)
+            assert np.all(out.load[site_rows] == 0) and np.all(out.count[site_rows] == 0)
             continue
         single = pw.nearest_site(p[rows], s[site_rows], w[rows])
         d2 = ((p[rows][:, None, :] - s[site_rows][None, :, :]) ** 2).sum(axis=2)
@@ -809,26 +814,27 @@ def test_grouped_nearest_site_equals_separate_calls_and_brute_force(sites, pts) 
 
 
 def test_grouped_nearest_site_frames_and_problems() -> None:
-    # Label 4 has a point but no site; label 9 a site but no point. Closed-form distances.
+    # Label 4 has a point but no site (a problem); label 9 a site but no point (it serves
+    # nobody). Closed-form distances.
     pts = np.array([[0.0, 0.0], [3.0, 0.0], [10.0, 0.0], [50.0, 0.0]])
     sites = np.array([[1.0, 0.0], [11.0, 0.0], [0.0, 0.0], [7.0, 7.0]])
     out = pw.nearest_site(pts, sites, groups=[1, 1, 2, 4], site_groups=[1, 2, 1, 9], errors="skip")
     assert out.labels.tolist() == [1, 2, 4, 9]
-    assert out.problem.tolist() == [None, None, "group 4: sites must hold at least 1 points; got 0",
-                                    "group 9: points must hold at least 1 points; got 0"]
+    assert out.problem.tolist() == [None, None, "group 4: sites must hold at least 1 points; got 0", None]
     frame = out.to_frame()
-    # One row per input point, then a row holding the problem of group 9, which has none.
-    assert frame["group"].tolist() == [1, 1, 2, 4, 9]
-    np.testing.assert_array_equal(frame["assignment"], [2, 0, 1, -1, np.nan])
-    np.testing.assert_array_equal(frame["distance_u"], [0.0, 2.0, 1.0, np.nan, np.nan])
-    assert frame["problem"].isna().tolist() == [True, True, True, False, False]
+    # One row per input point, in input order.
+    assert frame["group"].tolist() == [1, 1, 2, 4]
+    assert frame["assignment"].tolist() == [2, 0, 1, -1]
+    np.testing.assert_array_equal(frame["distance_u"], [0.0, 2.0, 1.0, np.nan])
+    assert frame["problem"].isna().tolist() == [True, True, True, False]
     sites_frame = out.sites_frame()
     assert sites_frame["group"].tolist() == [1, 2, 1, 9]
-    np.testing.assert_array_equal(sites_frame["load"], [1.0, 1.0, 1.0, np.nan])
+    np.testing.assert_array_equal(sites_frame["load"], [1.0, 1.0, 1.0, 0.0])
     assert sites_frame["count"].tolist() == [1, 1, 1, 0]
     summary = out.summary()
     assert summary["count"].tolist() == [2, 1, 1, 0] and summary["sites"].tolist() == [2, 1, 0, 1]
-    np.testing.assert_array_equal(summary["cost_u"], [2.0, 1.0, np.nan, np.nan])
+    np.testing.assert_array_equal(summary["cost_u"], [2.0, 1.0, np.nan, 0.0])
+    assert out[9].assignment.tolist() == [] and out[9].load.tolist() == [0.0]
     with pytest.raises(pw.InputError, match="group 4: sites must hold"):
         pw.nearest_site(pts, sites, groups=[1, 1, 2, 4], site_groups=[1, 2, 1, 9])
     with pytest.raises(pw.InputError, match="given together"):

@@ -264,6 +264,7 @@ class _Cells(Result):
     offsets: np.ndarray
     parts: np.ndarray
     area: np.ndarray
+    exterior: np.ndarray
     sites: np.ndarray
 
     def pieces(self, i: int) -> list[list[np.ndarray]]:
@@ -273,10 +274,7 @@ class _Cells(Result):
         pieces: list[list[np.ndarray]] = []
         for r in range(first, last):
             ring = self.vertices[self.parts[r]:self.parts[r + 1]]
-            x, y = ring[:, 0], ring[:, 1]
-            # Orientation only (the sign of the shoelace sum): the areas come from Rust.
-            signed = float(np.dot(x - x[0], np.roll(y, -1) - y[0]) - np.dot(y - y[0], np.roll(x, -1) - x[0]))
-            if signed > 0 or not pieces:
+            if self.exterior[r]:
                 pieces.append([ring])
             else:
                 pieces[-1].append(ring)
@@ -362,8 +360,9 @@ class VoronoiCells(_Cells, Result):
     ``[offsets[i], offsets[i + 1])``; ring ``r`` is ``vertices[parts[r]:parts[r + 1]]``.
     A cell in one piece without holes is a single counter-clockwise ring, so then
     ``vertices[offsets[i]:offsets[i + 1]]`` is the cell. A cell cut into pieces by the region
-    stores each piece as a counter-clockwise exterior ring followed by its clockwise holes.
-    Rings are not closed (the first vertex is not repeated). An empty cell has no rings.
+    stores each piece as a counter-clockwise exterior ring followed by its clockwise holes
+    (``exterior`` tells which). Rings are not closed (the first vertex is not repeated). An
+    empty cell has no rings.
 
     Attributes
     ----------
@@ -373,6 +372,8 @@ class VoronoiCells(_Cells, Result):
         Ring starts (and the end of the last ring) in ``vertices``.
     area : ndarray, shape (n,)
         Area of each cell (exteriors minus holes).
+    exterior : ndarray of bool, shape (R,)
+        Whether each ring is a piece's exterior (else a hole of the exterior before it).
     sites : ndarray, shape (n, 2)
         The sites (not shown in the repr).
 
@@ -385,6 +386,7 @@ class VoronoiCells(_Cells, Result):
     offsets: np.ndarray
     parts: np.ndarray
     area: np.ndarray
+    exterior: np.ndarray = dataclasses.field(repr=False)
     sites: np.ndarray = dataclasses.field(repr=False)
 
     def __len__(self) -> int:
@@ -410,12 +412,15 @@ class VoronoiCellSets(_Cells, Grouped):
     parts : ndarray of int64, shape (R + 1,)
     area : ndarray, shape (k,)
         Area of each site's cell.
+    exterior : ndarray of bool, shape (R,)
+        Whether each ring is a piece's exterior.
     """
 
     vertices: np.ndarray
     offsets: np.ndarray
     parts: np.ndarray
     area: np.ndarray
+    exterior: np.ndarray = dataclasses.field(repr=False)
     site_group: np.ndarray = dataclasses.field(repr=False)
     sites: np.ndarray = dataclasses.field(repr=False)
 
@@ -425,12 +430,14 @@ class VoronoiCellSets(_Cells, Grouped):
     def _item(self, position: int) -> VoronoiCells:
         rows = _members(self.site_group, position)
         lo, hi = self.offsets[rows], self.offsets[rows + 1]
+        # The group's rings, cell by cell, and their vertices.
+        first, last = np.searchsorted(self.parts, lo), np.searchsorted(self.parts, hi)
+        rings = np.concatenate([np.arange(a, b) for a, b in zip(first, last)] + [np.empty(0, np.int64)])
         vertices = np.concatenate([self.vertices[a:b] for a, b in zip(lo, hi)] + [np.empty((0, 2))])
         offsets = np.concatenate([[0], np.cumsum(hi - lo)]).astype(np.int64)
-        # Ring ends of each cell, moved by the shift of the cell's first vertex.
-        ends = [self.parts[(self.parts > a) & (self.parts <= b)] - a + start for a, b, start in zip(lo, hi, offsets)]
-        parts = np.concatenate([[0], *ends]).astype(np.int64)
-        return VoronoiCells(vertices, offsets, parts, self.area[rows].copy(), self.sites[rows], unit=self.unit)
+        parts = np.concatenate([[0], np.cumsum(self.parts[rings + 1] - self.parts[rings])]).astype(np.int64)
+        return VoronoiCells(vertices, offsets, parts, self.area[rows].copy(), self.exterior[rings], self.sites[rows],
+                            unit=self.unit)
 
     def _row_groups(self) -> np.ndarray:
         return self.site_group
@@ -776,8 +783,8 @@ def nearest_site(
     groups, site_groups : array_like of int, shapes (n,) and (k,), optional
         Labels of the points and of the sites, given together: every group of points is
         served by the sites with the same label (in parallel), and ``Allocations`` is
-        returned. A label with points but no sites, or sites but no points, is that group's
-        problem.
+        returned. A label with points but no sites is that group's problem; the sites of a
+        label without points serve nobody (load and count 0).
     errors : {"raise", "skip"}
         With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
         label); ``"skip"`` keeps such a group with its ``problem`` and solves the rest.

@@ -147,7 +147,7 @@ fn disk_inside(polygon: &[Point]) -> Option<(Point, f64)> {
         radius = radius.min(twice_area / distance(a, b));
     }
     let radius = radius * (1.0 - 1e-6);
-    (radius.is_finite() && radius > 0.0).then(|| (c, radius * radius))
+    (radius.is_finite() && radius > 0.0).then_some((c, radius * radius))
 }
 
 /// True when `p` is strictly to the left of every edge of the closed chain `polygon`.

@@ -91,23 +91,6 @@ impl BoundingBox {
         distance(self.min, self.max)
     }
 
-    /// The box grown by `fraction` of its width and height on every side.
-    pub fn grown(&self, fraction: f64) -> BoundingBox {
-        let dx = (self.max[0] - self.min[0]) * fraction;
-        let dy = (self.max[1] - self.min[1]) * fraction;
-        BoundingBox { min: [self.min[0] - dx, self.min[1] - dy], max: [self.max[0] + dx, self.max[1] + dy] }
-    }
-}
-
-/// Points shifted so that the centre of their bounding box is the origin.
-///
-/// Why: projected coordinates such as (500 000, 6 000 000) leave only ~9 significant
-/// digits for differences at the metre scale once squared; every kernel that forms
-/// squares, circumcircles or moment matrices works relative to this local origin and
-/// shifts its answer back.
-pub fn to_local_frame(points: &[Point]) -> (Point, Vec<Point>) {
-    let origin = BoundingBox::of(points).map(|b| b.center()).unwrap_or([0.0, 0.0]);
-    (origin, points.iter().map(|&p| sub(p, origin)).collect())
 }
 
 /// A power of two `f` such that `extent · f` lies in (0.5, 1], or 1 when `extent` is zero or
@@ -153,22 +136,22 @@ impl WorkingFrame {
     }
 
     /// A world point in local coordinates.
-    pub fn to_local(&self, p: Point) -> Point {
+    pub fn to_local(self, p: Point) -> Point {
         scale(sub(p, self.origin), self.factor)
     }
 
     /// A local point in world coordinates.
-    pub fn to_world(&self, q: Point) -> Point {
+    pub fn to_world(self, q: Point) -> Point {
         add(scale(q, 1.0 / self.factor), self.origin)
     }
 
     /// Every point in local coordinates.
-    pub fn local(&self, points: &[Point]) -> Vec<Point> {
+    pub fn local(self, points: &[Point]) -> Vec<Point> {
         points.iter().map(|&p| self.to_local(p)).collect()
     }
 
     /// A local length in world units.
-    pub fn world_length(&self, length: f64) -> f64 {
+    pub fn world_length(self, length: f64) -> f64 {
         length / self.factor
     }
 }
@@ -208,14 +191,6 @@ mod tests {
         let mut cw = sq;
         cw.reverse();
         assert_eq!(ring_signed_area(&cw), -1.0);
-    }
-
-    #[test]
-    fn local_frame_centres_bounding_box() {
-        let pts = [[500_000.0, 6_000_000.0], [500_010.0, 6_000_020.0]];
-        let (o, local) = to_local_frame(&pts);
-        assert_eq!(o, [500_005.0, 6_000_010.0]);
-        assert_eq!(local, vec![[-5.0, -10.0], [5.0, 10.0]]);
     }
 
     #[test]

@@ -6,8 +6,8 @@
 //!   points and a certified optimality gap.
 //! - Manhattan: [`manhattan`] — exact, by weighted medians per axis.
 
-pub mod manhattan;
-pub mod weiszfeld;
+mod manhattan;
+mod weiszfeld;
 
 use crate::batch::{run_grouped, Grouped, OnGroupError};
 use crate::error::{Error, Result};

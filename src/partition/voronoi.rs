@@ -45,7 +45,8 @@ pub struct Region<'a> {
 /// Voronoi cells clipped to a region, as rings of vertices.
 ///
 /// Cell `i` is the rings `parts[r]..parts[r + 1]` lying in `vertices[offsets[i]..offsets[i + 1]]`:
-/// each piece is a counter-clockwise exterior ring followed by its clockwise holes. Rings are
+/// each piece is a counter-clockwise exterior ring followed by its clockwise holes
+/// (`exterior[r]` tells which). Rings are
 /// not closed (the first vertex is not repeated); an empty cell has no rings.
 #[derive(Debug, Clone, PartialEq)]
 pub struct VoronoiCells {
@@ -57,13 +58,22 @@ pub struct VoronoiCells {
     pub parts: Vec<usize>,
     /// Area of each cell (exteriors minus holes).
     pub area: Vec<f64>,
+    /// `exterior[r]`: whether ring `r` is a piece's exterior (else a hole of the exterior
+    /// before it).
+    pub exterior: Vec<bool>,
 }
 
 impl VoronoiCells {
     /// The cells of a grouped run ([`voronoi_cells_grouped`]) laid out by input row: cell `i`
     /// is that of site row `i`. The sites of a skipped group have empty cells and a NaN area.
     pub fn by_row(grouped: &Grouped<VoronoiCells>, places: &RowPlaces) -> VoronoiCells {
-        let mut out = VoronoiCells { vertices: Vec::new(), offsets: vec![0], parts: vec![0], area: Vec::new() };
+        let mut out = VoronoiCells {
+            vertices: Vec::new(),
+            offsets: vec![0],
+            parts: vec![0],
+            area: Vec::new(),
+            exterior: Vec::new(),
+        };
         for (&g, &k) in places.group.iter().zip(&places.within) {
             match &grouped.results[g] {
                 Ok(cells) => {
@@ -72,6 +82,8 @@ impl VoronoiCells {
                     let first = cells.parts.partition_point(|&p| p <= lo);
                     let last = cells.parts.partition_point(|&p| p <= hi);
                     out.parts.extend(cells.parts[first..last].iter().map(|&p| p + shift));
+                    // The ends parts[first..last] close rings first - 1 .. last - 1 (parts[0] = 0).
+                    out.exterior.extend_from_slice(&cells.exterior[first - 1..last - 1]);
                     out.vertices.extend_from_slice(&cells.vertices[lo..hi]);
                     out.area.push(cells.area[k]);
                 }
@@ -549,14 +561,18 @@ fn cells_within(sites: &[Point], rings: Option<&[Vec<Point>]>) -> Result<Voronoi
         offsets: Vec::with_capacity(sites.len() + 1),
         parts: vec![0],
         area: Vec::with_capacity(sites.len()),
+        exterior: Vec::new(),
     };
     cells.offsets.push(0);
     for cell in &pieces {
         let mut area = 0.0;
-        for ring in cell.iter().flatten() {
-            area += ring_signed_area(ring);
-            cells.vertices.extend(ring.iter().map(|&p| frame.to_world(p)));
-            cells.parts.push(cells.vertices.len());
+        for piece in cell {
+            for (r, ring) in piece.iter().enumerate() {
+                area += ring_signed_area(ring);
+                cells.vertices.extend(ring.iter().map(|&p| frame.to_world(p)));
+                cells.parts.push(cells.vertices.len());
+                cells.exterior.push(r == 0);
+            }
         }
         // Areas scale by the factor squared: divided twice, so the square cannot overflow.
         cells.area.push(frame.world_length(frame.world_length(area)));

@@ -14,7 +14,7 @@ use crate::geometry::Point;
 
 /// True when the array can be viewed as a slice as it is: C-contiguous and aligned.
 fn borrowable<T: Element, D: numpy::ndarray::Dimension>(array: &Bound<'_, PyArray<T, D>>) -> bool {
-    array.is_c_contiguous() && (array.data() as usize) % std::mem::align_of::<T>() == 0
+    array.is_c_contiguous() && (array.data() as usize).is_multiple_of(std::mem::align_of::<T>())
 }
 
 /// Convert with `numpy.require(obj, dtype, ["C", "A"])` (C-contiguous and aligned, copied

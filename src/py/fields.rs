@@ -38,8 +38,3 @@ impl<'py> Fields<'py> {
     }
 }
 
-/// A grouped run whose every group was solved (`OnGroupError::Raise`).
-pub(crate) struct Solved<T> {
-    pub(crate) labels: Vec<i64>,
-    pub(crate) results: Vec<T>,
-}

@@ -137,17 +137,19 @@ fn region_arg<'py>(
     }
 }
 
-/// The cells' rings as fields: vertices (V, 2), offsets (n + 1,), parts (R + 1,), area (n,).
+/// The cells' rings as fields: vertices (V, 2), offsets (n + 1,), parts (R + 1,), area (n,),
+/// exterior (R,).
 fn cell_fields<'py>(py: Python<'py>, fields: Fields<'py>, cells: VoronoiCells) -> PyResult<Fields<'py>> {
     let v = cells.vertices.len();
     fields
         .put("vertices", PyArray1::from_vec(py, flat_points(&cells.vertices)).reshape([v, 2])?)?
         .put("offsets", PyArray1::from_vec(py, index_values(cells.offsets)))?
         .put("parts", PyArray1::from_vec(py, index_values(cells.parts)))?
-        .put("area", PyArray1::from_vec(py, cells.area))
+        .put("area", PyArray1::from_vec(py, cells.area))?
+        .put("exterior", PyArray1::from_vec(py, cells.exterior))
 }
 
-/// Fields: vertices (V, 2), offsets (n + 1,), parts (R + 1,), area (n,).
+/// Fields: vertices (V, 2), offsets (n + 1,), parts (R + 1,), area (n,), exterior (R,).
 #[pyfunction]
 #[pyo3(signature = (sites, region_vertices, ring_offsets))]
 fn voronoi_cells_single<'py>(
@@ -165,7 +167,7 @@ fn voronoi_cells_single<'py>(
 }
 
 /// Fields: labels (G,), problem (G,), the cells of every site row in input order as
-/// vertices (V, 2), offsets (k + 1,), parts (R + 1,), area (k,) (a skipped group's sites have
+/// vertices (V, 2), offsets (k + 1,), parts (R + 1,), area (k,), exterior (R,) (a skipped group's sites have
 /// empty cells and NaN area), site_group (k,).
 #[pyfunction]
 #[pyo3(signature = (sites, groups, region_vertices, ring_offsets, errors))]
