@@ -37,7 +37,7 @@ mod py;
 
 // The public Rust interface: the kernels, their options and results, and the types they
 // share. Everything else (helpers, frames, predicates) is private to the crate.
-pub use batch::{Grouped, OnGroupError};
+pub use batch::{Grouped, OnGroupError, RowPlaces};
 pub use enclose::{
     enclosing_circle, enclosing_circle_with, enclosing_circles, enclosing_ellipse, enclosing_ellipses, minimax_point,
     minimax_points, Circle, CircleOptions, Ellipse, MinimaxPoint,

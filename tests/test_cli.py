@@ -1,7 +1,13 @@
-"""The ``placewise`` command line: formats, options, and one-line errors with status 2."""
+"""The ``placewise`` command line: files written and read back, one-line errors with status 2.
+
+Every value checked comes from a file (or standard output) the command wrote, read back with
+pandas/geopandas, and is compared with an outside reference named beside the check: scipy
+(optimize, cKDTree, csgraph), shapely/GEOS, pyproj, or a closed form.
+"""
 
 from __future__ import annotations
 
+import io
 import shutil
 import subprocess
 import sys
@@ -13,17 +19,13 @@ gpd = pytest.importorskip("geopandas")
 import pandas as pd  # noqa: E402
 import shapely  # noqa: E402
 from scipy.optimize import minimize  # noqa: E402
+from scipy.sparse.csgraph import minimum_spanning_tree  # noqa: E402
+from scipy.spatial import cKDTree  # noqa: E402
+from scipy.spatial.distance import cdist  # noqa: E402
 
-import placewise as pw  # noqa: E402
 from placewise.cli import main  # noqa: E402
 
 from hostile import BAD_WEIGHTS  # noqa: E402
-
-
-def needs(*names: str):
-    missing = [n for n in names if not hasattr(pw, n)]
-    return pytest.mark.skipif(bool(missing), reason=f"placewise.{', '.join(missing)} not in this build")
-
 
 RNG = np.random.default_rng(7)
 XY = RNG.normal(size=(120, 2)) * [2000.0, 1200.0] + [500_000.0, 6_600_000.0]
@@ -44,49 +46,71 @@ def run(argv, capsys):
     return code, out, err
 
 
+def table_of(out: str) -> pd.DataFrame:
+    return pd.read_csv(io.StringIO(out))
+
+
 def assert_user_error(code, err, *words):
     assert code == 2
     lines = err.strip().splitlines()
     assert len(lines) == 1, err
     assert lines[0].startswith("placewise")
-    assert "Traceback" not in err
+    assert "Traceback" not in err and "np." not in err
     for w in words:
         assert w in lines[0], lines[0]
+    return lines[0]
 
 
 def weber_cost_scipy(xy, w):
-    """Weighted Fermat–Weber cost minimised by scipy.optimize (Nelder–Mead)."""
-    f = lambda p: float(w @ np.hypot(*(xy - p).T))  # noqa: E731
-    return float(minimize(f, xy.mean(0), method="Nelder-Mead", options={"xatol": 1e-6, "fatol": 1e-9}).fun)
+    """Weighted Fermat–Weber cost minimised by scipy.optimize (Nelder–Mead, centred and scaled)."""
+    c, s = xy.mean(0), float(np.ptp(xy))
+    f = lambda p: float(w @ np.hypot(*(xy - c - s * p).T))  # noqa: E731
+    return float(minimize(f, np.zeros(2), method="Nelder-Mead", options={"xatol": 1e-10, "fatol": 1e-12}).fun)
+
+
+def mst_length_scipy(xy):
+    """Euclidean MST length by scipy.sparse.csgraph."""
+    return float(minimum_spanning_tree(cdist(xy, xy)).sum())
+
+
+def utm(csv_path):
+    return [csv_path, "--x", "east", "--y", "north", "--crs", "EPSG:32632"]
 
 
 # ---------------------------------------------------------------- formats
 
 
-def test_csv_in_csv_out_on_stdout(csv_path, capsys):
-    code, out, err = run(["weber-point", csv_path, "--x", "east", "--y", "north", "--crs", "EPSG:32632",
-                          "--weight", "people"], capsys)
+def test_csv_in_csv_out_on_stdout_with_units(csv_path, capsys):
+    code, out, err = run(["weber-point", *utm(csv_path), "--weight", "people"], capsys)
     assert code == 0, err
-    table = pd.read_csv(pd.io.common.StringIO(out))
+    table = table_of(out)
     assert list(table.columns[-2:]) == ["east", "north"]
-    assert table["cost"].iloc[0] == pytest.approx(weber_cost_scipy(XY, W), rel=1e-6)  # scipy reference
-    assert "site" in err  # the summary line
+    assert table["cost_m"].iloc[0] == pytest.approx(weber_cost_scipy(XY, W), rel=1e-7)  # scipy reference
+    assert "1 site(s)" in err and "(weight x m)" in err  # the summary line states the unit
+
+
+def test_planar_coordinates_say_coordinate_units(csv_path, capsys):
+    code, out, err = run(["weber-point", csv_path, "--x", "east", "--y", "north", "--planar"], capsys)
+    assert code == 0, err
+    assert "cost_u" in table_of(out).columns
+    assert "coordinate units" in err
 
 
 @pytest.mark.parametrize("suffix", [".geojson", ".parquet", ".csv"])
-def test_output_formats_by_extension(csv_path, tmp_path, capsys, suffix):
+def test_output_formats_by_extension_read_back(csv_path, tmp_path, capsys, suffix):
     out_path = tmp_path / f"best{suffix}"
-    code, _, err = run(["weber-point", csv_path, "--x", "east", "--y", "north", "--crs", "EPSG:32632",
-                        "--weight", "people", "--by", "zone", "-o", out_path, "--quiet"], capsys)
+    code, _, err = run(["weber-point", *utm(csv_path), "--weight", "people", "--by", "zone", "-o", out_path,
+                        "--quiet"], capsys)
     assert code == 0, err
-    assert err == ""  # --quiet: no summary, no progress bar
+    assert err == ""  # --quiet: no summary line
     back = pd.read_csv(out_path) if suffix == ".csv" else (
         gpd.read_file(out_path) if suffix == ".geojson" else gpd.read_parquet(out_path))
     assert back["zone"].tolist() == ["a", "b", "c"]
-    for zone, cost in zip(back["zone"], back["cost"]):
+    assert back["count"].tolist() == [int((G == z).sum()) for z in "abc"]
+    for zone, cost in zip(back["zone"], back["cost_m"]):
         m = G == zone
-        assert cost == pytest.approx(weber_cost_scipy(XY[m], W[m]), rel=1e-6)
-    if suffix == ".parquet":
+        assert cost == pytest.approx(weber_cost_scipy(XY[m], W[m]), rel=1e-7)  # scipy per group
+    if suffix != ".csv":
         assert back.crs.to_epsg() == 32632
 
 
@@ -96,8 +120,8 @@ def test_geojson_input_uses_its_crs(tmp_path, capsys):
     lonlat.to_file(path, driver="GeoJSON")
     code, out, err = run(["weber-point", path, "--weight", "w"], capsys)
     assert code == 0, err
-    # Projected to the estimated UTM zone (32N here): the same cost as in EPSG:32632.
-    assert pd.read_csv(pd.io.common.StringIO(out))["cost"].iloc[0] == pytest.approx(weber_cost_scipy(XY, W), rel=1e-6)
+    # Projected to the estimated UTM zone (32N here, by pyproj): the cost of the EPSG:32632 points.
+    assert table_of(out)["cost_m"].iloc[0] == pytest.approx(weber_cost_scipy(XY, W), rel=1e-6)
 
 
 def test_polygons_need_centroids(tmp_path, capsys):
@@ -128,11 +152,12 @@ def test_missing_column(csv_path, capsys):
     assert_user_error(code, err, "'ward'", "--by")
 
 
-def test_bad_coordinate_value_names_the_line(tmp_path, capsys):
+@pytest.mark.parametrize("text, shown", [("x,y\n0,0\n1,one\n2,2\n", "'one'"), ("x,y\n0,0\n1,\n2,2\n", "nan")])
+def test_bad_coordinate_value_names_the_line_in_plain_words(tmp_path, capsys, text, shown):
     path = tmp_path / "bad.csv"
-    path.write_text("x,y\n0,0\n1,one\n2,2\n")
+    path.write_text(text)
     code, _, err = run(["weber-point", path, "--planar"], capsys)
-    assert_user_error(code, err, "'y'", "line 3")
+    assert_user_error(code, err, "'y'", "line 3", f"value {shown} ")
 
 
 @pytest.mark.parametrize("name,make", BAD_WEIGHTS[:4], ids=[b[0] for b in BAD_WEIGHTS[:4]])
@@ -140,7 +165,46 @@ def test_bad_weight_values(tmp_path, capsys, name, make):
     path = tmp_path / "w.csv"
     pd.DataFrame({"x": XY[:10, 0], "y": XY[:10, 1], "w": make(10)}).to_csv(path, index=False)
     code, _, err = run(["weber-point", path, "--planar", "--weight", "w"], capsys)
-    assert_user_error(code, err)
+    assert_user_error(code, err, "weight")
+
+
+def test_negative_seed_is_a_user_error_naming_seed(csv_path, capsys):
+    code, _, err = run(["steiner-tree", *utm(csv_path), "--seed", "-1"], capsys)
+    assert_user_error(code, err, "seed", "-1")
+
+
+def test_without_by_errors_speak_of_no_group(csv_path, tmp_path, capsys):
+    two = tmp_path / "two.csv"
+    pd.DataFrame({"x": [0.0, 1.0], "y": [0.0, 0.0]}).to_csv(two, index=False)
+    code, _, err = run(["enclosing-ellipse", two, "--planar"], capsys)
+    line = assert_user_error(code, err, "at least 3 distinct points")
+    assert "group" not in line
+
+
+def test_with_by_errors_name_the_group_value(tmp_path, capsys):
+    path = tmp_path / "g.csv"
+    pd.DataFrame({"x": [0.0, 4, 2, 9], "y": [0.0, 0, 3, 9], "town": ["oslo", "oslo", "oslo", "bergen"]}).to_csv(
+        path, index=False)
+    code, _, err = run(["enclosing-ellipse", path, "--planar", "--by", "town"], capsys)
+    line = assert_user_error(code, err, "group 'bergen'")
+    assert "group 0" not in line and "group 1" not in line
+
+
+def test_errors_skip_keeps_the_group_as_a_row(tmp_path, capsys):
+    path = tmp_path / "g.csv"
+    pd.DataFrame({"x": [0.0, 6, 6, 0, 9], "y": [0.0, 0, 2, 2, 9], "town": ["oslo"] * 4 + ["bergen"]}).to_csv(
+        path, index=False)
+    out_path = tmp_path / "e.geojson"
+    code, _, err = run(["enclosing-ellipse", path, "--planar", "--by", "town", "--errors", "skip", "--tol", "1e-10",
+                        "-o", out_path], capsys)
+    assert code == 0, err
+    assert "1 ellipse(s)" in err and "1 group(s) skipped" in err
+    back = gpd.read_file(out_path)
+    assert back["town"].tolist() == ["bergen", "oslo"]
+    assert back["problem"].iloc[0].startswith("group 'bergen': ") and pd.isna(back["problem"].iloc[1])
+    assert back.geometry.iloc[0] is None
+    # Closed form: the minimum-area ellipse of a 6 x 2 rectangle has area pi*6*2/2.
+    assert back["area_u2"].iloc[1] == pytest.approx(6 * np.pi, rel=1e-6)
 
 
 def test_csv_needs_crs_or_planar(csv_path, capsys):
@@ -185,7 +249,8 @@ def test_unreadable_geojson(tmp_path, capsys):
 
 
 @pytest.mark.parametrize("argv", [[], ["no-such-command"], ["p-median", "x.csv"], ["p-median", "x.csv", "-p", "0"],
-                                  ["steiner-tree", "x.csv", "--exact", "--heuristic"]])
+                                  ["steiner-tree", "x.csv", "--exact", "--heuristic"],
+                                  ["steiner-tree", "x.csv", "--seed", "1.5"]])
 def test_usage_errors_are_one_line(argv, capsys):
     with pytest.raises(SystemExit) as info:
         main(argv)
@@ -202,34 +267,40 @@ def test_every_kernel_has_a_subcommand(capsys):
         assert name in out
 
 
-# ---------------------------------------------------------------- every kernel
+# ---------------------------------------------------------------- every kernel, files read back
 
 
-def _planar(csv_path):
-    return [csv_path, "--x", "east", "--y", "north", "--crs", "EPSG:32632"]
-
-
-@needs("minimax_point", "enclosing_circle", "enclosing_ellipse")
 def test_enclosing_commands(csv_path, tmp_path, capsys):
-    pts = shapely.multipoints(XY)
-    for cmd in ("minimax-point", "enclosing-circle"):
-        code, out, err = run([cmd, *_planar(csv_path), "-q"], capsys)
-        assert code == 0, err
-        radius = pd.read_csv(pd.io.common.StringIO(out))["radius"].iloc[0]
-        assert radius == pytest.approx(shapely.minimum_bounding_radius(pts), rel=1e-9)  # GEOS reference
-    code, _, err = run(["enclosing-ellipse", *_planar(csv_path), "--by", "zone", "-o", tmp_path / "e.geojson"], capsys)
+    r = shapely.minimum_bounding_radius(shapely.multipoints(XY))  # GEOS reference
+    code, out, err = run(["enclosing-circle", *utm(csv_path)], capsys)
     assert code == 0, err
+    table = table_of(out)
+    assert table["radius_m"].iloc[0] == pytest.approx(r, rel=1e-9)
+    assert table["area_m2"].iloc[0] == pytest.approx(np.pi * r * r, rel=1e-9)  # closed form
+    assert f"largest radius {r:.6g} m" in err
+    code, out, err = run(["minimax-point", *utm(csv_path), "-q"], capsys)
+    assert code == 0, err
+    # Unit weights: the minimax radius is GEOS's minimum bounding radius.
+    assert table_of(out)["weighted_radius_m"].iloc[0] == pytest.approx(r, rel=1e-9)
+    code, _, err = run(["enclosing-ellipse", *utm(csv_path), "--by", "zone", "-o", tmp_path / "e.geojson"], capsys)
+    assert code == 0, err
+    assert "m squared" in err
     ellipses = gpd.read_file(tmp_path / "e.geojson")
-    for zone, geom in zip(ellipses["zone"], ellipses.geometry):
-        assert bool(shapely.covers(geom, shapely.points(XY[G == zone])).all())
+    for zone, geom, area in zip(ellipses["zone"], ellipses.geometry, ellipses["area_m2"]):
+        assert bool(shapely.covers(geom.buffer(1e-6), shapely.points(XY[G == zone])).all())  # GEOS covers
+        assert geom.area == pytest.approx(area, rel=1e-3)  # shapely area of the 128-gon vs the exact ellipse
 
 
-@needs("voronoi_cells", "nearest_site")
-def test_service_area_commands(csv_path, tmp_path, capsys):
+def write_sites(tmp_path):
     sites = tmp_path / "sites.geojson"
     gpd.GeoDataFrame({"name": ["w", "e", "n"]},
                      geometry=gpd.points_from_xy([497_000, 503_000, 500_000], [6_600_000, 6_600_000, 6_602_000]),
                      crs="EPSG:32632").to_file(sites, driver="GeoJSON")
+    return sites, np.array([[497_000, 6_600_000], [503_000, 6_600_000], [500_000, 6_602_000]], dtype=float)
+
+
+def test_catchment_commands(csv_path, tmp_path, capsys):
+    sites, site_xy = write_sites(tmp_path)
     region = tmp_path / "region.geojson"
     box = shapely.box(*XY.min(0) - 100, *XY.max(0) + 100)
     # The region file is in degrees while the sites and demand are in UTM metres: the layer projects it.
@@ -237,44 +308,76 @@ def test_service_area_commands(csv_path, tmp_path, capsys):
     code, _, err = run(["voronoi-cells", sites, "--region", region, "--demand", csv_path, "--x", "east", "--y",
                         "north", "--crs", "EPSG:32632", "--weight", "people", "-o", tmp_path / "cells.parquet"], capsys)
     assert code == 0, err
+    assert "m squared" in err
     cells = gpd.read_parquet(tmp_path / "cells.parquet")
-    assert cells["area"].sum() == pytest.approx(box.area, rel=1e-6)  # shapely area (after a round trip in degrees)
-    assert cells["load"].sum() == pytest.approx(W.sum())
-    code, out, err = run(["nearest-site", *_planar(csv_path), "--sites", sites, "--weight", "people", "-q"], capsys)
+    assert cells["area_m2"].sum() == pytest.approx(box.area, rel=1e-6)  # shapely area (after a round trip in degrees)
+    nearest = cKDTree(site_xy).query(XY)[1]  # scipy reference
+    np.testing.assert_allclose(cells["load"], np.bincount(nearest, weights=W, minlength=3), rtol=1e-12)
+    assert cells["name"].tolist() == ["w", "e", "n"]
+
+
+def test_nearest_site_files_keep_loads_and_totals(csv_path, tmp_path, capsys):
+    sites, site_xy = write_sites(tmp_path)
+    code, _, err = run(["nearest-site", *utm(csv_path), "--sites", sites, "--weight", "people",
+                        "-o", tmp_path / "assigned.csv", "--site-loads", tmp_path / "loads.geojson",
+                        "--summary", tmp_path / "summary.csv"], capsys)
     assert code == 0, err
-    table = pd.read_csv(pd.io.common.StringIO(out))
-    assert set(table["site"]) <= {0, 1, 2}
-    assert len(table) == len(XY)
+    d, i = cKDTree(site_xy).query(XY)  # scipy reference
+    assigned = pd.read_csv(tmp_path / "assigned.csv")
+    assert assigned["site"].tolist() == i.tolist()
+    np.testing.assert_allclose(assigned["distance_m"], d, rtol=1e-12)
+    loads = gpd.read_file(tmp_path / "loads.geojson")
+    np.testing.assert_allclose(loads["load"], np.bincount(i, weights=W, minlength=3), rtol=1e-12)
+    assert loads["count"].tolist() == np.bincount(i, minlength=3).tolist()
+    summary = pd.read_csv(tmp_path / "summary.csv")
+    assert summary["cost_m"].iloc[0] == pytest.approx(float(W @ d), rel=1e-12)
+    assert summary["load"].iloc[0] == pytest.approx(W.sum())
+    assert "(weight x m)" in err
 
 
-@needs("spanning_tree", "steiner_tree")
 def test_network_commands(csv_path, tmp_path, capsys):
-    from scipy.sparse.csgraph import minimum_spanning_tree
-    from scipy.spatial.distance import cdist
-
-    code, _, err = run(["spanning-tree", *_planar(csv_path), "-o", tmp_path / "mst.geojson"], capsys)
+    code, _, err = run(["spanning-tree", *utm(csv_path), "-o", tmp_path / "mst.geojson",
+                        "--summary", tmp_path / "mst.csv"], capsys)
     assert code == 0, err
+    expected = mst_length_scipy(XY)  # scipy csgraph
     mst = gpd.read_file(tmp_path / "mst.geojson")
-    assert mst["length"].sum() == pytest.approx(minimum_spanning_tree(cdist(XY, XY)).sum(), rel=1e-9)  # scipy
-    code, out, err = run(["steiner-tree", *_planar(csv_path), "--by", "zone", "--heuristic"], capsys)
+    assert mst["length_m"].sum() == pytest.approx(expected, rel=1e-9)
+    assert {"end_a", "end_b"} <= set(mst.columns) and not {"from_node", "to_node", "length"} & set(mst.columns)
+    assert pd.read_csv(tmp_path / "mst.csv")["length_m"].iloc[0] == pytest.approx(expected, rel=1e-9)
+    assert f"length {expected:.6g} m" in err
+    code, out, err = run(["steiner-tree", *utm(csv_path), "--by", "zone", "--heuristic",
+                          "--summary", tmp_path / "st.geojson"], capsys)
     assert code == 0, err
-    assert "saving" in err
-    assert "wkt" in pd.read_csv(pd.io.common.StringIO(out)).columns
+    assert "saving" in err and " m " in err
+    assert "wkt" in table_of(out).columns
+    summary = gpd.read_file(tmp_path / "st.geojson")  # totals as features without geometry
+    for zone, ref_len, length in zip(summary["zone"], summary["mst_length_m"], summary["length_m"]):
+        assert ref_len == pytest.approx(mst_length_scipy(XY[G == zone]), rel=1e-9)  # scipy csgraph
+        assert length <= ref_len * (1 + 1e-12)
+    edges = table_of(out)
+    np.testing.assert_allclose(edges.groupby("zone")["length_m"].sum().to_numpy(), summary["length_m"], rtol=1e-9)
 
 
-@needs("p_median", "p_center")
 def test_plan_commands(csv_path, tmp_path, capsys):
-    code, _, err = run(["p-median", *_planar(csv_path), "-p", "3", "--weight", "people", "-o", tmp_path / "s.csv",
-                        "--assignment", tmp_path / "a.csv"], capsys)
+    code, _, err = run(["p-median", *utm(csv_path), "-p", "3", "--weight", "people", "-o", tmp_path / "s.csv",
+                        "--assignment", tmp_path / "a.csv", "--summary", tmp_path / "t.parquet"], capsys)
     assert code == 0, err
     sites, assigned = pd.read_csv(tmp_path / "s.csv"), pd.read_csv(tmp_path / "a.csv")
+    summary = pd.read_parquet(tmp_path / "t.parquet")
     assert len(sites) == 3 and len(assigned) == len(XY)
-    assert sites["load"].sum() == pytest.approx(W.sum())
-    code, out, err = run(["p-center", *_planar(csv_path), "-p", "2", "--by", "zone", "-q"], capsys)
+    # The assignment file names each row's site by the sites file's own `site` column.
+    site_xy = sites.set_index("site")[["east", "north"]]
+    d, i = cKDTree(site_xy.to_numpy()).query(XY)  # scipy, on the sites the command wrote
+    assert assigned["site"].tolist() == site_xy.index[i].tolist()
+    np.testing.assert_allclose(assigned["distance_m"], d, rtol=1e-6, atol=1e-6)
+    np.testing.assert_allclose(sites["load"], np.bincount(i, weights=W, minlength=3), rtol=1e-12)
+    assert summary["cost_m"].iloc[0] == pytest.approx(float(W @ d), rel=1e-9)
+    assert "(weight x m)" in err
+    code, out, err = run(["p-center", *utm(csv_path), "-p", "2", "--by", "zone", "-q"], capsys)
     assert code == 0, err
-    assert len(pd.read_csv(pd.io.common.StringIO(out))) == 6
-    code, _, err = run(["p-median", *_planar(csv_path), "-p", "500"], capsys)
-    assert_user_error(code, err)
+    assert table_of(out).groupby("zone").size().tolist() == [2, 2, 2]
+    code, _, err = run(["p-median", *utm(csv_path), "-p", "500"], capsys)
+    assert_user_error(code, err, "500")
 
 
 # ---------------------------------------------------------------- entry points
@@ -287,7 +390,7 @@ def test_python_dash_m_and_console_script(csv_path):
         ok = subprocess.run([*cmd, "weber-point", str(csv_path), "--x", "east", "--y", "north", "--planar", "-q"],
                             capture_output=True, text=True, timeout=120)
         assert ok.returncode == 0, ok.stderr
-        assert "cost" in ok.stdout
+        assert "cost_u" in ok.stdout
         bad = subprocess.run([*cmd, "weber-point", "missing.csv", "--planar"], capture_output=True, text=True,
                              timeout=120)
         assert bad.returncode == 2

@@ -10,7 +10,6 @@ import pytest
 pytest.importorskip("matplotlib")
 import shapely  # noqa: E402
 
-import placewise as pw  # noqa: E402
 from placewise import demo  # noqa: E402
 from placewise._scenario import orsavel  # noqa: E402
 from placewise.cli import main  # noqa: E402
@@ -88,6 +87,65 @@ def test_network_layers_and_saving(ran):
     st_len = sum(g.length for g in st)
     assert st_len <= mst_len * (1 + 1e-12)
     assert len(mst) == demo.DEPOTS + len(orsavel().towns) - 1
+
+
+def test_households_go_to_their_nearest_depot(ran):
+    from scipy.spatial import cKDTree
+
+    _, out, _ = ran
+    s = orsavel()
+    doc, homes = layer(out, "households")
+    depots_doc, depots = layer(out, "depots_p_median")
+    xy = shapely.get_coordinates(homes)
+    np.testing.assert_array_equal(xy, s.households)
+    labels = np.array([f["properties"]["depot"] for f in depots_doc["features"]])
+    # scipy reference: a k-d tree query of the depots layer gives each household's trip and depot.
+    d, i = cKDTree(shapely.get_coordinates(depots)).query(xy)
+    props = doc["features"]
+    np.testing.assert_allclose([f["properties"]["distance_m"] for f in props], d, rtol=1e-12, atol=1e-9)
+    np.testing.assert_array_equal([f["properties"]["depot"] for f in props], labels[i])
+    # The depots' loads are the people of the households each serves (summed in the test).
+    people = np.array([f["properties"]["people"] for f in props])
+    served = np.bincount(i, weights=people, minlength=len(labels))
+    np.testing.assert_allclose([f["properties"]["people"] for f in depots_doc["features"]], served, rtol=1e-12)
+
+
+def test_summary_travel_matches_the_households_layer(ran):
+    import csv
+
+    _, out, _ = ran
+    doc, _ = layer(out, "households")
+    people = np.array([f["properties"]["people"] for f in doc["features"]])
+    trips = np.array([f["properties"]["distance_m"] for f in doc["features"]])
+    with open(out / "summary.csv") as fh:
+        rows = {(r["measure"], r["plan"]): r["value"] for r in csv.DictReader(fh)}
+    plan = f"{demo.DEPOTS} depots, least total travel (p-median)"
+    # Closed form of the measures: sum and weighted mean of the trips, written out here.
+    assert float(rows[("total travel", plan)]) == pytest.approx(people @ trips / 1000, abs=1e-3)
+    assert float(rows[("mean trip per person", plan)]) == pytest.approx(people @ trips / people.sum() / 1000, abs=1e-3)
+    assert float(rows[("worst trip", plan)]) == pytest.approx(trips.max() / 1000, abs=1e-3)
+
+
+def test_links_are_undirected_named_edges(ran):
+    _, out, _ = ran
+    s = orsavel()
+    names = {f"depot {i + 1}" for i in range(demo.DEPOTS)} | set(s.town_names)
+    for name in ("links_mst", "links_steiner"):
+        doc, edges = layer(out, name)
+        for feature, edge in zip(doc["features"], edges):
+            props = feature["properties"]
+            assert set(props) == {"end_a", "end_b", "length_m"}  # no from/to: edges have no direction
+            for end in (props["end_a"], props["end_b"]):
+                assert end in names or (name == "links_steiner" and end.startswith("junction "))
+            # shapely reference: the stated length is the segment's own length.
+            assert props["length_m"] == pytest.approx(edge.length, rel=1e-12)
+
+
+def test_no_product_wording_in_the_outputs(ran):
+    _, out, printed = ran
+    assert not list(out.glob("service_area*"))
+    assert "service area" not in printed.lower()
+    assert "## Catchments" in printed
 
 
 def test_out_path_that_is_a_file_is_a_user_error(tmp_path, capsys):

@@ -291,27 +291,28 @@ def test_groups_match_separate_calls_and_support_indexes_the_input() -> None:
     assert circles.labels.tolist() == expected
     assert len(circles) == len(minimax) == len(ellipses) == len(expected)
     # Iteration, [label] and the label-keyed support accessor agree with separate calls on
-    # each group's points (support indices are rows of the whole input).
+    # each group's points: a group's own result counts its rows from 0, as the separate call
+    # does; the label-keyed support accessor names rows of the whole input.
     for label, c_item, m_item, e_item in zip(expected, circles, minimax, ellipses):
         idx = np.flatnonzero(labels == label)
         c = pw.enclosing_circle(pts[idx])
         for got in (c_item, circles[label]):
             assert isinstance(got, pw.Circle)
             assert got.radius == c.radius and got.center.tolist() == c.center.tolist() and got.area == c.area
-            assert got.support.tolist() == idx[c.support].tolist()
+            assert got.support.tolist() == c.support.tolist()
         assert circles.support(label).tolist() == idx[c.support].tolist()
         m = pw.minimax_point(pts[idx], w[idx])
         for got in (m_item, minimax[label]):
             assert isinstance(got, pw.MinimaxPoint)
             assert got.weighted_radius == m.weighted_radius and got.location.tolist() == m.location.tolist()
-            assert got.support.tolist() == idx[m.support].tolist()
+            assert got.support.tolist() == m.support.tolist()
         assert minimax.support(label).tolist() == idx[m.support].tolist()
         e = pw.enclosing_ellipse(pts[idx])
         for got in (e_item, ellipses[label]):
             assert isinstance(got, pw.Ellipse)
             assert np.array_equal(got.shape, e.shape) and got.area == e.area and got.angle == e.angle
             assert (got.semi_major, got.semi_minor, got.relative_gap) == (e.semi_major, e.semi_minor, e.relative_gap)
-            assert got.support.tolist() == idx[e.support].tolist()
+            assert got.support.tolist() == e.support.tolist()
         assert ellipses.support(label).tolist() == idx[e.support].tolist()
     assert circles.support_offsets[-1] == len(circles.support_index)
     assert 99 not in circles

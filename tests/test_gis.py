@@ -1,39 +1,45 @@
-"""The GeoPandas layer: CRS handling, geometry checks, grouped runs and every kernel."""
+"""The GeoPandas layer (placewise.gis): what the user receives, checked against outside references.
+
+References named beside each check: pyproj (UTM zone choice, projections, WGS 84 geodesics),
+shapely/GEOS (areas, coverage, minimum bounding radius), scipy (cKDTree nearest sites,
+csgraph minimum spanning tree, optimize for the Fermat–Weber and minimax objectives) and
+closed forms. Frames carry index labels that are not row positions, so every check of a row
+name also checks that positions never leak.
+"""
 
 from __future__ import annotations
+
+import subprocess
+import sys
 
 import numpy as np
 import pytest
 
 gpd = pytest.importorskip("geopandas")
 pyproj = pytest.importorskip("pyproj")
+import pandas as pd  # noqa: E402
 import shapely  # noqa: E402
 from scipy.optimize import minimize  # noqa: E402
+from scipy.sparse.csgraph import minimum_spanning_tree  # noqa: E402
 from scipy.spatial import cKDTree  # noqa: E402
+from scipy.spatial.distance import cdist  # noqa: E402
 
 import placewise as pw  # noqa: E402
-from placewise import gis  # noqa: E402
-
 from hostile import BAD_WEIGHTS  # noqa: E402
-
-
-def needs(*names: str):
-    """Skip while a kernel has not landed in this build (every present kernel is tested)."""
-    missing = [n for n in names if not hasattr(pw, n)]
-    return pytest.mark.skipif(bool(missing), reason=f"placewise.{', '.join(missing)} not in this build")
-
+from placewise import _core, gis  # noqa: E402
 
 RNG = np.random.default_rng(20261202)
 
 
 def lonlat_frame(n: int = 300, lon: float = 10.75, lat: float = 59.9, spread: float = 0.08, seed: int = 1):
-    """Random points near (lon, lat) in EPSG:4326 with a weight and a string group column."""
+    """Random points near (lon, lat) in EPSG:4326 with a weight, a string group column and
+    string index labels ``h0, h1, ...`` (labels that are not positions)."""
     rng = np.random.default_rng(seed)
     x = lon + spread * rng.normal(size=n)
     y = lat + 0.5 * spread * rng.normal(size=n)
     return gpd.GeoDataFrame(
         {"people": rng.integers(1, 6, size=n).astype(float), "zone": rng.choice(["north", "east", "south"], size=n)},
-        geometry=gpd.points_from_xy(x, y), crs="EPSG:4326",
+        geometry=gpd.points_from_xy(x, y), crs="EPSG:4326", index=[f"h{i}" for i in range(n)],
     )
 
 
@@ -42,42 +48,108 @@ def utm_of(frame):
     from pyproj.aoi import AreaOfInterest
     from pyproj.database import query_utm_crs_info
 
-    w, s, e, n = frame.total_bounds
+    w, s, e, n = frame.to_crs("EPSG:4326").total_bounds
     info = query_utm_crs_info(datum_name="WGS 84", area_of_interest=AreaOfInterest(w, s, e, n))
     return pyproj.CRS.from_epsg(info[0].code)
+
+
+def metric_xy(frame) -> np.ndarray:
+    """The frame's points in pyproj's UTM zone, projected by pyproj (outside the layer)."""
+    utm = utm_of(frame)
+    lon, lat = shapely.get_x(frame.geometry.values), shapely.get_y(frame.geometry.values)
+    x, y = pyproj.Transformer.from_crs(frame.crs, utm, always_xy=True).transform(lon, lat)
+    return np.column_stack([x, y])
 
 
 def weber_cost_scipy(xy: np.ndarray, w: np.ndarray) -> float:
     """Weighted Fermat–Weber cost minimised by scipy.optimize (Nelder–Mead from the centroid)."""
     c = (xy * w[:, None]).sum(0) / w.sum()
-    f = lambda p: float(w @ np.hypot(*(xy - p).T))  # noqa: E731
-    return float(minimize(f, c, method="Nelder-Mead", options={"xatol": 1e-6, "fatol": 1e-9, "maxiter": 20000}).fun)
+    scale = max(float(np.ptp(xy)), 1.0)
+    f = lambda p: float(w @ np.hypot(*(xy - c - p * scale).T))  # noqa: E731
+    res = minimize(f, np.zeros(2), method="Nelder-Mead", options={"xatol": 1e-10, "fatol": 1e-12, "maxiter": 40000})
+    return float(res.fun)
 
 
-# ---------------------------------------------------------------- CRS handling
+def minimax_scipy(xy: np.ndarray, w: np.ndarray) -> float:
+    """Weighted minimax radius by scipy.optimize SLSQP: min r s.t. w_i |p - x_i| <= r."""
+    c = xy.mean(0)
+    scale = float(np.ptp(xy))
+    z = (xy - c) / scale
+    cons = {"type": "ineq", "fun": lambda v: v[2] - w * np.hypot(*(z - v[:2]).T)}
+    start = np.array([0.0, 0.0, float((w * np.hypot(*z.T)).max())])
+    res = minimize(lambda v: v[2], start, constraints=[cons], method="SLSQP", options={"ftol": 1e-14, "maxiter": 500})
+    return float(res.x[2]) * scale
 
 
-def test_geographic_input_runs_in_utm_metres_and_returns_degrees():
+def mst_length_scipy(xy: np.ndarray) -> float:
+    """Euclidean MST length by scipy.sparse.csgraph on the full distance matrix."""
+    return float(minimum_spanning_tree(cdist(xy, xy)).sum())
+
+
+def no_shadowing(frame) -> None:
+    """No column shadows a GeoDataFrame member and no total hides in ``attrs``.
+
+    ``count`` is the one exception the table contract names on purpose (rows used or
+    served); every other column must read back as a column with ``frame.<name>``.
+    """
+    geometry = frame.geometry.name if isinstance(frame, gpd.GeoDataFrame) else None
+    shadowing = {c for c in frame.columns if c != geometry and hasattr(gpd.GeoDataFrame, str(c))} - {"count"}
+    assert shadowing == set(), shadowing
+    assert not {"area", "length", "distance", "index", "crs"} & set(frame.columns)
+    assert frame.attrs == {}
+
+
+@pytest.fixture()
+def crossings(monkeypatch):
+    """Names of the compiled kernel entry points called (every ``*_single``/``*_grouped``)."""
+    calls: list[str] = []
+    for name in dir(_core):
+        if name.endswith(("_single", "_grouped")):
+            def counted(*args, _fn=getattr(_core, name), _name=name, **kwargs):
+                calls.append(_name)
+                return _fn(*args, **kwargs)
+
+            monkeypatch.setattr(_core, name, counted)
+    return calls
+
+
+# ---------------------------------------------------------------- packaging
+
+
+def test_import_placewise_then_gis_and_cluster_as_attributes():
+    # The README's usage: no explicit `import placewise.gis`; a fresh interpreter proves it.
+    code = "import placewise; placewise.gis.weber_point; placewise.cluster.grouped; print('ok')"
+    done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120)
+    assert done.returncode == 0, done.stderr
+    assert done.stdout.strip() == "ok"
+
+
+# ---------------------------------------------------------------- CRS handling and units
+
+
+def test_geographic_input_is_solved_in_metres_and_returned_in_its_crs():
     frame = lonlat_frame()
     out = gis.weber_point(frame, "people")
     assert out.crs == frame.crs
-    # Outside check: project with pyproj's own UTM zone choice and minimise with scipy.
-    xy = shapely.get_coordinates(frame.to_crs(utm_of(frame)).geometry.values)
-    assert out["cost"].iloc[0] == pytest.approx(weber_cost_scipy(xy, frame["people"].to_numpy()), rel=1e-6)
-    loc = out.to_crs(utm_of(frame)).geometry.iloc[0]
-    assert 0 < loc.x < 1e6 and 6e6 < loc.y < 7e6  # metres in UTM zone 32N, not degrees
+    assert {"cost_m", "gap_m"} <= set(out.columns)
+    # Outside check: pyproj's UTM zone and projection, then scipy.optimize on the objective.
+    assert out["cost_m"].iloc[0] == pytest.approx(weber_cost_scipy(metric_xy(frame), frame["people"].to_numpy()),
+                                                  rel=1e-7)
+    assert out["count"].iloc[0] == len(frame)
+    # The site comes back in degrees: projected by pyproj to UTM it is the reported x, y.
+    site = out.geometry.iloc[0]
+    x, y = pyproj.Transformer.from_crs(frame.crs, utm_of(frame), always_xy=True).transform(site.x, site.y)
+    assert (x, y) == pytest.approx((out["x"].iloc[0], out["y"].iloc[0]), abs=1e-3)
+    no_shadowing(out)
 
 
-def test_one_degree_of_latitude_is_about_111_km():
+def test_one_degree_of_latitude_is_the_geodesic_length():
     # Two points one degree apart on a meridian: pyproj.Geod (WGS 84 geodesic) gives the
-    # distance; UTM's scale error near the central meridian is below 0.1 %.
+    # distance; UTM's scale error near the central meridian (9°E, zone 32) is 4e-4.
     pts = gpd.GeoSeries(gpd.points_from_xy([9.0, 9.0], [60.0, 61.0]), crs="EPSG:4326")
     geodesic = pyproj.Geod(ellps="WGS84").inv(9.0, 60.0, 9.0, 61.0)[2]
-    r = gis.enclosing_circle(pts) if hasattr(pw, "enclosing_circle") else None
-    out = gis.weber_point(pts)
-    assert out["cost"].iloc[0] == pytest.approx(geodesic, rel=1e-3)
-    if r is not None:
-        assert 2 * r["radius"].iloc[0] == pytest.approx(geodesic, rel=1e-3)
+    assert gis.weber_point(pts)["cost_m"].iloc[0] == pytest.approx(geodesic, rel=1e-3)
+    assert 2 * gis.enclosing_circle(pts)["radius_m"].iloc[0] == pytest.approx(geodesic, rel=1e-3)
 
 
 def test_projected_input_is_used_as_is():
@@ -85,16 +157,30 @@ def test_projected_input_is_used_as_is():
     out = gis.weber_point(frame, "people")
     assert out.crs == frame.crs
     xy = shapely.get_coordinates(frame.geometry.values)
-    assert out["cost"].iloc[0] == pytest.approx(weber_cost_scipy(xy, frame["people"].to_numpy()), rel=1e-6)
+    assert out["cost_m"].iloc[0] == pytest.approx(weber_cost_scipy(xy, frame["people"].to_numpy()), rel=1e-7)
 
 
-def test_no_crs_needs_planar():
+def test_a_feet_crs_names_its_unit():
+    # EPSG:2263 (New York Long Island) is in US survey feet: columns say so, values are feet.
+    frame = lonlat_frame(n=40, lon=-73.9, lat=40.75, spread=0.02).to_crs("EPSG:2263")
+    out = gis.enclosing_circle(frame)
+    assert {"radius_usft", "area_usft2"} <= set(out.columns)
+    xy = shapely.get_coordinates(frame.geometry.values)
+    r = shapely.minimum_bounding_radius(shapely.multipoints(xy))  # GEOS, in the frame's feet
+    assert out["radius_usft"].iloc[0] == pytest.approx(r, rel=1e-9)
+    assert out["area_usft2"].iloc[0] == pytest.approx(np.pi * r * r, rel=1e-9)  # closed form
+
+
+def test_no_crs_needs_planar_and_names_coordinate_units():
     frame = gpd.GeoDataFrame(geometry=gpd.points_from_xy([0, 4, 2], [0, 0, 4]))
     with pytest.raises(pw.InputError, match="no CRS.*planar=True"):
         gis.weber_point(frame)
+    out = gis.weber_point(frame, planar=True)
     # Closed form: the Torricelli point of (0,0),(4,0),(2,4) costs 4 + 2*sqrt(3) (all angles < 120°).
-    assert gis.weber_point(frame, planar=True)["cost"].iloc[0] == pytest.approx(4 + 2 * np.sqrt(3), rel=1e-9)
-    assert gis.weber_point(frame, planar=True).crs is None
+    assert out["cost_u"].iloc[0] == pytest.approx(4 + 2 * np.sqrt(3), rel=1e-9)
+    assert out.crs is None
+    with pytest.raises(pw.InputError, match="planar=True is only for frames without one"):
+        gis.weber_point(frame.set_crs("EPSG:3857"), planar=True)
 
 
 def test_geoseries_is_accepted():
@@ -109,51 +195,55 @@ def test_not_a_frame_is_an_input_error(bad):
 
 
 def test_empty_frame_is_an_input_error():
-    with pytest.raises(pw.InputError, match="empty"):
+    with pytest.raises(pw.InputError, match="no rows"):
         gis.weber_point(gpd.GeoDataFrame(geometry=[], crs="EPSG:4326"))
 
 
 def test_mixed_crs_presence_is_an_input_error():
     sites = gpd.GeoSeries(gpd.points_from_xy([0, 1], [0, 1]), crs="EPSG:3857")
     demand = gpd.GeoSeries(gpd.points_from_xy([0, 1], [0, 1]))
-    if hasattr(pw, "nearest_site"):
-        with pytest.raises(pw.InputError, match="CRS"):
-            gis.nearest_site(demand, sites)
+    with pytest.raises(pw.InputError, match="CRS"):
+        gis.nearest_site(demand, sites)
 
 
-# ---------------------------------------------------------------- geometry checks
+# ---------------------------------------------------------------- geometry checks, in the frame's labels
 
 
 def test_non_points_raise_unless_centroids():
-    polys = gpd.GeoDataFrame(geometry=[shapely.box(0, 0, 2, 2), shapely.box(10, 0, 12, 2)], crs="EPSG:3857")
-    with pytest.raises(pw.InputError, match=r"row 0 is a Polygon.*centroids=True"):
+    polys = gpd.GeoDataFrame(geometry=[shapely.box(0, 0, 2, 2), shapely.box(10, 0, 12, 2)], crs="EPSG:3857",
+                             index=["plot-a", "plot-b"])
+    with pytest.raises(pw.InputError, match=r"row 'plot-a' is a Polygon.*centroids=True"):
         gis.weber_point(polys)
     out = gis.weber_point(polys, centroids=True)
-    # Any point of the segment between the two centroids (1,1)-(11,1) is optimal; cost 10.
-    assert out["cost"].iloc[0] == pytest.approx(10.0, rel=1e-9)
+    # Closed form: any point between the two centroids (1,1)-(11,1) is optimal; cost 10.
+    assert out["cost_m"].iloc[0] == pytest.approx(10.0, rel=1e-9)
 
 
 def test_centroids_are_taken_in_the_metric_crs():
     # A large polygon in degrees: its centroid in UTM differs from the degree centroid;
-    # the layer must use the metric one (shapely.centroid after pyproj projection).
+    # the layer must use the metric one (pyproj projection, then GEOS centroid).
     poly = shapely.Polygon([(10, 59), (12, 59), (12, 62), (10, 62.5)])
     frame = gpd.GeoDataFrame(geometry=[poly], crs="EPSG:4326")
     out = gis.weber_point(frame, centroids=True)
-    expected = frame.to_crs(frame.estimate_utm_crs()).geometry.centroid.to_crs("EPSG:4326").iloc[0]
+    expected = frame.to_crs(utm_of(frame)).geometry.centroid.to_crs("EPSG:4326").iloc[0]
     assert out.geometry.iloc[0].distance(expected) < 1e-9
 
 
 @pytest.mark.parametrize("geom", [None, shapely.Point(), shapely.LineString()])
-def test_missing_or_empty_geometry_is_an_input_error(geom):
-    frame = gpd.GeoDataFrame(geometry=[shapely.Point(0, 0), geom, shapely.Point(1, 1)], crs="EPSG:3857")
-    with pytest.raises(pw.InputError, match="row 1 has a missing or empty geometry"):
+def test_missing_or_empty_geometry_names_the_row_label(geom):
+    frame = gpd.GeoDataFrame(geometry=[shapely.Point(0, 0), geom, shapely.Point(1, 1)], crs="EPSG:3857",
+                             index=[7, 70, 700])
+    with pytest.raises(pw.InputError, match="row 70 has a missing or empty geometry"):
         gis.weber_point(frame)
 
 
-def test_nan_coordinates_reach_the_kernel_check():
-    frame = gpd.GeoDataFrame(geometry=gpd.points_from_xy([0.0, np.nan, 1.0], [0.0, 1.0, 2.0]), crs="EPSG:3857")
-    with pytest.raises(pw.InputError):
+def test_nan_coordinate_is_named_by_the_row_label():
+    frame = gpd.GeoDataFrame(geometry=gpd.points_from_xy([0.0, np.nan, 1.0], [0.0, 1.0, 2.0]), crs="EPSG:3857",
+                             index=["a", "b", "c"])
+    with pytest.raises(pw.InputError) as info:
         gis.weber_point(frame)
+    assert info.value.row == "b" and info.value.argument == "points"
+    assert "points['b']" in str(info.value) and "points[1]" not in str(info.value)
 
 
 # ---------------------------------------------------------------- weights and groups
@@ -172,283 +262,492 @@ def test_non_numeric_weight_column():
 
 
 @pytest.mark.parametrize("name,make", BAD_WEIGHTS, ids=[b[0] for b in BAD_WEIGHTS])
-def test_bad_weights_are_input_errors(name, make):
+def test_bad_weights_are_input_errors_with_plain_numbers(name, make):
     frame = lonlat_frame(n=20)
-    with pytest.raises(pw.InputError):
+    with pytest.raises(pw.InputError) as info:
         gis.weber_point(frame, make(len(frame)))
+    assert "np." not in str(info.value)
+
+
+def test_negative_weight_is_named_by_group_value_and_row_label():
+    frame = lonlat_frame(n=30)
+    w = np.ones(len(frame))
+    at = int(np.flatnonzero((frame["zone"] == "south").to_numpy())[1])
+    w[at] = -1.0
+    with pytest.raises(pw.InputError) as info:
+        gis.weber_point(frame, w, by="zone")
+    label = frame.index[at]
+    assert info.value.group == "south" and info.value.row == label
+    text = str(info.value)
+    assert text.startswith("group 'south': ") and f"weights[{label!r}] = -1" in text
+    assert "np." not in text and "group 0" not in text and "group 2" not in text
+
+
+def test_number_arguments_print_plain_numbers():
+    frame = lonlat_frame(n=20)
+    with pytest.raises(pw.InputError, match=r"p must be an integer >= 1; got 0$"):
+        gis.p_median(frame, np.int64(0))
+    with pytest.raises(pw.InputError, match=r"got nan$"):
+        gis.enclosing_ellipse(frame, tol=np.float64(np.nan))
+    with pytest.raises(pw.InputError, match=r"seed .* got -1$") as info:
+        gis.steiner_tree(frame, seed=np.int64(-1))
+    assert info.value.argument == "seed"
 
 
 def test_weights_as_array_equal_weights_as_column():
     frame = lonlat_frame()
     a = gis.weber_point(frame, "people")
     b = gis.weber_point(frame, frame["people"].to_numpy())
-    assert a["cost"].iloc[0] == b["cost"].iloc[0]
+    assert a["cost_m"].iloc[0] == b["cost_m"].iloc[0]
 
 
-def test_groups_match_separate_runs_sorted_by_value():
+def test_groups_are_sorted_by_value_and_each_matches_scipy():
     frame = lonlat_frame(n=400)
     out = gis.weber_point(frame, "people", by="zone")
     assert out["zone"].tolist() == ["east", "north", "south"]
-    assert out["count"].sum() == len(frame)
-    for zone, row in zip(out["zone"], out.itertuples()):
-        part = frame[frame["zone"] == zone]
-        alone = gis.weber_point(part, "people")
-        # Same working CRS for the part? Compare the cost with scipy on the whole frame's UTM zone.
-        xy = shapely.get_coordinates(part.to_crs(frame.estimate_utm_crs()).geometry.values)
-        assert row.cost == pytest.approx(weber_cost_scipy(xy, part["people"].to_numpy()), rel=1e-6)
-        assert alone.geometry.iloc[0].distance(row.geometry) < 1e-3  # degrees; same zone here
-
-
-def test_chunked_grouped_run_equals_one_grouped_call():
-    # 400 groups of 100 points: more than one chunk of about 20,000 points.
-    n, groups = 40_000, 400
-    xy = RNG.normal(size=(n, 2)) * 1000
-    labels = RNG.integers(0, groups, size=n)
-    w = RNG.uniform(0.5, 2.0, size=n)
-    frame = gpd.GeoDataFrame({"g": labels, "w": w}, geometry=gpd.points_from_xy(*xy.T))
-    out = gis.weber_point(frame, "w", by="g", planar=True)
-    whole = pw.weber_point(xy, w, groups=labels)
-    np.testing.assert_array_equal(out["g"].to_numpy(), whole.labels)
-    np.testing.assert_allclose(out["cost"].to_numpy(), whole.cost, rtol=1e-12)
-    np.testing.assert_allclose(shapely.get_coordinates(out.geometry.values), whole.location, rtol=1e-12)
+    assert out["count"].tolist() == [int((frame["zone"] == z).sum()) for z in ["east", "north", "south"]]
+    assert out["problem"].isna().all()
+    xy = metric_xy(frame)  # pyproj; one working CRS for the whole frame
+    for zone, cost in zip(out["zone"], out["cost_m"]):
+        m = (frame["zone"] == zone).to_numpy()
+        assert cost == pytest.approx(weber_cost_scipy(xy[m], frame["people"].to_numpy()[m]), rel=1e-7)  # scipy
 
 
 def test_missing_group_column_and_missing_group_values():
     frame = lonlat_frame()
     with pytest.raises(pw.InputError, match="no group column 'district'"):
         gis.weber_point(frame, by="district")
-    frame.loc[frame.index[5], "zone"] = None
-    with pytest.raises(pw.InputError, match="missing value at row 5"):
+    frame.loc["h5", "zone"] = None
+    with pytest.raises(pw.InputError, match="missing value at row 'h5'"):
         gis.weber_point(frame, by="zone")
 
 
-def test_group_errors_name_the_group():
-    frame = lonlat_frame(n=30)
-    w = np.ones(len(frame))
-    w[(frame["zone"] == "south").to_numpy()] = 0.0  # all-zero weights in one group
-    with pytest.raises(pw.InputError, match="south"):
-        gis.weber_point(frame, w, by="zone")
+# ---------------------------------------------------------------- one grouped path
+
+
+def three_hundred_groups(per_group: int = 8, seed: int = 3):
+    """300 groups of ``per_group`` planar points; integer index labels from 10_000."""
+    rng = np.random.default_rng(seed)
+    n = 300 * per_group
+    xy = rng.random((n, 2)) * 1000
+    g = np.repeat(np.arange(300), per_group)
+    rng.shuffle(g)
+    return gpd.GeoDataFrame({"g": g, "w": rng.uniform(1, 2, n)}, geometry=gpd.points_from_xy(*xy.T),
+                            index=np.arange(n) + 10_000)
+
+
+ONE_CALL = {
+    "weber_point": lambda f: gis.weber_point(f, "w", by="g", planar=True),
+    "minimax_point": lambda f: gis.minimax_point(f, "w", by="g", planar=True),
+    "enclosing_circle": lambda f: gis.enclosing_circle(f, by="g", planar=True),
+    "enclosing_ellipse": lambda f: gis.enclosing_ellipse(f, by="g", planar=True),
+    "spanning_tree": lambda f: gis.spanning_tree(f, by="g", planar=True),
+    "steiner_tree": lambda f: gis.steiner_tree(f, by="g", planar=True, exact=False),
+    "p_median": lambda f: gis.p_median(f, 2, "w", by="g", planar=True),
+    "p_center": lambda f: gis.p_center(f, 2, "w", by="g", planar=True),
+    "voronoi_cells": lambda f: gis.voronoi_cells(f, by="g", planar=True),
+}
+
+
+@pytest.mark.parametrize("kernel", list(ONE_CALL))
+def test_a_grouped_call_crosses_into_rust_once(kernel, crossings):
+    frame = three_hundred_groups()
+    ONE_CALL[kernel](frame)
+    assert crossings == [f"{kernel}_grouped"]
+
+
+def test_grouped_nearest_site_crosses_into_rust_once(crossings):
+    demand = three_hundred_groups(seed=4)
+    sites = three_hundred_groups(per_group=2, seed=5)
+    plan = gis.nearest_site(demand, sites, "w", by="g", planar=True)
+    assert crossings == ["nearest_site_grouped"]
+    assert len(plan.summary) == 300
+
+
+def test_grouped_catchments_with_demand_cross_once_per_kernel(crossings):
+    demand = three_hundred_groups(seed=4)
+    sites = three_hundred_groups(per_group=3, seed=5)
+    gis.voronoi_cells(sites, by="g", demand=demand, weight="w", planar=True)
+    assert sorted(crossings) == ["nearest_site_grouped", "voronoi_cells_grouped"]
+
+
+# ---------------------------------------------------------------- errors="skip" and degenerate groups
+
+
+def ellipse_frame():
+    """Group 'box' is a 6 x 2 rectangle's corners; group 'lonely' one point (no ellipse)."""
+    return gpd.GeoDataFrame({"site": ["box"] * 4 + ["lonely"]},
+                            geometry=gpd.points_from_xy([0, 6, 6, 0, 50], [0, 0, 2, 2, 50]), crs="EPSG:32632",
+                            index=["c1", "c2", "c3", "c4", "solo"])
+
+
+def test_a_degenerate_group_fails_the_run_by_default_naming_it():
+    with pytest.raises(pw.DegenerateInputError) as info:
+        gis.enclosing_ellipse(ellipse_frame(), by="site", tol=1e-10)
+    assert info.value.group == "lonely"
+    assert str(info.value).startswith("group 'lonely': ")
+
+
+def test_skip_keeps_a_degenerate_group_as_a_row_with_its_problem(tmp_path):
+    out = gis.enclosing_ellipse(ellipse_frame(), by="site", tol=1e-10, errors="skip")
+    assert out["site"].tolist() == ["box", "lonely"]
+    assert out["count"].tolist() == [4, 1]
+    assert pd.isna(out["problem"].iloc[0])
+    assert out["problem"].iloc[1].startswith("group 'lonely': ")
+    # Closed form: the minimum-area ellipse of an a x b rectangle has semi-axes a/sqrt2, b/sqrt2.
+    assert out["semi_major_m"].iloc[0] == pytest.approx(6 / np.sqrt(2), rel=1e-6)
+    assert out["semi_minor_m"].iloc[0] == pytest.approx(2 / np.sqrt(2), rel=1e-6)
+    assert np.isnan(out["semi_major_m"].iloc[1])
+    # The skipped group has no shape: a missing geometry, kept as null by GeoJSON.
+    assert out.geometry.iloc[1] is None
+    out.to_file(tmp_path / "e.geojson", driver="GeoJSON")
+    back = gpd.read_file(tmp_path / "e.geojson")
+    assert back.geometry.iloc[1] is None and back["problem"].iloc[1].startswith("group 'lonely'")
+
+
+def test_skip_in_a_plan_keeps_the_group_in_every_table():
+    frame = gpd.GeoDataFrame({"town": ["a", "a", "a", "a", "z"]},
+                             geometry=gpd.points_from_xy([0, 1, 10, 11, 5], [0, 0, 0, 0, 5]), crs="EPSG:32632",
+                             index=[11, 12, 13, 14, 15])
+    plan = gis.p_median(frame, 2, by="town", errors="skip")
+    assert plan.summary["town"].tolist() == ["a", "z"]
+    assert plan.summary["problem"].iloc[1].startswith("group 'z': ")
+    # Closed form on a line: pairs {0, 1} and {10, 11}, one site each, cost 1 + 1.
+    assert plan.summary["cost_m"].iloc[0] == pytest.approx(2.0, rel=1e-9)
+    skipped = plan.sites[plan.sites["town"] == "z"]
+    assert len(skipped) == 1 and skipped.geometry.iloc[0] is None
+    assert pd.isna(plan.demand.loc[15, "site"])
+    assert np.isnan(plan.demand.loc[15, "distance_m"])
+
+
+def test_one_point_groups_are_answers_not_problems():
+    # A one-point group has a circle (radius 0) and a spanning tree without edges.
+    frame = gpd.GeoDataFrame({"g": [1, 1, 2]}, geometry=gpd.points_from_xy([0, 3, 7], [0, 4, 7]), crs="EPSG:32632",
+                             index=["p", "q", "r"])
+    circles = gis.enclosing_circle(frame, by="g")
+    assert circles["radius_m"].tolist() == pytest.approx([2.5, 0.0])  # closed form: half of the 3-4-5 side
+    net = gis.spanning_tree(frame, by="g")
+    assert net.edges[["g", "end_a", "end_b"]].values.tolist() == [[1, "p", "q"]]
+    assert net.summary["length_m"].tolist() == pytest.approx([5.0, 0.0])
+    assert net.summary["count"].tolist() == [2, 1]
 
 
 # ---------------------------------------------------------------- enclosing shapes
 
 
-@needs("enclosing_circle")
-def test_enclosing_circle_matches_shapely_and_covers_points():
+def test_enclosing_circle_matches_geos_and_covers_points():
     frame = lonlat_frame()
     out = gis.enclosing_circle(frame)
-    metric = frame.to_crs(frame.estimate_utm_crs())
-    # Outside check: shapely.minimum_bounding_radius (GEOS) in the metric CRS.
-    expected = shapely.minimum_bounding_radius(shapely.multipoints(shapely.get_coordinates(metric.geometry.values)))
-    assert out["radius"].iloc[0] == pytest.approx(expected, rel=1e-9)
-    polygon = out.to_crs(metric.crs).geometry.iloc[0]
-    assert bool(shapely.covers(polygon, metric.geometry.values).all())
+    xy = metric_xy(frame)
+    expected = shapely.minimum_bounding_radius(shapely.multipoints(xy))  # GEOS in pyproj's UTM
+    assert out["radius_m"].iloc[0] == pytest.approx(expected, rel=1e-9)
+    assert out["area_m2"].iloc[0] == pytest.approx(np.pi * expected**2, rel=1e-9)
+    polygon = out.to_crs(utm_of(frame)).geometry.iloc[0]
+    assert bool(shapely.covers(polygon.buffer(1e-6), shapely.points(xy)).all())
     assert out.crs == frame.crs
+    no_shadowing(out)
 
 
-@needs("enclosing_circle")
 def test_enclosing_circle_by_group():
     frame = lonlat_frame(n=200)
     out = gis.enclosing_circle(frame, by="zone")
-    metric = frame.to_crs(frame.estimate_utm_crs())
-    for zone, r in zip(out["zone"], out["radius"]):
-        pts = shapely.get_coordinates(metric[metric["zone"] == zone].geometry.values)
-        assert r == pytest.approx(shapely.minimum_bounding_radius(shapely.multipoints(pts)), rel=1e-9)  # GEOS
+    xy = metric_xy(frame)
+    for zone, r in zip(out["zone"], out["radius_m"]):
+        m = (frame["zone"] == zone).to_numpy()
+        assert r == pytest.approx(shapely.minimum_bounding_radius(shapely.multipoints(xy[m])), rel=1e-9)  # GEOS
 
 
-@needs("minimax_point")
-def test_minimax_point_unit_weights_is_the_circle_centre():
-    frame = lonlat_frame()
-    out = gis.minimax_point(frame)
-    metric = frame.to_crs(frame.estimate_utm_crs())
-    pts = shapely.multipoints(shapely.get_coordinates(metric.geometry.values))
-    # Outside check: GEOS minimum bounding radius equals the unweighted 1-center's radius.
-    assert out["radius"].iloc[0] == pytest.approx(shapely.minimum_bounding_radius(pts), rel=1e-9)
+def test_weighted_minimax_point_matches_scipy():
+    frame = lonlat_frame(n=30)
+    out = gis.minimax_point(frame, "people")
+    xy = metric_xy(frame)
+    # scipy.optimize SLSQP on min r s.t. w_i |p - x_i| <= r.
+    assert out["weighted_radius_m"].iloc[0] == pytest.approx(minimax_scipy(xy, frame["people"].to_numpy()), rel=1e-6)
+    no_shadowing(out)
 
 
-@needs("enclosing_ellipse")
 def test_enclosing_ellipse_of_a_rectangle():
-    # Closed form (issue 3): the minimum-area ellipse of an a x b rectangle has semi-axes a/sqrt2, b/sqrt2.
+    # Closed form: the minimum-area ellipse of an a x b rectangle has semi-axes a/sqrt2,
+    # b/sqrt2, area pi*a*b/2, major axis along x (angle 0 or 180 degrees).
     box = gpd.GeoSeries(gpd.points_from_xy([0, 6, 6, 0], [0, 0, 2, 2]), crs="EPSG:3857")
     out = gis.enclosing_ellipse(box, tol=1e-10)
-    assert out["semi_major"].iloc[0] == pytest.approx(6 / np.sqrt(2), rel=1e-6)
-    assert out["semi_minor"].iloc[0] == pytest.approx(2 / np.sqrt(2), rel=1e-6)
-    assert out["area"].iloc[0] == pytest.approx(np.pi * 6 * 2 / 2, rel=1e-6)
-    assert bool(shapely.covers(out.geometry.iloc[0], box.values).all())
+    assert out["semi_major_m"].iloc[0] == pytest.approx(6 / np.sqrt(2), rel=1e-6)
+    assert out["semi_minor_m"].iloc[0] == pytest.approx(2 / np.sqrt(2), rel=1e-6)
+    assert out["area_m2"].iloc[0] == pytest.approx(np.pi * 6 * 2 / 2, rel=1e-6)
+    assert min(abs(out["angle_deg"].iloc[0]) % 180, 180 - abs(out["angle_deg"].iloc[0]) % 180) < 1e-4
+    assert bool(shapely.covers(out.geometry.iloc[0].buffer(1e-9), box.values).all())  # GEOS
+    no_shadowing(out)
 
 
-# ---------------------------------------------------------------- service areas
+# ---------------------------------------------------------------- catchments
 
 
-@needs("voronoi_cells", "nearest_site")
-def test_voronoi_cells_clip_to_a_region_with_a_hole_and_carry_loads():
-    region = shapely.Polygon([(0, 0), (10_000, 0), (10_000, 6_000), (5_000, 3_000), (0, 6_000)],
-                             holes=[[(4_000, 1_000), (6_000, 1_000), (6_000, 2_000), (4_000, 2_000)]])
+def region_with_hole():
+    return shapely.Polygon([(0, 0), (10_000, 0), (10_000, 6_000), (5_000, 3_000), (0, 6_000)],
+                           holes=[[(4_000, 1_000), (6_000, 1_000), (6_000, 2_000), (4_000, 2_000)]])
+
+
+def test_voronoi_cells_tile_a_region_with_a_hole_and_carry_loads():
+    region = region_with_hole()
     sites = gpd.GeoDataFrame({"name": list("abcd")},
                              geometry=gpd.points_from_xy([1500, 8500, 3000, 7000], [1500, 1500, 4000, 4000]),
-                             crs="EPSG:32632")
+                             crs="EPSG:32632", index=["S1", "S2", "S3", "S4"])
     demand = gpd.GeoDataFrame({"w": RNG.uniform(1, 3, 500)},
                               geometry=gpd.points_from_xy(RNG.uniform(0, 10_000, 500), RNG.uniform(0, 3_000, 500)),
                               crs="EPSG:32632")
     cells = gis.voronoi_cells(sites, gpd.GeoSeries([region], crs="EPSG:32632"), demand=demand, weight="w")
-    assert cells["name"].tolist() == list("abcd")
-    # Outside checks: shapely areas; the union of the cells is the region; loads equal
-    # numpy.bincount over scipy cKDTree's nearest sites.
-    assert cells["area"].sum() == pytest.approx(region.area, rel=1e-9)
+    assert cells["name"].tolist() == list("abcd") and cells.index.tolist() == ["S1", "S2", "S3", "S4"]
+    no_shadowing(cells)
+    # shapely: the cells' areas sum to the region's, their union is the region, and each
+    # reported area is its polygon's.
+    assert cells["area_m2"].sum() == pytest.approx(region.area, rel=1e-9)
+    np.testing.assert_allclose(cells["area_m2"], shapely.area(cells.geometry.values), rtol=1e-9)
     assert shapely.union_all(cells.geometry.values).symmetric_difference(region).area < 1e-6 * region.area
+    # Loads: numpy.bincount over scipy cKDTree's nearest sites.
     nearest = cKDTree(shapely.get_coordinates(sites.geometry.values)).query(
         shapely.get_coordinates(demand.geometry.values))[1]
     np.testing.assert_allclose(cells["load"], np.bincount(nearest, weights=demand["w"], minlength=4), rtol=1e-12)
+    assert cells["count"].tolist() == np.bincount(nearest, minlength=4).tolist()
 
 
-@needs("voronoi_cells")
 def test_voronoi_region_in_another_crs_is_projected():
     sites = lonlat_frame(n=12)
     region = gpd.GeoSeries([sites.union_all().convex_hull.buffer(0.05)], crs="EPSG:4326").to_crs("EPSG:3035")
     cells = gis.voronoi_cells(sites, region)
     assert cells.crs == sites.crs
-    utm = sites.estimate_utm_crs()
-    assert cells["area"].sum() == pytest.approx(region.to_crs(utm).area.iloc[0], rel=1e-6)
+    assert cells["area_m2"].sum() == pytest.approx(region.to_crs(utm_of(sites)).area.iloc[0], rel=1e-6)  # pyproj
 
 
-@needs("nearest_site")
-def test_nearest_site_matches_ckdtree():
+def test_voronoi_cells_by_group_each_tile_the_region():
+    region = shapely.box(0, 0, 1000, 600)
+    rng = np.random.default_rng(8)
+    sites = gpd.GeoDataFrame({"firm": np.repeat(["blue", "red", "green"], 5)},
+                             geometry=gpd.points_from_xy(rng.uniform(0, 1000, 15), rng.uniform(0, 600, 15)),
+                             crs="EPSG:32632")
+    cells = gis.voronoi_cells(sites, region, by="firm")
+    assert cells["firm"].tolist() == sites["firm"].tolist()  # the sites' own rows and order
+    for firm in ("blue", "red", "green"):
+        mine = cells[cells["firm"] == firm]
+        assert mine["area_m2"].sum() == pytest.approx(region.area, rel=1e-9)  # shapely area
+        # Each cell holds its own site (GEOS covers).
+        assert bool(shapely.covers(mine.geometry.values, sites[sites["firm"] == firm].geometry.values).all())
+
+
+def test_nearest_site_matches_ckdtree_in_metres():
     demand = lonlat_frame(n=500)
     sites = lonlat_frame(n=7, seed=3).set_index(np.array(list("ABCDEFG")))
-    out = gis.nearest_site(demand, sites, "people")
-    utm = demand.estimate_utm_crs()
+    plan = gis.nearest_site(demand, sites, "people")
+    utm = utm_of(demand)
     d, i = cKDTree(shapely.get_coordinates(sites.to_crs(utm).geometry.values)).query(
-        shapely.get_coordinates(demand.to_crs(utm).geometry.values))  # scipy reference
-    assert out["site"].tolist() == [sites.index[k] for k in i]
-    np.testing.assert_allclose(out["distance"], d, rtol=1e-9)
-    assert out.attrs["cost"] == pytest.approx(float(demand["people"] @ d), rel=1e-9)
-    assert sum(out.attrs["load"].values()) == pytest.approx(demand["people"].sum())
+        shapely.get_coordinates(demand.to_crs(utm).geometry.values))  # scipy reference in pyproj's UTM
+    assert plan.demand["site"].tolist() == [sites.index[k] for k in i]
+    assert plan.demand.index.equals(demand.index)
+    np.testing.assert_allclose(plan.demand["distance_m"], d, rtol=1e-9)
+    assert plan.summary["cost_m"].iloc[0] == pytest.approx(float(demand["people"] @ d), rel=1e-9)
+    np.testing.assert_allclose(plan.sites["load"], np.bincount(i, weights=demand["people"], minlength=7), rtol=1e-12)
+    assert plan.sites.index.tolist() == list("ABCDEFG")
+    for table in plan:
+        no_shadowing(table)
+
+
+def test_nearest_site_by_group_serves_each_group_from_its_own_sites():
+    rng = np.random.default_rng(9)
+    demand = gpd.GeoDataFrame({"firm": rng.choice(["blue", "red"], 300), "w": rng.uniform(1, 3, 300)},
+                              geometry=gpd.points_from_xy(rng.uniform(0, 1e4, 300), rng.uniform(0, 1e4, 300)),
+                              crs="EPSG:32632")
+    sites = gpd.GeoDataFrame({"firm": ["blue", "blue", "red", "red", "red", "grey"]},
+                             geometry=gpd.points_from_xy(rng.uniform(0, 1e4, 6), rng.uniform(0, 1e4, 6)),
+                             crs="EPSG:32632", index=["b1", "b2", "r1", "r2", "r3", "g1"])
+    plan = gis.nearest_site(demand, sites, "w", by="firm")
+    assert plan.summary["firm"].tolist() == ["blue", "grey", "red"]
+    for firm in ("blue", "red"):
+        mine, own = demand[demand["firm"] == firm], sites[sites["firm"] == firm]
+        d, i = cKDTree(shapely.get_coordinates(own.geometry.values)).query(
+            shapely.get_coordinates(mine.geometry.values))  # scipy per group
+        assert plan.demand.loc[mine.index, "site"].tolist() == own.index[i].tolist()
+        np.testing.assert_allclose(plan.demand.loc[mine.index, "distance_m"], d, rtol=1e-12)
+        np.testing.assert_allclose(plan.sites.loc[own.index, "load"],
+                                   np.bincount(i, weights=mine["w"], minlength=len(own)), rtol=1e-12)
+        row = plan.summary[plan.summary["firm"] == firm].iloc[0]
+        assert row["cost_m"] == pytest.approx(float(mine["w"] @ d), rel=1e-12)
+    # A site whose group has no demand keeps its row and serves nobody.
+    assert plan.sites.index.tolist() == sites.index.tolist()
+    assert plan.sites.loc["g1", "load"] == 0 and plan.sites.loc["g1", "count"] == 0
+
+
+def test_nearest_site_demand_group_without_sites_is_a_problem_in_user_terms():
+    demand = gpd.GeoDataFrame({"firm": ["blue", "pink"]}, geometry=gpd.points_from_xy([0, 5], [0, 5]),
+                              crs="EPSG:32632")
+    sites = gpd.GeoDataFrame({"firm": ["blue"]}, geometry=gpd.points_from_xy([1], [0]), crs="EPSG:32632")
+    with pytest.raises(pw.InputError) as info:
+        gis.nearest_site(demand, sites, by="firm")
+    assert info.value.group == "pink" and str(info.value).startswith("group 'pink': ")
+    plan = gis.nearest_site(demand, sites, by="firm", errors="skip")
+    assert plan.summary["problem"].notna().tolist() == [False, True]
+    assert plan.demand["site"].iloc[0] == sites.index[0] and pd.isna(plan.demand["site"].iloc[1])
 
 
 # ---------------------------------------------------------------- networks
 
 
-@needs("spanning_tree")
-def test_spanning_tree_edges_and_total():
-    from scipy.sparse.csgraph import minimum_spanning_tree
-    from scipy.spatial.distance import cdist
-
+def test_spanning_tree_edges_name_rows_and_total_matches_csgraph():
     frame = lonlat_frame(n=60)
-    out = gis.spanning_tree(frame)
-    xy = shapely.get_coordinates(frame.to_crs(frame.estimate_utm_crs()).geometry.values)
-    expected = minimum_spanning_tree(cdist(xy, xy)).sum()  # scipy reference
-    assert out.attrs["length"] == pytest.approx(expected, rel=1e-9)
-    assert out["length"].sum() == pytest.approx(expected, rel=1e-9)
-    assert len(out) == len(frame) - 1
-    assert set(out["from_node"]) | set(out["to_node"]) == set(frame.index)
+    net = gis.spanning_tree(frame)
+    xy = metric_xy(frame)
+    expected = mst_length_scipy(xy)  # scipy csgraph
+    assert net.summary["length_m"].iloc[0] == pytest.approx(expected, rel=1e-9)
+    assert net.edges["length_m"].sum() == pytest.approx(expected, rel=1e-9)
+    assert len(net.edges) == len(frame) - 1
+    assert set(net.edges["end_a"]) | set(net.edges["end_b"]) == set(frame.index)
+    # Each edge's length is the distance between the rows it names (numpy on pyproj's points).
+    at = {label: k for k, label in enumerate(frame.index)}
+    a = xy[[at[v] for v in net.edges["end_a"]]]
+    b = xy[[at[v] for v in net.edges["end_b"]]]
+    np.testing.assert_allclose(net.edges["length_m"], np.hypot(*(a - b).T), rtol=1e-9)
+    assert "from_node" not in net.edges.columns and "to_node" not in net.edges.columns
+    no_shadowing(net.edges)
+    no_shadowing(net.summary)
 
 
-@needs("steiner_tree")
 def test_steiner_tree_of_the_unit_square():
     # Closed form: the Steiner tree of a unit square is 1 + sqrt(3) long with two junctions.
-    sq = gpd.GeoSeries(gpd.points_from_xy([0, 1, 1, 0], [0, 0, 1, 1]))
-    out = gis.steiner_tree(sq, planar=True)
-    assert out.attrs["length"] == pytest.approx(1 + np.sqrt(3), rel=1e-9)
-    assert out.attrs["mst_length"] == pytest.approx(3.0, rel=1e-12)
-    assert out.attrs["saving"] == pytest.approx(1 - (1 + np.sqrt(3)) / 3, rel=1e-9)
-    assert out.attrs["junctions"] == 2
-    assert out["length"].sum() == pytest.approx(1 + np.sqrt(3), rel=1e-9)
-    assert out["junction"].sum() == 5  # every edge of the full Steiner topology touches a junction
+    sq = gpd.GeoSeries(gpd.points_from_xy([0, 1, 1, 0], [0, 0, 1, 1]), index=["sw", "se", "ne", "nw"])
+    net = gis.steiner_tree(sq, planar=True)
+    s = net.summary.iloc[0]
+    assert s["length_u"] == pytest.approx(1 + np.sqrt(3), rel=1e-9)
+    assert s["mst_length_u"] == pytest.approx(3.0, rel=1e-12)
+    assert s["saving"] == pytest.approx(1 - (1 + np.sqrt(3)) / 3, rel=1e-9)
+    assert s["junctions"] == 2 and bool(s["optimal"])
+    assert net.edges["length_u"].sum() == pytest.approx(1 + np.sqrt(3), rel=1e-9)
+    # Every terminal is an end of exactly one edge; the junction-junction edge names none.
+    ends = [e for e in [*net.edges["end_a"], *net.edges["end_b"]] if e is not None and not pd.isna(e)]
+    assert sorted(ends) == sorted(sq.index)
 
 
-@needs("steiner_tree", "spanning_tree")
-def test_networks_by_group():
+def test_networks_by_group_match_csgraph():
     frame = lonlat_frame(n=45)
     st = gis.steiner_tree(frame, by="zone", exact=False)
     mst = gis.spanning_tree(frame, by="zone")
-    assert set(st["zone"]) == set(frame["zone"])
-    assert st.attrs["length"] <= st.attrs["mst_length"] * (1 + 1e-12)
-    assert st.attrs["mst_length"] == pytest.approx(mst.attrs["length"], rel=1e-9)
+    xy = metric_xy(frame)
+    for zone in ("east", "north", "south"):
+        m = (frame["zone"] == zone).to_numpy()
+        ref = mst_length_scipy(xy[m])  # scipy csgraph per group
+        assert mst.summary.set_index("zone").loc[zone, "length_m"] == pytest.approx(ref, rel=1e-9)
+        row = st.summary.set_index("zone").loc[zone]
+        assert row["mst_length_m"] == pytest.approx(ref, rel=1e-9)
+        assert row["length_m"] <= ref * (1 + 1e-12)
+        assert st.edges[st.edges["zone"] == zone]["length_m"].sum() == pytest.approx(row["length_m"], rel=1e-9)
 
 
-# ---------------------------------------------------------------- many sites
+def test_grouped_tree_ends_are_the_frames_labels_on_its_points():
+    frame = three_hundred_groups(per_group=10)
+    net = gis.spanning_tree(frame, by="g", planar=True)
+    assert len(net.edges) == len(frame) - 300
+    xy = shapely.get_coordinates(frame.geometry.values)
+    for g in (0, 151, 299):
+        part = frame[frame["g"] == g]
+        mine = net.edges[net.edges["g"] == g]
+        assert set(mine["end_a"]) | set(mine["end_b"]) == set(part.index)
+        assert mine["length_u"].sum() == pytest.approx(mst_length_scipy(xy[(frame["g"] == g).to_numpy()]), rel=1e-12)
+        starts = shapely.get_coordinates(mine.geometry.values).reshape(-1, 2, 2)[:, 0]
+        np.testing.assert_allclose(starts, shapely.get_coordinates(part.geometry.loc[mine["end_a"]].values))
 
 
-@needs("p_median")
-def test_p_median_one_site_is_the_weber_point():
+def test_network_files_keep_totals_and_units(tmp_path):
+    frame = lonlat_frame(n=40)
+    net = gis.steiner_tree(frame, by="zone", exact=False)
+    net.edges.to_file(tmp_path / "edges.geojson", driver="GeoJSON")
+    net.summary.to_csv(tmp_path / "summary.csv", index=False)
+    edges = gpd.read_file(tmp_path / "edges.geojson")
+    summary = pd.read_csv(tmp_path / "summary.csv")
+    assert {"length_m", "end_a", "end_b"} <= set(edges.columns)
+    assert {"zone", "length_m", "mst_length_m", "saving", "junctions"} <= set(summary.columns)
+    xy = metric_xy(frame)
+    for zone, row in summary.set_index("zone").iterrows():
+        m = (frame["zone"] == zone).to_numpy()
+        assert row["mst_length_m"] == pytest.approx(mst_length_scipy(xy[m]), rel=1e-9)  # scipy csgraph
+        assert edges[edges["zone"] == zone]["length_m"].sum() == pytest.approx(row["length_m"], rel=1e-9)
+        assert row["saving"] == pytest.approx(1 - row["length_m"] / row["mst_length_m"], rel=1e-9, abs=1e-12)
+
+
+# ---------------------------------------------------------------- plans
+
+
+def test_p_median_one_site_is_the_fermat_weber_point():
     frame = lonlat_frame()
     plan = gis.p_median(frame, 1, "people")
-    assert plan.sites.attrs["cost"] == pytest.approx(gis.weber_point(frame, "people")["cost"].iloc[0], rel=1e-6)
+    ref = weber_cost_scipy(metric_xy(frame), frame["people"].to_numpy())  # scipy.optimize
+    assert plan.summary["cost_m"].iloc[0] == pytest.approx(ref, rel=1e-6)
 
 
-@needs("p_median")
-def test_p_median_assignment_is_nearest_site():
+def test_p_median_serves_each_row_from_its_nearest_site():
     frame = lonlat_frame(n=500)
     plan = gis.p_median(frame, 4, "people")
     assert plan.sites.crs == frame.crs and plan.demand.crs == frame.crs
-    utm = frame.estimate_utm_crs()
+    utm = utm_of(frame)
     sites = shapely.get_coordinates(plan.sites.to_crs(utm).geometry.values)
-    d, i = cKDTree(sites).query(shapely.get_coordinates(frame.to_crs(utm).geometry.values))  # scipy reference
-    np.testing.assert_array_equal(plan.demand["site"].to_numpy(), plan.sites["site"].to_numpy()[i])
-    np.testing.assert_allclose(plan.demand["distance"], d, rtol=1e-6, atol=1e-6)
-    assert plan.sites["load"].sum() == pytest.approx(frame["people"].sum())
-    assert plan.sites.attrs["cost"] == pytest.approx(float(frame["people"] @ d), rel=1e-6)
+    d, i = cKDTree(sites).query(metric_xy(frame))  # scipy reference
+    np.testing.assert_array_equal(plan.demand["site"].to_numpy(), plan.sites.index.to_numpy()[i])
+    np.testing.assert_allclose(plan.demand["distance_m"], d, rtol=1e-6, atol=1e-3)
+    np.testing.assert_allclose(plan.sites["load"], np.bincount(i, weights=frame["people"], minlength=4), rtol=1e-12)
+    assert plan.summary["cost_m"].iloc[0] == pytest.approx(float(frame["people"] @ d), rel=1e-6)
+    assert plan.summary["load"].iloc[0] == pytest.approx(frame["people"].sum())
+    for table in plan:
+        no_shadowing(table)
 
 
-@needs("p_median")
 def test_p_median_by_group_and_group_errors():
     frame = lonlat_frame(n=300)
     plan = gis.p_median(frame, 2, "people", by="zone")
-    assert len(plan.sites) == 6
     assert plan.sites.groupby("zone").size().tolist() == [2, 2, 2]
+    assert plan.summary["zone"].tolist() == ["east", "north", "south"]
+    # Each row's site is one of its own group's sites (by the sites table's labels).
+    site_zone = plan.sites["zone"]
+    assert (site_zone.loc[plan.demand["site"]].to_numpy() == frame["zone"].to_numpy()).all()
     tiny = frame.iloc[:3].copy()
     tiny["zone"] = ["a", "b", "b"]
-    with pytest.raises(pw.InputError, match="group 'a'"):
+    with pytest.raises(pw.InputError, match="^group 'a': ") as info:
         gis.p_median(tiny, 2, by="zone")
+    assert info.value.group == "a"
 
 
-@needs("p_center")
 def test_p_center_one_site_is_the_enclosing_circle():
     frame = lonlat_frame()
     plan = gis.p_center(frame, 1)
-    metric = frame.to_crs(frame.estimate_utm_crs())
-    pts = shapely.multipoints(shapely.get_coordinates(metric.geometry.values))
-    assert plan.sites.attrs["radius"] == pytest.approx(shapely.minimum_bounding_radius(pts), rel=1e-7)  # GEOS
-    assert plan.demand["distance"].max() == pytest.approx(plan.sites.attrs["radius"], rel=1e-7)
+    r = shapely.minimum_bounding_radius(shapely.multipoints(metric_xy(frame)))  # GEOS
+    assert plan.summary["weighted_radius_m"].iloc[0] == pytest.approx(r, rel=1e-7)
+    assert plan.demand["distance_m"].max() == pytest.approx(r, rel=1e-7)
 
 
-@needs("p_median")
 def test_p_median_with_fixed_sites():
     homes = gpd.GeoSeries(gpd.points_from_xy([0, 1, 10, 11, 20, 21], [0, 0, 0, 0, 0, 0]))
     existing = gpd.GeoSeries(gpd.points_from_xy([20.5], [0]))
     plan = gis.p_median(homes, 2, fixed=existing, planar=True)
-    assert len(plan.sites) == 3
     assert plan.sites["fixed"].tolist() == [False, False, True]
     assert plan.sites.geometry.iloc[2].equals(existing.iloc[0])
-    # Closed form on a line: the best new sites lie within the two left pairs, each pair costs 1;
-    # the fixed site at 20.5 serves the right pair at cost 1.
-    assert plan.sites.attrs["cost"] == pytest.approx(3.0, rel=1e-9)
-    assert plan.demand["site"].tolist()[-2:] == [2, 2]
+    # Closed form on a line: one new site within each left pair (cost 1 each); the fixed
+    # site at 20.5 serves the right pair at cost 1.
+    assert plan.summary["cost_u"].iloc[0] == pytest.approx(3.0, rel=1e-9)
+    assert plan.demand["site"].tolist()[-2:] == [plan.sites.index[2]] * 2
 
 
-@needs("steiner_tree", "spanning_tree")
-def test_grouped_networks_equal_one_network_per_group():
-    # 300 groups of about 100 points: several chunks of the grouped kernel call.
-    n = 30_000
-    xy = RNG.random((n, 2)) * 1000
-    frame = gpd.GeoDataFrame({"g": RNG.integers(0, 300, n)}, geometry=gpd.points_from_xy(*xy.T))
-    frame.index = frame.index + 1000  # row labels are not positions
-    mst = gis.spanning_tree(frame, by="g", planar=True)
-    st = gis.steiner_tree(frame, by="g", planar=True, exact=False)
-    for g in (0, 151, 299):
-        part = frame[frame["g"] == g]
-        alone = gis.spanning_tree(part, planar=True)
-        mine = mst[mst["g"] == g]
-        assert mine["length"].sum() == pytest.approx(alone.attrs["length"], rel=1e-12)
-        assert set(mine["from_node"]) | set(mine["to_node"]) == set(part.index)
-        s_alone = gis.steiner_tree(part, planar=True, exact=False)
-        s_mine = st[st["g"] == g]
-        assert s_mine["length"].sum() == pytest.approx(s_alone.attrs["length"], rel=1e-9)
-        # Terminal ends carry the caller's labels and lie on the caller's points.
-        ends = s_mine[~s_mine["from_node"].isna()]
-        pts = part.geometry.loc[ends["from_node"].to_list()].values
-        starts = shapely.points(shapely.get_coordinates(ends.geometry.values).reshape(-1, 2, 2)[:, 0])
-        assert float(shapely.distance(pts, starts).max()) < 1e-9
-    assert len(mst) == n - 300
-    assert st.attrs["length"] <= st.attrs["mst_length"]
-    assert st.attrs["mst_length"] == pytest.approx(mst.attrs["length"], rel=1e-9)
+def test_plan_files_keep_totals_and_units(tmp_path):
+    frame = lonlat_frame(n=200)
+    plan = gis.p_median(frame, 3, "people", by="zone")
+    plan.sites.to_parquet(tmp_path / "sites.parquet")
+    plan.demand.to_file(tmp_path / "demand.geojson", driver="GeoJSON")
+    plan.summary.to_csv(tmp_path / "summary.csv", index=False)
+    sites = gpd.read_parquet(tmp_path / "sites.parquet")
+    demand = gpd.read_file(tmp_path / "demand.geojson")
+    summary = pd.read_csv(tmp_path / "summary.csv")
+    assert sites.crs == frame.crs and demand.crs == frame.crs
+    assert {"cost_m", "load", "count", "sites"} <= set(summary.columns)
+    xy = metric_xy(frame)
+    site_xy = shapely.get_coordinates(sites.to_crs(utm_of(frame)).geometry.values)
+    for zone, row in summary.set_index("zone").iterrows():
+        m = (frame["zone"] == zone).to_numpy()
+        own = (sites["zone"] == zone).to_numpy()
+        d = cKDTree(site_xy[own]).query(xy[m])[0]  # scipy on the file's own sites
+        assert row["cost_m"] == pytest.approx(float(frame["people"].to_numpy()[m] @ d), rel=1e-6)
+        assert row["load"] == pytest.approx(sites.loc[own, "load"].sum())
+        assert demand.loc[m, "distance_m"].to_numpy() == pytest.approx(d, rel=1e-6, abs=1e-3)

@@ -199,9 +199,15 @@ def test_grouped_spanning_trees_equal_separate_calls() -> None:
         assert tree.length == pytest.approx(single.length, rel=1e-14)
         # Reference: scipy csgraph on the group's complete graph.
         assert tree.length == pytest.approx(scipy_mst_length(pts[rows]), rel=1e-12)
-        assert set(zip(tree.end_a.tolist(), tree.end_b.tolist())) == {
-            (rows[a], rows[b]) for a, b in zip(single.end_a, single.end_b)}
+        # A group's own tree counts its rows from 0, as the separate call does ...
+        assert set(zip(tree.end_a.tolist(), tree.end_b.tolist())) == set(zip(single.end_a.tolist(),
+                                                                              single.end_b.tolist()))
         np.testing.assert_array_equal(g[label].end_a, tree.end_a)
+        np.testing.assert_array_equal(tree.points, pts[rows])
+        # ... while the grouped arrays name rows of the whole input.
+        at = slice(g.edge_offsets[g.position(label)], g.edge_offsets[g.position(label) + 1])
+        assert set(zip(g.end_a[at].tolist(), g.end_b[at].tolist())) == {
+            (int(rows[a]), int(rows[b])) for a, b in zip(single.end_a, single.end_b)}
 
 
 # --- Steiner tree: closed forms -------------------------------------------------------------
@@ -384,7 +390,7 @@ def test_same_seed_same_tree_and_grouped_equals_separate() -> None:
         rows = np.flatnonzero(groups == label)
         single = pw.steiner_tree(pts[rows])
         tree = g[label]
-        check_steiner_invariants(tree, pts, rows)  # ends are rows of the whole input
+        check_steiner_invariants(tree, pts[rows])  # a group's own tree counts its rows from 0
         assert tree.length == single.length and tree.optimal == single.optimal
         np.testing.assert_array_equal(tree.junctions, single.junctions)
     with pytest.raises(KeyError):
@@ -420,7 +426,11 @@ def test_two_point_and_one_point_groups_give_lists_of_input_rows(solve) -> None:
     assert summary.loc[3, "edges"] == 1 and summary.loc[8, "edges"] == 0
     assert summary.loc[8, "length_u"] == 0.0
     assert trees[8].length == 0.0 and len(trees[8].end_a) == 0
-    assert trees[3].end_a.tolist() == [5] and trees[3].end_b.tolist() == [9]
+    # The group's own tree counts its rows from 0 (as a separate call would) ...
+    assert trees[3].end_a.tolist() == [0] and trees[3].end_b.tolist() == [1]
+    # ... and the grouped arrays and frames name rows of the whole input.
+    at = slice(trees.edge_offsets[trees.position(3)], trees.edge_offsets[trees.position(3) + 1])
+    assert trees.end_a[at].tolist() == [5] and trees.end_b[at].tolist() == [9]
 
 
 @pytest.mark.parametrize("solve", [pw.spanning_tree, pw.steiner_tree], ids=["spanning", "steiner"])
@@ -468,7 +478,7 @@ def test_grouped_junction_ends_are_numbered_within_their_group() -> None:
         for (_, edge), line in zip(part.iterrows(), part.geometry):
             if edge["junction_b"] >= 0:
                 np.testing.assert_allclose(np.asarray(line.coords)[1], tree.junctions[edge["junction_b"]])
-        check_steiner_invariants(tree, pts, np.arange(4) + (4 if label == 6 else 0))
+        check_steiner_invariants(tree, pts[np.arange(4) + (4 if label == 6 else 0)])
     np.testing.assert_allclose(shapely.length(frame.geometry.values), frame["length_u"], rtol=1e-14)
 
 

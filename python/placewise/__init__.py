@@ -1,7 +1,7 @@
 """placewise: geometric optimisation of where things go.
 
 Choose sites for weighted demand (Fermat–Weber point, p-median), see worst-case coverage
-(enclosing circle and ellipse, minimax point, p-center), split a region into service areas
+(enclosing circle and ellipse, minimax point, p-center), split a region into catchments
 (Delaunay, clipped Voronoi cells, nearest-site allocation) and design the shortest network
 linking sites (minimum spanning tree, Steiner tree).
 
@@ -30,7 +30,17 @@ from .enclose import (
 from .median import WeberPoint, WeberPoints, weber_point
 from .multi import CenterPlan, CenterPlans, MedianPlan, MedianPlans, p_center, p_median
 from .network import SpanningTree, SpanningTrees, SteinerTree, SteinerTrees, spanning_tree, steiner_tree
-from .partition import Allocation, Triangulation, VoronoiCells, delaunay, nearest_site, voronoi_cells
+from .partition import (
+    Allocation,
+    Allocations,
+    DelaunayMesh,
+    DelaunayMeshes,
+    VoronoiCells,
+    VoronoiCellSets,
+    delaunay,
+    nearest_site,
+    voronoi_cells,
+)
 from .runtime import set_threads, thread_count
 
 __version__: str = _core.__version__
@@ -55,11 +65,14 @@ def __dir__() -> list[str]:
 
 __all__ = [
     "Allocation",
+    "Allocations",
     "CenterPlan",
     "CenterPlans",
     "Circle",
     "Circles",
     "DegenerateInputError",
+    "DelaunayMesh",
+    "DelaunayMeshes",
     "Ellipse",
     "Ellipses",
     "InputError",
@@ -71,7 +84,7 @@ __all__ = [
     "SpanningTrees",
     "SteinerTree",
     "SteinerTrees",
-    "Triangulation",
+    "VoronoiCellSets",
     "VoronoiCells",
     "WeberPoint",
     "WeberPoints",

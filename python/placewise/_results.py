@@ -198,6 +198,22 @@ class Grouped(Result):
             raise KeyError(label)
         return position
 
+    def _within(self, rows: np.ndarray, row_group: np.ndarray, position: int) -> np.ndarray:
+        """Input rows of the group at ``position`` as positions within its own points (what a
+        separate call on that group's rows would report); -1 stays -1.
+
+        ``row_group`` is the group position of every input row; a group's points keep their
+        input order, so its ``k``-th point is its ``k``-th member row."""
+        members = np.flatnonzero(np.asarray(row_group) == position)
+        rows = np.asarray(rows)
+        return np.where(rows >= 0, np.searchsorted(members, rows), -1).astype(np.int64)
+
+    @staticmethod
+    def _row_groups_of(labels: np.ndarray, groups: Any) -> np.ndarray:
+        """The group position of every input row, from the sorted labels and the ``groups=``
+        argument the kernel accepted."""
+        return np.searchsorted(labels, np.asarray(groups).astype(np.int64).ravel())
+
     @property
     def skipped(self) -> np.ndarray:
         """Boolean mask of the groups skipped with ``errors="skip"``."""

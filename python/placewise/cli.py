@@ -21,8 +21,9 @@ from __future__ import annotations
 import argparse
 import functools
 import sys
+from collections.abc import Callable, Sequence
 from pathlib import Path
-from typing import Any, Callable, NoReturn, Sequence
+from typing import Any, NoReturn
 
 __all__ = ["main"]
 
@@ -54,6 +55,8 @@ def _read_csv_points(path: Path, args: argparse.Namespace) -> Any:
     import numpy as np
     import pandas as pd
 
+    from ._errors import plain
+
     try:
         table = pd.read_csv(path)
     except pd.errors.EmptyDataError:
@@ -71,7 +74,8 @@ def _read_csv_points(path: Path, args: argparse.Namespace) -> Any:
         bad = ~np.isfinite(values)
         if bad.any():
             row = int(np.argmax(bad))
-            raise UserError(f"{path}: column {column!r} has a missing or non-numeric value {table[column].iloc[row]!r} on line {row + 2}")
+            raise UserError(f"{path}: column {column!r} has a missing or non-numeric value "
+                            f"{plain(table[column].iloc[row])!r} on line {row + 2}")
         coords.append(values)
     if args.crs is None and not args.planar:
         raise UserError(f"{path}: CSV coordinates need --crs (for example --crs EPSG:4326) or --planar")
@@ -113,7 +117,16 @@ def read_points(path_text: str, args: argparse.Namespace, what: str = "input",
 
 
 def write_frame(frame: Any, out: str | None, args: argparse.Namespace) -> None:
-    """Write a frame to CSV / GeoJSON / GeoParquet by extension, or CSV on stdout."""
+    """Write a table to CSV / GeoJSON / GeoParquet by extension, or CSV on stdout.
+
+    Layers (GeoDataFrames) keep their geometry; a totals table (a plain DataFrame) is
+    written as it is, and to GeoJSON as features without geometry. An index that names
+    rows (a plan's ``site`` labels, which the demand's ``site`` column refers to) is
+    written as a column.
+    """
+    import geopandas as gpd
+
+    frame = _named_index(frame)
     if out is None:
         _as_table(frame, args).to_csv(sys.stdout, index=False)
         return
@@ -127,21 +140,46 @@ def write_frame(frame: Any, out: str | None, args: argparse.Namespace) -> None:
         elif kind == "geojson":
             if path.exists():
                 path.unlink()
-            frame.to_file(path, driver="GeoJSON")
+            if isinstance(frame, gpd.GeoDataFrame):
+                frame.to_file(path, driver="GeoJSON")
+            else:
+                import warnings
+
+                layer = gpd.GeoDataFrame(frame, geometry=gpd.GeoSeries([None] * len(frame), index=frame.index))
+                with warnings.catch_warnings():  # features without geometry need no CRS
+                    warnings.simplefilter("ignore", UserWarning)
+                    layer.to_file(path, driver="GeoJSON")
         else:
-            frame.to_parquet(path)
+            frame.to_parquet(path, index=False)
     except OSError as exc:
         raise UserError(f"{path}: cannot write ({exc.strerror or exc})") from None
 
 
+def _named_index(frame: Any) -> Any:
+    """The index as a column when it names the rows (named, or not just 0..n-1)."""
+    import pandas as pd
+
+    index = frame.index
+    default = index.name is None and isinstance(index, pd.RangeIndex) and index.start == 0 and index.step == 1
+    return frame if default else frame.rename_axis(index.name or "row").reset_index()
+
+
 def _as_table(frame: Any, args: argparse.Namespace) -> Any:
-    """A plain table: x/y columns for points, well-known text for other geometries."""
+    """A plain table: x/y columns for points, well-known text for other geometries.
+
+    Missing geometries (the rows of groups skipped with ``--errors skip``) stay empty.
+    """
+    import geopandas as gpd
     import pandas as pd
     import shapely
 
+    if not isinstance(frame, gpd.GeoDataFrame):
+        return frame
     geoms = frame.geometry.values
     table = pd.DataFrame(frame.drop(columns=frame.geometry.name))
-    if len(frame) and bool((shapely.get_type_id(geoms) == shapely.GeometryType.POINT).all()):
+    kinds = shapely.get_type_id(geoms)
+    present = kinds >= 0
+    if bool((kinds[present] == shapely.GeometryType.POINT).all()):
         table[args.x] = shapely.get_x(geoms)
         table[args.y] = shapely.get_y(geoms)
     else:
@@ -194,6 +232,11 @@ def _skipped(args: argparse.Namespace, frame: Any) -> str:
     return f"; {count} group(s) skipped (see the problem column)" if count else ""
 
 
+def _solved(frame: Any) -> int:
+    """Rows of solved groups (a group skipped with ``--errors skip`` keeps a row of its own)."""
+    return len(frame) if "problem" not in frame.columns else int(frame["problem"].isna().sum())
+
+
 def _write_summary(summary: Any, args: argparse.Namespace) -> None:
     if getattr(args, "summary", None) is not None:
         write_frame(summary, args.summary, args)
@@ -206,7 +249,7 @@ def _cmd_weber_point(args: argparse.Namespace) -> None:
     out = gis.weber_point(frame, args.weight, metric=args.metric, **_by(args), **_common(args))
     write_frame(out, args.output, args)
     cost, unit = _measure(out, "cost")
-    _note(args, f"{len(out)} site(s); total weighted distance {out[cost].sum():.6g} "
+    _note(args, f"{_solved(out)} site(s); total weighted distance {out[cost].sum():.6g} "
                 f"(weight x {_unit_text(unit)}){_skipped(args, out)}")
 
 
@@ -216,7 +259,7 @@ def _cmd_minimax_point(args: argparse.Namespace) -> None:
     out = gis.minimax_point(read_points(args.input, args), args.weight, **_by(args), **_common(args))
     write_frame(out, args.output, args)
     radius, unit = _measure(out, "weighted_radius")
-    _note(args, f"{len(out)} site(s); largest weighted distance {out[radius].max():.6g} "
+    _note(args, f"{_solved(out)} site(s); largest weighted distance {out[radius].max():.6g} "
                 f"(weight x {_unit_text(unit)}){_skipped(args, out)}")
 
 
@@ -226,7 +269,7 @@ def _cmd_enclosing_circle(args: argparse.Namespace) -> None:
     out = gis.enclosing_circle(read_points(args.input, args), **_by(args), **_common(args))
     write_frame(out, args.output, args)
     radius, unit = _measure(out, "radius")
-    _note(args, f"{len(out)} circle(s); largest radius {out[radius].max():.6g} {_unit_text(unit)}{_skipped(args, out)}")
+    _note(args, f"{_solved(out)} circle(s); largest radius {out[radius].max():.6g} {_unit_text(unit)}{_skipped(args, out)}")
 
 
 def _cmd_enclosing_ellipse(args: argparse.Namespace) -> None:
@@ -235,7 +278,7 @@ def _cmd_enclosing_ellipse(args: argparse.Namespace) -> None:
     out = gis.enclosing_ellipse(read_points(args.input, args), tol=args.tol, **_by(args), **_common(args))
     write_frame(out, args.output, args)
     area, unit = _measure(out, "area")
-    _note(args, f"{len(out)} ellipse(s); total area {out[area].sum():.6g} {_unit_text(unit[:-1])} squared"
+    _note(args, f"{_solved(out)} ellipse(s); total area {out[area].sum():.6g} {_unit_text(unit[:-1])} squared"
                 f"{_skipped(args, out)}")
 
 
@@ -269,12 +312,12 @@ def _cmd_nearest_site(args: argparse.Namespace) -> None:
 def _network_note(args: argparse.Namespace, net: Any) -> None:
     s = net.summary
     length, unit = _measure(s, "length")
-    text = f"{len(net.edges)} edge(s); length {s[length].sum():.6g} {_unit_text(unit)}"
-    if "junctions" in s.columns:
+    text = f"{_solved(net.edges)} edge(s); length {s[length].sum():.6g} {_unit_text(unit)}"
+    if "optimal" in s.columns:  # a Steiner tree (a spanning tree's summary has no proof column)
         mst, _ = _measure(s, "mst_length")
         total, reference = float(s[length].sum()), float(s[mst].sum())
         saving = 1.0 - total / reference if reference > 0 else 0.0
-        text = (f"{len(net.edges)} edge(s), {int(s['junctions'].sum())} junction(s); length {total:.6g} "
+        text = (f"{_solved(net.edges)} edge(s), {int(s['junctions'].sum())} junction(s); length {total:.6g} "
                 f"{_unit_text(unit)} against minimum spanning tree {reference:.6g}: saving {100 * saving:.2f} %"
                 + ("" if bool(s["optimal"].fillna(False).all()) else " (not proven optimal)"))
     _note(args, text + _skipped(args, s))
@@ -319,11 +362,11 @@ def _plan_command(kind: str, args: argparse.Namespace) -> None:
     _write_summary(plan.summary, args)
     if kind == "median":
         cost, unit = _measure(plan.summary, "cost")
-        _note(args, f"{len(plan.sites)} site(s); total weighted distance {plan.summary[cost].sum():.6g} "
+        _note(args, f"{_solved(plan.sites)} site(s); total weighted distance {plan.summary[cost].sum():.6g} "
                     f"(weight x {_unit_text(unit)}){_skipped(args, plan.summary)}")
     else:
         radius, unit = _measure(plan.summary, "weighted_radius")
-        _note(args, f"{len(plan.sites)} site(s); largest weighted distance {plan.summary[radius].max():.6g} "
+        _note(args, f"{_solved(plan.sites)} site(s); largest weighted distance {plan.summary[radius].max():.6g} "
                     f"(weight x {_unit_text(unit)}){_skipped(args, plan.summary)}")
 
 

@@ -13,7 +13,8 @@ from __future__ import annotations
 
 import dataclasses
 import functools
-from typing import Any, Callable, Literal
+from collections.abc import Callable
+from typing import Any, Literal
 
 import numpy as np
 

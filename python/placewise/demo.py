@@ -6,10 +6,15 @@ a district with a ragged coast and a lake.
 
 1. Depot plans: one central depot (Fermat–Weber point), five depots minimising total
    travel (p-median) and five depots minimising the worst trip (p-center), compared.
-2. Service areas of the p-median depots: Voronoi cells clipped to the land (coast and lake
+2. Catchments of the p-median depots: Voronoi cells clipped to the land (coast and lake
    cut them), with the people each serves, and the ellipse covering all demand.
 3. A link network joining the depots and the towns: the Steiner tree against the minimum
    spanning tree, with the saving.
+
+Every figure is read from the results' own tables (``to_frame``, ``sites_frame``,
+``summary``, ``to_geodataframe``): trips to the assigned depot, loads, costs, areas and
+lengths are the kernels'. The demo only condenses the per-household trips into measures no
+kernel states (mean and worst trip, the share of people within 10 km).
 
 It writes map PNGs, GeoJSON layers and a summary table (Markdown and CSV) to ``DIR`` and
 prints the table. Everything is invented; results are planning aids under the model
@@ -26,6 +31,7 @@ Examples
 from __future__ import annotations
 
 import csv
+import dataclasses
 import json
 import time
 from pathlib import Path
@@ -57,18 +63,32 @@ DEPOTS = 5
 def scenario(seed: int = 7, households: int = 12_000) -> Scenario:
     """The demo's invented district of Orsavel (see :class:`Scenario`), for notebooks and examples.
 
+    Parameters
+    ----------
+    seed : int
+        Seed of the invented households.
+    households : int
+        Number of households to place.
+
+    Returns
+    -------
+    Scenario
+
     Examples
     --------
     >>> from placewise.demo import scenario
     >>> s = scenario(households=500)
     >>> s.name, s.households.shape, len(s.region.interiors)    # one lake
     ('Orsavel', (500, 2), 1)
+    >>> scenario(households=0).households.shape                # no demand at all
+    (0, 2)
     """
     return orsavel(seed, households)
 
 
-def _have(*names: str) -> bool:
-    return all(hasattr(pw, n) for n in names)
+def _in_metres(result: Any) -> Any:
+    """``result`` with its lengths named in the grid's unit, metres (``distance_m``, ``area_m2``)."""
+    return dataclasses.replace(result, unit="m")
 
 
 # --------------------------------------------------------------------------- output helpers
@@ -79,22 +99,15 @@ class _Writer:
         self.out = out
         self.quiet = quiet
         self.files: list[str] = []
-        self.skipped: list[str] = []
         self.started = time.perf_counter()
 
     def say(self, text: str) -> None:
         if not self.quiet:
             print(f"[{time.perf_counter() - self.started:5.1f} s] {text}", flush=True)
 
-    def layer(self, name: str, geoms: list[Any], properties: dict[str, Any]) -> None:
-        """Write a GeoJSON FeatureCollection (planar grid coordinates, with the model note)."""
-        import shapely
-
-        features = []
-        for i, geom in enumerate(geoms):
-            props = {k: _plain(v[i]) for k, v in properties.items()}
-            features.append({"type": "Feature", "properties": props,
-                             "geometry": json.loads(shapely.to_geojson(geom))})
+    def layer(self, name: str, frame: Any) -> None:
+        """Write a GeoDataFrame as a GeoJSON FeatureCollection on the planar grid, with the model note."""
+        features = json.loads(frame.to_json(drop_id=True))["features"]
         doc = {"type": "FeatureCollection", "name": name, "description": DISCLAIMER,
                "coordinates": _GRID, "features": features}
         path = self.out / f"{name}.geojson"
@@ -121,8 +134,10 @@ def _plain(value: Any) -> Any:
     return value
 
 
-def _km(value: float, digits: int = 1) -> str:
-    return f"{value / 1000:,.{digits}f}"
+def _points_layer(table: Any, x: Any, y: Any) -> Any:
+    import geopandas as gpd
+
+    return gpd.GeoDataFrame(table, geometry=gpd.points_from_xy(x, y))
 
 
 def _base_map(ax: Any, s: Scenario, title: str, bounds: tuple[float, float, float, float] | None = None) -> None:
@@ -157,56 +172,63 @@ def _towns(ax: Any, s: Scenario, labels: bool = True) -> None:
 # --------------------------------------------------------------------------- the three parts
 
 
-def _evaluate(tag: str, name: str, sites: np.ndarray, s: Scenario, assignment: np.ndarray) -> dict[str, Any]:
-    """Travel measures of a plan: every household goes to the site it is assigned to."""
+def _evaluate(tag: str, name: str, result: Any, s: Scenario) -> dict[str, Any]:
+    """A plan's travel measures, read from the kernel's tables.
+
+    ``result`` is a p-median plan, or the nearest-site allocation of the households to sites
+    chosen otherwise: both state per household its depot and trip (``to_frame``), per depot
+    its people and households (``sites_frame``) and the total travel (``summary``).
+    """
     import shapely
 
-    d = np.hypot(*(s.households - sites[assignment]).T)
-    w = s.people
+    result = _in_metres(result)
+    trips, depots, totals = result.to_frame(), result.sites_frame(), result.summary().iloc[0]
+    d = trips["distance_m"].to_numpy()
+    people = float(totals["load"])
+    sites = depots[["x", "y"]].to_numpy()
     inside = int(shapely.covers(s.region, shapely.points(sites)).sum())
     return {
-        "tag": tag, "plan": name, "sites": sites, "assignment": assignment, "distance": d,
-        "person_km": float(w @ d) / 1000, "mean_km": float(w @ d / w.sum()) / 1000,
-        "worst_km": float(d.max()) / 1000, "within_10km": 100 * float(w[d <= 10_000].sum() / w.sum()),
+        "tag": tag, "plan": name, "result": result, "trips": trips, "depots": depots, "sites": sites,
+        "person_km": float(totals["cost_m"]) / 1000, "mean_km": float(totals["cost_m"]) / people / 1000,
+        # Worst trip and the share within 10 km: no kernel states them; read off the trips.
+        "worst_km": float(d.max()) / 1000, "within_10km": 100 * float(s.people[d <= 10_000].sum()) / people,
         "on_land": f"{inside} of {len(sites)}",
     }
 
 
 def _plans(s: Scenario, seed: int, w: _Writer) -> list[dict[str, Any]]:
-    plans = []
     one = pw.weber_point(s.households, s.people)
-    plans.append(_evaluate("central", "one central depot", np.asarray(one.location)[None], s, np.zeros(len(s.people), int)))
-    w.say(f"central depot (Fermat-Weber point): {plans[-1]['person_km']:,.0f} person-km")
-    if _have("p_median"):
-        m = pw.p_median(s.households, DEPOTS, s.people, seed=seed)
-        plans.append(_evaluate("p_median", f"{DEPOTS} depots, least total travel (p-median)", np.asarray(m.sites), s,
-                               np.asarray(m.assignment)))
-        w.say(f"p-median plan: {plans[-1]['person_km']:,.0f} person-km")
-    else:
-        w.skipped.append("p-median plan (placewise.p_median is not in this build)")
-    if _have("p_center"):
-        c = pw.p_center(s.households, DEPOTS, seed=seed)
-        plans.append(_evaluate("p_center", f"{DEPOTS} depots, shortest worst trip (p-center)", np.asarray(c.sites), s,
-                               np.asarray(c.assignment)))
-        w.say(f"p-center plan: worst trip {plans[-1]['worst_km']:.1f} km")
-    else:
-        w.skipped.append("p-center plan (placewise.p_center is not in this build)")
+    # The Weber point states its total cost only; allocating the households to it gives each trip.
+    plans = [_evaluate("central", "one central depot", pw.nearest_site(s.households, [one.location], s.people), s)]
+    w.say(f"central depot (Fermat-Weber point): {one.cost / 1000:,.0f} person-km")
+    m = pw.p_median(s.households, DEPOTS, s.people, seed=seed)
+    plans.append(_evaluate("p_median", f"{DEPOTS} depots, least total travel (p-median)", m, s))
+    w.say(f"p-median plan: {m.cost / 1000:,.0f} person-km")
+    # The p-center plan counts every household alike (the worst trip of anyone); allocating the
+    # weighted households to its depots states the people each serves and the total travel.
+    c = pw.p_center(s.households, DEPOTS, seed=seed)
+    served = pw.nearest_site(s.households, c.sites, s.people)
+    plans.append(_evaluate("p_center", f"{DEPOTS} depots, shortest worst trip (p-center)", served, s))
+    w.say(f"p-center plan: worst trip {c.radius / 1000:.1f} km")
     return plans
 
 
 def _plans_map(s: Scenario, plans: list[dict[str, Any]], w: _Writer) -> None:
     import matplotlib.pyplot as plt
 
-    shown = plans[1:] if len(plans) > 1 else plans
+    shown = plans[1:]
     fig, axs = plt.subplots(1, len(shown), figsize=(6.2 * len(shown), 5.0), squeeze=False)
+    palette = np.asarray(plotting.SITE_COLOURS)
     for ax, plan in zip(axs[0], shown):
         _base_map(ax, s, f"{plan['plan']}\nmean trip {plan['mean_km']:.1f} km · worst trip {plan['worst_km']:.1f} km")
-        colours = [plotting.site_colour(i) for i in plan["assignment"]]
-        ax.scatter(s.households[:, 0], s.households[:, 1], s=1.2, c=colours, linewidths=0, alpha=0.55, zorder=3)
+        assignment = plan["trips"]["assignment"].to_numpy()
+        ax.scatter(s.households[:, 0], s.households[:, 1], s=1.2, c=palette[assignment % len(palette)],
+                   linewidths=0, alpha=0.55, zorder=3)
         _towns(ax, s, labels=False)
+        # Each depot's farthest household, from the kernel's per-household trips.
+        reach = plan["trips"].groupby("assignment")["distance_m"].max()
         for i, (x, y) in enumerate(plan["sites"]):
-            reach = plan["distance"][plan["assignment"] == i].max(initial=0.0)
-            ax.add_patch(plt.Circle((x, y), reach, fill=False, linestyle=(0, (4, 3)), linewidth=0.9,
+            ax.add_patch(plt.Circle((x, y), reach.get(i, 0.0), fill=False, linestyle=(0, (4, 3)), linewidth=0.9,
                                     edgecolor=plotting.site_colour(i), zorder=4))
             ax.scatter([x], [y], marker="*", s=190, color=plotting.site_colour(i), edgecolor="white",
                        linewidth=0.9, zorder=7)
@@ -216,109 +238,100 @@ def _plans_map(s: Scenario, plans: list[dict[str, Any]], w: _Writer) -> None:
     w.figure(fig, "depots")
 
 
-def _service_areas(s: Scenario, plan: dict[str, Any], w: _Writer) -> tuple[list[dict[str, Any]], dict[str, float]]:
+def _catchments(s: Scenario, plan: dict[str, Any], w: _Writer) -> tuple[Any, dict[str, float]]:
+    """The p-median depots' catchments (Voronoi cells clipped to the land) with their loads,
+    and the smallest ellipse covering all households."""
     import matplotlib.pyplot as plt
+    import shapely
     from matplotlib.colors import LinearSegmentedColormap, Normalize
 
-    sites = plan["sites"]
-    cells = pw.voronoi_cells(sites, s.region)
-    polygons = list(cells.to_shapely())
-    alloc = pw.nearest_site(s.households, sites, s.people)
-    index = np.asarray(alloc.index)
-    load = np.asarray(alloc.load)
-    rows = []
-    for i in range(len(sites)):
-        mine = index == i
-        people = s.people[mine]
-        rows.append({"depot": i + 1, "area_km2": float(cells.area[i]) / 1e6, "households": int(mine.sum()),
-                     "people": float(load[i]),
-                     "mean_km": float(people @ np.asarray(alloc.distance)[mine] / max(people.sum(), 1)) / 1000})
-    w.layer("service_areas", polygons, {"depot": [r["depot"] for r in rows],
-                                        "area_km2": [r["area_km2"] for r in rows],
-                                        "households": [r["households"] for r in rows],
-                                        "people": [r["people"] for r in rows],
-                                        "mean_trip_km": [r["mean_km"] for r in rows]})
-    ring = None
-    spread: dict[str, float] = {}
-    bounds = s.region.bounds
-    if _have("enclosing_ellipse"):
-        import shapely
+    sites, trips, depots = plan["sites"], plan["trips"], plan["depots"]
+    cells = _in_metres(pw.voronoi_cells(sites, s.region)).to_geodataframe()
+    # The plan serves every household from its nearest depot, so a depot's catchment holds
+    # exactly the households the plan assigns to it: its people and households are the plan's.
+    people = depots["load"].to_numpy()
+    cells.insert(0, "depot", np.arange(1, len(sites) + 1))
+    cells["people"] = people
+    cells["households"] = depots["count"].to_numpy()
+    # Mean trip per catchment: no kernel states it; the people-weighted trips of its households.
+    travel = np.bincount(trips["assignment"], weights=s.people * trips["distance_m"], minlength=len(sites))
+    cells["mean_trip_m"] = travel / np.where(people > 0, people, 1.0)
+    w.layer("catchments", cells)
 
-        e = pw.enclosing_ellipse(s.households)
-        t = np.linspace(0, 2 * np.pi, 200)
-        a, b = np.asarray(e.semi_axes)
-        c, sn = np.cos(e.angle), np.sin(e.angle)
-        ring = np.column_stack([a * np.cos(t), b * np.sin(t)]) @ np.array([[c, sn], [-sn, c]]) + np.asarray(e.center)
-        w.layer("demand_ellipse", [shapely.Polygon(ring[:-1])],
-                {"semi_major_km": [a / 1000], "semi_minor_km": [b / 1000], "angle_deg": [np.degrees(e.angle)],
-                 "area_km2": [e.area / 1e6]})
-        spread = {"semi_major_km": float(a) / 1000, "semi_minor_km": float(b) / 1000,
-                  "angle_deg": float(np.degrees(e.angle)), "area_km2": float(e.area) / 1e6}
-        bounds = (min(bounds[0], ring[:, 0].min()), min(bounds[1], ring[:, 1].min()),
-                  max(bounds[2], ring[:, 0].max()), max(bounds[3], ring[:, 1].max()))
-    else:
-        w.skipped.append("demand ellipse (placewise.enclosing_ellipse is not in this build)")
+    e = _in_metres(pw.enclosing_ellipse(s.households))
+    outline = e.to_geodataframe()
+    w.layer("demand_ellipse", outline)
+    spread = {"semi_major_km": e.semi_major / 1000, "semi_minor_km": e.semi_minor / 1000,
+              "angle_deg": e.angle, "area_km2": e.area / 1e6}
+    ring = outline.geometry.iloc[0]
+    bounds = shapely.union(shapely.box(*s.region.bounds), ring).bounds
+
     fig, ax = plt.subplots(figsize=(9.0, 6.4))
-    _base_map(ax, s, f"{s.name}: service areas of the p-median depots, clipped to the land, with their loads", bounds)
-    norm = Normalize(vmin=float(load.min()) * 0.8, vmax=float(load.max()))
+    _base_map(ax, s, f"{s.name}: catchments of the p-median depots, clipped to the land, with their loads", bounds)
+    norm = Normalize(vmin=float(people.min()) * 0.8, vmax=float(people.max()))
     cmap = LinearSegmentedColormap.from_list("load", ["#f6f1df", "#a9d3c0", "#3f9a8c", "#1b5e5a"])
-    plotting.draw_polygons(ax, polygons, facecolors=[cmap(norm(v)) for v in load], edgecolor="#2e3440",
+    plotting.draw_polygons(ax, cells.geometry, facecolors=[cmap(norm(v)) for v in people], edgecolor="#2e3440",
                            linewidth=1.0, zorder=2)
     plotting.draw_polygons(ax, [s.lake], facecolor=plotting.LAKE, edgecolor="#6b7a89", linewidth=0.6, zorder=2.5)
     _towns(ax, s)
     for i, (x, y) in enumerate(sites):
         ax.scatter([x], [y], marker="*", s=220, color="#b3473b", edgecolor="white", linewidth=1.0, zorder=7)
-        ax.annotate(f"depot {i + 1}\n{load[i]:,.0f} people", (x, y), xytext=(0, -24), textcoords="offset points",
+        ax.annotate(f"depot {i + 1}\n{people[i]:,.0f} people", (x, y), xytext=(0, -24), textcoords="offset points",
                     ha="center", va="top", fontsize=7.5, fontweight="bold", color="#2e3440", zorder=8,
                     bbox={"boxstyle": "round,pad=0.25", "facecolor": "white", "alpha": 0.85, "linewidth": 0})
-    if ring is not None:
-        ax.plot(ring[:, 0], ring[:, 1], color="#75508a", linewidth=1.4, linestyle=(0, (6, 2)), zorder=6,
-                label="smallest ellipse covering all households")
-        ax.legend(loc="lower left", fontsize=7.5, framealpha=0.9)
-    sm = plt.cm.ScalarMappable(norm=norm, cmap=cmap)
-    fig.colorbar(sm, ax=ax, shrink=0.7, label="people served")
+    ax.plot(*ring.exterior.xy, color="#75508a", linewidth=1.4, linestyle=(0, (6, 2)), zorder=6,
+            label="smallest ellipse covering all households")
+    ax.legend(loc="lower left", fontsize=7.5, framealpha=0.9)
+    fig.colorbar(plt.cm.ScalarMappable(norm=norm, cmap=cmap), ax=ax, shrink=0.7, label="people served")
     fig.tight_layout(rect=(0, 0.07, 1, 1))
-    w.figure(fig, "service_areas")
-    return rows, spread
+    w.figure(fig, "catchments")
+    return cells, spread
+
+
+def _named_ends(edges: Any, names: list[str]) -> Any:
+    """A tree's edge layer with both ends named: a depot or town, or ``junction k`` (an added
+    Steiner point). Edges are undirected, so the ends are ``end_a`` and ``end_b``."""
+    out = edges.drop(columns=[c for c in ("junction_a", "junction_b") if c in edges])
+    for end in ("a", "b"):
+        row = edges[f"end_{end}"].to_numpy()
+        junction = edges[f"junction_{end}"].to_numpy() if f"junction_{end}" in edges else np.full(len(row), -1)
+        out[f"end_{end}"] = [names[r] if r >= 0 else f"junction {j + 1}" for r, j in zip(row, junction)]
+    return out
+
+
+def _segments(edges: Any) -> np.ndarray:
+    """The ends of every straight edge of a layer, shape (E, 2, 2)."""
+    import shapely
+
+    return shapely.get_coordinates(edges.geometry.values).reshape(-1, 2, 2)
 
 
 def _network(s: Scenario, depots: np.ndarray, w: _Writer, seed: int) -> dict[str, Any]:
     import matplotlib.pyplot as plt
-    import shapely
 
     terminals = np.vstack([depots, s.towns])
     names = [f"depot {i + 1}" for i in range(len(depots))] + s.town_names
-    mst = pw.spanning_tree(terminals)
-    mst_edges = np.asarray(mst.edges)
-    result: dict[str, Any] = {"terminals": len(terminals), "mst_km": float(mst.length) / 1000}
-    w.layer("links_mst", list(shapely.linestrings(np.stack([terminals[mst_edges[:, 0]], terminals[mst_edges[:, 1]]], 1))),
-            {"from": [names[i] for i in mst_edges[:, 0]], "to": [names[j] for j in mst_edges[:, 1]],
-             "length_km": np.asarray(mst.edge_length) / 1000})
-    fig, ax = plt.subplots(figsize=(8.4, 6.0))
-    from . import plotting as pl
+    mst = _in_metres(pw.spanning_tree(terminals))
+    st = _in_metres(pw.steiner_tree(terminals, seed=seed, time_limit=5.0))
+    mst_edges = _named_ends(mst.to_geodataframe(), names)
+    st_edges = _named_ends(st.to_geodataframe(), names)
+    w.layer("links_mst", mst_edges)
+    w.layer("links_steiner", st_edges)
+    totals = st.summary().iloc[0]
+    result = {"terminals": len(terminals), "mst_km": float(mst.summary()["length_m"].iloc[0]) / 1000,
+              "steiner_km": float(totals["length_m"]) / 1000, "saving": 100 * float(totals["saving"]),
+              "junctions": int(totals["junctions"]), "optimal": bool(totals["optimal"])}
 
-    pl.draw_segments(ax, terminals[mst_edges[:, 0]], terminals[mst_edges[:, 1]], colors="#8f9aa6",
-                     linewidths=1.4, linestyles=(0, (5, 3)), zorder=4,
-                     label=f"minimum spanning tree {result['mst_km']:.1f} km")
-    title = f"{s.name}: linking the depots and towns"
-    if _have("steiner_tree"):
-        st = pw.steiner_tree(terminals, seed=seed, time_limit=5.0)
-        nodes = np.asarray(st.nodes)
-        edges = np.asarray(st.edges)
-        result.update(steiner_km=float(st.length) / 1000, saving=100 * float(st.saving),
-                      junctions=len(nodes) - int(st.terminal_count), optimal=bool(st.optimal))
-        node_names = names + [f"junction {k + 1}" for k in range(len(nodes) - len(names))]
-        w.layer("links_steiner", list(shapely.linestrings(np.stack([nodes[edges[:, 0]], nodes[edges[:, 1]]], 1))),
-                {"from": [node_names[i] for i in edges[:, 0]], "to": [node_names[j] for j in edges[:, 1]],
-                 "length_km": np.hypot(*(nodes[edges[:, 0]] - nodes[edges[:, 1]]).T) / 1000})
-        pl.draw_segments(ax, nodes[edges[:, 0]], nodes[edges[:, 1]], colors="#1b6f6a", linewidths=2.2, zorder=5,
-                         label=f"Steiner tree {result['steiner_km']:.1f} km ({result['junctions']} junctions)")
-        junctions = nodes[int(st.terminal_count):]
-        ax.scatter(junctions[:, 0], junctions[:, 1], s=22, color="#1b6f6a", edgecolor="white", zorder=6)
-        title += f" — the Steiner tree saves {result['saving']:.1f} % over the spanning tree"
-    else:
-        w.skipped.append("Steiner link network (placewise.steiner_tree is not in this build)")
-    _base_map(ax, s, title)
+    fig, ax = plt.subplots(figsize=(8.4, 6.0))
+    segments = _segments(mst_edges)
+    plotting.draw_segments(ax, segments[:, 0], segments[:, 1], colors="#8f9aa6", linewidths=1.4,
+                           linestyles=(0, (5, 3)), zorder=4, label=f"minimum spanning tree {result['mst_km']:.1f} km")
+    segments = _segments(st_edges)
+    plotting.draw_segments(ax, segments[:, 0], segments[:, 1], colors="#1b6f6a", linewidths=2.2, zorder=5,
+                           label=f"Steiner tree {result['steiner_km']:.1f} km ({result['junctions']} junctions)")
+    ax.scatter(st.junctions[:, 0], st.junctions[:, 1], s=22, color="#1b6f6a", edgecolor="white", zorder=6)
+    _base_map(ax, s, f"{s.name}: linking the depots and towns — the Steiner tree saves {result['saving']:.1f} % "
+                     "over the spanning tree")
     _towns(ax, s)
     ax.scatter(depots[:, 0], depots[:, 1], marker="*", s=200, color="#b3473b", edgecolor="white", zorder=7)
     ax.legend(loc="upper right", fontsize=8, framealpha=0.9)
@@ -330,8 +343,8 @@ def _network(s: Scenario, depots: np.ndarray, w: _Writer, seed: int) -> dict[str
 # --------------------------------------------------------------------------- summary
 
 
-def _tables(s: Scenario, plans: list[dict[str, Any]], areas: list[dict[str, Any]] | None,
-            spread: dict[str, float], net: dict[str, Any] | None) -> tuple[str, list[list[Any]]]:
+def _tables(s: Scenario, plans: list[dict[str, Any]], cells: Any, spread: dict[str, float],
+            net: dict[str, Any]) -> tuple[str, list[list[Any]]]:
     lines = [f"# {s.name}: depot siting summary", "",
              f"{len(s.people):,} households, {s.people.sum():,.0f} people, {len(s.towns)} towns; "
              f"land area {s.region.area / 1e6:,.0f} km².", ""]
@@ -347,29 +360,26 @@ def _tables(s: Scenario, plans: list[dict[str, Any]], areas: list[dict[str, Any]
         shown = label + (f" ({unit})" if unit else "")
         lines.append(f"| {shown} | " + " | ".join(fmt.format(p[key]) for p in plans) + " |")
         rows += [["plans", label, p["plan"], p[key], unit] for p in plans]
-    if areas:
-        lines += ["", "## Service areas of the p-median depots (clipped to the land)", "",
-                  "| depot | area (km²) | households | people | mean trip (km) |", "|---|---|---|---|---|"]
-        for r in areas:
-            lines.append(f"| {r['depot']} | {r['area_km2']:,.0f} | {r['households']:,} | {r['people']:,.0f} | "
-                         f"{r['mean_km']:.2f} |")
-            rows += [["service areas", k, f"depot {r['depot']}", r[k], u]
-                     for k, u in (("area_km2", "km2"), ("households", ""), ("people", ""), ("mean_km", "km"))]
-    if spread:
-        lines += ["", f"Smallest ellipse covering all households: semi-axes {spread['semi_major_km']:.1f} km and "
-                  f"{spread['semi_minor_km']:.1f} km, major axis at {spread['angle_deg']:.0f}° from east, area "
-                  f"{spread['area_km2']:,.0f} km²."]
-        rows += [["demand ellipse", k, "", v, u] for (k, v), u in zip(spread.items(), ["km", "km", "deg", "km2"])]
-    if net:
-        lines += ["", f"## Link network ({net['terminals']} depots and towns)", "",
-                  "| network | length (km) |", "|---|---|", f"| minimum spanning tree | {net['mst_km']:.1f} |"]
-        rows.append(["network", "minimum spanning tree length", "", net["mst_km"], "km"])
-        if "steiner_km" in net:
-            proven = "proven shortest" if net["optimal"] else "best found, not proven shortest"
-            lines += [f"| Steiner tree, {net['junctions']} junctions ({proven}) | {net['steiner_km']:.1f} |",
-                      f"| saving | {net['saving']:.2f} % |"]
-            rows += [["network", "Steiner tree length", "", net["steiner_km"], "km"],
-                     ["network", "saving over the spanning tree", "", net["saving"], "%"]]
+    lines += ["", "## Catchments of the p-median depots (clipped to the land)", "",
+              "| depot | area (km²) | households | people | mean trip (km) |", "|---|---|---|---|---|"]
+    for r in cells.itertuples():
+        lines.append(f"| {r.depot} | {r.area_m2 / 1e6:,.0f} | {r.households:,} | {r.people:,.0f} | "
+                     f"{r.mean_trip_m / 1000:.2f} |")
+        rows += [["catchments", k, f"depot {r.depot}", v, u]
+                 for k, v, u in (("area", r.area_m2 / 1e6, "km2"), ("households", r.households, ""),
+                                 ("people", r.people, ""), ("mean trip", r.mean_trip_m / 1000, "km"))]
+    lines += ["", f"Smallest ellipse covering all households: semi-axes {spread['semi_major_km']:.1f} km and "
+              f"{spread['semi_minor_km']:.1f} km, major axis at {spread['angle_deg']:.0f}° from east, area "
+              f"{spread['area_km2']:,.0f} km²."]
+    rows += [["demand ellipse", k, "", v, u] for (k, v), u in zip(spread.items(), ["km", "km", "deg", "km2"])]
+    proven = "proven shortest" if net["optimal"] else "best found, not proven shortest"
+    lines += ["", f"## Link network ({net['terminals']} depots and towns)", "",
+              "| network | length (km) |", "|---|---|", f"| minimum spanning tree | {net['mst_km']:.1f} |",
+              f"| Steiner tree, {net['junctions']} junctions ({proven}) | {net['steiner_km']:.1f} |",
+              f"| saving | {net['saving']:.2f} % |"]
+    rows += [["network", "minimum spanning tree length", "", net["mst_km"], "km"],
+             ["network", "Steiner tree length", "", net["steiner_km"], "km"],
+             ["network", "saving over the spanning tree", "", net["saving"], "%"]]
     lines += ["", f"> {DISCLAIMER} Sites are points in the plane: a depot can fall on water, so the "
               "table says how many are on land.", ""]
     return "\n".join(lines), rows
@@ -381,8 +391,9 @@ def run(out: str | Path, *, quiet: bool = False, seed: int = 0) -> str:
     Parameters
     ----------
     out : path
-        Folder for ``depots.png``, ``service_areas.png``, ``network.png``, the GeoJSON
-        layers, ``summary.md`` and ``summary.csv`` (created if missing).
+        Folder for ``depots.png``, ``catchments.png``, ``network.png``, the GeoJSON
+        layers (``catchments.geojson``, ``links_mst.geojson``, ...), ``summary.md`` and
+        ``summary.csv`` (created if missing).
     quiet : bool
         Print only the summary table, not the progress lines.
     seed : int
@@ -406,40 +417,30 @@ def run(out: str | Path, *, quiet: bool = False, seed: int = 0) -> str:
     w = _Writer(out, quiet)
     s = scenario()
     w.say(f"{s.name}: {len(s.people):,} households, {s.people.sum():,.0f} people in {len(s.towns)} towns and around")
-    import shapely
+    import geopandas as gpd
 
-    w.layer("region", [s.region], {"name": [s.name], "area_km2": [s.region.area / 1e6]})
-    w.layer("towns", list(shapely.points(s.towns)), {"name": s.town_names, "people": s.town_people})
+    w.layer("region", gpd.GeoDataFrame({"name": [s.name], "area_m2": [s.region.area]}, geometry=[s.region]))
+    w.layer("towns", _points_layer({"name": s.town_names, "people": s.town_people}, s.towns[:, 0], s.towns[:, 1]))
 
     plans = _plans(s, seed, w)
     for plan in plans:
-        w.layer(f"depots_{plan['tag']}", list(shapely.points(plan["sites"])),
-                {"depot": list(range(1, len(plan["sites"]) + 1)),
-                 "people": np.bincount(plan["assignment"], weights=s.people, minlength=len(plan["sites"]))})
-    chosen = next((p for p in plans if p["tag"] == "p_median"), plans[0])
-    w.layer("households", list(shapely.points(s.households)),
-            {"people": s.people, f"depot_{chosen['tag']}": chosen["assignment"] + 1,
-             "trip_km": chosen["distance"] / 1000})
+        depots = plan["depots"].rename(columns={"load": "people", "count": "households"})
+        depots.insert(0, "depot", np.arange(1, len(depots) + 1))
+        w.layer(f"depots_{plan['tag']}", _points_layer(depots, depots["x"], depots["y"]))
+    chosen = plans[1]  # the p-median plan: least total travel
+    households = chosen["result"].to_geodataframe()
+    households.insert(0, "people", s.people)
+    households.insert(1, "depot", households.pop("assignment") + 1)
+    w.layer("households", households)
     _plans_map(s, plans, w)
     w.say("depot maps drawn")
 
-    areas: list[dict[str, Any]] | None = None
-    spread: dict[str, float] = {}
-    if _have("voronoi_cells", "nearest_site") and len(chosen["sites"]) > 1:
-        areas, spread = _service_areas(s, chosen, w)
-        w.say("service areas drawn")
-    else:
-        w.skipped.append("service areas (placewise.voronoi_cells / nearest_site or the p-median plan missing)")
-    net = None
-    if _have("spanning_tree"):
-        net = _network(s, chosen["sites"], w, seed)
-        w.say("link network drawn")
-    else:
-        w.skipped.append("link network (placewise.spanning_tree is not in this build)")
+    cells, spread = _catchments(s, chosen, w)
+    w.say("catchments drawn")
+    net = _network(s, chosen["sites"], w, seed)
+    w.say("link network drawn")
 
-    table, rows = _tables(s, plans, areas, spread, net)
-    if w.skipped:
-        table += "\nNot run in this build: " + "; ".join(w.skipped) + ".\n"
+    table, rows = _tables(s, plans, cells, spread, net)
     (out / "summary.md").write_text(table)
     with open(out / "summary.csv", "w", newline="") as fh:
         writer = csv.writer(fh)

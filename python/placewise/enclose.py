@@ -116,6 +116,8 @@ class _GroupedWithSupport(Grouped):
 
     support_offsets: np.ndarray = dataclasses.field(repr=False)
     support_index: np.ndarray = dataclasses.field(repr=False)
+    # Group position of every input row (to give each group's result in its own row numbers).
+    row_group: np.ndarray = dataclasses.field(repr=False, kw_only=True)
 
     def _support_at(self, position: int) -> np.ndarray:
         return self.support_index[self.support_offsets[position]:self.support_offsets[position + 1]].copy()
@@ -126,7 +128,8 @@ class _GroupedWithSupport(Grouped):
         return self._support_at(self.position(label))
 
     def _item(self, position: int) -> Any:
-        values: dict[str, Any] = {"support": self._support_at(position)}
+        # What a separate call on the group's rows gives: support as positions within the group.
+        values: dict[str, Any] = {"support": self._within(self._support_at(position), self.row_group, position)}
         for field in dataclasses.fields(self._single):
             if field.name not in values and field.init and not field.kw_only:
                 value = getattr(self, field.name)[position]
@@ -493,7 +496,8 @@ def enclosing_circle(
     """
     if groups is None:
         return Circle(**_core.enclosing_circle_single(points, seed))
-    return Circles._from_core(_core.enclosing_circle_grouped(points, groups, seed, errors))
+    fields = _core.enclosing_circle_grouped(points, groups, seed, errors)
+    return Circles._from_core(fields, row_group=Grouped._row_groups_of(fields["labels"], groups))
 
 
 @overload
@@ -576,7 +580,8 @@ def minimax_point(
     """
     if groups is None:
         return MinimaxPoint(**_core.minimax_point_single(points, weights))
-    return MinimaxPoints._from_core(_core.minimax_point_grouped(points, weights, groups, errors))
+    fields = _core.minimax_point_grouped(points, weights, groups, errors)
+    return MinimaxPoints._from_core(fields, row_group=Grouped._row_groups_of(fields["labels"], groups))
 
 
 @overload
@@ -658,4 +663,5 @@ def enclosing_ellipse(
     """
     if groups is None:
         return Ellipse(**_core.enclosing_ellipse_single(points, tol))
-    return Ellipses._from_core(_core.enclosing_ellipse_grouped(points, groups, tol, errors))
+    fields = _core.enclosing_ellipse_grouped(points, groups, tol, errors)
+    return Ellipses._from_core(fields, row_group=Grouped._row_groups_of(fields["labels"], groups))

@@ -186,11 +186,18 @@ class SpanningTrees(_Edges, Grouped):
     edge_length: np.ndarray
     length: np.ndarray
     points: np.ndarray = dataclasses.field(repr=False)
+    # Group position of every input row (to give each group's tree in its own row numbers).
+    row_group: np.ndarray = dataclasses.field(repr=False)
 
     def _item(self, position: int) -> SpanningTree:
+        # What a separate call on the group's rows gives: ends as positions within the group.
         edges = slice(self.edge_offsets[position], self.edge_offsets[position + 1])
-        return SpanningTree(self.end_a[edges].copy(), self.end_b[edges].copy(), self.edge_length[edges].copy(),
-                            float(self.length[position]), self.points, unit=self.unit)
+        return SpanningTree(
+            self._within(self.end_a[edges], self.row_group, position),
+            self._within(self.end_b[edges], self.row_group, position),
+            self.edge_length[edges].copy(), float(self.length[position]),
+            self.points[self.row_group == position], unit=self.unit,
+        )
 
     def _row_groups(self) -> np.ndarray:
         return _edge_groups(self.edge_offsets)
@@ -304,15 +311,20 @@ class SteinerTrees(_SteinerEdges, Grouped):
     saving: np.ndarray
     optimal: np.ndarray
     points: np.ndarray = dataclasses.field(repr=False)
+    # Group position of every input row (to give each group's tree in its own row numbers).
+    row_group: np.ndarray = dataclasses.field(repr=False)
 
     def _item(self, position: int) -> SteinerTree:
         nodes = slice(self.junction_offsets[position], self.junction_offsets[position + 1])
         edges = slice(self.edge_offsets[position], self.edge_offsets[position + 1])
+        # What a separate call on the group's rows gives: ends as positions within the group.
         return SteinerTree(
-            self.junctions[nodes].copy(), self.end_a[edges].copy(), self.end_b[edges].copy(),
+            self.junctions[nodes].copy(),
+            self._within(self.end_a[edges], self.row_group, position),
+            self._within(self.end_b[edges], self.row_group, position),
             self.junction_a[edges].copy(), self.junction_b[edges].copy(), self.edge_length[edges].copy(),
             float(self.length[position]), float(self.mst_length[position]), float(self.saving[position]),
-            bool(self.optimal[position]), self.points, unit=self.unit,
+            bool(self.optimal[position]), self.points[self.row_group == position], unit=self.unit,
         )
 
     def _row_groups(self) -> np.ndarray:
@@ -413,7 +425,9 @@ def spanning_tree(
     if groups is None:
         return SpanningTree(**_core.spanning_tree_single(points), points=as_points(points))
     fields = _core.spanning_tree_grouped(points, groups, errors)
-    return SpanningTrees._from_core(fields, points=as_points(points))
+    return SpanningTrees._from_core(
+        fields, points=as_points(points), row_group=Grouped._row_groups_of(fields["labels"], groups)
+    )
 
 
 @overload
@@ -529,4 +543,6 @@ def steiner_tree(
         fields = _core.steiner_tree_single(points, exact, seed, time_limit)
         return SteinerTree(**fields, points=as_points(points))
     fields = _core.steiner_tree_grouped(points, groups, exact, seed, time_limit, errors)
-    return SteinerTrees._from_core(fields, points=as_points(points))
+    return SteinerTrees._from_core(
+        fields, points=as_points(points), row_group=Grouped._row_groups_of(fields["labels"], groups)
+    )

@@ -836,6 +836,3 @@ def nearest_site(
     fields = _core.nearest_site_grouped(points, sites, weights, groups, site_groups, errors)
     return Allocations._from_core(fields, points=as_points(points), sites=as_points(sites))
 
-
-# Former name of DelaunayMesh, kept only while the package root still imports it.
-Triangulation = DelaunayMesh

@@ -15,7 +15,8 @@ Examples
 
 from __future__ import annotations
 
-from typing import Any, Iterable, Sequence
+from collections.abc import Iterable, Sequence
+from typing import Any
 
 import numpy as np
 
@@ -132,7 +133,7 @@ def draw_polygons(ax: Any, geoms: Iterable[Any], **style: Any) -> Any:
 
 
 def draw_segments(ax: Any, starts: np.ndarray, ends: np.ndarray, **style: Any) -> Any:
-    """Draw segments ``starts[i] → ends[i]`` (arrays of shape (m, 2)) as one collection.
+    """Draw the segments between ``starts[i]`` and ``ends[i]`` (arrays of shape (m, 2)) as one collection.
 
     Examples
     --------

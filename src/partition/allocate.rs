@@ -209,7 +209,7 @@ pub fn nearest_site(points: &[Point], sites: &[Point], weights: Weights<'_>) -> 
 }
 
 /// [`nearest_site`] for every group of demand points, each served by the sites of the same
-/// label (see [`crate::batch::run_paired`]).
+/// label (the crate's paired grouped runner).
 #[derive(Debug, Clone)]
 pub struct SiteAllocations {
     /// Per group (every label of the points or the sites, sorted): its allocation, with

@@ -470,8 +470,8 @@ pub fn voronoi_cells(sites: &[Point], region: Option<Region<'_>>) -> Result<Voro
 }
 
 /// [`voronoi_cells`] of every group of labelled sites, all clipped to the one `region` (or,
-/// without one, each group to its own sites' grown bounding box), in parallel (see
-/// [`crate::batch`]).
+/// without one, each group to its own sites' grown bounding box), in parallel (by the crate's
+/// grouped runner).
 ///
 /// Each group's cells are those a separate call on its sites gives; errors name input rows
 /// (`sites[9] repeats sites[4]`). [`VoronoiCells::by_row`] lays the cells out by input row.

@@ -10,7 +10,8 @@ user's terms (the ``by`` column's values, the frame's index labels).
 from __future__ import annotations
 
 import dataclasses
-from typing import Any, Callable, Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
+from typing import Any
 
 import numpy as np
 
@@ -200,6 +201,26 @@ def groups_of(frame: Any, by: str | None, name: str) -> Groups | None:
     return Groups(by, pd.Index(uniques, name=by), codes.astype(np.int64))
 
 
+def shared_groups(first: Any, second: Any, by: str, names: tuple[str, str]) -> tuple[Groups, np.ndarray]:
+    """Code the ``by`` column of two frames (demand and sites) on the union of their values.
+
+    Returns the first frame's :class:`Groups` (whose ``values`` are the union, so a value
+    found only in the second frame is a group of its own) and the second frame's codes.
+    """
+    a = groups_of(first, by, names[0])
+    b = groups_of(second, by, names[1])
+    assert a is not None and b is not None
+    try:
+        values = a.values.append(b.values).unique().sort_values()
+    except TypeError as exc:
+        raise InputError(f"{names[0]} and {names[1]}: group column {by!r} mixes values that cannot be sorted "
+                         f"({exc})") from None
+    values = values.rename(by)
+    first_codes = values.get_indexer(a.values.take(a.codes)).astype(np.int64)
+    second_codes = values.get_indexer(b.values.take(b.codes)).astype(np.int64)
+    return Groups(by, values, first_codes), second_codes
+
+
 def call(
     kernel: Callable[..., Any], *args: Any, groups: Groups | None = None,
     rows: Mapping[str, Any] | None = None, **options: Any,
@@ -229,6 +250,12 @@ def in_user_terms(
     if count:
         table.insert(1, "count", groups.counts[code])
     table["problem"] = problems[code]
+    if isinstance(table, gpd.GeoDataFrame):
+        # A skipped group has no shape: a missing geometry, which every writer stores as
+        # null, rather than the kernel's NaN placeholder (``POINT (NaN NaN)``).
+        skipped = table["problem"].notna().to_numpy()
+        if skipped.any():
+            table.loc[skipped, table.geometry.name] = None
     return table
 
 

@@ -5,8 +5,6 @@ from __future__ import annotations
 
 from typing import Any, Literal
 
-import numpy as np
-
 try:
     import geopandas as gpd
     import shapely
@@ -92,14 +90,13 @@ def voronoi_cells(
     rows = {"sites": pf.rows}
     grouped = {} if groups is None else {"errors": errors}
     result = call(_pw.voronoi_cells, pf.xy, geom, groups=groups, rows=rows, **grouped)
+    # The kernel's rows are the sites in input order: one row per site, with its own columns.
     cells = framed(result, pf, groups, rows)
-    # One row per site, in the sites' own order with their own columns.
-    order = np.argsort(np.argsort(np.arange(len(pf.xy))))
-    out = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=cells.geometry.values[order],
+    out = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=cells.geometry.values,
                            crs=pf.crs)
     for name in cells.columns:
         if name.startswith("area_") or name == "problem":
-            out[name] = cells[name].to_numpy()[order]
+            out[name] = cells[name].to_numpy()
     if demand is not None:
         served = nearest_site(demand, sites, weight, by=by, planar=planar, centroids=centroids, errors=errors)
         out["load"] = served.sites["load"].to_numpy()

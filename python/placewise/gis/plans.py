@@ -9,7 +9,7 @@ import numpy as np
 
 import placewise as _pw
 
-from ._frames import Prepared, call, framed, groups_of, in_user_terms, prepare, weights, with_unit
+from ._frames import Prepared, call, groups_of, in_user_terms, prepare, shared_groups, weights, with_unit
 
 __all__ = ["SitePlan", "nearest_site", "p_center", "p_median"]
 
@@ -89,21 +89,16 @@ def nearest_site(
     """
     sf = prepare(sites, "sites", planar=planar, centroids=centroids)
     df = prepare(demand, "demand", planar=planar, centroids=centroids, work=sf.work)
-    groups = groups_of(df.frame, by, "demand")
     rows = {"points": df.rows, "weights": df.rows, "sites": sf.rows}
     w = weights(df, weight, "demand")
-    if groups is None:
+    groups = None
+    if by is None:
         result = call(_pw.nearest_site, df.xy, sf.xy, w, rows=rows)
     else:
-        site_groups = groups_of(sf.frame, by, "sites")
-        assert site_groups is not None
-        # Code the sites' group values on the demand's codes; a site group without demand is
-        # served by nobody (its sites get load 0), a demand group without sites is a problem.
-        site_codes = groups.values.get_indexer(site_groups.values.take(site_groups.codes))
-        keep = site_codes >= 0
-        if not keep.all():
-            sf = Prepared(sf.frame[keep], sf.xy[keep], sf.crs, sf.work)
-            site_codes = site_codes[keep]
+        # Both frames coded on the union of their group values: a demand group without
+        # sites is a problem (raise or skip); the sites of a value without demand serve
+        # nobody and keep their row (load 0, count 0), with a summary row of their own.
+        groups, site_codes = shared_groups(df.frame, sf.frame, by, ("demand", "sites"))
         result = call(_pw.nearest_site, df.xy, sf.xy, w, groups=groups, rows=rows,
                       site_groups=site_codes, errors=errors)
     site_table = with_unit(result, sf).sites_frame()

@@ -60,7 +60,7 @@ pub struct Triangulation {
 /// Delaunay triangulations, the same one on every call for the same input.
 ///
 /// From [`STRIPS_FROM`] points on, the plane is cut into vertical strips that are
-/// triangulated in parallel and stitched together (see [`strips::by_strips`]); the stitched result is
+/// triangulated in parallel and stitched together (see `strips::by_strips`); the stitched result is
 /// verified, and any input it does not fit is triangulated whole.
 ///
 /// # Errors
@@ -75,12 +75,12 @@ pub fn delaunay(points: &[Point]) -> Result<Triangulation> {
     delaunay_in_strips(points, strip_count(points.len()))
 }
 
-/// [`delaunay`] of every group of a labelled cloud, in parallel (see [`crate::batch`]).
+/// [`delaunay`] of every group of a labelled cloud, in parallel (by the crate's grouped runner).
 ///
 /// Each group is triangulated on its own points, exactly as a separate call would, and every
 /// vertex index (triangle corners, hull, edges, representatives) is then an input row;
 /// `adjacent` keeps numbering the group's own triangles, and `representative[k]` belongs to
-/// the group's `k`-th row in input order (the returned [`RowPlaces`] say which row that is).
+/// the group's `k`-th row in input order (the returned `RowPlaces` say which row that is).
 ///
 /// # Errors
 /// [`crate::Error::LengthMismatch`] when `labels` does not have one entry per point,
