@@ -51,7 +51,6 @@ impl GroupIndex {
         self.labels.len()
     }
 
-
     /// Sorted unique labels.
     pub fn labels(&self) -> &[i64] {
         &self.labels

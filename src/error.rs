@@ -224,7 +224,9 @@ impl Error {
             Error::NonFiniteCoordinate { argument, index, value } => {
                 Error::NonFiniteCoordinate { argument, index: map(index), value }
             }
-            Error::InvalidWeight { argument, index, value } => Error::InvalidWeight { argument, index: map(index), value },
+            Error::InvalidWeight { argument, index, value } => {
+                Error::InvalidWeight { argument, index: map(index), value }
+            }
             Error::RepeatedPoint { argument, row, first } => {
                 Error::RepeatedPoint { argument, row: map(row), first: map(first) }
             }
@@ -262,8 +264,7 @@ mod tests {
         let e = Error::RepeatedPoint { argument: "sites", row: 1, first: 0 }.in_group(2).rows_from(&[4, 9]);
         assert_eq!(e.to_string(), "group 2: sites: sites[9] repeats sites[4]; every site needs its own location");
         assert_eq!((e.group(), e.row(), e.argument()), (Some(2), Some(9), "sites"));
-        let e = Error::Degenerate { argument: "points", reason: "all points are collinear".into() }
-            .in_group(4);
+        let e = Error::Degenerate { argument: "points", reason: "all points are collinear".into() }.in_group(4);
         assert_eq!(e.to_string(), "group 4: points: all points are collinear");
         assert!(e.is_degenerate());
     }

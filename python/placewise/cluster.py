@@ -19,7 +19,7 @@ from typing import Any, Literal
 import numpy as np
 
 from ._core import InputError
-from ._errors import restate, restate_problems
+from ._errors import plain, restate, restate_problems
 from ._results import Result
 
 __all__ = ["DistributedAllocation", "GROUPED_KERNELS", "grouped", "nearest_site"]
@@ -38,6 +38,9 @@ GROUPED_KERNELS: dict[str, tuple[str, ...]] = {
     "p_center": (),
 }
 _WEIGHTED = {"weber_point", "minimax_point", "p_median", "p_center"}
+# Plans: the rows of their ``to_frame()`` are the input rows (indexed here by the table's
+# labels), and their sites are numbered within each group.
+_PLANS = {"p_median", "p_center"}
 _TABLES = ("frame", "summary", "sites")
 
 
@@ -63,8 +66,48 @@ def _table(result: Result, table: str) -> Any:
     if table == "summary":
         return result.summary()
     if not hasattr(result, "sites_frame"):
-        raise InputError(f"table='sites' is only for kernels with sites (p_median, p_center); got {type(result).__name__}")
+        raise InputError(f"table='sites' is only for kernels with sites (p_median, p_center); "
+                         f"got {type(result).__name__}")
     return result.sites_frame()
+
+
+def _call(kernel: Callable[..., Any], *args: Any, group_values: Any = None, rows: Any = None,
+          **options: Any) -> Any:
+    """Run a kernel on a worker; an ``InputError`` is restated in the user's terms and made
+    ready to travel to the client.
+
+    A worker pickles the error with its whole chain (``__context__`` included), and the
+    kernel's structured detail does not pickle: the error is raised outside the handler,
+    without the kernel's error chained and without the detail, keeping the message and the
+    ``argument``, ``group`` and ``row`` (the user's own values).
+    """
+    try:
+        return kernel(*args, **options)
+    except InputError as exc:
+        error = restate(exc, group_values, rows)
+    error.detail = None
+    raise error
+
+
+def _labelled(column: Any, labels: np.ndarray) -> np.ndarray:
+    """Input row positions (-1 or missing for none) as the table's index labels (None)."""
+    import pandas as pd
+
+    positions = pd.to_numeric(column, errors="coerce").to_numpy(dtype=np.float64, na_value=np.nan)
+    valid = positions >= 0  # False for NaN (the rows of a skipped group)
+    named = np.full(len(positions), None, dtype=object)
+    named[valid] = labels[positions[valid].astype(np.int64)]
+    return named
+
+
+def _site_numbers(result: Any) -> np.ndarray:
+    """Each row of ``result.sites_frame()`` as its site's number within its group (0, 1, ...).
+
+    The sites table lists the groups in label order; a site's row there is what
+    ``to_frame()["assignment"]`` holds, a position that means nothing outside one partition.
+    """
+    group = result.sites_frame()["group"].to_numpy()
+    return np.arange(len(group)) - np.searchsorted(group, group, side="left")
 
 
 def _solve(part: Any, kernel: str, x: str, y: str, weight: str | None, by: str, table: str, errors: str,
@@ -76,40 +119,62 @@ def _solve(part: Any, kernel: str, x: str, y: str, weight: str | None, by: str, 
     # The shuffle does not keep row order; restoring the table's index order makes every
     # group see its points in the order the in-memory call would, whatever the partitioning.
     part = part.sort_index(kind="stable")
+    missing = part[by].isna().to_numpy()
+    if missing.any():
+        row = plain(part.index[int(np.argmax(missing))])
+        raise InputError(f"group column {by!r} has a missing value at row {row!r}")
     codes, uniques = pd.factorize(part[by], sort=True)
     points = part[[x, y]].to_numpy(dtype=np.float64)
-    rows = {"points": part.index.to_numpy(), "weights": part.index.to_numpy()}
+    labels = part.index.to_numpy()
+    rows = {"points": labels, "weights": labels}
     arguments: dict[str, Any] = dict(options)
     if weight is not None:
         arguments["weights"] = part[weight].to_numpy(dtype=np.float64)
-    try:
-        result = fn(points, groups=codes, errors=errors, **arguments)
-    except InputError as exc:
-        raise restate(exc, uniques, rows) from None
+    result = _call(fn, points, groups=codes, errors=errors, group_values=uniques, rows=rows, **arguments)
     frame = _table(result, table)
     code = frame["group"].to_numpy(dtype=np.int64)
     frame["problem"] = restate_problems(result.problem_detail, uniques, rows)[code]
     frame = frame.drop(columns=["group"])
     frame.insert(0, by, uniques.take(code))
-    labels = part.index.to_numpy()
     for name in GROUPED_KERNELS[kernel]:
         if name in frame.columns:
-            positions = frame[name].to_numpy(dtype=np.int64)
-            named = np.full(len(frame), None, dtype=object)
-            named[positions >= 0] = labels[positions[positions >= 0]]
-            frame[name] = named
+            frame[name] = _labelled(frame[name], labels)
+    if kernel in _PLANS and table == "sites":
+        number = _site_numbers(result)
+        frame.insert(1, "site", np.where(frame["problem"].isna().to_numpy(), number, -1))
+    elif kernel in _PLANS and table == "frame":
+        # One row per input row: indexed by the table's labels; the serving site by its
+        # number within the group (the ``site`` column of ``table="sites"``), -1 for none.
+        number = _site_numbers(result)
+        at = frame["assignment"].to_numpy(dtype=np.int64)
+        frame["assignment"] = np.where(at >= 0, number[np.maximum(at, 0)], -1)
+        frame.index = part.index
     return frame
 
 
-def _meta_frame(kernel: str, label_dtype: Any, weighted: bool, by: str, table: str, options: dict[str, Any]) -> Any:
-    """The output's columns and dtypes, from the kernel run on a tiny group of our own."""
+def _meta_frame(ddf: Any, kernel: str, weighted: bool, by: str, table: str, options: dict[str, Any]) -> Any:
+    """The output's columns and dtypes, from the kernel run on a small group of our own.
+
+    The group has ``p`` points more than the five of a kite (no three on a line), so every
+    kernel finds an answer for valid options; invalid options fail here, naming the option.
+    """
     import pandas as pd
 
-    square = pd.DataFrame({"x": [0.0, 1.0, 1.0, 0.0, 0.5], "y": [0.0, 0.0, 1.0, 1.5, 0.4], "w": 1.0, "g": 0})
-    frame = _solve(square, kernel, "x", "y", "w" if weighted else None, "g", table, "raise", options)
+    p = options.get("p", 0)
+    extra = int(p) if isinstance(p, (int, np.integer)) and 0 < p < 10_000 else 0
+    turn = np.arange(extra) * 2.399963  # golden-angle spiral: distinct points, none repeated
+    x = np.r_[0.0, 1.0, 1.0, 0.0, 0.5, 3 + np.sqrt(turn + 1) * np.cos(turn)]
+    y = np.r_[0.0, 0.0, 1.0, 1.5, 0.4, 3 + np.sqrt(turn + 1) * np.sin(turn)]
+    kite = pd.DataFrame({"x": x, "y": y, "w": 1.0, "g": 0})
+    frame = _solve(kite, kernel, "x", "y", "w" if weighted else None, "g", table, "raise", options)
     frame = frame.rename(columns={"g": by}).iloc[:0]
-    frame[by] = pd.Series(pd.array([], dtype=label_dtype))
+    frame[by] = pd.Series(pd.array([], dtype=ddf._meta[by].dtype))
     frame["problem"] = frame["problem"].astype(object)
+    for name in GROUPED_KERNELS[kernel]:
+        if name in frame.columns:
+            frame[name] = frame[name].astype(object)
+    if kernel in _PLANS and table == "frame":
+        frame.index = ddf._meta.index[:0]
     return frame
 
 
@@ -152,8 +217,14 @@ def grouped(
     Returns
     -------
     dask.dataframe.DataFrame
-        Lazy; the ``by`` column (the user's values), the table's columns, and ``problem``.
-        Columns holding input rows (tree ends) hold the table's index labels.
+        Lazy; the ``by`` column (the user's values), ``problem`` and the table's columns.
+        Columns holding input rows (tree ends, triangle corners) hold the table's index
+        labels (None for a junction end or a skipped group). For plans (``p_median``,
+        ``p_center``) the sites are numbered within their group: ``table="sites"`` has a
+        ``site`` column, and ``table="frame"`` (one row per input row, indexed by the
+        table's labels) names each row's site by that number in ``assignment`` (-1 in a
+        skipped group). Rows come partition by partition: sort them by ``by`` for a fixed
+        order.
 
     Examples
     --------
@@ -163,6 +234,12 @@ def grouped(
     >>> out = pc.grouped(dd.from_pandas(table, npartitions=2), "weber_point", x="x", y="y", by="town")
     >>> out.compute(scheduler="sync").set_index("town").sort_index()["cost_u"].round(6).to_dict()
     {'a': 7.464102, 'b': 0.0}
+    >>> ellipses = pc.grouped(dd.from_pandas(table, npartitions=1), "enclosing_ellipse", x="x", y="y",
+    ...                       by="town", errors="skip").compute(scheduler="sync")
+    >>> round(float(ellipses["area_u2"].iloc[0]), 4)    # triangle area 8 x 4 pi / (3 sqrt 3)
+    19.3472
+    >>> ellipses["problem"].iloc[1]                     # a one-point group, kept as a row
+    "group 'b': points must hold at least 3 distinct points; got 1"
     """
     _require_dask()
     _kernel(kernel)
@@ -173,7 +250,7 @@ def grouped(
     for column in [x, y, by] + ([weight] if weight else []):
         if column not in ddf.columns:
             raise InputError(f"column {column!r} not found; the frame has {list(ddf.columns)}")
-    meta = _meta_frame(kernel, ddf._meta[by].dtype, weight is not None, by, table, options)
+    meta = _meta_frame(ddf, kernel, weight is not None, by, table, options)
     run = functools.partial(_solve_or_meta, kernel=kernel, x=x, y=y, weight=weight, by=by, table=table,
                             errors=errors, options=options, meta=meta)
     return ddf.shuffle(on=by).map_partitions(run, meta=meta)
@@ -189,6 +266,10 @@ def _solve_or_meta(part: Any, meta: Any, **arguments: Any) -> Any:
 class DistributedAllocation(Result):
     """Nearest-site allocation of a distributed table.
 
+    Every partition is allocated by one kernel call, which gives both its rows and its
+    totals; compute ``frame`` and the totals together (``dask.compute(a.frame, a.load)``)
+    to allocate each partition once.
+
     Attributes
     ----------
     frame : dask.dataframe.DataFrame
@@ -196,55 +277,91 @@ class DistributedAllocation(Result):
         columns (lazy).
     load : dask.delayed.Delayed
         Summed weight per site, shape ``(k,)``, reduced across partitions (``.compute()``).
+    count : dask.delayed.Delayed
+        Rows served by each site, shape ``(k,)``.
     cost : dask.delayed.Delayed
         Total weighted distance (``.compute()``).
+    sites : ndarray, shape (k, 2)
+        The sites.
+
+    ``sites_frame()`` (``x``, ``y``, ``load``, ``count`` per site) and ``summary()``
+    (``cost_u``, ``load``, ``count``, ``sites``) compute the totals; ``to_frame()`` computes
+    ``frame``.
     """
 
     frame: Any
     load: Any
+    count: Any
     cost: Any
+    sites: np.ndarray = dataclasses.field(repr=False)
+
+    def to_frame(self) -> Any:
+        """The allocated rows, computed (the whole table: mind its size)."""
+        return self.frame.compute()
+
+    def sites_frame(self) -> Any:
+        """One row per site: ``x``, ``y``, ``load``, ``count`` (computed)."""
+        import dask
+        import pandas as pd
+
+        load, count = dask.compute(self.load, self.count)
+        return pd.DataFrame({"x": self.sites[:, 0], "y": self.sites[:, 1], "load": load, "count": count})
+
+    def summary(self) -> Any:
+        """One row: ``cost_u``, ``load`` (total weight), ``count`` (rows), ``sites`` (computed)."""
+        import dask
+        import pandas as pd
+
+        load, count, cost = dask.compute(self.load, self.count, self.cost)
+        return pd.DataFrame({self._u("cost"): [cost], "load": [float(np.sum(load))], "count": [int(np.sum(count))],
+                             "sites": [len(self.sites)]})
 
 
-def _allocate_partition(part: Any, sites: np.ndarray, x: str, y: str, weight: str | None) -> Any:
+def _allocate_partition(part: Any, sites: np.ndarray, x: str, y: str, weight: str | None,
+                        distance: str) -> tuple[Any, np.ndarray, np.ndarray, float]:
+    """One kernel call: the partition's rows with their site and distance, and its totals."""
     import placewise
 
     part = part.copy()
     if len(part) == 0:
         part["site"] = np.zeros(0, dtype=np.int64)
-        part["distance_u"] = np.zeros(0)
-        return part
+        part[distance] = np.zeros(0)
+        return part, np.zeros(len(sites)), np.zeros(len(sites), dtype=np.int64), 0.0
     w = part[weight].to_numpy(dtype=np.float64) if weight else None
-    rows = {"points": part.index.to_numpy(), "weights": part.index.to_numpy()}
-    try:
-        allocation = placewise.nearest_site(part[[x, y]].to_numpy(dtype=np.float64), sites, w)
-    except InputError as exc:
-        raise restate(exc, None, rows) from None
+    # Weights all zero are valid in one partition of a valid table (another partition holds
+    # the positive weight): the rows are allocated by distance alone and add no load and no
+    # cost. The kernel refuses all-zero weights for a whole problem, so it gets none here.
+    unweighted = w is not None and not w.any()
+    labels = part.index.to_numpy()
+    allocation = _call(placewise.nearest_site, part[[x, y]].to_numpy(dtype=np.float64), sites,
+                       None if unweighted else w, rows={"points": labels, "weights": labels})
     points = allocation.to_frame()
     part["site"] = points["assignment"].to_numpy(dtype=np.int64)
-    part["distance_u"] = points["distance_u"].to_numpy()
-    return part
+    part[distance] = points[distance].to_numpy()
+    if unweighted:
+        return part, np.zeros(len(sites)), allocation.count, 0.0
+    return part, allocation.load, allocation.count, float(allocation.cost)
 
 
-def _partition_totals(part: Any, sites: np.ndarray, x: str, y: str, weight: str | None) -> tuple[np.ndarray, float]:
-    import placewise
+def _reduce_totals(totals: list[tuple[Any, np.ndarray, np.ndarray, float]],
+                   weight: str | None) -> tuple[np.ndarray, np.ndarray, float]:
+    """Loads, counts and cost summed over the partitions (the cost by ``math.fsum``),
+    refusing a table whose weights are all zero, as the in-memory call does."""
+    import math
 
-    if len(part) == 0:
-        return np.zeros(len(sites)), 0.0
-    w = part[weight].to_numpy(dtype=np.float64) if weight else None
-    allocation = placewise.nearest_site(part[[x, y]].to_numpy(dtype=np.float64), sites, w)
-    return np.asarray(allocation.sites_frame()["load"], dtype=np.float64), float(allocation.cost)
-
-
-def _reduce_totals(totals: list[tuple[np.ndarray, float]]) -> tuple[np.ndarray, float]:
-    loads = [t[0] for t in totals]
-    return np.sum(loads, axis=0), float(np.sum([t[1] for t in totals]))
+    load = np.sum([t[1] for t in totals], axis=0)
+    count = np.sum([t[2] for t in totals], axis=0)
+    if weight is not None and count.any() and not load.any():
+        raise InputError(f"weight column {weight!r} is zero in every row; at least one weight must be positive")
+    return load, count, math.fsum(t[3] for t in totals)
 
 
 def nearest_site(ddf: Any, sites: Any, *, x: str, y: str, weight: str | None = None) -> DistributedAllocation:
     """Allocate every row of a Dask DataFrame to its nearest site; loads reduced across partitions.
 
-    Each partition's loads and cost come from the kernel (a partition whose weights are all
-    zero is valid and adds nothing).
+    Each partition is allocated by one kernel call, which also gives its loads, counts and
+    cost. A partition whose weights are all zero is valid (it adds nothing to the loads and
+    the cost); a table whose weights are all zero is not.
 
     Parameters
     ----------
@@ -259,17 +376,27 @@ def nearest_site(ddf: Any, sites: Any, *, x: str, y: str, weight: str | None = N
     -------
     DistributedAllocation
 
+    Raises
+    ------
+    InputError
+        Naming the table's own index label for a bad coordinate or weight (on ``.compute()``).
+
     Examples
     --------
     >>> import pandas as pd, dask.dataframe as dd
     >>> import placewise.cluster as pc
-    >>> demand = dd.from_pandas(pd.DataFrame({"x": [0, 1, 9, 10.0], "y": [0, 0, 0, 0.0]}), npartitions=2)
-    >>> a = pc.nearest_site(demand, [[0, 0], [10, 0]], x="x", y="y")
-    >>> a.load.compute(scheduler="sync").tolist()
-    [2.0, 2.0]
+    >>> demand = dd.from_pandas(pd.DataFrame({"x": [0, 1, 9, 10.0], "y": [0, 0, 0, 0.0], "w": [0, 0, 1, 3.0]}),
+    ...                         npartitions=2)
+    >>> a = pc.nearest_site(demand, [[0, 0], [10, 0]], x="x", y="y", weight="w")   # partition 1: all zero
+    >>> a.load.compute(scheduler="sync").tolist(), a.cost.compute(scheduler="sync")
+    ([0.0, 4.0], 1.0)
+    >>> a.summary()
+       cost_u  load  count  sites
+    0     1.0   4.0      4      2
     """
     _require_dask()
     import dask
+    import dask.dataframe as dd
 
     site_array = np.ascontiguousarray(sites, dtype=np.float64)
     if site_array.ndim != 2 or site_array.shape[1] != 2 or len(site_array) == 0:
@@ -277,10 +404,12 @@ def nearest_site(ddf: Any, sites: Any, *, x: str, y: str, weight: str | None = N
     for column in [x, y] + ([weight] if weight else []):
         if column not in ddf.columns:
             raise InputError(f"column {column!r} not found; the frame has {list(ddf.columns)}")
+    distance = "distance_u"  # the table's coordinates are planar, in their own unit
     meta = ddf._meta.copy()
     meta["site"] = np.zeros(0, dtype=np.int64)
-    meta["distance_u"] = np.zeros(0)
-    frame = ddf.map_partitions(_allocate_partition, site_array, x, y, weight, meta=meta)
-    totals = [dask.delayed(_partition_totals)(part, site_array, x, y, weight) for part in ddf.to_delayed()]
-    reduced = dask.delayed(_reduce_totals)(totals)
-    return DistributedAllocation(frame, reduced[0], reduced[1])
+    meta[distance] = np.zeros(0)
+    solved = [dask.delayed(_allocate_partition)(part, site_array, x, y, weight, distance)
+              for part in ddf.to_delayed()]
+    frame = dd.from_delayed([part[0] for part in solved], meta=meta, divisions=ddf.divisions)
+    reduced = dask.delayed(_reduce_totals)(solved, weight)
+    return DistributedAllocation(frame, reduced[0], reduced[1], reduced[2], site_array)

@@ -68,7 +68,8 @@ fn monotone_chain(points: &[Point], mut order: Vec<usize>) -> Vec<usize> {
     let mut hull: Vec<usize> = Vec::with_capacity(2 * order.len().min(64));
     // Lower chain, left to right.
     for &i in &order {
-        while hull.len() >= 2 && orient2d(points[hull[hull.len() - 2]], points[hull[hull.len() - 1]], points[i]) <= 0.0 {
+        while hull.len() >= 2 && orient2d(points[hull[hull.len() - 2]], points[hull[hull.len() - 1]], points[i]) <= 0.0
+        {
             hull.pop();
         }
         hull.push(i);
@@ -94,16 +95,8 @@ const THINNING_MIN_POINTS: usize = 64;
 /// The input points extreme in the directions +x, +x+y, +y, −x+y, −x, −x−y, −y, +x−y
 /// (counter-clockwise), consecutive repeats removed.
 fn extreme_octagon(points: &[Point]) -> Vec<Point> {
-    let keys: [fn(Point) -> f64; 8] = [
-        |p| p[0],
-        |p| p[0] + p[1],
-        |p| p[1],
-        |p| p[1] - p[0],
-        |p| -p[0],
-        |p| -p[0] - p[1],
-        |p| -p[1],
-        |p| p[0] - p[1],
-    ];
+    let keys: [fn(Point) -> f64; 8] =
+        [|p| p[0], |p| p[0] + p[1], |p| p[1], |p| p[1] - p[0], |p| -p[0], |p| -p[0] - p[1], |p| -p[1], |p| p[0] - p[1]];
     let mut best = [0usize; 8];
     let mut value = [f64::NEG_INFINITY; 8];
     for (i, &p) in points.iter().enumerate() {
@@ -155,8 +148,7 @@ fn disk_inside(polygon: &[Point]) -> Option<(Point, f64)> {
 /// around it), so it is not a hull vertex of any set containing them; this holds whatever
 /// rounding did to the choice of extremes.
 fn strictly_inside(polygon: &[Point], p: Point) -> bool {
-    polygon.len() >= 3
-        && (0..polygon.len()).all(|k| orient2d(polygon[k], polygon[(k + 1) % polygon.len()], p) > 0.0)
+    polygon.len() >= 3 && (0..polygon.len()).all(|k| orient2d(polygon[k], polygon[(k + 1) % polygon.len()], p) > 0.0)
 }
 
 #[cfg(test)]
@@ -167,8 +159,16 @@ mod tests {
     fn square_with_interior_edge_and_repeated_points_gives_its_four_corners() {
         // Closed form: the hull of a square's corners, centre and edge midpoints is the square.
         let pts = [
-            [0.5, 0.5], [0.0, 0.0], [1.0, 0.0], [1.0, 1.0], [0.0, 1.0],
-            [0.5, 0.0], [1.0, 0.5], [0.0, 0.0], [0.0, 0.5], [0.5, 1.0],
+            [0.5, 0.5],
+            [0.0, 0.0],
+            [1.0, 0.0],
+            [1.0, 1.0],
+            [0.0, 1.0],
+            [0.5, 0.0],
+            [1.0, 0.5],
+            [0.0, 0.0],
+            [0.0, 0.5],
+            [0.5, 1.0],
         ];
         assert_eq!(hull_vertices(&pts), vec![1, 2, 3, 4]);
     }

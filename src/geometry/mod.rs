@@ -90,7 +90,6 @@ impl BoundingBox {
     pub fn diagonal(&self) -> f64 {
         distance(self.min, self.max)
     }
-
 }
 
 /// A power of two `f` such that `extent · f` lies in (0.5, 1], or 1 when `extent` is zero or

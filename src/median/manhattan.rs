@@ -24,10 +24,8 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>) -> WeberPoint {
 
 /// Midpoint of the interval of weighted medians of coordinate `axis`.
 pub fn weighted_median(points: &[Point], weights: Weights<'_>, axis: usize) -> f64 {
-    let mut items: Vec<(f64, f64)> = (0..points.len())
-        .map(|i| (points[i][axis], weights.get(i)))
-        .filter(|&(_, w)| w > 0.0)
-        .collect();
+    let mut items: Vec<(f64, f64)> =
+        (0..points.len()).map(|i| (points[i][axis], weights.get(i))).filter(|&(_, w)| w > 0.0).collect();
     if items.len() > 50_000 {
         items.par_sort_unstable_by(|a, b| a.0.total_cmp(&b.0));
     } else {

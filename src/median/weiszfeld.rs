@@ -128,7 +128,8 @@ impl Problem<'_> {
             }
             let a = sub(p, self.origin);
             let delta = sub(x, a);
-            let d = if self.squares_are_safe { (delta[0] * delta[0] + delta[1] * delta[1]).sqrt() } else { norm(delta) };
+            let d =
+                if self.squares_are_safe { (delta[0] * delta[0] + delta[1] * delta[1]).sqrt() } else { norm(delta) };
             if d == 0.0 {
                 pass.eta += w;
                 continue;
@@ -158,12 +159,8 @@ impl Problem<'_> {
         if self.points.len() < PARALLEL_MIN_POINTS {
             return self.pass_over(x, 0, self.points);
         }
-        let partials: Vec<Pass> = self
-            .points
-            .par_chunks(CHUNK)
-            .enumerate()
-            .map(|(c, chunk)| self.pass_over(x, c * CHUNK, chunk))
-            .collect();
+        let partials: Vec<Pass> =
+            self.points.par_chunks(CHUNK).enumerate().map(|(c, chunk)| self.pass_over(x, c * CHUNK, chunk)).collect();
         let mut total = Pass::empty();
         for partial in &partials {
             total.merge(partial);
@@ -184,8 +181,7 @@ impl Problem<'_> {
 /// smaller subgradient.
 fn progresses(new: &Pass, old: &Pass) -> bool {
     let (c_new, c_old) = (new.cost(), old.cost());
-    c_new < c_old
-        || (c_new <= c_old * (1.0 + ROUNDING_ALLOWANCE) && new.subgradient_norm() < old.subgradient_norm())
+    c_new < c_old || (c_new <= c_old * (1.0 + ROUNDING_ALLOWANCE) && new.subgradient_norm() < old.subgradient_norm())
 }
 
 /// Newton step on the smooth part, when the Hessian is safely positive definite and the
@@ -240,13 +236,8 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
             heaviest = i;
         }
     }
-    let problem = Problem {
-        points,
-        weights,
-        origin,
-        total_weight: total.total(),
-        squares_are_safe: bbox.diagonal() < 1e150,
-    };
+    let problem =
+        Problem { points, weights, origin, total_weight: total.total(), squares_are_safe: bbox.diagonal() < 1e150 };
     let finish = |x: Point, pass: &Pass, iterations: usize, converged: bool| WeberPoint {
         location: add(x, origin),
         cost: pass.cost(),
@@ -442,5 +433,4 @@ mod tests {
         assert_eq!(a, b);
         assert!(a.converged);
     }
-
 }

@@ -15,11 +15,7 @@ use crate::geometry::{distance, scale, sub, Point};
 ///
 /// # Errors
 /// A sentence naming the first broken invariant.
-pub fn check_steiner_tree(
-    points: &[Point],
-    tree: &SteinerTree,
-    angle_tol: f64,
-) -> std::result::Result<(), String> {
+pub fn check_steiner_tree(points: &[Point], tree: &SteinerTree, angle_tol: f64) -> std::result::Result<(), String> {
     let n = points.len();
     let m = n + tree.junctions.len();
     let node = |e: EdgeEnd| match e {
@@ -34,10 +30,7 @@ pub fn check_steiner_tree(
         }
     };
     if tree.edges.len() + 1 != m.max(1) || tree.edge_length.len() != tree.edges.len() {
-        return Err(format!(
-            "{} edges on {m} nodes is not a tree",
-            tree.edges.len()
-        ));
+        return Err(format!("{} edges on {m} nodes is not a tree", tree.edges.len()));
     }
     let mut sets = UnionFind::new(m);
     let mut adjacency = vec![Vec::new(); m];
@@ -47,9 +40,7 @@ pub fn check_steiner_tree(
             return Err(format!("edge {ea:?}-{eb:?} names a node beyond {m}"));
         }
         if ea > eb {
-            return Err(format!(
-                "edge {ea:?}-{eb:?} does not have its smaller end first"
-            ));
+            return Err(format!("edge {ea:?}-{eb:?} does not have its smaller end first"));
         }
         if tree.edge_length[k] != distance(at(a), at(b)) {
             return Err(format!(
@@ -81,31 +72,20 @@ pub fn check_steiner_tree(
         for (u, w) in [(a, b), (b, c), (c, a)] {
             let angle = angle_at([0.0, 0.0], towards(u), towards(w));
             if (angle - 2.0 * PI / 3.0).abs() > angle_tol {
-                return Err(format!(
-                    "junction {j} has an angle of {angle} rad between nodes {u} and {w}"
-                ));
+                return Err(format!("junction {j} has an angle of {angle} rad between nodes {u} and {w}"));
             }
         }
-        let shortest = [a, b, c]
-            .iter()
-            .map(|&u| distance(p, at(u)))
-            .fold(f64::INFINITY, f64::min);
+        let shortest = [a, b, c].iter().map(|&u| distance(p, at(u))).fold(f64::INFINITY, f64::min);
         if shortest == 0.0 {
             return Err(format!("junction {j} coincides with a neighbour"));
         }
     }
     let length = total_length(&tree.edge_length);
     if (length - tree.length).abs() > 1e-9 * length.max(f64::MIN_POSITIVE) {
-        return Err(format!(
-            "length {} differs from the edges' total {length}",
-            tree.length
-        ));
+        return Err(format!("length {} differs from the edges' total {length}", tree.length));
     }
     if tree.length > tree.mst_length * (1.0 + 1e-12) {
-        return Err(format!(
-            "length {} exceeds the MST length {}",
-            tree.length, tree.mst_length
-        ));
+        return Err(format!("length {} exceeds the MST length {}", tree.length, tree.mst_length));
     }
     Ok(())
 }

@@ -30,10 +30,7 @@ impl Distinct {
     /// location: [`location_key`]).
     pub(super) fn of(points: &[Point]) -> Distinct {
         let mut index: HashMap<(u64, u64), usize> = HashMap::with_capacity(points.len());
-        let mut distinct = Distinct {
-            points: Vec::new(),
-            rows: Vec::new(),
-        };
+        let mut distinct = Distinct { points: Vec::new(), rows: Vec::new() };
         for (row, &p) in points.iter().enumerate() {
             let k = *index.entry(location_key(p)).or_insert_with(|| {
                 distinct.points.push(p);
@@ -54,16 +51,9 @@ impl Distinct {
     /// The tree is longer than the optimum by at most the merged distances (1e-12 of the
     /// extent), which is below the solvers' own tolerances; without the merge a Steiner point
     /// could be left on top of two such terminals with four edges.
-    pub(super) fn merge_nearly_coincident(
-        &mut self,
-        local: &[Point],
-        mst_edges: &[[usize; 2]],
-    ) -> bool {
-        let close: Vec<[usize; 2]> = mst_edges
-            .iter()
-            .copied()
-            .filter(|&[a, b]| distance(local[a], local[b]) <= NEARLY_COINCIDENT)
-            .collect();
+    pub(super) fn merge_nearly_coincident(&mut self, local: &[Point], mst_edges: &[[usize; 2]]) -> bool {
+        let close: Vec<[usize; 2]> =
+            mst_edges.iter().copied().filter(|&[a, b]| distance(local[a], local[b]) <= NEARLY_COINCIDENT).collect();
         if close.is_empty() {
             return false;
         }
@@ -137,10 +127,7 @@ impl Distinct {
             edges.push([ea.min(eb), ea.max(eb)]);
         }
         for rows in &self.rows {
-            edges.extend(
-                rows.windows(2)
-                    .map(|w| [EdgeEnd::Row(w[0]), EdgeEnd::Row(w[1])]),
-            );
+            edges.extend(rows.windows(2).map(|w| [EdgeEnd::Row(w[0]), EdgeEnd::Row(w[1])]));
         }
         edges.sort_unstable();
         let at = |e: EdgeEnd| match e {
@@ -149,13 +136,6 @@ impl Distinct {
         };
         let edge_length: Vec<f64> = edges.iter().map(|&[a, b]| distance(at(a), at(b))).collect();
         let length = total_length(&edge_length);
-        SteinerTree {
-            junctions,
-            edges,
-            edge_length,
-            length,
-            mst_length,
-            optimal,
-        }
+        SteinerTree { junctions, edges, edge_length, length, mst_length, optimal }
     }
 }

@@ -47,16 +47,9 @@ pub struct SpanningTree {
 pub fn spanning_tree(points: &[Point]) -> Result<SpanningTree> {
     validate_points("points", points, 1)?;
     let edges = mst::mst_edges(points)?;
-    let edge_length: Vec<f64> = edges
-        .iter()
-        .map(|e| distance(points[e[0]], points[e[1]]))
-        .collect();
+    let edge_length: Vec<f64> = edges.iter().map(|e| distance(points[e[0]], points[e[1]])).collect();
     let length = total_length(&edge_length);
-    Ok(SpanningTree {
-        edges,
-        edge_length,
-        length,
-    })
+    Ok(SpanningTree { edges, edge_length, length })
 }
 
 /// [`spanning_tree`] of every group of a labelled cloud, in parallel (see [`crate::batch`]).
@@ -65,11 +58,7 @@ pub fn spanning_tree(points: &[Point]) -> Result<SpanningTree> {
 /// # Errors
 /// As [`spanning_tree`], and [`Error::LengthMismatch`] when `labels` does not have one
 /// entry per point; with [`OnGroupError::Skip`] a group's error is its outcome.
-pub fn spanning_trees(
-    points: &[Point],
-    labels: &[i64],
-    on_error: OnGroupError,
-) -> Result<Grouped<SpanningTree>> {
+pub fn spanning_trees(points: &[Point], labels: &[i64], on_error: OnGroupError) -> Result<Grouped<SpanningTree>> {
     run_grouped(points, Weights::Unit, labels, on_error, |group| {
         let mut tree = spanning_tree(group.points)?;
         for e in &mut tree.edges {
@@ -108,11 +97,7 @@ pub struct SteinerOptions {
 
 impl Default for SteinerOptions {
     fn default() -> Self {
-        SteinerOptions {
-            method: SteinerMethod::Auto,
-            seed: 0,
-            time_limit: None,
-        }
+        SteinerOptions { method: SteinerMethod::Auto, seed: 0, time_limit: None }
     }
 }
 

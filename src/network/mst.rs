@@ -59,17 +59,9 @@ pub(crate) fn kruskal(points: &[Point], candidates: Vec<[usize; 2]>) -> Vec<[usi
         ((distance_squared(points[e[0]], points[e[1]]).to_bits() as u128) << 64) | k as u128
     };
     let mut keyed: Vec<u128> = if candidates.len() > PARALLEL_SORT {
-        candidates
-            .par_iter()
-            .enumerate()
-            .map(|(k, e)| key(k, e))
-            .collect()
+        candidates.par_iter().enumerate().map(|(k, e)| key(k, e)).collect()
     } else {
-        candidates
-            .iter()
-            .enumerate()
-            .map(|(k, e)| key(k, e))
-            .collect()
+        candidates.iter().enumerate().map(|(k, e)| key(k, e)).collect()
     };
     if keyed.len() > PARALLEL_SORT {
         keyed.par_sort_unstable();
@@ -95,20 +87,10 @@ pub(crate) fn kruskal(points: &[Point], candidates: Vec<[usize; 2]>) -> Vec<[usi
 /// length.
 fn collinear_chain(points: &[Point]) -> Vec<[usize; 2]> {
     let mut order: Vec<usize> = (0..points.len()).collect();
-    order.sort_by(|&a, &b| {
-        points[a]
-            .partial_cmp(&points[b])
-            .expect("coordinates are finite")
-            .then(a.cmp(&b))
-    });
-    let mut edges: Vec<[usize; 2]> = order
-        .windows(2)
-        .map(|w| [w[0].min(w[1]), w[0].max(w[1])])
-        .collect();
+    order.sort_by(|&a, &b| points[a].partial_cmp(&points[b]).expect("coordinates are finite").then(a.cmp(&b)));
+    let mut edges: Vec<[usize; 2]> = order.windows(2).map(|w| [w[0].min(w[1]), w[0].max(w[1])]).collect();
     edges.sort_by(|a, b| {
-        distance(points[a[0]], points[a[1]])
-            .total_cmp(&distance(points[b[0]], points[b[1]]))
-            .then(a.cmp(b))
+        distance(points[a[0]], points[a[1]]).total_cmp(&distance(points[b[0]], points[b[1]])).then(a.cmp(b))
     });
     edges
 }
@@ -119,10 +101,7 @@ mod tests {
     use crate::network::union_find::UnionFind;
 
     fn total(points: &[Point], edges: &[[usize; 2]]) -> f64 {
-        edges
-            .iter()
-            .map(|e| distance(points[e[0]], points[e[1]]))
-            .sum()
+        edges.iter().map(|e| distance(points[e[0]], points[e[1]])).sum()
     }
 
     fn is_spanning_tree(n: usize, edges: &[[usize; 2]]) -> bool {
@@ -138,10 +117,7 @@ mod tests {
         best[0] = 0.0;
         let mut length = 0.0;
         for _ in 0..n {
-            let u = (0..n)
-                .filter(|&i| !done[i])
-                .min_by(|&a, &b| best[a].total_cmp(&best[b]))
-                .unwrap();
+            let u = (0..n).filter(|&i| !done[i]).min_by(|&a, &b| best[a].total_cmp(&best[b])).unwrap();
             done[u] = true;
             length += best[u];
             for v in 0..n {
@@ -158,9 +134,7 @@ mod tests {
         // Closed form: a k × k unit grid's MST is k² − 1 unit edges (every spanning tree of
         // the grid graph is one, and no two grid points are closer than 1).
         for k in [2usize, 3, 7] {
-            let pts: Vec<Point> = (0..k * k)
-                .map(|i| [(i % k) as f64, (i / k) as f64])
-                .collect();
+            let pts: Vec<Point> = (0..k * k).map(|i| [(i % k) as f64, (i / k) as f64]).collect();
             let edges = mst_edges(&pts).unwrap();
             assert!(is_spanning_tree(pts.len(), &edges));
             assert!((total(&pts, &edges) - (k * k - 1) as f64).abs() < 1e-12);
@@ -169,10 +143,7 @@ mod tests {
 
     #[test]
     fn collinear_duplicate_and_single_point_inputs() {
-        let line: Vec<Point> = [3.0, 0.0, 7.0, 1.0, 3.0]
-            .iter()
-            .map(|&x| [x, 2.0 * x])
-            .collect();
+        let line: Vec<Point> = [3.0, 0.0, 7.0, 1.0, 3.0].iter().map(|&x| [x, 2.0 * x]).collect();
         let edges = mst_edges(&line).unwrap();
         assert!(is_spanning_tree(5, &edges));
         // Closed form: a chain from x = 0 to x = 7 on y = 2x is 7·√5 long.

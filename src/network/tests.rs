@@ -13,17 +13,11 @@ fn uniform(n: usize, seed: u64) -> Vec<Point> {
 }
 
 fn exact() -> SteinerOptions {
-    SteinerOptions {
-        method: SteinerMethod::Exact,
-        ..SteinerOptions::default()
-    }
+    SteinerOptions { method: SteinerMethod::Exact, ..SteinerOptions::default() }
 }
 
 fn heuristic() -> SteinerOptions {
-    SteinerOptions {
-        method: SteinerMethod::Heuristic,
-        ..SteinerOptions::default()
-    }
+    SteinerOptions { method: SteinerMethod::Heuristic, ..SteinerOptions::default() }
 }
 
 #[test]
@@ -32,13 +26,7 @@ fn nearly_coincident_terminals_keep_the_invariants() {
     // once left a Steiner point of degree four on top of them; the invariants of a
     // Steiner tree (degree three at 120°, at most three edges per terminal) must hold.
     for far in [1.0, 6.0, 58.0] {
-        let pts = [
-            [0.0, 0.0],
-            [0.0, far],
-            [0.0, f64::EPSILON],
-            [1.0, 0.0],
-            [-4.0, 0.0],
-        ];
+        let pts = [[0.0, 0.0], [0.0, far], [0.0, f64::EPSILON], [1.0, 0.0], [-4.0, 0.0]];
         for options in [heuristic(), exact()] {
             let t = steiner_tree(&pts, &options).unwrap();
             check_steiner_tree(&pts, &t, 1e-6).unwrap();
@@ -53,14 +41,9 @@ fn closed_forms_square_triangle_hexagon() {
     // (Jarník and Kössler 1934).
     let square = [[0.0, 0.0], [1.0, 0.0], [1.0, 1.0], [0.0, 1.0]];
     let triangle = [[0.0, 0.0], [1.0, 0.0], [0.5, HALF_SQRT3]];
-    let hexagon: Vec<Point> = (0..6)
-        .map(|k| [(k as f64 * PI / 3.0).cos(), (k as f64 * PI / 3.0).sin()])
-        .collect();
+    let hexagon: Vec<Point> = (0..6).map(|k| [(k as f64 * PI / 3.0).cos(), (k as f64 * PI / 3.0).sin()]).collect();
     for method in [SteinerMethod::Exact, SteinerMethod::Heuristic] {
-        let o = SteinerOptions {
-            method,
-            ..SteinerOptions::default()
-        };
+        let o = SteinerOptions { method, ..SteinerOptions::default() };
         let t = steiner_tree(&square, &o).unwrap();
         check_steiner_tree(&square, &t, 1e-8).unwrap();
         assert!((t.length - (1.0 + 3f64.sqrt())).abs() < 1e-12);
@@ -107,11 +90,7 @@ fn twenty_uniform_terminals_are_solved_exactly() {
     // At most n − 2 junctions (Gilbert and Pollak 1968).
     assert!(e.junctions.len() <= 18);
     // Automatic choice is exact at this size.
-    assert!(
-        steiner_tree(&pts, &SteinerOptions::default())
-            .unwrap()
-            .optimal
-    );
+    assert!(steiner_tree(&pts, &SteinerOptions::default()).unwrap().optimal);
 }
 
 #[test]
@@ -127,9 +106,7 @@ fn repeated_locations_never_give_a_row_more_than_three_edges() {
     check_steiner_tree(&same, &t, 1e-6).unwrap();
     assert_eq!((t.length, t.saving()), (0.0, 0.0));
     // Repeats are chained row to row: 0–1, 1–2, 2–3, 3–4.
-    let chain: Vec<[EdgeEnd; 2]> = (0..4)
-        .map(|r| [EdgeEnd::Row(r), EdgeEnd::Row(r + 1)])
-        .collect();
+    let chain: Vec<[EdgeEnd; 2]> = (0..4).map(|r| [EdgeEnd::Row(r), EdgeEnd::Row(r + 1)]).collect();
     assert_eq!(t.edges, chain);
 }
 
@@ -145,44 +122,23 @@ fn far_offset_and_tiny_coordinates_use_the_working_frame() {
         let t = steiner_tree(&square, &exact()).unwrap();
         check_steiner_tree(&square, &t, 1e-6).unwrap();
         assert!((t.length / size - (1.0 + 3f64.sqrt())).abs() < 1e-9);
-        assert!(t
-            .junctions
-            .iter()
-            .all(|j| (j[0] - shift) / size > 0.0 && (j[0] - shift) / size < 1.0));
+        assert!(t.junctions.iter().all(|j| (j[0] - shift) / size > 0.0 && (j[0] - shift) / size < 1.0));
     }
 }
 
 #[test]
 fn parameters_and_groups() {
     let pts = uniform(70, 3);
-    assert!(matches!(
-        steiner_tree(&pts, &exact()),
-        Err(Error::InvalidParameter { name: "exact", .. })
-    ));
-    let bad = SteinerOptions {
-        time_limit: Some(-1.0),
-        ..SteinerOptions::default()
-    };
+    assert!(matches!(steiner_tree(&pts, &exact()), Err(Error::InvalidParameter { name: "exact", .. })));
+    let bad = SteinerOptions { time_limit: Some(-1.0), ..SteinerOptions::default() };
     let e = steiner_tree(&pts, &bad).unwrap_err();
-    assert_eq!(
-        e.to_string(),
-        "time_limit: must be finite and >= 0 seconds; got -1"
-    );
-    let rushed = SteinerOptions {
-        time_limit: Some(0.0),
-        ..exact()
-    };
+    assert_eq!(e.to_string(), "time_limit: must be finite and >= 0 seconds; got -1");
+    let rushed = SteinerOptions { time_limit: Some(0.0), ..exact() };
     let t = steiner_tree(&pts[..10], &rushed).unwrap();
     assert!(!t.optimal);
     check_steiner_tree(&pts[..10], &t, 1e-6).unwrap();
     let labels: Vec<i64> = (0..70).map(|i| (i % 3) as i64).collect();
-    let g = steiner_trees(
-        &pts,
-        &labels,
-        &SteinerOptions::default(),
-        OnGroupError::Raise,
-    )
-    .unwrap();
+    let g = steiner_trees(&pts, &labels, &SteinerOptions::default(), OnGroupError::Raise).unwrap();
     for (k, tree) in g.into_solved().unwrap().iter().enumerate() {
         let rows: Vec<usize> = (0..70).filter(|i| i % 3 == k).collect();
         let members: Vec<Point> = rows.iter().map(|&i| pts[i]).collect();
@@ -195,31 +151,20 @@ fn parameters_and_groups() {
         assert_eq!(tree, &single);
     }
     let s = spanning_trees(&pts, &labels, OnGroupError::Raise).unwrap();
-    assert!(s.into_solved().unwrap().iter().all(|t| t
-        .edges
+    assert!(s
+        .into_solved()
+        .unwrap()
         .iter()
-        .all(|e| labels[e[0]] == labels[e[1]] && e[0] < e[1])));
+        .all(|t| t.edges.iter().all(|e| labels[e[0]] == labels[e[1]] && e[0] < e[1])));
 }
 
 #[test]
 fn skipped_groups_keep_their_place() {
     // Group 4 holds a NaN at input row 2: with Skip it is kept as an error naming row 2;
     // the two-point group 1 gets one edge between its input rows, the one-point group 9 none.
-    let pts = [
-        [0.0, 0.0],
-        [5.0, 5.0],
-        [f64::NAN, 0.0],
-        [3.0, 4.0],
-        [1.0, 1.0],
-    ];
+    let pts = [[0.0, 0.0], [5.0, 5.0], [f64::NAN, 0.0], [3.0, 4.0], [1.0, 1.0]];
     let labels = [1, 9, 4, 1, 4];
-    let g = steiner_trees(
-        &pts,
-        &labels,
-        &SteinerOptions::default(),
-        OnGroupError::Skip,
-    )
-    .unwrap();
+    let g = steiner_trees(&pts, &labels, &SteinerOptions::default(), OnGroupError::Skip).unwrap();
     assert_eq!(g.labels, vec![1, 4, 9]);
     let one = g.results[0].as_ref().unwrap();
     assert_eq!(one.edges, vec![[EdgeEnd::Row(0), EdgeEnd::Row(3)]]);
@@ -238,10 +183,7 @@ mod properties {
     use proptest::prelude::*;
 
     fn terminals() -> impl Strategy<Value = Vec<Point>> {
-        prop::collection::vec(
-            (-1e3f64..1e3, -1e3f64..1e3).prop_map(|(x, y)| [x, y]),
-            2..40,
-        )
+        prop::collection::vec((-1e3f64..1e3, -1e3f64..1e3).prop_map(|(x, y)| [x, y]), 2..40)
     }
 
     proptest! {

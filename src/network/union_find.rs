@@ -11,14 +11,8 @@ pub struct UnionFind {
 impl UnionFind {
     /// `n` singleton sets.
     pub fn new(n: usize) -> UnionFind {
-        assert!(
-            n <= u32::MAX as usize,
-            "union-find supports at most 2^32 - 1 elements"
-        );
-        UnionFind {
-            parent: (0..n as u32).collect(),
-            size: vec![1; n],
-        }
+        assert!(n <= u32::MAX as usize, "union-find supports at most 2^32 - 1 elements");
+        UnionFind { parent: (0..n as u32).collect(), size: vec![1; n] }
     }
 
     /// The representative of `x`'s set.

@@ -5,7 +5,9 @@
 //! into a slice cannot fail. (Arrays unpickled from out-of-band buffers — as Dask workers
 //! receive them — can be contiguous yet unaligned; those are copied once.)
 
-use numpy::{Element, PyArray, PyArray1, PyArray2, PyArrayMethods, PyReadonlyArray1, PyReadonlyArray2, PyUntypedArrayMethods};
+use numpy::{
+    Element, PyArray, PyArray1, PyArray2, PyArrayMethods, PyReadonlyArray1, PyReadonlyArray2, PyUntypedArrayMethods,
+};
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
 
@@ -52,10 +54,9 @@ pub(crate) fn points_arg<'py>(obj: &Bound<'py, PyAny>, argument: &str) -> PyResu
     }
     match converted.cast_into::<PyArray2<f64>>() {
         Ok(array) if array.shape()[1] == 2 => Ok(array.readonly()),
-        Ok(array) => Err(input_error(format!(
-            "{argument} must have shape (n, 2); got shape {}",
-            shape_of(array.as_any())
-        ))),
+        Ok(array) => {
+            Err(input_error(format!("{argument} must have shape (n, 2); got shape {}", shape_of(array.as_any()))))
+        }
         Err(e) => Err(input_error(format!(
             "{argument} must have shape (n, 2); got shape {}",
             shape_of(e.into_inner().as_any())
@@ -160,9 +161,7 @@ fn type_name(obj: &Bound<'_, PyAny>) -> String {
 
 /// An integer argument within `[min, max]`.
 pub(crate) fn int_arg(obj: &Bound<'_, PyAny>, argument: &str, min: i64, max: i64) -> PyResult<i64> {
-    let is_bool = obj.is_instance_of::<pyo3::types::PyBool>()
-        || type_name(obj) == "bool_"
-        || type_name(obj) == "bool";
+    let is_bool = obj.is_instance_of::<pyo3::types::PyBool>() || type_name(obj) == "bool_" || type_name(obj) == "bool";
     let index = if is_bool { None } else { obj.call_method0("__index__").ok() };
     let Some(index) = index else {
         return Err(super::errors::argument_error(
@@ -175,7 +174,10 @@ pub(crate) fn int_arg(obj: &Bound<'_, PyAny>, argument: &str, min: i64, max: i64
         Some(v) if v >= min as i128 && v <= max as i128 => Ok(v as i64),
         _ => {
             let range = if max == i64::MAX { format!(">= {min}") } else { format!("from {min} to {max}") };
-            Err(super::errors::argument_error(argument, format!("{argument} must be an integer {range}; got {}", shown(obj))))
+            Err(super::errors::argument_error(
+                argument,
+                format!("{argument} must be an integer {range}; got {}", shown(obj)),
+            ))
         }
     }
 }
@@ -216,7 +218,9 @@ pub(crate) fn float_arg(
     };
     match value {
         Some(v) if accept(v) => Ok(v),
-        Some(_) => Err(super::errors::argument_error(argument, format!("{argument} must be {expected}; got {}", shown(obj)))),
+        Some(_) => {
+            Err(super::errors::argument_error(argument, format!("{argument} must be {expected}; got {}", shown(obj))))
+        }
         None => Err(super::errors::argument_error(
             argument,
             format!("{argument} must be a number ({expected}); got {} ({})", shown(obj), type_name(obj)),
@@ -242,9 +246,47 @@ pub(crate) fn on_error_arg(obj: &str) -> PyResult<crate::batch::OnGroupError> {
     match obj {
         "raise" => Ok(crate::batch::OnGroupError::Raise),
         "skip" => Ok(crate::batch::OnGroupError::Skip),
-        other => Err(super::errors::argument_error(
-            "errors",
-            format!("errors must be \"raise\" or \"skip\"; got {other:?}"),
-        )),
+        other => {
+            Err(super::errors::argument_error("errors", format!("errors must be \"raise\" or \"skip\"; got {other:?}")))
+        }
+    }
+}
+
+/// The point cloud of one call, converted once: points, optional weights and optional group
+/// labels, each named in its errors as the user named it.
+pub(crate) struct Cloud<'py> {
+    points: PyReadonlyArray2<'py, f64>,
+    weights: Option<PyReadonlyArray1<'py, f64>>,
+    labels: Option<PyReadonlyArray1<'py, i64>>,
+}
+
+impl<'py> Cloud<'py> {
+    /// Convert `points` (and `weights`, `groups` where given) as [`points_arg`],
+    /// [`weights_arg`] and [`labels_arg`] do.
+    pub(crate) fn read(
+        points: &Bound<'py, PyAny>,
+        weights: Option<&Bound<'py, PyAny>>,
+        groups: Option<&Bound<'py, PyAny>>,
+    ) -> PyResult<Cloud<'py>> {
+        Ok(Cloud {
+            points: points_arg(points, "points")?,
+            weights: weights_arg(weights, "weights")?,
+            labels: groups.map(|g| labels_arg(g, "groups")).transpose()?,
+        })
+    }
+
+    /// The points, borrowed.
+    pub(crate) fn points(&self) -> &[Point] {
+        as_point_slice(&self.points)
+    }
+
+    /// The weights, borrowed, or `None` for unit weights.
+    pub(crate) fn weights(&self) -> PyResult<Option<&[f64]>> {
+        Ok(self.weights.as_ref().map(|w| w.as_slice()).transpose()?)
+    }
+
+    /// The group labels, borrowed (empty when the call has none).
+    pub(crate) fn labels(&self) -> PyResult<&[i64]> {
+        Ok(self.labels.as_ref().map(|l| l.as_slice()).transpose()?.unwrap_or(&[]))
     }
 }

@@ -9,9 +9,9 @@ use numpy::{PyArray1, PyArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
 
-use super::convert::{as_point_slice, float_arg, index_array, index_values, on_error_arg, seed_arg};
+use super::convert::{as_point_slice, float_arg, index_array, index_values, on_error_arg, seed_arg, Cloud};
 use super::fields::Fields;
-use super::{labels_arg, points_arg, run_detached, weights_arg};
+use super::{points_arg, run_detached};
 use crate::batch::Grouped;
 use crate::enclose::{
     enclosing_circle_with, enclosing_circles, enclosing_ellipse, enclosing_ellipses, minimax_point, minimax_points,
@@ -84,10 +84,8 @@ fn enclosing_circle_grouped<'py>(
 ) -> PyResult<Bound<'py, PyDict>> {
     let options = circle_options(seed)?;
     let on_error = on_error_arg(errors)?;
-    let points = points_arg(points, "points")?;
-    let labels = labels_arg(groups, "groups")?;
-    let pts = as_point_slice(&points);
-    let l = labels.as_slice()?;
+    let cloud = Cloud::read(points, None, Some(groups))?;
+    let (pts, l) = (cloud.points(), cloud.labels()?);
     let g = run_detached(py, || enclosing_circles(pts, l, &options, on_error))?;
     Ok(grouped_support(py, &g, |c| &c.support)?
         .put("center", point_column(py, &g, |c| c.center)?)?
@@ -104,10 +102,8 @@ fn minimax_point_single<'py>(
     points: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
-    let points = points_arg(points, "points")?;
-    let weights = weights_arg(weights, "weights")?;
-    let pts = as_point_slice(&points);
-    let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
+    let cloud = Cloud::read(points, weights, None)?;
+    let (pts, w) = (cloud.points(), cloud.weights()?);
     let m = run_detached(py, || minimax_point(pts, Weights::from_option(w)))?;
     Ok(Fields::new(py)
         .put("location", PyArray1::from_slice(py, &m.location))?
@@ -128,12 +124,8 @@ fn minimax_point_grouped<'py>(
     errors: &str,
 ) -> PyResult<Bound<'py, PyDict>> {
     let on_error = on_error_arg(errors)?;
-    let points = points_arg(points, "points")?;
-    let weights = weights_arg(weights, "weights")?;
-    let labels = labels_arg(groups, "groups")?;
-    let pts = as_point_slice(&points);
-    let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
-    let l = labels.as_slice()?;
+    let cloud = Cloud::read(points, weights, Some(groups))?;
+    let (pts, w, l) = (cloud.points(), cloud.weights()?, cloud.labels()?);
     let g = run_detached(py, || minimax_points(pts, Weights::from_option(w), l, on_error))?;
     Ok(grouped_support(py, &g, |m| &m.support)?
         .put("location", point_column(py, &g, |m| m.location)?)?
@@ -183,10 +175,8 @@ fn enclosing_ellipse_grouped<'py>(
 ) -> PyResult<Bound<'py, PyDict>> {
     let tol = tol_arg(tol)?;
     let on_error = on_error_arg(errors)?;
-    let points = points_arg(points, "points")?;
-    let labels = labels_arg(groups, "groups")?;
-    let pts = as_point_slice(&points);
-    let l = labels.as_slice()?;
+    let cloud = Cloud::read(points, None, Some(groups))?;
+    let (pts, l) = (cloud.points(), cloud.labels()?);
     let g = run_detached(py, || enclosing_ellipses(pts, l, tol, on_error))?;
     let shape: Vec<f64> = g.column([[f64::NAN; 2]; 2], |e| e.shape).into_iter().flatten().flatten().collect();
     Ok(grouped_support(py, &g, |e| &e.support)?

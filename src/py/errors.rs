@@ -101,11 +101,7 @@ pub(super) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
 /// The exception for `error`, with its structured form attached.
 pub(crate) fn exception(py: Python<'_>, error: Error) -> PyErr {
     let message = error.to_string();
-    let err = if error.is_degenerate() {
-        DegenerateInputError::new_err(message)
-    } else {
-        InputError::new_err(message)
-    };
+    let err = if error.is_degenerate() { DegenerateInputError::new_err(message) } else { InputError::new_err(message) };
     let value = err.value(py);
     let attach = || -> PyResult<()> {
         value.setattr("argument", error.argument())?;

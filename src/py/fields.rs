@@ -37,4 +37,3 @@ impl<'py> Fields<'py> {
         self.dict
     }
 }
-

@@ -4,10 +4,10 @@ use numpy::{PyArray1, PyArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
 
-use super::convert::{as_point_slice, count_arg, float_arg, on_error_arg};
+use super::convert::{count_arg, float_arg, on_error_arg, Cloud};
 use super::errors::argument_error;
 use super::fields::Fields;
-use super::{labels_arg, points_arg, run_detached, weights_arg};
+use super::run_detached;
 use crate::geometry::Weights;
 use crate::median::{weber_point, weber_points, Metric, WeberOptions};
 
@@ -39,10 +39,8 @@ fn weber_point_single<'py>(
     max_iter: &Bound<'py, PyAny>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let options = options(metric, tol, max_iter)?;
-    let points = points_arg(points, "points")?;
-    let weights = weights_arg(weights, "weights")?;
-    let pts = as_point_slice(&points);
-    let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
+    let cloud = Cloud::read(points, weights, None)?;
+    let (pts, w) = (cloud.points(), cloud.weights()?);
     let r = run_detached(py, || weber_point(pts, Weights::from_option(w), &options))?;
     Ok(Fields::new(py)
         .put("location", PyArray1::from_slice(py, &r.location))?
@@ -70,12 +68,8 @@ fn weber_point_grouped<'py>(
 ) -> PyResult<Bound<'py, PyDict>> {
     let options = options(metric, tol, max_iter)?;
     let on_error = on_error_arg(errors)?;
-    let points = points_arg(points, "points")?;
-    let weights = weights_arg(weights, "weights")?;
-    let labels = labels_arg(groups, "groups")?;
-    let pts = as_point_slice(&points);
-    let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
-    let l = labels.as_slice()?;
+    let cloud = Cloud::read(points, weights, Some(groups))?;
+    let (pts, w, l) = (cloud.points(), cloud.weights()?, cloud.labels()?);
     let g = run_detached(py, || weber_points(pts, Weights::from_option(w), l, &options, on_error))?;
     let location: Vec<f64> = g.column([f64::NAN; 2], |r| r.location).into_iter().flatten().collect();
     Ok(Fields::new(py)
@@ -93,4 +87,3 @@ pub(super) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(weber_point_grouped, m)?)?;
     Ok(())
 }
-

@@ -4,7 +4,7 @@ use numpy::{PyArray1, PyArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
 
-use super::convert::{as_point_slice, count_arg, index_values, on_error_arg, seed_arg};
+use super::convert::{as_point_slice, count_arg, index_values, on_error_arg, seed_arg, Cloud};
 use super::errors::argument_error;
 use super::fields::Fields;
 use super::{labels_arg, points_arg, run_detached, weights_arg};
@@ -173,10 +173,8 @@ fn p_center_single<'py>(
 ) -> PyResult<Bound<'py, PyDict>> {
     let p = p_arg(p)?;
     let options = CenterOptions { seed: seed_arg(seed)?, ..CenterOptions::default() };
-    let points = points_arg(points, "points")?;
-    let weights = weights_arg(weights, "weights")?;
-    let pts = as_point_slice(&points);
-    let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
+    let cloud = Cloud::read(points, weights, None)?;
+    let (pts, w) = (cloud.points(), cloud.weights()?);
     let plan = run_detached(py, || p_center(pts, Weights::from_option(w), p, &options))?;
     let fields = Fields::new(py)
         .put("sites", points_array(py, plan.sites.iter().copied())?)?
@@ -204,12 +202,8 @@ fn p_center_grouped<'py>(
     let p = p_arg(p)?;
     let options = CenterOptions { seed: seed_arg(seed)?, ..CenterOptions::default() };
     let on_error = on_error_arg(errors)?;
-    let points = points_arg(points, "points")?;
-    let weights = weights_arg(weights, "weights")?;
-    let labels = labels_arg(groups, "groups")?;
-    let pts = as_point_slice(&points);
-    let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
-    let l = labels.as_slice()?;
+    let cloud = Cloud::read(points, weights, Some(groups))?;
+    let (pts, w, l) = (cloud.points(), cloud.weights()?, cloud.labels()?);
     let (g, places) = run_detached(py, || p_centers(pts, Weights::from_option(w), l, p, &options, on_error))?;
     let sites =
         points_array(py, g.results.iter().filter_map(|r| r.as_ref().ok()).flat_map(|r| r.sites.iter().copied()))?;

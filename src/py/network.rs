@@ -4,14 +4,13 @@ use numpy::{PyArray1, PyArray2, PyArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::{PyBool, PyDict, PyString};
 
-use super::convert::{as_point_slice, index_values, on_error_arg, optional_float_arg, seed_arg};
+use super::convert::{as_point_slice, index_values, on_error_arg, optional_float_arg, seed_arg, Cloud};
 use super::errors::argument_error;
 use super::fields::Fields;
-use super::{labels_arg, points_arg, run_detached};
+use super::{points_arg, run_detached};
 use crate::geometry::Point;
 use crate::network::{
-    spanning_tree, spanning_trees, steiner_tree, steiner_trees, EdgeEnd, SteinerMethod,
-    SteinerOptions,
+    spanning_tree, spanning_trees, steiner_tree, steiner_trees, EdgeEnd, SteinerMethod, SteinerOptions,
 };
 
 fn point_array<'py>(py: Python<'py>, points: &[Point]) -> PyResult<Bound<'py, PyArray2<f64>>> {
@@ -23,28 +22,13 @@ fn method_arg(exact: Option<&Bound<'_, PyAny>>) -> PyResult<SteinerMethod> {
     let Some(exact) = exact.filter(|e| !e.is_none()) else {
         return Ok(SteinerMethod::Auto);
     };
-    let type_name = exact
-        .get_type()
-        .name()
-        .map(|n| n.to_string())
-        .unwrap_or_default();
+    let type_name = exact.get_type().name().map(|n| n.to_string()).unwrap_or_default();
     if exact.is_instance_of::<PyBool>() || type_name == "bool" || type_name == "bool_" {
-        return Ok(if exact.is_truthy()? {
-            SteinerMethod::Exact
-        } else {
-            SteinerMethod::Heuristic
-        });
+        return Ok(if exact.is_truthy()? { SteinerMethod::Exact } else { SteinerMethod::Heuristic });
     }
     // str() prints numpy scalars as plain numbers; strings are quoted so they read as such.
-    let shown = if exact.is_instance_of::<PyString>() {
-        exact.repr()?
-    } else {
-        exact.str()?
-    };
-    Err(argument_error(
-        "exact",
-        format!("exact must be True, False or None; got {shown} ({type_name})"),
-    ))
+    let shown = if exact.is_instance_of::<PyString>() { exact.repr()? } else { exact.str()? };
+    Err(argument_error("exact", format!("exact must be True, False or None; got {shown} ({type_name})")))
 }
 
 fn options(
@@ -55,12 +39,9 @@ fn options(
     Ok(SteinerOptions {
         method: method_arg(exact)?,
         seed: seed_arg(seed)?,
-        time_limit: optional_float_arg(
-            time_limit,
-            "time_limit",
-            "finite and >= 0 (seconds)",
-            |t| t.is_finite() && t >= 0.0,
-        )?,
+        time_limit: optional_float_arg(time_limit, "time_limit", "finite and >= 0 (seconds)", |t| {
+            t.is_finite() && t >= 0.0
+        })?,
     })
 }
 
@@ -82,11 +63,7 @@ fn steiner_ends(edges: &[[EdgeEnd; 2]]) -> [Vec<i64>; 4] {
     columns
 }
 
-fn put_steiner_ends<'py>(
-    fields: Fields<'py>,
-    py: Python<'py>,
-    edges: &[[EdgeEnd; 2]],
-) -> PyResult<Fields<'py>> {
+fn put_steiner_ends<'py>(fields: Fields<'py>, py: Python<'py>, edges: &[[EdgeEnd; 2]]) -> PyResult<Fields<'py>> {
     let [end_a, end_b, junction_a, junction_b] = steiner_ends(edges);
     fields
         .put("end_a", PyArray1::from_vec(py, end_a))?
@@ -102,10 +79,7 @@ fn spanning_ends(edges: &[[usize; 2]]) -> (Vec<i64>, Vec<i64>) {
 /// Fields: end_a, end_b (E,) input rows (smaller first), edge_length (E,), length.
 #[pyfunction]
 #[pyo3(signature = (points))]
-fn spanning_tree_single<'py>(
-    py: Python<'py>,
-    points: &Bound<'py, PyAny>,
-) -> PyResult<Bound<'py, PyDict>> {
+fn spanning_tree_single<'py>(py: Python<'py>, points: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyDict>> {
     let points = points_arg(points, "points")?;
     let pts = as_point_slice(&points);
     let t = run_detached(py, || spanning_tree(pts))?;
@@ -129,27 +103,19 @@ fn spanning_tree_grouped<'py>(
     errors: &str,
 ) -> PyResult<Bound<'py, PyDict>> {
     let on_error = on_error_arg(errors)?;
-    let points = points_arg(points, "points")?;
-    let labels = labels_arg(groups, "groups")?;
-    let pts = as_point_slice(&points);
-    let l = labels.as_slice()?;
+    let cloud = Cloud::read(points, None, Some(groups))?;
+    let (pts, l) = (cloud.points(), cloud.labels()?);
     let g = run_detached(py, || spanning_trees(pts, l, on_error))?;
     let (offsets, edges) = g.csr(|t| t.edges.as_slice());
     let (_, edge_length) = g.csr(|t| t.edge_length.as_slice());
     let (end_a, end_b) = spanning_ends(&edges);
     Ok(Fields::new(py)
         .grouped(&g)?
-        .put(
-            "edge_offsets",
-            PyArray1::from_vec(py, index_values(offsets)),
-        )?
+        .put("edge_offsets", PyArray1::from_vec(py, index_values(offsets)))?
         .put("end_a", PyArray1::from_vec(py, end_a))?
         .put("end_b", PyArray1::from_vec(py, end_b))?
         .put("edge_length", PyArray1::from_vec(py, edge_length))?
-        .put(
-            "length",
-            PyArray1::from_vec(py, g.column(f64::NAN, |t| t.length)),
-        )?
+        .put("length", PyArray1::from_vec(py, g.column(f64::NAN, |t| t.length)))?
         .done())
 }
 
@@ -196,43 +162,23 @@ fn steiner_tree_grouped<'py>(
 ) -> PyResult<Bound<'py, PyDict>> {
     let options = options(exact, seed, time_limit)?;
     let on_error = on_error_arg(errors)?;
-    let points = points_arg(points, "points")?;
-    let labels = labels_arg(groups, "groups")?;
-    let pts = as_point_slice(&points);
-    let l = labels.as_slice()?;
+    let cloud = Cloud::read(points, None, Some(groups))?;
+    let (pts, l) = (cloud.points(), cloud.labels()?);
     let g = run_detached(py, || steiner_trees(pts, l, &options, on_error))?;
     let (junction_offsets, junctions) = g.csr(|t| t.junctions.as_slice());
     let (edge_offsets, edges) = g.csr(|t| t.edges.as_slice());
     let (_, edge_length) = g.csr(|t| t.edge_length.as_slice());
     let fields = Fields::new(py)
         .grouped(&g)?
-        .put(
-            "junction_offsets",
-            PyArray1::from_vec(py, index_values(junction_offsets)),
-        )?
+        .put("junction_offsets", PyArray1::from_vec(py, index_values(junction_offsets)))?
         .put("junctions", point_array(py, &junctions)?)?
-        .put(
-            "edge_offsets",
-            PyArray1::from_vec(py, index_values(edge_offsets)),
-        )?;
+        .put("edge_offsets", PyArray1::from_vec(py, index_values(edge_offsets)))?;
     Ok(put_steiner_ends(fields, py, &edges)?
         .put("edge_length", PyArray1::from_vec(py, edge_length))?
-        .put(
-            "length",
-            PyArray1::from_vec(py, g.column(f64::NAN, |t| t.length)),
-        )?
-        .put(
-            "mst_length",
-            PyArray1::from_vec(py, g.column(f64::NAN, |t| t.mst_length)),
-        )?
-        .put(
-            "saving",
-            PyArray1::from_vec(py, g.column(f64::NAN, |t| t.saving())),
-        )?
-        .put(
-            "optimal",
-            PyArray1::from_vec(py, g.column(false, |t| t.optimal)),
-        )?
+        .put("length", PyArray1::from_vec(py, g.column(f64::NAN, |t| t.length)))?
+        .put("mst_length", PyArray1::from_vec(py, g.column(f64::NAN, |t| t.mst_length)))?
+        .put("saving", PyArray1::from_vec(py, g.column(f64::NAN, |t| t.saving())))?
+        .put("optimal", PyArray1::from_vec(py, g.column(false, |t| t.optimal)))?
         .done())
 }
 

@@ -10,7 +10,7 @@ use pyo3::types::PyDict;
 
 use rayon::prelude::*;
 
-use super::convert::{as_point_slice, index_rows, index_values, on_error_arg};
+use super::convert::{as_point_slice, index_rows, index_values, on_error_arg, Cloud};
 use super::errors::input_error;
 use super::fields::Fields;
 use super::{labels_arg, points_arg, run_detached, weights_arg};
@@ -83,10 +83,8 @@ fn delaunay_grouped<'py>(
     errors: &str,
 ) -> PyResult<Bound<'py, PyDict>> {
     let on_error = on_error_arg(errors)?;
-    let points = points_arg(points, "points")?;
-    let labels = labels_arg(groups, "groups")?;
-    let pts = as_point_slice(&points);
-    let l = labels.as_slice()?;
+    let cloud = Cloud::read(points, None, Some(groups))?;
+    let (pts, l) = (cloud.points(), cloud.labels()?);
     let (g, places) = run_detached(py, || delaunay_groups(pts, l, on_error))?;
     let (triangle_offsets, corners) = g.csr(|t| t.triangles.as_slice());
     let (edge_offsets, edges) = g.csr(|t| t.edges.as_slice());

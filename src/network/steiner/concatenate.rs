@@ -19,24 +19,14 @@ use crate::network::union_find::UnionFind;
 
 /// The chosen FSTs (indices into `trees`) and whether their optimality is proven; `None`
 /// when the deadline passes or the solver fails before any tree is found.
-pub(crate) fn concatenate(
-    n: usize,
-    trees: &[FullTree],
-    deadline: Option<Instant>,
-) -> Option<(Vec<usize>, bool)> {
+pub(crate) fn concatenate(n: usize, trees: &[FullTree], deadline: Option<Instant>) -> Option<(Vec<usize>, bool)> {
     if n < 2 {
         return Some((Vec::new(), true));
     }
     let mut problem = Problem::new(OptimizationDirection::Minimize);
-    let vars: Vec<Variable> = trees
-        .iter()
-        .map(|t| problem.add_binary_var(t.length))
-        .collect();
-    let sizes: Vec<(Variable, f64)> = trees
-        .iter()
-        .zip(&vars)
-        .map(|(t, &v)| (v, (t.terminals.len() - 1) as f64))
-        .collect();
+    let vars: Vec<Variable> = trees.iter().map(|t| problem.add_binary_var(t.length)).collect();
+    let sizes: Vec<(Variable, f64)> =
+        trees.iter().zip(&vars).map(|(t, &v)| (v, (t.terminals.len() - 1) as f64)).collect();
     problem.add_constraint(sizes.as_slice(), ComparisonOp::Eq, (n - 1) as f64);
     let mut covering: Vec<Vec<(Variable, f64)>> = vec![Vec::new(); n];
     let mut pairs: HashMap<(usize, usize), Vec<(Variable, f64)>> = HashMap::new();
@@ -65,9 +55,7 @@ pub(crate) fn concatenate(
             problem.set_time_limit(d - now);
         }
         let solution = problem.solve().ok()?.into_solution().ok()?;
-        let chosen: Vec<usize> = (0..trees.len())
-            .filter(|&i| solution.var_value(vars[i]) > 0.5)
-            .collect();
+        let chosen: Vec<usize> = (0..trees.len()).filter(|&i| solution.var_value(vars[i]) > 0.5).collect();
         let proven = solution.status() == SolutionStatus::Optimal;
         let cuts = violated_components(n, trees, &chosen);
         if cuts.is_empty() {
@@ -106,19 +94,12 @@ fn violated_components(n: usize, trees: &[FullTree], chosen: &[usize]) -> Vec<Ve
     }
     for &i in chosen {
         let root = sets.find(trees[i].terminals[0]);
-        rank.get_mut(&root).expect("every root is counted").1 +=
-            trees[i].terminals.len() as i64 - 1;
+        rank.get_mut(&root).expect("every root is counted").1 += trees[i].terminals.len() as i64 - 1;
     }
-    let mut roots: Vec<usize> = rank
-        .iter()
-        .filter(|(_, &(size, used))| used > size as i64 - 1)
-        .map(|(&r, _)| r)
-        .collect();
+    let mut roots: Vec<usize> =
+        rank.iter().filter(|(_, &(size, used))| used > size as i64 - 1).map(|(&r, _)| r).collect();
     roots.sort_unstable();
-    roots
-        .into_iter()
-        .map(|r| (0..n).map(|u| sets.find(u) == r).collect())
-        .collect()
+    roots.into_iter().map(|r| (0..n).map(|u| sets.find(u) == r).collect()).collect()
 }
 
 #[cfg(test)]

@@ -87,10 +87,8 @@ impl Bottleneck {
             best[0] = 0.0;
         }
         for _ in 0..n {
-            let u = (0..n)
-                .filter(|&i| !done[i])
-                .min_by(|&a, &b| best[a].total_cmp(&best[b]))
-                .expect("a vertex is left");
+            let u =
+                (0..n).filter(|&i| !done[i]).min_by(|&a, &b| best[a].total_cmp(&best[b])).expect("a vertex is left");
             done[u] = true;
             if from[u] != usize::MAX {
                 let w = from[u];
@@ -146,10 +144,7 @@ fn prim_length(k: usize, weight: impl Fn(usize, usize) -> f64) -> f64 {
     best[0] = 0.0;
     let mut total = 0.0;
     for _ in 0..k {
-        let u = (0..k)
-            .filter(|&i| !done[i])
-            .min_by(|&a, &b| best[a].total_cmp(&best[b]))
-            .expect("a vertex is left");
+        let u = (0..k).filter(|&i| !done[i]).min_by(|&a, &b| best[a].total_cmp(&best[b])).expect("a vertex is left");
         done[u] = true;
         total += best[u];
         for v in 0..k {
@@ -243,13 +238,8 @@ fn generate(
     assert!(n <= 64, "exact Steiner trees are limited to 64 terminals");
     // A two-terminal FST of a Steiner minimum tree is an MST edge (it is no longer than its
     // bottleneck Steiner distance); the unpruned reference keeps every pair.
-    let pairs: Vec<[usize; 2]> = if prune {
-        bottleneck.mst.clone()
-    } else {
-        (0..n)
-            .flat_map(|u| (u + 1..n).map(move |v| [u, v]))
-            .collect()
-    };
+    let pairs: Vec<[usize; 2]> =
+        if prune { bottleneck.mst.clone() } else { (0..n).flat_map(|u| (u + 1..n).map(move |v| [u, v])).collect() };
     let mut trees: Vec<FullTree> = pairs
         .iter()
         .map(|&[u, v]| FullTree {
@@ -268,11 +258,7 @@ fn generate(
     // terminal 0 below it.
     for (t, &p) in points.iter().enumerate().skip(1) {
         by_size[1].push(items.len() as u32);
-        items.push(Item {
-            mask: 1u64 << t,
-            pos: p,
-            kind: Kind::Terminal(t),
-        });
+        items.push(Item { mask: 1u64 << t, pos: p, kind: Kind::Terminal(t) });
     }
     let mut steps = 0usize;
     let mut mst_of: HashMap<u64, f64> = HashMap::new();
@@ -280,11 +266,7 @@ fn generate(
     // (the largest bottleneck distance), and the child's own Steiner point is within its
     // farthest arc distance of its location: two items farther apart than twice that edge
     // plus their two reaches never pair up. Items are kept sorted by x to sweep for partners.
-    let longest = bottleneck
-        .mst
-        .iter()
-        .map(|&[u, v]| distance(points[u], points[v]))
-        .fold(0.0, f64::max);
+    let longest = bottleneck.mst.iter().map(|&[u, v]| distance(points[u], points[v])).fold(0.0, f64::max);
     let sort_by_x = |list: &mut Vec<u32>, items: &[Item]| {
         list.sort_by(|&a, &b| items[a as usize].pos[0].total_cmp(&items[b as usize].pos[0]))
     };
@@ -299,21 +281,11 @@ fn generate(
         let mut fresh = Vec::new();
         for i in 1..=k / 2 {
             let j = k - i;
-            let xs: Vec<f64> = by_size[j]
-                .iter()
-                .map(|&b| items[b as usize].pos[0])
-                .collect();
-            let widest = by_size[j]
-                .iter()
-                .map(|&b| reach(&items[b as usize]).1)
-                .fold(0.0, f64::max);
+            let xs: Vec<f64> = by_size[j].iter().map(|&b| items[b as usize].pos[0]).collect();
+            let widest = by_size[j].iter().map(|&b| reach(&items[b as usize]).1).fold(0.0, f64::max);
             for (a_pos, &a) in by_size[i].iter().enumerate() {
                 let (pa, far_a) = (items[a as usize].pos, reach(&items[a as usize]).1);
-                let window = if prune {
-                    2.0 * longest + far_a + widest + TOL
-                } else {
-                    f64::INFINITY
-                };
+                let window = if prune { 2.0 * longest + far_a + widest + TOL } else { f64::INFINITY };
                 let first = xs.partition_point(|&x| x < pa[0] - window);
                 let last = xs.partition_point(|&x| x <= pa[0] + window);
                 let first = if i == j { first.max(a_pos + 1) } else { first };
@@ -335,9 +307,7 @@ fn generate(
                         return None;
                     }
                     for (p, q) in [(a, b), (b, a)] {
-                        if let Some(item) =
-                            equilateral(&items, p, q, bottleneck, points, &mut mst_of, prune)
-                        {
+                        if let Some(item) = equilateral(&items, p, q, bottleneck, points, &mut mst_of, prune) {
                             fresh.push(item);
                         }
                     }
@@ -396,15 +366,7 @@ fn equilateral(
     let theta_q = dq[1].atan2(dq[0]);
     let (mut lo, mut hi) = (0.0f64, ARC);
     // From p the direction to the Steiner point turns counter-clockwise from p → q by u/2.
-    if let Kind::Equilateral {
-        centre: c,
-        radius: r,
-        theta_q: t,
-        lo: l,
-        hi: h,
-        ..
-    } = ip.kind
-    {
+    if let Kind::Equilateral { centre: c, radius: r, theta_q: t, lo: l, hi: h, .. } = ip.kind {
         let base = sub(qq, pp);
         let f0 = signed_angle(base, sub(Kind::arc_point(c, r, t, l), pp));
         let f1 = signed_angle(base, sub(Kind::arc_point(c, r, t, h), pp));
@@ -412,15 +374,7 @@ fn equilateral(
         hi = hi.min(2.0 * f0.max(f1));
     }
     // From q the direction turns clockwise from q → p by (2π/3 − u)/2.
-    if let Kind::Equilateral {
-        centre: c,
-        radius: r,
-        theta_q: t,
-        lo: l,
-        hi: h,
-        ..
-    } = iq.kind
-    {
+    if let Kind::Equilateral { centre: c, radius: r, theta_q: t, lo: l, hi: h, .. } = iq.kind {
         let base = sub(pp, qq);
         let g0 = -signed_angle(base, sub(Kind::arc_point(c, r, t, l), qq));
         let g1 = -signed_angle(base, sub(Kind::arc_point(c, r, t, h), qq));
@@ -442,14 +396,7 @@ fn equilateral(
     let item = |lo: f64, hi: f64| Item {
         mask,
         pos: e,
-        kind: Kind::Equilateral {
-            kids: [p, q],
-            centre,
-            radius,
-            theta_q,
-            lo,
-            hi,
-        },
+        kind: Kind::Equilateral { kids: [p, q], centre, radius, theta_q, lo, hi },
     };
     if !prune {
         return (hi - lo > ARC_TOL).then(|| item(lo, hi));
@@ -501,13 +448,9 @@ fn equilateral(
     // (each bottleneck edge is realised by an MST edge between two components), so in a
     // Steiner minimum tree |s − e| ≤ bsd-MST + min_z |s − z|. Both sides change by at most
     // `shift` over half a spacing.
-    let bsd_tree = *mst_of
-        .entry(mask)
-        .or_insert_with(|| bottleneck.mst_length(&bits(mask).collect::<Vec<_>>()));
+    let bsd_tree = *mst_of.entry(mask).or_insert_with(|| bottleneck.mst_length(&bits(mask).collect::<Vec<_>>()));
     let upper_bound_holds = |s: Point| {
-        let link = bits(mask)
-            .map(|v| distance(points[v], s))
-            .fold(f64::INFINITY, f64::min);
+        let link = bits(mask).map(|v| distance(points[v], s)).fold(f64::INFINITY, f64::min);
         distance(s, e) <= bsd_tree + link + 2.0 * shift + TOL
     };
     // Lune test on the edge from s to a terminal child t: a terminal z with |z − t| and
@@ -521,10 +464,7 @@ fn equilateral(
             };
             let pt = points[t];
             let l = distance(s, pt) - 2.0 * shift - TOL;
-            !points
-                .iter()
-                .enumerate()
-                .any(|(z, &pz)| z != t && distance(pz, s) < l && distance(pz, pt) < l)
+            !points.iter().enumerate().any(|(z, &pz)| z != t && distance(pz, s) < l && distance(pz, pt) < l)
         })
     };
     // Wedge property (Winter and Zachariasen 1997): the rest of the tree hangs from s by the
@@ -568,21 +508,12 @@ fn equilateral(
     // two sides, so it is at most `limit` in a Steiner minimum tree.
     let child_edges_hold = |s: Point| {
         [(ip, pp), (iq, qq)].iter().all(|&(child, at)| {
-            let Kind::Equilateral {
-                centre: c,
-                radius: r,
-                ..
-            } = child.kind
-            else {
+            let Kind::Equilateral { centre: c, radius: r, .. } = child.kind else {
                 return true;
             };
             let ray = sub(s, at);
             let psi = signed_angle(sub(c, at), ray).abs();
-            let chord = if psi - turn >= PI / 2.0 {
-                0.0
-            } else {
-                2.0 * r * (psi - turn).max(0.0).cos()
-            };
+            let chord = if psi - turn >= PI / 2.0 { 0.0 } else { 2.0 * r * (psi - turn).max(0.0).cos() };
             dot(ray, ray).sqrt() - shift - chord <= limit + TOL
         })
     };
@@ -591,14 +522,8 @@ fn equilateral(
         child_edges_hold(s) && upper_bound_holds(s) && lune_is_empty(s) && wedge_holds(s)
     };
     let first = (0..SAMPLES).find(|&k| passing(k))?;
-    let last = (first..SAMPLES)
-        .rev()
-        .find(|&k| passing(k))
-        .unwrap_or(first);
-    let (lo, hi) = (
-        lo.max(lo + step * (first as f64 - 0.5)),
-        hi.min(lo + step * (last as f64 + 0.5)),
-    );
+    let last = (first..SAMPLES).rev().find(|&k| passing(k)).unwrap_or(first);
+    let (lo, hi) = (lo.max(lo + step * (first as f64 - 0.5)), hi.min(lo + step * (last as f64 + 0.5)));
     Some(item(lo, hi))
 }
 
@@ -644,23 +569,14 @@ fn reach(item: &Item) -> (f64, f64) {
     // the antipode u = π/3.
     let at = |u: f64| 2.0 * radius * ((4.0 * PI / 3.0 - u) / 2.0).sin();
     let near = at(lo).min(at(hi));
-    let far = if lo <= PI / 3.0 && PI / 3.0 <= hi {
-        2.0 * radius
-    } else {
-        at(lo).max(at(hi))
-    };
+    let far = if lo <= PI / 3.0 && PI / 3.0 <= hi { 2.0 * radius } else { at(lo).max(at(hi)) };
     (near, far)
 }
 
 /// The FST rooted at terminal `root` through equilateral point `top`, when every Steiner
 /// point falls on its feasible arc.
 fn close(items: &[Item], top: usize, root: usize, points: &[Point]) -> Option<FullTree> {
-    let mut tree = FullTree {
-        terminals: vec![root],
-        steiner: Vec::new(),
-        edges: Vec::new(),
-        length: 0.0,
-    };
+    let mut tree = FullTree { terminals: vec![root], steiner: Vec::new(), edges: Vec::new(), length: 0.0 };
     let first = hit(&items[top], points[root])?;
     tree.steiner.push(first);
     tree.edges.push([End::Terminal(root), End::Steiner(0)]);
@@ -706,14 +622,7 @@ fn close(items: &[Item], top: usize, root: usize, points: &[Point]) -> Option<Fu
 /// The Steiner point where the line from `from` to the equilateral point `item` meets
 /// `item`'s circle, when it lies on the feasible arc.
 fn hit(item: &Item, from: Point) -> Option<Point> {
-    let Kind::Equilateral {
-        centre,
-        theta_q,
-        lo,
-        hi,
-        ..
-    } = item.kind
-    else {
+    let Kind::Equilateral { centre, theta_q, lo, hi, .. } = item.kind else {
         return None;
     };
     let s = super::simpson_hit(item.pos, from, centre)?;
@@ -738,9 +647,7 @@ fn passes_tests(tree: &FullTree, points: &[Point], bottleneck: &Bottleneck) -> b
     for &[a, b] in &tree.edges {
         let (pa, pb) = (at(a), at(b));
         let l = distance(pa, pb) - TOL;
-        let is_end = |z: usize| {
-            matches!(a, End::Terminal(t) if t == z) || matches!(b, End::Terminal(t) if t == z)
-        };
+        let is_end = |z: usize| matches!(a, End::Terminal(t) if t == z) || matches!(b, End::Terminal(t) if t == z);
         for (z, &pz) in points.iter().enumerate() {
             if !is_end(z) && distance(pz, pa) < l && distance(pz, pb) < l {
                 return false;
@@ -838,8 +745,7 @@ mod pruning_properties {
 
     /// Length of the concatenation of `trees` on `n` terminals, proven optimal.
     fn concatenated_length(n: usize, trees: &[FullTree]) -> f64 {
-        let (chosen, proven) =
-            crate::network::steiner::concatenate::concatenate(n, trees, None).unwrap();
+        let (chosen, proven) = crate::network::steiner::concatenate::concatenate(n, trees, None).unwrap();
         assert!(proven);
         chosen.iter().map(|&i| trees[i].length).sum()
     }
@@ -849,16 +755,10 @@ mod pruning_properties {
         let b = Bottleneck::new(points);
         let pruned = full_steiner_trees(points, &b, None).unwrap();
         let every = generate(points, &b, None, false).unwrap();
-        let (short, reference) = (
-            concatenated_length(points.len(), &pruned),
-            concatenated_length(points.len(), &every),
-        );
+        let (short, reference) =
+            (concatenated_length(points.len(), &pruned), concatenated_length(points.len(), &every));
         if pruned.len() > every.len() || (short - reference).abs() > 1e-9 * reference {
-            return Err(format!(
-                "{} pruned FSTs give {short}, all {} give {reference}",
-                pruned.len(),
-                every.len()
-            ));
+            return Err(format!("{} pruned FSTs give {short}, all {} give {reference}", pruned.len(), every.len()));
         }
         Ok(())
     }

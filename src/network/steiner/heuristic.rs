@@ -29,11 +29,7 @@ const ROUND_ITERATIONS: usize = 40;
 ///
 /// `seed` orders insertions of equal gain (a fixed seed gives a fixed tree).
 pub(crate) fn heuristic(terminals: &[Point], mst: Vec<[usize; 2]>, seed: u64) -> Network {
-    let mut net = Network {
-        nodes: terminals.to_vec(),
-        terminal_count: terminals.len(),
-        edges: mst,
-    };
+    let mut net = Network { nodes: terminals.to_vec(), terminal_count: terminals.len(), edges: mst };
     let mut length = net.length();
     for _ in 0..MAX_ROUNDS {
         let Ok(triangulation) = delaunay(&net.nodes) else {
@@ -48,11 +44,7 @@ pub(crate) fn heuristic(terminals: &[Point], mst: Vec<[usize; 2]>, seed: u64) ->
                 continue;
             }
             let star = distance(f, pa) + distance(f, pb) + distance(f, pc);
-            let mut paths = [
-                lifting.query(a, b),
-                lifting.query(b, c),
-                lifting.query(c, a),
-            ];
+            let mut paths = [lifting.query(a, b), lifting.query(b, c), lifting.query(c, a)];
             paths.sort_by(|x, y| y.0.total_cmp(&x.0));
             let gain = paths[0].0 + paths[2].0 - star;
             if gain > 1e-12 {
@@ -75,10 +67,7 @@ pub(crate) fn heuristic(terminals: &[Point], mst: Vec<[usize; 2]>, seed: u64) ->
         let mut edge_freed = vec![false; net.edges.len()];
         let mut graph = net.edges.clone();
         for (_, f, corners, freed) in candidates {
-            if corners.iter().any(|&v| corner_used[v])
-                || freed.iter().any(|&e| edge_freed[e])
-                || freed[0] == freed[1]
-            {
+            if corners.iter().any(|&v| corner_used[v]) || freed.iter().any(|&e| edge_freed[e]) || freed[0] == freed[1] {
                 continue;
             }
             corners.iter().for_each(|&v| corner_used[v] = true);
@@ -211,11 +200,7 @@ mod tests {
     fn path_maxima_match_a_walk_along_the_path() {
         // A path 0-1-2-3-4 with lengths 1, 3, 2, 0.5.
         let nodes = vec![[0.0, 0.0], [1.0, 0.0], [1.0, 3.0], [3.0, 3.0], [3.0, 3.5]];
-        let net = Network {
-            nodes,
-            terminal_count: 5,
-            edges: vec![[0, 1], [1, 2], [2, 3], [3, 4]],
-        };
+        let net = Network { nodes, terminal_count: 5, edges: vec![[0, 1], [1, 2], [2, 3], [3, 4]] };
         let pm = PathMaxima::new(&net);
         assert_eq!(pm.query(0, 4), (3.0, 1));
         assert_eq!(pm.query(3, 4), (0.5, 3));
@@ -227,11 +212,7 @@ mod tests {
         // Closed form: 1 + √3 with two Steiner points.
         let pts = [[-0.5, -0.5], [0.5, -0.5], [0.5, 0.5], [-0.5, 0.5]];
         let net = heuristic(&pts, mst_edges(&pts).unwrap(), 0);
-        assert!(
-            (net.length() - (1.0 + 3f64.sqrt())).abs() < 1e-9,
-            "{}",
-            net.length()
-        );
+        assert!((net.length() - (1.0 + 3f64.sqrt())).abs() < 1e-9, "{}", net.length());
         assert_eq!(net.nodes.len(), 6);
     }
 }

@@ -65,13 +65,7 @@ impl Network {
 #[inline]
 pub(crate) fn equilateral_point(p: Point, q: Point) -> Point {
     let d = sub(q, p);
-    add(
-        p,
-        [
-            0.5 * d[0] + HALF_SQRT3 * d[1],
-            -HALF_SQRT3 * d[0] + 0.5 * d[1],
-        ],
-    )
+    add(p, [0.5 * d[0] + HALF_SQRT3 * d[1], -HALF_SQRT3 * d[0] + 0.5 * d[1]])
 }
 
 /// Cross product `a × b` (the z-component), a magnitude for angle computations; signs
@@ -100,11 +94,7 @@ pub(crate) fn fermat_point(a: Point, b: Point, c: Point) -> Point {
         }
     }
     // Orient b → c so that the equilateral point falls on the side away from a.
-    let (p, q) = if crate::geometry::predicates::orient2d(b, c, a) > 0.0 {
-        (b, c)
-    } else {
-        (c, b)
-    };
+    let (p, q) = if crate::geometry::predicates::orient2d(b, c, a) > 0.0 { (b, c) } else { (c, b) };
     let e = equilateral_point(p, q);
     let centre = scale(add(add(p, q), e), 1.0 / 3.0);
     simpson_hit(e, a, centre).unwrap_or(centre)

@@ -88,11 +88,7 @@ pub(crate) fn optimise_positions(net: &mut Network, max_iter: usize) -> usize {
             }
         }
         for &s in &order {
-            let x = if parent[s] == usize::MAX {
-                a[s]
-            } else {
-                add(a[s], scale(net.nodes[parent[s]], b[s]))
-            };
+            let x = if parent[s] == usize::MAX { a[s] } else { add(a[s], scale(net.nodes[parent[s]], b[s])) };
             net.nodes[s] = x;
         }
     }
@@ -259,9 +255,7 @@ pub(crate) fn drop_thin_steiner_points(net: &mut Network) -> bool {
     let t = net.terminal_count;
     let mut adjacency: Vec<Vec<usize>> = net.adjacency();
     let mut removed = vec![false; net.nodes.len()];
-    let mut queue: Vec<usize> = (t..net.nodes.len())
-        .filter(|&s| adjacency[s].len() <= 2)
-        .collect();
+    let mut queue: Vec<usize> = (t..net.nodes.len()).filter(|&s| adjacency[s].len() <= 2).collect();
     let mut changed = false;
     while let Some(s) = queue.pop() {
         if removed[s] || adjacency[s].len() > 2 {
@@ -405,11 +399,7 @@ mod tests {
         };
         settle(&mut net, 50, 5_000);
         assert_eq!(net.nodes.len(), 6);
-        assert!(
-            (net.length() - (1.0 + 3f64.sqrt())).abs() < 1e-9,
-            "{}",
-            net.length()
-        );
+        assert!((net.length() - (1.0 + 3f64.sqrt())).abs() < 1e-9, "{}", net.length());
     }
 
     #[test]

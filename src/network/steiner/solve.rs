@@ -15,17 +15,9 @@ use crate::network::{SteinerMethod, SteinerOptions, AUTO_BUDGET, AUTO_EXACT_TERM
 
 /// Solve on distinct terminals `local` in the working frame, given their minimum spanning
 /// tree: the tree and whether it is proven optimal.
-pub(crate) fn solve_distinct(
-    local: &[Point],
-    mst_edges: Vec<[usize; 2]>,
-    options: &SteinerOptions,
-) -> (Network, bool) {
+pub(crate) fn solve_distinct(local: &[Point], mst_edges: Vec<[usize; 2]>, options: &SteinerOptions) -> (Network, bool) {
     let n = local.len();
-    let chain = |edges: Vec<[usize; 2]>| Network {
-        nodes: local.to_vec(),
-        terminal_count: n,
-        edges,
-    };
+    let chain = |edges: Vec<[usize; 2]>| Network { nodes: local.to_vec(), terminal_count: n, edges };
     if n < 3 || all_collinear(local) {
         // A Steiner point would need an angle below 120° between terminals; on a line there is none.
         return (chain(mst_edges), true);
@@ -36,9 +28,7 @@ pub(crate) fn solve_distinct(
         SteinerMethod::Auto => n <= AUTO_EXACT_TERMINALS,
     };
     if exact {
-        let budget = options
-            .time_limit
-            .or((options.method == SteinerMethod::Auto).then_some(AUTO_BUDGET));
+        let budget = options.time_limit.or((options.method == SteinerMethod::Auto).then_some(AUTO_BUDGET));
         let deadline = budget.map(|s| Instant::now() + Duration::from_secs_f64(s.min(1e9)));
         let bottleneck = fst::Bottleneck::new(local);
         if let Some(trees) = fst::full_steiner_trees(local, &bottleneck, deadline) {
@@ -62,11 +52,7 @@ pub(crate) fn solve_distinct(
 /// The tree made of the chosen full Steiner trees.
 fn assemble(local: &[Point], trees: &[fst::FullTree], chosen: &[usize]) -> Network {
     use fst::End;
-    let mut net = Network {
-        nodes: local.to_vec(),
-        terminal_count: local.len(),
-        edges: Vec::new(),
-    };
+    let mut net = Network { nodes: local.to_vec(), terminal_count: local.len(), edges: Vec::new() };
     for &i in chosen {
         let base = net.nodes.len();
         net.nodes.extend_from_slice(&trees[i].steiner);
@@ -74,8 +60,7 @@ fn assemble(local: &[Point], trees: &[fst::FullTree], chosen: &[usize]) -> Netwo
             End::Terminal(t) => t,
             End::Steiner(k) => base + k,
         };
-        net.edges
-            .extend(trees[i].edges.iter().map(|&[a, b]| [node(a), node(b)]));
+        net.edges.extend(trees[i].edges.iter().map(|&[a, b]| [node(a), node(b)]));
     }
     net
 }
