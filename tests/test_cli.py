@@ -23,9 +23,8 @@ from scipy.sparse.csgraph import minimum_spanning_tree  # noqa: E402
 from scipy.spatial import cKDTree  # noqa: E402
 from scipy.spatial.distance import cdist  # noqa: E402
 
-from placewise.cli import main  # noqa: E402
-
 from hostile import BAD_WEIGHTS  # noqa: E402
+from placewise.cli import main  # noqa: E402
 
 RNG = np.random.default_rng(7)
 XY = RNG.normal(size=(120, 2)) * [2000.0, 1200.0] + [500_000.0, 6_600_000.0]

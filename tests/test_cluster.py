@@ -254,7 +254,8 @@ def test_nearest_site_matches_ckdtree_with_an_all_zero_partition(client, table):
     ddf = dd.from_pandas(ordered, npartitions=3)
     assert not ddf.partitions[0]["people"].compute().any()
     result = pc.nearest_site(ddf, SITES, x="east", y="north", weight="people")
-    frame, load, count, cost = dask.compute(result.frame, result.load, result.count, result.cost)
+    frame = result.frame.compute()
+    load, count, cost = dask.compute(result.load, result.count, result.cost)
     xy, w = ordered[["east", "north"]].to_numpy(), ordered["people"].to_numpy()
     d, i = cKDTree(SITES).query(xy)  # scipy reference
     np.testing.assert_array_equal(frame.loc[ordered.index, "site"].to_numpy(), i)

@@ -352,8 +352,13 @@ ONE_CALL = {
 @pytest.mark.parametrize("kernel", list(ONE_CALL))
 def test_a_grouped_call_crosses_into_rust_once(kernel, crossings):
     frame = three_hundred_groups()
-    ONE_CALL[kernel](frame)
+    out = ONE_CALL[kernel](frame)
     assert crossings == [f"{kernel}_grouped"]
+    # Every table the user receives: groups by the user's values, totals as columns.
+    tables = list(out) if isinstance(out, tuple) else [out]
+    for table in tables:
+        no_shadowing(table)
+        assert set(table["g"]) == set(range(300))
 
 
 def test_grouped_nearest_site_crosses_into_rust_once(crossings):

@@ -269,7 +269,8 @@ def _cmd_enclosing_circle(args: argparse.Namespace) -> None:
     out = gis.enclosing_circle(read_points(args.input, args), **_by(args), **_common(args))
     write_frame(out, args.output, args)
     radius, unit = _measure(out, "radius")
-    _note(args, f"{_solved(out)} circle(s); largest radius {out[radius].max():.6g} {_unit_text(unit)}{_skipped(args, out)}")
+    _note(args, f"{_solved(out)} circle(s); largest radius {out[radius].max():.6g} {_unit_text(unit)}"
+                f"{_skipped(args, out)}")
 
 
 def _cmd_enclosing_ellipse(args: argparse.Namespace) -> None:

@@ -100,14 +100,14 @@ def _labelled(column: Any, labels: np.ndarray) -> np.ndarray:
     return named
 
 
-def _site_numbers(result: Any) -> np.ndarray:
-    """Each row of ``result.sites_frame()`` as its site's number within its group (0, 1, ...).
+def _site_numbers(site_group: np.ndarray) -> np.ndarray:
+    """Each row of a plan's sites table as its site's number within its group (0, 1, ...),
+    from the rows' group labels (sorted: the table lists the groups in label order).
 
-    The sites table lists the groups in label order; a site's row there is what
-    ``to_frame()["assignment"]`` holds, a position that means nothing outside one partition.
+    A site's row in that table is what ``to_frame()["assignment"]`` holds: a position that
+    means nothing outside one partition, while (group, number) does.
     """
-    group = result.sites_frame()["group"].to_numpy()
-    return np.arange(len(group)) - np.searchsorted(group, group, side="left")
+    return np.arange(len(site_group)) - np.searchsorted(site_group, site_group, side="left")
 
 
 def _solve(part: Any, kernel: str, x: str, y: str, weight: str | None, by: str, table: str, errors: str,
@@ -140,12 +140,12 @@ def _solve(part: Any, kernel: str, x: str, y: str, weight: str | None, by: str, 
         if name in frame.columns:
             frame[name] = _labelled(frame[name], labels)
     if kernel in _PLANS and table == "sites":
-        number = _site_numbers(result)
+        number = _site_numbers(code)
         frame.insert(1, "site", np.where(frame["problem"].isna().to_numpy(), number, -1))
     elif kernel in _PLANS and table == "frame":
         # One row per input row: indexed by the table's labels; the serving site by its
         # number within the group (the ``site`` column of ``table="sites"``), -1 for none.
-        number = _site_numbers(result)
+        number = _site_numbers(result.sites_frame()["group"].to_numpy())
         at = frame["assignment"].to_numpy(dtype=np.int64)
         frame["assignment"] = np.where(at >= 0, number[np.maximum(at, 0)], -1)
         frame.index = part.index
@@ -155,7 +155,7 @@ def _solve(part: Any, kernel: str, x: str, y: str, weight: str | None, by: str, 
 def _meta_frame(ddf: Any, kernel: str, weighted: bool, by: str, table: str, options: dict[str, Any]) -> Any:
     """The output's columns and dtypes, from the kernel run on a small group of our own.
 
-    The group has ``p`` points more than the five of a kite (no three on a line), so every
+    The group has ``p`` points more than five fixed ones (no three on a line), so every
     kernel finds an answer for valid options; invalid options fail here, naming the option.
     """
     import pandas as pd
@@ -165,8 +165,8 @@ def _meta_frame(ddf: Any, kernel: str, weighted: bool, by: str, table: str, opti
     turn = np.arange(extra) * 2.399963  # golden-angle spiral: distinct points, none repeated
     x = np.r_[0.0, 1.0, 1.0, 0.0, 0.5, 3 + np.sqrt(turn + 1) * np.cos(turn)]
     y = np.r_[0.0, 0.0, 1.0, 1.5, 0.4, 3 + np.sqrt(turn + 1) * np.sin(turn)]
-    kite = pd.DataFrame({"x": x, "y": y, "w": 1.0, "g": 0})
-    frame = _solve(kite, kernel, "x", "y", "w" if weighted else None, "g", table, "raise", options)
+    small = pd.DataFrame({"x": x, "y": y, "w": 1.0, "g": 0})
+    frame = _solve(small, kernel, "x", "y", "w" if weighted else None, "g", table, "raise", options)
     frame = frame.rename(columns={"g": by}).iloc[:0]
     frame[by] = pd.Series(pd.array([], dtype=ddf._meta[by].dtype))
     frame["problem"] = frame["problem"].astype(object)
@@ -267,8 +267,7 @@ class DistributedAllocation(Result):
     """Nearest-site allocation of a distributed table.
 
     Every partition is allocated by one kernel call, which gives both its rows and its
-    totals; compute ``frame`` and the totals together (``dask.compute(a.frame, a.load)``)
-    to allocate each partition once.
+    totals (loads, counts and cost come from the kernel, summed across partitions).
 
     Attributes
     ----------
