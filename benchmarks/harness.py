@@ -10,7 +10,8 @@ from __future__ import annotations
 import dataclasses
 import gc
 import time
-from typing import Any, Callable
+from collections.abc import Callable
+from typing import Any
 
 
 @dataclasses.dataclass

@@ -44,7 +44,8 @@ print(json.dumps({"extra": peak - before, "output": output}))
 
 
 def measure(points: int, sites: int) -> dict[str, float]:
-    out = subprocess.run([sys.executable, "-c", CHILD, str(points), str(sites)], check=True, capture_output=True, text=True)
+    out = subprocess.run([sys.executable, "-c", CHILD, str(points), str(sites)],
+                         check=True, capture_output=True, text=True)
     figures = json.loads(out.stdout.strip().splitlines()[-1])
     figures["ratio"] = figures["extra"] / figures["output"]
     return figures

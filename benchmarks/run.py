@@ -45,7 +45,8 @@ def main(argv: list[str] | None = None) -> int:
     families = [f for f in args.only.split(",") if f and f != "memory"] or _families()
 
     print(f"machine: {platform.machine()}, {os.cpu_count()} cores, Python {platform.python_version()}")
-    header = f"| {'kernel':<34} | {'size':<22} | {'placewise':>10} | {'reference':>10} | {'ratio':>8} | {'target':>7} | {'met':<3} | note"
+    header = (f"| {'kernel':<34} | {'size':<22} | {'placewise':>10} | {'reference':>10} | {'ratio':>8} "
+              f"| {'target':>7} | {'met':<3} | note")
     print(header)
     print("|" + "|".join("-" * (len(c) + 0) for c in header.split("|")[1:-1]) + "|---")
     failures = 0
@@ -67,7 +68,8 @@ def main(argv: list[str] | None = None) -> int:
             print(
                 f"| {case.kernel:<34} | {case.size:<22} | {_fmt(ours_t):>10} | {ref_label:>10} | "
                 f"{(f'{ratio:.1f}x' if ratio is not None else '-'):>8} | "
-                f"{(f'{case.target:g}x' if case.target else '-'):>7} | {met:<3} | {case.reference_name}{'; ' + note if note else ''}",
+                f"{(f'{case.target:g}x' if case.target else '-'):>7} | {met:<3} | "
+                f"{case.reference_name}{'; ' + note if note else ''}",
                 flush=True,
             )
     print(f"targets missed: {failures}")

@@ -491,7 +491,7 @@ mod tests {
         assert_eq!(g.labels, vec![1, 3, 4]);
         assert_eq!(g.results[1], Ok((vec![0, 2], vec![0, 2])));
         // Label 1 has points but no sites; label 4 has a site (row 1, infinite) but no points.
-        assert_eq!(g.results[0].as_ref().unwrap_err().to_string(), "group 1: sites must hold at least 1 points; got 0");
+        assert_eq!(g.results[0].as_ref().unwrap_err().to_string(), "group 1: sites must hold at least 1 point; got 0");
         assert_eq!(
             g.results[2].as_ref().unwrap_err().to_string(),
             "group 4: sites[1] has an infinite (+inf) coordinate; every coordinate must be finite"

@@ -170,7 +170,9 @@ impl Error {
                 format!("{argument} must have one entry per point ({expected}); got {got}")
             }
             Error::TooFewPoints { argument, needed, got, counted } => {
-                format!("{argument} must hold at least {needed} {counted}; got {got}")
+                // "at least 1 point", "at least 3 distinct points".
+                let noun = if *needed == 1 { counted.strip_suffix('s').unwrap_or(counted) } else { counted };
+                format!("{argument} must hold at least {needed} {noun}; got {got}")
             }
             Error::Degenerate { argument, reason } => format!("{argument}: {reason}"),
             Error::RepeatedPoint { argument, row, first } => format!(

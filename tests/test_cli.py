@@ -105,7 +105,7 @@ def test_output_formats_by_extension_read_back(csv_path, tmp_path, capsys, suffi
     back = pd.read_csv(out_path) if suffix == ".csv" else (
         gpd.read_file(out_path) if suffix == ".geojson" else gpd.read_parquet(out_path))
     assert back["zone"].tolist() == ["a", "b", "c"]
-    assert back["count"].tolist() == [int((G == z).sum()) for z in "abc"]
+    assert back["points"].tolist() == [int((G == z).sum()) for z in "abc"]
     for zone, cost in zip(back["zone"], back["cost_m"]):
         m = G == zone
         assert cost == pytest.approx(weber_cost_scipy(XY[m], W[m]), rel=1e-7)  # scipy per group
@@ -327,7 +327,7 @@ def test_nearest_site_files_keep_loads_and_totals(csv_path, tmp_path, capsys):
     np.testing.assert_allclose(assigned["distance_m"], d, rtol=1e-12)
     loads = gpd.read_file(tmp_path / "loads.geojson")
     np.testing.assert_allclose(loads["load"], np.bincount(i, weights=W, minlength=3), rtol=1e-12)
-    assert loads["count"].tolist() == np.bincount(i, minlength=3).tolist()
+    assert loads["points"].tolist() == np.bincount(i, minlength=3).tolist()
     summary = pd.read_csv(tmp_path / "summary.csv")
     assert summary["cost_m"].iloc[0] == pytest.approx(float(W @ d), rel=1e-12)
     assert summary["load"].iloc[0] == pytest.approx(W.sum())

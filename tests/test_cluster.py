@@ -265,7 +265,7 @@ def test_nearest_site_matches_ckdtree_with_an_all_zero_partition(client, table):
     assert cost == pytest.approx(float(w @ d), rel=1e-12)
     summary = result.summary()
     assert summary["cost_u"].iloc[0] == pytest.approx(float(w @ d), rel=1e-12)
-    assert summary["load"].iloc[0] == pytest.approx(w.sum()) and summary["count"].iloc[0] == len(xy)
+    assert summary["load"].iloc[0] == pytest.approx(w.sum()) and summary["points"].iloc[0] == len(xy)
     assert result.sites_frame()["load"].to_numpy() == pytest.approx(np.bincount(i, weights=w, minlength=3))
 
 

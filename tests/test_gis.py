@@ -93,7 +93,7 @@ def no_shadowing(frame) -> None:
     served); every other column must read back as a column with ``frame.<name>``.
     """
     geometry = frame.geometry.name if isinstance(frame, gpd.GeoDataFrame) else None
-    shadowing = {c for c in frame.columns if c != geometry and hasattr(gpd.GeoDataFrame, str(c))} - {"count"}
+    shadowing = {c for c in frame.columns if c != geometry and hasattr(gpd.GeoDataFrame, str(c))}
     assert shadowing == set(), shadowing
     assert not {"area", "length", "distance", "index", "crs"} & set(frame.columns)
     assert frame.attrs == {}
@@ -135,7 +135,7 @@ def test_geographic_input_is_solved_in_metres_and_returned_in_its_crs():
     # Outside check: pyproj's UTM zone and projection, then scipy.optimize on the objective.
     assert out["cost_m"].iloc[0] == pytest.approx(weber_cost_scipy(metric_xy(frame), frame["people"].to_numpy()),
                                                   rel=1e-7)
-    assert out["count"].iloc[0] == len(frame)
+    assert out["points"].iloc[0] == len(frame)
     # The site comes back in degrees: projected by pyproj to UTM it is the reported x, y.
     site = out.geometry.iloc[0]
     x, y = pyproj.Transformer.from_crs(frame.crs, utm_of(frame), always_xy=True).transform(site.x, site.y)
@@ -305,7 +305,7 @@ def test_groups_are_sorted_by_value_and_each_matches_scipy():
     frame = lonlat_frame(n=400)
     out = gis.weber_point(frame, "people", by="zone")
     assert out["zone"].tolist() == ["east", "north", "south"]
-    assert out["count"].tolist() == [int((frame["zone"] == z).sum()) for z in ["east", "north", "south"]]
+    assert out["points"].tolist() == [int((frame["zone"] == z).sum()) for z in ["east", "north", "south"]]
     assert out["problem"].isna().all()
     xy = metric_xy(frame)  # pyproj; one working CRS for the whole frame
     for zone, cost in zip(out["zone"], out["cost_m"]):
@@ -396,7 +396,7 @@ def test_a_degenerate_group_fails_the_run_by_default_naming_it():
 def test_skip_keeps_a_degenerate_group_as_a_row_with_its_problem(tmp_path):
     out = gis.enclosing_ellipse(ellipse_frame(), by="site", tol=1e-10, errors="skip")
     assert out["site"].tolist() == ["box", "lonely"]
-    assert out["count"].tolist() == [4, 1]
+    assert out["points"].tolist() == [4, 1]
     assert pd.isna(out["problem"].iloc[0])
     assert out["problem"].iloc[1].startswith("group 'lonely': ")
     # Closed form: the minimum-area ellipse of an a x b rectangle has semi-axes a/sqrt2, b/sqrt2.
@@ -434,7 +434,7 @@ def test_one_point_groups_are_answers_not_problems():
     net = gis.spanning_tree(frame, by="g")
     assert net.edges[["g", "end_a", "end_b"]].values.tolist() == [[1, "p", "q"]]
     assert net.summary["length_m"].tolist() == pytest.approx([5.0, 0.0])
-    assert net.summary["count"].tolist() == [2, 1]
+    assert net.summary["points"].tolist() == [2, 1]
 
 
 # ---------------------------------------------------------------- enclosing shapes
@@ -512,7 +512,7 @@ def test_voronoi_cells_tile_a_region_with_a_hole_and_carry_loads():
     nearest = cKDTree(shapely.get_coordinates(sites.geometry.values)).query(
         shapely.get_coordinates(demand.geometry.values))[1]
     np.testing.assert_allclose(cells["load"], np.bincount(nearest, weights=demand["w"], minlength=4), rtol=1e-12)
-    assert cells["count"].tolist() == np.bincount(nearest, minlength=4).tolist()
+    assert cells["points"].tolist() == np.bincount(nearest, minlength=4).tolist()
 
 
 def test_voronoi_region_in_another_crs_is_projected():
@@ -577,7 +577,7 @@ def test_nearest_site_by_group_serves_each_group_from_its_own_sites():
         assert row["cost_m"] == pytest.approx(float(mine["w"] @ d), rel=1e-12)
     # A site whose group has no demand keeps its row and serves nobody.
     assert plan.sites.index.tolist() == sites.index.tolist()
-    assert plan.sites.loc["g1", "load"] == 0 and plan.sites.loc["g1", "count"] == 0
+    assert plan.sites.loc["g1", "load"] == 0 and plan.sites.loc["g1", "points"] == 0
 
 
 def test_nearest_site_demand_group_without_sites_is_a_problem_in_user_terms():
@@ -746,7 +746,7 @@ def test_plan_files_keep_totals_and_units(tmp_path):
     demand = gpd.read_file(tmp_path / "demand.geojson")
     summary = pd.read_csv(tmp_path / "summary.csv")
     assert sites.crs == frame.crs and demand.crs == frame.crs
-    assert {"cost_m", "load", "count", "sites"} <= set(summary.columns)
+    assert {"cost_m", "load", "points", "sites"} <= set(summary.columns)
     xy = metric_xy(frame)
     site_xy = shapely.get_coordinates(sites.to_crs(utm_of(frame)).geometry.values)
     for zone, row in summary.set_index("zone").iterrows():

@@ -28,7 +28,8 @@ def scipy_weber(points: np.ndarray, weights: np.ndarray) -> tuple[np.ndarray, fl
     local = points - origin
     start = np.average(local, axis=0, weights=weights)
     f = lambda x: objective(local, weights, x)  # noqa: E731
-    best = scipy.optimize.minimize(f, start, method="Nelder-Mead", options={"xatol": 1e-12, "fatol": 1e-14, "maxiter": 20_000})
+    best = scipy.optimize.minimize(f, start, method="Nelder-Mead",
+                                   options={"xatol": 1e-12, "fatol": 1e-14, "maxiter": 20_000})
     polished = scipy.optimize.minimize(f, best.x, method="Powell", options={"xtol": 1e-12, "ftol": 1e-15})
     x = polished.x if polished.fun < best.fun else best.x
     return x + origin, f(x)
@@ -52,7 +53,8 @@ def test_cost_not_above_scipy_minimize(name: str, offset: float, weight_kind: st
     pts = rng.normal(size=(n, 2)) * [300.0, 120.0] + [500_000.0, offset]
     if name == "clustered_heavy_tail":
         pts[: n // 2] += 2_000.0
-    w = {"unit": np.ones(n), "lognormal": rng.lognormal(sigma=1.5, size=n), "pareto": rng.pareto(1.2, size=n) + 0.01}[weight_kind]
+    w = {"unit": np.ones(n), "lognormal": rng.lognormal(sigma=1.5, size=n),
+         "pareto": rng.pareto(1.2, size=n) + 0.01}[weight_kind]
     ours = pw.weber_point(pts, w)
     assert ours.converged
     _, ref_cost = scipy_weber(pts, w)

@@ -497,17 +497,17 @@ def test_median_tables_match_attributes_and_numpy_distances() -> None:
     np.testing.assert_allclose(frame["distance_u"], by_numpy, rtol=1e-12, atol=1e-12)
 
     sites = plan.sites_frame()
-    assert list(sites.columns) == ["x", "y", "load", "count", "fixed"]
+    assert list(sites.columns) == ["x", "y", "load", "points", "fixed"]
     np.testing.assert_array_equal(sites[["x", "y"]].to_numpy(), every)
     np.testing.assert_array_equal(sites["fixed"], [False] * 3 + [True] * 2)
     np.testing.assert_allclose(sites["load"], np.bincount(plan.assignment, weights=w, minlength=5), rtol=1e-12)
-    np.testing.assert_array_equal(sites["count"], np.bincount(plan.assignment, minlength=5))
+    np.testing.assert_array_equal(sites["points"], np.bincount(plan.assignment, minlength=5))
 
     summary = plan.summary()
-    assert list(summary.columns) == ["cost_u", "sites", "load", "count", "iterations"]
+    assert list(summary.columns) == ["cost_u", "sites", "load", "points", "iterations"]
     row = summary.iloc[0]
     assert row["cost_u"] == plan.cost == pytest.approx(float(np.sum(w * by_numpy)), rel=1e-12)
-    assert (row["sites"], row["count"], row["iterations"]) == (5, 120, plan.iterations)
+    assert (row["sites"], row["points"], row["iterations"]) == (5, 120, plan.iterations)
     assert row["load"] == plan.total_load == pytest.approx(float(w.sum()), rel=1e-12)
 
 
@@ -528,10 +528,10 @@ def test_center_tables_match_attributes_and_numpy_distances() -> None:
     np.testing.assert_array_equal(sites[["x", "y"]].to_numpy(), plan.sites)
     assert not sites["fixed"].any()
     np.testing.assert_allclose(sites["load"], np.bincount(plan.assignment, weights=w, minlength=4), rtol=1e-12)
-    np.testing.assert_array_equal(sites["count"], np.bincount(plan.assignment, minlength=4))
+    np.testing.assert_array_equal(sites["points"], np.bincount(plan.assignment, minlength=4))
     summary = plan.summary()
     assert list(summary.columns) == [
-        "weighted_radius_u", "radius_u", "optimal", "sites", "load", "count", "iterations",
+        "weighted_radius_u", "radius_u", "optimal", "sites", "load", "points", "iterations",
     ]
     assert summary["weighted_radius_u"].iloc[0] == plan.weighted_radius
     assert summary["radius_u"].iloc[0] == plan.radius
@@ -562,7 +562,7 @@ def test_degenerate_one_point_plans() -> None:
         plan = solver([[3.0, -1.0]], 1)
         np.testing.assert_array_equal(plan.sites, [[3.0, -1.0]])
         np.testing.assert_array_equal(plan.to_frame()["distance_u"], [0.0])
-        assert plan.sites_frame()["count"].tolist() == [1]
+        assert plan.sites_frame()["points"].tolist() == [1]
 
 
 # --- grouped -------------------------------------------------------------------------------------
@@ -608,7 +608,7 @@ def test_grouped_tables_follow_input_rows_and_sites_frame_rows() -> None:
     np.testing.assert_array_equal(sites["group"].to_numpy()[frame["assignment"].to_numpy()], groups)
     summary = plans.summary()
     assert summary["group"].tolist() == [-4, 2, 9]
-    np.testing.assert_array_equal(summary["count"], [np.sum(groups == g) for g in (-4, 2, 9)])
+    np.testing.assert_array_equal(summary["points"], [np.sum(groups == g) for g in (-4, 2, 9)])
     np.testing.assert_array_equal(summary["sites"], [2, 2, 2])
     np.testing.assert_allclose(
         summary["cost_u"], [float(frame["distance_u"][groups == g].sum()) for g in (-4, 2, 9)], rtol=1e-12

@@ -656,14 +656,14 @@ def test_allocation_frames_match_attributes_and_ckdtree() -> None:
     gdf = a.to_geodataframe()
     np.testing.assert_array_equal(shapely.get_coordinates(gdf.geometry.values), pts)
     site_frame = a.sites_frame()
-    assert list(site_frame.columns) == ["x", "y", "load", "count"]
+    assert list(site_frame.columns) == ["x", "y", "load", "points"]
     np.testing.assert_allclose(site_frame["load"], np.bincount(index, weights=w, minlength=12), rtol=1e-12)
-    np.testing.assert_array_equal(site_frame["count"], np.bincount(index, minlength=12))
+    np.testing.assert_array_equal(site_frame["points"], np.bincount(index, minlength=12))
     summary = a.summary()
-    assert list(summary.columns) == ["cost_u", "load", "count", "sites"] and len(summary) == 1
+    assert list(summary.columns) == ["cost_u", "load", "points", "sites"] and len(summary) == 1
     assert summary["cost_u"][0] == pytest.approx(float(np.sum(w * dist)), rel=1e-12)
     assert summary["load"][0] == pytest.approx(float(w.sum()), rel=1e-12)
-    assert (summary["count"][0], summary["sites"][0]) == (3000, 12)
+    assert (summary["points"][0], summary["sites"][0]) == (3000, 12)
 
 
 # --- grouped forms -----------------------------------------------------------------------------
@@ -791,7 +791,7 @@ def test_grouped_nearest_site_equals_separate_calls_and_brute_force(sites, pts) 
     for g, label in enumerate(out.labels):
         rows, site_rows = np.flatnonzero(groups == label), np.flatnonzero(site_groups == label)
         if len(site_rows) == 0:
-            assert out.problem[g] == f"group {label}: sites must hold at least 1 points; got 0"
+            assert out.problem[g] == f"group {label}: sites must hold at least 1 point; got 0"
             assert np.isnan(out.cost[g]) and np.all(out.assignment[rows] == -1)
             continue
         if len(rows) == 0:
@@ -820,7 +820,7 @@ def test_grouped_nearest_site_frames_and_problems() -> None:
     sites = np.array([[1.0, 0.0], [11.0, 0.0], [0.0, 0.0], [7.0, 7.0]])
     out = pw.nearest_site(pts, sites, groups=[1, 1, 2, 4], site_groups=[1, 2, 1, 9], errors="skip")
     assert out.labels.tolist() == [1, 2, 4, 9]
-    assert out.problem.tolist() == [None, None, "group 4: sites must hold at least 1 points; got 0", None]
+    assert out.problem.tolist() == [None, None, "group 4: sites must hold at least 1 point; got 0", None]
     frame = out.to_frame()
     # One row per input point, in input order.
     assert frame["group"].tolist() == [1, 1, 2, 4]
@@ -830,9 +830,9 @@ def test_grouped_nearest_site_frames_and_problems() -> None:
     sites_frame = out.sites_frame()
     assert sites_frame["group"].tolist() == [1, 2, 1, 9]
     np.testing.assert_array_equal(sites_frame["load"], [1.0, 1.0, 1.0, 0.0])
-    assert sites_frame["count"].tolist() == [1, 1, 1, 0]
+    assert sites_frame["points"].tolist() == [1, 1, 1, 0]
     summary = out.summary()
-    assert summary["count"].tolist() == [2, 1, 1, 0] and summary["sites"].tolist() == [2, 1, 0, 1]
+    assert summary["points"].tolist() == [2, 1, 1, 0] and summary["sites"].tolist() == [2, 1, 0, 1]
     np.testing.assert_array_equal(summary["cost_u"], [2.0, 1.0, np.nan, 0.0])
     assert out[9].assignment.tolist() == [] and out[9].load.tolist() == [0.0]
     with pytest.raises(pw.InputError, match="group 4: sites must hold"):

@@ -89,7 +89,8 @@ def test_skipped_groups_keep_their_place_with_the_reason() -> None:
     pts = np.array([[0.0, 0.0], [2.0, 0.0], [5.0, 5.0], [np.nan, 1.0]])
     result = pw.weber_point(pts, [1, 1, 1, 1], groups=[4, 4, 5, 6], errors="skip")
     assert len(result) == 3 and result.labels.tolist() == [4, 5, 6]
-    assert result.problem.tolist() == [None, None, "group 6: points[3] has a NaN coordinate; every coordinate must be finite"]
+    nan_row = "group 6: points[3] has a NaN coordinate; every coordinate must be finite"
+    assert result.problem.tolist() == [None, None, nan_row]
     frame = result.to_frame()
     assert frame["problem"].notna().tolist() == [False, False, True]
     # The solved groups equal separate calls (closed form: two points' median is anywhere

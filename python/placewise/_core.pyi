@@ -2,7 +2,6 @@
 # kept beside the others in the order of src/py/mod.rs.
 from typing import Any, TypeAlias, final
 
-import numpy as np
 from numpy.typing import ArrayLike
 
 __version__: str
@@ -35,7 +34,9 @@ def set_threads(threads: Any) -> None: ...
 def thread_count() -> int: ...
 
 # --- median (src/py/median.rs) ---
-def weber_point_single(points: ArrayLike, weights: ArrayLike | None, metric: str, tol: Any, max_iter: Any) -> _Fields: ...
+def weber_point_single(
+    points: ArrayLike, weights: ArrayLike | None, metric: str, tol: Any, max_iter: Any
+) -> _Fields: ...
 def weber_point_grouped(
     points: ArrayLike, weights: ArrayLike | None, groups: ArrayLike, metric: str, tol: Any, max_iter: Any, errors: str
 ) -> _Fields: ...

@@ -10,7 +10,8 @@ names (one message layout, built by the kernel's own error description), and
 
 from __future__ import annotations
 
-from typing import Any, Callable, Mapping
+from collections.abc import Callable, Mapping
+from typing import Any
 
 import numpy as np
 

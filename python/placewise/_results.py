@@ -23,7 +23,8 @@ Column names never shadow a GeoDataFrame member (no bare ``area``, ``length`` or
 from __future__ import annotations
 
 import dataclasses
-from typing import Any, Iterator
+from collections.abc import Iterator
+from typing import Any
 
 import numpy as np
 

@@ -462,10 +462,11 @@ def build_parser() -> argparse.ArgumentParser:
     p = command("voronoi-cells", _cmd_voronoi_cells, "catchments: each site's Voronoi cell clipped to a region",
                 [weight])
     p.add_argument("--region", metavar="FILE", help="polygons of the study region (default: sites' box + 10%%)")
-    p.add_argument("--demand", metavar="FILE", help="demand points; adds each cell's load and count")
+    p.add_argument("--demand", metavar="FILE", help="demand points; adds each cell's load and number of demand points")
     p = command("nearest-site", _cmd_nearest_site, "assign every point to its nearest site", [weight, summary])
     p.add_argument("--sites", metavar="FILE", required=True, help="the sites to assign to")
-    p.add_argument("--site-loads", metavar="FILE", help="also write the sites with their load and count")
+    p.add_argument("--site-loads", metavar="FILE",
+                   help="also write the sites with their load and number of demand points")
     command("spanning-tree", _cmd_spanning_tree, "the Euclidean minimum spanning tree linking the points",
             [by, summary])
     p = command("steiner-tree", _cmd_steiner_tree,

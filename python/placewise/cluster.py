@@ -283,8 +283,8 @@ class DistributedAllocation(Result):
     sites : ndarray, shape (k, 2)
         The sites.
 
-    ``sites_frame()`` (``x``, ``y``, ``load``, ``count`` per site) and ``summary()``
-    (``cost_u``, ``load``, ``count``, ``sites``) compute the totals; ``to_frame()`` computes
+    ``sites_frame()`` (``x``, ``y``, ``load``, ``points`` per site) and ``summary()``
+    (``cost_u``, ``load``, ``points``, ``sites``) compute the totals; ``to_frame()`` computes
     ``frame``.
     """
 
@@ -299,20 +299,20 @@ class DistributedAllocation(Result):
         return self.frame.compute()
 
     def sites_frame(self) -> Any:
-        """One row per site: ``x``, ``y``, ``load``, ``count`` (computed)."""
+        """One row per site: ``x``, ``y``, ``load``, ``points`` (computed)."""
         import dask
         import pandas as pd
 
         load, count = dask.compute(self.load, self.count)
-        return pd.DataFrame({"x": self.sites[:, 0], "y": self.sites[:, 1], "load": load, "count": count})
+        return pd.DataFrame({"x": self.sites[:, 0], "y": self.sites[:, 1], "load": load, "points": count})
 
     def summary(self) -> Any:
-        """One row: ``cost_u``, ``load`` (total weight), ``count`` (rows), ``sites`` (computed)."""
+        """One row: ``cost_u``, ``load`` (total weight), ``points`` (rows), ``sites`` (computed)."""
         import dask
         import pandas as pd
 
         load, count, cost = dask.compute(self.load, self.count, self.cost)
-        return pd.DataFrame({self._u("cost"): [cost], "load": [float(np.sum(load))], "count": [int(np.sum(count))],
+        return pd.DataFrame({self._u("cost"): [cost], "load": [float(np.sum(load))], "points": [int(np.sum(count))],
                              "sites": [len(self.sites)]})
 
 
@@ -390,8 +390,8 @@ def nearest_site(ddf: Any, sites: Any, *, x: str, y: str, weight: str | None = N
     >>> a.load.compute(scheduler="sync").tolist(), a.cost.compute(scheduler="sync")
     ([0.0, 4.0], 1.0)
     >>> a.summary()
-       cost_u  load  count  sites
-    0     1.0   4.0      4      2
+       cost_u  load  points  sites
+    0     1.0   4.0       4      2
     """
     _require_dask()
     import dask

@@ -252,7 +252,7 @@ def _catchments(s: Scenario, plan: dict[str, Any], w: _Writer) -> tuple[Any, dic
     people = depots["load"].to_numpy()
     cells.insert(0, "depot", np.arange(1, len(sites) + 1))
     cells["people"] = people
-    cells["households"] = depots["count"].to_numpy()
+    cells["households"] = depots["points"].to_numpy()
     # Mean trip per catchment: no kernel states it; the people-weighted trips of its households.
     travel = np.bincount(trips["assignment"], weights=s.people * trips["distance_m"], minlength=len(sites))
     cells["mean_trip_m"] = travel / np.where(people > 0, people, 1.0)
@@ -424,7 +424,7 @@ def run(out: str | Path, *, quiet: bool = False, seed: int = 0) -> str:
 
     plans = _plans(s, seed, w)
     for plan in plans:
-        depots = plan["depots"].rename(columns={"load": "people", "count": "households"})
+        depots = plan["depots"].rename(columns={"load": "people", "points": "households"})
         depots.insert(0, "depot", np.arange(1, len(depots) + 1))
         w.layer(f"depots_{plan['tag']}", _points_layer(depots, depots["x"], depots["y"]))
     chosen = plans[1]  # the p-median plan: least total travel

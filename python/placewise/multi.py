@@ -10,11 +10,11 @@ recomputed here):
   :meth:`~MedianPlan.sites_frame` serving it) and ``distance_<unit>`` (to that site);
   ``to_geodataframe()`` adds the demand point as a Point;
 * ``sites_frame()`` — one row per site: ``x``, ``y``, ``load`` (summed weight served),
-  ``count`` (points served), ``fixed`` (an existing site); ``sites_geodataframe()`` adds
+  ``points`` (demand points served), ``fixed`` (an existing site); ``sites_geodataframe()`` adds
   the site as a Point;
 * ``summary()`` — the totals in one row: ``cost_<unit>`` (p-median) or
   ``weighted_radius_<unit>`` and ``radius_<unit>`` (p-center), the number of ``sites``, the
-  ``load`` and ``count`` of demand served.
+  ``load`` and ``points`` of demand served.
 
 Grouped plans (``groups=``) have the same tables with ``group`` and ``problem`` columns in
 front: ``to_frame`` keeps input order, ``sites_frame`` lists every group's sites in label
@@ -103,10 +103,10 @@ class _Plan(Result):
 
     def _site_columns(self) -> dict[str, Any]:
         xy = self._site_xy()
-        return {"x": xy[:, 0], "y": xy[:, 1], "load": self.load, "count": self.count, "fixed": self._site_fixed()}
+        return {"x": xy[:, 0], "y": xy[:, 1], "load": self.load, "points": self.count, "fixed": self._site_fixed()}
 
     def sites_frame(self) -> Any:
-        """One row per site (``x``, ``y``, ``load``, ``count``, ``fixed``); the row position is
+        """One row per site (``x``, ``y``, ``load``, ``points``, ``fixed``); the row position is
         the site index that ``assignment`` and ``to_frame()["assignment"]`` hold."""
         import pandas as pd
 
@@ -120,7 +120,7 @@ class _Plan(Result):
         return gpd.GeoDataFrame(self._site_columns(), geometry=geometry, crs=crs)
 
     def summary(self) -> Any:
-        """The plan's totals in one row: its objective, ``sites``, ``load``, ``count`` and
+        """The plan's totals in one row: its objective, ``sites``, ``load``, ``points`` and
         ``iterations``."""
         import pandas as pd
 
@@ -128,7 +128,7 @@ class _Plan(Result):
             **self._objective(),
             "sites": [len(self.load)],
             "load": [self.total_load],
-            "count": [len(self.assignment)],
+            "points": [len(self.assignment)],
             "iterations": [self.iterations],
         })
 
@@ -187,14 +187,14 @@ class _GroupedPlan(Grouped):
             "x": self.sites[:, 0],
             "y": self.sites[:, 1],
             "load": self.load,
-            "count": self.count,
+            "points": self.count,
             "fixed": self._site_fixed(),
         }
         return self._framed(columns, _point_geometry(self.sites) if geometry else None, crs, rows=rows)
 
     def sites_frame(self) -> Any:
         """One row per site of every group (``group``, ``problem``, ``x``, ``y``, ``load``,
-        ``count``, ``fixed``), groups in label order; a skipped group keeps one row holding
+        ``points``, ``fixed``), groups in label order; a skipped group keeps one row holding
         its problem. The row position is what ``to_frame()["assignment"]`` holds."""
         return self._site_frame(None, geometry=False)
 
@@ -204,13 +204,13 @@ class _GroupedPlan(Grouped):
 
     def summary(self) -> Any:
         """One row per group: ``group``, ``problem``, the objective, ``sites``, ``load``,
-        ``count`` (points in the group) and ``iterations``."""
+        ``points`` (demand points in the group) and ``iterations``."""
         g = len(self.labels)
         columns = {
             **self._objective(),
             "sites": np.diff(self.site_offsets),
             "load": self.total_load,
-            "count": np.bincount(self.point_group, minlength=g),
+            "points": np.bincount(self.point_group, minlength=g),
             "iterations": self.iterations,
         }
         return self._framed(columns, rows=np.arange(g))
@@ -274,8 +274,8 @@ class MedianPlan(_Plan):
         Total weighted distance ``sum(w_i * distance_i)``, fixed sites included.
 
     ``to_frame()`` has one row per point (``assignment``, ``distance_<unit>``),
-    ``sites_frame()`` one row per site (``x``, ``y``, ``load``, ``count``, ``fixed``) and
-    ``summary()`` one row (``cost_<unit>``, ``sites``, ``load``, ``count``, ``iterations``).
+    ``sites_frame()`` one row per site (``x``, ``y``, ``load``, ``points``, ``fixed``) and
+    ``summary()`` one row (``cost_<unit>``, ``sites``, ``load``, ``points``, ``iterations``).
     """
 
     fixed: np.ndarray
@@ -459,7 +459,7 @@ def p_median(
     2           0         0.0
     3           1         0.0
     >>> near.sites_frame()
-          x    y  load  count  fixed
+          x    y  load  points  fixed
     0   1.0  0.0   3.0      3  False
     1  10.0  0.0   1.0      1   True
     >>> line = [[0, 0], [1, 0], [2, 0], [5, 5], [5, 6], [5, 7]]
@@ -524,9 +524,9 @@ class CenterPlan(_Plan):
         positive weight are solved exactly, as are ``p = 1`` and ``p`` = that count).
 
     ``to_frame()`` has one row per point (``assignment``, ``distance_<unit>``),
-    ``sites_frame()`` one row per site (``x``, ``y``, ``load``, ``count``, ``fixed``, always
+    ``sites_frame()`` one row per site (``x``, ``y``, ``load``, ``points``, ``fixed``, always
     False) and ``summary()`` one row (``weighted_radius_<unit>``, ``radius_<unit>``,
-    ``optimal``, ``sites``, ``load``, ``count``, ``iterations``).
+    ``optimal``, ``sites``, ``load``, ``points``, ``iterations``).
     """
 
     weighted_radius: float
@@ -685,8 +685,8 @@ def p_center(
     >>> heavy.sites, heavy.weighted_radius, heavy.radius
     (array([[1., 0.]]), 3.0, 3.0)
     >>> plans = pw.p_center(square + far, 1, groups=[0] * 4 + [1] * 4)
-    >>> plans.summary()[["group", "weighted_radius_u", "sites", "count"]].round(6)
-       group  weighted_radius_u  sites  count
+    >>> plans.summary()[["group", "weighted_radius_u", "sites", "points"]].round(6)
+       group  weighted_radius_u  sites  points
     0      0           1.414214      1      4
     1      1           1.414214      1      4
 

@@ -592,7 +592,7 @@ class _Assigned(Result):
         return shapely.points(self.points)
 
     def _site_columns(self) -> dict[str, Any]:
-        return {"x": self.sites[:, 0], "y": self.sites[:, 1], "load": self.load, "count": self.count}
+        return {"x": self.sites[:, 0], "y": self.sites[:, 1], "load": self.load, "points": self.count}
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
         """Draw the points coloured by their site and the sites as stars."""
@@ -633,7 +633,7 @@ class Allocation(_Assigned, Result):
 
     ``to_frame()`` has one row per demand point: ``assignment``, ``distance_<unit>``
     (``to_geodataframe()`` adds the point); ``sites_frame()`` one row per site: ``x``,
-    ``y``, ``load``, ``count``; ``summary()`` one row: ``cost_<unit>``, ``load``, ``count``
+    ``y``, ``load``, ``points``; ``summary()`` one row: ``cost_<unit>``, ``load``, ``points``
     (points) and ``sites``.
     """
 
@@ -647,13 +647,13 @@ class Allocation(_Assigned, Result):
     sites: np.ndarray = dataclasses.field(repr=False)
 
     def sites_frame(self) -> Any:
-        """One row per site: ``x``, ``y``, ``load``, ``count``."""
+        """One row per site: ``x``, ``y``, ``load``, ``points``."""
         return _require_pandas().DataFrame(self._site_columns())
 
     def summary(self) -> Any:
-        """One row: ``cost_<unit>``, ``load`` (total weight), ``count`` (points), ``sites``."""
+        """One row: ``cost_<unit>``, ``load`` (total weight), ``points`` (demand points), ``sites``."""
         return _require_pandas().DataFrame(
-            {self._u("cost"): [self.cost], "load": [self.total_load], "count": [len(self.assignment)],
+            {self._u("cost"): [self.cost], "load": [self.total_load], "points": [len(self.assignment)],
              "sites": [len(self.load)]}
         )
 
@@ -719,17 +719,17 @@ class Allocations(_Assigned, Grouped):
         return self.point_group
 
     def sites_frame(self) -> Any:
-        """One row per site in input order: ``group``, ``problem``, ``x``, ``y``, ``load``, ``count``."""
+        """One row per site in input order: ``group``, ``problem``, ``x``, ``y``, ``load``, ``points``."""
         at = self.site_group
         return _require_pandas().DataFrame(
             {"group": self.labels[at], "problem": self.problem[at], **self._site_columns()}
         )
 
     def summary(self) -> Any:
-        """One row per group: ``group``, ``problem``, ``cost_<unit>``, ``load``, ``count``, ``sites``."""
+        """One row per group: ``group``, ``problem``, ``cost_<unit>``, ``load``, ``points``, ``sites``."""
         return _require_pandas().DataFrame(
             {"group": self.labels, "problem": self.problem, self._u("cost"): self.cost, "load": self.total_load,
-             "count": self.point_count, "sites": self.site_count}
+             "points": self.point_count, "sites": self.site_count}
         )
 
 
@@ -806,7 +806,7 @@ def nearest_site(
     >>> a.assignment.tolist(), a.load.tolist(), a.count.tolist(), a.cost
     ([0, 1, 1], [1.0, 3.0], [1, 2], 6.0)
     >>> a.summary()
-       cost_u  load  count  sites
+       cost_u  load  points  sites
     0     6.0   4.0      3      2
     >>> pw.nearest_site([[0, 1]], [[1, 0], [-1, 0]]).assignment.tolist()  # a tie: the smaller row
     [0]
@@ -817,12 +817,12 @@ def nearest_site(
     1      1           0         2.0
     2      2           1         1.0
     >>> skipped = pw.nearest_site([[0, 0], [9, 0]], [[0, 0]], groups=[1, 2], site_groups=[1], errors="skip")
-    >>> skipped.summary()[["group", "cost_u", "load", "count", "sites"]]
-       group  cost_u  load  count  sites
+    >>> skipped.summary()[["group", "cost_u", "load", "points", "sites"]]
+       group  cost_u  load  points  sites
     0      1     0.0   1.0      1      1
     1      2     NaN   NaN      1      0
     >>> skipped.problem[1]
-    'group 2: sites must hold at least 1 points; got 0'
+    'group 2: sites must hold at least 1 point; got 0'
 
     See Also
     --------

@@ -417,7 +417,7 @@ mod tests {
         assert_eq!((first.index.clone(), first.count.clone()), (vec![0, 1], vec![1, 1]));
         assert_eq!((last.index.clone(), last.distance.clone()), (vec![2], vec![99.0]));
         let e = r.grouped.results[1].as_ref().unwrap_err();
-        assert_eq!(e.to_string(), "group 2: sites must hold at least 1 points; got 0");
+        assert_eq!(e.to_string(), "group 2: sites must hold at least 1 point; got 0");
         assert_eq!(r.points.by_row(&r.grouped, usize::MAX, |a, k| a.index[k]), vec![0, 2, usize::MAX, 1]);
         assert_eq!(r.sites.by_row(&r.grouped, f64::NAN, |a, k| a.load[k]), vec![1.0, 1.0, 1.0]);
         let w = [1.0, 1.0, 1.0, -2.0];

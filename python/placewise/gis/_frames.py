@@ -248,7 +248,7 @@ def in_user_terms(
     table = table.drop(columns=["group", "problem"])
     table.insert(0, groups.name, groups.values.take(code).to_numpy())
     if count:
-        table.insert(1, "count", groups.counts[code])
+        table.insert(1, "points", groups.counts[code])
     table["problem"] = problems[code]
     if isinstance(table, gpd.GeoDataFrame):
         # A skipped group has no shape: a missing geometry, which every writer stores as
@@ -280,7 +280,7 @@ def framed(
                            crs=prepared.crs)
     row_labels(out, prepared, row_columns)
     if groups is None and count:
-        out.insert(0, "count", len(prepared.xy))
+        out.insert(0, "points", len(prepared.xy))
     return in_user_terms(out, result, groups, rows, count=count)
 
 

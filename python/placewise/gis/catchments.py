@@ -62,7 +62,7 @@ def voronoi_cells(
         A column of the sites (and of ``demand``): each group of sites splits the region
         among themselves.
     demand : GeoDataFrame or GeoSeries of points, optional
-        When given, each cell gets the ``load`` (summed weight) and ``count`` of the demand
+        When given, each cell gets the ``load`` (summed weight) and ``points`` of the demand
         nearest to its site (within its group with ``by``).
     weight : str or array_like, optional
         Demand weight column (or values); default 1 per demand row.
@@ -72,7 +72,7 @@ def voronoi_cells(
     GeoDataFrame
         The sites' columns with Polygon / MultiPolygon cells as geometry and
         ``area_<unit>2`` (in the working CRS's unit: ``area_m2``), plus ``load`` and
-        ``count`` with ``demand``, and ``problem`` with ``by``.
+        ``points`` with ``demand``, and ``problem`` with ``by``.
 
     Examples
     --------
@@ -100,5 +100,5 @@ def voronoi_cells(
     if demand is not None:
         served = nearest_site(demand, sites, weight, by=by, planar=planar, centroids=centroids, errors=errors)
         out["load"] = served.sites["load"].to_numpy()
-        out["count"] = served.sites["count"].to_numpy()
+        out["points"] = served.sites["points"].to_numpy()
     return out

@@ -21,7 +21,7 @@ class Network(NamedTuple):
         for an added junction), ``length_<unit>``, plus the ``by`` column and ``problem``
         for grouped runs.
     summary : DataFrame
-        One row per tree (per group): ``count`` (rows linked), ``length_<unit>`` and, for
+        One row per tree (per group): ``points`` (rows linked), ``length_<unit>`` and, for
         Steiner trees, ``mst_length_<unit>``, ``saving`` (1 − length / MST length),
         ``junctions`` (Steiner points added) and ``optimal`` (proven).
     """
@@ -40,7 +40,7 @@ def _network(kernel: Any, frame: Any, by: str | None, planar: bool, centroids: b
     edges = framed(result, pf, groups, rows, row_columns=("end_a", "end_b"))
     summary = with_unit(result, pf).summary()
     if groups is None:
-        summary.insert(0, "count", len(pf.xy))
+        summary.insert(0, "points", len(pf.xy))
     summary = in_user_terms(summary, result, groups, rows, count=True)
     return Network(edges, summary)
 

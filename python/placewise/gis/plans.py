@@ -20,7 +20,7 @@ class SitePlan(NamedTuple):
     Attributes
     ----------
     sites : GeoDataFrame
-        One point per site with its ``load`` (summed weight) and ``count`` (rows served);
+        One point per site with its ``load`` (summed weight) and ``points`` (rows served);
         for plans also ``x``, ``y`` and ``fixed`` (an existing site). Its index labels name
         the sites.
     demand : GeoDataFrame
@@ -29,7 +29,7 @@ class SitePlan(NamedTuple):
     summary : DataFrame
         One row (per group with ``by``) of totals: ``cost_<unit>`` (total weighted
         distance) or ``weighted_radius_<unit>`` (largest weighted distance, p-center), the
-        number of ``sites``, and the demand's ``load`` and ``count``.
+        number of ``sites``, and the demand's ``load`` and ``points``.
     """
 
     sites: Any
@@ -72,7 +72,7 @@ def nearest_site(
     Returns
     -------
     SitePlan
-        ``sites`` (the sites frame with ``load`` and ``count``), ``demand`` (with ``site``,
+        ``sites`` (the sites frame with ``load`` and ``points``), ``demand`` (with ``site``,
         the serving site's index label, and ``distance_<unit>``) and ``summary``.
 
     Examples
@@ -104,7 +104,7 @@ def nearest_site(
     site_table = with_unit(result, sf).sites_frame()
     out_sites = sf.frame.copy()
     out_sites["load"] = site_table["load"].to_numpy()
-    out_sites["count"] = site_table["count"].to_numpy()
+    out_sites["points"] = site_table["points"].to_numpy()
     return SitePlan(out_sites, _demand_layer(df, result, sf.frame.index.to_numpy(dtype=object)),
                     _summary(result, df, groups, rows))
 
@@ -166,7 +166,7 @@ def p_median(
     Returns
     -------
     SitePlan
-        ``sites`` (points with ``x``, ``y``, ``load``, ``count``, ``fixed``), ``demand``
+        ``sites`` (points with ``x``, ``y``, ``load``, ``points``, ``fixed``), ``demand``
         (a copy with ``site`` and ``distance_<unit>``) and ``summary`` (``cost_<unit>``).
 
     Examples

@@ -39,7 +39,7 @@ def weber_point(
     Returns
     -------
     GeoDataFrame
-        Point geometry in the input's CRS; columns ``count`` (rows used), ``x``, ``y`` (in
+        Point geometry in the input's CRS; columns ``points`` (rows used), ``x``, ``y`` (in
         the working CRS), ``cost_<unit>`` (weighted distance in the working CRS's unit:
         ``cost_m`` for metres), ``gap_<unit>`` (certified bound on the excess),
         ``relative_gap``, ``iterations``, ``converged``; with ``by``, the ``by`` column
@@ -77,7 +77,7 @@ def minimax_point(
     Returns
     -------
     GeoDataFrame
-        Point geometry and columns ``count``, ``x``, ``y`` and ``weighted_radius_<unit>``
+        Point geometry and columns ``points``, ``x``, ``y`` and ``weighted_radius_<unit>``
         (the largest weight × distance at the optimum), plus ``by`` and ``problem``.
 
     Examples
@@ -106,7 +106,7 @@ def enclosing_circle(
     -------
     GeoDataFrame
         Polygon geometry (a 128-gon circumscribing the circle, so it covers every point)
-        and columns ``count``, ``x``, ``y`` (centre), ``radius_<unit>`` and
+        and columns ``points``, ``x``, ``y`` (centre), ``radius_<unit>`` and
         ``area_<unit>2`` (of the exact circle), plus ``by`` and ``problem``.
 
     Examples
@@ -134,7 +134,7 @@ def enclosing_ellipse(
     Returns
     -------
     GeoDataFrame
-        Polygon geometry (a 128-gon circumscribing the ellipse) and columns ``count``,
+        Polygon geometry (a 128-gon circumscribing the ellipse) and columns ``points``,
         ``x``, ``y`` (centre), ``semi_major_<unit>``, ``semi_minor_<unit>``, ``angle_deg``
         (major axis, degrees counter-clockwise from the working CRS's +x axis) and
         ``area_<unit>2`` (of the exact ellipse), plus ``by`` and ``problem``.
