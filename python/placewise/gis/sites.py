@@ -12,6 +12,18 @@ from ._frames import call, framed, groups_of, prepare, weights
 __all__ = ["enclosing_circle", "enclosing_ellipse", "minimax_point", "weber_point"]
 
 
+def _one_per_group(kernel: Any, frame: Any, weight: Any, by: str | None, planar: bool, centroids: bool,
+                   errors: str, options: dict[str, Any], weighted: bool) -> Any:
+    """One kernel answer per group (or for the whole frame) as a GeoDataFrame in user terms."""
+    pf = prepare(frame, "frame", planar=planar, centroids=centroids)
+    groups = groups_of(pf.frame, by, "frame")
+    rows = {"points": pf.rows, "weights": pf.rows}
+    grouped = {} if groups is None else {"errors": errors}
+    arguments = (pf.xy, weights(pf, weight, "frame")) if weighted else (pf.xy,)
+    result = call(kernel, *arguments, groups=groups, rows=rows, **grouped, **options)
+    return framed(result, pf, groups, rows, count=True)
+
+
 def weber_point(
     frame: Any, weight: Any = None, by: str | None = None, *,
     planar: bool = False, centroids: bool = False, errors: Literal["raise", "skip"] = "raise", **options: Any,
@@ -58,12 +70,7 @@ def weber_point(
     ...
     placewise.InputError: frame has no CRS: ...
     """
-    pf = prepare(frame, "frame", planar=planar, centroids=centroids)
-    groups = groups_of(pf.frame, by, "frame")
-    rows = {"points": pf.rows, "weights": pf.rows}
-    grouped = {} if groups is None else {"errors": errors}
-    result = call(_pw.weber_point, pf.xy, weights(pf, weight, "frame"), groups=groups, rows=rows, **grouped, **options)
-    return framed(result, pf, groups, rows, count=True)
+    return _one_per_group(_pw.weber_point, frame, weight, by, planar, centroids, errors, options, weighted=True)
 
 
 def minimax_point(
@@ -88,12 +95,7 @@ def minimax_point(
     >>> round(float(gis.minimax_point(pts, planar=True)["weighted_radius_u"].iloc[0]), 6)   # 5/3
     1.666667
     """
-    pf = prepare(frame, "frame", planar=planar, centroids=centroids)
-    groups = groups_of(pf.frame, by, "frame")
-    rows = {"points": pf.rows, "weights": pf.rows}
-    grouped = {} if groups is None else {"errors": errors}
-    result = call(_pw.minimax_point, pf.xy, weights(pf, weight, "frame"), groups=groups, rows=rows, **grouped)
-    return framed(result, pf, groups, rows, count=True)
+    return _one_per_group(_pw.minimax_point, frame, weight, by, planar, centroids, errors, {}, weighted=True)
 
 
 def enclosing_circle(
@@ -117,12 +119,7 @@ def enclosing_circle(
     >>> float(gis.enclosing_circle(pts, planar=True)["radius_u"].iloc[0])
     1.666666666666...
     """
-    pf = prepare(frame, "frame", planar=planar, centroids=centroids)
-    groups = groups_of(pf.frame, by, "frame")
-    rows = {"points": pf.rows}
-    grouped = {} if groups is None else {"errors": errors}
-    result = call(_pw.enclosing_circle, pf.xy, groups=groups, rows=rows, **grouped, **options)
-    return framed(result, pf, groups, rows, count=True)
+    return _one_per_group(_pw.enclosing_circle, frame, None, by, planar, centroids, errors, options, weighted=False)
 
 
 def enclosing_ellipse(
@@ -148,9 +145,4 @@ def enclosing_ellipse(
     >>> [round(float(e[c].iloc[0]), 5) for c in ("semi_major_u", "semi_minor_u")]   # a/sqrt2, b/sqrt2
     [2.82843, 1.41421]
     """
-    pf = prepare(frame, "frame", planar=planar, centroids=centroids)
-    groups = groups_of(pf.frame, by, "frame")
-    rows = {"points": pf.rows}
-    grouped = {} if groups is None else {"errors": errors}
-    result = call(_pw.enclosing_ellipse, pf.xy, groups=groups, rows=rows, **grouped, **options)
-    return framed(result, pf, groups, rows, count=True)
+    return _one_per_group(_pw.enclosing_ellipse, frame, None, by, planar, centroids, errors, options, weighted=False)
