@@ -756,3 +756,88 @@ def test_plan_files_keep_totals_and_units(tmp_path):
         assert row["cost_m"] == pytest.approx(float(frame["people"].to_numpy()[m] @ d), rel=1e-6)
         assert row["load"] == pytest.approx(sites.loc[own, "load"].sum())
         assert demand.loc[m, "distance_m"].to_numpy() == pytest.approx(d, rel=1e-6, abs=1e-3)
+
+
+# --- geographic input: checked coordinates, an honest working frame -------------------------
+
+
+def _lonlat_frame(lon, lat, **columns):
+    return gpd.GeoDataFrame(columns, geometry=gpd.points_from_xy(lon, lat), crs="EPSG:4326")
+
+
+def test_latitudes_beyond_the_poles_are_refused_naming_rows() -> None:
+    frame = _lonlat_frame([10.0, 10.5, 11.0], [50.0, 95.0, 50.5])
+    frame.index = ["a", "b", "c"]
+    with pytest.raises(pw.InputError, match=r"latitude \(y\) outside -90..90 at rows 'b'"):
+        gis.weber_point(frame)
+
+
+def test_swapped_longitude_and_latitude_are_named_as_such() -> None:
+    # Points in southern Norway written as (lat, lon): latitude 59-60 ends up as x and
+    # longitude 10-11 as y — legal — so take a place east of 90 degrees, where y > 90.
+    frame = _lonlat_frame([55.7, 55.8, 55.9], [137.0, 137.2, 137.4])
+    with pytest.raises(pw.InputError, match="look swapped"):
+        gis.enclosing_circle(frame)
+
+
+def test_longitudes_far_outside_the_globe_are_refused() -> None:
+    frame = _lonlat_frame([500_000.0, 500_100.0], [50.0, 50.1])
+    with pytest.raises(pw.InputError, match="longitude"):
+        gis.spanning_tree(frame)
+
+
+def test_a_national_extent_is_refused_instead_of_distorted() -> None:
+    # 20 degrees of longitude at 50 N: one UTM zone distorts distances by about 1 % at its
+    # edges (from memory: UTM's scale error grows as x^2 / 2R^2), far beyond 0.1 %.
+    rng = np.random.default_rng(8)
+    frame = _lonlat_frame(rng.uniform(0, 20, 400), rng.uniform(45, 55, 400))
+    with pytest.raises(pw.InputError, match=r"distorts distances by up to .* % .*by=.*work_crs="):
+        gis.weber_point(frame)
+
+
+def test_a_forced_working_crs_states_its_scale_error() -> None:
+    from pyproj import Proj
+
+    rng = np.random.default_rng(9)
+    lon, lat = rng.uniform(0, 20, 400), rng.uniform(45, 55, 400)
+    out = gis.weber_point(_lonlat_frame(lon, lat), work_crs="EPSG:3035")
+    # Outside reference: PROJ's scale factors of the forced frame (ETRS89 / LAEA Europe)
+    # at every point; the reported figure is their largest departure from 1.
+    factors = Proj("EPSG:3035").get_factors(lon, lat)
+    expected = max(np.abs(np.asarray(factors.meridional_scale) - 1).max(),
+                   np.abs(np.asarray(factors.parallel_scale) - 1).max())
+    assert out["work_crs"].iloc[0] == "ETRS89-extended / LAEA Europe"
+    assert out["scale_error"].iloc[0] == pytest.approx(expected, rel=1e-9)
+
+
+def test_reported_metres_are_true_within_the_stated_scale_error() -> None:
+    from pyproj import Geod
+
+    rng = np.random.default_rng(10)
+    lon, lat = rng.uniform(10.0, 11.5, 300), rng.uniform(59.5, 60.5, 300)
+    out = gis.weber_point(_lonlat_frame(lon, lat))
+    error = float(out["scale_error"].iloc[0])
+    assert 0 < error <= 1e-3
+    site = out.geometry.iloc[0]
+    # Outside reference: GeographicLib geodesics (pyproj.Geod) from the returned site.
+    _, _, metres = Geod(ellps="WGS84").inv(np.full(300, site.x), np.full(300, site.y), lon, lat)
+    true_cost = float(np.sum(metres))
+    assert abs(float(out["cost_m"].iloc[0]) - true_cost) <= error * true_cost * (1 + 1e-9)
+
+
+def test_a_geographic_region_is_densified_before_it_is_projected() -> None:
+    # A lon/lat box projected by its four corners alone loses the curved bands along its
+    # edges; densified, the cells tile the box: their areas sum to the box's own area in the
+    # working frame (shapely on the same box densified finely, as the outside reference).
+    sites = _lonlat_frame([10.2, 10.8, 10.5], [59.7, 59.8, 60.2])
+    box = shapely.box(10.0, 59.5, 11.0, 60.5)
+    cells = gis.voronoi_cells(sites, gpd.GeoSeries([box], crs="EPSG:4326"))
+    work = sites.estimate_utm_crs()
+    fine = gpd.GeoSeries([shapely.segmentize(box, 0.001)], crs="EPSG:4326").to_crs(work).iloc[0]
+    assert cells["area_m2"].sum() == pytest.approx(fine.area, rel=1e-6)
+
+
+def test_max_scale_error_must_be_a_fraction() -> None:
+    frame = _lonlat_frame([10.0, 10.1], [60.0, 60.1])
+    with pytest.raises(pw.InputError, match="max_scale_error"):
+        gis.weber_point(frame, max_scale_error=2)

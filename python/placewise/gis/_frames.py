@@ -47,6 +47,11 @@ def unit_of(crs: Any) -> str:
     return _UNIT_NAMES.get(name, "".join(ch for ch in name if ch.isalnum()) or "u")
 
 
+# Default bound on the relative scale error a working projection may introduce over the
+# data of geographic input (0.1 %); beyond it the functions refuse rather than distort.
+MAX_SCALE_ERROR = 1e-3
+
+
 @dataclasses.dataclass
 class Prepared:
     """Points of one frame, in the working (metric) CRS."""
@@ -55,6 +60,16 @@ class Prepared:
     xy: np.ndarray  # (n, 2) float64 in the working CRS
     crs: Any  # the caller's CRS (None when planar without one)
     work: Any  # the working CRS (None when planar without one)
+    # For geographic input: the largest relative scale error of the working projection over
+    # the data (None for projected or planar input, whose own units are used as they are).
+    scale_error: float | None = None
+
+    def model(self) -> dict[str, Any]:
+        """Columns stating the model of a geographic result: its working frame and the
+        worst scale error that frame introduces over the data."""
+        if self.scale_error is None:
+            return {}
+        return {"work_crs": CRS(self.work).name, "scale_error": self.scale_error}
 
     @property
     def unit(self) -> str:
@@ -81,8 +96,15 @@ def as_frame(obj: Any, name: str) -> Any:
     raise InputError(f"{name} must be a GeoDataFrame or GeoSeries; got {type(obj).__name__}")
 
 
-def _working_crs(frame: Any, name: str, planar: bool) -> Any:
+def _working_crs(frame: Any, name: str, planar: bool, work_crs: Any = None) -> Any:
     crs = frame.crs
+    if work_crs is not None:
+        if crs is None:
+            raise InputError(f"{name} has no CRS; work_crs= needs one to project from")
+        forced = CRS(work_crs)
+        if not forced.is_projected:
+            raise InputError(f"work_crs must be a projected CRS; got {forced.name!r}")
+        return forced
     if crs is None:
         if not planar:
             raise InputError(
@@ -125,24 +147,110 @@ def _points_of(frame: Any, name: str, centroids: bool) -> np.ndarray:
     return np.column_stack([shapely.get_x(geoms), shapely.get_y(geoms)]).astype(np.float64)
 
 
-def prepare(obj: Any, name: str, *, planar: bool, centroids: bool, work: Any = "estimate") -> Prepared:
+def _check_lonlat(frame: Any, lonlat: np.ndarray, name: str) -> None:
+    """Refuse coordinates that cannot be longitude/latitude, naming the rows."""
+    lon, lat = lonlat[:, 0], lonlat[:, 1]
+
+    def rows(mask: np.ndarray) -> str:
+        labels = [repr(plain(v)) for v in frame.index[mask][:5]]
+        more = int(mask.sum()) - len(labels)
+        return ", ".join(labels) + (f" and {more} more" if more > 0 else "")
+
+    bad_lat = np.abs(lat) > 90
+    if bad_lat.any():
+        swapped = bool(np.all(np.abs(lat) <= 180) and np.all(np.abs(lon) <= 90))
+        hint = ("; the columns look swapped (x must be longitude, y latitude)" if swapped
+                else "; are these projected coordinates? set the frame's real CRS")
+        raise InputError(f"{name}: latitude (y) outside -90..90 at rows {rows(bad_lat)}{hint}")
+    bad_lon = np.abs(lon) > 540
+    if bad_lon.any():
+        raise InputError(f"{name}: longitude (x) outside -540..540 at rows {rows(bad_lon)}; are these projected "
+                         "coordinates? set the frame's real CRS")
+
+
+def _warn_degrees_in_projected(frame: Any, xy: np.ndarray, name: str, crs: Any) -> None:
+    """A projected frame whose coordinates all look like degrees is probably mislabelled."""
+    if len(xy) >= 3 and np.all(np.abs(xy[:, 0]) <= 180) and np.all(np.abs(xy[:, 1]) <= 90):
+        extent = float(np.ptp(xy, axis=0).max())
+        if 0 < extent < 10:
+            import warnings
+
+            warnings.warn(
+                f"{name}: every coordinate lies within ±180 / ±90 and the data span {extent:.3g} "
+                f"{unit_of(crs)} in the projected CRS {CRS(crs).name!r}; if these are degrees, set the "
+                "frame's CRS to a geographic one (e.g. EPSG:4326)",
+                UserWarning, stacklevel=4,
+            )
+
+
+def scale_error_over(work: Any, lonlat: np.ndarray, xy: np.ndarray) -> float:
+    """The largest relative scale error of the projection ``work`` over the data.
+
+    Evaluated (pyproj's ``Proj.get_factors``) at the vertices of the data's convex hull in
+    the working frame — where a transverse Mercator or azimuthal frame distorts most — and
+    at a fixed sample of up to 20,000 points for any other projection.
+    """
+    from pyproj import Proj
+
+    n = len(xy)
+    hull = shapely.convex_hull(shapely.multipoints(xy))
+    if hull.geom_type == "Polygon":
+        corners = np.asarray(hull.exterior.coords)[:-1]
+        at = np.unique(np.concatenate([np.flatnonzero(np.isin(xy[:, 0], corners[:, 0])), [0]]))
+    else:
+        at = np.array([int(np.argmin(xy[:, 0])), int(np.argmax(xy[:, 0]))])
+    sample = np.unique(np.concatenate([at, np.linspace(0, n - 1, min(n, 20_000)).astype(np.int64)]))
+    factors = Proj(work).get_factors(lonlat[sample, 0], lonlat[sample, 1])
+    error = np.maximum(np.abs(np.asarray(factors.meridional_scale) - 1.0),
+                       np.abs(np.asarray(factors.parallel_scale) - 1.0))
+    return float(np.nanmax(error))
+
+
+def prepare(
+    obj: Any, name: str, *, planar: bool, centroids: bool, work: Any = "estimate", work_crs: Any = None,
+    max_scale_error: float = MAX_SCALE_ERROR,
+) -> Prepared:
     """Validate a frame and bring its points into the working CRS.
 
-    ``work="estimate"`` chooses the working CRS from this frame; otherwise the given
-    working CRS (from a companion frame) is used and this frame must agree on having one.
+    ``work="estimate"`` chooses the working CRS from this frame (``work_crs`` when given);
+    otherwise the given working CRS (from a companion frame) is used and this frame must
+    agree on having one. Geographic input is checked (latitudes within ±90, longitudes
+    within ±540) and the working projection's worst scale error over the data is measured:
+    beyond ``max_scale_error`` (unless ``work_crs`` was chosen by the caller) it is an
+    ``InputError`` saying how to proceed, never a silent distortion.
     """
     frame = as_frame(obj, name)
     if len(frame) == 0:
         raise InputError(f"{name} has no rows")
+    if not (isinstance(max_scale_error, (int, float)) and 0 < max_scale_error < 1):
+        raise InputError(f"max_scale_error must be a number between 0 and 1; got {max_scale_error!r}")
+    geographic = frame.crs is not None and CRS(frame.crs).is_geographic
+    lonlat = _points_of(frame, name, centroids) if geographic else None
+    if lonlat is not None:
+        _check_lonlat(frame, lonlat, name)
     if isinstance(work, str):
-        work = _working_crs(frame, name, planar)
+        work = _working_crs(frame, name, planar, work_crs)
     elif (work is None) != (frame.crs is None):
         raise InputError(
             f"{name}: either every frame has a CRS or none has (planar=True); {name} "
             + ("has none" if frame.crs is None else "has one while the first frame has none")
         )
     projected = frame if work is None or CRS(frame.crs).equals(work) else frame.to_crs(work)
-    return Prepared(frame, _points_of(projected, name, centroids), frame.crs, work)
+    xy = _points_of(projected, name, centroids)
+    if lonlat is None:
+        if frame.crs is not None:
+            _warn_degrees_in_projected(frame, xy, name, frame.crs)
+        return Prepared(frame, xy, frame.crs, work)
+    error = scale_error_over(work, lonlat, xy)
+    if error > max_scale_error and work_crs is None:
+        extent = float(np.ptp(xy, axis=0).max()) / 1000
+        raise InputError(
+            f"{name}: the data span {extent:,.0f} km, and the working frame {CRS(work).name!r} distorts "
+            f"distances by up to {100 * error:.3g} % over them (more than the {100 * max_scale_error:.3g} % "
+            "allowed); split the data into smaller groups (by=), pass work_crs= with a projection suited to "
+            "the whole area, or raise max_scale_error="
+        )
+    return Prepared(frame, xy, frame.crs, work, error)
 
 
 def column(frame: Any, spec: Any, name: str, what: str) -> np.ndarray:
@@ -281,7 +389,14 @@ def framed(
     row_labels(out, prepared, row_columns)
     if groups is None and count:
         out.insert(0, "points", len(prepared.xy))
-    return in_user_terms(out, result, groups, rows, count=count)
+    return stamp_model(in_user_terms(out, result, groups, rows, count=count), prepared)
+
+
+def stamp_model(table: Any, prepared: Prepared) -> Any:
+    """Add the model columns of geographic input (working frame, worst scale error)."""
+    for name, value in prepared.model().items():
+        table[name] = value
+    return table
 
 
 def row_labels(table: Any, prepared: Prepared, columns: Sequence[str]) -> None:

@@ -15,10 +15,23 @@ except ImportError:  # pragma: no cover - exercised only without the extra
 import placewise as _pw
 
 from .._core import InputError
-from ._frames import Prepared, call, framed, groups_of, prepare
+from ._frames import MAX_SCALE_ERROR, Prepared, call, framed, groups_of, prepare
 from .plans import nearest_site
 
 __all__ = ["voronoi_cells"]
+
+
+# Longest edge, in degrees, of a geographic region before it is projected: a straight edge in
+# lon/lat is a curve in the working frame, so projecting only its vertices would cut the
+# region short (or spill past it) between them.
+_REGION_STEP_DEGREES = 0.01
+
+
+def _densified(series: Any) -> Any:
+    """A geographic region with vertices inserted along its edges (projected ones as they are)."""
+    if series.crs is None or not CRS(series.crs).is_geographic:
+        return series
+    return gpd.GeoSeries(shapely.segmentize(series.values, _REGION_STEP_DEGREES), crs=series.crs)
 
 
 def _region_geometry(region: Any, pf: Prepared) -> Any:
@@ -32,12 +45,12 @@ def _region_geometry(region: Any, pf: Prepared) -> Any:
         if (series.crs is None) != (pf.work is None):
             raise InputError("region: either both sites and region have a CRS or neither has")
         if series.crs is not None and not CRS(series.crs).equals(pf.work):
-            series = series.to_crs(pf.work)
+            series = _densified(series).to_crs(pf.work)
         geom = series.union_all()
     elif isinstance(region, shapely.Geometry):
         geom = region
         if pf.crs is not None and pf.work is not None and not CRS(pf.crs).equals(pf.work):
-            geom = gpd.GeoSeries([geom], crs=pf.crs).to_crs(pf.work).iloc[0]
+            geom = _densified(gpd.GeoSeries([geom], crs=pf.crs)).to_crs(pf.work).iloc[0]
     else:
         raise InputError(f"region must be a GeoDataFrame, GeoSeries or shapely geometry; got {type(region).__name__}")
     if geom.is_empty or geom.area <= 0.0:
@@ -47,7 +60,8 @@ def _region_geometry(region: Any, pf: Prepared) -> Any:
 
 def voronoi_cells(
     sites: Any, region: Any = None, *, by: str | None = None, demand: Any = None, weight: Any = None,
-    planar: bool = False, centroids: bool = False, errors: Literal["raise", "skip"] = "raise",
+    planar: bool = False, centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
+    errors: Literal["raise", "skip"] = "raise",
 ) -> Any:
     """Each site's catchment: its Voronoi cell clipped to the study region.
 
@@ -84,7 +98,8 @@ def voronoi_cells(
     >>> cells["area_u2"].round(9).tolist()
     [4.0, 4.0]
     """
-    pf = prepare(sites, "sites", planar=planar, centroids=centroids)
+    model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
+    pf = prepare(sites, "sites", planar=planar, centroids=centroids, **model)
     geom = _region_geometry(region, pf)
     groups = groups_of(pf.frame, by, "sites")
     rows = {"sites": pf.rows}
@@ -98,7 +113,7 @@ def voronoi_cells(
         if name.startswith("area_") or name == "problem":
             out[name] = cells[name].to_numpy()
     if demand is not None:
-        served = nearest_site(demand, sites, weight, by=by, planar=planar, centroids=centroids, errors=errors)
+        served = nearest_site(demand, sites, weight, by=by, planar=planar, centroids=centroids, errors=errors, **model)
         out["load"] = served.sites["load"].to_numpy()
         out["points"] = served.sites["points"].to_numpy()
     return out

@@ -6,7 +6,7 @@ from typing import Any, Literal, NamedTuple
 
 import placewise as _pw
 
-from ._frames import call, framed, groups_of, in_user_terms, prepare, with_unit
+from ._frames import MAX_SCALE_ERROR, call, framed, groups_of, in_user_terms, prepare, stamp_model, with_unit
 
 __all__ = ["Network", "spanning_tree", "steiner_tree"]
 
@@ -31,8 +31,8 @@ class Network(NamedTuple):
 
 
 def _network(kernel: Any, frame: Any, by: str | None, planar: bool, centroids: bool, errors: str,
-             options: dict[str, Any]) -> Network:
-    pf = prepare(frame, "frame", planar=planar, centroids=centroids)
+             options: dict[str, Any], model: dict[str, Any]) -> Network:
+    pf = prepare(frame, "frame", planar=planar, centroids=centroids, **model)
     groups = groups_of(pf.frame, by, "frame")
     rows = {"points": pf.rows}
     grouped = {} if groups is None else {"errors": errors}
@@ -41,12 +41,13 @@ def _network(kernel: Any, frame: Any, by: str | None, planar: bool, centroids: b
     summary = with_unit(result, pf).summary()
     if groups is None:
         summary.insert(0, "points", len(pf.xy))
-    summary = in_user_terms(summary, result, groups, rows, count=True)
+    summary = stamp_model(in_user_terms(summary, result, groups, rows, count=True), pf)
     return Network(edges, summary)
 
 
 def spanning_tree(
-    frame: Any, by: str | None = None, *, planar: bool = False, centroids: bool = False,
+    frame: Any, by: str | None = None, *, planar: bool = False, centroids: bool = False, work_crs: Any = None,
+    max_scale_error: float = MAX_SCALE_ERROR,
     errors: Literal["raise", "skip"] = "raise",
 ) -> Network:
     """The Euclidean minimum spanning tree linking a frame's points (one per group with ``by``).
@@ -65,11 +66,13 @@ def spanning_tree(
     >>> float(gis.spanning_tree(pts, planar=True).summary["length_u"].iloc[0])   # three sides
     3.0
     """
-    return _network(_pw.spanning_tree, frame, by, planar, centroids, errors, {})
+    return _network(_pw.spanning_tree, frame, by, planar, centroids, errors, {},
+                    {"work_crs": work_crs, "max_scale_error": max_scale_error})
 
 
 def steiner_tree(
-    frame: Any, by: str | None = None, *, planar: bool = False, centroids: bool = False,
+    frame: Any, by: str | None = None, *, planar: bool = False, centroids: bool = False, work_crs: Any = None,
+    max_scale_error: float = MAX_SCALE_ERROR,
     errors: Literal["raise", "skip"] = "raise", **options: Any,
 ) -> Network:
     """The Euclidean Steiner tree linking a frame's points, with its saving over the MST.
@@ -96,4 +99,5 @@ def steiner_tree(
     >>> round(float(s["length_u"]), 9), int(s["junctions"])    # 1 + sqrt(3), two junctions
     (2.732050808, 2)
     """
-    return _network(_pw.steiner_tree, frame, by, planar, centroids, errors, options)
+    return _network(_pw.steiner_tree, frame, by, planar, centroids, errors, options,
+                    {"work_crs": work_crs, "max_scale_error": max_scale_error})

@@ -9,7 +9,18 @@ import numpy as np
 
 import placewise as _pw
 
-from ._frames import Prepared, call, groups_of, in_user_terms, prepare, shared_groups, weights, with_unit
+from ._frames import (
+    MAX_SCALE_ERROR,
+    Prepared,
+    call,
+    groups_of,
+    in_user_terms,
+    prepare,
+    shared_groups,
+    stamp_model,
+    weights,
+    with_unit,
+)
 
 __all__ = ["SitePlan", "nearest_site", "p_center", "p_median"]
 
@@ -52,12 +63,13 @@ def _demand_layer(pf: Prepared, result: Any, site_labels: np.ndarray) -> Any:
 
 
 def _summary(result: Any, pf: Prepared, groups: Any, rows: Any) -> Any:
-    return in_user_terms(with_unit(result, pf).summary(), result, groups, rows)
+    return stamp_model(in_user_terms(with_unit(result, pf).summary(), result, groups, rows), pf)
 
 
 def nearest_site(
     demand: Any, sites: Any, weight: Any = None, *, by: str | None = None,
-    planar: bool = False, centroids: bool = False, errors: Literal["raise", "skip"] = "raise",
+    planar: bool = False, centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
+    errors: Literal["raise", "skip"] = "raise",
 ) -> SitePlan:
     """Assign every demand row to its nearest site (straight-line distance in the working CRS).
 
@@ -87,8 +99,9 @@ def nearest_site(
     >>> plan.sites["load"].tolist()
     [1.0, 2.0]
     """
-    sf = prepare(sites, "sites", planar=planar, centroids=centroids)
-    df = prepare(demand, "demand", planar=planar, centroids=centroids, work=sf.work)
+    model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
+    sf = prepare(sites, "sites", planar=planar, centroids=centroids, **model)
+    df = prepare(demand, "demand", planar=planar, centroids=centroids, work=sf.work, **model)
     rows = {"points": df.rows, "weights": df.rows, "sites": sf.rows}
     w = weights(df, weight, "demand")
     groups = None
@@ -110,12 +123,12 @@ def nearest_site(
 
 
 def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bool, centroids: bool,
-          errors: str, options: dict[str, Any], fixed: Any = None) -> SitePlan:
-    pf = prepare(frame, "frame", planar=planar, centroids=centroids)
+          errors: str, options: dict[str, Any], model: dict[str, Any], fixed: Any = None) -> SitePlan:
+    pf = prepare(frame, "frame", planar=planar, centroids=centroids, **model)
     groups = groups_of(pf.frame, by, "frame")
     rows = {"points": pf.rows, "weights": pf.rows}
     if fixed is not None:
-        ff = prepare(fixed, "fixed", planar=planar, centroids=centroids, work=pf.work)
+        ff = prepare(fixed, "fixed", planar=planar, centroids=centroids, work=pf.work, **model)
         options = {**options, "fixed": ff.xy}
         rows["fixed"] = ff.rows
         if groups is not None:
@@ -142,12 +155,13 @@ def framed_sites(sites: Any, pf: Prepared, result: Any, groups: Any, rows: Any) 
     if groups is not None:
         out = in_user_terms(out, result, groups, rows)
     out.index.name = "site"
-    return out
+    return stamp_model(out, pf)
 
 
 def p_median(
     frame: Any, p: int, weight: Any = None, by: str | None = None, *, fixed: Any = None,
-    planar: bool = False, centroids: bool = False, errors: Literal["raise", "skip"] = "raise", **options: Any,
+    planar: bool = False, centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
+    errors: Literal["raise", "skip"] = "raise", **options: Any,
 ) -> SitePlan:
     """The p sites minimising total weighted straight-line distance (continuous p-median).
 
@@ -178,12 +192,14 @@ def p_median(
     >>> plan.demand["site"].nunique(), float(plan.summary["cost_u"].iloc[0])
     (2, 2.0)
     """
-    return _plan("median", frame, p, weight, by, planar, centroids, errors, options, fixed)
+    return _plan("median", frame, p, weight, by, planar, centroids, errors, options,
+                    {"work_crs": work_crs, "max_scale_error": max_scale_error}, fixed)
 
 
 def p_center(
     frame: Any, p: int, weight: Any = None, by: str | None = None, *,
-    planar: bool = False, centroids: bool = False, errors: Literal["raise", "skip"] = "raise", **options: Any,
+    planar: bool = False, centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
+    errors: Literal["raise", "skip"] = "raise", **options: Any,
 ) -> SitePlan:
     """The p sites minimising the largest weighted straight-line trip (continuous p-center).
 
@@ -198,4 +214,5 @@ def p_center(
     >>> round(float(gis.p_center(homes, 2, planar=True).summary["weighted_radius_u"].iloc[0]), 9)
     1.0
     """
-    return _plan("center", frame, p, weight, by, planar, centroids, errors, options)
+    return _plan("center", frame, p, weight, by, planar, centroids, errors, options,
+                    {"work_crs": work_crs, "max_scale_error": max_scale_error})

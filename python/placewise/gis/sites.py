@@ -7,15 +7,15 @@ from typing import Any, Literal
 
 import placewise as _pw
 
-from ._frames import call, framed, groups_of, prepare, weights
+from ._frames import MAX_SCALE_ERROR, call, framed, groups_of, prepare, weights
 
 __all__ = ["enclosing_circle", "enclosing_ellipse", "minimax_point", "weber_point"]
 
 
 def _one_per_group(kernel: Any, frame: Any, weight: Any, by: str | None, planar: bool, centroids: bool,
-                   errors: str, options: dict[str, Any], weighted: bool) -> Any:
+                   errors: str, options: dict[str, Any], weighted: bool, model: dict[str, Any]) -> Any:
     """One kernel answer per group (or for the whole frame) as a GeoDataFrame in user terms."""
-    pf = prepare(frame, "frame", planar=planar, centroids=centroids)
+    pf = prepare(frame, "frame", planar=planar, centroids=centroids, **model)
     groups = groups_of(pf.frame, by, "frame")
     rows = {"points": pf.rows, "weights": pf.rows}
     grouped = {} if groups is None else {"errors": errors}
@@ -26,7 +26,8 @@ def _one_per_group(kernel: Any, frame: Any, weight: Any, by: str | None, planar:
 
 def weber_point(
     frame: Any, weight: Any = None, by: str | None = None, *,
-    planar: bool = False, centroids: bool = False, errors: Literal["raise", "skip"] = "raise", **options: Any,
+    planar: bool = False, centroids: bool = False, work_crs: Any = None,
+    max_scale_error: float = MAX_SCALE_ERROR, errors: Literal["raise", "skip"] = "raise", **options: Any,
 ) -> Any:
     """The weighted Fermat–Weber point of a frame's points (one per group with ``by``).
 
@@ -70,12 +71,14 @@ def weber_point(
     ...
     placewise.InputError: frame has no CRS: ...
     """
-    return _one_per_group(_pw.weber_point, frame, weight, by, planar, centroids, errors, options, weighted=True)
+    return _one_per_group(_pw.weber_point, frame, weight, by, planar, centroids, errors, options, weighted=True,
+                          model={"work_crs": work_crs, "max_scale_error": max_scale_error})
 
 
 def minimax_point(
     frame: Any, weight: Any = None, by: str | None = None, *,
-    planar: bool = False, centroids: bool = False, errors: Literal["raise", "skip"] = "raise",
+    planar: bool = False, centroids: bool = False, work_crs: Any = None,
+    max_scale_error: float = MAX_SCALE_ERROR, errors: Literal["raise", "skip"] = "raise",
 ) -> Any:
     """The weighted minimax point (1-center): the site whose largest weighted trip is least.
 
@@ -95,12 +98,14 @@ def minimax_point(
     >>> round(float(gis.minimax_point(pts, planar=True)["weighted_radius_u"].iloc[0]), 6)   # 5/3
     1.666667
     """
-    return _one_per_group(_pw.minimax_point, frame, weight, by, planar, centroids, errors, {}, weighted=True)
+    return _one_per_group(_pw.minimax_point, frame, weight, by, planar, centroids, errors, {}, weighted=True,
+                          model={"work_crs": work_crs, "max_scale_error": max_scale_error})
 
 
 def enclosing_circle(
     frame: Any, by: str | None = None, *,
-    planar: bool = False, centroids: bool = False, errors: Literal["raise", "skip"] = "raise", **options: Any,
+    planar: bool = False, centroids: bool = False, work_crs: Any = None,
+    max_scale_error: float = MAX_SCALE_ERROR, errors: Literal["raise", "skip"] = "raise", **options: Any,
 ) -> Any:
     """The smallest circle covering a frame's points (one per group with ``by``).
 
@@ -119,12 +124,14 @@ def enclosing_circle(
     >>> float(gis.enclosing_circle(pts, planar=True)["radius_u"].iloc[0])
     1.666666666666...
     """
-    return _one_per_group(_pw.enclosing_circle, frame, None, by, planar, centroids, errors, options, weighted=False)
+    return _one_per_group(_pw.enclosing_circle, frame, None, by, planar, centroids, errors, options, weighted=False,
+                          model={"work_crs": work_crs, "max_scale_error": max_scale_error})
 
 
 def enclosing_ellipse(
     frame: Any, by: str | None = None, *,
-    planar: bool = False, centroids: bool = False, errors: Literal["raise", "skip"] = "raise", **options: Any,
+    planar: bool = False, centroids: bool = False, work_crs: Any = None,
+    max_scale_error: float = MAX_SCALE_ERROR, errors: Literal["raise", "skip"] = "raise", **options: Any,
 ) -> Any:
     """The minimum-area ellipse covering a frame's points (one per group with ``by``).
 
@@ -145,4 +152,5 @@ def enclosing_ellipse(
     >>> [round(float(e[c].iloc[0]), 5) for c in ("semi_major_u", "semi_minor_u")]   # a/sqrt2, b/sqrt2
     [2.82843, 1.41421]
     """
-    return _one_per_group(_pw.enclosing_ellipse, frame, None, by, planar, centroids, errors, options, weighted=False)
+    return _one_per_group(_pw.enclosing_ellipse, frame, None, by, planar, centroids, errors, options, weighted=False,
+                          model={"work_crs": work_crs, "max_scale_error": max_scale_error})
