@@ -841,3 +841,33 @@ def test_max_scale_error_must_be_a_fraction() -> None:
     frame = _lonlat_frame([10.0, 10.1], [60.0, 60.1])
     with pytest.raises(pw.InputError, match="max_scale_error"):
         gis.weber_point(frame, max_scale_error=2)
+
+
+def test_each_group_is_solved_in_a_frame_of_its_own() -> None:
+    from pyproj import Geod
+
+    # Two towns on opposite sides of the globe: one shared projection would distort one of
+    # them beyond use; each gets the UTM zone of its own centre.
+    rng = np.random.default_rng(11)
+    lon = np.r_[rng.uniform(10.6, 10.9, 50), rng.uniform(151.0, 151.3, 50)]
+    lat = np.r_[rng.uniform(59.8, 60.0, 50), rng.uniform(-33.9, -33.7, 50)]
+    town = np.repeat(["oslo-like", "sydney-like"], 50)
+    out = gis.weber_point(_lonlat_frame(lon, lat, town=town), by="town").set_index("town")
+    assert out.loc["oslo-like", "work_crs"] == "WGS 84 / UTM zone 32N"
+    assert out.loc["sydney-like", "work_crs"] == "WGS 84 / UTM zone 56S"
+    geod = Geod(ellps="WGS84")  # outside reference: GeographicLib geodesics
+    for name in ("oslo-like", "sydney-like"):
+        mine = town == name
+        site = out.loc[name, "geometry"]
+        _, _, metres = geod.inv(np.full(mine.sum(), site.x), np.full(mine.sum(), site.y), lon[mine], lat[mine])
+        error = float(out.loc[name, "scale_error"])
+        assert error <= 1e-3
+        assert abs(float(out.loc[name, "cost_m"]) - metres.sum()) <= error * metres.sum() * (1 + 1e-9)
+
+
+def test_a_group_too_wide_for_its_frame_is_named() -> None:
+    lon = np.r_[np.linspace(10.0, 10.2, 5), np.linspace(-5.0, 25.0, 5)]
+    lat = np.r_[np.full(5, 60.0), np.full(5, 50.0)]
+    frame = _lonlat_frame(lon, lat, zone=np.repeat(["small", "wide"], 5))
+    with pytest.raises(pw.InputError, match="group 'wide' spans too much"):
+        gis.spanning_tree(frame, by="zone")

@@ -54,38 +54,61 @@ MAX_SCALE_ERROR = 1e-3
 
 @dataclasses.dataclass
 class Prepared:
-    """Points of one frame, in the working (metric) CRS."""
+    """Points of one frame, in the working (metric) CRS — one for the frame, or one per group."""
 
     frame: Any  # the caller's GeoDataFrame
-    xy: np.ndarray  # (n, 2) float64 in the working CRS
+    xy: np.ndarray  # (n, 2) float64 in the working CRS (of each row's group)
     crs: Any  # the caller's CRS (None when planar without one)
-    work: Any  # the working CRS (None when planar without one)
+    work: Any  # the working CRS (None when planar without one; the first group's with frames)
     # For geographic input: the largest relative scale error of the working projection over
     # the data (None for projected or planar input, whose own units are used as they are).
     scale_error: float | None = None
-
-    def model(self) -> dict[str, Any]:
-        """Columns stating the model of a geographic result: its working frame and the
-        worst scale error that frame introduces over the data."""
-        if self.scale_error is None:
-            return {}
-        return {"work_crs": CRS(self.work).name, "scale_error": self.scale_error}
+    # The ``by`` groups, when they were coded here (see :func:`prepare`).
+    groups: Any = None
+    # Per-group working frames of geographic input: the distinct frames, each group's
+    # frame (index into ``frames``) and each group's worst scale error.
+    frames: list[Any] | None = None
+    frame_of_group: np.ndarray | None = None
+    group_error: np.ndarray | None = None
 
     @property
     def unit(self) -> str:
-        return unit_of(self.work)
+        return "m" if self.frames is not None else unit_of(self.work)
 
     @property
     def rows(self) -> np.ndarray:
         """The frame's index labels, by row position."""
         return self.frame.index.to_numpy(dtype=object)
 
-    def back(self, geoms: Any) -> Any:
-        """Working-CRS geometries as a GeoSeries in the caller's CRS."""
-        series = gpd.GeoSeries(np.asarray(geoms, dtype=object), crs=self.work)
-        if self.crs is not None and self.work is not None and not CRS(self.crs).equals(self.work):
-            series = series.to_crs(self.crs)
-        return series.reset_index(drop=True)
+    def back(self, geoms: Any, codes: np.ndarray | None = None) -> Any:
+        """Working-CRS geometries as a GeoSeries in the caller's CRS (``codes``: the group of
+        each geometry, when every group has its own frame)."""
+        geoms = np.asarray(geoms, dtype=object)
+        if self.frames is None or codes is None:
+            series = gpd.GeoSeries(geoms, crs=self.work)
+            if self.crs is not None and self.work is not None and not CRS(self.crs).equals(self.work):
+                series = series.to_crs(self.crs)
+            return series.reset_index(drop=True)
+        assert self.frame_of_group is not None
+        out = np.empty(len(geoms), dtype=object)
+        which = self.frame_of_group[np.asarray(codes, dtype=np.int64)]
+        for k, work in enumerate(self.frames):
+            mine = which == k
+            if mine.any():
+                out[mine] = gpd.GeoSeries(geoms[mine], crs=work).to_crs(self.crs).values
+        return gpd.GeoSeries(out, crs=self.crs)
+
+    def model(self, codes: np.ndarray | None = None) -> dict[str, Any]:
+        """Columns stating the model of a geographic result: its working frame and the worst
+        scale error that frame introduces over the data (per group with per-group frames)."""
+        if self.frames is not None and codes is not None:
+            assert self.frame_of_group is not None and self.group_error is not None
+            codes = np.asarray(codes, dtype=np.int64)
+            names = np.array([CRS(f).name for f in self.frames], dtype=object)
+            return {"work_crs": names[self.frame_of_group[codes]], "scale_error": self.group_error[codes]}
+        if self.scale_error is None:
+            return {}
+        return {"work_crs": CRS(self.work).name, "scale_error": self.scale_error}
 
 
 def as_frame(obj: Any, name: str) -> Any:
@@ -206,9 +229,59 @@ def scale_error_over(work: Any, lonlat: np.ndarray, xy: np.ndarray) -> float:
     return float(np.nanmax(error))
 
 
+def _utm_of(lon: float, lat: float) -> CRS:
+    """The WGS 84 UTM zone of a point (EPSG 326zz north, 327zz south)."""
+    zone = int(np.floor((lon + 180.0) / 6.0)) % 60 + 1
+    return CRS.from_epsg((32600 if lat >= 0 else 32700) + zone)
+
+
+def _frames_per_group(
+    lonlat: np.ndarray, groups: Groups, name: str, max_scale_error: float,
+) -> tuple[np.ndarray, list[Any], np.ndarray, np.ndarray]:
+    """Each group in the UTM zone of its own centre: the points in their group's frame, the
+    distinct frames, each group's frame and each group's worst scale error.
+
+    Why per group: one projection shared by groups far apart distorts the distant ones; a
+    group's own zone keeps its scale error within UTM's (about 0.1 % across a zone).
+    """
+    from pyproj import Proj, Transformer
+
+    count = len(groups.values)
+    lo = np.full((count, 2), np.inf)
+    hi = np.full((count, 2), -np.inf)
+    np.minimum.at(lo, groups.codes, lonlat)
+    np.maximum.at(hi, groups.codes, lonlat)
+    centre = (lo + hi) / 2
+    epsg = np.array([_utm_of(float(c[0]), float(c[1])).to_epsg() for c in centre])
+    frames = [CRS.from_epsg(int(e)) for e in np.unique(epsg)]
+    frame_of_group = np.searchsorted(np.unique(epsg), epsg)
+    xy = np.empty_like(lonlat)
+    error = np.zeros(count)
+    row_frame = frame_of_group[groups.codes]
+    for k, work in enumerate(frames):
+        mine = np.flatnonzero(row_frame == k)
+        to_work = Transformer.from_crs("EPSG:4326", work, always_xy=True)
+        xy[mine, 0], xy[mine, 1] = to_work.transform(lonlat[mine, 0], lonlat[mine, 1])
+        # PROJ's scale factors at every point of the zone's groups (a transverse Mercator
+        # frame distorts most far from its central meridian, least on it: k0 = 0.9996).
+        factors = Proj(work).get_factors(lonlat[mine, 0], lonlat[mine, 1])
+        per_row = np.maximum(np.abs(np.asarray(factors.meridional_scale) - 1.0),
+                             np.abs(np.asarray(factors.parallel_scale) - 1.0))
+        np.maximum.at(error, groups.codes[mine], per_row)
+    worst = int(np.argmax(error))
+    if error[worst] > max_scale_error:
+        raise InputError(
+            f"{name}: group {plain(groups.values[worst])!r} spans too much of the globe for one planar frame: "
+            f"{CRS(frames[frame_of_group[worst]]).name!r} distorts its distances by up to "
+            f"{100 * error[worst]:.3g} % (more than the {100 * max_scale_error:.3g} % allowed); split it into "
+            "smaller groups, pass work_crs= with a projection suited to it, or raise max_scale_error="
+        )
+    return xy, frames, frame_of_group, error
+
+
 def prepare(
     obj: Any, name: str, *, planar: bool, centroids: bool, work: Any = "estimate", work_crs: Any = None,
-    max_scale_error: float = MAX_SCALE_ERROR,
+    max_scale_error: float = MAX_SCALE_ERROR, by: str | None = None,
 ) -> Prepared:
     """Validate a frame and bring its points into the working CRS.
 
@@ -217,17 +290,24 @@ def prepare(
     agree on having one. Geographic input is checked (latitudes within ±90, longitudes
     within ±540) and the working projection's worst scale error over the data is measured:
     beyond ``max_scale_error`` (unless ``work_crs`` was chosen by the caller) it is an
-    ``InputError`` saying how to proceed, never a silent distortion.
+    ``InputError`` saying how to proceed, never a silent distortion. With ``by``, the
+    groups are coded here (``Prepared.groups``) and geographic input puts each group in a
+    frame of its own.
     """
     frame = as_frame(obj, name)
     if len(frame) == 0:
         raise InputError(f"{name} has no rows")
     if not (isinstance(max_scale_error, (int, float)) and 0 < max_scale_error < 1):
         raise InputError(f"max_scale_error must be a number between 0 and 1; got {max_scale_error!r}")
+    groups = groups_of(frame, by, name)
     geographic = frame.crs is not None and CRS(frame.crs).is_geographic
     lonlat = _points_of(frame, name, centroids) if geographic else None
     if lonlat is not None:
         _check_lonlat(frame, lonlat, name)
+        if groups is not None and isinstance(work, str) and work_crs is None and not planar:
+            xy, frames, frame_of_group, error = _frames_per_group(lonlat, groups, name, max_scale_error)
+            return Prepared(frame, xy, frame.crs, frames[0], float(error.max()), groups, frames, frame_of_group,
+                            error)
     if isinstance(work, str):
         work = _working_crs(frame, name, planar, work_crs)
     elif (work is None) != (frame.crs is None):
@@ -240,7 +320,7 @@ def prepare(
     if lonlat is None:
         if frame.crs is not None:
             _warn_degrees_in_projected(frame, xy, name, frame.crs)
-        return Prepared(frame, xy, frame.crs, work)
+        return Prepared(frame, xy, frame.crs, work, groups=groups)
     error = scale_error_over(work, lonlat, xy)
     if error > max_scale_error and work_crs is None:
         extent = float(np.ptp(xy, axis=0).max()) / 1000
@@ -250,7 +330,7 @@ def prepare(
             "allowed); split the data into smaller groups (by=), pass work_crs= with a projection suited to "
             "the whole area, or raise max_scale_error="
         )
-    return Prepared(frame, xy, frame.crs, work, error)
+    return Prepared(frame, xy, frame.crs, work, error, groups)
 
 
 def column(frame: Any, spec: Any, name: str, what: str) -> np.ndarray:
@@ -345,11 +425,15 @@ def call(
 
 def in_user_terms(
     table: Any, result: Any, groups: Groups | None, rows: Mapping[str, Any] | None = None,
-    *, count: bool = False,
+    *, count: bool = False, prepared: Prepared | None = None,
 ) -> Any:
     """A result's table with its ``group`` column replaced by the ``by`` column (the user's
-    values) and its ``problem`` column restated with the user's group values and row labels."""
+    values) and its ``problem`` column restated with the user's group values and row labels;
+    with ``prepared``, the model columns of geographic input (working frame, scale error)."""
     if groups is None:
+        if prepared is not None:
+            for name, value in prepared.model().items():
+                table[name] = value
         return table
     code = table["group"].to_numpy(dtype=np.int64)
     problems = restate_problems(result.problem_detail, groups.values, rows)
@@ -358,6 +442,9 @@ def in_user_terms(
     if count:
         table.insert(1, "points", groups.counts[code])
     table["problem"] = problems[code]
+    if prepared is not None:
+        for name, value in prepared.model(code).items():
+            table[name] = value
     if isinstance(table, gpd.GeoDataFrame):
         # A skipped group has no shape: a missing geometry, which every writer stores as
         # null, rather than the kernel's NaN placeholder (``POINT (NaN NaN)``).
@@ -383,20 +470,14 @@ def framed(
     rows, and ``row_columns`` (input row positions, -1 for none) become the frame's index
     labels (None for none). ``count=True`` adds the rows used (per group).
     """
-    out = with_unit(result, prepared).to_geodataframe(crs=prepared.work)
-    out = gpd.GeoDataFrame(out.drop(columns=out.geometry.name), geometry=prepared.back(out.geometry.values).values,
-                           crs=prepared.crs)
+    out = with_unit(result, prepared).to_geodataframe(crs=None if prepared.frames else prepared.work)
+    codes = out["group"].to_numpy(dtype=np.int64) if groups is not None else None
+    out = gpd.GeoDataFrame(out.drop(columns=out.geometry.name),
+                           geometry=prepared.back(out.geometry.values, codes).values, crs=prepared.crs)
     row_labels(out, prepared, row_columns)
     if groups is None and count:
         out.insert(0, "points", len(prepared.xy))
-    return stamp_model(in_user_terms(out, result, groups, rows, count=count), prepared)
-
-
-def stamp_model(table: Any, prepared: Prepared) -> Any:
-    """Add the model columns of geographic input (working frame, worst scale error)."""
-    for name, value in prepared.model().items():
-        table[name] = value
-    return table
+    return in_user_terms(out, result, groups, rows, count=count, prepared=prepared)
 
 
 def row_labels(table: Any, prepared: Prepared, columns: Sequence[str]) -> None:

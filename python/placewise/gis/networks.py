@@ -6,7 +6,7 @@ from typing import Any, Literal, NamedTuple
 
 import placewise as _pw
 
-from ._frames import MAX_SCALE_ERROR, call, framed, groups_of, in_user_terms, prepare, stamp_model, with_unit
+from ._frames import MAX_SCALE_ERROR, call, framed, in_user_terms, prepare, with_unit
 
 __all__ = ["Network", "spanning_tree", "steiner_tree"]
 
@@ -32,8 +32,8 @@ class Network(NamedTuple):
 
 def _network(kernel: Any, frame: Any, by: str | None, planar: bool, centroids: bool, errors: str,
              options: dict[str, Any], model: dict[str, Any]) -> Network:
-    pf = prepare(frame, "frame", planar=planar, centroids=centroids, **model)
-    groups = groups_of(pf.frame, by, "frame")
+    pf = prepare(frame, "frame", planar=planar, centroids=centroids, by=by, **model)
+    groups = pf.groups
     rows = {"points": pf.rows}
     grouped = {} if groups is None else {"errors": errors}
     result = call(kernel, pf.xy, groups=groups, rows=rows, **grouped, **options)
@@ -41,7 +41,7 @@ def _network(kernel: Any, frame: Any, by: str | None, planar: bool, centroids: b
     summary = with_unit(result, pf).summary()
     if groups is None:
         summary.insert(0, "points", len(pf.xy))
-    summary = stamp_model(in_user_terms(summary, result, groups, rows, count=True), pf)
+    summary = in_user_terms(summary, result, groups, rows, count=True, prepared=pf)
     return Network(edges, summary)
 
 

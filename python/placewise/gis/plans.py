@@ -17,7 +17,6 @@ from ._frames import (
     in_user_terms,
     prepare,
     shared_groups,
-    stamp_model,
     weights,
     with_unit,
 )
@@ -63,7 +62,7 @@ def _demand_layer(pf: Prepared, result: Any, site_labels: np.ndarray) -> Any:
 
 
 def _summary(result: Any, pf: Prepared, groups: Any, rows: Any) -> Any:
-    return stamp_model(in_user_terms(with_unit(result, pf).summary(), result, groups, rows), pf)
+    return in_user_terms(with_unit(result, pf).summary(), result, groups, rows, prepared=pf)
 
 
 def nearest_site(
@@ -124,8 +123,9 @@ def nearest_site(
 
 def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bool, centroids: bool,
           errors: str, options: dict[str, Any], model: dict[str, Any], fixed: Any = None) -> SitePlan:
-    pf = prepare(frame, "frame", planar=planar, centroids=centroids, **model)
-    groups = groups_of(pf.frame, by, "frame")
+    # Each group in a frame of its own, unless existing sites must share the demand's frame.
+    pf = prepare(frame, "frame", planar=planar, centroids=centroids, by=by if fixed is None else None, **model)
+    groups = pf.groups if fixed is None else groups_of(pf.frame, by, "frame")
     rows = {"points": pf.rows, "weights": pf.rows}
     if fixed is not None:
         ff = prepare(fixed, "fixed", planar=planar, centroids=centroids, work=pf.work, **model)
@@ -150,12 +150,12 @@ def framed_sites(sites: Any, pf: Prepared, result: Any, groups: Any, rows: Any) 
     """A plan's sites table as points in the caller's CRS, in the user's terms."""
     import geopandas as gpd
 
-    geometry = pf.back(gpd.points_from_xy(sites["x"], sites["y"])).values
+    codes = sites["group"].to_numpy(dtype=np.int64) if groups is not None else None
+    geometry = pf.back(gpd.points_from_xy(sites["x"], sites["y"]), codes).values
     out = gpd.GeoDataFrame(sites, geometry=geometry, crs=pf.crs)
-    if groups is not None:
-        out = in_user_terms(out, result, groups, rows)
+    out = in_user_terms(out, result, groups, rows, prepared=pf)
     out.index.name = "site"
-    return stamp_model(out, pf)
+    return out
 
 
 def p_median(

@@ -7,7 +7,7 @@ from typing import Any, Literal
 
 import placewise as _pw
 
-from ._frames import MAX_SCALE_ERROR, call, framed, groups_of, prepare, weights
+from ._frames import MAX_SCALE_ERROR, call, framed, prepare, weights
 
 __all__ = ["enclosing_circle", "enclosing_ellipse", "minimax_point", "weber_point"]
 
@@ -15,8 +15,8 @@ __all__ = ["enclosing_circle", "enclosing_ellipse", "minimax_point", "weber_poin
 def _one_per_group(kernel: Any, frame: Any, weight: Any, by: str | None, planar: bool, centroids: bool,
                    errors: str, options: dict[str, Any], weighted: bool, model: dict[str, Any]) -> Any:
     """One kernel answer per group (or for the whole frame) as a GeoDataFrame in user terms."""
-    pf = prepare(frame, "frame", planar=planar, centroids=centroids, **model)
-    groups = groups_of(pf.frame, by, "frame")
+    pf = prepare(frame, "frame", planar=planar, centroids=centroids, by=by, **model)
+    groups = pf.groups
     rows = {"points": pf.rows, "weights": pf.rows}
     grouped = {} if groups is None else {"errors": errors}
     arguments = (pf.xy, weights(pf, weight, "frame")) if weighted else (pf.xy,)
