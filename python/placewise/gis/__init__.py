@@ -5,9 +5,15 @@ GeoDataFrames in the input's CRS. Coordinates are handled as follows:
 
 * a **projected** CRS is used as it is — distances, costs and areas come out in its units,
   named in the columns (``distance_m``, ``area_m2``; ``_ft`` for feet);
-* a **geographic** CRS (degrees) is projected to the frame's estimated UTM zone
-  (``GeoDataFrame.estimate_utm_crs``, via pyproj), the kernel runs there, and geometries are
-  projected back — distances and costs are then metres and areas square metres;
+* a **geographic** CRS (degrees) is checked (latitudes within ±90, longitudes within
+  ±540, swapped columns named) and projected to a UTM zone — the frame's, or with ``by=``
+  each group's own — the kernel runs there, and geometries are projected back: distances
+  and costs are metres and areas square metres. The zone's worst scale error over the data
+  is measured (PROJ's scale factors) and stated in the ``scale_error`` and ``work_crs``
+  columns; beyond ``max_scale_error`` (default 0.1 %) the call is refused with an
+  ``InputError`` saying how to proceed (split with ``by=``, or choose ``work_crs=``), never
+  answered with silently distorted metres. Geographic regions are densified along their
+  edges before projection;
 * **no CRS** raises ``InputError`` unless ``planar=True`` says the coordinates are already
   planar (columns then end in ``_u``: the coordinates' own unit).
 
