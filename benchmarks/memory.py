@@ -38,7 +38,7 @@ with open("/proc/self/clear_refs", "w") as f:
 before = status("VmRSS")
 allocation = pw.nearest_site(points, sites, weights)
 peak = status("VmHWM")
-output = sum(np.asarray(getattr(allocation, f)).nbytes for f in ("index", "distance", "load"))
+output = sum(np.asarray(getattr(allocation, f)).nbytes for f in ("assignment", "distance", "load", "count"))
 print(json.dumps({"extra": peak - before, "output": output}))
 """
 
