@@ -23,6 +23,8 @@
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 
 mod batch;
+pub mod cancel;
+mod discrete;
 mod enclose;
 mod error;
 mod geometry;
@@ -38,6 +40,10 @@ mod py;
 // The public Rust interface: the kernels, their options and results, and the types they
 // share. Everything else (helpers, frames, predicates) is private to the crate.
 pub use batch::{Grouped, OnGroupError, RowPlaces};
+pub use discrete::{
+    cover_all, cover_most, discrete_p_center, discrete_p_median, euclidean_costs, evaluate_sites, CostMatrix, CoverAll,
+    CoverMost, Coverage, DiscreteCenter, DiscreteMedian, DiscreteMedianOptions, SiteService, MAX_COST_CELLS,
+};
 pub use enclose::{
     enclosing_circle, enclosing_circle_with, enclosing_circles, enclosing_ellipse, enclosing_ellipses, minimax_point,
     minimax_points, Circle, CircleOptions, Ellipse, MinimaxPoint,

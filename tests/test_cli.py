@@ -8,9 +8,12 @@ pandas/geopandas, and is compared with an outside reference named beside the che
 from __future__ import annotations
 
 import io
+import os
+import re
 import shutil
 import subprocess
 import sys
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -141,9 +144,15 @@ def test_missing_file(capsys, tmp_path):
     assert_user_error(code, err, "nowhere.csv", "no such file")
 
 
-def test_missing_column(csv_path, capsys):
-    code, _, err = run(["weber-point", csv_path, "--planar"], capsys)
+def test_missing_column(csv_path, tmp_path, capsys):
+    code, _, err = run(["weber-point", csv_path, "--x", "x", "--y", "north", "--planar"], capsys)
     assert_user_error(code, err, "no column 'x'", "--x")
+    odd = tmp_path / "odd.csv"
+    odd.write_text("a,b\n1,2\n")
+    code, _, err = run(["weber-point", odd, "--planar"], capsys)
+    assert_user_error(code, err, "no coordinate columns recognised", "--x and --y")
+    code, _, err = run(["weber-point", odd, "--x", "a", "--planar"], capsys)
+    assert_user_error(code, err, "--x and --y go together")
     code, _, err = run(["weber-point", csv_path, "--x", "east", "--y", "north", "--planar", "--weight", "visits"],
                        capsys)
     assert_user_error(code, err, "'visits'", "--weight")
@@ -193,7 +202,7 @@ def test_errors_skip_keeps_the_group_as_a_row(tmp_path, capsys):
     path = tmp_path / "g.csv"
     pd.DataFrame({"x": [0.0, 6, 6, 0, 9], "y": [0.0, 0, 2, 2, 9], "town": ["oslo"] * 4 + ["bergen"]}).to_csv(
         path, index=False)
-    out_path = tmp_path / "e.geojson"
+    out_path = tmp_path / "e.gpkg"  # planar: GeoJSON would claim longitude/latitude
     code, _, err = run(["enclosing-ellipse", path, "--planar", "--by", "town", "--errors", "skip", "--tol", "1e-10",
                         "-o", out_path], capsys)
     assert code == 0, err
@@ -394,3 +403,275 @@ def test_python_dash_m_and_console_script(csv_path):
                              timeout=120)
         assert bad.returncode == 2
         assert bad.stderr.count("\n") == 1 and "Traceback" not in bad.stderr
+
+
+# ---------------------------------------------------------------- formats, ids and coordinate columns
+
+TOWNS = pd.DataFrame({
+    "name": ["Arnby", "Bresk", "Corvik", "Dalen", "Elmholt", "Fjardo", "Gransund"],  # invented places
+    "lon": [10.02, 10.31, 10.55, 10.18, 10.72, 10.44, 10.09],
+    "lat": [59.91, 59.97, 59.88, 60.12, 60.05, 60.21, 60.02],
+    "people": [1200, 800, 450, 950, 300, 620, 700],
+})
+
+
+def towns_csv(folder):
+    path = folder / "towns.csv"
+    TOWNS.to_csv(path, index=False)
+    return path
+
+
+def towns_utm():
+    """The towns in UTM zone 32N by pyproj (the zone the gis layer estimates for them)."""
+    from pyproj import Transformer
+
+    e, n = Transformer.from_crs(4326, 32632, always_xy=True).transform(TOWNS["lon"].to_numpy(), TOWNS["lat"].to_numpy())
+    return np.column_stack([e, n])
+
+
+def test_lon_lat_columns_are_recognised_and_default_to_wgs84(tmp_path, capsys):
+    code, out, err = run(["weber-point", towns_csv(tmp_path), "--weight", "people"], capsys)
+    assert code == 0, err
+    assert "'lon', 'lat'" in err and "EPSG:4326" in err  # the choice is printed
+    xy, w = towns_utm(), TOWNS["people"].to_numpy(float)
+    assert table_of(out)["cost_m"].iloc[0] == pytest.approx(weber_cost_scipy(xy, w), rel=1e-6)  # scipy in UTM 32N
+    assert {"lon", "lat"} <= set(table_of(out).columns)  # the point written under the input's own names
+
+
+@pytest.mark.parametrize("names", [("Easting", "Northing"), ("east", "north"), ("X", "Y")])
+def test_planar_spellings_are_recognised(tmp_path, capsys, names):
+    path = tmp_path / "p.csv"
+    pd.DataFrame({names[0]: XY[:, 0], names[1]: XY[:, 1]}).to_csv(path, index=False)
+    code, out, err = run(["enclosing-circle", path, "--planar"], capsys)
+    assert code == 0, err
+    r = shapely.minimum_bounding_radius(shapely.multipoints(XY))  # GEOS reference
+    assert table_of(out)["radius_u"].iloc[0] == pytest.approx(r, rel=1e-9)
+
+
+def test_lon_lat_choice_can_be_overridden_and_checked(tmp_path, capsys):
+    path = towns_csv(tmp_path)
+    code, out, err = run(["enclosing-circle", path, "--planar"], capsys)  # --planar: degrees as plain numbers
+    assert code == 0, err
+    r = shapely.minimum_bounding_radius(shapely.multipoints(TOWNS[["lon", "lat"]].to_numpy()))  # GEOS
+    assert table_of(out)["radius_u"].iloc[0] == pytest.approx(r, rel=1e-9)
+    bad = tmp_path / "bad.csv"
+    pd.DataFrame({"lon": [10.0, 500_000.0], "lat": [60.0, 6_600_000.0]}).to_csv(bad, index=False)
+    code, _, err = run(["enclosing-circle", bad], capsys)
+    assert_user_error(code, err, "'lon'", "500000", "line 3", "--crs")
+    two = tmp_path / "two.csv"
+    pd.DataFrame({"lon": [1.0], "longitude": [1.0], "lat": [2.0]}).to_csv(two, index=False)
+    code, _, err = run(["enclosing-circle", two], capsys)
+    assert_user_error(code, err, "'lon', 'longitude'", "--x")
+
+
+def test_planar_with_crs_is_refused(csv_path, capsys):
+    with pytest.raises(SystemExit) as info:
+        main(["weber-point", str(csv_path), "--planar", "--crs", "EPSG:32632"])
+    _, err = capsys.readouterr()
+    assert_user_error(info.value.code, err, "--planar", "--crs")
+
+
+def test_planar_geojson_is_refused_and_gpkg_keeps_no_crs(csv_path, tmp_path, capsys):
+    code, _, err = run(["enclosing-circle", csv_path, "--planar", "-o", tmp_path / "c.geojson"], capsys)
+    assert_user_error(code, err, "GeoJSON", "longitude/latitude", ".gpkg")
+    assert not (tmp_path / "c.geojson").exists()
+    code, _, err = run(["enclosing-circle", csv_path, "--planar", "-o", tmp_path / "c.gpkg"], capsys)
+    assert code == 0, err
+    back = gpd.read_file(tmp_path / "c.gpkg")
+    assert back.crs is None  # not read back as WGS84
+    r = shapely.minimum_bounding_radius(shapely.multipoints(XY))  # GEOS
+    assert back["radius_u"].iloc[0] == pytest.approx(r, rel=1e-9)
+
+
+def test_geopackage_layers_and_shapefile(csv_path, tmp_path, capsys):
+    plan = tmp_path / "plan.gpkg"
+    code, _, err = run(["p-median", *utm(csv_path), "-p", "3", "--weight", "people", "-o", plan,
+                        "--assignment", plan, "--summary", f"{plan}:totals", "-q"], capsys)
+    assert code == 0, err
+    import pyogrio
+
+    assert sorted(pyogrio.list_layers(plan)[:, 0]) == ["assignment", "sites", "totals"]
+    sites = gpd.read_file(plan, layer="sites")
+    assigned = gpd.read_file(plan, layer="assignment")
+    assert sites.crs.to_epsg() == 32632
+    d, i = cKDTree(shapely.get_coordinates(sites.geometry)).query(XY)  # scipy, on the sites written
+    assert assigned["site"].tolist() == sites["site"].to_numpy()[i].tolist()
+    assert gpd.read_file(plan, layer="totals")["cost_m"].iloc[0] == pytest.approx(float(W @ d), rel=1e-9)
+    # Reading a GeoPackage of several layers needs the layer; a missing one is named.
+    code, _, err = run(["enclosing-circle", plan], capsys)
+    assert_user_error(code, err, "sites, assignment, totals", "LAYER")
+    code, _, err = run(["enclosing-circle", f"{plan}:nope"], capsys)
+    assert_user_error(code, err, "no layer 'nope'")
+    code, out, err = run(["minimax-point", f"{plan}:assignment", "-o", tmp_path / "c.shp"], capsys)
+    assert code == 0, err
+    assert "weighted_radius_m shortened" in err  # Shapefile field names hold 10 characters
+    circle = gpd.read_file(tmp_path / "c.shp")
+    assert circle.crs.to_epsg() == 32632
+    r = shapely.minimum_bounding_radius(shapely.multipoints(XY))  # GEOS; unit weights: the minimax radius
+    assert circle["weighted_r"].iloc[0] == pytest.approx(r, rel=1e-9)
+    code, out, err = run(["enclosing-circle", tmp_path / "c.shp", "-q"], capsys)  # Shapefile in
+    assert code == 0, err
+
+
+def test_id_names_tree_ends_and_assignments(tmp_path, capsys):
+    path = towns_csv(tmp_path)
+    code, out, err = run(["spanning-tree", path, "--id", "name"], capsys)
+    assert code == 0, err
+    edges = table_of(out)
+    # scipy csgraph MST on the UTM coordinates, its edges named by the towns
+    tree = minimum_spanning_tree(cdist(towns_utm(), towns_utm())).tocoo()
+    names = TOWNS["name"].to_numpy()
+    expected = {frozenset((names[a], names[b])) for a, b in zip(tree.row, tree.col)}
+    assert {frozenset(e) for e in zip(edges["end_a"], edges["end_b"])} == expected
+    code, _, err = run(["p-median", path, "-p", "2", "--weight", "people", "--id", "name", "--assignment",
+                        tmp_path / "a.csv", "-q"], capsys)
+    assert code == 0, err
+    assigned = pd.read_csv(tmp_path / "a.csv")
+    assert assigned["name"].tolist() == TOWNS["name"].tolist()
+    sites_path = tmp_path / "depots.csv"
+    pd.DataFrame({"depot": ["north", "south"], "lon": [10.3, 10.3], "lat": [60.15, 59.9]}).to_csv(sites_path,
+                                                                                                   index=False)
+    code, out, err = run(["nearest-site", path, "--sites", sites_path, "--id", "depot", "-q"], capsys)
+    assert_user_error(code, err, "no column 'depot' for --id")  # the main input must have the --id column
+    code, out, err = run(["nearest-site", path, "--sites", sites_path, "--id", "name", "-q"], capsys)
+    assert code == 0, err
+    assert table_of(out)["name"].tolist() == TOWNS["name"].tolist()
+
+
+def test_bad_ids(tmp_path, capsys):
+    path = tmp_path / "ids.csv"
+    path.write_text("name,x,y\na,0,0\nb,1,0\na,0,1\n")
+    code, _, err = run(["spanning-tree", path, "--planar", "--id", "name"], capsys)
+    assert_user_error(code, err, "repeats 'a'", "line 2", "line 4")
+    path.write_text("name,x,y\na,0,0\n,1,0\nc,0,1\n")
+    code, _, err = run(["spanning-tree", path, "--planar", "--id", "name"], capsys)
+    assert_user_error(code, err, "empty on line 3")
+
+
+def test_delaunay_command_against_scipy(tmp_path, capsys):
+    from scipy.spatial import Delaunay
+
+    pts = RNG.uniform(0, 100, size=(40, 2))
+    path = tmp_path / "p.csv"
+    pd.DataFrame({"site": [f"s{k}" for k in range(40)], "x": pts[:, 0], "y": pts[:, 1]}).to_csv(path, index=False)
+    code, _, err = run(["delaunay", path, "--planar", "--id", "site", "-o", tmp_path / "mesh.gpkg"], capsys)
+    assert code == 0, err
+    mesh = gpd.read_file(tmp_path / "mesh.gpkg")
+    ours = {frozenset(t) for t in mesh[["corner_a", "corner_b", "corner_c"]].itertuples(index=False)}
+    ref = {frozenset(f"s{k}" for k in t) for t in Delaunay(pts).simplices}  # scipy (Qhull); general position
+    assert ours == ref
+    hull = shapely.convex_hull(shapely.multipoints(pts)).area  # shapely: the triangles tile the hull
+    assert mesh["area_u2"].sum() == pytest.approx(hull, rel=1e-9)
+    assert f"{len(ref)} triangle(s); total area {hull:.6g} coordinate units squared" in err
+    line = tmp_path / "line.csv"
+    line.write_text("x,y\n0,0\n1,1\n2,2\n")
+    code, _, err = run(["delaunay", line, "--planar"], capsys)
+    assert_user_error(code, err, "collinear")
+
+
+def test_rows_are_named_as_the_file_counts_them(tmp_path, capsys):
+    path = tmp_path / "w.csv"
+    path.write_text("x,y,w\n0,0,1\n\n1,0,2\n0,1,-1\n")  # a blank line 3: the bad weight is on line 5
+    code, _, err = run(["weber-point", path, "--planar", "--weight", "w"], capsys)
+    line = assert_user_error(code, err, "weights[5] = -1", "line numbers of")
+    assert "frame" not in line
+
+
+def test_header_only_and_empty_layers_say_no_rows(tmp_path, capsys):
+    path = tmp_path / "h.csv"
+    path.write_text("x,y,w\n")
+    code, _, err = run(["weber-point", path, "--planar"], capsys)
+    line = assert_user_error(code, err, "no rows")
+    assert "frame" not in line
+
+
+@pytest.mark.filterwarnings("ignore:'crs' was not provided")  # the file is meant to have no CRS
+def test_no_crs_speaks_of_the_input_not_a_frame(tmp_path, capsys):
+    path = tmp_path / "p.gpkg"
+    gpd.GeoDataFrame(geometry=gpd.points_from_xy([0, 1, 2], [0, 1, 0])).to_file(path)
+    code, _, err = run(["weber-point", path], capsys)
+    line = assert_user_error(code, err, "the input")
+    assert "frame" not in line
+    code, _, err = run(["weber-point", towns_csv(tmp_path)], capsys)
+    code, _, err = run(["weber-point", tmp_path / "towns.gpkg"], capsys)
+    assert_user_error(code, err, "no such file")
+
+
+def test_broken_pipe_exits_quietly(tmp_path):
+    big = tmp_path / "big.csv"
+    pts = RNG.uniform(0, 1000, size=(20_000, 2))
+    pd.DataFrame({"x": pts[:, 0], "y": pts[:, 1]}).to_csv(big, index=False)
+    sites = tmp_path / "s.csv"
+    pd.DataFrame({"x": [100.0, 900.0], "y": [100.0, 900.0]}).to_csv(sites, index=False)
+    cmd = (f"{sys.executable} -m placewise nearest-site {big} --sites {sites} --planar | head -1; "
+           "echo status=${PIPESTATUS[0]} >&2")
+    done = subprocess.run(["bash", "-c", cmd], capture_output=True, text=True, timeout=120)
+    assert done.stdout.count("\n") == 1  # head printed the header
+    status = done.stderr.strip().splitlines()[-1]
+    assert status in ("status=0", "status=141"), done.stderr
+    assert done.stderr.strip() == status  # no message, no traceback
+
+
+def test_demo_command_checks_its_folder(tmp_path, capsys):
+    taken = tmp_path / "taken"
+    taken.write_text("a file, not a folder")
+    code, _, err = run(["demo", "--out", taken], capsys)
+    assert_user_error(code, err, "not a folder")
+
+
+def test_data_too_wide_for_one_projection_speaks_of_options(tmp_path, capsys):
+    path = tmp_path / "wide.csv"
+    path.write_text("lon,lat\n-170,0\n0,10\n170,-10\n")
+    code, _, err = run(["weber-point", path], capsys)
+    line = assert_user_error(code, err, "--work-crs", "--max-scale-error", "--by")
+    assert "frame" not in line and "=" not in line
+    code, _, err = run(["weber-point", path, "--work-crs", "EPSG:nope"], capsys)
+    assert_user_error(code, err, "--work-crs", "not a coordinate reference system")
+
+
+def test_every_option_has_help():
+    from placewise.cli import build_parser
+
+    parser = build_parser()
+    sub = next(a for a in parser._actions if a.dest == "command")
+    assert "delaunay" in sub.choices
+    for name, command in sub.choices.items():
+        for action in command._actions:
+            assert action.help, f"{name} {action.option_strings or action.dest} has no help text"
+
+
+@pytest.mark.parametrize("command", ["weber-point", "minimax-point", "enclosing-circle", "enclosing-ellipse",
+                                     "delaunay", "spanning-tree", "steiner-tree", "p-median", "p-center"])
+def test_every_summary_line_states_its_unit(tmp_path, capsys, command):
+    extra = ["-p", "2"] if command.startswith("p-") else (["--heuristic"] if command == "steiner-tree" else [])
+    code, _, err = run([command, towns_csv(tmp_path), *extra], capsys)
+    assert code == 0, err
+    summary = err.strip().splitlines()[-1]
+    # After the counts, every number is followed by its unit (metres, the towns' UTM zone).
+    units = re.findall(r"\d[\d.]*(?:e[+-]?\d+)?( \S+)", summary.split(";", 1)[1])
+    assert units and set(units) <= {" m", " m:", " %", " (weight"}, summary
+
+
+# ---------------------------------------------------------------- the README's examples, as written
+
+
+def readme_commands():
+    text = (Path(__file__).resolve().parent.parent / "README.md").read_text()
+    section = text.split("## Command line", 1)[1].split("\n## ", 1)[0]
+    blocks = re.findall(r"```console\n(.*?)```", section, flags=re.S)
+    return [line[2:] for block in blocks for line in block.splitlines() if line.startswith("$ ")]
+
+
+def test_readme_commands_run_as_written(tmp_path):
+    commands = readme_commands()
+    assert len(commands) >= 5
+    towns_csv(tmp_path)  # the README's towns.csv (columns name, lon, lat, people)
+    env = {**os.environ, "PATH": f"{Path(sys.executable).parent}{os.pathsep}{os.environ.get('PATH', '')}"}
+    for command in commands:  # in order: earlier commands write the files later ones read
+        done = subprocess.run(["bash", "-o", "pipefail", "-c", command], cwd=tmp_path, env=env,
+                              capture_output=True, text=True, timeout=120)
+        assert done.returncode == 0, (command, done.stderr)
+        assert "Traceback" not in done.stderr
+    import pyogrio
+
+    assert sorted(pyogrio.list_layers(tmp_path / "plan.gpkg")[:, 0]) == ["assignment", "sites", "summary"]

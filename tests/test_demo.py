@@ -1,63 +1,195 @@
-"""The demo: runs end to end, writes readable maps, layers and a summary with the model note."""
+"""The demo: runs end to end, writes readable maps, placed layers and tidy tables with the model note."""
 
 from __future__ import annotations
 
+import contextlib
+import csv
+import io
 import json
 
 import numpy as np
 import pytest
 
 pytest.importorskip("matplotlib")
+gpd = pytest.importorskip("geopandas")
+import matplotlib  # noqa: E402
+
+matplotlib.use("Agg")
 import shapely  # noqa: E402
 
 from placewise import demo  # noqa: E402
 from placewise._scenario import orsavel  # noqa: E402
 from placewise.cli import main  # noqa: E402
 
+MAPS = ("depots", "catchments", "network")
+LAYERS = ("region", "towns", "depots_central", "depots_p_median", "depots_p_center", "households", "catchments",
+          "demand_ellipse", "links_mst", "links_steiner")
+
 
 @pytest.fixture(scope="module")
 def ran(tmp_path_factory):
+    """One run of the demo, its figures kept open so that their layout can be measured."""
     out = tmp_path_factory.mktemp("demo")
-    import contextlib
-    import io
-
     buffer = io.StringIO()
     with contextlib.redirect_stdout(buffer):
-        code = main(["demo", "--out", str(out)])
-    return code, out, buffer.getvalue()
+        table, writer = demo._run(out, False, 0, demo.scenario(), keep=True)
+    yield out, buffer.getvalue(), writer
+    import matplotlib.pyplot as plt
+
+    plt.close("all")
 
 
-def layer(out, name):
-    doc = json.loads((out / f"{name}.geojson").read_text())
-    return doc, [shapely.from_geojson(json.dumps(f["geometry"])) for f in doc["features"]]
+def package(out, name):
+    """A layer of the GeoPackage, read by GDAL (through geopandas), with its CRS."""
+    return gpd.read_file(out / "orsavel.gpkg", layer=name)
 
 
-def test_demo_runs_and_prints_the_table(ran):
-    code, out, printed = ran
-    assert code == 0
-    assert "| measure |" in printed and "total travel" in printed
+def local(frame):
+    """The layer's geometries moved back to the scenario's local grid."""
+    s = orsavel()
+    return frame.geometry.translate(-s.origin[0], -s.origin[1]).values
+
+
+def read_csv(path):
+    with open(path) as fh:
+        return list(csv.DictReader(fh))
+
+
+def test_demo_prints_the_summary(ran):
+    out, printed, _ = ran
+    assert "| plan | method | depots |" in printed and "total travel (person-km)" in printed
     assert "planning aids" in printed and "licensed professional judgement" in printed
     assert (out / "summary.md").read_text().strip() in printed
 
 
-def test_every_file_states_the_model(ran):
-    _, out, _ = ran
+def test_every_output_states_the_model(ran):
+    import pyogrio
+
+    out, _, _ = ran
     assert "licensed professional judgement" in (out / "summary.md").read_text()
-    assert "licensed professional judgement" in (out / "summary.csv").read_text()
-    for path in out.glob("*.geojson"):
-        assert "straight-line distance" in json.loads(path.read_text())["description"]
+    for name in LAYERS:
+        assert "straight-line distance" in json.loads((out / f"{name}.geojson").read_text())["description"]
+        meta = pyogrio.read_info(out / "orsavel.gpkg", layer=name)["layer_metadata"]
+        assert "licensed professional judgement" in meta["DESCRIPTION"]
+    for fig in ran[2].figures.values():
+        assert any("licensed professional judgement" in t.get_text().replace("\n", " ") for t in fig.texts)
+
+
+def test_geopackage_is_in_the_projected_crs_at_the_invented_place(ran):
+    import pyogrio
+    import pyproj
+
+    out, _, _ = ran
+    s = orsavel()
+    assert [str(n) for n, _ in pyogrio.list_layers(out / "orsavel.gpkg")] == list(LAYERS)
+    homes = package(out, "households")
+    # pyproj reference: the layer's CRS is WGS 84 / UTM zone 26N, a projected CRS in metres.
+    crs = pyproj.CRS.from_user_input(homes.crs)
+    assert crs.to_epsg() == 32626 and crs.is_projected and crs.axis_info[0].unit_name == "metre"
+    # The local grid shifted by the stated origin (closed form).
+    np.testing.assert_allclose(shapely.get_coordinates(homes.geometry.values), s.households + s.origin, rtol=0,
+                               atol=1e-6)
+
+
+def test_geojson_is_wgs84_and_standard(ran):
+    import pyproj
+
+    out, _, _ = ran
+    to_lonlat = pyproj.Transformer.from_crs("EPSG:32626", "EPSG:4326", always_xy=True)
+    for name in LAYERS:
+        doc = json.loads((out / f"{name}.geojson").read_text())
+        # RFC 7946 §7.1: no "coordinates" member outside a geometry; §4: no "crs" member.
+        assert "coordinates" not in doc and "crs" not in doc and doc["type"] == "FeatureCollection"
+        xy = shapely.get_coordinates([shapely.from_geojson(json.dumps(f["geometry"])) for f in doc["features"]])
+        # pyproj reference: the GeoPackage's projected coordinates, converted to lon/lat.
+        projected = shapely.get_coordinates(package(out, name).geometry.values)
+        lon, lat = to_lonlat.transform(projected[:, 0], projected[:, 1])
+        np.testing.assert_allclose(xy, np.column_stack([lon, lat]), atol=1e-9)
+        # The invented district lies in the open North Atlantic, near 45.5° N 27° W.
+        assert (-29 < xy[:, 0]).all() and (xy[:, 0] < -26).all() and (45 < xy[:, 1]).all() and (xy[:, 1] < 46.5).all()
 
 
 def test_maps_are_real_images(ran):
     import matplotlib.image as mpimg
 
-    _, out, _ = ran
-    expected = {"depots.png", "catchments.png", "network.png"}
-    assert expected <= {p.name for p in out.glob("*.png")}
-    for name in expected:
-        image = mpimg.imread(out / name)
+    out, _, _ = ran
+    for name in MAPS:
+        image = mpimg.imread(out / f"{name}.png")
         assert image.shape[0] > 400 and image.shape[1] > 600
         assert image[..., :3].std() > 0.05  # not a blank canvas
+
+
+def test_footnote_and_legend_clear_the_axes(ran):
+    # Rendered boxes: the axes (with tick labels and axis labels), the legend and the model
+    # note each keep to their own band.
+    for name, fig in ran[2].figures.items():
+        renderer = fig.canvas.get_renderer()
+        note = next(t for t in fig.texts if "Planning aid" in t.get_text()).get_window_extent(renderer)
+        legend = fig.legends[0].get_window_extent(renderer)
+        assert not note.overlaps(legend), name
+        for ax in fig.axes:
+            box = ax.get_tightbbox(renderer)
+            assert not box.overlaps(note) and not box.overlaps(legend), name
+            assert "km" in ax.get_xlabel() and "km" in ax.get_ylabel()
+
+
+def test_every_symbol_has_a_legend_entry(ran):
+    wanted = {"depots": ["households coloured", "depot", "town", "lake"],
+              "catchments": ["catchment", "depot", "town", "lake"],
+              "network": ["minimum spanning tree", "Steiner tree", "junction", "depot", "town"]}
+    for name, fig in ran[2].figures.items():
+        texts = [t.get_text() for t in fig.legends[0].get_texts()]
+        for start in wanted[name]:
+            assert any(t.startswith(start) for t in texts), (name, start, texts)
+
+
+def test_labels_do_not_collide_and_name_every_town(ran):
+    s = orsavel()
+    for name, fig in ran[2].figures.items():
+        renderer = fig.canvas.get_renderer()
+        for ax in fig.axes:
+            labels = [t for t in ax.texts if t.get_text()]
+            assert set(s.town_names) <= {t.get_text() for t in labels}, name
+            boxes = [t.get_window_extent(renderer) for t in labels]
+            frame = ax.get_window_extent(renderer)
+            for i, a in enumerate(boxes):
+                assert frame.x0 <= a.x0 and a.x1 <= frame.x1 and frame.y0 <= a.y0 and a.y1 <= frame.y1
+                for b in boxes[i + 1:]:
+                    assert not a.overlaps(b), (name, labels[i].get_text())
+
+
+def _star_colours(ax):
+    """Depot number -> RGB of the star drawn nearest to the label with that number."""
+    stars = [line for line in ax.lines if line.get_marker() == "*"]
+    colours = {}
+    for text in ax.texts:
+        digits = text.get_text().removeprefix("depot ").split(":")[0]
+        if digits.isdigit():
+            at = np.array(text.xy)
+            star = min(stars, key=lambda line: np.hypot(*(np.array(line.get_xydata()[0]) - at)))
+            colours[int(digits)] = matplotlib.colors.to_rgb(star.get_markerfacecolor())
+    return colours
+
+
+def test_a_depot_keeps_its_colour_in_every_map(ran):
+    figures = ran[2].figures
+    panels = [_star_colours(ax) for name in MAPS for ax in figures[name].axes]
+    assert all(len(p) == demo.DEPOTS for p in panels)
+    assert all(p == panels[0] for p in panels)  # depot n has one colour everywhere
+    assert len(set(panels[0].values())) == demo.DEPOTS  # and no two depots share one
+    # The catchment of depot n is filled with depot n's colour.
+    out = ran[0]
+    cells = package(out, "catchments")
+    ax = figures["catchments"].axes[0]
+    fills = [matplotlib.colors.to_rgb(p.get_facecolor()) for p in ax.patches[1:1 + len(cells)]]
+    assert fills == [panels[0][n] for n in cells["depot"]]
+
+
+def test_depots_are_numbered_west_to_east(ran):
+    out, _, _ = ran
+    depots = package(out, "depots_p_median").sort_values("depot")
+    assert list(depots["depot"]) == list(range(1, demo.DEPOTS + 1))
+    assert np.all(np.diff(depots.geometry.x.to_numpy()) >= 0)
 
 
 def test_scenario_is_inside_its_region():
@@ -70,82 +202,92 @@ def test_scenario_is_inside_its_region():
 
 
 def test_catchments_cover_the_land_and_carry_all_people(ran):
-    _, out, _ = ran
+    out, _, _ = ran
     s = orsavel()
-    doc, cells = layer(out, "catchments")
-    union = shapely.union_all(cells)
+    cells = package(out, "catchments")
     # shapely reference: the cells tile the region (coast and lake included).
+    union = shapely.union_all(local(cells))
     assert union.symmetric_difference(s.region).area < 1e-6 * s.region.area
-    assert sum(f["properties"]["people"] for f in doc["features"]) == pytest.approx(s.people.sum())
+    assert cells["people"].sum() == pytest.approx(s.people.sum())
 
 
 def test_network_layers_and_saving(ran):
-    _, out, _ = ran
-    mst_doc, mst = layer(out, "links_mst")
-    st_doc, st = layer(out, "links_steiner")
-    mst_len = sum(g.length for g in mst)
-    st_len = sum(g.length for g in st)
-    assert st_len <= mst_len * (1 + 1e-12)
+    out, _, _ = ran
+    mst = package(out, "links_mst")
+    st = package(out, "links_steiner")
+    assert st.length.sum() <= mst.length.sum() * (1 + 1e-12)
     assert len(mst) == demo.DEPOTS + len(orsavel().towns) - 1
+    rows = {r["network"]: r for r in read_csv(out / "network.csv")}
+    # The table's lengths are the layers' (shapely lengths, in km).
+    assert float(rows["Steiner tree"]["length_km"]) == pytest.approx(st.length.sum() / 1000, abs=1e-3)
+    assert float(rows["minimum spanning tree"]["length_km"]) == pytest.approx(mst.length.sum() / 1000, abs=1e-3)
 
 
 def test_households_go_to_their_nearest_depot(ran):
     from scipy.spatial import cKDTree
 
-    _, out, _ = ran
-    s = orsavel()
-    doc, homes = layer(out, "households")
-    depots_doc, depots = layer(out, "depots_p_median")
-    xy = shapely.get_coordinates(homes)
-    np.testing.assert_array_equal(xy, s.households)
-    labels = np.array([f["properties"]["depot"] for f in depots_doc["features"]])
+    out, _, _ = ran
+    homes = package(out, "households")
+    depots = package(out, "depots_p_median")
+    xy = shapely.get_coordinates(homes.geometry.values)
     # scipy reference: a k-d tree query of the depots layer gives each household's trip and depot.
-    d, i = cKDTree(shapely.get_coordinates(depots)).query(xy)
-    props = doc["features"]
-    np.testing.assert_allclose([f["properties"]["distance_m"] for f in props], d, rtol=1e-12, atol=1e-9)
-    np.testing.assert_array_equal([f["properties"]["depot"] for f in props], labels[i])
+    d, i = cKDTree(shapely.get_coordinates(depots.geometry.values)).query(xy)
+    np.testing.assert_allclose(homes["distance_m"], d, rtol=1e-9, atol=1e-6)
+    np.testing.assert_array_equal(homes["depot"], depots["depot"].to_numpy()[i])
     # The depots' loads are the people of the households each serves (summed in the test).
-    people = np.array([f["properties"]["people"] for f in props])
-    served = np.bincount(i, weights=people, minlength=len(labels))
-    np.testing.assert_allclose([f["properties"]["people"] for f in depots_doc["features"]], served, rtol=1e-12)
+    served = np.bincount(i, weights=homes["people"].to_numpy(), minlength=len(depots))
+    np.testing.assert_allclose(depots["people"], served, rtol=1e-12)
 
 
-def test_summary_travel_matches_the_households_layer(ran):
-    import csv
-
-    _, out, _ = ran
-    doc, _ = layer(out, "households")
-    people = np.array([f["properties"]["people"] for f in doc["features"]])
-    trips = np.array([f["properties"]["distance_m"] for f in doc["features"]])
-    with open(out / "summary.csv") as fh:
-        rows = {(r["measure"], r["plan"]): r["value"] for r in csv.DictReader(fh)}
-    plan = f"{demo.DEPOTS} depots, least total travel (p-median)"
+def test_summary_is_tidy_and_matches_the_households_layer(ran):
+    out, _, _ = ran
+    for name, header in (("summary", ["plan", "method", "depots", "depots_on_land", "total_travel_person_km",
+                                      "mean_trip_km", "worst_trip_km", "people_within_10km_percent"]),
+                         ("catchments", ["depot", "area_km2", "households", "people", "mean_trip_km"]),
+                         ("network", ["network", "length_km", "junctions", "saving_percent", "proven_optimal"])):
+        rows = read_csv(out / f"{name}.csv")
+        assert list(rows[0]) == header
+        for row in rows:  # one value per cell: every non-name column parses as a number
+            for key, value in row.items():
+                if key not in ("plan", "method", "network", "proven_optimal"):
+                    float(value)
+    homes = package(out, "households")
+    people, trips = homes["people"].to_numpy(), homes["distance_m"].to_numpy()
+    plan = next(r for r in read_csv(out / "summary.csv") if r["method"] == "p-median")
     # Closed form of the measures: sum and weighted mean of the trips, written out here.
-    assert float(rows[("total travel", plan)]) == pytest.approx(people @ trips / 1000, abs=1e-3)
-    assert float(rows[("mean trip per person", plan)]) == pytest.approx(people @ trips / people.sum() / 1000, abs=1e-3)
-    assert float(rows[("worst trip", plan)]) == pytest.approx(trips.max() / 1000, abs=1e-3)
+    assert float(plan["total_travel_person_km"]) == pytest.approx(people @ trips / 1000, abs=1e-3)
+    assert float(plan["mean_trip_km"]) == pytest.approx(people @ trips / people.sum() / 1000, abs=1e-3)
+    assert float(plan["worst_trip_km"]) == pytest.approx(trips.max() / 1000, abs=1e-3)
+    assert int(plan["depots"]) == demo.DEPOTS and 0 <= int(plan["depots_on_land"]) <= demo.DEPOTS
 
 
 def test_links_are_undirected_named_edges(ran):
-    _, out, _ = ran
+    out, _, _ = ran
     s = orsavel()
     names = {f"depot {i + 1}" for i in range(demo.DEPOTS)} | set(s.town_names)
     for name in ("links_mst", "links_steiner"):
-        doc, edges = layer(out, name)
-        for feature, edge in zip(doc["features"], edges):
-            props = feature["properties"]
-            assert set(props) == {"end_a", "end_b", "length_m"}  # no from/to: edges have no direction
-            for end in (props["end_a"], props["end_b"]):
+        edges = package(out, name)
+        assert set(edges.columns) == {"end_a", "end_b", "length_m", "geometry"}  # no from/to
+        for row in edges.itertuples():
+            for end in (row.end_a, row.end_b):
                 assert end in names or (name == "links_steiner" and end.startswith("junction "))
-            # shapely reference: the stated length is the segment's own length.
-            assert props["length_m"] == pytest.approx(edge.length, rel=1e-12)
+        # shapely reference: the stated length is the segment's own length.
+        np.testing.assert_allclose(edges["length_m"], edges.length, rtol=1e-9)
 
 
 def test_no_product_wording_in_the_outputs(ran):
-    _, out, printed = ran
+    out, printed, _ = ran
     assert not list(out.glob("service_area*"))
     assert "service area" not in printed.lower()
     assert "## Catchments" in printed
+
+
+def test_the_command_runs_the_demo(tmp_path):
+    buffer = io.StringIO()
+    with contextlib.redirect_stdout(buffer):
+        assert main(["demo", "--out", str(tmp_path), "--quiet"]) == 0
+    assert {f"{m}.png" for m in MAPS} <= {p.name for p in tmp_path.iterdir()}
+    assert "licensed professional judgement" in buffer.getvalue()
 
 
 def test_out_path_that_is_a_file_is_a_user_error(tmp_path, capsys):

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import time
 from concurrent.futures import ThreadPoolExecutor
 
 import numpy as np
@@ -100,3 +101,157 @@ def test_skipped_groups_keep_their_place_with_the_reason() -> None:
         result[6]
     with pytest.raises(KeyError):
         result[99]
+
+
+# ----------------------------------------------------------------- long runs: stop, limit, watch
+
+_INTERRUPTED_CHILD = r"""
+import sys, time
+import numpy as np
+import placewise as pw
+
+points = np.random.default_rng(1).random((1_000_000, 2))
+print("started", flush=True)
+try:
+    pw.p_median(points, 50, effort="thorough")
+    print("finished", time.time(), flush=True)
+except KeyboardInterrupt:
+    print("interrupted", time.time(), flush=True)
+"""
+
+
+def test_ctrl_c_stops_a_long_p_median_promptly() -> None:
+    # SIGINT 1.5 s into a p-median that runs for tens of seconds (1e6 points, p = 50,
+    # thorough): KeyboardInterrupt must reach Python while the kernel still works. The aim is
+    # 0.5 s; the bound asserted leaves room for a loaded machine.
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    child = subprocess.Popen(
+        [sys.executable, "-c", _INTERRUPTED_CHILD], stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True
+    )
+    try:
+        assert child.stdout is not None
+        assert child.stdout.readline().strip() == "started"
+        time.sleep(1.5)
+        sent = time.time()
+        child.send_signal(signal.SIGINT)
+        out, err = child.communicate(timeout=60)
+    finally:
+        child.kill()
+    word, stamp = out.split()
+    assert word == "interrupted", (out, err)
+    latency = float(stamp) - sent
+    print(f"interrupt latency: {latency:.3f} s")
+    assert latency < 2.0
+
+
+def test_time_limit_returns_the_best_plan_so_far() -> None:
+    rng = np.random.default_rng(3)
+    pts = rng.random((200_000, 2))
+    for solve, objective in [
+        (lambda limit: pw.p_median(pts, 20, time_limit=limit, effort="thorough"), "cost"),
+        (lambda limit: pw.p_center(pts, 20, time_limit=limit), "weighted_radius"),
+    ]:
+        started = time.perf_counter()
+        plan = solve(0.3)
+        elapsed = time.perf_counter() - started
+        assert not plan.converged
+        assert elapsed < 0.3 + 1.5, elapsed
+        # Still a plan: 20 sites, every point at its nearest one (checked with scipy's
+        # k-d tree, an outside nearest-neighbour reference).
+        from scipy.spatial import cKDTree
+
+        nearest, _ = cKDTree(plan.sites).query(pts)
+        np.testing.assert_allclose(plan.distance, nearest, rtol=1e-12, atol=1e-15)
+        assert np.isfinite(getattr(plan, objective))
+
+
+def test_time_limit_must_be_a_positive_number() -> None:
+    pts = [[0.0, 0.0], [1.0, 0.0], [5.0, 5.0]]
+    cases = [
+        (0, "time_limit must be finite and > 0 (seconds); got 0"),
+        (-1.5, "time_limit must be finite and > 0 (seconds); got -1.5"),
+        (float("inf"), "time_limit must be finite and > 0 (seconds); got inf"),
+        ("1", "time_limit must be a number (finite and > 0 (seconds)); got '1' (str)"),
+    ]
+    for bad, message in cases:
+        for call in (pw.p_median, pw.p_center):
+            with pytest.raises(pw.InputError) as caught:
+                call(pts, 2, time_limit=bad)
+            assert str(caught.value) == message
+            assert caught.value.argument == "time_limit"
+    # Without a limit (or a generous one) the tiny plan converges.
+    assert pw.p_median(pts, 2, time_limit=5.0).converged
+    assert pw.p_center(pts, 2, time_limit=5).converged
+
+
+def test_progress_callable_sees_growing_counts_from_the_calling_thread() -> None:
+    import threading
+
+    rng = np.random.default_rng(4)
+    pts = rng.random((30_000, 2))
+    calls: list[tuple[int, int, int]] = []
+
+    def seen(done: int, total: int) -> None:
+        calls.append((done, total, threading.get_ident()))
+
+    plan = pw.p_median(pts, 8, effort="fast", progress=seen)
+    assert plan.converged
+    assert calls, "progress was never reported"
+    assert {ident for *_, ident in calls} == {threading.get_ident()}
+    done = [d for d, _, _ in calls]
+    assert done == sorted(done) and done[-1] > done[0] >= 0
+    assert all(d <= t for d, t, _ in calls)
+    # Grouped runs count the points of finished groups: all of them in the end.
+    some = pts[:5000]
+    labels = rng.integers(0, 5, size=len(some))
+    grouped_calls: list[tuple[int, int]] = []
+    pw.p_center(some, 3, groups=labels, progress=lambda d, t: grouped_calls.append((d, t)))
+    assert grouped_calls[-1] == (len(some), len(some))
+
+
+def test_progress_true_draws_on_stderr_and_bad_progress_is_refused(capsys: pytest.CaptureFixture[str]) -> None:
+    pw.steiner_tree([[0, 0], [1, 0], [1, 1], [0, 1]], progress=True)
+    assert "steiner_tree" in capsys.readouterr().err
+    with pytest.raises(pw.InputError) as caught:
+        pw.p_median([[0, 0], [1, 0]], 1, progress="yes")
+    assert caught.value.argument == "progress"
+    assert str(caught.value) == "progress must be True, False or a callable taking (done, total); got 'yes' (str)"
+
+
+def test_a_raising_progress_callable_stops_the_run() -> None:
+    pts = np.random.default_rng(5).random((100_000, 2))
+
+    class Enough(Exception):
+        pass
+
+    def stop(done: int, total: int) -> None:
+        raise Enough
+
+    with pytest.raises(Enough):
+        pw.p_median(pts, 10, progress=stop)
+
+
+def test_more_effort_never_gives_a_worse_plan() -> None:
+    # Issue 17: the default effort once returned a worse plan than "fast". Several seeded
+    # instances, uniform and clustered; costs checked against an independent evaluation
+    # with scipy's k-d tree.
+    from scipy.spatial import cKDTree
+
+    for seed in range(4):
+        rng = np.random.default_rng(seed)
+        if seed % 2:
+            centres = rng.random((8, 2)) * 100
+            pts = centres[rng.integers(0, 8, 300)] + rng.normal(size=(300, 2))
+        else:
+            pts = rng.random((300, 2)) * 100
+        costs = []
+        for effort in ("fast", "normal", "thorough"):
+            plan = pw.p_median(pts, 4 + seed % 2, seed=seed, effort=effort)
+            costs.append(cKDTree(plan.sites).query(pts)[0].sum())
+            assert costs[-1] == pytest.approx(plan.cost, rel=1e-12)
+        assert costs[1] <= costs[0] * (1 + 1e-12), (seed, costs)
+        assert costs[2] <= costs[1] * (1 + 1e-12), (seed, costs)

@@ -76,20 +76,28 @@ def spanning_tree_grouped(
     points: ArrayLike, groups: ArrayLike, errors: str
 ) -> _Fields: ...  # labels, problem, edge_offsets, end_a, end_b, edge_length, length
 def steiner_tree_single(
-    points: ArrayLike, exact: Any, seed: Any, time_limit: Any
+    points: ArrayLike, exact: Any, seed: Any, time_limit: Any, progress: Any
 ) -> _Fields: ...  # junctions, end_a, end_b, junction_a, junction_b, edge_length, length, mst_length, saving, optimal
 def steiner_tree_grouped(
-    points: ArrayLike, groups: ArrayLike, exact: Any, seed: Any, time_limit: Any, errors: str
+    points: ArrayLike, groups: ArrayLike, exact: Any, seed: Any, time_limit: Any, errors: str, progress: Any
 ) -> _Fields: ...  # labels, problem, junction_offsets, junctions, edge_offsets, the edge columns, per-group totals
 
 # --- multi (src/py/multi.rs) ---
 # Single plans: sites (p, 2), assignment (n,), distance (n,), load, count (sites,), total_load,
-# iterations; p-median adds fixed (f, 2) and cost, p-center weighted_radius, radius, optimal.
+# iterations, converged; p-median adds fixed (f, 2) and cost, p-center weighted_radius, radius,
+# optimal. time_limit is None or seconds > 0; progress is a bool or a callable (done, total).
 # Grouped plans: labels, problem, sites (S, 2), load, count (S,), site_offsets (G + 1,),
 # point_group, assignment (row in sites; -1 when skipped), distance (n,), per-group totals;
 # p-median adds fixed (S,) bool.
 def p_median_single(
-    points: ArrayLike, p: Any, weights: ArrayLike | None, fixed: ArrayLike | None, seed: Any, effort: str
+    points: ArrayLike,
+    p: Any,
+    weights: ArrayLike | None,
+    fixed: ArrayLike | None,
+    seed: Any,
+    effort: str,
+    time_limit: Any,
+    progress: Any,
 ) -> _Fields: ...
 def p_median_grouped(
     points: ArrayLike,
@@ -101,8 +109,35 @@ def p_median_grouped(
     seed: Any,
     effort: str,
     errors: str,
+    time_limit: Any,
+    progress: Any,
 ) -> _Fields: ...
-def p_center_single(points: ArrayLike, p: Any, weights: ArrayLike | None, seed: Any) -> _Fields: ...
+def p_center_single(
+    points: ArrayLike, p: Any, weights: ArrayLike | None, seed: Any, time_limit: Any, progress: Any
+) -> _Fields: ...
 def p_center_grouped(
-    points: ArrayLike, p: Any, weights: ArrayLike | None, groups: ArrayLike, seed: Any, errors: str
+    points: ArrayLike,
+    p: Any,
+    weights: ArrayLike | None,
+    groups: ArrayLike,
+    seed: Any,
+    errors: str,
+    time_limit: Any,
+    progress: Any,
+) -> _Fields: ...
+
+# --- discrete (src/py/discrete.rs) ---
+# Every form returns the service: open (k,) candidate columns, fixed (k,), assignment (n,)
+# rows of open, cost (n,), load (k,), count (k,), total_cost, mean_cost, worst_cost,
+# weighted_worst, total_weight, and radius / covered (n,) / covering (n,) / covered_weight /
+# covered_share (None without a radius); plus each model's bound fields.
+def discrete_euclidean_costs(points: ArrayLike, candidates: ArrayLike) -> Any: ...
+def discrete_evaluate(costs: Any, weights: ArrayLike | None, sites: ArrayLike, radius: Any) -> _Fields: ...
+def discrete_p_median_single(
+    costs: Any, p: Any, weights: ArrayLike | None, fixed: ArrayLike | None, bound_iterations: Any
+) -> _Fields: ...
+def discrete_p_center_single(costs: Any, p: Any, weights: ArrayLike | None, fixed: ArrayLike | None) -> _Fields: ...
+def discrete_cover_all(costs: Any, radius: Any, weights: ArrayLike | None, fixed: ArrayLike | None) -> _Fields: ...
+def discrete_cover_most(
+    costs: Any, p: Any, radius: Any, weights: ArrayLike | None, fixed: ArrayLike | None
 ) -> _Fields: ...

@@ -3,6 +3,10 @@
 Everything here is made up — the district, its towns, their populations and the
 households — and exists only to show the library at work. Coordinates are metres on a
 local planar grid (x east, y north) with its origin at the district's south-west corner.
+
+For desktop GIS the grid is placed, by a shift of ``origin``, in a real projected CRS:
+WGS 84 / UTM zone 26N (EPSG:32626), at an invented spot of the open North Atlantic (about
+45° N, 28° W) where no real land lies, so that the layers overlay nothing real.
 """
 
 from __future__ import annotations
@@ -32,6 +36,11 @@ class Scenario:
     households : ndarray, shape (n, 2)
     people : ndarray, shape (n,)
         People per household (the demand weight).
+    crs : str
+        The projected CRS the layers are written in.
+    origin : ndarray, shape (2,)
+        Easting and northing (metres, in ``crs``) of the local grid's origin: a local point
+        ``xy`` lies at ``xy + origin``.
     """
 
     name: str
@@ -42,6 +51,8 @@ class Scenario:
     town_people: np.ndarray
     households: np.ndarray
     people: np.ndarray
+    crs: str = "EPSG:32626"
+    origin: np.ndarray = dataclasses.field(default_factory=lambda: np.array([420_000.0, 5_010_000.0]))
 
 
 # (name, x km, y km, people) — invented.

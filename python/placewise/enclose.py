@@ -65,9 +65,52 @@ def _geometries(build: Any, coords: np.ndarray) -> np.ndarray:
     return out
 
 
-_OUTLINE = {"color": "#3b6ea8", "linewidth": 1.4}
-_MARK = {"marker": "+", "markersize": 10, "color": "#3b6ea8", "linestyle": "none"}
-_STAR = {"marker": "*", "color": "crimson", "linestyle": "none"}
+def _plot_enclosing(result: Any, ax: Any, points: ArrayLike | None, style: dict[str, Any], what: str,
+                    title: str) -> Any:
+    """The one drawing of every enclosing result: the demand ``points`` as context with the
+    support rows ringed (when the caller passes the points, which results do not keep), each
+    shape's outline or site in its group's colour, a title, unit-labelled axes and a legend.
+    ``style`` goes to the outlines (circles, ellipses) or the sites (minimax points)."""
+    from .plotting import INK, draw_context, draw_sites, finish, site_colours
+
+    ax = result._plot_axes(ax)
+    grouped = isinstance(result, Grouped)
+    if points is not None:
+        xy = np.asarray(points, dtype=np.float64).reshape(-1, 2)
+        draw_context(ax, xy)
+        support = np.asarray(result.support_index if grouped else result.support, dtype=np.int64)
+        if len(support):
+            ax.plot(xy[support, 0], xy[support, 1], linestyle="none", marker="o", markersize=7,
+                    markerfacecolor="none", markeredgecolor=INK, markeredgewidth=1.1, zorder=5,
+                    label="support points (fix the shape)")
+    colours = site_colours(len(result.labels) if grouped else 1)
+    suffix = " (colour = group)" if grouped and len(colours) > 1 else ""
+    if isinstance(result, _Outlined):
+        centres = np.asarray(result._outline()[0], dtype=np.float64).reshape(-1, 2)
+        drawn = 0
+        for g, ring in enumerate(_rings(*result._outline())):
+            if np.isfinite(ring).all():
+                ax.plot(ring[:, 0], ring[:, 1], **{"color": colours[g], "linewidth": 1.6, "zorder": 4,
+                                                   "label": what + suffix if not drawn else "_nolegend_", **style})
+                drawn += 1
+        ax.plot(centres[:, 0], centres[:, 1], linestyle="none", marker="+", markersize=10, color=INK, zorder=6,
+                label="centre" if len(centres) == 1 else "centres")
+    else:
+        draw_sites(ax, result.location, colours, label=what + suffix, **style)
+        if points is None:
+            # A site alone gives degenerate limits: frame it with a unit margin.
+            at = np.asarray(result.location, dtype=np.float64).reshape(-1, 2)
+            at = at[np.isfinite(at).all(axis=1)]
+            if len(at):
+                ax.update_datalim(np.vstack([at.min(axis=0) - 1, at.max(axis=0) + 1]))
+                ax.autoscale_view()
+    return finish(ax, title, result.unit)
+
+
+def _shown(result: Any, value: Any) -> str:
+    from .plotting import quantity
+
+    return quantity(value, result.unit)
 
 
 def _xy(points: Any) -> dict[str, np.ndarray]:
@@ -91,11 +134,6 @@ class _Outlined:
         import shapely
 
         return _geometries(shapely.polygons, _rings(*self._outline()))
-
-    def _draw(self, ax: Any, style: dict[str, Any]) -> None:
-        for ring in _rings(*self._outline()):
-            if np.isfinite(ring).all():
-                ax.plot(ring[:, 0], ring[:, 1], **style)
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
@@ -177,12 +215,26 @@ class Circle(_CircleTable, Result):
     area: float
     support: np.ndarray
 
-    def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Draw the circle and mark its centre (new axes when ``ax`` is None)."""
-        ax = self._plot_axes(ax)
-        self._draw(ax, {**_OUTLINE, **style})
-        ax.plot(*self.center, **_MARK)
-        return ax
+    def plot(self, ax: Any = None, *, points: ArrayLike | None = None, **style: Any) -> Any:
+        """Draw the circle and its centre, with the input ``points`` as context and the
+        support rows ringed when given (the result does not keep the points); new axes when
+        ``ax`` is None. ``style`` goes to the outline.
+
+        Examples
+        --------
+        >>> import matplotlib
+        >>> matplotlib.use("Agg")
+        >>> import placewise as pw
+        >>> pts = [[0, 0], [2, 0], [1, 1]]
+        >>> ax = pw.enclosing_circle(pts).plot(points=pts)
+        >>> ax.get_title(), [line.get_label() for line in ax.lines]
+        ('Smallest enclosing circle · radius 1 coordinate units', \
+['demand points', 'support points (fix the shape)', 'smallest enclosing circle', 'centre'])
+        >>> pw.enclosing_circle([[3, 3]]).plot().get_title()     # one point: radius 0
+        'Smallest enclosing circle · radius 0 coordinate units'
+        """
+        return _plot_enclosing(self, ax, points, style, "smallest enclosing circle",
+                               f"Smallest enclosing circle · radius {_shown(self, self.radius)}")
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
@@ -211,11 +263,11 @@ class Circles(_CircleTable, _GroupedWithSupport):
     radius: np.ndarray
     area: np.ndarray
 
-    def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Draw every group's circle."""
-        ax = self._plot_axes(ax)
-        self._draw(ax, {**_OUTLINE, "linewidth": 0.8, **style})
-        return ax
+    def plot(self, ax: Any = None, *, points: ArrayLike | None = None, **style: Any) -> Any:
+        """Draw every group's circle in the group's colour, with the input ``points`` (the
+        whole input) as context and the support rows ringed when given."""
+        return _plot_enclosing(self, ax, points, style, "smallest enclosing circle",
+                               f"Smallest enclosing circles of {len(self.labels)} groups")
 
 
 # ------------------------------------------------------------------------------- minimax
@@ -233,10 +285,6 @@ class _MinimaxTable:
         import shapely
 
         return _geometries(shapely.points, np.asarray(self.location, dtype=np.float64).reshape(-1, 2))
-
-    def _draw(self, ax: Any, style: dict[str, Any]) -> None:
-        at = np.asarray(self.location).reshape(-1, 2)
-        ax.plot(at[:, 0], at[:, 1], **{**_STAR, **style})
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
@@ -261,11 +309,26 @@ class MinimaxPoint(_MinimaxTable, Result):
     weighted_radius: float
     support: np.ndarray
 
-    def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Draw the site as a star (new axes when ``ax`` is None)."""
-        ax = self._plot_axes(ax)
-        self._draw(ax, {"markersize": 14, **style})
-        return ax
+    def plot(self, ax: Any = None, *, points: ArrayLike | None = None, **style: Any) -> Any:
+        """Draw the site as a star, with the demand ``points`` as context and the support
+        rows (the farthest in weighted distance) ringed when given (the result does not keep
+        the points); new axes when ``ax`` is None. ``style`` goes to the site's marker.
+
+        Examples
+        --------
+        >>> import matplotlib
+        >>> matplotlib.use("Agg")
+        >>> import placewise as pw
+        >>> pts = [[0, 0], [2, 0]]
+        >>> ax = pw.minimax_point(pts).plot(points=pts)
+        >>> ax.get_title()
+        'Weighted minimax point · largest weighted distance 1 coordinate units × weight'
+        >>> len(pw.minimax_point([[5, 5]]).plot().lines)         # one point: the site alone
+        1
+        """
+        return _plot_enclosing(self, ax, points, style, "minimax point",
+                               "Weighted minimax point · largest weighted distance "
+                               f"{_shown(self, self.weighted_radius)} × weight")
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
@@ -291,11 +354,11 @@ class MinimaxPoints(_MinimaxTable, _GroupedWithSupport):
     location: np.ndarray
     weighted_radius: np.ndarray
 
-    def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Draw every group's site as a star."""
-        ax = self._plot_axes(ax)
-        self._draw(ax, {"markersize": 10, **style})
-        return ax
+    def plot(self, ax: Any = None, *, points: ArrayLike | None = None, **style: Any) -> Any:
+        """Draw every group's site as a star in the group's colour, with the input
+        ``points`` (the whole input) as context and the support rows ringed when given."""
+        return _plot_enclosing(self, ax, points, style, "minimax point",
+                               f"Weighted minimax points of {len(self.labels)} groups")
 
 
 # ------------------------------------------------------------------------------- ellipse
@@ -370,12 +433,24 @@ class Ellipse(_EllipseTable, Result):
     iterations: int
     converged: bool
 
-    def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Draw the ellipse and mark its centre (new axes when ``ax`` is None)."""
-        ax = self._plot_axes(ax)
-        self._draw(ax, {**_OUTLINE, **style})
-        ax.plot(*self.center, **_MARK)
-        return ax
+    def plot(self, ax: Any = None, *, points: ArrayLike | None = None, **style: Any) -> Any:
+        """Draw the ellipse and its centre, with the input ``points`` as context and the
+        support rows ringed when given (the result does not keep the points); new axes when
+        ``ax`` is None. ``style`` goes to the outline.
+
+        Examples
+        --------
+        >>> import matplotlib
+        >>> matplotlib.use("Agg")
+        >>> import placewise as pw
+        >>> pts = [[-2, 0], [2, 0], [0, 1], [0, -1]]
+        >>> ax = pw.enclosing_ellipse(pts).plot(points=pts)
+        >>> ax.get_legend() is not None and ax.get_xlabel()
+        'x (coordinate units)'
+        """
+        return _plot_enclosing(self, ax, points, style, "smallest enclosing ellipse",
+                               f"Smallest enclosing ellipse · semi-axes {_shown(self, self.semi_major)} and "
+                               f"{_shown(self, self.semi_minor)}")
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
@@ -413,11 +488,11 @@ class Ellipses(_EllipseTable, _GroupedWithSupport):
     iterations: np.ndarray
     converged: np.ndarray
 
-    def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Draw every group's ellipse."""
-        ax = self._plot_axes(ax)
-        self._draw(ax, {**_OUTLINE, "linewidth": 0.8, **style})
-        return ax
+    def plot(self, ax: Any = None, *, points: ArrayLike | None = None, **style: Any) -> Any:
+        """Draw every group's ellipse in the group's colour, with the input ``points`` (the
+        whole input) as context and the support rows ringed when given."""
+        return _plot_enclosing(self, ax, points, style, "smallest enclosing ellipse",
+                               f"Smallest enclosing ellipses of {len(self.labels)} groups")
 
 
 # ------------------------------------------------------------------------------- functions

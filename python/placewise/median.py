@@ -68,11 +68,24 @@ class WeberPoint(Result):
     def _geometry(self) -> Any:
         return _site_points(self.location)
 
-    def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Draw the site as a star on matplotlib axes (new axes when ``ax`` is None)."""
-        ax = self._plot_axes(ax)
-        ax.plot(*self.location, **{"marker": "*", "markersize": 14, "color": "crimson", "linestyle": "none", **style})
-        return ax
+    def plot(self, ax: Any = None, *, points: ArrayLike | None = None, **style: Any) -> Any:
+        """Draw the site as a star, with the demand ``points`` (shape (n, 2)) as context when
+        given (the result does not keep them); new axes when ``ax`` is None. ``style`` goes
+        to the site's marker.
+
+        Examples
+        --------
+        >>> import matplotlib
+        >>> matplotlib.use("Agg")
+        >>> import placewise as pw
+        >>> pts = [[0, 0], [4, 0], [0, 3]]
+        >>> ax = pw.weber_point(pts).plot(points=pts)
+        >>> [line.get_label() for line in ax.lines]
+        ['demand points', 'Fermat–Weber point']
+        >>> pw.weber_point([[1, 1]]).plot().get_title()        # one point: the site is the point
+        'Fermat–Weber point · total weighted distance 0 coordinate units × weight'
+        """
+        return _draw_weber(self, ax, points, style)
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
@@ -128,12 +141,29 @@ class WeberPoints(Grouped):
     def _geometry(self) -> Any:
         return _site_points(self.location)
 
-    def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Draw every group's site as a star."""
-        ax = self._plot_axes(ax)
-        ax.plot(self.location[:, 0], self.location[:, 1],
-                **{"marker": "*", "markersize": 10, "color": "crimson", "linestyle": "none", **style})
-        return ax
+    def plot(self, ax: Any = None, *, points: ArrayLike | None = None, **style: Any) -> Any:
+        """Draw every group's site as a star in the group's colour, with the demand
+        ``points`` as context when given (the result does not keep them)."""
+        return _draw_weber(self, ax, points, style)
+
+
+def _draw_weber(result: WeberPoint | WeberPoints, ax: Any, points: ArrayLike | None, style: dict[str, Any]) -> Any:
+    from .plotting import draw_context, draw_sites, finish, quantity
+
+    ax = result._plot_axes(ax)
+    if points is not None:
+        draw_context(ax, points)
+    sites = np.asarray(result.location, dtype=np.float64).reshape(-1, 2)
+    draw_sites(ax, sites, label="Fermat–Weber point" + (" (colour = group)" if len(sites) > 1 else ""), **style)
+    if points is None and len(sites):
+        # A lone site gives degenerate limits: frame it with a unit margin instead.
+        ax.update_datalim(np.vstack([sites.min(axis=0) - 1, sites.max(axis=0) + 1]))
+        ax.autoscale_view()
+    if isinstance(result, WeberPoints):
+        title = f"Fermat–Weber points of {len(result.labels)} groups"
+    else:
+        title = f"Fermat–Weber point · total weighted distance {quantity(result.cost, result.unit)} × weight"
+    return finish(ax, title, result.unit)
 
 
 @overload

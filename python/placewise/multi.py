@@ -25,6 +25,7 @@ order (a group skipped with ``errors="skip"`` keeps one row holding its problem)
 from __future__ import annotations
 
 import dataclasses
+from collections.abc import Callable
 from typing import Any, Literal, overload
 
 import numpy as np
@@ -48,23 +49,38 @@ def _point_geometry(xy: np.ndarray) -> np.ndarray:
     return out
 
 
-def _draw_plan(ax: Any, points: np.ndarray, sites: np.ndarray, assignment: np.ndarray, style: dict[str, Any]) -> None:
-    """Points coloured by their site, a thin line from each point to its site, sites as
-    stars; points without a site (``assignment`` -1) are left out."""
+def _draw_plan(plan: Any, ax: Any, sites: np.ndarray, fixed: np.ndarray, style: dict[str, Any]) -> Any:
+    """The one drawing of every plan: points coloured by their site, a thin line from each
+    point to its site, the sites as outlined stars in the same colours above the points and
+    fixed sites as white squares on top; a title with the objective, unit-labelled axes and a
+    legend. Points without a site (``assignment`` -1) are left out; ``style`` goes to the
+    points."""
     from matplotlib.collections import LineCollection
 
-    from .plotting import SITE_COLOURS
+    from .plotting import draw_sites, finish, quantity, site_colours
 
-    served = assignment >= 0
-    points, assignment = points[served], assignment[served]
-    palette = np.asarray(SITE_COLOURS)
-    colours = palette[assignment % len(palette)]
+    ax = plan._plot_axes(ax)
+    served = plan.assignment >= 0
+    points, assignment = plan.points[served], plan.assignment[served]
+    palette = np.asarray(site_colours(len(sites)))
     if len(points):
+        colours = palette[assignment]
         segments = np.stack([points, sites[assignment]], axis=1)
-        ax.add_collection(LineCollection(list(segments), colors=colours, linewidths=0.3, alpha=0.4))
-        ax.scatter(points[:, 0], points[:, 1], **{"c": colours, "s": 6, "linewidths": 0, **style})
-    ax.plot(sites[:, 0], sites[:, 1], "k*", markersize=12)
+        ax.add_collection(LineCollection(list(segments), colors=colours, linewidths=0.3, alpha=0.4, zorder=2))
+        ax.scatter(points[:, 0], points[:, 1], **{"c": colours, "s": 6, "linewidths": 0, "zorder": 3,
+                                                  "label": "demand points (colour = their site)", **style})
+    draw_sites(ax, sites, list(palette), fixed=fixed, label="new sites" if fixed.any() else "sites")
     ax.autoscale_view()
+    kind = "p-median" if isinstance(plan, (MedianPlan, MedianPlans)) else "p-center"
+    if isinstance(plan, Grouped):
+        title = f"{kind} plans of {len(plan.labels)} groups · {len(sites)} sites"
+    elif kind == "p-median":
+        title = (f"p-median plan · {len(sites)} sites · total weighted distance "
+                 f"{quantity(plan.cost, plan.unit)} × weight")
+    else:
+        title = (f"p-center plan · {len(sites)} sites · largest weighted distance "
+                 f"{quantity(plan.weighted_radius, plan.unit)} × weight")
+    return finish(ax, title, plan.unit)
 
 
 # ------------------------------------------------------------------------------- tables
@@ -82,6 +98,7 @@ class _Plan(Result):
     count: np.ndarray
     total_load: float
     iterations: int
+    converged: bool
     points: np.ndarray = dataclasses.field(repr=False)
 
     def _site_xy(self) -> np.ndarray:
@@ -133,15 +150,21 @@ class _Plan(Result):
         })
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Draw the points coloured by their site, their links to it and the sites as black
-        stars (fixed sites also as grey squares); new axes when ``ax`` is None."""
-        ax = self._plot_axes(ax)
-        xy = self._site_xy()
-        _draw_plan(ax, self.points, xy, self.assignment, style)
-        fixed = self._site_fixed()
-        if fixed.any():
-            ax.plot(xy[fixed, 0], xy[fixed, 1], "s", color="0.45", markersize=8)
-        return ax
+        """Draw the points coloured by their site, their links to it, the sites as outlined
+        stars in the same colours and fixed sites as white squares above everything, with a
+        title, unit-labelled axes and a legend; new axes when ``ax`` is None.
+
+        Examples
+        --------
+        >>> import matplotlib
+        >>> matplotlib.use("Agg")
+        >>> import placewise as pw
+        >>> pts = [[0, 0], [1, 0], [10, 0], [11, 0]]
+        >>> ax = pw.p_median(pts, 1, fixed=[[0.5, 0]]).plot()
+        >>> [t.get_text() for t in ax.get_legend().get_texts()]
+        ['demand points (colour = their site)', 'new sites', 'fixed sites']
+        """
+        return _draw_plan(self, ax, self._site_xy(), self._site_fixed(), style)
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
@@ -154,6 +177,7 @@ class _GroupedPlan(Grouped):
     count: np.ndarray
     total_load: np.ndarray
     iterations: np.ndarray
+    converged: np.ndarray
     site_offsets: np.ndarray = dataclasses.field(repr=False)
     point_group: np.ndarray = dataclasses.field(repr=False)
     assignment: np.ndarray = dataclasses.field(repr=False)
@@ -227,19 +251,16 @@ class _GroupedPlan(Grouped):
             "count": self.count[at].copy(),
             "total_load": float(self.total_load[position]),
             "iterations": int(self.iterations[position]),
+            "converged": bool(self.converged[position]),
             "points": self.points[members].copy(),
             "unit": self.unit,
         }
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Draw every group's points coloured by their site and every site as a black star
-        (fixed sites also as grey squares)."""
-        ax = self._plot_axes(ax)
-        _draw_plan(ax, self.points, self.sites, self.assignment, style)
-        fixed = self._site_fixed()
-        if fixed.any():
-            ax.plot(self.sites[fixed, 0], self.sites[fixed, 1], "s", color="0.45", markersize=8)
-        return ax
+        """Draw every group's points coloured by their site, every site as an outlined star
+        in its colour (fixed sites as white squares on top), a title, unit-labelled axes and
+        a legend."""
+        return _draw_plan(self, ax, self.sites, self._site_fixed(), style)
 
 
 # ------------------------------------------------------------------------------ p-median
@@ -265,6 +286,8 @@ class MedianPlan(_Plan):
     total_load : float
         Summed weight of all points.
     iterations : int
+    converged : bool
+        False when ``time_limit`` cut the search short: the plan is the best found by then.
         Allocation–location rounds of Cooper's local step over the whole search.
     points : ndarray, shape (n, 2)
         The demand points (not shown in the repr).
@@ -310,6 +333,8 @@ class MedianPlans(_GroupedPlan):
     total_load : ndarray, shape (G,)
         Per group (NaN when skipped).
     iterations : ndarray of int64, shape (G,)
+    converged : ndarray of bool, shape (G,)
+        Per group: False when ``time_limit`` cut its search short (or it was skipped).
     site_offsets : ndarray of int64, shape (G + 1,)
         Group ``g``'s sites are rows ``site_offsets[g]:site_offsets[g + 1]``.
     point_group : ndarray of int64, shape (n,)
@@ -358,6 +383,8 @@ def p_median(
     seed: int = 0,
     effort: Literal["fast", "normal", "thorough"] = "normal",
     errors: Literal["raise", "skip"] = "raise",
+    time_limit: float | None = None,
+    progress: bool | Callable[[int, int], object] = False,
 ) -> MedianPlan: ...
 
 
@@ -373,6 +400,8 @@ def p_median(
     seed: int = 0,
     effort: Literal["fast", "normal", "thorough"] = "normal",
     errors: Literal["raise", "skip"] = "raise",
+    time_limit: float | None = None,
+    progress: bool | Callable[[int, int], object] = False,
 ) -> MedianPlans: ...
 
 
@@ -387,6 +416,8 @@ def p_median(
     seed: int = 0,
     effort: Literal["fast", "normal", "thorough"] = "normal",
     errors: Literal["raise", "skip"] = "raise",
+    time_limit: float | None = None,
+    progress: bool | Callable[[int, int], object] = False,
 ) -> MedianPlan | MedianPlans:
     """The best ``p`` sites for weighted demand: least total weighted distance to the nearest site.
 
@@ -421,11 +452,20 @@ def p_median(
     seed : int
         Seed of the randomised search, from 0 to 2**64 - 1.
     effort : {"fast", "normal", "thorough"}
-        Time against quality: "fast" is one short search; "thorough" runs more and longer
-        searches and examines more jump targets on large inputs.
+        Time against quality: "fast" is one short search; "normal" runs the fast search and
+        then a longer one, "thorough" both and then a longer one still, and the best plan
+        wins, so more effort never gives a worse plan (same input and seed).
     errors : {"raise", "skip"}
         With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
         label); ``"skip"`` keeps such a group with its ``problem`` and plans the rest.
+    time_limit : float, optional
+        Seconds (finite, above zero) that one plan (each group's, with ``groups``) may take;
+        when they pass, the best plan found so far is returned with ``converged`` False.
+    progress : bool or callable
+        True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
+        callable is called as ``progress(done, total)`` from the calling thread while the
+        search runs. Ctrl-C stops the search within a fraction of a second and raises
+        ``KeyboardInterrupt``.
 
     Returns
     -------
@@ -435,7 +475,9 @@ def p_median(
     ------
     InputError
         For NaN/inf coordinates, bad shapes, negative, all-zero or wrong-length weights,
-        ``p`` or ``seed`` not an integer in range, an unknown ``effort``, or ``fixed`` with
+        ``p`` or ``seed`` not an integer in range, an unknown ``effort``, a ``time_limit``
+        that is not a number above zero, a ``progress`` that is neither a bool nor callable,
+        or ``fixed`` with
         ``groups`` but without ``fixed_groups``. Its ``group`` and ``row`` attributes name
         the group label and input row concerned.
     DegenerateInputError
@@ -473,6 +515,10 @@ def p_median(
     >>> skipped = pw.p_median(line, 2, groups=[1, 1, 1, 2, 2, 2], weights=[1, 1, 1, 1, 0, 0], errors="skip")
     >>> skipped.problem[1]
     'group 2: points must hold at least 2 distinct points with positive weight (one per site); got 1'
+    >>> seen = []
+    >>> quick = pw.p_median(line, 2, time_limit=10.0, progress=lambda done, total: seen.append(done))
+    >>> quick.converged, float(quick.cost)       # (0, 0)-(2, 0) and (5, 5)-(5, 7): 2 + 2
+    (True, 4.0)
 
     See Also
     --------
@@ -484,9 +530,11 @@ def p_median(
             error = _core.InputError("fixed_groups is given without groups: it names the group each fixed site serves")
             error.argument = "fixed_groups"
             raise error
-        fields = _core.p_median_single(points, p, weights, fixed, seed, effort)
+        fields = _core.p_median_single(points, p, weights, fixed, seed, effort, time_limit, progress)
         return MedianPlan(**fields, points=as_points(points))
-    fields = _core.p_median_grouped(points, p, weights, groups, fixed, fixed_groups, seed, effort, errors)
+    fields = _core.p_median_grouped(
+        points, p, weights, groups, fixed, fixed_groups, seed, effort, errors, time_limit, progress
+    )
     return MedianPlans._from_core(fields, points=as_points(points))
 
 
@@ -511,6 +559,8 @@ class CenterPlan(_Plan):
     total_load : float
         Summed weight of all points.
     iterations : int
+    converged : bool
+        False when ``time_limit`` cut the search short: the plan is the best found by then.
         Allocation–minimax rounds performed.
     points : ndarray, shape (n, 2)
         The demand points (not shown in the repr).
@@ -558,6 +608,8 @@ class CenterPlans(_GroupedPlan):
     total_load : ndarray, shape (G,)
         Per group (NaN when skipped).
     iterations : ndarray of int64, shape (G,)
+    converged : ndarray of bool, shape (G,)
+        Per group: False when ``time_limit`` cut its search short (or it was skipped).
     site_offsets : ndarray of int64, shape (G + 1,)
         Group ``g``'s sites are rows ``site_offsets[g]:site_offsets[g + 1]``.
     point_group : ndarray of int64, shape (n,)
@@ -604,6 +656,8 @@ def p_center(
     groups: None = None,
     seed: int = 0,
     errors: Literal["raise", "skip"] = "raise",
+    time_limit: float | None = None,
+    progress: bool | Callable[[int, int], object] = False,
 ) -> CenterPlan: ...
 
 
@@ -616,6 +670,8 @@ def p_center(
     groups: ArrayLike,
     seed: int = 0,
     errors: Literal["raise", "skip"] = "raise",
+    time_limit: float | None = None,
+    progress: bool | Callable[[int, int], object] = False,
 ) -> CenterPlans: ...
 
 
@@ -627,6 +683,8 @@ def p_center(
     groups: ArrayLike | None = None,
     seed: int = 0,
     errors: Literal["raise", "skip"] = "raise",
+    time_limit: float | None = None,
+    progress: bool | Callable[[int, int], object] = False,
 ) -> CenterPlan | CenterPlans:
     """``p`` sites minimising the largest weighted distance from a point to its nearest site.
 
@@ -655,6 +713,14 @@ def p_center(
     errors : {"raise", "skip"}
         With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
         label); ``"skip"`` keeps such a group with its ``problem`` and plans the rest.
+    time_limit : float, optional
+        Seconds (finite, above zero) that one plan (each group's, with ``groups``) may take;
+        when they pass, the best plan found so far is returned with ``converged`` False.
+    progress : bool or callable
+        True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
+        callable is called as ``progress(done, total)`` from the calling thread while the
+        search runs. Ctrl-C stops the search within a fraction of a second and raises
+        ``KeyboardInterrupt``.
 
     Returns
     -------
@@ -663,8 +729,9 @@ def p_center(
     Raises
     ------
     InputError
-        For NaN/inf coordinates, bad shapes, bad weights, or ``p`` or ``seed`` not an
-        integer in range. Its ``group`` and ``row`` attributes name the group label and
+        For NaN/inf coordinates, bad shapes, bad weights, ``p`` or ``seed`` not an integer
+        in range, a ``time_limit`` that is not a number above zero, or a ``progress`` that is
+        neither a bool nor callable. Its ``group`` and ``row`` attributes name the group label and
         input row concerned.
     DegenerateInputError
         When fewer than ``p`` distinct points carry positive weight (in a group).
@@ -696,6 +763,7 @@ def p_center(
     p_median : the ``p`` sites minimising the total weighted trip.
     """
     if groups is None:
-        return CenterPlan(**_core.p_center_single(points, p, weights, seed), points=as_points(points))
-    fields = _core.p_center_grouped(points, p, weights, groups, seed, errors)
+        fields = _core.p_center_single(points, p, weights, seed, time_limit, progress)
+        return CenterPlan(**fields, points=as_points(points))
+    fields = _core.p_center_grouped(points, p, weights, groups, seed, errors, time_limit, progress)
     return CenterPlans._from_core(fields, points=as_points(points))

@@ -14,6 +14,7 @@ inside a group, and junctions are numbered within their group's tree.
 from __future__ import annotations
 
 import dataclasses
+from collections.abc import Callable
 from typing import Any, Literal, overload
 
 import numpy as np
@@ -60,17 +61,26 @@ def _group_summary(trees: Grouped, columns: dict[str, Any]) -> Any:
     return _require_pandas().DataFrame({"group": trees.labels, "problem": trees.problem, **columns})
 
 
-def _plot(result: Result, ax: Any, segments: np.ndarray, points: np.ndarray, junctions: np.ndarray | None,
+def _plot(result: Any, ax: Any, segments: np.ndarray, points: np.ndarray, junctions: np.ndarray | None,
           style: dict[str, Any]) -> Any:
-    from .plotting import draw_segments
+    """The one drawing of every tree: edges (``style``), the input points above them, the
+    junctions as open squares, a title with the total length, unit-labelled axes, a legend."""
+    from .plotting import INK, draw_segments, finish, quantity
 
     ax = result._plot_axes(ax)
-    draw_segments(ax, segments[:, 0], segments[:, 1], **{"colors": "steelblue", **style})
-    ax.plot(points[:, 0], points[:, 1], "o", color="black", markersize=3)
+    draw_segments(ax, segments[:, 0], segments[:, 1], **{"colors": "steelblue", "zorder": 3, "label": "edges",
+                                                         **style})
+    ax.plot(points[:, 0], points[:, 1], "o", color=INK, markersize=3.5, zorder=4, label="input points")
     if junctions is not None and len(junctions):
-        ax.plot(junctions[:, 0], junctions[:, 1], "s", markerfacecolor="none", markeredgecolor="crimson",
-                markersize=4)
-    return ax
+        ax.plot(junctions[:, 0], junctions[:, 1], "s", markerfacecolor="white", markeredgecolor="crimson",
+                markeredgewidth=1.2, markersize=5, zorder=5, label="junctions (added points)")
+    kind = "Steiner tree" if junctions is not None else "Minimum spanning tree"
+    length = np.asarray(result.length, dtype=np.float64)
+    if isinstance(result, Grouped):
+        title = f"{kind}s of {len(result.labels)} groups · total length {quantity(np.nansum(length), result.unit)}"
+    else:
+        title = f"{kind} · length {quantity(float(length), result.unit)}"
+    return finish(ax, title, result.unit)
 
 
 # --------------------------------------------------------------------------- spanning trees
@@ -266,7 +276,20 @@ class SteinerTree(_SteinerEdges, Result):
         return _require_pandas().DataFrame(columns)
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Draw the edges, the input points (dots) and the junctions (open squares)."""
+        """Draw the edges, the input points (dots) and the junctions (open squares), with
+        the length in the title, unit-labelled axes and a legend; ``style`` goes to the edges.
+
+        Examples
+        --------
+        >>> import matplotlib
+        >>> matplotlib.use("Agg")
+        >>> import placewise as pw
+        >>> ax = pw.steiner_tree([[0, 0], [2, 0], [1, 2]]).plot()
+        >>> [t.get_text() for t in ax.get_legend().get_texts()]
+        ['edges', 'input points', 'junctions (added points)']
+        >>> pw.steiner_tree([[0, 0], [1, 0]]).plot().get_title()     # two points: one edge
+        'Steiner tree · length 1 coordinate units'
+        """
         return _plot(self, ax, self._segments(), self.points, self.junctions, style)
 
 
@@ -439,6 +462,7 @@ def steiner_tree(
     time_limit: float | None = None,
     groups: None = None,
     errors: Literal["raise", "skip"] = "raise",
+    progress: bool | Callable[[int, int], object] = False,
 ) -> SteinerTree: ...
 
 
@@ -451,6 +475,7 @@ def steiner_tree(
     time_limit: float | None = None,
     groups: ArrayLike,
     errors: Literal["raise", "skip"] = "raise",
+    progress: bool | Callable[[int, int], object] = False,
 ) -> SteinerTrees: ...
 
 
@@ -462,6 +487,7 @@ def steiner_tree(
     time_limit: float | None = None,
     groups: ArrayLike | None = None,
     errors: Literal["raise", "skip"] = "raise",
+    progress: bool | Callable[[int, int], object] = False,
 ) -> SteinerTree | SteinerTrees:
     """The Euclidean Steiner tree: the shortest network joining the sites when junctions may be added.
 
@@ -492,6 +518,11 @@ def steiner_tree(
     errors : {"raise", "skip"}
         With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
         label); ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
+    progress : bool or callable
+        True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
+        callable is called as ``progress(done, total)`` from the calling thread while the
+        tree is built. Ctrl-C stops the work within a fraction of a second and raises
+        ``KeyboardInterrupt``.
 
     Returns
     -------
@@ -501,7 +532,8 @@ def steiner_tree(
     ------
     InputError
         For NaN/inf coordinates, bad shapes, an empty point set, ``exact`` other than
-        True/False/None, a ``seed`` or ``time_limit`` of the wrong type or range, or
+        True/False/None, a ``seed`` or ``time_limit`` of the wrong type or range, a
+        ``progress`` that is neither a bool nor callable, or
         ``exact=True`` with more than 64 distinct points. Its ``argument`` names the
         argument; ``group`` and ``row`` the group label and input row concerned.
 
@@ -540,9 +572,9 @@ def steiner_tree(
     weber_point : the best single junction for all sites.
     """
     if groups is None:
-        fields = _core.steiner_tree_single(points, exact, seed, time_limit)
+        fields = _core.steiner_tree_single(points, exact, seed, time_limit, progress)
         return SteinerTree(**fields, points=as_points(points))
-    fields = _core.steiner_tree_grouped(points, groups, exact, seed, time_limit, errors)
+    fields = _core.steiner_tree_grouped(points, groups, exact, seed, time_limit, errors, progress)
     return SteinerTrees._from_core(
         fields, points=as_points(points), row_group=Grouped._row_groups_of(fields["labels"], groups)
     )

@@ -69,11 +69,31 @@ class _Triangles(Result):
         return shapely.polygons(self.points[self.corners])
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Draw the triangles' edges (new axes when ``ax`` is None)."""
+        """Draw the triangles' edges over the input points, with a title, unit-labelled
+        axes and a legend (new axes when ``ax`` is None); ``style`` goes to the edges.
+
+        Examples
+        --------
+        >>> import matplotlib
+        >>> matplotlib.use("Agg")
+        >>> import placewise as pw
+        >>> ax = pw.delaunay([[0, 0], [1, 0], [0, 1], [1, 1]]).plot()
+        >>> ax.get_title(), ax.get_legend() is not None
+        ('Delaunay mesh · 2 triangles', True)
+        """
+        from .plotting import draw_context, finish
+
         ax = self._plot_axes(ax)
-        options = {"color": "#3b6ea8", "linewidth": 0.6, **style}
-        ax.triplot(self.points[:, 0], self.points[:, 1], self.corners, **options)
-        return ax
+        if len(self.corners):
+            options = {"color": "#3b6ea8", "linewidth": 0.7, "zorder": 3, **style}
+            lines = ax.triplot(self.points[:, 0], self.points[:, 1], self.corners, **options)
+            lines[0].set_label("triangle edges")
+        draw_context(ax, self.points, label="input points", color="#2e3440", zorder=4)
+        count = len(self.corners)
+        title = f"Delaunay mesh · {count} triangle{'s' * (count != 1)}"
+        if isinstance(self, Grouped):
+            title = f"Delaunay meshes of {len(self.labels)} groups · {count} triangles"
+        return finish(ax, title, self.unit)
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
@@ -328,12 +348,25 @@ class _Cells(Result):
         return self.to_shapely()
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Fill every cell (holes kept) and mark the sites (new axes when ``ax`` is None)."""
+        """Fill every cell in its site's colour (holes kept) and mark the sites, with a
+        title, unit-labelled axes and a legend (new axes when ``ax`` is None); ``style``
+        goes to the cells.
+
+        Examples
+        --------
+        >>> import matplotlib
+        >>> matplotlib.use("Agg")
+        >>> import shapely
+        >>> import placewise as pw
+        >>> ax = pw.voronoi_cells([[1, 1], [3, 1]], shapely.box(0, 0, 4, 2)).plot()
+        >>> ax.get_title(), [t.get_text() for t in ax.get_legend().get_texts()]
+        ('Voronoi cells of 2 sites', ['cell (colour = site)', 'sites'])
+        """
         from matplotlib.collections import PatchCollection
-        from matplotlib.patches import PathPatch
+        from matplotlib.patches import Patch, PathPatch
         from matplotlib.path import Path
 
-        from .plotting import site_colour
+        from .plotting import INK, finish, site_colour
 
         ax = self._plot_axes(ax)
         patches, colours = [], []
@@ -347,8 +380,14 @@ class _Cells(Result):
             colours.append(site_colour(i))
         options = {"facecolors": colours, "edgecolor": "white", "linewidth": 0.8, "alpha": 0.6, **style}
         ax.add_collection(PatchCollection(patches, **options))
-        ax.plot(self.sites[:, 0], self.sites[:, 1], "k.", markersize=3)
+        # Sites as dark dots (one line: the cells carry the colour); the legend names both.
+        ax.plot(self.sites[:, 0], self.sites[:, 1], linestyle="none", marker="o", markersize=4, color=INK,
+                zorder=5, label="sites")
         ax.autoscale_view()
+        finish(ax, f"Voronoi cells of {len(self.area)} sites", self.unit, legend=False)
+        handles, labels = ax.get_legend_handles_labels()
+        cell = Patch(facecolor=site_colour(0), alpha=0.6, edgecolor="white", label="cell (colour = site)")
+        ax.legend([cell, *handles], [cell.get_label(), *labels], loc="best", fontsize=7.5, framealpha=0.85)
         return ax
 
 
@@ -595,18 +634,35 @@ class _Assigned(Result):
         return {"x": self.sites[:, 0], "y": self.sites[:, 1], "load": self.load, "points": self.count}
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
-        """Draw the points coloured by their site and the sites as stars."""
-        from .plotting import SITE_COLOURS
+        """Draw the points coloured by their site and the sites as outlined stars in the same
+        colours above them, with a title, unit-labelled axes and a legend (new axes when
+        ``ax`` is None); ``style`` goes to the points.
+
+        Examples
+        --------
+        >>> import matplotlib
+        >>> matplotlib.use("Agg")
+        >>> import placewise as pw
+        >>> ax = pw.nearest_site([[0, 0], [5, 5], [1, 0]], [[0, 1], [5, 4]]).plot()
+        >>> ax.get_title(), [t.get_text() for t in ax.get_legend().get_texts()]
+        ('Nearest-site allocation · 3 points, 2 sites', ['points (colour = their site)', 'sites'])
+        """
+        from .plotting import INK, draw_sites, finish, site_colours
 
         ax = self._plot_axes(ax)
-        options: dict[str, Any] = {"s": 4, "linewidths": 0, **style}
+        palette = np.asarray(site_colours(max(len(self.sites), 1)) + [INK])
+        options: dict[str, Any] = {"s": 5, "linewidths": 0, "zorder": 3, "label": "points (colour = their site)",
+                                   **style}
         if "color" not in options and "c" not in options:
-            # One colour per site unless the caller chose one (matplotlib refuses both).
-            served = self.assignment >= 0
-            options["c"] = np.asarray(SITE_COLOURS)[np.where(served, self.assignment, 0) % len(SITE_COLOURS)]
+            # One colour per site unless the caller chose one (matplotlib refuses both); a
+            # point without a site (a skipped group) is drawn in ink.
+            options["c"] = palette[np.where(self.assignment >= 0, self.assignment, -1)]
         ax.scatter(self.points[:, 0], self.points[:, 1], **options)
-        ax.plot(self.sites[:, 0], self.sites[:, 1], "k*", markersize=10)
-        return ax
+        draw_sites(ax, self.sites, list(palette[:-1]))
+        title = f"Nearest-site allocation · {len(self.points)} points, {len(self.sites)} sites"
+        if isinstance(self, Grouped):
+            title = f"Nearest-site allocations of {len(self.labels)} groups · {len(self.points)} points"
+        return finish(ax, title, self.unit)
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)

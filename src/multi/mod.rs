@@ -27,6 +27,8 @@ pub use p_median::{p_median, p_medians, Effort, MedianOptions, MedianPlan};
 pub use service::Service;
 
 use crate::error::{Error, Result};
+use rayon::prelude::*;
+
 use crate::geometry::{location_key, Point, Weights};
 
 /// A distinct location carrying positive weight.
@@ -66,7 +68,8 @@ fn check_site_count(points: &[Point], weights: Weights<'_>, p: usize) -> Result<
 /// the same coordinate).
 fn distinct_weighted(points: &[Point], weights: Weights<'_>) -> Vec<Location> {
     let mut order: Vec<usize> = (0..points.len()).filter(|&i| weights.get(i) > 0.0).collect();
-    order.sort_by_key(|&i| (location_key(points[i]), i));
+    // The key ends in the row, so an unstable (parallel) sort gives the one order.
+    order.par_sort_unstable_by_key(|&i| (location_key(points[i]), i));
     let mut distinct: Vec<Location> = Vec::with_capacity(order.len());
     let mut last = None;
     for &i in &order {
@@ -130,7 +133,7 @@ mod properties {
         /// and counts and the cost agree with a direct evaluation of the sites.
         #[test]
         fn p_median_service_is_nearest_and_consistent(points in cloud(), p in 1usize..4) {
-            let options = MedianOptions { effort: Effort::Fast, seed: 3 };
+            let options = MedianOptions { effort: Effort::Fast, seed: 3, ..MedianOptions::default() };
             let plan = p_median(&points, Weights::Unit, p, &[], &options).unwrap();
             prop_assert_eq!(plan.sites.len(), p);
             let s = &plan.service;
@@ -153,7 +156,7 @@ mod properties {
         /// The same seed gives the same plan.
         #[test]
         fn p_median_is_deterministic(points in cloud()) {
-            let options = MedianOptions { effort: Effort::Fast, seed: 11 };
+            let options = MedianOptions { effort: Effort::Fast, seed: 11, ..MedianOptions::default() };
             let a = p_median(&points, Weights::Unit, 2, &[], &options).unwrap();
             let b = p_median(&points, Weights::Unit, 2, &[], &options).unwrap();
             prop_assert_eq!(a, b);
@@ -177,7 +180,7 @@ mod properties {
         /// too few distinct points are skipped, each with its own error.
         #[test]
         fn p_medians_equal_separate_calls((points, labels) in labelled(), p in 1usize..3) {
-            let options = MedianOptions { effort: Effort::Fast, seed: 5 };
+            let options = MedianOptions { effort: Effort::Fast, seed: 5, ..MedianOptions::default() };
             let (grouped, _) = p_medians(&points, Weights::Unit, &labels, p, &[], &[], &options, OnGroupError::Skip).unwrap();
             for (g, &label) in grouped.labels.iter().enumerate() {
                 let rows = members(&labels, label);
@@ -194,7 +197,7 @@ mod properties {
         #[test]
         fn p_centers_equal_separate_calls((points, labels) in labelled(), p in 1usize..3) {
             let w: Vec<f64> = (0..points.len()).map(|i| 1.0 + (i % 3) as f64).collect();
-            let options = CenterOptions { seed: 2, restarts: 4 };
+            let options = CenterOptions { seed: 2, restarts: 4, ..CenterOptions::default() };
             let (grouped, _) = p_centers(&points, Weights::Given(&w), &labels, p, &options, OnGroupError::Skip).unwrap();
             for (g, &label) in grouped.labels.iter().enumerate() {
                 let rows = members(&labels, label);
@@ -214,7 +217,7 @@ mod properties {
         fn p_medians_with_fixed_groups_equal_separate_calls((points, labels) in labelled()) {
             let fixed = [[0.0, 0.0], [500.0, -500.0], [-300.0, 200.0]];
             let fixed_labels = [-5, 9, -5];
-            let options = MedianOptions { effort: Effort::Fast, seed: 1 };
+            let options = MedianOptions { effort: Effort::Fast, seed: 1, ..MedianOptions::default() };
             let (grouped, _) =
                 p_medians(&points, Weights::Unit, &labels, 1, &fixed, &fixed_labels, &options, OnGroupError::Raise)
                     .unwrap();

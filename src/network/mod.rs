@@ -18,6 +18,7 @@ mod union_find;
 pub use check::check_steiner_tree;
 
 use crate::batch::{run_grouped, Grouped, OnGroupError};
+use crate::cancel::Watch;
 use crate::error::{Error, Result};
 use crate::geometry::{distance, validate_points, CompensatedSum, Point, Weights, WorkingFrame};
 use distinct::Distinct;
@@ -83,7 +84,7 @@ pub enum SteinerMethod {
 }
 
 /// Options of [`steiner_tree`].
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct SteinerOptions {
     /// Exact, heuristic or automatic choice.
     pub method: SteinerMethod,
@@ -93,11 +94,14 @@ pub struct SteinerOptions {
     /// [`SteinerMethod::Exact`], [`AUTO_BUDGET`] seconds for [`SteinerMethod::Auto`]).
     /// When it runs out the heuristic's tree is returned, not proven optimal.
     pub time_limit: Option<f64>,
+    /// Cancel flag and progress count shared with the caller ([`crate::cancel`]). A
+    /// cancelled run returns at once with the spanning tree or the heuristic's tree so far.
+    pub watch: Watch,
 }
 
 impl Default for SteinerOptions {
     fn default() -> Self {
-        SteinerOptions { method: SteinerMethod::Auto, seed: 0, time_limit: None }
+        SteinerOptions { method: SteinerMethod::Auto, seed: 0, time_limit: None, watch: Watch::default() }
     }
 }
 
@@ -210,8 +214,14 @@ pub fn steiner_trees(
     on_error: OnGroupError,
 ) -> Result<Grouped<SteinerTree>> {
     validate_options(options)?;
+    // Progress counts the points of finished groups; each group's own solve is quiet.
+    let watch = &options.watch;
+    watch.plan(points.len() as u64);
+    let inner = SteinerOptions { watch: watch.quiet(), ..options.clone() };
     run_grouped(points, Weights::Unit, labels, on_error, |group| {
-        let mut tree = steiner_tree(group.points, options)?;
+        let solved = steiner_tree(group.points, &inner);
+        watch.advance(group.points.len() as u64);
+        let mut tree = solved?;
         for end in tree.edges.iter_mut().flatten() {
             // Members ascend (the grouping is stable), so every edge keeps its smaller end
             // first and the edges stay sorted.

@@ -8,6 +8,7 @@
 use pyo3::prelude::*;
 
 mod convert;
+mod discrete;
 mod enclose;
 mod errors;
 mod fields;
@@ -31,6 +32,7 @@ fn core_module(m: &Bound<'_, PyModule>) -> PyResult<()> {
     partition::register(m)?;
     enclose::register(m)?;
     multi::register(m)?;
+    discrete::register(m)?;
     m.add("__version__", env!("CARGO_PKG_VERSION"))?;
     Ok(())
 }

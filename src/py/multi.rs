@@ -4,11 +4,13 @@ use numpy::{PyArray1, PyArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
 
-use super::convert::{as_point_slice, count_arg, index_values, on_error_arg, seed_arg, Cloud};
+use super::convert::{as_point_slice, count_arg, index_values, on_error_arg, optional_float_arg, seed_arg, Cloud};
 use super::errors::argument_error;
 use super::fields::Fields;
-use super::{labels_arg, points_arg, run_detached, weights_arg};
+use super::runtime::{progress_arg, run_watched, Progress};
+use super::{labels_arg, points_arg, weights_arg};
 use crate::batch::{Grouped, RowPlaces};
+use crate::cancel::Watch;
 use crate::geometry::{Point, Weights};
 use crate::multi::{p_center, p_centers, p_median, p_medians, CenterOptions, Effort, MedianOptions, Service};
 
@@ -21,6 +23,42 @@ fn effort_arg(name: &str) -> PyResult<Effort> {
             Err(argument_error("effort", format!("effort must be \"fast\", \"normal\" or \"thorough\"; got {other:?}")))
         }
     }
+}
+
+/// `time_limit`: None, or seconds, finite and above zero.
+fn time_limit_arg(time_limit: Option<&Bound<'_, PyAny>>) -> PyResult<Option<f64>> {
+    optional_float_arg(time_limit, "time_limit", "finite and > 0 (seconds)", |t| t.is_finite() && t > 0.0)
+}
+
+/// The options of a p-median call (watched by a fresh [`Watch`]) and its progress report.
+fn median_options<'py>(
+    effort: &str,
+    seed: &Bound<'py, PyAny>,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
+) -> PyResult<(MedianOptions, Progress<'py>)> {
+    let options = MedianOptions {
+        effort: effort_arg(effort)?,
+        seed: seed_arg(seed)?,
+        time_limit: time_limit_arg(time_limit)?,
+        watch: Watch::new(),
+    };
+    Ok((options, progress_arg(progress, "p_median")?))
+}
+
+/// The options of a p-center call (watched by a fresh [`Watch`]) and its progress report.
+fn center_options<'py>(
+    seed: &Bound<'py, PyAny>,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
+) -> PyResult<(CenterOptions, Progress<'py>)> {
+    let options = CenterOptions {
+        seed: seed_arg(seed)?,
+        time_limit: time_limit_arg(time_limit)?,
+        watch: Watch::new(),
+        ..CenterOptions::default()
+    };
+    Ok((options, progress_arg(progress, "p_center")?))
 }
 
 /// `p`, the number of new sites: an integer of at least 1.
@@ -76,9 +114,10 @@ fn grouped_service_fields<'py, T: Sync>(
 }
 
 /// Fields: sites (p, 2), fixed (f, 2), assignment (n,), distance (n,), load (p + f,),
-/// count (p + f,), cost, total_load, iterations.
+/// count (p + f,), cost, total_load, iterations, converged.
 #[pyfunction]
-#[pyo3(signature = (points, p, weights, fixed, seed, effort))]
+#[pyo3(signature = (points, p, weights, fixed, seed, effort, time_limit, progress))]
+#[allow(clippy::too_many_arguments)]
 fn p_median_single<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
@@ -87,30 +126,36 @@ fn p_median_single<'py>(
     fixed: Option<&Bound<'py, PyAny>>,
     seed: &Bound<'py, PyAny>,
     effort: &str,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let p = p_arg(p)?;
-    let options = MedianOptions { effort: effort_arg(effort)?, seed: seed_arg(seed)? };
+    let (options, mut progress) = median_options(effort, seed, time_limit, progress)?;
+    let watch = options.watch.clone();
     let points = points_arg(points, "points")?;
     let weights = weights_arg(weights, "weights")?;
     let fixed = fixed.filter(|f| !f.is_none()).map(|f| points_arg(f, "fixed")).transpose()?;
     let pts = as_point_slice(&points);
     let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
     let fixed_sites: &[Point] = fixed.as_ref().map_or(&[], as_point_slice);
-    let plan = run_detached(py, || p_median(pts, Weights::from_option(w), p, fixed_sites, &options))?;
+    let plan =
+        run_watched(py, &watch, &mut progress, || p_median(pts, Weights::from_option(w), p, fixed_sites, &options))?;
     let fields = Fields::new(py)
         .put("sites", points_array(py, plan.sites.iter().copied())?)?
         .put("fixed", points_array(py, plan.fixed.iter().copied())?)?
         .put("cost", plan.service.cost)?
-        .put("iterations", plan.iterations)?;
+        .put("iterations", plan.iterations)?
+        .put("converged", plan.converged)?;
     Ok(service_fields(py, fields, &plan.service)?.done())
 }
 
 /// Fields: labels (G,), problem (G,); per site (S = every group's new sites then its fixed
 /// ones) sites (S, 2), fixed (S,) bool, load, count, site_offsets (G + 1,); per point
 /// point_group, assignment (row in the per-site arrays), distance; per group cost,
-/// total_load, iterations. Skipped groups have no sites, NaN totals and 0 iterations.
+/// total_load, iterations, converged. Skipped groups have no sites, NaN totals, 0 iterations
+/// and `converged` false.
 #[pyfunction]
-#[pyo3(signature = (points, p, weights, groups, fixed, fixed_groups, seed, effort, errors))]
+#[pyo3(signature = (points, p, weights, groups, fixed, fixed_groups, seed, effort, errors, time_limit, progress))]
 #[allow(clippy::too_many_arguments)]
 fn p_median_grouped<'py>(
     py: Python<'py>,
@@ -123,9 +168,12 @@ fn p_median_grouped<'py>(
     seed: &Bound<'py, PyAny>,
     effort: &str,
     errors: &str,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let p = p_arg(p)?;
-    let options = MedianOptions { effort: effort_arg(effort)?, seed: seed_arg(seed)? };
+    let (options, mut progress) = median_options(effort, seed, time_limit, progress)?;
+    let watch = options.watch.clone();
     let on_error = on_error_arg(errors)?;
     let points = points_arg(points, "points")?;
     let weights = weights_arg(weights, "weights")?;
@@ -143,7 +191,7 @@ fn p_median_grouped<'py>(
     let pts = as_point_slice(&points);
     let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
     let l = labels.as_slice()?;
-    let (g, places) = run_detached(py, || {
+    let (g, places) = run_watched(py, &watch, &mut progress, || {
         p_medians(pts, Weights::from_option(w), l, p, fixed_sites, fixed_labels, &options, on_error)
     })?;
     let solved = || g.results.iter().filter_map(|r| r.as_ref().ok());
@@ -156,40 +204,46 @@ fn p_median_grouped<'py>(
         .put("sites", sites)?
         .put("fixed", PyArray1::from_vec(py, is_fixed))?
         .put("cost", PyArray1::from_vec(py, g.column(f64::NAN, |r| r.service.cost)))?
-        .put("iterations", PyArray1::from_vec(py, g.column(0u64, |r| r.iterations as u64)))?;
+        .put("iterations", PyArray1::from_vec(py, g.column(0u64, |r| r.iterations as u64)))?
+        .put("converged", PyArray1::from_vec(py, g.column(false, |r| r.converged)))?;
     Ok(grouped_service_fields(py, fields, &g, &places, |r| &r.service)?.done())
 }
 
 /// Fields: sites (p, 2), assignment (n,), distance (n,), load (p,), count (p,),
-/// weighted_radius, radius, total_load, optimal, iterations.
+/// weighted_radius, radius, total_load, optimal, converged, iterations.
 #[pyfunction]
-#[pyo3(signature = (points, p, weights, seed))]
+#[pyo3(signature = (points, p, weights, seed, time_limit, progress))]
 fn p_center_single<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     p: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
     seed: &Bound<'py, PyAny>,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let p = p_arg(p)?;
-    let options = CenterOptions { seed: seed_arg(seed)?, ..CenterOptions::default() };
+    let (options, mut progress) = center_options(seed, time_limit, progress)?;
+    let watch = options.watch.clone();
     let cloud = Cloud::read(points, weights, None)?;
     let (pts, w) = (cloud.points(), cloud.weights()?);
-    let plan = run_detached(py, || p_center(pts, Weights::from_option(w), p, &options))?;
+    let plan = run_watched(py, &watch, &mut progress, || p_center(pts, Weights::from_option(w), p, &options))?;
     let fields = Fields::new(py)
         .put("sites", points_array(py, plan.sites.iter().copied())?)?
         .put("weighted_radius", plan.service.weighted_radius)?
         .put("radius", plan.service.radius)?
         .put("optimal", plan.optimal)?
+        .put("converged", plan.converged)?
         .put("iterations", plan.iterations)?;
     Ok(service_fields(py, fields, &plan.service)?.done())
 }
 
 /// Fields: labels (G,), problem (G,); per site sites (S, 2), load, count, site_offsets
 /// (G + 1,); per point point_group, assignment (row in the per-site arrays), distance; per
-/// group weighted_radius, radius, total_load, optimal, iterations.
+/// group weighted_radius, radius, total_load, optimal, converged, iterations.
 #[pyfunction]
-#[pyo3(signature = (points, p, weights, groups, seed, errors))]
+#[pyo3(signature = (points, p, weights, groups, seed, errors, time_limit, progress))]
+#[allow(clippy::too_many_arguments)]
 fn p_center_grouped<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
@@ -198,13 +252,17 @@ fn p_center_grouped<'py>(
     groups: &Bound<'py, PyAny>,
     seed: &Bound<'py, PyAny>,
     errors: &str,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let p = p_arg(p)?;
-    let options = CenterOptions { seed: seed_arg(seed)?, ..CenterOptions::default() };
+    let (options, mut progress) = center_options(seed, time_limit, progress)?;
+    let watch = options.watch.clone();
     let on_error = on_error_arg(errors)?;
     let cloud = Cloud::read(points, weights, Some(groups))?;
     let (pts, w, l) = (cloud.points(), cloud.weights()?, cloud.labels()?);
-    let (g, places) = run_detached(py, || p_centers(pts, Weights::from_option(w), l, p, &options, on_error))?;
+    let (g, places) =
+        run_watched(py, &watch, &mut progress, || p_centers(pts, Weights::from_option(w), l, p, &options, on_error))?;
     let sites =
         points_array(py, g.results.iter().filter_map(|r| r.as_ref().ok()).flat_map(|r| r.sites.iter().copied()))?;
     let fields = Fields::new(py)
@@ -213,6 +271,7 @@ fn p_center_grouped<'py>(
         .put("weighted_radius", PyArray1::from_vec(py, g.column(f64::NAN, |r| r.service.weighted_radius)))?
         .put("radius", PyArray1::from_vec(py, g.column(f64::NAN, |r| r.service.radius)))?
         .put("optimal", PyArray1::from_vec(py, g.column(false, |r| r.optimal)))?
+        .put("converged", PyArray1::from_vec(py, g.column(false, |r| r.converged)))?
         .put("iterations", PyArray1::from_vec(py, g.column(0u64, |r| r.iterations as u64)))?;
     Ok(grouped_service_fields(py, fields, &g, &places, |r| &r.service)?.done())
 }

@@ -7,7 +7,9 @@ use pyo3::types::{PyBool, PyDict, PyString};
 use super::convert::{as_point_slice, index_values, on_error_arg, optional_float_arg, seed_arg, Cloud};
 use super::errors::argument_error;
 use super::fields::Fields;
+use super::runtime::{progress_arg, run_watched};
 use super::{points_arg, run_detached};
+use crate::cancel::Watch;
 use crate::geometry::Point;
 use crate::network::{
     spanning_tree, spanning_trees, steiner_tree, steiner_trees, EdgeEnd, SteinerMethod, SteinerOptions,
@@ -31,10 +33,12 @@ fn method_arg(exact: Option<&Bound<'_, PyAny>>) -> PyResult<SteinerMethod> {
     Err(argument_error("exact", format!("exact must be True, False or None; got {shown} ({type_name})")))
 }
 
+/// The options of a Steiner call, watched by `watch`.
 fn options(
     exact: Option<&Bound<'_, PyAny>>,
     seed: &Bound<'_, PyAny>,
     time_limit: Option<&Bound<'_, PyAny>>,
+    watch: &Watch,
 ) -> PyResult<SteinerOptions> {
     Ok(SteinerOptions {
         method: method_arg(exact)?,
@@ -42,6 +46,7 @@ fn options(
         time_limit: optional_float_arg(time_limit, "time_limit", "finite and >= 0 (seconds)", |t| {
             t.is_finite() && t >= 0.0
         })?,
+        watch: watch.clone(),
     })
 }
 
@@ -122,18 +127,21 @@ fn spanning_tree_grouped<'py>(
 /// Fields: junctions (k, 2), end_a, end_b, junction_a, junction_b (E,) (see
 /// [`steiner_ends`]), edge_length (E,), length, mst_length, saving, optimal.
 #[pyfunction]
-#[pyo3(signature = (points, exact, seed, time_limit))]
+#[pyo3(signature = (points, exact, seed, time_limit, progress))]
 fn steiner_tree_single<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     exact: Option<&Bound<'py, PyAny>>,
     seed: &Bound<'py, PyAny>,
     time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
-    let options = options(exact, seed, time_limit)?;
+    let watch = Watch::new();
+    let options = options(exact, seed, time_limit, &watch)?;
+    let mut progress = progress_arg(progress, "steiner_tree")?;
     let points = points_arg(points, "points")?;
     let pts = as_point_slice(&points);
-    let t = run_detached(py, || steiner_tree(pts, &options))?;
+    let t = run_watched(py, &watch, &mut progress, || steiner_tree(pts, &options))?;
     let fields = Fields::new(py).put("junctions", point_array(py, &t.junctions)?)?;
     Ok(put_steiner_ends(fields, py, &t.edges)?
         .put("edge_length", PyArray1::from_vec(py, t.edge_length.clone()))?
@@ -150,7 +158,8 @@ fn steiner_tree_single<'py>(
 /// saving (G,), optimal (G,). A skipped group has no junctions or edges, NaN totals and
 /// `optimal` false.
 #[pyfunction]
-#[pyo3(signature = (points, groups, exact, seed, time_limit, errors))]
+#[pyo3(signature = (points, groups, exact, seed, time_limit, errors, progress))]
+#[allow(clippy::too_many_arguments)]
 fn steiner_tree_grouped<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
@@ -159,12 +168,15 @@ fn steiner_tree_grouped<'py>(
     seed: &Bound<'py, PyAny>,
     time_limit: Option<&Bound<'py, PyAny>>,
     errors: &str,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
-    let options = options(exact, seed, time_limit)?;
+    let watch = Watch::new();
+    let options = options(exact, seed, time_limit, &watch)?;
+    let mut progress = progress_arg(progress, "steiner_tree")?;
     let on_error = on_error_arg(errors)?;
     let cloud = Cloud::read(points, None, Some(groups))?;
     let (pts, l) = (cloud.points(), cloud.labels()?);
-    let g = run_detached(py, || steiner_trees(pts, l, &options, on_error))?;
+    let g = run_watched(py, &watch, &mut progress, || steiner_trees(pts, l, &options, on_error))?;
     let (junction_offsets, junctions) = g.csr(|t| t.junctions.as_slice());
     let (edge_offsets, edges) = g.csr(|t| t.edges.as_slice());
     let (_, edge_length) = g.csr(|t| t.edge_length.as_slice());

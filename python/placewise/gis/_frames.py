@@ -305,9 +305,9 @@ def prepare(
     if lonlat is not None:
         _check_lonlat(frame, lonlat, name)
         if groups is not None and isinstance(work, str) and work_crs is None and not planar:
-            xy, frames, frame_of_group, error = _frames_per_group(lonlat, groups, name, max_scale_error)
-            return Prepared(frame, xy, frame.crs, frames[0], float(error.max()), groups, frames, frame_of_group,
-                            error)
+            xy, frames, frame_of_group, group_error = _frames_per_group(lonlat, groups, name, max_scale_error)
+            return Prepared(frame, xy, frame.crs, frames[0], float(group_error.max()), groups, frames,
+                            frame_of_group, group_error)
     if isinstance(work, str):
         work = _working_crs(frame, name, planar, work_crs)
     elif (work is None) != (frame.crs is None):

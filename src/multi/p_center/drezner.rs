@@ -9,6 +9,7 @@
 //! D-sampling starts; the best plan wins.
 
 use super::{CenterOptions, Demand, Plan, IMPROVEMENT, MAX_ROUNDS};
+use crate::cancel::Clock;
 use crate::error::Result;
 use crate::geometry::random::SplitMix64;
 use crate::geometry::{distance, Point, Weights};
@@ -16,18 +17,33 @@ use crate::multi::seeding::d_sampling;
 use crate::partition::{allocate, SiteIndex};
 
 impl Demand {
-    /// The best of `options.restarts` descents from seeded starts.
-    pub(super) fn restarts(&self, p: usize, options: &CenterOptions, iterations: &mut usize) -> Result<Plan> {
+    /// The best of `options.restarts` descents from seeded starts; when `clock` stops the
+    /// search, the best plan so far, with `stopped` set.
+    pub(super) fn restarts(
+        &self,
+        p: usize,
+        options: &CenterOptions,
+        clock: &Clock,
+        stopped: &mut bool,
+        iterations: &mut usize,
+    ) -> Result<Plan> {
         let mut rng = SplitMix64::new(options.seed);
         let mut best: Option<Plan> = None;
-        for restart in 0..options.restarts.max(1) {
+        let restarts = options.restarts.max(1);
+        clock.watch.plan(restarts as u64);
+        for restart in 0..restarts {
+            if restart > 0 && clock.stop() {
+                *stopped = true;
+                break;
+            }
             let start = if restart % 2 == 0 {
                 let first = if restart == 0 { self.heaviest() } else { rng.below(self.len()) };
                 self.farthest_first(first, p).iter().map(|&i| self.points[i]).collect()
             } else {
                 d_sampling(&self.points, Weights::Given(&self.weights), &self.all, &[], p, &mut rng)
             };
-            let plan = self.descend(start, iterations)?;
+            let plan = self.descend(start, clock, stopped, iterations)?;
+            clock.watch.advance(1);
             if best.as_ref().is_none_or(|b| plan.radius < b.radius * (1.0 - IMPROVEMENT)) {
                 best = Some(plan);
             }
@@ -46,16 +62,32 @@ impl Demand {
     }
 
     /// Drezner's alternation to a local optimum, then support-point hand-overs while they help.
-    fn descend(&self, mut sites: Vec<Point>, iterations: &mut usize) -> Result<Plan> {
+    /// Stops with the plan so far when `clock` says so (setting `stopped`).
+    fn descend(
+        &self,
+        mut sites: Vec<Point>,
+        clock: &Clock,
+        stopped: &mut bool,
+        iterations: &mut usize,
+    ) -> Result<Plan> {
         let mut buffer = (Vec::new(), Vec::new());
         let mut radius = self.radius(&sites)?;
         loop {
             // Alternation: minimax point of every cluster, while the radius falls.
             for _ in 0..MAX_ROUNDS {
+                if clock.stop() {
+                    *stopped = true;
+                    return Ok(Plan { sites, radius });
+                }
                 *iterations += 1;
                 let clusters = self.clusters(&sites)?;
                 let mut moved = sites.clone();
                 for (j, members) in clusters.iter().enumerate() {
+                    // A round over a million points takes a while: poll per cluster too.
+                    if clock.stop() {
+                        *stopped = true;
+                        return Ok(Plan { sites, radius });
+                    }
                     if !members.is_empty() {
                         moved[j] = self.minimax(members, &mut buffer)?.location;
                     }

@@ -15,6 +15,7 @@ mod exact;
 
 use super::{check_site_count, Location, Service};
 use crate::batch::{run_grouped_placed, Grouped, OnGroupError, RowPlaces};
+use crate::cancel::Watch;
 use crate::enclose::{minimax_point, MinimaxPoint};
 use crate::error::Result;
 use crate::geometry::{distance, validate_points, validate_weights, Point, Weights};
@@ -24,17 +25,23 @@ use crate::partition::{allocate, SiteIndex};
 pub const EXACT_MAX_POINTS: usize = 10;
 
 /// Options of [`p_center`].
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct CenterOptions {
-    /// Seed of the restarts: the same seed gives the same answer.
+    /// Seed of the restarts: the same seed gives the same answer (when the search is not cut
+    /// short by `time_limit`).
     pub seed: u64,
     /// Number of restarts of the heuristic.
     pub restarts: usize,
+    /// Wall-clock budget of one plan in seconds (`None`: none). When it passes, the best plan
+    /// found so far is returned with `converged` false.
+    pub time_limit: Option<f64>,
+    /// Cancel flag and progress count shared with the caller ([`crate::cancel`]).
+    pub watch: Watch,
 }
 
 impl Default for CenterOptions {
     fn default() -> Self {
-        CenterOptions { seed: 0, restarts: 16 }
+        CenterOptions { seed: 0, restarts: 16, time_limit: None, watch: Watch::default() }
     }
 }
 
@@ -47,6 +54,9 @@ pub struct CenterPlan {
     pub service: Service,
     /// True when the plan is proven optimal (tiny instances, solved exactly).
     pub optimal: bool,
+    /// False when the heuristic was cut short (time limit or cancellation): the plan is the
+    /// best found so far.
+    pub converged: bool,
     /// Alternation rounds (allocation + minimax-point steps) performed.
     pub iterations: usize,
 }
@@ -80,6 +90,7 @@ pub fn p_center(points: &[Point], weights: Weights<'_>, p: usize, options: &Cent
     let distinct = check_site_count(points, weights, p)?;
 
     let mut iterations = 0;
+    let mut stopped = false;
     let (sites, optimal) = if p == 1 {
         (vec![minimax_point(points, weights)?.location], true)
     } else {
@@ -87,8 +98,11 @@ pub fn p_center(points: &[Point], weights: Weights<'_>, p: usize, options: &Cent
         if demand.len() == p {
             (demand.points.clone(), true)
         } else {
-            let heuristic = demand.restarts(p, options, &mut iterations)?;
+            let clock = options.watch.clock(options.time_limit);
+            let heuristic = demand.restarts(p, options, &clock, &mut stopped, &mut iterations)?;
             if demand.len() <= EXACT_MAX_POINTS {
+                // At most B₁₀ splits: fast enough not to be watched, and it proves the plan.
+                stopped = false;
                 (demand.exact(p, heuristic)?.sites, true)
             } else {
                 (heuristic.sites, false)
@@ -96,7 +110,7 @@ pub fn p_center(points: &[Point], weights: Weights<'_>, p: usize, options: &Cent
         }
     };
     let service = Service::of(points, weights, &sites)?;
-    Ok(CenterPlan { sites, service, optimal, iterations })
+    Ok(CenterPlan { sites, service, optimal, converged: !stopped, iterations })
 }
 
 /// [`p_center`] on every group of `points` (labels `labels`), in parallel, with the same `p`
@@ -114,8 +128,14 @@ pub fn p_centers(
     options: &CenterOptions,
     on_error: OnGroupError,
 ) -> Result<(Grouped<CenterPlan>, RowPlaces)> {
+    // Progress counts the points of finished groups; each group's own restarts are quiet.
+    let watch = &options.watch;
+    watch.plan(points.len() as u64);
+    let inner = CenterOptions { watch: watch.quiet(), ..options.clone() };
     run_grouped_placed("points", points, weights, labels, on_error, |group| {
-        p_center(group.points, group.weights, p, options)
+        let plan = p_center(group.points, group.weights, p, &inner);
+        watch.advance(group.points.len() as u64);
+        plan
     })
 }
 
@@ -298,6 +318,21 @@ mod tests {
         let plan = p_center(&pts, Weights::Given(&w), 2, &CenterOptions::default()).unwrap();
         assert_eq!((plan.service.weighted_radius, plan.service.radius), (0.0, 3.0));
         assert_eq!(plan.service.load, vec![2.0, 1.0]);
+    }
+
+    #[test]
+    fn a_time_limit_returns_a_covering_plan_not_converged() {
+        let pts = cloud(3_000, 4);
+        let options = CenterOptions { time_limit: Some(1e-9), ..CenterOptions::default() };
+        let plan = p_center(&pts, Weights::Unit, 5, &options).unwrap();
+        assert!(!plan.converged && !plan.optimal);
+        // Every point is within the reported radius of its nearest site.
+        for (i, &a) in pts.iter().enumerate() {
+            let nearest = plan.sites.iter().map(|&s| distance(a, s)).fold(f64::INFINITY, f64::min);
+            assert_eq!(plan.service.distance[i], nearest);
+            assert!(nearest <= plan.service.radius);
+        }
+        assert!(p_center(&pts, Weights::Unit, 5, &CenterOptions::default()).unwrap().converged);
     }
 
     #[test]

@@ -38,10 +38,21 @@ impl Problem<'_> {
         let mut served = self.served(&sites)?;
         let mut changed = vec![true; self.p];
         for _ in 0..MAX_ROUNDS {
+            // Here `served` is the allocation to the current `sites`, so stopping leaves a
+            // consistent plan (one not yet at its local optimum).
+            if self.halted() {
+                break;
+            }
             *rounds += 1;
             self.gather(&served.index, ws);
             let (mut moved, mut empty) = (Vec::new(), Vec::new());
+            // A round over a million points takes a while: poll per cluster too, and on a
+            // stop return the sites `served` belongs to.
+            let before = sites.clone();
             for j in 0..self.p {
+                if self.halted() {
+                    return Ok(Solution { sites: before, cost: served.cost });
+                }
                 if !changed[j] {
                     continue;
                 }

@@ -59,6 +59,9 @@ impl Problem<'_> {
     ) -> Option<(usize, usize, f64)> {
         const EXAMINE_ALL: usize = 2_000;
         let near = self.two_nearest(&current.sites);
+        if self.halted() {
+            return None;
+        }
         let mut targets: Vec<usize> = if self.candidates.len() <= EXAMINE_ALL {
             self.candidates.to_vec()
         } else {
@@ -85,6 +88,10 @@ impl Problem<'_> {
             .map_init(
                 || (vec![0.0; xs.len()], vec![0.0; p]),
                 |(dc, loss), &c| {
+                    // Stopping early: an infinite change is never taken.
+                    if self.halted() {
+                        return (c, 0, f64::INFINITY);
+                    }
                     let [tx, ty] = self.points[c];
                     for ((d, &x), &y) in dc.iter_mut().zip(&xs).zip(&ys) {
                         let (dx, dy) = (x - tx, y - ty);

@@ -27,8 +27,11 @@ mod reallocate;
 mod sample;
 mod search;
 
+use std::sync::atomic::{AtomicBool, Ordering};
+
 use super::{check_site_count, Location, Service};
 use crate::batch::{run_grouped_placed, GroupIndex, Grouped, OnGroupError, RowPlaces};
+use crate::cancel::{Clock, Watch};
 use crate::error::{Error, Result};
 use crate::geometry::random::SplitMix64;
 use crate::geometry::{validate_points, validate_weights, Point, Weights, WorkingFrame};
@@ -71,13 +74,31 @@ impl Effort {
     }
 }
 
+impl Effort {
+    /// This level and every lower one, lowest first: a level's search runs after the lower
+    /// levels' and the best final plan wins, so more effort never gives a worse plan.
+    fn levels(self) -> &'static [Effort] {
+        match self {
+            Effort::Fast => &[Effort::Fast],
+            Effort::Normal => &[Effort::Fast, Effort::Normal],
+            Effort::Thorough => &[Effort::Fast, Effort::Normal, Effort::Thorough],
+        }
+    }
+}
+
 /// Options of [`p_median`].
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+#[derive(Debug, Clone, PartialEq, Default)]
 pub struct MedianOptions {
     /// Time against quality.
     pub effort: Effort,
-    /// Seed of every random choice: the same seed gives the same answer.
+    /// Seed of every random choice: the same seed gives the same answer (when the search is
+    /// not cut short by `time_limit`).
     pub seed: u64,
+    /// Wall-clock budget of one plan in seconds (`None`: none). When it passes, the best plan
+    /// found so far is returned with `converged` false.
+    pub time_limit: Option<f64>,
+    /// Cancel flag and progress count shared with the caller ([`crate::cancel`]).
+    pub watch: Watch,
 }
 
 /// A p-median plan.
@@ -93,6 +114,9 @@ pub struct MedianPlan {
     pub service: Service,
     /// Alternations of Cooper's local step (allocation + location rounds) over the whole search.
     pub iterations: usize,
+    /// False when the search was cut short (time limit or cancellation): the plan is the best
+    /// found so far.
+    pub converged: bool,
 }
 
 /// Weber tolerance during the search, and for the final polish.
@@ -140,6 +164,7 @@ pub fn p_median(
     let distinct = check_site_count(points, weights, p)?;
 
     let mut iterations = 0;
+    let stopped = AtomicBool::new(false);
     let sites: Vec<Point> = if p == 1 && fixed.is_empty() {
         let single = weber_point(points, weights, &WeberOptions::default())?;
         iterations = single.iterations;
@@ -152,14 +177,23 @@ pub fn p_median(
         let local = frame.local(points);
         let fixed_local = frame.local(fixed);
         let candidates: Vec<usize> = distinct.iter().map(|l: &Location| l.first).collect();
-        let problem = Problem { points: &local, weights, fixed: &fixed_local, p, candidates: &candidates };
+        let clock = options.watch.clock(options.time_limit);
+        let problem = Problem {
+            points: &local,
+            weights,
+            fixed: &fixed_local,
+            p,
+            candidates: &candidates,
+            clock: &clock,
+            stopped: &stopped,
+        };
         let best = problem.solve(options, &mut iterations)?;
         best.sites.iter().map(|&s| frame.to_world(s)).collect()
     };
 
     let all_sites: Vec<Point> = sites.iter().chain(fixed).copied().collect();
     let service = Service::of(points, weights, &all_sites)?;
-    Ok(MedianPlan { sites, fixed: fixed.to_vec(), service, iterations })
+    Ok(MedianPlan { sites, fixed: fixed.to_vec(), service, iterations, converged: !stopped.load(Ordering::Relaxed) })
 }
 
 /// [`p_median`] on every group of `points` (labels `labels`), in parallel, with the same
@@ -201,12 +235,18 @@ pub fn p_medians(
     // Rows of `fixed` are named before grouping: inside a group they would be renumbered.
     validate_points("fixed", fixed, 0)?;
     let by_group = GroupIndex::new(fixed_labels);
+    // Progress counts the points of finished groups; each group's own search is quiet.
+    let watch = &options.watch;
+    watch.plan(points.len() as u64);
+    let inner = MedianOptions { watch: watch.quiet(), ..options.clone() };
     run_grouped_placed("points", points, weights, labels, on_error, |group| {
         let own: Vec<Point> = match by_group.labels().binary_search(&group.label) {
             Ok(g) => by_group.members(g).iter().map(|&k| fixed[k]).collect(),
             Err(_) => Vec::new(),
         };
-        p_median(group.points, group.weights, p, &own, options)
+        let plan = p_median(group.points, group.weights, p, &own, &inner);
+        watch.advance(group.points.len() as u64);
+        plan
     })
 }
 
@@ -223,6 +263,10 @@ struct Problem<'a> {
     p: usize,
     /// One index per distinct location of positive weight (jump and shake targets).
     candidates: &'a [usize],
+    /// When to stop early.
+    clock: &'a Clock,
+    /// Set once the search stopped early (see [`Problem::halted`]).
+    stopped: &'a AtomicBool,
 }
 
 /// New sites and their cost.
@@ -237,16 +281,51 @@ impl Problem<'_> {
         new < old - IMPROVEMENT * old.abs()
     }
 
+    /// True when the search must stop now (time limit or cancellation); remembers that it
+    /// stopped early, so the plan is reported as not converged.
+    fn halted(&self) -> bool {
+        let stop = self.clock.stop();
+        if stop {
+            self.stopped.store(true, Ordering::Relaxed);
+        }
+        stop
+    }
+
     /// `sites` followed by the fixed sites.
     fn with_fixed(&self, sites: &[Point]) -> Vec<Point> {
         sites.iter().chain(self.fixed).copied().collect()
     }
 
-    /// The global search, then the polish. Large inputs: the global search runs on a seeded
-    /// sample, the full data only refines its best plan (descent with jumps, then the polish).
+    /// Every effort level up to `options.effort` in turn (see [`Effort::levels`]), each a
+    /// global search and a polish; the best final plan wins, so a higher effort never returns
+    /// a worse plan than a lower one on the same input and seed. A level cut short by the
+    /// clock still competes with its best plan so far; later levels are not started.
     fn solve(&self, options: &MedianOptions, iterations: &mut usize) -> Result<Solution> {
-        let budget = options.effort.budget(self.p);
-        let sample = (self.points.len() > LARGE_INPUT).then(|| Sample::draw(self.points, self.weights, options.seed));
+        let levels = options.effort.levels();
+        let sampled = self.points.len() > LARGE_INPUT;
+        let watch = &self.clock.watch;
+        for effort in levels {
+            watch.plan((effort.budget(self.p).starts + 1 + usize::from(sampled)) as u64);
+        }
+        let mut best: Option<Solution> = None;
+        for (level, effort) in levels.iter().enumerate() {
+            if level > 0 && self.halted() {
+                break;
+            }
+            let plan = self.solve_level(&effort.budget(self.p), options.seed, iterations)?;
+            if best.as_ref().is_none_or(|b| plan.cost < b.cost) {
+                best = Some(plan);
+            }
+        }
+        Ok(best.expect("the first level always runs"))
+    }
+
+    /// One level: the global search, then the polish. Large inputs: the global search runs on
+    /// a seeded sample, the full data only refines its best plan (descent with jumps, then
+    /// the polish).
+    fn solve_level(&self, budget: &Budget, seed: u64, iterations: &mut usize) -> Result<Solution> {
+        let watch = &self.clock.watch;
+        let sample = (self.points.len() > LARGE_INPUT).then(|| Sample::draw(self.points, self.weights, seed));
         let searched = match &sample {
             Some(sample) if sample.candidates.len() > self.p => {
                 let on_sample = Problem {
@@ -255,19 +334,30 @@ impl Problem<'_> {
                     fixed: self.fixed,
                     p: self.p,
                     candidates: &sample.candidates,
+                    clock: self.clock,
+                    stopped: self.stopped,
                 };
-                on_sample.best_of_starts(options.seed, &budget, iterations)?
+                on_sample.best_of_starts(seed, budget, iterations)?
             }
-            _ => self.best_of_starts(options.seed, &budget, iterations)?,
+            _ => self.best_of_starts(seed, budget, iterations)?,
         };
+        if self.halted() {
+            // Stopped: no pass over the full data. A sample's plan has no full-data cost yet
+            // (infinite: it wins only when nothing else was found; the caller prices it).
+            let cost = if sample.is_some() { f64::INFINITY } else { searched.cost };
+            return Ok(Solution { sites: searched.sites, cost });
+        }
         let mut workspace = cooper::Workspace::default();
         let refined = if sample.is_some() {
-            let mut rng = SplitMix64::new(start_seed(options.seed, budget.starts));
-            self.descend(searched.sites, &mut rng, &budget, &mut workspace, iterations)?
+            let mut rng = SplitMix64::new(start_seed(seed, budget.starts));
+            let refined = self.descend(searched.sites, &mut rng, budget, &mut workspace, iterations)?;
+            watch.advance(1);
+            refined
         } else {
             searched
         };
         let polished = self.cooper(refined.sites.clone(), FINAL_TOL, 0.0, &mut workspace, iterations)?;
+        watch.advance(1);
         Ok(if polished.cost <= refined.cost { polished } else { refined })
     }
 }
@@ -381,11 +471,83 @@ mod tests {
                 [c[0] + r * t.cos(), c[1] + r * t.sin()]
             })
             .collect();
-        let plan = p_median(&pts, Weights::Unit, 4, &[], &MedianOptions { effort: Effort::Fast, seed: 1 }).unwrap();
+        let plan = p_median(
+            &pts,
+            Weights::Unit,
+            4,
+            &[],
+            &MedianOptions { effort: Effort::Fast, seed: 1, ..MedianOptions::default() },
+        )
+        .unwrap();
         for (i, &a) in pts.iter().enumerate() {
             assert!(distance(a, plan.sites[plan.service.assignment[i]]) < 20.0);
         }
         assert!((cost(&pts, &plan.sites) - plan.service.cost).abs() < 1e-9 * plan.service.cost);
+    }
+
+    /// Uniform points (even seeds) or eight Gaussian-ish clusters (odd seeds).
+    fn seeded_instance(seed: u64, n: usize) -> Vec<Point> {
+        let mut rng = SplitMix64::new(seed);
+        let centres: Vec<Point> = (0..8).map(|_| [rng.next_f64() * 100.0, rng.next_f64() * 100.0]).collect();
+        (0..n)
+            .map(|_| {
+                if seed.is_multiple_of(2) {
+                    [rng.next_f64() * 100.0, rng.next_f64() * 100.0]
+                } else {
+                    let c = centres[rng.below(8)];
+                    [c[0] + rng.next_f64() * 3.0, c[1] + rng.next_f64() * 3.0]
+                }
+            })
+            .collect()
+    }
+
+    #[test]
+    fn more_effort_never_gives_a_worse_plan() {
+        // Issue 17: the default effort once returned a worse plan than the fast one. Costs
+        // are checked against a direct evaluation of the sites.
+        for seed in 0..4 {
+            let pts = seeded_instance(seed, 400);
+            let plan = |effort| {
+                let plan =
+                    p_median(&pts, Weights::Unit, 5, &[], &MedianOptions { effort, seed, ..MedianOptions::default() })
+                        .unwrap();
+                assert!((cost(&pts, &plan.sites) - plan.service.cost).abs() <= 1e-9 * plan.service.cost);
+                assert!(plan.converged);
+                plan.service.cost
+            };
+            let (fast, normal, thorough) = (plan(Effort::Fast), plan(Effort::Normal), plan(Effort::Thorough));
+            assert!(normal <= fast * (1.0 + 1e-12), "seed {seed}: normal {normal} vs fast {fast}");
+            assert!(thorough <= normal * (1.0 + 1e-12), "seed {seed}: thorough {thorough} vs normal {normal}");
+        }
+    }
+
+    #[test]
+    fn a_time_limit_returns_a_consistent_plan_not_converged() {
+        // Both paths: searched on all points, and on a sample (more than 20 000 points).
+        for n in [2_000, 25_000] {
+            let pts = seeded_instance(7, n);
+            let options =
+                MedianOptions { effort: Effort::Thorough, time_limit: Some(1e-9), ..MedianOptions::default() };
+            let plan = p_median(&pts, Weights::Unit, 6, &[], &options).unwrap();
+            assert!(!plan.converged);
+            assert_eq!(plan.sites.len(), 6);
+            assert!((cost(&pts, &plan.sites) - plan.service.cost).abs() <= 1e-9 * plan.service.cost);
+        }
+    }
+
+    #[test]
+    fn a_cancelled_run_is_told_apart_and_counts_its_steps() {
+        let pts = seeded_instance(3, 3_000);
+        let watch = Watch::new();
+        let options = MedianOptions { watch: watch.clone(), ..MedianOptions::default() };
+        let plan = p_median(&pts, Weights::Unit, 4, &[], &options).unwrap();
+        let (done, total) = watch.progress();
+        assert!(done == total && total > 0, "{done} of {total}");
+        assert_eq!(watch.finish(plan.iterations).ok(), Some(plan.iterations));
+        watch.cancel();
+        let stopped = p_median(&pts, Weights::Unit, 4, &[], &options).unwrap();
+        assert!(!stopped.converged);
+        assert_eq!(watch.finish(stopped), Err(crate::cancel::Cancelled));
     }
 
     #[test]
@@ -433,7 +595,7 @@ mod p654 {
         let (points, best) = instance();
         assert_eq!(points.len(), 654);
         for &(p, known) in &best {
-            let options = MedianOptions { effort: Effort::Fast, seed: 0 };
+            let options = MedianOptions { effort: Effort::Fast, seed: 0, ..MedianOptions::default() };
             let plan = p_median(&points, Weights::Unit, p, &[], &options).unwrap();
             assert!(plan.service.cost <= known * 1.001, "p = {p}: {} vs best known {known}", plan.service.cost);
         }

@@ -24,8 +24,14 @@ impl Problem<'_> {
     /// The best of `budget.starts` seeded searches, run in parallel and combined in start
     /// order (strictly better replaces, so ties go to the earlier start whatever the timing).
     pub(super) fn best_of_starts(&self, seed: u64, budget: &Budget, iterations: &mut usize) -> Result<Solution> {
-        let runs: Vec<Result<(Solution, usize)>> =
-            (0..budget.starts).into_par_iter().map(|start| self.search(start_seed(seed, start), budget)).collect();
+        let runs: Vec<Result<(Solution, usize)>> = (0..budget.starts)
+            .into_par_iter()
+            .map(|start| {
+                let run = self.search(start_seed(seed, start), budget);
+                self.clock.watch.advance(1);
+                run
+            })
+            .collect();
         let mut best: Option<Solution> = None;
         for run in runs {
             let (solution, rounds) = run?;
@@ -45,7 +51,7 @@ impl Problem<'_> {
         let start = d_sampling(self.points, self.weights, self.candidates, self.fixed, self.p, &mut rng);
         let mut best = self.descend(start, &mut rng, budget, &mut workspace, &mut rounds)?;
         let (mut k, mut failures) = (1, 0);
-        while failures < budget.patience && best.cost > 0.0 {
+        while failures < budget.patience && best.cost > 0.0 && !self.halted() {
             let shaken = self.shake(&best.sites, k, &mut rng);
             let trial = self.descend(shaken, &mut rng, budget, &mut workspace, &mut rounds)?;
             if Self::improves(trial.cost, best.cost) {
@@ -88,7 +94,7 @@ impl Problem<'_> {
         rounds: &mut usize,
     ) -> Result<Solution> {
         let mut current = self.cooper(sites, SEARCH_TOL, SEARCH_SETTLE, workspace, rounds)?;
-        while current.cost > 0.0 {
+        while current.cost > 0.0 && !self.halted() {
             let Some((target, site, delta)) = self.best_jump(&current, rng, budget) else {
                 break;
             };

@@ -8,18 +8,30 @@
 //! added lazily for the components of an integer answer that is not a tree, and the program
 //! is solved again, until the answer is a tree. Each program is solved by branch and bound
 //! with `microlp`, a pure-Rust LP/MIP solver, so the crate keeps no native dependency.
+//!
+//! The solver runs in short slices (it can be resumed where a time limit stopped it), so a
+//! cancelled run stops within one slice however long the branch and bound takes.
 
 use std::collections::HashMap;
-use std::time::Instant;
+use std::time::{Duration, Instant};
 
-use microlp::{ComparisonOp, OptimizationDirection, Problem, SolutionStatus, Variable};
+use microlp::{
+    ComparisonOp, OptimizationDirection, Problem, ResumeOptions, SolutionStatus, SolveOptions, SolveOutcome,
+    TerminationReason, Variable,
+};
+
+use crate::cancel::Clock;
+
+/// Longest uninterrupted stretch of the solver between polls of the clock.
+const SLICE: Duration = Duration::from_millis(50);
 
 use super::fst::FullTree;
 use crate::network::union_find::UnionFind;
 
 /// The chosen FSTs (indices into `trees`) and whether their optimality is proven; `None`
-/// when the deadline passes or the solver fails before any tree is found.
-pub(crate) fn concatenate(n: usize, trees: &[FullTree], deadline: Option<Instant>) -> Option<(Vec<usize>, bool)> {
+/// when the run is cancelled, or the deadline passes or the solver fails before any tree is
+/// found.
+pub(crate) fn concatenate(n: usize, trees: &[FullTree], clock: &Clock) -> Option<(Vec<usize>, bool)> {
     if n < 2 {
         return Some((Vec::new(), true));
     }
@@ -47,14 +59,10 @@ pub(crate) fn concatenate(n: usize, trees: &[FullTree], deadline: Option<Instant
         problem.add_constraint(row.as_slice(), ComparisonOp::Le, 1.0);
     }
     loop {
-        if let Some(d) = deadline {
-            let now = Instant::now();
-            if now >= d {
-                return None;
-            }
-            problem.set_time_limit(d - now);
+        if clock.stop() {
+            return None;
         }
-        let solution = problem.solve().ok()?.into_solution().ok()?;
+        let solution = solve_sliced(&problem, clock)?.into_solution().ok()?;
         let chosen: Vec<usize> = (0..trees.len()).filter(|&i| solution.var_value(vars[i]) > 0.5).collect();
         let proven = solution.status() == SolutionStatus::Optimal;
         let cuts = violated_components(n, trees, &chosen);
@@ -74,6 +82,31 @@ pub(crate) fn concatenate(n: usize, trees: &[FullTree], deadline: Option<Instant
             problem.add_constraint(row.as_slice(), ComparisonOp::Le, (size - 1) as f64);
         }
     }
+}
+
+/// Solve `problem` in slices of at most [`SLICE`], resuming until it is proven optimal or
+/// the clock stops it (then the outcome so far, which may hold a feasible incumbent); `None`
+/// when cancelled or when the solver fails.
+fn solve_sliced(problem: &Problem, clock: &Clock) -> Option<SolveOutcome> {
+    let slice = || {
+        let left = clock.deadline().map_or(SLICE, |d| d.saturating_duration_since(Instant::now()));
+        Some(left.min(SLICE))
+    };
+    let mut options = SolveOptions::default();
+    options.time_limit = slice();
+    let mut outcome = problem.solve_with(options).ok()?;
+    while outcome.termination_reason() == TerminationReason::TimeLimit {
+        if clock.watch.is_cancelled() {
+            return None;
+        }
+        if clock.expired() {
+            break;
+        }
+        let mut resume = ResumeOptions::default();
+        resume.time_limit = slice();
+        outcome = outcome.resume_with(resume).ok()?;
+    }
+    Some(outcome)
 }
 
 /// Terminal sets (as membership flags) of the components of `chosen` that hold a cycle; empty
@@ -129,7 +162,7 @@ mod tests {
             tree(&[1, 2], 0.1),
             tree(&[0, 2], 0.1),
         ];
-        let (chosen, proven) = concatenate(4, &trees, None).unwrap();
+        let (chosen, proven) = concatenate(4, &trees, &crate::cancel::Clock::unlimited()).unwrap();
         assert!(proven);
         let total: f64 = chosen.iter().map(|&i| trees[i].length).sum();
         // The triangle 0-1-2 by two 0.1 edges, then 2-3: 0.8; a cycle of three 0.1 edges

@@ -28,9 +28,9 @@
 //! than only accepting or rejecting it. Every test is a necessary condition for a part of a
 //! Steiner minimum tree, evaluated with its tolerance on the side of keeping a candidate.
 
+use crate::cancel::Clock;
 use std::collections::HashMap;
 use std::f64::consts::PI;
-use std::time::Instant;
 
 use super::cross;
 use crate::geometry::{add, distance, dot, scale, sub, Point};
@@ -210,30 +210,21 @@ fn arc_parameter(s: Point, centre: Point, theta_q: f64) -> f64 {
 }
 
 /// Every full Steiner tree on at least three of `points` (distinct, in the working frame) that passes
-/// the pruning tests, plus the MST edges as two-terminal FSTs; `None` when `deadline` passes
-/// first.
+/// the pruning tests, plus the MST edges as two-terminal FSTs; `None` when `clock` stops the
+/// generation first (it is polled every few thousand pairings).
 ///
 /// # Runtime
 /// Exponential in the worst case. On uniformly spread terminals the pruning keeps a few
 /// hundred to a few thousand equilateral points for 20 terminals (0.01–2 s) and 2–3 FSTs per
 /// terminal, and the growth is much slower than doubling per terminal.
-pub(crate) fn full_steiner_trees(
-    points: &[Point],
-    bottleneck: &Bottleneck,
-    deadline: Option<Instant>,
-) -> Option<Vec<FullTree>> {
-    generate(points, bottleneck, deadline, true)
+pub(crate) fn full_steiner_trees(points: &[Point], bottleneck: &Bottleneck, clock: &Clock) -> Option<Vec<FullTree>> {
+    generate(points, bottleneck, clock, true)
 }
 
 /// [`full_steiner_trees`]; with `prune` false every pruning test is skipped and only the
 /// geometry (feasible arcs, Simpson lines) is kept, which enumerates every FST and serves
 /// the tests as a reference for the pruning.
-fn generate(
-    points: &[Point],
-    bottleneck: &Bottleneck,
-    deadline: Option<Instant>,
-    prune: bool,
-) -> Option<Vec<FullTree>> {
+fn generate(points: &[Point], bottleneck: &Bottleneck, clock: &Clock, prune: bool) -> Option<Vec<FullTree>> {
     let n = points.len();
     assert!(n <= 64, "exact Steiner trees are limited to 64 terminals");
     // A two-terminal FST of a Steiner minimum tree is an MST edge (it is no longer than its
@@ -252,6 +243,8 @@ fn generate(
     if n < 3 {
         return Some(trees);
     }
+    // Progress: one step per subtree size, one for closing the trees.
+    clock.watch.plan((n - 1) as u64);
     let mut items: Vec<Item> = Vec::new();
     let mut by_size: Vec<Vec<u32>> = vec![Vec::new(); n];
     // The root of every FST is its smallest terminal, so no equilateral point ever needs
@@ -303,7 +296,7 @@ fn generate(
                         continue;
                     }
                     steps += 1;
-                    if steps.is_multiple_of(4096) && deadline.is_some_and(|d| Instant::now() > d) {
+                    if steps.is_multiple_of(4096) && clock.stop() {
                         return None;
                     }
                     for (p, q) in [(a, b), (b, a)] {
@@ -322,6 +315,7 @@ fn generate(
         let mut list = std::mem::take(&mut by_size[k]);
         sort_by_x(&mut list, &items);
         by_size[k] = list;
+        clock.watch.advance(1);
     }
     // Close every equilateral point with each admissible root.
     for (index, item) in items.iter().enumerate() {
@@ -336,10 +330,11 @@ fn generate(
                 }
             }
         }
-        if index % 1024 == 0 && deadline.is_some_and(|d| Instant::now() > d) {
+        if index % 1024 == 0 && clock.stop() {
             return None;
         }
     }
+    clock.watch.advance(1);
     Some(trees)
 }
 
@@ -698,7 +693,7 @@ mod tests {
         // point at the centroid and length √3.
         let pts = [[0.0, 0.0], [1.0, 0.0], [0.5, HALF_SQRT3]];
         let b = Bottleneck::new(&pts);
-        let trees = full_steiner_trees(&pts, &b, None).unwrap();
+        let trees = full_steiner_trees(&pts, &b, &Clock::unlimited()).unwrap();
         let full: Vec<&FullTree> = trees.iter().filter(|t| t.terminals.len() == 3).collect();
         assert_eq!(full.len(), 1);
         assert!((full[0].length - 3f64.sqrt()).abs() < 1e-12);
@@ -710,7 +705,7 @@ mod tests {
         // Closed form: the unit square's two full topologies are each 1 + √3 long.
         let pts = [[0.0, 0.0], [1.0, 0.0], [1.0, 1.0], [0.0, 1.0]];
         let b = Bottleneck::new(&pts);
-        let trees = full_steiner_trees(&pts, &b, None).unwrap();
+        let trees = full_steiner_trees(&pts, &b, &Clock::unlimited()).unwrap();
         let four: Vec<&FullTree> = trees.iter().filter(|t| t.terminals.len() == 4).collect();
         assert_eq!(four.len(), 2);
         for t in four {
@@ -724,7 +719,7 @@ mod tests {
         // Closed form: an angle of 120° or more puts the Fermat point at that vertex.
         let pts = [[0.0, 0.0], [-1.0, 0.2], [1.0, 0.2]];
         let b = Bottleneck::new(&pts);
-        let trees = full_steiner_trees(&pts, &b, None).unwrap();
+        let trees = full_steiner_trees(&pts, &b, &Clock::unlimited()).unwrap();
         assert!(trees.iter().all(|t| t.terminals.len() == 2));
     }
 
@@ -745,7 +740,8 @@ mod pruning_properties {
 
     /// Length of the concatenation of `trees` on `n` terminals, proven optimal.
     fn concatenated_length(n: usize, trees: &[FullTree]) -> f64 {
-        let (chosen, proven) = crate::network::steiner::concatenate::concatenate(n, trees, None).unwrap();
+        let (chosen, proven) =
+            crate::network::steiner::concatenate::concatenate(n, trees, &Clock::unlimited()).unwrap();
         assert!(proven);
         chosen.iter().map(|&i| trees[i].length).sum()
     }
@@ -753,8 +749,8 @@ mod pruning_properties {
     /// Compare the tree from the pruned FSTs with the tree from every FST.
     fn pruning_keeps_the_optimum(points: &[Point]) -> Result<(), String> {
         let b = Bottleneck::new(points);
-        let pruned = full_steiner_trees(points, &b, None).unwrap();
-        let every = generate(points, &b, None, false).unwrap();
+        let pruned = full_steiner_trees(points, &b, &Clock::unlimited()).unwrap();
+        let every = generate(points, &b, &Clock::unlimited(), false).unwrap();
         let (short, reference) =
             (concatenated_length(points.len(), &pruned), concatenated_length(points.len(), &every));
         if pruned.len() > every.len() || (short - reference).abs() > 1e-9 * reference {

@@ -15,6 +15,7 @@
 
 use super::smith::{drop_thin_steiner_points, optimise_positions, settle};
 use super::{fermat_point, Network};
+use crate::cancel::Watch;
 use crate::geometry::random::SplitMix64;
 use crate::geometry::{distance, Point};
 use crate::network::mst::kruskal;
@@ -28,10 +29,15 @@ const ROUND_ITERATIONS: usize = 40;
 /// A Steiner tree of `terminals` (distinct, in the working frame) starting from their MST `mst`.
 ///
 /// `seed` orders insertions of equal gain (a fixed seed gives a fixed tree).
-pub(crate) fn heuristic(terminals: &[Point], mst: Vec<[usize; 2]>, seed: u64) -> Network {
+/// A cancelled `watch` stops it between rounds with the tree so far.
+pub(crate) fn heuristic(terminals: &[Point], mst: Vec<[usize; 2]>, seed: u64, watch: &Watch) -> Network {
     let mut net = Network { nodes: terminals.to_vec(), terminal_count: terminals.len(), edges: mst };
     let mut length = net.length();
+    watch.plan(1);
     for _ in 0..MAX_ROUNDS {
+        if watch.is_cancelled() {
+            break;
+        }
         let Ok(triangulation) = delaunay(&net.nodes) else {
             break;
         };
@@ -86,7 +92,10 @@ pub(crate) fn heuristic(terminals: &[Point], mst: Vec<[usize; 2]>, seed: u64) ->
             break;
         }
     }
-    settle(&mut net, 30, 200);
+    if !watch.is_cancelled() {
+        settle(&mut net, 30, 200);
+    }
+    watch.advance(1);
     net
 }
 
@@ -211,7 +220,7 @@ mod tests {
     fn heuristic_finds_the_unit_square_steiner_tree() {
         // Closed form: 1 + √3 with two Steiner points.
         let pts = [[-0.5, -0.5], [0.5, -0.5], [0.5, 0.5], [-0.5, 0.5]];
-        let net = heuristic(&pts, mst_edges(&pts).unwrap(), 0);
+        let net = heuristic(&pts, mst_edges(&pts).unwrap(), 0, &Watch::new());
         assert!((net.length() - (1.0 + 3f64.sqrt())).abs() < 1e-9, "{}", net.length());
         assert_eq!(net.nodes.len(), 6);
     }

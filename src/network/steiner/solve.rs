@@ -6,8 +6,6 @@
 //! reported optimal only when the exact solver proved it so (or the terminals are collinear
 //! or fewer than three, where the spanning tree is the Steiner minimum tree).
 
-use std::time::{Duration, Instant};
-
 use super::{concatenate, fst, heuristic, Network};
 use crate::geometry::predicates::all_collinear;
 use crate::geometry::Point;
@@ -27,12 +25,13 @@ pub(crate) fn solve_distinct(local: &[Point], mst_edges: Vec<[usize; 2]>, option
         SteinerMethod::Heuristic => false,
         SteinerMethod::Auto => n <= AUTO_EXACT_TERMINALS,
     };
+    let watch = &options.watch;
     if exact {
         let budget = options.time_limit.or((options.method == SteinerMethod::Auto).then_some(AUTO_BUDGET));
-        let deadline = budget.map(|s| Instant::now() + Duration::from_secs_f64(s.min(1e9)));
+        let clock = watch.clock(budget);
         let bottleneck = fst::Bottleneck::new(local);
-        if let Some(trees) = fst::full_steiner_trees(local, &bottleneck, deadline) {
-            if let Some((chosen, proven)) = concatenate::concatenate(n, &trees, deadline) {
+        if let Some(trees) = fst::full_steiner_trees(local, &bottleneck, &clock) {
+            if let Some((chosen, proven)) = concatenate::concatenate(n, &trees, &clock) {
                 let net = assemble(local, &trees, &chosen);
                 if net.edges.len() + 1 == net.nodes.len() {
                     return (net, proven);
@@ -40,8 +39,12 @@ pub(crate) fn solve_distinct(local: &[Point], mst_edges: Vec<[usize; 2]>, option
             }
         }
     }
+    if watch.is_cancelled() {
+        // The caller discards a cancelled answer: the spanning tree is the quickest valid one.
+        return (chain(mst_edges), false);
+    }
     let mst_length = chain(mst_edges.clone()).length();
-    let net = heuristic::heuristic(local, mst_edges.clone(), options.seed);
+    let net = heuristic::heuristic(local, mst_edges.clone(), options.seed, watch);
     if net.length() <= mst_length {
         (net, false)
     } else {
@@ -63,4 +66,32 @@ fn assemble(local: &[Point], trees: &[fst::FullTree], chosen: &[usize]) -> Netwo
         net.edges.extend(trees[i].edges.iter().map(|&[a, b]| [node(a), node(b)]));
     }
     net
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::cancel::Watch;
+    use crate::geometry::random::SplitMix64;
+    use crate::network::mst::mst_edges;
+
+    #[test]
+    fn a_cancelled_run_returns_the_spanning_tree_unproven() {
+        let mut rng = SplitMix64::new(2);
+        let pts: Vec<Point> = (0..12).map(|_| [rng.next_f64(), rng.next_f64()]).collect();
+        let mst = mst_edges(&pts).unwrap();
+        let watch = Watch::new();
+        let options =
+            SteinerOptions { method: SteinerMethod::Exact, watch: watch.clone(), ..SteinerOptions::default() };
+        let (net, proven) = solve_distinct(&pts, mst.clone(), &options);
+        assert!(proven);
+        let (done, total) = watch.progress();
+        assert!(done == total && total > 0, "{done} of {total}");
+        watch.cancel();
+        let (net_cancelled, proven) = solve_distinct(&pts, mst.clone(), &options);
+        assert!(!proven);
+        assert_eq!(net_cancelled.edges, mst);
+        // The spanning tree is itself a Steiner tree, so the proven optimum is no longer.
+        assert!(net.length() <= net_cancelled.length());
+    }
 }

@@ -1,0 +1,548 @@
+"""Sites chosen from a candidate list, on any demand × candidate cost matrix.
+
+``costs[i, j]`` is the cost of serving demand point ``i`` from candidate ``j``: travel times
+or road distances from any source, or straight-line distances (:func:`euclidean_costs`, and
+the ``*_planar`` functions taking coordinates). Every model accepts ``fixed`` candidates
+(existing sites kept open), so "add k sites to what we have" is one call:
+
+* :func:`evaluate_sites` — how given open sites serve the demand (the status quo);
+* :func:`p_median` — ``p`` sites with the least total weighted cost, with a proven lower bound;
+* :func:`p_center` — ``p`` sites with the least largest weighted cost, with a proven lower bound;
+* :func:`cover_all` — the fewest sites within ``radius`` of every point (set covering);
+* :func:`cover_most` — ``p`` sites covering the most weight within ``radius`` (maximal
+  covering), with a proven upper bound.
+
+Every result has the same tables, all computed by the kernel (nothing is recomputed here):
+
+* ``to_frame()`` — one row per demand point: ``assignment`` (row of ``sites_frame()``),
+  ``candidate`` (its column in ``costs``), ``cost_<unit>``, and with a radius ``covered`` and
+  ``covering`` (the number of open sites within the radius: backup coverage);
+* ``sites_frame()`` — one row per open site: ``candidate``, ``load``, ``points``, ``fixed``;
+* ``summary()`` — the totals and the proven bound with its ``relative_gap``.
+
+Costs are in the matrix's own unit: pass ``unit="min"`` to name the columns ``cost_min``.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from typing import Any
+
+import numpy as np
+from numpy.typing import ArrayLike
+
+from . import _core
+from ._results import Result
+
+__all__ = [
+    "CenterSelection",
+    "CoverAllSelection",
+    "CoverMostSelection",
+    "MedianSelection",
+    "SiteEvaluation",
+    "cover_all",
+    "cover_all_planar",
+    "cover_most",
+    "cover_most_planar",
+    "euclidean_costs",
+    "evaluate_sites",
+    "evaluate_sites_planar",
+    "p_center",
+    "p_center_planar",
+    "p_median",
+    "p_median_planar",
+]
+
+# Largest sparse matrix densified (cells): 8 bytes each, about 400 MB.
+_MAX_DENSE_CELLS = 50_000_000
+
+
+def _matrix(costs: Any) -> Any:
+    """``costs`` as the kernels take it: a ``scipy.sparse`` matrix is densified (its absent
+    pairs become +inf, which the kernel refuses naming the first such cell); anything else
+    passes through to the kernel's own conversion."""
+    if not type(costs).__module__.startswith("scipy.sparse"):
+        return costs
+    n, m = costs.shape
+    if n * m > _MAX_DENSE_CELLS:
+        error = _core.InputError(
+            f"costs: a sparse {n} × {m} matrix is too large to densify ({n * m} cells, at most "
+            f"{_MAX_DENSE_CELLS}); pass fewer candidates or a dense matrix"
+        )
+        error.argument = "costs"
+        raise error
+    coo = costs.tocoo()
+    dense = np.full((n, m), np.inf)
+    dense[coo.row, coo.col] = coo.data
+    return dense
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class _Selection(Result):
+    """What every discrete result shares: the open sites and how they serve the demand."""
+
+    open: np.ndarray
+    fixed: np.ndarray = dataclasses.field(repr=False)
+    assignment: np.ndarray = dataclasses.field(repr=False)
+    cost: np.ndarray = dataclasses.field(repr=False)
+    load: np.ndarray = dataclasses.field(repr=False)
+    count: np.ndarray = dataclasses.field(repr=False)
+    total_cost: float
+    mean_cost: float = dataclasses.field(repr=False)
+    worst_cost: float
+    weighted_worst: float = dataclasses.field(repr=False)
+    total_weight: float = dataclasses.field(repr=False)
+    radius: float | None = dataclasses.field(repr=False)
+    covered: np.ndarray | None = dataclasses.field(repr=False)
+    covering: np.ndarray | None = dataclasses.field(repr=False)
+    covered_weight: float | None = dataclasses.field(repr=False)
+    covered_share: float | None
+
+    def _columns(self) -> dict[str, Any]:
+        columns = {"assignment": self.assignment, "candidate": self.open[self.assignment], self._u("cost"): self.cost}
+        if self.radius is not None:
+            columns |= {"covered": self.covered, "covering": self.covering}
+        return columns
+
+    def sites_frame(self) -> Any:
+        """One row per open site (``candidate``, ``load``, ``points``, ``fixed``); the row
+        position is what ``assignment`` holds."""
+        import pandas as pd
+
+        return pd.DataFrame({"candidate": self.open, "load": self.load, "points": self.count, "fixed": self.fixed})
+
+    def _bounds(self) -> dict[str, Any]:
+        return {}
+
+    def summary(self) -> Any:
+        """The totals in one row: ``sites``, ``cost_<unit>`` (total), ``mean_cost_<unit>``,
+        ``worst_cost_<unit>``, ``weighted_worst_<unit>``, ``load``, ``points``, the coverage
+        (with a radius) and the model's proven bound with its ``relative_gap``."""
+        import pandas as pd
+
+        row: dict[str, Any] = {
+            "sites": len(self.open),
+            self._u("cost"): self.total_cost,
+            self._u("mean_cost"): self.mean_cost,
+            self._u("worst_cost"): self.worst_cost,
+            self._u("weighted_worst"): self.weighted_worst,
+            "load": self.total_weight,
+            "points": len(self.assignment),
+        }
+        if self.radius is not None:
+            row |= {self._u("radius"): self.radius, "covered_load": self.covered_weight,
+                    "covered_share": self.covered_share}
+        row |= self._bounds()
+        return pd.DataFrame({k: [v] for k, v in row.items()})
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class SiteEvaluation(_Selection):
+    """How given open sites serve the demand (see the module docstring for the tables).
+
+    Attributes
+    ----------
+    open : ndarray of int64, shape (k,)
+        The open candidate columns, ascending; ``assignment`` indexes this.
+    assignment, cost : ndarray, shape (n,)
+        Every point's cheapest open site (row of ``open``) and its cost.
+    load, count : ndarray, shape (k,)
+        Weight and number of points each site serves.
+    total_cost, mean_cost, worst_cost, weighted_worst : float
+        ``Σ wᵢ costᵢ``, that over ``Σ wᵢ``, ``max costᵢ`` and ``max wᵢ costᵢ``.
+    covered, covering : ndarray, shape (n,), or None
+        With a radius: whether some open site is within it, and how many are.
+    covered_weight, covered_share : float or None
+        With a radius: the covered weight and its share of the total.
+    """
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class MedianSelection(_Selection):
+    """A discrete p-median plan; ``total_cost`` is its objective.
+
+    ``lower_bound`` is a proven lower bound on the optimum (Lagrangian relaxation) and
+    ``relative_gap = (total_cost - lower_bound) / total_cost``: 0 proves the plan optimal.
+    """
+
+    lower_bound: float = 0.0
+    relative_gap: float = 0.0
+    swaps: int = dataclasses.field(default=0, repr=False)
+    bound_iterations: int = dataclasses.field(default=0, repr=False)
+
+    def _bounds(self) -> dict[str, Any]:
+        return {self._u("lower_bound"): self.lower_bound, "relative_gap": self.relative_gap}
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class CenterSelection(_Selection):
+    """A discrete p-center plan; ``weighted_worst`` is its objective.
+
+    ``lower_bound`` is proven (the value above the largest trial proven infeasible) and
+    ``relative_gap = (weighted_worst - lower_bound) / weighted_worst``.
+    """
+
+    lower_bound: float = 0.0
+    relative_gap: float = 0.0
+
+    def _bounds(self) -> dict[str, Any]:
+        return {self._u("lower_bound"): self.lower_bound, "relative_gap": self.relative_gap}
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class CoverAllSelection(_Selection):
+    """A set-covering plan: ``chosen`` new sites put every point within ``radius``.
+
+    ``lower_bound`` is a proven lower bound on the number of new sites and
+    ``relative_gap = (chosen - lower_bound) / chosen``.
+    """
+
+    chosen: int = 0
+    lower_bound: int = 0
+    relative_gap: float = 0.0
+
+    def _bounds(self) -> dict[str, Any]:
+        return {"chosen": self.chosen, "lower_bound": self.lower_bound, "relative_gap": self.relative_gap}
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class CoverMostSelection(_Selection):
+    """A maximal-covering plan; ``covered_weight`` is its objective.
+
+    ``upper_bound`` is a proven upper bound on the weight any plan covers (Lagrangian
+    relaxation) and ``relative_gap = (upper_bound - covered_weight) / upper_bound``.
+    """
+
+    upper_bound: float = 0.0
+    relative_gap: float = 0.0
+    swaps: int = dataclasses.field(default=0, repr=False)
+
+    def _bounds(self) -> dict[str, Any]:
+        return {"upper_bound": self.upper_bound, "relative_gap": self.relative_gap}
+
+
+# ------------------------------------------------------------------------------ models
+
+
+def evaluate_sites(
+    costs: ArrayLike, sites: ArrayLike, weights: ArrayLike | None = None, *, radius: float | None = None,
+    unit: str = "u",
+) -> SiteEvaluation:
+    """How the open candidates ``sites`` serve the demand: the numbers the models report.
+
+    Every point goes to its cheapest open site (the smallest column among equally cheap
+    ones), so a plan and the status quo compare line by line.
+
+    Parameters
+    ----------
+    costs : array_like or scipy.sparse matrix, shape (n, m)
+        Finite, non-negative cost of serving point ``i`` from candidate ``j``. A sparse
+        matrix is densified and must store every pair.
+    sites : array_like of int, shape (k,)
+        Distinct open candidate columns.
+    weights : array_like, shape (n,), optional
+        Finite, non-negative demand per point, not all zero. Default: all 1.
+    radius : float, optional
+        Coverage standard (in the cost unit), finite and > 0.
+    unit : str
+        Name of the cost unit, used in column names (``cost_min``).
+
+    Returns
+    -------
+    SiteEvaluation
+
+    Raises
+    ------
+    InputError
+        For a NaN, infinite or negative cost (naming the cell), a shape mismatch with
+        ``weights``, bad weights, a column out of range or repeated, or ``radius <= 0``.
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> costs = [[1, 5, 3], [4, 0, 2], [6, 1, 6]]
+    >>> now = pw.discrete.evaluate_sites(costs, [0, 2], radius=2)
+    >>> now.to_frame()
+       assignment  candidate  cost_u  covered  covering
+    0           0          0     1.0     True         1
+    1           1          2     2.0     True         1
+    2           0          0     6.0    False         0
+    >>> float(now.total_cost), float(now.covered_share)
+    (9.0, 0.6666666666666666)
+    >>> pw.discrete.evaluate_sites([[0.0]], [0]).worst_cost    # one point on its site
+    0.0
+    """
+    fields = _core.discrete_evaluate(_matrix(costs), weights, sites, radius)
+    return SiteEvaluation(**fields, unit=unit)
+
+
+def p_median(
+    costs: ArrayLike, p: int, weights: ArrayLike | None = None, *, fixed: ArrayLike | None = None,
+    bound_iterations: int = 300, unit: str = "u",
+) -> MedianSelection:
+    """``p`` candidates with the least total weighted cost ``Σ wᵢ minⱼ costs[i, j]``.
+
+    Greedy start, then the fast swap interchange (Teitz & Bart 1968; Whitaker 1983;
+    Resende & Werneck 2004) until no swap helps; a proven lower bound from the Lagrangian
+    relaxation of the assignment constraints by subgradient optimisation (Cornuejols,
+    Fisher & Nemhauser 1977; Beasley 1993). Deterministic.
+
+    Parameters
+    ----------
+    costs : array_like or scipy.sparse matrix, shape (n, m)
+        See :func:`evaluate_sites`.
+    p : int
+        Number of new sites, from 1 to the number of candidates not in ``fixed``.
+    weights : array_like, shape (n,), optional
+        Demand per point. Default: all 1.
+    fixed : array_like of int, optional
+        Candidate columns that stay open (existing sites); ``p`` counts only new ones.
+    bound_iterations : int
+        Most subgradient iterations for the lower bound (0: bound 0).
+    unit : str
+        Name of the cost unit.
+
+    Returns
+    -------
+    MedianSelection
+
+    Raises
+    ------
+    InputError
+        As :func:`evaluate_sites`, and for ``p`` out of range.
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> line = [[abs(i - j) for j in range(6)] for i in range(6)]
+    >>> plan = pw.discrete.p_median(line, 2)
+    >>> plan.open, float(plan.total_cost), float(plan.relative_gap)
+    (array([1, 4]), 4.0, 0.0)
+    >>> pw.discrete.p_median(line, 1, fixed=[5]).sites_frame()
+       candidate  load  points  fixed
+    0          1   4.0       4  False
+    1          5   2.0       2   True
+    >>> float(pw.discrete.p_median([[3.0, 3.0]], 2).total_cost)   # every candidate: p = m
+    3.0
+    """
+    fields = _core.discrete_p_median_single(_matrix(costs), p, weights, fixed, bound_iterations)
+    return MedianSelection(**fields, unit=unit)
+
+
+def p_center(
+    costs: ArrayLike, p: int, weights: ArrayLike | None = None, *, fixed: ArrayLike | None = None, unit: str = "u",
+) -> CenterSelection:
+    """``p`` candidates with the least largest weighted cost ``maxᵢ wᵢ minⱼ costs[i, j]``.
+
+    Binary search over the sorted distinct weighted costs with a set-covering subproblem
+    (Minieka 1970; Daskin 1995): each trial is settled by a packing bound, a greedy cover
+    or an exact branching search within a work budget. The reported ``lower_bound`` rests
+    only on trials proven infeasible, so ``relative_gap`` 0 proves the plan optimal. Sites
+    the covering leaves over are added for the least total weighted cost.
+
+    Parameters
+    ----------
+    costs, p, weights, fixed, unit
+        As :func:`p_median`.
+
+    Returns
+    -------
+    CenterSelection
+
+    Raises
+    ------
+    InputError
+        As :func:`p_median`.
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> line = [[abs(i - j) for j in range(7)] for i in range(7)]
+    >>> plan = pw.discrete.p_center(line, 2)
+    >>> float(plan.weighted_worst), float(plan.lower_bound)
+    (2.0, 2.0)
+    >>> float(pw.discrete.p_center(line, 7).weighted_worst)   # a site on every point
+    0.0
+    """
+    fields = _core.discrete_p_center_single(_matrix(costs), p, weights, fixed)
+    return CenterSelection(**fields, unit=unit)
+
+
+def cover_all(
+    costs: ArrayLike, radius: float, weights: ArrayLike | None = None, *, fixed: ArrayLike | None = None,
+    unit: str = "u",
+) -> CoverAllSelection:
+    """The fewest candidates so every point has an open site at cost ``<= radius``.
+
+    Location set covering (Toregas, Swain, ReVelle & Bergman 1971): greedy covering with
+    redundant sites removed; a proven lower bound from a packing (the LP dual) raised by
+    Lagrangian relaxation, and small gaps closed by an exact branching search.
+
+    Parameters
+    ----------
+    costs : array_like or scipy.sparse matrix, shape (n, m)
+        See :func:`evaluate_sites`.
+    radius : float
+        Coverage standard (in the cost unit), finite and > 0.
+    weights : array_like, shape (n,), optional
+        Demand per point, for the reported loads and covered weight.
+    fixed, unit
+        As :func:`p_median`.
+
+    Returns
+    -------
+    CoverAllSelection
+
+    Raises
+    ------
+    InputError
+        As :func:`evaluate_sites`, and when a point has no candidate within ``radius``
+        (naming the point and its cheapest candidate's cost).
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> line = [[2 * abs(i - j) for j in range(7)] for i in range(7)]   # spacing 2
+    >>> cover = pw.discrete.cover_all(line, 2)      # each site covers its two neighbours
+    >>> cover.chosen, cover.lower_bound, cover.open
+    (3, 3, array([1, 4, 5]))
+    >>> pw.discrete.cover_all(line, 1).chosen       # radius s / 2: a site per point
+    7
+    """
+    fields = _core.discrete_cover_all(_matrix(costs), radius, weights, fixed)
+    return CoverAllSelection(**fields, unit=unit)
+
+
+def cover_most(
+    costs: ArrayLike, p: int, radius: float, weights: ArrayLike | None = None, *, fixed: ArrayLike | None = None,
+    unit: str = "u",
+) -> CoverMostSelection:
+    """``p`` candidates covering the most weight within ``radius``.
+
+    Maximal covering (Church & ReVelle 1974): greedy addition, then best-swap interchange;
+    a proven upper bound from the Lagrangian relaxation of the coverage constraints by
+    subgradient optimisation.
+
+    Parameters
+    ----------
+    costs, p, weights, fixed, unit
+        As :func:`p_median`.
+    radius : float
+        Coverage standard (in the cost unit), finite and > 0.
+
+    Returns
+    -------
+    CoverMostSelection
+
+    Raises
+    ------
+    InputError
+        As :func:`p_median`, and for ``radius <= 0``.
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> line = [[abs(i - j) for j in range(6)] for i in range(6)]
+    >>> best = pw.discrete.cover_most(line, 1, 1, weights=[1, 1, 1, 5, 5, 5])
+    >>> best.open, float(best.covered_weight), bool(best.upper_bound >= 15)
+    (array([4]), 15.0, True)
+    >>> float(pw.discrete.cover_most(line, 1, 0.5).covered_share)   # only its own point
+    0.16666666666666666
+    """
+    fields = _core.discrete_cover_most(_matrix(costs), p, radius, weights, fixed)
+    return CoverMostSelection(**fields, unit=unit)
+
+
+# --------------------------------------------------------------------- planar front-ends
+
+
+def euclidean_costs(points: ArrayLike, candidates: ArrayLike) -> np.ndarray:
+    """The straight-line cost matrix ``(n, m)`` from every point to every candidate.
+
+    Built by the kernel; refused (``InputError``) above 100 million cells.
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> pw.discrete.euclidean_costs([[0, 0], [3, 4]], [[0, 0]])
+    array([[0.],
+           [5.]])
+    """
+    return _core.discrete_euclidean_costs(points, candidates)
+
+
+def evaluate_sites_planar(
+    points: ArrayLike, candidates: ArrayLike, sites: ArrayLike, weights: ArrayLike | None = None, *,
+    radius: float | None = None, unit: str = "u",
+) -> SiteEvaluation:
+    """:func:`evaluate_sites` on straight-line costs from ``points`` to ``candidates``.
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> float(pw.discrete.evaluate_sites_planar([[0, 0], [3, 4]], [[0, 0]], [0]).total_cost)
+    5.0
+    """
+    return evaluate_sites(euclidean_costs(points, candidates), sites, weights, radius=radius, unit=unit)
+
+
+def p_median_planar(
+    points: ArrayLike, candidates: ArrayLike, p: int, weights: ArrayLike | None = None, *,
+    fixed: ArrayLike | None = None, bound_iterations: int = 300, unit: str = "u",
+) -> MedianSelection:
+    """:func:`p_median` on straight-line costs from ``points`` to ``candidates``.
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> plan = pw.discrete.p_median_planar([[0, 0], [1, 0], [9, 0]], [[0, 0], [10, 0]], 1)
+    >>> plan.open, float(plan.total_cost)
+    (array([0]), 10.0)
+    """
+    costs = euclidean_costs(points, candidates)
+    return p_median(costs, p, weights, fixed=fixed, bound_iterations=bound_iterations, unit=unit)
+
+
+def p_center_planar(
+    points: ArrayLike, candidates: ArrayLike, p: int, weights: ArrayLike | None = None, *,
+    fixed: ArrayLike | None = None, unit: str = "u",
+) -> CenterSelection:
+    """:func:`p_center` on straight-line costs from ``points`` to ``candidates``.
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> float(pw.discrete.p_center_planar([[0, 0], [4, 0]], [[0, 0], [2, 0]], 1).worst_cost)
+    2.0
+    """
+    return p_center(euclidean_costs(points, candidates), p, weights, fixed=fixed, unit=unit)
+
+
+def cover_all_planar(
+    points: ArrayLike, candidates: ArrayLike, radius: float, weights: ArrayLike | None = None, *,
+    fixed: ArrayLike | None = None, unit: str = "u",
+) -> CoverAllSelection:
+    """:func:`cover_all` on straight-line costs from ``points`` to ``candidates``.
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> pw.discrete.cover_all_planar([[0, 0], [1, 1], [2, 0]], [[1, 0], [5, 5]], 1.5).open
+    array([0])
+    """
+    return cover_all(euclidean_costs(points, candidates), radius, weights, fixed=fixed, unit=unit)
+
+
+def cover_most_planar(
+    points: ArrayLike, candidates: ArrayLike, p: int, radius: float, weights: ArrayLike | None = None, *,
+    fixed: ArrayLike | None = None, unit: str = "u",
+) -> CoverMostSelection:
+    """:func:`cover_most` on straight-line costs from ``points`` to ``candidates``.
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> float(pw.discrete.cover_most_planar([[0, 0], [9, 9]], [[0, 1], [9, 8]], 1, 1.5).covered_share)
+    0.5
+    """
+    return cover_most(euclidean_costs(points, candidates), p, radius, weights, fixed=fixed, unit=unit)

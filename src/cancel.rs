@@ -1,0 +1,182 @@
+//! Watching long runs: one cancel flag, one progress count and one deadline that every long
+//! kernel polls (p-median search, p-center restarts, exact and heuristic Steiner trees, and
+//! grouped runs of these).
+//!
+//! A caller makes a [`Watch`] and puts a clone in the kernel's options; from another thread
+//! it may read [`Watch::progress`] or call [`Watch::cancel`]. A kernel turns the watch and
+//! its `time_limit` into a [`Clock`] and polls [`Clock::stop`] at cheap intervals (between
+//! descents, restarts, candidate batches), so a stop takes effect within one such interval.
+//!
+//! Invariant: a kernel that stops early — deadline passed or cancelled — still returns the
+//! best answer it has found, flagged as not converged (not proven). The caller tells the two
+//! apart with [`Watch::finish`]: a cancelled run becomes [`Cancelled`] (the Python layer
+//! raises `KeyboardInterrupt`), a run that only ran out of time is an answer.
+
+use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
+use std::sync::Arc;
+use std::time::{Duration, Instant};
+
+/// Shared between a running kernel and the thread watching it.
+#[derive(Debug, Default)]
+struct Shared {
+    cancelled: AtomicBool,
+    done: AtomicU64,
+    total: AtomicU64,
+}
+
+/// A cancel flag and a progress count, shared by cloning.
+///
+/// Clones share one flag and one count. [`Watch::quiet`] gives a clone that shares the flag
+/// but does not count, for the inner kernels of a run that counts its own steps (a grouped
+/// run counts points of finished groups, not each group's inner steps).
+#[derive(Debug, Clone)]
+pub struct Watch {
+    shared: Arc<Shared>,
+    counts: bool,
+}
+
+impl Default for Watch {
+    fn default() -> Self {
+        Watch { shared: Arc::default(), counts: true }
+    }
+}
+
+/// Two options are equal when they watch the same run.
+impl PartialEq for Watch {
+    fn eq(&self, other: &Watch) -> bool {
+        Arc::ptr_eq(&self.shared, &other.shared) && self.counts == other.counts
+    }
+}
+
+/// The distinct outcome of a cancelled run.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Cancelled;
+
+impl std::fmt::Display for Cancelled {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str("the run was cancelled")
+    }
+}
+
+impl std::error::Error for Cancelled {}
+
+impl Watch {
+    /// A fresh watch: not cancelled, nothing counted.
+    pub fn new() -> Watch {
+        Watch::default()
+    }
+
+    /// Ask every kernel polling this watch to stop as soon as it can.
+    pub fn cancel(&self) {
+        self.shared.cancelled.store(true, Ordering::Relaxed);
+    }
+
+    /// True once [`Watch::cancel`] was called on this watch or a clone.
+    pub fn is_cancelled(&self) -> bool {
+        self.shared.cancelled.load(Ordering::Relaxed)
+    }
+
+    /// Steps done and steps planned so far. Both only grow; `done ≤ total` once the run
+    /// has planned all its steps.
+    pub fn progress(&self) -> (u64, u64) {
+        (self.shared.done.load(Ordering::Relaxed), self.shared.total.load(Ordering::Relaxed))
+    }
+
+    /// A clone sharing the cancel flag that does not count progress.
+    pub fn quiet(&self) -> Watch {
+        Watch { shared: Arc::clone(&self.shared), counts: false }
+    }
+
+    /// `outcome` unless the run was cancelled.
+    ///
+    /// # Errors
+    /// [`Cancelled`] when [`Watch::cancel`] was called.
+    pub fn finish<T>(&self, outcome: T) -> Result<T, Cancelled> {
+        if self.is_cancelled() {
+            Err(Cancelled)
+        } else {
+            Ok(outcome)
+        }
+    }
+
+    /// Plan `steps` more steps.
+    pub(crate) fn plan(&self, steps: u64) {
+        if self.counts {
+            self.shared.total.fetch_add(steps, Ordering::Relaxed);
+        }
+    }
+
+    /// Count `steps` steps done.
+    pub(crate) fn advance(&self, steps: u64) {
+        if self.counts {
+            self.shared.done.fetch_add(steps, Ordering::Relaxed);
+        }
+    }
+
+    /// The stopping rule of one kernel call: this watch and a deadline `time_limit` seconds
+    /// from now (`None`: no deadline).
+    pub(crate) fn clock(&self, time_limit: Option<f64>) -> Clock {
+        // Durations beyond ~30 years overflow `Instant`; such a limit is no limit.
+        let deadline = time_limit.and_then(|s| Instant::now().checked_add(Duration::from_secs_f64(s.clamp(0.0, 1e9))));
+        Clock { watch: self.clone(), deadline }
+    }
+}
+
+/// One kernel call's stopping rule: its [`Watch`] and its deadline.
+#[derive(Debug, Clone)]
+pub(crate) struct Clock {
+    pub(crate) watch: Watch,
+    deadline: Option<Instant>,
+}
+
+impl Clock {
+    /// A clock that never stops (no deadline, a watch nobody else holds).
+    #[cfg(test)]
+    pub(crate) fn unlimited() -> Clock {
+        Watch::new().clock(None)
+    }
+
+    /// True when the kernel must stop now: cancelled, or past its deadline.
+    pub(crate) fn stop(&self) -> bool {
+        self.watch.is_cancelled() || self.expired()
+    }
+
+    /// True when the deadline has passed.
+    pub(crate) fn expired(&self) -> bool {
+        self.deadline.is_some_and(|d| Instant::now() >= d)
+    }
+
+    /// The deadline, if any.
+    pub(crate) fn deadline(&self) -> Option<Instant> {
+        self.deadline
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn clones_share_the_flag_and_quiet_ones_do_not_count() {
+        let watch = Watch::new();
+        let clock = watch.clock(None);
+        let quiet = watch.quiet();
+        quiet.plan(5);
+        watch.plan(2);
+        watch.advance(1);
+        quiet.advance(3);
+        assert_eq!(watch.progress(), (1, 2));
+        assert!(!clock.stop());
+        assert_eq!(watch.finish(7), Ok(7));
+        quiet.cancel();
+        assert!(clock.stop() && watch.is_cancelled());
+        assert_eq!(watch.finish(7), Err(Cancelled));
+    }
+
+    #[test]
+    fn a_zero_time_limit_has_expired_and_a_huge_one_never_does() {
+        assert!(Watch::new().clock(Some(0.0)).expired());
+        let far = Watch::new().clock(Some(f64::MAX));
+        assert!(!far.stop());
+    }
+}

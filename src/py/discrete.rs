@@ -1,0 +1,238 @@
+//! Bindings of the discrete family (`src/discrete/`): models on a demand × candidate cost
+//! matrix.
+
+use numpy::{PyArray1, PyArray2, PyArrayMethods, PyReadonlyArray1, PyReadonlyArray2, PyUntypedArrayMethods};
+use pyo3::prelude::*;
+use pyo3::types::PyDict;
+
+use super::convert::{as_point_slice, count_arg, float_arg, index_values, optional_float_arg, points_arg, weights_arg};
+use super::errors::argument_error;
+use super::fields::Fields;
+use super::run_detached;
+use crate::discrete::{
+    cover_all, cover_most, discrete_p_center, discrete_p_median, euclidean_costs, evaluate_sites, CostMatrix,
+    DiscreteMedianOptions, SiteService,
+};
+use crate::geometry::Weights;
+
+fn shape_of(obj: &Bound<'_, PyAny>) -> String {
+    obj.getattr("shape").and_then(|s| s.str().map(|s| s.to_string())).unwrap_or_else(|_| "?".into())
+}
+
+/// The cost matrix as a C-contiguous, aligned `(n, m)` float64 array (borrowed when it
+/// already is one; values are checked by the kernel).
+fn costs_arg<'py>(obj: &Bound<'py, PyAny>) -> PyResult<PyReadonlyArray2<'py, f64>> {
+    if let Ok(array) = obj.cast::<PyArray2<f64>>() {
+        if array.is_c_contiguous() && (array.data() as usize).is_multiple_of(std::mem::align_of::<f64>()) {
+            return Ok(array.readonly());
+        }
+    }
+    let numpy = obj.py().import("numpy")?;
+    let converted = numpy.call_method1("require", (obj, "float64", ["C", "A"])).map_err(|e| {
+        argument_error("costs", format!("costs must be a numeric matrix; it could not be converted to float64: {e}"))
+    })?;
+    match converted.cast_into::<PyArray2<f64>>() {
+        Ok(array) => Ok(array.readonly()),
+        Err(e) => Err(argument_error(
+            "costs",
+            format!("costs must have shape (n, m); got shape {}", shape_of(e.into_inner().as_any())),
+        )),
+    }
+}
+
+/// Candidate columns (`sites`, `fixed`) as non-negative integers; range and repeats are
+/// checked by the kernel.
+fn columns_arg(obj: Option<&Bound<'_, PyAny>>, argument: &str) -> PyResult<Vec<usize>> {
+    let Some(obj) = obj.filter(|o| !o.is_none()) else { return Ok(Vec::new()) };
+    let numpy = obj.py().import("numpy")?;
+    let array = numpy.call_method1("asarray", (obj,))?;
+    let kind: String = array.getattr("dtype")?.getattr("kind")?.extract()?;
+    let size: usize = array.getattr("size")?.extract()?;
+    if size > 0 && !matches!(kind.as_str(), "i" | "u") {
+        let dtype = array.getattr("dtype")?.str()?.to_string();
+        return Err(argument_error(
+            argument,
+            format!("{argument} must hold candidate columns (integers); got dtype {dtype}"),
+        ));
+    }
+    let flat = array.call_method1("astype", ("int64",))?.call_method1("reshape", (-1,))?;
+    let values: PyReadonlyArray1<'_, i64> = flat.cast_into::<PyArray1<i64>>()?.readonly();
+    values
+        .as_array()
+        .iter()
+        .enumerate()
+        .map(|(k, &v)| {
+            usize::try_from(v).map_err(|_| {
+                argument_error(argument, format!("{argument}[{k}] = {v} is not a candidate column (they start at 0)"))
+            })
+        })
+        .collect()
+}
+
+/// The service fields every discrete result shares.
+fn service<'py>(py: Python<'py>, fields: Fields<'py>, s: &SiteService) -> PyResult<Fields<'py>> {
+    let c = s.coverage.as_ref();
+    fields
+        .put("open", PyArray1::from_vec(py, index_values(s.open.clone())))?
+        .put("fixed", PyArray1::from_slice(py, &s.fixed))?
+        .put("assignment", PyArray1::from_vec(py, index_values(s.assignment.clone())))?
+        .put("cost", PyArray1::from_slice(py, &s.cost))?
+        .put("load", PyArray1::from_slice(py, &s.load))?
+        .put("count", PyArray1::from_vec(py, index_values(s.count.clone())))?
+        .put("total_cost", s.total_cost)?
+        .put("mean_cost", s.mean_cost)?
+        .put("worst_cost", s.worst_cost)?
+        .put("weighted_worst", s.weighted_worst)?
+        .put("total_weight", s.total_weight)?
+        .put("radius", c.map(|c| c.radius))?
+        .put("covered", c.map(|c| PyArray1::from_slice(py, &c.covered)))?
+        .put("covering", c.map(|c| PyArray1::from_vec(py, index_values(c.covering.clone()))))?
+        .put("covered_weight", c.map(|c| c.covered_weight))?
+        .put("covered_share", c.map(|c| c.covered_share))
+}
+
+fn radius_arg(radius: &Bound<'_, PyAny>) -> PyResult<f64> {
+    float_arg(radius, "radius", "finite and > 0", |r| r.is_finite() && r > 0.0)
+}
+
+/// Run `kernel` on the checked cost matrix and weights.
+fn with_costs<'py, T: Send>(
+    py: Python<'py>,
+    costs: &Bound<'py, PyAny>,
+    weights: Option<&Bound<'py, PyAny>>,
+    kernel: impl FnOnce(&CostMatrix<'_>, Weights<'_>) -> crate::Result<T> + Send,
+) -> PyResult<T> {
+    let array = costs_arg(costs)?;
+    let weights = weights_arg(weights, "weights")?;
+    let (rows, columns) = (array.shape()[0], array.shape()[1]);
+    let values = array.as_slice()?;
+    let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
+    run_detached(py, || kernel(&CostMatrix::new(values, rows, columns)?, Weights::from_option(w)))
+}
+
+/// The Euclidean cost matrix `(n, m)` from points to candidates.
+#[pyfunction]
+fn discrete_euclidean_costs<'py>(
+    py: Python<'py>,
+    points: &Bound<'py, PyAny>,
+    candidates: &Bound<'py, PyAny>,
+) -> PyResult<Bound<'py, PyArray2<f64>>> {
+    let pts = points_arg(points, "points")?;
+    let cands = points_arg(candidates, "candidates")?;
+    let (a, b) = (as_point_slice(&pts), as_point_slice(&cands));
+    let values = run_detached(py, || euclidean_costs(a, b))?;
+    PyArray1::from_vec(py, values).reshape([a.len(), b.len()])
+}
+
+/// Fields: the service (open, fixed, assignment, cost, load, count, totals, coverage).
+#[pyfunction]
+#[pyo3(signature = (costs, weights, sites, radius))]
+fn discrete_evaluate<'py>(
+    py: Python<'py>,
+    costs: &Bound<'py, PyAny>,
+    weights: Option<&Bound<'py, PyAny>>,
+    sites: &Bound<'py, PyAny>,
+    radius: Option<&Bound<'py, PyAny>>,
+) -> PyResult<Bound<'py, PyDict>> {
+    let radius = optional_float_arg(radius, "radius", "finite and > 0", |r| r.is_finite() && r > 0.0)?;
+    let sites = columns_arg(Some(sites), "sites")?;
+    let s = with_costs(py, costs, weights, |c, w| evaluate_sites(c, w, &sites, radius))?;
+    Ok(service(py, Fields::new(py), &s)?.done())
+}
+
+/// Fields: the service, lower_bound, relative_gap, swaps, bound_iterations.
+#[pyfunction]
+#[pyo3(signature = (costs, p, weights, fixed, bound_iterations))]
+fn discrete_p_median_single<'py>(
+    py: Python<'py>,
+    costs: &Bound<'py, PyAny>,
+    p: &Bound<'py, PyAny>,
+    weights: Option<&Bound<'py, PyAny>>,
+    fixed: Option<&Bound<'py, PyAny>>,
+    bound_iterations: &Bound<'py, PyAny>,
+) -> PyResult<Bound<'py, PyDict>> {
+    let p = count_arg(p, "p", 1, usize::MAX)?;
+    let options = DiscreteMedianOptions {
+        bound_iterations: count_arg(bound_iterations, "bound_iterations", 0, usize::MAX)?,
+        ..Default::default()
+    };
+    let fixed = columns_arg(fixed, "fixed")?;
+    let r = with_costs(py, costs, weights, |c, w| discrete_p_median(c, w, p, &fixed, &options))?;
+    Ok(service(py, Fields::new(py), &r.service)?
+        .put("lower_bound", r.lower_bound)?
+        .put("relative_gap", r.relative_gap)?
+        .put("swaps", r.swaps)?
+        .put("bound_iterations", r.bound_iterations)?
+        .done())
+}
+
+/// Fields: the service, lower_bound, relative_gap.
+#[pyfunction]
+#[pyo3(signature = (costs, p, weights, fixed))]
+fn discrete_p_center_single<'py>(
+    py: Python<'py>,
+    costs: &Bound<'py, PyAny>,
+    p: &Bound<'py, PyAny>,
+    weights: Option<&Bound<'py, PyAny>>,
+    fixed: Option<&Bound<'py, PyAny>>,
+) -> PyResult<Bound<'py, PyDict>> {
+    let p = count_arg(p, "p", 1, usize::MAX)?;
+    let fixed = columns_arg(fixed, "fixed")?;
+    let r = with_costs(py, costs, weights, |c, w| discrete_p_center(c, w, p, &fixed))?;
+    Ok(service(py, Fields::new(py), &r.service)?
+        .put("lower_bound", r.lower_bound)?
+        .put("relative_gap", r.relative_gap)?
+        .done())
+}
+
+/// Fields: the service (with coverage), chosen, lower_bound, relative_gap.
+#[pyfunction]
+#[pyo3(signature = (costs, radius, weights, fixed))]
+fn discrete_cover_all<'py>(
+    py: Python<'py>,
+    costs: &Bound<'py, PyAny>,
+    radius: &Bound<'py, PyAny>,
+    weights: Option<&Bound<'py, PyAny>>,
+    fixed: Option<&Bound<'py, PyAny>>,
+) -> PyResult<Bound<'py, PyDict>> {
+    let radius = radius_arg(radius)?;
+    let fixed = columns_arg(fixed, "fixed")?;
+    let r = with_costs(py, costs, weights, |c, w| cover_all(c, w, radius, &fixed))?;
+    Ok(service(py, Fields::new(py), &r.service)?
+        .put("chosen", r.chosen)?
+        .put("lower_bound", r.lower_bound)?
+        .put("relative_gap", r.relative_gap)?
+        .done())
+}
+
+/// Fields: the service (with coverage), upper_bound, relative_gap, swaps.
+#[pyfunction]
+#[pyo3(signature = (costs, p, radius, weights, fixed))]
+fn discrete_cover_most<'py>(
+    py: Python<'py>,
+    costs: &Bound<'py, PyAny>,
+    p: &Bound<'py, PyAny>,
+    radius: &Bound<'py, PyAny>,
+    weights: Option<&Bound<'py, PyAny>>,
+    fixed: Option<&Bound<'py, PyAny>>,
+) -> PyResult<Bound<'py, PyDict>> {
+    let p = count_arg(p, "p", 1, usize::MAX)?;
+    let radius = radius_arg(radius)?;
+    let fixed = columns_arg(fixed, "fixed")?;
+    let r = with_costs(py, costs, weights, |c, w| cover_most(c, w, p, radius, &fixed))?;
+    Ok(service(py, Fields::new(py), &r.service)?
+        .put("upper_bound", r.upper_bound)?
+        .put("relative_gap", r.relative_gap)?
+        .put("swaps", r.swaps)?
+        .done())
+}
+
+pub(super) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
+    m.add_function(wrap_pyfunction!(discrete_euclidean_costs, m)?)?;
+    m.add_function(wrap_pyfunction!(discrete_evaluate, m)?)?;
+    m.add_function(wrap_pyfunction!(discrete_p_median_single, m)?)?;
+    m.add_function(wrap_pyfunction!(discrete_p_center_single, m)?)?;
+    m.add_function(wrap_pyfunction!(discrete_cover_all, m)?)?;
+    m.add_function(wrap_pyfunction!(discrete_cover_most, m)?)?;
+    Ok(())
+}

@@ -1,0 +1,280 @@
+"""Tests of the discrete family (placewise.discrete): models on a demand × candidate cost matrix.
+
+Outside references: scipy.optimize.milp (HiGHS) on the textbook integer programs of each
+model, brute-force enumeration of every choice on tiny instances, scipy.spatial.distance.cdist
+for the Euclidean costs, numpy for the allocation of a given plan, and closed forms.
+"""
+
+from __future__ import annotations
+
+import itertools
+
+import numpy as np
+import pytest
+import scipy.optimize
+import scipy.sparse
+import scipy.spatial
+
+import placewise as pw
+from placewise import discrete
+
+
+def instance(seed: int, n: int, m: int) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Random demand points, candidates, weights, and their straight-line costs (cdist)."""
+    rng = np.random.default_rng(seed)
+    points = rng.uniform(0, 100, (n, 2))
+    candidates = rng.uniform(0, 100, (m, 2))
+    weights = rng.integers(1, 10, n).astype(float)
+    return points, candidates, weights, scipy.spatial.distance.cdist(points, candidates)
+
+
+def solve(c: np.ndarray, constraints: list, integrality: np.ndarray, bounds: scipy.optimize.Bounds) -> float:
+    res = scipy.optimize.milp(c, constraints=constraints, integrality=integrality, bounds=bounds,
+                              options={"time_limit": 120})
+    assert res.status == 0, res.message
+    return float(res.fun)
+
+
+def milp_p_median(costs: np.ndarray, w: np.ndarray, p: int, fixed: tuple[int, ...] = ()) -> float:
+    """The textbook p-median integer program (ReVelle & Swain 1970), solved by HiGHS:
+    min Σ wᵢcᵢⱼxᵢⱼ, Σⱼ xᵢⱼ = 1, xᵢⱼ <= yⱼ, Σ yⱼ = p + |fixed|, y binary."""
+    n, m = costs.shape
+    nx = n * m
+    c = np.concatenate([(w[:, None] * costs).ravel(), np.zeros(m)])
+    assign = scipy.sparse.hstack([scipy.sparse.kron(scipy.sparse.eye(n), np.ones((1, m))),
+                                  scipy.sparse.csr_matrix((n, m))])
+    link = scipy.sparse.hstack([scipy.sparse.eye(nx), -scipy.sparse.kron(np.ones((n, 1)), scipy.sparse.eye(m))])
+    count = np.concatenate([np.zeros(nx), np.ones(m)])[None, :]
+    lower = np.zeros(nx + m)
+    lower[nx + np.asarray(fixed, dtype=int)] = 1
+    cons = [scipy.optimize.LinearConstraint(assign, 1, 1), scipy.optimize.LinearConstraint(link, -np.inf, 0),
+            scipy.optimize.LinearConstraint(count, p + len(fixed), p + len(fixed))]
+    integrality = np.concatenate([np.zeros(nx), np.ones(m)])
+    return solve(c, cons, integrality, scipy.optimize.Bounds(lower, 1))
+
+
+def milp_p_center(costs: np.ndarray, w: np.ndarray, p: int) -> float:
+    """The textbook p-center integer program (Daskin 1995): min z, Σⱼ xᵢⱼ = 1, xᵢⱼ <= yⱼ,
+    Σ yⱼ = p, wᵢ Σⱼ cᵢⱼxᵢⱼ <= z."""
+    n, m = costs.shape
+    nx = n * m
+    c = np.zeros(nx + m + 1)
+    c[-1] = 1
+    z = scipy.sparse.csr_matrix((n, 1))
+    assign = scipy.sparse.hstack([scipy.sparse.kron(scipy.sparse.eye(n), np.ones((1, m))),
+                                  scipy.sparse.csr_matrix((n, m)), z])
+    link = scipy.sparse.hstack([scipy.sparse.eye(nx), -scipy.sparse.kron(np.ones((n, 1)), scipy.sparse.eye(m)),
+                                scipy.sparse.csr_matrix((nx, 1))])
+    rows = np.repeat(np.arange(n), m)
+    worst = scipy.sparse.hstack([scipy.sparse.csr_matrix(((w[:, None] * costs).ravel(), (rows, np.arange(nx))),
+                                                         shape=(n, nx)),
+                                 scipy.sparse.csr_matrix((n, m)), -np.ones((n, 1))])
+    count = np.concatenate([np.zeros(nx), np.ones(m), [0]])[None, :]
+    cons = [scipy.optimize.LinearConstraint(assign, 1, 1), scipy.optimize.LinearConstraint(link, -np.inf, 0),
+            scipy.optimize.LinearConstraint(worst, -np.inf, 0), scipy.optimize.LinearConstraint(count, p, p)]
+    integrality = np.concatenate([np.zeros(nx), np.ones(m), [0]])
+    upper = np.concatenate([np.ones(nx + m), [np.inf]])
+    return solve(c, cons, integrality, scipy.optimize.Bounds(0, upper))
+
+
+def milp_cover_all(costs: np.ndarray, radius: float) -> float:
+    """Location set covering (Toregas et al. 1971): min Σ yⱼ, Σ_{cᵢⱼ <= r} yⱼ >= 1."""
+    m = costs.shape[1]
+    a = (costs <= radius).astype(float)
+    return solve(np.ones(m), [scipy.optimize.LinearConstraint(a, 1, np.inf)], np.ones(m),
+                 scipy.optimize.Bounds(0, 1))
+
+
+def milp_cover_most(costs: np.ndarray, w: np.ndarray, p: int, radius: float) -> float:
+    """Maximal covering (Church & ReVelle 1974): max Σ wᵢzᵢ, zᵢ <= Σ_{cᵢⱼ <= r} yⱼ, Σ yⱼ = p."""
+    n, m = costs.shape
+    c = np.concatenate([np.zeros(m), -w])
+    cover = np.hstack([-(costs <= radius).astype(float), np.eye(n)])
+    count = np.concatenate([np.ones(m), np.zeros(n)])[None, :]
+    cons = [scipy.optimize.LinearConstraint(cover, -np.inf, 0), scipy.optimize.LinearConstraint(count, p, p)]
+    integrality = np.concatenate([np.ones(m), np.zeros(n)])
+    return -solve(c, cons, integrality, scipy.optimize.Bounds(0, 1))
+
+
+# ------------------------------------------------------------------ against scipy milp
+
+
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_p_median_against_milp(seed):
+    _, _, w, costs = instance(seed, 100, 30)
+    for p in (3, 8):
+        plan = discrete.p_median(costs, p, w)
+        best = milp_p_median(costs, w, p)  # scipy.optimize.milp (HiGHS)
+        assert plan.lower_bound <= best * (1 + 1e-7)
+        assert plan.total_cost >= best * (1 - 1e-9)
+        # Swap-optimal plans of this size come within 1 % of the optimum (measured: equal on
+        # these seeds); the proven gap is what the plan itself reports.
+        assert plan.total_cost <= best * 1.01
+        assert plan.relative_gap == pytest.approx((plan.total_cost - plan.lower_bound) / plan.total_cost)
+
+
+def test_p_median_with_fixed_against_milp():
+    _, _, w, costs = instance(5, 80, 25)
+    plan = discrete.p_median(costs, 3, w, fixed=[4, 17])
+    best = milp_p_median(costs, w, 3, fixed=(4, 17))  # scipy.optimize.milp (HiGHS)
+    assert {4, 17} <= set(plan.open.tolist()) and len(plan.open) == 5
+    assert plan.fixed.sum() == 2
+    assert plan.lower_bound <= best * (1 + 1e-7) <= plan.total_cost * (1 + 2e-7)
+    assert plan.total_cost <= best * 1.01
+
+
+@pytest.mark.parametrize("seed", [0, 3])
+def test_p_center_against_milp(seed):
+    _, _, w, costs = instance(seed, 40, 15)
+    for p in (2, 4):
+        plan = discrete.p_center(costs, p, w)
+        best = milp_p_center(costs, w, p)  # scipy.optimize.milp (HiGHS)
+        assert plan.lower_bound <= best * (1 + 1e-7)
+        # Small covering trials are settled exactly: equal optimum, zero gap.
+        assert plan.weighted_worst == pytest.approx(best, rel=1e-7)
+        assert plan.relative_gap == 0.0
+
+
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_cover_all_against_milp(seed):
+    _, _, w, costs = instance(seed, 100, 30)
+    radius = 30.0
+    plan = discrete.cover_all(costs, radius, w)
+    best = milp_cover_all(costs, radius)  # scipy.optimize.milp (HiGHS)
+    assert plan.lower_bound <= best <= plan.chosen
+    assert plan.chosen == best  # exact branching closes the gap at this size
+    assert plan.covered.all() and plan.covered_share == 1.0
+    assert (costs[:, plan.open] <= radius).any(axis=1).all()  # checked with numpy directly
+
+
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_cover_most_against_milp(seed):
+    _, _, w, costs = instance(seed, 100, 30)
+    for p, radius in ((3, 20.0), (6, 15.0)):
+        plan = discrete.cover_most(costs, p, radius, w)
+        best = milp_cover_most(costs, w, p, radius)  # scipy.optimize.milp (HiGHS)
+        assert plan.upper_bound >= best * (1 - 1e-9)
+        assert plan.covered_weight <= best * (1 + 1e-9)
+        assert plan.covered_weight >= best * 0.98
+        # numpy directly: the weight of points with an open site within the radius.
+        assert plan.covered_weight == pytest.approx(w[(costs[:, plan.open] <= radius).any(axis=1)].sum())
+
+
+# ------------------------------------------------------------------ brute force, closed forms
+
+
+def test_tiny_instances_against_brute_force():
+    # Enumeration of every p-subset with itertools (independent of the kernels).
+    for seed in range(5):
+        _, _, w, costs = instance(seed, 9, 6)
+        for p in (1, 2, 3):
+            subsets = [list(s) for s in itertools.combinations(range(6), p)]
+            median = min(float((w * costs[:, s].min(axis=1)).sum()) for s in subsets)
+            center = min(float((w * costs[:, s].min(axis=1)).max()) for s in subsets)
+            most = max(float(w[(costs[:, s] <= 40).any(axis=1)].sum()) for s in subsets)
+            assert discrete.p_median(costs, p, w).lower_bound <= median * (1 + 1e-9)
+            assert discrete.p_median(costs, p, w).total_cost <= median * 1.02
+            assert discrete.p_center(costs, p, w).weighted_worst == pytest.approx(center)
+            plan = discrete.cover_most(costs, p, 40, w)
+            assert plan.covered_weight <= most + 1e-9 and plan.upper_bound >= most - 1e-9
+
+
+def test_closed_form_one_site_covers_all():
+    # All points within the radius of candidate 2 (it sits at their centre): one site.
+    rng = np.random.default_rng(4)
+    angle = rng.uniform(0, 2 * np.pi, 50)
+    points = np.column_stack([np.cos(angle), np.sin(angle)]) * rng.uniform(0, 1, (50, 1))
+    candidates = np.array([[5.0, 5.0], [-3.0, 0.0], [0.0, 0.0]])
+    plan = discrete.cover_all_planar(points, candidates, 1.0)
+    assert (plan.chosen, plan.lower_bound, plan.open.tolist()) == (1, 1, [2])
+
+
+@pytest.mark.parametrize("n", [5, 12])
+def test_closed_form_line_at_half_spacing(n):
+    # Points on a line at spacing s = 3, candidates on the points: radius s/2 needs n sites,
+    # radius s needs ceil(n / 3) (each site covers itself and both neighbours).
+    points = np.column_stack([3.0 * np.arange(n), np.zeros(n)])
+    assert discrete.cover_all_planar(points, points, 1.5).chosen == n
+    plan = discrete.cover_all_planar(points, points, 3.0)
+    assert plan.chosen == plan.lower_bound == -(-n // 3)
+
+
+def test_euclidean_costs_match_cdist():
+    points, candidates, _, costs = instance(9, 30, 7)
+    np.testing.assert_allclose(discrete.euclidean_costs(points, candidates), costs, rtol=1e-15)  # scipy cdist
+
+
+def test_evaluate_sites_against_numpy():
+    _, _, w, costs = instance(2, 60, 12)
+    sites = [7, 1, 4]
+    got = discrete.evaluate_sites(costs, sites, w, radius=25.0)
+    cols = np.sort(sites)
+    sub = costs[:, cols]
+    # numpy: the cheapest open column (first on ties), its cost, loads and coverage.
+    assert got.open.tolist() == cols.tolist()
+    np.testing.assert_array_equal(got.assignment, sub.argmin(axis=1))
+    np.testing.assert_array_equal(got.cost, sub.min(axis=1))
+    np.testing.assert_allclose(got.load, np.bincount(sub.argmin(axis=1), weights=w, minlength=3))
+    assert got.total_cost == pytest.approx((w * sub.min(axis=1)).sum())
+    assert got.worst_cost == sub.min(axis=1).max()
+    np.testing.assert_array_equal(got.covering, (sub <= 25).sum(axis=1))
+    assert got.covered_share == pytest.approx(w[(sub <= 25).any(axis=1)].sum() / w.sum())
+
+
+def test_tables_and_units():
+    _, _, w, costs = instance(1, 20, 6)
+    plan = discrete.cover_most(costs, 2, 30.0, w, unit="min")
+    frame = plan.to_frame()
+    assert list(frame.columns) == ["assignment", "candidate", "cost_min", "covered", "covering"]
+    np.testing.assert_array_equal(frame["candidate"], plan.open[plan.assignment])
+    assert list(plan.sites_frame().columns) == ["candidate", "load", "points", "fixed"]
+    summary = discrete.p_median(costs, 2, w, unit="min").summary()
+    assert {"cost_min", "lower_bound_min", "relative_gap", "sites"} <= set(summary.columns)
+    assert "radius_min" in plan.summary().columns
+    assert list(discrete.p_median(costs, 2).to_frame().columns) == ["assignment", "candidate", "cost_u"]
+    assert pw.discrete is discrete
+
+
+def test_sparse_input():
+    _, _, w, costs = instance(3, 15, 5)
+    dense = discrete.p_median(costs, 2, w)
+    sparse = discrete.p_median(scipy.sparse.csr_matrix(costs), 2, w)
+    np.testing.assert_array_equal(dense.open, sparse.open)
+    holes = costs.copy()
+    holes[4, 2] = 0.0  # csr drops the zero: an absent pair
+    with pytest.raises(pw.InputError, match=r"costs\[4, 2\] = inf"):
+        discrete.p_median(scipy.sparse.csr_matrix(holes), 2, w)
+
+
+# ------------------------------------------------------------------ hostile input
+
+
+@pytest.mark.parametrize(
+    ("call", "message"),
+    [
+        (lambda c: discrete.p_median(np.where(np.eye(4, 3) > 0, np.nan, c), 1), r"costs\[0, 0\] = NaN"),
+        (lambda c: discrete.p_center(c - 2.5, 1), r"costs\[\d, \d\] = -"),
+        (lambda c: discrete.p_median(c, 1, [1, 1, 1]), r"weights must have one entry per point \(4\); got 3"),
+        (lambda c: discrete.p_median(c, 4), r"p: must be at most the number of candidates that are not fixed \(3\)"),
+        (lambda c: discrete.cover_most(c, 3, 1.0, fixed=[0]), r"at most .* \(2\); got 3"),
+        (lambda c: discrete.p_median(c, 0), r"p must be an integer >= 1; got 0"),
+        (lambda c: discrete.p_median(c, 1.0), r"p must be an integer"),
+        (lambda c: discrete.cover_all(c, 0), r"radius must be finite and > 0; got 0"),
+        (lambda c: discrete.cover_most(c, 1, -1.0), r"radius must be finite and > 0; got -1.0"),
+        (lambda c: discrete.evaluate_sites(c, [3]), r"sites\[0\] = 3 is not a candidate column"),
+        (lambda c: discrete.evaluate_sites(c, [1, 1]), r"sites\[1\] = 1 repeats"),
+        (lambda c: discrete.p_median(c, 1, fixed=[-1]), r"fixed\[0\] = -1 is not a candidate column"),
+        (lambda c: discrete.p_median(c.ravel(), 1), r"costs must have shape \(n, m\)"),
+        (lambda c: discrete.p_median(c, 1, [1, -1, 1, 1]), r"weights\[1\] = -1"),
+    ],
+)
+def test_hostile_input(call, message):
+    costs = np.arange(12.0).reshape(4, 3)
+    with pytest.raises(pw.InputError, match=message):
+        call(costs)
+
+
+def test_uncoverable_point_names_point_and_nearest_cost():
+    costs = np.array([[1.0, 2.0], [9.0, 7.5], [0.5, 3.0]])
+    with pytest.raises(pw.InputError, match=r"points\[1\] has no candidate within radius 5; .* column 1, costs 7.5"):
+        discrete.cover_all(costs, 5)
