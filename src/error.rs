@@ -74,6 +74,28 @@ pub enum Error {
         /// Row of the earlier point at the same location.
         first: usize,
     },
+    /// A cost matrix holds a NaN, infinite or negative cost: `costs[3, 7] = NaN`.
+    InvalidCost {
+        /// Argument name, e.g. `"costs"`.
+        argument: &'static str,
+        /// Demand row of the cell.
+        row: usize,
+        /// Candidate column of the cell.
+        column: usize,
+        /// The offending value.
+        value: f64,
+    },
+    /// A demand point that no candidate reaches within the covering radius.
+    Uncoverable {
+        /// Row of the point.
+        row: usize,
+        /// The covering radius.
+        radius: f64,
+        /// The point's cheapest candidate column.
+        column: usize,
+        /// That candidate's cost.
+        cost: f64,
+    },
     /// A tuning parameter is out of range.
     InvalidParameter {
         /// Parameter name, e.g. `"tol"`.
@@ -180,6 +202,18 @@ impl Error {
                 namer.row(argument, *row),
                 namer.row(argument, *first)
             ),
+            Error::InvalidCost { argument, row, column, value } => format!(
+                "{argument}[{}, {column}] = {}; every cost must be finite and >= 0",
+                namer.row(argument, *row),
+                plain(*value)
+            ),
+            Error::Uncoverable { row, radius, column, cost } => format!(
+                "radius: points[{}] has no candidate within radius {}; its cheapest candidate, column {column}, \
+                 costs {}",
+                namer.row("points", *row),
+                plain(*radius),
+                plain(*cost)
+            ),
             Error::InvalidParameter { name, reason } => format!("{name}: {reason}"),
             Error::InGroup { label, source } => format!("group {}: {}", namer.group(*label), source.describe(namer)),
         }
@@ -194,7 +228,9 @@ impl Error {
             | Error::LengthMismatch { argument, .. }
             | Error::TooFewPoints { argument, .. }
             | Error::Degenerate { argument, .. }
-            | Error::RepeatedPoint { argument, .. } => argument,
+            | Error::RepeatedPoint { argument, .. }
+            | Error::InvalidCost { argument, .. } => argument,
+            Error::Uncoverable { .. } => "points",
             Error::InvalidParameter { name, .. } => name,
             Error::InGroup { source, .. } => source.argument(),
         }
@@ -204,7 +240,9 @@ impl Error {
     pub fn row(&self) -> Option<usize> {
         match self {
             Error::NonFiniteCoordinate { index, .. } | Error::InvalidWeight { index, .. } => Some(*index),
-            Error::RepeatedPoint { row, .. } => Some(*row),
+            Error::RepeatedPoint { row, .. } | Error::InvalidCost { row, .. } | Error::Uncoverable { row, .. } => {
+                Some(*row)
+            }
             Error::InGroup { source, .. } => source.row(),
             _ => None,
         }

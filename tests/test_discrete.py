@@ -278,3 +278,17 @@ def test_uncoverable_point_names_point_and_nearest_cost():
     costs = np.array([[1.0, 2.0], [9.0, 7.5], [0.5, 3.0]])
     with pytest.raises(pw.InputError, match=r"points\[1\] has no candidate within radius 5; .* column 1, costs 7.5"):
         discrete.cover_all(costs, 5)
+
+
+def test_structured_errors_carry_the_row() -> None:
+    # A bad cell and an uncoverable point are named by field, so the GeoPandas and Dask
+    # layers can restate the row with the user's own label.
+    with pytest.raises(pw.InputError) as caught:
+        discrete.evaluate_sites(np.array([[1.0, 2.0], [np.nan, 0.0]]), [0])
+    assert (caught.value.argument, caught.value.row) == ("costs", 1)
+    assert str(caught.value) == "costs[1, 0] = NaN; every cost must be finite and >= 0"
+    costs = np.array([[1.0, 2.0], [9.0, 7.0], [0.5, 3.0]])
+    with pytest.raises(pw.InputError) as caught:
+        discrete.cover_all(costs, 5.0)
+    assert caught.value.row == 1
+    assert "points[1] has no candidate within radius 5; its cheapest candidate, column 1, costs 7" in str(caught.value)

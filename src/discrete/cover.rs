@@ -302,13 +302,7 @@ pub fn cover_all(costs: &CostMatrix<'_>, weights: Weights<'_>, radius: f64, fixe
         let i = demand[a];
         let row = costs.row(i);
         let j = (0..row.len()).min_by(|&x, &y| row[x].total_cmp(&row[y])).expect("a column");
-        return Err(Error::InvalidParameter {
-            name: "radius",
-            reason: format!(
-                "points[{i}] has no candidate within radius {radius}; its cheapest candidate, column {j}, costs {}",
-                row[j]
-            ),
-        });
+        return Err(Error::Uncoverable { row: i, radius, column: j, cost: row[j] });
     }
     let mut chosen = incidence.greedy();
     let mut lower = incidence.lower_bound(chosen.len(), 200);

@@ -45,8 +45,8 @@ impl<'a> CostMatrix<'a> {
     ///
     /// # Errors
     /// [`Error::TooFewPoints`] for an empty dimension; [`Error::InvalidParameter`] naming
-    /// `costs` for a length that does not match the shape, and naming the cell
-    /// `costs[row, column]` of the first NaN, infinite or negative cost.
+    /// `costs` for a length that does not match the shape; [`Error::InvalidCost`] naming the
+    /// cell `costs[row, column]` of the first NaN, infinite or negative cost.
     pub fn new(values: &'a [f64], rows: usize, columns: usize) -> Result<CostMatrix<'a>> {
         if rows == 0 {
             return Err(Error::TooFewPoints { argument: "costs", needed: 1, got: 0, counted: "demand rows" });
@@ -62,14 +62,11 @@ impl<'a> CostMatrix<'a> {
         }
         // `!(v >= 0.0)` also catches NaN.
         if let Some(k) = values.iter().position(|&v| !(v >= 0.0) || !v.is_finite()) {
-            return Err(Error::InvalidParameter {
-                name: "costs",
-                reason: format!(
-                    "costs[{}, {}] = {}; every cost must be finite and >= 0",
-                    k / columns,
-                    k % columns,
-                    values[k]
-                ),
+            return Err(Error::InvalidCost {
+                argument: "costs",
+                row: k / columns,
+                column: k % columns,
+                value: values[k],
             });
         }
         Ok(CostMatrix { values, rows, columns })
@@ -397,9 +394,9 @@ mod tests {
     #[test]
     fn bad_costs_name_the_cell() {
         let e = CostMatrix::new(&[1.0, 2.0, f64::NAN, 0.0], 2, 2).unwrap_err();
-        assert_eq!(e.to_string(), "costs: costs[1, 0] = NaN; every cost must be finite and >= 0");
+        assert_eq!(e.to_string(), "costs[1, 0] = NaN; every cost must be finite and >= 0");
         let e = CostMatrix::new(&[1.0, -1.0], 1, 2).unwrap_err();
-        assert_eq!(e.to_string(), "costs: costs[0, 1] = -1; every cost must be finite and >= 0");
+        assert_eq!(e.to_string(), "costs[0, 1] = -1; every cost must be finite and >= 0");
         let costs = CostMatrix::new(&[1.0, 2.0], 1, 2).unwrap();
         assert!(evaluate_sites(&costs, Weights::Unit, &[2], None).is_err());
         assert!(evaluate_sites(&costs, Weights::Unit, &[1, 1], None).is_err());

@@ -64,6 +64,23 @@ pub(crate) fn points_arg<'py>(obj: &Bound<'py, PyAny>, argument: &str) -> PyResu
     }
 }
 
+/// A float64 matrix of any shape `(n, m)` (a cost matrix), borrowed when already
+/// C-contiguous and aligned; values are checked by the kernel.
+pub(crate) fn matrix_arg<'py>(obj: &Bound<'py, PyAny>, argument: &str) -> PyResult<PyReadonlyArray2<'py, f64>> {
+    if let Ok(array) = obj.cast::<PyArray2<f64>>() {
+        if borrowable(array) {
+            return Ok(array.readonly());
+        }
+    }
+    match contiguous(obj, argument, "float64")?.cast_into::<PyArray2<f64>>() {
+        Ok(array) => Ok(array.readonly()),
+        Err(e) => Err(input_error(format!(
+            "{argument} must have shape (n, m); got shape {}",
+            shape_of(e.into_inner().as_any())
+        ))),
+    }
+}
+
 /// Reinterpret a C-contiguous `(n, 2)` float64 array as points, without a copy.
 pub(crate) fn as_point_slice<'a>(array: &'a PyReadonlyArray2<'_, f64>) -> &'a [Point] {
     let flat = array.as_slice().expect("points_arg returns C-contiguous, aligned arrays");

@@ -5,7 +5,9 @@ use numpy::{PyArray1, PyArray2, PyArrayMethods, PyReadonlyArray1, PyReadonlyArra
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
 
-use super::convert::{as_point_slice, count_arg, float_arg, index_values, optional_float_arg, points_arg, weights_arg};
+use super::convert::{
+    as_point_slice, count_arg, float_arg, index_values, matrix_arg, optional_float_arg, points_arg, weights_arg,
+};
 use super::errors::argument_error;
 use super::fields::Fields;
 use super::run_detached;
@@ -15,29 +17,9 @@ use crate::discrete::{
 };
 use crate::geometry::Weights;
 
-fn shape_of(obj: &Bound<'_, PyAny>) -> String {
-    obj.getattr("shape").and_then(|s| s.str().map(|s| s.to_string())).unwrap_or_else(|_| "?".into())
-}
-
-/// The cost matrix as a C-contiguous, aligned `(n, m)` float64 array (borrowed when it
-/// already is one; values are checked by the kernel).
+/// The cost matrix as a C-contiguous, aligned `(n, m)` float64 array.
 fn costs_arg<'py>(obj: &Bound<'py, PyAny>) -> PyResult<PyReadonlyArray2<'py, f64>> {
-    if let Ok(array) = obj.cast::<PyArray2<f64>>() {
-        if array.is_c_contiguous() && (array.data() as usize).is_multiple_of(std::mem::align_of::<f64>()) {
-            return Ok(array.readonly());
-        }
-    }
-    let numpy = obj.py().import("numpy")?;
-    let converted = numpy.call_method1("require", (obj, "float64", ["C", "A"])).map_err(|e| {
-        argument_error("costs", format!("costs must be a numeric matrix; it could not be converted to float64: {e}"))
-    })?;
-    match converted.cast_into::<PyArray2<f64>>() {
-        Ok(array) => Ok(array.readonly()),
-        Err(e) => Err(argument_error(
-            "costs",
-            format!("costs must have shape (n, m); got shape {}", shape_of(e.into_inner().as_any())),
-        )),
-    }
+    matrix_arg(obj, "costs")
 }
 
 /// Candidate columns (`sites`, `fixed`) as non-negative integers; range and repeats are
