@@ -11,7 +11,7 @@ source .venv/bin/activate
 cargo fmt --check
 cargo clippy --all-targets -- -D warnings
 cargo clippy --all-targets --features python -- -D warnings
-ruff check python tests benchmarks
+ruff check python tests benchmarks docs
 # The release profile: the set-up's build already compiled most dependencies there, so on a
 # fresh clone this test build took 294 s against 438 s for a dev-profile one (2 cores, same
 # run); only the crates whose features the dev-dependencies change are compiled again.
