@@ -871,3 +871,11 @@ def test_a_group_too_wide_for_its_frame_is_named() -> None:
     frame = _lonlat_frame(lon, lat, zone=np.repeat(["small", "wide"], 5))
     with pytest.raises(pw.InputError, match="group 'wide' spans too much"):
         gis.spanning_tree(frame, by="zone")
+
+
+def test_an_existing_site_without_demand_in_its_group_is_refused() -> None:
+    # Regression: such a site served nobody and vanished from the plan's sites table.
+    homes = gpd.GeoDataFrame({"g": ["a", "a", "b", "b"]}, geometry=gpd.points_from_xy([0, 1, 10, 11], [0, 0, 0, 0]))
+    fixed = gpd.GeoDataFrame({"g": ["a", "zz"]}, geometry=gpd.points_from_xy([0.5, 50], [0, 0]), index=["old", "far"])
+    with pytest.raises(pw.InputError, match="fixed: rows 'far' have a 'g' value that no demand row has"):
+        gis.p_median(homes, 1, by="g", fixed=fixed, planar=True)

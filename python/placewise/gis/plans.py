@@ -9,6 +9,8 @@ import numpy as np
 
 import placewise as _pw
 
+from .._core import InputError
+from .._errors import plain
 from ._frames import (
     MAX_SCALE_ERROR,
     Prepared,
@@ -132,11 +134,19 @@ def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bo
         options = {**options, "fixed": ff.xy}
         rows["fixed"] = ff.rows
         if groups is not None:
-            # Each existing site serves only the demand of its own group; one whose group
-            # value has no demand (code -1) serves nobody.
+            # Each existing site serves only the demand of its own group. One whose group
+            # value has no demand would serve nobody and drop out of the plan: refused, so no
+            # existing site goes missing from the output unannounced.
             fixed_groups = groups_of(ff.frame, by, "fixed")
             assert fixed_groups is not None
-            options["fixed_groups"] = groups.values.get_indexer(fixed_groups.values.take(fixed_groups.codes))
+            codes = groups.values.get_indexer(fixed_groups.values.take(fixed_groups.codes))
+            if (codes < 0).any():
+                lonely = [repr(plain(v)) for v in ff.frame.index[codes < 0][:5]]
+                raise InputError(
+                    f"fixed: rows {', '.join(lonely)} have a {by!r} value that no demand row has, so they "
+                    "would serve nobody; drop them or add their demand"
+                )
+            options["fixed_groups"] = codes
     grouped = {} if groups is None else {"errors": errors}
     kernel = _pw.p_median if kind == "median" else _pw.p_center
     result = call(kernel, pf.xy, p, weights(pf, weight, "frame"), groups=groups, rows=rows, **grouped, **options)
