@@ -17,7 +17,7 @@ import numpy as np
 
 from ._core import DegenerateInputError, InputError
 
-__all__ = ["plain", "restate", "restate_problems"]
+__all__ = ["labelled", "plain", "restate", "restate_problems"]
 
 
 def plain(value: Any) -> Any:
@@ -89,3 +89,16 @@ def restate_problems(details: Any, group_values: Any = None, row_labels: Mapping
     for g, detail in enumerate(details):
         out[g] = None if detail is None else str(detail.describe(names.group(), names.row()))
     return out
+
+
+def labelled(positions: Any, labels: np.ndarray) -> np.ndarray:
+    """Input row positions (-1, or missing for a skipped group, for none) as the user's row
+    labels (None for none)."""
+    import pandas as pd
+
+    values = pd.to_numeric(pd.Series(np.asarray(positions)), errors="coerce").to_numpy(dtype=np.float64,
+                                                                                      na_value=np.nan)
+    valid = values >= 0  # False for NaN
+    named = np.full(len(values), None, dtype=object)
+    named[valid] = np.asarray(labels, dtype=object)[values[valid].astype(np.int64)]
+    return named

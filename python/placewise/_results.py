@@ -28,6 +28,8 @@ from typing import Any
 
 import numpy as np
 
+from ._errors import restate_problems
+
 __all__ = ["Grouped", "Result", "as_points"]
 
 _SMALL = 6
@@ -133,14 +135,6 @@ class Result:
         return ax
 
 
-def _problems(details: Any) -> np.ndarray:
-    """Messages of the skipped groups (None where solved), from the kernel's error details."""
-    out = np.empty(len(details), dtype=object)
-    for g, detail in enumerate(details):
-        out[g] = None if detail is None else str(detail.describe(str, lambda _argument, row: str(row)))
-    return out
-
-
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
 class Grouped(Result):
     """Base of results of many groups (``groups=``), in sorted label order.
@@ -168,7 +162,7 @@ class Grouped(Result):
     def _from_core(cls, fields: dict[str, Any], **extra: Any) -> Any:
         """Build from a binding's named fields (``labels``, ``problem`` = details, ...)."""
         details = tuple(fields.pop("problem"))
-        return cls(**fields, **extra, problem=_problems(details), problem_detail=details)
+        return cls(**fields, **extra, problem=restate_problems(details), problem_detail=details)
 
     def __len__(self) -> int:
         return len(self.labels)

@@ -19,7 +19,7 @@ from typing import Any, Literal
 import numpy as np
 
 from ._core import InputError
-from ._errors import plain, restate, restate_problems
+from ._errors import labelled, plain, restate, restate_problems
 from ._results import Result
 
 __all__ = ["DistributedAllocation", "GROUPED_KERNELS", "grouped", "nearest_site"]
@@ -89,17 +89,6 @@ def _call(kernel: Callable[..., Any], *args: Any, group_values: Any = None, rows
     raise error
 
 
-def _labelled(column: Any, labels: np.ndarray) -> np.ndarray:
-    """Input row positions (-1 or missing for none) as the table's index labels (None)."""
-    import pandas as pd
-
-    positions = pd.to_numeric(column, errors="coerce").to_numpy(dtype=np.float64, na_value=np.nan)
-    valid = positions >= 0  # False for NaN (the rows of a skipped group)
-    named = np.full(len(positions), None, dtype=object)
-    named[valid] = labels[positions[valid].astype(np.int64)]
-    return named
-
-
 def _site_numbers(site_group: np.ndarray) -> np.ndarray:
     """Each row of a plan's sites table as its site's number within its group (0, 1, ...),
     from the rows' group labels (sorted: the table lists the groups in label order).
@@ -138,7 +127,7 @@ def _solve(part: Any, kernel: str, x: str, y: str, weight: str | None, by: str, 
     frame.insert(0, by, uniques.take(code))
     for name in GROUPED_KERNELS[kernel]:
         if name in frame.columns:
-            frame[name] = _labelled(frame[name], labels)
+            frame[name] = labelled(frame[name], labels)
     if kernel in _PLANS and table == "sites":
         number = _site_numbers(code)
         frame.insert(1, "site", np.where(frame["problem"].isna().to_numpy(), number, -1))

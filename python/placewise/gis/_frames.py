@@ -24,7 +24,7 @@ except ImportError:  # pragma: no cover - exercised only without the extra
     raise ImportError("placewise.gis needs geopandas and pyproj: pip install 'placewise[geo]'") from None
 
 from .._core import InputError
-from .._errors import plain, restate, restate_problems
+from .._errors import labelled, plain, restate, restate_problems
 
 # Short unit names for column names (``distance_m``), by the CRS axis unit's name.
 _UNIT_NAMES = {
@@ -482,10 +482,5 @@ def framed(
 
 def row_labels(table: Any, prepared: Prepared, columns: Sequence[str]) -> None:
     """Replace columns of input row positions (-1 for none) by the frame's index labels (None)."""
-    labels = prepared.rows
     for name in columns:
-        positions = table[name].to_numpy()
-        valid = positions >= 0
-        named = np.full(len(table), None, dtype=object)
-        named[valid] = labels[positions[valid].astype(np.int64)]
-        table[name] = named
+        table[name] = labelled(table[name].to_numpy(), prepared.rows)
