@@ -212,3 +212,16 @@ mod properties {
         }
     }
 }
+
+#[test]
+fn a_tree_of_points_that_differ_below_the_triangulations_resolution_is_no_longer_than_the_mst() {
+    // The first and third points differ only in a coordinate near 1e-68, which the
+    // triangulation flushes to zero; the heuristic once answered with a bent chain of
+    // length 2 against the spanning tree's 1 (Prim's algorithm by hand: edges 0-2 and 0-1).
+    let pts = vec![[0.0, 0.0], [3.1e-182, -1.0], [-8.4e-68, 0.0]];
+    for method in [SteinerMethod::Heuristic, SteinerMethod::Exact, SteinerMethod::Auto] {
+        let t = steiner_tree(&pts, &SteinerOptions { method, ..SteinerOptions::default() }).unwrap();
+        assert!((t.length - 1.0).abs() <= 1e-12, "{method:?}: {}", t.length);
+        assert!(t.length <= t.mst_length + 1e-12);
+    }
+}

@@ -14,6 +14,7 @@ mod delaunay;
 mod voronoi;
 
 pub use allocate::{allocate, nearest_site, nearest_site_grouped, Allocation, SiteAllocations, SiteIndex};
+pub(crate) use delaunay::triangulated_positions;
 pub use delaunay::{check_triangulation, delaunay, delaunay_grouped, Triangulation, STRIPS_FROM};
 pub use voronoi::{voronoi_cells, voronoi_cells_grouped, Region, VoronoiCells};
 

@@ -100,6 +100,16 @@ pub fn delaunay_grouped(
     })
 }
 
+/// The positions the triangulation is built on: `points` scaled by a power of two (exact)
+/// with coordinates below spade's smallest accepted magnitude made zero. Points whose
+/// positions coincide are one vertex of [`delaunay`]; a caller that falls back to its own
+/// construction when the triangulation is degenerate must decide on these positions, or its
+/// answer can disagree with the triangulation's view of the input.
+pub(crate) fn triangulated_positions(points: &[Point]) -> Vec<Point> {
+    let scale = Scale::of(points);
+    points.iter().map(|&p| scale.apply(p)).map(|q| [q.x, q.y]).collect()
+}
+
 /// Inputs with at least this many points are triangulated by strips in parallel.
 pub const STRIPS_FROM: usize = 100_000;
 
