@@ -121,7 +121,10 @@ pub(crate) fn labels_arg<'py>(obj: &Bound<'py, PyAny>, argument: &str) -> PyResu
     let size: usize = as_array.getattr("size")?.extract()?;
     if !matches!(kind.as_str(), "i" | "u" | "b") && size > 0 {
         let dtype = as_array.getattr("dtype")?.str()?.to_string();
-        return Err(input_error(format!("{argument} must hold integer labels; got dtype {dtype}")));
+        return Err(input_error(format!(
+            "{argument} must hold integer labels; got dtype {dtype} (codes such as \
+             pandas.factorize(column)[0] will do; placewise.gis and placewise.cluster take a column of any values)"
+        )));
     }
     let converted = contiguous(&as_array, argument, "int64")?;
     match converted.cast_into::<PyArray1<i64>>() {
