@@ -3,7 +3,7 @@
 # packages of the requested extras, and placewise built in release mode (editable: the Python
 # sources are used in place).
 #
-#   scripts/setup.sh [EXTRAS]      EXTRAS: comma-separated extras [test,geo,dask,notebook]
+#   scripts/setup.sh [EXTRAS]      EXTRAS: comma-separated extras [test,geo,dask,notebook,bench]
 #
 # Work already done is skipped, so a second run takes a second or two:
 # - packages: a stamp per extras set holds the hash of pyproject.toml, Cargo.lock and the
@@ -15,7 +15,7 @@
 set -euo pipefail
 cd "$(dirname "$0")/.."
 
-EXTRAS="${1:-test,geo,dask,notebook}"
+EXTRAS="${1:-test,geo,dask,notebook,bench}"
 PYTHON="${PYTHON:-python3}"
 if [ ! -x .venv/bin/python ]; then
     "$PYTHON" -m venv .venv

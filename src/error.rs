@@ -22,6 +22,19 @@ pub enum Error {
         /// The offending value (NaN, +inf or -inf).
         value: f64,
     },
+    /// A longitude or latitude outside its range: `points[4] has latitude 91; ...`.
+    OutOfRange {
+        /// Argument name, e.g. `"points"`.
+        argument: &'static str,
+        /// Row of the offending point.
+        index: usize,
+        /// `"latitude"` or `"longitude"`.
+        axis: &'static str,
+        /// The offending value, degrees.
+        value: f64,
+        /// The largest magnitude allowed, degrees.
+        limit: f64,
+    },
     /// A weight is negative, NaN or infinite.
     InvalidWeight {
         /// Argument name, e.g. `"weights"`.
@@ -180,6 +193,13 @@ impl Error {
                 namer.row(argument, *index),
                 describe_non_finite(*value)
             ),
+            Error::OutOfRange { argument, index, axis, value, limit } => format!(
+                "{argument}[{}] has {axis} {}; {axis} must lie within -{} and {} degrees",
+                namer.row(argument, *index),
+                plain(*value),
+                plain(*limit),
+                plain(*limit)
+            ),
             Error::InvalidWeight { argument, index, value } => format!(
                 "{argument} must be finite and >= 0; {argument}[{}] = {}",
                 namer.row(argument, *index),
@@ -223,6 +243,7 @@ impl Error {
     pub fn argument(&self) -> &'static str {
         match self {
             Error::NonFiniteCoordinate { argument, .. }
+            | Error::OutOfRange { argument, .. }
             | Error::InvalidWeight { argument, .. }
             | Error::AllWeightsZero { argument }
             | Error::LengthMismatch { argument, .. }
@@ -239,7 +260,9 @@ impl Error {
     /// The input row the error concerns, when it concerns one.
     pub fn row(&self) -> Option<usize> {
         match self {
-            Error::NonFiniteCoordinate { index, .. } | Error::InvalidWeight { index, .. } => Some(*index),
+            Error::NonFiniteCoordinate { index, .. }
+            | Error::OutOfRange { index, .. }
+            | Error::InvalidWeight { index, .. } => Some(*index),
             Error::RepeatedPoint { row, .. } | Error::InvalidCost { row, .. } | Error::Uncoverable { row, .. } => {
                 Some(*row)
             }
@@ -266,6 +289,9 @@ impl Error {
             }
             Error::InvalidWeight { argument, index, value } => {
                 Error::InvalidWeight { argument, index: map(index), value }
+            }
+            Error::OutOfRange { argument, index, axis, value, limit } => {
+                Error::OutOfRange { argument, index: map(index), axis, value, limit }
             }
             Error::RepeatedPoint { argument, row, first } => {
                 Error::RepeatedPoint { argument, row: map(row), first: map(first) }

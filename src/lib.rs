@@ -7,6 +7,9 @@
 //! - `partition`: Delaunay triangulation, clipped Voronoi cells, nearest-site allocation (catchments).
 //! - `network`: Euclidean minimum spanning tree and Steiner trees.
 //! - `multi`: continuous p-median and p-center.
+//! - `geodesic`: longitude/latitude input on the WGS84 ellipsoid (Karney 2013 geodesics):
+//!   distances, lengths and areas, Fermat–Weber and minimax points, enclosing circles and
+//!   nearest-site allocation at any extent.
 //! - `batch`: the grouped runner every kernel uses for many groups at once.
 //! - `geometry`: shared point helpers, the one working frame and location key, exact predicates.
 //! - `error`: the crate's one error type.
@@ -27,6 +30,7 @@ pub mod cancel;
 mod discrete;
 mod enclose;
 mod error;
+mod geodesic;
 mod geometry;
 mod median;
 mod multi;
@@ -49,6 +53,12 @@ pub use enclose::{
     minimax_points, Circle, CircleOptions, Ellipse, MinimaxPoint,
 };
 pub use error::{Error, Namer, Positions, Result};
+pub use geodesic::{
+    geodesic_area, geodesic_circle, geodesic_distances, geodesic_enclosing_circle, geodesic_enclosing_circles,
+    geodesic_length, geodesic_minimax_point, geodesic_minimax_points, geodesic_nearest_site,
+    geodesic_nearest_site_grouped, geodesic_weber_point, geodesic_weber_points, CenterOptions as GeodesicCenterOptions,
+    GeodesicCenter, GeodesicCircle, CONVEX_CAP_DEGREES, HEMISPHERE_DEGREES,
+};
 pub use geometry::{Point, Weights};
 pub use median::{weber_point, weber_points, Metric, WeberOptions, WeberPoint};
 pub use multi::{

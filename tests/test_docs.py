@@ -18,7 +18,7 @@ pytest.importorskip("numpydoc")
 
 ROOT = Path(__file__).resolve().parent.parent
 DOCS = ROOT / "docs"
-NAMESPACES = ["placewise", "placewise.gis", "placewise.cluster", "placewise.discrete"]
+NAMESPACES = ["placewise", "placewise.gis", "placewise.cluster", "placewise.discrete", "placewise.geodesic"]
 
 
 class Build:

@@ -127,19 +127,33 @@ def test_import_placewise_then_gis_and_cluster_as_attributes():
 # ---------------------------------------------------------------- CRS handling and units
 
 
+def geodesic_weber_cost_scipy(lonlat: np.ndarray, w: np.ndarray) -> float:
+    """Weighted Fermat–Weber cost on the WGS84 ellipsoid: scipy.optimize Nelder–Mead on the
+    objective measured with pyproj.Geod (GeographicLib), from the mean point."""
+    geod = pyproj.Geod(ellps="WGS84")
+
+    def f(p):
+        n = len(lonlat)
+        return float(w @ geod.inv(np.full(n, p[0]), np.full(n, p[1]), lonlat[:, 0], lonlat[:, 1])[2])
+
+    res = minimize(f, lonlat.mean(0), method="Nelder-Mead", options={"xatol": 1e-11, "fatol": 1e-9, "maxiter": 40000})
+    return float(res.fun)
+
+
 def test_geographic_input_is_solved_in_metres_and_returned_in_its_crs():
     frame = lonlat_frame()
     out = gis.weber_point(frame, "people")
     assert out.crs == frame.crs
     assert {"cost_m", "gap_m"} <= set(out.columns)
-    # Outside check: pyproj's UTM zone and projection, then scipy.optimize on the objective.
-    assert out["cost_m"].iloc[0] == pytest.approx(weber_cost_scipy(metric_xy(frame), frame["people"].to_numpy()),
-                                                  rel=1e-7)
+    assert out["work_crs"].iloc[0] == "WGS84 ellipsoid" and out["scale_error"].iloc[0] == 0
+    # Outside check: scipy.optimize on the geodesic objective measured by pyproj.Geod.
+    lonlat = shapely.get_coordinates(frame.geometry.values)
+    assert out["cost_m"].iloc[0] == pytest.approx(geodesic_weber_cost_scipy(lonlat, frame["people"].to_numpy()),
+                                                  rel=1e-9)
     assert out["points"].iloc[0] == len(frame)
-    # The site comes back in degrees: projected by pyproj to UTM it is the reported x, y.
+    # The site comes back in degrees; x, y are its longitude and latitude.
     site = out.geometry.iloc[0]
-    x, y = pyproj.Transformer.from_crs(frame.crs, utm_of(frame), always_xy=True).transform(site.x, site.y)
-    assert (x, y) == pytest.approx((out["x"].iloc[0], out["y"].iloc[0]), abs=1e-3)
+    assert (site.x, site.y) == pytest.approx((out["x"].iloc[0], out["y"].iloc[0]), abs=1e-12)
     no_shadowing(out)
 
 
@@ -307,10 +321,12 @@ def test_groups_are_sorted_by_value_and_each_matches_scipy():
     assert out["zone"].tolist() == ["east", "north", "south"]
     assert out["points"].tolist() == [int((frame["zone"] == z).sum()) for z in ["east", "north", "south"]]
     assert out["problem"].isna().all()
-    xy = metric_xy(frame)  # pyproj; one working CRS for the whole frame
+    assert (out["work_crs"] == "WGS84 ellipsoid").all()
+    lonlat = shapely.get_coordinates(frame.geometry.values)
     for zone, cost in zip(out["zone"], out["cost_m"]):
         m = (frame["zone"] == zone).to_numpy()
-        assert cost == pytest.approx(weber_cost_scipy(xy[m], frame["people"].to_numpy()[m]), rel=1e-7)  # scipy
+        # scipy.optimize on the geodesic objective measured by pyproj.Geod
+        assert cost == pytest.approx(geodesic_weber_cost_scipy(lonlat[m], frame["people"].to_numpy()[m]), rel=1e-9)
 
 
 def test_missing_group_column_and_missing_group_values():
@@ -442,7 +458,7 @@ def test_one_point_groups_are_answers_not_problems():
 
 def test_enclosing_circle_matches_geos_and_covers_points():
     frame = lonlat_frame()
-    out = gis.enclosing_circle(frame)
+    out = gis.enclosing_circle(frame, work_crs=utm_of(frame))  # the projected-frame model
     xy = metric_xy(frame)
     expected = shapely.minimum_bounding_radius(shapely.multipoints(xy))  # GEOS in pyproj's UTM
     assert out["radius_m"].iloc[0] == pytest.approx(expected, rel=1e-9)
@@ -455,7 +471,7 @@ def test_enclosing_circle_matches_geos_and_covers_points():
 
 def test_enclosing_circle_by_group():
     frame = lonlat_frame(n=200)
-    out = gis.enclosing_circle(frame, by="zone")
+    out = gis.enclosing_circle(frame, by="zone", work_crs=utm_of(frame))  # the projected-frame model
     xy = metric_xy(frame)
     for zone, r in zip(out["zone"], out["radius_m"]):
         m = (frame["zone"] == zone).to_numpy()
@@ -464,7 +480,7 @@ def test_enclosing_circle_by_group():
 
 def test_weighted_minimax_point_matches_scipy():
     frame = lonlat_frame(n=30)
-    out = gis.minimax_point(frame, "people")
+    out = gis.minimax_point(frame, "people", work_crs=utm_of(frame))  # the projected-frame model
     xy = metric_xy(frame)
     # scipy.optimize SLSQP on min r s.t. w_i |p - x_i| <= r.
     assert out["weighted_radius_m"].iloc[0] == pytest.approx(minimax_scipy(xy, frame["people"].to_numpy()), rel=1e-6)
@@ -541,8 +557,8 @@ def test_voronoi_cells_by_group_each_tile_the_region():
 def test_nearest_site_matches_ckdtree_in_metres():
     demand = lonlat_frame(n=500)
     sites = lonlat_frame(n=7, seed=3).set_index(np.array(list("ABCDEFG")))
-    plan = gis.nearest_site(demand, sites, "people")
     utm = utm_of(demand)
+    plan = gis.nearest_site(demand, sites, "people", work_crs=utm)  # the projected-frame model
     d, i = cKDTree(shapely.get_coordinates(sites.to_crs(utm).geometry.values)).query(
         shapely.get_coordinates(demand.to_crs(utm).geometry.values))  # scipy reference in pyproj's UTM
     assert plan.demand["site"].tolist() == [sites.index[k] for k in i]
@@ -792,7 +808,7 @@ def test_a_national_extent_is_refused_instead_of_distorted() -> None:
     rng = np.random.default_rng(8)
     frame = _lonlat_frame(rng.uniform(0, 20, 400), rng.uniform(45, 55, 400))
     with pytest.raises(pw.InputError, match=r"distorts distances by up to .* % .*by=.*work_crs="):
-        gis.weber_point(frame)
+        gis.spanning_tree(frame)  # a frame-model function (the single-site ones solve on the ellipsoid)
 
 
 def test_a_forced_working_crs_states_its_scale_error() -> None:
@@ -815,14 +831,20 @@ def test_reported_metres_are_true_within_the_stated_scale_error() -> None:
 
     rng = np.random.default_rng(10)
     lon, lat = rng.uniform(10.0, 11.5, 300), rng.uniform(59.5, 60.5, 300)
-    out = gis.weber_point(_lonlat_frame(lon, lat))
-    error = float(out["scale_error"].iloc[0])
+    plan = gis.p_median(_lonlat_frame(lon, lat), 1)  # a frame-model function
+    error = float(plan.summary["scale_error"].iloc[0])
     assert 0 < error <= 1e-3
-    site = out.geometry.iloc[0]
+    site = plan.sites.geometry.iloc[0]
     # Outside reference: GeographicLib geodesics (pyproj.Geod) from the returned site.
     _, _, metres = Geod(ellps="WGS84").inv(np.full(300, site.x), np.full(300, site.y), lon, lat)
     true_cost = float(np.sum(metres))
-    assert abs(float(out["cost_m"].iloc[0]) - true_cost) <= error * true_cost * (1 + 1e-9)
+    assert abs(float(plan.summary["cost_m"].iloc[0]) - true_cost) <= error * true_cost * (1 + 1e-9)
+    # On the ellipsoid the Fermat–Weber cost is the geodesic cost itself (scale error 0).
+    out = gis.weber_point(_lonlat_frame(lon, lat))
+    site = out.geometry.iloc[0]
+    _, _, metres = Geod(ellps="WGS84").inv(np.full(300, site.x), np.full(300, site.y), lon, lat)
+    assert float(out["scale_error"].iloc[0]) == 0
+    assert float(out["cost_m"].iloc[0]) == pytest.approx(float(np.sum(metres)), rel=1e-12)
 
 
 def test_a_geographic_region_is_densified_before_it_is_projected() -> None:
@@ -852,13 +874,15 @@ def test_each_group_is_solved_in_a_frame_of_its_own() -> None:
     lon = np.r_[rng.uniform(10.6, 10.9, 50), rng.uniform(151.0, 151.3, 50)]
     lat = np.r_[rng.uniform(59.8, 60.0, 50), rng.uniform(-33.9, -33.7, 50)]
     town = np.repeat(["oslo-like", "sydney-like"], 50)
-    out = gis.weber_point(_lonlat_frame(lon, lat, town=town), by="town").set_index("town")
+    plan = gis.p_median(_lonlat_frame(lon, lat, town=town), 1, by="town")  # a frame-model function
+    out = plan.summary.set_index("town")
+    sites = plan.sites.set_index("town")
     assert out.loc["oslo-like", "work_crs"] == "WGS 84 / UTM zone 32N"
     assert out.loc["sydney-like", "work_crs"] == "WGS 84 / UTM zone 56S"
     geod = Geod(ellps="WGS84")  # outside reference: GeographicLib geodesics
     for name in ("oslo-like", "sydney-like"):
         mine = town == name
-        site = out.loc[name, "geometry"]
+        site = sites.loc[name, "geometry"]
         _, _, metres = geod.inv(np.full(mine.sum(), site.x), np.full(mine.sum(), site.y), lon[mine], lat[mine])
         error = float(out.loc[name, "scale_error"])
         assert error <= 1e-3

@@ -47,7 +47,7 @@ __version__: str = _core.__version__
 
 # The GeoPandas and Dask layers load on first use (``placewise.gis``, ``placewise.cluster``),
 # so ``import placewise`` stays light and works without the optional extras.
-_LAZY_MODULES = ("gis", "cluster", "cli", "demo", "plotting", "discrete")
+_LAZY_MODULES = ("gis", "cluster", "cli", "demo", "plotting", "discrete", "geodesic")
 
 
 def __getattr__(name: str) -> Any:

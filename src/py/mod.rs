@@ -12,6 +12,7 @@ mod discrete;
 mod enclose;
 mod errors;
 mod fields;
+mod geodesic;
 mod median;
 mod multi;
 mod network;
@@ -33,6 +34,7 @@ fn core_module(m: &Bound<'_, PyModule>) -> PyResult<()> {
     enclose::register(m)?;
     multi::register(m)?;
     discrete::register(m)?;
+    geodesic::register(m)?;
     m.add("__version__", env!("CARGO_PKG_VERSION"))?;
     Ok(())
 }

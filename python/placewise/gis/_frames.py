@@ -47,6 +47,10 @@ def unit_of(crs: Any) -> str:
     return _UNIT_NAMES.get(name, "".join(ch for ch in name if ch.isalnum()) or "u")
 
 
+# The model of geographic input solved on the ellipsoid (the ``work_crs`` column's value).
+ELLIPSOID = "WGS84 ellipsoid"
+_WGS84 = CRS.from_epsg(4326)
+
 # Default bound on the relative scale error a working projection may introduce over the
 # data of geographic input (0.1 %); beyond it the functions refuse rather than distort.
 MAX_SCALE_ERROR = 1e-3
@@ -70,10 +74,13 @@ class Prepared:
     frames: list[Any] | None = None
     frame_of_group: np.ndarray | None = None
     group_error: np.ndarray | None = None
+    # Geographic input kept as WGS84 longitude/latitude for the geodesic kernels (``xy``
+    # holds longitude, latitude; ``work`` is EPSG:4326).
+    ellipsoid: bool = False
 
     @property
     def unit(self) -> str:
-        return "m" if self.frames is not None else unit_of(self.work)
+        return "m" if self.frames is not None or self.ellipsoid else unit_of(self.work)
 
     @property
     def rows(self) -> np.ndarray:
@@ -100,7 +107,12 @@ class Prepared:
 
     def model(self, codes: np.ndarray | None = None) -> dict[str, Any]:
         """Columns stating the model of a geographic result: its working frame and the worst
-        scale error that frame introduces over the data (per group with per-group frames)."""
+        scale error that frame introduces over the data (per group with per-group frames).
+        On the ellipsoid: ``work_crs`` is "WGS84 ellipsoid" and the scale error 0."""
+        if self.ellipsoid:
+            count = 1 if codes is None else len(codes)
+            return {"work_crs": np.full(count, ELLIPSOID, dtype=object) if codes is not None else ELLIPSOID,
+                    "scale_error": np.zeros(count) if codes is not None else 0.0}
         if self.frames is not None and codes is not None:
             assert self.frame_of_group is not None and self.group_error is not None
             codes = np.asarray(codes, dtype=np.int64)
@@ -281,7 +293,7 @@ def _frames_per_group(
 
 def prepare(
     obj: Any, name: str, *, planar: bool, centroids: bool, work: Any = "estimate", work_crs: Any = None,
-    max_scale_error: float = MAX_SCALE_ERROR, by: str | None = None,
+    max_scale_error: float = MAX_SCALE_ERROR, by: str | None = None, ellipsoid: bool = False,
 ) -> Prepared:
     """Validate a frame and bring its points into the working CRS.
 
@@ -301,6 +313,9 @@ def prepare(
         raise InputError(f"max_scale_error must be a number between 0 and 1; got {max_scale_error!r}")
     groups = groups_of(frame, by, name)
     geographic = frame.crs is not None and CRS(frame.crs).is_geographic
+    on_earth = work is ELLIPSOID or (ellipsoid and geographic and work_crs is None and isinstance(work, str))
+    if on_earth:
+        return _on_ellipsoid(frame, name, centroids, groups)
     lonlat = _points_of(frame, name, centroids) if geographic else None
     if lonlat is not None:
         _check_lonlat(frame, lonlat, name)
@@ -331,6 +346,26 @@ def prepare(
             "the whole area, or raise max_scale_error="
         )
     return Prepared(frame, xy, frame.crs, work, error, groups)
+
+
+def _on_ellipsoid(frame: Any, name: str, centroids: bool, groups: Groups | None) -> Prepared:
+    """The frame's points as WGS84 longitude/latitude for the geodesic kernels (checked for
+    range and swapped columns; another CRS is transformed to WGS84 first)."""
+    if frame.crs is None:
+        raise InputError(f"{name} has no CRS; geographic sites need their companion frames to have one too")
+    crs = CRS(frame.crs)
+    if crs.is_geographic:
+        _check_lonlat(frame, _points_of(frame, name, centroids), name)
+    points = frame
+    if centroids and (shapely.get_type_id(frame.geometry.values) != shapely.GeometryType.POINT).any():
+        # Centroids are areal, so they are taken in a metric frame (the data's UTM zone), not
+        # in degrees; only the points go on to the ellipsoid.
+        utm = CRS(frame.estimate_utm_crs())
+        points = gpd.GeoDataFrame(geometry=frame.to_crs(utm).geometry.centroid, crs=utm, index=frame.index)
+    if not CRS(points.crs).equals(_WGS84):
+        points = points.to_crs(_WGS84)
+    lonlat = _points_of(points, name, centroids)
+    return Prepared(frame, lonlat, frame.crs, _WGS84, 0.0, groups, ellipsoid=True)
 
 
 def column(frame: Any, spec: Any, name: str, what: str) -> np.ndarray:

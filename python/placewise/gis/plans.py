@@ -8,10 +8,12 @@ from typing import Any, Literal, NamedTuple
 import numpy as np
 
 import placewise as _pw
+from placewise import geodesic as _geodesic
 
 from .._core import InputError
 from .._errors import plain
 from ._frames import (
+    ELLIPSOID,
     MAX_SCALE_ERROR,
     Prepared,
     call,
@@ -72,7 +74,8 @@ def nearest_site(
     planar: bool = False, centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
     errors: Literal["raise", "skip"] = "raise",
 ) -> SitePlan:
-    """Assign every demand row to its nearest site (straight-line distance in the working CRS).
+    """Assign every demand row to its nearest site (straight-line distance in the working CRS;
+    geodesic distance on the WGS84 ellipsoid for geographic sites without ``work_crs``).
 
     Parameters
     ----------
@@ -87,6 +90,10 @@ def nearest_site(
     SitePlan
         ``sites`` (the sites frame with ``load`` and ``points``), ``demand`` (with ``site``,
         the serving site's index label, and ``distance_<unit>``) and ``summary``.
+        Geographic sites without ``work_crs`` are served on the ellipsoid
+        (:func:`placewise.geodesic.nearest_site`): the geodesically nearest site and its
+        geodesic distance in metres at any extent (the demand is transformed to WGS84 first
+        if its CRS differs); the summary's ``work_crs`` reads "WGS84 ellipsoid".
 
     Examples
     --------
@@ -101,19 +108,21 @@ def nearest_site(
     [1.0, 2.0]
     """
     model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
-    sf = prepare(sites, "sites", planar=planar, centroids=centroids, **model)
-    df = prepare(demand, "demand", planar=planar, centroids=centroids, work=sf.work, **model)
+    sf = prepare(sites, "sites", planar=planar, centroids=centroids, ellipsoid=True, **model)
+    df = prepare(demand, "demand", planar=planar, centroids=centroids, work=ELLIPSOID if sf.ellipsoid else sf.work,
+                 **model)
+    kernel = _geodesic.nearest_site if sf.ellipsoid else _pw.nearest_site
     rows = {"points": df.rows, "weights": df.rows, "sites": sf.rows}
     w = weights(df, weight, "demand")
     groups = None
     if by is None:
-        result = call(_pw.nearest_site, df.xy, sf.xy, w, rows=rows)
+        result = call(kernel, df.xy, sf.xy, w, rows=rows)
     else:
         # Both frames coded on the union of their group values: a demand group without
         # sites is a problem (raise or skip); the sites of a value without demand serve
         # nobody and keep their row (load 0, count 0), with a summary row of their own.
         groups, site_codes = shared_groups(df.frame, sf.frame, by, ("demand", "sites"))
-        result = call(_pw.nearest_site, df.xy, sf.xy, w, groups=groups, rows=rows,
+        result = call(kernel, df.xy, sf.xy, w, groups=groups, rows=rows,
                       site_groups=site_codes, errors=errors)
     site_table = with_unit(result, sf).sites_frame()
     out_sites = sf.frame.copy()

@@ -6,22 +6,42 @@ from __future__ import annotations
 from typing import Any, Literal
 
 import placewise as _pw
+from placewise import geodesic as _geodesic
 
+from .._core import InputError
 from ._frames import MAX_SCALE_ERROR, call, framed, prepare, weights
 
 __all__ = ["enclosing_circle", "enclosing_ellipse", "minimax_point", "weber_point"]
 
 
 def _one_per_group(kernel: Any, frame: Any, weight: Any, by: str | None, planar: bool, centroids: bool,
-                   errors: str, options: dict[str, Any], weighted: bool, model: dict[str, Any]) -> Any:
-    """One kernel answer per group (or for the whole frame) as a GeoDataFrame in user terms."""
-    pf = prepare(frame, "frame", planar=planar, centroids=centroids, by=by, **model)
+                   errors: str, options: dict[str, Any], weighted: bool, model: dict[str, Any],
+                   on_earth: Any = None) -> Any:
+    """One kernel answer per group (or for the whole frame) as a GeoDataFrame in user terms;
+    geographic input without ``work_crs`` goes to ``on_earth`` (the geodesic kernel), when
+    there is one, with longitude/latitude."""
+    pf = prepare(frame, "frame", planar=planar, centroids=centroids, by=by, ellipsoid=on_earth is not None,
+                 **model)
+    if pf.ellipsoid:
+        kernel = on_earth
     groups = pf.groups
     rows = {"points": pf.rows, "weights": pf.rows}
     grouped = {} if groups is None else {"errors": errors}
     arguments = (pf.xy, weights(pf, weight, "frame")) if weighted else (pf.xy,)
     result = call(kernel, *arguments, groups=groups, rows=rows, **grouped, **options)
     return framed(result, pf, groups, rows, count=True)
+
+
+def _geodesic_weber(points: Any, weights: Any = None, *, metric: str = "euclidean", **options: Any) -> Any:
+    if metric != "euclidean":
+        raise InputError(f"metric={metric!r} has no geodesic form: geographic input is solved on the ellipsoid "
+                         "(geodesic distance); pass work_crs= to use a projected frame")
+    return _geodesic.weber_point(points, weights, **options)
+
+
+def _geodesic_circle(points: Any, *, seed: Any = None, **options: Any) -> Any:
+    # The geodesic circle is deterministic; ``seed`` only orders the planar method's points.
+    return _geodesic.enclosing_circle(points, **options)
 
 
 def weber_point(
@@ -46,17 +66,32 @@ def weber_point(
     errors : {"raise", "skip"}
         With ``by``: fail on the first group without an answer, or keep it as a row whose
         ``problem`` says why and solve the rest.
+    work_crs : CRS, optional
+        A projected CRS to solve in instead of the ellipsoid (geographic input only).
+    max_scale_error : float
+        With ``work_crs``: unused (the caller's choice stands); for other functions'
+        projected frames, the largest scale error allowed.
     **options
-        Passed to :func:`placewise.weber_point` (``metric``, ``tol``, ``max_iter``).
+        Passed to :func:`placewise.weber_point` (``metric``, ``tol``, ``max_iter``); on the
+        ellipsoid to :func:`placewise.geodesic.weber_point` (``tol``, ``max_iter``).
 
     Returns
     -------
     GeoDataFrame
         Point geometry in the input's CRS; columns ``points`` (rows used), ``x``, ``y`` (in
-        the working CRS), ``cost_<unit>`` (weighted distance in the working CRS's unit:
-        ``cost_m`` for metres), ``gap_<unit>`` (certified bound on the excess),
-        ``relative_gap``, ``iterations``, ``converged``; with ``by``, the ``by`` column
-        first and ``problem`` last.
+        the working CRS; longitude, latitude on the ellipsoid), ``cost_<unit>`` (weighted
+        distance in the working CRS's unit: ``cost_m`` for metres), ``gap_<unit>``
+        (certified bound on the excess), ``relative_gap``, ``iterations``, ``converged``;
+        for geographic input ``work_crs`` and ``scale_error``; with ``by``, the ``by``
+        column first and ``problem`` after the results.
+
+    Notes
+    -----
+    Geographic input (a lon/lat CRS) without ``work_crs`` is solved on the WGS84 ellipsoid
+    (:func:`placewise.geodesic.weber_point`): ``cost_m`` is the true geodesic cost,
+    ``work_crs`` reads "WGS84 ellipsoid" and ``scale_error`` 0. Points spanning more than a
+    hemisphere are refused; beyond 44° from their mean direction ``gap_m`` is infinite (no
+    certificate).
 
     Examples
     --------
@@ -72,7 +107,8 @@ def weber_point(
     placewise.InputError: frame has no CRS: ...
     """
     return _one_per_group(_pw.weber_point, frame, weight, by, planar, centroids, errors, options, weighted=True,
-                          model={"work_crs": work_crs, "max_scale_error": max_scale_error})
+                          model={"work_crs": work_crs, "max_scale_error": max_scale_error},
+                          on_earth=_geodesic_weber)
 
 
 def minimax_point(
@@ -99,7 +135,8 @@ def minimax_point(
     1.666667
     """
     return _one_per_group(_pw.minimax_point, frame, weight, by, planar, centroids, errors, {}, weighted=True,
-                          model={"work_crs": work_crs, "max_scale_error": max_scale_error})
+                          model={"work_crs": work_crs, "max_scale_error": max_scale_error},
+                          on_earth=_geodesic.minimax_point)
 
 
 def enclosing_circle(
@@ -116,6 +153,12 @@ def enclosing_circle(
         and columns ``points``, ``x``, ``y`` (centre), ``radius_<unit>`` and
         ``area_<unit>2`` (of the exact circle), plus ``by`` and ``problem``.
 
+        Geographic input without ``work_crs`` gets the smallest geodesic circle on the
+        WGS84 ellipsoid (:func:`placewise.geodesic.enclosing_circle`): ``radius_m`` and
+        ``area_m2`` on the ellipsoid, ``gap_m``, ``iterations``, ``converged``, and as
+        geometry a 256-gon in longitude/latitude split at the antimeridian into a
+        MultiPolygon where it crosses it (closed through the pole when it holds one).
+
     Examples
     --------
     >>> import geopandas as gpd
@@ -125,7 +168,8 @@ def enclosing_circle(
     1.666666666666...
     """
     return _one_per_group(_pw.enclosing_circle, frame, None, by, planar, centroids, errors, options, weighted=False,
-                          model={"work_crs": work_crs, "max_scale_error": max_scale_error})
+                          model={"work_crs": work_crs, "max_scale_error": max_scale_error},
+                          on_earth=_geodesic_circle)
 
 
 def enclosing_ellipse(

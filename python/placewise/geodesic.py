@@ -1,0 +1,489 @@
+"""Longitude/latitude points solved on the WGS84 ellipsoid.
+
+Points are ``(n, 2)`` arrays of ``[longitude, latitude]`` in degrees (x = longitude, as GIS
+frames store them; longitudes within ±540, latitudes within ±90). Every distance, cost,
+radius, length and area is measured along geodesics of the WGS84 ellipsoid (Karney 2013,
+"Algorithms for geodesics", J. Geodesy 87), in metres and square metres, at any extent:
+across the antimeridian, near and around the poles.
+
+- :func:`distance`, :func:`path_length`, :func:`ring_area`: geodesic distances, polyline
+  lengths and polygon areas.
+- :func:`weber_point`: the weighted Fermat–Weber point (Weiszfeld's iteration in the tangent
+  plane of each iterate; Fletcher, Venkatasubramanian & Joshi 2009).
+- :func:`minimax_point`, :func:`enclosing_circle`: the weighted minimax point and the
+  smallest geodesic circle (the planar kernel in a frame recentred at each iterate).
+- :func:`nearest_site`: every point's geodesically nearest site.
+
+Results follow the table contract of the planar functions, with ``unit="m"``; the columns
+``x`` and ``y`` hold longitude and latitude. Results are planning aids under the stated model
+(geodesic distance on the ellipsoid and the given weights); check them against local
+regulations and licensed professional judgement.
+
+Certificates: a Fermat–Weber ``gap`` is proven when the points lie within
+``CONVEX_CAP_DEGREES`` (44°) of their mean direction, where the objective is convex; farther
+out ``gap`` is infinite and ``converged`` false (the location is a stationary point). Points
+reaching 90° or more from their mean direction (more than a hemisphere) are refused with a
+``DegenerateInputError``: the objective has several local optima there. A minimax ``gap``
+is always finite: the pair bound ``s(a, b) · w_a w_b / (w_a + w_b)`` holds on any metric
+space, and inside the convex cap a first-order bound is added.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from typing import Any, ClassVar, Literal, overload
+
+import numpy as np
+from numpy.typing import ArrayLike
+
+from . import _core
+from ._results import Grouped, Result, as_points
+from .enclose import _GroupedWithSupport, _one, _xy
+from .median import WeberPoint, WeberPoints
+from .partition import Allocation, Allocations
+
+__all__ = [
+    "CONVEX_CAP_DEGREES",
+    "GeodesicCenter",
+    "GeodesicCenters",
+    "GeodesicCircle",
+    "GeodesicCircles",
+    "circle_polygon",
+    "distance",
+    "enclosing_circle",
+    "minimax_point",
+    "nearest_site",
+    "path_length",
+    "ring_area",
+    "weber_point",
+]
+
+#: Largest angle (degrees) from the points' mean direction within which the geodesic
+#: Fermat–Weber objective is certified convex (see the module notes).
+CONVEX_CAP_DEGREES = 44.0
+
+# Vertices of the polygon standing for a geodesic circle (each at radius / cos(pi / N) from
+# the centre, so the edges pass outside the circle in the tangent plane).
+_CIRCLE_VERTICES = 256
+
+
+def distance(a: ArrayLike, b: ArrayLike) -> np.ndarray:
+    """Geodesic distance in metres from ``a[i]`` to ``b[i]`` (both ``(n, 2)`` lon/lat).
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> round(float(pw.geodesic.distance([[0, 0]], [[0, 90]])[0]), 3)   # the meridian quadrant
+    10001965.729
+    """
+    return _core.geodesic_distance(a, b)["distance"]
+
+
+def path_length(path: ArrayLike) -> float:
+    """Length in metres of the geodesic polyline through ``path`` (``(n, 2)`` lon/lat).
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> round(pw.geodesic.path_length([[179, 0], [-179, 0]]) / 1000, 3)   # across the antimeridian
+    222.639
+    """
+    return float(_core.geodesic_path_length(path)["length"])
+
+
+def ring_area(ring: ArrayLike) -> float:
+    """Area in square metres of the polygon with geodesic edges through ``ring`` (lon/lat,
+    closed implicitly): positive when the vertices run counter-clockwise, negative otherwise.
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> round(pw.geodesic.ring_area([[0, 0], [1, 0], [1, 1], [0, 1]]) / 1e6, 1)
+    12308.8
+    """
+    return float(_core.geodesic_ring_area(ring)["area"])
+
+
+@overload
+def weber_point(
+    points: ArrayLike, weights: ArrayLike | None = None, *, groups: None = None, tol: float = 1e-10,
+    max_iter: int = 10_000, errors: Literal["raise", "skip"] = "raise",
+) -> WeberPoint: ...
+
+
+@overload
+def weber_point(
+    points: ArrayLike, weights: ArrayLike | None = None, *, groups: ArrayLike, tol: float = 1e-10,
+    max_iter: int = 10_000, errors: Literal["raise", "skip"] = "raise",
+) -> WeberPoints: ...
+
+
+def weber_point(
+    points: ArrayLike, weights: ArrayLike | None = None, *, groups: ArrayLike | None = None, tol: float = 1e-10,
+    max_iter: int = 10_000, errors: Literal["raise", "skip"] = "raise",
+) -> WeberPoint | WeberPoints:
+    """The weighted Fermat–Weber point on the ellipsoid: the site minimising
+    ``sum(w_i * s(x, a_i))`` with ``s`` the geodesic distance.
+
+    Parameters
+    ----------
+    points : array_like, shape (n, 2)
+        ``[longitude, latitude]`` in degrees.
+    weights : array_like, shape (n,), optional
+        Finite, non-negative demand per point, not all zero. Default: all 1.
+    groups : array_like of int, shape (n,), optional
+        Group labels: solve every group at once and return ``WeberPoints``.
+    tol : float
+        Stop when the certified gap is at most ``tol * cost``.
+    max_iter : int
+        Largest number of passes over the points.
+    errors : {"raise", "skip"}
+        With ``groups``: fail on the first group without an answer, or keep it with its
+        ``problem``.
+
+    Returns
+    -------
+    WeberPoint or WeberPoints
+        ``location`` is ``[longitude, latitude]``; ``cost`` and ``gap`` are weight × metres
+        (columns ``cost_m``, ``gap_m``). ``gap`` is infinite (and ``converged`` false) for
+        points beyond the convex cap (see the module notes).
+
+    Raises
+    ------
+    InputError
+        For bad coordinates (named by row), weights or options.
+    DegenerateInputError
+        For points spanning more than a hemisphere around their mean direction.
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> r = pw.geodesic.weber_point([[179.0, 10.0], [-179.0, 10.0], [180.0, 12.0]])
+    >>> r.to_frame().columns.tolist()
+    ['x', 'y', 'cost_m', 'gap_m', 'relative_gap', 'iterations', 'converged']
+    >>> bool(r.converged), round(abs(float(r.location[0])), 6)    # on the antimeridian, by symmetry
+    (True, 180.0)
+    >>> pw.geodesic.weber_point([[0, 0], [90, 0], [180, 0], [-90, 0]])
+    Traceback (most recent call last):
+    ...
+    placewise.DegenerateInputError: points: the points reach ...
+    """
+    if groups is None:
+        return WeberPoint(**_core.geodesic_weber_single(points, weights, tol, max_iter), unit="m")
+    return WeberPoints._from_core(_core.geodesic_weber_grouped(points, weights, groups, tol, max_iter, errors),
+                                  unit="m")
+
+
+# ------------------------------------------------------------------------------- minimax
+
+
+class _CenterTable:
+    location: Any
+    weighted_radius: Any
+    gap: Any
+    iterations: Any
+    converged: Any
+    _u: Any
+
+    def _columns(self) -> dict[str, Any]:
+        radius = _one(self.weighted_radius).astype(np.float64)
+        gap = _one(self.gap).astype(np.float64)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            relative = np.where(radius > 0, gap / np.where(radius > 0, radius, 1.0), 0.0)
+        return {**_xy(self.location), self._u("weighted_radius"): radius, self._u("gap"): gap,
+                "relative_gap": relative, "iterations": _one(self.iterations), "converged": _one(self.converged)}
+
+    def _geometry(self) -> Any:
+        import shapely
+
+        from .enclose import _geometries
+
+        return _geometries(shapely.points, np.asarray(self.location, dtype=np.float64).reshape(-1, 2))
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class GeodesicCenter(_CenterTable, Result):
+    """The weighted minimax point on the ellipsoid.
+
+    Attributes
+    ----------
+    location : ndarray, shape (2,)
+        ``[longitude, latitude]`` of the site minimising ``max(w_i * s(x, a_i))``.
+    weighted_radius : float
+        That largest weight × geodesic distance (weight × metres).
+    gap : float
+        Proven bound on ``weighted_radius - optimum``.
+    support : ndarray of int
+        Input rows of the points that fix the answer.
+    iterations : int
+    converged : bool
+        True when ``gap <= tol * weighted_radius``.
+
+    ``to_frame()`` gives ``x`` (longitude), ``y`` (latitude), ``weighted_radius_m``,
+    ``gap_m``, ``relative_gap``, ``iterations``, ``converged``.
+    """
+
+    location: np.ndarray
+    weighted_radius: float
+    gap: float
+    support: np.ndarray
+    iterations: int
+    converged: bool
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class GeodesicCenters(_CenterTable, _GroupedWithSupport):
+    """Geodesic minimax points of many groups, sorted by label (fields as
+    :class:`GeodesicCenter`, one per group; support rows in CSR layout)."""
+
+    _single: ClassVar[type[Result]] = GeodesicCenter
+
+    location: np.ndarray
+    weighted_radius: np.ndarray
+    gap: np.ndarray
+    iterations: np.ndarray
+    converged: np.ndarray
+
+
+@overload
+def minimax_point(
+    points: ArrayLike, weights: ArrayLike | None = None, *, groups: None = None, tol: float = 1e-9,
+    max_iter: int = 200, errors: Literal["raise", "skip"] = "raise",
+) -> GeodesicCenter: ...
+
+
+@overload
+def minimax_point(
+    points: ArrayLike, weights: ArrayLike | None = None, *, groups: ArrayLike, tol: float = 1e-9,
+    max_iter: int = 200, errors: Literal["raise", "skip"] = "raise",
+) -> GeodesicCenters: ...
+
+
+def minimax_point(
+    points: ArrayLike, weights: ArrayLike | None = None, *, groups: ArrayLike | None = None, tol: float = 1e-9,
+    max_iter: int = 200, errors: Literal["raise", "skip"] = "raise",
+) -> GeodesicCenter | GeodesicCenters:
+    """The weighted minimax point (1-center) on the ellipsoid: the site whose largest
+    weight × geodesic distance is least.
+
+    Parameters are those of :func:`weber_point` (``max_iter`` counts recentred planar
+    solves).
+
+    Returns
+    -------
+    GeodesicCenter or GeodesicCenters
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> a, b = [170.0, -40.0], [-170.0, -45.0]
+    >>> r = pw.geodesic.minimax_point([a, b])     # two points: the geodesic midpoint
+    >>> d = pw.geodesic.distance([a], [b])[0]
+    >>> bool(abs(r.weighted_radius - d / 2) < 1e-6), bool(r.converged)
+    (True, True)
+    """
+    if groups is None:
+        return GeodesicCenter(**_core.geodesic_minimax_single(points, weights, tol, max_iter), unit="m")
+    fields = _core.geodesic_minimax_grouped(points, weights, groups, tol, max_iter, errors)
+    return GeodesicCenters._from_core(fields, row_group=Grouped._row_groups_of(fields["labels"], groups), unit="m")
+
+
+# ------------------------------------------------------------------------------- circle
+
+
+def circle_polygon(center: ArrayLike, radius: float) -> Any:
+    """The geodesic circle of ``radius`` metres about ``center`` (lon/lat) as a shapely
+    polygon in longitude/latitude: a 256-gon whose vertices lie ``radius / cos(pi / 256)``
+    from the centre. A circle crossing the antimeridian is split there into a MultiPolygon
+    (as GeoJSON, RFC 7946 §3.1.9, asks); one around a pole is closed through the pole.
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> pw.geodesic.circle_polygon([180.0, -17.0], 50_000).geom_type      # split at ±180°
+    'MultiPolygon'
+    >>> cap = pw.geodesic.circle_polygon([0.0, 89.0], 300_000)            # holds the pole
+    >>> cap.geom_type, round(cap.bounds[3], 6)
+    ('Polygon', 90.0)
+    """
+    import shapely
+    from shapely import affinity
+
+    ring = _core.geodesic_circle_ring(np.asarray(center, dtype=np.float64).reshape(1, 2), radius,
+                                      _CIRCLE_VERTICES)["ring"]
+    lon, lat = ring[:, 0].copy(), ring[:, 1].copy()
+    # Winding of the unwrapped longitudes once round: ±360 when the circle holds a pole.
+    closing = lon[0] - lon[-1]
+    closing -= 360.0 * np.round(closing / 360.0)
+    turn = lon[-1] + closing - lon[0]
+    if abs(turn) > 180.0:
+        pole = 90.0 if np.mean(lat) > 0 else -90.0
+        end = lon[0] + turn
+        coords = np.vstack([np.column_stack([lon, lat]), [[end, lat[0]], [end, pole], [lon[0], pole]]])
+    else:
+        coords = np.column_stack([lon, lat])
+    shape = shapely.make_valid(shapely.Polygon(coords))
+    world = shapely.box(-180.0, -90.0, 180.0, 90.0)
+    parts = [shapely.intersection(affinity.translate(shape, xoff=shift), world) for shift in (-360.0, 0.0, 360.0)]
+    parts = [p for p in parts if not p.is_empty and p.area > 0]
+    merged = shapely.union_all(parts)
+    polygons = [g for g in getattr(merged, "geoms", [merged]) if g.geom_type == "Polygon"]
+    return polygons[0] if len(polygons) == 1 else shapely.MultiPolygon(polygons)
+
+
+class _GeodesicCircleTable:
+    center: Any
+    radius: Any
+    area: Any
+    gap: Any
+    iterations: Any
+    converged: Any
+    _u: Any
+
+    def _columns(self) -> dict[str, Any]:
+        return {**_xy(self.center), self._u("radius"): _one(self.radius), self._u("area", 2): _one(self.area),
+                self._u("gap"): _one(self.gap), "iterations": _one(self.iterations),
+                "converged": _one(self.converged)}
+
+    def _geometry(self) -> Any:
+        centers = np.asarray(self.center, dtype=np.float64).reshape(-1, 2)
+        radii = _one(self.radius).astype(np.float64)
+        out = np.empty(len(centers), dtype=object)
+        for k, (c, r) in enumerate(zip(centers, radii, strict=True)):
+            out[k] = circle_polygon(c, float(r)) if np.isfinite(c).all() and np.isfinite(r) else None
+        return out
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class GeodesicCircle(_GeodesicCircleTable, Result):
+    """The smallest geodesic circle covering longitude/latitude points.
+
+    Attributes
+    ----------
+    center : ndarray, shape (2,)
+        ``[longitude, latitude]``.
+    radius : float
+        Largest geodesic distance from the centre to a point, metres.
+    area : float
+        Area of the geodesic disc on the ellipsoid, square metres.
+    gap : float
+        Proven bound on ``radius - optimum``, metres.
+    support : ndarray of int
+    iterations : int
+    converged : bool
+
+    ``to_frame()`` gives ``x``, ``y`` (the centre's longitude, latitude), ``radius_m``,
+    ``area_m2``, ``gap_m``, ``iterations``, ``converged``; ``to_geodataframe()`` adds the
+    circle polygon of :func:`circle_polygon` (longitude/latitude: pass ``crs="EPSG:4326"``).
+    """
+
+    center: np.ndarray
+    radius: float
+    area: float
+    gap: float
+    support: np.ndarray
+    iterations: int
+    converged: bool
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class GeodesicCircles(_GeodesicCircleTable, _GroupedWithSupport):
+    """Smallest geodesic circles of many groups, sorted by label (fields as
+    :class:`GeodesicCircle`, one per group; support rows in CSR layout)."""
+
+    _single: ClassVar[type[Result]] = GeodesicCircle
+
+    center: np.ndarray
+    radius: np.ndarray
+    area: np.ndarray
+    gap: np.ndarray
+    iterations: np.ndarray
+    converged: np.ndarray
+
+
+@overload
+def enclosing_circle(
+    points: ArrayLike, *, groups: None = None, tol: float = 1e-9, max_iter: int = 200,
+    errors: Literal["raise", "skip"] = "raise",
+) -> GeodesicCircle: ...
+
+
+@overload
+def enclosing_circle(
+    points: ArrayLike, *, groups: ArrayLike, tol: float = 1e-9, max_iter: int = 200,
+    errors: Literal["raise", "skip"] = "raise",
+) -> GeodesicCircles: ...
+
+
+def enclosing_circle(
+    points: ArrayLike, *, groups: ArrayLike | None = None, tol: float = 1e-9, max_iter: int = 200,
+    errors: Literal["raise", "skip"] = "raise",
+) -> GeodesicCircle | GeodesicCircles:
+    """The smallest geodesic circle covering longitude/latitude points (per group with
+    ``groups``): the unweighted :func:`minimax_point` with the disc's area.
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> c = pw.geodesic.enclosing_circle([[179.0, 0.0], [-179.0, 0.0]])
+    >>> round(c.radius / 1000, 3), round(abs(float(c.center[0])), 6)
+    (111.319, 180.0)
+    >>> c.to_geodataframe(crs="EPSG:4326").geometry.iloc[0].geom_type   # split at ±180°
+    'MultiPolygon'
+    """
+    if groups is None:
+        return GeodesicCircle(**_core.geodesic_circle_single(points, tol, max_iter), unit="m")
+    fields = _core.geodesic_circle_grouped(points, groups, tol, max_iter, errors)
+    return GeodesicCircles._from_core(fields, row_group=Grouped._row_groups_of(fields["labels"], groups), unit="m")
+
+
+# ------------------------------------------------------------------------------- nearest site
+
+
+@overload
+def nearest_site(
+    points: ArrayLike, sites: ArrayLike, weights: ArrayLike | None = None, *, groups: None = None,
+    site_groups: None = None, errors: Literal["raise", "skip"] = "raise",
+) -> Allocation: ...
+
+
+@overload
+def nearest_site(
+    points: ArrayLike, sites: ArrayLike, weights: ArrayLike | None = None, *, groups: ArrayLike,
+    site_groups: ArrayLike, errors: Literal["raise", "skip"] = "raise",
+) -> Allocations: ...
+
+
+def nearest_site(
+    points: ArrayLike, sites: ArrayLike, weights: ArrayLike | None = None, *, groups: ArrayLike | None = None,
+    site_groups: ArrayLike | None = None, errors: Literal["raise", "skip"] = "raise",
+) -> Allocation | Allocations:
+    """Allocate every longitude/latitude point to its geodesically nearest site.
+
+    The sites' Earth-centred positions go into a 3-D R*-tree; each point takes sites in
+    increasing chord length and measures them on the ellipsoid until the next chord exceeds
+    the best geodesic distance (a chord is never longer than a path on the surface), so the
+    answer is exact at any extent. Ties go to the smaller site index.
+
+    Returns
+    -------
+    Allocation or Allocations
+        As :func:`placewise.nearest_site`, with ``distance`` and ``cost`` in metres
+        (``distance_m``, ``cost_m``).
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> a = pw.geodesic.nearest_site([[179.5, 0.0], [-170.0, 5.0]], [[-179.5, 0.0], [170.0, 0.0]])
+    >>> a.assignment.tolist(), round(float(a.distance[0]) / 1000, 3)
+    ([0, 0], 111.319)
+    """
+    if groups is None and site_groups is None:
+        return Allocation(**_core.geodesic_nearest_single(points, sites, weights), points=as_points(points),
+                          sites=as_points(sites), unit="m")
+    if groups is None or site_groups is None:
+        from ._core import InputError
+
+        raise InputError("groups and site_groups go together: give both or neither")
+    fields = _core.geodesic_nearest_grouped(points, sites, weights, groups, site_groups, errors)
+    return Allocations._from_core(fields, points=as_points(points), sites=as_points(sites), unit="m")

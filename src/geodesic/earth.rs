@@ -1,0 +1,191 @@
+//! The WGS84 ellipsoid: validation of longitude/latitude input, the geodesic inverse and
+//! direct problems (Karney 2013, "Algorithms for geodesics", J. Geodesy 87, through the
+//! `geographiclib-rs` crate), the tangent-plane maps built from them, Earth-centred
+//! positions for spatial search, and geodesic lengths and areas.
+//!
+//! Points are `[longitude, latitude]` in degrees (x = longitude, as GIS frames store them).
+//! Lengths are metres, areas square metres.
+
+use geographiclib_rs::{DirectGeodesic, Geodesic, InverseGeodesic, PolygonArea, Winding};
+
+use crate::error::{Error, Result};
+use crate::geometry::{validate_points, Point};
+
+/// WGS84 semi-major axis, metres (NIMA TR8350.2 defining constant).
+pub(crate) const WGS84_A: f64 = 6_378_137.0;
+/// WGS84 flattening (NIMA TR8350.2 defining constant).
+pub(crate) const WGS84_F: f64 = 1.0 / 298.257_223_563;
+
+/// Validate longitude/latitude points: finite, at least `min_count`, latitude within
+/// [-90, 90] and longitude within [-540, 540] (one turn either side of the usual range).
+pub(crate) fn validate_lonlat(argument: &'static str, points: &[Point], min_count: usize) -> Result<()> {
+    validate_points(argument, points, min_count)?;
+    for (index, p) in points.iter().enumerate() {
+        if p[1].abs() > 90.0 {
+            return Err(Error::OutOfRange { argument, index, axis: "latitude", value: p[1], limit: 90.0 });
+        }
+        if p[0].abs() > 540.0 {
+            return Err(Error::OutOfRange { argument, index, axis: "longitude", value: p[0], limit: 540.0 });
+        }
+    }
+    Ok(())
+}
+
+/// The WGS84 ellipsoid and the geodesic problems on it.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Earth {
+    g: Geodesic,
+}
+
+/// A point seen from a centre: the geodesic distance and the unit tangent vector (east,
+/// north) of the geodesic's azimuth at the centre.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Seen {
+    /// Geodesic distance, metres.
+    pub distance: f64,
+    /// Unit tangent at the centre towards the point, `[sin azimuth, cos azimuth]`.
+    pub direction: Point,
+}
+
+impl Earth {
+    pub(crate) fn wgs84() -> Earth {
+        Earth { g: Geodesic::new(WGS84_A, WGS84_F) }
+    }
+
+    /// Geodesic distance between two points, metres.
+    pub(crate) fn distance(&self, a: Point, b: Point) -> f64 {
+        let s: f64 = self.g.inverse(a[1], a[0], b[1], b[0]);
+        s
+    }
+
+    /// Distance and initial direction of the geodesic from `centre` to `a`.
+    pub(crate) fn seen_from(&self, centre: Point, a: Point) -> Seen {
+        let (s, azi1, _azi2, _a12): (f64, f64, f64, f64) = self.g.inverse(centre[1], centre[0], a[1], a[0]);
+        let (sin, cos) = azi1.to_radians().sin_cos();
+        Seen { distance: s, direction: [sin, cos] }
+    }
+
+    /// The exponential map at `centre` (inverse of the logarithm map
+    /// `a ↦ distance · direction` of [`Earth::seen_from`], the azimuthal equidistant frame
+    /// centred there): the point reached by the geodesic leaving `centre`
+    /// with azimuth `atan2(v.east, v.north)` after `|v|` metres. Longitude in [-180, 180].
+    pub(crate) fn exp(&self, centre: Point, v: Point) -> Point {
+        let s = v[0].hypot(v[1]);
+        if s == 0.0 {
+            return [normalised_longitude(centre[0]), centre[1]];
+        }
+        let azimuth = v[0].atan2(v[1]).to_degrees();
+        let (lat, lon): (f64, f64) = self.g.direct(centre[1], centre[0], azimuth, s);
+        [normalised_longitude(lon), lat]
+    }
+
+    /// Length of the geodesic polyline through `path`, metres.
+    pub(crate) fn path_length(&self, path: &[Point]) -> f64 {
+        let mut total = crate::geometry::CompensatedSum::default();
+        for pair in path.windows(2) {
+            total.add(self.distance(pair[0], pair[1]));
+        }
+        total.total()
+    }
+
+    /// Area of the geodesic polygon with vertices `ring` (closing edge implied), square
+    /// metres: positive when the vertices run counter-clockwise, negative otherwise
+    /// (GeographicLib's polygon area, Karney 2013 §6).
+    pub(crate) fn ring_area(&self, ring: &[Point]) -> f64 {
+        let mut polygon = PolygonArea::new(&self.g, Winding::CounterClockwise);
+        let n = if ring.len() > 1 && ring[0] == ring[ring.len() - 1] { ring.len() - 1 } else { ring.len() };
+        for p in &ring[..n] {
+            polygon.add_point(p[1], p[0]);
+        }
+        if n < 3 {
+            return 0.0;
+        }
+        let (_perimeter, area, _count) = polygon.compute(true);
+        area
+    }
+}
+
+/// A longitude reduced to [-180, 180].
+pub(crate) fn normalised_longitude(lon: f64) -> f64 {
+    let r = lon.rem_euclid(360.0);
+    if r > 180.0 {
+        r - 360.0
+    } else {
+        r
+    }
+}
+
+/// Unit vector of the ellipsoid's normal at a point (geodetic latitude), Earth-centred axes.
+pub(crate) fn unit_normal(p: Point) -> [f64; 3] {
+    let (sin_lat, cos_lat) = p[1].to_radians().sin_cos();
+    let (sin_lon, cos_lon) = p[0].to_radians().sin_cos();
+    [cos_lat * cos_lon, cos_lat * sin_lon, sin_lat]
+}
+
+/// Earth-centred, Earth-fixed position of a point on the ellipsoid's surface, metres.
+pub(crate) fn ecef(p: Point) -> [f64; 3] {
+    let e2 = WGS84_F * (2.0 - WGS84_F);
+    let (sin_lat, cos_lat) = p[1].to_radians().sin_cos();
+    let (sin_lon, cos_lon) = p[0].to_radians().sin_cos();
+    let n = WGS84_A / (1.0 - e2 * sin_lat * sin_lat).sqrt();
+    [n * cos_lat * cos_lon, n * cos_lat * sin_lon, n * (1.0 - e2) * sin_lat]
+}
+
+/// The point (geodetic longitude, latitude) whose ellipsoid normal is along `v` (non-zero).
+pub(crate) fn from_normal(v: [f64; 3]) -> Point {
+    let lon = v[1].atan2(v[0]).to_degrees();
+    let lat = v[2].atan2(v[0].hypot(v[1])).to_degrees();
+    [lon, lat]
+}
+
+/// Angle between two unit vectors, radians (robust for small and near-π angles).
+pub(crate) fn angle_between(a: [f64; 3], b: [f64; 3]) -> f64 {
+    let cross = [a[1] * b[2] - a[2] * b[1], a[2] * b[0] - a[0] * b[2], a[0] * b[1] - a[1] * b[0]];
+    let sin = (cross[0] * cross[0] + cross[1] * cross[1] + cross[2] * cross[2]).sqrt();
+    let cos = a[0] * b[0] + a[1] * b[1] + a[2] * b[2];
+    sin.atan2(cos)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn log_and_exp_are_inverse() {
+        let earth = Earth::wgs84();
+        for &(c, a) in &[
+            ([10.0, 50.0], [12.0, 51.0]),
+            ([179.5, -10.0], [-179.0, -12.0]),
+            ([0.0, 89.9], [180.0, 89.8]),
+            ([-70.0, -30.0], [100.0, 25.0]),
+        ] {
+            let seen = earth.seen_from(c, a);
+            let v = [seen.distance * seen.direction[0], seen.distance * seen.direction[1]];
+            let back = earth.exp(c, v);
+            assert!(earth.distance(back, a) < 1e-6, "{c:?} {a:?} {back:?}");
+        }
+    }
+
+    #[test]
+    fn quarter_meridian_matches_the_closed_form_series() {
+        // The meridian quadrant of WGS84 is 10 001 965.729 m (from memory; Karney 2013 quotes
+        // the meridian distance series it follows from).
+        let earth = Earth::wgs84();
+        let q = earth.distance([0.0, 0.0], [0.0, 90.0]);
+        assert!((q - 10_001_965.729).abs() < 1e-3, "{q}");
+    }
+
+    #[test]
+    fn ecef_is_on_the_ellipsoid_and_normals_are_unit() {
+        let b = WGS84_A * (1.0 - WGS84_F);
+        for p in [[0.0, 0.0], [45.0, 45.0], [-120.0, -89.0], [179.9, 10.0]] {
+            let x = ecef(p);
+            let level = (x[0] * x[0] + x[1] * x[1]) / (WGS84_A * WGS84_A) + x[2] * x[2] / (b * b);
+            assert!((level - 1.0).abs() < 1e-14);
+            let u = unit_normal(p);
+            assert!(((u[0] * u[0] + u[1] * u[1] + u[2] * u[2]) - 1.0).abs() < 1e-15);
+            let q = from_normal(u);
+            assert!((q[1] - p[1]).abs() < 1e-12);
+        }
+    }
+}

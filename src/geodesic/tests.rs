@@ -1,0 +1,132 @@
+//! Checks of the geodesic kernels against brute force and closed forms.
+
+use super::earth::Earth;
+use super::*;
+use crate::geometry::random::SplitMix64;
+use proptest::prelude::*;
+
+fn cost(points: &[Point], x: Point) -> f64 {
+    let earth = Earth::wgs84();
+    points.iter().map(|&p| earth.distance(x, p)).sum()
+}
+
+fn lonlat() -> impl Strategy<Value = Point> {
+    (-180.0f64..180.0, -90.0f64..=90.0).prop_map(|(x, y)| [x, y])
+}
+
+#[test]
+fn two_points_minimax_is_the_geodesic_midpoint() {
+    // Closed form: the 1-center of two points is the midpoint of the geodesic joining them,
+    // at half their distance from each.
+    let earth = Earth::wgs84();
+    for pair in [[[179.0, 10.0], [-178.0, -20.0]], [[0.0, 85.0], [180.0, 80.0]], [[10.0, 1.0], [60.0, 40.0]]] {
+        let r = geodesic_minimax_point(&pair, Weights::Unit, &CenterOptions::default()).unwrap();
+        let d = earth.distance(pair[0], pair[1]);
+        assert!((r.radius - d / 2.0).abs() < 1e-6, "{r:?} {d}");
+        assert!((earth.distance(r.location, pair[0]) - d / 2.0).abs() < 1e-6);
+        assert!((earth.distance(r.location, pair[1]) - d / 2.0).abs() < 1e-6);
+        assert!(r.converged && r.gap <= 1e-9 * r.radius + 1e-6, "{r:?}");
+    }
+}
+
+#[test]
+fn symmetric_about_the_equator_puts_the_weber_point_on_it() {
+    // Symmetry: the objective is unchanged by reflection in the equator and convex on the
+    // cap, so its unique minimiser lies on the equator.
+    let pts = [[170.0, 5.0], [170.0, -5.0], [-175.0, 12.0], [-175.0, -12.0], [178.0, 1.0], [178.0, -1.0]];
+    let r = geodesic_weber_point(&pts, Weights::Unit, &WeberOptions { tol: 1e-12, ..Default::default() }).unwrap();
+    assert!(r.location[1].abs() < 1e-8, "{r:?}");
+    assert!(r.converged);
+}
+
+#[test]
+fn weber_gap_bounds_the_error_and_the_point_is_locally_optimal() {
+    let mut rng = SplitMix64::new(7);
+    let pts: Vec<Point> = (0..300).map(|_| [170.0 + 20.0 * rng.next_f64(), -60.0 + 30.0 * rng.next_f64()]).collect();
+    let rough = geodesic_weber_point(&pts, Weights::Unit, &WeberOptions { tol: 1e-3, ..Default::default() }).unwrap();
+    let fine = geodesic_weber_point(&pts, Weights::Unit, &WeberOptions { tol: 1e-13, ..Default::default() }).unwrap();
+    assert!(rough.cost - fine.cost <= rough.gap);
+    assert!((cost(&pts, fine.location) - fine.cost).abs() <= 1e-9 * fine.cost);
+    // Brute force: no point 10 m away in eight directions is better.
+    let earth = Earth::wgs84();
+    for k in 0..8 {
+        let a = k as f64 * std::f64::consts::FRAC_PI_4;
+        let q = earth.exp(fine.location, [10.0 * a.sin(), 10.0 * a.cos()]);
+        assert!(cost(&pts, q) >= fine.cost * (1.0 - 1e-13));
+    }
+}
+
+#[test]
+fn more_than_a_hemisphere_is_refused() {
+    let pts = [[0.0, 0.0], [90.0, 0.0], [180.0, 0.0], [-90.0, 0.0]];
+    let e = geodesic_weber_point(&pts, Weights::Unit, &WeberOptions::default()).unwrap_err();
+    assert!(e.is_degenerate() && e.to_string().contains("hemisphere"), "{e}");
+    assert!(geodesic_minimax_point(&pts, Weights::Unit, &CenterOptions::default()).is_err());
+}
+
+#[test]
+fn out_of_range_latitude_names_the_row() {
+    let e = geodesic_weber_point(&[[0.0, 0.0], [1.0, 91.0]], Weights::Unit, &WeberOptions::default()).unwrap_err();
+    assert_eq!(e.row(), Some(1));
+    assert!(e.to_string().contains("latitude"), "{e}");
+}
+
+#[test]
+fn circle_around_the_pole_covers_its_points() {
+    let pts: Vec<Point> = (0..12).map(|k| [k as f64 * 30.0 - 180.0, 80.0 + (k % 3) as f64]).collect();
+    let c = geodesic_enclosing_circle(&pts, &CenterOptions::default()).unwrap();
+    let earth = Earth::wgs84();
+    for &p in &pts {
+        assert!(earth.distance(c.center.location, p) <= c.center.radius * (1.0 + 1e-12));
+    }
+    // Spherical cap area 2πR²(1 − cos θ) as a rough outside check (within 1 %).
+    let r = 6_371_008.8;
+    let cap = 2.0 * std::f64::consts::PI * r * r * (1.0 - (c.center.radius / r).cos());
+    assert!((c.area - cap).abs() < 0.01 * cap, "{} {}", c.area, cap);
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 48, ..ProptestConfig::default() })]
+
+    #[test]
+    fn nearest_site_equals_brute_force(points in prop::collection::vec(lonlat(), 1..60),
+                                       sites in prop::collection::vec(lonlat(), 1..25)) {
+        let a = geodesic_nearest_site(&points, &sites, Weights::Unit).unwrap();
+        let earth = Earth::wgs84();
+        for (i, &p) in points.iter().enumerate() {
+            let (mut best, mut best_d) = (0, f64::INFINITY);
+            for (j, &s) in sites.iter().enumerate() {
+                let d = earth.distance(p, s);
+                if d < best_d {
+                    best = j;
+                    best_d = d;
+                }
+            }
+            prop_assert!((a.distance[i] - best_d).abs() <= 1e-9 * best_d.max(1.0));
+            prop_assert!(a.index[i] == best || (earth.distance(p, sites[a.index[i]]) - best_d).abs() < 1e-9);
+        }
+    }
+
+    #[test]
+    fn weber_is_never_worse_than_a_data_point(centre in lonlat(), offsets in prop::collection::vec((-1.0f64..1.0, -1.0f64..1.0), 1..30)) {
+        let earth = Earth::wgs84();
+        let pts: Vec<Point> = offsets.iter().map(|&(e, n)| earth.exp(centre, [e * 2e6, n * 2e6])).collect();
+        let r = geodesic_weber_point(&pts, Weights::Unit, &WeberOptions::default()).unwrap();
+        let best = pts.iter().map(|&c| cost(&pts, c)).fold(f64::INFINITY, f64::min);
+        prop_assert!(r.cost <= best * (1.0 + 1e-12) + 1e-6);
+    }
+
+    #[test]
+    fn minimax_gap_is_honest(centre in lonlat(), offsets in prop::collection::vec((-1.0f64..1.0, -1.0f64..1.0), 1..30)) {
+        let earth = Earth::wgs84();
+        let pts: Vec<Point> = offsets.iter().map(|&(e, n)| earth.exp(centre, [e * 3e6, n * 3e6])).collect();
+        let r = geodesic_minimax_point(&pts, Weights::Unit, &CenterOptions::default()).unwrap();
+        let far = pts.iter().map(|&p| earth.distance(r.location, p)).fold(0.0, f64::max);
+        prop_assert!((far - r.radius).abs() <= 1e-6);
+        // The pair bound is a lower bound: no answer beats half the diameter.
+        let mut diameter = 0.0f64;
+        for &p in &pts { for &q in &pts { diameter = diameter.max(earth.distance(p, q)); } }
+        prop_assert!(r.radius >= diameter / 2.0 - 1e-6);
+        prop_assert!(r.radius - r.gap <= r.radius);
+    }
+}

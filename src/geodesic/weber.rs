@@ -1,0 +1,402 @@
+//! The weighted Fermat–Weber point on the WGS84 ellipsoid: the site `x` minimising
+//! `f(x) = Σ wᵢ · s(x, aᵢ)`, with `s` the geodesic distance.
+//!
+//! # Method
+//! Weiszfeld's iteration in the tangent plane at the current iterate (Fletcher,
+//! Venkatasubramanian & Joshi 2009, "The geometric median on Riemannian manifolds with
+//! application to robust atlas estimation", NeuroImage 45): each pass maps the points into
+//! the azimuthal equidistant frame centred at the iterate `x` with the logarithm map
+//! `log_x(a) = s(x, a)·(sin α, cos α)` (α the geodesic's azimuth at `x`, from the inverse
+//! problem; exact for distances and directions from `x`), takes the Weiszfeld step
+//! `v = Σ (wᵢ/sᵢ) log_x(aᵢ) / Σ (wᵢ/sᵢ)` there and moves along the geodesic with the direct
+//! problem, `x ← exp_x(v)`. At a data point the Vardi–Zhang (2001) step is used, near one
+//! Kuhn's (1973) test; safeguarded Newton steps with the sphere's Hessian of distance,
+//! `Σ wᵢ cot(sᵢ/R)/R (I − uᵢuᵢᵀ)`, speed up convergence. Every step is kept only if it lowers
+//! the exact geodesic objective.
+//!
+//! # Certificate
+//! The gradient of `s(·, a)` at `x` is exactly `−u` (`u` the unit tangent towards `a`), so
+//! the minimal-norm subgradient `g` of `f` at `x` is exact. When `f` is geodesically convex
+//! along the geodesic from `x` to an optimum `y*`, `f(y*) ≥ f(x) − ‖g‖·s(x, y*)`, and
+//! `s(x, y*) ≤ 2f(x)/W` by the triangle inequality; so `gap = ‖g‖·min(maxᵢ sᵢ, 2f/W)` bounds
+//! `cost − optimum` (plus an allowance for rounding and the inverse problem's accuracy).
+//!
+//! Convexity holds when every point lies within [`CONVEX_CAP_DEGREES`] of the points' mean
+//! direction (angles between ellipsoid normals): any two points of that cap are less than
+//! 88° of arc apart, where the Hessian of geodesic distance `(M/m)(I − uuᵀ)` is still
+//! positive semi-definite (the geodesic scale `M` first vanishes near 90° of arc; the
+//! flattening moves that by well under a degree). Outside that cap no certificate is claimed:
+//! `gap` is infinite and `converged` false, the location a stationary point found from the
+//! mean direction. Beyond a hemisphere ([`HEMISPHERE_DEGREES`]) the objective has several
+//! local optima in general and the kernel refuses.
+
+use rayon::prelude::*;
+
+use super::earth::{angle_between, from_normal, unit_normal, Earth};
+use crate::error::{Error, Result};
+use crate::geometry::{CompensatedSum, Point, Weights};
+use crate::median::WeberPoint;
+
+/// Largest angle (degrees) between the points' mean direction and any point for which the
+/// geodesic objective is certified convex on the cap holding them.
+pub const CONVEX_CAP_DEGREES: f64 = 44.0;
+/// Points farther than this (degrees) from their mean direction span more than a hemisphere.
+pub const HEMISPHERE_DEGREES: f64 = 90.0;
+/// Mean radius of the WGS84 ellipsoid, (2a + b)/3, metres: the sphere whose Hessian of
+/// distance shapes the Newton steps (steps are kept only if the exact objective falls).
+const MEAN_RADIUS: f64 = 6_371_008.771_4;
+/// Below this many points a pass runs on one thread.
+const PARALLEL_MIN_POINTS: usize = 4_096;
+/// Fixed chunk of a parallel pass; partial sums merged in chunk order (deterministic).
+const CHUNK: usize = 2_048;
+/// Relative rounding allowance, in units of the unit roundoff.
+const ROUNDING: f64 = 8.0 * f64::EPSILON;
+/// Absolute accuracy of one geodesic distance, metres: GeographicLib's inverse problem is
+/// accurate to about 15 nm on WGS84 (Karney 2013, §1); this allows twice that.
+pub(crate) const DISTANCE_ACCURACY_M: f64 = 3e-8;
+
+/// Where the points lie on the globe: their mean direction and the largest angle from it.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Spread {
+    /// The point whose ellipsoid normal is the mean of the points' normals.
+    pub centre: Point,
+    /// Largest angle from the mean direction to a point, degrees (180 when the normals
+    /// cancel out).
+    pub radius_degrees: f64,
+}
+
+/// The spread of the points of positive weight.
+pub(crate) fn spread(points: &[Point], weights: Weights<'_>) -> Spread {
+    let mut sum = [0.0f64; 3];
+    let normals: Vec<[f64; 3]> = points.iter().map(|&p| unit_normal(p)).collect();
+    for (i, u) in normals.iter().enumerate() {
+        if weights.get(i) > 0.0 {
+            for k in 0..3 {
+                sum[k] += u[k];
+            }
+        }
+    }
+    let length = (sum[0] * sum[0] + sum[1] * sum[1] + sum[2] * sum[2]).sqrt();
+    let count = (0..points.len()).filter(|&i| weights.get(i) > 0.0).count() as f64;
+    if !(length > 1e-9 * count) {
+        return Spread { centre: points[0], radius_degrees: 180.0 };
+    }
+    let mean = [sum[0] / length, sum[1] / length, sum[2] / length];
+    let mut radius = 0.0f64;
+    for (i, u) in normals.iter().enumerate() {
+        if weights.get(i) > 0.0 {
+            radius = radius.max(angle_between(mean, *u));
+        }
+    }
+    Spread { centre: from_normal(mean), radius_degrees: radius.to_degrees() }
+}
+
+/// Refuse points that span more than a hemisphere around their mean direction.
+pub(crate) fn within_hemisphere(spread: &Spread, what: &str) -> Result<()> {
+    if spread.radius_degrees >= HEMISPHERE_DEGREES {
+        return Err(Error::Degenerate {
+            argument: "points",
+            reason: format!(
+                "the points reach {:.1}° from their mean direction, more than a hemisphere; the geodesic {what} \
+                 has several local optima there in general. Solve regions of the globe separately (groups)",
+                spread.radius_degrees
+            ),
+        });
+    }
+    Ok(())
+}
+
+#[derive(Debug, Clone, Copy)]
+struct Pass {
+    cost: CompensatedSum,
+    grad: [CompensatedSum; 2],
+    inv: f64,
+    hess: [f64; 3],
+    eta: f64,
+    max_dist: f64,
+    nearest: usize,
+    nearest_dist: f64,
+    nearest_dir: Point,
+}
+
+impl Pass {
+    fn empty() -> Pass {
+        Pass {
+            cost: CompensatedSum::default(),
+            grad: [CompensatedSum::default(); 2],
+            inv: 0.0,
+            hess: [0.0; 3],
+            eta: 0.0,
+            max_dist: 0.0,
+            nearest: usize::MAX,
+            nearest_dist: f64::INFINITY,
+            nearest_dir: [0.0, 0.0],
+        }
+    }
+
+    fn merge(&mut self, other: &Pass) {
+        self.cost.merge(other.cost);
+        self.grad[0].merge(other.grad[0]);
+        self.grad[1].merge(other.grad[1]);
+        self.inv += other.inv;
+        for k in 0..3 {
+            self.hess[k] += other.hess[k];
+        }
+        self.eta += other.eta;
+        self.max_dist = self.max_dist.max(other.max_dist);
+        if other.nearest_dist < self.nearest_dist {
+            self.nearest = other.nearest;
+            self.nearest_dist = other.nearest_dist;
+            self.nearest_dir = other.nearest_dir;
+        }
+    }
+
+    fn cost(&self) -> f64 {
+        self.cost.total()
+    }
+
+    /// Gradient of the part smooth at x, in the tangent plane (east, north), weight units.
+    fn gradient(&self) -> Point {
+        [self.grad[0].total(), self.grad[1].total()]
+    }
+
+    fn subgradient_norm(&self) -> f64 {
+        let g = self.gradient();
+        (g[0].hypot(g[1]) - self.eta).max(0.0)
+    }
+}
+
+struct Problem<'a> {
+    earth: Earth,
+    points: &'a [Point],
+    weights: Weights<'a>,
+    total_weight: f64,
+    certified: bool,
+}
+
+impl Problem<'_> {
+    fn pass_over(&self, x: Point, start: usize, points: &[Point]) -> Pass {
+        let mut pass = Pass::empty();
+        for (offset, &a) in points.iter().enumerate() {
+            let i = start + offset;
+            let w = self.weights.get(i);
+            if w <= 0.0 {
+                continue;
+            }
+            let seen = self.earth.seen_from(x, a);
+            let d = seen.distance;
+            if d == 0.0 {
+                pass.eta += w;
+                continue;
+            }
+            let u = seen.direction;
+            pass.cost.add(w * d);
+            pass.grad[0].add(-w * u[0]);
+            pass.grad[1].add(-w * u[1]);
+            pass.inv += w / d;
+            let theta = d / MEAN_RADIUS;
+            let curvature = w * theta.cos() / (theta.sin() * MEAN_RADIUS);
+            pass.hess[0] += curvature * (1.0 - u[0] * u[0]);
+            pass.hess[1] -= curvature * u[0] * u[1];
+            pass.hess[2] += curvature * (1.0 - u[1] * u[1]);
+            pass.max_dist = pass.max_dist.max(d);
+            if d < pass.nearest_dist {
+                pass.nearest = i;
+                pass.nearest_dist = d;
+                pass.nearest_dir = u;
+            }
+        }
+        pass
+    }
+
+    fn evaluate(&self, x: Point) -> Pass {
+        if self.points.len() < PARALLEL_MIN_POINTS {
+            return self.pass_over(x, 0, self.points);
+        }
+        let partials: Vec<Pass> =
+            self.points.par_chunks(CHUNK).enumerate().map(|(c, chunk)| self.pass_over(x, c * CHUNK, chunk)).collect();
+        let mut total = Pass::empty();
+        for partial in &partials {
+            total.merge(partial);
+        }
+        total
+    }
+
+    fn gap(&self, pass: &Pass) -> f64 {
+        if !self.certified {
+            return f64::INFINITY;
+        }
+        let cost = pass.cost();
+        let radius = pass.max_dist.min(2.0 * cost / self.total_weight);
+        pass.subgradient_norm() * radius
+            + ROUNDING * (cost + self.total_weight * radius)
+            + self.total_weight * DISTANCE_ACCURACY_M
+    }
+
+    /// Stationary to the precision a step can still show.
+    fn stationary(&self, pass: &Pass, tol: f64) -> bool {
+        pass.subgradient_norm() <= tol * self.total_weight
+    }
+}
+
+fn progresses(new: &Pass, old: &Pass) -> bool {
+    let (c_new, c_old) = (new.cost(), old.cost());
+    c_new < c_old || (c_new <= c_old * (1.0 + ROUNDING) && new.subgradient_norm() < old.subgradient_norm())
+}
+
+/// Newton step in the tangent plane with the sphere's Hessian, when positive definite and
+/// no longer than the points' extent.
+fn newton_step(pass: &Pass) -> Option<Point> {
+    let [hxx, hxy, hyy] = pass.hess;
+    let det = hxx * hyy - hxy * hxy;
+    let trace = hxx + hyy;
+    if !(det > 1e-12 * trace * trace && trace > 0.0) {
+        return None;
+    }
+    let g = pass.gradient();
+    let step = [-(hyy * g[0] - hxy * g[1]) / det, -(hxx * g[1] - hxy * g[0]) / det];
+    (step[0].hypot(step[1]) <= pass.max_dist && step[0].is_finite() && step[1].is_finite()).then_some(step)
+}
+
+/// Weiszfeld's step in the tangent plane at x, with the Vardi–Zhang correction at a data
+/// point: `v = Σ wᵢ uᵢ / Σ (wᵢ/sᵢ) = −g / Σ (wᵢ/sᵢ)`.
+fn weiszfeld_step(pass: &Pass) -> Point {
+    let g = pass.gradient();
+    let t = [-g[0] / pass.inv, -g[1] / pass.inv];
+    if pass.eta == 0.0 {
+        return t;
+    }
+    let r = g[0].hypot(g[1]);
+    let keep = (pass.eta / r).min(1.0);
+    [(1.0 - keep) * t[0], (1.0 - keep) * t[1]]
+}
+
+/// Kuhn's test, estimated near data point k: the resultant of the others at aₖ is about the
+/// gradient without k's own term (`−wₖ uₖ`).
+fn data_point_looks_optimal(problem: &Problem<'_>, pass: &Pass) -> bool {
+    let k = pass.nearest;
+    if k == usize::MAX {
+        return false;
+    }
+    let wk = problem.weights.get(k);
+    let g = pass.gradient();
+    let others = [g[0] + wk * pass.nearest_dir[0], g[1] + wk * pass.nearest_dir[1]];
+    others[0].hypot(others[1]) <= 1.01 * wk || pass.nearest_dist <= 1e-9 * pass.max_dist
+}
+
+/// Solve. Inputs validated (longitude/latitude, weights); at least one weight positive.
+pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: usize) -> Result<WeberPoint> {
+    let spread = spread(points, weights);
+    within_hemisphere(&spread, "Fermat–Weber objective")?;
+    let mut total = CompensatedSum::default();
+    let mut heaviest = 0;
+    for i in 0..points.len() {
+        total.add(weights.get(i));
+        if weights.get(i) > weights.get(heaviest) {
+            heaviest = i;
+        }
+    }
+    let problem = Problem {
+        earth: Earth::wgs84(),
+        points,
+        weights,
+        total_weight: total.total(),
+        certified: spread.radius_degrees <= CONVEX_CAP_DEGREES,
+    };
+    let finish = |x: Point, pass: &Pass, iterations: usize| {
+        let gap = problem.gap(pass);
+        WeberPoint {
+            location: [super::earth::normalised_longitude(x[0]), x[1]],
+            cost: pass.cost(),
+            gap,
+            iterations,
+            converged: gap <= tol * pass.cost() || pass.cost() == 0.0,
+        }
+    };
+    // Majority theorem (Witzgall 1964; its proof uses only the triangle inequality, so it
+    // holds for geodesic distance): a point with at least half the total weight is optimal.
+    let w_max = weights.get(heaviest);
+    if w_max >= problem.total_weight - w_max {
+        let x = points[heaviest];
+        let mut pass = problem.evaluate(x);
+        // Optimal exactly: the subgradient ball contains zero.
+        pass.eta = pass.eta.max(pass.gradient()[0].hypot(pass.gradient()[1]));
+        let mut r = finish(x, &pass, 1);
+        r.gap = 0.0;
+        r.converged = true;
+        return Ok(r);
+    }
+
+    let mut x = spread.centre;
+    let mut current = problem.evaluate(x);
+    let mut evaluations = 1;
+    let mut last_tested: Option<(usize, f64)> = None;
+    loop {
+        let done = if problem.certified {
+            problem.gap(&current) <= tol * current.cost()
+        } else {
+            problem.stationary(&current, tol)
+        };
+        if done || current.cost() == 0.0 || evaluations >= max_iter {
+            return Ok(finish(x, &current, evaluations));
+        }
+        if current.eta == 0.0 && data_point_looks_optimal(&problem, &current) {
+            let k = current.nearest;
+            let retry = match last_tested {
+                Some((j, d)) => j != k || current.nearest_dist < 0.1 * d,
+                None => true,
+            };
+            if retry {
+                last_tested = Some((k, current.nearest_dist));
+                let at = points[k];
+                let trial = problem.evaluate(at);
+                evaluations += 1;
+                if progresses(&trial, &current) {
+                    x = at;
+                    current = trial;
+                    continue;
+                }
+                if evaluations >= max_iter {
+                    return Ok(finish(x, &current, evaluations));
+                }
+            }
+        }
+        if current.eta == 0.0 {
+            if let Some(step) = newton_step(&current) {
+                let xn = problem.earth.exp(x, step);
+                let trial = problem.evaluate(xn);
+                evaluations += 1;
+                if progresses(&trial, &current) {
+                    x = xn;
+                    current = trial;
+                    continue;
+                }
+                if evaluations >= max_iter {
+                    return Ok(finish(x, &current, evaluations));
+                }
+            }
+        }
+        // Weiszfeld's step; on the curved surface it is a descent direction, and a shorter
+        // step is tried when the full one overshoots.
+        let mut step = weiszfeld_step(&current);
+        let mut moved = false;
+        for _ in 0..4 {
+            let xw = problem.earth.exp(x, step);
+            let trial = problem.evaluate(xw);
+            evaluations += 1;
+            if progresses(&trial, &current) {
+                x = xw;
+                current = trial;
+                moved = true;
+                break;
+            }
+            if evaluations >= max_iter {
+                break;
+            }
+            step = [step[0] / 4.0, step[1] / 4.0];
+        }
+        if !moved {
+            return Ok(finish(x, &current, evaluations));
+        }
+    }
+}
