@@ -7,6 +7,7 @@
 //! - `partition`: Delaunay triangulation, clipped Voronoi cells, nearest-site allocation (catchments).
 //! - `network`: Euclidean minimum spanning tree and Steiner trees.
 //! - `multi`: continuous p-median and p-center.
+//! - `capacity`: capacitated allocation (transportation problem) and capacitated p-median.
 //! - `batch`: the grouped runner every kernel uses for many groups at once.
 //! - `geometry`: shared point helpers, the one working frame and location key, exact predicates.
 //! - `error`: the crate's one error type.
@@ -24,6 +25,7 @@
 
 mod batch;
 pub mod cancel;
+mod capacity;
 mod discrete;
 mod enclose;
 mod error;
@@ -40,6 +42,10 @@ mod py;
 // The public Rust interface: the kernels, their options and results, and the types they
 // share. Everything else (helpers, frames, predicates) is private to the crate.
 pub use batch::{Grouped, OnGroupError, RowPlaces};
+pub use capacity::{
+    capacitated_p_median, capacity_allocation, AllocationOptions, CapacitatedMedian, CapacitatedMedianOptions,
+    CapacityAllocation,
+};
 pub use discrete::{
     cover_all, cover_most, discrete_p_center, discrete_p_median, euclidean_costs, evaluate_sites, CostMatrix, CoverAll,
     CoverMost, Coverage, DiscreteCenter, DiscreteMedian, DiscreteMedianOptions, SiteService, MAX_COST_CELLS,

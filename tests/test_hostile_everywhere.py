@@ -38,8 +38,12 @@ KERNELS: dict[str, Callable[..., Any]] = {
     "steiner_tree": lambda p, w=None: pw.steiner_tree(p),
     "p_median": lambda p, w=None: pw.p_median(p, 2, w),
     "p_center": lambda p, w=None: pw.p_center(p, 2, w),
+    "capacity_allocation": lambda p, w=None: pw.capacity_allocation(p, SITES, [1e9, 1e9, 1e9], w),
+    "capacity_allocation(sites)": lambda p, w=None: pw.capacity_allocation(SITES, p, np.full(len(p), 10.0)),
+    "capacitated_p_median": lambda p, w=None: pw.capacitated_p_median(p, 2, [1e9, 1e9], w),
 }
-WEIGHTED = {"weber_point", "weber_point(manhattan)", "minimax_point", "nearest_site", "p_median", "p_center"}
+WEIGHTED = {"weber_point", "weber_point(manhattan)", "minimax_point", "nearest_site", "p_median", "p_center",
+            "capacity_allocation", "capacitated_p_median"}
 
 
 NAMES = list(KERNELS)

@@ -141,3 +141,14 @@ def discrete_cover_all(costs: Any, radius: Any, weights: ArrayLike | None, fixed
 def discrete_cover_most(
     costs: Any, p: Any, radius: Any, weights: ArrayLike | None, fixed: ArrayLike | None
 ) -> _Fields: ...
+
+# --- capacity (src/py/capacity.rs) ---
+
+def capacity_allocate(
+    points: ArrayLike, sites: ArrayLike, capacities: ArrayLike, weights: ArrayLike | None, split: bool,
+    allow_unserved: bool,
+) -> _Fields: ...
+def capacity_p_median(
+    points: ArrayLike, p: Any, capacities: ArrayLike, weights: ArrayLike | None, candidates: ArrayLike | None,
+    seed: Any, max_rounds: Any,
+) -> _Fields: ...

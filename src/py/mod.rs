@@ -7,6 +7,7 @@
 
 use pyo3::prelude::*;
 
+mod capacity;
 mod convert;
 mod discrete;
 mod enclose;
@@ -33,6 +34,7 @@ fn core_module(m: &Bound<'_, PyModule>) -> PyResult<()> {
     enclose::register(m)?;
     multi::register(m)?;
     discrete::register(m)?;
+    capacity::register(m)?;
     m.add("__version__", env!("CARGO_PKG_VERSION"))?;
     Ok(())
 }
