@@ -116,6 +116,13 @@ pub enum Error {
         /// What was expected and what was given.
         reason: String,
     },
+    /// Total capacity is below total demand (and unserved demand is not allowed).
+    Shortfall {
+        /// Total demand (sum of the weights).
+        demand: f64,
+        /// Total capacity.
+        capacity: f64,
+    },
     /// An error inside one group of a grouped run.
     InGroup {
         /// The group's label.
@@ -235,6 +242,13 @@ impl Error {
                 plain(*cost)
             ),
             Error::InvalidParameter { name, reason } => format!("{name}: {reason}"),
+            Error::Shortfall { demand, capacity } => format!(
+                "capacities: total capacity {} is below total demand {}, {} short; raise capacities or \
+                 allow unserved demand",
+                plain(*capacity),
+                plain(*demand),
+                plain(*demand - *capacity)
+            ),
             Error::InGroup { label, source } => format!("group {}: {}", namer.group(*label), source.describe(namer)),
         }
     }
@@ -252,6 +266,7 @@ impl Error {
             | Error::RepeatedPoint { argument, .. }
             | Error::InvalidCost { argument, .. } => argument,
             Error::Uncoverable { .. } => "points",
+            Error::Shortfall { .. } => "capacities",
             Error::InvalidParameter { name, .. } => name,
             Error::InGroup { source, .. } => source.argument(),
         }

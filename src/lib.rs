@@ -10,6 +10,7 @@
 //! - `geodesic`: longitude/latitude input on the WGS84 ellipsoid (Karney 2013 geodesics):
 //!   distances, lengths and areas, Fermat–Weber and minimax points, enclosing circles and
 //!   nearest-site allocation at any extent.
+//! - `capacity`: capacitated allocation (transportation problem) and capacitated p-median.
 //! - `batch`: the grouped runner every kernel uses for many groups at once.
 //! - `geometry`: shared point helpers, the one working frame and location key, exact predicates.
 //! - `error`: the crate's one error type.
@@ -27,6 +28,7 @@
 
 mod batch;
 pub mod cancel;
+mod capacity;
 mod discrete;
 mod enclose;
 mod error;
@@ -44,6 +46,10 @@ mod py;
 // The public Rust interface: the kernels, their options and results, and the types they
 // share. Everything else (helpers, frames, predicates) is private to the crate.
 pub use batch::{Grouped, OnGroupError, RowPlaces};
+pub use capacity::{
+    capacitated_p_median, capacity_allocation, AllocationOptions, CapacitatedMedian, CapacitatedMedianOptions,
+    CapacityAllocation,
+};
 pub use discrete::{
     cover_all, cover_most, discrete_p_center, discrete_p_median, euclidean_costs, evaluate_sites, CostMatrix, CoverAll,
     CoverMost, Coverage, DiscreteCenter, DiscreteMedian, DiscreteMedianOptions, SiteService, MAX_COST_CELLS,

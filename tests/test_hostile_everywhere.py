@@ -47,9 +47,13 @@ KERNELS: dict[str, Callable[..., Any]] = {
     "geodesic.path_length": lambda p, w=None: pw.geodesic.path_length(p),
     "geodesic.ring_area": lambda p, w=None: pw.geodesic.ring_area(p),
     "geodesic.distance": lambda p, w=None: pw.geodesic.distance(p, p),
+    "capacity_allocation": lambda p, w=None: pw.capacity_allocation(p, SITES, [1e9, 1e9, 1e9], w),
+    "capacity_allocation(sites)": lambda p, w=None: pw.capacity_allocation(SITES, p, np.full(len(p), 10.0)),
+    "capacitated_p_median": lambda p, w=None: pw.capacitated_p_median(p, 2, [1e9, 1e9], w),
 }
 WEIGHTED = {"weber_point", "weber_point(manhattan)", "minimax_point", "nearest_site", "p_median", "p_center",
-            "geodesic.weber_point", "geodesic.minimax_point", "geodesic.nearest_site"}
+            "geodesic.weber_point", "geodesic.minimax_point", "geodesic.nearest_site",
+            "capacity_allocation", "capacitated_p_median"}
 
 
 NAMES = list(KERNELS)

@@ -16,6 +16,7 @@ from typing import Any
 
 from . import _core
 from ._core import DegenerateInputError, InputError
+from .capacity import CapacitatedMedianPlan, CapacityPlan, capacitated_p_median, capacity_allocation
 from .enclose import (
     Circle,
     Circles,
@@ -66,6 +67,8 @@ def __dir__() -> list[str]:
 __all__ = [
     "Allocation",
     "Allocations",
+    "CapacitatedMedianPlan",
+    "CapacityPlan",
     "CenterPlan",
     "CenterPlans",
     "Circle",
@@ -88,6 +91,8 @@ __all__ = [
     "VoronoiCells",
     "WeberPoint",
     "WeberPoints",
+    "capacitated_p_median",
+    "capacity_allocation",
     "delaunay",
     "enclosing_circle",
     "enclosing_ellipse",

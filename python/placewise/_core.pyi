@@ -163,3 +163,14 @@ def geodesic_nearest_grouped(
     points: ArrayLike, sites: ArrayLike, weights: ArrayLike | None, groups: ArrayLike, site_groups: ArrayLike,
     errors: str,
 ) -> _Fields: ...
+
+# --- capacity (src/py/capacity.rs) ---
+
+def capacity_allocate(
+    points: ArrayLike, sites: ArrayLike, capacities: ArrayLike, weights: ArrayLike | None, split: bool,
+    allow_unserved: bool,
+) -> _Fields: ...
+def capacity_p_median(
+    points: ArrayLike, p: Any, capacities: ArrayLike, weights: ArrayLike | None, candidates: ArrayLike | None,
+    seed: Any, max_rounds: Any,
+) -> _Fields: ...

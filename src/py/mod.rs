@@ -7,6 +7,7 @@
 
 use pyo3::prelude::*;
 
+mod capacity;
 mod convert;
 mod discrete;
 mod enclose;
@@ -35,6 +36,7 @@ fn core_module(m: &Bound<'_, PyModule>) -> PyResult<()> {
     multi::register(m)?;
     discrete::register(m)?;
     geodesic::register(m)?;
+    capacity::register(m)?;
     m.add("__version__", env!("CARGO_PKG_VERSION"))?;
     Ok(())
 }

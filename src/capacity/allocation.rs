@@ -1,0 +1,371 @@
+//! Capacitated allocation: demand to given sites at least total distance within capacities.
+//!
+//! - Split demand (`split = true`): the transportation problem, solved exactly by
+//!   [`super::transport`]. The optimal capacity prices `y_j` certify it: every point is served
+//!   only by sites minimising `distance + y_j`, and `y_j = 0` wherever a site has slack.
+//! - Single source (`split = false`): the split plan is rounded. Its points served by several
+//!   sites (at most `m − 1` of them in a vertex solution) are placed whole, heaviest first,
+//!   at the cheapest site that still has room. The split plan's cost is a lower bound on any
+//!   single-source plan (it is the linear-programming relaxation), so the reported
+//!   `relative_gap` is proven.
+//! - Shortfall: when the capacities cannot hold the demand, the caller either gets
+//!   [`Error::Shortfall`] or, with `allow_unserved`, a virtual site of capacity equal to the
+//!   shortfall and the same cost `C` from every point takes it. As every plan sends exactly
+//!   the shortfall there, `C` does not change the optimum: the plan serves the most demand
+//!   possible at least cost, and what it leaves unserved is reported per point.
+
+use super::transport::{transport, Flows, Plan};
+use super::{relative_gap, shortfall, validate};
+use crate::error::{Error, Result};
+use crate::geometry::{distance, BoundingBox, CompensatedSum, Point, Weights};
+
+/// Options of [`capacity_allocation`].
+#[derive(Debug, Clone, Copy)]
+pub struct AllocationOptions {
+    /// May a point's demand be split between sites (exact transportation plan)? When false,
+    /// each point is served whole by one site (heuristic with a proven gap).
+    pub split: bool,
+    /// Leave demand unserved when total capacity is short instead of refusing.
+    pub allow_unserved: bool,
+}
+
+impl Default for AllocationOptions {
+    fn default() -> Self {
+        AllocationOptions { split: true, allow_unserved: false }
+    }
+}
+
+/// A capacitated allocation. Costs are demand × distance; distances are in input units.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CapacityAllocation {
+    /// Per point, the site serving the largest share of its demand (`None`: unserved).
+    pub assignment: Vec<Option<usize>>,
+    /// Per point, the share (0–1) of its demand that `assignment` serves.
+    pub share: Vec<f64>,
+    /// Per point, the distance to `assignment` (NaN when unserved).
+    pub distance: Vec<f64>,
+    /// Per point, `Σ_j amount_ij · distance_ij` over every site serving it.
+    pub cost: Vec<f64>,
+    /// Per point, the demand left unserved.
+    pub unserved: Vec<f64>,
+    /// Every `(point, site, amount)` of the points served by more than one site (rows
+    /// ascending by point, then site).
+    pub parts: Vec<(usize, usize, f64)>,
+    /// Per site, the demand it serves.
+    pub load: Vec<f64>,
+    /// Per site, `capacity − load`.
+    pub slack: Vec<f64>,
+    /// Per site, the optimal capacity price of the split plan (distance units per unit of
+    /// demand; 0 where the site has slack): the dual certificate of optimality.
+    pub price: Vec<f64>,
+    /// `Σ cost`.
+    pub total_cost: f64,
+    /// `Σ weights`.
+    pub total_demand: f64,
+    /// `Σ unserved`.
+    pub total_unserved: f64,
+    /// Cost of the optimal split plan: a proven lower bound on `total_cost`.
+    pub lower_bound: f64,
+    /// `(total_cost − lower_bound) / total_cost`: 0 for the split plan; NaN when a
+    /// single-source plan leaves more demand unserved than the split plan (costs of
+    /// different served amounts are not comparable).
+    pub relative_gap: f64,
+    /// Whether demand was allowed to split.
+    pub split: bool,
+    /// Augmenting paths the transportation solver used.
+    pub augmentations: usize,
+}
+
+/// Solve the split transportation plan over `sites` with `capacities`; with a shortfall a
+/// virtual last site of that capacity takes the unserved demand at one cost from every point.
+pub(crate) fn split_plan(
+    points: &[Point],
+    sites: &[Point],
+    capacities: &[f64],
+    weights: Weights<'_>,
+    short: f64,
+    cost: impl Fn(Point, Point) -> f64 + Sync,
+) -> Result<Plan> {
+    let demand: Vec<f64> = (0..points.len()).map(|i| weights.get(i)).collect();
+    let mut capacity = capacities.to_vec();
+    let m = sites.len();
+    // The virtual site's cost: at least every real cost, so no point starts there.
+    let mut span = points.to_vec();
+    span.extend_from_slice(sites);
+    let bbox = BoundingBox::of(&span).expect("points are not empty");
+    let virtual_cost = cost(bbox.min, bbox.max);
+    if short > 0.0 {
+        capacity.push(short);
+    }
+    transport(&demand, &capacity, &|i, j| if j < m { cost(points[i], sites[j]) } else { virtual_cost })
+}
+
+/// Serve weighted demand from `sites` with `capacities` at least total distance.
+///
+/// # Errors
+/// Bad points, sites, weights or capacities (see [`super::validate`]);
+/// [`Error::Shortfall`] when total capacity is below total demand and
+/// `options.allow_unserved` is false; [`Error::Degenerate`] naming `capacities` when
+/// `split = false` finds no single-source placement for a point (no site has room for it
+/// whole) and unserved demand is not allowed.
+///
+/// # Runtime
+/// O(n·m) to start, then O(m²) per augmenting path; about the number of points that cannot
+/// go to their nearest site.
+pub fn capacity_allocation(
+    points: &[Point],
+    sites: &[Point],
+    capacities: &[f64],
+    weights: Weights<'_>,
+    options: &AllocationOptions,
+) -> Result<CapacityAllocation> {
+    Ok(allocate_with_flows(points, sites, capacities, weights, options)?.0)
+}
+
+/// [`capacity_allocation`] and the plan's flows: per point, `(site, amount)` (site `m`: the
+/// virtual site of unserved demand).
+pub(crate) fn allocate_with_flows(
+    points: &[Point],
+    sites: &[Point],
+    capacities: &[f64],
+    weights: Weights<'_>,
+    options: &AllocationOptions,
+) -> Result<(CapacityAllocation, Flows)> {
+    let (demand, capacity) = validate(points, sites, capacities, weights)?;
+    let short = shortfall(demand, capacity, options.allow_unserved)?;
+    let plan = split_plan(points, sites, capacities, weights, short, distance)?;
+    let m = sites.len();
+    let mut flows = plan.flows;
+    let lower_bound = served_cost(points, sites, &flows, m);
+    if !options.split {
+        single_source(points, sites, capacities, weights, &mut flows, options.allow_unserved)?;
+    }
+    let mut out = describe(points, sites, capacities, weights, &flows, demand);
+    out.price = plan.price[..m].to_vec();
+    out.lower_bound = lower_bound;
+    out.split = options.split;
+    out.augmentations = plan.augmentations;
+    let comparable = out.total_unserved <= short + 1e-9 * demand.max(1.0);
+    out.relative_gap = if comparable { relative_gap(out.total_cost, lower_bound) } else { f64::NAN };
+    Ok((out, flows))
+}
+
+/// `Σ amount · distance` over the real sites (compensated).
+fn served_cost(points: &[Point], sites: &[Point], flows: &[Vec<(u32, f64)>], m: usize) -> f64 {
+    let mut sum = CompensatedSum::default();
+    for (i, f) in flows.iter().enumerate() {
+        for &(j, x) in f {
+            if (j as usize) < m {
+                sum.add(x * distance(points[i], sites[j as usize]));
+            }
+        }
+    }
+    sum.total()
+}
+
+/// Round a split plan to single sources: points served by several sites (or partly by the
+/// virtual one) go whole, heaviest first (then by row), to the cheapest site with room for
+/// them; with `allow_unserved` a point no site has room for is left unserved.
+fn single_source(
+    points: &[Point],
+    sites: &[Point],
+    capacities: &[f64],
+    weights: Weights<'_>,
+    flows: &mut [Vec<(u32, f64)>],
+    allow_unserved: bool,
+) -> Result<()> {
+    let m = sites.len();
+    let mut load = vec![0.0; m];
+    let mut open: Vec<usize> = Vec::new();
+    for (i, f) in flows.iter().enumerate() {
+        match f.as_slice() {
+            [(j, x)] if (*j as usize) < m => load[*j as usize] += x,
+            [(_, _)] | [] => {}
+            _ => open.push(i),
+        }
+    }
+    open.sort_by(|&a, &b| weights.get(b).total_cmp(&weights.get(a)).then(a.cmp(&b)));
+    let total: f64 = capacities.iter().sum();
+    let slop = 1e-12 * total.max(1.0);
+    for i in open {
+        let w = weights.get(i);
+        let mut order: Vec<usize> = (0..m).collect();
+        order.sort_by(|&a, &b| distance(points[i], sites[a]).total_cmp(&distance(points[i], sites[b])).then(a.cmp(&b)));
+        match order.into_iter().find(|&j| capacities[j] - load[j] >= w - slop) {
+            Some(j) => {
+                load[j] += w;
+                flows[i] = vec![(j as u32, w)];
+            }
+            None if allow_unserved => flows[i] = vec![(m as u32, w)],
+            None => {
+                return Err(Error::Degenerate {
+                    argument: "capacities",
+                    reason: format!(
+                        "no site has room for the whole demand of points[{i}] ({w}) once the others are \
+                         placed; allow split demand or unserved demand"
+                    ),
+                })
+            }
+        }
+    }
+    Ok(())
+}
+
+/// The per-point and per-site tables of a plan (sites `0..m` real, `m` virtual).
+fn describe(
+    points: &[Point],
+    sites: &[Point],
+    capacities: &[f64],
+    weights: Weights<'_>,
+    flows: &[Vec<(u32, f64)>],
+    demand: f64,
+) -> CapacityAllocation {
+    let (n, m) = (points.len(), sites.len());
+    let mut out = CapacityAllocation {
+        assignment: vec![None; n],
+        share: vec![0.0; n],
+        distance: vec![f64::NAN; n],
+        cost: vec![0.0; n],
+        unserved: vec![0.0; n],
+        parts: Vec::new(),
+        load: vec![0.0; m],
+        slack: vec![0.0; m],
+        price: vec![0.0; m],
+        total_cost: 0.0,
+        total_demand: demand,
+        total_unserved: 0.0,
+        lower_bound: 0.0,
+        relative_gap: 0.0,
+        split: true,
+        augmentations: 0,
+    };
+    let mut total = CompensatedSum::default();
+    let mut unserved = CompensatedSum::default();
+    let mut loads = vec![CompensatedSum::default(); m];
+    for i in 0..n {
+        let w = weights.get(i);
+        let mut f = flows[i].clone();
+        f.sort_by_key(|e| e.0);
+        let mut best: Option<(usize, f64)> = None;
+        let mut cost = CompensatedSum::default();
+        for &(j, x) in &f {
+            let j = j as usize;
+            if j >= m {
+                out.unserved[i] += x;
+                continue;
+            }
+            cost.add(x * distance(points[i], sites[j]));
+            loads[j].add(x);
+            if best.is_none_or(|(_, bx)| x > bx) {
+                best = Some((j, x));
+            }
+        }
+        if f.len() > 1 {
+            out.parts.extend(f.iter().map(|&(j, x)| (i, j as usize, x)));
+        }
+        if w == 0.0 {
+            // No demand to serve: report the nearest site, share 0.
+            let j = (0..m).min_by(|&a, &b| distance(points[i], sites[a]).total_cmp(&distance(points[i], sites[b])));
+            best = j.map(|j| (j, 0.0));
+        }
+        if let Some((j, x)) = best {
+            out.assignment[i] = Some(j);
+            out.share[i] = if w > 0.0 { x / w } else { 0.0 };
+            out.distance[i] = distance(points[i], sites[j]);
+        }
+        out.cost[i] = cost.total();
+        total.add(out.cost[i]);
+        unserved.add(out.unserved[i]);
+    }
+    for j in 0..m {
+        out.load[j] = loads[j].total();
+        out.slack[j] = capacities[j] - out.load[j];
+    }
+    out.total_cost = total.total();
+    out.total_unserved = unserved.total();
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::partition::testing::lcg_cloud;
+
+    #[test]
+    fn ample_capacity_gives_nearest_site() {
+        let points = lcg_cloud(500, 3, [0.0, 0.0], 10.0);
+        let sites = lcg_cloud(7, 4, [0.0, 0.0], 10.0);
+        let a = capacity_allocation(&points, &sites, &[1e6; 7], Weights::Unit, &AllocationOptions::default()).unwrap();
+        for (i, p) in points.iter().enumerate() {
+            let near = (0..7).map(|j| distance(*p, sites[j])).fold(f64::INFINITY, f64::min);
+            assert_eq!(a.distance[i], near);
+        }
+        assert!(a.price.iter().all(|&y| y == 0.0));
+    }
+
+    #[test]
+    fn loads_respect_capacities_and_prices_certify_optimality() {
+        let points = lcg_cloud(2000, 5, [0.0, 0.0], 10.0);
+        let sites = lcg_cloud(12, 6, [0.0, 0.0], 10.0);
+        let caps: Vec<f64> = (0..12).map(|j| 100.0 + 20.0 * j as f64).collect();
+        let a = capacity_allocation(&points, &sites, &caps, Weights::Unit, &AllocationOptions::default()).unwrap();
+        for ((l, c), (s, y)) in a.load.iter().zip(&caps).zip(a.slack.iter().zip(&a.price)) {
+            assert!(*l <= c + 1e-9);
+            if *s > 1e-9 {
+                assert_eq!(*y, 0.0);
+            }
+        }
+        // Complementary slackness: each point's sites minimise distance + price.
+        for (i, p) in points.iter().enumerate() {
+            let best = (0..12).map(|j| distance(*p, sites[j]) + a.price[j]).fold(f64::INFINITY, f64::min);
+            let j = a.assignment[i].unwrap();
+            assert!(distance(*p, sites[j]) + a.price[j] <= best + 1e-9);
+        }
+        let single = capacity_allocation(
+            &points,
+            &sites,
+            &caps,
+            Weights::Unit,
+            &AllocationOptions { split: false, allow_unserved: false },
+        )
+        .unwrap();
+        assert!(single.total_cost >= a.total_cost - 1e-9);
+        assert!(single.share.iter().all(|&s| s == 1.0));
+        assert!(single.relative_gap >= 0.0 && single.relative_gap < 0.05);
+    }
+
+    #[test]
+    fn shortfall_is_refused_or_reported() {
+        let points = lcg_cloud(50, 8, [0.0, 0.0], 1.0);
+        let sites = [[0.0, 0.0], [1.0, 1.0]];
+        let e = capacity_allocation(&points, &sites, &[10.0, 15.0], Weights::Unit, &AllocationOptions::default())
+            .unwrap_err();
+        assert_eq!(e, Error::Shortfall { demand: 50.0, capacity: 25.0 });
+        assert!(e.to_string().contains("25 short"));
+        let a = capacity_allocation(
+            &points,
+            &sites,
+            &[10.0, 15.0],
+            Weights::Unit,
+            &AllocationOptions { split: true, allow_unserved: true },
+        )
+        .unwrap();
+        assert!((a.total_unserved - 25.0).abs() < 1e-9);
+        assert!((a.load[0] - 10.0).abs() < 1e-9 && (a.load[1] - 15.0).abs() < 1e-9);
+    }
+
+    #[test]
+    fn bad_capacities_name_argument_and_row() {
+        let points = [[0.0, 0.0]];
+        let sites = [[0.0, 0.0], [1.0, 0.0], [0.0, 0.0]];
+        let run = |c: &[f64]| {
+            capacity_allocation(&points, &sites, c, Weights::Unit, &AllocationOptions::default())
+                .unwrap_err()
+                .to_string()
+        };
+        assert_eq!(run(&[1.0, -1.0, 1.0]), "capacities must be finite and >= 0; capacities[1] = -1");
+        assert!(run(&[1.0, f64::NAN, 1.0]).starts_with("capacities must be finite"));
+        assert!(run(&[1.0, 1.0]).contains("one entry per site (3); got 2"));
+        assert!(run(&[1.0, 1.0, 2.0]).contains("sites[2] repeats the location of sites[0]"));
+    }
+}

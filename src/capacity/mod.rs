@@ -1,0 +1,98 @@
+//! Capacities: demand served by sites that can each take only so much.
+//!
+//! - [`capacity_allocation`]: given sites with capacities, serve the demand at least total
+//!   distance: exact as a transportation problem when a point's demand may be split, a
+//!   single-source assignment with a proven gap from the split plan when it may not.
+//! - [`capacitated_p_median`]: choose `p` sites with capacities (location–allocation).
+//!
+//! The exact solver for the transportation problem (successive shortest paths condensed over
+//! the few sites) lives in `transport`; every model here calls it.
+
+mod allocation;
+mod median;
+mod transport;
+
+pub use allocation::{capacity_allocation, AllocationOptions, CapacityAllocation};
+pub use median::{capacitated_p_median, CapacitatedMedian, CapacitatedMedianOptions};
+
+use crate::error::{Error, Result};
+use crate::geometry::{validate_points, validate_weights, CompensatedSum, Point, Weights};
+
+/// Check points, sites, capacities and weights; returns the total demand and capacity.
+///
+/// # Errors
+/// Bad coordinates ([`Error::NonFiniteCoordinate`], [`Error::TooFewPoints`]); bad weights;
+/// [`Error::InvalidParameter`] naming `capacities` for a wrong length or for a location
+/// listed twice with different capacities; [`Error::InvalidWeight`] naming `capacities` for
+/// a negative, NaN or infinite capacity.
+pub(crate) fn validate(
+    points: &[Point],
+    sites: &[Point],
+    capacities: &[f64],
+    weights: Weights<'_>,
+) -> Result<(f64, f64)> {
+    validate_points("points", points, 1)?;
+    validate_points("sites", sites, 1)?;
+    validate_weights("weights", weights, points.len())?;
+    check_capacities(sites, capacities)?;
+    let mut demand = CompensatedSum::default();
+    (0..points.len()).for_each(|i| demand.add(weights.get(i)));
+    let mut capacity = CompensatedSum::default();
+    capacities.iter().for_each(|&c| capacity.add(c));
+    Ok((demand.total(), capacity.total()))
+}
+
+/// One finite capacity ≥ 0 per site, and one capacity per location.
+pub(crate) fn check_capacities(sites: &[Point], capacities: &[f64]) -> Result<()> {
+    if capacities.len() != sites.len() {
+        return Err(Error::InvalidParameter {
+            name: "capacities",
+            reason: format!("capacities must have one entry per site ({}); got {}", sites.len(), capacities.len()),
+        });
+    }
+    if let Some(index) = capacities.iter().position(|c| !c.is_finite() || *c < 0.0) {
+        return Err(Error::InvalidWeight { argument: "capacities", index, value: capacities[index] });
+    }
+    let mut order: Vec<usize> = (0..sites.len()).collect();
+    order.sort_by(|&a, &b| {
+        sites[a][0].total_cmp(&sites[b][0]).then(sites[a][1].total_cmp(&sites[b][1])).then(a.cmp(&b))
+    });
+    for w in order.windows(2) {
+        let (a, b) = (w[0], w[1]);
+        if sites[a] == sites[b] && capacities[a] != capacities[b] {
+            return Err(Error::InvalidParameter {
+                name: "capacities",
+                reason: format!(
+                    "sites[{b}] repeats the location of sites[{a}] with another capacity ({} there, {} here); \
+                     give each location one capacity",
+                    capacities[a], capacities[b]
+                ),
+            });
+        }
+    }
+    Ok(())
+}
+
+/// Refuse a shortfall unless unserved demand is allowed; returns the shortfall (≥ 0).
+///
+/// Totals that agree to 1e-12 relative count as equal (rounding of the sums).
+pub(crate) fn shortfall(demand: f64, capacity: f64, allow_unserved: bool) -> Result<f64> {
+    let short = demand - capacity;
+    if short <= 1e-12 * demand {
+        return Ok(0.0);
+    }
+    if allow_unserved {
+        Ok(short)
+    } else {
+        Err(Error::Shortfall { demand, capacity })
+    }
+}
+
+/// `(upper − lower) / upper`, 0 when both are 0.
+pub(crate) fn relative_gap(upper: f64, lower: f64) -> f64 {
+    if upper > 0.0 {
+        ((upper - lower) / upper).max(0.0)
+    } else {
+        0.0
+    }
+}

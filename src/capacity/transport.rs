@@ -1,0 +1,383 @@
+//! The transportation problem with few sinks: exact min-cost flow of point demand into
+//! capacitated sites.
+//!
+//! Method: successive shortest paths with node potentials (Edmonds & Karp 1972; Tomizawa
+//! 1971) on the residual network *condensed over the sites*. Every point node of the full
+//! network (points → sites → sink) has its in-arcs from the sites that serve it and its
+//! out-arcs to every site, so a residual path `j → i → k` is one condensed arc `j → k` of
+//! cost `c(i, k) − c(i, j)`, cheapest over the points `i` that `j` serves. The keys of these
+//! arcs never change (the potentials live on sites only), so each arc keeps a short sorted
+//! list of its cheapest points, refilled from the site's members when it runs dry, and a
+//! heap of points that joined the site since. Dijkstra then runs on the `m` sites alone
+//! (dense, O(m²)) instead of the `n·m` arcs of the full network.
+//!
+//! Start: every point at its cheapest site (a min-cost pseudo-flow with all potentials 0);
+//! sites loaded past their capacity hold the excess, and each augmentation moves excess
+//! along a shortest path to a site with slack.
+//!
+//! Invariants (reduced cost `c − π_u + π_v` with `π` on sites and the sink `T`):
+//! - every condensed arc has reduced cost ≥ 0 (no negative cycle: the pseudo-flow is a
+//!   min-cost flow for what it carries);
+//! - a site with slack has `π_k ≤ π_T`, a full one `π_k ≥ π_T`; so at the end
+//!   `y_k = max(π_k − π_T, 0)` are optimal capacity prices: every point is served only by
+//!   sites minimising `c(i, k) + y_k`.
+//!
+//! Flows are moved by `δ = min(excess, slack, flows on the path)` and the quantity equal to
+//! `δ` is set to exactly 0, so integral data give an integral (vertex) solution.
+
+use std::cmp::Reverse;
+use std::collections::BinaryHeap;
+
+use rayon::prelude::*;
+
+use crate::error::{Error, Result};
+
+/// How many cheapest points each condensed arc keeps sorted before it refills.
+const ARC_LIST: usize = 16;
+
+/// A finite f64 ordered totally (the keys are finite by construction).
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Key(f64);
+impl Eq for Key {}
+impl PartialOrd for Key {
+    fn partial_cmp(&self, other: &Self) -> Option<std::cmp::Ordering> {
+        Some(self.cmp(other))
+    }
+}
+impl Ord for Key {
+    fn cmp(&self, other: &Self) -> std::cmp::Ordering {
+        self.0.total_cmp(&other.0)
+    }
+}
+
+/// The cheapest points of one condensed arc `j → k`.
+#[derive(Debug, Default, Clone)]
+struct Arc {
+    /// `(c(i, k) − c(i, j), i)` ascending, from the last refill.
+    list: Vec<(f64, u32)>,
+    /// Next unread entry of `list`.
+    next: usize,
+    /// True when `list` held every member of `j` at the refill (nothing beyond it).
+    whole: bool,
+    /// True once filled at least once.
+    built: bool,
+    /// Points that joined `j` since the refill.
+    joined: BinaryHeap<Reverse<(Key, u32)>>,
+}
+
+/// Per point, the sites serving it and the amounts.
+pub(crate) type Flows = Vec<Vec<(u32, f64)>>;
+
+/// An optimal transportation plan.
+#[derive(Debug, Clone)]
+pub(crate) struct Plan {
+    /// Per point, the sites serving it and the amounts (only positive amounts).
+    pub flows: Flows,
+    /// Optimal capacity prices `y_k ≥ 0` (cost units per unit of demand): every point is
+    /// served only by sites minimising `c(i, k) + y_k`; 0 at every site with slack.
+    pub price: Vec<f64>,
+    /// Augmenting paths used.
+    pub augmentations: usize,
+}
+
+/// Working state of the solver.
+struct Solver<'a, C: Fn(usize, usize) -> f64 + Sync> {
+    cost: &'a C,
+    sites: usize,
+    flows: Vec<Vec<(u32, f64)>>,
+    members: Vec<Vec<u32>>,
+    arcs: Vec<Arc>,
+}
+
+impl<C: Fn(usize, usize) -> f64 + Sync> Solver<'_, C> {
+    #[inline]
+    fn flow(&self, i: u32, j: usize) -> f64 {
+        self.flows[i as usize].iter().find(|&&(s, _)| s as usize == j).map_or(0.0, |&(_, x)| x)
+    }
+
+    /// Refill arc `j → k` from the current members of `j`.
+    fn refill(&mut self, j: usize, k: usize) {
+        let flows = &self.flows;
+        self.members[j].retain(|&i| flows[i as usize].iter().any(|&(s, _)| s as usize == j));
+        let cost = self.cost;
+        let mut keys: Vec<(f64, u32)> =
+            self.members[j].iter().map(|&i| (cost(i as usize, k) - cost(i as usize, j), i)).collect();
+        let whole = keys.len() <= ARC_LIST;
+        if !whole {
+            keys.select_nth_unstable_by(ARC_LIST - 1, |a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
+            keys.truncate(ARC_LIST);
+        }
+        keys.sort_unstable_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
+        let arc = &mut self.arcs[j * self.sites + k];
+        *arc = Arc { list: keys, next: 0, whole, built: true, joined: BinaryHeap::new() };
+    }
+
+    /// The cheapest point of arc `j → k` that `j` still serves: `(key, point)`.
+    fn best(&mut self, j: usize, k: usize) -> Option<(f64, u32)> {
+        let a = j * self.sites + k;
+        if !self.arcs[a].built {
+            self.refill(j, k);
+        }
+        loop {
+            let arc = &self.arcs[a];
+            let listed = arc.list.get(arc.next).copied();
+            if listed.is_none() && !arc.whole {
+                self.refill(j, k);
+                continue;
+            }
+            let joined = arc.joined.peek().map(|Reverse((key, i))| (key.0, *i));
+            let (pick, from_list) = match (listed, joined) {
+                (None, None) => return None,
+                (Some(l), None) => (l, true),
+                (None, Some(h)) => (h, false),
+                (Some(l), Some(h)) => {
+                    if l.0 <= h.0 {
+                        (l, true)
+                    } else {
+                        (h, false)
+                    }
+                }
+            };
+            if self.flow(pick.1, j) > 0.0 {
+                return Some(pick);
+            }
+            let arc = &mut self.arcs[a];
+            if from_list {
+                arc.next += 1;
+            } else {
+                arc.joined.pop();
+            }
+        }
+    }
+
+    /// Point `i` starts being served by site `k`.
+    fn join(&mut self, i: u32, k: usize) {
+        self.members[k].push(i);
+        for l in 0..self.sites {
+            if l == k || !self.arcs[k * self.sites + l].built {
+                continue;
+            }
+            let key = (self.cost)(i as usize, l) - (self.cost)(i as usize, k);
+            self.arcs[k * self.sites + l].joined.push(Reverse((Key(key), i)));
+        }
+    }
+}
+
+/// Solve `min Σ x_ij c(i, j)` subject to `Σ_j x_ij = demand[i]`, `Σ_i x_ij ≤ capacity[j]`,
+/// `x ≥ 0`, where `cost(i, j)` is finite and ≥ 0.
+///
+/// The caller guarantees `Σ demand ≤ Σ capacity` (adding a virtual site for a shortfall);
+/// a remainder left by rounding below `1e-12 · Σ demand` is tolerated.
+///
+/// # Errors
+/// [`Error::Degenerate`] naming `capacities` when excess demand finds no site with room (the
+/// totals disagree beyond rounding).
+///
+/// # Runtime
+/// O(n·m) for the start, then O(m²) per augmentation plus O(n_j) per arc refill; the
+/// number of augmentations is about the number of points moved off their cheapest site.
+pub(crate) fn transport<C: Fn(usize, usize) -> f64 + Sync>(demand: &[f64], capacity: &[f64], cost: &C) -> Result<Plan> {
+    let n = demand.len();
+    let m = capacity.len();
+    // Start: every point at its cheapest site (smallest index among ties).
+    let nearest: Vec<u32> = (0..n)
+        .into_par_iter()
+        .map(|i| {
+            let mut best = (f64::INFINITY, 0u32);
+            for j in 0..m {
+                let c = cost(i, j);
+                if c < best.0 {
+                    best = (c, j as u32);
+                }
+            }
+            best.1
+        })
+        .collect();
+    let mut solver = Solver {
+        cost,
+        sites: m,
+        flows: vec![Vec::new(); n],
+        members: vec![Vec::new(); m],
+        arcs: vec![Arc::default(); m * m],
+    };
+    let mut load = vec![0.0; m];
+    for i in 0..n {
+        if demand[i] > 0.0 {
+            let j = nearest[i] as usize;
+            solver.flows[i].push((j as u32, demand[i]));
+            solver.members[j].push(i as u32);
+            load[j] += demand[i];
+        }
+    }
+    let mut excess: Vec<f64> = (0..m).map(|j| (load[j] - capacity[j]).max(0.0)).collect();
+    let mut slack: Vec<f64> = (0..m).map(|j| (capacity[j] - load[j]).max(0.0)).collect();
+    let total: f64 = demand.iter().sum();
+    let tolerance = 1e-12 * total;
+
+    // Potentials on sites and the sink (index m).
+    let mut pi = vec![0.0f64; m + 1];
+    let mut dist = vec![f64::INFINITY; m];
+    let mut done = vec![false; m];
+    let mut via: Vec<(u32, u32)> = vec![(0, 0); m];
+    let mut augmentations = 0usize;
+    let mut source = 0usize;
+    // Next site with excess (round robin, so every site's excess is worked off).
+    while let Some(s) = (0..m).map(|t| (source + t) % m).find(|&j| excess[j] > 0.0) {
+        source = s;
+        dist.fill(f64::INFINITY);
+        done.fill(false);
+        dist[s] = 0.0;
+        let mut to_sink = f64::INFINITY;
+        let mut sink = usize::MAX;
+        loop {
+            // Dense Dijkstra: the unsettled site nearest the source.
+            let mut u = usize::MAX;
+            let mut du = f64::INFINITY;
+            for (j, &d) in dist.iter().enumerate() {
+                if !done[j] && d < du {
+                    du = d;
+                    u = j;
+                }
+            }
+            if u == usize::MAX || du >= to_sink {
+                break;
+            }
+            done[u] = true;
+            if slack[u] > 0.0 {
+                let reach = du + (pi[m] - pi[u]).max(0.0);
+                if reach < to_sink {
+                    to_sink = reach;
+                    sink = u;
+                }
+            }
+            for k in 0..m {
+                if done[k] {
+                    continue;
+                }
+                if let Some((key, i)) = solver.best(u, k) {
+                    // Reduced costs are ≥ 0 in exact arithmetic; clamp rounding.
+                    let d = du + (key - pi[u] + pi[k]).max(0.0);
+                    if d < dist[k] {
+                        dist[k] = d;
+                        via[k] = (u as u32, i);
+                    }
+                }
+            }
+        }
+        if sink == usize::MAX {
+            let left: f64 = excess.iter().sum();
+            if left <= tolerance {
+                break;
+            }
+            return Err(Error::Degenerate {
+                argument: "capacities",
+                reason: format!("{left} units of demand find no site with room (total capacity is short)"),
+            });
+        }
+        // Potentials: π_v −= min(d_v, d_T).
+        for j in 0..m {
+            pi[j] -= if done[j] { dist[j].min(to_sink) } else { to_sink };
+        }
+        pi[m] -= to_sink;
+        // Bottleneck along the path sink ← … ← s.
+        let mut delta = excess[s].min(slack[sink]);
+        let mut k = sink;
+        while k != s {
+            let (j, i) = via[k];
+            delta = delta.min(solver.flow(i, j as usize));
+            k = j as usize;
+        }
+        // Apply: each arc j → k via i moves δ of i's demand from j to k.
+        let mut k = sink;
+        while k != s {
+            let (j, i) = via[k];
+            let j = j as usize;
+            let f = &mut solver.flows[i as usize];
+            let pos = f.iter().position(|&(t, _)| t as usize == j).expect("path arcs carry flow");
+            if f[pos].1 <= delta {
+                f.swap_remove(pos);
+            } else {
+                f[pos].1 -= delta;
+            }
+            if let Some(e) = f.iter_mut().find(|e| e.0 as usize == k) {
+                e.1 += delta;
+            } else {
+                f.push((k as u32, delta));
+                solver.join(i, k);
+            }
+            load[j] -= delta;
+            load[k] += delta;
+            k = j;
+        }
+        excess[s] = if excess[s] <= delta { 0.0 } else { excess[s] - delta };
+        slack[sink] = if slack[sink] <= delta { 0.0 } else { slack[sink] - delta };
+        augmentations += 1;
+    }
+    let price = (0..m).map(|j| (pi[j] - pi[m]).max(0.0)).collect();
+    Ok(Plan { flows: solver.flows, price, augmentations })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Brute force over every integral plan of a tiny instance (unit demands).
+    fn brute(costs: &[Vec<f64>], capacity: &[usize]) -> f64 {
+        fn go(i: usize, costs: &[Vec<f64>], room: &mut Vec<usize>) -> f64 {
+            if i == costs.len() {
+                return 0.0;
+            }
+            let mut best = f64::INFINITY;
+            for j in 0..room.len() {
+                if room[j] > 0 {
+                    room[j] -= 1;
+                    best = best.min(costs[i][j] + go(i + 1, costs, room));
+                    room[j] += 1;
+                }
+            }
+            best
+        }
+        go(0, costs, &mut capacity.to_vec())
+    }
+
+    #[test]
+    fn unit_demand_matches_brute_force_and_prices_certify_it() {
+        let mut rng = crate::geometry::random::SplitMix64::new(7);
+        for _ in 0..200 {
+            let n = 1 + rng.below(7);
+            let m = 1 + rng.below(4);
+            let costs: Vec<Vec<f64>> = (0..n).map(|_| (0..m).map(|_| rng.below(20) as f64).collect()).collect();
+            let mut capacity: Vec<usize> = (0..m).map(|_| rng.below(4)).collect();
+            while capacity.iter().sum::<usize>() < n {
+                capacity[rng.below(m)] += 1;
+            }
+            let demand = vec![1.0; n];
+            let cap: Vec<f64> = capacity.iter().map(|&c| c as f64).collect();
+            let plan = transport(&demand, &cap, &|i, j| costs[i][j]).unwrap();
+            let c = &costs;
+            let got: f64 = plan
+                .flows
+                .iter()
+                .enumerate()
+                .flat_map(|(i, f)| f.iter().map(move |&(j, x)| x * c[i][j as usize]))
+                .sum();
+            assert_eq!(got, brute(&costs, &capacity));
+            for (i, f) in plan.flows.iter().enumerate() {
+                let total: f64 = f.iter().map(|e| e.1).sum();
+                assert_eq!(total, 1.0);
+                let best = (0..m).map(|k| costs[i][k] + plan.price[k]).fold(f64::INFINITY, f64::min);
+                for &(j, _) in f {
+                    assert!(costs[i][j as usize] + plan.price[j as usize] <= best + 1e-9);
+                }
+            }
+            let mut load = vec![0.0; m];
+            plan.flows.iter().flatten().for_each(|&(j, x)| load[j as usize] += x);
+            for ((l, c), y) in load.iter().zip(&cap).zip(&plan.price) {
+                assert!(l <= c);
+                if l < c {
+                    assert_eq!(*y, 0.0);
+                }
+            }
+        }
+    }
+}

@@ -1,0 +1,124 @@
+//! Bindings of the capacity family (`src/capacity/`).
+
+use numpy::{PyArray1, PyArrayMethods};
+use pyo3::prelude::*;
+use pyo3::types::PyDict;
+
+use super::convert::{as_point_slice, count_arg, seed_arg};
+use super::fields::Fields;
+use super::{points_arg, run_detached, weights_arg};
+use crate::capacity::{
+    capacitated_p_median, capacity_allocation, AllocationOptions, CapacitatedMedianOptions, CapacityAllocation,
+};
+use crate::geometry::{Point, Weights};
+
+/// Per-site float64 values of shape `(m,)` (capacities).
+fn capacities_arg<'py>(obj: &Bound<'py, PyAny>) -> PyResult<numpy::PyReadonlyArray1<'py, f64>> {
+    Ok(weights_arg(Some(obj), "capacities")?.expect("capacities is not None"))
+}
+
+/// Site rows as int64, -1 for none.
+fn rows(values: &[Option<usize>]) -> Vec<i64> {
+    values.iter().map(|v| v.map_or(-1, |j| j as i64)).collect()
+}
+
+/// The fields of one allocation.
+fn allocation_fields<'py>(py: Python<'py>, fields: Fields<'py>, a: &CapacityAllocation) -> PyResult<Fields<'py>> {
+    let part_point: Vec<i64> = a.parts.iter().map(|e| e.0 as i64).collect();
+    let part_site: Vec<i64> = a.parts.iter().map(|e| e.1 as i64).collect();
+    let part_amount: Vec<f64> = a.parts.iter().map(|e| e.2).collect();
+    fields
+        .put("assignment", PyArray1::from_vec(py, rows(&a.assignment)))?
+        .put("share", PyArray1::from_slice(py, &a.share))?
+        .put("distance", PyArray1::from_slice(py, &a.distance))?
+        .put("cost", PyArray1::from_slice(py, &a.cost))?
+        .put("unserved", PyArray1::from_slice(py, &a.unserved))?
+        .put("part_point", PyArray1::from_vec(py, part_point))?
+        .put("part_site", PyArray1::from_vec(py, part_site))?
+        .put("part_amount", PyArray1::from_vec(py, part_amount))?
+        .put("load", PyArray1::from_slice(py, &a.load))?
+        .put("slack", PyArray1::from_slice(py, &a.slack))?
+        .put("price", PyArray1::from_slice(py, &a.price))?
+        .put("total_cost", a.total_cost)?
+        .put("total_demand", a.total_demand)?
+        .put("total_unserved", a.total_unserved)?
+        .put("lower_bound", a.lower_bound)?
+        .put("relative_gap", a.relative_gap)?
+        .put("split", a.split)?
+        .put("augmentations", a.augmentations)
+}
+
+/// Points as an `(m, 2)` float64 array.
+fn points_array<'py>(py: Python<'py>, points: &[Point]) -> PyResult<Bound<'py, PyAny>> {
+    let flat: Vec<f64> = points.iter().flatten().copied().collect();
+    Ok(PyArray1::from_vec(py, flat).reshape([points.len(), 2])?.into_any())
+}
+
+/// Fields: the allocation (per point, per site, parts of split points, totals).
+#[pyfunction]
+#[pyo3(signature = (points, sites, capacities, weights, split, allow_unserved))]
+fn capacity_allocate<'py>(
+    py: Python<'py>,
+    points: &Bound<'py, PyAny>,
+    sites: &Bound<'py, PyAny>,
+    capacities: &Bound<'py, PyAny>,
+    weights: Option<&Bound<'py, PyAny>>,
+    split: bool,
+    allow_unserved: bool,
+) -> PyResult<Bound<'py, PyDict>> {
+    let pts = points_arg(points, "points")?;
+    let sts = points_arg(sites, "sites")?;
+    let caps = capacities_arg(capacities)?;
+    let w = weights_arg(weights, "weights")?;
+    let (p, s, c) = (as_point_slice(&pts), as_point_slice(&sts), caps.as_slice()?);
+    let w = w.as_ref().map(|w| w.as_slice()).transpose()?;
+    let options = AllocationOptions { split, allow_unserved };
+    let a = run_detached(py, || capacity_allocation(p, s, c, Weights::from_option(w), &options))?;
+    Ok(allocation_fields(py, Fields::new(py), &a)?.done())
+}
+
+/// Fields: the sites, chosen candidate rows, their capacities, bound, gap, rounds and the
+/// allocation's fields.
+#[pyfunction]
+#[pyo3(signature = (points, p, capacities, weights, candidates, seed, max_rounds))]
+#[allow(clippy::too_many_arguments)]
+fn capacity_p_median<'py>(
+    py: Python<'py>,
+    points: &Bound<'py, PyAny>,
+    p: &Bound<'py, PyAny>,
+    capacities: &Bound<'py, PyAny>,
+    weights: Option<&Bound<'py, PyAny>>,
+    candidates: Option<&Bound<'py, PyAny>>,
+    seed: &Bound<'py, PyAny>,
+    max_rounds: &Bound<'py, PyAny>,
+) -> PyResult<Bound<'py, PyDict>> {
+    let p = count_arg(p, "p", 1, usize::MAX)?;
+    let options = CapacitatedMedianOptions {
+        seed: seed_arg(seed)?,
+        max_rounds: count_arg(max_rounds, "max_rounds", 1, usize::MAX)?,
+    };
+    let pts = points_arg(points, "points")?;
+    let cands = candidates.filter(|c| !c.is_none()).map(|c| points_arg(c, "candidates")).transpose()?;
+    let caps = capacities_arg(capacities)?;
+    let w = weights_arg(weights, "weights")?;
+    let pts = as_point_slice(&pts);
+    let cands = cands.as_ref().map(as_point_slice);
+    let c = caps.as_slice()?;
+    let w = w.as_ref().map(|w| w.as_slice()).transpose()?;
+    let plan = run_detached(py, || capacitated_p_median(pts, Weights::from_option(w), p, c, cands, &options))?;
+    let chosen: Vec<i64> = plan.chosen.iter().map(|&j| j as i64).collect();
+    let fields = Fields::new(py)
+        .put("sites", points_array(py, &plan.sites)?)?
+        .put("chosen", PyArray1::from_vec(py, chosen))?
+        .put("capacities", PyArray1::from_slice(py, &plan.capacities))?
+        .put("median_lower_bound", plan.lower_bound)?
+        .put("median_relative_gap", plan.relative_gap)?
+        .put("rounds", plan.rounds)?;
+    Ok(allocation_fields(py, fields, &plan.allocation)?.done())
+}
+
+pub(super) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
+    m.add_function(wrap_pyfunction!(capacity_allocate, m)?)?;
+    m.add_function(wrap_pyfunction!(capacity_p_median, m)?)?;
+    Ok(())
+}

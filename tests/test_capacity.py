@@ -1,0 +1,231 @@
+"""Capacities: capacitated allocation and capacitated p-median against outside references.
+
+References: ``scipy.optimize.linprog`` (HiGHS) and ``scipy.optimize.milp`` on the
+transportation program written out here, ``scipy.optimize.linear_sum_assignment`` when
+every capacity is 1, ``scipy.optimize.minimize`` for the Fermat–Weber step, and brute force
+over candidate subsets.
+"""
+
+from __future__ import annotations
+
+import itertools
+
+import numpy as np
+import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+from scipy.optimize import Bounds, LinearConstraint, linear_sum_assignment, linprog, milp, minimize
+from scipy.sparse import coo_matrix
+from scipy.spatial.distance import cdist
+
+import placewise as pw
+
+
+def transport_program(points, sites, caps, weights, *, integral=False, serve=None):
+    """The transportation program min Σ c_ij x_ij, Σ_j x_ij = w_i (or ≤ w_i with Σ x = serve),
+    Σ_i x_ij ≤ cap_j, x ≥ 0, solved by HiGHS (linprog, or milp with x_ij = w_i y_ij, y binary)."""
+    c = cdist(points, sites)
+    n, m = c.shape
+    rows = np.repeat(np.arange(n), m)
+    cols = np.arange(n * m)
+    a_point = coo_matrix((np.ones(n * m), (rows, cols)), shape=(n, n * m))
+    a_site = coo_matrix((np.ones(n * m), (np.tile(np.arange(m), n), cols)), shape=(m, n * m))
+    if integral:
+        # y_ij ∈ {0, 1}: point i served whole by site j.
+        scaled = coo_matrix((np.repeat(weights, m), (np.tile(np.arange(m), n), cols)), shape=(m, n * m))
+        res = milp(
+            (c * weights[:, None]).ravel(),
+            constraints=[LinearConstraint(a_point, 1, 1), LinearConstraint(scaled, 0, caps)],
+            integrality=np.ones(n * m),
+            bounds=Bounds(0, 1),
+        )
+        assert res.status == 0
+        return res.fun
+    if serve is None:
+        res = linprog(c.ravel(), A_ub=a_site, b_ub=caps, A_eq=a_point, b_eq=weights, method="highs")
+    else:
+        a_all = np.ones((1, n * m))
+        res = linprog(c.ravel(), A_ub=coo_matrix(np.vstack([a_point.toarray(), a_site.toarray()])),
+                      b_ub=np.r_[weights, caps], A_eq=a_all, b_eq=[serve], method="highs")
+    assert res.status == 0
+    return res.fun
+
+
+def instance(seed, n=60, m=5, slack=1.15):
+    rng = np.random.default_rng(seed)
+    points = rng.uniform(0, 100, size=(n, 2))
+    sites = rng.uniform(0, 100, size=(m, 2))
+    weights = rng.uniform(0.5, 3.0, size=n)
+    shares = rng.uniform(0.5, 1.5, size=m)
+    caps = shares / shares.sum() * weights.sum() * slack
+    return points, sites, caps, weights
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_split_plan_cost_equals_linprog(seed):
+    points, sites, caps, weights = instance(seed)
+    plan = pw.capacity_allocation(points, sites, caps, weights)
+    # Outside check: scipy.optimize.linprog (HiGHS) on the transportation program.
+    assert plan.total_cost == pytest.approx(transport_program(points, sites, caps, weights), rel=1e-9)
+    assert np.all(plan.load <= caps * (1 + 1e-12))
+    assert plan.slack == pytest.approx(caps - plan.load)
+    served = np.zeros(len(points))
+    np.add.at(served, np.arange(len(points)), plan.share * weights)
+    parts = plan.parts_frame()
+    assert len(parts.point.unique()) <= len(sites) - 1 + 0  # a vertex solution shares ≤ m − 1 points
+    assert plan.lower_bound == plan.total_cost and plan.relative_gap == 0.0
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_every_capacity_one_matches_linear_sum_assignment(seed):
+    rng = np.random.default_rng(100 + seed)
+    points = rng.uniform(0, 10, size=(40, 2))
+    sites = rng.uniform(0, 10, size=(55, 2))
+    plan = pw.capacity_allocation(points, sites, np.ones(55))
+    # Outside check: scipy.optimize.linear_sum_assignment on the distance matrix.
+    r, c = linear_sum_assignment(cdist(points, sites))
+    assert plan.total_cost == pytest.approx(cdist(points, sites)[r, c].sum(), rel=1e-12)
+    # Integral data give an integral plan: every point whole at one site, each site ≤ 1.
+    assert np.all(plan.share == 1.0) and plan.part_point.size == 0
+    assert np.all(np.isin(plan.load, [0.0, 1.0]))
+
+
+@pytest.mark.parametrize("seed", range(3))
+def test_single_source_gap_is_proven_against_milp(seed):
+    points, sites, caps, weights = instance(200 + seed, n=25, m=4, slack=1.2)
+    split = pw.capacity_allocation(points, sites, caps, weights)
+    single = pw.capacity_allocation(points, sites, caps, weights, split=False)
+    # Outside check: scipy.optimize.milp on the single-source program.
+    best = transport_program(points, sites, caps, weights, integral=True)
+    assert single.total_cost >= best * (1 - 1e-9)
+    assert single.lower_bound == pytest.approx(split.total_cost)
+    assert single.lower_bound <= best * (1 + 1e-9)
+    assert single.relative_gap == pytest.approx((single.total_cost - split.total_cost) / single.total_cost)
+    assert np.all(single.share == 1.0)
+    assert np.all(single.load <= caps * (1 + 1e-12))
+
+
+def test_shortfall_refused_with_the_amount_or_left_unserved():
+    points, sites, caps, weights = instance(7, slack=0.8)
+    with pytest.raises(pw.InputError, match=r"short") as info:
+        pw.capacity_allocation(points, sites, caps, weights)
+    short = weights.sum() - caps.sum()
+    assert f"{short:.6g}"[:5] in str(info.value).replace("e+", "e")
+    assert info.value.argument == "capacities"
+    plan = pw.capacity_allocation(points, sites, caps, weights, allow_unserved=True)
+    assert plan.total_unserved == pytest.approx(short)
+    assert plan.load == pytest.approx(caps)
+    # Outside check: linprog serving exactly the total capacity at least cost.
+    assert plan.total_cost == pytest.approx(
+        transport_program(points, sites, caps, weights, serve=caps.sum()), rel=1e-9)
+
+
+def test_prices_certify_the_split_plan():
+    points, sites, caps, weights = instance(11, n=300, m=8, slack=1.05)
+    plan = pw.capacity_allocation(points, sites, caps, weights)
+    reduced = cdist(points, sites) + plan.price
+    parts = plan.parts_frame()
+    served = list(zip(parts.point, parts.site)) + [
+        (i, j) for i, j in enumerate(plan.assignment) if i not in set(parts.point)]
+    for i, j in served:
+        assert reduced[i, j] <= reduced[i].min() + 1e-9
+    assert np.all(plan.price[plan.slack > 1e-9] == 0.0)
+
+
+@pytest.mark.parametrize("capacities, match", [
+    ([1e3, -1.0, 1e3], r"capacities must be finite and >= 0; capacities\[1\] = -1"),
+    ([1e3, np.nan, 1e3], r"capacities\[1\] = NaN|capacities\[1\] = nan"),
+    ([1e3, 1e3], r"one entry per site \(3\); got 2"),
+])
+def test_bad_capacities_name_argument_and_row(capacities, match):
+    with pytest.raises(pw.InputError, match=match) as info:
+        pw.capacity_allocation([[0, 0], [1, 1]], [[0, 0], [1, 0], [2, 2]], capacities)
+    assert info.value.argument == "capacities"
+
+
+def test_one_location_with_two_capacities_is_refused():
+    with pytest.raises(pw.InputError, match=r"sites\[2\] repeats the location of sites\[0\]"):
+        pw.capacity_allocation([[0, 0]], [[0, 0], [1, 0], [0, 0]], [2, 2, 3])
+    # The same capacity twice is two equal sites at one place: accepted.
+    plan = pw.capacity_allocation([[0, 0], [0, 1]], [[0, 0], [1, 0], [0, 0]], [1, 1, 1])
+    assert plan.total_cost == pytest.approx(1.0)
+
+
+def test_tables_and_plot():
+    points, sites, caps, weights = instance(3)
+    plan = pw.capacity_allocation(points, sites, caps, weights, unit="m")
+    frame = plan.to_frame()
+    assert list(frame.columns) == ["assignment", "share", "distance_m", "cost_m", "unserved"]
+    assert frame.cost_m.sum() == pytest.approx(plan.total_cost)
+    assert plan.summary().loc[0, "cost_m"] == plan.total_cost
+    gdf = plan.to_geodataframe(crs="EPSG:3857")
+    assert len(gdf) == len(points)
+    sites_frame = plan.sites_frame()
+    assert sites_frame.load.sum() == pytest.approx(weights.sum())
+
+
+@given(st.integers(0, 10_000), st.integers(1, 6), st.integers(1, 30), st.booleans())
+def test_property_split_cost_equals_linprog(seed, m, n, integral):
+    rng = np.random.default_rng(seed)
+    points = rng.integers(0, 5, size=(n, 2)).astype(float)  # repeated locations and ties
+    sites = rng.integers(0, 5, size=(m, 2)).astype(float)
+    sites = np.unique(sites, axis=0)
+    m = len(sites)
+    weights = rng.integers(0, 4, size=n).astype(float) if integral else rng.uniform(0, 2, size=n)
+    if weights.sum() == 0:
+        weights[0] = 1.0
+    caps = rng.integers(0, 6, size=m).astype(float) if integral else rng.uniform(0, 3, size=m)
+    if caps.sum() < weights.sum():
+        caps[0] += weights.sum() - caps.sum() + 1.0
+    plan = pw.capacity_allocation(points, sites, caps, weights)
+    # Outside check: scipy.optimize.linprog (HiGHS).
+    assert plan.total_cost == pytest.approx(transport_program(points, sites, caps, weights), rel=1e-7, abs=1e-9)
+    assert np.all(plan.load <= caps + 1e-9)
+    if integral:
+        assert np.all(plan.part_amount == np.round(plan.part_amount))
+
+
+def test_capacitated_p_median_with_candidates_against_brute_force():
+    rng = np.random.default_rng(5)
+    points = rng.uniform(0, 10, size=(40, 2))
+    cands = rng.uniform(0, 10, size=(7, 2))
+    caps = rng.uniform(10, 25, size=7)
+    plan = pw.capacitated_p_median(points, 3, caps, candidates=cands)
+    # Outside check: linprog on every subset of 3 candidates with room for the demand.
+    best = min(
+        transport_program(points, cands[list(s)], caps[list(s)], np.ones(40))
+        for s in itertools.combinations(range(7), 3) if caps[list(s)].sum() >= 40
+    )
+    assert plan.total_cost >= best * (1 - 1e-9)
+    assert plan.median_lower_bound <= best * (1 + 1e-9)
+    assert np.all(plan.load <= caps[plan.chosen] * (1 + 1e-12))
+    assert plan.total_cost == pytest.approx(
+        transport_program(points, cands[plan.chosen], caps[plan.chosen], np.ones(40)), rel=1e-9)
+
+
+def test_capacitated_p_median_continuous_sites_are_weber_points_of_their_demand():
+    rng = np.random.default_rng(9)
+    points = np.vstack([rng.normal([0, 0], 1, size=(60, 2)), rng.normal([8, 0], 1, size=(20, 2))])
+    plan = pw.capacitated_p_median(points, 2, [40, 40])
+    assert plan.load == pytest.approx([40, 40])
+    # Each site is the Fermat–Weber point of what it serves: scipy.optimize.minimize.
+    amounts = np.zeros((len(points), 2))
+    for i, j in enumerate(plan.assignment):
+        amounts[i, j] = plan.share[i]
+    for row in plan.parts_frame().itertuples():
+        amounts[row.point] = 0.0
+    for row in plan.parts_frame().itertuples():
+        amounts[row.point, row.site] = row.amount
+    for j in range(2):
+        def weber(x, j=j):
+            return float(np.sum(amounts[:, j] * np.hypot(*(points - x).T)))
+        ref = minimize(weber, points[amounts[:, j] > 0].mean(axis=0), method="Nelder-Mead",
+                       options={"xatol": 1e-9, "fatol": 1e-12, "maxiter": 5000})
+        assert weber(plan.sites[j]) <= ref.fun * (1 + 1e-6)
+
+
+def test_capacitated_p_median_refuses_short_capacity():
+    with pytest.raises(pw.InputError, match="short"):
+        pw.capacitated_p_median([[0, 0], [1, 1], [2, 2]], 2, [1, 1])
+    with pytest.raises(pw.InputError, match="capacities"):
+        pw.capacitated_p_median([[0, 0], [1, 1], [2, 2]], 2, [5, 5, 5])
