@@ -847,6 +847,27 @@ def test_reported_metres_are_true_within_the_stated_scale_error() -> None:
     assert float(out["cost_m"].iloc[0]) == pytest.approx(float(np.sum(metres)), rel=1e-12)
 
 
+def test_a_group_on_the_date_line_gets_a_frame_on_its_own_side_of_the_earth() -> None:
+    from pyproj import Geod
+
+    # Longitudes of 179.6 +- 1 degree written in [-180, 180): the middle of their bounding box
+    # is near 0 degrees, and a frame chosen there distorts them by far more than 0.1 %.
+    rng = np.random.default_rng(12)
+    lon = (179.6 + rng.normal(0, 0.35, 300) + 180) % 360 - 180
+    lat = -17.1 + rng.normal(0, 0.25, 300)
+    frame = _lonlat_frame(lon, lat).assign(g=0)
+    for plan in (gis.p_median(frame, 1), gis.p_median(frame, 1, by="g")):
+        error = float(plan.sites["scale_error"].iloc[0])
+        assert error <= 1e-3
+        site = plan.sites.geometry.iloc[0]
+        assert abs(site.x) > 178  # on the date line, not at the other side of the Earth
+        # Outside reference: GeographicLib geodesics (pyproj.Geod) from the returned site.
+        _, _, metres = Geod(ellps="WGS84").inv(np.full(300, site.x), np.full(300, site.y), lon, lat)
+        cost = float(plan.summary["cost_m"].iloc[0]) if "cost_m" in plan.summary else float(
+            plan.sites["cost_m"].iloc[0])
+        assert abs(cost - metres.sum()) <= error * metres.sum() * (1 + 1e-9)
+
+
 def test_a_geographic_region_is_densified_before_it_is_projected() -> None:
     # A lon/lat box projected by its four corners alone loses the curved bands along its
     # edges; densified, the cells tile the box: their areas sum to the box's own area in the

@@ -151,11 +151,7 @@ def _working_crs(frame: Any, name: str, planar: bool, work_crs: Any = None) -> A
         raise InputError(f"{name} has a CRS ({CRS(crs).name}); planar=True is only for frames without one")
     crs = CRS(crs)
     if crs.is_geographic:
-        try:
-            utm = frame.estimate_utm_crs()
-        except Exception as exc:  # pyproj/geopandas raise several types here
-            raise InputError(f"{name}: cannot estimate a UTM zone for its extent ({exc})") from exc
-        return CRS(utm)
+        return _utm_for(frame, name)
     if not crs.is_projected:
         raise InputError(f"{name}: CRS {crs.name!r} is neither geographic nor projected")
     return crs
@@ -241,10 +237,59 @@ def scale_error_over(work: Any, lonlat: np.ndarray, xy: np.ndarray) -> float:
     return float(np.nanmax(error))
 
 
+def _centres(lonlat: np.ndarray, codes: np.ndarray, count: int) -> np.ndarray:
+    """Longitude/latitude of the mean unit vector of each group's points (``codes`` in ``0..count-1``).
+
+    Why not the middle of the bounding box: a group on both sides of the 180° meridian has
+    longitudes near -180 and +180, whose box middle lies near 0°, on the other side of the Earth.
+    The mean direction is where the group is, whatever meridian it straddles (a group spread
+    evenly round a pole or the globe has no such centre, and its scale error refuses it).
+    """
+    lon, lat = np.radians(lonlat[:, 0]), np.radians(lonlat[:, 1])
+    unit = np.column_stack([np.cos(lat) * np.cos(lon), np.cos(lat) * np.sin(lon), np.sin(lat)])
+    total = np.zeros((count, 3))
+    np.add.at(total, codes, unit)
+    return np.column_stack([np.degrees(np.arctan2(total[:, 1], total[:, 0])),
+                            np.degrees(np.arctan2(total[:, 2], np.hypot(total[:, 0], total[:, 1])))])
+
+
+def _utm_for(frame: Any, name: str) -> CRS:
+    """The UTM zone of a geographic frame's centre (:func:`_centres`; centroids stand for other
+    geometries here, as this only picks the zone)."""
+    lonlat = _points_of(frame if CRS(frame.crs).equals(_WGS84) else frame.to_crs(_WGS84), name, centroids=True)
+    centre = _centres(lonlat, np.zeros(len(lonlat), dtype=np.int64), 1)[0]
+    return _utm_of(float(centre[0]), float(centre[1]))
+
+
 def _utm_of(lon: float, lat: float) -> CRS:
     """The WGS 84 UTM zone of a point (EPSG 326zz north, 327zz south)."""
     zone = int(np.floor((lon + 180.0) / 6.0)) % 60 + 1
     return CRS.from_epsg((32600 if lat >= 0 else 32700) + zone)
+
+
+def _centred_frame(lon: float) -> CRS:
+    """A transverse Mercator frame on the WGS 84 ellipsoid whose central meridian is ``lon``
+    (scale 1 on it): for a group too wide for its UTM zone, whose central meridian can lie up
+    to 3° from the group's centre, this halves or better the largest distance from the
+    central meridian, and the scale error grows with its square."""
+    from pyproj.crs import GeographicCRS, ProjectedCRS
+    from pyproj.crs.coordinate_operation import TransverseMercatorConversion
+
+    conversion = TransverseMercatorConversion(latitude_natural_origin=0.0, longitude_natural_origin=lon,
+                                              false_easting=500_000.0, false_northing=10_000_000.0,
+                                              scale_factor_natural_origin=1.0)
+    east = f"{abs(lon):.2f}°{'E' if lon >= 0 else 'W'}"
+    return ProjectedCRS(conversion, name=f"WGS 84 / transverse Mercator on {east}",
+                        geodetic_crs=GeographicCRS(datum="WGS84"))
+
+
+def _scale_errors(work: Any, lonlat: np.ndarray) -> np.ndarray:
+    """PROJ's worst scale error (meridional or parallel) of ``work`` at every point."""
+    from pyproj import Proj
+
+    factors = Proj(work).get_factors(lonlat[:, 0], lonlat[:, 1])
+    return np.maximum(np.abs(np.asarray(factors.meridional_scale) - 1.0),
+                      np.abs(np.asarray(factors.parallel_scale) - 1.0))
 
 
 def _frames_per_group(
@@ -254,32 +299,39 @@ def _frames_per_group(
     distinct frames, each group's frame and each group's worst scale error.
 
     Why per group: one projection shared by groups far apart distorts the distant ones; a
-    group's own zone keeps its scale error within UTM's (about 0.1 % across a zone).
+    group's own zone keeps its scale error within UTM's (about 0.1 % across a zone). A group
+    that its zone distorts beyond ``max_scale_error`` gets a transverse Mercator frame on its
+    own centre (:func:`_centred_frame`) before it is refused.
     """
-    from pyproj import Proj, Transformer
+    from pyproj import Transformer
 
     count = len(groups.values)
-    lo = np.full((count, 2), np.inf)
-    hi = np.full((count, 2), -np.inf)
-    np.minimum.at(lo, groups.codes, lonlat)
-    np.maximum.at(hi, groups.codes, lonlat)
-    centre = (lo + hi) / 2
+    centre = _centres(lonlat, groups.codes, count)
     epsg = np.array([_utm_of(float(c[0]), float(c[1])).to_epsg() for c in centre])
-    frames = [CRS.from_epsg(int(e)) for e in np.unique(epsg)]
+    frames: list[Any] = [CRS.from_epsg(int(e)) for e in np.unique(epsg)]
     frame_of_group = np.searchsorted(np.unique(epsg), epsg)
-    xy = np.empty_like(lonlat)
     error = np.zeros(count)
     row_frame = frame_of_group[groups.codes]
     for k, work in enumerate(frames):
-        mine = np.flatnonzero(row_frame == k)
-        to_work = Transformer.from_crs("EPSG:4326", work, always_xy=True)
-        xy[mine, 0], xy[mine, 1] = to_work.transform(lonlat[mine, 0], lonlat[mine, 1])
         # PROJ's scale factors at every point of the zone's groups (a transverse Mercator
         # frame distorts most far from its central meridian, least on it: k0 = 0.9996).
-        factors = Proj(work).get_factors(lonlat[mine, 0], lonlat[mine, 1])
-        per_row = np.maximum(np.abs(np.asarray(factors.meridional_scale) - 1.0),
-                             np.abs(np.asarray(factors.parallel_scale) - 1.0))
-        np.maximum.at(error, groups.codes[mine], per_row)
+        mine = np.flatnonzero(row_frame == k)
+        np.maximum.at(error, groups.codes[mine], _scale_errors(work, lonlat[mine]))
+    for g in np.flatnonzero(error > max_scale_error):
+        centred = _centred_frame(float(centre[g, 0]))
+        mine = np.flatnonzero(groups.codes == g)
+        centred_error = float(_scale_errors(centred, lonlat[mine]).max())
+        if centred_error < error[g]:
+            frames.append(centred)
+            frame_of_group[g] = len(frames) - 1
+            error[g] = centred_error
+    xy = np.empty_like(lonlat)
+    row_frame = frame_of_group[groups.codes]
+    for k, work in enumerate(frames):
+        mine = np.flatnonzero(row_frame == k)
+        if len(mine):
+            to_work = Transformer.from_crs("EPSG:4326", work, always_xy=True)
+            xy[mine, 0], xy[mine, 1] = to_work.transform(lonlat[mine, 0], lonlat[mine, 1])
     worst = int(np.argmax(error))
     if error[worst] > max_scale_error:
         raise InputError(
@@ -338,6 +390,14 @@ def prepare(
         return Prepared(frame, xy, frame.crs, work, groups=groups)
     error = scale_error_over(work, lonlat, xy)
     if error > max_scale_error and work_crs is None:
+        # Too wide for its UTM zone: a transverse Mercator frame on the data's own centre.
+        centre = _centres(lonlat, np.zeros(len(lonlat), dtype=np.int64), 1)[0]
+        centred = _centred_frame(float(centre[0]))
+        centred_xy = _points_of(frame.to_crs(centred), name, centroids)
+        centred_error = scale_error_over(centred, lonlat, centred_xy)
+        if centred_error < error:
+            work, xy, error = centred, centred_xy, centred_error
+    if error > max_scale_error and work_crs is None:
         extent = float(np.ptp(xy, axis=0).max()) / 1000
         raise InputError(
             f"{name}: the data span {extent:,.0f} km, and the working frame {CRS(work).name!r} distorts "
@@ -360,7 +420,7 @@ def _on_ellipsoid(frame: Any, name: str, centroids: bool, groups: Groups | None)
     if centroids and (shapely.get_type_id(frame.geometry.values) != shapely.GeometryType.POINT).any():
         # Centroids are areal, so they are taken in a metric frame (the data's UTM zone), not
         # in degrees; only the points go on to the ellipsoid.
-        utm = CRS(frame.estimate_utm_crs())
+        utm = _utm_for(frame, name)
         points = gpd.GeoDataFrame(geometry=frame.to_crs(utm).geometry.centroid, crs=utm, index=frame.index)
     if not CRS(points.crs).equals(_WGS84):
         points = points.to_crs(_WGS84)
