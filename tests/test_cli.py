@@ -116,14 +116,31 @@ def test_output_formats_by_extension_read_back(csv_path, tmp_path, capsys, suffi
         assert back.crs.to_epsg() == 32632
 
 
+def geodesic_weber_cost_scipy(lonlat: np.ndarray, w: np.ndarray) -> float:
+    """Weighted Fermat–Weber cost on the WGS84 ellipsoid: scipy.optimize Nelder–Mead on the
+    objective measured with pyproj.Geod (GeographicLib), from the mean point."""
+    from pyproj import Geod
+
+    geod = Geod(ellps="WGS84")
+
+    def f(p):
+        n = len(lonlat)
+        return float(w @ geod.inv(np.full(n, p[0]), np.full(n, p[1]), lonlat[:, 0], lonlat[:, 1])[2])
+
+    res = minimize(f, lonlat.mean(0), method="Nelder-Mead", options={"xatol": 1e-11, "fatol": 1e-9, "maxiter": 40000})
+    return float(res.fun)
+
+
 def test_geojson_input_uses_its_crs(tmp_path, capsys):
     path = tmp_path / "pts.geojson"
     lonlat = gpd.GeoDataFrame({"w": W}, geometry=gpd.points_from_xy(XY[:, 0], XY[:, 1]), crs="EPSG:32632").to_crs(4326)
     lonlat.to_file(path, driver="GeoJSON")
     code, out, err = run(["weber-point", path, "--weight", "w"], capsys)
     assert code == 0, err
-    # Projected to the estimated UTM zone (32N here, by pyproj): the cost of the EPSG:32632 points.
-    assert table_of(out)["cost_m"].iloc[0] == pytest.approx(weber_cost_scipy(XY, W), rel=1e-6)
+    # Solved on the WGS84 ellipsoid: scipy on the geodesic objective measured by pyproj.Geod.
+    lonlat_xy = shapely.get_coordinates(lonlat.geometry.values)
+    assert table_of(out)["cost_m"].iloc[0] == pytest.approx(geodesic_weber_cost_scipy(lonlat_xy, W), rel=1e-9)
+    assert table_of(out)["work_crs"].iloc[0] == "WGS84 ellipsoid"
 
 
 def test_polygons_need_centroids(tmp_path, capsys):
@@ -433,8 +450,9 @@ def test_lon_lat_columns_are_recognised_and_default_to_wgs84(tmp_path, capsys):
     code, out, err = run(["weber-point", towns_csv(tmp_path), "--weight", "people"], capsys)
     assert code == 0, err
     assert "'lon', 'lat'" in err and "EPSG:4326" in err  # the choice is printed
-    xy, w = towns_utm(), TOWNS["people"].to_numpy(float)
-    assert table_of(out)["cost_m"].iloc[0] == pytest.approx(weber_cost_scipy(xy, w), rel=1e-6)  # scipy in UTM 32N
+    lonlat, w = TOWNS[["lon", "lat"]].to_numpy(float), TOWNS["people"].to_numpy(float)
+    # scipy on the geodesic objective measured by pyproj.Geod (the ellipsoid model)
+    assert table_of(out)["cost_m"].iloc[0] == pytest.approx(geodesic_weber_cost_scipy(lonlat, w), rel=1e-9)
     assert {"lon", "lat"} <= set(table_of(out).columns)  # the point written under the input's own names
 
 
@@ -622,8 +640,10 @@ def test_demo_command_checks_its_folder(tmp_path, capsys):
 def test_data_too_wide_for_one_projection_speaks_of_options(tmp_path, capsys):
     path = tmp_path / "wide.csv"
     path.write_text("lon,lat\n-170,0\n0,10\n170,-10\n")
+    # Lon/lat input is solved on the ellipsoid; points beyond a hemisphere are refused there,
+    # naming the ways on (the ellipsoid has no scale error, so no --max-scale-error).
     code, _, err = run(["weber-point", path], capsys)
-    line = assert_user_error(code, err, "--work-crs", "--max-scale-error", "--by")
+    line = assert_user_error(code, err, "hemisphere", "--work-crs", "--by")
     assert "frame" not in line and "=" not in line
     code, _, err = run(["weber-point", path, "--work-crs", "EPSG:nope"], capsys)
     assert_user_error(code, err, "--work-crs", "not a coordinate reference system")

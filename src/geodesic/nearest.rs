@@ -1,14 +1,15 @@
 //! Geodesically nearest site of every point, at any extent.
 //!
 //! The sites' Earth-centred positions on the ellipsoid go into a 3-D R*-tree (`rstar`,
-//! bulk loaded). For each point the tree yields sites in increasing straight-line (chord)
-//! distance; each candidate's geodesic distance comes from the inverse problem (Karney
-//! 2013). The chord between two points of the surface is never longer than any path on it,
-//! so `chord ≤ s` for every site: once the next chord exceeds the best geodesic distance
-//! found, no later site can be nearer, and the answer is exact (ties to the smaller site
-//! index). Chord order and geodesic order can differ (the ellipsoid is not a sphere, and
-//! the chord grows more slowly than the arc), which is why candidates are taken until
-//! that bound closes rather than a fixed number.
+//! bulk loaded). For each point the tree gives the site of shortest straight-line (chord)
+//! distance, whose geodesic distance `s₀` (the inverse problem, Karney 2013) bounds the
+//! optimum from above. The chord between two points of the surface is never longer than
+//! any path on it, so `chord ≤ s` for every site: only sites whose chord is at most `s₀`
+//! can be nearer or as near, and the tree lists exactly those; each is measured on the
+//! ellipsoid, and the answer is exact (ties to the smaller site index). Chord order and
+//! geodesic order can differ (the ellipsoid is not a sphere, and the chord grows more
+//! slowly than the arc), which is why the candidates are all sites within that bound rather
+//! than a fixed number.
 
 use rayon::prelude::*;
 use rstar::primitives::GeomWithData;
@@ -42,12 +43,16 @@ impl SiteTree {
     /// The nearest site to `p` and its geodesic distance, metres.
     pub(crate) fn nearest(&self, p: Point) -> (usize, f64) {
         let q = ecef(p);
-        let mut best = (usize::MAX, f64::INFINITY);
-        for (site, chord2) in self.tree.nearest_neighbor_iter_with_distance_2(q) {
-            if chord2.sqrt() > best.1 * (1.0 + SLACK) {
-                break;
-            }
+        // The chord-nearest site gives an upper bound on the geodesic optimum; every site that
+        // can beat or tie it has a chord no longer than that bound (chord <= geodesic).
+        let first = self.tree.nearest_neighbor(q).expect("validated: at least one site");
+        let mut best = (first.data, self.earth.distance(p, self.sites[first.data]));
+        let reach = best.1 * (1.0 + SLACK);
+        for site in self.tree.locate_within_distance(q, reach * reach) {
             let j = site.data;
+            if j == first.data {
+                continue;
+            }
             let s = self.earth.distance(p, self.sites[j]);
             if s < best.1 || (s == best.1 && j < best.0) {
                 best = (j, s);

@@ -6,7 +6,11 @@ GeoDataFrames in the input's CRS. Coordinates are handled as follows:
 * a **projected** CRS is used as it is — distances, costs and areas come out in its units,
   named in the columns (``distance_m``, ``area_m2``; ``_ft`` for feet);
 * a **geographic** CRS (degrees) is checked (latitudes within ±90, longitudes within
-  ±540, swapped columns named) and projected to a UTM zone — the frame's, or with ``by=``
+  ±540, swapped columns named). :func:`weber_point`, :func:`minimax_point`,
+  :func:`enclosing_circle` and :func:`nearest_site` then solve on the WGS84 ellipsoid itself
+  (:mod:`placewise.geodesic`): geodesic metres at any extent, across the antimeridian and
+  near the poles, with ``work_crs`` reading "WGS84 ellipsoid" and ``scale_error`` 0. The
+  other functions project to a UTM zone — the frame's, or with ``by=``
   each group's own — the kernel runs there, and geometries are projected back: distances
   and costs are metres and areas square metres. The zone's worst scale error over the data
   is measured (PROJ's scale factors) and stated in the ``scale_error`` and ``work_crs``
@@ -23,9 +27,9 @@ group value, with a ``problem`` column (``None``, or why a group was skipped wit
 cost, a tree's length and saving) are columns of a ``summary`` table, never only
 attributes, so every file writer keeps them.
 
-Results are planning aids under the model (straight-line distance in the working CRS and
-the given weights); check them against local regulations and licensed professional
-judgement.
+Results are planning aids under the model (straight-line distance in the working CRS, or
+geodesic distance on the ellipsoid, and the given weights); check them against local
+regulations and licensed professional judgement.
 
 Requires the ``geo`` extra (geopandas, pyproj).
 """

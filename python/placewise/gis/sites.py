@@ -8,7 +8,7 @@ from typing import Any, Literal
 import placewise as _pw
 from placewise import geodesic as _geodesic
 
-from .._core import InputError
+from .._core import DegenerateInputError, InputError
 from ._frames import MAX_SCALE_ERROR, call, framed, prepare, weights
 
 __all__ = ["enclosing_circle", "enclosing_ellipse", "minimax_point", "weber_point"]
@@ -28,7 +28,14 @@ def _one_per_group(kernel: Any, frame: Any, weight: Any, by: str | None, planar:
     rows = {"points": pf.rows, "weights": pf.rows}
     grouped = {} if groups is None else {"errors": errors}
     arguments = (pf.xy, weights(pf, weight, "frame")) if weighted else (pf.xy,)
-    result = call(kernel, *arguments, groups=groups, rows=rows, **grouped, **options)
+    try:
+        result = call(kernel, *arguments, groups=groups, rows=rows, **grouped, **options)
+    except DegenerateInputError as exc:
+        if not pf.ellipsoid:
+            raise
+        # Data beyond a hemisphere: say how to proceed in this layer's terms.
+        raise type(exc)(f"{exc}; or split the data with by=, or pass work_crs= with a projection suited to "
+                        "the whole area") from None
     return framed(result, pf, groups, rows, count=True)
 
 
