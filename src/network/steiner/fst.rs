@@ -32,8 +32,10 @@ use crate::cancel::Clock;
 use std::collections::HashMap;
 use std::f64::consts::PI;
 
+use rayon::prelude::*;
+
 use super::cross;
-use crate::geometry::{add, distance, dot, scale, sub, Point};
+use crate::geometry::{add, distance, distance_squared, dot, scale, sub, Point};
 
 /// Tolerance of the tests, in working-frame coordinates (bounding box of size about 1).
 const TOL: f64 = 1e-10;
@@ -211,12 +213,14 @@ fn arc_parameter(s: Point, centre: Point, theta_q: f64) -> f64 {
 
 /// Every full Steiner tree on at least three of `points` (distinct, in the working frame) that passes
 /// the pruning tests, plus the MST edges as two-terminal FSTs; `None` when `clock` stops the
-/// generation first (it is polled every few thousand pairings).
+/// generation first (it is polled before each item is paired with its partners).
 ///
 /// # Runtime
 /// Exponential in the worst case. On uniformly spread terminals the pruning keeps a few
 /// hundred to a few thousand equilateral points for 20 terminals (0.01–2 s) and 2–3 FSTs per
-/// terminal, and the growth is much slower than doubling per terminal.
+/// terminal, and the growth is much slower than doubling per terminal. The pairings of each
+/// subtree size run in parallel on the rayon pool; the output is the same on any number of
+/// threads.
 pub(crate) fn full_steiner_trees(points: &[Point], bottleneck: &Bottleneck, clock: &Clock) -> Option<Vec<FullTree>> {
     generate(points, bottleneck, clock, true)
 }
@@ -253,8 +257,6 @@ fn generate(points: &[Point], bottleneck: &Bottleneck, clock: &Clock, prune: boo
         by_size[1].push(items.len() as u32);
         items.push(Item { mask: 1u64 << t, pos: p, kind: Kind::Terminal(t) });
     }
-    let mut steps = 0usize;
-    let mut mst_of: HashMap<u64, f64> = HashMap::new();
     // Both edges from a Steiner point to its children are at most the longest MST edge
     // (the largest bottleneck distance), and the child's own Steiner point is within its
     // farthest arc distance of its location: two items farther apart than twice that edge
@@ -265,51 +267,68 @@ fn generate(points: &[Point], bottleneck: &Bottleneck, clock: &Clock, prune: boo
     };
     sort_by_x(&mut by_size[1], &items);
     // nearest_bsd[item * n + v]: the smallest bottleneck distance from a terminal below the
-    // item to terminal v.
+    // item to terminal v; far[item]: the item's farthest arc distance (`reach`).
     let mut nearest_bsd: Vec<f64> = Vec::with_capacity(items.len() * n);
+    let mut far: Vec<f64> = Vec::with_capacity(items.len());
     for item in &items {
         push_nearest(&mut nearest_bsd, item.mask, bottleneck, n);
+        far.push(reach(item).1);
     }
     for k in 2..n {
-        let mut fresh = Vec::new();
-        for i in 1..=k / 2 {
+        // The pairings of one size are independent: they run in parallel, each item `a` of
+        // the smaller side with its partners, and are gathered in the order of `a` so that
+        // the output does not depend on the thread count.
+        let xs: Vec<Vec<f64>> =
+            by_size.iter().map(|list| list.iter().map(|&b| items[b as usize].pos[0]).collect()).collect();
+        let widest: Vec<f64> =
+            by_size.iter().map(|list| list.iter().map(|&b| far[b as usize]).fold(0.0, f64::max)).collect();
+        let jobs: Vec<(usize, usize, u32)> =
+            (1..=k / 2).flat_map(|i| by_size[i].iter().enumerate().map(move |(a_pos, &a)| (i, a_pos, a))).collect();
+        let pair_with = |mst_of: &mut HashMap<u64, f64>, &(i, a_pos, a): &(usize, usize, u32)| {
+            if clock.stop() {
+                return None;
+            }
             let j = k - i;
-            let xs: Vec<f64> = by_size[j].iter().map(|&b| items[b as usize].pos[0]).collect();
-            let widest = by_size[j].iter().map(|&b| reach(&items[b as usize]).1).fold(0.0, f64::max);
-            for (a_pos, &a) in by_size[i].iter().enumerate() {
-                let (pa, far_a) = (items[a as usize].pos, reach(&items[a as usize]).1);
-                let window = if prune { 2.0 * longest + far_a + widest + TOL } else { f64::INFINITY };
-                let first = xs.partition_point(|&x| x < pa[0] - window);
-                let last = xs.partition_point(|&x| x <= pa[0] + window);
-                let first = if i == j { first.max(a_pos + 1) } else { first };
-                for &b in by_size[j].get(first..last).unwrap_or(&[]) {
-                    let ib = &items[b as usize];
-                    if items[a as usize].mask & ib.mask != 0 {
-                        continue;
-                    }
-                    // The same with the smallest bottleneck distance between the two sides.
-                    let mut closest = f64::INFINITY;
-                    for v in bits(ib.mask) {
-                        closest = closest.min(nearest_bsd[a as usize * n + v]);
-                    }
-                    if prune && distance(pa, ib.pos) > 2.0 * closest + far_a + reach(ib).1 + TOL {
-                        continue;
-                    }
-                    steps += 1;
-                    if steps.is_multiple_of(4096) && clock.stop() {
-                        return None;
-                    }
-                    for (p, q) in [(a, b), (b, a)] {
-                        if let Some(item) = equilateral(&items, p, q, bottleneck, points, &mut mst_of, prune) {
-                            fresh.push(item);
-                        }
+            let mut found = Vec::new();
+            let (pa, far_a) = (items[a as usize].pos, far[a as usize]);
+            let window = if prune { 2.0 * longest + far_a + widest[j] + TOL } else { f64::INFINITY };
+            let first = xs[j].partition_point(|&x| x < pa[0] - window);
+            let last = xs[j].partition_point(|&x| x <= pa[0] + window);
+            let first = if i == j { first.max(a_pos + 1) } else { first };
+            for &b in by_size[j].get(first..last).unwrap_or(&[]) {
+                let ib = &items[b as usize];
+                if items[a as usize].mask & ib.mask != 0 {
+                    continue;
+                }
+                // The same with the smallest bottleneck distance between the two sides.
+                let mut closest = f64::INFINITY;
+                for v in bits(ib.mask) {
+                    closest = closest.min(nearest_bsd[a as usize * n + v]);
+                }
+                // Sharper, by the law of cosines at the 120° Steiner point s on the arc over
+                // p and q: |p − q|² = |s − p|² + |s − q|² + |s − p|·|s − q|, and the
+                // bottleneck test below keeps only arcs where |s − p| ≤ A and |s − q| ≤ B
+                // (A, B as below), so |p − q|² ≤ A² + B² + AB is necessary for either
+                // orientation; it spares the trigonometry of most hopeless pairs.
+                let (reach_a, reach_b) = (closest + far_a + TOL, closest + far[b as usize] + TOL);
+                if prune
+                    && distance_squared(pa, ib.pos) > reach_a * reach_a + reach_b * reach_b + reach_a * reach_b + TOL
+                {
+                    continue;
+                }
+                for (p, q) in [(a, b), (b, a)] {
+                    if let Some(item) = equilateral(&items, p, q, bottleneck, points, mst_of, prune) {
+                        found.push(item);
                     }
                 }
             }
-        }
-        for item in fresh {
+            Some(found)
+        };
+        let fresh: Vec<Vec<Item>> = jobs.par_iter().map_init(HashMap::new, pair_with).collect::<Option<_>>()?;
+        for item in fresh.into_iter().flatten() {
             by_size[k].push(items.len() as u32);
             push_nearest(&mut nearest_bsd, item.mask, bottleneck, n);
+            far.push(reach(&item).1);
             items.push(item);
         }
         let mut list = std::mem::take(&mut by_size[k]);
@@ -445,8 +464,8 @@ fn equilateral(
     // `shift` over half a spacing.
     let bsd_tree = *mst_of.entry(mask).or_insert_with(|| bottleneck.mst_length(&bits(mask).collect::<Vec<_>>()));
     let upper_bound_holds = |s: Point| {
-        let link = bits(mask).map(|v| distance(points[v], s)).fold(f64::INFINITY, f64::min);
-        distance(s, e) <= bsd_tree + link + 2.0 * shift + TOL
+        let link = bits(mask).map(|v| distance_squared(points[v], s)).fold(f64::INFINITY, f64::min).sqrt();
+        length(sub(s, e)) <= bsd_tree + link + 2.0 * shift + TOL
     };
     // Lune test on the edge from s to a terminal child t: a terminal z with |z − t| and
     // |z − s| both below |s − t| would replace the longest edge of the cycle s–t–z (Gilbert
@@ -458,8 +477,16 @@ fn equilateral(
                 return true;
             };
             let pt = points[t];
-            let l = distance(s, pt) - 2.0 * shift - TOL;
-            !points.iter().enumerate().any(|(z, &pz)| z != t && distance(pz, s) < l && distance(pz, pt) < l)
+            let l = length(sub(s, pt)) - 2.0 * shift - TOL;
+            if l <= 0.0 {
+                return true;
+            }
+            // Compared squared: both sides are non-negative.
+            let l2 = l * l;
+            !points
+                .iter()
+                .enumerate()
+                .any(|(z, &pz)| z != t && distance_squared(pz, s) < l2 && distance_squared(pz, pt) < l2)
         })
     };
     // Wedge property (Winter and Zachariasen 1997): the rest of the tree hangs from s by the
@@ -475,22 +502,32 @@ fn equilateral(
     // s − p has no direction when s is at p.
     let middle = Kind::arc_point(centre, radius, theta_q, ARC / 2.0);
     let side_p = signed_angle(sub(middle, e), sub(middle, pp)).signum() * (PI / 3.0);
+    // Evaluated without angles: a terminal strictly inside a cone passes by two cross
+    // products; any other is inside the widened cone when its angle from the cone's bisector
+    // is at most π/6 + slack, i.e. when the cosine of that angle is at least
+    // cos(A + asin x) = cos A·√(1 − x²) − sin A·x with A = π/6 + turn + ARC_TOL and
+    // x = shift / gap (A + asin x < π, so the cosine decides).
+    let (cos60, sin60) = (0.5, super::HALF_SQRT3);
+    let (sin_a, cos_a) = (PI / 6.0 + turn + ARC_TOL).sin_cos();
     let wedge_holds = |s: Point| {
         let d = sub(s, e);
         [side_p, -side_p].iter().all(|&alpha| {
+            let sign = alpha.signum();
+            // The cone's far edge (d turned by alpha) and its bisector (d turned by alpha/2).
+            let edge = [d[0] * cos60 - sign * d[1] * sin60, sign * d[0] * sin60 + d[1] * cos60];
+            let bisector = [d[0] * sin60 - sign * d[1] * cos60, sign * d[0] * cos60 + d[1] * sin60];
             bits(!mask & low_bits(points.len())).any(|z| {
                 let w = sub(points[z], s);
+                if sign * cross(d, w) >= 0.0 && sign * cross(w, edge) >= 0.0 {
+                    return true;
+                }
                 let gap = dot(w, w).sqrt();
                 if gap <= shift + TOL {
                     return true;
                 }
-                let slack = turn + (shift / gap).min(1.0).asin() + ARC_TOL;
-                let phi = signed_angle(d, w);
-                if alpha > 0.0 {
-                    phi >= -slack && phi <= alpha + slack
-                } else {
-                    phi <= slack && phi >= alpha - slack
-                }
+                let x = (shift / gap).min(1.0);
+                let cos_half = cos_a * (1.0 - x * x).sqrt() - sin_a * x;
+                dot(bisector, w) >= length(bisector) * gap * cos_half
             })
         })
     };
@@ -501,25 +538,51 @@ fn equilateral(
     // at most `shift` and the ray turns by at most `turn` (c is on the circle of s), so the
     // chord is at most 2r'·cos(max(0, ψ − turn)); the edge is on the paths between the
     // two sides, so it is at most `limit` in a Steiner minimum tree.
+    let (sin_turn, cos_turn) = turn.sin_cos();
     let child_edges_hold = |s: Point| {
         [(ip, pp), (iq, qq)].iter().all(|&(child, at)| {
             let Kind::Equilateral { centre: c, radius: r, .. } = child.kind else {
                 return true;
             };
-            let ray = sub(s, at);
-            let psi = signed_angle(sub(c, at), ray).abs();
-            let chord = if psi - turn >= PI / 2.0 { 0.0 } else { 2.0 * r * (psi - turn).max(0.0).cos() };
-            dot(ray, ray).sqrt() - shift - chord <= limit + TOL
+            let (ray, axis) = (sub(s, at), sub(c, at));
+            let ray_length = length(ray);
+            let lengths = ray_length * length(axis);
+            // cos(max(0, ψ − turn)) clamped at 0 beyond a right angle, from cos ψ and sin ψ.
+            let chord = if lengths == 0.0 {
+                2.0 * r
+            } else {
+                let (cos_psi, sin_psi) = (dot(axis, ray) / lengths, cross(axis, ray).abs() / lengths);
+                if cos_psi >= cos_turn {
+                    2.0 * r
+                } else {
+                    2.0 * r * (cos_psi * cos_turn + sin_psi * sin_turn).max(0.0)
+                }
+            };
+            ray_length - shift - chord <= limit + TOL
         })
     };
+    // The samples, by rotating the first one step by step.
+    let mut samples = [[0.0; 2]; SAMPLES];
+    let ((mut sin_u, mut cos_u), (sin_step, cos_step)) = ((theta_q + lo).sin_cos(), step.sin_cos());
+    for sample in &mut samples {
+        *sample = [centre[0] + radius * cos_u, centre[1] + radius * sin_u];
+        (cos_u, sin_u) = (cos_u * cos_step - sin_u * sin_step, sin_u * cos_step + cos_u * sin_step);
+    }
     let passing = |k: usize| {
-        let s = Kind::arc_point(centre, radius, theta_q, lo + step * k as f64);
+        let s = samples[k];
         child_edges_hold(s) && upper_bound_holds(s) && lune_is_empty(s) && wedge_holds(s)
     };
     let first = (0..SAMPLES).find(|&k| passing(k))?;
     let last = (first..SAMPLES).rev().find(|&k| passing(k)).unwrap_or(first);
     let (lo, hi) = (lo.max(lo + step * (first as f64 - 0.5)), hi.min(lo + step * (last as f64 + 0.5)));
     Some(item(lo, hi))
+}
+
+/// Euclidean length by a square root (the hot tests need no overflow guard: working-frame
+/// coordinates are of size about 1).
+#[inline]
+fn length(v: Point) -> f64 {
+    dot(v, v).sqrt()
 }
 
 /// The indices of the set bits of `mask`, ascending.
