@@ -56,7 +56,8 @@ pub use discrete::{
 };
 pub use enclose::{
     enclosing_circle, enclosing_circle_with, enclosing_circles, enclosing_ellipse, enclosing_ellipses, minimax_point,
-    minimax_points, Circle, CircleOptions, Ellipse, MinimaxPoint,
+    minimax_point_in_region, minimax_points, minimax_points_in_region, Circle, CircleOptions, Ellipse, MinimaxPoint,
+    RegionMinimaxPoint,
 };
 pub use error::{Error, Namer, Positions, Result};
 pub use geodesic::{
@@ -65,8 +66,11 @@ pub use geodesic::{
     geodesic_nearest_site_grouped, geodesic_weber_point, geodesic_weber_points, CenterOptions as GeodesicCenterOptions,
     GeodesicCenter, GeodesicCircle, CONVEX_CAP_DEGREES, HEMISPHERE_DEGREES,
 };
-pub use geometry::{Point, Weights};
-pub use median::{weber_point, weber_points, Metric, WeberOptions, WeberPoint};
+pub use geometry::{FeasibleRegion, Point, Weights};
+pub use median::{
+    weber_point, weber_point_in_region, weber_points, weber_points_in_region, Metric, RegionWeberPoint, WeberOptions,
+    WeberPoint,
+};
 pub use multi::{
     p_center, p_centers, p_median, p_medians, CenterOptions, CenterPlan, Effort, MedianOptions, MedianPlan, Service,
     EXACT_MAX_POINTS,

@@ -22,6 +22,8 @@ import placewise as pw
 from hostile import AWKWARD_POINTS, BAD_POINTS, BAD_WEIGHTS
 
 SITES = np.array([[0.0, 0.0], [3.0, 1.0], [-2.0, 2.0]])
+# A feasible region beside the catalogue's clouds: an L-shaped lot (non-convex).
+LOT = [[1.0, 1.0], [4.0, 1.0], [4.0, 2.0], [2.0, 2.0], [2.0, 4.0], [1.0, 4.0]]
 
 # name -> how to call it with a points argument (and, where it takes them, weights)
 KERNELS: dict[str, Callable[..., Any]] = {
@@ -38,6 +40,10 @@ KERNELS: dict[str, Callable[..., Any]] = {
     "steiner_tree": lambda p, w=None: pw.steiner_tree(p),
     "p_median": lambda p, w=None: pw.p_median(p, 2, w),
     "p_center": lambda p, w=None: pw.p_center(p, 2, w),
+    "weber_point(region)": lambda p, w=None: pw.weber_point(p, w, region=LOT),
+    "minimax_point(region)": lambda p, w=None: pw.minimax_point(p, w, region=LOT),
+    "p_median(region)": lambda p, w=None: pw.p_median(p, 2, w, region=LOT, effort="fast"),
+    "p_center(region)": lambda p, w=None: pw.p_center(p, 2, w, region=LOT),
     # Longitude/latitude kernels (placewise.geodesic): out-of-range degrees are InputErrors too.
     "geodesic.weber_point": lambda p, w=None: pw.geodesic.weber_point(p, w),
     "geodesic.minimax_point": lambda p, w=None: pw.geodesic.minimax_point(p, w),
@@ -52,6 +58,7 @@ KERNELS: dict[str, Callable[..., Any]] = {
     "capacitated_p_median": lambda p, w=None: pw.capacitated_p_median(p, 2, [1e9, 1e9], w),
 }
 WEIGHTED = {"weber_point", "weber_point(manhattan)", "minimax_point", "nearest_site", "p_median", "p_center",
+            "weber_point(region)", "minimax_point(region)", "p_median(region)", "p_center(region)",
             "geodesic.weber_point", "geodesic.minimax_point", "geodesic.nearest_site",
             "capacity_allocation", "capacitated_p_median"}
 

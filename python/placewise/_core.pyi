@@ -34,11 +34,28 @@ def set_threads(threads: Any) -> None: ...
 def thread_count() -> int: ...
 
 # --- median (src/py/median.rs) ---
+# A feasible region (region_vertices (m, 2), ring_offsets (R + 1,), both None for none)
+# adds region_active, region_holds_demand, free_location, free_cost / free_weighted_radius
+# and edges_searched (minimax also gap).
 def weber_point_single(
-    points: ArrayLike, weights: ArrayLike | None, metric: str, tol: Any, max_iter: Any
+    points: ArrayLike,
+    weights: ArrayLike | None,
+    metric: str,
+    tol: Any,
+    max_iter: Any,
+    region_vertices: ArrayLike | None = None,
+    ring_offsets: ArrayLike | None = None,
 ) -> _Fields: ...
 def weber_point_grouped(
-    points: ArrayLike, weights: ArrayLike | None, groups: ArrayLike, metric: str, tol: Any, max_iter: Any, errors: str
+    points: ArrayLike,
+    weights: ArrayLike | None,
+    groups: ArrayLike,
+    metric: str,
+    tol: Any,
+    max_iter: Any,
+    errors: str,
+    region_vertices: ArrayLike | None = None,
+    ring_offsets: ArrayLike | None = None,
 ) -> _Fields: ...
 
 # --- enclose (src/py/enclose.rs) ---
@@ -47,8 +64,20 @@ def weber_point_grouped(
 # support_index (CSR). Ellipse angle: degrees counter-clockwise from +x.
 def enclosing_circle_single(points: ArrayLike, seed: Any) -> _Fields: ...
 def enclosing_circle_grouped(points: ArrayLike, groups: ArrayLike, seed: Any, errors: str) -> _Fields: ...
-def minimax_point_single(points: ArrayLike, weights: ArrayLike | None) -> _Fields: ...
-def minimax_point_grouped(points: ArrayLike, weights: ArrayLike | None, groups: ArrayLike, errors: str) -> _Fields: ...
+def minimax_point_single(
+    points: ArrayLike,
+    weights: ArrayLike | None,
+    region_vertices: ArrayLike | None = None,
+    ring_offsets: ArrayLike | None = None,
+) -> _Fields: ...
+def minimax_point_grouped(
+    points: ArrayLike,
+    weights: ArrayLike | None,
+    groups: ArrayLike,
+    errors: str,
+    region_vertices: ArrayLike | None = None,
+    ring_offsets: ArrayLike | None = None,
+) -> _Fields: ...
 def enclosing_ellipse_single(points: ArrayLike, tol: Any) -> _Fields: ...
 def enclosing_ellipse_grouped(points: ArrayLike, groups: ArrayLike, tol: Any, errors: str) -> _Fields: ...
 
@@ -98,6 +127,8 @@ def p_median_single(
     effort: str,
     time_limit: Any,
     progress: Any,
+    region_vertices: ArrayLike | None = None,
+    ring_offsets: ArrayLike | None = None,
 ) -> _Fields: ...
 def p_median_grouped(
     points: ArrayLike,
@@ -111,10 +142,20 @@ def p_median_grouped(
     errors: str,
     time_limit: Any,
     progress: Any,
+    region_vertices: ArrayLike | None = None,
+    ring_offsets: ArrayLike | None = None,
 ) -> _Fields: ...
 def p_center_single(
-    points: ArrayLike, p: Any, weights: ArrayLike | None, seed: Any, time_limit: Any, progress: Any
+    points: ArrayLike,
+    p: Any,
+    weights: ArrayLike | None,
+    seed: Any,
+    time_limit: Any,
+    progress: Any,
+    region_vertices: ArrayLike | None = None,
+    ring_offsets: ArrayLike | None = None,
 ) -> _Fields: ...
+def region_covers(points: ArrayLike, region_vertices: ArrayLike, ring_offsets: ArrayLike) -> Any: ...
 def p_center_grouped(
     points: ArrayLike,
     p: Any,
@@ -124,6 +165,8 @@ def p_center_grouped(
     errors: str,
     time_limit: Any,
     progress: Any,
+    region_vertices: ArrayLike | None = None,
+    ring_offsets: ArrayLike | None = None,
 ) -> _Fields: ...
 
 # --- discrete (src/py/discrete.rs) ---

@@ -88,8 +88,12 @@ class Result:
             object.__setattr__(self, field.name, _freeze(getattr(self, field.name)))
 
     def __repr__(self) -> str:
+        # Optional fields left at their default None (a region's fields without a region) are
+        # not shown.
         shown = ", ".join(
-            f"{f.name}={_show(getattr(self, f.name))}" for f in dataclasses.fields(self) if f.repr
+            f"{f.name}={_show(getattr(self, f.name))}"
+            for f in dataclasses.fields(self)
+            if f.repr and not (f.default is None and getattr(self, f.name) is None)
         )
         return f"{type(self).__name__}({shown})"
 

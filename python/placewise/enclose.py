@@ -21,6 +21,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from . import _core
+from ._region import draw_region, region_rings
 from ._results import Grouped, Result
 
 __all__ = [
@@ -75,6 +76,7 @@ def _plot_enclosing(result: Any, ax: Any, points: ArrayLike | None, style: dict[
 
     ax = result._plot_axes(ax)
     grouped = isinstance(result, Grouped)
+    draw_region(ax, getattr(result, "region", None))
     if points is not None:
         xy = np.asarray(points, dtype=np.float64).reshape(-1, 2)
         draw_context(ax, xy)
@@ -278,8 +280,21 @@ class _MinimaxTable:
     weighted_radius: Any
     _u: Any
 
+    region_active: Any
+    region_holds_demand: Any
+    gap: Any
+    free_weighted_radius: Any
+
     def _columns(self) -> dict[str, Any]:
-        return {**_xy(self.location), self._u("weighted_radius"): _one(self.weighted_radius)}
+        columns = {**_xy(self.location), self._u("weighted_radius"): _one(self.weighted_radius)}
+        if self.region_active is not None:
+            columns |= {
+                self._u("gap"): _one(self.gap),
+                "region_active": _one(self.region_active),
+                "region_holds_demand": _one(self.region_holds_demand),
+                self._u("free_weighted_radius"): _one(self.free_weighted_radius),
+            }
+        return columns
 
     def _geometry(self) -> Any:
         import shapely
@@ -299,15 +314,35 @@ class MinimaxPoint(_MinimaxTable, Result):
         That largest weighted distance (weight × coordinate unit).
     support : ndarray of int, shape (k,)
         Input rows of the 1–3 points whose weighted distances fix the optimum (all equal
-        ``weighted_radius``).
+        ``weighted_radius``; with a region, the rows within a relative 1e-9 of it).
+    gap : float or None
+        With ``region=``: a proven bound on ``weighted_radius -`` the restricted optimum.
+    region_active : bool or None
+        With ``region=``: True when the free optimum lies outside the region, so the site
+        was moved onto the region's boundary; None without a region.
+    region_holds_demand : bool or None
+        With ``region=``: False when no demand point of positive weight lies in the region.
+    free_location : ndarray, shape (2,), or None
+    free_weighted_radius : float or None
+        With ``region=``: the unrestricted optimum and its weighted radius.
+    edges_searched : int or None
+        With ``region=``: boundary edges minimised exactly.
 
-    ``to_frame()`` gives one row: ``x``, ``y``, ``weighted_radius_<unit>``;
-    ``to_geodataframe()`` adds the site as a Point.
+    ``to_frame()`` gives one row: ``x``, ``y``, ``weighted_radius_<unit>`` (with a region
+    also ``gap_<unit>``, ``region_active``, ``region_holds_demand``,
+    ``free_weighted_radius_<unit>``); ``to_geodataframe()`` adds the site as a Point.
     """
 
     location: np.ndarray
     weighted_radius: float
     support: np.ndarray
+    gap: Any = dataclasses.field(default=None, kw_only=True)
+    region_active: Any = dataclasses.field(default=None, kw_only=True)
+    region_holds_demand: Any = dataclasses.field(default=None, kw_only=True)
+    free_location: Any = dataclasses.field(default=None, kw_only=True)
+    free_weighted_radius: Any = dataclasses.field(default=None, kw_only=True)
+    edges_searched: Any = dataclasses.field(default=None, kw_only=True)
+    region: Any = dataclasses.field(default=None, kw_only=True, repr=False)
 
     def plot(self, ax: Any = None, *, points: ArrayLike | None = None, **style: Any) -> Any:
         """Draw the site as a star, with the demand ``points`` as context and the support
@@ -353,6 +388,28 @@ class MinimaxPoints(_MinimaxTable, _GroupedWithSupport):
 
     location: np.ndarray
     weighted_radius: np.ndarray
+    gap: Any = dataclasses.field(default=None, kw_only=True)
+    region_active: Any = dataclasses.field(default=None, kw_only=True)
+    region_holds_demand: Any = dataclasses.field(default=None, kw_only=True)
+    free_location: Any = dataclasses.field(default=None, kw_only=True)
+    free_weighted_radius: Any = dataclasses.field(default=None, kw_only=True)
+    edges_searched: Any = dataclasses.field(default=None, kw_only=True)
+    region: Any = dataclasses.field(default=None, kw_only=True, repr=False)
+
+    def _item(self, position: int) -> Any:
+        item = super()._item(position)
+        if self.region_active is None:
+            return item
+        return dataclasses.replace(
+            item,
+            gap=float(self.gap[position]),
+            region_active=bool(self.region_active[position]),
+            region_holds_demand=bool(self.region_holds_demand[position]),
+            free_location=np.asarray(self.free_location)[position].copy(),
+            free_weighted_radius=float(self.free_weighted_radius[position]),
+            edges_searched=int(self.edges_searched[position]),
+            region=self.region,
+        )
 
     def plot(self, ax: Any = None, *, points: ArrayLike | None = None, **style: Any) -> Any:
         """Draw every group's site as a star in the group's colour, with the input
@@ -582,6 +639,7 @@ def minimax_point(
     *,
     groups: None = None,
     errors: Literal["raise", "skip"] = "raise",
+    region: Any = None,
 ) -> MinimaxPoint: ...
 
 
@@ -592,6 +650,7 @@ def minimax_point(
     *,
     groups: ArrayLike,
     errors: Literal["raise", "skip"] = "raise",
+    region: Any = None,
 ) -> MinimaxPoints: ...
 
 
@@ -601,6 +660,7 @@ def minimax_point(
     *,
     groups: ArrayLike | None = None,
     errors: Literal["raise", "skip"] = "raise",
+    region: Any = None,
 ) -> MinimaxPoint | MinimaxPoints:
     """The weighted minimax point: the site minimising ``max(w_i * |x - a_i|)``.
 
@@ -608,6 +668,11 @@ def minimax_point(
     the optimum of the current basis, the point of largest weighted distance from it, and
     the optimal basis of those at most four points, until every point is covered. Equal
     weights give the smallest enclosing circle's centre. Points of weight zero are ignored.
+
+    With ``region=``, the site must lie in the region (boundary included): the free optimum
+    when the region holds it, else the best point of the region's boundary (the objective is
+    convex; Hamacher and Nickel 1995), minimised exactly along every boundary edge a lower
+    bound does not rule out, with a proven ``gap``.
 
     Parameters
     ----------
@@ -619,6 +684,9 @@ def minimax_point(
     errors : {"raise", "skip"}
         With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
         label); ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
+    region : shapely Polygon or MultiPolygon, or array_like of shape (m, 2), optional
+        Where the site may go (a polygon with holes, or one ring), in the points'
+        coordinates; its rings must not cross. One region serves every group.
 
     Returns
     -------
@@ -628,7 +696,8 @@ def minimax_point(
     ------
     InputError
         For NaN/inf coordinates, bad shapes, negative, non-finite, all-zero or wrong-length
-        weights, or no points.
+        weights, or no points; a region with NaN vertices, without area or whose rings
+        cross (``argument`` is ``"region"``).
 
     Examples
     --------
@@ -648,15 +717,24 @@ def minimax_point(
     >>> print(frame["problem"][1])
     group 6: weights are all zero; at least one weight must be positive
 
+    A mast that must stand in a yard east of two hamlets goes to the yard's nearest edge:
+
+    >>> m = pw.minimax_point([[0, 1], [0, -1]], region=[[3, -2], [5, -2], [5, 2], [3, 2]])
+    >>> m.location.round(9).tolist(), round(m.weighted_radius, 9), m.region_active   # √10
+    ([3.0, 0.0], 3.16227766, True)
+
     See Also
     --------
     enclosing_circle : the unweighted case.
     weber_point : the site minimising the total weighted distance.
     """
+    vertices, offsets = region_rings(region)
+    shown = None if vertices is None else (vertices, offsets)
     if groups is None:
-        return MinimaxPoint(**_core.minimax_point_single(points, weights))
-    fields = _core.minimax_point_grouped(points, weights, groups, errors)
-    return MinimaxPoints._from_core(fields, row_group=Grouped._row_groups_of(fields["labels"], groups))
+        return MinimaxPoint(**_core.minimax_point_single(points, weights, vertices, offsets), region=shown)
+    fields = _core.minimax_point_grouped(points, weights, groups, errors, vertices, offsets)
+    return MinimaxPoints._from_core(fields, row_group=Grouped._row_groups_of(fields["labels"], groups),
+                                    region=shown)
 
 
 @overload

@@ -9,6 +9,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from . import _core
+from ._region import draw_region, region_rings
 from ._results import Grouped, Result
 
 __all__ = ["WeberPoint", "WeberPoints", "weber_point"]
@@ -38,10 +39,23 @@ class WeberPoint(Result):
         Passes over the points used.
     converged : bool
         True when ``gap <= tol * cost`` was reached.
+    region_active : bool or None
+        With ``region=``: True when the free optimum lies outside the region, so the site
+        was moved onto the region's boundary; None without a region.
+    region_holds_demand : bool or None
+        With ``region=``: False when no demand point of positive weight lies in the region.
+    free_location : ndarray, shape (2,), or None
+        With ``region=``: the unrestricted optimum.
+    free_cost : float or None
+        With ``region=``: its cost (what the region costs is ``cost - free_cost``).
+    edges_searched : int or None
+        With ``region=``: boundary edges minimised exactly (the others were ruled out by a
+        lower bound).
 
     ``to_frame()`` gives one row: ``x``, ``y``, ``cost_<unit>``, ``gap_<unit>``,
-    ``relative_gap``, ``iterations``, ``converged``; ``to_geodataframe()`` adds the site as
-    a Point.
+    ``relative_gap``, ``iterations``, ``converged`` (with a region also ``region_active``,
+    ``region_holds_demand``, ``free_cost_<unit>``); ``to_geodataframe()`` adds the site as a
+    Point.
     """
 
     location: np.ndarray
@@ -49,6 +63,12 @@ class WeberPoint(Result):
     gap: float
     iterations: int
     converged: bool
+    region_active: bool | None = dataclasses.field(default=None, kw_only=True)
+    region_holds_demand: bool | None = dataclasses.field(default=None, kw_only=True)
+    free_location: np.ndarray | None = dataclasses.field(default=None, kw_only=True)
+    free_cost: float | None = dataclasses.field(default=None, kw_only=True)
+    edges_searched: int | None = dataclasses.field(default=None, kw_only=True)
+    region: Any = dataclasses.field(default=None, kw_only=True, repr=False)
 
     @property
     def relative_gap(self) -> float:
@@ -63,6 +83,7 @@ class WeberPoint(Result):
             "relative_gap": [self.relative_gap],
             "iterations": [self.iterations],
             "converged": [self.converged],
+            **_region_columns(self, lambda v: [v]),
         }
 
     def _geometry(self) -> Any:
@@ -111,6 +132,12 @@ class WeberPoints(Grouped):
     gap: np.ndarray
     iterations: np.ndarray
     converged: np.ndarray
+    region_active: np.ndarray | None = dataclasses.field(default=None, kw_only=True)
+    region_holds_demand: np.ndarray | None = dataclasses.field(default=None, kw_only=True)
+    free_location: np.ndarray | None = dataclasses.field(default=None, kw_only=True)
+    free_cost: np.ndarray | None = dataclasses.field(default=None, kw_only=True)
+    edges_searched: np.ndarray | None = dataclasses.field(default=None, kw_only=True)
+    region: Any = dataclasses.field(default=None, kw_only=True, repr=False)
 
     @property
     def relative_gap(self) -> np.ndarray:
@@ -125,6 +152,7 @@ class WeberPoints(Grouped):
             int(self.iterations[position]),
             bool(self.converged[position]),
             unit=self.unit,
+            **_region_item(self, position),
         )
 
     def _columns(self) -> dict[str, Any]:
@@ -136,6 +164,7 @@ class WeberPoints(Grouped):
             "relative_gap": self.relative_gap,
             "iterations": self.iterations,
             "converged": self.converged,
+            **_region_columns(self, lambda v: v),
         }
 
     def _geometry(self) -> Any:
@@ -147,10 +176,36 @@ class WeberPoints(Grouped):
         return _draw_weber(self, ax, points, style)
 
 
+def _region_columns(result: Any, column: Any) -> dict[str, Any]:
+    """The region's columns (none without a region)."""
+    if result.region_active is None:
+        return {}
+    return {
+        "region_active": column(result.region_active),
+        "region_holds_demand": column(result.region_holds_demand),
+        result._u("free_cost"): column(result.free_cost),
+    }
+
+
+def _region_item(result: WeberPoints, position: int) -> dict[str, Any]:
+    """One group's region fields (none without a region)."""
+    if result.region_active is None:
+        return {}
+    return {
+        "region_active": bool(np.asarray(result.region_active)[position]),
+        "region_holds_demand": bool(np.asarray(result.region_holds_demand)[position]),
+        "free_location": np.asarray(result.free_location)[position].copy(),
+        "free_cost": float(np.asarray(result.free_cost)[position]),
+        "edges_searched": int(np.asarray(result.edges_searched)[position]),
+        "region": result.region,
+    }
+
+
 def _draw_weber(result: WeberPoint | WeberPoints, ax: Any, points: ArrayLike | None, style: dict[str, Any]) -> Any:
     from .plotting import draw_context, draw_sites, finish, quantity
 
     ax = result._plot_axes(ax)
+    draw_region(ax, result.region)
     if points is not None:
         draw_context(ax, points)
     sites = np.asarray(result.location, dtype=np.float64).reshape(-1, 2)
@@ -176,6 +231,7 @@ def weber_point(
     tol: float = 1e-10,
     max_iter: int = 10_000,
     errors: Literal["raise", "skip"] = "raise",
+    region: Any = None,
 ) -> WeberPoint: ...
 
 
@@ -189,6 +245,7 @@ def weber_point(
     tol: float = 1e-10,
     max_iter: int = 10_000,
     errors: Literal["raise", "skip"] = "raise",
+    region: Any = None,
 ) -> WeberPoints: ...
 
 
@@ -201,12 +258,20 @@ def weber_point(
     tol: float = 1e-10,
     max_iter: int = 10_000,
     errors: Literal["raise", "skip"] = "raise",
+    region: Any = None,
 ) -> WeberPoint | WeberPoints:
     """The weighted Fermat–Weber point: the site minimising ``sum(w_i * d(x, a_i))``.
 
     Euclidean distances use Weiszfeld's iteration with the Vardi–Zhang (2001) step at data
     points, Kuhn's (1973) optimality test and safeguarded Newton steps; the answer carries a
     certified optimality ``gap``. Manhattan distances are solved exactly by weighted medians.
+
+    With ``region=``, the site must lie in the region (boundary included). The objective is
+    convex, so the free optimum is kept when the region holds it; otherwise the restricted
+    optimum lies on the region's boundary (Hamacher and Nickel 1995, restricted planar
+    location), found by minimising the objective exactly along every boundary edge that a
+    lower bound does not rule out. ``gap`` then bounds the distance to the restricted
+    optimum, and ``region_active`` says whether the region moved the site.
 
     Parameters
     ----------
@@ -224,6 +289,10 @@ def weber_point(
     errors : {"raise", "skip"}
         With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
         label); ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
+    region : shapely Polygon or MultiPolygon, or array_like of shape (m, 2), optional
+        Where the site may go: a polygon with holes (or several), or one ring of vertices,
+        in the points' coordinates. Its rings must not cross. One region serves every group.
+        A region holding none of the demand is allowed (``region_holds_demand`` is False).
 
     Returns
     -------
@@ -233,8 +302,12 @@ def weber_point(
     ------
     InputError
         For NaN/inf coordinates, bad shapes, negative, all-zero or wrong-length weights,
-        an empty point set, or a ``tol`` / ``max_iter`` of the wrong type or range. Its
-        ``group`` and ``row`` attributes name the group label and input row concerned.
+        an empty point set, or a ``tol`` / ``max_iter`` of the wrong type or range, or a
+        region with NaN vertices or bad ring offsets. Its ``group`` and ``row`` attributes
+        name the group label and input row concerned.
+    DegenerateInputError
+        For a region without area or whose rings cross or overlap (``argument`` is
+        ``"region"``).
 
     Examples
     --------
@@ -252,11 +325,25 @@ def weber_point(
     0      1  0.0  0.0     2.0
     1      2  0.0  2.0     0.0
 
+    A depot that must stand on a lot east of the demand lands on the lot's nearest edge:
+
+    >>> homes = [[0, 1], [0, -1], [1, 0]]
+    >>> lot = [[3, -2], [6, -2], [6, 2], [3, 2]]
+    >>> d = pw.weber_point(homes, region=lot)
+    >>> d.location.round(9).tolist(), d.region_active, d.region_holds_demand
+    ([3.0, 0.0], True, False)
+    >>> round(d.cost, 6), bool(d.gap <= 1e-9 * d.cost)   # 2·√10 + 2 from (3, 0)
+    (8.324555, True)
+
     See Also
     --------
     minimax_point : the site minimising the largest weighted distance.
     p_median : the best p sites.
     """
+    vertices, offsets = region_rings(region)
+    shown = None if vertices is None else (vertices, offsets)
     if groups is None:
-        return WeberPoint(**_core.weber_point_single(points, weights, metric, tol, max_iter))
-    return WeberPoints._from_core(_core.weber_point_grouped(points, weights, groups, metric, tol, max_iter, errors))
+        return WeberPoint(**_core.weber_point_single(points, weights, metric, tol, max_iter, vertices, offsets),
+                          region=shown)
+    fields = _core.weber_point_grouped(points, weights, groups, metric, tol, max_iter, errors, vertices, offsets)
+    return WeberPoints._from_core(fields, region=shown)

@@ -32,6 +32,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from . import _core
+from ._region import draw_region, region_rings
 from ._results import Grouped, Result, as_points
 
 __all__ = ["CenterPlan", "CenterPlans", "MedianPlan", "MedianPlans", "p_center", "p_median"]
@@ -60,6 +61,7 @@ def _draw_plan(plan: Any, ax: Any, sites: np.ndarray, fixed: np.ndarray, style: 
     from .plotting import draw_sites, finish, quantity, site_colours
 
     ax = plan._plot_axes(ax)
+    draw_region(ax, plan.region)
     served = plan.assignment >= 0
     points, assignment = plan.points[served], plan.assignment[served]
     palette = np.asarray(site_colours(len(sites)))
@@ -100,6 +102,8 @@ class _Plan(Result):
     iterations: int
     converged: bool
     points: np.ndarray = dataclasses.field(repr=False)
+    # The feasible region (vertices, ring offsets) the new sites were kept in, for plots.
+    region: Any = dataclasses.field(default=None, kw_only=True, repr=False)
 
     def _site_xy(self) -> np.ndarray:
         """Every site's coordinates, in the order of ``assignment``."""
@@ -172,6 +176,8 @@ class _GroupedPlan(Grouped):
     """What :class:`MedianPlans` and :class:`CenterPlans` share: every group's sites (in CSR
     layout), how every input point is served, and the tables built from them."""
 
+    # The feasible region (vertices, ring offsets) the new sites were kept in, for plots.
+    region: Any = dataclasses.field(default=None, kw_only=True, repr=False)
     sites: np.ndarray
     load: np.ndarray
     count: np.ndarray
@@ -254,6 +260,7 @@ class _GroupedPlan(Grouped):
             "converged": bool(self.converged[position]),
             "points": self.points[members].copy(),
             "unit": self.unit,
+            "region": self.region,
         }
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
@@ -385,6 +392,7 @@ def p_median(
     errors: Literal["raise", "skip"] = "raise",
     time_limit: float | None = None,
     progress: bool | Callable[[int, int], object] = False,
+    region: Any = None,
 ) -> MedianPlan: ...
 
 
@@ -402,6 +410,7 @@ def p_median(
     errors: Literal["raise", "skip"] = "raise",
     time_limit: float | None = None,
     progress: bool | Callable[[int, int], object] = False,
+    region: Any = None,
 ) -> MedianPlans: ...
 
 
@@ -418,6 +427,7 @@ def p_median(
     errors: Literal["raise", "skip"] = "raise",
     time_limit: float | None = None,
     progress: bool | Callable[[int, int], object] = False,
+    region: Any = None,
 ) -> MedianPlan | MedianPlans:
     """The best ``p`` sites for weighted demand: least total weighted distance to the nearest site.
 
@@ -466,6 +476,14 @@ def p_median(
         callable is called as ``progress(done, total)`` from the calling thread while the
         search runs. Ctrl-C stops the search within a fraction of a second and raises
         ``KeyboardInterrupt``.
+    region : shapely Polygon or MultiPolygon, or array_like of shape (m, 2), optional
+        Where the new sites may go: a polygon with holes (or several), or one ring, in the
+        points' coordinates; its rings must not cross. Every new site then lies in the
+        region (boundary included): each site's location step is the restricted
+        Fermat–Weber point (the free one when the region holds it, else the best boundary
+        point; Hamacher and Nickel 1995), and every start, jump and shake target is moved to
+        the nearest point of the region. Fixed sites stay where they are. One region serves
+        every group.
 
     Returns
     -------
@@ -482,6 +500,8 @@ def p_median(
         the group label and input row concerned.
     DegenerateInputError
         When fewer than ``p`` distinct points carry positive weight (in a group).
+        Also for a region without area or whose rings cross or overlap (``argument`` is
+        ``"region"``; NaN vertices are an ``InputError``).
 
     Examples
     --------
@@ -520,22 +540,31 @@ def p_median(
     >>> quick.converged, float(quick.cost)       # (0, 0)-(2, 0) and (5, 5)-(5, 7): 2 + 2
     (True, 4.0)
 
+    Two depots that may only stand on a strip of land along y = 3 (the demand lies off it):
+
+    >>> strip = [[-1, 3], [12, 3], [12, 4], [-1, 4]]
+    >>> kept = pw.p_median([[0, 0], [1, 0], [10, 0], [11, 0]], 2, region=strip)
+    >>> sorted(kept.sites[:, 1].round(9).tolist()), round(float(kept.cost), 6)   # 4 × √(3² + 0.5²)
+    ([3.0, 3.0], 12.165525)
+
     See Also
     --------
     weber_point : the best single site.
     p_center : the ``p`` sites minimising the worst weighted trip.
     """
+    vertices, offsets = region_rings(region)
+    shown = None if vertices is None else (vertices, offsets)
     if groups is None:
         if fixed_groups is not None:
             error = _core.InputError("fixed_groups is given without groups: it names the group each fixed site serves")
             error.argument = "fixed_groups"
             raise error
-        fields = _core.p_median_single(points, p, weights, fixed, seed, effort, time_limit, progress)
-        return MedianPlan(**fields, points=as_points(points))
+        fields = _core.p_median_single(points, p, weights, fixed, seed, effort, time_limit, progress, vertices, offsets)
+        return MedianPlan(**fields, points=as_points(points), region=shown)
     fields = _core.p_median_grouped(
-        points, p, weights, groups, fixed, fixed_groups, seed, effort, errors, time_limit, progress
+        points, p, weights, groups, fixed, fixed_groups, seed, effort, errors, time_limit, progress, vertices, offsets
     )
-    return MedianPlans._from_core(fields, points=as_points(points))
+    return MedianPlans._from_core(fields, points=as_points(points), region=shown)
 
 
 # ------------------------------------------------------------------------------ p-center
@@ -658,6 +687,7 @@ def p_center(
     errors: Literal["raise", "skip"] = "raise",
     time_limit: float | None = None,
     progress: bool | Callable[[int, int], object] = False,
+    region: Any = None,
 ) -> CenterPlan: ...
 
 
@@ -672,6 +702,7 @@ def p_center(
     errors: Literal["raise", "skip"] = "raise",
     time_limit: float | None = None,
     progress: bool | Callable[[int, int], object] = False,
+    region: Any = None,
 ) -> CenterPlans: ...
 
 
@@ -685,6 +716,7 @@ def p_center(
     errors: Literal["raise", "skip"] = "raise",
     time_limit: float | None = None,
     progress: bool | Callable[[int, int], object] = False,
+    region: Any = None,
 ) -> CenterPlan | CenterPlans:
     """``p`` sites minimising the largest weighted distance from a point to its nearest site.
 
@@ -721,6 +753,13 @@ def p_center(
         callable is called as ``progress(done, total)`` from the calling thread while the
         search runs. Ctrl-C stops the search within a fraction of a second and raises
         ``KeyboardInterrupt``.
+    region : shapely Polygon or MultiPolygon, or array_like of shape (m, 2), optional
+        Where the sites may go: a polygon with holes (or several), or one ring, in the
+        points' coordinates; its rings must not cross. Every site then lies in the region
+        (boundary included): each cluster's site is its restricted minimax point (the free
+        one when the region holds it, else the best boundary point; Hamacher and Nickel
+        1995) and every start is moved to the nearest point of the region; tiny instances
+        are still solved exactly. One region serves every group.
 
     Returns
     -------
@@ -735,6 +774,8 @@ def p_center(
         input row concerned.
     DegenerateInputError
         When fewer than ``p`` distinct points carry positive weight (in a group).
+        Also for a region without area or whose rings cross or overlap (``argument`` is
+        ``"region"``; NaN vertices are an ``InputError``).
 
     Examples
     --------
@@ -757,13 +798,24 @@ def p_center(
     0      0           1.414214      1      4
     1      1           1.414214      1      4
 
+    Two masts kept out of a lake between the squares' centres (a hole in the allowed land):
+
+    >>> land = [[-5, -5], [27, -5], [27, 7], [-5, 7]]
+    >>> lake = [[0.5, 0.5], [0.5, 1.5], [21.5, 1.5], [21.5, 0.5]]
+    >>> from shapely import Polygon
+    >>> kept = pw.p_center(square + far, 2, region=Polygon(land, [lake]))
+    >>> round(kept.weighted_radius, 6)     # (1, 1.5): farthest corners at √(1 + 1.5²)
+    1.802776
+
     See Also
     --------
     minimax_point : the best single site for the worst trip.
     p_median : the ``p`` sites minimising the total weighted trip.
     """
+    vertices, offsets = region_rings(region)
+    shown = None if vertices is None else (vertices, offsets)
     if groups is None:
-        fields = _core.p_center_single(points, p, weights, seed, time_limit, progress)
-        return CenterPlan(**fields, points=as_points(points))
-    fields = _core.p_center_grouped(points, p, weights, groups, seed, errors, time_limit, progress)
-    return CenterPlans._from_core(fields, points=as_points(points))
+        fields = _core.p_center_single(points, p, weights, seed, time_limit, progress, vertices, offsets)
+        return CenterPlan(**fields, points=as_points(points), region=shown)
+    fields = _core.p_center_grouped(points, p, weights, groups, seed, errors, time_limit, progress, vertices, offsets)
+    return CenterPlans._from_core(fields, points=as_points(points), region=shown)

@@ -21,6 +21,7 @@ from numpy.typing import ArrayLike
 
 from . import _core
 from ._core import InputError
+from ._region import region_rings
 from ._results import Grouped, Result, _require_pandas, as_points
 
 __all__ = [
@@ -482,38 +483,6 @@ class VoronoiCellSets(_Cells, Grouped):
         return self.site_group
 
 
-def _region_rings(region: Any) -> tuple[np.ndarray | None, np.ndarray | None]:
-    """A region as (vertices, ring offsets): exteriors and holes alike, even-odd inside."""
-    if region is None:
-        return None, None
-    kind = getattr(region, "geom_type", None)
-    if kind is not None:
-        if kind == "Polygon":
-            polygons = [region]
-        elif kind == "MultiPolygon":
-            polygons = list(region.geoms)
-        else:
-            raise InputError(f"region must be a Polygon, MultiPolygon or an (m, 2) ring; got a {kind}")
-        rings = [
-            np.asarray(ring.coords, dtype=np.float64)[:, :2]
-            for polygon in polygons
-            if not polygon.is_empty
-            for ring in (polygon.exterior, *polygon.interiors)
-        ]
-    else:
-        try:
-            ring = np.asarray(region, dtype=np.float64)
-        except (TypeError, ValueError) as e:
-            raise InputError(f"region must be a Polygon, MultiPolygon or an (m, 2) ring: {e}") from None
-        if ring.ndim != 2 or ring.shape[1] != 2:
-            raise InputError(f"region ring must have shape (m, 2); got shape {ring.shape}")
-        rings = [ring]
-    offsets = np.zeros(len(rings) + 1, dtype=np.int64)
-    np.cumsum([len(r) for r in rings], out=offsets[1:])
-    vertices = np.concatenate(rings) if rings else np.empty((0, 2))
-    return vertices, offsets
-
-
 @overload
 def voronoi_cells(
     sites: ArrayLike, region: Any = None, *, groups: None = None, errors: Literal["raise", "skip"] = "raise"
@@ -602,7 +571,7 @@ def voronoi_cells(
     nearest_site : which site serves each demand point.
     delaunay : the triangulation dual to the cells.
     """
-    vertices, offsets = _region_rings(region)
+    vertices, offsets = region_rings(region)
     if groups is None:
         return VoronoiCells(**_core.voronoi_cells_single(sites, vertices, offsets), sites=as_points(sites))
     fields = _core.voronoi_cells_grouped(sites, groups, vertices, offsets, errors)

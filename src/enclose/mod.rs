@@ -3,6 +3,8 @@
 //! - `circle`: the smallest enclosing circle — Welzl's move-to-front algorithm (1991).
 //! - `minimax`: the weighted minimax point (weighted Euclidean 1-center) — exact
 //!   pivoting over bases of at most three points (Elzinga and Hearn 1972).
+//! - `restricted`: the weighted minimax point restricted to a feasible region (the free
+//!   optimum, or the best boundary point; Hamacher and Nickel 1995).
 //! - `ellipse`: the minimum-area enclosing ellipse — Khachiyan's algorithm with the
 //!   Todd–Yildirim (2007) away steps and the Kumar–Yildirim (2005) start, on the hull.
 //!
@@ -12,10 +14,12 @@
 mod circle;
 mod ellipse;
 mod minimax;
+mod restricted;
 
 pub use circle::{enclosing_circle, enclosing_circle_with, enclosing_circles, Circle, CircleOptions};
 pub use ellipse::{enclosing_ellipse, enclosing_ellipses, Ellipse};
 pub use minimax::{minimax_point, minimax_points, MinimaxPoint};
+pub use restricted::{minimax_point_in_region, minimax_points_in_region, RegionMinimaxPoint};
 
 use crate::batch::{run_grouped, GroupView, Grouped, OnGroupError};
 use crate::error::Result;

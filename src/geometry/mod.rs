@@ -6,9 +6,11 @@
 pub mod hull;
 pub mod predicates;
 pub mod random;
+pub mod region;
 pub mod sum;
 pub mod validate;
 
+pub use region::FeasibleRegion;
 pub use sum::CompensatedSum;
 pub use validate::{validate_points, validate_weights, Weights};
 

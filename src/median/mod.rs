@@ -5,9 +5,14 @@
 //!   step at data points, safeguarded Newton steps, Kuhn's (1973) optimality test at data
 //!   points and a certified optimality gap.
 //! - Manhattan: [`manhattan`] — exact, by weighted medians per axis.
+//! - Restricted to a feasible region: [`restricted`] — the free optimum when the region holds
+//!   it, else the best boundary point (Hamacher and Nickel 1995).
 
 mod manhattan;
+mod restricted;
 mod weiszfeld;
+
+pub use restricted::{weber_point_in_region, weber_points_in_region, RegionWeberPoint};
 
 use crate::batch::{run_grouped, Grouped, OnGroupError};
 use crate::error::{Error, Result};

@@ -12,7 +12,7 @@ use pyo3::prelude::*;
 use pyo3::types::PyDict;
 
 use super::errors::input_error;
-use crate::geometry::Point;
+use crate::geometry::{FeasibleRegion, Point};
 
 /// True when the array can be viewed as a slice as it is: C-contiguous and aligned.
 fn borrowable<T: Element, D: numpy::ndarray::Dimension>(array: &Bound<'_, PyArray<T, D>>) -> bool {
@@ -308,5 +308,40 @@ impl<'py> Cloud<'py> {
     /// The group labels, borrowed (empty when the call has none).
     pub(crate) fn labels(&self) -> PyResult<&[i64]> {
         Ok(self.labels.as_ref().map(|l| l.as_slice()).transpose()?.unwrap_or(&[]))
+    }
+}
+
+/// The region's vertices and ring offsets, both given or both absent.
+pub(crate) type RegionArrays<'py> = Option<(PyReadonlyArray2<'py, f64>, Vec<usize>)>;
+
+pub(crate) fn region_arg<'py>(
+    region_vertices: Option<&Bound<'py, PyAny>>,
+    ring_offsets: Option<&Bound<'py, PyAny>>,
+) -> PyResult<RegionArrays<'py>> {
+    match (region_vertices.filter(|r| !r.is_none()), ring_offsets.filter(|r| !r.is_none())) {
+        (Some(vertices), Some(offsets)) => {
+            let offsets = labels_arg(offsets, "region ring offsets")?;
+            let offsets: Vec<usize> = offsets
+                .as_slice()?
+                .iter()
+                .map(|&o| usize::try_from(o))
+                .collect::<Result<_, _>>()
+                .map_err(|_| input_error("region ring offsets must be >= 0".into()))?;
+            Ok(Some((points_arg(vertices, "region")?, offsets)))
+        }
+        (None, None) => Ok(None),
+        _ => Err(input_error("region vertices and ring offsets must be given together".into())),
+    }
+}
+
+/// The feasible region of sites, from its vertices and ring offsets (both `None`: no region),
+/// validated by the kernel's own constructor.
+pub(crate) fn feasible_region_arg(
+    region_vertices: Option<&Bound<'_, PyAny>>,
+    ring_offsets: Option<&Bound<'_, PyAny>>,
+) -> PyResult<Option<FeasibleRegion>> {
+    match region_arg(region_vertices, ring_offsets)? {
+        Some((vertices, offsets)) => Ok(Some(FeasibleRegion::new(as_point_slice(&vertices), &offsets)?)),
+        None => Ok(None),
     }
 }

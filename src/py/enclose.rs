@@ -9,13 +9,15 @@ use numpy::{PyArray1, PyArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
 
-use super::convert::{as_point_slice, float_arg, index_array, index_values, on_error_arg, seed_arg, Cloud};
+use super::convert::{
+    as_point_slice, feasible_region_arg, float_arg, index_array, index_values, on_error_arg, seed_arg, Cloud,
+};
 use super::fields::Fields;
 use super::{points_arg, run_detached};
 use crate::batch::Grouped;
 use crate::enclose::{
-    enclosing_circle_with, enclosing_circles, enclosing_ellipse, enclosing_ellipses, minimax_point, minimax_points,
-    CircleOptions,
+    enclosing_circle_with, enclosing_circles, enclosing_ellipse, enclosing_ellipses, minimax_point,
+    minimax_point_in_region, minimax_points, minimax_points_in_region, CircleOptions, MinimaxPoint, RegionMinimaxPoint,
 };
 use crate::geometry::Weights;
 
@@ -94,42 +96,87 @@ fn enclosing_circle_grouped<'py>(
         .done())
 }
 
-/// Fields: location (2,), weighted_radius, support (k,).
+/// A result without a region, in the restricted form: the region is not active.
+fn unrestricted(point: MinimaxPoint) -> RegionMinimaxPoint {
+    RegionMinimaxPoint { free: point.clone(), point, gap: 0.0, active: false, holds_demand: true, edges_searched: 0 }
+}
+
+/// Fields: location (2,), weighted_radius, support (k,); with a region also gap,
+/// region_active, region_holds_demand, free_location (2,), free_weighted_radius,
+/// edges_searched.
 #[pyfunction]
-#[pyo3(signature = (points, weights))]
+#[pyo3(signature = (points, weights, region_vertices=None, ring_offsets=None))]
 fn minimax_point_single<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
+    region_vertices: Option<&Bound<'py, PyAny>>,
+    ring_offsets: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
+    let region = feasible_region_arg(region_vertices, ring_offsets)?;
     let cloud = Cloud::read(points, weights, None)?;
     let (pts, w) = (cloud.points(), cloud.weights()?);
-    let m = run_detached(py, || minimax_point(pts, Weights::from_option(w)))?;
-    Ok(Fields::new(py)
-        .put("location", PyArray1::from_slice(py, &m.location))?
-        .put("weighted_radius", m.radius)?
-        .put("support", index_array(py, &m.support))?
+    let w = Weights::from_option(w);
+    let r = run_detached(py, || match &region {
+        None => minimax_point(pts, w).map(unrestricted),
+        Some(region) => minimax_point_in_region(pts, w, region),
+    })?;
+    let fields = Fields::new(py)
+        .put("location", PyArray1::from_slice(py, &r.point.location))?
+        .put("weighted_radius", r.point.radius)?
+        .put("support", index_array(py, &r.point.support))?;
+    if region.is_none() {
+        return Ok(fields.done());
+    }
+    Ok(fields
+        .put("gap", r.gap)?
+        .put("region_active", r.active)?
+        .put("region_holds_demand", r.holds_demand)?
+        .put("free_location", PyArray1::from_slice(py, &r.free.location))?
+        .put("free_weighted_radius", r.free.radius)?
+        .put("edges_searched", r.edges_searched)?
         .done())
 }
 
 /// Fields: labels, problem, location (G, 2), weighted_radius (G,), support_offsets,
-/// support_index.
+/// support_index; with a region also gap, region_active, region_holds_demand (G,),
+/// free_location (G, 2), free_weighted_radius, edges_searched (G,).
 #[pyfunction]
-#[pyo3(signature = (points, weights, groups, errors))]
+#[pyo3(signature = (points, weights, groups, errors, region_vertices=None, ring_offsets=None))]
 fn minimax_point_grouped<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
     groups: &Bound<'py, PyAny>,
     errors: &str,
+    region_vertices: Option<&Bound<'py, PyAny>>,
+    ring_offsets: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let on_error = on_error_arg(errors)?;
+    let region = feasible_region_arg(region_vertices, ring_offsets)?;
     let cloud = Cloud::read(points, weights, Some(groups))?;
     let (pts, w, l) = (cloud.points(), cloud.weights()?, cloud.labels()?);
-    let g = run_detached(py, || minimax_points(pts, Weights::from_option(w), l, on_error))?;
-    Ok(grouped_support(py, &g, |m| &m.support)?
-        .put("location", point_column(py, &g, |m| m.location)?)?
-        .put("weighted_radius", floats(py, &g, |m| m.radius))?
+    let w = Weights::from_option(w);
+    let g = run_detached(py, || match &region {
+        None => minimax_points(pts, w, l, on_error).map(|g| Grouped {
+            labels: g.labels,
+            results: g.results.into_iter().map(|r| r.map(unrestricted)).collect(),
+        }),
+        Some(region) => minimax_points_in_region(pts, w, l, region, on_error),
+    })?;
+    let fields = grouped_support(py, &g, |m| &m.point.support)?
+        .put("location", point_column(py, &g, |m| m.point.location)?)?
+        .put("weighted_radius", floats(py, &g, |m| m.point.radius))?;
+    if region.is_none() {
+        return Ok(fields.done());
+    }
+    Ok(fields
+        .put("gap", floats(py, &g, |m| m.gap))?
+        .put("region_active", PyArray1::from_vec(py, g.column(false, |m| m.active)))?
+        .put("region_holds_demand", PyArray1::from_vec(py, g.column(false, |m| m.holds_demand)))?
+        .put("free_location", point_column(py, &g, |m| m.free.location)?)?
+        .put("free_weighted_radius", floats(py, &g, |m| m.free.radius))?
+        .put("edges_searched", PyArray1::from_vec(py, g.column(0u64, |m| m.edges_searched as u64)))?
         .done())
 }
 

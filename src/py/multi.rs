@@ -4,15 +4,20 @@ use numpy::{PyArray1, PyArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
 
-use super::convert::{as_point_slice, count_arg, index_values, on_error_arg, optional_float_arg, seed_arg, Cloud};
+use std::sync::Arc;
+
+use super::convert::{
+    as_point_slice, count_arg, feasible_region_arg, index_values, on_error_arg, optional_float_arg, seed_arg, Cloud,
+};
 use super::errors::argument_error;
 use super::fields::Fields;
 use super::runtime::{progress_arg, run_watched, Progress};
-use super::{labels_arg, points_arg, weights_arg};
+use super::{labels_arg, points_arg, run_detached, weights_arg};
 use crate::batch::{Grouped, RowPlaces};
 use crate::cancel::Watch;
 use crate::geometry::{Point, Weights};
 use crate::multi::{p_center, p_centers, p_median, p_medians, CenterOptions, Effort, MedianOptions, Service};
+use rayon::prelude::*;
 
 fn effort_arg(name: &str) -> PyResult<Effort> {
     match name {
@@ -30,18 +35,23 @@ fn time_limit_arg(time_limit: Option<&Bound<'_, PyAny>>) -> PyResult<Option<f64>
     optional_float_arg(time_limit, "time_limit", "finite and > 0 (seconds)", |t| t.is_finite() && t > 0.0)
 }
 
+/// The region's vertices and ring offsets, as given (both `None`: no region).
+type Region<'a, 'py> = (Option<&'a Bound<'py, PyAny>>, Option<&'a Bound<'py, PyAny>>);
+
 /// The options of a p-median call (watched by a fresh [`Watch`]) and its progress report.
 fn median_options<'py>(
     effort: &str,
     seed: &Bound<'py, PyAny>,
     time_limit: Option<&Bound<'py, PyAny>>,
     progress: Option<&Bound<'py, PyAny>>,
+    region: Region<'_, 'py>,
 ) -> PyResult<(MedianOptions, Progress<'py>)> {
     let options = MedianOptions {
         effort: effort_arg(effort)?,
         seed: seed_arg(seed)?,
         time_limit: time_limit_arg(time_limit)?,
         watch: Watch::new(),
+        region: feasible_region_arg(region.0, region.1)?.map(Arc::new),
     };
     Ok((options, progress_arg(progress, "p_median")?))
 }
@@ -51,11 +61,13 @@ fn center_options<'py>(
     seed: &Bound<'py, PyAny>,
     time_limit: Option<&Bound<'py, PyAny>>,
     progress: Option<&Bound<'py, PyAny>>,
+    region: Region<'_, 'py>,
 ) -> PyResult<(CenterOptions, Progress<'py>)> {
     let options = CenterOptions {
         seed: seed_arg(seed)?,
         time_limit: time_limit_arg(time_limit)?,
         watch: Watch::new(),
+        region: feasible_region_arg(region.0, region.1)?.map(Arc::new),
         ..CenterOptions::default()
     };
     Ok((options, progress_arg(progress, "p_center")?))
@@ -116,7 +128,7 @@ fn grouped_service_fields<'py, T: Sync>(
 /// Fields: sites (p, 2), fixed (f, 2), assignment (n,), distance (n,), load (p + f,),
 /// count (p + f,), cost, total_load, iterations, converged.
 #[pyfunction]
-#[pyo3(signature = (points, p, weights, fixed, seed, effort, time_limit, progress))]
+#[pyo3(signature = (points, p, weights, fixed, seed, effort, time_limit, progress, region_vertices=None, ring_offsets=None))]
 #[allow(clippy::too_many_arguments)]
 fn p_median_single<'py>(
     py: Python<'py>,
@@ -128,9 +140,11 @@ fn p_median_single<'py>(
     effort: &str,
     time_limit: Option<&Bound<'py, PyAny>>,
     progress: Option<&Bound<'py, PyAny>>,
+    region_vertices: Option<&Bound<'py, PyAny>>,
+    ring_offsets: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let p = p_arg(p)?;
-    let (options, mut progress) = median_options(effort, seed, time_limit, progress)?;
+    let (options, mut progress) = median_options(effort, seed, time_limit, progress, (region_vertices, ring_offsets))?;
     let watch = options.watch.clone();
     let points = points_arg(points, "points")?;
     let weights = weights_arg(weights, "weights")?;
@@ -155,7 +169,7 @@ fn p_median_single<'py>(
 /// total_load, iterations, converged. Skipped groups have no sites, NaN totals, 0 iterations
 /// and `converged` false.
 #[pyfunction]
-#[pyo3(signature = (points, p, weights, groups, fixed, fixed_groups, seed, effort, errors, time_limit, progress))]
+#[pyo3(signature = (points, p, weights, groups, fixed, fixed_groups, seed, effort, errors, time_limit, progress, region_vertices=None, ring_offsets=None))]
 #[allow(clippy::too_many_arguments)]
 fn p_median_grouped<'py>(
     py: Python<'py>,
@@ -170,9 +184,11 @@ fn p_median_grouped<'py>(
     errors: &str,
     time_limit: Option<&Bound<'py, PyAny>>,
     progress: Option<&Bound<'py, PyAny>>,
+    region_vertices: Option<&Bound<'py, PyAny>>,
+    ring_offsets: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let p = p_arg(p)?;
-    let (options, mut progress) = median_options(effort, seed, time_limit, progress)?;
+    let (options, mut progress) = median_options(effort, seed, time_limit, progress, (region_vertices, ring_offsets))?;
     let watch = options.watch.clone();
     let on_error = on_error_arg(errors)?;
     let points = points_arg(points, "points")?;
@@ -212,7 +228,8 @@ fn p_median_grouped<'py>(
 /// Fields: sites (p, 2), assignment (n,), distance (n,), load (p,), count (p,),
 /// weighted_radius, radius, total_load, optimal, converged, iterations.
 #[pyfunction]
-#[pyo3(signature = (points, p, weights, seed, time_limit, progress))]
+#[pyo3(signature = (points, p, weights, seed, time_limit, progress, region_vertices=None, ring_offsets=None))]
+#[allow(clippy::too_many_arguments)]
 fn p_center_single<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
@@ -221,9 +238,11 @@ fn p_center_single<'py>(
     seed: &Bound<'py, PyAny>,
     time_limit: Option<&Bound<'py, PyAny>>,
     progress: Option<&Bound<'py, PyAny>>,
+    region_vertices: Option<&Bound<'py, PyAny>>,
+    ring_offsets: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let p = p_arg(p)?;
-    let (options, mut progress) = center_options(seed, time_limit, progress)?;
+    let (options, mut progress) = center_options(seed, time_limit, progress, (region_vertices, ring_offsets))?;
     let watch = options.watch.clone();
     let cloud = Cloud::read(points, weights, None)?;
     let (pts, w) = (cloud.points(), cloud.weights()?);
@@ -242,7 +261,7 @@ fn p_center_single<'py>(
 /// (G + 1,); per point point_group, assignment (row in the per-site arrays), distance; per
 /// group weighted_radius, radius, total_load, optimal, converged, iterations.
 #[pyfunction]
-#[pyo3(signature = (points, p, weights, groups, seed, errors, time_limit, progress))]
+#[pyo3(signature = (points, p, weights, groups, seed, errors, time_limit, progress, region_vertices=None, ring_offsets=None))]
 #[allow(clippy::too_many_arguments)]
 fn p_center_grouped<'py>(
     py: Python<'py>,
@@ -254,9 +273,11 @@ fn p_center_grouped<'py>(
     errors: &str,
     time_limit: Option<&Bound<'py, PyAny>>,
     progress: Option<&Bound<'py, PyAny>>,
+    region_vertices: Option<&Bound<'py, PyAny>>,
+    ring_offsets: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let p = p_arg(p)?;
-    let (options, mut progress) = center_options(seed, time_limit, progress)?;
+    let (options, mut progress) = center_options(seed, time_limit, progress, (region_vertices, ring_offsets))?;
     let watch = options.watch.clone();
     let on_error = on_error_arg(errors)?;
     let cloud = Cloud::read(points, weights, Some(groups))?;
@@ -276,7 +297,26 @@ fn p_center_grouped<'py>(
     Ok(grouped_service_fields(py, fields, &g, &places, |r| &r.service)?.done())
 }
 
+/// Whether the feasible region holds each point (boundary included; exact test), as a bool
+/// array: the filter of candidate sites by a region.
+#[pyfunction]
+#[pyo3(signature = (points, region_vertices, ring_offsets))]
+fn region_covers<'py>(
+    py: Python<'py>,
+    points: &Bound<'py, PyAny>,
+    region_vertices: &Bound<'py, PyAny>,
+    ring_offsets: &Bound<'py, PyAny>,
+) -> PyResult<Bound<'py, PyArray1<bool>>> {
+    let region = feasible_region_arg(Some(region_vertices), Some(ring_offsets))?
+        .ok_or_else(|| argument_error("region", "region must be given".into()))?;
+    let points = points_arg(points, "candidates")?;
+    let pts = as_point_slice(&points);
+    let inside = run_detached(py, || Ok(pts.par_iter().map(|&a| region.contains(a)).collect::<Vec<bool>>()))?;
+    Ok(PyArray1::from_vec(py, inside))
+}
+
 pub(super) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
+    m.add_function(wrap_pyfunction!(region_covers, m)?)?;
     m.add_function(wrap_pyfunction!(p_median_single, m)?)?;
     m.add_function(wrap_pyfunction!(p_median_grouped, m)?)?;
     m.add_function(wrap_pyfunction!(p_center_single, m)?)?;

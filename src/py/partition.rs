@@ -4,14 +4,13 @@
 //! in input order (`-1`, NaN or empty for the rows of a skipped group) and say where each row
 //! sits: `row_group` / `point_group` / `site_group` give the position of its group in `labels`.
 
-use numpy::{PyArray1, PyArray2, PyArrayMethods, PyReadonlyArray2};
+use numpy::{PyArray1, PyArray2, PyArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
 
 use rayon::prelude::*;
 
-use super::convert::{as_point_slice, index_rows, index_values, on_error_arg, Cloud};
-use super::errors::input_error;
+use super::convert::{as_point_slice, index_rows, index_values, on_error_arg, region_arg, Cloud};
 use super::fields::Fields;
 use super::{labels_arg, points_arg, run_detached, weights_arg};
 use crate::batch::RowPlaces;
@@ -110,29 +109,6 @@ fn delaunay_grouped<'py>(
         .put("representative", PyArray1::from_vec(py, representative))?
         .put("row_group", PyArray1::from_vec(py, positions(&places)))?
         .done())
-}
-
-/// The region's vertices and ring offsets, both given or both absent.
-type RegionArrays<'py> = Option<(PyReadonlyArray2<'py, f64>, Vec<usize>)>;
-
-fn region_arg<'py>(
-    region_vertices: Option<&Bound<'py, PyAny>>,
-    ring_offsets: Option<&Bound<'py, PyAny>>,
-) -> PyResult<RegionArrays<'py>> {
-    match (region_vertices.filter(|r| !r.is_none()), ring_offsets.filter(|r| !r.is_none())) {
-        (Some(vertices), Some(offsets)) => {
-            let offsets = labels_arg(offsets, "region ring offsets")?;
-            let offsets: Vec<usize> = offsets
-                .as_slice()?
-                .iter()
-                .map(|&o| usize::try_from(o))
-                .collect::<Result<_, _>>()
-                .map_err(|_| input_error("region ring offsets must be >= 0".into()))?;
-            Ok(Some((points_arg(vertices, "region")?, offsets)))
-        }
-        (None, None) => Ok(None),
-        _ => Err(input_error("region vertices and ring offsets must be given together".into())),
-    }
 }
 
 /// The cells' rings as fields: vertices (V, 2), offsets (n + 1,), parts (R + 1,), area (n,),

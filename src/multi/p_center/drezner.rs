@@ -36,12 +36,13 @@ impl Demand {
                 *stopped = true;
                 break;
             }
-            let start = if restart % 2 == 0 {
+            let start: Vec<Point> = if restart % 2 == 0 {
                 let first = if restart == 0 { self.heaviest() } else { rng.below(self.len()) };
                 self.farthest_first(first, p).iter().map(|&i| self.points[i]).collect()
             } else {
                 d_sampling(&self.points, Weights::Given(&self.weights), &self.all, &[], p, &mut rng)
             };
+            let start = start.into_iter().map(|s| self.place(s)).collect();
             let plan = self.descend(start, clock, stopped, iterations)?;
             clock.watch.advance(1);
             if best.as_ref().is_none_or(|b| plan.radius < b.radius * (1.0 - IMPROVEMENT)) {

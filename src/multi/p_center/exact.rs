@@ -51,12 +51,13 @@ impl Splits<'_> {
                 for members in &self.clusters {
                     sites.push(self.demand.minimax(members, &mut self.buffer)?.location);
                 }
-                // Unused sites (fewer clusters than p) sit on demand points; they only help.
+                // Unused sites (fewer clusters than p) sit on (or as near as the region allows
+                // to) demand points; they only help.
                 let extra: Vec<Point> = self
                     .demand
                     .points
                     .iter()
-                    .copied()
+                    .map(|&a| self.demand.place(a))
                     .filter(|a| !sites.contains(a))
                     .take(self.p - sites.len())
                     .collect();
@@ -77,11 +78,14 @@ impl Splits<'_> {
             self.clusters[c].pop();
         }
         if self.clusters.len() < self.p {
-            self.clusters.push(vec![i]);
-            self.radii.push(0.0);
-            self.place(k + 1)?;
-            self.clusters.pop();
-            self.radii.pop();
+            let alone = self.demand.alone(i);
+            if alone < self.best.radius {
+                self.clusters.push(vec![i]);
+                self.radii.push(alone);
+                self.place(k + 1)?;
+                self.clusters.pop();
+                self.radii.pop();
+            }
         }
         Ok(())
     }

@@ -13,12 +13,14 @@
 mod drezner;
 mod exact;
 
+use std::sync::Arc;
+
 use super::{check_site_count, Location, Service};
 use crate::batch::{run_grouped_placed, Grouped, OnGroupError, RowPlaces};
 use crate::cancel::Watch;
-use crate::enclose::{minimax_point, MinimaxPoint};
+use crate::enclose::{minimax_point, minimax_point_in_region, MinimaxPoint};
 use crate::error::Result;
-use crate::geometry::{distance, validate_points, validate_weights, Point, Weights};
+use crate::geometry::{distance, validate_points, validate_weights, FeasibleRegion, Point, Weights};
 use crate::partition::{allocate, SiteIndex};
 
 /// Instances with at most this many distinct points of positive weight are solved exactly.
@@ -37,11 +39,14 @@ pub struct CenterOptions {
     pub time_limit: Option<f64>,
     /// Cancel flag and progress count shared with the caller ([`crate::cancel`]).
     pub watch: Watch,
+    /// Where the sites may go (`None`: anywhere); every site lies in the region (boundary
+    /// included).
+    pub region: Option<Arc<FeasibleRegion>>,
 }
 
 impl Default for CenterOptions {
     fn default() -> Self {
-        CenterOptions { seed: 0, restarts: 16, time_limit: None, watch: Watch::default() }
+        CenterOptions { seed: 0, restarts: 16, time_limit: None, watch: Watch::default(), region: None }
     }
 }
 
@@ -68,7 +73,11 @@ const IMPROVEMENT: f64 = 1e-12;
 
 /// `p` sites minimising the largest weighted distance from a point to its nearest site.
 ///
-/// `p = 1` is the weighted minimax point itself ([`minimax_point`]). Points of weight zero
+/// `p = 1` is the weighted minimax point itself ([`minimax_point`], or
+/// [`minimax_point_in_region`] with `options.region`). With a region, every cluster's site is
+/// its restricted minimax point and every start is moved to the nearest point of the region;
+/// the exact search stays exact (a cluster's restricted radius, too, never shrinks as points
+/// join it). Points of weight zero
 /// are served (they get an assignment) but do not influence the sites.
 ///
 /// # Errors
@@ -91,12 +100,19 @@ pub fn p_center(points: &[Point], weights: Weights<'_>, p: usize, options: &Cent
 
     let mut iterations = 0;
     let mut stopped = false;
+    let region = options.region.clone();
     let (sites, optimal) = if p == 1 {
-        (vec![minimax_point(points, weights)?.location], true)
+        let single = match &region {
+            None => minimax_point(points, weights)?.location,
+            Some(region) => minimax_point_in_region(points, weights, region)?.point.location,
+        };
+        (vec![single], true)
     } else {
-        let demand = Demand::of(points, &distinct);
+        let demand = Demand::of(points, &distinct, region);
         if demand.len() == p {
-            (demand.points.clone(), true)
+            // Each location its own site, as near as the region allows: every point pays its
+            // least possible weighted distance, so the plan is optimal.
+            (demand.points.iter().map(|&a| demand.place(a)).collect(), true)
         } else {
             let clock = options.watch.clock(options.time_limit);
             let heuristic = demand.restarts(p, options, &clock, &mut stopped, &mut iterations)?;
@@ -145,6 +161,8 @@ struct Demand {
     weights: Vec<f64>,
     /// `0..len()`: every location is a candidate site of D-sampling.
     all: Vec<usize>,
+    /// Where the sites may go.
+    region: Option<Arc<FeasibleRegion>>,
 }
 
 /// Sites with the radius they achieve on the demand.
@@ -155,12 +173,24 @@ struct Plan {
 }
 
 impl Demand {
-    fn of(points: &[Point], distinct: &[Location]) -> Demand {
+    fn of(points: &[Point], distinct: &[Location], region: Option<Arc<FeasibleRegion>>) -> Demand {
         Demand {
             points: distinct.iter().map(|l| points[l.first]).collect(),
             weights: distinct.iter().map(|l| l.heaviest).collect(),
             all: (0..distinct.len()).collect(),
+            region,
         }
+    }
+
+    /// `a` when sites may go there, else the nearest point of the region.
+    fn place(&self, a: Point) -> Point {
+        self.region.as_ref().map_or(a, |r| r.project(a))
+    }
+
+    /// The radius of a cluster of location `i` alone: 0, or with a region its weighted
+    /// distance to the region.
+    fn alone(&self, i: usize) -> f64 {
+        self.weights[i] * distance(self.points[i], self.place(self.points[i]))
     }
 
     fn len(&self) -> usize {
@@ -181,7 +211,10 @@ impl Demand {
             buffer.0.push(self.points[i]);
             buffer.1.push(self.weights[i]);
         }
-        let mut m = minimax_point(&buffer.0, Weights::Given(&buffer.1))?;
+        let mut m = match &self.region {
+            None => minimax_point(&buffer.0, Weights::Given(&buffer.1))?,
+            Some(region) => minimax_point_in_region(&buffer.0, Weights::Given(&buffer.1), region)?.point,
+        };
         for s in &mut m.support {
             *s = members[*s];
         }
@@ -293,7 +326,7 @@ mod tests {
         // Gonzalez (1985): farthest-first is a 2-approximation; our descent only improves on it.
         let pts = cloud(400, 3);
         let plan = p_center(&pts, Weights::Unit, 6, &CenterOptions::default()).unwrap();
-        let demand = Demand::of(&pts, &check_site_count(&pts, Weights::Unit, 6).unwrap());
+        let demand = Demand::of(&pts, &check_site_count(&pts, Weights::Unit, 6).unwrap(), None);
         let start: Vec<Point> = demand.farthest_first(demand.heaviest(), 6).iter().map(|&i| demand.points[i]).collect();
         assert!(plan.service.weighted_radius <= demand.radius(&start).unwrap());
         assert!(!plan.optimal);

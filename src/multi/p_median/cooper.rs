@@ -1,7 +1,8 @@
 //! Cooper's local step: Cooper (1964), "Heuristic methods for location–allocation
 //! problems", SIAM Review 6(1). Alternate *allocation* (each point to its nearest site) and
 //! *location* (each site to the Fermat–Weber point of its cluster, by [`weber_point`]) until
-//! the allocation no longer changes. Only clusters whose membership changed are re-solved,
+//! the allocation no longer changes. With a region, the location step is the restricted
+//! Fermat–Weber point ([`weber_point_in_region`]). Only clusters whose membership changed are re-solved,
 //! and only the points a moved site could gain or lose are re-allocated
 //! ([`Problem::reallocate`]).
 //!
@@ -12,7 +13,7 @@
 use super::{Problem, Solution, MAX_ROUNDS};
 use crate::error::Result;
 use crate::geometry::{Point, Weights};
-use crate::median::{weber_point, WeberOptions};
+use crate::median::{weber_point, weber_point_in_region, WeberOptions};
 
 /// Reusable buffers of one search: clusters in CSR form and one cluster's points.
 #[derive(Debug, Default)]
@@ -70,7 +71,13 @@ impl Problem<'_> {
                     empty.push(j);
                     continue;
                 }
-                let location = weber_point(&ws.cluster_points, Weights::Given(&ws.cluster_weights), &options)?.location;
+                let cluster = Weights::Given(&ws.cluster_weights);
+                let location = match self.region {
+                    None => weber_point(&ws.cluster_points, cluster, &options)?.location,
+                    Some(region) => {
+                        weber_point_in_region(&ws.cluster_points, cluster, region, &options)?.point.location
+                    }
+                };
                 if location != sites[j] {
                     sites[j] = location;
                     moved.push(j);
@@ -124,7 +131,7 @@ impl Problem<'_> {
             .iter()
             .zip(&worst)
             .map(|(&j, &(_, i))| {
-                sites[j] = self.points[i];
+                sites[j] = self.place(self.points[i]);
                 j
             })
             .collect()

@@ -92,7 +92,7 @@ impl Problem<'_> {
                     if self.halted() {
                         return (c, 0, f64::INFINITY);
                     }
-                    let [tx, ty] = self.points[c];
+                    let [tx, ty] = self.place(self.points[c]);
                     for ((d, &x), &y) in dc.iter_mut().zip(&xs).zip(&ys) {
                         let (dx, dy) = (x - tx, y - ty);
                         *d = (dx * dx + dy * dy).sqrt();

@@ -28,14 +28,15 @@ mod sample;
 mod search;
 
 use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::Arc;
 
 use super::{check_site_count, Location, Service};
 use crate::batch::{run_grouped_placed, GroupIndex, Grouped, OnGroupError, RowPlaces};
 use crate::cancel::{Clock, Watch};
 use crate::error::{Error, Result};
 use crate::geometry::random::SplitMix64;
-use crate::geometry::{validate_points, validate_weights, Point, Weights, WorkingFrame};
-use crate::median::{weber_point, WeberOptions};
+use crate::geometry::{validate_points, validate_weights, FeasibleRegion, Point, Weights, WorkingFrame};
+use crate::median::{weber_point, weber_point_in_region, WeberOptions};
 use sample::{Sample, LARGE_INPUT};
 
 /// How much search [`p_median`] spends for quality.
@@ -99,6 +100,9 @@ pub struct MedianOptions {
     pub time_limit: Option<f64>,
     /// Cancel flag and progress count shared with the caller ([`crate::cancel`]).
     pub watch: Watch,
+    /// Where the new sites may go (`None`: anywhere). Every new site lies in the region
+    /// (boundary included); fixed sites are not moved.
+    pub region: Option<Arc<FeasibleRegion>>,
 }
 
 /// A p-median plan.
@@ -135,7 +139,9 @@ const IMPROVEMENT: f64 = 1e-10;
 /// site, new or `fixed`.
 ///
 /// `p = 1` without fixed sites is the convex single-site problem, answered by
-/// [`weber_point`] itself.
+/// [`weber_point`] itself (or [`weber_point_in_region`] with a region). With a region
+/// (`options.region`), Cooper's location step is the restricted Fermat–Weber point and every
+/// start, jump and shake target is moved to the nearest point of the region.
 ///
 /// # Errors
 /// - [`crate::Error::TooFewPoints`] when `points` is empty, or when fewer than `p` distinct
@@ -165,17 +171,23 @@ pub fn p_median(
 
     let mut iterations = 0;
     let stopped = AtomicBool::new(false);
+    let region = options.region.as_deref();
     let sites: Vec<Point> = if p == 1 && fixed.is_empty() {
-        let single = weber_point(points, weights, &WeberOptions::default())?;
+        let single = match region {
+            None => weber_point(points, weights, &WeberOptions::default())?,
+            Some(region) => weber_point_in_region(points, weights, region, &WeberOptions::default())?.point,
+        };
         iterations = single.iterations;
         vec![single.location]
     } else if distinct.len() == p {
-        // One site on every distinct location of positive weight: cost zero.
-        distinct.iter().map(|l| points[l.first]).collect()
+        // One site on every distinct location of positive weight (or the nearest point of the
+        // region to it): each point pays its least possible distance, so the plan is optimal.
+        distinct.iter().map(|l| region.map_or(points[l.first], |r| r.project(points[l.first]))).collect()
     } else {
         let frame = WorkingFrame::of(points);
         let local = frame.local(points);
         let fixed_local = frame.local(fixed);
+        let local_region = region.map(|r| r.mapped(|v| frame.to_local(v)));
         let candidates: Vec<usize> = distinct.iter().map(|l: &Location| l.first).collect();
         let clock = options.watch.clock(options.time_limit);
         let problem = Problem {
@@ -186,9 +198,12 @@ pub fn p_median(
             candidates: &candidates,
             clock: &clock,
             stopped: &stopped,
+            region: local_region.as_ref(),
         };
         let best = problem.solve(options, &mut iterations)?;
-        best.sites.iter().map(|&s| frame.to_world(s)).collect()
+        // Back in world coordinates, a site of the local region may sit a unit in the last
+        // place outside the given one: the exact test settles it.
+        best.sites.iter().map(|&s| region.map_or(frame.to_world(s), |r| r.project(frame.to_world(s)))).collect()
     };
 
     let all_sites: Vec<Point> = sites.iter().chain(fixed).copied().collect();
@@ -267,6 +282,8 @@ struct Problem<'a> {
     clock: &'a Clock,
     /// Set once the search stopped early (see [`Problem::halted`]).
     stopped: &'a AtomicBool,
+    /// Where new sites may go, in the working frame.
+    region: Option<&'a FeasibleRegion>,
 }
 
 /// New sites and their cost.
@@ -289,6 +306,11 @@ impl Problem<'_> {
             self.stopped.store(true, Ordering::Relaxed);
         }
         stop
+    }
+
+    /// `a` when new sites may go there, else the nearest point where they may.
+    fn place(&self, a: Point) -> Point {
+        self.region.map_or(a, |r| r.project(a))
     }
 
     /// `sites` followed by the fixed sites.
@@ -336,6 +358,7 @@ impl Problem<'_> {
                     candidates: &sample.candidates,
                     clock: self.clock,
                     stopped: self.stopped,
+                    region: self.region,
                 };
                 on_sample.best_of_starts(seed, budget, iterations)?
             }

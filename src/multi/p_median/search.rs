@@ -48,7 +48,8 @@ impl Problem<'_> {
         let mut rng = SplitMix64::new(seed);
         let mut workspace = Workspace::default();
         let mut rounds = 0;
-        let start = d_sampling(self.points, self.weights, self.candidates, self.fixed, self.p, &mut rng);
+        let mut start = d_sampling(self.points, self.weights, self.candidates, self.fixed, self.p, &mut rng);
+        start.iter_mut().for_each(|s| *s = self.place(*s));
         let mut best = self.descend(start, &mut rng, budget, &mut workspace, &mut rounds)?;
         let (mut k, mut failures) = (1, 0);
         while failures < budget.patience && best.cost > 0.0 && !self.halted() {
@@ -74,7 +75,7 @@ impl Problem<'_> {
             which.swap(step, pick);
             // A few tries at an unoccupied location; on failure the site stays.
             for _ in 0..16 {
-                let a = self.points[self.candidates[rng.below(self.candidates.len())]];
+                let a = self.place(self.points[self.candidates[rng.below(self.candidates.len())]]);
                 if !shaken.contains(&a) && !self.fixed.contains(&a) {
                     shaken[which[step]] = a;
                     break;
@@ -102,7 +103,7 @@ impl Problem<'_> {
                 break;
             }
             let mut sites = current.sites.clone();
-            sites[site] = self.points[target];
+            sites[site] = self.place(self.points[target]);
             let trial = self.cooper(sites, SEARCH_TOL, SEARCH_SETTLE, workspace, rounds)?;
             if !Self::improves(trial.cost, current.cost) {
                 break;
