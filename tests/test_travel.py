@@ -323,3 +323,39 @@ def test_random_graphs_agree_with_scipy(edges):
     assert np.array_equal(np.isnan(ours), np.isinf(ref))
     ok = np.isfinite(ref)
     np.testing.assert_allclose(ours[ok], ref[ok], rtol=1e-9, atol=0)
+
+
+# ------------------------------------------------------------------ GeoPandas form
+
+
+def test_gis_forms_use_row_labels_and_the_lines_crs():
+    gpd = pytest.importorskip("geopandas")
+    shapely = pytest.importorskip("shapely")
+    from placewise.gis import travel as gt
+
+    streets = gpd.GeoDataFrame(geometry=[shapely.LineString(line) for line in grid_lines(4, 4, step=100.0)],
+                               crs="EPSG:32631")
+    g = gt.travel_graph(streets)
+    homes_xy = np.array([[10.0, 3.0], [250.0, 100.0], [300.0, 290.0]])
+    homes = gpd.GeoDataFrame({"people": [2.0, 1.0, 4.0]}, geometry=gpd.points_from_xy(*homes_xy.T),
+                             index=["h1", "h2", "h3"], crs="EPSG:32631")
+    depots = gpd.GeoDataFrame(geometry=gpd.points_from_xy([0, 300], [0, 300]), index=["d-west", "d-east"],
+                              crs="EPSG:32631").to_crs("EPSG:4326")     # projected back to the lines' CRS
+    out = gt.network_catchments(g, homes, depots, weight="people")
+    plain = g.nearest_site(homes_xy, [[0, 0], [300, 300]], [2.0, 1.0, 4.0])
+    np.testing.assert_allclose(out["cost_m"], plain.cost, rtol=1e-9)
+    assert list(out["site"]) == [["d-west", "d-east"][s] for s in plain.site]
+    table = gt.travel_costs(g, homes, homes)
+    np.testing.assert_allclose(table["cost_m"].to_numpy().reshape(3, 3), g.costs(homes_xy, homes_xy), rtol=1e-12)
+    assert list(table["origin"][:3]) == ["h1"] * 3
+    reach = gt.network_reach(g, depots, 150.0)
+    # Closed form: within 150 m of the outer corner (0, 0) of a 100 m grid lie its two block
+    # sides and the first 50 m of the two further sides at each neighbouring corner:
+    # 2 × 100 + 4 × 50 = 400 m of street.
+    lengths = reach.groupby("site").geometry.apply(lambda s: s.length.sum())
+    assert lengths["d-west"] == pytest.approx(400.0, rel=1e-6)
+    far = gpd.GeoDataFrame(geometry=gpd.points_from_xy([10, 5000], [0, 0]), index=["near", "far-away"],
+                           crs="EPSG:32631")
+    with pytest.raises(pw.InputError, match=r"points\['far-away'\]") as info:
+        gt.network_catchments(g, far, depots, max_gap=50)
+    assert info.value.row == "far-away"

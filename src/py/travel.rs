@@ -33,8 +33,10 @@ fn places_arg<'py>(obj: &Bound<'py, PyAny>, argument: &str) -> PyResult<Places<'
     let array = obj.py().import("numpy")?.call_method1("asarray", (obj,))?;
     let ndim: usize = array.getattr("ndim")?.extract()?;
     let kind: String = array.getattr("dtype")?.getattr("kind")?.extract()?;
-    if ndim == 1 && matches!(kind.as_str(), "i" | "u") {
-        let nodes = labels_arg(&array, argument)?;
+    let size: usize = array.getattr("size")?.extract()?;
+    // Node numbers: a 1-D integer array (an empty list counts as no places at all).
+    if ndim == 1 && (matches!(kind.as_str(), "i" | "u") || size == 0) {
+        let nodes = labels_arg(&array.call_method1("astype", ("int64",))?, argument)?;
         return Ok(Places::Nodes(nodes.as_slice()?.to_vec()));
     }
     Ok(Places::Points(points_arg(obj, argument)?))
