@@ -359,3 +359,66 @@ def test_gis_forms_use_row_labels_and_the_lines_crs():
     with pytest.raises(pw.InputError, match=r"points\['far-away'\]") as info:
         gt.network_catchments(g, far, depots, max_gap=50)
     assert info.value.row == "far-away"
+
+
+# ------------------------------------------------------------------ a real street network
+
+
+def test_real_street_network_matches_scipy_with_shapely_attachment():
+    # Data: the geodanet streets, schools and crimes shipped in libpysal 4.14.1 (BSD 3-Clause;
+    # tests/data/geodanet/README.md). Reference: an independent graph built here (exact end
+    # joins, shapely lengths), all-pairs scipy.sparse.csgraph.dijkstra, and shapely's nearest
+    # line and projection for the attachment of each point.
+    gpd = pytest.importorskip("geopandas")
+    shapely = pytest.importorskip("shapely")
+    from pathlib import Path
+
+    data = Path(__file__).resolve().parent / "data" / "geodanet"
+    streets = gpd.read_file(data / "streets.shp")
+    schools = gpd.read_file(data / "schools.shp")
+    crimes = gpd.read_file(data / "crimes.shp")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        g = pw.TravelGraph.from_lines(streets)
+    assert g.unit == "ftUS" and g.edges == len(streets)
+
+    lines = streets.geometry.values
+    node_of: dict[tuple[float, float], int] = {}
+    ends = []
+    for line in lines:
+        xy = shapely.get_coordinates(line)
+        ends.append([node_of.setdefault(tuple(p), len(node_of)) for p in (xy[0], xy[-1])])
+    ends = np.array(ends)
+    length = shapely.length(lines)
+    n = len(node_of)
+    dense = np.full((n, n), np.inf)
+    for (a, b), c in zip(ends, length):
+        dense[a, b] = dense[b, a] = min(dense[a, b], c)
+    np.fill_diagonal(dense, np.inf)
+    between = csgraph.dijkstra(csgraph.csgraph_from_dense(dense, null_value=np.inf))
+    assert g.nodes == n and g.components == csgraph.connected_components(dense < np.inf)[0]
+
+    tree = shapely.STRtree(lines)
+
+    def attach(points):
+        nearest = tree.nearest(points)
+        return nearest, shapely.line_locate_point(lines[nearest], points)
+
+    s_line, s_at = attach(schools.geometry.values)
+    c_line, c_at = attach(crimes.geometry.values)
+    expected = np.full((len(schools), len(crimes)), np.inf)
+    for i in range(len(schools)):
+        a, b = ends[s_line[i]]
+        leave = {a: s_at[i], b: length[s_line[i]] - s_at[i]}
+        for j in range(len(crimes)):
+            x, y = ends[c_line[j]]
+            arrive = {x: c_at[j], y: length[c_line[j]] - c_at[j]}
+            best = min(u_cost + between[u, v] + v_cost for u, u_cost in leave.items() for v, v_cost in arrive.items())
+            if s_line[i] == c_line[j]:
+                best = min(best, abs(s_at[i] - c_at[j]))
+            expected[i, j] = best
+    ours = g.costs(np.column_stack([schools.geometry.x, schools.geometry.y]),
+                   np.column_stack([crimes.geometry.x, crimes.geometry.y]))
+    assert np.array_equal(np.isnan(ours), np.isinf(expected))
+    ok = np.isfinite(expected)
+    np.testing.assert_allclose(ours[ok], expected[ok], rtol=1e-9, atol=1e-6)
