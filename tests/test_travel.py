@@ -13,6 +13,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import placewise as pw
+from hostile import AWKWARD_POINTS, BAD_POINTS, BAD_WEIGHTS
 
 scipy_sparse = pytest.importorskip("scipy.sparse")
 csgraph = pytest.importorskip("scipy.sparse.csgraph")
@@ -422,3 +423,38 @@ def test_real_street_network_matches_scipy_with_shapely_attachment():
     assert np.array_equal(np.isnan(ours), np.isinf(expected))
     ok = np.isfinite(expected)
     np.testing.assert_allclose(ours[ok], expected[ok], rtol=1e-9, atol=1e-6)
+
+
+# ------------------------------------------------------------------ hostile input (tests/hostile.py)
+
+_HOSTILE_GRAPH = pw.TravelGraph.from_lines(grid_lines(5, 5))
+_CALLS = {
+    "costs(origins)": lambda p: _HOSTILE_GRAPH.costs(p, [[1, 1]]),
+    "costs(destinations)": lambda p: _HOSTILE_GRAPH.costs([[1, 1]], p, k=2),
+    "nearest_site(points)": lambda p: _HOSTILE_GRAPH.nearest_site(p, [[0, 0]]),
+    "nearest_site(sites)": lambda p: _HOSTILE_GRAPH.nearest_site([[1, 1]], p),
+    "reach": lambda p: _HOSTILE_GRAPH.reach(p, 2.0),
+    "snap": lambda p: _HOSTILE_GRAPH.snap(p),
+}
+
+
+@pytest.mark.parametrize("call", list(_CALLS))
+@pytest.mark.parametrize("case, points", BAD_POINTS, ids=[n for n, _ in BAD_POINTS])
+def test_bad_points_raise_input_error(call, case, points):
+    with pytest.raises(pw.InputError):
+        _CALLS[call](points)
+
+
+@pytest.mark.parametrize("call", list(_CALLS))
+@pytest.mark.parametrize("case, points", AWKWARD_POINTS, ids=[n for n, _ in AWKWARD_POINTS])
+def test_awkward_points_answer_or_raise_input_error(call, case, points):
+    try:
+        _CALLS[call](points)
+    except pw.InputError:
+        pass
+
+
+@pytest.mark.parametrize("case, make", BAD_WEIGHTS, ids=[n for n, _ in BAD_WEIGHTS])
+def test_bad_weights_are_named(case, make):
+    with pytest.raises(pw.InputError):
+        _HOSTILE_GRAPH.nearest_site([[1, 1], [2, 2], [3, 3]], [[0, 0]], make(3))

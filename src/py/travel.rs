@@ -30,7 +30,10 @@ enum Places<'py> {
 }
 
 fn places_arg<'py>(obj: &Bound<'py, PyAny>, argument: &str) -> PyResult<Places<'py>> {
-    let array = obj.py().import("numpy")?.call_method1("asarray", (obj,))?;
+    let Ok(array) = obj.py().import("numpy")?.call_method1("asarray", (obj,)) else {
+        // Not an array at all (ragged lists): the points path names the problem.
+        return Ok(Places::Points(points_arg(obj, argument)?));
+    };
     let ndim: usize = array.getattr("ndim")?.extract()?;
     let kind: String = array.getattr("dtype")?.getattr("kind")?.extract()?;
     let size: usize = array.getattr("size")?.extract()?;
@@ -76,6 +79,13 @@ impl PlacesView<'_> {
         max_gap: Option<f64>,
     ) -> crate::Result<(Vec<Spot>, Vec<Snap>)> {
         let argument = static_name(argument);
+        let count = match self {
+            PlacesView::Nodes(n) => n.len(),
+            PlacesView::Points(p) => p.len(),
+        };
+        if count == 0 {
+            return Err(crate::Error::TooFewPoints { argument, needed: 1, got: 0, counted: "places" });
+        }
         match self {
             PlacesView::Nodes(n) => Ok((node_spots(graph, n, argument)?, Vec::new())),
             PlacesView::Points(p) => {

@@ -276,3 +276,37 @@ proptest! {
         }
     }
 }
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(64))]
+
+    #[test]
+    fn snapping_finds_the_nearest_segment_by_brute_force(
+        lines in prop::collection::vec(((-50.0f64..50.0, -50.0f64..50.0), (-50.0f64..50.0, -50.0f64..50.0)), 1..30),
+        points in prop::collection::vec((-80.0f64..80.0, -80.0f64..80.0), 1..30),
+    ) {
+        // Reference: the smallest point-to-segment distance over every segment (brute force).
+        let mut coords = Vec::new();
+        let mut offsets = vec![0];
+        for (a, b) in &lines {
+            coords.extend([[a.0, a.1], [b.0, b.1]]);
+            offsets.push(coords.len());
+        }
+        let g = TravelGraph::from_lines(&coords, &offsets, &Default::default()).unwrap();
+        let pts: Vec<[f64; 2]> = points.iter().map(|p| [p.0, p.1]).collect();
+        let Ok(snaps) = snap_points(&g, &pts, "points", None) else { return Ok(()) };
+        for (p, s) in pts.iter().zip(&snaps) {
+            let brute = lines
+                .iter()
+                .filter(|(a, b)| a != b)
+                .map(|(a, b)| {
+                    let (ax, ay, bx, by) = (a.0, a.1, b.0, b.1);
+                    let (dx, dy) = (bx - ax, by - ay);
+                    let t = (((p[0] - ax) * dx + (p[1] - ay) * dy) / (dx * dx + dy * dy)).clamp(0.0, 1.0);
+                    ((p[0] - ax - t * dx).powi(2) + (p[1] - ay - t * dy).powi(2)).sqrt()
+                })
+                .fold(f64::INFINITY, f64::min);
+            prop_assert!((s.gap - brute).abs() <= 1e-9 * (1.0 + brute), "{} vs {}", s.gap, brute);
+        }
+    }
+}
