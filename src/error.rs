@@ -109,6 +109,27 @@ pub enum Error {
         /// That candidate's cost.
         cost: f64,
     },
+    /// A row of a network's input that cannot be an edge: an empty or one-point line, a
+    /// negative or NaN cost, an unknown one-way code, a node index out of range.
+    InvalidEdge {
+        /// Argument name, e.g. `"lines"`, `"cost"`, `"one_way"`.
+        argument: &'static str,
+        /// Row of the offending edge or line.
+        row: usize,
+        /// What is wrong, as a sentence fragment.
+        reason: String,
+    },
+    /// A point farther from every edge of a network than the allowed gap.
+    BeyondGap {
+        /// Argument name, e.g. `"points"`, `"sites"`.
+        argument: &'static str,
+        /// Row of the point.
+        row: usize,
+        /// Its distance to the nearest edge.
+        gap: f64,
+        /// The largest allowed distance.
+        max_gap: f64,
+    },
     /// A tuning parameter is out of range.
     InvalidParameter {
         /// Parameter name, e.g. `"tol"`.
@@ -241,6 +262,15 @@ impl Error {
                 plain(*radius),
                 plain(*cost)
             ),
+            Error::InvalidEdge { argument, row, reason } => {
+                format!("{argument}[{}]: {reason}", namer.row(argument, *row))
+            }
+            Error::BeyondGap { argument, row, gap, max_gap } => format!(
+                "{argument}[{}] lies {} from the nearest edge, farther than max_gap = {}",
+                namer.row(argument, *row),
+                plain(*gap),
+                plain(*max_gap)
+            ),
             Error::InvalidParameter { name, reason } => format!("{name}: {reason}"),
             Error::Shortfall { demand, capacity } => format!(
                 "capacities: total capacity {} is below total demand {}, {} short; raise capacities or \
@@ -264,7 +294,9 @@ impl Error {
             | Error::TooFewPoints { argument, .. }
             | Error::Degenerate { argument, .. }
             | Error::RepeatedPoint { argument, .. }
-            | Error::InvalidCost { argument, .. } => argument,
+            | Error::InvalidCost { argument, .. }
+            | Error::InvalidEdge { argument, .. }
+            | Error::BeyondGap { argument, .. } => argument,
             Error::Uncoverable { .. } => "points",
             Error::Shortfall { .. } => "capacities",
             Error::InvalidParameter { name, .. } => name,
@@ -278,9 +310,11 @@ impl Error {
             Error::NonFiniteCoordinate { index, .. }
             | Error::OutOfRange { index, .. }
             | Error::InvalidWeight { index, .. } => Some(*index),
-            Error::RepeatedPoint { row, .. } | Error::InvalidCost { row, .. } | Error::Uncoverable { row, .. } => {
-                Some(*row)
-            }
+            Error::RepeatedPoint { row, .. }
+            | Error::InvalidCost { row, .. }
+            | Error::Uncoverable { row, .. }
+            | Error::InvalidEdge { row, .. }
+            | Error::BeyondGap { row, .. } => Some(*row),
             Error::InGroup { source, .. } => source.row(),
             _ => None,
         }

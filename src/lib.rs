@@ -11,6 +11,7 @@
 //!   distances, lengths and areas, Fermat–Weber and minimax points, enclosing circles and
 //!   nearest-site allocation at any extent.
 //! - `capacity`: capacitated allocation (transportation problem) and capacitated p-median.
+//! - `travel`: street-network graph (CSR), snapping to edges, shortest travel costs, network catchments.
 //! - `batch`: the grouped runner every kernel uses for many groups at once.
 //! - `geometry`: shared point helpers, the one working frame and location key, exact predicates.
 //! - `error`: the crate's one error type.
@@ -38,6 +39,7 @@ mod median;
 mod multi;
 mod network;
 mod partition;
+mod travel;
 
 #[cfg(feature = "python")]
 #[allow(unsafe_code)]
@@ -82,4 +84,8 @@ pub use network::{
 pub use partition::{
     allocate, check_triangulation, delaunay, delaunay_grouped, nearest_site, nearest_site_grouped, voronoi_cells,
     voronoi_cells_grouped, Allocation, Region, SiteAllocations, SiteIndex, Triangulation, VoronoiCells, STRIPS_FROM,
+};
+pub use travel::{
+    catchment_pieces, network_catchments, node_spots, reach, snap_points, travel_costs, CostOptions, CostRows,
+    EdgePiece, LineOptions, NetworkCatchments, OneWay, Pieces, Snap, Spot, TravelGraph, MAX_GRAPH_INDEX,
 };

@@ -3,7 +3,8 @@
 Choose sites for weighted demand (Fermat–Weber point, p-median), see worst-case coverage
 (enclosing circle and ellipse, minimax point, p-center), split a region into catchments
 (Delaunay, clipped Voronoi cells, nearest-site allocation) and design the shortest network
-linking sites (minimum spanning tree, Steiner tree).
+linking sites (minimum spanning tree, Steiner tree); measure travel along a street network
+(shortest paths, network catchments and reach).
 
 Results are planning aids under the stated model — straight-line (or city-block) distance
 and the given weights — and do not replace local regulations or licensed professional
@@ -43,6 +44,7 @@ from .partition import (
     voronoi_cells,
 )
 from .runtime import set_threads, thread_count
+from .travel import TravelGraph
 
 __version__: str = _core.__version__
 
@@ -104,6 +106,7 @@ __all__ = [
     "spanning_tree",
     "steiner_tree",
     "thread_count",
+    "TravelGraph",
     "voronoi_cells",
     "weber_point",
 ]

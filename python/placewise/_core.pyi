@@ -217,3 +217,42 @@ def capacity_p_median(
     points: ArrayLike, p: Any, capacities: ArrayLike, weights: ArrayLike | None, candidates: ArrayLike | None,
     seed: Any, max_rounds: Any,
 ) -> _Fields: ...
+# --- travel (src/py/travel.rs) ---
+# Origins, destinations, points and sites are (n, 2) points (attached to the nearest edge)
+# or (n,) integer node numbers.
+@final
+class TravelNetwork:
+    # Fields: nodes, edges, arcs, components, dangling, graph_bytes, shape_bytes, tail,
+    # head, forward, backward (NaN: direction not allowed), node_component, edge_component,
+    # node_xy (or None).
+    def info(self) -> _Fields: ...
+    # Fields: edge, along, gap, on_edge, node (-1 part-way along).
+    def snap(self, points: ArrayLike, max_gap: Any) -> _Fields: ...
+    # Fields: offsets, columns, costs (pairs kept, row by row), destinations.
+    def costs(self, origins: ArrayLike, destinations: ArrayLike, limit: Any, k: Any, max_gap: Any) -> _Fields: ...
+    # Fields: site (-1 unreachable), cost (NaN), load, count, node_site, node_cost,
+    # unreachable, unreachable_weight, total_cost, worst_cost, point_* and site_* attachments.
+    def catchments(
+        self, points: ArrayLike, sites: ArrayLike, weights: ArrayLike | None, limit: Any, max_gap: Any
+    ) -> _Fields: ...
+    # Fields: site, edge, start, end, cost_start, cost_end, offsets, coords.
+    def catchment_edges(self, sites: ArrayLike, limit: Any, max_gap: Any) -> _Fields: ...
+    def reach(self, sites: ArrayLike, limit: Any, max_gap: Any) -> _Fields: ...
+
+def travel_from_edges(
+    tail: ArrayLike,
+    head: ArrayLike,
+    cost: ArrayLike,
+    reverse_cost: ArrayLike | None,
+    one_way: ArrayLike | None,
+    nodes: Any,
+    coordinates: ArrayLike | None,
+) -> TravelNetwork: ...
+def travel_from_lines(
+    coords: ArrayLike,
+    offsets: ArrayLike,
+    cost: ArrayLike | None,
+    reverse_cost: ArrayLike | None,
+    one_way: ArrayLike | None,
+    tolerance: Any,
+) -> TravelNetwork: ...

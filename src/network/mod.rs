@@ -13,7 +13,7 @@ mod check;
 mod distinct;
 mod mst;
 mod steiner;
-mod union_find;
+pub(crate) mod union_find;
 
 pub use check::check_steiner_tree;
 

@@ -19,6 +19,7 @@ mod multi;
 mod network;
 mod partition;
 mod runtime;
+mod travel;
 
 pub(crate) use convert::{labels_arg, points_arg, weights_arg};
 pub(crate) use runtime::run_detached;
@@ -37,6 +38,7 @@ fn core_module(m: &Bound<'_, PyModule>) -> PyResult<()> {
     discrete::register(m)?;
     geodesic::register(m)?;
     capacity::register(m)?;
+    travel::register(m)?;
     m.add("__version__", env!("CARGO_PKG_VERSION"))?;
     Ok(())
 }

@@ -1,0 +1,158 @@
+"""Travel along a street network on GeoDataFrames: the graph from a frame of lines, and
+costs, network catchments and reach with the user's row labels and CRS.
+
+The lines must be in a projected CRS (geodesic edge lengths are not supported yet); point
+frames in another CRS are projected to the lines' CRS. Errors name the user's row labels.
+Results are planning aids under the stated model (travel along the given network at the
+given costs); check them against local regulations and licensed professional judgement.
+
+Requires the ``geo`` extra (geopandas, pyproj).
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+
+from .._core import InputError
+from .._errors import restate
+from ..travel import TravelGraph
+
+__all__ = ["network_catchments", "network_reach", "travel_costs", "travel_graph"]
+
+
+def travel_graph(lines: Any, *, cost: Any = None, reverse_cost: Any = None, one_way: Any = None,
+                 tolerance: float = 0.0, unit: str | None = None) -> TravelGraph:
+    """A :class:`placewise.TravelGraph` from a GeoDataFrame of lines in a projected CRS;
+    ``cost``, ``reverse_cost`` and ``one_way`` may name columns (see
+    :meth:`placewise.TravelGraph.from_lines`).
+
+    Examples
+    --------
+    >>> import geopandas as gpd, shapely
+    >>> from placewise.gis.travel import travel_graph
+    >>> streets = gpd.GeoDataFrame(geometry=[shapely.LineString([(0, 0), (300, 0)]),
+    ...                                      shapely.LineString([(300, 0), (300, 400)])], crs="EPSG:32630")
+    >>> travel_graph(streets)
+    TravelGraph(nodes=3, edges=2, arcs=4, components=1)
+    """
+    return TravelGraph.from_lines(lines, cost=cost, reverse_cost=reverse_cost, one_way=one_way,
+                                  tolerance=tolerance, unit=unit)
+
+
+def _points(graph: TravelGraph, frame: Any, argument: str) -> tuple[np.ndarray, np.ndarray]:
+    """A point frame's coordinates in the graph's CRS and its row labels."""
+    if not hasattr(frame, "geometry"):
+        error = InputError(f"{argument} must be a GeoDataFrame or GeoSeries of points")
+        error.argument = argument
+        raise error
+    geometry = frame.geometry if hasattr(frame, "columns") else frame
+    if graph.crs is not None and geometry.crs is not None and geometry.crs != graph.crs:
+        geometry = geometry.to_crs(graph.crs)
+    kinds = geometry.geom_type.to_numpy()
+    bad = np.flatnonzero(kinds != "Point")
+    if len(bad):
+        label = frame.index[bad[0]]
+        error = InputError(f"{argument}[{label!r}]: expected a Point; got {kinds[bad[0]]}")
+        error.argument, error.row = argument, label
+        raise error
+    return np.column_stack([geometry.x.to_numpy(), geometry.y.to_numpy()]), frame.index.to_numpy()
+
+
+def _restated(call: Any, labels: dict[str, np.ndarray]) -> Any:
+    try:
+        return call()
+    except InputError as exc:
+        raise restate(exc, row_labels=labels) from None
+
+
+def travel_costs(graph: TravelGraph, origins: Any, destinations: Any, *, limit: float | None = None,
+                 k: int | None = None, max_gap: float | None = None) -> Any:
+    """Travel costs as a long table: one row per pair kept (``origin``, ``destination`` as
+    the frames' row labels, ``cost_<unit>``); unreachable pairs (and pairs beyond ``limit``
+    or outside the ``k`` nearest) have no row.
+
+    Examples
+    --------
+    >>> import geopandas as gpd, shapely
+    >>> from placewise.gis.travel import travel_costs, travel_graph
+    >>> streets = gpd.GeoDataFrame(geometry=[shapely.LineString([(0, 0), (300, 0)])], crs="EPSG:32630")
+    >>> homes = gpd.GeoDataFrame(geometry=gpd.points_from_xy([10, 250], [5, -5]), index=["a", "b"],
+    ...                          crs="EPSG:32630")
+    >>> travel_costs(travel_graph(streets), homes.iloc[:1], homes)
+      origin destination  cost_m
+    0      a           a     0.0
+    1      a           b   240.0
+    """
+    import pandas as pd
+
+    o, o_labels = _points(graph, origins, "origins")
+    d, d_labels = _points(graph, destinations, "destinations")
+    labels = {"origins": o_labels, "destinations": d_labels}
+    matrix = _restated(lambda: graph.costs(o, d, limit=limit, k=k, max_gap=max_gap), labels)
+    if isinstance(matrix, np.ndarray):
+        rows, cols = np.nonzero(~np.isnan(matrix))
+        values = matrix[rows, cols]
+    else:
+        coo = matrix.tocoo()
+        order = np.lexsort((coo.col, coo.row))
+        rows, cols, values = coo.row[order], coo.col[order], coo.data[order]
+    return pd.DataFrame({"origin": o_labels[rows], "destination": d_labels[cols], f"cost_{graph.unit}": values})
+
+
+def network_catchments(graph: TravelGraph, points: Any, sites: Any, *, weight: str | None = None,
+                       limit: float | None = None, max_gap: float | None = None) -> Any:
+    """Every point's cheapest site by travel cost, as the points frame with ``site`` (the
+    sites frame's row label, None where unreachable), ``reachable``, ``cost_<unit>`` and
+    ``gap_<unit>`` columns; ``weight`` names a column of demand.
+
+    Examples
+    --------
+    >>> import geopandas as gpd, shapely
+    >>> from placewise.gis.travel import network_catchments, travel_graph
+    >>> streets = gpd.GeoDataFrame(geometry=[shapely.LineString([(0, 0), (300, 0)])], crs="EPSG:32630")
+    >>> homes = gpd.GeoDataFrame(geometry=gpd.points_from_xy([10, 250], [5, -5]), index=["a", "b"],
+    ...                          crs="EPSG:32630")
+    >>> depots = gpd.GeoDataFrame(geometry=gpd.points_from_xy([0, 300], [0, 0]), index=["west", "east"],
+    ...                           crs="EPSG:32630")
+    >>> network_catchments(travel_graph(streets), homes, depots)[["site", "cost_m"]]
+       site  cost_m
+    a  west    10.0
+    b  east    50.0
+    """
+    p, p_labels = _points(graph, points, "points")
+    s, s_labels = _points(graph, sites, "sites")
+    weights = None if weight is None else points[weight].to_numpy(dtype=np.float64)
+    labels = {"points": p_labels, "sites": s_labels, "weights": p_labels}
+    result = _restated(lambda: graph.nearest_site(p, s, weights, limit=limit, max_gap=max_gap), labels)
+    out = points.copy()
+    site = np.full(len(p), None, dtype=object)
+    site[result.reachable] = s_labels[result.site[result.reachable]]
+    out["site"] = site
+    out["reachable"] = result.reachable
+    out[f"cost_{graph.unit}"] = result.cost
+    out[f"gap_{graph.length_unit}"] = result.point_gap
+    return out
+
+
+def network_reach(graph: TravelGraph, sites: Any, limit: float, *, max_gap: float | None = None) -> Any:
+    """The parts of the network within travel cost ``limit`` of each site, as a GeoDataFrame
+    of line pieces in the lines' CRS: ``site`` (row label), ``edge``, ``start``, ``end``
+    (shares of the edge), ``cost_start_<unit>``, ``cost_end_<unit>``.
+
+    Examples
+    --------
+    >>> import geopandas as gpd, shapely
+    >>> from placewise.gis.travel import network_reach, travel_graph
+    >>> streets = gpd.GeoDataFrame(geometry=[shapely.LineString([(0, 0), (300, 0)])], crs="EPSG:32630")
+    >>> depots = gpd.GeoDataFrame(geometry=gpd.points_from_xy([0], [0]), index=["west"], crs="EPSG:32630")
+    >>> reach = network_reach(travel_graph(streets), depots, 100)
+    >>> list(reach["site"]), float(reach.length.sum())
+    (['west'], 100.0)
+    """
+    s, s_labels = _points(graph, sites, "sites")
+    pieces = _restated(lambda: graph.reach(s, limit, max_gap=max_gap), {"sites": s_labels})
+    frame = pieces.to_geodataframe(crs=graph.crs)
+    frame["site"] = s_labels[pieces.site]
+    return frame

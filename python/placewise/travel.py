@@ -1,0 +1,682 @@
+"""Travel along a street network: shortest travel costs, network catchments and reach.
+
+Straight-line distance is a model; by road is another. :class:`TravelGraph` holds a street
+network the user supplies — built from line shapes (:meth:`TravelGraph.from_lines`: arrays
+of coordinates, shapely LineStrings or a GeoDataFrame in a projected CRS) or from edge
+arrays (:meth:`TravelGraph.from_edges`) — with a cost each way on every edge (length by
+default, or a column such as travel time) and one-way edges. Points are attached to the
+nearest point of the nearest edge and travel starts and ends part-way along edges, in the
+directions the edges allow.
+
+* :meth:`TravelGraph.costs` — the travel-cost matrix between origins and destinations
+  (Dijkstra 1959, parallel over origins), dense or sparse with a ``limit`` or ``k``;
+* :meth:`TravelGraph.nearest_site` — every point's cheapest site by travel cost, with loads;
+* :meth:`TravelGraph.catchment_edges`, :meth:`TravelGraph.reach` — the network cut into the
+  parts each site reaches first, and the parts within a cost of each site, as lines;
+* :meth:`TravelGraph.choose_sites` — the discrete siting models of :mod:`placewise.discrete`
+  on travel costs.
+
+Costs along an edge are in proportion to its length (uniform speed along each edge). The
+off-network gap between a point and the network is reported, never added to a cost.
+Unreachable pairs (separate components, one-way edges) are explicit: ``NaN`` in a dense
+matrix, absent from a sparse one, site ``-1`` in a catchment. Results are planning aids under
+this model; they defer to local regulations and licensed professional judgement.
+
+Coordinates are planar: lon/lat lines are refused (project them first; geodesic edge
+lengths are not supported yet).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import warnings
+from typing import Any
+
+import numpy as np
+from numpy.typing import ArrayLike
+
+from . import _core
+from ._core import InputError
+from ._errors import restate
+from ._results import Result
+
+__all__ = ["Attachments", "EdgePieces", "NetworkCatchments", "TravelGraph"]
+
+_ONE_WAY_WORDS = {"both": 0, "forward": 1, "backward": -1}
+_MODELS = ("evaluate_sites", "p_median", "p_center", "cover_all", "cover_most")
+
+
+def _input_error(argument: str, message: str, row: Any = None) -> InputError:
+    error = InputError(message)
+    error.argument = argument
+    error.row = row
+    return error
+
+
+def _one_way_codes(one_way: Any, labels: Any = None) -> np.ndarray | None:
+    """Direction codes 0 / 1 / -1 from booleans (True: forward only), integers or the words
+    ``"both"``, ``"forward"``, ``"backward"``; anything else is refused naming its row."""
+    if one_way is None:
+        return None
+    values = np.asarray(one_way)
+    if values.dtype.kind == "b":
+        return values.astype(np.int64)
+    if values.dtype.kind in "iu":
+        return values.astype(np.int64)
+    codes = np.empty(len(values), dtype=np.int64)
+    for row, value in enumerate(values.tolist()):
+        if isinstance(value, str) and value.lower() in _ONE_WAY_WORDS:
+            codes[row] = _ONE_WAY_WORDS[value.lower()]
+        elif isinstance(value, bool):
+            codes[row] = int(value)
+        elif isinstance(value, (int, float)) and not isinstance(value, bool) and float(value) in (0.0, 1.0, -1.0):
+            codes[row] = int(value)
+        else:
+            name = row if labels is None else labels[row]
+            raise _input_error(
+                "one_way",
+                f"one_way[{name!r}]: unknown direction {value!r}; expected True/False, 0/1/-1 or "
+                f"'both'/'forward'/'backward'",
+                name,
+            )
+    return codes
+
+
+def _ragged_lines(lines: Any) -> tuple[np.ndarray, np.ndarray]:
+    """Coordinates and offsets of a sequence of lines (shapely LineStrings or ``(k, 2)``
+    arrays); a geometry that is not a LineString is refused naming its row."""
+    items = list(lines)
+    if any(hasattr(item, "geom_type") or item is None for item in items):
+        import shapely
+
+        geoms = np.asarray(items, dtype=object)
+        for row, g in enumerate(geoms):
+            if g is None or g.geom_type not in ("LineString", "LinearRing"):
+                kind = "missing" if g is None else g.geom_type
+                raise _input_error("lines", f"lines[{row}]: expected a LineString; got {kind}", row)
+        coords, index = shapely.get_coordinates(geoms, return_index=True)
+        counts = np.bincount(index, minlength=len(geoms))
+    else:
+        arrays = [np.asarray(item, dtype=np.float64).reshape(-1, 2) if np.size(item) else np.empty((0, 2))
+                  for item in items]
+        counts = np.array([len(a) for a in arrays], dtype=np.int64)
+        coords = np.concatenate(arrays) if arrays else np.empty((0, 2))
+    offsets = np.zeros(len(counts) + 1, dtype=np.int64)
+    np.cumsum(counts, out=offsets[1:])
+    return np.ascontiguousarray(coords, dtype=np.float64), offsets
+
+
+def _frame_lines(frame: Any, cost: Any, reverse_cost: Any, one_way: Any) -> tuple[Any, ...]:
+    """A GeoDataFrame's lines and columns (a column name or values), its CRS's length unit."""
+    crs = frame.crs
+    if crs is not None and crs.is_geographic:
+        raise _input_error(
+            "lines",
+            "lines: the GeoDataFrame is in a geographic CRS (lon/lat); geodesic edge lengths are not "
+            "supported yet, so project it to a metric CRS first (for example "
+            "frame.to_crs(frame.estimate_utm_crs()))",
+        )
+    unit = "u"
+    if crs is not None and crs.axis_info:
+        unit = {"metre": "m", "meter": "m", "foot": "ft", "US survey foot": "ftUS"}.get(crs.axis_info[0].unit_name, "u")
+
+    def column(value: Any) -> Any:
+        return frame[value].to_numpy() if isinstance(value, str) else value
+
+    return (list(frame.geometry.values), column(cost), column(reverse_cost), column(one_way), unit, crs,
+            frame.index.to_numpy())
+
+
+# ------------------------------------------------------------------------------ results
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class Attachments(Result):
+    """Points attached to the network: one row per point.
+
+    Attributes
+    ----------
+    edge : ndarray of int64, shape (n,)
+        The edge (input row) each point went to.
+    along : ndarray, shape (n,)
+        Length along that edge's shape from its first point to the attachment point.
+    gap : ndarray, shape (n,)
+        Distance from the point to the network (not a travel cost).
+    on_edge : ndarray, shape (n, 2)
+        The attachment points.
+    node : ndarray of int64, shape (n,)
+        The node the point sits on when it is attached at an edge's end; -1 part-way along.
+    """
+
+    edge: np.ndarray
+    along: np.ndarray = dataclasses.field(repr=False)
+    gap: np.ndarray
+    on_edge: np.ndarray = dataclasses.field(repr=False)
+    node: np.ndarray = dataclasses.field(repr=False)
+
+    def _columns(self) -> dict[str, Any]:
+        return {"edge": self.edge, self._u("along"): self.along, self._u("gap"): self.gap, "node": self.node}
+
+    def _geometry(self) -> Any:
+        import shapely
+
+        return shapely.points(self.on_edge)
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class NetworkCatchments(Result):
+    """Every point's cheapest site by travel cost from the site (one row per point).
+
+    ``unit`` names the cost unit (``cost_min``); ``length_unit`` the coordinates' unit.
+
+    Attributes
+    ----------
+    site : ndarray of int64, shape (n,)
+        The site row serving each point; -1 where no site reaches it (``reachable`` False).
+    cost : ndarray, shape (n,)
+        Travel cost from that site; NaN where unreachable.
+    load, count : ndarray, shape (s,)
+        Weight and number of points each site serves.
+    node_site, node_cost : ndarray, shape (nodes,)
+        The catchment of every node: its site (-1 unreached) and the cost from it (NaN).
+    unreachable, unreachable_weight : int, float
+        How many points, and how much weight, no site reaches.
+    total_cost, worst_cost : float
+        ``Σ wᵢ costᵢ`` and ``max costᵢ`` over the reached points.
+    point_edge, point_gap : ndarray, shape (n,)
+        The edge each point was attached to and its gap (empty when given as nodes).
+    """
+
+    site: np.ndarray
+    cost: np.ndarray = dataclasses.field(repr=False)
+    load: np.ndarray = dataclasses.field(repr=False)
+    count: np.ndarray = dataclasses.field(repr=False)
+    node_site: np.ndarray = dataclasses.field(repr=False)
+    node_cost: np.ndarray = dataclasses.field(repr=False)
+    unreachable: int
+    unreachable_weight: float = dataclasses.field(repr=False)
+    total_cost: float
+    worst_cost: float
+    point_edge: np.ndarray = dataclasses.field(repr=False)
+    point_gap: np.ndarray = dataclasses.field(repr=False)
+    site_edge: np.ndarray = dataclasses.field(repr=False)
+    site_gap: np.ndarray = dataclasses.field(repr=False)
+    length_unit: str = dataclasses.field(default="u", repr=False, kw_only=True)
+
+    @property
+    def reachable(self) -> np.ndarray:
+        """Whether some site reaches each point."""
+        return self.site >= 0
+
+    def _columns(self) -> dict[str, Any]:
+        columns = {"site": self.site, "reachable": self.reachable, self._u("cost"): self.cost}
+        if len(self.point_edge) == len(self.site):
+            columns |= {"edge": self.point_edge, f"gap_{self.length_unit}": self.point_gap}
+        return columns
+
+    def sites_frame(self) -> Any:
+        """One row per site: ``site``, ``load``, ``points``."""
+        import pandas as pd
+
+        return pd.DataFrame({"site": np.arange(len(self.load)), "load": self.load, "points": self.count})
+
+    def summary(self) -> Any:
+        """Totals in one row: ``sites``, ``points``, ``cost_<unit>`` (Σ weight × cost),
+        ``worst_cost_<unit>``, ``unreachable`` points and ``unreachable_load``."""
+        import pandas as pd
+
+        return pd.DataFrame({
+            "sites": [len(self.load)], "points": [len(self.site)], self._u("cost"): [self.total_cost],
+            self._u("worst_cost"): [self.worst_cost], "unreachable": [self.unreachable],
+            "unreachable_load": [self.unreachable_weight],
+        })
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class EdgePieces(Result):
+    """Parts of edges, each reached from one site, with the travel cost at both ends.
+
+    Attributes
+    ----------
+    site, edge : ndarray of int64, shape (k,)
+        The site reaching the piece and the edge (input row) it lies on.
+    start, end : ndarray, shape (k,)
+        Where the piece starts and ends, as shares of the edge's length from its first point.
+    cost_start, cost_end : ndarray, shape (k,)
+        Travel cost from the site to the piece's start and end.
+    offsets, coords : ndarray
+        The pieces' shapes (piece ``i`` is ``coords[offsets[i]:offsets[i + 1]]``; empty when
+        the graph has no coordinates).
+    """
+
+    site: np.ndarray
+    edge: np.ndarray
+    start: np.ndarray = dataclasses.field(repr=False)
+    end: np.ndarray = dataclasses.field(repr=False)
+    cost_start: np.ndarray = dataclasses.field(repr=False)
+    cost_end: np.ndarray = dataclasses.field(repr=False)
+    offsets: np.ndarray = dataclasses.field(repr=False)
+    coords: np.ndarray = dataclasses.field(repr=False)
+
+    def _columns(self) -> dict[str, Any]:
+        return {"site": self.site, "edge": self.edge, "start": self.start, "end": self.end,
+                self._u("cost_start"): self.cost_start, self._u("cost_end"): self.cost_end}
+
+    def _geometry(self) -> Any:
+        import shapely
+
+        if len(self.coords) == 0 and len(self.site):
+            raise TypeError("the graph has no coordinates, so its pieces have no shape; use to_frame()")
+        return shapely.from_ragged_array(shapely.GeometryType.LINESTRING, self.coords, (self.offsets,))
+
+
+# ------------------------------------------------------------------------------ the graph
+
+
+class TravelGraph:
+    """A street network for travel costs (build it with :meth:`from_lines` or
+    :meth:`from_edges`).
+
+    Stored compactly in the compiled core (CSR arcs with 32-bit indices; see
+    :attr:`memory_bytes`). Nodes are numbered from 0; edges keep their input rows.
+
+    Attributes
+    ----------
+    unit : str
+        Name of the cost unit, used in column names (``cost_m``, ``cost_min``).
+    length_unit : str
+        Name of the coordinates' length unit (``gap_m``).
+    crs : object or None
+        The CRS of the lines, when they came from a GeoDataFrame.
+    """
+
+    def __init__(self, core: Any, *, unit: str = "u", length_unit: str = "u", crs: Any = None,
+                 row_labels: Any = None) -> None:
+        self._core = core
+        self.unit = unit
+        self.length_unit = length_unit
+        self.crs = crs
+        info = core.info()
+        self._info = info
+
+    # -------------------------------------------------------------- construction
+
+    @classmethod
+    def from_edges(
+        cls, tail: ArrayLike, head: ArrayLike, cost: ArrayLike, *, reverse_cost: ArrayLike | None = None,
+        one_way: ArrayLike | None = None, nodes: int | None = None, coordinates: ArrayLike | None = None,
+        unit: str = "u",
+    ) -> TravelGraph:
+        """A graph from edge arrays: edge ``i`` runs from node ``tail[i]`` to node ``head[i]``.
+
+        Parameters
+        ----------
+        tail, head : array_like of int, shape (m,)
+            Node numbers from 0.
+        cost : array_like, shape (m,)
+            Finite, non-negative cost from tail to head.
+        reverse_cost : array_like, shape (m,), optional
+            Cost from head to tail. Default: ``cost``.
+        one_way : array_like, shape (m,), optional
+            True / 1 / ``"forward"``: tail to head only; -1 / ``"backward"``: head to tail
+            only; False / 0 / ``"both"``: both ways.
+        nodes : int, optional
+            Number of nodes (isolated nodes included). Default: largest number + 1.
+        coordinates : array_like, shape (nodes, 2), optional
+            Node coordinates: edges become straight segments, so points can be attached.
+        unit : str
+            Name of the cost unit.
+
+        Raises
+        ------
+        InputError
+            Naming the row of a node number out of range, a NaN, infinite or negative cost or
+            an unknown one-way value.
+
+        Examples
+        --------
+        >>> import placewise as pw
+        >>> g = pw.TravelGraph.from_edges([0, 1, 2], [1, 2, 0], [4.0, 1.0, 2.0], one_way=[True, False, False])
+        >>> g.costs([0, 1], [0, 1, 2])
+        array([[0., 3., 2.],
+               [3., 0., 1.]])
+        """
+        core = _core.travel_from_edges(tail, head, cost, reverse_cost, _one_way_codes(one_way), nodes, coordinates)
+        return cls(core, unit=unit)
+
+    @classmethod
+    def from_lines(
+        cls, lines: Any, *, cost: Any = None, reverse_cost: Any = None, one_way: Any = None,
+        tolerance: float = 0.0, unit: str | None = None,
+    ) -> TravelGraph:
+        """A graph whose edges are lines; line ends closer than ``tolerance`` become one node.
+
+        Each line runs from its first point (tail) to its last (head). Ends are joined in line
+        order: an end within ``tolerance`` of an existing node joins the nearest one. Lines
+        are joined only at their ends (split them where streets cross beforehand).
+
+        Parameters
+        ----------
+        lines : GeoDataFrame, GeoSeries or sequence of LineStrings or ``(k, 2)`` arrays
+            Planar coordinates (a GeoDataFrame in a geographic CRS is refused).
+        cost, reverse_cost : array_like or str, optional
+            Cost per line each way (a column name for a GeoDataFrame). Default: planar length.
+        one_way : array_like or str, optional
+            As :meth:`from_edges`, relative to the drawing direction of each line.
+        tolerance : float
+            Joining distance for line ends (coordinate units), >= 0. With 0 (only equal
+            ends join) and lines in more than one component, a warning counts the
+            components and the dangling ends.
+        unit : str, optional
+            Name of the cost unit. Default: the CRS's length unit with length costs, else
+            ``"u"``.
+
+        Raises
+        ------
+        InputError
+            Naming the row of a missing, empty or non-line geometry, a bad cost or an unknown
+            one-way value.
+
+        Examples
+        --------
+        >>> import placewise as pw
+        >>> streets = [[(0, 0), (3, 0)], [(3, 0), (3, 4)], [(0, 0), (0, 4), (3, 4)]]
+        >>> g = pw.TravelGraph.from_lines(streets)
+        >>> g.nodes, g.edges, g.components
+        (3, 3, 1)
+        >>> g.costs([[1, 0]], [[3, 3]])       # along the bottom, then up
+        array([[5.]])
+        """
+        length_unit, crs, labels = "u", None, None
+        if hasattr(lines, "geometry") and hasattr(lines, "crs") and hasattr(lines, "columns"):
+            lines, cost, reverse_cost, one_way, length_unit, crs, labels = _frame_lines(
+                lines, cost, reverse_cost, one_way)
+        elif hasattr(lines, "crs") and getattr(lines, "crs", None) is not None:
+            if lines.crs.is_geographic:
+                raise _input_error("lines", "lines: geographic CRS (lon/lat) is not supported yet; project first")
+        try:
+            coords, offsets = _ragged_lines(lines)
+            codes = _one_way_codes(one_way, labels)
+            core = _core.travel_from_lines(coords, offsets, cost, reverse_cost, codes, tolerance)
+        except InputError as exc:
+            if labels is None:
+                raise
+            names = {k: labels for k in ("lines", "cost", "reverse_cost", "one_way")}
+            raise restate(exc, row_labels=names) from None
+        cost_unit = unit if unit is not None else (length_unit if cost is None else "u")
+        graph = cls(core, unit=cost_unit, length_unit=length_unit, crs=crs)
+        if tolerance == 0 and graph.components > 1:
+            warnings.warn(
+                f"the lines form {graph.components} separate components and {graph.dangling_ends} line ends "
+                f"meet no other line end; with tolerance=0 only ends with equal coordinates join (pass "
+                f"tolerance= to join ends closer than a distance)",
+                UserWarning, stacklevel=2)
+        return graph
+
+    # -------------------------------------------------------------- description
+
+    @property
+    def nodes(self) -> int:
+        """Number of nodes."""
+        return int(self._info["nodes"])
+
+    @property
+    def edges(self) -> int:
+        """Number of edges (input rows)."""
+        return int(self._info["edges"])
+
+    @property
+    def arcs(self) -> int:
+        """Number of directed arcs (two per two-way edge, one per one-way edge)."""
+        return int(self._info["arcs"])
+
+    @property
+    def components(self) -> int:
+        """Number of weakly connected components (an isolated node is one)."""
+        return int(self._info["components"])
+
+    @property
+    def dangling_ends(self) -> int:
+        """Nodes that end exactly one edge."""
+        return int(self._info["dangling"])
+
+    @property
+    def memory_bytes(self) -> dict[str, int]:
+        """Bytes held by the graph (``graph``: arcs, edges, nodes) and by the edge shapes
+        (``shapes``: a copy of the input coordinates)."""
+        return {"graph": int(self._info["graph_bytes"]), "shapes": int(self._info["shape_bytes"])}
+
+    def __repr__(self) -> str:
+        return (f"TravelGraph(nodes={self.nodes}, edges={self.edges}, arcs={self.arcs}, "
+                f"components={self.components})")
+
+    def edges_frame(self) -> Any:
+        """One row per edge: ``tail``, ``head``, ``cost_forward_<unit>``,
+        ``cost_backward_<unit>`` (NaN where the direction is not allowed), ``component``."""
+        import pandas as pd
+
+        i = self._info
+        return pd.DataFrame({"tail": i["tail"], "head": i["head"], f"cost_forward_{self.unit}": i["forward"],
+                             f"cost_backward_{self.unit}": i["backward"], "component": i["edge_component"]})
+
+    def components_frame(self) -> Any:
+        """One row per component: ``component``, ``nodes``, ``edges``."""
+        import pandas as pd
+
+        i = self._info
+        return pd.DataFrame({
+            "component": np.arange(self.components),
+            "nodes": np.bincount(i["node_component"], minlength=self.components),
+            "edges": np.bincount(i["edge_component"], minlength=self.components),
+        })
+
+    # -------------------------------------------------------------- searches
+
+    def snap(self, points: ArrayLike, *, max_gap: float | None = None) -> Attachments:
+        """Attach points to the nearest point of the nearest edge (an R*-tree over segments).
+
+        Raises
+        ------
+        InputError
+            Naming the first point farther than ``max_gap`` from every edge, or when the
+            graph has no coordinates.
+
+        Examples
+        --------
+        >>> import placewise as pw
+        >>> g = pw.TravelGraph.from_lines([[(0, 0), (10, 0)]])
+        >>> a = g.snap([[4, 3]])
+        >>> a.edge, a.along, a.gap
+        (array([0]), array([4.]), array([3.]))
+        """
+        return Attachments(**self._core.snap(points, max_gap), unit=self.length_unit)
+
+    def costs(self, origins: ArrayLike, destinations: ArrayLike, *, limit: float | None = None,
+              k: int | None = None, max_gap: float | None = None) -> Any:
+        """Shortest travel costs from every origin to every destination.
+
+        One Dijkstra search (Dijkstra 1959) per origin in the compiled core, in parallel over
+        origins, stopped at ``limit`` or once the ``k`` cheapest destinations are settled.
+
+        Parameters
+        ----------
+        origins, destinations : array_like
+            Points ``(n, 2)`` (attached to the nearest edge) or node numbers ``(n,)`` (integers).
+        limit : float, optional
+            Keep only pairs with cost ``<= limit``.
+        k : int, optional
+            Keep only each origin's ``k`` cheapest destinations (ties: lower row).
+        max_gap : float, optional
+            Refuse points farther than this from the network.
+
+        Returns
+        -------
+        ndarray or scipy.sparse.csr_array, shape (n_origins, n_destinations)
+            Without ``limit`` and ``k``: a dense array with ``NaN`` for unreachable pairs.
+            With either: a sparse array whose stored entries are the pairs kept (a zero
+            cost is stored); an absent pair is unreachable, beyond the limit or not among
+            the ``k`` nearest.
+
+        Examples
+        --------
+        >>> import placewise as pw
+        >>> g = pw.TravelGraph.from_edges([0, 2], [1, 3], [1.0, 2.0])   # two separate streets
+        >>> g.costs([0, 2], [1, 3])
+        array([[ 1., nan],
+               [nan,  2.]])
+        >>> g.costs([0, 2], [1, 3], limit=1.5).toarray()
+        array([[1., 0.],
+               [0., 0.]])
+        """
+        f = self._core.costs(origins, destinations, limit, k, max_gap)
+        n, m = len(f["offsets"]) - 1, int(f["destinations"])
+        if limit is None and k is None:
+            dense = np.full((n, m), np.nan)
+            rows = np.repeat(np.arange(n), np.diff(f["offsets"]))
+            dense[rows, f["columns"]] = f["costs"]
+            return dense
+        import scipy.sparse
+
+        return scipy.sparse.csr_array((f["costs"], f["columns"], f["offsets"]), shape=(n, m))
+
+    def nearest_site(self, points: ArrayLike, sites: ArrayLike, weights: ArrayLike | None = None, *,
+                     limit: float | None = None, max_gap: float | None = None) -> NetworkCatchments:
+        """Every point's cheapest site by travel cost from the site, with loads.
+
+        One multi-source Dijkstra search labels every node with its cheapest site; each point
+        then takes the cheaper end of its edge (in the directions the edge allows) or a site
+        on the same edge. A point no site reaches (another component, one-way edges, beyond
+        ``limit``) gets site -1 and cost NaN and is counted in ``unreachable``.
+
+        Examples
+        --------
+        >>> import placewise as pw
+        >>> g = pw.TravelGraph.from_lines([[(0, 0), (10, 0)], [(20, 0), (30, 0)]])
+        >>> c = g.nearest_site([[1, 0], [9, 1], [25, 0]], sites=[[0, 0]])
+        >>> c.to_frame()
+           site  reachable  cost_u  edge  gap_u
+        0     0       True     1.0     0    0.0
+        1     0       True     9.0     0    1.0
+        2    -1      False     NaN     1    0.0
+        >>> c.unreachable
+        1
+        """
+        f = self._core.catchments(points, sites, weights, limit, max_gap)
+        keep = {x.name for x in dataclasses.fields(NetworkCatchments)}
+        return NetworkCatchments(**{k: v for k, v in f.items() if k in keep}, unit=self.unit,
+                                 length_unit=self.length_unit)
+
+    def catchment_edges(self, sites: ArrayLike, *, limit: float | None = None,
+                        max_gap: float | None = None) -> EdgePieces:
+        """The network cut where the catchments of two sites meet: every piece is reached
+        cheapest from its site, with the cost at both ends (parts no site reaches are left out).
+
+        Examples
+        --------
+        >>> import placewise as pw
+        >>> g = pw.TravelGraph.from_lines([[(0, 0), (10, 0)]])
+        >>> g.catchment_edges([[0, 0], [10, 0]]).to_frame()
+           site  edge  start  end  cost_start_u  cost_end_u
+        0     0     0    0.0  0.5           0.0         5.0
+        1     1     0    0.5  1.0           5.0         0.0
+        """
+        return EdgePieces(**self._core.catchment_edges(sites, limit, max_gap), unit=self.unit)
+
+    def reach(self, sites: ArrayLike, limit: float, *, max_gap: float | None = None) -> EdgePieces:
+        """For every site, the parts of the network within travel cost ``limit`` of it, as
+        line pieces with the cost at both ends (``to_geodataframe()`` gives the lines).
+
+        Examples
+        --------
+        >>> import placewise as pw
+        >>> g = pw.TravelGraph.from_lines([[(0, 0), (10, 0)]])
+        >>> g.reach([[4, 0]], 3).to_frame()
+           site  edge  start  end  cost_start_u  cost_end_u
+        0     0     0    0.1  0.4           3.0         0.0
+        1     0     0    0.4  0.7           0.0         3.0
+        """
+        return EdgePieces(**self._core.reach(sites, limit, max_gap), unit=self.unit)
+
+    # -------------------------------------------------------------- siting
+
+    def site_costs(self, points: ArrayLike, candidates: ArrayLike, *, limit: float | None = None,
+                   max_gap: float | None = None) -> Any:
+        """The demand × candidate travel-cost matrix (travel from candidate ``j`` to point
+        ``i``) that :mod:`placewise.discrete` takes: dense with NaN for unreachable pairs, or
+        sparse with a ``limit`` (absent pairs are beyond it or unreachable)."""
+        matrix = self.costs(candidates, points, limit=limit, max_gap=max_gap)
+        return matrix.T.tocsr() if limit is not None else np.ascontiguousarray(matrix.T)
+
+    def choose_sites(self, model: str, points: ArrayLike, candidates: ArrayLike, weights: ArrayLike | None = None,
+                     *, limit: float | None = None, max_gap: float | None = None, **options: Any) -> Any:
+        """A model of :mod:`placewise.discrete` on travel costs from candidates to points.
+
+        Parameters
+        ----------
+        model : str
+            ``"evaluate_sites"``, ``"p_median"``, ``"p_center"``, ``"cover_all"`` or
+            ``"cover_most"``.
+        points, candidates : array_like
+            Demand and candidate sites, as points (attached like any point) or node numbers.
+        weights : array_like, optional
+            Demand per point.
+        limit : float, optional
+            Consider only pairs within this cost (a sparse matrix).
+        **options
+            The model's own arguments (``p``, ``radius``, ``fixed``, ``sites``, ...).
+
+        Raises
+        ------
+        InputError
+            Naming the points no candidate reaches (another component, one-way edges or
+            beyond ``limit``), with their count and weight; and when some pairs are
+            unreachable while the discrete models still need every pair.
+
+        Examples
+        --------
+        >>> import placewise as pw
+        >>> g = pw.TravelGraph.from_lines([[(0, 0), (10, 0)], [(10, 0), (10, 10)]])
+        >>> plan = g.choose_sites("p_median", [[1, 0], [2, 0], [10, 9]], [[0, 0], [10, 10]], p=1)
+        >>> plan.open, float(plan.total_cost)
+        (array([0]), 22.0)
+        """
+        from . import discrete
+
+        if model not in _MODELS:
+            raise _input_error("model", f"model must be one of {', '.join(map(repr, _MODELS))}; got {model!r}")
+        matrix = self.site_costs(points, candidates, limit=limit, max_gap=max_gap)
+        if isinstance(matrix, np.ndarray):
+            reached = ~np.isnan(matrix)
+        else:
+            reached = np.zeros(matrix.shape, dtype=bool)
+            coo = matrix.tocoo()
+            reached[coo.row, coo.col] = True
+        lost = np.flatnonzero(~reached.any(axis=1))
+        if len(lost):
+            w = np.ones(len(reached)) if weights is None else np.asarray(weights, dtype=np.float64)
+            shown = ", ".join(str(int(r)) for r in lost[:10]) + (", ..." if len(lost) > 10 else "")
+            raise _input_error(
+                "points",
+                f"points[{shown}]: no candidate reaches {len(lost)} point(s) (weight {float(w[lost].sum()):g}) "
+                f"(another component, one-way streets or beyond the limit); drop them or add candidates there",
+                int(lost[0]))
+        if reached.all() and not isinstance(matrix, np.ndarray):
+            matrix = matrix.toarray()
+        elif not reached.all():
+            import scipy.sparse
+
+            if isinstance(matrix, np.ndarray):
+                rows, cols = np.nonzero(reached)
+                matrix = scipy.sparse.csr_array((matrix[rows, cols], (rows, cols)), shape=matrix.shape)
+        call = getattr(discrete, model)
+        try:
+            return call(matrix, weights=weights, unit=self.unit, **options)
+        except InputError as exc:
+            if reached.all():
+                raise
+            i, j = np.argwhere(~reached)[0]
+            raise _input_error(
+                "costs",
+                f"candidate {int(j)} cannot reach points[{int(i)}] (and {int((~reached).sum()) - 1} other pairs); "
+                f"the discrete models need a cost for every pair they are given: {exc}",
+                int(i)) from exc

@@ -1,0 +1,136 @@
+//! Building a travel graph from line geometries: the ends of the lines become nodes, ends
+//! within a snapping tolerance of each other joined into one node.
+
+use std::collections::HashMap;
+
+use rstar::primitives::GeomWithData;
+use rstar::RTree;
+
+use super::graph::{Shapes, TravelGraph, MAX_GRAPH_INDEX};
+use crate::error::{Error, Result};
+use crate::geometry::{distance, location_key, Point};
+
+/// Options of [`TravelGraph::from_lines`].
+#[derive(Debug, Clone, Default)]
+pub struct LineOptions<'a> {
+    /// Cost of each line forward (default: its planar length in coordinate units).
+    pub cost: Option<&'a [f64]>,
+    /// Cost of each line backward (default: the forward cost).
+    pub reverse_cost: Option<&'a [f64]>,
+    /// Direction codes: 0 both ways, 1 along the drawing direction only, -1 against it only.
+    pub one_way: Option<&'a [i64]>,
+    /// Line ends closer than this (coordinate units, >= 0) are joined into one node; 0 joins
+    /// only ends with equal coordinates.
+    pub tolerance: f64,
+}
+
+impl TravelGraph {
+    /// A graph whose edges are the lines `coords[offsets[i]..offsets[i + 1]]` (planar
+    /// coordinates), each from its first point (tail) to its last (head).
+    ///
+    /// Ends are joined greedily in line order: an end within `tolerance` of an existing
+    /// node (the nearest one, found in an R*-tree) joins it, else it starts a new node at its
+    /// own location; with `tolerance == 0` ends join exactly when their coordinates are equal
+    /// ([`location_key`]). Joining is not transitive: two ends `2 × tolerance` apart stay
+    /// apart unless an end between them came first. Lines are not split where they cross.
+    ///
+    /// # Errors
+    /// [`Error::InvalidEdge`] naming the row of a line with fewer than two points or a
+    /// non-finite coordinate, a bad cost or one-way code; [`Error::LengthMismatch`] for
+    /// columns of the wrong length; [`Error::InvalidParameter`] for a negative or NaN
+    /// tolerance, or beyond 32-bit indices.
+    ///
+    /// # Runtime
+    /// O(V + L log L) for V vertices and L lines.
+    pub fn from_lines(coords: &[Point], offsets: &[usize], options: &LineOptions<'_>) -> Result<TravelGraph> {
+        let tolerance = options.tolerance;
+        if !(tolerance >= 0.0 && tolerance.is_finite()) {
+            return Err(Error::InvalidParameter {
+                name: "tolerance",
+                reason: format!("tolerance must be finite and >= 0; got {tolerance}"),
+            });
+        }
+        if offsets.is_empty() || offsets[0] != 0 || *offsets.last().expect("non-empty") != coords.len() {
+            return Err(Error::InvalidParameter {
+                name: "offsets",
+                reason: "offsets must start at 0 and end at the number of coordinates".into(),
+            });
+        }
+        let m = offsets.len() - 1;
+        if m == 0 {
+            return Err(Error::TooFewPoints { argument: "lines", needed: 1, got: 0, counted: "lines" });
+        }
+        if coords.len() > MAX_GRAPH_INDEX || 2 * m > MAX_GRAPH_INDEX {
+            return Err(Error::InvalidParameter {
+                name: "lines",
+                reason: format!("{m} lines of {} vertices exceed the 32-bit indices of the graph", coords.len()),
+            });
+        }
+        for (argument, column) in [("cost", options.cost), ("reverse_cost", options.reverse_cost)] {
+            if let Some(c) = column {
+                if c.len() != m {
+                    return Err(Error::LengthMismatch { argument, expected: m, got: c.len() });
+                }
+            }
+        }
+        if let Some(o) = options.one_way {
+            if o.len() != m {
+                return Err(Error::LengthMismatch { argument: "one_way", expected: m, got: o.len() });
+            }
+        }
+        let mut lengths = Vec::with_capacity(m);
+        for row in 0..m {
+            let (a, b) = (offsets[row], offsets[row + 1]);
+            if b < a + 2 {
+                let got = b.saturating_sub(a);
+                return Err(Error::InvalidEdge {
+                    argument: "lines",
+                    row,
+                    reason: format!("a line needs at least 2 points; got {got}"),
+                });
+            }
+            let line = &coords[a..b];
+            if let Some(p) = line.iter().find(|p| !(p[0].is_finite() && p[1].is_finite())) {
+                return Err(Error::InvalidEdge {
+                    argument: "lines",
+                    row,
+                    reason: format!("coordinate ({}, {}) is not finite", p[0], p[1]),
+                });
+            }
+            lengths.push(line.windows(2).map(|w| distance(w[0], w[1])).sum::<f64>());
+        }
+        let mut tail = Vec::with_capacity(m);
+        let mut head = Vec::with_capacity(m);
+        let mut nodes = 0u32;
+        if tolerance == 0.0 {
+            let mut seen: HashMap<(u64, u64), u32> = HashMap::with_capacity(2 * m);
+            let mut node_of = |p: Point| {
+                *seen.entry(location_key(p)).or_insert_with(|| {
+                    nodes += 1;
+                    nodes - 1
+                })
+            };
+            for row in 0..m {
+                tail.push(node_of(coords[offsets[row]]));
+                head.push(node_of(coords[offsets[row + 1] - 1]));
+            }
+        } else {
+            let mut tree: RTree<GeomWithData<Point, u32>> = RTree::new();
+            let mut node_of = |p: Point| match tree.nearest_neighbor(p) {
+                Some(near) if distance(*near.geom(), p) <= tolerance => near.data,
+                _ => {
+                    tree.insert(GeomWithData::new(p, nodes));
+                    nodes += 1;
+                    nodes - 1
+                }
+            };
+            for row in 0..m {
+                tail.push(node_of(coords[offsets[row]]));
+                head.push(node_of(coords[offsets[row + 1] - 1]));
+            }
+        }
+        let cost = options.cost.unwrap_or(&lengths);
+        let shapes = Shapes::Lines { offsets: offsets.iter().map(|&o| o as u32).collect(), coords: coords.to_vec() };
+        TravelGraph::assemble(nodes as usize, tail, head, cost, options.reverse_cost, options.one_way, shapes)
+    }
+}

@@ -1,0 +1,276 @@
+//! Attaching points to the network: each point goes to the nearest point of the nearest
+//! edge, found in a uniform grid of buckets over the edges' segments (cell-based nearest
+//! search, Bentley, Weide & Yao 1980), which answers a street network's short segments
+//! several times faster than an R*-tree query.
+
+use rayon::prelude::*;
+
+use super::graph::TravelGraph;
+use crate::error::{Error, Result};
+use crate::geometry::{distance, distance_squared, dot, sub, validate_points, BoundingBox, Point};
+
+/// Where travel starts or ends: at a node, or part-way along an edge.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Spot {
+    /// At node `0`.
+    Node(u32),
+    /// On edge `edge`, at `fraction` (strictly between 0 and 1) of its length from its
+    /// tail. Costs along the edge are in proportion to length (uniform speed).
+    OnEdge {
+        /// The edge (input row).
+        edge: u32,
+        /// Share of the edge's length from its tail.
+        fraction: f64,
+    },
+}
+
+/// A point attached to the network.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Snap {
+    /// Where travel starts or ends.
+    pub spot: Spot,
+    /// The edge the point went to.
+    pub edge: u32,
+    /// Length along the edge's shape from its tail to the attachment point.
+    pub along: f64,
+    /// Distance from the point to the attachment point (the off-network gap; not a cost).
+    pub gap: f64,
+    /// The attachment point on the edge.
+    pub on_edge: Point,
+}
+
+/// One segment of an edge's shape.
+#[derive(Clone, Copy)]
+struct Segment {
+    a: Point,
+    b: Point,
+    edge: u32,
+    k: u32,
+}
+
+impl Segment {
+    /// The nearest point of the segment to `p` and its squared distance.
+    #[inline]
+    fn nearest(&self, p: Point) -> (Point, f64) {
+        let d = sub(self.b, self.a);
+        let t = (dot(sub(p, self.a), d) / dot(d, d)).clamp(0.0, 1.0);
+        let q = if t <= 0.0 {
+            self.a
+        } else if t >= 1.0 {
+            self.b
+        } else {
+            [self.a[0] + t * d[0], self.a[1] + t * d[1]]
+        };
+        (q, distance_squared(p, q))
+    }
+}
+
+/// A uniform grid over every segment of every edge (bucketing; a segment is listed in every
+/// cell its bounding box meets), built once per call. A query scans rings of cells around
+/// the point's cell until the ring's distance exceeds the best distance found.
+pub struct SegmentIndex<'g> {
+    graph: &'g TravelGraph,
+    segments: Vec<Segment>,
+    origin: Point,
+    cell: f64,
+    nx: usize,
+    ny: usize,
+    first: Vec<u32>,
+    items: Vec<u32>,
+}
+
+impl<'g> SegmentIndex<'g> {
+    /// The index of `graph`'s edge shapes (zero-length segments left out).
+    ///
+    /// # Errors
+    /// [`Error::InvalidParameter`] when the graph has no geometry (edge arrays without node
+    /// coordinates) or no segment of positive length.
+    pub fn new(graph: &'g TravelGraph) -> Result<SegmentIndex<'g>> {
+        if !graph.has_geometry() {
+            return Err(Error::InvalidParameter {
+                name: "points",
+                reason: "the graph has no coordinates, so points cannot be attached to it; build it with node \
+                         coordinates or from lines, or give node numbers"
+                    .into(),
+            });
+        }
+        let mut segments = Vec::new();
+        for e in 0..graph.edge_count() {
+            let line = graph.line(e).expect("graph has geometry");
+            for (k, w) in line.points().windows(2).enumerate() {
+                if w[0] != w[1] {
+                    segments.push(Segment { a: w[0], b: w[1], edge: e as u32, k: k as u32 });
+                }
+            }
+        }
+        if segments.is_empty() {
+            return Err(Error::InvalidParameter {
+                name: "points",
+                reason: "every edge of the graph has zero length, so points cannot be attached to it".into(),
+            });
+        }
+        let ends: Vec<Point> = segments.iter().flat_map(|s| [s.a, s.b]).collect();
+        let bounds = BoundingBox::of(&ends).expect("segments exist");
+        let (w, h) = (bounds.max[0] - bounds.min[0], bounds.max[1] - bounds.min[1]);
+        // About two cells per segment, at most 2^24 cells.
+        let cells = (2 * segments.len()).clamp(1, 1 << 24) as f64;
+        let mut cell = ((w.max(f64::MIN_POSITIVE) * h.max(f64::MIN_POSITIVE)) / cells).sqrt();
+        cell = cell.max(w.max(h) / 4096.0).max(f64::MIN_POSITIVE);
+        if !cell.is_finite() {
+            cell = w.max(h).max(1.0);
+        }
+        let nx = ((w / cell).floor() as usize + 1).min(1 << 13);
+        let ny = ((h / cell).floor() as usize + 1).min(1 << 13);
+        let mut index = SegmentIndex {
+            graph,
+            segments,
+            origin: bounds.min,
+            cell,
+            nx,
+            ny,
+            first: vec![0; nx * ny + 1],
+            items: Vec::new(),
+        };
+        let span = |s: &Segment, index: &SegmentIndex<'_>| {
+            let (i0, j0) = index.cell_of([s.a[0].min(s.b[0]), s.a[1].min(s.b[1])]);
+            let (i1, j1) = index.cell_of([s.a[0].max(s.b[0]), s.a[1].max(s.b[1])]);
+            (i0, j0, i1, j1)
+        };
+        for s in &index.segments {
+            let (i0, j0, i1, j1) = span(s, &index);
+            for j in j0..=j1 {
+                for i in i0..=i1 {
+                    index.first[j * nx + i + 1] += 1;
+                }
+            }
+        }
+        for c in 0..nx * ny {
+            index.first[c + 1] += index.first[c];
+        }
+        let mut fill = index.first.clone();
+        let mut items = vec![0u32; index.first[nx * ny] as usize];
+        for (n, s) in index.segments.iter().enumerate() {
+            let (i0, j0, i1, j1) = span(s, &index);
+            for j in j0..=j1 {
+                for i in i0..=i1 {
+                    items[fill[j * nx + i] as usize] = n as u32;
+                    fill[j * nx + i] += 1;
+                }
+            }
+        }
+        index.items = items;
+        Ok(index)
+    }
+
+    /// The cell of `p`, clamped to the grid.
+    #[inline]
+    fn cell_of(&self, p: Point) -> (usize, usize) {
+        let fx = ((p[0] - self.origin[0]) / self.cell).floor();
+        let fy = ((p[1] - self.origin[1]) / self.cell).floor();
+        let i = if fx > 0.0 { (fx as usize).min(self.nx - 1) } else { 0 };
+        let j = if fy > 0.0 { (fy as usize).min(self.ny - 1) } else { 0 };
+        (i, j)
+    }
+
+    /// Attach one point: the nearest segment (ties: the lowest segment number).
+    pub fn snap(&self, p: Point) -> Snap {
+        let (ci, cj) = self.cell_of(p);
+        let mut best = (f64::INFINITY, u32::MAX, p);
+        let rings = self.nx.max(self.ny);
+        for r in 0..=rings {
+            // Every cell at Chebyshev distance r from (ci, cj), within the grid.
+            let (i0, i1) = (ci as isize - r as isize, ci as isize + r as isize);
+            let (j0, j1) = (cj as isize - r as isize, cj as isize + r as isize);
+            for j in j0.max(0)..=j1.min(self.ny as isize - 1) {
+                let edge_row = j == j0 || j == j1;
+                let step = if edge_row { 1 } else { (i1 - i0).max(1) as usize };
+                let mut i = i0;
+                while i <= i1 {
+                    if i >= 0 && (i as usize) < self.nx {
+                        let c = j as usize * self.nx + i as usize;
+                        for &n in &self.items[self.first[c] as usize..self.first[c + 1] as usize] {
+                            let (q, d2) = self.segments[n as usize].nearest(p);
+                            if d2 < best.0 || (d2 == best.0 && n < best.1) {
+                                best = (d2, n, q);
+                            }
+                        }
+                    }
+                    i += step as isize;
+                }
+            }
+            // Cells beyond ring r lie at least r cells away from the point.
+            let reach = r as f64 * self.cell;
+            if best.1 != u32::MAX && best.0 <= reach * reach {
+                break;
+            }
+        }
+        let seg = self.segments[best.1 as usize];
+        let (edge, k, on_edge) = (seg.edge, seg.k, best.2);
+        let line = self.graph.line(edge as usize).expect("graph has geometry");
+        let pts = line.points();
+        let before: f64 = pts[..=k as usize].windows(2).map(|w| distance(w[0], w[1])).sum();
+        let along = before + distance(pts[k as usize], on_edge);
+        let length = line.length();
+        let spot = if along <= 0.0 || length <= 0.0 {
+            Spot::Node(self.graph.tail[edge as usize])
+        } else if along >= length {
+            Spot::Node(self.graph.head[edge as usize])
+        } else {
+            Spot::OnEdge { edge, fraction: along / length }
+        };
+        Snap { spot, edge, along: along.min(length), gap: distance(p, on_edge), on_edge }
+    }
+}
+
+/// Attach every point of `points` to `graph`; `argument` names them in errors.
+///
+/// # Errors
+/// [`Error::NonFiniteCoordinate`] for a bad point; [`Error::BeyondGap`] naming the first
+/// point farther than `max_gap` from every edge; those of [`SegmentIndex::new`].
+///
+/// # Runtime
+/// O(S + cells) to index S segments, then O(1) expected per point for evenly spread
+/// segments, parallel over points.
+pub fn snap_points(
+    graph: &TravelGraph,
+    points: &[Point],
+    argument: &'static str,
+    max_gap: Option<f64>,
+) -> Result<Vec<Snap>> {
+    validate_points(argument, points, 0)?;
+    if let Some(g) = max_gap {
+        if !(g >= 0.0) || g.is_nan() {
+            return Err(Error::InvalidParameter { name: "max_gap", reason: format!("max_gap must be >= 0; got {g}") });
+        }
+    }
+    let index = SegmentIndex::new(graph)?;
+    let snaps: Vec<Snap> = points.par_iter().with_min_len(1024).map(|&p| index.snap(p)).collect();
+    if let Some(max_gap) = max_gap {
+        if let Some((row, s)) = snaps.iter().enumerate().find(|(_, s)| s.gap > max_gap) {
+            return Err(Error::BeyondGap { argument, row, gap: s.gap, max_gap });
+        }
+    }
+    Ok(snaps)
+}
+
+/// Spots at given node numbers; `argument` names them in errors.
+///
+/// # Errors
+/// [`Error::InvalidEdge`] naming the row of a node number out of range.
+pub fn node_spots(graph: &TravelGraph, nodes: &[i64], argument: &'static str) -> Result<Vec<Spot>> {
+    nodes
+        .iter()
+        .enumerate()
+        .map(|(row, &v)| {
+            if v < 0 || v as usize >= graph.node_count() {
+                Err(Error::InvalidEdge {
+                    argument,
+                    row,
+                    reason: format!("node {v} is out of range (there are {} nodes)", graph.node_count()),
+                })
+            } else {
+                Ok(Spot::Node(v as u32))
+            }
+        })
+        .collect()
+}

@@ -1,0 +1,312 @@
+//! Tests of the travel family against references written here: the Manhattan closed form
+//! on a complete street grid, Floyd–Warshall (Floyd 1962) on small random graphs, and
+//! brute-force minima for spots part-way along edges.
+
+use proptest::prelude::*;
+
+use super::*;
+use crate::geometry::Weights;
+
+/// A complete `w × h` street grid with unit blocks, as lines (one per block side).
+fn grid_lines(w: usize, h: usize) -> (Vec<[f64; 2]>, Vec<usize>) {
+    let mut coords = Vec::new();
+    let mut offsets = vec![0];
+    for y in 0..h {
+        for x in 0..w {
+            if x + 1 < w {
+                coords.extend([[x as f64, y as f64], [x as f64 + 1.0, y as f64]]);
+                offsets.push(coords.len());
+            }
+            if y + 1 < h {
+                coords.extend([[x as f64, y as f64], [x as f64, y as f64 + 1.0]]);
+                offsets.push(coords.len());
+            }
+        }
+    }
+    (coords, offsets)
+}
+
+/// All-pairs costs by Floyd–Warshall (Floyd 1962) over the edge directions.
+fn floyd(graph: &TravelGraph) -> Vec<Vec<f64>> {
+    let n = graph.node_count();
+    let mut d = vec![vec![f64::INFINITY; n]; n];
+    for (u, row) in d.iter_mut().enumerate() {
+        row[u] = 0.0;
+    }
+    let (t, h) = graph.ends();
+    let (f, b) = graph.edge_costs();
+    for e in 0..graph.edge_count() {
+        let (a, c) = (t[e] as usize, h[e] as usize);
+        d[a][c] = d[a][c].min(f[e]);
+        d[c][a] = d[c][a].min(b[e]);
+    }
+    for k in 0..n {
+        for i in 0..n {
+            for j in 0..n {
+                let via = d[i][k] + d[k][j];
+                if via < d[i][j] {
+                    d[i][j] = via;
+                }
+            }
+        }
+    }
+    d
+}
+
+/// Brute-force cost between two spots from the all-pairs node costs.
+fn spot_cost(graph: &TravelGraph, all: &[Vec<f64>], from: Spot, to: Spot) -> f64 {
+    let mut best = graph.direct(from, to).unwrap_or(f64::INFINITY);
+    for (u, a) in graph.leave(from).iter() {
+        for (v, b) in graph.arrive(to).iter() {
+            best = best.min(a + all[u as usize][v as usize] + b);
+        }
+    }
+    best
+}
+
+#[test]
+fn grid_costs_are_manhattan_distances() {
+    // Closed form: on a complete grid of unit blocks, the shortest street path between
+    // corners is |dx| + |dy|.
+    let (coords, offsets) = grid_lines(6, 5);
+    let g = TravelGraph::from_lines(&coords, &offsets, &LineOptions::default()).unwrap();
+    g.check().unwrap();
+    assert_eq!(g.component_count(), 1);
+    let pts: Vec<[f64; 2]> = (0..30).map(|i| [(i % 6) as f64, (i / 6) as f64]).collect();
+    let snaps: Vec<Spot> = snap_points(&g, &pts, "points", Some(0.0)).unwrap().iter().map(|s| s.spot).collect();
+    let rows = travel_costs(&g, &snaps, &snaps, &CostOptions::default()).unwrap();
+    let dense = rows.dense(pts.len());
+    for (i, p) in pts.iter().enumerate() {
+        for (j, q) in pts.iter().enumerate() {
+            let manhattan = (p[0] - q[0]).abs() + (p[1] - q[1]).abs();
+            assert_eq!(dense[i * pts.len() + j], manhattan);
+        }
+    }
+}
+
+#[test]
+fn part_way_points_on_grid_follow_manhattan_through_corners() {
+    // Closed form: a point at (0.25, 0) to one at (2, 0.5) on unit blocks: 1.75 + 0.5.
+    let (coords, offsets) = grid_lines(4, 4);
+    let g = TravelGraph::from_lines(&coords, &offsets, &LineOptions::default()).unwrap();
+    let s = snap_points(&g, &[[0.25, -0.1], [2.1, 0.5]], "points", Some(0.2)).unwrap();
+    assert!((s[0].gap - 0.1).abs() < 1e-12 && (s[0].along - 0.25).abs() < 1e-12);
+    let spots = [s[0].spot, s[1].spot];
+    let rows = travel_costs(&g, &spots[..1], &spots[1..], &CostOptions::default()).unwrap();
+    assert!((rows.costs[0] - 2.25).abs() < 1e-12);
+    // Same edge: straight along it.
+    let s2 = snap_points(&g, &[[0.75, 0.0]], "points", None).unwrap();
+    let rows = travel_costs(&g, &spots[..1], &[s2[0].spot], &CostOptions::default()).unwrap();
+    assert!((rows.costs[0] - 0.5).abs() < 1e-12);
+}
+
+#[test]
+fn one_way_edge_is_travelled_one_way_only() {
+    // 0 -> 1 one way (cost 1); 1 -> 2 -> 0 both ways (cost 5 each).
+    let g =
+        TravelGraph::from_edges(&[0, 1, 2], &[1, 2, 0], &[1.0, 5.0, 5.0], None, Some(&[1, 0, 0]), None, None).unwrap();
+    g.check().unwrap();
+    let rows = travel_costs(&g, &[Spot::Node(0), Spot::Node(1)], &[Spot::Node(1), Spot::Node(0)], &Default::default())
+        .unwrap();
+    // 1 back to 0 must go round by 2: 5 + 5.
+    assert_eq!(rows.dense(2), vec![1.0, 0.0, 0.0, 10.0]);
+    // Part-way on the one-way edge, at 0.5: ahead costs 0.5, behind needs the loop.
+    let mid = Spot::OnEdge { edge: 0, fraction: 0.5 };
+    let rows = travel_costs(&g, &[mid], &[Spot::Node(1), Spot::Node(0)], &Default::default()).unwrap();
+    assert_eq!(rows.costs, vec![0.5, 10.5]);
+    let back = Spot::OnEdge { edge: 0, fraction: 0.25 };
+    let rows = travel_costs(&g, &[mid], &[back], &Default::default()).unwrap();
+    // From 0.5 back to 0.25 against the one-way: round the loop, 0.5 + 10 + 0.25.
+    assert_eq!(rows.costs, vec![10.75]);
+}
+
+#[test]
+fn separate_components_are_found_and_unreachable_pairs_absent() {
+    let g = TravelGraph::from_edges(&[0, 2], &[1, 3], &[1.0, 1.0], None, None, Some(5), None).unwrap();
+    assert_eq!(g.component_count(), 3); // {0,1}, {2,3}, {4}
+    assert_eq!(g.node_components(), &[0, 0, 1, 1, 2]);
+    let rows = travel_costs(&g, &[Spot::Node(0)], &[Spot::Node(1), Spot::Node(3)], &Default::default()).unwrap();
+    assert_eq!(rows.columns, vec![0]);
+    let dense = rows.dense(2);
+    assert_eq!(dense[0], 1.0);
+    assert!(dense[1].is_nan());
+}
+
+#[test]
+fn bad_rows_are_named() {
+    let e = TravelGraph::from_edges(&[0], &[1], &[f64::NAN], None, None, None, None).unwrap_err();
+    assert_eq!(e.row(), Some(0));
+    assert!(e.to_string().starts_with("cost[0]"), "{e}");
+    let e = TravelGraph::from_edges(&[0, 1], &[1, 2], &[1.0, -1.0], None, None, None, None).unwrap_err();
+    assert_eq!((e.argument(), e.row()), ("cost", Some(1)));
+    let e = TravelGraph::from_edges(&[0, 1], &[1, 2], &[1.0, 1.0], None, Some(&[0, 2]), None, None).unwrap_err();
+    assert_eq!((e.argument(), e.row()), ("one_way", Some(1)));
+    let e = TravelGraph::from_edges(&[0], &[7], &[1.0], None, None, Some(3), None).unwrap_err();
+    assert_eq!((e.argument(), e.row()), ("head", Some(0)));
+    let e =
+        TravelGraph::from_lines(&[[0.0, 0.0], [1.0, 0.0], [2.0, 2.0]], &[0, 2, 3], &Default::default()).unwrap_err();
+    assert_eq!((e.argument(), e.row()), ("lines", Some(1)));
+    let (coords, offsets) = grid_lines(2, 2);
+    let g = TravelGraph::from_lines(&coords, &offsets, &Default::default()).unwrap();
+    let e = snap_points(&g, &[[0.5, 0.0], [9.0, 9.0]], "sites", Some(1.0)).unwrap_err();
+    assert_eq!((e.argument(), e.row()), ("sites", Some(1)));
+}
+
+#[test]
+fn tolerance_joins_nearby_ends_and_zero_leaves_them_dangling() {
+    let coords = [[0.0, 0.0], [1.0, 0.0], [1.0 + 1e-9, 0.0], [2.0, 0.0]];
+    let exact = TravelGraph::from_lines(&coords, &[0, 2, 4], &Default::default()).unwrap();
+    assert_eq!((exact.node_count(), exact.dangling_ends(), exact.component_count()), (4, 4, 2));
+    let joined =
+        TravelGraph::from_lines(&coords, &[0, 2, 4], &LineOptions { tolerance: 1e-6, ..Default::default() }).unwrap();
+    assert_eq!((joined.node_count(), joined.dangling_ends(), joined.component_count()), (3, 2, 1));
+}
+
+#[test]
+fn k_nearest_and_limit_agree_with_the_full_matrix() {
+    let (coords, offsets) = grid_lines(7, 7);
+    let g = TravelGraph::from_lines(&coords, &offsets, &Default::default()).unwrap();
+    let pts: Vec<[f64; 2]> = (0..40).map(|i| [(i * 37 % 61) as f64 / 10.0, (i * 17 % 59) as f64 / 10.0]).collect();
+    let spots: Vec<Spot> = snap_points(&g, &pts, "points", None).unwrap().iter().map(|s| s.spot).collect();
+    let full = travel_costs(&g, &spots, &spots, &Default::default()).unwrap().dense(40);
+    let limited = travel_costs(&g, &spots, &spots, &CostOptions { limit: Some(3.0), k: None }).unwrap().dense(40);
+    let nearest = travel_costs(&g, &spots, &spots, &CostOptions { limit: None, k: Some(5) }).unwrap();
+    for i in 0..40 {
+        for j in 0..40 {
+            let c = full[i * 40 + j];
+            let l = limited[i * 40 + j];
+            if c <= 3.0 {
+                assert_eq!(l, c);
+            } else {
+                assert!(l.is_nan());
+            }
+        }
+        let mut row: Vec<(f64, usize)> = (0..40).map(|j| (full[i * 40 + j], j)).collect();
+        row.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
+        let got = &nearest.columns[nearest.offsets[i]..nearest.offsets[i + 1]];
+        let mut want: Vec<u32> = row[..5].iter().map(|r| r.1 as u32).collect();
+        want.sort_unstable();
+        // Ties at the fifth cost may pick another column of the same cost.
+        let kth = row[4].0;
+        for (&c, &w) in got.iter().zip(&want) {
+            assert!(c == w || (full[i * 40 + c as usize] - kth).abs() < 1e-12);
+        }
+        assert_eq!(got.len(), 5);
+    }
+}
+
+#[test]
+fn catchment_pieces_cover_each_edge_once_and_match_the_cheapest_site() {
+    let (coords, offsets) = grid_lines(5, 5);
+    let g = TravelGraph::from_lines(&coords, &offsets, &Default::default()).unwrap();
+    let sites: Vec<Spot> =
+        snap_points(&g, &[[0.3, 0.0], [4.0, 3.6]], "sites", None).unwrap().iter().map(|s| s.spot).collect();
+    let pieces = catchment_pieces(&g, &sites, None).unwrap();
+    let all = floyd(&g);
+    let mut covered = vec![0.0; g.edge_count()];
+    for p in &pieces.pieces {
+        covered[p.edge as usize] += p.end - p.start;
+        for (t, c) in [(p.start, p.cost_start), (p.end, p.cost_end)] {
+            let here = if t <= 0.0 {
+                Spot::Node(g.ends().0[p.edge as usize])
+            } else if t >= 1.0 {
+                Spot::Node(g.ends().1[p.edge as usize])
+            } else {
+                Spot::OnEdge { edge: p.edge, fraction: t }
+            };
+            let cheapest = sites.iter().map(|&s| spot_cost(&g, &all, s, here)).fold(f64::INFINITY, f64::min);
+            assert!((c - cheapest).abs() < 1e-9, "edge {} at {t}: {c} vs {cheapest}", p.edge);
+        }
+    }
+    for c in covered {
+        assert!((c - 1.0).abs() < 1e-12);
+    }
+    let points: Vec<Spot> = (0..25).map(|i| Spot::Node(i as u32)).collect();
+    let nc = network_catchments(&g, &points, &sites, Weights::Unit, None).unwrap();
+    for (i, &p) in points.iter().enumerate() {
+        let cheapest = sites.iter().map(|&s| spot_cost(&g, &all, s, p)).fold(f64::INFINITY, f64::min);
+        assert!((nc.cost[i] - cheapest).abs() < 1e-12);
+    }
+    assert_eq!(nc.count.iter().sum::<usize>(), 25);
+}
+
+#[test]
+fn reach_stops_at_the_limit() {
+    let (coords, offsets) = grid_lines(5, 5);
+    let g = TravelGraph::from_lines(&coords, &offsets, &Default::default()).unwrap();
+    let r = reach(&g, &[Spot::Node(12)], 1.5).unwrap(); // centre node (2, 2)
+                                                        // Closed form: within 1.5 of an inner grid corner lie its 4 block sides (4 × 1) and the
+                                                        // first half of each of the 3 further sides at each neighbour (12 × 0.5): 10 units.
+    let total: f64 = r.pieces.iter().map(|p| p.end - p.start).sum();
+    assert!((total - 10.0).abs() < 1e-12, "{total}");
+    assert!(r.pieces.iter().all(|p| p.cost_start <= 1.5 + 1e-12 && p.cost_end <= 1.5 + 1e-12));
+    assert_eq!(r.offsets.len(), r.pieces.len() + 1);
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(64))]
+
+    #[test]
+    fn random_graph_costs_match_floyd_warshall(
+        edges in prop::collection::vec((0u32..12, 0u32..12, 0.0f64..10.0, -1i64..=1), 1..40),
+        fractions in prop::collection::vec(0.01f64..0.99, 6),
+    ) {
+        let tail: Vec<i64> = edges.iter().map(|e| e.0 as i64).collect();
+        let head: Vec<i64> = edges.iter().map(|e| e.1 as i64).collect();
+        let cost: Vec<f64> = edges.iter().map(|e| e.2).collect();
+        let way: Vec<i64> = edges.iter().map(|e| e.3).collect();
+        let g = TravelGraph::from_edges(&tail, &head, &cost, None, Some(&way), Some(12), None).unwrap();
+        prop_assert!(g.check().is_ok());
+        let all = floyd(&g);
+        let mut spots: Vec<Spot> = (0..12).map(Spot::Node).collect();
+        for (i, f) in fractions.iter().enumerate() {
+            spots.push(Spot::OnEdge { edge: (i % edges.len()) as u32, fraction: *f });
+        }
+        let dense = travel_costs(&g, &spots, &spots, &Default::default()).unwrap().dense(spots.len());
+        for (i, &a) in spots.iter().enumerate() {
+            for (j, &b) in spots.iter().enumerate() {
+                let want = spot_cost(&g, &all, a, b);
+                let got = dense[i * spots.len() + j];
+                if want.is_finite() {
+                    prop_assert!((got - want).abs() <= 1e-9 * (1.0 + want), "{} {}: {} vs {}", i, j, got, want);
+                } else {
+                    prop_assert!(got.is_nan());
+                }
+            }
+        }
+    }
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(64))]
+
+    #[test]
+    fn snapping_finds_the_nearest_segment_by_brute_force(
+        lines in prop::collection::vec(((-50.0f64..50.0, -50.0f64..50.0), (-50.0f64..50.0, -50.0f64..50.0)), 1..30),
+        points in prop::collection::vec((-80.0f64..80.0, -80.0f64..80.0), 1..30),
+    ) {
+        // Reference: the smallest point-to-segment distance over every segment (brute force).
+        let mut coords = Vec::new();
+        let mut offsets = vec![0];
+        for (a, b) in &lines {
+            coords.extend([[a.0, a.1], [b.0, b.1]]);
+            offsets.push(coords.len());
+        }
+        let g = TravelGraph::from_lines(&coords, &offsets, &Default::default()).unwrap();
+        let pts: Vec<[f64; 2]> = points.iter().map(|p| [p.0, p.1]).collect();
+        let Ok(snaps) = snap_points(&g, &pts, "points", None) else { return Ok(()) };
+        for (p, s) in pts.iter().zip(&snaps) {
+            let brute = lines
+                .iter()
+                .filter(|(a, b)| a != b)
+                .map(|(a, b)| {
+                    let (ax, ay, bx, by) = (a.0, a.1, b.0, b.1);
+                    let (dx, dy) = (bx - ax, by - ay);
+                    let t = (((p[0] - ax) * dx + (p[1] - ay) * dy) / (dx * dx + dy * dy)).clamp(0.0, 1.0);
+                    ((p[0] - ax - t * dx).powi(2) + (p[1] - ay - t * dy).powi(2)).sqrt()
+                })
+                .fold(f64::INFINITY, f64::min);
+            prop_assert!((s.gap - brute).abs() <= 1e-9 * (1.0 + brute), "{} vs {}", s.gap, brute);
+        }
+    }
+}

@@ -1,0 +1,460 @@
+"""Travel along a street network, checked against references we did not write:
+scipy.sparse.csgraph.dijkstra on the same graph, networkx multi-source Dijkstra, the
+Manhattan-distance closed form on a complete street grid, and shapely for the shapes of
+reach pieces."""
+
+from __future__ import annotations
+
+import warnings
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+import placewise as pw
+from hostile import AWKWARD_POINTS, BAD_POINTS, BAD_WEIGHTS
+
+scipy_sparse = pytest.importorskip("scipy.sparse")
+csgraph = pytest.importorskip("scipy.sparse.csgraph")
+
+
+def grid_lines(w: int, h: int, step: float = 1.0) -> list[np.ndarray]:
+    """A complete street grid of ``w × h`` corners, one line per block side."""
+    lines = []
+    for y in range(h):
+        for x in range(w):
+            if x + 1 < w:
+                lines.append(np.array([[x, y], [x + 1, y]], dtype=float) * step)
+            if y + 1 < h:
+                lines.append(np.array([[x, y], [x, y + 1]], dtype=float) * step)
+    return lines
+
+
+def random_edges(seed: int, n: int, m: int, one_way_share: float = 0.3):
+    rng = np.random.default_rng(seed)
+    tail = rng.integers(0, n, m)
+    head = rng.integers(0, n, m)
+    cost = rng.uniform(0.0, 10.0, m)
+    one_way = rng.random(m) < one_way_share
+    return tail, head, cost, one_way
+
+
+def scipy_matrix(tail, head, cost, one_way, n):
+    """The same graph as a scipy sparse matrix (parallel edges: the cheapest kept)."""
+    t = np.concatenate([tail, head[~one_way]])
+    h = np.concatenate([head, tail[~one_way]])
+    c = np.concatenate([cost, cost[~one_way]])
+    order = np.lexsort((c, h, t))
+    t, h, c = t[order], h[order], c[order]
+    keep = np.ones(len(t), dtype=bool)
+    keep[1:] = (t[1:] != t[:-1]) | (h[1:] != h[:-1])
+    # Zero costs would be read as "no edge" by csgraph; the draws are never exactly zero.
+    return scipy_sparse.csr_array((c[keep], (t[keep], h[keep])), shape=(n, n))
+
+
+# ------------------------------------------------------------------ outside references
+
+
+def test_costs_match_scipy_dijkstra_on_random_graphs():
+    # Reference: scipy.sparse.csgraph.dijkstra on the same directed graph (1e-9 relative).
+    for seed in range(5):
+        n, m = 300, 900
+        tail, head, cost, one_way = random_edges(seed, n, m)
+        g = pw.TravelGraph.from_edges(tail, head, cost, one_way=one_way, nodes=n)
+        origins = np.arange(0, n, 7)
+        ours = g.costs(origins, np.arange(n))
+        ref = csgraph.dijkstra(scipy_matrix(tail, head, cost, one_way, n), indices=origins)
+        assert np.array_equal(np.isnan(ours), np.isinf(ref))
+        finite = np.isfinite(ref)
+        np.testing.assert_allclose(ours[finite], ref[finite], rtol=1e-9, atol=0)
+
+
+def test_limit_matches_scipy_dijkstra_limit():
+    # Reference: scipy.sparse.csgraph.dijkstra(limit=...) marks pairs beyond the limit inf.
+    n, m = 400, 1400
+    tail, head, cost, one_way = random_edges(11, n, m)
+    g = pw.TravelGraph.from_edges(tail, head, cost, one_way=one_way, nodes=n)
+    origins = np.arange(0, n, 13)
+    ours = g.costs(origins, np.arange(n), limit=12.0)
+    ref = csgraph.dijkstra(scipy_matrix(tail, head, cost, one_way, n), indices=origins, limit=12.0)
+    dense = np.full(ref.shape, np.inf)
+    coo = ours.tocoo()
+    dense[coo.row, coo.col] = coo.data
+    np.testing.assert_allclose(dense, ref, rtol=1e-9, atol=0)
+
+
+def test_nearest_site_matches_networkx_multi_source_dijkstra():
+    # Reference: networkx.multi_source_dijkstra_path_length from every site at once.
+    nx = pytest.importorskip("networkx")
+    n, m = 120, 300
+    tail, head, cost, one_way = random_edges(3, n, m)
+    g = pw.TravelGraph.from_edges(tail, head, cost, one_way=one_way, nodes=n)
+    d = nx.DiGraph()
+    d.add_nodes_from(range(n))
+    for a, b, c, o in zip(tail, head, cost, one_way):
+        for u, v in [(a, b)] + ([] if o else [(b, a)]):
+            if not d.has_edge(u, v) or d[u][v]["weight"] > c:
+                d.add_edge(int(u), int(v), weight=float(c))
+    sites = np.array([0, 17, 55, 90])
+    ref = nx.multi_source_dijkstra_path_length(d, set(sites.tolist()))
+    c = g.nearest_site(np.arange(n), sites)
+    for node in range(n):
+        if node in ref:
+            assert c.site[node] >= 0
+            assert c.cost[node] == pytest.approx(ref[node], rel=1e-9, abs=0)
+        else:
+            assert c.site[node] == -1 and np.isnan(c.cost[node])
+    assert c.unreachable == n - len(ref)
+    # The labels agree with the cost matrix (each node's site is a cheapest one).
+    full = g.costs(sites, np.arange(n))
+    reached = c.site >= 0
+    np.testing.assert_allclose(np.nanmin(full[:, reached], axis=0), c.cost[reached], rtol=1e-12)
+
+
+def test_grid_costs_are_manhattan_distances_from_lines():
+    # Closed form: on a complete grid of streets with block size s, the cost between two
+    # points on streets is the Manhattan distance when they lie on crossing streets.
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        g = pw.TravelGraph.from_lines(grid_lines(11, 9, step=50.0))
+    assert (g.nodes, g.components) == (99, 1)
+    rng = np.random.default_rng(5)
+    corners = rng.integers(0, [11, 9], size=(60, 2)) * 50.0
+    costs = g.costs(corners, corners)
+    manhattan = np.abs(corners[:, None, :] - corners[None, :, :]).sum(axis=2)
+    np.testing.assert_allclose(costs, manhattan, rtol=1e-12)
+    # Part-way points on horizontal streets: Manhattan distance whenever the two lie on
+    # different streets (same-street pairs go straight along).
+    ys = rng.integers(0, 9, 40) * 50.0
+    pts = np.column_stack([rng.uniform(0, 500, 40), ys])
+    c = g.costs(pts, pts)
+    dx, dy = np.abs(pts[:, None, 0] - pts[None, :, 0]), np.abs(pts[:, None, 1] - pts[None, :, 1])
+    # Leaving a street costs the detour to the nearest crossing on the way: the closed form
+    # for two points on different horizontal streets is dy + min over crossings x of
+    # |x1 - x| + |x - x2|, which is dx when a crossing lies between them, else the detour.
+    crossings = np.arange(0, 501, 50.0)
+    detour = np.min(np.abs(pts[:, None, None, 0] - crossings) + np.abs(crossings - pts[None, :, None, 0]), axis=2)
+    expected = np.where(dy == 0, dx, dy + detour)
+    np.testing.assert_allclose(c, expected, rtol=1e-9, atol=1e-9)
+
+
+def test_k_nearest_agrees_with_dense_costs():
+    g = pw.TravelGraph.from_lines(grid_lines(8, 8))
+    rng = np.random.default_rng(2)
+    pts = rng.uniform(0, 7, size=(50, 2))
+    full = g.costs(pts, pts)
+    near = g.costs(pts, pts, k=4)
+    assert np.all(np.diff(near.indptr) == 4)
+    for i in range(50):
+        kept = near.indices[near.indptr[i] : near.indptr[i + 1]]
+        # The kept destinations are the 4 cheapest (up to ties at the 4th cost).
+        fourth = np.sort(full[i])[3]
+        assert np.all(full[i, kept] <= fourth + 1e-12)
+        np.testing.assert_allclose(near.data[near.indptr[i] : near.indptr[i + 1]], full[i, kept], rtol=1e-12)
+
+
+# ------------------------------------------------------------------ one-way, part-way
+
+
+def test_one_way_street_is_travelled_one_way_only():
+    # A square block of 100 m sides, the bottom side one-way eastwards.
+    lines = [[(0, 0), (100, 0)], [(100, 0), (100, 100)], [(100, 100), (0, 100)], [(0, 100), (0, 0)]]
+    g = pw.TravelGraph.from_lines(lines, one_way=["forward", "both", "both", "both"])
+    a, b = [[20, 0]], [[60, 0]]
+    assert g.costs(a, b)[0, 0] == pytest.approx(40.0)
+    # Westwards the car must go round the block: 40 to the corner, 300 round, 20 back... by
+    # the closed form 400 - 40 = 360.
+    assert g.costs(b, a)[0, 0] == pytest.approx(360.0)
+    with pytest.raises(pw.InputError, match=r"one_way\[1\]"):
+        pw.TravelGraph.from_lines(lines, one_way=["forward", "sideways", "both", "both"])
+
+
+def test_reach_pieces_have_the_stated_costs_and_lengths():
+    # Closed form: from a corner of a complete grid, the street length within cost L < s of
+    # an inner corner is 4 L; shapely measures the pieces.
+    shapely = pytest.importorskip("shapely")
+    g = pw.TravelGraph.from_lines(grid_lines(5, 5, step=100.0))
+    r = g.reach([[200, 200]], 70.0)
+    lengths = shapely.length(r._geometry())
+    assert lengths.sum() == pytest.approx(280.0)
+    np.testing.assert_allclose(np.maximum(r.cost_start, r.cost_end), 70.0)
+
+
+def test_catchment_edges_split_where_two_sites_meet():
+    g = pw.TravelGraph.from_lines([[(0, 0), (100, 0)]])
+    pieces = g.catchment_edges([[10, 0], [70, 0]])
+    # Closed form: the sites meet half-way, at 40; each part's cost is its distance.
+    frame = pieces.to_frame()
+    assert list(frame["site"]) == [0, 0, 1, 1]
+    np.testing.assert_allclose(frame["end"][:3], [0.1, 0.4, 0.7])
+    np.testing.assert_allclose(frame["cost_start_u"], [10, 0, 30, 0])
+
+
+# ------------------------------------------------------------------ connectivity
+
+
+def test_components_are_reported_and_unreachable_is_explicit():
+    with pytest.warns(UserWarning, match="2 separate components"):
+        g = pw.TravelGraph.from_lines([[(0, 0), (10, 0)], [(50, 0), (60, 0)]])
+    assert g.components == 2
+    assert list(g.components_frame()["edges"]) == [1, 1]
+    c = g.costs([[1, 0]], [[2, 0], [55, 0]])
+    assert c[0, 0] == pytest.approx(1.0) and np.isnan(c[0, 1])
+    s = g.costs([[1, 0]], [[2, 0], [55, 0]], limit=100)
+    assert s.nnz == 1
+    catch = g.nearest_site([[1, 0], [55, 0]], [[0, 0]], weights=[1.0, 3.0])
+    assert list(catch.site) == [0, -1]
+    assert catch.unreachable == 1 and catch.unreachable_weight == 3.0
+    assert catch.summary()["unreachable_load"][0] == 3.0
+
+
+# ------------------------------------------------------------------ siting
+
+
+def test_choose_sites_matches_discrete_on_scipy_costs():
+    # Reference: the same discrete model on costs from scipy.sparse.csgraph.dijkstra.
+    n = 100
+    tail, head, cost, _ = random_edges(8, n, 400, one_way_share=0.0)
+    tail = np.concatenate([tail, np.arange(n - 1)])  # a path through every node: connected
+    head = np.concatenate([head, np.arange(1, n)])
+    cost = np.concatenate([cost, np.full(n - 1, 5.0)])
+    g = pw.TravelGraph.from_edges(tail, head, cost)
+    demand, candidates = np.arange(n), np.arange(0, n, 5)
+    ref = csgraph.dijkstra(scipy_matrix(tail, head, cost, np.zeros(len(tail), bool), n), indices=candidates).T
+    plan = g.choose_sites("p_median", demand, candidates, p=3)
+    expected = pw.discrete.p_median(ref, 3)
+    assert plan.total_cost == pytest.approx(expected.total_cost, rel=1e-9)
+    np.testing.assert_array_equal(plan.open, expected.open)
+
+
+def test_choose_sites_refuses_unreachable_demand_naming_rows():
+    g = pw.TravelGraph.from_edges([0, 2], [1, 3], [1.0, 1.0])
+    with pytest.raises(pw.InputError, match=r"points\[2, 3\].*2 point"):
+        g.choose_sites("p_median", [0, 1, 2, 3], [0], p=1)
+    with pytest.raises(pw.InputError, match="model must be one of"):
+        g.choose_sites("nearest", [0], [0])
+
+
+# ------------------------------------------------------------------ bad input
+
+
+@pytest.mark.parametrize(
+    "kwargs, argument, row",
+    [
+        ({"cost": [1.0, np.nan]}, "cost", 1),
+        ({"cost": [1.0, -2.0]}, "cost", 1),
+        ({"cost": [1.0, 1.0], "one_way": [0, 5]}, "one_way", 1),
+        ({"cost": [1.0, 1.0], "reverse_cost": [np.inf, 1.0]}, "reverse_cost", 0),
+    ],
+)
+def test_bad_edges_are_named(kwargs, argument, row):
+    with pytest.raises(pw.InputError) as info:
+        pw.TravelGraph.from_edges([0, 1], [1, 2], **kwargs)
+    assert (info.value.argument, info.value.row) == (argument, row)
+
+
+def test_bad_lines_are_named():
+    shapely = pytest.importorskip("shapely")
+    with pytest.raises(pw.InputError, match=r"lines\[1\]: expected a LineString; got Point"):
+        pw.TravelGraph.from_lines([shapely.LineString([(0, 0), (1, 0)]), shapely.Point(0, 0)])
+    with pytest.raises(pw.InputError, match=r"lines\[1\]: a line needs at least 2 points; got 0"):
+        pw.TravelGraph.from_lines([shapely.LineString([(0, 0), (1, 0)]), shapely.LineString()])
+    with pytest.raises(pw.InputError, match=r"lines\[0\].*not finite"):
+        pw.TravelGraph.from_lines([[(0, np.nan), (1, 0)]])
+
+
+def test_points_beyond_max_gap_are_named():
+    g = pw.TravelGraph.from_lines([[(0, 0), (10, 0)]])
+    with pytest.raises(pw.InputError, match=r"sites\[1\] lies 5 from the nearest edge") as info:
+        g.nearest_site([[1, 0]], [[0, 1], [3, 5]], max_gap=2)
+    assert info.value.row == 1
+    with pytest.raises(pw.InputError, match="no coordinates"):
+        pw.TravelGraph.from_edges([0], [1], [1.0]).costs([[0, 0]], [[1, 0]])
+
+
+def test_geodataframe_lines_name_rows_by_index_and_refuse_lon_lat():
+    gpd = pytest.importorskip("geopandas")
+    shapely = pytest.importorskip("shapely")
+    frame = gpd.GeoDataFrame(
+        {"minutes": [1.0, -1.0]},
+        geometry=[shapely.LineString([(0, 0), (100, 0)]), shapely.LineString([(100, 0), (100, 80)])],
+        index=["main-st", "mill-rd"], crs="EPSG:32631",
+    )
+    with pytest.raises(pw.InputError, match=r"cost\['mill-rd'\]") as info:
+        pw.TravelGraph.from_lines(frame, cost="minutes")
+    assert info.value.row == "mill-rd"
+    g = pw.TravelGraph.from_lines(frame)
+    assert g.unit == "m" and g.costs([[0, 0]], [[100, 80]])[0, 0] == pytest.approx(180.0)
+    with pytest.raises(pw.InputError, match="geographic CRS"):
+        pw.TravelGraph.from_lines(frame.to_crs("EPSG:4326"))
+
+
+def test_dangling_ends_with_zero_tolerance_warn_and_tolerance_joins():
+    lines = [[(0, 0), (10, 0)], [(10.001, 0), (20, 0)]]
+    with pytest.warns(UserWarning, match="4 line ends meet no other"):
+        pw.TravelGraph.from_lines(lines)
+    g = pw.TravelGraph.from_lines(lines, tolerance=0.01)
+    assert g.components == 1 and g.costs([[0, 0]], [[20, 0]])[0, 0] == pytest.approx(19.999)
+
+
+@settings(max_examples=40, deadline=None)
+@given(
+    st.lists(st.tuples(st.integers(0, 9), st.integers(0, 9), st.floats(0, 1e6, allow_nan=False),
+                       st.sampled_from([-1, 0, 1])), min_size=1, max_size=30),
+)
+def test_random_graphs_agree_with_scipy(edges):
+    # Property: any small graph, one-way edges and zero costs included, agrees with scipy
+    # (zero costs are stored as explicit entries scipy reads as edges of cost 0).
+    tail = np.array([e[0] for e in edges])
+    head = np.array([e[1] for e in edges])
+    cost = np.array([e[2] for e in edges])
+    way = np.array([e[3] for e in edges])
+    g = pw.TravelGraph.from_edges(tail, head, cost, one_way=way, nodes=10)
+    fwd = way >= 0
+    bwd = way <= 0
+    t = np.concatenate([tail[fwd], head[bwd]])
+    h = np.concatenate([head[fwd], tail[bwd]])
+    c = np.concatenate([cost[fwd], cost[bwd]])
+    dense = np.full((10, 10), np.inf)
+    for a, b, w in zip(t, h, c):
+        dense[a, b] = min(dense[a, b], w)
+    ref = csgraph.dijkstra(csgraph.csgraph_from_dense(dense, null_value=np.inf))
+    ours = g.costs(np.arange(10), np.arange(10))
+    assert np.array_equal(np.isnan(ours), np.isinf(ref))
+    ok = np.isfinite(ref)
+    np.testing.assert_allclose(ours[ok], ref[ok], rtol=1e-9, atol=0)
+
+
+# ------------------------------------------------------------------ GeoPandas form
+
+
+def test_gis_forms_use_row_labels_and_the_lines_crs():
+    gpd = pytest.importorskip("geopandas")
+    shapely = pytest.importorskip("shapely")
+    from placewise.gis import travel as gt
+
+    streets = gpd.GeoDataFrame(geometry=[shapely.LineString(line) for line in grid_lines(4, 4, step=100.0)],
+                               crs="EPSG:32631")
+    g = gt.travel_graph(streets)
+    homes_xy = np.array([[10.0, 3.0], [250.0, 100.0], [300.0, 290.0]])
+    homes = gpd.GeoDataFrame({"people": [2.0, 1.0, 4.0]}, geometry=gpd.points_from_xy(*homes_xy.T),
+                             index=["h1", "h2", "h3"], crs="EPSG:32631")
+    depots = gpd.GeoDataFrame(geometry=gpd.points_from_xy([0, 300], [0, 300]), index=["d-west", "d-east"],
+                              crs="EPSG:32631").to_crs("EPSG:4326")     # projected back to the lines' CRS
+    out = gt.network_catchments(g, homes, depots, weight="people")
+    plain = g.nearest_site(homes_xy, [[0, 0], [300, 300]], [2.0, 1.0, 4.0])
+    np.testing.assert_allclose(out["cost_m"], plain.cost, rtol=1e-9)
+    assert list(out["site"]) == [["d-west", "d-east"][s] for s in plain.site]
+    table = gt.travel_costs(g, homes, homes)
+    np.testing.assert_allclose(table["cost_m"].to_numpy().reshape(3, 3), g.costs(homes_xy, homes_xy), rtol=1e-12)
+    assert list(table["origin"][:3]) == ["h1"] * 3
+    reach = gt.network_reach(g, depots, 150.0)
+    # Closed form: within 150 m of the outer corner (0, 0) of a 100 m grid lie its two block
+    # sides and the first 50 m of the two further sides at each neighbouring corner:
+    # 2 × 100 + 4 × 50 = 400 m of street.
+    lengths = reach.groupby("site").geometry.apply(lambda s: s.length.sum())
+    assert lengths["d-west"] == pytest.approx(400.0, rel=1e-6)
+    far = gpd.GeoDataFrame(geometry=gpd.points_from_xy([10, 5000], [0, 0]), index=["near", "far-away"],
+                           crs="EPSG:32631")
+    with pytest.raises(pw.InputError, match=r"points\['far-away'\]") as info:
+        gt.network_catchments(g, far, depots, max_gap=50)
+    assert info.value.row == "far-away"
+
+
+# ------------------------------------------------------------------ a real street network
+
+
+def test_real_street_network_matches_scipy_with_shapely_attachment():
+    # Data: the geodanet streets, schools and crimes shipped in libpysal 4.14.1 (BSD 3-Clause;
+    # tests/data/geodanet/README.md). Reference: an independent graph built here (exact end
+    # joins, shapely lengths), all-pairs scipy.sparse.csgraph.dijkstra, and shapely's nearest
+    # line and projection for the attachment of each point.
+    gpd = pytest.importorskip("geopandas")
+    shapely = pytest.importorskip("shapely")
+    from pathlib import Path
+
+    data = Path(__file__).resolve().parent / "data" / "geodanet"
+    streets = gpd.read_file(data / "streets.shp")
+    schools = gpd.read_file(data / "schools.shp")
+    crimes = gpd.read_file(data / "crimes.shp")
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        g = pw.TravelGraph.from_lines(streets)
+    assert g.unit == "ftUS" and g.edges == len(streets)
+
+    lines = streets.geometry.values
+    node_of: dict[tuple[float, float], int] = {}
+    ends = []
+    for line in lines:
+        xy = shapely.get_coordinates(line)
+        ends.append([node_of.setdefault(tuple(p), len(node_of)) for p in (xy[0], xy[-1])])
+    ends = np.array(ends)
+    length = shapely.length(lines)
+    n = len(node_of)
+    dense = np.full((n, n), np.inf)
+    for (a, b), c in zip(ends, length):
+        dense[a, b] = dense[b, a] = min(dense[a, b], c)
+    np.fill_diagonal(dense, np.inf)
+    between = csgraph.dijkstra(csgraph.csgraph_from_dense(dense, null_value=np.inf))
+    assert g.nodes == n and g.components == csgraph.connected_components(dense < np.inf)[0]
+
+    tree = shapely.STRtree(lines)
+
+    def attach(points):
+        nearest = tree.nearest(points)
+        return nearest, shapely.line_locate_point(lines[nearest], points)
+
+    s_line, s_at = attach(schools.geometry.values)
+    c_line, c_at = attach(crimes.geometry.values)
+    expected = np.full((len(schools), len(crimes)), np.inf)
+    for i in range(len(schools)):
+        a, b = ends[s_line[i]]
+        leave = {a: s_at[i], b: length[s_line[i]] - s_at[i]}
+        for j in range(len(crimes)):
+            x, y = ends[c_line[j]]
+            arrive = {x: c_at[j], y: length[c_line[j]] - c_at[j]}
+            best = min(u_cost + between[u, v] + v_cost for u, u_cost in leave.items() for v, v_cost in arrive.items())
+            if s_line[i] == c_line[j]:
+                best = min(best, abs(s_at[i] - c_at[j]))
+            expected[i, j] = best
+    ours = g.costs(np.column_stack([schools.geometry.x, schools.geometry.y]),
+                   np.column_stack([crimes.geometry.x, crimes.geometry.y]))
+    assert np.array_equal(np.isnan(ours), np.isinf(expected))
+    ok = np.isfinite(expected)
+    np.testing.assert_allclose(ours[ok], expected[ok], rtol=1e-9, atol=1e-6)
+
+
+# ------------------------------------------------------------------ hostile input (tests/hostile.py)
+
+_HOSTILE_GRAPH = pw.TravelGraph.from_lines(grid_lines(5, 5))
+_CALLS = {
+    "costs(origins)": lambda p: _HOSTILE_GRAPH.costs(p, [[1, 1]]),
+    "costs(destinations)": lambda p: _HOSTILE_GRAPH.costs([[1, 1]], p, k=2),
+    "nearest_site(points)": lambda p: _HOSTILE_GRAPH.nearest_site(p, [[0, 0]]),
+    "nearest_site(sites)": lambda p: _HOSTILE_GRAPH.nearest_site([[1, 1]], p),
+    "reach": lambda p: _HOSTILE_GRAPH.reach(p, 2.0),
+    "snap": lambda p: _HOSTILE_GRAPH.snap(p),
+}
+
+
+@pytest.mark.parametrize("call", list(_CALLS))
+@pytest.mark.parametrize("case, points", BAD_POINTS, ids=[n for n, _ in BAD_POINTS])
+def test_bad_points_raise_input_error(call, case, points):
+    with pytest.raises(pw.InputError):
+        _CALLS[call](points)
+
+
+@pytest.mark.parametrize("call", list(_CALLS))
+@pytest.mark.parametrize("case, points", AWKWARD_POINTS, ids=[n for n, _ in AWKWARD_POINTS])
+def test_awkward_points_answer_or_raise_input_error(call, case, points):
+    try:
+        _CALLS[call](points)
+    except pw.InputError:
+        pass
+
+
+@pytest.mark.parametrize("case, make", BAD_WEIGHTS, ids=[n for n, _ in BAD_WEIGHTS])
+def test_bad_weights_are_named(case, make):
+    with pytest.raises(pw.InputError):
+        _HOSTILE_GRAPH.nearest_site([[1, 1], [2, 2], [3, 3]], [[0, 0]], make(3))
