@@ -217,6 +217,7 @@ def capacity_p_median(
     points: ArrayLike, p: Any, capacities: ArrayLike, weights: ArrayLike | None, candidates: ArrayLike | None,
     seed: Any, max_rounds: Any,
 ) -> _Fields: ...
+
 # --- travel (src/py/travel.rs) ---
 # Origins, destinations, points and sites are (n, 2) points (attached to the nearest edge)
 # or (n,) integer node numbers.
