@@ -96,6 +96,13 @@ pub enum Error {
         /// That candidate's cost.
         cost: f64,
     },
+    /// A demand row of a sparse cost matrix that allows no candidate.
+    NoCandidate {
+        /// Argument name, e.g. `"costs"`.
+        argument: &'static str,
+        /// Row of the point.
+        row: usize,
+    },
     /// A tuning parameter is out of range.
     InvalidParameter {
         /// Parameter name, e.g. `"tol"`.
@@ -214,6 +221,10 @@ impl Error {
                 plain(*radius),
                 plain(*cost)
             ),
+            Error::NoCandidate { argument, row } => format!(
+                "{argument}: points[{}] has no allowed candidate (its row stores no cost)",
+                namer.row("points", *row)
+            ),
             Error::InvalidParameter { name, reason } => format!("{name}: {reason}"),
             Error::InGroup { label, source } => format!("group {}: {}", namer.group(*label), source.describe(namer)),
         }
@@ -229,7 +240,8 @@ impl Error {
             | Error::TooFewPoints { argument, .. }
             | Error::Degenerate { argument, .. }
             | Error::RepeatedPoint { argument, .. }
-            | Error::InvalidCost { argument, .. } => argument,
+            | Error::InvalidCost { argument, .. }
+            | Error::NoCandidate { argument, .. } => argument,
             Error::Uncoverable { .. } => "points",
             Error::InvalidParameter { name, .. } => name,
             Error::InGroup { source, .. } => source.argument(),
@@ -240,9 +252,10 @@ impl Error {
     pub fn row(&self) -> Option<usize> {
         match self {
             Error::NonFiniteCoordinate { index, .. } | Error::InvalidWeight { index, .. } => Some(*index),
-            Error::RepeatedPoint { row, .. } | Error::InvalidCost { row, .. } | Error::Uncoverable { row, .. } => {
-                Some(*row)
-            }
+            Error::RepeatedPoint { row, .. }
+            | Error::InvalidCost { row, .. }
+            | Error::Uncoverable { row, .. }
+            | Error::NoCandidate { row, .. } => Some(*row),
             Error::InGroup { source, .. } => source.row(),
             _ => None,
         }

@@ -38,8 +38,15 @@ KERNELS: dict[str, Callable[..., Any]] = {
     "steiner_tree": lambda p, w=None: pw.steiner_tree(p),
     "p_median": lambda p, w=None: pw.p_median(p, 2, w),
     "p_center": lambda p, w=None: pw.p_center(p, 2, w),
+    "p_median(candidates)": lambda p, w=None: pw.p_median(p, 2, w, candidates=p),
+    "cover_all": lambda p, w=None: pw.cover_all(p, 2.0, weights=w, candidates=p),
+    "cover_all(candidates)": lambda p, w=None: pw.cover_all(SITES, 50.0, candidates=p),
+    "cover_most": lambda p, w=None: pw.cover_most(p, 2, 2.0, w, candidates=p),
+    "evaluate_sites": lambda p, w=None: pw.evaluate_sites(p, SITES, w, radius=2.0),
+    "evaluate_sites(sites)": lambda p, w=None: pw.evaluate_sites(SITES, p),
 }
-WEIGHTED = {"weber_point", "weber_point(manhattan)", "minimax_point", "nearest_site", "p_median", "p_center"}
+WEIGHTED = {"weber_point", "weber_point(manhattan)", "minimax_point", "nearest_site", "p_median", "p_center",
+            "p_median(candidates)", "cover_all", "cover_most", "evaluate_sites"}
 
 
 NAMES = list(KERNELS)

@@ -16,6 +16,7 @@ from typing import Any
 
 from . import _core
 from ._core import DegenerateInputError, InputError
+from .coverage import cover_all, cover_most, evaluate_sites
 from .enclose import (
     Circle,
     Circles,
@@ -88,9 +89,12 @@ __all__ = [
     "VoronoiCells",
     "WeberPoint",
     "WeberPoints",
+    "cover_all",
+    "cover_most",
     "delaunay",
     "enclosing_circle",
     "enclosing_ellipse",
+    "evaluate_sites",
     "minimax_point",
     "nearest_site",
     "p_center",

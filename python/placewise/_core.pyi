@@ -127,6 +127,8 @@ def p_center_grouped(
 ) -> _Fields: ...
 
 # --- discrete (src/py/discrete.rs) ---
+# costs: a dense (n, m) array, ("csr", offsets, columns, values, n, m) for the allowed pairs of
+# a sparse matrix, or ("planar", points, candidates) for straight-line costs.
 # Every form returns the service: open (k,) candidate columns, fixed (k,), assignment (n,)
 # rows of open, cost (n,), load (k,), count (k,), total_cost, mean_cost, worst_cost,
 # weighted_worst, total_weight, and radius / covered (n,) / covering (n,) / covered_weight /
