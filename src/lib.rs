@@ -41,9 +41,10 @@ mod py;
 // share. Everything else (helpers, frames, predicates) is private to the crate.
 pub use batch::{Grouped, OnGroupError, RowPlaces};
 pub use discrete::{
-    cover_all, cover_most, discrete_p_center, discrete_p_median, euclidean_costs, evaluate_sites, with_planar_costs,
-    CostMatrix, Costs, CoverAll, CoverMost, Coverage, DiscreteCenter, DiscreteMedian, DiscreteMedianOptions,
-    PlanarCosts, SiteService, SparseCosts, MAX_COST_CELLS, PLANAR_DENSE_CELLS, UNSERVED,
+    circle_intersections, cover_all, cover_most, discrete_p_center, discrete_p_median, euclidean_costs, evaluate_sites,
+    with_planar_costs, CostMatrix, Costs, CoverAll, CoverMost, Coverage, DiscreteCenter, DiscreteMedian,
+    DiscreteMedianOptions, PlanarCosts, SiteService, SparseCosts, MAX_COST_CELLS, MAX_DOMINATING_CANDIDATES,
+    PLANAR_DENSE_CELLS, UNSERVED,
 };
 pub use enclose::{
     enclosing_circle, enclosing_circle_with, enclosing_circles, enclosing_ellipse, enclosing_ellipses, minimax_point,

@@ -331,14 +331,42 @@ def test_coordinate_forms_refuse_what_they_cannot_do():
     points = [[0.0, 0.0], [1.0, 0.0], [50.0, 0.0]]
     with pytest.raises(pw.InputError, match=r"points\[2\] has no candidate within radius 5; .* column 0, costs 49"):
         pw.cover_all(points, 5.0, candidates=[[1.0, 0.0]])
-    with pytest.raises(pw.InputError, match="continuous sites"):
-        pw.cover_most(points, 1, 5.0)
+    with pytest.raises(pw.InputError, match="meet in more than"):
+        pw.cover_all(np.column_stack([np.linspace(0, 1, 3000), np.zeros(3000)]), 5.0)
     with pytest.raises(pw.InputError, match="radius must be finite and > 0"):
         pw.cover_all(points, -1.0, candidates=points)
     with pytest.raises(pw.InputError, match="p: must be at most"):
         pw.p_median(points, 3, candidates=[[0.0, 0.0], [1.0, 1.0]])
     with pytest.raises(pw.InputError, match="groups is not supported with candidates"):
         pw.p_median(points, 1, candidates=points, groups=[0, 0, 1])
+
+
+@pytest.mark.parametrize("n", [6, 9])
+def test_continuous_cover_closed_forms(n):
+    # Points on a line at spacing s = 2 with radius s/2: a site midway covers two neighbours
+    # and no site covers three, so ceil(n / 2) sites (closed form).
+    line = np.column_stack([2.0 * np.arange(n), np.zeros(n)])
+    plan = pw.cover_all(line, 1.0)
+    assert plan.chosen == plan.lower_bound == -(-n // 2)
+    assert (scipy.spatial.distance.cdist(line, plan.sites) <= 1.0).any(axis=1).all()  # scipy cdist
+    # All points within the radius of one point: one site covers all (closed form).
+    rng = np.random.default_rng(n)
+    disk = rng.uniform(-0.6, 0.6, (40, 2))
+    assert pw.cover_all(disk, 1.0).chosen == 1
+
+
+def test_continuous_cover_against_milp():
+    rng = np.random.default_rng(8)
+    points = rng.uniform(0, 40, (70, 2))
+    w = rng.integers(1, 10, 70).astype(float)
+    plan = pw.cover_all(points, 6.0)
+    costs = scipy.spatial.distance.cdist(points, plan.candidates)
+    assert plan.chosen == milp_cover_all(costs, 6.0)  # scipy.optimize.milp (HiGHS) on the same candidates
+    # The candidates dominate: sites on the points alone never need fewer (milp on the points).
+    assert plan.chosen <= milp_cover_all(scipy.spatial.distance.cdist(points, points), 6.0)
+    most = pw.cover_most(points, 4, 6.0, w)
+    best = milp_cover_most(costs, w, 4, 6.0)  # scipy.optimize.milp (HiGHS)
+    assert most.upper_bound >= best * (1 - 1e-9) and most.covered_weight >= best * 0.98
 
 
 def test_coverage_plot_draws_disks():

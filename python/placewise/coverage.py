@@ -1,7 +1,7 @@
 """Coverage standards and today's network on coordinates.
 
-* :func:`cover_all` — the fewest sites, chosen among candidate locations, putting every
-  point within ``radius`` (location set covering; Toregas, Swain, ReVelle & Bergman 1971);
+* :func:`cover_all` — the fewest sites, among candidate locations or anywhere, putting
+  every point within ``radius`` (location set covering; Toregas, Swain, ReVelle & Bergman 1971);
 * :func:`cover_most` — ``p`` sites covering the most weight within ``radius`` (maximal
   covering; Church & ReVelle 1974);
 * :func:`evaluate_sites` — how the sites of an existing network serve the demand, with the
@@ -28,17 +28,15 @@ from . import discrete
 __all__ = ["cover_all", "cover_most", "evaluate_sites"]
 
 
-def _candidates_required(candidates: ArrayLike | None) -> ArrayLike:
-    if candidates is None:
-        from . import _core
+def _candidates(points: ArrayLike, radius: float, candidates: ArrayLike | None) -> ArrayLike:
+    """The given candidates, or for sites anywhere the finite dominating set of Church (1984):
+    the points and the intersections of the circles of ``radius`` around them, one per
+    distinct set of covered points (computed by the kernel)."""
+    if candidates is not None:
+        return candidates
+    from . import _core
 
-        error = _core.InputError(
-            "candidates: continuous sites (candidates=None) are not supported yet; pass the candidate "
-            "locations, e.g. candidates=points to site on the demand points"
-        )
-        error.argument = "candidates"
-        raise error
-    return candidates
+    return _core.discrete_circle_candidates(points, radius)
 
 
 def cover_all(
@@ -57,8 +55,13 @@ def cover_all(
         The coverage standard, in the coordinates' unit, finite and > 0.
     weights : array_like, shape (n,), optional
         Demand per point, for the reported loads and covered weight.
-    candidates : array_like, shape (m, 2)
-        Possible site locations. Required for now: continuous sites are not supported yet.
+    candidates : array_like, shape (m, 2), optional
+        Possible site locations. Default: sites anywhere in the plane, chosen exactly among
+        the finite dominating set of Church (1984) — the points and the intersection points
+        of the circles of ``radius`` around them (pulled a relative 1e-9 toward their pair's
+        midpoint so rounding never uncovers a point), kept once per distinct set of covered
+        points; the result's ``candidates`` then holds that set and ``open`` indexes it.
+        Refused when over 4 million such candidates arise.
     unit : str
         Name of the coordinates' unit, used in column names.
 
@@ -71,8 +74,8 @@ def cover_all(
     Raises
     ------
     InputError
-        For ``radius <= 0``, bad coordinates or weights, ``candidates`` missing, or a point
-        no candidate covers (naming the point and its nearest candidate's distance).
+        For ``radius <= 0``, bad coordinates or weights, too many intersection points, or a
+        point no candidate covers (naming the point and its nearest candidate's distance).
 
     Examples
     --------
@@ -83,8 +86,11 @@ def cover_all(
     (array([0, 2]), [[0.5, 0.0], [9.5, 0.5]], 2)
     >>> pw.cover_all([[0, 0], [1, 1]], 5.0, candidates=[[0, 0]]).chosen   # one site covers all
     1
+    >>> anywhere = pw.cover_all([[0, 0], [2, 0], [9, 0]], 1.5)     # sites anywhere in the plane
+    >>> anywhere.chosen, anywhere.lower_bound, anywhere.covering.tolist()
+    (2, 2, [1, 1, 1])
     """
-    return discrete.cover_all_planar(points, _candidates_required(candidates), radius, weights, unit=unit)
+    return discrete.cover_all_planar(points, _candidates(points, radius, candidates), radius, weights, unit=unit)
 
 
 def cover_most(
@@ -122,8 +128,10 @@ def cover_most(
     >>> best = pw.cover_most(villages, 1, 1.5, [5, 5, 1, 1, 1], candidates=[[0.5, 0], [8.5, 0.5]])
     >>> best.open, float(best.covered_weight), best.covering.tolist()
     (array([0]), 10.0, [1, 1, 0, 0, 0])
+    >>> float(pw.cover_most(villages, 1, 1.5, [1, 1, 1, 1, 1]).covered_weight)   # anywhere: 3 villages
+    3.0
     """
-    candidates = _candidates_required(candidates)
+    candidates = _candidates(points, radius, candidates)
     return discrete.cover_most_planar(points, candidates, p, radius, weights, fixed=fixed, unit=unit)
 
 

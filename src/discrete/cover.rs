@@ -59,6 +59,40 @@ impl Incidence {
         Incidence { by_point, by_site }
     }
 
+    /// Drop every column whose points another column covers too (a superset, or the same
+    /// set at a smaller column): a covering model never needs it (column reduction of set
+    /// covering; Toregas & ReVelle 1973). Returns the number dropped.
+    pub(super) fn drop_dominated(&mut self) -> usize {
+        let m = self.by_site.len();
+        let contains = |big: &[usize], small: &[usize]| {
+            let mut it = big.iter();
+            small.iter().all(|x| it.any(|y| y == x))
+        };
+        let dominated: Vec<bool> = (0..m)
+            .map(|j| {
+                let set = &self.by_site[j];
+                // Any dominating column covers the point of `set` with the fewest columns.
+                let Some(&a) = set.iter().min_by_key(|&&a| self.by_point[a].len()) else { return false };
+                self.by_point[a].iter().any(|&k| {
+                    let other = &self.by_site[k];
+                    k != j && (other.len() > set.len() || (other.len() == set.len() && k < j)) && contains(other, set)
+                })
+            })
+            .collect();
+        let dropped = dominated.iter().filter(|&&d| d).count();
+        if dropped > 0 {
+            for (j, &d) in dominated.iter().enumerate() {
+                if d {
+                    self.by_site[j].clear();
+                }
+            }
+            for list in &mut self.by_point {
+                list.retain(|&j| !dominated[j]);
+            }
+        }
+        dropped
+    }
+
     /// The first demand point (position) that no usable column covers.
     pub(super) fn uncoverable(&self) -> Option<usize> {
         self.by_point.iter().position(Vec::is_empty)
@@ -68,12 +102,24 @@ impl Incidence {
     /// removal of sites whose points all have another chosen site (latest chosen first).
     /// Every point must have a covering column.
     pub(super) fn greedy(&self) -> Vec<usize> {
+        use std::cmp::Reverse;
+        use std::collections::BinaryHeap;
         let mut gain: Vec<usize> = self.by_site.iter().map(Vec::len).collect();
         let mut covered = vec![false; self.by_point.len()];
         let mut left = covered.len();
         let mut chosen = Vec::new();
+        // Lazy evaluation (gains only fall): the heap holds (gain when pushed, column); a stale
+        // top is pushed back with its current gain. Ties go to the smallest column.
+        let mut heap: BinaryHeap<(usize, Reverse<usize>)> =
+            gain.iter().enumerate().filter(|&(_, &g)| g > 0).map(|(j, &g)| (g, Reverse(j))).collect();
         while left > 0 {
-            let j = (0..gain.len()).max_by(|&a, &b| gain[a].cmp(&gain[b]).then(b.cmp(&a))).expect("a column");
+            let Some((g, Reverse(j))) = heap.pop() else { unreachable!("every point has a covering column") };
+            if g != gain[j] {
+                if gain[j] > 0 {
+                    heap.push((gain[j], Reverse(j)));
+                }
+                continue;
+            }
             chosen.push(j);
             for &a in &self.by_site[j] {
                 if !std::mem::replace(&mut covered[a], true) {
@@ -356,13 +402,14 @@ pub fn cover_all(costs: &Costs<'_>, weights: Weights<'_>, radius: f64, fixed: &[
     super::check_sites("fixed", fixed, costs.columns())?;
     check_radius(radius)?;
     let demand = outside(costs, fixed, radius, |_| true);
-    let incidence =
+    let mut incidence =
         Incidence::build(costs, &demand, &not_fixed(costs.columns(), fixed), |_| radius, |_, c| c <= radius);
     if let Some(a) = incidence.uncoverable() {
         let i = demand[a];
         let (column, cost) = costs.cheapest(i);
         return Err(Error::Uncoverable { row: i, radius, column, cost });
     }
+    incidence.drop_dominated();
     let mut chosen = incidence.greedy();
     let mut lower = incidence.lower_bound(chosen.len(), 200);
     let mut budget = EXACT_BUDGET;

@@ -20,11 +20,13 @@
 
 mod center;
 mod cover;
+mod dominating;
 mod median;
 mod source;
 
 pub use center::{discrete_p_center, DiscreteCenter};
 pub use cover::{cover_all, cover_most, CoverAll, CoverMost};
+pub use dominating::{circle_intersections, MAX_DOMINATING_CANDIDATES};
 pub use median::{discrete_p_median, DiscreteMedian, DiscreteMedianOptions};
 pub use source::{with_planar_costs, CostMatrix, Costs, PlanarCosts, SparseCosts, PLANAR_DENSE_CELLS};
 

@@ -12,8 +12,8 @@ use super::errors::argument_error;
 use super::fields::Fields;
 use super::run_detached;
 use crate::discrete::{
-    cover_all, cover_most, discrete_p_center, discrete_p_median, euclidean_costs, evaluate_sites, with_planar_costs,
-    CostMatrix, Costs, DiscreteMedianOptions, SiteService, SparseCosts,
+    circle_intersections, cover_all, cover_most, discrete_p_center, discrete_p_median, euclidean_costs, evaluate_sites,
+    with_planar_costs, CostMatrix, Costs, DiscreteMedianOptions, SiteService, SparseCosts, MAX_DOMINATING_CANDIDATES,
 };
 use crate::geometry::Weights;
 
@@ -145,6 +145,22 @@ fn discrete_euclidean_costs<'py>(
     PyArray1::from_vec(py, values).reshape([a.len(), b.len()])
 }
 
+/// Candidate sites for coverage anywhere in the plane within `radius` of `points` (the
+/// finite dominating set), `(k, 2)`.
+#[pyfunction]
+fn discrete_circle_candidates<'py>(
+    py: Python<'py>,
+    points: &Bound<'py, PyAny>,
+    radius: &Bound<'py, PyAny>,
+) -> PyResult<Bound<'py, PyArray2<f64>>> {
+    let radius = radius_arg(radius)?;
+    let pts = points_arg(points, "points")?;
+    let a = as_point_slice(&pts);
+    let out = run_detached(py, || circle_intersections(a, radius, MAX_DOMINATING_CANDIDATES))?;
+    let k = out.len();
+    PyArray1::from_vec(py, out.into_iter().flatten().collect()).reshape([k, 2])
+}
+
 /// Fields: the service (open, fixed, assignment, cost, load, count, totals, coverage).
 #[pyfunction]
 #[pyo3(signature = (costs, weights, sites, radius))]
@@ -251,6 +267,7 @@ fn discrete_cover_most<'py>(
 pub(super) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(discrete_euclidean_costs, m)?)?;
     m.add_function(wrap_pyfunction!(discrete_evaluate, m)?)?;
+    m.add_function(wrap_pyfunction!(discrete_circle_candidates, m)?)?;
     m.add_function(wrap_pyfunction!(discrete_p_median_single, m)?)?;
     m.add_function(wrap_pyfunction!(discrete_p_center_single, m)?)?;
     m.add_function(wrap_pyfunction!(discrete_cover_all, m)?)?;
