@@ -14,6 +14,7 @@ from pathlib import Path
 import numpy as np
 import scipy.spatial
 
+import placewise as pw
 from harness import Case
 from placewise import discrete
 
@@ -37,11 +38,35 @@ def _note(objective: str, maximise: bool = False):  # noqa: ANN202
     return compare
 
 
+def _sparse(n: int, m: int, k: int, seed: int):  # noqa: ANN202
+    """Costs where each point may use only its k nearest candidates: (dense, allowed, sparse, w)."""
+    import scipy.sparse
+
+    costs, w = _costs(n, m, seed)
+    near = np.argsort(costs, axis=1, kind="stable")[:, :k]
+    allowed = np.zeros_like(costs, dtype=bool)
+    np.put_along_axis(allowed, near, True, axis=1)
+    rows, cols = np.nonzero(allowed)
+    return costs, allowed, scipy.sparse.csr_array((costs[rows, cols], (rows, cols)), shape=costs.shape), w
+
+
+def _gap_only(objective: str):  # noqa: ANN202
+    def note(ours, _) -> str:  # noqa: ANN001
+        return f"{objective} {float(getattr(ours, objective)):.6g}, proven gap {100 * ours.relative_gap:.3f} %"
+
+    return note
+
+
 def cases(quick: bool) -> list[Case]:
     n, m = (300, 60) if quick else (600, 80)
     costs, w = _costs(n, m, 0)
     small, ws = _costs(60, 20, 1)
     radius = 15.0
+    dense2, allowed, sparse, ws2 = _sparse(n, m, 10, 2)
+    rng = np.random.default_rng(3)
+    big, mid = (20_000, 2_000) if quick else (100_000, 10_000)
+    bp, bc, bw = rng.uniform(0, 100, (big, 2)), rng.uniform(0, 100, (2000, 2)), rng.integers(1, 10, big).astype(float)
+    mp, mc, mw = rng.uniform(0, 100, (mid, 2)), rng.uniform(0, 100, (1000, 2)), rng.integers(1, 10, mid).astype(float)
     return [
         Case("discrete p_median p=10", f"{n} x {m}", lambda: discrete.p_median(costs, 10, w),
              lambda: milp_p_median(costs, w, 10), "scipy.optimize.milp (HiGHS)",
@@ -55,4 +80,22 @@ def cases(quick: bool) -> list[Case]:
         Case("discrete p_center p=4", "60 x 20", lambda: discrete.p_center(small, 4, ws),
              lambda: milp_p_center(small, ws, 4), "scipy.optimize.milp (HiGHS)",
              compare=_note("weighted_worst"), repeat=1),
+        Case("discrete p_median sparse p=10", f"{n} x {m}, 10 pairs per point",
+             lambda: discrete.p_median(sparse, 10, ws2),
+             lambda: milp_p_median(dense2, ws2, 10, allowed=allowed), "scipy.optimize.milp (HiGHS)",
+             compare=_note("total_cost"), repeat=1),
+        Case("discrete cover_most sparse p=8", f"{n} x {m}, 10 pairs per point, r={radius:g}",
+             lambda: discrete.cover_most(sparse, 8, radius, ws2),
+             lambda: milp_cover_most(dense2, ws2, 8, radius, allowed=allowed), "scipy.optimize.milp (HiGHS)",
+             compare=_note("covered_weight", maximise=True), repeat=1),
+        Case("cover_most coordinates p=20", f"{big:,} weighted points x 2,000 candidates, r=10",
+             lambda: pw.cover_most(bp, 20, 10.0, bw, candidates=bc), None, "no reference (proven bound only)",
+             compare=_gap_only("covered_weight"), repeat=1),
+        Case("cover_all continuous sites", "20,000 points, r=1",
+             lambda: pw.cover_all(bp[:20_000], 1.0), None, "no reference (proven bound only)",
+             compare=lambda ours, _: f"{ours.chosen} sites, {len(ours.candidates):,} candidates, lower bound "
+                                     f"{ours.lower_bound}, proven gap {100 * ours.relative_gap:.2f} %", repeat=1),
+        Case("p_median coordinates p=50", f"{mid:,} points x 1,000 candidates",
+             lambda: pw.p_median(mp, 50, mw, candidates=mc), None, "no reference (proven bound only)",
+             compare=_gap_only("total_cost"), repeat=1),
     ]

@@ -130,6 +130,13 @@ pub enum Error {
         /// The largest allowed distance.
         max_gap: f64,
     },
+    /// A demand row of a sparse cost matrix that allows no candidate.
+    NoCandidate {
+        /// Argument name, e.g. `"costs"`.
+        argument: &'static str,
+        /// Row of the point.
+        row: usize,
+    },
     /// A tuning parameter is out of range.
     InvalidParameter {
         /// Parameter name, e.g. `"tol"`.
@@ -271,6 +278,10 @@ impl Error {
                 plain(*gap),
                 plain(*max_gap)
             ),
+            Error::NoCandidate { argument, row } => format!(
+                "{argument}: points[{}] has no allowed candidate (its row stores no cost)",
+                namer.row("points", *row)
+            ),
             Error::InvalidParameter { name, reason } => format!("{name}: {reason}"),
             Error::Shortfall { demand, capacity } => format!(
                 "capacities: total capacity {} is below total demand {}, {} short; raise capacities or \
@@ -296,7 +307,8 @@ impl Error {
             | Error::RepeatedPoint { argument, .. }
             | Error::InvalidCost { argument, .. }
             | Error::InvalidEdge { argument, .. }
-            | Error::BeyondGap { argument, .. } => argument,
+            | Error::BeyondGap { argument, .. }
+            | Error::NoCandidate { argument, .. } => argument,
             Error::Uncoverable { .. } => "points",
             Error::Shortfall { .. } => "capacities",
             Error::InvalidParameter { name, .. } => name,
@@ -314,7 +326,8 @@ impl Error {
             | Error::InvalidCost { row, .. }
             | Error::Uncoverable { row, .. }
             | Error::InvalidEdge { row, .. }
-            | Error::BeyondGap { row, .. } => Some(*row),
+            | Error::BeyondGap { row, .. }
+            | Error::NoCandidate { row, .. } => Some(*row),
             Error::InGroup { source, .. } => source.row(),
             _ => None,
         }

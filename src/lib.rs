@@ -53,8 +53,10 @@ pub use capacity::{
     CapacityAllocation,
 };
 pub use discrete::{
-    cover_all, cover_most, discrete_p_center, discrete_p_median, euclidean_costs, evaluate_sites, CostMatrix, CoverAll,
-    CoverMost, Coverage, DiscreteCenter, DiscreteMedian, DiscreteMedianOptions, SiteService, MAX_COST_CELLS,
+    circle_intersections, cover_all, cover_most, discrete_p_center, discrete_p_median, euclidean_costs, evaluate_sites,
+    with_planar_costs, CostMatrix, Costs, CoverAll, CoverMost, Coverage, DiscreteCenter, DiscreteMedian,
+    DiscreteMedianOptions, PlanarCosts, SiteService, SparseCosts, MAX_COST_CELLS, MAX_DOMINATING_CANDIDATES,
+    PLANAR_DENSE_CELLS, UNSERVED,
 };
 pub use enclose::{
     enclosing_circle, enclosing_circle_with, enclosing_circles, enclosing_ellipse, enclosing_ellipses, minimax_point,

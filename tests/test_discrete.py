@@ -8,6 +8,7 @@ for the Euclidean costs, numpy for the allocation of a given plan, and closed fo
 from __future__ import annotations
 
 import itertools
+from typing import Any
 
 import numpy as np
 import pytest
@@ -35,9 +36,11 @@ def solve(c: np.ndarray, constraints: list, integrality: np.ndarray, bounds: sci
     return float(res.fun)
 
 
-def milp_p_median(costs: np.ndarray, w: np.ndarray, p: int, fixed: tuple[int, ...] = ()) -> float:
+def milp_p_median(costs: np.ndarray, w: np.ndarray, p: int, fixed: tuple[int, ...] = (),
+                  allowed: np.ndarray | None = None) -> float:
     """The textbook p-median integer program (ReVelle & Swain 1970), solved by HiGHS:
-    min Σ wᵢcᵢⱼxᵢⱼ, Σⱼ xᵢⱼ = 1, xᵢⱼ <= yⱼ, Σ yⱼ = p + |fixed|, y binary."""
+    min Σ wᵢcᵢⱼxᵢⱼ, Σⱼ xᵢⱼ = 1, xᵢⱼ <= yⱼ, Σ yⱼ = p + |fixed|, y binary; xᵢⱼ = 0 where the
+    pair is not ``allowed``."""
     n, m = costs.shape
     nx = n * m
     c = np.concatenate([(w[:, None] * costs).ravel(), np.zeros(m)])
@@ -47,13 +50,16 @@ def milp_p_median(costs: np.ndarray, w: np.ndarray, p: int, fixed: tuple[int, ..
     count = np.concatenate([np.zeros(nx), np.ones(m)])[None, :]
     lower = np.zeros(nx + m)
     lower[nx + np.asarray(fixed, dtype=int)] = 1
+    upper = np.ones(nx + m)
+    if allowed is not None:
+        upper[:nx] = allowed.ravel()
     cons = [scipy.optimize.LinearConstraint(assign, 1, 1), scipy.optimize.LinearConstraint(link, -np.inf, 0),
             scipy.optimize.LinearConstraint(count, p + len(fixed), p + len(fixed))]
     integrality = np.concatenate([np.zeros(nx), np.ones(m)])
-    return solve(c, cons, integrality, scipy.optimize.Bounds(lower, 1))
+    return solve(c, cons, integrality, scipy.optimize.Bounds(lower, upper))
 
 
-def milp_p_center(costs: np.ndarray, w: np.ndarray, p: int) -> float:
+def milp_p_center(costs: np.ndarray, w: np.ndarray, p: int, allowed: np.ndarray | None = None) -> float:
     """The textbook p-center integer program (Daskin 1995): min z, Σⱼ xᵢⱼ = 1, xᵢⱼ <= yⱼ,
     Σ yⱼ = p, wᵢ Σⱼ cᵢⱼxᵢⱼ <= z."""
     n, m = costs.shape
@@ -73,23 +79,25 @@ def milp_p_center(costs: np.ndarray, w: np.ndarray, p: int) -> float:
     cons = [scipy.optimize.LinearConstraint(assign, 1, 1), scipy.optimize.LinearConstraint(link, -np.inf, 0),
             scipy.optimize.LinearConstraint(worst, -np.inf, 0), scipy.optimize.LinearConstraint(count, p, p)]
     integrality = np.concatenate([np.zeros(nx), np.ones(m), [0]])
-    upper = np.concatenate([np.ones(nx + m), [np.inf]])
+    upper = np.concatenate([np.ones(nx) if allowed is None else allowed.ravel().astype(float), np.ones(m), [np.inf]])
     return solve(c, cons, integrality, scipy.optimize.Bounds(0, upper))
 
 
-def milp_cover_all(costs: np.ndarray, radius: float) -> float:
+def milp_cover_all(costs: np.ndarray, radius: float, allowed: np.ndarray | None = None) -> float:
     """Location set covering (Toregas et al. 1971): min Σ yⱼ, Σ_{cᵢⱼ <= r} yⱼ >= 1."""
     m = costs.shape[1]
-    a = (costs <= radius).astype(float)
+    a = ((costs <= radius) & (True if allowed is None else allowed)).astype(float)
     return solve(np.ones(m), [scipy.optimize.LinearConstraint(a, 1, np.inf)], np.ones(m),
                  scipy.optimize.Bounds(0, 1))
 
 
-def milp_cover_most(costs: np.ndarray, w: np.ndarray, p: int, radius: float) -> float:
+def milp_cover_most(costs: np.ndarray, w: np.ndarray, p: int, radius: float,
+                    allowed: np.ndarray | None = None) -> float:
     """Maximal covering (Church & ReVelle 1974): max Σ wᵢzᵢ, zᵢ <= Σ_{cᵢⱼ <= r} yⱼ, Σ yⱼ = p."""
     n, m = costs.shape
     c = np.concatenate([np.zeros(m), -w])
-    cover = np.hstack([-(costs <= radius).astype(float), np.eye(n)])
+    reach = (costs <= radius) & (True if allowed is None else allowed)
+    cover = np.hstack([-reach.astype(float), np.eye(n)])
     count = np.concatenate([np.ones(m), np.zeros(n)])[None, :]
     cons = [scipy.optimize.LinearConstraint(cover, -np.inf, 0), scipy.optimize.LinearConstraint(count, p, p)]
     integrality = np.concatenate([np.ones(m), np.zeros(n)])
@@ -235,15 +243,142 @@ def test_tables_and_units():
     assert pw.discrete is discrete
 
 
-def test_sparse_input():
-    _, _, w, costs = instance(3, 15, 5)
-    dense = discrete.p_median(costs, 2, w)
-    sparse = discrete.p_median(scipy.sparse.csr_matrix(costs), 2, w)
-    np.testing.assert_array_equal(dense.open, sparse.open)
-    holes = costs.copy()
-    holes[4, 2] = 0.0  # csr drops the zero: an absent pair
-    with pytest.raises(pw.InputError, match=r"costs\[4, 2\] = inf"):
-        discrete.p_median(scipy.sparse.csr_matrix(holes), 2, w)
+def sparse_instance(seed: int, n: int, m: int) -> tuple[np.ndarray, np.ndarray, np.ndarray, Any]:
+    """A random instance where each point may use only its 8 nearest candidates: the weights,
+    the full costs (cdist), the allowed pairs and the sparse matrix of those pairs only."""
+    _, _, w, costs = instance(seed, n, m)
+    near = np.argsort(costs, axis=1, kind="stable")[:, :8]
+    allowed = np.zeros_like(costs, dtype=bool)
+    np.put_along_axis(allowed, near, True, axis=1)
+    rows, cols = np.nonzero(allowed)
+    return w, costs, allowed, scipy.sparse.coo_array((costs[rows, cols], (rows, cols)), shape=costs.shape)
+
+
+@pytest.mark.parametrize("seed", [0, 1])
+def test_sparse_costs_against_milp(seed):
+    w, costs, allowed, sparse = sparse_instance(seed, 80, 25)
+    for p in (4, 8):
+        plan = discrete.p_median(sparse, p, w)
+        best = milp_p_median(costs, w, p, allowed=allowed)  # scipy.optimize.milp (HiGHS), forbidden pairs at 0
+        assert plan.lower_bound <= best * (1 + 1e-7) and plan.total_cost >= best * (1 - 1e-9)
+        assert plan.total_cost <= best * 1.01
+        # Every point is served through an allowed pair (numpy directly).
+        assert allowed[np.arange(80), plan.open[plan.assignment]].all()
+        most = discrete.cover_most(sparse, p, 15.0, w)
+        best = milp_cover_most(costs, w, p, 15.0, allowed=allowed)  # scipy.optimize.milp (HiGHS)
+        assert most.upper_bound >= best * (1 - 1e-9) and best * 0.98 <= most.covered_weight <= best * (1 + 1e-9)
+    center = discrete.p_center(sparse.tocsr()[:40], 6, w[:40])
+    best = milp_p_center(costs[:40], w[:40], 6, allowed=allowed[:40])  # scipy.optimize.milp (HiGHS)
+    assert center.lower_bound <= best * (1 + 1e-7)
+    assert center.weighted_worst == pytest.approx(best, rel=1e-7)
+    radius = float(costs.min(axis=1).max()) + 5.0  # every point has an allowed candidate within it
+    cover = discrete.cover_all(sparse, radius, w)
+    assert cover.chosen == milp_cover_all(costs, radius, allowed=allowed)  # scipy.optimize.milp (HiGHS)
+
+
+def test_sparse_and_dense_agree_when_every_pair_is_stored():
+    _, _, w, costs = instance(3, 60, 12)
+    rows, cols = np.nonzero(np.ones_like(costs, dtype=bool))
+    sparse = scipy.sparse.csr_array((costs[rows, cols], (rows, cols)), shape=costs.shape)
+    for model in (lambda c: discrete.p_median(c, 3, w), lambda c: discrete.p_center(c, 3, w),
+                  lambda c: discrete.cover_most(c, 3, 20.0, w), lambda c: discrete.cover_all(c, 50.0, w)):
+        np.testing.assert_array_equal(model(costs).open, model(sparse).open)
+
+
+def test_sparse_errors_are_named():
+    costs = scipy.sparse.coo_array(([1.0, 2.0, 3.0], ([0, 0, 2], [0, 1, 1])), shape=(3, 2))
+    with pytest.raises(pw.InputError, match=r"points\[1\] has no allowed candidate") as caught:
+        discrete.p_median(costs, 1)
+    assert caught.value.row == 1
+    twice = scipy.sparse.coo_array(([1.0, 2.0], ([0, 0], [1, 1])), shape=(1, 2))
+    with pytest.raises(pw.InputError, match="stores some pair twice"):
+        discrete.p_median(twice, 1)
+    # Point 0 may use only candidate 0, point 1 only candidate 1: one site cannot serve both.
+    apart = scipy.sparse.coo_array(([1.0, 1.0], ([0, 1], [0, 1])), shape=(2, 2))
+    with pytest.raises(pw.InputError, match=r"p: 1 new sites cannot serve every point .* at least 2"):
+        discrete.p_median(apart, 1)
+    with pytest.raises(pw.InputError, match=r"weights must have one entry per point \(2\); got 3"):
+        discrete.cover_most(apart, 1, 1.0, [1, 1, 1])
+    with pytest.raises(pw.InputError, match=r"costs\[1, 1\] = -1"):
+        discrete.p_median(scipy.sparse.coo_array(([1.0, -1.0], ([0, 1], [0, 1])), shape=(2, 2)), 2)
+    # Evaluation: a point no given site may serve is reported, not refused.
+    now = discrete.evaluate_sites(apart, [0])
+    assert now.assignment.tolist() == [0, -1] and np.isinf(now.cost[1])
+    assert now.to_frame()["candidate"].tolist() == [0, -1]
+
+
+# ------------------------------------------------------------------ coordinates
+
+
+def test_coordinate_forms_against_cdist_matrix():
+    points, candidates, w, costs = instance(6, 120, 20)
+    # The same plans from coordinates as from the scipy cdist matrix.
+    assert (pw.p_median(points, 4, w, candidates=candidates).open == discrete.p_median(costs, 4, w).open).all()
+    assert (pw.p_center(points, 3, w, candidates=candidates).open == discrete.p_center(costs, 3, w).open).all()
+    got = pw.cover_most(points, 3, 20.0, w, candidates=candidates, fixed=[5])
+    want = discrete.cover_most(costs, 3, 20.0, w, fixed=[5])
+    assert got.open.tolist() == want.open.tolist() and got.covered_weight == want.covered_weight
+    np.testing.assert_array_equal(got.covering, (costs[:, got.open] <= 20.0).sum(axis=1))  # numpy directly
+    assert pw.cover_all(points, 30.0, candidates=candidates).chosen == milp_cover_all(costs, 30.0)  # milp
+    np.testing.assert_allclose(got.sites, candidates[got.open])
+    now = pw.evaluate_sites(points, candidates[[2, 7]], w, radius=25.0)
+    sub = costs[:, [2, 7]]
+    assert now.total_cost == pytest.approx((w * sub.min(axis=1)).sum())  # cdist directly
+    assert now.covered.tolist() == (sub <= 25.0).any(axis=1).tolist()
+
+
+def test_coordinate_forms_refuse_what_they_cannot_do():
+    points = [[0.0, 0.0], [1.0, 0.0], [50.0, 0.0]]
+    with pytest.raises(pw.InputError, match=r"points\[2\] has no candidate within radius 5; .* column 0, costs 49"):
+        pw.cover_all(points, 5.0, candidates=[[1.0, 0.0]])
+    with pytest.raises(pw.InputError, match="meet in more than"):
+        pw.cover_all(np.column_stack([np.linspace(0, 1, 3000), np.zeros(3000)]), 5.0)
+    with pytest.raises(pw.InputError, match="radius must be finite and > 0"):
+        pw.cover_all(points, -1.0, candidates=points)
+    with pytest.raises(pw.InputError, match="p: must be at most"):
+        pw.p_median(points, 3, candidates=[[0.0, 0.0], [1.0, 1.0]])
+    with pytest.raises(pw.InputError, match="groups is not supported with candidates"):
+        pw.p_median(points, 1, candidates=points, groups=[0, 0, 1])
+
+
+@pytest.mark.parametrize("n", [6, 9])
+def test_continuous_cover_closed_forms(n):
+    # Points on a line at spacing s = 2 with radius s/2: a site midway covers two neighbours
+    # and no site covers three, so ceil(n / 2) sites (closed form).
+    line = np.column_stack([2.0 * np.arange(n), np.zeros(n)])
+    plan = pw.cover_all(line, 1.0)
+    assert plan.chosen == plan.lower_bound == -(-n // 2)
+    assert (scipy.spatial.distance.cdist(line, plan.sites) <= 1.0).any(axis=1).all()  # scipy cdist
+    # All points within the radius of one point: one site covers all (closed form).
+    rng = np.random.default_rng(n)
+    disk = rng.uniform(-0.6, 0.6, (40, 2))
+    assert pw.cover_all(disk, 1.0).chosen == 1
+
+
+def test_continuous_cover_against_milp():
+    rng = np.random.default_rng(8)
+    points = rng.uniform(0, 40, (70, 2))
+    w = rng.integers(1, 10, 70).astype(float)
+    plan = pw.cover_all(points, 6.0)
+    costs = scipy.spatial.distance.cdist(points, plan.candidates)
+    assert plan.chosen == milp_cover_all(costs, 6.0)  # scipy.optimize.milp (HiGHS) on the same candidates
+    # The candidates dominate: sites on the points alone never need fewer (milp on the points).
+    assert plan.chosen <= milp_cover_all(scipy.spatial.distance.cdist(points, points), 6.0)
+    most = pw.cover_most(points, 4, 6.0, w)
+    best = milp_cover_most(costs, w, 4, 6.0)  # scipy.optimize.milp (HiGHS)
+    assert most.upper_bound >= best * (1 - 1e-9) and most.covered_weight >= best * 0.98
+
+
+def test_coverage_plot_draws_disks():
+    import matplotlib
+
+    matplotlib.use("Agg")
+    points, candidates, w, _ = instance(2, 50, 10)
+    plan = pw.cover_most(points, 2, 20.0, w, candidates=candidates)
+    ax = plan.plot()
+    assert len(ax.patches) == 2 and "within" in ax.get_title()
+    with pytest.raises(pw.InputError, match="no coordinates"):
+        discrete.p_median(np.ones((2, 2)), 1).plot()
 
 
 # ------------------------------------------------------------------ hostile input

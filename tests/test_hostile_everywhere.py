@@ -56,11 +56,18 @@ KERNELS: dict[str, Callable[..., Any]] = {
     "capacity_allocation": lambda p, w=None: pw.capacity_allocation(p, SITES, [1e9, 1e9, 1e9], w),
     "capacity_allocation(sites)": lambda p, w=None: pw.capacity_allocation(SITES, p, np.full(len(p), 10.0)),
     "capacitated_p_median": lambda p, w=None: pw.capacitated_p_median(p, 2, [1e9, 1e9], w),
+    "p_median(candidates)": lambda p, w=None: pw.p_median(p, 2, w, candidates=p),
+    "cover_all": lambda p, w=None: pw.cover_all(p, 2.0, weights=w, candidates=p),
+    "cover_all(candidates)": lambda p, w=None: pw.cover_all(SITES, 50.0, candidates=p),
+    "cover_most": lambda p, w=None: pw.cover_most(p, 2, 2.0, w, candidates=p),
+    "evaluate_sites": lambda p, w=None: pw.evaluate_sites(p, SITES, w, radius=2.0),
+    "evaluate_sites(sites)": lambda p, w=None: pw.evaluate_sites(SITES, p),
 }
 WEIGHTED = {"weber_point", "weber_point(manhattan)", "minimax_point", "nearest_site", "p_median", "p_center",
             "weber_point(region)", "minimax_point(region)", "p_median(region)", "p_center(region)",
             "geodesic.weber_point", "geodesic.minimax_point", "geodesic.nearest_site",
-            "capacity_allocation", "capacitated_p_median"}
+            "capacity_allocation", "capacitated_p_median",
+            "p_median(candidates)", "cover_all", "cover_most", "evaluate_sites"}
 
 
 NAMES = list(KERNELS)

@@ -18,6 +18,7 @@ from typing import Any
 from . import _core
 from ._core import DegenerateInputError, InputError
 from .capacity import CapacitatedMedianPlan, CapacityPlan, capacitated_p_median, capacity_allocation
+from .coverage import cover_all, cover_most, evaluate_sites
 from .enclose import (
     Circle,
     Circles,
@@ -95,9 +96,12 @@ __all__ = [
     "WeberPoints",
     "capacitated_p_median",
     "capacity_allocation",
+    "cover_all",
+    "cover_most",
     "delaunay",
     "enclosing_circle",
     "enclosing_ellipse",
+    "evaluate_sites",
     "minimax_point",
     "nearest_site",
     "p_center",

@@ -170,11 +170,14 @@ def p_center_grouped(
 ) -> _Fields: ...
 
 # --- discrete (src/py/discrete.rs) ---
+# costs: a dense (n, m) array, ("csr", offsets, columns, values, n, m) for the allowed pairs of
+# a sparse matrix, or ("planar", points, candidates) for straight-line costs.
 # Every form returns the service: open (k,) candidate columns, fixed (k,), assignment (n,)
 # rows of open, cost (n,), load (k,), count (k,), total_cost, mean_cost, worst_cost,
 # weighted_worst, total_weight, and radius / covered (n,) / covering (n,) / covered_weight /
 # covered_share (None without a radius); plus each model's bound fields.
 def discrete_euclidean_costs(points: ArrayLike, candidates: ArrayLike) -> Any: ...
+def discrete_circle_candidates(points: ArrayLike, radius: Any) -> Any: ...
 def discrete_evaluate(costs: Any, weights: ArrayLike | None, sites: ArrayLike, radius: Any) -> _Fields: ...
 def discrete_p_median_single(
     costs: Any, p: Any, weights: ArrayLike | None, fixed: ArrayLike | None, bound_iterations: Any

@@ -1,8 +1,10 @@
 """Sites chosen from a candidate list, on any demand × candidate cost matrix.
 
 ``costs[i, j]`` is the cost of serving demand point ``i`` from candidate ``j``: travel times
-or road distances from any source, or straight-line distances (:func:`euclidean_costs`, and
-the ``*_planar`` functions taking coordinates). Every model accepts ``fixed`` candidates
+or road distances from any source (a dense array, or a ``scipy.sparse`` matrix of the allowed
+pairs only), or straight-line distances (:func:`euclidean_costs`, and the ``*_planar``
+functions taking coordinates, which compute the distances when asked and never hold an
+``n × m`` matrix that would not fit). Every model accepts ``fixed`` candidates
 (existing sites kept open), so "add k sites to what we have" is one call:
 
 * :func:`evaluate_sites` — how given open sites serve the demand (the status quo);
@@ -32,7 +34,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from . import _core
-from ._results import Result
+from ._results import Result, as_points
 
 __all__ = [
     "CenterSelection",
@@ -53,28 +55,37 @@ __all__ = [
     "p_median_planar",
 ]
 
-# Largest sparse matrix densified (cells): 8 bytes each, about 400 MB.
-_MAX_DENSE_CELLS = 50_000_000
+def _input_error(argument: str, message: str) -> Exception:
+    error = _core.InputError(message)
+    error.argument = argument
+    return error
 
 
 def _matrix(costs: Any) -> Any:
-    """``costs`` as the kernels take it: a ``scipy.sparse`` matrix is densified (its absent
-    pairs become +inf, which the kernel refuses naming the first such cell); anything else
-    passes through to the kernel's own conversion."""
+    """``costs`` as the kernels take it. A ``scipy.sparse`` matrix goes over as its allowed
+    pairs (compressed rows, columns ascending) and is never densified: a pair it does not
+    store may not be used. Anything else passes through to the kernel's own conversion."""
     if not type(costs).__module__.startswith("scipy.sparse"):
         return costs
+    import scipy.sparse
+
     n, m = costs.shape
-    if n * m > _MAX_DENSE_CELLS:
-        error = _core.InputError(
-            f"costs: a sparse {n} × {m} matrix is too large to densify ({n * m} cells, at most "
-            f"{_MAX_DENSE_CELLS}); pass fewer candidates or a dense matrix"
-        )
-        error.argument = "costs"
-        raise error
-    coo = costs.tocoo()
-    dense = np.full((n, m), np.inf)
-    dense[coo.row, coo.col] = coo.data
-    return dense
+    csr = scipy.sparse.csr_array(costs, dtype=np.float64, copy=True)
+    if costs.format == "coo" and csr.nnz < costs.nnz:
+        raise _input_error("costs", "costs: the sparse matrix stores some pair twice; store each allowed pair once")
+    csr.sort_indices()
+    return ("csr", csr.indptr, csr.indices, csr.data, int(n), int(m))
+
+
+def _planar(points: ArrayLike, candidates: ArrayLike) -> tuple:
+    """Straight-line costs from ``points`` to ``candidates``, computed by the kernel (held as
+    a matrix only when it is small)."""
+    return ("planar", points, candidates)
+
+
+def _placed(result: Any, points: ArrayLike, candidates: ArrayLike) -> Any:
+    """``result`` with the coordinates it was computed from (the kernel accepted them)."""
+    return dataclasses.replace(result, points=as_points(points), candidates=as_points(candidates))
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
@@ -97,9 +108,54 @@ class _Selection(Result):
     covering: np.ndarray | None = dataclasses.field(repr=False)
     covered_weight: float | None = dataclasses.field(repr=False)
     covered_share: float | None
+    #: Demand and candidate coordinates, when the costs came from coordinates (the
+    #: ``*_planar`` forms and the top-level functions); None for a cost matrix.
+    points: np.ndarray | None = dataclasses.field(default=None, repr=False, kw_only=True)
+    candidates: np.ndarray | None = dataclasses.field(default=None, repr=False, kw_only=True)
+
+    @property
+    def sites(self) -> np.ndarray | None:
+        """Coordinates of the open sites (rows of ``open``), when the candidates have some."""
+        return None if self.candidates is None else self.candidates[self.open]
+
+    def plot(self, ax: Any = None, **style: Any) -> Any:
+        """Draw the demand points (coloured by their site), the sites (fixed ones as white
+        squares) and, with a radius, every site's coverage disk; uncovered points in black.
+        Needs coordinates (a result from coordinates)."""
+        from matplotlib.patches import Circle
+
+        from .plotting import draw_sites, finish, quantity, site_colours
+
+        if self.points is None or self.candidates is None:
+            raise _input_error("plot", "plot: this plan was made from a cost matrix and has no coordinates to draw")
+        ax = self._plot_axes(ax)
+        sites = self.candidates[self.open]
+        palette = np.asarray(site_colours(len(sites)))
+        served = self.assignment >= 0
+        xy = self.points
+        ax.scatter(xy[served, 0], xy[served, 1], **{"c": palette[self.assignment[served]], "s": 6, "linewidths": 0,
+                                                   "zorder": 3, "label": "demand points (colour = their site)",
+                                                   **style})
+        if self.radius is not None:
+            for k, (x, y) in enumerate(sites):
+                ax.add_patch(Circle((x, y), self.radius, facecolor=palette[k], alpha=0.12, edgecolor=palette[k],
+                                    linewidth=0.8, zorder=1, label="coverage disks" if k == 0 else None))
+            out = ~np.asarray(self.covered, dtype=bool)
+            if out.any():
+                ax.scatter(xy[out, 0], xy[out, 1], c="black", s=10, marker="x", linewidths=0.8, zorder=4,
+                           label="uncovered points")
+        draw_sites(ax, sites, list(palette), fixed=self.fixed, label="new sites" if self.fixed.any() else "sites")
+        ax.autoscale_view()
+        title = f"{len(sites)} sites · total weighted cost {quantity(self.total_cost, self.unit)} × weight"
+        if self.radius is not None:
+            title = (f"{len(sites)} sites · {100 * float(self.covered_share or 0.0):.1f} % of the weight within "
+                     f"{quantity(self.radius, self.unit)}")
+        return finish(ax, title, self.unit)
 
     def _columns(self) -> dict[str, Any]:
-        columns = {"assignment": self.assignment, "candidate": self.open[self.assignment], self._u("cost"): self.cost}
+        # assignment -1: no open site may serve the point (a pair the sparse costs do not allow).
+        candidate = np.where(self.assignment >= 0, self.open[np.maximum(self.assignment, 0)], -1)
+        columns: dict[str, Any] = {"assignment": self.assignment, "candidate": candidate, self._u("cost"): self.cost}
         if self.radius is not None:
             columns |= {"covered": self.covered, "covering": self.covering}
         return columns
@@ -109,7 +165,10 @@ class _Selection(Result):
         position is what ``assignment`` holds."""
         import pandas as pd
 
-        return pd.DataFrame({"candidate": self.open, "load": self.load, "points": self.count, "fixed": self.fixed})
+        columns: dict[str, Any] = {"candidate": self.open}
+        if self.candidates is not None:
+            columns |= {"x": self.candidates[self.open, 0], "y": self.candidates[self.open, 1]}
+        return pd.DataFrame(columns | {"load": self.load, "points": self.count, "fixed": self.fixed})
 
     def _bounds(self) -> dict[str, Any]:
         return {}
@@ -237,7 +296,9 @@ def evaluate_sites(
     ----------
     costs : array_like or scipy.sparse matrix, shape (n, m)
         Finite, non-negative cost of serving point ``i`` from candidate ``j``. A sparse
-        matrix is densified and must store every pair.
+        matrix lists the allowed pairs only (a stored zero is an allowed pair costing 0;
+        note that ``csr_matrix(dense)`` drops zeros): a pair it does not store may not be
+        used, and every row must store at least one pair. It is never densified.
     sites : array_like of int, shape (k,)
         Distinct open candidate columns.
     weights : array_like, shape (n,), optional
@@ -271,6 +332,9 @@ def evaluate_sites(
     (9.0, 0.6666666666666666)
     >>> pw.discrete.evaluate_sites([[0.0]], [0]).worst_cost    # one point on its site
     0.0
+
+    A point that no given site may serve (a pair a sparse matrix does not store) has
+    ``assignment`` -1 and an infinite cost.
     """
     fields = _core.discrete_evaluate(_matrix(costs), weights, sites, radius)
     return SiteEvaluation(**fields, unit=unit)
@@ -483,7 +547,8 @@ def evaluate_sites_planar(
     >>> float(pw.discrete.evaluate_sites_planar([[0, 0], [3, 4]], [[0, 0]], [0]).total_cost)
     5.0
     """
-    return evaluate_sites(euclidean_costs(points, candidates), sites, weights, radius=radius, unit=unit)
+    now = evaluate_sites(_planar(points, candidates), sites, weights, radius=radius, unit=unit)
+    return _placed(now, points, candidates)
 
 
 def p_median_planar(
@@ -499,8 +564,9 @@ def p_median_planar(
     >>> plan.open, float(plan.total_cost)
     (array([0]), 10.0)
     """
-    costs = euclidean_costs(points, candidates)
-    return p_median(costs, p, weights, fixed=fixed, bound_iterations=bound_iterations, unit=unit)
+    plan = p_median(_planar(points, candidates), p, weights, fixed=fixed, bound_iterations=bound_iterations,
+                    unit=unit)
+    return _placed(plan, points, candidates)
 
 
 def p_center_planar(
@@ -515,7 +581,8 @@ def p_center_planar(
     >>> float(pw.discrete.p_center_planar([[0, 0], [4, 0]], [[0, 0], [2, 0]], 1).worst_cost)
     2.0
     """
-    return p_center(euclidean_costs(points, candidates), p, weights, fixed=fixed, unit=unit)
+    plan = p_center(_planar(points, candidates), p, weights, fixed=fixed, unit=unit)
+    return _placed(plan, points, candidates)
 
 
 def cover_all_planar(
@@ -530,7 +597,8 @@ def cover_all_planar(
     >>> pw.discrete.cover_all_planar([[0, 0], [1, 1], [2, 0]], [[1, 0], [5, 5]], 1.5).open
     array([0])
     """
-    return cover_all(euclidean_costs(points, candidates), radius, weights, fixed=fixed, unit=unit)
+    plan = cover_all(_planar(points, candidates), radius, weights, fixed=fixed, unit=unit)
+    return _placed(plan, points, candidates)
 
 
 def cover_most_planar(
@@ -545,4 +613,5 @@ def cover_most_planar(
     >>> float(pw.discrete.cover_most_planar([[0, 0], [9, 9]], [[0, 1], [9, 8]], 1, 1.5).covered_share)
     0.5
     """
-    return cover_most(euclidean_costs(points, candidates), p, radius, weights, fixed=fixed, unit=unit)
+    plan = cover_most(_planar(points, candidates), p, radius, weights, fixed=fixed, unit=unit)
+    return _placed(plan, points, candidates)

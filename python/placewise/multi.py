@@ -85,6 +85,42 @@ def _draw_plan(plan: Any, ax: Any, sites: np.ndarray, fixed: np.ndarray, style: 
     return finish(ax, title, plan.unit)
 
 
+def _on_candidates(model: str, points: ArrayLike, p: int, weights: ArrayLike | None, candidates: ArrayLike, *,
+                   fixed: ArrayLike | None, groups: Any, time_limit: Any, progress: Any, region: Any = None) -> Any:
+    """The discrete form of ``model`` on straight-line costs to ``candidates``; with a
+    ``region``, only the candidates it holds may open (indices stay the caller's)."""
+    import dataclasses
+
+    from . import discrete
+    from ._region import candidates_in_region
+
+    for name, value in (("groups", groups), ("time_limit", time_limit), ("progress", progress or None)):
+        if value is not None:
+            error = _core.InputError(f"{name} is not supported with candidates (sites chosen from a list)")
+            error.argument = name
+            raise error
+    if region is not None:
+        every = np.ascontiguousarray(candidates, dtype=np.float64).reshape(-1, 2)
+        candidates, rows = candidates_in_region(every, region)
+        if fixed is not None:
+            wanted = np.asarray(fixed, dtype=np.int64).reshape(-1)
+            at = np.searchsorted(rows, wanted)
+            outside = (at >= len(rows)) | (rows[np.minimum(at, len(rows) - 1)] != wanted)
+            if outside.any():
+                error = _core.InputError(f"fixed[{int(np.argmax(outside))}] = candidate {int(wanted[outside][0])} "
+                                         "lies outside the region; an existing site must lie in it")
+                error.argument = "fixed"
+                raise error
+            fixed = at
+    if model == "p_median":
+        chosen = discrete.p_median_planar(points, candidates, p, weights, fixed=fixed)
+    else:
+        chosen = discrete.p_center_planar(points, candidates, p, weights)
+    if region is None:
+        return chosen
+    return dataclasses.replace(chosen, open=rows[chosen.open], candidates=every)
+
+
 # ------------------------------------------------------------------------------- tables
 
 
@@ -384,6 +420,7 @@ def p_median(
     p: int,
     weights: ArrayLike | None = None,
     *,
+    candidates: ArrayLike | None = None,
     groups: None = None,
     fixed: ArrayLike | None = None,
     fixed_groups: None = None,
@@ -402,6 +439,7 @@ def p_median(
     p: int,
     weights: ArrayLike | None = None,
     *,
+    candidates: ArrayLike | None = None,
     groups: ArrayLike,
     fixed: ArrayLike | None = None,
     fixed_groups: ArrayLike | None = None,
@@ -419,6 +457,7 @@ def p_median(
     p: int,
     weights: ArrayLike | None = None,
     *,
+    candidates: ArrayLike | None = None,
     groups: ArrayLike | None = None,
     fixed: ArrayLike | None = None,
     fixed_groups: ArrayLike | None = None,
@@ -428,7 +467,7 @@ def p_median(
     time_limit: float | None = None,
     progress: bool | Callable[[int, int], object] = False,
     region: Any = None,
-) -> MedianPlan | MedianPlans:
+) -> MedianPlan | MedianPlans | Any:
     """The best ``p`` sites for weighted demand: least total weighted distance to the nearest site.
 
     The continuous p-median (multisource Weber) problem. Cooper's alternating
@@ -449,6 +488,13 @@ def p_median(
         of distinct points with positive weight.
     weights : array_like, shape (n,), optional
         Finite, non-negative demand per point, not all zero. Default: all 1.
+    candidates : array_like, shape (m, 2), optional
+        Candidate locations: choose the ``p`` sites among them (the discrete p-median, see
+        :func:`placewise.discrete.p_median`, on straight-line distances computed when
+        asked) and return a ``placewise.discrete.MedianSelection`` whose ``open`` holds the
+        candidate index of each site; ``fixed`` then holds candidate indices. ``seed`` and
+        ``effort`` do not apply (the method is deterministic); ``groups``, ``time_limit``
+        and ``progress`` are refused with candidates.
     groups : array_like of int, shape (n,), optional
         Group labels: plan every group at once (in parallel, the same ``p`` for each) and
         return ``MedianPlans``.
@@ -539,6 +585,10 @@ def p_median(
     >>> quick = pw.p_median(line, 2, time_limit=10.0, progress=lambda done, total: seen.append(done))
     >>> quick.converged, float(quick.cost)       # (0, 0)-(2, 0) and (5, 5)-(5, 7): 2 + 2
     (True, 4.0)
+    >>> parcels = [[1, 1], [5, 5], [10, 1]]                  # only these may be bought
+    >>> pick = pw.p_median([[0, 0], [2, 0], [9, 0], [11, 0]], 2, candidates=parcels)
+    >>> pick.open, pick.sites.tolist()
+    (array([0, 2]), [[1.0, 1.0], [10.0, 1.0]])
 
     Two depots that may only stand on a strip of land along y = 3 (the demand lies off it):
 
@@ -552,6 +602,9 @@ def p_median(
     weber_point : the best single site.
     p_center : the ``p`` sites minimising the worst weighted trip.
     """
+    if candidates is not None:
+        return _on_candidates("p_median", points, p, weights, candidates, fixed=fixed, groups=groups,
+                              time_limit=time_limit, progress=progress, region=region)
     vertices, offsets = region_rings(region)
     shown = None if vertices is None else (vertices, offsets)
     if groups is None:
@@ -682,6 +735,7 @@ def p_center(
     p: int,
     weights: ArrayLike | None = None,
     *,
+    candidates: ArrayLike | None = None,
     groups: None = None,
     seed: int = 0,
     errors: Literal["raise", "skip"] = "raise",
@@ -697,6 +751,7 @@ def p_center(
     p: int,
     weights: ArrayLike | None = None,
     *,
+    candidates: ArrayLike | None = None,
     groups: ArrayLike,
     seed: int = 0,
     errors: Literal["raise", "skip"] = "raise",
@@ -711,6 +766,7 @@ def p_center(
     p: int,
     weights: ArrayLike | None = None,
     *,
+    candidates: ArrayLike | None = None,
     groups: ArrayLike | None = None,
     seed: int = 0,
     errors: Literal["raise", "skip"] = "raise",
@@ -737,6 +793,11 @@ def p_center(
     weights : array_like, shape (n,), optional
         Finite, non-negative weights, not all zero: the objective is ``max(w_i * d_i)``.
         Points of weight zero are allocated but do not pull the sites. Default: all 1.
+    candidates : array_like, shape (m, 2), optional
+        Candidate locations: choose the ``p`` sites among them (the discrete p-center, see
+        :func:`placewise.discrete.p_center`) and return a
+        ``placewise.discrete.CenterSelection`` whose ``open`` holds the candidate index of
+        each site; ``groups``, ``time_limit`` and ``progress`` are refused with candidates.
     groups : array_like of int, shape (n,), optional
         Group labels: plan every group at once (in parallel, the same ``p`` for each) and
         return ``CenterPlans``.
@@ -792,6 +853,8 @@ def p_center(
     >>> heavy = pw.p_center([[0, 0], [4, 0]], 1, [3, 1])    # the site moves toward the heavy point
     >>> heavy.sites, heavy.weighted_radius, heavy.radius
     (array([[1., 0.]]), 3.0, 3.0)
+    >>> pw.p_center(square + far, 2, candidates=[[1, 1], [11, 1], [21, 1]]).open
+    array([0, 2])
     >>> plans = pw.p_center(square + far, 1, groups=[0] * 4 + [1] * 4)
     >>> plans.summary()[["group", "weighted_radius_u", "sites", "points"]].round(6)
        group  weighted_radius_u  sites  points
@@ -812,6 +875,9 @@ def p_center(
     minimax_point : the best single site for the worst trip.
     p_median : the ``p`` sites minimising the total weighted trip.
     """
+    if candidates is not None:
+        return _on_candidates("p_center", points, p, weights, candidates, fixed=None, groups=groups,
+                              time_limit=time_limit, progress=progress, region=region)
     vertices, offsets = region_rings(region)
     shown = None if vertices is None else (vertices, offsets)
     if groups is None:

@@ -1,8 +1,10 @@
 //! Discrete p-center: binary search over the sorted distinct weighted costs with a covering
 //! subproblem (Minieka 1970; Daskin 1995, ch. 5).
 //!
-//! The optimum is one of the values `wᵢ · costs[i, j]`. At a trial value `r`, the plan exists
-//! iff `p` candidates cover every point that the fixed sites leave with `wᵢ · cost > r`
+//! The optimum is one of the values `wᵢ · costs[i, j]` (and at least the largest cheapest
+//! one). Values are sorted once few enough remain in the search range; before that, the
+//! range is halved on the values themselves, so no `n × m` list is held. At a trial value
+//! `r`, the plan exists iff `p` candidates cover every point that the fixed sites leave with `wᵢ · cost > r`
 //! (candidate `j` covers `i` when `wᵢ · costs[i, j] ≤ r`). Each trial is settled by, in turn:
 //! a point no candidate covers (infeasible), a packing larger than `p` (infeasible, proven
 //! by the LP dual), a greedy cover of at most `p` sites (feasible), and an exact branching
@@ -10,9 +12,9 @@
 //! the search but proves nothing, so the reported lower bound is the value above the largest
 //! trial proven infeasible: the plan is exact exactly when the bound meets its objective.
 
-use super::cover::{Incidence, EXACT_BUDGET};
+use super::cover::{serving_cover, Incidence, EXACT_BUDGET};
 use super::median::greedy_add;
-use super::{check_choice, relative_gap, CostMatrix, SiteService};
+use super::{check_choice, relative_gap, Costs, SiteService};
 use crate::error::Result;
 use crate::geometry::{validate_weights, Weights};
 
@@ -36,7 +38,7 @@ enum Trial {
 
 /// Can `p` candidates (besides `fixed`) bring every weighted cost to at most `r`?
 fn trial(
-    costs: &CostMatrix<'_>,
+    costs: &Costs<'_>,
     weights: Weights<'_>,
     p: usize,
     fixed: &[usize],
@@ -47,10 +49,17 @@ fn trial(
     let demand: Vec<usize> = (0..costs.rows())
         .filter(|&i| {
             let w = weights.get(i);
-            w > 0.0 && fixed.iter().all(|&j| w * costs.row(i)[j] > r)
+            w > 0.0 && fixed.iter().all(|&j| costs.cost(i, j).is_none_or(|c| w * c > r))
         })
         .collect();
-    let incidence = Incidence::build(costs, &demand, usable, |i, c| weights.get(i) * c <= r);
+    // w·c <= r needs c <= r / w; the exact test is the product.
+    let incidence = Incidence::build(
+        costs,
+        &demand,
+        usable,
+        |i| r / weights.get(i) * (1.0 + 1e-12),
+        |i, c| weights.get(i) * c <= r,
+    );
     if incidence.uncoverable().is_some() {
         return Trial::Infeasible { proven: true };
     }
@@ -68,68 +77,134 @@ fn trial(
     }
 }
 
+/// Most weighted costs sorted in memory at once; a wider range is first narrowed by
+/// bisection on the values themselves.
+const SORTED_VALUES: usize = 4_000_000;
+
+/// The weighted costs `wᵢ · costs[i, j]` (positive weights, allowed pairs) in `(above, below)`,
+/// visited without holding them all.
+fn each_value(costs: &Costs<'_>, weights: Weights<'_>, above: f64, below: f64, mut f: impl FnMut(f64)) {
+    for i in 0..costs.rows() {
+        let w = weights.get(i);
+        if w > 0.0 {
+            costs.for_each_within(i, below / w * (1.0 + 1e-12), |_, c| {
+                let v = w * c;
+                if v > above && v < below {
+                    f(v);
+                }
+            });
+        }
+    }
+}
+
 /// `p` new candidates (besides the `fixed` ones) minimising `maxᵢ wᵢ · minⱼ costs[i, j]` over
 /// the open ones, with a proven lower bound. Sites the covering leaves over (it may need
 /// fewer than `p`) are added greedily for the least total weighted cost.
 ///
 /// # Errors
-/// Bad weights, `p` or `fixed` (see [`discrete_p_median`](super::discrete_p_median)).
+/// Bad weights, `p` or `fixed` (see [`discrete_p_median`](super::discrete_p_median)); on a
+/// sparse source, [`crate::Error::InvalidParameter`] naming `p` when no `p` sites serve every
+/// point through the allowed pairs.
 ///
 /// # Runtime
-/// O(n·m·log(n·m)) for the sorted values and the trials, plus the budgeted exact search.
-pub fn discrete_p_center(
-    costs: &CostMatrix<'_>,
-    weights: Weights<'_>,
-    p: usize,
-    fixed: &[usize],
-) -> Result<DiscreteCenter> {
+/// O(allowed pairs) per trial, O(log) trials; the values are sorted only once at most
+/// `SORTED_VALUES` remain in the search range.
+pub fn discrete_p_center(costs: &Costs<'_>, weights: Weights<'_>, p: usize, fixed: &[usize]) -> Result<DiscreteCenter> {
     validate_weights("weights", weights, costs.rows())?;
     check_choice(costs, p, fixed)?;
-    let (n, m) = (costs.rows(), costs.columns());
+    if !costs.is_complete() {
+        // Proves (or refuses) that some p sites serve every point.
+        serving_cover(costs, weights, p, fixed)?;
+    }
+    let m = costs.columns();
     // Every point needs some site: the largest cheapest weighted cost bounds the optimum.
-    let floor =
-        (0..n).map(|i| weights.get(i) * costs.row(i).iter().copied().fold(f64::INFINITY, f64::min)).fold(0.0, f64::max);
-    let mut values: Vec<f64> = (0..n)
+    let floor = (0..costs.rows())
         .filter(|&i| weights.get(i) > 0.0)
-        .flat_map(|i| costs.row(i).iter().map(move |&c| weights.get(i) * c))
-        .filter(|&v| v >= floor)
-        .collect();
-    values.push(floor);
-    values.sort_unstable_by(f64::total_cmp);
-    values.dedup();
+        .map(|i| weights.get(i) * costs.cheapest(i).1)
+        .fold(0.0, f64::max);
+    let mut top = floor;
+    each_value(costs, weights, floor, f64::INFINITY, |v| top = top.max(v));
     let mut usable = vec![true; m];
     fixed.iter().for_each(|&j| usable[j] = false);
 
     let mut budget = EXACT_BUDGET;
-    let (mut lo, mut hi) = (0, values.len() - 1);
-    // At the largest value one site covers everything.
-    let Trial::Feasible(mut best) = trial(costs, weights, p, fixed, &usable, values[hi], &mut budget) else {
-        unreachable!("one site covers every point at the largest weighted cost")
+    // At the largest value every point has each of its allowed sites within reach, so the
+    // serving cover (proven above) is feasible.
+    let Trial::Feasible(mut best) = trial(costs, weights, p, fixed, &usable, top, &mut budget) else {
+        unreachable!("the sites serving every point meet the largest weighted cost")
     };
-    let mut proven = 0;
-    while lo < hi {
-        let mid = lo + (hi - lo) / 2;
-        match trial(costs, weights, p, fixed, &usable, values[mid], &mut budget) {
-            Trial::Feasible(cover) => (hi, best) = (mid, cover),
-            Trial::Infeasible { proven: sure } => {
-                lo = mid + 1;
-                if sure {
-                    proven = proven.max(mid + 1);
-                }
+    // Search the values in (low, high): `high` is feasible, everything at or below `low` is
+    // infeasible or below the floor; `proven` is the largest value proven infeasible.
+    let (mut low, mut high, mut proven) = (f64::NEG_INFINITY, top, f64::NEG_INFINITY);
+    let mut record = |v: f64, outcome: Trial, low: &mut f64, high: &mut f64, best: &mut Vec<usize>| match outcome {
+        Trial::Feasible(cover) => (*high, *best) = (v, cover),
+        Trial::Infeasible { proven: sure } => {
+            *low = v;
+            if sure {
+                proven = proven.max(v);
             }
         }
+    };
+    // The floor itself is a value; try it first (often the answer when p is large).
+    if floor < high {
+        let outcome = trial(costs, weights, p, fixed, &usable, floor, &mut budget);
+        record(floor, outcome, &mut low, &mut high, &mut best);
+    }
+    loop {
+        let mut count = 0usize;
+        each_value(costs, weights, low.max(floor), high, |_| count += 1);
+        if count == 0 {
+            break;
+        }
+        if count <= SORTED_VALUES {
+            let mut values = Vec::with_capacity(count);
+            each_value(costs, weights, low.max(floor), high, |v| values.push(v));
+            values.sort_unstable_by(f64::total_cmp);
+            values.dedup();
+            let (mut a, mut b) = (0, values.len());
+            while a < b {
+                let mid = a + (b - a) / 2;
+                let outcome = trial(costs, weights, p, fixed, &usable, values[mid], &mut budget);
+                let feasible = matches!(outcome, Trial::Feasible(_));
+                record(values[mid], outcome, &mut low, &mut high, &mut best);
+                if feasible {
+                    b = mid;
+                } else {
+                    a = mid + 1;
+                }
+            }
+            break;
+        }
+        // Bisection on the value: the least value at or above the middle of the range.
+        let middle = low.max(floor) + (high - low.max(floor)) / 2.0;
+        let mut v = f64::INFINITY;
+        each_value(costs, weights, middle, high, |x| v = v.min(x));
+        if !v.is_finite() {
+            // None at or above the middle: the greatest below it.
+            v = f64::NEG_INFINITY;
+            each_value(costs, weights, low.max(floor), middle + f64::EPSILON * middle.abs(), |x| v = v.max(x));
+        }
+        let outcome = trial(costs, weights, p, fixed, &usable, v, &mut budget);
+        record(v, outcome, &mut low, &mut high, &mut best);
     }
     let chosen = best.len();
-    let open = greedy_add(costs, weights, fixed.iter().chain(&best).copied().collect(), p - chosen);
+    let open = greedy_add(costs, weights, fixed.iter().chain(&best).copied().collect(), p - chosen, 2.0 * top + 1.0);
     let service = SiteService::of(costs, weights, open, fixed, None);
     let objective = service.weighted_worst;
-    let lower_bound = values[proven].min(objective);
+    // The optimum is a value above every value proven infeasible, and at least the floor.
+    let mut lower_bound = floor;
+    if proven >= floor {
+        lower_bound = objective;
+        each_value(costs, weights, proven, objective, |v| lower_bound = lower_bound.min(v));
+    }
+    let lower_bound = lower_bound.min(objective);
     Ok(DiscreteCenter { relative_gap: relative_gap(objective, lower_bound), lower_bound, service })
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::discrete::CostMatrix;
     use crate::geometry::random::SplitMix64;
 
     #[test]
@@ -139,7 +214,7 @@ mod tests {
             let (n, m) = (12, 7);
             let values: Vec<f64> = (0..n * m).map(|_| (rng.next_f64() * 50.0).round()).collect();
             let w: Vec<f64> = (0..n).map(|_| 1.0 + (rng.next_f64() * 2.0).round()).collect();
-            let costs = CostMatrix::new(&values, n, m).unwrap();
+            let costs = Costs::from(CostMatrix::new(&values, n, m).unwrap());
             for p in 1..4 {
                 let r = discrete_p_center(&costs, Weights::Given(&w), p, &[]).unwrap();
                 // Brute-force enumeration of every p-subset (independent).

@@ -11,7 +11,7 @@
 //!   `gain − loss + extra` bookkeeping as the p-median's fast swap; an upper bound from the
 //!   Lagrangian relaxation of `zᵢ ≤ Σ_{j covers i} yⱼ` by subgradient optimisation.
 
-use super::{check_choice, check_radius, relative_gap, CostMatrix, SiteService, StepControl};
+use super::{check_choice, check_radius, relative_gap, Costs, SiteService, StepControl};
 use crate::error::{Error, Result};
 use crate::geometry::{validate_weights, CompensatedSum, Weights};
 
@@ -28,27 +28,69 @@ pub(super) struct Incidence {
 
 impl Incidence {
     /// Coverage of the rows `demand` by the columns with `usable[j]`, where column `j` covers
-    /// row `i` when `covers(i, costs[i, j])`.
+    /// row `i` when `covers(i, costs[i, j])`, which may hold only for costs up to `reach(i)`.
     pub(super) fn build(
-        costs: &CostMatrix<'_>,
+        costs: &Costs<'_>,
         demand: &[usize],
         usable: &[bool],
-        covers: impl Fn(usize, f64) -> bool,
+        reach: impl Fn(usize) -> f64 + Sync,
+        covers: impl Fn(usize, f64) -> bool + Sync,
     ) -> Incidence {
-        let mut by_site = vec![Vec::new(); costs.columns()];
-        let by_point = demand
-            .iter()
-            .enumerate()
-            .map(|(a, &i)| {
-                let row = costs.row(i);
-                let list: Vec<usize> = (0..row.len()).filter(|&j| usable[j] && covers(i, row[j])).collect();
-                for &j in &list {
-                    by_site[j].push(a);
-                }
+        use rayon::prelude::*;
+        let by_point: Vec<Vec<usize>> = demand
+            .par_iter()
+            .map(|&i| {
+                let mut list = Vec::new();
+                costs.for_each_within(i, reach(i), |j, c| {
+                    if usable[j] && covers(i, c) {
+                        list.push(j);
+                    }
+                });
+                list.sort_unstable();
                 list
             })
             .collect();
+        let mut by_site = vec![Vec::new(); costs.columns()];
+        for (a, list) in by_point.iter().enumerate() {
+            for &j in list {
+                by_site[j].push(a);
+            }
+        }
         Incidence { by_point, by_site }
+    }
+
+    /// Drop every column whose points another column covers too (a superset, or the same
+    /// set at a smaller column): a covering model never needs it (column reduction of set
+    /// covering; Toregas & ReVelle 1973). Returns the number dropped.
+    pub(super) fn drop_dominated(&mut self) -> usize {
+        let m = self.by_site.len();
+        let contains = |big: &[usize], small: &[usize]| {
+            let mut it = big.iter();
+            small.iter().all(|x| it.any(|y| y == x))
+        };
+        let dominated: Vec<bool> = (0..m)
+            .map(|j| {
+                let set = &self.by_site[j];
+                // Any dominating column covers the point of `set` with the fewest columns.
+                let Some(&a) = set.iter().min_by_key(|&&a| self.by_point[a].len()) else { return false };
+                self.by_point[a].iter().any(|&k| {
+                    let other = &self.by_site[k];
+                    k != j && (other.len() > set.len() || (other.len() == set.len() && k < j)) && contains(other, set)
+                })
+            })
+            .collect();
+        let dropped = dominated.iter().filter(|&&d| d).count();
+        if dropped > 0 {
+            for (j, &d) in dominated.iter().enumerate() {
+                if d {
+                    self.by_site[j].clear();
+                }
+            }
+            for list in &mut self.by_point {
+                list.retain(|&j| !dominated[j]);
+            }
+        }
+        dropped
     }
 
     /// The first demand point (position) that no usable column covers.
@@ -60,12 +102,24 @@ impl Incidence {
     /// removal of sites whose points all have another chosen site (latest chosen first).
     /// Every point must have a covering column.
     pub(super) fn greedy(&self) -> Vec<usize> {
+        use std::cmp::Reverse;
+        use std::collections::BinaryHeap;
         let mut gain: Vec<usize> = self.by_site.iter().map(Vec::len).collect();
         let mut covered = vec![false; self.by_point.len()];
         let mut left = covered.len();
         let mut chosen = Vec::new();
+        // Lazy evaluation (gains only fall): the heap holds (gain when pushed, column); a stale
+        // top is pushed back with its current gain. Ties go to the smallest column.
+        let mut heap: BinaryHeap<(usize, Reverse<usize>)> =
+            gain.iter().enumerate().filter(|&(_, &g)| g > 0).map(|(j, &g)| (g, Reverse(j))).collect();
         while left > 0 {
-            let j = (0..gain.len()).max_by(|&a, &b| gain[a].cmp(&gain[b]).then(b.cmp(&a))).expect("a column");
+            let Some((g, Reverse(j))) = heap.pop() else { unreachable!("every point has a covering column") };
+            if g != gain[j] {
+                if gain[j] > 0 {
+                    heap.push((gain[j], Reverse(j)));
+                }
+                continue;
+            }
             chosen.push(j);
             for &a in &self.by_site[j] {
                 if !std::mem::replace(&mut covered[a], true) {
@@ -265,6 +319,57 @@ impl Branching<'_> {
     }
 }
 
+/// The rows with `keep(i)` that no fixed site covers within `radius` (in row order).
+fn outside(costs: &Costs<'_>, fixed: &[usize], radius: f64, keep: impl Fn(usize) -> bool) -> Vec<usize> {
+    (0..costs.rows())
+        .filter(|&i| keep(i) && fixed.iter().all(|&j| costs.cost(i, j).is_none_or(|c| c > radius)))
+        .collect()
+}
+
+/// For a source that does not allow every pair: the `fixed` candidates and at most `p` more
+/// such that every point of positive weight has an allowed open site (a set-covering
+/// problem on the allowed pairs, settled as in [`cover_all`]).
+///
+/// # Errors
+/// [`Error::InvalidParameter`] naming `p` when fewer than the sites needed are asked for
+/// (proven by the covering bound) or when the budgeted search finds no such choice.
+pub(super) fn serving_cover(costs: &Costs<'_>, weights: Weights<'_>, p: usize, fixed: &[usize]) -> Result<Vec<usize>> {
+    let demand: Vec<usize> = (0..costs.rows())
+        .filter(|&i| weights.get(i) > 0.0 && fixed.iter().all(|&j| costs.cost(i, j).is_none()))
+        .collect();
+    let incidence =
+        Incidence::build(costs, &demand, &not_fixed(costs.columns(), fixed), |_| f64::INFINITY, |_, _| true);
+    let mut chosen = incidence.greedy();
+    if chosen.len() > p {
+        let lower = incidence.lower_bound(chosen.len(), 200);
+        let mut budget = EXACT_BUDGET;
+        let found = if lower > p { None } else { incidence.exact(p, &mut budget).flatten() };
+        match found {
+            Some(cover) => chosen = cover,
+            None if lower > p => {
+                return Err(Error::InvalidParameter {
+                    name: "p",
+                    reason: format!(
+                        "{p} new sites cannot serve every point through the allowed pairs of the sparse costs; \
+                         at least {lower} are needed"
+                    ),
+                })
+            }
+            None => {
+                return Err(Error::InvalidParameter {
+                    name: "p",
+                    reason: format!(
+                        "no {p} new sites serving every point through the allowed pairs of the sparse costs were \
+                         found (the best found needs {}); allow more pairs or ask for more sites",
+                        chosen.len()
+                    ),
+                })
+            }
+        }
+    }
+    Ok(fixed.iter().chain(&chosen).copied().collect())
+}
+
 /// Columns flagged usable: every candidate that is not fixed.
 fn not_fixed(columns: usize, fixed: &[usize]) -> Vec<bool> {
     let mut usable = vec![true; columns];
@@ -292,18 +397,19 @@ pub struct CoverAll {
 /// Bad weights or `fixed`; [`Error::InvalidParameter`] naming `radius` when it is not finite
 /// and positive, or when a point has no candidate within it (the message names the point and
 /// its cheapest candidate's cost).
-pub fn cover_all(costs: &CostMatrix<'_>, weights: Weights<'_>, radius: f64, fixed: &[usize]) -> Result<CoverAll> {
+pub fn cover_all(costs: &Costs<'_>, weights: Weights<'_>, radius: f64, fixed: &[usize]) -> Result<CoverAll> {
     validate_weights("weights", weights, costs.rows())?;
     super::check_sites("fixed", fixed, costs.columns())?;
     check_radius(radius)?;
-    let demand: Vec<usize> = (0..costs.rows()).filter(|&i| fixed.iter().all(|&j| costs.row(i)[j] > radius)).collect();
-    let incidence = Incidence::build(costs, &demand, &not_fixed(costs.columns(), fixed), |_, c| c <= radius);
+    let demand = outside(costs, fixed, radius, |_| true);
+    let mut incidence =
+        Incidence::build(costs, &demand, &not_fixed(costs.columns(), fixed), |_| radius, |_, c| c <= radius);
     if let Some(a) = incidence.uncoverable() {
         let i = demand[a];
-        let row = costs.row(i);
-        let j = (0..row.len()).min_by(|&x, &y| row[x].total_cmp(&row[y])).expect("a column");
-        return Err(Error::Uncoverable { row: i, radius, column: j, cost: row[j] });
+        let (column, cost) = costs.cheapest(i);
+        return Err(Error::Uncoverable { row: i, radius, column, cost });
     }
+    incidence.drop_dominated();
     let mut chosen = incidence.greedy();
     let mut lower = incidence.lower_bound(chosen.len(), 200);
     let mut budget = EXACT_BUDGET;
@@ -347,7 +453,7 @@ pub struct CoverMost {
 /// # Runtime
 /// O(n·m) to find the coverage, then O(Σ coverage lists + m·p) per swap and bound iteration.
 pub fn cover_most(
-    costs: &CostMatrix<'_>,
+    costs: &Costs<'_>,
     weights: Weights<'_>,
     p: usize,
     radius: f64,
@@ -358,11 +464,9 @@ pub fn cover_most(
     check_radius(radius)?;
     let m = costs.columns();
     // Points the fixed sites already cover count in full; only the others are contested.
-    let demand: Vec<usize> = (0..costs.rows())
-        .filter(|&i| weights.get(i) > 0.0 && fixed.iter().all(|&j| costs.row(i)[j] > radius))
-        .collect();
+    let demand = outside(costs, fixed, radius, |i| weights.get(i) > 0.0);
     let w: Vec<f64> = demand.iter().map(|&i| weights.get(i)).collect();
-    let inc = Incidence::build(costs, &demand, &not_fixed(m, fixed), |_, c| c <= radius);
+    let inc = Incidence::build(costs, &demand, &not_fixed(m, fixed), |_| radius, |_, c| c <= radius);
 
     // Greedy addition.
     let mut gain: Vec<f64> = inc.by_site.iter().map(|s| s.iter().map(|&a| w[a]).sum()).collect();
@@ -539,6 +643,8 @@ mod tests {
     use super::*;
     use crate::geometry::random::SplitMix64;
 
+    use crate::discrete::CostMatrix;
+
     fn line(n: usize, spacing: f64) -> Vec<f64> {
         (0..n).flat_map(|i| (0..n).map(move |j| (i as f64 - j as f64).abs() * spacing)).collect()
     }
@@ -548,7 +654,7 @@ mod tests {
         // Closed form: points on a line at spacing s, radius s/2 — each site covers only its own
         // point, so n sites are needed.
         let values = line(7, 2.0);
-        let costs = CostMatrix::new(&values, 7, 7).unwrap();
+        let costs = Costs::from(CostMatrix::new(&values, 7, 7).unwrap());
         let r = cover_all(&costs, Weights::Unit, 1.0, &[]).unwrap();
         assert_eq!((r.chosen, r.lower_bound), (7, 7));
         // Closed form: radius s covers three neighbours, so ⌈n/3⌉ sites.
@@ -558,7 +664,7 @@ mod tests {
 
     #[test]
     fn uncoverable_point_is_named() {
-        let costs = CostMatrix::new(&[1.0, 2.0, 5.0, 4.0], 2, 2).unwrap();
+        let costs = Costs::from(CostMatrix::new(&[1.0, 2.0, 5.0, 4.0], 2, 2).unwrap());
         let e = cover_all(&costs, Weights::Unit, 3.0, &[]).unwrap_err();
         assert_eq!(
             e.to_string(),
@@ -573,7 +679,7 @@ mod tests {
             let (n, m) = (15, 8);
             let values: Vec<f64> = (0..n * m).map(|_| rng.next_f64() * 10.0).collect();
             let w: Vec<f64> = (0..n).map(|_| 1.0 + (rng.next_f64() * 4.0).floor()).collect();
-            let costs = CostMatrix::new(&values, n, m).unwrap();
+            let costs = Costs::from(CostMatrix::new(&values, n, m).unwrap());
             for p in 1..4 {
                 let r = cover_most(&costs, Weights::Given(&w), p, 3.0, &[]).unwrap();
                 // Brute-force enumeration of every p-subset (independent).

@@ -12,7 +12,8 @@
 //!   Fisher & Nemhauser 1977; Beasley 1993) with subgradient optimisation; every value of
 //!   the Lagrangian function is a lower bound on the optimum, the best one is reported.
 
-use super::{check_choice, relative_gap, sum_rows, CostMatrix, SiteService, StepControl};
+use super::cover::serving_cover;
+use super::{check_choice, relative_gap, sum_rows, Costs, SiteService, StepControl};
 use crate::error::Result;
 use crate::geometry::{validate_weights, CompensatedSum, Weights};
 
@@ -47,50 +48,63 @@ pub struct DiscreteMedian {
     pub bound_iterations: usize,
 }
 
-/// Open `p` more candidates greedily, each lowering `Σ wᵢ · minⱼ costs[i, j]` most (the
-/// smallest column among equally good ones), after the `open` ones; returns all of them.
+/// Open `p` more candidates greedily after the `open` ones, each the one lowering
+/// `Σ wᵢ · (cheapest open cost of i)` most (the smallest column among equally good ones), a
+/// point without an allowed open site costing `unserved`; returns all of them.
 ///
 /// # Runtime
-/// O(p · n · m).
-pub(super) fn greedy_add(costs: &CostMatrix<'_>, weights: Weights<'_>, mut open: Vec<usize>, p: usize) -> Vec<usize> {
+/// O(p · allowed pairs).
+pub(super) fn greedy_add(
+    costs: &Costs<'_>,
+    weights: Weights<'_>,
+    mut open: Vec<usize>,
+    p: usize,
+    unserved: f64,
+) -> Vec<usize> {
     let (n, m) = (costs.rows(), costs.columns());
     let mut near: Vec<f64> =
-        (0..n).map(|i| open.iter().map(|&j| costs.row(i)[j]).fold(f64::INFINITY, f64::min)).collect();
+        (0..n).map(|i| open.iter().filter_map(|&j| costs.cost(i, j)).fold(unserved, f64::min)).collect();
     let mut is_open = vec![false; m];
     for &j in &open {
         is_open[j] = true;
     }
     for _ in 0..p {
-        let total = sum_rows(n, m, |i, total| {
+        // gain[j] = Σᵢ wᵢ · max(0, nearᵢ − costs[i, j]): what opening j saves.
+        let gain = sum_rows(n, m, |i, gain| {
             let (w, d) = (weights.get(i), near[i]);
             if w > 0.0 {
-                total.iter_mut().zip(costs.row(i)).for_each(|(t, &c)| *t += w * c.min(d));
+                costs.for_each_within(i, d, |j, c| {
+                    if c < d {
+                        gain[j] += w * (d - c);
+                    }
+                });
             }
         });
-        let best = (0..m).filter(|&j| !is_open[j]).min_by(|&a, &b| total[a].total_cmp(&total[b]).then(a.cmp(&b)));
+        let best = (0..m).filter(|&j| !is_open[j]).max_by(|&a, &b| gain[a].total_cmp(&gain[b]).then(b.cmp(&a)));
         let Some(best) = best else { break };
         is_open[best] = true;
         open.push(best);
         for (i, d) in near.iter_mut().enumerate() {
-            *d = d.min(costs.row(i)[best]);
+            if let Some(c) = costs.cost(i, best) {
+                *d = d.min(c);
+            }
         }
     }
     open
 }
 
 /// Every point's cheapest open cost `d1`, the position in `open` of that site, and the
-/// second-cheapest open cost `d2` (`ceiling` when only one site is open: any candidate costs
-/// less, so a swap's arithmetic stays finite and exact in its cases).
-fn nearest_two(costs: &CostMatrix<'_>, open: &[usize], ceiling: f64) -> (Vec<f64>, Vec<usize>, Vec<f64>) {
+/// second-cheapest open cost `d2`, a missing one counting `ceiling` (above every cost, so a
+/// swap's arithmetic stays finite and exact in its cases).
+fn nearest_two(costs: &Costs<'_>, open: &[usize], ceiling: f64) -> (Vec<f64>, Vec<usize>, Vec<f64>) {
     let n = costs.rows();
     let (mut d1, mut c1, mut d2) = (vec![0.0; n], vec![0usize; n], vec![0.0; n]);
     for i in 0..n {
-        let row = costs.row(i);
-        let (mut a, mut at, mut b) = (f64::INFINITY, 0, ceiling);
+        let (mut a, mut at, mut b) = (ceiling, 0, ceiling);
         for (k, &j) in open.iter().enumerate() {
-            let c = row[j];
+            let Some(c) = costs.cost(i, j) else { continue };
             if c < a {
-                b = a.min(ceiling);
+                b = a;
                 (a, at) = (c, k);
             } else if c < b {
                 b = c;
@@ -102,17 +116,18 @@ fn nearest_two(costs: &CostMatrix<'_>, open: &[usize], ceiling: f64) -> (Vec<f64
 }
 
 /// Improve `open` by the best swap (insert a closed candidate, remove a non-fixed open one)
-/// while one lowers the cost; returns the number of swaps.
+/// while one lowers the cost; returns the number of swaps. A point without a second allowed
+/// open site counts `ceiling` for it: with `ceiling` above what any serving plan costs per
+/// unit of weight, no swap leaves a point of positive weight unserved.
 fn fast_swap(
-    costs: &CostMatrix<'_>,
+    costs: &Costs<'_>,
     weights: Weights<'_>,
     open: &mut [usize],
     fixed_count: usize,
     max_swaps: usize,
+    ceiling: f64,
 ) -> usize {
     let (n, m, k) = (costs.rows(), costs.columns(), open.len());
-    // Above every cost, so `min(cost, ceiling)` is the cost (see `nearest_two`).
-    let ceiling = 2.0 * costs.max_cost() + 1.0;
     let mut is_open = vec![false; m];
     for &j in open.iter() {
         is_open[j] = true;
@@ -132,14 +147,15 @@ fn fast_swap(
             let (extra, current) = rest.split_at_mut(m * k);
             current[0] += w * a;
             loss[r] += w * (b - a);
-            for (u, &c) in costs.row(i).iter().enumerate() {
+            // Only candidates cheaper than d2 change anything.
+            costs.for_each_within(i, b, |u, c| {
                 if c < b && !is_open[u] {
                     if c < a {
                         gain[u] += w * (a - c);
                     }
                     extra[u * k + r] += w * (b - c.max(a));
                 }
-            }
+            });
         });
         let (gain, rest) = sums.split_at(m);
         let (loss, rest) = rest.split_at(k);
@@ -177,7 +193,7 @@ fn fast_swap(
 /// The step is Held–Wolfe–Crowder's `θ (upper − L) / ‖g‖²` with `θ` halved after 20 steps
 /// without progress.
 fn lagrangian_bound(
-    costs: &CostMatrix<'_>,
+    costs: &Costs<'_>,
     weights: Weights<'_>,
     fixed: &[usize],
     p: usize,
@@ -201,12 +217,14 @@ fn lagrangian_bound(
         spent += 1;
         let rho = sum_rows(n, m, |i, rho| {
             let (w, l) = (weights.get(i), lambda[i]);
-            for (r, &c) in rho.iter_mut().zip(costs.row(i)) {
+            // Only pairs with a negative reduced cost count (costs below l / w).
+            let reach = if w > 0.0 { l / w } else { f64::INFINITY };
+            costs.for_each_within(i, reach, |j, c| {
                 let reduced = w * c - l;
                 if reduced < 0.0 {
-                    *r += reduced;
+                    rho[j] += reduced;
                 }
-            }
+            });
         });
         order.clear();
         order.extend((0..m).filter(|&j| !is_fixed[j]));
@@ -229,9 +247,10 @@ fn lagrangian_bound(
         }
         // Subgradient: 1 − (number of open sites with negative reduced cost for point i).
         let mut norm = 0.0;
+        let open_now: Vec<usize> = (0..m).filter(|&j| chosen[j]).collect();
         for (i, gi) in g.iter_mut().enumerate() {
             let (w, l) = (weights.get(i), lambda[i]);
-            let served = costs.row(i).iter().enumerate().filter(|&(j, &c)| chosen[j] && w * c - l < 0.0).count();
+            let served = open_now.iter().filter(|&&j| costs.cost(i, j).is_some_and(|c| w * c - l < 0.0)).count();
             *gi = 1.0 - served as f64;
             norm += *gi * *gi;
         }
@@ -256,7 +275,7 @@ fn lagrangian_bound(
 /// # Runtime
 /// O(p·n·m) for the start, O(n·m + m·p) per swap and per bound iteration.
 pub fn discrete_p_median(
-    costs: &CostMatrix<'_>,
+    costs: &Costs<'_>,
     weights: Weights<'_>,
     p: usize,
     fixed: &[usize],
@@ -264,24 +283,45 @@ pub fn discrete_p_median(
 ) -> Result<DiscreteMedian> {
     validate_weights("weights", weights, costs.rows())?;
     check_choice(costs, p, fixed)?;
-    let mut open = greedy_add(costs, weights, fixed.to_vec(), p);
-    let swaps = fast_swap(costs, weights, &mut open, fixed.len(), options.max_swaps);
+    let top = costs.ceiling();
+    // The cost of a point no open site serves (and of a missing second site): above every
+    // cost on a complete source; on a sparse one, also above what a whole serving plan costs
+    // per unit of the least positive weight, so no swap gives up serving a point.
+    let (open, ceiling) = if costs.is_complete() {
+        let ceiling = 2.0 * top + 1.0;
+        (greedy_add(costs, weights, fixed.to_vec(), p, ceiling), ceiling)
+    } else {
+        let cover = serving_cover(costs, weights, p, fixed)?;
+        let chosen = cover.len() - fixed.len();
+        let open = greedy_add(costs, weights, cover, p - chosen, 2.0 * top + 1.0);
+        let upper = SiteService::of(costs, weights, open.clone(), fixed, None).total_cost;
+        let least = (0..costs.rows()).map(|i| weights.get(i)).filter(|&w| w > 0.0).fold(f64::INFINITY, f64::min);
+        (open, 2.0 * (upper / least + top) + 1.0)
+    };
+    let mut open = open;
+    let swaps = fast_swap(costs, weights, &mut open, fixed.len(), options.max_swaps, ceiling);
     let service = SiteService::of(costs, weights, open.clone(), fixed, None);
     let upper = service.total_cost;
-    let ceiling = 2.0 * costs.max_cost() + 1.0;
     let (_, _, d2) = nearest_two(costs, &open, ceiling);
-    let start: Vec<f64> = d2.iter().enumerate().map(|(i, &b)| weights.get(i) * b.min(ceiling)).collect();
+    // λ starts at every point's second cheapest open cost, no higher than its dearest pair.
+    let start: Vec<f64> = (0..costs.rows())
+        .map(|i| {
+            let mut dearest = 0.0f64;
+            costs.for_each(i, |_, c| dearest = dearest.max(c));
+            weights.get(i) * d2[i].min(dearest)
+        })
+        .collect();
     let (bound, lagrangian_open, spent) = if upper > 0.0 {
         lagrangian_bound(costs, weights, fixed, p, upper, &start, options.bound_iterations)
     } else {
         (0.0, Vec::new(), 0)
     };
     // Beasley's (1993) Lagrangian heuristic: the open set of the best relaxation, improved by
-    // the same interchange, replaces the plan when cheaper.
+    // the same interchange, replaces the plan when cheaper (and, on a sparse source, serving).
     let (mut service, mut swaps) = (service, swaps);
     if lagrangian_open.len() == open.len() && relative_gap(upper, bound) > 1e-9 {
         let mut other = lagrangian_open;
-        let more = fast_swap(costs, weights, &mut other, fixed.len(), options.max_swaps);
+        let more = fast_swap(costs, weights, &mut other, fixed.len(), options.max_swaps, ceiling);
         let candidate = SiteService::of(costs, weights, other, fixed, None);
         if candidate.total_cost < service.total_cost {
             (service, swaps) = (candidate, swaps + more);
@@ -303,10 +343,13 @@ pub fn discrete_p_median(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::discrete::CostMatrix;
     use crate::geometry::random::SplitMix64 as Rng;
 
-    fn total(costs: &CostMatrix<'_>, w: &[f64], open: &[usize]) -> f64 {
-        (0..costs.rows()).map(|i| w[i] * open.iter().map(|&j| costs.row(i)[j]).fold(f64::INFINITY, f64::min)).sum()
+    fn total(costs: &Costs<'_>, w: &[f64], open: &[usize]) -> f64 {
+        (0..costs.rows())
+            .map(|i| w[i] * open.iter().map(|&j| costs.cost(i, j).unwrap()).fold(f64::INFINITY, f64::min))
+            .sum()
     }
 
     #[test]
@@ -316,7 +359,7 @@ mod tests {
             let (n, m) = (12, 8);
             let values: Vec<f64> = (0..n * m).map(|_| (rng.next_f64() * 100.0).round()).collect();
             let w: Vec<f64> = (0..n).map(|_| 1.0 + (rng.next_f64() * 3.0).round()).collect();
-            let costs = CostMatrix::new(&values, n, m).unwrap();
+            let costs = Costs::from(CostMatrix::new(&values, n, m).unwrap());
             for p in 1..4 {
                 let r = discrete_p_median(&costs, Weights::Given(&w), p, &[], &Default::default()).unwrap();
                 let open = &r.service.open;
@@ -349,7 +392,7 @@ mod tests {
     fn fixed_sites_stay_open() {
         // Points at 0..5 on a line, candidates at the same places; candidate 5 is fixed.
         let values: Vec<f64> = (0..6).flat_map(|i| (0..6).map(move |j| (i as f64 - j as f64).abs())).collect();
-        let costs = CostMatrix::new(&values, 6, 6).unwrap();
+        let costs = Costs::from(CostMatrix::new(&values, 6, 6).unwrap());
         let r = discrete_p_median(&costs, Weights::Unit, 1, &[5], &Default::default()).unwrap();
         assert!(r.service.open.contains(&5));
         assert_eq!(r.service.open.len(), 2);

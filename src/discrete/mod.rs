@@ -1,8 +1,9 @@
-//! Discrete location on a demand × candidate cost matrix.
+//! Discrete location on demand × candidate costs.
 //!
 //! The sites must be chosen among `m` candidates, and the cost of serving demand point `i`
 //! from candidate `j` is any non-negative number `costs[i, j]` (travel time, road distance,
-//! straight-line distance from [`euclidean_costs`]):
+//! straight-line distance), read from one [`Costs`] source: a dense matrix, a sparse matrix of
+//! the allowed pairs, or coordinates (see `source.rs`):
 //!
 //! - [`evaluate_sites`]: how a given set of open candidates serves the demand (the status quo);
 //! - [`discrete_p_median`]: `p` candidates minimising the total weighted cost, with a proven
@@ -19,80 +20,21 @@
 
 mod center;
 mod cover;
+mod dominating;
 mod median;
+mod source;
 
 pub use center::{discrete_p_center, DiscreteCenter};
 pub use cover::{cover_all, cover_most, CoverAll, CoverMost};
+pub use dominating::{circle_intersections, MAX_DOMINATING_CANDIDATES};
 pub use median::{discrete_p_median, DiscreteMedian, DiscreteMedianOptions};
+pub use source::{with_planar_costs, CostMatrix, Costs, PlanarCosts, SparseCosts, PLANAR_DENSE_CELLS};
 
 use crate::error::{Error, Result};
 use crate::geometry::{distance, validate_points, CompensatedSum, Point, Weights};
 
 /// Largest cost matrix [`euclidean_costs`] builds (cells): 8 bytes each, so about 800 MB.
 pub const MAX_COST_CELLS: usize = 100_000_000;
-
-/// A dense row-major `rows × columns` matrix of finite, non-negative costs: row `i` is a
-/// demand point, column `j` a candidate site.
-#[derive(Debug, Clone, Copy)]
-pub struct CostMatrix<'a> {
-    values: &'a [f64],
-    rows: usize,
-    columns: usize,
-}
-
-impl<'a> CostMatrix<'a> {
-    /// Check and wrap `values` (row-major, `rows × columns`).
-    ///
-    /// # Errors
-    /// [`Error::TooFewPoints`] for an empty dimension; [`Error::InvalidParameter`] naming
-    /// `costs` for a length that does not match the shape; [`Error::InvalidCost`] naming the
-    /// cell `costs[row, column]` of the first NaN, infinite or negative cost.
-    pub fn new(values: &'a [f64], rows: usize, columns: usize) -> Result<CostMatrix<'a>> {
-        if rows == 0 {
-            return Err(Error::TooFewPoints { argument: "costs", needed: 1, got: 0, counted: "demand rows" });
-        }
-        if columns == 0 {
-            return Err(Error::TooFewPoints { argument: "costs", needed: 1, got: 0, counted: "candidate columns" });
-        }
-        if values.len() != rows * columns {
-            return Err(Error::InvalidParameter {
-                name: "costs",
-                reason: format!("{} values do not fill a {rows} × {columns} matrix", values.len()),
-            });
-        }
-        // `!(v >= 0.0)` also catches NaN.
-        if let Some(k) = values.iter().position(|&v| !(v >= 0.0) || !v.is_finite()) {
-            return Err(Error::InvalidCost {
-                argument: "costs",
-                row: k / columns,
-                column: k % columns,
-                value: values[k],
-            });
-        }
-        Ok(CostMatrix { values, rows, columns })
-    }
-
-    /// Number of demand points (rows).
-    pub fn rows(&self) -> usize {
-        self.rows
-    }
-
-    /// Number of candidates (columns).
-    pub fn columns(&self) -> usize {
-        self.columns
-    }
-
-    /// The costs of demand point `i` to every candidate.
-    #[inline]
-    pub(crate) fn row(&self, i: usize) -> &'a [f64] {
-        &self.values[i * self.columns..(i + 1) * self.columns]
-    }
-
-    /// The largest cost in the matrix.
-    fn max_cost(&self) -> f64 {
-        self.values.iter().copied().fold(0.0, f64::max)
-    }
-}
 
 /// Euclidean costs of serving every point from every candidate, row-major `n × m`.
 ///
@@ -138,7 +80,7 @@ fn check_sites(argument: &'static str, sites: &[usize], columns: usize) -> Resul
 
 /// Check `p ≥ 1` new sites, that `p` plus the fixed ones fit among the candidates, and the
 /// fixed sites themselves.
-fn check_choice(costs: &CostMatrix<'_>, p: usize, fixed: &[usize]) -> Result<()> {
+fn check_choice(costs: &Costs<'_>, p: usize, fixed: &[usize]) -> Result<()> {
     check_sites("fixed", fixed, costs.columns())?;
     if p == 0 {
         return Err(Error::InvalidParameter { name: "p", reason: "must be at least 1; got 0".into() });
@@ -180,6 +122,9 @@ pub struct Coverage {
     pub covered_share: f64,
 }
 
+/// The assignment of a point that no open site may serve.
+pub const UNSERVED: usize = usize::MAX;
+
 /// How a set of open candidates serves the demand, every point by its cheapest open site.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SiteService {
@@ -188,7 +133,8 @@ pub struct SiteService {
     /// `fixed[k]`: open site `k` was given (kept), not chosen.
     pub fixed: Vec<bool>,
     /// `assignment[i]`: position in `open` of point `i`'s cheapest open site (the smallest
-    /// column among equally cheap ones).
+    /// column among equally cheap ones); [`UNSERVED`] when no open site may serve it (a
+    /// sparse source without the pair), its cost then being infinite.
     pub assignment: Vec<usize>,
     /// `cost[i]`: cost from point `i` to its site.
     pub cost: Vec<f64>,
@@ -216,13 +162,7 @@ impl SiteService {
     ///
     /// # Runtime
     /// O(n · |open|).
-    fn of(
-        costs: &CostMatrix<'_>,
-        weights: Weights<'_>,
-        mut open: Vec<usize>,
-        fixed: &[usize],
-        radius: Option<f64>,
-    ) -> Self {
+    fn of(costs: &Costs<'_>, weights: Weights<'_>, mut open: Vec<usize>, fixed: &[usize], radius: Option<f64>) -> Self {
         open.sort_unstable();
         let n = costs.rows();
         let (mut assignment, mut cost) = (Vec::with_capacity(n), Vec::with_capacity(n));
@@ -232,28 +172,35 @@ impl SiteService {
             (CompensatedSum::default(), CompensatedSum::default(), CompensatedSum::default());
         let (mut worst_cost, mut weighted_worst) = (0.0f64, 0.0f64);
         for i in 0..n {
-            let row = costs.row(i);
             let w = weights.get(i);
             // Strict `<` keeps the smallest column among equally cheap sites (open is ascending).
-            let (mut best, mut at) = (f64::INFINITY, 0);
+            let (mut best, mut at) = (f64::INFINITY, UNSERVED);
+            let mut within = 0;
             for (k, &j) in open.iter().enumerate() {
-                if row[j] < best {
-                    (best, at) = (row[j], k);
+                if let Some(c) = costs.cost(i, j) {
+                    if c < best {
+                        (best, at) = (c, k);
+                    }
+                    within += usize::from(radius.is_some_and(|r| c <= r));
                 }
             }
             assignment.push(at);
             cost.push(best);
-            load[at] += w;
-            count[at] += 1;
-            total.add(w * best);
+            if at != UNSERVED {
+                load[at] += w;
+                count[at] += 1;
+            }
+            // A point of weight 0 adds nothing, even when no open site may serve it.
+            if w > 0.0 {
+                total.add(w * best);
+            }
             total_weight.add(w);
             worst_cost = worst_cost.max(best);
-            weighted_worst = weighted_worst.max(w * best);
-            if let Some(r) = radius {
-                let c = open.iter().filter(|&&j| row[j] <= r).count();
-                covering.push(c);
-                covered.push(c > 0);
-                if c > 0 {
+            weighted_worst = weighted_worst.max(if w > 0.0 { w * best } else { 0.0 });
+            if radius.is_some() {
+                covering.push(within);
+                covered.push(within > 0);
+                if within > 0 {
                     covered_weight.add(w);
                 }
             }
@@ -290,9 +237,10 @@ impl SiteService {
 /// # Errors
 /// [`Error::InvalidWeight`], [`Error::LengthMismatch`] or [`Error::AllWeightsZero`] for bad
 /// weights; [`Error::InvalidParameter`] for no sites, a column out of range or repeated, or
-/// a radius that is not finite and positive.
+/// a radius that is not finite and positive. A point that no given site may serve (a sparse
+/// source) is reported with [`UNSERVED`] and an infinite cost, not refused.
 pub fn evaluate_sites(
-    costs: &CostMatrix<'_>,
+    costs: &Costs<'_>,
     weights: Weights<'_>,
     sites: &[usize],
     radius: Option<f64>,
@@ -314,18 +262,24 @@ pub fn evaluate_sites(
 /// deterministic).
 fn sum_rows(rows: usize, len: usize, add: impl Fn(usize, &mut [f64]) + Sync) -> Vec<f64> {
     use rayon::prelude::*;
-    const BLOCK: usize = 256;
-    let blocks: Vec<Vec<f64>> = (0..rows.div_ceil(BLOCK))
-        .into_par_iter()
-        .map(|b| {
-            let mut acc = vec![0.0; len];
-            (b * BLOCK..((b + 1) * BLOCK).min(rows)).for_each(|i| add(i, &mut acc));
-            acc
-        })
-        .collect();
+    // Blocks of rows whose size depends on the problem only (never on the thread count),
+    // summed a wave of blocks at a time so that memory stays at WAVE accumulators.
+    const WAVE: usize = 16;
+    let block = 256.max(rows.div_ceil(256));
+    let blocks = rows.div_ceil(block);
     let mut total = vec![0.0; len];
-    for block in blocks {
-        total.iter_mut().zip(block).for_each(|(t, v)| *t += v);
+    for wave in (0..blocks).step_by(WAVE) {
+        let sums: Vec<Vec<f64>> = (wave..(wave + WAVE).min(blocks))
+            .into_par_iter()
+            .map(|b| {
+                let mut acc = vec![0.0; len];
+                (b * block..((b + 1) * block).min(rows)).for_each(|i| add(i, &mut acc));
+                acc
+            })
+            .collect();
+        for sum in sums {
+            total.iter_mut().zip(sum).for_each(|(t, v)| *t += v);
+        }
     }
     total
 }
@@ -379,7 +333,7 @@ mod tests {
     fn evaluation_of_a_hand_checked_network() {
         // Three points, three candidates; sites 0 and 2 open, radius 2.
         let values = [1.0, 5.0, 3.0, 4.0, 0.0, 2.0, 6.0, 1.0, 6.0];
-        let costs = CostMatrix::new(&values, 3, 3).unwrap();
+        let costs = Costs::from(CostMatrix::new(&values, 3, 3).unwrap());
         let s = evaluate_sites(&costs, Weights::Given(&[1.0, 2.0, 1.0]), &[2, 0], Some(2.0)).unwrap();
         assert_eq!(s.open, vec![0, 2]);
         // Point 2 costs 6 from both: the smaller column (0) serves it.
@@ -397,7 +351,7 @@ mod tests {
         assert_eq!(e.to_string(), "costs[1, 0] = NaN; every cost must be finite and >= 0");
         let e = CostMatrix::new(&[1.0, -1.0], 1, 2).unwrap_err();
         assert_eq!(e.to_string(), "costs[0, 1] = -1; every cost must be finite and >= 0");
-        let costs = CostMatrix::new(&[1.0, 2.0], 1, 2).unwrap();
+        let costs = Costs::from(CostMatrix::new(&[1.0, 2.0], 1, 2).unwrap());
         assert!(evaluate_sites(&costs, Weights::Unit, &[2], None).is_err());
         assert!(evaluate_sites(&costs, Weights::Unit, &[1, 1], None).is_err());
         assert!(evaluate_sites(&costs, Weights::Unit, &[1], Some(0.0)).is_err());
@@ -406,6 +360,58 @@ mod tests {
         assert!(check_choice(&costs, 2, &[]).is_ok());
         assert!(check_choice(&costs, 1, &[0]).is_ok());
         assert!(check_choice(&costs, 2, &[0]).is_err());
+    }
+
+    #[test]
+    fn every_model_agrees_on_planar_and_dense_sources() {
+        let mut rng = crate::geometry::random::SplitMix64::new(21);
+        let points: Vec<Point> = (0..60).map(|_| [rng.next_f64() * 50.0, rng.next_f64() * 50.0]).collect();
+        let candidates: Vec<Point> = (0..15).map(|_| [rng.next_f64() * 50.0, rng.next_f64() * 50.0]).collect();
+        let w: Vec<f64> = (0..60).map(|_| 1.0 + (rng.next_f64() * 5.0).floor()).collect();
+        let values = euclidean_costs(&points, &candidates).unwrap();
+        let dense = Costs::from(CostMatrix::new(&values, 60, 15).unwrap());
+        let planar = Costs::from(PlanarCosts::new(&points, &candidates).unwrap());
+        let w = Weights::Given(&w);
+        let opts = DiscreteMedianOptions::default();
+        for p in [1, 3, 5] {
+            let (a, b) = (
+                discrete_p_median(&dense, w, p, &[2], &opts).unwrap(),
+                discrete_p_median(&planar, w, p, &[2], &opts).unwrap(),
+            );
+            assert_eq!((a.service.open, a.service.total_cost), (b.service.open, b.service.total_cost));
+            let (a, b) =
+                (discrete_p_center(&dense, w, p, &[]).unwrap(), discrete_p_center(&planar, w, p, &[]).unwrap());
+            assert_eq!((a.service.weighted_worst, a.lower_bound), (b.service.weighted_worst, b.lower_bound));
+            let (a, b) = (cover_most(&dense, w, p, 12.0, &[]).unwrap(), cover_most(&planar, w, p, 12.0, &[]).unwrap());
+            assert_eq!((a.service.open, a.upper_bound), (b.service.open, b.upper_bound));
+        }
+        let (a, b) = (cover_all(&dense, w, 30.0, &[]).unwrap(), cover_all(&planar, w, 30.0, &[]).unwrap());
+        assert_eq!((a.service.open, a.lower_bound), (b.service.open, b.lower_bound));
+    }
+
+    #[test]
+    fn sparse_pairs_are_never_used_when_absent() {
+        // Points 0..6 on a line, candidates on them; point i may use only candidates i and i ± 1.
+        let (mut offsets, mut indices, mut values) = (vec![0], Vec::new(), Vec::new());
+        for i in 0..6usize {
+            for j in i.saturating_sub(1)..(i + 2).min(6) {
+                indices.push(j);
+                values.push((i as f64 - j as f64).abs());
+            }
+            offsets.push(indices.len());
+        }
+        let costs = Costs::from(SparseCosts::new(&offsets, &indices, &values, 6, 6).unwrap());
+        let r = discrete_p_median(&costs, Weights::Unit, 2, &[], &DiscreteMedianOptions::default()).unwrap();
+        // Hand-checked: sites 1 and 4 serve everyone at cost 1 each except themselves.
+        assert_eq!((r.service.open.clone(), r.service.total_cost), (vec![1, 4], 4.0));
+        let e = discrete_p_median(&costs, Weights::Unit, 1, &[], &DiscreteMedianOptions::default()).unwrap_err();
+        assert!(e.to_string().contains("at least 2 are needed"), "{e}");
+        let c = discrete_p_center(&costs, Weights::Unit, 2, &[]).unwrap();
+        assert_eq!((c.service.weighted_worst, c.lower_bound), (1.0, 1.0));
+        // Evaluation of one site: points out of its reach are unserved, not refused.
+        let s = evaluate_sites(&costs, Weights::Unit, &[0], None).unwrap();
+        assert_eq!(s.assignment[3], UNSERVED);
+        assert!(s.cost[3].is_infinite());
     }
 
     #[test]

@@ -3,7 +3,7 @@
 
 use numpy::{PyArray1, PyArray2, PyArrayMethods, PyReadonlyArray1, PyReadonlyArray2, PyUntypedArrayMethods};
 use pyo3::prelude::*;
-use pyo3::types::PyDict;
+use pyo3::types::{PyDict, PyTuple};
 
 use super::convert::{
     as_point_slice, count_arg, float_arg, index_values, matrix_arg, optional_float_arg, points_arg, weights_arg,
@@ -12,8 +12,8 @@ use super::errors::argument_error;
 use super::fields::Fields;
 use super::run_detached;
 use crate::discrete::{
-    cover_all, cover_most, discrete_p_center, discrete_p_median, euclidean_costs, evaluate_sites, CostMatrix,
-    DiscreteMedianOptions, SiteService,
+    circle_intersections, cover_all, cover_most, discrete_p_center, discrete_p_median, euclidean_costs, evaluate_sites,
+    with_planar_costs, CostMatrix, Costs, DiscreteMedianOptions, SiteService, SparseCosts, MAX_DOMINATING_CANDIDATES,
 };
 use crate::geometry::Weights;
 
@@ -57,7 +57,8 @@ fn service<'py>(py: Python<'py>, fields: Fields<'py>, s: &SiteService) -> PyResu
     fields
         .put("open", PyArray1::from_vec(py, index_values(s.open.clone())))?
         .put("fixed", PyArray1::from_slice(py, &s.fixed))?
-        .put("assignment", PyArray1::from_vec(py, index_values(s.assignment.clone())))?
+        // A point no open site may serve (UNSERVED) reads -1.
+        .put("assignment", PyArray1::from_vec(py, s.assignment.iter().map(|&a| a as i64).collect::<Vec<i64>>()))?
         .put("cost", PyArray1::from_slice(py, &s.cost))?
         .put("load", PyArray1::from_slice(py, &s.load))?
         .put("count", PyArray1::from_vec(py, index_values(s.count.clone())))?
@@ -77,19 +78,57 @@ fn radius_arg(radius: &Bound<'_, PyAny>) -> PyResult<f64> {
     float_arg(radius, "radius", "finite and > 0", |r| r.is_finite() && r > 0.0)
 }
 
-/// Run `kernel` on the checked cost matrix and weights.
+/// Non-negative integer entries of a one-dimensional array (CSR offsets or columns).
+fn index_vec(obj: &Bound<'_, PyAny>, what: &str) -> PyResult<Vec<usize>> {
+    let numpy = obj.py().import("numpy")?;
+    let flat = numpy.call_method1("ascontiguousarray", (obj, "int64"))?.call_method1("reshape", (-1,))?;
+    let values: PyReadonlyArray1<'_, i64> = flat.cast_into::<PyArray1<i64>>()?.readonly();
+    values
+        .as_array()
+        .iter()
+        .map(|&v| usize::try_from(v).map_err(|_| argument_error("costs", format!("costs: negative {what} {v}"))))
+        .collect()
+}
+
+/// Run `kernel` on the checked costs and weights. `costs` is a dense `(n, m)` array, or a
+/// tagged tuple from the Python layer: `("csr", offsets, columns, values, n, m)` for the
+/// allowed pairs of a sparse matrix, `("planar", points, candidates)` for straight-line
+/// costs (held densely only when small; see `with_planar_costs`).
 fn with_costs<'py, T: Send>(
     py: Python<'py>,
     costs: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
-    kernel: impl FnOnce(&CostMatrix<'_>, Weights<'_>) -> crate::Result<T> + Send,
+    kernel: impl FnOnce(&Costs<'_>, Weights<'_>) -> crate::Result<T> + Send,
 ) -> PyResult<T> {
-    let array = costs_arg(costs)?;
     let weights = weights_arg(weights, "weights")?;
+    let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
+    if let Ok(tagged) = costs.cast::<PyTuple>() {
+        let tag: String = tagged.get_item(0)?.extract()?;
+        if tag == "csr" && tagged.len() == 6 {
+            let offsets = index_vec(&tagged.get_item(1)?, "row offset")?;
+            let indices = index_vec(&tagged.get_item(2)?, "column")?;
+            let numpy = py.import("numpy")?;
+            let data = numpy.call_method1("ascontiguousarray", (tagged.get_item(3)?, "float64"))?;
+            let data: PyReadonlyArray1<'_, f64> = data.cast_into::<PyArray1<f64>>()?.readonly();
+            let (rows, columns): (usize, usize) = (tagged.get_item(4)?.extract()?, tagged.get_item(5)?.extract()?);
+            let values = data.as_slice()?;
+            return run_detached(py, || {
+                let source = SparseCosts::new(&offsets, &indices, values, rows, columns)?;
+                kernel(&Costs::from(source), Weights::from_option(w))
+            });
+        }
+        if tag == "planar" && tagged.len() == 3 {
+            let pts = points_arg(&tagged.get_item(1)?, "points")?;
+            let cands = points_arg(&tagged.get_item(2)?, "candidates")?;
+            let (a, b) = (as_point_slice(&pts), as_point_slice(&cands));
+            return run_detached(py, || with_planar_costs(a, b, |c| kernel(c, Weights::from_option(w))));
+        }
+        return Err(argument_error("costs", "costs must be a matrix of shape (n, m)".to_string()));
+    }
+    let array = costs_arg(costs)?;
     let (rows, columns) = (array.shape()[0], array.shape()[1]);
     let values = array.as_slice()?;
-    let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
-    run_detached(py, || kernel(&CostMatrix::new(values, rows, columns)?, Weights::from_option(w)))
+    run_detached(py, || kernel(&Costs::from(CostMatrix::new(values, rows, columns)?), Weights::from_option(w)))
 }
 
 /// The Euclidean cost matrix `(n, m)` from points to candidates.
@@ -104,6 +143,22 @@ fn discrete_euclidean_costs<'py>(
     let (a, b) = (as_point_slice(&pts), as_point_slice(&cands));
     let values = run_detached(py, || euclidean_costs(a, b))?;
     PyArray1::from_vec(py, values).reshape([a.len(), b.len()])
+}
+
+/// Candidate sites for coverage anywhere in the plane within `radius` of `points` (the
+/// finite dominating set), `(k, 2)`.
+#[pyfunction]
+fn discrete_circle_candidates<'py>(
+    py: Python<'py>,
+    points: &Bound<'py, PyAny>,
+    radius: &Bound<'py, PyAny>,
+) -> PyResult<Bound<'py, PyArray2<f64>>> {
+    let radius = radius_arg(radius)?;
+    let pts = points_arg(points, "points")?;
+    let a = as_point_slice(&pts);
+    let out = run_detached(py, || circle_intersections(a, radius, MAX_DOMINATING_CANDIDATES))?;
+    let k = out.len();
+    PyArray1::from_vec(py, out.into_iter().flatten().collect()).reshape([k, 2])
 }
 
 /// Fields: the service (open, fixed, assignment, cost, load, count, totals, coverage).
@@ -212,6 +267,7 @@ fn discrete_cover_most<'py>(
 pub(super) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(discrete_euclidean_costs, m)?)?;
     m.add_function(wrap_pyfunction!(discrete_evaluate, m)?)?;
+    m.add_function(wrap_pyfunction!(discrete_circle_candidates, m)?)?;
     m.add_function(wrap_pyfunction!(discrete_p_median_single, m)?)?;
     m.add_function(wrap_pyfunction!(discrete_p_center_single, m)?)?;
     m.add_function(wrap_pyfunction!(discrete_cover_all, m)?)?;

@@ -1,0 +1,177 @@
+"""Coverage standards and today's network on coordinates.
+
+* :func:`cover_all` — the fewest sites, among candidate locations or anywhere, putting
+  every point within ``radius`` (location set covering; Toregas, Swain, ReVelle & Bergman 1971);
+* :func:`cover_most` — ``p`` sites covering the most weight within ``radius`` (maximal
+  covering; Church & ReVelle 1974);
+* :func:`evaluate_sites` — how the sites of an existing network serve the demand, with the
+  same numbers the planners report, so a plan and the status quo compare line by line.
+
+They take coordinates and delegate to :mod:`placewise.discrete` with straight-line costs,
+computed when asked (no ``n × m`` matrix is held when it would not fit; the candidates
+within the radius come from an R*-tree). Results report the sites, the covered weight and
+share, the uncovered points, every point's number of covering sites (backup coverage;
+Hogan & ReVelle 1986), a proven bound and ``.plot()`` with the coverage disks.
+
+Sites from these functions are planning aids under the stated model (straight-line
+distance, a single coverage standard); they defer to local regulations and licensed
+professional judgement.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from numpy.typing import ArrayLike
+
+from . import discrete
+
+__all__ = ["cover_all", "cover_most", "evaluate_sites"]
+
+
+def _candidates(points: ArrayLike, radius: float, candidates: ArrayLike | None) -> ArrayLike:
+    """The given candidates, or for sites anywhere the finite dominating set of Church (1984):
+    the points and the intersections of the circles of ``radius`` around them, one per
+    distinct set of covered points (computed by the kernel)."""
+    if candidates is not None:
+        return candidates
+    from . import _core
+
+    return _core.discrete_circle_candidates(points, radius)
+
+
+def cover_all(
+    points: ArrayLike, radius: float, *, weights: ArrayLike | None = None, candidates: ArrayLike | None = None,
+    unit: str = "u",
+) -> discrete.CoverAllSelection:
+    """The fewest sites among ``candidates`` such that every point is within ``radius``.
+
+    See :func:`placewise.discrete.cover_all` for the method and the proven lower bound.
+
+    Parameters
+    ----------
+    points : array_like, shape (n, 2)
+        Demand locations (planar coordinates).
+    radius : float
+        The coverage standard, in the coordinates' unit, finite and > 0.
+    weights : array_like, shape (n,), optional
+        Demand per point, for the reported loads and covered weight.
+    candidates : array_like, shape (m, 2), optional
+        Possible site locations. Default: sites anywhere in the plane, chosen exactly among
+        the finite dominating set of Church (1984) — the points and the intersection points
+        of the circles of ``radius`` around them (pulled a relative 1e-9 toward their pair's
+        midpoint so rounding never uncovers a point), kept once per distinct set of covered
+        points; the result's ``candidates`` then holds that set and ``open`` indexes it.
+        Refused when over 4 million such candidates arise.
+    unit : str
+        Name of the coordinates' unit, used in column names.
+
+    Returns
+    -------
+    placewise.discrete.CoverAllSelection
+        ``open`` (candidate indices), ``sites`` (their coordinates), ``covering`` per point
+        and ``lower_bound``.
+
+    Raises
+    ------
+    InputError
+        For ``radius <= 0``, bad coordinates or weights, too many intersection points, or a
+        point no candidate covers (naming the point and its nearest candidate's distance).
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> homes = [[0, 0], [1, 0], [9, 0], [10, 1]]
+    >>> cover = pw.cover_all(homes, 1.5, candidates=[[0.5, 0], [5, 0], [9.5, 0.5]])
+    >>> cover.open, cover.sites.tolist(), cover.lower_bound
+    (array([0, 2]), [[0.5, 0.0], [9.5, 0.5]], 2)
+    >>> pw.cover_all([[0, 0], [1, 1]], 5.0, candidates=[[0, 0]]).chosen   # one site covers all
+    1
+    >>> anywhere = pw.cover_all([[0, 0], [2, 0], [9, 0]], 1.5)     # sites anywhere in the plane
+    >>> anywhere.chosen, anywhere.lower_bound, anywhere.covering.tolist()
+    (2, 2, [1, 1, 1])
+    """
+    return discrete.cover_all_planar(points, _candidates(points, radius, candidates), radius, weights, unit=unit)
+
+
+def cover_most(
+    points: ArrayLike, p: int, radius: float, weights: ArrayLike | None = None, *,
+    candidates: ArrayLike | None = None, fixed: ArrayLike | None = None, unit: str = "u",
+) -> discrete.CoverMostSelection:
+    """``p`` sites among ``candidates`` covering the most weight within ``radius``.
+
+    See :func:`placewise.discrete.cover_most` for the method and the proven upper bound.
+
+    Parameters
+    ----------
+    points, radius, candidates, unit
+        As :func:`cover_all`.
+    p : int
+        Number of new sites.
+    weights : array_like, shape (n,), optional
+        Demand per point. Default: all 1.
+    fixed : array_like of int, optional
+        Indices of candidates that are open already (existing sites).
+
+    Returns
+    -------
+    placewise.discrete.CoverMostSelection
+
+    Raises
+    ------
+    InputError
+        As :func:`cover_all`, and for ``p`` larger than the candidates not fixed.
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> villages = [[0, 0], [1, 0], [8, 0], [9, 0], [9, 1]]
+    >>> best = pw.cover_most(villages, 1, 1.5, [5, 5, 1, 1, 1], candidates=[[0.5, 0], [8.5, 0.5]])
+    >>> best.open, float(best.covered_weight), best.covering.tolist()
+    (array([0]), 10.0, [1, 1, 0, 0, 0])
+    >>> float(pw.cover_most(villages, 1, 1.5, [1, 1, 1, 1, 1]).covered_weight)   # anywhere: 3 villages
+    3.0
+    """
+    candidates = _candidates(points, radius, candidates)
+    return discrete.cover_most_planar(points, candidates, p, radius, weights, fixed=fixed, unit=unit)
+
+
+def evaluate_sites(
+    points: ArrayLike, sites: ArrayLike, weights: ArrayLike | None = None, *, radius: float | None = None,
+    unit: str = "u",
+) -> discrete.SiteEvaluation:
+    """How the existing ``sites`` serve the demand: every point to its nearest site.
+
+    Total and mean weighted distance, worst distance, loads and (with ``radius``) coverage —
+    the numbers the planners report, so a plan and today's network compare line by line.
+
+    Parameters
+    ----------
+    points : array_like, shape (n, 2)
+        Demand locations.
+    sites : array_like, shape (k, 2)
+        The sites of the network as it is.
+    weights : array_like, shape (n,), optional
+        Demand per point. Default: all 1.
+    radius : float, optional
+        Coverage standard, finite and > 0.
+    unit : str
+        Name of the coordinates' unit.
+
+    Returns
+    -------
+    placewise.discrete.SiteEvaluation
+        ``open`` holds the row of each site in ``sites``.
+
+    Examples
+    --------
+    >>> import placewise as pw
+    >>> now = pw.evaluate_sites([[0, 0], [3, 4], [10, 0]], [[0, 0], [10, 0]], radius=4)
+    >>> float(now.total_cost), float(now.worst_cost), now.covered.tolist()
+    (5.0, 5.0, [True, False, True])
+    """
+    # Every given site is open; the kernel checks the coordinates themselves.
+    try:
+        rows = np.arange(len(sites))  # type: ignore[arg-type]
+    except TypeError:
+        rows = np.arange(0)
+    return discrete.evaluate_sites_planar(points, sites, rows, weights, radius=radius, unit=unit)

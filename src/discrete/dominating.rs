@@ -1,0 +1,110 @@
+//! Candidate sites for coverage anywhere in the plane: a finite dominating set.
+//!
+//! For Euclidean coverage within a radius `r`, some optimal set of sites lies among the
+//! demand points and the intersection points of the circles of radius `r` around them
+//! (Church 1984): any site can slide, keeping every point it covers, until two circles (or a
+//! point) pin it. Circles meet only for points at most `2r` apart, found in an R*-tree.
+//! Candidates covering exactly the same points are kept once (the first), a reduction by
+//! dominance; the covering models then choose among them.
+
+use std::collections::HashSet;
+
+use rayon::prelude::*;
+use rstar::primitives::GeomWithData;
+use rstar::RTree;
+
+use super::check_radius;
+use crate::error::{Error, Result};
+use crate::geometry::{distance, validate_points, Point};
+
+/// Most candidate sites [`circle_intersections`] generates before refusing.
+pub const MAX_DOMINATING_CANDIDATES: usize = 4_000_000;
+
+/// The demand points and the pairwise intersection points of the circles of radius `radius`
+/// around them, one per distinct set of covered points (see the module docs).
+///
+/// Each intersection point is moved toward the midpoint of its two points by a relative
+/// `1e-9` of its distance to it, so rounding never leaves either point outside the radius
+/// (the midpoint is within the radius of both, and both disks are convex).
+///
+/// # Errors
+/// Bad `points`; [`Error::InvalidParameter`] naming `radius` when it is not finite and
+/// positive, or when more than `limit` candidates arise (dense points for the radius).
+///
+/// # Runtime
+/// O(n log n + K log n) for K pairs within `2 · radius`.
+pub fn circle_intersections(points: &[Point], radius: f64, limit: usize) -> Result<Vec<Point>> {
+    validate_points("points", points, 1)?;
+    check_radius(radius)?;
+    let tree: RTree<GeomWithData<Point, usize>> =
+        RTree::bulk_load(points.iter().enumerate().map(|(i, &p)| GeomWithData::new(p, i)).collect());
+    let reach = 2.0 * radius;
+    let mut candidates: Vec<Point> = points.to_vec();
+    for (i, &a) in points.iter().enumerate() {
+        for q in tree.locate_within_distance(a, reach * reach) {
+            let (j, b) = (q.data, *q.geom());
+            let d = distance(a, b);
+            if j <= i || d == 0.0 || d > reach {
+                continue;
+            }
+            let mid = [(a[0] + b[0]) / 2.0, (a[1] + b[1]) / 2.0];
+            let h = (radius * radius - d * d / 4.0).max(0.0).sqrt();
+            let normal = [-(b[1] - a[1]) / d, (b[0] - a[0]) / d];
+            for sign in [1.0, -1.0] {
+                let c = [mid[0] + sign * h * normal[0], mid[1] + sign * h * normal[1]];
+                candidates.push([c[0] + (mid[0] - c[0]) * 1e-9, c[1] + (mid[1] - c[1]) * 1e-9]);
+            }
+            if candidates.len() > limit {
+                return Err(Error::InvalidParameter {
+                    name: "radius",
+                    reason: format!(
+                        "the circles of radius {radius} around the points meet in more than {limit} places; pass \
+                         candidate sites or use fewer points"
+                    ),
+                });
+            }
+        }
+    }
+    // Dominance: one candidate per distinct set of covered points (the first, so demand
+    // points come before intersection points).
+    let sets: Vec<Vec<usize>> = candidates
+        .par_iter()
+        .map(|&c| {
+            let mut set: Vec<usize> = tree
+                .locate_within_distance(c, radius * radius * (1.0 + 1e-12))
+                .filter(|q| distance(c, *q.geom()) <= radius)
+                .map(|q| q.data)
+                .collect();
+            set.sort_unstable();
+            set
+        })
+        .collect();
+    let mut seen = HashSet::with_capacity(sets.len());
+    Ok(candidates.into_iter().zip(sets).filter(|(_, set)| seen.insert(set.clone())).map(|(c, _)| c).collect())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn two_points_closer_than_the_diameter_meet_twice() {
+        // Closed form: points (0, 0) and (2, 0), radius √2: circles meet at (1, ±1), each
+        // covering both points; the two points cover only themselves.
+        let c = circle_intersections(&[[0.0, 0.0], [2.0, 0.0]], 2f64.sqrt(), 100).unwrap();
+        // (1, 1) and (1, -1) cover the same pair: one is kept.
+        assert_eq!(c.len(), 3);
+        assert!((c[2][0] - 1.0).abs() < 1e-8 && (c[2][1].abs() - 1.0).abs() < 1e-8, "{c:?}");
+        for p in [[0.0, 0.0], [2.0, 0.0]] {
+            assert!(distance(c[2], p) <= 2f64.sqrt());
+        }
+    }
+
+    #[test]
+    fn too_many_intersections_are_refused() {
+        let points: Vec<Point> = (0..30).map(|i| [f64::from(i) * 0.01, 0.0]).collect();
+        let e = circle_intersections(&points, 1.0, 50).unwrap_err();
+        assert!(e.to_string().starts_with("radius: the circles of radius 1 around the points meet in more than 50"));
+        assert!(circle_intersections(&points, 0.0, 50).is_err());
+    }
+}
