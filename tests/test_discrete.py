@@ -427,3 +427,25 @@ def test_structured_errors_carry_the_row() -> None:
         discrete.cover_all(costs, 5.0)
     assert caught.value.row == 1
     assert "points[1] has no candidate within radius 5; its cheapest candidate, column 1, costs 7" in str(caught.value)
+
+
+def test_candidates_outside_a_region_never_open_and_keep_their_numbers() -> None:
+    import itertools
+
+    rng = np.random.default_rng(31)
+    points = rng.uniform(0, 10, (60, 2))
+    candidates = rng.uniform(0, 10, (25, 2))
+    region = [[0, 0], [10, 0], [10, 5], [0, 5]]  # the lower half only
+    inside = np.flatnonzero(candidates[:, 1] <= 5)
+    plan = pw.p_median(points, 3, candidates=candidates, region=region)
+    assert set(plan.open.tolist()) <= set(inside.tolist())
+    np.testing.assert_array_equal(plan.sites, candidates[plan.open])
+    # Outside reference: brute force over every 3 of the candidates inside the region.
+    d = np.hypot(*(points[:, None, :] - candidates[None, :, :]).transpose(2, 0, 1))
+    best = min(d[:, list(trio)].min(axis=1).sum() for trio in itertools.combinations(inside, 3))
+    assert plan.total_cost == pytest.approx(best, rel=1e-9)
+    with pytest.raises(pw.InputError, match="region holds none of the 25 candidates"):
+        pw.p_median(points, 3, candidates=candidates, region=[[20, 20], [30, 20], [30, 30]])
+    outside = int(np.flatnonzero(candidates[:, 1] > 5)[0])
+    with pytest.raises(pw.InputError, match="outside the region"):
+        pw.p_median(points, 1, candidates=candidates, fixed=[outside], region=region)
