@@ -8,7 +8,8 @@
 //! - `network`: Euclidean minimum spanning tree and Steiner trees.
 //! - `multi`: continuous p-median and p-center.
 //! - `batch`: the grouped runner every kernel uses for many groups at once.
-//! - `geometry`: shared point helpers, the one working frame and location key, exact predicates.
+//! - `geometry`: shared point helpers, the one working frame and location key, exact predicates,
+//!   the feasible region of sites (membership, projection, convex minimisation over its boundary).
 //! - `error`: the crate's one error type.
 //!
 //! The modules are private; the kernels, their options and results are re-exported below.

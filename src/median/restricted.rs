@@ -174,6 +174,14 @@ impl ConvexObjective for WeberObjective<'_> {
         Slope { value, left: slope - kink, right: slope + kink }
     }
 
+    fn subgradient(&self, x: Point) -> (f64, Point) {
+        // The smooth part's gradient is a subgradient (a data point at x adds a ball of
+        // radius its weight; its centre, zero, is one choice).
+        let along_x = self.slope(x, [1.0, 0.0]);
+        let along_y = self.slope(x, [0.0, 1.0]);
+        (along_x.value, [0.5 * (along_x.left + along_x.right), 0.5 * (along_y.left + along_y.right)])
+    }
+
     fn segment_bound(&self, s: [Point; 2]) -> f64 {
         let near = segment_distance(s, self.centre);
         let far = distance(s[0], self.centre).max(distance(s[1], self.centre));
