@@ -185,7 +185,8 @@ impl ConvexObjective for WeberObjective<'_> {
     fn segment_bound(&self, s: [Point; 2]) -> f64 {
         let near = segment_distance(s, self.centre);
         let far = distance(s[0], self.centre).max(distance(s[1], self.centre));
-        let rho = self.phi_minimiser().clamp(near, far);
+        // max then min rather than clamp: with overflowing coordinates the ends may be NaN.
+        let rho = self.phi_minimiser().max(near).min(far);
         // Shaved by a rounding allowance so that rounding never rules out the best edge.
         (self.phi(rho).max(self.cells.sum_bound(s)) * (1.0 - 1e-9)).max(self.free_lower)
     }
@@ -322,5 +323,14 @@ mod tests {
         }
         // The outer square lies far from the demand's middle: its edges are ruled out by the bound.
         assert!(got.edges_searched <= 4, "{got:?}");
+    }
+
+    #[test]
+    fn overflowing_coordinates_do_not_panic() {
+        // Found by the hostile-input property test: distances overflow to infinity.
+        let r = region(&[vec![[1.0, 1.0], [4.0, 1.0], [4.0, 2.0], [2.0, 2.0], [2.0, 4.0], [1.0, 4.0]]]);
+        let pts = [[8.98846567e307, 8.98846567e307]];
+        let got = weber_point_in_region(&pts, Weights::Unit, &r, &WeberOptions::default()).unwrap();
+        assert!(r.contains(got.point.location));
     }
 }
