@@ -13,7 +13,8 @@
 //! - `capacity`: capacitated allocation (transportation problem) and capacitated p-median.
 //! - `travel`: street-network graph (CSR), snapping to edges, shortest travel costs, network catchments.
 //! - `batch`: the grouped runner every kernel uses for many groups at once.
-//! - `geometry`: shared point helpers, the one working frame and location key, exact predicates.
+//! - `geometry`: shared point helpers, the one working frame and location key, exact predicates,
+//!   the feasible region of sites (membership, projection, convex minimisation over its boundary).
 //! - `error`: the crate's one error type.
 //!
 //! The modules are private; the kernels, their options and results are re-exported below.

@@ -108,6 +108,25 @@ impl ConvexObjective for MinimaxObjective<'_> {
         Slope { value, left, right }
     }
 
+    fn subgradient(&self, x: Point) -> (f64, Point) {
+        // The gradient of one term attaining the maximum is a subgradient of the maximum.
+        let (value, i) = (0..self.points.len())
+            .into_par_iter()
+            .with_min_len(4096)
+            .map(|i| (self.weights.get(i) * distance(self.points[i], x), i))
+            .reduce(
+                || (f64::NEG_INFINITY, usize::MAX),
+                |a, b| if b.0 > a.0 || (b.0 == a.0 && b.1 < a.1) { b } else { a },
+            );
+        let delta = sub(x, self.points[i]);
+        let d = norm(delta);
+        if !(d > 0.0) {
+            return (value.max(0.0), [0.0, 0.0]);
+        }
+        let w = self.weights.get(i);
+        (value, [w * delta[0] / d, w * delta[1] / d])
+    }
+
     fn segment_bound(&self, s: [Point; 2]) -> f64 {
         let bound = self.support.iter().map(|&(p, w)| w * segment_distance(s, p)).fold(self.free_radius, f64::max);
         bound.max(self.cells.max_bound(s)) * (1.0 - 1e-9)

@@ -16,8 +16,8 @@
 //! - the pair bound, valid on any metric space: for any two points, a site within `r/wᵢ` of
 //!   `aᵢ` and `r/wⱼ` of `aⱼ` exists only if `s(aᵢ, aⱼ) ≤ r/wᵢ + r/wⱼ`, so
 //!   `F* ≥ s(aᵢ, aⱼ)·wᵢwⱼ/(wᵢ + wⱼ)` (exact when two points fix the optimum);
-//! - where the points lie in the cap on which geodesic distance is convex (see
-//!   [`super::weber`]), the convexity bound: for weights `λ` on the active points,
+//! - where the points and the centre lie in the cap on which geodesic distance is convex
+//!   (see [`super::weber`]), the convexity bound: for weights `λ` on the active points,
 //!   `F* ≥ Σλᵢ(wᵢsᵢ) − ‖Σλᵢwᵢuᵢ‖·D`, `uᵢ` the unit tangents at `c` and `D = 2F(c)/w_max` a
 //!   bound on the distance to the optimum (triangle inequality); `λ` is the minimal-norm
 //!   point of the convex hull of the active directions.
@@ -187,7 +187,8 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, options: &CenterOpti
             seen.iter().map(|s| [s.distance * s.direction[0], s.distance * s.direction[1]]).collect();
         let planar = minimax_point(&local, Weights::Given(&frame.weights))?;
         support = planar.support.clone();
-        lower = lower.max(lower_bound(&earth, points, &frame, &seen, &support, radius, convex));
+        let convex_here = convex && spread.holds(c);
+        lower = lower.max(lower_bound(&earth, points, &frame, &seen, &support, radius, convex_here));
         let mut step = planar.location;
         // Done when certified and the planar optimum is (to the tolerance) the centre itself: a
         // certified radius alone leaves the centre free to drift across a flat valley (two

@@ -21,8 +21,8 @@
 //! `s(x, y*) ≤ 2f(x)/W` by the triangle inequality; so `gap = ‖g‖·min(maxᵢ sᵢ, 2f/W)` bounds
 //! `cost − optimum` (plus an allowance for rounding and the inverse problem's accuracy).
 //!
-//! Convexity holds when every point lies within [`CONVEX_CAP_DEGREES`] of the points' mean
-//! direction (angles between ellipsoid normals): any two points of that cap are less than
+//! Convexity holds when every point, and the iterate, lie within [`CONVEX_CAP_DEGREES`] of
+//! the points' mean direction (angles between ellipsoid normals): any two points of that cap are less than
 //! 88° of arc apart, where the Hessian of geodesic distance `(M/m)(I − uuᵀ)` is still
 //! positive semi-definite (the geodesic scale `M` first vanishes near 90° of arc; the
 //! flattening moves that by well under a degree). Outside that cap no certificate is claimed:
@@ -63,6 +63,15 @@ pub(crate) struct Spread {
     /// Largest angle from the mean direction to a point, degrees (180 when the normals
     /// cancel out).
     pub radius_degrees: f64,
+}
+
+impl Spread {
+    /// True when `x` lies in the certified convex cap about the mean direction (so the
+    /// geodesic from `x` to an optimum stays where the objective is convex).
+    pub(crate) fn holds(&self, x: Point) -> bool {
+        self.radius_degrees <= CONVEX_CAP_DEGREES
+            && angle_between(unit_normal(self.centre), unit_normal(x)).to_degrees() <= CONVEX_CAP_DEGREES
+    }
 }
 
 /// The spread of the points of positive weight.
@@ -172,6 +181,7 @@ struct Problem<'a> {
     weights: Weights<'a>,
     total_weight: f64,
     certified: bool,
+    spread: Spread,
 }
 
 impl Problem<'_> {
@@ -222,8 +232,9 @@ impl Problem<'_> {
         total
     }
 
-    fn gap(&self, pass: &Pass) -> f64 {
-        if !self.certified {
+    /// The certified gap at `x` (infinite where no certificate holds).
+    fn gap(&self, x: Point, pass: &Pass) -> f64 {
+        if !(self.certified && self.spread.holds(x)) {
             return f64::INFINITY;
         }
         let cost = pass.cost();
@@ -302,9 +313,10 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
         weights,
         total_weight: total.total(),
         certified: spread.radius_degrees <= CONVEX_CAP_DEGREES,
+        spread,
     };
     let finish = |x: Point, pass: &Pass, iterations: usize| {
-        let gap = problem.gap(pass);
+        let gap = problem.gap(x, pass);
         WeberPoint {
             location: [super::earth::normalised_longitude(x[0]), x[1]],
             cost: pass.cost(),
@@ -333,7 +345,7 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
     let mut last_tested: Option<(usize, f64)> = None;
     loop {
         let done = if problem.certified {
-            problem.gap(&current) <= tol * current.cost()
+            problem.gap(x, &current) <= tol * current.cost()
         } else {
             problem.stationary(&current, tol)
         };

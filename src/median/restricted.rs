@@ -174,10 +174,19 @@ impl ConvexObjective for WeberObjective<'_> {
         Slope { value, left: slope - kink, right: slope + kink }
     }
 
+    fn subgradient(&self, x: Point) -> (f64, Point) {
+        // The smooth part's gradient is a subgradient (a data point at x adds a ball of
+        // radius its weight; its centre, zero, is one choice).
+        let along_x = self.slope(x, [1.0, 0.0]);
+        let along_y = self.slope(x, [0.0, 1.0]);
+        (along_x.value, [0.5 * (along_x.left + along_x.right), 0.5 * (along_y.left + along_y.right)])
+    }
+
     fn segment_bound(&self, s: [Point; 2]) -> f64 {
         let near = segment_distance(s, self.centre);
         let far = distance(s[0], self.centre).max(distance(s[1], self.centre));
-        let rho = self.phi_minimiser().clamp(near, far);
+        // max then min rather than clamp: with overflowing coordinates the ends may be NaN.
+        let rho = self.phi_minimiser().max(near).min(far);
         // Shaved by a rounding allowance so that rounding never rules out the best edge.
         (self.phi(rho).max(self.cells.sum_bound(s)) * (1.0 - 1e-9)).max(self.free_lower)
     }
@@ -314,5 +323,14 @@ mod tests {
         }
         // The outer square lies far from the demand's middle: its edges are ruled out by the bound.
         assert!(got.edges_searched <= 4, "{got:?}");
+    }
+
+    #[test]
+    fn overflowing_coordinates_do_not_panic() {
+        // Found by the hostile-input property test: distances overflow to infinity.
+        let r = region(&[vec![[1.0, 1.0], [4.0, 1.0], [4.0, 2.0], [2.0, 2.0], [2.0, 4.0], [1.0, 4.0]]]);
+        let pts = [[8.98846567e307, 8.98846567e307]];
+        let got = weber_point_in_region(&pts, Weights::Unit, &r, &WeberOptions::default()).unwrap();
+        assert!(r.contains(got.point.location));
     }
 }

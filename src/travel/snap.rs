@@ -237,14 +237,25 @@ pub fn snap_points(
     argument: &'static str,
     max_gap: Option<f64>,
 ) -> Result<Vec<Snap>> {
-    validate_points(argument, points, 0)?;
+    validate_points(argument, points, 1)?;
     if let Some(g) = max_gap {
         if !(g >= 0.0) || g.is_nan() {
             return Err(Error::InvalidParameter { name: "max_gap", reason: format!("max_gap must be >= 0; got {g}") });
         }
     }
     let index = SegmentIndex::new(graph)?;
-    let snaps: Vec<Snap> = points.par_iter().with_min_len(1024).map(|&p| index.snap(p)).collect();
+    // Queries in cell order, so that consecutive queries touch the same cells and segments
+    // (memory locality); results go back to input order.
+    let mut order: Vec<u32> = (0..points.len() as u32).collect();
+    order.par_sort_unstable_by_key(|&i| {
+        let (ci, cj) = index.cell_of(points[i as usize]);
+        cj * index.nx + ci
+    });
+    let found: Vec<Snap> = order.par_iter().with_min_len(1024).map(|&i| index.snap(points[i as usize])).collect();
+    let mut snaps = found.clone();
+    for (&i, s) in order.iter().zip(found) {
+        snaps[i as usize] = s;
+    }
     if let Some(max_gap) = max_gap {
         if let Some((row, s)) = snaps.iter().enumerate().find(|(_, s)| s.gap > max_gap) {
             return Err(Error::BeyondGap { argument, row, gap: s.gap, max_gap });

@@ -11,7 +11,9 @@
 //! cutting planes in one dimension, with regula-falsi steps on the derivative and bisection
 //! as the safeguard). Edges are visited in order of a cheap lower bound supplied by the
 //! objective, and the visit stops once that bound reaches the best value found, so distant
-//! edges cost one bound each.
+//! edges cost one bound each; an edge is also skipped when a supporting plane of the
+//! objective at a best point found so far (Kelley's cutting planes, 1960) bounds it above
+//! the best value — for a convex region one plane at the optimum rules out every edge.
 
 use rayon::prelude::*;
 
@@ -35,6 +37,8 @@ pub trait ConvexObjective: Sync {
     fn slope(&self, x: Point, direction: Point) -> Slope;
     /// A lower bound of the objective over the segment `s` (cheap; used to skip edges).
     fn segment_bound(&self, s: [Point; 2]) -> f64;
+    /// The value at `x` and a subgradient `g` there: `f(y) ≥ f(x) + g·(y − x)` for every `y`.
+    fn subgradient(&self, x: Point) -> (f64, Point);
 }
 
 /// The minimum found on one segment.
@@ -138,19 +142,37 @@ pub fn minimise_on_boundary(region: &FeasibleRegion, objective: &dyn ConvexObjec
     let mut best: Option<(usize, SegmentMinimum)> = None;
     let mut lower = f64::INFINITY;
     let (mut edges_solved, mut evaluations) = (0, 0);
+    // Supporting planes f(y) ≥ c + g·y (Kelley 1960) at each new best point: by convexity
+    // they bound the objective everywhere, and a linear bound is least at an edge's end.
+    let mut cuts: Vec<(f64, Point)> = Vec::new();
     for &(bound, k) in &order {
+        let s = segments[k];
         if let Some((_, b)) = &best {
             if bound >= b.value {
                 // Every later edge has a bound at least this large.
                 lower = lower.min(bound);
                 break;
             }
+            let cut = cuts
+                .iter()
+                .map(|&(c, g)| (c + g[0] * s[0][0] + g[1] * s[0][1]).min(c + g[0] * s[1][0] + g[1] * s[1][1]))
+                .fold(f64::NEG_INFINITY, f64::max);
+            // Shaved by a rounding allowance, so rounding never rules out the best edge.
+            let cut = cut - 1e-9 * cut.abs();
+            if cut >= b.value {
+                lower = lower.min(cut);
+                continue;
+            }
         }
-        let m = minimise_on_segment(objective, segments[k], tol);
+        let m = minimise_on_segment(objective, s, tol);
         edges_solved += 1;
         evaluations += m.evaluations;
         lower = lower.min(m.lower.max(bound));
         if best.as_ref().is_none_or(|(_, b)| m.value < b.value) {
+            let at = if m.t >= 1.0 { s[1] } else { add(s[0], scale(sub(s[1], s[0]), m.t)) };
+            let (value, g) = objective.subgradient(at);
+            evaluations += 1;
+            cuts.push((value - (g[0] * at[0] + g[1] * at[1]), g));
             best = Some((k, m));
         }
     }

@@ -78,6 +78,10 @@ impl ConvexObjective for Parabola {
     fn segment_bound(&self, _: [Point; 2]) -> f64 {
         0.0
     }
+    fn subgradient(&self, x: Point) -> (f64, Point) {
+        let s = self.slope(x, [1.0, 0.0]);
+        (s.value, [s.right, 0.0])
+    }
 }
 
 /// `|x − m|`, a kink at the minimiser.
@@ -95,6 +99,10 @@ impl ConvexObjective for Kink {
     }
     fn segment_bound(&self, _: [Point; 2]) -> f64 {
         0.0
+    }
+    fn subgradient(&self, x: Point) -> (f64, Point) {
+        let s = self.slope(x, [1.0, 0.0]);
+        (s.value, [s.right, 0.0])
     }
 }
 
