@@ -15,7 +15,7 @@
 //!   possible at least cost, and what it leaves unserved is reported per point.
 
 use super::transport::{transport, Flows, Plan};
-use super::{relative_gap, shortfall, validate};
+use super::{plain_distance, relative_gap, shortfall, validate};
 use crate::error::{Error, Result};
 use crate::geometry::{distance, BoundingBox, CompensatedSum, Point, Weights};
 
@@ -133,7 +133,7 @@ pub(crate) fn allocate_with_flows(
 ) -> Result<(CapacityAllocation, Flows)> {
     let (demand, capacity) = validate(points, sites, capacities, weights)?;
     let short = shortfall(demand, capacity, options.allow_unserved)?;
-    let plan = split_plan(points, sites, capacities, weights, short, distance)?;
+    let plan = split_plan(points, sites, capacities, weights, short, plain_distance)?;
     let m = sites.len();
     let mut flows = plan.flows;
     let lower_bound = served_cost(points, sites, &flows, m);

@@ -33,7 +33,7 @@ use rayon::prelude::*;
 use crate::error::{Error, Result};
 
 /// How many cheapest points each condensed arc keeps sorted before it refills.
-const ARC_LIST: usize = 16;
+const ARC_LIST: usize = 64;
 
 /// A finite f64 ordered totally (the keys are finite by construction).
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -81,15 +81,22 @@ pub(crate) struct Plan {
 }
 
 /// Working state of the solver.
-struct Solver<'a, C: Fn(usize, usize) -> f64 + Sync> {
+struct Solver<'a, C: Fn(usize, usize) -> f64 + Sync + ?Sized> {
     cost: &'a C,
     sites: usize,
     flows: Vec<Vec<(u32, f64)>>,
     members: Vec<Vec<u32>>,
     arcs: Vec<Arc>,
+    /// Per arc `j → k` (row-major), the key and point of its cheapest valid entry, kept
+    /// current eagerly so that Dijkstra reads plain arrays (`NONE`: the arc has no point).
+    key: Vec<f64>,
+    who: Vec<u32>,
 }
 
-impl<C: Fn(usize, usize) -> f64 + Sync> Solver<'_, C> {
+/// No point on an arc.
+const NONE: u32 = u32::MAX;
+
+impl<C: Fn(usize, usize) -> f64 + Sync + ?Sized> Solver<'_, C> {
     #[inline]
     fn flow(&self, i: u32, j: usize) -> f64 {
         self.flows[i as usize].iter().find(|&&(s, _)| s as usize == j).map_or(0.0, |&(_, x)| x)
@@ -150,18 +157,54 @@ impl<C: Fn(usize, usize) -> f64 + Sync> Solver<'_, C> {
         }
     }
 
+    /// Refresh the cached cheapest entry of arc `j → k`.
+    fn refresh(&mut self, j: usize, k: usize) {
+        let a = j * self.sites + k;
+        match self.best(j, k) {
+            Some((key, i)) => {
+                self.key[a] = key;
+                self.who[a] = i;
+            }
+            None => self.who[a] = NONE,
+        }
+    }
+
     /// Point `i` starts being served by site `k`.
     fn join(&mut self, i: u32, k: usize) {
         self.members[k].push(i);
         for l in 0..self.sites {
-            if l == k || !self.arcs[k * self.sites + l].built {
+            let a = k * self.sites + l;
+            if l == k {
+                continue;
+            }
+            if !self.arcs[a].built {
+                // First member of `k` since the start: build the arc from its members.
+                self.refresh(k, l);
                 continue;
             }
             let key = (self.cost)(i as usize, l) - (self.cost)(i as usize, k);
-            self.arcs[k * self.sites + l].joined.push(Reverse((Key(key), i)));
+            self.arcs[a].joined.push(Reverse((Key(key), i)));
+            if self.who[a] == NONE || key < self.key[a] {
+                self.key[a] = key;
+                self.who[a] = i;
+            }
+        }
+    }
+
+    /// Point `i` stopped being served by site `j`: arcs out of `j` that named it refresh.
+    fn leave(&mut self, i: u32, j: usize) {
+        for k in 0..self.sites {
+            if self.who[j * self.sites + k] == i {
+                self.refresh(j, k);
+            }
         }
     }
 }
+
+/// Below this many points (or 16 per site) the plan starts from zero prices; above it, from
+/// the prices of the plan for a sample of one point in [`SAMPLE_STRIDE`].
+const DIRECT_POINTS: usize = 2048;
+const SAMPLE_STRIDE: usize = 8;
 
 /// Solve `min Σ x_ij c(i, j)` subject to `Σ_j x_ij = demand[i]`, `Σ_i x_ij ≤ capacity[j]`,
 /// `x ≥ 0`, where `cost(i, j)` is finite and ≥ 0.
@@ -169,23 +212,62 @@ impl<C: Fn(usize, usize) -> f64 + Sync> Solver<'_, C> {
 /// The caller guarantees `Σ demand ≤ Σ capacity` (adding a virtual site for a shortfall);
 /// a remainder left by rounding below `1e-12 · Σ demand` is tolerated.
 ///
+/// Large inputs start from the optimal prices of a sample (one point in eight, demand
+/// scaled to the same total, recursively): every point starts at its cheapest site under
+/// those prices, so only the points near the price-shifted boundaries move. Any start is
+/// exact: the prices only seed the potentials (see [`solve_from`]).
+///
 /// # Errors
 /// [`Error::Degenerate`] naming `capacities` when excess demand finds no site with room (the
 /// totals disagree beyond rounding).
 ///
 /// # Runtime
 /// O(n·m) for the start, then O(m²) per augmentation plus O(n_j) per arc refill; the
-/// number of augmentations is about the number of points moved off their cheapest site.
-pub(crate) fn transport<C: Fn(usize, usize) -> f64 + Sync>(demand: &[f64], capacity: &[f64], cost: &C) -> Result<Plan> {
+/// number of augmentations is about the number of points moved off their start site.
+pub(crate) fn transport(demand: &[f64], capacity: &[f64], cost: &(dyn Fn(usize, usize) -> f64 + Sync)) -> Result<Plan> {
     let n = demand.len();
     let m = capacity.len();
-    // Start: every point at its cheapest site (smallest index among ties).
-    let nearest: Vec<u32> = (0..n)
+    let mut prices = vec![0.0; m];
+    if n >= DIRECT_POINTS && n >= 16 * m {
+        // A deterministic sample: every SAMPLE_STRIDE-th point of a seeded shuffle.
+        let mut order: Vec<usize> = (0..n).collect();
+        crate::geometry::random::SplitMix64::new(0x5eed_ca9a).shuffle(&mut order);
+        let sample: Vec<usize> = order.into_iter().step_by(SAMPLE_STRIDE).collect();
+        let total: f64 = demand.iter().sum();
+        let part: f64 = sample.iter().map(|&i| demand[i]).sum();
+        if part > 0.0 {
+            let sub_demand: Vec<f64> = sample.iter().map(|&i| demand[i]).collect();
+            let sub_capacity: Vec<f64> = capacity.iter().map(|&c| c * (part / total)).collect();
+            let sub = transport(&sub_demand, &sub_capacity, &|i, j| cost(sample[i], j))?;
+            prices = sub.price;
+        }
+    }
+    solve_from(demand, capacity, cost, &prices)
+}
+
+/// Successive shortest paths from the start "every point at its cheapest site under
+/// `prices`", with the potentials `π_k = prices[k]`, `π_T = 0`.
+///
+/// Reduced-cost optimality of the start (Ahuja, Magnanti & Orlin 1993, §9): point arcs are
+/// optimal by the choice of site; a site arc `k → T` with negative reduced cost
+/// (`prices[k] > 0`) is saturated, one with zero reduced cost carries `min(load, capacity)`.
+/// The imbalances this leaves (sites with more load than outflow, sites sending more than
+/// they receive, and the sink) are then removed along shortest paths, each of which keeps
+/// every residual arc at reduced cost ≥ 0, so the final flow is optimal.
+fn solve_from(
+    demand: &[f64],
+    capacity: &[f64],
+    cost: &(dyn Fn(usize, usize) -> f64 + Sync),
+    prices: &[f64],
+) -> Result<Plan> {
+    let n = demand.len();
+    let m = capacity.len();
+    let start: Vec<u32> = (0..n)
         .into_par_iter()
         .map(|i| {
             let mut best = (f64::INFINITY, 0u32);
-            for j in 0..m {
-                let c = cost(i, j);
+            for (j, &y) in prices.iter().enumerate() {
+                let c = cost(i, j) + y;
                 if c < best.0 {
                     best = (c, j as u32);
                 }
@@ -199,102 +281,145 @@ pub(crate) fn transport<C: Fn(usize, usize) -> f64 + Sync>(demand: &[f64], capac
         flows: vec![Vec::new(); n],
         members: vec![Vec::new(); m],
         arcs: vec![Arc::default(); m * m],
+        key: vec![0.0; m * m],
+        who: vec![NONE; m * m],
     };
     let mut load = vec![0.0; m];
     for i in 0..n {
         if demand[i] > 0.0 {
-            let j = nearest[i] as usize;
+            let j = start[i] as usize;
             solver.flows[i].push((j as u32, demand[i]));
             solver.members[j].push(i as u32);
             load[j] += demand[i];
         }
     }
-    let mut excess: Vec<f64> = (0..m).map(|j| (load[j] - capacity[j]).max(0.0)).collect();
-    let mut slack: Vec<f64> = (0..m).map(|j| (capacity[j] - load[j]).max(0.0)).collect();
+    for j in 0..m {
+        for k in 0..m {
+            if j != k && !solver.members[j].is_empty() {
+                solver.refresh(j, k);
+            }
+        }
+    }
+    let t = m; // the sink
+               // Flow on each site arc k → T, and the balance (in − out) of every node.
+    let out: Vec<f64> = (0..m).map(|k| if prices[k] > 0.0 { capacity[k] } else { load[k].min(capacity[k]) }).collect();
+    let mut out = out;
     let total: f64 = demand.iter().sum();
+    let mut balance: Vec<f64> = (0..m).map(|k| load[k] - out[k]).collect();
+    balance.push(out.iter().sum::<f64>() - total);
     let tolerance = 1e-12 * total;
 
-    // Potentials on sites and the sink (index m).
-    let mut pi = vec![0.0f64; m + 1];
-    let mut dist = vec![f64::INFINITY; m];
-    let mut done = vec![false; m];
-    let mut via: Vec<(u32, u32)> = vec![(0, 0); m];
+    let mut pi: Vec<f64> = prices.to_vec();
+    pi.push(0.0);
+    let nodes = m + 1;
+    let mut dist = vec![f64::INFINITY; nodes];
+    let mut done = vec![false; nodes];
+    // Predecessor node and point (NONE for a site arc).
+    let mut via: Vec<(u32, u32)> = vec![(0, NONE); nodes];
     let mut augmentations = 0usize;
-    let mut source = 0usize;
-    // Next site with excess (round robin, so every site's excess is worked off).
-    while let Some(s) = (0..m).map(|t| (source + t) % m).find(|&j| excess[j] > 0.0) {
-        source = s;
+    let mut cursor = 0usize;
+    while let Some(s) = (0..nodes).map(|v| (cursor + v) % nodes).find(|&v| balance[v] > tolerance) {
+        cursor = s;
         dist.fill(f64::INFINITY);
         done.fill(false);
         dist[s] = 0.0;
-        let mut to_sink = f64::INFINITY;
-        let mut sink = usize::MAX;
+        let mut target = usize::MAX;
         loop {
-            // Dense Dijkstra: the unsettled site nearest the source.
             let mut u = usize::MAX;
             let mut du = f64::INFINITY;
-            for (j, &d) in dist.iter().enumerate() {
-                if !done[j] && d < du {
+            for (v, &d) in dist.iter().enumerate() {
+                if !done[v] && d < du {
                     du = d;
-                    u = j;
+                    u = v;
                 }
             }
-            if u == usize::MAX || du >= to_sink {
+            if u == usize::MAX {
                 break;
             }
             done[u] = true;
-            if slack[u] > 0.0 {
-                let reach = du + (pi[m] - pi[u]).max(0.0);
-                if reach < to_sink {
-                    to_sink = reach;
-                    sink = u;
+            if balance[u] < -tolerance {
+                target = u;
+                break;
+            }
+            let pu = pi[u];
+            if u == t {
+                // T → k undoes flow on k's site arc.
+                for k in 0..m {
+                    if !done[k] && out[k] > 0.0 {
+                        let d = du + (pi[k] - pu).max(0.0);
+                        if d < dist[k] {
+                            dist[k] = d;
+                            via[k] = (t as u32, NONE);
+                        }
+                    }
+                }
+                continue;
+            }
+            if !done[t] && out[u] < capacity[u] {
+                let d = du + (pi[t] - pu).max(0.0);
+                if d < dist[t] {
+                    dist[t] = d;
+                    via[t] = (u as u32, NONE);
                 }
             }
+            let row = u * m..(u + 1) * m;
+            let (keys, whos) = (&solver.key[row.clone()], &solver.who[row]);
             for k in 0..m {
-                if done[k] {
+                if done[k] || whos[k] == NONE {
                     continue;
                 }
-                if let Some((key, i)) = solver.best(u, k) {
-                    // Reduced costs are ≥ 0 in exact arithmetic; clamp rounding.
-                    let d = du + (key - pi[u] + pi[k]).max(0.0);
-                    if d < dist[k] {
-                        dist[k] = d;
-                        via[k] = (u as u32, i);
-                    }
+                // Reduced costs are ≥ 0 in exact arithmetic; clamp rounding.
+                let d = du + (keys[k] - pu + pi[k]).max(0.0);
+                if d < dist[k] {
+                    dist[k] = d;
+                    via[k] = (u as u32, whos[k]);
                 }
             }
         }
-        if sink == usize::MAX {
-            let left: f64 = excess.iter().sum();
-            if left <= tolerance {
-                break;
-            }
+        if target == usize::MAX {
+            let left: f64 = balance.iter().filter(|&&b| b > 0.0).sum();
             return Err(Error::Degenerate {
                 argument: "capacities",
                 reason: format!("{left} units of demand find no site with room (total capacity is short)"),
             });
         }
-        // Potentials: π_v −= min(d_v, d_T).
-        for j in 0..m {
-            pi[j] -= if done[j] { dist[j].min(to_sink) } else { to_sink };
+        let reach = dist[target];
+        for v in 0..nodes {
+            pi[v] -= if done[v] { dist[v].min(reach) } else { reach };
         }
-        pi[m] -= to_sink;
-        // Bottleneck along the path sink ← … ← s.
-        let mut delta = excess[s].min(slack[sink]);
-        let mut k = sink;
-        while k != s {
-            let (j, i) = via[k];
-            delta = delta.min(solver.flow(i, j as usize));
-            k = j as usize;
-        }
-        // Apply: each arc j → k via i moves δ of i's demand from j to k.
-        let mut k = sink;
+        // Bottleneck along the path target ← … ← s.
+        let mut delta = balance[s].min(-balance[target]);
+        let mut k = target;
         while k != s {
             let (j, i) = via[k];
             let j = j as usize;
+            delta = delta.min(if i != NONE {
+                solver.flow(i, j)
+            } else if k == t {
+                capacity[j] - out[j]
+            } else {
+                out[k]
+            });
+            k = j;
+        }
+        // Apply.
+        let mut k = target;
+        while k != s {
+            let (j, i) = via[k];
+            let j = j as usize;
+            if i == NONE {
+                if k == t {
+                    out[j] = if capacity[j] - out[j] <= delta { capacity[j] } else { out[j] + delta };
+                } else {
+                    out[k] = if out[k] <= delta { 0.0 } else { out[k] - delta };
+                }
+                k = j;
+                continue;
+            }
             let f = &mut solver.flows[i as usize];
-            let pos = f.iter().position(|&(t, _)| t as usize == j).expect("path arcs carry flow");
-            if f[pos].1 <= delta {
+            let pos = f.iter().position(|&(s, _)| s as usize == j).expect("path arcs carry flow");
+            let left = f[pos].1 <= delta;
+            if left {
                 f.swap_remove(pos);
             } else {
                 f[pos].1 -= delta;
@@ -305,15 +430,16 @@ pub(crate) fn transport<C: Fn(usize, usize) -> f64 + Sync>(demand: &[f64], capac
                 f.push((k as u32, delta));
                 solver.join(i, k);
             }
-            load[j] -= delta;
-            load[k] += delta;
+            if left {
+                solver.leave(i, j);
+            }
             k = j;
         }
-        excess[s] = if excess[s] <= delta { 0.0 } else { excess[s] - delta };
-        slack[sink] = if slack[sink] <= delta { 0.0 } else { slack[sink] - delta };
+        balance[s] = if balance[s] <= delta { 0.0 } else { balance[s] - delta };
+        balance[target] = if -balance[target] <= delta { 0.0 } else { balance[target] + delta };
         augmentations += 1;
     }
-    let price = (0..m).map(|j| (pi[j] - pi[m]).max(0.0)).collect();
+    let price = (0..m).map(|j| (pi[j] - pi[t]).max(0.0)).collect();
     Ok(Plan { flows: solver.flows, price, augmentations })
 }
 
@@ -379,5 +505,22 @@ mod tests {
                 }
             }
         }
+    }
+
+    #[test]
+    fn sampled_start_reaches_the_same_optimum_as_zero_prices() {
+        let points = crate::partition::testing::lcg_cloud(6000, 11, [0.0, 0.0], 100.0);
+        let sites = crate::partition::testing::lcg_cloud(12, 12, [0.0, 0.0], 100.0);
+        let demand: Vec<f64> = (0..6000).map(|i| 1.0 + (i % 5) as f64).collect();
+        let total: f64 = demand.iter().sum();
+        let capacity: Vec<f64> = (0..12).map(|j| total * (0.5 + (j % 3) as f64) / 18.0 * 1.02).collect();
+        let cost = |i: usize, j: usize| crate::geometry::distance(points[i], sites[j]);
+        let value = |plan: &Plan| -> f64 {
+            plan.flows.iter().enumerate().flat_map(|(i, f)| f.iter().map(move |&(j, x)| x * cost(i, j as usize))).sum()
+        };
+        let sampled = transport(&demand, &capacity, &cost).unwrap();
+        let direct = solve_from(&demand, &capacity, &cost, &[0.0; 12]).unwrap();
+        assert!((value(&sampled) - value(&direct)).abs() <= 1e-9 * value(&direct));
+        assert!(sampled.augmentations < direct.augmentations);
     }
 }
