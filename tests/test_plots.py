@@ -32,6 +32,8 @@ CALLS = {
     "steiner_tree": [lambda f: f(PTS[:8]), lambda f: f(PTS[:16], groups=LABELS[12:28])],
     "p_median": [lambda f: f(PTS, 3, W), lambda f: f(PTS, 3, W, groups=LABELS)],
     "p_center": [lambda f: f(PTS, 3, W), lambda f: f(PTS, 3, W, groups=LABELS)],
+    "capacity_allocation": [lambda f: f(PTS, PTS[:4], [20.0, 20.0, 20.0, 20.0], W)],
+    "capacitated_p_median": [lambda f: f(PTS, 3, [30.0, 30.0, 30.0], W)],
 }
 CASES = [(name, k) for name, calls in CALLS.items() for k in range(len(calls))]
 

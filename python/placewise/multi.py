@@ -113,7 +113,7 @@ def _on_candidates(model: str, points: ArrayLike, p: int, weights: ArrayLike | N
                 raise error
             fixed = at
     if model == "p_median":
-        chosen = discrete.p_median_planar(points, candidates, p, weights, fixed=fixed)
+        chosen: Any = discrete.p_median_planar(points, candidates, p, weights, fixed=fixed)
     else:
         chosen = discrete.p_center_planar(points, candidates, p, weights)
     if region is None:
