@@ -17,11 +17,11 @@ mod minimax;
 mod nearest;
 mod weber;
 
-use crate::batch::{run_grouped, run_paired, Grouped, OnGroupError};
+use crate::batch::{run_grouped, Grouped, OnGroupError};
 use crate::error::{Error, Result};
-use crate::geometry::{validate_weights, Point, Weights};
+use crate::geometry::{validate_iteration, validate_weights, Point, Weights};
 use crate::median::{Metric, WeberOptions, WeberPoint};
-use crate::partition::{Allocation, SiteAllocations};
+use crate::partition::{grouped_by_kernel, Allocation, SiteAllocations};
 
 use earth::{validate_lonlat, Earth};
 pub use minimax::{CenterOptions, GeodesicCenter};
@@ -85,16 +85,7 @@ fn check_weber(options: &WeberOptions) -> Result<()> {
             reason: "the geodesic Fermat–Weber point measures geodesic distance only".into(),
         });
     }
-    if options.max_iter == 0 {
-        return Err(Error::InvalidParameter { name: "max_iter", reason: "must be at least 1; got 0".into() });
-    }
-    if !(options.tol.is_finite() && options.tol >= 0.0) {
-        return Err(Error::InvalidParameter {
-            name: "tol",
-            reason: format!("must be finite and >= 0; got {:?}", options.tol),
-        });
-    }
-    Ok(())
+    validate_iteration(options.max_iter, options.tol)
 }
 
 /// The weighted Fermat–Weber point of longitude/latitude points on the WGS84 ellipsoid.
@@ -135,16 +126,7 @@ pub fn geodesic_weber_points(
 }
 
 fn check_center(options: &CenterOptions) -> Result<()> {
-    if options.max_iter == 0 {
-        return Err(Error::InvalidParameter { name: "max_iter", reason: "must be at least 1; got 0".into() });
-    }
-    if !(options.tol.is_finite() && options.tol >= 0.0) {
-        return Err(Error::InvalidParameter {
-            name: "tol",
-            reason: format!("must be finite and >= 0; got {:?}", options.tol),
-        });
-    }
-    Ok(())
+    validate_iteration(options.max_iter, options.tol)
 }
 
 /// The weighted minimax point (1-center) of longitude/latitude points on the WGS84
@@ -318,24 +300,7 @@ pub fn geodesic_nearest_site_grouped(
     site_labels: &[i64],
     on_error: OnGroupError,
 ) -> Result<SiteAllocations> {
-    let (grouped, points, sites) =
-        run_paired(points, weights, labels, "sites", sites, site_labels, on_error, |group, served| {
-            if group.points.is_empty() {
-                let k = served.points.len();
-                return Ok(Allocation {
-                    index: vec![],
-                    distance: vec![],
-                    load: vec![0.0; k],
-                    count: vec![0; k],
-                    cost: 0.0,
-                    total_load: 0.0,
-                });
-            }
-            let mut a = geodesic_nearest_site(group.points, served.points, group.weights)?;
-            a.index.iter_mut().for_each(|j| *j = served.members[*j]);
-            Ok(a)
-        })?;
-    Ok(SiteAllocations { grouped, points, sites })
+    grouped_by_kernel(points, weights, labels, sites, site_labels, on_error, geodesic_nearest_site)
 }
 
 #[cfg(test)]

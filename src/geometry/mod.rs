@@ -12,7 +12,7 @@ pub mod validate;
 
 pub use region::FeasibleRegion;
 pub use sum::CompensatedSum;
-pub use validate::{validate_points, validate_weights, Weights};
+pub use validate::{validate_iteration, validate_points, validate_weights, Weights};
 
 /// A planar point or vector `[x, y]`.
 pub type Point = [f64; 2];

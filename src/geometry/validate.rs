@@ -7,6 +7,20 @@
 use super::Point;
 use crate::error::{Error, Result};
 
+/// Check the settings of an iterative solver: at least one iteration, a finite tolerance >= 0.
+///
+/// # Errors
+/// [`Error::InvalidParameter`] naming `max_iter` or `tol`.
+pub fn validate_iteration(max_iter: usize, tol: f64) -> Result<()> {
+    if max_iter == 0 {
+        return Err(Error::InvalidParameter { name: "max_iter", reason: "must be at least 1; got 0".into() });
+    }
+    if !(tol.is_finite() && tol >= 0.0) {
+        return Err(Error::InvalidParameter { name: "tol", reason: format!("must be finite and >= 0; got {tol:?}") });
+    }
+    Ok(())
+}
+
 /// Check that every coordinate is finite and that there are at least `min_count` points.
 ///
 /// # Errors

@@ -15,8 +15,8 @@ mod weiszfeld;
 pub use restricted::{weber_point_in_region, weber_points_in_region, RegionWeberPoint};
 
 use crate::batch::{run_grouped, Grouped, OnGroupError};
-use crate::error::{Error, Result};
-use crate::geometry::{validate_points, validate_weights, Point, Weights};
+use crate::error::Result;
+use crate::geometry::{validate_iteration, validate_points, validate_weights, Point, Weights};
 
 /// Distance used by the Fermat–Weber objective.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -98,16 +98,7 @@ pub fn weber_points(
 }
 
 fn validate_options(options: &WeberOptions) -> Result<()> {
-    if options.max_iter == 0 {
-        return Err(Error::InvalidParameter { name: "max_iter", reason: "must be at least 1; got 0".into() });
-    }
-    if !(options.tol.is_finite() && options.tol >= 0.0) {
-        return Err(Error::InvalidParameter {
-            name: "tol",
-            reason: format!("must be finite and >= 0; got {:?}", options.tol),
-        });
-    }
-    Ok(())
+    validate_iteration(options.max_iter, options.tol)
 }
 
 #[cfg(test)]

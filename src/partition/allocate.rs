@@ -246,6 +246,21 @@ pub fn nearest_site_grouped(
     site_labels: &[i64],
     on_error: OnGroupError,
 ) -> Result<SiteAllocations> {
+    grouped_by_kernel(points, weights, labels, sites, site_labels, on_error, nearest_site)
+}
+
+/// The grouped allocation behind [`nearest_site_grouped`] with any per-group `kernel` of
+/// [`nearest_site`]'s form (the geodesic family passes its own): every group's points go to
+/// the sites of their label, and site indices come back as rows of the whole site set.
+pub(crate) fn grouped_by_kernel(
+    points: &[Point],
+    weights: Weights<'_>,
+    labels: &[i64],
+    sites: &[Point],
+    site_labels: &[i64],
+    on_error: OnGroupError,
+    kernel: impl Fn(&[Point], &[Point], Weights<'_>) -> Result<Allocation> + Sync,
+) -> Result<SiteAllocations> {
     let (grouped, points, sites) =
         run_paired(points, weights, labels, "sites", sites, site_labels, on_error, |group, served| {
             if group.points.is_empty() {
@@ -253,7 +268,7 @@ pub fn nearest_site_grouped(
                 let (load, count) = (vec![0.0; k], vec![0; k]);
                 return Ok(Allocation { index: vec![], distance: vec![], load, count, cost: 0.0, total_load: 0.0 });
             }
-            let allocation = nearest_site(group.points, served.points, group.weights)?;
+            let allocation = kernel(group.points, served.points, group.weights)?;
             Ok(allocation.in_rows(served.members))
         })?;
     Ok(SiteAllocations { grouped, points, sites })

@@ -13,6 +13,7 @@ mod allocate;
 mod delaunay;
 mod voronoi;
 
+pub(crate) use allocate::grouped_by_kernel;
 pub use allocate::{allocate, nearest_site, nearest_site_grouped, Allocation, SiteAllocations, SiteIndex};
 pub(crate) use delaunay::triangulated_positions;
 pub use delaunay::{check_triangulation, delaunay, delaunay_grouped, Triangulation, STRIPS_FROM};
