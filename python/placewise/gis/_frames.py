@@ -131,7 +131,9 @@ def as_frame(obj: Any, name: str) -> Any:
     raise InputError(f"{name} must be a GeoDataFrame or GeoSeries; got {type(obj).__name__}")
 
 
-def _working_crs(frame: Any, name: str, planar: bool, work_crs: Any = None) -> Any:
+def _working_crs(frame: Any, name: str, planar: bool, work_crs: Any = None, lonlat: np.ndarray | None = None) -> Any:
+    """The CRS to solve in: ``work_crs``, the frame's own projected CRS, none (planar), or for a
+    geographic frame the UTM zone at the centre of its points ``lonlat`` (already read)."""
     crs = frame.crs
     if work_crs is not None:
         if crs is None:
@@ -151,7 +153,8 @@ def _working_crs(frame: Any, name: str, planar: bool, work_crs: Any = None) -> A
         raise InputError(f"{name} has a CRS ({CRS(crs).name}); planar=True is only for frames without one")
     crs = CRS(crs)
     if crs.is_geographic:
-        return _utm_for(frame, name)
+        assert lonlat is not None, "a geographic frame's points are read before its frame is chosen"
+        return _utm_at_centre(lonlat)
     if not crs.is_projected:
         raise InputError(f"{name}: CRS {crs.name!r} is neither geographic nor projected")
     return crs
@@ -221,8 +224,6 @@ def scale_error_over(work: Any, lonlat: np.ndarray, xy: np.ndarray) -> float:
     the working frame — where a transverse Mercator or azimuthal frame distorts most — and
     at a fixed sample of up to 20,000 points for any other projection.
     """
-    from pyproj import Proj
-
     n = len(xy)
     hull = shapely.convex_hull(shapely.multipoints(xy))
     if hull.geom_type == "Polygon":
@@ -231,10 +232,7 @@ def scale_error_over(work: Any, lonlat: np.ndarray, xy: np.ndarray) -> float:
     else:
         at = np.array([int(np.argmin(xy[:, 0])), int(np.argmax(xy[:, 0]))])
     sample = np.unique(np.concatenate([at, np.linspace(0, n - 1, min(n, 20_000)).astype(np.int64)]))
-    factors = Proj(work).get_factors(lonlat[sample, 0], lonlat[sample, 1])
-    error = np.maximum(np.abs(np.asarray(factors.meridional_scale) - 1.0),
-                       np.abs(np.asarray(factors.parallel_scale) - 1.0))
-    return float(np.nanmax(error))
+    return float(np.nanmax(_scale_errors(work, lonlat[sample])))
 
 
 def _centres(lonlat: np.ndarray, codes: np.ndarray, count: int) -> np.ndarray:
@@ -253,12 +251,22 @@ def _centres(lonlat: np.ndarray, codes: np.ndarray, count: int) -> np.ndarray:
                             np.degrees(np.arctan2(total[:, 2], np.hypot(total[:, 0], total[:, 1])))])
 
 
-def _utm_for(frame: Any, name: str) -> CRS:
-    """The UTM zone of a geographic frame's centre (:func:`_centres`; centroids stand for other
-    geometries here, as this only picks the zone)."""
-    lonlat = _points_of(frame if CRS(frame.crs).equals(_WGS84) else frame.to_crs(_WGS84), name, centroids=True)
-    centre = _centres(lonlat, np.zeros(len(lonlat), dtype=np.int64), 1)[0]
+def _centre(lonlat: np.ndarray) -> np.ndarray:
+    """Longitude/latitude of the mean unit vector of all the points (:func:`_centres`)."""
+    return _centres(lonlat, np.zeros(len(lonlat), dtype=np.int64), 1)[0]
+
+
+def _utm_at_centre(lonlat: np.ndarray) -> CRS:
+    """The UTM zone at the centre of the points (:func:`_centre`)."""
+    centre = _centre(lonlat)
     return _utm_of(float(centre[0]), float(centre[1]))
+
+
+def _utm_for(frame: Any, name: str) -> CRS:
+    """The UTM zone at a frame's centre, its geometries read as WGS 84 (centroids stand for
+    other geometries here, as this only picks the zone)."""
+    return _utm_at_centre(_points_of(frame if CRS(frame.crs).equals(_WGS84) else frame.to_crs(_WGS84), name,
+                                     centroids=True))
 
 
 def _utm_of(lon: float, lat: float) -> CRS:
@@ -376,7 +384,7 @@ def prepare(
             return Prepared(frame, xy, frame.crs, frames[0], float(group_error.max()), groups, frames,
                             frame_of_group, group_error)
     if isinstance(work, str):
-        work = _working_crs(frame, name, planar, work_crs)
+        work = _working_crs(frame, name, planar, work_crs, lonlat)
     elif (work is None) != (frame.crs is None):
         raise InputError(
             f"{name}: either every frame has a CRS or none has (planar=True); {name} "
@@ -391,8 +399,7 @@ def prepare(
     error = scale_error_over(work, lonlat, xy)
     if error > max_scale_error and work_crs is None:
         # Too wide for its UTM zone: a transverse Mercator frame on the data's own centre.
-        centre = _centres(lonlat, np.zeros(len(lonlat), dtype=np.int64), 1)[0]
-        centred = _centred_frame(float(centre[0]))
+        centred = _centred_frame(float(_centre(lonlat)[0]))
         centred_xy = _points_of(frame.to_crs(centred), name, centroids)
         centred_error = scale_error_over(centred, lonlat, centred_xy)
         if centred_error < error:
