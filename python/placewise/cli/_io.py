@@ -1,0 +1,384 @@
+"""Reading and writing the command line's files, and the helpers every subcommand shares."""
+
+from __future__ import annotations
+
+import argparse
+import re
+import sys
+from collections.abc import Sequence
+from pathlib import Path
+from typing import Any, NoReturn
+
+from .._errors import plain
+
+_READ = {".csv": "csv", ".gpkg": "gpkg", ".shp": "shp", ".parquet": "parquet", ".geoparquet": "parquet",
+         ".geojson": "geojson", ".json": "geojson"}
+_FORMATS = ("CSV (.csv), GeoPackage (.gpkg; a layer as FILE.gpkg:LAYER), Shapefile (.shp), "
+            "GeoParquet (.parquet, .geoparquet) or GeoJSON (.geojson, .json)")
+_OGR = {"gpkg": "GPKG", "shp": "ESRI Shapefile", "geojson": "GeoJSON"}
+# Coordinate column spellings tried in order when --x/--y are not given (case-insensitive).
+# Longitude/latitude columns make EPSG:4326 the default CRS; the others need --crs or --planar.
+_SPELLINGS = (
+    ("x/y", ("x",), ("y",)),
+    ("longitude/latitude", ("lon", "lng", "long", "longitude"), ("lat", "latitude")),
+    ("easting/northing", ("easting", "east", "eastings"), ("northing", "north", "northings")),
+)
+
+
+class UserError(Exception):
+    """A problem with the command's input: reported in one line, exit status 2."""
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message: str) -> NoReturn:
+        self.exit(2, f"{self.prog}: error: {message} (see {self.prog} --help)\n")
+
+
+# --------------------------------------------------------------------------- reading / writing
+
+
+def _split_layer(text: str) -> tuple[Path, str | None]:
+    """``FILE.gpkg:LAYER`` as (path, layer); any other name as (path, None)."""
+    match = re.fullmatch(r"(.+\.gpkg):([^:/\\]+)", text, flags=re.IGNORECASE)
+    return (Path(match[1]), match[2]) if match else (Path(text), None)
+
+
+def _kind(path: Path, what: str) -> str:
+    kind = _READ.get(path.suffix.lower())
+    if kind is None:
+        raise UserError(f"{path}: cannot tell the format of {what} from its extension; use {_FORMATS}")
+    return kind
+
+
+def _where(label: Any, kind: str) -> str:
+    """A row as the file counts it: a CSV line, a feature id, a GeoParquet row."""
+    return {"csv": "line", "parquet": "row"}.get(kind, "feature") + f" {plain(label)}"
+
+
+def _coordinate_columns(table: Any, path: Path, args: argparse.Namespace) -> tuple[str, str, str]:
+    """The CSV's coordinate columns (--x/--y, or recognised spellings) and what they are."""
+    if (args.x is None) != (args.y is None):
+        raise UserError("--x and --y go together: name both coordinate columns or neither")
+    if args.x is not None:
+        return args.x, args.y, "given"
+    lower: dict[str, list[str]] = {}
+    for column in table.columns:
+        lower.setdefault(str(column).strip().lower(), []).append(str(column))
+    for what, xs, ys in _SPELLINGS:
+        found = [[c for name in names for c in lower.get(name, [])] for names in (xs, ys)]
+        if found[0] and found[1]:
+            for axis, columns in zip(("--x", "--y"), found):
+                if len(columns) > 1:
+                    raise UserError(f"{path}: columns {', '.join(map(repr, columns))} could each be the {what} "
+                                    f"coordinate; choose one with {axis}")
+            return found[0][0], found[1][0], what
+    shown = ", ".join(map(str, table.columns))
+    raise UserError(f"{path}: no coordinate columns recognised (columns: {shown}); "
+                    "name them with --x and --y")
+
+
+def _read_csv_points(path: Path, args: argparse.Namespace, main: bool) -> Any:
+    import geopandas as gpd
+    import numpy as np
+    import pandas as pd
+
+    try:
+        table = pd.read_csv(path, skip_blank_lines=False)
+    except pd.errors.EmptyDataError:
+        raise UserError(f"{path}: the file is empty") from None
+    except (pd.errors.ParserError, UnicodeDecodeError) as exc:
+        raise UserError(f"{path}: not readable as CSV ({_one_line(exc)})") from None
+    # Row labels are the file's line numbers (the header is line 1), so every message about a
+    # row -- here and from the kernels -- names the line a person finds in an editor.
+    table.index = pd.RangeIndex(2, 2 + len(table), name="line")
+    table = table.dropna(how="all")
+    if len(table) == 0:
+        raise UserError(f"{path}: has a header but no rows")
+    x, y, what = _coordinate_columns(table, path, args)
+    coords = []
+    for column in (x, y):
+        if column not in table.columns:
+            raise UserError(
+                f"{path}: no column {column!r} (columns: {', '.join(map(str, table.columns))}); "
+                "name the coordinate columns with --x and --y"
+            )
+        values = pd.to_numeric(table[column], errors="coerce").to_numpy(dtype=np.float64)
+        bad = ~np.isfinite(values)
+        if bad.any():
+            row = int(np.argmax(bad))
+            raise UserError(f"{path}: column {column!r} has a missing or non-numeric value "
+                            f"{plain(table[column].iloc[row])!r} on {_where(table.index[row], 'csv')}")
+        coords.append(values)
+    crs = args.crs
+    if what == "longitude/latitude" and crs is None and not args.planar:
+        crs = "EPSG:4326"
+        for column, values, limit in zip((x, y), coords, (180.0, 90.0)):
+            outside = np.abs(values) > limit
+            if outside.any():
+                row = int(np.argmax(outside))
+                raise UserError(f"{path}: column {column!r} holds {plain(values[row])} on "
+                                f"{_where(table.index[row], 'csv')}, not a {what.split('/')[column == y]} in "
+                                "degrees; give the coordinates' --crs, or --planar")
+        args.choices.append(f"placewise: {path}: coordinates from columns {x!r}, {y!r}: longitude/latitude, "
+                            "EPSG:4326 (--crs or --planar says otherwise)")
+    elif what != "given" and (x, y) != ("x", "y"):
+        args.choices.append(f"placewise: {path}: coordinates from columns {x!r}, {y!r} ({what})")
+    if crs is None and not args.planar:
+        raise UserError(f"{path}: CSV coordinates need --crs (for example --crs EPSG:32632) or --planar")
+    if main:  # CSV outputs write point coordinates under the input's own column names
+        args.x_out, args.y_out = x, y
+    geometry = gpd.points_from_xy(coords[0], coords[1], crs=crs)
+    return gpd.GeoDataFrame(table.drop(columns=[x, y]), geometry=geometry, crs=crs)
+
+
+def _read_layer(path: Path, layer: str | None, kind: str) -> Any:
+    import geopandas as gpd
+    import pandas as pd
+
+    if kind == "parquet":
+        try:
+            frame = gpd.read_parquet(path)
+        except Exception as exc:  # pyarrow raises several types for unreadable files
+            raise UserError(f"{path}: not readable as GeoParquet ({_one_line(exc).split('. ')[0]})") from None
+        frame.index = pd.RangeIndex(len(frame), name="row")
+        return frame
+    import pyogrio
+
+    try:
+        layers = [str(name) for name in pyogrio.list_layers(path)[:, 0]]
+        if layer is None and len(layers) > 1:
+            raise UserError(f"{path}: holds the layers {', '.join(layers)}; choose one as {path}:LAYER")
+        if layer is not None and layer not in layers:
+            raise UserError(f"{path}: no layer {layer!r} (layers: {', '.join(layers) or 'none'})")
+        # Feature ids as row labels: messages and per-row outputs name rows as the file does.
+        frame = gpd.read_file(path, layer=layer, fid_as_index=True)
+    except UserError:
+        raise
+    except Exception as exc:  # pyogrio raises several types for unreadable files
+        raise UserError(f"{path}: not readable as {kind} ({_one_line(exc).split('. ')[0]})") from None
+    return frame.rename_axis("feature")
+
+
+def _check_columns(frame: Any, path: Path, args: argparse.Namespace, flags: Sequence[str]) -> None:
+    """The columns named by ``flags`` (--weight, --by) exist, checked before any work."""
+    for flag in flags:
+        column = getattr(args, flag, None)
+        if column is not None and column not in frame.columns:
+            shown = ", ".join(str(c) for c in frame.columns if c != frame.geometry.name)
+            raise UserError(f"{path}: no column {column!r} for --{flag} (columns: {shown or 'none'})")
+
+
+def _with_ids(frame: Any, path: Path, kind: str, args: argparse.Namespace, main: bool) -> Any:
+    """Rows labelled by the --id column (required in the main input, used where present in others)."""
+    column = getattr(args, "id", None)
+    if column is None or (column not in frame.columns and not main):
+        return frame
+    _check_columns(frame, path, args, ("id",))
+    values = frame[column]
+    if values.isna().any():
+        at = frame.index[int(values.isna().to_numpy().argmax())]
+        raise UserError(f"{path}: --id column {column!r} is empty on {_where(at, kind)}")
+    repeated = values.duplicated(keep=False).to_numpy()
+    if repeated.any():
+        first = values[repeated].iloc[0]
+        rows = frame.index[(values == first).to_numpy()]
+        raise UserError(f"{path}: --id column {column!r} repeats {plain(first)!r} (on {_where(rows[0], kind)} and "
+                        f"{_where(rows[1], kind)}); ids must be unique")
+    return frame.set_index(column)
+
+
+def read_points(path_text: str, args: argparse.Namespace, what: str = "input",
+                flags: Sequence[str] = ("weight", "by"), main: bool = True) -> Any:
+    """Read a GeoDataFrame from CSV, GeoPackage, Shapefile, GeoParquet or GeoJSON.
+
+    Rows are labelled as the file counts them (CSV line numbers, feature ids) or by the
+    ``--id`` column, so every output and message about a row names it the user's way.
+    """
+    path, layer = _split_layer(path_text)
+    kind = _kind(path, what)
+    if not path.is_file():
+        raise UserError(f"{path}: no such file" if not path.exists() else f"{path}: not a file")
+    if kind == "csv":
+        frame = _read_csv_points(path, args, main)
+    else:
+        frame = _read_layer(path, layer, kind)
+        if len(frame) == 0:
+            raise UserError(f"{path}: has no rows")
+        if args.crs is not None and frame.crs is None:  # a file's own CRS wins; frames are reconciled later
+            frame = frame.set_crs(args.crs)
+    _check_columns(frame, path, args, flags)
+    args.labels[str(path)] = ("the --id values" if getattr(args, "id", None) in frame.columns
+                              else {"csv": "line numbers", "parquet": "row numbers from 0"}.get(kind, "feature ids"))
+    return _with_ids(frame, path, kind, args, main)
+
+
+def write_frame(frame: Any, out: str | None, args: argparse.Namespace, layer: str) -> None:
+    """Write a table by the extension of ``out`` (CSV, GeoPackage layer, Shapefile, GeoParquet,
+    GeoJSON), or CSV on standard output.
+
+    Layers (GeoDataFrames) keep their geometry; a totals table (a plain DataFrame) is written
+    as it is, and as features without geometry where the format needs features. An index that
+    names rows (the --id values, line numbers, a plan's ``site`` labels) is written as a
+    column. ``layer`` names the GeoPackage layer unless ``FILE.gpkg:LAYER`` does.
+    """
+    import warnings
+
+    import geopandas as gpd
+
+    # Label columns (a plan's sites, --id values) arrive as Python objects: give them their
+    # own dtype, so typed formats (GeoPackage, Parquet) store numbers as numbers.
+    frame = _named_index(frame).infer_objects()
+    if out is None:
+        _as_table(frame, args).to_csv(sys.stdout, index=False)
+        return
+    path, named = _split_layer(out)
+    kind = _kind(path, "the output")
+    if not path.parent.exists():
+        raise UserError(f"{path}: the folder {path.parent} does not exist")
+    spatial = isinstance(frame, gpd.GeoDataFrame)
+    if kind == "geojson" and spatial and frame.crs is None and bool(frame.geometry.notna().any()):
+        # RFC 7946 coordinates are longitude/latitude: planar ones would be read as WGS84.
+        raise UserError(f"{path}: GeoJSON coordinates are read as longitude/latitude, and these are planar; "
+                        "write .gpkg, .parquet or .csv instead")
+    if not spatial and kind in _OGR:
+        frame = gpd.GeoDataFrame(frame, geometry=gpd.GeoSeries([None] * len(frame), index=frame.index))
+    try:
+        if kind == "csv":
+            _as_table(frame, args).to_csv(path, index=False)
+        elif kind == "parquet":
+            frame.to_parquet(path, index=False)
+        else:
+            if kind != "gpkg" and path.exists():
+                path.unlink()
+            with warnings.catch_warnings(record=True) as caught:  # a file without CRS is what planar means
+                warnings.simplefilter("always")
+                frame.to_file(path, driver=_OGR[kind], **({"layer": named or layer} if kind == "gpkg" else {}))
+            if kind == "shp":
+                short = [str(c) for c in frame.columns if len(str(c)) > 10]
+                if short and any("truncated" in str(w.message) for w in caught):
+                    _note(args, f"{path}: Shapefile names hold 10 characters: {', '.join(short)} shortened "
+                                "(.gpkg keeps them)")
+    except OSError as exc:
+        raise UserError(f"{path}: cannot write ({exc.strerror or exc})") from None
+
+
+def _named_index(frame: Any) -> Any:
+    """The index as a column when it names the rows (named, or not just 0..n-1)."""
+    import pandas as pd
+
+    index = frame.index
+    default = index.name is None and isinstance(index, pd.RangeIndex) and index.start == 0 and index.step == 1
+    return frame if default else frame.rename_axis(index.name or "row").reset_index()
+
+
+def _as_table(frame: Any, args: argparse.Namespace) -> Any:
+    """A plain table: x/y columns for points, well-known text for other geometries.
+
+    Missing geometries (the rows of groups skipped with ``--errors skip``) stay empty.
+    """
+    import geopandas as gpd
+    import pandas as pd
+    import shapely
+
+    if not isinstance(frame, gpd.GeoDataFrame):
+        return frame
+    geoms = frame.geometry.values
+    table = pd.DataFrame(frame.drop(columns=frame.geometry.name))
+    kinds = shapely.get_type_id(geoms)
+    present = kinds >= 0
+    if bool((kinds[present] == shapely.GeometryType.POINT).all()):
+        table[args.x_out] = shapely.get_x(geoms)
+        table[args.y_out] = shapely.get_y(geoms)
+    else:
+        table["wkt"] = shapely.to_wkt(geoms, rounding_precision=-1)
+    return table
+
+
+def _note(args: argparse.Namespace, text: str) -> None:
+    """A line on stderr (none with --quiet), after the choices made reading the input (which
+    a failing command does not print: its one line is the error)."""
+    if not args.quiet:
+        for choice in getattr(args, "choices", ()):
+            print(choice, file=sys.stderr)
+        print(text, file=sys.stderr)
+    args.choices = []
+
+
+def _one_line(exc: BaseException) -> str:
+    text = " ".join(str(exc).split())
+    return text or type(exc).__name__
+
+
+# --------------------------------------------------------------------------- shared by the subcommands
+
+
+
+def _check_crs(args: argparse.Namespace) -> None:
+    from pyproj import CRS
+    from pyproj.exceptions import CRSError
+
+    for flag, example in (("crs", "EPSG:4326"), ("work_crs", "EPSG:32632")):
+        text = getattr(args, flag, None)
+        if text is None:
+            continue
+        try:
+            CRS(text)
+        except CRSError:
+            raise UserError(f"--{flag.replace('_', '-')}: {text!r} is not a coordinate reference system "
+                            f"(try {example})") from None
+
+
+def _common(args: argparse.Namespace) -> dict[str, Any]:
+    return {"planar": args.planar, "centroids": args.centroids, "work_crs": args.work_crs,
+            "max_scale_error": args.max_scale_error}
+
+
+def _by(args: argparse.Namespace) -> dict[str, Any]:
+    return {"by": args.by, "errors": args.errors}
+
+
+def _measure(frame: Any, prefix: str) -> tuple[str, str]:
+    """The column holding a measure (``cost_m``) and its unit (``m``), from the column name."""
+    name = next(c for c in frame.columns if str(c).startswith(prefix + "_"))
+    return name, str(name)[len(prefix) + 1:]
+
+
+def _unit_text(unit: str) -> str:
+    return "coordinate units" if unit == "u" else unit
+
+
+def _skipped(args: argparse.Namespace, frame: Any) -> str:
+    if "problem" not in frame.columns:
+        return ""
+    count = int(frame["problem"].notna().sum())
+    return f"; {count} group(s) skipped (see the problem column)" if count else ""
+
+
+def _solved(frame: Any) -> int:
+    """Rows of solved groups (a group skipped with ``--errors skip`` keeps a row of its own)."""
+    return len(frame) if "problem" not in frame.columns else int(frame["problem"].isna().sum())
+
+
+def _write_summary(summary: Any, args: argparse.Namespace) -> None:
+    if getattr(args, "summary", None) is not None:
+        write_frame(summary, args.summary, args, "summary")
+
+
+def _positive_int(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
+    if value < 1:
+        raise argparse.ArgumentTypeError(f"expected at least 1, got {value}")
+    return value
+
+
+def _positive_float(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a number, got {text!r}") from None
+    if not value > 0:
+        raise argparse.ArgumentTypeError(f"expected a positive number, got {text!r}")
+    return value
