@@ -17,6 +17,9 @@ import pytest
 gpd = pytest.importorskip("geopandas")
 pyproj = pytest.importorskip("pyproj")
 import shapely  # noqa: E402
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+from hypothesis.extra.numpy import arrays  # noqa: E402
 from scipy.optimize import Bounds, LinearConstraint, milp  # noqa: E402
 from scipy.spatial.distance import cdist  # noqa: E402
 
@@ -284,3 +287,31 @@ def test_uncoverable_row_names_its_label():
     demand, candidates, _, _ = planar_case(2)
     with pytest.raises(InputError, match="h"):
         gis.cover_all(demand, 0.5, candidates=candidates, planar=True)
+
+
+@settings(max_examples=25)
+@given(
+    xy=arrays(np.float64, st.tuples(st.integers(1, 12), st.just(2)), elements=st.integers(-5, 5).map(float)),
+    cxy=arrays(np.float64, st.tuples(st.integers(1, 6), st.just(2)), elements=st.integers(-5, 5).map(float)),
+    radius=st.sampled_from([0.5, 1.0, 2.0, 3.5]),
+    p=st.integers(1, 3),
+)
+def test_cover_most_columns_agree_with_distances_on_awkward_grids(xy, cxy, radius, p):
+    """Repeated points, repeated candidates and points exactly at the radius (integer grids):
+    whatever the plan, its columns agree with scipy's distances to the sites it names."""
+    demand = gpd.GeoSeries(gpd.points_from_xy(xy[:, 0], xy[:, 1]), index=[f"d{i}" for i in range(len(xy))])
+    candidates = gpd.GeoSeries(gpd.points_from_xy(cxy[:, 0], cxy[:, 1]), index=[f"c{j}" for j in range(len(cxy))])
+    if p > len(cxy):
+        with pytest.raises(InputError):
+            gis.cover_most(demand, p, radius, candidates=candidates, planar=True)
+        return
+    plan = gis.cover_most(demand, p, radius, candidates=candidates, planar=True)
+    chosen = [candidates.index.get_loc(label) for label in plan.sites["source_row"]]
+    assert len(chosen) == p
+    d = cdist(xy, cxy[chosen])  # scipy
+    assert plan.demand["covering"].tolist() == (d <= radius).sum(axis=1).tolist()
+    np.testing.assert_allclose(plan.demand["distance_u"], d.min(axis=1), rtol=1e-12, atol=0)
+    covered = (d <= radius).any(axis=1)
+    assert int(plan.summary["uncovered_points"].iloc[0]) == int((~covered).sum())
+    best = milp_max_cover(cdist(xy, cxy) <= radius, np.ones(len(xy)), p)  # scipy.optimize.milp
+    assert float(plan.summary["covered_load"].iloc[0]) == pytest.approx(best)
