@@ -187,4 +187,7 @@ def test_candidates_file_without_coordinates_is_one_line(files, tmp_path, capsys
 def test_uncoverable_row_is_one_line_naming_the_line(files, capsys):
     homes, parcels = files
     code, _, err = run(["cover-all", homes, "--crs", "EPSG:32632", "--radius", 1, "--candidates", parcels], capsys)
-    assert_user_error(code, err, "line")
+    # scipy cdist: the first home beyond 1 m of every parcel, and its nearest parcel (CSV line numbers).
+    d = cdist(XY, CXY)
+    first = int(np.argmax(d.min(axis=1) > 1))
+    assert_user_error(code, err, f"points[{first + 2}]", f"row {int(d[first].argmin()) + 2}", "line numbers")

@@ -283,10 +283,14 @@ def test_by_with_candidates_is_refused():
         gis.p_median(demand, 1, by="zone", candidates=candidates, planar=True)
 
 
-def test_uncoverable_row_names_its_label():
-    demand, candidates, _, _ = planar_case(2)
-    with pytest.raises(InputError, match="h"):
+def test_uncoverable_row_names_its_label_and_its_nearest_candidate():
+    demand, candidates, xy, cxy = planar_case(2)
+    d = cdist(xy, cxy)  # scipy: the first row beyond 0.5 of every candidate, and its nearest one
+    first = int(np.argmax(d.min(axis=1) > 0.5))
+    with pytest.raises(InputError) as info:
         gis.cover_all(demand, 0.5, candidates=candidates, planar=True)
+    text = str(info.value)
+    assert f"'h{first}'" in text and f"row 'parcel-{int(d[first].argmin())}'" in text
 
 
 @settings(max_examples=25)

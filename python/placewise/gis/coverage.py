@@ -16,6 +16,7 @@ covered weight and share, the uncovered rows and the proven bound.
 
 from __future__ import annotations
 
+import re
 from typing import Any
 
 import numpy as np
@@ -23,7 +24,7 @@ import numpy as np
 import placewise as _pw
 
 from .._core import InputError
-from .._errors import labelled
+from .._errors import labelled, plain
 from ._frames import MAX_SCALE_ERROR, Prepared, call, in_user_terms, prepare_together, weights, with_unit
 
 __all__ = ["cover_all", "cover_most", "evaluate_sites"]
@@ -106,6 +107,20 @@ def _radius(radius: Any) -> float:
     return float(radius)
 
 
+def _candidate_named(exc: InputError, labels: np.ndarray | None) -> InputError:
+    """``exc`` with the kernel's candidate column (a position in the candidates frame) named
+    by the candidate's row label, as every other row in the message is."""
+    text = str(exc)
+    match = re.search(r"cheapest candidate, column (\d+)", text)
+    if labels is None or match is None or int(match[1]) >= len(labels):
+        return exc
+    out = type(exc)(text.replace(match[0], f"cheapest candidate, row {plain(labels[int(match[1])])!r}"))
+    for name in ("argument", "group", "row", "detail"):
+        if hasattr(exc, name):
+            setattr(out, name, getattr(exc, name))
+    return out
+
+
 def _rows(pf: Prepared) -> dict[str, Any]:
     return {"points": pf.rows, "weights": pf.rows}
 
@@ -180,8 +195,11 @@ def cover_all(
     pf, companions = prepare_together(frame, "frame", {"candidates": candidates}, planar=planar,
                                       centroids=centroids, **model)
     cf = companions.get("candidates")
-    result = call(_pw.cover_all, pf.xy, radius, rows={**_rows(pf), **({} if cf is None else {"candidates": cf.rows})},
-                  weights=weights(pf, weight, "frame"), candidates=None if cf is None else cf.xy)
+    try:
+        result = call(_pw.cover_all, pf.xy, radius, rows={**_rows(pf), "radius": pf.rows},
+                      weights=weights(pf, weight, "frame"), candidates=None if cf is None else cf.xy)
+    except InputError as exc:
+        raise _candidate_named(exc, None if cf is None else cf.rows) from None
     sources = Sources()
     if cf is None:
         sources.add("anywhere", count=len(result.candidates))
