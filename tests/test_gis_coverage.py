@@ -319,3 +319,21 @@ def test_cover_most_columns_agree_with_distances_on_awkward_grids(xy, cxy, radiu
     assert int(plan.summary["uncovered_points"].iloc[0]) == int((~covered).sum())
     best = milp_max_cover(cdist(xy, cxy) <= radius, np.ones(len(xy)), p)  # scipy.optimize.milp
     assert float(plan.summary["covered_load"].iloc[0]) == pytest.approx(best)
+
+
+def test_region_with_groups_on_lonlat_shares_one_frame():
+    rng = np.random.default_rng(31)
+    lon, lat = 5.3 + 0.2 * rng.random(60), 60.3 + 0.1 * rng.random(60)
+    demand = gpd.GeoDataFrame({"ward": np.repeat(["east", "west"], 30)}, geometry=gpd.points_from_xy(lon, lat),
+                              crs="EPSG:4326")
+    zone = gpd.GeoSeries([shapely.box(5.30, 60.30, 5.36, 60.33)], crs="EPSG:4326")
+    out = gis.minimax_point(demand, by="ward", region=zone)
+    assert out["ward"].tolist() == ["east", "west"] and out["work_crs"].nunique() == 1
+    # shapely in lon/lat: every group's site in the region (up to its densified edges).
+    assert zone.iloc[0].buffer(1e-7).covers(out.geometry).all()
+    # pyproj.Geod: the reported radius is the largest distance from the site, to the frame's error.
+    for ward, row in zip(out["ward"], out.itertuples()):
+        mine = (demand["ward"] == ward).to_numpy()
+        site = row.geometry
+        _, _, d = GEOD.inv(lon[mine], lat[mine], np.full(mine.sum(), site.x), np.full(mine.sum(), site.y))
+        np.testing.assert_allclose(row.weighted_radius_m, d.max(), rtol=2 * row.scale_error)
