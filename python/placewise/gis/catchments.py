@@ -12,7 +12,8 @@ except ImportError:  # pragma: no cover - exercised only without the extra
 
 import placewise as _pw
 
-from ._frames import MAX_SCALE_ERROR, call, framed, groups_of, prepare, region_geometry
+from ._frames import MAX_SCALE_ERROR, call, framed, groups_of, prepare
+from ._together import region_geometry
 from .plans import nearest_site
 
 __all__ = ["voronoi_cells"]

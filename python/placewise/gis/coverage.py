@@ -7,7 +7,7 @@
 * :func:`evaluate_sites` — how the sites of today's network serve the demand.
 
 Candidate sites (a frame of parcels, say) and existing sites come as frames of their own and
-are brought into the demand's working CRS (:func:`~placewise.gis._frames.prepare_together`).
+are brought into the demand's working CRS (:func:`~placewise.gis._together.prepare_together`).
 Every answer is a :class:`~placewise.gis.SitePlan` whose tables come from the result's own
 tables (:mod:`placewise.discrete`): the ``sites`` name the row each site came from, the
 ``demand`` says whether and how often each row is covered, and the ``summary`` holds the
@@ -25,7 +25,8 @@ import placewise as _pw
 
 from .._core import InputError
 from .._errors import labelled, plain
-from ._frames import MAX_SCALE_ERROR, Prepared, call, in_user_terms, prepare_together, weights, with_unit
+from ._frames import MAX_SCALE_ERROR, Prepared, call, in_user_terms, weights, with_unit
+from ._together import prepare_together
 
 __all__ = ["cover_all", "cover_most", "evaluate_sites"]
 

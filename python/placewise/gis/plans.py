@@ -20,12 +20,11 @@ from ._frames import (
     groups_of,
     in_user_terms,
     prepare,
-    prepare_together,
-    region_geometry,
     shared_groups,
     weights,
     with_unit,
 )
+from ._together import prepare_together, region_geometry
 
 __all__ = ["SitePlan", "nearest_site", "p_center", "p_median"]
 
