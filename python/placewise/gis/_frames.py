@@ -587,4 +587,3 @@ def row_labels(table: Any, prepared: Prepared, columns: Sequence[str]) -> None:
     """Replace columns of input row positions (-1 for none) by the frame's index labels (None)."""
     for name in columns:
         table[name] = labelled(table[name].to_numpy(), prepared.rows)
-
