@@ -17,6 +17,7 @@ Examples
 
     $ placewise weber-point shops.csv --weight visits -o best.gpkg
     $ placewise p-median homes.gpkg:homes -p 5 --weight people --id address -o plan.gpkg --assignment plan.gpkg
+    $ placewise cover-most homes.csv -p 3 --radius 5000 --candidates parcels.gpkg --id parcel -o chosen.gpkg
     $ placewise voronoi-cells depots.geojson --region county.geojson --demand homes.geojson -o areas.gpkg
     $ placewise delaunay masts.csv --planar --id mast -o mesh.parquet
     $ placewise demo --out demo_out
@@ -31,13 +32,13 @@ import sys
 from collections.abc import Callable, Sequence
 from types import SimpleNamespace
 
-from . import _commands
+from . import _commands, _coverage
 from ._io import _FORMATS, UserError, _check_crs, _one_line, _Parser, _positive_float
 
 __all__ = ["main"]
 
 # Each family's module adds its subcommands through ``register(command, parents)``.
-_FAMILIES = (_commands,)
+_FAMILIES = (_commands, _coverage)
 
 
 def build_parser() -> argparse.ArgumentParser:

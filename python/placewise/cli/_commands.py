@@ -8,6 +8,7 @@ from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
+from ._coverage import add_place_options, place_options
 from ._io import (
     UserError,
     _by,
@@ -29,7 +30,8 @@ def _cmd_weber_point(args: argparse.Namespace) -> None:
     from .. import gis
 
     frame = read_points(args.input, args)
-    out = gis.weber_point(frame, args.weight, metric=args.metric, **_by(args), **_common(args))
+    out = gis.weber_point(frame, args.weight, metric=args.metric, **place_options(args), **_by(args),
+                          **_common(args))
     write_frame(out, args.output, args, "weber_point")
     cost, unit = _measure(out, "cost")
     _note(args, f"{_solved(out)} site(s); total weighted distance {out[cost].sum():.6g} "
@@ -39,7 +41,8 @@ def _cmd_weber_point(args: argparse.Namespace) -> None:
 def _cmd_minimax_point(args: argparse.Namespace) -> None:
     from .. import gis
 
-    out = gis.minimax_point(read_points(args.input, args), args.weight, **_by(args), **_common(args))
+    out = gis.minimax_point(read_points(args.input, args), args.weight, **place_options(args), **_by(args),
+                            **_common(args))
     write_frame(out, args.output, args, "minimax_point")
     radius, unit = _measure(out, "weighted_radius")
     _note(args, f"{_solved(out)} site(s); largest weighted distance {out[radius].max():.6g} "
@@ -150,7 +153,7 @@ def _plan_command(kind: str, args: argparse.Namespace) -> None:
     from .. import gis
 
     frame = read_points(args.input, args)
-    options: dict[str, Any] = {"seed": args.seed}
+    options: dict[str, Any] = {"seed": args.seed, **place_options(args)}
     if kind == "median":
         options["effort"] = args.effort
         if args.fixed is not None:
@@ -167,7 +170,8 @@ def _plan_command(kind: str, args: argparse.Namespace) -> None:
         _note(args, f"{_solved(plan.sites)} site(s); total weighted distance {plan.summary[cost].sum():.6g} "
                     f"(weight x {_unit_text(unit)}){_skipped(args, plan.summary)}")
     else:
-        radius, unit = _measure(plan.summary, "weighted_radius")
+        # Chosen among candidates, the objective is the discrete p-center's weighted_worst.
+        radius, unit = _measure(plan.summary, "weighted_radius" if args.candidates is None else "weighted_worst")
         _note(args, f"{_solved(plan.sites)} site(s); largest weighted distance {plan.summary[radius].max():.6g} "
                     f"(weight x {_unit_text(unit)}){_skipped(args, plan.summary)}")
 
@@ -189,7 +193,10 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
     p.add_argument("--metric", choices=["euclidean", "manhattan"], default="euclidean",
                    help="distance measured straight (euclidean) or along the axes of the working CRS "
                         "(manhattan) [euclidean]")
-    command("minimax-point", _cmd_minimax_point, "the site minimising the largest weighted distance", [weight, by])
+    add_place_options(p, candidates=False)
+    p = command("minimax-point", _cmd_minimax_point, "the site minimising the largest weighted distance",
+                [weight, by])
+    add_place_options(p, candidates=False)
     command("enclosing-circle", _cmd_enclosing_circle, "the smallest circle covering the points", [by])
     p = command("enclosing-ellipse", _cmd_enclosing_ellipse, "the minimum-area ellipse covering the points", [by])
     p.add_argument("--tol", type=_positive_float, default=1e-7, help="relative area gap allowed [1e-7]")
@@ -217,6 +224,7 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
         p = command(name, functools.partial(_plan_command, kind), text, [weight, by, seed, summary])
         p.add_argument("-p", type=_positive_int, required=True, help="number of sites (per group)")
         p.add_argument("--assignment", metavar="FILE", help="also write the input rows with their site and distance")
+        add_place_options(p)
         if kind == "median":
             p.add_argument("--effort", choices=["fast", "normal", "thorough"], default="normal",
                            help="time against quality: fast is one short search; thorough runs more and "

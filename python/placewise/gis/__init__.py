@@ -18,6 +18,12 @@ GeoDataFrames in the input's CRS. Coordinates are handled as follows:
   ``InputError`` saying how to proceed (split with ``by=``, or choose ``work_crs=``), never
   answered with silently distorted metres. Geographic regions are densified along their
   edges before projection;
+* **candidates, existing sites and regions** come as frames of their own, in any CRS, and
+  are brought into the points' working CRS; for geographic input that frame is chosen over
+  all of them together, so its ``scale_error`` covers every location the model uses. A
+  coverage ``radius`` is in **metres** for geographic input and in the CRS's unit otherwise.
+  :func:`weber_point` and :func:`minimax_point` with a ``region`` solve in a projected
+  working frame (the ellipsoid forms take no region);
 * **no CRS** raises ``InputError`` unless ``planar=True`` says the coordinates are already
   planar (columns then end in ``_u``: the coordinates' own unit).
 
@@ -37,6 +43,7 @@ Requires the ``geo`` extra (geopandas, pyproj).
 from __future__ import annotations
 
 from .catchments import voronoi_cells
+from .coverage import cover_all, cover_most, evaluate_sites
 from .networks import Network, spanning_tree, steiner_tree
 from .plans import SitePlan, nearest_site, p_center, p_median
 from .sites import enclosing_circle, enclosing_ellipse, minimax_point, weber_point
@@ -44,8 +51,11 @@ from .sites import enclosing_circle, enclosing_ellipse, minimax_point, weber_poi
 __all__ = [
     "Network",
     "SitePlan",
+    "cover_all",
+    "cover_most",
     "enclosing_circle",
     "enclosing_ellipse",
+    "evaluate_sites",
     "minimax_point",
     "nearest_site",
     "p_center",

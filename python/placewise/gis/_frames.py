@@ -383,6 +383,7 @@ def prepare(
             xy, frames, frame_of_group, group_error = _frames_per_group(lonlat, groups, name, max_scale_error)
             return Prepared(frame, xy, frame.crs, frames[0], float(group_error.max()), groups, frames,
                             frame_of_group, group_error)
+    companion = not isinstance(work, str)  # the working CRS is a companion frame's: never switched here
     if isinstance(work, str):
         work = _working_crs(frame, name, planar, work_crs, lonlat)
     elif (work is None) != (frame.crs is None):
@@ -397,7 +398,7 @@ def prepare(
             _warn_degrees_in_projected(frame, xy, name, frame.crs)
         return Prepared(frame, xy, frame.crs, work, groups=groups)
     error = scale_error_over(work, lonlat, xy)
-    if error > max_scale_error and work_crs is None:
+    if error > max_scale_error and work_crs is None and not companion:
         # Too wide for its UTM zone: a transverse Mercator frame on the data's own centre.
         centred = _centred_frame(float(_centre(lonlat)[0]))
         centred_xy = _points_of(frame.to_crs(centred), name, centroids)

@@ -7,55 +7,16 @@ from typing import Any, Literal
 
 try:
     import geopandas as gpd
-    import shapely
-    from pyproj import CRS
 except ImportError:  # pragma: no cover - exercised only without the extra
     raise ImportError("placewise.gis needs geopandas and pyproj: pip install 'placewise[geo]'") from None
 
 import placewise as _pw
 
-from .._core import InputError
-from ._frames import MAX_SCALE_ERROR, Prepared, call, framed, groups_of, prepare
+from ._frames import MAX_SCALE_ERROR, call, framed, groups_of, prepare
+from ._together import region_geometry
 from .plans import nearest_site
 
 __all__ = ["voronoi_cells"]
-
-
-# Longest edge, in degrees, of a geographic region before it is projected: a straight edge in
-# lon/lat is a curve in the working frame, so projecting only its vertices would cut the
-# region short (or spill past it) between them.
-_REGION_STEP_DEGREES = 0.01
-
-
-def _densified(series: Any) -> Any:
-    """A geographic region with vertices inserted along its edges (projected ones as they are)."""
-    if series.crs is None or not CRS(series.crs).is_geographic:
-        return series
-    return gpd.GeoSeries(shapely.segmentize(series.values, _REGION_STEP_DEGREES), crs=series.crs)
-
-
-def _region_geometry(region: Any, pf: Prepared) -> Any:
-    """The study region as one shapely geometry in the working CRS."""
-    if region is None:
-        return None
-    if isinstance(region, (gpd.GeoDataFrame, gpd.GeoSeries)):
-        series = region.geometry if isinstance(region, gpd.GeoDataFrame) else region
-        if len(series) == 0:
-            raise InputError("region has no rows")
-        if (series.crs is None) != (pf.work is None):
-            raise InputError("region: either both sites and region have a CRS or neither has")
-        if series.crs is not None and not CRS(series.crs).equals(pf.work):
-            series = _densified(series).to_crs(pf.work)
-        geom = series.union_all()
-    elif isinstance(region, shapely.Geometry):
-        geom = region
-        if pf.crs is not None and pf.work is not None and not CRS(pf.crs).equals(pf.work):
-            geom = _densified(gpd.GeoSeries([geom], crs=pf.crs)).to_crs(pf.work).iloc[0]
-    else:
-        raise InputError(f"region must be a GeoDataFrame, GeoSeries or shapely geometry; got {type(region).__name__}")
-    if geom.is_empty or geom.area <= 0.0:
-        raise InputError("region has no area (it must be polygonal)")
-    return geom
 
 
 def voronoi_cells(
@@ -100,7 +61,7 @@ def voronoi_cells(
     """
     model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
     pf = prepare(sites, "sites", planar=planar, centroids=centroids, **model)
-    geom = _region_geometry(region, pf)
+    geom = region_geometry(region, pf)
     groups = groups_of(pf.frame, by, "sites")
     rows = {"sites": pf.rows}
     grouped = {} if groups is None else {"errors": errors}

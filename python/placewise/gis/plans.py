@@ -24,6 +24,7 @@ from ._frames import (
     weights,
     with_unit,
 )
+from ._together import prepare_together, region_geometry
 
 __all__ = ["SitePlan", "nearest_site", "p_center", "p_median"]
 
@@ -133,13 +134,20 @@ def nearest_site(
 
 
 def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bool, centroids: bool,
-          errors: str, options: dict[str, Any], model: dict[str, Any], fixed: Any = None) -> SitePlan:
-    # Each group in a frame of its own, unless existing sites must share the demand's frame.
-    pf = prepare(frame, "frame", planar=planar, centroids=centroids, by=by if fixed is None else None, **model)
-    groups = pf.groups if fixed is None else groups_of(pf.frame, by, "frame")
+          errors: str, options: dict[str, Any], model: dict[str, Any], fixed: Any = None,
+          candidates: Any = None, region: Any = None) -> SitePlan:
+    if candidates is not None:
+        return _plan_on_candidates(kind, frame, p, weight, by, planar, centroids, model, fixed, candidates, region)
+    # Each group in a frame of its own, unless existing sites or a region must share the
+    # demand's frame (chosen over all of them).
+    pf, companions = prepare_together(frame, "frame", {"fixed": fixed}, planar=planar, centroids=centroids,
+                                      region=region, by=by, **model)
+    groups = pf.groups
     rows = {"points": pf.rows, "weights": pf.rows}
+    if region is not None:
+        options = {**options, "region": region_geometry(region, pf, "frame")}
     if fixed is not None:
-        ff = prepare(fixed, "fixed", planar=planar, centroids=centroids, work=pf.work, **model)
+        ff = companions["fixed"]
         options = {**options, "fixed": ff.xy}
         rows["fixed"] = ff.rows
         if groups is not None:
@@ -165,6 +173,35 @@ def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bo
                     _summary(result, pf, groups, rows))
 
 
+def _plan_on_candidates(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bool, centroids: bool,
+                        model: dict[str, Any], fixed: Any, candidates: Any, region: Any) -> SitePlan:
+    """The discrete p-median or p-center (:mod:`placewise.discrete`) on straight-line
+    distances to the rows of ``candidates`` that the region holds; existing sites are
+    appended to them as open candidates (they may lie outside the region)."""
+    from .._region import candidates_in_region
+    from .coverage import Sources, selection_plan
+
+    if by is not None:
+        raise InputError("by= is not supported with candidates (sites chosen from a list); run each group on its own")
+    pf, companions = prepare_together(frame, "frame", {"candidates": candidates, "fixed": fixed}, planar=planar,
+                                      centroids=centroids, region=region, **model)
+    cf, ff = companions["candidates"], companions.get("fixed")
+    where, kept = cf.xy, None
+    if region is not None:
+        where, kept = candidates_in_region(cf.xy, region_geometry(region, pf, "frame"))
+    sources = Sources()
+    sources.add("candidates", cf, kept)
+    options: dict[str, Any] = {}
+    if ff is not None:
+        options["fixed"] = np.arange(len(where), len(where) + len(ff.xy))
+        where = np.concatenate([where, ff.xy])
+        sources.add("fixed", ff)
+    kernel = _pw.p_median if kind == "median" else _pw.p_center
+    rows = {"points": pf.rows, "weights": pf.rows}
+    result = call(kernel, pf.xy, p, weights(pf, weight, "frame"), candidates=where, rows=rows, **options)
+    return selection_plan(result, pf, sources)
+
+
 def framed_sites(sites: Any, pf: Prepared, result: Any, groups: Any, rows: Any) -> Any:
     """A plan's sites table as points in the caller's CRS, in the user's terms."""
     import geopandas as gpd
@@ -179,6 +216,7 @@ def framed_sites(sites: Any, pf: Prepared, result: Any, groups: Any, rows: Any) 
 
 def p_median(
     frame: Any, p: int, weight: Any = None, by: str | None = None, *, fixed: Any = None,
+    candidates: Any = None, region: Any = None,
     planar: bool = False, centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
     errors: Literal["raise", "skip"] = "raise", **options: Any,
 ) -> SitePlan:
@@ -193,14 +231,32 @@ def p_median(
         As in :func:`placewise.gis.weber_point`.
     fixed : GeoDataFrame or GeoSeries of points, optional
         Existing sites that stay where they are (``p`` counts only the new ones).
+    candidates : GeoDataFrame or GeoSeries of points, optional
+        Where the new sites may go (parcels, say; any CRS, ``centroids=True`` for polygons):
+        the discrete p-median among them (:func:`placewise.discrete.p_median`: swap search
+        with a proven lower bound), on straight-line distances in the working CRS. ``by``
+        is refused with candidates.
+    region : GeoDataFrame, GeoSeries or shapely geometry, optional
+        Polygons (their union; holes allowed) where the new sites must lie, boundary
+        included; a bare geometry is in the frame's CRS. Without candidates, each site's
+        location step is the restricted Fermat–Weber point (see :func:`placewise.p_median`);
+        with candidates, only those the region holds may open (an ``InputError`` when it
+        holds none). Existing sites may lie outside it. Geographic input with a region is
+        solved in a projected working frame chosen over the demand, the region and the
+        other frames together.
     **options
-        Passed to :func:`placewise.p_median` (``seed``, ``effort``).
+        Passed to :func:`placewise.p_median` (``seed``, ``effort``; unused with candidates).
 
     Returns
     -------
     SitePlan
         ``sites`` (points with ``x``, ``y``, ``load``, ``points``, ``fixed``), ``demand``
         (a copy with ``site`` and ``distance_<unit>``) and ``summary`` (``cost_<unit>``).
+        With candidates the tables are those of :func:`placewise.gis.cover_all`: every
+        site names its ``source`` ("candidates" or "fixed") and ``source_row`` (its row
+        label there: which parcel), and the summary adds ``mean_cost_<unit>``,
+        ``worst_cost_<unit>``, ``lower_bound_<unit>`` and ``relative_gap`` (0 proves the
+        plan optimal).
 
     Examples
     --------
@@ -210,20 +266,33 @@ def p_median(
     >>> plan = gis.p_median(homes, 2, planar=True)
     >>> plan.demand["site"].nunique(), float(plan.summary["cost_u"].iloc[0])
     (2, 2.0)
+
+    Two sites among three parcels, one of which lies outside the zoned area:
+
+    >>> import shapely
+    >>> parcels = gpd.GeoDataFrame({"owner": ["a", "b", "c"]}, index=[11, 12, 13],
+    ...                            geometry=gpd.points_from_xy([0, 10, 5], [2, 2, 9]))
+    >>> pick = gis.p_median(homes, 2, candidates=parcels, region=shapely.box(-1, -1, 11, 3), planar=True)
+    >>> pick.sites["source_row"].tolist(), float(pick.summary["relative_gap"].iloc[0])
+    ([11, 12], 0.0)
     """
     return _plan("median", frame, p, weight, by, planar, centroids, errors, options,
-                    {"work_crs": work_crs, "max_scale_error": max_scale_error}, fixed)
+                 {"work_crs": work_crs, "max_scale_error": max_scale_error}, fixed, candidates, region)
 
 
 def p_center(
     frame: Any, p: int, weight: Any = None, by: str | None = None, *,
+    candidates: Any = None, region: Any = None,
     planar: bool = False, centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
     errors: Literal["raise", "skip"] = "raise", **options: Any,
 ) -> SitePlan:
     """The p sites minimising the largest weighted straight-line trip (continuous p-center).
 
-    Parameters and result are those of :func:`p_median`, with ``weighted_radius_<unit>``
-    (the largest weight × distance to the nearest site) in the summary in place of the cost.
+    Parameters and result are those of :func:`p_median` (without ``fixed``), with
+    ``weighted_radius_<unit>`` (the largest weight × distance to the nearest site) in the
+    summary in place of the cost. With ``candidates`` the discrete p-center
+    (:func:`placewise.discrete.p_center`) chooses among them: the summary's objective is
+    ``weighted_worst_<unit>``, with a proven ``lower_bound_<unit>`` and ``relative_gap``.
 
     Examples
     --------
@@ -232,6 +301,10 @@ def p_center(
     >>> homes = gpd.GeoSeries(gpd.points_from_xy([0, 0, 10, 10], [0, 2, 0, 2]))
     >>> round(float(gis.p_center(homes, 2, planar=True).summary["weighted_radius_u"].iloc[0]), 9)
     1.0
+    >>> depots = gpd.GeoSeries(gpd.points_from_xy([0, 10, 5], [1, 1, 1]), index=["n", "s", "mid"])
+    >>> chosen = gis.p_center(homes, 2, candidates=depots, planar=True)
+    >>> chosen.sites["source_row"].tolist(), float(chosen.summary["weighted_worst_u"].iloc[0])
+    (['n', 's'], 1.0)
     """
     return _plan("center", frame, p, weight, by, planar, centroids, errors, options,
-                    {"work_crs": work_crs, "max_scale_error": max_scale_error})
+                 {"work_crs": work_crs, "max_scale_error": max_scale_error}, None, candidates, region)

@@ -10,18 +10,25 @@ from placewise import geodesic as _geodesic
 
 from .._core import DegenerateInputError, InputError
 from ._frames import MAX_SCALE_ERROR, call, framed, prepare, weights
+from ._together import prepare_together, region_geometry
 
 __all__ = ["enclosing_circle", "enclosing_ellipse", "minimax_point", "weber_point"]
 
 
 def _one_per_group(kernel: Any, frame: Any, weight: Any, by: str | None, planar: bool, centroids: bool,
                    errors: str, options: dict[str, Any], weighted: bool, model: dict[str, Any],
-                   on_earth: Any = None) -> Any:
+                   on_earth: Any = None, region: Any = None) -> Any:
     """One kernel answer per group (or for the whole frame) as a GeoDataFrame in user terms;
     geographic input without ``work_crs`` goes to ``on_earth`` (the geodesic kernel), when
-    there is one, with longitude/latitude."""
-    pf = prepare(frame, "frame", planar=planar, centroids=centroids, by=by, ellipsoid=on_earth is not None,
-                 **model)
+    there is one, with longitude/latitude. With a ``region`` (the geodesic kernels take
+    none) every group shares one working frame, chosen over the points and the region."""
+    if region is not None:
+        pf, _ = prepare_together(frame, "frame", {}, planar=planar, centroids=centroids, region=region, by=by,
+                                 **model)
+        options = {**options, "region": region_geometry(region, pf, "frame")}
+    else:
+        pf = prepare(frame, "frame", planar=planar, centroids=centroids, by=by, ellipsoid=on_earth is not None,
+                     **model)
     if pf.ellipsoid:
         kernel = on_earth
     groups = pf.groups
@@ -52,7 +59,7 @@ def _geodesic_circle(points: Any, *, seed: Any = None, **options: Any) -> Any:
 
 
 def weber_point(
-    frame: Any, weight: Any = None, by: str | None = None, *,
+    frame: Any, weight: Any = None, by: str | None = None, *, region: Any = None,
     planar: bool = False, centroids: bool = False, work_crs: Any = None,
     max_scale_error: float = MAX_SCALE_ERROR, errors: Literal["raise", "skip"] = "raise", **options: Any,
 ) -> Any:
@@ -73,6 +80,14 @@ def weber_point(
     errors : {"raise", "skip"}
         With ``by``: fail on the first group without an answer, or keep it as a row whose
         ``problem`` says why and solve the rest.
+    region : GeoDataFrame, GeoSeries or shapely geometry, optional
+        Polygons (their union; holes allowed) where the site must lie, boundary included
+        (a bare geometry is in the frame's CRS). The restricted optimum (Hamacher and
+        Nickel 1995; see :func:`placewise.weber_point`) adds ``region_active`` (the region
+        moved the site), ``region_holds_demand`` and ``free_cost_<unit>`` (the unrestricted
+        optimum's cost). One region serves every group. Geographic input with a region is
+        solved in a projected working frame (UTM, chosen over the points and the region,
+        its ``scale_error`` stated), not on the ellipsoid.
     work_crs : CRS, optional
         A projected CRS to solve in instead of the ellipsoid (geographic input only).
     max_scale_error : float
@@ -112,14 +127,21 @@ def weber_point(
     Traceback (most recent call last):
     ...
     placewise.InputError: frame has no CRS: ...
+
+    The site kept on a strip of land at y >= 5, above the towns:
+
+    >>> import shapely
+    >>> kept = gis.weber_point(towns, "w", region=shapely.box(-1, 5, 5, 6), planar=True)
+    >>> float(kept["y"].iloc[0]), bool(kept["region_active"].iloc[0])
+    (5.0, True)
     """
     return _one_per_group(_pw.weber_point, frame, weight, by, planar, centroids, errors, options, weighted=True,
                           model={"work_crs": work_crs, "max_scale_error": max_scale_error},
-                          on_earth=_geodesic_weber)
+                          on_earth=_geodesic_weber, region=region)
 
 
 def minimax_point(
-    frame: Any, weight: Any = None, by: str | None = None, *,
+    frame: Any, weight: Any = None, by: str | None = None, *, region: Any = None,
     planar: bool = False, centroids: bool = False, work_crs: Any = None,
     max_scale_error: float = MAX_SCALE_ERROR, errors: Literal["raise", "skip"] = "raise",
 ) -> Any:
@@ -131,19 +153,26 @@ def minimax_point(
     -------
     GeoDataFrame
         Point geometry and columns ``points``, ``x``, ``y`` and ``weighted_radius_<unit>``
-        (the largest weight × distance at the optimum), plus ``by`` and ``problem``.
+        (the largest weight × distance at the optimum), plus ``by`` and ``problem``; with a
+        ``region``, ``gap_<unit>`` (a proven bound on the excess over the restricted
+        optimum), ``region_active``, ``region_holds_demand`` and
+        ``free_weighted_radius_<unit>``.
 
     Examples
     --------
     >>> import geopandas as gpd
     >>> from placewise import gis
+    >>> import shapely
     >>> pts = gpd.GeoSeries(gpd.points_from_xy([0, 2, 1], [0, 0, 3]))
     >>> round(float(gis.minimax_point(pts, planar=True)["weighted_radius_u"].iloc[0]), 6)   # 5/3
     1.666667
+    >>> kept = gis.minimax_point(pts, region=shapely.box(3, 0, 4, 3), planar=True)   # the site at x >= 3
+    >>> float(kept["x"].iloc[0]), bool(kept["region_active"].iloc[0])
+    (3.0, True)
     """
     return _one_per_group(_pw.minimax_point, frame, weight, by, planar, centroids, errors, {}, weighted=True,
                           model={"work_crs": work_crs, "max_scale_error": max_scale_error},
-                          on_earth=_geodesic.minimax_point)
+                          on_earth=_geodesic.minimax_point, region=region)
 
 
 def enclosing_circle(

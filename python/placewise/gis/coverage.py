@@ -1,0 +1,340 @@
+"""Coverage standards and sites chosen from candidate frames, on GeoDataFrames.
+
+* :func:`cover_all` — the fewest sites putting every demand row within ``radius`` (location
+  set covering; Toregas, Swain, ReVelle & Bergman 1971);
+* :func:`cover_most` — ``p`` sites covering the most demand weight within ``radius``
+  (maximal covering; Church & ReVelle 1974);
+* :func:`evaluate_sites` — how the sites of today's network serve the demand.
+
+Candidate sites (a frame of parcels, say) and existing sites come as frames of their own and
+are brought into the demand's working CRS (:func:`~placewise.gis._together.prepare_together`).
+Every answer is a :class:`~placewise.gis.SitePlan` whose tables come from the result's own
+tables (:mod:`placewise.discrete`): the ``sites`` name the row each site came from, the
+``demand`` says whether and how often each row is covered, and the ``summary`` holds the
+covered weight and share, the uncovered rows and the proven bound.
+"""
+
+from __future__ import annotations
+
+import re
+from typing import Any
+
+import numpy as np
+
+import placewise as _pw
+
+from .._core import InputError
+from .._errors import labelled, plain
+from ._frames import MAX_SCALE_ERROR, Prepared, call, in_user_terms, weights, with_unit
+from ._together import prepare_together
+
+__all__ = ["cover_all", "cover_most", "evaluate_sites"]
+
+
+class Sources:
+    """Where each of a discrete kernel's candidate locations came from: the name of its frame
+    (``"candidates"``, ``"fixed"``, ``"sites"``, or ``"anywhere"`` for a location the method
+    constructed) and its row label there (None for ``"anywhere"``)."""
+
+    def __init__(self) -> None:
+        self.names: list[np.ndarray] = []
+        self.labels: list[np.ndarray] = []
+
+    def add(self, name: str, prepared: Prepared | None = None, rows: np.ndarray | None = None,
+            count: int = 0) -> None:
+        """Append a frame's rows (all, or the positions ``rows``), or ``count`` constructed ones."""
+        if prepared is None:
+            self.names.append(np.full(count, name, dtype=object))
+            self.labels.append(np.full(count, None, dtype=object))
+            return
+        labels = prepared.rows if rows is None else prepared.rows[rows]
+        self.names.append(np.full(len(labels), name, dtype=object))
+        self.labels.append(np.asarray(labels, dtype=object))
+
+    def columns(self, candidate: np.ndarray) -> dict[str, np.ndarray]:
+        names = np.concatenate(self.names) if self.names else np.empty(0, dtype=object)
+        labels = np.concatenate(self.labels) if self.labels else np.empty(0, dtype=object)
+        return {"source": names[candidate], "source_row": labelled(candidate, labels)}
+
+
+def selection_plan(result: Any, pf: Prepared, sources: Sources) -> Any:
+    """A discrete result (:mod:`placewise.discrete`) as a :class:`~placewise.gis.SitePlan`
+    in the caller's CRS and terms.
+
+    ``sites``: one point per open site (index ``site``, the value the demand's ``site``
+    holds), its ``source`` frame and ``source_row`` label there, ``x``/``y`` in the working
+    CRS, ``load``, ``points`` and ``fixed``. ``demand``: the demand frame with ``site``,
+    ``distance_<unit>`` and, with a radius, ``covered`` and ``covering`` (backup coverage).
+    ``summary``: the result's totals and bound, ``uncovered_points`` with a radius, and for
+    geographic input the working frame and its scale error.
+    """
+    import geopandas as gpd
+
+    from .plans import SitePlan
+
+    result = with_unit(result, pf)
+    table = result.sites_frame()
+    candidate = table.pop("candidate").to_numpy(dtype=np.int64)
+    for position, (name, values) in enumerate(sources.columns(candidate).items()):
+        table.insert(position, name, values)
+    geometry = pf.back(gpd.points_from_xy(table["x"], table["y"])).values
+    sites = gpd.GeoDataFrame(table, geometry=geometry, crs=pf.crs)
+    sites.index.name = "site"
+
+    rows = result.to_frame()
+    demand = pf.frame.copy()
+    assignment = rows["assignment"].to_numpy(dtype=np.int64)
+    demand["site"] = np.where(assignment >= 0, assignment, None)  # -1: no site may serve the row
+    demand[f"distance_{pf.unit}"] = rows[f"cost_{pf.unit}"].to_numpy()
+    if "covered" in rows.columns:
+        demand["covered"] = rows["covered"].to_numpy(dtype=bool)
+        demand["covering"] = rows["covering"].to_numpy(dtype=np.int64)
+
+    summary = result.summary()
+    if "covered" in rows.columns:
+        summary["uncovered_points"] = int((~demand["covered"].to_numpy(dtype=bool)).sum())
+    return SitePlan(sites, demand, in_user_terms(summary, result, None, prepared=pf))
+
+
+def _radius(radius: Any) -> float:
+    """A coverage radius: a finite number above zero (checked here so the message names it
+    in this layer's terms, units included)."""
+    if isinstance(radius, bool) or not isinstance(radius, (int, float, np.integer, np.floating)):
+        raise InputError(f"radius must be a number (metres for geographic input, else the CRS's unit); "
+                         f"got {type(radius).__name__}")
+    if not (np.isfinite(radius) and radius > 0):
+        raise InputError(f"radius must be finite and above zero (metres for geographic input, else the CRS's unit); "
+                         f"got {radius!r}")
+    return float(radius)
+
+
+def _candidate_named(exc: InputError, labels: np.ndarray | None) -> InputError:
+    """``exc`` with the kernel's candidate column (a position in the candidates frame) named
+    by the candidate's row label, as every other row in the message is."""
+    text = str(exc)
+    match = re.search(r"cheapest candidate, column (\d+)", text)
+    if labels is None or match is None or int(match[1]) >= len(labels):
+        return exc
+    out = type(exc)(text.replace(match[0], f"cheapest candidate, row {plain(labels[int(match[1])])!r}"))
+    for name in ("argument", "group", "row", "detail"):
+        if hasattr(exc, name):
+            setattr(out, name, getattr(exc, name))
+    return out
+
+
+def _rows(pf: Prepared) -> dict[str, Any]:
+    return {"points": pf.rows, "weights": pf.rows}
+
+
+def cover_all(
+    frame: Any, radius: float, weight: Any = None, candidates: Any = None, *, planar: bool = False,
+    centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
+) -> Any:
+    """The fewest sites putting every demand row within ``radius`` (location set covering).
+
+    Sites are chosen among the rows of ``candidates``, or anywhere (exactly, among the
+    finite dominating set of Church 1984; see :func:`placewise.cover_all`). Straight-line
+    distance in the working CRS.
+
+    Parameters
+    ----------
+    frame : GeoDataFrame or GeoSeries of demand points
+    radius : float
+        The coverage standard: **metres** for geographic (longitude/latitude) input, which
+        is solved in a projected working frame (its UTM zone; see :mod:`placewise.gis`),
+        and the CRS's own unit otherwise (the coordinates' unit with ``planar=True``).
+        Finite and above zero.
+    weight : str or array_like, optional
+        Demand weight column (or values), for the loads and the covered weight; default 1.
+    candidates : GeoDataFrame or GeoSeries of points, optional
+        Where sites may go (e.g. parcels; ``centroids=True`` takes polygons' centroids), in
+        any CRS. Default: anywhere.
+    planar, centroids, work_crs, max_scale_error
+        As in :func:`placewise.gis.weber_point`; for geographic input the working frame is
+        chosen over the demand and the candidates together.
+
+    Returns
+    -------
+    SitePlan
+        ``sites``: one point per site, index ``site``, with ``source`` ("candidates", or
+        "anywhere" for a constructed location), ``source_row`` (the candidate's row label:
+        which parcel), ``x``/``y`` (working CRS), ``load``, ``points``, ``fixed``.
+        ``demand``: the frame with ``site``, ``distance_<unit>``, ``covered`` and
+        ``covering`` (how many sites are within the radius: backup coverage).
+        ``summary``: ``sites``, ``cost_<unit>`` (total weighted distance),
+        ``mean_cost_<unit>``, ``worst_cost_<unit>``, ``weighted_worst_<unit>``, ``load``,
+        ``points``, ``radius_<unit>``, ``covered_load``, ``covered_share``, ``chosen``,
+        ``lower_bound`` (proven least number of sites), ``relative_gap``,
+        ``uncovered_points`` (0), and for geographic input ``work_crs`` and ``scale_error``.
+
+    Raises
+    ------
+    InputError
+        For a radius that is not a number above zero, a demand row no candidate covers
+        (naming the row), and the frame errors of :mod:`placewise.gis`.
+
+    Notes
+    -----
+    For geographic input the radius is compared with distances in the working frame, which
+    differ from geodesic ones by at most the reported ``scale_error`` (a relative error,
+    0.1 % by default): a point within that margin of the radius may be counted either way.
+
+    Examples
+    --------
+    >>> import geopandas as gpd
+    >>> from placewise import gis
+    >>> homes = gpd.GeoSeries(gpd.points_from_xy([0, 1, 9, 10], [0, 0, 0, 1]))
+    >>> parcels = gpd.GeoSeries(gpd.points_from_xy([0.5, 5, 9.5], [0, 0, 0.5]), index=["p1", "p2", "p3"])
+    >>> plan = gis.cover_all(homes, 1.5, candidates=parcels, planar=True)
+    >>> plan.sites["source_row"].tolist(), int(plan.summary["lower_bound"].iloc[0])
+    (['p1', 'p3'], 2)
+    >>> plan.demand["covering"].tolist()
+    [1, 1, 1, 1]
+    """
+    radius = _radius(radius)
+    model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
+    pf, companions = prepare_together(frame, "frame", {"candidates": candidates}, planar=planar,
+                                      centroids=centroids, **model)
+    cf = companions.get("candidates")
+    try:
+        result = call(_pw.cover_all, pf.xy, radius, rows={**_rows(pf), "radius": pf.rows},
+                      weights=weights(pf, weight, "frame"), candidates=None if cf is None else cf.xy)
+    except InputError as exc:
+        raise _candidate_named(exc, None if cf is None else cf.rows) from None
+    sources = Sources()
+    if cf is None:
+        sources.add("anywhere", count=len(result.candidates))
+    else:
+        sources.add("candidates", cf)
+    return selection_plan(result, pf, sources)
+
+
+def cover_most(
+    frame: Any, p: int, radius: float, weight: Any = None, candidates: Any = None, fixed: Any = None, *,
+    planar: bool = False, centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
+) -> Any:
+    """``p`` new sites covering the most demand weight within ``radius`` (maximal covering).
+
+    Sites are chosen among the rows of ``candidates``, or anywhere (exactly, among the
+    finite dominating set of Church 1984); existing sites in ``fixed`` stay open and count
+    toward the coverage. A proven upper bound on the weight any ``p`` new sites can cover
+    comes with the plan (Lagrangian relaxation; see :func:`placewise.discrete.cover_most`).
+
+    Parameters
+    ----------
+    frame : GeoDataFrame or GeoSeries of demand points
+    p : int
+        Number of new sites.
+    radius : float
+        Metres for geographic input, else the CRS's unit (see :func:`cover_all`).
+    weight : str or array_like, optional
+        Demand weight column (or values); default 1 per row.
+    candidates : GeoDataFrame or GeoSeries of points, optional
+        Where new sites may go. Default: anywhere.
+    fixed : GeoDataFrame or GeoSeries of points, optional
+        Existing sites, open whatever the plan (``p`` counts only new ones).
+    planar, centroids, work_crs, max_scale_error
+        As in :func:`cover_all`.
+
+    Returns
+    -------
+    SitePlan
+        As :func:`cover_all` (``source`` "fixed" and ``fixed`` True for the existing
+        sites), with ``upper_bound`` and ``relative_gap`` in the summary in place of
+        ``chosen`` and ``lower_bound``; ``uncovered_points`` counts the demand rows beyond
+        the radius of every site.
+
+    Examples
+    --------
+    >>> import geopandas as gpd
+    >>> from placewise import gis
+    >>> villages = gpd.GeoDataFrame({"people": [5, 5, 1, 1, 1]},
+    ...                             geometry=gpd.points_from_xy([0, 1, 8, 9, 9], [0, 0, 0, 0, 1]))
+    >>> best = gis.cover_most(villages, 1, 1.5, "people", planar=True)
+    >>> float(best.summary["covered_load"].iloc[0]), int(best.summary["uncovered_points"].iloc[0])
+    (10.0, 3)
+    >>> clinic = gpd.GeoSeries(gpd.points_from_xy([0.5], [0]), index=["old clinic"])
+    >>> more = gis.cover_most(villages, 1, 1.5, "people", fixed=clinic, planar=True)
+    >>> more.sites[["source", "fixed"]].values.tolist(), float(more.summary["covered_share"].iloc[0])
+    ([['anywhere', False], ['fixed', True]], 1.0)
+    >>> more.sites["source_row"].tolist()[1]
+    'old clinic'
+    >>> gis.cover_most(villages, 1, 0, planar=True)
+    Traceback (most recent call last):
+    ...
+    placewise.InputError: radius must be finite and above zero (metres for geographic input, else the CRS's unit); got 0
+    """
+    radius = _radius(radius)
+    model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
+    pf, companions = prepare_together(frame, "frame", {"candidates": candidates, "fixed": fixed}, planar=planar,
+                                      centroids=centroids, **model)
+    cf, ff = companions.get("candidates"), companions.get("fixed")
+    sources = Sources()
+    if cf is None:
+        from ..coverage import _candidates as _anywhere
+
+        where = np.asarray(call(_anywhere, pf.xy, radius, None, rows=_rows(pf)), dtype=np.float64).reshape(-1, 2)
+        sources.add("anywhere", count=len(where))
+    else:
+        where = cf.xy
+        sources.add("candidates", cf)
+    rows = {**_rows(pf), **({} if cf is None else {"candidates": cf.rows})}
+    options: dict[str, Any] = {}
+    if ff is not None:
+        options["fixed"] = np.arange(len(where), len(where) + len(ff.xy))
+        where = np.concatenate([where, ff.xy])
+        sources.add("fixed", ff)
+    result = call(_pw.cover_most, pf.xy, p, radius, weights(pf, weight, "frame"), rows=rows, candidates=where,
+                  **options)
+    return selection_plan(result, pf, sources)
+
+
+def evaluate_sites(
+    frame: Any, sites_frame: Any, weight: Any = None, radius: float | None = None, *, planar: bool = False,
+    centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
+) -> Any:
+    """How today's sites serve the demand: every row to its nearest site, with the totals a
+    plan reports, so a plan and the status quo compare line by line.
+
+    Parameters
+    ----------
+    frame : GeoDataFrame or GeoSeries of demand points
+    sites_frame : GeoDataFrame or GeoSeries of points
+        The sites as they are (any CRS).
+    weight : str or array_like, optional
+        Demand weight column (or values); default 1 per row.
+    radius : float, optional
+        A coverage standard: metres for geographic input, else the CRS's unit (see
+        :func:`cover_all`); adds the coverage columns.
+    planar, centroids, work_crs, max_scale_error
+        As in :func:`cover_all`.
+
+    Returns
+    -------
+    SitePlan
+        As :func:`cover_all`, every site with ``source`` "sites" and ``source_row`` its
+        row label in ``sites_frame``; the summary has no bound (nothing was chosen).
+        Distances are straight lines in the working frame (geographic input: its UTM
+        zone, whose ``scale_error`` the summary states; :func:`placewise.gis.nearest_site`
+        measures geodesic distances instead).
+
+    Examples
+    --------
+    >>> import geopandas as gpd
+    >>> from placewise import gis
+    >>> homes = gpd.GeoSeries(gpd.points_from_xy([0, 3, 10], [0, 4, 0]))
+    >>> now = gis.evaluate_sites(homes, gpd.GeoSeries(gpd.points_from_xy([0, 10], [0, 0])), radius=4, planar=True)
+    >>> now.demand["covered"].tolist(), float(now.summary["covered_share"].iloc[0])
+    ([True, False, True], 0.6666666666666666)
+    """
+    if radius is not None:
+        radius = _radius(radius)
+    model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
+    pf, companions = prepare_together(frame, "frame", {"sites": sites_frame}, planar=planar, centroids=centroids,
+                                      **model)
+    sf = companions["sites"]
+    result = call(_pw.evaluate_sites, pf.xy, sf.xy, weights(pf, weight, "frame"), radius=radius,
+                  rows={**_rows(pf), "sites": sf.rows})
+    sources = Sources()
+    sources.add("sites", sf)
+    return selection_plan(result, pf, sources)

@@ -1,0 +1,339 @@
+"""Candidates, regions and coverage in the GeoPandas layer: what the user receives, checked
+against outside references.
+
+References named beside each check: scipy.optimize.milp on the textbook integer programs
+(set covering: Toregas et al. 1971; maximal covering: Church & ReVelle 1974; p-median with
+candidates: ReVelle & Swain 1970) for small instances, scipy's cdist for planar distances,
+pyproj.Geod for geodesic distances of lon/lat input, and shapely/GEOS for region containment.
+Frames carry index labels that are not row positions, so every row name checked also checks
+that positions never leak.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+gpd = pytest.importorskip("geopandas")
+pyproj = pytest.importorskip("pyproj")
+import shapely  # noqa: E402
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+from hypothesis.extra.numpy import arrays  # noqa: E402
+from scipy.optimize import Bounds, LinearConstraint, milp  # noqa: E402
+from scipy.spatial.distance import cdist  # noqa: E402
+
+from placewise import InputError, gis  # noqa: E402
+
+GEOD = pyproj.Geod(ellps="WGS84")
+
+
+def planar_case(seed: int, n: int = 24, m: int = 12):
+    """Demand and candidate frames without a CRS, labelled by strings that are not positions."""
+    rng = np.random.default_rng(seed)
+    xy = rng.uniform(0, 100, size=(n, 2))
+    cxy = rng.uniform(0, 100, size=(m, 2))
+    demand = gpd.GeoDataFrame({"people": rng.integers(1, 9, size=n).astype(float)},
+                              geometry=gpd.points_from_xy(xy[:, 0], xy[:, 1]), index=[f"h{i}" for i in range(n)])
+    candidates = gpd.GeoDataFrame({"owner": [f"o{j}" for j in range(m)]},
+                                  geometry=gpd.points_from_xy(cxy[:, 0], cxy[:, 1]),
+                                  index=[f"parcel-{j}" for j in range(m)])
+    return demand, candidates, xy, cxy
+
+
+def milp_set_cover(within: np.ndarray) -> int:
+    """Least number of candidates covering every row (scipy.optimize.milp; Toregas et al. 1971)."""
+    m = within.shape[1]
+    res = milp(np.ones(m), constraints=LinearConstraint(within.astype(float), lb=1, ub=np.inf),
+               integrality=np.ones(m), bounds=Bounds(0, 1))
+    assert res.status == 0
+    return int(round(res.fun))
+
+
+def milp_max_cover(within: np.ndarray, w: np.ndarray, p: int, fixed: np.ndarray | None = None) -> float:
+    """Most weight ``p`` new candidates (plus ``fixed``) cover (scipy.optimize.milp; Church &
+    ReVelle 1974): variables x_j (open) then y_i (covered), y_i <= sum_{j covers i} x_j."""
+    n, m = within.shape
+    c = np.concatenate([np.zeros(m), -w])
+    cover = np.hstack([-within.astype(float), np.eye(n)])
+    count = np.concatenate([np.ones(m), np.zeros(n)])[None, :]
+    lower = np.zeros(m + n)
+    total = p
+    if fixed is not None:
+        lower[fixed] = 1
+        total += len(fixed)
+    res = milp(c, constraints=[LinearConstraint(cover, -np.inf, 0), LinearConstraint(count, total, total)],
+               integrality=np.ones(m + n), bounds=Bounds(lower, 1))
+    assert res.status == 0
+    return float(-res.fun)
+
+
+def milp_p_median(d: np.ndarray, w: np.ndarray, p: int) -> float:
+    """Least total weighted distance of ``p`` candidates (scipy.optimize.milp; ReVelle & Swain
+    1970): x_j open, y_ij assigned, sum_j y_ij = 1, y_ij <= x_j, sum x_j = p."""
+    n, m = d.shape
+    c = np.concatenate([np.zeros(m), (w[:, None] * d).ravel()])
+    assign = np.hstack([np.zeros((n, m)), np.kron(np.eye(n), np.ones(m))])
+    link = np.hstack([-np.tile(np.eye(m), (n, 1)), np.eye(n * m)])
+    count = np.concatenate([np.ones(m), np.zeros(n * m)])[None, :]
+    res = milp(c, constraints=[LinearConstraint(assign, 1, 1), LinearConstraint(link, -np.inf, 0),
+                               LinearConstraint(count, p, p)],
+               integrality=np.concatenate([np.ones(m), np.zeros(n * m)]), bounds=Bounds(0, 1))
+    assert res.status == 0
+    return float(res.fun)
+
+
+@pytest.mark.parametrize(("seed", "radius"), [(1, 30.0), (2, 25.0), (4, 35.0)])
+def test_cover_all_candidates_match_the_set_covering_program(seed, radius):
+    demand, candidates, xy, cxy = planar_case(seed)
+    within = cdist(xy, cxy) <= radius  # scipy distances
+    assert within.any(axis=1).all()  # every row coverable (the instance is chosen so)
+    plan = gis.cover_all(demand, radius, "people", candidates, planar=True)
+    assert len(plan.sites) == milp_set_cover(within)  # scipy.optimize.milp optimum
+    chosen = [candidates.index.get_loc(label) for label in plan.sites["source_row"]]
+    assert set(plan.sites["source"]) == {"candidates"}
+    # Every row within the radius of a chosen parcel (scipy cdist), as the columns say.
+    d = cdist(xy, cxy[chosen])
+    assert (d.min(axis=1) <= radius).all()
+    assert plan.demand["covering"].tolist() == (d <= radius).sum(axis=1).tolist()
+    assert plan.demand["covered"].all() and int(plan.summary["uncovered_points"].iloc[0]) == 0
+    np.testing.assert_allclose(plan.demand["distance_u"], d.min(axis=1), rtol=1e-12)
+    # The demand's site points at the sites row of the nearest chosen parcel.
+    nearest = np.asarray(chosen)[d.argmin(axis=1)]
+    served = plan.sites.loc[plan.demand["site"].to_numpy(dtype=int), "source_row"].tolist()
+    np.testing.assert_allclose(cdist(xy, cxy)[np.arange(len(xy)), [candidates.index.get_loc(s) for s in served]],
+                               cdist(xy, cxy)[np.arange(len(xy)), nearest], rtol=1e-12)
+    assert int(plan.summary["lower_bound"].iloc[0]) <= len(plan.sites)
+    assert "radius_u" in plan.summary.columns and float(plan.summary["radius_u"].iloc[0]) == radius
+
+
+def test_cover_all_anywhere_needs_no_more_sites_than_the_candidates_program():
+    demand, candidates, xy, cxy = planar_case(5)
+    radius = 30.0
+    plan = gis.cover_all(demand, radius, planar=True)
+    sites = np.column_stack([shapely.get_x(plan.sites.geometry.values), shapely.get_y(plan.sites.geometry.values)])
+    assert (cdist(xy, sites).min(axis=1) <= radius * (1 + 1e-9)).all()  # scipy cdist
+    assert set(plan.sites["source"]) == {"anywhere"} and plan.sites["source_row"].isna().all()
+    # Sites anywhere include every demand point: never more than covering from the points.
+    assert len(plan.sites) <= milp_set_cover(cdist(xy, xy) <= radius)
+
+
+@pytest.mark.parametrize("seed", [4, 5, 6])
+def test_cover_most_matches_the_maximal_covering_program(seed):
+    demand, candidates, xy, cxy = planar_case(seed, n=30, m=14)
+    w = demand["people"].to_numpy()
+    radius, p = 25.0, 3
+    within = cdist(xy, cxy) <= radius
+    plan = gis.cover_most(demand, p, radius, "people", candidates, planar=True)
+    best = milp_max_cover(within, w, p)  # scipy.optimize.milp optimum
+    s = plan.summary
+    np.testing.assert_allclose(float(s["covered_load"].iloc[0]), best, rtol=1e-12)
+    np.testing.assert_allclose(float(s["covered_share"].iloc[0]), best / w.sum(), rtol=1e-12)
+    assert float(s["upper_bound"].iloc[0]) >= best - 1e-9
+    chosen = [candidates.index.get_loc(label) for label in plan.sites["source_row"]]
+    covered = (cdist(xy, cxy[chosen]) <= radius)
+    assert plan.demand["covering"].tolist() == covered.sum(axis=1).tolist()
+    assert int(s["uncovered_points"].iloc[0]) == int((~covered.any(axis=1)).sum())
+    assert list(plan.demand.index) == list(demand.index)
+
+
+def test_cover_most_with_existing_sites():
+    demand, candidates, xy, cxy = planar_case(8, n=30, m=14)
+    w = demand["people"].to_numpy()
+    radius, p = 22.0, 2
+    existing = gpd.GeoDataFrame({"name": ["old A", "old B"]}, geometry=gpd.points_from_xy([20, 80], [20, 80]),
+                                index=[501, 502])
+    plan = gis.cover_most(demand, p, radius, "people", candidates, fixed=existing, planar=True)
+    every = np.vstack([cxy, [[20, 20], [80, 80]]])
+    best = milp_max_cover(cdist(xy, every) <= radius, w, p, fixed=np.array([len(cxy), len(cxy) + 1]))
+    np.testing.assert_allclose(float(plan.summary["covered_load"].iloc[0]), best, rtol=1e-12)
+    old = plan.sites[plan.sites["fixed"]]
+    assert old["source"].tolist() == ["fixed", "fixed"] and sorted(old["source_row"]) == [501, 502]
+    assert (plan.sites["source"] == "candidates").sum() == p
+
+
+@pytest.mark.parametrize("seed", [11, 12])
+def test_p_median_with_candidates_matches_the_integer_program(seed):
+    demand, candidates, xy, cxy = planar_case(seed, n=15, m=8)
+    w = demand["people"].to_numpy()
+    plan = gis.p_median(demand, 3, "people", candidates=candidates, planar=True)
+    best = milp_p_median(cdist(xy, cxy), w, 3)  # scipy.optimize.milp optimum
+    np.testing.assert_allclose(float(plan.summary["cost_u"].iloc[0]), best, rtol=1e-9)
+    chosen = [candidates.index.get_loc(label) for label in plan.sites["source_row"]]
+    np.testing.assert_allclose(plan.demand["distance_u"], cdist(xy, cxy[chosen]).min(axis=1), rtol=1e-12)
+    assert "lower_bound_u" in plan.summary.columns and "relative_gap" in plan.summary.columns
+
+
+def test_region_keeps_candidates_and_sites_inside():
+    demand, candidates, xy, cxy = planar_case(13, n=20, m=16)
+    zone = shapely.box(0, 0, 60, 100)
+    inside = shapely.covers(zone, candidates.geometry.values)  # shapely containment
+    plan = gis.p_median(demand, 2, candidates=candidates, region=gpd.GeoSeries([zone]), planar=True)
+    assert shapely.covers(zone, plan.sites.geometry.values).all()
+    held = candidates.index[inside]
+    assert set(plan.sites["source_row"]) <= set(held)
+    best = milp_p_median(cdist(xy, cxy[inside]), np.ones(len(xy)), 2)
+    np.testing.assert_allclose(float(plan.summary["cost_u"].iloc[0]), best, rtol=1e-9)
+    centre = gis.p_center(demand, 2, candidates=candidates, region=zone, planar=True)
+    assert shapely.covers(zone, centre.sites.geometry.values).all()
+
+
+def test_region_on_continuous_sites():
+    demand, _, xy, _ = planar_case(14, n=40)
+    zone = shapely.Polygon([(70, 70), (100, 70), (100, 100), (70, 100)], [[(80, 80), (90, 80), (90, 90), (80, 90)]])
+    for out in (gis.weber_point(demand, "people", region=zone, planar=True),
+                gis.minimax_point(demand, "people", region=zone, planar=True)):
+        site = out.geometry.iloc[0]
+        assert zone.distance(site) <= 1e-7  # shapely: in the region, boundary included
+        assert bool(out["region_active"].iloc[0])
+    plan = gis.p_median(demand, 2, "people", region=gpd.GeoDataFrame(geometry=[zone]), planar=True)
+    assert max(zone.distance(g) for g in plan.sites.geometry) <= 1e-7
+    weber = gis.weber_point(demand, "people", region=zone, planar=True)
+    d = cdist(xy, [[weber["x"].iloc[0], weber["y"].iloc[0]]])[:, 0]
+    np.testing.assert_allclose(float(weber["cost_u"].iloc[0]), float(demand["people"].to_numpy() @ d), rtol=1e-9)
+    assert float(weber["cost_u"].iloc[0]) >= float(weber["free_cost_u"].iloc[0])
+
+
+def test_lonlat_radius_is_metres_checked_with_geodesics():
+    rng = np.random.default_rng(21)
+    lon = 10.7 + 0.15 * rng.random(60)
+    lat = 59.85 + 0.08 * rng.random(60)
+    demand = gpd.GeoDataFrame(geometry=gpd.points_from_xy(lon, lat), crs="EPSG:4326",
+                              index=[f"h{i}" for i in range(60)])
+    # Candidates in a projected CRS of their own: brought into the demand's working frame.
+    clon, clat = 10.7 + 0.15 * rng.random(15), 59.85 + 0.08 * rng.random(15)
+    candidates = gpd.GeoDataFrame(geometry=gpd.points_from_xy(clon, clat), crs="EPSG:4326").to_crs("EPSG:3035")
+    radius = 2500.0
+    plan = gis.cover_most(demand, 4, radius, candidates=candidates)
+    s = plan.summary
+    assert "radius_m" in s.columns and s["work_crs"].iloc[0].startswith("WGS 84 / UTM zone 32N")
+    error = float(s["scale_error"].iloc[0])
+    assert 0 < error <= 1e-3
+    sites = plan.sites.to_crs("EPSG:4326")
+    slon, slat = shapely.get_x(sites.geometry.values), shapely.get_y(sites.geometry.values)
+    # pyproj.Geod: geodesic distance from every row to every site.
+    _, _, d = GEOD.inv(np.repeat(lon, len(slon)), np.repeat(lat, len(slon)), np.tile(slon, 60), np.tile(slat, 60))
+    d = d.reshape(60, len(slon))
+    near = d.min(axis=1)
+    clear = np.abs(near - radius) > 2 * error * radius  # rows beyond the frame's stated error margin
+    assert clear.sum() > 40
+    assert (plan.demand["covered"].to_numpy()[clear] == (near[clear] <= radius)).all()
+    np.testing.assert_allclose(plan.demand["distance_m"], near, rtol=2 * error)
+    assert plan.demand.crs == demand.crs and plan.sites.crs == demand.crs
+
+
+def test_lonlat_region_on_weber_point():
+    rng = np.random.default_rng(3)
+    demand = gpd.GeoDataFrame(geometry=gpd.points_from_xy(2.3 + 0.1 * rng.random(50), 48.8 + 0.1 * rng.random(50)),
+                              crs="EPSG:4326")
+    zone = shapely.box(2.45, 48.95, 2.6, 49.1)  # north-east of every point: the region must move the site
+    out = gis.weber_point(demand, region=gpd.GeoSeries([zone], crs="EPSG:4326"))
+    assert bool(out["region_active"].iloc[0]) and "UTM" in out["work_crs"].iloc[0]
+    site = out.geometry.iloc[0]
+    # shapely in lon/lat: on the region's boundary up to the densified edges (1e-7 degrees).
+    assert zone.buffer(1e-7).covers(site)
+
+
+def test_evaluate_sites_against_geodesics():
+    rng = np.random.default_rng(9)
+    lon, lat = -3.2 + 0.2 * rng.random(40), 55.9 + 0.1 * rng.random(40)
+    demand = gpd.GeoDataFrame({"w": rng.integers(1, 4, 40).astype(float)},
+                              geometry=gpd.points_from_xy(lon, lat), crs="EPSG:4326")
+    today = gpd.GeoDataFrame(geometry=gpd.points_from_xy([-3.15, -3.05], [55.93, 55.97]), crs="EPSG:4326",
+                             index=["east depot", "west depot"])
+    plan = gis.evaluate_sites(demand, today, "w", radius=5000)
+    _, _, d = GEOD.inv(np.repeat(lon, 2), np.repeat(lat, 2), np.tile([-3.15, -3.05], 40), np.tile([55.93, 55.97], 40))
+    near = d.reshape(40, 2).min(axis=1)
+    error = float(plan.summary["scale_error"].iloc[0])
+    np.testing.assert_allclose(plan.demand["distance_m"], near, rtol=2 * error)
+    np.testing.assert_allclose(float(plan.summary["cost_m"].iloc[0]), demand["w"].to_numpy() @ near, rtol=2 * error)
+    assert plan.sites["source_row"].tolist() == ["east depot", "west depot"]
+    assert plan.sites["load"].sum() == demand["w"].sum()
+
+
+@pytest.mark.parametrize("radius", [0, -5.0, float("nan"), float("inf"), "10"])
+def test_bad_radius_is_an_input_error(radius):
+    demand, candidates, _, _ = planar_case(1)
+    with pytest.raises(InputError, match="radius"):
+        gis.cover_all(demand, radius, candidates=candidates, planar=True)
+    with pytest.raises(InputError, match="radius"):
+        gis.cover_most(demand, 1, radius, planar=True)
+
+
+def test_region_without_candidates_is_an_input_error():
+    demand, candidates, _, _ = planar_case(1)
+    with pytest.raises(InputError, match="region holds none"):
+        gis.p_median(demand, 1, candidates=candidates, region=shapely.box(200, 200, 300, 300), planar=True)
+
+
+def test_candidates_without_coordinates_are_an_input_error():
+    demand, candidates, _, _ = planar_case(1)
+    broken = candidates.copy()
+    broken.loc["parcel-3", "geometry"] = None
+    with pytest.raises(InputError, match="parcel-3"):
+        gis.cover_all(demand, 40.0, candidates=broken, planar=True)
+    with pytest.raises(InputError, match="either every frame has a CRS"):
+        gis.cover_all(demand.set_crs("EPSG:32632"), 40.0, candidates=candidates)
+
+
+def test_by_with_candidates_is_refused():
+    demand, candidates, _, _ = planar_case(1)
+    demand["zone"] = "a"
+    with pytest.raises(InputError, match="by="):
+        gis.p_median(demand, 1, by="zone", candidates=candidates, planar=True)
+
+
+def test_uncoverable_row_names_its_label_and_its_nearest_candidate():
+    demand, candidates, xy, cxy = planar_case(2)
+    d = cdist(xy, cxy)  # scipy: the first row beyond 0.5 of every candidate, and its nearest one
+    first = int(np.argmax(d.min(axis=1) > 0.5))
+    with pytest.raises(InputError) as info:
+        gis.cover_all(demand, 0.5, candidates=candidates, planar=True)
+    text = str(info.value)
+    assert f"'h{first}'" in text and f"row 'parcel-{int(d[first].argmin())}'" in text
+
+
+@settings(max_examples=25)
+@given(
+    xy=arrays(np.float64, st.tuples(st.integers(1, 12), st.just(2)), elements=st.integers(-5, 5).map(float)),
+    cxy=arrays(np.float64, st.tuples(st.integers(1, 6), st.just(2)), elements=st.integers(-5, 5).map(float)),
+    radius=st.sampled_from([0.5, 1.0, 2.0, 3.5]),
+    p=st.integers(1, 3),
+)
+def test_cover_most_columns_agree_with_distances_on_awkward_grids(xy, cxy, radius, p):
+    """Repeated points, repeated candidates and points exactly at the radius (integer grids):
+    whatever the plan, its columns agree with scipy's distances to the sites it names."""
+    demand = gpd.GeoSeries(gpd.points_from_xy(xy[:, 0], xy[:, 1]), index=[f"d{i}" for i in range(len(xy))])
+    candidates = gpd.GeoSeries(gpd.points_from_xy(cxy[:, 0], cxy[:, 1]), index=[f"c{j}" for j in range(len(cxy))])
+    if p > len(cxy):
+        with pytest.raises(InputError):
+            gis.cover_most(demand, p, radius, candidates=candidates, planar=True)
+        return
+    plan = gis.cover_most(demand, p, radius, candidates=candidates, planar=True)
+    chosen = [candidates.index.get_loc(label) for label in plan.sites["source_row"]]
+    assert len(chosen) == p
+    d = cdist(xy, cxy[chosen])  # scipy
+    assert plan.demand["covering"].tolist() == (d <= radius).sum(axis=1).tolist()
+    np.testing.assert_allclose(plan.demand["distance_u"], d.min(axis=1), rtol=1e-12, atol=0)
+    covered = (d <= radius).any(axis=1)
+    assert int(plan.summary["uncovered_points"].iloc[0]) == int((~covered).sum())
+    best = milp_max_cover(cdist(xy, cxy) <= radius, np.ones(len(xy)), p)  # scipy.optimize.milp
+    assert float(plan.summary["covered_load"].iloc[0]) == pytest.approx(best)
+
+
+def test_region_with_groups_on_lonlat_shares_one_frame():
+    rng = np.random.default_rng(31)
+    lon, lat = 5.3 + 0.2 * rng.random(60), 60.3 + 0.1 * rng.random(60)
+    demand = gpd.GeoDataFrame({"ward": np.repeat(["east", "west"], 30)}, geometry=gpd.points_from_xy(lon, lat),
+                              crs="EPSG:4326")
+    zone = gpd.GeoSeries([shapely.box(5.30, 60.30, 5.36, 60.33)], crs="EPSG:4326")
+    out = gis.minimax_point(demand, by="ward", region=zone)
+    assert out["ward"].tolist() == ["east", "west"] and out["work_crs"].nunique() == 1
+    # shapely in lon/lat: every group's site in the region (up to its densified edges).
+    assert zone.iloc[0].buffer(1e-7).covers(out.geometry).all()
+    # pyproj.Geod: the reported radius is the largest distance from the site, to the frame's error.
+    for ward, row in zip(out["ward"], out.itertuples()):
+        mine = (demand["ward"] == ward).to_numpy()
+        site = row.geometry
+        _, _, d = GEOD.inv(lon[mine], lat[mine], np.full(mine.sum(), site.x), np.full(mine.sum(), site.y))
+        np.testing.assert_allclose(row.weighted_radius_m, d.max(), rtol=2 * row.scale_error)
