@@ -87,6 +87,9 @@ pub struct TravelGraph {
     pub(crate) shapes: Shapes,
     /// Per node, whether it is the end of exactly one edge (a dangling end).
     pub(crate) dangling: usize,
+    /// The input line of every edge when lines were split where they cross (empty: edge
+    /// `e` is input row `e`).
+    pub(crate) source_line: Vec<u32>,
 }
 
 fn check_cost(argument: &'static str, row: usize, value: f64) -> Result<()> {
@@ -269,7 +272,15 @@ impl TravelGraph {
             components: components as usize,
             shapes,
             dangling,
+            source_line: Vec::new(),
         })
+    }
+
+    /// The input line of every edge when the lines were split where they cross
+    /// ([`LineOptions::split_crossings`](super::LineOptions)); `None` when edge `e` is input
+    /// row `e`.
+    pub fn edge_lines(&self) -> Option<&[u32]> {
+        (!self.source_line.is_empty()).then_some(&self.source_line[..])
     }
 
     /// Number of nodes.

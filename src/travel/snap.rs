@@ -44,6 +44,9 @@ pub struct Snap {
 struct Segment {
     a: Point,
     b: Point,
+    /// `b - a` and `|b - a|²` (segments of zero length are left out).
+    d: Point,
+    len2: f64,
     edge: u32,
     k: u32,
 }
@@ -52,8 +55,8 @@ impl Segment {
     /// The nearest point of the segment to `p` and its squared distance.
     #[inline]
     fn nearest(&self, p: Point) -> (Point, f64) {
-        let d = sub(self.b, self.a);
-        let t = (dot(sub(p, self.a), d) / dot(d, d)).clamp(0.0, 1.0);
+        let d = self.d;
+        let t = (dot(sub(p, self.a), d) / self.len2).clamp(0.0, 1.0);
         let q = if t <= 0.0 {
             self.a
         } else if t >= 1.0 {
@@ -99,7 +102,8 @@ impl<'g> SegmentIndex<'g> {
             let line = graph.line(e).expect("graph has geometry");
             for (k, w) in line.points().windows(2).enumerate() {
                 if w[0] != w[1] {
-                    segments.push(Segment { a: w[0], b: w[1], edge: e as u32, k: k as u32 });
+                    let d = sub(w[1], w[0]);
+                    segments.push(Segment { a: w[0], b: w[1], d, len2: dot(d, d), edge: e as u32, k: k as u32 });
                 }
             }
         }
@@ -132,8 +136,9 @@ impl<'g> SegmentIndex<'g> {
             items: Vec::new(),
         };
         let span = |s: &Segment, index: &SegmentIndex<'_>| {
-            let (i0, j0) = index.cell_of([s.a[0].min(s.b[0]), s.a[1].min(s.b[1])]);
-            let (i1, j1) = index.cell_of([s.a[0].max(s.b[0]), s.a[1].max(s.b[1])]);
+            let b = s.b;
+            let (i0, j0) = index.cell_of([s.a[0].min(b[0]), s.a[1].min(b[1])]);
+            let (i1, j1) = index.cell_of([s.a[0].max(b[0]), s.a[1].max(b[1])]);
             (i0, j0, i1, j1)
         };
         for s in &index.segments {
@@ -252,10 +257,12 @@ pub fn snap_points(
         cj * index.nx + ci
     });
     let found: Vec<Snap> = order.par_iter().with_min_len(1024).map(|&i| index.snap(points[i as usize])).collect();
-    let mut snaps = found.clone();
-    for (&i, s) in order.iter().zip(found) {
-        snaps[i as usize] = s;
+    // Back to input order: the inverse permutation, gathered in parallel.
+    let mut rank = vec![0u32; points.len()];
+    for (k, &i) in order.iter().enumerate() {
+        rank[i as usize] = k as u32;
     }
+    let snaps: Vec<Snap> = rank.par_iter().with_min_len(4096).map(|&k| found[k as usize]).collect();
     if let Some(max_gap) = max_gap {
         if let Some((row, s)) = snaps.iter().enumerate().find(|(_, s)| s.gap > max_gap) {
             return Err(Error::BeyondGap { argument, row, gap: s.gap, max_gap });
