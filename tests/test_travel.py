@@ -458,3 +458,49 @@ def test_awkward_points_answer_or_raise_input_error(call, case, points):
 def test_bad_weights_are_named(case, make):
     with pytest.raises(pw.InputError):
         _HOSTILE_GRAPH.nearest_site([[1, 1], [2, 2], [3, 3]], [[0, 0]], make(3))
+
+
+def _random_lines(seed: int, n: int) -> list[np.ndarray]:
+    """Random polylines of 2-4 vertices in a 100 x 100 square (crossings in general position)."""
+    rng = np.random.default_rng(seed)
+    return [rng.uniform(0, 100, (int(rng.integers(2, 5)), 2)) for _ in range(n)]
+
+
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_split_crossings_matches_shapely_noding(seed):
+    # Reference: shapely.unary_union nodes the lines at every crossing; its pieces have the
+    # same total length, and every node of degree >= 3 or a crossing of degree 4 is a node of
+    # both. We compare the number of pieces, the total length, and the crossing points.
+    shapely = pytest.importorskip("shapely")
+    lines = _random_lines(seed, 40)
+    noded = shapely.get_parts(shapely.unary_union(shapely.linestrings(lines)))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        g = pw.TravelGraph.from_lines(lines, split_crossings=True)
+    edges = g.edges_frame()
+    assert g.edges == len(noded)
+    assert np.isclose(edges["cost_forward_u"].sum(), shapely.length(noded).sum(), rtol=1e-12)
+    ours = np.sort(np.round(g._info["node_xy"], 6).view(complex).ravel())
+    ends = np.unique(np.round(np.concatenate([shapely.get_coordinates(shapely.boundary(p)) for p in noded]), 6),
+                     axis=0)
+    assert np.array_equal(ours, np.sort(ends.view(complex).ravel()))
+    # Each piece's cost is its length (shapely measures the unsplit line).
+    assert np.allclose(edges.groupby("line")["cost_forward_u"].sum().to_numpy(),
+                       shapely.length(shapely.linestrings(lines)), rtol=1e-12)
+
+
+def test_split_crossings_off_keeps_crossing_lines_apart_and_one_way_carries_over():
+    cross = [[(0, 0), (10, 0)], [(5, -5), (5, 5)]]
+    apart = pw.TravelGraph.from_lines(cross, one_way=[1, 0])
+    assert (apart.edges, apart.components) == (2, 2)
+    joined = pw.TravelGraph.from_lines(cross, one_way=[1, 0], split_crossings=True)
+    assert (joined.edges, joined.components) == (4, 1)
+    # From the vertical street's top to the horizontal street's east end: 5 down, 5 east (a
+    # closed form); the west end cannot be reached against the one-way street.
+    c = joined.costs([[5, 5]], [[10, 0], [0, 0]])
+    assert c[0, 0] == 10.0 and np.isnan(c[0, 1])
+    # A street ending part-way along another (a T junction) is joined there too.
+    tee = pw.TravelGraph.from_lines([[(0, 0), (10, 0)], [(4, 0), (4, 6)]], split_crossings=True)
+    assert (tee.edges, tee.components) == (3, 1)
+    with pytest.raises(pw.InputError, match=r"row 1|\[1\]"):
+        pw.TravelGraph.from_lines(cross, cost=[1.0, -1.0], split_crossings=True)

@@ -259,4 +259,5 @@ def travel_from_lines(
     reverse_cost: ArrayLike | None,
     one_way: ArrayLike | None,
     tolerance: Any,
+    split_crossings: bool = ...,
 ) -> TravelNetwork: ...

@@ -347,13 +347,13 @@ class TravelGraph:
     @classmethod
     def from_lines(
         cls, lines: Any, *, cost: Any = None, reverse_cost: Any = None, one_way: Any = None,
-        tolerance: float = 0.0, unit: str | None = None,
+        tolerance: float = 0.0, unit: str | None = None, split_crossings: bool = False,
     ) -> TravelGraph:
         """A graph whose edges are lines; line ends closer than ``tolerance`` become one node.
 
         Each line runs from its first point (tail) to its last (head). Ends are joined in line
         order: an end within ``tolerance`` of an existing node joins the nearest one. Lines
-        are joined only at their ends (split them where streets cross beforehand).
+        are joined only at their ends unless ``split_crossings`` is set.
 
         Parameters
         ----------
@@ -370,6 +370,15 @@ class TravelGraph:
         unit : str, optional
             Name of the cost unit. Default: the CRS's length unit with length costs, else
             ``"u"``.
+        split_crossings : bool
+            Split lines where two cross in their interiors, or where one ends part-way along
+            another, so that travel can turn there. Off by default: a bridge or a tunnel crosses
+            a street in the drawing without meeting it, so only set it for networks drawn
+            without grade separation (or after removing those lines). Each piece keeps its
+            line's one-way value and the share of its cost in proportion to length;
+            :meth:`edges_frame` gives each edge's input ``line``. Crossing points are decided
+            exactly (orientation tests) and rounded once; three lines through one point may
+            need a small ``tolerance`` to meet in one node. Collinear overlaps are not split.
 
         Raises
         ------
@@ -386,6 +395,13 @@ class TravelGraph:
         (3, 3, 1)
         >>> g.costs([[1, 0]], [[3, 3]])       # along the bottom, then up
         array([[5.]])
+        >>> cross = [[(0, 0), (2, 0)], [(1, -1), (1, 1)]]
+        >>> pw.TravelGraph.from_lines(cross, split_crossings=True).edges_frame()[["tail", "head", "line"]]
+           tail  head  line
+        0     0     1     0
+        1     1     2     0
+        2     3     1     1
+        3     1     4     1
         """
         length_unit, crs, labels = "u", None, None
         if hasattr(lines, "geometry") and hasattr(lines, "crs") and hasattr(lines, "columns"):
@@ -397,7 +413,7 @@ class TravelGraph:
         try:
             coords, offsets = _ragged_lines(lines)
             codes = _one_way_codes(one_way, labels)
-            core = _core.travel_from_lines(coords, offsets, cost, reverse_cost, codes, tolerance)
+            core = _core.travel_from_lines(coords, offsets, cost, reverse_cost, codes, tolerance, split_crossings)
         except InputError as exc:
             if labels is None:
                 raise
@@ -452,12 +468,16 @@ class TravelGraph:
 
     def edges_frame(self) -> Any:
         """One row per edge: ``tail``, ``head``, ``cost_forward_<unit>``,
-        ``cost_backward_<unit>`` (NaN where the direction is not allowed), ``component``."""
+        ``cost_backward_<unit>`` (NaN where the direction is not allowed), ``component``, and
+        ``line`` (the input row) when the lines were split where they cross."""
         import pandas as pd
 
         i = self._info
-        return pd.DataFrame({"tail": i["tail"], "head": i["head"], f"cost_forward_{self.unit}": i["forward"],
-                             f"cost_backward_{self.unit}": i["backward"], "component": i["edge_component"]})
+        frame = pd.DataFrame({"tail": i["tail"], "head": i["head"], f"cost_forward_{self.unit}": i["forward"],
+                              f"cost_backward_{self.unit}": i["backward"], "component": i["edge_component"]})
+        if i.get("edge_line") is not None:
+            frame["line"] = i["edge_line"]
+        return frame
 
     def components_frame(self) -> Any:
         """One row per component: ``component``, ``nodes``, ``edges``."""

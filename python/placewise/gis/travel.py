@@ -23,7 +23,7 @@ __all__ = ["network_catchments", "network_reach", "travel_costs", "travel_graph"
 
 
 def travel_graph(lines: Any, *, cost: Any = None, reverse_cost: Any = None, one_way: Any = None,
-                 tolerance: float = 0.0, unit: str | None = None) -> TravelGraph:
+                 tolerance: float = 0.0, unit: str | None = None, split_crossings: bool = False) -> TravelGraph:
     """A :class:`placewise.TravelGraph` from a GeoDataFrame of lines in a projected CRS;
     ``cost``, ``reverse_cost`` and ``one_way`` may name columns (see
     :meth:`placewise.TravelGraph.from_lines`).
@@ -38,7 +38,7 @@ def travel_graph(lines: Any, *, cost: Any = None, reverse_cost: Any = None, one_
     TravelGraph(nodes=3, edges=2, arcs=4, components=1)
     """
     return TravelGraph.from_lines(lines, cost=cost, reverse_cost=reverse_cost, one_way=one_way,
-                                  tolerance=tolerance, unit=unit)
+                                  tolerance=tolerance, unit=unit, split_crossings=split_crossings)
 
 
 def _points(graph: TravelGraph, frame: Any, argument: str) -> tuple[np.ndarray, np.ndarray]:
