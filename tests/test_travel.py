@@ -273,7 +273,7 @@ def test_points_beyond_max_gap_are_named():
         pw.TravelGraph.from_edges([0], [1], [1.0]).costs([[0, 0]], [[1, 0]])
 
 
-def test_geodataframe_lines_name_rows_by_index_and_refuse_lon_lat():
+def test_geodataframe_lines_name_rows_by_index():
     gpd = pytest.importorskip("geopandas")
     shapely = pytest.importorskip("shapely")
     frame = gpd.GeoDataFrame(
@@ -286,8 +286,40 @@ def test_geodataframe_lines_name_rows_by_index_and_refuse_lon_lat():
     assert info.value.row == "mill-rd"
     g = pw.TravelGraph.from_lines(frame)
     assert g.unit == "m" and g.costs([[0, 0]], [[100, 80]])[0, 0] == pytest.approx(180.0)
-    with pytest.raises(pw.InputError, match="geographic CRS"):
-        pw.TravelGraph.from_lines(frame.to_crs("EPSG:4326"))
+
+
+def test_lon_lat_lines_have_geodesic_lengths_and_gaps_in_metres():
+    # Reference: pyproj.Geod(ellps="WGS84") line lengths and inverse distances (Karney 2013
+    # through PROJ), an implementation we did not write.
+    gpd = pytest.importorskip("geopandas")
+    pyproj = pytest.importorskip("pyproj")
+    shapely = pytest.importorskip("shapely")
+    geod = pyproj.Geod(ellps="WGS84")
+    rng = np.random.default_rng(5)
+    lines = [np.column_stack([np.sort(rng.uniform(9.0, 9.2, 4)), rng.uniform(59.0, 59.1, 4)]) for _ in range(6)]
+    # Chain them so the network is connected: each line starts where the previous ended.
+    for a, b in zip(lines, lines[1:]):
+        b[0] = a[-1]
+    frame = gpd.GeoDataFrame(geometry=[shapely.LineString(x) for x in lines], crs="EPSG:4326")
+    g = pw.TravelGraph.from_lines(frame)
+    assert g.unit == "m" and g.length_unit == "m"
+    expected = [geod.line_length(x[:, 0], x[:, 1]) for x in lines]
+    assert np.allclose(g.edges_frame()["cost_forward_m"], expected, rtol=1e-9)
+    # The whole chain end to end.
+    assert g.costs([lines[0][0]], [lines[-1][-1]])[0, 0] == pytest.approx(sum(expected), rel=1e-9)
+    # A point off a line: its gap is the geodesic distance to the attachment point, and its
+    # position along the line the geodesic length up to it.
+    vertex = lines[2][1]
+    p = vertex + [0.0, 0.001]
+    a = g.snap([p])
+    q = a.on_edge[0]
+    assert a.gap[0] == pytest.approx(geod.inv(p[0], p[1], q[0], q[1])[2], rel=1e-9)
+    line = lines[int(a.edge[0])]
+    # The segment holding q (shapely's planar distance in degrees; q lies on it).
+    k = int(np.argmin(shapely.distance(shapely.linestrings(np.stack([line[:-1], line[1:]], axis=1)),
+                                       shapely.points(q))))
+    partial = geod.line_length(np.r_[line[: k + 1, 0], q[0]], np.r_[line[: k + 1, 1], q[1]])
+    assert a.along[0] == pytest.approx(partial, rel=1e-9)
 
 
 def test_dangling_ends_with_zero_tolerance_warn_and_tolerance_joins():

@@ -260,4 +260,5 @@ def travel_from_lines(
     one_way: ArrayLike | None,
     tolerance: Any,
     split_crossings: bool = ...,
+    geodesic: bool = ...,
 ) -> TravelNetwork: ...

@@ -2,7 +2,7 @@
 
 Straight-line distance is a model; by road is another. :class:`TravelGraph` holds a street
 network the user supplies — built from line shapes (:meth:`TravelGraph.from_lines`: arrays
-of coordinates, shapely LineStrings or a GeoDataFrame in a projected CRS) or from edge
+of coordinates, shapely LineStrings or a GeoDataFrame) or from edge
 arrays (:meth:`TravelGraph.from_edges`) — with a cost each way on every edge (length by
 default, or a column such as travel time) and one-way edges. Points are attached to the
 nearest point of the nearest edge and travel starts and ends part-way along edges, in the
@@ -22,8 +22,10 @@ Unreachable pairs (separate components, one-way edges) are explicit: ``NaN`` in 
 matrix, absent from a sparse one, site ``-1`` in a catchment. Results are planning aids under
 this model; they defer to local regulations and licensed professional judgement.
 
-Coordinates are planar: lon/lat lines are refused (project them first; geodesic edge
-lengths are not supported yet).
+Coordinates are planar, or longitude/latitude with ``geodesic=True`` (set by itself for a
+GeoDataFrame in a geographic CRS): edge lengths, gaps and positions along edges are then
+WGS84 geodesic lengths in metres. Lines drawn crossing each other meet there only with
+``split_crossings=True`` (a bridge crosses a street without meeting it).
 """
 
 from __future__ import annotations
@@ -109,15 +111,10 @@ def _ragged_lines(lines: Any) -> tuple[np.ndarray, np.ndarray]:
 def _frame_lines(frame: Any, cost: Any, reverse_cost: Any, one_way: Any) -> tuple[Any, ...]:
     """A GeoDataFrame's lines and columns (a column name or values), its CRS's length unit."""
     crs = frame.crs
-    if crs is not None and crs.is_geographic:
-        raise _input_error(
-            "lines",
-            "lines: the GeoDataFrame is in a geographic CRS (lon/lat); geodesic edge lengths are not "
-            "supported yet, so project it to a metric CRS first (for example "
-            "frame.to_crs(frame.estimate_utm_crs()))",
-        )
     unit = "u"
-    if crs is not None and crs.axis_info:
+    if crs is not None and crs.is_geographic:
+        unit = "m"  # geodesic lengths on the WGS84 ellipsoid
+    elif crs is not None and crs.axis_info:
         unit = {"metre": "m", "meter": "m", "foot": "ft", "US survey foot": "ftUS"}.get(crs.axis_info[0].unit_name, "u")
 
     def column(value: Any) -> Any:
@@ -347,7 +344,7 @@ class TravelGraph:
     @classmethod
     def from_lines(
         cls, lines: Any, *, cost: Any = None, reverse_cost: Any = None, one_way: Any = None,
-        tolerance: float = 0.0, unit: str | None = None, split_crossings: bool = False,
+        tolerance: float = 0.0, unit: str | None = None, split_crossings: bool = False, geodesic: bool = False,
     ) -> TravelGraph:
         """A graph whose edges are lines; line ends closer than ``tolerance`` become one node.
 
@@ -379,6 +376,12 @@ class TravelGraph:
             :meth:`edges_frame` gives each edge's input ``line``. Crossing points are decided
             exactly (orientation tests) and rounded once; three lines through one point may
             need a small ``tolerance`` to meet in one node. Collinear overlaps are not split.
+        geodesic : bool
+            Coordinates are longitude/latitude (degrees, WGS84): default costs, attachment
+            gaps and positions are geodesic lengths in metres on the WGS84 ellipsoid (Karney
+            2013); ``tolerance`` is in degrees. Set by itself for a GeoDataFrame in a
+            geographic CRS. The nearest edge is sought in a local frame (longitudes scaled by
+            the cosine of the mean latitude), which suits networks spanning a few degrees.
 
         Raises
         ------
@@ -407,18 +410,22 @@ class TravelGraph:
         if hasattr(lines, "geometry") and hasattr(lines, "crs") and hasattr(lines, "columns"):
             lines, cost, reverse_cost, one_way, length_unit, crs, labels = _frame_lines(
                 lines, cost, reverse_cost, one_way)
+            geodesic = geodesic or (crs is not None and crs.is_geographic)
         elif hasattr(lines, "crs") and getattr(lines, "crs", None) is not None:
-            if lines.crs.is_geographic:
-                raise _input_error("lines", "lines: geographic CRS (lon/lat) is not supported yet; project first")
+            crs = lines.crs
+            geodesic = geodesic or crs.is_geographic
+            length_unit = "m" if geodesic else length_unit
         try:
             coords, offsets = _ragged_lines(lines)
             codes = _one_way_codes(one_way, labels)
-            core = _core.travel_from_lines(coords, offsets, cost, reverse_cost, codes, tolerance, split_crossings)
+            core = _core.travel_from_lines(coords, offsets, cost, reverse_cost, codes, tolerance, split_crossings,
+                                           geodesic)
         except InputError as exc:
             if labels is None:
                 raise
             names = {k: labels for k in ("lines", "cost", "reverse_cost", "one_way")}
             raise restate(exc, row_labels=names) from None
+        length_unit = "m" if geodesic else length_unit
         cost_unit = unit if unit is not None else (length_unit if cost is None else "u")
         graph = cls(core, unit=cost_unit, length_unit=length_unit, crs=crs)
         if tolerance == 0 and graph.components > 1:

@@ -176,7 +176,7 @@ fn travel_from_edges(
 /// A graph from lines given as coordinates and offsets (line `i` is
 /// `coords[offsets[i]:offsets[i + 1]]`).
 #[pyfunction]
-#[pyo3(signature = (coords, offsets, cost, reverse_cost, one_way, tolerance, split_crossings=false))]
+#[pyo3(signature = (coords, offsets, cost, reverse_cost, one_way, tolerance, split_crossings=false, geodesic=false))]
 fn travel_from_lines(
     py: Python<'_>,
     coords: &Bound<'_, PyAny>,
@@ -186,6 +186,7 @@ fn travel_from_lines(
     one_way: Option<&Bound<'_, PyAny>>,
     tolerance: &Bound<'_, PyAny>,
     split_crossings: bool,
+    geodesic: bool,
 ) -> PyResult<TravelNetwork> {
     let coords = points_arg(coords, "lines")?;
     let offsets = labels_arg(offsets, "offsets")?;
@@ -207,6 +208,7 @@ fn travel_from_lines(
             one_way: one_way.as_deref(),
             tolerance,
             split_crossings,
+            geodesic,
         };
         TravelGraph::from_lines(xy, &offsets, &options)
     })?;

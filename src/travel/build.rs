@@ -28,6 +28,10 @@ pub struct LineOptions<'a> {
     /// code and the share of its cost in proportion to length; [`TravelGraph::edge_lines`]
     /// maps pieces to input rows.
     pub split_crossings: bool,
+    /// Coordinates are longitude/latitude in degrees: default costs (and snapping gaps and
+    /// positions) are WGS84 geodesic lengths in metres (Karney 2013, through the geodesic
+    /// family), and `tolerance` is in degrees.
+    pub geodesic: bool,
 }
 
 impl TravelGraph {
@@ -104,10 +108,19 @@ impl TravelGraph {
                     reason: format!("coordinate ({}, {}) is not finite", p[0], p[1]),
                 });
             }
-            lengths.push(line.windows(2).map(|w| distance(w[0], w[1])).sum::<f64>());
+            if options.geodesic {
+                let length = crate::geodesic::geodesic_length(line).map_err(|e| Error::InvalidEdge {
+                    argument: "lines",
+                    row,
+                    reason: format!("not a longitude/latitude line: {e}"),
+                })?;
+                lengths.push(length);
+            } else {
+                lengths.push(line.windows(2).map(|w| distance(w[0], w[1])).sum::<f64>());
+            }
         }
         if options.split_crossings {
-            return Self::from_split_lines(coords, offsets, options, &lengths);
+            return Self::from_split_lines(coords, offsets, options);
         }
         let mut tail = Vec::with_capacity(m);
         let mut head = Vec::with_capacity(m);
@@ -141,7 +154,10 @@ impl TravelGraph {
         }
         let cost = options.cost.unwrap_or(&lengths);
         let shapes = Shapes::Lines { offsets: offsets.iter().map(|&o| o as u32).collect(), coords: coords.to_vec() };
-        TravelGraph::assemble(nodes as usize, tail, head, cost, options.reverse_cost, options.one_way, shapes)
+        let mut graph =
+            TravelGraph::assemble(nodes as usize, tail, head, cost, options.reverse_cost, options.one_way, shapes)?;
+        graph.geodesic = options.geodesic;
+        Ok(graph)
     }
 
     /// [`TravelGraph::from_lines`] on the lines split where they cross: the pieces' costs are
@@ -150,7 +166,6 @@ impl TravelGraph {
         coords: &[Point],
         offsets: &[usize],
         options: &LineOptions<'_>,
-        lengths: &[f64],
     ) -> Result<TravelGraph> {
         let split = split_at_crossings(coords, offsets);
         let pieces = split.source.len();
@@ -163,15 +178,17 @@ impl TravelGraph {
         let share = |column: &[f64]| -> Vec<f64> {
             split.source.iter().zip(&split.share).map(|(&i, &f)| column[i as usize] * f).collect()
         };
-        let cost = share(options.cost.unwrap_or(lengths));
+        // Without costs each piece measures itself (planar or geodesic length).
+        let cost = options.cost.map(share);
         let reverse = options.reverse_cost.map(share);
         let one_way: Option<Vec<i64>> = options.one_way.map(|o| split.source.iter().map(|&i| o[i as usize]).collect());
         let inner = LineOptions {
-            cost: Some(&cost),
+            cost: cost.as_deref(),
             reverse_cost: reverse.as_deref(),
             one_way: one_way.as_deref(),
             tolerance: options.tolerance,
             split_crossings: false,
+            geodesic: options.geodesic,
         };
         // Errors about a piece (a bad cost or code) name its input line.
         let mut graph = TravelGraph::from_lines(&split.coords, &split.offsets, &inner).map_err(|e| match e {
