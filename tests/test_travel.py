@@ -505,7 +505,7 @@ def test_split_crossings_matches_shapely_noding(seed):
     # both. We compare the number of pieces, the total length, and the crossing points.
     shapely = pytest.importorskip("shapely")
     lines = _random_lines(seed, 40)
-    noded = shapely.get_parts(shapely.unary_union(shapely.linestrings(lines)))
+    noded = shapely.get_parts(shapely.unary_union([shapely.LineString(x) for x in lines]))
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         g = pw.TravelGraph.from_lines(lines, split_crossings=True)
@@ -518,7 +518,7 @@ def test_split_crossings_matches_shapely_noding(seed):
     assert np.array_equal(ours, np.sort(ends.view(complex).ravel()))
     # Each piece's cost is its length (shapely measures the unsplit line).
     assert np.allclose(edges.groupby("line")["cost_forward_u"].sum().to_numpy(),
-                       shapely.length(shapely.linestrings(lines)), rtol=1e-12)
+                       shapely.length([shapely.LineString(x) for x in lines]), rtol=1e-12)
 
 
 def test_split_crossings_off_keeps_crossing_lines_apart_and_one_way_carries_over():

@@ -162,11 +162,7 @@ impl TravelGraph {
 
     /// [`TravelGraph::from_lines`] on the lines split where they cross: the pieces' costs are
     /// their shares of their lines' costs, their one-way codes their lines' codes.
-    fn from_split_lines(
-        coords: &[Point],
-        offsets: &[usize],
-        options: &LineOptions<'_>,
-    ) -> Result<TravelGraph> {
+    fn from_split_lines(coords: &[Point], offsets: &[usize], options: &LineOptions<'_>) -> Result<TravelGraph> {
         let split = split_at_crossings(coords, offsets);
         let pieces = split.source.len();
         if split.coords.len() > MAX_GRAPH_INDEX || 2 * pieces > MAX_GRAPH_INDEX {
