@@ -176,6 +176,7 @@ fn travel_from_edges(
 /// A graph from lines given as coordinates and offsets (line `i` is
 /// `coords[offsets[i]:offsets[i + 1]]`).
 #[pyfunction]
+#[allow(clippy::too_many_arguments)]
 #[pyo3(signature = (coords, offsets, cost, reverse_cost, one_way, tolerance, split_crossings=false, geodesic=false))]
 fn travel_from_lines(
     py: Python<'_>,
