@@ -273,7 +273,7 @@ def test_points_beyond_max_gap_are_named():
         pw.TravelGraph.from_edges([0], [1], [1.0]).costs([[0, 0]], [[1, 0]])
 
 
-def test_geodataframe_lines_name_rows_by_index_and_refuse_lon_lat():
+def test_geodataframe_lines_name_rows_by_index():
     gpd = pytest.importorskip("geopandas")
     shapely = pytest.importorskip("shapely")
     frame = gpd.GeoDataFrame(
@@ -286,8 +286,40 @@ def test_geodataframe_lines_name_rows_by_index_and_refuse_lon_lat():
     assert info.value.row == "mill-rd"
     g = pw.TravelGraph.from_lines(frame)
     assert g.unit == "m" and g.costs([[0, 0]], [[100, 80]])[0, 0] == pytest.approx(180.0)
-    with pytest.raises(pw.InputError, match="geographic CRS"):
-        pw.TravelGraph.from_lines(frame.to_crs("EPSG:4326"))
+
+
+def test_lon_lat_lines_have_geodesic_lengths_and_gaps_in_metres():
+    # Reference: pyproj.Geod(ellps="WGS84") line lengths and inverse distances (Karney 2013
+    # through PROJ), an implementation we did not write.
+    gpd = pytest.importorskip("geopandas")
+    pyproj = pytest.importorskip("pyproj")
+    shapely = pytest.importorskip("shapely")
+    geod = pyproj.Geod(ellps="WGS84")
+    rng = np.random.default_rng(5)
+    lines = [np.column_stack([np.sort(rng.uniform(9.0, 9.2, 4)), rng.uniform(59.0, 59.1, 4)]) for _ in range(6)]
+    # Chain them so the network is connected: each line starts where the previous ended.
+    for a, b in zip(lines, lines[1:]):
+        b[0] = a[-1]
+    frame = gpd.GeoDataFrame(geometry=[shapely.LineString(x) for x in lines], crs="EPSG:4326")
+    g = pw.TravelGraph.from_lines(frame)
+    assert g.unit == "m" and g.length_unit == "m"
+    expected = [geod.line_length(x[:, 0], x[:, 1]) for x in lines]
+    assert np.allclose(g.edges_frame()["cost_forward_m"], expected, rtol=1e-9)
+    # The whole chain end to end.
+    assert g.costs([lines[0][0]], [lines[-1][-1]])[0, 0] == pytest.approx(sum(expected), rel=1e-9)
+    # A point off a line: its gap is the geodesic distance to the attachment point, and its
+    # position along the line the geodesic length up to it.
+    vertex = lines[2][1]
+    p = vertex + [0.0, 0.001]
+    a = g.snap([p])
+    q = a.on_edge[0]
+    assert a.gap[0] == pytest.approx(geod.inv(p[0], p[1], q[0], q[1])[2], rel=1e-9)
+    line = lines[int(a.edge[0])]
+    # The segment holding q (shapely's planar distance in degrees; q lies on it).
+    k = int(np.argmin(shapely.distance(shapely.linestrings(np.stack([line[:-1], line[1:]], axis=1)),
+                                       shapely.points(q))))
+    partial = geod.line_length(np.r_[line[: k + 1, 0], q[0]], np.r_[line[: k + 1, 1], q[1]])
+    assert a.along[0] == pytest.approx(partial, rel=1e-9)
 
 
 def test_dangling_ends_with_zero_tolerance_warn_and_tolerance_joins():
@@ -458,3 +490,49 @@ def test_awkward_points_answer_or_raise_input_error(call, case, points):
 def test_bad_weights_are_named(case, make):
     with pytest.raises(pw.InputError):
         _HOSTILE_GRAPH.nearest_site([[1, 1], [2, 2], [3, 3]], [[0, 0]], make(3))
+
+
+def _random_lines(seed: int, n: int) -> list[np.ndarray]:
+    """Random polylines of 2-4 vertices in a 100 x 100 square (crossings in general position)."""
+    rng = np.random.default_rng(seed)
+    return [rng.uniform(0, 100, (int(rng.integers(2, 5)), 2)) for _ in range(n)]
+
+
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_split_crossings_matches_shapely_noding(seed):
+    # Reference: shapely.unary_union nodes the lines at every crossing; its pieces have the
+    # same total length, and every node of degree >= 3 or a crossing of degree 4 is a node of
+    # both. We compare the number of pieces, the total length, and the crossing points.
+    shapely = pytest.importorskip("shapely")
+    lines = _random_lines(seed, 40)
+    noded = shapely.get_parts(shapely.unary_union([shapely.LineString(x) for x in lines]))
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        g = pw.TravelGraph.from_lines(lines, split_crossings=True)
+    edges = g.edges_frame()
+    assert g.edges == len(noded)
+    assert np.isclose(edges["cost_forward_u"].sum(), shapely.length(noded).sum(), rtol=1e-12)
+    ours = np.sort(np.round(g._info["node_xy"], 6).view(complex).ravel())
+    ends = np.unique(np.round(np.concatenate([shapely.get_coordinates(shapely.boundary(p)) for p in noded]), 6),
+                     axis=0)
+    assert np.array_equal(ours, np.sort(ends.view(complex).ravel()))
+    # Each piece's cost is its length (shapely measures the unsplit line).
+    assert np.allclose(edges.groupby("line")["cost_forward_u"].sum().to_numpy(),
+                       shapely.length([shapely.LineString(x) for x in lines]), rtol=1e-12)
+
+
+def test_split_crossings_off_keeps_crossing_lines_apart_and_one_way_carries_over():
+    cross = [[(0, 0), (10, 0)], [(5, -5), (5, 5)]]
+    apart = pw.TravelGraph.from_lines(cross, one_way=[1, 0])
+    assert (apart.edges, apart.components) == (2, 2)
+    joined = pw.TravelGraph.from_lines(cross, one_way=[1, 0], split_crossings=True)
+    assert (joined.edges, joined.components) == (4, 1)
+    # From the vertical street's top to the horizontal street's east end: 5 down, 5 east (a
+    # closed form); the west end cannot be reached against the one-way street.
+    c = joined.costs([[5, 5]], [[10, 0], [0, 0]])
+    assert c[0, 0] == 10.0 and np.isnan(c[0, 1])
+    # A street ending part-way along another (a T junction) is joined there too.
+    tee = pw.TravelGraph.from_lines([[(0, 0), (10, 0)], [(4, 0), (4, 6)]], split_crossings=True)
+    assert (tee.edges, tee.components) == (3, 1)
+    with pytest.raises(pw.InputError, match=r"row 1|\[1\]"):
+        pw.TravelGraph.from_lines(cross, cost=[1.0, -1.0], split_crossings=True)

@@ -259,4 +259,6 @@ def travel_from_lines(
     reverse_cost: ArrayLike | None,
     one_way: ArrayLike | None,
     tolerance: Any,
+    split_crossings: bool = ...,
+    geodesic: bool = ...,
 ) -> TravelNetwork: ...

@@ -2,7 +2,7 @@
 
 Straight-line distance is a model; by road is another. :class:`TravelGraph` holds a street
 network the user supplies — built from line shapes (:meth:`TravelGraph.from_lines`: arrays
-of coordinates, shapely LineStrings or a GeoDataFrame in a projected CRS) or from edge
+of coordinates, shapely LineStrings or a GeoDataFrame) or from edge
 arrays (:meth:`TravelGraph.from_edges`) — with a cost each way on every edge (length by
 default, or a column such as travel time) and one-way edges. Points are attached to the
 nearest point of the nearest edge and travel starts and ends part-way along edges, in the
@@ -22,8 +22,10 @@ Unreachable pairs (separate components, one-way edges) are explicit: ``NaN`` in 
 matrix, absent from a sparse one, site ``-1`` in a catchment. Results are planning aids under
 this model; they defer to local regulations and licensed professional judgement.
 
-Coordinates are planar: lon/lat lines are refused (project them first; geodesic edge
-lengths are not supported yet).
+Coordinates are planar, or longitude/latitude with ``geodesic=True`` (set by itself for a
+GeoDataFrame in a geographic CRS): edge lengths, gaps and positions along edges are then
+WGS84 geodesic lengths in metres. Lines drawn crossing each other meet there only with
+``split_crossings=True`` (a bridge crosses a street without meeting it).
 """
 
 from __future__ import annotations
@@ -109,15 +111,10 @@ def _ragged_lines(lines: Any) -> tuple[np.ndarray, np.ndarray]:
 def _frame_lines(frame: Any, cost: Any, reverse_cost: Any, one_way: Any) -> tuple[Any, ...]:
     """A GeoDataFrame's lines and columns (a column name or values), its CRS's length unit."""
     crs = frame.crs
-    if crs is not None and crs.is_geographic:
-        raise _input_error(
-            "lines",
-            "lines: the GeoDataFrame is in a geographic CRS (lon/lat); geodesic edge lengths are not "
-            "supported yet, so project it to a metric CRS first (for example "
-            "frame.to_crs(frame.estimate_utm_crs()))",
-        )
     unit = "u"
-    if crs is not None and crs.axis_info:
+    if crs is not None and crs.is_geographic:
+        unit = "m"  # geodesic lengths on the WGS84 ellipsoid
+    elif crs is not None and crs.axis_info:
         unit = {"metre": "m", "meter": "m", "foot": "ft", "US survey foot": "ftUS"}.get(crs.axis_info[0].unit_name, "u")
 
     def column(value: Any) -> Any:
@@ -347,13 +344,13 @@ class TravelGraph:
     @classmethod
     def from_lines(
         cls, lines: Any, *, cost: Any = None, reverse_cost: Any = None, one_way: Any = None,
-        tolerance: float = 0.0, unit: str | None = None,
+        tolerance: float = 0.0, unit: str | None = None, split_crossings: bool = False, geodesic: bool = False,
     ) -> TravelGraph:
         """A graph whose edges are lines; line ends closer than ``tolerance`` become one node.
 
         Each line runs from its first point (tail) to its last (head). Ends are joined in line
         order: an end within ``tolerance`` of an existing node joins the nearest one. Lines
-        are joined only at their ends (split them where streets cross beforehand).
+        are joined only at their ends unless ``split_crossings`` is set.
 
         Parameters
         ----------
@@ -370,6 +367,21 @@ class TravelGraph:
         unit : str, optional
             Name of the cost unit. Default: the CRS's length unit with length costs, else
             ``"u"``.
+        split_crossings : bool
+            Split lines where two cross in their interiors, or where one ends part-way along
+            another, so that travel can turn there. Off by default: a bridge or a tunnel crosses
+            a street in the drawing without meeting it, so only set it for networks drawn
+            without grade separation (or after removing those lines). Each piece keeps its
+            line's one-way value and the share of its cost in proportion to length;
+            :meth:`edges_frame` gives each edge's input ``line``. Crossing points are decided
+            exactly (orientation tests) and rounded once; three lines through one point may
+            need a small ``tolerance`` to meet in one node. Collinear overlaps are not split.
+        geodesic : bool
+            Coordinates are longitude/latitude (degrees, WGS84): default costs, attachment
+            gaps and positions are geodesic lengths in metres on the WGS84 ellipsoid (Karney
+            2013); ``tolerance`` is in degrees. Set by itself for a GeoDataFrame in a
+            geographic CRS. The nearest edge is sought in a local frame (longitudes scaled by
+            the cosine of the mean latitude), which suits networks spanning a few degrees.
 
         Raises
         ------
@@ -386,23 +398,34 @@ class TravelGraph:
         (3, 3, 1)
         >>> g.costs([[1, 0]], [[3, 3]])       # along the bottom, then up
         array([[5.]])
+        >>> cross = [[(0, 0), (2, 0)], [(1, -1), (1, 1)]]
+        >>> pw.TravelGraph.from_lines(cross, split_crossings=True).edges_frame()[["tail", "head", "line"]]
+           tail  head  line
+        0     0     1     0
+        1     1     2     0
+        2     3     1     1
+        3     1     4     1
         """
         length_unit, crs, labels = "u", None, None
         if hasattr(lines, "geometry") and hasattr(lines, "crs") and hasattr(lines, "columns"):
             lines, cost, reverse_cost, one_way, length_unit, crs, labels = _frame_lines(
                 lines, cost, reverse_cost, one_way)
+            geodesic = geodesic or (crs is not None and crs.is_geographic)
         elif hasattr(lines, "crs") and getattr(lines, "crs", None) is not None:
-            if lines.crs.is_geographic:
-                raise _input_error("lines", "lines: geographic CRS (lon/lat) is not supported yet; project first")
+            crs = lines.crs
+            geodesic = geodesic or crs.is_geographic
+            length_unit = "m" if geodesic else length_unit
         try:
             coords, offsets = _ragged_lines(lines)
             codes = _one_way_codes(one_way, labels)
-            core = _core.travel_from_lines(coords, offsets, cost, reverse_cost, codes, tolerance)
+            core = _core.travel_from_lines(coords, offsets, cost, reverse_cost, codes, tolerance, split_crossings,
+                                           geodesic)
         except InputError as exc:
             if labels is None:
                 raise
             names = {k: labels for k in ("lines", "cost", "reverse_cost", "one_way")}
             raise restate(exc, row_labels=names) from None
+        length_unit = "m" if geodesic else length_unit
         cost_unit = unit if unit is not None else (length_unit if cost is None else "u")
         graph = cls(core, unit=cost_unit, length_unit=length_unit, crs=crs)
         if tolerance == 0 and graph.components > 1:
@@ -452,12 +475,16 @@ class TravelGraph:
 
     def edges_frame(self) -> Any:
         """One row per edge: ``tail``, ``head``, ``cost_forward_<unit>``,
-        ``cost_backward_<unit>`` (NaN where the direction is not allowed), ``component``."""
+        ``cost_backward_<unit>`` (NaN where the direction is not allowed), ``component``, and
+        ``line`` (the input row) when the lines were split where they cross."""
         import pandas as pd
 
         i = self._info
-        return pd.DataFrame({"tail": i["tail"], "head": i["head"], f"cost_forward_{self.unit}": i["forward"],
-                             f"cost_backward_{self.unit}": i["backward"], "component": i["edge_component"]})
+        frame = pd.DataFrame({"tail": i["tail"], "head": i["head"], f"cost_forward_{self.unit}": i["forward"],
+                              f"cost_backward_{self.unit}": i["backward"], "component": i["edge_component"]})
+        if i.get("edge_line") is not None:
+            frame["line"] = i["edge_line"]
+        return frame
 
     def components_frame(self) -> Any:
         """One row per component: ``component``, ``nodes``, ``edges``."""

@@ -176,7 +176,8 @@ fn travel_from_edges(
 /// A graph from lines given as coordinates and offsets (line `i` is
 /// `coords[offsets[i]:offsets[i + 1]]`).
 #[pyfunction]
-#[pyo3(signature = (coords, offsets, cost, reverse_cost, one_way, tolerance))]
+#[allow(clippy::too_many_arguments)]
+#[pyo3(signature = (coords, offsets, cost, reverse_cost, one_way, tolerance, split_crossings=false, geodesic=false))]
 fn travel_from_lines(
     py: Python<'_>,
     coords: &Bound<'_, PyAny>,
@@ -185,6 +186,8 @@ fn travel_from_lines(
     reverse_cost: Option<&Bound<'_, PyAny>>,
     one_way: Option<&Bound<'_, PyAny>>,
     tolerance: &Bound<'_, PyAny>,
+    split_crossings: bool,
+    geodesic: bool,
 ) -> PyResult<TravelNetwork> {
     let coords = points_arg(coords, "lines")?;
     let offsets = labels_arg(offsets, "offsets")?;
@@ -205,6 +208,8 @@ fn travel_from_lines(
             reverse_cost: reverse.as_deref(),
             one_way: one_way.as_deref(),
             tolerance,
+            split_crossings,
+            geodesic,
         };
         TravelGraph::from_lines(xy, &offsets, &options)
     })?;
@@ -244,6 +249,7 @@ impl TravelNetwork {
             .put("node_component", PyArray1::from_iter(py, g.node_components().iter().map(|&c| c as i64)))?
             .put("edge_component", PyArray1::from_iter(py, g.edge_components().into_iter().map(|c| c as i64)))?
             .put("node_xy", xy.transpose()?)?
+            .put("edge_line", g.edge_lines().map(|l| PyArray1::from_iter(py, l.iter().map(|&i| i as i64))))?
             .done())
     }
 

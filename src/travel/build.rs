@@ -6,6 +6,7 @@ use std::collections::HashMap;
 use rstar::primitives::GeomWithData;
 use rstar::RTree;
 
+use super::crossings::split_at_crossings;
 use super::graph::{Shapes, TravelGraph, MAX_GRAPH_INDEX};
 use crate::error::{Error, Result};
 use crate::geometry::{distance, location_key, Point};
@@ -22,6 +23,15 @@ pub struct LineOptions<'a> {
     /// Line ends closer than this (coordinate units, >= 0) are joined into one node; 0 joins
     /// only ends with equal coordinates.
     pub tolerance: f64,
+    /// Split lines where they cross or where one ends on another (off by default: a bridge
+    /// or tunnel crosses a street without meeting it). Each piece keeps its line's one-way
+    /// code and the share of its cost in proportion to length; [`TravelGraph::edge_lines`]
+    /// maps pieces to input rows.
+    pub split_crossings: bool,
+    /// Coordinates are longitude/latitude in degrees: default costs (and snapping gaps and
+    /// positions) are WGS84 geodesic lengths in metres (Karney 2013, through the geodesic
+    /// family), and `tolerance` is in degrees.
+    pub geodesic: bool,
 }
 
 impl TravelGraph {
@@ -32,7 +42,8 @@ impl TravelGraph {
     /// node (the nearest one, found in an R*-tree) joins it, else it starts a new node at its
     /// own location; with `tolerance == 0` ends join exactly when their coordinates are equal
     /// ([`location_key`]). Joining is not transitive: two ends `2 × tolerance` apart stay
-    /// apart unless an end between them came first. Lines are not split where they cross.
+    /// apart unless an end between them came first. Lines are split where they cross only
+    /// with [`LineOptions::split_crossings`] (see `crossings` for the method).
     ///
     /// # Errors
     /// [`Error::InvalidEdge`] naming the row of a line with fewer than two points or a
@@ -97,7 +108,19 @@ impl TravelGraph {
                     reason: format!("coordinate ({}, {}) is not finite", p[0], p[1]),
                 });
             }
-            lengths.push(line.windows(2).map(|w| distance(w[0], w[1])).sum::<f64>());
+            if options.geodesic {
+                let length = crate::geodesic::geodesic_length(line).map_err(|e| Error::InvalidEdge {
+                    argument: "lines",
+                    row,
+                    reason: format!("not a longitude/latitude line: {e}"),
+                })?;
+                lengths.push(length);
+            } else {
+                lengths.push(line.windows(2).map(|w| distance(w[0], w[1])).sum::<f64>());
+            }
+        }
+        if options.split_crossings {
+            return Self::from_split_lines(coords, offsets, options);
         }
         let mut tail = Vec::with_capacity(m);
         let mut head = Vec::with_capacity(m);
@@ -131,6 +154,46 @@ impl TravelGraph {
         }
         let cost = options.cost.unwrap_or(&lengths);
         let shapes = Shapes::Lines { offsets: offsets.iter().map(|&o| o as u32).collect(), coords: coords.to_vec() };
-        TravelGraph::assemble(nodes as usize, tail, head, cost, options.reverse_cost, options.one_way, shapes)
+        let mut graph =
+            TravelGraph::assemble(nodes as usize, tail, head, cost, options.reverse_cost, options.one_way, shapes)?;
+        graph.geodesic = options.geodesic;
+        Ok(graph)
+    }
+
+    /// [`TravelGraph::from_lines`] on the lines split where they cross: the pieces' costs are
+    /// their shares of their lines' costs, their one-way codes their lines' codes.
+    fn from_split_lines(coords: &[Point], offsets: &[usize], options: &LineOptions<'_>) -> Result<TravelGraph> {
+        let split = split_at_crossings(coords, offsets);
+        let pieces = split.source.len();
+        if split.coords.len() > MAX_GRAPH_INDEX || 2 * pieces > MAX_GRAPH_INDEX {
+            return Err(Error::InvalidParameter {
+                name: "lines",
+                reason: format!("{pieces} pieces exceed the 32-bit indices of the graph"),
+            });
+        }
+        let share = |column: &[f64]| -> Vec<f64> {
+            split.source.iter().zip(&split.share).map(|(&i, &f)| column[i as usize] * f).collect()
+        };
+        // Without costs each piece measures itself (planar or geodesic length).
+        let cost = options.cost.map(share);
+        let reverse = options.reverse_cost.map(share);
+        let one_way: Option<Vec<i64>> = options.one_way.map(|o| split.source.iter().map(|&i| o[i as usize]).collect());
+        let inner = LineOptions {
+            cost: cost.as_deref(),
+            reverse_cost: reverse.as_deref(),
+            one_way: one_way.as_deref(),
+            tolerance: options.tolerance,
+            split_crossings: false,
+            geodesic: options.geodesic,
+        };
+        // Errors about a piece (a bad cost or code) name its input line.
+        let mut graph = TravelGraph::from_lines(&split.coords, &split.offsets, &inner).map_err(|e| match e {
+            Error::InvalidEdge { argument, row, reason } => {
+                Error::InvalidEdge { argument, row: split.source[row] as usize, reason }
+            }
+            other => other,
+        })?;
+        graph.source_line = split.source;
+        Ok(graph)
     }
 }

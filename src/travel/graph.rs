@@ -87,6 +87,12 @@ pub struct TravelGraph {
     pub(crate) shapes: Shapes,
     /// Per node, whether it is the end of exactly one edge (a dangling end).
     pub(crate) dangling: usize,
+    /// The input line of every edge when lines were split where they cross (empty: edge
+    /// `e` is input row `e`).
+    pub(crate) source_line: Vec<u32>,
+    /// Whether coordinates are longitude/latitude (degrees) and lengths geodesic metres on
+    /// the WGS84 ellipsoid.
+    pub(crate) geodesic: bool,
 }
 
 fn check_cost(argument: &'static str, row: usize, value: f64) -> Result<()> {
@@ -269,7 +275,16 @@ impl TravelGraph {
             components: components as usize,
             shapes,
             dangling,
+            source_line: Vec::new(),
+            geodesic: false,
         })
+    }
+
+    /// The input line of every edge when the lines were split where they cross
+    /// ([`LineOptions::split_crossings`](super::LineOptions)); `None` when edge `e` is input
+    /// row `e`.
+    pub fn edge_lines(&self) -> Option<&[u32]> {
+        (!self.source_line.is_empty()).then_some(&self.source_line[..])
     }
 
     /// Number of nodes.
@@ -332,6 +347,21 @@ impl TravelGraph {
                 }
                 Some(out)
             }
+        }
+    }
+
+    /// Whether coordinates are longitude/latitude and lengths WGS84 geodesic metres.
+    pub fn is_geodesic(&self) -> bool {
+        self.geodesic
+    }
+
+    /// Length of a piece of an edge's shape: planar, or geodesic metres on the WGS84
+    /// ellipsoid (Karney 2013, through the geodesic family) for a geodesic graph.
+    pub(crate) fn path_length(&self, path: &[Point]) -> f64 {
+        if self.geodesic {
+            crate::geodesic::geodesic_length(path).unwrap_or(f64::NAN)
+        } else {
+            path.windows(2).map(|w| distance(w[0], w[1])).sum()
         }
     }
 

@@ -19,6 +19,7 @@
 
 mod build;
 mod catchment;
+mod crossings;
 mod graph;
 mod pieces;
 mod search;

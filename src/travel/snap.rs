@@ -44,6 +44,9 @@ pub struct Snap {
 struct Segment {
     a: Point,
     b: Point,
+    /// `b - a` and `|b - a|²` (segments of zero length are left out).
+    d: Point,
+    len2: f64,
     edge: u32,
     k: u32,
 }
@@ -52,8 +55,8 @@ impl Segment {
     /// The nearest point of the segment to `p` and its squared distance.
     #[inline]
     fn nearest(&self, p: Point) -> (Point, f64) {
-        let d = sub(self.b, self.a);
-        let t = (dot(sub(p, self.a), d) / dot(d, d)).clamp(0.0, 1.0);
+        let d = self.d;
+        let t = (dot(sub(p, self.a), d) / self.len2).clamp(0.0, 1.0);
         let q = if t <= 0.0 {
             self.a
         } else if t >= 1.0 {
@@ -77,6 +80,11 @@ pub struct SegmentIndex<'g> {
     ny: usize,
     first: Vec<u32>,
     items: Vec<u32>,
+    /// Factor on x (1 for planar graphs): a geodesic graph's longitudes are scaled by the
+    /// cosine of its mean latitude, so that the nearest edge is sought in a local frame of
+    /// roughly equal units (an approximation for networks spanning a few degrees; gaps and
+    /// positions are then measured on the ellipsoid).
+    scale_x: f64,
 }
 
 impl<'g> SegmentIndex<'g> {
@@ -94,12 +102,26 @@ impl<'g> SegmentIndex<'g> {
                     .into(),
             });
         }
+        let scale_x = if graph.is_geodesic() {
+            let (mut sum, mut count) = (0.0, 0usize);
+            for e in 0..graph.edge_count() {
+                for p in graph.line(e).expect("graph has geometry").points() {
+                    sum += p[1];
+                    count += 1;
+                }
+            }
+            (sum / count.max(1) as f64).to_radians().cos().max(1e-6)
+        } else {
+            1.0
+        };
         let mut segments = Vec::new();
         for e in 0..graph.edge_count() {
             let line = graph.line(e).expect("graph has geometry");
             for (k, w) in line.points().windows(2).enumerate() {
                 if w[0] != w[1] {
-                    segments.push(Segment { a: w[0], b: w[1], edge: e as u32, k: k as u32 });
+                    let w = [[w[0][0] * scale_x, w[0][1]], [w[1][0] * scale_x, w[1][1]]];
+                    let d = sub(w[1], w[0]);
+                    segments.push(Segment { a: w[0], b: w[1], d, len2: dot(d, d), edge: e as u32, k: k as u32 });
                 }
             }
         }
@@ -130,10 +152,12 @@ impl<'g> SegmentIndex<'g> {
             ny,
             first: vec![0; nx * ny + 1],
             items: Vec::new(),
+            scale_x,
         };
         let span = |s: &Segment, index: &SegmentIndex<'_>| {
-            let (i0, j0) = index.cell_of([s.a[0].min(s.b[0]), s.a[1].min(s.b[1])]);
-            let (i1, j1) = index.cell_of([s.a[0].max(s.b[0]), s.a[1].max(s.b[1])]);
+            let b = s.b;
+            let (i0, j0) = index.cell_of([s.a[0].min(b[0]), s.a[1].min(b[1])]);
+            let (i1, j1) = index.cell_of([s.a[0].max(b[0]), s.a[1].max(b[1])]);
             (i0, j0, i1, j1)
         };
         for s in &index.segments {
@@ -173,7 +197,8 @@ impl<'g> SegmentIndex<'g> {
     }
 
     /// Attach one point: the nearest segment (ties: the lowest segment number).
-    pub fn snap(&self, p: Point) -> Snap {
+    pub fn snap(&self, point: Point) -> Snap {
+        let p = [point[0] * self.scale_x, point[1]];
         let (ci, cj) = self.cell_of(p);
         let mut best = (f64::INFINITY, u32::MAX, p);
         let rings = self.nx.max(self.ny);
@@ -205,12 +230,18 @@ impl<'g> SegmentIndex<'g> {
             }
         }
         let seg = self.segments[best.1 as usize];
-        let (edge, k, on_edge) = (seg.edge, seg.k, best.2);
+        let (edge, k) = (seg.edge, seg.k);
+        let on_edge = if self.scale_x == 1.0 { best.2 } else { [best.2[0] / self.scale_x, best.2[1]] };
         let line = self.graph.line(edge as usize).expect("graph has geometry");
         let pts = line.points();
-        let before: f64 = pts[..=k as usize].windows(2).map(|w| distance(w[0], w[1])).sum();
-        let along = before + distance(pts[k as usize], on_edge);
-        let length = line.length();
+        let (along, length, gap) = if self.graph.is_geodesic() {
+            let g = self.graph;
+            let along = g.path_length(&pts[..=k as usize]) + g.path_length(&[pts[k as usize], on_edge]);
+            (along, g.path_length(pts), g.path_length(&[point, on_edge]))
+        } else {
+            let before: f64 = pts[..=k as usize].windows(2).map(|w| distance(w[0], w[1])).sum();
+            (before + distance(pts[k as usize], on_edge), line.length(), distance(point, on_edge))
+        };
         let spot = if along <= 0.0 || length <= 0.0 {
             Spot::Node(self.graph.tail[edge as usize])
         } else if along >= length {
@@ -218,7 +249,7 @@ impl<'g> SegmentIndex<'g> {
         } else {
             Spot::OnEdge { edge, fraction: along / length }
         };
-        Snap { spot, edge, along: along.min(length), gap: distance(p, on_edge), on_edge }
+        Snap { spot, edge, along: along.min(length), gap, on_edge }
     }
 }
 
@@ -252,10 +283,12 @@ pub fn snap_points(
         cj * index.nx + ci
     });
     let found: Vec<Snap> = order.par_iter().with_min_len(1024).map(|&i| index.snap(points[i as usize])).collect();
-    let mut snaps = found.clone();
-    for (&i, s) in order.iter().zip(found) {
-        snaps[i as usize] = s;
+    // Back to input order: the inverse permutation, gathered in parallel.
+    let mut rank = vec![0u32; points.len()];
+    for (k, &i) in order.iter().enumerate() {
+        rank[i as usize] = k as u32;
     }
+    let snaps: Vec<Snap> = rank.par_iter().with_min_len(4096).map(|&k| found[k as usize]).collect();
     if let Some(max_gap) = max_gap {
         if let Some((row, s)) = snaps.iter().enumerate().find(|(_, s)| s.gap > max_gap) {
             return Err(Error::BeyondGap { argument, row, gap: s.gap, max_gap });

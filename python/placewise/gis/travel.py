@@ -1,8 +1,8 @@
 """Travel along a street network on GeoDataFrames: the graph from a frame of lines, and
 costs, network catchments and reach with the user's row labels and CRS.
 
-The lines must be in a projected CRS (geodesic edge lengths are not supported yet); point
-frames in another CRS are projected to the lines' CRS. Errors name the user's row labels.
+Lines in a geographic CRS (lon/lat) have WGS84 geodesic edge lengths and attachment gaps in
+metres; point frames in another CRS are transformed to the lines' CRS. Errors name the user's row labels.
 Results are planning aids under the stated model (travel along the given network at the
 given costs); check them against local regulations and licensed professional judgement.
 
@@ -23,8 +23,9 @@ __all__ = ["network_catchments", "network_reach", "travel_costs", "travel_graph"
 
 
 def travel_graph(lines: Any, *, cost: Any = None, reverse_cost: Any = None, one_way: Any = None,
-                 tolerance: float = 0.0, unit: str | None = None) -> TravelGraph:
-    """A :class:`placewise.TravelGraph` from a GeoDataFrame of lines in a projected CRS;
+                 tolerance: float = 0.0, unit: str | None = None, split_crossings: bool = False) -> TravelGraph:
+    """A :class:`placewise.TravelGraph` from a GeoDataFrame of lines (projected, or lon/lat
+    with geodesic lengths in metres);
     ``cost``, ``reverse_cost`` and ``one_way`` may name columns (see
     :meth:`placewise.TravelGraph.from_lines`).
 
@@ -38,7 +39,7 @@ def travel_graph(lines: Any, *, cost: Any = None, reverse_cost: Any = None, one_
     TravelGraph(nodes=3, edges=2, arcs=4, components=1)
     """
     return TravelGraph.from_lines(lines, cost=cost, reverse_cost=reverse_cost, one_way=one_way,
-                                  tolerance=tolerance, unit=unit)
+                                  tolerance=tolerance, unit=unit, split_crossings=split_crossings)
 
 
 def _points(graph: TravelGraph, frame: Any, argument: str) -> tuple[np.ndarray, np.ndarray]:

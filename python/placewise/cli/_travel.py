@@ -1,0 +1,137 @@
+"""The subcommands of travel along a street network: network catchments, travel costs and
+siting by travel cost.
+
+The network is a file of lines (GeoPackage, Shapefile, GeoParquet or GeoJSON) in a projected
+CRS; points in another CRS are projected to it. Costs are the lines' lengths unless
+``--cost`` names a column; ``--one-way`` names a column of direction codes (0 both ways, 1
+along the drawing direction, -1 against it). Results are planning aids under the stated model
+(travel along the given network at the given costs); check them against local regulations
+and licensed professional judgement.
+"""
+
+from __future__ import annotations
+
+import argparse
+import warnings
+from collections.abc import Callable
+from typing import Any
+
+import numpy as np
+
+from ._io import UserError, _note, _positive_float, _positive_int, read_points, write_frame
+
+
+def _network(args: argparse.Namespace) -> Any:
+    """The travel graph of ``--network``, with the named cost and one-way columns."""
+    from ..gis.travel import travel_graph
+
+    lines = read_points(args.network, args, "the network", (), main=False)
+    for option, column in (("--cost", args.cost), ("--one-way", args.one_way)):
+        if column is not None and column not in lines.columns:
+            raise UserError(f"{args.network}: no column {column!r} (named by {option})")
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        graph = travel_graph(lines, cost=args.cost, one_way=args.one_way, tolerance=args.tolerance,
+                             split_crossings=args.split_crossings)
+    for w in caught:
+        _note(args, f"note: {w.message}")
+    return graph
+
+
+def _cmd_network_catchments(args: argparse.Namespace) -> None:
+    from ..gis.travel import network_catchments
+
+    graph = _network(args)
+    points = read_points(args.input, args, "the demand", ("weight",))
+    sites = read_points(args.sites, args, "the sites", (), main=False)
+    out = network_catchments(graph, points, sites, weight=args.weight, limit=args.limit, max_gap=args.max_gap)
+    write_frame(out, args.output, args, "catchments")
+    reached = int(out["reachable"].sum())
+    _note(args, f"{reached} of {len(out)} row(s) reach one of {len(sites)} site(s) along the network; "
+                f"largest travel cost {out[f'cost_{graph.unit}'].max():.6g} {graph.unit}")
+
+
+def _cmd_travel_costs(args: argparse.Namespace) -> None:
+    from ..gis.travel import travel_costs
+
+    graph = _network(args)
+    origins = read_points(args.input, args, "the origins", ())
+    destinations = (origins if args.destinations is None
+                    else read_points(args.destinations, args, "the destinations", (), main=False))
+    out = travel_costs(graph, origins, destinations, limit=args.limit, k=args.k, max_gap=args.max_gap)
+    write_frame(out, args.output, args, "travel_costs")
+    _note(args, f"{len(out)} pair(s) of {len(origins)} origin(s) x {len(destinations)} destination(s) kept")
+
+
+def _cmd_network_siting(args: argparse.Namespace) -> None:
+    from ..gis.travel import _points, _restated
+
+    graph = _network(args)
+    demand = read_points(args.input, args, "the demand", ("weight",))
+    candidates = read_points(args.candidates, args, "the candidates", (), main=False)
+    p, p_labels = _points(graph, demand, "points")
+    c, c_labels = _points(graph, candidates, "candidates")
+    weights = None if args.weight is None else demand[args.weight].to_numpy(dtype=np.float64)
+    if args.model == "p-median":
+        if args.p is None:
+            raise UserError("-p is needed with --model p-median")
+        model, options = "p_median", {"p": args.p}
+    else:
+        if args.within is None:
+            raise UserError("--within is needed with --model cover")
+        model, options = "cover_all", {"radius": args.within}
+    labels = {"points": p_labels, "weights": p_labels}
+    plan = _restated(lambda: graph.choose_sites(model, p, c, weights, limit=args.limit, max_gap=args.max_gap,
+                                                **options), labels)
+    out = candidates.iloc[np.asarray(plan.open)].copy()
+    served = np.bincount(np.asarray(plan.assignment), minlength=len(c))
+    load = np.bincount(np.asarray(plan.assignment), weights=np.ones(len(p)) if weights is None else weights,
+                       minlength=len(c))
+    out["points"] = served[plan.open]
+    out["load"] = load[plan.open]
+    write_frame(out, args.output, args, "sites")
+    if args.assignment is not None:
+        assigned = demand.copy()
+        assigned["site"] = c_labels[np.asarray(plan.assignment)]
+        assigned[f"cost_{graph.unit}"] = np.asarray(plan.cost)
+        write_frame(assigned, args.assignment, args, "assignment")
+    _note(args, f"{len(out)} site(s) of {len(c)} candidate(s); total weighted travel cost "
+                f"{float(plan.total_cost):.6g} (weight x {graph.unit})")
+
+
+def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> None:
+    """Add this family's subcommands through ``command(name, run, help, parent_parsers)``."""
+    network = argparse.ArgumentParser(add_help=False)
+    network.add_argument("--network", metavar="FILE", required=True,
+                         help="lines of the street network (GeoPackage, Shapefile, GeoParquet, GeoJSON) in a "
+                              "projected CRS")
+    network.add_argument("--cost", metavar="COLUMN", help="column of each line's travel cost [its length]")
+    network.add_argument("--one-way", metavar="COLUMN", help="column of direction codes: 0 both ways, 1 along the "
+                         "line's drawing direction only, -1 against it only [both ways]")
+    network.add_argument("--tolerance", type=float, default=0.0, metavar="DISTANCE",
+                         help="line ends closer than this join into one node [0: equal ends only]")
+    network.add_argument("--split-crossings", action="store_true",
+                         help="join lines where they cross (not for networks with bridges or tunnels drawn as "
+                              "crossing lines)")
+    network.add_argument("--max-gap", type=_positive_float, metavar="DISTANCE",
+                         help="refuse points farther than this from every line [no limit]")
+    network.add_argument("--limit", type=_positive_float, metavar="COST",
+                         help="keep only travel within this cost")
+    p = command("network-catchments", _cmd_network_catchments,
+                "every point's cheapest site by travel along a street network", [parents.weight, network])
+    p.add_argument("--sites", metavar="FILE", required=True, help="the sites travel starts from")
+    p = command("travel-costs", _cmd_travel_costs,
+                "travel costs along a street network from every input point to the destinations", [network])
+    p.add_argument("--destinations", metavar="FILE", help="where travel ends [the input points]")
+    p.add_argument("--k", type=_positive_int, metavar="K", help="keep only each origin's k cheapest destinations")
+    p = command("network-siting", _cmd_network_siting,
+                "choose sites among candidates by travel cost along a street network (p-median, or covering "
+                "every point within a cost)", [parents.weight, network])
+    p.add_argument("--candidates", metavar="FILE", required=True, help="candidate sites")
+    p.add_argument("--model", choices=["p-median", "cover"], default="p-median",
+                   help="p-median: p sites minimising total weighted travel cost; cover: fewest sites reaching "
+                        "every point within --within [p-median]")
+    p.add_argument("-p", type=_positive_int, help="number of sites (p-median)")
+    p.add_argument("--within", type=_positive_float, metavar="COST", help="travel cost every point must be within "
+                   "(cover)")
+    p.add_argument("--assignment", metavar="FILE", help="also write the input rows with their site and cost")

@@ -1,0 +1,115 @@
+"""The travel subcommands: files written, read back and compared with
+scipy.sparse.csgraph.dijkstra on a graph built here from the same lines."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+gpd = pytest.importorskip("geopandas")
+import pandas as pd  # noqa: E402
+import shapely  # noqa: E402
+from scipy.sparse import csr_array  # noqa: E402
+from scipy.sparse.csgraph import dijkstra  # noqa: E402
+
+from placewise.cli import main  # noqa: E402
+
+SIDE, STEP, CRS = 6, 100.0, "EPSG:32630"
+
+
+def _grid():
+    """Block sides of a SIDE x SIDE grid of corners; every third line one-way (code 1)."""
+    ends, one_way = [], []
+    for y in range(SIDE):
+        for x in range(SIDE):
+            for dx, dy in ((1, 0), (0, 1)):
+                if x + dx < SIDE and y + dy < SIDE:
+                    ends.append(((x, y), (x + dx, y + dy)))
+                    one_way.append(1 if len(ends) % 3 == 0 else 0)
+    return ends, np.array(one_way)
+
+
+def _reference(ends, one_way):
+    """Node-to-node travel costs (metres) with scipy: node of corner (x, y) is y * SIDE + x."""
+    rows, cols = [], []
+    for ((x0, y0), (x1, y1)), w in zip(ends, one_way):
+        a, b = y0 * SIDE + x0, y1 * SIDE + x1
+        rows.append(a), cols.append(b)
+        if w == 0:
+            rows.append(b), cols.append(a)
+    n = SIDE * SIDE
+    return dijkstra(csr_array((np.full(len(rows), STEP), (rows, cols)), shape=(n, n)))
+
+
+@pytest.fixture()
+def files(tmp_path):
+    ends, one_way = _grid()
+    lines = [shapely.LineString([np.multiply(a, STEP), np.multiply(b, STEP)]) for a, b in ends]
+    gpd.GeoDataFrame({"oneway": one_way}, geometry=lines, crs=CRS).to_file(tmp_path / "streets.geojson")
+    rng = np.random.default_rng(3)
+    corners = rng.choice(SIDE * SIDE, 14, replace=False)
+    homes, depots = corners[:10], corners[10:]
+    for name, nodes in (("homes", homes), ("depots", depots)):
+        xy = np.column_stack([nodes % SIDE, nodes // SIDE]) * STEP
+        pd.DataFrame({"x": xy[:, 0], "y": xy[:, 1], "people": np.arange(1, len(nodes) + 1)}).to_csv(
+            tmp_path / f"{name}.csv", index=False)
+    return tmp_path, homes, depots, _reference(ends, one_way)
+
+
+def test_network_catchments_match_scipy_dijkstra(files, capsys):
+    path, homes, depots, costs = files
+    out = path / "catchments.csv"
+    code = main(["network-catchments", str(path / "homes.csv"), "--crs", CRS, "--network",
+                 str(path / "streets.geojson"), "--sites", str(path / "depots.csv"), "--one-way", "oneway",
+                 "-o", str(out), "-q"])
+    assert code == 0, capsys.readouterr().err
+    got = pd.read_csv(out)
+    # scipy: the cheapest depot's cost from the depots to each home (travel from the site).
+    best = costs[np.ix_(depots, homes)].min(axis=0)
+    reached = np.isfinite(best)
+    assert np.array_equal(got["reachable"].to_numpy(), reached)
+    assert np.allclose(got["cost_m"].to_numpy()[reached], best[reached], rtol=1e-12)
+
+
+def test_travel_costs_match_scipy_dijkstra_with_k(files, capsys):
+    path, homes, depots, costs = files
+    out = path / "costs.csv"
+    code = main(["travel-costs", str(path / "homes.csv"), "--crs", CRS, "--network", str(path / "streets.geojson"),
+                 "--destinations", str(path / "depots.csv"), "--one-way", "oneway", "-o", str(out), "-q"])
+    assert code == 0, capsys.readouterr().err
+    got = pd.read_csv(out)
+    ref = costs[np.ix_(homes, depots)]
+    # Rows are named by CSV line numbers (2 is the first data row).
+    mine = np.full(ref.shape, np.inf)
+    mine[got["origin"].to_numpy() - 2, got["destination"].to_numpy() - 2] = got["cost_m"].to_numpy()
+    assert np.array_equal(np.isfinite(mine), np.isfinite(ref))
+    assert np.allclose(mine[np.isfinite(ref)], ref[np.isfinite(ref)], rtol=1e-12)
+    code = main(["travel-costs", str(path / "homes.csv"), "--crs", CRS, "--network", str(path / "streets.geojson"),
+                 "--destinations", str(path / "depots.csv"), "--k", "1", "-o", str(out), "-q"])
+    assert code == 0
+    assert len(pd.read_csv(out)) == len(homes)
+
+
+def test_network_siting_p_median_is_optimal_on_scipy_costs(files, capsys):
+    path, homes, depots, costs = files
+    out, assignment = path / "sites.csv", path / "assigned.csv"
+    code = main(["network-siting", str(path / "homes.csv"), "--crs", CRS, "--network", str(path / "streets.geojson"),
+                 "--candidates", str(path / "depots.csv"), "-p", "2", "--weight", "people", "-o", str(out),
+                 "--assignment", str(assignment), "-q"])
+    assert code == 0, capsys.readouterr().err
+    chosen = pd.read_csv(out)
+    # Reference: every pair of candidates evaluated on scipy's costs (candidate -> home).
+    w = np.arange(1, len(homes) + 1)
+    c = costs[np.ix_(depots, homes)]
+    best = min(float((w * np.minimum(c[i], c[j])).sum()) for i in range(4) for j in range(i + 1, 4))
+    got = pd.read_csv(assignment)
+    assert np.isclose(float((got["people"] * got["cost_m"]).sum()), best, rtol=1e-12)
+    assert len(chosen) == 2 and chosen["load"].sum() == w.sum()
+
+
+def test_missing_network_column_is_one_line(files, capsys):
+    path, *_ = files
+    code = main(["network-catchments", str(path / "homes.csv"), "--crs", CRS, "--network",
+                 str(path / "streets.geojson"), "--sites", str(path / "depots.csv"), "--cost", "minutes"])
+    err = capsys.readouterr().err
+    assert code == 2 and "minutes" in err and len(err.strip().splitlines()) == 1
