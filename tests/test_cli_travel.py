@@ -94,7 +94,8 @@ def test_network_siting_p_median_is_optimal_on_scipy_costs(files, capsys):
     path, homes, depots, costs = files
     out, assignment = path / "sites.csv", path / "assigned.csv"
     code = main(["network-siting", str(path / "homes.csv"), "--crs", CRS, "--network", str(path / "streets.geojson"),
-                 "--candidates", str(path / "depots.csv"), "-p", "2", "--weight", "people", "-o", str(out),
+                 "--one-way", "oneway", "--candidates", str(path / "depots.csv"), "-p", "2", "--weight", "people",
+                 "-o", str(out),
                  "--assignment", str(assignment), "-q"])
     assert code == 0, capsys.readouterr().err
     chosen = pd.read_csv(out)
@@ -106,6 +107,35 @@ def test_network_siting_p_median_is_optimal_on_scipy_costs(files, capsys):
     assert np.isclose(float((got["people"] * got["cost_m"]).sum()), best, rtol=1e-12)
     assert len(chosen) == 2 and chosen["load"].sum() == w.sum()
 
+
+
+def test_network_siting_names_each_homes_depot_and_tallies_its_sites(files, capsys):
+    """The candidates listed last first, so the open sites are not the first rows: every home's
+    ``site`` is the CSV line of a chosen depot it reaches at least cost on scipy's costs, and
+    each chosen depot's ``points``/``load`` are the homes (and people) so named."""
+    path, homes, depots, costs = files
+    table = pd.read_csv(path / "depots.csv")
+    table.iloc[::-1].to_csv(path / "depots_reversed.csv", index=False)
+    order = depots[::-1]
+    out, assignment = path / "sites.csv", path / "assigned.csv"
+    code = main(["network-siting", str(path / "homes.csv"), "--crs", CRS, "--network", str(path / "streets.geojson"),
+                 "--one-way", "oneway", "--candidates", str(path / "depots_reversed.csv"), "-p", "2",
+                 "--weight", "people", "-o", str(out),
+                 "--assignment", str(assignment), "-q"])
+    assert code == 0, capsys.readouterr().err
+    chosen, got = pd.read_csv(out), pd.read_csv(assignment)
+    rows = chosen["line"].to_numpy() - 2  # CSV line numbers: the header is line 1
+    c = costs[np.ix_(order[rows], homes)]  # scipy, chosen depot -> home
+    assert not np.array_equal(np.sort(rows), np.arange(2))  # the case the row mapping matters for
+    # The named depot is one of least cost (ties between depots may go either way).
+    named = np.searchsorted(chosen["line"].to_numpy(), got["site"].to_numpy(), sorter=np.argsort(chosen["line"]))
+    named = np.argsort(chosen["line"].to_numpy())[named]
+    assert set(got["site"]) <= set(chosen["line"])
+    np.testing.assert_allclose(c[named, np.arange(len(homes))], c.min(axis=0), rtol=1e-12)
+    np.testing.assert_allclose(got["cost_m"].to_numpy(), c.min(axis=0), rtol=1e-12)
+    for line, points, load in zip(chosen["line"], chosen["points"], chosen["load"]):
+        mine = got["site"] == line
+        assert points == mine.sum() and load == got.loc[mine, "people"].sum()
 
 def test_missing_network_column_is_one_line(files, capsys):
     path, *_ = files

@@ -83,16 +83,18 @@ def _cmd_network_siting(args: argparse.Namespace) -> None:
     labels = {"points": p_labels, "weights": p_labels}
     plan = _restated(lambda: graph.choose_sites(model, p, c, weights, limit=args.limit, max_gap=args.max_gap,
                                                 **options), labels)
-    out = candidates.iloc[np.asarray(plan.open)].copy()
-    served = np.bincount(np.asarray(plan.assignment), minlength=len(c))
-    load = np.bincount(np.asarray(plan.assignment), weights=np.ones(len(p)) if weights is None else weights,
-                       minlength=len(c))
-    out["points"] = served[plan.open]
-    out["load"] = load[plan.open]
+    opened = np.asarray(plan.open)
+    out = candidates.iloc[opened].copy()
+    # The plan's own per-site tallies; ``assignment`` is a row of the open sites (-1: none).
+    out["points"] = np.asarray(plan.count)
+    out["load"] = np.asarray(plan.load)
     write_frame(out, args.output, args, "sites")
     if args.assignment is not None:
         assigned = demand.copy()
-        assigned["site"] = c_labels[np.asarray(plan.assignment)]
+        assignment = np.asarray(plan.assignment)
+        site = np.full(len(assignment), None, dtype=object)
+        site[assignment >= 0] = c_labels[opened[assignment[assignment >= 0]]]
+        assigned["site"] = site
         assigned[f"cost_{graph.unit}"] = np.asarray(plan.cost)
         write_frame(assigned, args.assignment, args, "assignment")
     _note(args, f"{len(out)} site(s) of {len(c)} candidate(s); total weighted travel cost "
