@@ -7,7 +7,7 @@ use rstar::primitives::GeomWithData;
 use rstar::RTree;
 
 use super::crossings::split_at_crossings;
-use super::graph::{Shapes, TravelGraph, MAX_GRAPH_INDEX};
+use super::graph::{polyline_length, Shapes, TravelGraph, MAX_GRAPH_INDEX};
 use crate::error::{Error, Result};
 use crate::geometry::{distance, location_key, Point};
 
@@ -116,7 +116,7 @@ impl TravelGraph {
                 })?;
                 lengths.push(length);
             } else {
-                lengths.push(line.windows(2).map(|w| distance(w[0], w[1])).sum::<f64>());
+                lengths.push(polyline_length(line));
             }
         }
         if options.split_crossings {

@@ -13,8 +13,9 @@ use rayon::prelude::*;
 use rstar::primitives::{GeomWithData, Rectangle};
 use rstar::{RTree, AABB};
 
+use super::graph::polyline_length;
 use crate::geometry::predicates::orient2d;
-use crate::geometry::{distance, Point};
+use crate::geometry::Point;
 
 /// A cut of line `line` on its segment `k` at parameter `t` in [0, 1] (at `point`).
 #[derive(Debug, Clone, Copy)]
@@ -168,8 +169,4 @@ pub(crate) fn split_at_crossings(coords: &[Point], offsets: &[usize]) -> SplitLi
         }
     }
     out
-}
-
-fn polyline_length(line: &[Point]) -> f64 {
-    line.windows(2).map(|w| distance(w[0], w[1])).sum()
 }

@@ -59,11 +59,11 @@ impl EdgeLine<'_> {
             EdgeLine::Pair(p) => p,
         }
     }
+}
 
-    /// Length of the polyline (sum of its segment lengths).
-    pub(crate) fn length(&self) -> f64 {
-        self.points().windows(2).map(|w| distance(w[0], w[1])).sum()
-    }
+/// Planar length of a polyline: the sum of its segment lengths, in order.
+pub(crate) fn polyline_length(line: &[Point]) -> f64 {
+    line.windows(2).map(|w| distance(w[0], w[1])).sum()
 }
 
 /// A street network ready for shortest-path searches.
@@ -361,7 +361,7 @@ impl TravelGraph {
         if self.geodesic {
             crate::geodesic::geodesic_length(path).unwrap_or(f64::NAN)
         } else {
-            path.windows(2).map(|w| distance(w[0], w[1])).sum()
+            polyline_length(path)
         }
     }
 

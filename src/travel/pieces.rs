@@ -5,7 +5,7 @@
 
 use rayon::prelude::*;
 
-use super::graph::TravelGraph;
+use super::graph::{polyline_length, TravelGraph};
 use super::search::{check_limit, label_nodes, Workspace};
 use super::snap::Spot;
 use crate::error::Result;
@@ -129,7 +129,7 @@ fn envelope(e: u32, fs: &[Linear], limit: f64, out: &mut Vec<EdgePiece>) {
 
 /// The part of `line` between shares `a < b` of its length.
 fn substring(line: &[Point], a: f64, b: f64, out: &mut Vec<Point>) {
-    let total: f64 = line.windows(2).map(|w| distance(w[0], w[1])).sum();
+    let total = polyline_length(line);
     let (from, to) = (a * total, b * total);
     let mut walked = 0.0;
     let lerp = |p: Point, q: Point, s: f64| [p[0] + (q[0] - p[0]) * s, p[1] + (q[1] - p[1]) * s];

@@ -7,7 +7,7 @@ use rayon::prelude::*;
 
 use super::graph::TravelGraph;
 use crate::error::{Error, Result};
-use crate::geometry::{distance, distance_squared, dot, sub, validate_points, BoundingBox, Point};
+use crate::geometry::{distance_squared, dot, sub, validate_points, BoundingBox, Point};
 
 /// Where travel starts or ends: at a node, or part-way along an edge.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -155,9 +155,8 @@ impl<'g> SegmentIndex<'g> {
             scale_x,
         };
         let span = |s: &Segment, index: &SegmentIndex<'_>| {
-            let b = s.b;
-            let (i0, j0) = index.cell_of([s.a[0].min(b[0]), s.a[1].min(b[1])]);
-            let (i1, j1) = index.cell_of([s.a[0].max(b[0]), s.a[1].max(b[1])]);
+            let (i0, j0) = index.cell_of([s.a[0].min(s.b[0]), s.a[1].min(s.b[1])]);
+            let (i1, j1) = index.cell_of([s.a[0].max(s.b[0]), s.a[1].max(s.b[1])]);
             (i0, j0, i1, j1)
         };
         for s in &index.segments {
@@ -234,14 +233,10 @@ impl<'g> SegmentIndex<'g> {
         let on_edge = if self.scale_x == 1.0 { best.2 } else { [best.2[0] / self.scale_x, best.2[1]] };
         let line = self.graph.line(edge as usize).expect("graph has geometry");
         let pts = line.points();
-        let (along, length, gap) = if self.graph.is_geodesic() {
-            let g = self.graph;
-            let along = g.path_length(&pts[..=k as usize]) + g.path_length(&[pts[k as usize], on_edge]);
-            (along, g.path_length(pts), g.path_length(&[point, on_edge]))
-        } else {
-            let before: f64 = pts[..=k as usize].windows(2).map(|w| distance(w[0], w[1])).sum();
-            (before + distance(pts[k as usize], on_edge), line.length(), distance(point, on_edge))
-        };
+        // Planar or geodesic, as the graph measures its edges.
+        let g = self.graph;
+        let along = g.path_length(&pts[..=k as usize]) + g.path_length(&[pts[k as usize], on_edge]);
+        let (length, gap) = (g.path_length(pts), g.path_length(&[point, on_edge]));
         let spot = if along <= 0.0 || length <= 0.0 {
             Spot::Node(self.graph.tail[edge as usize])
         } else if along >= length {
