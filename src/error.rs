@@ -250,11 +250,9 @@ impl Error {
                 namer.row(argument, *index),
                 plain(*value)
             ),
-            Error::NonFiniteValue { argument, index, value } => format!(
-                "{argument} must be finite; {argument}[{}] = {}",
-                namer.row(argument, *index),
-                plain(*value)
-            ),
+            Error::NonFiniteValue { argument, index, value } => {
+                format!("{argument} must be finite; {argument}[{}] = {}", namer.row(argument, *index), plain(*value))
+            }
             Error::AllWeightsZero { argument } => {
                 format!("{argument} are all zero; at least one weight must be positive")
             }

@@ -522,9 +522,7 @@ fn cells_within(sites: &[Point], rings: Option<&[Vec<Point>]>) -> Result<Voronoi
             .into_par_iter()
             .map_init(
                 || (Vec::with_capacity(16), Vec::with_capacity(16)),
-                |buffers, i| {
-                    convex_cell(i, &frame.sites, &adjacent[offsets[i]..offsets[i + 1]], &frame.start, buffers)
-                },
+                |buffers, i| convex_cell(i, &frame.sites, &adjacent[offsets[i]..offsets[i + 1]], &frame.start, buffers),
             )
             .collect()
     })

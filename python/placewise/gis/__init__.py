@@ -36,7 +36,7 @@ Requires the ``geo`` extra (geopandas, pyproj).
 
 from __future__ import annotations
 
-from .catchments import voronoi_cells
+from .catchments import power_cells, voronoi_cells
 from .networks import Network, spanning_tree, steiner_tree
 from .plans import SitePlan, nearest_site, p_center, p_median
 from .sites import enclosing_circle, enclosing_ellipse, minimax_point, weber_point
@@ -50,6 +50,7 @@ __all__ = [
     "nearest_site",
     "p_center",
     "p_median",
+    "power_cells",
     "spanning_tree",
     "steiner_tree",
     "voronoi_cells",

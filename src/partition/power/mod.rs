@@ -139,12 +139,17 @@ fn cells_within(sites: &[Point], powers: &[f64], rings: Option<&[Vec<Point>]>) -
         });
     }
     let mut triangulation = None;
+    let mut overflow = None;
     let cells = clipped_cells(sites, rings, |cf| {
         // Powers are squared lengths: they scale by the frame's factor squared.
         let f2 = cf.frame.factor * cf.frame.factor;
         let local_powers: Vec<f64> = shifted.iter().map(|&w| w * f2).collect();
         let lifted: Vec<[f64; 3]> =
             cf.sites.iter().zip(&local_powers).map(|(p, &w)| [p[0], p[1], dot(*p, *p) - w]).collect();
+        if let Some(index) = lifted.iter().position(|l| !l[2].is_finite()) {
+            overflow = Some(index);
+            return vec![Vec::new(); n];
+        }
         let t = regular::regular(&cf.sites, &lifted);
         let (offsets, adjacent) = neighbour_lists(n, &t.edges);
         let convex = (0..n)
@@ -162,6 +167,15 @@ fn cells_within(sites: &[Point], powers: &[f64], rings: Option<&[Vec<Point>]>) -
         triangulation = Some(t);
         convex
     })?;
+    if let Some(index) = overflow {
+        return Err(Error::Degenerate {
+            argument: "powers",
+            reason: format!(
+                "powers[{index}] is too large for the sites' spacing (its square-unit value overflows once the \
+                 sites are scaled to a unit frame)"
+            ),
+        });
+    }
     let t = triangulation.expect("the cell builder ran");
     Ok(PowerCells { cells, redundant: t.redundant, triangles: t.triangles, adjacent: t.adjacent, edges: t.edges })
 }

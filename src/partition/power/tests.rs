@@ -9,7 +9,12 @@ fn square(lo: f64, hi: f64) -> Vec<Point> {
 
 fn cell_rings(cells: &VoronoiCells, i: usize) -> Vec<&[Point]> {
     let (lo, hi) = (cells.offsets[i], cells.offsets[i + 1]);
-    cells.parts.windows(2).filter(|w| w[0] >= lo && w[1] <= hi && w[0] < w[1]).map(|w| &cells.vertices[w[0]..w[1]]).collect()
+    cells
+        .parts
+        .windows(2)
+        .filter(|w| w[0] >= lo && w[1] <= hi && w[0] < w[1])
+        .map(|w| &cells.vertices[w[0]..w[1]])
+        .collect()
 }
 
 /// Even-odd membership, counted independently of the kernel's own ray test.
@@ -86,8 +91,10 @@ fn every_sample_point_lies_in_the_cell_of_its_least_power_site() {
         // Points within 1e-9 of a bisector may fall either way.
         let margin = (0..sites.len())
             .filter(|&j| j != i)
-            .map(|j| (crate::geometry::distance_squared(*x, sites[j]) - powers[j])
-                - (crate::geometry::distance_squared(*x, sites[i]) - powers[i]))
+            .map(|j| {
+                (crate::geometry::distance_squared(*x, sites[j]) - powers[j])
+                    - (crate::geometry::distance_squared(*x, sites[i]) - powers[i])
+            })
             .fold(f64::INFINITY, f64::min);
         if margin > 1e-9 {
             assert_eq!(own, in_region, "sample {x:?}, site {i}");
