@@ -85,10 +85,10 @@ def cases(quick: bool) -> list[Case]:
     def grouped_check(ours: pw.partition.Allocations, ref: np.ndarray) -> str:
         return f"assignment equal to cKDTree per group: {'yes' if np.array_equal(ours.assignment, ref) else 'NO'}"
 
-    # Power cells: the same sites with powers up to (300 m)², against voronoi_cells on them
+    # Power cells: the same sites with powers up to (30 m)² (spacing ~45 m), against voronoi_cells on them
     # (the target: power cells within 2x of Voronoi cells), and against Qhull's lower hull of
     # the lifted points (the regular triangulation alone, no cells).
-    powers = np.random.default_rng(8).uniform(0.0, 300.0**2, n_cells)
+    powers = np.random.default_rng(8).uniform(0.0, 30.0**2, n_cells)
 
     def lower_hull() -> np.ndarray:
         local = sites - sites.mean(0)
