@@ -85,7 +85,31 @@ def cases(quick: bool) -> list[Case]:
     def grouped_check(ours: pw.partition.Allocations, ref: np.ndarray) -> str:
         return f"assignment equal to cKDTree per group: {'yes' if np.array_equal(ours.assignment, ref) else 'NO'}"
 
+    # Power cells: the same sites with powers up to (30 m)² (spacing ~45 m), against voronoi_cells on them
+    # (the target: power cells within 2x of Voronoi cells), and against Qhull's lower hull of
+    # the lifted points (the regular triangulation alone, no cells).
+    powers = np.random.default_rng(8).uniform(0.0, 30.0**2, n_cells)
+
+    def lower_hull() -> np.ndarray:
+        local = sites - sites.mean(0)
+        hull = scipy.spatial.ConvexHull(np.c_[local, (local**2).sum(1) - powers])
+        return hull.simplices[hull.equations[:, 2] < 0]
+
+    def power_area_check(ours: pw.PowerCells, ref: object) -> str:
+        return (f"{int(ours.redundant.sum()):,} redundant; areas sum to the box's to "
+                f"{abs(ours.area.sum() / box.area - 1):.1e}")
+
+    def power_vs_qhull(ours: pw.PowerCells, ref: np.ndarray) -> str:
+        a, b = np.sort(ours.corners, 1), np.sort(ref, 1)
+        same = len(a) == len(b) and np.array_equal(a[np.lexsort(a.T[::-1])], b[np.lexsort(b.T[::-1])])
+        return f"{len(a):,} triangles, identical to Qhull's lower hull: {'yes' if same else 'NO'}"
+
     return [
+        Case("power_cells (box)", f"{n_cells:,} sites", lambda: pw.power_cells(sites, powers, box),
+             lambda: pw.voronoi_cells(sites, box), "placewise.voronoi_cells (same sites, no powers)", target=0.5,
+             compare=power_area_check),
+        Case("power_cells (box)", f"{n_cells:,} sites", lambda: pw.power_cells(sites, powers, box), lower_hull,
+             "scipy.spatial.ConvexHull of the lifted sites (triangulation only)", compare=power_vs_qhull),
         Case("delaunay", f"{n_tri:,} points", lambda: pw.delaunay(tri_pts), lambda: scipy.spatial.Delaunay(tri_pts),
              "scipy.spatial.Delaunay", target=8.0, compare=_same_triangles),
         Case("voronoi_cells (box)", f"{n_cells:,} sites", lambda: pw.voronoi_cells(sites, box), shapely_cells,

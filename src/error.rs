@@ -44,6 +44,16 @@ pub enum Error {
         /// The offending value.
         value: f64,
     },
+    /// A per-row value that may have any sign (a power) is NaN or infinite:
+    /// `powers[2] = NaN`.
+    NonFiniteValue {
+        /// Argument name, e.g. `"powers"`.
+        argument: &'static str,
+        /// Row of the offending value.
+        index: usize,
+        /// The offending value.
+        value: f64,
+    },
     /// Every weight is zero, so no location is better than another.
     AllWeightsZero {
         /// Argument name.
@@ -240,6 +250,9 @@ impl Error {
                 namer.row(argument, *index),
                 plain(*value)
             ),
+            Error::NonFiniteValue { argument, index, value } => {
+                format!("{argument} must be finite; {argument}[{}] = {}", namer.row(argument, *index), plain(*value))
+            }
             Error::AllWeightsZero { argument } => {
                 format!("{argument} are all zero; at least one weight must be positive")
             }
@@ -300,6 +313,7 @@ impl Error {
             Error::NonFiniteCoordinate { argument, .. }
             | Error::OutOfRange { argument, .. }
             | Error::InvalidWeight { argument, .. }
+            | Error::NonFiniteValue { argument, .. }
             | Error::AllWeightsZero { argument }
             | Error::LengthMismatch { argument, .. }
             | Error::TooFewPoints { argument, .. }
@@ -321,7 +335,8 @@ impl Error {
         match self {
             Error::NonFiniteCoordinate { index, .. }
             | Error::OutOfRange { index, .. }
-            | Error::InvalidWeight { index, .. } => Some(*index),
+            | Error::InvalidWeight { index, .. }
+            | Error::NonFiniteValue { index, .. } => Some(*index),
             Error::RepeatedPoint { row, .. }
             | Error::InvalidCost { row, .. }
             | Error::Uncoverable { row, .. }
@@ -351,6 +366,9 @@ impl Error {
             }
             Error::InvalidWeight { argument, index, value } => {
                 Error::InvalidWeight { argument, index: map(index), value }
+            }
+            Error::NonFiniteValue { argument, index, value } => {
+                Error::NonFiniteValue { argument, index: map(index), value }
             }
             Error::OutOfRange { argument, index, axis, value, limit } => {
                 Error::OutOfRange { argument, index: map(index), axis, value, limit }

@@ -88,6 +88,7 @@ pub use partition::{
     allocate, check_triangulation, delaunay, delaunay_grouped, nearest_site, nearest_site_grouped, voronoi_cells,
     voronoi_cells_grouped, Allocation, Region, SiteAllocations, SiteIndex, Triangulation, VoronoiCells, STRIPS_FROM,
 };
+pub use partition::{power_cells, power_cells_grouped, power_nearest, PowerCells};
 pub use travel::{
     catchment_pieces, network_catchments, node_spots, reach, snap_points, travel_costs, CostOptions, CostRows,
     EdgePiece, LineOptions, NetworkCatchments, OneWay, Pieces, Snap, Spot, TravelGraph, MAX_GRAPH_INDEX,

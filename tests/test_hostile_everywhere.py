@@ -34,6 +34,7 @@ KERNELS: dict[str, Callable[..., Any]] = {
     "enclosing_ellipse": lambda p, w=None: pw.enclosing_ellipse(p),
     "delaunay": lambda p, w=None: pw.delaunay(p),
     "voronoi_cells": lambda p, w=None: pw.voronoi_cells(p),
+    "power_cells": lambda p, w=None: pw.power_cells(p, np.zeros(len(p) if hasattr(p, "__len__") else 0)),
     "nearest_site": lambda p, w=None: pw.nearest_site(p, SITES, w),
     "nearest_site(sites)": lambda p, w=None: pw.nearest_site(SITES, p),
     "spanning_tree": lambda p, w=None: pw.spanning_tree(p),

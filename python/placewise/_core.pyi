@@ -91,6 +91,13 @@ def voronoi_cells_grouped(
     sites: ArrayLike, groups: ArrayLike, region_vertices: ArrayLike | None, ring_offsets: ArrayLike | None,
     errors: str,
 ) -> _Fields: ...
+def power_cells_single(
+    sites: ArrayLike, powers: ArrayLike, region_vertices: ArrayLike | None, ring_offsets: ArrayLike | None
+) -> _Fields: ...
+def power_cells_grouped(
+    sites: ArrayLike, powers: ArrayLike, groups: ArrayLike, region_vertices: ArrayLike | None,
+    ring_offsets: ArrayLike | None, errors: str,
+) -> _Fields: ...
 def nearest_site_single(points: ArrayLike, sites: ArrayLike, weights: ArrayLike | None) -> _Fields: ...
 def nearest_site_grouped(
     points: ArrayLike, sites: ArrayLike, weights: ArrayLike | None, groups: ArrayLike, site_groups: ArrayLike,

@@ -28,6 +28,16 @@ pub fn incircle(a: Point, b: Point, c: Point, d: Point) -> f64 {
     robust::incircle(coord(a), coord(b), coord(c), coord(d))
 }
 
+/// Positive when `d` lies below the plane through `a, b, c` (which run counter-clockwise
+/// seen from above, +z), negative above, exactly zero on it. On points lifted to
+/// `(x, y, x² + y² - w)` this is the power test of regular triangulations (Edelsbrunner &
+/// Shah 1996): positive when `d` conflicts with the triangle `a b c`.
+#[inline]
+pub fn orient3d(a: [f64; 3], b: [f64; 3], c: [f64; 3], d: [f64; 3]) -> f64 {
+    let c3 = |p: [f64; 3]| robust::Coord3D { x: p[0], y: p[1], z: p[2] };
+    robust::orient3d(c3(a), c3(b), c3(c), c3(d))
+}
+
 /// True when every point lies on one line (fewer than three points count as collinear).
 pub fn all_collinear(points: &[Point]) -> bool {
     all_collinear_in(points.iter().copied())
@@ -64,6 +74,17 @@ mod tests {
         let sq = [[0.0, 0.0], [1.0, 0.0], [1.0, 1.0], [0.0, 1.0]];
         assert_eq!(incircle(sq[0], sq[1], sq[2], sq[3]), 0.0);
         assert!(incircle(sq[0], sq[1], sq[2], [0.5, 0.5]) > 0.0);
+    }
+
+    #[test]
+    fn orient3d_is_the_lifted_incircle_test() {
+        // Closed form: lifted to the paraboloid z = x² + y², a point inside the circle through
+        // three others lies below their plane (Guibas & Stolfi 1985).
+        let lift = |p: Point| [p[0], p[1], p[0] * p[0] + p[1] * p[1]];
+        let sq = [[0.0, 0.0], [1.0, 0.0], [1.0, 1.0]];
+        assert!(orient3d(lift(sq[0]), lift(sq[1]), lift(sq[2]), lift([0.5, 0.5])) > 0.0);
+        assert_eq!(orient3d(lift(sq[0]), lift(sq[1]), lift(sq[2]), lift([0.0, 1.0])), 0.0);
+        assert!(orient3d(lift(sq[0]), lift(sq[1]), lift(sq[2]), lift([3.0, 3.0])) < 0.0);
     }
 
     #[test]

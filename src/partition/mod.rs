@@ -4,6 +4,8 @@
 //! - [`delaunay()`]: the Delaunay triangulation, indexed by input row (on `spade`).
 //! - [`voronoi_cells`]: Voronoi cells clipped to a region, with holes and several parts
 //!   (half-plane cuts, then `i_overlay` for non-rectangular regions).
+//! - [`power_cells`]: power diagram cells (weighted by a power per site) from the regular
+//!   triangulation, clipped like the Voronoi cells; [`power_nearest`]: least power distance.
 //! - [`nearest_site`]: every demand point to its closest site, with loads and cost (on `rstar`).
 //!
 //! Each has a grouped form (`*_grouped`) that runs it on every group of a labelled input
@@ -11,12 +13,14 @@
 
 mod allocate;
 mod delaunay;
+mod power;
 mod voronoi;
 
 pub(crate) use allocate::grouped_by_kernel;
 pub use allocate::{allocate, nearest_site, nearest_site_grouped, Allocation, SiteAllocations, SiteIndex};
 pub(crate) use delaunay::triangulated_positions;
 pub use delaunay::{check_triangulation, delaunay, delaunay_grouped, Triangulation, STRIPS_FROM};
+pub use power::{power_cells, power_cells_grouped, power_nearest, PowerCells};
 pub use voronoi::{voronoi_cells, voronoi_cells_grouped, Region, VoronoiCells};
 
 /// Helpers shared by the tests of this family.

@@ -67,6 +67,15 @@ impl VoronoiCells {
     /// The cells of a grouped run ([`voronoi_cells_grouped`]) laid out by input row: cell `i`
     /// is that of site row `i`. The sites of a skipped group have empty cells and a NaN area.
     pub fn by_row(grouped: &Grouped<VoronoiCells>, places: &RowPlaces) -> VoronoiCells {
+        VoronoiCells::by_row_of(grouped, places, |cells| cells)
+    }
+
+    /// [`VoronoiCells::by_row`] for grouped results that hold their cells in a field.
+    pub(super) fn by_row_of<T>(
+        grouped: &Grouped<T>,
+        places: &RowPlaces,
+        cells_of: impl Fn(&T) -> &VoronoiCells,
+    ) -> VoronoiCells {
         let mut out = VoronoiCells {
             vertices: Vec::new(),
             offsets: vec![0],
@@ -75,7 +84,7 @@ impl VoronoiCells {
             exterior: Vec::new(),
         };
         for (&g, &k) in places.group.iter().zip(&places.within) {
-            match &grouped.results[g] {
+            match grouped.results[g].as_ref().map(&cells_of) {
                 Ok(cells) => {
                     let (lo, hi) = (cells.offsets[k], cells.offsets[k + 1]);
                     let shift = out.vertices.len() - lo;
@@ -96,7 +105,7 @@ impl VoronoiCells {
 }
 
 /// The default region: the sites' bounding box grown by 10 % on every side.
-fn default_rings(sites: &[Point]) -> Result<Vec<Vec<Point>>> {
+pub(super) fn default_rings(sites: &[Point]) -> Result<Vec<Vec<Point>>> {
     let b = BoundingBox::of(sites).expect("sites validated non-empty");
     let (w, h) = (b.max[0] - b.min[0], b.max[1] - b.min[1]);
     // A flat box (sites on one horizontal or vertical line) grows by a tenth of its length
@@ -115,7 +124,7 @@ fn default_rings(sites: &[Point]) -> Result<Vec<Vec<Point>>> {
 
 /// The region's rings with closing repeats removed (rings of fewer than three vertices
 /// dropped), after checking its vertices and ring offsets.
-fn region_rings(region: Region<'_>) -> Result<Vec<Vec<Point>>> {
+pub(super) fn region_rings(region: Region<'_>) -> Result<Vec<Vec<Point>>> {
     validate_points("region", region.vertices, 0)?;
     let offsets = region.ring_offsets;
     let bad = |reason: String| Error::InvalidParameter { name: "region", reason };
@@ -158,7 +167,7 @@ fn is_axis_rectangle(rings: &[Vec<Point>]) -> bool {
 }
 
 /// Refuse repeated sites, naming the first repeat.
-fn check_distinct(sites: &[Point]) -> Result<()> {
+pub(super) fn check_distinct(sites: &[Point]) -> Result<()> {
     let mut seen: HashMap<(u64, u64), usize> = HashMap::with_capacity(sites.len());
     for (j, &p) in sites.iter().enumerate() {
         if let Some(&i) = seen.get(&location_key(p)) {
@@ -188,9 +197,14 @@ fn neighbours(sites: &[Point]) -> Result<(Vec<usize>, Vec<usize>)> {
 /// Keep the part of convex polygon `poly` no farther from `v` than from `u`
 /// (one Sutherland–Hodgman step against the perpendicular bisector of `v u`).
 fn clip_to_bisector(poly: &[Point], v: Point, u: Point, out: &mut Vec<Point>) {
-    out.clear();
-    let d = sub(u, v);
     let m = [0.5 * (u[0] + v[0]), 0.5 * (u[1] + v[1])];
+    clip_to_half_plane(poly, m, sub(u, v), out);
+}
+
+/// Keep the part of convex polygon `poly` where `(p - m) · d <= 0` (one Sutherland–Hodgman
+/// step, Sutherland & Hodgman 1974).
+pub(super) fn clip_to_half_plane(poly: &[Point], m: Point, d: Point, out: &mut Vec<Point>) {
+    out.clear();
     let side = |p: Point| dot(sub(p, m), d);
     let n = poly.len();
     for i in 0..n {
@@ -502,6 +516,38 @@ pub fn voronoi_cells_grouped(
 fn cells_within(sites: &[Point], rings: Option<&[Vec<Point>]>) -> Result<VoronoiCells> {
     validate_points("sites", sites, 1)?;
     check_distinct(sites)?;
+    let (offsets, adjacent) = neighbours(sites)?;
+    clipped_cells(sites, rings, |frame| {
+        (0..sites.len())
+            .into_par_iter()
+            .map_init(
+                || (Vec::with_capacity(16), Vec::with_capacity(16)),
+                |buffers, i| convex_cell(i, &frame.sites, &adjacent[offsets[i]..offsets[i + 1]], &frame.start, buffers),
+            )
+            .collect()
+    })
+}
+
+/// What a convex-cell builder works with: the working frame of the sites and the region,
+/// the sites in it, and the region's bounding box in it (the polygon every cell is cut from).
+pub(super) struct CellFrame {
+    /// The one working frame of the sites and the region.
+    pub frame: WorkingFrame,
+    /// The sites in local coordinates.
+    pub sites: Vec<Point>,
+    /// The region's bounding box as a counter-clockwise rectangle, local coordinates.
+    pub start: [Point; 4],
+}
+
+/// Cells of `sites` in the region `rings` (or their grown bounding box), from the convex
+/// cells `convex` computes in the working frame (one counter-clockwise ring per site, empty
+/// for an empty cell, each within `start`): they are welded, cut by the region, repaired and
+/// mapped back to world coordinates. Voronoi and power cells both end here.
+pub(super) fn clipped_cells(
+    sites: &[Point],
+    rings: Option<&[Vec<Point>]>,
+    convex: impl FnOnce(&CellFrame) -> Vec<Vec<Point>>,
+) -> Result<VoronoiCells> {
     let default;
     let rings = match rings {
         Some(rings) => rings,
@@ -510,7 +556,6 @@ fn cells_within(sites: &[Point], rings: Option<&[Vec<Point>]>) -> Result<Voronoi
             &default
         }
     };
-    let (offsets, adjacent) = neighbours(sites)?;
 
     // One working frame for the sites and the region: far-offset coordinates lose no digits
     // in the bisector cuts, and the power-of-two scale keeps squares clear of overflow.
@@ -525,13 +570,7 @@ fn cells_within(sites: &[Point], rings: Option<&[Vec<Point>]>) -> Result<Voronoi
     let rectangle = is_axis_rectangle(rings);
     let clip_region = if rectangle { None } else { Some(ClipRegion::new(&local_rings, b)?) };
 
-    let convex: Vec<Vec<Point>> = (0..sites.len())
-        .into_par_iter()
-        .map_init(
-            || (Vec::with_capacity(16), Vec::with_capacity(16)),
-            |buffers, i| convex_cell(i, &local_sites, &adjacent[offsets[i]..offsets[i + 1]], &start, buffers),
-        )
-        .collect();
+    let convex: Vec<Vec<Point>> = convex(&CellFrame { frame, sites: local_sites, start });
 
     // 2^-40 of the region's size: far above the rounding of independently computed copies of
     // one vertex, far below any feature of a meaningful region. Welding before the region cut

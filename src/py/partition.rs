@@ -19,6 +19,7 @@ use crate::partition::{
     delaunay, delaunay_grouped as delaunay_groups, nearest_site, nearest_site_grouped as nearest_site_groups,
     voronoi_cells, voronoi_cells_grouped as voronoi_cells_groups, Region, Triangulation, VoronoiCells,
 };
+use crate::partition::{power_cells, power_cells_grouped as power_cells_groups, PowerCells};
 
 fn flat_points(points: &[Point]) -> Vec<f64> {
     points.iter().flatten().copied().collect()
@@ -169,6 +170,77 @@ fn voronoi_cells_grouped<'py>(
     Ok(cell_fields(py, fields, cells)?.put("site_group", PyArray1::from_vec(py, positions(&places)))?.done())
 }
 
+/// The powers argument: one float per site (finite values are checked by the kernel).
+fn powers_arg<'py>(powers: &Bound<'py, PyAny>) -> PyResult<numpy::PyReadonlyArray1<'py, f64>> {
+    weights_arg(Some(powers), "powers")?.ok_or_else(|| super::errors::input_error("powers must be given".into()))
+}
+
+/// Fields: the cells (vertices, offsets, parts, area, exterior as for Voronoi cells),
+/// redundant (n,), and the regular triangulation: corners (m, 3), across (m, 3) with -1 on
+/// the outline, edges (e, 2).
+#[pyfunction]
+#[pyo3(signature = (sites, powers, region_vertices, ring_offsets))]
+fn power_cells_single<'py>(
+    py: Python<'py>,
+    sites: &Bound<'py, PyAny>,
+    powers: &Bound<'py, PyAny>,
+    region_vertices: Option<&Bound<'py, PyAny>>,
+    ring_offsets: Option<&Bound<'py, PyAny>>,
+) -> PyResult<Bound<'py, PyDict>> {
+    let sites = points_arg(sites, "sites")?;
+    let powers = powers_arg(powers)?;
+    let (s, w) = (as_point_slice(&sites), powers.as_slice()?);
+    let region = region_arg(region_vertices, ring_offsets)?;
+    let region = region.as_ref().map(|(v, o)| Region { vertices: as_point_slice(v), ring_offsets: o });
+    let p = run_detached(py, || power_cells(s, w, region))?;
+    let across = across_values(&p.adjacent, 0);
+    let PowerCells { cells, redundant, triangles, edges, .. } = p;
+    Ok(cell_fields(py, Fields::new(py), cells)?
+        .put("redundant", PyArray1::from_vec(py, redundant))?
+        .put("corners", rows(py, index_rows(triangles), 3)?)?
+        .put("across", rows(py, across, 3)?)?
+        .put("edges", rows(py, index_rows(edges), 2)?)?
+        .done())
+}
+
+/// Fields: labels (G,), problem (G,), the cells of every site row in input order (as for
+/// grouped Voronoi cells; a skipped group's sites have empty cells and NaN area), redundant
+/// (k,) (false there), site_group (k,), and every group's regular-triangulation edges (E, 2)
+/// as input rows in label order with edge_offsets (G + 1,).
+#[pyfunction]
+#[pyo3(signature = (sites, powers, groups, region_vertices, ring_offsets, errors))]
+fn power_cells_grouped<'py>(
+    py: Python<'py>,
+    sites: &Bound<'py, PyAny>,
+    powers: &Bound<'py, PyAny>,
+    groups: &Bound<'py, PyAny>,
+    region_vertices: Option<&Bound<'py, PyAny>>,
+    ring_offsets: Option<&Bound<'py, PyAny>>,
+    errors: &str,
+) -> PyResult<Bound<'py, PyDict>> {
+    let on_error = on_error_arg(errors)?;
+    let sites = points_arg(sites, "sites")?;
+    let powers = powers_arg(powers)?;
+    let labels = labels_arg(groups, "groups")?;
+    let (s, w, l) = (as_point_slice(&sites), powers.as_slice()?, labels.as_slice()?);
+    let region = region_arg(region_vertices, ring_offsets)?;
+    let region = region.as_ref().map(|(v, o)| Region { vertices: as_point_slice(v), ring_offsets: o });
+    let (g, places, cells) = run_detached(py, || {
+        let (g, places) = power_cells_groups(s, w, l, region, on_error)?;
+        let cells = PowerCells::cells_by_row(&g, &places);
+        Ok((g, places, cells))
+    })?;
+    let redundant = places.by_row(&g, false, |p, k| p.redundant[k]);
+    let (edge_offsets, edges) = g.csr(|p| p.edges.as_slice());
+    let fields = Fields::new(py).grouped(&g)?;
+    Ok(cell_fields(py, fields, cells)?
+        .put("redundant", PyArray1::from_vec(py, redundant))?
+        .put("site_group", PyArray1::from_vec(py, positions(&places)))?
+        .put("edges", rows(py, index_rows(edges), 2)?)?
+        .put("edge_offsets", PyArray1::from_vec(py, index_values(edge_offsets)))?
+        .done())
+}
+
 /// Fields: assignment (n,), distance (n,), load (k,), count (k,), cost, total_load.
 #[pyfunction]
 #[pyo3(signature = (points, sites, weights))]
@@ -247,6 +319,8 @@ pub(super) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(delaunay_grouped, m)?)?;
     m.add_function(wrap_pyfunction!(voronoi_cells_single, m)?)?;
     m.add_function(wrap_pyfunction!(voronoi_cells_grouped, m)?)?;
+    m.add_function(wrap_pyfunction!(power_cells_single, m)?)?;
+    m.add_function(wrap_pyfunction!(power_cells_grouped, m)?)?;
     m.add_function(wrap_pyfunction!(nearest_site_single, m)?)?;
     m.add_function(wrap_pyfunction!(nearest_site_grouped, m)?)?;
     Ok(())

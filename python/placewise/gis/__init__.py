@@ -42,7 +42,7 @@ Requires the ``geo`` extra (geopandas, pyproj).
 
 from __future__ import annotations
 
-from .catchments import voronoi_cells
+from .catchments import power_cells, voronoi_cells
 from .coverage import cover_all, cover_most, evaluate_sites
 from .networks import Network, spanning_tree, steiner_tree
 from .plans import SitePlan, nearest_site, p_center, p_median
@@ -60,6 +60,7 @@ __all__ = [
     "nearest_site",
     "p_center",
     "p_median",
+    "power_cells",
     "spanning_tree",
     "steiner_tree",
     "voronoi_cells",

@@ -5,6 +5,8 @@ from __future__ import annotations
 
 from typing import Any, Literal
 
+import numpy as np
+
 try:
     import geopandas as gpd
 except ImportError:  # pragma: no cover - exercised only without the extra
@@ -16,7 +18,7 @@ from ._frames import MAX_SCALE_ERROR, call, framed, groups_of, prepare
 from ._together import region_geometry
 from .plans import nearest_site
 
-__all__ = ["voronoi_cells"]
+__all__ = ["power_cells", "voronoi_cells"]
 
 
 def voronoi_cells(
@@ -77,4 +79,56 @@ def voronoi_cells(
         served = nearest_site(demand, sites, weight, by=by, planar=planar, centroids=centroids, errors=errors, **model)
         out["load"] = served.sites["load"].to_numpy()
         out["points"] = served.sites["points"].to_numpy()
+    return out
+
+
+def power_cells(
+    sites: Any, power_column: str, region: Any = None, *, by: str | None = None, planar: bool = False,
+    centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
+    errors: Literal["raise", "skip"] = "raise",
+) -> Any:
+    """Each site's power cell (least ``|x - site|**2 - power``) clipped to the study region.
+
+    Parameters
+    ----------
+    sites : GeoDataFrame of points
+    power_column : str
+        The column of the sites' powers, in squared units of the working CRS (m² for
+        geographic or metric input); NaN or missing values are refused, naming the row.
+    region, by, planar, centroids, work_crs, max_scale_error, errors
+        As for :func:`voronoi_cells`.
+
+    Returns
+    -------
+    GeoDataFrame
+        The sites' columns with the cells as geometry (empty for an empty cell) and
+        ``area_<unit>2``, ``empty``, ``redundant`` (see :func:`placewise.power_cells`), plus
+        ``problem`` with ``by``.
+
+    Examples
+    --------
+    >>> import geopandas as gpd, shapely
+    >>> from placewise import gis
+    >>> sites = gpd.GeoDataFrame({"power": [2.0, 0.0]},
+    ...                          geometry=gpd.points_from_xy([1, 3], [1, 1]))
+    >>> cells = gis.power_cells(sites, "power", shapely.box(0, 0, 4, 2), planar=True)
+    >>> cells["area_u2"].round(9).tolist()
+    [5.0, 3.0]
+    """
+    model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
+    pf = prepare(sites, "sites", planar=planar, centroids=centroids, **model)
+    if power_column not in pf.frame.columns:
+        raise InputError(f"sites has no power column {power_column!r}; columns: {list(pf.frame.columns)}")
+    powers = pf.frame[power_column].to_numpy(dtype=np.float64, na_value=np.nan)
+    geom = _region_geometry(region, pf)
+    groups = groups_of(pf.frame, by, "sites")
+    rows = {"sites": pf.rows, "powers": pf.rows}
+    grouped = {} if groups is None else {"errors": errors}
+    result = call(_pw.power_cells, pf.xy, powers, geom, groups=groups, rows=rows, **grouped)
+    cells = framed(result, pf, groups, rows)
+    out = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=cells.geometry.values,
+                           crs=pf.crs)
+    for name in cells.columns:
+        if name.startswith("area_") or name in ("empty", "redundant", "problem"):
+            out[name] = cells[name].to_numpy()
     return out
