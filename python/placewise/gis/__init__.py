@@ -36,6 +36,7 @@ Requires the ``geo`` extra (geopandas, pyproj).
 
 from __future__ import annotations
 
+from .capacity import capacity_cells
 from .catchments import voronoi_cells
 from .networks import Network, spanning_tree, steiner_tree
 from .plans import SitePlan, nearest_site, p_center, p_median
@@ -44,6 +45,7 @@ from .sites import enclosing_circle, enclosing_ellipse, minimax_point, weber_poi
 __all__ = [
     "Network",
     "SitePlan",
+    "capacity_cells",
     "enclosing_circle",
     "enclosing_ellipse",
     "minimax_point",
