@@ -40,6 +40,13 @@ def instance(seed, n=60, m=5, slack=1.0):
     return points, sites, shares / shares.sum() * weights.sum() * slack, weights
 
 
+def dual_value(points, sites, caps, weights, power):
+    """The dual of the transportation problem at ``power`` (valid when ``power <= 0`` or the
+    totals are equal): Σ w_i min_j (|x_i - s_j|² - power_j) + Σ cap_j power_j (brute force)."""
+    pd = cdist(points, sites, "sqeuclidean") - power
+    return float(weights @ pd.min(axis=1) + np.asarray(caps) @ power)
+
+
 def assert_cells_hold(points, sites, caps, cells, slop=1e-9):
     """Every unsplit point of positive demand lies in the power cell of its site (brute force
     over the sites with capacity); every load within its capacity."""
@@ -66,6 +73,8 @@ def test_cost_is_the_squared_distance_transport_optimum(seed, slack):
         assert np.all(cells.power <= 0) and cells.power.max() == 0
         assert np.all(cells.power[cells.slack > 1e-9 * caps] == 0)  # complementary slackness
     assert cells.load.sum() == pytest.approx(w.sum(), rel=1e-12)
+    # Strong duality: the powers' dual value equals the plan's cost (no gap: both optimal).
+    assert dual_value(points, sites, caps, w, cells.power) == pytest.approx(cells.total_cost, rel=1e-9)
     # The parts of each split point add up to its demand.
     for i in np.unique(cells.part_point):
         assert cells.part_amount[cells.part_point == i].sum() == pytest.approx(w[i], rel=1e-12)
@@ -86,10 +95,12 @@ def test_capacities_equal_to_voronoi_loads_keep_the_voronoi_cells():
     cells = pw.capacity_cells(points, sites, caps)
     np.testing.assert_array_equal(cells.assignment, nearest)
     np.testing.assert_allclose(cells.load, caps)
-    # Power differences are tiny beside the squared spacing of the sites (zero powers are
-    # optimal; any optimal powers differ from them by less than the boundary points' gaps).
-    spacing2 = 1000.0**2 / 30
-    assert np.ptp(cells.power) < 1e-2 * spacing2
+    assert len(cells.part_point) == 0
+    # Zero powers are optimal here; for point demand the optimal powers form a polytope
+    # (the dual is piecewise linear) and the finish returns one of its vertices, so the
+    # check is that both give the same dual value, the optimal cost (brute force).
+    assert dual_value(points, sites, caps, np.ones(5000), cells.power) == pytest.approx(cells.total_cost, rel=1e-12)
+    assert dual_value(points, sites, caps, np.ones(5000), np.zeros(30)) == pytest.approx(cells.total_cost, rel=1e-12)
 
 
 def test_large_instance_meets_capacities_and_cells():

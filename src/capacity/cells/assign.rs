@@ -37,8 +37,7 @@ impl Candidates {
             .par_iter()
             .map(|p| {
                 let near: Vec<u32> = tree.nearest_neighbor_iter(*p).take(k).map(|s| s.data as u32).collect();
-                let outside =
-                    if k == m { f64::INFINITY } else { distance_squared(*p, sites[near[k - 1] as usize]) };
+                let outside = if k == m { f64::INFINITY } else { distance_squared(*p, sites[near[k - 1] as usize]) };
                 (near, outside)
             })
             .collect();

@@ -126,8 +126,10 @@ pub fn capacity_cells(
     span.extend_from_slice(&groups.sites);
     let diagonal = BoundingBox::of(&span).map_or(0.0, |b| b.diagonal());
     let scale = if diagonal > 0.0 { diagonal * diagonal } else { 1.0 };
-    let start_eps = scale / groups.sites.len() as f64;
-    let final_eps = start_eps * 1e-4;
+    // Start at a sixteenth of the area per site (the soft minimum then spans a few
+    // neighbours), end a thousand times finer (the finish then takes few points).
+    let start_eps = scale / (16.0 * groups.sites.len() as f64);
+    let final_eps = start_eps * 1e-3;
     let smoothed = Smoothed {
         points,
         demand: &demand,
@@ -295,8 +297,7 @@ fn describe(
     let (n, m) = (points.len(), sites.len());
     let factor = groups.capacity.iter().sum::<f64>() / capacities.iter().sum::<f64>();
     // Fill cursors per location: (member position, room left in that member).
-    let mut cursor: Vec<(usize, f64)> =
-        groups.members.iter().map(|ms| (0, capacities[ms[0]] * factor)).collect();
+    let mut cursor: Vec<(usize, f64)> = groups.members.iter().map(|ms| (0, capacities[ms[0]] * factor)).collect();
     let mut out = CapacityCells {
         power: vec![0.0; m],
         assignment: vec![0; n],
@@ -433,8 +434,7 @@ mod tests {
             let sites = lcg_cloud(9, seed + 10, [0.0, 0.0], 10.0);
             let caps: Vec<f64> = (0..9).map(|j| (200.0 + 30.0 * j as f64) * surplus * 3000.0 / 3540.0).collect();
             let c = capacity_cells(&points, &sites, &caps, Weights::Unit, &CellsOptions::default()).unwrap();
-            let reference =
-                transport(&vec![1.0; 3000], &caps, &|i, j| distance_squared(points[i], sites[j])).unwrap();
+            let reference = transport(&vec![1.0; 3000], &caps, &|i, j| distance_squared(points[i], sites[j])).unwrap();
             let best: f64 = reference
                 .flows
                 .iter()

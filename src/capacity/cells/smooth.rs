@@ -126,12 +126,7 @@ impl Smoothed<'_> {
                 e
             })
             .collect();
-        let mut total = Evaluation {
-            value: 0.0,
-            gradient: vec![0.0; m],
-            off: HashMap::new(),
-            diagonal: vec![0.0; m],
-        };
+        let mut total = Evaluation { value: 0.0, gradient: vec![0.0; m], off: HashMap::new(), diagonal: vec![0.0; m] };
         for part in parts {
             total.value += part.value;
             total.gradient.iter_mut().zip(&part.gradient).for_each(|(a, b)| *a += b);
