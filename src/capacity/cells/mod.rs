@@ -404,6 +404,7 @@ fn describe(
 }
 
 #[cfg(test)]
+#[allow(clippy::needless_range_loop)]
 mod tests {
     use super::*;
     use crate::capacity::transport::transport;
@@ -439,7 +440,10 @@ mod tests {
                 .flows
                 .iter()
                 .enumerate()
-                .flat_map(|(i, f)| f.iter().map(move |&(j, x)| x * distance_squared(points[i], sites[j as usize])))
+                .flat_map(|(i, f)| {
+                    let (points, sites) = (&points, &sites);
+                    f.iter().map(move |&(j, x)| x * distance_squared(points[i], sites[j as usize]))
+                })
                 .sum();
             assert!((c.total_cost - best).abs() <= 1e-9 * best, "{} vs {best}", c.total_cost);
             check_cells(&points, &sites, &caps, &c);

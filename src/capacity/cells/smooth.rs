@@ -48,6 +48,9 @@ struct Evaluation {
     diagonal: Vec<f64>,
 }
 
+/// Where a point's Laplacian terms go: the off-diagonal map and the diagonal.
+type Curvature<'a> = (&'a mut HashMap<(u32, u32), f64>, &'a mut [f64]);
+
 /// One point's soft minimum over `values` (cost − power): adds `μ p_j` to `load`, and with
 /// `hessian` its Laplacian terms; returns `μ · softmin`.
 #[inline]
@@ -57,7 +60,7 @@ fn soft_point(
     sites: &[u32],
     values: &[f64],
     load: &mut [f64],
-    hessian: Option<(&mut HashMap<(u32, u32), f64>, &mut [f64])>,
+    hessian: Option<Curvature<'_>>,
 ) -> f64 {
     let least = values.iter().copied().fold(f64::INFINITY, f64::min);
     let mut z = 0.0;
@@ -145,9 +148,9 @@ impl Smoothed<'_> {
             total.value += soft_point(self.slack, eps, &all, &values, &mut total.gradient, h);
         }
         // gradient = ν − load; value += Σ ν w.
-        for j in 0..m {
-            total.value += self.capacity[j] * w[j];
-            total.gradient[j] = self.capacity[j] - total.gradient[j];
+        for ((g, &c), &x) in total.gradient.iter_mut().zip(self.capacity).zip(w) {
+            total.value += c * x;
+            *g = c - *g;
         }
         total
     }
