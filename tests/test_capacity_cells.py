@@ -144,7 +144,7 @@ def test_all_demand_at_one_point_is_split_by_capacity():
 def test_inputs_are_checked():
     points = [[0, 0], [1, 1]]
     sites = [[0, 0], [1, 0]]
-    with pytest.raises(pw.InputError, match="2 short") as e:
+    with pytest.raises(pw.InputError, match="1 is below total demand 4, 3 short") as e:
         pw.capacity_cells(points, sites, [0.5, 0.5], [2, 2])
     assert e.value.argument == "capacities"
     with pytest.raises(pw.InputError, match=r"capacities\[1\] = -1"):
