@@ -53,6 +53,7 @@ pub use capacity::{
     capacitated_p_median, capacity_allocation, AllocationOptions, CapacitatedMedian, CapacitatedMedianOptions,
     CapacityAllocation,
 };
+pub use capacity::{capacity_cells, CapacityCells, CellsOptions};
 pub use discrete::{
     circle_intersections, cover_all, cover_most, discrete_p_center, discrete_p_median, euclidean_costs, evaluate_sites,
     with_planar_costs, CostMatrix, Costs, CoverAll, CoverMost, Coverage, DiscreteCenter, DiscreteMedian,

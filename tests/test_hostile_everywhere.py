@@ -57,6 +57,10 @@ KERNELS: dict[str, Callable[..., Any]] = {
     "capacity_allocation": lambda p, w=None: pw.capacity_allocation(p, SITES, [1e9, 1e9, 1e9], w),
     "capacity_allocation(sites)": lambda p, w=None: pw.capacity_allocation(SITES, p, np.full(len(p), 10.0)),
     "capacitated_p_median": lambda p, w=None: pw.capacitated_p_median(p, 2, [1e9, 1e9], w),
+    "capacity_cells": lambda p, w=None: pw.capacity_cells(p, SITES, [1e9, 1e9, 1e9], w),
+    "capacity_cells(balanced)": lambda p, w=None: pw.capacity_cells(
+        p, SITES, np.full(3, np.sum(np.ones(len(p)) if w is None else w) / 3), w),
+    "capacity_cells(sites)": lambda p, w=None: pw.capacity_cells(SITES, p, np.full(len(p), 10.0)),
     "p_median(candidates)": lambda p, w=None: pw.p_median(p, 2, w, candidates=p),
     "cover_all": lambda p, w=None: pw.cover_all(p, 2.0, weights=w, candidates=p),
     "cover_all(candidates)": lambda p, w=None: pw.cover_all(SITES, 50.0, candidates=p),
@@ -67,7 +71,7 @@ KERNELS: dict[str, Callable[..., Any]] = {
 WEIGHTED = {"weber_point", "weber_point(manhattan)", "minimax_point", "nearest_site", "p_median", "p_center",
             "weber_point(region)", "minimax_point(region)", "p_median(region)", "p_center(region)",
             "geodesic.weber_point", "geodesic.minimax_point", "geodesic.nearest_site",
-            "capacity_allocation", "capacitated_p_median",
+            "capacity_allocation", "capacitated_p_median", "capacity_cells", "capacity_cells(balanced)",
             "p_median(candidates)", "cover_all", "cover_most", "evaluate_sites"}
 
 

@@ -17,7 +17,14 @@ from typing import Any
 
 from . import _core
 from ._core import DegenerateInputError, InputError
-from .capacity import CapacitatedMedianPlan, CapacityPlan, capacitated_p_median, capacity_allocation
+from .capacity import (
+    CapacitatedMedianPlan,
+    CapacityCells,
+    CapacityPlan,
+    capacitated_p_median,
+    capacity_allocation,
+    capacity_cells,
+)
 from .coverage import cover_all, cover_most, evaluate_sites
 from .enclose import (
     Circle,
@@ -74,6 +81,7 @@ __all__ = [
     "Allocation",
     "Allocations",
     "CapacitatedMedianPlan",
+    "CapacityCells",
     "CapacityPlan",
     "CenterPlan",
     "CenterPlans",
@@ -101,6 +109,7 @@ __all__ = [
     "WeberPoints",
     "capacitated_p_median",
     "capacity_allocation",
+    "capacity_cells",
     "cover_all",
     "cover_most",
     "delaunay",

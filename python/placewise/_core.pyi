@@ -227,6 +227,11 @@ def capacity_p_median(
     points: ArrayLike, p: Any, capacities: ArrayLike, weights: ArrayLike | None, candidates: ArrayLike | None,
     seed: Any, max_rounds: Any,
 ) -> _Fields: ...
+# Fields: power, assignment, share, cost, part_point, part_site, part_amount, load, slack,
+# total_cost, total_distance_cost, total_demand, newton_steps, exact_points, augmentations.
+def capacity_power_cells(
+    points: ArrayLike, sites: ArrayLike, capacities: ArrayLike, weights: ArrayLike | None, tol: Any,
+) -> _Fields: ...
 
 # --- travel (src/py/travel.rs) ---
 # Origins, destinations, points and sites are (n, 2) points (attached to the nearest edge)

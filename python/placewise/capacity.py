@@ -3,6 +3,8 @@
 * :func:`capacity_allocation` — demand to given sites at least total distance within their
   capacities: the exact transportation plan when a point's demand may be split between
   sites, a single-source plan with a proven gap when it may not;
+* :func:`capacity_cells` — capacity-constrained catchments: the powers for which every
+  site's power cell holds exactly its capacity of demand (squared-distance cost);
 * :func:`capacitated_p_median` — ``p`` sites with capacities, continuous or chosen among
   candidates (location–allocation), with a proven gap where a cheap relaxation exists.
 
@@ -32,7 +34,8 @@ from numpy.typing import ArrayLike
 from . import _core
 from ._results import Result, _require_pandas, as_points
 
-__all__ = ["CapacitatedMedianPlan", "CapacityPlan", "capacitated_p_median", "capacity_allocation"]
+__all__ = ["CapacitatedMedianPlan", "CapacityCells", "CapacityPlan", "capacitated_p_median", "capacity_allocation",
+           "capacity_cells"]
 
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
@@ -314,3 +317,202 @@ def capacitated_p_median(
     sites = fields.pop("sites")
     caps = fields.pop("capacities")
     return CapacitatedMedianPlan(**fields, points=as_points(points), sites=sites, capacities=caps, unit=unit)
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class CapacityCells(Result):
+    """Capacity-constrained catchments: power cells that hold each site's capacity.
+
+    Attributes
+    ----------
+    power : ndarray, shape (m,)
+        Per site, its power ``w`` (squared length units): a point belongs to the cell of
+        the site with the least power distance ``|x - s|² - w``. The largest power among
+        sites with capacity is 0, and every site with slack has power 0; a site of zero
+        capacity gets the largest power at which it serves nothing.
+    assignment : ndarray of int64, shape (n,)
+        The site serving the largest share of each point's demand (a point of zero weight:
+        its least power distance site).
+    share : ndarray, shape (n,)
+        The share (0–1) of the point's demand that ``assignment`` serves; below 1 only for
+        points on a cell boundary whose demand is split.
+    cost : ndarray, shape (n,)
+        Demand × squared distance of each point, summed over the sites serving it.
+    part_point, part_site, part_amount : ndarray, shape (k,)
+        Every (point, site, amount) of the split points; see :meth:`parts_frame`.
+    load, slack : ndarray, shape (m,)
+        Per site: demand served and ``capacity - load``.
+    total_cost : float
+        ``Σ cost``: demand × squared distance, the optimised objective.
+    total_distance_cost : float
+        ``Σ amount × distance`` of the same plan (not optimised for it).
+    total_demand : float
+        ``Σ weights``.
+    newton_steps, exact_points, augmentations : int
+        Newton steps of the smoothed stage, points solved exactly in the finish, and the
+        finish's augmenting paths.
+    points, sites, capacities : ndarray
+        The inputs (not shown in the repr).
+
+    ``to_frame()`` has one row per demand point (``assignment``, ``share``,
+    ``cost_<unit>2``; ``to_geodataframe()`` adds the point); ``sites_frame()`` one row per
+    site; ``parts_frame()`` one row per part of a split point; ``summary()`` the totals.
+    """
+
+    power: np.ndarray
+    assignment: np.ndarray = dataclasses.field(repr=False)
+    share: np.ndarray = dataclasses.field(repr=False)
+    cost: np.ndarray = dataclasses.field(repr=False)
+    part_point: np.ndarray = dataclasses.field(repr=False)
+    part_site: np.ndarray = dataclasses.field(repr=False)
+    part_amount: np.ndarray = dataclasses.field(repr=False)
+    load: np.ndarray
+    slack: np.ndarray = dataclasses.field(repr=False)
+    total_cost: float
+    total_distance_cost: float = dataclasses.field(repr=False)
+    total_demand: float = dataclasses.field(repr=False)
+    newton_steps: int = dataclasses.field(repr=False)
+    exact_points: int = dataclasses.field(repr=False)
+    augmentations: int = dataclasses.field(repr=False)
+    points: np.ndarray = dataclasses.field(repr=False)
+    sites: np.ndarray = dataclasses.field(repr=False)
+    capacities: np.ndarray = dataclasses.field(repr=False)
+
+    def _columns(self) -> dict[str, Any]:
+        return {"assignment": self.assignment, "share": self.share, self._u("cost", 2): self.cost}
+
+    def _geometry(self) -> Any:
+        import shapely
+
+        return shapely.points(self.points)
+
+    def sites_frame(self) -> Any:
+        """One row per site: ``x``, ``y``, ``capacity``, ``load``, ``slack``, ``power_<unit>2``."""
+        return _require_pandas().DataFrame(
+            {"x": self.sites[:, 0], "y": self.sites[:, 1], "capacity": self.capacities, "load": self.load,
+             "slack": self.slack, self._u("power", 2): self.power}
+        )
+
+    def parts_frame(self) -> Any:
+        """One row per part of a point whose demand is split between sites: ``point``,
+        ``site``, ``amount``."""
+        return _require_pandas().DataFrame({"point": self.part_point, "site": self.part_site,
+                                            "amount": self.part_amount})
+
+    def summary(self) -> Any:
+        """One row: ``cost_<unit>2`` (demand × squared distance), ``distance_cost_<unit>``
+        (demand × distance of the same plan), ``demand``, ``capacity``, ``slack``,
+        ``points``, ``sites``, ``split_points``."""
+        return _require_pandas().DataFrame({
+            self._u("cost", 2): [self.total_cost], self._u("distance_cost"): [self.total_distance_cost],
+            "demand": [self.total_demand], "capacity": [float(np.sum(self.capacities))],
+            "slack": [float(np.sum(self.slack))], "points": [len(self.points)], "sites": [len(self.sites)],
+            "split_points": [len(np.unique(self.part_point))],
+        })
+
+    def plot(self, ax: Any = None, **style: Any) -> Any:
+        """Draw the points coloured by their main site and the sites as stars, with a title,
+        unit-labelled axes and a legend (new axes when ``ax`` is None); ``style`` goes to the
+        points.
+
+        Examples
+        --------
+        >>> import matplotlib
+        >>> matplotlib.use("Agg")
+        >>> import placewise as pw
+        >>> cells = pw.capacity_cells([[0, 0], [1, 0], [2, 0]], [[0, 0], [2, 0]], [1, 2])
+        >>> cells.plot().get_title()
+        'Capacity-constrained cells · 3 points, 2 sites, 0 split'
+        """
+        from .plotting import draw_sites, finish, site_colours
+
+        ax = self._plot_axes(ax)
+        palette = np.asarray(site_colours(max(len(self.sites), 1)))
+        options: dict[str, Any] = {"s": 5, "linewidths": 0, "zorder": 3,
+                                   "label": "points (colour = main site)", **style}
+        if "color" not in options and "c" not in options:
+            options["c"] = palette[self.assignment]
+        ax.scatter(self.points[:, 0], self.points[:, 1], **options)
+        draw_sites(ax, self.sites, list(palette))
+        title = (f"Capacity-constrained cells · {len(self.points)} points, {len(self.sites)} sites, "
+                 f"{len(np.unique(self.part_point))} split")
+        return finish(ax, title, self.unit)
+
+
+def capacity_cells(
+    points: ArrayLike, sites: ArrayLike, capacities: ArrayLike, weights: ArrayLike | None = None, *,
+    tol: float = 1e-9, unit: str = "u",
+) -> CapacityCells:
+    """Capacity-constrained catchments: the powers ``w`` for which each site's power cell
+    (the points whose least power distance ``|x - s|² - w`` is to that site) holds exactly
+    its capacity of demand, and the plan those cells carry.
+
+    The powers maximise the concave dual of the transportation problem with cost
+    ``|x - s|²`` (Aurenhammer, Hoffmann & Aronov 1998), and the plan is that problem's
+    optimum: least total demand × squared distance within the capacities. For point demand
+    the dual is piecewise linear, so they are found in two stages: damped Newton steps
+    (Kitagawa, Mérigot & Thibert 2019) on the entropically smoothed dual (Cuturi 2013),
+    its smoothing lowered level by level, give approximate powers; then the points near a
+    cell boundary, with the capacity the others leave, form a small transportation problem
+    solved exactly by successive shortest paths (Edmonds & Karp 1972; Tomizawa 1971)
+    seeded with those powers. Its prices are the final powers, and every other point is
+    checked to lie in its site's final cell (a point that does not joins the exact
+    problem); the result therefore satisfies complementary slackness and is exact, not
+    approximate. Points exactly on a boundary may have their demand split between sites
+    (:meth:`CapacityCells.parts_frame`).
+
+    Total capacity may exceed total demand: sites may then be under-full, their powers
+    are at most 0, and every site with slack has power 0. Capacity below the demand (by
+    more than ``tol`` relative) is refused. Capacities within ``tol`` of the demand are
+    scaled to it, so loads match capacities to ``tol`` relative.
+
+    Parameters
+    ----------
+    points : array_like, shape (n, 2)
+        Demand locations.
+    sites : array_like, shape (m, 2)
+        Site locations; a location listed twice must have one capacity (such sites share
+        one cell and are filled in turn).
+    capacities : array_like, shape (m,)
+        Finite, non-negative demand each site serves at most (in weight units).
+    weights : array_like, shape (n,), optional
+        Finite, non-negative demand per point, not all zero. Default: all 1.
+    tol : float
+        Relative tolerance on the totals, in (0, 1).
+    unit : str
+        Name of the coordinates' length unit, used in column names.
+
+    Returns
+    -------
+    CapacityCells
+
+    Raises
+    ------
+    InputError
+        For bad points, sites or weights; a negative, NaN or infinite capacity (naming its
+        row); capacities of the wrong length; one location with two capacities; ``tol``
+        outside (0, 1); total capacity below total demand (the message gives the shortfall).
+
+    Examples
+    --------
+    Two depots on a road of five shops, the western one with room for two:
+
+    >>> import placewise as pw
+    >>> shops = [[0, 0], [1, 0], [2, 0], [3, 0], [4, 0]]
+    >>> cells = pw.capacity_cells(shops, [[0, 0], [4, 0]], [2, 3])
+    >>> cells.assignment.tolist(), cells.load.tolist(), float(cells.total_cost)
+    ([0, 0, 1, 1, 1], [2.0, 3.0], 6.0)
+    >>> bool(cells.power[1] == 0.0 and cells.power[0] < 0.0)
+    True
+
+    A split point: three shops, two depots of 1.5 each share the middle one:
+
+    >>> cells = pw.capacity_cells([[0, 0], [1, 0], [2, 0]], [[0, 0], [2, 0]], [1.5, 1.5])
+    >>> cells.parts_frame()
+       point  site  amount
+    0      1     0     0.5
+    1      1     1     0.5
+    """
+    fields = _core.capacity_power_cells(points, sites, capacities, weights, tol)
+    return CapacityCells(**fields, points=as_points(points), sites=as_points(sites),
+                         capacities=np.asarray(capacities, dtype=np.float64), unit=unit)

@@ -3,16 +3,20 @@
 //! - [`capacity_allocation`]: given sites with capacities, serve the demand at least total
 //!   distance: exact as a transportation problem when a point's demand may be split, a
 //!   single-source assignment with a proven gap from the split plan when it may not.
+//! - [`capacity_cells`]: the powers whose power cells hold each site's capacity of demand
+//!   (capacity-constrained catchments, squared-distance cost), with the plan they carry.
 //! - [`capacitated_p_median`]: choose `p` sites with capacities (location–allocation).
 //!
 //! The exact solver for the transportation problem (successive shortest paths condensed over
 //! the few sites) lives in `transport`; every model here calls it.
 
 mod allocation;
+mod cells;
 mod median;
 mod transport;
 
 pub use allocation::{capacity_allocation, AllocationOptions, CapacityAllocation};
+pub use cells::{capacity_cells, CapacityCells, CellsOptions};
 pub use median::{capacitated_p_median, CapacitatedMedian, CapacitatedMedianOptions};
 
 use crate::error::{Error, Result};

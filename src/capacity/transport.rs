@@ -254,7 +254,7 @@ pub(crate) fn transport(demand: &[f64], capacity: &[f64], cost: &(dyn Fn(usize, 
 /// The imbalances this leaves (sites with more load than outflow, sites sending more than
 /// they receive, and the sink) are then removed along shortest paths, each of which keeps
 /// every residual arc at reduced cost ≥ 0, so the final flow is optimal.
-fn solve_from(
+pub(crate) fn solve_from(
     demand: &[f64],
     capacity: &[f64],
     cost: &(dyn Fn(usize, usize) -> f64 + Sync),

@@ -4,11 +4,12 @@ use numpy::{PyArray1, PyArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
 
-use super::convert::{as_point_slice, count_arg, seed_arg};
+use super::convert::{as_point_slice, count_arg, float_arg, seed_arg};
 use super::fields::Fields;
 use super::{points_arg, run_detached, weights_arg};
 use crate::capacity::{
-    capacitated_p_median, capacity_allocation, AllocationOptions, CapacitatedMedianOptions, CapacityAllocation,
+    capacitated_p_median, capacity_allocation, capacity_cells, AllocationOptions, CapacitatedMedianOptions,
+    CapacityAllocation, CellsOptions,
 };
 use crate::geometry::{Point, Weights};
 
@@ -117,8 +118,52 @@ fn capacity_p_median<'py>(
     Ok(allocation_fields(py, fields, &plan.allocation)?.done())
 }
 
+/// Fields: per site the powers, per point the plan, the parts of split points, per site
+/// load and slack, the totals and the solver's counts.
+#[pyfunction]
+#[pyo3(signature = (points, sites, capacities, weights, tol))]
+fn capacity_power_cells<'py>(
+    py: Python<'py>,
+    points: &Bound<'py, PyAny>,
+    sites: &Bound<'py, PyAny>,
+    capacities: &Bound<'py, PyAny>,
+    weights: Option<&Bound<'py, PyAny>>,
+    tol: &Bound<'py, PyAny>,
+) -> PyResult<Bound<'py, PyDict>> {
+    let options = CellsOptions { tol: float_arg(tol, "tol", "in (0, 1)", |t| t > 0.0 && t < 1.0)? };
+    let pts = points_arg(points, "points")?;
+    let sts = points_arg(sites, "sites")?;
+    let caps = capacities_arg(capacities)?;
+    let w = weights_arg(weights, "weights")?;
+    let (p, s, c) = (as_point_slice(&pts), as_point_slice(&sts), caps.as_slice()?);
+    let w = w.as_ref().map(|w| w.as_slice()).transpose()?;
+    let r = run_detached(py, || capacity_cells(p, s, c, Weights::from_option(w), &options))?;
+    let assignment: Vec<i64> = r.assignment.iter().map(|&j| j as i64).collect();
+    let part_point: Vec<i64> = r.parts.iter().map(|e| e.0 as i64).collect();
+    let part_site: Vec<i64> = r.parts.iter().map(|e| e.1 as i64).collect();
+    let part_amount: Vec<f64> = r.parts.iter().map(|e| e.2).collect();
+    Ok(Fields::new(py)
+        .put("power", PyArray1::from_slice(py, &r.power))?
+        .put("assignment", PyArray1::from_vec(py, assignment))?
+        .put("share", PyArray1::from_slice(py, &r.share))?
+        .put("cost", PyArray1::from_slice(py, &r.cost))?
+        .put("part_point", PyArray1::from_vec(py, part_point))?
+        .put("part_site", PyArray1::from_vec(py, part_site))?
+        .put("part_amount", PyArray1::from_vec(py, part_amount))?
+        .put("load", PyArray1::from_slice(py, &r.load))?
+        .put("slack", PyArray1::from_slice(py, &r.slack))?
+        .put("total_cost", r.total_cost)?
+        .put("total_distance_cost", r.total_distance_cost)?
+        .put("total_demand", r.total_demand)?
+        .put("newton_steps", r.newton_steps)?
+        .put("exact_points", r.exact_points)?
+        .put("augmentations", r.augmentations)?
+        .done())
+}
+
 pub(super) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(capacity_allocate, m)?)?;
     m.add_function(wrap_pyfunction!(capacity_p_median, m)?)?;
+    m.add_function(wrap_pyfunction!(capacity_power_cells, m)?)?;
     Ok(())
 }

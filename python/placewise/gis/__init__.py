@@ -42,6 +42,7 @@ Requires the ``geo`` extra (geopandas, pyproj).
 
 from __future__ import annotations
 
+from .capacity import capacity_cells
 from .catchments import power_cells, voronoi_cells
 from .coverage import cover_all, cover_most, evaluate_sites
 from .networks import Network, spanning_tree, steiner_tree
@@ -51,6 +52,7 @@ from .sites import enclosing_circle, enclosing_ellipse, minimax_point, weber_poi
 __all__ = [
     "Network",
     "SitePlan",
+    "capacity_cells",
     "cover_all",
     "cover_most",
     "enclosing_circle",

@@ -1,0 +1,475 @@
+//! Capacity-constrained catchments: the powers `w` for which every site's power cell
+//! (`|x − s_j|² − w_j` least) holds exactly its capacity of demand.
+//!
+//! By the duality of Aurenhammer, Hoffmann & Aronov (1998), these powers maximise the
+//! concave dual of the transportation problem with cost `|x − s|²`,
+//! `g(w) = Σ_i μ_i min_j (|x_i − s_j|² − w_j) + Σ_j ν_j w_j`, and the cells of the optimal
+//! powers carry an optimal plan. For point demand `g` is piecewise linear, so the powers are
+//! found in two stages:
+//!
+//! 1. approximate powers from damped Newton steps on the entropically smoothed dual, its
+//!    smoothing lowered level by level (`smooth`; Kitagawa, Mérigot & Thibert 2019 for the
+//!    damped Newton method on the semi-discrete dual, Cuturi 2013 for the smoothing);
+//! 2. an exact finish: points farther than a margin from every cell boundary keep their
+//!    cell; the rest (and the capacity left by the kept ones) form a small transportation
+//!    problem solved exactly by successive shortest paths seeded with the approximate
+//!    powers (`super::transport`). Its optimal prices are the final powers; every kept
+//!    point is then checked to lie in its site's final cell, and a point that does not
+//!    joins the exact problem, which is solved again. When the check passes, every point is
+//!    served only by sites of least power distance and every capacity is met: the plan and
+//!    the powers satisfy complementary slackness, so both are optimal.
+//!
+//! Capacity above the demand: sites may be under-full. The dual then has the constraint
+//! `w_j ≤ 0` with `w_j = 0` wherever a site has slack; equivalently a virtual point of the
+//! surplus, at cost 0 from every site, goes to the sites of largest power. Powers are
+//! normalised so that the largest is 0 (balanced totals fix them only up to a constant).
+
+mod assign;
+mod smooth;
+
+use assign::{power_nearest_with_gap, Candidates};
+use smooth::Smoothed;
+
+use super::transport::solve_from;
+use super::validate;
+use crate::error::{Error, Result};
+use crate::geometry::{distance_squared, location_key, BoundingBox, CompensatedSum, Point, Weights};
+
+/// Options of [`capacity_cells`].
+#[derive(Debug, Clone, Copy)]
+pub struct CellsOptions {
+    /// Relative tolerance on the totals: total capacity within `tol` of total demand counts
+    /// as equal (capacities are scaled to the demand).
+    pub tol: f64,
+}
+
+impl Default for CellsOptions {
+    fn default() -> Self {
+        CellsOptions { tol: 1e-9 }
+    }
+}
+
+/// Capacity-constrained power cells and the optimal plan they carry. Costs are
+/// demand × squared distance (input units²) unless named otherwise.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CapacityCells {
+    /// Per site, its power `w_j` (squared input units): the largest is 0 among sites with
+    /// capacity, 0 at every site with slack; a site without capacity gets the largest power
+    /// at which it serves nothing.
+    pub power: Vec<f64>,
+    /// Per point, the site serving the largest share of its demand (a point of zero weight:
+    /// its least power distance site).
+    pub assignment: Vec<usize>,
+    /// Per point, the share (0–1) of its demand that `assignment` serves.
+    pub share: Vec<f64>,
+    /// Per point, `Σ_j amount_ij · |x_i − s_j|²`.
+    pub cost: Vec<f64>,
+    /// Every `(point, site, amount)` of the points whose demand is split between sites (on
+    /// a cell boundary), ascending by point, then site.
+    pub parts: Vec<(usize, usize, f64)>,
+    /// Per site, the demand it serves.
+    pub load: Vec<f64>,
+    /// Per site, `capacity − load`.
+    pub slack: Vec<f64>,
+    /// `Σ cost` (demand × squared distance).
+    pub total_cost: f64,
+    /// `Σ amount · |x − s|` of the same plan (demand × distance).
+    pub total_distance_cost: f64,
+    /// `Σ weights`.
+    pub total_demand: f64,
+    /// Newton steps of the smoothed stage.
+    pub newton_steps: usize,
+    /// Points solved exactly in the finish.
+    pub exact_points: usize,
+    /// Augmenting paths of the exact finish.
+    pub augmentations: usize,
+}
+
+/// Most rounds of the exact finish before it takes every point.
+const FINISH_ROUNDS: usize = 24;
+
+/// The powers whose power cells hold each site's capacity of demand, and the plan.
+///
+/// # Errors
+/// Bad points, sites, weights or capacities (see [`super::validate`]);
+/// [`Error::InvalidParameter`] naming `tol` unless `0 < tol < 1`; [`Error::Shortfall`]
+/// when total capacity is below total demand by more than `tol` relative.
+///
+/// # Runtime
+/// O(n log m) to list each point's nearest sites, O(n) per Newton step (tens of steps),
+/// then the exact finish: O(n'·m) plus O(m²) per augmentation for the `n'` points near
+/// cell boundaries.
+pub fn capacity_cells(
+    points: &[Point],
+    sites: &[Point],
+    capacities: &[f64],
+    weights: Weights<'_>,
+    options: &CellsOptions,
+) -> Result<CapacityCells> {
+    let tol = options.tol;
+    if !(tol > 0.0 && tol < 1.0) {
+        return Err(Error::InvalidParameter { name: "tol", reason: format!("tol must be in (0, 1); got {tol}") });
+    }
+    let (demand_total, capacity_total) = validate(points, sites, capacities, weights)?;
+    if capacity_total < demand_total * (1.0 - tol) {
+        return Err(Error::Shortfall { demand: demand_total, capacity: capacity_total });
+    }
+    // Totals equal within tol: scale the capacities to the demand (exactly balanced).
+    let factor = if capacity_total <= demand_total * (1.0 + tol) { demand_total / capacity_total } else { 1.0 };
+    let surplus = if factor == 1.0 { capacity_total - demand_total } else { 0.0 };
+    let groups = Locations::of(sites, capacities, factor);
+    let demand: Vec<f64> = (0..points.len()).map(|i| weights.get(i)).collect();
+    let candidates = Candidates::new(points, &groups.sites);
+
+    // Stage 1: approximate powers.
+    let mut span = points.to_vec();
+    span.extend_from_slice(&groups.sites);
+    let diagonal = BoundingBox::of(&span).map_or(0.0, |b| b.diagonal());
+    let scale = if diagonal > 0.0 { diagonal * diagonal } else { 1.0 };
+    // Start at a sixteenth of the area per site (the soft minimum then spans a few
+    // neighbours), end a thousand times finer (the finish then takes few points).
+    let start_eps = scale / (16.0 * groups.sites.len() as f64);
+    let final_eps = start_eps * 1e-3;
+    let smoothed = Smoothed {
+        points,
+        demand: &demand,
+        sites: &groups.sites,
+        capacity: &groups.capacity,
+        slack: surplus,
+        candidates: &candidates,
+    };
+    let (mut w, eps, newton_steps) = smoothed.solve(vec![0.0; groups.sites.len()], start_eps, final_eps, 400);
+    normalise(&mut w);
+
+    // Stage 2: the exact finish.
+    let finish = exact_finish(points, &demand, &groups, surplus, &candidates, w, 16.0 * eps, 1e-12 * scale)?;
+    Ok(describe(points, sites, capacities, &demand, &groups, finish, newton_steps, demand_total))
+}
+
+/// Shift powers so that the largest is 0.
+fn normalise(w: &mut [f64]) {
+    let top = w.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    if top.is_finite() {
+        w.iter_mut().for_each(|x| *x -= top);
+    }
+}
+
+/// Sites merged by location: sites at one location share one cell (they tie everywhere),
+/// so the solver sees each location with capacity once, with the capacities summed.
+struct Locations {
+    /// Locations with positive capacity.
+    sites: Vec<Point>,
+    /// Their capacities (scaled).
+    capacity: Vec<f64>,
+    /// Per location, its input sites with positive capacity (ascending).
+    members: Vec<Vec<usize>>,
+    /// Per input site, its location (None: no capacity there).
+    of_site: Vec<Option<usize>>,
+}
+
+impl Locations {
+    fn of(sites: &[Point], capacities: &[f64], factor: f64) -> Locations {
+        let mut index = std::collections::HashMap::new();
+        let mut out = Locations { sites: Vec::new(), capacity: Vec::new(), members: Vec::new(), of_site: Vec::new() };
+        for (j, &s) in sites.iter().enumerate() {
+            if capacities[j] <= 0.0 {
+                out.of_site.push(None);
+                continue;
+            }
+            let g = *index.entry(location_key(s)).or_insert_with(|| {
+                out.sites.push(s);
+                out.capacity.push(0.0);
+                out.members.push(Vec::new());
+                out.sites.len() - 1
+            });
+            out.capacity[g] += capacities[j] * factor;
+            out.members[g].push(j);
+            out.of_site.push(Some(g));
+        }
+        out
+    }
+}
+
+/// The exact plan over locations: per point its `(location, amount)` parts, the powers.
+struct Finish {
+    flows: Vec<Vec<(u32, f64)>>,
+    power: Vec<f64>,
+    exact_points: usize,
+    augmentations: usize,
+}
+
+/// Stage 2 (see the module docs). `margin`: points whose power gap is below it join the
+/// exact problem; `slop`: rounding allowed in the final membership check.
+#[allow(clippy::too_many_arguments)]
+fn exact_finish(
+    points: &[Point],
+    demand: &[f64],
+    groups: &Locations,
+    surplus: f64,
+    candidates: &Candidates,
+    w: Vec<f64>,
+    mut margin: f64,
+    slop: f64,
+) -> Result<Finish> {
+    let n = points.len();
+    let m = groups.sites.len();
+    let total: f64 = groups.capacity.iter().sum();
+    let (best, gap) = power_nearest_with_gap(points, &groups.sites, &w, candidates);
+    let mut forced = vec![false; n];
+    let prices: Vec<f64> = w.iter().map(|&x| -x).collect();
+    for round in 0..=FINISH_ROUNDS {
+        let everything = round == FINISH_ROUNDS;
+        let open: Vec<usize> =
+            (0..n).filter(|&i| demand[i] > 0.0 && (everything || forced[i] || gap[i] < margin)).collect();
+        let mut is_open = vec![false; n];
+        open.iter().for_each(|&i| is_open[i] = true);
+        let mut kept = vec![CompensatedSum::default(); m];
+        for i in 0..n {
+            if demand[i] > 0.0 && !is_open[i] {
+                kept[best[i] as usize].add(demand[i]);
+            }
+        }
+        let residual: Vec<f64> = (0..m).map(|j| groups.capacity[j] - kept[j].total()).collect();
+        if residual.iter().any(|&r| r < -1e-12 * total) {
+            // The kept points overfill a cell: widen the margin.
+            margin *= 4.0;
+            continue;
+        }
+        let residual: Vec<f64> = residual.into_iter().map(|r| r.max(0.0)).collect();
+        let mut sub_demand: Vec<f64> = open.iter().map(|&i| demand[i]).collect();
+        if surplus > 0.0 {
+            sub_demand.push(surplus);
+        }
+        let cost = |i: usize, j: usize| {
+            if i < open.len() {
+                distance_squared(points[open[i]], groups.sites[j])
+            } else {
+                0.0
+            }
+        };
+        let plan = solve_from(&sub_demand, &residual, &cost, &prices)?;
+        let mut power: Vec<f64> = plan.price.iter().map(|&y| -y).collect();
+        normalise(&mut power);
+        // Every kept point must lie in its site's final cell.
+        let (now, _) = power_nearest_with_gap(points, &groups.sites, &power, candidates);
+        let mut violations = 0;
+        for i in 0..n {
+            if demand[i] > 0.0 && !is_open[i] && now[i] != best[i] {
+                let here = distance_squared(points[i], groups.sites[best[i] as usize]) - power[best[i] as usize];
+                let least = distance_squared(points[i], groups.sites[now[i] as usize]) - power[now[i] as usize];
+                if here > least + slop {
+                    forced[i] = true;
+                    violations += 1;
+                }
+            }
+        }
+        if violations > 0 && !everything {
+            continue;
+        }
+        let mut flows: Vec<Vec<(u32, f64)>> = vec![Vec::new(); n];
+        for i in 0..n {
+            if demand[i] > 0.0 && !is_open[i] {
+                flows[i].push((best[i], demand[i]));
+            }
+        }
+        for (a, &i) in open.iter().enumerate() {
+            flows[i] = plan.flows[a].clone();
+        }
+        return Ok(Finish { flows, power, exact_points: open.len(), augmentations: plan.augmentations });
+    }
+    unreachable!("the last round takes every point")
+}
+
+/// The per-point and per-site tables, with each location's demand handed to its input
+/// sites in point order (each filled before the next: at most one point split between
+/// two sites of one location).
+#[allow(clippy::too_many_arguments)]
+fn describe(
+    points: &[Point],
+    sites: &[Point],
+    capacities: &[f64],
+    demand: &[f64],
+    groups: &Locations,
+    finish: Finish,
+    newton_steps: usize,
+    total_demand: f64,
+) -> CapacityCells {
+    let (n, m) = (points.len(), sites.len());
+    let factor = groups.capacity.iter().sum::<f64>() / capacities.iter().sum::<f64>();
+    // Fill cursors per location: (member position, room left in that member).
+    let mut cursor: Vec<(usize, f64)> = groups.members.iter().map(|ms| (0, capacities[ms[0]] * factor)).collect();
+    let mut out = CapacityCells {
+        power: vec![0.0; m],
+        assignment: vec![0; n],
+        share: vec![0.0; n],
+        cost: vec![0.0; n],
+        parts: Vec::new(),
+        load: vec![0.0; m],
+        slack: vec![0.0; m],
+        total_cost: 0.0,
+        total_distance_cost: 0.0,
+        total_demand,
+        newton_steps,
+        exact_points: finish.exact_points,
+        augmentations: finish.augmentations,
+    };
+    let mut loads = vec![CompensatedSum::default(); m];
+    let mut total = CompensatedSum::default();
+    let mut plain = CompensatedSum::default();
+    let weightless: Vec<usize> = (0..n).filter(|&i| demand[i] == 0.0).collect();
+    let mut least = vec![f64::INFINITY; n];
+    for i in 0..n {
+        let mut parts: Vec<(usize, f64)> = Vec::new();
+        for &(g, x) in &finish.flows[i] {
+            let g = g as usize;
+            let ms = &groups.members[g];
+            let mut left = x;
+            while left > 0.0 {
+                let (pos, room) = &mut cursor[g];
+                let take = if *pos + 1 == ms.len() { left } else { left.min(*room) };
+                if take > 0.0 {
+                    parts.push((ms[*pos], take));
+                }
+                left -= take;
+                *room -= take;
+                // A room left by rounding alone counts as full (no spurious sliver parts).
+                let full = *room <= 1e-12 * capacities[ms[*pos]] * factor;
+                if left > 0.0 || full {
+                    if *pos + 1 < ms.len() {
+                        *pos += 1;
+                        *room = capacities[ms[*pos]] * factor;
+                    } else {
+                        break;
+                    }
+                }
+            }
+        }
+        parts.sort_by_key(|e| e.0);
+        let mut merged: Vec<(usize, f64)> = Vec::new();
+        for (j, x) in parts {
+            match merged.last_mut() {
+                Some(last) if last.0 == j => last.1 += x,
+                _ => merged.push((j, x)),
+            }
+        }
+        let mut cost = CompensatedSum::default();
+        let mut best: Option<(usize, f64)> = None;
+        for &(j, x) in &merged {
+            let d2 = distance_squared(points[i], sites[j]);
+            cost.add(x * d2);
+            plain.add(x * d2.sqrt());
+            loads[j].add(x);
+            if best.is_none_or(|(_, bx)| x > bx) {
+                best = Some((j, x));
+            }
+        }
+        if merged.len() > 1 {
+            out.parts.extend(merged.iter().map(|&(j, x)| (i, j, x)));
+        }
+        out.cost[i] = cost.total();
+        total.add(out.cost[i]);
+        if let Some((j, x)) = best {
+            out.assignment[i] = j;
+            out.share[i] = x / demand[i];
+            let g = groups.of_site[j].expect("a serving site has capacity");
+            least[i] = distance_squared(points[i], groups.sites[g]) - finish.power[g];
+        }
+    }
+    // Points of zero weight: their least power distance location, its first site.
+    for &i in &weightless {
+        let g = (0..groups.sites.len())
+            .min_by(|&a, &b| {
+                let va = distance_squared(points[i], groups.sites[a]) - finish.power[a];
+                let vb = distance_squared(points[i], groups.sites[b]) - finish.power[b];
+                va.total_cmp(&vb)
+            })
+            .expect("some site has capacity");
+        out.assignment[i] = groups.members[g][0];
+    }
+    for j in 0..m {
+        out.load[j] = loads[j].total();
+        out.slack[j] = capacities[j] - out.load[j];
+        out.power[j] = match groups.of_site[j] {
+            Some(g) => finish.power[g],
+            // No capacity: the largest power at which the site is nowhere strictly least.
+            None => {
+                let served = (0..n).filter(|&i| demand[i] > 0.0);
+                served.map(|i| distance_squared(points[i], sites[j]) - least[i]).fold(f64::INFINITY, f64::min)
+            }
+        };
+    }
+    out.total_cost = total.total();
+    out.total_distance_cost = plain.total();
+    out
+}
+
+#[cfg(test)]
+#[allow(clippy::needless_range_loop)]
+mod tests {
+    use super::*;
+    use crate::capacity::transport::transport;
+    use crate::partition::testing::lcg_cloud;
+
+    fn check_cells(points: &[Point], sites: &[Point], caps: &[f64], c: &CapacityCells) {
+        let split: std::collections::HashSet<usize> = c.parts.iter().map(|e| e.0).collect();
+        for (i, p) in points.iter().enumerate() {
+            if split.contains(&i) {
+                continue;
+            }
+            let least = (0..sites.len())
+                .filter(|&j| caps[j] > 0.0)
+                .map(|j| distance_squared(*p, sites[j]) - c.power[j])
+                .fold(f64::INFINITY, f64::min);
+            let j = c.assignment[i];
+            assert!(distance_squared(*p, sites[j]) - c.power[j] <= least + 1e-9, "point {i}");
+        }
+        for j in 0..sites.len() {
+            assert!(c.load[j] <= caps[j] * (1.0 + 1e-9) + 1e-9, "site {j}: {} > {}", c.load[j], caps[j]);
+        }
+    }
+
+    #[test]
+    fn matches_the_squared_distance_transportation_optimum() {
+        for (seed, surplus) in [(1, 1.0), (2, 1.0), (3, 1.3)] {
+            let points = lcg_cloud(3000, seed, [0.0, 0.0], 10.0);
+            let sites = lcg_cloud(9, seed + 10, [0.0, 0.0], 10.0);
+            let caps: Vec<f64> = (0..9).map(|j| (200.0 + 30.0 * j as f64) * surplus * 3000.0 / 3540.0).collect();
+            let c = capacity_cells(&points, &sites, &caps, Weights::Unit, &CellsOptions::default()).unwrap();
+            let reference = transport(&vec![1.0; 3000], &caps, &|i, j| distance_squared(points[i], sites[j])).unwrap();
+            let best: f64 = reference
+                .flows
+                .iter()
+                .enumerate()
+                .flat_map(|(i, f)| {
+                    let (points, sites) = (&points, &sites);
+                    f.iter().map(move |&(j, x)| x * distance_squared(points[i], sites[j as usize]))
+                })
+                .sum();
+            assert!((c.total_cost - best).abs() <= 1e-9 * best, "{} vs {best}", c.total_cost);
+            check_cells(&points, &sites, &caps, &c);
+            if surplus == 1.0 {
+                for j in 0..9 {
+                    assert!((c.load[j] - caps[j]).abs() <= 1e-9 * caps[j]);
+                }
+            }
+            assert!(c.power.iter().all(|&w| w <= 0.0) && c.power.contains(&0.0));
+        }
+    }
+
+    #[test]
+    fn duplicates_zero_capacity_and_shortfall() {
+        let points = lcg_cloud(400, 7, [0.0, 0.0], 1.0);
+        let sites = [[0.2, 0.2], [0.8, 0.8], [0.2, 0.2], [5.0, 5.0]];
+        let caps = [100.0, 200.0, 100.0, 0.0];
+        let c = capacity_cells(&points, &sites, &caps, Weights::Unit, &CellsOptions::default()).unwrap();
+        check_cells(&points, &sites, &caps, &c);
+        assert_eq!(c.power[0], c.power[2]);
+        for j in 0..3 {
+            assert!((c.load[j] - caps[j]).abs() < 1e-9);
+        }
+        assert_eq!(c.load[3], 0.0);
+        let e = capacity_cells(&points, &sites, &[10.0, 10.0, 10.0, 0.0], Weights::Unit, &CellsOptions::default())
+            .unwrap_err();
+        assert_eq!(e, Error::Shortfall { demand: 400.0, capacity: 30.0 });
+    }
+}
