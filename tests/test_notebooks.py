@@ -16,7 +16,8 @@ pytest.importorskip("matplotlib")
 NOTEBOOKS = sorted((Path(__file__).resolve().parent.parent / "notebooks").glob("*.ipynb"))
 # The worked notebooks, by file name: a renamed or lost notebook fails here, not silently.
 EXPECTED = ["01_depot_siting", "02_catchments", "03_network_design", "04_research_crosscheck",
-            "05_many_districts_on_dask", "06_across_the_date_line", "07_candidates_and_coverage"]
+            "05_many_districts_on_dask", "06_across_the_date_line", "07_candidates_and_coverage",
+            "08_capacities"]
 
 
 @pytest.fixture(scope="module")

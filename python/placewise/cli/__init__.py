@@ -31,13 +31,13 @@ import sys
 from collections.abc import Callable, Sequence
 from types import SimpleNamespace
 
-from . import _commands
+from . import _capacity, _commands
 from ._io import _FORMATS, UserError, _check_crs, _one_line, _Parser, _positive_float
 
 __all__ = ["main"]
 
 # Each family's module adds its subcommands through ``register(command, parents)``.
-_FAMILIES = (_commands,)
+_FAMILIES = (_commands, _capacity)
 
 
 def build_parser() -> argparse.ArgumentParser:

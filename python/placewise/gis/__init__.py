@@ -36,14 +36,17 @@ Requires the ``geo`` extra (geopandas, pyproj).
 
 from __future__ import annotations
 
+from .capacities import AllocationLayers, capacity_allocation
 from .catchments import voronoi_cells
 from .networks import Network, spanning_tree, steiner_tree
 from .plans import SitePlan, nearest_site, p_center, p_median
 from .sites import enclosing_circle, enclosing_ellipse, minimax_point, weber_point
 
 __all__ = [
+    "AllocationLayers",
     "Network",
     "SitePlan",
+    "capacity_allocation",
     "enclosing_circle",
     "enclosing_ellipse",
     "minimax_point",

@@ -24,6 +24,7 @@ from ._frames import (
     weights,
     with_unit,
 )
+from .capacities import capacities_of
 
 __all__ = ["SitePlan", "nearest_site", "p_center", "p_median"]
 
@@ -62,6 +63,9 @@ def _demand_layer(pf: Prepared, result: Any, site_labels: np.ndarray) -> Any:
     out["site"] = site
     distance = [c for c in points.columns if c.startswith("distance_")][0]
     out[distance] = points[distance].to_numpy()
+    if "share" in points.columns:  # a capacitated plan: the share served by ``site``, cost, unserved
+        for name in points.columns.drop(["assignment", distance]):
+            out[name] = points[name].to_numpy()
     return out
 
 
@@ -133,11 +137,21 @@ def nearest_site(
 
 
 def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bool, centroids: bool,
-          errors: str, options: dict[str, Any], model: dict[str, Any], fixed: Any = None) -> SitePlan:
+          errors: str, options: dict[str, Any], model: dict[str, Any], fixed: Any = None,
+          candidates: Any = None) -> SitePlan:
     # Each group in a frame of its own, unless existing sites must share the demand's frame.
     pf = prepare(frame, "frame", planar=planar, centroids=centroids, by=by if fixed is None else None, **model)
     groups = pf.groups if fixed is None else groups_of(pf.frame, by, "frame")
     rows = {"points": pf.rows, "weights": pf.rows}
+    cf = None
+    if candidates is not None:
+        if options.get("capacities") is None:
+            raise InputError("candidates: only the capacitated p-median (capacities=) takes a candidates frame here; "
+                             "for the uncapacitated one use placewise.p_median(candidates=) on coordinates")
+        cf, caps = capacities_of(candidates, options["capacities"], planar=planar, centroids=centroids,
+                                 work=pf.work, model=model)
+        options = {**options, "candidates": cf.xy, "capacities": caps}
+        rows["candidates"] = rows["capacities"] = cf.rows
     if fixed is not None:
         ff = prepare(fixed, "fixed", planar=planar, centroids=centroids, work=pf.work, **model)
         options = {**options, "fixed": ff.xy}
@@ -160,6 +174,8 @@ def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bo
     kernel = _pw.p_median if kind == "median" else _pw.p_center
     result = call(kernel, pf.xy, p, weights(pf, weight, "frame"), groups=groups, rows=rows, **grouped, **options)
     sites = with_unit(result, pf).sites_frame()
+    if cf is not None:
+        sites.insert(0, "candidate", cf.rows[result.chosen])
     site_layer = framed_sites(sites, pf, result, groups, rows)
     return SitePlan(site_layer, _demand_layer(pf, result, site_layer.index.to_numpy(dtype=object)),
                     _summary(result, pf, groups, rows))
@@ -179,6 +195,7 @@ def framed_sites(sites: Any, pf: Prepared, result: Any, groups: Any, rows: Any) 
 
 def p_median(
     frame: Any, p: int, weight: Any = None, by: str | None = None, *, fixed: Any = None,
+    capacities: Any = None, candidates: Any = None,
     planar: bool = False, centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
     errors: Literal["raise", "skip"] = "raise", **options: Any,
 ) -> SitePlan:
@@ -193,6 +210,15 @@ def p_median(
         As in :func:`placewise.gis.weber_point`.
     fixed : GeoDataFrame or GeoSeries of points, optional
         Existing sites that stay where they are (``p`` counts only the new ones).
+    capacities : array_like or str, optional
+        The capacitated p-median (:func:`placewise.p_median` with ``capacities``; a row's
+        demand may be split between sites, ``site`` naming the one serving its largest
+        share): without ``candidates`` one capacity per site to place (``p`` values, in the
+        weight's units); with ``candidates`` the name of its capacity column (or one value per
+        candidate). ``by`` and ``fixed`` are refused with capacities.
+    candidates : GeoDataFrame or GeoSeries of points, optional
+        With ``capacities``: the locations the sites are chosen from (brought into the
+        demand's working CRS).
     **options
         Passed to :func:`placewise.p_median` (``seed``, ``effort``).
 
@@ -201,6 +227,10 @@ def p_median(
     SitePlan
         ``sites`` (points with ``x``, ``y``, ``load``, ``points``, ``fixed``), ``demand``
         (a copy with ``site`` and ``distance_<unit>``) and ``summary`` (``cost_<unit>``).
+        With capacities the sites have ``capacity``, ``load``, ``slack`` and
+        ``price_<unit>`` (and ``candidate``, the candidate's index label), the demand also
+        ``share``, ``cost_<unit>`` and ``unserved``, and the summary the bounds and gaps of
+        :meth:`placewise.CapacitatedMedianPlan.summary`.
 
     Examples
     --------
@@ -210,9 +240,19 @@ def p_median(
     >>> plan = gis.p_median(homes, 2, planar=True)
     >>> plan.demand["site"].nunique(), float(plan.summary["cost_u"].iloc[0])
     (2, 2.0)
+
+    Two of three lots, each with room for two homes' demand:
+
+    >>> lots = gpd.GeoDataFrame({"room": [2, 2, 2]}, geometry=gpd.points_from_xy([0, 5, 10], [0, 0, 0]),
+    ...                         index=["a", "b", "c"])
+    >>> held = gis.p_median(homes, 2, capacities="room", candidates=lots, planar=True)
+    >>> sorted(held.sites["candidate"]), held.sites["slack"].tolist()
+    (['a', 'c'], [0.0, 0.0])
     """
+    if capacities is not None:
+        options["capacities"] = capacities
     return _plan("median", frame, p, weight, by, planar, centroids, errors, options,
-                    {"work_crs": work_crs, "max_scale_error": max_scale_error}, fixed)
+                    {"work_crs": work_crs, "max_scale_error": max_scale_error}, fixed, candidates)
 
 
 def p_center(
