@@ -26,7 +26,7 @@ from __future__ import annotations
 
 import dataclasses
 from collections.abc import Callable
-from typing import Any, Literal, overload
+from typing import Any, Literal, NoReturn, overload
 
 import numpy as np
 from numpy.typing import ArrayLike
@@ -122,7 +122,7 @@ def _on_candidates(model: str, points: ArrayLike, p: int, weights: ArrayLike | N
     return dataclasses.replace(chosen, open=rows[chosen.open], candidates=every)
 
 
-def _refuse(argument: str, text: str) -> None:
+def _refuse(argument: str, text: str) -> NoReturn:
     error = _core.InputError(text)
     error.argument = argument
     raise error
