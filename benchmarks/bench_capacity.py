@@ -90,3 +90,41 @@ def cases(quick: bool) -> list[Case]:
              repeat=1),
         *_cells_cases(quick),
     ]
+
+
+def _timed(fn):  # noqa: ANN001, ANN202
+    """Wall-clock and CPU seconds (every thread of the process) of one call, and its result."""
+    import time
+
+    wall, cpu = time.perf_counter(), time.process_time()
+    result = fn()
+    return time.perf_counter() - wall, time.process_time() - cpu, result
+
+
+def scaling(sizes: tuple[int, ...], reference_sizes: tuple[int, ...], m: int = 200) -> None:
+    """Both solvers on growing ``n`` (``m`` sites), one line per run as it finishes: how each
+    solver's time grows (HiGHS works on all ``n × m`` variables, placewise's condensed network
+    on ``m`` site nodes). placewise runs at every size first, then HiGHS at
+    ``reference_sizes`` in increasing order, so an interrupted run keeps the largest size the
+    reference finished. CPU seconds are given beside wall-clock ones: on a shared machine they
+    are the steadier measure (placewise's CPU time includes every thread it used)."""
+    print("| solver | points x sites | wall | CPU | cost | note", flush=True)
+    ours_cost = {}
+    for n in sizes:
+        points, sites, caps, w = _instance(n, m, 0)
+        wall, cpu, ours = _timed(lambda: pw.capacity_allocation(points, sites, caps, w))  # noqa: B023
+        ours_cost[n] = ours.total_cost
+        print(f"| placewise | {n:,} x {m} | {wall:.2f} s | {cpu:.2f} s | {ours.total_cost:.10e} | "
+              f"{ours.augmentations} augmenting paths", flush=True)
+    for n in reference_sizes:
+        points, sites, caps, w = _instance(n, m, 0)
+        wall, cpu, best = _timed(lambda: transport_program(points, sites, caps, w))  # noqa: B023
+        note = f"cost ours/HiGHS - 1 = {ours_cost[n] / best - 1:+.1e}" if n in ours_cost else ""
+        print(f"| HiGHS (linprog) | {n:,} x {m} | {wall:.2f} s | {cpu:.2f} s | {best:.10e} | {note}", flush=True)
+
+
+if __name__ == "__main__":
+    # python bench_capacity.py 2000,5000,10000,100000 2000,5000,10000
+    ours_sizes = tuple(int(s) for s in sys.argv[1].split(","))
+    reference = tuple(int(s) for s in sys.argv[2].split(",")) if len(sys.argv) > 2 else ours_sizes
+    scaling(ours_sizes, reference)

@@ -229,3 +229,96 @@ def test_capacitated_p_median_refuses_short_capacity():
         pw.capacitated_p_median([[0, 0], [1, 1], [2, 2]], 2, [1, 1])
     with pytest.raises(pw.InputError, match="capacities"):
         pw.capacitated_p_median([[0, 0], [1, 1], [2, 2]], 2, [5, 5, 5])
+
+
+# ------------------------------------------------------------- p_median(capacities=) and gis
+
+
+def test_p_median_with_capacities_is_the_capacitated_kernel():
+    rng = np.random.default_rng(21)
+    points = rng.uniform(0, 10, size=(40, 2))
+    cands = rng.uniform(0, 10, size=(6, 2))
+    caps = rng.uniform(12, 25, size=6)
+    plan = pw.p_median(points, 3, capacities=caps, candidates=cands)
+    assert isinstance(plan, pw.CapacitatedMedianPlan)
+    # Outside checks: linprog on the chosen candidates, and on every feasible subset of 3.
+    assert plan.total_cost == pytest.approx(
+        transport_program(points, cands[plan.chosen], caps[plan.chosen], np.ones(40)), rel=1e-9)
+    best = min(transport_program(points, cands[list(s)], caps[list(s)], np.ones(40))
+               for s in itertools.combinations(range(6), 3) if caps[list(s)].sum() >= 40)
+    assert plan.total_cost >= best * (1 - 1e-9)
+    sites = plan.sites_frame()
+    np.testing.assert_allclose(sites.slack, sites.capacity - sites.load, atol=1e-12)
+    continuous = pw.p_median(points, 2, capacities=[20, 20])
+    assert continuous.load == pytest.approx([20, 20])
+    assert continuous.total_cost == pytest.approx(
+        transport_program(points, continuous.sites, np.array([20.0, 20.0]), np.ones(40)), rel=1e-9)
+
+
+@pytest.mark.parametrize("option", [{"groups": [0, 1, 1]}, {"fixed": [[0, 0]]}, {"time_limit": 1.0},
+                                    {"effort": "fast"}, {"allow_unserved": True},
+                                    {"region": [[0, 0], [3, 0], [3, 3]]}])
+def test_p_median_with_capacities_refuses_what_it_has_no_form_of(option):
+    with pytest.raises(pw.InputError) as info:
+        pw.p_median([[0, 0], [1, 1], [2, 2]], 2, capacities=[2, 2], **option)
+    assert info.value.argument == next(iter(option))
+
+
+def test_p_median_capacity_shortfall_states_it():
+    with pytest.raises(pw.InputError, match="1 short") as info:
+        pw.p_median([[0, 0], [1, 1], [2, 2]], 2, capacities=[1, 1])
+    assert info.value.argument == "capacities"
+    with pytest.raises(pw.InputError, match="only with capacities"):
+        pw.p_median([[0, 0], [1, 1], [2, 2]], 2, allow_unserved=True)
+
+
+def test_gis_capacity_allocation_lonlat_is_projected_and_matches_linprog():
+    gpd = pytest.importorskip("geopandas")
+    from placewise import gis
+
+    rng = np.random.default_rng(4)
+    lonlat = rng.normal([10.0, 59.9], [0.03, 0.015], size=(60, 2))
+    site_ll = rng.normal([10.0, 59.9], [0.03, 0.015], size=(4, 2))
+    weights = rng.integers(1, 4, size=60).astype(float)
+    caps = np.array([40.0, 30.0, 50.0, 20.0])
+    homes = gpd.GeoDataFrame({"kids": weights}, geometry=gpd.points_from_xy(*lonlat.T), crs="EPSG:4326")
+    schools = gpd.GeoDataFrame({"seats": caps}, geometry=gpd.points_from_xy(*site_ll.T), crs="EPSG:4326",
+                               index=["a", "b", "c", "d"])
+    plan = gis.capacity_allocation(homes, schools, "seats", "kids")
+    # Outside check: pyproj to the UTM zone the summary names, then linprog on those metres.
+    work = plan.summary["work_crs"].iloc[0]
+    assert "UTM zone 32N" in work
+    xy = np.column_stack(homes.to_crs(32632).geometry.pipe(lambda g: (g.x, g.y)))
+    sxy = np.column_stack(schools.to_crs(32632).geometry.pipe(lambda g: (g.x, g.y)))
+    assert plan.summary["cost_m"].iloc[0] == pytest.approx(transport_program(xy, sxy, caps, weights), rel=1e-9)
+    assert plan.demand.crs == homes.crs and plan.sites.crs == schools.crs
+    assert set(plan.demand["site"]) <= {"a", "b", "c", "d"}
+    assert list(plan.sites.index) == ["a", "b", "c", "d"]
+    assert plan.sites["load"].sum() == pytest.approx(weights.sum())
+    assert set(plan.parts["site"].dropna()) <= {"a", "b", "c", "d"}
+    with pytest.raises(pw.InputError, match="short"):
+        gis.capacity_allocation(homes, schools.assign(seats=caps / 4), "seats", "kids")
+
+
+def test_gis_p_median_with_capacities():
+    gpd = pytest.importorskip("geopandas")
+    from placewise import gis
+
+    rng = np.random.default_rng(6)
+    xy = rng.uniform(0, 1000, size=(50, 2))
+    cands = rng.uniform(0, 1000, size=(6, 2))
+    room = rng.uniform(15, 30, size=6)
+    homes = gpd.GeoSeries(gpd.points_from_xy(*xy.T), crs="EPSG:32633")
+    lots = gpd.GeoDataFrame({"room": room}, geometry=gpd.points_from_xy(*cands.T), crs="EPSG:32633",
+                            index=[f"lot{k}" for k in range(6)])
+    plan = gis.p_median(homes, 3, capacities="room", candidates=lots)
+    chosen = [int(c[3:]) for c in plan.sites["candidate"]]
+    # Outside check: linprog on the chosen lots.
+    assert plan.summary["cost_m"].iloc[0] == pytest.approx(
+        transport_program(xy, cands[chosen], room[chosen], np.ones(50)), rel=1e-9)
+    np.testing.assert_allclose(plan.sites.geometry.x, cands[chosen, 0])
+    assert set(plan.demand["site"]) <= set(plan.sites.index)
+    anywhere = gis.p_median(homes, 2, capacities=[25, 25])
+    assert anywhere.sites["load"].tolist() == pytest.approx([25, 25])
+    with pytest.raises(pw.InputError, match="candidates"):
+        gis.p_median(homes, 2, candidates=lots)

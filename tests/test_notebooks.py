@@ -17,7 +17,7 @@ NOTEBOOKS = sorted((Path(__file__).resolve().parent.parent / "notebooks").glob("
 # The worked notebooks, by file name: a renamed or lost notebook fails here, not silently.
 EXPECTED = ["01_depot_siting", "02_catchments", "03_network_design", "04_research_crosscheck",
             "05_many_districts_on_dask", "06_across_the_date_line", "07_candidates_and_coverage",
-            "09_street_network"]
+            "08_capacities", "09_street_network"]
 
 
 @pytest.fixture(scope="module")

@@ -26,7 +26,7 @@ from __future__ import annotations
 
 import dataclasses
 from collections.abc import Callable
-from typing import Any, Literal, overload
+from typing import Any, Literal, NoReturn, overload
 
 import numpy as np
 from numpy.typing import ArrayLike
@@ -34,6 +34,7 @@ from numpy.typing import ArrayLike
 from . import _core
 from ._region import draw_region, region_rings
 from ._results import Grouped, Result, as_points
+from .capacity import CapacitatedMedianPlan, capacitated_p_median
 
 __all__ = ["CenterPlan", "CenterPlans", "MedianPlan", "MedianPlans", "p_center", "p_median"]
 
@@ -119,6 +120,31 @@ def _on_candidates(model: str, points: ArrayLike, p: int, weights: ArrayLike | N
     if region is None:
         return chosen
     return dataclasses.replace(chosen, open=rows[chosen.open], candidates=every)
+
+
+def _refuse(argument: str, text: str) -> NoReturn:
+    error = _core.InputError(text)
+    error.argument = argument
+    raise error
+
+
+def _capacitated(points: ArrayLike, p: int, weights: ArrayLike | None, capacities: ArrayLike | None, *,
+                 candidates: ArrayLike | None, seed: int, effort: str, allow_unserved: bool,
+                 **unsupported: Any) -> CapacitatedMedianPlan:
+    """``p_median(capacities=...)``: the one capacitated kernel, with the options it has no
+    form of refused by name rather than ignored."""
+    if capacities is None:
+        _refuse("allow_unserved", "allow_unserved applies only with capacities (sites that can each serve so much)")
+    if allow_unserved:
+        _refuse("allow_unserved", "allow_unserved is not supported by the capacitated p-median: its capacities must "
+                "hold the demand; to serve what fits from given sites use capacity_allocation(allow_unserved=True)")
+    for name, value in unsupported.items():
+        if value is not None and value is not False:
+            _refuse(name, f"{name} is not supported with capacities (the capacitated p-median has no such form)")
+    if effort != "normal":
+        _refuse("effort", "effort is not supported with capacities (location-allocation runs until the cost "
+                "stops falling)")
+    return capacitated_p_median(points, p, capacities, weights, candidates=candidates, seed=seed)
 
 
 # ------------------------------------------------------------------------------- tables
@@ -430,6 +456,8 @@ def p_median(
     time_limit: float | None = None,
     progress: bool | Callable[[int, int], object] = False,
     region: Any = None,
+    capacities: None = None,
+    allow_unserved: bool = False,
 ) -> MedianPlan: ...
 
 
@@ -449,7 +477,30 @@ def p_median(
     time_limit: float | None = None,
     progress: bool | Callable[[int, int], object] = False,
     region: Any = None,
+    capacities: None = None,
+    allow_unserved: bool = False,
 ) -> MedianPlans: ...
+
+
+@overload
+def p_median(
+    points: ArrayLike,
+    p: int,
+    weights: ArrayLike | None = None,
+    *,
+    candidates: ArrayLike | None = None,
+    groups: None = None,
+    fixed: None = None,
+    fixed_groups: None = None,
+    seed: int = 0,
+    effort: Literal["normal"] = "normal",
+    errors: Literal["raise", "skip"] = "raise",
+    time_limit: None = None,
+    progress: Literal[False] = False,
+    region: None = None,
+    capacities: ArrayLike,
+    allow_unserved: Literal[False] = False,
+) -> CapacitatedMedianPlan: ...
 
 
 def p_median(
@@ -467,7 +518,9 @@ def p_median(
     time_limit: float | None = None,
     progress: bool | Callable[[int, int], object] = False,
     region: Any = None,
-) -> MedianPlan | MedianPlans | Any:
+    capacities: ArrayLike | None = None,
+    allow_unserved: bool = False,
+) -> MedianPlan | MedianPlans | CapacitatedMedianPlan | Any:
     """The best ``p`` sites for weighted demand: least total weighted distance to the nearest site.
 
     The continuous p-median (multisource Weber) problem. Cooper's alternating
@@ -530,10 +583,28 @@ def p_median(
         point; Hamacher and Nickel 1995), and every start, jump and shake target is moved to
         the nearest point of the region. Fixed sites stay where they are. One region serves
         every group.
+    capacities : array_like, optional
+        Demand each site can serve (in weight units): the capacitated p-median, solved by
+        :func:`placewise.capacitated_p_median` (location–allocation with the exact
+        transportation plan as allocation step; a point's demand may be split between
+        sites). Without ``candidates``: shape (p,), one capacity per site to place. With
+        ``candidates``: shape (m,), one per candidate; the plan then reports a proven lower
+        bound and gap (``median_relative_gap``). Returns a
+        :class:`placewise.CapacitatedMedianPlan`, whose ``sites_frame()`` has every site's
+        ``capacity``, ``load`` and ``slack``. ``groups``, ``fixed``, ``region``,
+        ``time_limit``, ``progress`` and an ``effort`` other than "normal" are refused with
+        capacities (the capacitated search has no such forms).
+    allow_unserved : bool
+        Only meaningful with ``capacities``, and not supported by the capacitated p-median:
+        True is refused with an ``InputError`` (a plan of ``p`` sites needs capacities that
+        hold the demand; :func:`placewise.capacity_allocation` serves what fits from given
+        sites). With capacities below the demand the call raises an ``InputError`` stating
+        the shortfall.
 
     Returns
     -------
-    MedianPlan, or MedianPlans when ``groups`` is given.
+    MedianPlan, or MedianPlans when ``groups`` is given, or CapacitatedMedianPlan with
+    ``capacities``.
 
     Raises
     ------
@@ -597,11 +668,27 @@ def p_median(
     >>> sorted(kept.sites[:, 1].round(9).tolist()), round(float(kept.cost), 6)   # 4 × √(3² + 0.5²)
     ([3.0, 3.0], 12.165525)
 
+    Two depots holding 2 units of demand each, for a cluster of three homes and a lone one:
+    one home of the cluster goes to the far depot.
+
+    >>> homes = [[0, 0], [1, 0], [2, 0], [10, 0]]
+    >>> held = pw.p_median(homes, 2, capacities=[2, 2])
+    >>> held.load.tolist(), held.slack.tolist()
+    ([2.0, 2.0], [0.0, 0.0])
+    >>> pw.p_median(homes, 2, capacities=[1, 2])
+    Traceback (most recent call last):
+        ...
+    placewise.InputError: capacities: total capacity 3 is below total demand 4, 1 short; ...
+
     See Also
     --------
     weber_point : the best single site.
     p_center : the ``p`` sites minimising the worst weighted trip.
     """
+    if capacities is not None or allow_unserved:
+        return _capacitated(points, p, weights, capacities, candidates=candidates, seed=seed, effort=effort,
+                            allow_unserved=allow_unserved, groups=groups, fixed=fixed, fixed_groups=fixed_groups,
+                            time_limit=time_limit, progress=progress, region=region)
     if candidates is not None:
         return _on_candidates("p_median", points, p, weights, candidates, fixed=fixed, groups=groups,
                               time_limit=time_limit, progress=progress, region=region)

@@ -32,13 +32,13 @@ import sys
 from collections.abc import Callable, Sequence
 from types import SimpleNamespace
 
-from . import _commands, _coverage, _travel
+from . import _capacity, _commands, _coverage, _travel
 from ._io import _FORMATS, UserError, _check_crs, _one_line, _Parser, _positive_float
 
 __all__ = ["main"]
 
 # Each family's module adds its subcommands through ``register(command, parents)``.
-_FAMILIES = (_commands, _coverage, _travel)
+_FAMILIES = (_commands, _coverage, _travel, _capacity)
 
 
 def build_parser() -> argparse.ArgumentParser:

@@ -8,6 +8,7 @@ from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
+from . import _capacity
 from ._coverage import add_place_options, place_options
 from ._io import (
     UserError,
@@ -158,6 +159,7 @@ def _plan_command(kind: str, args: argparse.Namespace) -> None:
         options["effort"] = args.effort
         if args.fixed is not None:
             options["fixed"] = read_points(args.fixed, args, "the existing sites", (), main=False)
+        options.update(_capacity.capacity_options(args, options))
         plan = gis.p_median(frame, args.p, args.weight, **_by(args), **_common(args), **options)
     else:
         plan = gis.p_center(frame, args.p, args.weight, **_by(args), **_common(args), **options)
@@ -230,3 +232,4 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
                            help="time against quality: fast is one short search; thorough runs more and "
                                 "longer searches [normal]")
             p.add_argument("--fixed", metavar="FILE", help="existing sites that stay where they are")
+            _capacity.add_capacity_options(p)

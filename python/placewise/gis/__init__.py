@@ -42,7 +42,7 @@ Requires the ``geo`` extra (geopandas, pyproj).
 
 from __future__ import annotations
 
-from .capacity import capacity_cells
+from .capacities import AllocationLayers, capacity_allocation, capacity_cells
 from .catchments import power_cells, voronoi_cells
 from .coverage import cover_all, cover_most, evaluate_sites
 from .networks import Network, spanning_tree, steiner_tree
@@ -50,9 +50,11 @@ from .plans import SitePlan, nearest_site, p_center, p_median
 from .sites import enclosing_circle, enclosing_ellipse, minimax_point, weber_point
 
 __all__ = [
+    "AllocationLayers",
     "Network",
     "SitePlan",
     "capacity_cells",
+    "capacity_allocation",
     "cover_all",
     "cover_most",
     "enclosing_circle",

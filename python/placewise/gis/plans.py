@@ -25,6 +25,7 @@ from ._frames import (
     with_unit,
 )
 from ._together import prepare_together, region_geometry
+from .capacities import capacities_of
 
 __all__ = ["SitePlan", "nearest_site", "p_center", "p_median"]
 
@@ -63,6 +64,9 @@ def _demand_layer(pf: Prepared, result: Any, site_labels: np.ndarray) -> Any:
     out["site"] = site
     distance = [c for c in points.columns if c.startswith("distance_")][0]
     out[distance] = points[distance].to_numpy()
+    if "share" in points.columns:  # a capacitated plan: the share served by ``site``, cost, unserved
+        for name in points.columns.drop(["assignment", distance]):
+            out[name] = points[name].to_numpy()
     return out
 
 
@@ -136,7 +140,7 @@ def nearest_site(
 def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bool, centroids: bool,
           errors: str, options: dict[str, Any], model: dict[str, Any], fixed: Any = None,
           candidates: Any = None, region: Any = None) -> SitePlan:
-    if candidates is not None:
+    if candidates is not None and options.get("capacities") is None:
         return _plan_on_candidates(kind, frame, p, weight, by, planar, centroids, model, fixed, candidates, region)
     # Each group in a frame of its own, unless existing sites or a region must share the
     # demand's frame (chosen over all of them).
@@ -146,6 +150,13 @@ def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bo
     rows = {"points": pf.rows, "weights": pf.rows}
     if region is not None:
         options = {**options, "region": region_geometry(region, pf, "frame")}
+    cf = None
+    if candidates is not None:
+        # The capacitated p-median on candidates (the uncapacitated one returned above).
+        cf, caps = capacities_of(candidates, options["capacities"], planar=planar, centroids=centroids,
+                                 work=pf.work, model=model)
+        options = {**options, "candidates": cf.xy, "capacities": caps}
+        rows["candidates"] = rows["capacities"] = cf.rows
     if fixed is not None:
         ff = companions["fixed"]
         options = {**options, "fixed": ff.xy}
@@ -168,6 +179,8 @@ def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bo
     kernel = _pw.p_median if kind == "median" else _pw.p_center
     result = call(kernel, pf.xy, p, weights(pf, weight, "frame"), groups=groups, rows=rows, **grouped, **options)
     sites = with_unit(result, pf).sites_frame()
+    if cf is not None:
+        sites.insert(0, "candidate", cf.rows[result.chosen])
     site_layer = framed_sites(sites, pf, result, groups, rows)
     return SitePlan(site_layer, _demand_layer(pf, result, site_layer.index.to_numpy(dtype=object)),
                     _summary(result, pf, groups, rows))
@@ -216,7 +229,7 @@ def framed_sites(sites: Any, pf: Prepared, result: Any, groups: Any, rows: Any) 
 
 def p_median(
     frame: Any, p: int, weight: Any = None, by: str | None = None, *, fixed: Any = None,
-    candidates: Any = None, region: Any = None,
+    candidates: Any = None, region: Any = None, capacities: Any = None,
     planar: bool = False, centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
     errors: Literal["raise", "skip"] = "raise", **options: Any,
 ) -> SitePlan:
@@ -244,6 +257,14 @@ def p_median(
         holds none). Existing sites may lie outside it. Geographic input with a region is
         solved in a projected working frame chosen over the demand, the region and the
         other frames together.
+    capacities : array_like or str, optional
+        The capacitated p-median (:func:`placewise.p_median` with ``capacities``; a row's
+        demand may be split between sites, ``site`` naming the one serving its largest
+        share): without ``candidates`` one capacity per site to place (``p`` values, in the
+        weight's units); with ``candidates`` the name of its capacity column (or one value per
+        candidate). ``by`` and ``fixed`` are refused with capacities.
+        With ``candidates``, the capacitated p-median chooses among them and its tables
+        are those described below.
     **options
         Passed to :func:`placewise.p_median` (``seed``, ``effort``; unused with candidates).
 
@@ -257,6 +278,10 @@ def p_median(
         label there: which parcel), and the summary adds ``mean_cost_<unit>``,
         ``worst_cost_<unit>``, ``lower_bound_<unit>`` and ``relative_gap`` (0 proves the
         plan optimal).
+        With capacities the sites have ``capacity``, ``load``, ``slack`` and
+        ``price_<unit>`` (and ``candidate``, the candidate's index label), the demand also
+        ``share``, ``cost_<unit>`` and ``unserved``, and the summary the bounds and gaps of
+        :meth:`placewise.CapacitatedMedianPlan.summary`.
 
     Examples
     --------
@@ -275,7 +300,17 @@ def p_median(
     >>> pick = gis.p_median(homes, 2, candidates=parcels, region=shapely.box(-1, -1, 11, 3), planar=True)
     >>> pick.sites["source_row"].tolist(), float(pick.summary["relative_gap"].iloc[0])
     ([11, 12], 0.0)
+
+    Two of three lots, each with room for two homes' demand:
+
+    >>> lots = gpd.GeoDataFrame({"room": [2, 2, 2]}, geometry=gpd.points_from_xy([0, 5, 10], [0, 0, 0]),
+    ...                         index=["a", "b", "c"])
+    >>> held = gis.p_median(homes, 2, capacities="room", candidates=lots, planar=True)
+    >>> sorted(held.sites["candidate"]), held.sites["slack"].tolist()
+    (['a', 'c'], [0.0, 0.0])
     """
+    if capacities is not None:
+        options["capacities"] = capacities
     return _plan("median", frame, p, weight, by, planar, centroids, errors, options,
                  {"work_crs": work_crs, "max_scale_error": max_scale_error}, fixed, candidates, region)
 

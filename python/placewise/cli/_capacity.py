@@ -1,0 +1,76 @@
+"""The subcommands of the capacity family: demand allocated to sites that can each serve only
+so much, and the capacity options of ``p-median``."""
+
+from __future__ import annotations
+
+import argparse
+from collections.abc import Callable
+from typing import Any
+
+from ._io import UserError, _common, _measure, _note, _unit_text, _write_summary, read_points, write_frame
+
+
+def _cmd_capacity_allocation(args: argparse.Namespace) -> None:
+    from .. import gis
+
+    demand = read_points(args.input, args, "the demand", ("weight",))
+    sites = read_points(args.sites, args, "the sites", ("capacity",), main=False)
+    plan = gis.capacity_allocation(demand, sites, args.capacity, args.weight, split=not args.single_source,
+                                   allow_unserved=args.allow_unserved, **_common(args))
+    write_frame(plan.demand, args.output, args, "allocation")
+    if args.sites_out is not None:
+        write_frame(plan.sites, args.sites_out, args, "site_loads")
+    if args.parts is not None:
+        write_frame(plan.parts, args.parts, args, "parts")
+    _write_summary(plan.summary, args)
+    s = plan.summary
+    cost, unit = _measure(s, "cost")
+    text = (f"{len(plan.demand)} row(s) served by {len(plan.sites)} site(s); total weighted distance "
+            f"{float(s[cost].iloc[0]):.6g} (weight x {_unit_text(unit)}); "
+            f"{int(s['split_points'].iloc[0])} row(s) split between sites; unserved {float(s['unserved'].iloc[0]):.6g}")
+    if args.single_source:
+        text += f"; relative gap to the split plan {float(s['relative_gap'].iloc[0]):.3g}"
+    _note(args, text)
+
+
+def add_capacity_options(p: argparse.ArgumentParser) -> None:
+    """``--capacity COLUMN`` of ``p-median`` (read from its ``--candidates`` file)."""
+    p.add_argument("--capacity", metavar="COLUMN", help="column of the --candidates file holding the demand each "
+                   "candidate can serve (in --weight units): the capacitated p-median, a row's demand split "
+                   "between sites where that lowers the cost")
+
+
+def capacity_options(args: argparse.Namespace, options: dict[str, Any]) -> dict[str, Any]:
+    """The ``gis.p_median`` option of ``--capacity`` (none without it), checked against the
+    candidates frame already read into ``options``."""
+    if args.capacity is None:
+        return {}
+    candidates = options.get("candidates")
+    if candidates is None:
+        raise UserError("--capacity needs --candidates: the capacity column is read from the candidates file")
+    if args.capacity not in candidates.columns:
+        shown = ", ".join(str(c) for c in candidates.columns if c != candidates.geometry.name)
+        raise UserError(f"{args.candidates}: no column {args.capacity!r} for --capacity (columns: {shown or 'none'})")
+    for flag in ("by", "fixed", "region"):
+        if getattr(args, flag, None) is not None:
+            raise UserError(f"--{flag} is not supported with --capacity")
+    if args.effort != "normal":
+        raise UserError("--effort is not supported with --capacity")
+    return {"capacities": args.capacity}
+
+
+def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> None:
+    """Add this family's subcommands through ``command(name, run, help, parent_parsers)``."""
+    p = command("capacity-allocation", _cmd_capacity_allocation,
+                "serve the demand from sites with capacities at least total weighted distance",
+                [parents.weight, parents.summary])
+    p.add_argument("--sites", metavar="FILE", required=True, help="the sites, with a capacity column")
+    p.add_argument("--capacity", metavar="COLUMN", required=True,
+                   help="column of the sites file holding the demand each site can serve (in --weight units)")
+    p.add_argument("--single-source", action="store_true",
+                   help="serve every row whole from one site (default: a row's demand may be split)")
+    p.add_argument("--allow-unserved", action="store_true",
+                   help="when the capacities cannot hold the demand, serve what fits and report the rest "
+                        "(default: stop with the shortfall)")
+    p.add_argument("--sites-out", metavar="FILE", help="also write the sites with capacity, load and slack")
+    p.add_argument("--parts", metavar="FILE", help="also write one row per part of a row split between sites")

@@ -1,0 +1,186 @@
+"""Capacitated sites on GeoDataFrames: demand allocated to sites that can each serve only so
+much (:func:`placewise.capacity_allocation`) and capacity-constrained catchments
+(:func:`placewise.capacity_cells`), in the frames' own CRS and row labels."""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING, Any, NamedTuple
+
+import numpy as np
+
+import placewise as _pw
+
+from .._errors import labelled
+from ._frames import MAX_SCALE_ERROR, call, column, in_user_terms, prepare, weights, with_unit
+
+if TYPE_CHECKING:  # plans imports this module (capacities_of)
+    from .plans import SitePlan
+
+__all__ = ["AllocationLayers", "capacity_allocation", "capacity_cells"]
+
+
+class AllocationLayers(NamedTuple):
+    """A capacitated allocation as four tables that every file writer keeps.
+
+    Attributes
+    ----------
+    sites : GeoDataFrame
+        A copy of the sites frame with ``capacity``, ``load`` (demand served), ``slack``
+        (``capacity - load``) and ``price_<unit>`` (the optimal capacity price of the split
+        plan: distance units per unit of demand, 0 where a site has slack).
+    demand : GeoDataFrame
+        A copy of the demand frame with ``site`` (the index label of the site serving the
+        largest share; None when none is served), ``share`` of the demand it serves,
+        ``distance_<unit>`` to it, ``cost_<unit>`` (demand × distance over every site serving
+        the row) and ``unserved`` demand.
+    parts : DataFrame
+        One row per part of a demand row served by several sites: ``demand`` and ``site``
+        (index labels; None as the site of an unserved part) and ``amount``.
+    summary : DataFrame
+        One row of totals: ``cost_<unit>``, ``lower_bound_<unit>``, ``relative_gap``,
+        ``demand``, ``unserved``, ``capacity``, ``points``, ``sites``, ``split_points``, and for
+        geographic input the working projection and its scale error.
+    """
+
+    sites: Any
+    demand: Any
+    parts: Any
+    summary: Any
+
+
+def capacity_allocation(
+    demand: Any, sites: Any, capacity: Any, weight: Any = None, *, split: bool = True,
+    allow_unserved: bool = False, planar: bool = False, centroids: bool = False, work_crs: Any = None,
+    max_scale_error: float = MAX_SCALE_ERROR,
+) -> AllocationLayers:
+    """Serve the demand rows from capacitated sites at least total straight-line distance.
+
+    The frames are prepared as for :func:`placewise.gis.p_median`: a projected CRS is used
+    as it is; longitude/latitude is projected to the sites' UTM zone (the demand to the same
+    one), its worst scale error measured and refused beyond ``max_scale_error``; no CRS needs
+    ``planar=True``. The kernel is :func:`placewise.capacity_allocation`.
+
+    Parameters
+    ----------
+    demand, sites : GeoDataFrame or GeoSeries of points
+    capacity : str or array_like
+        The sites' capacity column (or one value per site), in the demand's weight units.
+    weight : str or array_like, optional
+        Demand column of ``demand`` (or values); default 1 per row.
+    split : bool
+        Allow a row's demand to be shared between sites (the exact transportation plan); with
+        False every row is served whole by one site and the gap to the split plan is reported.
+    allow_unserved : bool
+        When the capacities cannot hold the demand, serve what fits and report the rest
+        instead of raising an ``InputError`` that states the shortfall.
+    planar, centroids, work_crs, max_scale_error
+        As in :func:`placewise.gis.weber_point`.
+
+    Returns
+    -------
+    AllocationLayers
+        ``sites``, ``demand``, ``parts`` and ``summary``.
+
+    Examples
+    --------
+    >>> import geopandas as gpd
+    >>> from placewise import gis
+    >>> schools = gpd.GeoDataFrame({"seats": [2, 5]}, geometry=gpd.points_from_xy([0, 10], [0, 0]),
+    ...                            index=["north", "south"])
+    >>> homes = gpd.GeoSeries(gpd.points_from_xy([0, 1, 2, 9], [0, 0, 0, 0]))
+    >>> plan = gis.capacity_allocation(homes, schools, "seats", planar=True)
+    >>> plan.demand["site"].tolist(), plan.sites["load"].tolist()
+    (['north', 'north', 'south', 'south'], [2.0, 2.0])
+    >>> float(plan.summary["cost_u"].iloc[0])        # 0 + 1 + 8 + 1
+    10.0
+    """
+    model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
+    sf = prepare(sites, "sites", planar=planar, centroids=centroids, **model)
+    df = prepare(demand, "demand", planar=planar, centroids=centroids, work=sf.work, **model)
+    caps = column(sf.frame, capacity, "sites", "capacity")
+    rows = {"points": df.rows, "weights": df.rows, "sites": sf.rows, "capacities": sf.rows}
+    result = call(_pw.capacity_allocation, df.xy, sf.xy, caps, weights(df, weight, "demand"), rows=rows,
+                  split=split, allow_unserved=allow_unserved)
+    result = with_unit(result, df)
+    site_labels = sf.rows
+    site_table = result.sites_frame()
+    out_sites = sf.frame.copy()
+    for name in site_table.columns.drop(["x", "y"]):
+        out_sites[name] = site_table[name].to_numpy()
+    points = result.to_frame()
+    out_demand = df.frame.copy()
+    out_demand["site"] = labelled(points["assignment"].to_numpy(), site_labels)
+    for name in points.columns.drop("assignment"):
+        out_demand[name] = points[name].to_numpy()
+    parts = result.parts_frame()
+    parts.insert(0, "demand", labelled(parts.pop("point").to_numpy(), df.rows))
+    parts["site"] = labelled(parts["site"].to_numpy(), site_labels)
+    summary = result.summary()
+    for name, value in df.model().items():
+        summary[name] = value
+    return AllocationLayers(out_sites, out_demand, parts, summary)
+
+
+def capacities_of(candidates: Any, capacity: Any, *, planar: bool, centroids: bool, work: Any,
+                  model: dict[str, Any]) -> tuple[Any, np.ndarray]:
+    """A candidates frame in the working CRS and its capacity column (for the p-median)."""
+    cf = prepare(candidates, "candidates", planar=planar, centroids=centroids, work=work, **model)
+    return cf, column(cf.frame, capacity, "candidates", "capacity")
+
+
+def capacity_cells(
+    demand: Any, sites: Any, capacity: Any, weight: Any = None, *, tol: float = 1e-9,
+    planar: bool = False, centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
+) -> SitePlan:
+    """Capacity-constrained catchments (:func:`placewise.capacity_cells`) of the sites
+    frame, in the working CRS (a UTM zone for geographic input).
+
+    Parameters
+    ----------
+    demand, sites : GeoDataFrame or GeoSeries of points
+    capacity : str or array_like
+        The sites' capacity column (or values), in weight units.
+    weight : str or array_like, optional
+        Demand weight column (or values); default 1 per row.
+    tol : float
+        Relative tolerance on the totals.
+
+    Returns
+    -------
+    SitePlan
+        ``sites`` (the sites frame with ``capacity``, ``load``, ``slack`` and
+        ``power_<unit>2``), ``demand`` (with ``site``, the index label of the site serving
+        the largest share, and ``share``) and ``summary`` (``cost_<unit>2``,
+        ``distance_cost_<unit>``, totals; the working CRS and its scale error for
+        geographic input).
+
+    Examples
+    --------
+    >>> import geopandas as gpd
+    >>> from placewise import gis
+    >>> depots = gpd.GeoDataFrame({"room": [2.0, 3.0]}, index=["west", "east"],
+    ...                           geometry=gpd.points_from_xy([0, 4], [0, 0]))
+    >>> shops = gpd.GeoSeries(gpd.points_from_xy([0, 1, 2, 3, 4], [0, 0, 0, 0, 0]))
+    >>> plan = gis.capacity_cells(shops, depots, "room", planar=True)
+    >>> plan.demand["site"].tolist(), plan.sites["load"].tolist()
+    (['west', 'west', 'east', 'east', 'east'], [2.0, 3.0])
+    """
+    model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
+    df = prepare(demand, "demand", planar=planar, centroids=centroids, **model)
+    sf = prepare(sites, "sites", planar=planar, centroids=centroids, work=df.work, **model)
+    caps = column(sf.frame, capacity, "sites", "capacity")
+    rows = {"points": df.rows, "weights": df.rows, "sites": sf.rows, "capacities": sf.rows}
+    result = with_unit(call(_pw.capacity_cells, df.xy, sf.xy, caps, weights(df, weight, "demand"), tol=tol,
+                            rows=rows), df)
+    table = result.sites_frame()
+    out_sites = sf.frame.copy()
+    for name in table.columns.drop(["x", "y"]):
+        out_sites[name] = table[name].to_numpy()
+    out_demand = df.frame.copy()
+    out_demand["site"] = sf.frame.index.to_numpy(dtype=object)[result.assignment]
+    out_demand["share"] = result.share
+    out_demand[f"cost_{df.unit}2"] = result.cost
+    from .plans import SitePlan
+
+    return SitePlan(out_sites, out_demand, in_user_terms(result.summary(), result, None, rows, prepared=df))
+
