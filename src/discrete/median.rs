@@ -22,7 +22,8 @@ use crate::geometry::{validate_weights, Weights};
 /// Tuning of [`discrete_p_median`].
 #[derive(Debug, Clone, Copy)]
 pub struct DiscreteMedianOptions {
-    /// Most subgradient iterations for the lower bound (each costs one pass over the matrix).
+    /// Most subgradient iterations for the lower bound (each reads every point's candidates
+    /// cheaper than its multiplier).
     pub bound_iterations: usize,
     /// Most swaps applied by the interchange.
     pub max_swaps: usize,
