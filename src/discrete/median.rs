@@ -356,33 +356,3 @@ mod tests {
         assert_eq!(r.service.total_cost, 5.0);
     }
 }
-
-#[cfg(test)]
-mod timing {
-    use super::*;
-    use crate::discrete::CostMatrix;
-    use crate::geometry::random::SplitMix64 as Rng;
-
-    #[test]
-    #[ignore]
-    fn timing_full_size() {
-        let mut rng = Rng::new(3);
-        let (n, m, p) = (10_000, 1_000, 50);
-        let pts: Vec<[f64; 2]> = (0..n).map(|_| [rng.next_f64() * 100.0, rng.next_f64() * 100.0]).collect();
-        let cands: Vec<[f64; 2]> = (0..m).map(|_| [rng.next_f64() * 100.0, rng.next_f64() * 100.0]).collect();
-        let w: Vec<f64> = (0..n).map(|_| 1.0 + (rng.next_f64() * 9.0).floor()).collect();
-        let values = crate::discrete::euclidean_costs(&pts, &cands).unwrap();
-        let costs = Costs::from(CostMatrix::new(&values, n, m).unwrap());
-        let t = std::time::Instant::now();
-        let r = discrete_p_median(&costs, Weights::Given(&w), p, &[], &Default::default()).unwrap();
-        eprintln!(
-            "time {:?} obj {} lb {} gap {:.4}% swaps {} iters {}",
-            t.elapsed(),
-            r.service.total_cost,
-            r.lower_bound,
-            100.0 * r.relative_gap,
-            r.swaps,
-            r.bound_iterations
-        );
-    }
-}

@@ -122,7 +122,7 @@ mod tests {
                 for below in [0.0, 0.5, 3.0, 5.0, 10.0, 11.0] {
                     let mut ours = Vec::new();
                     near.for_each_below(&costs, i, below, |j, c| ours.push((j, c)));
-                    ours.sort_by(|a, b| a.0.cmp(&b.0));
+                    ours.sort_by_key(|a| a.0);
                     let direct: Vec<(usize, f64)> =
                         (0..m).map(|j| (j, values[i * m + j])).filter(|&(_, c)| c < below).collect();
                     assert_eq!(ours, direct, "keep {keep}, row {i}, below {below}");
