@@ -31,7 +31,7 @@ pub struct DiscreteMedianOptions {
 
 impl Default for DiscreteMedianOptions {
     fn default() -> Self {
-        DiscreteMedianOptions { bound_iterations: 300, max_swaps: 100_000 }
+        DiscreteMedianOptions { bound_iterations: 1000, max_swaps: 100_000 }
     }
 }
 
