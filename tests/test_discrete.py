@@ -121,6 +121,19 @@ def test_p_median_against_milp(seed):
         assert plan.relative_gap == pytest.approx((plan.total_cost - plan.lower_bound) / plan.total_cost)
 
 
+@pytest.mark.parametrize("seed", [4, 6])
+def test_p_median_lagrangian_bound_is_close_to_milp(seed):
+    # The bound of the Lagrangian relaxation (Beasley 1993) against the optimum HiGHS proves:
+    # bound <= optimum <= objective always; on instances of this size the relaxation is close
+    # (common practice: Lagrangian gaps of a few tenths of a percent on Euclidean p-median).
+    _, _, w, costs = instance(seed, 150, 40)
+    plan = discrete.p_median(costs, 6, w)
+    best = milp_p_median(costs, w, 6)  # scipy.optimize.milp (HiGHS)
+    assert plan.lower_bound <= best * (1 + 1e-7) <= plan.total_cost * (1 + 2e-7)
+    assert plan.lower_bound >= 0.99 * best
+    assert plan.bound_iterations <= 1000
+
+
 def test_p_median_with_fixed_against_milp():
     _, _, w, costs = instance(5, 80, 25)
     plan = discrete.p_median(costs, 3, w, fixed=[4, 17])

@@ -342,7 +342,7 @@ def evaluate_sites(
 
 def p_median(
     costs: ArrayLike, p: int, weights: ArrayLike | None = None, *, fixed: ArrayLike | None = None,
-    bound_iterations: int = 300, unit: str = "u",
+    bound_iterations: int = 1000, unit: str = "u",
 ) -> MedianSelection:
     """``p`` candidates with the least total weighted cost ``Σ wᵢ minⱼ costs[i, j]``.
 
@@ -553,7 +553,7 @@ def evaluate_sites_planar(
 
 def p_median_planar(
     points: ArrayLike, candidates: ArrayLike, p: int, weights: ArrayLike | None = None, *,
-    fixed: ArrayLike | None = None, bound_iterations: int = 300, unit: str = "u",
+    fixed: ArrayLike | None = None, bound_iterations: int = 1000, unit: str = "u",
 ) -> MedianSelection:
     """:func:`p_median` on straight-line costs from ``points`` to ``candidates``.
 

@@ -13,14 +13,17 @@
 //!   the Lagrangian function is a lower bound on the optimum, the best one is reported.
 
 use super::cover::serving_cover;
-use super::{check_choice, relative_gap, sum_rows, Costs, SiteService, StepControl};
+use super::median_bound::MedianRelaxation;
+use super::near::NearLists;
+use super::{check_choice, relative_gap, sum_rows, Costs, SiteService};
 use crate::error::Result;
-use crate::geometry::{validate_weights, CompensatedSum, Weights};
+use crate::geometry::{validate_weights, Weights};
 
 /// Tuning of [`discrete_p_median`].
 #[derive(Debug, Clone, Copy)]
 pub struct DiscreteMedianOptions {
-    /// Most subgradient iterations for the lower bound (each costs one pass over the matrix).
+    /// Most subgradient iterations for the lower bound (each reads every point's candidates
+    /// cheaper than its multiplier).
     pub bound_iterations: usize,
     /// Most swaps applied by the interchange.
     pub max_swaps: usize,
@@ -28,7 +31,7 @@ pub struct DiscreteMedianOptions {
 
 impl Default for DiscreteMedianOptions {
     fn default() -> Self {
-        DiscreteMedianOptions { bound_iterations: 300, max_swaps: 100_000 }
+        DiscreteMedianOptions { bound_iterations: 1000, max_swaps: 100_000 }
     }
 }
 
@@ -57,34 +60,50 @@ pub struct DiscreteMedian {
 pub(super) fn greedy_add(
     costs: &Costs<'_>,
     weights: Weights<'_>,
+    open: Vec<usize>,
+    p: usize,
+    unserved: f64,
+) -> Vec<usize> {
+    greedy_add_near(costs, None, weights, open, p, unserved)
+}
+
+/// [`greedy_add`] reading the pairs cheaper than a point's open site from `near` where given.
+fn greedy_add_near(
+    costs: &Costs<'_>,
+    near: Option<&NearLists>,
+    weights: Weights<'_>,
     mut open: Vec<usize>,
     p: usize,
     unserved: f64,
 ) -> Vec<usize> {
     let (n, m) = (costs.rows(), costs.columns());
-    let mut near: Vec<f64> =
+    let mut nearest: Vec<f64> =
         (0..n).map(|i| open.iter().filter_map(|&j| costs.cost(i, j)).fold(unserved, f64::min)).collect();
     let mut is_open = vec![false; m];
     for &j in &open {
         is_open[j] = true;
     }
     for _ in 0..p {
-        // gain[j] = Σᵢ wᵢ · max(0, nearᵢ − costs[i, j]): what opening j saves.
+        // gain[j] = Σᵢ wᵢ · max(0, nearestᵢ − costs[i, j]): what opening j saves.
         let gain = sum_rows(n, m, |i, gain| {
-            let (w, d) = (weights.get(i), near[i]);
+            let (w, d) = (weights.get(i), nearest[i]);
             if w > 0.0 {
-                costs.for_each_within(i, d, |j, c| {
-                    if c < d {
-                        gain[j] += w * (d - c);
-                    }
-                });
+                let add = |j: usize, c: f64| gain[j] += w * (d - c);
+                match near {
+                    Some(near) => near.for_each_below(costs, i, d, add),
+                    None => costs.for_each_within(i, d, |j, c| {
+                        if c < d {
+                            gain[j] += w * (d - c);
+                        }
+                    }),
+                }
             }
         });
         let best = (0..m).filter(|&j| !is_open[j]).max_by(|&a, &b| gain[a].total_cmp(&gain[b]).then(b.cmp(&a)));
         let Some(best) = best else { break };
         is_open[best] = true;
         open.push(best);
-        for (i, d) in near.iter_mut().enumerate() {
+        for (i, d) in nearest.iter_mut().enumerate() {
             if let Some(c) = costs.cost(i, best) {
                 *d = d.min(c);
             }
@@ -121,6 +140,7 @@ fn nearest_two(costs: &Costs<'_>, open: &[usize], ceiling: f64) -> (Vec<f64>, Ve
 /// unit of weight, no swap leaves a point of positive weight unserved.
 fn fast_swap(
     costs: &Costs<'_>,
+    near: &NearLists,
     weights: Weights<'_>,
     open: &mut [usize],
     fixed_count: usize,
@@ -148,8 +168,8 @@ fn fast_swap(
             current[0] += w * a;
             loss[r] += w * (b - a);
             // Only candidates cheaper than d2 change anything.
-            costs.for_each_within(i, b, |u, c| {
-                if c < b && !is_open[u] {
+            near.for_each_below(costs, i, b, |u, c| {
+                if !is_open[u] {
                     if c < a {
                         gain[u] += w * (a - c);
                     }
@@ -183,86 +203,15 @@ fn fast_swap(
     swaps
 }
 
-/// The best value of the Lagrangian relaxation of the assignment constraints found by
-/// subgradient optimisation, started from multipliers `λᵢ = wᵢ · d2ᵢ` (every point's second
-/// cheapest cost in the heuristic plan), the open set of that best value (fixed first: a
-/// start for the Lagrangian heuristic of Beasley 1993) and the iterations spent.
-///
-/// `L(λ) = Σᵢ λᵢ + Σ_{j open} ρⱼ` with `ρⱼ = Σᵢ min(0, wᵢ costs[i, j] − λᵢ)`, the fixed
-/// candidates open and the `p` smallest `ρⱼ` of the others: a lower bound for every `λ`.
-/// The step is Held–Wolfe–Crowder's `θ (upper − L) / ‖g‖²` with `θ` halved after 20 steps
-/// without progress.
-fn lagrangian_bound(
-    costs: &Costs<'_>,
-    weights: Weights<'_>,
-    fixed: &[usize],
-    p: usize,
-    upper: f64,
-    start: &[f64],
-    iterations: usize,
-) -> (f64, Vec<usize>, usize) {
-    let (n, m) = (costs.rows(), costs.columns());
-    let mut best_open = Vec::new();
-    let mut lambda = start.to_vec();
-    let mut is_fixed = vec![false; m];
-    for &j in fixed {
-        is_fixed[j] = true;
-    }
-    let (mut best, mut control) = (f64::NEG_INFINITY, StepControl::new());
-    let mut chosen = vec![false; m];
-    let mut order: Vec<usize> = Vec::with_capacity(m);
-    let mut g = vec![0.0; n];
-    let mut spent = 0;
-    for _ in 0..iterations {
-        spent += 1;
-        let rho = sum_rows(n, m, |i, rho| {
-            let (w, l) = (weights.get(i), lambda[i]);
-            // Only pairs with a negative reduced cost count (costs below l / w).
-            let reach = if w > 0.0 { l / w } else { f64::INFINITY };
-            costs.for_each_within(i, reach, |j, c| {
-                let reduced = w * c - l;
-                if reduced < 0.0 {
-                    rho[j] += reduced;
-                }
-            });
-        });
-        order.clear();
-        order.extend((0..m).filter(|&j| !is_fixed[j]));
-        order.sort_unstable_by(|&a, &b| rho[a].total_cmp(&rho[b]).then(a.cmp(&b)));
-        chosen.iter_mut().for_each(|c| *c = false);
-        let mut value = CompensatedSum::default();
-        for &j in fixed.iter().chain(order.iter().take(p)) {
-            chosen[j] = true;
-            value.add(rho[j]);
-        }
-        for &l in &lambda {
-            value.add(l);
-        }
-        let value = value.total();
-        let improved = best == f64::NEG_INFINITY || value > best + 1e-12 * best.abs();
-        control.record(improved);
-        if improved {
-            best = value;
-            best_open = fixed.iter().chain(order.iter().take(p)).copied().collect();
-        }
-        // Subgradient: 1 − (number of open sites with negative reduced cost for point i).
-        let mut norm = 0.0;
-        let open_now: Vec<usize> = (0..m).filter(|&j| chosen[j]).collect();
-        for (i, gi) in g.iter_mut().enumerate() {
-            let (w, l) = (weights.get(i), lambda[i]);
-            let served = open_now.iter().filter(|&&j| costs.cost(i, j).is_some_and(|c| w * c - l < 0.0)).count();
-            *gi = 1.0 - served as f64;
-            norm += *gi * *gi;
-        }
-        if norm == 0.0 || upper - best <= 1e-9 * upper.abs() || control.exhausted() {
-            break;
-        }
-        let step = control.theta * (upper - value).max(1e-9 * upper.abs()) / norm;
-        for (l, gi) in lambda.iter_mut().zip(&g) {
-            *l += step * gi;
-        }
-    }
-    (best, best_open, spent)
+/// How many of its cheapest candidates every point keeps in its [`NearLists`]: enough to
+/// hold the candidates of several neighbouring open sites (`m / k` candidates per open site
+/// on average), at most the whole row, and few enough that the lists stay within about
+/// 2²⁴ pairs.
+fn near_keep(rows: usize, columns: usize, open: usize) -> usize {
+    let per_site = columns.div_ceil(open.max(1));
+    let wanted = (16 * per_site).max(64);
+    let budget = ((1usize << 24) / rows.max(1)).max(16);
+    wanted.min(budget).min(columns)
 }
 
 /// `p` new candidates (besides the `fixed` ones) minimising `Σᵢ wᵢ · minⱼ costs[i, j]` over
@@ -273,7 +222,9 @@ fn lagrangian_bound(
 /// for `p = 0`, `p` above the candidates that are not fixed, or bad `fixed` columns.
 ///
 /// # Runtime
-/// O(p·n·m) for the start, O(n·m + m·p) per swap and per bound iteration.
+/// O(n·m) to list every point's cheapest candidates, then O(n·q + m·p) per greedy step, per
+/// swap and per bound iteration, `q` the candidates of a point cheaper than its second open
+/// site (or than its multiplier), usually a few times `m / p`.
 pub fn discrete_p_median(
     costs: &Costs<'_>,
     weights: Weights<'_>,
@@ -284,24 +235,24 @@ pub fn discrete_p_median(
     validate_weights("weights", weights, costs.rows())?;
     check_choice(costs, p, fixed)?;
     let top = costs.ceiling();
+    let near = NearLists::new(costs, near_keep(costs.rows(), costs.columns(), p + fixed.len()));
     // The cost of a point no open site serves (and of a missing second site): above every
     // cost on a complete source; on a sparse one, also above what a whole serving plan costs
     // per unit of the least positive weight, so no swap gives up serving a point.
     let (open, ceiling) = if costs.is_complete() {
         let ceiling = 2.0 * top + 1.0;
-        (greedy_add(costs, weights, fixed.to_vec(), p, ceiling), ceiling)
+        (greedy_add_near(costs, Some(&near), weights, fixed.to_vec(), p, ceiling), ceiling)
     } else {
         let cover = serving_cover(costs, weights, p, fixed)?;
         let chosen = cover.len() - fixed.len();
-        let open = greedy_add(costs, weights, cover, p - chosen, 2.0 * top + 1.0);
+        let open = greedy_add_near(costs, Some(&near), weights, cover, p - chosen, 2.0 * top + 1.0);
         let upper = SiteService::of(costs, weights, open.clone(), fixed, None).total_cost;
         let least = (0..costs.rows()).map(|i| weights.get(i)).filter(|&w| w > 0.0).fold(f64::INFINITY, f64::min);
         (open, 2.0 * (upper / least + top) + 1.0)
     };
     let mut open = open;
-    let swaps = fast_swap(costs, weights, &mut open, fixed.len(), options.max_swaps, ceiling);
-    let service = SiteService::of(costs, weights, open.clone(), fixed, None);
-    let upper = service.total_cost;
+    let mut swaps = fast_swap(costs, &near, weights, &mut open, fixed.len(), options.max_swaps, ceiling);
+    let mut service = SiteService::of(costs, weights, open.clone(), fixed, None);
     let (_, _, d2) = nearest_two(costs, &open, ceiling);
     // λ starts at every point's second cheapest open cost, no higher than its dearest pair.
     let start: Vec<f64> = (0..costs.rows())
@@ -311,22 +262,26 @@ pub fn discrete_p_median(
             weights.get(i) * d2[i].min(dearest)
         })
         .collect();
-    let (bound, lagrangian_open, spent) = if upper > 0.0 {
-        lagrangian_bound(costs, weights, fixed, p, upper, &start, options.bound_iterations)
+    let heuristic = service.total_cost;
+    let (bound, spent) = if heuristic > 0.0 {
+        // Beasley's (1993) Lagrangian heuristic: the open sets of the relaxation, improved by
+        // the same interchange, replace the plan when cheaper (and, on a sparse source,
+        // serving every point); the bound's target follows the best plan.
+        let mut improve = |relaxed: &[usize]| {
+            let mut other = relaxed.to_vec();
+            let more = fast_swap(costs, &near, weights, &mut other, fixed.len(), options.max_swaps, ceiling);
+            let candidate = SiteService::of(costs, weights, other, fixed, None);
+            swaps += more;
+            if candidate.total_cost < service.total_cost {
+                service = candidate;
+            }
+            service.total_cost
+        };
+        let relaxation = MedianRelaxation { costs, near: &near, weights, fixed, p };
+        relaxation.bound(heuristic, &start, options.bound_iterations, &mut improve)
     } else {
-        (0.0, Vec::new(), 0)
+        (0.0, 0)
     };
-    // Beasley's (1993) Lagrangian heuristic: the open set of the best relaxation, improved by
-    // the same interchange, replaces the plan when cheaper (and, on a sparse source, serving).
-    let (mut service, mut swaps) = (service, swaps);
-    if lagrangian_open.len() == open.len() && relative_gap(upper, bound) > 1e-9 {
-        let mut other = lagrangian_open;
-        let more = fast_swap(costs, weights, &mut other, fixed.len(), options.max_swaps, ceiling);
-        let candidate = SiteService::of(costs, weights, other, fixed, None);
-        if candidate.total_cost < service.total_cost {
-            (service, swaps) = (candidate, swaps + more);
-        }
-    }
     let upper = service.total_cost;
     // Costs are non-negative, so 0 is a bound too; a bound above the plan's cost can only be
     // rounding (the plan is feasible), so it is clamped to the plan.

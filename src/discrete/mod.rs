@@ -22,6 +22,8 @@ mod center;
 mod cover;
 mod dominating;
 mod median;
+mod median_bound;
+mod near;
 mod source;
 
 pub use center::{discrete_p_center, DiscreteCenter};
