@@ -150,9 +150,8 @@ def _plan_command(kind: str, args: argparse.Namespace) -> None:
     from .. import gis
 
     frame = read_points(args.input, args)
-    options: dict[str, Any] = {"seed": args.seed}
+    options: dict[str, Any] = {"seed": args.seed, "effort": args.effort}
     if kind == "median":
-        options["effort"] = args.effort
         if args.fixed is not None:
             options["fixed"] = read_points(args.fixed, args, "the existing sites", (), main=False)
         plan = gis.p_median(frame, args.p, args.weight, **_by(args), **_common(args), **options)
@@ -217,8 +216,8 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
         p = command(name, functools.partial(_plan_command, kind), text, [weight, by, seed, summary])
         p.add_argument("-p", type=_positive_int, required=True, help="number of sites (per group)")
         p.add_argument("--assignment", metavar="FILE", help="also write the input rows with their site and distance")
+        p.add_argument("--effort", choices=["fast", "normal", "thorough"], default="normal",
+                       help="time against quality: fast is one short search; thorough runs more and "
+                            "longer searches [normal]")
         if kind == "median":
-            p.add_argument("--effort", choices=["fast", "normal", "thorough"], default="normal",
-                           help="time against quality: fast is one short search; thorough runs more and "
-                                "longer searches [normal]")
             p.add_argument("--fixed", metavar="FILE", help="existing sites that stay where they are")
