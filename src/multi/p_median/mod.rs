@@ -144,6 +144,9 @@ const LARGE_SETTLE: f64 = 1e-8;
 /// Cap on Cooper rounds per descent (it converges in finitely many; this guards against
 /// cycling caused by inexact location steps).
 const MAX_ROUNDS: usize = 500;
+/// Cap on Cooper rounds per descent on the full data of a large input (more than
+/// [`LARGE_INPUT`] points), where the search itself ran on a sample.
+const LARGE_MAX_ROUNDS: usize = 25;
 /// A new solution replaces the incumbent only when better by this relative margin.
 const IMPROVEMENT: f64 = 1e-10;
 
