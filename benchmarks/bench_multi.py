@@ -1,4 +1,5 @@
-"""p-median on the published p654 benchmark and on 100,000 weighted points.
+"""p-median on the published p654 benchmark, on 100,000 and 1,000,000 weighted points;
+p-center on 10,000 and 1,000,000 weighted points.
 
 placewise's search (single and grouped) against a plain scipy/numpy Cooper alternation
 (k-means++ starts from ``scipy.cluster.vq.kmeans2``, allocation by ``scipy.spatial.cKDTree``,
@@ -36,6 +37,13 @@ def _weighted_cloud(n: int, seed: int) -> tuple[np.ndarray, np.ndarray]:
     return pts + [512_000.0, 6_180_000.0], rng.lognormal(sigma=1.0, size=n)
 
 
+def _uniform_cloud(n: int, seed: int) -> tuple[np.ndarray, np.ndarray]:
+    """Uniform points on a 40 km square with uniform weights in [0.2, 2.2)."""
+    rng = np.random.default_rng(seed)
+    pts = rng.uniform(0, 40_000, size=(n, 2)) + [512_000.0, 6_180_000.0]
+    return pts, rng.uniform(0.2, 2.2, size=n)
+
+
 def _weiszfeld(x: np.ndarray, w: np.ndarray, start: np.ndarray, steps: int = 50) -> np.ndarray:
     """Plain Weiszfeld steps (distances floored to avoid dividing by zero)."""
     y = start
@@ -49,9 +57,12 @@ def _weiszfeld(x: np.ndarray, w: np.ndarray, start: np.ndarray, steps: int = 50)
     return y
 
 
-def scipy_cooper(points: np.ndarray, p: int, weights: np.ndarray | None, starts: int, seed: int = 0) -> float:
+def scipy_cooper(
+    points: np.ndarray, p: int, weights: np.ndarray | None, starts: int, seed: int = 0, rounds: int = 100
+) -> float:
     """Multi-start Cooper (1964) the scipy way: kmeans2 '++' start, cKDTree allocation,
-    numpy Weiszfeld location steps, until the allocation is stable. Returns the best cost."""
+    numpy Weiszfeld location steps, until the allocation is stable (at most ``rounds``
+    alternations). Returns the best cost."""
     origin = points.mean(axis=0)
     x = points - origin
     w = np.ones(len(x)) if weights is None else weights
@@ -60,7 +71,7 @@ def scipy_cooper(points: np.ndarray, p: int, weights: np.ndarray | None, starts:
     for _ in range(starts):
         sites, _ = scipy.cluster.vq.kmeans2(x, p, minit="++", iter=1, seed=rng)
         labels = None
-        for _ in range(100):
+        for _ in range(rounds):
             d, new = scipy.spatial.cKDTree(sites).query(x)
             if labels is not None and np.array_equal(new, labels):
                 break
@@ -116,6 +127,39 @@ def cases(quick: bool) -> list[Case]:
         lambda: scipy_cooper(cloud, 20, w, 1),
         "scipy/numpy Cooper, 1 k-means++ start",
         compare=cloud_note, repeat=1,
+    ))
+    # A million uniform weighted points, p = 50: fast and the default against the best of
+    # three reference starts (alternations capped at 30 per start: each takes seconds).
+    big = 100_000 if quick else 1_000_000
+    bpts, bw = _uniform_cloud(big, 8)
+    reference_best: dict[str, float] = {}
+
+    def best_reference() -> float:
+        reference_best["cost"] = scipy_cooper(bpts, 50, bw, 3, rounds=30)
+        return reference_best["cost"]
+
+    def big_note(ours: pw.MedianPlan, _: object) -> str:
+        ref = reference_best["cost"]
+        return f"cost ours/best reference - 1 = {ours.cost / ref - 1:+.2e} (reference run of the row above)"
+
+    out.append(Case(
+        "p_median weighted effort=fast", f"{big:,} uniform weighted points, p = 50",
+        lambda: pw.p_median(bpts, 50, bw, effort="fast"),
+        best_reference,
+        "scipy/numpy Cooper, best of 3 k-means++ starts (30 alternations each)",
+        compare=cloud_note, repeat=1,
+    ))
+    out.append(Case(
+        "p_median weighted effort=normal", f"{big:,} uniform weighted points, p = 50",
+        lambda: pw.p_median(bpts, 50, bw),
+        None, "the same reference",
+        compare=big_note, repeat=1,
+    ))
+    out.append(Case(
+        "p_center weighted effort=fast", f"{big:,} uniform weighted points, p = 50",
+        lambda: pw.p_center(bpts, 50, bw, effort="fast"),
+        None, "no reference (radius only)",
+        compare=lambda ours, _: f"weighted radius {ours.weighted_radius:.6g}", repeat=1,
     ))
     m = 2_000 if quick else 10_000
     cpts, cw = _weighted_cloud(m, 6)

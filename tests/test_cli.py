@@ -401,6 +401,10 @@ def test_plan_commands(csv_path, tmp_path, capsys):
     code, out, err = run(["p-center", *utm(csv_path), "-p", "2", "--by", "zone", "-q"], capsys)
     assert code == 0, err
     assert table_of(out).groupby("zone").size().tolist() == [2, 2, 2]
+    code, out_fast, err = run(["p-center", *utm(csv_path), "-p", "2", "--by", "zone", "-q", "--effort", "fast"],
+                              capsys)
+    assert code == 0, err
+    assert table_of(out_fast).groupby("zone").size().tolist() == [2, 2, 2]
     code, _, err = run(["p-median", *utm(csv_path), "-p", "500"], capsys)
     assert_user_error(code, err, "500")
 

@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 import scipy.optimize
 import scipy.spatial
-from hypothesis import given
+from hypothesis import given, settings
 from hypothesis import strategies as st
 from hypothesis.extra.numpy import arrays
 
@@ -344,6 +344,56 @@ def test_p_center_same_seed_same_answer() -> None:
     a, b = pw.p_center(pts, 4, seed=5), pw.p_center(pts, 4, seed=5)
     np.testing.assert_array_equal(a.sites, b.sites)
     assert a.weighted_radius == b.weighted_radius
+
+
+@given(seed=st.integers(0, 2**32), p=st.integers(2, 6), clusters=st.integers(1, 8))
+@settings(max_examples=12, deadline=None)
+def test_property_more_effort_never_worsens_the_plan(seed: int, p: int, clusters: int) -> None:
+    # Costs and radii recomputed with scipy cdist from the returned sites: a higher effort
+    # starts from / keeps the lower effort's answer, so its objective is never larger.
+    pts = clustered(240, clusters, seed % 1000) + np.random.default_rng(seed).normal(scale=0.01, size=(240, 2))
+    w = np.random.default_rng(seed + 1).uniform(0.5, 3.0, size=len(pts))
+    costs = []
+    radii = []
+    for effort in ("fast", "normal", "thorough"):
+        median = pw.p_median(pts, p, w, seed=seed, effort=effort)
+        center = pw.p_center(pts, p, w, seed=seed, effort=effort)
+        assert median.cost == pytest.approx(median_cost(pts, median.sites, w), rel=1e-12)
+        assert center.weighted_radius == pytest.approx(float(np.max(w * nearest(pts, center.sites)[0])), rel=1e-12)
+        costs.append(median.cost)
+        radii.append(center.weighted_radius)
+    assert costs[1] <= costs[0] * (1 + 1e-12) and costs[2] <= costs[1] * (1 + 1e-12), costs
+    assert radii[1] <= radii[0] * (1 + 1e-12) and radii[2] <= radii[1] * (1 + 1e-12), radii
+
+
+@pytest.mark.parametrize("seed", [0, 1])
+def test_more_effort_never_worsens_the_plan_on_sampled_inputs(seed: int) -> None:
+    # Past 20,000 points the p-median searches a sample and the p-center a working set; the
+    # objectives are recomputed with scipy's cKDTree from the returned sites.
+    rng = np.random.default_rng(40 + seed)
+    pts = rng.uniform(0, 1000, size=(30_000, 2))
+    w = rng.uniform(0.5, 2.0, size=len(pts))
+    tree_cost = lambda sites: scipy.spatial.cKDTree(sites).query(pts)[0]  # noqa: E731
+    fast, normal = (pw.p_median(pts, 6, w, seed=seed, effort=e) for e in ("fast", "normal"))
+    assert fast.cost == pytest.approx(float(w @ tree_cost(fast.sites)), rel=1e-9)
+    assert normal.cost <= fast.cost * (1 + 1e-12)
+    fast_c, normal_c = (pw.p_center(pts, 6, w, seed=seed, effort=e) for e in ("fast", "normal"))
+    assert fast_c.weighted_radius == pytest.approx(float(np.max(w * tree_cost(fast_c.sites))), rel=1e-12)
+    assert normal_c.weighted_radius <= fast_c.weighted_radius * (1 + 1e-12)
+    # Gonzalez (1985): a farthest-first start is within a factor 2 of the optimum, and
+    # half the smallest gap between p + 1 farthest-first points is a lower bound on it.
+    chosen = [int(np.argmax(w))]
+    reach = w * np.hypot(*(pts - pts[chosen[0]]).T)
+    for _ in range(6):
+        chosen.append(int(np.argmax(reach)))
+        reach = np.minimum(reach, w * np.hypot(*(pts - pts[chosen[-1]]).T))
+    assert fast_c.weighted_radius <= float(np.max(w * tree_cost(pts[chosen[:6]])))
+
+
+def test_p_center_refuses_an_unknown_effort() -> None:
+    with pytest.raises(pw.InputError, match=r'^effort must be "fast", "normal" or "thorough"; got .most.$') as bad:
+        pw.p_center(clustered(20, 2, 13), 2, effort="most")  # type: ignore[arg-type]
+    assert bad.value.argument == "effort"
 
 
 # --- bad and hostile input -----------------------------------------------------------------

@@ -825,6 +825,7 @@ def p_center(
     candidates: ArrayLike | None = None,
     groups: None = None,
     seed: int = 0,
+    effort: Literal["fast", "normal", "thorough"] = "normal",
     errors: Literal["raise", "skip"] = "raise",
     time_limit: float | None = None,
     progress: bool | Callable[[int, int], object] = False,
@@ -841,6 +842,7 @@ def p_center(
     candidates: ArrayLike | None = None,
     groups: ArrayLike,
     seed: int = 0,
+    effort: Literal["fast", "normal", "thorough"] = "normal",
     errors: Literal["raise", "skip"] = "raise",
     time_limit: float | None = None,
     progress: bool | Callable[[int, int], object] = False,
@@ -856,6 +858,7 @@ def p_center(
     candidates: ArrayLike | None = None,
     groups: ArrayLike | None = None,
     seed: int = 0,
+    effort: Literal["fast", "normal", "thorough"] = "normal",
     errors: Literal["raise", "skip"] = "raise",
     time_limit: float | None = None,
     progress: bool | Callable[[int, int], object] = False,
@@ -865,9 +868,11 @@ def p_center(
 
     The continuous (weighted) p-center problem. Drezner's alternating method (1984) — every
     point to its nearest site, every site to the minimax point of its cluster — with a
-    hand-over of the points fixing the largest circle to neighbouring clusters, from 16
-    seeded restarts (farthest-first, Gonzalez 1985, and D-sampling starts). Instances with
-    at most 10 distinct points of positive weight are solved exactly by branch and bound
+    hand-over of the points fixing the largest circle to neighbouring clusters, from seeded
+    restarts (farthest-first, Gonzalez 1985, and D-sampling starts; 2, 16 or 64 by
+    ``effort``). Beyond 20,000 distinct locations each restart first descends on a growing
+    working set of them (the relaxation of Chen and Chen 2009), then once on all. Instances
+    with at most 10 distinct points of positive weight are solved exactly by branch and bound
     over all splits into ``p`` clusters. ``p = 1`` is :func:`minimax_point`.
 
     Parameters
@@ -890,6 +895,10 @@ def p_center(
         return ``CenterPlans``.
     seed : int
         Seed of the restarts, from 0 to 2**64 - 1.
+    effort : {"fast", "normal", "thorough"}
+        Time against quality: 2, 16 or 64 restarts. A higher effort runs the lower one's
+        restarts first and keeps the best plan, so more effort never gives a larger radius
+        (same input and seed).
     errors : {"raise", "skip"}
         With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
         label); ``"skip"`` keeps such a group with its ``problem`` and plans the rest.
@@ -917,9 +926,9 @@ def p_center(
     ------
     InputError
         For NaN/inf coordinates, bad shapes, bad weights, ``p`` or ``seed`` not an integer
-        in range, a ``time_limit`` that is not a number above zero, or a ``progress`` that is
-        neither a bool nor callable. Its ``group`` and ``row`` attributes name the group label and
-        input row concerned.
+        in range, an unknown ``effort``, a ``time_limit`` that is not a number above zero, or a
+        ``progress`` that is neither a bool nor callable. Its ``group`` and ``row`` attributes
+        name the group label and input row concerned.
     DegenerateInputError
         When fewer than ``p`` distinct points carry positive weight (in a group).
         Also for a region without area or whose rings cross or overlap (``argument`` is
@@ -935,6 +944,8 @@ def p_center(
     (1.414213562373, True)
     >>> plan.count
     array([4, 4])
+    >>> round(pw.p_center(square + far, 2, effort="fast").weighted_radius, 12)
+    1.414213562373
     >>> pw.p_center([[1, 1], [1, 1], [4, 5]], 2).weighted_radius   # a site on each distinct point
     0.0
     >>> heavy = pw.p_center([[0, 0], [4, 0]], 1, [3, 1])    # the site moves toward the heavy point
@@ -968,7 +979,9 @@ def p_center(
     vertices, offsets = region_rings(region)
     shown = None if vertices is None else (vertices, offsets)
     if groups is None:
-        fields = _core.p_center_single(points, p, weights, seed, time_limit, progress, vertices, offsets)
+        fields = _core.p_center_single(points, p, weights, seed, effort, time_limit, progress, vertices, offsets)
         return CenterPlan(**fields, points=as_points(points), region=shown)
-    fields = _core.p_center_grouped(points, p, weights, groups, seed, errors, time_limit, progress, vertices, offsets)
+    fields = _core.p_center_grouped(
+        points, p, weights, groups, seed, effort, errors, time_limit, progress, vertices, offsets
+    )
     return CenterPlans._from_core(fields, points=as_points(points), region=shown)

@@ -197,7 +197,7 @@ mod properties {
         #[test]
         fn p_centers_equal_separate_calls((points, labels) in labelled(), p in 1usize..3) {
             let w: Vec<f64> = (0..points.len()).map(|i| 1.0 + (i % 3) as f64).collect();
-            let options = CenterOptions { seed: 2, restarts: 4, ..CenterOptions::default() };
+            let options = CenterOptions { seed: 2, effort: Effort::Fast, ..CenterOptions::default() };
             let (grouped, _) = p_centers(&points, Weights::Given(&w), &labels, p, &options, OnGroupError::Skip).unwrap();
             for (g, &label) in grouped.labels.iter().enumerate() {
                 let rows = members(&labels, label);

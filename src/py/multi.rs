@@ -58,17 +58,18 @@ fn median_options<'py>(
 
 /// The options of a p-center call (watched by a fresh [`Watch`]) and its progress report.
 fn center_options<'py>(
+    effort: &str,
     seed: &Bound<'py, PyAny>,
     time_limit: Option<&Bound<'py, PyAny>>,
     progress: Option<&Bound<'py, PyAny>>,
     region: Region<'_, 'py>,
 ) -> PyResult<(CenterOptions, Progress<'py>)> {
     let options = CenterOptions {
+        effort: effort_arg(effort)?,
         seed: seed_arg(seed)?,
         time_limit: time_limit_arg(time_limit)?,
         watch: Watch::new(),
         region: feasible_region_arg(region.0, region.1)?.map(Arc::new),
-        ..CenterOptions::default()
     };
     Ok((options, progress_arg(progress, "p_center")?))
 }
@@ -228,7 +229,7 @@ fn p_median_grouped<'py>(
 /// Fields: sites (p, 2), assignment (n,), distance (n,), load (p,), count (p,),
 /// weighted_radius, radius, total_load, optimal, converged, iterations.
 #[pyfunction]
-#[pyo3(signature = (points, p, weights, seed, time_limit, progress, region_vertices=None, ring_offsets=None))]
+#[pyo3(signature = (points, p, weights, seed, effort, time_limit, progress, region_vertices=None, ring_offsets=None))]
 #[allow(clippy::too_many_arguments)]
 fn p_center_single<'py>(
     py: Python<'py>,
@@ -236,13 +237,14 @@ fn p_center_single<'py>(
     p: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
     seed: &Bound<'py, PyAny>,
+    effort: &str,
     time_limit: Option<&Bound<'py, PyAny>>,
     progress: Option<&Bound<'py, PyAny>>,
     region_vertices: Option<&Bound<'py, PyAny>>,
     ring_offsets: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let p = p_arg(p)?;
-    let (options, mut progress) = center_options(seed, time_limit, progress, (region_vertices, ring_offsets))?;
+    let (options, mut progress) = center_options(effort, seed, time_limit, progress, (region_vertices, ring_offsets))?;
     let watch = options.watch.clone();
     let cloud = Cloud::read(points, weights, None)?;
     let (pts, w) = (cloud.points(), cloud.weights()?);
@@ -261,7 +263,7 @@ fn p_center_single<'py>(
 /// (G + 1,); per point point_group, assignment (row in the per-site arrays), distance; per
 /// group weighted_radius, radius, total_load, optimal, converged, iterations.
 #[pyfunction]
-#[pyo3(signature = (points, p, weights, groups, seed, errors, time_limit, progress, region_vertices=None, ring_offsets=None))]
+#[pyo3(signature = (points, p, weights, groups, seed, effort, errors, time_limit, progress, region_vertices=None, ring_offsets=None))]
 #[allow(clippy::too_many_arguments)]
 fn p_center_grouped<'py>(
     py: Python<'py>,
@@ -270,6 +272,7 @@ fn p_center_grouped<'py>(
     weights: Option<&Bound<'py, PyAny>>,
     groups: &Bound<'py, PyAny>,
     seed: &Bound<'py, PyAny>,
+    effort: &str,
     errors: &str,
     time_limit: Option<&Bound<'py, PyAny>>,
     progress: Option<&Bound<'py, PyAny>>,
@@ -277,7 +280,7 @@ fn p_center_grouped<'py>(
     ring_offsets: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let p = p_arg(p)?;
-    let (options, mut progress) = center_options(seed, time_limit, progress, (region_vertices, ring_offsets))?;
+    let (options, mut progress) = center_options(effort, seed, time_limit, progress, (region_vertices, ring_offsets))?;
     let watch = options.watch.clone();
     let on_error = on_error_arg(errors)?;
     let cloud = Cloud::read(points, weights, Some(groups))?;

@@ -154,9 +154,8 @@ def _plan_command(kind: str, args: argparse.Namespace) -> None:
     from .. import gis
 
     frame = read_points(args.input, args)
-    options: dict[str, Any] = {"seed": args.seed, **place_options(args)}
+    options: dict[str, Any] = {"seed": args.seed, "effort": args.effort, **place_options(args)}
     if kind == "median":
-        options["effort"] = args.effort
         if args.fixed is not None:
             options["fixed"] = read_points(args.fixed, args, "the existing sites", (), main=False)
         options.update(_capacity.capacity_options(args, options))
@@ -227,9 +226,9 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
         p.add_argument("-p", type=_positive_int, required=True, help="number of sites (per group)")
         p.add_argument("--assignment", metavar="FILE", help="also write the input rows with their site and distance")
         add_place_options(p)
+        p.add_argument("--effort", choices=["fast", "normal", "thorough"], default="normal",
+                       help="time against quality: fast is one short search; thorough runs more and "
+                            "longer searches [normal]")
         if kind == "median":
-            p.add_argument("--effort", choices=["fast", "normal", "thorough"], default="normal",
-                           help="time against quality: fast is one short search; thorough runs more and "
-                                "longer searches [normal]")
             p.add_argument("--fixed", metavar="FILE", help="existing sites that stay where they are")
             _capacity.add_capacity_options(p)

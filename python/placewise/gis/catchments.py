@@ -14,6 +14,7 @@ except ImportError:  # pragma: no cover - exercised only without the extra
 
 import placewise as _pw
 
+from .._core import InputError
 from ._frames import MAX_SCALE_ERROR, call, framed, groups_of, prepare
 from ._together import region_geometry
 from .plans import nearest_site
@@ -120,7 +121,7 @@ def power_cells(
     if power_column not in pf.frame.columns:
         raise InputError(f"sites has no power column {power_column!r}; columns: {list(pf.frame.columns)}")
     powers = pf.frame[power_column].to_numpy(dtype=np.float64, na_value=np.nan)
-    geom = _region_geometry(region, pf)
+    geom = region_geometry(region, pf)
     groups = groups_of(pf.frame, by, "sites")
     rows = {"sites": pf.rows, "powers": pf.rows}
     grouped = {} if groups is None else {"errors": errors}

@@ -7,14 +7,26 @@
 //! again while the radius falls. Restarts alternate weighted farthest-first starts (Gonzalez
 //! 1985; the first from the heaviest location, later ones from a random one) with
 //! D-sampling starts; the best plan wins.
+//!
+//! Many locations: the radius of a plan is fixed by a few of them, so each descent first runs
+//! on a working set — a seeded sample — and after every descent adds the locations that its
+//! plan serves worse than the working set's radius, until none is left (the relaxation of
+//! Chen and Chen 2009, "New relaxation-based algorithms for the optimal solution of the
+//! continuous and discrete p-center problems", Computers & Operations Research 36(5)). One
+//! descent on all the locations then starts from that plan, so the result is a local
+//! optimum of the whole demand.
 
 use super::{CenterOptions, Demand, Plan, IMPROVEMENT, MAX_ROUNDS};
 use crate::cancel::Clock;
 use crate::error::Result;
 use crate::geometry::random::SplitMix64;
 use crate::geometry::{distance, Point, Weights};
+
 use crate::multi::seeding::d_sampling;
 use crate::partition::{allocate, SiteIndex};
+
+/// Demands with more distinct locations than this run each descent on a working set first.
+const WORKING_SET_FROM: usize = 20_000;
 
 impl Demand {
     /// The best of `options.restarts` descents from seeded starts; when `clock` stops the
@@ -29,7 +41,8 @@ impl Demand {
     ) -> Result<Plan> {
         let mut rng = SplitMix64::new(options.seed);
         let mut best: Option<Plan> = None;
-        let restarts = options.restarts.max(1);
+        let restarts = options.effort.restarts();
+        let working_set = self.first_working_set(options.seed);
         clock.watch.plan(restarts as u64);
         for restart in 0..restarts {
             if restart > 0 && clock.stop() {
@@ -43,13 +56,81 @@ impl Demand {
                 d_sampling(&self.points, Weights::Given(&self.weights), &self.all, &[], p, &mut rng)
             };
             let start = start.into_iter().map(|s| self.place(s)).collect();
-            let plan = self.descend(start, clock, stopped, iterations)?;
+            let plan = match &working_set {
+                Some(set) => self.descend_relaxed(start, set, clock, stopped, iterations)?,
+                None => self.descend(start, clock, stopped, iterations)?,
+            };
             clock.watch.advance(1);
             if best.as_ref().is_none_or(|b| plan.radius < b.radius * (1.0 - IMPROVEMENT)) {
                 best = Some(plan);
             }
         }
         Ok(best.expect("at least one restart"))
+    }
+
+    /// The first working set of every relaxed descent: a seeded uniform sample of a quarter of
+    /// [`WORKING_SET_FROM`] locations, in demand order; `None` when there are no more than
+    /// [`WORKING_SET_FROM`] locations (every descent then runs on all of them).
+    fn first_working_set(&self, seed: u64) -> Option<Vec<usize>> {
+        if self.len() <= WORKING_SET_FROM {
+            return None;
+        }
+        let mut rng = SplitMix64::new(seed ^ 0x2C3B_7E11_9D40_A5F3);
+        let mut order: Vec<usize> = (0..self.len()).collect();
+        let size = WORKING_SET_FROM / 4;
+        // Partial Fisher–Yates: the first `size` entries are a uniform sample.
+        for k in 0..size {
+            let pick = k + rng.below(self.len() - k);
+            order.swap(k, pick);
+        }
+        order.truncate(size);
+        order.sort_unstable();
+        Some(order)
+    }
+
+    /// [`Demand::descend`] on a working set that starts as `first` and grows by the locations
+    /// the working set's plan serves worse than its own radius (at most [`ADDED_PER_ROUND`]
+    /// worst ones per round, largest weighted distance first), until there are none; then one
+    /// descent on every location from that plan.
+    fn descend_relaxed(
+        &self,
+        start: Vec<Point>,
+        first: &[usize],
+        clock: &Clock,
+        stopped: &mut bool,
+        iterations: &mut usize,
+    ) -> Result<Plan> {
+        /// Locations added to the working set after one of its descents.
+        const ADDED_PER_ROUND: usize = 2_048;
+        let mut active = first.to_vec();
+        let mut in_set = vec![false; self.len()];
+        active.iter().for_each(|&i| in_set[i] = true);
+        let mut sites = start;
+        loop {
+            let plan = self.subset(&active).descend(sites, clock, stopped, iterations)?;
+            sites = plan.sites;
+            if *stopped {
+                let radius = self.radius(&sites)?;
+                return Ok(Plan { sites, radius });
+            }
+            let allocation = allocate(&self.points, &SiteIndex::new(&sites)?, Weights::Given(&self.weights));
+            let mut worse: Vec<(f64, usize)> = (0..self.len())
+                .filter(|&i| !in_set[i])
+                .map(|i| (self.weights[i] * allocation.distance[i], i))
+                .filter(|&(r, _)| r > plan.radius)
+                .collect();
+            if worse.is_empty() {
+                break;
+            }
+            // Largest weighted distance first; equal ones by index, so the set is deterministic.
+            worse.sort_unstable_by(|a, b| b.0.total_cmp(&a.0).then(a.1.cmp(&b.1)));
+            for &(_, i) in worse.iter().take(ADDED_PER_ROUND) {
+                in_set[i] = true;
+                active.push(i);
+            }
+            active.sort_unstable();
+        }
+        self.descend(sites, clock, stopped, iterations)
     }
 
     /// Clusters of the nearest-site allocation (members per site, in point order).

@@ -3,7 +3,9 @@
 //!
 //! - `drezner` — the heuristic: Drezner's (1984) alternation of nearest-site clusters and
 //!   their minimax points, with hand-overs of the points fixing the largest circle, from
-//!   restarts alternating farthest-first (Gonzalez 1985) and D-sampling starts.
+//!   restarts alternating farthest-first (Gonzalez 1985) and D-sampling starts. On many
+//!   locations each descent first runs on a growing working set of them (the relaxation of
+//!   Chen and Chen 2009), then once on them all.
 //! - `exact` — tiny instances (at most [`EXACT_MAX_POINTS`] distinct points of positive
 //!   weight) by branch and bound over all splits into at most `p` clusters.
 //!
@@ -15,7 +17,7 @@ mod exact;
 
 use std::sync::Arc;
 
-use super::{check_site_count, Location, Service};
+use super::{check_site_count, Effort, Location, Service};
 use crate::batch::{run_grouped_placed, Grouped, OnGroupError, RowPlaces};
 use crate::cancel::Watch;
 use crate::enclose::{minimax_point, minimax_point_in_region, MinimaxPoint};
@@ -32,8 +34,10 @@ pub struct CenterOptions {
     /// Seed of the restarts: the same seed gives the same answer (when the search is not cut
     /// short by `time_limit`).
     pub seed: u64,
-    /// Number of restarts of the heuristic.
-    pub restarts: usize,
+    /// Time against quality: 2, 16 or 64 restarts (fast, normal, thorough). A higher effort
+    /// runs the lower effort's restarts first, in the same order, and keeps the best plan, so
+    /// it never returns a larger radius on the same input and seed.
+    pub effort: Effort,
     /// Wall-clock budget of one plan in seconds (`None`: none). When it passes, the best plan
     /// found so far is returned with `converged` false.
     pub time_limit: Option<f64>,
@@ -46,7 +50,7 @@ pub struct CenterOptions {
 
 impl Default for CenterOptions {
     fn default() -> Self {
-        CenterOptions { seed: 0, restarts: 16, time_limit: None, watch: Watch::default(), region: None }
+        CenterOptions { seed: 0, effort: Effort::Normal, time_limit: None, watch: Watch::default(), region: None }
     }
 }
 
@@ -90,7 +94,10 @@ const IMPROVEMENT: f64 = 1e-12;
 ///
 /// # Runtime
 /// Each alternation round costs O(n log p) for the allocation and O(n) (expected) for the
-/// minimax points; a descent takes a few to a few dozen rounds, times `restarts`. The exact
+/// minimax points; a descent takes a few to a few dozen rounds, times the restarts of the
+/// effort (2, 16 or 64). Beyond 20 000 distinct locations a descent's rounds run on a
+/// working set of them that grows only by the locations its plans leave worst served, and
+/// one final descent runs on all of them. The exact
 /// search on at most [`EXACT_MAX_POINTS`] points visits at most the Bell number
 /// B₁₀ = 115 975 splits, usually far fewer.
 pub fn p_center(points: &[Point], weights: Weights<'_>, p: usize, options: &CenterOptions) -> Result<CenterPlan> {
@@ -195,6 +202,16 @@ impl Demand {
 
     fn len(&self) -> usize {
         self.points.len()
+    }
+
+    /// The locations `members` (demand indices) alone, as a demand of their own.
+    fn subset(&self, members: &[usize]) -> Demand {
+        Demand {
+            points: members.iter().map(|&i| self.points[i]).collect(),
+            weights: members.iter().map(|&i| self.weights[i]).collect(),
+            all: (0..members.len()).collect(),
+            region: self.region.clone(),
+        }
     }
 
     /// Largest weighted distance to the nearest of `sites`.

@@ -10,7 +10,7 @@
 //! a weighted cluster is that cluster's Fermat–Weber point (to the Weber tolerance) — the
 //! two conditions of a local optimum.
 
-use super::{Problem, Solution, MAX_ROUNDS};
+use super::{Problem, Solution, LARGE_INPUT, LARGE_MAX_ROUNDS, MAX_ROUNDS};
 use crate::error::Result;
 use crate::geometry::{Point, Weights};
 use crate::median::{weber_point, weber_point_in_region, WeberOptions};
@@ -38,7 +38,10 @@ impl Problem<'_> {
         let options = WeberOptions { tol, ..WeberOptions::default() };
         let mut served = self.served(&sites)?;
         let mut changed = vec![true; self.p];
-        for _ in 0..MAX_ROUNDS {
+        // On large inputs Cooper's tail is long (every round moves a few of a million points
+        // for a tiny gain) and each round is a pass over all of them: cap the rounds.
+        let max_rounds = if self.points.len() > LARGE_INPUT { LARGE_MAX_ROUNDS } else { MAX_ROUNDS };
+        for _ in 0..max_rounds {
             // Here `served` is the allocation to the current `sites`, so stopping leaves a
             // consistent plan (one not yet at its local optimum).
             if self.halted() {

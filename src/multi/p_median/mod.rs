@@ -39,7 +39,7 @@ use crate::geometry::{validate_points, validate_weights, FeasibleRegion, Point, 
 use crate::median::{weber_point, weber_point_in_region, WeberOptions};
 use sample::{Sample, LARGE_INPUT};
 
-/// How much search [`p_median`] spends for quality.
+/// How much search [`p_median`] and [`p_center`](crate::multi::p_center) spend for quality.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum Effort {
     /// One start, a short search: a good local optimum quickly.
@@ -76,6 +76,16 @@ impl Effort {
 }
 
 impl Effort {
+    /// Restarts of the p-center heuristic at this effort. Each level's restarts begin with
+    /// the lower level's, so more effort never gives a larger radius.
+    pub(crate) fn restarts(self) -> usize {
+        match self {
+            Effort::Fast => 2,
+            Effort::Normal => 16,
+            Effort::Thorough => 64,
+        }
+    }
+
     /// This level and every lower one, lowest first: a level's search runs after the lower
     /// levels' and the best final plan wins, so more effort never gives a worse plan.
     fn levels(self) -> &'static [Effort] {
@@ -129,9 +139,14 @@ const FINAL_TOL: f64 = 1e-10;
 /// During the search a descent stops once a Cooper round gains less than this fraction of
 /// the cost; the final polish runs until the allocation is stable.
 const SEARCH_SETTLE: f64 = 1e-5;
+/// On large inputs the polish stops once a Cooper round gains less than this fraction.
+const LARGE_SETTLE: f64 = 1e-8;
 /// Cap on Cooper rounds per descent (it converges in finitely many; this guards against
 /// cycling caused by inexact location steps).
 const MAX_ROUNDS: usize = 500;
+/// Cap on Cooper rounds per descent on the full data of a large input (more than
+/// [`LARGE_INPUT`] points), where the search itself ran on a sample.
+const LARGE_MAX_ROUNDS: usize = 25;
 /// A new solution replaces the incumbent only when better by this relative margin.
 const IMPROVEMENT: f64 = 1e-10;
 
@@ -320,21 +335,39 @@ impl Problem<'_> {
 
     /// Every effort level up to `options.effort` in turn (see [`Effort::levels`]), each a
     /// global search and a polish; the best final plan wins, so a higher effort never returns
-    /// a worse plan than a lower one on the same input and seed. A level cut short by the
-    /// clock still competes with its best plan so far; later levels are not started.
+    /// a worse plan than a lower one on the same input and seed. On large inputs a level above
+    /// the first also descends (Cooper and jumps on every point) from the better of its own
+    /// plan and the best of the lower levels, so it starts from the lower levels' answer. A
+    /// level cut short by the clock still competes with its best plan so far; later levels
+    /// are not started.
     fn solve(&self, options: &MedianOptions, iterations: &mut usize) -> Result<Solution> {
         let levels = options.effort.levels();
         let sampled = self.points.len() > LARGE_INPUT;
         let watch = &self.clock.watch;
-        for effort in levels {
-            watch.plan((effort.budget(self.p).starts + 1 + usize::from(sampled)) as u64);
+        for (level, effort) in levels.iter().enumerate() {
+            let full_data_steps = if sampled { 1 + usize::from(level > 0) } else { 0 };
+            watch.plan((effort.budget(self.p).starts + 1 + full_data_steps) as u64);
         }
         let mut best: Option<Solution> = None;
         for (level, effort) in levels.iter().enumerate() {
             if level > 0 && self.halted() {
                 break;
             }
-            let plan = self.solve_level(&effort.budget(self.p), options.seed, iterations)?;
+            let budget = effort.budget(self.p);
+            let mut plan = self.solve_level(&budget, options.seed, iterations)?;
+            if sampled && level > 0 {
+                let from = match &best {
+                    Some(b) if b.cost < plan.cost => b.clone(),
+                    _ => plan.clone(),
+                };
+                if !self.halted() {
+                    let refined = self.refine(from, &budget, options.seed, iterations)?;
+                    if refined.cost < plan.cost {
+                        plan = refined;
+                    }
+                }
+                watch.advance(1);
+            }
             if best.as_ref().is_none_or(|b| plan.cost < b.cost) {
                 best = Some(plan);
             }
@@ -343,8 +376,8 @@ impl Problem<'_> {
     }
 
     /// One level: the global search, then the polish. Large inputs: the global search runs on
-    /// a seeded sample, the full data only refines its best plan (descent with jumps, then
-    /// the polish).
+    /// a seeded sample and the full data only settles its best plan (Cooper's alternation
+    /// until a round gains less than [`LARGE_SETTLE`] of the cost).
     fn solve_level(&self, budget: &Budget, seed: u64, iterations: &mut usize) -> Result<Solution> {
         let watch = &self.clock.watch;
         let sample = (self.points.len() > LARGE_INPUT).then(|| Sample::draw(self.points, self.weights, seed));
@@ -371,17 +404,37 @@ impl Problem<'_> {
             return Ok(Solution { sites: searched.sites, cost });
         }
         let mut workspace = cooper::Workspace::default();
-        let refined = if sample.is_some() {
-            let mut rng = SplitMix64::new(start_seed(seed, budget.starts));
-            let refined = self.descend(searched.sites, &mut rng, budget, &mut workspace, iterations)?;
+        let settled = if sample.is_some() {
+            let settled = self.cooper(searched.sites, SEARCH_TOL, SEARCH_SETTLE, &mut workspace, iterations)?;
             watch.advance(1);
-            refined
+            settled
         } else {
             searched
         };
-        let polished = self.cooper(refined.sites.clone(), FINAL_TOL, 0.0, &mut workspace, iterations)?;
+        let polished = self.polish(settled, &mut workspace, iterations)?;
         watch.advance(1);
-        Ok(if polished.cost <= refined.cost { polished } else { refined })
+        Ok(polished)
+    }
+
+    /// Large inputs, above the first level: a descent on every point (Cooper, then the best
+    /// jumps among `budget.candidates` drawn targets while they improve) from `from`, then
+    /// the polish. Never worse than `from`.
+    fn refine(&self, from: Solution, budget: &Budget, seed: u64, iterations: &mut usize) -> Result<Solution> {
+        let mut workspace = cooper::Workspace::default();
+        let mut rng = SplitMix64::new(start_seed(seed, budget.starts));
+        let descended = self.descend(from.sites.clone(), &mut rng, budget, &mut workspace, iterations)?;
+        let polished = self.polish(descended, &mut workspace, iterations)?;
+        Ok(if polished.cost < from.cost { polished } else { from })
+    }
+
+    /// Cooper's alternation at the final Weber tolerance from `plan`: until the allocation is
+    /// stable, or on large inputs until a round gains less than [`LARGE_SETTLE`] of the cost
+    /// (on a million points the last rounds move a handful of points each for gains far
+    /// below any data's precision). Never worse than `plan`.
+    fn polish(&self, plan: Solution, workspace: &mut cooper::Workspace, iterations: &mut usize) -> Result<Solution> {
+        let settle = if self.points.len() > LARGE_INPUT { LARGE_SETTLE } else { 0.0 };
+        let polished = self.cooper(plan.sites.clone(), FINAL_TOL, settle, workspace, iterations)?;
+        Ok(if polished.cost <= plan.cost { polished } else { plan })
     }
 }
 
