@@ -9,13 +9,17 @@ try:
     import geopandas as gpd
     import shapely
     from pyproj import CRS
+    from shapely.geometry.polygon import orient
 except ImportError:  # pragma: no cover - exercised only without the extra
     raise ImportError("placewise.gis needs geopandas and pyproj: pip install 'placewise[geo]'") from None
+
+import numpy as np
 
 import placewise as _pw
 
 from .._core import InputError
-from ._frames import MAX_SCALE_ERROR, Prepared, call, framed, groups_of, prepare
+from .._sphere import SPHERE_MODEL
+from ._frames import MAX_SCALE_ERROR, Prepared, call, framed, groups_of, prepare_or_sphere
 from .plans import nearest_site
 
 __all__ = ["voronoi_cells"]
@@ -58,6 +62,62 @@ def _region_geometry(region: Any, pf: Prepared) -> Any:
     return geom
 
 
+def _ellipsoid_area(geom: Any) -> float:
+    """WGS84 area of a lon/lat (Multi)Polygon whose edges are taken as geodesics between its
+    vertices: exteriors counter-clockwise minus holes, square metres."""
+    from ..geodesic import ring_area
+
+    total = 0.0
+    for part in getattr(geom, "geoms", [geom]):
+        if part.geom_type != "Polygon" or part.is_empty:
+            continue
+        part = orient(part, 1.0)
+        total += ring_area(np.asarray(part.exterior.coords)[:-1])
+        total -= sum(abs(ring_area(np.asarray(h.coords)[:-1])) for h in part.interiors)
+    return total
+
+
+def region_lonlat(region: Any, pf: Prepared) -> Any:
+    """The study region as one lon/lat shapely geometry, its edges densified first (in its
+    own CRS) so that reprojecting only its vertices does not cut it short."""
+    if isinstance(region, (gpd.GeoDataFrame, gpd.GeoSeries)):
+        series = region.geometry if isinstance(region, gpd.GeoDataFrame) else region
+        if len(series) == 0:
+            raise InputError("region has no rows")
+        if series.crs is None:
+            raise InputError("region: either both sites and region have a CRS or neither has")
+    elif isinstance(region, shapely.Geometry):
+        series = gpd.GeoSeries([region], crs=pf.crs)
+    else:
+        raise InputError(f"region must be a GeoDataFrame, GeoSeries or shapely geometry; got {type(region).__name__}")
+    series = _densified(series)
+    if CRS(series.crs).is_projected:
+        series = gpd.GeoSeries(shapely.segmentize(series.values, 1000.0), crs=series.crs)
+    geom = series.to_crs(4326).union_all()
+    if geom.is_empty or geom.area <= 0.0:
+        raise InputError("region has no area (it must be polygonal)")
+    return geom
+
+
+def _sphere_cells(pf: Prepared, region: Any) -> Any:
+    """Spherical Voronoi cells of the sites, clipped to the region (lon/lat)."""
+    cells = _pw.geodesic.voronoi_cells(pf.xy)
+    geoms = cells._geometry()
+    if region is None:
+        area = cells.area
+    else:
+        clip = region_lonlat(region, pf)
+        geoms = shapely.intersection(geoms, clip)
+        area = np.array([_ellipsoid_area(g) for g in geoms])
+    back = gpd.GeoSeries(geoms, crs=4326)
+    if not CRS(pf.crs).equals(CRS.from_epsg(4326)):
+        back = back.to_crs(pf.crs)
+    out = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=back.values, crs=pf.crs)
+    out["area_m2"] = area
+    out["work_crs"] = SPHERE_MODEL
+    return out
+
+
 def voronoi_cells(
     sites: Any, region: Any = None, *, by: str | None = None, demand: Any = None, weight: Any = None,
     planar: bool = False, centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
@@ -81,6 +141,14 @@ def voronoi_cells(
     weight : str or array_like, optional
         Demand weight column (or values); default 1 per demand row.
 
+    Geographic sites that no working frame holds within ``max_scale_error`` (global, polar,
+    wide across the antimeridian; without ``by`` and ``work_crs``) get spherical Voronoi
+    cells (:func:`placewise.geodesic.voronoi_cells`) instead of a refusal: cells in lon/lat
+    split at the antimeridian, clipped to the region in lon/lat after its edges are
+    densified (no region: the cells cover the globe), ``area_m2`` the WGS84 area of each
+    piece (geodesic edges through its vertices, so the cells' areas add up to the region's),
+    and ``work_crs`` stating the model. ``demand`` is then served on the ellipsoid.
+
     Returns
     -------
     GeoDataFrame
@@ -99,7 +167,14 @@ def voronoi_cells(
     [4.0, 4.0]
     """
     model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
-    pf = prepare(sites, "sites", planar=planar, centroids=centroids, **model)
+    pf = prepare_or_sphere(sites, "sites", planar=planar, centroids=centroids, by=by, **model)
+    if pf.ellipsoid:
+        out = _sphere_cells(pf, region)
+        if demand is not None:
+            served = nearest_site(demand, sites, weight, centroids=centroids, errors=errors)
+            out["load"] = served.sites["load"].to_numpy()
+            out["points"] = served.sites["points"].to_numpy()
+        return out
     geom = _region_geometry(region, pf)
     groups = groups_of(pf.frame, by, "sites")
     rows = {"sites": pf.rows}
