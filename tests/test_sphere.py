@@ -62,9 +62,13 @@ def test_cells_match_scipy_spherical_voronoi_and_pyproj_areas():
         theirs = sv.vertices[sv.regions[i]]
         mine = ours_xyz[cells.cell_vertices[cells.vertex_offsets[i]:cells.vertex_offsets[i + 1]]]
         assert len(mine) == len(theirs)
-        # Same vertices, same cyclic order (up to the starting one).
+        # Same vertices in the same cyclic order, up to the starting one and the direction
+        # (scipy sorts them the other way round).
         shift = int(np.argmin(np.linalg.norm(theirs - mine[0], axis=1)))
-        np.testing.assert_allclose(np.roll(theirs, -shift, axis=0), mine, atol=1e-9)
+        theirs = np.roll(theirs, -shift, axis=0)
+        if not np.allclose(theirs, mine, atol=1e-9):
+            theirs = np.roll(theirs[::-1], 1, axis=0)
+        np.testing.assert_allclose(theirs, mine, atol=1e-9)
     # Ellipsoidal areas: pyproj.Geod on every ring; they add up to the ellipsoid's area.
     for i in range(0, len(pts), 7):
         ring = cells.ring(i)
@@ -108,7 +112,7 @@ def test_spanning_tree_gap_to_the_ellipsoid_minimum_is_small():
     best = minimum_spanning_tree(matrix).sum()
     ours = pw.geodesic.spanning_tree(pts).length
     gap = ours / best - 1
-    assert 0 <= gap < 1e-3, gap
+    assert -1e-12 <= gap < 1e-3, gap
 
 
 def test_points_in_a_hemisphere_have_a_boundary():
@@ -146,7 +150,7 @@ def test_degenerate_input():
     mesh = pw.geodesic.delaunay(pts)
     assert mesh.representative[31] == 30 and mesh.representative[33] == 32
     assert mesh.summary()["merged"].iloc[0] == 2
-    with pytest.raises(DegenerateInputError, match="row 31"):
+    with pytest.raises(DegenerateInputError, match=r"sites\[31\] repeats sites\[30\]"):
         pw.geodesic.voronoi_cells(pts)
     tree = pw.geodesic.spanning_tree(pts)
     assert len(tree.end_a) == len(pts) - 1

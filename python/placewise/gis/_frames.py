@@ -230,6 +230,9 @@ def scale_error_over(work: Any, lonlat: np.ndarray, xy: np.ndarray) -> float:
     at a fixed sample of up to 20,000 points for any other projection.
     """
     n = len(xy)
+    if not np.isfinite(xy).all():
+        # Points the projection cannot reach (beyond a transverse Mercator's range).
+        return float("inf")
     hull = shapely.convex_hull(shapely.multipoints(xy))
     if hull.geom_type == "Polygon":
         corners = np.asarray(hull.exterior.coords)[:-1]

@@ -74,13 +74,24 @@ pub fn sphere_voronoi_cells(sites: &[Point], options: &SphereCellOptions) -> Res
     let across = &s.hull.across;
     let p = &s.vectors;
     // Adjacent co-planar faces share one vertex (a co-circular set of four or more sites).
+    // (Faces of a flat hull facing opposite ways share a plane but not a vertex: the side
+    // the centre lies on tells them apart; a face and its reverse share every corner.)
+    let corners = |f: usize| faces[f].map(|k| p[k as usize]);
+    let side = |f: usize| {
+        let [a, b, c] = corners(f);
+        orient(a, b, c, [0.0; 3]).signum()
+    };
     let mut same = UnionFind::new(faces.len());
     for (f, t) in faces.iter().enumerate() {
         for k in 0..3 {
             let g = across[f][k] as usize;
             if g > f {
-                let apex = faces[g].iter().find(|v| !t.contains(v)).expect("adjacent faces differ");
-                if orient(p[t[0] as usize], p[t[1] as usize], p[t[2] as usize], p[*apex as usize]) == 0.0 {
+                let [a, b, c] = corners(f);
+                let same_plane = faces[g]
+                    .iter()
+                    .find(|v| !t.contains(v))
+                    .is_some_and(|&apex| orient(a, b, c, p[apex as usize]) == 0.0 && side(f) == side(g));
+                if same_plane {
                     same.union(f, g);
                 }
             }

@@ -136,14 +136,14 @@ impl Sphere {
             hull.interior.iter().for_each(|&k| is_vertex[k as usize] = false);
             let kept: Vec<(Vec3, usize)> =
                 (0..vectors.len()).filter(|&k| is_vertex[k]).map(|k| (vectors[k], rows[k])).collect();
-            let tree = RTree::bulk_load(kept.iter().map(|&(v, r)| rstar::primitives::GeomWithData::new(v, r)).collect());
+            let tree =
+                RTree::bulk_load(kept.iter().map(|&(v, r)| rstar::primitives::GeomWithData::new(v, r)).collect());
             for &k in &hull.interior {
                 let nearest = tree.nearest_neighbor(vectors[k as usize]).expect("the hull has vertices");
                 representative[rows[k as usize]] = nearest.data;
             }
-            for i in 0..representative.len() {
-                representative[i] = representative[representative[i]];
-            }
+            let resolved: Vec<usize> = representative.iter().map(|&r| representative[r]).collect();
+            representative = resolved;
         }
         Ok(Sphere { rows, vectors, representative, hull })
     }
@@ -174,10 +174,10 @@ pub fn sphere_delaunay(points: &[Point]) -> Result<SphereTriangulation> {
     let faces = &s.hull.faces;
     let mut index = vec![None; faces.len()];
     let mut triangles = Vec::new();
-    for f in 0..faces.len() {
+    for (f, face) in faces.iter().enumerate() {
         if s.is_triangle(f) {
             index[f] = Some(triangles.len());
-            triangles.push(faces[f].map(|k| s.row(k)));
+            triangles.push(face.map(|k| s.row(k)));
         }
     }
     let mut adjacent = Vec::with_capacity(triangles.len());
@@ -256,8 +256,7 @@ pub fn sphere_spanning_tree(points: &[Point]) -> Result<SphereTree> {
         let d = hull::sub(vectors[e[0]], vectors[e[1]]);
         dot(d, d)
     };
-    let mut keyed: Vec<(u64, usize)> =
-        candidates.iter().enumerate().map(|(k, e)| (chord2(e).to_bits(), k)).collect();
+    let mut keyed: Vec<(u64, usize)> = candidates.iter().enumerate().map(|(k, e)| (chord2(e).to_bits(), k)).collect();
     keyed.par_sort_unstable();
     let mut sets = UnionFind::new(points.len());
     let mut edges = Vec::with_capacity(points.len().saturating_sub(1));
@@ -289,7 +288,8 @@ fn circle_candidates(vectors: &[Vec3]) -> Vec<[usize; 2]> {
         return (1..n).map(|b| [0, b]).collect();
     };
     let b = cross(normal, a);
-    let mut order: Vec<(f64, usize)> = vectors.iter().enumerate().map(|(i, &v)| (dot(v, b).atan2(dot(v, a)), i)).collect();
+    let mut order: Vec<(f64, usize)> =
+        vectors.iter().enumerate().map(|(i, &v)| (dot(v, b).atan2(dot(v, a)), i)).collect();
     order.sort_by(|x, y| x.0.total_cmp(&y.0).then(x.1.cmp(&y.1)));
     let mut out: Vec<[usize; 2]> = order.windows(2).map(|w| [w[0].1.min(w[1].1), w[0].1.max(w[1].1)]).collect();
     let (l, f) = (order[n - 1].1, order[0].1);

@@ -6,9 +6,7 @@ use crate::geometry::random::SplitMix64;
 /// `n` points uniform on the sphere (uniform longitude, uniform sine of latitude).
 fn global(n: usize, seed: u64) -> Vec<Point> {
     let mut rng = SplitMix64::new(seed);
-    (0..n)
-        .map(|_| [360.0 * rng.next_f64() - 180.0, (2.0 * rng.next_f64() - 1.0).asin().to_degrees()])
-        .collect()
+    (0..n).map(|_| [360.0 * rng.next_f64() - 180.0, (2.0 * rng.next_f64() - 1.0).asin().to_degrees()]).collect()
 }
 
 /// Brute force: no point lies strictly beyond the plane of a triangle (its circumcap is
