@@ -67,13 +67,22 @@ def _ellipsoid_area(geom: Any) -> float:
     vertices: exteriors counter-clockwise minus holes, square metres."""
     from ..geodesic import ring_area
 
+    # A ring's signed area is reduced to within half the ellipsoid's; a counter-clockwise
+    # ring with a negative area holds more than half of it. The ellipsoid's area is eight
+    # times an octant's (by symmetry).
+    globe = 8.0 * ring_area([[0.0, 0.0], [90.0, 0.0], [0.0, 90.0]])
+
+    def ccw(ring: Any) -> float:
+        area = ring_area(np.asarray(ring.coords)[:-1])
+        return area + globe if area < 0 else area
+
     total = 0.0
     for part in getattr(geom, "geoms", [geom]):
         if part.geom_type != "Polygon" or part.is_empty:
             continue
         part = orient(part, 1.0)
-        total += ring_area(np.asarray(part.exterior.coords)[:-1])
-        total -= sum(abs(ring_area(np.asarray(h.coords)[:-1])) for h in part.interiors)
+        total += ccw(part.exterior)
+        total -= sum(ccw(h.reverse()) for h in part.interiors)
     return total
 
 

@@ -85,6 +85,19 @@ pub(crate) struct Sphere {
     pub hull: Hull,
 }
 
+/// Largest distance of a unit vector from a plane through the centre for the points to
+/// count as lying on that great circle (a few hundred rounding errors of a unit vector).
+const GREAT_CIRCLE_TOLERANCE: f64 = 1e-13;
+
+/// The unit vector of a point, exact at the poles (where the longitude has no effect).
+fn sphere_vector(p: Point) -> Vec3 {
+    if p[1].abs() == 90.0 {
+        [0.0, 0.0, p[1].signum()]
+    } else {
+        unit_normal(p)
+    }
+}
+
 /// The point's location with the longitude reduced and the poles made one point each.
 fn location(p: Point) -> (u64, u64) {
     let lon = if p[1].abs() == 90.0 { 0.0 } else { normalised_longitude(p[0]) };
@@ -100,7 +113,7 @@ impl Sphere {
         let mut rows = Vec::with_capacity(points.len());
         let mut vectors = Vec::with_capacity(points.len());
         for (i, &p) in points.iter().enumerate() {
-            let v = unit_normal(p);
+            let v = sphere_vector(p);
             // The same place written differently (lon ± 360, any lon at a pole), or two
             // places whose unit vectors round to the same one: one vertex.
             let place = *by_place.entry(location(p)).or_insert(i);
@@ -114,6 +127,19 @@ impl Sphere {
         }
         if rows.len() < 3 {
             return Err(Error::TooFewPoints { argument, needed: 3, got: rows.len(), counted: "distinct points" });
+        }
+        // Points on one great circle (a meridian, the equator) are rarely exactly co-planar
+        // with the centre once rounded to unit vectors; within rounding they span no
+        // spherical triangle either.
+        if let Some(t) = hull::initial_triangle(&vectors) {
+            let [a, b, c] = t.map(|i| vectors[i as usize]);
+            let normal = hull::unit(cross(hull::sub(b, a), hull::sub(c, a)));
+            if vectors.iter().all(|&v| dot(normal, v).abs() < GREAT_CIRCLE_TOLERANCE) {
+                return Err(Error::Degenerate {
+                    argument,
+                    reason: "all points lie on one great circle, which no spherical triangle spans".into(),
+                });
+            }
         }
         let hull = match convex_hull(&vectors) {
             Span::Solid(h) => h,
@@ -240,12 +266,12 @@ pub fn sphere_spanning_tree(points: &[Point]) -> Result<SphereTree> {
         // Few or great-circle points: every pair is a candidate when few; on one great
         // circle the MST is a path along it, among the edges between neighbours in angle.
         Err(e) if e.is_degenerate() => {
-            let vectors: Vec<Vec3> = points.iter().map(|&p| unit_normal(p)).collect();
+            let vectors: Vec<Vec3> = points.iter().map(|&p| sphere_vector(p)).collect();
             (Some(vectors.clone()), circle_candidates(&vectors), (0..points.len()).collect())
         }
         Err(e) => return Err(e),
     };
-    let vectors = vectors.unwrap_or_else(|| points.iter().map(|&p| unit_normal(p)).collect());
+    let vectors = vectors.unwrap_or_else(|| points.iter().map(|&p| sphere_vector(p)).collect());
     let mut candidates = candidates;
     for (i, &r) in representative.iter().enumerate() {
         if r != i {
