@@ -72,6 +72,10 @@ pub use geodesic::{
     geodesic_nearest_site_grouped, geodesic_weber_point, geodesic_weber_points, CenterOptions as GeodesicCenterOptions,
     GeodesicCenter, GeodesicCircle, CONVEX_CAP_DEGREES, HEMISPHERE_DEGREES,
 };
+pub use geodesic::{
+    sphere_delaunay, sphere_spanning_tree, sphere_voronoi_cells, SphereCellOptions, SphereCells, SphereTree,
+    SphereTriangulation,
+};
 pub use geometry::{FeasibleRegion, Point, Weights};
 pub use median::{
     weber_point, weber_point_in_region, weber_points, weber_points_in_region, Metric, RegionWeberPoint, WeberOptions,

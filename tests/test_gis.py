@@ -808,7 +808,9 @@ def test_a_national_extent_is_refused_instead_of_distorted() -> None:
     rng = np.random.default_rng(8)
     frame = _lonlat_frame(rng.uniform(0, 20, 400), rng.uniform(45, 55, 400))
     with pytest.raises(pw.InputError, match=r"distorts distances by up to .* % .*by=.*work_crs="):
-        gis.spanning_tree(frame)  # a frame-model function (the single-site ones solve on the ellipsoid)
+        gis.steiner_tree(frame)  # a frame-model function (the single-site ones solve on the ellipsoid)
+    # The spanning tree answers such data on the sphere instead, and says so.
+    assert (gis.spanning_tree(frame).summary["work_crs"] == pw.geodesic.SPHERE_MODEL).all()
 
 
 def test_a_forced_working_crs_states_its_scale_error() -> None:

@@ -13,6 +13,10 @@ across the antimeridian, near and around the poles.
 - :func:`minimax_point`, :func:`enclosing_circle`: the weighted minimax point and the
   smallest geodesic circle (the planar kernel in a frame recentred at each iterate).
 - :func:`nearest_site`: every point's geodesically nearest site.
+- :func:`delaunay`, :func:`voronoi_cells`, :func:`spanning_tree`: the spherical Delaunay
+  triangulation, Voronoi cells covering the globe and great-circle minimum spanning tree,
+  from the 3-D convex hull of the points' unit vectors, with WGS84 geodesic lengths and
+  areas (the model is stated in each result's ``model``).
 
 Results follow the table contract of the planar functions, with ``unit="m"``; the columns
 ``x`` and ``y`` hold longitude and latitude. Results are planning aids under the stated model
@@ -38,6 +42,16 @@ from numpy.typing import ArrayLike
 
 from . import _core
 from ._results import Grouped, Result, as_points
+from ._sphere import (
+    SPHERE_MODEL,
+    SphereCells,
+    SphereMesh,
+    SphereTree,
+    delaunay,
+    lonlat_polygon,
+    spanning_tree,
+    voronoi_cells,
+)
 from .enclose import _GroupedWithSupport, _one, _xy
 from .median import WeberPoint, WeberPoints
 from .partition import Allocation, Allocations
@@ -48,13 +62,21 @@ __all__ = [
     "GeodesicCenters",
     "GeodesicCircle",
     "GeodesicCircles",
+    "SPHERE_MODEL",
+    "SphereCells",
+    "SphereMesh",
+    "SphereTree",
     "circle_polygon",
+    "delaunay",
     "distance",
     "enclosing_circle",
+    "lonlat_polygon",
     "minimax_point",
     "nearest_site",
     "path_length",
     "ring_area",
+    "spanning_tree",
+    "voronoi_cells",
     "weber_point",
 ]
 

@@ -103,6 +103,20 @@ impl Earth {
         let (_perimeter, area, _count) = polygon.compute(true);
         area
     }
+
+    /// Area of the geodesic polygon `ring` taken as counter-clockwise, whatever its size
+    /// (GeographicLib's unsigned area, in [0, area of the ellipsoid)): for polygons known
+    /// to run counter-clockwise, which may hold more than half the Earth.
+    pub(crate) fn ccw_ring_area(&self, ring: &[Point]) -> f64 {
+        let mut polygon = PolygonArea::new(&self.g, Winding::CounterClockwise);
+        for p in ring {
+            polygon.add_point(p[1], p[0]);
+        }
+        if ring.len() < 3 {
+            return 0.0;
+        }
+        polygon.compute(false).1
+    }
 }
 
 /// A longitude reduced to [-180, 180].

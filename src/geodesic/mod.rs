@@ -9,12 +9,16 @@
 //!   and the smallest geodesic circle, the planar kernel in a frame recentred at each iterate
 //!   (see `minimax`).
 //! - [`geodesic_nearest_site`]: the geodesically nearest site of every point (see `nearest`).
+//! - [`sphere_delaunay`], [`sphere_voronoi_cells`], [`sphere_spanning_tree`]: the spherical
+//!   Delaunay triangulation, Voronoi cells and minimum spanning tree of points of any
+//!   extent, from the 3-D convex hull of their unit vectors (see `sphere`).
 //!
 //! Points are `[longitude, latitude]` in degrees; lengths are metres, areas square metres.
 
 mod earth;
 mod minimax;
 mod nearest;
+mod sphere;
 mod weber;
 
 use crate::batch::{run_grouped, Grouped, OnGroupError};
@@ -25,6 +29,10 @@ use crate::partition::{grouped_by_kernel, Allocation, SiteAllocations};
 
 use earth::{validate_lonlat, Earth};
 pub use minimax::{CenterOptions, GeodesicCenter};
+pub use sphere::{
+    sphere_delaunay, sphere_spanning_tree, sphere_voronoi_cells, SphereCellOptions, SphereCells, SphereTree,
+    SphereTriangulation,
+};
 pub use weber::{CONVEX_CAP_DEGREES, HEMISPHERE_DEGREES};
 
 /// Vertices of the polygons whose areas give a geodesic circle's area (with Richardson

@@ -19,6 +19,7 @@ mod multi;
 mod network;
 mod partition;
 mod runtime;
+mod sphere;
 mod travel;
 
 pub(crate) use convert::{labels_arg, points_arg, weights_arg};
@@ -39,6 +40,7 @@ fn core_module(m: &Bound<'_, PyModule>) -> PyResult<()> {
     geodesic::register(m)?;
     capacity::register(m)?;
     travel::register(m)?;
+    sphere::register(m)?;
     m.add("__version__", env!("CARGO_PKG_VERSION"))?;
     Ok(())
 }

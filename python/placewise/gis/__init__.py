@@ -17,7 +17,9 @@ GeoDataFrames in the input's CRS. Coordinates are handled as follows:
   columns; beyond ``max_scale_error`` (default 0.1 %) the call is refused with an
   ``InputError`` saying how to proceed (split with ``by=``, or choose ``work_crs=``), never
   answered with silently distorted metres. Geographic regions are densified along their
-  edges before projection;
+  edges before projection. Ungrouped data too wide for any frame (global, polar, wide
+  across the antimeridian) is answered on the sphere by :func:`voronoi_cells` and
+  :func:`spanning_tree` (:mod:`placewise.geodesic`), with ``work_crs`` stating that model;
 * **candidates, existing sites and regions** come as frames of their own, in any CRS, and
   are brought into the points' working CRS; for geographic input that frame is chosen over
   all of them together, so its ``scale_error`` covers every location the model uses. A

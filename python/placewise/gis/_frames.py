@@ -49,6 +49,11 @@ def unit_of(crs: Any) -> str:
 
 # The model of geographic input solved on the ellipsoid (the ``work_crs`` column's value).
 ELLIPSOID = "WGS84 ellipsoid"
+
+
+class TooWide(InputError):
+    """Geographic data that no working frame holds within ``max_scale_error`` (the functions
+    with a spherical form answer on the sphere instead of refusing)."""
 _WGS84 = CRS.from_epsg(4326)
 
 # Default bound on the relative scale error a working projection may introduce over the
@@ -225,6 +230,9 @@ def scale_error_over(work: Any, lonlat: np.ndarray, xy: np.ndarray) -> float:
     at a fixed sample of up to 20,000 points for any other projection.
     """
     n = len(xy)
+    if not np.isfinite(xy).all():
+        # Points the projection cannot reach (beyond a transverse Mercator's range).
+        return float("inf")
     hull = shapely.convex_hull(shapely.multipoints(xy))
     if hull.geom_type == "Polygon":
         corners = np.asarray(hull.exterior.coords)[:-1]
@@ -407,13 +415,28 @@ def prepare(
             work, xy, error = centred, centred_xy, centred_error
     if error > max_scale_error and work_crs is None:
         extent = float(np.ptp(xy, axis=0).max()) / 1000
-        raise InputError(
+        raise TooWide(
             f"{name}: the data span {extent:,.0f} km, and the working frame {CRS(work).name!r} distorts "
             f"distances by up to {100 * error:.3g} % over them (more than the {100 * max_scale_error:.3g} % "
             "allowed); split the data into smaller groups (by=), pass work_crs= with a projection suited to "
             "the whole area, or raise max_scale_error="
         )
     return Prepared(frame, xy, frame.crs, work, error, groups)
+
+
+def prepare_or_sphere(obj: Any, name: str, *, planar: bool, centroids: bool, work_crs: Any,
+                      max_scale_error: float, by: str | None = None) -> Prepared:
+    """:func:`prepare`, or — for geographic input no working frame holds within
+    ``max_scale_error`` (global, polar, wide across the antimeridian), ungrouped and without a
+    chosen ``work_crs`` — the points as WGS84 lon/lat for the spherical kernels
+    (``Prepared.ellipsoid``)."""
+    try:
+        return prepare(obj, name, planar=planar, centroids=centroids, work_crs=work_crs,
+                       max_scale_error=max_scale_error, by=by)
+    except TooWide:
+        if by is not None:
+            raise
+        return prepare(obj, name, planar=planar, centroids=centroids, work=ELLIPSOID)
 
 
 def _on_ellipsoid(frame: Any, name: str, centroids: bool, groups: Groups | None) -> Prepared:

@@ -60,6 +60,18 @@ def region_geometry(region: Any, pf: Prepared, points: str = "sites") -> Any:
     return geom
 
 
+def region_lonlat(region: Any, pf: Prepared, points: str = "sites") -> Any:
+    """The region as one lon/lat shapely geometry (its rows' union), its edges densified
+    first in its own CRS so that reprojecting only its vertices does not cut it short."""
+    series = _densified(_region_series(region, pf.crs, points))
+    if CRS(series.crs).is_projected:
+        series = gpd.GeoSeries(shapely.segmentize(series.values, 1000.0), crs=series.crs)
+    geom = series.to_crs(4326).union_all()
+    if geom.is_empty or geom.area <= 0.0:
+        raise InputError("region has no area (it must be polygonal)")
+    return geom
+
+
 def prepare_together(
     obj: Any, name: str, companions: Mapping[str, Any], *, planar: bool, centroids: bool,
     region: Any = None, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR, by: str | None = None,

@@ -9,17 +9,65 @@ import numpy as np
 
 try:
     import geopandas as gpd
+    import shapely
+    from pyproj import CRS
+    from shapely.geometry.polygon import orient
 except ImportError:  # pragma: no cover - exercised only without the extra
     raise ImportError("placewise.gis needs geopandas and pyproj: pip install 'placewise[geo]'") from None
+
 
 import placewise as _pw
 
 from .._core import InputError
-from ._frames import MAX_SCALE_ERROR, call, framed, groups_of, prepare
-from ._together import region_geometry
+from .._sphere import SPHERE_MODEL
+from ._frames import MAX_SCALE_ERROR, Prepared, call, framed, groups_of, prepare, prepare_or_sphere
+from ._together import region_geometry, region_lonlat
 from .plans import nearest_site
 
 __all__ = ["power_cells", "voronoi_cells"]
+
+
+def _ellipsoid_area(geom: Any) -> float:
+    """WGS84 area of a lon/lat (Multi)Polygon whose edges are taken as geodesics between its
+    vertices: exteriors counter-clockwise minus holes, square metres."""
+    from ..geodesic import ring_area
+
+    # A ring's signed area is reduced to within half the ellipsoid's; a counter-clockwise
+    # ring with a negative area holds more than half of it. The ellipsoid's area is eight
+    # times an octant's (by symmetry).
+    globe = 8.0 * ring_area([[0.0, 0.0], [90.0, 0.0], [0.0, 90.0]])
+
+    def ccw(ring: Any) -> float:
+        area = ring_area(np.asarray(ring.coords)[:-1])
+        return area + globe if area < 0 else area
+
+    total = 0.0
+    for part in getattr(geom, "geoms", [geom]):
+        if part.geom_type != "Polygon" or part.is_empty:
+            continue
+        part = orient(part, 1.0)
+        total += ccw(part.exterior)
+        total -= sum(ccw(h.reverse()) for h in part.interiors)
+    return total
+
+
+def _sphere_cells(pf: Prepared, region: Any) -> Any:
+    """Spherical Voronoi cells of the sites, clipped to the region (lon/lat)."""
+    cells = _pw.geodesic.voronoi_cells(pf.xy)
+    geoms = cells._geometry()
+    if region is None:
+        area = cells.area
+    else:
+        clip = region_lonlat(region, pf)
+        geoms = shapely.intersection(geoms, clip)
+        area = np.array([_ellipsoid_area(g) for g in geoms])
+    back = gpd.GeoSeries(geoms, crs=4326)
+    if not CRS(pf.crs).equals(CRS.from_epsg(4326)):
+        back = back.to_crs(pf.crs)
+    out = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=back.values, crs=pf.crs)
+    out["area_m2"] = area
+    out["work_crs"] = SPHERE_MODEL
+    return out
 
 
 def voronoi_cells(
@@ -45,6 +93,14 @@ def voronoi_cells(
     weight : str or array_like, optional
         Demand weight column (or values); default 1 per demand row.
 
+    Geographic sites that no working frame holds within ``max_scale_error`` (global, polar,
+    wide across the antimeridian; without ``by`` and ``work_crs``) get spherical Voronoi
+    cells (:func:`placewise.geodesic.voronoi_cells`) instead of a refusal: cells in lon/lat
+    split at the antimeridian, clipped to the region in lon/lat after its edges are
+    densified (no region: the cells cover the globe), ``area_m2`` the WGS84 area of each
+    piece (geodesic edges through its vertices, so the cells' areas add up to the region's),
+    and ``work_crs`` stating the model. ``demand`` is then served on the ellipsoid.
+
     Returns
     -------
     GeoDataFrame
@@ -63,7 +119,14 @@ def voronoi_cells(
     [4.0, 4.0]
     """
     model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
-    pf = prepare(sites, "sites", planar=planar, centroids=centroids, **model)
+    pf = prepare_or_sphere(sites, "sites", planar=planar, centroids=centroids, by=by, **model)
+    if pf.ellipsoid:
+        out = _sphere_cells(pf, region)
+        if demand is not None:
+            served = nearest_site(demand, sites, weight, centroids=centroids, errors=errors)
+            out["load"] = served.sites["load"].to_numpy()
+            out["points"] = served.sites["points"].to_numpy()
+        return out
     geom = region_geometry(region, pf)
     groups = groups_of(pf.frame, by, "sites")
     rows = {"sites": pf.rows}

@@ -6,7 +6,8 @@ from typing import Any, Literal, NamedTuple
 
 import placewise as _pw
 
-from ._frames import MAX_SCALE_ERROR, call, framed, in_user_terms, prepare, with_unit
+from .._sphere import SPHERE_MODEL
+from ._frames import MAX_SCALE_ERROR, call, framed, in_user_terms, prepare, prepare_or_sphere, with_unit
 
 __all__ = ["Network", "spanning_tree", "steiner_tree"]
 
@@ -31,8 +32,13 @@ class Network(NamedTuple):
 
 
 def _network(kernel: Any, frame: Any, by: str | None, planar: bool, centroids: bool, errors: str,
-             options: dict[str, Any], model: dict[str, Any]) -> Network:
-    pf = prepare(frame, "frame", planar=planar, centroids=centroids, by=by, **model)
+             options: dict[str, Any], model: dict[str, Any], sphere: Any = None) -> Network:
+    if sphere is not None:
+        pf = prepare_or_sphere(frame, "frame", planar=planar, centroids=centroids, by=by, **model)
+        if pf.ellipsoid:
+            kernel = sphere
+    else:
+        pf = prepare(frame, "frame", planar=planar, centroids=centroids, by=by, **model)
     groups = pf.groups
     rows = {"points": pf.rows}
     grouped = {} if groups is None else {"errors": errors}
@@ -42,6 +48,9 @@ def _network(kernel: Any, frame: Any, by: str | None, planar: bool, centroids: b
     if groups is None:
         summary.insert(0, "points", len(pf.xy))
     summary = in_user_terms(summary, result, groups, rows, count=True, prepared=pf)
+    if pf.ellipsoid:
+        edges["work_crs"] = SPHERE_MODEL
+        summary["work_crs"] = SPHERE_MODEL
     return Network(edges, summary)
 
 
@@ -51,6 +60,12 @@ def spanning_tree(
     errors: Literal["raise", "skip"] = "raise",
 ) -> Network:
     """The Euclidean minimum spanning tree linking a frame's points (one per group with ``by``).
+
+    Geographic points that no working frame holds within ``max_scale_error`` (global,
+    polar, wide across the antimeridian; without ``by`` and ``work_crs``) get the
+    great-circle minimum spanning tree on the sphere (:func:`placewise.geodesic.spanning_tree`)
+    instead of a refusal: WGS84 geodesic ``length_m``, edges drawn along great circles and
+    split at the antimeridian, ``work_crs`` stating the model.
 
     Returns
     -------
@@ -67,7 +82,7 @@ def spanning_tree(
     3.0
     """
     return _network(_pw.spanning_tree, frame, by, planar, centroids, errors, {},
-                    {"work_crs": work_crs, "max_scale_error": max_scale_error})
+                    {"work_crs": work_crs, "max_scale_error": max_scale_error}, sphere=_pw.geodesic.spanning_tree)
 
 
 def steiner_tree(
