@@ -349,12 +349,6 @@ def voronoi_cells(sites: ArrayLike, *, max_edge_degrees: float = 1.0) -> SphereC
     510.066
     """
     pts = as_points(sites)
-    u = _unit(pts)
-    if len(u) < 4 or np.linalg.svd(np.column_stack([u, np.ones(len(u))]), compute_uv=False)[-1] < 1e-12:
-        # Known gap: the cells of sites on one circle (the doubly covered polygon's links)
-        # are not built correctly yet; refuse rather than answer wrongly.
-        raise _core.DegenerateInputError("sites: all sites lie on one circle (or fewer than four); "
-                                         "spherical Voronoi cells need four sites not on one circle")
     f = _core.sphere_voronoi_single(pts, max_edge_degrees)
     return SphereCells(f["vertices"], f["vertex_offsets"], f["cell_vertices"], f["ring_offsets"], f["rings"],
                        f["area"], f["solid_angle"], SPHERE_MODEL, pts.copy(), unit="m")

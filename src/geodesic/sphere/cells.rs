@@ -3,7 +3,7 @@
 
 use rayon::prelude::*;
 
-use super::hull::{cross, dot, norm2, orient, sub, unit, Vec3};
+use super::hull::{cross, dot, norm2, orient, sub, unit, Vec3, NONE};
 use super::Sphere;
 use crate::error::{Error, Result};
 use crate::geodesic::earth::{from_normal, Earth};
@@ -122,12 +122,14 @@ pub fn sphere_voronoi_cells(sites: &[Point], options: &SphereCellOptions) -> Res
     // Per site: (vertex, neighbour across the edge leaving it) round the cell.
     let cells: Vec<Vec<(usize, usize)>> = (0..n)
         .into_par_iter()
-        .map(|row| {
+        .map(|row| -> Result<Vec<(usize, usize)>> {
             let v = distinct_of[row] as u32;
             let (start, _) = at[v as usize];
             let mut out: Vec<(usize, usize)> = Vec::new();
             let mut f = start;
+            let mut steps = 0usize;
             loop {
+                steps += 1;
                 let t = faces[f as usize];
                 let k = t.iter().position(|&x| x == v).expect("the face holds the vertex");
                 let b = t[(k + 2) % 3];
@@ -140,14 +142,22 @@ pub fn sphere_voronoi_cells(sites: &[Point], options: &SphereCellOptions) -> Res
                 if f == start {
                     break;
                 }
+                // Invariant of a closed surface: the faces round a vertex form one cycle
+                // through `start`. A walk longer than all the faces breaks it.
+                if f == NONE || steps > faces.len() {
+                    return Err(Error::Degenerate {
+                        argument: "sites",
+                        reason: format!("the triangulation round site {row} is not closed (rounding in a near-degenerate configuration)"),
+                    });
+                }
             }
             if out.len() > 1 && out[0].0 == out[out.len() - 1].0 {
                 let last = out.pop().expect("non-empty");
                 out[0].0 = last.0;
             }
-            out
+            Ok(out)
         })
-        .collect();
+        .collect::<Result<_>>()?;
     let step = step.to_radians();
     let earth = Earth::wgs84();
     let rings: Vec<(Vec<Vec3>, f64)> = cells

@@ -23,7 +23,7 @@ use crate::geometry::random::SplitMix64;
 /// A vector in Earth-centred axes.
 pub(crate) type Vec3 = [f64; 3];
 
-const NONE: u32 = u32::MAX;
+pub(crate) const NONE: u32 = u32::MAX;
 
 #[inline]
 fn c3(p: Vec3) -> Coord3D<f64> {
@@ -145,6 +145,33 @@ pub(crate) fn link(faces: &[[u32; 3]]) -> Vec<[u32; 3]> {
         for k in 0..3 {
             if let Some(&(g, _)) = edge_face.get(&(t[(k + 2) % 3], t[(k + 1) % 3])) {
                 across[f][k] = g;
+            }
+        }
+    }
+    across
+}
+
+/// The neighbours across every edge of a doubly covered polygon: faces `..front` face one
+/// way, the rest are the same triangles reversed. A directed edge's reverse lies in up to
+/// two faces — the neighbour on the same side (across a diagonal of the fan) and the face's
+/// own reverse on the other side — and the neighbour on the same side is taken when there
+/// is one, so the other side is reached only across the polygon's boundary. Then the faces
+/// round every vertex form one cycle, as on a closed solid (`link` alone may pick the
+/// reverse face across a diagonal, and a walk round a vertex never returns).
+pub(crate) fn link_doubled(faces: &[[u32; 3]], front: usize) -> Vec<[u32; 3]> {
+    let mut edge_faces: HashMap<(u32, u32), [u32; 2]> = HashMap::with_capacity(faces.len() * 3);
+    for (f, t) in faces.iter().enumerate() {
+        for k in 0..3 {
+            let slot = edge_faces.entry((t[(k + 1) % 3], t[(k + 2) % 3])).or_insert([NONE; 2]);
+            slot[usize::from(f >= front)] = f as u32;
+        }
+    }
+    let mut across = vec![[NONE; 3]; faces.len()];
+    for (f, t) in faces.iter().enumerate() {
+        let side = usize::from(f >= front);
+        for k in 0..3 {
+            if let Some(pair) = edge_faces.get(&(t[(k + 2) % 3], t[(k + 1) % 3])) {
+                across[f][k] = if pair[side] != NONE { pair[side] } else { pair[1 - side] };
             }
         }
     }
@@ -398,8 +425,9 @@ pub(crate) fn flat_faces(points: &[Vec3], t: [u32; 3]) -> Hull {
         faces.iter_mut().for_each(|f| f.swap(1, 2));
     }
     let back: Vec<[u32; 3]> = faces.iter().map(|&[x, y, z]| [x, z, y]).collect();
+    let front = faces.len();
     faces.extend(back);
-    let across = link(&faces);
+    let across = link_doubled(&faces, front);
     let mut is_vertex = vec![false; points.len()];
     ring.iter().for_each(|&i| is_vertex[i] = true);
     let interior = (0..points.len() as u32).filter(|&i| !is_vertex[i as usize]).collect();

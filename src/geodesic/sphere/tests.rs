@@ -87,6 +87,15 @@ fn co_circular_points_on_a_latitude_circle() {
     for s in &cells.solid_angle {
         assert!((s - 4.0 * std::f64::consts::PI / 12.0).abs() < 1e-9, "{s}");
     }
+    // Three sites always lie on one circle: two Voronoi vertices (the circle's poles), and
+    // each cell is the lune between its bisectors with the other two; the lunes tile the
+    // sphere.
+    let three = [[0.0, 10.0], [50.0, -5.0], [120.0, 30.0]];
+    let cells = sphere_voronoi_cells(&three, &SphereCellOptions::default()).unwrap();
+    assert_eq!(cells.vertices.len(), 2);
+    let solid: f64 = cells.solid_angle.iter().sum();
+    assert!((solid - 4.0 * std::f64::consts::PI).abs() < 1e-9, "{solid}");
+    assert!(cells.solid_angle.iter().all(|&s| s > 0.0));
     // With the pole: the parallel's plane is a hull face shared by co-planar triangles.
     let mut with_pole = points.clone();
     with_pole.push([0.0, 90.0]);
