@@ -83,9 +83,9 @@ pub fn sphere_voronoi_cells(sites: &[Point], options: &SphereCellOptions) -> Res
     };
     let mut same = UnionFind::new(faces.len());
     for (f, t) in faces.iter().enumerate() {
-        for k in 0..3 {
-            let g = across[f][k] as usize;
-            if g > f {
+        for &g in &across[f] {
+            let g = g as usize;
+            if g != NONE as usize && g > f {
                 let [a, b, c] = corners(f);
                 let same_plane = faces[g]
                     .iter()

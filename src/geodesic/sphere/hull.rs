@@ -182,7 +182,7 @@ pub(crate) fn link_doubled(faces: &[[u32; 3]], front: usize) -> Vec<[u32; 3]> {
 /// doubling size (a point goes to the last round with probability 1/2, ...), each round
 /// sorted along a 3-D Morton curve. A fixed seed keeps the output deterministic.
 fn insertion_order(points: &[Vec3], seed: &[u32; 4]) -> Vec<u32> {
-    let mut rng = SplitMix64::new(0x5eed_0f_5fe7e);
+    let mut rng = SplitMix64::new(0x05ee_d0f5_fe7e);
     let mut keyed: Vec<(u32, u32, u32)> = Vec::with_capacity(points.len());
     let rounds = (usize::BITS - points.len().leading_zeros()).max(1);
     for (i, &p) in points.iter().enumerate() {
