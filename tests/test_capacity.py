@@ -320,5 +320,6 @@ def test_gis_p_median_with_capacities():
     assert set(plan.demand["site"]) <= set(plan.sites.index)
     anywhere = gis.p_median(homes, 2, capacities=[25, 25])
     assert anywhere.sites["load"].tolist() == pytest.approx([25, 25])
-    with pytest.raises(pw.InputError, match="candidates"):
-        gis.p_median(homes, 2, candidates=lots)
+    # Without capacities, candidates give the discrete (uncapacitated) p-median: two lots.
+    plain = gis.p_median(homes, 2, candidates=lots)
+    assert set(plain.sites["source_row"]) <= set(lots.index) and len(plain.sites) == 2

@@ -34,6 +34,9 @@ CALLS = {
     "p_center": [lambda f: f(PTS, 3, W), lambda f: f(PTS, 3, W, groups=LABELS)],
     "capacity_allocation": [lambda f: f(PTS, PTS[:4], [20.0, 20.0, 20.0, 20.0], W)],
     "capacitated_p_median": [lambda f: f(PTS, 3, [30.0, 30.0, 30.0], W)],
+    "power_cells": [lambda f: f(PTS[:12], RNG.uniform(0, 0.1, 12)),
+                    lambda f: f(PTS[:12], RNG.uniform(0, 0.1, 12), groups=LABELS[14:26])],
+    "capacity_cells": [lambda f: f(PTS, PTS[:4], [20.0, 20.0, 20.0, 20.0], W)],
 }
 CASES = [(name, k) for name, calls in CALLS.items() for k in range(len(calls))]
 

@@ -239,8 +239,8 @@ def delaunay(points: ArrayLike) -> SphereMesh:
     >>> pw.geodesic.delaunay([[0, 0], [10, 0], [0, 10]]).corners.tolist()   # three points
     [[0, 1, 2]]
     """
-    pts = as_points(points)
-    f = _core.sphere_delaunay_single(pts)
+    f = _core.sphere_delaunay_single(points)
+    pts = as_points(points)  # after the kernel validated them
     return SphereMesh(f["corners"], f["across"], f["edges"], f["boundary"], f["representative"], f["area"],
                       int(f["outward_faces"]), SPHERE_MODEL, pts.copy(), unit="m")
 
@@ -348,8 +348,8 @@ def voronoi_cells(sites: ArrayLike, *, max_edge_degrees: float = 1.0) -> SphereC
     >>> round(float(cells.area.sum()) / 1e12, 3)                         # the ellipsoid's area
     510.066
     """
-    pts = as_points(sites)
-    f = _core.sphere_voronoi_single(pts, max_edge_degrees)
+    f = _core.sphere_voronoi_single(sites, max_edge_degrees)
+    pts = as_points(sites)  # after the kernel validated them
     return SphereCells(f["vertices"], f["vertex_offsets"], f["cell_vertices"], f["ring_offsets"], f["rings"],
                        f["area"], f["solid_angle"], SPHERE_MODEL, pts.copy(), unit="m")
 
@@ -393,6 +393,6 @@ def spanning_tree(points: ArrayLike) -> SphereTree:
     >>> round(float(tree.edge_length[0]) / 1000, 3)
     111.319
     """
-    pts = as_points(points)
-    f = _core.sphere_spanning_single(pts)
+    f = _core.sphere_spanning_single(points)
+    pts = as_points(points)  # after the kernel validated them
     return SphereTree(f["end_a"], f["end_b"], f["length"], float(f["total"]), pts.copy(), SPHERE_MODEL, unit="m")

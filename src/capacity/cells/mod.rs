@@ -433,7 +433,8 @@ mod tests {
         for (seed, surplus) in [(1, 1.0), (2, 1.0), (3, 1.3)] {
             let points = lcg_cloud(3000, seed, [0.0, 0.0], 10.0);
             let sites = lcg_cloud(9, seed + 10, [0.0, 0.0], 10.0);
-            let caps: Vec<f64> = (0..9).map(|j| (200.0 + 30.0 * j as f64) * surplus * 3000.0 / 3540.0).collect();
+            // Σ_{j<9} (200 + 30 j) = 2880: the capacities scaled to the 3000 points (times the surplus).
+            let caps: Vec<f64> = (0..9).map(|j| (200.0 + 30.0 * j as f64) * surplus * 3000.0 / 2880.0).collect();
             let c = capacity_cells(&points, &sites, &caps, Weights::Unit, &CellsOptions::default()).unwrap();
             let reference = transport(&vec![1.0; 3000], &caps, &|i, j| distance_squared(points[i], sites[j])).unwrap();
             let best: f64 = reference

@@ -176,6 +176,12 @@ pub fn sphere_voronoi_cells(sites: &[Point], options: &SphereCellOptions) -> Res
             (ring, solid)
         })
         .collect();
+    // Sites a hair apart (distinct coordinates, unit vectors equal after rounding) leave a
+    // cell without area: refused as repeats rather than answered with NaN.
+    if let Some(row) = rings.iter().position(|r| !r.1.is_finite()) {
+        let first = (0..n).find(|&k| k != row && p[distinct_of[k]] == p[distinct_of[row]]).unwrap_or(row);
+        return Err(Error::RepeatedPoint { argument: "sites", row: row.max(first), first: row.min(first) });
+    }
     let vertices: Vec<Point> = vectors.iter().map(|&x| from_normal(x)).collect();
     let mut vertex_offsets = vec![0];
     let mut cell_vertices = Vec::new();
