@@ -301,8 +301,11 @@ fn weiszfeld_step(pass: &Pass) -> Point {
     [(1.0 - keep) * t[0], (1.0 - keep) * t[1]]
 }
 
-/// Kuhn's test, estimated near data point k: the resultant of the others at aₖ is about the
-/// gradient without k's own term (`−wₖ uₖ`).
+/// Kuhn's test, estimated near data point k: the resultant of the others at aₖ, to first
+/// order the gradient without k's own term (`−wₖ uₖ`) moved to aₖ by the Hessian,
+/// `g + wₖuₖ + dₖ H uₖ` (k's own Hessian term is across `uₖ` and drops out). Without the
+/// Hessian term the estimate is about `wₖ` whenever the gradient is small, and a dense cloud
+/// would spend an exact pass on its nearest point at every optimum.
 fn data_point_looks_optimal(problem: &Problem<'_>, pass: &Pass) -> bool {
     let k = pass.nearest;
     if k == usize::MAX {
@@ -310,8 +313,10 @@ fn data_point_looks_optimal(problem: &Problem<'_>, pass: &Pass) -> bool {
     }
     let wk = problem.weights.get(k);
     let g = pass.gradient();
-    let others = [g[0] + wk * pass.nearest_dir[0], g[1] + wk * pass.nearest_dir[1]];
-    others[0].hypot(others[1]) <= 1.01 * wk || pass.nearest_dist <= 1e-9 * pass.max_dist
+    let [hxx, hxy, hyy] = pass.hess;
+    let (u, d) = (pass.nearest_dir, pass.nearest_dist);
+    let others = [g[0] + wk * u[0] + d * (hxx * u[0] + hxy * u[1]), g[1] + wk * u[1] + d * (hxy * u[0] + hyy * u[1])];
+    others[0].hypot(others[1]) <= 1.01 * wk || d <= 1e-9 * pass.max_dist
 }
 
 /// Solve. Inputs validated (longitude/latitude, weights); at least one weight positive.
