@@ -193,7 +193,7 @@ impl ConformalSphere {
     /// Unit vector of the image of `p` on the sphere (one-to-one for longitudes within
     /// `180°/n` of `λ₀`, `n − 1` being about 0.3 %: points beyond are not needed, as the
     /// sphere serves points within a hemisphere of the centre).
-    pub(crate) fn to_sphere(&self, p: Point) -> [f64; 3] {
+    pub(crate) fn image(&self, p: Point) -> [f64; 3] {
         let psi = self.n * isometric_latitude(p[1].to_radians().sin()) + self.kappa;
         // sin χ = tanh ψ', cos χ = sech ψ' (exact at the poles, where ψ' is infinite).
         let (sin_chi, cos_chi) = (psi.tanh(), 1.0 / psi.cosh());
@@ -203,7 +203,7 @@ impl ConformalSphere {
 
     /// The point of the ellipsoid whose image is along the unit vector `v` (the isometric
     /// latitude inverted by Newton's method; a handful of steps reach the rounding level).
-    pub(crate) fn from_sphere(&self, v: [f64; 3]) -> Point {
+    pub(crate) fn preimage(&self, v: [f64; 3]) -> Point {
         let chi = v[2].atan2(v[0].hypot(v[1]));
         let lon = normalised_longitude(self.lon0 + v[1].atan2(v[0]).to_degrees() / self.n);
         if chi.abs() >= std::f64::consts::FRAC_PI_2 * (1.0 - 1e-15) {
@@ -284,16 +284,16 @@ mod tests {
         let centre = [10.0, 51.0];
         let sphere = ConformalSphere::at(centre);
         for p in [[10.0, 51.0], [14.0, 54.0], [3.0, 47.0], [10.0, 90.0], [-150.0, -89.5]] {
-            let back = sphere.from_sphere(sphere.to_sphere(p));
+            let back = sphere.preimage(sphere.image(p));
             assert!(earth.distance(back, p) < 1e-6, "{p:?} {back:?}");
         }
         // Near the centre, great-circle angles on the sphere are proportional to geodesic
         // distances (pyproj.Geod gives the same geodesics; here GeographicLib itself): the
         // ratio varies by a few parts in a million over ±4°.
-        let o = sphere.to_sphere(centre);
+        let o = sphere.image(centre);
         let ratios: Vec<f64> = [[14.0, 51.0], [10.0, 55.0], [6.0, 47.0], [13.0, 48.0]]
             .iter()
-            .map(|&p| angle_between(o, sphere.to_sphere(p)) / earth.distance(centre, p))
+            .map(|&p| angle_between(o, sphere.image(p)) / earth.distance(centre, p))
             .collect();
         let (lo, hi) = ratios.iter().fold((f64::INFINITY, 0.0f64), |(l, h), &r| (l.min(r), h.max(r)));
         assert!(hi / lo - 1.0 < 2e-5, "{ratios:?}");
