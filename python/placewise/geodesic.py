@@ -158,7 +158,8 @@ def weber_point(
     tol : float
         Stop when the certified gap is at most ``tol * cost``.
     max_iter : int
-        Largest number of passes over the points.
+        Largest number of exact geodesic passes over the points (``iterations`` counts
+        them; the start is found on Gauss's conformal sphere, outside this count).
     errors : {"raise", "skip"}
         With ``groups``: fail on the first group without an answer, or keep it with its
         ``problem``.

@@ -6,6 +6,7 @@
 //! Points are `[longitude, latitude]` in degrees (x = longitude, as GIS frames store them).
 //! Lengths are metres, areas square metres.
 
+use geographiclib_rs::capability::{AZIMUTH, DISTANCE, GEODESICSCALE, REDUCEDLENGTH};
 use geographiclib_rs::{DirectGeodesic, Geodesic, InverseGeodesic, PolygonArea, Winding};
 
 use crate::error::{Error, Result};
@@ -63,6 +64,20 @@ impl Earth {
         let (s, azi1, _azi2, _a12): (f64, f64, f64, f64) = self.g.inverse(centre[1], centre[0], a[1], a[0]);
         let (sin, cos) = azi1.to_radians().sin_cos();
         Seen { distance: s, direction: [sin, cos] }
+    }
+
+    /// [`Earth::seen_from`] with the geodesic curvature `M/m` at `centre` of the geodesic
+    /// circle about `a` through `centre` (1/metres; Karney 2013, §3: the reduced length `m`
+    /// and geodesic scale `M` of the same inverse problem). The Hessian of `s(·, a)` at
+    /// `centre` is `(M/m)(I − uuᵀ)`, `u` the direction: exact second derivatives for Newton
+    /// steps at the price of the inverse problem alone (its Newton iteration computes `m`
+    /// anyway). The direction comes as the sine and cosine of the azimuth, without a round
+    /// trip through degrees.
+    pub(crate) fn seen_with_curvature(&self, centre: Point, a: Point) -> (Seen, f64) {
+        let (_a12, s, sin_azi, cos_azi, _s2, _c2, m12, big_m12, _big_m21, _area) =
+            self.g._gen_inverse(centre[1], centre[0], a[1], a[0], DISTANCE | AZIMUTH | REDUCEDLENGTH | GEODESICSCALE);
+        let norm = sin_azi.hypot(cos_azi);
+        (Seen { distance: s, direction: [sin_azi / norm, cos_azi / norm] }, big_m12 / m12)
     }
 
     /// The exponential map at `centre` (inverse of the logarithm map
@@ -152,6 +167,70 @@ pub(crate) fn from_normal(v: [f64; 3]) -> Point {
     [lon, lat]
 }
 
+/// Gauss's conformal sphere about a latitude (Gauss 1844; the constants as in the oblique
+/// stereographic projection, IOGP Guidance Note 7-2, §3.1.2): the conformal map of the
+/// ellipsoid onto a sphere `ψ' = n ψ + κ`, `Λ = n (λ − λ₀)` (`ψ` the isometric latitude) whose
+/// scale is stationary to second order at the chosen latitude, so that geodesic distances
+/// near it are great-circle distances to a few parts in a million over several degrees.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct ConformalSphere {
+    lon0: f64,
+    n: f64,
+    kappa: f64,
+}
+
+impl ConformalSphere {
+    /// The sphere fitted at `centre` (longitude `λ₀`, latitude `φ₀`): `n² = 1 + e² cos⁴φ₀ /
+    /// (1 − e²)` and `sin χ₀ = sin φ₀ / n` for the image `χ₀` of `φ₀`.
+    pub(crate) fn at(centre: Point) -> ConformalSphere {
+        let e2 = WGS84_F * (2.0 - WGS84_F);
+        let (sin0, cos0) = centre[1].to_radians().sin_cos();
+        let n = (1.0 + e2 * cos0.powi(4) / (1.0 - e2)).sqrt();
+        let kappa = (sin0 / n).atanh() - n * isometric_latitude(sin0);
+        ConformalSphere { lon0: centre[0], n, kappa }
+    }
+
+    /// Unit vector of the image of `p` on the sphere (one-to-one for longitudes within
+    /// `180°/n` of `λ₀`, `n − 1` being about 0.3 %: points beyond are not needed, as the
+    /// sphere serves points within a hemisphere of the centre).
+    pub(crate) fn image(&self, p: Point) -> [f64; 3] {
+        let psi = self.n * isometric_latitude(p[1].to_radians().sin()) + self.kappa;
+        // sin χ = tanh ψ', cos χ = sech ψ' (exact at the poles, where ψ' is infinite).
+        let (sin_chi, cos_chi) = (psi.tanh(), 1.0 / psi.cosh());
+        let (sin_l, cos_l) = (self.n * normalised_longitude(p[0] - self.lon0).to_radians()).sin_cos();
+        [cos_chi * cos_l, cos_chi * sin_l, sin_chi]
+    }
+
+    /// The point of the ellipsoid whose image is along the unit vector `v` (the isometric
+    /// latitude inverted by Newton's method; a handful of steps reach the rounding level).
+    pub(crate) fn preimage(&self, v: [f64; 3]) -> Point {
+        let chi = v[2].atan2(v[0].hypot(v[1]));
+        let lon = normalised_longitude(self.lon0 + v[1].atan2(v[0]).to_degrees() / self.n);
+        if chi.abs() >= std::f64::consts::FRAC_PI_2 * (1.0 - 1e-15) {
+            return [lon, 90f64.copysign(chi)];
+        }
+        let target = (chi.sin().atanh() - self.kappa) / self.n;
+        let e2 = WGS84_F * (2.0 - WGS84_F);
+        let mut phi = chi;
+        for _ in 0..8 {
+            let (sin, cos) = phi.sin_cos();
+            // dψ/dφ = (1 − e²) / ((1 − e² sin²φ) cos φ).
+            let step = (isometric_latitude(sin) - target) * cos * (1.0 - e2 * sin * sin) / (1.0 - e2);
+            phi = (phi - step).clamp(-std::f64::consts::FRAC_PI_2, std::f64::consts::FRAC_PI_2);
+            if step.abs() < 1e-15 {
+                break;
+            }
+        }
+        [lon, phi.to_degrees()]
+    }
+}
+
+/// Isometric latitude `ψ = atanh(sin φ) − e atanh(e sin φ)` from `sin φ`.
+fn isometric_latitude(sin_phi: f64) -> f64 {
+    let e = (WGS84_F * (2.0 - WGS84_F)).sqrt();
+    sin_phi.atanh() - e * (e * sin_phi).atanh()
+}
+
 /// Angle between two unit vectors, radians (robust for small and near-π angles).
 pub(crate) fn angle_between(a: [f64; 3], b: [f64; 3]) -> f64 {
     let cross = [a[1] * b[2] - a[2] * b[1], a[2] * b[0] - a[0] * b[2], a[0] * b[1] - a[1] * b[0]];
@@ -178,6 +257,46 @@ mod tests {
             let back = earth.exp(c, v);
             assert!(earth.distance(back, a) < 1e-6, "{c:?} {a:?} {back:?}");
         }
+    }
+
+    #[test]
+    fn curvature_matches_second_differences_of_distance() {
+        // Central second difference of the exact distance across the direction to `a`
+        // against M/m; on the sphere this is cot(s/R)/R, and both factors come from
+        // GeographicLib's own inverse problem.
+        let earth = Earth::wgs84();
+        for &(c, a) in &[([10.0, 50.0], [14.0, 53.0]), ([-70.0, -30.0], [-60.0, -5.0]), ([0.0, 80.0], [120.0, 70.0])] {
+            let (seen, curvature) = earth.seen_with_curvature(c, a);
+            let across = [seen.direction[1], -seen.direction[0]];
+            let h = 200.0;
+            let plus = earth.distance(earth.exp(c, [h * across[0], h * across[1]]), a);
+            let minus = earth.distance(earth.exp(c, [-h * across[0], -h * across[1]]), a);
+            let second = (plus + minus - 2.0 * seen.distance) / (h * h);
+            assert!((second - curvature).abs() < 1e-4 * curvature, "{c:?} {a:?} {second} {curvature}");
+            let old = earth.seen_from(c, a);
+            assert!((old.direction[0] - seen.direction[0]).abs() < 1e-15 && old.distance == seen.distance);
+        }
+    }
+
+    #[test]
+    fn conformal_sphere_round_trips_and_keeps_distance_ratios() {
+        let earth = Earth::wgs84();
+        let centre = [10.0, 51.0];
+        let sphere = ConformalSphere::at(centre);
+        for p in [[10.0, 51.0], [14.0, 54.0], [3.0, 47.0], [10.0, 90.0], [-150.0, -89.5]] {
+            let back = sphere.preimage(sphere.image(p));
+            assert!(earth.distance(back, p) < 1e-6, "{p:?} {back:?}");
+        }
+        // Near the centre, great-circle angles on the sphere are proportional to geodesic
+        // distances (pyproj.Geod gives the same geodesics; here GeographicLib itself): the
+        // ratio varies by a few parts in a million over ±4°.
+        let o = sphere.image(centre);
+        let ratios: Vec<f64> = [[14.0, 51.0], [10.0, 55.0], [6.0, 47.0], [13.0, 48.0]]
+            .iter()
+            .map(|&p| angle_between(o, sphere.image(p)) / earth.distance(centre, p))
+            .collect();
+        let (lo, hi) = ratios.iter().fold((f64::INFINITY, 0.0f64), |(l, h), &r| (l.min(r), h.max(r)));
+        assert!(hi / lo - 1.0 < 2e-5, "{ratios:?}");
     }
 
     #[test]

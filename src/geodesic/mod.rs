@@ -110,7 +110,8 @@ fn check_weber(options: &WeberOptions) -> Result<()> {
 ///   mean direction.
 ///
 /// # Runtime
-/// O(n) inverse problems per pass, in parallel; typically 5–30 passes.
+/// O(n) inverse problems per exact pass, in parallel; typically two or three exact passes,
+/// after a handful of O(n) passes on Gauss's conformal sphere that choose where to start.
 pub fn geodesic_weber_point(points: &[Point], weights: Weights<'_>, options: &WeberOptions) -> Result<WeberPoint> {
     check_weber(options)?;
     validate_lonlat("points", points, 1)?;
