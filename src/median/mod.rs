@@ -81,6 +81,13 @@ pub fn weber_point(points: &[Point], weights: Weights<'_>, options: &WeberOption
     })
 }
 
+/// The Euclidean [`weber_point`] of points already validated (finite, at least one positive
+/// weight), found from `start`: the local step of the many-site searches, where each
+/// cluster's previous site is a start close to its new optimum.
+pub(crate) fn weber_point_from(points: &[Point], weights: Weights<'_>, tol: f64, start: Point) -> WeberPoint {
+    weiszfeld::solve_from(points, weights, tol, WeberOptions::default().max_iter, Some(start))
+}
+
 /// [`weber_point`] for every group of a labelled cloud, in parallel (see [`crate::batch`]).
 ///
 /// # Errors

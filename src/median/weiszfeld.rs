@@ -226,6 +226,20 @@ fn data_point_looks_optimal(problem: &Problem<'_>, x: Point, pass: &Pass) -> boo
 
 /// Solve. Inputs are validated; at least one weight is positive.
 pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: usize) -> WeberPoint {
+    solve_from(points, weights, tol, max_iter, None)
+}
+
+/// [`solve`] from `start` (world coordinates) instead of the weighted mean. Every step is
+/// a descent step and the certificate holds at any iterate, so the answer meets the same
+/// tolerance; from a start near the optimum (a site in Cooper's alternation whose cluster
+/// changed a little) it takes far fewer passes.
+pub(crate) fn solve_from(
+    points: &[Point],
+    weights: Weights<'_>,
+    tol: f64,
+    max_iter: usize,
+    start: Option<Point>,
+) -> WeberPoint {
     let bbox = BoundingBox::of(points).expect("validated: at least one point");
     let origin = bbox.center();
     let mut total = CompensatedSum::default();
@@ -253,14 +267,19 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
         return finish(x, &problem.evaluate(x), 1, true);
     }
 
-    // Start at the weighted mean (inside the convex hull).
-    let mut mean = [CompensatedSum::default(), CompensatedSum::default()];
-    for i in 0..points.len() {
-        let a = problem.local(i);
-        mean[0].add(weights.get(i) * a[0]);
-        mean[1].add(weights.get(i) * a[1]);
-    }
-    let mut x = [mean[0].total() / problem.total_weight, mean[1].total() / problem.total_weight];
+    let mut x = match start.map(|s| sub(s, origin)) {
+        Some(s) if s[0].is_finite() && s[1].is_finite() => s,
+        _ => {
+            // Start at the weighted mean (inside the convex hull).
+            let mut mean = [CompensatedSum::default(), CompensatedSum::default()];
+            for i in 0..points.len() {
+                let a = problem.local(i);
+                mean[0].add(weights.get(i) * a[0]);
+                mean[1].add(weights.get(i) * a[1]);
+            }
+            [mean[0].total() / problem.total_weight, mean[1].total() / problem.total_weight]
+        }
+    };
     let mut current = problem.evaluate(x);
     let mut evaluations = 1;
     // Data point last tested with Kuhn's test, and how far the iterate was from it then.

@@ -12,8 +12,8 @@
 //! on a working set — a seeded sample — and after every descent adds the locations that its
 //! plan serves worse than the working set's radius, until none is left (the relaxation of
 //! Chen and Chen 2009, "New relaxation-based algorithms for the optimal solution of the
-//! continuous and discrete p-center problems", Computers & Operations Research 36(5)). One
-//! descent on all the locations then starts from that plan, so the result is a local
+//! continuous and discrete p-center problems", Computers & Operations Research 36(5)). The
+//! plan then serves every location within the working set's radius, so it is a local
 //! optimum of the whole demand.
 
 use super::{CenterOptions, Demand, Plan, IMPROVEMENT, MAX_ROUNDS};
@@ -43,17 +43,21 @@ impl Demand {
         let mut best: Option<Plan> = None;
         let restarts = options.effort.restarts();
         let working_set = self.first_working_set(options.seed);
+        let sampled = working_set.as_ref().map(|set| self.subset(set));
+        let seeds = sampled.as_ref().unwrap_or(self);
         clock.watch.plan(restarts as u64);
         for restart in 0..restarts {
             if restart > 0 && clock.stop() {
                 *stopped = true;
                 break;
             }
+            // Many locations: the start, too, is drawn from the working set (a start costs
+            // O(n · p) distances, as much as several descents on the working set).
             let start: Vec<Point> = if restart % 2 == 0 {
-                let first = if restart == 0 { self.heaviest() } else { rng.below(self.len()) };
-                self.farthest_first(first, p).iter().map(|&i| self.points[i]).collect()
+                let first = if restart == 0 { seeds.heaviest() } else { rng.below(seeds.len()) };
+                seeds.farthest_first(first, p).iter().map(|&i| seeds.points[i]).collect()
             } else {
-                d_sampling(&self.points, Weights::Given(&self.weights), &self.all, &[], p, &mut rng)
+                d_sampling(&seeds.points, Weights::Given(&seeds.weights), &seeds.all, &[], p, &mut rng)
             };
             let start = start.into_iter().map(|s| self.place(s)).collect();
             let plan = match &working_set {
@@ -90,8 +94,8 @@ impl Demand {
 
     /// [`Demand::descend`] on a working set that starts as `first` and grows by the locations
     /// the working set's plan serves worse than its own radius (at most [`ADDED_PER_ROUND`]
-    /// worst ones per round, largest weighted distance first), until there are none; then one
-    /// descent on every location from that plan.
+    /// worst ones per round, largest weighted distance first), until there are none: the
+    /// plan's radius on the working set is then its radius on every location.
     fn descend_relaxed(
         &self,
         start: Vec<Point>,
@@ -120,7 +124,12 @@ impl Demand {
                 .filter(|&(r, _)| r > plan.radius)
                 .collect();
             if worse.is_empty() {
-                break;
+                // Every location outside the working set is served within the working set's
+                // radius, so that radius is the plan's radius on all of them. A descent on all
+                // of them would not improve it: each cluster's minimax radius, and the radius of
+                // every hand-over trial, can only be larger on a superset of the points, so no
+                // step that failed on the working set succeeds on all of them.
+                return Ok(Plan { sites, radius: plan.radius });
             }
             // Largest weighted distance first; equal ones by index, so the set is deterministic.
             worse.sort_unstable_by(|a, b| b.0.total_cmp(&a.0).then(a.1.cmp(&b.1)));
@@ -130,7 +139,6 @@ impl Demand {
             }
             active.sort_unstable();
         }
-        self.descend(sites, clock, stopped, iterations)
     }
 
     /// Clusters of the nearest-site allocation (members per site, in point order).

@@ -5,7 +5,8 @@
 //!   their minimax points, with hand-overs of the points fixing the largest circle, from
 //!   restarts alternating farthest-first (Gonzalez 1985) and D-sampling starts. On many
 //!   locations each descent first runs on a growing working set of them (the relaxation of
-//!   Chen and Chen 2009), then once on them all.
+//!   Chen and Chen 2009) until the plan serves all of them within the working set's radius;
+//!   the starts, too, are drawn from the working set.
 //! - `exact` — tiny instances (at most [`EXACT_MAX_POINTS`] distinct points of positive
 //!   weight) by branch and bound over all splits into at most `p` clusters.
 //!
@@ -96,8 +97,8 @@ const IMPROVEMENT: f64 = 1e-12;
 /// Each alternation round costs O(n log p) for the allocation and O(n) (expected) for the
 /// minimax points; a descent takes a few to a few dozen rounds, times the restarts of the
 /// effort (2, 16 or 64). Beyond 20 000 distinct locations a descent's rounds run on a
-/// working set of them that grows only by the locations its plans leave worst served, and
-/// one final descent runs on all of them. The exact
+/// working set of them (starts included) that grows only by the locations its plans leave
+/// worst served, each growth step costing one allocation of all of them. The exact
 /// search on at most [`EXACT_MAX_POINTS`] points visits at most the Bell number
 /// B₁₀ = 115 975 splits, usually far fewer.
 pub fn p_center(points: &[Point], weights: Weights<'_>, p: usize, options: &CenterOptions) -> Result<CenterPlan> {

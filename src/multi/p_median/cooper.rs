@@ -1,6 +1,6 @@
 //! Cooper's local step: Cooper (1964), "Heuristic methods for location–allocation
 //! problems", SIAM Review 6(1). Alternate *allocation* (each point to its nearest site) and
-//! *location* (each site to the Fermat–Weber point of its cluster, by [`weber_point`]) until
+//! *location* (each site to the Fermat–Weber point of its cluster, from its current place) until
 //! the allocation no longer changes. With a region, the location step is the restricted
 //! Fermat–Weber point ([`weber_point_in_region`]). Only clusters whose membership changed are re-solved,
 //! and only the points a moved site could gain or lose are re-allocated
@@ -11,17 +11,27 @@
 //! two conditions of a local optimum.
 
 use super::{Problem, Solution, LARGE_INPUT, LARGE_MAX_ROUNDS, MAX_ROUNDS};
+use rayon::prelude::*;
+
 use crate::error::Result;
 use crate::geometry::{Point, Weights};
-use crate::median::{weber_point, weber_point_in_region, WeberOptions};
+use crate::median::{weber_point_from, weber_point_in_region, WeberOptions};
 
-/// Reusable buffers of one search: clusters in CSR form and one cluster's points.
+/// Reusable buffers of one search: clusters in CSR form.
 #[derive(Debug, Default)]
 pub(super) struct Workspace {
     offsets: Vec<usize>,
     order: Vec<usize>,
-    cluster_points: Vec<Point>,
-    cluster_weights: Vec<f64>,
+}
+
+/// What a round's location step did for one site.
+enum Located {
+    /// The cluster did not change (or the search stopped): the site stays.
+    Kept,
+    /// The cluster carries no weight.
+    Empty,
+    /// The cluster's Fermat–Weber point.
+    At(Point),
 }
 
 impl Problem<'_> {
@@ -49,41 +59,53 @@ impl Problem<'_> {
             }
             *rounds += 1;
             self.gather(&served.index, ws);
-            let (mut moved, mut empty) = (Vec::new(), Vec::new());
-            // A round over a million points takes a while: poll per cluster too, and on a
-            // stop return the sites `served` belongs to.
+            // Each cluster's Fermat–Weber point from its current site (a start close to the
+            // answer once the clusters settle), the clusters in parallel; the results are
+            // applied in site order, so the plan does not depend on thread timing.
             let before = sites.clone();
-            for j in 0..self.p {
-                if self.halted() {
-                    return Ok(Solution { sites: before, cost: served.cost });
-                }
-                if !changed[j] {
-                    continue;
-                }
-                let members = &ws.order[ws.offsets[j]..ws.offsets[j + 1]];
-                ws.cluster_points.clear();
-                ws.cluster_weights.clear();
-                for &i in members {
-                    let w = self.weights.get(i);
-                    if w > 0.0 {
-                        ws.cluster_points.push(self.points[i]);
-                        ws.cluster_weights.push(w);
+            let located: Vec<Result<Located>> = (0..self.p)
+                .into_par_iter()
+                .map(|j| {
+                    if !changed[j] || self.halted() {
+                        return Ok(Located::Kept);
                     }
-                }
-                if ws.cluster_points.is_empty() {
-                    empty.push(j);
-                    continue;
-                }
-                let cluster = Weights::Given(&ws.cluster_weights);
-                let location = match self.region {
-                    None => weber_point(&ws.cluster_points, cluster, &options)?.location,
-                    Some(region) => {
-                        weber_point_in_region(&ws.cluster_points, cluster, region, &options)?.point.location
+                    let members = &ws.order[ws.offsets[j]..ws.offsets[j + 1]];
+                    let (mut cluster_points, mut cluster_weights) = (Vec::new(), Vec::new());
+                    for &i in members {
+                        let w = self.weights.get(i);
+                        if w > 0.0 {
+                            cluster_points.push(self.points[i]);
+                            cluster_weights.push(w);
+                        }
                     }
-                };
-                if location != sites[j] {
-                    sites[j] = location;
-                    moved.push(j);
+                    if cluster_points.is_empty() {
+                        return Ok(Located::Empty);
+                    }
+                    let cluster = Weights::Given(&cluster_weights);
+                    Ok(Located::At(match self.region {
+                        None => weber_point_from(&cluster_points, cluster, tol, before[j]).location,
+                        Some(region) => {
+                            weber_point_in_region(&cluster_points, cluster, region, &options)?.point.location
+                        }
+                    }))
+                })
+                .collect();
+            // A round over a million points takes a while: on a stop return the sites
+            // `served` belongs to.
+            if self.halted() {
+                return Ok(Solution { sites: before, cost: served.cost });
+            }
+            let (mut moved, mut empty) = (Vec::new(), Vec::new());
+            for (j, outcome) in located.into_iter().enumerate() {
+                match outcome? {
+                    Located::Kept => {}
+                    Located::Empty => empty.push(j),
+                    Located::At(location) => {
+                        if location != sites[j] {
+                            sites[j] = location;
+                            moved.push(j);
+                        }
+                    }
                 }
             }
             let refilled = self.refill(&mut sites, &empty, &served.distance);
@@ -91,7 +113,7 @@ impl Problem<'_> {
             if moved.is_empty() {
                 break;
             }
-            let next = self.reallocate(&sites, &moved, &served)?;
+            let next = self.reallocate(&before, &sites, &moved, &served)?;
             changed.iter_mut().for_each(|c| *c = false);
             let mut any = !refilled.is_empty();
             for (&a, &b) in served.index.iter().zip(&next.index) {

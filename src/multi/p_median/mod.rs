@@ -14,7 +14,7 @@
 //! - `search` — the global search: seeded multi-start from D-sampling
 //!   ([`super::seeding`]), descent (Cooper and jumps), variable neighbourhood search
 //!   (Brimberg, Hansen, Mladenović and Taillard 2000).
-//! - `sample` — large inputs are searched on a seeded sample; the full data refines.
+//! - `sample` — large inputs are searched on a seeded sample; the full data settles.
 //!
 //! Everything runs in the instance's [`WorkingFrame`] (unit size, so squared distances
 //! neither overflow nor underflow) and maps back at the end. The same seed gives the same
@@ -62,15 +62,21 @@ struct Budget {
     k_max: usize,
     /// Jump candidates examined per scan when there are more distinct demand points.
     candidates: usize,
+    /// Large inputs: Cooper's rounds on the full data stop once a round gains less than this
+    /// fraction of the cost (each round is a pass over every point; on uniform data the tail
+    /// is long, every round moving all sites a little for a small gain).
+    full_settle: f64,
 }
 
 impl Effort {
     fn budget(self, p: usize) -> Budget {
         let k_max = p.clamp(1, 10);
         match self {
-            Effort::Fast => Budget { starts: 1, patience: k_max, k_max, candidates: 64 },
-            Effort::Normal => Budget { starts: 2, patience: 2 * k_max + 10, k_max, candidates: 128 },
-            Effort::Thorough => Budget { starts: 8, patience: 10 * k_max + 40, k_max, candidates: 512 },
+            Effort::Fast => Budget { starts: 1, patience: k_max, k_max, candidates: 64, full_settle: 1e-4 },
+            Effort::Normal => Budget { starts: 2, patience: 2 * k_max + 10, k_max, candidates: 128, full_settle: 1e-4 },
+            Effort::Thorough => {
+                Budget { starts: 8, patience: 10 * k_max + 40, k_max, candidates: 512, full_settle: 3e-5 }
+            }
         }
     }
 }
@@ -137,10 +143,9 @@ pub struct MedianPlan {
 const SEARCH_TOL: f64 = 1e-7;
 const FINAL_TOL: f64 = 1e-10;
 /// During the search a descent stops once a Cooper round gains less than this fraction of
-/// the cost; the final polish runs until the allocation is stable.
+/// the cost; the final polish runs until the allocation is stable (on large inputs: see
+/// `Budget::full_settle`).
 const SEARCH_SETTLE: f64 = 1e-5;
-/// On large inputs the polish stops once a Cooper round gains less than this fraction.
-const LARGE_SETTLE: f64 = 1e-8;
 /// Cap on Cooper rounds per descent (it converges in finitely many; this guards against
 /// cycling caused by inexact location steps).
 const MAX_ROUNDS: usize = 500;
@@ -167,11 +172,13 @@ const IMPROVEMENT: f64 = 1e-10;
 ///   [`crate::Error::AllWeightsZero`] for bad weights.
 ///
 /// # Runtime
-/// One Cooper round costs O(n · (p + f)) for the allocation (only moved sites are
-/// compared once a descent settles) plus O(n) per Weber evaluation; one jump scan costs
-/// O(n · c) for c candidate points (every distinct point up to 2 000, else a sample of 64
-/// to 512 by effort). The global search runs on at most 20 000 points (a seeded sample
-/// beyond), so its cost is bounded; the full data sees one descent and the polish.
+/// One Cooper round costs O(n) for the allocation while the sites move less than the
+/// points' bounds allow (else O(n · (p + f)) at most) plus O(n) per Weber evaluation (the
+/// clusters in parallel); one jump scan costs O(n · c) for c candidate points (every
+/// distinct point up to 2 000, else a sample of 64 to 512 by effort). The global search
+/// runs on at most 20 000 points (a seeded sample beyond, one per effort level), so its
+/// cost is bounded; the full data sees Cooper's rounds from each level's best plan until
+/// a round gains less than 10⁻⁴ of the cost (3·10⁻⁵ at thorough).
 pub fn p_median(
     points: &[Point],
     weights: Weights<'_>,
@@ -334,40 +341,26 @@ impl Problem<'_> {
     }
 
     /// Every effort level up to `options.effort` in turn (see [`Effort::levels`]), each a
-    /// global search and a polish; the best final plan wins, so a higher effort never returns
-    /// a worse plan than a lower one on the same input and seed. On large inputs a level above
-    /// the first also descends (Cooper and jumps on every point) from the better of its own
-    /// plan and the best of the lower levels, so it starts from the lower levels' answer. A
-    /// level cut short by the clock still competes with its best plan so far; later levels
-    /// are not started.
+    /// global search and a polish. A level above the first starts its first search from the
+    /// best plan of the lower levels (the others from their own seeded starts) and the best
+    /// final plan wins, so a higher effort starts from the lower one's plan and never returns
+    /// a worse one on the same input and seed. A level cut short by the clock still competes
+    /// with its best plan so far; later levels are not started.
     fn solve(&self, options: &MedianOptions, iterations: &mut usize) -> Result<Solution> {
         let levels = options.effort.levels();
         let sampled = self.points.len() > LARGE_INPUT;
         let watch = &self.clock.watch;
-        for (level, effort) in levels.iter().enumerate() {
-            let full_data_steps = if sampled { 1 + usize::from(level > 0) } else { 0 };
-            watch.plan((effort.budget(self.p).starts + 1 + full_data_steps) as u64);
+        for (level, &effort) in levels.iter().enumerate() {
+            watch.plan((self.level_budget(effort, level).starts + 1 + usize::from(sampled)) as u64);
         }
         let mut best: Option<Solution> = None;
         for (level, effort) in levels.iter().enumerate() {
             if level > 0 && self.halted() {
                 break;
             }
-            let budget = effort.budget(self.p);
-            let mut plan = self.solve_level(&budget, options.seed, iterations)?;
-            if sampled && level > 0 {
-                let from = match &best {
-                    Some(b) if b.cost < plan.cost => b.clone(),
-                    _ => plan.clone(),
-                };
-                if !self.halted() {
-                    let refined = self.refine(from, &budget, options.seed, iterations)?;
-                    if refined.cost < plan.cost {
-                        plan = refined;
-                    }
-                }
-                watch.advance(1);
-            }
+            let budget = self.level_budget(*effort, level);
+            let from = best.as_ref().map(|b| b.sites.as_slice());
+            let plan = self.solve_level(&budget, options.seed, level, from, iterations)?;
             if best.as_ref().is_none_or(|b| plan.cost < b.cost) {
                 best = Some(plan);
             }
@@ -375,12 +368,36 @@ impl Problem<'_> {
         Ok(best.expect("the first level always runs"))
     }
 
-    /// One level: the global search, then the polish. Large inputs: the global search runs on
-    /// a seeded sample and the full data only settles its best plan (Cooper's alternation
-    /// until a round gains less than [`LARGE_SETTLE`] of the cost).
-    fn solve_level(&self, budget: &Budget, seed: u64, iterations: &mut usize) -> Result<Solution> {
+    /// The budget of effort level `level` ([`Effort::levels`]). Large inputs: the shortest
+    /// patience on the sample, and above the first level half the starts (one of them from
+    /// the lower level's plan): on a million points a search from scratch costs more
+    /// full-data rounds than it tends to win back.
+    fn level_budget(&self, effort: Effort, level: usize) -> Budget {
+        let budget = effort.budget(self.p);
+        if self.points.len() <= LARGE_INPUT {
+            return budget;
+        }
+        let starts = if level == 0 { budget.starts } else { (budget.starts / 2).max(1) };
+        Budget { patience: budget.k_max, starts, ..budget }
+    }
+
+    /// One level: the global search (its first start from `from` when given), then the
+    /// polish. Large inputs: the global search runs on a seeded sample, its own for every
+    /// level (a level above the first so sees the lower level's plan on other points); the
+    /// full data only settles its best plan (Cooper's alternation until a round gains less
+    /// than `budget.full_settle` of the cost, then the polish).
+    fn solve_level(
+        &self,
+        budget: &Budget,
+        seed: u64,
+        level: usize,
+        from: Option<&[Point]>,
+        iterations: &mut usize,
+    ) -> Result<Solution> {
         let watch = &self.clock.watch;
-        let sample = (self.points.len() > LARGE_INPUT).then(|| Sample::draw(self.points, self.weights, seed));
+        let large = self.points.len() > LARGE_INPUT;
+        let seed = if level == 0 { seed } else { start_seed(seed, usize::MAX - level) };
+        let sample = large.then(|| Sample::draw(self.points, self.weights, seed));
         let searched = match &sample {
             Some(sample) if sample.candidates.len() > self.p => {
                 let on_sample = Problem {
@@ -393,9 +410,9 @@ impl Problem<'_> {
                     stopped: self.stopped,
                     region: self.region,
                 };
-                on_sample.best_of_starts(seed, budget, iterations)?
+                on_sample.best_of_starts(seed, budget, from, iterations)?
             }
-            _ => self.best_of_starts(seed, budget, iterations)?,
+            _ => self.best_of_starts(seed, budget, from, iterations)?,
         };
         if self.halted() {
             // Stopped: no pass over the full data. A sample's plan has no full-data cost yet
@@ -405,34 +422,29 @@ impl Problem<'_> {
         }
         let mut workspace = cooper::Workspace::default();
         let settled = if sample.is_some() {
-            let settled = self.cooper(searched.sites, SEARCH_TOL, SEARCH_SETTLE, &mut workspace, iterations)?;
+            let settled = self.cooper(searched.sites, SEARCH_TOL, budget.full_settle, &mut workspace, iterations)?;
             watch.advance(1);
             settled
         } else {
             searched
         };
-        let polished = self.polish(settled, &mut workspace, iterations)?;
+        let polished = self.polish(settled, budget, &mut workspace, iterations)?;
         watch.advance(1);
         Ok(polished)
     }
 
-    /// Large inputs, above the first level: a descent on every point (Cooper, then the best
-    /// jumps among `budget.candidates` drawn targets while they improve) from `from`, then
-    /// the polish. Never worse than `from`.
-    fn refine(&self, from: Solution, budget: &Budget, seed: u64, iterations: &mut usize) -> Result<Solution> {
-        let mut workspace = cooper::Workspace::default();
-        let mut rng = SplitMix64::new(start_seed(seed, budget.starts));
-        let descended = self.descend(from.sites.clone(), &mut rng, budget, &mut workspace, iterations)?;
-        let polished = self.polish(descended, &mut workspace, iterations)?;
-        Ok(if polished.cost < from.cost { polished } else { from })
-    }
-
     /// Cooper's alternation at the final Weber tolerance from `plan`: until the allocation is
-    /// stable, or on large inputs until a round gains less than [`LARGE_SETTLE`] of the cost
-    /// (on a million points the last rounds move a handful of points each for gains far
-    /// below any data's precision). Never worse than `plan`.
-    fn polish(&self, plan: Solution, workspace: &mut cooper::Workspace, iterations: &mut usize) -> Result<Solution> {
-        let settle = if self.points.len() > LARGE_INPUT { LARGE_SETTLE } else { 0.0 };
+    /// stable, or on large inputs until a round gains less than `budget.full_settle` of the
+    /// cost (on a million points every round is a pass over all of them, and the tail gains
+    /// little). Never worse than `plan`.
+    fn polish(
+        &self,
+        plan: Solution,
+        budget: &Budget,
+        workspace: &mut cooper::Workspace,
+        iterations: &mut usize,
+    ) -> Result<Solution> {
+        let settle = if self.points.len() > LARGE_INPUT { budget.full_settle } else { 0.0 };
         let polished = self.cooper(plan.sites.clone(), FINAL_TOL, settle, workspace, iterations)?;
         Ok(if polished.cost <= plan.cost { polished } else { plan })
     }
@@ -594,6 +606,29 @@ mod tests {
             let (fast, normal, thorough) = (plan(Effort::Fast), plan(Effort::Normal), plan(Effort::Thorough));
             assert!(normal <= fast * (1.0 + 1e-12), "seed {seed}: normal {normal} vs fast {fast}");
             assert!(thorough <= normal * (1.0 + 1e-12), "seed {seed}: thorough {thorough} vs normal {normal}");
+        }
+    }
+
+    #[test]
+    fn more_effort_never_gives_a_worse_plan_on_sampled_inputs() {
+        // Above LARGE_INPUT points every level searches a sample; a higher level's first
+        // search starts from the lower level's plan, and the best settled plan wins.
+        for seed in [2, 3] {
+            let pts = seeded_instance(seed, LARGE_INPUT + 1_000);
+            let w: Vec<f64> = (0..pts.len()).map(|i| 1.0 + (i % 10) as f64).collect();
+            let plan = |effort| {
+                let options = MedianOptions { effort, seed, ..MedianOptions::default() };
+                let plan = p_median(&pts, Weights::Given(&w), 4, &[], &options).unwrap();
+                let direct: f64 = pts
+                    .iter()
+                    .zip(&w)
+                    .map(|(&a, &wi)| wi * plan.sites.iter().map(|&s| distance(a, s)).fold(f64::INFINITY, f64::min))
+                    .sum();
+                assert!((direct - plan.service.cost).abs() <= 1e-9 * direct);
+                plan.service.cost
+            };
+            let (fast, normal) = (plan(Effort::Fast), plan(Effort::Normal));
+            assert!(normal <= fast * (1.0 + 1e-12), "seed {seed}: normal {normal} vs fast {fast}");
         }
     }
 

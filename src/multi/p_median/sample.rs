@@ -1,6 +1,6 @@
 //! Large inputs: the global search runs on a seeded uniform sample; the full data only
-//! refines the sample's best plan (one descent and the polish), so the search cost is
-//! bounded whatever the input size.
+//! settles the sample's best plan (Cooper's rounds), so the search cost is bounded
+//! whatever the input size.
 
 use crate::geometry::random::SplitMix64;
 use crate::geometry::{Point, Weights};

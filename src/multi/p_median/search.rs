@@ -23,11 +23,19 @@ use crate::multi::seeding::d_sampling;
 impl Problem<'_> {
     /// The best of `budget.starts` seeded searches, run in parallel and combined in start
     /// order (strictly better replaces, so ties go to the earlier start whatever the timing).
-    pub(super) fn best_of_starts(&self, seed: u64, budget: &Budget, iterations: &mut usize) -> Result<Solution> {
+    /// The first search starts from `from` when given (a lower effort's plan), the others
+    /// from D-sampling.
+    pub(super) fn best_of_starts(
+        &self,
+        seed: u64,
+        budget: &Budget,
+        from: Option<&[Point]>,
+        iterations: &mut usize,
+    ) -> Result<Solution> {
         let runs: Vec<Result<(Solution, usize)>> = (0..budget.starts)
             .into_par_iter()
             .map(|start| {
-                let run = self.search(start_seed(seed, start), budget);
+                let run = self.search(start_seed(seed, start), budget, from.filter(|_| start == 0));
                 self.clock.watch.advance(1);
                 run
             })
@@ -43,13 +51,20 @@ impl Problem<'_> {
         Ok(best.expect("at least one start"))
     }
 
-    /// One seeded search: D-sampling start, descent, then variable neighbourhood search.
-    fn search(&self, seed: u64, budget: &Budget) -> Result<(Solution, usize)> {
+    /// One seeded search: descent from `from` or a D-sampling start, then variable
+    /// neighbourhood search.
+    fn search(&self, seed: u64, budget: &Budget, from: Option<&[Point]>) -> Result<(Solution, usize)> {
         let mut rng = SplitMix64::new(seed);
         let mut workspace = Workspace::default();
         let mut rounds = 0;
-        let mut start = d_sampling(self.points, self.weights, self.candidates, self.fixed, self.p, &mut rng);
-        start.iter_mut().for_each(|s| *s = self.place(*s));
+        let start = match from {
+            Some(sites) => sites.to_vec(),
+            None => {
+                let mut start = d_sampling(self.points, self.weights, self.candidates, self.fixed, self.p, &mut rng);
+                start.iter_mut().for_each(|s| *s = self.place(*s));
+                start
+            }
+        };
         let mut best = self.descend(start, &mut rng, budget, &mut workspace, &mut rounds)?;
         let (mut k, mut failures) = (1, 0);
         while failures < budget.patience && best.cost > 0.0 && !self.halted() {
@@ -86,7 +101,7 @@ impl Problem<'_> {
     }
 
     /// Cooper descent, then best-improving jumps (each followed by Cooper) while they improve.
-    pub(super) fn descend(
+    fn descend(
         &self,
         sites: Vec<Point>,
         rng: &mut SplitMix64,
