@@ -341,7 +341,7 @@ impl ClipRegion {
 /// Multiplicative hashing of grid keys (Knuth's golden-ratio constant): keys are small
 /// integers, so SipHash's resistance to adversarial keys buys nothing here.
 #[derive(Default)]
-struct GridHasher(u64);
+pub(crate) struct GridHasher(u64);
 
 impl Hasher for GridHasher {
     fn finish(&self) -> u64 {
