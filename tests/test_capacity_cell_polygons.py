@@ -183,3 +183,32 @@ def test_geodataframe_and_gis_form_in_any_crs():
     frame = cells.cells_geodataframe(crs=32633)
     assert frame.crs == demand.crs and "area_m2" in frame.columns
     np.testing.assert_allclose(frame.geometry.area, cells.area, rtol=1e-9)
+
+
+def test_command_line_writes_the_cells(tmp_path, capsys):
+    gpd = pytest.importorskip("geopandas")
+    import pandas as pd
+
+    from placewise.cli import main
+    from test_capacity_cells import squared_transport
+
+    rng = np.random.default_rng(12)
+    xy = rng.uniform(0, 1000, (200, 2)) + [500_000, 6_600_000]
+    sites = rng.uniform(100, 900, (4, 2)) + [500_000, 6_600_000]
+    seats = np.array([40.0, 60.0, 50.0, 50.0])
+    homes, schools, region = tmp_path / "homes.csv", tmp_path / "schools.csv", tmp_path / "region.geojson"
+    pd.DataFrame({"east": xy[:, 0], "north": xy[:, 1]}).to_csv(homes, index=False)
+    pd.DataFrame({"east": sites[:, 0], "north": sites[:, 1], "seats": seats}).to_csv(schools, index=False)
+    box = shapely.box(499_990, 6_599_990, 501_010, 6_601_010)
+    gpd.GeoDataFrame(geometry=[box], crs=32632).to_file(region)
+    out, summary = tmp_path / "cells.gpkg", tmp_path / "totals.csv"
+    code = main([str(a) for a in ["capacity-cells", homes, "--x", "east", "--y", "north", "--crs", "EPSG:32632",
+                                  "--sites", schools, "--capacity", "seats", "--region", region, "-o", out,
+                                  "--summary", summary]])
+    assert code == 0, capsys.readouterr().err
+    cells = gpd.read_file(out)
+    # shapely: the written polygons tile the region; scipy.optimize.linprog (HiGHS): the cost.
+    assert shapely.union_all(cells.geometry.values).area == pytest.approx(box.area, rel=1e-9)
+    assert cells["load"].tolist() == pytest.approx(seats.tolist(), rel=1e-9)
+    cost = pd.read_csv(summary)["cost_m2"].iloc[0]
+    assert cost == pytest.approx(squared_transport(xy, sites, seats, np.ones(200)), rel=1e-9)

@@ -187,7 +187,16 @@ pub fn capacity_cells(
     stage!("finish {:?} exact {} aug {}", t0.elapsed(), finish.exact_points, finish.augmentations);
     // The cells of the final powers, one per location with capacity, then laid out by site.
     let boxed = default_box.as_ref().map(|ring| Region { vertices: ring, ring_offsets: &[0, 4] });
-    let located = power_cells(&groups.sites, &finish.power, region.or(boxed))?;
+    let located = power_cells(&groups.sites, &finish.power, region.or(boxed)).map_err(|e| match e {
+        // Its rows are locations, not input rows.
+        Error::Degenerate { argument: "sites", .. } => Error::Degenerate {
+            argument: "sites",
+            reason: "two sites are too close together for the extent of the region and points: they round to one \
+                     location once scaled to it"
+                .into(),
+        },
+        other => other,
+    })?;
     let cell_site: Vec<Option<usize>> = groups.of_site.iter().map(|g| g.map(|g| groups.members[g][0])).collect();
     let holder: Vec<Option<usize>> =
         (0..sites.len()).map(|j| groups.of_site[j].filter(|&g| groups.members[g][0] == j)).collect();
