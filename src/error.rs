@@ -140,6 +140,15 @@ pub enum Error {
         /// The largest allowed distance.
         max_gap: f64,
     },
+    /// A point outside the region it must lie in: `points[4] at (3, 9) lies outside the region`.
+    OutsideRegion {
+        /// Argument name, e.g. `"points"`.
+        argument: &'static str,
+        /// Row of the point.
+        row: usize,
+        /// The point.
+        point: [f64; 2],
+    },
     /// A demand row of a sparse cost matrix that allows no candidate.
     NoCandidate {
         /// Argument name, e.g. `"costs"`.
@@ -291,6 +300,13 @@ impl Error {
                 plain(*gap),
                 plain(*max_gap)
             ),
+            Error::OutsideRegion { argument, row, point } => format!(
+                "{argument}[{}] at ({}, {}) lies outside the region; every point must lie in the region or on \
+                 its boundary",
+                namer.row(argument, *row),
+                plain(point[0]),
+                plain(point[1])
+            ),
             Error::NoCandidate { argument, row } => format!(
                 "{argument}: points[{}] has no allowed candidate (its row stores no cost)",
                 namer.row("points", *row)
@@ -322,6 +338,7 @@ impl Error {
             | Error::InvalidCost { argument, .. }
             | Error::InvalidEdge { argument, .. }
             | Error::BeyondGap { argument, .. }
+            | Error::OutsideRegion { argument, .. }
             | Error::NoCandidate { argument, .. } => argument,
             Error::Uncoverable { .. } => "points",
             Error::Shortfall { .. } => "capacities",
@@ -342,6 +359,7 @@ impl Error {
             | Error::Uncoverable { row, .. }
             | Error::InvalidEdge { row, .. }
             | Error::BeyondGap { row, .. }
+            | Error::OutsideRegion { row, .. }
             | Error::NoCandidate { row, .. } => Some(*row),
             Error::InGroup { source, .. } => source.row(),
             _ => None,

@@ -233,9 +233,11 @@ def capacity_p_median(
     seed: Any, max_rounds: Any,
 ) -> _Fields: ...
 # Fields: power, assignment, share, cost, part_point, part_site, part_amount, load, slack,
-# total_cost, total_distance_cost, total_demand, newton_steps, exact_points, augmentations.
+# total_cost, total_distance_cost, total_demand, newton_steps, exact_points, augmentations,
+# cell_site (-1: no cell), and the cells: vertices, offsets, parts, area, exterior.
 def capacity_power_cells(
     points: ArrayLike, sites: ArrayLike, capacities: ArrayLike, weights: ArrayLike | None, tol: Any,
+    region_vertices: ArrayLike | None, ring_offsets: ArrayLike | None,
 ) -> _Fields: ...
 
 # --- travel (src/py/travel.rs) ---

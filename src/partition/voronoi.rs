@@ -76,36 +76,56 @@ impl VoronoiCells {
         places: &RowPlaces,
         cells_of: impl Fn(&T) -> &VoronoiCells,
     ) -> VoronoiCells {
-        let mut out = VoronoiCells {
-            vertices: Vec::new(),
-            offsets: vec![0],
-            parts: vec![0],
-            area: Vec::new(),
-            exterior: Vec::new(),
-        };
+        let mut out = VoronoiCells::empty();
         for (&g, &k) in places.group.iter().zip(&places.within) {
             match grouped.results[g].as_ref().map(&cells_of) {
-                Ok(cells) => {
-                    let (lo, hi) = (cells.offsets[k], cells.offsets[k + 1]);
-                    let shift = out.vertices.len() - lo;
-                    let first = cells.parts.partition_point(|&p| p <= lo);
-                    let last = cells.parts.partition_point(|&p| p <= hi);
-                    out.parts.extend(cells.parts[first..last].iter().map(|&p| p + shift));
-                    // The ends parts[first..last] close rings first - 1 .. last - 1 (parts[0] = 0).
-                    out.exterior.extend_from_slice(&cells.exterior[first - 1..last - 1]);
-                    out.vertices.extend_from_slice(&cells.vertices[lo..hi]);
-                    out.area.push(cells.area[k]);
-                }
-                Err(_) => out.area.push(f64::NAN),
+                Ok(cells) => out.push_cell_of(cells, k),
+                Err(_) => out.push_empty(f64::NAN),
             }
-            out.offsets.push(out.vertices.len());
         }
         out
+    }
+
+    /// Cells picked by row: cell `i` is cell `pick[i]` of `self`, or empty (area 0) for `None`.
+    pub(crate) fn picked(&self, pick: &[Option<usize>]) -> VoronoiCells {
+        let mut out = VoronoiCells::empty();
+        for &k in pick {
+            match k {
+                Some(k) => out.push_cell_of(self, k),
+                None => out.push_empty(0.0),
+            }
+        }
+        out
+    }
+
+    /// No cells.
+    fn empty() -> VoronoiCells {
+        VoronoiCells { vertices: Vec::new(), offsets: vec![0], parts: vec![0], area: Vec::new(), exterior: Vec::new() }
+    }
+
+    /// Append cell `k` of `cells`.
+    fn push_cell_of(&mut self, cells: &VoronoiCells, k: usize) {
+        let (lo, hi) = (cells.offsets[k], cells.offsets[k + 1]);
+        let shift = self.vertices.len() - lo;
+        let first = cells.parts.partition_point(|&p| p <= lo);
+        let last = cells.parts.partition_point(|&p| p <= hi);
+        self.parts.extend(cells.parts[first..last].iter().map(|&p| p + shift));
+        // The ends parts[first..last] close rings first - 1 .. last - 1 (parts[0] = 0).
+        self.exterior.extend_from_slice(&cells.exterior[first - 1..last - 1]);
+        self.vertices.extend_from_slice(&cells.vertices[lo..hi]);
+        self.area.push(cells.area[k]);
+        self.offsets.push(self.vertices.len());
+    }
+
+    /// Append a cell without rings.
+    fn push_empty(&mut self, area: f64) {
+        self.area.push(area);
+        self.offsets.push(self.vertices.len());
     }
 }
 
 /// The default region: the sites' bounding box grown by 10 % on every side.
-pub(super) fn default_rings(sites: &[Point]) -> Result<Vec<Vec<Point>>> {
+pub(crate) fn default_rings(sites: &[Point]) -> Result<Vec<Vec<Point>>> {
     let b = BoundingBox::of(sites).expect("sites validated non-empty");
     let (w, h) = (b.max[0] - b.min[0], b.max[1] - b.min[1]);
     // A flat box (sites on one horizontal or vertical line) grows by a tenth of its length
@@ -321,7 +341,7 @@ impl ClipRegion {
 /// Multiplicative hashing of grid keys (Knuth's golden-ratio constant): keys are small
 /// integers, so SipHash's resistance to adversarial keys buys nothing here.
 #[derive(Default)]
-struct GridHasher(u64);
+pub(crate) struct GridHasher(u64);
 
 impl Hasher for GridHasher {
     fn finish(&self) -> u64 {

@@ -4,14 +4,16 @@ use numpy::{PyArray1, PyArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
 
-use super::convert::{as_point_slice, count_arg, float_arg, seed_arg};
+use super::convert::{as_point_slice, count_arg, float_arg, region_arg, seed_arg};
 use super::fields::Fields;
+use super::partition::cell_fields;
 use super::{points_arg, run_detached, weights_arg};
 use crate::capacity::{
     capacitated_p_median, capacity_allocation, capacity_cells, AllocationOptions, CapacitatedMedianOptions,
     CapacityAllocation, CellsOptions,
 };
 use crate::geometry::{Point, Weights};
+use crate::partition::Region;
 
 /// Per-site float64 values of shape `(m,)` (capacities).
 fn capacities_arg<'py>(obj: &Bound<'py, PyAny>) -> PyResult<numpy::PyReadonlyArray1<'py, f64>> {
@@ -119,9 +121,11 @@ fn capacity_p_median<'py>(
 }
 
 /// Fields: per site the powers, per point the plan, the parts of split points, per site
-/// load and slack, the totals and the solver's counts.
+/// load and slack, the totals and the solver's counts; the cells (vertices, offsets, parts,
+/// area, exterior as for Voronoi cells) and per site `cell_site` (-1: no cell).
 #[pyfunction]
-#[pyo3(signature = (points, sites, capacities, weights, tol))]
+#[pyo3(signature = (points, sites, capacities, weights, tol, region_vertices, ring_offsets))]
+#[allow(clippy::too_many_arguments)]
 fn capacity_power_cells<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
@@ -129,6 +133,8 @@ fn capacity_power_cells<'py>(
     capacities: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
     tol: &Bound<'py, PyAny>,
+    region_vertices: Option<&Bound<'py, PyAny>>,
+    ring_offsets: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let options = CellsOptions { tol: float_arg(tol, "tol", "in (0, 1)", |t| t > 0.0 && t < 1.0)? };
     let pts = points_arg(points, "points")?;
@@ -137,12 +143,14 @@ fn capacity_power_cells<'py>(
     let w = weights_arg(weights, "weights")?;
     let (p, s, c) = (as_point_slice(&pts), as_point_slice(&sts), caps.as_slice()?);
     let w = w.as_ref().map(|w| w.as_slice()).transpose()?;
-    let r = run_detached(py, || capacity_cells(p, s, c, Weights::from_option(w), &options))?;
+    let region = region_arg(region_vertices, ring_offsets)?;
+    let region = region.as_ref().map(|(v, o)| Region { vertices: as_point_slice(v), ring_offsets: o });
+    let r = run_detached(py, || capacity_cells(p, s, c, Weights::from_option(w), region, &options))?;
     let assignment: Vec<i64> = r.assignment.iter().map(|&j| j as i64).collect();
     let part_point: Vec<i64> = r.parts.iter().map(|e| e.0 as i64).collect();
     let part_site: Vec<i64> = r.parts.iter().map(|e| e.1 as i64).collect();
     let part_amount: Vec<f64> = r.parts.iter().map(|e| e.2).collect();
-    Ok(Fields::new(py)
+    let fields = Fields::new(py)
         .put("power", PyArray1::from_slice(py, &r.power))?
         .put("assignment", PyArray1::from_vec(py, assignment))?
         .put("share", PyArray1::from_slice(py, &r.share))?
@@ -158,7 +166,8 @@ fn capacity_power_cells<'py>(
         .put("newton_steps", r.newton_steps)?
         .put("exact_points", r.exact_points)?
         .put("augmentations", r.augmentations)?
-        .done())
+        .put("cell_site", PyArray1::from_vec(py, rows(&r.cell_site)))?;
+    Ok(cell_fields(py, fields, r.cells)?.done())
 }
 
 pub(super) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {

@@ -114,7 +114,7 @@ fn delaunay_grouped<'py>(
 
 /// The cells' rings as fields: vertices (V, 2), offsets (n + 1,), parts (R + 1,), area (n,),
 /// exterior (R,).
-fn cell_fields<'py>(py: Python<'py>, fields: Fields<'py>, cells: VoronoiCells) -> PyResult<Fields<'py>> {
+pub(super) fn cell_fields<'py>(py: Python<'py>, fields: Fields<'py>, cells: VoronoiCells) -> PyResult<Fields<'py>> {
     let v = cells.vertices.len();
     fields
         .put("vertices", PyArray1::from_vec(py, flat_points(&cells.vertices)).reshape([v, 2])?)?

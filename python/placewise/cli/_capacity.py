@@ -33,6 +33,24 @@ def _cmd_capacity_allocation(args: argparse.Namespace) -> None:
     _note(args, text)
 
 
+def _cmd_capacity_cells(args: argparse.Namespace) -> None:
+    from .. import gis
+
+    demand = read_points(args.input, args, "the demand", ("weight",))
+    sites = read_points(args.sites, args, "the sites", ("capacity",), main=False)
+    region = None if args.region is None else read_points(args.region, args, "the region", (), main=False)
+    plan = gis.capacity_cells(demand, sites, args.capacity, args.weight, region=region, **_common(args))
+    write_frame(plan.cells, args.output, args, "cells")
+    if args.demand_out is not None:
+        write_frame(plan.demand, args.demand_out, args, "allocation")
+    _write_summary(plan.summary, args)
+    s = plan.summary
+    cost, unit = _measure(s, "cost")
+    _note(args, f"{len(plan.cells)} cell(s) holding {len(plan.demand)} row(s); total weighted squared distance "
+                f"{float(s[cost].iloc[0]):.6g} (weight x {_unit_text(unit[:-1])} squared); "
+                f"{int(s['split_points'].iloc[0])} row(s) split between sites")
+
+
 def add_capacity_options(p: argparse.ArgumentParser) -> None:
     """``--capacity COLUMN`` of ``p-median`` (read from its ``--candidates`` file)."""
     p.add_argument("--capacity", metavar="COLUMN", help="column of the --candidates file holding the demand each "
@@ -74,3 +92,13 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
                         "(default: stop with the shortfall)")
     p.add_argument("--sites-out", metavar="FILE", help="also write the sites with capacity, load and slack")
     p.add_argument("--parts", metavar="FILE", help="also write one row per part of a row split between sites")
+    p = command("capacity-cells", _cmd_capacity_cells,
+                "capacity-constrained catchments: each site's cell holding its capacity of demand, as polygons",
+                [parents.weight, parents.summary])
+    p.add_argument("--sites", metavar="FILE", required=True, help="the sites, with a capacity column")
+    p.add_argument("--capacity", metavar="COLUMN", required=True,
+                   help="column of the sites file holding the demand each site serves (in --weight units)")
+    p.add_argument("--region", metavar="FILE",
+                   help="polygons of the study region, holding every demand row (default: the box of the demand "
+                        "and sites + 10%%)")
+    p.add_argument("--demand-out", metavar="FILE", help="also write the demand rows with their site and share")

@@ -44,7 +44,7 @@ Requires the ``geo`` extra (geopandas, pyproj).
 
 from __future__ import annotations
 
-from .capacities import AllocationLayers, capacity_allocation, capacity_cells
+from .capacities import AllocationLayers, CellLayers, capacity_allocation, capacity_cells
 from .catchments import power_cells, voronoi_cells
 from .coverage import cover_all, cover_most, evaluate_sites
 from .networks import Network, spanning_tree, steiner_tree
@@ -53,6 +53,7 @@ from .sites import enclosing_circle, enclosing_ellipse, minimax_point, weber_poi
 
 __all__ = [
     "AllocationLayers",
+    "CellLayers",
     "Network",
     "SitePlan",
     "capacity_cells",

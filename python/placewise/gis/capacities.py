@@ -4,19 +4,17 @@ much (:func:`placewise.capacity_allocation`) and capacity-constrained catchments
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING, Any, NamedTuple
+from typing import Any, NamedTuple
 
 import numpy as np
 
 import placewise as _pw
 
 from .._errors import labelled
-from ._frames import MAX_SCALE_ERROR, call, column, in_user_terms, prepare, weights, with_unit
+from ._frames import MAX_SCALE_ERROR, call, column, framed, in_user_terms, prepare, weights, with_unit
+from ._together import region_geometry
 
-if TYPE_CHECKING:  # plans imports this module (capacities_of)
-    from .plans import SitePlan
-
-__all__ = ["AllocationLayers", "capacity_allocation", "capacity_cells"]
+__all__ = ["AllocationLayers", "CellLayers", "capacity_allocation", "capacity_cells"]
 
 
 class AllocationLayers(NamedTuple):
@@ -45,6 +43,34 @@ class AllocationLayers(NamedTuple):
     sites: Any
     demand: Any
     parts: Any
+    summary: Any
+
+
+class CellLayers(NamedTuple):
+    """Capacity-constrained catchments as four tables that every file writer keeps.
+
+    Attributes
+    ----------
+    sites : GeoDataFrame
+        A copy of the sites frame (points) with ``capacity``, ``load``, ``slack`` and
+        ``power_<unit>2``.
+    demand : GeoDataFrame
+        A copy of the demand frame with ``site`` (the index label of the site serving the
+        largest share), ``share`` and ``cost_<unit>2``.
+    cells : GeoDataFrame
+        The sites' columns with each site's cell (clipped to the region) as geometry, in the
+        sites' CRS: ``area_<unit>2`` (in the working CRS), ``capacity``, ``load``,
+        ``power_<unit>2`` and ``cell_site`` (the index label of the site whose geometry is
+        this site's cell: sites at one location share one; None for a site without
+        capacity, whose cell is empty).
+    summary : DataFrame
+        One row of totals (see :meth:`placewise.capacity.CapacityCells.summary`), with the
+        working CRS and its scale error for geographic input.
+    """
+
+    sites: Any
+    demand: Any
+    cells: Any
     summary: Any
 
 
@@ -129,11 +155,11 @@ def capacities_of(candidates: Any, capacity: Any, *, planar: bool, centroids: bo
 
 
 def capacity_cells(
-    demand: Any, sites: Any, capacity: Any, weight: Any = None, *, tol: float = 1e-9,
+    demand: Any, sites: Any, capacity: Any, weight: Any = None, *, region: Any = None, tol: float = 1e-9,
     planar: bool = False, centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
-) -> SitePlan:
+) -> CellLayers:
     """Capacity-constrained catchments (:func:`placewise.capacity_cells`) of the sites
-    frame, in the working CRS (a UTM zone for geographic input).
+    frame, in the working CRS (a UTM zone for geographic input), with the cells as polygons.
 
     Parameters
     ----------
@@ -142,36 +168,42 @@ def capacity_cells(
         The sites' capacity column (or values), in weight units.
     weight : str or array_like, optional
         Demand weight column (or values); default 1 per row.
+    region : GeoDataFrame, GeoSeries or shapely geometry, optional
+        The study region the cells are clipped to, in any CRS (a bare shapely geometry is
+        taken to be in the demand's CRS), as for :func:`voronoi_cells`; it must hold every
+        demand row. Default: the bounding box of the demand and sites grown by 10 %.
     tol : float
         Relative tolerance on the totals.
+    planar, centroids, work_crs, max_scale_error
+        As in :func:`placewise.gis.weber_point`.
 
     Returns
     -------
-    SitePlan
-        ``sites`` (the sites frame with ``capacity``, ``load``, ``slack`` and
-        ``power_<unit>2``), ``demand`` (with ``site``, the index label of the site serving
-        the largest share, and ``share``) and ``summary`` (``cost_<unit>2``,
-        ``distance_cost_<unit>``, totals; the working CRS and its scale error for
-        geographic input).
+    CellLayers
+        ``sites``, ``demand``, ``cells`` (the cells as polygons, in the sites' CRS) and
+        ``summary``.
 
     Examples
     --------
-    >>> import geopandas as gpd
+    >>> import geopandas as gpd, shapely
     >>> from placewise import gis
     >>> depots = gpd.GeoDataFrame({"room": [2.0, 3.0]}, index=["west", "east"],
     ...                           geometry=gpd.points_from_xy([0, 4], [0, 0]))
     >>> shops = gpd.GeoSeries(gpd.points_from_xy([0, 1, 2, 3, 4], [0, 0, 0, 0, 0]))
-    >>> plan = gis.capacity_cells(shops, depots, "room", planar=True)
+    >>> plan = gis.capacity_cells(shops, depots, "room", region=shapely.box(-1, -1, 5, 1), planar=True)
     >>> plan.demand["site"].tolist(), plan.sites["load"].tolist()
     (['west', 'west', 'east', 'east', 'east'], [2.0, 3.0])
+    >>> plan.cells.geometry.area.round(9).tolist(), plan.cells["cell_site"].tolist()
+    ([5.0, 7.0], ['west', 'east'])
     """
     model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
     df = prepare(demand, "demand", planar=planar, centroids=centroids, **model)
     sf = prepare(sites, "sites", planar=planar, centroids=centroids, work=df.work, **model)
     caps = column(sf.frame, capacity, "sites", "capacity")
+    geom = region_geometry(region, df, "demand")
     rows = {"points": df.rows, "weights": df.rows, "sites": sf.rows, "capacities": sf.rows}
-    result = with_unit(call(_pw.capacity_cells, df.xy, sf.xy, caps, weights(df, weight, "demand"), tol=tol,
-                            rows=rows), df)
+    result = with_unit(call(_pw.capacity_cells, df.xy, sf.xy, caps, weights(df, weight, "demand"), region=geom,
+                            tol=tol, rows=rows), df)
     table = result.sites_frame()
     out_sites = sf.frame.copy()
     for name in table.columns.drop(["x", "y"]):
@@ -180,7 +212,18 @@ def capacity_cells(
     out_demand["site"] = sf.frame.index.to_numpy(dtype=object)[result.assignment]
     out_demand["share"] = result.share
     out_demand[f"cost_{df.unit}2"] = result.cost
-    from .plans import SitePlan
+    polygons = framed(with_unit(result.cells, sf), sf, None, rows, row_columns=("cell_site",))
+    out_cells = _cells_layer(sf, polygons)
+    summary = in_user_terms(result.summary(), result, None, rows, prepared=df)
+    return CellLayers(out_sites, out_demand, out_cells, summary)
 
-    return SitePlan(out_sites, out_demand, in_user_terms(result.summary(), result, None, rows, prepared=df))
 
+def _cells_layer(sf: Any, polygons: Any) -> Any:
+    """The sites' own columns with the cells' geometry and columns (sites' CRS, index)."""
+    import geopandas as gpd
+
+    out = gpd.GeoDataFrame(sf.frame.drop(columns=sf.frame.geometry.name), geometry=polygons.geometry.values,
+                           crs=polygons.crs)
+    for name in polygons.columns.drop([polygons.geometry.name, "x", "y"]):
+        out[name] = polygons[name].to_numpy()
+    return out

@@ -2,16 +2,14 @@
 //! gap to the second least (how far the point is from a cell boundary, in squared units).
 //!
 //! Kept behind one function so the whole-diagram assignment of the power-diagram family
-//! can replace it. Each point keeps its `K` nearest sites by plain distance (an R*-tree,
-//! Beckmann et al. 1990); a site outside that list is at least `d_K² − max_j w_j` away in
-//! power, so the listed best and second best are exact whenever the second best is below
-//! that bound, and the point falls back to every site otherwise.
+//! can replace it. Each point keeps its `K` nearest sites by plain distance (a bucket grid
+//! searched ring by ring, Bentley, Weide & Yao 1980); a site outside that list is at least
+//! `d_K² − max_j w_j` away in power, so the listed best and second best are exact whenever
+//! the second best is below that bound, and the point falls back to every site otherwise.
 
 use rayon::prelude::*;
-use rstar::primitives::GeomWithData;
-use rstar::RTree;
 
-use crate::geometry::{distance_squared, Point};
+use crate::geometry::{distance_squared, BoundingBox, Point};
 
 /// Sites listed per point.
 pub(super) const LISTED: usize = 12;
@@ -32,21 +30,17 @@ impl Candidates {
     pub fn new(points: &[Point], sites: &[Point]) -> Candidates {
         let m = sites.len();
         let k = LISTED.min(m);
-        let tree = RTree::bulk_load(sites.iter().enumerate().map(|(j, &s)| GeomWithData::new(s, j)).collect());
-        let rows: Vec<(Vec<u32>, f64)> = points
-            .par_iter()
-            .map(|p| {
-                let near: Vec<u32> = tree.nearest_neighbor_iter(*p).take(k).map(|s| s.data as u32).collect();
-                let outside = if k == m { f64::INFINITY } else { distance_squared(*p, sites[near[k - 1] as usize]) };
-                (near, outside)
-            })
-            .collect();
-        let mut list = Vec::with_capacity(points.len() * k);
-        let mut outside = Vec::with_capacity(points.len());
-        for (near, o) in rows {
-            list.extend(near);
-            outside.push(o);
-        }
+        let grid = SiteGrid::new(sites);
+        let mut list = vec![0u32; points.len() * k];
+        let mut outside = vec![0.0; points.len()];
+        list.par_chunks_mut(k).zip(outside.par_iter_mut()).zip(points.par_iter()).for_each_init(
+            || Vec::with_capacity(4 * k),
+            |found, ((row, out), &p)| {
+                grid.nearest(p, sites, k, found);
+                row.iter_mut().zip(found.iter()).for_each(|(r, &(_, j))| *r = j);
+                *out = if k == m { f64::INFINITY } else { found[k - 1].0 };
+            },
+        );
         Candidates { per_point: k, sites: list, outside }
     }
 
@@ -54,6 +48,96 @@ impl Candidates {
     #[inline]
     pub fn of(&self, i: usize) -> &[u32] {
         &self.sites[i * self.per_point..(i + 1) * self.per_point]
+    }
+}
+
+/// Sites in square buckets of about two sites each (CSR by bucket, row-major).
+struct SiteGrid {
+    origin: Point,
+    cell: f64,
+    columns: usize,
+    rows: usize,
+    start: Vec<u32>,
+    members: Vec<u32>,
+}
+
+impl SiteGrid {
+    fn new(sites: &[Point]) -> SiteGrid {
+        let b = BoundingBox::of(sites).expect("sites validated non-empty");
+        let (w, h) = (b.max[0] - b.min[0], b.max[1] - b.min[1]);
+        let span = w.max(h);
+        // About two sites per bucket over the box (a flat box: along its length).
+        let area = if w > 0.0 && h > 0.0 { w * h } else { span * span / sites.len() as f64 };
+        let cell = if span > 0.0 { (2.0 * area / sites.len() as f64).sqrt().max(span * 1e-9) } else { 1.0 };
+        let count = |extent: f64| ((extent / cell).floor() as usize + 1).min(1 << 12);
+        let (columns, rows) = (count(w), count(h));
+        let mut grid =
+            SiteGrid { origin: b.min, cell, columns, rows, start: vec![0; columns * rows + 1], members: Vec::new() };
+        let of: Vec<usize> = sites.iter().map(|&s| grid.bucket(s)).collect();
+        of.iter().for_each(|&c| grid.start[c + 1] += 1);
+        for c in 0..columns * rows {
+            grid.start[c + 1] += grid.start[c];
+        }
+        let mut next = grid.start.clone();
+        grid.members = vec![0; sites.len()];
+        for (j, &c) in of.iter().enumerate() {
+            grid.members[next[c] as usize] = j as u32;
+            next[c] += 1;
+        }
+        grid
+    }
+
+    /// Column and row of the bucket holding `p` (clamped to the grid).
+    fn cell_of(&self, p: Point) -> (usize, usize) {
+        let at = |v: f64, o: f64, n: usize| (((v - o) / self.cell).floor().max(0.0) as usize).min(n - 1);
+        (at(p[0], self.origin[0], self.columns), at(p[1], self.origin[1], self.rows))
+    }
+
+    fn bucket(&self, p: Point) -> usize {
+        let (c, r) = self.cell_of(p);
+        r * self.columns + c
+    }
+
+    /// The `k` nearest sites of `p` as `(squared distance, site)`, ascending (ties by site),
+    /// in `found`. Buckets are visited in square rings round the point's bucket; a site in
+    /// a ring not yet visited is at least `ring · cell` away, which ends the search.
+    fn nearest(&self, p: Point, sites: &[Point], k: usize, found: &mut Vec<(f64, u32)>) {
+        found.clear();
+        let (c0, r0) = self.cell_of(p);
+        let (c0, r0) = (c0 as isize, r0 as isize);
+        let widest = self.columns.max(self.rows) as isize;
+        for ring in 0..=widest {
+            let mut visit = |c: isize, r: isize| {
+                if c < 0 || r < 0 || c >= self.columns as isize || r >= self.rows as isize {
+                    return;
+                }
+                let b = r as usize * self.columns + c as usize;
+                for &j in &self.members[self.start[b] as usize..self.start[b + 1] as usize] {
+                    let d = distance_squared(p, sites[j as usize]);
+                    if found.len() < k || (d, j) < found[k - 1] {
+                        let at = found.partition_point(|e| *e < (d, j));
+                        found.insert(at, (d, j));
+                        found.truncate(k);
+                    }
+                }
+            };
+            if ring == 0 {
+                visit(c0, r0);
+            } else {
+                for c in c0 - ring..=c0 + ring {
+                    visit(c, r0 - ring);
+                    visit(c, r0 + ring);
+                }
+                for r in r0 - ring + 1..r0 + ring {
+                    visit(c0 - ring, r);
+                    visit(c0 + ring, r);
+                }
+            }
+            let reach = ring as f64 * self.cell;
+            if found.len() == k && found[k - 1].0 <= reach * reach {
+                break;
+            }
+        }
     }
 }
 
@@ -97,4 +181,33 @@ fn two_least(p: Point, sites: &[Point], powers: &[f64], which: impl Iterator<Ite
         }
     }
     (best, first, second)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::partition::testing::lcg_cloud;
+
+    #[test]
+    fn listed_sites_are_the_nearest_by_brute_force() {
+        // Clustered, collinear, repeated and far-away sites; points inside and outside their box.
+        let mut clustered = lcg_cloud(40, 3, [0.0, 0.0], 1.0);
+        clustered.extend(lcg_cloud(40, 4, [50.0, 50.0], 0.1));
+        let line: Vec<Point> = (0..30).map(|j| [j as f64, 2.0]).collect();
+        let repeated = vec![[1.0, 1.0]; 20];
+        for sites in [clustered, line, repeated, vec![[0.0, 0.0], [1e6, -1e6], [3.0, 4.0]]] {
+            let points = lcg_cloud(500, 9, [-20.0, -20.0], 100.0);
+            let c = Candidates::new(&points, &sites);
+            for (i, &p) in points.iter().enumerate() {
+                let mut all: Vec<(f64, u32)> =
+                    sites.iter().enumerate().map(|(j, &s)| (distance_squared(p, s), j as u32)).collect();
+                all.sort_by(|a, b| a.partial_cmp(b).unwrap());
+                let expected: Vec<u32> = all[..c.per_point].iter().map(|e| e.1).collect();
+                assert_eq!(c.of(i), expected.as_slice(), "point {i}");
+                if c.per_point < sites.len() {
+                    assert_eq!(c.outside[i], all[c.per_point - 1].0);
+                }
+            }
+        }
+    }
 }

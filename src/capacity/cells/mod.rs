@@ -19,6 +19,10 @@
 //!    served only by sites of least power distance and every capacity is met: the plan and
 //!    the powers satisfy complementary slackness, so both are optimal.
 //!
+//! The cells as polygons are those of the final powers, built by the power-diagram family
+//! ([`crate::partition::power_cells`]) over the locations with capacity and clipped to the
+//! region there.
+//!
 //! Capacity above the demand: sites may be under-full. The dual then has the constraint
 //! `w_j ≤ 0` with `w_j = 0` wherever a site has slack; equivalently a virtual point of the
 //! surplus, at cost 0 from every site, goes to the sites of largest power. Powers are
@@ -33,7 +37,18 @@ use smooth::Smoothed;
 use super::transport::solve_from;
 use super::validate;
 use crate::error::{Error, Result};
-use crate::geometry::{distance_squared, location_key, BoundingBox, CompensatedSum, Point, Weights};
+use crate::geometry::{distance_squared, location_key, BoundingBox, CompensatedSum, FeasibleRegion, Point, Weights};
+use crate::partition::{default_rings, power_cells, Region, VoronoiCells};
+
+/// Stage timings on stderr, in test builds with `CELLS_STAGES` set (the `timing_stages`
+/// test); nothing otherwise.
+macro_rules! stage {
+    ($($t:tt)*) => {
+        if cfg!(test) && std::env::var_os("CELLS_STAGES").is_some() {
+            eprintln!($($t)*);
+        }
+    };
+}
 
 /// Options of [`capacity_cells`].
 #[derive(Debug, Clone, Copy)]
@@ -83,27 +98,43 @@ pub struct CapacityCells {
     pub exact_points: usize,
     /// Augmenting paths of the exact finish.
     pub augmentations: usize,
+    /// The cells of the final powers clipped to the region, one per input site (the layout
+    /// of [`VoronoiCells`]). Sites at one location share one cell: the first of them with
+    /// capacity holds its rings, the others have none (see `cell_site`); a site without
+    /// capacity has no cell.
+    pub cells: VoronoiCells,
+    /// Per site, the site whose rings in `cells` are its cell: itself, the first site with
+    /// capacity at its location, or `None` for a site without capacity (no cell).
+    pub cell_site: Vec<Option<usize>>,
 }
 
 /// Most rounds of the exact finish before it takes every point.
 const FINISH_ROUNDS: usize = 24;
 
-/// The powers whose power cells hold each site's capacity of demand, and the plan.
+/// The powers whose power cells hold each site's capacity of demand, the plan, and the
+/// cells clipped to `region` (default: the bounding box of the points and sites together,
+/// grown by 10 % on every side, so that it holds every point).
 ///
 /// # Errors
-/// Bad points, sites, weights or capacities (see [`super::validate`]);
+/// Bad points, sites, weights or capacities (see [`super::validate`]); the region's errors
+/// of [`power_cells`] and [`FeasibleRegion::new`] (rings that cross are refused);
+/// [`Error::OutsideRegion`] naming the first point outside the region (on its boundary is
+/// inside); [`Error::Degenerate`] naming `region` when there is none and the points and
+/// sites all coincide;
 /// [`Error::InvalidParameter`] naming `tol` unless `0 < tol < 1`; [`Error::Shortfall`]
 /// when total capacity is below total demand by more than `tol` relative.
 ///
 /// # Runtime
 /// O(n log m) to list each point's nearest sites, O(n) per Newton step (tens of steps),
 /// then the exact finish: O(n'·m) plus O(m²) per augmentation for the `n'` points near
-/// cell boundaries.
+/// cell boundaries; O(m log m) for the cells (O(r) more per cell meeting an r-vertex region
+/// boundary) and O(n log r) to check the points against a given region.
 pub fn capacity_cells(
     points: &[Point],
     sites: &[Point],
     capacities: &[f64],
     weights: Weights<'_>,
+    region: Option<Region<'_>>,
     options: &CellsOptions,
 ) -> Result<CapacityCells> {
     let tol = options.tol;
@@ -114,12 +145,21 @@ pub fn capacity_cells(
     if capacity_total < demand_total * (1.0 - tol) {
         return Err(Error::Shortfall { demand: demand_total, capacity: capacity_total });
     }
+    let default_box = match region {
+        Some(r) => {
+            inside_region(points, r)?;
+            None
+        }
+        None => Some(grown_box(points, sites)?),
+    };
     // Totals equal within tol: scale the capacities to the demand (exactly balanced).
     let factor = if capacity_total <= demand_total * (1.0 + tol) { demand_total / capacity_total } else { 1.0 };
     let surplus = if factor == 1.0 { capacity_total - demand_total } else { 0.0 };
     let groups = Locations::of(sites, capacities, factor);
     let demand: Vec<f64> = (0..points.len()).map(|i| weights.get(i)).collect();
+    let t0 = std::time::Instant::now();
     let candidates = Candidates::new(points, &groups.sites);
+    stage!("candidates {:?}", t0.elapsed());
 
     // Stage 1: approximate powers.
     let mut span = points.to_vec();
@@ -140,10 +180,52 @@ pub fn capacity_cells(
     };
     let (mut w, eps, newton_steps) = smoothed.solve(vec![0.0; groups.sites.len()], start_eps, final_eps, 400);
     normalise(&mut w);
+    stage!("newton {:?} steps {newton_steps} eps {eps:e}", t0.elapsed());
 
     // Stage 2: the exact finish.
     let finish = exact_finish(points, &demand, &groups, surplus, &candidates, w, 16.0 * eps, 1e-12 * scale)?;
-    Ok(describe(points, sites, capacities, &demand, &groups, finish, newton_steps, demand_total))
+    stage!("finish {:?} exact {} aug {}", t0.elapsed(), finish.exact_points, finish.augmentations);
+    // The cells of the final powers, one per location with capacity, then laid out by site.
+    let boxed = default_box.as_ref().map(|ring| Region { vertices: ring, ring_offsets: &[0, 4] });
+    let located = power_cells(&groups.sites, &finish.power, region.or(boxed)).map_err(|e| match e {
+        // Its rows are locations, not input rows.
+        Error::Degenerate { argument: "sites", .. } => Error::Degenerate {
+            argument: "sites",
+            reason: "two sites are too close together for the extent of the region and points: they round to one \
+                     location once scaled to it"
+                .into(),
+        },
+        other => other,
+    })?;
+    let cell_site: Vec<Option<usize>> = groups.of_site.iter().map(|g| g.map(|g| groups.members[g][0])).collect();
+    let holder: Vec<Option<usize>> =
+        (0..sites.len()).map(|j| groups.of_site[j].filter(|&g| groups.members[g][0] == j)).collect();
+    let cells = located.cells.picked(&holder);
+    let d =
+        describe(points, sites, capacities, &demand, &groups, finish, (cells, cell_site), newton_steps, demand_total);
+    stage!("describe+cells {:?}", t0.elapsed());
+    Ok(d)
+}
+
+/// Refuse the first point outside `region` (exact membership; the boundary is inside).
+fn inside_region(points: &[Point], region: Region<'_>) -> Result<()> {
+    use rayon::prelude::*;
+    let area = FeasibleRegion::new(region.vertices, region.ring_offsets)?;
+    match points.par_iter().position_first(|&p| !area.contains(p)) {
+        Some(row) => Err(Error::OutsideRegion { argument: "points", row, point: points[row] }),
+        None => Ok(()),
+    }
+}
+
+/// The default region: the points' and sites' bounding box grown by 10 % on every side.
+fn grown_box(points: &[Point], sites: &[Point]) -> Result<Vec<Point>> {
+    let mut span = points.to_vec();
+    span.extend_from_slice(sites);
+    let mut rings = default_rings(&span).map_err(|_| Error::Degenerate {
+        argument: "region",
+        reason: "the points and sites all coincide (their bounding box has no extent); pass a region".into(),
+    })?;
+    Ok(rings.swap_remove(0))
 }
 
 /// Shift powers so that the largest is 0.
@@ -247,7 +329,9 @@ fn exact_finish(
                 0.0
             }
         };
+        let t1 = std::time::Instant::now();
         let plan = solve_from(&sub_demand, &residual, &cost, &prices)?;
+        stage!("round {round} open {} aug {} in {:?}", open.len(), plan.augmentations, t1.elapsed());
         let mut power: Vec<f64> = plan.price.iter().map(|&y| -y).collect();
         normalise(&mut power);
         // Every kept point must lie in its site's final cell.
@@ -291,6 +375,7 @@ fn describe(
     demand: &[f64],
     groups: &Locations,
     finish: Finish,
+    cells: (VoronoiCells, Vec<Option<usize>>),
     newton_steps: usize,
     total_demand: f64,
 ) -> CapacityCells {
@@ -312,6 +397,8 @@ fn describe(
         newton_steps,
         exact_points: finish.exact_points,
         augmentations: finish.augmentations,
+        cells: cells.0,
+        cell_site: cells.1,
     };
     let mut loads = vec![CompensatedSum::default(); m];
     let mut total = CompensatedSum::default();
@@ -435,7 +522,7 @@ mod tests {
             let sites = lcg_cloud(9, seed + 10, [0.0, 0.0], 10.0);
             // Σ_{j<9} (200 + 30 j) = 2880: the capacities scaled to the 3000 points (times the surplus).
             let caps: Vec<f64> = (0..9).map(|j| (200.0 + 30.0 * j as f64) * surplus * 3000.0 / 2880.0).collect();
-            let c = capacity_cells(&points, &sites, &caps, Weights::Unit, &CellsOptions::default()).unwrap();
+            let c = capacity_cells(&points, &sites, &caps, Weights::Unit, None, &CellsOptions::default()).unwrap();
             let reference = transport(&vec![1.0; 3000], &caps, &|i, j| distance_squared(points[i], sites[j])).unwrap();
             let best: f64 = reference
                 .flows
@@ -462,15 +549,70 @@ mod tests {
         let points = lcg_cloud(400, 7, [0.0, 0.0], 1.0);
         let sites = [[0.2, 0.2], [0.8, 0.8], [0.2, 0.2], [5.0, 5.0]];
         let caps = [100.0, 200.0, 100.0, 0.0];
-        let c = capacity_cells(&points, &sites, &caps, Weights::Unit, &CellsOptions::default()).unwrap();
+        let c = capacity_cells(&points, &sites, &caps, Weights::Unit, None, &CellsOptions::default()).unwrap();
         check_cells(&points, &sites, &caps, &c);
         assert_eq!(c.power[0], c.power[2]);
         for j in 0..3 {
             assert!((c.load[j] - caps[j]).abs() < 1e-9);
         }
         assert_eq!(c.load[3], 0.0);
-        let e = capacity_cells(&points, &sites, &[10.0, 10.0, 10.0, 0.0], Weights::Unit, &CellsOptions::default())
-            .unwrap_err();
+        let e =
+            capacity_cells(&points, &sites, &[10.0, 10.0, 10.0, 0.0], Weights::Unit, None, &CellsOptions::default())
+                .unwrap_err();
         assert_eq!(e, Error::Shortfall { demand: 400.0, capacity: 30.0 });
+    }
+
+    #[test]
+    fn cells_tile_the_region_share_locations_and_refuse_outside_points() {
+        let points = lcg_cloud(600, 4, [5.0, 5.0], 4.0);
+        let sites = [[3.0, 3.0], [7.0, 7.0], [3.0, 3.0], [7.0, 3.0], [5.0, 5.0]];
+        let caps = [150.0, 200.0, 150.0, 100.0, 0.0];
+        let square = [[0.0, 0.0], [10.0, 0.0], [10.0, 10.0], [0.0, 10.0]];
+        let region = Region { vertices: &square, ring_offsets: &[0, 4] };
+        let c = capacity_cells(&points, &sites, &caps, Weights::Unit, Some(region), &CellsOptions::default()).unwrap();
+        assert_eq!(c.cell_site, [Some(0), Some(1), Some(0), Some(3), None]);
+        // Area of the tiling (shoelace, an independent sum) and empty rows for the sharers.
+        assert!((c.cells.area.iter().sum::<f64>() - 100.0).abs() < 1e-9);
+        assert!(c.cells.area[0] > 0.0 && c.cells.area[2] == 0.0 && c.cells.area[4] == 0.0);
+        assert_eq!(c.cells.offsets[3], c.cells.offsets[2]);
+        // Each point lies in its site's cell, up to rounding: its least power distance site.
+        check_cells(&points, &sites, &caps, &c);
+        let mut outside = points.clone();
+        outside[17] = [10.5, 2.0];
+        let e =
+            capacity_cells(&outside, &sites, &caps, Weights::Unit, Some(region), &CellsOptions::default()).unwrap_err();
+        assert_eq!(e, Error::OutsideRegion { argument: "points", row: 17, point: [10.5, 2.0] });
+        assert_eq!(
+            e.to_string(),
+            "points[17] at (10.5, 2) lies outside the region; every point must lie in the region or on its boundary"
+        );
+        let e = capacity_cells(&[[1.0, 1.0]], &[[1.0, 1.0]], &[1.0], Weights::Unit, None, &CellsOptions::default())
+            .unwrap_err();
+        assert!(matches!(e, Error::Degenerate { argument: "region", .. }));
+    }
+
+    #[test]
+    #[ignore]
+    fn timing_stages() {
+        let sizes: Vec<(usize, usize)> = std::env::var("CELLS_SIZES")
+            .unwrap_or("100000x100".into())
+            .split(',')
+            .map(|t| {
+                let (a, b) = t.split_once('x').unwrap();
+                (a.parse().unwrap(), b.parse().unwrap())
+            })
+            .collect();
+        for (n, m) in sizes {
+            let mut r = crate::geometry::random::SplitMix64::new(5);
+            let points: Vec<Point> = (0..n).map(|_| [20_000.0 * r.next_f64(), 20_000.0 * r.next_f64()]).collect();
+            let sites: Vec<Point> = (0..m).map(|_| [20_000.0 * r.next_f64(), 20_000.0 * r.next_f64()]).collect();
+            let mut caps: Vec<f64> = (0..m).map(|_| 0.8 + 0.4 * r.next_f64()).collect();
+            let s: f64 = caps.iter().sum();
+            caps.iter_mut().for_each(|c| *c *= n as f64 / s);
+            let t = std::time::Instant::now();
+            let c = capacity_cells(&points, &sites, &caps, Weights::Unit, None, &CellsOptions::default()).unwrap();
+            let worst = (0..m).map(|j| (c.load[j] - caps[j]).abs() / caps[j]).fold(0.0, f64::max);
+            eprintln!("total {n}x{m}: {:?}, worst load error {worst:e}", t.elapsed());
+        }
     }
 }

@@ -140,6 +140,7 @@ fn cells_within(sites: &[Point], powers: &[f64], rings: Option<&[Vec<Point>]>) -
     }
     let mut triangulation = None;
     let mut overflow = None;
+    let mut collapsed = None;
     let cells = clipped_cells(sites, rings, |cf| {
         // Powers are squared lengths: they scale by the frame's factor squared.
         let f2 = cf.frame.factor * cf.frame.factor;
@@ -148,6 +149,12 @@ fn cells_within(sites: &[Point], powers: &[f64], rings: Option<&[Vec<Point>]>) -
             cf.sites.iter().zip(&local_powers).map(|(p, &w)| [p[0], p[1], dot(*p, *p) - w]).collect();
         if let Some(index) = lifted.iter().position(|l| !l[2].is_finite()) {
             overflow = Some(index);
+            return vec![Vec::new(); n];
+        }
+        // Sites far closer together than the region is wide can round to one location in
+        // the working frame; the triangulation needs them distinct.
+        if let Err(Error::RepeatedPoint { row, first, .. }) = check_distinct(&cf.sites) {
+            collapsed = Some((first, row));
             return vec![Vec::new(); n];
         }
         let t = regular::regular(&cf.sites, &lifted);
@@ -173,6 +180,15 @@ fn cells_within(sites: &[Point], powers: &[f64], rings: Option<&[Vec<Point>]>) -
             reason: format!(
                 "powers[{index}] is too large for the sites' spacing (its square-unit value overflows once the \
                  sites are scaled to a unit frame)"
+            ),
+        });
+    }
+    if let Some((first, row)) = collapsed {
+        return Err(Error::Degenerate {
+            argument: "sites",
+            reason: format!(
+                "sites[{first}] and sites[{row}] are too close together for the extent of the region: they round to \
+                 one location once scaled to it"
             ),
         });
     }
