@@ -176,11 +176,22 @@ pub fn sphere_voronoi_cells(sites: &[Point], options: &SphereCellOptions) -> Res
             (ring, solid)
         })
         .collect();
-    // Sites a hair apart (distinct coordinates, unit vectors equal after rounding) leave a
-    // cell without area: refused as repeats rather than answered with NaN.
+    // Sites a hair apart (distinct unit vectors, but so close that the bisector between them
+    // is lost to rounding) leave a cell without a measurable area: refused, naming the pair,
+    // rather than answered with NaN.
     if let Some(row) = rings.iter().position(|r| !r.1.is_finite()) {
-        let first = (0..n).find(|&k| k != row && p[distinct_of[k]] == p[distinct_of[row]]).unwrap_or(row);
-        return Err(Error::RepeatedPoint { argument: "sites", row: row.max(first), first: row.min(first) });
+        let v = p[distinct_of[row]];
+        let closeness = |k: usize| dot(p[distinct_of[k]], v);
+        let other = (0..n).filter(|&k| k != row).max_by(|&a, &b| closeness(a).total_cmp(&closeness(b))).unwrap_or(row);
+        return Err(Error::Degenerate {
+            argument: "sites",
+            reason: format!(
+                "sites[{}] and sites[{}] lie so close together that rounding leaves a cell without area; merge them \
+                 or move one",
+                row.min(other),
+                row.max(other)
+            ),
+        });
     }
     let vertices: Vec<Point> = vectors.iter().map(|&x| from_normal(x)).collect();
     let mut vertex_offsets = vec![0];

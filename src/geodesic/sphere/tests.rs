@@ -162,3 +162,15 @@ fn spanning_tree_matches_prim_on_chords() {
     assert!((ours - prim).abs() < 1e-12, "{ours} {prim}");
     let _ = unit([1.0, 0.0, 0.0]);
 }
+
+#[test]
+fn sites_a_hair_apart_are_named_not_answered_with_nan() {
+    // Longitudes 0 and 1e-260 degrees at one latitude: distinct unit vectors whose bisector
+    // is lost to rounding (found by a property test).
+    let sites = [[-180.0, 90.0], [0.0, 1.0], [179.999, 0.0], [9.385798202975875e-261, 1.0]];
+    match sphere_voronoi_cells(&sites, &SphereCellOptions::default()) {
+        Ok(cells) => assert!(cells.solid_angle.iter().chain(&cells.area).all(|x| x.is_finite())),
+        Err(Error::Degenerate { reason, .. }) => assert!(reason.contains("sites[1] and sites[3]"), "{reason}"),
+        Err(other) => panic!("unexpected error {other:?}"),
+    }
+}
