@@ -179,10 +179,19 @@ pub fn sphere_voronoi_cells(sites: &[Point], options: &SphereCellOptions) -> Res
     // Sites a hair apart (distinct unit vectors, but so close that the bisector between them
     // is lost to rounding) leave a cell without a measurable area: refused, naming the pair,
     // rather than answered with NaN.
-    if let Some(row) = rings.iter().position(|r| !r.1.is_finite()) {
-        let v = p[distinct_of[row]];
-        let closeness = |k: usize| dot(p[distinct_of[k]], v);
-        let other = (0..n).filter(|&k| k != row).max_by(|&a, &b| closeness(a).total_cmp(&closeness(b))).unwrap_or(row);
+    if rings.iter().any(|r| !r.1.is_finite()) {
+        // The culprits: the closest pair of sites, which is an edge of the triangulation.
+        let (mut a, mut b, mut best) = (0usize, 0usize, f64::NEG_INFINITY);
+        for t in faces {
+            for k in 0..3 {
+                let (x, y) = (t[k] as usize, t[(k + 1) % 3] as usize);
+                let d = dot(p[x], p[y]);
+                if d > best {
+                    (a, b, best) = (x, y, d);
+                }
+            }
+        }
+        let (row, other) = (s.rows[a], s.rows[b]);
         return Err(Error::Degenerate {
             argument: "sites",
             reason: format!(
