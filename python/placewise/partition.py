@@ -49,6 +49,18 @@ def _group_slice(offsets: np.ndarray, position: int) -> slice:
     return slice(int(offsets[position]), int(offsets[position + 1]))
 
 
+def _cell_rings_of(cells: Any, rows: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """The cells of ``rows`` cut out of a grouped result's shared arrays: their vertices,
+    vertex offsets and ring offsets renumbered from 0, and the indices of their rings."""
+    lo, hi = cells.offsets[rows], cells.offsets[rows + 1]
+    first, last = np.searchsorted(cells.parts, lo), np.searchsorted(cells.parts, hi)
+    rings = np.concatenate([np.arange(a, b) for a, b in zip(first, last)] + [np.empty(0, np.int64)])
+    vertices = np.concatenate([cells.vertices[a:b] for a, b in zip(lo, hi)] + [np.empty((0, 2))])
+    offsets = np.concatenate([[0], np.cumsum(hi - lo)]).astype(np.int64)
+    parts = np.concatenate([[0], np.cumsum(cells.parts[rings + 1] - cells.parts[rings])]).astype(np.int64)
+    return vertices, offsets, parts, rings
+
+
 # --------------------------------------------------------------------------- Delaunay
 
 
@@ -474,13 +486,7 @@ class VoronoiCellSets(_Cells, Grouped):
 
     def _item(self, position: int) -> VoronoiCells:
         rows = _members(self.site_group, position)
-        lo, hi = self.offsets[rows], self.offsets[rows + 1]
-        # The group's rings, cell by cell, and their vertices.
-        first, last = np.searchsorted(self.parts, lo), np.searchsorted(self.parts, hi)
-        rings = np.concatenate([np.arange(a, b) for a, b in zip(first, last)] + [np.empty(0, np.int64)])
-        vertices = np.concatenate([self.vertices[a:b] for a, b in zip(lo, hi)] + [np.empty((0, 2))])
-        offsets = np.concatenate([[0], np.cumsum(hi - lo)]).astype(np.int64)
-        parts = np.concatenate([[0], np.cumsum(self.parts[rings + 1] - self.parts[rings])]).astype(np.int64)
+        vertices, offsets, parts, rings = _cell_rings_of(self, rows)
         return VoronoiCells(vertices, offsets, parts, self.area[rows].copy(), self.exterior[rings], self.sites[rows],
                             unit=self.unit)
 
@@ -701,12 +707,7 @@ class PowerCellSets(_PowerCells, Grouped):
 
     def _item(self, position: int) -> PowerCells:
         rows = _members(self.site_group, position)
-        lo, hi = self.offsets[rows], self.offsets[rows + 1]
-        first, last = np.searchsorted(self.parts, lo), np.searchsorted(self.parts, hi)
-        rings = np.concatenate([np.arange(a, b) for a, b in zip(first, last)] + [np.empty(0, np.int64)])
-        vertices = np.concatenate([self.vertices[a:b] for a, b in zip(lo, hi)] + [np.empty((0, 2))])
-        offsets = np.concatenate([[0], np.cumsum(hi - lo)]).astype(np.int64)
-        parts = np.concatenate([[0], np.cumsum(self.parts[rings + 1] - self.parts[rings])]).astype(np.int64)
+        vertices, offsets, parts, rings = _cell_rings_of(self, rows)
         # Edges name input rows; within the group they name positions.
         position_of = np.full(len(self.area), -1, dtype=np.int64)
         position_of[rows] = np.arange(len(rows))
