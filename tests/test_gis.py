@@ -920,6 +920,26 @@ def test_a_group_too_wide_for_its_frame_is_named() -> None:
         gis.spanning_tree(frame, by="zone")
 
 
+def test_points_a_forced_frame_cannot_project_are_named_not_passed_on_as_infinite() -> None:
+    from pyproj import Transformer
+
+    # Regression: a point a quarter of the globe from a UTM zone's meridian, near the equator,
+    # used to reach the kernels as "points[1] has an infinite (+inf) coordinate", an error
+    # about input the user never gave.
+    frame = _lonlat_frame([10.0, 99.0, 11.0], [0.0, 0.5, 1.0], label=["near", "far east", "also near"])
+    frame = frame.set_index("label")
+    # Outside reference: PROJ itself cannot put that point into UTM zone 32N (meridian 9° E).
+    x, _ = Transformer.from_crs(4326, 32632, always_xy=True).transform(99.0, 0.5)
+    assert not np.isfinite(x)
+    with pytest.raises(pw.InputError, match=r"1 point\(s\) \(rows 'far east'\) lie where the working frame "
+                                            r"'WGS 84 / UTM zone 32N' cannot project them"):
+        gis.p_median(frame, 1, work_crs="EPSG:32632")
+    # Without a forced frame the family that needs a planar frame refuses the extent as a
+    # whole (no single frame holds it), naming the points its best frame cannot reach.
+    with pytest.raises(pw.InputError, match="cannot project them|distorts distances"):
+        gis.p_median(frame, 1)
+
+
 def test_an_existing_site_without_demand_in_its_group_is_refused() -> None:
     # Regression: such a site served nobody and vanished from the plan's sites table.
     homes = gpd.GeoDataFrame({"g": ["a", "a", "b", "b"]}, geometry=gpd.points_from_xy([0, 1, 10, 11], [0, 0, 0, 0]))

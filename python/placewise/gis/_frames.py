@@ -348,6 +348,11 @@ def _frames_per_group(
         if len(mine):
             to_work = Transformer.from_crs("EPSG:4326", work, always_xy=True)
             xy[mine, 0], xy[mine, 1] = to_work.transform(lonlat[mine, 0], lonlat[mine, 1])
+    # A group its frame cannot project (infinite coordinates, NaN scale factors) is as far
+    # beyond the limit as a group can be: never let a NaN error compare as within it.
+    unreachable = ~np.isfinite(xy).all(axis=1)
+    error[np.isnan(error)] = np.inf
+    error[np.unique(groups.codes[unreachable])] = np.inf
     worst = int(np.argmax(error))
     if error[worst] > max_scale_error:
         raise InputError(
@@ -414,6 +419,7 @@ def prepare(
         if centred_error < error:
             work, xy, error = centred, centred_xy, centred_error
     if error > max_scale_error and work_crs is None:
+        _refuse_unprojected(frame, xy, name, work, TooWide)
         extent = float(np.ptp(xy, axis=0).max()) / 1000
         raise TooWide(
             f"{name}: the data span {extent:,.0f} km, and the working frame {CRS(work).name!r} distorts "
@@ -421,7 +427,23 @@ def prepare(
             "allowed); split the data into smaller groups (by=), pass work_crs= with a projection suited to "
             "the whole area, or raise max_scale_error="
         )
+    _refuse_unprojected(frame, xy, name, work, InputError)
     return Prepared(frame, xy, frame.crs, work, error, groups)
+
+
+def _refuse_unprojected(frame: Any, xy: np.ndarray, name: str, work: Any, kind: type[InputError]) -> None:
+    """Points the working projection cannot reach (PROJ gives them infinite coordinates: a
+    transverse Mercator frame holds about 90° of longitude either side of its meridian at
+    most) are refused by row, never passed on as infinite coordinates of the input."""
+    bad = np.flatnonzero(~np.isfinite(xy).all(axis=1))
+    if len(bad) == 0:
+        return
+    rows = ", ".join(repr(plain(v)) for v in frame.index[bad[:5]]) + (", ..." if len(bad) > 5 else "")
+    raise kind(
+        f"{name}: {len(bad)} point(s) (rows {rows}) lie where the working frame {CRS(work).name!r} cannot "
+        "project them (it gives them infinite coordinates); split the data into smaller groups (by=), or "
+        "pass work_crs= with a projection that holds the whole area"
+    )
 
 
 def prepare_or_sphere(obj: Any, name: str, *, planar: bool, centroids: bool, work_crs: Any,
