@@ -312,7 +312,7 @@ def test_gis_p_median_with_capacities():
     lots = gpd.GeoDataFrame({"room": room}, geometry=gpd.points_from_xy(*cands.T), crs="EPSG:32633",
                             index=[f"lot{k}" for k in range(6)])
     plan = gis.p_median(homes, 3, capacities="room", candidates=lots)
-    chosen = [int(c[3:]) for c in plan.sites["candidate"]]
+    chosen = [int(c[3:]) for c in plan.sites["source_row"]]
     # Outside check: linprog on the chosen lots.
     assert plan.summary["cost_m"].iloc[0] == pytest.approx(
         transport_program(xy, cands[chosen], room[chosen], np.ones(50)), rel=1e-9)

@@ -115,7 +115,7 @@ def test_p_median_with_capacity_against_brute_force(files, tmp_path, capsys):
                         "-o", sites_out, "--assignment", assignment, "--summary", summary], capsys)
     assert code == 0, err
     plan, rows, totals = pd.read_csv(sites_out), pd.read_csv(assignment), pd.read_csv(summary)
-    chosen = [int(c[1:]) for c in plan["candidate"]]
+    chosen = [int(c[1:]) for c in plan["source_row"]]
     assert len(set(chosen)) == 3
     # Outside checks: linprog on the chosen candidates gives the cost written; a brute force
     # over every feasible 3 of the 5 candidates (linprog each) bounds it from below.

@@ -180,7 +180,9 @@ def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bo
     result = call(kernel, pf.xy, p, weights(pf, weight, "frame"), groups=groups, rows=rows, **grouped, **options)
     sites = with_unit(result, pf).sites_frame()
     if cf is not None:
-        sites.insert(0, "candidate", cf.rows[result.chosen])
+        # Named as every other plan on candidates names its sites (the table contract).
+        sites.insert(0, "source_row", cf.rows[result.chosen])
+        sites.insert(0, "source", "candidates")
     site_layer = framed_sites(sites, pf, result, groups, rows)
     return SitePlan(site_layer, _demand_layer(pf, result, site_layer.index.to_numpy(dtype=object)),
                     _summary(result, pf, groups, rows))
@@ -279,7 +281,7 @@ def p_median(
         ``worst_cost_<unit>``, ``lower_bound_<unit>`` and ``relative_gap`` (0 proves the
         plan optimal).
         With capacities the sites have ``capacity``, ``load``, ``slack`` and
-        ``price_<unit>`` (and ``candidate``, the candidate's index label), the demand also
+        ``price_<unit>`` (and ``source``, ``source_row`` as above), the demand also
         ``share``, ``cost_<unit>`` and ``unserved``, and the summary the bounds and gaps of
         :meth:`placewise.CapacitatedMedianPlan.summary`.
 
@@ -306,7 +308,7 @@ def p_median(
     >>> lots = gpd.GeoDataFrame({"room": [2, 2, 2]}, geometry=gpd.points_from_xy([0, 5, 10], [0, 0, 0]),
     ...                         index=["a", "b", "c"])
     >>> held = gis.p_median(homes, 2, capacities="room", candidates=lots, planar=True)
-    >>> sorted(held.sites["candidate"]), held.sites["slack"].tolist()
+    >>> sorted(held.sites["source_row"]), held.sites["slack"].tolist()
     (['a', 'c'], [0.0, 0.0])
     """
     if capacities is not None:
