@@ -84,6 +84,37 @@ def test_limit_matches_scipy_dijkstra_limit():
     np.testing.assert_allclose(dense, ref, rtol=1e-9, atol=0)
 
 
+def test_costs_report_progress_per_origin_and_stop_when_the_callable_raises():
+    import threading
+
+    n, m = 2_000, 8_000
+    tail, head, cost, one_way = random_edges(21, n, m)
+    g = pw.TravelGraph.from_edges(tail, head, cost, one_way=one_way, nodes=n)
+    origins = np.arange(0, n, 3)
+    seen: list[tuple[int, int, int]] = []
+    ours = g.costs(origins, np.arange(n), progress=lambda d, t: seen.append((d, t, threading.get_ident())))
+    # The answer is unchanged by watching it (reference: scipy.sparse.csgraph.dijkstra).
+    ref = csgraph.dijkstra(scipy_matrix(tail, head, cost, one_way, n), indices=origins)
+    finite = np.isfinite(ref)
+    np.testing.assert_allclose(ours[finite], ref[finite], rtol=1e-9, atol=0)
+    # Counts come from the calling thread, only grow, and end at every origin searched.
+    assert seen and {ident for *_, ident in seen} == {threading.get_ident()}
+    done = [d for d, _, _ in seen]
+    assert done == sorted(done) and seen[-1][:2] == (len(origins), len(origins))
+
+    class Enough(Exception):
+        pass
+
+    def stop(done: int, total: int) -> None:
+        raise Enough
+
+    with pytest.raises(Enough):
+        g.costs(origins, np.arange(n), progress=stop)
+    with pytest.raises(pw.InputError) as caught:
+        g.costs(origins, np.arange(n), progress="yes")
+    assert caught.value.argument == "progress"
+
+
 def test_nearest_site_matches_networkx_multi_source_dijkstra():
     # Reference: networkx.multi_source_dijkstra_path_length from every site at once.
     nx = pytest.importorskip("networkx")

@@ -252,7 +252,9 @@ class TravelNetwork:
     # Fields: edge, along, gap, on_edge, node (-1 part-way along).
     def snap(self, points: ArrayLike, max_gap: Any) -> _Fields: ...
     # Fields: offsets, columns, costs (pairs kept, row by row), destinations.
-    def costs(self, origins: ArrayLike, destinations: ArrayLike, limit: Any, k: Any, max_gap: Any) -> _Fields: ...
+    def costs(
+        self, origins: ArrayLike, destinations: ArrayLike, limit: Any, k: Any, max_gap: Any, progress: Any = None
+    ) -> _Fields: ...
     # Fields: site (-1 unreachable), cost (NaN), load, count, node_site, node_cost,
     # unreachable, unreachable_weight, total_cost, worst_cost, point_* and site_* attachments.
     def catchments(

@@ -32,6 +32,7 @@ from __future__ import annotations
 
 import dataclasses
 import warnings
+from collections.abc import Callable
 from typing import Any
 
 import numpy as np
@@ -519,7 +520,8 @@ class TravelGraph:
         return Attachments(**self._core.snap(points, max_gap), unit=self.length_unit)
 
     def costs(self, origins: ArrayLike, destinations: ArrayLike, *, limit: float | None = None,
-              k: int | None = None, max_gap: float | None = None) -> Any:
+              k: int | None = None, max_gap: float | None = None,
+              progress: bool | Callable[[int, int], object] | None = None) -> Any:
         """Shortest travel costs from every origin to every destination.
 
         One Dijkstra search (Dijkstra 1959) per origin in the compiled core, in parallel over
@@ -535,6 +537,11 @@ class TravelGraph:
             Keep only each origin's ``k`` cheapest destinations (ties: lower row).
         max_gap : float, optional
             Refuse points farther than this from the network.
+        progress : bool or callable, optional
+            ``True``: a bar on stderr, one step per origin searched; a callable is called
+            with ``(done, total)`` origins from the calling thread. Ctrl-C (or an exception
+            from the callable) cancels the searches not yet begun and is raised within
+            about one search per worker thread.
 
         Returns
         -------
@@ -555,7 +562,7 @@ class TravelGraph:
         array([[1., 0.],
                [0., 0.]])
         """
-        f = self._core.costs(origins, destinations, limit, k, max_gap)
+        f = self._core.costs(origins, destinations, limit, k, max_gap, progress)
         n, m = len(f["offsets"]) - 1, int(f["destinations"])
         if limit is None and k is None:
             dense = np.full((n, m), np.nan)

@@ -10,6 +10,8 @@ use super::convert::{as_point_slice, count_arg, labels_arg, optional_float_arg, 
 use super::errors::argument_error;
 use super::fields::Fields;
 use super::run_detached;
+use super::runtime::{progress_arg, run_watched};
+use crate::cancel::Watch;
 use crate::geometry::{Point, Weights};
 use crate::travel::{
     catchment_pieces, network_catchments, node_spots, reach, snap_points, travel_costs, CostOptions, LineOptions,
@@ -269,7 +271,8 @@ impl TravelNetwork {
     }
 
     /// Fields: offsets, columns, costs (the pairs within reach, row by row).
-    #[pyo3(signature = (origins, destinations, limit, k, max_gap))]
+    #[pyo3(signature = (origins, destinations, limit, k, max_gap, progress=None))]
+    #[allow(clippy::too_many_arguments)]
     fn costs<'py>(
         &self,
         py: Python<'py>,
@@ -278,16 +281,21 @@ impl TravelNetwork {
         limit: Option<&Bound<'py, PyAny>>,
         k: Option<&Bound<'py, PyAny>>,
         max_gap: Option<&Bound<'py, PyAny>>,
+        progress: Option<&Bound<'py, PyAny>>,
     ) -> PyResult<Bound<'py, PyDict>> {
+        let watch = Watch::new();
+        let mut progress = progress_arg(progress, "travel costs (origins)")?;
         let options = CostOptions {
             limit: limit_arg(limit)?,
             k: k.filter(|o| !o.is_none()).map(|k| count_arg(k, "k", 1, usize::MAX)).transpose()?,
+            watch: watch.clone(),
         };
         let max_gap = max_gap_arg(max_gap)?;
         let (o, d) = (places_arg(origins, "origins")?, places_arg(destinations, "destinations")?);
         let (o, d) = (o.view(), d.view());
         let graph = &self.graph;
-        let (rows, n_dest) = run_detached(py, || {
+        // Watched: Ctrl-C (and a raising progress callable) cancels the searches not yet begun.
+        let (rows, n_dest) = run_watched(py, &watch, &mut progress, || {
             let (os, _) = o.resolve(graph, "origins", max_gap)?;
             let (ds, _) = d.resolve(graph, "destinations", max_gap)?;
             Ok((travel_costs(graph, &os, &ds, &options)?, ds.len()))

@@ -10,6 +10,7 @@ use rayon::prelude::*;
 
 use super::graph::TravelGraph;
 use super::snap::Spot;
+use crate::cancel::Watch;
 use crate::error::{Error, Result};
 
 /// Heap key of a non-negative cost: the bit pattern of a non-negative `f64` orders as the
@@ -100,12 +101,15 @@ impl TravelGraph {
 }
 
 /// Options of [`travel_costs`].
-#[derive(Debug, Clone, Copy, Default)]
+#[derive(Debug, Clone, Default)]
 pub struct CostOptions {
     /// Report only pairs within this cost (and stop each search there).
     pub limit: Option<f64>,
     /// Report only each origin's `k` cheapest destinations (ties: lower destination row).
     pub k: Option<usize>,
+    /// Progress (one step per origin) and cancellation: a cancelled run skips the origins
+    /// not yet searched, so it stops within one search per worker thread.
+    pub watch: Watch,
 }
 
 /// Travel costs from origins to destinations, row by row: `columns[offsets[i]..offsets[i+1]]`
@@ -387,11 +391,21 @@ pub fn travel_costs(
         return Err(Error::InvalidParameter { name: "k", reason: "k must be at least 1; got 0".into() });
     }
     let targets = Targets::new(graph, destinations);
+    let watch = &options.watch;
+    watch.plan(origins.len() as u64);
     let rows: Vec<Vec<(u32, f64)>> = origins
         .par_iter()
         .map_init(
             || Workspace::new(graph.node_count(), destinations.len()),
-            |ws, &o| ws.search(graph, &targets, destinations, o, limit, options.k),
+            |ws, &o| {
+                if watch.is_cancelled() {
+                    // The caller drops a cancelled run's answer (see `Watch::finish`).
+                    return Vec::new();
+                }
+                let row = ws.search(graph, &targets, destinations, o, limit, options.k);
+                watch.advance(1);
+                row
+            },
         )
         .collect();
     let mut offsets = Vec::with_capacity(origins.len() + 1);

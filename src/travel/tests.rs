@@ -5,6 +5,7 @@
 use proptest::prelude::*;
 
 use super::*;
+use crate::cancel::Watch;
 use crate::geometry::Weights;
 
 /// A complete `w × h` street grid with unit blocks, as lines (one per block side).
@@ -169,8 +170,9 @@ fn k_nearest_and_limit_agree_with_the_full_matrix() {
     let pts: Vec<[f64; 2]> = (0..40).map(|i| [(i * 37 % 61) as f64 / 10.0, (i * 17 % 59) as f64 / 10.0]).collect();
     let spots: Vec<Spot> = snap_points(&g, &pts, "points", None).unwrap().iter().map(|s| s.spot).collect();
     let full = travel_costs(&g, &spots, &spots, &Default::default()).unwrap().dense(40);
-    let limited = travel_costs(&g, &spots, &spots, &CostOptions { limit: Some(3.0), k: None }).unwrap().dense(40);
-    let nearest = travel_costs(&g, &spots, &spots, &CostOptions { limit: None, k: Some(5) }).unwrap();
+    let limited =
+        travel_costs(&g, &spots, &spots, &CostOptions { limit: Some(3.0), ..Default::default() }).unwrap().dense(40);
+    let nearest = travel_costs(&g, &spots, &spots, &CostOptions { k: Some(5), ..Default::default() }).unwrap();
     for i in 0..40 {
         for j in 0..40 {
             let c = full[i * 40 + j];
@@ -309,4 +311,23 @@ proptest! {
             prop_assert!((s.gap - brute).abs() <= 1e-9 * (1.0 + brute), "{} vs {}", s.gap, brute);
         }
     }
+}
+
+#[test]
+fn costs_count_one_step_per_origin_and_a_cancelled_run_searches_nothing_more() {
+    let (coords, offsets) = grid_lines(6, 6);
+    let g = TravelGraph::from_lines(&coords, &offsets, &Default::default()).unwrap();
+    let spots: Vec<Spot> = (0..g.node_count() as u32).map(Spot::Node).collect();
+    let watch = Watch::new();
+    let options = CostOptions { watch: watch.clone(), ..Default::default() };
+    let rows = travel_costs(&g, &spots, &spots, &options).unwrap();
+    let n = spots.len() as u64;
+    assert_eq!(watch.progress(), (n, n));
+    // Every corner reaches every corner on a complete grid: the Manhattan distance.
+    assert_eq!(rows.columns.len(), spots.len() * spots.len());
+    watch.cancel();
+    let stopped = travel_costs(&g, &spots, &spots, &options).unwrap();
+    assert!(stopped.columns.is_empty());
+    assert_eq!(watch.progress(), (n, 2 * n));
+    assert!(watch.finish(()).is_err());
 }
