@@ -240,6 +240,35 @@ def test_nearest_site_equals_pyproj_brute_force_on_real_global_points():
     assert np.allclose(a.distance, all_d.min(axis=1), rtol=1e-9, atol=1e-6)
 
 
+def test_nearest_site_reports_progress_and_stops_when_the_callable_raises():
+    import threading
+
+    rng = np.random.default_rng(2)
+    demand = np.column_stack([rng.uniform(-180, 180, 50_000), np.degrees(np.arcsin(rng.uniform(-1, 1, 50_000)))])
+    sites = demand[:40].copy()
+    seen: list[tuple[int, int, int]] = []
+    watched = pw.geodesic.nearest_site(demand, sites, progress=lambda d, t: seen.append((d, t, threading.get_ident())))
+    # Watching does not change the answer: pyproj.Geod brute force on a sample of the points.
+    sample = rng.choice(len(demand), 500, replace=False)
+    all_d = np.stack([geod_distance(demand[sample], np.broadcast_to(s, (500, 2))) for s in sites], axis=1)
+    assert np.array_equal(watched.assignment[sample], np.argmin(all_d, axis=1))
+    assert seen and {ident for *_, ident in seen} == {threading.get_ident()}
+    done = [d for d, _, _ in seen]
+    assert done == sorted(done) and seen[-1][:2] == (len(demand), len(demand))
+
+    class Enough(Exception):
+        pass
+
+    def stop(done: int, total: int) -> None:
+        raise Enough
+
+    with pytest.raises(Enough):
+        pw.geodesic.nearest_site(demand, sites, progress=stop)
+    with pytest.raises(pw.InputError) as caught:
+        pw.geodesic.nearest_site(demand, sites, groups=np.zeros(len(demand)), site_groups=np.zeros(40), progress=True)
+    assert caught.value.argument == "progress"
+
+
 @settings(max_examples=40, deadline=None)
 @given(st.lists(st.tuples(st.floats(-180, 180), st.floats(-90, 90)), min_size=1, max_size=30),
        st.lists(st.tuples(st.floats(-180, 180), st.floats(-90, 90)), min_size=1, max_size=12))

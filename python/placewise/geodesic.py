@@ -35,6 +35,7 @@ space, and inside the convex cap a first-order bound is added.
 from __future__ import annotations
 
 import dataclasses
+from collections.abc import Callable
 from typing import Any, ClassVar, Literal, overload
 
 import numpy as np
@@ -467,19 +468,21 @@ def enclosing_circle(
 def nearest_site(
     points: ArrayLike, sites: ArrayLike, weights: ArrayLike | None = None, *, groups: None = None,
     site_groups: None = None, errors: Literal["raise", "skip"] = "raise",
+    progress: bool | Callable[[int, int], object] | None = None,
 ) -> Allocation: ...
 
 
 @overload
 def nearest_site(
     points: ArrayLike, sites: ArrayLike, weights: ArrayLike | None = None, *, groups: ArrayLike,
-    site_groups: ArrayLike, errors: Literal["raise", "skip"] = "raise",
+    site_groups: ArrayLike, errors: Literal["raise", "skip"] = "raise", progress: None = None,
 ) -> Allocations: ...
 
 
 def nearest_site(
     points: ArrayLike, sites: ArrayLike, weights: ArrayLike | None = None, *, groups: ArrayLike | None = None,
     site_groups: ArrayLike | None = None, errors: Literal["raise", "skip"] = "raise",
+    progress: bool | Callable[[int, int], object] | None = None,
 ) -> Allocation | Allocations:
     """Allocate every longitude/latitude point to its geodesically nearest site.
 
@@ -487,6 +490,11 @@ def nearest_site(
     increasing chord length and measures them on the ellipsoid until the next chord exceeds
     the best geodesic distance (a chord is never longer than a path on the surface), so the
     answer is exact at any extent. Ties go to the smaller site index.
+
+    ``progress`` (ungrouped calls): ``True`` draws a bar on stderr counting points, a
+    callable is called with ``(done, total)`` points from the calling thread. Ctrl-C (or an
+    exception from the callable) stops the search within one chunk of points per worker
+    thread and is raised.
 
     Returns
     -------
@@ -502,11 +510,15 @@ def nearest_site(
     ([0, 0], 111.319)
     """
     if groups is None and site_groups is None:
-        return Allocation(**_core.geodesic_nearest_single(points, sites, weights), points=as_points(points),
-                          sites=as_points(sites), unit="m")
-    if groups is None or site_groups is None:
-        from ._core import InputError
+        return Allocation(**_core.geodesic_nearest_single(points, sites, weights, progress),
+                          points=as_points(points), sites=as_points(sites), unit="m")
+    from ._core import InputError
 
+    if groups is None or site_groups is None:
         raise InputError("groups and site_groups go together: give both or neither")
+    if progress is not None:
+        error = InputError("progress= counts the points of an ungrouped call; grouped calls take none")
+        error.argument = "progress"
+        raise error
     fields = _core.geodesic_nearest_grouped(points, sites, weights, groups, site_groups, errors)
     return Allocations._from_core(fields, points=as_points(points), sites=as_points(sites), unit="m")

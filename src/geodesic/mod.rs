@@ -22,6 +22,7 @@ mod sphere;
 mod weber;
 
 use crate::batch::{run_grouped, Grouped, OnGroupError};
+use crate::cancel::Watch;
 use crate::error::{Error, Result};
 use crate::geometry::{validate_iteration, validate_weights, Point, Weights};
 use crate::median::{Metric, WeberOptions, WeberPoint};
@@ -289,10 +290,25 @@ fn disc_area(center: Point, radius: f64) -> f64 {
 /// O(k log k) to build the tree, then per point a tree search and one inverse problem per
 /// site whose chord is within the best geodesic distance (usually one or two), in parallel.
 pub fn geodesic_nearest_site(points: &[Point], sites: &[Point], weights: Weights<'_>) -> Result<Allocation> {
+    geodesic_nearest_site_watched(points, sites, weights, &Watch::new())
+}
+
+/// [`geodesic_nearest_site`] counting points done on `watch` (progress), and stopping early
+/// once it is cancelled: within one chunk of points per worker thread. A cancelled run's
+/// answer is incomplete; [`Watch::finish`] tells the caller to drop it.
+///
+/// # Errors
+/// As [`geodesic_nearest_site`].
+pub fn geodesic_nearest_site_watched(
+    points: &[Point],
+    sites: &[Point],
+    weights: Weights<'_>,
+    watch: &Watch,
+) -> Result<Allocation> {
     validate_lonlat("points", points, 1)?;
     validate_lonlat("sites", sites, 1)?;
     validate_weights("weights", weights, points.len())?;
-    nearest::allocate(points, sites, weights)
+    nearest::allocate(points, sites, weights, watch)
 }
 
 /// [`geodesic_nearest_site`] for every group of points, each served by the sites of its own

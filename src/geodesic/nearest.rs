@@ -16,6 +16,7 @@ use rstar::primitives::GeomWithData;
 use rstar::RTree;
 
 use super::earth::{ecef, Earth};
+use crate::cancel::Watch;
 use crate::error::Result;
 use crate::geometry::{CompensatedSum, Point, Weights};
 use crate::partition::Allocation;
@@ -62,19 +63,26 @@ impl SiteTree {
     }
 }
 
-/// Allocate every (validated) point to its geodesically nearest (validated) site.
-pub(crate) fn allocate(points: &[Point], sites: &[Point], weights: Weights<'_>) -> Result<Allocation> {
+/// Allocate every (validated) point to its geodesically nearest (validated) site, counting
+/// points done on `watch`; once it is cancelled the chunks not yet begun are skipped (the
+/// caller drops a cancelled run's answer, see [`Watch::finish`]).
+pub(crate) fn allocate(points: &[Point], sites: &[Point], weights: Weights<'_>, watch: &Watch) -> Result<Allocation> {
     let tree = SiteTree::new(sites);
     let n = points.len();
     let mut index = vec![0usize; n];
     let mut distance = vec![0.0f64; n];
+    watch.plan(n as u64);
     index.par_chunks_mut(CHUNK).zip(distance.par_chunks_mut(CHUNK)).zip(points.par_chunks(CHUNK)).for_each(
         |((idx, dist), pts)| {
+            if watch.is_cancelled() {
+                return;
+            }
             for ((slot, dslot), &p) in idx.iter_mut().zip(dist.iter_mut()).zip(pts) {
                 let (j, s) = tree.nearest(p);
                 *slot = j;
                 *dslot = s;
             }
+            watch.advance(pts.len() as u64);
         },
     );
     // Loads, counts and totals in input order (compensated): the same bits on every run.

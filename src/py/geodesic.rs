@@ -9,12 +9,14 @@ use pyo3::types::PyDict;
 
 use super::convert::{as_point_slice, count_arg, float_arg, index_array, index_values, on_error_arg, Cloud};
 use super::fields::Fields;
+use super::runtime::{progress_arg, run_watched};
 use super::{labels_arg, points_arg, run_detached, weights_arg};
 use crate::batch::{Grouped, RowPlaces};
+use crate::cancel::Watch;
 use crate::geodesic::{
     geodesic_area, geodesic_circle, geodesic_distances, geodesic_enclosing_circle, geodesic_enclosing_circles,
-    geodesic_length, geodesic_minimax_point, geodesic_minimax_points, geodesic_nearest_site,
-    geodesic_nearest_site_grouped, geodesic_weber_point, geodesic_weber_points, CenterOptions,
+    geodesic_length, geodesic_minimax_point, geodesic_minimax_points, geodesic_nearest_site_grouped,
+    geodesic_nearest_site_watched, geodesic_weber_point, geodesic_weber_points, CenterOptions,
 };
 use crate::geometry::Weights;
 use crate::median::WeberOptions;
@@ -256,19 +258,25 @@ fn geodesic_circle_grouped<'py>(
 
 /// Fields as `nearest_site_single` (distances and cost in metres).
 #[pyfunction]
-#[pyo3(signature = (points, sites, weights))]
+#[pyo3(signature = (points, sites, weights, progress=None))]
 fn geodesic_nearest_single<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     sites: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
+    let mut progress = progress_arg(progress, "geodesic nearest_site (points)")?;
     let points = points_arg(points, "points")?;
     let sites = points_arg(sites, "sites")?;
     let weights = weights_arg(weights, "weights")?;
     let (p, s) = (as_point_slice(&points), as_point_slice(&sites));
     let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
-    let a = run_detached(py, || geodesic_nearest_site(p, s, Weights::from_option(w)))?;
+    // Watched: Ctrl-C stops the search within one chunk of points per worker thread.
+    let watch = Watch::new();
+    let a = run_watched(py, &watch, &mut progress, || {
+        geodesic_nearest_site_watched(p, s, Weights::from_option(w), &watch)
+    })?;
     Ok(Fields::new(py)
         .put("assignment", PyArray1::from_vec(py, index_values(a.index)))?
         .put("distance", PyArray1::from_vec(py, a.distance))?
