@@ -1,0 +1,114 @@
+"""How soon Ctrl-C stops a long kernel: each case runs in a child Python process, which is
+sent SIGINT two seconds into the call; the latency is the time from the signal to the
+child catching ``KeyboardInterrupt`` (both clocks are the same machine's wall clock).
+
+Kernels that poll a cancel flag (the watched ones) stop within one polling interval; a
+kernel that does not poll finishes its work first, so its "latency" is the rest of its run
+(capped: after ``CAP`` seconds the child is killed and the row says so). The issue's target
+is 0.5 s for every kernel that can run longer than about a second.
+
+Run: ``python benchmarks/interrupt.py [CASE ...]``; prints a Markdown table.
+"""
+
+from __future__ import annotations
+
+import signal
+import subprocess
+import sys
+import time
+
+# Seconds into the call at which SIGINT is sent, and the longest wait for the child after it.
+DELAY = 2.0
+CAP = 60.0
+
+# Each case: (name, size, watched, setup code, the call). The setup runs before the clock.
+CASES: dict[str, tuple[str, str, bool, str, str]] = {
+    "p_median": ("p_median (default effort)", "1,000,000 points, p = 50", True,
+                 "pts = np.random.default_rng(1).random((1_000_000, 2))",
+                 "pw.p_median(pts, 50)"),
+    "p_center": ("p_center", "1,000,000 points, p = 50", True,
+                 "pts = np.random.default_rng(2).random((1_000_000, 2))",
+                 "pw.p_center(pts, 50, effort='thorough')"),
+    "steiner": ("steiner_tree (heuristic)", "100,000 terminals", True,
+                "pts = np.random.default_rng(3).random((100_000, 2))",
+                "pw.steiner_tree(pts, exact=False)"),
+    "costs": ("TravelGraph.costs", "4,000 origins, 1,000,000-edge grid", True,
+              "side = 708\n"
+              "ids = np.arange(side * side).reshape(side, side)\n"
+              "tail = np.r_[ids[:, :-1].ravel(), ids[:-1, :].ravel()]\n"
+              "head = np.r_[ids[:, 1:].ravel(), ids[1:, :].ravel()]\n"
+              "cost = np.random.default_rng(4).uniform(1, 2, len(tail))\n"
+              "g = pw.TravelGraph.from_edges(tail, head, cost)\n"
+              "origins = np.random.default_rng(5).integers(0, side * side, 4_000)",
+              "g.costs(origins, origins)"),
+    "geodesic_nearest": ("geodesic nearest_site", "1,000,000 lon/lat points, 1,000 sites", True,
+                         "rng = np.random.default_rng(6)\n"
+                         "pts = np.column_stack([rng.uniform(-180, 180, 1_000_000), "
+                         "np.degrees(np.arcsin(rng.uniform(-1, 1, 1_000_000)))])\n"
+                         "sites = pts[:1000].copy()",
+                         "pw.geodesic.nearest_site(pts, sites)"),
+    "discrete_median": ("discrete p_median", "10,000 points x 1,000 candidates, p = 50", False,
+                        "rng = np.random.default_rng(7)\n"
+                        "pts = rng.random((10_000, 2)) * 100\n"
+                        "cands = rng.random((1_000, 2)) * 100",
+                        "pw.p_median(pts, 50, candidates=cands)"),
+    "capacity_cells": ("capacity_cells", "300,000 points x 300 sites", False,
+                       "rng = np.random.default_rng(8)\n"
+                       "pts = rng.uniform(0, 20_000, (300_000, 2))\n"
+                       "sites = rng.uniform(0, 20_000, (300, 2))\n"
+                       "caps = np.full(300, 1_000.0)",
+                       "pw.capacity_cells(pts, sites, caps)"),
+}
+
+CHILD = """
+import sys, time
+import numpy as np
+import placewise as pw
+{setup}
+print("ready", flush=True)
+sys.stdin.readline()
+print(f"start {{time.time():.6f}}", flush=True)
+try:
+    {call}
+    print(f"finished {{time.time():.6f}}", flush=True)
+except KeyboardInterrupt:
+    print(f"interrupted {{time.time():.6f}}", flush=True)
+"""
+
+
+def measure(key: str) -> str:
+    name, size, watched, setup, call = CASES[key]
+    child = subprocess.Popen([sys.executable, "-c", CHILD.format(setup=setup, call=call)],
+                             stdin=subprocess.PIPE, stdout=subprocess.PIPE, text=True)
+    assert child.stdin is not None and child.stdout is not None
+    assert child.stdout.readline().strip() == "ready"
+    child.stdin.write("go\n")
+    child.stdin.flush()
+    started = float(child.stdout.readline().split()[1])
+    time.sleep(max(0.0, started + DELAY - time.time()))
+    sent = time.time()
+    child.send_signal(signal.SIGINT)
+    try:
+        outcome, at = child.communicate(timeout=CAP)[0].split()[:2]
+    except subprocess.TimeoutExpired:
+        child.kill()
+        child.communicate()
+        return f"| {name} | {size} | {'yes' if watched else 'no'} | > {CAP:.0f} s (killed) | NO |"
+    latency = float(at) - sent
+    if outcome == "finished" and float(at) < sent:
+        return f"| {name} | {size} | {'yes' if watched else 'no'} | finished before the signal | - |"
+    note = "" if outcome == "interrupted" else " (ran to the end: KeyboardInterrupt after it)"
+    met = "yes" if outcome == "interrupted" and latency <= 0.5 else "NO"
+    return f"| {name} | {size} | {'yes' if watched else 'no'} | {latency:.3f} s{note} | {met} |"
+
+
+def main() -> None:
+    keys = sys.argv[1:] or list(CASES)
+    print(f"| kernel | size | polls a cancel flag | SIGINT {DELAY:.0f} s in → KeyboardInterrupt | within 0.5 s |")
+    print("|---|---|---|---|---|", flush=True)
+    for key in keys:
+        print(measure(key), flush=True)
+
+
+if __name__ == "__main__":
+    main()
