@@ -3,8 +3,10 @@
 from __future__ import annotations
 
 import math
+import pathlib
 
 import numpy as np
+import pandas as pd
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
@@ -16,6 +18,7 @@ scipy_spatial = pytest.importorskip("scipy.spatial")
 pyproj = pytest.importorskip("pyproj")
 
 GEOD = pyproj.Geod(ellps="WGS84")
+DATA = pathlib.Path(__file__).parent / "data"
 
 
 def _globe_area() -> float:
@@ -85,34 +88,40 @@ def _great_circle_matrix(pts: np.ndarray) -> np.ndarray:
     return np.arctan2(np.linalg.norm(np.cross(u[:, None], u[None]), axis=2), u @ u.T)
 
 
-def test_spanning_tree_is_scipy_mst_of_great_circle_distances():
-    from scipy.sparse.csgraph import minimum_spanning_tree
-
-    pts = _global(120, 3)
-    tree = pw.geodesic.spanning_tree(pts)
-    # Reference: scipy minimum_spanning_tree on the great-circle distance matrix.
-    ref = minimum_spanning_tree(_great_circle_matrix(pts)).tocoo()
-    assert {tuple(sorted(e)) for e in zip(ref.row, ref.col, strict=True)} == set(
-        zip(tree.end_a.tolist(), tree.end_b.tolist(), strict=True))
-    # Lengths: pyproj.Geod.inv on every edge.
-    _, _, ref_len = GEOD.inv(pts[tree.end_a, 0], pts[tree.end_a, 1], pts[tree.end_b, 0], pts[tree.end_b, 1])
-    np.testing.assert_allclose(tree.edge_length, ref_len, rtol=1e-9)
-
-
-def test_spanning_tree_gap_to_the_ellipsoid_minimum_is_small():
-    from scipy.sparse.csgraph import minimum_spanning_tree
-
-    pts = _global(80, 4)
+def _geodesic_matrix(pts: np.ndarray) -> np.ndarray:
     n = len(pts)
     i, j = np.triu_indices(n, 1)
     _, _, d = GEOD.inv(pts[i, 0], pts[i, 1], pts[j, 0], pts[j, 1])
     matrix = np.zeros((n, n))
     matrix[i, j] = d
-    # Reference: the MST for WGS84 geodesic lengths (scipy, on pyproj's distance matrix).
-    best = minimum_spanning_tree(matrix).sum()
-    ours = pw.geodesic.spanning_tree(pts).length
-    gap = ours / best - 1
-    assert -1e-12 <= gap < 1e-3, gap
+    return matrix
+
+
+def test_spanning_tree_is_scipy_mst_of_pyproj_geodesic_lengths():
+    from scipy.sparse.csgraph import minimum_spanning_tree
+
+    for seed, n in [(3, 120), (4, 80), (6, 300)]:
+        pts = _global(n, seed)
+        tree = pw.geodesic.spanning_tree(pts)
+        # Reference: scipy minimum_spanning_tree on pyproj.Geod's full WGS84 distance matrix
+        # (no triangulation in it): the same edges and the same total.
+        ref = minimum_spanning_tree(_geodesic_matrix(pts)).tocoo()
+        assert {tuple(sorted(e)) for e in zip(ref.row, ref.col, strict=True)} == set(
+            zip(tree.end_a.tolist(), tree.end_b.tolist(), strict=True))
+        assert tree.length == pytest.approx(float(ref.data.sum()), rel=1e-12)
+        # Lengths: pyproj.Geod.inv on every edge.
+        _, _, ref_len = GEOD.inv(pts[tree.end_a, 0], pts[tree.end_a, 1], pts[tree.end_b, 0], pts[tree.end_b, 1])
+        np.testing.assert_allclose(tree.edge_length, ref_len, rtol=1e-9)
+
+
+def test_spanning_tree_of_real_points_is_the_ellipsoid_minimum():
+    from scipy.sparse.csgraph import minimum_spanning_tree
+
+    # Natural Earth country points (public domain, tests/data): both poles' regions and the
+    # antimeridian. Reference: scipy's MST of pyproj.Geod's distance matrix.
+    pts = pd.read_csv(DATA / "naturalearth_country_points.csv")[["lon", "lat"]].to_numpy()
+    best = minimum_spanning_tree(_geodesic_matrix(pts)).sum()
+    assert pw.geodesic.spanning_tree(pts).length == pytest.approx(best, rel=1e-12)
 
 
 def test_points_in_a_hemisphere_have_a_boundary():

@@ -3,8 +3,8 @@ extent, on the sphere (exported from :mod:`placewise.geodesic`).
 
 Model: a point ``[lon, lat]`` is the unit vector with those spherical coordinates (geodetic
 latitude taken as spherical). The triangulation is the 3-D convex hull of the unit vectors
-(Brown 1979), the Voronoi vertices the hull faces' outward normals, the spanning tree the
-great-circle MST (the chord is monotone in the arc). Lengths are then WGS84 geodesic
+(Brown 1979), the Voronoi vertices the hull faces' outward normals, the spanning tree
+minimal for WGS84 geodesic lengths among the triangulation's edges. Lengths are WGS84 geodesic
 lengths in metres between the points, and areas those of polygons with geodesic edges
 through the computed vertices, in square metres; shared edges have the same vertices, so
 the cells' areas add up to the ellipsoid's. Every result states this in ``model``.
@@ -359,13 +359,13 @@ def voronoi_cells(sites: ArrayLike, *, max_edge_degrees: float = 1.0) -> SphereC
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
 class SphereTree(SpanningTree):
-    """A minimum spanning tree for the great-circle metric, with WGS84 geodesic lengths.
+    """A minimum spanning tree for WGS84 geodesic lengths (metres).
 
     The attributes and tables of :class:`placewise.SpanningTree` (lengths in metres), plus
     ``model``; ``to_geodataframe()`` draws each edge along its great circle (split at the
-    antimeridian). The tree is minimal for the sphere metric; for the ellipsoid's geodesic
-    lengths it can differ where two candidate edges are within about 0.3 % (the flattening)
-    of each other.
+    antimeridian). The tree is minimal for geodesic lengths among the spherical Delaunay
+    edges, which hold the ellipsoid's minimum spanning tree unless four points lie within
+    the flattening's effect (about 0.3 %) of one circle.
     """
 
     model: str = SPHERE_MODEL
@@ -378,11 +378,13 @@ class SphereTree(SpanningTree):
 
 
 def spanning_tree(points: ArrayLike) -> SphereTree:
-    """The minimum spanning tree of lon/lat points of any extent for the great-circle metric.
+    """The minimum spanning tree of lon/lat points of any extent for WGS84 geodesic lengths.
 
     Kruskal's algorithm on the edges of the spherical Delaunay triangulation (the 3-D hull
-    of the unit vectors, whose edge graph holds every great-circle MST); repeated points are
-    joined by zero-length edges. Edge lengths are WGS84 geodesic lengths, metres.
+    of the unit vectors, whose edge graph holds every great-circle MST and, but for points
+    within the flattening's effect of co-circular, the ellipsoid's), each weighted by its
+    WGS84 geodesic length (Karney 2013), metres; repeated points are joined by zero-length
+    edges.
 
     Examples
     --------
