@@ -129,9 +129,11 @@ const FINISH_ROUNDS: usize = 24;
 /// when total capacity is below total demand by more than `tol` relative.
 ///
 /// # Runtime
-/// O(n log m) to list each point's nearest sites, O(n) per Newton step (tens of steps),
-/// then the exact finish: O(n'·m) plus O(m²) per augmentation for the `n'` points near
-/// cell boundaries; O(m log m) for the cells (O(r) more per cell meeting an r-vertex region
+/// O(n log m) to list each point's nearest sites (twice: by plain, then by power
+/// distance), O(n) per Newton step (tens of steps), then the exact finish: O(n') plus
+/// O(E log m) per augmentation for the `n'` points near cell boundaries, over the `E` site
+/// pairs they list together (O(m²) per augmentation in the last resort of every point
+/// open, which bounds the rounds); O(m log m) for the cells (O(r) more per cell meeting an r-vertex region
 /// boundary) and O(n log r) to check the points against a given region.
 pub fn capacity_cells(
     points: &[Point],
