@@ -11,6 +11,11 @@
 //! heap of points that joined the site since. Dijkstra then runs on the `m` sites alone
 //! (dense, O(m²)) instead of the `n·m` arcs of the full network.
 //!
+//! Sparse variant ([`Reach::Listed`]): each point may use only its own list of sites (a
+//! sparse transportation problem). The condensed arc `j → k` then exists only when some
+//! point lists both, the site graph is kept by site (compressed rows), and Dijkstra runs
+//! with a binary heap over those arcs: O(E log m) per augmenting path instead of O(m²).
+//!
 //! Start: every point at its cheapest site (a min-cost pseudo-flow with all potentials 0);
 //! sites loaded past their capacity hold the excess, and each augmentation moves excess
 //! along a shortest path to a site with slack.
@@ -68,6 +73,26 @@ struct Arc {
 /// Per point, the sites serving it and the amounts.
 pub(crate) type Flows = Vec<Vec<(u32, f64)>>;
 
+/// The sites each point may be served by.
+#[derive(Debug, Clone, Copy)]
+pub(crate) enum Reach<'a> {
+    /// Every site.
+    All,
+    /// Point `i` only by `sites[start[i]..start[i + 1]]` (distinct sites).
+    Listed { start: &'a [usize], sites: &'a [u32] },
+}
+
+impl Reach<'_> {
+    /// The sites point `i` may use (`None`: every site).
+    #[inline]
+    fn of(&self, i: u32) -> Option<&[u32]> {
+        match self {
+            Reach::All => None,
+            Reach::Listed { start, sites } => Some(&sites[start[i as usize]..start[i as usize + 1]]),
+        }
+    }
+}
+
 /// An optimal transportation plan.
 #[derive(Debug, Clone)]
 pub(crate) struct Plan {
@@ -83,12 +108,17 @@ pub(crate) struct Plan {
 /// Working state of the solver.
 struct Solver<'a, C: Fn(usize, usize) -> f64 + Sync + ?Sized> {
     cost: &'a C,
+    reach: Reach<'a>,
     sites: usize,
+    /// The condensed arcs by tail site (compressed rows, heads ascending): the arcs of `j`
+    /// are `first[j]..first[j + 1]`; with [`Reach::All`], every `k ≠ j`.
+    first: Vec<usize>,
+    head: Vec<u32>,
     flows: Vec<Vec<(u32, f64)>>,
     members: Vec<Vec<u32>>,
     arcs: Vec<Arc>,
-    /// Per arc `j → k` (row-major), the key and point of its cheapest valid entry, kept
-    /// current eagerly so that Dijkstra reads plain arrays (`NONE`: the arc has no point).
+    /// Per arc, the key and point of its cheapest valid entry, kept current eagerly so that
+    /// Dijkstra reads plain arrays (`NONE`: the arc has no point).
     key: Vec<f64>,
     who: Vec<u32>,
 }
@@ -102,34 +132,47 @@ impl<C: Fn(usize, usize) -> f64 + Sync + ?Sized> Solver<'_, C> {
         self.flows[i as usize].iter().find(|&&(s, _)| s as usize == j).map_or(0.0, |&(_, x)| x)
     }
 
-    /// Refill arc `j → k` from the current members of `j`.
-    fn refill(&mut self, j: usize, k: usize) {
+    /// The index of arc `j → k` (it exists: some point lists both).
+    #[inline]
+    fn arc(&self, j: usize, k: usize) -> usize {
+        match self.reach {
+            Reach::All => j * (self.sites - 1) + k - usize::from(k > j),
+            Reach::Listed { .. } => {
+                let row = &self.head[self.first[j]..self.first[j + 1]];
+                self.first[j] + row.binary_search(&(k as u32)).expect("an arc between sites some point lists")
+            }
+        }
+    }
+
+    /// Refill arc `j → k` from the current members of `j` (those that may use `k`).
+    fn refill(&mut self, a: usize, j: usize, k: usize) {
         let flows = &self.flows;
         self.members[j].retain(|&i| flows[i as usize].iter().any(|&(s, _)| s as usize == j));
-        let cost = self.cost;
-        let mut keys: Vec<(f64, u32)> =
-            self.members[j].iter().map(|&i| (cost(i as usize, k) - cost(i as usize, j), i)).collect();
+        let (cost, reach) = (self.cost, self.reach);
+        let mut keys: Vec<(f64, u32)> = self.members[j]
+            .iter()
+            .filter(|&&i| reach.of(i).is_none_or(|list| list.contains(&(k as u32))))
+            .map(|&i| (cost(i as usize, k) - cost(i as usize, j), i))
+            .collect();
         let whole = keys.len() <= ARC_LIST;
         if !whole {
             keys.select_nth_unstable_by(ARC_LIST - 1, |a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
             keys.truncate(ARC_LIST);
         }
         keys.sort_unstable_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
-        let arc = &mut self.arcs[j * self.sites + k];
-        *arc = Arc { list: keys, next: 0, whole, built: true, joined: BinaryHeap::new() };
+        self.arcs[a] = Arc { list: keys, next: 0, whole, built: true, joined: BinaryHeap::new() };
     }
 
     /// The cheapest point of arc `j → k` that `j` still serves: `(key, point)`.
-    fn best(&mut self, j: usize, k: usize) -> Option<(f64, u32)> {
-        let a = j * self.sites + k;
+    fn best(&mut self, a: usize, j: usize, k: usize) -> Option<(f64, u32)> {
         if !self.arcs[a].built {
-            self.refill(j, k);
+            self.refill(a, j, k);
         }
         loop {
             let arc = &self.arcs[a];
             let listed = arc.list.get(arc.next).copied();
             if listed.is_none() && !arc.whole {
-                self.refill(j, k);
+                self.refill(a, j, k);
                 continue;
             }
             let joined = arc.joined.peek().map(|Reverse((key, i))| (key.0, *i));
@@ -157,10 +200,9 @@ impl<C: Fn(usize, usize) -> f64 + Sync + ?Sized> Solver<'_, C> {
         }
     }
 
-    /// Refresh the cached cheapest entry of arc `j → k`.
-    fn refresh(&mut self, j: usize, k: usize) {
-        let a = j * self.sites + k;
-        match self.best(j, k) {
+    /// Refresh the cached cheapest entry of arc `a`, `j → k`.
+    fn refresh(&mut self, a: usize, j: usize, k: usize) {
+        match self.best(a, j, k) {
             Some((key, i)) => {
                 self.key[a] = key;
                 self.who[a] = i;
@@ -172,14 +214,15 @@ impl<C: Fn(usize, usize) -> f64 + Sync + ?Sized> Solver<'_, C> {
     /// Point `i` starts being served by site `k`.
     fn join(&mut self, i: u32, k: usize) {
         self.members[k].push(i);
-        for l in 0..self.sites {
-            let a = k * self.sites + l;
-            if l == k {
-                continue;
-            }
+        let others: Vec<usize> = match self.reach.of(i) {
+            None => (0..self.sites).filter(|&l| l != k).collect(),
+            Some(list) => list.iter().map(|&l| l as usize).filter(|&l| l != k).collect(),
+        };
+        for l in others {
+            let a = self.arc(k, l);
             if !self.arcs[a].built {
                 // First member of `k` since the start: build the arc from its members.
-                self.refresh(k, l);
+                self.refresh(a, k, l);
                 continue;
             }
             let key = (self.cost)(i as usize, l) - (self.cost)(i as usize, k);
@@ -193,9 +236,9 @@ impl<C: Fn(usize, usize) -> f64 + Sync + ?Sized> Solver<'_, C> {
 
     /// Point `i` stopped being served by site `j`: arcs out of `j` that named it refresh.
     fn leave(&mut self, i: u32, j: usize) {
-        for k in 0..self.sites {
-            if self.who[j * self.sites + k] == i {
-                self.refresh(j, k);
+        for a in self.first[j]..self.first[j + 1] {
+            if self.who[a] == i {
+                self.refresh(a, j, self.head[a] as usize);
             }
         }
     }
@@ -242,11 +285,12 @@ pub(crate) fn transport(demand: &[f64], capacity: &[f64], cost: &(dyn Fn(usize, 
             prices = sub.price;
         }
     }
-    solve_from(demand, capacity, cost, &prices)
+    solve_from(demand, capacity, cost, &prices, Reach::All)
 }
 
 /// Successive shortest paths from the start "every point at its cheapest site under
-/// `prices`", with the potentials `π_k = prices[k]`, `π_T = 0`.
+/// `prices`", with the potentials `π_k = prices[k]`, `π_T = 0`; each point served only by
+/// the sites of its `reach`.
 ///
 /// Reduced-cost optimality of the start (Ahuja, Magnanti & Orlin 1993, §9): point arcs are
 /// optimal by the choice of site; a site arc `k → T` with negative reduced cost
@@ -259,6 +303,7 @@ pub(crate) fn solve_from(
     capacity: &[f64],
     cost: &(dyn Fn(usize, usize) -> f64 + Sync),
     prices: &[f64],
+    reach: Reach<'_>,
 ) -> Result<Plan> {
     let n = demand.len();
     let m = capacity.len();
@@ -266,23 +311,32 @@ pub(crate) fn solve_from(
         .into_par_iter()
         .map(|i| {
             let mut best = (f64::INFINITY, 0u32);
-            for (j, &y) in prices.iter().enumerate() {
-                let c = cost(i, j) + y;
-                if c < best.0 {
+            let mut consider = |j: usize| {
+                let c = cost(i, j) + prices[j];
+                if c < best.0 || (c == best.0 && (j as u32) < best.1) {
                     best = (c, j as u32);
                 }
+            };
+            match reach.of(i as u32) {
+                None => (0..m).for_each(&mut consider),
+                Some(list) => list.iter().for_each(|&j| consider(j as usize)),
             }
             best.1
         })
         .collect();
+    let (first, head) = site_graph(demand, m, reach);
+    let arcs = head.len();
     let mut solver = Solver {
         cost,
+        reach,
         sites: m,
+        first,
+        head,
         flows: vec![Vec::new(); n],
         members: vec![Vec::new(); m],
-        arcs: vec![Arc::default(); m * m],
-        key: vec![0.0; m * m],
-        who: vec![NONE; m * m],
+        arcs: vec![Arc::default(); arcs],
+        key: vec![0.0; arcs],
+        who: vec![NONE; arcs],
     };
     let mut load = vec![0.0; m];
     for i in 0..n {
@@ -294,12 +348,16 @@ pub(crate) fn solve_from(
         }
     }
     for j in 0..m {
-        for k in 0..m {
-            if j != k && !solver.members[j].is_empty() {
-                solver.refresh(j, k);
+        if !solver.members[j].is_empty() {
+            for a in solver.first[j]..solver.first[j + 1] {
+                solver.refresh(a, j, solver.head[a] as usize);
             }
         }
     }
+    // Dense graphs pick Dijkstra's next node by a scan (O(m) per node, O(m²) per path); sparse
+    // ones by a binary heap.
+    let dense = matches!(reach, Reach::All);
+    let mut heap: BinaryHeap<Reverse<(Key, u32)>> = BinaryHeap::new();
     let t = m; // the sink
                // Flow on each site arc k → T, and the balance (in − out) of every node.
     let out: Vec<f64> = (0..m).map(|k| if prices[k] > 0.0 { capacity[k] } else { load[k].min(capacity[k]) }).collect();
@@ -323,14 +381,26 @@ pub(crate) fn solve_from(
         dist.fill(f64::INFINITY);
         done.fill(false);
         dist[s] = 0.0;
+        heap.clear();
+        heap.push(Reverse((Key(0.0), s as u32)));
         let mut target = usize::MAX;
         loop {
             let mut u = usize::MAX;
             let mut du = f64::INFINITY;
-            for (v, &d) in dist.iter().enumerate() {
-                if !done[v] && d < du {
-                    du = d;
-                    u = v;
+            if dense {
+                for (v, &d) in dist.iter().enumerate() {
+                    if !done[v] && d < du {
+                        du = d;
+                        u = v;
+                    }
+                }
+            } else {
+                // Lazy deletion: an entry is current while its node is open at that distance.
+                while let Some(Reverse((Key(d), v))) = heap.pop() {
+                    if !done[v as usize] && d == dist[v as usize] {
+                        (u, du) = (v as usize, d);
+                        break;
+                    }
                 }
             }
             if u == usize::MAX {
@@ -350,6 +420,9 @@ pub(crate) fn solve_from(
                         if d < dist[k] {
                             dist[k] = d;
                             via[k] = (t as u32, NONE);
+                            if !dense {
+                                heap.push(Reverse((Key(d), k as u32)));
+                            }
                         }
                     }
                 }
@@ -360,19 +433,24 @@ pub(crate) fn solve_from(
                 if d < dist[t] {
                     dist[t] = d;
                     via[t] = (u as u32, NONE);
+                    if !dense {
+                        heap.push(Reverse((Key(d), t as u32)));
+                    }
                 }
             }
-            let row = u * m..(u + 1) * m;
-            let (keys, whos) = (&solver.key[row.clone()], &solver.who[row]);
-            for k in 0..m {
-                if done[k] || whos[k] == NONE {
+            for a in solver.first[u]..solver.first[u + 1] {
+                let k = solver.head[a] as usize;
+                if done[k] || solver.who[a] == NONE {
                     continue;
                 }
                 // Reduced costs are ≥ 0 in exact arithmetic; clamp rounding.
-                let d = du + (keys[k] - pu + pi[k]).max(0.0);
+                let d = du + (solver.key[a] - pu + pi[k]).max(0.0);
                 if d < dist[k] {
                     dist[k] = d;
-                    via[k] = (u as u32, whos[k]);
+                    via[k] = (u as u32, solver.who[a]);
+                    if !dense {
+                        heap.push(Reverse((Key(d), k as u32)));
+                    }
                 }
             }
         }
@@ -441,6 +519,43 @@ pub(crate) fn solve_from(
     }
     let price = (0..m).map(|j| (pi[j] - pi[t]).max(0.0)).collect();
     Ok(Plan { flows: solver.flows, price, augmentations })
+}
+
+/// The condensed arcs by tail site (compressed rows, heads ascending): every `k ≠ j` with
+/// [`Reach::All`]; otherwise the pairs some point of positive demand lists together.
+fn site_graph(demand: &[f64], m: usize, reach: Reach<'_>) -> (Vec<usize>, Vec<u32>) {
+    let mut rows: Vec<Vec<u32>> = vec![Vec::new(); m];
+    match reach {
+        Reach::All => {
+            rows.iter_mut().enumerate().for_each(|(j, row)| row.extend((0..m as u32).filter(|&k| k as usize != j)))
+        }
+        Reach::Listed { .. } => {
+            // Compacted whenever a row doubles, so repeats cost amortised O(1) memory.
+            let mut compact_at = vec![64usize; m];
+            for i in (0..demand.len()).filter(|&i| demand[i] > 0.0) {
+                let list = reach.of(i as u32).expect("listed reach");
+                for &j in list {
+                    let row = &mut rows[j as usize];
+                    row.extend(list.iter().filter(|&&k| k != j));
+                    if row.len() > compact_at[j as usize] {
+                        row.sort_unstable();
+                        row.dedup();
+                        compact_at[j as usize] = 2 * row.len() + 64;
+                    }
+                }
+            }
+            rows.par_iter_mut().for_each(|row| {
+                row.sort_unstable();
+                row.dedup();
+            });
+        }
+    }
+    let mut first = Vec::with_capacity(m + 1);
+    first.push(0);
+    for row in &rows {
+        first.push(first.last().copied().unwrap_or(0) + row.len());
+    }
+    (first, rows.concat())
 }
 
 #[cfg(test)]
@@ -519,7 +634,7 @@ mod tests {
             plan.flows.iter().enumerate().flat_map(|(i, f)| f.iter().map(move |&(j, x)| x * cost(i, j as usize))).sum()
         };
         let sampled = transport(&demand, &capacity, &cost).unwrap();
-        let direct = solve_from(&demand, &capacity, &cost, &[0.0; 12]).unwrap();
+        let direct = solve_from(&demand, &capacity, &cost, &[0.0; 12], Reach::All).unwrap();
         assert!((value(&sampled) - value(&direct)).abs() <= 1e-9 * value(&direct));
         assert!(sampled.augmentations < direct.augmentations);
     }

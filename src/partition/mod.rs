@@ -21,7 +21,7 @@ pub use allocate::{allocate, nearest_site, nearest_site_grouped, Allocation, Sit
 pub(crate) use delaunay::triangulated_positions;
 pub use delaunay::{check_triangulation, delaunay, delaunay_grouped, Triangulation, STRIPS_FROM};
 pub use power::{power_cells, power_cells_grouped, power_nearest, PowerCells};
-pub(crate) use voronoi::{default_rings, GridHasher};
+pub(crate) use voronoi::default_rings;
 pub use voronoi::{voronoi_cells, voronoi_cells_grouped, Region, VoronoiCells};
 
 /// Helpers shared by the tests of this family.

@@ -2,10 +2,15 @@
 //! gap to the second least (how far the point is from a cell boundary, in squared units).
 //!
 //! Kept behind one function so the whole-diagram assignment of the power-diagram family
-//! can replace it. Each point keeps its `K` nearest sites by plain distance (a bucket grid
-//! searched ring by ring, Bentley, Weide & Yao 1980); a site outside that list is at least
-//! `d_K² − max_j w_j` away in power, so the listed best and second best are exact whenever
-//! the second best is below that bound, and the point falls back to every site otherwise.
+//! can replace it. Each point keeps its `K` nearest sites by power distance under the
+//! powers `v` of the listing (plain distance for `v = 0`; a bucket grid searched ring by
+//! ring, Bentley, Weide & Yao 1980). A site outside that list has `|x − s|² − v ≥ d_K`,
+//! the `K`-th listed value, so under powers `w` it is at least `d_K − max_j (w_j − v_j)`
+//! away; the listed best and second best are exact whenever the second best is below that
+//! bound, and the point falls back to every site otherwise. Powers that move cells by
+//! several site spacings (uneven capacities over uneven Voronoi cells) make plain-distance
+//! lists miss a point's power-nearest site, so the lists are drawn again once the powers
+//! have their large-scale shape.
 
 use rayon::prelude::*;
 
@@ -20,28 +25,31 @@ pub(super) struct Candidates {
     pub per_point: usize,
     /// `per_point` site indices per point, nearest first.
     pub sites: Vec<u32>,
-    /// Per point, the squared distance to its last listed site (infinite when every site
-    /// is listed: nothing lies outside the list).
+    /// Per point, the power distance to its last listed site (infinite when every site is
+    /// listed: nothing lies outside the list).
     pub outside: Vec<f64>,
+    /// The powers of the listing.
+    pub powers: Vec<f64>,
 }
 
 impl Candidates {
-    /// The listed sites of every point.
-    pub fn new(points: &[Point], sites: &[Point]) -> Candidates {
+    /// The listed sites of every point, nearest by power distance under `powers`.
+    pub fn new(points: &[Point], sites: &[Point], powers: &[f64]) -> Candidates {
         let m = sites.len();
         let k = LISTED.min(m);
+        let top = powers.iter().copied().fold(f64::NEG_INFINITY, f64::max);
         let grid = SiteGrid::new(sites);
         let mut list = vec![0u32; points.len() * k];
         let mut outside = vec![0.0; points.len()];
         list.par_chunks_mut(k).zip(outside.par_iter_mut()).zip(points.par_iter()).for_each_init(
             || Vec::with_capacity(4 * k),
             |found, ((row, out), &p)| {
-                grid.nearest(p, sites, k, found);
+                grid.nearest(p, sites, powers, top, k, found);
                 row.iter_mut().zip(found.iter()).for_each(|(r, &(_, j))| *r = j);
                 *out = if k == m { f64::INFINITY } else { found[k - 1].0 };
             },
         );
-        Candidates { per_point: k, sites: list, outside }
+        Candidates { per_point: k, sites: list, outside, powers: powers.to_vec() }
     }
 
     /// The listed sites of point `i`.
@@ -98,10 +106,11 @@ impl SiteGrid {
         r * self.columns + c
     }
 
-    /// The `k` nearest sites of `p` as `(squared distance, site)`, ascending (ties by site),
-    /// in `found`. Buckets are visited in square rings round the point's bucket; a site in
-    /// a ring not yet visited is at least `ring · cell` away, which ends the search.
-    fn nearest(&self, p: Point, sites: &[Point], k: usize, found: &mut Vec<(f64, u32)>) {
+    /// The `k` nearest sites of `p` by power distance `|p − s|² − powers` as `(value, site)`,
+    /// ascending (ties by site), in `found`; `top` is the largest power. Buckets are visited
+    /// in square rings round the point's bucket; a site in a ring not yet visited is at
+    /// least `(ring · cell)² − top` away, which ends the search.
+    fn nearest(&self, p: Point, sites: &[Point], powers: &[f64], top: f64, k: usize, found: &mut Vec<(f64, u32)>) {
         found.clear();
         let (c0, r0) = self.cell_of(p);
         let (c0, r0) = (c0 as isize, r0 as isize);
@@ -113,7 +122,7 @@ impl SiteGrid {
                 }
                 let b = r as usize * self.columns + c as usize;
                 for &j in &self.members[self.start[b] as usize..self.start[b + 1] as usize] {
-                    let d = distance_squared(p, sites[j as usize]);
+                    let d = distance_squared(p, sites[j as usize]) - powers[j as usize];
                     if found.len() < k || (d, j) < found[k - 1] {
                         let at = found.partition_point(|e| *e < (d, j));
                         found.insert(at, (d, j));
@@ -134,7 +143,7 @@ impl SiteGrid {
                 }
             }
             let reach = ring as f64 * self.cell;
-            if found.len() == k && found[k - 1].0 <= reach * reach {
+            if found.len() == k && found[k - 1].0 <= reach * reach - top {
                 break;
             }
         }
@@ -149,7 +158,7 @@ pub(super) fn power_nearest_with_gap(
     powers: &[f64],
     candidates: &Candidates,
 ) -> (Vec<u32>, Vec<f64>) {
-    let top = powers.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    let top = powers.iter().zip(&candidates.powers).map(|(w, v)| w - v).fold(f64::NEG_INFINITY, f64::max);
     let rows: Vec<(u32, f64)> = (0..points.len())
         .into_par_iter()
         .map(|i| {
@@ -197,7 +206,7 @@ mod tests {
         let repeated = vec![[1.0, 1.0]; 20];
         for sites in [clustered, line, repeated, vec![[0.0, 0.0], [1e6, -1e6], [3.0, 4.0]]] {
             let points = lcg_cloud(500, 9, [-20.0, -20.0], 100.0);
-            let c = Candidates::new(&points, &sites);
+            let c = Candidates::new(&points, &sites, &vec![0.0; sites.len()]);
             for (i, &p) in points.iter().enumerate() {
                 let mut all: Vec<(f64, u32)> =
                     sites.iter().enumerate().map(|(j, &s)| (distance_squared(p, s), j as u32)).collect();

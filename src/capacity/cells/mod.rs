@@ -13,9 +13,13 @@
 //! 2. an exact finish: points farther than a margin from every cell boundary keep their
 //!    cell; the rest (and the capacity left by the kept ones) form a small transportation
 //!    problem solved exactly by successive shortest paths seeded with the approximate
-//!    powers (`super::transport`). Its optimal prices are the final powers; every kept
-//!    point is then checked to lie in its site's final cell, and a point that does not
-//!    joins the exact problem, which is solved again. When the check passes, every point is
+//!    powers (`super::transport`). Each of its points may use only its listed sites (a
+//!    sparse transportation problem: the shortest paths run over the graph of sites listed
+//!    together, not all site pairs). Its optimal prices are the final powers; every kept
+//!    point is then checked to lie in its site's final cell, and every open point to be
+//!    served only by sites of least power distance among all sites; a kept point that
+//!    fails joins the exact problem, an open one that fails may use every site, and the
+//!    problem is solved again from the last prices. When the check passes, every point is
 //!    served only by sites of least power distance and every capacity is met: the plan and
 //!    the powers satisfy complementary slackness, so both are optimal.
 //!
@@ -34,7 +38,7 @@ mod smooth;
 use assign::{power_nearest_with_gap, Candidates};
 use smooth::Smoothed;
 
-use super::transport::solve_from;
+use super::transport::{solve_from, Reach};
 use super::validate;
 use crate::error::{Error, Result};
 use crate::geometry::{distance_squared, location_key, BoundingBox, CompensatedSum, FeasibleRegion, Point, Weights};
@@ -125,9 +129,11 @@ const FINISH_ROUNDS: usize = 24;
 /// when total capacity is below total demand by more than `tol` relative.
 ///
 /// # Runtime
-/// O(n log m) to list each point's nearest sites, O(n) per Newton step (tens of steps),
-/// then the exact finish: O(n'·m) plus O(m²) per augmentation for the `n'` points near
-/// cell boundaries; O(m log m) for the cells (O(r) more per cell meeting an r-vertex region
+/// O(n log m) to list each point's nearest sites (twice: by plain, then by power
+/// distance), O(n) per Newton step (tens of steps), then the exact finish: O(n') plus
+/// O(E log m) per augmentation for the `n'` points near cell boundaries, over the `E` site
+/// pairs they list together (O(m²) per augmentation in the last resort of every point
+/// open, which bounds the rounds); O(m log m) for the cells (O(r) more per cell meeting an r-vertex region
 /// boundary) and O(n log r) to check the points against a given region.
 pub fn capacity_cells(
     points: &[Point],
@@ -158,7 +164,7 @@ pub fn capacity_cells(
     let groups = Locations::of(sites, capacities, factor);
     let demand: Vec<f64> = (0..points.len()).map(|i| weights.get(i)).collect();
     let t0 = std::time::Instant::now();
-    let candidates = Candidates::new(points, &groups.sites);
+    let candidates = Candidates::new(points, &groups.sites, &vec![0.0; groups.sites.len()]);
     stage!("candidates {:?}", t0.elapsed());
 
     // Stage 1: approximate powers.
@@ -170,20 +176,26 @@ pub fn capacity_cells(
     // neighbours), end a thousand times finer (the finish then takes few points).
     let start_eps = scale / (16.0 * groups.sites.len() as f64);
     let final_eps = start_eps * 1e-3;
-    let smoothed = Smoothed {
-        points,
-        demand: &demand,
-        sites: &groups.sites,
-        capacity: &groups.capacity,
-        slack: surplus,
-        candidates: &candidates,
-    };
-    let (mut w, eps, newton_steps) = smoothed.solve(vec![0.0; groups.sites.len()], start_eps, final_eps, 400);
+    let smoothed = Smoothed::new(points, &demand, &groups.sites, &groups.capacity, surplus, &candidates);
+    stage!("pattern {:?}", t0.elapsed());
+    // The first level gives the powers their large-scale shape; the lists are then drawn
+    // again by power distance (see `assign`) for the finer levels and the finish.
+    let (w, _, first_steps) = smoothed.solve(vec![0.0; groups.sites.len()], (start_eps, start_eps), 400, true, false);
+    drop(smoothed);
+    let candidates = Candidates::new(points, &groups.sites, &w);
+    let smoothed = Smoothed::new(points, &demand, &groups.sites, &groups.capacity, surplus, &candidates);
+    stage!("first level {first_steps} steps, lists again {:?}", t0.elapsed());
+    let next_eps = (start_eps / 4.0).max(final_eps);
+    let (mut w, eps, newton_steps) = smoothed.solve(w, (next_eps, final_eps), 400 - first_steps, false, true);
+    let newton_steps = newton_steps + first_steps;
     normalise(&mut w);
     stage!("newton {:?} steps {newton_steps} eps {eps:e}", t0.elapsed());
 
-    // Stage 2: the exact finish.
-    let finish = exact_finish(points, &demand, &groups, surplus, &candidates, w, 16.0 * eps, 1e-12 * scale)?;
+    // Stage 2: the exact finish. The band of open points is 64 ε wide in power: measured
+    // at 3·10⁵ points, 16 ε left so few points per boundary that the exact prices moved
+    // past the band (ten times the kept points turned out in the wrong cell, and a second
+    // round took ten times the augmenting paths).
+    let finish = exact_finish(points, &demand, &groups, &candidates, w, 64.0 * eps, 1e-12 * scale)?;
     stage!("finish {:?} exact {} aug {}", t0.elapsed(), finish.exact_points, finish.augmentations);
     // The cells of the final powers, one per location with capacity, then laid out by site.
     let boxed = default_box.as_ref().map(|ring| Region { vertices: ring, ring_offsets: &[0, 4] });
@@ -287,10 +299,9 @@ fn exact_finish(
     points: &[Point],
     demand: &[f64],
     groups: &Locations,
-    surplus: f64,
     candidates: &Candidates,
     w: Vec<f64>,
-    mut margin: f64,
+    margin: f64,
     slop: f64,
 ) -> Result<Finish> {
     let n = points.len();
@@ -298,7 +309,10 @@ fn exact_finish(
     let total: f64 = groups.capacity.iter().sum();
     let (best, gap) = power_nearest_with_gap(points, &groups.sites, &w, candidates);
     let mut forced = vec![false; n];
-    let prices: Vec<f64> = w.iter().map(|&x| -x).collect();
+    // Sites an open point may use beyond its listed ones and its start site: those found
+    // of least power distance after a round in which its listed sites did not hold them.
+    let mut extra: std::collections::HashMap<usize, Vec<u32>> = std::collections::HashMap::new();
+    let mut prices: Vec<f64> = w.iter().map(|&x| -x).collect();
     for round in 0..=FINISH_ROUNDS {
         let everything = round == FINISH_ROUNDS;
         let open: Vec<usize> =
@@ -313,40 +327,84 @@ fn exact_finish(
         }
         let residual: Vec<f64> = (0..m).map(|j| groups.capacity[j] - kept[j].total()).collect();
         if residual.iter().any(|&r| r < -1e-12 * total) {
-            // The kept points overfill a cell: widen the margin.
-            margin *= 4.0;
+            // The kept points overfill a cell: open its kept points nearest a boundary (least
+            // gap first, then by row) until the rest fit. Only that cell's points open, so
+            // one badly placed boundary does not widen the band everywhere.
+            let mut members: Vec<Vec<usize>> = vec![Vec::new(); m];
+            for i in 0..n {
+                if demand[i] > 0.0 && !is_open[i] && residual[best[i] as usize] < 0.0 {
+                    members[best[i] as usize].push(i);
+                }
+            }
+            for (j, mut list) in members.into_iter().enumerate() {
+                list.sort_by(|&a, &b| gap[a].total_cmp(&gap[b]).then(a.cmp(&b)));
+                let mut over = -residual[j];
+                for i in list {
+                    if over <= 0.0 {
+                        break;
+                    }
+                    forced[i] = true;
+                    over -= demand[i];
+                }
+            }
+            stage!("round {round} overfilled {}", residual.iter().filter(|&&r| r < 0.0).count());
             continue;
         }
         let residual: Vec<f64> = residual.into_iter().map(|r| r.max(0.0)).collect();
-        let mut sub_demand: Vec<f64> = open.iter().map(|&i| demand[i]).collect();
-        if surplus > 0.0 {
-            sub_demand.push(surplus);
-        }
-        let cost = |i: usize, j: usize| {
-            if i < open.len() {
-                distance_squared(points[open[i]], groups.sites[j])
-            } else {
-                0.0
+        // Capacity above the demand needs no virtual point here: the transportation problem
+        // allows sites below capacity, and prices them at 0 (the largest power).
+        let sub_demand: Vec<f64> = open.iter().map(|&i| demand[i]).collect();
+        let cost = |i: usize, j: usize| distance_squared(points[open[i]], groups.sites[j]);
+        let mut start = Vec::with_capacity(open.len() + 1);
+        let mut listed = Vec::with_capacity(open.len() * candidates.per_point);
+        start.push(0);
+        for &i in &open {
+            let row = candidates.of(i);
+            listed.extend_from_slice(row);
+            if !row.contains(&best[i]) {
+                listed.push(best[i]);
             }
-        };
+            if let Some(more) = extra.get(&i) {
+                listed.extend(more.iter().filter(|j| !row.contains(j) && **j != best[i]));
+            }
+            start.push(listed.len());
+        }
         let t1 = std::time::Instant::now();
-        let plan = solve_from(&sub_demand, &residual, &cost, &prices)?;
+        let plan = if everything {
+            solve_from(&sub_demand, &residual, &cost, &prices, Reach::All)?
+        } else {
+            // A site whose listing points cannot reach a site with room makes the sparse
+            // problem infeasible: then every pair is allowed.
+            solve_from(&sub_demand, &residual, &cost, &prices, Reach::Listed { start: &start, sites: &listed })
+                .or_else(|_| solve_from(&sub_demand, &residual, &cost, &prices, Reach::All))?
+        };
         stage!("round {round} open {} aug {} in {:?}", open.len(), plan.augmentations, t1.elapsed());
+        prices.clone_from(&plan.price);
         let mut power: Vec<f64> = plan.price.iter().map(|&y| -y).collect();
         normalise(&mut power);
-        // Every kept point must lie in its site's final cell.
+        // Every point must be served only by sites of least power distance among all sites.
+        let t2 = std::time::Instant::now();
         let (now, _) = power_nearest_with_gap(points, &groups.sites, &power, candidates);
+        let value = |i: usize, j: usize| distance_squared(points[i], groups.sites[j]) - power[j];
         let mut violations = 0;
         for i in 0..n {
-            if demand[i] > 0.0 && !is_open[i] && now[i] != best[i] {
-                let here = distance_squared(points[i], groups.sites[best[i] as usize]) - power[best[i] as usize];
-                let least = distance_squared(points[i], groups.sites[now[i] as usize]) - power[now[i] as usize];
-                if here > least + slop {
-                    forced[i] = true;
-                    violations += 1;
-                }
+            let kept = demand[i] > 0.0 && !is_open[i];
+            if kept && now[i] != best[i] && value(i, best[i] as usize) > value(i, now[i] as usize) + slop {
+                forced[i] = true;
+                violations += 1;
             }
         }
+        for (a, &i) in open.iter().enumerate() {
+            let least = value(i, now[i] as usize);
+            if plan.flows[a].iter().any(|&(j, _)| value(i, j as usize) > least + slop) {
+                let more = extra.entry(i).or_default();
+                if !more.contains(&now[i]) {
+                    more.push(now[i]);
+                }
+                violations += 1;
+            }
+        }
+        stage!("round {round} violations {violations} (extra {}) check {:?}", extra.len(), t2.elapsed());
         if violations > 0 && !everything {
             continue;
         }
