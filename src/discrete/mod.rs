@@ -25,6 +25,7 @@ mod median;
 mod median_bound;
 mod near;
 mod source;
+mod swap;
 
 pub use center::{discrete_p_center, DiscreteCenter};
 pub use cover::{cover_all, cover_most, CoverAll, CoverMost};
