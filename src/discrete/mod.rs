@@ -20,6 +20,7 @@
 
 mod center;
 mod cover;
+mod cover_bound;
 mod dominating;
 mod median;
 mod median_bound;
