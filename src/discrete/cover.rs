@@ -11,19 +11,22 @@
 //!   `gain − loss + extra` bookkeeping as the p-median's fast swap; an upper bound from the
 //!   Lagrangian relaxation of `zᵢ ≤ Σ_{j covers i} yⱼ` by subgradient optimisation.
 
+use super::cover_bound::maximal_covering_bound;
 use super::{check_choice, check_radius, relative_gap, Costs, SiteService, StepControl};
 use crate::error::{Error, Result};
 use crate::geometry::{validate_weights, CompensatedSum, Weights};
 
 /// Work (point visits) the exact covering search may spend over one call.
 pub(super) const EXACT_BUDGET: usize = 20_000_000;
+/// Most subgradient iterations of the maximal-covering bound.
+const COVER_BOUND_ITERATIONS: usize = 1000;
 
 /// Which candidates cover which of the points that still need cover.
 pub(super) struct Incidence {
     /// `by_point[a]`: the candidate columns covering demand point `a` (ascending).
-    by_point: Vec<Vec<usize>>,
+    pub(super) by_point: Vec<Vec<usize>>,
     /// `by_site[j]`: the demand points column `j` covers.
-    by_site: Vec<Vec<usize>>,
+    pub(super) by_site: Vec<Vec<usize>>,
 }
 
 impl Incidence {
@@ -491,7 +494,7 @@ pub fn cover_most(
     let free = not_fixed(m, fixed);
     let mut swaps = improve_cover(&inc, &w, &free, &mut chosen);
     let contested = covered_by(&inc, &w, &chosen);
-    let (bound, relaxed) = maximal_covering_bound(&inc, &w, p, contested, &free, 300);
+    let (bound, relaxed) = maximal_covering_bound(&inc, &w, p, contested, &free, COVER_BOUND_ITERATIONS);
     // The Lagrangian heuristic (as for the p-median): the relaxation's sites, improved by
     // the same interchange, replace the plan when they cover more.
     if relaxed.len() == p {
@@ -568,74 +571,6 @@ fn improve_cover(inc: &Incidence, w: &[f64], free: &[bool], chosen: &mut [usize]
         swaps += 1;
     }
     swaps
-}
-
-/// The least value found of the Lagrangian relaxation of maximal covering with
-/// `zₐ ≤ Σ_{j covers a} yⱼ` relaxed (`λₐ ∈ [0, wₐ]`):
-/// `L(λ) = Σₐ (wₐ − λₐ) + (the p largest Λⱼ = Σ_{a ∈ Sⱼ} λₐ)`, an upper bound on the weight
-/// `p` sites cover for every such `λ` (Church & ReVelle 1974; Galvão & ReVelle 1996),
-/// minimised by subgradient steps toward the heuristic's value `lower`; with the `free`
-/// columns of the best value's `p` largest (a start for the Lagrangian heuristic).
-fn maximal_covering_bound(
-    inc: &Incidence,
-    w: &[f64],
-    p: usize,
-    lower: f64,
-    free: &[bool],
-    iterations: usize,
-) -> (f64, Vec<usize>) {
-    let m = inc.by_site.len();
-    // λ = 0 gives the coverable weight: a bound before any step.
-    let mut best: f64 = inc.by_point.iter().zip(w).filter(|(l, _)| !l.is_empty()).map(|(_, &x)| x).sum();
-    let mut relaxed = Vec::new();
-    let mut lambda: Vec<f64> = w.iter().map(|&x| x / 2.0).collect();
-    let mut control = StepControl::new();
-    let mut order: Vec<usize> = (0..m).collect();
-    let mut big = vec![0.0; m];
-    let mut open = vec![false; m];
-    let mut g = vec![0.0; w.len()];
-    for _ in 0..iterations {
-        for (j, set) in inc.by_site.iter().enumerate() {
-            big[j] = set.iter().map(|&a| lambda[a]).sum();
-        }
-        order.sort_unstable_by(|&a, &b| big[b].total_cmp(&big[a]).then(a.cmp(&b)));
-        open.iter_mut().for_each(|o| *o = false);
-        let mut value = CompensatedSum::default();
-        for &j in order.iter().take(p) {
-            open[j] = true;
-            value.add(big[j]);
-        }
-        for (a, (&x, &l)) in w.iter().zip(&lambda).enumerate() {
-            if inc.by_point[a].is_empty() {
-                continue; // λ has no effect there; zₐ = 1 is never attainable, leave it out.
-            }
-            value.add(x - l);
-        }
-        let value = value.total();
-        let improved = value < best - 1e-12 * best.abs();
-        control.record(improved);
-        if improved {
-            best = value;
-            relaxed = order.iter().copied().filter(|&j| free[j]).take(p).collect();
-        }
-        // ∂L/∂λₐ = −1 + (open sites covering a).
-        let mut norm = 0.0;
-        for (a, ga) in g.iter_mut().enumerate() {
-            *ga = inc.by_point[a].iter().filter(|&&j| open[j]).count() as f64 - 1.0;
-            let moves = (lambda[a] > 0.0 || *ga < 0.0) && (lambda[a] < w[a] || *ga > 0.0);
-            if moves && !inc.by_point[a].is_empty() {
-                norm += *ga * *ga;
-            }
-        }
-        if norm == 0.0 || control.exhausted() || best - lower <= 1e-9 * best.abs() {
-            break;
-        }
-        let step = control.theta * (value - lower).max(1e-9 * value.abs()) / norm;
-        for ((l, &ga), &x) in lambda.iter_mut().zip(&g).zip(w) {
-            *l = (*l - step * ga).clamp(0.0, x);
-        }
-    }
-    (best, relaxed)
 }
 
 #[cfg(test)]

@@ -5,8 +5,8 @@
 //! - Improvement: the vertex substitution of Teitz & Bart (1968) with Whitaker's (1983) fast
 //!   interchange as organised by Resende & Werneck (2004): with every point's cheapest (`d1`)
 //!   and second-cheapest (`d2`) open cost, the profit of every swap (insert `u`, remove `r`)
-//!   is `gain(u) − loss(r) + extra(u, r)`, all three accumulated in one pass over the matrix.
-//!   The best swap is applied while it lowers the cost (ties: smallest `u`, then `r`), so the
+//!   is `gain(u) − loss(r) + extra(u, r)`, accumulated once and then updated for the points
+//!   each swap concerns (see `swap.rs`). The best swap is applied while it lowers the cost (ties: smallest `u`, then `r`), so the
 //!   result is deterministic and swap-optimal.
 //! - Bound: Lagrangian relaxation of the assignment constraints `Σⱼ xᵢⱼ = 1` (Cornuejols,
 //!   Fisher & Nemhauser 1977; Beasley 1993) with subgradient optimisation; every value of
@@ -15,6 +15,7 @@
 use super::cover::serving_cover;
 use super::median_bound::MedianRelaxation;
 use super::near::NearLists;
+use super::swap::fast_swap;
 use super::{check_choice, relative_gap, sum_rows, Costs, SiteService};
 use crate::error::Result;
 use crate::geometry::{validate_weights, Weights};
@@ -132,75 +133,6 @@ fn nearest_two(costs: &Costs<'_>, open: &[usize], ceiling: f64) -> (Vec<f64>, Ve
         (d1[i], c1[i], d2[i]) = (a, at, b);
     }
     (d1, c1, d2)
-}
-
-/// Improve `open` by the best swap (insert a closed candidate, remove a non-fixed open one)
-/// while one lowers the cost; returns the number of swaps. A point without a second allowed
-/// open site counts `ceiling` for it: with `ceiling` above what any serving plan costs per
-/// unit of weight, no swap leaves a point of positive weight unserved.
-fn fast_swap(
-    costs: &Costs<'_>,
-    near: &NearLists,
-    weights: Weights<'_>,
-    open: &mut [usize],
-    fixed_count: usize,
-    max_swaps: usize,
-    ceiling: f64,
-) -> usize {
-    let (n, m, k) = (costs.rows(), costs.columns(), open.len());
-    let mut is_open = vec![false; m];
-    for &j in open.iter() {
-        is_open[j] = true;
-    }
-    let mut swaps = 0;
-    while swaps < max_swaps {
-        let (d1, c1, d2) = nearest_two(costs, open, ceiling);
-        // One accumulator: gain (m) | loss (k) | extra (m × k) | the current total (1).
-        let sums = sum_rows(n, m + k + m * k + 1, |i, acc| {
-            let w = weights.get(i);
-            if w == 0.0 {
-                return;
-            }
-            let (a, r, b) = (d1[i], c1[i], d2[i]);
-            let (gain, rest) = acc.split_at_mut(m);
-            let (loss, rest) = rest.split_at_mut(k);
-            let (extra, current) = rest.split_at_mut(m * k);
-            current[0] += w * a;
-            loss[r] += w * (b - a);
-            // Only candidates cheaper than d2 change anything.
-            near.for_each_below(costs, i, b, |u, c| {
-                if !is_open[u] {
-                    if c < a {
-                        gain[u] += w * (a - c);
-                    }
-                    extra[u * k + r] += w * (b - c.max(a));
-                }
-            });
-        });
-        let (gain, rest) = sums.split_at(m);
-        let (loss, rest) = rest.split_at(k);
-        let (extra, current) = rest.split_at(m * k);
-        // A swap must gain more than rounding noise of the current total.
-        let tolerance = 1e-12 * current[0].max(f64::MIN_POSITIVE);
-        let mut best = (tolerance, usize::MAX, usize::MAX);
-        for u in (0..m).filter(|&u| !is_open[u]) {
-            for r in fixed_count..k {
-                let profit = gain[u] - loss[r] + extra[u * k + r];
-                if profit > best.0 {
-                    best = (profit, u, r);
-                }
-            }
-        }
-        if best.1 == usize::MAX {
-            break;
-        }
-        let (_, u, r) = best;
-        is_open[open[r]] = false;
-        is_open[u] = true;
-        open[r] = u;
-        swaps += 1;
-    }
-    swaps
 }
 
 /// How many of its cheapest candidates every point keeps in its [`NearLists`]: enough to

@@ -20,11 +20,13 @@
 
 mod center;
 mod cover;
+mod cover_bound;
 mod dominating;
 mod median;
 mod median_bound;
 mod near;
 mod source;
+mod swap;
 
 pub use center::{discrete_p_center, DiscreteCenter};
 pub use cover::{cover_all, cover_most, CoverAll, CoverMost};
