@@ -803,10 +803,9 @@ mod pruning_properties {
 
     /// Length of the concatenation of `trees` on `n` terminals, proven optimal.
     fn concatenated_length(n: usize, trees: &[FullTree]) -> f64 {
-        let (chosen, proven) =
-            crate::network::steiner::concatenate::concatenate(n, trees, &Clock::unlimited()).unwrap();
-        assert!(proven);
-        chosen.iter().map(|&i| trees[i].length).sum()
+        let found = crate::network::steiner::concatenate::concatenate(n, trees, &Clock::unlimited()).unwrap();
+        assert!(found.proven);
+        found.chosen.iter().map(|&i| trees[i].length).sum()
     }
 
     /// Compare the tree from the pruned FSTs with the tree from every FST.

@@ -4,7 +4,8 @@
 //! - [`fst`]: full Steiner trees by Melzak's equilateral-point construction with the
 //!   pruning tests of Winter and Zachariasen (1997).
 //! - [`concatenate`]: the shortest spanning tree of the hypergraph of full Steiner trees,
-//!   an integer program with lazily added subtour constraints.
+//!   Warme's integer program solved by LP-based branch and cut (subtour constraints
+//!   separated from fractional answers), with a proven lower bound when stopped early.
 //! - [`heuristic`]: Steiner insertion on Delaunay triangles for large terminal sets.
 //! - [`smith`]: re-optimisation of Steiner point positions for a fixed topology, and the
 //!   clean-up that restores the 120° rule.

@@ -31,10 +31,10 @@ pub(crate) fn solve_distinct(local: &[Point], mst_edges: Vec<[usize; 2]>, option
         let clock = watch.clock(budget);
         let bottleneck = fst::Bottleneck::new(local);
         if let Some(trees) = fst::full_steiner_trees(local, &bottleneck, &clock) {
-            if let Some((chosen, proven)) = concatenate::concatenate(n, &trees, &clock) {
-                let net = assemble(local, &trees, &chosen);
+            if let Some(found) = concatenate::concatenate(n, &trees, &clock) {
+                let net = assemble(local, &trees, &found.chosen);
                 if net.edges.len() + 1 == net.nodes.len() {
-                    return (net, proven);
+                    return (net, found.proven);
                 }
             }
         }
@@ -134,9 +134,9 @@ mod agreement {
             let pts: Vec<Point> = (0..n).map(|_| [rng.next_f64() - 0.5, rng.next_f64() - 0.5]).collect();
             let b = fst::Bottleneck::new(&pts);
             let trees = fst::full_steiner_trees(&pts, &b, &Clock::unlimited()).unwrap();
-            let (chosen, proven) = concatenate::concatenate(n, &trees, &Clock::unlimited()).unwrap();
-            let length: f64 = chosen.iter().map(|&i| trees[i].length).sum();
-            assert!(proven, "n = {n}, seed = {seed}");
+            let found = concatenate::concatenate(n, &trees, &Clock::unlimited()).unwrap();
+            let length: f64 = found.chosen.iter().map(|&i| trees[i].length).sum();
+            assert!(found.proven, "n = {n}, seed = {seed}");
             assert_eq!(trees.len(), fsts, "n = {n}, seed = {seed}");
             // Recorded to 12 decimals.
             assert!((length - recorded).abs() < 1e-11, "n = {n}, seed = {seed}: {length} against {recorded}");

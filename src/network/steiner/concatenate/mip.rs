@@ -1,5 +1,6 @@
-//! Concatenation of full Steiner trees: choose the shortest set of FSTs that forms a
-//! spanning tree of the hypergraph whose hyperedges are the FSTs' terminal sets.
+//! The reference concatenation for the tests: the same program as [`super::concatenate`]
+//! solved as a whole by `microlp`'s own branch and bound, with subtour constraints added
+//! only from integer answers.
 //!
 //! The integer program of Warme (1998, "Spanning trees in hypergraphs with applications to
 //! Steiner trees"): a binary `x_i` per FST, `Σ (|S_i| − 1) x_i = n − 1`, every terminal
@@ -25,13 +26,13 @@ use crate::cancel::Clock;
 /// Longest uninterrupted stretch of the solver between polls of the clock.
 const SLICE: Duration = Duration::from_millis(50);
 
-use super::fst::FullTree;
+use crate::network::steiner::fst::FullTree;
 use crate::network::union_find::UnionFind;
 
 /// The chosen FSTs (indices into `trees`) and whether their optimality is proven; `None`
 /// when the run is cancelled, or the deadline passes or the solver fails before any tree is
 /// found.
-pub(crate) fn concatenate(n: usize, trees: &[FullTree], clock: &Clock) -> Option<(Vec<usize>, bool)> {
+pub(crate) fn concatenate_mip(n: usize, trees: &[FullTree], clock: &Clock) -> Option<(Vec<usize>, bool)> {
     if n < 2 {
         return Some((Vec::new(), true));
     }
@@ -162,7 +163,7 @@ mod tests {
             tree(&[1, 2], 0.1),
             tree(&[0, 2], 0.1),
         ];
-        let (chosen, proven) = concatenate(4, &trees, &crate::cancel::Clock::unlimited()).unwrap();
+        let (chosen, proven) = concatenate_mip(4, &trees, &crate::cancel::Clock::unlimited()).unwrap();
         assert!(proven);
         let total: f64 = chosen.iter().map(|&i| trees[i].length).sum();
         // The triangle 0-1-2 by two 0.1 edges, then 2-3: 0.8; a cycle of three 0.1 edges
