@@ -112,7 +112,7 @@ fn solve_sliced(problem: &Problem, clock: &Clock) -> Option<SolveOutcome> {
 
 /// Terminal sets (as membership flags) of the components of `chosen` that hold a cycle; empty
 /// when `chosen` is a spanning tree of the hypergraph.
-fn violated_components(n: usize, trees: &[FullTree], chosen: &[usize]) -> Vec<Vec<bool>> {
+pub(super) fn violated_components(n: usize, trees: &[FullTree], chosen: &[usize]) -> Vec<Vec<bool>> {
     let mut sets = UnionFind::new(n);
     for &i in chosen {
         let t = &trees[i].terminals;
@@ -134,41 +134,4 @@ fn violated_components(n: usize, trees: &[FullTree], chosen: &[usize]) -> Vec<Ve
         rank.iter().filter(|(_, &(size, used))| used > size as i64 - 1).map(|(&r, _)| r).collect();
     roots.sort_unstable();
     roots.into_iter().map(|r| (0..n).map(|u| sets.find(u) == r).collect()).collect()
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-    use crate::network::steiner::fst::End;
-
-    fn tree(terminals: &[usize], length: f64) -> FullTree {
-        FullTree {
-            terminals: terminals.to_vec(),
-            steiner: Vec::new(),
-            edges: vec![[End::Terminal(0), End::Terminal(1)]],
-            length,
-        }
-    }
-
-    #[test]
-    fn picks_the_cheapest_hyperspanning_tree_and_rejects_cycles() {
-        // Four terminals; the cheap triple pair {0,1,2} + {0,1,3} shares two terminals, which
-        // the pair constraint forbids; {0,1,2} + edge {2,3} is the optimum (hand-checked).
-        let trees = vec![
-            tree(&[0, 1, 2], 1.0),
-            tree(&[0, 1, 3], 1.0),
-            tree(&[2, 3], 0.6),
-            tree(&[0, 3], 0.9),
-            tree(&[0, 1], 0.1),
-            tree(&[1, 2], 0.1),
-            tree(&[0, 2], 0.1),
-        ];
-        let (chosen, proven) = concatenate_mip(4, &trees, &crate::cancel::Clock::unlimited()).unwrap();
-        assert!(proven);
-        let total: f64 = chosen.iter().map(|&i| trees[i].length).sum();
-        // The triangle 0-1-2 by two 0.1 edges, then 2-3: 0.8; a cycle of three 0.1 edges
-        // would be cheaper per edge but is not a tree.
-        assert!((total - 0.8).abs() < 1e-9, "{chosen:?}");
-        assert!(violated_components(4, &trees, &chosen).is_empty());
-    }
 }

@@ -221,6 +221,11 @@ mod tests {
         assert!(found.proven);
         assert!((found.length - 0.8).abs() < 1e-9, "{found:?}");
         assert!(found.lower_bound <= found.length);
+        // The whole-MIP reference reaches the same hand-checked optimum, as a tree.
+        let (chosen, proven) = mip::concatenate_mip(4, &trees, &Clock::unlimited()).unwrap();
+        let total: f64 = chosen.iter().map(|&i| trees[i].length).sum();
+        assert!(proven && (total - 0.8).abs() < 1e-9, "{chosen:?}");
+        assert!(mip::violated_components(4, &trees, &chosen).is_empty());
     }
 
     /// Terminals and full Steiner trees of a seeded uniform set.
