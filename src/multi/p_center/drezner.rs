@@ -114,7 +114,10 @@ impl Demand {
             let plan = self.subset(&active).descend(sites, clock, stopped, iterations)?;
             sites = plan.sites;
             if *stopped {
-                let radius = self.radius(&sites)?;
+                // A cancelled run's plan is dropped by its caller (`Watch::finish`): skip the
+                // pass over every location that would only measure it. Ctrl-C then takes
+                // effect one such pass sooner.
+                let radius = if clock.watch.is_cancelled() { f64::INFINITY } else { self.radius(&sites)? };
                 return Ok(Plan { sites, radius });
             }
             let allocation = allocate(&self.points, &SiteIndex::new(&sites)?, Weights::Given(&self.weights));

@@ -57,7 +57,9 @@ pub(crate) fn heuristic(terminals: &[Point], mst: Vec<[usize; 2]>, seed: u64, wa
                 candidates.push((gain, f, [a, b, c], [paths[0].1, paths[2].1]));
             }
         }
-        if candidates.is_empty() {
+        // A round at 10⁵ terminals takes about a second: poll between its stages too, so
+        // Ctrl-C is not held for a whole round (a cancelled tree is discarded by the caller).
+        if candidates.is_empty() || watch.is_cancelled() {
             break;
         }
         let tie = |corners: &[usize; 3]| {
@@ -83,6 +85,9 @@ pub(crate) fn heuristic(terminals: &[Point], mst: Vec<[usize; 2]>, seed: u64, wa
             graph.extend(corners.iter().map(|&v| [v, s]));
         }
         net.edges = kruskal(&net.nodes, graph);
+        if watch.is_cancelled() {
+            break;
+        }
         drop_thin_steiner_points(&mut net);
         optimise_positions(&mut net, ROUND_ITERATIONS);
         let now = net.length();
