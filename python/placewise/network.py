@@ -546,9 +546,9 @@ def steiner_tree(
     >>> t.to_frame().round(4)          # four edges to the two junctions, one between them
        end_a  end_b  junction_a  junction_b  length_u
     0      0     -1          -1           0    0.5774
-    1      1     -1          -1           0    0.5774
+    1      1     -1          -1           1    0.5774
     2      2     -1          -1           1    0.5774
-    3      3     -1          -1           1    0.5774
+    3      3     -1          -1           0    0.5774
     4     -1     -1           0           1    0.4226
     >>> pw.steiner_tree([[0, 0], [1, 0], [2, 0]]).saving        # collinear: nothing to gain
     0.0
