@@ -87,7 +87,7 @@ pub use multi::{
 };
 pub use network::{
     check_steiner_tree, spanning_tree, spanning_trees, steiner_tree, steiner_trees, EdgeEnd, SpanningTree,
-    SteinerMethod, SteinerOptions, SteinerTree, AUTO_BUDGET, AUTO_EXACT_TERMINALS, EXACT_TERMINALS,
+    SteinerMethod, SteinerOptions, SteinerTree, AUTO_BUDGET, AUTO_EXACT_TERMINALS,
 };
 pub use partition::{
     allocate, check_triangulation, delaunay, delaunay_grouped, nearest_site, nearest_site_grouped, voronoi_cells,

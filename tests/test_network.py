@@ -328,11 +328,16 @@ def test_time_limit_zero_falls_back_to_the_heuristic() -> None:
 
 # --- arguments ------------------------------------------------------------------------------
 
-def test_too_many_points_for_the_exact_method() -> None:
-    pts = np.random.default_rng(6).uniform(size=(70, 2))
-    with pytest.raises(pw.InputError, match="exact") as info:
-        pw.steiner_tree(pts, exact=True)
-    assert "64" in str(info.value) and "70" in str(info.value)
+def test_exact_method_past_sixty_four_points_on_a_regular_polygon() -> None:
+    # Closed form (Du, Hwang and Weng 1987, from memory): for a regular n-gon with n >= 13
+    # the Steiner minimum tree is the polygon less one side, here 69 sides of 70.
+    angle = 2 * np.pi * np.arange(70) / 70
+    pts = np.column_stack([np.cos(angle), np.sin(angle)]) * 3.0
+    t = pw.steiner_tree(pts, exact=True)
+    assert t.optimal
+    check_steiner_invariants(t, pts)
+    side = np.hypot(*(pts[1] - pts[0]))
+    assert t.length == pytest.approx(69 * side, rel=1e-12)
 
 
 @pytest.mark.parametrize("kwargs, argument, shown", [

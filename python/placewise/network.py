@@ -502,8 +502,9 @@ def steiner_tree(
     points : array_like, shape (n, 2)
         Site locations (planar coordinates).
     exact : bool, optional
-        True: exact (at most 64 distinct points; uniformly spread ones take about 1 ms for
-        10, at most about 2 s for 20 and 25, 10 s for 30); False: heuristic; None
+        True: exact (any number of points; the time grows exponentially in the worst
+        case: uniformly spread ones take about 1 ms for 10, at most about 2 s for 20 and
+        25, 10 s for 30); False: heuristic; None
         (default): exact when the point count allows an answer within seconds (up to 24
         distinct points, trying for 5 s unless ``time_limit`` says otherwise), else the
         heuristic.
@@ -533,8 +534,7 @@ def steiner_tree(
     InputError
         For NaN/inf coordinates, bad shapes, an empty point set, ``exact`` other than
         True/False/None, a ``seed`` or ``time_limit`` of the wrong type or range, a
-        ``progress`` that is neither a bool nor callable, or
-        ``exact=True`` with more than 64 distinct points. Its ``argument`` names the
+        ``progress`` that is neither a bool nor callable. Its ``argument`` names the
         argument; ``group`` and ``row`` the group label and input row concerned.
 
     Examples

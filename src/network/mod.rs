@@ -77,7 +77,8 @@ pub enum SteinerMethod {
     /// heuristic; an exact attempt that runs out of time falls back to the heuristic.
     #[default]
     Auto,
-    /// Exact: full Steiner trees and their concatenation (at most 64 distinct terminals).
+    /// Exact: full Steiner trees and their concatenation (any number of terminals; the time
+    /// grows exponentially in the worst case, see [`steiner_tree`]).
     Exact,
     /// Steiner insertion on Delaunay triangles with position re-optimisation.
     Heuristic,
@@ -111,8 +112,6 @@ impl Default for SteinerOptions {
 pub const AUTO_EXACT_TERMINALS: usize = 24;
 /// Default time budget (seconds) of an automatic exact attempt.
 pub const AUTO_BUDGET: f64 = 5.0;
-/// Largest distinct terminal count the exact method accepts.
-pub const EXACT_TERMINALS: usize = 64;
 
 /// One end of an edge of a [`SteinerTree`].
 ///
@@ -165,8 +164,7 @@ impl SteinerTree {
 /// # Errors
 /// - [`Error::TooFewPoints`] when `points` is empty;
 /// - [`Error::NonFiniteCoordinate`] for a NaN or infinite coordinate;
-/// - [`Error::InvalidParameter`] for a negative or non-finite `time_limit`, or
-///   [`SteinerMethod::Exact`] with more than [`EXACT_TERMINALS`] distinct points.
+/// - [`Error::InvalidParameter`] for a negative or non-finite `time_limit`.
 ///
 /// # Runtime
 /// Heuristic: O(n log n) per insertion round, a handful of rounds, then position
@@ -177,15 +175,6 @@ pub fn steiner_tree(points: &[Point], options: &SteinerOptions) -> Result<Steine
     validate_points("points", points, 1)?;
     validate_options(options)?;
     let mut distinct = Distinct::of(points);
-    if options.method == SteinerMethod::Exact && distinct.points.len() > EXACT_TERMINALS {
-        return Err(Error::InvalidParameter {
-            name: "exact",
-            reason: format!(
-                "the exact method handles at most {EXACT_TERMINALS} distinct points; got {}",
-                distinct.points.len()
-            ),
-        });
-    }
     // The solvers' tolerances are absolute: they work in the frame of unit size.
     let mut frame = WorkingFrame::of(&distinct.points);
     let mut local = frame.local(&distinct.points);

@@ -30,6 +30,8 @@
 
 use crate::cancel::Clock;
 use std::collections::HashMap;
+
+use super::terminal_sets::{lowest, members, outside, TerminalSets};
 use std::f64::consts::PI;
 
 use rayon::prelude::*;
@@ -158,11 +160,33 @@ fn prim_length(k: usize, weight: impl Fn(usize, usize) -> f64) -> f64 {
     total
 }
 
+/// Memo of [`Bottleneck::mst_length`] over the union of two disjoint terminal sets, keyed by
+/// the union's words (one memo per worker thread).
+#[derive(Debug, Default)]
+struct BsdTrees {
+    lengths: HashMap<Box<[u64]>, f64>,
+    key: Vec<u64>,
+    terminals: Vec<usize>,
+}
+
+impl BsdTrees {
+    fn length(&mut self, a: &[u64], b: &[u64], bottleneck: &Bottleneck) -> f64 {
+        self.key.clear();
+        self.key.extend(a.iter().zip(b).map(|(x, y)| x | y));
+        if let Some(&length) = self.lengths.get(self.key.as_slice()) {
+            return length;
+        }
+        self.terminals.clear();
+        self.terminals.extend(members(&self.key));
+        let length = bottleneck.mst_length(&self.terminals);
+        self.lengths.insert(self.key.as_slice().into(), length);
+        length
+    }
+}
+
 /// A terminal or an equilateral point of the generation.
 #[derive(Debug, Clone)]
 struct Item {
-    /// Terminals below it.
-    mask: u64,
     /// Its location.
     pos: Point,
     kind: Kind,
@@ -230,7 +254,6 @@ pub(crate) fn full_steiner_trees(points: &[Point], bottleneck: &Bottleneck, cloc
 /// the tests as a reference for the pruning.
 fn generate(points: &[Point], bottleneck: &Bottleneck, clock: &Clock, prune: bool) -> Option<Vec<FullTree>> {
     let n = points.len();
-    assert!(n <= 64, "exact Steiner trees are limited to 64 terminals");
     // A two-terminal FST of a Steiner minimum tree is an MST edge (it is no longer than its
     // bottleneck Steiner distance); the unpruned reference keeps every pair.
     let pairs: Vec<[usize; 2]> =
@@ -250,12 +273,15 @@ fn generate(points: &[Point], bottleneck: &Bottleneck, clock: &Clock, prune: boo
     // Progress: one step per subtree size, one for closing the trees.
     clock.watch.plan((n - 1) as u64);
     let mut items: Vec<Item> = Vec::new();
+    // The terminals below each item, by item index.
+    let mut sets = TerminalSets::new(n);
     let mut by_size: Vec<Vec<u32>> = vec![Vec::new(); n];
     // The root of every FST is its smallest terminal, so no equilateral point ever needs
     // terminal 0 below it.
     for (t, &p) in points.iter().enumerate().skip(1) {
         by_size[1].push(items.len() as u32);
-        items.push(Item { mask: 1u64 << t, pos: p, kind: Kind::Terminal(t) });
+        sets.push_single(t);
+        items.push(Item { pos: p, kind: Kind::Terminal(t) });
     }
     // Both edges from a Steiner point to its children are at most the longest MST edge
     // (the largest bottleneck distance), and the child's own Steiner point is within its
@@ -270,8 +296,8 @@ fn generate(points: &[Point], bottleneck: &Bottleneck, clock: &Clock, prune: boo
     // item to terminal v; far[item]: the item's farthest arc distance (`reach`).
     let mut nearest_bsd: Vec<f64> = Vec::with_capacity(items.len() * n);
     let mut far: Vec<f64> = Vec::with_capacity(items.len());
-    for item in &items {
-        push_nearest(&mut nearest_bsd, item.mask, bottleneck, n);
+    for (index, item) in items.iter().enumerate() {
+        push_nearest(&mut nearest_bsd, sets.get(index), bottleneck, n);
         far.push(reach(item).1);
     }
     for k in 2..n {
@@ -284,7 +310,7 @@ fn generate(points: &[Point], bottleneck: &Bottleneck, clock: &Clock, prune: boo
             by_size.iter().map(|list| list.iter().map(|&b| far[b as usize]).fold(0.0, f64::max)).collect();
         let jobs: Vec<(usize, usize, u32)> =
             (1..=k / 2).flat_map(|i| by_size[i].iter().enumerate().map(move |(a_pos, &a)| (i, a_pos, a))).collect();
-        let pair_with = |mst_of: &mut HashMap<u64, f64>, &(i, a_pos, a): &(usize, usize, u32)| {
+        let pair_with = |mst_of: &mut BsdTrees, &(i, a_pos, a): &(usize, usize, u32)| {
             if clock.stop() {
                 return None;
             }
@@ -297,12 +323,12 @@ fn generate(points: &[Point], bottleneck: &Bottleneck, clock: &Clock, prune: boo
             let first = if i == j { first.max(a_pos + 1) } else { first };
             for &b in by_size[j].get(first..last).unwrap_or(&[]) {
                 let ib = &items[b as usize];
-                if items[a as usize].mask & ib.mask != 0 {
+                if !sets.disjoint(a as usize, b as usize) {
                     continue;
                 }
                 // The same with the smallest bottleneck distance between the two sides.
                 let mut closest = f64::INFINITY;
-                for v in bits(ib.mask) {
+                for v in members(sets.get(b as usize)) {
                     closest = closest.min(nearest_bsd[a as usize * n + v]);
                 }
                 // Sharper, by the law of cosines at the 120° Steiner point s on the arc over
@@ -317,17 +343,21 @@ fn generate(points: &[Point], bottleneck: &Bottleneck, clock: &Clock, prune: boo
                     continue;
                 }
                 for (p, q) in [(a, b), (b, a)] {
-                    if let Some(item) = equilateral(&items, p, q, bottleneck, points, mst_of, prune) {
+                    if let Some(item) = equilateral(&items, &sets, p, q, bottleneck, points, mst_of, prune) {
                         found.push(item);
                     }
                 }
             }
             Some(found)
         };
-        let fresh: Vec<Vec<Item>> = jobs.par_iter().map_init(HashMap::new, pair_with).collect::<Option<_>>()?;
+        let fresh: Vec<Vec<Item>> = jobs.par_iter().map_init(BsdTrees::default, pair_with).collect::<Option<_>>()?;
         for item in fresh.into_iter().flatten() {
+            let Kind::Equilateral { kids: [p, q], .. } = item.kind else {
+                unreachable!("pairings make equilateral points")
+            };
             by_size[k].push(items.len() as u32);
-            push_nearest(&mut nearest_bsd, item.mask, bottleneck, n);
+            sets.push_union(p as usize, q as usize);
+            push_nearest(&mut nearest_bsd, sets.get(items.len()), bottleneck, n);
             far.push(reach(&item).1);
             items.push(item);
         }
@@ -341,7 +371,7 @@ fn generate(points: &[Point], bottleneck: &Bottleneck, clock: &Clock, prune: boo
         if matches!(item.kind, Kind::Terminal(_)) {
             continue;
         }
-        let lowest = item.mask.trailing_zeros() as usize;
+        let lowest = lowest(sets.get(index)).expect("an equilateral point has terminals below it");
         for root in 0..lowest {
             if let Some(tree) = close(&items, index, root, points) {
                 if !prune || passes_tests(&tree, points, bottleneck) {
@@ -359,13 +389,15 @@ fn generate(points: &[Point], bottleneck: &Bottleneck, clock: &Clock, prune: boo
 
 /// The equilateral point of `p → q` with its feasible arc, or `None` when no Steiner point
 /// can join them (empty arc, or a terminal edge longer than its bottleneck distance).
+#[allow(clippy::too_many_arguments)]
 fn equilateral(
     items: &[Item],
+    sets: &TerminalSets,
     p: u32,
     q: u32,
     bottleneck: &Bottleneck,
     points: &[Point],
-    mst_of: &mut HashMap<u64, f64>,
+    mst_of: &mut BsdTrees,
     prune: bool,
 ) -> Option<Item> {
     let (ip, iq) = (&items[p as usize], &items[q as usize]);
@@ -406,12 +438,11 @@ fn equilateral(
     };
     hi = hi.min(ARC - chord_limit(near_p)?);
     lo = lo.max(chord_limit(near_q)?);
-    let mask = ip.mask | iq.mask;
-    let item = |lo: f64, hi: f64| Item {
-        mask,
-        pos: e,
-        kind: Kind::Equilateral { kids: [p, q], centre, radius, theta_q, lo, hi },
-    };
+    let (set_p, set_q) = (sets.get(p as usize), sets.get(q as usize));
+    // The terminals below the new point (the two sides are disjoint).
+    let below = || members(set_p).chain(members(set_q));
+    let item =
+        |lo: f64, hi: f64| Item { pos: e, kind: Kind::Equilateral { kids: [p, q], centre, radius, theta_q, lo, hi } };
     if !prune {
         return (hi - lo > ARC_TOL).then(|| item(lo, hi));
     }
@@ -425,8 +456,8 @@ fn equilateral(
     // |s − q| = 2r·sin(u/2) and |s − p| = 2r·sin((2π/3 − u)/2) each bound is an interval of
     // u, and the arc shrinks to their intersection; the tolerance is added on the safe side.
     let mut limit = f64::INFINITY;
-    for u in bits(ip.mask) {
-        for v in bits(iq.mask) {
+    for u in members(set_p) {
+        for v in members(set_q) {
             limit = limit.min(bottleneck.get(u, v));
         }
     }
@@ -462,9 +493,9 @@ fn equilateral(
     // (each bottleneck edge is realised by an MST edge between two components), so in a
     // Steiner minimum tree |s − e| ≤ bsd-MST + min_z |s − z|. Both sides change by at most
     // `shift` over half a spacing.
-    let bsd_tree = *mst_of.entry(mask).or_insert_with(|| bottleneck.mst_length(&bits(mask).collect::<Vec<_>>()));
+    let bsd_tree = mst_of.length(set_p, set_q, bottleneck);
     let upper_bound_holds = |s: Point| {
-        let link = bits(mask).map(|v| distance_squared(points[v], s)).fold(f64::INFINITY, f64::min).sqrt();
+        let link = below().map(|v| distance_squared(points[v], s)).fold(f64::INFINITY, f64::min).sqrt();
         length(sub(s, e)) <= bsd_tree + link + 2.0 * shift + TOL
     };
     // Lune test on the edge from s to a terminal child t: a terminal z with |z − t| and
@@ -516,7 +547,7 @@ fn equilateral(
             // The cone's far edge (d turned by alpha) and its bisector (d turned by alpha/2).
             let edge = [d[0] * cos60 - sign * d[1] * sin60, sign * d[0] * sin60 + d[1] * cos60];
             let bisector = [d[0] * sin60 - sign * d[1] * cos60, sign * d[0] * cos60 + d[1] * sin60];
-            bits(!mask & low_bits(points.len())).any(|z| {
+            outside(set_p, set_q, points.len()).any(|z| {
                 let w = sub(points[z], s);
                 if sign * cross(d, w) >= 0.0 && sign * cross(w, edge) >= 0.0 {
                     return true;
@@ -585,32 +616,11 @@ fn length(v: Point) -> f64 {
     dot(v, v).sqrt()
 }
 
-/// The indices of the set bits of `mask`, ascending.
-fn bits(mask: u64) -> impl Iterator<Item = usize> {
-    let mut rest = mask;
-    std::iter::from_fn(move || {
-        (rest != 0).then(|| {
-            let v = rest.trailing_zeros() as usize;
-            rest &= rest - 1;
-            v
-        })
-    })
-}
-
-/// The mask of terminals `0..n`.
-fn low_bits(n: usize) -> u64 {
-    if n >= 64 {
-        u64::MAX
-    } else {
-        (1u64 << n) - 1
-    }
-}
-
-/// Append the smallest bottleneck distance from the terminals of `mask` to each terminal.
-fn push_nearest(table: &mut Vec<f64>, mask: u64, bottleneck: &Bottleneck, n: usize) {
+/// Append the smallest bottleneck distance from the terminals of `set` to each terminal.
+fn push_nearest(table: &mut Vec<f64>, set: &[u64], bottleneck: &Bottleneck, n: usize) {
     for v in 0..n {
         let mut best = f64::INFINITY;
-        for u in bits(mask) {
+        for u in members(set) {
             best = best.min(bottleneck.get(u, v));
         }
         table.push(best);

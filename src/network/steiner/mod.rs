@@ -21,6 +21,7 @@ mod fst;
 mod heuristic;
 mod smith;
 mod solve;
+mod terminal_sets;
 
 pub(super) use solve::solve_distinct;
 

@@ -97,6 +97,55 @@ mod tests {
 }
 
 #[cfg(test)]
+mod past_one_word {
+    use super::*;
+    use crate::geometry::random::SplitMix64;
+    use crate::network::mst::mst_edges;
+
+    fn exact(points: &[Point]) -> (Network, bool) {
+        let options = SteinerOptions { method: SteinerMethod::Exact, ..SteinerOptions::default() };
+        solve_distinct(points, mst_edges(points).unwrap(), &options)
+    }
+
+    #[test]
+    fn a_regular_seventy_gon_is_spanned_by_sixty_nine_sides() {
+        // Closed form (Du, Hwang and Weng 1987, from memory: for a regular n-gon with
+        // n >= 13 the Steiner minimum tree is the polygon less one side).
+        let n = 70;
+        let points: Vec<Point> = (0..n)
+            .map(|k| {
+                let a = 2.0 * std::f64::consts::PI * k as f64 / n as f64;
+                [0.5 * a.cos(), 0.5 * a.sin()]
+            })
+            .collect();
+        let side = crate::geometry::distance(points[0], points[1]);
+        let (net, proven) = exact(&points);
+        assert!(proven);
+        assert!((net.length() - 69.0 * side).abs() < 1e-12, "{} against {}", net.length(), 69.0 * side);
+    }
+
+    #[test]
+    fn seventy_terminals_in_a_strip_are_solved_no_longer_than_the_heuristic_and_the_mst() {
+        // Seeded uniform terminals in a 14 : 1 strip: the full Steiner trees stay local, and
+        // many join terminals on both sides of the 64th. References: the spanning tree of
+        // `mst_edges` (Delaunay + Kruskal) and the Steiner insertion heuristic, neither of
+        // which may be shorter than a proven optimum.
+        for seed in 0..2 {
+            let mut rng = SplitMix64::new(70 + seed);
+            let points: Vec<Point> = (0..70).map(|_| [rng.next_f64(), rng.next_f64() / 14.0]).collect();
+            let mst = mst_edges(&points).unwrap();
+            let mst_length = Network { nodes: points.clone(), terminal_count: 70, edges: mst.clone() }.length();
+            let heuristic = heuristic::heuristic(&points, mst, 0, &crate::cancel::Watch::new());
+            let (net, proven) = exact(&points);
+            assert!(proven, "seed {seed}");
+            assert_eq!(net.edges.len() + 1, net.nodes.len());
+            assert!(net.length() <= heuristic.length() * (1.0 + 1e-12), "seed {seed}");
+            assert!(net.length() < mst_length, "seed {seed}");
+        }
+    }
+}
+
+#[cfg(test)]
 mod agreement {
     use super::*;
     use crate::cancel::Clock;
