@@ -88,7 +88,7 @@ def check_steiner_invariants(t: pw.SteinerTree, points: np.ndarray, rows: np.nda
     """A tree on the rows (``rows`` of ``points``; all by default) and junctions; every end
     either a row or a junction, smaller first (rows before junctions); junctions of degree 3
     at 120° (1e-6 rad); no row with more than three edges; edge lengths the Euclidean lengths
-    (numpy.hypot); length ≤ MST length."""
+    (numpy.hypot); length ≤ MST length; 0 ≤ lower bound ≤ length, equal when optimal."""
     rows = np.arange(len(points)) if rows is None else np.asarray(rows)
     n = len(rows)
     np.testing.assert_array_equal(t.points, points)
@@ -113,6 +113,8 @@ def check_steiner_invariants(t: pw.SteinerTree, points: np.ndarray, rows: np.nda
     assert t.length == pytest.approx(float(t.edge_length.sum()), rel=1e-9, abs=1e-300)
     assert t.length <= t.mst_length * (1 + 1e-12)
     assert t.saving == pytest.approx(1 - t.length / t.mst_length if t.mst_length > 0 else 0.0, abs=1e-15)
+    assert 0.0 <= t.lower_bound <= t.length and (not t.optimal or t.lower_bound == t.length)
+    assert t.gap == pytest.approx(t.length - t.lower_bound, abs=1e-12 * max(t.length, 1.0))
 
 
 def fermat_weber_cost(points: np.ndarray) -> float:
@@ -317,6 +319,45 @@ def test_heuristic_on_a_thousand_points_keeps_invariants_and_saves() -> None:
     # Outside fact (from memory): on uniform sets the Steiner tree saves about 3 % over the
     # MST (Warme, Winter and Zachariasen 2000); the heuristic must reach most of it.
     assert t.saving > 0.025
+
+
+def test_lower_bound_is_the_length_when_proven_and_below_the_optimum_otherwise() -> None:
+    # Reference for an unproven bound: the proven optimum of the same points (no valid lower
+    # bound may exceed it), and Chung and Graham's (1985) Steiner ratio bound 0.8241 * MST,
+    # with the MST length from scipy csgraph.
+    rng = np.random.default_rng(77)
+    for _ in range(3):
+        pts = rng.uniform(size=(12, 2)) * 250.0
+        e = pw.steiner_tree(pts, exact=True)
+        assert e.optimal and e.lower_bound == e.length and e.gap == 0.0 and e.relative_gap == 0.0
+        for quick in (pw.steiner_tree(pts, exact=False), pw.steiner_tree(pts, exact=True, time_limit=0.0)):
+            assert not quick.optimal
+            check_steiner_invariants(quick, pts)
+            assert quick.lower_bound <= e.length <= quick.length * (1 + 1e-12)
+            assert quick.lower_bound >= 0.824 * scipy_mst_length(pts) * (1 - 1e-12)
+            assert quick.gap == pytest.approx(quick.length - quick.lower_bound, rel=1e-12)
+            assert quick.relative_gap == pytest.approx(quick.gap / quick.length, rel=1e-12)
+            assert quick.summary()["lower_bound_u"].tolist() == [quick.lower_bound]
+
+
+def test_a_tiny_time_limit_on_150_points_returns_a_tree_with_its_gap() -> None:
+    pts = np.random.default_rng(150).uniform(size=(150, 2))
+    t = pw.steiner_tree(pts, exact=True, time_limit=0.01)
+    assert not t.optimal
+    check_steiner_invariants(t, pts)
+    # Chung and Graham (1985): a Steiner minimum tree is at least 0.8241 of the MST (scipy).
+    assert 0.824 * scipy_mst_length(pts) * (1 - 1e-12) <= t.lower_bound <= t.length
+    assert 0.0 < t.relative_gap < 1.0
+
+
+def test_grouped_trees_carry_each_group_bound() -> None:
+    pts = np.random.default_rng(8).uniform(size=(20, 2))
+    trees = pw.steiner_tree(pts, groups=np.repeat([1, 2], 10), exact=True)
+    for position, tree in enumerate(trees):
+        single = pw.steiner_tree(pts[10 * position:10 * position + 10], exact=True)
+        assert tree.optimal and tree.lower_bound == tree.length
+        assert tree.lower_bound == pytest.approx(single.lower_bound, rel=1e-12)
+    assert trees.summary()["relative_gap"].tolist() == [0.0, 0.0]
 
 
 def test_time_limit_zero_falls_back_to_the_heuristic() -> None:

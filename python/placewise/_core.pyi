@@ -113,10 +113,12 @@ def spanning_tree_grouped(
 ) -> _Fields: ...  # labels, problem, edge_offsets, end_a, end_b, edge_length, length
 def steiner_tree_single(
     points: ArrayLike, exact: Any, seed: Any, time_limit: Any, progress: Any
-) -> _Fields: ...  # junctions, end_a, end_b, junction_a, junction_b, edge_length, length, mst_length, saving, optimal
+) -> _Fields: ...  # junctions, the edge columns, edge_length, length, mst_length, saving, optimal,
+# lower_bound, gap, relative_gap
 def steiner_tree_grouped(
     points: ArrayLike, groups: ArrayLike, exact: Any, seed: Any, time_limit: Any, errors: str, progress: Any
 ) -> _Fields: ...  # labels, problem, junction_offsets, junctions, edge_offsets, the edge columns, per-group totals
+# (length, mst_length, saving, optimal, lower_bound, gap, relative_gap)
 
 # --- multi (src/py/multi.rs) ---
 # Single plans: sites (p, 2), assignment (n,), distance (n,), load, count (sites,), total_load,

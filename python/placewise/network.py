@@ -42,7 +42,7 @@ def _edge_groups(edge_offsets: np.ndarray) -> np.ndarray:
 
 
 def _summary_columns(tree: Result, length: Any, mst_length: Any, saving: Any, junctions: Any, edges: Any,
-                     optimal: Any = None) -> dict[str, Any]:
+                     optimal: Any = None, lower_bound: Any = None, relative_gap: Any = None) -> dict[str, Any]:
     """The per-tree totals as named columns (one entry per tree)."""
     columns = {
         tree._u("length"): np.atleast_1d(length),
@@ -52,6 +52,9 @@ def _summary_columns(tree: Result, length: Any, mst_length: Any, saving: Any, ju
     }
     if optimal is not None:
         columns["optimal"] = np.atleast_1d(optimal)
+    if lower_bound is not None:
+        columns[tree._u("lower_bound")] = np.atleast_1d(lower_bound)
+        columns["relative_gap"] = np.atleast_1d(relative_gap)
     columns["edges"] = np.atleast_1d(edges)
     return columns
 
@@ -250,11 +253,24 @@ class SteinerTree(_SteinerEdges, Result):
         ``1 - length / mst_length`` (0 when the spanning tree has no length).
     optimal : bool
         True only when the tree is proven to be a Steiner minimum tree.
+    lower_bound : float
+        A proven lower bound on the length of a Steiner minimum tree (length units), at
+        most ``length`` and equal to it when ``optimal``. When the exact method generated
+        every full Steiner tree it is the bound of its branch and cut (the smallest LP
+        bound of a search node still open); otherwise (heuristic, or the time limit ran
+        out while full Steiner trees were being generated) it is ``0.824 * mst_length``,
+        the Steiner ratio bound proven by Chung and Graham (1985).
+    gap : float
+        ``length - lower_bound`` (length units): how much longer the tree may be than a
+        Steiner minimum tree.
+    relative_gap : float
+        ``gap / length`` (0 when the tree has no length).
 
     ``to_frame()`` has one row per edge: ``end_a``, ``end_b``, ``junction_a``,
     ``junction_b``, ``length_<unit>``; ``to_geodataframe()`` adds each edge as a
     LineString. ``summary()`` has one row: ``length_<unit>``, ``mst_length_<unit>``,
-    ``saving``, ``junctions`` (count), ``optimal``, ``edges`` (count).
+    ``saving``, ``junctions`` (count), ``optimal``, ``lower_bound_<unit>``,
+    ``relative_gap``, ``edges`` (count).
     """
 
     junctions: np.ndarray
@@ -267,12 +283,15 @@ class SteinerTree(_SteinerEdges, Result):
     mst_length: float
     saving: float
     optimal: bool
+    lower_bound: float
+    gap: float
+    relative_gap: float
     points: np.ndarray = dataclasses.field(repr=False)
 
     def summary(self) -> Any:
         """The tree's totals as a one-row DataFrame."""
         columns = _summary_columns(self, self.length, self.mst_length, self.saving, len(self.junctions),
-                                   len(self.end_a), self.optimal)
+                                   len(self.end_a), self.optimal, self.lower_bound, self.relative_gap)
         return _require_pandas().DataFrame(columns)
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
@@ -319,6 +338,8 @@ class SteinerTrees(_SteinerEdges, Grouped):
     length, mst_length, saving : ndarray, shape (G,)
         NaN for a skipped group (which has no junctions and no edges).
     optimal : ndarray of bool, shape (G,)
+    lower_bound, gap, relative_gap : ndarray, shape (G,)
+        As in :class:`SteinerTree`; NaN for a skipped group.
     """
 
     junction_offsets: np.ndarray
@@ -333,6 +354,9 @@ class SteinerTrees(_SteinerEdges, Grouped):
     mst_length: np.ndarray
     saving: np.ndarray
     optimal: np.ndarray
+    lower_bound: np.ndarray
+    gap: np.ndarray
+    relative_gap: np.ndarray
     points: np.ndarray = dataclasses.field(repr=False)
     # Group position of every input row (to give each group's tree in its own row numbers).
     row_group: np.ndarray = dataclasses.field(repr=False)
@@ -347,7 +371,8 @@ class SteinerTrees(_SteinerEdges, Grouped):
             self._within(self.end_b[edges], self.row_group, position),
             self.junction_a[edges].copy(), self.junction_b[edges].copy(), self.edge_length[edges].copy(),
             float(self.length[position]), float(self.mst_length[position]), float(self.saving[position]),
-            bool(self.optimal[position]), self.points[self.row_group == position], unit=self.unit,
+            bool(self.optimal[position]), float(self.lower_bound[position]), float(self.gap[position]),
+            float(self.relative_gap[position]), self.points[self.row_group == position], unit=self.unit,
         )
 
     def _row_groups(self) -> np.ndarray:
@@ -360,7 +385,8 @@ class SteinerTrees(_SteinerEdges, Grouped):
     def summary(self) -> Any:
         """One row per group: ``group``, ``problem`` and the totals of :meth:`SteinerTree.summary`."""
         columns = _summary_columns(self, self.length, self.mst_length, self.saving,
-                                   np.diff(self.junction_offsets), np.diff(self.edge_offsets), self.optimal)
+                                   np.diff(self.junction_offsets), np.diff(self.edge_offsets), self.optimal,
+                                   self.lower_bound, self.relative_gap)
         return _group_summary(self, columns)
 
     def plot(self, ax: Any = None, **style: Any) -> Any:
@@ -512,8 +538,11 @@ def steiner_tree(
         Orders heuristic insertions of equal gain (0 to 2**64 - 1); the same seed gives the
         same tree.
     time_limit : float, optional
-        Seconds allowed for an exact attempt (finite, >= 0); when they run out the
-        heuristic's tree is returned with ``optimal=False``.
+        Seconds allowed for an exact attempt (finite, >= 0); when they run out the best
+        tree found is returned (at worst the heuristic's) with ``optimal=False`` and a
+        proven ``lower_bound``: the branch and cut's LP bound at the stop when every full
+        Steiner tree had been generated, else ``0.824 * mst_length`` (Chung and Graham
+        1985). ``gap`` and ``relative_gap`` say how far from optimal the tree may be.
     groups : array_like of int, shape (n,), optional
         Group labels: one tree per group (in parallel), returned as ``SteinerTrees``.
     errors : {"raise", "skip"}

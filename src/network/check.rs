@@ -11,7 +11,8 @@ use crate::geometry::{distance, scale, sub, Point};
 /// tree on all rows and junctions, each edge with its smaller end first and its length as
 /// given; every junction of degree three with its edges at 120° to within `angle_tol`
 /// radians; no input row with more than three edges; `length` the sum of the edges and at
-/// most `mst_length` (to within a relative 1e-12).
+/// most `mst_length` (to within a relative 1e-12); `lower_bound` in `[0, length]`, and equal
+/// to `length` when `optimal`.
 ///
 /// # Errors
 /// A sentence naming the first broken invariant.
@@ -86,6 +87,14 @@ pub fn check_steiner_tree(points: &[Point], tree: &SteinerTree, angle_tol: f64) 
     }
     if tree.length > tree.mst_length * (1.0 + 1e-12) {
         return Err(format!("length {} exceeds the MST length {}", tree.length, tree.mst_length));
+    }
+    if !(tree.lower_bound >= 0.0 && tree.lower_bound <= tree.length)
+        || (tree.optimal && tree.lower_bound != tree.length)
+    {
+        return Err(format!(
+            "lower bound {} does not fit length {} (optimal: {})",
+            tree.lower_bound, tree.length, tree.optimal
+        ));
     }
     Ok(())
 }

@@ -8,7 +8,7 @@
 
 use std::collections::HashMap;
 
-use super::steiner::Network;
+use super::steiner::Solved;
 use super::union_find::UnionFind;
 use super::{total_length, EdgeEnd, SteinerTree};
 use crate::geometry::{distance, location_key, Point, WorkingFrame};
@@ -96,10 +96,10 @@ impl Distinct {
         &self,
         points: &[Point],
         frame: &WorkingFrame,
-        net: &Network,
-        optimal: bool,
+        solved: &Solved,
         mst_length: f64,
     ) -> SteinerTree {
+        let net = &solved.net;
         let d = self.points.len();
         let junctions: Vec<Point> = net.nodes[d..].iter().map(|&p| frame.to_world(p)).collect();
         let mut degree = vec![0usize; d];
@@ -136,6 +136,9 @@ impl Distinct {
         };
         let edge_length: Vec<f64> = edges.iter().map(|&[a, b]| distance(at(a), at(b))).collect();
         let length = total_length(&edge_length);
-        SteinerTree { junctions, edges, edge_length, length, mst_length, optimal }
+        // The bound maps to world units exactly (a power-of-two scale); a proven tree is its
+        // own bound, and rounding of the lengths never lifts the bound above the length.
+        let lower_bound = if solved.proven { length } else { frame.world_length(solved.lower_bound).min(length) };
+        SteinerTree { junctions, edges, edge_length, length, mst_length, optimal: solved.proven, lower_bound }
     }
 }

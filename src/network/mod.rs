@@ -93,7 +93,8 @@ pub struct SteinerOptions {
     pub seed: u64,
     /// Wall-clock budget of an exact attempt, in seconds (`None`: unlimited for
     /// [`SteinerMethod::Exact`], [`AUTO_BUDGET`] seconds for [`SteinerMethod::Auto`]).
-    /// When it runs out the heuristic's tree is returned, not proven optimal.
+    /// When it runs out, the best tree found is returned (at worst the heuristic's), not
+    /// proven optimal, with a proven lower bound ([`SteinerTree::lower_bound`]).
     pub time_limit: Option<f64>,
     /// Cancel flag and progress count shared with the caller ([`crate::cancel`]). A
     /// cancelled run returns at once with the spanning tree or the heuristic's tree so far.
@@ -141,6 +142,11 @@ pub struct SteinerTree {
     pub mst_length: f64,
     /// True only when the tree is proven to be a Steiner minimum tree.
     pub optimal: bool,
+    /// A proven lower bound on the length of a Steiner minimum tree, at most `length`
+    /// (equal to it when `optimal`). It is the branch and cut's LP bound when the exact
+    /// method generated every full Steiner tree, otherwise `mst_length` times 0.824, the
+    /// Steiner ratio bound of Chung and Graham (1985).
+    pub lower_bound: f64,
 }
 
 impl SteinerTree {
@@ -148,6 +154,20 @@ impl SteinerTree {
     pub fn saving(&self) -> f64 {
         if self.mst_length > 0.0 {
             1.0 - self.length / self.mst_length
+        } else {
+            0.0
+        }
+    }
+
+    /// `length − lower_bound`: how much longer the tree may be than a Steiner minimum tree.
+    pub fn gap(&self) -> f64 {
+        self.length - self.lower_bound
+    }
+
+    /// [`SteinerTree::gap`] relative to `length` (0 when the tree has no length).
+    pub fn relative_gap(&self) -> f64 {
+        if self.length > 0.0 {
+            self.gap() / self.length
         } else {
             0.0
         }
@@ -184,9 +204,9 @@ pub fn steiner_tree(points: &[Point], options: &SteinerOptions) -> Result<Steine
         local = frame.local(&distinct.points);
         mst_edges = mst::mst_edges(&local)?;
     }
-    let (net, optimal) = steiner::solve_distinct(&local, mst_edges, options);
+    let solved = steiner::solve_distinct(&local, mst_edges, options);
     let mst_length = spanning_tree(points)?.length;
-    Ok(distinct.expand(points, &frame, &net, optimal, mst_length))
+    Ok(distinct.expand(points, &frame, &solved, mst_length))
 }
 
 /// [`steiner_tree`] of every group of a labelled cloud, in parallel (see [`crate::batch`]).

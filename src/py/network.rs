@@ -125,7 +125,8 @@ fn spanning_tree_grouped<'py>(
 }
 
 /// Fields: junctions (k, 2), end_a, end_b, junction_a, junction_b (E,) (see
-/// [`steiner_ends`]), edge_length (E,), length, mst_length, saving, optimal.
+/// [`steiner_ends`]), edge_length (E,), length, mst_length, saving, optimal, lower_bound, gap,
+/// relative_gap.
 #[pyfunction]
 #[pyo3(signature = (points, exact, seed, time_limit, progress))]
 fn steiner_tree_single<'py>(
@@ -149,14 +150,17 @@ fn steiner_tree_single<'py>(
         .put("mst_length", t.mst_length)?
         .put("saving", t.saving())?
         .put("optimal", t.optimal)?
+        .put("lower_bound", t.lower_bound)?
+        .put("gap", t.gap())?
+        .put("relative_gap", t.relative_gap())?
         .done())
 }
 
 /// Fields: labels, problem (G,), junction_offsets (G + 1,), junctions (K, 2), edge_offsets
 /// (G + 1,), end_a, end_b (input rows of the whole cloud, or -1), junction_a, junction_b
 /// (junction number within the group, or -1) (E,), edge_length (E,), length, mst_length,
-/// saving (G,), optimal (G,). A skipped group has no junctions or edges, NaN totals and
-/// `optimal` false.
+/// saving, optimal, lower_bound, gap, relative_gap (G,). A skipped group has no junctions or
+/// edges, NaN totals and `optimal` false.
 #[pyfunction]
 #[pyo3(signature = (points, groups, exact, seed, time_limit, errors, progress))]
 #[allow(clippy::too_many_arguments)]
@@ -191,6 +195,9 @@ fn steiner_tree_grouped<'py>(
         .put("mst_length", PyArray1::from_vec(py, g.column(f64::NAN, |t| t.mst_length)))?
         .put("saving", PyArray1::from_vec(py, g.column(f64::NAN, |t| t.saving())))?
         .put("optimal", PyArray1::from_vec(py, g.column(false, |t| t.optimal)))?
+        .put("lower_bound", PyArray1::from_vec(py, g.column(f64::NAN, |t| t.lower_bound)))?
+        .put("gap", PyArray1::from_vec(py, g.column(f64::NAN, |t| t.gap())))?
+        .put("relative_gap", PyArray1::from_vec(py, g.column(f64::NAN, |t| t.relative_gap())))?
         .done())
 }
 

@@ -24,7 +24,8 @@ class Network(NamedTuple):
     summary : DataFrame
         One row per tree (per group): ``points`` (rows linked), ``length_<unit>`` and, for
         Steiner trees, ``mst_length_<unit>``, ``saving`` (1 − length / MST length),
-        ``junctions`` (Steiner points added) and ``optimal`` (proven).
+        ``junctions`` (Steiner points added), ``optimal`` (proven), ``lower_bound_<unit>``
+        (a proven lower bound on the shortest tree) and ``relative_gap``.
     """
 
     edges: Any
@@ -102,7 +103,7 @@ def steiner_tree(
     Network
         ``edges`` (an end at an added junction has ``end_a`` / ``end_b`` None) and
         ``summary`` with ``length_<unit>``, ``mst_length_<unit>``, ``saving``,
-        ``junctions`` and ``optimal``.
+        ``junctions``, ``optimal``, ``lower_bound_<unit>`` and ``relative_gap``.
 
     Examples
     --------

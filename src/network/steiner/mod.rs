@@ -23,7 +23,7 @@ mod smith;
 mod solve;
 mod terminal_sets;
 
-pub(super) use solve::solve_distinct;
+pub(super) use solve::{solve_distinct, Solved};
 
 use crate::geometry::{add, distance, scale, sub, Point};
 

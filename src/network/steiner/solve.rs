@@ -1,31 +1,65 @@
 //! The choice between the exact solver and the heuristic, on distinct terminals in the
 //! working frame.
 //!
-//! Invariant: the tree returned is never longer than the terminals' minimum spanning tree
-//! (the heuristic's tree is replaced by the spanning tree when it is not shorter), and it is
+//! Invariants: the tree returned is never longer than the terminals' minimum spanning tree
+//! (the heuristic's tree is replaced by the spanning tree when it is not shorter); it is
 //! reported optimal only when the exact solver proved it so (or the terminals are collinear
-//! or fewer than three, where the spanning tree is the Steiner minimum tree).
+//! or fewer than three, where the spanning tree is the Steiner minimum tree); and its lower
+//! bound is a proven bound on the Steiner minimum tree, never above the tree's length.
+//!
+//! The lower bound is the branch and cut's (the smallest LP bound of an open node) when every
+//! full Steiner tree was generated, since only then does the integer program describe every
+//! Steiner minimum tree; otherwise it is the spanning tree's length times [`RATIO_BOUND`].
 
 use super::{concatenate, fst, heuristic, Network};
 use crate::geometry::predicates::all_collinear;
 use crate::geometry::Point;
 use crate::network::{SteinerMethod, SteinerOptions, AUTO_BUDGET, AUTO_EXACT_TERMINALS};
 
+/// A proven lower bound on the ratio of the Steiner minimum tree's length to the minimum
+/// spanning tree's: Chung and Graham (1985, "A new bound for Euclidean Steiner minimal
+/// trees") proved the ratio at least 0.8241. The conjectured √3/2 ≈ 0.866 (Gilbert and
+/// Pollak 1968) is not used: the published proof of it (Du and Hwang 1992) has a gap
+/// (Ivanov and Tuzhilin 2012), so a bound built on it would not be proven.
+pub(crate) const RATIO_BOUND: f64 = 0.824;
+
+/// The answer of [`solve_distinct`], in working units.
+#[derive(Debug, Clone)]
+pub(crate) struct Solved {
+    /// The tree.
+    pub net: Network,
+    /// Whether it is proven a Steiner minimum tree.
+    pub proven: bool,
+    /// A proven lower bound on the Steiner minimum tree's length, at most `net.length()`.
+    pub lower_bound: f64,
+}
+
 /// Solve on distinct terminals `local` in the working frame, given their minimum spanning
-/// tree: the tree and whether it is proven optimal.
-pub(crate) fn solve_distinct(local: &[Point], mst_edges: Vec<[usize; 2]>, options: &SteinerOptions) -> (Network, bool) {
+/// tree: the tree, whether it is proven optimal, and a proven lower bound.
+pub(crate) fn solve_distinct(local: &[Point], mst_edges: Vec<[usize; 2]>, options: &SteinerOptions) -> Solved {
     let n = local.len();
     let chain = |edges: Vec<[usize; 2]>| Network { nodes: local.to_vec(), terminal_count: n, edges };
+    let answer = |net: Network, proven: bool, bound: f64| {
+        let length = net.length();
+        // A proven tree is its own bound; rounding never lifts the bound above the length.
+        let lower_bound = if proven { length } else { bound.min(length) };
+        Solved { net, proven, lower_bound }
+    };
     if n < 3 || all_collinear(local) {
         // A Steiner point would need an angle below 120° between terminals; on a line there is none.
-        return (chain(mst_edges), true);
+        return answer(chain(mst_edges), true, 0.0);
     }
+    let mst_length = chain(mst_edges.clone()).length();
+    let ratio_bound = RATIO_BOUND * mst_length;
     let exact = match options.method {
         SteinerMethod::Exact => true,
         SteinerMethod::Heuristic => false,
         SteinerMethod::Auto => n <= AUTO_EXACT_TERMINALS,
     };
     let watch = &options.watch;
+    // The best unproven tree of an exact attempt stopped in its branch and cut, with the
+    // LP bound (valid: every full Steiner tree was generated).
+    let mut stopped: Option<(Network, f64)> = None;
     if exact {
         let budget = options.time_limit.or((options.method == SteinerMethod::Auto).then_some(AUTO_BUDGET));
         let clock = watch.clock(budget);
@@ -34,22 +68,27 @@ pub(crate) fn solve_distinct(local: &[Point], mst_edges: Vec<[usize; 2]>, option
             if let Some(found) = concatenate::concatenate(n, &trees, &clock) {
                 let net = assemble(local, &trees, &found.chosen);
                 if net.edges.len() + 1 == net.nodes.len() {
-                    return (net, found.proven);
+                    if found.proven {
+                        return answer(net, true, found.lower_bound);
+                    }
+                    stopped = Some((net, found.lower_bound.max(ratio_bound)));
                 }
             }
         }
     }
     if watch.is_cancelled() {
         // The caller discards a cancelled answer: the spanning tree is the quickest valid one.
-        return (chain(mst_edges), false);
+        return answer(chain(mst_edges), false, ratio_bound);
     }
-    let mst_length = chain(mst_edges.clone()).length();
     let net = heuristic::heuristic(local, mst_edges.clone(), options.seed, watch);
-    if net.length() <= mst_length {
-        (net, false)
-    } else {
-        (chain(mst_edges), false)
+    let (mut best, mut bound) = (if net.length() <= mst_length { net } else { chain(mst_edges) }, ratio_bound);
+    if let Some((net, lp_bound)) = stopped {
+        bound = lp_bound;
+        if net.length() < best.length() {
+            best = net;
+        }
     }
+    answer(best, false, bound)
 }
 
 /// The tree made of the chosen full Steiner trees.
@@ -83,13 +122,15 @@ mod tests {
         let watch = Watch::new();
         let options =
             SteinerOptions { method: SteinerMethod::Exact, watch: watch.clone(), ..SteinerOptions::default() };
-        let (net, proven) = solve_distinct(&pts, mst.clone(), &options);
+        let Solved { net, proven, .. } = solve_distinct(&pts, mst.clone(), &options);
         assert!(proven);
         let (done, total) = watch.progress();
         assert!(done == total && total > 0, "{done} of {total}");
         watch.cancel();
-        let (net_cancelled, proven) = solve_distinct(&pts, mst.clone(), &options);
+        let Solved { net: net_cancelled, proven, lower_bound } = solve_distinct(&pts, mst.clone(), &options);
         assert!(!proven);
+        // Chung and Graham's (1985) ratio bound of the spanning tree's length.
+        assert!((lower_bound - RATIO_BOUND * net_cancelled.length()).abs() < 1e-12);
         assert_eq!(net_cancelled.edges, mst);
         // The spanning tree is itself a Steiner tree, so the proven optimum is no longer.
         assert!(net.length() <= net_cancelled.length());
@@ -104,7 +145,8 @@ mod past_one_word {
 
     fn exact(points: &[Point]) -> (Network, bool) {
         let options = SteinerOptions { method: SteinerMethod::Exact, ..SteinerOptions::default() };
-        solve_distinct(points, mst_edges(points).unwrap(), &options)
+        let solved = solve_distinct(points, mst_edges(points).unwrap(), &options);
+        (solved.net, solved.proven)
     }
 
     #[test]
@@ -142,6 +184,57 @@ mod past_one_word {
             assert!(net.length() <= heuristic.length() * (1.0 + 1e-12), "seed {seed}");
             assert!(net.length() < mst_length, "seed {seed}");
         }
+    }
+}
+
+#[cfg(test)]
+mod bounds {
+    use super::*;
+    use crate::geometry::random::SplitMix64;
+    use crate::network::mst::mst_edges;
+
+    fn uniform(n: usize, seed: u64) -> Vec<Point> {
+        let mut rng = SplitMix64::new(seed);
+        (0..n).map(|_| [rng.next_f64() - 0.5, rng.next_f64() - 0.5]).collect()
+    }
+
+    #[test]
+    fn a_proven_tree_is_its_own_bound_and_an_unproven_one_is_above_its_bound() {
+        // Reference for the unproven bound: the proven optimum of the same terminals, which
+        // no valid lower bound may exceed.
+        for seed in 0..4 {
+            let points = uniform(14, 300 + seed);
+            let mst = mst_edges(&points).unwrap();
+            let exact = SteinerOptions { method: SteinerMethod::Exact, ..SteinerOptions::default() };
+            let solved = solve_distinct(&points, mst.clone(), &exact);
+            assert!(solved.proven);
+            assert_eq!(solved.lower_bound, solved.net.length());
+            for options in [
+                SteinerOptions { method: SteinerMethod::Heuristic, ..SteinerOptions::default() },
+                SteinerOptions { time_limit: Some(0.0), ..exact.clone() },
+            ] {
+                let quick = solve_distinct(&points, mst.clone(), &options);
+                assert!(!quick.proven);
+                assert!(quick.lower_bound <= solved.net.length(), "seed {seed}");
+                assert!(solved.net.length() <= quick.net.length() * (1.0 + 1e-12), "seed {seed}");
+            }
+        }
+    }
+
+    #[test]
+    fn a_tiny_time_limit_on_150_terminals_returns_a_tree_with_a_bound() {
+        let points = uniform(150, 150);
+        let mst = mst_edges(&points).unwrap();
+        let mst_length = Network { nodes: points.clone(), terminal_count: 150, edges: mst.clone() }.length();
+        let options =
+            SteinerOptions { method: SteinerMethod::Exact, time_limit: Some(0.01), ..SteinerOptions::default() };
+        let solved = solve_distinct(&points, mst, &options);
+        assert!(!solved.proven);
+        assert_eq!(solved.net.edges.len() + 1, solved.net.nodes.len());
+        assert!(solved.net.length() <= mst_length);
+        // Chung and Graham (1985): the Steiner minimum tree is at least 0.8241 of the MST.
+        assert!(solved.lower_bound >= RATIO_BOUND * mst_length - 1e-12);
+        assert!(solved.lower_bound <= solved.net.length());
     }
 }
 
