@@ -246,13 +246,53 @@ fn arc_parameter(s: Point, centre: Point, theta_q: f64) -> f64 {
 /// subtree size run in parallel on the rayon pool; the output is the same on any number of
 /// threads.
 pub(crate) fn full_steiner_trees(points: &[Point], bottleneck: &Bottleneck, clock: &Clock) -> Option<Vec<FullTree>> {
-    generate(points, bottleneck, clock, true)
+    generate(points, bottleneck, clock, true, &mut Vec::new())
+}
+
+/// What the generation did for one subtree size `k` (the number of terminals below an
+/// equilateral point), for measuring where its time goes.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub(crate) struct SizeCounts {
+    /// Subtree size (terminals below the equilateral points made).
+    pub size: usize,
+    /// Pairs of items met in the sweep windows.
+    pub pairs: u64,
+    /// Those with disjoint terminal sets.
+    pub disjoint: u64,
+    /// Those passing the distance test before the trigonometry.
+    pub near: u64,
+    /// Orientations whose arc survived the bottleneck test and went to the sampled tests.
+    pub sampled: u64,
+    /// Equilateral points kept.
+    pub kept: u64,
+    /// Wall-clock seconds for the size.
+    pub seconds: f64,
+}
+
+/// [`full_steiner_trees`] with the counts of each subtree size; the last entry (size 0)
+/// counts the closing: `pairs` the closings tried, `kept` the full Steiner trees kept.
+#[cfg(test)]
+pub(crate) fn full_steiner_trees_counted(
+    points: &[Point],
+    bottleneck: &Bottleneck,
+    clock: &Clock,
+) -> Option<(Vec<FullTree>, Vec<SizeCounts>)> {
+    let mut counts = Vec::new();
+    let trees = generate(points, bottleneck, clock, true, &mut counts)?;
+    Some((trees, counts))
 }
 
 /// [`full_steiner_trees`]; with `prune` false every pruning test is skipped and only the
 /// geometry (feasible arcs, Simpson lines) is kept, which enumerates every FST and serves
 /// the tests as a reference for the pruning.
-fn generate(points: &[Point], bottleneck: &Bottleneck, clock: &Clock, prune: bool) -> Option<Vec<FullTree>> {
+fn generate(
+    points: &[Point],
+    bottleneck: &Bottleneck,
+    clock: &Clock,
+    prune: bool,
+    counts: &mut Vec<SizeCounts>,
+) -> Option<Vec<FullTree>> {
+    use std::sync::atomic::{AtomicU64, Ordering::Relaxed};
     let n = points.len();
     // A two-terminal FST of a Steiner minimum tree is an MST edge (it is no longer than its
     // bottleneck Steiner distance); the unpruned reference keeps every pair.
@@ -296,11 +336,16 @@ fn generate(points: &[Point], bottleneck: &Bottleneck, clock: &Clock, prune: boo
     // item to terminal v; far[item]: the item's farthest arc distance (`reach`).
     let mut nearest_bsd: Vec<f64> = Vec::with_capacity(items.len() * n);
     let mut far: Vec<f64> = Vec::with_capacity(items.len());
+    let mut near: Vec<f64> = Vec::with_capacity(items.len());
     for (index, item) in items.iter().enumerate() {
         push_nearest(&mut nearest_bsd, sets.get(index), bottleneck, n);
         far.push(reach(item).1);
+        near.push(reach(item).0);
     }
     for k in 2..n {
+        let started = std::time::Instant::now();
+        // Per-size tallies, added once per job: pairs, disjoint, near, sampled.
+        let tally: [AtomicU64; 4] = Default::default();
         // The pairings of one size are independent: they run in parallel, each item `a` of
         // the smaller side with its partners, and are gathered in the order of `a` so that
         // the output does not depend on the thread count.
@@ -321,11 +366,14 @@ fn generate(points: &[Point], bottleneck: &Bottleneck, clock: &Clock, prune: boo
             let first = xs[j].partition_point(|&x| x < pa[0] - window);
             let last = xs[j].partition_point(|&x| x <= pa[0] + window);
             let first = if i == j { first.max(a_pos + 1) } else { first };
+            let mut local = [0u64; 4];
             for &b in by_size[j].get(first..last).unwrap_or(&[]) {
                 let ib = &items[b as usize];
+                local[0] += 1;
                 if !sets.disjoint(a as usize, b as usize) {
                     continue;
                 }
+                local[1] += 1;
                 // The same with the smallest bottleneck distance between the two sides.
                 let mut closest = f64::INFINITY;
                 for v in members(sets.get(b as usize)) {
@@ -342,11 +390,28 @@ fn generate(points: &[Point], bottleneck: &Bottleneck, clock: &Clock, prune: boo
                 {
                     continue;
                 }
+                local[2] += 1;
+                // `closest` is the bottleneck limit of the pair; an orientation whose arc the
+                // cheap conditions of `arc_bounds` already empty needs no more.
+                let radius = distance(pa, ib.pos) / 3f64.sqrt();
                 for (p, q) in [(a, b), (b, a)] {
-                    if let Some(item) = equilateral(&items, &sets, p, q, bottleneck, points, mst_of, prune) {
+                    let (p_reach, q_reach) = ([near[p as usize], far[p as usize]], [near[q as usize], far[q as usize]]);
+                    if prune
+                        && (radius <= TOL
+                            || !arc_bounds(radius, p_reach, q_reach, Some(closest))
+                                .is_some_and(|(lo, hi)| hi - lo > ARC_TOL))
+                    {
+                        continue;
+                    }
+                    if let Some(item) =
+                        equilateral(&items, &sets, p, q, bottleneck, points, mst_of, prune, closest, &mut local[3])
+                    {
                         found.push(item);
                     }
                 }
+            }
+            for (total, add) in tally.iter().zip(local) {
+                total.fetch_add(add, Relaxed);
             }
             Some(found)
         };
@@ -359,13 +424,19 @@ fn generate(points: &[Point], bottleneck: &Bottleneck, clock: &Clock, prune: boo
             sets.push_union(p as usize, q as usize);
             push_nearest(&mut nearest_bsd, sets.get(items.len()), bottleneck, n);
             far.push(reach(&item).1);
+            near.push(reach(&item).0);
             items.push(item);
         }
         let mut list = std::mem::take(&mut by_size[k]);
         sort_by_x(&mut list, &items);
+        let [pairs, disjoint, near, sampled] = tally.map(AtomicU64::into_inner);
+        let (kept, seconds) = (list.len() as u64, started.elapsed().as_secs_f64());
+        counts.push(SizeCounts { size: k, pairs, disjoint, near, sampled, kept, seconds });
         by_size[k] = list;
         clock.watch.advance(1);
     }
+    let started = std::time::Instant::now();
+    let mut closings = 0u64;
     // Close every equilateral point with each admissible root.
     for (index, item) in items.iter().enumerate() {
         if matches!(item.kind, Kind::Terminal(_)) {
@@ -373,6 +444,7 @@ fn generate(points: &[Point], bottleneck: &Bottleneck, clock: &Clock, prune: boo
         }
         let lowest = lowest(sets.get(index)).expect("an equilateral point has terminals below it");
         for root in 0..lowest {
+            closings += 1;
             if let Some(tree) = close(&items, index, root, points) {
                 if !prune || passes_tests(&tree, points, bottleneck) {
                     trees.push(tree);
@@ -384,6 +456,13 @@ fn generate(points: &[Point], bottleneck: &Bottleneck, clock: &Clock, prune: boo
         }
     }
     clock.watch.advance(1);
+    let closed = SizeCounts {
+        pairs: closings,
+        kept: trees.len() as u64,
+        seconds: started.elapsed().as_secs_f64(),
+        ..SizeCounts::default()
+    };
+    counts.push(closed);
     Some(trees)
 }
 
@@ -399,6 +478,8 @@ fn equilateral(
     points: &[Point],
     mst_of: &mut BsdTrees,
     prune: bool,
+    limit: f64,
+    sampled: &mut u64,
 ) -> Option<Item> {
     let (ip, iq) = (&items[p as usize], &items[q as usize]);
     let (pp, qq) = (ip.pos, iq.pos);
@@ -427,17 +508,11 @@ fn equilateral(
         lo = lo.max(ARC - 2.0 * g0.max(g1));
         hi = hi.min(ARC - 2.0 * g0.min(g1));
     }
-    // The Steiner point lies beyond a child's circle as seen from the child's equilateral
-    // point (the child's own Steiner point is between them): at least the child's nearest
-    // arc distance away.
+    // The children's nearest arc distances and, when pruning, the bottleneck test.
     let (near_p, far_p) = reach(ip);
     let (near_q, far_q) = reach(iq);
-    let chord_limit = |near: f64| -> Option<f64> {
-        let x = near / (2.0 * radius);
-        (x < 1.0).then(|| 2.0 * x.asin())
-    };
-    hi = hi.min(ARC - chord_limit(near_p)?);
-    lo = lo.max(chord_limit(near_q)?);
+    let (l, h) = arc_bounds(radius, [near_p, far_p], [near_q, far_q], prune.then_some(limit))?;
+    (lo, hi) = (lo.max(l), hi.min(h));
     let (set_p, set_q) = (sets.get(p as usize), sets.get(q as usize));
     // The terminals below the new point (the two sides are disjoint).
     let below = || members(set_p).chain(members(set_q));
@@ -446,34 +521,10 @@ fn equilateral(
     if !prune {
         return (hi - lo > ARC_TOL).then(|| item(lo, hi));
     }
-    // Bottleneck Steiner distance test (Winter and Zachariasen 1997), as a narrowing of the
-    // arc: both edges at the Steiner point s, towards p's side and towards q's side, lie on
-    // the tree path between every terminal u below p and every terminal v below q, so in a
-    // Steiner minimum tree neither is longer than `limit = min bsd(u, v)`. The edge towards
-    // a child ends at the child's own Steiner point, which lies between s and the child's
-    // location on Simpson's line and at most the child's farthest arc distance from that
-    // location; so |s − p| ≤ limit + far_p is necessary (far = 0 for a terminal). With
-    // |s − q| = 2r·sin(u/2) and |s − p| = 2r·sin((2π/3 − u)/2) each bound is an interval of
-    // u, and the arc shrinks to their intersection; the tolerance is added on the safe side.
-    let mut limit = f64::INFINITY;
-    for u in members(set_p) {
-        for v in members(set_q) {
-            limit = limit.min(bottleneck.get(u, v));
-        }
-    }
-    let arc_within = |bound: f64| -> f64 {
-        let x = bound / (2.0 * radius);
-        if x >= 1.0 {
-            PI
-        } else {
-            2.0 * x.asin()
-        }
-    };
-    lo = lo.max(ARC - arc_within(limit + far_p + TOL));
-    hi = hi.min(arc_within(limit + far_q + TOL));
     if hi - lo <= ARC_TOL {
         return None;
     }
+    *sampled += 1;
     // The remaining tests are conditions on the Steiner point s that a Steiner minimum tree
     // meets at its own s all at once. They are checked at SAMPLES points of the arc, each
     // relaxed by how much its quantity can change within half a sample spacing, so that the
@@ -625,6 +676,51 @@ fn push_nearest(table: &mut Vec<f64>, set: &[u64], bottleneck: &Bottleneck, n: u
         }
         table.push(best);
     }
+}
+
+/// The interval of the arc parameter `u` (see [`Kind::Equilateral`]) of an equilateral point
+/// of circle radius `radius` on children `p` and `q` that two necessary conditions leave,
+/// each child given by its `[nearest, farthest]` arc distance ([`reach`]); `None` when the
+/// first condition already fails. Needs no angles of the children's arcs, so the pairing
+/// loop calls it first to reject most pairs before [`equilateral`] narrows by those too.
+///
+/// - The Steiner point s lies beyond a child's circle as seen from the child's equilateral
+///   point (the child's own Steiner point is between them): at least the child's nearest
+///   arc distance away, with |s − q| = 2r·sin(u/2) and |s − p| = 2r·sin((2π/3 − u)/2).
+/// - With `limit` (the smallest bottleneck Steiner distance between a terminal below p and
+///   one below q), the bottleneck Steiner distance test (Winter and Zachariasen 1997) as a
+///   narrowing of the arc: both edges at s, towards p's side and towards q's side, lie on
+///   the tree path between every terminal u below p and every terminal v below q, so in a
+///   Steiner minimum tree neither is longer than `limit`. The edge towards a child ends at
+///   the child's own Steiner point, between s and the child's location on Simpson's line
+///   and at most the child's farthest arc distance from that location; so
+///   |s − p| ≤ limit + far_p is necessary (far = 0 for a terminal). Each bound is an
+///   interval of u; the tolerance is added on the safe side.
+#[inline]
+fn arc_bounds(
+    radius: f64,
+    [near_p, far_p]: [f64; 2],
+    [near_q, far_q]: [f64; 2],
+    limit: Option<f64>,
+) -> Option<(f64, f64)> {
+    let chord_limit = |near: f64| -> Option<f64> {
+        let x = near / (2.0 * radius);
+        (x < 1.0).then(|| 2.0 * x.asin())
+    };
+    let (mut lo, mut hi) = (chord_limit(near_q)?, ARC - chord_limit(near_p)?);
+    if let Some(limit) = limit {
+        let arc_within = |bound: f64| -> f64 {
+            let x = bound / (2.0 * radius);
+            if x >= 1.0 {
+                PI
+            } else {
+                2.0 * x.asin()
+            }
+        };
+        lo = lo.max(ARC - arc_within(limit + far_p + TOL));
+        hi = hi.min(arc_within(limit + far_q + TOL));
+    }
+    Some((lo, hi))
 }
 
 /// Nearest and farthest distance from an item's location to its feasible arc (both 0 for
@@ -822,7 +918,7 @@ mod pruning_properties {
     fn pruning_keeps_the_optimum(points: &[Point]) -> Result<(), String> {
         let b = Bottleneck::new(points);
         let pruned = full_steiner_trees(points, &b, &Clock::unlimited()).unwrap();
-        let every = generate(points, &b, &Clock::unlimited(), false).unwrap();
+        let every = generate(points, &b, &Clock::unlimited(), false, &mut Vec::new()).unwrap();
         let (short, reference) =
             (concatenated_length(points.len(), &pruned), concatenated_length(points.len(), &every));
         if pruned.len() > every.len() || (short - reference).abs() > 1e-9 * reference {

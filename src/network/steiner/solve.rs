@@ -285,3 +285,55 @@ mod agreement {
         }
     }
 }
+
+#[cfg(test)]
+mod measure {
+    use super::*;
+    use crate::geometry::random::SplitMix64;
+
+    /// Phase times and generation counts on seeded uniform sets, for benchmarks/RESULTS.md:
+    /// `cargo test --release --lib phases_of_uniform_sets -- --ignored --nocapture`, sizes
+    /// from `PHASE_SIZES` (default `30,40`), seeds `0..PHASE_SEEDS` (default 3), each set
+    /// stopped after `PHASE_LIMIT` seconds (default 600). A set that finishes must be proven.
+    #[test]
+    #[ignore = "measurement, minutes long"]
+    fn phases_of_uniform_sets() {
+        let var = |name: &str, default: &str| std::env::var(name).unwrap_or_else(|_| default.to_string());
+        let sizes: Vec<usize> = var("PHASE_SIZES", "30,40").split(',').map(|s| s.trim().parse().unwrap()).collect();
+        let seeds: u64 = var("PHASE_SEEDS", "3").parse().unwrap();
+        let limit: f64 = var("PHASE_LIMIT", "600").parse().unwrap();
+        for n in sizes {
+            for seed in 0..seeds {
+                let mut rng = SplitMix64::new(1000 * n as u64 + seed);
+                let points: Vec<Point> = (0..n).map(|_| [rng.next_f64() - 0.5, rng.next_f64() - 0.5]).collect();
+                let clock = crate::cancel::Watch::new().clock(Some(limit));
+                let started = std::time::Instant::now();
+                let bottleneck = fst::Bottleneck::new(&points);
+                let Some((trees, counts)) = fst::full_steiner_trees_counted(&points, &bottleneck, &clock) else {
+                    println!(
+                        "n = {n}, seed = {seed}: generation stopped after {:.1} s",
+                        started.elapsed().as_secs_f64()
+                    );
+                    continue;
+                };
+                let generated = started.elapsed().as_secs_f64();
+                let found = concatenate::concatenate(n, &trees, &clock).unwrap();
+                let total = started.elapsed().as_secs_f64();
+                println!(
+                    "n = {n}, seed = {seed}: generation {generated:.3} s, concatenation {:.4} s, {} FSTs, length {:.12}, proven {}",
+                    total - generated,
+                    trees.len(),
+                    found.length,
+                    found.proven
+                );
+                for c in &counts {
+                    println!(
+                        "  size {:>2}: {:>10} pairs {:>10} disjoint {:>9} near {:>9} sampled {:>7} kept {:>8.3} s",
+                        c.size, c.pairs, c.disjoint, c.near, c.sampled, c.kept, c.seconds
+                    );
+                }
+                assert!(found.proven || clock.stop(), "n = {n}, seed = {seed}");
+            }
+        }
+    }
+}
