@@ -59,11 +59,15 @@ impl Earth {
         s
     }
 
-    /// Distance and initial direction of the geodesic from `centre` to `a`.
+    /// Distance and initial direction of the geodesic from `centre` to `a`. The direction
+    /// comes as the sine and cosine of the azimuth, without a round trip through degrees,
+    /// and without the reduced length and geodesic scale that [`Earth::seen_with_curvature`]
+    /// also computes (the inverse problem's final series for them are skipped).
     pub(crate) fn seen_from(&self, centre: Point, a: Point) -> Seen {
-        let (s, azi1, _azi2, _a12): (f64, f64, f64, f64) = self.g.inverse(centre[1], centre[0], a[1], a[0]);
-        let (sin, cos) = azi1.to_radians().sin_cos();
-        Seen { distance: s, direction: [sin, cos] }
+        let (_a12, s, sin_azi, cos_azi, _s2, _c2, _m12, _big_m12, _big_m21, _area) =
+            self.g._gen_inverse(centre[1], centre[0], a[1], a[0], DISTANCE | AZIMUTH);
+        let norm = sin_azi.hypot(cos_azi);
+        Seen { distance: s, direction: [sin_azi / norm, cos_azi / norm] }
     }
 
     /// [`Earth::seen_from`] with the geodesic curvature `M/m` at `centre` of the geodesic
@@ -71,8 +75,7 @@ impl Earth {
     /// and geodesic scale `M` of the same inverse problem). The Hessian of `s(·, a)` at
     /// `centre` is `(M/m)(I − uuᵀ)`, `u` the direction: exact second derivatives for Newton
     /// steps at the price of the inverse problem alone (its Newton iteration computes `m`
-    /// anyway). The direction comes as the sine and cosine of the azimuth, without a round
-    /// trip through degrees.
+    /// anyway).
     pub(crate) fn seen_with_curvature(&self, centre: Point, a: Point) -> (Seen, f64) {
         let (_a12, s, sin_azi, cos_azi, _s2, _c2, m12, big_m12, _big_m21, _area) =
             self.g._gen_inverse(centre[1], centre[0], a[1], a[0], DISTANCE | AZIMUTH | REDUCEDLENGTH | GEODESICSCALE);

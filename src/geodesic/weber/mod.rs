@@ -42,9 +42,15 @@
 //! mean direction. Beyond a hemisphere ([`HEMISPHERE_DEGREES`]) the objective has several
 //! local optima in general and the kernel refuses.
 
+mod model;
+mod step;
+
 use rayon::prelude::*;
 
-use super::earth::{angle_between, from_normal, unit_normal, ConformalSphere, Earth};
+use model::model_optimum;
+use step::{sampled_newton_target, SAMPLED_STEP_MIN_POINTS};
+
+use super::earth::{angle_between, from_normal, unit_normal, Earth};
 use crate::error::{Error, Result};
 use crate::geometry::{CompensatedSum, Point, Weights};
 use crate::median::WeberPoint;
@@ -54,16 +60,10 @@ use crate::median::WeberPoint;
 pub const CONVEX_CAP_DEGREES: f64 = 44.0;
 /// Points farther than this (degrees) from their mean direction span more than a hemisphere.
 pub const HEMISPHERE_DEGREES: f64 = 90.0;
-/// Most passes of the pre-solve on the conformal sphere (Newton's method converges in a
-/// handful; the cap bounds the cost when the model's optimum sits at a data point).
-const MODEL_PASSES: usize = 40;
-/// The pre-solve stops when a step is shorter than this angle (radians; about 0.6 mm on the
-/// Earth), far below the model's own error.
-const MODEL_STEP_RADIANS: f64 = 1e-10;
 /// Below this many points a pass runs on one thread.
-const PARALLEL_MIN_POINTS: usize = 4_096;
+pub(super) const PARALLEL_MIN_POINTS: usize = 4_096;
 /// Fixed chunk of a parallel pass; partial sums merged in chunk order (deterministic).
-const CHUNK: usize = 2_048;
+pub(super) const CHUNK: usize = 2_048;
 /// Relative rounding allowance, in units of the unit roundoff.
 const ROUNDING: f64 = 8.0 * f64::EPSILON;
 /// Absolute accuracy of one geodesic distance, metres: GeographicLib's inverse problem is
@@ -200,7 +200,7 @@ struct Problem<'a> {
 }
 
 impl Problem<'_> {
-    fn pass_over(&self, x: Point, start: usize, points: &[Point]) -> Pass {
+    fn pass_over(&self, x: Point, start: usize, points: &[Point], curvature: bool) -> Pass {
         let mut pass = Pass::empty();
         for (offset, &a) in points.iter().enumerate() {
             let i = start + offset;
@@ -208,7 +208,8 @@ impl Problem<'_> {
             if w <= 0.0 {
                 continue;
             }
-            let (seen, curvature) = self.earth.seen_with_curvature(x, a);
+            let (seen, curvature) =
+                if curvature { self.earth.seen_with_curvature(x, a) } else { (self.earth.seen_from(x, a), 0.0) };
             let d = seen.distance;
             if d == 0.0 {
                 pass.eta += w;
@@ -233,12 +234,24 @@ impl Problem<'_> {
         pass
     }
 
+    /// The exact pass at `x`, with the Hessian.
     fn evaluate(&self, x: Point) -> Pass {
+        self.evaluate_with(x, true)
+    }
+
+    /// The exact pass at `x`; without `curvature` the Hessian is left at zero (the inverse
+    /// problems skip their reduced length and geodesic scale): for a pass expected to
+    /// certify the answer, which needs no further step.
+    fn evaluate_with(&self, x: Point, curvature: bool) -> Pass {
         if self.points.len() < PARALLEL_MIN_POINTS {
-            return self.pass_over(x, 0, self.points);
+            return self.pass_over(x, 0, self.points, curvature);
         }
-        let partials: Vec<Pass> =
-            self.points.par_chunks(CHUNK).enumerate().map(|(c, chunk)| self.pass_over(x, c * CHUNK, chunk)).collect();
+        let partials: Vec<Pass> = self
+            .points
+            .par_chunks(CHUNK)
+            .enumerate()
+            .map(|(c, chunk)| self.pass_over(x, c * CHUNK, chunk, curvature))
+            .collect();
         let mut total = Pass::empty();
         for partial in &partials {
             total.merge(partial);
@@ -277,7 +290,7 @@ fn newton_step(pass: &Pass) -> Option<Point> {
 
 /// `−H⁻¹g` for the symmetric `H = [[hxx, hxy], [hxy, hyy]]`, when `H` is positive definite
 /// and the step no longer than `longest`.
-fn newton_2x2(hess: [f64; 3], g: Point, longest: f64) -> Option<Point> {
+pub(super) fn newton_2x2(hess: [f64; 3], g: Point, longest: f64) -> Option<Point> {
     let [hxx, hxy, hyy] = hess;
     let det = hxx * hyy - hxy * hxy;
     let trace = hxx + hyy;
@@ -363,8 +376,19 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
         return Ok(r);
     }
 
-    let mut x = model_optimum(points, weights, spread.centre);
-    let mut current = problem.evaluate(x);
+    let model = model_optimum(points, weights, spread.centre);
+    let mut x = model.location;
+    // From a sampled step the first exact pass is expected to certify the answer, so it
+    // skips the Hessian; when it does not certify, the pass is made again with it.
+    let mut sampled = false;
+    if points.len() >= SAMPLED_STEP_MIN_POINTS {
+        if let Some(target) = sampled_newton_target(&problem, &model) {
+            x = target;
+            sampled = true;
+        }
+    }
+    drop(model);
+    let mut current = problem.evaluate_with(x, !sampled);
     let mut evaluations = 1;
     let mut last_tested: Option<(usize, f64)> = None;
     loop {
@@ -375,6 +399,12 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
         };
         if done || current.cost() == 0.0 || evaluations >= max_iter {
             return Ok(finish(x, &current, evaluations));
+        }
+        if sampled {
+            sampled = false;
+            current = problem.evaluate(x);
+            evaluations += 1;
+            continue;
         }
         if current.eta == 0.0 && data_point_looks_optimal(&problem, &current) {
             let k = current.nearest;
@@ -434,145 +464,6 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
         if !moved {
             return Ok(finish(x, &current, evaluations));
         }
-    }
-}
-
-/// One pass of the model: the objective `Σ wᵢ θᵢ` (angles on the unit sphere), its gradient
-/// and Hessian in the tangent basis `(e₁, e₂)` at `y`.
-#[derive(Debug, Clone, Copy, Default)]
-struct ModelPass {
-    cost: f64,
-    grad: Point,
-    inv: f64,
-    hess: [f64; 3],
-    max_angle: f64,
-    at_point: bool,
-}
-
-impl ModelPass {
-    fn merge(&mut self, other: &ModelPass) {
-        self.cost += other.cost;
-        self.grad = [self.grad[0] + other.grad[0], self.grad[1] + other.grad[1]];
-        self.inv += other.inv;
-        for k in 0..3 {
-            self.hess[k] += other.hess[k];
-        }
-        self.max_angle = self.max_angle.max(other.max_angle);
-        self.at_point |= other.at_point;
-    }
-}
-
-/// A tangent basis at the unit vector `y`.
-fn tangent_basis(y: [f64; 3]) -> ([f64; 3], [f64; 3]) {
-    let across = y[0].hypot(y[1]);
-    let e1 = if across > 1e-9 { [-y[1] / across, y[0] / across, 0.0] } else { [1.0, 0.0, 0.0] };
-    let e2 = [y[1] * e1[2] - y[2] * e1[1], y[2] * e1[0] - y[0] * e1[2], y[0] * e1[1] - y[1] * e1[0]];
-    (e1, e2)
-}
-
-fn model_pass_over(y: [f64; 3], start: usize, images: &[[f64; 3]], weights: Weights<'_>) -> ModelPass {
-    let (e1, e2) = tangent_basis(y);
-    let mut pass = ModelPass::default();
-    for (offset, p) in images.iter().enumerate() {
-        let w = weights.get(start + offset);
-        if w <= 0.0 {
-            continue;
-        }
-        let cos = y[0] * p[0] + y[1] * p[1] + y[2] * p[2];
-        let cross = [y[1] * p[2] - y[2] * p[1], y[2] * p[0] - y[0] * p[2], y[0] * p[1] - y[1] * p[0]];
-        let sin = (cross[0] * cross[0] + cross[1] * cross[1] + cross[2] * cross[2]).sqrt();
-        if sin == 0.0 {
-            pass.at_point |= cos > 0.0;
-            continue;
-        }
-        let theta = sin.atan2(cos);
-        // Unit tangent at y towards p: (p − cos·y)/sin, whose components are p·eₖ/sin.
-        let u =
-            [(p[0] * e1[0] + p[1] * e1[1] + p[2] * e1[2]) / sin, (p[0] * e2[0] + p[1] * e2[1] + p[2] * e2[2]) / sin];
-        pass.cost += w * theta;
-        pass.grad = [pass.grad[0] - w * u[0], pass.grad[1] - w * u[1]];
-        pass.inv += w / theta;
-        let curvature = w * cos / sin;
-        pass.hess[0] += curvature * (1.0 - u[0] * u[0]);
-        pass.hess[1] -= curvature * u[0] * u[1];
-        pass.hess[2] += curvature * (1.0 - u[1] * u[1]);
-        pass.max_angle = pass.max_angle.max(theta);
-    }
-    pass
-}
-
-fn model_evaluate(y: [f64; 3], images: &[[f64; 3]], weights: Weights<'_>) -> ModelPass {
-    if images.len() < PARALLEL_MIN_POINTS {
-        return model_pass_over(y, 0, images, weights);
-    }
-    let partials: Vec<ModelPass> =
-        images.par_chunks(CHUNK).enumerate().map(|(c, chunk)| model_pass_over(y, c * CHUNK, chunk, weights)).collect();
-    let mut total = ModelPass::default();
-    for partial in &partials {
-        total.merge(partial);
-    }
-    total
-}
-
-/// The exponential map of the unit sphere at `y` for the tangent vector `v` in the basis of
-/// [`tangent_basis`].
-fn sphere_exp(y: [f64; 3], v: Point) -> [f64; 3] {
-    let angle = v[0].hypot(v[1]);
-    if angle == 0.0 {
-        return y;
-    }
-    let (e1, e2) = tangent_basis(y);
-    let (sin, cos) = angle.sin_cos();
-    let mut z = [0.0; 3];
-    for k in 0..3 {
-        z[k] = cos * y[k] + sin * (v[0] * e1[k] + v[1] * e2[k]) / angle;
-    }
-    let norm = (z[0] * z[0] + z[1] * z[1] + z[2] * z[2]).sqrt();
-    [z[0] / norm, z[1] / norm, z[2] / norm]
-}
-
-/// The Fermat–Weber point of the points' images on Gauss's conformal sphere fitted at
-/// `centre`, mapped back to the ellipsoid: Newton's method on the sphere (Hessian of the
-/// great-circle angle, `cot θ (I − uuᵀ)`), Weiszfeld's step when Newton's does not lower the
-/// model's cost, stopping at a data point or when steps vanish. Only a starting point for
-/// the exact iteration, so it returns `centre` itself if it gets nowhere.
-fn model_optimum(points: &[Point], weights: Weights<'_>, centre: Point) -> Point {
-    let sphere = ConformalSphere::at(centre);
-    let images: Vec<[f64; 3]> = if points.len() < PARALLEL_MIN_POINTS {
-        points.iter().map(|&p| sphere.image(p)).collect()
-    } else {
-        points.par_iter().map(|&p| sphere.image(p)).collect()
-    };
-    let mut y = sphere.image(centre);
-    let mut current = model_evaluate(y, &images, weights);
-    let mut passes = 1;
-    while passes < MODEL_PASSES && !current.at_point {
-        let weiszfeld = [-current.grad[0] / current.inv, -current.grad[1] / current.inv];
-        let candidates = newton_2x2(current.hess, current.grad, current.max_angle)
-            .into_iter()
-            .chain([weiszfeld, [weiszfeld[0] / 4.0, weiszfeld[1] / 4.0]]);
-        let mut moved = None;
-        for step in candidates {
-            let z = sphere_exp(y, step);
-            let trial = model_evaluate(z, &images, weights);
-            passes += 1;
-            if trial.cost < current.cost {
-                moved = Some((z, trial, step[0].hypot(step[1])));
-                break;
-            }
-        }
-        let Some((z, trial, length)) = moved else { break };
-        y = z;
-        current = trial;
-        if length < MODEL_STEP_RADIANS {
-            break;
-        }
-    }
-    let found = sphere.preimage(y);
-    if found[0].is_finite() && found[1].is_finite() {
-        found
-    } else {
-        centre
     }
 }
 

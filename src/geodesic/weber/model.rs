@@ -1,0 +1,170 @@
+//! The cheap model that chooses where the exact iteration starts: Gauss's conformal sphere
+//! fitted at the points' mean direction (see [`ConformalSphere`]), on which geodesic
+//! distances near the centre are great-circle angles up to a few parts in a million.
+
+use rayon::prelude::*;
+
+use super::{newton_2x2, CHUNK, PARALLEL_MIN_POINTS};
+use crate::geodesic::earth::ConformalSphere;
+use crate::geometry::{Point, Weights};
+
+/// Most passes of the pre-solve on the conformal sphere (Newton's method converges in a
+/// handful; the cap bounds the cost when the model's optimum sits at a data point).
+const MODEL_PASSES: usize = 40;
+/// The pre-solve stops when a step is shorter than this angle (radians; about 0.6 mm on the
+/// Earth), far below the model's own error.
+const MODEL_STEP_RADIANS: f64 = 1e-10;
+
+/// One pass of the model: the objective `Σ wᵢ θᵢ` (angles on the unit sphere), its gradient
+/// and Hessian in the tangent basis `(e₁, e₂)` at `y`.
+#[derive(Debug, Clone, Copy, Default)]
+pub(super) struct ModelPass {
+    pub cost: f64,
+    pub grad: Point,
+    pub inv: f64,
+    pub hess: [f64; 3],
+    pub max_angle: f64,
+    pub at_point: bool,
+}
+
+impl ModelPass {
+    fn merge(&mut self, other: &ModelPass) {
+        self.cost += other.cost;
+        self.grad = [self.grad[0] + other.grad[0], self.grad[1] + other.grad[1]];
+        self.inv += other.inv;
+        for k in 0..3 {
+            self.hess[k] += other.hess[k];
+        }
+        self.max_angle = self.max_angle.max(other.max_angle);
+        self.at_point |= other.at_point;
+    }
+}
+
+/// A tangent basis at the unit vector `y`.
+pub(super) fn tangent_basis(y: [f64; 3]) -> ([f64; 3], [f64; 3]) {
+    let across = y[0].hypot(y[1]);
+    let e1 = if across > 1e-9 { [-y[1] / across, y[0] / across, 0.0] } else { [1.0, 0.0, 0.0] };
+    let e2 = [y[1] * e1[2] - y[2] * e1[1], y[2] * e1[0] - y[0] * e1[2], y[0] * e1[1] - y[1] * e1[0]];
+    (e1, e2)
+}
+
+fn model_pass_over(y: [f64; 3], start: usize, images: &[[f64; 3]], weights: Weights<'_>) -> ModelPass {
+    let (e1, e2) = tangent_basis(y);
+    let mut pass = ModelPass::default();
+    for (offset, p) in images.iter().enumerate() {
+        let w = weights.get(start + offset);
+        if w <= 0.0 {
+            continue;
+        }
+        let cos = y[0] * p[0] + y[1] * p[1] + y[2] * p[2];
+        let cross = [y[1] * p[2] - y[2] * p[1], y[2] * p[0] - y[0] * p[2], y[0] * p[1] - y[1] * p[0]];
+        let sin = (cross[0] * cross[0] + cross[1] * cross[1] + cross[2] * cross[2]).sqrt();
+        if sin == 0.0 {
+            pass.at_point |= cos > 0.0;
+            continue;
+        }
+        let theta = sin.atan2(cos);
+        // Unit tangent at y towards p: (p − cos·y)/sin, whose components are p·eₖ/sin.
+        let u =
+            [(p[0] * e1[0] + p[1] * e1[1] + p[2] * e1[2]) / sin, (p[0] * e2[0] + p[1] * e2[1] + p[2] * e2[2]) / sin];
+        pass.cost += w * theta;
+        pass.grad = [pass.grad[0] - w * u[0], pass.grad[1] - w * u[1]];
+        pass.inv += w / theta;
+        let curvature = w * cos / sin;
+        pass.hess[0] += curvature * (1.0 - u[0] * u[0]);
+        pass.hess[1] -= curvature * u[0] * u[1];
+        pass.hess[2] += curvature * (1.0 - u[1] * u[1]);
+        pass.max_angle = pass.max_angle.max(theta);
+    }
+    pass
+}
+
+fn model_evaluate(y: [f64; 3], images: &[[f64; 3]], weights: Weights<'_>) -> ModelPass {
+    if images.len() < PARALLEL_MIN_POINTS {
+        return model_pass_over(y, 0, images, weights);
+    }
+    let partials: Vec<ModelPass> =
+        images.par_chunks(CHUNK).enumerate().map(|(c, chunk)| model_pass_over(y, c * CHUNK, chunk, weights)).collect();
+    let mut total = ModelPass::default();
+    for partial in &partials {
+        total.merge(partial);
+    }
+    total
+}
+
+/// The exponential map of the unit sphere at `y` for the tangent vector `v` in the basis of
+/// [`tangent_basis`].
+fn sphere_exp(y: [f64; 3], v: Point) -> [f64; 3] {
+    let angle = v[0].hypot(v[1]);
+    if angle == 0.0 {
+        return y;
+    }
+    let (e1, e2) = tangent_basis(y);
+    let (sin, cos) = angle.sin_cos();
+    let mut z = [0.0; 3];
+    for k in 0..3 {
+        z[k] = cos * y[k] + sin * (v[0] * e1[k] + v[1] * e2[k]) / angle;
+    }
+    let norm = (z[0] * z[0] + z[1] * z[1] + z[2] * z[2]).sqrt();
+    [z[0] / norm, z[1] / norm, z[2] / norm]
+}
+
+/// Where the pre-solve ended: the optimum on the model and what a step from it needs.
+pub(super) struct ModelOptimum {
+    /// The model's optimum mapped back to the ellipsoid (`[longitude, latitude]`), or the
+    /// mean direction itself when the model got nowhere.
+    pub location: Point,
+    /// Its image on the conformal sphere (unit vector).
+    pub image: [f64; 3],
+    /// The points' images on the conformal sphere.
+    pub images: Vec<[f64; 3]>,
+    /// The model's pass at `image`.
+    pub pass: ModelPass,
+}
+
+/// The Fermat–Weber point of the points' images on Gauss's conformal sphere fitted at
+/// `centre`, mapped back to the ellipsoid: Newton's method on the sphere (Hessian of the
+/// great-circle angle, `cot θ (I − uuᵀ)`), Weiszfeld's step when Newton's does not lower the
+/// model's cost, stopping at a data point or when steps vanish. Only a starting point for
+/// the exact iteration, so it returns `centre` itself if it gets nowhere.
+pub(super) fn model_optimum(points: &[Point], weights: Weights<'_>, centre: Point) -> ModelOptimum {
+    let sphere = ConformalSphere::at(centre);
+    let images: Vec<[f64; 3]> = if points.len() < PARALLEL_MIN_POINTS {
+        points.iter().map(|&p| sphere.image(p)).collect()
+    } else {
+        points.par_iter().map(|&p| sphere.image(p)).collect()
+    };
+    let mut y = sphere.image(centre);
+    let mut current = model_evaluate(y, &images, weights);
+    let mut passes = 1;
+    while passes < MODEL_PASSES && !current.at_point {
+        let weiszfeld = [-current.grad[0] / current.inv, -current.grad[1] / current.inv];
+        let candidates = newton_2x2(current.hess, current.grad, current.max_angle)
+            .into_iter()
+            .chain([weiszfeld, [weiszfeld[0] / 4.0, weiszfeld[1] / 4.0]]);
+        let mut moved = None;
+        for step in candidates {
+            let z = sphere_exp(y, step);
+            let trial = model_evaluate(z, &images, weights);
+            passes += 1;
+            if trial.cost < current.cost {
+                moved = Some((z, trial, step[0].hypot(step[1])));
+                break;
+            }
+        }
+        let Some((z, trial, length)) = moved else { break };
+        y = z;
+        current = trial;
+        if length < MODEL_STEP_RADIANS {
+            break;
+        }
+    }
+    let found = sphere.preimage(y);
+    if found[0].is_finite() && found[1].is_finite() {
+        ModelOptimum { location: found, image: y, images, pass: current }
+    } else {
+        let image = sphere.image(centre);
+        let pass = model_evaluate(image, &images, weights);
+        ModelOptimum { location: centre, image, images, pass }
+    }
+}
