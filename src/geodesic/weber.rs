@@ -45,6 +45,7 @@
 use rayon::prelude::*;
 
 use super::earth::{angle_between, from_normal, unit_normal, ConformalSphere, Earth};
+use crate::cancel::{Clock, Steps};
 use crate::error::{Error, Result};
 use crate::geometry::{CompensatedSum, Point, Weights};
 use crate::median::WeberPoint;
@@ -320,7 +321,30 @@ fn data_point_looks_optimal(problem: &Problem<'_>, pass: &Pass) -> bool {
 }
 
 /// Solve. Inputs validated (longitude/latitude, weights); at least one weight positive.
-pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: usize) -> Result<WeberPoint> {
+/// Stops at the point reached when `clock` says so (polled before every pass over the
+/// points); every pass is a step of the clock's watch, planned as `max_iter` and closed at
+/// the end.
+pub(crate) fn solve(
+    points: &[Point],
+    weights: Weights<'_>,
+    tol: f64,
+    max_iter: usize,
+    clock: &Clock,
+) -> Result<WeberPoint> {
+    let mut steps = Steps::new(&clock.watch, max_iter as u64);
+    let result = descend(points, weights, tol, max_iter, clock, &mut steps);
+    steps.finish();
+    result
+}
+
+fn descend(
+    points: &[Point],
+    weights: Weights<'_>,
+    tol: f64,
+    max_iter: usize,
+    clock: &Clock,
+    steps: &mut Steps<'_>,
+) -> Result<WeberPoint> {
     let spread = spread(points, weights);
     within_hemisphere(&spread, "Fermat–Weber objective")?;
     let mut total = CompensatedSum::default();
@@ -363,9 +387,10 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
         return Ok(r);
     }
 
-    let mut x = model_optimum(points, weights, spread.centre);
+    let mut x = model_optimum(points, weights, spread.centre, clock);
     let mut current = problem.evaluate(x);
     let mut evaluations = 1;
+    steps.step();
     let mut last_tested: Option<(usize, f64)> = None;
     loop {
         let done = if problem.certified {
@@ -373,7 +398,9 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
         } else {
             problem.stationary(&current, tol)
         };
-        if done || current.cost() == 0.0 || evaluations >= max_iter {
+        // A stop ends the descent at the point reached; it is asked before every pass over
+        // the points (the only long work), so it takes effect within one pass.
+        if done || current.cost() == 0.0 || evaluations >= max_iter || clock.stop() {
             return Ok(finish(x, &current, evaluations));
         }
         if current.eta == 0.0 && data_point_looks_optimal(&problem, &current) {
@@ -385,8 +412,12 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
             if retry {
                 last_tested = Some((k, current.nearest_dist));
                 let at = points[k];
+                if clock.stop() {
+                    return Ok(finish(x, &current, evaluations));
+                }
                 let trial = problem.evaluate(at);
                 evaluations += 1;
+                steps.step();
                 if progresses(&trial, &current) {
                     x = at;
                     current = trial;
@@ -400,8 +431,12 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
         if current.eta == 0.0 {
             if let Some(step) = newton_step(&current) {
                 let xn = problem.earth.exp(x, step);
+                if clock.stop() {
+                    return Ok(finish(x, &current, evaluations));
+                }
                 let trial = problem.evaluate(xn);
                 evaluations += 1;
+                steps.step();
                 if progresses(&trial, &current) {
                     x = xn;
                     current = trial;
@@ -418,8 +453,12 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
         let mut moved = false;
         for _ in 0..4 {
             let xw = problem.earth.exp(x, step);
+            if clock.stop() {
+                return Ok(finish(x, &current, evaluations));
+            }
             let trial = problem.evaluate(xw);
             evaluations += 1;
+            steps.step();
             if progresses(&trial, &current) {
                 x = xw;
                 current = trial;
@@ -536,7 +575,8 @@ fn sphere_exp(y: [f64; 3], v: Point) -> [f64; 3] {
 /// great-circle angle, `cot θ (I − uuᵀ)`), Weiszfeld's step when Newton's does not lower the
 /// model's cost, stopping at a data point or when steps vanish. Only a starting point for
 /// the exact iteration, so it returns `centre` itself if it gets nowhere.
-fn model_optimum(points: &[Point], weights: Weights<'_>, centre: Point) -> Point {
+/// Stops at the point reached when `clock` says so (asked before every model pass).
+fn model_optimum(points: &[Point], weights: Weights<'_>, centre: Point, clock: &Clock) -> Point {
     let sphere = ConformalSphere::at(centre);
     let images: Vec<[f64; 3]> = if points.len() < PARALLEL_MIN_POINTS {
         points.iter().map(|&p| sphere.image(p)).collect()
@@ -546,13 +586,16 @@ fn model_optimum(points: &[Point], weights: Weights<'_>, centre: Point) -> Point
     let mut y = sphere.image(centre);
     let mut current = model_evaluate(y, &images, weights);
     let mut passes = 1;
-    while passes < MODEL_PASSES && !current.at_point {
+    while passes < MODEL_PASSES && !current.at_point && !clock.stop() {
         let weiszfeld = [-current.grad[0] / current.inv, -current.grad[1] / current.inv];
         let candidates = newton_2x2(current.hess, current.grad, current.max_angle)
             .into_iter()
             .chain([weiszfeld, [weiszfeld[0] / 4.0, weiszfeld[1] / 4.0]]);
         let mut moved = None;
         for step in candidates {
+            if clock.stop() {
+                break;
+            }
             let z = sphere_exp(y, step);
             let trial = model_evaluate(z, &images, weights);
             passes += 1;
@@ -590,7 +633,7 @@ mod tests {
         let mut normal = || (0..12).map(|_| rng.next_f64()).sum::<f64>() - 6.0;
         let points: Vec<Point> = (0..20_000).map(|_| [10.0 + 3.5 * normal(), 51.0 + 2.0 * normal()]).collect();
         let weights: Vec<f64> = (0..points.len()).map(|i| 1.0 + (i % 7) as f64).collect();
-        let r = solve(&points, Weights::Given(&weights), 1e-10, 100).unwrap();
+        let r = solve(&points, Weights::Given(&weights), 1e-10, 100, &Clock::unlimited()).unwrap();
         assert!(r.converged && r.iterations <= 3, "{r:?}");
         // Brute force with GeographicLib's distance: no point 1 m away does better.
         let earth = Earth::wgs84();
