@@ -1,5 +1,5 @@
-"""Long capacity and geodesic runs a person can watch and stop: progress, time limits and
-Ctrl-C for capacity_allocation, capacity_cells and the geodesic Fermat–Weber point."""
+"""Long capacity runs a person can watch and stop: progress, time limits and Ctrl-C for
+capacity_allocation and capacity_cells."""
 
 from __future__ import annotations
 
@@ -9,7 +9,6 @@ from scipy.optimize import linprog
 from scipy.spatial.distance import cdist
 
 import placewise as pw
-from interrupting import interrupt
 
 RNG = np.random.default_rng(23)
 POINTS = RNG.uniform(0, 1000, (1500, 2))
@@ -72,28 +71,3 @@ def test_a_raising_progress_callable_stops_the_run(name: str) -> None:
 
     with pytest.raises(Enough):
         MODELS[name](progress=stop)
-
-
-_INTERRUPTED_CHILD = r"""
-import sys, time
-import numpy as np
-import placewise as pw
-
-rng = np.random.default_rng(6)
-n = 1_000_000
-pts = np.column_stack([rng.uniform(-20, 20, n), rng.uniform(30, 60, n)])
-print("started", flush=True)
-try:
-    pw.geodesic.weber_point(pts)
-    print("finished", time.time(), flush=True)
-except KeyboardInterrupt:
-    print("interrupted", time.time(), flush=True)
-"""
-
-
-def test_ctrl_c_stops_the_geodesic_weber_point_promptly() -> None:
-    # SIGINT 1 s into a geodesic Fermat–Weber point of 10^6 lon/lat points (about 2 s):
-    # KeyboardInterrupt must reach Python before it ends. The aim is 0.5 s; the bound
-    # asserted leaves room for a loaded machine.
-    word, latency = interrupt(_INTERRUPTED_CHILD, 1.0)
-    assert word == "interrupted" and latency < 2.0
