@@ -29,3 +29,13 @@ def interrupt(code: str, after: float) -> tuple[str, float]:
     word, stamp = out.split()
     assert word in ("interrupted", "finished"), (out, err)
     return word, float(stamp) - sent
+
+
+class Enough(Exception):
+    """What :func:`stop_at_first_report` raises."""
+
+
+def stop_at_first_report(done: int, total: int) -> None:
+    """A progress callable that ends the run it watches (the watch is cancelled and this
+    exception reaches the caller)."""
+    raise Enough

@@ -9,6 +9,7 @@ from scipy.optimize import linprog
 from scipy.spatial.distance import cdist
 
 import placewise as pw
+from interrupting import Enough, stop_at_first_report
 
 RNG = np.random.default_rng(23)
 POINTS = RNG.uniform(0, 1000, (1500, 2))
@@ -63,11 +64,5 @@ def test_a_limit_too_short_for_any_plan_is_a_clear_error(name: str) -> None:
 
 @pytest.mark.parametrize("name", MODELS)
 def test_a_raising_progress_callable_stops_the_run(name: str) -> None:
-    class Enough(Exception):
-        pass
-
-    def stop(done: int, total: int) -> None:
-        raise Enough
-
     with pytest.raises(Enough):
-        MODELS[name](progress=stop)
+        MODELS[name](progress=stop_at_first_report)

@@ -8,7 +8,7 @@ import pytest
 from scipy.spatial.distance import cdist
 
 import placewise as pw
-from interrupting import interrupt
+from interrupting import Enough, interrupt, stop_at_first_report
 
 RNG = np.random.default_rng(17)
 POINTS = RNG.uniform(0, 100, (3000, 2))
@@ -83,14 +83,8 @@ def test_time_limit_is_checked_for_every_model() -> None:
 
 @pytest.mark.parametrize("name", MODELS)
 def test_a_raising_progress_callable_stops_the_model(name: str) -> None:
-    class Enough(Exception):
-        pass
-
-    def stop(done: int, total: int) -> None:
-        raise Enough
-
     with pytest.raises(Enough):
-        MODELS[name](progress=stop)
+        MODELS[name](progress=stop_at_first_report)
 
 
 _INTERRUPTED_CHILD = r"""
