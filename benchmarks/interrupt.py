@@ -47,17 +47,39 @@ CASES: dict[str, tuple[str, str, bool, str, str]] = {
                          "np.degrees(np.arcsin(rng.uniform(-1, 1, 1_000_000)))])\n"
                          "sites = pts[:1000].copy()",
                          "pw.geodesic.nearest_site(pts, sites)"),
-    "discrete_median": ("discrete p_median", "10,000 points x 1,000 candidates, p = 50", False,
+    "discrete_median": ("discrete p_median", "10,000 points x 1,000 candidates, p = 50", True,
                         "rng = np.random.default_rng(7)\n"
                         "pts = rng.random((10_000, 2)) * 100\n"
                         "cands = rng.random((1_000, 2)) * 100",
                         "pw.p_median(pts, 50, candidates=cands)"),
-    "capacity_cells": ("capacity_cells", "300,000 points x 300 sites", False,
+    "cover_most": ("cover_most", "100,000 weighted points x 2,000 candidates, p = 20, r = 10", True,
+                   "rng = np.random.default_rng(3)\n"
+                   "pts, cands = rng.uniform(0, 100, (100_000, 2)), rng.uniform(0, 100, (2000, 2))\n"
+                   "w = rng.integers(1, 10, 100_000).astype(float)",
+                   "pw.cover_most(pts, 20, 10.0, w, candidates=cands)"),
+    "discrete_center": ("discrete p_center", "20,000 points x 2,000 candidates, p = 50", True,
+                        "rng = np.random.default_rng(9)\n"
+                        "pts, cands = rng.random((20_000, 2)) * 100, rng.random((2_000, 2)) * 100",
+                        "pw.p_center(pts, 50, candidates=cands)"),
+    "cover_all": ("cover_all (sites anywhere)", "20,000 points, r = 1", True,
+                  "pts = np.random.default_rng(3).uniform(0, 100, (20_000, 2))",
+                  "pw.cover_all(pts, 1.0)"),
+    "capacity_cells": ("capacity_cells", "300,000 points x 300 sites", True,
                        "rng = np.random.default_rng(8)\n"
                        "pts = rng.uniform(0, 20_000, (300_000, 2))\n"
                        "sites = rng.uniform(0, 20_000, (300, 2))\n"
                        "caps = np.full(300, 1_000.0)",
                        "pw.capacity_cells(pts, sites, caps)"),
+    "capacity_allocation": ("capacity_allocation", "1,000,000 points x 200 sites", True,
+                            "rng = np.random.default_rng(10)\n"
+                            "pts = rng.uniform(0, 20_000, (1_000_000, 2))\n"
+                            "sites = rng.uniform(0, 20_000, (200, 2))\n"
+                            "caps = np.full(200, 5_000.0)",
+                            "pw.capacity_allocation(pts, sites, caps)"),
+    "geodesic_weber": ("geodesic weber_point", "1,000,000 lon/lat points", True,
+                       "rng = np.random.default_rng(11)\n"
+                       "pts = np.column_stack([rng.uniform(-20, 20, 1_000_000), rng.uniform(30, 60, 1_000_000)])",
+                       "pw.geodesic.weber_point(pts)"),
 }
 
 CHILD = """

@@ -122,6 +122,62 @@ impl Watch {
     }
 }
 
+/// The stopping rule a caller gives a kernel that takes no other options: a deadline
+/// `time_limit` seconds from the call's start (`None`: none) and the [`Watch`] to poll.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct RunLimits {
+    /// Wall-clock budget in seconds (`None`: none). When it passes, the kernel returns the
+    /// best answer it has, flagged as not proven.
+    pub time_limit: Option<f64>,
+    /// Cancel flag and progress count shared with the caller.
+    pub watch: Watch,
+}
+
+impl RunLimits {
+    /// This call's clock; the deadline starts now.
+    pub(crate) fn clock(&self) -> Clock {
+        self.watch.clock(self.time_limit)
+    }
+}
+
+/// Steps one kernel call planned and did on its [`Watch`], so that the call can plan more
+/// as it learns its work and close its count at the total whatever path it took.
+#[derive(Debug)]
+pub(crate) struct Steps<'a> {
+    watch: &'a Watch,
+    planned: u64,
+    done: u64,
+}
+
+impl<'a> Steps<'a> {
+    /// Plan `planned` steps on `watch`.
+    pub(crate) fn new(watch: &'a Watch, planned: u64) -> Steps<'a> {
+        watch.plan(planned);
+        Steps { watch, planned, done: 0 }
+    }
+
+    /// Plan `more` steps.
+    pub(crate) fn plan(&mut self, more: u64) {
+        self.watch.plan(more);
+        self.planned += more;
+    }
+
+    /// Count one step done, never beyond the planned ones (done ≤ total stays true).
+    pub(crate) fn step(&mut self) {
+        if self.done < self.planned {
+            self.done += 1;
+            self.watch.advance(1);
+        }
+    }
+
+    /// Count every planned step done: the call has ended (a bound that converged early, a
+    /// search that found nothing more to do, or a stop).
+    pub(crate) fn finish(&mut self) {
+        self.watch.advance(self.planned - self.done);
+        self.done = self.planned;
+    }
+}
+
 /// One kernel call's stopping rule: its [`Watch`] and its deadline.
 #[derive(Debug, Clone)]
 pub(crate) struct Clock {
@@ -131,7 +187,6 @@ pub(crate) struct Clock {
 
 impl Clock {
     /// A clock that never stops (no deadline, a watch nobody else holds).
-    #[cfg(test)]
     pub(crate) fn unlimited() -> Clock {
         Watch::new().clock(None)
     }
@@ -171,6 +226,23 @@ mod tests {
         quiet.cancel();
         assert!(clock.stop() && watch.is_cancelled());
         assert_eq!(watch.finish(7), Err(Cancelled));
+    }
+
+    #[test]
+    fn steps_never_pass_the_plan_and_finish_at_it() {
+        let watch = Watch::new();
+        let mut steps = Steps::new(&watch, 2);
+        steps.step();
+        steps.step();
+        steps.step();
+        assert_eq!(watch.progress(), (2, 2));
+        steps.plan(3);
+        steps.step();
+        assert_eq!(watch.progress(), (3, 5));
+        steps.finish();
+        assert_eq!(watch.progress(), (5, 5));
+        let limits = RunLimits { time_limit: Some(0.0), watch: watch.clone() };
+        assert!(limits.clock().stop() && !RunLimits::default().clock().stop());
     }
 
     #[test]

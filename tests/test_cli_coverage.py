@@ -191,3 +191,25 @@ def test_uncoverable_row_is_one_line_naming_the_line(files, capsys):
     d = cdist(XY, CXY)
     first = int(np.argmax(d.min(axis=1) > 1))
     assert_user_error(code, err, f"points[{first + 2}]", f"row {int(d[first].argmin()) + 2}", "line numbers")
+
+
+@pytest.mark.parametrize("command, label", [(["cover-most", "--radius", 2500], "cover_most"),
+                                            (["p-median"], "p_median"), (["p-center"], "p_center")])
+def test_the_progress_bar_shows_on_a_terminal_unless_turned_off(files, capsys, monkeypatch, tmp_path, command,
+                                                                label):
+    import sys
+
+    homes, parcels = files
+    argv = [command[0], homes, "--crs", "EPSG:32632", "--weight", "people", "-p", 3, *command[1:],
+            "--candidates", parcels, "-o", tmp_path / "sites.csv"]
+    # stderr captured to a buffer (not a terminal): no bar.
+    code, _, err = run(argv, capsys)
+    assert code == 0 and label not in err, err
+    # stderr as a terminal: the bar is drawn (labelled with the model) ...
+    monkeypatch.setattr(sys.stderr, "isatty", lambda: True)
+    code, _, err = run(argv, capsys)
+    assert code == 0 and label in err, err
+    # ... unless turned off, or the command is quiet.
+    for off in ("--no-progress", "--quiet"):
+        code, _, err = run([*argv, off], capsys)
+        assert code == 0 and label not in err, (off, err)

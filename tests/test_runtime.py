@@ -9,6 +9,7 @@ import numpy as np
 import pytest
 
 import placewise as pw
+from interrupting import interrupt
 
 
 def test_concurrent_calls_match_sequential() -> None:
@@ -124,26 +125,8 @@ def test_ctrl_c_stops_a_long_p_median_promptly() -> None:
     # SIGINT 1.5 s into a p-median that runs for tens of seconds (1e6 points, p = 50,
     # thorough): KeyboardInterrupt must reach Python while the kernel still works. The aim is
     # 0.5 s; the bound asserted leaves room for a loaded machine.
-    import signal
-    import subprocess
-    import sys
-    import time
-
-    child = subprocess.Popen(
-        [sys.executable, "-c", _INTERRUPTED_CHILD], stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True
-    )
-    try:
-        assert child.stdout is not None
-        assert child.stdout.readline().strip() == "started"
-        time.sleep(1.5)
-        sent = time.time()
-        child.send_signal(signal.SIGINT)
-        out, err = child.communicate(timeout=60)
-    finally:
-        child.kill()
-    word, stamp = out.split()
-    assert word == "interrupted", (out, err)
-    latency = float(stamp) - sent
+    word, latency = interrupt(_INTERRUPTED_CHILD, 1.5)
+    assert word == "interrupted"
     print(f"interrupt latency: {latency:.3f} s")
     assert latency < 2.0
 

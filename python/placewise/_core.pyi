@@ -188,15 +188,38 @@ def p_center_grouped(
 # weighted_worst, total_weight, and radius / covered (n,) / covering (n,) / covered_weight /
 # covered_share (None without a radius); plus each model's bound fields.
 def discrete_euclidean_costs(points: ArrayLike, candidates: ArrayLike) -> Any: ...
-def discrete_circle_candidates(points: ArrayLike, radius: Any) -> Any: ...
+def discrete_circle_candidates(points: ArrayLike, radius: Any, time_limit: Any = None) -> Any: ...
 def discrete_evaluate(costs: Any, weights: ArrayLike | None, sites: ArrayLike, radius: Any) -> _Fields: ...
+# The models take time_limit (None or seconds > 0) and progress (a bool or a callable
+# (done, total)), as the continuous ones do.
 def discrete_p_median_single(
-    costs: Any, p: Any, weights: ArrayLike | None, fixed: ArrayLike | None, bound_iterations: Any
+    costs: Any,
+    p: Any,
+    weights: ArrayLike | None,
+    fixed: ArrayLike | None,
+    bound_iterations: Any,
+    time_limit: Any = None,
+    progress: Any = None,
 ) -> _Fields: ...
-def discrete_p_center_single(costs: Any, p: Any, weights: ArrayLike | None, fixed: ArrayLike | None) -> _Fields: ...
-def discrete_cover_all(costs: Any, radius: Any, weights: ArrayLike | None, fixed: ArrayLike | None) -> _Fields: ...
+def discrete_p_center_single(
+    costs: Any, p: Any, weights: ArrayLike | None, fixed: ArrayLike | None, time_limit: Any = None, progress: Any = None
+) -> _Fields: ...
+def discrete_cover_all(
+    costs: Any,
+    radius: Any,
+    weights: ArrayLike | None,
+    fixed: ArrayLike | None,
+    time_limit: Any = None,
+    progress: Any = None,
+) -> _Fields: ...
 def discrete_cover_most(
-    costs: Any, p: Any, radius: Any, weights: ArrayLike | None, fixed: ArrayLike | None
+    costs: Any,
+    p: Any,
+    radius: Any,
+    weights: ArrayLike | None,
+    fixed: ArrayLike | None,
+    time_limit: Any = None,
+    progress: Any = None,
 ) -> _Fields: ...
 
 # --- geodesic (src/py/geodesic.rs) ---
@@ -230,7 +253,7 @@ def geodesic_nearest_grouped(
 
 def capacity_allocate(
     points: ArrayLike, sites: ArrayLike, capacities: ArrayLike, weights: ArrayLike | None, split: bool,
-    allow_unserved: bool,
+    allow_unserved: bool, time_limit: Any = None, progress: Any = None,
 ) -> _Fields: ...
 def capacity_p_median(
     points: ArrayLike, p: Any, capacities: ArrayLike, weights: ArrayLike | None, candidates: ArrayLike | None,
@@ -241,7 +264,7 @@ def capacity_p_median(
 # cell_site (-1: no cell), and the cells: vertices, offsets, parts, area, exterior.
 def capacity_power_cells(
     points: ArrayLike, sites: ArrayLike, capacities: ArrayLike, weights: ArrayLike | None, tol: Any,
-    region_vertices: ArrayLike | None, ring_offsets: ArrayLike | None,
+    region_vertices: ArrayLike | None, ring_offsets: ArrayLike | None, time_limit: Any = None, progress: Any = None,
 ) -> _Fields: ...
 
 # --- travel (src/py/travel.rs) ---

@@ -26,6 +26,7 @@ judgement.
 from __future__ import annotations
 
 import dataclasses
+from collections.abc import Callable
 from typing import Any
 
 import numpy as np
@@ -200,7 +201,8 @@ class CapacitatedMedianPlan(CapacityPlan):
 
 def capacity_allocation(
     points: ArrayLike, sites: ArrayLike, capacities: ArrayLike, weights: ArrayLike | None = None, *,
-    split: bool = True, allow_unserved: bool = False, unit: str = "u",
+    split: bool = True, allow_unserved: bool = False, unit: str = "u", time_limit: float | None = None,
+    progress: bool | Callable[[int, int], object] = False,
 ) -> CapacityPlan:
     """Serve the weighted demand from ``sites`` within their ``capacities`` at least total
     distance ``Σ amount × distance``.
@@ -228,6 +230,15 @@ def capacity_allocation(
         (``unserved``) instead of refusing.
     unit : str
         Name of the coordinates' length unit, used in column names.
+    time_limit : float, optional
+        Seconds (finite, above zero) the exact solve may take. No plan meeting the
+        capacities exists before it ends, so when they pass the call fails with an
+        ``InputError`` naming ``time_limit`` (the limit was too short). Default: no limit.
+    progress : bool or callable
+        True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
+        callable is called as ``progress(done, total)`` from the calling thread while the
+        solve runs. Ctrl-C stops the solve within a fraction of a second and raises
+        ``KeyboardInterrupt``.
 
     Returns
     -------
@@ -239,7 +250,8 @@ def capacity_allocation(
         For bad points, sites or weights; a negative, NaN or infinite capacity (naming its
         row); capacities of the wrong length; one location with two capacities; total
         capacity below total demand (the message gives the shortfall) unless
-        ``allow_unserved``; with ``split=False``, a point no site has room for whole.
+        ``allow_unserved``; with ``split=False``, a point no site has room for whole; a
+        ``time_limit`` that is not a number above zero, or that passed before the plan.
 
     Examples
     --------
@@ -257,7 +269,7 @@ def capacity_allocation(
     >>> pw.capacity_allocation(homes, [[0, 0]], [2], allow_unserved=True).total_unserved
     2.0
     """
-    fields = _core.capacity_allocate(points, sites, capacities, weights, split, allow_unserved)
+    fields = _core.capacity_allocate(points, sites, capacities, weights, split, allow_unserved, time_limit, progress)
     return CapacityPlan(**fields, points=as_points(points), sites=as_points(sites),
                         capacities=np.asarray(capacities, dtype=np.float64), unit=unit)
 
@@ -521,7 +533,8 @@ class CapacityCells(Result):
 
 def capacity_cells(
     points: ArrayLike, sites: ArrayLike, capacities: ArrayLike, weights: ArrayLike | None = None, *,
-    region: Any = None, tol: float = 1e-9, unit: str = "u",
+    region: Any = None, tol: float = 1e-9, unit: str = "u", time_limit: float | None = None,
+    progress: bool | Callable[[int, int], object] = False,
 ) -> CapacityCells:
     """Capacity-constrained catchments: the powers ``w`` for which each site's power cell
     (the points whose least power distance ``|x - s|² - w`` is to that site) holds exactly
@@ -573,6 +586,15 @@ def capacity_cells(
         Relative tolerance on the totals, in (0, 1).
     unit : str
         Name of the coordinates' length unit, used in column names.
+    time_limit : float, optional
+        Seconds (finite, above zero) the computation may take. No plan meeting the
+        capacities exists before the exact finish ends, so when they pass the call fails with an
+        ``InputError`` naming ``time_limit`` (the limit was too short). Default: no limit.
+    progress : bool or callable
+        True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
+        callable is called as ``progress(done, total)`` from the calling thread while it
+        runs (steps: Newton steps, then the exact finish). Ctrl-C stops it within a fraction of a second and raises
+        ``KeyboardInterrupt``.
 
     Returns
     -------
@@ -624,6 +646,7 @@ def capacity_cells(
     ([0, 0, 2], [True, False, True])
     """
     vertices, offsets = region_rings(region)
-    fields = _core.capacity_power_cells(points, sites, capacities, weights, tol, vertices, offsets)
+    fields = _core.capacity_power_cells(points, sites, capacities, weights, tol, vertices, offsets, time_limit,
+                                        progress)
     return CapacityCells(**fields, points=as_points(points), sites=as_points(sites),
                          capacities=np.asarray(capacities, dtype=np.float64), unit=unit)

@@ -20,6 +20,10 @@ professional judgement.
 
 from __future__ import annotations
 
+import math
+import time
+from collections.abc import Callable
+
 import numpy as np
 from numpy.typing import ArrayLike
 
@@ -28,20 +32,32 @@ from . import discrete
 __all__ = ["cover_all", "cover_most", "evaluate_sites"]
 
 
-def _candidates(points: ArrayLike, radius: float, candidates: ArrayLike | None) -> ArrayLike:
+def _candidates(points: ArrayLike, radius: float, candidates: ArrayLike | None,
+                time_limit: float | None = None) -> ArrayLike:
     """The given candidates, or for sites anywhere the finite dominating set of Church (1984):
     the points and the intersections of the circles of ``radius`` around them, one per
-    distinct set of covered points (computed by the kernel)."""
+    distinct set of covered points (computed by the kernel; with ``time_limit``, those found
+    by then, the points always among them)."""
     if candidates is not None:
         return candidates
     from . import _core
 
-    return _core.discrete_circle_candidates(points, radius)
+    return _core.discrete_circle_candidates(points, radius, time_limit)
+
+
+def _left(time_limit: float | None, since: float) -> float | None:
+    """What remains of ``time_limit`` seconds counted from ``since`` (``time.monotonic``):
+    at least a millisecond, so the model still returns its first feasible plan. A value
+    that is not a finite number above zero goes to the kernel as given, which refuses it
+    by name."""
+    if not isinstance(time_limit, (int, float)) or not 0 < time_limit < math.inf:
+        return time_limit
+    return max(time_limit - (time.monotonic() - since), 1e-3)
 
 
 def cover_all(
     points: ArrayLike, radius: float, *, weights: ArrayLike | None = None, candidates: ArrayLike | None = None,
-    unit: str = "u",
+    unit: str = "u", time_limit: float | None = None, progress: bool | Callable[[int, int], object] = False,
 ) -> discrete.CoverAllSelection:
     """The fewest sites among ``candidates`` such that every point is within ``radius``.
 
@@ -64,6 +80,16 @@ def cover_all(
         Refused when over 4 million such candidates arise.
     unit : str
         Name of the coordinates' unit, used in column names.
+    time_limit : float, optional
+        Seconds (finite, above zero) the call may take, finding the candidates included;
+        when they pass, the cover found so far (every point covered) is returned with the
+        bound proven so far, ``relative_gap`` above 0 unless it is proven optimal. Default:
+        no limit.
+    progress : bool or callable
+        True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
+        callable is called as ``progress(done, total)`` from the calling thread while the
+        model runs. Ctrl-C stops the call within a fraction of a second and raises
+        ``KeyboardInterrupt``.
 
     Returns
     -------
@@ -90,12 +116,16 @@ def cover_all(
     >>> anywhere.chosen, anywhere.lower_bound, anywhere.covering.tolist()
     (2, 2, [1, 1, 1])
     """
-    return discrete.cover_all_planar(points, _candidates(points, radius, candidates), radius, weights, unit=unit)
+    since = time.monotonic()
+    where = _candidates(points, radius, candidates, time_limit)
+    return discrete.cover_all_planar(points, where, radius, weights, unit=unit, time_limit=_left(time_limit, since),
+                                     progress=progress)
 
 
 def cover_most(
     points: ArrayLike, p: int, radius: float, weights: ArrayLike | None = None, *,
     candidates: ArrayLike | None = None, fixed: ArrayLike | None = None, unit: str = "u",
+    time_limit: float | None = None, progress: bool | Callable[[int, int], object] = False,
 ) -> discrete.CoverMostSelection:
     """``p`` sites among ``candidates`` covering the most weight within ``radius``.
 
@@ -111,6 +141,11 @@ def cover_most(
         Demand per point. Default: all 1.
     fixed : array_like of int, optional
         Indices of candidates that are open already (existing sites).
+    time_limit : float, optional
+        As :func:`cover_all`: when the seconds pass, the best ``p`` sites found so far are
+        returned with the upper bound proven so far.
+    progress : bool or callable
+        As :func:`cover_all`.
 
     Returns
     -------
@@ -131,8 +166,10 @@ def cover_most(
     >>> float(pw.cover_most(villages, 1, 1.5, [1, 1, 1, 1, 1]).covered_weight)   # anywhere: 3 villages
     3.0
     """
-    candidates = _candidates(points, radius, candidates)
-    return discrete.cover_most_planar(points, candidates, p, radius, weights, fixed=fixed, unit=unit)
+    since = time.monotonic()
+    candidates = _candidates(points, radius, candidates, time_limit)
+    return discrete.cover_most_planar(points, candidates, p, radius, weights, fixed=fixed, unit=unit,
+                                      time_limit=_left(time_limit, since), progress=progress)
 
 
 def evaluate_sites(

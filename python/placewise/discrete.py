@@ -23,11 +23,17 @@ Every result has the same tables, all computed by the kernel (nothing is recompu
 * ``summary()`` — the totals and the proven bound with its ``relative_gap``.
 
 Costs are in the matrix's own unit: pass ``unit="min"`` to name the columns ``cost_min``.
+
+Every model takes ``time_limit`` (seconds; when they pass, the best plan found so far comes
+back with the bound proven so far, so its ``relative_gap`` says how far from optimal it may
+be) and ``progress`` (True for a bar on stderr, or a callable ``progress(done, total)``);
+Ctrl-C stops a model within a fraction of a second with ``KeyboardInterrupt``.
 """
 
 from __future__ import annotations
 
 import dataclasses
+from collections.abc import Callable
 from typing import Any
 
 import numpy as np
@@ -340,9 +346,12 @@ def evaluate_sites(
     return SiteEvaluation(**fields, unit=unit)
 
 
+_Progress = bool | Callable[[int, int], object]
+
+
 def p_median(
     costs: ArrayLike, p: int, weights: ArrayLike | None = None, *, fixed: ArrayLike | None = None,
-    bound_iterations: int = 1000, unit: str = "u",
+    bound_iterations: int = 1000, unit: str = "u", time_limit: float | None = None, progress: _Progress = False,
 ) -> MedianSelection:
     """``p`` candidates with the least total weighted cost ``Σ wᵢ minⱼ costs[i, j]``.
 
@@ -365,6 +374,15 @@ def p_median(
         Most subgradient iterations for the lower bound (0: bound 0).
     unit : str
         Name of the cost unit.
+    time_limit : float, optional
+        Seconds (finite, above zero) the search may take. When they pass, the best plan
+        found so far is returned (``p`` sites, every point served) with the bound proven so
+        far: ``relative_gap`` above 0 says it is not proven optimal. Default: no limit.
+    progress : bool or callable
+        True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
+        callable is called as ``progress(done, total)`` from the calling thread while the
+        search runs (steps: greedy additions and bound iterations). Ctrl-C stops the search
+        within a fraction of a second and raises ``KeyboardInterrupt``.
 
     Returns
     -------
@@ -373,7 +391,8 @@ def p_median(
     Raises
     ------
     InputError
-        As :func:`evaluate_sites`, and for ``p`` out of range.
+        As :func:`evaluate_sites`, for ``p`` out of range, and for a ``time_limit`` that is
+        not a number above zero or a ``progress`` that is neither a bool nor callable.
 
     Examples
     --------
@@ -388,13 +407,19 @@ def p_median(
     1          5   2.0       2   True
     >>> float(pw.discrete.p_median([[3.0, 3.0]], 2).total_cost)   # every candidate: p = m
     3.0
+    >>> seen = []
+    >>> quick = pw.discrete.p_median(line, 2, time_limit=5.0, progress=lambda done, total: seen.append(done))
+    >>> quick.open, seen == sorted(seen)
+    (array([1, 4]), True)
     """
-    fields = _core.discrete_p_median_single(_matrix(costs), p, weights, fixed, bound_iterations)
+    fields = _core.discrete_p_median_single(_matrix(costs), p, weights, fixed, bound_iterations, time_limit,
+                                            progress)
     return MedianSelection(**fields, unit=unit)
 
 
 def p_center(
     costs: ArrayLike, p: int, weights: ArrayLike | None = None, *, fixed: ArrayLike | None = None, unit: str = "u",
+    time_limit: float | None = None, progress: _Progress = False,
 ) -> CenterSelection:
     """``p`` candidates with the least largest weighted cost ``maxᵢ wᵢ minⱼ costs[i, j]``.
 
@@ -408,6 +433,11 @@ def p_center(
     ----------
     costs, p, weights, fixed, unit
         As :func:`p_median`.
+    time_limit : float, optional
+        As :func:`p_median`: when the seconds pass, the best plan found so far is returned
+        with the bound of the trials settled by then.
+    progress : bool or callable
+        As :func:`p_median` (steps: trial values of the search).
 
     Returns
     -------
@@ -428,13 +458,13 @@ def p_center(
     >>> float(pw.discrete.p_center(line, 7).weighted_worst)   # a site on every point
     0.0
     """
-    fields = _core.discrete_p_center_single(_matrix(costs), p, weights, fixed)
+    fields = _core.discrete_p_center_single(_matrix(costs), p, weights, fixed, time_limit, progress)
     return CenterSelection(**fields, unit=unit)
 
 
 def cover_all(
     costs: ArrayLike, radius: float, weights: ArrayLike | None = None, *, fixed: ArrayLike | None = None,
-    unit: str = "u",
+    unit: str = "u", time_limit: float | None = None, progress: _Progress = False,
 ) -> CoverAllSelection:
     """The fewest candidates so every point has an open site at cost ``<= radius``.
 
@@ -452,6 +482,13 @@ def cover_all(
         Demand per point, for the reported loads and covered weight.
     fixed, unit
         As :func:`p_median`.
+    time_limit : float, optional
+        As :func:`p_median`: when the seconds pass, the greedy cover (always completed, so
+        every point is covered) or a smaller one found by then is returned with the bound
+        proven so far.
+    progress : bool or callable
+        As :func:`p_median` (steps: the coverage lists, the reduction, the greedy cover and
+        the bound iterations).
 
     Returns
     -------
@@ -473,13 +510,13 @@ def cover_all(
     >>> pw.discrete.cover_all(line, 1).chosen       # radius s / 2: a site per point
     7
     """
-    fields = _core.discrete_cover_all(_matrix(costs), radius, weights, fixed)
+    fields = _core.discrete_cover_all(_matrix(costs), radius, weights, fixed, time_limit, progress)
     return CoverAllSelection(**fields, unit=unit)
 
 
 def cover_most(
     costs: ArrayLike, p: int, radius: float, weights: ArrayLike | None = None, *, fixed: ArrayLike | None = None,
-    unit: str = "u",
+    unit: str = "u", time_limit: float | None = None, progress: _Progress = False,
 ) -> CoverMostSelection:
     """``p`` candidates covering the most weight within ``radius``.
 
@@ -493,6 +530,11 @@ def cover_most(
         As :func:`p_median`.
     radius : float
         Coverage standard (in the cost unit), finite and > 0.
+    time_limit : float, optional
+        As :func:`p_median`: when the seconds pass, the best ``p`` sites found so far are
+        returned with the upper bound proven so far.
+    progress : bool or callable
+        As :func:`p_median` (steps: greedy additions and bound iterations).
 
     Returns
     -------
@@ -513,7 +555,7 @@ def cover_most(
     >>> float(pw.discrete.cover_most(line, 1, 0.5).covered_share)   # only its own point
     0.16666666666666666
     """
-    fields = _core.discrete_cover_most(_matrix(costs), p, radius, weights, fixed)
+    fields = _core.discrete_cover_most(_matrix(costs), p, radius, weights, fixed, time_limit, progress)
     return CoverMostSelection(**fields, unit=unit)
 
 
@@ -553,9 +595,11 @@ def evaluate_sites_planar(
 
 def p_median_planar(
     points: ArrayLike, candidates: ArrayLike, p: int, weights: ArrayLike | None = None, *,
-    fixed: ArrayLike | None = None, bound_iterations: int = 1000, unit: str = "u",
+    fixed: ArrayLike | None = None, bound_iterations: int = 1000, unit: str = "u", time_limit: float | None = None,
+    progress: _Progress = False,
 ) -> MedianSelection:
-    """:func:`p_median` on straight-line costs from ``points`` to ``candidates``.
+    """:func:`p_median` on straight-line costs from ``points`` to ``candidates`` (the other
+    parameters, ``time_limit`` and ``progress`` included, as there).
 
     Examples
     --------
@@ -565,15 +609,16 @@ def p_median_planar(
     (array([0]), 10.0)
     """
     plan = p_median(_planar(points, candidates), p, weights, fixed=fixed, bound_iterations=bound_iterations,
-                    unit=unit)
+                    unit=unit, time_limit=time_limit, progress=progress)
     return _placed(plan, points, candidates)
 
 
 def p_center_planar(
     points: ArrayLike, candidates: ArrayLike, p: int, weights: ArrayLike | None = None, *,
-    fixed: ArrayLike | None = None, unit: str = "u",
+    fixed: ArrayLike | None = None, unit: str = "u", time_limit: float | None = None, progress: _Progress = False,
 ) -> CenterSelection:
-    """:func:`p_center` on straight-line costs from ``points`` to ``candidates``.
+    """:func:`p_center` on straight-line costs from ``points`` to ``candidates`` (the other
+    parameters, ``time_limit`` and ``progress`` included, as there).
 
     Examples
     --------
@@ -581,15 +626,17 @@ def p_center_planar(
     >>> float(pw.discrete.p_center_planar([[0, 0], [4, 0]], [[0, 0], [2, 0]], 1).worst_cost)
     2.0
     """
-    plan = p_center(_planar(points, candidates), p, weights, fixed=fixed, unit=unit)
+    plan = p_center(_planar(points, candidates), p, weights, fixed=fixed, unit=unit, time_limit=time_limit,
+                    progress=progress)
     return _placed(plan, points, candidates)
 
 
 def cover_all_planar(
     points: ArrayLike, candidates: ArrayLike, radius: float, weights: ArrayLike | None = None, *,
-    fixed: ArrayLike | None = None, unit: str = "u",
+    fixed: ArrayLike | None = None, unit: str = "u", time_limit: float | None = None, progress: _Progress = False,
 ) -> CoverAllSelection:
-    """:func:`cover_all` on straight-line costs from ``points`` to ``candidates``.
+    """:func:`cover_all` on straight-line costs from ``points`` to ``candidates`` (the other
+    parameters, ``time_limit`` and ``progress`` included, as there).
 
     Examples
     --------
@@ -597,15 +644,17 @@ def cover_all_planar(
     >>> pw.discrete.cover_all_planar([[0, 0], [1, 1], [2, 0]], [[1, 0], [5, 5]], 1.5).open
     array([0])
     """
-    plan = cover_all(_planar(points, candidates), radius, weights, fixed=fixed, unit=unit)
+    plan = cover_all(_planar(points, candidates), radius, weights, fixed=fixed, unit=unit, time_limit=time_limit,
+                     progress=progress)
     return _placed(plan, points, candidates)
 
 
 def cover_most_planar(
     points: ArrayLike, candidates: ArrayLike, p: int, radius: float, weights: ArrayLike | None = None, *,
-    fixed: ArrayLike | None = None, unit: str = "u",
+    fixed: ArrayLike | None = None, unit: str = "u", time_limit: float | None = None, progress: _Progress = False,
 ) -> CoverMostSelection:
-    """:func:`cover_most` on straight-line costs from ``points`` to ``candidates``.
+    """:func:`cover_most` on straight-line costs from ``points`` to ``candidates`` (the other
+    parameters, ``time_limit`` and ``progress`` included, as there).
 
     Examples
     --------
@@ -613,5 +662,6 @@ def cover_most_planar(
     >>> float(pw.discrete.cover_most_planar([[0, 0], [9, 9]], [[0, 1], [9, 8]], 1, 1.5).covered_share)
     0.5
     """
-    plan = cover_most(_planar(points, candidates), p, radius, weights, fixed=fixed, unit=unit)
+    plan = cover_most(_planar(points, candidates), p, radius, weights, fixed=fixed, unit=unit,
+                      time_limit=time_limit, progress=progress)
     return _placed(plan, points, candidates)

@@ -160,7 +160,9 @@ def weber_point(
         Stop when the certified gap is at most ``tol * cost``.
     max_iter : int
         Largest number of exact geodesic passes over the points (``iterations`` counts
-        them; the start is found on Gauss's conformal sphere, outside this count).
+        them; the start is found on Gauss's conformal sphere, outside this count). Without
+        ``groups``, Ctrl-C stops the descent between passes (a fraction of a second each at
+        a million points) and raises ``KeyboardInterrupt``.
     errors : {"raise", "skip"}
         With ``groups``: fail on the first group without an answer, or keep it with its
         ``problem``.

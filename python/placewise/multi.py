@@ -95,11 +95,10 @@ def _on_candidates(model: str, points: ArrayLike, p: int, weights: ArrayLike | N
     from . import discrete
     from ._region import candidates_in_region
 
-    for name, value in (("groups", groups), ("time_limit", time_limit), ("progress", progress or None)):
-        if value is not None:
-            error = _core.InputError(f"{name} is not supported with candidates (sites chosen from a list)")
-            error.argument = name
-            raise error
+    if groups is not None:
+        error = _core.InputError("groups is not supported with candidates (sites chosen from a list)")
+        error.argument = "groups"
+        raise error
     if region is not None:
         every = np.ascontiguousarray(candidates, dtype=np.float64).reshape(-1, 2)
         candidates, rows = candidates_in_region(every, region)
@@ -113,10 +112,11 @@ def _on_candidates(model: str, points: ArrayLike, p: int, weights: ArrayLike | N
                 error.argument = "fixed"
                 raise error
             fixed = at
+    watch = {"time_limit": time_limit, "progress": progress}
     if model == "p_median":
-        chosen: Any = discrete.p_median_planar(points, candidates, p, weights, fixed=fixed)
+        chosen: Any = discrete.p_median_planar(points, candidates, p, weights, fixed=fixed, **watch)
     else:
-        chosen = discrete.p_center_planar(points, candidates, p, weights)
+        chosen = discrete.p_center_planar(points, candidates, p, weights, **watch)
     if region is None:
         return chosen
     return dataclasses.replace(chosen, open=rows[chosen.open], candidates=every)
@@ -546,8 +546,9 @@ def p_median(
         :func:`placewise.discrete.p_median`, on straight-line distances computed when
         asked) and return a ``placewise.discrete.MedianSelection`` whose ``open`` holds the
         candidate index of each site; ``fixed`` then holds candidate indices. ``seed`` and
-        ``effort`` do not apply (the method is deterministic); ``groups``, ``time_limit``
-        and ``progress`` are refused with candidates.
+        ``effort`` do not apply (the method is deterministic); ``groups`` is refused with
+        candidates; ``time_limit`` and ``progress`` work as there (a plan cut short by the
+        limit has a ``relative_gap`` above 0).
     groups : array_like of int, shape (n,), optional
         Group labels: plan every group at once (in parallel, the same ``p`` for each) and
         return ``MedianPlans``.
@@ -889,7 +890,8 @@ def p_center(
         Candidate locations: choose the ``p`` sites among them (the discrete p-center, see
         :func:`placewise.discrete.p_center`) and return a
         ``placewise.discrete.CenterSelection`` whose ``open`` holds the candidate index of
-        each site; ``groups``, ``time_limit`` and ``progress`` are refused with candidates.
+        each site; ``groups`` is refused with candidates; ``time_limit`` and ``progress``
+        work as there.
     groups : array_like of int, shape (n,), optional
         Group labels: plan every group at once (in parallel, the same ``p`` for each) and
         return ``CenterPlans``.

@@ -14,24 +14,29 @@
 //!   the shortfall there, `C` does not change the optimum: the plan serves the most demand
 //!   possible at least cost, and what it leaves unserved is reported per point.
 
-use super::transport::{transport, Flows, Plan};
+use super::transport::{transport_watched, Flows, Plan};
 use super::{plain_distance, relative_gap, shortfall, validate};
+use crate::cancel::{Clock, RunLimits, Steps};
 use crate::error::{Error, Result};
 use crate::geometry::{distance, BoundingBox, CompensatedSum, Point, Weights};
 
 /// Options of [`capacity_allocation`].
-#[derive(Debug, Clone, Copy)]
+#[derive(Debug, Clone)]
 pub struct AllocationOptions {
     /// May a point's demand be split between sites (exact transportation plan)? When false,
     /// each point is served whole by one site (heuristic with a proven gap).
     pub split: bool,
     /// Leave demand unserved when total capacity is short instead of refusing.
     pub allow_unserved: bool,
+    /// Deadline and cancel flag. No plan meeting the capacities exists before the exact
+    /// solve ends, so a run stopped early fails (see [`super::stopped`]); progress counts
+    /// two steps, the solve and the rounding to single sources.
+    pub limits: RunLimits,
 }
 
 impl Default for AllocationOptions {
     fn default() -> Self {
-        AllocationOptions { split: true, allow_unserved: false }
+        AllocationOptions { split: true, allow_unserved: false, limits: RunLimits::default() }
     }
 }
 
@@ -85,6 +90,7 @@ pub(crate) fn split_plan(
     weights: Weights<'_>,
     short: f64,
     cost: impl Fn(Point, Point) -> f64 + Sync,
+    clock: &Clock,
 ) -> Result<Plan> {
     let demand: Vec<f64> = (0..points.len()).map(|i| weights.get(i)).collect();
     let mut capacity = capacities.to_vec();
@@ -97,7 +103,7 @@ pub(crate) fn split_plan(
     if short > 0.0 {
         capacity.push(short);
     }
-    transport(&demand, &capacity, &|i, j| if j < m { cost(points[i], sites[j]) } else { virtual_cost })
+    transport_watched(&demand, &capacity, &|i, j| if j < m { cost(points[i], sites[j]) } else { virtual_cost }, clock)
 }
 
 /// Serve weighted demand from `sites` with `capacities` at least total distance.
@@ -133,13 +139,17 @@ pub(crate) fn allocate_with_flows(
 ) -> Result<(CapacityAllocation, Flows)> {
     let (demand, capacity) = validate(points, sites, capacities, weights)?;
     let short = shortfall(demand, capacity, options.allow_unserved)?;
-    let plan = split_plan(points, sites, capacities, weights, short, plain_distance)?;
+    let clock = options.limits.clock();
+    let mut steps = Steps::new(&clock.watch, 2);
+    let plan = split_plan(points, sites, capacities, weights, short, plain_distance, &clock)?;
+    steps.step();
     let m = sites.len();
     let mut flows = plan.flows;
     let lower_bound = served_cost(points, sites, &flows, m);
     if !options.split {
         single_source(points, sites, capacities, weights, &mut flows, options.allow_unserved)?;
     }
+    steps.finish();
     let mut out = describe(points, sites, capacities, weights, &flows, demand);
     out.price = plan.price[..m].to_vec();
     out.lower_bound = lower_bound;
@@ -304,6 +314,31 @@ mod tests {
     }
 
     #[test]
+    fn a_stopped_solve_fails_naming_the_time_limit_and_counts_its_steps() {
+        // Tight capacities: most points cannot stay at their nearest site, so the solve
+        // needs augmenting paths, and it polls its clock before the first one.
+        let points = lcg_cloud(2000, 5, [0.0, 0.0], 10.0);
+        let sites = lcg_cloud(12, 6, [0.0, 0.0], 10.0);
+        let caps = [2000.0 / 12.0; 12];
+        let cancelled = crate::cancel::Watch::new();
+        cancelled.cancel();
+        for limits in [
+            RunLimits { time_limit: Some(0.0), ..Default::default() },
+            RunLimits { time_limit: None, watch: cancelled },
+        ] {
+            let options = AllocationOptions { limits: limits.clone(), ..Default::default() };
+            let e = capacity_allocation(&points, &sites, &caps, Weights::Unit, &options).unwrap_err();
+            assert!(matches!(e, Error::InvalidParameter { name: "time_limit", .. }), "{e}");
+        }
+        let watch = crate::cancel::Watch::new();
+        let options =
+            AllocationOptions { limits: RunLimits { time_limit: None, watch: watch.clone() }, ..Default::default() };
+        let a = capacity_allocation(&points, &sites, &caps, Weights::Unit, &options).unwrap();
+        assert!(a.augmentations > 0);
+        assert_eq!(watch.progress(), (2, 2));
+    }
+
+    #[test]
     fn loads_respect_capacities_and_prices_certify_optimality() {
         let points = lcg_cloud(2000, 5, [0.0, 0.0], 10.0);
         let sites = lcg_cloud(12, 6, [0.0, 0.0], 10.0);
@@ -326,7 +361,7 @@ mod tests {
             &sites,
             &caps,
             Weights::Unit,
-            &AllocationOptions { split: false, allow_unserved: false },
+            &AllocationOptions { split: false, allow_unserved: false, ..Default::default() },
         )
         .unwrap();
         assert!(single.total_cost >= a.total_cost - 1e-9);
@@ -347,7 +382,7 @@ mod tests {
             &sites,
             &[10.0, 15.0],
             Weights::Unit,
-            &AllocationOptions { split: true, allow_unserved: true },
+            &AllocationOptions { split: true, allow_unserved: true, ..Default::default() },
         )
         .unwrap();
         assert!((a.total_unserved - 25.0).abs() < 1e-9);

@@ -265,7 +265,15 @@ fn discrete(
         }
     }
     // Relaxation: every candidate open.
-    let relaxed = split_plan(points, candidates, capacities, weights, 0.0, super::plain_distance)?;
+    let relaxed = split_plan(
+        points,
+        candidates,
+        capacities,
+        weights,
+        0.0,
+        super::plain_distance,
+        &crate::cancel::Clock::unlimited(),
+    )?;
     let mut lower = CompensatedSum::default();
     for (i, f) in relaxed.flows.iter().enumerate() {
         for &(j, x) in f {

@@ -22,6 +22,17 @@ pub use median::{capacitated_p_median, CapacitatedMedian, CapacitatedMedianOptio
 use crate::error::{Error, Result};
 use crate::geometry::{validate_points, validate_weights, CompensatedSum, Point, Weights};
 
+/// The error of a run stopped (deadline passed, or cancelled) before it had a plan meeting
+/// the capacities: such a plan exists only once the transportation problem is solved, so
+/// there is no answer to return.
+pub(crate) fn stopped() -> Error {
+    Error::InvalidParameter {
+        name: "time_limit",
+        reason: "the time limit passed before any plan meeting the capacities was found (a plan exists only once                  the transportation problem is solved); allow more time, or none"
+            .into(),
+    }
+}
+
 /// Check points, sites, capacities and weights; returns the total demand and capacity.
 ///
 /// # Errors

@@ -35,7 +35,12 @@ use std::collections::BinaryHeap;
 
 use rayon::prelude::*;
 
+use crate::cancel::Clock;
 use crate::error::{Error, Result};
+
+/// Augmenting paths between two polls of the clock: each costs O(m²) (microseconds to a
+/// millisecond at a thousand sites).
+const POLL_PATHS: usize = 64;
 
 /// How many cheapest points each condensed arc keeps sorted before it refills.
 const ARC_LIST: usize = 64;
@@ -267,7 +272,22 @@ const SAMPLE_STRIDE: usize = 8;
 /// # Runtime
 /// O(n·m) for the start, then O(m²) per augmentation plus O(n_j) per arc refill; the
 /// number of augmentations is about the number of points moved off their start site.
+#[cfg(test)]
 pub(crate) fn transport(demand: &[f64], capacity: &[f64], cost: &(dyn Fn(usize, usize) -> f64 + Sync)) -> Result<Plan> {
+    transport_watched(demand, capacity, cost, &Clock::unlimited())
+}
+
+/// [`transport`] polling `clock` every [`POLL_PATHS`] augmenting paths.
+///
+/// # Errors
+/// As [`transport`], and [`super::stopped`] when the clock stops the run (no plan meeting
+/// the capacities exists before the last path).
+pub(crate) fn transport_watched(
+    demand: &[f64],
+    capacity: &[f64],
+    cost: &(dyn Fn(usize, usize) -> f64 + Sync),
+    clock: &Clock,
+) -> Result<Plan> {
     let n = demand.len();
     let m = capacity.len();
     let mut prices = vec![0.0; m];
@@ -281,11 +301,11 @@ pub(crate) fn transport(demand: &[f64], capacity: &[f64], cost: &(dyn Fn(usize, 
         if part > 0.0 {
             let sub_demand: Vec<f64> = sample.iter().map(|&i| demand[i]).collect();
             let sub_capacity: Vec<f64> = capacity.iter().map(|&c| c * (part / total)).collect();
-            let sub = transport(&sub_demand, &sub_capacity, &|i, j| cost(sample[i], j))?;
+            let sub = transport_watched(&sub_demand, &sub_capacity, &|i, j| cost(sample[i], j), clock)?;
             prices = sub.price;
         }
     }
-    solve_from(demand, capacity, cost, &prices, Reach::All)
+    solve_from_watched(demand, capacity, cost, &prices, Reach::All, clock)
 }
 
 /// Successive shortest paths from the start "every point at its cheapest site under
@@ -298,12 +318,26 @@ pub(crate) fn transport(demand: &[f64], capacity: &[f64], cost: &(dyn Fn(usize, 
 /// The imbalances this leaves (sites with more load than outflow, sites sending more than
 /// they receive, and the sink) are then removed along shortest paths, each of which keeps
 /// every residual arc at reduced cost ≥ 0, so the final flow is optimal.
+#[cfg(test)]
 pub(crate) fn solve_from(
     demand: &[f64],
     capacity: &[f64],
     cost: &(dyn Fn(usize, usize) -> f64 + Sync),
     prices: &[f64],
     reach: Reach<'_>,
+) -> Result<Plan> {
+    solve_from_watched(demand, capacity, cost, prices, reach, &Clock::unlimited())
+}
+
+/// [`solve_from`] polling `clock` every [`POLL_PATHS`] augmenting paths; stopped, it fails
+/// with [`super::stopped`] (the flow is not a plan until the last path).
+pub(crate) fn solve_from_watched(
+    demand: &[f64],
+    capacity: &[f64],
+    cost: &(dyn Fn(usize, usize) -> f64 + Sync),
+    prices: &[f64],
+    reach: Reach<'_>,
+    clock: &Clock,
 ) -> Result<Plan> {
     let n = demand.len();
     let m = capacity.len();
@@ -377,6 +411,9 @@ pub(crate) fn solve_from(
     let mut augmentations = 0usize;
     let mut cursor = 0usize;
     while let Some(s) = (0..nodes).map(|v| (cursor + v) % nodes).find(|&v| balance[v] > tolerance) {
+        if augmentations.is_multiple_of(POLL_PATHS) && clock.stop() {
+            return Err(super::stopped());
+        }
         cursor = s;
         dist.fill(f64::INFINITY);
         done.fill(false);

@@ -11,10 +11,15 @@
 //! search within a work budget. A trial the budget leaves open is treated as infeasible for
 //! the search but proves nothing, so the reported lower bound is the value above the largest
 //! trial proven infeasible: the plan is exact exactly when the bound meets its objective.
+//!
+//! The run polls its clock (`crate::cancel`) before every trial after the first (the first,
+//! at the largest value, gives the feasible plan every later trial improves on). Stopped
+//! early, it returns the best plan found with the bound of the trials settled so far.
 
 use super::cover::{serving_cover, Incidence, EXACT_BUDGET};
-use super::median::greedy_add;
+use super::median::{fill_open, greedy_add};
 use super::{check_choice, relative_gap, Costs, SiteService};
+use crate::cancel::{Clock, RunLimits, Steps};
 use crate::error::Result;
 use crate::geometry::{validate_weights, Weights};
 
@@ -33,10 +38,16 @@ pub struct DiscreteCenter {
 /// Outcome of one trial value.
 enum Trial {
     Feasible(Vec<usize>),
-    Infeasible { proven: bool },
+    Infeasible {
+        proven: bool,
+    },
+    /// The clock stopped the trial: it settled nothing.
+    Stopped,
 }
 
-/// Can `p` candidates (besides `fixed`) bring every weighted cost to at most `r`?
+/// Can `p` candidates (besides `fixed`) bring every weighted cost to at most `r`? Polls
+/// `clock` while it lists the coverage and bounds the cover size.
+#[allow(clippy::too_many_arguments)]
 fn trial(
     costs: &Costs<'_>,
     weights: Weights<'_>,
@@ -45,6 +56,7 @@ fn trial(
     usable: &[bool],
     r: f64,
     budget: &mut usize,
+    clock: &Clock,
 ) -> Trial {
     let demand: Vec<usize> = (0..costs.rows())
         .filter(|&i| {
@@ -53,13 +65,17 @@ fn trial(
         })
         .collect();
     // w·c <= r needs c <= r / w; the exact test is the product.
-    let incidence = Incidence::build(
+    let incidence = Incidence::build_watched(
         costs,
         &demand,
         usable,
         |i| r / weights.get(i) * (1.0 + 1e-12),
         |i, c| weights.get(i) * c <= r,
+        &|| clock.stop(),
     );
+    if clock.stop() {
+        return Trial::Stopped;
+    }
     if incidence.uncoverable().is_some() {
         return Trial::Infeasible { proven: true };
     }
@@ -67,7 +83,8 @@ fn trial(
     if greedy.len() <= p {
         return Trial::Feasible(greedy);
     }
-    if incidence.lower_bound(greedy.len(), 50) > p {
+    // A bound cut short by the clock is still a bound.
+    if incidence.lower_bound(greedy.len(), 50, &mut || !clock.stop()) > p {
         return Trial::Infeasible { proven: true };
     }
     match incidence.exact(p, budget) {
@@ -81,10 +98,23 @@ fn trial(
 /// bisection on the values themselves.
 const SORTED_VALUES: usize = 4_000_000;
 
+/// Rows between two polls of the clock in [`each_value`].
+const POLL_ROWS: usize = 1024;
+
 /// The weighted costs `wᵢ · costs[i, j]` (positive weights, allowed pairs) in `(above, below)`,
-/// visited without holding them all.
-fn each_value(costs: &Costs<'_>, weights: Weights<'_>, above: f64, below: f64, mut f: impl FnMut(f64)) {
+/// visited without holding them all. `stop()` is asked every [`POLL_ROWS`] rows; once it is
+/// true the pass ends early and what it saw is not all there is (the caller stops too).
+fn each_value(
+    costs: &Costs<'_>,
+    weights: Weights<'_>,
+    (above, below): (f64, f64),
+    stop: &dyn Fn() -> bool,
+    mut f: impl FnMut(f64),
+) {
     for i in 0..costs.rows() {
+        if i.is_multiple_of(POLL_ROWS) && stop() {
+            return;
+        }
         let w = weights.get(i);
         if w > 0.0 {
             costs.for_each_within(i, below / w * (1.0 + 1e-12), |_, c| {
@@ -108,14 +138,30 @@ fn each_value(costs: &Costs<'_>, weights: Weights<'_>, above: f64, below: f64, m
 ///
 /// # Runtime
 /// O(allowed pairs) per trial, O(log) trials; the values are sorted only once at most
-/// `SORTED_VALUES` remain in the search range.
-pub fn discrete_p_center(costs: &Costs<'_>, weights: Weights<'_>, p: usize, fixed: &[usize]) -> Result<DiscreteCenter> {
+/// `SORTED_VALUES` remain in the search range. Progress counts trials (their number is
+/// planned as the search learns how many values remain).
+pub fn discrete_p_center(
+    costs: &Costs<'_>,
+    weights: Weights<'_>,
+    p: usize,
+    fixed: &[usize],
+    limits: &RunLimits,
+) -> Result<DiscreteCenter> {
     validate_weights("weights", weights, costs.rows())?;
     check_choice(costs, p, fixed)?;
-    if !costs.is_complete() {
-        // Proves (or refuses) that some p sites serve every point.
-        serving_cover(costs, weights, p, fixed)?;
-    }
+    let clock = limits.clock();
+    // The trials at the largest value and at the floor.
+    let mut steps = Steps::new(&clock.watch, 2);
+    // The plan of a run stopped before its first trial settles: p sites serving every point
+    // (any p on a complete source; on a sparse one, the cover proving that some p serve every
+    // point, which also refuses p when none do).
+    let fallback = if costs.is_complete() {
+        Vec::new()
+    } else {
+        // The cover lists the fixed sites first.
+        serving_cover(costs, weights, p, fixed)?.split_off(fixed.len())
+    };
+    let stop = || clock.stop();
     let m = costs.columns();
     // Every point needs some site: the largest cheapest weighted cost bounds the optimum.
     let floor = (0..costs.rows())
@@ -123,16 +169,19 @@ pub fn discrete_p_center(costs: &Costs<'_>, weights: Weights<'_>, p: usize, fixe
         .map(|i| weights.get(i) * costs.cheapest(i).1)
         .fold(0.0, f64::max);
     let mut top = floor;
-    each_value(costs, weights, floor, f64::INFINITY, |v| top = top.max(v));
+    each_value(costs, weights, (floor, f64::INFINITY), &stop, |v| top = top.max(v));
     let mut usable = vec![true; m];
     fixed.iter().for_each(|&j| usable[j] = false);
 
     let mut budget = EXACT_BUDGET;
     // At the largest value every point has each of its allowed sites within reach, so the
     // serving cover (proven above) is feasible.
-    let Trial::Feasible(mut best) = trial(costs, weights, p, fixed, &usable, top, &mut budget) else {
-        unreachable!("the sites serving every point meet the largest weighted cost")
+    let mut best = match trial(costs, weights, p, fixed, &usable, top, &mut budget, &clock) {
+        Trial::Feasible(cover) => cover,
+        Trial::Stopped => fallback,
+        Trial::Infeasible { .. } => unreachable!("the sites serving every point meet the largest weighted cost"),
     };
+    steps.step();
     // Search the values in (low, high): `high` is feasible, everything at or below `low` is
     // infeasible or below the floor; `proven` is the largest value proven infeasible.
     let (mut low, mut high, mut proven) = (f64::NEG_INFINITY, top, f64::NEG_INFINITY);
@@ -144,29 +193,37 @@ pub fn discrete_p_center(costs: &Costs<'_>, weights: Weights<'_>, p: usize, fixe
                 proven = proven.max(v);
             }
         }
+        Trial::Stopped => {}
     };
     // The floor itself is a value; try it first (often the answer when p is large).
-    if floor < high {
-        let outcome = trial(costs, weights, p, fixed, &usable, floor, &mut budget);
+    if floor < high && !clock.stop() {
+        let outcome = trial(costs, weights, p, fixed, &usable, floor, &mut budget, &clock);
         record(floor, outcome, &mut low, &mut high, &mut best);
     }
-    loop {
+    steps.step();
+    while !clock.stop() {
         let mut count = 0usize;
-        each_value(costs, weights, low.max(floor), high, |_| count += 1);
-        if count == 0 {
+        each_value(costs, weights, (low.max(floor), high), &stop, |_| count += 1);
+        if count == 0 || clock.stop() {
             break;
         }
         if count <= SORTED_VALUES {
             let mut values = Vec::with_capacity(count);
-            each_value(costs, weights, low.max(floor), high, |v| values.push(v));
+            each_value(costs, weights, (low.max(floor), high), &stop, |v| values.push(v));
+            if clock.stop() {
+                break;
+            }
             values.sort_unstable_by(f64::total_cmp);
             values.dedup();
             let (mut a, mut b) = (0, values.len());
-            while a < b {
+            // A binary search over `len` values takes at most ⌊log₂ len⌋ + 1 trials.
+            steps.plan(u64::from(values.len().ilog2()) + 1);
+            while a < b && !clock.stop() {
                 let mid = a + (b - a) / 2;
-                let outcome = trial(costs, weights, p, fixed, &usable, values[mid], &mut budget);
+                let outcome = trial(costs, weights, p, fixed, &usable, values[mid], &mut budget, &clock);
                 let feasible = matches!(outcome, Trial::Feasible(_));
                 record(values[mid], outcome, &mut low, &mut high, &mut best);
+                steps.step();
                 if feasible {
                     b = mid;
                 } else {
@@ -178,24 +235,39 @@ pub fn discrete_p_center(costs: &Costs<'_>, weights: Weights<'_>, p: usize, fixe
         // Bisection on the value: the least value at or above the middle of the range.
         let middle = low.max(floor) + (high - low.max(floor)) / 2.0;
         let mut v = f64::INFINITY;
-        each_value(costs, weights, middle, high, |x| v = v.min(x));
+        each_value(costs, weights, (middle, high), &stop, |x| v = v.min(x));
         if !v.is_finite() {
             // None at or above the middle: the greatest below it.
             v = f64::NEG_INFINITY;
-            each_value(costs, weights, low.max(floor), middle + f64::EPSILON * middle.abs(), |x| v = v.max(x));
+            let below = middle + f64::EPSILON * middle.abs();
+            each_value(costs, weights, (low.max(floor), below), &stop, |x| v = v.max(x));
         }
-        let outcome = trial(costs, weights, p, fixed, &usable, v, &mut budget);
+        if clock.stop() {
+            break;
+        }
+        steps.plan(1);
+        let outcome = trial(costs, weights, p, fixed, &usable, v, &mut budget, &clock);
         record(v, outcome, &mut low, &mut high, &mut best);
+        steps.step();
     }
+    steps.finish();
     let chosen = best.len();
-    let open = greedy_add(costs, weights, fixed.iter().chain(&best).copied().collect(), p - chosen, 2.0 * top + 1.0);
+    let mut open: Vec<usize> = fixed.iter().chain(&best).copied().collect();
+    if clock.stop() {
+        // The greedy completion reads every allowed pair p − chosen times: too long for a
+        // stopped run, which completes its plan with the smallest free columns instead.
+        fill_open(&mut open, fixed.len() + p, m);
+    } else {
+        open = greedy_add(costs, weights, open, p - chosen, 2.0 * top + 1.0);
+    }
     let service = SiteService::of(costs, weights, open, fixed, None);
     let objective = service.weighted_worst;
     // The optimum is a value above every value proven infeasible, and at least the floor.
     let mut lower_bound = floor;
     if proven >= floor {
         lower_bound = objective;
-        each_value(costs, weights, proven, objective, |v| lower_bound = lower_bound.min(v));
+        // A full pass (never cut short): the least value above the proven one.
+        each_value(costs, weights, (proven, objective), &|| false, |v| lower_bound = lower_bound.min(v));
     }
     let lower_bound = lower_bound.min(objective);
     Ok(DiscreteCenter { relative_gap: relative_gap(objective, lower_bound), lower_bound, service })
@@ -216,7 +288,7 @@ mod tests {
             let w: Vec<f64> = (0..n).map(|_| 1.0 + (rng.next_f64() * 2.0).round()).collect();
             let costs = Costs::from(CostMatrix::new(&values, n, m).unwrap());
             for p in 1..4 {
-                let r = discrete_p_center(&costs, Weights::Given(&w), p, &[]).unwrap();
+                let r = discrete_p_center(&costs, Weights::Given(&w), p, &[], &RunLimits::default()).unwrap();
                 // Brute-force enumeration of every p-subset (independent).
                 let mut exact = f64::INFINITY;
                 for mask in 0u32..(1 << m) {

@@ -10,9 +10,17 @@
 //!   `radius`. Greedy addition, then best-swap interchange with the same
 //!   `gain − loss + extra` bookkeeping as the p-median's fast swap; an upper bound from the
 //!   Lagrangian relaxation of `zᵢ ≤ Σ_{j covers i} yⱼ` by subgradient optimisation.
+//!
+//! Both poll their clock (`crate::cancel`) between steps: greedy additions, swaps, bound
+//! iterations and exact searches (each within its work budget), and for `cover_all` every
+//! column of the dominance reduction. Stopped early, `cover_all` returns its greedy cover
+//! (always completed: it is the only feasible answer it has, and takes one pass over the
+//! coverage lists) with the bound so far; `cover_most` returns its plan so far, filled up to
+//! `p` sites, with the bound so far (at least the coverable weight, a valid bound).
 
 use super::cover_bound::maximal_covering_bound;
 use super::{check_choice, check_radius, relative_gap, Costs, SiteService, StepControl};
+use crate::cancel::{Clock, RunLimits, Steps};
 use crate::error::{Error, Result};
 use crate::geometry::{validate_weights, CompensatedSum, Weights};
 
@@ -20,6 +28,8 @@ use crate::geometry::{validate_weights, CompensatedSum, Weights};
 pub(super) const EXACT_BUDGET: usize = 20_000_000;
 /// Most subgradient iterations of the maximal-covering bound.
 const COVER_BOUND_ITERATIONS: usize = 1000;
+/// Most subgradient iterations of the set-covering bound.
+const COVER_ALL_BOUND_ITERATIONS: usize = 200;
 
 /// Which candidates cover which of the points that still need cover.
 pub(super) struct Incidence {
@@ -39,11 +49,27 @@ impl Incidence {
         reach: impl Fn(usize) -> f64 + Sync,
         covers: impl Fn(usize, f64) -> bool + Sync,
     ) -> Incidence {
+        Incidence::build_watched(costs, demand, usable, reach, covers, &|| false)
+    }
+
+    /// [`Incidence::build`] asking `stop()` before every row: once it is true the rows left
+    /// are empty, and the caller must drop the incidence (it covers nothing it should).
+    pub(super) fn build_watched(
+        costs: &Costs<'_>,
+        demand: &[usize],
+        usable: &[bool],
+        reach: impl Fn(usize) -> f64 + Sync,
+        covers: impl Fn(usize, f64) -> bool + Sync,
+        stop: &(dyn Fn() -> bool + Sync),
+    ) -> Incidence {
         use rayon::prelude::*;
         let by_point: Vec<Vec<usize>> = demand
             .par_iter()
             .map(|&i| {
                 let mut list = Vec::new();
+                if stop() {
+                    return list;
+                }
                 costs.for_each_within(i, reach(i), |j, c| {
                     if usable[j] && covers(i, c) {
                         list.push(j);
@@ -64,8 +90,10 @@ impl Incidence {
 
     /// Drop every column whose points another column covers too (a superset, or the same
     /// set at a smaller column): a covering model never needs it (column reduction of set
-    /// covering; Toregas & ReVelle 1973). Returns the number dropped.
-    pub(super) fn drop_dominated(&mut self) -> usize {
+    /// covering; Toregas & ReVelle 1973). Returns the number dropped. Once `stop()` is true
+    /// no further column is dropped (keeping a dominated column changes no answer, only the
+    /// work of the searches after it).
+    pub(super) fn drop_dominated(&mut self, stop: &dyn Fn() -> bool) -> usize {
         let m = self.by_site.len();
         let contains = |big: &[usize], small: &[usize]| {
             let mut it = big.iter();
@@ -74,6 +102,9 @@ impl Incidence {
         let dominated: Vec<bool> = (0..m)
             .map(|j| {
                 let set = &self.by_site[j];
+                if stop() {
+                    return false;
+                }
                 // Any dominating column covers the point of `set` with the fewest columns.
                 let Some(&a) = set.iter().min_by_key(|&&a| self.by_point[a].len()) else { return false };
                 self.by_point[a].iter().any(|&k| {
@@ -169,7 +200,8 @@ impl Incidence {
     /// by the Lagrangian relaxation of the covering constraints,
     /// `L(u) = Σ uₐ + Σⱼ min(0, 1 − Σ_{a ∈ Sⱼ} uₐ)` for `u ≥ 0`, by subgradient steps from
     /// the packing's `u` (Beasley 1990). The cover size is an integer, so `⌈L⌉` bounds too.
-    pub(super) fn lower_bound(&self, upper: usize, iterations: usize) -> usize {
+    /// `go()` is asked before every iteration (false: stop with the bound so far).
+    pub(super) fn lower_bound(&self, upper: usize, iterations: usize, go: &mut dyn FnMut() -> bool) -> usize {
         let packed = self.packing();
         let mut u = vec![0.0; self.by_point.len()];
         packed.iter().for_each(|&a| u[a] = 1.0);
@@ -177,6 +209,9 @@ impl Incidence {
         let mut open = vec![false; self.by_site.len()];
         let mut g = vec![0.0; u.len()];
         for _ in 0..iterations {
+            if !go() {
+                break;
+            }
             let mut value = CompensatedSum::default();
             u.iter().for_each(|&x| value.add(x));
             for (j, set) in self.by_site.iter().enumerate() {
@@ -344,7 +379,7 @@ pub(super) fn serving_cover(costs: &Costs<'_>, weights: Weights<'_>, p: usize, f
         Incidence::build(costs, &demand, &not_fixed(costs.columns(), fixed), |_| f64::INFINITY, |_, _| true);
     let mut chosen = incidence.greedy();
     if chosen.len() > p {
-        let lower = incidence.lower_bound(chosen.len(), 200);
+        let lower = incidence.lower_bound(chosen.len(), 200, &mut || true);
         let mut budget = EXACT_BUDGET;
         let found = if lower > p { None } else { incidence.exact(p, &mut budget).flatten() };
         match found {
@@ -400,10 +435,21 @@ pub struct CoverAll {
 /// Bad weights or `fixed`; [`Error::InvalidParameter`] naming `radius` when it is not finite
 /// and positive, or when a point has no candidate within it (the message names the point and
 /// its cheapest candidate's cost).
-pub fn cover_all(costs: &Costs<'_>, weights: Weights<'_>, radius: f64, fixed: &[usize]) -> Result<CoverAll> {
+///
+/// Progress counts the coverage lists, the dominance reduction, the greedy cover and the
+/// bound iterations.
+pub fn cover_all(
+    costs: &Costs<'_>,
+    weights: Weights<'_>,
+    radius: f64,
+    fixed: &[usize],
+    limits: &RunLimits,
+) -> Result<CoverAll> {
     validate_weights("weights", weights, costs.rows())?;
     super::check_sites("fixed", fixed, costs.columns())?;
     check_radius(radius)?;
+    let clock = limits.clock();
+    let mut steps = Steps::new(&clock.watch, 3 + COVER_ALL_BOUND_ITERATIONS as u64);
     let demand = outside(costs, fixed, radius, |_| true);
     let mut incidence =
         Incidence::build(costs, &demand, &not_fixed(costs.columns(), fixed), |_| radius, |_, c| c <= radius);
@@ -412,11 +458,18 @@ pub fn cover_all(costs: &Costs<'_>, weights: Weights<'_>, radius: f64, fixed: &[
         let (column, cost) = costs.cheapest(i);
         return Err(Error::Uncoverable { row: i, radius, column, cost });
     }
-    incidence.drop_dominated();
+    steps.step();
+    incidence.drop_dominated(&|| clock.stop());
+    steps.step();
     let mut chosen = incidence.greedy();
-    let mut lower = incidence.lower_bound(chosen.len(), 200);
+    steps.step();
+    let mut lower = incidence.lower_bound(chosen.len(), COVER_ALL_BOUND_ITERATIONS, &mut || {
+        steps.step();
+        !clock.stop()
+    });
+    steps.finish();
     let mut budget = EXACT_BUDGET;
-    while lower < chosen.len() {
+    while lower < chosen.len() && !clock.stop() {
         match incidence.exact(lower, &mut budget) {
             Some(Some(cover)) => chosen = cover,
             Some(None) => lower += 1,
@@ -455,16 +508,20 @@ pub struct CoverMost {
 ///
 /// # Runtime
 /// O(n·m) to find the coverage, then O(Σ coverage lists + m·p) per swap and bound iteration.
+/// Progress counts greedy additions and bound iterations.
 pub fn cover_most(
     costs: &Costs<'_>,
     weights: Weights<'_>,
     p: usize,
     radius: f64,
     fixed: &[usize],
+    limits: &RunLimits,
 ) -> Result<CoverMost> {
     validate_weights("weights", weights, costs.rows())?;
     check_choice(costs, p, fixed)?;
     check_radius(radius)?;
+    let clock = limits.clock();
+    let mut steps = Steps::new(&clock.watch, (p + COVER_BOUND_ITERATIONS) as u64);
     let m = costs.columns();
     // Points the fixed sites already cover count in full; only the others are contested.
     let demand = outside(costs, fixed, radius, |i| weights.get(i) > 0.0);
@@ -477,6 +534,16 @@ pub fn cover_most(
     let mut position: Vec<Option<usize>> = vec![None; m];
     let mut chosen: Vec<usize> = Vec::with_capacity(p);
     for _ in 0..p {
+        steps.step();
+        if clock.stop() {
+            // Stopped: complete the plan with the smallest free columns (any p are feasible).
+            let mut free = (0..m).filter(|&j| position[j].is_none() && !fixed.contains(&j));
+            while chosen.len() < p {
+                let j = free.next().expect("p fits among the free candidates");
+                chosen.push(j);
+            }
+            break;
+        }
         let j = (0..m)
             .filter(|&j| position[j].is_none() && !fixed.contains(&j))
             .max_by(|&a, &b| gain[a].total_cmp(&gain[b]).then(b.cmp(&a)))
@@ -492,14 +559,16 @@ pub fn cover_most(
     }
 
     let free = not_fixed(m, fixed);
-    let mut swaps = improve_cover(&inc, &w, &free, &mut chosen);
+    let mut swaps = improve_cover(&inc, &w, &free, &mut chosen, &clock);
     let contested = covered_by(&inc, &w, &chosen);
-    let (bound, relaxed) = maximal_covering_bound(&inc, &w, p, contested, &free, COVER_BOUND_ITERATIONS);
+    let (bound, relaxed) =
+        maximal_covering_bound(&inc, &w, p, contested, &free, COVER_BOUND_ITERATIONS, &clock, &mut steps);
+    steps.finish();
     // The Lagrangian heuristic (as for the p-median): the relaxation's sites, improved by
     // the same interchange, replace the plan when they cover more.
-    if relaxed.len() == p {
+    if relaxed.len() == p && !clock.stop() {
         let mut other = relaxed;
-        let more = improve_cover(&inc, &w, &free, &mut other);
+        let more = improve_cover(&inc, &w, &free, &mut other, &clock);
         if covered_by(&inc, &w, &other) > contested + 1e-12 * contested {
             (chosen, swaps) = (other, swaps + more);
         }
@@ -524,8 +593,9 @@ fn covered_by(inc: &Incidence, w: &[f64], chosen: &[usize]) -> f64 {
 /// Best-swap interchange of the `chosen` columns (insert a `free` one, remove a chosen one)
 /// while a swap covers more weight: `gain(u) − loss(r) + extra(u, r)`, with `gain` the
 /// uncovered weight `u` covers, `loss` the weight only `r` covers and `extra` the part of
-/// that `u` covers too. Returns the number of swaps.
-fn improve_cover(inc: &Incidence, w: &[f64], free: &[bool], chosen: &mut [usize]) -> usize {
+/// that `u` covers too. Returns the number of swaps; stops with the plan so far when `clock`
+/// says so (polled before every swap).
+fn improve_cover(inc: &Incidence, w: &[f64], free: &[bool], chosen: &mut [usize], clock: &Clock) -> usize {
     let (m, p) = (inc.by_site.len(), chosen.len());
     let mut count = vec![0u32; w.len()];
     let mut position: Vec<Option<usize>> = vec![None; m];
@@ -536,7 +606,7 @@ fn improve_cover(inc: &Incidence, w: &[f64], free: &[bool], chosen: &mut [usize]
     let tolerance = 1e-12 * w.iter().sum::<f64>().max(f64::MIN_POSITIVE);
     let mut swaps = 0;
     let (mut gain, mut loss, mut extra) = (vec![0.0; m], vec![0.0; p], vec![0.0; m * p]);
-    while swaps < 100_000 {
+    while swaps < 100_000 && !clock.stop() {
         gain.iter_mut().for_each(|g| *g = 0.0);
         loss.iter_mut().for_each(|l| *l = 0.0);
         extra.iter_mut().for_each(|e| *e = 0.0);
@@ -590,17 +660,17 @@ mod tests {
         // point, so n sites are needed.
         let values = line(7, 2.0);
         let costs = Costs::from(CostMatrix::new(&values, 7, 7).unwrap());
-        let r = cover_all(&costs, Weights::Unit, 1.0, &[]).unwrap();
+        let r = cover_all(&costs, Weights::Unit, 1.0, &[], &RunLimits::default()).unwrap();
         assert_eq!((r.chosen, r.lower_bound), (7, 7));
         // Closed form: radius s covers three neighbours, so ⌈n/3⌉ sites.
-        let r = cover_all(&costs, Weights::Unit, 2.0, &[]).unwrap();
+        let r = cover_all(&costs, Weights::Unit, 2.0, &[], &RunLimits::default()).unwrap();
         assert_eq!((r.chosen, r.lower_bound), (3, 3));
     }
 
     #[test]
     fn uncoverable_point_is_named() {
         let costs = Costs::from(CostMatrix::new(&[1.0, 2.0, 5.0, 4.0], 2, 2).unwrap());
-        let e = cover_all(&costs, Weights::Unit, 3.0, &[]).unwrap_err();
+        let e = cover_all(&costs, Weights::Unit, 3.0, &[], &RunLimits::default()).unwrap_err();
         assert_eq!(
             e.to_string(),
             "radius: points[1] has no candidate within radius 3; its cheapest candidate, column 1, costs 4"
@@ -616,7 +686,7 @@ mod tests {
             let w: Vec<f64> = (0..n).map(|_| 1.0 + (rng.next_f64() * 4.0).floor()).collect();
             let costs = Costs::from(CostMatrix::new(&values, n, m).unwrap());
             for p in 1..4 {
-                let r = cover_most(&costs, Weights::Given(&w), p, 3.0, &[]).unwrap();
+                let r = cover_most(&costs, Weights::Given(&w), p, 3.0, &[], &RunLimits::default()).unwrap();
                 // Brute-force enumeration of every p-subset (independent).
                 let mut exact = 0.0f64;
                 for mask in 0u32..(1 << m) {

@@ -21,6 +21,7 @@ use rayon::prelude::*;
 
 use super::cover::Incidence;
 use super::StepControl;
+use crate::cancel::{Clock, Steps};
 use crate::geometry::CompensatedSum;
 
 /// Iterations between two sums of `Λ` from scratch.
@@ -62,7 +63,10 @@ fn lagrangian_value(
 
 /// The least value found of `L` (see the module docs) in at most `iterations` evaluations,
 /// stepping toward `lower` (the weight a plan covers), with the `free` columns opened at that
-/// value (a start for the Lagrangian heuristic).
+/// value (a start for the Lagrangian heuristic). Every iteration is a step of `steps`; a stop
+/// of `clock` ends the search with the least value so far (the coverable weight before any
+/// iteration), which is still a bound.
+#[allow(clippy::too_many_arguments)]
 pub(super) fn maximal_covering_bound(
     inc: &Incidence,
     w: &[f64],
@@ -70,6 +74,8 @@ pub(super) fn maximal_covering_bound(
     lower: f64,
     free: &[bool],
     iterations: usize,
+    clock: &Clock,
+    steps: &mut Steps<'_>,
 ) -> (f64, Vec<usize>) {
     let (n, m) = (w.len(), inc.by_site.len());
     let coverable: Vec<bool> = inc.by_point.iter().map(|list| !list.is_empty()).collect();
@@ -88,6 +94,10 @@ pub(super) fn maximal_covering_bound(
     let (mut best_lambda, mut stepped_best) = (lambda.clone(), false);
     let mut window_start = f64::INFINITY;
     for spent in 0..iterations {
+        if clock.stop() {
+            break;
+        }
+        steps.step();
         if spent % RESUM_EVERY == 0 {
             exact(&lambda, &mut big);
         }

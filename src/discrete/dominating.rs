@@ -14,8 +14,13 @@ use rstar::primitives::GeomWithData;
 use rstar::RTree;
 
 use super::check_radius;
+use crate::cancel::{RunLimits, Steps};
 use crate::error::{Error, Result};
 use crate::geometry::{distance, validate_points, Point};
+
+/// Points between two polls of the clock in [`circle_intersections`]: a few milliseconds of
+/// neighbour queries even where the circles overlap densely.
+const POLL_POINTS: usize = 256;
 
 /// Most candidate sites [`circle_intersections`] generates before refusing.
 pub const MAX_DOMINATING_CANDIDATES: usize = 4_000_000;
@@ -32,15 +37,23 @@ pub const MAX_DOMINATING_CANDIDATES: usize = 4_000_000;
 /// positive, or when more than `limit` candidates arise (dense points for the radius).
 ///
 /// # Runtime
-/// O(n log n + K log n) for K pairs within `2 · radius`.
-pub fn circle_intersections(points: &[Point], radius: f64, limit: usize) -> Result<Vec<Point>> {
+/// O(n log n + K log n) for K pairs within `2 · radius`. The clock of `limits` is polled
+/// every [`POLL_POINTS`] points; stopped, the candidates found so far are returned (every
+/// demand point is among them, so every point can still be covered). Progress counts points.
+pub fn circle_intersections(points: &[Point], radius: f64, limit: usize, limits: &RunLimits) -> Result<Vec<Point>> {
     validate_points("points", points, 1)?;
     check_radius(radius)?;
+    let clock = limits.clock();
+    let mut steps = Steps::new(&clock.watch, points.len() as u64);
     let tree: RTree<GeomWithData<Point, usize>> =
         RTree::bulk_load(points.iter().enumerate().map(|(i, &p)| GeomWithData::new(p, i)).collect());
     let reach = 2.0 * radius;
     let mut candidates: Vec<Point> = points.to_vec();
     for (i, &a) in points.iter().enumerate() {
+        if i.is_multiple_of(POLL_POINTS) && clock.stop() {
+            break;
+        }
+        steps.step();
         for q in tree.locate_within_distance(a, reach * reach) {
             let (j, b) = (q.data, *q.geom());
             let d = distance(a, b);
@@ -65,6 +78,7 @@ pub fn circle_intersections(points: &[Point], radius: f64, limit: usize) -> Resu
             }
         }
     }
+    steps.finish();
     // Dominance: one candidate per distinct set of covered points (the first, so demand
     // points come before intersection points).
     let sets: Vec<Vec<usize>> = candidates
@@ -91,7 +105,7 @@ mod tests {
     fn two_points_closer_than_the_diameter_meet_twice() {
         // Closed form: points (0, 0) and (2, 0), radius √2: circles meet at (1, ±1), each
         // covering both points; the two points cover only themselves.
-        let c = circle_intersections(&[[0.0, 0.0], [2.0, 0.0]], 2f64.sqrt(), 100).unwrap();
+        let c = circle_intersections(&[[0.0, 0.0], [2.0, 0.0]], 2f64.sqrt(), 100, &RunLimits::default()).unwrap();
         // (1, 1) and (1, -1) cover the same pair: one is kept.
         assert_eq!(c.len(), 3);
         assert!((c[2][0] - 1.0).abs() < 1e-8 && (c[2][1].abs() - 1.0).abs() < 1e-8, "{c:?}");
@@ -103,8 +117,8 @@ mod tests {
     #[test]
     fn too_many_intersections_are_refused() {
         let points: Vec<Point> = (0..30).map(|i| [f64::from(i) * 0.01, 0.0]).collect();
-        let e = circle_intersections(&points, 1.0, 50).unwrap_err();
+        let e = circle_intersections(&points, 1.0, 50, &RunLimits::default()).unwrap_err();
         assert!(e.to_string().starts_with("radius: the circles of radius 1 around the points meet in more than 50"));
-        assert!(circle_intersections(&points, 0.0, 50).is_err());
+        assert!(circle_intersections(&points, 0.0, 50, &RunLimits::default()).is_err());
     }
 }

@@ -11,28 +11,36 @@
 //! - Bound: Lagrangian relaxation of the assignment constraints `Σⱼ xᵢⱼ = 1` (Cornuejols,
 //!   Fisher & Nemhauser 1977; Beasley 1993) with subgradient optimisation; every value of
 //!   the Lagrangian function is a lower bound on the optimum, the best one is reported.
+//!
+//! The run polls its clock (`crate::cancel`) before every greedy step, swap and bound
+//! iteration. Stopped early, it returns the best plan so far (filled up to `p` sites when
+//! the greedy start was cut short) with the best bound so far: 0 when no bound iteration ran,
+//! so the gap then says the plan is not proven.
 
 use super::cover::serving_cover;
 use super::median_bound::MedianRelaxation;
 use super::near::NearLists;
 use super::swap::fast_swap;
 use super::{check_choice, relative_gap, sum_rows, Costs, SiteService};
+use crate::cancel::{RunLimits, Steps};
 use crate::error::Result;
 use crate::geometry::{validate_weights, Weights};
 
 /// Tuning of [`discrete_p_median`].
-#[derive(Debug, Clone, Copy)]
+#[derive(Debug, Clone)]
 pub struct DiscreteMedianOptions {
     /// Most subgradient iterations for the lower bound (each reads every point's candidates
     /// cheaper than its multiplier).
     pub bound_iterations: usize,
     /// Most swaps applied by the interchange.
     pub max_swaps: usize,
+    /// Deadline and cancel flag; progress counts greedy steps and bound iterations.
+    pub limits: RunLimits,
 }
 
 impl Default for DiscreteMedianOptions {
     fn default() -> Self {
-        DiscreteMedianOptions { bound_iterations: 1000, max_swaps: 100_000 }
+        DiscreteMedianOptions { bound_iterations: 1000, max_swaps: 100_000, limits: RunLimits::default() }
     }
 }
 
@@ -65,10 +73,23 @@ pub(super) fn greedy_add(
     p: usize,
     unserved: f64,
 ) -> Vec<usize> {
-    greedy_add_near(costs, None, weights, open, p, unserved)
+    greedy_add_near(costs, None, weights, open, p, unserved, &mut || true)
 }
 
-/// [`greedy_add`] reading the pairs cheaper than a point's open site from `near` where given.
+/// Open the smallest closed columns until `open` holds `size` of them: the completion of a
+/// greedy start that was stopped early (any `size` distinct columns are a feasible plan).
+pub(super) fn fill_open(open: &mut Vec<usize>, size: usize, columns: usize) {
+    let mut is_open = vec![false; columns];
+    open.iter().for_each(|&j| is_open[j] = true);
+    let mut free = (0..columns).filter(|&j| !is_open[j]);
+    while open.len() < size {
+        let Some(j) = free.next() else { break };
+        open.push(j);
+    }
+}
+
+/// [`greedy_add`] reading the pairs cheaper than a point's open site from `near` where given,
+/// asking `go()` before every step (false: stop with the sites opened so far).
 fn greedy_add_near(
     costs: &Costs<'_>,
     near: Option<&NearLists>,
@@ -76,6 +97,7 @@ fn greedy_add_near(
     mut open: Vec<usize>,
     p: usize,
     unserved: f64,
+    go: &mut dyn FnMut() -> bool,
 ) -> Vec<usize> {
     let (n, m) = (costs.rows(), costs.columns());
     let mut nearest: Vec<f64> =
@@ -85,6 +107,9 @@ fn greedy_add_near(
         is_open[j] = true;
     }
     for _ in 0..p {
+        if !go() {
+            break;
+        }
         // gain[j] = Σᵢ wᵢ · max(0, nearestᵢ − costs[i, j]): what opening j saves.
         let gain = sum_rows(n, m, |i, gain| {
             let (w, d) = (weights.get(i), nearest[i]);
@@ -166,6 +191,12 @@ pub fn discrete_p_median(
 ) -> Result<DiscreteMedian> {
     validate_weights("weights", weights, costs.rows())?;
     check_choice(costs, p, fixed)?;
+    let clock = options.limits.clock();
+    let mut steps = Steps::new(&clock.watch, (p + options.bound_iterations) as u64);
+    let mut go = || {
+        steps.step();
+        !clock.stop()
+    };
     let top = costs.ceiling();
     let near = NearLists::new(costs, near_keep(costs.rows(), costs.columns(), p + fixed.len()));
     // The cost of a point no open site serves (and of a missing second site): above every
@@ -173,17 +204,20 @@ pub fn discrete_p_median(
     // per unit of the least positive weight, so no swap gives up serving a point.
     let (open, ceiling) = if costs.is_complete() {
         let ceiling = 2.0 * top + 1.0;
-        (greedy_add_near(costs, Some(&near), weights, fixed.to_vec(), p, ceiling), ceiling)
+        (greedy_add_near(costs, Some(&near), weights, fixed.to_vec(), p, ceiling, &mut go), ceiling)
     } else {
         let cover = serving_cover(costs, weights, p, fixed)?;
         let chosen = cover.len() - fixed.len();
-        let open = greedy_add_near(costs, Some(&near), weights, cover, p - chosen, 2.0 * top + 1.0);
+        let open = greedy_add_near(costs, Some(&near), weights, cover, p - chosen, 2.0 * top + 1.0, &mut go);
         let upper = SiteService::of(costs, weights, open.clone(), fixed, None).total_cost;
         let least = (0..costs.rows()).map(|i| weights.get(i)).filter(|&w| w > 0.0).fold(f64::INFINITY, f64::min);
         (open, 2.0 * (upper / least + top) + 1.0)
     };
     let mut open = open;
-    let mut swaps = fast_swap(costs, &near, weights, &mut open, fixed.len(), options.max_swaps, ceiling);
+    // The greedy steps are counted (one per step asked for, the first one included); a stop
+    // cut them short: complete the plan.
+    fill_open(&mut open, fixed.len() + p, costs.columns());
+    let mut swaps = fast_swap(costs, &near, weights, &mut open, fixed.len(), options.max_swaps, ceiling, &clock);
     let mut service = SiteService::of(costs, weights, open.clone(), fixed, None);
     let (_, _, d2) = nearest_two(costs, &open, ceiling);
     // λ starts at every point's second cheapest open cost, no higher than its dearest pair.
@@ -201,7 +235,7 @@ pub fn discrete_p_median(
         // serving every point); the bound's target follows the best plan.
         let mut improve = |relaxed: &[usize]| {
             let mut other = relaxed.to_vec();
-            let more = fast_swap(costs, &near, weights, &mut other, fixed.len(), options.max_swaps, ceiling);
+            let more = fast_swap(costs, &near, weights, &mut other, fixed.len(), options.max_swaps, ceiling, &clock);
             let candidate = SiteService::of(costs, weights, other, fixed, None);
             swaps += more;
             if candidate.total_cost < service.total_cost {
@@ -210,10 +244,11 @@ pub fn discrete_p_median(
             service.total_cost
         };
         let relaxation = MedianRelaxation { costs, near: &near, weights, fixed, p };
-        relaxation.bound(heuristic, &start, options.bound_iterations, &mut improve)
+        relaxation.bound(heuristic, &start, options.bound_iterations, &mut improve, &clock, &mut steps)
     } else {
         (0.0, 0)
     };
+    steps.finish();
     let upper = service.total_cost;
     // Costs are non-negative, so 0 is a bound too; a bound above the plan's cost can only be
     // rounding (the plan is feasible), so it is clamped to the plan.

@@ -23,6 +23,7 @@ use rayon::prelude::*;
 
 use super::near::NearLists;
 use super::{sum_rows, Costs};
+use crate::cancel::{Clock, Steps};
 use crate::geometry::{CompensatedSum, Weights};
 
 /// Iterations without a better bound after which `θ` halves.
@@ -76,12 +77,16 @@ impl MedianRelaxation<'_, '_> {
     /// The best value of `L` found in at most `iterations` evaluations from `start`, and
     /// the evaluations spent. `improve(open)` runs the Lagrangian heuristic from an open set
     /// of the relaxation and returns the cost of the best plan known (`upper` at first).
+    /// Every iteration is a step of `steps`; a stop of `clock` ends the search with the best
+    /// value so far (−∞ when none was evaluated), which is still a bound.
     pub(super) fn bound(
         &self,
         mut upper: f64,
         start: &[f64],
         iterations: usize,
         improve: &mut dyn FnMut(&[usize]) -> f64,
+        clock: &Clock,
+        steps: &mut Steps<'_>,
     ) -> (f64, usize) {
         let (n, m) = (self.costs.rows(), self.costs.columns());
         let caps: Vec<f64> = (0..n).map(|i| self.cap(i)).collect();
@@ -97,8 +102,9 @@ impl MedianRelaxation<'_, '_> {
         let mut g = vec![0.0; n];
         let mut tried: Vec<Vec<usize>> = Vec::new();
         let mut spent = 0;
-        while spent < iterations {
+        while spent < iterations && !clock.stop() {
             spent += 1;
+            steps.step();
             let rho = self.reduced_sums(&lambda);
             order.clear();
             order.extend((0..m).filter(|&j| !is_fixed[j]));
@@ -167,9 +173,13 @@ impl MedianRelaxation<'_, '_> {
                 *l = (*l + step * gi).clamp(0.0, cap);
             }
         }
-        // The open set of the best bound gets the heuristic too (Beasley 1993).
+        // The open set of the best bound gets the heuristic too (Beasley 1993), unless the run
+        // was stopped (or no iteration ran).
+        if best_open.is_empty() || clock.stop() {
+            return (best, spent);
+        }
         best_open[self.fixed.len()..].sort_unstable();
-        if !best_open.is_empty() && !tried.contains(&best_open) && upper - best > 1e-9 * upper.abs() {
+        if !tried.contains(&best_open) && upper - best > 1e-9 * upper.abs() {
             improve(&best_open);
         }
         (best, spent)

@@ -332,6 +332,7 @@ fn relative_gap(upper: f64, lower: f64) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::cancel::{RunLimits, Watch};
 
     #[test]
     fn evaluation_of_a_hand_checked_network() {
@@ -377,19 +378,26 @@ mod tests {
         let planar = Costs::from(PlanarCosts::new(&points, &candidates).unwrap());
         let w = Weights::Given(&w);
         let opts = DiscreteMedianOptions::default();
+        let none = RunLimits::default();
         for p in [1, 3, 5] {
             let (a, b) = (
                 discrete_p_median(&dense, w, p, &[2], &opts).unwrap(),
                 discrete_p_median(&planar, w, p, &[2], &opts).unwrap(),
             );
             assert_eq!((a.service.open, a.service.total_cost), (b.service.open, b.service.total_cost));
-            let (a, b) =
-                (discrete_p_center(&dense, w, p, &[]).unwrap(), discrete_p_center(&planar, w, p, &[]).unwrap());
+            let (a, b) = (
+                discrete_p_center(&dense, w, p, &[], &none).unwrap(),
+                discrete_p_center(&planar, w, p, &[], &none).unwrap(),
+            );
             assert_eq!((a.service.weighted_worst, a.lower_bound), (b.service.weighted_worst, b.lower_bound));
-            let (a, b) = (cover_most(&dense, w, p, 12.0, &[]).unwrap(), cover_most(&planar, w, p, 12.0, &[]).unwrap());
+            let (a, b) = (
+                cover_most(&dense, w, p, 12.0, &[], &none).unwrap(),
+                cover_most(&planar, w, p, 12.0, &[], &none).unwrap(),
+            );
             assert_eq!((a.service.open, a.upper_bound), (b.service.open, b.upper_bound));
         }
-        let (a, b) = (cover_all(&dense, w, 30.0, &[]).unwrap(), cover_all(&planar, w, 30.0, &[]).unwrap());
+        let (a, b) =
+            (cover_all(&dense, w, 30.0, &[], &none).unwrap(), cover_all(&planar, w, 30.0, &[], &none).unwrap());
         assert_eq!((a.service.open, a.lower_bound), (b.service.open, b.lower_bound));
     }
 
@@ -410,12 +418,60 @@ mod tests {
         assert_eq!((r.service.open.clone(), r.service.total_cost), (vec![1, 4], 4.0));
         let e = discrete_p_median(&costs, Weights::Unit, 1, &[], &DiscreteMedianOptions::default()).unwrap_err();
         assert!(e.to_string().contains("at least 2 are needed"), "{e}");
-        let c = discrete_p_center(&costs, Weights::Unit, 2, &[]).unwrap();
+        let c = discrete_p_center(&costs, Weights::Unit, 2, &[], &RunLimits::default()).unwrap();
         assert_eq!((c.service.weighted_worst, c.lower_bound), (1.0, 1.0));
         // Evaluation of one site: points out of its reach are unserved, not refused.
         let s = evaluate_sites(&costs, Weights::Unit, &[0], None).unwrap();
         assert_eq!(s.assignment[3], UNSERVED);
         assert!(s.cost[3].is_infinite());
+    }
+
+    #[test]
+    fn stopped_runs_return_feasible_plans_with_valid_bounds_and_full_progress() {
+        let mut rng = crate::geometry::random::SplitMix64::new(5);
+        let points: Vec<Point> = (0..300).map(|_| [rng.next_f64() * 100.0, rng.next_f64() * 100.0]).collect();
+        let candidates: Vec<Point> = (0..40).map(|_| [rng.next_f64() * 100.0, rng.next_f64() * 100.0]).collect();
+        let costs = Costs::from(PlanarCosts::new(&points, &candidates).unwrap());
+        let w = Weights::Unit;
+        let (p, fixed, radius) = (4, [7], 20.0);
+        // A run with no limit gives the reference objectives and bounds.
+        let none = RunLimits::default();
+        let median = discrete_p_median(&costs, w, p, &fixed, &DiscreteMedianOptions::default()).unwrap();
+        let center = discrete_p_center(&costs, w, p, &fixed, &none).unwrap();
+        let most = cover_most(&costs, w, p, radius, &fixed, &none).unwrap();
+        let all = cover_all(&costs, w, 60.0, &fixed, &none).unwrap();
+        // A zero time limit (expired at the first poll) and a cancelled watch both stop every
+        // model at its first poll; each still answers with p new sites (every point served)
+        // and a bound that holds: on the same side of the full run's plan as its own bound.
+        let expired = || RunLimits { time_limit: Some(0.0), watch: Watch::new() };
+        let cancelled = || {
+            let watch = Watch::new();
+            watch.cancel();
+            RunLimits { time_limit: None, watch }
+        };
+        for limits in [expired(), cancelled()] {
+            let options = DiscreteMedianOptions { limits: limits.clone(), ..Default::default() };
+            let r = discrete_p_median(&costs, w, p, &fixed, &options).unwrap();
+            assert_eq!((r.service.open.len(), r.bound_iterations), (p + 1, 0));
+            assert!(r.service.open.contains(&7) && r.service.assignment.iter().all(|&a| a != UNSERVED));
+            assert!(r.lower_bound <= median.service.total_cost && r.service.total_cost >= median.lower_bound);
+            assert!(r.relative_gap > 0.0);
+            let r = discrete_p_center(&costs, w, p, &fixed, &limits).unwrap();
+            assert_eq!(r.service.open.len(), p + 1);
+            assert!(r.lower_bound <= center.service.weighted_worst);
+            assert!(r.service.weighted_worst >= center.lower_bound);
+            let r = cover_most(&costs, w, p, radius, &fixed, &limits).unwrap();
+            let covered = r.service.coverage.as_ref().unwrap().covered_weight;
+            assert_eq!(r.service.open.len(), p + 1);
+            assert!(r.upper_bound >= most.service.coverage.as_ref().unwrap().covered_weight);
+            assert!(covered <= most.upper_bound + 1e-9);
+            let r = cover_all(&costs, w, 60.0, &fixed, &limits).unwrap();
+            assert!(r.service.coverage.as_ref().unwrap().covered.iter().all(|&c| c));
+            assert!(r.lower_bound <= all.chosen && r.chosen >= all.lower_bound);
+            // Every model closed its count at its total.
+            let (done, total) = limits.watch.progress();
+            assert!(total > 0 && done == total, "{done} of {total}");
+        }
     }
 
     #[test]

@@ -21,6 +21,7 @@
 
 use super::near::NearLists;
 use super::{sum_rows, Costs};
+use crate::cancel::Clock;
 use crate::geometry::Weights;
 
 /// Swaps after which the sums are recomputed from every point.
@@ -167,12 +168,14 @@ impl Interchange<'_, '_> {
 /// ties: smallest candidate, then position) while one lowers the cost; returns the number of
 /// swaps. A point without a second allowed open site counts `ceiling` for it: with `ceiling`
 /// above what any serving plan costs per unit of weight, no swap leaves a point of positive
-/// weight unserved.
+/// weight unserved. Stops with the plan so far when `clock` says so (polled before every
+/// swap, each well under a second at any size the cost sources allow).
 ///
 /// # Runtime
 /// O(n · q + m · p) to start and every [`REBUILD_EVERY`] swaps, `q` the candidates of a
 /// point cheaper than its second open site; O(n + a · q + m · p) per swap in between, `a`
 /// the points whose two cheapest open sites change.
+#[allow(clippy::too_many_arguments)]
 pub(super) fn fast_swap(
     costs: &Costs<'_>,
     near: &NearLists,
@@ -181,6 +184,7 @@ pub(super) fn fast_swap(
     fixed_count: usize,
     max_swaps: usize,
     ceiling: f64,
+    clock: &Clock,
 ) -> usize {
     let m = costs.columns();
     let mut position = vec![NONE; m];
@@ -191,7 +195,7 @@ pub(super) fn fast_swap(
     let mut search = Interchange { costs, near, weights, ceiling, k, position, top: Vec::new(), sums: Vec::new() };
     search.rebuild(open);
     let (mut swaps, mut since) = (0, 0);
-    while swaps < max_swaps {
+    while swaps < max_swaps && !clock.stop() {
         // A swap must gain more than rounding noise of the current total.
         let total = search.sums[search.sums.len() - 1];
         let tolerance = 1e-12 * total.max(f64::MIN_POSITIVE);

@@ -114,10 +114,26 @@ fn check_weber(options: &WeberOptions) -> Result<()> {
 /// O(n) inverse problems per exact pass, in parallel; typically two or three exact passes,
 /// after a handful of O(n) passes on Gauss's conformal sphere that choose where to start.
 pub fn geodesic_weber_point(points: &[Point], weights: Weights<'_>, options: &WeberOptions) -> Result<WeberPoint> {
+    geodesic_weber_point_watched(points, weights, options, &Watch::new())
+}
+
+/// [`geodesic_weber_point`] stopping early once `watch` is cancelled (polled between passes
+/// over the points, each about a quarter of a second at 10⁶ points): the point reached is
+/// returned with `converged` false unless its certificate already holds. Progress counts
+/// passes against `options.max_iter`.
+///
+/// # Errors
+/// As [`geodesic_weber_point`].
+pub fn geodesic_weber_point_watched(
+    points: &[Point],
+    weights: Weights<'_>,
+    options: &WeberOptions,
+    watch: &Watch,
+) -> Result<WeberPoint> {
     check_weber(options)?;
     validate_lonlat("points", points, 1)?;
     validate_weights("weights", weights, points.len())?;
-    weber::solve(points, weights, options.tol, options.max_iter)
+    weber::solve(points, weights, options.tol, options.max_iter, &watch.clock(None))
 }
 
 /// [`geodesic_weber_point`] for every group of a labelled cloud, in parallel.

@@ -130,3 +130,21 @@ proptest! {
         prop_assert!(r.radius - r.gap <= r.radius);
     }
 }
+
+#[test]
+fn a_cancelled_weber_run_stops_after_its_first_pass_and_counts_it() {
+    // Skewed weights over a 7 x 7 grid of lon/lat points: the start (the optimum of the
+    // spherical model) is not the geodesic optimum, so an unwatched run takes several passes.
+    let points: Vec<Point> = (0..49).map(|i| [10.0 + f64::from(i % 7) * 0.3, 45.0 + f64::from(i / 7) * 0.2]).collect();
+    let weights: Vec<f64> = (0..49).map(|i| 1.0 + f64::from(i % 5)).collect();
+    let full = geodesic_weber_point(&points, Weights::Given(&weights), &WeberOptions::default()).unwrap();
+    assert!(full.converged && full.iterations > 1, "{full:?}");
+    let watch = Watch::new();
+    watch.cancel();
+    let stopped =
+        geodesic_weber_point_watched(&points, Weights::Given(&weights), &WeberOptions::default(), &watch).unwrap();
+    assert_eq!(stopped.iterations, 1);
+    assert!(stopped.cost >= full.cost);
+    let (done, total) = watch.progress();
+    assert!(done == total && total == WeberOptions::default().max_iter as u64);
+}

@@ -4,10 +4,12 @@ use numpy::{PyArray1, PyArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
 
-use super::convert::{as_point_slice, count_arg, float_arg, region_arg, seed_arg};
+use super::convert::{as_point_slice, count_arg, float_arg, region_arg, seed_arg, time_limit_arg};
 use super::fields::Fields;
 use super::partition::cell_fields;
+use super::runtime::{progress_arg, run_watched};
 use super::{points_arg, run_detached, weights_arg};
+use crate::cancel::{RunLimits, Watch};
 use crate::capacity::{
     capacitated_p_median, capacity_allocation, capacity_cells, AllocationOptions, CapacitatedMedianOptions,
     CapacityAllocation, CellsOptions,
@@ -59,7 +61,8 @@ fn points_array<'py>(py: Python<'py>, points: &[Point]) -> PyResult<Bound<'py, P
 
 /// Fields: the allocation (per point, per site, parts of split points, totals).
 #[pyfunction]
-#[pyo3(signature = (points, sites, capacities, weights, split, allow_unserved))]
+#[pyo3(signature = (points, sites, capacities, weights, split, allow_unserved, time_limit=None, progress=None))]
+#[allow(clippy::too_many_arguments)]
 fn capacity_allocate<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
@@ -68,15 +71,20 @@ fn capacity_allocate<'py>(
     weights: Option<&Bound<'py, PyAny>>,
     split: bool,
     allow_unserved: bool,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
+    let limits = RunLimits { time_limit: time_limit_arg(time_limit)?, watch: Watch::new() };
+    let mut progress = progress_arg(progress, "capacity_allocation")?;
     let pts = points_arg(points, "points")?;
     let sts = points_arg(sites, "sites")?;
     let caps = capacities_arg(capacities)?;
     let w = weights_arg(weights, "weights")?;
     let (p, s, c) = (as_point_slice(&pts), as_point_slice(&sts), caps.as_slice()?);
     let w = w.as_ref().map(|w| w.as_slice()).transpose()?;
-    let options = AllocationOptions { split, allow_unserved };
-    let a = run_detached(py, || capacity_allocation(p, s, c, Weights::from_option(w), &options))?;
+    let options = AllocationOptions { split, allow_unserved, limits };
+    let watch = &options.limits.watch;
+    let a = run_watched(py, watch, &mut progress, || capacity_allocation(p, s, c, Weights::from_option(w), &options))?;
     Ok(allocation_fields(py, Fields::new(py), &a)?.done())
 }
 
@@ -124,7 +132,7 @@ fn capacity_p_median<'py>(
 /// load and slack, the totals and the solver's counts; the cells (vertices, offsets, parts,
 /// area, exterior as for Voronoi cells) and per site `cell_site` (-1: no cell).
 #[pyfunction]
-#[pyo3(signature = (points, sites, capacities, weights, tol, region_vertices, ring_offsets))]
+#[pyo3(signature = (points, sites, capacities, weights, tol, region_vertices, ring_offsets, time_limit=None, progress=None))]
 #[allow(clippy::too_many_arguments)]
 fn capacity_power_cells<'py>(
     py: Python<'py>,
@@ -135,8 +143,14 @@ fn capacity_power_cells<'py>(
     tol: &Bound<'py, PyAny>,
     region_vertices: Option<&Bound<'py, PyAny>>,
     ring_offsets: Option<&Bound<'py, PyAny>>,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
-    let options = CellsOptions { tol: float_arg(tol, "tol", "in (0, 1)", |t| t > 0.0 && t < 1.0)? };
+    let options = CellsOptions {
+        tol: float_arg(tol, "tol", "in (0, 1)", |t| t > 0.0 && t < 1.0)?,
+        limits: RunLimits { time_limit: time_limit_arg(time_limit)?, watch: Watch::new() },
+    };
+    let mut progress = progress_arg(progress, "capacity_cells")?;
     let pts = points_arg(points, "points")?;
     let sts = points_arg(sites, "sites")?;
     let caps = capacities_arg(capacities)?;
@@ -145,7 +159,9 @@ fn capacity_power_cells<'py>(
     let w = w.as_ref().map(|w| w.as_slice()).transpose()?;
     let region = region_arg(region_vertices, ring_offsets)?;
     let region = region.as_ref().map(|(v, o)| Region { vertices: as_point_slice(v), ring_offsets: o });
-    let r = run_detached(py, || capacity_cells(p, s, c, Weights::from_option(w), region, &options))?;
+    let watch = &options.limits.watch;
+    let r =
+        run_watched(py, watch, &mut progress, || capacity_cells(p, s, c, Weights::from_option(w), region, &options))?;
     let assignment: Vec<i64> = r.assignment.iter().map(|&j| j as i64).collect();
     let part_point: Vec<i64> = r.parts.iter().map(|e| e.0 as i64).collect();
     let part_site: Vec<i64> = r.parts.iter().map(|e| e.1 as i64).collect();

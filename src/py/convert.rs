@@ -261,6 +261,11 @@ pub(crate) fn optional_float_arg(
     }
 }
 
+/// `time_limit`: None, or seconds, finite and above zero.
+pub(crate) fn time_limit_arg(time_limit: Option<&Bound<'_, PyAny>>) -> PyResult<Option<f64>> {
+    optional_float_arg(time_limit, "time_limit", "finite and > 0 (seconds)", |t| t.is_finite() && t > 0.0)
+}
+
 /// `errors="raise"` or `errors="skip"`: what a grouped run does with a group without an answer.
 pub(crate) fn on_error_arg(obj: &str) -> PyResult<crate::batch::OnGroupError> {
     match obj {

@@ -6,11 +6,14 @@ use pyo3::prelude::*;
 use pyo3::types::{PyDict, PyTuple};
 
 use super::convert::{
-    as_point_slice, count_arg, float_arg, index_values, matrix_arg, optional_float_arg, points_arg, weights_arg,
+    as_point_slice, count_arg, float_arg, index_values, matrix_arg, optional_float_arg, points_arg, time_limit_arg,
+    weights_arg,
 };
 use super::errors::argument_error;
 use super::fields::Fields;
 use super::run_detached;
+use super::runtime::{progress_arg, run_watched, Progress};
+use crate::cancel::{RunLimits, Watch};
 use crate::discrete::{
     circle_intersections, cover_all, cover_most, discrete_p_center, discrete_p_median, euclidean_costs, evaluate_sites,
     with_planar_costs, CostMatrix, Costs, DiscreteMedianOptions, SiteService, SparseCosts, MAX_DOMINATING_CANDIDATES,
@@ -90,7 +93,18 @@ fn index_vec(obj: &Bound<'_, PyAny>, what: &str) -> PyResult<Vec<usize>> {
         .collect()
 }
 
-/// Run `kernel` on the checked costs and weights. `costs` is a dense `(n, m)` array, or a
+/// A model's stopping rule (a fresh watch and `time_limit`) and its progress report.
+fn watched<'py>(
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
+    label: &'static str,
+) -> PyResult<(RunLimits, Progress<'py>)> {
+    let limits = RunLimits { time_limit: time_limit_arg(time_limit)?, watch: Watch::new() };
+    Ok((limits, progress_arg(progress, label)?))
+}
+
+/// Run `kernel` on the checked costs and weights, watched by `limits` (Ctrl-C and
+/// `progress` reach it while it runs). `costs` is a dense `(n, m)` array, or a
 /// tagged tuple from the Python layer: `("csr", offsets, columns, values, n, m)` for the
 /// allowed pairs of a sparse matrix, `("planar", points, candidates)` for straight-line
 /// costs (held densely only when small; see `with_planar_costs`).
@@ -98,8 +112,10 @@ fn with_costs<'py, T: Send>(
     py: Python<'py>,
     costs: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
+    (limits, progress): (&RunLimits, &mut Progress<'py>),
     kernel: impl FnOnce(&Costs<'_>, Weights<'_>) -> crate::Result<T> + Send,
 ) -> PyResult<T> {
+    let watch = &limits.watch;
     let weights = weights_arg(weights, "weights")?;
     let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
     if let Ok(tagged) = costs.cast::<PyTuple>() {
@@ -112,7 +128,7 @@ fn with_costs<'py, T: Send>(
             let data: PyReadonlyArray1<'_, f64> = data.cast_into::<PyArray1<f64>>()?.readonly();
             let (rows, columns): (usize, usize) = (tagged.get_item(4)?.extract()?, tagged.get_item(5)?.extract()?);
             let values = data.as_slice()?;
-            return run_detached(py, || {
+            return run_watched(py, watch, progress, || {
                 let source = SparseCosts::new(&offsets, &indices, values, rows, columns)?;
                 kernel(&Costs::from(source), Weights::from_option(w))
             });
@@ -121,14 +137,18 @@ fn with_costs<'py, T: Send>(
             let pts = points_arg(&tagged.get_item(1)?, "points")?;
             let cands = points_arg(&tagged.get_item(2)?, "candidates")?;
             let (a, b) = (as_point_slice(&pts), as_point_slice(&cands));
-            return run_detached(py, || with_planar_costs(a, b, |c| kernel(c, Weights::from_option(w))));
+            return run_watched(py, watch, progress, || {
+                with_planar_costs(a, b, |c| kernel(c, Weights::from_option(w)))
+            });
         }
         return Err(argument_error("costs", "costs must be a matrix of shape (n, m)".to_string()));
     }
     let array = costs_arg(costs)?;
     let (rows, columns) = (array.shape()[0], array.shape()[1]);
     let values = array.as_slice()?;
-    run_detached(py, || kernel(&Costs::from(CostMatrix::new(values, rows, columns)?), Weights::from_option(w)))
+    run_watched(py, watch, progress, || {
+        kernel(&Costs::from(CostMatrix::new(values, rows, columns)?), Weights::from_option(w))
+    })
 }
 
 /// The Euclidean cost matrix `(n, m)` from points to candidates.
@@ -146,17 +166,23 @@ fn discrete_euclidean_costs<'py>(
 }
 
 /// Candidate sites for coverage anywhere in the plane within `radius` of `points` (the
-/// finite dominating set), `(k, 2)`.
+/// finite dominating set), `(k, 2)`; with `time_limit`, the candidates found by then (the
+/// points among them: still a set every point can be covered from).
 #[pyfunction]
+#[pyo3(signature = (points, radius, time_limit=None))]
 fn discrete_circle_candidates<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     radius: &Bound<'py, PyAny>,
+    time_limit: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyArray2<f64>>> {
     let radius = radius_arg(radius)?;
+    let (limits, mut progress) = watched(time_limit, None, "candidates")?;
     let pts = points_arg(points, "points")?;
     let a = as_point_slice(&pts);
-    let out = run_detached(py, || circle_intersections(a, radius, MAX_DOMINATING_CANDIDATES))?;
+    let out = run_watched(py, &limits.watch, &mut progress, || {
+        circle_intersections(a, radius, MAX_DOMINATING_CANDIDATES, &limits)
+    })?;
     let k = out.len();
     PyArray1::from_vec(py, out.into_iter().flatten().collect()).reshape([k, 2])
 }
@@ -173,13 +199,15 @@ fn discrete_evaluate<'py>(
 ) -> PyResult<Bound<'py, PyDict>> {
     let radius = optional_float_arg(radius, "radius", "finite and > 0", |r| r.is_finite() && r > 0.0)?;
     let sites = columns_arg(Some(sites), "sites")?;
-    let s = with_costs(py, costs, weights, |c, w| evaluate_sites(c, w, &sites, radius))?;
+    let quiet = (&RunLimits::default(), &mut Progress::Off);
+    let s = with_costs(py, costs, weights, quiet, |c, w| evaluate_sites(c, w, &sites, radius))?;
     Ok(service(py, Fields::new(py), &s)?.done())
 }
 
 /// Fields: the service, lower_bound, relative_gap, swaps, bound_iterations.
 #[pyfunction]
-#[pyo3(signature = (costs, p, weights, fixed, bound_iterations))]
+#[pyo3(signature = (costs, p, weights, fixed, bound_iterations, time_limit=None, progress=None))]
+#[allow(clippy::too_many_arguments)]
 fn discrete_p_median_single<'py>(
     py: Python<'py>,
     costs: &Bound<'py, PyAny>,
@@ -187,14 +215,19 @@ fn discrete_p_median_single<'py>(
     weights: Option<&Bound<'py, PyAny>>,
     fixed: Option<&Bound<'py, PyAny>>,
     bound_iterations: &Bound<'py, PyAny>,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let p = count_arg(p, "p", 1, usize::MAX)?;
+    let (limits, mut progress) = watched(time_limit, progress, "p_median")?;
     let options = DiscreteMedianOptions {
         bound_iterations: count_arg(bound_iterations, "bound_iterations", 0, usize::MAX)?,
+        limits,
         ..Default::default()
     };
     let fixed = columns_arg(fixed, "fixed")?;
-    let r = with_costs(py, costs, weights, |c, w| discrete_p_median(c, w, p, &fixed, &options))?;
+    let watched = (&options.limits, &mut progress);
+    let r = with_costs(py, costs, weights, watched, |c, w| discrete_p_median(c, w, p, &fixed, &options))?;
     Ok(service(py, Fields::new(py), &r.service)?
         .put("lower_bound", r.lower_bound)?
         .put("relative_gap", r.relative_gap)?
@@ -205,17 +238,21 @@ fn discrete_p_median_single<'py>(
 
 /// Fields: the service, lower_bound, relative_gap.
 #[pyfunction]
-#[pyo3(signature = (costs, p, weights, fixed))]
+#[pyo3(signature = (costs, p, weights, fixed, time_limit=None, progress=None))]
 fn discrete_p_center_single<'py>(
     py: Python<'py>,
     costs: &Bound<'py, PyAny>,
     p: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
     fixed: Option<&Bound<'py, PyAny>>,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let p = count_arg(p, "p", 1, usize::MAX)?;
+    let (limits, mut progress) = watched(time_limit, progress, "p_center")?;
     let fixed = columns_arg(fixed, "fixed")?;
-    let r = with_costs(py, costs, weights, |c, w| discrete_p_center(c, w, p, &fixed))?;
+    let r =
+        with_costs(py, costs, weights, (&limits, &mut progress), |c, w| discrete_p_center(c, w, p, &fixed, &limits))?;
     Ok(service(py, Fields::new(py), &r.service)?
         .put("lower_bound", r.lower_bound)?
         .put("relative_gap", r.relative_gap)?
@@ -224,17 +261,20 @@ fn discrete_p_center_single<'py>(
 
 /// Fields: the service (with coverage), chosen, lower_bound, relative_gap.
 #[pyfunction]
-#[pyo3(signature = (costs, radius, weights, fixed))]
+#[pyo3(signature = (costs, radius, weights, fixed, time_limit=None, progress=None))]
 fn discrete_cover_all<'py>(
     py: Python<'py>,
     costs: &Bound<'py, PyAny>,
     radius: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
     fixed: Option<&Bound<'py, PyAny>>,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let radius = radius_arg(radius)?;
+    let (limits, mut progress) = watched(time_limit, progress, "cover_all")?;
     let fixed = columns_arg(fixed, "fixed")?;
-    let r = with_costs(py, costs, weights, |c, w| cover_all(c, w, radius, &fixed))?;
+    let r = with_costs(py, costs, weights, (&limits, &mut progress), |c, w| cover_all(c, w, radius, &fixed, &limits))?;
     Ok(service(py, Fields::new(py), &r.service)?
         .put("chosen", r.chosen)?
         .put("lower_bound", r.lower_bound)?
@@ -244,7 +284,8 @@ fn discrete_cover_all<'py>(
 
 /// Fields: the service (with coverage), upper_bound, relative_gap, swaps.
 #[pyfunction]
-#[pyo3(signature = (costs, p, radius, weights, fixed))]
+#[pyo3(signature = (costs, p, radius, weights, fixed, time_limit=None, progress=None))]
+#[allow(clippy::too_many_arguments)]
 fn discrete_cover_most<'py>(
     py: Python<'py>,
     costs: &Bound<'py, PyAny>,
@@ -252,11 +293,15 @@ fn discrete_cover_most<'py>(
     radius: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
     fixed: Option<&Bound<'py, PyAny>>,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let p = count_arg(p, "p", 1, usize::MAX)?;
     let radius = radius_arg(radius)?;
+    let (limits, mut progress) = watched(time_limit, progress, "cover_most")?;
     let fixed = columns_arg(fixed, "fixed")?;
-    let r = with_costs(py, costs, weights, |c, w| cover_most(c, w, p, radius, &fixed))?;
+    let r =
+        with_costs(py, costs, weights, (&limits, &mut progress), |c, w| cover_most(c, w, p, radius, &fixed, &limits))?;
     Ok(service(py, Fields::new(py), &r.service)?
         .put("upper_bound", r.upper_bound)?
         .put("relative_gap", r.relative_gap)?

@@ -9,14 +9,14 @@ use pyo3::types::PyDict;
 
 use super::convert::{as_point_slice, count_arg, float_arg, index_array, index_values, on_error_arg, Cloud};
 use super::fields::Fields;
-use super::runtime::{progress_arg, run_watched};
+use super::runtime::{progress_arg, run_watched, Progress};
 use super::{labels_arg, points_arg, run_detached, weights_arg};
 use crate::batch::{Grouped, RowPlaces};
 use crate::cancel::Watch;
 use crate::geodesic::{
     geodesic_area, geodesic_circle, geodesic_distances, geodesic_enclosing_circle, geodesic_enclosing_circles,
     geodesic_length, geodesic_minimax_point, geodesic_minimax_points, geodesic_nearest_site_grouped,
-    geodesic_nearest_site_watched, geodesic_weber_point, geodesic_weber_points, CenterOptions,
+    geodesic_nearest_site_watched, geodesic_weber_point_watched, geodesic_weber_points, CenterOptions,
 };
 use crate::geometry::Weights;
 use crate::median::WeberOptions;
@@ -109,7 +109,12 @@ fn geodesic_weber_single<'py>(
     let options = weber_options(tol, max_iter)?;
     let cloud = Cloud::read(points, weights, None)?;
     let (pts, w) = (cloud.points(), cloud.weights()?);
-    let r = run_detached(py, || geodesic_weber_point(pts, Weights::from_option(w), &options))?;
+    // Watched so that Ctrl-C stops it between passes (a pass over 10⁶ points is a fraction
+    // of a second); it draws no progress.
+    let watch = Watch::new();
+    let r = run_watched(py, &watch, &mut Progress::Off, || {
+        geodesic_weber_point_watched(pts, Weights::from_option(w), &options, &watch)
+    })?;
     Ok(Fields::new(py)
         .put("location", PyArray1::from_slice(py, &r.location))?
         .put("cost", r.cost)?

@@ -7,7 +7,7 @@ use pyo3::types::PyDict;
 use std::sync::Arc;
 
 use super::convert::{
-    as_point_slice, count_arg, feasible_region_arg, index_values, on_error_arg, optional_float_arg, seed_arg, Cloud,
+    as_point_slice, count_arg, feasible_region_arg, index_values, on_error_arg, seed_arg, time_limit_arg, Cloud,
 };
 use super::errors::argument_error;
 use super::fields::Fields;
@@ -28,11 +28,6 @@ fn effort_arg(name: &str) -> PyResult<Effort> {
             Err(argument_error("effort", format!("effort must be \"fast\", \"normal\" or \"thorough\"; got {other:?}")))
         }
     }
-}
-
-/// `time_limit`: None, or seconds, finite and above zero.
-fn time_limit_arg(time_limit: Option<&Bound<'_, PyAny>>) -> PyResult<Option<f64>> {
-    optional_float_arg(time_limit, "time_limit", "finite and > 0 (seconds)", |t| t.is_finite() && t > 0.0)
 }
 
 /// The region's vertices and ring offsets, as given (both `None`: no region).

@@ -97,6 +97,10 @@ def build_parser() -> argparse.ArgumentParser:
     summary.add_argument("--summary", metavar="FILE", help="also write the totals table (format by extension)")
     seed = _Parser(add_help=False)
     seed.add_argument("--seed", type=int, default=0, help="seed of the randomised search [0]")
+    watch = _Parser(add_help=False)
+    watch.add_argument("--no-progress", action="store_true",
+                       help="no progress bar on stderr (shown by default when stderr is a terminal and not "
+                            "--quiet); Ctrl-C stops the computation either way")
 
     def command(name: str, run: Callable[[argparse.Namespace], None], text: str,
                 parents: Sequence[_Parser]) -> argparse.ArgumentParser:
@@ -104,7 +108,7 @@ def build_parser() -> argparse.ArgumentParser:
         p.set_defaults(run=run)
         return p
 
-    parents = SimpleNamespace(weight=weight, by=by, summary=summary, seed=seed)
+    parents = SimpleNamespace(weight=weight, by=by, summary=summary, seed=seed, watch=watch)
     for family in _FAMILIES:
         family.register(command, parents)
 

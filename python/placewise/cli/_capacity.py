@@ -7,7 +7,17 @@ import argparse
 from collections.abc import Callable
 from typing import Any
 
-from ._io import UserError, _common, _measure, _note, _unit_text, _write_summary, read_points, write_frame
+from ._io import (
+    UserError,
+    _common,
+    _measure,
+    _note,
+    _progress,
+    _unit_text,
+    _write_summary,
+    read_points,
+    write_frame,
+)
 
 
 def _cmd_capacity_allocation(args: argparse.Namespace) -> None:
@@ -16,7 +26,7 @@ def _cmd_capacity_allocation(args: argparse.Namespace) -> None:
     demand = read_points(args.input, args, "the demand", ("weight",))
     sites = read_points(args.sites, args, "the sites", ("capacity",), main=False)
     plan = gis.capacity_allocation(demand, sites, args.capacity, args.weight, split=not args.single_source,
-                                   allow_unserved=args.allow_unserved, **_common(args))
+                                   allow_unserved=args.allow_unserved, **_common(args), **_progress(args))
     write_frame(plan.demand, args.output, args, "allocation")
     if args.sites_out is not None:
         write_frame(plan.sites, args.sites_out, args, "site_loads")
@@ -39,7 +49,8 @@ def _cmd_capacity_cells(args: argparse.Namespace) -> None:
     demand = read_points(args.input, args, "the demand", ("weight",))
     sites = read_points(args.sites, args, "the sites", ("capacity",), main=False)
     region = None if args.region is None else read_points(args.region, args, "the region", (), main=False)
-    plan = gis.capacity_cells(demand, sites, args.capacity, args.weight, region=region, **_common(args))
+    plan = gis.capacity_cells(demand, sites, args.capacity, args.weight, region=region, **_common(args),
+                              **_progress(args))
     write_frame(plan.cells, args.output, args, "cells")
     if args.demand_out is not None:
         write_frame(plan.demand, args.demand_out, args, "allocation")
@@ -81,7 +92,7 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
     """Add this family's subcommands through ``command(name, run, help, parent_parsers)``."""
     p = command("capacity-allocation", _cmd_capacity_allocation,
                 "serve the demand from sites with capacities at least total weighted distance",
-                [parents.weight, parents.summary])
+                [parents.weight, parents.summary, parents.watch])
     p.add_argument("--sites", metavar="FILE", required=True, help="the sites, with a capacity column")
     p.add_argument("--capacity", metavar="COLUMN", required=True,
                    help="column of the sites file holding the demand each site can serve (in --weight units)")
@@ -94,7 +105,7 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
     p.add_argument("--parts", metavar="FILE", help="also write one row per part of a row split between sites")
     p = command("capacity-cells", _cmd_capacity_cells,
                 "capacity-constrained catchments: each site's cell holding its capacity of demand, as polygons",
-                [parents.weight, parents.summary])
+                [parents.weight, parents.summary, parents.watch])
     p.add_argument("--sites", metavar="FILE", required=True, help="the sites, with a capacity column")
     p.add_argument("--capacity", metavar="COLUMN", required=True,
                    help="column of the sites file holding the demand each site serves (in --weight units)")

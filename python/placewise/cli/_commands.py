@@ -18,6 +18,7 @@ from ._io import (
     _note,
     _positive_float,
     _positive_int,
+    _progress,
     _skipped,
     _solved,
     _unit_text,
@@ -141,7 +142,7 @@ def _cmd_spanning_tree(args: argparse.Namespace) -> None:
 def _cmd_steiner_tree(args: argparse.Namespace) -> None:
     from .. import gis
 
-    options: dict[str, Any] = {"exact": args.exact, "seed": args.seed}
+    options: dict[str, Any] = {"exact": args.exact, "seed": args.seed, **_progress(args)}
     if args.time_limit is not None:
         options["time_limit"] = args.time_limit
     net = gis.steiner_tree(read_points(args.input, args), **_by(args), **_common(args), **options)
@@ -159,9 +160,12 @@ def _plan_command(kind: str, args: argparse.Namespace) -> None:
         if args.fixed is not None:
             options["fixed"] = read_points(args.fixed, args, "the existing sites", (), main=False)
         options.update(_capacity.capacity_options(args, options))
+        if "capacities" not in options:
+            # The capacitated search reports no progress (it has no such form).
+            options.update(_progress(args))
         plan = gis.p_median(frame, args.p, args.weight, **_by(args), **_common(args), **options)
     else:
-        plan = gis.p_center(frame, args.p, args.weight, **_by(args), **_common(args), **options)
+        plan = gis.p_center(frame, args.p, args.weight, **_by(args), **_common(args), **options, **_progress(args))
     write_frame(plan.sites, args.output, args, "sites")
     if args.assignment is not None:
         write_frame(plan.demand, args.assignment, args, "assignment")
@@ -188,7 +192,7 @@ def _cmd_demo(args: argparse.Namespace) -> None:
 
 def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> None:
     """Add this family's subcommands through ``command(name, run, help, parent_parsers)``."""
-    weight, by, summary, seed = parents.weight, parents.by, parents.summary, parents.seed
+    weight, by, summary, seed, watch = parents.weight, parents.by, parents.summary, parents.seed, parents.watch
     p = command("weber-point", _cmd_weber_point, "the site minimising total weighted distance (Fermat-Weber point)",
                 [weight, by])
     p.add_argument("--metric", choices=["euclidean", "manhattan"], default="euclidean",
@@ -214,7 +218,8 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
     command("spanning-tree", _cmd_spanning_tree, "the Euclidean minimum spanning tree linking the points",
             [by, summary])
     p = command("steiner-tree", _cmd_steiner_tree,
-                "the shortest network linking the points, with added junctions (Steiner tree)", [by, seed, summary])
+                "the shortest network linking the points, with added junctions (Steiner tree)",
+                [by, seed, summary, watch])
     mode = p.add_mutually_exclusive_group()
     mode.add_argument("--exact", dest="exact", action="store_const", const=True, default=None,
                       help="insist on a proven optimum")
@@ -222,7 +227,7 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
     p.add_argument("--time-limit", type=_positive_float, metavar="SECONDS", help="time allowed for the exact search")
     for name, kind, text in (("p-median", "median", "p sites minimising total weighted distance"),
                              ("p-center", "center", "p sites minimising the largest weighted distance")):
-        p = command(name, functools.partial(_plan_command, kind), text, [weight, by, seed, summary])
+        p = command(name, functools.partial(_plan_command, kind), text, [weight, by, seed, summary, watch])
         p.add_argument("-p", type=_positive_int, required=True, help="number of sites (per group)")
         p.add_argument("--assignment", metavar="FILE", help="also write the input rows with their site and distance")
         add_place_options(p)

@@ -13,6 +13,7 @@ from ._io import (
     _note,
     _positive_float,
     _positive_int,
+    _progress,
     _unit_text,
     _write_summary,
     read_points,
@@ -60,7 +61,7 @@ def _cmd_cover_all(args: argparse.Namespace) -> None:
     from .. import gis
 
     frame = read_points(args.input, args, flags=("weight",))
-    plan = gis.cover_all(frame, args.radius, args.weight, **place_options(args), **_common(args))
+    plan = gis.cover_all(frame, args.radius, args.weight, **place_options(args), **_common(args), **_progress(args))
     _write_plan(plan, args)
     s = plan.summary
     _note(args, f"{int(s['sites'].iloc[0])} site(s), at least {int(s['lower_bound'].iloc[0])} needed (proven); "
@@ -73,7 +74,7 @@ def _cmd_cover_most(args: argparse.Namespace) -> None:
     frame = read_points(args.input, args, flags=("weight",))
     fixed = None if args.fixed is None else read_points(args.fixed, args, "the existing sites", (), main=False)
     plan = gis.cover_most(frame, args.p, args.radius, args.weight, fixed=fixed, **place_options(args),
-                          **_common(args))
+                          **_common(args), **_progress(args))
     _write_plan(plan, args)
     s = plan.summary
     existing = int(plan.sites["fixed"].sum())
@@ -103,16 +104,16 @@ def _cmd_evaluate_sites(args: argparse.Namespace) -> None:
 
 def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> None:
     """Add this family's subcommands through ``command(name, run, help, parent_parsers)``."""
-    weight, summary = parents.weight, parents.summary
+    weight, summary, watch = parents.weight, parents.summary, parents.watch
     radius_help = ("the coverage standard: metres for longitude/latitude input, else the CRS's unit "
                    "(coordinate units with --planar)")
     p = command("cover-all", _cmd_cover_all, "the fewest sites putting every point within a radius (set covering)",
-                [weight, summary])
+                [weight, summary, watch])
     p.add_argument("--radius", type=_positive_float, required=True, help=radius_help)
     add_place_options(p)
     _add_assignment(p)
     p = command("cover-most", _cmd_cover_most, "p sites covering the most weight within a radius (maximal covering)",
-                [weight, summary])
+                [weight, summary, watch])
     p.add_argument("-p", type=_positive_int, required=True, help="number of new sites")
     p.add_argument("--radius", type=_positive_float, required=True, help=radius_help)
     add_place_options(p)

@@ -333,6 +333,15 @@ def _common(args: argparse.Namespace) -> dict[str, Any]:
             "max_scale_error": args.max_scale_error}
 
 
+def _progress(args: argparse.Namespace) -> dict[str, Any]:
+    """``progress=True`` for a long computation when stderr is a terminal, where a person
+    watches the bar; nothing with ``--no-progress`` or ``--quiet``, or when stderr goes to a
+    file or pipe (a bar there is noise in a log)."""
+    if getattr(args, "no_progress", False) or args.quiet or not sys.stderr.isatty():
+        return {}
+    return {"progress": True}
+
+
 def _by(args: argparse.Namespace) -> dict[str, Any]:
     return {"by": args.by, "errors": args.errors}
 

@@ -77,7 +77,7 @@ class CellLayers(NamedTuple):
 def capacity_allocation(
     demand: Any, sites: Any, capacity: Any, weight: Any = None, *, split: bool = True,
     allow_unserved: bool = False, planar: bool = False, centroids: bool = False, work_crs: Any = None,
-    max_scale_error: float = MAX_SCALE_ERROR,
+    max_scale_error: float = MAX_SCALE_ERROR, time_limit: float | None = None, progress: Any = False,
 ) -> AllocationLayers:
     """Serve the demand rows from capacitated sites at least total straight-line distance.
 
@@ -101,6 +101,9 @@ def capacity_allocation(
         instead of raising an ``InputError`` that states the shortfall.
     planar, centroids, work_crs, max_scale_error
         As in :func:`placewise.gis.weber_point`.
+    time_limit, progress
+        As in :func:`placewise.capacity_allocation` (a limit that passes before the plan is
+        an ``InputError``; a progress bar or callable).
 
     Returns
     -------
@@ -126,7 +129,7 @@ def capacity_allocation(
     caps = column(sf.frame, capacity, "sites", "capacity")
     rows = {"points": df.rows, "weights": df.rows, "sites": sf.rows, "capacities": sf.rows}
     result = call(_pw.capacity_allocation, df.xy, sf.xy, caps, weights(df, weight, "demand"), rows=rows,
-                  split=split, allow_unserved=allow_unserved)
+                  split=split, allow_unserved=allow_unserved, time_limit=time_limit, progress=progress)
     result = with_unit(result, df)
     site_labels = sf.rows
     site_table = result.sites_frame()
@@ -157,6 +160,7 @@ def capacities_of(candidates: Any, capacity: Any, *, planar: bool, centroids: bo
 def capacity_cells(
     demand: Any, sites: Any, capacity: Any, weight: Any = None, *, region: Any = None, tol: float = 1e-9,
     planar: bool = False, centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
+    time_limit: float | None = None, progress: Any = False,
 ) -> CellLayers:
     """Capacity-constrained catchments (:func:`placewise.capacity_cells`) of the sites
     frame, in the working CRS (a UTM zone for geographic input), with the cells as polygons.
@@ -176,6 +180,9 @@ def capacity_cells(
         Relative tolerance on the totals.
     planar, centroids, work_crs, max_scale_error
         As in :func:`placewise.gis.weber_point`.
+    time_limit, progress
+        As in :func:`placewise.capacity_cells` (a limit that passes before the plan is
+        an ``InputError``; a progress bar or callable).
 
     Returns
     -------
@@ -203,7 +210,7 @@ def capacity_cells(
     geom = region_geometry(region, df, "demand")
     rows = {"points": df.rows, "weights": df.rows, "sites": sf.rows, "capacities": sf.rows}
     result = with_unit(call(_pw.capacity_cells, df.xy, sf.xy, caps, weights(df, weight, "demand"), region=geom,
-                            tol=tol, rows=rows), df)
+                            tol=tol, rows=rows, time_limit=time_limit, progress=progress), df)
     table = result.sites_frame()
     out_sites = sf.frame.copy()
     for name in table.columns.drop(["x", "y"]):

@@ -129,6 +129,7 @@ def _rows(pf: Prepared) -> dict[str, Any]:
 def cover_all(
     frame: Any, radius: float, weight: Any = None, candidates: Any = None, *, planar: bool = False,
     centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
+    time_limit: float | None = None, progress: Any = False,
 ) -> Any:
     """The fewest sites putting every demand row within ``radius`` (location set covering).
 
@@ -152,6 +153,9 @@ def cover_all(
     planar, centroids, work_crs, max_scale_error
         As in :func:`placewise.gis.weber_point`; for geographic input the working frame is
         chosen over the demand and the candidates together.
+    time_limit, progress
+        As in :func:`placewise.cover_all`: seconds after which the cover found so far comes
+        back with the bound proven so far, and a progress bar (True) or callable.
 
     Returns
     -------
@@ -198,7 +202,8 @@ def cover_all(
     cf = companions.get("candidates")
     try:
         result = call(_pw.cover_all, pf.xy, radius, rows={**_rows(pf), "radius": pf.rows},
-                      weights=weights(pf, weight, "frame"), candidates=None if cf is None else cf.xy)
+                      weights=weights(pf, weight, "frame"), candidates=None if cf is None else cf.xy,
+                      time_limit=time_limit, progress=progress)
     except InputError as exc:
         raise _candidate_named(exc, None if cf is None else cf.rows) from None
     sources = Sources()
@@ -212,6 +217,7 @@ def cover_all(
 def cover_most(
     frame: Any, p: int, radius: float, weight: Any = None, candidates: Any = None, fixed: Any = None, *,
     planar: bool = False, centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
+    time_limit: float | None = None, progress: Any = False,
 ) -> Any:
     """``p`` new sites covering the most demand weight within ``radius`` (maximal covering).
 
@@ -233,8 +239,9 @@ def cover_most(
         Where new sites may go. Default: anywhere.
     fixed : GeoDataFrame or GeoSeries of points, optional
         Existing sites, open whatever the plan (``p`` counts only new ones).
-    planar, centroids, work_crs, max_scale_error
-        As in :func:`cover_all`.
+    planar, centroids, work_crs, max_scale_error, time_limit, progress
+        As in :func:`cover_all` (the time limit counts from the start of the model, after
+        the candidates anywhere are found).
 
     Returns
     -------
@@ -285,7 +292,7 @@ def cover_most(
         where = np.concatenate([where, ff.xy])
         sources.add("fixed", ff)
     result = call(_pw.cover_most, pf.xy, p, radius, weights(pf, weight, "frame"), rows=rows, candidates=where,
-                  **options)
+                  time_limit=time_limit, progress=progress, **options)
     return selection_plan(result, pf, sources)
 
 

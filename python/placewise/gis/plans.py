@@ -141,7 +141,11 @@ def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bo
           errors: str, options: dict[str, Any], model: dict[str, Any], fixed: Any = None,
           candidates: Any = None, region: Any = None) -> SitePlan:
     if candidates is not None and options.get("capacities") is None:
-        return _plan_on_candidates(kind, frame, p, weight, by, planar, centroids, model, fixed, candidates, region)
+        # Of the search options, only the stopping rule and the progress report apply to the
+        # discrete models (they are deterministic).
+        watch: dict[str, Any] = {k: options[k] for k in ("time_limit", "progress") if k in options}
+        return _plan_on_candidates(kind, frame, p, weight, by, planar, centroids, model, fixed, candidates, region,
+                                   watch)
     # Each group in a frame of its own, unless existing sites or a region must share the
     # demand's frame (chosen over all of them).
     pf, companions = prepare_together(frame, "frame", {"fixed": fixed}, planar=planar, centroids=centroids,
@@ -189,7 +193,8 @@ def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bo
 
 
 def _plan_on_candidates(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bool, centroids: bool,
-                        model: dict[str, Any], fixed: Any, candidates: Any, region: Any) -> SitePlan:
+                        model: dict[str, Any], fixed: Any, candidates: Any, region: Any,
+                        watch: dict[str, Any]) -> SitePlan:
     """The discrete p-median or p-center (:mod:`placewise.discrete`) on straight-line
     distances to the rows of ``candidates`` that the region holds; existing sites are
     appended to them as open candidates (they may lie outside the region)."""
@@ -213,7 +218,7 @@ def _plan_on_candidates(kind: str, frame: Any, p: int, weight: Any, by: str | No
         sources.add("fixed", ff)
     kernel = _pw.p_median if kind == "median" else _pw.p_center
     rows = {"points": pf.rows, "weights": pf.rows}
-    result = call(kernel, pf.xy, p, weights(pf, weight, "frame"), candidates=where, rows=rows, **options)
+    result = call(kernel, pf.xy, p, weights(pf, weight, "frame"), candidates=where, rows=rows, **options, **watch)
     return selection_plan(result, pf, sources)
 
 
@@ -268,7 +273,8 @@ def p_median(
         With ``candidates``, the capacitated p-median chooses among them and its tables
         are those described below.
     **options
-        Passed to :func:`placewise.p_median` (``seed``, ``effort``; unused with candidates).
+        Passed to :func:`placewise.p_median` (``seed``, ``effort``, ``time_limit``,
+        ``progress``; with candidates only ``time_limit`` and ``progress`` apply).
 
     Returns
     -------

@@ -38,8 +38,9 @@ mod smooth;
 use assign::{power_nearest_with_gap, Candidates};
 use smooth::Smoothed;
 
-use super::transport::{solve_from, Reach};
+use super::transport::{solve_from_watched, Reach};
 use super::validate;
+use crate::cancel::{Clock, RunLimits, Steps};
 use crate::error::{Error, Result};
 use crate::geometry::{distance_squared, location_key, BoundingBox, CompensatedSum, FeasibleRegion, Point, Weights};
 use crate::partition::{default_rings, power_cells, Region, VoronoiCells};
@@ -55,16 +56,24 @@ macro_rules! stage {
 }
 
 /// Options of [`capacity_cells`].
-#[derive(Debug, Clone, Copy)]
+#[derive(Debug, Clone)]
 pub struct CellsOptions {
     /// Relative tolerance on the totals: total capacity within `tol` of total demand counts
     /// as equal (capacities are scaled to the demand).
     pub tol: f64,
+    /// Deadline and cancel flag, polled every Newton step and every few augmenting paths
+    /// of the exact finish. The plan meets the capacities only once the finish ends, so a
+    /// run stopped early fails (see [`super::stopped`]); progress counts Newton steps (at
+    /// most [`NEWTON_STEPS`]) and the finish.
+    pub limits: RunLimits,
 }
+
+/// Most Newton steps over both levels of the smoothed problem.
+pub const NEWTON_STEPS: usize = 400;
 
 impl Default for CellsOptions {
     fn default() -> Self {
-        CellsOptions { tol: 1e-9 }
+        CellsOptions { tol: 1e-9, limits: RunLimits::default() }
     }
 }
 
@@ -148,6 +157,8 @@ pub fn capacity_cells(
         return Err(Error::InvalidParameter { name: "tol", reason: format!("tol must be in (0, 1); got {tol}") });
     }
     let (demand_total, capacity_total) = validate(points, sites, capacities, weights)?;
+    let clock = options.limits.clock();
+    let mut progress = Steps::new(&clock.watch, NEWTON_STEPS as u64 + 1);
     if capacity_total < demand_total * (1.0 - tol) {
         return Err(Error::Shortfall { demand: demand_total, capacity: capacity_total });
     }
@@ -180,13 +191,23 @@ pub fn capacity_cells(
     stage!("pattern {:?}", t0.elapsed());
     // The first level gives the powers their large-scale shape; the lists are then drawn
     // again by power distance (see `assign`) for the finer levels and the finish.
-    let (w, _, first_steps) = smoothed.solve(vec![0.0; groups.sites.len()], (start_eps, start_eps), 400, true, false);
+    let zero = vec![0.0; groups.sites.len()];
+    let (w, _, first_steps) =
+        smoothed.solve(zero, (start_eps, start_eps), NEWTON_STEPS, true, false, (&clock, &mut progress));
+    if clock.stop() {
+        return Err(super::stopped());
+    }
     drop(smoothed);
     let candidates = Candidates::new(points, &groups.sites, &w);
     let smoothed = Smoothed::new(points, &demand, &groups.sites, &groups.capacity, surplus, &candidates);
     stage!("first level {first_steps} steps, lists again {:?}", t0.elapsed());
     let next_eps = (start_eps / 4.0).max(final_eps);
-    let (mut w, eps, newton_steps) = smoothed.solve(w, (next_eps, final_eps), 400 - first_steps, false, true);
+    let watched = (&clock, &mut progress);
+    let (mut w, eps, newton_steps) =
+        smoothed.solve(w, (next_eps, final_eps), NEWTON_STEPS - first_steps, false, true, watched);
+    if clock.stop() {
+        return Err(super::stopped());
+    }
     let newton_steps = newton_steps + first_steps;
     normalise(&mut w);
     stage!("newton {:?} steps {newton_steps} eps {eps:e}", t0.elapsed());
@@ -195,7 +216,8 @@ pub fn capacity_cells(
     // at 3·10⁵ points, 16 ε left so few points per boundary that the exact prices moved
     // past the band (ten times the kept points turned out in the wrong cell, and a second
     // round took ten times the augmenting paths).
-    let finish = exact_finish(points, &demand, &groups, &candidates, w, 64.0 * eps, 1e-12 * scale)?;
+    let finish = exact_finish(points, &demand, &groups, &candidates, w, (64.0 * eps, 1e-12 * scale), &clock)?;
+    progress.finish();
     stage!("finish {:?} exact {} aug {}", t0.elapsed(), finish.exact_points, finish.augmentations);
     // The cells of the final powers, one per location with capacity, then laid out by site.
     let boxed = default_box.as_ref().map(|ring| Region { vertices: ring, ring_offsets: &[0, 4] });
@@ -301,8 +323,8 @@ fn exact_finish(
     groups: &Locations,
     candidates: &Candidates,
     w: Vec<f64>,
-    margin: f64,
-    slop: f64,
+    (margin, slop): (f64, f64),
+    clock: &Clock,
 ) -> Result<Finish> {
     let n = points.len();
     let m = groups.sites.len();
@@ -371,12 +393,19 @@ fn exact_finish(
         }
         let t1 = std::time::Instant::now();
         let plan = if everything {
-            solve_from(&sub_demand, &residual, &cost, &prices, Reach::All)?
+            solve_from_watched(&sub_demand, &residual, &cost, &prices, Reach::All, clock)?
         } else {
             // A site whose listing points cannot reach a site with room makes the sparse
             // problem infeasible: then every pair is allowed.
-            solve_from(&sub_demand, &residual, &cost, &prices, Reach::Listed { start: &start, sites: &listed })
-                .or_else(|_| solve_from(&sub_demand, &residual, &cost, &prices, Reach::All))?
+            let reach = Reach::Listed { start: &start, sites: &listed };
+            // A stop is final; any other failure of the listed sites falls back to all of them.
+            solve_from_watched(&sub_demand, &residual, &cost, &prices, reach, clock).or_else(|e| {
+                if clock.stop() {
+                    Err(e)
+                } else {
+                    solve_from_watched(&sub_demand, &residual, &cost, &prices, Reach::All, clock)
+                }
+            })?
         };
         stage!("round {round} open {} aug {} in {:?}", open.len(), plan.augmentations, t1.elapsed());
         prices.clone_from(&plan.price);
@@ -618,6 +647,23 @@ mod tests {
             capacity_cells(&points, &sites, &[10.0, 10.0, 10.0, 0.0], Weights::Unit, None, &CellsOptions::default())
                 .unwrap_err();
         assert_eq!(e, Error::Shortfall { demand: 400.0, capacity: 30.0 });
+    }
+
+    #[test]
+    fn a_stopped_run_fails_naming_the_time_limit_and_progress_ends_at_the_total() {
+        let points = lcg_cloud(600, 4, [5.0, 5.0], 4.0);
+        let sites = [[3.0, 3.0], [7.0, 7.0], [7.0, 3.0]];
+        let caps = [250.0, 200.0, 150.0];
+        let expired =
+            CellsOptions { limits: RunLimits { time_limit: Some(0.0), ..Default::default() }, ..Default::default() };
+        let e = capacity_cells(&points, &sites, &caps, Weights::Unit, None, &expired).unwrap_err();
+        assert!(matches!(e, Error::InvalidParameter { name: "time_limit", .. }), "{e}");
+        let watch = crate::cancel::Watch::new();
+        let watched =
+            CellsOptions { limits: RunLimits { time_limit: None, watch: watch.clone() }, ..Default::default() };
+        let c = capacity_cells(&points, &sites, &caps, Weights::Unit, None, &watched).unwrap();
+        let (done, total) = watch.progress();
+        assert!(c.newton_steps > 0 && done == total && total == NEWTON_STEPS as u64 + 1);
     }
 
     #[test]

@@ -28,6 +28,7 @@
 use rayon::prelude::*;
 
 use super::assign::Candidates;
+use crate::cancel::{Clock, Steps};
 use crate::geometry::{distance_squared, Point};
 
 /// Probabilities below this are left out of the Hessian.
@@ -371,6 +372,7 @@ impl<'a> Smoothed<'a> {
         max_steps: usize,
         from_zero: bool,
         last: bool,
+        (clock, progress): (&Clock, &mut Steps<'_>),
     ) -> (Vec<f64>, f64, usize) {
         let total: f64 = self.capacity.iter().sum();
         let mut eps = start_eps;
@@ -380,7 +382,8 @@ impl<'a> Smoothed<'a> {
             // step (the usual case): the next step starts from it instead of evaluating again.
             let mut current: Option<Evaluation> = None;
             for _ in 0..30 {
-                if steps >= max_steps {
+                // A stop returns the powers so far (the caller then has no plan to give).
+                if steps >= max_steps || clock.stop() {
                     return (w, eps, steps);
                 }
                 let e = current.take().unwrap_or_else(|| self.evaluate(&w, eps, true));
@@ -393,6 +396,7 @@ impl<'a> Smoothed<'a> {
                     break;
                 }
                 steps += 1;
+                progress.step();
                 let mut d = solve_laplacian(&e, &self.pattern.pair_sites, self.sites.len());
                 // Keep a step within a few smoothing widths (a site no point lists has no
                 // curvature: its step is otherwise unbounded).

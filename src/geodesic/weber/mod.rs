@@ -51,6 +51,7 @@ use model::model_optimum;
 use step::{sampled_newton_target, SAMPLED_STEP_MIN_POINTS};
 
 use super::earth::{angle_between, from_normal, unit_normal, Earth};
+use crate::cancel::{Clock, Steps};
 use crate::error::{Error, Result};
 use crate::geometry::{CompensatedSum, Point, Weights};
 use crate::median::WeberPoint;
@@ -141,6 +142,9 @@ struct Pass {
     nearest: usize,
     nearest_dist: f64,
     nearest_dir: Point,
+    /// False when the clock stopped the pass before every point was seen: its sums are
+    /// partial and must not be used.
+    complete: bool,
 }
 
 impl Pass {
@@ -155,10 +159,12 @@ impl Pass {
             nearest: usize::MAX,
             nearest_dist: f64::INFINITY,
             nearest_dir: [0.0, 0.0],
+            complete: true,
         }
     }
 
     fn merge(&mut self, other: &Pass) {
+        self.complete &= other.complete;
         self.cost.merge(other.cost);
         self.grad[0].merge(other.grad[0]);
         self.grad[1].merge(other.grad[1]);
@@ -197,6 +203,7 @@ struct Problem<'a> {
     total_weight: f64,
     certified: bool,
     spread: Spread,
+    clock: &'a Clock,
 }
 
 impl Problem<'_> {
@@ -250,7 +257,14 @@ impl Problem<'_> {
             .points
             .par_chunks(CHUNK)
             .enumerate()
-            .map(|(c, chunk)| self.pass_over(x, c * CHUNK, chunk, curvature))
+            .map(|(c, chunk)| {
+                // Asked per chunk (about a millisecond of work) so that Ctrl-C lands within
+                // a fraction of a pass.
+                if self.clock.stop() {
+                    return Pass { complete: false, ..Pass::empty() };
+                }
+                self.pass_over(x, c * CHUNK, chunk, curvature)
+            })
             .collect();
         let mut total = Pass::empty();
         for partial in &partials {
@@ -333,7 +347,30 @@ fn data_point_looks_optimal(problem: &Problem<'_>, pass: &Pass) -> bool {
 }
 
 /// Solve. Inputs validated (longitude/latitude, weights); at least one weight positive.
-pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: usize) -> Result<WeberPoint> {
+/// Stops at the point reached when `clock` says so (polled before every pass over the
+/// points); every pass is a step of the clock's watch, planned as `max_iter` and closed at
+/// the end.
+pub(crate) fn solve(
+    points: &[Point],
+    weights: Weights<'_>,
+    tol: f64,
+    max_iter: usize,
+    clock: &Clock,
+) -> Result<WeberPoint> {
+    let mut steps = Steps::new(&clock.watch, max_iter as u64);
+    let result = descend(points, weights, tol, max_iter, clock, &mut steps);
+    steps.finish();
+    result
+}
+
+fn descend(
+    points: &[Point],
+    weights: Weights<'_>,
+    tol: f64,
+    max_iter: usize,
+    clock: &Clock,
+    steps: &mut Steps<'_>,
+) -> Result<WeberPoint> {
     let spread = spread(points, weights);
     within_hemisphere(&spread, "Fermat–Weber objective")?;
     let mut total = CompensatedSum::default();
@@ -351,6 +388,15 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
         total_weight: total.total(),
         certified: spread.radius_degrees <= CONVEX_CAP_DEGREES,
         spread,
+        clock,
+    };
+    // The answer of a run stopped during its first exact pass: no cost is known yet.
+    let unfinished = |x: Point, iterations: usize| WeberPoint {
+        location: [super::earth::normalised_longitude(x[0]), x[1]],
+        cost: f64::NAN,
+        gap: f64::INFINITY,
+        iterations,
+        converged: false,
     };
     let finish = |x: Point, pass: &Pass, iterations: usize| {
         let gap = problem.gap(x, pass);
@@ -368,6 +414,9 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
     if w_max >= problem.total_weight - w_max {
         let x = points[heaviest];
         let mut pass = problem.evaluate(x);
+        if !pass.complete {
+            return Ok(unfinished(x, 1));
+        }
         // Optimal exactly: the subgradient ball contains zero.
         pass.eta = pass.eta.max(pass.gradient()[0].hypot(pass.gradient()[1]));
         let mut r = finish(x, &pass, 1);
@@ -376,7 +425,7 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
         return Ok(r);
     }
 
-    let model = model_optimum(points, weights, spread.centre);
+    let model = model_optimum(points, weights, spread.centre, clock);
     let mut x = model.location;
     // From a sampled step the first exact pass is expected to certify the answer, so it
     // skips the Hessian; when it does not certify, the pass is made again with it.
@@ -389,7 +438,11 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
     }
     drop(model);
     let mut current = problem.evaluate_with(x, !sampled);
+    if !current.complete {
+        return Ok(unfinished(x, 1));
+    }
     let mut evaluations = 1;
+    steps.step();
     let mut last_tested: Option<(usize, f64)> = None;
     loop {
         let done = if problem.certified {
@@ -397,13 +450,20 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
         } else {
             problem.stationary(&current, tol)
         };
-        if done || current.cost() == 0.0 || evaluations >= max_iter {
+        // A stop ends the descent at the point reached; it is asked before every pass over
+        // the points (the only long work), so it takes effect within one pass.
+        if done || current.cost() == 0.0 || evaluations >= max_iter || clock.stop() {
             return Ok(finish(x, &current, evaluations));
         }
         if sampled {
             sampled = false;
-            current = problem.evaluate(x);
+            let full = problem.evaluate(x);
             evaluations += 1;
+            if !full.complete {
+                return Ok(finish(x, &current, evaluations));
+            }
+            current = full;
+            steps.step();
             continue;
         }
         if current.eta == 0.0 && data_point_looks_optimal(&problem, &current) {
@@ -415,8 +475,15 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
             if retry {
                 last_tested = Some((k, current.nearest_dist));
                 let at = points[k];
+                if clock.stop() {
+                    return Ok(finish(x, &current, evaluations));
+                }
                 let trial = problem.evaluate(at);
+                if !trial.complete {
+                    return Ok(finish(x, &current, evaluations));
+                }
                 evaluations += 1;
+                steps.step();
                 if progresses(&trial, &current) {
                     x = at;
                     current = trial;
@@ -430,8 +497,15 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
         if current.eta == 0.0 {
             if let Some(step) = newton_step(&current) {
                 let xn = problem.earth.exp(x, step);
+                if clock.stop() {
+                    return Ok(finish(x, &current, evaluations));
+                }
                 let trial = problem.evaluate(xn);
+                if !trial.complete {
+                    return Ok(finish(x, &current, evaluations));
+                }
                 evaluations += 1;
+                steps.step();
                 if progresses(&trial, &current) {
                     x = xn;
                     current = trial;
@@ -448,8 +522,15 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, tol: f64, max_iter: 
         let mut moved = false;
         for _ in 0..4 {
             let xw = problem.earth.exp(x, step);
+            if clock.stop() {
+                return Ok(finish(x, &current, evaluations));
+            }
             let trial = problem.evaluate(xw);
+            if !trial.complete {
+                return Ok(finish(x, &current, evaluations));
+            }
             evaluations += 1;
+            steps.step();
             if progresses(&trial, &current) {
                 x = xw;
                 current = trial;
@@ -481,7 +562,7 @@ mod tests {
         let mut normal = || (0..12).map(|_| rng.next_f64()).sum::<f64>() - 6.0;
         let points: Vec<Point> = (0..20_000).map(|_| [10.0 + 3.5 * normal(), 51.0 + 2.0 * normal()]).collect();
         let weights: Vec<f64> = (0..points.len()).map(|i| 1.0 + (i % 7) as f64).collect();
-        let r = solve(&points, Weights::Given(&weights), 1e-10, 100).unwrap();
+        let r = solve(&points, Weights::Given(&weights), 1e-10, 100, &Clock::unlimited()).unwrap();
         assert!(r.converged && r.iterations <= 3, "{r:?}");
         // Brute force with GeographicLib's distance: no point 1 m away does better.
         let earth = Earth::wgs84();

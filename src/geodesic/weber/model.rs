@@ -5,6 +5,7 @@
 use rayon::prelude::*;
 
 use super::{newton_2x2, CHUNK, PARALLEL_MIN_POINTS};
+use crate::cancel::Clock;
 use crate::geodesic::earth::ConformalSphere;
 use crate::geometry::{Point, Weights};
 
@@ -127,7 +128,8 @@ pub(super) struct ModelOptimum {
 /// great-circle angle, `cot θ (I − uuᵀ)`), Weiszfeld's step when Newton's does not lower the
 /// model's cost, stopping at a data point or when steps vanish. Only a starting point for
 /// the exact iteration, so it returns `centre` itself if it gets nowhere.
-pub(super) fn model_optimum(points: &[Point], weights: Weights<'_>, centre: Point) -> ModelOptimum {
+/// Stops at the point reached when `clock` says so (asked before every model pass).
+pub(super) fn model_optimum(points: &[Point], weights: Weights<'_>, centre: Point, clock: &Clock) -> ModelOptimum {
     let sphere = ConformalSphere::at(centre);
     let images: Vec<[f64; 3]> = if points.len() < PARALLEL_MIN_POINTS {
         points.iter().map(|&p| sphere.image(p)).collect()
@@ -137,13 +139,16 @@ pub(super) fn model_optimum(points: &[Point], weights: Weights<'_>, centre: Poin
     let mut y = sphere.image(centre);
     let mut current = model_evaluate(y, &images, weights);
     let mut passes = 1;
-    while passes < MODEL_PASSES && !current.at_point {
+    while passes < MODEL_PASSES && !current.at_point && !clock.stop() {
         let weiszfeld = [-current.grad[0] / current.inv, -current.grad[1] / current.inv];
         let candidates = newton_2x2(current.hess, current.grad, current.max_angle)
             .into_iter()
             .chain([weiszfeld, [weiszfeld[0] / 4.0, weiszfeld[1] / 4.0]]);
         let mut moved = None;
         for step in candidates {
+            if clock.stop() {
+                break;
+            }
             let z = sphere_exp(y, step);
             let trial = model_evaluate(z, &images, weights);
             passes += 1;

@@ -186,6 +186,7 @@ pub(super) fn sampled_newton_target(problem: &Problem<'_>, model: &ModelOptimum)
 mod tests {
     use super::super::{solve, Earth};
     use super::SAMPLED_STEP_MIN_POINTS;
+    use crate::cancel::Clock;
     use crate::geometry::random::SplitMix64;
     use crate::geometry::{Point, Weights};
 
@@ -213,7 +214,7 @@ mod tests {
         // The sampled step lands close enough that the first exact pass certifies the
         // answer at the default tolerance (a second pass, with the Hessian, is allowed).
         let (points, weights) = national(SAMPLED_STEP_MIN_POINTS + 1_000, 5);
-        let r = solve(&points, Weights::Given(&weights), 1e-10, 100).unwrap();
+        let r = solve(&points, Weights::Given(&weights), 1e-10, 100, &Clock::unlimited()).unwrap();
         assert!(r.converged && r.iterations <= 2, "{r:?}");
         assert!(r.gap <= 1e-10 * r.cost);
         no_better_neighbour(&points, &weights, r.location, r.cost);
@@ -229,7 +230,7 @@ mod tests {
         for j in 0..super::SAMPLE_POINTS {
             weights[j * stride] = 0.0;
         }
-        let r = solve(&points, Weights::Given(&weights), 1e-10, 100).unwrap();
+        let r = solve(&points, Weights::Given(&weights), 1e-10, 100, &Clock::unlimited()).unwrap();
         assert!(r.converged && r.iterations >= 2, "{r:?}");
         no_better_neighbour(&points, &weights, r.location, r.cost);
     }

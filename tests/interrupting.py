@@ -1,0 +1,41 @@
+"""Ctrl-C from outside: run Python code in a child process and send it SIGINT while it works.
+
+The child prints ``started`` before its long call and ``interrupted <time>`` (or
+``finished <time>``) after it; the latency is measured on the one wall clock of the machine.
+"""
+
+from __future__ import annotations
+
+import signal
+import subprocess
+import sys
+import time
+
+
+def interrupt(code: str, after: float) -> tuple[str, float]:
+    """Send SIGINT ``after`` seconds past the child's ``started``; return the child's word
+    (``interrupted`` or ``finished``) and the seconds from the signal to that word."""
+    child = subprocess.Popen([sys.executable, "-c", code], stdout=subprocess.PIPE, stderr=subprocess.PIPE,
+                             text=True)
+    try:
+        assert child.stdout is not None
+        assert child.stdout.readline().strip() == "started"
+        time.sleep(after)
+        sent = time.time()
+        child.send_signal(signal.SIGINT)
+        out, err = child.communicate(timeout=60)
+    finally:
+        child.kill()
+    word, stamp = out.split()
+    assert word in ("interrupted", "finished"), (out, err)
+    return word, float(stamp) - sent
+
+
+class Enough(Exception):
+    """What :func:`stop_at_first_report` raises."""
+
+
+def stop_at_first_report(done: int, total: int) -> None:
+    """A progress callable that ends the run it watches (the watch is cancelled and this
+    exception reaches the caller)."""
+    raise Enough

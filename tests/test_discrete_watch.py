@@ -1,0 +1,111 @@
+"""Long discrete runs a person can watch and stop: progress, time limits and Ctrl-C for the
+models on candidate sites (p-median, p-center, set and maximal covering)."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from scipy.spatial.distance import cdist
+
+import placewise as pw
+from interrupting import Enough, interrupt, stop_at_first_report
+
+RNG = np.random.default_rng(17)
+POINTS = RNG.uniform(0, 100, (3000, 2))
+CANDIDATES = RNG.uniform(0, 100, (300, 2))
+WEIGHTS = RNG.integers(1, 10, len(POINTS)).astype(float)
+# Straight-line costs by scipy (an outside reference for every check below).
+COSTS = cdist(POINTS, CANDIDATES)
+P, RADIUS = 6, 8.0
+
+MODELS = {
+    "p_median": lambda **kw: pw.p_median(POINTS, P, WEIGHTS, candidates=CANDIDATES, **kw),
+    "p_center": lambda **kw: pw.p_center(POINTS, P, WEIGHTS, candidates=CANDIDATES, **kw),
+    "cover_all": lambda **kw: pw.cover_all(POINTS, 30.0, weights=WEIGHTS, candidates=CANDIDATES, **kw),
+    "cover_most": lambda **kw: pw.cover_most(POINTS, P, RADIUS, WEIGHTS, candidates=CANDIDATES, **kw),
+    "cover_all anywhere": lambda **kw: pw.cover_all(POINTS[:400], 6.0, **kw),
+}
+
+
+@pytest.mark.parametrize("name", MODELS)
+def test_progress_counts_grow_and_end_at_the_total(name: str) -> None:
+    calls: list[tuple[int, int]] = []
+    MODELS[name](progress=lambda done, total: calls.append((done, total)))
+    assert calls, "progress was never reported"
+    done = [d for d, _ in calls]
+    assert done == sorted(done)
+    assert all(0 <= d <= t for d, t in calls)
+    assert calls[-1][0] == calls[-1][1] > 0
+
+
+def _served(plan: pw.discrete.MedianSelection) -> np.ndarray:
+    """Every point's cost to its nearest open site, recomputed from scipy's distances."""
+    return COSTS[:, plan.open].min(axis=1)
+
+
+def test_a_tiny_time_limit_still_returns_feasible_plans_with_valid_bounds() -> None:
+    full = {name: MODELS[name]() for name in ("p_median", "p_center", "cover_all", "cover_most")}
+    cut = {name: MODELS[name](time_limit=1e-6) for name in full}
+
+    median = cut["p_median"]
+    assert len(median.open) == P and (median.assignment >= 0).all()
+    np.testing.assert_allclose(median.cost, _served(median), rtol=1e-12)
+    np.testing.assert_allclose(median.total_cost, (WEIGHTS * _served(median)).sum(), rtol=1e-12)
+    # No bound iteration ran: the bound proves nothing and the gap says so.
+    assert median.lower_bound <= full["p_median"].total_cost and median.relative_gap > 0
+
+    center = cut["p_center"]
+    assert len(center.open) == P and (center.assignment >= 0).all()
+    np.testing.assert_allclose(center.weighted_worst, (WEIGHTS * _served(center)).max(), rtol=1e-12)
+    assert center.lower_bound <= full["p_center"].weighted_worst
+    assert center.weighted_worst >= full["p_center"].lower_bound
+
+    cover = cut["cover_all"]
+    within = COSTS[:, cover.open] <= 30.0
+    assert within.any(axis=1).all(), "a point was left uncovered"
+    assert cover.lower_bound <= full["cover_all"].chosen and cover.chosen >= full["cover_all"].lower_bound
+
+    most = cut["cover_most"]
+    covered = (COSTS[:, most.open] <= RADIUS).any(axis=1)
+    assert len(most.open) == P
+    np.testing.assert_allclose(most.covered_weight, WEIGHTS[covered].sum(), rtol=1e-12)
+    assert most.upper_bound >= full["cover_most"].covered_weight
+    assert most.covered_weight <= full["cover_most"].upper_bound
+
+
+def test_time_limit_is_checked_for_every_model() -> None:
+    for name in MODELS:
+        with pytest.raises(pw.InputError) as caught:
+            MODELS[name](time_limit=0)
+        assert caught.value.argument == "time_limit"
+        assert str(caught.value) == "time_limit must be finite and > 0 (seconds); got 0"
+
+
+@pytest.mark.parametrize("name", MODELS)
+def test_a_raising_progress_callable_stops_the_model(name: str) -> None:
+    with pytest.raises(Enough):
+        MODELS[name](progress=stop_at_first_report)
+
+
+_INTERRUPTED_CHILD = r"""
+import sys, time
+import numpy as np
+import placewise as pw
+
+rng = np.random.default_rng(7)
+pts, cands = rng.random((10_000, 2)) * 100, rng.random((1_000, 2)) * 100
+print("started", flush=True)
+try:
+    pw.p_median(pts, 50, candidates=cands)
+    print("finished", time.time(), flush=True)
+except KeyboardInterrupt:
+    print("interrupted", time.time(), flush=True)
+"""
+
+
+def test_ctrl_c_stops_the_discrete_p_median_promptly() -> None:
+    # SIGINT 1.5 s into a discrete p-median of several seconds (10,000 x 1,000, p = 50):
+    # KeyboardInterrupt must reach Python while the kernel works. The aim is 0.5 s; the
+    # bound asserted leaves room for a loaded machine.
+    word, latency = interrupt(_INTERRUPTED_CHILD, 1.5)
+    assert word == "interrupted" and latency < 2.0
