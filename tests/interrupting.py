@@ -39,3 +39,16 @@ def stop_at_first_report(done: int, total: int) -> None:
     """A progress callable that ends the run it watches (the watch is cancelled and this
     exception reaches the caller)."""
     raise Enough
+
+
+def check_progress_reports(run) -> None:  # noqa: ANN001
+    """Call ``run(progress=...)`` and check what the callable received: reports were made,
+    the counts done never fall, never pass the total, and the last report is the whole."""
+    calls: list[tuple[int, int]] = []
+    run(progress=lambda done, total: calls.append((done, total)))
+    assert calls, "progress was never reported"
+    done = [d for d, _ in calls]
+    assert done == sorted(done)
+    assert all(0 <= d <= t for d, t in calls)
+    assert calls[-1][0] == calls[-1][1] > 0
+

@@ -9,7 +9,7 @@ from scipy.optimize import linprog
 from scipy.spatial.distance import cdist
 
 import placewise as pw
-from interrupting import Enough, stop_at_first_report
+from interrupting import Enough, check_progress_reports, stop_at_first_report
 
 RNG = np.random.default_rng(23)
 POINTS = RNG.uniform(0, 1000, (1500, 2))
@@ -25,12 +25,7 @@ MODELS = {
 
 @pytest.mark.parametrize("name", MODELS)
 def test_progress_counts_grow_and_end_at_the_total(name: str) -> None:
-    calls: list[tuple[int, int]] = []
-    MODELS[name](progress=lambda done, total: calls.append((done, total)))
-    assert calls, "progress was never reported"
-    done = [d for d, _ in calls]
-    assert done == sorted(done) and all(0 <= d <= t for d, t in calls)
-    assert calls[-1][0] == calls[-1][1] > 0
+    check_progress_reports(MODELS[name])
 
 
 def test_a_watched_allocation_is_the_transportation_optimum_within_its_capacities() -> None:

@@ -8,7 +8,7 @@ import pytest
 from scipy.spatial.distance import cdist
 
 import placewise as pw
-from interrupting import Enough, interrupt, stop_at_first_report
+from interrupting import Enough, check_progress_reports, interrupt, stop_at_first_report
 
 RNG = np.random.default_rng(17)
 POINTS = RNG.uniform(0, 100, (3000, 2))
@@ -29,13 +29,7 @@ MODELS = {
 
 @pytest.mark.parametrize("name", MODELS)
 def test_progress_counts_grow_and_end_at_the_total(name: str) -> None:
-    calls: list[tuple[int, int]] = []
-    MODELS[name](progress=lambda done, total: calls.append((done, total)))
-    assert calls, "progress was never reported"
-    done = [d for d, _ in calls]
-    assert done == sorted(done)
-    assert all(0 <= d <= t for d, t in calls)
-    assert calls[-1][0] == calls[-1][1] > 0
+    check_progress_reports(MODELS[name])
 
 
 def _served(plan: pw.discrete.MedianSelection) -> np.ndarray:

@@ -111,8 +111,9 @@ fn check_weber(options: &WeberOptions) -> Result<()> {
 ///   mean direction.
 ///
 /// # Runtime
-/// O(n) inverse problems per exact pass, in parallel; typically two or three exact passes,
-/// after a handful of O(n) passes on Gauss's conformal sphere that choose where to start.
+/// O(n) inverse problems per exact pass, in parallel; typically two or three exact passes
+/// (one from 262,144 points on, whose first step is estimated from 65,536 of them), after a
+/// handful of O(n) passes on Gauss's conformal sphere that choose where to start.
 pub fn geodesic_weber_point(points: &[Point], weights: Weights<'_>, options: &WeberOptions) -> Result<WeberPoint> {
     geodesic_weber_point_watched(points, weights, options, &Watch::new())
 }

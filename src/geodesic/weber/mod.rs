@@ -24,7 +24,9 @@
 //! pass), and its optimum, mapped back to the ellipsoid, starts the exact iteration above.
 //! The model only chooses where to look: every reported number comes from the exact passes,
 //! and `iterations` counts exact passes alone (typically two: one whose Newton step lands
-//! within the tolerance, one that certifies it).
+//! within the tolerance, one that certifies it). From [`step::SAMPLED_STEP_MIN_POINTS`]
+//! points on, the first of these is replaced by a step estimated from a sample
+//! ([`step`]), so a large cloud is typically certified by one exact pass.
 //!
 //! # Certificate
 //! The gradient of `s(·, a)` at `x` is exactly `−u` (`u` the unit tangent towards `a`), so
