@@ -34,6 +34,35 @@ const STALL_WINDOW: usize = 100;
 /// procedures stop on small progress; Beasley 1993).
 const STALL_SHARE: f64 = 0.01;
 
+/// The points' coverage lists in one flat array of 32-bit columns: the step's inner loop
+/// reads the list of every moved multiplier, tens of thousands per iteration, and this
+/// layout halves the bytes it reads against the nested lists and spares a pointer per list.
+/// Same columns in the same order, so the sums are the same.
+struct FlatLists {
+    starts: Vec<usize>,
+    columns: Vec<u32>,
+}
+
+impl FlatLists {
+    /// `None` when a column index does not fit in 32 bits (the nested lists serve then).
+    fn new(lists: &[Vec<usize>]) -> Option<FlatLists> {
+        let mut starts = Vec::with_capacity(lists.len() + 1);
+        let mut columns = Vec::with_capacity(lists.iter().map(Vec::len).sum());
+        starts.push(0);
+        for list in lists {
+            for &j in list {
+                columns.push(u32::try_from(j).ok()?);
+            }
+            starts.push(columns.len());
+        }
+        Some(FlatLists { starts, columns })
+    }
+
+    fn of(&self, a: usize) -> &[u32] {
+        &self.columns[self.starts[a]..self.starts[a + 1]]
+    }
+}
+
 /// `L(λ)` with `Λ = big`: the sum of the `p` largest `Λⱼ` over the `candidates` (ties: the
 /// smallest column; a column covering nothing adds 0, as does leaving a site unused) plus
 /// `Σₐ (wₐ − λₐ)` over the coverable points (an uncoverable point's `zₐ` is 0 in every plan,
@@ -88,6 +117,7 @@ pub(super) fn maximal_covering_bound(
     let mut order = Vec::with_capacity(candidates.len());
     let mut big = vec![0.0; m];
     let mut count = vec![0u32; n];
+    let flat = FlatLists::new(&inc.by_point);
     let exact = |lambda: &[f64], big: &mut [f64]| {
         big.par_iter_mut().zip(&inc.by_site).for_each(|(b, set)| *b = set.iter().map(|&a| lambda[a]).sum());
     };
@@ -140,7 +170,11 @@ pub(super) fn maximal_covering_bound(
             let shifted = (lambda[a] - step * ga).clamp(0.0, w[a]);
             if shifted != lambda[a] {
                 // Only the columns covering a moved multiplier change their Λ.
-                inc.by_point[a].iter().for_each(|&j| big[j] += shifted - lambda[a]);
+                let delta = shifted - lambda[a];
+                match &flat {
+                    Some(lists) => lists.of(a).iter().for_each(|&j| big[j as usize] += delta),
+                    None => inc.by_point[a].iter().for_each(|&j| big[j] += delta),
+                }
                 lambda[a] = shifted;
             }
         }
