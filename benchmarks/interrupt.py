@@ -83,9 +83,11 @@ CASES: dict[str, tuple[str, str, bool, str, str]] = {
 }
 
 CHILD = """
-import sys, time
+import signal, sys, time
 import numpy as np
 import placewise as pw
+signal.signal(signal.SIGINT, signal.default_int_handler)
+signal.pthread_sigmask(signal.SIG_UNBLOCK, {{signal.SIGINT}})
 {setup}
 print("ready", flush=True)
 sys.stdin.readline()

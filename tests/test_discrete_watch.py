@@ -82,9 +82,15 @@ def test_a_raising_progress_callable_stops_the_model(name: str) -> None:
 
 
 _INTERRUPTED_CHILD = r"""
-import sys, time
+import signal, sys, time
 import numpy as np
 import placewise as pw
+
+# Ctrl-C as a terminal delivers it, whatever the parent left: a job started in the
+# background of a shell ignores SIGINT, Python keeps an ignored SIGINT ignored, and a
+# blocked one stays blocked across exec.
+signal.signal(signal.SIGINT, signal.default_int_handler)
+signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGINT})
 
 rng = np.random.default_rng(7)
 pts, cands = rng.random((10_000, 2)) * 100, rng.random((1_000, 2)) * 100
@@ -102,9 +108,4 @@ def test_ctrl_c_stops_the_discrete_p_median_promptly() -> None:
     # KeyboardInterrupt must reach Python while the kernel works. The aim is 0.5 s; the
     # bound asserted leaves room for a loaded machine.
     word, latency = interrupt(_INTERRUPTED_CHILD, 1.5)
-    if not (word == "interrupted" and latency < 2.0):
-        # One more try: in one full-suite run the child once ran to its end without the
-        # KeyboardInterrupt, which alone and in five further runs did not happen again. A
-        # second miss in a row fails the test.
-        word, latency = interrupt(_INTERRUPTED_CHILD, 1.5)
     assert word == "interrupted" and latency < 2.0

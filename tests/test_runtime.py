@@ -107,9 +107,15 @@ def test_skipped_groups_keep_their_place_with_the_reason() -> None:
 # ----------------------------------------------------------------- long runs: stop, limit, watch
 
 _INTERRUPTED_CHILD = r"""
-import sys, time
+import signal, sys, time
 import numpy as np
 import placewise as pw
+
+# Ctrl-C as a terminal delivers it, whatever the parent left: a job started in the
+# background of a shell ignores SIGINT, Python keeps an ignored SIGINT ignored, and a
+# blocked one stays blocked across exec.
+signal.signal(signal.SIGINT, signal.default_int_handler)
+signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGINT})
 
 points = np.random.default_rng(1).random((1_000_000, 2))
 print("started", flush=True)
