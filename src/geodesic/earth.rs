@@ -9,6 +9,7 @@
 use geographiclib_rs::capability::{AZIMUTH, DISTANCE, GEODESICSCALE, REDUCEDLENGTH};
 use geographiclib_rs::{DirectGeodesic, Geodesic, InverseGeodesic, PolygonArea, Winding};
 
+use super::inverse::ordinary_inverse;
 use crate::error::{Error, Result};
 use crate::geometry::{validate_points, Point};
 
@@ -68,6 +69,17 @@ impl Earth {
             self.g._gen_inverse(centre[1], centre[0], a[1], a[0], DISTANCE | AZIMUTH);
         let norm = sin_azi.hypot(cos_azi);
         Seen { distance: s, direction: [sin_azi / norm, cos_azi / norm] }
+    }
+
+    /// [`Earth::seen_from`] by the shorter Newton loop of [`super::inverse`] where the pair
+    /// is ordinary, GeographicLib in full otherwise: accurate to
+    /// [`super::inverse::DISTANCE_RELATIVE_ACCURACY`] of the distance and
+    /// [`super::inverse::AZIMUTH_ACCURACY`] in direction beyond GeographicLib's own accuracy.
+    pub(crate) fn seen_from_quickly(&self, centre: Point, a: Point) -> Seen {
+        match ordinary_inverse(&self.g, centre[1], centre[0], a[1], a[0]) {
+            Some((s, sin_azi, cos_azi)) => Seen { distance: s, direction: [sin_azi, cos_azi] },
+            None => self.seen_from(centre, a),
+        }
     }
 
     /// [`Earth::seen_from`] with the geodesic curvature `M/m` at `centre` of the geodesic

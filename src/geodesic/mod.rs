@@ -16,6 +16,7 @@
 //! Points are `[longitude, latitude]` in degrees; lengths are metres, areas square metres.
 
 mod earth;
+mod inverse;
 mod minimax;
 mod nearest;
 mod sphere;

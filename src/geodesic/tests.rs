@@ -148,3 +148,17 @@ fn a_cancelled_weber_run_stops_after_its_first_pass_and_counts_it() {
     let (done, total) = watch.progress();
     assert!(done == total && total == WeberOptions::default().max_iter as u64);
 }
+
+#[test]
+fn default_tolerance_reports_the_geographiclib_cost_of_its_site() {
+    // At the default tolerance the exact passes take the quicker inverse problem; reference:
+    // GeographicLib's distances (geographiclib-rs, Karney 2013) summed at the returned site.
+    let mut rng = SplitMix64::new(17);
+    let pts: Vec<Point> = (0..5_000).map(|_| [5.0 + 10.0 * rng.next_f64(), 45.0 + 10.0 * rng.next_f64()]).collect();
+    let r = geodesic_weber_point(&pts, Weights::Unit, &WeberOptions::default()).unwrap();
+    let exact = cost(&pts, r.location);
+    assert!((r.cost - exact).abs() <= 1e-12 * exact, "{} {exact}", r.cost);
+    assert!(r.converged && r.gap <= 1e-10 * r.cost, "{r:?}");
+    let strict = geodesic_weber_point(&pts, Weights::Unit, &WeberOptions { tol: 1e-12, ..Default::default() }).unwrap();
+    assert!(r.cost - strict.cost <= r.gap, "{r:?} {strict:?}");
+}

@@ -53,6 +53,7 @@ use model::model_optimum;
 use step::{sampled_newton_target, SAMPLED_STEP_MIN_POINTS};
 
 use super::earth::{angle_between, from_normal, unit_normal, Earth};
+use super::inverse::{AZIMUTH_ACCURACY, DISTANCE_RELATIVE_ACCURACY};
 use crate::cancel::{Clock, Steps};
 use crate::error::{Error, Result};
 use crate::geometry::{CompensatedSum, Point, Weights};
@@ -72,6 +73,10 @@ const ROUNDING: f64 = 8.0 * f64::EPSILON;
 /// Absolute accuracy of one geodesic distance, metres: GeographicLib's inverse problem is
 /// accurate to about 15 nm on WGS84 (Karney 2013, §1); this allows twice that.
 pub(crate) const DISTANCE_ACCURACY_M: f64 = 3e-8;
+/// Smallest relative tolerance for which exact passes take the quicker inverse problem: its
+/// allowance in the gap is at most `DISTANCE_RELATIVE_ACCURACY + 2·AZIMUTH_ACCURACY` of the
+/// cost (the radius in the gap is at most `2f/W`), 4e-13, a twenty-fifth of this.
+pub(crate) const QUICK_INVERSE_MIN_TOL: f64 = 1e-11;
 
 /// Where the points lie on the globe: their mean direction and the largest angle from it.
 #[derive(Debug, Clone, Copy)]
@@ -206,6 +211,10 @@ struct Problem<'a> {
     certified: bool,
     spread: Spread,
     clock: &'a Clock,
+    /// Passes without curvature take the quicker inverse problem ([`super::inverse`]): when
+    /// the tolerance is at least [`QUICK_INVERSE_MIN_TOL`], whose allowance its accuracy
+    /// leaves room for (the gap adds that accuracy).
+    quick: bool,
 }
 
 impl Problem<'_> {
@@ -217,8 +226,13 @@ impl Problem<'_> {
             if w <= 0.0 {
                 continue;
             }
-            let (seen, curvature) =
-                if curvature { self.earth.seen_with_curvature(x, a) } else { (self.earth.seen_from(x, a), 0.0) };
+            let (seen, curvature) = if curvature {
+                self.earth.seen_with_curvature(x, a)
+            } else if self.quick {
+                (self.earth.seen_from_quickly(x, a), 0.0)
+            } else {
+                (self.earth.seen_from(x, a), 0.0)
+            };
             let d = seen.distance;
             if d == 0.0 {
                 pass.eta += w;
@@ -285,6 +299,11 @@ impl Problem<'_> {
         pass.subgradient_norm() * radius
             + ROUNDING * (cost + self.total_weight * radius)
             + self.total_weight * DISTANCE_ACCURACY_M
+            + if self.quick {
+                DISTANCE_RELATIVE_ACCURACY * cost + AZIMUTH_ACCURACY * self.total_weight * radius
+            } else {
+                0.0
+            }
     }
 
     /// Stationary to the precision a step can still show.
@@ -391,6 +410,7 @@ fn descend(
         certified: spread.radius_degrees <= CONVEX_CAP_DEGREES,
         spread,
         clock,
+        quick: tol >= QUICK_INVERSE_MIN_TOL,
     };
     // The answer of a run stopped during its first exact pass: no cost is known yet.
     let unfinished = |x: Point, iterations: usize| WeberPoint {

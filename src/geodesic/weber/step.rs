@@ -134,7 +134,7 @@ pub(super) fn sampled_newton_target(problem: &Problem<'_>, model: &ModelOptimum)
                     distance: 0.0,
                 });
             }
-            let seen = problem.earth.seen_from(x0, problem.points[i]);
+            let seen = problem.earth.seen_from_quickly(x0, problem.points[i]);
             let (angle, u) = model_seen(y, e1, e2, model.images[i])?;
             if seen.distance == 0.0 {
                 return None;
