@@ -80,6 +80,32 @@ CASES: dict[str, tuple[str, str, bool, str, str]] = {
                        "rng = np.random.default_rng(11)\n"
                        "pts = np.column_stack([rng.uniform(-20, 20, 1_000_000), rng.uniform(30, 60, 1_000_000)])",
                        "pw.geodesic.weber_point(pts)"),
+    "geodesic_minimax": ("geodesic minimax_point", "1,000,000 weighted lon/lat points", True,
+                         "rng = np.random.default_rng(11)\n"
+                         "pts = np.column_stack([rng.uniform(-20, 20, 1_000_000), rng.uniform(30, 60, 1_000_000)])\n"
+                         "w = rng.uniform(1, 2, 1_000_000)",
+                         "pw.geodesic.minimax_point(pts, w)"),
+    "geodesic_circle": ("geodesic enclosing_circle", "1,000,000 lon/lat points", True,
+                        "rng = np.random.default_rng(11)\n"
+                        "pts = np.column_stack([rng.uniform(-20, 20, 1_000_000), rng.uniform(30, 60, 1_000_000)])",
+                        "pw.geodesic.enclosing_circle(pts)"),
+    "geodesic_minimax_groups": ("geodesic minimax_point, groups", "1,000,000 lon/lat points in 4 groups", True,
+                                "rng = np.random.default_rng(12)\n"
+                                "pts = np.column_stack([rng.uniform(-20, 20, 1_000_000), "
+                                "rng.uniform(30, 60, 1_000_000)])\n"
+                                "g = rng.integers(0, 4, 1_000_000)",
+                                "pw.geodesic.minimax_point(pts, groups=g)"),
+    "geodesic_weber_groups": ("geodesic weber_point, groups", "2,000,000 lon/lat points in 4 groups", True,
+                              "rng = np.random.default_rng(13)\n"
+                              "pts = np.column_stack([rng.uniform(-20, 20, 2_000_000), "
+                              "rng.uniform(30, 60, 2_000_000)])\n"
+                              "g = rng.integers(0, 4, 2_000_000)",
+                              "pw.geodesic.weber_point(pts, groups=g)"),
+    "capacitated_median": ("capacitated p_median", "20,000 points, p = 10, capacities 5 % over the demand", True,
+                           "rng = np.random.default_rng(10)\n"
+                           "pts = rng.uniform(0, 20_000, (20_000, 2))\n"
+                           "caps = np.full(10, 2_100.0)",
+                           "pw.capacitated_p_median(pts, 10, caps)"),
 }
 
 CHILD = """

@@ -187,6 +187,7 @@ pub(crate) struct Clock {
 
 impl Clock {
     /// A clock that never stops (no deadline, a watch nobody else holds).
+    #[cfg(test)]
     pub(crate) fn unlimited() -> Clock {
         Watch::new().clock(None)
     }
@@ -204,6 +205,12 @@ impl Clock {
     /// The deadline, if any.
     pub(crate) fn deadline(&self) -> Option<Instant> {
         self.deadline
+    }
+
+    /// The same deadline and cancel flag, counting no progress: for an inner kernel of a
+    /// run that counts its own steps.
+    pub(crate) fn quiet(&self) -> Clock {
+        Clock { watch: self.watch.quiet(), deadline: self.deadline }
     }
 }
 

@@ -52,3 +52,40 @@ def check_progress_reports(run) -> None:  # noqa: ANN001
     assert all(0 <= d <= t for d, t in calls)
     assert calls[-1][0] == calls[-1][1] > 0
 
+
+
+#: The issue's aim for Ctrl-C: KeyboardInterrupt within half a second of the signal.
+PROMPT_SECONDS = 0.5
+
+
+def uninterrupted_seconds(code: str) -> float:
+    """Run the same child without a signal; the seconds from its ``started`` to its
+    ``finished`` stamp (the kernel's own runtime, measured in the same conditions)."""
+    child = subprocess.Popen([sys.executable, "-c", code], stdout=subprocess.PIPE, stderr=subprocess.PIPE,
+                             text=True)
+    try:
+        assert child.stdout is not None
+        assert child.stdout.readline().strip() == "started"
+        started = time.time()
+        out, err = child.communicate(timeout=300)
+    finally:
+        child.kill()
+    word, stamp = out.split()
+    assert word == "finished", (out, err)
+    return float(stamp) - started
+
+
+def check_prompt_interrupt(code: str, after: float) -> tuple[float, float]:
+    """Ctrl-C ``after`` seconds into the child's call must raise ``KeyboardInterrupt``
+    within :data:`PROMPT_SECONDS`, while the same call left alone runs on well past that
+    (so a kernel that never looked at the signal would miss the aim by the rest of its run).
+    One retry on a miss (a machine busy with other work can hold the child off the CPU).
+    Returns the uninterrupted runtime and the latency, seconds."""
+    runtime = uninterrupted_seconds(code)
+    assert runtime > after + 4 * PROMPT_SECONDS, (
+        f"the call takes {runtime:.2f} s: too short to tell a prompt stop from its end")
+    word, latency = interrupt(code, after)
+    if not (word == "interrupted" and latency < PROMPT_SECONDS):
+        word, latency = interrupt(code, after)
+    assert word == "interrupted" and latency < PROMPT_SECONDS, (word, latency, runtime)
+    return runtime, latency

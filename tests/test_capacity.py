@@ -255,7 +255,7 @@ def test_p_median_with_capacities_is_the_capacitated_kernel():
         transport_program(points, continuous.sites, np.array([20.0, 20.0]), np.ones(40)), rel=1e-9)
 
 
-@pytest.mark.parametrize("option", [{"groups": [0, 1, 1]}, {"fixed": [[0, 0]]}, {"time_limit": 1.0},
+@pytest.mark.parametrize("option", [{"groups": [0, 1, 1]}, {"fixed": [[0, 0]]},
                                     {"effort": "fast"}, {"allow_unserved": True},
                                     {"region": [[0, 0], [3, 0], [3, 3]]}])
 def test_p_median_with_capacities_refuses_what_it_has_no_form_of(option):

@@ -1,5 +1,5 @@
 """Long capacity runs a person can watch and stop: progress, time limits and Ctrl-C for
-capacity_allocation and capacity_cells."""
+capacity_allocation, capacity_cells and the capacitated p-median."""
 
 from __future__ import annotations
 
@@ -9,17 +9,27 @@ from scipy.optimize import linprog
 from scipy.spatial.distance import cdist
 
 import placewise as pw
-from interrupting import Enough, check_progress_reports, stop_at_first_report
+from interrupting import Enough, check_progress_reports, check_prompt_interrupt, stop_at_first_report
 
 RNG = np.random.default_rng(23)
 POINTS = RNG.uniform(0, 1000, (1500, 2))
 SITES = RNG.uniform(0, 1000, (8, 2))
 # Capacities that hold the demand only together: most points cannot use their nearest site.
 CAPS = np.full(len(SITES), len(POINTS) / len(SITES))
+# The capacitated p-median: 6 sites anywhere holding 2 % more than the demand together (tight
+# enough that location-allocation needs several rounds), or 6 of 40 candidate lots each
+# holding a fifth of it.
+P = 6
+TIGHT = np.full(P, len(POINTS) / P * 1.02)
+LOTS = RNG.uniform(0, 1000, (40, 2))
+LOT_CAPS = np.full(len(LOTS), len(POINTS) / 5)
 
 MODELS = {
     "capacity_allocation": lambda **kw: pw.capacity_allocation(POINTS, SITES, CAPS, **kw),
     "capacity_cells": lambda **kw: pw.capacity_cells(POINTS, SITES, CAPS, **kw),
+    "capacitated_p_median": lambda **kw: pw.capacitated_p_median(POINTS, P, TIGHT, **kw),
+    "capacitated_p_median candidates": lambda **kw: pw.capacitated_p_median(POINTS, P, LOT_CAPS, candidates=LOTS,
+                                                                            **kw),
 }
 
 
@@ -61,3 +71,84 @@ def test_a_limit_too_short_for_any_plan_is_a_clear_error(name: str) -> None:
 def test_a_raising_progress_callable_stops_the_run(name: str) -> None:
     with pytest.raises(Enough):
         MODELS[name](progress=stop_at_first_report)
+
+
+def _transport_optimum(sites: np.ndarray, caps: np.ndarray) -> float:
+    """The least Σ d_ij x_ij serving every point from ``sites`` within ``caps``, by scipy's
+    HiGHS LP (an outside reference)."""
+    import scipy.sparse as sparse
+
+    d = cdist(POINTS, sites)
+    n, m = d.shape
+    rows = sparse.kron(sparse.eye(n), np.ones((1, m)), format="csr")
+    columns = sparse.kron(np.ones((1, n)), sparse.eye(m), format="csr")
+    lp = linprog(d.ravel(), A_ub=columns, b_ub=caps, A_eq=rows, b_eq=np.ones(n), method="highs")
+    assert lp.status == 0
+    return float(lp.fun)
+
+
+@pytest.mark.parametrize("name", ["capacitated_p_median", "capacitated_p_median candidates"])
+def test_a_capacitated_p_median_cut_short_is_a_true_flagged_plan(name: str) -> None:
+    full = MODELS[name]()
+    assert full.converged
+    plans = [MODELS[name](max_rounds=1), full]
+    # Limits from very short (an InputError: no plan meets the capacities yet) to ample;
+    # every plan returned is checked, whichever stage the limit cut.
+    for limit in (0.02, 0.1, 0.5, 2.0):
+        try:
+            plans.append(MODELS[name](time_limit=limit))
+        except pw.InputError as caught:
+            assert caught.argument == "time_limit" and "allow more time" in str(caught)
+    assert len(plans) >= 2
+    for plan in plans:
+        # The allocation is exact for the sites returned (its cost is the LP optimum) and
+        # within their capacities.
+        assert (plan.load <= plan.capacities * (1 + 1e-12)).all() and plan.total_unserved == 0
+        np.testing.assert_allclose(plan.total_cost, _transport_optimum(plan.sites, plan.capacities), rtol=1e-9)
+        if not np.isnan(plan.median_lower_bound):
+            assert plan.median_lower_bound <= full.total_cost * (1 + 1e-12)
+    # Where one round does not settle the plan, that plan is flagged and no better than where
+    # the rounds settle (sites anywhere: several rounds on this instance).
+    if full.rounds > 1:
+        assert not plans[0].converged and plans[0].rounds == 1
+        assert plans[0].total_cost >= full.total_cost * (1 - 1e-12)
+        assert plans[0].summary()["converged"].tolist() == [False]
+    else:
+        assert name.endswith("candidates"), full.rounds
+
+
+def test_p_median_with_capacities_passes_the_watch_on() -> None:
+    with pytest.raises(Enough):
+        pw.p_median(POINTS, P, capacities=TIGHT, progress=stop_at_first_report)
+    with pytest.raises(pw.InputError) as caught:
+        pw.p_median(POINTS, P, capacities=TIGHT, time_limit=1e-9)
+    assert caught.value.argument == "time_limit"
+
+
+_INTERRUPTED_CHILD = r"""
+import signal, sys, time
+import numpy as np
+import placewise as pw
+
+# Ctrl-C as a terminal delivers it, whatever the parent left: a job started in the
+# background of a shell ignores SIGINT, Python keeps an ignored SIGINT ignored, and a
+# blocked one stays blocked across exec.
+signal.signal(signal.SIGINT, signal.default_int_handler)
+signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGINT})
+
+rng = np.random.default_rng(10)
+pts = rng.uniform(0, 20_000, (2_000, 2))
+print("started", flush=True)
+try:
+    pw.capacitated_p_median(pts, 6, np.full(6, 350.0))
+    print("finished", time.time(), flush=True)
+except KeyboardInterrupt:
+    print("interrupted", time.time(), flush=True)
+"""
+
+
+def test_ctrl_c_stops_the_capacitated_p_median_promptly() -> None:
+    # SIGINT one second into a run of several seconds: KeyboardInterrupt within half a
+    # second, while the same run left alone goes on for seconds more.
+    runtime, latency = check_prompt_interrupt(_INTERRUPTED_CHILD, 1.0)
+    print(f"capacitated p_median: runs {runtime:.2f} s; Ctrl-C latency {latency:.3f} s")

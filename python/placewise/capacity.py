@@ -183,19 +183,26 @@ class CapacitatedMedianPlan(CapacityPlan):
         continuous sites, where no cheap relaxation is known.
     rounds : int
         Location–allocation rounds run.
+    converged : bool
+        True when the rounds ended because moving the sites no longer lowered the cost;
+        False when ``max_rounds`` or ``time_limit`` cut them short (the plan is then the
+        best found, its allocation still exact and within the capacities).
     """
 
     chosen: np.ndarray = dataclasses.field(default_factory=lambda: np.zeros(0, dtype=np.int64), repr=False)
     median_lower_bound: float = dataclasses.field(default=float("nan"), repr=False)
     median_relative_gap: float = float("nan")
     rounds: int = dataclasses.field(default=0, repr=False)
+    converged: bool = True
 
     def summary(self) -> Any:
-        """As :meth:`CapacityPlan.summary`, with ``median_lower_bound_<unit>`` and
-        ``median_relative_gap``."""
+        """As :meth:`CapacityPlan.summary`, with ``median_lower_bound_<unit>``,
+        ``median_relative_gap``, ``rounds`` and ``converged``."""
         frame = super().summary()
         frame[self._u("median_lower_bound")] = [self.median_lower_bound]
         frame["median_relative_gap"] = [self.median_relative_gap]
+        frame["rounds"] = [self.rounds]
+        frame["converged"] = [self.converged]
         return frame
 
 
@@ -277,6 +284,7 @@ def capacity_allocation(
 def capacitated_p_median(
     points: ArrayLike, p: int, capacities: ArrayLike, weights: ArrayLike | None = None, *,
     candidates: ArrayLike | None = None, seed: int = 0, max_rounds: int = 100, unit: str = "u",
+    time_limit: float | None = None, progress: bool | Callable[[int, int], object] = False,
 ) -> CapacitatedMedianPlan:
     """``p`` sites with capacities and the least total distance ``Σ amount × distance``.
 
@@ -306,6 +314,18 @@ def capacitated_p_median(
         Most location–allocation rounds.
     unit : str
         Name of the coordinates' length unit.
+    time_limit : float, optional
+        Seconds (finite, above zero) the run may take. When they pass after the first
+        transportation plan, the best plan so far is returned with ``converged`` False
+        (with candidates and no time left for the relaxation, ``median_lower_bound`` and
+        ``median_relative_gap`` are NaN: nothing is proven); before it, no plan meeting the
+        capacities exists yet and an ``InputError`` names ``time_limit``. Default: no limit.
+    progress : bool or callable
+        True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
+        callable is called as ``progress(done, total)`` from the calling thread while the
+        run works, counting the start, the first plan and the rounds against
+        ``max_rounds`` (closed at the total when the run ends). Ctrl-C stops the run
+        within a fraction of a second and raises ``KeyboardInterrupt``.
 
     Returns
     -------
@@ -315,7 +335,8 @@ def capacitated_p_median(
     ------
     InputError
         As :func:`capacity_allocation`; for ``p`` out of range; when the capacities (with
-        candidates: the ``p`` largest) cannot hold the demand.
+        candidates: the ``p`` largest) cannot hold the demand; naming ``time_limit`` when
+        it passed before the first plan.
 
     Examples
     --------
@@ -327,7 +348,8 @@ def capacitated_p_median(
     >>> plan.chosen.tolist(), plan.load.tolist()
     ([0, 2], [3.0, 3.0])
     """
-    fields = _core.capacity_p_median(points, p, capacities, weights, candidates, seed, max_rounds)
+    fields = _core.capacity_p_median(points, p, capacities, weights, candidates, seed, max_rounds, time_limit,
+                                     progress)
     sites = fields.pop("sites")
     caps = fields.pop("capacities")
     return CapacitatedMedianPlan(**fields, points=as_points(points), sites=sites, capacities=caps, unit=unit)

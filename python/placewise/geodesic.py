@@ -162,8 +162,8 @@ def weber_point(
         Largest number of exact geodesic passes over the points (``iterations`` counts
         them; the start is found on Gauss's conformal sphere, and from 262,144 points on
         its first step is estimated from a sample of 65,536 of them, outside this count).
-        Without ``groups``, Ctrl-C stops the descent within a pass and raises
-        ``KeyboardInterrupt``.
+        Ctrl-C stops the descent (every group's, with ``groups``) within a fraction of a
+        pass and raises ``KeyboardInterrupt``.
     errors : {"raise", "skip"}
         With ``groups``: fail on the first group without an answer, or keep it with its
         ``problem``.
@@ -275,30 +275,69 @@ class GeodesicCenters(_CenterTable, _GroupedWithSupport):
 @overload
 def minimax_point(
     points: ArrayLike, weights: ArrayLike | None = None, *, groups: None = None, tol: float = 1e-9,
-    max_iter: int = 200, errors: Literal["raise", "skip"] = "raise",
+    max_iter: int = 200, errors: Literal["raise", "skip"] = "raise", time_limit: float | None = None,
+    progress: bool | Callable[[int, int], object] = False,
 ) -> GeodesicCenter: ...
 
 
 @overload
 def minimax_point(
     points: ArrayLike, weights: ArrayLike | None = None, *, groups: ArrayLike, tol: float = 1e-9,
-    max_iter: int = 200, errors: Literal["raise", "skip"] = "raise",
+    max_iter: int = 200, errors: Literal["raise", "skip"] = "raise", time_limit: float | None = None,
+    progress: bool | Callable[[int, int], object] = False,
 ) -> GeodesicCenters: ...
 
 
 def minimax_point(
     points: ArrayLike, weights: ArrayLike | None = None, *, groups: ArrayLike | None = None, tol: float = 1e-9,
-    max_iter: int = 200, errors: Literal["raise", "skip"] = "raise",
+    max_iter: int = 200, errors: Literal["raise", "skip"] = "raise", time_limit: float | None = None,
+    progress: bool | Callable[[int, int], object] = False,
 ) -> GeodesicCenter | GeodesicCenters:
     """The weighted minimax point (1-center) on the ellipsoid: the site whose largest
     weight × geodesic distance is least.
 
-    Parameters are those of :func:`weber_point` (``max_iter`` counts recentred planar
-    solves).
+    Parameters
+    ----------
+    points : array_like, shape (n, 2)
+        ``[longitude, latitude]`` in degrees.
+    weights : array_like, shape (n,), optional
+        Finite, non-negative weight per point, not all zero. Default: all 1.
+    groups : array_like of int, shape (n,), optional
+        Group labels: solve every group at once and return ``GeodesicCenters``.
+    tol : float
+        Stop when the certified gap is at most ``tol * weighted_radius``.
+    max_iter : int
+        Largest number of iterations (recentred planar solves, each after one exact
+        geodesic pass over the points).
+    errors : {"raise", "skip"}
+        With ``groups``: fail on the first group without an answer, or keep it with its
+        ``problem``.
+    time_limit : float, optional
+        Seconds (finite, above zero) that the run (each group's, with ``groups``) may take;
+        when they pass, the best centre reached is returned with its true
+        ``weighted_radius`` and proven ``gap``, and ``converged`` False unless that gap
+        already meets ``tol``. The first pass over the points (at the start) always ends,
+        so a run may overrun a very short limit by that pass (about a second per million
+        points). Default: no limit.
+    progress : bool or callable
+        True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
+        callable is called as ``progress(done, total)`` from the calling thread while the
+        run works. It counts iterations against ``max_iter`` (closed at the total when the
+        run ends), or with ``groups`` the points of finished groups. Ctrl-C stops the run
+        within a fraction of a second and raises ``KeyboardInterrupt``.
 
     Returns
     -------
     GeodesicCenter or GeodesicCenters
+        ``weighted_radius`` and ``gap`` are weight × metres (columns ``weighted_radius_m``,
+        ``gap_m``).
+
+    Raises
+    ------
+    InputError
+        For bad coordinates (named by row), weights or options.
+    DegenerateInputError
+        For points spanning more than a hemisphere around their mean direction.
 
     Examples
     --------
@@ -310,8 +349,9 @@ def minimax_point(
     (True, True)
     """
     if groups is None:
-        return GeodesicCenter(**_core.geodesic_minimax_single(points, weights, tol, max_iter), unit="m")
-    fields = _core.geodesic_minimax_grouped(points, weights, groups, tol, max_iter, errors)
+        return GeodesicCenter(**_core.geodesic_minimax_single(points, weights, tol, max_iter, time_limit, progress),
+                              unit="m")
+    fields = _core.geodesic_minimax_grouped(points, weights, groups, tol, max_iter, errors, time_limit, progress)
     return GeodesicCenters._from_core(fields, row_group=Grouped._row_groups_of(fields["labels"], groups), unit="m")
 
 
@@ -431,23 +471,36 @@ class GeodesicCircles(_GeodesicCircleTable, _GroupedWithSupport):
 @overload
 def enclosing_circle(
     points: ArrayLike, *, groups: None = None, tol: float = 1e-9, max_iter: int = 200,
-    errors: Literal["raise", "skip"] = "raise",
+    errors: Literal["raise", "skip"] = "raise", time_limit: float | None = None,
+    progress: bool | Callable[[int, int], object] = False,
 ) -> GeodesicCircle: ...
 
 
 @overload
 def enclosing_circle(
     points: ArrayLike, *, groups: ArrayLike, tol: float = 1e-9, max_iter: int = 200,
-    errors: Literal["raise", "skip"] = "raise",
+    errors: Literal["raise", "skip"] = "raise", time_limit: float | None = None,
+    progress: bool | Callable[[int, int], object] = False,
 ) -> GeodesicCircles: ...
 
 
 def enclosing_circle(
     points: ArrayLike, *, groups: ArrayLike | None = None, tol: float = 1e-9, max_iter: int = 200,
-    errors: Literal["raise", "skip"] = "raise",
+    errors: Literal["raise", "skip"] = "raise", time_limit: float | None = None,
+    progress: bool | Callable[[int, int], object] = False,
 ) -> GeodesicCircle | GeodesicCircles:
     """The smallest geodesic circle covering longitude/latitude points (per group with
     ``groups``): the unweighted :func:`minimax_point` with the disc's area.
+
+    Parameters are those of :func:`minimax_point` without ``weights``. A run cut short by
+    ``time_limit`` returns the circle about the best centre reached: it still covers every
+    point (``radius`` is that centre's largest distance, metres), with ``converged`` False
+    unless its proven ``gap`` already meets ``tol``.
+
+    Returns
+    -------
+    GeodesicCircle or GeodesicCircles
+        ``radius`` and ``gap`` in metres, ``area`` in square metres.
 
     Examples
     --------
@@ -459,8 +512,8 @@ def enclosing_circle(
     'MultiPolygon'
     """
     if groups is None:
-        return GeodesicCircle(**_core.geodesic_circle_single(points, tol, max_iter), unit="m")
-    fields = _core.geodesic_circle_grouped(points, groups, tol, max_iter, errors)
+        return GeodesicCircle(**_core.geodesic_circle_single(points, tol, max_iter, time_limit, progress), unit="m")
+    fields = _core.geodesic_circle_grouped(points, groups, tol, max_iter, errors, time_limit, progress)
     return GeodesicCircles._from_core(fields, row_group=Grouped._row_groups_of(fields["labels"], groups), unit="m")
 
 

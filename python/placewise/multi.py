@@ -130,7 +130,7 @@ def _refuse(argument: str, text: str) -> NoReturn:
 
 def _capacitated(points: ArrayLike, p: int, weights: ArrayLike | None, capacities: ArrayLike | None, *,
                  candidates: ArrayLike | None, seed: int, effort: str, allow_unserved: bool,
-                 **unsupported: Any) -> CapacitatedMedianPlan:
+                 time_limit: float | None, progress: Any, **unsupported: Any) -> CapacitatedMedianPlan:
     """``p_median(capacities=...)``: the one capacitated kernel, with the options it has no
     form of refused by name rather than ignored."""
     if capacities is None:
@@ -144,7 +144,8 @@ def _capacitated(points: ArrayLike, p: int, weights: ArrayLike | None, capacitie
     if effort != "normal":
         _refuse("effort", "effort is not supported with capacities (location-allocation runs until the cost "
                 "stops falling)")
-    return capacitated_p_median(points, p, capacities, weights, candidates=candidates, seed=seed)
+    return capacitated_p_median(points, p, capacities, weights, candidates=candidates, seed=seed,
+                                time_limit=time_limit, progress=progress)
 
 
 # ------------------------------------------------------------------------------- tables
@@ -592,9 +593,10 @@ def p_median(
         ``candidates``: shape (m,), one per candidate; the plan then reports a proven lower
         bound and gap (``median_relative_gap``). Returns a
         :class:`placewise.CapacitatedMedianPlan`, whose ``sites_frame()`` has every site's
-        ``capacity``, ``load`` and ``slack``. ``groups``, ``fixed``, ``region``,
-        ``time_limit``, ``progress`` and an ``effort`` other than "normal" are refused with
-        capacities (the capacitated search has no such forms).
+        ``capacity``, ``load`` and ``slack``. ``time_limit`` and ``progress`` work as in
+        :func:`placewise.capacitated_p_median` (a plan cut short has ``converged`` False).
+        ``groups``, ``fixed``, ``region`` and an ``effort`` other than "normal" are refused
+        with capacities (the capacitated search has no such forms).
     allow_unserved : bool
         Only meaningful with ``capacities``, and not supported by the capacitated p-median:
         True is refused with an ``InputError`` (a plan of ``p`` sites needs capacities that

@@ -137,11 +137,23 @@ pub(crate) fn allocate_with_flows(
     weights: Weights<'_>,
     options: &AllocationOptions,
 ) -> Result<(CapacityAllocation, Flows)> {
+    allocate_on_clock(points, sites, capacities, weights, options, &options.limits.clock())
+}
+
+/// [`allocate_with_flows`] stopped by `clock` instead of `options.limits` (for a kernel that
+/// allocates inside a run of its own, under the run's deadline).
+pub(crate) fn allocate_on_clock(
+    points: &[Point],
+    sites: &[Point],
+    capacities: &[f64],
+    weights: Weights<'_>,
+    options: &AllocationOptions,
+    clock: &Clock,
+) -> Result<(CapacityAllocation, Flows)> {
     let (demand, capacity) = validate(points, sites, capacities, weights)?;
     let short = shortfall(demand, capacity, options.allow_unserved)?;
-    let clock = options.limits.clock();
     let mut steps = Steps::new(&clock.watch, 2);
-    let plan = split_plan(points, sites, capacities, weights, short, plain_distance, &clock)?;
+    let plan = split_plan(points, sites, capacities, weights, short, plain_distance, clock)?;
     steps.step();
     let m = sites.len();
     let mut flows = plan.flows;

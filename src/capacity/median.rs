@@ -14,27 +14,41 @@
 //!   most cheaply and has room for them. The transportation plan with *every* candidate
 //!   open is a relaxation (it drops the limit of `p` sites), so its cost is a proven lower
 //!   bound and the gap is reported.
+//!
+//! # Stopping early
+//! [`CapacitatedMedianOptions::limits`] are polled between rounds, between the sites of a
+//! candidate round, and inside every transportation plan. A run stopped after its first
+//! plan returns the best plan found (every plan it keeps meets the capacities exactly),
+//! flagged `converged` false; stopped before it (no plan meeting the capacities exists
+//! yet) it fails with [`super::stopped`]. The uncapacitated start may take half of the
+//! time limit. Progress counts the start's own steps, then the first plan and every round
+//! against `max_rounds`, closed at the total when the run ends.
 
-use super::allocation::{allocate_with_flows, split_plan, AllocationOptions, CapacityAllocation};
+use std::time::Instant;
+
+use super::allocation::{allocate_on_clock, split_plan, AllocationOptions, CapacityAllocation};
 use super::transport::Flows;
 use super::{check_capacities, relative_gap, shortfall, validate};
+use crate::cancel::{Clock, RunLimits, Steps};
 use crate::error::{Error, Result};
 use crate::geometry::{distance, validate_points, CompensatedSum, Point, Weights};
 use crate::median::{weber_point, WeberOptions};
 use crate::multi::{p_median, MedianOptions};
 
 /// Options of [`capacitated_p_median`].
-#[derive(Debug, Clone, Copy)]
+#[derive(Debug, Clone)]
 pub struct CapacitatedMedianOptions {
     /// Seed of the uncapacitated start.
     pub seed: u64,
     /// Most location–allocation rounds.
     pub max_rounds: usize,
+    /// Deadline and cancel flag (see the module's "Stopping early").
+    pub limits: RunLimits,
 }
 
 impl Default for CapacitatedMedianOptions {
     fn default() -> Self {
-        CapacitatedMedianOptions { seed: 0, max_rounds: 100 }
+        CapacitatedMedianOptions { seed: 0, max_rounds: 100, limits: RunLimits::default() }
     }
 }
 
@@ -56,6 +70,10 @@ pub struct CapacitatedMedian {
     pub relative_gap: f64,
     /// Location–allocation rounds run.
     pub rounds: usize,
+    /// True when the rounds ended because moving the sites no longer lowered the cost (a
+    /// local optimum of location–allocation); false when `max_rounds` or the limits cut
+    /// them short.
+    pub converged: bool,
 }
 
 /// Choose `p` capacitated sites for the weighted demand at least total distance, demand split
@@ -84,27 +102,67 @@ pub fn capacitated_p_median(
     if p == 0 {
         return Err(Error::InvalidParameter { name: "p", reason: "p must be at least 1; got 0".into() });
     }
-    let start = p_median(points, weights, p, &[], &MedianOptions { seed: options.seed, ..MedianOptions::default() })?;
+    let clock = options.limits.clock();
+    let mut steps = Steps::new(&clock.watch, options.max_rounds as u64 + 2);
+    let result = plan(points, weights, p, capacities, candidates, options, &clock, &mut steps);
+    steps.finish();
+    result
+}
+
+#[allow(clippy::too_many_arguments)]
+fn plan(
+    points: &[Point],
+    weights: Weights<'_>,
+    p: usize,
+    capacities: &[f64],
+    candidates: Option<&[Point]>,
+    options: &CapacitatedMedianOptions,
+    clock: &Clock,
+    steps: &mut Steps<'_>,
+) -> Result<CapacitatedMedian> {
+    // The start under the run's cancel flag and half of what is left of its deadline (the
+    // rest for the plans that meet the capacities); cut short, it is still a plan. Its own
+    // steps count on the run's watch, so the bar moves while it searches.
+    let half = clock.deadline().map(|d| (d.saturating_duration_since(Instant::now()).as_secs_f64() / 2.0).max(1e-9));
+    let start_options =
+        MedianOptions { seed: options.seed, time_limit: half, watch: clock.watch.clone(), ..MedianOptions::default() };
+    let start = p_median(points, weights, p, &[], &start_options)?;
+    steps.step();
+    let run = Run { points, weights, clock, steps, max_rounds: options.max_rounds };
     match candidates {
-        None => continuous(points, weights, capacities, start.sites, options),
-        Some(c) => discrete(points, weights, p, capacities, c, &start.sites, options),
+        None => continuous(run, capacities, start.sites),
+        Some(c) => discrete(run, p, capacities, c, &start.sites),
     }
+}
+
+/// What every round needs: the demand, the stopping rule and the progress count.
+struct Run<'a, 'b> {
+    points: &'a [Point],
+    weights: Weights<'a>,
+    clock: &'a Clock,
+    steps: &'a mut Steps<'b>,
+    max_rounds: usize,
 }
 
 /// The exact split allocation to `sites` and its flows.
 type Allocated = (CapacityAllocation, Flows);
 
-fn allocate(points: &[Point], sites: &[Point], caps: &[f64], weights: Weights<'_>) -> Result<Allocated> {
-    allocate_with_flows(points, sites, caps, weights, &AllocationOptions::default())
+/// The exact split allocation under the run's clock (the run counts its own steps).
+fn allocate(points: &[Point], sites: &[Point], caps: &[f64], weights: Weights<'_>, clock: &Clock) -> Result<Allocated> {
+    allocate_on_clock(points, sites, caps, weights, &AllocationOptions::default(), &clock.quiet())
 }
 
-fn continuous(
-    points: &[Point],
-    weights: Weights<'_>,
-    capacities: &[f64],
-    mut sites: Vec<Point>,
-    options: &CapacitatedMedianOptions,
-) -> Result<CapacitatedMedian> {
+/// The first plan: without it there is no answer, so a stop before it ends is the error of
+/// [`super::stopped`].
+fn first_plan(run: &mut Run<'_, '_>, sites: &[Point], caps: &[f64]) -> Result<Allocated> {
+    // The transportation plan fails with [`stopped`] when the limits cut it short.
+    let plan = allocate(run.points, sites, caps, run.weights, run.clock)?;
+    run.steps.step();
+    Ok(plan)
+}
+
+fn continuous(mut run: Run<'_, '_>, capacities: &[f64], mut sites: Vec<Point>) -> Result<CapacitatedMedian> {
+    let (points, weights) = (run.points, run.weights);
     if capacities.len() != sites.len() {
         return Err(Error::InvalidParameter {
             name: "capacities",
@@ -117,10 +175,12 @@ fn continuous(
     }
     let (demand, capacity) = validate(points, &sites, capacities, weights)?;
     shortfall(demand, capacity, false)?;
-    let mut best = allocate(points, &sites, capacities, weights)?;
+    let mut best = first_plan(&mut run, &sites, capacities)?;
     let mut rounds = 0;
-    while rounds < options.max_rounds {
+    let mut converged = false;
+    while rounds < run.max_rounds && !run.clock.stop() {
         rounds += 1;
+        run.steps.step();
         let moved: Vec<Point> = (0..sites.len())
             .map(|j| {
                 let (pts, amounts) = served_by(points, &best.1, j);
@@ -130,14 +190,16 @@ fn continuous(
                 Ok(weber_point(&pts, Weights::Given(&amounts), &WeberOptions::default())?.location)
             })
             .collect::<Result<_>>()?;
-        let next = match allocate(points, &moved, capacities, weights) {
-            Ok(a) => a,
-            Err(_) => break,
+        // A plan cut short by the limits is an error here: the best plan so far stands.
+        let Ok(next) = allocate(points, &moved, capacities, weights, run.clock) else {
+            converged = !run.clock.stop();
+            break;
         };
         if next.0.total_cost < best.0.total_cost * (1.0 - 1e-12) {
             sites = moved;
             best = next;
         } else {
+            converged = true;
             break;
         }
     }
@@ -149,6 +211,7 @@ fn continuous(
         lower_bound: f64::NAN,
         relative_gap: f64::NAN,
         rounds,
+        converged,
     })
 }
 
@@ -168,14 +231,13 @@ fn served_by(points: &[Point], flows: &Flows, j: usize) -> (Vec<Point>, Vec<f64>
 }
 
 fn discrete(
-    points: &[Point],
-    weights: Weights<'_>,
+    mut run: Run<'_, '_>,
     p: usize,
     capacities: &[f64],
     candidates: &[Point],
     start: &[Point],
-    options: &CapacitatedMedianOptions,
 ) -> Result<CapacitatedMedian> {
+    let (points, weights) = (run.points, run.weights);
     validate_points("candidates", candidates, 1)?;
     check_capacities(candidates, capacities)?;
     let m = candidates.len();
@@ -220,18 +282,23 @@ fn discrete(
         chosen[k] = big;
         held += capacities[big] - capacities[small];
     }
-    let plan_of = |chosen: &[usize]| {
-        let sites: Vec<Point> = chosen.iter().map(|&j| candidates[j]).collect();
-        let caps: Vec<f64> = chosen.iter().map(|&j| capacities[j]).collect();
-        allocate(points, &sites, &caps, weights)
+    let picked = |chosen: &[usize]| -> (Vec<Point>, Vec<f64>) {
+        (chosen.iter().map(|&j| candidates[j]).collect(), chosen.iter().map(|&j| capacities[j]).collect())
     };
-    let mut best = plan_of(&chosen)?;
+    let (sites, caps) = picked(&chosen);
+    let mut best = first_plan(&mut run, &sites, &caps)?;
     let mut rounds = 0;
-    while rounds < options.max_rounds {
+    let mut converged = false;
+    'rounds: while rounds < run.max_rounds && !run.clock.stop() {
         rounds += 1;
+        run.steps.step();
         let mut next = chosen.clone();
         let mut taken = used.clone();
         for k in 0..p {
+            // Each site's move scans every candidate over its demand: poll between sites.
+            if run.clock.stop() {
+                break 'rounds;
+            }
             let (pts, amounts) = served_by(points, &best.1, k);
             let load: f64 = amounts.iter().sum();
             let cost_at = |c: usize| {
@@ -253,41 +320,45 @@ fn discrete(
             next[k] = pick.1;
         }
         if next == chosen {
+            converged = true;
             break;
         }
-        let plan = plan_of(&next)?;
+        let (sites, caps) = picked(&next);
+        let Ok(plan) = allocate(points, &sites, &caps, weights, run.clock) else {
+            // Cut short by the limits (the sites' capacities hold the demand: no other
+            // error is possible once the first plan exists); the best plan so far stands.
+            break;
+        };
         if plan.0.total_cost < best.0.total_cost * (1.0 - 1e-12) {
             chosen = next;
             used = taken;
             best = plan;
         } else {
+            converged = true;
             break;
         }
     }
-    // Relaxation: every candidate open.
-    let relaxed = split_plan(
-        points,
-        candidates,
-        capacities,
-        weights,
-        0.0,
-        super::plain_distance,
-        &crate::cancel::Clock::unlimited(),
-    )?;
-    let mut lower = CompensatedSum::default();
-    for (i, f) in relaxed.flows.iter().enumerate() {
-        for &(j, x) in f {
-            lower.add(x * distance(points[i], candidates[j as usize]));
+    // Relaxation: every candidate open. Stopped by the limits, it proves nothing (NaN).
+    let lower_bound = match split_plan(points, candidates, capacities, weights, 0.0, super::plain_distance, run.clock) {
+        Ok(relaxed) if !run.clock.stop() => {
+            let mut lower = CompensatedSum::default();
+            for (i, f) in relaxed.flows.iter().enumerate() {
+                for &(j, x) in f {
+                    lower.add(x * distance(points[i], candidates[j as usize]));
+                }
+            }
+            lower.total().min(best.0.total_cost)
         }
-    }
-    let lower_bound = lower.total().min(best.0.total_cost);
+        _ => f64::NAN,
+    };
     Ok(CapacitatedMedian {
         sites: chosen.iter().map(|&j| candidates[j]).collect(),
         capacities: chosen.iter().map(|&j| capacities[j]).collect(),
-        relative_gap: relative_gap(best.0.total_cost, lower_bound),
+        relative_gap: if lower_bound.is_nan() { f64::NAN } else { relative_gap(best.0.total_cost, lower_bound) },
         chosen,
         allocation: best.0,
         lower_bound,
         rounds,
+        converged,
     })
 }

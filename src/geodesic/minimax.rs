@@ -21,27 +21,39 @@
 //!   `F* ≥ Σλᵢ(wᵢsᵢ) − ‖Σλᵢwᵢuᵢ‖·D`, `uᵢ` the unit tangents at `c` and `D = 2F(c)/w_max` a
 //!   bound on the distance to the optimum (triangle inequality); `λ` is the minimal-norm
 //!   point of the convex hull of the active directions.
+//!
+//! # Stopping early
+//! The run polls its clock ([`CenterOptions::limits`]) before every iteration and per chunk
+//! of [`CHUNK`] points inside every pass over the points, so Ctrl-C lands within a fraction
+//! of a pass. The first pass (at the start centre) is stopped by a cancel only, never by
+//! the deadline: after it every centre held has a measured radius and a valid certificate,
+//! and a run cut short returns the best centre reached with `converged` false unless its
+//! certificate already holds. A pass cut short is never used.
 
 use rayon::prelude::*;
 
 use super::earth::{Earth, Seen};
-use super::weber::{spread, within_hemisphere, CONVEX_CAP_DEGREES, DISTANCE_ACCURACY_M};
+use super::weber::{spread, within_hemisphere, CHUNK, CONVEX_CAP_DEGREES, DISTANCE_ACCURACY_M, PARALLEL_MIN_POINTS};
+use crate::cancel::{Clock, RunLimits, Steps};
 use crate::enclose::minimax_point;
 use crate::error::Result;
 use crate::geometry::{Point, Weights};
 
 /// Options of the geodesic minimax point and enclosing circle.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct CenterOptions {
     /// Stop when the certified gap is at most `tol · radius`.
     pub tol: f64,
     /// Largest number of recentred planar solves.
     pub max_iter: usize,
+    /// Deadline and cancel flag (see the module's "Stopping early"); progress counts
+    /// iterations against `max_iter`, closed at the total when the run ends.
+    pub limits: RunLimits,
 }
 
 impl Default for CenterOptions {
     fn default() -> Self {
-        CenterOptions { tol: 1e-9, max_iter: 200 }
+        CenterOptions { tol: 1e-9, max_iter: 200, limits: RunLimits::default() }
     }
 }
 
@@ -59,7 +71,8 @@ pub struct GeodesicCenter {
     pub support: Vec<usize>,
     /// Recentred planar solves used.
     pub iterations: usize,
-    /// True when `gap ≤ tol · radius`.
+    /// True when `gap ≤ tol · radius` (a run stopped early may still be converged when its
+    /// certificate holds).
     pub converged: bool,
 }
 
@@ -71,8 +84,24 @@ struct Frame {
 }
 
 impl Frame {
-    fn look(&self, earth: &Earth, points: &[Point], c: Point) -> Vec<Seen> {
-        self.rows.par_iter().map(|&i| earth.seen_from(c, points[i])).collect()
+    /// Every positive-weight point seen from `c`; `None` when `clock` said stop (asked per
+    /// chunk of [`CHUNK`] points, about a millisecond of work each).
+    fn look(&self, earth: &Earth, points: &[Point], c: Point, clock: &Clock) -> Option<Vec<Seen>> {
+        let blank = Seen { distance: 0.0, direction: [0.0, 0.0] };
+        let mut seen = vec![blank; self.rows.len()];
+        let fill = |out: &mut [Seen], rows: &[usize]| {
+            if clock.stop() {
+                return false;
+            }
+            out.iter_mut().zip(rows).for_each(|(o, &i)| *o = earth.seen_from(c, points[i]));
+            true
+        };
+        let complete = if self.rows.len() < PARALLEL_MIN_POINTS {
+            fill(&mut seen, &self.rows)
+        } else {
+            seen.par_chunks_mut(CHUNK).zip(self.rows.par_chunks(CHUNK)).all(|(out, rows)| fill(out, rows))
+        };
+        complete.then_some(seen)
     }
 
     fn objective(&self, seen: &[Seen]) -> f64 {
@@ -166,7 +195,23 @@ fn lower_bound(
 }
 
 /// Solve. Inputs validated (longitude/latitude, weights); at least one weight positive.
+/// Stops early when `options.limits` say so (see the module's "Stopping early"); every
+/// iteration is a step of the watch, planned as `max_iter` and closed at the end.
 pub(crate) fn solve(points: &[Point], weights: Weights<'_>, options: &CenterOptions) -> Result<GeodesicCenter> {
+    let clock = options.limits.clock();
+    let mut steps = Steps::new(&clock.watch, options.max_iter as u64);
+    let result = descend(points, weights, options, &clock, &mut steps);
+    steps.finish();
+    result
+}
+
+fn descend(
+    points: &[Point],
+    weights: Weights<'_>,
+    options: &CenterOptions,
+    clock: &Clock,
+    steps: &mut Steps<'_>,
+) -> Result<GeodesicCenter> {
     let spread = spread(points, weights);
     within_hemisphere(&spread, "minimax objective")?;
     let convex = spread.radius_degrees <= CONVEX_CAP_DEGREES;
@@ -174,15 +219,27 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, options: &CenterOpti
     let rows: Vec<usize> = (0..points.len()).filter(|&i| weights.get(i) > 0.0).collect();
     let frame = Frame { weights: rows.iter().map(|&i| weights.get(i)).collect(), rows };
     let mut c = spread.centre;
-    let mut seen = frame.look(&earth, points, c);
+    // The first pass gives the start its radius: only a cancel stops it (the caller then
+    // drops the answer), so a run out of time still has a measured centre to return.
+    let Some(mut seen) = frame.look(&earth, points, c, &clock.watch.clock(None)) else {
+        return Ok(GeodesicCenter {
+            location: [super::earth::normalised_longitude(c[0]), c[1]],
+            radius: f64::NAN,
+            gap: f64::INFINITY,
+            support: Vec::new(),
+            iterations: 0,
+            converged: false,
+        });
+    };
     let mut radius = frame.objective(&seen);
     let mut iterations = 0;
     let mut support: Vec<usize> = Vec::new();
     // Lower bounds hold for the optimum whatever the centre they were computed at: keep the best.
     let mut lower = 0.0f64;
     let w_max = frame.weights.iter().cloned().fold(0.0, f64::max);
-    while iterations < options.max_iter {
+    'descent: while iterations < options.max_iter && !clock.stop() {
         iterations += 1;
+        steps.step();
         let local: Vec<Point> =
             seen.iter().map(|s| [s.distance * s.direction[0], s.distance * s.direction[1]]).collect();
         let planar = minimax_point(&local, Weights::Given(&frame.weights))?;
@@ -203,7 +260,10 @@ pub(crate) fn solve(points: &[Point], weights: Weights<'_>, options: &CenterOpti
                 break;
             }
             let trial = earth.exp(c, step);
-            let trial_seen = frame.look(&earth, points, trial);
+            // A trial pass cut short is dropped: the centre held keeps its radius and support.
+            let Some(trial_seen) = frame.look(&earth, points, trial, clock) else {
+                break 'descent;
+            };
             let trial_radius = frame.objective(&trial_seen);
             if trial_radius < radius {
                 c = trial;

@@ -23,7 +23,7 @@ mod sphere;
 mod weber;
 
 use crate::batch::{run_grouped, Grouped, OnGroupError};
-use crate::cancel::Watch;
+use crate::cancel::{RunLimits, Watch};
 use crate::error::{Error, Result};
 use crate::geometry::{validate_iteration, validate_weights, Point, Weights};
 use crate::median::{Metric, WeberOptions, WeberPoint};
@@ -149,16 +149,63 @@ pub fn geodesic_weber_points(
     options: &WeberOptions,
     on_error: OnGroupError,
 ) -> Result<Grouped<WeberPoint>> {
+    geodesic_weber_points_watched(points, weights, labels, options, on_error, &Watch::new())
+}
+
+/// [`geodesic_weber_points`] watched: every group's descent stops early once `watch` is
+/// cancelled (as [`geodesic_weber_point_watched`]); progress counts the points of finished
+/// groups.
+///
+/// # Errors
+/// As [`geodesic_weber_points`].
+pub fn geodesic_weber_points_watched(
+    points: &[Point],
+    weights: Weights<'_>,
+    labels: &[i64],
+    options: &WeberOptions,
+    on_error: OnGroupError,
+    watch: &Watch,
+) -> Result<Grouped<WeberPoint>> {
     check_weber(options)?;
-    run_grouped(points, weights, labels, on_error, |g| geodesic_weber_point(g.points, g.weights, options))
+    let inner = watch.quiet();
+    watch.plan(points.len() as u64);
+    run_grouped(points, weights, labels, on_error, |g| {
+        if watch.is_cancelled() {
+            return Err(not_started());
+        }
+        let r = geodesic_weber_point_watched(g.points, g.weights, options, &inner);
+        watch.advance(g.points.len() as u64);
+        r
+    })
+}
+
+/// The outcome of a group not yet started when its grouped run was cancelled: never seen,
+/// since the caller drops a cancelled run's answer ([`Watch::finish`]). Skipping such groups
+/// spares each one the unpolled set-up of its kernel (an O(n) pass or two), which on large
+/// groups would add up to seconds after Ctrl-C.
+fn not_started() -> Error {
+    Error::InvalidParameter { name: "groups", reason: "the run was cancelled before this group started".into() }
 }
 
 fn check_center(options: &CenterOptions) -> Result<()> {
     validate_iteration(options.max_iter, options.tol)
 }
 
+/// The options of one group's run inside a grouped run: the same tolerance, iterations and
+/// time limit (each group's own, from its start), the caller's cancel flag, and no progress
+/// of its own (the grouped run counts the points of finished groups).
+fn group_options(options: &CenterOptions) -> CenterOptions {
+    let limits = RunLimits { time_limit: options.limits.time_limit, watch: options.limits.watch.quiet() };
+    CenterOptions { limits, ..options.clone() }
+}
+
 /// The weighted minimax point (1-center) of longitude/latitude points on the WGS84
 /// ellipsoid: the site whose largest weight × geodesic distance is least.
+///
+/// `options.limits` stop the run early (Ctrl-C, or `time_limit` seconds): the best centre
+/// reached is returned with `converged` false unless its certificate already holds. The
+/// first pass over the points always ends (unless cancelled), so the answer has a measured
+/// radius; with no iteration run its gap is the radius itself.
 ///
 /// # Errors
 /// As [`geodesic_weber_point`] (without the metric).
@@ -178,6 +225,8 @@ pub fn geodesic_minimax_point(
 }
 
 /// [`geodesic_minimax_point`] for every group, in parallel; `support` names input rows.
+/// `options.limits`: the time limit applies to each group's run from its start; progress
+/// counts the points of finished groups.
 ///
 /// # Errors
 /// As [`geodesic_minimax_point`], with [`Error::InGroup`] naming the group.
@@ -189,8 +238,16 @@ pub fn geodesic_minimax_points(
     on_error: OnGroupError,
 ) -> Result<Grouped<GeodesicCenter>> {
     check_center(options)?;
+    let inner = group_options(options);
+    let watch = &options.limits.watch;
+    watch.plan(points.len() as u64);
     run_grouped(points, weights, labels, on_error, |g| {
-        let mut r = geodesic_minimax_point(g.points, g.weights, options)?;
+        if watch.is_cancelled() {
+            return Err(not_started());
+        }
+        let r = geodesic_minimax_point(g.points, g.weights, &inner);
+        watch.advance(g.points.len() as u64);
+        let mut r = r?;
         r.support.iter_mut().for_each(|s| *s = g.members[*s]);
         Ok(r)
     })
@@ -207,7 +264,9 @@ pub struct GeodesicCircle {
     pub area: f64,
 }
 
-/// The smallest geodesic circle covering `points`.
+/// The smallest geodesic circle covering `points`; stopped early as
+/// [`geodesic_minimax_point`] (the circle about the best centre reached still covers every
+/// point: its radius is that centre's largest distance).
 ///
 /// # Errors
 /// As [`geodesic_minimax_point`].
@@ -216,11 +275,13 @@ pub struct GeodesicCircle {
 /// That of [`geodesic_minimax_point`] plus 6144 direct and inverse problems for the area.
 pub fn geodesic_enclosing_circle(points: &[Point], options: &CenterOptions) -> Result<GeodesicCircle> {
     let center = geodesic_minimax_point(points, Weights::Unit, options)?;
-    let area = disc_area(center.location, center.radius);
+    // NaN only for a run cancelled in its first pass, whose answer the caller drops.
+    let area = if center.radius.is_nan() { f64::NAN } else { disc_area(center.location, center.radius) };
     Ok(GeodesicCircle { center, area })
 }
 
 /// [`geodesic_enclosing_circle`] for every group, in parallel; `support` names input rows.
+/// `options.limits` as in [`geodesic_minimax_points`].
 ///
 /// # Errors
 /// As [`geodesic_enclosing_circle`], with [`Error::InGroup`] naming the group.
@@ -231,8 +292,16 @@ pub fn geodesic_enclosing_circles(
     on_error: OnGroupError,
 ) -> Result<Grouped<GeodesicCircle>> {
     check_center(options)?;
+    let inner = group_options(options);
+    let watch = &options.limits.watch;
+    watch.plan(points.len() as u64);
     run_grouped(points, Weights::Unit, labels, on_error, |g| {
-        let mut r = geodesic_enclosing_circle(g.points, options)?;
+        if watch.is_cancelled() {
+            return Err(not_started());
+        }
+        let r = geodesic_enclosing_circle(g.points, &inner);
+        watch.advance(g.points.len() as u64);
+        let mut r = r?;
         r.center.support.iter_mut().for_each(|s| *s = g.members[*s]);
         Ok(r)
     })

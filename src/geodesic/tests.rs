@@ -162,3 +162,34 @@ fn default_tolerance_reports_the_geographiclib_cost_of_its_site() {
     let strict = geodesic_weber_point(&pts, Weights::Unit, &WeberOptions { tol: 1e-12, ..Default::default() }).unwrap();
     assert!(r.cost - strict.cost <= r.gap, "{r:?} {strict:?}");
 }
+
+#[test]
+fn a_spent_time_limit_returns_the_start_with_its_true_radius_and_a_valid_gap() {
+    // Brute force: the radius reported is the largest weighted distance from the centre
+    // returned, and radius − gap stays below the optimum the full run reaches.
+    let mut rng = SplitMix64::new(41);
+    let pts: Vec<Point> = (0..5_000).map(|_| [rng.next_f64() * 40.0 - 20.0, rng.next_f64() * 30.0 + 30.0]).collect();
+    let w: Vec<f64> = (0..pts.len()).map(|_| 1.0 + rng.next_f64()).collect();
+    let full = geodesic_minimax_point(&pts, Weights::Given(&w), &CenterOptions::default()).unwrap();
+    let watch = crate::cancel::Watch::new();
+    let spent = CenterOptions {
+        limits: crate::cancel::RunLimits { time_limit: Some(0.0), watch: watch.clone() },
+        ..CenterOptions::default()
+    };
+    let cut = geodesic_minimax_point(&pts, Weights::Given(&w), &spent).unwrap();
+    let earth = Earth::wgs84();
+    let largest = pts.iter().zip(&w).map(|(&p, &wi)| wi * earth.distance(cut.location, p)).fold(0.0, f64::max);
+    assert_eq!(cut.iterations, 0);
+    assert!(!cut.converged && (cut.radius - largest).abs() <= 1e-9 * largest, "{cut:?} {largest}");
+    assert!(cut.radius - cut.gap <= full.radius && full.radius - full.gap <= cut.radius, "{cut:?} {full:?}");
+    // Progress closes at the total planned (max_iter) whatever path the run took.
+    assert_eq!(watch.progress(), (200, 200));
+    // A cancelled watch also stops the run; the caller drops its answer (Watch::finish).
+    watch.cancel();
+    let cancelled = CenterOptions {
+        limits: crate::cancel::RunLimits { time_limit: None, watch: watch.clone() },
+        ..CenterOptions::default()
+    };
+    let r = geodesic_enclosing_circle(&pts, &cancelled).unwrap();
+    assert!(!r.center.converged && watch.finish(r).is_err());
+}

@@ -8,7 +8,7 @@ use super::convert::{as_point_slice, count_arg, float_arg, region_arg, seed_arg,
 use super::fields::Fields;
 use super::partition::cell_fields;
 use super::runtime::{progress_arg, run_watched};
-use super::{points_arg, run_detached, weights_arg};
+use super::{points_arg, weights_arg};
 use crate::cancel::{RunLimits, Watch};
 use crate::capacity::{
     capacitated_p_median, capacity_allocation, capacity_cells, AllocationOptions, CapacitatedMedianOptions,
@@ -91,7 +91,7 @@ fn capacity_allocate<'py>(
 /// Fields: the sites, chosen candidate rows, their capacities, bound, gap, rounds and the
 /// allocation's fields.
 #[pyfunction]
-#[pyo3(signature = (points, p, capacities, weights, candidates, seed, max_rounds))]
+#[pyo3(signature = (points, p, capacities, weights, candidates, seed, max_rounds, time_limit=None, progress=None))]
 #[allow(clippy::too_many_arguments)]
 fn capacity_p_median<'py>(
     py: Python<'py>,
@@ -102,12 +102,16 @@ fn capacity_p_median<'py>(
     candidates: Option<&Bound<'py, PyAny>>,
     seed: &Bound<'py, PyAny>,
     max_rounds: &Bound<'py, PyAny>,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let p = count_arg(p, "p", 1, usize::MAX)?;
     let options = CapacitatedMedianOptions {
         seed: seed_arg(seed)?,
         max_rounds: count_arg(max_rounds, "max_rounds", 1, usize::MAX)?,
+        limits: RunLimits { time_limit: time_limit_arg(time_limit)?, watch: Watch::new() },
     };
+    let mut progress = progress_arg(progress, "capacitated_p_median (rounds)")?;
     let pts = points_arg(points, "points")?;
     let cands = candidates.filter(|c| !c.is_none()).map(|c| points_arg(c, "candidates")).transpose()?;
     let caps = capacities_arg(capacities)?;
@@ -116,7 +120,10 @@ fn capacity_p_median<'py>(
     let cands = cands.as_ref().map(as_point_slice);
     let c = caps.as_slice()?;
     let w = w.as_ref().map(|w| w.as_slice()).transpose()?;
-    let plan = run_detached(py, || capacitated_p_median(pts, Weights::from_option(w), p, c, cands, &options))?;
+    let watch = &options.limits.watch;
+    let plan = run_watched(py, watch, &mut progress, || {
+        capacitated_p_median(pts, Weights::from_option(w), p, c, cands, &options)
+    })?;
     let chosen: Vec<i64> = plan.chosen.iter().map(|&j| j as i64).collect();
     let fields = Fields::new(py)
         .put("sites", points_array(py, &plan.sites)?)?
@@ -124,7 +131,8 @@ fn capacity_p_median<'py>(
         .put("capacities", PyArray1::from_slice(py, &plan.capacities))?
         .put("median_lower_bound", plan.lower_bound)?
         .put("median_relative_gap", plan.relative_gap)?
-        .put("rounds", plan.rounds)?;
+        .put("rounds", plan.rounds)?
+        .put("converged", plan.converged)?;
     Ok(allocation_fields(py, fields, &plan.allocation)?.done())
 }
 

@@ -7,16 +7,18 @@ use numpy::{PyArray1, PyArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
 
-use super::convert::{as_point_slice, count_arg, float_arg, index_array, index_values, on_error_arg, Cloud};
+use super::convert::{
+    as_point_slice, count_arg, float_arg, index_array, index_values, on_error_arg, time_limit_arg, Cloud,
+};
 use super::fields::Fields;
 use super::runtime::{progress_arg, run_watched, Progress};
 use super::{labels_arg, points_arg, run_detached, weights_arg};
 use crate::batch::{Grouped, RowPlaces};
-use crate::cancel::Watch;
+use crate::cancel::{RunLimits, Watch};
 use crate::geodesic::{
     geodesic_area, geodesic_circle, geodesic_distances, geodesic_enclosing_circle, geodesic_enclosing_circles,
     geodesic_length, geodesic_minimax_point, geodesic_minimax_points, geodesic_nearest_site_grouped,
-    geodesic_nearest_site_watched, geodesic_weber_point_watched, geodesic_weber_points, CenterOptions,
+    geodesic_nearest_site_watched, geodesic_weber_point_watched, geodesic_weber_points_watched, CenterOptions,
 };
 use crate::geometry::Weights;
 use crate::median::WeberOptions;
@@ -27,10 +29,19 @@ fn weber_options(tol: &Bound<'_, PyAny>, max_iter: &Bound<'_, PyAny>) -> PyResul
     Ok(WeberOptions { tol, max_iter, ..WeberOptions::default() })
 }
 
-fn center_options(tol: &Bound<'_, PyAny>, max_iter: &Bound<'_, PyAny>) -> PyResult<CenterOptions> {
+/// The options of a minimax or enclosing-circle call, watched by a fresh [`Watch`], and its
+/// progress report (labelled `label`).
+fn center_options<'py>(
+    tol: &Bound<'py, PyAny>,
+    max_iter: &Bound<'py, PyAny>,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
+    label: &'static str,
+) -> PyResult<(CenterOptions, Progress<'py>)> {
     let tol = float_arg(tol, "tol", "finite and >= 0", |t| t.is_finite() && t >= 0.0)?;
     let max_iter = count_arg(max_iter, "max_iter", 1, usize::MAX)?;
-    Ok(CenterOptions { tol, max_iter })
+    let limits = RunLimits { time_limit: time_limit_arg(time_limit)?, watch: Watch::new() };
+    Ok((CenterOptions { tol, max_iter, limits }, progress_arg(progress, label)?))
 }
 
 fn point_column<'py, T>(py: Python<'py>, g: &Grouped<T>, at: impl Fn(&T) -> [f64; 2]) -> PyResult<Bound<'py, PyAny>> {
@@ -140,7 +151,11 @@ fn geodesic_weber_grouped<'py>(
     let on_error = on_error_arg(errors)?;
     let cloud = Cloud::read(points, weights, Some(groups))?;
     let (pts, w, l) = (cloud.points(), cloud.weights()?, cloud.labels()?);
-    let g = run_detached(py, || geodesic_weber_points(pts, Weights::from_option(w), l, &options, on_error))?;
+    // Watched so that Ctrl-C stops every group's descent within a pass; no progress drawn.
+    let watch = Watch::new();
+    let g = run_watched(py, &watch, &mut Progress::Off, || {
+        geodesic_weber_points_watched(pts, Weights::from_option(w), l, &options, on_error, &watch)
+    })?;
     Ok(Fields::new(py)
         .grouped(&g)?
         .put("location", point_column(py, &g, |r| r.location)?)?
@@ -153,18 +168,22 @@ fn geodesic_weber_grouped<'py>(
 
 /// Fields: location (2,), weighted_radius, gap, support (k,), iterations, converged.
 #[pyfunction]
-#[pyo3(signature = (points, weights, tol, max_iter))]
+#[pyo3(signature = (points, weights, tol, max_iter, time_limit=None, progress=None))]
 fn geodesic_minimax_single<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
     tol: &Bound<'py, PyAny>,
     max_iter: &Bound<'py, PyAny>,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
-    let options = center_options(tol, max_iter)?;
+    let (options, mut progress) =
+        center_options(tol, max_iter, time_limit, progress, "geodesic minimax_point (iterations)")?;
     let cloud = Cloud::read(points, weights, None)?;
     let (pts, w) = (cloud.points(), cloud.weights()?);
-    let r = run_detached(py, || geodesic_minimax_point(pts, Weights::from_option(w), &options))?;
+    let watch = &options.limits.watch;
+    let r = run_watched(py, watch, &mut progress, || geodesic_minimax_point(pts, Weights::from_option(w), &options))?;
     Ok(Fields::new(py)
         .put("location", PyArray1::from_slice(py, &r.location))?
         .put("weighted_radius", r.radius)?
@@ -178,7 +197,8 @@ fn geodesic_minimax_single<'py>(
 /// Fields: labels, problem, location (G, 2), weighted_radius, gap (G,), support_offsets,
 /// support_index, iterations, converged (G,).
 #[pyfunction]
-#[pyo3(signature = (points, weights, groups, tol, max_iter, errors))]
+#[pyo3(signature = (points, weights, groups, tol, max_iter, errors, time_limit=None, progress=None))]
+#[allow(clippy::too_many_arguments)]
 fn geodesic_minimax_grouped<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
@@ -187,12 +207,18 @@ fn geodesic_minimax_grouped<'py>(
     tol: &Bound<'py, PyAny>,
     max_iter: &Bound<'py, PyAny>,
     errors: &str,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
-    let options = center_options(tol, max_iter)?;
+    let (options, mut progress) =
+        center_options(tol, max_iter, time_limit, progress, "geodesic minimax_point (points of finished groups)")?;
     let on_error = on_error_arg(errors)?;
     let cloud = Cloud::read(points, weights, Some(groups))?;
     let (pts, w, l) = (cloud.points(), cloud.weights()?, cloud.labels()?);
-    let g = run_detached(py, || geodesic_minimax_points(pts, Weights::from_option(w), l, &options, on_error))?;
+    let watch = &options.limits.watch;
+    let g = run_watched(py, watch, &mut progress, || {
+        geodesic_minimax_points(pts, Weights::from_option(w), l, &options, on_error)
+    })?;
     let (offsets, index) = g.csr(|r| &r.support);
     Ok(Fields::new(py)
         .grouped(&g)?
@@ -208,17 +234,21 @@ fn geodesic_minimax_grouped<'py>(
 
 /// Fields: center (2,), radius, area, gap, support (k,), iterations, converged.
 #[pyfunction]
-#[pyo3(signature = (points, tol, max_iter))]
+#[pyo3(signature = (points, tol, max_iter, time_limit=None, progress=None))]
 fn geodesic_circle_single<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     tol: &Bound<'py, PyAny>,
     max_iter: &Bound<'py, PyAny>,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
-    let options = center_options(tol, max_iter)?;
+    let (options, mut progress) =
+        center_options(tol, max_iter, time_limit, progress, "geodesic enclosing_circle (iterations)")?;
     let cloud = Cloud::read(points, None, None)?;
     let pts = cloud.points();
-    let r = run_detached(py, || geodesic_enclosing_circle(pts, &options))?;
+    let watch = &options.limits.watch;
+    let r = run_watched(py, watch, &mut progress, || geodesic_enclosing_circle(pts, &options))?;
     Ok(Fields::new(py)
         .put("center", PyArray1::from_slice(py, &r.center.location))?
         .put("radius", r.center.radius)?
@@ -233,7 +263,8 @@ fn geodesic_circle_single<'py>(
 /// Fields: labels, problem, center (G, 2), radius, area, gap (G,), support_offsets,
 /// support_index, iterations, converged (G,).
 #[pyfunction]
-#[pyo3(signature = (points, groups, tol, max_iter, errors))]
+#[pyo3(signature = (points, groups, tol, max_iter, errors, time_limit=None, progress=None))]
+#[allow(clippy::too_many_arguments)]
 fn geodesic_circle_grouped<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
@@ -241,12 +272,16 @@ fn geodesic_circle_grouped<'py>(
     tol: &Bound<'py, PyAny>,
     max_iter: &Bound<'py, PyAny>,
     errors: &str,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
-    let options = center_options(tol, max_iter)?;
+    let (options, mut progress) =
+        center_options(tol, max_iter, time_limit, progress, "geodesic enclosing_circle (points of finished groups)")?;
     let on_error = on_error_arg(errors)?;
     let cloud = Cloud::read(points, None, Some(groups))?;
     let (pts, l) = (cloud.points(), cloud.labels()?);
-    let g = run_detached(py, || geodesic_enclosing_circles(pts, l, &options, on_error))?;
+    let watch = &options.limits.watch;
+    let g = run_watched(py, watch, &mut progress, || geodesic_enclosing_circles(pts, l, &options, on_error))?;
     let (offsets, index) = g.csr(|r| &r.center.support);
     Ok(Fields::new(py)
         .grouped(&g)?

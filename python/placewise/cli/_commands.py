@@ -44,7 +44,7 @@ def _cmd_minimax_point(args: argparse.Namespace) -> None:
     from .. import gis
 
     out = gis.minimax_point(read_points(args.input, args), args.weight, **place_options(args), **_by(args),
-                            **_common(args))
+                            **_common(args), **_progress(args))
     write_frame(out, args.output, args, "minimax_point")
     radius, unit = _measure(out, "weighted_radius")
     _note(args, f"{_solved(out)} site(s); largest weighted distance {out[radius].max():.6g} "
@@ -54,7 +54,7 @@ def _cmd_minimax_point(args: argparse.Namespace) -> None:
 def _cmd_enclosing_circle(args: argparse.Namespace) -> None:
     from .. import gis
 
-    out = gis.enclosing_circle(read_points(args.input, args), **_by(args), **_common(args))
+    out = gis.enclosing_circle(read_points(args.input, args), **_by(args), **_common(args), **_progress(args))
     write_frame(out, args.output, args, "circles")
     radius, unit = _measure(out, "radius")
     _note(args, f"{_solved(out)} circle(s); largest radius {out[radius].max():.6g} {_unit_text(unit)}"
@@ -160,9 +160,7 @@ def _plan_command(kind: str, args: argparse.Namespace) -> None:
         if args.fixed is not None:
             options["fixed"] = read_points(args.fixed, args, "the existing sites", (), main=False)
         options.update(_capacity.capacity_options(args, options))
-        if "capacities" not in options:
-            # The capacitated search reports no progress (it has no such form).
-            options.update(_progress(args))
+        options.update(_progress(args))
         plan = gis.p_median(frame, args.p, args.weight, **_by(args), **_common(args), **options)
     else:
         plan = gis.p_center(frame, args.p, args.weight, **_by(args), **_common(args), **options, **_progress(args))
@@ -200,9 +198,9 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
                         "(manhattan) [euclidean]")
     add_place_options(p, candidates=False)
     p = command("minimax-point", _cmd_minimax_point, "the site minimising the largest weighted distance",
-                [weight, by])
+                [weight, by, watch])
     add_place_options(p, candidates=False)
-    command("enclosing-circle", _cmd_enclosing_circle, "the smallest circle covering the points", [by])
+    command("enclosing-circle", _cmd_enclosing_circle, "the smallest circle covering the points", [by, watch])
     p = command("enclosing-ellipse", _cmd_enclosing_ellipse, "the minimum-area ellipse covering the points", [by])
     p.add_argument("--tol", type=_positive_float, default=1e-7, help="relative area gap allowed [1e-7]")
     command("delaunay", _cmd_delaunay, "the Delaunay triangulation of the points (triangles named by their "

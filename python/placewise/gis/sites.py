@@ -58,6 +58,20 @@ def _geodesic_circle(points: Any, *, seed: Any = None, **options: Any) -> Any:
     return _geodesic.enclosing_circle(points, **options)
 
 
+def _on_earth_only(kernel: Any) -> Any:
+    """``kernel`` (a planar one) taking and dropping ``time_limit`` and ``progress``: it ends
+    in well under a second at a million points, exactly, so there is nothing to watch or cut."""
+
+    def planar(*args: Any, time_limit: Any = None, progress: Any = False, **options: Any) -> Any:
+        return kernel(*args, **options)
+
+    return planar
+
+
+def _watch(time_limit: float | None, progress: Any) -> dict[str, Any]:
+    return {"time_limit": time_limit, "progress": progress}
+
+
 def weber_point(
     frame: Any, weight: Any = None, by: str | None = None, *, region: Any = None,
     planar: bool = False, centroids: bool = False, work_crs: Any = None,
@@ -144,10 +158,20 @@ def minimax_point(
     frame: Any, weight: Any = None, by: str | None = None, *, region: Any = None,
     planar: bool = False, centroids: bool = False, work_crs: Any = None,
     max_scale_error: float = MAX_SCALE_ERROR, errors: Literal["raise", "skip"] = "raise",
+    time_limit: float | None = None, progress: Any = False,
 ) -> Any:
     """The weighted minimax point (1-center): the site whose largest weighted trip is least.
 
-    Parameters are those of :func:`weber_point`.
+    Parameters are those of :func:`weber_point`, and:
+
+    time_limit : float, optional
+        Geographic input on the ellipsoid: seconds each group's run may take; when they
+        pass, the best centre reached comes back with ``converged`` False (see
+        :func:`placewise.geodesic.minimax_point`). Planar runs are exact and end in well
+        under a second; they take no limit.
+    progress : bool or callable
+        On the ellipsoid: a progress bar on stderr (True) or a callable ``(done, total)``;
+        Ctrl-C stops the run within a fraction of a second either way.
 
     Returns
     -------
@@ -170,7 +194,8 @@ def minimax_point(
     >>> float(kept["x"].iloc[0]), bool(kept["region_active"].iloc[0])
     (3.0, True)
     """
-    return _one_per_group(_pw.minimax_point, frame, weight, by, planar, centroids, errors, {}, weighted=True,
+    return _one_per_group(_on_earth_only(_pw.minimax_point), frame, weight, by, planar, centroids, errors,
+                          _watch(time_limit, progress), weighted=True,
                           model={"work_crs": work_crs, "max_scale_error": max_scale_error},
                           on_earth=_geodesic.minimax_point, region=region)
 
@@ -178,9 +203,13 @@ def minimax_point(
 def enclosing_circle(
     frame: Any, by: str | None = None, *,
     planar: bool = False, centroids: bool = False, work_crs: Any = None,
-    max_scale_error: float = MAX_SCALE_ERROR, errors: Literal["raise", "skip"] = "raise", **options: Any,
+    max_scale_error: float = MAX_SCALE_ERROR, errors: Literal["raise", "skip"] = "raise",
+    time_limit: float | None = None, progress: Any = False, **options: Any,
 ) -> Any:
     """The smallest circle covering a frame's points (one per group with ``by``).
+
+    ``time_limit`` and ``progress`` work as in :func:`minimax_point` (on the ellipsoid
+    only: the planar circle is exact and quick).
 
     Returns
     -------
@@ -203,7 +232,8 @@ def enclosing_circle(
     >>> float(gis.enclosing_circle(pts, planar=True)["radius_u"].iloc[0])
     1.666666666666...
     """
-    return _one_per_group(_pw.enclosing_circle, frame, None, by, planar, centroids, errors, options, weighted=False,
+    return _one_per_group(_on_earth_only(_pw.enclosing_circle), frame, None, by, planar, centroids, errors,
+                          {**options, **_watch(time_limit, progress)}, weighted=False,
                           model={"work_crs": work_crs, "max_scale_error": max_scale_error},
                           on_earth=_geodesic_circle)
 

@@ -103,6 +103,11 @@ pub(super) fn sampled_newton_target(problem: &Problem<'_>, model: &ModelOptimum)
         .par_chunks(CHUNK)
         .enumerate()
         .map(|(c, chunk)| {
+            // A stop (asked per chunk) gives up the estimate; the caller's exact pass then
+            // sees the stop too and ends the run.
+            if problem.clock.stop() {
+                return None;
+            }
             let mut sum = Features::zeros();
             for (offset, &p) in chunk.iter().enumerate() {
                 let w = problem.weights.get(c * CHUNK + offset);
@@ -123,6 +128,10 @@ pub(super) fn sampled_newton_target(problem: &Problem<'_>, model: &ModelOptimum)
     let observations: Vec<Option<Observation>> = (0..SAMPLE_POINTS)
         .into_par_iter()
         .map(|j| {
+            // One inverse problem per sample point: asked every CHUNK of them.
+            if j % CHUNK == 0 && problem.clock.stop() {
+                return None;
+            }
             let i = j * stride;
             let weight = problem.weights.get(i);
             if weight <= 0.0 {
