@@ -144,9 +144,9 @@ except KeyboardInterrupt:
 """
 
 CALLS = {
-    "minimax_point": (800_000, "pw.geodesic.minimax_point(pts, w)"),
-    "enclosing_circle groups": (600_000, "pw.geodesic.enclosing_circle(pts, groups=groups)"),
-    "weber_point groups": (1_500_000, "pw.geodesic.weber_point(pts, w, groups=groups)"),
+    "minimax_point": (1_600_000, "pw.geodesic.minimax_point(pts, w)"),
+    "enclosing_circle groups": (1_500_000, "pw.geodesic.enclosing_circle(pts, groups=groups)"),
+    "weber_point groups": (4_000_000, "pw.geodesic.weber_point(pts, w, groups=groups)"),
 }
 
 
