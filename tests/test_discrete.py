@@ -134,6 +134,37 @@ def test_p_median_lagrangian_bound_is_close_to_milp(seed):
     assert plan.bound_iterations <= 1000
 
 
+
+@pytest.mark.parametrize("seed", [7, 8])
+def test_p_median_search_reaches_milp_optimum_on_a_few_hundred_points(seed):
+    # With the neighbourhood search (Hansen & Mladenović 1997) after the interchange, the plan
+    # on 250 points x 40 candidates is the optimum HiGHS proves (measured on these seeds), and
+    # the Lagrangian bound never exceeds it.
+    _, _, w, costs = instance(seed, 250, 40)
+    plan = discrete.p_median(costs, 6, w)
+    best = milp_p_median(costs, w, 6)  # scipy.optimize.milp (HiGHS)
+    assert plan.total_cost == pytest.approx(best, rel=1e-9)
+    assert plan.lower_bound <= best * (1 + 1e-7)
+    # Without it, the plan is the interchange's local optimum: never better than the optimum.
+    assert discrete.p_median(costs, 6, w, search_rounds=0).total_cost >= best * (1 - 1e-9)
+
+
+def test_p_median_degenerate_inputs_against_brute_force():
+    # Brute force over every choice of sites (itertools.combinations) is the reference.
+    rng = np.random.default_rng(12)
+    costs = rng.integers(0, 4, (14, 7)).astype(float)  # few values: many ties
+    w = rng.integers(0, 3, 14).astype(float)  # zero weights among them
+    w[0] = 1.0
+    for p in range(1, 8):  # up to p = number of candidates
+        exact = min((w * costs[:, list(s)].min(axis=1)).sum() for s in itertools.combinations(range(7), p))
+        plan = discrete.p_median(costs, p, w)
+        assert plan.total_cost == pytest.approx(exact, abs=1e-12)
+        assert plan.lower_bound <= exact + 1e-9
+        assert len(set(plan.open.tolist())) == p
+    # Every cost equal: every plan is optimal and the bound proves it.
+    flat = discrete.p_median(np.full((5, 4), 2.0), 2, [1.0, 0.0, 3.0, 0.0, 1.0])
+    assert (float(flat.total_cost), float(flat.relative_gap)) == (10.0, 0.0)
+
 def test_p_median_with_fixed_against_milp():
     _, _, w, costs = instance(5, 80, 25)
     plan = discrete.p_median(costs, 3, w, fixed=[4, 17])

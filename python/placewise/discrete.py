@@ -351,12 +351,15 @@ _Progress = bool | Callable[[int, int], object]
 
 def p_median(
     costs: ArrayLike, p: int, weights: ArrayLike | None = None, *, fixed: ArrayLike | None = None,
-    bound_iterations: int = 1000, unit: str = "u", time_limit: float | None = None, progress: _Progress = False,
+    bound_iterations: int = 1000, search_rounds: int = 300, unit: str = "u", time_limit: float | None = None,
+    progress: _Progress = False,
 ) -> MedianSelection:
     """``p`` candidates with the least total weighted cost ``Σ wᵢ minⱼ costs[i, j]``.
 
     Greedy start, then the fast swap interchange (Teitz & Bart 1968; Whitaker 1983;
-    Resende & Werneck 2004) until no swap helps; a proven lower bound from the Lagrangian
+    Resende & Werneck 2004) until no swap helps, then variable neighbourhood search
+    (Hansen & Mladenović 1997): seeded random jumps of 1 to 10 sites, each followed by the
+    interchange, kept when they lead to a cheaper plan; a proven lower bound from the Lagrangian
     relaxation of the assignment constraints by subgradient optimisation (Cornuejols,
     Fisher & Nemhauser 1977; Beasley 1993). Deterministic.
 
@@ -372,6 +375,8 @@ def p_median(
         Candidate columns that stay open (existing sites); ``p`` counts only new ones.
     bound_iterations : int
         Most subgradient iterations for the lower bound (0: bound 0).
+    search_rounds : int
+        Rounds of variable neighbourhood search after the interchange (0: none).
     unit : str
         Name of the cost unit.
     time_limit : float, optional
@@ -381,7 +386,7 @@ def p_median(
     progress : bool or callable
         True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
         callable is called as ``progress(done, total)`` from the calling thread while the
-        search runs (steps: greedy additions and bound iterations). Ctrl-C stops the search
+        search runs (steps: greedy additions, search rounds and bound iterations). Ctrl-C stops the search
         within a fraction of a second and raises ``KeyboardInterrupt``.
 
     Returns
@@ -412,8 +417,8 @@ def p_median(
     >>> quick.open, seen == sorted(seen)
     (array([1, 4]), True)
     """
-    fields = _core.discrete_p_median_single(_matrix(costs), p, weights, fixed, bound_iterations, time_limit,
-                                            progress)
+    fields = _core.discrete_p_median_single(_matrix(costs), p, weights, fixed, bound_iterations, search_rounds,
+                                            time_limit, progress)
     return MedianSelection(**fields, unit=unit)
 
 
@@ -595,8 +600,8 @@ def evaluate_sites_planar(
 
 def p_median_planar(
     points: ArrayLike, candidates: ArrayLike, p: int, weights: ArrayLike | None = None, *,
-    fixed: ArrayLike | None = None, bound_iterations: int = 1000, unit: str = "u", time_limit: float | None = None,
-    progress: _Progress = False,
+    fixed: ArrayLike | None = None, bound_iterations: int = 1000, search_rounds: int = 300, unit: str = "u",
+    time_limit: float | None = None, progress: _Progress = False,
 ) -> MedianSelection:
     """:func:`p_median` on straight-line costs from ``points`` to ``candidates`` (the other
     parameters, ``time_limit`` and ``progress`` included, as there).
@@ -609,7 +614,7 @@ def p_median_planar(
     (array([0]), 10.0)
     """
     plan = p_median(_planar(points, candidates), p, weights, fixed=fixed, bound_iterations=bound_iterations,
-                    unit=unit, time_limit=time_limit, progress=progress)
+                    search_rounds=search_rounds, unit=unit, time_limit=time_limit, progress=progress)
     return _placed(plan, points, candidates)
 
 

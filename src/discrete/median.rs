@@ -20,11 +20,15 @@
 use super::cover::serving_cover;
 use super::median_bound::MedianRelaxation;
 use super::near::NearLists;
+use super::neighbourhood::neighbourhood_search;
 use super::swap::fast_swap;
 use super::{check_choice, relative_gap, sum_rows, Costs, SiteService};
 use crate::cancel::{RunLimits, Steps};
 use crate::error::Result;
 use crate::geometry::{validate_weights, Weights};
+
+/// Default rounds of variable neighbourhood search (see `neighbourhood.rs`).
+pub const SEARCH_ROUNDS: usize = 300;
 
 /// Tuning of [`discrete_p_median`].
 #[derive(Debug, Clone)]
@@ -32,15 +36,26 @@ pub struct DiscreteMedianOptions {
     /// Most subgradient iterations for the lower bound (each reads every point's candidates
     /// cheaper than its multiplier).
     pub bound_iterations: usize,
-    /// Most swaps applied by the interchange.
+    /// Most swaps applied by one run of the interchange.
     pub max_swaps: usize,
-    /// Deadline and cancel flag; progress counts greedy steps and bound iterations.
+    /// Rounds of variable neighbourhood search after the interchange (0: none).
+    pub search_rounds: usize,
+    /// Seed of the search's random jumps (the same seed gives the same plan).
+    pub seed: u64,
+    /// Deadline and cancel flag; progress counts greedy steps, search rounds and bound
+    /// iterations.
     pub limits: RunLimits,
 }
 
 impl Default for DiscreteMedianOptions {
     fn default() -> Self {
-        DiscreteMedianOptions { bound_iterations: 1000, max_swaps: 100_000, limits: RunLimits::default() }
+        DiscreteMedianOptions {
+            bound_iterations: 1000,
+            max_swaps: 100_000,
+            search_rounds: SEARCH_ROUNDS,
+            seed: 0,
+            limits: RunLimits::default(),
+        }
     }
 }
 
@@ -192,7 +207,7 @@ pub fn discrete_p_median(
     validate_weights("weights", weights, costs.rows())?;
     check_choice(costs, p, fixed)?;
     let clock = options.limits.clock();
-    let mut steps = Steps::new(&clock.watch, (p + options.bound_iterations) as u64);
+    let mut steps = Steps::new(&clock.watch, (p + options.search_rounds + options.bound_iterations) as u64);
     let mut go = || {
         steps.step();
         !clock.stop()
@@ -218,6 +233,23 @@ pub fn discrete_p_median(
     // cut them short: complete the plan.
     fill_open(&mut open, fixed.len() + p, costs.columns());
     let mut swaps = fast_swap(costs, &near, weights, &mut open, fixed.len(), options.max_swaps, ceiling, &clock);
+    // Variable neighbourhood search (Hansen & Mladenović 1997) leaves the interchange's local
+    // optimum for cheaper ones before the bound is sought, so the bound's steps aim at the
+    // better plan.
+    let (more, _) = neighbourhood_search(
+        costs,
+        &near,
+        weights,
+        &mut open,
+        fixed.len(),
+        options.search_rounds,
+        options.max_swaps,
+        ceiling,
+        options.seed,
+        &clock,
+        &mut steps,
+    );
+    swaps += more;
     let mut service = SiteService::of(costs, weights, open.clone(), fixed, None);
     let (_, _, d2) = nearest_two(costs, &open, ceiling);
     // λ starts at every point's second cheapest open cost, no higher than its dearest pair.

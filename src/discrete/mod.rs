@@ -25,6 +25,7 @@ mod dominating;
 mod median;
 mod median_bound;
 mod near;
+mod neighbourhood;
 mod source;
 mod swap;
 

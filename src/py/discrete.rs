@@ -206,7 +206,7 @@ fn discrete_evaluate<'py>(
 
 /// Fields: the service, lower_bound, relative_gap, swaps, bound_iterations.
 #[pyfunction]
-#[pyo3(signature = (costs, p, weights, fixed, bound_iterations, time_limit=None, progress=None))]
+#[pyo3(signature = (costs, p, weights, fixed, bound_iterations, search_rounds, time_limit=None, progress=None))]
 #[allow(clippy::too_many_arguments)]
 fn discrete_p_median_single<'py>(
     py: Python<'py>,
@@ -215,6 +215,7 @@ fn discrete_p_median_single<'py>(
     weights: Option<&Bound<'py, PyAny>>,
     fixed: Option<&Bound<'py, PyAny>>,
     bound_iterations: &Bound<'py, PyAny>,
+    search_rounds: &Bound<'py, PyAny>,
     time_limit: Option<&Bound<'py, PyAny>>,
     progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
@@ -222,6 +223,7 @@ fn discrete_p_median_single<'py>(
     let (limits, mut progress) = watched(time_limit, progress, "p_median")?;
     let options = DiscreteMedianOptions {
         bound_iterations: count_arg(bound_iterations, "bound_iterations", 0, usize::MAX)?,
+        search_rounds: count_arg(search_rounds, "search_rounds", 0, usize::MAX)?,
         limits,
         ..Default::default()
     };
