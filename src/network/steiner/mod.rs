@@ -6,7 +6,10 @@
 //! - [`concatenate`]: the shortest spanning tree of the hypergraph of full Steiner trees,
 //!   Warme's integer program solved by LP-based branch and cut (subtour constraints
 //!   separated from fractional answers), with a proven lower bound when stopped early.
-//! - [`heuristic`]: Steiner insertion on Delaunay triangles for large terminal sets.
+//! - [`local`]: for large terminal sets, the full Steiner trees of small Delaunay-local
+//!   terminal sets concatenated greedily, then exactly within windows of terminals.
+//! - `heuristic` (tests only): Steiner insertion on Delaunay triangles, the reference the
+//!   local method is measured against.
 //! - [`smith`]: re-optimisation of Steiner point positions for a fixed topology, and the
 //!   clean-up that restores the 120° rule.
 //! - [`solve`]: the choice between the exact solver and the heuristic.
@@ -18,7 +21,10 @@
 
 mod concatenate;
 mod fst;
+#[cfg(test)]
 mod heuristic;
+mod local;
+mod path_maxima;
 mod smith;
 mod solve;
 mod terminal_sets;

@@ -11,7 +11,7 @@
 //! full Steiner tree was generated, since only then does the integer program describe every
 //! Steiner minimum tree; otherwise it is the spanning tree's length times [`RATIO_BOUND`].
 
-use super::{concatenate, fst, heuristic, Network};
+use super::{concatenate, fst, local, Network};
 use crate::geometry::predicates::all_collinear;
 use crate::geometry::Point;
 use crate::network::{SteinerMethod, SteinerOptions, AUTO_BUDGET, AUTO_EXACT_TERMINALS};
@@ -80,7 +80,7 @@ pub(crate) fn solve_distinct(local: &[Point], mst_edges: Vec<[usize; 2]>, option
         // The caller discards a cancelled answer: the spanning tree is the quickest valid one.
         return answer(chain(mst_edges), false, ratio_bound);
     }
-    let net = heuristic::heuristic(local, mst_edges.clone(), options.seed, watch);
+    let net = local::local_heuristic(local, &mst_edges, local::MAX_SET, local::WINDOW, options.seed, watch);
     let (mut best, mut bound) = (if net.length() <= mst_length { net } else { chain(mst_edges) }, ratio_bound);
     if let Some((net, lp_bound)) = stopped {
         bound = lp_bound;
@@ -92,7 +92,7 @@ pub(crate) fn solve_distinct(local: &[Point], mst_edges: Vec<[usize; 2]>, option
 }
 
 /// The tree made of the chosen full Steiner trees.
-fn assemble(local: &[Point], trees: &[fst::FullTree], chosen: &[usize]) -> Network {
+pub(super) fn assemble(local: &[Point], trees: &[fst::FullTree], chosen: &[usize]) -> Network {
     use fst::End;
     let mut net = Network { nodes: local.to_vec(), terminal_count: local.len(), edges: Vec::new() };
     for &i in chosen {
@@ -142,6 +142,7 @@ mod past_one_word {
     use super::*;
     use crate::geometry::random::SplitMix64;
     use crate::network::mst::mst_edges;
+    use crate::network::steiner::heuristic;
 
     fn exact(points: &[Point]) -> (Network, bool) {
         let options = SteinerOptions { method: SteinerMethod::Exact, ..SteinerOptions::default() };
