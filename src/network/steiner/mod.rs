@@ -8,8 +8,8 @@
 //!   separated from fractional answers), with a proven lower bound when stopped early.
 //! - [`local`]: for large terminal sets, the full Steiner trees of small Delaunay-local
 //!   terminal sets concatenated greedily, then exactly within windows of terminals.
-//! - `heuristic` (tests only): Steiner insertion on Delaunay triangles, the reference the
-//!   local method is measured against.
+//! - [`heuristic`]: Steiner insertion on Delaunay triangles, quicker than [`local`] and
+//!   used beyond [`solve::LOCAL_TERMINALS`] terminals.
 //! - [`smith`]: re-optimisation of Steiner point positions for a fixed topology, and the
 //!   clean-up that restores the 120° rule.
 //! - [`solve`]: the choice between the exact solver and the heuristic.
@@ -21,7 +21,6 @@
 
 mod concatenate;
 mod fst;
-#[cfg(test)]
 mod heuristic;
 mod local;
 mod path_maxima;
