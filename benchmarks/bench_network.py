@@ -51,6 +51,35 @@ def _savings(n: int, sets: int, exact: bool | None) -> dict[str, float]:
             "sets": sets, "seconds": float(np.mean(times)), "times": times}
 
 
+def _capture(n: int, sets: int, limit: float) -> dict[str, object]:
+    """Capture of the optimal saving, (MST - heuristic) / (MST - optimum), over the sets whose
+    optimum the exact method proves within ``limit`` seconds (the others are not counted)."""
+    captures, seeds, tried = [], [], 0
+    for seed in range(sets):
+        pts = _uniform(n, 1000 + seed)
+        tried += 1
+        best = pw.steiner_tree(pts, exact=True, time_limit=limit)
+        if not best.optimal:
+            continue
+        ours = pw.steiner_tree(pts, exact=False)
+        captures.append((ours.mst_length - ours.length) / (best.mst_length - best.length))
+        seeds.append(1000 + seed)
+    return {"captures": captures, "seeds": seeds, "tried": tried, "limit": limit}
+
+
+def _capture_note(target: float):
+    def note(ours: dict, _: object) -> str:
+        c = ours["captures"]
+        if not c:
+            return (f"no optimum proven within {ours['limit']:.0f} s on any of {ours['tried']} sets: "
+                    f"capture not measured; target >= {target}: not measured")
+        return (f"capture of the optimal saving: mean {np.mean(c):.4f}, min {np.min(c):.4f} over {len(c)} "
+                f"of {ours['tried']} sets proven within {ours['limit']:.0f} s (default_rng seeds "
+                f"{ours['seeds'][0]}-{ours['seeds'][-1]}); target >= {target}: "
+                f"{'met' if np.mean(c) >= target else 'NOT MET'}")
+    return note
+
+
 def _saving_note(target: float | None, per_set: bool = False):
     def note(ours: dict, _: object) -> str:
         text = (f"mean saving {100 * ours['mean']:.3f} % (min {100 * ours['min']:.3f} %) over "
@@ -83,6 +112,11 @@ def cases(quick: bool) -> list[Case]:
                         lambda size=size, sets=sets: _savings(size, sets, False), None,
                         "no reference (saving over MST)",
                         compare=_saving_note(0.029 if size == 1_000 else None), repeat=1))
+    capture_sizes = [(20, 5)] if quick else [(20, 10), (30, 10), (100, 3)]
+    for size, sets in capture_sizes:
+        out.append(Case("steiner_tree heuristic capture", f"{size} uniform terminals",
+                        lambda size=size, sets=sets: _capture(size, sets, 120.0), None,
+                        "no reference (proven optima)", compare=_capture_note(0.99), repeat=1))
     for size, sets in exact_sizes:
         out.append(Case("steiner_tree exact", f"{size} uniform terminals",
                         lambda size=size, sets=sets: _savings(size, sets, True), None,

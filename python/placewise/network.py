@@ -519,9 +519,12 @@ def steiner_tree(
 
     Every junction (Steiner point) joins three edges at 120°. The exact method generates the
     full Steiner trees that can be part of an optimum, with the pruning tests of Winter and
-    Zachariasen (1997), and concatenates them by an integer program; the heuristic inserts
-    junctions on Delaunay triangles (Smith, Lee and Liebman 1981; Beasley 1992) and
-    re-optimises their positions (Smith 1992), round after round while it pays.
+    Zachariasen (1997), and concatenates them by an integer program. The heuristic, up to
+    20,000 distinct sites, builds the full Steiner trees of every set of three or four
+    sites joined in the Delaunay triangulation, concatenates them greedily by their saving
+    (Zachariasen and Winter 1999), then exactly within windows of about 40 sites (the whole
+    set up to 150 sites); beyond 20,000 it inserts junctions on Delaunay triangles (Smith,
+    Lee and Liebman 1981; Beasley 1992); both re-optimise the junctions (Smith 1992).
 
     Parameters
     ----------
@@ -535,8 +538,8 @@ def steiner_tree(
         distinct points, trying for 5 s unless ``time_limit`` says otherwise), else the
         heuristic.
     seed : int
-        Orders heuristic insertions of equal gain (0 to 2**64 - 1); the same seed gives the
-        same tree.
+        Orders the heuristic's choices of equal gain (0 to 2**64 - 1); the same seed gives
+        the same tree.
     time_limit : float, optional
         Seconds allowed for an exact attempt (finite, >= 0); when they run out the best
         tree found is returned (at worst the heuristic's) with ``optimal=False`` and a

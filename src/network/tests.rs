@@ -192,6 +192,18 @@ mod properties {
         prop::collection::vec((-1e3f64..1e3, -1e3f64..1e3).prop_map(|(x, y)| [x, y]), 2..40)
     }
 
+    fn degenerate() -> impl Strategy<Value = Vec<Point>> {
+        let lattice = prop::collection::vec((0u8..5, 0u8..5).prop_map(|(x, y)| [f64::from(x), f64::from(y)]), 2..40);
+        let line = prop::collection::vec((-10.0f64..10.0).prop_map(|t| [3.0 * t + 1.0, -2.0 * t]), 2..40);
+        let clusters = prop::collection::vec(
+            ((0u8..3, 0u8..3), (0u8..4, 0u8..4)).prop_map(|((cx, cy), (dx, dy))| {
+                [f64::from(cx) + 1e-7 * f64::from(dx), f64::from(cy) + 1e-7 * f64::from(dy)]
+            }),
+            2..60,
+        );
+        prop_oneof![lattice, line, clusters]
+    }
+
     proptest! {
         #![proptest_config(ProptestConfig { cases: 32, ..ProptestConfig::default() })]
 
@@ -201,6 +213,15 @@ mod properties {
         fn heuristic_tree_keeps_the_invariants(points in terminals(), seed in 0u64..100) {
             let options = SteinerOptions { method: SteinerMethod::Heuristic, seed, ..SteinerOptions::default() };
             let tree = steiner_tree(&points, &options).unwrap();
+            let checked = check_steiner_tree(&points, &tree, 1e-6);
+            prop_assert!(checked.is_ok(), "{:?}", checked);
+        }
+
+        /// The same on degenerate input: lattice points (repeats, collinear and cocircular
+        /// runs), points on one line, and tight clusters with repeats.
+        #[test]
+        fn heuristic_tree_keeps_the_invariants_on_degenerate_input(points in degenerate()) {
+            let tree = steiner_tree(&points, &heuristic()).unwrap();
             let checked = check_steiner_tree(&points, &tree, 1e-6);
             prop_assert!(checked.is_ok(), "{:?}", checked);
         }

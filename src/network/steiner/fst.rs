@@ -139,7 +139,7 @@ impl Bottleneck {
 
 /// Length of the minimum spanning tree of the complete graph on `0..k` with edge weights
 /// `weight(a, b)`: Prim's algorithm (Prim 1957) with an array, O(k²).
-fn prim_length(k: usize, weight: impl Fn(usize, usize) -> f64) -> f64 {
+pub(super) fn prim_length(k: usize, weight: impl Fn(usize, usize) -> f64) -> f64 {
     let mut best = vec![f64::INFINITY; k];
     let mut done = vec![false; k];
     if k == 0 {

@@ -13,6 +13,7 @@
 //! dropped and the positions re-optimised ([`super::smith`]). Rounds repeat while they
 //! shorten the tree by more than a part in 10⁶.
 
+use super::path_maxima::PathMaxima;
 use super::smith::{drop_thin_steiner_points, optimise_positions, settle};
 use super::{fermat_point, Network};
 use crate::cancel::Watch;
@@ -104,122 +105,10 @@ pub(crate) fn heuristic(terminals: &[Point], mst: Vec<[usize; 2]>, seed: u64, wa
     net
 }
 
-/// Longest edge on tree paths, by binary lifting: O(n log n) to build, O(log n) per query.
-struct PathMaxima {
-    depth: Vec<u32>,
-    /// `up[k][v]`: the 2^k-th ancestor of `v` (the root is its own).
-    up: Vec<Vec<u32>>,
-    /// `worst[k][v]`: the longest edge (length, edge index) on the way up `2^k` steps.
-    worst: Vec<Vec<(f64, u32)>>,
-}
-
-impl PathMaxima {
-    fn new(net: &Network) -> PathMaxima {
-        let n = net.nodes.len();
-        let mut adjacency: Vec<Vec<(usize, usize)>> = vec![Vec::new(); n];
-        for (k, e) in net.edges.iter().enumerate() {
-            adjacency[e[0]].push((e[1], k));
-            adjacency[e[1]].push((e[0], k));
-        }
-        let mut depth = vec![0u32; n];
-        let mut parent = vec![0u32; n];
-        let mut up_edge = vec![(0.0f64, 0u32); n];
-        let mut seen = vec![false; n];
-        for root in 0..n {
-            if seen[root] {
-                continue;
-            }
-            seen[root] = true;
-            parent[root] = root as u32;
-            let mut stack = vec![root];
-            while let Some(u) = stack.pop() {
-                for &(v, k) in &adjacency[u] {
-                    if !seen[v] {
-                        seen[v] = true;
-                        parent[v] = u as u32;
-                        depth[v] = depth[u] + 1;
-                        up_edge[v] = (distance(net.nodes[u], net.nodes[v]), k as u32);
-                        stack.push(v);
-                    }
-                }
-            }
-        }
-        let levels = (usize::BITS - n.max(2).leading_zeros()) as usize;
-        let mut up = vec![parent];
-        let mut worst = vec![up_edge];
-        for k in 1..levels {
-            let (prev_up, prev_worst) = (&up[k - 1], &worst[k - 1]);
-            let next_up: Vec<u32> = (0..n).map(|v| prev_up[prev_up[v] as usize]).collect();
-            let next_worst: Vec<(f64, u32)> = (0..n)
-                .map(|v| {
-                    let a = prev_worst[v];
-                    let b = prev_worst[prev_up[v] as usize];
-                    if b.0 > a.0 {
-                        b
-                    } else {
-                        a
-                    }
-                })
-                .collect();
-            up.push(next_up);
-            worst.push(next_worst);
-        }
-        PathMaxima { depth, up, worst }
-    }
-
-    /// The longest edge (length, index) on the tree path between `a` and `b` (`(0, 0)` when
-    /// `a == b`).
-    fn query(&self, mut a: usize, mut b: usize) -> (f64, usize) {
-        let mut best = (0.0f64, 0u32);
-        let mut take = |w: (f64, u32)| {
-            if w.0 > best.0 {
-                best = w;
-            }
-        };
-        if self.depth[a] < self.depth[b] {
-            std::mem::swap(&mut a, &mut b);
-        }
-        let mut diff = self.depth[a] - self.depth[b];
-        let mut k = 0;
-        while diff > 0 {
-            if diff & 1 == 1 {
-                take(self.worst[k][a]);
-                a = self.up[k][a] as usize;
-            }
-            diff >>= 1;
-            k += 1;
-        }
-        if a != b {
-            for k in (0..self.up.len()).rev() {
-                if self.up[k][a] != self.up[k][b] {
-                    take(self.worst[k][a]);
-                    take(self.worst[k][b]);
-                    a = self.up[k][a] as usize;
-                    b = self.up[k][b] as usize;
-                }
-            }
-            take(self.worst[0][a]);
-            take(self.worst[0][b]);
-        }
-        (best.0, best.1 as usize)
-    }
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
     use crate::network::mst::mst_edges;
-
-    #[test]
-    fn path_maxima_match_a_walk_along_the_path() {
-        // A path 0-1-2-3-4 with lengths 1, 3, 2, 0.5.
-        let nodes = vec![[0.0, 0.0], [1.0, 0.0], [1.0, 3.0], [3.0, 3.0], [3.0, 3.5]];
-        let net = Network { nodes, terminal_count: 5, edges: vec![[0, 1], [1, 2], [2, 3], [3, 4]] };
-        let pm = PathMaxima::new(&net);
-        assert_eq!(pm.query(0, 4), (3.0, 1));
-        assert_eq!(pm.query(3, 4), (0.5, 3));
-        assert_eq!(pm.query(4, 2), (2.0, 2));
-    }
 
     #[test]
     fn heuristic_finds_the_unit_square_steiner_tree() {

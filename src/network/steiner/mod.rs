@@ -6,7 +6,10 @@
 //! - [`concatenate`]: the shortest spanning tree of the hypergraph of full Steiner trees,
 //!   Warme's integer program solved by LP-based branch and cut (subtour constraints
 //!   separated from fractional answers), with a proven lower bound when stopped early.
-//! - [`heuristic`]: Steiner insertion on Delaunay triangles for large terminal sets.
+//! - [`local`]: for large terminal sets, the full Steiner trees of small Delaunay-local
+//!   terminal sets concatenated greedily, then exactly within windows of terminals.
+//! - [`heuristic`]: Steiner insertion on Delaunay triangles, quicker than [`local`] and
+//!   used beyond [`solve::LOCAL_TERMINALS`] terminals.
 //! - [`smith`]: re-optimisation of Steiner point positions for a fixed topology, and the
 //!   clean-up that restores the 120° rule.
 //! - [`solve`]: the choice between the exact solver and the heuristic.
@@ -19,6 +22,8 @@
 mod concatenate;
 mod fst;
 mod heuristic;
+mod local;
+mod path_maxima;
 mod smith;
 mod solve;
 mod terminal_sets;

@@ -11,7 +11,7 @@
 //! full Steiner tree was generated, since only then does the integer program describe every
 //! Steiner minimum tree; otherwise it is the spanning tree's length times [`RATIO_BOUND`].
 
-use super::{concatenate, fst, heuristic, Network};
+use super::{concatenate, fst, heuristic, local, Network};
 use crate::geometry::predicates::all_collinear;
 use crate::geometry::Point;
 use crate::network::{SteinerMethod, SteinerOptions, AUTO_BUDGET, AUTO_EXACT_TERMINALS};
@@ -22,6 +22,13 @@ use crate::network::{SteinerMethod, SteinerOptions, AUTO_BUDGET, AUTO_EXACT_TERM
 /// Pollak 1968) is not used: the published proof of it (Du and Hwang 1992) has a gap
 /// (Ivanov and Tuzhilin 2012), so a bound built on it would not be proven.
 pub(crate) const RATIO_BOUND: f64 = 0.824;
+
+/// Up to this many terminals the heuristic is the concatenation of local full Steiner trees
+/// ([`local`]), beyond it Steiner insertion ([`heuristic`]): on 10,000 uniform terminals
+/// the first took about 3 times as long as the second (8.2 s against 2.5 s, loaded machine)
+/// for a saving over the spanning tree of 3.257 % against 3.203 %, and on 100,000 it took
+/// 150.6 s against 59.9 s (3.2225 % against 3.1837 %), its windows and clean-up dominating.
+pub(crate) const LOCAL_TERMINALS: usize = 20_000;
 
 /// The answer of [`solve_distinct`], in working units.
 #[derive(Debug, Clone)]
@@ -80,7 +87,11 @@ pub(crate) fn solve_distinct(local: &[Point], mst_edges: Vec<[usize; 2]>, option
         // The caller discards a cancelled answer: the spanning tree is the quickest valid one.
         return answer(chain(mst_edges), false, ratio_bound);
     }
-    let net = heuristic::heuristic(local, mst_edges.clone(), options.seed, watch);
+    let net = if n <= LOCAL_TERMINALS {
+        local::local_heuristic(local, &mst_edges, local::MAX_SET, local::WINDOW, options.seed, watch)
+    } else {
+        heuristic::heuristic(local, mst_edges.clone(), options.seed, watch)
+    };
     let (mut best, mut bound) = (if net.length() <= mst_length { net } else { chain(mst_edges) }, ratio_bound);
     if let Some((net, lp_bound)) = stopped {
         bound = lp_bound;
@@ -92,7 +103,7 @@ pub(crate) fn solve_distinct(local: &[Point], mst_edges: Vec<[usize; 2]>, option
 }
 
 /// The tree made of the chosen full Steiner trees.
-fn assemble(local: &[Point], trees: &[fst::FullTree], chosen: &[usize]) -> Network {
+pub(super) fn assemble(local: &[Point], trees: &[fst::FullTree], chosen: &[usize]) -> Network {
     use fst::End;
     let mut net = Network { nodes: local.to_vec(), terminal_count: local.len(), edges: Vec::new() };
     for &i in chosen {
@@ -142,6 +153,7 @@ mod past_one_word {
     use super::*;
     use crate::geometry::random::SplitMix64;
     use crate::network::mst::mst_edges;
+    use crate::network::steiner::heuristic;
 
     fn exact(points: &[Point]) -> (Network, bool) {
         let options = SteinerOptions { method: SteinerMethod::Exact, ..SteinerOptions::default() };

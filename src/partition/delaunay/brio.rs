@@ -49,11 +49,11 @@ pub(super) fn insert_biased(vertices: Vec<Vertex>) -> Option<DelaunayTriangulati
 }
 
 /// Cells per side of the Hilbert curve's grid.
-const HILBERT_SIDE: u32 = 1 << 16;
+pub(crate) const HILBERT_SIDE: u32 = 1 << 16;
 
 /// Position of cell `(x, y)` along the Hilbert curve (Hilbert 1891) filling the
 /// `HILBERT_SIDE`² grid, by the classic quadrant-by-quadrant rotation.
-fn hilbert_index(mut x: u32, mut y: u32) -> u64 {
+pub(crate) fn hilbert_index(mut x: u32, mut y: u32) -> u64 {
     let mut index = 0u64;
     let mut s = HILBERT_SIDE / 2;
     while s > 0 {

@@ -16,6 +16,7 @@
 
 mod adapter;
 mod brio;
+pub(crate) use brio::{hilbert_index, HILBERT_SIDE};
 mod check;
 mod strips;
 mod whole;
