@@ -187,7 +187,6 @@ pub(crate) struct Clock {
 
 impl Clock {
     /// A clock that never stops (no deadline, a watch nobody else holds).
-    #[cfg(test)]
     pub(crate) fn unlimited() -> Clock {
         Watch::new().clock(None)
     }
