@@ -198,6 +198,7 @@ def discrete_p_median_single(
     weights: ArrayLike | None,
     fixed: ArrayLike | None,
     bound_iterations: Any,
+    search_rounds: Any,
     time_limit: Any = None,
     progress: Any = None,
 ) -> _Fields: ...
