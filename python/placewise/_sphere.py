@@ -327,7 +327,12 @@ def voronoi_cells(sites: ArrayLike, *, max_edge_degrees: float = 1.0) -> SphereC
         ``[longitude, latitude]`` degrees, every site at its own place.
     max_edge_degrees : float, default 1
         Longest arc of a ring edge; longer Voronoi edges get points along their great circle
-        (so the lon/lat polygons follow them), in (0, 90].
+        (so the lon/lat polygons follow them), in (0, 90]. Between two ring points the
+        polygon's edge is straight in lon/lat and departs from the great circle: by about
+        150 m for a 1° step at 32° N (measured), four times less for each halving of the
+        step. A point-in-polygon test on the rings can therefore disagree with the nearest
+        site within that distance of a cell edge; lower the step where that matters. The
+        cells' areas and the nearest-site assignments do not depend on it.
 
     Returns
     -------
