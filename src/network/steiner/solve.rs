@@ -90,7 +90,7 @@ pub(crate) fn solve_distinct(local: &[Point], mst_edges: Vec<[usize; 2]>, option
     let net = if n <= LOCAL_TERMINALS {
         // Insertion costs a fraction of the local method here, and on some sets it is the
         // shorter (one 100-terminal set in five, where the whole-set exact step ran out of
-        // its deadline): the shorter of the two, so the local method never makes it worse.
+        // its time limit): the shorter of the two, so the local method never makes it worse.
         let concatenated =
             local::local_heuristic(local, &mst_edges, local::MAX_SET, local::WINDOW, options.seed, watch);
         let inserted = heuristic::heuristic(local, mst_edges.clone(), options.seed, watch);

@@ -66,7 +66,7 @@ pub(crate) fn concatenate(n: usize, trees: &[FullTree], clock: &Clock) -> Option
 }
 
 /// [`concatenate`], stopping as at the deadline once `node_limit` nodes have been solved.
-fn branch_and_cut(n: usize, trees: &[FullTree], clock: &Clock, node_limit: usize) -> Option<Concatenation> {
+pub(crate) fn branch_and_cut(n: usize, trees: &[FullTree], clock: &Clock, node_limit: usize) -> Option<Concatenation> {
     if n < 2 {
         return Some(Concatenation { chosen: Vec::new(), length: 0.0, lower_bound: 0.0, proven: true });
     }

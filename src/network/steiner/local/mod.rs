@@ -32,7 +32,7 @@ pub(crate) const MAX_SET: usize = 4;
 /// Terminals per window of the exact re-concatenation.
 pub(crate) const WINDOW: usize = 40;
 /// Up to this many terminals the whole set is one window: the candidates are concatenated
-/// exactly (within the window's deadline), which on every proven uniform set of 20 to 40
+/// exactly (within the window's node limit), which on every proven uniform set of 20 to 40
 /// terminals measured gave the Steiner minimum tree.
 pub(crate) const WHOLE: usize = 150;
 

@@ -11,10 +11,12 @@
 //!
 //! Windows are runs of consecutive terminals along a Hilbert curve (Hilbert 1891), which
 //! keeps them compact on any spread of terminals; a second pass with runs shifted by half a
-//! window lets elements across the first pass's seams be exchanged. The deadline of each
-//! window bounds the time of an unlucky one (its best tree so far is used).
+//! window lets elements across the first pass's seams be exchanged. A limit on the branch
+//! and cut nodes of each window bounds the work of an unlucky one (its best tree so far is
+//! used): a count, not a deadline, so the tree does not depend on the machine's speed or
+//! load.
 
-use super::super::concatenate::concatenate;
+use super::super::concatenate::branch_and_cut;
 use super::super::fst::FullTree;
 use crate::cancel::Watch;
 use crate::geometry::Point;
@@ -23,8 +25,9 @@ use crate::partition::{hilbert_index, HILBERT_SIDE};
 
 /// How many windows on either side along the curve are searched for the components first.
 const HALO: usize = 2;
-/// Largest time of one window's concatenation, in seconds.
-const WINDOW_SECONDS: f64 = 2.0;
+/// Most branch and cut nodes of one window's concatenation (a 40-terminal window typically
+/// needs a handful).
+const WINDOW_NODES: usize = 400;
 
 /// The order of `points` along a Hilbert curve over their bounding box.
 pub(super) fn hilbert_order(points: &[Point]) -> Vec<usize> {
@@ -148,8 +151,8 @@ pub(super) fn improve(parts_of: &Elements, chosen: &mut [bool], window: usize, o
             }
         }
         if count >= 2 {
-            let clock = watch.clock(Some(WINDOW_SECONDS));
-            if let Some(found) = concatenate(count, &contracted, &clock) {
+            let clock = watch.clock(None);
+            if let Some(found) = branch_and_cut(count, &contracted, &clock, WINDOW_NODES) {
                 if found.length < removed - 1e-12 * removed.max(1.0) {
                     for &t in members {
                         for &e in &by_first[t] {
