@@ -143,6 +143,21 @@ struct Evaluation {
     comg12: f64,
 }
 
+/// `(sin α₂, cos α₂)` (not normalised) at the far latitude of the geodesic leaving with
+/// `(salp1, calp1)`, by Clairaut's relation as GeographicLib writes it (exact for equal and
+/// for opposite latitudes); `cos α₂` is 0 where the geodesic does not reach the far latitude.
+fn far_azimuth(lat: &Latitudes, salp1: f64, calp1: f64) -> (f64, f64) {
+    let Latitudes { sbet1, cbet1, sbet2, cbet2, .. } = *lat;
+    let salp2 = if cbet2 != cbet1 { salp1 * cbet1 / cbet2 } else { salp1 };
+    let calp2 = if cbet2 != cbet1 || sbet2.abs() != -sbet1 {
+        let across = if cbet1 < -sbet1 { (cbet2 - cbet1) * (cbet1 + cbet2) } else { (sbet1 - sbet2) * (sbet1 + sbet2) };
+        ((calp1 * cbet1) * (calp1 * cbet1) + across).max(0.0).sqrt() / cbet2
+    } else {
+        calp1.abs()
+    };
+    (salp2, calp2)
+}
+
 /// Karney's `Λ₁₂(α₁)` (2013, §4 eqs. 8, 25) with the distance and `dλ/dα₁` from one call of
 /// the length series.
 fn evaluate(g: &Geodesic, lat: &Latitudes, salp1: f64, calp1: f64, slam12: f64, clam12: f64) -> Option<Evaluation> {
@@ -151,13 +166,7 @@ fn evaluate(g: &Geodesic, lat: &Latitudes, salp1: f64, calp1: f64, slam12: f64, 
     let calp0 = (calp1 * calp1 + (salp1 * sbet1) * (salp1 * sbet1)).sqrt();
     let (ssig1, csig1) = normalised(sbet1, calp1 * cbet1);
     let (somg1, comg1) = (salp0 * sbet1, calp1 * cbet1);
-    let salp2 = if cbet2 != cbet1 { salp0 / cbet2 } else { salp1 };
-    let calp2 = if cbet2 != cbet1 || sbet2.abs() != -sbet1 {
-        let across = if cbet1 < -sbet1 { (cbet2 - cbet1) * (cbet1 + cbet2) } else { (sbet1 - sbet2) * (sbet1 + sbet2) };
-        ((calp1 * cbet1) * (calp1 * cbet1) + across).sqrt() / cbet2
-    } else {
-        calp1.abs()
-    };
+    let (salp2, calp2) = far_azimuth(lat, salp1, calp1);
     if !(calp2 > 0.0) {
         return None;
     }
@@ -309,16 +318,9 @@ pub(crate) fn ordinary_inverse(g: &Geodesic, lat1: f64, lon1: f64, lat2: f64, lo
         }
         let e = solved?;
         let v = e.residual;
-        // The far end's azimuth after the last step, by Clairaut's relation (as in `evaluate`).
-        let salp0 = salp1 * cbet1;
-        salp2 = if cbet2 != cbet1 { salp0 / cbet2 } else { salp1 };
-        let across = if cbet1 < -sbet1 { (cbet2 - cbet1) * (cbet1 + cbet2) } else { (sbet1 - sbet2) * (sbet1 + sbet2) };
-        calp2 = if cbet2 != cbet1 || sbet2.abs() != -sbet1 {
-            ((calp1 * cbet1) * (calp1 * cbet1) + across).max(0.0).sqrt() / cbet2
-        } else {
-            calp1.abs()
-        };
-        (salp2, calp2) = normalised(salp2, calp2);
+        // The far end's azimuth after the last step.
+        let (s2, c2) = far_azimuth(&lat, salp1, calp1);
+        (salp2, calp2) = normalised(s2, c2);
         // Taylor's expansion of the distance to the far latitude's parallel, in longitude,
         // about the end reached (see the module docs): exact slope, spherical curvature.
         g._b * e.s12b - g.a * cbet2 * e.salp2 * v + g.a * distance_curvature_term(&lat, &e)
