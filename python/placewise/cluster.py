@@ -76,16 +76,15 @@ def _call(kernel: Callable[..., Any], *args: Any, group_values: Any = None, rows
     """Run a kernel on a worker; an ``InputError`` is restated in the user's terms and made
     ready to travel to the client.
 
-    A worker pickles the error with its whole chain (``__context__`` included), and the
-    kernel's structured detail does not pickle: the error is raised outside the handler,
-    without the kernel's error chained and without the detail, keeping the message and the
-    ``argument``, ``group`` and ``row`` (the user's own values).
+    A worker pickles the error with its whole chain (``__context__`` included): the error is
+    raised outside the handler, without the kernel's own error chained, keeping the message,
+    the ``argument``, ``group`` and ``row`` (the user's own values) and the ``detail`` (which
+    crosses as its message and attributes).
     """
     try:
         return kernel(*args, **options)
     except InputError as exc:
         error = restate(exc, group_values, rows)
-    error.detail = None
     raise error
 
 

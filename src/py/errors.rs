@@ -28,9 +28,26 @@ pyo3::create_exception!(
 
 /// A kernel's refusal in structured form: what the Python package needs to restate it in the
 /// user's terms.
+///
+/// A detail pickled (to cross a process, as Dask and `multiprocessing` do) is restored as its
+/// message and attributes only: the structured error lives in Rust and is not rebuilt, so
+/// `describe` of a restored detail returns the message as it was, names included.
 #[pyclass(frozen, module = "placewise._core")]
 pub(crate) struct ErrorDetail {
-    error: Error,
+    form: DetailForm,
+}
+
+enum DetailForm {
+    /// Raised in this process: the kernel's own error, which can be restated in other names.
+    Live(Error),
+    /// Restored from a pickle: what the live form answered when it was pickled.
+    Restored { message: String, argument: String, group: Option<i64>, row: Option<usize>, degenerate: bool },
+}
+
+impl ErrorDetail {
+    fn live(error: Error) -> Self {
+        ErrorDetail { form: DetailForm::Live(error) }
+    }
 }
 
 /// Names rows and groups by calling back into Python.
@@ -51,37 +68,79 @@ impl Namer for PythonNamer<'_, '_> {
 #[pymethods]
 impl ErrorDetail {
     /// The message with groups named by `name_group(label) -> str` and rows by
-    /// `name_row(argument, row) -> str`.
+    /// `name_row(argument, row) -> str` (a restored detail: its message as it was).
     fn describe(&self, name_group: &Bound<'_, PyAny>, name_row: &Bound<'_, PyAny>) -> String {
-        self.error.describe(&PythonNamer { group: name_group, row: name_row })
+        match &self.form {
+            DetailForm::Live(error) => error.describe(&PythonNamer { group: name_group, row: name_row }),
+            DetailForm::Restored { message, .. } => message.clone(),
+        }
     }
 
     /// The argument the error concerns.
     #[getter]
-    fn argument(&self) -> &'static str {
-        self.error.argument()
+    fn argument(&self) -> &str {
+        match &self.form {
+            DetailForm::Live(error) => error.argument(),
+            DetailForm::Restored { argument, .. } => argument,
+        }
     }
 
     /// The integer label of the group it happened in, or None.
     #[getter]
     fn group(&self) -> Option<i64> {
-        self.error.group()
+        match &self.form {
+            DetailForm::Live(error) => error.group(),
+            DetailForm::Restored { group, .. } => *group,
+        }
     }
 
     /// The input row (position) it concerns, or None.
     #[getter]
     fn row(&self) -> Option<usize> {
-        self.error.row()
+        match &self.form {
+            DetailForm::Live(error) => error.row(),
+            DetailForm::Restored { row, .. } => *row,
+        }
     }
 
     /// True for well-formed but degenerate input.
     #[getter]
     fn degenerate(&self) -> bool {
-        self.error.is_degenerate()
+        match &self.form {
+            DetailForm::Live(error) => error.is_degenerate(),
+            DetailForm::Restored { degenerate, .. } => *degenerate,
+        }
+    }
+
+    /// The detail rebuilt from its pickled parts (see [`ErrorDetail::__reduce__`]).
+    #[staticmethod]
+    fn _restore(message: String, argument: String, group: Option<i64>, row: Option<usize>, degenerate: bool) -> Self {
+        ErrorDetail { form: DetailForm::Restored { message, argument, group, row, degenerate } }
+    }
+
+    /// Pickling: the message and attributes, so an `InputError` raised in a worker process
+    /// reaches the caller whole.
+    #[allow(clippy::type_complexity)]
+    fn __reduce__<'py>(
+        slf: &Bound<'py, Self>,
+    ) -> PyResult<(Bound<'py, PyAny>, (String, String, Option<i64>, Option<usize>, bool))> {
+        let this = slf.get();
+        let restore = slf.get_type().getattr("_restore")?;
+        Ok((restore, (this.message(), this.argument().to_owned(), this.group(), this.row(), this.degenerate())))
     }
 
     fn __repr__(&self) -> String {
-        format!("ErrorDetail({:?})", self.error.to_string())
+        format!("ErrorDetail({:?})", self.message())
+    }
+}
+
+impl ErrorDetail {
+    /// The message in the kernel's own terms (rows by position, groups by label).
+    fn message(&self) -> String {
+        match &self.form {
+            DetailForm::Live(error) => error.to_string(),
+            DetailForm::Restored { message, .. } => message.clone(),
+        }
     }
 }
 
@@ -107,7 +166,7 @@ pub(crate) fn exception(py: Python<'_>, error: Error) -> PyErr {
         value.setattr("argument", error.argument())?;
         value.setattr("group", error.group())?;
         value.setattr("row", error.row())?;
-        value.setattr("detail", Py::new(py, ErrorDetail { error })?)?;
+        value.setattr("detail", Py::new(py, ErrorDetail::live(error))?)?;
         Ok(())
     };
     match attach() {
@@ -120,7 +179,7 @@ pub(crate) fn exception(py: Python<'_>, error: Error) -> PyErr {
 pub(crate) fn problem<T>(py: Python<'_>, outcome: &Result<T, Error>) -> PyResult<Option<Py<ErrorDetail>>> {
     match outcome {
         Ok(_) => Ok(None),
-        Err(error) => Ok(Some(Py::new(py, ErrorDetail { error: error.clone() })?)),
+        Err(error) => Ok(Some(Py::new(py, ErrorDetail::live(error.clone()))?)),
     }
 }
 
