@@ -532,131 +532,147 @@ fn equilateral(
     // narrowed to the passing samples, widened by half a spacing, and the equilateral point
     // dies when none passes.
     const SAMPLES: usize = 16;
-    let step = (hi - lo) / (SAMPLES - 1) as f64;
-    // Half a spacing moves s along the circle by at most `shift` and turns every direction
-    // from s to a fixed point of the circle (e, p, q) by `step / 4` (inscribed angles).
-    let shift = radius * step / 2.0;
-    let turn = step / 4.0;
-    // Upper bound test (Winter and Zachariasen 1997) for the subtree below s, of length
-    // |s − e| by Simpson's construction: deleting it leaves each terminal below s in its own
-    // component and s with the rest; a link from s to the nearest terminal below it plus
-    // the MST of those terminals under bottleneck Steiner distances reconnects everything
-    // (each bottleneck edge is realised by an MST edge between two components), so in a
-    // Steiner minimum tree |s − e| ≤ bsd-MST + min_z |s − z|. Both sides change by at most
-    // `shift` over half a spacing.
+    // Rounds of sampling, each on the arc the previous one left, while they still shrink it
+    // below REFINE_SHRINK of its length.
+    const REFINE_ROUNDS: usize = 8;
+    const REFINE_SHRINK: f64 = 0.9;
     let bsd_tree = mst_of.length(set_p, set_q, bottleneck);
-    let upper_bound_holds = |s: Point| {
-        let link = below().map(|v| distance_squared(points[v], s)).fold(f64::INFINITY, f64::min).sqrt();
-        length(sub(s, e)) <= bsd_tree + link + 2.0 * shift + TOL
-    };
-    // Lune test on the edge from s to a terminal child t: a terminal z with |z − t| and
-    // |z − s| both below |s − t| would replace the longest edge of the cycle s–t–z (Gilbert
-    // and Pollak 1968), so an empty lune is necessary. Moving s by `shift` changes |s − t|
-    // and |z − s| by at most `shift` each.
-    let lune_is_empty = |s: Point| {
-        [ip, iq].iter().all(|child| {
-            let Kind::Terminal(t) = child.kind else {
-                return true;
-            };
-            let pt = points[t];
-            let l = length(sub(s, pt)) - 2.0 * shift - TOL;
-            if l <= 0.0 {
-                return true;
-            }
-            // Compared squared: both sides are non-negative.
-            let l2 = l * l;
-            !points
-                .iter()
-                .enumerate()
-                .any(|(z, &pz)| z != t && distance_squared(pz, s) < l2 && distance_squared(pz, pt) < l2)
-        })
-    };
-    // Wedge property (Winter and Zachariasen 1997): the rest of the tree hangs from s by the
-    // edge along d = s − e (Simpson's line). Walking from s into it and always taking the
-    // branch that turns back (every Steiner point turns a path by ±60°), the edge directions
-    // stay within d and d + 60° (or within d − 60° and d); the walk ends at a terminal, which
-    // therefore lies in each of the two closed 60° cones at s between d and the extensions
-    // s − p and s − q of the child edges. Those terminals are not below s. Over half a
-    // spacing the cones turn by `turn` and the direction from s to a terminal z by at most
-    // asin(shift / |z − s|); terminals within `shift` count as inside.
-    // The angle from d to s − p is the same ±60° at every s of the circle (inscribed
-    // angles); it is read once at the middle of the whole arc, far from p and q, because
-    // s − p has no direction when s is at p.
-    let middle = Kind::arc_point(centre, radius, theta_q, ARC / 2.0);
-    let side_p = signed_angle(sub(middle, e), sub(middle, pp)).signum() * (PI / 3.0);
-    // Evaluated without angles: a terminal strictly inside a cone passes by two cross
-    // products; any other is inside the widened cone when its angle from the cone's bisector
-    // is at most π/6 + slack, i.e. when the cosine of that angle is at least
-    // cos(A + asin x) = cos A·√(1 − x²) − sin A·x with A = π/6 + turn + ARC_TOL and
-    // x = shift / gap (A + asin x < π, so the cosine decides).
-    let (cos60, sin60) = (0.5, super::HALF_SQRT3);
-    let (sin_a, cos_a) = (PI / 6.0 + turn + ARC_TOL).sin_cos();
-    let wedge_holds = |s: Point| {
-        let d = sub(s, e);
-        [side_p, -side_p].iter().all(|&alpha| {
-            let sign = alpha.signum();
-            // The cone's far edge (d turned by alpha) and its bisector (d turned by alpha/2).
-            let edge = [d[0] * cos60 - sign * d[1] * sin60, sign * d[0] * sin60 + d[1] * cos60];
-            let bisector = [d[0] * sin60 - sign * d[1] * cos60, sign * d[0] * cos60 + d[1] * sin60];
-            outside(set_p, set_q, points.len()).any(|z| {
-                let w = sub(points[z], s);
-                if sign * cross(d, w) >= 0.0 && sign * cross(w, edge) >= 0.0 {
+    let (mut lo, mut hi) = (lo, hi);
+    for _ in 0..REFINE_ROUNDS {
+        let step = (hi - lo) / (SAMPLES - 1) as f64;
+        // Half a spacing moves s along the circle by at most `shift` and turns every direction
+        // from s to a fixed point of the circle (e, p, q) by `step / 4` (inscribed angles).
+        let shift = radius * step / 2.0;
+        let turn = step / 4.0;
+        // Upper bound test (Winter and Zachariasen 1997) for the subtree below s, of length
+        // |s − e| by Simpson's construction: deleting it leaves each terminal below s in its own
+        // component and s with the rest; a link from s to the nearest terminal below it plus
+        // the MST of those terminals under bottleneck Steiner distances reconnects everything
+        // (each bottleneck edge is realised by an MST edge between two components), so in a
+        // Steiner minimum tree |s − e| ≤ bsd-MST + min_z |s − z|. Both sides change by at most
+        // `shift` over half a spacing.
+        let upper_bound_holds = |s: Point| {
+            let link = below().map(|v| distance_squared(points[v], s)).fold(f64::INFINITY, f64::min).sqrt();
+            length(sub(s, e)) <= bsd_tree + link + 2.0 * shift + TOL
+        };
+        // Lune test on the edge from s to a terminal child t: a terminal z with |z − t| and
+        // |z − s| both below |s − t| would replace the longest edge of the cycle s–t–z (Gilbert
+        // and Pollak 1968), so an empty lune is necessary. Moving s by `shift` changes |s − t|
+        // and |z − s| by at most `shift` each.
+        let lune_is_empty = |s: Point| {
+            [ip, iq].iter().all(|child| {
+                let Kind::Terminal(t) = child.kind else {
+                    return true;
+                };
+                let pt = points[t];
+                let l = length(sub(s, pt)) - 2.0 * shift - TOL;
+                if l <= 0.0 {
                     return true;
                 }
-                let gap = dot(w, w).sqrt();
-                if gap <= shift + TOL {
-                    return true;
-                }
-                let x = (shift / gap).min(1.0);
-                let cos_half = cos_a * (1.0 - x * x).sqrt() - sin_a * x;
-                dot(bisector, w) >= length(bisector) * gap * cos_half
+                // Compared squared: both sides are non-negative.
+                let l2 = l * l;
+                !points
+                    .iter()
+                    .enumerate()
+                    .any(|(z, &pz)| z != t && distance_squared(pz, s) < l2 && distance_squared(pz, pt) < l2)
             })
-        })
-    };
-    // Bottleneck test on an edge from s to a child's Steiner point s', which Simpson's line
-    // puts where the ray from the child's location c towards s leaves the child's circle:
-    // |s − s'| = |s − c| − |s' − c|, and |s' − c| is the chord 2r'·cos ψ of the child's
-    // circle at angle ψ from the diameter through c. Over half a spacing |s − c| drops by
-    // at most `shift` and the ray turns by at most `turn` (c is on the circle of s), so the
-    // chord is at most 2r'·cos(max(0, ψ − turn)); the edge is on the paths between the
-    // two sides, so it is at most `limit` in a Steiner minimum tree.
-    let (sin_turn, cos_turn) = turn.sin_cos();
-    let child_edges_hold = |s: Point| {
-        [(ip, pp), (iq, qq)].iter().all(|&(child, at)| {
-            let Kind::Equilateral { centre: c, radius: r, .. } = child.kind else {
-                return true;
-            };
-            let (ray, axis) = (sub(s, at), sub(c, at));
-            let ray_length = length(ray);
-            let lengths = ray_length * length(axis);
-            // cos(max(0, ψ − turn)) clamped at 0 beyond a right angle, from cos ψ and sin ψ.
-            let chord = if lengths == 0.0 {
-                2.0 * r
-            } else {
-                let (cos_psi, sin_psi) = (dot(axis, ray) / lengths, cross(axis, ray).abs() / lengths);
-                if cos_psi >= cos_turn {
+        };
+        // Wedge property (Winter and Zachariasen 1997): the rest of the tree hangs from s by the
+        // edge along d = s − e (Simpson's line). Walking from s into it and always taking the
+        // branch that turns back (every Steiner point turns a path by ±60°), the edge directions
+        // stay within d and d + 60° (or within d − 60° and d); the walk ends at a terminal, which
+        // therefore lies in each of the two closed 60° cones at s between d and the extensions
+        // s − p and s − q of the child edges. Those terminals are not below s. Over half a
+        // spacing the cones turn by `turn` and the direction from s to a terminal z by at most
+        // asin(shift / |z − s|); terminals within `shift` count as inside.
+        // The angle from d to s − p is the same ±60° at every s of the circle (inscribed
+        // angles); it is read once at the middle of the whole arc, far from p and q, because
+        // s − p has no direction when s is at p.
+        let middle = Kind::arc_point(centre, radius, theta_q, ARC / 2.0);
+        let side_p = signed_angle(sub(middle, e), sub(middle, pp)).signum() * (PI / 3.0);
+        // Evaluated without angles: a terminal strictly inside a cone passes by two cross
+        // products; any other is inside the widened cone when its angle from the cone's bisector
+        // is at most π/6 + slack, i.e. when the cosine of that angle is at least
+        // cos(A + asin x) = cos A·√(1 − x²) − sin A·x with A = π/6 + turn + ARC_TOL and
+        // x = shift / gap (A + asin x < π, so the cosine decides).
+        let (cos60, sin60) = (0.5, super::HALF_SQRT3);
+        let (sin_a, cos_a) = (PI / 6.0 + turn + ARC_TOL).sin_cos();
+        let wedge_holds = |s: Point| {
+            let d = sub(s, e);
+            [side_p, -side_p].iter().all(|&alpha| {
+                let sign = alpha.signum();
+                // The cone's far edge (d turned by alpha) and its bisector (d turned by alpha/2).
+                let edge = [d[0] * cos60 - sign * d[1] * sin60, sign * d[0] * sin60 + d[1] * cos60];
+                let bisector = [d[0] * sin60 - sign * d[1] * cos60, sign * d[0] * cos60 + d[1] * sin60];
+                outside(set_p, set_q, points.len()).any(|z| {
+                    let w = sub(points[z], s);
+                    if sign * cross(d, w) >= 0.0 && sign * cross(w, edge) >= 0.0 {
+                        return true;
+                    }
+                    let gap = dot(w, w).sqrt();
+                    if gap <= shift + TOL {
+                        return true;
+                    }
+                    let x = (shift / gap).min(1.0);
+                    let cos_half = cos_a * (1.0 - x * x).sqrt() - sin_a * x;
+                    dot(bisector, w) >= length(bisector) * gap * cos_half
+                })
+            })
+        };
+        // Bottleneck test on an edge from s to a child's Steiner point s', which Simpson's line
+        // puts where the ray from the child's location c towards s leaves the child's circle:
+        // |s − s'| = |s − c| − |s' − c|, and |s' − c| is the chord 2r'·cos ψ of the child's
+        // circle at angle ψ from the diameter through c. Over half a spacing |s − c| drops by
+        // at most `shift` and the ray turns by at most `turn` (c is on the circle of s), so the
+        // chord is at most 2r'·cos(max(0, ψ − turn)); the edge is on the paths between the
+        // two sides, so it is at most `limit` in a Steiner minimum tree.
+        let (sin_turn, cos_turn) = turn.sin_cos();
+        let child_edges_hold = |s: Point| {
+            [(ip, pp), (iq, qq)].iter().all(|&(child, at)| {
+                let Kind::Equilateral { centre: c, radius: r, .. } = child.kind else {
+                    return true;
+                };
+                let (ray, axis) = (sub(s, at), sub(c, at));
+                let ray_length = length(ray);
+                let lengths = ray_length * length(axis);
+                // cos(max(0, ψ − turn)) clamped at 0 beyond a right angle, from cos ψ and sin ψ.
+                let chord = if lengths == 0.0 {
                     2.0 * r
                 } else {
-                    2.0 * r * (cos_psi * cos_turn + sin_psi * sin_turn).max(0.0)
-                }
-            };
-            ray_length - shift - chord <= limit + TOL
-        })
-    };
-    // The samples, by rotating the first one step by step.
-    let mut samples = [[0.0; 2]; SAMPLES];
-    let ((mut sin_u, mut cos_u), (sin_step, cos_step)) = ((theta_q + lo).sin_cos(), step.sin_cos());
-    for sample in &mut samples {
-        *sample = [centre[0] + radius * cos_u, centre[1] + radius * sin_u];
-        (cos_u, sin_u) = (cos_u * cos_step - sin_u * sin_step, sin_u * cos_step + cos_u * sin_step);
+                    let (cos_psi, sin_psi) = (dot(axis, ray) / lengths, cross(axis, ray).abs() / lengths);
+                    if cos_psi >= cos_turn {
+                        2.0 * r
+                    } else {
+                        2.0 * r * (cos_psi * cos_turn + sin_psi * sin_turn).max(0.0)
+                    }
+                };
+                ray_length - shift - chord <= limit + TOL
+            })
+        };
+        // The samples, by rotating the first one step by step.
+        let mut samples = [[0.0; 2]; SAMPLES];
+        let ((mut sin_u, mut cos_u), (sin_step, cos_step)) = ((theta_q + lo).sin_cos(), step.sin_cos());
+        for sample in &mut samples {
+            *sample = [centre[0] + radius * cos_u, centre[1] + radius * sin_u];
+            (cos_u, sin_u) = (cos_u * cos_step - sin_u * sin_step, sin_u * cos_step + cos_u * sin_step);
+        }
+        let passing = |k: usize| {
+            let s = samples[k];
+            child_edges_hold(s) && upper_bound_holds(s) && lune_is_empty(s) && wedge_holds(s)
+        };
+        let first = (0..SAMPLES).find(|&k| passing(k))?;
+        let last = (first..SAMPLES).rev().find(|&k| passing(k)).unwrap_or(first);
+        let (narrow_lo, narrow_hi) =
+            (lo.max(lo + step * (first as f64 - 0.5)), hi.min(lo + step * (last as f64 + 0.5)));
+        // Each round's relaxation is half a spacing of its own arc: sampling the narrowed arc
+        // again tests with smaller slack and narrows it further. Narrow arcs matter beyond this
+        // point, as they make the point's reach shorter and spare most of its later pairings.
+        let shrunk = narrow_hi - narrow_lo < REFINE_SHRINK * (hi - lo);
+        (lo, hi) = (narrow_lo, narrow_hi);
+        if !shrunk {
+            break;
+        }
     }
-    let passing = |k: usize| {
-        let s = samples[k];
-        child_edges_hold(s) && upper_bound_holds(s) && lune_is_empty(s) && wedge_holds(s)
-    };
-    let first = (0..SAMPLES).find(|&k| passing(k))?;
-    let last = (first..SAMPLES).rev().find(|&k| passing(k)).unwrap_or(first);
-    let (lo, hi) = (lo.max(lo + step * (first as f64 - 0.5)), hi.min(lo + step * (last as f64 + 0.5)));
     Some(item(lo, hi))
 }
 
