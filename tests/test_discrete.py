@@ -37,10 +37,11 @@ def solve(c: np.ndarray, constraints: list, integrality: np.ndarray, bounds: sci
 
 
 def milp_p_median(costs: np.ndarray, w: np.ndarray, p: int, fixed: tuple[int, ...] = (),
-                  allowed: np.ndarray | None = None) -> float:
+                  allowed: np.ndarray | None = None, relaxed: bool = False) -> float:
     """The textbook p-median integer program (ReVelle & Swain 1970), solved by HiGHS:
     min Σ wᵢcᵢⱼxᵢⱼ, Σⱼ xᵢⱼ = 1, xᵢⱼ <= yⱼ, Σ yⱼ = p + |fixed|, y binary; xᵢⱼ = 0 where the
-    pair is not ``allowed``."""
+    pair is not ``allowed``. ``relaxed``: its linear relaxation (0 <= y <= 1) instead, whose value
+    the Lagrangian relaxation of the assignment constraints reaches at best (Geoffrion 1974)."""
     n, m = costs.shape
     nx = n * m
     c = np.concatenate([(w[:, None] * costs).ravel(), np.zeros(m)])
@@ -55,7 +56,7 @@ def milp_p_median(costs: np.ndarray, w: np.ndarray, p: int, fixed: tuple[int, ..
         upper[:nx] = allowed.ravel()
     cons = [scipy.optimize.LinearConstraint(assign, 1, 1), scipy.optimize.LinearConstraint(link, -np.inf, 0),
             scipy.optimize.LinearConstraint(count, p + len(fixed), p + len(fixed))]
-    integrality = np.concatenate([np.zeros(nx), np.ones(m)])
+    integrality = np.concatenate([np.zeros(nx), np.zeros(m) if relaxed else np.ones(m)])
     return solve(c, cons, integrality, scipy.optimize.Bounds(lower, upper))
 
 
@@ -133,6 +134,21 @@ def test_p_median_lagrangian_bound_is_close_to_milp(seed):
     assert plan.lower_bound >= 0.99 * best
     assert plan.bound_iterations <= 1000
 
+
+
+@pytest.mark.parametrize(("seed", "n", "m", "p"), [(21, 150, 40, 5), (22, 200, 40, 8), (23, 250, 50, 10)])
+def test_p_median_bound_below_the_linear_relaxation_and_close_to_it(seed, n, m, p):
+    # Every value of the Lagrangian function is at most the linear relaxation's optimum
+    # (Geoffrion 1974: the subproblem has the integrality property), itself at most the integer
+    # optimum: both from HiGHS through scipy.optimize.milp. The deflected subgradient (Camerini,
+    # Fratta & Maffioli 1975) must come close to the relaxation's value, not only below it.
+    _, _, w, costs = instance(seed, n, m)
+    plan = discrete.p_median(costs, p, w)
+    relaxation = milp_p_median(costs, w, p, relaxed=True)  # scipy.optimize.milp (HiGHS), no integers
+    best = milp_p_median(costs, w, p)  # scipy.optimize.milp (HiGHS)
+    assert plan.lower_bound <= relaxation * (1 + 1e-7) <= best * (1 + 2e-7)
+    assert plan.lower_bound >= relaxation * (1 - 1e-3)
+    assert plan.total_cost >= best * (1 - 1e-9)
 
 
 @pytest.mark.parametrize("seed", [7, 8])

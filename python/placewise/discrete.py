@@ -358,10 +358,12 @@ def p_median(
 
     Greedy start, then the fast swap interchange (Teitz & Bart 1968; Whitaker 1983;
     Resende & Werneck 2004) until no swap helps, then variable neighbourhood search
-    (Hansen & Mladenović 1997): seeded random jumps of 1 to 10 sites, each followed by the
-    interchange, kept when they lead to a cheaper plan; a proven lower bound from the Lagrangian
-    relaxation of the assignment constraints by subgradient optimisation (Cornuejols,
-    Fisher & Nemhauser 1977; Beasley 1993). Deterministic.
+    (Hansen & Mladenović 1997): seeded random jumps of 1 to 10 sites (every other one
+    replacing the sites around a random demand point by candidates near it), each followed by
+    the interchange, kept when they lead to a cheaper plan; a proven lower bound from the
+    Lagrangian relaxation of the assignment constraints by subgradient optimisation (Cornuejols,
+    Fisher & Nemhauser 1977; Beasley 1993) with deflected directions (Camerini, Fratta &
+    Maffioli 1975). Deterministic.
 
     Parameters
     ----------

@@ -69,6 +69,12 @@ impl NearLists {
         near
     }
 
+    /// The number of rows.
+    #[inline]
+    pub(super) fn rows(&self) -> usize {
+        self.limit.len()
+    }
+
     /// How far row `i` is complete: every allowed pair costing less is listed.
     #[inline]
     pub(super) fn limit(&self, i: usize) -> f64 {

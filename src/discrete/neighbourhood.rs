@@ -7,6 +7,13 @@
 //! the new local optimum only when it is cheaper, then back to `k = 1`; otherwise `k` grows
 //! up to [`DEEPEST`] and starts over. The random jumps come from a seeded generator, so the
 //! result is deterministic.
+//!
+//! Every other jump is regional instead of uniform: the `k` open sites met first in the
+//! candidate list of a random demand point (the sites around it) are replaced by `k` random
+//! closed candidates from the same stretch of that list. On spatial instances the local optima
+//! left by the interchange differ from better plans by the arrangement of a few neighbouring
+//! sites, which no single swap reaches and which `k` uniform replacements, scattered over the
+//! whole map, hit only by chance.
 
 use super::near::NearLists;
 use super::swap::fast_swap;
@@ -88,7 +95,8 @@ pub(super) fn neighbourhood_search(
         let mut trial = open.clone();
         is_open.iter_mut().for_each(|o| *o = false);
         trial.iter().for_each(|&j| is_open[j] = true);
-        for _ in 0..k.min(free) {
+        let regional = spent % 2 == 0 && shake_region(near, &mut trial, &mut is_open, fixed_count, k, &mut rng);
+        for _ in 0..if regional { 0 } else { k.min(free) } {
             let at = fixed_count + rng.below(free);
             // A closed candidate, uniformly (at least one exists: open.len() < m).
             let inserted = loop {
@@ -112,6 +120,54 @@ pub(super) fn neighbourhood_search(
         }
     }
     (swaps, spent)
+}
+
+/// The regional jump: replace the `k` free open sites (positions `fixed_count..` of `trial`)
+/// met first in the candidate list of a random demand point by `k` distinct random closed
+/// candidates among the first `max(2 · reach, 2k)` entries of that list, `reach` the length of
+/// list holding the `k` sites; `is_open` follows `trial`. False (and nothing changed) when the
+/// list holds fewer than `k` free open sites or fewer than `k` closed candidates.
+fn shake_region(
+    near: &NearLists,
+    trial: &mut [usize],
+    is_open: &mut [bool],
+    fixed_count: usize,
+    k: usize,
+    rng: &mut SplitMix64,
+) -> bool {
+    let rows = near.rows();
+    if rows == 0 {
+        return false;
+    }
+    let (columns, _) = near.row(rng.below(rows));
+    let mut removed = Vec::with_capacity(k);
+    let mut reach = 0;
+    for (at, &j) in columns.iter().enumerate() {
+        if removed.len() == k {
+            break;
+        }
+        if let Some(position) = trial[fixed_count..].iter().position(|&o| o == j as usize) {
+            removed.push(fixed_count + position);
+            reach = at + 1;
+        }
+    }
+    if removed.len() < k {
+        return false;
+    }
+    let reach = (2 * reach).max(2 * k).min(columns.len());
+    let mut pool: Vec<usize> = columns[..reach].iter().map(|&j| j as usize).filter(|&j| !is_open[j]).collect();
+    if pool.len() < k {
+        return false;
+    }
+    // A partial Fisher–Yates shuffle draws k distinct entries of the pool.
+    for (t, &position) in removed.iter().enumerate() {
+        let pick = t + rng.below(pool.len() - t);
+        pool.swap(t, pick);
+        is_open[trial[position]] = false;
+        is_open[pool[t]] = true;
+        trial[position] = pool[t];
+    }
+    true
 }
 
 #[cfg(test)]
@@ -191,6 +247,37 @@ mod tests {
             let ours = direct(&values, m, &w, &open);
             assert!(ours <= direct(&values, m, &w, &start) + 1e-9, "never dearer than the start");
             assert!((ours - exact).abs() <= 1e-9 * exact.max(1.0), "round {round}: {ours} vs optimum {exact}");
+        }
+    }
+
+    #[test]
+    fn regional_jump_replaces_free_sites_near_one_point() {
+        let mut rng = SplitMix64::new(9);
+        let (n, m) = (50, 40);
+        let points: Vec<Point> = (0..n).map(|_| [rng.next_f64() * 10.0, rng.next_f64() * 10.0]).collect();
+        let sites: Vec<Point> = (0..m).map(|_| [rng.next_f64() * 10.0, rng.next_f64() * 10.0]).collect();
+        let costs = Costs::from(PlanarCosts::new(&points, &sites).unwrap());
+        let near = NearLists::new(&costs, 20);
+        for round in 0..200 {
+            let (fixed, k) = (round % 3, 1 + round % 4);
+            let start: Vec<usize> = (0..12).map(|t| 3 * t + round % 3).collect();
+            let mut trial = start.clone();
+            let mut is_open = vec![false; m];
+            trial.iter().for_each(|&j| is_open[j] = true);
+            if !shake_region(&near, &mut trial, &mut is_open, fixed, k, &mut rng) {
+                assert_eq!(trial, start, "a refused jump changes nothing");
+                continue;
+            }
+            assert_eq!(&trial[..fixed], &start[..fixed], "fixed sites stay");
+            let changed = (0..trial.len()).filter(|&t| trial[t] != start[t]).count();
+            assert_eq!(changed, k, "exactly k sites replaced");
+            let mut sorted = trial.clone();
+            sorted.sort_unstable();
+            sorted.dedup();
+            assert_eq!(sorted.len(), trial.len(), "distinct sites");
+            for (j, &open) in is_open.iter().enumerate() {
+                assert_eq!(open, trial.contains(&j), "is_open follows the plan at {j}");
+            }
         }
     }
 
