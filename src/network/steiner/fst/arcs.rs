@@ -323,6 +323,19 @@ pub(super) fn arc_bounds(
     Some((lo, hi))
 }
 
+/// Where an item's own Steiner point can lie: the middle of its feasible arc and the largest
+/// distance from there to a point of the arc, `2r·sin(Δ/4)` for an arc of angle Δ widened
+/// by the tolerance `hit` allows at each end (a terminal: itself, 0).
+pub(super) fn arc_span(item: &Item) -> (Point, f64) {
+    match item.kind {
+        Kind::Terminal(_) => (item.pos, 0.0),
+        Kind::Equilateral { centre, radius, theta_q, lo, hi, .. } => (
+            Kind::arc_point(centre, radius, theta_q, 0.5 * (lo + hi)),
+            2.0 * radius * ((hi - lo) / 4.0 + ARC_TOL).min(PI / 2.0).sin(),
+        ),
+    }
+}
+
 /// Nearest and farthest distance from an item's location to its feasible arc (both 0 for
 /// a terminal).
 pub(super) fn reach(item: &Item) -> (f64, f64) {

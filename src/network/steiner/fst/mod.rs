@@ -39,7 +39,7 @@ use rayon::prelude::*;
 use super::terminal_sets::{lowest, members, TerminalSets};
 use crate::geometry::{distance, distance_squared, Point};
 
-use arcs::{arc_bounds, arc_parameter, equilateral, reach, Item, Kind};
+use arcs::{arc_bounds, arc_parameter, arc_span, equilateral, reach, Item, Kind};
 pub(super) use bottleneck::prim_length;
 pub(crate) use bottleneck::Bottleneck;
 use bottleneck::{push_nearest, BsdTrees};
@@ -92,7 +92,7 @@ pub(crate) fn full_steiner_trees(points: &[Point], bottleneck: &Bottleneck, cloc
 pub(crate) struct SizeCounts {
     /// Subtree size (terminals below the equilateral points made).
     pub size: usize,
-    /// Pairs of items met in the sweep windows.
+    /// Pairs of items met in the sweep windows (the square around each item's arc middle).
     pub pairs: u64,
     /// Those with disjoint terminal sets.
     pub disjoint: u64,
@@ -160,25 +160,35 @@ fn generate(
         sets.push_single(t);
         items.push(Item { pos: p, kind: Kind::Terminal(t) });
     }
-    // Both edges from a Steiner point to its children are at most the longest MST edge
-    // (the largest bottleneck distance), and the child's own Steiner point is within its
-    // farthest arc distance of its location: two items farther apart than twice that edge
-    // plus their two reaches never pair up. Items are kept sorted by x to sweep for partners.
+    // The new Steiner point s is joined to each child's own Steiner point (the child itself
+    // for a terminal) by an edge on the tree paths between the two sides, so by the
+    // bottleneck test each edge is at most the smallest bottleneck distance between the
+    // sides, `closest`, and at most the longest MST edge: the two children's Steiner points
+    // are within 2·closest of each other. Each lies on its child's feasible arc, within the
+    // arc's `spread` of the arc's middle (`arc_span`), so two items whose middles are farther
+    // apart than 2·closest plus their spreads never pair up. Items are kept sorted by the x
+    // of their middles to sweep for partners with the longest MST edge in place of closest.
     let longest = bottleneck.mst.iter().map(|&[u, v]| distance(points[u], points[v])).fold(0.0, f64::max);
-    let sort_by_x = |list: &mut Vec<u32>, items: &[Item]| {
-        list.sort_by(|&a, &b| items[a as usize].pos[0].total_cmp(&items[b as usize].pos[0]))
+    let sort_by_x = |list: &mut Vec<u32>, mids: &[Point]| {
+        list.sort_by(|&a, &b| mids[a as usize][0].total_cmp(&mids[b as usize][0]))
     };
-    sort_by_x(&mut by_size[1], &items);
     // nearest_bsd[item * n + v]: the smallest bottleneck distance from a terminal below the
-    // item to terminal v; far[item]: the item's farthest arc distance (`reach`).
+    // item to terminal v; far[item]: the item's farthest arc distance (`reach`); mids[item]
+    // and spread[item]: the middle of its arc and how far the arc strays from it.
     let mut nearest_bsd: Vec<f64> = Vec::with_capacity(items.len() * n);
     let mut far: Vec<f64> = Vec::with_capacity(items.len());
     let mut near: Vec<f64> = Vec::with_capacity(items.len());
+    let mut mids: Vec<Point> = Vec::with_capacity(items.len());
+    let mut spread: Vec<f64> = Vec::with_capacity(items.len());
     for (index, item) in items.iter().enumerate() {
         push_nearest(&mut nearest_bsd, sets.get(index), bottleneck, n);
         far.push(reach(item).1);
         near.push(reach(item).0);
+        let (mid, stray) = arc_span(item);
+        mids.push(mid);
+        spread.push(stray);
     }
+    sort_by_x(&mut by_size[1], &mids);
     for k in 2..n {
         let started = std::time::Instant::now();
         // Per-size tallies, added once per job: pairs, disjoint, near, sampled.
@@ -187,9 +197,9 @@ fn generate(
         // the smaller side with its partners, and are gathered in the order of `a` so that
         // the output does not depend on the thread count.
         let xs: Vec<Vec<f64>> =
-            by_size.iter().map(|list| list.iter().map(|&b| items[b as usize].pos[0]).collect()).collect();
+            by_size.iter().map(|list| list.iter().map(|&b| mids[b as usize][0]).collect()).collect();
         let widest: Vec<f64> =
-            by_size.iter().map(|list| list.iter().map(|&b| far[b as usize]).fold(0.0, f64::max)).collect();
+            by_size.iter().map(|list| list.iter().map(|&b| spread[b as usize]).fold(0.0, f64::max)).collect();
         let jobs: Vec<(usize, usize, u32)> =
             (1..=k / 2).flat_map(|i| by_size[i].iter().enumerate().map(move |(a_pos, &a)| (i, a_pos, a))).collect();
         let pair_with = |mst_of: &mut BsdTrees, &(i, a_pos, a): &(usize, usize, u32)| {
@@ -199,12 +209,17 @@ fn generate(
             let j = k - i;
             let mut found = Vec::new();
             let (pa, far_a) = (items[a as usize].pos, far[a as usize]);
-            let window = if prune { 2.0 * longest + far_a + widest[j] + TOL } else { f64::INFINITY };
-            let first = xs[j].partition_point(|&x| x < pa[0] - window);
-            let last = xs[j].partition_point(|&x| x <= pa[0] + window);
+            let (mid_a, spread_a) = (mids[a as usize], spread[a as usize]);
+            let window = if prune { 2.0 * longest + spread_a + widest[j] + TOL } else { f64::INFINITY };
+            let first = xs[j].partition_point(|&x| x < mid_a[0] - window);
+            let last = xs[j].partition_point(|&x| x <= mid_a[0] + window);
             let first = if i == j { first.max(a_pos + 1) } else { first };
             let mut local = [0u64; 4];
             for &b in by_size[j].get(first..last).unwrap_or(&[]) {
+                // The sweep bounds x; the same window bounds y.
+                if (mids[b as usize][1] - mid_a[1]).abs() > window {
+                    continue;
+                }
                 let ib = &items[b as usize];
                 local[0] += 1;
                 if !sets.disjoint(a as usize, b as usize) {
@@ -215,6 +230,11 @@ fn generate(
                 let mut closest = f64::INFINITY;
                 for v in members(sets.get(b as usize)) {
                     closest = closest.min(nearest_bsd[a as usize * n + v]);
+                }
+                // The children's Steiner points within 2·closest of each other (see above).
+                let apart = 2.0 * closest + spread_a + spread[b as usize] + TOL;
+                if prune && distance_squared(mid_a, mids[b as usize]) > apart * apart {
+                    continue;
                 }
                 // Sharper, by the law of cosines at the 120° Steiner point s on the arc over
                 // p and q: |p − q|² = |s − p|² + |s − q|² + |s − p|·|s − q|, and the
@@ -262,10 +282,13 @@ fn generate(
             push_nearest(&mut nearest_bsd, sets.get(items.len()), bottleneck, n);
             far.push(reach(&item).1);
             near.push(reach(&item).0);
+            let (mid, stray) = arc_span(&item);
+            mids.push(mid);
+            spread.push(stray);
             items.push(item);
         }
         let mut list = std::mem::take(&mut by_size[k]);
-        sort_by_x(&mut list, &items);
+        sort_by_x(&mut list, &mids);
         let [pairs, disjoint, near, sampled] = tally.map(AtomicU64::into_inner);
         let (kept, seconds) = (list.len() as u64, started.elapsed().as_secs_f64());
         counts.push(SizeCounts { size: k, pairs, disjoint, near, sampled, kept, seconds });
