@@ -139,10 +139,11 @@ fn a_cancelled_weber_run_stops_after_its_first_pass_and_counts_it() {
     let weights: Vec<f64> = (0..49).map(|i| 1.0 + f64::from(i % 5)).collect();
     let full = geodesic_weber_point(&points, Weights::Given(&weights), &WeberOptions::default()).unwrap();
     assert!(full.converged && full.iterations > 1, "{full:?}");
-    let watch = Watch::new();
+    let limits = RunLimits::default();
+    let watch = &limits.watch;
     watch.cancel();
     let stopped =
-        geodesic_weber_point_watched(&points, Weights::Given(&weights), &WeberOptions::default(), &watch).unwrap();
+        geodesic_weber_point_watched(&points, Weights::Given(&weights), &WeberOptions::default(), &limits).unwrap();
     assert_eq!(stopped.iterations, 1);
     assert!(stopped.cost >= full.cost);
     let (done, total) = watch.progress();
@@ -192,4 +193,24 @@ fn a_spent_time_limit_returns_the_start_with_its_true_radius_and_a_valid_gap() {
     };
     let r = geodesic_enclosing_circle(&pts, &cancelled).unwrap();
     assert!(!r.center.converged && watch.finish(r).is_err());
+}
+
+#[test]
+fn a_weber_run_out_of_time_returns_its_measured_start_uncertified() {
+    // The same skewed grid: with a deadline already passed the run still makes its first exact
+    // pass (so the site has a cost) and stops there. Reference for the cost: GeographicLib's
+    // distances (geographiclib-rs, Karney 2013) summed at the returned site.
+    let points: Vec<Point> = (0..49).map(|i| [10.0 + f64::from(i % 7) * 0.3, 45.0 + f64::from(i / 7) * 0.2]).collect();
+    let weights: Vec<f64> = (0..49).map(|i| 1.0 + f64::from(i % 5)).collect();
+    let full = geodesic_weber_point(&points, Weights::Given(&weights), &WeberOptions::default()).unwrap();
+    let limits = RunLimits { time_limit: Some(0.0), watch: Watch::new() };
+    let cut =
+        geodesic_weber_point_watched(&points, Weights::Given(&weights), &WeberOptions::default(), &limits).unwrap();
+    assert!(!cut.converged && cut.iterations == 1, "{cut:?}");
+    let earth = Earth::wgs84();
+    let exact: f64 = points.iter().zip(&weights).map(|(&p, &w)| w * earth.distance(cut.location, p)).sum();
+    assert!((cut.cost - exact).abs() <= 1e-12 * exact, "{} {exact}", cut.cost);
+    assert!(cut.cost >= full.cost && cut.cost - cut.gap <= full.cost);
+    let (done, total) = limits.watch.progress();
+    assert!(done == total && total == WeberOptions::default().max_iter as u64);
 }
