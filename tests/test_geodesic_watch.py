@@ -151,6 +151,23 @@ def test_a_cut_grouped_weber_run_flags_every_group_with_true_costs() -> None:
         assert cut.cost[k] == pytest.approx(_weighted_sum(cut.location[k], POINTS[mine], WEIGHTS[mine]), rel=1e-9)
 
 
+@pytest.mark.parametrize("kernel", ["minimax_point", "enclosing_circle", "weber_point"])
+@pytest.mark.parametrize("name, value", [("time_limit", 5.0), ("progress", True), ("progress", print)])
+def test_planar_gis_runs_refuse_what_they_cannot_honour(kernel: str, name: str, value) -> None:  # noqa: ANN001
+    # The planar kernels are exact and quick: a time limit or a progress report would be
+    # silently ignored, so it is refused, naming the argument; left unset, the run answers
+    # (the triangle's smallest circle has radius 5/2 about (2, 1.5): closed form).
+    gpd = pytest.importorskip("geopandas")
+    frame = gpd.GeoSeries(gpd.points_from_xy([0.0, 4.0, 2.0], [0.0, 0.0, 4.0]))
+    run = getattr(pw.gis, kernel)
+    with pytest.raises(pw.InputError) as caught:
+        run(frame, planar=True, **{name: value})
+    assert caught.value.argument == name
+    assert len(run(frame, planar=True)) == 1
+    if kernel == "enclosing_circle":
+        assert run(frame, planar=True, time_limit=None, progress=False)["radius_u"].iloc[0] == pytest.approx(2.5)
+
+
 def test_a_cut_grouped_run_flags_every_group_with_true_radii() -> None:
     cut = MODELS["minimax_point groups"](time_limit=1e-6)
     assert len(cut) == 4 and not cut.converged.any()
@@ -161,7 +178,8 @@ def test_a_cut_grouped_run_flags_every_group_with_true_radii() -> None:
 
 
 @pytest.mark.parametrize("command, label", [(["enclosing-circle"], "geodesic enclosing_circle"),
-                                            (["minimax-point", "--by", "zone"], "geodesic minimax_point")])
+                                            (["minimax-point", "--by", "zone"], "geodesic minimax_point"),
+                                            (["weber-point"], "geodesic weber_point")])
 def test_the_cli_shows_the_bar_on_a_terminal_unless_turned_off(capsys, monkeypatch, tmp_path, command,
                                                                label) -> None:
     import sys
@@ -181,6 +199,27 @@ def test_the_cli_shows_the_bar_on_a_terminal_unless_turned_off(capsys, monkeypat
     # The centre written is the geodesic one (same as the library's, which pyproj checks above).
     out = pd.read_csv(tmp_path / "out.csv")
     assert len(out) == (len(np.unique(GROUPS[:2000])) if "--by" in command else 1)
+
+
+@pytest.mark.parametrize("command", ["enclosing-circle", "minimax-point", "weber-point"])
+def test_the_cli_draws_no_bar_for_a_planar_run_and_still_answers(capsys, monkeypatch, tmp_path, command) -> None:
+    # A planar run refuses progress= (it is exact and quick), so the command line gives it
+    # none even on a terminal. Reference: the smallest circle of the triangle (0,0), (4,0),
+    # (2,4) has radius 5/2 (its circumcircle; the triangle is acute).
+    import sys
+
+    import pandas as pd
+
+    from placewise.cli import main
+
+    path = tmp_path / "plane.csv"
+    pd.DataFrame({"x": [0.0, 4.0, 2.0], "y": [0.0, 0.0, 4.0]}).to_csv(path, index=False)
+    monkeypatch.setattr(sys.stderr, "isatty", lambda: True)
+    out_path = tmp_path / "out.csv"
+    assert main([command, str(path), "--planar", "-o", str(out_path)]) == 0
+    assert "geodesic" not in capsys.readouterr().err
+    if command == "enclosing-circle":
+        assert pd.read_csv(out_path)["radius_u"].iloc[0] == pytest.approx(2.5)
 
 
 _CHILD = r"""
