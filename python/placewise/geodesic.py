@@ -172,8 +172,9 @@ def weber_point(
         Seconds (finite, above zero) the run may take (each group's, from its own start,
         with ``groups``). When they pass, the site reached comes back with ``converged``
         False unless its certificate already holds; ``cost`` is still its exact geodesic
-        cost and ``gap`` a proven bound (the first exact pass always completes, so a run cut
-        before it returns its start). Default: no limit.
+        cost and ``gap`` a proven bound. The first exact pass always completes (it gives the
+        site its cost), so a limit shorter than the set-up and one pass over the points is
+        overrun by that much, and the site returned is then the start. Default: no limit.
     progress : bool or callable
         True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
         callable is called as ``progress(done, total)`` from the calling thread while the
