@@ -438,9 +438,10 @@ fn descend(
     clock: &Clock,
     steps: &mut Steps<'_>,
 ) -> Result<WeberPoint> {
-    // Until the first exact pass every step is set-up that a deadline does not cut (the
-    // answer needs a measured cost); a cancel stops it per chunk of points, and the caller
-    // drops the answer then.
+    // The deadline never cuts the set-up (spread, conformal images) nor the first exact pass:
+    // the answer needs a measured cost. It does cut the model's passes in between, which then
+    // end at the point reached. A cancel stops any of them per chunk of points (the caller
+    // drops the answer then; `not_begun` is that answer before any pass).
     let location = |x: Point| [super::earth::normalised_longitude(x[0]), x[1]];
     let not_begun = |x: Point| WeberPoint {
         location: location(x),
