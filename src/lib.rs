@@ -69,13 +69,13 @@ pub use error::{Error, Namer, Positions, Result};
 pub use geodesic::{
     geodesic_area, geodesic_circle, geodesic_distances, geodesic_enclosing_circle, geodesic_enclosing_circles,
     geodesic_length, geodesic_minimax_point, geodesic_minimax_points, geodesic_nearest_site,
-    geodesic_nearest_site_grouped, geodesic_nearest_site_watched, geodesic_weber_point, geodesic_weber_point_watched,
-    geodesic_weber_points, geodesic_weber_points_watched, CenterOptions as GeodesicCenterOptions, GeodesicCenter,
-    GeodesicCircle, CONVEX_CAP_DEGREES, HEMISPHERE_DEGREES,
+    geodesic_nearest_site_grouped, geodesic_nearest_site_grouped_watched, geodesic_nearest_site_watched,
+    geodesic_weber_point, geodesic_weber_point_watched, geodesic_weber_points, geodesic_weber_points_watched,
+    CenterOptions as GeodesicCenterOptions, GeodesicCenter, GeodesicCircle, CONVEX_CAP_DEGREES, HEMISPHERE_DEGREES,
 };
 pub use geodesic::{
-    sphere_delaunay, sphere_spanning_tree, sphere_voronoi_cells, SphereCellOptions, SphereCells, SphereTree,
-    SphereTriangulation,
+    sphere_delaunay, sphere_spanning_tree, sphere_voronoi_cells, sphere_voronoi_cells_watched, SphereCellOptions,
+    SphereCells, SphereTree, SphereTriangulation,
 };
 pub use geometry::{FeasibleRegion, Point, Weights};
 pub use median::{

@@ -264,8 +264,10 @@ def test_nearest_site_reports_progress_and_stops_when_the_callable_raises():
 
     with pytest.raises(Enough):
         pw.geodesic.nearest_site(demand, sites, progress=stop)
+    # Grouped calls are watched too (tests/test_geodesic_watch.py); a report that is neither a
+    # bool nor a callable is refused, naming it.
     with pytest.raises(pw.InputError) as caught:
-        pw.geodesic.nearest_site(demand, sites, groups=np.zeros(len(demand)), site_groups=np.zeros(40), progress=True)
+        pw.geodesic.nearest_site(demand, sites, groups=np.zeros(len(demand)), site_groups=np.zeros(40), progress=3)
     assert caught.value.argument == "progress"
 
 

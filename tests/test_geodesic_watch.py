@@ -1,9 +1,11 @@
 """Long geodesic runs a person can watch and stop: progress, time limits and Ctrl-C for the
-minimax point and enclosing circle on the ellipsoid (single and grouped), and Ctrl-C for the
-grouped Fermat–Weber point.
+minimax point, enclosing circle and Fermat–Weber point on the ellipsoid (single and
+grouped); progress and Ctrl-C for the grouped nearest-site search and the spherical Voronoi
+cells (which have no partial answer, so no time limit).
 
 Truth of a flagged answer is recomputed with pyproj's ``Geod`` (GeographicLib, Karney 2013):
-the largest weight × geodesic distance from the returned site, independently of placewise.
+the largest weight × geodesic distance from the returned site, or the weighted sum of
+geodesic distances, independently of placewise.
 """
 
 from __future__ import annotations
@@ -22,11 +24,22 @@ POINTS = np.column_stack([RNG.uniform(-30, 25, N), RNG.uniform(20, 65, N)])
 WEIGHTS = RNG.uniform(1, 3, N)
 GROUPS = RNG.integers(0, 4, N)
 
+SITES = np.column_stack([RNG.uniform(-30, 25, 40), RNG.uniform(20, 65, 40)])
+SITE_GROUPS = np.arange(40) % 4
+
 MODELS = {
     "minimax_point": lambda **kw: pw.geodesic.minimax_point(POINTS, WEIGHTS, **kw),
     "minimax_point groups": lambda **kw: pw.geodesic.minimax_point(POINTS, WEIGHTS, groups=GROUPS, **kw),
     "enclosing_circle": lambda **kw: pw.geodesic.enclosing_circle(POINTS, **kw),
     "enclosing_circle groups": lambda **kw: pw.geodesic.enclosing_circle(POINTS, groups=GROUPS, **kw),
+    "weber_point": lambda **kw: pw.geodesic.weber_point(POINTS, WEIGHTS, **kw),
+    "weber_point groups": lambda **kw: pw.geodesic.weber_point(POINTS, WEIGHTS, groups=GROUPS, **kw),
+}
+#: Kernels with no partial answer: progress and Ctrl-C only.
+WHOLE = {
+    "nearest_site groups": lambda **kw: pw.geodesic.nearest_site(POINTS, SITES, WEIGHTS, groups=GROUPS,
+                                                                 site_groups=SITE_GROUPS, **kw),
+    "voronoi_cells": lambda **kw: pw.geodesic.voronoi_cells(POINTS[:20_000], **kw),
 }
 
 
@@ -37,15 +50,44 @@ def _largest(site: np.ndarray, points: np.ndarray, weights: np.ndarray | None = 
     return float((s if weights is None else weights * s).max())
 
 
-@pytest.mark.parametrize("name", MODELS)
+def _weighted_sum(site: np.ndarray, points: np.ndarray, weights: np.ndarray) -> float:
+    """sum w · s(site, a) by pyproj's geodesic inverse problem (weight × metres)."""
+    lon, lat = np.full(len(points), site[0]), np.full(len(points), site[1])
+    _, _, s = GEOD.inv(lon, lat, points[:, 0], points[:, 1])
+    return float(np.sum(weights * np.asarray(s)))
+
+
+@pytest.mark.parametrize("name", [*MODELS, *WHOLE])
 def test_progress_counts_grow_and_end_at_the_total(name: str) -> None:
-    check_progress_reports(MODELS[name])
+    check_progress_reports({**MODELS, **WHOLE}[name])
 
 
-@pytest.mark.parametrize("name", MODELS)
+@pytest.mark.parametrize("name", [*MODELS, *WHOLE])
 def test_a_raising_progress_callable_stops_the_run(name: str) -> None:
     with pytest.raises(Enough):
-        MODELS[name](progress=stop_at_first_report)
+        {**MODELS, **WHOLE}[name](progress=stop_at_first_report)
+
+
+def test_watching_leaves_the_whole_answers_unchanged() -> None:
+    # Same call without and with a progress callable: the same allocation and cells, bit for bit.
+    for run in WHOLE.values():
+        plain, watched = run(), run(progress=lambda done, total: None)
+        for field in ("assignment", "distance", "area", "rings"):
+            if hasattr(plain, field):
+                np.testing.assert_array_equal(getattr(plain, field), getattr(watched, field))
+
+
+def test_the_watched_grouped_nearest_site_is_the_nearest() -> None:
+    # pyproj's distances from every point to every site of its own group (brute force): the
+    # site chosen is at the least of them.
+    a = WHOLE["nearest_site groups"](progress=lambda done, total: None)
+    rows = np.arange(0, N, 997)
+    for i in rows:
+        mine = np.flatnonzero(SITE_GROUPS == GROUPS[i])
+        _, _, s = GEOD.inv(np.full(len(mine), POINTS[i, 0]), np.full(len(mine), POINTS[i, 1]),
+                           SITES[mine, 0], SITES[mine, 1])
+        assert a.distance[i] == pytest.approx(float(np.min(s)), rel=1e-12, abs=1e-6)
+        assert a.assignment[i] in mine
 
 
 @pytest.mark.parametrize("name", MODELS)
@@ -87,6 +129,45 @@ def test_a_cut_enclosing_circle_still_covers_every_point() -> None:
     assert inscribed <= cut.area <= inscribed * (1 + 1e-6)
 
 
+def test_a_cut_weber_point_is_a_true_flagged_answer() -> None:
+    full = MODELS["weber_point"]()
+    cut = MODELS["weber_point"](time_limit=1e-6)
+    assert full.converged and not cut.converged
+    # The cost reported is the true weighted sum at the site returned (pyproj), and the gap
+    # holds: the cut run's lower bound is below the optimum the full run reached.
+    assert cut.cost == pytest.approx(_weighted_sum(cut.location, POINTS, WEIGHTS), rel=1e-9)
+    assert full.cost == pytest.approx(_weighted_sum(full.location, POINTS, WEIGHTS), rel=1e-9)
+    assert cut.cost - cut.gap <= full.cost <= cut.cost
+    assert cut.iterations <= full.iterations
+    frame = cut.to_frame()
+    assert not frame["converged"].iloc[0] and frame["cost_m"].iloc[0] == cut.cost
+
+
+def test_a_cut_grouped_weber_run_flags_every_group_with_true_costs() -> None:
+    cut = MODELS["weber_point groups"](time_limit=1e-6)
+    assert len(cut) == 4 and not cut.converged.any()
+    for k, label in enumerate(cut.labels):
+        mine = GROUPS == label
+        assert cut.cost[k] == pytest.approx(_weighted_sum(cut.location[k], POINTS[mine], WEIGHTS[mine]), rel=1e-9)
+
+
+@pytest.mark.parametrize("kernel", ["minimax_point", "enclosing_circle", "weber_point"])
+@pytest.mark.parametrize("name, value", [("time_limit", 5.0), ("progress", True), ("progress", print)])
+def test_planar_gis_runs_refuse_what_they_cannot_honour(kernel: str, name: str, value) -> None:  # noqa: ANN001
+    # The planar kernels are exact and quick: a time limit or a progress report would be
+    # silently ignored, so it is refused, naming the argument; left unset, the run answers
+    # (the triangle's smallest circle has radius 5/2 about (2, 1.5): closed form).
+    gpd = pytest.importorskip("geopandas")
+    frame = gpd.GeoSeries(gpd.points_from_xy([0.0, 4.0, 2.0], [0.0, 0.0, 4.0]))
+    run = getattr(pw.gis, kernel)
+    with pytest.raises(pw.InputError) as caught:
+        run(frame, planar=True, **{name: value})
+    assert caught.value.argument == name
+    assert len(run(frame, planar=True)) == 1
+    if kernel == "enclosing_circle":
+        assert run(frame, planar=True, time_limit=None, progress=False)["radius_u"].iloc[0] == pytest.approx(2.5)
+
+
 def test_a_cut_grouped_run_flags_every_group_with_true_radii() -> None:
     cut = MODELS["minimax_point groups"](time_limit=1e-6)
     assert len(cut) == 4 and not cut.converged.any()
@@ -97,7 +178,8 @@ def test_a_cut_grouped_run_flags_every_group_with_true_radii() -> None:
 
 
 @pytest.mark.parametrize("command, label", [(["enclosing-circle"], "geodesic enclosing_circle"),
-                                            (["minimax-point", "--by", "zone"], "geodesic minimax_point")])
+                                            (["minimax-point", "--by", "zone"], "geodesic minimax_point"),
+                                            (["weber-point"], "geodesic weber_point")])
 def test_the_cli_shows_the_bar_on_a_terminal_unless_turned_off(capsys, monkeypatch, tmp_path, command,
                                                                label) -> None:
     import sys
@@ -116,7 +198,28 @@ def test_the_cli_shows_the_bar_on_a_terminal_unless_turned_off(capsys, monkeypat
         assert main([*argv, off]) == 0 and label not in capsys.readouterr().err, off
     # The centre written is the geodesic one (same as the library's, which pyproj checks above).
     out = pd.read_csv(tmp_path / "out.csv")
-    assert len(out) == (1 if command[0] == "enclosing-circle" else len(np.unique(GROUPS[:2000])))
+    assert len(out) == (len(np.unique(GROUPS[:2000])) if "--by" in command else 1)
+
+
+@pytest.mark.parametrize("command", ["enclosing-circle", "minimax-point", "weber-point"])
+def test_the_cli_draws_no_bar_for_a_planar_run_and_still_answers(capsys, monkeypatch, tmp_path, command) -> None:
+    # A planar run refuses progress= (it is exact and quick), so the command line gives it
+    # none even on a terminal. Reference: the smallest circle of the triangle (0,0), (4,0),
+    # (2,4) has radius 5/2 (its circumcircle; the triangle is acute).
+    import sys
+
+    import pandas as pd
+
+    from placewise.cli import main
+
+    path = tmp_path / "plane.csv"
+    pd.DataFrame({"x": [0.0, 4.0, 2.0], "y": [0.0, 0.0, 4.0]}).to_csv(path, index=False)
+    monkeypatch.setattr(sys.stderr, "isatty", lambda: True)
+    out_path = tmp_path / "out.csv"
+    assert main([command, str(path), "--planar", "-o", str(out_path)]) == 0
+    assert "geodesic" not in capsys.readouterr().err
+    if command == "enclosing-circle":
+        assert pd.read_csv(out_path)["radius_u"].iloc[0] == pytest.approx(2.5)
 
 
 _CHILD = r"""
@@ -135,6 +238,8 @@ n = {n}
 pts = np.column_stack([rng.uniform(-20, 20, n), rng.uniform(30, 60, n)])
 w = rng.uniform(1, 2, n)
 groups = rng.integers(0, 3, n)
+sites = np.column_stack([rng.uniform(-20, 20, 300), rng.uniform(30, 60, 300)])
+site_groups = np.arange(300) % 3
 print("started", flush=True)
 try:
     {call}
@@ -143,10 +248,18 @@ except KeyboardInterrupt:
     print("interrupted", time.time(), flush=True)
 """
 
+# Sizes of the newly watched calls: each runs 5–10 s here at load average 4–5 (2 cores),
+# so at least about two seconds on a fast idle machine.
+WEBER_N, NEAREST_N, VORONOI_N = 500_000, 800_000, 200_000
+
 CALLS = {
     "minimax_point": (1_600_000, "pw.geodesic.minimax_point(pts, w)"),
     "enclosing_circle groups": (1_500_000, "pw.geodesic.enclosing_circle(pts, groups=groups)"),
     "weber_point groups": (4_000_000, "pw.geodesic.weber_point(pts, w, groups=groups)"),
+    "weber_point": (WEBER_N, "pw.geodesic.weber_point(pts, w)"),
+    "nearest_site groups": (NEAREST_N,
+                            "pw.geodesic.nearest_site(pts, sites, w, groups=groups, site_groups=site_groups)"),
+    "voronoi_cells": (VORONOI_N, "pw.geodesic.voronoi_cells(pts)"),
 }
 
 

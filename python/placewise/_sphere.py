@@ -13,6 +13,7 @@ the cells' areas add up to the ellipsoid's. Every result states this in ``model`
 from __future__ import annotations
 
 import dataclasses
+from collections.abc import Callable
 from typing import Any
 
 import numpy as np
@@ -314,7 +315,8 @@ class SphereCells(Result):
                                             self._u("area", 2): [float(self.area.sum())], "model": [self.model]})
 
 
-def voronoi_cells(sites: ArrayLike, *, max_edge_degrees: float = 1.0) -> SphereCells:
+def voronoi_cells(sites: ArrayLike, *, max_edge_degrees: float = 1.0,
+                  progress: bool | Callable[[int, int], object] = False) -> SphereCells:
     """Spherical Voronoi cells of lon/lat sites of any extent, covering the globe.
 
     The Voronoi vertices are the outward normals of the faces of the 3-D convex hull of the
@@ -333,6 +335,13 @@ def voronoi_cells(sites: ArrayLike, *, max_edge_degrees: float = 1.0) -> SphereC
         step. A point-in-polygon test on the rings can therefore disagree with the nearest
         site within that distance of a cell edge; lower the step where that matters. The
         cells' areas and the nearest-site assignments do not depend on it.
+    progress : bool or callable
+        True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
+        callable is called as ``progress(done, total)`` from the calling thread while the
+        cells are made: ``3 n`` steps (a site inserted into the hull, a cell's ring, a cell's
+        area). Ctrl-C (or an exception from the callable) stops the run within a fraction of
+        a second and raises ``KeyboardInterrupt``. The cells exist only once all are made, so
+        there is no partial answer and no time limit.
 
     Returns
     -------
@@ -353,7 +362,7 @@ def voronoi_cells(sites: ArrayLike, *, max_edge_degrees: float = 1.0) -> SphereC
     >>> round(float(cells.area.sum()) / 1e12, 3)                         # the ellipsoid's area
     510.066
     """
-    f = _core.sphere_voronoi_single(sites, max_edge_degrees)
+    f = _core.sphere_voronoi_single(sites, max_edge_degrees, progress)
     pts = as_points(sites)  # after the kernel validated them
     return SphereCells(f["vertices"], f["vertex_offsets"], f["cell_vertices"], f["ring_offsets"], f["rings"],
                        f["area"], f["solid_angle"], SPHERE_MODEL, pts.copy(), unit="m")

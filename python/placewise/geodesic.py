@@ -130,20 +130,23 @@ def ring_area(ring: ArrayLike) -> float:
 @overload
 def weber_point(
     points: ArrayLike, weights: ArrayLike | None = None, *, groups: None = None, tol: float = 1e-10,
-    max_iter: int = 10_000, errors: Literal["raise", "skip"] = "raise",
+    max_iter: int = 10_000, errors: Literal["raise", "skip"] = "raise", time_limit: float | None = None,
+    progress: bool | Callable[[int, int], object] = False,
 ) -> WeberPoint: ...
 
 
 @overload
 def weber_point(
     points: ArrayLike, weights: ArrayLike | None = None, *, groups: ArrayLike, tol: float = 1e-10,
-    max_iter: int = 10_000, errors: Literal["raise", "skip"] = "raise",
+    max_iter: int = 10_000, errors: Literal["raise", "skip"] = "raise", time_limit: float | None = None,
+    progress: bool | Callable[[int, int], object] = False,
 ) -> WeberPoints: ...
 
 
 def weber_point(
     points: ArrayLike, weights: ArrayLike | None = None, *, groups: ArrayLike | None = None, tol: float = 1e-10,
-    max_iter: int = 10_000, errors: Literal["raise", "skip"] = "raise",
+    max_iter: int = 10_000, errors: Literal["raise", "skip"] = "raise", time_limit: float | None = None,
+    progress: bool | Callable[[int, int], object] = False,
 ) -> WeberPoint | WeberPoints:
     """The weighted Fermat–Weber point on the ellipsoid: the site minimising
     ``sum(w_i * s(x, a_i))`` with ``s`` the geodesic distance.
@@ -162,11 +165,23 @@ def weber_point(
         Largest number of exact geodesic passes over the points (``iterations`` counts
         them; the start is found on Gauss's conformal sphere, and from 262,144 points on
         its first step is estimated from a sample of 65,536 of them, outside this count).
-        Ctrl-C stops the descent (every group's, with ``groups``) within a fraction of a
-        pass and raises ``KeyboardInterrupt``.
     errors : {"raise", "skip"}
         With ``groups``: fail on the first group without an answer, or keep it with its
         ``problem``.
+    time_limit : float, optional
+        Seconds (finite, above zero) the run may take (each group's, from its own start,
+        with ``groups``). When they pass, the site reached comes back with ``converged``
+        False unless its certificate already holds; ``cost`` is still its exact geodesic
+        cost and ``gap`` a proven bound. The first exact pass always completes (it gives the
+        site its cost), so a limit shorter than the set-up and one pass over the points is
+        overrun by that much, and the site returned is then the start. Default: no limit.
+    progress : bool or callable
+        True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
+        callable is called as ``progress(done, total)`` from the calling thread while the
+        run goes on: exact passes out of ``max_iter`` (ended at the total when the run
+        stops), or with ``groups`` the points of finished groups. Ctrl-C (or an exception
+        from the callable) stops the run, set-up included, within a fraction of a pass and
+        raises ``KeyboardInterrupt``.
 
     Returns
     -------
@@ -190,15 +205,21 @@ def weber_point(
     ['x', 'y', 'cost_m', 'gap_m', 'relative_gap', 'iterations', 'converged']
     >>> bool(r.converged), round(abs(float(r.location[0])), 6)    # on the antimeridian, by symmetry
     (True, 180.0)
+    >>> passes = []
+    >>> r = pw.geodesic.weber_point([[0, 50], [2, 51], [1, 53]], time_limit=60.0,
+    ...                             progress=lambda done, total: passes.append(done))
+    >>> bool(r.converged), passes[-1]                    # the count ends at max_iter
+    (True, 10000)
     >>> pw.geodesic.weber_point([[0, 0], [90, 0], [180, 0], [-90, 0]])
     Traceback (most recent call last):
     ...
     placewise.DegenerateInputError: points: the points reach ...
     """
     if groups is None:
-        return WeberPoint(**_core.geodesic_weber_single(points, weights, tol, max_iter), unit="m")
-    return WeberPoints._from_core(_core.geodesic_weber_grouped(points, weights, groups, tol, max_iter, errors),
-                                  unit="m")
+        return WeberPoint(**_core.geodesic_weber_single(points, weights, tol, max_iter, time_limit, progress),
+                          unit="m")
+    fields = _core.geodesic_weber_grouped(points, weights, groups, tol, max_iter, errors, time_limit, progress)
+    return WeberPoints._from_core(fields, unit="m")
 
 
 # ------------------------------------------------------------------------------- minimax
@@ -531,7 +552,8 @@ def nearest_site(
 @overload
 def nearest_site(
     points: ArrayLike, sites: ArrayLike, weights: ArrayLike | None = None, *, groups: ArrayLike,
-    site_groups: ArrayLike, errors: Literal["raise", "skip"] = "raise", progress: None = None,
+    site_groups: ArrayLike, errors: Literal["raise", "skip"] = "raise",
+    progress: bool | Callable[[int, int], object] | None = None,
 ) -> Allocations: ...
 
 
@@ -547,10 +569,11 @@ def nearest_site(
     the best geodesic distance (a chord is never longer than a path on the surface), so the
     answer is exact at any extent. Ties go to the smaller site index.
 
-    ``progress`` (ungrouped calls): ``True`` draws a bar on stderr counting points, a
-    callable is called with ``(done, total)`` points from the calling thread. Ctrl-C (or an
-    exception from the callable) stops the search within one chunk of points per worker
-    thread and is raised.
+    ``progress``: ``True`` draws a bar on stderr counting points (of every group, with
+    ``groups``), a callable is called with ``(done, total)`` points from the calling thread.
+    Ctrl-C (or an exception from the callable) stops the search within one chunk of points
+    per worker thread (grouped: groups not begun are skipped) and is raised. The answer
+    exists only once every point is allocated, so there is no time limit.
 
     Returns
     -------
@@ -572,9 +595,5 @@ def nearest_site(
 
     if groups is None or site_groups is None:
         raise InputError("groups and site_groups go together: give both or neither")
-    if progress is not None:
-        error = InputError("progress= counts the points of an ungrouped call; grouped calls take none")
-        error.argument = "progress"
-        raise error
-    fields = _core.geodesic_nearest_grouped(points, sites, weights, groups, site_groups, errors)
+    fields = _core.geodesic_nearest_grouped(points, sites, weights, groups, site_groups, errors, progress)
     return Allocations._from_core(fields, points=as_points(points), sites=as_points(sites), unit="m")

@@ -32,8 +32,8 @@ use crate::partition::{grouped_by_kernel, Allocation, SiteAllocations};
 use earth::{validate_lonlat, Earth};
 pub use minimax::{CenterOptions, GeodesicCenter};
 pub use sphere::{
-    sphere_delaunay, sphere_spanning_tree, sphere_voronoi_cells, SphereCellOptions, SphereCells, SphereTree,
-    SphereTriangulation,
+    sphere_delaunay, sphere_spanning_tree, sphere_voronoi_cells, sphere_voronoi_cells_watched, SphereCellOptions,
+    SphereCells, SphereTree, SphereTriangulation,
 };
 pub use weber::{CONVEX_CAP_DEGREES, HEMISPHERE_DEGREES};
 
@@ -116,13 +116,15 @@ fn check_weber(options: &WeberOptions) -> Result<()> {
 /// (one from 262,144 points on, whose first step is estimated from 65,536 of them), after a
 /// handful of O(n) passes on Gauss's conformal sphere that choose where to start.
 pub fn geodesic_weber_point(points: &[Point], weights: Weights<'_>, options: &WeberOptions) -> Result<WeberPoint> {
-    geodesic_weber_point_watched(points, weights, options, &Watch::new())
+    geodesic_weber_point_watched(points, weights, options, &RunLimits::default())
 }
 
-/// [`geodesic_weber_point`] stopping early once `watch` is cancelled (polled between passes
-/// over the points, each about a quarter of a second at 10⁶ points): the point reached is
-/// returned with `converged` false unless its certificate already holds. Progress counts
-/// passes against `options.max_iter`.
+/// [`geodesic_weber_point`] stopping early when `limits` say so: Ctrl-C (a cancelled watch)
+/// within a chunk of points of any pass or set-up step; the deadline between passes once
+/// the first exact pass has measured a site (before it, the conformal-sphere start is cut
+/// short instead). The point reached is returned with `converged` false unless its
+/// certificate already holds; `cost` is its exact cost. Progress counts exact passes against
+/// `options.max_iter`, closed at the total when the run ends.
 ///
 /// # Errors
 /// As [`geodesic_weber_point`].
@@ -130,12 +132,12 @@ pub fn geodesic_weber_point_watched(
     points: &[Point],
     weights: Weights<'_>,
     options: &WeberOptions,
-    watch: &Watch,
+    limits: &RunLimits,
 ) -> Result<WeberPoint> {
     check_weber(options)?;
     validate_lonlat("points", points, 1)?;
     validate_weights("weights", weights, points.len())?;
-    weber::solve(points, weights, options.tol, options.max_iter, &watch.clock(None))
+    weber::solve(points, weights, options.tol, options.max_iter, &limits.clock())
 }
 
 /// [`geodesic_weber_point`] for every group of a labelled cloud, in parallel.
@@ -149,12 +151,12 @@ pub fn geodesic_weber_points(
     options: &WeberOptions,
     on_error: OnGroupError,
 ) -> Result<Grouped<WeberPoint>> {
-    geodesic_weber_points_watched(points, weights, labels, options, on_error, &Watch::new())
+    geodesic_weber_points_watched(points, weights, labels, options, on_error, &RunLimits::default())
 }
 
-/// [`geodesic_weber_points`] watched: every group's descent stops early once `watch` is
-/// cancelled (as [`geodesic_weber_point_watched`]); progress counts the points of finished
-/// groups.
+/// [`geodesic_weber_points`] watched: every group's descent stops early as
+/// [`geodesic_weber_point_watched`] (each group's deadline counted from its own start);
+/// progress counts the points of finished groups.
 ///
 /// # Errors
 /// As [`geodesic_weber_points`].
@@ -164,10 +166,11 @@ pub fn geodesic_weber_points_watched(
     labels: &[i64],
     options: &WeberOptions,
     on_error: OnGroupError,
-    watch: &Watch,
+    limits: &RunLimits,
 ) -> Result<Grouped<WeberPoint>> {
     check_weber(options)?;
-    let inner = watch.quiet();
+    let watch = &limits.watch;
+    let inner = RunLimits { time_limit: limits.time_limit, watch: watch.quiet() };
     watch.plan(points.len() as u64);
     run_grouped(points, weights, labels, on_error, |g| {
         if watch.is_cancelled() {
@@ -412,7 +415,44 @@ pub fn geodesic_nearest_site_grouped(
     site_labels: &[i64],
     on_error: OnGroupError,
 ) -> Result<SiteAllocations> {
-    grouped_by_kernel(points, weights, labels, sites, site_labels, on_error, geodesic_nearest_site)
+    geodesic_nearest_site_grouped_watched(points, weights, labels, sites, site_labels, on_error, &Watch::new())
+}
+
+/// [`geodesic_nearest_site_grouped`] watched: progress counts points (all planned at the
+/// start, each group's counted chunk by chunk as in [`geodesic_nearest_site_watched`], and
+/// the points of groups without an answer at the end). Once `watch` is cancelled, groups
+/// not yet begun are skipped and a running group stops within one chunk of points per
+/// worker thread; the caller drops a cancelled run's answer ([`Watch::finish`]).
+///
+/// # Errors
+/// As [`geodesic_nearest_site_grouped`].
+#[allow(clippy::too_many_arguments)]
+pub fn geodesic_nearest_site_grouped_watched(
+    points: &[Point],
+    weights: Weights<'_>,
+    labels: &[i64],
+    sites: &[Point],
+    site_labels: &[i64],
+    on_error: OnGroupError,
+    watch: &Watch,
+) -> Result<SiteAllocations> {
+    use std::sync::atomic::{AtomicU64, Ordering};
+    watch.plan(points.len() as u64);
+    // Points of groups whose search ran to its end (each counted by `assign` as it went).
+    let counted = AtomicU64::new(0);
+    let outcome = grouped_by_kernel(points, weights, labels, sites, site_labels, on_error, |p, s, w| {
+        if watch.is_cancelled() {
+            return Err(not_started());
+        }
+        validate_lonlat("points", p, 1)?;
+        validate_lonlat("sites", s, 1)?;
+        let a = nearest::assign(p, s, w, watch);
+        counted.fetch_add(p.len() as u64, Ordering::Relaxed);
+        Ok(a)
+    });
+    // Close the count at the total: the groups that failed (or were skipped) count as done.
+    watch.advance((points.len() as u64).saturating_sub(counted.into_inner()));
+    outcome
 }
 
 #[cfg(test)]

@@ -67,11 +67,17 @@ impl SiteTree {
 /// points done on `watch`; once it is cancelled the chunks not yet begun are skipped (the
 /// caller drops a cancelled run's answer, see [`Watch::finish`]).
 pub(crate) fn allocate(points: &[Point], sites: &[Point], weights: Weights<'_>, watch: &Watch) -> Result<Allocation> {
+    watch.plan(points.len() as u64);
+    Ok(assign(points, sites, weights, watch))
+}
+
+/// [`allocate`] with the points already planned on `watch` by the caller (a grouped run
+/// plans all its points at once); counts them done chunk by chunk.
+pub(crate) fn assign(points: &[Point], sites: &[Point], weights: Weights<'_>, watch: &Watch) -> Allocation {
     let tree = SiteTree::new(sites);
     let n = points.len();
     let mut index = vec![0usize; n];
     let mut distance = vec![0.0f64; n];
-    watch.plan(n as u64);
     index.par_chunks_mut(CHUNK).zip(distance.par_chunks_mut(CHUNK)).zip(points.par_chunks(CHUNK)).for_each(
         |((idx, dist), pts)| {
             if watch.is_cancelled() {
@@ -97,12 +103,12 @@ pub(crate) fn allocate(points: &[Point], sites: &[Point], weights: Weights<'_>, 
         cost.add(w * distance[i]);
         total.add(w);
     }
-    Ok(Allocation {
+    Allocation {
         index,
         distance,
         load: load.iter().map(|s| s.total()).collect(),
         count,
         cost: cost.total(),
         total_load: total.total(),
-    })
+    }
 }

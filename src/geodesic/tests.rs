@@ -139,10 +139,11 @@ fn a_cancelled_weber_run_stops_after_its_first_pass_and_counts_it() {
     let weights: Vec<f64> = (0..49).map(|i| 1.0 + f64::from(i % 5)).collect();
     let full = geodesic_weber_point(&points, Weights::Given(&weights), &WeberOptions::default()).unwrap();
     assert!(full.converged && full.iterations > 1, "{full:?}");
-    let watch = Watch::new();
+    let limits = RunLimits::default();
+    let watch = &limits.watch;
     watch.cancel();
     let stopped =
-        geodesic_weber_point_watched(&points, Weights::Given(&weights), &WeberOptions::default(), &watch).unwrap();
+        geodesic_weber_point_watched(&points, Weights::Given(&weights), &WeberOptions::default(), &limits).unwrap();
     assert_eq!(stopped.iterations, 1);
     assert!(stopped.cost >= full.cost);
     let (done, total) = watch.progress();
@@ -192,4 +193,76 @@ fn a_spent_time_limit_returns_the_start_with_its_true_radius_and_a_valid_gap() {
     };
     let r = geodesic_enclosing_circle(&pts, &cancelled).unwrap();
     assert!(!r.center.converged && watch.finish(r).is_err());
+}
+
+#[test]
+fn a_weber_run_out_of_time_returns_its_measured_start_uncertified() {
+    // The same skewed grid: with a deadline already passed the run still makes its first exact
+    // pass (so the site has a cost) and stops there. Reference for the cost: GeographicLib's
+    // distances (geographiclib-rs, Karney 2013) summed at the returned site.
+    let points: Vec<Point> = (0..49).map(|i| [10.0 + f64::from(i % 7) * 0.3, 45.0 + f64::from(i / 7) * 0.2]).collect();
+    let weights: Vec<f64> = (0..49).map(|i| 1.0 + f64::from(i % 5)).collect();
+    let full = geodesic_weber_point(&points, Weights::Given(&weights), &WeberOptions::default()).unwrap();
+    let limits = RunLimits { time_limit: Some(0.0), watch: Watch::new() };
+    let cut =
+        geodesic_weber_point_watched(&points, Weights::Given(&weights), &WeberOptions::default(), &limits).unwrap();
+    assert!(!cut.converged && cut.iterations == 1, "{cut:?}");
+    let earth = Earth::wgs84();
+    let exact: f64 = points.iter().zip(&weights).map(|(&p, &w)| w * earth.distance(cut.location, p)).sum();
+    assert!((cut.cost - exact).abs() <= 1e-12 * exact, "{} {exact}", cut.cost);
+    assert!(cut.cost >= full.cost && cut.cost - cut.gap <= full.cost);
+    let (done, total) = limits.watch.progress();
+    assert!(done == total && total == WeberOptions::default().max_iter as u64);
+}
+
+#[test]
+fn a_watched_grouped_nearest_site_counts_every_point_and_skips_groups_once_cancelled() {
+    // Three groups of points, each served by its own sites; a fourth label has points but no
+    // sites (its error is kept with Skip). Reference: brute force over each group's sites with
+    // GeographicLib's distance (geographiclib-rs, Karney 2013).
+    let mut rng = SplitMix64::new(23);
+    let points: Vec<Point> = (0..6_000).map(|_| [40.0 * rng.next_f64() - 20.0, 30.0 + 30.0 * rng.next_f64()]).collect();
+    let labels: Vec<i64> = (0..points.len()).map(|i| (i % 4) as i64).collect();
+    let sites: Vec<Point> = (0..30).map(|_| [40.0 * rng.next_f64() - 20.0, 30.0 + 30.0 * rng.next_f64()]).collect();
+    let site_labels: Vec<i64> = (0..sites.len()).map(|j| (j % 3) as i64).collect();
+    let watch = Watch::new();
+    let r = geodesic_nearest_site_grouped_watched(
+        &points,
+        Weights::Unit,
+        &labels,
+        &sites,
+        &site_labels,
+        OnGroupError::Skip,
+        &watch,
+    )
+    .unwrap();
+    assert_eq!(watch.progress(), (6_000, 6_000));
+    let earth = Earth::wgs84();
+    for (g, outcome) in r.grouped.results.iter().enumerate() {
+        let label = r.grouped.labels[g];
+        let Ok(a) = outcome else {
+            assert_eq!(label, 3);
+            continue;
+        };
+        let mine: Vec<usize> = (0..sites.len()).filter(|&j| site_labels[j] == label).collect();
+        let members: Vec<usize> = (0..points.len()).filter(|&i| labels[i] == label).collect();
+        for (k, &i) in members.iter().enumerate().step_by(97) {
+            let best = mine.iter().map(|&j| earth.distance(points[i], sites[j])).fold(f64::INFINITY, f64::min);
+            assert!((a.distance[k] - best).abs() <= 1e-9 * best.max(1.0), "{} {best}", a.distance[k]);
+        }
+    }
+    let cancelled = Watch::new();
+    cancelled.cancel();
+    let stopped = geodesic_nearest_site_grouped_watched(
+        &points,
+        Weights::Unit,
+        &labels,
+        &sites,
+        &site_labels,
+        OnGroupError::Skip,
+        &cancelled,
+    )
+    .unwrap();
+    assert!(stopped.grouped.results.iter().all(|o| o.is_err()));
+    assert_eq!(cancelled.progress(), (6_000, 6_000));
 }

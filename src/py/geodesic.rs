@@ -17,7 +17,7 @@ use crate::batch::{Grouped, RowPlaces};
 use crate::cancel::{RunLimits, Watch};
 use crate::geodesic::{
     geodesic_area, geodesic_circle, geodesic_distances, geodesic_enclosing_circle, geodesic_enclosing_circles,
-    geodesic_length, geodesic_minimax_point, geodesic_minimax_points, geodesic_nearest_site_grouped,
+    geodesic_length, geodesic_minimax_point, geodesic_minimax_points, geodesic_nearest_site_grouped_watched,
     geodesic_nearest_site_watched, geodesic_weber_point_watched, geodesic_weber_points_watched, CenterOptions,
 };
 use crate::geometry::Weights;
@@ -109,22 +109,23 @@ fn geodesic_circle_ring<'py>(
 
 /// Fields: location (2,), cost, gap, iterations, converged.
 #[pyfunction]
-#[pyo3(signature = (points, weights, tol, max_iter))]
+#[pyo3(signature = (points, weights, tol, max_iter, time_limit=None, progress=None))]
 fn geodesic_weber_single<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
     tol: &Bound<'py, PyAny>,
     max_iter: &Bound<'py, PyAny>,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let options = weber_options(tol, max_iter)?;
+    let limits = RunLimits { time_limit: time_limit_arg(time_limit)?, watch: Watch::new() };
+    let mut progress = progress_arg(progress, "geodesic weber_point (exact passes)")?;
     let cloud = Cloud::read(points, weights, None)?;
     let (pts, w) = (cloud.points(), cloud.weights()?);
-    // Watched so that Ctrl-C stops it between passes (a pass over 10⁶ points is a fraction
-    // of a second); it draws no progress.
-    let watch = Watch::new();
-    let r = run_watched(py, &watch, &mut Progress::Off, || {
-        geodesic_weber_point_watched(pts, Weights::from_option(w), &options, &watch)
+    let r = run_watched(py, &limits.watch, &mut progress, || {
+        geodesic_weber_point_watched(pts, Weights::from_option(w), &options, &limits)
     })?;
     Ok(Fields::new(py)
         .put("location", PyArray1::from_slice(py, &r.location))?
@@ -137,7 +138,8 @@ fn geodesic_weber_single<'py>(
 
 /// Fields: labels, problem, location (G, 2), cost, gap, iterations, converged (G,).
 #[pyfunction]
-#[pyo3(signature = (points, weights, groups, tol, max_iter, errors))]
+#[pyo3(signature = (points, weights, groups, tol, max_iter, errors, time_limit=None, progress=None))]
+#[allow(clippy::too_many_arguments)]
 fn geodesic_weber_grouped<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
@@ -146,15 +148,17 @@ fn geodesic_weber_grouped<'py>(
     tol: &Bound<'py, PyAny>,
     max_iter: &Bound<'py, PyAny>,
     errors: &str,
+    time_limit: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let options = weber_options(tol, max_iter)?;
+    let limits = RunLimits { time_limit: time_limit_arg(time_limit)?, watch: Watch::new() };
+    let mut progress = progress_arg(progress, "geodesic weber_point (points of finished groups)")?;
     let on_error = on_error_arg(errors)?;
     let cloud = Cloud::read(points, weights, Some(groups))?;
     let (pts, w, l) = (cloud.points(), cloud.weights()?, cloud.labels()?);
-    // Watched so that Ctrl-C stops every group's descent within a pass; no progress drawn.
-    let watch = Watch::new();
-    let g = run_watched(py, &watch, &mut Progress::Off, || {
-        geodesic_weber_points_watched(pts, Weights::from_option(w), l, &options, on_error, &watch)
+    let g = run_watched(py, &limits.watch, &mut progress, || {
+        geodesic_weber_points_watched(pts, Weights::from_option(w), l, &options, on_error, &limits)
     })?;
     Ok(Fields::new(py)
         .grouped(&g)?
@@ -329,7 +333,7 @@ fn geodesic_nearest_single<'py>(
 
 /// Fields as `nearest_site_grouped` (distances and costs in metres).
 #[pyfunction]
-#[pyo3(signature = (points, sites, weights, groups, site_groups, errors))]
+#[pyo3(signature = (points, sites, weights, groups, site_groups, errors, progress=None))]
 #[allow(clippy::too_many_arguments)]
 fn geodesic_nearest_grouped<'py>(
     py: Python<'py>,
@@ -339,7 +343,9 @@ fn geodesic_nearest_grouped<'py>(
     groups: &Bound<'py, PyAny>,
     site_groups: &Bound<'py, PyAny>,
     errors: &str,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
+    let mut progress = progress_arg(progress, "geodesic nearest_site (points)")?;
     let on_error = on_error_arg(errors)?;
     let points = points_arg(points, "points")?;
     let sites = points_arg(sites, "sites")?;
@@ -349,7 +355,12 @@ fn geodesic_nearest_grouped<'py>(
     let (p, s) = (as_point_slice(&points), as_point_slice(&sites));
     let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
     let (l, sl) = (labels.as_slice()?, site_labels.as_slice()?);
-    let r = run_detached(py, || geodesic_nearest_site_grouped(p, Weights::from_option(w), l, s, sl, on_error))?;
+    // Watched: Ctrl-C skips the groups not begun and stops the running ones within one
+    // chunk of points per worker thread.
+    let watch = Watch::new();
+    let r = run_watched(py, &watch, &mut progress, || {
+        geodesic_nearest_site_grouped_watched(p, Weights::from_option(w), l, s, sl, on_error, &watch)
+    })?;
     let g = &r.grouped;
     let assignment = r.points.by_row(g, -1i64, |a, k| a.index[k] as i64);
     let distance = r.points.by_row(g, f64::NAN, |a, k| a.distance[k]);

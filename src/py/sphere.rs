@@ -7,8 +7,10 @@ use pyo3::types::PyDict;
 
 use super::convert::{as_point_slice, float_arg, index_rows, index_values};
 use super::fields::Fields;
+use super::runtime::{progress_arg, run_watched};
 use super::{points_arg, run_detached};
-use crate::geodesic::{sphere_delaunay, sphere_spanning_tree, sphere_voronoi_cells, SphereCellOptions};
+use crate::cancel::Watch;
+use crate::geodesic::{sphere_delaunay, sphere_spanning_tree, sphere_voronoi_cells_watched, SphereCellOptions};
 use crate::geometry::Point;
 
 fn rows<'py>(py: Python<'py>, flat: Vec<i64>, width: usize) -> PyResult<Bound<'py, PyArray2<i64>>> {
@@ -45,16 +47,22 @@ fn sphere_delaunay_single<'py>(py: Python<'py>, points: &Bound<'py, PyAny>) -> P
 /// cell_vertices (c,), ring_offsets (n + 1,), rings (r, 2) lon/lat, area (n,) square metres,
 /// solid_angle (n,) steradians.
 #[pyfunction]
-#[pyo3(signature = (sites, max_edge_degrees))]
+#[pyo3(signature = (sites, max_edge_degrees, progress=None))]
 fn sphere_voronoi_single<'py>(
     py: Python<'py>,
     sites: &Bound<'py, PyAny>,
     max_edge_degrees: &Bound<'py, PyAny>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let step = float_arg(max_edge_degrees, "max_edge_degrees", "in (0, 90]", |x| x > 0.0 && x <= 90.0)?;
+    let mut progress = progress_arg(progress, "geodesic voronoi_cells (sites inserted, rings, areas)")?;
     let sites = points_arg(sites, "sites")?;
     let s = as_point_slice(&sites);
-    let c = run_detached(py, || sphere_voronoi_cells(s, &SphereCellOptions { max_edge_degrees: step }))?;
+    // Watched: Ctrl-C stops the hull within a block of insertions and the cells within one
+    // cell per worker thread; there is no partial answer, so the call takes no time limit.
+    let watch = Watch::new();
+    let options = SphereCellOptions { max_edge_degrees: step };
+    let c = run_watched(py, &watch, &mut progress, || sphere_voronoi_cells_watched(s, &options, &watch))?;
     let flat: Vec<f64> = c.vertex_vectors.iter().flatten().copied().collect();
     let vectors = PyArray1::from_vec(py, flat).reshape([c.vertex_vectors.len(), 3])?;
     Ok(Fields::new(py)

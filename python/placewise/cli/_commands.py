@@ -28,12 +28,22 @@ from ._io import (
 )
 
 
+def _site_watch(args: argparse.Namespace, frame: Any, place: dict[str, Any]) -> dict[str, Any]:
+    """The progress bar (see ``_progress``) for a single-site run solved on the ellipsoid; a
+    planar run is exact and quick and refuses one."""
+    from ..gis.sites import watched_on_earth
+
+    on_earth = watched_on_earth(frame, work_crs=args.work_crs, region=place.get("region")) and not args.planar
+    return _progress(args) if on_earth else {}
+
+
 def _cmd_weber_point(args: argparse.Namespace) -> None:
     from .. import gis
 
     frame = read_points(args.input, args)
-    out = gis.weber_point(frame, args.weight, metric=args.metric, **place_options(args), **_by(args),
-                          **_common(args))
+    place = place_options(args)
+    out = gis.weber_point(frame, args.weight, metric=args.metric, **place, **_by(args), **_common(args),
+                          **_site_watch(args, frame, place))
     write_frame(out, args.output, args, "weber_point")
     cost, unit = _measure(out, "cost")
     _note(args, f"{_solved(out)} site(s); total weighted distance {out[cost].sum():.6g} "
@@ -43,8 +53,10 @@ def _cmd_weber_point(args: argparse.Namespace) -> None:
 def _cmd_minimax_point(args: argparse.Namespace) -> None:
     from .. import gis
 
-    out = gis.minimax_point(read_points(args.input, args), args.weight, **place_options(args), **_by(args),
-                            **_common(args), **_progress(args))
+    frame = read_points(args.input, args)
+    place = place_options(args)
+    out = gis.minimax_point(frame, args.weight, **place, **_by(args), **_common(args),
+                            **_site_watch(args, frame, place))
     write_frame(out, args.output, args, "minimax_point")
     radius, unit = _measure(out, "weighted_radius")
     _note(args, f"{_solved(out)} site(s); largest weighted distance {out[radius].max():.6g} "
@@ -54,7 +66,8 @@ def _cmd_minimax_point(args: argparse.Namespace) -> None:
 def _cmd_enclosing_circle(args: argparse.Namespace) -> None:
     from .. import gis
 
-    out = gis.enclosing_circle(read_points(args.input, args), **_by(args), **_common(args), **_progress(args))
+    frame = read_points(args.input, args)
+    out = gis.enclosing_circle(frame, **_by(args), **_common(args), **_site_watch(args, frame, {}))
     write_frame(out, args.output, args, "circles")
     radius, unit = _measure(out, "radius")
     _note(args, f"{_solved(out)} circle(s); largest radius {out[radius].max():.6g} {_unit_text(unit)}"
@@ -192,7 +205,7 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
     """Add this family's subcommands through ``command(name, run, help, parent_parsers)``."""
     weight, by, summary, seed, watch = parents.weight, parents.by, parents.summary, parents.seed, parents.watch
     p = command("weber-point", _cmd_weber_point, "the site minimising total weighted distance (Fermat-Weber point)",
-                [weight, by])
+                [weight, by, watch])
     p.add_argument("--metric", choices=["euclidean", "manhattan"], default="euclidean",
                    help="distance measured straight (euclidean) or along the axes of the working CRS "
                         "(manhattan) [euclidean]")

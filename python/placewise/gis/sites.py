@@ -59,13 +59,33 @@ def _geodesic_circle(points: Any, *, seed: Any = None, **options: Any) -> Any:
 
 
 def _on_earth_only(kernel: Any) -> Any:
-    """``kernel`` (a planar one) taking and dropping ``time_limit`` and ``progress``: it ends
-    in well under a second at a million points, exactly, so there is nothing to watch or cut."""
+    """``kernel`` (a planar one) refusing ``time_limit`` and ``progress``: it ends exactly in
+    well under a second at a million points, so there is no best-so-far to return at a
+    deadline and no progress worth a bar. Taking them silently would let a caller believe
+    the run was watched; they are an ``InputError`` naming the argument instead."""
 
     def planar(*args: Any, time_limit: Any = None, progress: Any = False, **options: Any) -> Any:
+        for name, value, unset in (("time_limit", time_limit, None), ("progress", progress, False)):
+            if value is not unset and value is not None:
+                error = InputError(
+                    f"{name}= applies on the ellipsoid only (geographic input without work_crs or region); "
+                    "the planar kernel is exact and ends in well under a second, so it takes no "
+                    f"{name.replace('_', ' ')}: drop {name}=")
+                error.argument = name
+                raise error
         return kernel(*args, **options)
 
     return planar
+
+
+def watched_on_earth(frame: Any, *, work_crs: Any = None, region: Any = None) -> bool:
+    """True when :func:`minimax_point`, :func:`enclosing_circle` or :func:`weber_point` would
+    solve ``frame`` on the ellipsoid (a geographic CRS, no ``work_crs``, no ``region``): the
+    runs that take ``time_limit`` and ``progress`` (the command line shows its bar for those)."""
+    from pyproj import CRS
+
+    crs = getattr(frame, "crs", None)
+    return crs is not None and CRS(crs).is_geographic and work_crs is None and region is None
 
 
 def _watch(time_limit: float | None, progress: Any) -> dict[str, Any]:
@@ -109,7 +129,9 @@ def weber_point(
         projected frames, the largest scale error allowed.
     **options
         Passed to :func:`placewise.weber_point` (``metric``, ``tol``, ``max_iter``); on the
-        ellipsoid to :func:`placewise.geodesic.weber_point` (``tol``, ``max_iter``).
+        ellipsoid to :func:`placewise.geodesic.weber_point` (``tol``, ``max_iter``,
+        ``time_limit``, ``progress``). ``time_limit`` and ``progress`` on a planar run are
+        an ``InputError``: the planar kernel is exact and ends in well under a second.
 
     Returns
     -------
@@ -149,7 +171,8 @@ def weber_point(
     >>> float(kept["y"].iloc[0]), bool(kept["region_active"].iloc[0])
     (5.0, True)
     """
-    return _one_per_group(_pw.weber_point, frame, weight, by, planar, centroids, errors, options, weighted=True,
+    return _one_per_group(_on_earth_only(_pw.weber_point), frame, weight, by, planar, centroids, errors, options,
+                          weighted=True,
                           model={"work_crs": work_crs, "max_scale_error": max_scale_error},
                           on_earth=_geodesic_weber, region=region)
 
@@ -167,11 +190,13 @@ def minimax_point(
     time_limit : float, optional
         Geographic input on the ellipsoid: seconds each group's run may take; when they
         pass, the best centre reached comes back with ``converged`` False (see
-        :func:`placewise.geodesic.minimax_point`). Planar runs are exact and end in well
-        under a second; they take no limit.
+        :func:`placewise.geodesic.minimax_point`). Planar runs (a projected CRS,
+        ``work_crs``, ``region`` or ``planar``) are exact and end in well under a second:
+        a ``time_limit`` there is an ``InputError`` naming it.
     progress : bool or callable
         On the ellipsoid: a progress bar on stderr (True) or a callable ``(done, total)``;
-        Ctrl-C stops the run within a fraction of a second either way.
+        Ctrl-C stops the run within a fraction of a second either way. On a planar run an
+        ``InputError`` naming it, as ``time_limit``.
 
     Returns
     -------
@@ -209,7 +234,7 @@ def enclosing_circle(
     """The smallest circle covering a frame's points (one per group with ``by``).
 
     ``time_limit`` and ``progress`` work as in :func:`minimax_point` (on the ellipsoid
-    only: the planar circle is exact and quick).
+    only: the planar circle is exact and quick, and a planar run refuses them).
 
     Returns
     -------

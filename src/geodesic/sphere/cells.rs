@@ -5,6 +5,7 @@ use rayon::prelude::*;
 
 use super::hull::{cross, dot, norm2, orient, sub, unit, Vec3, NONE};
 use super::Sphere;
+use crate::cancel::{cancelled, Watch};
 use crate::error::{Error, Result};
 use crate::geodesic::earth::{from_normal, Earth};
 use crate::geometry::Point;
@@ -59,6 +60,22 @@ pub struct SphereCells {
 /// Expected O(n log n) for the hull, then O(n + ring vertices) and one geodesic polygon
 /// area per cell, in parallel.
 pub fn sphere_voronoi_cells(sites: &[Point], options: &SphereCellOptions) -> Result<SphereCells> {
+    sphere_voronoi_cells_watched(sites, options, &Watch::new())
+}
+
+/// [`sphere_voronoi_cells`] watched: progress counts `3n` steps (a site inserted into the
+/// hull, a cell's ring, a cell's area), and once `watch` is cancelled the run stops within
+/// a block of hull insertions or one cell per worker thread. The cells exist only once
+/// every one is made, so a cancelled run has no answer: its outcome is an error that the
+/// caller drops ([`Watch::finish`]).
+///
+/// # Errors
+/// As [`sphere_voronoi_cells`].
+pub fn sphere_voronoi_cells_watched(
+    sites: &[Point],
+    options: &SphereCellOptions,
+    watch: &Watch,
+) -> Result<SphereCells> {
     let step = options.max_edge_degrees;
     if !(step > 0.0 && step <= 90.0) {
         return Err(Error::InvalidParameter {
@@ -66,7 +83,11 @@ pub fn sphere_voronoi_cells(sites: &[Point], options: &SphereCellOptions) -> Res
             reason: format!("must be in (0, 90]; got {step}"),
         });
     }
-    let s = Sphere::build("sites", sites)?;
+    let n = sites.len();
+    // Every step is counted once: the build counts n, each ring and each area one.
+    watch.plan(3 * n as u64);
+    let s = Sphere::build_watched("sites", sites, watch)?;
+    let stop = || if watch.is_cancelled() { Err(cancelled("sites")) } else { Ok(()) };
     if let Some(row) = (0..sites.len()).find(|&i| s.representative[i] != i) {
         return Err(Error::RepeatedPoint { argument: "sites", row, first: s.representative[row] });
     }
@@ -116,13 +137,13 @@ pub fn sphere_voronoi_cells(sites: &[Point], options: &SphereCellOptions) -> Res
             at[v as usize] = (f as u32, k);
         }
     }
-    let n = sites.len();
     let mut distinct_of = vec![usize::MAX; n];
     s.rows.iter().enumerate().for_each(|(k, &r)| distinct_of[r] = k);
     // Per site: (vertex, neighbour across the edge leaving it) round the cell.
     let cells: Vec<Vec<(usize, usize)>> = (0..n)
         .into_par_iter()
         .map(|row| -> Result<Vec<(usize, usize)>> {
+            stop()?;
             let v = distinct_of[row] as u32;
             let (start, _) = at[v as usize];
             let mut out: Vec<(usize, usize)> = Vec::new();
@@ -160,10 +181,14 @@ pub fn sphere_voronoi_cells(sites: &[Point], options: &SphereCellOptions) -> Res
         .collect::<Result<_>>()?;
     let step = step.to_radians();
     let earth = Earth::wgs84();
-    let rings: Vec<(Vec<Vec3>, f64)> = cells
+    // Each cell's ring in lon/lat and its solid angle; `None` once cancelled.
+    let rings: Vec<Option<(Vec<Point>, f64)>> = cells
         .par_iter()
         .enumerate()
         .map(|(row, cell)| {
+            if watch.is_cancelled() {
+                return None;
+            }
             let v = distinct_of[row];
             let mut ring = Vec::new();
             for (k, &(u, b)) in cell.iter().enumerate() {
@@ -173,9 +198,13 @@ pub fn sphere_voronoi_cells(sites: &[Point], options: &SphereCellOptions) -> Res
             }
             let site = p[v];
             let solid: f64 = (0..ring.len()).map(|k| solid_angle(site, ring[k], ring[(k + 1) % ring.len()])).sum();
-            (ring, solid)
+            watch.advance(1);
+            Some((ring.iter().map(|&x| from_normal(x)).collect(), solid))
         })
         .collect();
+    let Some(rings) = rings.into_iter().collect::<Option<Vec<(Vec<Point>, f64)>>>() else {
+        return Err(cancelled("sites"));
+    };
     // Sites a hair apart (distinct unit vectors, but so close that the bisector between them
     // is lost to rounding) leave a cell without a measurable area: refused, naming the pair,
     // rather than answered with NaN.
@@ -212,13 +241,22 @@ pub fn sphere_voronoi_cells(sites: &[Point], options: &SphereCellOptions) -> Res
     let mut ring_offsets = vec![0];
     let mut ring_points = Vec::new();
     for (ring, _) in &rings {
-        ring_points.extend(ring.iter().map(|&x| from_normal(x)));
+        ring_points.extend_from_slice(ring);
         ring_offsets.push(ring_points.len());
     }
-    let area = (0..n)
+    let area: Vec<f64> = (0..n)
         .into_par_iter()
-        .map(|i| earth.ccw_ring_area(&ring_points[ring_offsets[i]..ring_offsets[i + 1]]))
+        .map(|i| {
+            // A cancelled run's areas are never read (NaN fills the cells skipped).
+            if watch.is_cancelled() {
+                return f64::NAN;
+            }
+            let a = earth.ccw_ring_area(&ring_points[ring_offsets[i]..ring_offsets[i + 1]]);
+            watch.advance(1);
+            a
+        })
         .collect();
+    stop()?;
     Ok(SphereCells {
         vertices,
         vertex_vectors: vectors,

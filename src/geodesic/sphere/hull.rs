@@ -18,6 +18,7 @@
 use robust::{orient3d, Coord3D};
 use std::collections::HashMap;
 
+use crate::cancel::Watch;
 use crate::geometry::random::SplitMix64;
 
 /// A vector in Earth-centred axes.
@@ -59,22 +60,31 @@ pub(crate) enum Span {
     Line,
 }
 
-/// The convex hull of distinct `points`.
+/// Insertions between two looks at the cancel flag (a few milliseconds of work).
+const INSERTIONS_PER_POLL: usize = 4096;
+
+/// The convex hull of distinct `points`, counting one step of `watch` per point inserted
+/// (every point but the four of the first simplex); `None` once `watch` is cancelled
+/// (asked every [`INSERTIONS_PER_POLL`] insertions).
 ///
 /// # Runtime
 /// Expected O(n log n) for points spread over the sphere.
-pub(crate) fn convex_hull(points: &[Vec3]) -> Span {
+pub(crate) fn convex_hull(points: &[Vec3], watch: &Watch) -> Option<Span> {
     let Some(seed) = initial_simplex(points) else {
-        return match initial_triangle(points) {
+        return Some(match initial_triangle(points) {
             Some(t) => Span::Plane(t),
             None => Span::Line,
-        };
+        });
     };
     let mut b = Builder::new(points, seed);
-    for i in insertion_order(points, &seed) {
-        b.insert(i);
+    for block in insertion_order(points, &seed).chunks(INSERTIONS_PER_POLL) {
+        if watch.is_cancelled() {
+            return None;
+        }
+        block.iter().for_each(|&i| b.insert(i));
+        watch.advance(block.len() as u64);
     }
-    Span::Solid(b.finish())
+    Some(Span::Solid(b.finish()))
 }
 
 /// Three indices of points that are not collinear, far apart where possible.

@@ -35,13 +35,14 @@ mod hull;
 use rstar::RTree;
 
 use super::earth::{normalised_longitude, unit_normal, validate_lonlat, Earth};
+use crate::cancel::{cancelled, Watch};
 use crate::error::{Error, Result};
 use crate::geometry::Point;
 use crate::network::union_find::UnionFind;
 pub(crate) use hull::Vec3;
 use hull::{convex_hull, cross, dot, flat_faces, orient, Hull, Span};
 
-pub use cells::{sphere_voronoi_cells, SphereCellOptions, SphereCells};
+pub use cells::{sphere_voronoi_cells, sphere_voronoi_cells_watched, SphereCellOptions, SphereCells};
 
 /// The spherical Delaunay triangulation of longitude/latitude points.
 #[derive(Debug, Clone, PartialEq)]
@@ -106,7 +107,15 @@ fn location(p: Point) -> (u64, u64) {
 }
 
 impl Sphere {
+    /// The distinct points of `points` and their hull.
     pub(crate) fn build(argument: &'static str, points: &[Point]) -> Result<Sphere> {
+        Sphere::build_watched(argument, points, &Watch::new())
+    }
+
+    /// [`Sphere::build`] counting one step of `watch` per input point (the hull's
+    /// insertions, then the rest at the end); once `watch` is cancelled it stops within a
+    /// block of insertions with [`cancelled`] (the caller drops that outcome).
+    pub(crate) fn build_watched(argument: &'static str, points: &[Point], watch: &Watch) -> Result<Sphere> {
         validate_lonlat(argument, points, 1)?;
         let mut representative: Vec<usize> = (0..points.len()).collect();
         let mut by_place = std::collections::HashMap::with_capacity(points.len());
@@ -142,8 +151,9 @@ impl Sphere {
                 });
             }
         }
-        let hull = match convex_hull(&vectors) {
-            Span::Solid(h) => h,
+        // A solid hull counted the points it inserted: all but the first simplex's four.
+        let (hull, inserted) = match convex_hull(&vectors, watch).ok_or_else(|| cancelled(argument))? {
+            Span::Solid(h) => (h, vectors.len() - 4),
             Span::Plane(t) => {
                 let [a, b, c] = t.map(|i| vectors[i as usize]);
                 if orient(a, b, c, [0.0; 3]) == 0.0 {
@@ -152,7 +162,7 @@ impl Sphere {
                         reason: "all points lie on one great circle, which no spherical triangle spans".into(),
                     });
                 }
-                flat_faces(&vectors, t)
+                (flat_faces(&vectors, t), 0)
             }
             Span::Line => {
                 return Err(Error::Degenerate { argument, reason: "all points lie on one line in space".into() })
@@ -172,6 +182,7 @@ impl Sphere {
             let resolved: Vec<usize> = representative.iter().map(|&r| representative[r]).collect();
             representative = resolved;
         }
+        watch.advance((points.len() - inserted) as u64);
         Ok(Sphere { rows, vectors, representative, hull })
     }
 

@@ -175,3 +175,20 @@ fn sites_a_hair_apart_are_named_not_answered_with_nan() {
         Err(other) => panic!("unexpected error {other:?}"),
     }
 }
+
+#[test]
+fn watched_cells_count_three_steps_per_site_and_a_cancel_leaves_no_answer() {
+    // 10,000 global sites: more than one block of hull insertions between polls. Watching
+    // changes nothing in the cells (checked against the unwatched call, which the tests
+    // above check against brute force and the ellipsoid's area).
+    let sites = global(10_000, 41);
+    let options = SphereCellOptions::default();
+    let watch = Watch::new();
+    let watched = sphere_voronoi_cells_watched(&sites, &options, &watch).unwrap();
+    assert_eq!(watched, sphere_voronoi_cells(&sites, &options).unwrap());
+    assert_eq!(watch.progress(), (30_000, 30_000));
+    let cancelled = Watch::new();
+    cancelled.cancel();
+    assert!(sphere_voronoi_cells_watched(&sites, &options, &cancelled).is_err());
+    assert_eq!(cancelled.finish(()), Err(crate::cancel::Cancelled));
+}

@@ -54,7 +54,7 @@ use step::{sampled_newton_target, SAMPLED_STEP_MIN_POINTS};
 
 use super::earth::{angle_between, from_normal, unit_normal, Earth};
 use super::inverse::{AZIMUTH_ACCURACY, DISTANCE_RELATIVE_ACCURACY};
-use crate::cancel::{Clock, Steps};
+use crate::cancel::{Clock, Steps, Watch};
 use crate::error::{Error, Result};
 use crate::geometry::{CompensatedSum, Point, Weights};
 use crate::median::WeberPoint;
@@ -99,8 +99,28 @@ impl Spread {
 
 /// The spread of the points of positive weight.
 pub(crate) fn spread(points: &[Point], weights: Weights<'_>) -> Spread {
+    spread_watched(points, weights, &Watch::new()).expect("an unshared watch is never cancelled")
+}
+
+/// [`spread`], looking at `watch`'s cancel flag per chunk of [`CHUNK`] points from
+/// [`PARALLEL_MIN_POINTS`] points on (the normals and the largest angle are computed in
+/// parallel there): `None` once cancelled. The sum of normals stays sequential, in input
+/// order, so the mean direction has the same bits whatever the threads.
+pub(crate) fn spread_watched(points: &[Point], weights: Weights<'_>, watch: &Watch) -> Option<Spread> {
     let mut sum = [0.0f64; 3];
-    let normals: Vec<[f64; 3]> = points.iter().map(|&p| unit_normal(p)).collect();
+    let normals: Vec<[f64; 3]> = if points.len() < PARALLEL_MIN_POINTS {
+        points.iter().map(|&p| unit_normal(p)).collect()
+    } else {
+        let chunks: Vec<Option<Vec<[f64; 3]>>> = points
+            .par_chunks(CHUNK)
+            .map(|chunk| (!watch.is_cancelled()).then(|| chunk.iter().map(|&p| unit_normal(p)).collect()))
+            .collect();
+        let mut normals = Vec::with_capacity(points.len());
+        for chunk in chunks {
+            normals.extend(chunk?);
+        }
+        normals
+    };
     for (i, u) in normals.iter().enumerate() {
         if weights.get(i) > 0.0 {
             for k in 0..3 {
@@ -111,16 +131,30 @@ pub(crate) fn spread(points: &[Point], weights: Weights<'_>) -> Spread {
     let length = (sum[0] * sum[0] + sum[1] * sum[1] + sum[2] * sum[2]).sqrt();
     let count = (0..points.len()).filter(|&i| weights.get(i) > 0.0).count() as f64;
     if !(length > 1e-9 * count) {
-        return Spread { centre: points[0], radius_degrees: 180.0 };
+        return Some(Spread { centre: points[0], radius_degrees: 180.0 });
     }
     let mean = [sum[0] / length, sum[1] / length, sum[2] / length];
-    let mut radius = 0.0f64;
-    for (i, u) in normals.iter().enumerate() {
-        if weights.get(i) > 0.0 {
-            radius = radius.max(angle_between(mean, *u));
+    // The largest angle (a maximum: the same whatever the order it is taken in).
+    let farthest = |start: usize, chunk: &[[f64; 3]]| {
+        let mut radius = 0.0f64;
+        for (offset, u) in chunk.iter().enumerate() {
+            if weights.get(start + offset) > 0.0 {
+                radius = radius.max(angle_between(mean, *u));
+            }
         }
-    }
-    Spread { centre: from_normal(mean), radius_degrees: radius.to_degrees() }
+        radius
+    };
+    let radius = if normals.len() < PARALLEL_MIN_POINTS {
+        farthest(0, &normals)
+    } else {
+        let chunks: Vec<Option<f64>> = normals
+            .par_chunks(CHUNK)
+            .enumerate()
+            .map(|(c, chunk)| (!watch.is_cancelled()).then(|| farthest(c * CHUNK, chunk)))
+            .collect();
+        chunks.into_iter().try_fold(0.0f64, |r, c| c.map(|c| r.max(c)))?
+    };
+    Some(Spread { centre: from_normal(mean), radius_degrees: radius.to_degrees() })
 }
 
 /// Refuse points that span more than a hemisphere around their mean direction.
@@ -266,6 +300,18 @@ impl Problem<'_> {
     /// problems skip their reduced length and geodesic scale): for a pass expected to
     /// certify the answer, which needs no further step.
     fn evaluate_with(&self, x: Point, curvature: bool) -> Pass {
+        self.evaluate_until(x, curvature, self.clock)
+    }
+
+    /// The first exact pass, which gives the answer its measured cost: stopped by a cancel
+    /// (whose answer the caller drops), never by the deadline, so that a run out of time
+    /// still returns a site with its true cost.
+    fn evaluate_first(&self, x: Point, curvature: bool) -> Pass {
+        self.evaluate_until(x, curvature, &self.clock.watch.clock(None))
+    }
+
+    /// The exact pass at `x`, asking `clock` per chunk of points whether to stop.
+    fn evaluate_until(&self, x: Point, curvature: bool, clock: &Clock) -> Pass {
         if self.points.len() < PARALLEL_MIN_POINTS {
             return self.pass_over(x, 0, self.points, curvature);
         }
@@ -276,7 +322,7 @@ impl Problem<'_> {
             .map(|(c, chunk)| {
                 // Asked per chunk (about a millisecond of work) so that Ctrl-C lands within
                 // a fraction of a pass.
-                if self.clock.stop() {
+                if clock.stop() {
                     return Pass { complete: false, ..Pass::empty() };
                 }
                 self.pass_over(x, c * CHUNK, chunk, curvature)
@@ -392,7 +438,21 @@ fn descend(
     clock: &Clock,
     steps: &mut Steps<'_>,
 ) -> Result<WeberPoint> {
-    let spread = spread(points, weights);
+    // The deadline never cuts the set-up (spread, conformal images) nor the first exact pass:
+    // the answer needs a measured cost. It does cut the model's passes in between, which then
+    // end at the point reached. A cancel stops any of them per chunk of points (the caller
+    // drops the answer then; `not_begun` is that answer before any pass).
+    let location = |x: Point| [super::earth::normalised_longitude(x[0]), x[1]];
+    let not_begun = |x: Point| WeberPoint {
+        location: location(x),
+        cost: f64::NAN,
+        gap: f64::INFINITY,
+        iterations: 0,
+        converged: false,
+    };
+    let Some(spread) = spread_watched(points, weights, &clock.watch) else {
+        return Ok(not_begun(points[0]));
+    };
     within_hemisphere(&spread, "Fermat–Weber objective")?;
     let mut total = CompensatedSum::default();
     let mut heaviest = 0;
@@ -435,7 +495,7 @@ fn descend(
     let w_max = weights.get(heaviest);
     if w_max >= problem.total_weight - w_max {
         let x = points[heaviest];
-        let mut pass = problem.evaluate(x);
+        let mut pass = problem.evaluate_first(x, true);
         if !pass.complete {
             return Ok(unfinished(x, 1));
         }
@@ -447,7 +507,9 @@ fn descend(
         return Ok(r);
     }
 
-    let model = model_optimum(points, weights, spread.centre, clock);
+    let Some(model) = model_optimum(points, weights, spread.centre, clock) else {
+        return Ok(not_begun(spread.centre));
+    };
     let mut x = model.location;
     // From a sampled step the first exact pass is expected to certify the answer, so it
     // skips the Hessian; when it does not certify, the pass is made again with it.
@@ -459,7 +521,7 @@ fn descend(
         }
     }
     drop(model);
-    let mut current = problem.evaluate_with(x, !sampled);
+    let mut current = problem.evaluate_first(x, !sampled);
     if !current.complete {
         return Ok(unfinished(x, 1));
     }

@@ -128,13 +128,28 @@ pub(super) struct ModelOptimum {
 /// great-circle angle, `cot θ (I − uuᵀ)`), Weiszfeld's step when Newton's does not lower the
 /// model's cost, stopping at a data point or when steps vanish. Only a starting point for
 /// the exact iteration, so it returns `centre` itself if it gets nowhere.
-/// Stops at the point reached when `clock` says so (asked before every model pass).
-pub(super) fn model_optimum(points: &[Point], weights: Weights<'_>, centre: Point, clock: &Clock) -> ModelOptimum {
+/// Stops at the point reached when `clock` says so (asked before every model pass); `None`
+/// when it is cancelled while the images are made (asked per chunk of [`CHUNK`] points from
+/// [`PARALLEL_MIN_POINTS`] on: set-up that the deadline does not cut).
+pub(super) fn model_optimum(
+    points: &[Point],
+    weights: Weights<'_>,
+    centre: Point,
+    clock: &Clock,
+) -> Option<ModelOptimum> {
     let sphere = ConformalSphere::at(centre);
     let images: Vec<[f64; 3]> = if points.len() < PARALLEL_MIN_POINTS {
         points.iter().map(|&p| sphere.image(p)).collect()
     } else {
-        points.par_iter().map(|&p| sphere.image(p)).collect()
+        let chunks: Vec<Option<Vec<[f64; 3]>>> = points
+            .par_chunks(CHUNK)
+            .map(|chunk| (!clock.watch.is_cancelled()).then(|| chunk.iter().map(|&p| sphere.image(p)).collect()))
+            .collect();
+        let mut images = Vec::with_capacity(points.len());
+        for chunk in chunks {
+            images.extend(chunk?);
+        }
+        images
     };
     let mut y = sphere.image(centre);
     let mut current = model_evaluate(y, &images, weights);
@@ -165,11 +180,11 @@ pub(super) fn model_optimum(points: &[Point], weights: Weights<'_>, centre: Poin
         }
     }
     let found = sphere.preimage(y);
-    if found[0].is_finite() && found[1].is_finite() {
+    Some(if found[0].is_finite() && found[1].is_finite() {
         ModelOptimum { location: found, image: y, images, pass: current }
     } else {
         let image = sphere.image(centre);
         let pass = model_evaluate(image, &images, weights);
         ModelOptimum { location: centre, image, images, pass }
-    }
+    })
 }
