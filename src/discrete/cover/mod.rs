@@ -184,8 +184,6 @@ pub fn cover_all(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::geometry::random::SplitMix64;
-
     use crate::discrete::CostMatrix;
 
     fn line(n: usize, spacing: f64) -> Vec<f64> {
