@@ -216,6 +216,27 @@ def test_cover_all_against_milp(seed):
 
 
 @pytest.mark.parametrize("seed", [0, 1, 2])
+def test_cover_all_sites_anywhere_against_milp(seed):
+    # 250 uniform points at 2 per unit area, r = 1: the plan of the Lagrangian heuristic
+    # against the integer optimum over the same candidates (the finite dominating set of
+    # Church 1984, which the result holds).
+    n, radius = 250, 1.0
+    pts = np.random.default_rng(seed).uniform(0, np.sqrt(n / 2), (n, 2))
+    plan = pw.cover_all(pts, radius)
+    # Within the radius up to rounding of the distance (the candidates sit 1e-9 inside).
+    costs = scipy.spatial.distance.cdist(pts, plan.candidates)
+    reach = radius * (1 + 1e-12)
+    best = milp_cover_all(costs, reach)  # scipy.optimize.milp (HiGHS)
+    assert plan.lower_bound <= best <= plan.chosen
+    assert plan.chosen <= best + 1  # stated margin: at most one site above the optimum
+    within = costs[:, plan.open] <= reach
+    assert within.any(axis=1).all()  # every point covered, checked with numpy directly
+    # No open site is redundant: each is the only one within reach of some point.
+    alone = within.sum(axis=1) == 1
+    assert (within & alone[:, None]).any(axis=0).all()
+
+
+@pytest.mark.parametrize("seed", [0, 1, 2])
 def test_cover_most_against_milp(seed):
     _, _, w, costs = instance(seed, 100, 30)
     for p, radius in ((3, 20.0), (6, 15.0)):

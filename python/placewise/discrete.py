@@ -475,9 +475,14 @@ def cover_all(
 ) -> CoverAllSelection:
     """The fewest candidates so every point has an open site at cost ``<= radius``.
 
-    Location set covering (Toregas, Swain, ReVelle & Bergman 1971): greedy covering with
-    redundant sites removed; a proven lower bound from a packing (the LP dual) raised by
-    Lagrangian relaxation, and small gaps closed by an exact branching search.
+    Location set covering (Toregas, Swain, ReVelle & Bergman 1971) by a Lagrangian
+    heuristic (Beasley 1990; Caprara, Fischetti & Toth 1999): subgradient optimisation of the
+    relaxation of the covering constraints, started from a greedy cover; every few iterations
+    the multipliers price a greedy cover, whose redundant sites are dropped and which a local
+    search shrinks by replacing two sites with one; the best cover then gets a seeded walk of
+    neutral swaps with the same local search. The proven lower bound is the better of a
+    packing (the LP dual) and the best Lagrangian value rounded up; small gaps are closed by
+    an exact branching search. The result is the same on every run.
 
     Parameters
     ----------
@@ -490,12 +495,12 @@ def cover_all(
     fixed, unit
         As :func:`p_median`.
     time_limit : float, optional
-        As :func:`p_median`: when the seconds pass, the greedy cover (always completed, so
-        every point is covered) or a smaller one found by then is returned with the bound
-        proven so far.
+        As :func:`p_median`: when the seconds pass, the best cover found by then (the greedy
+        cover is always completed first, so every point is covered) is returned with the
+        bound proven so far.
     progress : bool or callable
         As :func:`p_median` (steps: the coverage lists, the reduction, the greedy cover and
-        the bound iterations).
+        the subgradient iterations).
 
     Returns
     -------
