@@ -163,12 +163,13 @@ fn generate(
     // The new Steiner point s is joined to each child's own Steiner point (the child itself
     // for a terminal) by an edge on the tree paths between the two sides, so by the
     // bottleneck test each edge is at most the smallest bottleneck distance between the
-    // sides, `closest`, and at most the longest MST edge: the two children's Steiner points
-    // are within 2·closest of each other. Each lies on its child's feasible arc, within the
-    // arc's `spread` of the arc's middle (`arc_span`), so two items whose middles are farther
-    // apart than 2·closest plus their spreads never pair up. Items are kept sorted by the x
-    // of their middles to sweep for partners with the longest MST edge in place of closest.
-    let longest = bottleneck.mst.iter().map(|&[u, v]| distance(points[u], points[v])).fold(0.0, f64::max);
+    // sides, `closest`: the two children's Steiner points are within 2·closest of each
+    // other. Each lies on its child's feasible arc, within the arc's `spread` of the arc's
+    // middle (`arc_span`), so two items whose middles are farther apart than 2·closest plus
+    // their spreads never pair up. `closest` is at most the bottleneck distance from the
+    // first side to any one terminal of the other, in particular to its lowest terminal v:
+    // partners are looked up on `shelves[size][v]` (sorted by the x of their middles) in a
+    // square of half-side 2·nearest_bsd[a, v] plus the spreads around the middle of `a`.
     let sort_by_x = |list: &mut Vec<u32>, mids: &[Point]| {
         list.sort_by(|&a, &b| mids[a as usize][0].total_cmp(&mids[b as usize][0]))
     };
@@ -189,6 +190,8 @@ fn generate(
         spread.push(stray);
     }
     sort_by_x(&mut by_size[1], &mids);
+    let mut shelves: Vec<Vec<Shelf>> = vec![Vec::new(); n];
+    shelves[1] = shelve(&by_size[1], &sets, &mids, &spread, n);
     for k in 2..n {
         let started = std::time::Instant::now();
         // Per-size tallies, added once per job: pairs, disjoint, near, sampled.
@@ -196,13 +199,9 @@ fn generate(
         // The pairings of one size are independent: they run in parallel, each item `a` of
         // the smaller side with its partners, and are gathered in the order of `a` so that
         // the output does not depend on the thread count.
-        let xs: Vec<Vec<f64>> =
-            by_size.iter().map(|list| list.iter().map(|&b| mids[b as usize][0]).collect()).collect();
-        let widest: Vec<f64> =
-            by_size.iter().map(|list| list.iter().map(|&b| spread[b as usize]).fold(0.0, f64::max)).collect();
-        let jobs: Vec<(usize, usize, u32)> =
-            (1..=k / 2).flat_map(|i| by_size[i].iter().enumerate().map(move |(a_pos, &a)| (i, a_pos, a))).collect();
-        let pair_with = |mst_of: &mut BsdTrees, &(i, a_pos, a): &(usize, usize, u32)| {
+        let jobs: Vec<(usize, u32)> = (1..=k / 2).flat_map(|i| by_size[i].iter().map(move |&a| (i, a))).collect();
+        let middles: &[Point] = &mids;
+        let pair_with = |mst_of: &mut BsdTrees, &(i, a): &(usize, u32)| {
             if clock.stop() {
                 return None;
             }
@@ -210,14 +209,21 @@ fn generate(
             let mut found = Vec::new();
             let (pa, far_a) = (items[a as usize].pos, far[a as usize]);
             let (mid_a, spread_a) = (mids[a as usize], spread[a as usize]);
-            let window = if prune { 2.0 * longest + spread_a + widest[j] + TOL } else { f64::INFINITY };
-            let first = xs[j].partition_point(|&x| x < mid_a[0] - window);
-            let last = xs[j].partition_point(|&x| x <= mid_a[0] + window);
-            let first = if i == j { first.max(a_pos + 1) } else { first };
-            let mut local = [0u64; 4];
-            for &b in by_size[j].get(first..last).unwrap_or(&[]) {
+            let nearest_a = &nearest_bsd[a as usize * n..(a as usize + 1) * n];
+            let partners = shelves[j].iter().enumerate().flat_map(|(v, shelf)| {
+                let window = if prune { 2.0 * nearest_a[v] + spread_a + shelf.widest + TOL } else { f64::INFINITY };
+                let first = shelf.xs.partition_point(|&x| x < mid_a[0] - window);
+                let last = shelf.xs.partition_point(|&x| x <= mid_a[0] + window);
                 // The sweep bounds x; the same window bounds y.
-                if (mids[b as usize][1] - mid_a[1]).abs() > window {
+                shelf.items[first..last]
+                    .iter()
+                    .copied()
+                    .filter(move |&b| (middles[b as usize][1] - mid_a[1]).abs() <= window)
+            });
+            let mut local = [0u64; 4];
+            for b in partners {
+                // Each unordered pair of one size once.
+                if i == j && b <= a {
                     continue;
                 }
                 let ib = &items[b as usize];
@@ -292,6 +298,7 @@ fn generate(
         let [pairs, disjoint, near, sampled] = tally.map(AtomicU64::into_inner);
         let (kept, seconds) = (list.len() as u64, started.elapsed().as_secs_f64());
         counts.push(SizeCounts { size: k, pairs, disjoint, near, sampled, kept, seconds });
+        shelves[k] = shelve(&list, &sets, &mids, &spread, n);
         by_size[k] = list;
         clock.watch.advance(1);
     }
@@ -324,6 +331,28 @@ fn generate(
     };
     counts.push(closed);
     Some(trees)
+}
+
+/// The items of one size whose lowest terminal is one `v`, sorted by the x of their arc
+/// middles, with those xs and the widest spread among them.
+#[derive(Debug, Clone, Default)]
+struct Shelf {
+    items: Vec<u32>,
+    xs: Vec<f64>,
+    widest: f64,
+}
+
+/// `list` (sorted by the x of the middles) on shelves by lowest terminal, keeping the order.
+fn shelve(list: &[u32], sets: &TerminalSets, mids: &[Point], spread: &[f64], n: usize) -> Vec<Shelf> {
+    let mut shelves = vec![Shelf::default(); n];
+    for &b in list {
+        let v = lowest(sets.get(b as usize)).expect("every item has a terminal below it");
+        let shelf = &mut shelves[v];
+        shelf.items.push(b);
+        shelf.xs.push(mids[b as usize][0]);
+        shelf.widest = shelf.widest.max(spread[b as usize]);
+    }
+    shelves
 }
 
 /// The FST rooted at terminal `root` through equilateral point `top`, when every Steiner
