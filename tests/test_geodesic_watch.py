@@ -248,9 +248,10 @@ except KeyboardInterrupt:
     print("interrupted", time.time(), flush=True)
 """
 
-# Sizes of the newly watched calls: each runs 5–10 s here at load average 4–5 (2 cores),
-# so at least about two seconds on a fast idle machine.
-WEBER_N, NEAREST_N, VORONOI_N = 500_000, 800_000, 200_000
+# Sizes of the newly watched calls, so that each runs at least about three seconds on a
+# fast idle 2-core machine (the grouped nearest-site search took 1.33 s at 800,000 points
+# with load average 2.5, too short for the check).
+WEBER_N, NEAREST_N, VORONOI_N = 1_000_000, 2_400_000, 200_000
 
 CALLS = {
     "minimax_point": (1_600_000, "pw.geodesic.minimax_point(pts, w)"),
