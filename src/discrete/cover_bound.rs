@@ -19,7 +19,7 @@
 
 use rayon::prelude::*;
 
-use super::cover::Incidence;
+use super::cover::{FlatLists, Incidence};
 use super::StepControl;
 use crate::cancel::{Clock, Steps};
 use crate::geometry::CompensatedSum;
@@ -33,35 +33,6 @@ const STALL_WINDOW: usize = 100;
 /// close a noticeable part of the gap (a stall test on the best bound, as subgradient
 /// procedures stop on small progress; Beasley 1993).
 const STALL_SHARE: f64 = 0.01;
-
-/// The points' coverage lists in one flat array of 32-bit columns: the step's inner loop
-/// reads the list of every moved multiplier, tens of thousands per iteration, and this
-/// layout halves the bytes it reads against the nested lists and spares a pointer per list.
-/// Same columns in the same order, so the sums are the same.
-struct FlatLists {
-    starts: Vec<usize>,
-    columns: Vec<u32>,
-}
-
-impl FlatLists {
-    /// `None` when a column index does not fit in 32 bits (the nested lists serve then).
-    fn new(lists: &[Vec<usize>]) -> Option<FlatLists> {
-        let mut starts = Vec::with_capacity(lists.len() + 1);
-        let mut columns = Vec::with_capacity(lists.iter().map(Vec::len).sum());
-        starts.push(0);
-        for list in lists {
-            for &j in list {
-                columns.push(u32::try_from(j).ok()?);
-            }
-            starts.push(columns.len());
-        }
-        Some(FlatLists { starts, columns })
-    }
-
-    fn of(&self, a: usize) -> &[u32] {
-        &self.columns[self.starts[a]..self.starts[a + 1]]
-    }
-}
 
 /// `L(λ)` with `Λ = big`: the sum of the `p` largest `Λⱼ` over the `candidates` (ties: the
 /// smallest column; a column covering nothing adds 0, as does leaving a site unused) plus
@@ -117,7 +88,7 @@ pub(super) fn maximal_covering_bound(
     let mut order = Vec::with_capacity(candidates.len());
     let mut big = vec![0.0; m];
     let mut count = vec![0u32; n];
-    let flat = FlatLists::new(&inc.by_point);
+    let flat = FlatLists::of_lists(inc.by_point.iter().map(Vec::as_slice), |j| u32::try_from(j).ok());
     let exact = |lambda: &[f64], big: &mut [f64]| {
         big.par_iter_mut().zip(&inc.by_site).for_each(|(b, set)| *b = set.iter().map(|&a| lambda[a]).sum());
     };

@@ -335,3 +335,40 @@ impl Branching<'_> {
         }
     }
 }
+
+/// Lists in one flat array of 32-bit indices (compressed rows): the covering subgradients
+/// read every list once or twice per iteration, and this layout halves the bytes they read
+/// against nested `usize` lists and spares a pointer per list. Same items in the same order,
+/// so sums over them are the same.
+pub(in crate::discrete) struct FlatLists {
+    starts: Vec<usize>,
+    items: Vec<u32>,
+}
+
+impl FlatLists {
+    /// The `lists` with every item mapped by `map`; `None` when `map` refuses one (an index
+    /// that does not fit in 32 bits).
+    pub(in crate::discrete) fn of_lists<'a>(
+        lists: impl IntoIterator<Item = &'a [usize]>,
+        map: impl Fn(usize) -> Option<u32>,
+    ) -> Option<FlatLists> {
+        let (mut starts, mut items) = (vec![0], Vec::new());
+        for list in lists {
+            for &x in list {
+                items.push(map(x)?);
+            }
+            starts.push(items.len());
+        }
+        Some(FlatLists { starts, items })
+    }
+
+    /// List `x`.
+    pub(in crate::discrete) fn of(&self, x: usize) -> &[u32] {
+        &self.items[self.starts[x]..self.starts[x + 1]]
+    }
+
+    /// How many lists.
+    pub(in crate::discrete) fn len(&self) -> usize {
+        self.starts.len() - 1
+    }
+}

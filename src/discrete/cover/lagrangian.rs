@@ -26,7 +26,7 @@ use std::collections::BinaryHeap;
 
 use rayon::prelude::*;
 
-use super::Incidence;
+use super::{FlatLists, Incidence};
 use crate::cancel::{Clock, Steps};
 use crate::discrete::StepControl;
 use crate::geometry::random::SplitMix64;
@@ -48,23 +48,6 @@ const POLL_PICKS: usize = 64;
 /// from 5.6 % to under 5.1 % above the bound; the covers priced during the subgradient get
 /// none (the descent alone), as walks there did not improve the final cover.
 const WALK_SWAPS: f64 = 1000.0;
-
-/// Lists in one flat array of 32-bit indices (compressed rows): the subgradient reads every
-/// list twice per iteration, and this halves the bytes against nested `usize` lists.
-struct Flat {
-    start: Vec<usize>,
-    item: Vec<u32>,
-}
-
-impl Flat {
-    fn of(&self, x: usize) -> &[u32] {
-        &self.item[self.start[x]..self.start[x + 1]]
-    }
-
-    fn len(&self) -> usize {
-        self.start.len() - 1
-    }
-}
 
 /// A greedy score with a total order (smaller first, ties to the smaller column).
 #[derive(PartialEq)]
@@ -98,9 +81,9 @@ fn score(gamma: f64, mu: u32) -> f64 {
 /// The covering problem in compact form: the columns that cover something, renumbered.
 pub(super) struct Covering {
     /// Points → compact columns covering them.
-    rows: Flat,
+    rows: FlatLists,
     /// Compact columns → the points they cover.
-    cols: Flat,
+    cols: FlatLists,
     /// Compact column → column of the incidence.
     id: Vec<usize>,
 }
@@ -121,16 +104,8 @@ impl Covering {
         u32::try_from(id.len()).ok()?;
         let mut compact = vec![u32::MAX; inc.by_site.len()];
         id.iter().enumerate().for_each(|(k, &j)| compact[j] = k as u32);
-        let flat = |lists: &mut dyn Iterator<Item = &Vec<usize>>, map: &dyn Fn(usize) -> u32| {
-            let (mut start, mut item) = (vec![0], Vec::new());
-            for list in lists {
-                item.extend(list.iter().map(|&x| map(x)));
-                start.push(item.len());
-            }
-            Flat { start, item }
-        };
-        let rows = flat(&mut inc.by_point.iter(), &|j| compact[j]);
-        let cols = flat(&mut id.iter().map(|&j| &inc.by_site[j]), &|a| a as u32);
+        let rows = FlatLists::of_lists(inc.by_point.iter().map(Vec::as_slice), |j| Some(compact[j]))?;
+        let cols = FlatLists::of_lists(id.iter().map(|&j| inc.by_site[j].as_slice()), |a| u32::try_from(a).ok())?;
         Some(Covering { rows, cols, id })
     }
 

@@ -26,7 +26,7 @@ mod incidence;
 mod lagrangian;
 mod most;
 
-pub(super) use incidence::Incidence;
+pub(super) use incidence::{FlatLists, Incidence};
 use lagrangian::Covering;
 pub use most::{cover_most, CoverMost};
 
