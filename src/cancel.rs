@@ -61,8 +61,9 @@ impl std::fmt::Display for Cancelled {
 impl std::error::Error for Cancelled {}
 
 /// The outcome of a kernel that has no answer short of its whole work (a triangulation, a
-/// partition) when it stops on a cancel: an error about `argument` that is never seen, since
-/// the caller drops a cancelled run's outcome ([`Watch::finish`]).
+/// partition), or whose answer would take long to finish (the set cover's service of its
+/// plan), when it stops on a cancel: an error about `argument` that is never seen, since the
+/// caller drops a cancelled run's outcome ([`Watch::finish`]).
 pub(crate) fn cancelled(argument: &'static str) -> crate::error::Error {
     crate::error::Error::InvalidParameter { name: argument, reason: Cancelled.to_string() }
 }
