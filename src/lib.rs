@@ -74,8 +74,8 @@ pub use geodesic::{
     CenterOptions as GeodesicCenterOptions, GeodesicCenter, GeodesicCircle, CONVEX_CAP_DEGREES, HEMISPHERE_DEGREES,
 };
 pub use geodesic::{
-    sphere_delaunay, sphere_spanning_tree, sphere_voronoi_cells, sphere_voronoi_cells_watched, SphereCellOptions,
-    SphereCells, SphereTree, SphereTriangulation,
+    sphere_delaunay, sphere_delaunay_watched, sphere_spanning_tree, sphere_spanning_tree_watched, sphere_voronoi_cells,
+    sphere_voronoi_cells_watched, SphereCellOptions, SphereCells, SphereTree, SphereTriangulation,
 };
 pub use geometry::{FeasibleRegion, Point, Weights};
 pub use median::{

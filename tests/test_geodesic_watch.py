@@ -1,7 +1,8 @@
 """Long geodesic runs a person can watch and stop: progress, time limits and Ctrl-C for the
 minimax point, enclosing circle and Fermat–Weber point on the ellipsoid (single and
-grouped); progress and Ctrl-C for the grouped nearest-site search and the spherical Voronoi
-cells (which have no partial answer, so no time limit).
+grouped); progress and Ctrl-C for the grouped nearest-site search, the spherical Voronoi
+cells, Delaunay triangulation and minimum spanning tree (which have no partial answer, so no
+time limit).
 
 Truth of a flagged answer is recomputed with pyproj's ``Geod`` (GeographicLib, Karney 2013):
 the largest weight × geodesic distance from the returned site, or the weighted sum of
@@ -40,6 +41,8 @@ WHOLE = {
     "nearest_site groups": lambda **kw: pw.geodesic.nearest_site(POINTS, SITES, WEIGHTS, groups=GROUPS,
                                                                  site_groups=SITE_GROUPS, **kw),
     "voronoi_cells": lambda **kw: pw.geodesic.voronoi_cells(POINTS[:20_000], **kw),
+    "delaunay": lambda **kw: pw.geodesic.delaunay(POINTS[:20_000], **kw),
+    "spanning_tree": lambda **kw: pw.geodesic.spanning_tree(POINTS[:20_000], **kw),
 }
 
 
@@ -69,10 +72,12 @@ def test_a_raising_progress_callable_stops_the_run(name: str) -> None:
 
 
 def test_watching_leaves_the_whole_answers_unchanged() -> None:
-    # Same call without and with a progress callable: the same allocation and cells, bit for bit.
+    # Same call without and with a progress callable: the same allocation, cells, triangles
+    # and tree, bit for bit.
     for run in WHOLE.values():
         plain, watched = run(), run(progress=lambda done, total: None)
-        for field in ("assignment", "distance", "area", "rings"):
+        for field in ("assignment", "distance", "area", "rings", "corners", "edges", "end_a", "end_b",
+                      "edge_length"):
             if hasattr(plain, field):
                 np.testing.assert_array_equal(getattr(plain, field), getattr(watched, field))
 
@@ -252,6 +257,7 @@ except KeyboardInterrupt:
 # fast idle 2-core machine (the grouped nearest-site search took 1.33 s at 800,000 points
 # with load average 2.5, too short for the check).
 WEBER_N, NEAREST_N, VORONOI_N = 1_000_000, 2_400_000, 200_000
+DELAUNAY_N, SPANNING_N = 400_000, 400_000
 
 CALLS = {
     "minimax_point": (1_600_000, "pw.geodesic.minimax_point(pts, w)"),
@@ -261,6 +267,8 @@ CALLS = {
     "nearest_site groups": (NEAREST_N,
                             "pw.geodesic.nearest_site(pts, sites, w, groups=groups, site_groups=site_groups)"),
     "voronoi_cells": (VORONOI_N, "pw.geodesic.voronoi_cells(pts)"),
+    "delaunay": (DELAUNAY_N, "pw.geodesic.delaunay(pts)"),
+    "spanning_tree": (SPANNING_N, "pw.geodesic.spanning_tree(pts)"),
 }
 
 

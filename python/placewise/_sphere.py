@@ -207,7 +207,7 @@ class SphereMesh(Result):
             "outward_faces": [self.outward_faces], "model": [self.model]})
 
 
-def delaunay(points: ArrayLike) -> SphereMesh:
+def delaunay(points: ArrayLike, *, progress: bool | Callable[[int, int], object] = False) -> SphereMesh:
     """The spherical Delaunay triangulation of lon/lat points of any extent.
 
     The triangles are the faces of the 3-D convex hull of the points' unit vectors (Brown
@@ -220,6 +220,13 @@ def delaunay(points: ArrayLike) -> SphereMesh:
     ----------
     points : array_like, shape (n, 2)
         ``[longitude, latitude]`` degrees (longitudes within ±540).
+    progress : bool or callable
+        True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
+        callable is called as ``progress(done, total)`` from the calling thread: a step per
+        point inserted into the hull, then one per triangle's area (the total grows once the
+        triangles are known). Ctrl-C (or an exception from the callable) stops the run within
+        a fraction of a second and raises ``KeyboardInterrupt``. A triangulation exists only
+        once it is whole, so there is no partial answer and no time limit.
 
     Returns
     -------
@@ -240,7 +247,7 @@ def delaunay(points: ArrayLike) -> SphereMesh:
     >>> pw.geodesic.delaunay([[0, 0], [10, 0], [0, 10]]).corners.tolist()   # three points
     [[0, 1, 2]]
     """
-    f = _core.sphere_delaunay_single(points)
+    f = _core.sphere_delaunay_single(points, progress)
     pts = as_points(points)  # after the kernel validated them
     return SphereMesh(f["corners"], f["across"], f["edges"], f["boundary"], f["representative"], f["area"],
                       int(f["outward_faces"]), SPHERE_MODEL, pts.copy(), unit="m")
@@ -391,7 +398,7 @@ class SphereTree(SpanningTree):
         return out
 
 
-def spanning_tree(points: ArrayLike) -> SphereTree:
+def spanning_tree(points: ArrayLike, *, progress: bool | Callable[[int, int], object] = False) -> SphereTree:
     """The minimum spanning tree of lon/lat points of any extent for WGS84 geodesic lengths.
 
     Kruskal's algorithm on the edges of the spherical Delaunay triangulation (the 3-D hull
@@ -399,6 +406,21 @@ def spanning_tree(points: ArrayLike) -> SphereTree:
     within the flattening's effect of co-circular, the ellipsoid's), each weighted by its
     WGS84 geodesic length (Karney 2013), metres; repeated points are joined by zero-length
     edges.
+
+    Parameters
+    ----------
+    points : array_like, shape (n, 2)
+        ``[longitude, latitude]`` degrees (longitudes within ±540).
+    progress : bool or callable
+        True shows a progress bar on stderr; a callable is called as ``progress(done,
+        total)`` from the calling thread: a step per point inserted into the hull, then one
+        per Delaunay edge measured. Ctrl-C (or an exception from the callable) stops the run
+        within a fraction of a second and raises ``KeyboardInterrupt``; there is no partial
+        tree and no time limit.
+
+    Returns
+    -------
+    SphereTree
 
     Examples
     --------
@@ -409,6 +431,6 @@ def spanning_tree(points: ArrayLike) -> SphereTree:
     >>> round(float(tree.edge_length[0]) / 1000, 3)
     111.319
     """
-    f = _core.sphere_spanning_single(points)
+    f = _core.sphere_spanning_single(points, progress)
     pts = as_points(points)  # after the kernel validated them
     return SphereTree(f["end_a"], f["end_b"], f["length"], float(f["total"]), pts.copy(), SPHERE_MODEL, unit="m")

@@ -32,8 +32,8 @@ use crate::partition::{grouped_by_kernel, Allocation, SiteAllocations};
 use earth::{validate_lonlat, Earth};
 pub use minimax::{CenterOptions, GeodesicCenter};
 pub use sphere::{
-    sphere_delaunay, sphere_spanning_tree, sphere_voronoi_cells, sphere_voronoi_cells_watched, SphereCellOptions,
-    SphereCells, SphereTree, SphereTriangulation,
+    sphere_delaunay, sphere_delaunay_watched, sphere_spanning_tree, sphere_spanning_tree_watched, sphere_voronoi_cells,
+    sphere_voronoi_cells_watched, SphereCellOptions, SphereCells, SphereTree, SphereTriangulation,
 };
 pub use weber::{CONVEX_CAP_DEGREES, HEMISPHERE_DEGREES};
 

@@ -7,10 +7,12 @@ use pyo3::types::PyDict;
 
 use super::convert::{as_point_slice, float_arg, index_rows, index_values};
 use super::fields::Fields;
+use super::points_arg;
 use super::runtime::{progress_arg, run_watched};
-use super::{points_arg, run_detached};
 use crate::cancel::Watch;
-use crate::geodesic::{sphere_delaunay, sphere_spanning_tree, sphere_voronoi_cells_watched, SphereCellOptions};
+use crate::geodesic::{
+    sphere_delaunay_watched, sphere_spanning_tree_watched, sphere_voronoi_cells_watched, SphereCellOptions,
+};
 use crate::geometry::Point;
 
 fn rows<'py>(py: Python<'py>, flat: Vec<i64>, width: usize) -> PyResult<Bound<'py, PyArray2<i64>>> {
@@ -26,11 +28,18 @@ fn coordinates<'py>(py: Python<'py>, points: &[Point]) -> PyResult<Bound<'py, Py
 /// Fields: corners (m, 3), across (m, 3) with -1 on the boundary, edges (e, 2), boundary
 /// (b, 2), representative (n,), area (m,) square metres, outward_faces.
 #[pyfunction]
-#[pyo3(signature = (points,))]
-fn sphere_delaunay_single<'py>(py: Python<'py>, points: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyDict>> {
+#[pyo3(signature = (points, progress=None))]
+fn sphere_delaunay_single<'py>(
+    py: Python<'py>,
+    points: &Bound<'py, PyAny>,
+    progress: Option<&Bound<'py, PyAny>>,
+) -> PyResult<Bound<'py, PyDict>> {
+    let mut progress = progress_arg(progress, "geodesic delaunay (points inserted, triangle areas)")?;
     let points = points_arg(points, "points")?;
     let pts = as_point_slice(&points);
-    let t = run_detached(py, || sphere_delaunay(pts))?;
+    // Watched like the cells: no partial answer, so no time limit.
+    let watch = Watch::new();
+    let t = run_watched(py, &watch, &mut progress, || sphere_delaunay_watched(pts, &watch))?;
     let across: Vec<i64> = t.adjacent.iter().flatten().map(|a| a.map_or(-1, |i| i as i64)).collect();
     Ok(Fields::new(py)
         .put("corners", rows(py, index_rows(t.triangles), 3)?)?
@@ -79,11 +88,17 @@ fn sphere_voronoi_single<'py>(
 
 /// Fields: end_a, end_b (e,) input rows, smaller first; length (e,) metres; total (metres).
 #[pyfunction]
-#[pyo3(signature = (points,))]
-fn sphere_spanning_single<'py>(py: Python<'py>, points: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyDict>> {
+#[pyo3(signature = (points, progress=None))]
+fn sphere_spanning_single<'py>(
+    py: Python<'py>,
+    points: &Bound<'py, PyAny>,
+    progress: Option<&Bound<'py, PyAny>>,
+) -> PyResult<Bound<'py, PyDict>> {
+    let mut progress = progress_arg(progress, "geodesic spanning_tree (points inserted, edges measured)")?;
     let points = points_arg(points, "points")?;
     let pts = as_point_slice(&points);
-    let t = run_detached(py, || sphere_spanning_tree(pts))?;
+    let watch = Watch::new();
+    let t = run_watched(py, &watch, &mut progress, || sphere_spanning_tree_watched(pts, &watch))?;
     let total = {
         let mut sum = crate::geometry::CompensatedSum::default();
         t.length.iter().for_each(|&l| sum.add(l));

@@ -107,14 +107,10 @@ fn location(p: Point) -> (u64, u64) {
 }
 
 impl Sphere {
-    /// The distinct points of `points` and their hull.
-    pub(crate) fn build(argument: &'static str, points: &[Point]) -> Result<Sphere> {
-        Sphere::build_watched(argument, points, &Watch::new())
-    }
-
-    /// [`Sphere::build`] counting one step of `watch` per input point (the hull's
-    /// insertions, then the rest at the end); once `watch` is cancelled it stops within a
-    /// block of insertions with [`cancelled`] (the caller drops that outcome).
+    /// The distinct points of `points` and their hull, counting one step of `watch` per
+    /// input point (the hull's insertions, then the rest at the end); once `watch` is
+    /// cancelled it stops within a block of insertions with [`cancelled`] (the caller drops
+    /// that outcome).
     pub(crate) fn build_watched(argument: &'static str, points: &[Point], watch: &Watch) -> Result<Sphere> {
         validate_lonlat(argument, points, 1)?;
         let mut representative: Vec<usize> = (0..points.len()).collect();
@@ -207,8 +203,21 @@ impl Sphere {
 /// # Runtime
 /// Expected O(n log n) (hull), plus one geodesic polygon area per triangle, in parallel.
 pub fn sphere_delaunay(points: &[Point]) -> Result<SphereTriangulation> {
+    sphere_delaunay_watched(points, &Watch::new())
+}
+
+/// [`sphere_delaunay`] watched: progress counts a step per input point (the hull's
+/// insertions) and one per triangle's area, and once `watch` is cancelled the run stops
+/// within a block of hull insertions or one triangle per worker thread. A triangulation
+/// exists only once it is whole, so a cancelled run has no answer: its outcome is an error
+/// that the caller drops ([`Watch::finish`]).
+///
+/// # Errors
+/// As [`sphere_delaunay`].
+pub fn sphere_delaunay_watched(points: &[Point], watch: &Watch) -> Result<SphereTriangulation> {
     use rayon::prelude::*;
-    let s = Sphere::build("points", points)?;
+    watch.plan(points.len() as u64);
+    let s = Sphere::build_watched("points", points, watch)?;
     let faces = &s.hull.faces;
     let mut index = vec![None; faces.len()];
     let mut triangles = Vec::new();
@@ -238,7 +247,22 @@ pub fn sphere_delaunay(points: &[Point]) -> Result<SphereTriangulation> {
     }
     edges.sort_unstable();
     let earth = Earth::wgs84();
-    let area = triangles.par_iter().map(|t| earth.ccw_ring_area(&t.map(|r| points[r]))).collect();
+    watch.plan(triangles.len() as u64);
+    let area = triangles
+        .par_iter()
+        .map(|t| {
+            // A cancelled run's areas are never read.
+            if watch.is_cancelled() {
+                return f64::NAN;
+            }
+            let a = earth.ccw_ring_area(&t.map(|r| points[r]));
+            watch.advance(1);
+            a
+        })
+        .collect();
+    if watch.is_cancelled() {
+        return Err(cancelled("points"));
+    }
     Ok(SphereTriangulation {
         outward_faces: faces.len() - triangles.len(),
         triangles,
@@ -261,9 +285,21 @@ pub fn sphere_delaunay(points: &[Point]) -> Result<SphereTriangulation> {
 /// # Runtime
 /// Expected O(n log n).
 pub fn sphere_spanning_tree(points: &[Point]) -> Result<SphereTree> {
+    sphere_spanning_tree_watched(points, &Watch::new())
+}
+
+/// [`sphere_spanning_tree`] watched: progress counts a step per input point (the hull's
+/// insertions) and one per candidate edge measured, and once `watch` is cancelled the run
+/// stops within a block of hull insertions or one edge per worker thread, with an error the
+/// caller drops ([`Watch::finish`]): a part of a spanning tree is no answer.
+///
+/// # Errors
+/// As [`sphere_spanning_tree`].
+pub fn sphere_spanning_tree_watched(points: &[Point], watch: &Watch) -> Result<SphereTree> {
     use rayon::prelude::*;
     validate_lonlat("points", points, 1)?;
-    let (candidates, representative) = match Sphere::build("points", points) {
+    watch.plan(points.len() as u64);
+    let (candidates, representative) = match Sphere::build_watched("points", points, watch) {
         Ok(s) => {
             let mut candidates = Vec::with_capacity(s.hull.faces.len() * 3 / 2);
             for t in &s.hull.faces {
@@ -279,6 +315,8 @@ pub fn sphere_spanning_tree(points: &[Point]) -> Result<SphereTree> {
         // Few or great-circle points: every pair is a candidate when few; on one great
         // circle the MST is a path along it, among the edges between neighbours in angle.
         Err(e) if e.is_degenerate() => {
+            // Every degenerate outcome of the build comes before its first count.
+            watch.advance(points.len() as u64);
             let vectors: Vec<Vec3> = points.iter().map(|&p| sphere_vector(p)).collect();
             (circle_candidates(&vectors), (0..points.len()).collect())
         }
@@ -293,7 +331,22 @@ pub fn sphere_spanning_tree(points: &[Point]) -> Result<SphereTree> {
     // Non-negative finite lengths order like their bit patterns; ties go to the lower
     // candidate number, so the tree is the same on every run.
     let earth = Earth::wgs84();
-    let lengths: Vec<f64> = candidates.par_iter().map(|e| earth.distance(points[e[0]], points[e[1]])).collect();
+    watch.plan(candidates.len() as u64);
+    let lengths: Vec<f64> = candidates
+        .par_iter()
+        .map(|e| {
+            // A cancelled run's lengths are never read.
+            if watch.is_cancelled() {
+                return f64::NAN;
+            }
+            let l = earth.distance(points[e[0]], points[e[1]]);
+            watch.advance(1);
+            l
+        })
+        .collect();
+    if watch.is_cancelled() {
+        return Err(cancelled("points"));
+    }
     let mut keyed: Vec<(u64, usize)> = lengths.iter().enumerate().map(|(k, l)| (l.to_bits(), k)).collect();
     keyed.par_sort_unstable();
     let mut sets = UnionFind::new(points.len());
