@@ -316,7 +316,10 @@ mod measure {
     /// Phase times and generation counts on seeded uniform sets, for benchmarks/RESULTS.md:
     /// `cargo test --release --lib phases_of_uniform_sets -- --ignored --nocapture`, sizes
     /// from `PHASE_SIZES` (default `30,40`), seeds `0..PHASE_SEEDS` (default 3), each set
-    /// stopped after `PHASE_LIMIT` seconds (default 600). A set that finishes must be proven.
+    /// stopped after `PHASE_LIMIT` seconds (default 600), or the sets in the files named by
+    /// `PHASE_FILES` (e.g. the numpy sets of benchmarks/bench_network.py written with
+    /// `numpy.savetxt`). A set that finishes must be proven. Each line gives a fingerprint of
+    /// the FSTs generated, which a change meant to keep the generation's output must keep.
     #[test]
     #[ignore = "measurement, minutes long"]
     fn phases_of_uniform_sets() {
@@ -324,10 +327,39 @@ mod measure {
         let sizes: Vec<usize> = var("PHASE_SIZES", "30,40").split(',').map(|s| s.trim().parse().unwrap()).collect();
         let seeds: u64 = var("PHASE_SEEDS", "3").parse().unwrap();
         let limit: f64 = var("PHASE_LIMIT", "600").parse().unwrap();
-        for n in sizes {
-            for seed in 0..seeds {
-                let mut rng = SplitMix64::new(1000 * n as u64 + seed);
-                let points: Vec<Point> = (0..n).map(|_| [rng.next_f64() - 0.5, rng.next_f64() - 0.5]).collect();
+        // `PHASE_FILES`: comma-separated files of terminals (one `x y` a line, centred here on
+        // their bounding box) measured instead of the seeded sets.
+        let mut sets: Vec<(String, Vec<Point>)> = Vec::new();
+        for file in var("PHASE_FILES", "").split(',').filter(|f| !f.is_empty()) {
+            let text = std::fs::read_to_string(file).unwrap();
+            let mut points: Vec<Point> = text
+                .lines()
+                .filter(|line| !line.trim().is_empty())
+                .map(|line| {
+                    let xy: Vec<f64> = line.split_whitespace().map(|v| v.parse().unwrap()).collect();
+                    [xy[0], xy[1]]
+                })
+                .collect();
+            let (lo, hi) = points.iter().fold(([f64::INFINITY; 2], [f64::NEG_INFINITY; 2]), |(lo, hi), p| {
+                ([lo[0].min(p[0]), lo[1].min(p[1])], [hi[0].max(p[0]), hi[1].max(p[1])])
+            });
+            for p in &mut points {
+                *p = [p[0] - 0.5 * (lo[0] + hi[0]), p[1] - 0.5 * (lo[1] + hi[1])];
+            }
+            sets.push((file.to_string(), points));
+        }
+        if sets.is_empty() {
+            for n in &sizes {
+                for seed in 0..seeds {
+                    let mut rng = SplitMix64::new(1000 * *n as u64 + seed);
+                    let points: Vec<Point> = (0..*n).map(|_| [rng.next_f64() - 0.5, rng.next_f64() - 0.5]).collect();
+                    sets.push((format!("seed = {seed}"), points));
+                }
+            }
+        }
+        {
+            for (seed, points) in sets {
+                let n = points.len();
                 let clock = crate::cancel::Watch::new().clock(Some(limit));
                 let started = std::time::Instant::now();
                 let bottleneck = fst::Bottleneck::new(&points);
@@ -339,10 +371,19 @@ mod measure {
                     continue;
                 };
                 let generated = started.elapsed().as_secs_f64();
+                // A fingerprint of the FSTs (terminals and length bits, in order), to check
+                // that a change to the generation leaves its output as it was.
+                let fingerprint = trees.iter().fold(0xcbf2_9ce4_8422_2325u64, |hash, tree| {
+                    tree.terminals
+                        .iter()
+                        .map(|&t| t as u64)
+                        .chain([tree.length.to_bits()])
+                        .fold(hash, |h, word| (h ^ word).wrapping_mul(0x0100_0000_01b3))
+                });
                 let found = concatenate::concatenate(n, &trees, &clock).unwrap();
                 let total = started.elapsed().as_secs_f64();
                 println!(
-                    "n = {n}, seed = {seed}: generation {generated:.3} s, concatenation {:.4} s, {} FSTs, length {:.12}, proven {}",
+                    "n = {n}, seed = {seed}: generation {generated:.3} s, concatenation {:.4} s, {} FSTs (fingerprint {fingerprint:016x}), length {:.12}, proven {}",
                     total - generated,
                     trees.len(),
                     found.length,

@@ -51,10 +51,22 @@ impl TerminalSets {
     }
 
     /// Whether sets `a` and `b` share no terminal.
-    #[inline]
+    #[cfg(test)]
     pub fn disjoint(&self, a: usize, b: usize) -> bool {
-        self.get(a).iter().zip(self.get(b)).all(|(x, y)| x & y == 0)
+        disjoint(self.get(a), self.get(b))
     }
+}
+
+/// Whether the sets `a` and `b` (of the same width) share no terminal.
+#[inline]
+pub(crate) fn disjoint(a: &[u64], b: &[u64]) -> bool {
+    a.iter().zip(b).all(|(x, y)| x & y == 0)
+}
+
+/// Whether terminal `t` is in `set` (false beyond its width).
+#[inline]
+pub(crate) fn contains(set: &[u64], t: usize) -> bool {
+    set.get(t / 64).is_some_and(|word| word >> (t % 64) & 1 == 1)
 }
 
 /// The terminals of `set`, ascending.
@@ -118,6 +130,9 @@ mod tests {
         for (i, expected) in reference.iter().enumerate() {
             assert_eq!(members(sets.get(i)).collect::<BTreeSet<_>>(), *expected);
             assert_eq!(lowest(sets.get(i)), expected.first().copied());
+            for t in 0..n + 70 {
+                assert_eq!(contains(sets.get(i), t), expected.contains(&t));
+            }
             for (j, other) in reference.iter().enumerate().step_by(7) {
                 assert_eq!(sets.disjoint(i, j), expected.is_disjoint(other));
                 let rest: BTreeSet<usize> = (0..n).filter(|t| !expected.contains(t) && !other.contains(t)).collect();

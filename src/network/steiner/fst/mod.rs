@@ -36,7 +36,7 @@ use std::f64::consts::PI;
 
 use rayon::prelude::*;
 
-use super::terminal_sets::{lowest, members, TerminalSets};
+use super::terminal_sets::{contains, disjoint, lowest, members, TerminalSets};
 use crate::geometry::{distance, distance_squared, Point};
 
 use arcs::{arc_bounds, arc_parameter, arc_span, equilateral, reach, Item, Kind};
@@ -191,7 +191,7 @@ fn generate(
     }
     sort_by_x(&mut by_size[1], &mids);
     let mut shelves: Vec<Vec<Shelf>> = vec![Vec::new(); n];
-    shelves[1] = shelve(&by_size[1], &sets, &mids, &spread, n);
+    shelves[1] = shelve(&by_size[1], &items, &sets, Measures { mids: &mids, spread: &spread, far: &far }, n);
     for k in 2..n {
         let started = std::time::Instant::now();
         // Per-size tallies, added once per job: pairs, disjoint, near, sampled.
@@ -199,8 +199,12 @@ fn generate(
         // The pairings of one size are independent: they run in parallel, each item `a` of
         // the smaller side with its partners, and are gathered in the order of `a` so that
         // the output does not depend on the thread count.
-        let jobs: Vec<(usize, u32)> = (1..=k / 2).flat_map(|i| by_size[i].iter().map(move |&a| (i, a))).collect();
-        let middles: &[Point] = &mids;
+        // A size with no items has no partners: its items' jobs are skipped whole (beyond
+        // twice the largest size kept, every job).
+        let jobs: Vec<(usize, u32)> = (1..=k / 2)
+            .filter(|&i| !by_size[k - i].is_empty())
+            .flat_map(|i| by_size[i].iter().map(move |&a| (i, a)))
+            .collect();
         let pair_with = |mst_of: &mut BsdTrees, &(i, a): &(usize, u32)| {
             if clock.stop() {
                 return None;
@@ -210,53 +214,72 @@ fn generate(
             let (pa, far_a) = (items[a as usize].pos, far[a as usize]);
             let (mid_a, spread_a) = (mids[a as usize], spread[a as usize]);
             let nearest_a = &nearest_bsd[a as usize * n..(a as usize + 1) * n];
-            let partners = shelves[j].iter().enumerate().flat_map(|(v, shelf)| {
-                let window = if prune { 2.0 * nearest_a[v] + spread_a + shelf.widest + TOL } else { f64::INFINITY };
-                let first = shelf.xs.partition_point(|&x| x < mid_a[0] - window);
-                let last = shelf.xs.partition_point(|&x| x <= mid_a[0] + window);
-                // The sweep bounds x; the same window bounds y.
-                shelf.items[first..last]
-                    .iter()
-                    .copied()
-                    .filter(move |&b| (middles[b as usize][1] - mid_a[1]).abs() <= window)
-            });
+            let set_a = sets.get(a as usize);
+            let words = set_a.len();
+            // Every item on shelf v has terminal v below it: when `a` has too, the whole
+            // shelf shares a terminal with `a` and is skipped unread.
+            let partners =
+                shelves[j].iter().enumerate().filter(|&(v, _)| !contains(set_a, v)).flat_map(|(v, shelf)| {
+                    let window = if prune { 2.0 * nearest_a[v] + spread_a + shelf.widest + TOL } else { f64::INFINITY };
+                    let first = shelf.xs.partition_point(|&x| x < mid_a[0] - window);
+                    let last = shelf.xs.partition_point(|&x| x <= mid_a[0] + window);
+                    // The sweep bounds x; the same window bounds y. The shelf's own copies of the
+                    // ys and terminal sets are read in order.
+                    (first..last)
+                        .filter(move |&at| (shelf.ys[at] - mid_a[1]).abs() <= window)
+                        .map(move |at| (shelf, at))
+                });
             let mut local = [0u64; 4];
-            for b in partners {
+            for (shelf, at) in partners {
+                let b = shelf.items[at];
                 // Each unordered pair of one size once.
                 if i == j && b <= a {
                     continue;
                 }
-                let ib = &items[b as usize];
                 local[0] += 1;
-                if !sets.disjoint(a as usize, b as usize) {
+                let set_b = &shelf.sets[at * words..(at + 1) * words];
+                if !disjoint(set_a, set_b) {
                     continue;
                 }
                 local[1] += 1;
-                // The same with the smallest bottleneck distance between the two sides.
+                let (pos_b, spread_b, far_b) = (shelf.pos[at], shelf.spread[at], shelf.far[at]);
+                let (mid_gap, gap) =
+                    (distance_squared(mid_a, [shelf.xs[at], shelf.ys[at]]), distance_squared(pa, pos_b));
+                // Two tests with the smallest bottleneck distance `closest` between the two
+                // sides, both necessary for any pairing:
+                // - the children's Steiner points are within 2·closest of each other (see
+                //   above);
+                // - sharper, by the law of cosines at the 120° Steiner point s on the arc over
+                //   p and q: |p − q|² = |s − p|² + |s − q|² + |s − p|·|s − q|, and the
+                //   bottleneck test below keeps only arcs where |s − p| ≤ A and |s − q| ≤ B
+                //   (A, B as below), so |p − q|² ≤ A² + B² + AB is necessary for either
+                //   orientation; it spares the trigonometry of most hopeless pairs.
+                // Each right side grows with `closest` (in floating point too: sums and
+                // products of non-negative numbers round monotonically), and `closest` is the
+                // smallest of nearest_a[v] over the terminals v below `b`, so the pair fails
+                // at `closest` exactly when it fails at some nearest_a[v]: the first such v
+                // rejects it without reading the rest.
+                let fails = |closest: f64| {
+                    let apart = 2.0 * closest + spread_a + spread_b + TOL;
+                    let (reach_a, reach_b) = (closest + far_a + TOL, closest + far_b + TOL);
+                    mid_gap > apart * apart || gap > reach_a * reach_a + reach_b * reach_b + reach_a * reach_b + TOL
+                };
                 let mut closest = f64::INFINITY;
-                for v in members(sets.get(b as usize)) {
-                    closest = closest.min(nearest_bsd[a as usize * n + v]);
+                let mut rejected = false;
+                for v in members(set_b) {
+                    if prune && fails(nearest_a[v]) {
+                        rejected = true;
+                        break;
+                    }
+                    closest = closest.min(nearest_a[v]);
                 }
-                // The children's Steiner points within 2·closest of each other (see above).
-                let apart = 2.0 * closest + spread_a + spread[b as usize] + TOL;
-                if prune && distance_squared(mid_a, mids[b as usize]) > apart * apart {
-                    continue;
-                }
-                // Sharper, by the law of cosines at the 120° Steiner point s on the arc over
-                // p and q: |p − q|² = |s − p|² + |s − q|² + |s − p|·|s − q|, and the
-                // bottleneck test below keeps only arcs where |s − p| ≤ A and |s − q| ≤ B
-                // (A, B as below), so |p − q|² ≤ A² + B² + AB is necessary for either
-                // orientation; it spares the trigonometry of most hopeless pairs.
-                let (reach_a, reach_b) = (closest + far_a + TOL, closest + far[b as usize] + TOL);
-                if prune
-                    && distance_squared(pa, ib.pos) > reach_a * reach_a + reach_b * reach_b + reach_a * reach_b + TOL
-                {
+                if rejected {
                     continue;
                 }
                 local[2] += 1;
                 // `closest` is the bottleneck limit of the pair; an orientation whose arc the
                 // cheap conditions of `arc_bounds` already empty needs no more.
-                let radius = distance(pa, ib.pos) / 3f64.sqrt();
+                let radius = distance(pa, pos_b) / 3f64.sqrt();
                 for (p, q) in [(a, b), (b, a)] {
                     let (p_reach, q_reach) = ([near[p as usize], far[p as usize]], [near[q as usize], far[q as usize]]);
                     if prune
@@ -298,7 +321,7 @@ fn generate(
         let [pairs, disjoint, near, sampled] = tally.map(AtomicU64::into_inner);
         let (kept, seconds) = (list.len() as u64, started.elapsed().as_secs_f64());
         counts.push(SizeCounts { size: k, pairs, disjoint, near, sampled, kept, seconds });
-        shelves[k] = shelve(&list, &sets, &mids, &spread, n);
+        shelves[k] = shelve(&list, &items, &sets, Measures { mids: &mids, spread: &spread, far: &far }, n);
         by_size[k] = list;
         clock.watch.advance(1);
     }
@@ -334,25 +357,48 @@ fn generate(
 }
 
 /// The items of one size whose lowest terminal is one `v`, sorted by the x of their arc
-/// middles, with those xs and the widest spread among them.
+/// middles, with the xs and ys of those middles, their terminal sets (side by side, as in
+/// [`TerminalSets`]) and the widest spread among them. The copies let the sweep read in
+/// order what it would otherwise fetch item by item from the whole store.
 #[derive(Debug, Clone, Default)]
 struct Shelf {
     items: Vec<u32>,
     xs: Vec<f64>,
+    ys: Vec<f64>,
+    sets: Vec<u64>,
+    /// The items' locations, spreads and farthest arc distances.
+    pos: Vec<Point>,
+    spread: Vec<f64>,
+    far: Vec<f64>,
     widest: f64,
 }
 
 /// `list` (sorted by the x of the middles) on shelves by lowest terminal, keeping the order.
-fn shelve(list: &[u32], sets: &TerminalSets, mids: &[Point], spread: &[f64], n: usize) -> Vec<Shelf> {
+fn shelve(list: &[u32], items: &[Item], sets: &TerminalSets, measures: Measures, n: usize) -> Vec<Shelf> {
+    let Measures { mids, spread, far } = measures;
     let mut shelves = vec![Shelf::default(); n];
     for &b in list {
-        let v = lowest(sets.get(b as usize)).expect("every item has a terminal below it");
+        let set = sets.get(b as usize);
+        let v = lowest(set).expect("every item has a terminal below it");
         let shelf = &mut shelves[v];
         shelf.items.push(b);
         shelf.xs.push(mids[b as usize][0]);
+        shelf.ys.push(mids[b as usize][1]);
+        shelf.sets.extend_from_slice(set);
+        shelf.pos.push(items[b as usize].pos);
+        shelf.spread.push(spread[b as usize]);
+        shelf.far.push(far[b as usize]);
         shelf.widest = shelf.widest.max(spread[b as usize]);
     }
     shelves
+}
+
+/// Per item: the middle of its arc, its spread and its farthest arc distance.
+#[derive(Clone, Copy)]
+struct Measures<'a> {
+    mids: &'a [Point],
+    spread: &'a [f64],
+    far: &'a [f64],
 }
 
 /// The FST rooted at terminal `root` through equilateral point `top`, when every Steiner
