@@ -1,0 +1,185 @@
+"""Discrete p-median: placewise's plan and bound against the LP relaxation and the optimum.
+
+Uniform demand points and candidates in [0, 100]², integer weights 1 to 9, straight-line
+costs (the generator of ``tests/test_discrete.py`` and ``bench_discrete.py``). References, all
+on the textbook p-median program (ReVelle & Swain 1970: ``Σⱼ xᵢⱼ = 1``, ``xᵢⱼ ≤ yⱼ``,
+``Σⱼ yⱼ = p``) solved by HiGHS through scipy:
+
+- the LP relaxation, by column generation: ``scipy.optimize.linprog`` (dual simplex) on every
+  point's ``--core`` cheapest pairs, then the pairs whose reduced cost ``wᵢcᵢⱼ − λᵢ`` at the
+  LP's duals is negative are added until none is (then the restricted LP's optimum is the full
+  LP's);
+- ``--exact``: the integer optimum. Every candidate whose opening alone lifts the Lagrangian
+  bound at the LP's duals above placewise's plan is closed in every cheaper plan (reduced-cost
+  fixing, Beasley 1993); ``scipy.optimize.milp`` (relative gap 0) solves the program on the
+  candidates left, and the optimum is the cheaper of its answer and the plan;
+- ``--milp SECONDS``: ``scipy.optimize.milp`` on the whole program within a time limit.
+
+The program is built as one sparse matrix (the dense pieces of the tests' builder do not fit
+at full size).
+
+    python benchmarks/median_lp.py N M P [--seed S] [--core K] [--exact] [--milp SECONDS] [--no-lp]
+    python benchmarks/median_lp.py --bench [--milp 600] [--no-lp] [--no-placewise]
+
+``--bench`` takes the data of the "p_median coordinates p=50" case of ``bench_discrete.py``
+(10,000 points × 1,000 candidates from ``default_rng(3)``).
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import time
+
+import numpy as np
+import scipy.optimize
+import scipy.sparse
+import scipy.spatial
+
+
+def bench_instance() -> tuple[np.ndarray, np.ndarray]:
+    """The cost matrix and weights of ``bench_discrete.py``'s "p_median coordinates p=50"."""
+    rng = np.random.default_rng(3)
+    big = 100_000
+    rng.uniform(0, 100, (big, 2)), rng.uniform(0, 100, (2000, 2)), rng.integers(1, 10, big)
+    mp, mc, mw = rng.uniform(0, 100, (10_000, 2)), rng.uniform(0, 100, (1000, 2)), rng.integers(1, 10, 10_000)
+    return scipy.spatial.distance.cdist(mp, mc), mw.astype(float)
+
+
+def random_instance(n: int, m: int, seed: int) -> tuple[np.ndarray, np.ndarray]:
+    """``tests/test_discrete.py``'s ``instance``: points, candidates, weights, in that order."""
+    rng = np.random.default_rng(seed)
+    points, candidates = rng.uniform(0, 100, (n, 2)), rng.uniform(0, 100, (m, 2))
+    weights = rng.integers(1, 10, n).astype(float)
+    return scipy.spatial.distance.cdist(points, candidates), weights
+
+
+def program(costs: np.ndarray, w: np.ndarray, p: int):  # noqa: ANN201
+    """(c, A, lower, upper) of the p-median program over x (row-major, n·m) then y (m):
+    rows ``Σⱼ xᵢⱼ = 1`` (n), ``xᵢⱼ − yⱼ ≤ 0`` (n·m), ``Σⱼ yⱼ = p`` (1)."""
+    n, m = costs.shape
+    nx = n * m
+    x = np.arange(nx, dtype=np.int64)
+    rows = np.concatenate([x // m, n + x, n + x, np.full(m, n + nx, dtype=np.int64)])
+    cols = np.concatenate([x, x, nx + x % m, nx + np.arange(m, dtype=np.int64)])
+    vals = np.concatenate([np.ones(nx), np.ones(nx), -np.ones(nx), np.ones(m)])
+    a = scipy.sparse.csr_array((vals, (rows, cols)), shape=(n + nx + 1, nx + m))
+    lower = np.concatenate([np.ones(n), np.full(nx, -np.inf), [p]])
+    upper = np.concatenate([np.ones(n), np.zeros(nx), [p]])
+    c = np.concatenate([(w[:, None] * costs).ravel(), np.zeros(m)])
+    return c, a, lower, upper
+
+
+def core_lp(costs: np.ndarray, w: np.ndarray, p: int, keep: int) -> tuple[float, np.ndarray, int]:
+    """The LP relaxation's value, the duals ``λ`` of its assignment rows and the pairs it ended
+    with, by column generation from every point's ``keep`` cheapest pairs (module docstring)."""
+    n, m = costs.shape
+    weighted = w[:, None] * costs
+    have = np.zeros((n, m), dtype=bool)
+    np.put_along_axis(have, np.argsort(weighted, axis=1, kind="stable")[:, :keep], True, axis=1)
+    while True:
+        rows, cols = np.nonzero(have)
+        nx = len(rows)
+        x = np.arange(nx)
+        assign = scipy.sparse.csr_array((np.ones(nx + m), (np.r_[rows, np.full(m, n)], np.r_[x, nx + np.arange(m)])),
+                                        shape=(n + 1, nx + m))
+        link = scipy.sparse.csr_array((np.r_[np.ones(nx), -np.ones(nx)], (np.r_[x, x], np.r_[x, nx + cols])),
+                                      shape=(nx, nx + m))
+        lp = scipy.optimize.linprog(np.r_[weighted[rows, cols], np.zeros(m)], A_ub=link, b_ub=np.zeros(nx),
+                                    A_eq=assign, b_eq=np.r_[np.ones(n), p], bounds=(0, 1), method="highs-ds")
+        assert lp.status == 0, lp.message
+        lam = lp.eqlin.marginals[:n]
+        # A missing pair with a negative reduced cost would lower the LP: add those and solve again.
+        missing = (weighted < lam[:, None] - 1e-9 * np.abs(lam[:, None])) & ~have
+        if not missing.any():
+            return float(lp.fun), lam, nx
+        have |= missing
+
+
+def exact_optimum(costs: np.ndarray, w: np.ndarray, p: int, lam: np.ndarray, upper: float,
+                  seconds: float) -> tuple[float, int, object]:
+    """The least total cost (``upper`` when no plan is cheaper), the candidates left after
+    reduced-cost fixing at the multipliers ``lam``, and milp's answer on them (module docstring)."""
+    rho = np.minimum(0.0, w[:, None] * costs - lam[:, None]).sum(axis=0)
+    order = np.argsort(rho, kind="stable")
+    bound = lam.sum() + rho[order[:p]].sum()
+    # Opening j instead of the p-th cheapest of the relaxation's sites bounds every plan with j open.
+    left = np.ones(len(rho), dtype=bool)
+    left[order[p:]] = bound - rho[order[p - 1]] + rho[order[p:]] <= upper * (1 + 1e-12)
+    cols = np.flatnonzero(left)
+    n, k = len(w), len(cols)
+    c, a, lower, upper_rows = program(costs[:, cols], w, p)
+    res = scipy.optimize.milp(c, constraints=scipy.optimize.LinearConstraint(a, lower, upper_rows),
+                              integrality=np.r_[np.zeros(n * k), np.ones(k)], bounds=scipy.optimize.Bounds(0, 1),
+                              options={"time_limit": seconds, "mip_rel_gap": 0.0})
+    best = upper if res.fun is None else min(upper, float(res.fun))
+    return best, k, res
+
+
+def load() -> str:
+    return "load average {:.2f} {:.2f} {:.2f}".format(*os.getloadavg())
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
+    parser.add_argument("shape", type=int, nargs="*", help="N M P")
+    parser.add_argument("--bench", action="store_true")
+    parser.add_argument("--seed", type=int, default=0)
+    parser.add_argument("--core", type=int, default=40, help="cheapest pairs per point the LP starts from")
+    parser.add_argument("--exact", type=float, default=0.0, help="seconds for the exact optimum (0: not sought)")
+    parser.add_argument("--milp", type=float, default=0.0, help="seconds for milp on the whole program (0: not run)")
+    parser.add_argument("--no-lp", action="store_true")
+    parser.add_argument("--no-placewise", action="store_true")
+    parser.add_argument("--search-rounds", type=int, default=300)
+    parser.add_argument("--bound-iterations", type=int, default=1000)
+    args = parser.parse_args()
+    if args.bench:
+        costs, w = bench_instance()
+        p = 50
+        name = "bench_discrete.py p_median coordinates p=50"
+    else:
+        n, m, p = args.shape
+        costs, w = random_instance(n, m, args.seed)
+        name = f"seed {args.seed}"
+    n, m = costs.shape
+    print(f"{n} x {m}, p = {p}, {name} ({load()})", flush=True)
+    plan = None
+    if not args.no_placewise:
+        import placewise as pw  # only here: the references alone run without the build
+
+        start = time.perf_counter()
+        plan = pw.discrete.p_median(costs, p, w, search_rounds=args.search_rounds,
+                                    bound_iterations=args.bound_iterations)
+        took = time.perf_counter() - start
+        print(f"  placewise: total cost {plan.total_cost:.4f}, lower bound {plan.lower_bound:.4f}, proven gap "
+              f"{100 * plan.relative_gap:.3f} %, {took:.2f} s ({load()})", flush=True)
+    if not args.no_lp:
+        start = time.perf_counter()
+        value, lam, pairs = core_lp(costs, w, p, args.core)
+        print(f"  LP relaxation (HiGHS dual simplex, {pairs:,} pairs at the end): {value:.4f}, "
+              f"{time.perf_counter() - start:.1f} s ({load()})", flush=True)
+        if plan is not None:
+            print(f"    placewise bound / LP - 1 = {plan.lower_bound / value - 1:.3e}, "
+                  f"plan / LP - 1 = {plan.total_cost / value - 1:.3e}", flush=True)
+        if plan is not None and args.exact > 0:
+            start = time.perf_counter()
+            best, left, res = exact_optimum(costs, w, p, lam, float(plan.total_cost), args.exact)
+            print(f"  optimum: {best:.4f} ({left} candidates left by reduced-cost fixing; milp status {res.status}, "
+                  f"{res.fun}), {time.perf_counter() - start:.1f} s ({load()}); LP gap {1 - value / best:.3e}, "
+                  f"plan / optimum - 1 = {plan.total_cost / best - 1:.3e}", flush=True)
+    if args.milp > 0:
+        c, a, lower, upper = program(costs, w, p)
+        start = time.perf_counter()
+        res = scipy.optimize.milp(c, constraints=scipy.optimize.LinearConstraint(a, lower, upper),
+                                  integrality=np.concatenate([np.zeros(n * m), np.ones(m)]),
+                                  bounds=scipy.optimize.Bounds(0, 1), options={"time_limit": args.milp})
+        took = time.perf_counter() - start
+        fun = res.fun if res.fun is not None else float("nan")
+        dual = getattr(res, "mip_dual_bound", None)
+        print(f"  scipy.optimize.milp (HiGHS, {args.milp:g} s): {fun:.4f}, dual bound "
+              f"{dual if dual is not None else float('nan'):.4f}, status {res.status} ({res.message}), "
+              f"{took:.1f} s ({load()})", flush=True)
+
+
+if __name__ == "__main__":
+    main()
