@@ -5,10 +5,13 @@ costs (the generator of ``tests/test_discrete.py`` and ``bench_discrete.py``). R
 on the textbook p-median program (ReVelle & Swain 1970: ``Σⱼ xᵢⱼ = 1``, ``xᵢⱼ ≤ yⱼ``,
 ``Σⱼ yⱼ = p``) solved by HiGHS through scipy:
 
-- the LP relaxation, by column generation: ``scipy.optimize.linprog`` (dual simplex) on every
-  point's ``--core`` cheapest pairs, then the pairs whose reduced cost ``wᵢcᵢⱼ − λᵢ`` at the
-  LP's duals is negative are added until none is (then the restricted LP's optimum is the full
-  LP's);
+- the LP relaxation, by multi-cut Benders decomposition over the sites ``y`` (as Duran-Mateluna,
+  Ales & Elloumi 2023 solve it): for given ``y`` a point's least cost ``φᵢ(y)`` fills one unit
+  from its cheapest candidates, at most ``yⱼ`` from each, and is convex in ``y`` with the cut
+  ``φᵢ(y) ≥ D − Σⱼ (D − wᵢcᵢⱼ)⁺ yⱼ`` for every level ``D`` (Cornuéjols, Nemhauser & Wolsey
+  1980); a master LP (``scipy.optimize.linprog``, dual simplex) over ``y`` and one ``θᵢ ≥ φᵢ``
+  per point gets every point's violated cut at its optimum until none is violated, and its
+  value is then the LP's;
 - ``--exact``: the integer optimum. Every candidate whose opening alone lifts the Lagrangian
   bound at the LP's duals above placewise's plan is closed in every cheaper plan (reduced-cost
   fixing, Beasley 1993); ``scipy.optimize.milp`` (relative gap 0) solves the program on the
@@ -18,7 +21,7 @@ on the textbook p-median program (ReVelle & Swain 1970: ``Σⱼ xᵢⱼ = 1``, `
 The program is built as one sparse matrix (the dense pieces of the tests' builder do not fit
 at full size).
 
-    python benchmarks/median_lp.py N M P [--seed S] [--core K] [--exact] [--milp SECONDS] [--no-lp]
+    python benchmarks/median_lp.py N M P [--seed S] [--exact] [--milp SECONDS] [--no-lp]
     python benchmarks/median_lp.py --bench [--milp 600] [--no-lp] [--no-placewise]
 
 ``--bench`` takes the data of the "p_median coordinates p=50" case of ``bench_discrete.py``
@@ -70,30 +73,55 @@ def program(costs: np.ndarray, w: np.ndarray, p: int):  # noqa: ANN201
     return c, a, lower, upper
 
 
-def core_lp(costs: np.ndarray, w: np.ndarray, p: int, keep: int) -> tuple[float, np.ndarray, int]:
-    """The LP relaxation's value, the duals ``λ`` of its assignment rows and the pairs it ended
-    with, by column generation from every point's ``keep`` cheapest pairs (module docstring)."""
+def benders_lp(costs: np.ndarray, w: np.ndarray, p: int) -> tuple[float, np.ndarray, int]:
+    """The LP relaxation's value, multipliers ``λ`` of its assignment rows and the iterations,
+    by multi-cut Benders decomposition over the sites (module docstring)."""
     n, m = costs.shape
     weighted = w[:, None] * costs
-    have = np.zeros((n, m), dtype=bool)
-    np.put_along_axis(have, np.argsort(weighted, axis=1, kind="stable")[:, :keep], True, axis=1)
-    while True:
-        rows, cols = np.nonzero(have)
-        nx = len(rows)
-        x = np.arange(nx)
-        assign = scipy.sparse.csr_array((np.ones(nx + m), (np.r_[rows, np.full(m, n)], np.r_[x, nx + np.arange(m)])),
-                                        shape=(n + 1, nx + m))
-        link = scipy.sparse.csr_array((np.r_[np.ones(nx), -np.ones(nx)], (np.r_[x, x], np.r_[x, nx + cols])),
-                                      shape=(nx, nx + m))
-        lp = scipy.optimize.linprog(np.r_[weighted[rows, cols], np.zeros(m)], A_ub=link, b_ub=np.zeros(nx),
-                                    A_eq=assign, b_eq=np.r_[np.ones(n), p], bounds=(0, 1), method="highs-ds")
-        assert lp.status == 0, lp.message
-        lam = lp.eqlin.marginals[:n]
-        # A missing pair with a negative reduced cost would lower the LP: add those and solve again.
-        missing = (weighted < lam[:, None] - 1e-9 * np.abs(lam[:, None])) & ~have
-        if not missing.any():
-            return float(lp.fun), lam, nx
-        have |= missing
+    order = np.argsort(weighted, axis=1, kind="stable")
+    ascending = np.take_along_axis(weighted, order, axis=1)
+    every = np.arange(n)
+
+    def separate(y: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        # Each point fills one unit from its cheapest candidates, at most yⱼ from each: its cost
+        # φᵢ(y) and the level D where the unit fills, whose cut is tight at y.
+        filled = np.cumsum(y[order], axis=1)
+        level = ascending[every, np.minimum((filled < 1 - 1e-9).sum(axis=1), m - 1)]
+        cheaper = ascending < level[:, None]
+        phi = level + np.where(cheaper, (ascending - level[:, None]) * y[order], 0.0).sum(axis=1)
+        return phi, level, cheaper
+
+    owners, levels, cut_rows, cut_cols, cut_values = [], [], [], [], []
+
+    def add(points: np.ndarray, level: np.ndarray, cheaper: np.ndarray) -> None:
+        for i in points:
+            js = order[i][cheaper[i]]
+            cut_rows.append(np.full(len(js), len(owners)))
+            cut_cols.append(n + js)
+            cut_values.append(level[i] - weighted[i, js])
+            owners.append(i)
+            levels.append(level[i])
+
+    phi, level, cheaper = separate(np.full(m, p / m))
+    add(every, level, cheaper)
+    for iteration in range(1, 1000):
+        cuts = len(owners)
+        a = scipy.sparse.csr_array((np.r_[np.ones(cuts), np.concatenate(cut_values)],
+                                    (np.r_[np.arange(cuts), np.concatenate(cut_rows)],
+                                     np.r_[owners, np.concatenate(cut_cols)])), shape=(cuts, n + m))
+        master = scipy.optimize.linprog(np.r_[np.ones(n), np.zeros(m)], A_ub=-a, b_ub=-np.asarray(levels),
+                                        A_eq=np.r_[np.zeros(n), np.ones(m)][None, :], b_eq=[p],
+                                        bounds=[(0, None)] * n + [(0, 1)] * m, method="highs-ds")
+        assert master.status == 0, master.message
+        theta, y = master.x[:n], master.x[n:]
+        phi, level, cheaper = separate(y)
+        missing = np.flatnonzero(phi > theta + 1e-9 * np.maximum(1.0, phi))
+        if len(missing) == 0:
+            # λᵢ = Σ (dual of each of i's cuts) · (its level): the Lagrangian multipliers.
+            lam = np.bincount(owners, weights=-master.ineqlin.marginals * np.asarray(levels), minlength=n)
+            return float(master.fun), lam, iteration
+        add(missing, level, cheaper)
+    raise RuntimeError("the cuts did not converge")
 
 
 def exact_optimum(costs: np.ndarray, w: np.ndarray, p: int, lam: np.ndarray, upper: float,
@@ -125,7 +153,6 @@ def main() -> None:
     parser.add_argument("shape", type=int, nargs="*", help="N M P")
     parser.add_argument("--bench", action="store_true")
     parser.add_argument("--seed", type=int, default=0)
-    parser.add_argument("--core", type=int, default=40, help="cheapest pairs per point the LP starts from")
     parser.add_argument("--exact", type=float, default=0.0, help="seconds for the exact optimum (0: not sought)")
     parser.add_argument("--milp", type=float, default=0.0, help="seconds for milp on the whole program (0: not run)")
     parser.add_argument("--no-lp", action="store_true")
@@ -155,8 +182,8 @@ def main() -> None:
               f"{100 * plan.relative_gap:.3f} %, {took:.2f} s ({load()})", flush=True)
     if not args.no_lp:
         start = time.perf_counter()
-        value, lam, pairs = core_lp(costs, w, p, args.core)
-        print(f"  LP relaxation (HiGHS dual simplex, {pairs:,} pairs at the end): {value:.4f}, "
+        value, lam, rounds = benders_lp(costs, w, p)
+        print(f"  LP relaxation (Benders cuts, HiGHS dual simplex, {rounds} rounds): {value:.4f}, "
               f"{time.perf_counter() - start:.1f} s ({load()})", flush=True)
         if plan is not None:
             print(f"    placewise bound / LP - 1 = {plan.lower_bound / value - 1:.3e}, "
