@@ -175,8 +175,9 @@ def benders_lp(costs: np.ndarray, w: np.ndarray, p: int) -> tuple[float, np.ndar
 
 def exact_optimum(costs: np.ndarray, w: np.ndarray, p: int, lam: np.ndarray, upper: float,
                   seconds: float) -> tuple[float, int, object]:
-    """The least total cost (``upper`` when no plan is cheaper), the candidates left after
-    reduced-cost fixing at the multipliers ``lam``, and milp's answer on them (module docstring)."""
+    """The least total cost (``upper`` when no plan is cheaper; None when milp stopped before
+    proving it), the candidates left after reduced-cost fixing at the multipliers ``lam``, and
+    milp's answer on them (module docstring)."""
     rho = np.minimum(0.0, w[:, None] * costs - lam[:, None]).sum(axis=0)
     order = np.argsort(rho, kind="stable")
     bound = lam.sum() + rho[order[:p]].sum()
@@ -189,8 +190,9 @@ def exact_optimum(costs: np.ndarray, w: np.ndarray, p: int, lam: np.ndarray, upp
     res = scipy.optimize.milp(c, constraints=scipy.optimize.LinearConstraint(a, lower, upper_rows),
                               integrality=np.r_[np.zeros(n * k), np.ones(k)], bounds=scipy.optimize.Bounds(0, 1),
                               options={"time_limit": seconds, "mip_rel_gap": 0.0})
-    best = upper if res.fun is None else min(upper, float(res.fun))
-    return best, k, res
+    if res.status != 0:
+        return None, k, res
+    return min(upper, float(res.fun)), k, res
 
 
 def load() -> str:
@@ -240,9 +242,15 @@ def main() -> None:
         if plan is not None and args.exact > 0:
             start = time.perf_counter()
             best, left, res = exact_optimum(costs, w, p, lam, float(plan.total_cost), args.exact)
-            print(f"  optimum: {best:.4f} ({left} candidates left by reduced-cost fixing; milp status {res.status}, "
-                  f"{res.fun}), {time.perf_counter() - start:.1f} s ({load()}); LP gap {1 - value / best:.3e}, "
-                  f"plan / optimum - 1 = {plan.total_cost / best - 1:.3e}", flush=True)
+            took = time.perf_counter() - start
+            if best is None:
+                print(f"  optimum not proven: milp on the {left} candidates left by reduced-cost fixing stopped "
+                      f"with status {res.status} ({res.message}), incumbent {res.fun}, dual bound "
+                      f"{getattr(res, 'mip_dual_bound', None)}, {took:.1f} s ({load()})", flush=True)
+            else:
+                print(f"  optimum: {best:.4f} ({left} candidates left by reduced-cost fixing; milp status "
+                      f"{res.status}, {res.fun}), {took:.1f} s ({load()}); LP gap {1 - value / best:.3e}, "
+                      f"plan / optimum - 1 = {plan.total_cost / best - 1:.3e}", flush=True)
     if args.milp > 0:
         c, a, lower, upper = program(costs, w, p)
         start = time.perf_counter()
