@@ -256,7 +256,7 @@ except KeyboardInterrupt:
 # Sizes of the newly watched calls, so that each runs at least about three seconds on a
 # fast idle 2-core machine (the grouped nearest-site search took 1.33 s at 800,000 points
 # with load average 2.5, too short for the check).
-WEBER_N, NEAREST_N, VORONOI_N = 1_000_000, 2_400_000, 200_000
+WEBER_N, NEAREST_N, VORONOI_N = 2_000_000, 2_400_000, 400_000
 DELAUNAY_N, SPANNING_N = 1_000_000, 1_000_000
 
 CALLS = {
