@@ -25,6 +25,24 @@ fn coordinates<'py>(py: Python<'py>, points: &[Point]) -> PyResult<Bound<'py, Py
     PyArray1::from_vec(py, flat).reshape([points.len(), 2])
 }
 
+/// `kernel` on the lon/lat points of `argument`, watched: a progress bar or callable
+/// labelled `label`, and Ctrl-C. The spherical kernels have no partial answer, so they take
+/// no time limit.
+fn run_on_points<'py, T: Send>(
+    py: Python<'py>,
+    points: &Bound<'py, PyAny>,
+    argument: &'static str,
+    progress: Option<&Bound<'py, PyAny>>,
+    label: &'static str,
+    kernel: impl FnOnce(&[Point], &Watch) -> crate::error::Result<T> + Send,
+) -> PyResult<T> {
+    let mut progress = progress_arg(progress, label)?;
+    let points = points_arg(points, argument)?;
+    let pts = as_point_slice(&points);
+    let watch = Watch::new();
+    run_watched(py, &watch, &mut progress, || kernel(pts, &watch))
+}
+
 /// Fields: corners (m, 3), across (m, 3) with -1 on the boundary, edges (e, 2), boundary
 /// (b, 2), representative (n,), area (m,) square metres, outward_faces.
 #[pyfunction]
@@ -34,12 +52,8 @@ fn sphere_delaunay_single<'py>(
     points: &Bound<'py, PyAny>,
     progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
-    let mut progress = progress_arg(progress, "geodesic delaunay (points inserted, triangle areas)")?;
-    let points = points_arg(points, "points")?;
-    let pts = as_point_slice(&points);
-    // Watched like the cells: no partial answer, so no time limit.
-    let watch = Watch::new();
-    let t = run_watched(py, &watch, &mut progress, || sphere_delaunay_watched(pts, &watch))?;
+    let label = "geodesic delaunay (points inserted, triangle areas)";
+    let t = run_on_points(py, points, "points", progress, label, sphere_delaunay_watched)?;
     let across: Vec<i64> = t.adjacent.iter().flatten().map(|a| a.map_or(-1, |i| i as i64)).collect();
     Ok(Fields::new(py)
         .put("corners", rows(py, index_rows(t.triangles), 3)?)?
@@ -64,14 +78,13 @@ fn sphere_voronoi_single<'py>(
     progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let step = float_arg(max_edge_degrees, "max_edge_degrees", "in (0, 90]", |x| x > 0.0 && x <= 90.0)?;
-    let mut progress = progress_arg(progress, "geodesic voronoi_cells (sites inserted, rings, areas)")?;
-    let sites = points_arg(sites, "sites")?;
-    let s = as_point_slice(&sites);
-    // Watched: Ctrl-C stops the hull within a block of insertions and the cells within one
-    // cell per worker thread; there is no partial answer, so the call takes no time limit.
-    let watch = Watch::new();
     let options = SphereCellOptions { max_edge_degrees: step };
-    let c = run_watched(py, &watch, &mut progress, || sphere_voronoi_cells_watched(s, &options, &watch))?;
+    // Ctrl-C stops the hull within a block of insertions and the cells within one cell per
+    // worker thread.
+    let label = "geodesic voronoi_cells (sites inserted, rings, areas)";
+    let c = run_on_points(py, sites, "sites", progress, label, |s, watch| {
+        sphere_voronoi_cells_watched(s, &options, watch)
+    })?;
     let flat: Vec<f64> = c.vertex_vectors.iter().flatten().copied().collect();
     let vectors = PyArray1::from_vec(py, flat).reshape([c.vertex_vectors.len(), 3])?;
     Ok(Fields::new(py)
@@ -94,11 +107,8 @@ fn sphere_spanning_single<'py>(
     points: &Bound<'py, PyAny>,
     progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
-    let mut progress = progress_arg(progress, "geodesic spanning_tree (points inserted, edges measured)")?;
-    let points = points_arg(points, "points")?;
-    let pts = as_point_slice(&points);
-    let watch = Watch::new();
-    let t = run_watched(py, &watch, &mut progress, || sphere_spanning_tree_watched(pts, &watch))?;
+    let label = "geodesic spanning_tree (points inserted, edges measured)";
+    let t = run_on_points(py, points, "points", progress, label, sphere_spanning_tree_watched)?;
     let total = {
         let mut sum = crate::geometry::CompensatedSum::default();
         t.length.iter().for_each(|&l| sum.add(l));

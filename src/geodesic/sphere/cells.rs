@@ -4,7 +4,7 @@
 use rayon::prelude::*;
 
 use super::hull::{cross, dot, norm2, orient, sub, unit, Vec3, NONE};
-use super::Sphere;
+use super::{measured_watched, Sphere};
 use crate::cancel::{cancelled, Watch};
 use crate::error::{Error, Result};
 use crate::geodesic::earth::{from_normal, Earth};
@@ -244,19 +244,9 @@ pub fn sphere_voronoi_cells_watched(
         ring_points.extend_from_slice(ring);
         ring_offsets.push(ring_points.len());
     }
-    let area: Vec<f64> = (0..n)
-        .into_par_iter()
-        .map(|i| {
-            // A cancelled run's areas are never read (NaN fills the cells skipped).
-            if watch.is_cancelled() {
-                return f64::NAN;
-            }
-            let a = earth.ccw_ring_area(&ring_points[ring_offsets[i]..ring_offsets[i + 1]]);
-            watch.advance(1);
-            a
-        })
-        .collect();
-    stop()?;
+    let area = measured_watched(n, watch, "sites", |i| {
+        earth.ccw_ring_area(&ring_points[ring_offsets[i]..ring_offsets[i + 1]])
+    })?;
     Ok(SphereCells {
         vertices,
         vertex_vectors: vectors,

@@ -193,6 +193,35 @@ impl Sphere {
     }
 }
 
+/// `measure(k)` for `k` in `0..count`, in parallel, one step of `watch` each (planned by the
+/// caller). Once `watch` is cancelled the items left are skipped and the outcome is
+/// [`cancelled`] about `argument`: the areas and lengths of a triangulation, a tree or a set
+/// of cells are only an answer when all are measured.
+pub(crate) fn measured_watched(
+    count: usize,
+    watch: &Watch,
+    argument: &'static str,
+    measure: impl Fn(usize) -> f64 + Sync + Send,
+) -> Result<Vec<f64>> {
+    use rayon::prelude::*;
+    let values = (0..count)
+        .into_par_iter()
+        .map(|k| {
+            // A cancelled run's values are never read (NaN fills the items skipped).
+            if watch.is_cancelled() {
+                return f64::NAN;
+            }
+            let value = measure(k);
+            watch.advance(1);
+            value
+        })
+        .collect();
+    if watch.is_cancelled() {
+        return Err(cancelled(argument));
+    }
+    Ok(values)
+}
+
 /// The spherical Delaunay triangulation of `points` (`[lon, lat]` degrees).
 ///
 /// # Errors
@@ -215,7 +244,6 @@ pub fn sphere_delaunay(points: &[Point]) -> Result<SphereTriangulation> {
 /// # Errors
 /// As [`sphere_delaunay`].
 pub fn sphere_delaunay_watched(points: &[Point], watch: &Watch) -> Result<SphereTriangulation> {
-    use rayon::prelude::*;
     watch.plan(points.len() as u64);
     let s = Sphere::build_watched("points", points, watch)?;
     let faces = &s.hull.faces;
@@ -248,21 +276,8 @@ pub fn sphere_delaunay_watched(points: &[Point], watch: &Watch) -> Result<Sphere
     edges.sort_unstable();
     let earth = Earth::wgs84();
     watch.plan(triangles.len() as u64);
-    let area = triangles
-        .par_iter()
-        .map(|t| {
-            // A cancelled run's areas are never read.
-            if watch.is_cancelled() {
-                return f64::NAN;
-            }
-            let a = earth.ccw_ring_area(&t.map(|r| points[r]));
-            watch.advance(1);
-            a
-        })
-        .collect();
-    if watch.is_cancelled() {
-        return Err(cancelled("points"));
-    }
+    let area =
+        measured_watched(triangles.len(), watch, "points", |k| earth.ccw_ring_area(&triangles[k].map(|r| points[r])))?;
     Ok(SphereTriangulation {
         outward_faces: faces.len() - triangles.len(),
         triangles,
@@ -332,21 +347,10 @@ pub fn sphere_spanning_tree_watched(points: &[Point], watch: &Watch) -> Result<S
     // candidate number, so the tree is the same on every run.
     let earth = Earth::wgs84();
     watch.plan(candidates.len() as u64);
-    let lengths: Vec<f64> = candidates
-        .par_iter()
-        .map(|e| {
-            // A cancelled run's lengths are never read.
-            if watch.is_cancelled() {
-                return f64::NAN;
-            }
-            let l = earth.distance(points[e[0]], points[e[1]]);
-            watch.advance(1);
-            l
-        })
-        .collect();
-    if watch.is_cancelled() {
-        return Err(cancelled("points"));
-    }
+    let lengths = measured_watched(candidates.len(), watch, "points", |k| {
+        let [a, b] = candidates[k];
+        earth.distance(points[a], points[b])
+    })?;
     let mut keyed: Vec<(u64, usize)> = lengths.iter().enumerate().map(|(k, l)| (l.to_bits(), k)).collect();
     keyed.par_sort_unstable();
     let mut sets = UnionFind::new(points.len());
