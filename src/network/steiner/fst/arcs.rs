@@ -72,6 +72,7 @@ pub(super) fn equilateral(
     bottleneck: &Bottleneck,
     points: &[Point],
     mst_of: &mut BsdTrees,
+    nearest_bsd: &[f64],
     prune: bool,
     limit: f64,
     sampled: &mut u64,
@@ -132,6 +133,9 @@ pub(super) fn equilateral(
     const REFINE_ROUNDS: usize = 8;
     const REFINE_SHRINK: f64 = 0.9;
     let bsd_tree = mst_of.length(set_p, set_q, bottleneck);
+    let below_edges = descendant_edges(items, sets, [p, q], nearest_bsd, points.len());
+    // Where the walk below s puts each descendant (see `descendant_edges_hold`).
+    let mut placed: Vec<Point> = vec![[0.0; 2]; below_edges.len()];
     let (mut lo, mut hi) = (lo, hi);
     for _ in 0..REFINE_ROUNDS {
         let step = (hi - lo) / (SAMPLES - 1) as f64;
@@ -154,13 +158,25 @@ pub(super) fn equilateral(
         // |z − s| both below |s − t| would replace the longest edge of the cycle s–t–z (Gilbert
         // and Pollak 1968), so an empty lune is necessary. Moving s by `shift` changes |s − t|
         // and |z − s| by at most `shift` each.
+        //
+        // The same on the edge from s to a child's own Steiner point s', which Simpson's line
+        // puts where the ray from the child's location towards s leaves the child's circle.
+        // Both locations lie on the circle of s and the child's location on the child's
+        // circle, so as s turns by an angle δ about its centre the ray turns by δ/2 and s'
+        // turns by δ about the child's centre (inscribed angles): over half a spacing s' moves
+        // by at most r'·step/2. Every terminal counts (none is an end of that edge).
         let lune_is_empty = |s: Point| {
             [ip, iq].iter().all(|child| {
-                let Kind::Terminal(t) = child.kind else {
-                    return true;
+                let (end, end_shift, own) = match child.kind {
+                    Kind::Terminal(t) => (points[t], 0.0, Some(t)),
+                    Kind::Equilateral { centre: c, radius: r, .. } => {
+                        let Some(end) = super::super::simpson_hit(child.pos, s, c) else {
+                            return true;
+                        };
+                        (end, r * step / 2.0, None)
+                    }
                 };
-                let pt = points[t];
-                let l = length(sub(s, pt)) - 2.0 * shift - TOL;
+                let l = length(sub(s, end)) - 2.0 * (shift + end_shift) - TOL;
                 if l <= 0.0 {
                     return true;
                 }
@@ -169,7 +185,7 @@ pub(super) fn equilateral(
                 !points
                     .iter()
                     .enumerate()
-                    .any(|(z, &pz)| z != t && distance_squared(pz, s) < l2 && distance_squared(pz, pt) < l2)
+                    .any(|(z, &pz)| Some(z) != own && distance_squared(pz, s) < l2 && distance_squared(pz, end) < l2)
             })
         };
         // Wedge property (Winter and Zachariasen 1997): the rest of the tree hangs from s by the
@@ -244,6 +260,36 @@ pub(super) fn equilateral(
                 ray_length - shift - chord <= limit + TOL
             })
         };
+        // Bottleneck test on the edges inside the children's subtrees: each lies on the tree
+        // paths from the terminals below it to those of the other child, so in a Steiner
+        // minimum tree it is no longer than the smallest bottleneck distance between the two
+        // (`descendant_edges`). Those edges were tested when their subtrees were made, but only
+        // against terminals inside them. The subtree below s is fixed by s (Simpson's lines,
+        // as `close` builds it), and over half a spacing every Steiner point in it turns by
+        // the same angle about its own centre as s does (the argument of the lune test, one
+        // level at a time), so a Steiner point on a circle of radius r moves by at most
+        // r·step/2.
+        let mut descendant_edges_hold = |s: Point| {
+            for (k, edge) in below_edges.iter().enumerate() {
+                let from = edge.parent.map_or(s, |j| placed[j]);
+                let child = &items[edge.item as usize];
+                placed[k] = match child.kind {
+                    Kind::Terminal(t) => points[t],
+                    Kind::Equilateral { centre: c, .. } => match super::super::simpson_hit(child.pos, from, c) {
+                        Some(point) => point,
+                        // No Steiner point here; the walk cannot judge this sample.
+                        None => return true,
+                    },
+                };
+                if edge.parent.is_some() {
+                    let slack = below_edges[edge.parent.unwrap_or(k)].move_per_step + edge.move_per_step;
+                    if length(sub(placed[k], from)) - slack * step / 2.0 > edge.limit + TOL {
+                        return false;
+                    }
+                }
+            }
+            true
+        };
         // The samples, by rotating the first one step by step.
         let mut samples = [[0.0; 2]; SAMPLES];
         let ((mut sin_u, mut cos_u), (sin_step, cos_step)) = ((theta_q + lo).sin_cos(), step.sin_cos());
@@ -251,9 +297,13 @@ pub(super) fn equilateral(
             *sample = [centre[0] + radius * cos_u, centre[1] + radius * sin_u];
             (cos_u, sin_u) = (cos_u * cos_step - sin_u * sin_step, sin_u * cos_step + cos_u * sin_step);
         }
-        let passing = |k: usize| {
+        let mut passing = |k: usize| {
             let s = samples[k];
-            child_edges_hold(s) && upper_bound_holds(s) && lune_is_empty(s) && wedge_holds(s)
+            child_edges_hold(s)
+                && upper_bound_holds(s)
+                && lune_is_empty(s)
+                && wedge_holds(s)
+                && descendant_edges_hold(s)
         };
         let first = (0..SAMPLES).find(|&k| passing(k))?;
         let last = (first..SAMPLES).rev().find(|&k| passing(k)).unwrap_or(first);
@@ -269,6 +319,52 @@ pub(super) fn equilateral(
         }
     }
     Some(item(lo, hi))
+}
+
+/// One edge of the subtree below a new Steiner point s, from `item`'s own point (the item
+/// itself for a terminal) up to its parent's.
+struct DescendantEdge {
+    item: u32,
+    /// The index of the parent's edge in the walk; `None` for a child of s.
+    parent: Option<usize>,
+    /// The smallest bottleneck Steiner distance from a terminal below `item` to one below
+    /// the other child of s (unused for a child of s, tested elsewhere).
+    limit: f64,
+    /// How far `item`'s own point moves per radian that s turns: its circle's radius
+    /// (0 for a terminal).
+    move_per_step: f64,
+}
+
+/// The edges of the subtrees below the children `kids` of a new Steiner point, parents
+/// before children. `nearest_bsd[x·n + v]` is the smallest bottleneck distance from a
+/// terminal below item x to terminal v.
+fn descendant_edges(
+    items: &[Item],
+    sets: &TerminalSets,
+    kids: [u32; 2],
+    nearest_bsd: &[f64],
+    n: usize,
+) -> Vec<DescendantEdge> {
+    let mut edges = Vec::new();
+    for (side, &kid) in kids.iter().enumerate() {
+        let other = sets.get(kids[1 - side] as usize);
+        let start = edges.len();
+        edges.push(DescendantEdge { item: kid, parent: None, limit: f64::INFINITY, move_per_step: 0.0 });
+        let mut at = start;
+        while at < edges.len() {
+            let item = &items[edges[at].item as usize];
+            if let Kind::Equilateral { kids: below, radius, .. } = item.kind {
+                edges[at].move_per_step = radius;
+                for x in below {
+                    let nearest = &nearest_bsd[x as usize * n..(x as usize + 1) * n];
+                    let limit = members(other).map(|v| nearest[v]).fold(f64::INFINITY, f64::min);
+                    edges.push(DescendantEdge { item: x, parent: Some(at), limit, move_per_step: 0.0 });
+                }
+            }
+            at += 1;
+        }
+    }
+    edges
 }
 
 /// Euclidean length by a square root (the hot tests need no overflow guard: working-frame

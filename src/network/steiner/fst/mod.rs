@@ -15,11 +15,14 @@
 //!
 //! - the bottleneck Steiner distance test: an edge on the tree path between terminals
 //!   `u` and `v` is no longer than the longest edge on the MST path between them; applied
-//!   to the two edges at a new Steiner point it cuts the feasible arc down to an interval;
+//!   to the two edges at a new Steiner point it cuts the feasible arc down to an interval,
+//!   and every edge below a new Steiner point is tested again against the terminals of the
+//!   other side, which its own subtree did not have;
 //! - the upper bound test: an FST, or the subtree below a Steiner point plus a link to it,
 //!   is no longer than the MST of its terminals under the bottleneck Steiner distances;
 //! - the lune test: the lune of an edge (the points closer to both ends than they are to
-//!   each other) holds no terminal;
+//!   each other) holds no terminal; applied to the edges from a new Steiner point to its
+//!   children, terminals and Steiner points alike;
 //! - the wedge property: the rest of the tree hangs from a Steiner point inside a 120°
 //!   wedge, and each 60° half of it holds a terminal not yet used.
 //!
@@ -77,10 +80,10 @@ pub(crate) struct FullTree {
 /// generation first (it is polled before each item is paired with its partners).
 ///
 /// # Runtime
-/// Exponential in the worst case. On uniformly spread terminals the pruning keeps about
-/// 1,000 equilateral points for 30 terminals and 41,000–49,000 for two sets of 100 (0.02 s
-/// and 4–8 s), and 2–3 FSTs per terminal; the pairings examined grow with the square of the
-/// points kept. The pairings of each subtree size run in parallel on the rayon pool; the
+/// Exponential in the worst case. On uniformly spread terminals the pruning keeps
+/// 11,500–49,000 equilateral points for sets of 100 (0.6–6 s on two threads) and about
+/// 150,000 for a set of 250 (53 s), and 2–3 FSTs per terminal; the pairings examined grow
+/// with the square of the points kept. The pairings of each subtree size run in parallel on the rayon pool; the
 /// output is the same on any number of threads.
 pub(crate) fn full_steiner_trees(points: &[Point], bottleneck: &Bottleneck, clock: &Clock) -> Option<Vec<FullTree>> {
     generate(points, bottleneck, clock, true, &mut Vec::new())
@@ -289,9 +292,19 @@ fn generate(
                     {
                         continue;
                     }
-                    if let Some(item) =
-                        equilateral(&items, &sets, p, q, bottleneck, points, mst_of, prune, closest, &mut local[3])
-                    {
+                    if let Some(item) = equilateral(
+                        &items,
+                        &sets,
+                        p,
+                        q,
+                        bottleneck,
+                        points,
+                        mst_of,
+                        &nearest_bsd,
+                        prune,
+                        closest,
+                        &mut local[3],
+                    ) {
                         found.push(item);
                     }
                 }
