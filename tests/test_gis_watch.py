@@ -21,7 +21,7 @@ import pandas as pd  # noqa: E402
 import shapely  # noqa: E402
 
 import placewise as pw  # noqa: E402
-from interrupting import check_progress_reports  # noqa: E402
+from interrupting import check_counts, check_progress_reports  # noqa: E402
 from placewise import gis  # noqa: E402
 from placewise.cli import main  # noqa: E402
 from placewise.gis.travel import travel_costs, travel_graph  # noqa: E402
@@ -51,15 +51,6 @@ def _recorder() -> tuple[list[tuple[int, int]], object]:
     return calls, lambda done, total: calls.append((done, total))
 
 
-def _check_counts(calls: list[tuple[int, int]]) -> None:
-    """The counts of one run never fall, never pass the total, and end at the total."""
-    assert calls
-    done = [d for d, _ in calls]
-    assert done == sorted(done)
-    assert all(0 <= d <= t for d, t in calls)
-    assert calls[-1][0] == calls[-1][1] > 0
-
-
 # ------------------------------------------------------------------------- the gis layer
 
 
@@ -67,7 +58,7 @@ def test_gis_voronoi_cells_on_the_sphere_reports_progress_and_keeps_the_cells() 
     sites = _frame(SITES, "s")
     calls, progress = _recorder()
     out = gis.voronoi_cells(sites, progress=progress)
-    _check_counts(calls)
+    check_counts(calls)
     assert calls[-1][1] == 3 * len(SITES)  # sites inserted, rings, areas
     direct = pw.geodesic.voronoi_cells(SITES)
     assert (out["work_crs"] == pw.geodesic.SPHERE_MODEL).all()
@@ -85,8 +76,8 @@ def test_gis_voronoi_cells_with_demand_reports_the_cells_then_the_demand() -> No
     totals = [t for _, t in calls]
     first = totals.index(len(HOMES))
     assert set(totals[:first]) == {3 * len(SITES)} and set(totals[first:]) == {len(HOMES)}
-    _check_counts(calls[:first])
-    _check_counts(calls[first:])
+    check_counts(calls[:first])
+    check_counts(calls[first:])
     served = pw.geodesic.nearest_site(HOMES, SITES, homes["people"].to_numpy())
     np.testing.assert_array_equal(out["load"].to_numpy(), served.load)
     np.testing.assert_array_equal(out["points"].to_numpy(), served.count)
@@ -97,7 +88,7 @@ def test_gis_spanning_tree_on_the_sphere_reports_progress_and_keeps_the_tree() -
     frame = _frame(SITES, "p")
     calls, progress = _recorder()
     net = gis.spanning_tree(frame, progress=progress)
-    _check_counts(calls)
+    check_counts(calls)
     direct = pw.geodesic.spanning_tree(SITES)
     labels = frame.index.to_numpy()
     assert list(net.edges["end_a"]) == list(labels[direct.end_a])
@@ -129,7 +120,7 @@ def test_gis_travel_costs_report_progress_and_keep_the_costs() -> None:
     graph = travel_graph(streets, tolerance=1e-6, split_crossings=True)
     calls, progress = _recorder()
     table = travel_costs(graph, homes, homes, progress=progress)
-    _check_counts(calls)
+    check_counts(calls)
     assert calls[-1][1] == len(homes)  # one search per origin
     xy = np.column_stack([homes.geometry.x, homes.geometry.y])
     direct = graph.costs(xy, xy)
@@ -181,15 +172,21 @@ def _commands(path, out):  # noqa: ANN001, ANN202
     }
 
 
-@pytest.mark.parametrize("command", ["voronoi-cells", "spanning-tree", "nearest-site"])
-def test_the_cli_shows_the_bar_on_a_terminal_unless_turned_off(files, capsys, monkeypatch, command) -> None:
-    out = files / "out.csv"
-    argv, label = _commands(files, out)[command]
+def _check_bar(argv: list[str], label: str, capsys, monkeypatch) -> None:  # noqa: ANN001
+    """The command draws its bar (named ``label``) on stderr only when stderr is a terminal,
+    and not with ``--no-progress`` or ``--quiet``; every run succeeds."""
     assert main(argv) == 0 and label not in capsys.readouterr().err   # stderr not a terminal: no bar
     monkeypatch.setattr(sys.stderr, "isatty", lambda: True)
     assert main(argv) == 0 and label in capsys.readouterr().err
     for off in ("--no-progress", "--quiet"):
         assert main([*argv, off]) == 0 and label not in capsys.readouterr().err, off
+
+
+@pytest.mark.parametrize("command", ["voronoi-cells", "spanning-tree", "nearest-site"])
+def test_the_cli_shows_the_bar_on_a_terminal_unless_turned_off(files, capsys, monkeypatch, command) -> None:
+    out = files / "out.csv"
+    argv, label = _commands(files, out)[command]
+    _check_bar(argv, label, capsys, monkeypatch)
     # What was written is the direct call's answer, row for row (CSV line numbers name rows).
     got = pd.read_csv(out)
     if command == "voronoi-cells":
@@ -231,11 +228,7 @@ def test_the_cli_shows_the_travel_cost_bar_on_a_terminal(tmp_path, capsys, monke
     argv = ["travel-costs", str(tmp_path / "homes.csv"), "--crs", "EPSG:32630", "--network",
             str(tmp_path / "streets.geojson"), "-o", str(out)]
     label = "travel costs"
-    assert main(argv) == 0 and label not in capsys.readouterr().err
-    monkeypatch.setattr(sys.stderr, "isatty", lambda: True)
-    assert main(argv) == 0 and label in capsys.readouterr().err
-    for off in ("--no-progress", "--quiet"):
-        assert main([*argv, off]) == 0 and label not in capsys.readouterr().err, off
+    _check_bar(argv, label, capsys, monkeypatch)
     # The same costs as the graph's own search from the same points.
     xy = np.array([[10.0, 5.0], [400.0, -3.0], [0.0, 250.0]])
     direct = travel_graph(streets).costs(xy, xy)
@@ -254,9 +247,6 @@ def test_the_cli_shows_the_network_siting_bar_on_a_terminal(tmp_path, capsys, mo
     argv = ["network-siting", str(tmp_path / "homes.csv"), "--crs", "EPSG:32630", "--network",
             str(tmp_path / "streets.geojson"), "--candidates", str(tmp_path / "depots.csv"), "-p", "2",
             "-o", str(out)]
-    assert main(argv) == 0 and "p_median" not in capsys.readouterr().err
-    monkeypatch.setattr(sys.stderr, "isatty", lambda: True)
-    assert main(argv) == 0 and "p_median" in capsys.readouterr().err
-    assert main([*argv, "--no-progress"]) == 0 and "p_median" not in capsys.readouterr().err
+    _check_bar(argv, "p_median", capsys, monkeypatch)
     # The two end depots, each 25 m from both of its homes: closed form.
     assert sorted(pd.read_csv(out)["x"]) == [25.0, 575.0]
