@@ -46,6 +46,12 @@ def check_progress_reports(run) -> None:  # noqa: ANN001
     the counts done never fall, never pass the total, and the last report is the whole."""
     calls: list[tuple[int, int]] = []
     run(progress=lambda done, total: calls.append((done, total)))
+    check_counts(calls)
+
+
+def check_counts(calls: list[tuple[int, int]]) -> None:
+    """The ``(done, total)`` reports of one run: some were made, the counts done never fall,
+    never pass the total, and the last report is the whole."""
     assert calls, "progress was never reported"
     done = [d for d, _ in calls]
     assert done == sorted(done)

@@ -29,12 +29,25 @@ from ._io import (
 
 
 def _site_watch(args: argparse.Namespace, frame: Any, place: dict[str, Any]) -> dict[str, Any]:
-    """The progress bar (see ``_progress``) for a single-site run solved on the ellipsoid; a
-    planar run is exact and quick and refuses one."""
+    """The progress bar (see ``_progress``) for a single-site or nearest-site run solved on
+    the ellipsoid (``frame``: the points, or the sites); a planar run is exact and quick and
+    refuses one."""
     from ..gis.sites import watched_on_earth
 
     on_earth = watched_on_earth(frame, work_crs=args.work_crs, region=place.get("region")) and not args.planar
     return _progress(args) if on_earth else {}
+
+
+def _sphere_watch(args: argparse.Namespace, frame: Any, name: str) -> dict[str, Any]:
+    """The progress bar (see ``_progress``) for a run that falls back to the spherical kernels
+    (geographic points no working frame holds); a planar run reports no progress and refuses
+    one. Only asked (by preparing the points) when a bar would be shown."""
+    from ..gis._frames import goes_to_sphere
+
+    watch = _progress(args)
+    if watch and goes_to_sphere(frame, name, by=getattr(args, "by", None), **_common(args)):
+        return watch
+    return {}
 
 
 def _cmd_weber_point(args: argparse.Namespace) -> None:
@@ -90,7 +103,8 @@ def _cmd_voronoi_cells(args: argparse.Namespace) -> None:
     sites = read_points(args.input, args, "the sites", ())
     region = None if args.region is None else read_points(args.region, args, "the region", (), main=False)
     demand = None if args.demand is None else read_points(args.demand, args, "the demand", ("weight",), main=False)
-    out = gis.voronoi_cells(sites, region, demand=demand, weight=args.weight, **_common(args))
+    out = gis.voronoi_cells(sites, region, demand=demand, weight=args.weight, **_common(args),
+                            **_sphere_watch(args, sites, "sites"))
     write_frame(out, args.output, args, "cells")
     area, unit = _measure(out, "area")
     _note(args, f"{len(out)} cell(s); total area {out[area].sum():.6g} {_unit_text(unit[:-1])} squared")
@@ -118,7 +132,7 @@ def _cmd_nearest_site(args: argparse.Namespace) -> None:
 
     demand = read_points(args.input, args, "the demand")
     sites = read_points(args.sites, args, "the sites", (), main=False)
-    plan = gis.nearest_site(demand, sites, args.weight, **_common(args))
+    plan = gis.nearest_site(demand, sites, args.weight, **_common(args), **_site_watch(args, sites, {}))
     write_frame(plan.demand, args.output, args, "assignment")
     if args.site_loads is not None:
         write_frame(plan.sites, args.site_loads, args, "site_loads")
@@ -146,7 +160,8 @@ def _network_note(args: argparse.Namespace, net: Any) -> None:
 def _cmd_spanning_tree(args: argparse.Namespace) -> None:
     from .. import gis
 
-    net = gis.spanning_tree(read_points(args.input, args), **_by(args), **_common(args))
+    frame = read_points(args.input, args)
+    net = gis.spanning_tree(frame, **_by(args), **_common(args), **_sphere_watch(args, frame, "frame"))
     write_frame(net.edges, args.output, args, "edges")
     _write_summary(net.summary, args)
     _network_note(args, net)
@@ -219,15 +234,16 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
     command("delaunay", _cmd_delaunay, "the Delaunay triangulation of the points (triangles named by their "
             "corners' rows or --id values)", [by])
     p = command("voronoi-cells", _cmd_voronoi_cells, "catchments: each site's Voronoi cell clipped to a region",
-                [weight])
+                [weight, watch])
     p.add_argument("--region", metavar="FILE", help="polygons of the study region (default: sites' box + 10%%)")
     p.add_argument("--demand", metavar="FILE", help="demand points; adds each cell's load and number of demand points")
-    p = command("nearest-site", _cmd_nearest_site, "assign every point to its nearest site", [weight, summary])
+    p = command("nearest-site", _cmd_nearest_site, "assign every point to its nearest site",
+                [weight, summary, watch])
     p.add_argument("--sites", metavar="FILE", required=True, help="the sites to assign to")
     p.add_argument("--site-loads", metavar="FILE",
                    help="also write the sites with their load and number of demand points")
     command("spanning-tree", _cmd_spanning_tree, "the Euclidean minimum spanning tree linking the points",
-            [by, summary])
+            [by, summary, watch])
     p = command("steiner-tree", _cmd_steiner_tree,
                 "the shortest network linking the points, with added junctions (Steiner tree)",
                 [by, seed, summary, watch])

@@ -18,7 +18,7 @@ from typing import Any
 
 import numpy as np
 
-from ._io import UserError, _note, _positive_float, _positive_int, read_points, write_frame
+from ._io import UserError, _note, _positive_float, _positive_int, _progress, read_points, write_frame
 
 
 def _network(args: argparse.Namespace) -> Any:
@@ -58,7 +58,8 @@ def _cmd_travel_costs(args: argparse.Namespace) -> None:
     origins = read_points(args.input, args, "the origins", ())
     destinations = (origins if args.destinations is None
                     else read_points(args.destinations, args, "the destinations", (), main=False))
-    out = travel_costs(graph, origins, destinations, limit=args.limit, k=args.k, max_gap=args.max_gap)
+    out = travel_costs(graph, origins, destinations, limit=args.limit, k=args.k, max_gap=args.max_gap,
+                       **_progress(args))
     write_frame(out, args.output, args, "travel_costs")
     _note(args, f"{len(out)} pair(s) of {len(origins)} origin(s) x {len(destinations)} destination(s) kept")
 
@@ -82,7 +83,7 @@ def _cmd_network_siting(args: argparse.Namespace) -> None:
         model, options = "cover_all", {"radius": args.within}
     labels = {"points": p_labels, "weights": p_labels}
     plan = _restated(lambda: graph.choose_sites(model, p, c, weights, limit=args.limit, max_gap=args.max_gap,
-                                                **options), labels)
+                                                **options, **_progress(args)), labels)
     opened = np.asarray(plan.open)
     out = candidates.iloc[opened].copy()
     # The plan's own per-site tallies; ``assignment`` is a row of the open sites (-1: none).
@@ -123,12 +124,13 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
                 "every point's cheapest site by travel along a street network", [parents.weight, network])
     p.add_argument("--sites", metavar="FILE", required=True, help="the sites travel starts from")
     p = command("travel-costs", _cmd_travel_costs,
-                "travel costs along a street network from every input point to the destinations", [network])
+                "travel costs along a street network from every input point to the destinations",
+                [network, parents.watch])
     p.add_argument("--destinations", metavar="FILE", help="where travel ends [the input points]")
     p.add_argument("--k", type=_positive_int, metavar="K", help="keep only each origin's k cheapest destinations")
     p = command("network-siting", _cmd_network_siting,
                 "choose sites among candidates by travel cost along a street network (p-median, or covering "
-                "every point within a cost)", [parents.weight, network])
+                "every point within a cost)", [parents.weight, network, parents.watch])
     p.add_argument("--candidates", metavar="FILE", required=True, help="candidate sites")
     p.add_argument("--model", choices=["p-median", "cover"], default="p-median",
                    help="p-median: p sites minimising total weighted travel cost; cover: fewest sites reaching "

@@ -461,6 +461,44 @@ def prepare_or_sphere(obj: Any, name: str, *, planar: bool, centroids: bool, wor
         return prepare(obj, name, planar=planar, centroids=centroids, work=ELLIPSOID)
 
 
+def goes_to_sphere(obj: Any, name: str, *, planar: bool, centroids: bool, work_crs: Any,
+                   max_scale_error: float, by: str | None = None) -> bool:
+    """True when :func:`prepare_or_sphere` hands ``obj`` to the spherical kernels, the ones
+    that report progress. Geographic input without ``by`` and ``work_crs`` is prepared to
+    find out (whether a working frame holds it); the rest is answered from the arguments."""
+    crs = getattr(obj, "crs", None)
+    if planar or by is not None or work_crs is not None or crs is None or not CRS(crs).is_geographic:
+        return False
+    return prepare_or_sphere(obj, name, planar=planar, centroids=centroids, work_crs=work_crs,
+                             max_scale_error=max_scale_error).ellipsoid
+
+
+# Where ``progress`` applies for the functions that fall back to the spherical kernels, and
+# why their planar runs refuse it (arguments of :func:`on_earth_only`).
+SPHERE_ONLY = ("on the sphere only (geographic input no working frame holds within max_scale_error, without by "
+               "or work_crs)", "the planar kernel reports no progress")
+
+
+def on_earth_only(kernel: Callable[..., Any],
+                  where: str = "on the ellipsoid only (geographic input without work_crs or region)",
+                  why: str = "the planar kernel is exact and ends in well under a second") -> Callable[..., Any]:
+    """``kernel`` (a planar one) refusing ``time_limit`` and ``progress``, which only its
+    geodesic or spherical counterpart takes (``where`` says which runs go there, ``why`` why
+    the planar one takes neither). Taking them silently would let a caller believe the run
+    was watched; they are an ``InputError`` naming the argument instead."""
+
+    def planar(*args: Any, time_limit: Any = None, progress: Any = False, **options: Any) -> Any:
+        for name, value, unset in (("time_limit", time_limit, None), ("progress", progress, False)):
+            if value is not unset and value is not None:
+                error = InputError(f"{name}= applies {where}; {why}, so it takes no "
+                                   f"{name.replace('_', ' ')}: drop {name}=")
+                error.argument = name
+                raise error
+        return kernel(*args, **options)
+
+    return planar
+
+
 def _on_ellipsoid(frame: Any, name: str, centroids: bool, groups: Groups | None) -> Prepared:
     """The frame's points as WGS84 longitude/latitude for the geodesic kernels (checked for
     range and swapped columns; another CRS is transformed to WGS84 first)."""

@@ -20,7 +20,17 @@ import placewise as _pw
 
 from .._core import InputError
 from .._sphere import SPHERE_MODEL
-from ._frames import MAX_SCALE_ERROR, Prepared, call, framed, groups_of, prepare, prepare_or_sphere
+from ._frames import (
+    MAX_SCALE_ERROR,
+    SPHERE_ONLY,
+    Prepared,
+    call,
+    framed,
+    groups_of,
+    on_earth_only,
+    prepare,
+    prepare_or_sphere,
+)
 from ._together import region_geometry, region_lonlat
 from .plans import nearest_site
 
@@ -51,9 +61,9 @@ def _ellipsoid_area(geom: Any) -> float:
     return total
 
 
-def _sphere_cells(pf: Prepared, region: Any) -> Any:
+def _sphere_cells(pf: Prepared, region: Any, progress: Any) -> Any:
     """Spherical Voronoi cells of the sites, clipped to the region (lon/lat)."""
-    cells = _pw.geodesic.voronoi_cells(pf.xy)
+    cells = _pw.geodesic.voronoi_cells(pf.xy, progress=progress)
     geoms = cells._geometry()
     if region is None:
         area = cells.area
@@ -73,7 +83,7 @@ def _sphere_cells(pf: Prepared, region: Any) -> Any:
 def voronoi_cells(
     sites: Any, region: Any = None, *, by: str | None = None, demand: Any = None, weight: Any = None,
     planar: bool = False, centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
-    errors: Literal["raise", "skip"] = "raise",
+    errors: Literal["raise", "skip"] = "raise", progress: Any = False,
 ) -> Any:
     """Each site's catchment: its Voronoi cell clipped to the study region.
 
@@ -92,6 +102,11 @@ def voronoi_cells(
         nearest to its site (within its group with ``by``).
     weight : str or array_like, optional
         Demand weight column (or values); default 1 per demand row.
+    progress : bool or callable
+        On the sphere (see below): a progress bar on stderr (True) or a callable ``(done,
+        total)``, for the cells and then, with ``demand``, for the demand rows served (each
+        count rising to its own total); Ctrl-C stops the run either way. On a planar run an
+        ``InputError`` naming it: the planar kernel reports no progress.
 
     Geographic sites that no working frame holds within ``max_scale_error`` (global, polar,
     wide across the antimeridian; without ``by`` and ``work_crs``) get spherical Voronoi
@@ -121,9 +136,9 @@ def voronoi_cells(
     model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
     pf = prepare_or_sphere(sites, "sites", planar=planar, centroids=centroids, by=by, **model)
     if pf.ellipsoid:
-        out = _sphere_cells(pf, region)
+        out = _sphere_cells(pf, region, progress)
         if demand is not None:
-            served = nearest_site(demand, sites, weight, centroids=centroids, errors=errors)
+            served = nearest_site(demand, sites, weight, centroids=centroids, errors=errors, progress=progress)
             out["load"] = served.sites["load"].to_numpy()
             out["points"] = served.sites["points"].to_numpy()
         return out
@@ -131,7 +146,8 @@ def voronoi_cells(
     groups = groups_of(pf.frame, by, "sites")
     rows = {"sites": pf.rows}
     grouped = {} if groups is None else {"errors": errors}
-    result = call(_pw.voronoi_cells, pf.xy, geom, groups=groups, rows=rows, **grouped)
+    result = call(on_earth_only(_pw.voronoi_cells, *SPHERE_ONLY), pf.xy, geom, groups=groups, rows=rows,
+                  progress=progress, **grouped)
     # The kernel's rows are the sites in input order: one row per site, with its own columns.
     cells = framed(result, pf, groups, rows)
     out = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=cells.geometry.values,

@@ -7,7 +7,17 @@ from typing import Any, Literal, NamedTuple
 import placewise as _pw
 
 from .._sphere import SPHERE_MODEL
-from ._frames import MAX_SCALE_ERROR, call, framed, in_user_terms, prepare, prepare_or_sphere, with_unit
+from ._frames import (
+    MAX_SCALE_ERROR,
+    SPHERE_ONLY,
+    call,
+    framed,
+    in_user_terms,
+    on_earth_only,
+    prepare,
+    prepare_or_sphere,
+    with_unit,
+)
 
 __all__ = ["Network", "spanning_tree", "steiner_tree"]
 
@@ -36,8 +46,7 @@ def _network(kernel: Any, frame: Any, by: str | None, planar: bool, centroids: b
              options: dict[str, Any], model: dict[str, Any], sphere: Any = None) -> Network:
     if sphere is not None:
         pf = prepare_or_sphere(frame, "frame", planar=planar, centroids=centroids, by=by, **model)
-        if pf.ellipsoid:
-            kernel = sphere
+        kernel = sphere if pf.ellipsoid else on_earth_only(kernel, *SPHERE_ONLY)
     else:
         pf = prepare(frame, "frame", planar=planar, centroids=centroids, by=by, **model)
     groups = pf.groups
@@ -58,7 +67,7 @@ def _network(kernel: Any, frame: Any, by: str | None, planar: bool, centroids: b
 def spanning_tree(
     frame: Any, by: str | None = None, *, planar: bool = False, centroids: bool = False, work_crs: Any = None,
     max_scale_error: float = MAX_SCALE_ERROR,
-    errors: Literal["raise", "skip"] = "raise",
+    errors: Literal["raise", "skip"] = "raise", progress: Any = False,
 ) -> Network:
     """The Euclidean minimum spanning tree linking a frame's points (one per group with ``by``).
 
@@ -67,6 +76,13 @@ def spanning_tree(
     great-circle minimum spanning tree on the sphere (:func:`placewise.geodesic.spanning_tree`)
     instead of a refusal: WGS84 geodesic ``length_m``, edges drawn along great circles and
     split at the antimeridian, ``work_crs`` stating the model.
+
+    Parameters
+    ----------
+    progress : bool or callable
+        On the sphere: a progress bar on stderr (True) or a callable ``(done, total)``;
+        Ctrl-C stops the run either way. On a planar run an ``InputError`` naming it: the
+        planar kernel reports no progress.
 
     Returns
     -------
@@ -82,7 +98,7 @@ def spanning_tree(
     >>> float(gis.spanning_tree(pts, planar=True).summary["length_u"].iloc[0])   # three sides
     3.0
     """
-    return _network(_pw.spanning_tree, frame, by, planar, centroids, errors, {},
+    return _network(_pw.spanning_tree, frame, by, planar, centroids, errors, {"progress": progress},
                     {"work_crs": work_crs, "max_scale_error": max_scale_error}, sphere=_pw.geodesic.spanning_tree)
 
 

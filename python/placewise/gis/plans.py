@@ -19,6 +19,7 @@ from ._frames import (
     call,
     groups_of,
     in_user_terms,
+    on_earth_only,
     prepare,
     shared_groups,
     weights,
@@ -77,7 +78,7 @@ def _summary(result: Any, pf: Prepared, groups: Any, rows: Any) -> Any:
 def nearest_site(
     demand: Any, sites: Any, weight: Any = None, *, by: str | None = None,
     planar: bool = False, centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
-    errors: Literal["raise", "skip"] = "raise",
+    errors: Literal["raise", "skip"] = "raise", progress: Any = False,
 ) -> SitePlan:
     """Assign every demand row to its nearest site (straight-line distance in the working CRS;
     geodesic distance on the WGS84 ellipsoid for geographic sites without ``work_crs``).
@@ -89,6 +90,11 @@ def nearest_site(
         Demand weight column (or values); default 1 per row.
     by : str, optional
         A column of both frames: each demand group is served only by the sites of its group.
+    progress : bool or callable
+        On the ellipsoid: a progress bar on stderr (True) or a callable ``(done, total)``
+        counting demand rows; Ctrl-C stops the run within a fraction of a second either way.
+        On a planar run (a projected CRS, ``work_crs`` or ``planar``), which is exact and
+        ends in well under a second, an ``InputError`` naming it.
 
     Returns
     -------
@@ -116,19 +122,20 @@ def nearest_site(
     sf = prepare(sites, "sites", planar=planar, centroids=centroids, ellipsoid=True, **model)
     df = prepare(demand, "demand", planar=planar, centroids=centroids, work=ELLIPSOID if sf.ellipsoid else sf.work,
                  **model)
-    kernel = _geodesic.nearest_site if sf.ellipsoid else _pw.nearest_site
+    kernel = _geodesic.nearest_site if sf.ellipsoid else on_earth_only(
+        _pw.nearest_site, "on the ellipsoid only (geographic sites without work_crs)")
     rows = {"points": df.rows, "weights": df.rows, "sites": sf.rows}
     w = weights(df, weight, "demand")
     groups = None
     if by is None:
-        result = call(kernel, df.xy, sf.xy, w, rows=rows)
+        result = call(kernel, df.xy, sf.xy, w, rows=rows, progress=progress)
     else:
         # Both frames coded on the union of their group values: a demand group without
         # sites is a problem (raise or skip); the sites of a value without demand serve
         # nobody and keep their row (load 0, count 0), with a summary row of their own.
         groups, site_codes = shared_groups(df.frame, sf.frame, by, ("demand", "sites"))
         result = call(kernel, df.xy, sf.xy, w, groups=groups, rows=rows,
-                      site_groups=site_codes, errors=errors)
+                      site_groups=site_codes, errors=errors, progress=progress)
     site_table = with_unit(result, sf).sites_frame()
     out_sites = sf.frame.copy()
     out_sites["load"] = site_table["load"].to_numpy()

@@ -9,7 +9,7 @@ import placewise as _pw
 from placewise import geodesic as _geodesic
 
 from .._core import DegenerateInputError, InputError
-from ._frames import MAX_SCALE_ERROR, call, framed, prepare, weights
+from ._frames import MAX_SCALE_ERROR, call, framed, on_earth_only, prepare, weights
 from ._together import prepare_together, region_geometry
 
 __all__ = ["enclosing_circle", "enclosing_ellipse", "minimax_point", "weber_point"]
@@ -58,30 +58,11 @@ def _geodesic_circle(points: Any, *, seed: Any = None, **options: Any) -> Any:
     return _geodesic.enclosing_circle(points, **options)
 
 
-def _on_earth_only(kernel: Any) -> Any:
-    """``kernel`` (a planar one) refusing ``time_limit`` and ``progress``: it ends exactly in
-    well under a second at a million points, so there is no best-so-far to return at a
-    deadline and no progress worth a bar. Taking them silently would let a caller believe
-    the run was watched; they are an ``InputError`` naming the argument instead."""
-
-    def planar(*args: Any, time_limit: Any = None, progress: Any = False, **options: Any) -> Any:
-        for name, value, unset in (("time_limit", time_limit, None), ("progress", progress, False)):
-            if value is not unset and value is not None:
-                error = InputError(
-                    f"{name}= applies on the ellipsoid only (geographic input without work_crs or region); "
-                    "the planar kernel is exact and ends in well under a second, so it takes no "
-                    f"{name.replace('_', ' ')}: drop {name}=")
-                error.argument = name
-                raise error
-        return kernel(*args, **options)
-
-    return planar
-
-
 def watched_on_earth(frame: Any, *, work_crs: Any = None, region: Any = None) -> bool:
     """True when :func:`minimax_point`, :func:`enclosing_circle` or :func:`weber_point` would
     solve ``frame`` on the ellipsoid (a geographic CRS, no ``work_crs``, no ``region``): the
-    runs that take ``time_limit`` and ``progress`` (the command line shows its bar for those)."""
+    runs that take ``time_limit`` and ``progress`` (the command line shows its bar for those).
+    The same holds for the sites of :func:`placewise.gis.nearest_site` (no ``region``)."""
     from pyproj import CRS
 
     crs = getattr(frame, "crs", None)
@@ -171,7 +152,7 @@ def weber_point(
     >>> float(kept["y"].iloc[0]), bool(kept["region_active"].iloc[0])
     (5.0, True)
     """
-    return _one_per_group(_on_earth_only(_pw.weber_point), frame, weight, by, planar, centroids, errors, options,
+    return _one_per_group(on_earth_only(_pw.weber_point), frame, weight, by, planar, centroids, errors, options,
                           weighted=True,
                           model={"work_crs": work_crs, "max_scale_error": max_scale_error},
                           on_earth=_geodesic_weber, region=region)
@@ -219,7 +200,7 @@ def minimax_point(
     >>> float(kept["x"].iloc[0]), bool(kept["region_active"].iloc[0])
     (3.0, True)
     """
-    return _one_per_group(_on_earth_only(_pw.minimax_point), frame, weight, by, planar, centroids, errors,
+    return _one_per_group(on_earth_only(_pw.minimax_point), frame, weight, by, planar, centroids, errors,
                           _watch(time_limit, progress), weighted=True,
                           model={"work_crs": work_crs, "max_scale_error": max_scale_error},
                           on_earth=_geodesic.minimax_point, region=region)
@@ -257,7 +238,7 @@ def enclosing_circle(
     >>> float(gis.enclosing_circle(pts, planar=True)["radius_u"].iloc[0])
     1.666666666666...
     """
-    return _one_per_group(_on_earth_only(_pw.enclosing_circle), frame, None, by, planar, centroids, errors,
+    return _one_per_group(on_earth_only(_pw.enclosing_circle), frame, None, by, planar, centroids, errors,
                           {**options, **_watch(time_limit, progress)}, weighted=False,
                           model={"work_crs": work_crs, "max_scale_error": max_scale_error},
                           on_earth=_geodesic_circle)

@@ -69,10 +69,17 @@ def _restated(call: Any, labels: dict[str, np.ndarray]) -> Any:
 
 
 def travel_costs(graph: TravelGraph, origins: Any, destinations: Any, *, limit: float | None = None,
-                 k: int | None = None, max_gap: float | None = None) -> Any:
+                 k: int | None = None, max_gap: float | None = None, progress: Any = False) -> Any:
     """Travel costs as a long table: one row per pair kept (``origin``, ``destination`` as
     the frames' row labels, ``cost_<unit>``); unreachable pairs (and pairs beyond ``limit``
     or outside the ``k`` nearest) have no row.
+
+    Parameters
+    ----------
+    progress : bool or callable
+        A progress bar on stderr (True) or a callable ``(done, total)`` counting origins
+        searched (see :meth:`placewise.TravelGraph.costs`); Ctrl-C stops the searches either
+        way.
 
     Examples
     --------
@@ -91,7 +98,7 @@ def travel_costs(graph: TravelGraph, origins: Any, destinations: Any, *, limit: 
     o, o_labels = _points(graph, origins, "origins")
     d, d_labels = _points(graph, destinations, "destinations")
     labels = {"origins": o_labels, "destinations": d_labels}
-    matrix = _restated(lambda: graph.costs(o, d, limit=limit, k=k, max_gap=max_gap), labels)
+    matrix = _restated(lambda: graph.costs(o, d, limit=limit, k=k, max_gap=max_gap, progress=progress), labels)
     if isinstance(matrix, np.ndarray):
         rows, cols = np.nonzero(~np.isnan(matrix))
         values = matrix[rows, cols]

@@ -1,0 +1,252 @@
+"""Progress through the GeoDataFrame layer and the command line: the spherical Voronoi cells,
+the spanning tree on the sphere, the geodesic nearest-site search and the travel-cost
+searches take ``progress=`` from :mod:`placewise.gis` and show their bar from the command
+line on a terminal.
+
+Each check of a report also checks that watching changed nothing: the frame returned holds
+the same cells, edges, sites and costs as the direct call of the kernel on the same points
+(:mod:`placewise.geodesic`, :class:`placewise.TravelGraph`), which their own tests compare
+with outside references.
+"""
+
+from __future__ import annotations
+
+import sys
+
+import numpy as np
+import pytest
+
+gpd = pytest.importorskip("geopandas")
+import pandas as pd  # noqa: E402
+import shapely  # noqa: E402
+
+import placewise as pw  # noqa: E402
+from interrupting import check_counts, check_progress_reports  # noqa: E402
+from placewise import gis  # noqa: E402
+from placewise.cli import main  # noqa: E402
+from placewise.gis.travel import travel_costs, travel_graph  # noqa: E402
+
+RNG = np.random.default_rng(17)
+
+
+def _globe(n: int) -> np.ndarray:
+    """``n`` lon/lat points spread over the whole globe (uniform on the sphere), far wider
+    than any working frame holds: the layer hands them to the spherical kernels."""
+    return np.column_stack([RNG.uniform(-180, 180, n), np.degrees(np.arcsin(RNG.uniform(-1, 1, n)))])
+
+
+SITES = _globe(300)
+HOMES = _globe(2000)
+LOCAL = np.column_stack([10.75 + 0.05 * RNG.normal(size=200), 59.9 + 0.03 * RNG.normal(size=200)])
+
+
+def _frame(lonlat: np.ndarray, prefix: str, **columns) -> gpd.GeoDataFrame:  # noqa: ANN003
+    """Lon/lat points in EPSG:4326, indexed by labels that are not row positions."""
+    return gpd.GeoDataFrame(columns, geometry=gpd.points_from_xy(lonlat[:, 0], lonlat[:, 1]), crs="EPSG:4326",
+                            index=[f"{prefix}{i}" for i in range(len(lonlat))])
+
+
+def _recorder() -> tuple[list[tuple[int, int]], object]:
+    calls: list[tuple[int, int]] = []
+    return calls, lambda done, total: calls.append((done, total))
+
+
+# ------------------------------------------------------------------------- the gis layer
+
+
+def test_gis_voronoi_cells_on_the_sphere_reports_progress_and_keeps_the_cells() -> None:
+    sites = _frame(SITES, "s")
+    calls, progress = _recorder()
+    out = gis.voronoi_cells(sites, progress=progress)
+    check_counts(calls)
+    assert calls[-1][1] == 3 * len(SITES)  # sites inserted, rings, areas
+    direct = pw.geodesic.voronoi_cells(SITES)
+    assert (out["work_crs"] == pw.geodesic.SPHERE_MODEL).all()
+    np.testing.assert_array_equal(out["area_m2"].to_numpy(), direct.area)
+    assert shapely.equals(out.geometry.values, direct._geometry()).all()
+    assert list(out.index) == list(sites.index)
+
+
+def test_gis_voronoi_cells_with_demand_reports_the_cells_then_the_demand() -> None:
+    # Two runs, each counted to its own total: the cells (3 steps per site), then the
+    # demand rows served on the ellipsoid. The loads are the direct search's.
+    sites, homes = _frame(SITES, "s"), _frame(HOMES, "h", people=RNG.uniform(1, 3, len(HOMES)))
+    calls, progress = _recorder()
+    out = gis.voronoi_cells(sites, demand=homes, weight="people", progress=progress)
+    totals = [t for _, t in calls]
+    first = totals.index(len(HOMES))
+    assert set(totals[:first]) == {3 * len(SITES)} and set(totals[first:]) == {len(HOMES)}
+    check_counts(calls[:first])
+    check_counts(calls[first:])
+    served = pw.geodesic.nearest_site(HOMES, SITES, homes["people"].to_numpy())
+    np.testing.assert_array_equal(out["load"].to_numpy(), served.load)
+    np.testing.assert_array_equal(out["points"].to_numpy(), served.count)
+    np.testing.assert_array_equal(out["area_m2"].to_numpy(), pw.geodesic.voronoi_cells(SITES).area)
+
+
+def test_gis_spanning_tree_on_the_sphere_reports_progress_and_keeps_the_tree() -> None:
+    frame = _frame(SITES, "p")
+    calls, progress = _recorder()
+    net = gis.spanning_tree(frame, progress=progress)
+    check_counts(calls)
+    direct = pw.geodesic.spanning_tree(SITES)
+    labels = frame.index.to_numpy()
+    assert list(net.edges["end_a"]) == list(labels[direct.end_a])
+    assert list(net.edges["end_b"]) == list(labels[direct.end_b])
+    np.testing.assert_array_equal(net.edges["length_m"].to_numpy(), direct.edge_length)
+    assert float(net.summary["length_m"].iloc[0]) == direct.length
+
+
+@pytest.mark.parametrize("grouped", [False, True])
+def test_gis_nearest_site_on_the_ellipsoid_reports_progress_and_keeps_the_sites(grouped: bool) -> None:
+    zone, site_zone = RNG.integers(0, 3, len(HOMES)), np.arange(len(SITES)) % 3
+    people = RNG.uniform(1, 3, len(HOMES))
+    homes, sites = _frame(HOMES, "h", people=people, zone=zone), _frame(SITES, "s", zone=site_zone)
+    by = {"by": "zone"} if grouped else {}
+    check_progress_reports(lambda **kw: gis.nearest_site(homes, sites, "people", **by, **kw))
+    plan = gis.nearest_site(homes, sites, "people", **by, progress=lambda done, total: None)
+    groups = {"groups": zone, "site_groups": site_zone} if grouped else {}
+    direct = pw.geodesic.nearest_site(HOMES, SITES, people, **groups)
+    assert list(plan.demand["site"]) == list(sites.index.to_numpy()[direct.assignment])
+    np.testing.assert_array_equal(plan.demand["distance_m"].to_numpy(), direct.distance)
+    np.testing.assert_array_equal(plan.sites["load"].to_numpy(), direct.load)
+
+
+def test_gis_travel_costs_report_progress_and_keep_the_costs() -> None:
+    streets = gpd.GeoDataFrame(geometry=[shapely.LineString([(0, y), (500, y)]) for y in (0, 100, 200)]
+                               + [shapely.LineString([(x, 0), (x, 200)]) for x in (0, 250, 500)], crs="EPSG:32630")
+    homes = gpd.GeoDataFrame(geometry=gpd.points_from_xy(RNG.uniform(0, 500, 40), RNG.uniform(0, 200, 40)),
+                             crs="EPSG:32630", index=[f"h{i}" for i in range(40)])
+    graph = travel_graph(streets, tolerance=1e-6, split_crossings=True)
+    calls, progress = _recorder()
+    table = travel_costs(graph, homes, homes, progress=progress)
+    check_counts(calls)
+    assert calls[-1][1] == len(homes)  # one search per origin
+    xy = np.column_stack([homes.geometry.x, homes.geometry.y])
+    direct = graph.costs(xy, xy)
+    labels = {label: i for i, label in enumerate(homes.index)}
+    got = np.full(direct.shape, np.nan)
+    got[table["origin"].map(labels), table["destination"].map(labels)] = table["cost_m"].to_numpy()
+    np.testing.assert_array_equal(got, direct)
+
+
+@pytest.mark.parametrize("run", [
+    lambda **kw: gis.voronoi_cells(_frame(LOCAL, "s"), **kw),                 # a working frame holds them
+    lambda **kw: gis.voronoi_cells(_frame(SITES, "s"), planar=False, work_crs="EPSG:8857", **kw),
+    lambda **kw: gis.spanning_tree(_frame(LOCAL, "p"), **kw).summary,
+    lambda **kw: gis.spanning_tree(_frame(LOCAL, "p", zone=np.arange(len(LOCAL)) % 2), by="zone", **kw).summary,
+    lambda **kw: gis.nearest_site(_frame(LOCAL, "h"), _frame(LOCAL[:5], "s"), work_crs="EPSG:32632", **kw).summary,
+], ids=["voronoi local", "voronoi work_crs", "spanning local", "spanning by", "nearest work_crs"])
+def test_planar_runs_refuse_progress_and_answer_without_it(run) -> None:  # noqa: ANN001
+    # Planar kernels report nothing: a progress= there would be silently ignored, so it is
+    # refused, naming the argument; without it the same call answers.
+    for value in (True, print):
+        with pytest.raises(pw.InputError) as caught:
+            run(progress=value)
+        assert caught.value.argument == "progress"
+    assert _planar(run(progress=False))
+
+
+def _planar(table) -> bool:  # noqa: ANN001
+    """The table was solved in the plane: no ``work_crs`` column naming the sphere."""
+    return len(table) > 0 and ("work_crs" not in table or pw.geodesic.SPHERE_MODEL not in set(table["work_crs"]))
+
+
+# ------------------------------------------------------------------------- the command line
+
+
+@pytest.fixture()
+def files(tmp_path):
+    pd.DataFrame({"lon": SITES[:, 0], "lat": SITES[:, 1]}).to_csv(tmp_path / "sites.csv", index=False)
+    pd.DataFrame({"lon": HOMES[:, 0], "lat": HOMES[:, 1]}).to_csv(tmp_path / "homes.csv", index=False)
+    pd.DataFrame({"lon": LOCAL[:, 0], "lat": LOCAL[:, 1]}).to_csv(tmp_path / "local.csv", index=False)
+    return tmp_path
+
+
+def _commands(path, out):  # noqa: ANN001, ANN202
+    return {
+        "voronoi-cells": (["voronoi-cells", str(path / "sites.csv"), "-o", str(out)], "geodesic voronoi_cells"),
+        "spanning-tree": (["spanning-tree", str(path / "sites.csv"), "-o", str(out)], "geodesic spanning_tree"),
+        "nearest-site": (["nearest-site", str(path / "homes.csv"), "--sites", str(path / "sites.csv"), "-o", str(out)],
+                         "geodesic nearest_site"),
+    }
+
+
+def _check_bar(argv: list[str], label: str, capsys, monkeypatch) -> None:  # noqa: ANN001
+    """The command draws its bar (named ``label``) on stderr only when stderr is a terminal,
+    and not with ``--no-progress`` or ``--quiet``; every run succeeds."""
+    assert main(argv) == 0 and label not in capsys.readouterr().err   # stderr not a terminal: no bar
+    monkeypatch.setattr(sys.stderr, "isatty", lambda: True)
+    assert main(argv) == 0 and label in capsys.readouterr().err
+    for off in ("--no-progress", "--quiet"):
+        assert main([*argv, off]) == 0 and label not in capsys.readouterr().err, off
+
+
+@pytest.mark.parametrize("command", ["voronoi-cells", "spanning-tree", "nearest-site"])
+def test_the_cli_shows_the_bar_on_a_terminal_unless_turned_off(files, capsys, monkeypatch, command) -> None:
+    out = files / "out.csv"
+    argv, label = _commands(files, out)[command]
+    _check_bar(argv, label, capsys, monkeypatch)
+    # What was written is the direct call's answer, row for row (CSV line numbers name rows).
+    got = pd.read_csv(out)
+    if command == "voronoi-cells":
+        np.testing.assert_allclose(got["area_m2"], pw.geodesic.voronoi_cells(SITES).area, rtol=1e-15)
+    elif command == "spanning-tree":
+        direct = pw.geodesic.spanning_tree(SITES)
+        assert list(got["end_a"] - 2) == list(direct.end_a) and list(got["end_b"] - 2) == list(direct.end_b)
+        np.testing.assert_allclose(got["length_m"], direct.edge_length, rtol=1e-15)
+    else:
+        direct = pw.geodesic.nearest_site(HOMES, SITES)
+        assert list(got["site"] - 2) == list(direct.assignment)
+        np.testing.assert_allclose(got["distance_m"], direct.distance, rtol=1e-15)
+
+
+@pytest.mark.parametrize("command", ["voronoi-cells", "spanning-tree", "nearest-site"])
+def test_the_cli_draws_no_bar_for_a_planar_run_and_still_answers(files, capsys, monkeypatch, command) -> None:
+    # Points a working frame holds (or one given by --work-crs) are solved in the plane,
+    # which reports no progress: the command gives the run none even on a terminal (the
+    # layer would refuse it).
+    out = files / "out.csv"
+    monkeypatch.setattr(sys.stderr, "isatty", lambda: True)
+    extra = ["--sites", str(files / "local.csv"), "--work-crs", "EPSG:32632"] if command == "nearest-site" else []
+    assert main([command, str(files / "local.csv"), *extra, "-o", str(out)]) == 0
+    assert "geodesic" not in capsys.readouterr().err
+    got = pd.read_csv(out)
+    assert _planar(got)
+    if command == "spanning-tree":
+        assert len(got) == len(LOCAL) - 1
+    if command == "nearest-site":  # every point is a site: its own, at no distance
+        assert list(got["site"]) == list(range(2, len(LOCAL) + 2)) and (got["distance_m"] == 0).all()
+
+
+def test_the_cli_shows_the_travel_cost_bar_on_a_terminal(tmp_path, capsys, monkeypatch) -> None:
+    lines = [shapely.LineString([(0, 0), (500, 0)]), shapely.LineString([(0, 0), (0, 300)])]
+    streets = gpd.GeoDataFrame(geometry=lines, crs="EPSG:32630")
+    streets.to_file(tmp_path / "streets.geojson")
+    pd.DataFrame({"x": [10.0, 400.0, 0.0], "y": [5.0, -3.0, 250.0]}).to_csv(tmp_path / "homes.csv", index=False)
+    out = tmp_path / "costs.csv"
+    argv = ["travel-costs", str(tmp_path / "homes.csv"), "--crs", "EPSG:32630", "--network",
+            str(tmp_path / "streets.geojson"), "-o", str(out)]
+    label = "travel costs"
+    _check_bar(argv, label, capsys, monkeypatch)
+    # The same costs as the graph's own search from the same points.
+    xy = np.array([[10.0, 5.0], [400.0, -3.0], [0.0, 250.0]])
+    direct = travel_graph(streets).costs(xy, xy)
+    got = pd.read_csv(out)
+    cost = np.full((3, 3), np.nan)
+    cost[got["origin"] - 2, got["destination"] - 2] = got["cost_m"]
+    np.testing.assert_array_equal(cost, direct)
+
+
+def test_the_cli_shows_the_network_siting_bar_on_a_terminal(tmp_path, capsys, monkeypatch) -> None:
+    streets = gpd.GeoDataFrame(geometry=[shapely.LineString([(0, 0), (600, 0)])], crs="EPSG:32630")
+    streets.to_file(tmp_path / "streets.geojson")
+    pd.DataFrame({"x": [0.0, 50.0, 550.0, 600.0], "y": 0.0}).to_csv(tmp_path / "homes.csv", index=False)
+    pd.DataFrame({"x": [25.0, 300.0, 575.0], "y": 0.0}).to_csv(tmp_path / "depots.csv", index=False)
+    out = tmp_path / "sites.csv"
+    argv = ["network-siting", str(tmp_path / "homes.csv"), "--crs", "EPSG:32630", "--network",
+            str(tmp_path / "streets.geojson"), "--candidates", str(tmp_path / "depots.csv"), "-p", "2",
+            "-o", str(out)]
+    _check_bar(argv, "p_median", capsys, monkeypatch)
+    # The two end depots, each 25 m from both of its homes: closed form.
+    assert sorted(pd.read_csv(out)["x"]) == [25.0, 575.0]
