@@ -299,11 +299,12 @@ pub(super) fn equilateral(
         }
         let mut passing = |k: usize| {
             let s = samples[k];
+            // Cheapest first: the lune and wedge tests read every terminal.
             child_edges_hold(s)
+                && descendant_edges_hold(s)
                 && upper_bound_holds(s)
                 && lune_is_empty(s)
                 && wedge_holds(s)
-                && descendant_edges_hold(s)
         };
         let first = (0..SAMPLES).find(|&k| passing(k))?;
         let last = (first..SAMPLES).rev().find(|&k| passing(k)).unwrap_or(first);
