@@ -110,8 +110,10 @@ impl Default for SteinerOptions {
 }
 
 /// Largest distinct terminal count that [`SteinerMethod::Auto`] tries exactly: uniformly
-/// spread sets of this size are proven optimal in about 0.1–2 s, inside
-/// [`AUTO_BUDGET`]; clustered or unlucky ones that are not fall back to the heuristic.
+/// spread sets of this size are proven optimal well under a second (0.01–0.25 s for 20 and
+/// 0.06–0.63 s for 30 terminals in benchmarks/RESULTS.md), inside [`AUTO_BUDGET`];
+/// clustered or unlucky ones that are not fall back to the heuristic. Kept low because a
+/// grouped call makes one attempt per group.
 pub const AUTO_EXACT_TERMINALS: usize = 24;
 /// Default time budget (seconds) of an automatic exact attempt.
 pub const AUTO_BUDGET: f64 = 5.0;
