@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 import placewise as pw
-from interrupting import Enough, check_progress_reports, check_prompt_interrupt, stop_at_first_report
+from interrupting import Enough, check_progress_reports, check_prompt_interrupt, child_code, stop_at_first_report
 
 RNG = np.random.default_rng(43)
 # 300,000 points: three strips of the parallel triangulation, each counted as it ends.
@@ -68,25 +68,9 @@ def test_progress_must_be_a_bool_or_a_callable() -> None:
     assert caught.value.argument == "progress"
 
 
-_CHILD = r"""
-import signal, sys, time
-import numpy as np
-import placewise as pw
-
-# Ctrl-C as a terminal delivers it, whatever the parent left: a job started in the
-# background of a shell ignores SIGINT, Python keeps an ignored SIGINT ignored, and a
-# blocked one stays blocked across exec.
-signal.signal(signal.SIGINT, signal.default_int_handler)
-signal.pthread_sigmask(signal.SIG_UNBLOCK, {{signal.SIGINT}})
-
+_SETUP = """
 rng = np.random.default_rng(5)
 pts = rng.uniform(0, 1000, ({n}, 2))
-print("started", flush=True)
-try:
-    {call}
-    print("finished", time.time(), flush=True)
-except KeyboardInterrupt:
-    print("interrupted", time.time(), flush=True)
 """
 
 # Sizes at which each call runs at least about 2.5 s on an idle 2-core machine (see
@@ -106,5 +90,5 @@ def test_ctrl_c_stops_the_run_promptly(name: str) -> None:
     # SIGINT into a run of seconds: KeyboardInterrupt must reach Python within half a
     # second, while the same run left alone goes on for longer.
     n, call = CALLS[name]
-    runtime, latency = check_prompt_interrupt(_CHILD.format(n=n, call=call), 1.0)
+    runtime, latency = check_prompt_interrupt(child_code(_SETUP.format(n=n), call), 1.0)
     print(f"{name}: runs {runtime:.2f} s; Ctrl-C latency {latency:.3f} s")
