@@ -31,8 +31,8 @@ def refuse_grouped_progress(progress: Any, groups: Any) -> None:
     """Refuse ``progress`` on a grouped run of a kernel that reports it only ungrouped: taken
     silently, it would let a caller believe the run was watched."""
     if groups is not None and progress is not None and progress is not False:
-        refuse("progress", "progress= applies without groups: a grouped run reports no progress; drop progress= "
-                           "or groups=")
+        refuse("progress", "progress= applies to ungrouped runs only: a grouped run reports no progress; drop "
+                           "progress= or the grouping")
 
 
 def plain(value: Any) -> Any:
