@@ -178,12 +178,50 @@ impl<'a> Steps<'a> {
         }
     }
 
+    /// Count up to `steps` steps done, never beyond the planned ones.
+    pub(crate) fn advance(&mut self, steps: u64) {
+        let steps = steps.min(self.planned - self.done);
+        self.done += steps;
+        self.watch.advance(steps);
+    }
+
     /// Count every planned step done: the call has ended (a bound that converged early, a
     /// search that found nothing more to do, or a stop).
     pub(crate) fn finish(&mut self) {
         self.watch.advance(self.planned - self.done);
         self.done = self.planned;
     }
+}
+
+/// `item(scratch, k)` for `k` in `0..count`, in parallel (each worker with its own
+/// `scratch()`), one step of `watch` each (planned by the caller). Once `watch` is cancelled
+/// the items left are skipped and the outcome is [`cancelled`] about `argument`: the kernels
+/// that use this (areas of a triangulation, lengths of a tree's candidate edges, the rings of
+/// a set of cells) have an answer only when every item is done.
+pub(crate) fn each_watched<S, T: Send + Default>(
+    count: usize,
+    watch: &Watch,
+    argument: &'static str,
+    scratch: impl Fn() -> S + Sync + Send,
+    item: impl Fn(&mut S, usize) -> T + Sync + Send,
+) -> crate::error::Result<Vec<T>> {
+    use rayon::prelude::*;
+    let values = (0..count)
+        .into_par_iter()
+        .map_init(scratch, |scratch, k| {
+            // A cancelled run's values are never read (a default fills the items skipped).
+            if watch.is_cancelled() {
+                return T::default();
+            }
+            let value = item(scratch, k);
+            watch.advance(1);
+            value
+        })
+        .collect();
+    if watch.is_cancelled() {
+        return Err(cancelled(argument));
+    }
+    Ok(values)
 }
 
 /// One kernel call's stopping rule: its [`Watch`] and its deadline.
@@ -218,6 +256,38 @@ impl Clock {
     /// run that counts its own steps.
     pub(crate) fn quiet(&self) -> Clock {
         Clock { watch: self.watch.quiet(), deadline: self.deadline }
+    }
+}
+
+/// Helpers for the tests of watched kernels.
+#[cfg(test)]
+pub(crate) mod testing {
+    use super::{Cancelled, Watch};
+
+    /// `run(watch)` while another thread cancels `watch` as soon as `mark` steps are done:
+    /// the outcome is cancelled ([`Watch::finish`]), and unless the run ended before the
+    /// cancel reached it (every planned step done), the kernel itself stopped with an error.
+    /// Returns the progress at the end.
+    pub(crate) fn cancelled_after<T>(mark: u64, run: impl FnOnce(&Watch) -> crate::Result<T>) -> (u64, u64) {
+        let watch = Watch::new();
+        let outcome = std::thread::scope(|scope| {
+            let canceller = watch.clone();
+            let ended = watch.clone();
+            scope.spawn(move || {
+                // Polls until the mark, or until the run ended (cancelled below) without it.
+                while canceller.progress().0 < mark && !canceller.is_cancelled() {
+                    std::thread::yield_now();
+                }
+                canceller.cancel();
+            });
+            let outcome = run(&watch);
+            ended.cancel();
+            outcome
+        });
+        let (done, total) = watch.progress();
+        assert!(outcome.is_err() || done == total, "a cancelled run answered at {done} of {total} steps");
+        assert_eq!(watch.finish(()), Err(Cancelled));
+        (done, total)
     }
 }
 

@@ -87,12 +87,13 @@ pub use multi::{
     EXACT_MAX_POINTS,
 };
 pub use network::{
-    check_steiner_tree, spanning_tree, spanning_trees, steiner_tree, steiner_trees, EdgeEnd, SpanningTree,
-    SteinerMethod, SteinerOptions, SteinerTree, AUTO_BUDGET, AUTO_EXACT_TERMINALS,
+    check_steiner_tree, spanning_tree, spanning_tree_watched, spanning_trees, steiner_tree, steiner_trees, EdgeEnd,
+    SpanningTree, SteinerMethod, SteinerOptions, SteinerTree, AUTO_BUDGET, AUTO_EXACT_TERMINALS,
 };
 pub use partition::{
-    allocate, check_triangulation, delaunay, delaunay_grouped, nearest_site, nearest_site_grouped, voronoi_cells,
-    voronoi_cells_grouped, Allocation, Region, SiteAllocations, SiteIndex, Triangulation, VoronoiCells, STRIPS_FROM,
+    allocate, check_triangulation, delaunay, delaunay_grouped, delaunay_watched, nearest_site, nearest_site_grouped,
+    voronoi_cells, voronoi_cells_grouped, voronoi_cells_watched, Allocation, Region, SiteAllocations, SiteIndex,
+    Triangulation, VoronoiCells, STRIPS_FROM,
 };
 pub use partition::{power_cells, power_cells_grouped, power_nearest, PowerCells};
 pub use travel::{

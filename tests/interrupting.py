@@ -60,6 +60,36 @@ def check_counts(calls: list[tuple[int, int]]) -> None:
 
 
 
+_CHILD = """
+import signal, sys, time
+import numpy as np
+import placewise as pw
+
+# Ctrl-C as a terminal delivers it, whatever the parent left: a job started in the
+# background of a shell ignores SIGINT, Python keeps an ignored SIGINT ignored, and a
+# blocked one stays blocked across exec.
+signal.signal(signal.SIGINT, signal.default_int_handler)
+signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGINT})
+
+"""
+
+_CALL = """
+print("started", flush=True)
+try:
+    %s
+    print("finished", time.time(), flush=True)
+except KeyboardInterrupt:
+    print("interrupted", time.time(), flush=True)
+"""
+
+
+def child_code(setup: str, call: str) -> str:
+    """The code of a child for :func:`check_prompt_interrupt`: numpy and placewise imported,
+    Ctrl-C delivered as a terminal delivers it, ``setup`` run, then ``started`` printed and
+    ``call`` made (one line), then its word and time stamp printed."""
+    return _CHILD + setup + _CALL % call
+
+
 #: The issue's aim for Ctrl-C: KeyboardInterrupt within half a second of the signal.
 PROMPT_SECONDS = 0.5
 

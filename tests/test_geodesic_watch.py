@@ -16,7 +16,7 @@ import pytest
 from pyproj import Geod
 
 import placewise as pw
-from interrupting import Enough, check_progress_reports, check_prompt_interrupt, stop_at_first_report
+from interrupting import Enough, check_progress_reports, check_prompt_interrupt, child_code, stop_at_first_report
 
 GEOD = Geod(ellps="WGS84")
 RNG = np.random.default_rng(29)
@@ -227,17 +227,7 @@ def test_the_cli_draws_no_bar_for_a_planar_run_and_still_answers(capsys, monkeyp
         assert pd.read_csv(out_path)["radius_u"].iloc[0] == pytest.approx(2.5)
 
 
-_CHILD = r"""
-import signal, sys, time
-import numpy as np
-import placewise as pw
-
-# Ctrl-C as a terminal delivers it, whatever the parent left: a job started in the
-# background of a shell ignores SIGINT, Python keeps an ignored SIGINT ignored, and a
-# blocked one stays blocked across exec.
-signal.signal(signal.SIGINT, signal.default_int_handler)
-signal.pthread_sigmask(signal.SIG_UNBLOCK, {{signal.SIGINT}})
-
+_SETUP = """
 rng = np.random.default_rng(5)
 n = {n}
 pts = np.column_stack([rng.uniform(-20, 20, n), rng.uniform(30, 60, n)])
@@ -245,12 +235,6 @@ w = rng.uniform(1, 2, n)
 groups = rng.integers(0, 3, n)
 sites = np.column_stack([rng.uniform(-20, 20, 300), rng.uniform(30, 60, 300)])
 site_groups = np.arange(300) % 3
-print("started", flush=True)
-try:
-    {call}
-    print("finished", time.time(), flush=True)
-except KeyboardInterrupt:
-    print("interrupted", time.time(), flush=True)
 """
 
 # Sizes of the newly watched calls, so that each runs at least about three seconds on a
@@ -277,5 +261,5 @@ def test_ctrl_c_stops_the_run_promptly(name: str) -> None:
     # SIGINT one second into a run of several seconds: KeyboardInterrupt must reach Python
     # within half a second, while the same run left alone goes on for seconds more.
     n, call = CALLS[name]
-    runtime, latency = check_prompt_interrupt(_CHILD.format(n=n, call=call), 1.0)
+    runtime, latency = check_prompt_interrupt(child_code(_SETUP.format(n=n), call), 1.0)
     print(f"{name}: runs {runtime:.2f} s; Ctrl-C latency {latency:.3f} s")

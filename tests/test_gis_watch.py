@@ -1,7 +1,8 @@
-"""Progress through the GeoDataFrame layer and the command line: the spherical Voronoi cells,
-the spanning tree on the sphere, the geodesic nearest-site search and the travel-cost
-searches take ``progress=`` from :mod:`placewise.gis` and show their bar from the command
-line on a terminal.
+"""Progress through the GeoDataFrame layer and the command line: the Voronoi cells and the
+spanning tree (spherical and planar), the planar Delaunay triangulation, the geodesic
+nearest-site search and the travel-cost searches take ``progress=`` from :mod:`placewise.gis`
+(the triangulation from the command line only) and show their bar from the command line on a
+terminal.
 
 Each check of a report also checks that watching changed nothing: the frame returned holds
 the same cells, edges, sites and costs as the direct call of the kernel on the same points
@@ -130,16 +131,58 @@ def test_gis_travel_costs_report_progress_and_keep_the_costs() -> None:
     np.testing.assert_array_equal(got, direct)
 
 
+#: Planar points with index labels that are not row positions (no CRS: solved as given).
+PLANE = RNG.uniform(0, 1000, (3000, 2))
+
+
+def _plane(prefix: str) -> gpd.GeoDataFrame:
+    return gpd.GeoDataFrame(geometry=gpd.points_from_xy(PLANE[:, 0], PLANE[:, 1]),
+                            index=[f"{prefix}{i}" for i in range(len(PLANE))])
+
+
+def test_gis_planar_spanning_tree_reports_progress_and_keeps_the_tree() -> None:
+    calls, progress = _recorder()
+    net = gis.spanning_tree(_plane("p"), planar=True, progress=progress)
+    check_counts(calls)
+    direct = pw.spanning_tree(PLANE)
+    labels = np.array([f"p{i}" for i in range(len(PLANE))], dtype=object)
+    assert list(net.edges["end_a"]) == list(labels[direct.end_a])
+    assert list(net.edges["end_b"]) == list(labels[direct.end_b])
+    np.testing.assert_array_equal(net.edges["length_u"].to_numpy(), direct.edge_length)
+    assert float(net.summary["length_u"].iloc[0]) == direct.length
+
+
+def test_gis_planar_voronoi_cells_report_progress_and_keep_the_cells() -> None:
+    calls, progress = _recorder()
+    region = shapely.box(-10, -10, 1010, 1010)
+    cells = gis.voronoi_cells(_plane("s"), region, planar=True, progress=progress)
+    check_counts(calls)
+    direct = pw.voronoi_cells(PLANE, region)
+    np.testing.assert_array_equal(cells["area_u2"].to_numpy(), direct.area)
+    assert list(cells.index) == [f"s{i}" for i in range(len(PLANE))]
+
+
+def test_gis_planar_runs_in_a_working_frame_report_progress_and_answer_alike() -> None:
+    # Points a working frame holds: watched and unwatched runs give the same table.
+    for run in (lambda **kw: gis.voronoi_cells(_frame(LOCAL, "s"), **kw),
+                lambda **kw: gis.spanning_tree(_frame(LOCAL, "p"), **kw).edges):
+        calls, progress = _recorder()
+        watched, plain = run(progress=progress), run()
+        check_counts(calls)
+        assert _planar(watched)
+        pd.testing.assert_frame_equal(pd.DataFrame(watched.drop(columns="geometry")),
+                                      pd.DataFrame(plain.drop(columns="geometry")))
+
+
 @pytest.mark.parametrize("run", [
-    lambda **kw: gis.voronoi_cells(_frame(LOCAL, "s"), **kw),                 # a working frame holds them
-    lambda **kw: gis.voronoi_cells(_frame(SITES, "s"), planar=False, work_crs="EPSG:8857", **kw),
-    lambda **kw: gis.spanning_tree(_frame(LOCAL, "p"), **kw).summary,
     lambda **kw: gis.spanning_tree(_frame(LOCAL, "p", zone=np.arange(len(LOCAL)) % 2), by="zone", **kw).summary,
+    lambda **kw: gis.voronoi_cells(_frame(LOCAL, "s", zone=np.arange(len(LOCAL)) % 2), by="zone", **kw),
     lambda **kw: gis.nearest_site(_frame(LOCAL, "h"), _frame(LOCAL[:5], "s"), work_crs="EPSG:32632", **kw).summary,
-], ids=["voronoi local", "voronoi work_crs", "spanning local", "spanning by", "nearest work_crs"])
+], ids=["spanning by", "voronoi by", "nearest work_crs"])
 def test_planar_runs_refuse_progress_and_answer_without_it(run) -> None:  # noqa: ANN001
-    # Planar kernels report nothing: a progress= there would be silently ignored, so it is
-    # refused, naming the argument; without it the same call answers.
+    # Grouped planar runs and the planar nearest-site search report nothing: a progress=
+    # there would be silently ignored, so it is refused, naming the argument; without it
+    # the same call answers.
     for value in (True, print):
         with pytest.raises(pw.InputError) as caught:
             run(progress=value)
@@ -201,22 +244,49 @@ def test_the_cli_shows_the_bar_on_a_terminal_unless_turned_off(files, capsys, mo
         np.testing.assert_allclose(got["distance_m"], direct.distance, rtol=1e-15)
 
 
-@pytest.mark.parametrize("command", ["voronoi-cells", "spanning-tree", "nearest-site"])
-def test_the_cli_draws_no_bar_for_a_planar_run_and_still_answers(files, capsys, monkeypatch, command) -> None:
-    # Points a working frame holds (or one given by --work-crs) are solved in the plane,
-    # which reports no progress: the command gives the run none even on a terminal (the
-    # layer would refuse it).
+def test_the_cli_draws_no_bar_for_a_planar_nearest_site_run_and_still_answers(files, capsys, monkeypatch) -> None:
+    # Sites in a frame given by --work-crs are served in the plane, which reports no
+    # progress: the command gives the run none even on a terminal (the layer would refuse it).
     out = files / "out.csv"
     monkeypatch.setattr(sys.stderr, "isatty", lambda: True)
-    extra = ["--sites", str(files / "local.csv"), "--work-crs", "EPSG:32632"] if command == "nearest-site" else []
-    assert main([command, str(files / "local.csv"), *extra, "-o", str(out)]) == 0
-    assert "geodesic" not in capsys.readouterr().err
+    extra = ["--sites", str(files / "local.csv"), "--work-crs", "EPSG:32632"]
+    assert main(["nearest-site", str(files / "local.csv"), *extra, "-o", str(out)]) == 0
+    assert "nearest_site" not in capsys.readouterr().err
     got = pd.read_csv(out)
     assert _planar(got)
-    if command == "spanning-tree":
-        assert len(got) == len(LOCAL) - 1
-    if command == "nearest-site":  # every point is a site: its own, at no distance
-        assert list(got["site"]) == list(range(2, len(LOCAL) + 2)) and (got["distance_m"] == 0).all()
+    # Every point is a site: its own, at no distance.
+    assert list(got["site"]) == list(range(2, len(LOCAL) + 2)) and (got["distance_m"] == 0).all()
+
+
+@pytest.mark.parametrize("command, label", [("voronoi-cells", "voronoi_cells (sites triangulated"),
+                                            ("spanning-tree", "spanning_tree (points triangulated"),
+                                            ("delaunay", "delaunay (points triangulated")])
+def test_the_cli_shows_the_planar_bar_on_a_terminal_unless_turned_off(tmp_path, capsys, monkeypatch, command,
+                                                                     label) -> None:
+    path, out = tmp_path / "plane.csv", tmp_path / "out.csv"
+    pd.DataFrame({"x": PLANE[:, 0], "y": PLANE[:, 1]}).to_csv(path, index=False)
+    _check_bar([command, str(path), "--planar", "-o", str(out)], label, capsys, monkeypatch)
+    # What was written is the direct call's answer, row for row (CSV line numbers name rows).
+    got = pd.read_csv(out)
+    if command == "voronoi-cells":
+        np.testing.assert_array_equal(got["area_u2"], pw.voronoi_cells(PLANE).area)
+    elif command == "spanning-tree":
+        direct = pw.spanning_tree(PLANE)
+        assert list(got["end_a"] - 2) == list(direct.end_a) and list(got["end_b"] - 2) == list(direct.end_b)
+        np.testing.assert_array_equal(got["length_u"], direct.edge_length)
+    else:
+        direct = pw.delaunay(PLANE)
+        assert list(got["corner_a"] - 2) == list(direct.corners[:, 0])
+        np.testing.assert_array_equal(got["area_u2"], direct.area)
+
+
+def test_the_cli_draws_no_bar_for_a_grouped_planar_run(tmp_path, capsys, monkeypatch) -> None:
+    path, out = tmp_path / "plane.csv", tmp_path / "out.csv"
+    pd.DataFrame({"x": PLANE[:, 0], "y": PLANE[:, 1], "zone": np.arange(len(PLANE)) % 3}).to_csv(path, index=False)
+    monkeypatch.setattr(sys.stderr, "isatty", lambda: True)
+    for command in ("spanning-tree", "delaunay"):
+        assert main([command, str(path), "--planar", "--by", "zone", "-o", str(out)]) == 0
+        assert "triangulated" not in capsys.readouterr().err
 
 
 def test_the_cli_shows_the_travel_cost_bar_on_a_terminal(tmp_path, capsys, monkeypatch) -> None:

@@ -82,10 +82,10 @@ def enclosing_ellipse_single(points: ArrayLike, tol: Any) -> _Fields: ...
 def enclosing_ellipse_grouped(points: ArrayLike, groups: ArrayLike, tol: Any, errors: str) -> _Fields: ...
 
 # --- partition (src/py/partition.rs) ---
-def delaunay_single(points: ArrayLike) -> _Fields: ...
+def delaunay_single(points: ArrayLike, progress: Any = None) -> _Fields: ...
 def delaunay_grouped(points: ArrayLike, groups: ArrayLike, errors: str) -> _Fields: ...
 def voronoi_cells_single(
-    sites: ArrayLike, region_vertices: ArrayLike | None, ring_offsets: ArrayLike | None
+    sites: ArrayLike, region_vertices: ArrayLike | None, ring_offsets: ArrayLike | None, progress: Any = None
 ) -> _Fields: ...
 def voronoi_cells_grouped(
     sites: ArrayLike, groups: ArrayLike, region_vertices: ArrayLike | None, ring_offsets: ArrayLike | None,
@@ -107,7 +107,7 @@ def nearest_site_grouped(
 # --- network (src/py/network.rs) ---
 # Tree edges are undirected, smaller end first: end_a/end_b are input rows (-1 for a
 # junction end in Steiner trees), junction_a/junction_b junction numbers (-1 for a row end).
-def spanning_tree_single(points: ArrayLike) -> _Fields: ...  # end_a, end_b, edge_length, length
+def spanning_tree_single(points: ArrayLike, progress: Any = None) -> _Fields: ...  # end_a, end_b, edge_length, length
 def spanning_tree_grouped(
     points: ArrayLike, groups: ArrayLike, errors: str
 ) -> _Fields: ...  # labels, problem, edge_offsets, end_a, end_b, edge_length, length

@@ -11,13 +11,28 @@ names (one message layout, built by the kernel's own error description), and
 from __future__ import annotations
 
 from collections.abc import Callable, Mapping
-from typing import Any
+from typing import Any, NoReturn
 
 import numpy as np
 
 from ._core import DegenerateInputError, InputError
 
-__all__ = ["labelled", "plain", "restate", "restate_problems"]
+__all__ = ["labelled", "plain", "refuse", "refuse_grouped_progress", "restate", "restate_problems"]
+
+
+def refuse(argument: str, text: str) -> NoReturn:
+    """Raise an ``InputError`` saying ``text`` about ``argument`` (named in its ``argument``)."""
+    error = InputError(text)
+    error.argument = argument
+    raise error
+
+
+def refuse_grouped_progress(progress: Any, groups: Any) -> None:
+    """Refuse ``progress`` on a grouped run of a kernel that reports it only ungrouped: taken
+    silently, it would let a caller believe the run was watched."""
+    if groups is not None and progress is not None and progress is not False:
+        refuse("progress", "progress= applies to ungrouped runs only: a grouped run reports no progress; drop "
+                           "progress= or the grouping")
 
 
 def plain(value: Any) -> Any:

@@ -26,12 +26,13 @@ from __future__ import annotations
 
 import dataclasses
 from collections.abc import Callable
-from typing import Any, Literal, NoReturn, overload
+from typing import Any, Literal, overload
 
 import numpy as np
 from numpy.typing import ArrayLike
 
 from . import _core
+from ._errors import refuse
 from ._region import draw_region, region_rings
 from ._results import Grouped, Result, as_points
 from .capacity import CapacitatedMedianPlan, capacitated_p_median
@@ -122,27 +123,21 @@ def _on_candidates(model: str, points: ArrayLike, p: int, weights: ArrayLike | N
     return dataclasses.replace(chosen, open=rows[chosen.open], candidates=every)
 
 
-def _refuse(argument: str, text: str) -> NoReturn:
-    error = _core.InputError(text)
-    error.argument = argument
-    raise error
-
-
 def _capacitated(points: ArrayLike, p: int, weights: ArrayLike | None, capacities: ArrayLike | None, *,
                  candidates: ArrayLike | None, seed: int, effort: str, allow_unserved: bool,
                  time_limit: float | None, progress: Any, **unsupported: Any) -> CapacitatedMedianPlan:
     """``p_median(capacities=...)``: the one capacitated kernel, with the options it has no
     form of refused by name rather than ignored."""
     if capacities is None:
-        _refuse("allow_unserved", "allow_unserved applies only with capacities (sites that can each serve so much)")
+        refuse("allow_unserved", "allow_unserved applies only with capacities (sites that can each serve so much)")
     if allow_unserved:
-        _refuse("allow_unserved", "allow_unserved is not supported by the capacitated p-median: its capacities must "
+        refuse("allow_unserved", "allow_unserved is not supported by the capacitated p-median: its capacities must "
                 "hold the demand; to serve what fits from given sites use capacity_allocation(allow_unserved=True)")
     for name, value in unsupported.items():
         if value is not None and value is not False:
-            _refuse(name, f"{name} is not supported with capacities (the capacitated p-median has no such form)")
+            refuse(name, f"{name} is not supported with capacities (the capacitated p-median has no such form)")
     if effort != "normal":
-        _refuse("effort", "effort is not supported with capacities (location-allocation runs until the cost "
+        refuse("effort", "effort is not supported with capacities (location-allocation runs until the cost "
                 "stops falling)")
     return capacitated_p_median(points, p, capacities, weights, candidates=candidates, seed=seed,
                                 time_limit=time_limit, progress=progress)

@@ -21,6 +21,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from . import _core
+from ._errors import refuse_grouped_progress
 from ._results import Grouped, Result, _require_pandas, as_points
 
 __all__ = ["SpanningTree", "SpanningTrees", "SteinerTree", "SteinerTrees", "spanning_tree", "steiner_tree"]
@@ -399,18 +400,21 @@ class SteinerTrees(_SteinerEdges, Grouped):
 
 @overload
 def spanning_tree(
-    points: ArrayLike, *, groups: None = None, errors: Literal["raise", "skip"] = "raise"
+    points: ArrayLike, *, groups: None = None, errors: Literal["raise", "skip"] = "raise",
+    progress: bool | Callable[[int, int], object] = False,
 ) -> SpanningTree: ...
 
 
 @overload
 def spanning_tree(
-    points: ArrayLike, *, groups: ArrayLike, errors: Literal["raise", "skip"] = "raise"
+    points: ArrayLike, *, groups: ArrayLike, errors: Literal["raise", "skip"] = "raise",
+    progress: Literal[False] | None = False,
 ) -> SpanningTrees: ...
 
 
 def spanning_tree(
-    points: ArrayLike, *, groups: ArrayLike | None = None, errors: Literal["raise", "skip"] = "raise"
+    points: ArrayLike, *, groups: ArrayLike | None = None, errors: Literal["raise", "skip"] = "raise",
+    progress: bool | Callable[[int, int], object] | None = False,
 ) -> SpanningTree | SpanningTrees:
     """The Euclidean minimum spanning tree: the shortest network of straight links between sites.
 
@@ -427,6 +431,13 @@ def spanning_tree(
     errors : {"raise", "skip"}
         With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
         label); ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
+    progress : bool or callable
+        Without ``groups``: True shows a progress bar on stderr; a callable is called as
+        ``progress(done, total)`` from the calling thread: a step per point, counted as the
+        strip holding it is triangulated, then one per Delaunay edge Kruskal's algorithm takes
+        up. Ctrl-C (or an exception from the callable) stops the run within a fraction of a
+        second and raises ``KeyboardInterrupt``; there is no partial tree and no time limit.
+        With ``groups``, an ``InputError`` naming it.
 
     Returns
     -------
@@ -471,8 +482,9 @@ def spanning_tree(
     --------
     steiner_tree : shorter networks with added junctions.
     """
+    refuse_grouped_progress(progress, groups)
     if groups is None:
-        return SpanningTree(**_core.spanning_tree_single(points), points=as_points(points))
+        return SpanningTree(**_core.spanning_tree_single(points, progress), points=as_points(points))
     fields = _core.spanning_tree_grouped(points, groups, errors)
     return SpanningTrees._from_core(
         fields, points=as_points(points), row_group=Grouped._row_groups_of(fields["labels"], groups)

@@ -14,6 +14,7 @@ within the group.
 from __future__ import annotations
 
 import dataclasses
+from collections.abc import Callable
 from typing import Any, Literal, overload
 
 import numpy as np
@@ -21,6 +22,7 @@ from numpy.typing import ArrayLike
 
 from . import _core
 from ._core import InputError
+from ._errors import refuse_grouped_progress
 from ._region import region_rings
 from ._results import Grouped, Result, _require_pandas, as_points
 
@@ -212,15 +214,18 @@ class DelaunayMeshes(_Triangles, Grouped):
 
 
 @overload
-def delaunay(points: ArrayLike, *, groups: None = None, errors: Literal["raise", "skip"] = "raise") -> DelaunayMesh: ...
+def delaunay(points: ArrayLike, *, groups: None = None, errors: Literal["raise", "skip"] = "raise",
+             progress: bool | Callable[[int, int], object] = False) -> DelaunayMesh: ...
 
 
 @overload
-def delaunay(points: ArrayLike, *, groups: ArrayLike, errors: Literal["raise", "skip"] = "raise") -> DelaunayMeshes: ...
+def delaunay(points: ArrayLike, *, groups: ArrayLike, errors: Literal["raise", "skip"] = "raise",
+             progress: Literal[False] | None = False) -> DelaunayMeshes: ...
 
 
 def delaunay(
-    points: ArrayLike, *, groups: ArrayLike | None = None, errors: Literal["raise", "skip"] = "raise"
+    points: ArrayLike, *, groups: ArrayLike | None = None, errors: Literal["raise", "skip"] = "raise",
+    progress: bool | Callable[[int, int], object] | None = False,
 ) -> DelaunayMesh | DelaunayMeshes:
     """The Delaunay triangulation of a point set.
 
@@ -241,6 +246,13 @@ def delaunay(
     errors : {"raise", "skip"}
         With ``groups``: ``"raise"`` fails on the first group without a triangulation
         (smallest label); ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
+    progress : bool or callable
+        Without ``groups``: True shows a progress bar on stderr (tqdm's when installed, else a
+        plain line); a callable is called as ``progress(done, total)`` from the calling
+        thread: a step per point, counted as the strip holding it is triangulated. Ctrl-C (or
+        an exception from the callable) stops the run within a fraction of a second and raises
+        ``KeyboardInterrupt``. A triangulation exists only once it is whole, so there is no
+        partial answer and no time limit. With ``groups``, an ``InputError`` naming it.
 
     Returns
     -------
@@ -285,8 +297,9 @@ def delaunay(
     --------
     voronoi_cells : the dual subdivision, clipped to a region.
     """
+    refuse_grouped_progress(progress, groups)
     if groups is None:
-        return DelaunayMesh(**_core.delaunay_single(points), points=as_points(points))
+        return DelaunayMesh(**_core.delaunay_single(points, progress), points=as_points(points))
     return DelaunayMeshes._from_core(_core.delaunay_grouped(points, groups, errors), points=as_points(points))
 
 
@@ -496,13 +509,15 @@ class VoronoiCellSets(_Cells, Grouped):
 
 @overload
 def voronoi_cells(
-    sites: ArrayLike, region: Any = None, *, groups: None = None, errors: Literal["raise", "skip"] = "raise"
+    sites: ArrayLike, region: Any = None, *, groups: None = None, errors: Literal["raise", "skip"] = "raise",
+    progress: bool | Callable[[int, int], object] = False,
 ) -> VoronoiCells: ...
 
 
 @overload
 def voronoi_cells(
-    sites: ArrayLike, region: Any = None, *, groups: ArrayLike, errors: Literal["raise", "skip"] = "raise"
+    sites: ArrayLike, region: Any = None, *, groups: ArrayLike, errors: Literal["raise", "skip"] = "raise",
+    progress: Literal[False] | None = False,
 ) -> VoronoiCellSets: ...
 
 
@@ -512,6 +527,7 @@ def voronoi_cells(
     *,
     groups: ArrayLike | None = None,
     errors: Literal["raise", "skip"] = "raise",
+    progress: bool | Callable[[int, int], object] | None = False,
 ) -> VoronoiCells | VoronoiCellSets:
     """Each site's catchment: its Voronoi cell (the points closer to it than to any other
     site) inside a region.
@@ -537,6 +553,13 @@ def voronoi_cells(
     errors : {"raise", "skip"}
         With ``groups``: ``"raise"`` fails on the first group without cells (smallest label);
         ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
+    progress : bool or callable
+        Without ``groups``: True shows a progress bar on stderr (tqdm's when installed, else a
+        plain line); a callable is called as ``progress(done, total)`` from the calling
+        thread: ``3n`` steps (a site triangulated, its cell cut, its cell written). Ctrl-C (or
+        an exception from the callable) stops the run within a fraction of a second and raises
+        ``KeyboardInterrupt``. Cells are only an answer when all are done, so there is no
+        partial answer and no time limit. With ``groups``, an ``InputError`` naming it.
 
     Returns
     -------
@@ -582,9 +605,10 @@ def voronoi_cells(
     nearest_site : which site serves each demand point.
     delaunay : the triangulation dual to the cells.
     """
+    refuse_grouped_progress(progress, groups)
     vertices, offsets = region_rings(region)
     if groups is None:
-        return VoronoiCells(**_core.voronoi_cells_single(sites, vertices, offsets), sites=as_points(sites))
+        return VoronoiCells(**_core.voronoi_cells_single(sites, vertices, offsets, progress), sites=as_points(sites))
     fields = _core.voronoi_cells_grouped(sites, groups, vertices, offsets, errors)
     return VoronoiCellSets._from_core(fields, sites=as_points(sites))
 

@@ -46,8 +46,21 @@ pub struct SpanningTree {
 /// # Runtime
 /// O(n log n): a Delaunay triangulation and Kruskal's algorithm on its edges.
 pub fn spanning_tree(points: &[Point]) -> Result<SpanningTree> {
+    spanning_tree_watched(points, &Watch::new())
+}
+
+/// [`spanning_tree`] watched: progress counts a step per input point as the Delaunay
+/// triangulation's strips end (see [`crate::delaunay_watched`]), then one per candidate edge
+/// Kruskal's algorithm looks at (the rest at once when the tree is whole), and once `watch`
+/// is cancelled the run stops when the strips under way end or within a block of edges, with
+/// an error the caller drops ([`Watch::finish`]): a part of a spanning tree is no answer.
+/// Watching changes nothing in the tree.
+///
+/// # Errors
+/// As [`spanning_tree`].
+pub fn spanning_tree_watched(points: &[Point], watch: &Watch) -> Result<SpanningTree> {
     validate_points("points", points, 1)?;
-    let edges = mst::mst_edges(points)?;
+    let edges = mst::mst_edges_watched(points, watch)?;
     let edge_length: Vec<f64> = edges.iter().map(|e| distance(points[e[0]], points[e[1]])).collect();
     let length = total_length(&edge_length);
     Ok(SpanningTree { edges, edge_length, length })

@@ -7,10 +7,11 @@
 use rayon::prelude::*;
 
 use super::union_find::UnionFind;
+use crate::cancel::{cancelled, Steps, Watch};
 use crate::error::Result;
 use crate::geometry::predicates::all_collinear;
 use crate::geometry::{distance, distance_squared, Point};
-use crate::partition::{delaunay, triangulated_positions};
+use crate::partition::{delaunay_watched, triangulated_positions};
 
 /// Above this many candidate edges the sort runs on all cores.
 const PARALLEL_SORT: usize = 1 << 15;
@@ -25,6 +26,13 @@ const PARALLEL_SORT: usize = 1 << 15;
 /// # Runtime
 /// O(n log n): the triangulation and the sort of its at most 3n − 3 edges.
 pub(crate) fn mst_edges(points: &[Point]) -> Result<Vec<[usize; 2]>> {
+    mst_edges_watched(points, &Watch::new())
+}
+
+/// [`mst_edges`] watched (see [`crate::spanning_tree_watched`]): `points.len()` steps for the
+/// triangulation, then one per candidate edge; once `watch` is cancelled the outcome is
+/// [`cancelled`], never a part of the tree.
+pub(crate) fn mst_edges_watched(points: &[Point], watch: &Watch) -> Result<Vec<[usize; 2]>> {
     let n = points.len();
     if n < 2 {
         return Ok(Vec::new());
@@ -32,7 +40,7 @@ pub(crate) fn mst_edges(points: &[Point]) -> Result<Vec<[usize; 2]>> {
     if n < 3 || all_collinear(points) {
         return Ok(collinear_chain(points));
     }
-    let triangulation = match delaunay(points) {
+    let triangulation = match delaunay_watched(points, watch) {
         Ok(t) => t,
         // The input is not collinear, but the positions the triangulation sees are: they
         // flush coordinates below about 1e-43 of the largest to zero, which can make distinct
@@ -55,13 +63,24 @@ pub(crate) fn mst_edges(points: &[Point]) -> Result<Vec<[usize; 2]>> {
             candidates.push([r.min(i), r.max(i)]);
         }
     }
-    Ok(kruskal(points, candidates))
+    kruskal_watched(points, candidates, watch)
 }
 
 /// Kruskal on the given candidate edges: the lightest spanning forest of the graph they
 /// form, in order of non-decreasing length (ties broken by the candidates' order).
 pub(crate) fn kruskal(points: &[Point], candidates: Vec<[usize; 2]>) -> Vec<[usize; 2]> {
+    kruskal_watched(points, candidates, &Watch::new()).expect("a watch nobody holds is never cancelled")
+}
+
+/// Candidate edges Kruskal's loop takes between two looks at the watch.
+const EDGE_BLOCK: usize = 1 << 16;
+
+/// [`kruskal`] watched: a step per candidate edge (planned here), counted in blocks of
+/// [`EDGE_BLOCK`] as the loop takes them, the rest once the forest is whole; once `watch` is
+/// cancelled the outcome is [`cancelled`] within a block.
+fn kruskal_watched(points: &[Point], candidates: Vec<[usize; 2]>, watch: &Watch) -> Result<Vec<[usize; 2]>> {
     let n = points.len();
+    let mut steps = Steps::new(watch, candidates.len() as u64);
     // Squared lengths are non-negative, so their bit patterns sort as the numbers do; the
     // candidate's position breaks ties, which makes the order total and the result
     // independent of the sort's (parallel) schedule.
@@ -80,16 +99,23 @@ pub(crate) fn kruskal(points: &[Point], candidates: Vec<[usize; 2]>) -> Vec<[usi
     }
     let mut sets = UnionFind::new(n);
     let mut tree = Vec::with_capacity(n.saturating_sub(1));
-    for k in keyed {
-        let e = candidates[(k & u64::MAX as u128) as usize];
-        if sets.union(e[0], e[1]) {
-            tree.push(e);
-            if tree.len() + 1 == n {
-                break;
+    'blocks: for block in keyed.chunks(EDGE_BLOCK) {
+        if watch.is_cancelled() {
+            return Err(cancelled("points"));
+        }
+        for &k in block {
+            let e = candidates[(k & u64::MAX as u128) as usize];
+            if sets.union(e[0], e[1]) {
+                tree.push(e);
+                if tree.len() + 1 == n {
+                    break 'blocks;
+                }
             }
         }
+        steps.advance(block.len() as u64);
     }
-    tree
+    steps.finish();
+    Ok(tree)
 }
 
 /// The MST of collinear points: consecutive points in lexicographic order (which is the
@@ -117,6 +143,25 @@ mod tests {
     fn is_spanning_tree(n: usize, edges: &[[usize; 2]]) -> bool {
         let mut uf = UnionFind::new(n);
         edges.len() + 1 == n && edges.iter().all(|e| uf.union(e[0], e[1]))
+    }
+
+    #[test]
+    fn watched_trees_count_points_then_edges_and_a_cancel_leaves_no_tree() {
+        // 200,000 points with 1,000 repeats: two strips, then every candidate edge (the
+        // Delaunay edges and a zero-length edge per repeat). Watching changes nothing.
+        let mut pts = crate::partition::testing::lcg_cloud(200_000, 23, [5e5, 6e6], 1e3);
+        pts.extend_from_within(..1_000);
+        let watch = Watch::new();
+        let tree = mst_edges_watched(&pts, &watch).unwrap();
+        let candidates = delaunay_watched(&pts, &Watch::new()).unwrap().edges.len() + 1_000;
+        assert_eq!(watch.progress(), ((pts.len() + candidates) as u64, (pts.len() + candidates) as u64));
+        assert_eq!(tree, mst_edges(&pts).unwrap());
+        assert!(is_spanning_tree(pts.len(), &tree));
+        let cancelled = Watch::new();
+        cancelled.cancel();
+        assert!(mst_edges_watched(&pts, &cancelled).is_err());
+        // Cancelled once the triangulation is done: Kruskal's loop stops within a block.
+        crate::cancel::testing::cancelled_after(pts.len() as u64, |watch| mst_edges_watched(&pts, watch));
     }
 
     #[test]

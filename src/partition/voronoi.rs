@@ -23,8 +23,9 @@ use rayon::prelude::*;
 use rstar::primitives::{GeomWithData, Line};
 use rstar::{RTree, AABB};
 
-use super::delaunay::{delaunay, neighbour_lists};
+use super::delaunay::{delaunay_watched, neighbour_lists};
 use crate::batch::{run_grouped_placed, Grouped, OnGroupError, RowPlaces};
+use crate::cancel::{cancelled, each_watched, Watch};
 use crate::error::{Error, Result};
 use crate::geometry::predicates::{all_collinear, orient2d};
 use crate::geometry::{
@@ -199,17 +200,23 @@ pub(super) fn check_distinct(sites: &[Point]) -> Result<()> {
 }
 
 /// Voronoi neighbours of every site as CSR (offsets, indices): the Delaunay neighbours, or
-/// the previous and next site along the line when all sites are collinear.
-fn neighbours(sites: &[Point]) -> Result<(Vec<usize>, Vec<usize>)> {
+/// the previous and next site along the line when all sites are collinear. A step of
+/// `watch` per site, as [`delaunay_watched`] counts them.
+fn neighbours(sites: &[Point], watch: &Watch) -> Result<(Vec<usize>, Vec<usize>)> {
     let n = sites.len();
     let mut pairs: Vec<[usize; 2]> = Vec::new();
     if n >= 3 && !all_collinear(sites) {
-        pairs = delaunay(sites)?.edges;
-    } else if n >= 2 {
-        let dir = sub(sites[1], sites[0]);
-        let mut order: Vec<usize> = (0..n).collect();
-        order.sort_by(|&a, &b| dot(sub(sites[a], sites[0]), dir).total_cmp(&dot(sub(sites[b], sites[0]), dir)));
-        pairs.extend(order.windows(2).map(|w| [w[0], w[1]]));
+        pairs = delaunay_watched(sites, watch)?.edges;
+    } else {
+        if n >= 2 {
+            let dir = sub(sites[1], sites[0]);
+            let mut order: Vec<usize> = (0..n).collect();
+            order.sort_by(|&a, &b| dot(sub(sites[a], sites[0]), dir).total_cmp(&dot(sub(sites[b], sites[0]), dir)));
+            pairs.extend(order.windows(2).map(|w| [w[0], w[1]]));
+        }
+        // The steps the triangulation would have counted.
+        watch.plan(n as u64);
+        watch.advance(n as u64);
     }
     Ok(neighbour_lists(n, &pairs))
 }
@@ -499,8 +506,22 @@ fn repair(cell: Vec<Vec<Vec<Point>>>) -> Vec<Vec<Vec<Point>>> {
 /// O(n log n) for the triangulation plus O(n) half-plane cuts; with a non-rectangular region,
 /// O(m) more for each of the cells meeting its m-vertex boundary.
 pub fn voronoi_cells(sites: &[Point], region: Option<Region<'_>>) -> Result<VoronoiCells> {
+    voronoi_cells_watched(sites, region, &Watch::new())
+}
+
+/// [`voronoi_cells`] watched: progress counts `3n` steps (a site triangulated, its cell cut
+/// from the bisectors, its cell welded and written out; the first as the triangulation's
+/// strips end, see [`crate::delaunay_watched`]), and once `watch` is cancelled the run stops
+/// when the strips under way end, within one cell per worker thread or within a block of
+/// cells. A set of cells is only an answer when whole, so a cancelled run has no answer: its
+/// outcome is an error that the caller drops ([`Watch::finish`]). Watching changes nothing
+/// in the cells.
+///
+/// # Errors
+/// As [`voronoi_cells`].
+pub fn voronoi_cells_watched(sites: &[Point], region: Option<Region<'_>>, watch: &Watch) -> Result<VoronoiCells> {
     let rings = region.map(region_rings).transpose()?;
-    cells_within(sites, rings.as_deref())
+    cells_within(sites, rings.as_deref(), watch)
 }
 
 /// [`voronoi_cells`] of every group of labelled sites, all clipped to the one `region` (or,
@@ -527,26 +548,30 @@ pub fn voronoi_cells_grouped(
 ) -> Result<(Grouped<VoronoiCells>, RowPlaces)> {
     let rings = region.map(region_rings).transpose()?;
     run_grouped_placed("sites", sites, Weights::Unit, labels, on_error, |group| {
-        cells_within(group.points, rings.as_deref())
+        cells_within(group.points, rings.as_deref(), &Watch::new())
     })
 }
 
 /// The cells of `sites` within the region `rings` (checked by [`region_rings`]), or within
-/// their grown bounding box.
-fn cells_within(sites: &[Point], rings: Option<&[Vec<Point>]>) -> Result<VoronoiCells> {
+/// their grown bounding box, watched as [`voronoi_cells_watched`] says.
+fn cells_within(sites: &[Point], rings: Option<&[Vec<Point>]>, watch: &Watch) -> Result<VoronoiCells> {
     validate_points("sites", sites, 1)?;
     check_distinct(sites)?;
-    let (offsets, adjacent) = neighbours(sites)?;
-    clipped_cells(sites, rings, |frame| {
-        (0..sites.len())
-            .into_par_iter()
-            .map_init(
-                || (Vec::with_capacity(16), Vec::with_capacity(16)),
-                |buffers, i| convex_cell(i, &frame.sites, &adjacent[offsets[i]..offsets[i + 1]], &frame.start, buffers),
-            )
-            .collect()
+    // The cuts and the cells written; the triangulation plans its own steps.
+    watch.plan(2 * sites.len() as u64);
+    let (offsets, adjacent) = neighbours(sites, watch)?;
+    clipped_cells(sites, rings, watch, |frame| {
+        let scratch = || (Vec::with_capacity(16), Vec::with_capacity(16));
+        let cut = |buffers: &mut _, i: usize| {
+            convex_cell(i, &frame.sites, &adjacent[offsets[i]..offsets[i + 1]], &frame.start, buffers)
+        };
+        // A cancelled outcome is told by the watch (`clipped_cells` looks right after).
+        each_watched(sites.len(), watch, "sites", scratch, cut).unwrap_or_default()
     })
 }
+
+/// Cells [`clipped_cells`] welds or writes out between two looks at the watch.
+const CELL_BLOCK: usize = 1 << 12;
 
 /// What a convex-cell builder works with: the working frame of the sites and the region,
 /// the sites in it, and the region's bounding box in it (the polygon every cell is cut from).
@@ -563,11 +588,16 @@ pub(super) struct CellFrame {
 /// cells `convex` computes in the working frame (one counter-clockwise ring per site, empty
 /// for an empty cell, each within `start`): they are welded, cut by the region, repaired and
 /// mapped back to world coordinates. Voronoi and power cells both end here.
+///
+/// A step of `watch` per cell written (planned by the caller); once `watch` is cancelled
+/// (also while `convex` runs) the outcome is [`cancelled`] within a block of cells.
 pub(super) fn clipped_cells(
     sites: &[Point],
     rings: Option<&[Vec<Point>]>,
+    watch: &Watch,
     convex: impl FnOnce(&CellFrame) -> Vec<Vec<Point>>,
 ) -> Result<VoronoiCells> {
+    let stop = || if watch.is_cancelled() { Err(cancelled("sites")) } else { Ok(()) };
     let default;
     let rings = match rings {
         Some(rings) => rings,
@@ -591,22 +621,31 @@ pub(super) fn clipped_cells(
     let clip_region = if rectangle { None } else { Some(ClipRegion::new(&local_rings, b)?) };
 
     let convex: Vec<Vec<Point>> = convex(&CellFrame { frame, sites: local_sites, start });
+    stop()?;
 
     // 2^-40 of the region's size: far above the rounding of independently computed copies of
     // one vertex, far below any feature of a meaningful region. Welding before the region cut
     // hands the clipper bit-identical shared edges, so it cuts them alike in both cells.
     let mut welder = Welder::new((b.max[0] - b.min[0]).max(b.max[1] - b.min[1]) * 2f64.powi(-40));
     let mut convex = convex;
-    for ring in convex.iter_mut() {
-        welder.ring(ring);
-        if ring.len() < 3 || ring_signed_area(ring) <= 0.0 {
-            ring.clear();
+    for block in convex.chunks_mut(CELL_BLOCK) {
+        stop()?;
+        for ring in block {
+            welder.ring(ring);
+            if ring.len() < 3 || ring_signed_area(ring) <= 0.0 {
+                ring.clear();
+            }
         }
     }
     let pieces: Vec<Vec<Vec<Vec<Point>>>> = match &clip_region {
         None => convex.into_iter().map(|ring| if ring.is_empty() { Vec::new() } else { vec![vec![ring]] }).collect(),
         Some(region) => {
-            let mut clipped: Vec<Vec<Vec<Vec<Point>>>> = convex.into_par_iter().map(|cell| region.clip(cell)).collect();
+            // A cancelled run's cells are never read (a skipped cell is left empty).
+            let mut clipped: Vec<Vec<Vec<Vec<Point>>>> = convex
+                .into_par_iter()
+                .map(|cell| if watch.is_cancelled() { Vec::new() } else { region.clip(cell) })
+                .collect();
+            stop()?;
             for ring in clipped.iter_mut().flatten().flatten() {
                 welder.ring(ring);
             }
@@ -623,7 +662,11 @@ pub(super) fn clipped_cells(
         exterior: Vec::new(),
     };
     cells.offsets.push(0);
-    for cell in &pieces {
+    for (k, cell) in pieces.iter().enumerate() {
+        if k % CELL_BLOCK == 0 {
+            stop()?;
+            watch.advance(CELL_BLOCK.min(pieces.len() - k) as u64);
+        }
         let mut area = 0.0;
         for piece in cell {
             for (r, ring) in piece.iter().enumerate() {
@@ -644,6 +687,29 @@ pub(super) fn clipped_cells(
 mod tests {
     use super::*;
     use crate::partition::testing::lcg_cloud;
+
+    #[test]
+    fn watched_cells_count_three_steps_per_site_and_a_cancel_leaves_no_answer() {
+        // 150,000 sites (two strips), in the default box and in an L-shaped region (cells cut
+        // by the clipper too). Watching changes nothing in the cells.
+        let sites = lcg_cloud(150_000, 31, [0.0, 0.0], 1.0);
+        let (vertices, offsets) =
+            (vec![[0.0, 0.0], [1.0, 0.0], [1.0, 0.5], [0.5, 0.5], [0.5, 1.0], [0.0, 1.0]], [0, 6]);
+        for region in [None, Some(Region { vertices: &vertices, ring_offsets: &offsets })] {
+            let watch = Watch::new();
+            let watched = voronoi_cells_watched(&sites, region, &watch).unwrap();
+            assert_eq!(watch.progress(), (450_000, 450_000));
+            let rings = region.map(region_rings).transpose().unwrap();
+            assert_eq!(watched, cells_within(&sites, rings.as_deref(), &Watch::new()).unwrap());
+            let cancelled = Watch::new();
+            cancelled.cancel();
+            assert!(voronoi_cells_watched(&sites, region, &cancelled).is_err());
+            // Cancelled once the triangulation is done, and once the cells are cut.
+            for mark in [150_000, 300_000] {
+                crate::cancel::testing::cancelled_after(mark, |watch| voronoi_cells_watched(&sites, region, watch));
+            }
+        }
+    }
 
     fn ring_of(cells: &VoronoiCells, i: usize) -> Vec<&[Point]> {
         let (lo, hi) = (cells.offsets[i], cells.offsets[i + 1]);

@@ -7,12 +7,12 @@ use pyo3::types::{PyBool, PyDict, PyString};
 use super::convert::{as_point_slice, index_values, on_error_arg, optional_float_arg, seed_arg, Cloud};
 use super::errors::argument_error;
 use super::fields::Fields;
-use super::runtime::{progress_arg, run_watched};
+use super::runtime::{progress_arg, run_on_points, run_watched};
 use super::{points_arg, run_detached};
 use crate::cancel::Watch;
 use crate::geometry::Point;
 use crate::network::{
-    spanning_tree, spanning_trees, steiner_tree, steiner_trees, EdgeEnd, SteinerMethod, SteinerOptions,
+    spanning_tree_watched, spanning_trees, steiner_tree, steiner_trees, EdgeEnd, SteinerMethod, SteinerOptions,
 };
 
 fn point_array<'py>(py: Python<'py>, points: &[Point]) -> PyResult<Bound<'py, PyArray2<f64>>> {
@@ -83,11 +83,14 @@ fn spanning_ends(edges: &[[usize; 2]]) -> (Vec<i64>, Vec<i64>) {
 
 /// Fields: end_a, end_b (E,) input rows (smaller first), edge_length (E,), length.
 #[pyfunction]
-#[pyo3(signature = (points))]
-fn spanning_tree_single<'py>(py: Python<'py>, points: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyDict>> {
-    let points = points_arg(points, "points")?;
-    let pts = as_point_slice(&points);
-    let t = run_detached(py, || spanning_tree(pts))?;
+#[pyo3(signature = (points, progress=None))]
+fn spanning_tree_single<'py>(
+    py: Python<'py>,
+    points: &Bound<'py, PyAny>,
+    progress: Option<&Bound<'py, PyAny>>,
+) -> PyResult<Bound<'py, PyDict>> {
+    let label = "spanning_tree (points triangulated, edges taken)";
+    let t = run_on_points(py, points, "points", progress, label, spanning_tree_watched)?;
     let (end_a, end_b) = spanning_ends(&t.edges);
     Ok(Fields::new(py)
         .put("end_a", PyArray1::from_vec(py, end_a))?

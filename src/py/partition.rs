@@ -12,12 +12,13 @@ use rayon::prelude::*;
 
 use super::convert::{as_point_slice, index_rows, index_values, on_error_arg, region_arg, Cloud};
 use super::fields::Fields;
+use super::runtime::run_on_points;
 use super::{labels_arg, points_arg, run_detached, weights_arg};
 use crate::batch::RowPlaces;
 use crate::geometry::{Point, Weights};
 use crate::partition::{
-    delaunay, delaunay_grouped as delaunay_groups, nearest_site, nearest_site_grouped as nearest_site_groups,
-    voronoi_cells, voronoi_cells_grouped as voronoi_cells_groups, Region, Triangulation, VoronoiCells,
+    delaunay_grouped as delaunay_groups, delaunay_watched, nearest_site, nearest_site_grouped as nearest_site_groups,
+    voronoi_cells_grouped as voronoi_cells_groups, voronoi_cells_watched, Region, Triangulation, VoronoiCells,
 };
 use crate::partition::{power_cells, power_cells_grouped as power_cells_groups, PowerCells};
 
@@ -50,12 +51,15 @@ fn positions(places: &RowPlaces) -> Vec<i64> {
 /// Fields: corners (m, 3), across (m, 3) with -1 on the outline, outline (h,), edges (e, 2),
 /// representative (n,), area (m,).
 #[pyfunction]
-#[pyo3(signature = (points,))]
-fn delaunay_single<'py>(py: Python<'py>, points: &Bound<'py, PyAny>) -> PyResult<Bound<'py, PyDict>> {
-    let points = points_arg(points, "points")?;
-    let pts = as_point_slice(&points);
-    let (area, t) = run_detached(py, || {
-        let t = delaunay(pts)?;
+#[pyo3(signature = (points, progress=None))]
+fn delaunay_single<'py>(
+    py: Python<'py>,
+    points: &Bound<'py, PyAny>,
+    progress: Option<&Bound<'py, PyAny>>,
+) -> PyResult<Bound<'py, PyDict>> {
+    let label = "delaunay (points triangulated)";
+    let (area, t) = run_on_points(py, points, "points", progress, label, |pts, watch| {
+        let t = delaunay_watched(pts, watch)?;
         Ok((t.areas(pts), t))
     })?;
     let across = across_values(&t.adjacent, 0);
@@ -126,18 +130,18 @@ pub(super) fn cell_fields<'py>(py: Python<'py>, fields: Fields<'py>, cells: Voro
 
 /// Fields: vertices (V, 2), offsets (n + 1,), parts (R + 1,), area (n,), exterior (R,).
 #[pyfunction]
-#[pyo3(signature = (sites, region_vertices, ring_offsets))]
+#[pyo3(signature = (sites, region_vertices, ring_offsets, progress=None))]
 fn voronoi_cells_single<'py>(
     py: Python<'py>,
     sites: &Bound<'py, PyAny>,
     region_vertices: Option<&Bound<'py, PyAny>>,
     ring_offsets: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
-    let sites = points_arg(sites, "sites")?;
-    let s = as_point_slice(&sites);
     let region = region_arg(region_vertices, ring_offsets)?;
     let region = region.as_ref().map(|(v, o)| Region { vertices: as_point_slice(v), ring_offsets: o });
-    let cells = run_detached(py, || voronoi_cells(s, region))?;
+    let label = "voronoi_cells (sites triangulated, cells cut, cells written)";
+    let cells = run_on_points(py, sites, "sites", progress, label, |s, watch| voronoi_cells_watched(s, region, watch))?;
     Ok(cell_fields(py, Fields::new(py), cells)?.done())
 }
 

@@ -11,9 +11,11 @@ use pyo3::exceptions::PyRuntimeError;
 use pyo3::prelude::*;
 use pyo3::types::{PyBool, PyDict};
 
+use super::convert::{as_point_slice, points_arg};
 use super::errors::{argument_error, input_error};
 use crate::cancel::Watch;
 use crate::error::Error;
+use crate::geometry::Point;
 
 /// The pool chosen with `set_threads`; `None` means rayon's global pool, whose size follows
 /// `RAYON_NUM_THREADS` (default: one thread per core).
@@ -140,6 +142,24 @@ impl<'py> Progress<'py> {
             _ => Ok(()),
         }
     }
+}
+
+/// `kernel` on the points of `argument`, watched: a progress bar or callable labelled
+/// `label`, and Ctrl-C. The kernels run this way (spherical and planar triangulations,
+/// Voronoi cells and spanning trees) have no partial answer, so they take no time limit.
+pub(crate) fn run_on_points<'py, T: Send>(
+    py: Python<'py>,
+    points: &Bound<'py, PyAny>,
+    argument: &'static str,
+    progress: Option<&Bound<'py, PyAny>>,
+    label: &'static str,
+    kernel: impl FnOnce(&[Point], &Watch) -> Result<T, Error> + Send,
+) -> PyResult<T> {
+    let mut progress = progress_arg(progress, label)?;
+    let points = points_arg(points, argument)?;
+    let pts = as_point_slice(&points);
+    let watch = Watch::new();
+    run_watched(py, &watch, &mut progress, || kernel(pts, &watch))
 }
 
 /// Run a long kernel that polls `watch`: on a worker thread with the GIL released, while

@@ -5,11 +5,9 @@ use numpy::{PyArray1, PyArray2, PyArrayMethods};
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
 
-use super::convert::{as_point_slice, float_arg, index_rows, index_values};
+use super::convert::{float_arg, index_rows, index_values};
 use super::fields::Fields;
-use super::points_arg;
-use super::runtime::{progress_arg, run_watched};
-use crate::cancel::Watch;
+use super::runtime::run_on_points;
 use crate::geodesic::{
     sphere_delaunay_watched, sphere_spanning_tree_watched, sphere_voronoi_cells_watched, SphereCellOptions,
 };
@@ -23,24 +21,6 @@ fn rows<'py>(py: Python<'py>, flat: Vec<i64>, width: usize) -> PyResult<Bound<'p
 fn coordinates<'py>(py: Python<'py>, points: &[Point]) -> PyResult<Bound<'py, PyArray2<f64>>> {
     let flat: Vec<f64> = points.iter().flatten().copied().collect();
     PyArray1::from_vec(py, flat).reshape([points.len(), 2])
-}
-
-/// `kernel` on the lon/lat points of `argument`, watched: a progress bar or callable
-/// labelled `label`, and Ctrl-C. The spherical kernels have no partial answer, so they take
-/// no time limit.
-fn run_on_points<'py, T: Send>(
-    py: Python<'py>,
-    points: &Bound<'py, PyAny>,
-    argument: &'static str,
-    progress: Option<&Bound<'py, PyAny>>,
-    label: &'static str,
-    kernel: impl FnOnce(&[Point], &Watch) -> crate::error::Result<T> + Send,
-) -> PyResult<T> {
-    let mut progress = progress_arg(progress, label)?;
-    let points = points_arg(points, argument)?;
-    let pts = as_point_slice(&points);
-    let watch = Watch::new();
-    run_watched(py, &watch, &mut progress, || kernel(pts, &watch))
 }
 
 /// Fields: corners (m, 3), across (m, 3) with -1 on the boundary, edges (e, 2), boundary

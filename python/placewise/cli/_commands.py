@@ -38,16 +38,10 @@ def _site_watch(args: argparse.Namespace, frame: Any, place: dict[str, Any]) -> 
     return _progress(args) if on_earth else {}
 
 
-def _sphere_watch(args: argparse.Namespace, frame: Any, name: str) -> dict[str, Any]:
-    """The progress bar (see ``_progress``) for a run that falls back to the spherical kernels
-    (geographic points no working frame holds); a planar run reports no progress and refuses
-    one. Only asked (by preparing the points) when a bar would be shown."""
-    from ..gis._frames import goes_to_sphere
-
-    watch = _progress(args)
-    if watch and goes_to_sphere(frame, name, by=getattr(args, "by", None), **_common(args)):
-        return watch
-    return {}
+def _ungrouped_watch(args: argparse.Namespace) -> dict[str, Any]:
+    """The progress bar (see ``_progress``) for a kernel that reports progress on an
+    ungrouped run, planar or spherical; a run with ``--by`` reports none and refuses one."""
+    return _progress(args) if getattr(args, "by", None) is None else {}
 
 
 def _cmd_weber_point(args: argparse.Namespace) -> None:
@@ -104,7 +98,7 @@ def _cmd_voronoi_cells(args: argparse.Namespace) -> None:
     region = None if args.region is None else read_points(args.region, args, "the region", (), main=False)
     demand = None if args.demand is None else read_points(args.demand, args, "the demand", ("weight",), main=False)
     out = gis.voronoi_cells(sites, region, demand=demand, weight=args.weight, **_common(args),
-                            **_sphere_watch(args, sites, "sites"))
+                            **_ungrouped_watch(args))
     write_frame(out, args.output, args, "cells")
     area, unit = _measure(out, "area")
     _note(args, f"{len(out)} cell(s); total area {out[area].sum():.6g} {_unit_text(unit[:-1])} squared")
@@ -119,7 +113,8 @@ def _cmd_delaunay(args: argparse.Namespace) -> None:
     pf = prepare(read_points(args.input, args, flags=("by",)), "frame", by=args.by, **_common(args))
     groups = pf.groups
     rows = {"points": pf.rows}
-    result = call(delaunay, pf.xy, groups=groups, rows=rows, **({} if groups is None else {"errors": args.errors}))
+    result = call(delaunay, pf.xy, groups=groups, rows=rows, **({} if groups is None else {"errors": args.errors}),
+                  **_ungrouped_watch(args))
     out = framed(result, pf, groups, rows, row_columns=("corner_a", "corner_b", "corner_c"))
     write_frame(out, args.output, args, "triangles")
     area, unit = _measure(out, "area")
@@ -161,7 +156,7 @@ def _cmd_spanning_tree(args: argparse.Namespace) -> None:
     from .. import gis
 
     frame = read_points(args.input, args)
-    net = gis.spanning_tree(frame, **_by(args), **_common(args), **_sphere_watch(args, frame, "frame"))
+    net = gis.spanning_tree(frame, **_by(args), **_common(args), **_ungrouped_watch(args))
     write_frame(net.edges, args.output, args, "edges")
     _write_summary(net.summary, args)
     _network_note(args, net)
@@ -232,7 +227,7 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
     p = command("enclosing-ellipse", _cmd_enclosing_ellipse, "the minimum-area ellipse covering the points", [by])
     p.add_argument("--tol", type=_positive_float, default=1e-7, help="relative area gap allowed [1e-7]")
     command("delaunay", _cmd_delaunay, "the Delaunay triangulation of the points (triangles named by their "
-            "corners' rows or --id values)", [by])
+            "corners' rows or --id values)", [by, watch])
     p = command("voronoi-cells", _cmd_voronoi_cells, "catchments: each site's Voronoi cell clipped to a region",
                 [weight, watch])
     p.add_argument("--region", metavar="FILE", help="polygons of the study region (default: sites' box + 10%%)")

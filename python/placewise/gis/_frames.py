@@ -461,24 +461,6 @@ def prepare_or_sphere(obj: Any, name: str, *, planar: bool, centroids: bool, wor
         return prepare(obj, name, planar=planar, centroids=centroids, work=ELLIPSOID)
 
 
-def goes_to_sphere(obj: Any, name: str, *, planar: bool, centroids: bool, work_crs: Any,
-                   max_scale_error: float, by: str | None = None) -> bool:
-    """True when :func:`prepare_or_sphere` hands ``obj`` to the spherical kernels, the ones
-    that report progress. Geographic input without ``by`` and ``work_crs`` is prepared to
-    find out (whether a working frame holds it); the rest is answered from the arguments."""
-    crs = getattr(obj, "crs", None)
-    if planar or by is not None or work_crs is not None or crs is None or not CRS(crs).is_geographic:
-        return False
-    return prepare_or_sphere(obj, name, planar=planar, centroids=centroids, work_crs=work_crs,
-                             max_scale_error=max_scale_error).ellipsoid
-
-
-# Where ``progress`` applies for the functions that fall back to the spherical kernels, and
-# why their planar runs refuse it (arguments of :func:`on_earth_only`).
-SPHERE_ONLY = ("on the sphere only (geographic input no working frame holds within max_scale_error, without by "
-               "or work_crs)", "the planar kernel reports no progress")
-
-
 def on_earth_only(kernel: Callable[..., Any],
                   where: str = "on the ellipsoid only (geographic input without work_crs or region)",
                   why: str = "the planar kernel is exact and ends in well under a second") -> Callable[..., Any]:

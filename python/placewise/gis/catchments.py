@@ -22,12 +22,10 @@ from .._core import InputError
 from .._sphere import SPHERE_MODEL
 from ._frames import (
     MAX_SCALE_ERROR,
-    SPHERE_ONLY,
     Prepared,
     call,
     framed,
     groups_of,
-    on_earth_only,
     prepare,
     prepare_or_sphere,
 )
@@ -103,10 +101,11 @@ def voronoi_cells(
     weight : str or array_like, optional
         Demand weight column (or values); default 1 per demand row.
     progress : bool or callable
-        On the sphere (see below): a progress bar on stderr (True) or a callable ``(done,
-        total)``, for the cells and then, with ``demand``, for the demand rows served (each
-        count rising to its own total); Ctrl-C stops the run either way. On a planar run an
-        ``InputError`` naming it: the planar kernel reports no progress.
+        Without ``by``: a progress bar on stderr (True) or a callable ``(done, total)`` for
+        the cells, on the sphere and in the plane alike, and on the sphere (see below) with
+        ``demand`` then for the demand rows served (each count rising to its own total);
+        Ctrl-C stops the run either way. With ``by``, an ``InputError`` naming it: a grouped
+        run reports no progress.
 
     Geographic sites that no working frame holds within ``max_scale_error`` (global, polar,
     wide across the antimeridian; without ``by`` and ``work_crs``) get spherical Voronoi
@@ -146,8 +145,7 @@ def voronoi_cells(
     groups = groups_of(pf.frame, by, "sites")
     rows = {"sites": pf.rows}
     grouped = {} if groups is None else {"errors": errors}
-    result = call(on_earth_only(_pw.voronoi_cells, *SPHERE_ONLY), pf.xy, geom, groups=groups, rows=rows,
-                  progress=progress, **grouped)
+    result = call(_pw.voronoi_cells, pf.xy, geom, groups=groups, rows=rows, progress=progress, **grouped)
     # The kernel's rows are the sites in input order: one row per site, with its own columns.
     cells = framed(result, pf, groups, rows)
     out = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=cells.geometry.values,

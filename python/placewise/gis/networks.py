@@ -9,11 +9,9 @@ import placewise as _pw
 from .._sphere import SPHERE_MODEL
 from ._frames import (
     MAX_SCALE_ERROR,
-    SPHERE_ONLY,
     call,
     framed,
     in_user_terms,
-    on_earth_only,
     prepare,
     prepare_or_sphere,
     with_unit,
@@ -46,7 +44,7 @@ def _network(kernel: Any, frame: Any, by: str | None, planar: bool, centroids: b
              options: dict[str, Any], model: dict[str, Any], sphere: Any = None) -> Network:
     if sphere is not None:
         pf = prepare_or_sphere(frame, "frame", planar=planar, centroids=centroids, by=by, **model)
-        kernel = sphere if pf.ellipsoid else on_earth_only(kernel, *SPHERE_ONLY)
+        kernel = sphere if pf.ellipsoid else kernel
     else:
         pf = prepare(frame, "frame", planar=planar, centroids=centroids, by=by, **model)
     groups = pf.groups
@@ -80,9 +78,9 @@ def spanning_tree(
     Parameters
     ----------
     progress : bool or callable
-        On the sphere: a progress bar on stderr (True) or a callable ``(done, total)``;
-        Ctrl-C stops the run either way. On a planar run an ``InputError`` naming it: the
-        planar kernel reports no progress.
+        Without ``by``: a progress bar on stderr (True) or a callable ``(done, total)``, on
+        the sphere and in the plane alike; Ctrl-C stops the run either way. With ``by``, an
+        ``InputError`` naming it: a grouped run reports no progress.
 
     Returns
     -------

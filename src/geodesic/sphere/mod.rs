@@ -35,7 +35,7 @@ mod hull;
 use rstar::RTree;
 
 use super::earth::{normalised_longitude, unit_normal, validate_lonlat, Earth};
-use crate::cancel::{cancelled, Watch};
+use crate::cancel::{cancelled, each_watched, Watch};
 use crate::error::{Error, Result};
 use crate::geometry::Point;
 use crate::network::union_find::UnionFind;
@@ -194,32 +194,14 @@ impl Sphere {
 }
 
 /// `measure(k)` for `k` in `0..count`, in parallel, one step of `watch` each (planned by the
-/// caller). Once `watch` is cancelled the items left are skipped and the outcome is
-/// [`cancelled`] about `argument`: the areas and lengths of a triangulation, a tree or a set
-/// of cells are only an answer when all are measured.
+/// caller); a cancelled run has no values (see [`each_watched`]).
 pub(crate) fn measured_watched(
     count: usize,
     watch: &Watch,
     argument: &'static str,
     measure: impl Fn(usize) -> f64 + Sync + Send,
 ) -> Result<Vec<f64>> {
-    use rayon::prelude::*;
-    let values = (0..count)
-        .into_par_iter()
-        .map(|k| {
-            // A cancelled run's values are never read (NaN fills the items skipped).
-            if watch.is_cancelled() {
-                return f64::NAN;
-            }
-            let value = measure(k);
-            watch.advance(1);
-            value
-        })
-        .collect();
-    if watch.is_cancelled() {
-        return Err(cancelled(argument));
-    }
-    Ok(values)
+    each_watched(count, watch, argument, || (), |_, k| measure(k))
 }
 
 /// The spherical Delaunay triangulation of `points` (`[lon, lat]` degrees).

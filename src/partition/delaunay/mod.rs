@@ -27,6 +27,7 @@ use rayon::prelude::*;
 use spade::Point2;
 
 use crate::batch::{run_grouped_placed, Grouped, OnGroupError, RowPlaces};
+use crate::cancel::{cancelled, Watch};
 use crate::error::Result;
 use crate::geometry::{ring_signed_area, validate_points, Point, Weights};
 use adapter::{position_key, Scale};
@@ -73,7 +74,20 @@ pub struct Triangulation {
 /// O(n log n) (the sweep's distance sort), near linear in practice, spread over the strips;
 /// duplicates add one hash pass.
 pub fn delaunay(points: &[Point]) -> Result<Triangulation> {
-    delaunay_in_strips(points, strip_count(points.len()))
+    delaunay_watched(points, &Watch::new())
+}
+
+/// [`delaunay`] watched: progress counts a step per input point, those of a strip as its
+/// triangulation ends (all at once when the set is triangulated whole), and once `watch` is
+/// cancelled the run stops when the strips under way end (a strip's triangulation, at most
+/// 250,000 points, is not interrupted). A triangulation exists only once it is whole, so a
+/// cancelled run has no answer: its outcome is an error that the caller drops
+/// ([`Watch::finish`]). Watching changes nothing in the triangulation.
+///
+/// # Errors
+/// As [`delaunay`].
+pub fn delaunay_watched(points: &[Point], watch: &Watch) -> Result<Triangulation> {
+    delaunay_in_strips(points, strip_count(points.len()), watch)
 }
 
 /// [`delaunay`] of every group of a labelled cloud, in parallel (by the crate's grouped runner).
@@ -125,16 +139,27 @@ fn strip_count(n: usize) -> usize {
     }
 }
 
-/// [`delaunay`] with a given number of strips (tests force the stitched path on small input).
-fn delaunay_in_strips(points: &[Point], strips: usize) -> Result<Triangulation> {
+/// [`delaunay_watched`] with a given number of strips (tests force the stitched path on
+/// small input).
+fn delaunay_in_strips(points: &[Point], strips: usize, watch: &Watch) -> Result<Triangulation> {
     validate_points("points", points, 3)?;
+    watch.plan(points.len() as u64);
     let scale = Scale::of(points);
     let positions: Vec<Point2<f64>> = points.par_iter().map(|&p| scale.apply(p)).collect();
-    let mesh = match (strips > 1).then(|| strips::by_strips(&positions, strips)).flatten() {
-        Some(mesh) => mesh,
-        None => whole::whole(&positions)?,
+    let mut counted = 0;
+    let mesh = match (strips > 1).then(|| strips::by_strips(&positions, strips, watch, &mut counted)).flatten() {
+        Some(mesh) => Ok(mesh),
+        // A cancel also ends the strips without a mesh: it must not start the whole set.
+        None if watch.is_cancelled() => return Err(cancelled("points")),
+        None => whole::whole(&positions),
     };
-    let Mesh { mut triangles, adjacent, mut hull, kept } = mesh;
+    // Every point is counted once whatever the path: here, those of a set triangulated whole
+    // or refused (strips whose stitch was not accepted were counted as they ended).
+    watch.advance((points.len() - counted) as u64);
+    if watch.is_cancelled() {
+        return Err(cancelled("points"));
+    }
+    let Mesh { mut triangles, adjacent, mut hull, kept } = mesh?;
     let representative = representatives(points, scale, kept);
     if kept < points.len() {
         // spade keeps one row of each repeated location, not necessarily the smallest.
@@ -274,6 +299,25 @@ mod tests {
     use crate::partition::testing::lcg_cloud;
     use proptest::prelude::*;
     use testing::triangle_set;
+
+    #[test]
+    fn watched_runs_count_a_step_per_point_and_a_cancel_leaves_no_answer() {
+        // 300,000 points: three strips (counted as each ends). Watching changes nothing in
+        // the triangulation; a cancel before the start or after the first strip ends the run
+        // with no answer.
+        let pts = lcg_cloud(300_000, 17, [0.0, 0.0], 1.0);
+        let watch = Watch::new();
+        let watched = delaunay_watched(&pts, &watch).unwrap();
+        assert_eq!(watch.progress(), (300_000, 300_000));
+        assert_eq!(watched, delaunay_in_strips(&pts, strip_count(pts.len()), &Watch::new()).unwrap());
+        let cancelled = Watch::new();
+        cancelled.cancel();
+        assert!(delaunay_watched(&pts, &cancelled).is_err());
+        // Cancelled before the start: no strip was triangulated.
+        assert_eq!(cancelled.progress(), (0, 300_000));
+        let (done, total) = crate::cancel::testing::cancelled_after(1, |watch| delaunay_watched(&pts, watch));
+        assert!(done <= total && total == 300_000);
+    }
 
     #[test]
     fn grid_has_two_triangles_per_cell() {

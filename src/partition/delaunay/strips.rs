@@ -3,6 +3,7 @@
 //! construction, Blelloch et al. 1999, Chen 2010).
 
 use std::collections::HashMap;
+use std::sync::atomic::{AtomicUsize, Ordering};
 
 use rayon::prelude::*;
 use spade::{ConstrainedDelaunayTriangulation, Point2, Triangulation as SpadeTriangulation};
@@ -10,6 +11,7 @@ use spade::{ConstrainedDelaunayTriangulation, Point2, Triangulation as SpadeTria
 use super::adapter::{collinear, faces_of, hull_of, Vertex};
 use super::whole::triangulate;
 use super::Mesh;
+use crate::cancel::Watch;
 use crate::geometry::predicates::incircle;
 
 /// One strip's triangulation.
@@ -68,7 +70,11 @@ fn circle_within(a: Point2<f64>, b: Point2<f64>, c: Point2<f64>, lower: Option<f
 /// once, the triangle count is Euler's `2n − 2 − h`, and the exact in-circle test passes
 /// across every constraint edge (edges inside a strip or inside the seam are locally
 /// Delaunay by construction; locally Delaunay everywhere is Delaunay, Delaunay 1934).
-pub(super) fn by_strips(positions: &[Point2<f64>], strips: usize) -> Option<Mesh> {
+///
+/// Each strip's points are counted on `watch` as its triangulation ends (`counted` says how
+/// many were); once `watch` is cancelled the strips not yet begun are skipped and the
+/// outcome is `None` (the caller tells a cancel from an unsuitable input).
+pub(super) fn by_strips(positions: &[Point2<f64>], strips: usize, watch: &Watch, counted: &mut usize) -> Option<Mesh> {
     let n = positions.len();
     let mut xs: Vec<f64> = positions.iter().map(|p| p.x).collect();
     let cuts: Vec<f64> = (1..strips)
@@ -93,14 +99,18 @@ pub(super) fn by_strips(positions: &[Point2<f64>], strips: usize) -> Option<Mesh
         return None;
     }
 
+    let done = AtomicUsize::new(0);
     let built: Vec<Option<Strip>> = members
         .into_par_iter()
         .enumerate()
         .map(|(j, vertices)| {
-            if collinear(vertices.iter().map(|v| v.position)) {
+            if watch.is_cancelled() || collinear(vertices.iter().map(|v| v.position)) {
                 return None;
             }
+            let size = vertices.len();
             let dt = triangulate(vertices)?;
+            watch.advance(size as u64);
+            done.fetch_add(size, Ordering::Relaxed);
             if dt.num_inner_faces() == 0 {
                 return None;
             }
@@ -110,6 +120,7 @@ pub(super) fn by_strips(positions: &[Point2<f64>], strips: usize) -> Option<Mesh
             Some(Strip { triangles, adjacent, fixed, hull: hull_of(&dt), kept: dt.num_vertices() })
         })
         .collect();
+    *counted = done.into_inner();
     let built: Vec<Strip> = built.into_iter().collect::<Option<_>>()?;
 
     // Seam vertices and the constraint edges (u, v): counter-clockwise edges of fixed
@@ -353,10 +364,13 @@ mod tests {
             (clustered, 4),
         ];
         for (seed, (pts, strips)) in clouds.into_iter().enumerate() {
-            assert!(by_strips(&positions(&pts), strips).is_some(), "cloud {seed}: the stitch was refused");
-            let stitched = delaunay_in_strips(&pts, strips).unwrap();
+            assert!(
+                by_strips(&positions(&pts), strips, &Watch::new(), &mut 0).is_some(),
+                "cloud {seed}: the stitch was refused"
+            );
+            let stitched = delaunay_in_strips(&pts, strips, &Watch::new()).unwrap();
             check_triangulation(&pts, &stitched).unwrap();
-            let whole = delaunay_in_strips(&pts, 1).unwrap();
+            let whole = delaunay_in_strips(&pts, 1, &Watch::new()).unwrap();
             assert_eq!(triangle_set(&stitched), triangle_set(&whole));
             assert_eq!(stitched.hull, whole.hull);
             let mut a = stitched.edges.clone();
@@ -373,12 +387,12 @@ mod tests {
         // (exact in-circle check), 2 (k − 1)² triangles for a k × k grid (closed form).
         let k = 150usize;
         let mut pts: Vec<Point> = (0..k * k).map(|i| [(i % k) as f64, (i / k) as f64]).collect();
-        assert!(by_strips(&positions(&pts), 4).is_some(), "the grid stitch was refused");
-        let t = delaunay_in_strips(&pts, 4).unwrap();
+        assert!(by_strips(&positions(&pts), 4, &Watch::new(), &mut 0).is_some(), "the grid stitch was refused");
+        let t = delaunay_in_strips(&pts, 4, &Watch::new()).unwrap();
         assert_eq!(t.triangles.len(), 2 * (k - 1) * (k - 1));
         check_triangulation(&pts, &t).unwrap();
         pts.extend_from_within(..500);
-        let t = delaunay_in_strips(&pts, 3).unwrap();
+        let t = delaunay_in_strips(&pts, 3, &Watch::new()).unwrap();
         assert_eq!(t.triangles.len(), 2 * (k - 1) * (k - 1));
         assert_eq!(t.representative[k * k + 7], 7);
         check_triangulation(&pts, &t).unwrap();
@@ -388,8 +402,8 @@ mod tests {
     fn strips_that_cannot_be_triangulated_fall_back() {
         // Two columns of points: each strip is collinear, so the input is triangulated whole.
         let pts: Vec<Point> = (0..200).map(|i| [(i % 2) as f64, (i / 2) as f64]).collect();
-        assert!(by_strips(&positions(&pts), 2).is_none());
-        let t = delaunay_in_strips(&pts, 2).unwrap();
+        assert!(by_strips(&positions(&pts), 2, &Watch::new(), &mut 0).is_none());
+        let t = delaunay_in_strips(&pts, 2, &Watch::new()).unwrap();
         check_triangulation(&pts, &t).unwrap();
         assert_eq!(t.triangles.len(), 2 * 99);
     }
@@ -403,7 +417,7 @@ mod tests {
         ) {
             // Heavily degenerate input through the stitched path (or its fallback).
             let pts: Vec<Point> = raw.iter().map(|&(x, y)| [x as f64, y as f64]).collect();
-            match delaunay_in_strips(&pts, strips) {
+            match delaunay_in_strips(&pts, strips, &Watch::new()) {
                 Ok(t) => prop_assert_eq!(check_triangulation(&pts, &t), Ok(())),
                 Err(e) => prop_assert!(e.is_degenerate()),
             }
@@ -413,9 +427,9 @@ mod tests {
         fn stitched_clouds_equal_whole(seed in 0u64..1000, strips in 2usize..6) {
             // General position: unique triangulation (Delaunay 1934), stitched = whole.
             let pts = lcg_cloud(3000, seed, [0.0, 0.0], 1.0);
-            let stitched = delaunay_in_strips(&pts, strips).unwrap();
+            let stitched = delaunay_in_strips(&pts, strips, &Watch::new()).unwrap();
             prop_assert_eq!(check_triangulation(&pts, &stitched), Ok(()));
-            prop_assert_eq!(triangle_set(&stitched), triangle_set(&delaunay_in_strips(&pts, 1).unwrap()));
+            prop_assert_eq!(triangle_set(&stitched), triangle_set(&delaunay_in_strips(&pts, 1, &Watch::new()).unwrap()));
         }
     }
 }

@@ -17,6 +17,7 @@ use rayon::prelude::*;
 use super::delaunay::neighbour_lists;
 use super::voronoi::{check_distinct, clip_to_half_plane, clipped_cells, region_rings, Region, VoronoiCells};
 use crate::batch::{run_grouped_placed, Grouped, OnGroupError, RowPlaces};
+use crate::cancel::Watch;
 use crate::error::{Error, Result};
 use crate::geometry::{dot, ring_signed_area, sub, validate_points, Point, Weights};
 
@@ -141,7 +142,7 @@ fn cells_within(sites: &[Point], powers: &[f64], rings: Option<&[Vec<Point>]>) -
     let mut triangulation = None;
     let mut overflow = None;
     let mut collapsed = None;
-    let cells = clipped_cells(sites, rings, |cf| {
+    let cells = clipped_cells(sites, rings, &Watch::new(), |cf| {
         // Powers are squared lengths: they scale by the frame's factor squared.
         let f2 = cf.frame.factor * cf.frame.factor;
         let local_powers: Vec<f64> = shifted.iter().map(|&w| w * f2).collect();
