@@ -75,13 +75,12 @@ pts = rng.uniform(0, 1000, ({n}, 2))
 
 # Sizes at which each call runs at least about 2.5 s on an idle 2-core machine (see
 # benchmarks/RESULTS.md). The triangulation stops when the strips under way end, and a strip
-# holds n / 8 points beyond 2,000,000 (375,000 at 3,000,000: 0.58 s from the signal measured
-# once), so the sizes stay at or below 2,000,000 points. The triangulation alone takes under
-# 2 s there, too short for this check: its stop is checked here inside the spanning tree,
-# whose signal lands in the same triangulation (and by the raising callable above).
+# holds at most about 250,000 points at any size (the triangulation alone: about 4 s for
+# 4,000,000 points at load 3, 0.12-0.29 s from the signal).
 CALLS = {
     "voronoi_cells": (1_000_000, "pw.voronoi_cells(pts)"),
     "spanning_tree": (2_000_000, "pw.spanning_tree(pts)"),
+    "delaunay": (4_000_000, "pw.delaunay(pts)"),
 }
 
 

@@ -79,8 +79,8 @@ pub fn delaunay(points: &[Point]) -> Result<Triangulation> {
 
 /// [`delaunay`] watched: progress counts a step per input point, those of a strip as its
 /// triangulation ends (all at once when the set is triangulated whole), and once `watch` is
-/// cancelled the run stops when the strips under way end (a strip's triangulation, at most
-/// 250,000 points, is not interrupted). A triangulation exists only once it is whole, so a
+/// cancelled the run stops when the strips under way end (a strip's triangulation, under
+/// 500,000 points, is not interrupted). A triangulation exists only once it is whole, so a
 /// cancelled run has no answer: its outcome is an error that the caller drops
 /// ([`Watch::finish`]). Watching changes nothing in the triangulation.
 ///
@@ -129,13 +129,15 @@ pub(crate) fn triangulated_positions(points: &[Point]) -> Vec<Point> {
 pub const STRIPS_FROM: usize = 100_000;
 
 /// Number of strips for `n` points: one below [`STRIPS_FROM`], then one per 250,000 points
-/// (2 to 8). It depends on `n` alone, never on the thread count, so that cocircular input
-/// gets the same triangulation on every machine.
+/// (at least 2). It depends on `n` alone, never on the thread count, so that cocircular
+/// input gets the same triangulation on every machine. No upper limit: a strip's
+/// triangulation cannot be interrupted, so strips of at most about 250,000 points keep a
+/// Ctrl-C prompt at any size.
 fn strip_count(n: usize) -> usize {
     if n < STRIPS_FROM {
         1
     } else {
-        (n / 250_000).clamp(2, 8)
+        (n / 250_000).max(2)
     }
 }
 
