@@ -544,8 +544,8 @@ def steiner_tree(
         Site locations (planar coordinates).
     exact : bool, optional
         True: exact (any number of points; the time grows exponentially in the worst
-        case: uniformly spread ones take about 1 ms for 10, 0.1-0.6 s for 50, 0.6-6 s for
-        100 and about 40 s for 250, on two cores); False: heuristic; None
+        case: uniformly spread ones take about 1 ms for 10, 0.1-0.6 s for 50, 0.4-9 s for
+        100 and 24-37 s for 250, on two cores); False: heuristic; None
         (default): exact when the point count allows an answer within seconds (up to 24
         distinct points, trying for 5 s unless ``time_limit`` says otherwise), else the
         heuristic.

@@ -127,7 +127,10 @@ pub(super) fn equilateral(
     // true s (within half a spacing of some sample) makes that sample pass; the arc is then
     // narrowed to the passing samples, widened by half a spacing, and the equilateral point
     // dies when none passes.
-    const SAMPLES: usize = 16;
+    // 32 rather than 16: the sampled tests are met by few pairs (a few hundred thousand on
+    // 100 terminals) and narrower arcs spare many later pairings (about 1.5x fewer on the
+    // slowest sets measured).
+    const SAMPLES: usize = 32;
     // Rounds of sampling, each on the arc the previous one left, while they still shrink it
     // below REFINE_SHRINK of its length.
     const REFINE_ROUNDS: usize = 8;

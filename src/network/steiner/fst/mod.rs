@@ -81,9 +81,9 @@ pub(crate) struct FullTree {
 ///
 /// # Runtime
 /// Exponential in the worst case. On uniformly spread terminals the pruning keeps
-/// 11,500–49,000 equilateral points for sets of 100 (0.6–6 s on two threads) and about
-/// 150,000 for a set of 250 (53 s), and 2–3 FSTs per terminal; the pairings examined grow
-/// with the square of the points kept. The pairings of each subtree size run in parallel on the rayon pool; the
+/// 10,500–61,500 equilateral points for sets of 100 (0.4–8.6 s on two threads) and 2–3
+/// FSTs per terminal; sets of 250 take 24–37 s. The pairings examined grow with the square
+/// of the points kept. The pairings of each subtree size run in parallel on the rayon pool; the
 /// output is the same on any number of threads.
 pub(crate) fn full_steiner_trees(points: &[Point], bottleneck: &Bottleneck, clock: &Clock) -> Option<Vec<FullTree>> {
     generate(points, bottleneck, clock, true, &mut Vec::new())
