@@ -284,8 +284,8 @@ pub(super) fn equilateral(
                         None => return true,
                     },
                 };
-                if edge.parent.is_some() {
-                    let slack = below_edges[edge.parent.unwrap_or(k)].move_per_step + edge.move_per_step;
+                if let Some(j) = edge.parent {
+                    let slack = below_edges[j].move_per_step + edge.move_per_step;
                     if length(sub(placed[k], from)) - slack * step / 2.0 > edge.limit + TOL {
                         return false;
                     }
