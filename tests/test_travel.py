@@ -259,6 +259,51 @@ def test_choose_sites_matches_discrete_on_scipy_costs():
     np.testing.assert_array_equal(plan.open, expected.open)
 
 
+def test_choose_sites_with_limit_matches_discrete_on_scipy_costs():
+    # Reference: scipy.sparse.csgraph.dijkstra with the same limit; only pairs within it are
+    # offered, so the sparse path (no dense mask of every pair) must give the same cover.
+    n, radius = 100, 12.0
+    tail, head, cost, _ = random_edges(9, n, 400, one_way_share=0.0)
+    tail = np.concatenate([tail, np.arange(n - 1)])
+    head = np.concatenate([head, np.arange(1, n)])
+    cost = np.concatenate([cost, np.full(n - 1, 5.0)])
+    g = pw.TravelGraph.from_edges(tail, head, cost)
+    demand, candidates = np.arange(n), np.arange(0, n, 3)
+    full = csgraph.dijkstra(scipy_matrix(tail, head, cost, np.zeros(len(tail), bool), n), indices=candidates).T
+    within = full <= radius
+    assert within.any(axis=1).all() and not within.all()  # the case under test: some pairs absent
+    rows, cols = np.nonzero(within)
+    ref = scipy_sparse.csr_array((full[rows, cols], (rows, cols)), shape=full.shape)
+    plan = g.choose_sites("cover_all", demand, candidates, limit=radius, radius=radius)
+    expected = pw.discrete.cover_all(ref, radius)
+    np.testing.assert_array_equal(plan.open, expected.open)
+    assert (full[:, plan.open] <= radius).any(axis=1).all()  # every point covered, by scipy's costs
+
+
+def test_choose_sites_progress_counts_searches_then_model():
+    # The cost searches count the candidates (one Dijkstra search each), then the model
+    # counts its own steps; the plan is the one of the unwatched call.
+    n = 60
+    tail, head, cost, _ = random_edges(10, n, 240, one_way_share=0.0)
+    tail = np.concatenate([tail, np.arange(n - 1)])
+    head = np.concatenate([head, np.arange(1, n)])
+    cost = np.concatenate([cost, np.full(n - 1, 5.0)])
+    g = pw.TravelGraph.from_edges(tail, head, cost)
+    demand, candidates = np.arange(n), np.arange(0, n, 4)
+    seen = []
+    plan = g.choose_sites("p_median", demand, candidates, p=3, progress=lambda done, total: seen.append((done, total)))
+    plain = g.choose_sites("p_median", demand, candidates, p=3)
+    np.testing.assert_array_equal(plan.open, plain.open)
+    assert plan.total_cost == plain.total_cost
+    first_total = seen[0][1]
+    assert first_total == len(candidates)
+    searches = [d for d, t in seen if t == first_total]
+    assert searches[-1] == len(candidates) and searches == sorted(searches)
+    assert any(t != first_total for _, t in seen)  # the model's own count follows
+    evaluated = g.choose_sites("evaluate_sites", demand, candidates, sites=plan.open, progress=True)
+    assert evaluated.total_cost == pytest.approx(plain.total_cost, rel=1e-12)
+
+
 def test_choose_sites_refuses_unreachable_demand_naming_rows():
     g = pw.TravelGraph.from_edges([0, 2], [1, 3], [1.0, 1.0])
     with pytest.raises(pw.InputError, match=r"points\[2, 3\].*2 point"):

@@ -634,15 +634,27 @@ class TravelGraph:
     # -------------------------------------------------------------- siting
 
     def site_costs(self, points: ArrayLike, candidates: ArrayLike, *, limit: float | None = None,
-                   max_gap: float | None = None) -> Any:
+                   max_gap: float | None = None,
+                   progress: bool | Callable[[int, int], object] | None = None) -> Any:
         """The demand × candidate travel-cost matrix (travel from candidate ``j`` to point
         ``i``) that :mod:`placewise.discrete` takes: dense with NaN for unreachable pairs, or
-        sparse with a ``limit`` (absent pairs are beyond it or unreachable)."""
-        matrix = self.costs(candidates, points, limit=limit, max_gap=max_gap)
+        sparse with a ``limit`` (absent pairs are beyond it or unreachable). ``progress``
+        counts the candidates searched, as in :meth:`costs`.
+
+        Examples
+        --------
+        >>> import placewise as pw
+        >>> g = pw.TravelGraph.from_lines([[(0, 0), (10, 0)]])
+        >>> g.site_costs([[2, 0], [7, 0]], [[0, 0]])
+        array([[2.],
+               [7.]])
+        """
+        matrix = self.costs(candidates, points, limit=limit, max_gap=max_gap, progress=progress)
         return matrix.T.tocsr() if limit is not None else np.ascontiguousarray(matrix.T)
 
     def choose_sites(self, model: str, points: ArrayLike, candidates: ArrayLike, weights: ArrayLike | None = None,
-                     *, limit: float | None = None, max_gap: float | None = None, **options: Any) -> Any:
+                     *, limit: float | None = None, max_gap: float | None = None,
+                     progress: bool | Callable[[int, int], object] = False, **options: Any) -> Any:
         """A model of :mod:`placewise.discrete` on travel costs from candidates to points.
 
         Parameters
@@ -656,6 +668,11 @@ class TravelGraph:
             Demand per point.
         limit : float, optional
             Consider only pairs within this cost (a sparse matrix).
+        progress : bool or callable
+            ``True``: a bar on stderr; a callable is called with ``(done, total)``. It counts
+            first the candidates searched for the cost matrix (as :meth:`costs`), then the
+            model's own steps (all models but ``"evaluate_sites"``, which is one pass). Ctrl-C
+            stops either phase.
         **options
             The model's own arguments (``p``, ``radius``, ``fixed``, ``sites``, ...).
 
@@ -678,39 +695,45 @@ class TravelGraph:
 
         if model not in _MODELS:
             raise _input_error("model", f"model must be one of {', '.join(map(repr, _MODELS))}; got {model!r}")
-        matrix = self.site_costs(points, candidates, limit=limit, max_gap=max_gap)
+        matrix = self.site_costs(points, candidates, limit=limit, max_gap=max_gap, progress=progress)
+        n, m = matrix.shape
+        # Which pairs have a cost, counted per point without a dense n × m mask on the sparse
+        # path (a limit is given precisely when the whole matrix would not fit).
         if isinstance(matrix, np.ndarray):
             reached = ~np.isnan(matrix)
+            per_point = reached.sum(axis=1)
         else:
-            reached = np.zeros(matrix.shape, dtype=bool)
-            coo = matrix.tocoo()
-            reached[coo.row, coo.col] = True
-        lost = np.flatnonzero(~reached.any(axis=1))
+            per_point = np.diff(matrix.indptr)
+        every_pair = int(per_point.sum()) == n * m
+        lost = np.flatnonzero(per_point == 0)
         if len(lost):
-            w = np.ones(len(reached)) if weights is None else np.asarray(weights, dtype=np.float64)
+            w = np.ones(n) if weights is None else np.asarray(weights, dtype=np.float64)
             shown = ", ".join(str(int(r)) for r in lost[:10]) + (", ..." if len(lost) > 10 else "")
             raise _input_error(
                 "points",
                 f"points[{shown}]: no candidate reaches {len(lost)} point(s) (weight {float(w[lost].sum()):g}) "
                 f"(another component, one-way streets or beyond the limit); drop them or add candidates there",
                 int(lost[0]))
-        if reached.all() and not isinstance(matrix, np.ndarray):
+        if every_pair and not isinstance(matrix, np.ndarray):
             matrix = matrix.toarray()
-        elif not reached.all():
+        elif not every_pair and isinstance(matrix, np.ndarray):
             import scipy.sparse
 
-            if isinstance(matrix, np.ndarray):
-                rows, cols = np.nonzero(reached)
-                matrix = scipy.sparse.csr_array((matrix[rows, cols], (rows, cols)), shape=matrix.shape)
+            rows, cols = np.nonzero(reached)
+            matrix = scipy.sparse.csr_array((matrix[rows, cols], (rows, cols)), shape=matrix.shape)
+        if model != "evaluate_sites":
+            options["progress"] = progress
         call = getattr(discrete, model)
         try:
             return call(matrix, weights=weights, unit=self.unit, **options)
         except InputError as exc:
-            if reached.all():
+            if every_pair:
                 raise
-            i, j = np.argwhere(~reached)[0]
+            # The first point with a missing pair, and its first candidate without a cost.
+            i = int(np.flatnonzero(np.diff(matrix.indptr) < m)[0])
+            j = int(np.setdiff1d(np.arange(m), matrix.indices[matrix.indptr[i]:matrix.indptr[i + 1]])[0])
             raise _input_error(
                 "costs",
-                f"candidate {int(j)} cannot reach points[{int(i)}] (and {int((~reached).sum()) - 1} other pairs); "
+                f"candidate {j} cannot reach points[{i}] (and {n * m - matrix.nnz - 1} other pairs); "
                 f"the discrete models need a cost for every pair they are given: {exc}",
                 int(i)) from exc
