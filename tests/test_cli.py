@@ -28,6 +28,7 @@ from scipy.spatial.distance import cdist  # noqa: E402
 
 from hostile import BAD_WEIGHTS  # noqa: E402
 from placewise.cli import main  # noqa: E402
+from placewise.geodesic import SPHERE_MODEL  # noqa: E402
 
 RNG = np.random.default_rng(7)
 XY = RNG.normal(size=(120, 2)) * [2000.0, 1200.0] + [500_000.0, 6_600_000.0]
@@ -589,6 +590,29 @@ def test_delaunay_command_against_scipy(tmp_path, capsys):
     line.write_text("x,y\n0,0\n1,1\n2,2\n")
     code, _, err = run(["delaunay", line, "--planar"], capsys)
     assert_user_error(code, err, "collinear")
+
+
+def test_delaunay_command_on_global_points_answers_on_the_sphere(tmp_path, capsys):
+    from scipy.spatial import ConvexHull
+
+    rng = np.random.default_rng(31)
+    lon, lat = rng.uniform(-180, 180, 60), np.degrees(np.arcsin(rng.uniform(-1, 1, 60)))
+    path = tmp_path / "masts.csv"
+    pd.DataFrame({"mast": [f"m{k}" for k in range(60)], "lon": lon, "lat": lat}).to_csv(path, index=False)
+    code, _, err = run(["delaunay", path, "--x", "lon", "--y", "lat", "--crs", "EPSG:4326", "--id", "mast",
+                        "-o", tmp_path / "mesh.gpkg"], capsys)
+    assert code == 0, err
+    mesh = gpd.read_file(tmp_path / "mesh.gpkg")
+    ours = {frozenset(t) for t in mesh[["corner_a", "corner_b", "corner_c"]].itertuples(index=False)}
+    # Outside reference: the faces of the convex hull of the unit vectors (scipy, Qhull) are
+    # the spherical Delaunay triangles (Brown 1979).
+    la, ph = np.radians(lon), np.radians(lat)
+    hull = ConvexHull(np.column_stack([np.cos(ph) * np.cos(la), np.cos(ph) * np.sin(la), np.sin(ph)]))
+    assert ours == {frozenset(f"m{k}" for k in t) for t in hull.simplices}
+    assert (mesh["work_crs"] == SPHERE_MODEL).all()
+    # WGS84's area, 510,065,621.7 km^2 (recalled from memory, so compared to 1e-6).
+    assert mesh["area_m2"].sum() == pytest.approx(5.100656217e14, rel=1e-6)
+    assert f"{len(hull.simplices)} triangle(s)" in err
 
 
 def test_rows_are_named_as_the_file_counts_them(tmp_path, capsys):

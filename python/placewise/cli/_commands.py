@@ -105,17 +105,10 @@ def _cmd_voronoi_cells(args: argparse.Namespace) -> None:
 
 
 def _cmd_delaunay(args: argparse.Namespace) -> None:
-    # placewise.gis has no Delaunay function yet: the command follows the gis layer's one path
-    # (prepare, one grouped kernel call, the result's own table in the user's terms).
-    from .. import delaunay
-    from ..gis._frames import call, framed, prepare
+    from .. import gis
 
-    pf = prepare(read_points(args.input, args, flags=("by",)), "frame", by=args.by, **_common(args))
-    groups = pf.groups
-    rows = {"points": pf.rows}
-    result = call(delaunay, pf.xy, groups=groups, rows=rows, **({} if groups is None else {"errors": args.errors}),
-                  **_ungrouped_watch(args))
-    out = framed(result, pf, groups, rows, row_columns=("corner_a", "corner_b", "corner_c"))
+    out = gis.delaunay(read_points(args.input, args, flags=("by",)), args.by, errors=args.errors, **_common(args),
+                       **_ungrouped_watch(args))
     write_frame(out, args.output, args, "triangles")
     area, unit = _measure(out, "area")
     _note(args, f"{_solved(out)} triangle(s); total area {out[area].sum():.6g} {_unit_text(unit[:-1])} squared"

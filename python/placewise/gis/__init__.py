@@ -18,8 +18,9 @@ GeoDataFrames in the input's CRS. Coordinates are handled as follows:
   ``InputError`` saying how to proceed (split with ``by=``, or choose ``work_crs=``), never
   answered with silently distorted metres. Geographic regions are densified along their
   edges before projection. Ungrouped data too wide for any frame (global, polar, wide
-  across the antimeridian) is answered on the sphere by :func:`voronoi_cells` and
-  :func:`spanning_tree` (:mod:`placewise.geodesic`), with ``work_crs`` stating that model;
+  across the antimeridian) is answered on the sphere by :func:`voronoi_cells`,
+  :func:`delaunay` and :func:`spanning_tree` (:mod:`placewise.geodesic`), with ``work_crs``
+  stating that model;
 * **candidates, existing sites and regions** come as frames of their own, in any CRS, and
   are brought into the points' working CRS; for geographic input that frame is chosen over
   all of them together, so its ``scale_error`` covers every location the model uses. A
@@ -45,7 +46,7 @@ Requires the ``geo`` extra (geopandas, pyproj).
 from __future__ import annotations
 
 from .capacities import AllocationLayers, CellLayers, capacity_allocation, capacity_cells
-from .catchments import power_cells, voronoi_cells
+from .catchments import delaunay, power_cells, voronoi_cells
 from .coverage import cover_all, cover_most, evaluate_sites
 from .networks import Network, spanning_tree, steiner_tree
 from .plans import SitePlan, nearest_site, p_center, p_median
@@ -60,6 +61,7 @@ __all__ = [
     "capacity_allocation",
     "cover_all",
     "cover_most",
+    "delaunay",
     "enclosing_circle",
     "enclosing_ellipse",
     "evaluate_sites",

@@ -1,5 +1,5 @@
 """Catchments on GeoDataFrames: each site's Voronoi cell clipped to a study region, with the
-demand it serves."""
+demand it serves, and the cells' dual, the Delaunay triangulation of the sites."""
 
 from __future__ import annotations
 
@@ -32,7 +32,7 @@ from ._frames import (
 from ._together import region_geometry, region_lonlat
 from .plans import nearest_site
 
-__all__ = ["power_cells", "voronoi_cells"]
+__all__ = ["delaunay", "power_cells", "voronoi_cells"]
 
 
 def _ellipsoid_area(geom: Any) -> float:
@@ -75,6 +75,61 @@ def _sphere_cells(pf: Prepared, region: Any, progress: Any) -> Any:
     out = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=back.values, crs=pf.crs)
     out["area_m2"] = area
     out["work_crs"] = SPHERE_MODEL
+    return out
+
+
+def delaunay(
+    frame: Any, by: str | None = None, *, planar: bool = False, centroids: bool = False, work_crs: Any = None,
+    max_scale_error: float = MAX_SCALE_ERROR, errors: Literal["raise", "skip"] = "raise", progress: Any = False,
+) -> Any:
+    """The Delaunay triangulation of a frame's points (one per group with ``by``).
+
+    Triangles whose circumcircles hold no other point (Delaunay 1934): the neighbours of
+    every site, the dual of :func:`voronoi_cells`. Projected input is triangulated in its own
+    CRS; geographic input in a UTM working frame, as every planar kernel of this module.
+    Geographic points that no working frame holds within ``max_scale_error`` (global,
+    polar, wide across the antimeridian; without ``by`` and ``work_crs``) get the spherical
+    Delaunay triangulation (:func:`placewise.geodesic.delaunay`) instead of a refusal:
+    triangles with geodesic edges drawn along great circles and split at the antimeridian,
+    ``area_m2`` on the WGS84 ellipsoid, ``work_crs`` stating the model.
+
+    Parameters
+    ----------
+    frame : GeoDataFrame or GeoSeries of points
+    by : str, optional
+        A column whose values split the rows into groups; one triangulation each.
+    progress : bool or callable
+        Without ``by``: a progress bar on stderr (True) or a callable ``(done, total)``, on
+        the sphere and in the plane alike; Ctrl-C stops the run either way. With ``by``, an
+        ``InputError`` naming it: a grouped run reports no progress.
+
+    Returns
+    -------
+    GeoDataFrame
+        One Polygon per triangle: ``corner_a``, ``corner_b``, ``corner_c`` (the corners'
+        index labels, counter-clockwise), ``area_<unit>2`` (in the working CRS's unit:
+        ``area_m2``), plus the ``by`` column and ``problem`` for grouped runs, and
+        ``work_crs`` / ``scale_error`` for geographic input.
+
+    Examples
+    --------
+    >>> import geopandas as gpd
+    >>> from placewise import gis
+    >>> pts = gpd.GeoSeries(gpd.points_from_xy([0, 2, 0, 2], [0, 0, 1, 1]), index=list("abcd"))
+    >>> mesh = gis.delaunay(pts, planar=True)
+    >>> len(mesh), float(mesh["area_u2"].sum())   # two triangles fill the 2 x 1 rectangle
+    (2, 2.0)
+    """
+    pf = prepare_or_sphere(frame, "frame", planar=planar, centroids=centroids, by=by, work_crs=work_crs,
+                           max_scale_error=max_scale_error)
+    kernel = _pw.geodesic.delaunay if pf.ellipsoid else _pw.delaunay
+    groups = pf.groups
+    rows = {"points": pf.rows}
+    grouped = {} if groups is None else {"errors": errors}
+    result = call(kernel, pf.xy, groups=groups, rows=rows, progress=progress, **grouped)
+    out = framed(result, pf, groups, rows, row_columns=("corner_a", "corner_b", "corner_c"))
+    if pf.ellipsoid:
+        out["work_crs"] = SPHERE_MODEL
     return out
 
 
