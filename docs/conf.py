@@ -121,7 +121,49 @@ def _closing_paragraph_first(app, what: str, name: str, obj, options, lines: lis
     lines[heads[0]:heads[0]] = [*block, ""]
 
 
+# --------------------------------------------------------------------------- member order
+
+
+def _order_from_private_modules(app) -> None:
+    """Give autodoc the source order of the packages whose public objects live in private modules.
+
+    A package such as ``placewise.partition`` defines its classes in private modules and names
+    itself as their ``__module__`` (so reprs, pickles and this reference name the package).
+    autodoc reads the source order of a class's members (``autodoc_member_order = "bysource"``)
+    from the module the class names, whose ``__init__`` defines nothing; the order and attribute
+    comments of the private modules are added to that module's analysis here, so the members
+    keep the order of the source that defines them.
+    """
+    import importlib
+    import pkgutil
+
+    from sphinx.pycode import ModuleAnalyzer
+
+    import placewise
+
+    for package in pkgutil.iter_modules(placewise.__path__, "placewise."):
+        module = importlib.import_module(package.name)
+        if not package.ispkg or not any(getattr(getattr(module, name), "__module__", None) == module.__name__
+                                        for name in getattr(module, "__all__", ())):
+            continue
+        analyzer = ModuleAnalyzer.for_module(module.__name__)
+        analyzer.analyze()
+        for private in pkgutil.iter_modules(module.__path__, module.__name__ + "."):
+            if not private.name.rpartition(".")[2].startswith("_"):
+                continue
+            source = ModuleAnalyzer.for_module(private.name)
+            source.analyze()
+            # Numbered on from the tags already there, in source order: within one class the
+            # order is the source's, and every tag stays below the count of tags, the position
+            # autodoc gives a member without one (an inherited member), which so comes after.
+            for tag, _ in sorted(source.tagorder.items(), key=lambda item: item[1]):
+                analyzer.tagorder.setdefault(tag, len(analyzer.tagorder))
+            for key, comment in source.attr_docs.items():
+                analyzer.attr_docs.setdefault(key, comment)
+
+
 def setup(app):
+    app.connect("builder-inited", _order_from_private_modules)
     app.connect("source-read", _fill_cli_page)
     # Before numpydoc (priority 500) turns the sections into reStructuredText.
     app.connect("autodoc-process-docstring", _closing_paragraph_first, priority=400)

@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import itertools
+import pickle
+import typing
 from pathlib import Path
 
 import numpy as np
@@ -807,3 +809,31 @@ def test_property_p_center_exact_is_order_independent(pts: np.ndarray, rnd) -> N
     a, b = pw.p_center(pts, p), pw.p_center(pts[order], p)
     scale = max(1.0, float(np.abs(pts).max()))
     assert b.weighted_radius == pytest.approx(a.weighted_radius, rel=1e-9, abs=1e-12 * scale)
+
+
+# --- the package's public names ------------------------------------------------------------
+
+@pytest.mark.parametrize("name", pw.multi.__all__)
+def test_public_name_belongs_to_the_package(name: str) -> None:
+    # Defined in the package's private modules, named by the package (as when it was one
+    # module): reprs, pickles and the reference keep "placewise.multi".
+    obj = getattr(pw.multi, name)
+    assert obj.__module__ == "placewise.multi"
+    assert pickle.loads(pickle.dumps(obj)) is obj
+    if isinstance(obj, type):
+        # Field annotations resolve in the module the class names (typing.get_type_hints).
+        assert np.ndarray in typing.get_type_hints(obj).values()
+
+
+def test_package_exports_every_public_object_it_defines() -> None:
+    defined = {name for name, obj in vars(pw.multi).items()
+               if not name.startswith("_") and str(getattr(obj, "__module__", "")).startswith("placewise.multi")}
+    assert defined == set(pw.multi.__all__)
+
+
+def test_pickled_result_names_the_package() -> None:
+    result = pw.p_median([[0, 0], [1, 0], [10, 0], [11, 0]], 2)
+    data = pickle.dumps(result)
+    assert b"placewise.multi" in data and b"placewise.multi._" not in data
+    back = pickle.loads(data)
+    assert type(back) is pw.MedianPlan and np.array_equal(back.sites, result.sites)

@@ -7,6 +7,8 @@ form, exact rational arithmetic written here).
 from __future__ import annotations
 
 import json
+import pickle
+import typing
 from fractions import Fraction
 
 import numpy as np
@@ -841,3 +843,31 @@ def test_grouped_nearest_site_frames_and_problems() -> None:
         pw.nearest_site(pts, sites, groups=[1, 1, 2, 4])
     with pytest.raises(pw.InputError, match=r"group 1: weights must be finite and >= 0; weights\[1\] = -1"):
         pw.nearest_site(pts, sites, [1, -1, 1, 1], groups=[1, 1, 2, 2], site_groups=[1, 1, 2, 2])
+
+
+# --- the package's public names ------------------------------------------------------------
+
+@pytest.mark.parametrize("name", pw.partition.__all__)
+def test_public_name_belongs_to_the_package(name: str) -> None:
+    # Defined in the package's private modules, named by the package (as when it was one
+    # module): reprs, pickles and the reference keep "placewise.partition".
+    obj = getattr(pw.partition, name)
+    assert obj.__module__ == "placewise.partition"
+    assert pickle.loads(pickle.dumps(obj)) is obj
+    if isinstance(obj, type):
+        # Field annotations resolve in the module the class names (typing.get_type_hints).
+        assert np.ndarray in typing.get_type_hints(obj).values()
+
+
+def test_package_exports_every_public_object_it_defines() -> None:
+    defined = {name for name, obj in vars(pw.partition).items()
+               if not name.startswith("_") and str(getattr(obj, "__module__", "")).startswith("placewise.partition")}
+    assert defined == set(pw.partition.__all__)
+
+
+def test_pickled_result_names_the_package() -> None:
+    result = pw.delaunay([[0, 0], [1, 0], [0, 1], [1, 1.5]])
+    data = pickle.dumps(result)
+    assert b"placewise.partition" in data and b"placewise.partition._" not in data
+    back = pickle.loads(data)
+    assert type(back) is DelaunayMesh and np.array_equal(back.corners, result.corners)
