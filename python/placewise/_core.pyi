@@ -201,6 +201,7 @@ def discrete_p_median_single(
     search_rounds: Any,
     time_limit: Any = None,
     progress: Any = None,
+    branch_iterations: Any = None,
 ) -> _Fields: ...
 def discrete_p_center_single(
     costs: Any, p: Any, weights: ArrayLike | None, fixed: ArrayLike | None, time_limit: Any = None, progress: Any = None

@@ -51,6 +51,22 @@ pub(super) struct MedianRelaxation<'a, 'c> {
     pub weights: Weights<'a>,
     pub fixed: &'a [usize],
     pub p: usize,
+    /// Candidates a branch has closed (`closed[j]`: may not open); empty: none closed.
+    pub closed: &'a [bool],
+}
+
+/// What one run of [`MedianRelaxation::bound`] found.
+pub(super) struct BoundRun {
+    /// The best value of the Lagrangian function (a lower bound on every plan the relaxation
+    /// allows); +∞ when it allows none (fewer open-able candidates than sites to open).
+    pub value: f64,
+    /// Evaluations spent.
+    pub spent: usize,
+    /// The multipliers of the best value (the start when none was evaluated).
+    pub lambda: Vec<f64>,
+    /// The cost of the best plan known at the end (`upper`, or a cheaper plan of the
+    /// Lagrangian heuristic).
+    pub upper: f64,
 }
 
 impl MedianRelaxation<'_, '_> {
@@ -67,7 +83,7 @@ impl MedianRelaxation<'_, '_> {
 
     /// `ρⱼ` for every candidate (`Σᵢ min(0, wᵢ costs[i, j] − λᵢ)`), summed in a fixed
     /// order so the value is deterministic.
-    fn reduced_sums(&self, lambda: &[f64]) -> Vec<f64> {
+    pub(super) fn reduced_sums(&self, lambda: &[f64]) -> Vec<f64> {
         sum_rows(self.costs.rows(), self.costs.columns(), |i, rho| {
             let (w, l) = (self.weights.get(i), lambda[i]);
             if w > 0.0 && l > 0.0 {
@@ -85,20 +101,22 @@ impl MedianRelaxation<'_, '_> {
         })
     }
 
-    /// The best value of `L` found in at most `iterations` evaluations from `start`, and
-    /// the evaluations spent. `improve(open)` runs the Lagrangian heuristic from an open set
-    /// of the relaxation and returns the cost of the best plan known (`upper` at first).
-    /// Every iteration is a step of `steps`; a stop of `clock` ends the search with the best
-    /// value so far (−∞ when none was evaluated), which is still a bound.
+    /// The best value of `L` found in at most `iterations` evaluations from `start` with the
+    /// step factor `θ` starting at `theta`. `improve(open)` runs the Lagrangian heuristic from
+    /// an open set of the relaxation and returns the cost of the best plan known (`upper` at
+    /// first). Every iteration is a step of `steps`; a stop of `clock` ends the search with
+    /// the best value so far (−∞ when none was evaluated), which is still a bound.
+    #[allow(clippy::too_many_arguments)]
     pub(super) fn bound(
         &self,
         mut upper: f64,
         start: &[f64],
         iterations: usize,
+        theta: f64,
         improve: &mut dyn FnMut(&[usize]) -> f64,
         clock: &Clock,
         steps: &mut Steps<'_>,
-    ) -> (f64, usize) {
+    ) -> BoundRun {
         let (n, m) = (self.costs.rows(), self.costs.columns());
         let caps: Vec<f64> = (0..n).map(|i| self.cap(i)).collect();
         let mut lambda: Vec<f64> = start.iter().zip(&caps).map(|(&l, &cap)| l.clamp(0.0, cap)).collect();
@@ -106,8 +124,13 @@ impl MedianRelaxation<'_, '_> {
         for &j in self.fixed {
             is_fixed[j] = true;
         }
+        let closed = |j: usize| self.closed.get(j).copied().unwrap_or(false);
+        if (0..m).filter(|&j| !is_fixed[j] && !closed(j)).count() < self.p {
+            return BoundRun { value: f64::INFINITY, spent: 0, lambda, upper };
+        }
         let (mut best, mut best_open) = (f64::NEG_INFINITY, Vec::new());
-        let (mut theta, mut stale) = (2.0, 0);
+        let mut best_lambda = lambda.clone();
+        let (mut theta, mut stale) = (theta, 0);
         let mut chosen = vec![false; m];
         let mut order: Vec<usize> = Vec::with_capacity(m);
         let mut g = vec![0.0; n];
@@ -120,7 +143,7 @@ impl MedianRelaxation<'_, '_> {
             steps.step();
             let rho = self.reduced_sums(&lambda);
             order.clear();
-            order.extend((0..m).filter(|&j| !is_fixed[j]));
+            order.extend((0..m).filter(|&j| !is_fixed[j] && !closed(j)));
             // Only the p smallest are needed; ties by column keep the choice deterministic.
             let by_value = |a: &usize, b: &usize| rho[*a].total_cmp(&rho[*b]).then(a.cmp(b));
             if self.p < order.len() {
@@ -145,6 +168,7 @@ impl MedianRelaxation<'_, '_> {
                 }
                 best = value;
                 best_open = self.fixed.iter().chain(order.iter()).copied().collect();
+                best_lambda.clone_from(&lambda);
             } else {
                 stale += 1;
             }
@@ -198,12 +222,12 @@ impl MedianRelaxation<'_, '_> {
         // The open set of the best bound gets the heuristic too (Beasley 1993), unless the run
         // was stopped (or no iteration ran).
         if best_open.is_empty() || clock.stop() {
-            return (best, spent);
+            return BoundRun { value: best, spent, lambda: best_lambda, upper };
         }
         best_open[self.fixed.len()..].sort_unstable();
         if !tried.contains(&best_open) && upper - best > 1e-9 * upper.abs() {
-            improve(&best_open);
+            upper = upper.min(improve(&best_open));
         }
-        (best, spent)
+        BoundRun { value: best, spent, lambda: best_lambda, upper }
     }
 }

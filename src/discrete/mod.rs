@@ -24,6 +24,7 @@ mod cover_bound;
 mod dominating;
 mod median;
 mod median_bound;
+mod median_branch;
 mod near;
 mod neighbourhood;
 mod source;

@@ -75,6 +75,11 @@ impl NearLists {
         self.limit.len()
     }
 
+    /// The number of pairs listed over all rows.
+    pub(super) fn pairs(&self) -> usize {
+        self.columns.len()
+    }
+
     /// How far row `i` is complete: every allowed pair costing less is listed.
     #[inline]
     pub(super) fn limit(&self, i: usize) -> f64 {

@@ -206,7 +206,7 @@ fn discrete_evaluate<'py>(
 
 /// Fields: the service, lower_bound, relative_gap, swaps, bound_iterations.
 #[pyfunction]
-#[pyo3(signature = (costs, p, weights, fixed, bound_iterations, search_rounds, time_limit=None, progress=None))]
+#[pyo3(signature = (costs, p, weights, fixed, bound_iterations, search_rounds, time_limit=None, progress=None, branch_iterations=None))]
 #[allow(clippy::too_many_arguments)]
 fn discrete_p_median_single<'py>(
     py: Python<'py>,
@@ -218,12 +218,18 @@ fn discrete_p_median_single<'py>(
     search_rounds: &Bound<'py, PyAny>,
     time_limit: Option<&Bound<'py, PyAny>>,
     progress: Option<&Bound<'py, PyAny>>,
+    branch_iterations: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let p = count_arg(p, "p", 1, usize::MAX)?;
     let (limits, mut progress) = watched(time_limit, progress, "p_median")?;
+    let branch_iterations = match branch_iterations {
+        Some(b) if !b.is_none() => Some(count_arg(b, "branch_iterations", 0, usize::MAX)?),
+        _ => None,
+    };
     let options = DiscreteMedianOptions {
         bound_iterations: count_arg(bound_iterations, "bound_iterations", 0, usize::MAX)?,
         search_rounds: count_arg(search_rounds, "search_rounds", 0, usize::MAX)?,
+        branch_iterations,
         limits,
         ..Default::default()
     };
@@ -235,6 +241,7 @@ fn discrete_p_median_single<'py>(
         .put("relative_gap", r.relative_gap)?
         .put("swaps", r.swaps)?
         .put("bound_iterations", r.bound_iterations)?
+        .put("branch_nodes", r.branch_nodes)?
         .done())
 }
 
