@@ -19,7 +19,7 @@ from harness import Case
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "tests"))
 
-from test_capacity import transport_program  # noqa: E402
+from test_capacity import transport_matrices, transport_program  # noqa: E402
 from test_capacity_cells import squared_transport  # noqa: E402
 
 
@@ -153,18 +153,13 @@ def limited_reference(n: int, seconds: float, m: int = 200) -> None:
     placewise's a lower bound on the speed-up (equal cost is checked at the sizes HiGHS
     finishes)."""
     from scipy.optimize import linprog
-    from scipy.sparse import coo_matrix
-    from scipy.spatial.distance import cdist
 
     points, sites, caps, w = _instance(n, m, 0)
     wall, cpu, ours = _timed(lambda: pw.capacity_allocation(points, sites, caps, w))
     print(f"| placewise | {n:,} x {m} | {wall:.2f} s | {cpu:.2f} s | {ours.total_cost:.10e} | "
           f"{ours.augmentations} augmenting paths", flush=True)
-    rows, cols = np.repeat(np.arange(n), m), np.arange(n * m)
-    a_point = coo_matrix((np.ones(n * m), (rows, cols)), shape=(n, n * m))
-    a_site = coo_matrix((np.ones(n * m), (np.tile(np.arange(m), n), cols)), shape=(m, n * m))
-    cost = cdist(points, sites).ravel()
-    ref_wall, ref_cpu, res = _timed(lambda: linprog(cost, A_ub=a_site, b_ub=caps, A_eq=a_point, b_eq=w,
+    cost, a_point, a_site = transport_matrices(points, sites)
+    ref_wall, ref_cpu, res = _timed(lambda: linprog(cost.ravel(), A_ub=a_site, b_ub=caps, A_eq=a_point, b_eq=w,
                                                     method="highs-ipm", options={"time_limit": seconds}))
     if res.status == 0:
         note = f"cost ours/HiGHS - 1 = {ours.total_cost / res.fun - 1:+.1e}; CPU ratio {ref_cpu / cpu:.1f}x"

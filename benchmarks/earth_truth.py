@@ -154,10 +154,17 @@ def cells(frame: gpd.GeoDataFrame, kw: dict[str, Any], truth: dict[str, Any]) ->
             f"sum of reported areas {result['area_m2'].sum():.4e} m²; {own} points outside their own cell")
 
 
-def tree(frame: gpd.GeoDataFrame, kw: dict[str, Any], truth: dict[str, Any]) -> str:
-    edges, summary = gis.spanning_tree(frame, **kw)
+def _edges_off(edges: gpd.GeoDataFrame, summary: Any) -> tuple[np.ndarray, float, float]:
+    """A network's edges against ``pyproj.Geod``: their geodesic lengths, the largest
+    relative error of a reported edge length, and that of the reported total."""
     true = _lines_length(edges)
     off = np.abs(edges["length_m"].to_numpy()[true > 0] / true[true > 0] - 1)
+    return true, float(off.max()), _rel(summary["length_m"].iloc[0], true.sum())
+
+
+def tree(frame: gpd.GeoDataFrame, kw: dict[str, Any], truth: dict[str, Any]) -> str:
+    edges, summary = gis.spanning_tree(frame, **kw)
+    true, worst, total = _edges_off(edges, summary)
     if "mst" not in truth:
         pts = _lonlat(frame)
         n = len(pts)
@@ -165,16 +172,13 @@ def tree(frame: gpd.GeoDataFrame, kw: dict[str, Any], truth: dict[str, Any]) -> 
         dense = np.zeros((n, n))
         dense[i, j] = GEOD.inv(pts[i, 0], pts[i, 1], pts[j, 0], pts[j, 1])[2]
         truth["mst"] = float(minimum_spanning_tree(dense).sum())
-    total = _rel(summary["length_m"].iloc[0], true.sum())
-    return (f"edge lengths up to {_pct(off.max())} off; total reported {_pct(total)} off its edges'; "
+    return (f"edge lengths up to {_pct(worst)} off; total reported {_pct(total)} off its edges'; "
             f"the tree's true length {_pct(true.sum() / truth['mst'] - 1)} above the geodesic MST")
 
 
 def steiner(frame: gpd.GeoDataFrame, kw: dict[str, Any], truth: dict[str, Any]) -> str:
-    edges, summary = gis.steiner_tree(frame, **kw)
-    true = _lines_length(edges)
-    off = np.abs(edges["length_m"].to_numpy()[true > 0] / true[true > 0] - 1)
-    return f"edge lengths up to {_pct(off.max())} off; total {_pct(_rel(summary['length_m'].iloc[0], true.sum()))} off"
+    _, worst, total = _edges_off(*gis.steiner_tree(frame, **kw))
+    return f"edge lengths up to {_pct(worst)} off; total {_pct(total)} off"
 
 
 def _plan_check(kind: str) -> Callable[..., str]:

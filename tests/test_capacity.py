@@ -21,15 +21,25 @@ from scipy.spatial.distance import cdist
 import placewise as pw
 
 
-def transport_program(points, sites, caps, weights, *, integral=False, serve=None):
-    """The transportation program min Σ c_ij x_ij, Σ_j x_ij = w_i (or ≤ w_i with Σ x = serve),
-    Σ_i x_ij ≤ cap_j, x ≥ 0, solved by HiGHS (linprog, or milp with x_ij = w_i y_ij, y binary)."""
+def transport_matrices(points, sites):
+    """The data of the transportation program over x_ij (row-major, i the point): the costs
+    c_ij = |p_i − s_j| (n × m), the per-point sums Σ_j x_ij and the per-site sums Σ_i x_ij
+    (sparse rows)."""
     c = cdist(points, sites)
     n, m = c.shape
     rows = np.repeat(np.arange(n), m)
     cols = np.arange(n * m)
     a_point = coo_matrix((np.ones(n * m), (rows, cols)), shape=(n, n * m))
     a_site = coo_matrix((np.ones(n * m), (np.tile(np.arange(m), n), cols)), shape=(m, n * m))
+    return c, a_point, a_site
+
+
+def transport_program(points, sites, caps, weights, *, integral=False, serve=None):
+    """The transportation program min Σ c_ij x_ij, Σ_j x_ij = w_i (or ≤ w_i with Σ x = serve),
+    Σ_i x_ij ≤ cap_j, x ≥ 0, solved by HiGHS (linprog, or milp with x_ij = w_i y_ij, y binary)."""
+    c, a_point, a_site = transport_matrices(points, sites)
+    n, m = c.shape
+    cols = np.arange(n * m)
     if integral:
         # y_ij ∈ {0, 1}: point i served whole by site j.
         scaled = coo_matrix((np.repeat(weights, m), (np.tile(np.arange(m), n), cols)), shape=(m, n * m))

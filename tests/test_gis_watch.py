@@ -190,6 +190,40 @@ def test_planar_runs_refuse_progress_and_answer_without_it(run) -> None:  # noqa
     assert _planar(run(progress=False))
 
 
+# The CRS kinds as the EPSG registry lists them (epsg.org): 4326 (WGS 84) and 4269 (NAD83)
+# are geographic 2D CRSs; 3857 (WGS 84 / Pseudo-Mercator) and 32632 (WGS 84 / UTM zone 32N)
+# are projected.
+@pytest.mark.parametrize(("crs", "work_crs", "region", "on_earth"), [
+    ("EPSG:4326", None, None, True),
+    ("EPSG:4269", None, None, True),
+    ("EPSG:4326", "EPSG:32632", None, False),
+    ("EPSG:4326", None, shapely.box(10.5, 59.7, 11.0, 60.1), False),
+    ("EPSG:3857", None, None, False),
+    ("EPSG:32632", None, None, False),
+], ids=["wgs84", "nad83", "wgs84 work_crs", "wgs84 region", "pseudo-mercator", "utm 32n"])
+def test_watched_on_earth_says_where_the_single_site_functions_solve(crs, work_crs, region, on_earth) -> None:  # noqa: ANN001
+    # The command line shows its bar exactly for the runs solved on the ellipsoid: what the
+    # rule says agrees with the EPSG kind of the CRS and with the model the run reports.
+    from placewise.gis._frames import ELLIPSOID
+    from placewise.gis.sites import watched_on_earth
+
+    frame = _frame(LOCAL, "p").to_crs(crs)
+    assert watched_on_earth(frame, work_crs=work_crs, region=region) is on_earth
+    place = {} if region is None else {"region": gpd.GeoSeries([region], crs="EPSG:4326").to_crs(crs)}
+    out = gis.weber_point(frame, work_crs=work_crs, **place)
+    assert ("work_crs" in out and out["work_crs"].iloc[0] == ELLIPSOID) is on_earth
+
+
+def test_planar_single_site_refuses_time_limit_saying_why() -> None:
+    # The planar kernel behind a projected run takes no time limit: refused by name, with
+    # the reason and the way out in the message.
+    frame = _frame(LOCAL, "p")
+    with pytest.raises(pw.InputError) as caught:
+        gis.minimax_point(frame, work_crs="EPSG:32632", time_limit=1.0)
+    assert caught.value.argument == "time_limit"
+    assert "exact" in str(caught.value) and "drop time_limit=" in str(caught.value)
+
+
 def _planar(table) -> bool:  # noqa: ANN001
     """The table was solved in the plane: no ``work_crs`` column naming the sphere."""
     return len(table) > 0 and ("work_crs" not in table or pw.geodesic.SPHERE_MODEL not in set(table["work_crs"]))

@@ -10,6 +10,7 @@
 
 mod manhattan;
 mod restricted;
+pub(crate) mod sums;
 mod weiszfeld;
 
 pub use restricted::{weber_point_in_region, weber_points_in_region, RegionWeberPoint};

@@ -23,6 +23,7 @@
 
 use rayon::prelude::*;
 
+use super::sums::WeberSums;
 use super::WeberPoint;
 use crate::geometry::{add, norm, sub, BoundingBox, CompensatedSum, Point, Weights};
 
@@ -34,71 +35,23 @@ const CHUNK: usize = 8_192;
 /// Allowance for rounding in the certificate, in units of the unit roundoff.
 const ROUNDING_ALLOWANCE: f64 = 8.0 * f64::EPSILON;
 
-/// Everything one pass over the points yields at a trial location `x` (local frame).
+/// Everything one pass over the points yields at a trial location `x` (local frame): the
+/// shared sums, with the planar gradient Σ_{aᵢ≠x} wᵢ (x − aᵢ)/dᵢ and Hessian
+/// Σ wᵢ/dᵢ (I − uᵢuᵢᵀ), and the Weiszfeld sum Σ wᵢ aᵢ/dᵢ over aᵢ ≠ x.
 #[derive(Debug, Clone, Copy)]
 struct Pass {
-    cost: CompensatedSum,
-    /// Gradient of the part that is smooth at x: Σ_{aᵢ≠x} wᵢ (x − aᵢ)/dᵢ.
-    grad: [CompensatedSum; 2],
-    /// Weiszfeld sums Σ wᵢ/dᵢ and Σ wᵢ aᵢ/dᵢ over aᵢ ≠ x.
-    inv: f64,
+    sums: WeberSums,
     inv_a: Point,
-    /// Hessian of the smooth part: Σ wᵢ/dᵢ (I − uᵢuᵢᵀ), as (xx, xy, yy).
-    hess: [f64; 3],
-    /// Total weight of the points that coincide with x.
-    eta: f64,
-    /// Largest distance to a positive-weight point.
-    max_dist: f64,
-    /// Nearest positive-weight point not at x, and its distance.
-    nearest: usize,
-    nearest_dist: f64,
 }
 
 impl Pass {
     fn empty() -> Pass {
-        Pass {
-            cost: CompensatedSum::default(),
-            grad: [CompensatedSum::default(); 2],
-            inv: 0.0,
-            inv_a: [0.0, 0.0],
-            hess: [0.0; 3],
-            eta: 0.0,
-            max_dist: 0.0,
-            nearest: usize::MAX,
-            nearest_dist: f64::INFINITY,
-        }
+        Pass { sums: WeberSums::empty(), inv_a: [0.0, 0.0] }
     }
 
     fn merge(&mut self, other: &Pass) {
-        self.cost.merge(other.cost);
-        self.grad[0].merge(other.grad[0]);
-        self.grad[1].merge(other.grad[1]);
-        self.inv += other.inv;
+        self.sums.merge(&other.sums);
         self.inv_a = add(self.inv_a, other.inv_a);
-        for k in 0..3 {
-            self.hess[k] += other.hess[k];
-        }
-        self.eta += other.eta;
-        self.max_dist = self.max_dist.max(other.max_dist);
-        // Strict: on ties the earlier chunk (smaller index) wins.
-        if other.nearest_dist < self.nearest_dist {
-            self.nearest = other.nearest;
-            self.nearest_dist = other.nearest_dist;
-        }
-    }
-
-    fn cost(&self) -> f64 {
-        self.cost.total()
-    }
-
-    fn gradient(&self) -> Point {
-        [self.grad[0].total(), self.grad[1].total()]
-    }
-
-    /// Norm of the minimal-norm subgradient: at a data point the subdifferential is the
-    /// smooth gradient plus a ball of radius η.
-    fn subgradient_norm(&self) -> f64 {
-        (norm(self.gradient()) - self.eta).max(0.0)
     }
 }
 
@@ -131,26 +84,15 @@ impl Problem<'_> {
             let d =
                 if self.squares_are_safe { (delta[0] * delta[0] + delta[1] * delta[1]).sqrt() } else { norm(delta) };
             if d == 0.0 {
-                pass.eta += w;
+                pass.sums.eta += w;
                 continue;
             }
             let inv_d = 1.0 / d;
-            pass.cost.add(w * d);
             let wd = w * inv_d;
             let u = [delta[0] * inv_d, delta[1] * inv_d];
-            pass.grad[0].add(w * u[0]);
-            pass.grad[1].add(w * u[1]);
-            pass.inv += wd;
+            pass.sums.add_point(i, w, d, u, wd, wd);
             pass.inv_a[0] += wd * a[0];
             pass.inv_a[1] += wd * a[1];
-            pass.hess[0] += wd * (1.0 - u[0] * u[0]);
-            pass.hess[1] -= wd * u[0] * u[1];
-            pass.hess[2] += wd * (1.0 - u[1] * u[1]);
-            pass.max_dist = pass.max_dist.max(d);
-            if d < pass.nearest_dist {
-                pass.nearest = i;
-                pass.nearest_dist = d;
-            }
         }
         pass
     }
@@ -170,9 +112,9 @@ impl Problem<'_> {
 
     /// Proven bound on `cost − optimum` at the pass's location.
     fn gap(&self, pass: &Pass) -> f64 {
-        let cost = pass.cost();
-        let radius = pass.max_dist.min(2.0 * cost / self.total_weight);
-        pass.subgradient_norm() * radius + ROUNDING_ALLOWANCE * (cost + self.total_weight * radius)
+        let cost = pass.sums.cost();
+        let radius = pass.sums.max_dist.min(2.0 * cost / self.total_weight);
+        pass.sums.subgradient_norm() * radius + ROUNDING_ALLOWANCE * (cost + self.total_weight * radius)
     }
 }
 
@@ -180,48 +122,49 @@ impl Problem<'_> {
 /// are below rounding, near the optimum — a cost no higher than rounding allows and a
 /// smaller subgradient.
 fn progresses(new: &Pass, old: &Pass) -> bool {
-    let (c_new, c_old) = (new.cost(), old.cost());
-    c_new < c_old || (c_new <= c_old * (1.0 + ROUNDING_ALLOWANCE) && new.subgradient_norm() < old.subgradient_norm())
+    let (c_new, c_old) = (new.sums.cost(), old.sums.cost());
+    c_new < c_old
+        || (c_new <= c_old * (1.0 + ROUNDING_ALLOWANCE) && new.sums.subgradient_norm() < old.sums.subgradient_norm())
 }
 
 /// Newton step on the smooth part, when the Hessian is safely positive definite and the
 /// step stays within the points' extent.
 fn newton_step(x: Point, pass: &Pass) -> Option<Point> {
-    let [hxx, hxy, hyy] = pass.hess;
+    let [hxx, hxy, hyy] = pass.sums.hess;
     let det = hxx * hyy - hxy * hxy;
     let trace = hxx + hyy;
     if !(det > 1e-12 * trace * trace) {
         return None;
     }
-    let g = pass.gradient();
+    let g = pass.sums.gradient();
     let step = [-(hyy * g[0] - hxy * g[1]) / det, -(hxx * g[1] - hxy * g[0]) / det];
-    (norm(step) <= pass.max_dist && step[0].is_finite() && step[1].is_finite()).then(|| add(x, step))
+    (norm(step) <= pass.sums.max_dist && step[0].is_finite() && step[1].is_finite()).then(|| add(x, step))
 }
 
 /// Weiszfeld's map, with the Vardi–Zhang correction when `x` is a data point.
 fn weiszfeld_step(x: Point, pass: &Pass) -> Point {
-    let t = [pass.inv_a[0] / pass.inv, pass.inv_a[1] / pass.inv];
-    if pass.eta == 0.0 {
+    let t = [pass.inv_a[0] / pass.sums.inv, pass.inv_a[1] / pass.sums.inv];
+    if pass.sums.eta == 0.0 {
         return t;
     }
-    let r = norm(pass.gradient());
-    let keep = (pass.eta / r).min(1.0);
+    let r = norm(pass.sums.gradient());
+    let keep = (pass.sums.eta / r).min(1.0);
     [(1.0 - keep) * t[0] + keep * x[0], (1.0 - keep) * t[1] + keep * x[1]]
 }
 
 /// Kuhn's test, estimated from a pass near data point `k`: removing `k`'s own term from the
 /// gradient approximates the resultant of the others at `aₖ`.
 fn data_point_looks_optimal(problem: &Problem<'_>, x: Point, pass: &Pass) -> bool {
-    let k = pass.nearest;
+    let k = pass.sums.nearest;
     if k == usize::MAX {
         return false;
     }
     let wk = problem.weights.get(k);
     let delta = sub(x, problem.local(k));
     let d = norm(delta);
-    let g = pass.gradient();
+    let g = pass.sums.gradient();
     let others = [g[0] - wk * delta[0] / d, g[1] - wk * delta[1] / d];
-    norm(others) <= 1.01 * wk || d <= 1e-9 * pass.max_dist
+    norm(others) <= 1.01 * wk || d <= 1e-9 * pass.sums.max_dist
 }
 
 /// Solve. Inputs are validated; at least one weight is positive.
@@ -254,7 +197,7 @@ pub(crate) fn solve_from(
         Problem { points, weights, origin, total_weight: total.total(), squares_are_safe: bbox.diagonal() < 1e150 };
     let finish = |x: Point, pass: &Pass, iterations: usize, converged: bool| WeberPoint {
         location: add(x, origin),
-        cost: pass.cost(),
+        cost: pass.sums.cost(),
         gap: problem.gap(pass),
         iterations,
         converged,
@@ -286,21 +229,21 @@ pub(crate) fn solve_from(
     let mut last_tested: Option<(usize, f64)> = None;
 
     loop {
-        if problem.gap(&current) <= tol * current.cost() || current.cost() == 0.0 {
+        if problem.gap(&current) <= tol * current.sums.cost() || current.sums.cost() == 0.0 {
             return finish(x, &current, evaluations, true);
         }
         if evaluations >= max_iter {
             return finish(x, &current, evaluations, false);
         }
         // Near a data point that may be optimal: test it exactly (Kuhn 1973).
-        if current.eta == 0.0 && data_point_looks_optimal(&problem, x, &current) {
-            let k = current.nearest;
+        if current.sums.eta == 0.0 && data_point_looks_optimal(&problem, x, &current) {
+            let k = current.sums.nearest;
             let retry = match last_tested {
-                Some((j, d)) => j != k || current.nearest_dist < 0.1 * d,
+                Some((j, d)) => j != k || current.sums.nearest_dist < 0.1 * d,
                 None => true,
             };
             if retry {
-                last_tested = Some((k, current.nearest_dist));
+                last_tested = Some((k, current.sums.nearest_dist));
                 let at = problem.local(k);
                 let trial = problem.evaluate(at);
                 evaluations += 1;
@@ -314,7 +257,7 @@ pub(crate) fn solve_from(
                 }
             }
         }
-        if current.eta == 0.0 {
+        if current.sums.eta == 0.0 {
             if let Some(xn) = newton_step(x, &current) {
                 let trial = problem.evaluate(xn);
                 evaluations += 1;
@@ -333,7 +276,7 @@ pub(crate) fn solve_from(
         evaluations += 1;
         if !progresses(&trial, &current) {
             // No step makes progress at this precision: report what the certificate says.
-            let converged = problem.gap(&current) <= tol * current.cost();
+            let converged = problem.gap(&current) <= tol * current.sums.cost();
             return finish(x, &current, evaluations, converged);
         }
         x = xw;
@@ -441,8 +384,8 @@ mod tests {
         let parallel = problem.evaluate(x);
         let sequential = problem.pass_over(x, 0, &pts);
         assert!(pts.len() >= PARALLEL_MIN_POINTS, "the parallel path must run");
-        assert!((parallel.cost() - sequential.cost()).abs() <= 1e-12 * sequential.cost());
-        assert_eq!(parallel.nearest, sequential.nearest);
+        assert!((parallel.sums.cost() - sequential.sums.cost()).abs() <= 1e-12 * sequential.sums.cost());
+        assert_eq!(parallel.sums.nearest, sequential.sums.nearest);
         // Deterministic: the same bits on one thread and on three.
         let on = |threads: usize| {
             let pool = rayon::ThreadPoolBuilder::new().num_threads(threads).build().unwrap();

@@ -259,11 +259,24 @@ fn convex_cell(
     start: &[Point],
     buffers: &mut (Vec<Point>, Vec<Point>),
 ) -> Vec<Point> {
+    clip_convex(start, adjacent, buffers, |ring, j, out| clip_to_bisector(ring, sites[i], sites[j], out))
+}
+
+/// The convex polygon `start` cut by one half-plane per neighbour in `adjacent` in turn
+/// (`clip(ring, j, out)` writes the part of `ring` kept against neighbour `j` into `out`;
+/// the two buffers take turns as ring and output). Empty once fewer than three vertices
+/// remain, or when what is left has no positive area.
+pub(super) fn clip_convex(
+    start: &[Point],
+    adjacent: &[usize],
+    buffers: &mut (Vec<Point>, Vec<Point>),
+    mut clip: impl FnMut(&[Point], usize, &mut Vec<Point>),
+) -> Vec<Point> {
     let (a, b) = buffers;
     a.clear();
     a.extend_from_slice(start);
     for &j in adjacent {
-        clip_to_bisector(a, sites[i], sites[j], b);
+        clip(a, j, b);
         std::mem::swap(a, b);
         if a.len() < 3 {
             return Vec::new();

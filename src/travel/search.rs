@@ -260,35 +260,41 @@ impl Workspace {
         out.len()
     }
 
+    /// Dijkstra's label step: node `u` reached at cost `c` within `limit` and below its
+    /// current label takes `c` (and a heap entry); a node reached for the first time is
+    /// remembered for the next [`Workspace::reset`].
+    #[inline]
+    fn lower(&mut self, u: u32, c: f64, limit: f64) {
+        if c <= limit && c < self.dist[u as usize] {
+            if self.dist[u as usize] == f64::INFINITY {
+                self.touched.push(u);
+            }
+            self.dist[u as usize] = c;
+            self.heap.push(Reverse((key(c), u)));
+        }
+    }
+
+    /// Every arc leaving node `u`, settled at cost `d`, offered to its head ([`Workspace::lower`]).
+    #[inline]
+    fn relax_from(&mut self, graph: &TravelGraph, u: u32, d: f64, limit: f64) {
+        for a in graph.first[u as usize] as usize..graph.first[u as usize + 1] as usize {
+            self.lower(graph.arc_head[a], d + graph.arc_cost[a], limit);
+        }
+    }
+
     /// A search from `spot` up to `limit`, without destinations: afterwards `dist` holds the
     /// cost of every node reached; returns those nodes.
     pub(crate) fn single_source(&mut self, graph: &TravelGraph, spot: Spot, limit: f64) -> Vec<u32> {
         self.reset();
         for (u, c) in graph.leave(spot).iter() {
-            if c <= limit && c < self.dist[u as usize] {
-                if self.dist[u as usize] == f64::INFINITY {
-                    self.touched.push(u);
-                }
-                self.dist[u as usize] = c;
-                self.heap.push(Reverse((key(c), u)));
-            }
+            self.lower(u, c, limit);
         }
         while let Some(Reverse((bits, u))) = self.heap.pop() {
             let d = unkey(bits);
             if d > self.dist[u as usize] {
                 continue;
             }
-            for a in graph.first[u as usize] as usize..graph.first[u as usize + 1] as usize {
-                let v = graph.arc_head[a];
-                let nd = d + graph.arc_cost[a];
-                if nd <= limit && nd < self.dist[v as usize] {
-                    if self.dist[v as usize] == f64::INFINITY {
-                        self.touched.push(v);
-                    }
-                    self.dist[v as usize] = nd;
-                    self.heap.push(Reverse((key(nd), v)));
-                }
-            }
+            self.relax_from(graph, u, d, limit);
         }
         self.touched.clone()
     }
@@ -315,13 +321,7 @@ impl Workspace {
             }
         }
         for (u, c) in graph.leave(origin).iter() {
-            if c <= limit && c < self.dist[u as usize] {
-                if self.dist[u as usize] == f64::INFINITY {
-                    self.touched.push(u);
-                }
-                self.dist[u as usize] = c;
-                self.heap.push(Reverse((key(c), u)));
-            }
+            self.lower(u, c, limit);
         }
         let mut chosen = Vec::new();
         while let Some(Reverse((bits, u))) = self.heap.pop() {
@@ -335,18 +335,7 @@ impl Workspace {
             for &(t, extra) in targets.at(u) {
                 self.offer(t, d + extra, k_mode);
             }
-            let (lo, hi) = (graph.first[u as usize] as usize, graph.first[u as usize + 1] as usize);
-            for a in lo..hi {
-                let v = graph.arc_head[a];
-                let nd = d + graph.arc_cost[a];
-                if nd <= limit && nd < self.dist[v as usize] {
-                    if self.dist[v as usize] == f64::INFINITY {
-                        self.touched.push(v);
-                    }
-                    self.dist[v as usize] = nd;
-                    self.heap.push(Reverse((key(nd), v)));
-                }
-            }
+            self.relax_from(graph, u, d, limit);
         }
         let mut out = if k_mode {
             self.settle_up_to(limit, k, &mut chosen);

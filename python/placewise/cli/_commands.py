@@ -148,8 +148,7 @@ def _network_note(args: argparse.Namespace, net: Any) -> None:
 def _cmd_spanning_tree(args: argparse.Namespace) -> None:
     from .. import gis
 
-    frame = read_points(args.input, args)
-    net = gis.spanning_tree(frame, **_by(args), **_common(args), **_ungrouped_watch(args))
+    net = gis.spanning_tree(read_points(args.input, args), **_by(args), **_common(args), **_ungrouped_watch(args))
     write_frame(net.edges, args.output, args, "edges")
     _write_summary(net.summary, args)
     _network_note(args, net)

@@ -24,7 +24,7 @@ except ImportError:  # pragma: no cover - exercised only without the extra
     raise ImportError("placewise.gis needs geopandas and pyproj: pip install 'placewise[geo]'") from None
 
 from .._core import InputError
-from .._errors import labelled, plain, restate, restate_problems
+from .._errors import labelled, plain, refuse, restate, restate_problems
 
 # Short unit names for column names (``distance_m``), by the CRS axis unit's name.
 _UNIT_NAMES = {
@@ -364,6 +364,12 @@ def _frames_per_group(
     return xy, frames, frame_of_group, error
 
 
+def goes_on_ellipsoid(crs: Any, work_crs: Any = None) -> bool:
+    """True when a frame in ``crs`` is solved on the ellipsoid by the functions that have a
+    geodesic form (``prepare(..., ellipsoid=True)``): a geographic CRS and no ``work_crs``."""
+    return crs is not None and CRS(crs).is_geographic and work_crs is None
+
+
 def prepare(
     obj: Any, name: str, *, planar: bool, centroids: bool, work: Any = "estimate", work_crs: Any = None,
     max_scale_error: float = MAX_SCALE_ERROR, by: str | None = None, ellipsoid: bool = False,
@@ -386,7 +392,7 @@ def prepare(
         raise InputError(f"max_scale_error must be a number between 0 and 1; got {max_scale_error!r}")
     groups = groups_of(frame, by, name)
     geographic = frame.crs is not None and CRS(frame.crs).is_geographic
-    on_earth = work is ELLIPSOID or (ellipsoid and geographic and work_crs is None and isinstance(work, str))
+    on_earth = work is ELLIPSOID or (ellipsoid and isinstance(work, str) and goes_on_ellipsoid(frame.crs, work_crs))
     if on_earth:
         return _on_ellipsoid(frame, name, centroids, groups)
     lonlat = _points_of(frame, name, centroids) if geographic else None
@@ -462,20 +468,19 @@ def prepare_or_sphere(obj: Any, name: str, *, planar: bool, centroids: bool, wor
 
 
 def on_earth_only(kernel: Callable[..., Any],
-                  where: str = "on the ellipsoid only (geographic input without work_crs or region)",
-                  why: str = "the planar kernel is exact and ends in well under a second") -> Callable[..., Any]:
+                  where: str = "on the ellipsoid only (geographic input without work_crs or region)"
+                  ) -> Callable[..., Any]:
     """``kernel`` (a planar one) refusing ``time_limit`` and ``progress``, which only its
-    geodesic or spherical counterpart takes (``where`` says which runs go there, ``why`` why
-    the planar one takes neither). Taking them silently would let a caller believe the run
-    was watched; they are an ``InputError`` naming the argument instead."""
+    geodesic or spherical counterpart takes (``where`` says which runs go there). Every
+    planar kernel wrapped here is exact and ends in well under a second, so it takes
+    neither. Taking them silently would let a caller believe the run was watched; they are
+    an ``InputError`` naming the argument instead."""
 
     def planar(*args: Any, time_limit: Any = None, progress: Any = False, **options: Any) -> Any:
         for name, value, unset in (("time_limit", time_limit, None), ("progress", progress, False)):
             if value is not unset and value is not None:
-                error = InputError(f"{name}= applies {where}; {why}, so it takes no "
-                                   f"{name.replace('_', ' ')}: drop {name}=")
-                error.argument = name
-                raise error
+                refuse(name, f"{name}= applies {where}; the planar kernel is exact and ends in well under a "
+                             f"second, so it takes no {name.replace('_', ' ')}: drop {name}=")
         return kernel(*args, **options)
 
     return planar

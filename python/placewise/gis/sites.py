@@ -9,7 +9,7 @@ import placewise as _pw
 from placewise import geodesic as _geodesic
 
 from .._core import DegenerateInputError, InputError
-from ._frames import MAX_SCALE_ERROR, call, framed, on_earth_only, prepare, weights
+from ._frames import MAX_SCALE_ERROR, call, framed, goes_on_ellipsoid, on_earth_only, prepare, weights
 from ._together import prepare_together, region_geometry
 
 __all__ = ["enclosing_circle", "enclosing_ellipse", "minimax_point", "weber_point"]
@@ -63,10 +63,7 @@ def watched_on_earth(frame: Any, *, work_crs: Any = None, region: Any = None) ->
     solve ``frame`` on the ellipsoid (a geographic CRS, no ``work_crs``, no ``region``): the
     runs that take ``time_limit`` and ``progress`` (the command line shows its bar for those).
     The same holds for the sites of :func:`placewise.gis.nearest_site` (no ``region``)."""
-    from pyproj import CRS
-
-    crs = getattr(frame, "crs", None)
-    return crs is not None and CRS(crs).is_geographic and work_crs is None and region is None
+    return region is None and goes_on_ellipsoid(getattr(frame, "crs", None), work_crs)
 
 
 def _watch(time_limit: float | None, progress: Any) -> dict[str, Any]:

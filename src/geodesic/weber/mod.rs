@@ -57,6 +57,7 @@ use super::inverse::{AZIMUTH_ACCURACY, DISTANCE_RELATIVE_ACCURACY};
 use crate::cancel::{Clock, Steps, Watch};
 use crate::error::{Error, Result};
 use crate::geometry::{CompensatedSum, Point, Weights};
+use crate::median::sums::WeberSums;
 use crate::median::WeberPoint;
 
 /// Largest angle (degrees) between the points' mean direction and any point for which the
@@ -172,16 +173,11 @@ pub(crate) fn within_hemisphere(spread: &Spread, what: &str) -> Result<()> {
     Ok(())
 }
 
+/// One exact pass at `x`: the shared sums in the tangent plane at `x` (east, north; metres
+/// and weight units), with the direction towards the nearest point.
 #[derive(Debug, Clone, Copy)]
 struct Pass {
-    cost: CompensatedSum,
-    grad: [CompensatedSum; 2],
-    inv: f64,
-    hess: [f64; 3],
-    eta: f64,
-    max_dist: f64,
-    nearest: usize,
-    nearest_dist: f64,
+    sums: WeberSums,
     nearest_dir: Point,
     /// False when the clock stopped the pass before every point was seen: its sums are
     /// partial and must not be used.
@@ -190,50 +186,14 @@ struct Pass {
 
 impl Pass {
     fn empty() -> Pass {
-        Pass {
-            cost: CompensatedSum::default(),
-            grad: [CompensatedSum::default(); 2],
-            inv: 0.0,
-            hess: [0.0; 3],
-            eta: 0.0,
-            max_dist: 0.0,
-            nearest: usize::MAX,
-            nearest_dist: f64::INFINITY,
-            nearest_dir: [0.0, 0.0],
-            complete: true,
-        }
+        Pass { sums: WeberSums::empty(), nearest_dir: [0.0, 0.0], complete: true }
     }
 
     fn merge(&mut self, other: &Pass) {
         self.complete &= other.complete;
-        self.cost.merge(other.cost);
-        self.grad[0].merge(other.grad[0]);
-        self.grad[1].merge(other.grad[1]);
-        self.inv += other.inv;
-        for k in 0..3 {
-            self.hess[k] += other.hess[k];
-        }
-        self.eta += other.eta;
-        self.max_dist = self.max_dist.max(other.max_dist);
-        if other.nearest_dist < self.nearest_dist {
-            self.nearest = other.nearest;
-            self.nearest_dist = other.nearest_dist;
+        if self.sums.merge(&other.sums) {
             self.nearest_dir = other.nearest_dir;
         }
-    }
-
-    fn cost(&self) -> f64 {
-        self.cost.total()
-    }
-
-    /// Gradient of the part smooth at x, in the tangent plane (east, north), weight units.
-    fn gradient(&self) -> Point {
-        [self.grad[0].total(), self.grad[1].total()]
-    }
-
-    fn subgradient_norm(&self) -> f64 {
-        let g = self.gradient();
-        (g[0].hypot(g[1]) - self.eta).max(0.0)
     }
 }
 
@@ -269,22 +229,12 @@ impl Problem<'_> {
             };
             let d = seen.distance;
             if d == 0.0 {
-                pass.eta += w;
+                pass.sums.eta += w;
                 continue;
             }
             let u = seen.direction;
-            pass.cost.add(w * d);
-            pass.grad[0].add(-w * u[0]);
-            pass.grad[1].add(-w * u[1]);
-            pass.inv += w / d;
-            let curvature = w * curvature;
-            pass.hess[0] += curvature * (1.0 - u[0] * u[0]);
-            pass.hess[1] -= curvature * u[0] * u[1];
-            pass.hess[2] += curvature * (1.0 - u[1] * u[1]);
-            pass.max_dist = pass.max_dist.max(d);
-            if d < pass.nearest_dist {
-                pass.nearest = i;
-                pass.nearest_dist = d;
+            // The direction from the point towards x is −u (negation is exact).
+            if pass.sums.add_point(i, w, d, [-u[0], -u[1]], w / d, w * curvature) {
                 pass.nearest_dir = u;
             }
         }
@@ -340,9 +290,9 @@ impl Problem<'_> {
         if !(self.certified && self.spread.holds(x)) {
             return f64::INFINITY;
         }
-        let cost = pass.cost();
-        let radius = pass.max_dist.min(2.0 * cost / self.total_weight);
-        pass.subgradient_norm() * radius
+        let cost = pass.sums.cost();
+        let radius = pass.sums.max_dist.min(2.0 * cost / self.total_weight);
+        pass.sums.subgradient_norm() * radius
             + ROUNDING * (cost + self.total_weight * radius)
             + self.total_weight * DISTANCE_ACCURACY_M
             + if self.quick {
@@ -354,19 +304,19 @@ impl Problem<'_> {
 
     /// Stationary to the precision a step can still show.
     fn stationary(&self, pass: &Pass, tol: f64) -> bool {
-        pass.subgradient_norm() <= tol * self.total_weight
+        pass.sums.subgradient_norm() <= tol * self.total_weight
     }
 }
 
 fn progresses(new: &Pass, old: &Pass) -> bool {
-    let (c_new, c_old) = (new.cost(), old.cost());
-    c_new < c_old || (c_new <= c_old * (1.0 + ROUNDING) && new.subgradient_norm() < old.subgradient_norm())
+    let (c_new, c_old) = (new.sums.cost(), old.sums.cost());
+    c_new < c_old || (c_new <= c_old * (1.0 + ROUNDING) && new.sums.subgradient_norm() < old.sums.subgradient_norm())
 }
 
 /// Newton step in the tangent plane with the exact Hessian, when positive definite and no
 /// longer than the points' extent.
 fn newton_step(pass: &Pass) -> Option<Point> {
-    newton_2x2(pass.hess, pass.gradient(), pass.max_dist)
+    newton_2x2(pass.sums.hess, pass.sums.gradient(), pass.sums.max_dist)
 }
 
 /// `−H⁻¹g` for the symmetric `H = [[hxx, hxy], [hxy, hyy]]`, when `H` is positive definite
@@ -385,13 +335,13 @@ pub(super) fn newton_2x2(hess: [f64; 3], g: Point, longest: f64) -> Option<Point
 /// Weiszfeld's step in the tangent plane at x, with the Vardi–Zhang correction at a data
 /// point: `v = Σ wᵢ uᵢ / Σ (wᵢ/sᵢ) = −g / Σ (wᵢ/sᵢ)`.
 fn weiszfeld_step(pass: &Pass) -> Point {
-    let g = pass.gradient();
-    let t = [-g[0] / pass.inv, -g[1] / pass.inv];
-    if pass.eta == 0.0 {
+    let g = pass.sums.gradient();
+    let t = [-g[0] / pass.sums.inv, -g[1] / pass.sums.inv];
+    if pass.sums.eta == 0.0 {
         return t;
     }
     let r = g[0].hypot(g[1]);
-    let keep = (pass.eta / r).min(1.0);
+    let keep = (pass.sums.eta / r).min(1.0);
     [(1.0 - keep) * t[0], (1.0 - keep) * t[1]]
 }
 
@@ -401,16 +351,16 @@ fn weiszfeld_step(pass: &Pass) -> Point {
 /// Hessian term the estimate is about `wₖ` whenever the gradient is small, and a dense cloud
 /// would spend an exact pass on its nearest point at every optimum.
 fn data_point_looks_optimal(problem: &Problem<'_>, pass: &Pass) -> bool {
-    let k = pass.nearest;
+    let k = pass.sums.nearest;
     if k == usize::MAX {
         return false;
     }
     let wk = problem.weights.get(k);
-    let g = pass.gradient();
-    let [hxx, hxy, hyy] = pass.hess;
-    let (u, d) = (pass.nearest_dir, pass.nearest_dist);
+    let g = pass.sums.gradient();
+    let [hxx, hxy, hyy] = pass.sums.hess;
+    let (u, d) = (pass.nearest_dir, pass.sums.nearest_dist);
     let others = [g[0] + wk * u[0] + d * (hxx * u[0] + hxy * u[1]), g[1] + wk * u[1] + d * (hxy * u[0] + hyy * u[1])];
-    others[0].hypot(others[1]) <= 1.01 * wk || d <= 1e-9 * pass.max_dist
+    others[0].hypot(others[1]) <= 1.01 * wk || d <= 1e-9 * pass.sums.max_dist
 }
 
 /// Solve. Inputs validated (longitude/latitude, weights); at least one weight positive.
@@ -484,10 +434,10 @@ fn descend(
         let gap = problem.gap(x, pass);
         WeberPoint {
             location: [super::earth::normalised_longitude(x[0]), x[1]],
-            cost: pass.cost(),
+            cost: pass.sums.cost(),
             gap,
             iterations,
-            converged: gap <= tol * pass.cost() || pass.cost() == 0.0,
+            converged: gap <= tol * pass.sums.cost() || pass.sums.cost() == 0.0,
         }
     };
     // Majority theorem (Witzgall 1964; its proof uses only the triangle inequality, so it
@@ -500,7 +450,7 @@ fn descend(
             return Ok(unfinished(x, 1));
         }
         // Optimal exactly: the subgradient ball contains zero.
-        pass.eta = pass.eta.max(pass.gradient()[0].hypot(pass.gradient()[1]));
+        pass.sums.eta = pass.sums.eta.max(pass.sums.gradient()[0].hypot(pass.sums.gradient()[1]));
         let mut r = finish(x, &pass, 1);
         r.gap = 0.0;
         r.converged = true;
@@ -530,13 +480,13 @@ fn descend(
     let mut last_tested: Option<(usize, f64)> = None;
     loop {
         let done = if problem.certified {
-            problem.gap(x, &current) <= tol * current.cost()
+            problem.gap(x, &current) <= tol * current.sums.cost()
         } else {
             problem.stationary(&current, tol)
         };
         // A stop ends the descent at the point reached; it is asked before every pass over
         // the points (the only long work), so it takes effect within one pass.
-        if done || current.cost() == 0.0 || evaluations >= max_iter || clock.stop() {
+        if done || current.sums.cost() == 0.0 || evaluations >= max_iter || clock.stop() {
             return Ok(finish(x, &current, evaluations));
         }
         if sampled {
@@ -550,14 +500,14 @@ fn descend(
             steps.step();
             continue;
         }
-        if current.eta == 0.0 && data_point_looks_optimal(&problem, &current) {
-            let k = current.nearest;
+        if current.sums.eta == 0.0 && data_point_looks_optimal(&problem, &current) {
+            let k = current.sums.nearest;
             let retry = match last_tested {
-                Some((j, d)) => j != k || current.nearest_dist < 0.1 * d,
+                Some((j, d)) => j != k || current.sums.nearest_dist < 0.1 * d,
                 None => true,
             };
             if retry {
-                last_tested = Some((k, current.nearest_dist));
+                last_tested = Some((k, current.sums.nearest_dist));
                 let at = points[k];
                 if clock.stop() {
                     return Ok(finish(x, &current, evaluations));
@@ -578,7 +528,7 @@ fn descend(
                 }
             }
         }
-        if current.eta == 0.0 {
+        if current.sums.eta == 0.0 {
             if let Some(step) = newton_step(&current) {
                 let xn = problem.earth.exp(x, step);
                 if clock.stop() {

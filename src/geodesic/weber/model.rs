@@ -49,25 +49,47 @@ pub(super) fn tangent_basis(y: [f64; 3]) -> ([f64; 3], [f64; 3]) {
     (e1, e2)
 }
 
+/// The model's view of image `p` from `y` (unit vectors), `(e₁, e₂)` the tangent basis at
+/// `y`: the cosine and sine of the angle between them, the angle (radians) and the unit
+/// tangent at `y` towards `p`. `Err(cos)` when `p` is `y` (cos 1) or antipodal (cos −1),
+/// where no direction is defined.
+#[inline]
+pub(super) fn model_seen(y: [f64; 3], e1: [f64; 3], e2: [f64; 3], p: [f64; 3]) -> Result<ModelSight, f64> {
+    let cos = y[0] * p[0] + y[1] * p[1] + y[2] * p[2];
+    let cross = [y[1] * p[2] - y[2] * p[1], y[2] * p[0] - y[0] * p[2], y[0] * p[1] - y[1] * p[0]];
+    let sin = (cross[0] * cross[0] + cross[1] * cross[1] + cross[2] * cross[2]).sqrt();
+    if sin == 0.0 {
+        return Err(cos);
+    }
+    // Unit tangent at y towards p: (p − cos·y)/sin, whose components are p·eₖ/sin.
+    let toward =
+        [(p[0] * e1[0] + p[1] * e1[1] + p[2] * e1[2]) / sin, (p[0] * e2[0] + p[1] * e2[1] + p[2] * e2[2]) / sin];
+    Ok(ModelSight { cos, sin, angle: sin.atan2(cos), toward })
+}
+
+/// See [`model_seen`].
+pub(super) struct ModelSight {
+    pub cos: f64,
+    pub sin: f64,
+    pub angle: f64,
+    pub toward: Point,
+}
+
 fn model_pass_over(y: [f64; 3], start: usize, images: &[[f64; 3]], weights: Weights<'_>) -> ModelPass {
     let (e1, e2) = tangent_basis(y);
     let mut pass = ModelPass::default();
-    for (offset, p) in images.iter().enumerate() {
+    for (offset, &p) in images.iter().enumerate() {
         let w = weights.get(start + offset);
         if w <= 0.0 {
             continue;
         }
-        let cos = y[0] * p[0] + y[1] * p[1] + y[2] * p[2];
-        let cross = [y[1] * p[2] - y[2] * p[1], y[2] * p[0] - y[0] * p[2], y[0] * p[1] - y[1] * p[0]];
-        let sin = (cross[0] * cross[0] + cross[1] * cross[1] + cross[2] * cross[2]).sqrt();
-        if sin == 0.0 {
-            pass.at_point |= cos > 0.0;
-            continue;
-        }
-        let theta = sin.atan2(cos);
-        // Unit tangent at y towards p: (p − cos·y)/sin, whose components are p·eₖ/sin.
-        let u =
-            [(p[0] * e1[0] + p[1] * e1[1] + p[2] * e1[2]) / sin, (p[0] * e2[0] + p[1] * e2[1] + p[2] * e2[2]) / sin];
+        let ModelSight { cos, sin, angle: theta, toward: u } = match model_seen(y, e1, e2, p) {
+            Ok(sight) => sight,
+            Err(cos) => {
+                pass.at_point |= cos > 0.0;
+                continue;
+            }
+        };
         pass.cost += w * theta;
         pass.grad = [pass.grad[0] - w * u[0], pass.grad[1] - w * u[1]];
         pass.inv += w / theta;
@@ -187,4 +209,36 @@ pub(super) fn model_optimum(
         let pass = model_evaluate(image, &images, weights);
         ModelOptimum { location: centre, image, images, pass }
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::{model_seen, tangent_basis};
+
+    /// Against spherical trigonometry on unit vectors, seen from (1, 0, 0) (latitude 0,
+    /// longitude 0; east (0, 1, 0), north (0, 0, 1)).
+    #[test]
+    fn model_seen_gives_the_great_circle_angle_and_direction() {
+        let y = [1.0, 0.0, 0.0];
+        let (e1, e2) = tangent_basis(y);
+        let (s30, c30) = 30f64.to_radians().sin_cos();
+        let close = |a: f64, b: f64| (a - b).abs() < 1e-12;
+        let east = model_seen(y, e1, e2, [0.0, 1.0, 0.0]).unwrap();
+        assert!(
+            close(east.angle, std::f64::consts::FRAC_PI_2) && close(east.toward[0], 1.0) && close(east.toward[1], 0.0)
+        );
+        let north = model_seen(y, e1, e2, [c30, 0.0, s30]).unwrap();
+        assert!(close(north.angle, std::f64::consts::PI / 6.0));
+        assert!(close(north.toward[0], 0.0) && close(north.toward[1], 1.0));
+        assert!(close(north.cos, c30) && close(north.sin, s30));
+        // Azimuth A from the spherical law of cosines for the side opposite the pole:
+        // cos A = (sin φ₂ − sin φ₁ cos θ) / (cos φ₁ sin θ) = sin 30° = 1/2, so A = 60°
+        // east of north: the unit tangent is (sin A, cos A) = (√3/2, 1/2) in (east, north).
+        let far = model_seen(y, e1, e2, [0.0, c30, s30]).unwrap();
+        assert!(close(far.angle, std::f64::consts::FRAC_PI_2));
+        assert!(close(far.toward[0], 3f64.sqrt() / 2.0) && close(far.toward[1], 0.5));
+        // No direction at the point itself (cos 1) or its antipode (cos −1).
+        assert_eq!(model_seen(y, e1, e2, y).err(), Some(1.0));
+        assert_eq!(model_seen(y, e1, e2, [-1.0, 0.0, 0.0]).err(), Some(-1.0));
+    }
 }

@@ -31,7 +31,7 @@
 use nalgebra::{SMatrix, SVector};
 use rayon::prelude::*;
 
-use super::model::{tangent_basis, ModelOptimum};
+use super::model::{model_seen, tangent_basis, ModelOptimum};
 use super::{newton_2x2, Problem, CHUNK};
 use crate::geometry::Point;
 
@@ -57,19 +57,6 @@ fn features(v: Point) -> Features {
         }
     }
     f
-}
-
-/// The model's view of image `p` from `y`: angle (radians) and unit tangent in the basis
-/// `(e₁, e₂)` at `y`; `None` when `p` is `y` (or antipodal).
-fn model_seen(y: [f64; 3], e1: [f64; 3], e2: [f64; 3], p: [f64; 3]) -> Option<(f64, Point)> {
-    let cos = y[0] * p[0] + y[1] * p[1] + y[2] * p[2];
-    let cross = [y[1] * p[2] - y[2] * p[1], y[2] * p[0] - y[0] * p[2], y[0] * p[1] - y[1] * p[0]];
-    let sin = (cross[0] * cross[0] + cross[1] * cross[1] + cross[2] * cross[2]).sqrt();
-    if sin == 0.0 {
-        return None;
-    }
-    let u = [(p[0] * e1[0] + p[1] * e1[1] + p[2] * e1[2]) / sin, (p[0] * e2[0] + p[1] * e2[1] + p[2] * e2[2]) / sin];
-    Some((sin.atan2(cos), u))
 }
 
 /// One sampled point: its weight, features, and the exact-minus-model direction.
@@ -112,8 +99,8 @@ pub(super) fn sampled_newton_target(problem: &Problem<'_>, model: &ModelOptimum)
             for (offset, &p) in chunk.iter().enumerate() {
                 let w = problem.weights.get(c * CHUNK + offset);
                 if w > 0.0 {
-                    let (theta, u) = model_seen(y, e1, e2, p)?;
-                    sum += w * features(scaled(theta, u));
+                    let sight = model_seen(y, e1, e2, p).ok()?;
+                    sum += w * features(scaled(sight.angle, sight.toward));
                 }
             }
             Some(sum)
@@ -144,7 +131,8 @@ pub(super) fn sampled_newton_target(problem: &Problem<'_>, model: &ModelOptimum)
                 });
             }
             let seen = problem.earth.seen_from_quickly(x0, problem.points[i]);
-            let (angle, u) = model_seen(y, e1, e2, model.images[i])?;
+            let sight = model_seen(y, e1, e2, model.images[i]).ok()?;
+            let (angle, u) = (sight.angle, sight.toward);
             if seen.distance == 0.0 {
                 return None;
             }

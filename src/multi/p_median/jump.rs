@@ -7,7 +7,7 @@
 
 use rayon::prelude::*;
 
-use super::reallocate::unit_distance;
+use super::reallocate::scan;
 use super::{Budget, Problem, Solution};
 use crate::geometry::random::SplitMix64;
 use crate::geometry::Point;
@@ -24,23 +24,8 @@ impl Problem<'_> {
     /// Nearest site (new or fixed), its distance and the second-nearest distance of every point.
     fn two_nearest(&self, sites: &[Point]) -> TwoNearest {
         let all = self.with_fixed(sites);
-        let per_point: Vec<(usize, f64, f64)> = self
-            .points
-            .par_iter()
-            .with_min_len(4096)
-            .map(|&a| {
-                let (mut site, mut first, mut second) = (0, f64::INFINITY, f64::INFINITY);
-                for (j, &s) in all.iter().enumerate() {
-                    let d = unit_distance(a, s);
-                    if d < first {
-                        (second, first, site) = (first, d, j);
-                    } else if d < second {
-                        second = d;
-                    }
-                }
-                (site, first, second)
-            })
-            .collect();
+        let per_point: Vec<(usize, f64, f64)> =
+            self.points.par_iter().with_min_len(4096).map(|&a| scan(a, &all)).collect();
         TwoNearest {
             site: per_point.iter().map(|t| t.0).collect(),
             first: per_point.iter().map(|t| t.1).collect(),

@@ -39,7 +39,7 @@ pub(super) fn unit_distance(a: Point, b: Point) -> f64 {
 /// Nearest of `sites` to `a` (equally near: the smaller index) and the distance to the
 /// nearest of the others.
 #[inline]
-fn scan(a: Point, sites: &[Point]) -> (usize, f64, f64) {
+pub(super) fn scan(a: Point, sites: &[Point]) -> (usize, f64, f64) {
     let (mut site, mut first, mut second) = (usize::MAX, f64::INFINITY, f64::INFINITY);
     for (j, &s) in sites.iter().enumerate() {
         let d = unit_distance(a, s);
@@ -155,5 +155,30 @@ impl Problem<'_> {
         let lower = updated.iter().map(|t| t.2).collect();
         let cost = total_cost(self, &distance);
         Ok(Served { index, distance, lower, cost })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::{scan, unit_distance};
+    use crate::geometry::random::SplitMix64;
+    use crate::geometry::Point;
+
+    /// Against a full sort of the distances (ties by index): the nearest site is the first,
+    /// the second distance the next one; on integer coordinates with repeated sites, ties
+    /// go to the smaller index.
+    #[test]
+    fn scan_agrees_with_sorting_the_distances() {
+        let mut rng = SplitMix64::new(5);
+        let mut grid = || (rng.next_f64() * 6.0).floor();
+        for _ in 0..200 {
+            let sites: Vec<Point> = (0..1 + (grid() as usize)).map(|_| [grid(), grid()]).collect();
+            let a = [grid(), grid()];
+            let mut order: Vec<(f64, usize)> =
+                sites.iter().enumerate().map(|(j, &s)| (unit_distance(a, s), j)).collect();
+            order.sort_by(|x, y| x.0.total_cmp(&y.0).then(x.1.cmp(&y.1)));
+            let second = order.get(1).map_or(f64::INFINITY, |t| t.0);
+            assert_eq!(scan(a, &sites), (order[0].1, order[0].0, second));
+        }
     }
 }

@@ -15,11 +15,13 @@ mod regular;
 use rayon::prelude::*;
 
 use super::delaunay::neighbour_lists;
-use super::voronoi::{check_distinct, clip_to_half_plane, clipped_cells, region_rings, Region, VoronoiCells};
+use super::voronoi::{
+    check_distinct, clip_convex, clip_to_half_plane, clipped_cells, region_rings, Region, VoronoiCells,
+};
 use crate::batch::{run_grouped_placed, Grouped, OnGroupError, RowPlaces};
 use crate::cancel::Watch;
 use crate::error::{Error, Result};
-use crate::geometry::{dot, ring_signed_area, sub, validate_points, Point, Weights};
+use crate::geometry::{dot, sub, validate_points, Point, Weights};
 
 pub use nearest::power_nearest;
 
@@ -208,26 +210,14 @@ fn power_cell(
     start: &[Point],
     buffers: &mut (Vec<Point>, Vec<Point>),
 ) -> Vec<Point> {
-    let (a, b) = buffers;
-    a.clear();
-    a.extend_from_slice(start);
     let v = sites[i];
-    for &j in adjacent {
+    clip_convex(start, adjacent, buffers, |ring, j, out| {
         let u = sites[j];
         let d = sub(u, v);
         let shift = (powers[i] - powers[j]) / (2.0 * dot(d, d));
         let m = [0.5 * (u[0] + v[0]) + shift * d[0], 0.5 * (u[1] + v[1]) + shift * d[1]];
-        clip_to_half_plane(a, m, d, b);
-        std::mem::swap(a, b);
-        if a.len() < 3 {
-            return Vec::new();
-        }
-    }
-    if ring_signed_area(a) > 0.0 {
-        a.clone()
-    } else {
-        Vec::new()
-    }
+        clip_to_half_plane(ring, m, d, out);
+    })
 }
 
 #[cfg(test)]

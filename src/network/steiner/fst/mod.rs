@@ -176,27 +176,16 @@ fn generate(
     let sort_by_x = |list: &mut Vec<u32>, mids: &[Point]| {
         list.sort_by(|&a, &b| mids[a as usize][0].total_cmp(&mids[b as usize][0]))
     };
-    // nearest_bsd[item * n + v]: the smallest bottleneck distance from a terminal below the
-    // item to terminal v; far[item]: the item's farthest arc distance (`reach`); mids[item]
-    // and spread[item]: the middle of its arc and how far the arc strays from it.
-    let mut nearest_bsd: Vec<f64> = Vec::with_capacity(items.len() * n);
-    let mut far: Vec<f64> = Vec::with_capacity(items.len());
-    let mut near: Vec<f64> = Vec::with_capacity(items.len());
-    let mut mids: Vec<Point> = Vec::with_capacity(items.len());
-    let mut spread: Vec<f64> = Vec::with_capacity(items.len());
+    let mut ledger = Ledger::with_capacity(items.len(), n);
     for (index, item) in items.iter().enumerate() {
-        push_nearest(&mut nearest_bsd, sets.get(index), bottleneck, n);
-        far.push(reach(item).1);
-        near.push(reach(item).0);
-        let (mid, stray) = arc_span(item);
-        mids.push(mid);
-        spread.push(stray);
+        ledger.record(item, sets.get(index), bottleneck, n);
     }
-    sort_by_x(&mut by_size[1], &mids);
+    sort_by_x(&mut by_size[1], &ledger.mids);
     let mut shelves: Vec<Vec<Shelf>> = vec![Vec::new(); n];
-    shelves[1] = shelve(&by_size[1], &items, &sets, Measures { mids: &mids, spread: &spread, far: &far }, n);
+    shelves[1] = shelve(&by_size[1], &items, &sets, ledger.measures(), n);
     for k in 2..n {
         let started = std::time::Instant::now();
+        let Ledger { nearest_bsd, far, near, mids, spread } = &ledger;
         // Per-size tallies, added once per job: pairs, disjoint, near, sampled.
         let tally: [AtomicU64; 4] = Default::default();
         // The pairings of one size are independent: they run in parallel, each item `a` of
@@ -300,7 +289,7 @@ fn generate(
                         bottleneck,
                         points,
                         mst_of,
-                        &nearest_bsd,
+                        nearest_bsd,
                         prune,
                         closest,
                         &mut local[3],
@@ -321,20 +310,15 @@ fn generate(
             };
             by_size[k].push(items.len() as u32);
             sets.push_union(p as usize, q as usize);
-            push_nearest(&mut nearest_bsd, sets.get(items.len()), bottleneck, n);
-            far.push(reach(&item).1);
-            near.push(reach(&item).0);
-            let (mid, stray) = arc_span(&item);
-            mids.push(mid);
-            spread.push(stray);
+            ledger.record(&item, sets.get(items.len()), bottleneck, n);
             items.push(item);
         }
         let mut list = std::mem::take(&mut by_size[k]);
-        sort_by_x(&mut list, &mids);
+        sort_by_x(&mut list, &ledger.mids);
         let [pairs, disjoint, near, sampled] = tally.map(AtomicU64::into_inner);
         let (kept, seconds) = (list.len() as u64, started.elapsed().as_secs_f64());
         counts.push(SizeCounts { size: k, pairs, disjoint, near, sampled, kept, seconds });
-        shelves[k] = shelve(&list, &items, &sets, Measures { mids: &mids, spread: &spread, far: &far }, n);
+        shelves[k] = shelve(&list, &items, &sets, ledger.measures(), n);
         by_size[k] = list;
         clock.watch.advance(1);
     }
@@ -404,6 +388,47 @@ fn shelve(list: &[u32], items: &[Item], sets: &TerminalSets, measures: Measures,
         shelf.widest = shelf.widest.max(spread[b as usize]);
     }
     shelves
+}
+
+/// What the pairing reads of every item, by item index, recorded once when the item is
+/// made (terminals and equilateral points alike).
+struct Ledger {
+    /// `nearest_bsd[item * n + v]`: the smallest bottleneck distance from a terminal below
+    /// the item to terminal `v`.
+    nearest_bsd: Vec<f64>,
+    /// The item's farthest and nearest arc distance ([`reach`]).
+    far: Vec<f64>,
+    near: Vec<f64>,
+    /// The middle of the item's arc and how far the arc strays from it ([`arc_span`]).
+    mids: Vec<Point>,
+    spread: Vec<f64>,
+}
+
+impl Ledger {
+    fn with_capacity(items: usize, n: usize) -> Ledger {
+        Ledger {
+            nearest_bsd: Vec::with_capacity(items * n),
+            far: Vec::with_capacity(items),
+            near: Vec::with_capacity(items),
+            mids: Vec::with_capacity(items),
+            spread: Vec::with_capacity(items),
+        }
+    }
+
+    /// Record `item`, whose terminals are `terminals`, as the next item.
+    fn record(&mut self, item: &Item, terminals: &[u64], bottleneck: &Bottleneck, n: usize) {
+        push_nearest(&mut self.nearest_bsd, terminals, bottleneck, n);
+        let (near, far) = reach(item);
+        self.far.push(far);
+        self.near.push(near);
+        let (mid, stray) = arc_span(item);
+        self.mids.push(mid);
+        self.spread.push(stray);
+    }
+
+    fn measures(&self) -> Measures<'_> {
+        Measures { mids: &self.mids, spread: &self.spread, far: &self.far }
+    }
 }
 
 /// Per item: the middle of its arc, its spread and its farthest arc distance.
