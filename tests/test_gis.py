@@ -1030,3 +1030,12 @@ def test_delaunay_by_group_triangulates_each_group_alone():
                                                     members)
     with pytest.raises(pw.InputError, match="progress"):
         gis.delaunay(frame, by="zone", progress=True)
+
+
+@pytest.mark.parametrize("solve", ["weber_point", "minimax_point", "enclosing_circle", "spanning_tree", "delaunay"])
+def test_planar_true_on_a_geographic_frame_is_refused_by_every_model(solve):
+    # The functions with an ellipsoid form once solved such a frame on the ellipsoid while
+    # the others refused it: planar=True says the coordinates are not longitude/latitude.
+    frame = lonlat_frame(20, seed=24)
+    with pytest.raises(pw.InputError, match="planar=True is only for frames without one"):
+        getattr(gis, solve)(frame, planar=True)

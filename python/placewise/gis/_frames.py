@@ -154,8 +154,6 @@ def _working_crs(frame: Any, name: str, planar: bool, work_crs: Any = None, lonl
                 "coordinates are already planar"
             )
         return None
-    if planar:
-        raise InputError(f"{name} has a CRS ({CRS(crs).name}); planar=True is only for frames without one")
     crs = CRS(crs)
     if crs.is_geographic:
         assert lonlat is not None, "a geographic frame's points are read before its frame is chosen"
@@ -391,6 +389,10 @@ def prepare(
     if not (isinstance(max_scale_error, (int, float)) and 0 < max_scale_error < 1):
         raise InputError(f"max_scale_error must be a number between 0 and 1; got {max_scale_error!r}")
     groups = groups_of(frame, by, name)
+    if planar and isinstance(work, str) and frame.crs is not None:
+        # Before the ellipsoid rule too: a geographic frame must not be solved on the
+        # ellipsoid while the caller says its coordinates are planar.
+        raise InputError(f"{name} has a CRS ({CRS(frame.crs).name}); planar=True is only for frames without one")
     geographic = frame.crs is not None and CRS(frame.crs).is_geographic
     on_earth = work is ELLIPSOID or (ellipsoid and isinstance(work, str) and goes_on_ellipsoid(frame.crs, work_crs))
     if on_earth:
