@@ -15,7 +15,7 @@
 //! So `g = g_model − Σ wᵢ cᵢ` with `cᵢ = uᵢ − ûᵢ`, a small vector varying smoothly over the
 //! cloud. Its weighted sum over all points is estimated by regression with the model as
 //! auxiliary information (the generalised regression estimator; Särndal, Swensson & Wretman
-//! 1992, "Model Assisted Survey Sampling", §6.4): a cubic polynomial in the model's
+//! 1992, "Model Assisted Survey Sampling", §6.4): a polynomial of total degree 5 in the model's
 //! azimuthal coordinates `θ·û` is fitted to `c` on a systematic sample of the points by
 //! weighted least squares; the fitted polynomial is summed exactly over all points (its
 //! moments come from one cheap model pass) and the sample's residuals, scaled to the total
@@ -40,12 +40,12 @@ use crate::geometry::Point;
 pub(super) const SAMPLED_STEP_MIN_POINTS: usize = 4 * SAMPLE_POINTS;
 /// Points in the sample (a systematic sample: every `n / SAMPLE_POINTS`-th point).
 const SAMPLE_POINTS: usize = 65_536;
-/// Monomials of total degree at most 3 in two variables.
+/// Monomials of total degree at most 5 in two variables (1 + 2 + ... + 6).
 const FEATURES: usize = 21;
 
 type Features = SVector<f64, FEATURES>;
 
-/// `1, x, y, x², xy, y², x³, x²y, xy², y³` of the scaled model coordinates `v`.
+/// `1, x, y, x², xy, y², …, y⁵` of the scaled model coordinates `v`, by degree.
 fn features(v: Point) -> Features {
     let [x, y] = v;
     let mut f = Features::zeros();
