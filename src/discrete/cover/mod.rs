@@ -192,7 +192,7 @@ pub fn cover_all(
     };
     steps.finish();
     // A cancelled run's outcome is dropped by the caller: skip the exact step and the
-    // service of the plan (about a second at 20,000 points), so Ctrl-C lands at once.
+    // service of the plan, so Ctrl-C lands at once.
     if clock.watch.is_cancelled() {
         return Err(cancelled("costs"));
     }
