@@ -38,8 +38,11 @@ def _served(plan: pw.discrete.MedianSelection) -> np.ndarray:
 
 
 def test_a_tiny_time_limit_still_returns_feasible_plans_with_valid_bounds() -> None:
+    # The covering models need their complete coverage lists before any plan: a tiny limit
+    # may stop them there (see the tests of the covering models' limits below).
     full = {name: MODELS[name]() for name in ("p_median", "p_center", "cover_all", "cover_most")}
-    cut = {name: MODELS[name](time_limit=1e-6) for name in full}
+    cut = {name: MODELS[name](time_limit=1e-6) for name in ("p_median", "p_center")}
+    cut |= {name: MODELS[name](time_limit=5.0) for name in ("cover_all", "cover_most")}
 
     median = cut["p_median"]
     assert len(median.open) == P and (median.assignment >= 0).all()
@@ -109,3 +112,39 @@ def test_ctrl_c_stops_the_discrete_p_median_promptly() -> None:
     # bound asserted leaves room for a loaded machine.
     word, latency = interrupt(_INTERRUPTED_CHILD, 1.5)
     assert word == "interrupted" and latency < 2.0
+
+
+def test_covering_stopped_while_listing_the_coverage_says_no_plan_exists() -> None:
+    # A deadline of a nanosecond has passed by the first row of the coverage lists: no plan
+    # exists yet, and the error says so instead of returning one built from partial lists.
+    for run in (lambda: pw.discrete.cover_all(COSTS, 30.0, time_limit=1e-9),
+                lambda: pw.discrete.cover_most(COSTS, P, RADIUS, WEIGHTS, time_limit=1e-9)):
+        with pytest.raises(pw.InputError) as caught:
+            run()
+        assert caught.value.argument == "time_limit"
+        assert "before any" in str(caught.value) and "coverage of the points" in str(caught.value)
+
+
+def test_a_generous_time_limit_gives_the_unstopped_plans() -> None:
+    for name in ("cover_all", "cover_all anywhere", "cover_most"):
+        free, timed = MODELS[name](), MODELS[name](time_limit=600.0)
+        np.testing.assert_array_equal(timed.open, free.open)
+        np.testing.assert_array_equal(timed.assignment, free.assignment)
+        np.testing.assert_array_equal(timed.covering, free.covering)
+        bound = "lower_bound" if name != "cover_most" else "upper_bound"
+        assert getattr(timed, bound) == getattr(free, bound)
+
+
+# Sites anywhere for uniform points at 2 per unit area and r = 1: a search of a few seconds,
+# stopped by the limit below inside the search (the coverage lists take a small part of it).
+SPREAD = np.random.default_rng(23).uniform(0, 45, (4000, 2))
+
+
+def test_a_time_limit_inside_the_search_returns_a_cover_of_every_point() -> None:
+    cut = pw.cover_all(SPREAD, 1.0, time_limit=1.0)
+    # Coverage checked on scipy's distances from the points to the sites returned.
+    nearest = cdist(SPREAD, cut.sites).min(axis=1)
+    assert (nearest <= 1.0).all(), "a point was left uncovered"
+    np.testing.assert_array_equal(cut.covering, (cdist(SPREAD, cut.sites) <= 1.0).sum(axis=1))
+    np.testing.assert_allclose(cut.cost, nearest, rtol=1e-12)
+    assert cut.chosen == len(cut.open) and 0 < cut.lower_bound <= cut.chosen

@@ -83,8 +83,9 @@ def cover_all(
     time_limit : float, optional
         Seconds (finite, above zero) the call may take, finding the candidates included;
         when they pass, the cover found so far (every point covered) is returned with the
-        bound proven so far, ``relative_gap`` above 0 unless it is proven optimal. Default:
-        no limit.
+        bound proven so far, ``relative_gap`` above 0 unless it is proven optimal; when
+        they pass before the lists of candidates covering each point are complete (no cover
+        exists yet), ``InputError`` naming ``time_limit`` is raised. Default: no limit.
     progress : bool or callable
         True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
         callable is called as ``progress(done, total)`` from the calling thread while the
@@ -100,8 +101,9 @@ def cover_all(
     Raises
     ------
     InputError
-        For ``radius <= 0``, bad coordinates or weights, too many intersection points, or a
-        point no candidate covers (naming the point and its nearest candidate's distance).
+        For ``radius <= 0``, bad coordinates or weights, too many intersection points, a
+        point no candidate covers (naming the point and its nearest candidate's distance),
+        or a ``time_limit`` that passes before any cover exists.
 
     Examples
     --------
@@ -143,7 +145,7 @@ def cover_most(
         Indices of candidates that are open already (existing sites).
     time_limit : float, optional
         As :func:`cover_all`: when the seconds pass, the best ``p`` sites found so far are
-        returned with the upper bound proven so far.
+        returned with the upper bound proven so far (``InputError`` before any plan exists).
     progress : bool or callable
         As :func:`cover_all`.
 

@@ -508,9 +508,11 @@ def cover_all(
     fixed, unit
         As :func:`p_median`.
     time_limit : float, optional
-        As :func:`p_median`: when the seconds pass, the best cover found by then (the greedy
-        cover is always completed first, so every point is covered) is returned with the
-        bound proven so far.
+        As :func:`p_median`: when the seconds pass, the best cover found by then (every
+        point covered) is returned with the bound proven so far. Every cover is built from
+        the complete lists of the candidates covering each point; when the seconds pass
+        before those lists are complete, no cover exists yet and ``InputError`` naming
+        ``time_limit`` is raised.
     progress : bool or callable
         As :func:`p_median` (steps: the coverage lists, the reduction, the greedy cover and
         the subgradient iterations).
@@ -522,8 +524,9 @@ def cover_all(
     Raises
     ------
     InputError
-        As :func:`evaluate_sites`, and when a point has no candidate within ``radius``
-        (naming the point and its cheapest candidate's cost).
+        As :func:`evaluate_sites`, when a point has no candidate within ``radius`` (naming
+        the point and its cheapest candidate's cost), and naming ``time_limit`` when it
+        passes before any cover exists.
 
     Examples
     --------
@@ -557,7 +560,8 @@ def cover_most(
         Coverage standard (in the cost unit), finite and > 0.
     time_limit : float, optional
         As :func:`p_median`: when the seconds pass, the best ``p`` sites found so far are
-        returned with the upper bound proven so far.
+        returned with the upper bound proven so far; as :func:`cover_all` when they pass
+        before the coverage lists are complete.
     progress : bool or callable
         As :func:`p_median` (steps: greedy additions and bound iterations).
 
@@ -568,7 +572,8 @@ def cover_most(
     Raises
     ------
     InputError
-        As :func:`p_median`, and for ``radius <= 0``.
+        As :func:`p_median`, for ``radius <= 0``, and naming ``time_limit`` when it passes
+        before any plan exists.
 
     Examples
     --------

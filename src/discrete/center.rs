@@ -65,14 +65,16 @@ fn trial(
         })
         .collect();
     // w·c <= r needs c <= r / w; the exact test is the product.
-    let incidence = Incidence::build_watched(
+    let Some(incidence) = Incidence::build_watched(
         costs,
         &demand,
         usable,
         |i| r / weights.get(i) * (1.0 + 1e-12),
         |i, c| weights.get(i) * c <= r,
         &|| clock.stop(),
-    );
+    ) else {
+        return Trial::Stopped;
+    };
     if clock.stop() {
         return Trial::Stopped;
     }
@@ -87,7 +89,7 @@ fn trial(
     if incidence.lower_bound(greedy.len(), 50, &mut || !clock.stop()) > p {
         return Trial::Infeasible { proven: true };
     }
-    match incidence.exact(p, budget) {
+    match incidence.exact(p, budget, &|| false) {
         Some(Some(cover)) => Trial::Feasible(cover),
         Some(None) => Trial::Infeasible { proven: true },
         None => Trial::Infeasible { proven: false },

@@ -23,11 +23,12 @@ impl Incidence {
         reach: impl Fn(usize) -> f64 + Sync,
         covers: impl Fn(usize, f64) -> bool + Sync,
     ) -> Incidence {
-        Incidence::build_watched(costs, demand, usable, reach, covers, &|| false)
+        Incidence::build_watched(costs, demand, usable, reach, covers, &|| false).expect("never stopped")
     }
 
-    /// [`Incidence::build`] asking `stop()` before every row: once it is true the rows left
-    /// are empty, and the caller must drop the incidence (it covers nothing it should).
+    /// [`Incidence::build`] asking `stop()` before every row: `None` once it is true (the
+    /// rows left were not listed, so the lists cover less than they should and no cover
+    /// can come from them).
     pub(in crate::discrete) fn build_watched(
         costs: &Costs<'_>,
         demand: &[usize],
@@ -35,31 +36,31 @@ impl Incidence {
         reach: impl Fn(usize) -> f64 + Sync,
         covers: impl Fn(usize, f64) -> bool + Sync,
         stop: &(dyn Fn() -> bool + Sync),
-    ) -> Incidence {
+    ) -> Option<Incidence> {
         use rayon::prelude::*;
         let by_point: Vec<Vec<usize>> = demand
             .par_iter()
             .map(|&i| {
-                let mut list = Vec::new();
                 if stop() {
-                    return list;
+                    return None;
                 }
+                let mut list = Vec::new();
                 costs.for_each_within(i, reach(i), |j, c| {
                     if usable[j] && covers(i, c) {
                         list.push(j);
                     }
                 });
                 list.sort_unstable();
-                list
+                Some(list)
             })
-            .collect();
+            .collect::<Option<_>>()?;
         let mut by_site = vec![Vec::new(); costs.columns()];
         for (a, list) in by_point.iter().enumerate() {
             for &j in list {
                 by_site[j].push(a);
             }
         }
-        Incidence { by_point, by_site }
+        Some(Incidence { by_point, by_site })
     }
 
     /// Drop every column whose points another column covers too (a superset, or the same
@@ -225,8 +226,14 @@ impl Incidence {
 
     /// A cover by at most `k` columns by exhaustive branching (on the uncovered point with
     /// the fewest covering columns, every cover contains one of them): `Some(Some(cover))`,
-    /// `Some(None)` when none exists (proven), `None` when `budget` ran out first.
-    pub(in crate::discrete) fn exact(&self, k: usize, budget: &mut usize) -> Option<Option<Vec<usize>>> {
+    /// `Some(None)` when none exists (proven), `None` when `budget` ran out first or `stop()`
+    /// turned true (asked at every node).
+    pub(in crate::discrete) fn exact(
+        &self,
+        k: usize,
+        budget: &mut usize,
+        stop: &dyn Fn() -> bool,
+    ) -> Option<Option<Vec<usize>>> {
         let mut order: Vec<usize> = (0..self.by_point.len()).collect();
         order.sort_by_key(|&a| (self.by_point[a].len(), a));
         let mut search = Branching {
@@ -239,6 +246,7 @@ impl Incidence {
             stamp: vec![0; self.by_site.len()],
             node: 0,
             budget,
+            stop,
         };
         match search.branch(k)? {
             true => {
@@ -264,6 +272,7 @@ struct Branching<'a> {
     stamp: Vec<usize>,
     node: usize,
     budget: &'a mut usize,
+    stop: &'a dyn Fn() -> bool,
 }
 
 impl Branching<'_> {
@@ -276,7 +285,8 @@ impl Branching<'_> {
             return Some(false);
         }
         let visits = self.count.len();
-        if *self.budget < visits {
+        // A node reads every point, so a poll of the clock per node costs nothing by comparison.
+        if *self.budget < visits || (self.stop)() {
             return None;
         }
         *self.budget -= visits;

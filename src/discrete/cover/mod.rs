@@ -14,13 +14,14 @@
 //!   `gain − loss + extra` bookkeeping as the p-median's fast swap; an upper bound from the
 //!   Lagrangian relaxation of `zᵢ ≤ Σ_{j covers i} yⱼ` by subgradient optimisation.
 //!
-//! Both poll their clock (`crate::cancel`) between steps: greedy additions, swaps, bound
-//! iterations, local-search moves and exact searches (each within its work budget), and for
-//! `cover_all` every column of the dominance reduction. Stopped early, `cover_all` returns
-//! the best cover found so far (the plain greedy cover is always completed first: it takes
-//! one pass over the coverage lists) with the bound so far; `cover_most` returns its plan so
-//! far, filled up to `p` sites, with the bound so far (at least the coverable weight, a valid
-//! bound).
+//! Both poll their clock (`crate::cancel`) between steps: every row of the coverage lists,
+//! greedy additions, swaps, bound iterations, local-search moves and every node of the exact
+//! searches, and for `cover_all` every column of the dominance reduction. Stopped while the
+//! coverage lists are made, no plan exists yet (each is built from the complete lists): the
+//! run fails naming `time_limit`. Stopped later, `cover_all` returns the best cover found so
+//! far (the plain greedy cover is always completed first: it takes one pass over the
+//! coverage lists) with the bound so far; `cover_most` returns its plan so far, filled up to
+//! `p` sites, with the bound so far (at least the coverable weight, a valid bound).
 
 mod incidence;
 mod lagrangian;
@@ -31,7 +32,7 @@ use lagrangian::Covering;
 pub use most::{cover_most, CoverMost};
 
 use super::{check_radius, relative_gap, Costs, SiteService};
-use crate::cancel::{cancelled, RunLimits, Steps};
+use crate::cancel::{cancelled, Clock, RunLimits, Steps};
 use crate::error::{Error, Result};
 use crate::geometry::{validate_weights, Weights};
 
@@ -65,7 +66,7 @@ pub(super) fn serving_cover(costs: &Costs<'_>, weights: Weights<'_>, p: usize, f
     if chosen.len() > p {
         let lower = incidence.lower_bound(chosen.len(), 200, &mut || true);
         let mut budget = EXACT_BUDGET;
-        let found = if lower > p { None } else { incidence.exact(p, &mut budget).flatten() };
+        let found = if lower > p { None } else { incidence.exact(p, &mut budget, &|| false).flatten() };
         match found {
             Some(cover) => chosen = cover,
             None if lower > p => {
@@ -99,6 +100,22 @@ fn not_fixed(columns: usize, fixed: &[usize]) -> Vec<bool> {
     usable
 }
 
+/// The error of a covering run stopped while it listed the coverage, before any plan
+/// (`what`: "cover", "plan") exists: every plan is built from the complete lists. A
+/// cancelled run's error is never seen (the caller drops its outcome).
+fn stopped_before_a_plan(clock: &Clock, what: &str) -> Error {
+    if clock.watch.is_cancelled() {
+        return cancelled("costs");
+    }
+    Error::InvalidParameter {
+        name: "time_limit",
+        reason: format!(
+            "the time limit passed while the coverage of the points was being listed, before any {what} \
+             existed (every {what} is built from the complete lists); allow more time, or none"
+        ),
+    }
+}
+
 /// A set-covering plan: the fewest new sites putting every point within the radius.
 #[derive(Debug, Clone, PartialEq)]
 pub struct CoverAll {
@@ -118,7 +135,8 @@ pub struct CoverAll {
 /// # Errors
 /// Bad weights or `fixed`; [`Error::InvalidParameter`] naming `radius` when it is not finite
 /// and positive, or when a point has no candidate within it (the message names the point and
-/// its cheapest candidate's cost).
+/// its cheapest candidate's cost); naming `time_limit` when the deadline passes before the
+/// coverage lists are complete (no cover exists yet).
 ///
 /// Progress counts the coverage lists, the dominance reduction, the greedy cover and the
 /// bound iterations.
@@ -135,8 +153,18 @@ pub fn cover_all(
     let clock = limits.clock();
     let mut steps = Steps::new(&clock.watch, 3 + COVER_ALL_ITERATIONS as u64);
     let demand = outside(costs, fixed, radius, |_| true);
-    let mut incidence =
-        Incidence::build(costs, &demand, &not_fixed(costs.columns(), fixed), |_| radius, |_, c| c <= radius);
+    let stop = || clock.stop();
+    let Some(mut incidence) = Incidence::build_watched(
+        costs,
+        &demand,
+        &not_fixed(costs.columns(), fixed),
+        |_| radius,
+        |_, c| c <= radius,
+        &stop,
+    ) else {
+        steps.finish();
+        return Err(stopped_before_a_plan(&clock, "cover"));
+    };
     if let Some(a) = incidence.uncoverable() {
         let i = demand[a];
         let (column, cost) = costs.cheapest(i);
@@ -164,20 +192,25 @@ pub fn cover_all(
     };
     steps.finish();
     // A cancelled run's outcome is dropped by the caller: skip the exact step and the
-    // service of the plan (about a second at 20,000 points), so Ctrl-C lands at once.
+    // service of the plan, so Ctrl-C lands at once.
     if clock.watch.is_cancelled() {
         return Err(cancelled("costs"));
     }
     let mut budget = EXACT_BUDGET;
     while lower < chosen.len() && !clock.stop() {
-        match incidence.exact(lower, &mut budget) {
+        // Stopped inside, the search settles nothing: the plan and bound so far stand.
+        match incidence.exact(lower, &mut budget, &stop) {
             Some(Some(cover)) => chosen = cover,
             Some(None) => lower += 1,
             None => break,
         }
     }
     let open: Vec<usize> = fixed.iter().chain(&chosen).copied().collect();
-    let service = SiteService::of(costs, weights, open, fixed, Some(radius));
+    // The coverage lists hold every chosen site within the radius of a point that needs
+    // cover (a chosen site is never a dominated column; no fixed site is that near): the
+    // service reads them instead of searching the candidates again.
+    let listed = |i: usize| demand.binary_search(&i).ok().map(|a| incidence.by_point[a].as_slice());
+    let service = SiteService::of_listed(costs, weights, open, fixed, Some(radius), &listed);
     Ok(CoverAll {
         chosen: chosen.len(),
         lower_bound: lower,
@@ -206,6 +239,42 @@ mod tests {
         // Closed form: radius s covers three neighbours, so ⌈n/3⌉ sites.
         let r = cover_all(&costs, Weights::Unit, 2.0, &[], &RunLimits::default()).unwrap();
         assert_eq!((r.chosen, r.lower_bound), (3, 3));
+    }
+
+    #[test]
+    fn a_deadline_passed_in_the_coverage_lists_is_reported_not_answered() {
+        // A nanosecond has passed by the first row: neither model has a plan to give.
+        let values = line(40, 1.0);
+        let costs = Costs::from(CostMatrix::new(&values, 40, 40).unwrap());
+        let limits = RunLimits { time_limit: Some(1e-9), ..RunLimits::default() };
+        for e in [
+            cover_all(&costs, Weights::Unit, 2.0, &[], &limits).unwrap_err(),
+            cover_most(&costs, Weights::Unit, 3, 2.0, &[], &limits).unwrap_err(),
+        ] {
+            assert!(matches!(e, Error::InvalidParameter { name: "time_limit", .. }), "{e}");
+            assert!(e.to_string().contains("before any"), "{e}");
+        }
+        // Unstopped, the same call answers (closed form: ⌈40/5⌉ sites of reach 2).
+        let r = cover_all(&costs, Weights::Unit, 2.0, &[], &RunLimits::default()).unwrap();
+        assert_eq!((r.chosen, r.lower_bound), (8, 8));
+    }
+
+    #[test]
+    fn service_from_the_coverage_lists_equals_the_full_scan() {
+        // The plan's service reads the coverage lists; the reference is the service of the
+        // same sites without them (as `evaluate_sites` computes it, itself checked against
+        // the full scan of a dense matrix), with fixed sites and weights.
+        let mut rng = crate::geometry::random::SplitMix64::new(9);
+        let points: Vec<[f64; 2]> = (0..400).map(|_| [rng.next_f64() * 40.0, rng.next_f64() * 40.0]).collect();
+        let candidates: Vec<[f64; 2]> = (0..120).map(|_| [rng.next_f64() * 40.0, rng.next_f64() * 40.0]).collect();
+        let w: Vec<f64> = (0..400).map(|_| 1.0 + (rng.next_f64() * 4.0).floor()).collect();
+        let costs = Costs::from(crate::discrete::PlanarCosts::new(&points, &candidates).unwrap());
+        for (fixed, radius) in [(vec![], 8.0), (vec![3, 50], 9.0)] {
+            let r = cover_all(&costs, Weights::Given(&w), radius, &fixed, &RunLimits::default()).unwrap();
+            let scan = SiteService::of(&costs, Weights::Given(&w), r.service.open.clone(), &fixed, Some(radius));
+            assert_eq!(r.service, scan);
+            assert!(scan.coverage.unwrap().covered.iter().all(|&c| c));
+        }
     }
 
     #[test]

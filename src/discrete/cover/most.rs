@@ -29,7 +29,9 @@ pub struct CoverMost {
 ///
 /// # Errors
 /// Bad weights, `p` or `fixed` (see [`discrete_p_median`](super::discrete_p_median));
-/// [`Error::InvalidParameter`] for a radius that is not finite and positive.
+/// [`Error::InvalidParameter`] for a radius that is not finite and positive, and naming
+/// `time_limit` when the deadline passes before the coverage lists are complete (no plan
+/// exists yet).
 ///
 /// # Runtime
 /// O(n·m) to find the coverage, then O(Σ coverage lists + m·p) per swap and bound iteration.
@@ -51,7 +53,13 @@ pub fn cover_most(
     // Points the fixed sites already cover count in full; only the others are contested.
     let demand = outside(costs, fixed, radius, |i| weights.get(i) > 0.0);
     let w: Vec<f64> = demand.iter().map(|&i| weights.get(i)).collect();
-    let inc = Incidence::build(costs, &demand, &not_fixed(m, fixed), |_| radius, |_, c| c <= radius);
+    let stop = || clock.stop();
+    let Some(inc) =
+        Incidence::build_watched(costs, &demand, &not_fixed(m, fixed), |_| radius, |_, c| c <= radius, &stop)
+    else {
+        steps.finish();
+        return Err(super::stopped_before_a_plan(&clock, "plan"));
+    };
 
     // Greedy addition.
     let mut gain: Vec<f64> = inc.by_site.iter().map(|s| s.iter().map(|&a| w[a]).sum()).collect();
