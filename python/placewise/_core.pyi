@@ -202,6 +202,7 @@ def discrete_p_median_single(
     time_limit: Any = None,
     progress: Any = None,
     branch_iterations: Any = None,
+    seed: Any = None,
 ) -> _Fields: ...
 def discrete_p_center_single(
     costs: Any, p: Any, weights: ArrayLike | None, fixed: ArrayLike | None, time_limit: Any = None, progress: Any = None

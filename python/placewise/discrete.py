@@ -354,8 +354,8 @@ _Progress = bool | Callable[[int, int], object]
 
 def p_median(
     costs: ArrayLike, p: int, weights: ArrayLike | None = None, *, fixed: ArrayLike | None = None,
-    bound_iterations: int = 1000, search_rounds: int = 300, branch_iterations: int | None = None, unit: str = "u",
-    time_limit: float | None = None, progress: _Progress = False,
+    bound_iterations: int = 1000, search_rounds: int = 300, branch_iterations: int | None = None, seed: int = 0,
+    unit: str = "u", time_limit: float | None = None, progress: _Progress = False,
 ) -> MedianSelection:
     """``p`` candidates with the least total weighted cost ``Σ wᵢ minⱼ costs[i, j]``.
 
@@ -392,6 +392,9 @@ def p_median(
         at most, 85,899 iterations at 1,000 x 100 and 21,474 at 2,000 x 200 (p = 10); none
         when that is under 8,192 (above about a million listed pairs), where the gap is mostly
         the relaxation's own and needs far more nodes than that.
+    seed : int
+        Seed of the search's random jumps, from 0 to 2**64 - 1: the same seed gives the same
+        plan; other seeds explore other plans (restarts).
     unit : str
         Name of the cost unit.
     time_limit : float, optional
@@ -433,7 +436,7 @@ def p_median(
     (array([1, 4]), True)
     """
     fields = _core.discrete_p_median_single(_matrix(costs), p, weights, fixed, bound_iterations, search_rounds,
-                                            time_limit, progress, branch_iterations)
+                                            time_limit, progress, branch_iterations, seed)
     return MedianSelection(**fields, unit=unit)
 
 
@@ -626,7 +629,8 @@ def evaluate_sites_planar(
 def p_median_planar(
     points: ArrayLike, candidates: ArrayLike, p: int, weights: ArrayLike | None = None, *,
     fixed: ArrayLike | None = None, bound_iterations: int = 1000, search_rounds: int = 300,
-    branch_iterations: int | None = None, unit: str = "u", time_limit: float | None = None, progress: _Progress = False,
+    branch_iterations: int | None = None, seed: int = 0, unit: str = "u", time_limit: float | None = None,
+    progress: _Progress = False,
 ) -> MedianSelection:
     """:func:`p_median` on straight-line costs from ``points`` to ``candidates`` (the other
     parameters, ``time_limit`` and ``progress`` included, as there).
@@ -639,7 +643,7 @@ def p_median_planar(
     (array([0]), 10.0)
     """
     plan = p_median(_planar(points, candidates), p, weights, fixed=fixed, bound_iterations=bound_iterations,
-                    search_rounds=search_rounds, branch_iterations=branch_iterations, unit=unit,
+                    search_rounds=search_rounds, branch_iterations=branch_iterations, seed=seed, unit=unit,
                     time_limit=time_limit, progress=progress)
     return _placed(plan, points, candidates)
 

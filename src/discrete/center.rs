@@ -46,7 +46,7 @@ enum Trial {
 }
 
 /// Can `p` candidates (besides `fixed`) bring every weighted cost to at most `r`? Polls
-/// `clock` while it lists the coverage and bounds the cover size.
+/// `clock` while it lists the coverage, bounds the cover size and searches for a cover.
 #[allow(clippy::too_many_arguments)]
 fn trial(
     costs: &Costs<'_>,
@@ -89,9 +89,12 @@ fn trial(
     if incidence.lower_bound(greedy.len(), 50, &mut || !clock.stop()) > p {
         return Trial::Infeasible { proven: true };
     }
-    match incidence.exact(p, budget, &|| false) {
+    let stop = || clock.stop();
+    match incidence.exact(p, budget, &stop) {
         Some(Some(cover)) => Trial::Feasible(cover),
         Some(None) => Trial::Infeasible { proven: true },
+        // Stopped inside, the search settled nothing; out of budget, it proved nothing.
+        None if clock.stop() => Trial::Stopped,
         None => Trial::Infeasible { proven: false },
     }
 }
@@ -154,7 +157,7 @@ pub fn discrete_p_center(
     let clock = limits.clock();
     // The trials at the largest value and at the floor.
     let mut steps = Steps::new(&clock.watch, 2);
-    // The plan of a run stopped before its first trial settles: p sites serving every point
+    // The plan of a run whose first trial is stopped or settles nothing: p sites serving every point
     // (any p on a complete source; on a sparse one, the cover proving that some p serve every
     // point, which also refuses p when none do).
     let fallback = if costs.is_complete() {
@@ -180,8 +183,12 @@ pub fn discrete_p_center(
     // serving cover (proven above) is feasible.
     let mut best = match trial(costs, weights, p, fixed, &usable, top, &mut budget, &clock) {
         Trial::Feasible(cover) => cover,
-        Trial::Stopped => fallback,
-        Trial::Infeasible { .. } => unreachable!("the sites serving every point meet the largest weighted cost"),
+        // The greedy cover can need more than p sites and the exact search can run out of
+        // budget (sparse costs): the serving cover is feasible at this value all the same.
+        Trial::Stopped | Trial::Infeasible { proven: false } => fallback,
+        Trial::Infeasible { proven: true } => {
+            unreachable!("the sites serving every point meet the largest weighted cost")
+        }
     };
     steps.step();
     // Search the values in (low, high): `high` is feasible, everything at or below `low` is

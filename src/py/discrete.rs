@@ -6,8 +6,8 @@ use pyo3::prelude::*;
 use pyo3::types::{PyDict, PyTuple};
 
 use super::convert::{
-    as_point_slice, count_arg, float_arg, index_values, matrix_arg, optional_float_arg, points_arg, time_limit_arg,
-    weights_arg,
+    as_point_slice, count_arg, float_arg, index_values, matrix_arg, optional_float_arg, points_arg, seed_arg,
+    time_limit_arg, weights_arg,
 };
 use super::errors::argument_error;
 use super::fields::Fields;
@@ -206,7 +206,7 @@ fn discrete_evaluate<'py>(
 
 /// Fields: the service, lower_bound, relative_gap, swaps, bound_iterations.
 #[pyfunction]
-#[pyo3(signature = (costs, p, weights, fixed, bound_iterations, search_rounds, time_limit=None, progress=None, branch_iterations=None))]
+#[pyo3(signature = (costs, p, weights, fixed, bound_iterations, search_rounds, time_limit=None, progress=None, branch_iterations=None, seed=None))]
 #[allow(clippy::too_many_arguments)]
 fn discrete_p_median_single<'py>(
     py: Python<'py>,
@@ -219,6 +219,7 @@ fn discrete_p_median_single<'py>(
     time_limit: Option<&Bound<'py, PyAny>>,
     progress: Option<&Bound<'py, PyAny>>,
     branch_iterations: Option<&Bound<'py, PyAny>>,
+    seed: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let p = count_arg(p, "p", 1, usize::MAX)?;
     let (limits, mut progress) = watched(time_limit, progress, "p_median")?;
@@ -230,6 +231,7 @@ fn discrete_p_median_single<'py>(
         bound_iterations: count_arg(bound_iterations, "bound_iterations", 0, usize::MAX)?,
         search_rounds: count_arg(search_rounds, "search_rounds", 0, usize::MAX)?,
         branch_iterations,
+        seed: seed.map(seed_arg).transpose()?.unwrap_or(0),
         limits,
         ..Default::default()
     };
