@@ -160,6 +160,12 @@ def test_p_median_seed_repeats_its_plan_and_other_seeds_explore():
     for bad in (-1, 2**64, 1.5):
         with pytest.raises(pw.InputError, match="seed"):
             discrete.p_median(costs, 20, w, seed=bad)
+    # The coordinate front-end with candidates hands its seed on (it was ignored before).
+    points, candidates, w2, _ = instance(1, 600, 120)
+    for k in (0, 1):
+        ours = pw.p_median(points, 20, w2, candidates=candidates, seed=k)
+        direct = discrete.p_median_planar(points, candidates, 20, w2, seed=k)
+        np.testing.assert_array_equal(ours.open, direct.open)
 
 
 @pytest.mark.parametrize("seed", [4, 6])

@@ -148,9 +148,10 @@ def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bo
           errors: str, options: dict[str, Any], model: dict[str, Any], fixed: Any = None,
           candidates: Any = None, region: Any = None) -> SitePlan:
     if candidates is not None and options.get("capacities") is None:
-        # Of the search options, only the stopping rule and the progress report apply to the
-        # discrete models (they are deterministic).
-        watch: dict[str, Any] = {k: options[k] for k in ("time_limit", "progress") if k in options}
+        # Of the search options, the stopping rule, the progress report and (for the p-median)
+        # the seed of its search apply to the discrete models.
+        taken = ("time_limit", "progress", "seed") if kind == "median" else ("time_limit", "progress")
+        watch: dict[str, Any] = {k: options[k] for k in taken if k in options}
         return _plan_on_candidates(kind, frame, p, weight, by, planar, centroids, model, fixed, candidates, region,
                                    watch)
     # Each group in a frame of its own, unless existing sites or a region must share the

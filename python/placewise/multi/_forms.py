@@ -13,9 +13,11 @@ from ..capacity import CapacitatedMedianPlan, capacitated_p_median
 
 
 def _on_candidates(model: str, points: ArrayLike, p: int, weights: ArrayLike | None, candidates: ArrayLike, *,
-                   fixed: ArrayLike | None, groups: Any, time_limit: Any, progress: Any, region: Any = None) -> Any:
+                   fixed: ArrayLike | None, groups: Any, time_limit: Any, progress: Any, region: Any = None,
+                   seed: int = 0) -> Any:
     """The discrete form of ``model`` on straight-line costs to ``candidates``; with a
-    ``region``, only the candidates it holds may open (indices stay the caller's)."""
+    ``region``, only the candidates it holds may open (indices stay the caller's). ``seed``
+    seeds the p-median's search (the p-center's has no random step)."""
     import dataclasses
 
     from .. import discrete
@@ -40,7 +42,7 @@ def _on_candidates(model: str, points: ArrayLike, p: int, weights: ArrayLike | N
             fixed = at
     watch = {"time_limit": time_limit, "progress": progress}
     if model == "p_median":
-        chosen: Any = discrete.p_median_planar(points, candidates, p, weights, fixed=fixed, **watch)
+        chosen: Any = discrete.p_median_planar(points, candidates, p, weights, fixed=fixed, seed=seed, **watch)
     else:
         chosen = discrete.p_center_planar(points, candidates, p, weights, **watch)
     if region is None:

@@ -227,8 +227,8 @@ def p_median(
         Candidate locations: choose the ``p`` sites among them (the discrete p-median, see
         :func:`placewise.discrete.p_median`, on straight-line distances computed when
         asked) and return a ``placewise.discrete.MedianSelection`` whose ``open`` holds the
-        candidate index of each site; ``fixed`` then holds candidate indices. ``seed`` and
-        ``effort`` do not apply (the method is deterministic); ``groups`` is refused with
+        candidate index of each site; ``fixed`` then holds candidate indices. ``seed`` seeds
+        its search's random jumps; ``effort`` does not apply; ``groups`` is refused with
         candidates; ``time_limit`` and ``progress`` work as there (a plan cut short by the
         limit has a ``relative_gap`` above 0).
     groups : array_like of int, shape (n,), optional
@@ -375,7 +375,7 @@ def p_median(
                             time_limit=time_limit, progress=progress, region=region)
     if candidates is not None:
         return _on_candidates("p_median", points, p, weights, candidates, fixed=fixed, groups=groups,
-                              time_limit=time_limit, progress=progress, region=region)
+                              time_limit=time_limit, progress=progress, region=region, seed=seed)
     vertices, offsets = region_rings(region)
     shown = None if vertices is None else (vertices, offsets)
     if groups is None:
