@@ -121,15 +121,18 @@ pub(super) fn branch_and_bound(
         let mut free: Vec<usize> = (0..m).filter(|&j| !is_fixed[j] && !node.closed[j]).collect();
         free.sort_unstable_by(|&a, &b| rho[a].total_cmp(&rho[b]).then(a.cmp(&b)));
         let k = here.p;
-        // The node's bound at these multipliers, recomputed from ρ so that the fixing tests
-        // compare like with like.
+        // The Lagrangian function at these multipliers, recomputed from ρ: the fixing tests
+        // change its terms, so they must start from this value itself (not from the larger
+        // of it and the parent's bound, which holds for the node but not term by term).
         let mut at = CompensatedSum::default();
         run.lambda.iter().for_each(|&l| at.add(l));
         fixed.iter().chain(&free[..k]).for_each(|&j| at.add(rho[j]));
-        let at = at.total().max(value);
+        let at = at.total();
+        let node_bound = value.max(at);
         let dearest_chosen = k.checked_sub(1).map(|last| rho[free[last]]);
         let first_left_out = free.get(k).map(|&j| rho[j]);
-        let mut child = Node { open: node.open.clone(), closed: node.closed.clone(), bound: at, lambda: run.lambda };
+        let mut child =
+            Node { open: node.open.clone(), closed: node.closed.clone(), bound: node_bound, lambda: run.lambda };
         for &j in &free[k..] {
             // Opening j: the relaxation swaps it for its dearest chosen candidate.
             let with_j = match dearest_chosen {
@@ -175,11 +178,15 @@ pub(super) fn branch_and_bound(
         let Some(&branch) = free[..k].iter().find(|&&j| !is_forced(j)) else {
             // Not reached (fewer forced sites than sites leaves a chosen one unforced); were
             // it reached, settling the node at its own bound keeps the proof sound.
-            settled = settled.min(at);
+            settled = settled.min(node_bound);
             continue;
         };
-        let mut without =
-            Node { open: child.open.clone(), closed: child.closed.clone(), bound: at, lambda: child.lambda.clone() };
+        let mut without = Node {
+            open: child.open.clone(),
+            closed: child.closed.clone(),
+            bound: node_bound,
+            lambda: child.lambda.clone(),
+        };
         without.closed[branch] = true;
         child.open.push(branch);
         stack.push(without);
