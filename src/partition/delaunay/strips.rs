@@ -111,7 +111,8 @@ pub(super) fn by_strips(positions: &[Point2<f64>], strips: usize, watch: &Watch,
             let dt = triangulate(vertices)?;
             watch.advance(size as u64);
             done.fetch_add(size, Ordering::Relaxed);
-            if dt.num_inner_faces() == 0 {
+            // A cancelled run drops the mesh: its faces need not be read.
+            if dt.num_inner_faces() == 0 || watch.is_cancelled() {
                 return None;
             }
             let lower = (j > 0).then(|| highest[j - 1]);
@@ -122,6 +123,11 @@ pub(super) fn by_strips(positions: &[Point2<f64>], strips: usize, watch: &Watch,
         .collect();
     *counted = done.into_inner();
     let built: Vec<Strip> = built.into_iter().collect::<Option<_>>()?;
+    // Cancelled while the last strips were built: the stitching below is not watched, and
+    // its work would only delay the stop (the caller drops a cancelled run's mesh).
+    if watch.is_cancelled() {
+        return None;
+    }
 
     // Seam vertices and the constraint edges (u, v): counter-clockwise edges of fixed
     // triangles whose other side is unfixed or outside the strip. The seam lies to their right.
