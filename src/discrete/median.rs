@@ -18,7 +18,7 @@
 //! so the gap then says the plan is not proven.
 
 use super::cover::serving_cover;
-use super::median_bound::MedianRelaxation;
+use super::median_bound::{settles, MedianRelaxation};
 use super::median_branch::branch_and_bound;
 use super::near::NearLists;
 use super::neighbourhood::neighbourhood_search;
@@ -311,7 +311,7 @@ pub fn discrete_p_median(
         let root = relaxation.bound(heuristic, &start, options.bound_iterations, 2.0, &mut improve, &clock, &mut steps);
         (bound, spent) = (root.value, root.spent);
         let budget = options.branch_iterations.unwrap_or_else(|| auto_branch_iterations(&near));
-        if budget > 0 && root.upper - root.value > 1e-9 * root.upper.abs() && !clock.stop() {
+        if budget > 0 && !settles(root.upper, root.value) && !clock.stop() {
             steps.plan(budget as u64);
             let tree = branch_and_bound(
                 &relaxation,

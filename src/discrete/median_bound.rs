@@ -43,6 +43,16 @@ const HEURISTIC_EVERY: usize = 25;
 /// 266,756 to 266,842 (the undeflected steps zigzag: their `θ` falls below its floor with the
 /// bound still climbing).
 const DEFLECTION: f64 = 1.5;
+/// Relative tolerance of every p-median proof: a lower bound within `PROOF_TOLERANCE · |cost|`
+/// of the best plan's cost settles it. The subgradient stops there, its step never aims at a
+/// smaller gap, and the tree drops a node or decision at the same distance, so a "proven"
+/// plan is optimal to this relative tolerance (rounding in sums of 10⁷ terms is far below).
+pub(super) const PROOF_TOLERANCE: f64 = 1e-9;
+
+/// Whether `lower` proves the plan of cost `upper` optimal (to [`PROOF_TOLERANCE`]).
+pub(super) fn settles(upper: f64, lower: f64) -> bool {
+    lower >= upper - PROOF_TOLERANCE * upper.abs()
+}
 
 /// The data of one p-median relaxation.
 pub(super) struct MedianRelaxation<'a, 'c> {
@@ -79,6 +89,14 @@ impl MedianRelaxation<'_, '_> {
         } else {
             0.0
         }
+    }
+
+    /// The candidates the relaxation may choose among, ascending: neither fixed nor closed.
+    pub(super) fn free_candidates(&self) -> Vec<usize> {
+        let mut is_fixed = vec![false; self.costs.columns()];
+        self.fixed.iter().for_each(|&j| is_fixed[j] = true);
+        let closed = |j: usize| self.closed.get(j).copied().unwrap_or(false);
+        (0..is_fixed.len()).filter(|&j| !is_fixed[j] && !closed(j)).collect()
     }
 
     /// `ρⱼ` for every candidate (`Σᵢ min(0, wᵢ costs[i, j] − λᵢ)`), summed in a fixed
@@ -120,12 +138,8 @@ impl MedianRelaxation<'_, '_> {
         let (n, m) = (self.costs.rows(), self.costs.columns());
         let caps: Vec<f64> = (0..n).map(|i| self.cap(i)).collect();
         let mut lambda: Vec<f64> = start.iter().zip(&caps).map(|(&l, &cap)| l.clamp(0.0, cap)).collect();
-        let mut is_fixed = vec![false; m];
-        for &j in self.fixed {
-            is_fixed[j] = true;
-        }
-        let closed = |j: usize| self.closed.get(j).copied().unwrap_or(false);
-        if (0..m).filter(|&j| !is_fixed[j] && !closed(j)).count() < self.p {
+        let free = self.free_candidates();
+        if free.len() < self.p {
             return BoundRun { value: f64::INFINITY, spent: 0, lambda, upper };
         }
         let (mut best, mut best_open) = (f64::NEG_INFINITY, Vec::new());
@@ -142,8 +156,7 @@ impl MedianRelaxation<'_, '_> {
             spent += 1;
             steps.step();
             let rho = self.reduced_sums(&lambda);
-            order.clear();
-            order.extend((0..m).filter(|&j| !is_fixed[j] && !closed(j)));
+            order.clone_from(&free);
             // Only the p smallest are needed; ties by column keep the choice deterministic.
             let by_value = |a: &usize, b: &usize| rho[*a].total_cmp(&rho[*b]).then(a.cmp(b));
             if self.p < order.len() {
@@ -183,7 +196,7 @@ impl MedianRelaxation<'_, '_> {
                     tried.push(open);
                 }
             }
-            if upper - best <= 1e-9 * upper.abs() || theta < THETA_FLOOR {
+            if settles(upper, best) || theta < THETA_FLOOR {
                 break;
             }
             // Subgradient, projected on the box: 1 − (open sites with a negative reduced cost).
@@ -213,7 +226,7 @@ impl MedianRelaxation<'_, '_> {
                 // plan is feasible and the bound is the optimum).
                 break;
             }
-            let step = theta * (upper - value).max(1e-9 * upper.abs()) / norm;
+            let step = theta * (upper - value).max(PROOF_TOLERANCE * upper.abs()) / norm;
             for ((l, gi), &cap) in lambda.iter_mut().zip(&g).zip(&caps) {
                 *l = (*l + step * gi).clamp(0.0, cap);
             }
@@ -225,7 +238,7 @@ impl MedianRelaxation<'_, '_> {
             return BoundRun { value: best, spent, lambda: best_lambda, upper };
         }
         best_open[self.fixed.len()..].sort_unstable();
-        if !tried.contains(&best_open) && upper - best > 1e-9 * upper.abs() {
+        if !tried.contains(&best_open) && !settles(upper, best) {
             upper = upper.min(improve(&best_open));
         }
         BoundRun { value: best, spent, lambda: best_lambda, upper }

@@ -23,10 +23,10 @@
 //!
 //! Invariants: every node's bound is at least its parent's (a child's relaxation allows fewer
 //! plans); a dropped node or fixed decision never hides a plan cheaper than the best plan by
-//! more than the tolerance `TOLERANCE · cost`; the least bound of the nodes not yet settled
+//! more than the proof tolerance (`PROOF_TOLERANCE · cost`); the least bound of the nodes not yet settled
 //! (and of the decisions made) is a proven bound on the optimum whenever the search stops.
 
-use super::median_bound::MedianRelaxation;
+use super::median_bound::{settles, MedianRelaxation};
 use crate::cancel::{Clock, Steps};
 use crate::geometry::CompensatedSum;
 
@@ -35,9 +35,6 @@ const NODE_ITERATIONS: usize = 150;
 /// The step factor `θ` a node starts from: its multipliers start near a maximum of a
 /// relaxation allowing more plans, so long steps would only leave it.
 const NODE_THETA: f64 = 0.25;
-/// Relative tolerance of the proof: a node whose bound is within `TOLERANCE · cost` of the
-/// best plan is dropped (as the root's subgradient stops at the same distance).
-const TOLERANCE: f64 = 1e-9;
 
 /// One node: the decisions on the root's free candidates and a bound valid for every plan
 /// that honours them.
@@ -86,9 +83,8 @@ pub(super) fn branch_and_bound(
     // and fixed decisions (each at least the best plan's cost less the tolerance then).
     let mut settled = f64::INFINITY;
     let (mut nodes, mut spent) = (0usize, 0usize);
-    let cutoff = |upper: f64| upper - TOLERANCE * upper.abs();
     while let Some(mut node) = stack.pop() {
-        if node.bound >= cutoff(upper) {
+        if settles(upper, node.bound) {
             settled = settled.min(node.bound);
             continue;
         }
@@ -105,7 +101,7 @@ pub(super) fn branch_and_bound(
         upper = upper.min(run.upper);
         // A child allows fewer plans than its parent: the parent's bound holds too.
         let value = run.value.max(node.bound);
-        if value >= cutoff(upper) {
+        if settles(upper, value) {
             settled = settled.min(value);
             continue;
         }
@@ -116,9 +112,7 @@ pub(super) fn branch_and_bound(
         }
         // Reduced-cost fixing and the branching candidate at the node's best multipliers.
         let rho = here.reduced_sums(&run.lambda);
-        let mut is_fixed = vec![false; m];
-        fixed.iter().for_each(|&j| is_fixed[j] = true);
-        let mut free: Vec<usize> = (0..m).filter(|&j| !is_fixed[j] && !node.closed[j]).collect();
+        let mut free = here.free_candidates();
         free.sort_unstable_by(|&a, &b| rho[a].total_cmp(&rho[b]).then(a.cmp(&b)));
         let k = here.p;
         // The Lagrangian function at these multipliers, recomputed from ρ: the fixing tests
@@ -139,7 +133,7 @@ pub(super) fn branch_and_bound(
                 Some(dearest) => at - dearest + rho[j],
                 None => f64::INFINITY, // nothing more may open
             };
-            if with_j >= cutoff(upper) {
+            if settles(upper, with_j) {
                 settled = settled.min(with_j);
                 child.closed[j] = true;
             }
@@ -150,7 +144,7 @@ pub(super) fn branch_and_bound(
                 Some(next) => at - rho[j] + next,
                 None => f64::INFINITY, // every free candidate must open
             };
-            if without_j >= cutoff(upper) {
+            if settles(upper, without_j) {
                 settled = settled.min(without_j);
                 child.open.push(j);
             }
