@@ -170,7 +170,7 @@ pub fn geodesic_weber_points_watched(
 ) -> Result<Grouped<WeberPoint>> {
     check_weber(options)?;
     let watch = &limits.watch;
-    let inner = RunLimits { time_limit: limits.time_limit, watch: watch.quiet() };
+    let inner = RunLimits { time_limit: limits.time_limit, watch: watch.quiet(), since: None };
     watch.plan(points.len() as u64);
     run_grouped(points, weights, labels, on_error, |g| {
         if watch.is_cancelled() {
@@ -198,7 +198,7 @@ fn check_center(options: &CenterOptions) -> Result<()> {
 /// time limit (each group's own, from its start), the caller's cancel flag, and no progress
 /// of its own (the grouped run counts the points of finished groups).
 fn group_options(options: &CenterOptions) -> CenterOptions {
-    let limits = RunLimits { time_limit: options.limits.time_limit, watch: options.limits.watch.quiet() };
+    let limits = RunLimits { time_limit: options.limits.time_limit, watch: options.limits.watch.quiet(), since: None };
     CenterOptions { limits, ..options.clone() }
 }
 

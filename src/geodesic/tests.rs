@@ -174,7 +174,7 @@ fn a_spent_time_limit_returns_the_start_with_its_true_radius_and_a_valid_gap() {
     let full = geodesic_minimax_point(&pts, Weights::Given(&w), &CenterOptions::default()).unwrap();
     let watch = crate::cancel::Watch::new();
     let spent = CenterOptions {
-        limits: crate::cancel::RunLimits { time_limit: Some(0.0), watch: watch.clone() },
+        limits: crate::cancel::RunLimits { time_limit: Some(0.0), watch: watch.clone(), since: None },
         ..CenterOptions::default()
     };
     let cut = geodesic_minimax_point(&pts, Weights::Given(&w), &spent).unwrap();
@@ -188,7 +188,7 @@ fn a_spent_time_limit_returns_the_start_with_its_true_radius_and_a_valid_gap() {
     // A cancelled watch also stops the run; the caller drops its answer (Watch::finish).
     watch.cancel();
     let cancelled = CenterOptions {
-        limits: crate::cancel::RunLimits { time_limit: None, watch: watch.clone() },
+        limits: crate::cancel::RunLimits { time_limit: None, watch: watch.clone(), since: None },
         ..CenterOptions::default()
     };
     let r = geodesic_enclosing_circle(&pts, &cancelled).unwrap();
@@ -203,7 +203,7 @@ fn a_weber_run_out_of_time_returns_its_measured_start_uncertified() {
     let points: Vec<Point> = (0..49).map(|i| [10.0 + f64::from(i % 7) * 0.3, 45.0 + f64::from(i / 7) * 0.2]).collect();
     let weights: Vec<f64> = (0..49).map(|i| 1.0 + f64::from(i % 5)).collect();
     let full = geodesic_weber_point(&points, Weights::Given(&weights), &WeberOptions::default()).unwrap();
-    let limits = RunLimits { time_limit: Some(0.0), watch: Watch::new() };
+    let limits = RunLimits { time_limit: Some(0.0), watch: Watch::new(), since: None };
     let cut =
         geodesic_weber_point_watched(&points, Weights::Given(&weights), &WeberOptions::default(), &limits).unwrap();
     assert!(!cut.converged && cut.iterations == 1, "{cut:?}");
