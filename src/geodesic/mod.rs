@@ -123,8 +123,9 @@ pub fn geodesic_weber_point(points: &[Point], weights: Weights<'_>, options: &We
 /// within a chunk of points of any pass or set-up step; the deadline between passes once
 /// the first exact pass has measured a site (before it, the conformal-sphere start is cut
 /// short instead). The point reached is returned with `converged` false unless its
-/// certificate already holds; `cost` is its exact cost. Progress counts exact passes against
-/// `options.max_iter`, closed at the total when the run ends.
+/// certificate already holds; `cost` is its exact cost. Progress counts exact passes, each
+/// planned as it begins (the count is the passes made and the one under way, at most
+/// `options.max_iter`): a converged run ends at its total, a stopped one is closed there.
 ///
 /// # Errors
 /// As [`geodesic_weber_point`].

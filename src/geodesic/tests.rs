@@ -211,8 +211,15 @@ fn a_weber_run_out_of_time_returns_its_measured_start_uncertified() {
     let exact: f64 = points.iter().zip(&weights).map(|(&p, &w)| w * earth.distance(cut.location, p)).sum();
     assert!((cut.cost - exact).abs() <= 1e-12 * exact, "{} {exact}", cut.cost);
     assert!(cut.cost >= full.cost && cut.cost - cut.gap <= full.cost);
-    let (done, total) = limits.watch.progress();
-    assert!(done == total && total == WeberOptions::default().max_iter as u64);
+    // Progress counts exact passes, each planned as it begins: the one pass made.
+    assert_eq!(limits.watch.progress(), (1, 1));
+    // Unstopped, the count ends at its total, the passes made (the result's `iterations`),
+    // on the same site as the unwatched run.
+    let watched = RunLimits::default();
+    let r =
+        geodesic_weber_point_watched(&points, Weights::Given(&weights), &WeberOptions::default(), &watched).unwrap();
+    assert!(r.converged && r == full, "{r:?}");
+    assert_eq!(watched.watch.progress(), (r.iterations as u64, r.iterations as u64));
 }
 
 #[test]
