@@ -124,8 +124,13 @@ impl Watch {
     /// The stopping rule of one kernel call: this watch and a deadline `time_limit` seconds
     /// from now (`None`: no deadline).
     pub(crate) fn clock(&self, time_limit: Option<f64>) -> Clock {
+        self.clock_since(Instant::now(), time_limit)
+    }
+
+    /// This watch and a deadline `time_limit` seconds after `start` (`None`: no deadline).
+    fn clock_since(&self, start: Instant, time_limit: Option<f64>) -> Clock {
         // Durations beyond ~30 years overflow `Instant`; such a limit is no limit.
-        let deadline = time_limit.and_then(|s| Instant::now().checked_add(Duration::from_secs_f64(s.clamp(0.0, 1e9))));
+        let deadline = time_limit.and_then(|s| start.checked_add(Duration::from_secs_f64(s.clamp(0.0, 1e9))));
         Clock { watch: self.clone(), deadline }
     }
 }
@@ -139,12 +144,22 @@ pub struct RunLimits {
     pub time_limit: Option<f64>,
     /// Cancel flag and progress count shared with the caller.
     pub watch: Watch,
+    /// The instant `time_limit` counts from (`None`: the kernel's own start). A caller that
+    /// works before the kernel starts (reading its arguments, building a search tree of the
+    /// candidates) sets the start of the whole call here, so the limit bounds the call.
+    pub since: Option<Instant>,
 }
 
 impl RunLimits {
-    /// This call's clock; the deadline starts now.
+    /// A fresh watch and a `time_limit` counted from now: for a call that starts here and
+    /// may work before its kernel starts.
+    pub fn from_now(time_limit: Option<f64>) -> RunLimits {
+        RunLimits { time_limit, watch: Watch::new(), since: Some(Instant::now()) }
+    }
+
+    /// This call's clock: the deadline counts from `since`, or from now when it is `None`.
     pub(crate) fn clock(&self) -> Clock {
-        self.watch.clock(self.time_limit)
+        self.watch.clock_since(self.since.unwrap_or_else(Instant::now), self.time_limit)
     }
 }
 
@@ -259,6 +274,50 @@ impl Clock {
     }
 }
 
+/// Fewest separate allocations for which [`FreedAside`] frees on another thread: below it,
+/// freeing in place is cheaper than starting a thread.
+const FREE_ASIDE_ALLOCATIONS: usize = 10_000;
+
+/// A value freed on a thread of its own when it goes out of scope. A kernel's structures of
+/// many small allocations (coverage lists of every point and candidate, a search tree of the
+/// candidates) take tenths of a second to free on a loaded machine, which a run stopped by
+/// its deadline or by Ctrl-C would otherwise spend after the stop. Dereferences to the value.
+pub(crate) struct FreedAside<T: Send + 'static> {
+    value: Option<T>,
+    aside: bool,
+}
+
+impl<T: Send + 'static> FreedAside<T> {
+    /// `value`, held in `allocations` separate allocations: freed on another thread when
+    /// they are at least [`FREE_ASIDE_ALLOCATIONS`], else in place.
+    pub(crate) fn new(value: T, allocations: usize) -> FreedAside<T> {
+        FreedAside { value: Some(value), aside: allocations >= FREE_ASIDE_ALLOCATIONS }
+    }
+}
+
+impl<T: Send + 'static> std::ops::Deref for FreedAside<T> {
+    type Target = T;
+    fn deref(&self) -> &T {
+        self.value.as_ref().expect("held until dropped")
+    }
+}
+
+impl<T: Send + 'static> std::ops::DerefMut for FreedAside<T> {
+    fn deref_mut(&mut self) -> &mut T {
+        self.value.as_mut().expect("held until dropped")
+    }
+}
+
+impl<T: Send + 'static> Drop for FreedAside<T> {
+    fn drop(&mut self) {
+        let Some(value) = self.value.take() else { return };
+        if self.aside {
+            // When no thread can be started, the refused closure drops the value here.
+            let _ = std::thread::Builder::new().name("placewise-free".into()).spawn(move || drop(value));
+        }
+    }
+}
+
 /// Helpers for the tests of watched kernels.
 #[cfg(test)]
 pub(crate) mod testing {
@@ -325,8 +384,38 @@ mod tests {
         assert_eq!(watch.progress(), (3, 5));
         steps.finish();
         assert_eq!(watch.progress(), (5, 5));
-        let limits = RunLimits { time_limit: Some(0.0), watch: watch.clone() };
+        let limits = RunLimits { time_limit: Some(0.0), watch: watch.clone(), since: None };
         assert!(limits.clock().stop() && !RunLimits::default().clock().stop());
+    }
+
+    #[test]
+    fn a_limit_counts_from_its_start_when_one_is_given() {
+        // Started an hour ago, a limit of a minute has passed; counted from the kernel's
+        // start (no `since`), the same minute has not, nor has it from a start just now.
+        let hour_ago = Instant::now().checked_sub(Duration::from_secs(3600));
+        let late = RunLimits { time_limit: Some(60.0), since: hour_ago, ..RunLimits::default() };
+        assert!(hour_ago.is_none() || late.clock().expired());
+        assert!(!RunLimits { since: None, ..late.clone() }.clock().expired());
+        assert!(!RunLimits::from_now(Some(60.0)).clock().expired());
+        assert!(RunLimits::from_now(None).clock().deadline().is_none());
+    }
+
+    #[test]
+    fn a_value_freed_aside_is_dropped_on_another_thread_only_when_large() {
+        // The value reports the thread that drops it through a channel.
+        struct Tell(std::sync::mpsc::Sender<std::thread::ThreadId>);
+        impl Drop for Tell {
+            fn drop(&mut self) {
+                let _ = self.0.send(std::thread::current().id());
+            }
+        }
+        let here = std::thread::current().id();
+        for (allocations, elsewhere) in [(FREE_ASIDE_ALLOCATIONS, true), (FREE_ASIDE_ALLOCATIONS - 1, false)] {
+            let (sender, receiver) = std::sync::mpsc::channel();
+            drop(FreedAside::new(Tell(sender), allocations));
+            let by = receiver.recv_timeout(Duration::from_secs(60)).expect("dropped");
+            assert_eq!(by != here, elsewhere);
+        }
     }
 
     #[test]

@@ -16,7 +16,14 @@ import pytest
 from pyproj import Geod
 
 import placewise as pw
-from interrupting import Enough, check_progress_reports, check_prompt_interrupt, child_code, stop_at_first_report
+from interrupting import (
+    Enough,
+    check_counts,
+    check_progress_reports,
+    check_prompt_interrupt,
+    child_code,
+    stop_at_first_report,
+)
 
 GEOD = Geod(ellps="WGS84")
 RNG = np.random.default_rng(29)
@@ -146,6 +153,20 @@ def test_a_cut_weber_point_is_a_true_flagged_answer() -> None:
     assert cut.iterations <= full.iterations
     frame = cut.to_frame()
     assert not frame["converged"].iloc[0] and frame["cost_m"].iloc[0] == cut.cost
+
+
+def test_a_converged_weber_run_counts_its_exact_passes_to_the_total() -> None:
+    # Each exact pass is planned as it begins: the count of a converged run ends at its
+    # total, the passes made (never at max_iter), on the site of the unwatched run, whose
+    # cost is pyproj's weighted sum there.
+    calls: list[tuple[int, int]] = []
+    watched = MODELS["weber_point"](progress=lambda done, total: calls.append((done, total)))
+    plain = MODELS["weber_point"]()
+    check_counts(calls)
+    assert watched.converged and calls[-1] == (watched.iterations, watched.iterations)
+    assert watched.iterations < 10_000
+    np.testing.assert_array_equal(watched.location, plain.location)
+    assert watched.cost == plain.cost == pytest.approx(_weighted_sum(plain.location, POINTS, WEIGHTS), rel=1e-9)
 
 
 def test_a_cut_grouped_weber_run_flags_every_group_with_true_costs() -> None:

@@ -14,6 +14,7 @@ from hypothesis import strategies as st
 
 import placewise as pw
 from hostile import AWKWARD_POINTS, BAD_POINTS, BAD_WEIGHTS
+from interrupting import check_counts
 
 scipy_sparse = pytest.importorskip("scipy.sparse")
 csgraph = pytest.importorskip("scipy.sparse.csgraph")
@@ -280,9 +281,10 @@ def test_choose_sites_with_limit_matches_discrete_on_scipy_costs():
     assert (full[:, plan.open] <= radius).any(axis=1).all()  # every point covered, by scipy's costs
 
 
-def test_choose_sites_progress_counts_searches_then_model():
-    # The cost searches count the candidates (one Dijkstra search each), then the model
-    # counts its own steps; the plan is the one of the unwatched call.
+def test_choose_sites_progress_is_one_count_of_the_searches_then_the_model():
+    # One count: the candidates searched (one Dijkstra search each), then the model's own
+    # steps added on. The model's steps are the ones it reports when called alone on the same
+    # matrix; the plan is the one of the unwatched call.
     n = 60
     tail, head, cost, _ = random_edges(10, n, 240, one_way_share=0.0)
     tail = np.concatenate([tail, np.arange(n - 1)])
@@ -295,13 +297,25 @@ def test_choose_sites_progress_counts_searches_then_model():
     plain = g.choose_sites("p_median", demand, candidates, p=3)
     np.testing.assert_array_equal(plan.open, plain.open)
     assert plan.total_cost == plain.total_cost
-    first_total = seen[0][1]
-    assert first_total == len(candidates)
-    searches = [d for d, t in seen if t == first_total]
-    assert searches[-1] == len(candidates) and searches == sorted(searches)
-    assert any(t != first_total for _, t in seen)  # the model's own count follows
-    evaluated = g.choose_sites("evaluate_sites", demand, candidates, sites=plan.open, progress=True)
+    alone = []
+    pw.discrete.p_median(g.site_costs(demand, candidates), 3, progress=lambda done, total: alone.append((done, total)))
+    check_counts(seen)
+    totals = [t for _, t in seen]
+    assert totals == sorted(totals)
+    # While the searches run, the total holds them and one step for the model to come; the
+    # count reaches its total only at the end.
+    assert (len(candidates), len(candidates) + 1) in seen
+    assert all(d < t for d, t in seen[:-1])
+    assert seen[-1] == (len(candidates) + alone[-1][1],) * 2
+    # evaluate_sites reports no steps of its own: the searches are the whole count.
+    counted = []
+    evaluated = g.choose_sites("evaluate_sites", demand, candidates, sites=plan.open,
+                               progress=lambda done, total: counted.append((done, total)))
+    check_counts(counted)
+    assert counted[-1] == (len(candidates), len(candidates))
     assert evaluated.total_cost == pytest.approx(plain.total_cost, rel=1e-12)
+    shown = g.choose_sites("evaluate_sites", demand, candidates, sites=plan.open, progress=True)
+    assert shown.total_cost == evaluated.total_cost
 
 
 def test_choose_sites_refuses_unreachable_demand_naming_rows():

@@ -398,9 +398,11 @@ def p_median(
     unit : str
         Name of the cost unit.
     time_limit : float, optional
-        Seconds (finite, above zero) the search may take. When they pass, the best plan
-        found so far is returned (``p`` sites, every point served) with the bound proven so
-        far: ``relative_gap`` above 0 says it is not proven optimal. Default: no limit.
+        Seconds (finite, above zero) the call may take, counted from its start (reading the
+        costs and, for costs from coordinates, indexing the candidates included). When they
+        pass, the best plan found so far is returned (``p`` sites, every point served) with
+        the bound proven so far: ``relative_gap`` above 0 says it is not proven optimal.
+        Default: no limit.
     progress : bool or callable
         True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
         callable is called as ``progress(done, total)`` from the calling thread while the

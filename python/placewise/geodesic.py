@@ -178,8 +178,10 @@ def weber_point(
     progress : bool or callable
         True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
         callable is called as ``progress(done, total)`` from the calling thread while the
-        run goes on: exact passes out of ``max_iter`` (ended at the total when the run
-        stops), or with ``groups`` the points of finished groups. Ctrl-C (or an exception
+        run goes on: exact passes over the points, or with ``groups`` the points of finished
+        groups. How many passes a run needs is known only once it has converged, so each is
+        planned as it begins: the total is the passes made and the one under way (at most
+        ``max_iter``), and a run's count ends at its total. Ctrl-C (or an exception
         from the callable) stops the run, set-up included, within a fraction of a pass and
         raises ``KeyboardInterrupt``.
 
@@ -208,8 +210,8 @@ def weber_point(
     >>> passes = []
     >>> r = pw.geodesic.weber_point([[0, 50], [2, 51], [1, 53]], time_limit=60.0,
     ...                             progress=lambda done, total: passes.append(done))
-    >>> bool(r.converged), passes[-1]                    # the count ends at max_iter
-    (True, 10000)
+    >>> bool(r.converged), passes[-1] == r.iterations    # the count ends at the passes made
+    (True, True)
     >>> pw.geodesic.weber_point([[0, 0], [90, 0], [180, 0], [-90, 0]])
     Traceback (most recent call last):
     ...

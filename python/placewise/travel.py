@@ -41,6 +41,7 @@ from numpy.typing import ArrayLike
 from . import _core
 from ._core import InputError
 from ._errors import restate
+from ._progress import Stages
 from ._results import Result
 
 __all__ = ["Attachments", "EdgePieces", "NetworkCatchments", "TravelGraph"]
@@ -669,10 +670,14 @@ class TravelGraph:
         limit : float, optional
             Consider only pairs within this cost (a sparse matrix).
         progress : bool or callable
-            ``True``: a bar on stderr; a callable is called with ``(done, total)``. It counts
-            first the candidates searched for the cost matrix (as :meth:`costs`), then the
-            model's own steps (all models but ``"evaluate_sites"``, which is one pass). Ctrl-C
-            stops either phase.
+            A callable is called with ``(done, total)`` from the calling thread, as one
+            count: first the candidates searched for the cost matrix (one step each, as
+            :meth:`costs`), then the model's own steps (all models but
+            ``"evaluate_sites"``, which is one pass), added on. While the searches run, the
+            total holds them and one step for the model; when the model starts, the total
+            grows by its steps. ``done`` and ``total`` never fall, and ``done`` reaches
+            ``total`` only when the call ends. ``True`` draws a bar on stderr for each of
+            the two stages, labelled with what it counts. Ctrl-C stops either stage.
         **options
             The model's own arguments (``p``, ``radius``, ``fixed``, ``sites``, ...).
 
@@ -695,7 +700,8 @@ class TravelGraph:
 
         if model not in _MODELS:
             raise _input_error("model", f"model must be one of {', '.join(map(repr, _MODELS))}; got {model!r}")
-        matrix = self.site_costs(points, candidates, limit=limit, max_gap=max_gap, progress=progress)
+        stages = Stages(progress, 1 if model == "evaluate_sites" else 2)
+        matrix = self.site_costs(points, candidates, limit=limit, max_gap=max_gap, progress=stages.next())
         n, m = matrix.shape
         # Which pairs have a cost, counted per point without a dense n × m mask on the sparse
         # path (a limit is given precisely when the whole matrix would not fit).
@@ -722,10 +728,12 @@ class TravelGraph:
             rows, cols = np.nonzero(reached)
             matrix = scipy.sparse.csr_array((matrix[rows, cols], (rows, cols)), shape=matrix.shape)
         if model != "evaluate_sites":
-            options["progress"] = progress
+            options["progress"] = stages.next()
         call = getattr(discrete, model)
         try:
-            return call(matrix, weights=weights, unit=self.unit, **options)
+            plan = call(matrix, weights=weights, unit=self.unit, **options)
+            stages.close()
+            return plan
         except InputError as exc:
             if every_pair:
                 raise

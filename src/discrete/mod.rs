@@ -542,11 +542,11 @@ mod tests {
         // (every point served) and a bound that holds: on the same side of the full run's
         // plan as its own bound. The covering models stop while they list the coverage,
         // before any plan exists, and say so.
-        let expired = || RunLimits { time_limit: Some(0.0), watch: Watch::new() };
+        let expired = || RunLimits { time_limit: Some(0.0), watch: Watch::new(), since: None };
         let cancelled = || {
             let watch = Watch::new();
             watch.cancel();
-            RunLimits { time_limit: None, watch }
+            RunLimits { time_limit: None, watch, since: None }
         };
         for limits in [expired(), cancelled()] {
             let options = DiscreteMedianOptions { limits: limits.clone(), ..Default::default() };

@@ -14,6 +14,7 @@
 use rstar::primitives::GeomWithData;
 use rstar::RTree;
 
+use crate::cancel::FreedAside;
 use crate::error::{Error, Result};
 use crate::geometry::{distance, validate_points, Point};
 
@@ -341,7 +342,13 @@ pub fn with_planar_costs<T>(
         let matrix = CostMatrix::new(&values, points.len(), candidates.len())?;
         f(&Costs::Dense(matrix))
     } else {
-        f(&Costs::Planar(PlanarCosts::new(points, candidates)?))
+        let costs = Costs::Planar(PlanarCosts::new(points, candidates)?);
+        let answer = f(&costs);
+        if let Costs::Planar(planar) = costs {
+            // A node per few candidates: freed aside, so a stopped run returns at its stop.
+            drop(FreedAside::new(planar.tree, candidates.len()));
+        }
+        answer
     }
 }
 

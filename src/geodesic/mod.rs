@@ -123,8 +123,9 @@ pub fn geodesic_weber_point(points: &[Point], weights: Weights<'_>, options: &We
 /// within a chunk of points of any pass or set-up step; the deadline between passes once
 /// the first exact pass has measured a site (before it, the conformal-sphere start is cut
 /// short instead). The point reached is returned with `converged` false unless its
-/// certificate already holds; `cost` is its exact cost. Progress counts exact passes against
-/// `options.max_iter`, closed at the total when the run ends.
+/// certificate already holds; `cost` is its exact cost. Progress counts exact passes, each
+/// planned as it begins (the count is the passes made and the one under way, at most
+/// `options.max_iter`): a converged run ends at its total, a stopped one is closed there.
 ///
 /// # Errors
 /// As [`geodesic_weber_point`].
@@ -170,7 +171,7 @@ pub fn geodesic_weber_points_watched(
 ) -> Result<Grouped<WeberPoint>> {
     check_weber(options)?;
     let watch = &limits.watch;
-    let inner = RunLimits { time_limit: limits.time_limit, watch: watch.quiet() };
+    let inner = RunLimits { time_limit: limits.time_limit, watch: watch.quiet(), since: None };
     watch.plan(points.len() as u64);
     run_grouped(points, weights, labels, on_error, |g| {
         if watch.is_cancelled() {
@@ -198,7 +199,7 @@ fn check_center(options: &CenterOptions) -> Result<()> {
 /// time limit (each group's own, from its start), the caller's cancel flag, and no progress
 /// of its own (the grouped run counts the points of finished groups).
 fn group_options(options: &CenterOptions) -> CenterOptions {
-    let limits = RunLimits { time_limit: options.limits.time_limit, watch: options.limits.watch.quiet() };
+    let limits = RunLimits { time_limit: options.limits.time_limit, watch: options.limits.watch.quiet(), since: None };
     CenterOptions { limits, ..options.clone() }
 }
 

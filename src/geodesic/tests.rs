@@ -146,8 +146,8 @@ fn a_cancelled_weber_run_stops_after_its_first_pass_and_counts_it() {
         geodesic_weber_point_watched(&points, Weights::Given(&weights), &WeberOptions::default(), &limits).unwrap();
     assert_eq!(stopped.iterations, 1);
     assert!(stopped.cost >= full.cost);
-    let (done, total) = watch.progress();
-    assert!(done == total && total == WeberOptions::default().max_iter as u64);
+    // The first pass, planned from the start, made and counted.
+    assert_eq!(watch.progress(), (1, 1));
 }
 
 #[test]
@@ -174,7 +174,7 @@ fn a_spent_time_limit_returns_the_start_with_its_true_radius_and_a_valid_gap() {
     let full = geodesic_minimax_point(&pts, Weights::Given(&w), &CenterOptions::default()).unwrap();
     let watch = crate::cancel::Watch::new();
     let spent = CenterOptions {
-        limits: crate::cancel::RunLimits { time_limit: Some(0.0), watch: watch.clone() },
+        limits: crate::cancel::RunLimits { time_limit: Some(0.0), watch: watch.clone(), since: None },
         ..CenterOptions::default()
     };
     let cut = geodesic_minimax_point(&pts, Weights::Given(&w), &spent).unwrap();
@@ -188,7 +188,7 @@ fn a_spent_time_limit_returns_the_start_with_its_true_radius_and_a_valid_gap() {
     // A cancelled watch also stops the run; the caller drops its answer (Watch::finish).
     watch.cancel();
     let cancelled = CenterOptions {
-        limits: crate::cancel::RunLimits { time_limit: None, watch: watch.clone() },
+        limits: crate::cancel::RunLimits { time_limit: None, watch: watch.clone(), since: None },
         ..CenterOptions::default()
     };
     let r = geodesic_enclosing_circle(&pts, &cancelled).unwrap();
@@ -203,7 +203,7 @@ fn a_weber_run_out_of_time_returns_its_measured_start_uncertified() {
     let points: Vec<Point> = (0..49).map(|i| [10.0 + f64::from(i % 7) * 0.3, 45.0 + f64::from(i / 7) * 0.2]).collect();
     let weights: Vec<f64> = (0..49).map(|i| 1.0 + f64::from(i % 5)).collect();
     let full = geodesic_weber_point(&points, Weights::Given(&weights), &WeberOptions::default()).unwrap();
-    let limits = RunLimits { time_limit: Some(0.0), watch: Watch::new() };
+    let limits = RunLimits { time_limit: Some(0.0), watch: Watch::new(), since: None };
     let cut =
         geodesic_weber_point_watched(&points, Weights::Given(&weights), &WeberOptions::default(), &limits).unwrap();
     assert!(!cut.converged && cut.iterations == 1, "{cut:?}");
@@ -211,8 +211,15 @@ fn a_weber_run_out_of_time_returns_its_measured_start_uncertified() {
     let exact: f64 = points.iter().zip(&weights).map(|(&p, &w)| w * earth.distance(cut.location, p)).sum();
     assert!((cut.cost - exact).abs() <= 1e-12 * exact, "{} {exact}", cut.cost);
     assert!(cut.cost >= full.cost && cut.cost - cut.gap <= full.cost);
-    let (done, total) = limits.watch.progress();
-    assert!(done == total && total == WeberOptions::default().max_iter as u64);
+    // Progress counts exact passes, each planned as it begins: the one pass made.
+    assert_eq!(limits.watch.progress(), (1, 1));
+    // Unstopped, the count ends at its total, the passes made (the result's `iterations`),
+    // on the same site as the unwatched run.
+    let watched = RunLimits::default();
+    let r =
+        geodesic_weber_point_watched(&points, Weights::Given(&weights), &WeberOptions::default(), &watched).unwrap();
+    assert!(r.converged && r == full, "{r:?}");
+    assert_eq!(watched.watch.progress(), (r.iterations as u64, r.iterations as u64));
 }
 
 #[test]

@@ -9,7 +9,7 @@ use super::fields::Fields;
 use super::partition::cell_fields;
 use super::runtime::{progress_arg, run_watched};
 use super::{points_arg, weights_arg};
-use crate::cancel::{RunLimits, Watch};
+use crate::cancel::RunLimits;
 use crate::capacity::{
     capacitated_p_median, capacity_allocation, capacity_cells, AllocationOptions, CapacitatedMedianOptions,
     CapacityAllocation, CellsOptions,
@@ -74,7 +74,7 @@ fn capacity_allocate<'py>(
     time_limit: Option<&Bound<'py, PyAny>>,
     progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
-    let limits = RunLimits { time_limit: time_limit_arg(time_limit)?, watch: Watch::new() };
+    let limits = RunLimits::from_now(time_limit_arg(time_limit)?);
     let mut progress = progress_arg(progress, "capacity_allocation")?;
     let pts = points_arg(points, "points")?;
     let sts = points_arg(sites, "sites")?;
@@ -109,7 +109,7 @@ fn capacity_p_median<'py>(
     let options = CapacitatedMedianOptions {
         seed: seed_arg(seed)?,
         max_rounds: count_arg(max_rounds, "max_rounds", 1, usize::MAX)?,
-        limits: RunLimits { time_limit: time_limit_arg(time_limit)?, watch: Watch::new() },
+        limits: RunLimits::from_now(time_limit_arg(time_limit)?),
     };
     let mut progress = progress_arg(progress, "capacitated_p_median (rounds)")?;
     let pts = points_arg(points, "points")?;
@@ -156,7 +156,7 @@ fn capacity_power_cells<'py>(
 ) -> PyResult<Bound<'py, PyDict>> {
     let options = CellsOptions {
         tol: float_arg(tol, "tol", "in (0, 1)", |t| t > 0.0 && t < 1.0)?,
-        limits: RunLimits { time_limit: time_limit_arg(time_limit)?, watch: Watch::new() },
+        limits: RunLimits::from_now(time_limit_arg(time_limit)?),
     };
     let mut progress = progress_arg(progress, "capacity_cells")?;
     let pts = points_arg(points, "points")?;

@@ -13,7 +13,7 @@ use super::errors::argument_error;
 use super::fields::Fields;
 use super::run_detached;
 use super::runtime::{progress_arg, run_watched, Progress};
-use crate::cancel::{RunLimits, Watch};
+use crate::cancel::RunLimits;
 use crate::discrete::{
     circle_intersections, cover_all, cover_most, discrete_p_center, discrete_p_median, euclidean_costs, evaluate_sites,
     with_planar_costs, CostMatrix, Costs, DiscreteMedianOptions, SiteService, SparseCosts, MAX_DOMINATING_CANDIDATES,
@@ -99,7 +99,7 @@ fn watched<'py>(
     progress: Option<&Bound<'py, PyAny>>,
     label: &'static str,
 ) -> PyResult<(RunLimits, Progress<'py>)> {
-    let limits = RunLimits { time_limit: time_limit_arg(time_limit)?, watch: Watch::new() };
+    let limits = RunLimits::from_now(time_limit_arg(time_limit)?);
     Ok((limits, progress_arg(progress, label)?))
 }
 

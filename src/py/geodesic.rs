@@ -40,7 +40,7 @@ fn center_options<'py>(
 ) -> PyResult<(CenterOptions, Progress<'py>)> {
     let tol = float_arg(tol, "tol", "finite and >= 0", |t| t.is_finite() && t >= 0.0)?;
     let max_iter = count_arg(max_iter, "max_iter", 1, usize::MAX)?;
-    let limits = RunLimits { time_limit: time_limit_arg(time_limit)?, watch: Watch::new() };
+    let limits = RunLimits::from_now(time_limit_arg(time_limit)?);
     Ok((CenterOptions { tol, max_iter, limits }, progress_arg(progress, label)?))
 }
 
@@ -120,7 +120,7 @@ fn geodesic_weber_single<'py>(
     progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let options = weber_options(tol, max_iter)?;
-    let limits = RunLimits { time_limit: time_limit_arg(time_limit)?, watch: Watch::new() };
+    let limits = RunLimits::from_now(time_limit_arg(time_limit)?);
     let mut progress = progress_arg(progress, "geodesic weber_point (exact passes)")?;
     let cloud = Cloud::read(points, weights, None)?;
     let (pts, w) = (cloud.points(), cloud.weights()?);
@@ -152,7 +152,7 @@ fn geodesic_weber_grouped<'py>(
     progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let options = weber_options(tol, max_iter)?;
-    let limits = RunLimits { time_limit: time_limit_arg(time_limit)?, watch: Watch::new() };
+    let limits = RunLimits::from_now(time_limit_arg(time_limit)?);
     let mut progress = progress_arg(progress, "geodesic weber_point (points of finished groups)")?;
     let on_error = on_error_arg(errors)?;
     let cloud = Cloud::read(points, weights, Some(groups))?;

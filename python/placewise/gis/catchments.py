@@ -19,6 +19,7 @@ except ImportError:  # pragma: no cover - exercised only without the extra
 import placewise as _pw
 
 from .._core import InputError
+from .._progress import Stages
 from .._sphere import SPHERE_MODEL
 from ._frames import (
     MAX_SCALE_ERROR,
@@ -157,10 +158,13 @@ def voronoi_cells(
         Demand weight column (or values); default 1 per demand row.
     progress : bool or callable
         Without ``by``: a progress bar on stderr (True) or a callable ``(done, total)`` for
-        the cells, on the sphere and in the plane alike, and on the sphere (see below) with
-        ``demand`` then for the demand rows served (each count rising to its own total);
-        Ctrl-C stops the run either way. With ``by``, an ``InputError`` naming it: a grouped
-        run reports no progress.
+        the cells, on the sphere and in the plane alike. On the sphere (see below) with
+        ``demand``, the demand rows served follow as one count with the cells: a callable
+        sees the cells' steps, then one step per demand row added on (while the cells are
+        made, the total holds them and one step for the demand; it grows by the demand rows
+        when their search starts, and ``done`` reaches ``total`` only at the end); True draws
+        a bar for each. Ctrl-C stops the run either way. With ``by``, an ``InputError``
+        naming it: a grouped run reports no progress.
 
     Geographic sites that no working frame holds within ``max_scale_error`` (global, polar,
     wide across the antimeridian; without ``by`` and ``work_crs``) get spherical Voronoi
@@ -190,9 +194,11 @@ def voronoi_cells(
     model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
     pf = prepare_or_sphere(sites, "sites", planar=planar, centroids=centroids, by=by, **model)
     if pf.ellipsoid:
-        out = _sphere_cells(pf, region, progress)
+        stages = Stages(progress, 1 if demand is None else 2)
+        out = _sphere_cells(pf, region, stages.next())
         if demand is not None:
-            served = nearest_site(demand, sites, weight, centroids=centroids, errors=errors, progress=progress)
+            served = nearest_site(demand, sites, weight, centroids=centroids, errors=errors, progress=stages.next())
+            stages.close()
             out["load"] = served.sites["load"].to_numpy()
             out["points"] = served.sites["points"].to_numpy()
         return out

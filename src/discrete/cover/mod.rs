@@ -32,7 +32,7 @@ use lagrangian::Covering;
 pub use most::{cover_most, CoverMost};
 
 use super::{check_radius, relative_gap, Costs, SiteService};
-use crate::cancel::{cancelled, Clock, RunLimits, Steps};
+use crate::cancel::{cancelled, Clock, FreedAside, RunLimits, Steps};
 use crate::error::{Error, Result};
 use crate::geometry::{validate_weights, Weights};
 
@@ -154,7 +154,7 @@ pub fn cover_all(
     let mut steps = Steps::new(&clock.watch, 3 + COVER_ALL_ITERATIONS as u64);
     let demand = outside(costs, fixed, radius, |_| true);
     let stop = || clock.stop();
-    let Some(mut incidence) = Incidence::build_watched(
+    let Some(incidence) = Incidence::build_watched(
         costs,
         &demand,
         &not_fixed(costs.columns(), fixed),
@@ -165,6 +165,9 @@ pub fn cover_all(
         steps.finish();
         return Err(stopped_before_a_plan(&clock, "cover"));
     };
+    // A list per point and per candidate: freed aside, so a stopped run returns at its stop.
+    let lists = incidence.by_point.len() + incidence.by_site.len();
+    let mut incidence = FreedAside::new(incidence, lists);
     if let Some(a) = incidence.uncoverable() {
         let i = demand[a];
         let (column, cost) = costs.cheapest(i);
@@ -176,13 +179,16 @@ pub fn cover_all(
     let greedy = incidence.greedy();
     steps.step();
     let floor = incidence.packing().len();
-    let (mut chosen, mut lower) = match Covering::new(&incidence) {
-        Some(covering) if !clock.stop() => {
+    // Stopped already: the greedy cover and the packing bound, without building the search.
+    let covering = if clock.stop() { None } else { Some(Covering::new(&incidence)) };
+    let (mut chosen, mut lower) = match covering {
+        None => (greedy, floor),
+        Some(Some(covering)) => {
             let found = covering.search(&greedy, floor, COVER_ALL_ITERATIONS, &clock, &mut steps);
             (found.cover, found.bound)
         }
-        // Indices past 32 bits (or stopped already): the plain greedy cover and bound.
-        _ => {
+        // Indices past 32 bits: the plain greedy cover and bound.
+        Some(None) => {
             let lower = incidence.lower_bound(greedy.len(), COVER_ALL_ITERATIONS, &mut || {
                 steps.step();
                 !clock.stop()

@@ -365,8 +365,11 @@ fn data_point_looks_optimal(problem: &Problem<'_>, pass: &Pass) -> bool {
 
 /// Solve. Inputs validated (longitude/latitude, weights); at least one weight positive.
 /// Stops at the point reached when `clock` says so (polled before every pass over the
-/// points); every pass is a step of the clock's watch, planned as `max_iter` and closed at
-/// the end.
+/// points); every exact pass is a step of the clock's watch, planned when the pass begins
+/// (the first from the start: the run always makes it), so the count is the passes made and
+/// the one under way. How many passes a run needs is known only once it has converged;
+/// planned one at a time, a converged run's count ends at its total (at most `max_iter`),
+/// and a stopped run's is closed there.
 pub(crate) fn solve(
     points: &[Point],
     weights: Weights<'_>,
@@ -374,7 +377,7 @@ pub(crate) fn solve(
     max_iter: usize,
     clock: &Clock,
 ) -> Result<WeberPoint> {
-    let mut steps = Steps::new(&clock.watch, max_iter as u64);
+    let mut steps = Steps::new(&clock.watch, 1);
     let result = descend(points, weights, tol, max_iter, clock, &mut steps);
     steps.finish();
     result
@@ -491,6 +494,7 @@ fn descend(
         }
         if sampled {
             sampled = false;
+            steps.plan(1);
             let full = problem.evaluate(x);
             evaluations += 1;
             if !full.complete {
@@ -512,6 +516,7 @@ fn descend(
                 if clock.stop() {
                     return Ok(finish(x, &current, evaluations));
                 }
+                steps.plan(1);
                 let trial = problem.evaluate(at);
                 if !trial.complete {
                     return Ok(finish(x, &current, evaluations));
@@ -534,6 +539,7 @@ fn descend(
                 if clock.stop() {
                     return Ok(finish(x, &current, evaluations));
                 }
+                steps.plan(1);
                 let trial = problem.evaluate(xn);
                 if !trial.complete {
                     return Ok(finish(x, &current, evaluations));
@@ -559,6 +565,7 @@ fn descend(
             if clock.stop() {
                 return Ok(finish(x, &current, evaluations));
             }
+            steps.plan(1);
             let trial = problem.evaluate(xw);
             if !trial.complete {
                 return Ok(finish(x, &current, evaluations));
