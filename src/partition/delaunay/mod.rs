@@ -26,7 +26,7 @@ use std::collections::HashMap;
 use rayon::prelude::*;
 use spade::Point2;
 
-use crate::batch::{run_grouped_placed, Grouped, OnGroupError, RowPlaces};
+use crate::batch::{run_grouped_placed, GroupWatch, Grouped, OnGroupError, RowPlaces};
 use crate::cancel::{cancelled, Watch};
 use crate::error::Result;
 use crate::geometry::{ring_signed_area, validate_points, Point, Weights};
@@ -110,9 +110,29 @@ pub fn delaunay_grouped(
     labels: &[i64],
     on_error: OnGroupError,
 ) -> Result<(Grouped<Triangulation>, RowPlaces)> {
-    run_grouped_placed("points", points, Weights::Unit, labels, on_error, |group| {
-        Ok(delaunay(group.points)?.in_rows(group.members))
-    })
+    delaunay_grouped_watched(points, labels, on_error, &Watch::new())
+}
+
+/// [`delaunay_grouped`] watched: progress counts the points of finished groups, and once
+/// `watch` is cancelled the groups not yet begun are skipped and a running group stops as
+/// [`delaunay_watched`] does (when its strips under way end), with an outcome the caller
+/// drops ([`Watch::finish`]). Watching changes nothing in the triangulations.
+///
+/// # Errors
+/// As [`delaunay_grouped`].
+pub fn delaunay_grouped_watched(
+    points: &[Point],
+    labels: &[i64],
+    on_error: OnGroupError,
+    watch: &Watch,
+) -> Result<(Grouped<Triangulation>, RowPlaces)> {
+    let groups = GroupWatch::new(watch, points.len());
+    let outcome = run_grouped_placed("points", points, Weights::Unit, labels, on_error, |group| {
+        let t = groups.finished(group.points.len(), |quiet| delaunay_watched(group.points, quiet))?;
+        Ok(t.in_rows(group.members))
+    });
+    groups.close();
+    outcome
 }
 
 /// The positions the triangulation is built on: `points` scaled by a power of two (exact)
@@ -319,6 +339,23 @@ mod tests {
         assert_eq!(cancelled.progress(), (0, 300_000));
         let (done, total) = crate::cancel::testing::cancelled_after(1, |watch| delaunay_watched(&pts, watch));
         assert!(done <= total && total == 300_000);
+    }
+
+    #[test]
+    fn a_watched_grouped_run_counts_every_point_and_a_cancel_leaves_no_answer() {
+        // Three groups of 100,000 points (one strip each) and a small one. Watching changes
+        // nothing in the triangulations: each group's is the ungrouped call's on its points.
+        let pts = lcg_cloud(300_400, 19, [0.0, 0.0], 1.0);
+        let labels: Vec<i64> = (0..pts.len()).map(|i| if i < 400 { 9 } else { (i % 3) as i64 }).collect();
+        let watch = Watch::new();
+        let (watched, _) = delaunay_grouped_watched(&pts, &labels, OnGroupError::Raise, &watch).unwrap();
+        assert_eq!(watch.progress(), (300_400, 300_400));
+        let (plain, _) = delaunay_grouped(&pts, &labels, OnGroupError::Raise).unwrap();
+        assert_eq!(watched.results, plain.results);
+        let (done, total) = crate::cancel::testing::cancelled_after(1, |watch| {
+            delaunay_grouped_watched(&pts, &labels, OnGroupError::Raise, watch).map(drop)
+        });
+        assert!(done <= total && total == 300_400);
     }
 
     #[test]
