@@ -678,11 +678,20 @@ pub(super) fn clipped_cells(
                 .into_par_iter()
                 .map(|cell| if watch.is_cancelled() { Vec::new() } else { region.clip(cell) })
                 .collect();
-            stop()?;
-            for ring in clipped.iter_mut().flatten().flatten() {
-                welder.ring(ring);
+            // The second weld and the repair pass over every cell as the first weld does, so
+            // they look at the watch as it does (a cancelled run's cells are never read).
+            for block in clipped.chunks_mut(CELL_BLOCK) {
+                stop()?;
+                for ring in block.iter_mut().flatten().flatten() {
+                    welder.ring(ring);
+                }
             }
-            clipped.into_par_iter().map(repair).collect()
+            let repaired = clipped
+                .into_par_iter()
+                .map(|cell| if watch.is_cancelled() { Vec::new() } else { repair(cell) })
+                .collect();
+            stop()?;
+            repaired
         }
     };
 

@@ -173,7 +173,9 @@ fn delaunay_in_strips(points: &[Point], strips: usize, watch: &Watch) -> Result<
         Some(mesh) => Ok(mesh),
         // A cancel also ends the strips without a mesh: it must not start the whole set.
         None if watch.is_cancelled() => return Err(cancelled("points")),
-        None => whole::whole(&positions),
+        // Refused strips (one on a single line, a seam the check rejects): the whole set,
+        // watched when it is inserted along its lines (the circle sweep is not).
+        None => whole::whole(&positions, watch),
     };
     // Every point is counted once whatever the path: here, those of a set triangulated whole
     // or refused (strips whose stitch was not accepted were counted as they ended).
@@ -356,6 +358,23 @@ mod tests {
             delaunay_grouped_watched(&pts, &labels, OnGroupError::Raise, watch).map(drop)
         });
         assert!(done <= total && total == 300_400);
+    }
+
+    #[test]
+    fn the_whole_set_on_lines_stops_on_a_cancel_and_watching_changes_nothing() {
+        // Points on four vertical lines: each of four strips is one line, so the strips are
+        // refused and the set is triangulated whole, by insertion along its lines, which
+        // looks at the watch. Closed form: a strip of two lines of m points each has
+        // 2 (m - 1) triangles, so three strips between four lines of 10,000 have 59,994.
+        let pts: Vec<Point> = (0..40_000).map(|i| [(i % 4) as f64, (i / 4) as f64]).collect();
+        let watch = Watch::new();
+        let watched = delaunay_in_strips(&pts, 4, &watch).unwrap();
+        assert_eq!(watch.progress(), (40_000, 40_000));
+        assert_eq!(watched, delaunay(&pts).unwrap());
+        assert_eq!(watched.triangles.len(), 3 * 2 * (10_000 - 1));
+        let cancelled = Watch::new();
+        cancelled.cancel();
+        assert!(whole::whole(&testing::positions(&pts), &cancelled).is_err());
     }
 
     #[test]
