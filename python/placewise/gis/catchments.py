@@ -99,9 +99,9 @@ def delaunay(
     by : str, optional
         A column whose values split the rows into groups; one triangulation each.
     progress : bool or callable
-        Without ``by``: a progress bar on stderr (True) or a callable ``(done, total)``, on
-        the sphere and in the plane alike; Ctrl-C stops the run either way. With ``by``, an
-        ``InputError`` naming it: a grouped run reports no progress.
+        A progress bar on stderr (True) or a callable ``(done, total)``, on the sphere and in
+        the plane alike (with ``by``: the points of finished groups); Ctrl-C stops the run
+        either way.
 
     Returns
     -------
@@ -156,11 +156,10 @@ def voronoi_cells(
     weight : str or array_like, optional
         Demand weight column (or values); default 1 per demand row.
     progress : bool or callable
-        Without ``by``: a progress bar on stderr (True) or a callable ``(done, total)`` for
-        the cells, on the sphere and in the plane alike, and on the sphere (see below) with
+        A progress bar on stderr (True) or a callable ``(done, total)`` for the cells (with
+        ``by``: the sites of finished groups), on the sphere and in the plane alike, and with
         ``demand`` then for the demand rows served (each count rising to its own total);
-        Ctrl-C stops the run either way. With ``by``, an ``InputError`` naming it: a grouped
-        run reports no progress.
+        Ctrl-C stops the run either way.
 
     Geographic sites that no working frame holds within ``max_scale_error`` (global, polar,
     wide across the antimeridian; without ``by`` and ``work_crs``) get spherical Voronoi
@@ -209,7 +208,8 @@ def voronoi_cells(
         if name.startswith("area_") or name == "problem":
             out[name] = cells[name].to_numpy()
     if demand is not None:
-        served = nearest_site(demand, sites, weight, by=by, planar=planar, centroids=centroids, errors=errors, **model)
+        served = nearest_site(demand, sites, weight, by=by, planar=planar, centroids=centroids, errors=errors,
+                              progress=progress, **model)
         out["load"] = served.sites["load"].to_numpy()
         out["points"] = served.sites["points"].to_numpy()
     return out
