@@ -230,8 +230,8 @@ pub fn nearest_site(points: &[Point], sites: &[Point], weights: Weights<'_>) -> 
 /// [`nearest_site`] counting points done on `watch` (progress, a chunk of points at a
 /// time), and stopping early once it is cancelled: while the sites are indexed (their
 /// triangulation stops as [`delaunay_watched`] does), and within one chunk of points per
-/// worker thread. A cancelled run's answer is incomplete; [`Watch::finish`] tells the caller
-/// to drop it. Watching changes nothing in the allocation.
+/// worker thread. A cancelled run has no answer: its outcome is an error that the caller
+/// drops ([`Watch::finish`]). Watching changes nothing in the allocation.
 ///
 /// # Errors
 /// As [`nearest_site`].
@@ -251,7 +251,7 @@ fn allocate_watched(points: &[Point], sites: &[Point], weights: Weights<'_>, wat
     validate_points("points", points, 1)?;
     validate_weights("weights", weights, points.len())?;
     let index = SiteIndex::watched(sites, watch)?;
-    Ok(assign(points, &index, weights, watch))
+    assign(points, &index, weights, watch)
 }
 
 /// [`nearest_site`] for every group of demand points, each served by the sites of the same
@@ -360,13 +360,13 @@ impl Allocation {
 /// [`nearest_site`] with a prebuilt site index and already-validated points and weights
 /// (for solvers that allocate the same demand to changing sites many times).
 pub fn allocate(points: &[Point], sites: &SiteIndex, weights: Weights<'_>) -> Allocation {
-    assign(points, sites, weights, &Watch::new())
+    assign(points, sites, weights, &Watch::new()).expect("a watch nobody holds is never cancelled")
 }
 
 /// [`allocate`] counting points done on `watch` (planned by the caller) a chunk at a time;
-/// once it is cancelled the chunks not yet begun are skipped (the caller drops a cancelled
-/// run's answer, see [`Watch::finish`]).
-fn assign(points: &[Point], sites: &SiteIndex, weights: Weights<'_>, watch: &Watch) -> Allocation {
+/// once it is cancelled the chunks not yet begun are skipped and the outcome is
+/// [`cancelled`]: an allocation is an answer only when every point is served.
+fn assign(points: &[Point], sites: &SiteIndex, weights: Weights<'_>, watch: &Watch) -> Result<Allocation> {
     let n = points.len();
     let mut index = vec![0usize; n];
     let mut dist = vec![0.0f64; n];
@@ -383,6 +383,9 @@ fn assign(points: &[Point], sites: &SiteIndex, weights: Weights<'_>, watch: &Wat
             watch.advance(pts.len() as u64);
         },
     );
+    if watch.is_cancelled() {
+        return Err(cancelled("points"));
+    }
     // Loads and cost are summed over a number of blocks fixed by `n` and `k` alone and merged in
     // block order, so the sums are bit-identical on every run and thread count (a work-
     // stealing reduction would add in a varying order). At most 2^23 partial loads and as many
@@ -415,14 +418,14 @@ fn assign(points: &[Point], sites: &SiteIndex, weights: Weights<'_>, watch: &Wat
         totals.cost.merge(block.cost);
         totals.demand.merge(block.demand);
     }
-    Allocation {
+    Ok(Allocation {
         index,
         distance: dist,
         load: totals.load,
         count: totals.count,
         cost: totals.cost.total(),
         total_load: totals.demand.total(),
-    }
+    })
 }
 
 /// Per-site loads and counts, the cost and the demand of a block of points.
