@@ -157,11 +157,14 @@ CALLS = {
     "delaunay": (4_000_000, "pw.delaunay(pts)"),
     # Grouped: four groups of a quarter each (two run at once on two cores, each stopped
     # inside by its own strips; the groups not begun are skipped).
-    "voronoi_cells grouped": (1_000_000, "pw.voronoi_cells(pts, groups=np.arange(len(pts)) % 4)"),
-    "spanning_tree grouped": (2_000_000, "pw.spanning_tree(pts, groups=np.arange(len(pts)) % 4)"),
+    "voronoi_cells grouped": (2_000_000, "pw.voronoi_cells(pts, groups=np.arange(len(pts)) % 4)"),
+    "spanning_tree grouped": (4_000_000, "pw.spanning_tree(pts, groups=np.arange(len(pts)) % 4)"),
     "delaunay grouped": (4_000_000, "pw.delaunay(pts, groups=np.arange(len(pts)) % 4)"),
     # Many small groups: the stop comes between groups.
     "delaunay many groups": (4_000_000, "pw.delaunay(pts, groups=np.arange(len(pts)) % 4000)"),
+    # Points on four vertical lines: every strip is one line, so the set is triangulated
+    # whole, by insertion along its lines (which looks at the watch).
+    "delaunay on four lines": (4_000_000, "pw.delaunay(np.column_stack([np.floor(pts[:, 0] / 250), pts[:, 1]]))"),
     # The search: 200,000 sites (their triangulation is watched too) serving the points.
     "nearest_site": (NEAREST_POINTS, "pw.nearest_site(pts, pts[:200_000])"),
     "nearest_site grouped": (NEAREST_POINTS, "pw.nearest_site(pts, pts[:200_000], groups=np.arange(len(pts)) % 4, "
