@@ -8,8 +8,11 @@
 //! order (the sort is stable), so a grouped call gives exactly what separate calls on each
 //! group's points would give.
 
+use std::sync::atomic::{AtomicU64, Ordering};
+
 use rayon::prelude::*;
 
+use crate::cancel::Watch;
 use crate::error::{Error, Result};
 use crate::geometry::{validate_points, validate_weights, Point, Weights};
 
@@ -380,6 +383,77 @@ where
     Ok((grouped, point_places, site_places))
 }
 
+/// The watch of a grouped run: every point of the run planned at its start, the groups not
+/// yet begun skipped once the watch is cancelled, and the count closed at the total when the
+/// run ends. Each group's kernel is watched as its ungrouped form is (so a large group stops
+/// inside its kernel), either quietly with its points counted when it ends
+/// ([`GroupWatch::finished`]) or counting its own points as it goes ([`GroupWatch::counting`]).
+///
+/// Skipping the groups not begun spares each one the unpolled set-up of its kernel (a
+/// validation pass, a sort), which over many groups would add up to seconds after a cancel.
+/// A cancelled run's outcome is never read: the caller drops it ([`Watch::finish`]).
+#[derive(Debug)]
+pub(crate) struct GroupWatch<'a> {
+    watch: &'a Watch,
+    planned: u64,
+    /// Points counted so far, by this runner or by the kernels themselves.
+    counted: AtomicU64,
+}
+
+impl<'a> GroupWatch<'a> {
+    /// Plan a step per point of a grouped run of `points` points on `watch`.
+    pub(crate) fn new(watch: &'a Watch, points: usize) -> GroupWatch<'a> {
+        watch.plan(points as u64);
+        GroupWatch { watch, planned: points as u64, counted: AtomicU64::new(0) }
+    }
+
+    /// `kernel` on one group of `points` points, handed a quiet clone of the watch (the
+    /// cancel flag, no count of its own); the group's points are counted when it ends,
+    /// whatever its outcome.
+    ///
+    /// # Errors
+    /// The kernel's, or an error the caller never sees when the run was cancelled before
+    /// this group began.
+    pub(crate) fn finished<T>(&self, points: usize, kernel: impl FnOnce(&Watch) -> Result<T>) -> Result<T> {
+        self.begin()?;
+        let outcome = kernel(&self.watch.quiet());
+        self.watch.advance(points as u64);
+        self.counted.fetch_add(points as u64, Ordering::Relaxed);
+        outcome
+    }
+
+    /// `kernel` on one group of `points` points, handed the watch itself: the kernel counts
+    /// the group's points as it goes (without planning them: they are planned here). A group
+    /// whose kernel fails has its points counted when the run is closed.
+    ///
+    /// # Errors
+    /// As [`GroupWatch::finished`].
+    pub(crate) fn counting<T>(&self, points: usize, kernel: impl FnOnce(&Watch) -> Result<T>) -> Result<T> {
+        self.begin()?;
+        let outcome = kernel(self.watch);
+        if outcome.is_ok() {
+            self.counted.fetch_add(points as u64, Ordering::Relaxed);
+        }
+        outcome
+    }
+
+    /// Close the count at the total: the points no group counted (groups that failed
+    /// before counting, were skipped, or had no kernel run) count as done.
+    pub(crate) fn close(self) {
+        self.watch.advance(self.planned.saturating_sub(self.counted.into_inner()));
+    }
+
+    fn begin(&self) -> Result<()> {
+        if self.watch.is_cancelled() {
+            return Err(Error::InvalidParameter {
+                name: "groups",
+                reason: "the run was cancelled before this group started".into(),
+            });
+        }
+        Ok(())
+    }
+}
+
 /// Ragged per-group lists as CSR: `values[offsets[g]..offsets[g + 1]]` belongs to group `g`.
 pub fn to_csr<T: Copy>(lists: impl IntoIterator<Item = impl AsRef<[T]>>) -> (Vec<usize>, Vec<T>) {
     let mut offsets = vec![0];
@@ -402,6 +476,43 @@ mod tests {
         assert_eq!(index.offsets(), &[0, 2, 3, 5]);
         assert_eq!(index.members(0), &[1, 4]);
         assert_eq!(index.members(2), &[0, 2]);
+    }
+
+    #[test]
+    fn a_group_watch_counts_every_point_once_and_skips_groups_once_cancelled() {
+        // Groups 1 and 2 counted when they end (quietly inside), group 3 by its own kernel;
+        // group 4 fails before counting and is counted when the run closes.
+        let pts: Vec<Point> = (0..10).map(|i| [i as f64, 0.0]).collect();
+        let labels = [1, 1, 2, 2, 2, 3, 3, 4, 4, 4];
+        let watch = Watch::new();
+        let groups = GroupWatch::new(&watch, pts.len());
+        let r = run_grouped(&pts, Weights::Unit, &labels, OnGroupError::Skip, |g| match g.label {
+            1 | 2 => groups.finished(g.points.len(), |quiet| {
+                quiet.plan(100);
+                quiet.advance(100);
+                Ok(g.points.len())
+            }),
+            3 => groups.counting(g.points.len(), |watch| {
+                watch.advance(g.points.len() as u64);
+                Ok(g.points.len())
+            }),
+            _ => groups.counting(g.points.len(), |_| Err(Error::Degenerate { argument: "points", reason: "x".into() })),
+        })
+        .unwrap();
+        groups.close();
+        assert_eq!(watch.progress(), (10, 10));
+        assert_eq!(r.column(0, |&n| n), vec![2, 3, 2, 0]);
+        // Cancelled before the start: no kernel runs, every group has an error, the count closes.
+        let cancelled = Watch::new();
+        cancelled.cancel();
+        let groups = GroupWatch::new(&cancelled, pts.len());
+        let r = run_grouped(&pts, Weights::Unit, &labels, OnGroupError::Skip, |g| {
+            groups.finished(g.points.len(), |_| -> Result<usize> { unreachable!("a cancelled run starts no group") })
+        })
+        .unwrap();
+        groups.close();
+        assert!(r.results.iter().all(|o| o.is_err()));
+        assert_eq!(cancelled.progress(), (10, 10));
     }
 
     #[test]

@@ -87,13 +87,15 @@ pub use multi::{
     EXACT_MAX_POINTS,
 };
 pub use network::{
-    check_steiner_tree, spanning_tree, spanning_tree_watched, spanning_trees, steiner_tree, steiner_trees, EdgeEnd,
-    SpanningTree, SteinerMethod, SteinerOptions, SteinerTree, AUTO_BUDGET, AUTO_EXACT_TERMINALS,
+    check_steiner_tree, spanning_tree, spanning_tree_watched, spanning_trees, spanning_trees_watched, steiner_tree,
+    steiner_trees, EdgeEnd, SpanningTree, SteinerMethod, SteinerOptions, SteinerTree, AUTO_BUDGET,
+    AUTO_EXACT_TERMINALS,
 };
 pub use partition::{
-    allocate, check_triangulation, delaunay, delaunay_grouped, delaunay_watched, nearest_site, nearest_site_grouped,
-    voronoi_cells, voronoi_cells_grouped, voronoi_cells_watched, Allocation, Region, SiteAllocations, SiteIndex,
-    Triangulation, VoronoiCells, STRIPS_FROM,
+    allocate, check_triangulation, delaunay, delaunay_grouped, delaunay_grouped_watched, delaunay_watched,
+    nearest_site, nearest_site_grouped, nearest_site_grouped_watched, nearest_site_watched, voronoi_cells,
+    voronoi_cells_grouped, voronoi_cells_grouped_watched, voronoi_cells_watched, Allocation, Region, SiteAllocations,
+    SiteIndex, Triangulation, VoronoiCells, STRIPS_FROM,
 };
 pub use partition::{power_cells, power_cells_grouped, power_nearest, PowerCells};
 pub use travel::{

@@ -1,7 +1,7 @@
 """Progress through the GeoDataFrame layer and the command line: the Voronoi cells and the
-spanning tree (spherical and planar), the planar Delaunay triangulation, the geodesic
-nearest-site search and the travel-cost searches take ``progress=`` from :mod:`placewise.gis`
-(the triangulation from the command line only) and show their bar from the command line on a
+spanning tree (spherical and planar, single and grouped), the planar Delaunay triangulation,
+the nearest-site search (geodesic and planar) and the travel-cost searches take
+``progress=`` from :mod:`placewise.gis` and show their bar from the command line on a
 terminal.
 
 Each check of a report also checks that watching changed nothing: the frame returned holds
@@ -164,32 +164,28 @@ def test_gis_planar_voronoi_cells_report_progress_and_keep_the_cells() -> None:
     assert list(cells.index) == [f"s{i}" for i in range(len(PLANE))]
 
 
-def test_gis_planar_runs_in_a_working_frame_report_progress_and_answer_alike() -> None:
-    # Points a working frame holds: watched and unwatched runs give the same table.
-    for run in (lambda **kw: gis.voronoi_cells(_frame(LOCAL, "s"), **kw),
-                lambda **kw: gis.spanning_tree(_frame(LOCAL, "p"), **kw).edges):
-        calls, progress = _recorder()
-        watched, plain = run(progress=progress), run()
-        check_counts(calls)
-        assert _planar(watched)
-        pd.testing.assert_frame_equal(pd.DataFrame(watched.drop(columns="geometry")),
-                                      pd.DataFrame(plain.drop(columns="geometry")))
+_ZONE = np.arange(len(LOCAL)) % 2
 
 
 @pytest.mark.parametrize("run", [
-    lambda **kw: gis.spanning_tree(_frame(LOCAL, "p", zone=np.arange(len(LOCAL)) % 2), by="zone", **kw).summary,
-    lambda **kw: gis.voronoi_cells(_frame(LOCAL, "s", zone=np.arange(len(LOCAL)) % 2), by="zone", **kw),
-    lambda **kw: gis.nearest_site(_frame(LOCAL, "h"), _frame(LOCAL[:5], "s"), work_crs="EPSG:32632", **kw).summary,
-], ids=["spanning by", "voronoi by", "nearest work_crs"])
-def test_planar_runs_refuse_progress_and_answer_without_it(run) -> None:  # noqa: ANN001
-    # Grouped planar runs and the planar nearest-site search report nothing: a progress=
-    # there would be silently ignored, so it is refused, naming the argument; without it
-    # the same call answers.
-    for value in (True, print):
-        with pytest.raises(pw.InputError) as caught:
-            run(progress=value)
-        assert caught.value.argument == "progress"
-    assert _planar(run(progress=False))
+    lambda **kw: gis.voronoi_cells(_frame(LOCAL, "s"), **kw),
+    lambda **kw: gis.spanning_tree(_frame(LOCAL, "p"), **kw).edges,
+    lambda **kw: gis.spanning_tree(_frame(LOCAL, "p", zone=_ZONE), by="zone", **kw).edges,
+    lambda **kw: gis.voronoi_cells(_frame(LOCAL, "s", zone=_ZONE), by="zone", **kw),
+    lambda **kw: gis.delaunay(_frame(LOCAL, "p", zone=_ZONE), by="zone", **kw),
+    lambda **kw: gis.nearest_site(_frame(LOCAL, "h"), _frame(LOCAL[:5], "s"), work_crs="EPSG:32632", **kw).demand,
+    lambda **kw: gis.nearest_site(_frame(LOCAL, "h", zone=_ZONE), _frame(LOCAL[:6], "s", zone=np.arange(6) % 2),
+                                  by="zone", work_crs="EPSG:32632", **kw).demand,
+], ids=["voronoi", "spanning", "spanning by", "voronoi by", "delaunay by", "nearest work_crs", "nearest work_crs by"])
+def test_gis_planar_runs_in_a_working_frame_report_progress_and_answer_alike(run) -> None:  # noqa: ANN001
+    # Points a working frame holds, single and grouped, and the planar nearest-site search:
+    # the counts rise to the total, and watched and unwatched runs give the same table.
+    calls, progress = _recorder()
+    watched, plain = run(progress=progress), run()
+    check_counts(calls)
+    assert _planar(watched)
+    pd.testing.assert_frame_equal(pd.DataFrame(watched.drop(columns="geometry")),
+                                  pd.DataFrame(plain.drop(columns="geometry")))
 
 
 # The CRS kinds as the EPSG registry lists them (epsg.org): 4326 (WGS 84) and 4269 (NAD83)
@@ -280,14 +276,13 @@ def test_the_cli_shows_the_bar_on_a_terminal_unless_turned_off(files, capsys, mo
         np.testing.assert_allclose(got["distance_m"], direct.distance, rtol=1e-15)
 
 
-def test_the_cli_draws_no_bar_for_a_planar_nearest_site_run_and_still_answers(files, capsys, monkeypatch) -> None:
-    # Sites in a frame given by --work-crs are served in the plane, which reports no
-    # progress: the command gives the run none even on a terminal (the layer would refuse it).
+def test_the_cli_shows_the_bar_for_a_planar_nearest_site_run(files, capsys, monkeypatch) -> None:
+    # Sites in a frame given by --work-crs are served in the plane, watched as on the
+    # ellipsoid: the command draws the planar search's bar on a terminal.
     out = files / "out.csv"
-    monkeypatch.setattr(sys.stderr, "isatty", lambda: True)
     extra = ["--sites", str(files / "local.csv"), "--work-crs", "EPSG:32632"]
-    assert main(["nearest-site", str(files / "local.csv"), *extra, "-o", str(out)]) == 0
-    assert "nearest_site" not in capsys.readouterr().err
+    _check_bar(["nearest-site", str(files / "local.csv"), *extra, "-o", str(out)], "nearest_site (points)", capsys,
+               monkeypatch)
     got = pd.read_csv(out)
     assert _planar(got)
     # Every point is a site: its own, at no distance.
@@ -316,13 +311,12 @@ def test_the_cli_shows_the_planar_bar_on_a_terminal_unless_turned_off(tmp_path, 
         np.testing.assert_array_equal(got["area_u2"], direct.area)
 
 
-def test_the_cli_draws_no_bar_for_a_grouped_planar_run(tmp_path, capsys, monkeypatch) -> None:
+@pytest.mark.parametrize("command", ["spanning-tree", "delaunay"])
+def test_the_cli_shows_the_bar_for_a_grouped_planar_run(tmp_path, capsys, monkeypatch, command) -> None:
     path, out = tmp_path / "plane.csv", tmp_path / "out.csv"
     pd.DataFrame({"x": PLANE[:, 0], "y": PLANE[:, 1], "zone": np.arange(len(PLANE)) % 3}).to_csv(path, index=False)
-    monkeypatch.setattr(sys.stderr, "isatty", lambda: True)
-    for command in ("spanning-tree", "delaunay"):
-        assert main([command, str(path), "--planar", "--by", "zone", "-o", str(out)]) == 0
-        assert "triangulated" not in capsys.readouterr().err
+    _check_bar([command, str(path), "--planar", "--by", "zone", "-o", str(out)], "of finished groups", capsys,
+               monkeypatch)
 
 
 def test_the_cli_shows_the_travel_cost_bar_on_a_terminal(tmp_path, capsys, monkeypatch) -> None:

@@ -83,13 +83,13 @@ def enclosing_ellipse_grouped(points: ArrayLike, groups: ArrayLike, tol: Any, er
 
 # --- partition (src/py/partition.rs) ---
 def delaunay_single(points: ArrayLike, progress: Any = None) -> _Fields: ...
-def delaunay_grouped(points: ArrayLike, groups: ArrayLike, errors: str) -> _Fields: ...
+def delaunay_grouped(points: ArrayLike, groups: ArrayLike, errors: str, progress: Any = None) -> _Fields: ...
 def voronoi_cells_single(
     sites: ArrayLike, region_vertices: ArrayLike | None, ring_offsets: ArrayLike | None, progress: Any = None
 ) -> _Fields: ...
 def voronoi_cells_grouped(
     sites: ArrayLike, groups: ArrayLike, region_vertices: ArrayLike | None, ring_offsets: ArrayLike | None,
-    errors: str,
+    errors: str, progress: Any = None,
 ) -> _Fields: ...
 def power_cells_single(
     sites: ArrayLike, powers: ArrayLike, region_vertices: ArrayLike | None, ring_offsets: ArrayLike | None
@@ -98,10 +98,12 @@ def power_cells_grouped(
     sites: ArrayLike, powers: ArrayLike, groups: ArrayLike, region_vertices: ArrayLike | None,
     ring_offsets: ArrayLike | None, errors: str,
 ) -> _Fields: ...
-def nearest_site_single(points: ArrayLike, sites: ArrayLike, weights: ArrayLike | None) -> _Fields: ...
+def nearest_site_single(
+    points: ArrayLike, sites: ArrayLike, weights: ArrayLike | None, progress: Any = None
+) -> _Fields: ...
 def nearest_site_grouped(
     points: ArrayLike, sites: ArrayLike, weights: ArrayLike | None, groups: ArrayLike, site_groups: ArrayLike,
-    errors: str,
+    errors: str, progress: Any = None,
 ) -> _Fields: ...
 
 # --- network (src/py/network.rs) ---
@@ -109,7 +111,7 @@ def nearest_site_grouped(
 # junction end in Steiner trees), junction_a/junction_b junction numbers (-1 for a row end).
 def spanning_tree_single(points: ArrayLike, progress: Any = None) -> _Fields: ...  # end_a, end_b, edge_length, length
 def spanning_tree_grouped(
-    points: ArrayLike, groups: ArrayLike, errors: str
+    points: ArrayLike, groups: ArrayLike, errors: str, progress: Any = None
 ) -> _Fields: ...  # labels, problem, edge_offsets, end_a, end_b, edge_length, length
 def steiner_tree_single(
     points: ArrayLike, exact: Any, seed: Any, time_limit: Any, progress: Any

@@ -17,7 +17,7 @@ import numpy as np
 
 from ._core import DegenerateInputError, InputError
 
-__all__ = ["labelled", "plain", "refuse", "refuse_grouped_progress", "restate", "restate_problems"]
+__all__ = ["labelled", "plain", "refuse", "restate", "restate_problems"]
 
 
 def refuse(argument: str, text: str) -> NoReturn:
@@ -25,14 +25,6 @@ def refuse(argument: str, text: str) -> NoReturn:
     error = InputError(text)
     error.argument = argument
     raise error
-
-
-def refuse_grouped_progress(progress: Any, groups: Any) -> None:
-    """Refuse ``progress`` on a grouped run of a kernel that reports it only ungrouped: taken
-    silently, it would let a caller believe the run was watched."""
-    if groups is not None and progress is not None and progress is not False:
-        refuse("progress", "progress= applies to ungrouped runs only: a grouped run reports no progress; drop "
-                           "progress= or the grouping")
 
 
 def plain(value: Any) -> Any:

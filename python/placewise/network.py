@@ -21,7 +21,6 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from . import _core
-from ._errors import refuse_grouped_progress
 from ._results import Grouped, Result, _require_pandas, as_points
 
 __all__ = ["SpanningTree", "SpanningTrees", "SteinerTree", "SteinerTrees", "spanning_tree", "steiner_tree"]
@@ -408,7 +407,7 @@ def spanning_tree(
 @overload
 def spanning_tree(
     points: ArrayLike, *, groups: ArrayLike, errors: Literal["raise", "skip"] = "raise",
-    progress: Literal[False] | None = False,
+    progress: bool | Callable[[int, int], object] | None = False,
 ) -> SpanningTrees: ...
 
 
@@ -432,12 +431,13 @@ def spanning_tree(
         With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
         label); ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
     progress : bool or callable
-        Without ``groups``: True shows a progress bar on stderr; a callable is called as
-        ``progress(done, total)`` from the calling thread: a step per point, counted as the
-        strip holding it is triangulated, then one per Delaunay edge Kruskal's algorithm takes
-        up. Ctrl-C (or an exception from the callable) stops the run within a fraction of a
-        second and raises ``KeyboardInterrupt``; there is no partial tree and no time limit.
-        With ``groups``, an ``InputError`` naming it.
+        True shows a progress bar on stderr; a callable is called as ``progress(done, total)``
+        from the calling thread: a step per point, counted as the strip holding it is
+        triangulated, then one per Delaunay edge Kruskal's algorithm takes up; with ``groups``,
+        the points of finished groups. Ctrl-C (or an exception from the callable) stops the run
+        within a fraction of a second and raises ``KeyboardInterrupt`` (grouped: groups not
+        begun are skipped, and a large group stops as an ungrouped run does); there is no
+        partial tree and no time limit.
 
     Returns
     -------
@@ -482,10 +482,9 @@ def spanning_tree(
     --------
     steiner_tree : shorter networks with added junctions.
     """
-    refuse_grouped_progress(progress, groups)
     if groups is None:
         return SpanningTree(**_core.spanning_tree_single(points, progress), points=as_points(points))
-    fields = _core.spanning_tree_grouped(points, groups, errors)
+    fields = _core.spanning_tree_grouped(points, groups, errors, progress)
     return SpanningTrees._from_core(
         fields, points=as_points(points), row_group=Grouped._row_groups_of(fields["labels"], groups)
     )

@@ -22,7 +22,7 @@ mod nearest;
 mod sphere;
 mod weber;
 
-use crate::batch::{run_grouped, Grouped, OnGroupError};
+use crate::batch::{run_grouped, GroupWatch, Grouped, OnGroupError};
 use crate::cancel::{RunLimits, Watch};
 use crate::error::{Error, Result};
 use crate::geometry::{validate_iteration, validate_weights, Point, Weights};
@@ -170,25 +170,15 @@ pub fn geodesic_weber_points_watched(
     limits: &RunLimits,
 ) -> Result<Grouped<WeberPoint>> {
     check_weber(options)?;
-    let watch = &limits.watch;
-    let inner = RunLimits { time_limit: limits.time_limit, watch: watch.quiet(), since: None };
-    watch.plan(points.len() as u64);
-    run_grouped(points, weights, labels, on_error, |g| {
-        if watch.is_cancelled() {
-            return Err(not_started());
-        }
-        let r = geodesic_weber_point_watched(g.points, g.weights, options, &inner);
-        watch.advance(g.points.len() as u64);
-        r
-    })
-}
-
-/// The outcome of a group not yet started when its grouped run was cancelled: never seen,
-/// since the caller drops a cancelled run's answer ([`Watch::finish`]). Skipping such groups
-/// spares each one the unpolled set-up of its kernel (an O(n) pass or two), which on large
-/// groups would add up to seconds after Ctrl-C.
-fn not_started() -> Error {
-    Error::InvalidParameter { name: "groups", reason: "the run was cancelled before this group started".into() }
+    let groups = GroupWatch::new(&limits.watch, points.len());
+    let outcome = run_grouped(points, weights, labels, on_error, |g| {
+        groups.finished(g.points.len(), |quiet| {
+            let inner = RunLimits { time_limit: limits.time_limit, watch: quiet.clone(), since: None };
+            geodesic_weber_point_watched(g.points, g.weights, options, &inner)
+        })
+    });
+    groups.close();
+    outcome
 }
 
 fn check_center(options: &CenterOptions) -> Result<()> {
@@ -243,18 +233,15 @@ pub fn geodesic_minimax_points(
 ) -> Result<Grouped<GeodesicCenter>> {
     check_center(options)?;
     let inner = group_options(options);
-    let watch = &options.limits.watch;
-    watch.plan(points.len() as u64);
-    run_grouped(points, weights, labels, on_error, |g| {
-        if watch.is_cancelled() {
-            return Err(not_started());
-        }
-        let r = geodesic_minimax_point(g.points, g.weights, &inner);
-        watch.advance(g.points.len() as u64);
-        let mut r = r?;
+    let groups = GroupWatch::new(&options.limits.watch, points.len());
+    let outcome = run_grouped(points, weights, labels, on_error, |g| {
+        // `inner` holds the quiet watch already, with the group's own deadline.
+        let mut r = groups.finished(g.points.len(), |_| geodesic_minimax_point(g.points, g.weights, &inner))?;
         r.support.iter_mut().for_each(|s| *s = g.members[*s]);
         Ok(r)
-    })
+    });
+    groups.close();
+    outcome
 }
 
 /// The smallest geodesic circle covering longitude/latitude points on the WGS84 ellipsoid.
@@ -297,18 +284,14 @@ pub fn geodesic_enclosing_circles(
 ) -> Result<Grouped<GeodesicCircle>> {
     check_center(options)?;
     let inner = group_options(options);
-    let watch = &options.limits.watch;
-    watch.plan(points.len() as u64);
-    run_grouped(points, Weights::Unit, labels, on_error, |g| {
-        if watch.is_cancelled() {
-            return Err(not_started());
-        }
-        let r = geodesic_enclosing_circle(g.points, &inner);
-        watch.advance(g.points.len() as u64);
-        let mut r = r?;
+    let groups = GroupWatch::new(&options.limits.watch, points.len());
+    let outcome = run_grouped(points, Weights::Unit, labels, on_error, |g| {
+        let mut r = groups.finished(g.points.len(), |_| geodesic_enclosing_circle(g.points, &inner))?;
         r.center.support.iter_mut().for_each(|s| *s = g.members[*s]);
         Ok(r)
-    })
+    });
+    groups.close();
+    outcome
 }
 
 /// Vertices of the geodesic circle of `radius` metres about `center`: `vertices` points at
@@ -437,23 +420,11 @@ pub fn geodesic_nearest_site_grouped_watched(
     on_error: OnGroupError,
     watch: &Watch,
 ) -> Result<SiteAllocations> {
-    use std::sync::atomic::{AtomicU64, Ordering};
-    watch.plan(points.len() as u64);
-    // Points of groups whose search ran to its end (each counted by `assign` as it went).
-    let counted = AtomicU64::new(0);
-    let outcome = grouped_by_kernel(points, weights, labels, sites, site_labels, on_error, |p, s, w| {
-        if watch.is_cancelled() {
-            return Err(not_started());
-        }
+    grouped_by_kernel(points, weights, labels, sites, site_labels, on_error, watch, |p, s, w, watch| {
         validate_lonlat("points", p, 1)?;
         validate_lonlat("sites", s, 1)?;
-        let a = nearest::assign(p, s, w, watch);
-        counted.fetch_add(p.len() as u64, Ordering::Relaxed);
-        Ok(a)
-    });
-    // Close the count at the total: the groups that failed (or were skipped) count as done.
-    watch.advance((points.len() as u64).saturating_sub(counted.into_inner()));
-    outcome
+        Ok(nearest::assign(p, s, w, watch))
+    })
 }
 
 #[cfg(test)]

@@ -17,7 +17,7 @@ pub(crate) mod union_find;
 
 pub use check::check_steiner_tree;
 
-use crate::batch::{run_grouped, Grouped, OnGroupError};
+use crate::batch::{run_grouped, GroupWatch, Grouped, OnGroupError};
 use crate::cancel::Watch;
 use crate::error::{Error, Result};
 use crate::geometry::{distance, validate_points, CompensatedSum, Point, Weights, WorkingFrame};
@@ -73,14 +73,33 @@ pub fn spanning_tree_watched(points: &[Point], watch: &Watch) -> Result<Spanning
 /// As [`spanning_tree`], and [`Error::LengthMismatch`] when `labels` does not have one
 /// entry per point; with [`OnGroupError::Skip`] a group's error is its outcome.
 pub fn spanning_trees(points: &[Point], labels: &[i64], on_error: OnGroupError) -> Result<Grouped<SpanningTree>> {
-    run_grouped(points, Weights::Unit, labels, on_error, |group| {
-        let mut tree = spanning_tree(group.points)?;
+    spanning_trees_watched(points, labels, on_error, &Watch::new())
+}
+
+/// [`spanning_trees`] watched: progress counts the points of finished groups, and once
+/// `watch` is cancelled the groups not yet begun are skipped and a running group stops as
+/// [`spanning_tree_watched`] does, with an outcome the caller drops ([`Watch::finish`]).
+/// Watching changes nothing in the trees.
+///
+/// # Errors
+/// As [`spanning_trees`].
+pub fn spanning_trees_watched(
+    points: &[Point],
+    labels: &[i64],
+    on_error: OnGroupError,
+    watch: &Watch,
+) -> Result<Grouped<SpanningTree>> {
+    let groups = GroupWatch::new(watch, points.len());
+    let outcome = run_grouped(points, Weights::Unit, labels, on_error, |group| {
+        let mut tree = groups.finished(group.points.len(), |quiet| spanning_tree_watched(group.points, quiet))?;
         for e in &mut tree.edges {
             // Members ascend (the grouping is stable), so the smaller row stays first.
             *e = [group.members[e[0]], group.members[e[1]]];
         }
         Ok(tree)
-    })
+    });
+    groups.close();
+    outcome
 }
 
 /// How [`steiner_tree`] solves.
@@ -243,13 +262,11 @@ pub fn steiner_trees(
 ) -> Result<Grouped<SteinerTree>> {
     validate_options(options)?;
     // Progress counts the points of finished groups; each group's own solve is quiet.
-    let watch = &options.watch;
-    watch.plan(points.len() as u64);
-    let inner = SteinerOptions { watch: watch.quiet(), ..options.clone() };
-    run_grouped(points, Weights::Unit, labels, on_error, |group| {
-        let solved = steiner_tree(group.points, &inner);
-        watch.advance(group.points.len() as u64);
-        let mut tree = solved?;
+    let groups = GroupWatch::new(&options.watch, points.len());
+    let outcome = run_grouped(points, Weights::Unit, labels, on_error, |group| {
+        let mut tree = groups.finished(group.points.len(), |quiet| {
+            steiner_tree(group.points, &SteinerOptions { watch: quiet.clone(), ..options.clone() })
+        })?;
         for end in tree.edges.iter_mut().flatten() {
             // Members ascend (the grouping is stable), so every edge keeps its smaller end
             // first and the edges stay sorted.
@@ -258,7 +275,9 @@ pub fn steiner_trees(
             }
         }
         Ok(tree)
-    })
+    });
+    groups.close();
+    outcome
 }
 
 fn validate_options(options: &SteinerOptions) -> Result<()> {

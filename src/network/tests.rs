@@ -184,6 +184,26 @@ fn skipped_groups_keep_their_place() {
     assert!(spanning_trees(&pts, &labels, OnGroupError::Raise).is_err());
 }
 
+#[test]
+fn a_watched_grouped_spanning_run_counts_every_point_and_a_cancel_leaves_no_answer() {
+    // Three groups of 70,000 points; each group's tree is the ungrouped call's on its points.
+    let pts = uniform(210_000, 41);
+    let labels: Vec<i64> = (0..pts.len()).map(|i| (i % 3) as i64).collect();
+    let watch = Watch::new();
+    let watched = spanning_trees_watched(&pts, &labels, OnGroupError::Raise, &watch).unwrap();
+    assert_eq!(watch.progress(), (210_000, 210_000));
+    for (label, tree) in watched.labels.iter().zip(&watched.results) {
+        let rows: Vec<usize> = (0..pts.len()).filter(|&i| labels[i] == *label).collect();
+        let own: Vec<Point> = rows.iter().map(|&i| pts[i]).collect();
+        let mut single = spanning_tree(&own).unwrap();
+        single.edges.iter_mut().for_each(|e| *e = [rows[e[0]], rows[e[1]]]);
+        assert_eq!(tree.as_ref().unwrap(), &single);
+    }
+    crate::cancel::testing::cancelled_after(1, |watch| {
+        spanning_trees_watched(&pts, &labels, OnGroupError::Raise, watch).map(drop)
+    });
+}
+
 mod properties {
     use super::*;
     use proptest::prelude::*;

@@ -13,8 +13,9 @@ use rayon::prelude::*;
 use rstar::primitives::GeomWithData;
 use rstar::RTree;
 
-use super::delaunay::delaunay;
-use crate::batch::{run_paired, Grouped, OnGroupError, RowPlaces};
+use super::delaunay::delaunay_watched;
+use crate::batch::{run_paired, GroupWatch, Grouped, OnGroupError, RowPlaces};
+use crate::cancel::{cancelled, Watch};
 use crate::error::Result;
 use crate::geometry::predicates::all_collinear;
 use crate::geometry::{
@@ -61,15 +62,24 @@ struct SiteGraph {
 
 impl SiteGraph {
     /// `None` when the sites do not span an area (fewer than three distinct, or collinear).
-    fn new(sites: &[Point], tree: &RTree<Site>) -> Option<SiteGraph> {
+    /// The triangulation polls `watch` (counting nothing on it) as [`delaunay_watched`]
+    /// does, and so do the rows of the seed grid.
+    ///
+    /// # Errors
+    /// Only [`cancelled`], once `watch` is cancelled.
+    fn new(sites: &[Point], tree: &RTree<Site>, watch: &Watch) -> Result<Option<SiteGraph>> {
         if sites.len() < 3 || all_collinear(sites) {
-            return None;
+            return Ok(None);
         }
-        let t = delaunay(sites).ok()?;
+        let t = match delaunay_watched(sites, &watch.quiet()) {
+            Ok(t) => t,
+            Err(_) if watch.is_cancelled() => return Err(cancelled("sites")),
+            Err(_) => return Ok(None),
+        };
         let k = sites.len();
         let (offsets, adjacent) = t.neighbours();
         // About two grid squares per site, shaped like the sites' box.
-        let b = BoundingBox::of(sites)?;
+        let Some(b) = BoundingBox::of(sites) else { return Ok(None) };
         let (w, h) = (b.max[0] - b.min[0], b.max[1] - b.min[1]);
         let squares = (2 * k) as f64;
         let columns = ((squares * w / h).sqrt().round() as usize).clamp(1, 4 * k);
@@ -77,13 +87,16 @@ impl SiteGraph {
         let step = [w / columns as f64, h / rows as f64];
         let mut seed = Vec::with_capacity(columns * rows);
         for r in 0..rows {
+            if watch.is_cancelled() {
+                return Err(cancelled("sites"));
+            }
             for c in 0..columns {
                 let centre = [b.min[0] + (c as f64 + 0.5) * step[0], b.min[1] + (r as f64 + 0.5) * step[1]];
                 let nearest = tree.nearest_neighbor(centre).expect("non-empty tree");
                 seed.push(t.representative[nearest.data]);
             }
         }
-        Some(SiteGraph {
+        Ok(Some(SiteGraph {
             sites: sites.to_vec(),
             offsets,
             adjacent,
@@ -92,7 +105,7 @@ impl SiteGraph {
             columns,
             rows,
             seed,
-        })
+        }))
     }
 
     #[inline]
@@ -158,10 +171,19 @@ impl SiteIndex {
     /// # Runtime
     /// O(k log k) for k sites.
     pub fn new(sites: &[Point]) -> Result<SiteIndex> {
+        SiteIndex::watched(sites, &Watch::new())
+    }
+
+    /// [`SiteIndex::new`] polling `watch` while the sites' Delaunay graph is built (the
+    /// longest part for many sites), counting nothing on it.
+    ///
+    /// # Errors
+    /// As [`SiteIndex::new`], and [`cancelled`] once `watch` is cancelled.
+    fn watched(sites: &[Point], watch: &Watch) -> Result<SiteIndex> {
         validate_points("sites", sites, 1)?;
         let items = sites.iter().enumerate().map(|(j, &s)| GeomWithData::new(s, j)).collect();
         let tree = RTree::bulk_load(items);
-        let graph = SiteGraph::new(sites, &tree);
+        let graph = SiteGraph::new(sites, &tree, watch)?;
         Ok(SiteIndex { tree, graph, len: sites.len() })
     }
 
@@ -202,10 +224,34 @@ impl SiteIndex {
 /// # Runtime
 /// O(k log k + n log k), the n queries in parallel.
 pub fn nearest_site(points: &[Point], sites: &[Point], weights: Weights<'_>) -> Result<Allocation> {
+    nearest_site_watched(points, sites, weights, &Watch::new())
+}
+
+/// [`nearest_site`] counting points done on `watch` (progress, a chunk of points at a
+/// time), and stopping early once it is cancelled: while the sites are indexed (their
+/// triangulation stops as [`delaunay_watched`] does), and within one chunk of points per
+/// worker thread. A cancelled run has no answer: its outcome is an error that the caller
+/// drops ([`Watch::finish`]). Watching changes nothing in the allocation.
+///
+/// # Errors
+/// As [`nearest_site`].
+pub fn nearest_site_watched(
+    points: &[Point],
+    sites: &[Point],
+    weights: Weights<'_>,
+    watch: &Watch,
+) -> Result<Allocation> {
+    watch.plan(points.len() as u64);
+    allocate_watched(points, sites, weights, watch)
+}
+
+/// [`nearest_site_watched`] with the points already planned on `watch` by the caller (a
+/// grouped run plans all its points at once).
+fn allocate_watched(points: &[Point], sites: &[Point], weights: Weights<'_>, watch: &Watch) -> Result<Allocation> {
     validate_points("points", points, 1)?;
     validate_weights("weights", weights, points.len())?;
-    let index = SiteIndex::new(sites)?;
-    Ok(allocate(points, &index, weights))
+    let index = SiteIndex::watched(sites, watch)?;
+    assign(points, &index, weights, watch)
 }
 
 /// [`nearest_site`] for every group of demand points, each served by the sites of the same
@@ -246,12 +292,36 @@ pub fn nearest_site_grouped(
     site_labels: &[i64],
     on_error: OnGroupError,
 ) -> Result<SiteAllocations> {
-    grouped_by_kernel(points, weights, labels, sites, site_labels, on_error, nearest_site)
+    nearest_site_grouped_watched(points, weights, labels, sites, site_labels, on_error, &Watch::new())
 }
 
-/// The grouped allocation behind [`nearest_site_grouped`] with any per-group `kernel` of
-/// [`nearest_site`]'s form (the geodesic family passes its own): every group's points go to
-/// the sites of their label, and site indices come back as rows of the whole site set.
+/// [`nearest_site_grouped`] watched: progress counts points (all planned at the start, each
+/// group's counted chunk by chunk as in [`nearest_site_watched`], and the points of groups
+/// without an answer at the end). Once `watch` is cancelled, groups not yet begun are
+/// skipped and a running group stops as [`nearest_site_watched`] does; the caller drops a
+/// cancelled run's answer ([`Watch::finish`]).
+///
+/// # Errors
+/// As [`nearest_site_grouped`].
+#[allow(clippy::too_many_arguments)]
+pub fn nearest_site_grouped_watched(
+    points: &[Point],
+    weights: Weights<'_>,
+    labels: &[i64],
+    sites: &[Point],
+    site_labels: &[i64],
+    on_error: OnGroupError,
+    watch: &Watch,
+) -> Result<SiteAllocations> {
+    grouped_by_kernel(points, weights, labels, sites, site_labels, on_error, watch, allocate_watched)
+}
+
+/// The grouped allocation behind [`nearest_site_grouped_watched`] with any per-group `kernel`
+/// of [`allocate_watched`]'s form (the geodesic family passes its own): every group's points
+/// go to the sites of their label, and site indices come back as rows of the whole site set.
+/// The run is watched by a [`GroupWatch`] on `watch`: every point planned at the start, each
+/// group's kernel counting its own points on the watch as it goes.
+#[allow(clippy::too_many_arguments)]
 pub(crate) fn grouped_by_kernel(
     points: &[Point],
     weights: Weights<'_>,
@@ -259,18 +329,22 @@ pub(crate) fn grouped_by_kernel(
     sites: &[Point],
     site_labels: &[i64],
     on_error: OnGroupError,
-    kernel: impl Fn(&[Point], &[Point], Weights<'_>) -> Result<Allocation> + Sync,
+    watch: &Watch,
+    kernel: impl Fn(&[Point], &[Point], Weights<'_>, &Watch) -> Result<Allocation> + Sync,
 ) -> Result<SiteAllocations> {
-    let (grouped, points, sites) =
-        run_paired(points, weights, labels, "sites", sites, site_labels, on_error, |group, served| {
-            if group.points.is_empty() {
-                let k = served.points.len();
-                let (load, count) = (vec![0.0; k], vec![0; k]);
-                return Ok(Allocation { index: vec![], distance: vec![], load, count, cost: 0.0, total_load: 0.0 });
-            }
-            let allocation = kernel(group.points, served.points, group.weights)?;
-            Ok(allocation.in_rows(served.members))
-        })?;
+    let groups = GroupWatch::new(watch, points.len());
+    let outcome = run_paired(points, weights, labels, "sites", sites, site_labels, on_error, |group, served| {
+        if group.points.is_empty() {
+            let k = served.points.len();
+            let (load, count) = (vec![0.0; k], vec![0; k]);
+            return Ok(Allocation { index: vec![], distance: vec![], load, count, cost: 0.0, total_load: 0.0 });
+        }
+        let allocation =
+            groups.counting(group.points.len(), |watch| kernel(group.points, served.points, group.weights, watch))?;
+        Ok(allocation.in_rows(served.members))
+    });
+    groups.close();
+    let (grouped, points, sites) = outcome?;
     Ok(SiteAllocations { grouped, points, sites })
 }
 
@@ -286,18 +360,32 @@ impl Allocation {
 /// [`nearest_site`] with a prebuilt site index and already-validated points and weights
 /// (for solvers that allocate the same demand to changing sites many times).
 pub fn allocate(points: &[Point], sites: &SiteIndex, weights: Weights<'_>) -> Allocation {
+    assign(points, sites, weights, &Watch::new()).expect("a watch nobody holds is never cancelled")
+}
+
+/// [`allocate`] counting points done on `watch` (planned by the caller) a chunk at a time;
+/// once it is cancelled the chunks not yet begun are skipped and the outcome is
+/// [`cancelled`]: an allocation is an answer only when every point is served.
+fn assign(points: &[Point], sites: &SiteIndex, weights: Weights<'_>, watch: &Watch) -> Result<Allocation> {
     let n = points.len();
     let mut index = vec![0usize; n];
     let mut dist = vec![0.0f64; n];
     index.par_chunks_mut(CHUNK).zip(dist.par_chunks_mut(CHUNK)).zip(points.par_chunks(CHUNK)).for_each(
         |((idx, d), pts)| {
+            if watch.is_cancelled() {
+                return;
+            }
             for ((slot, dslot), &p) in idx.iter_mut().zip(d.iter_mut()).zip(pts) {
                 let (j, dj) = sites.nearest(p);
                 *slot = j;
                 *dslot = dj;
             }
+            watch.advance(pts.len() as u64);
         },
     );
+    if watch.is_cancelled() {
+        return Err(cancelled("points"));
+    }
     // Loads and cost are summed over a number of blocks fixed by `n` and `k` alone and merged in
     // block order, so the sums are bit-identical on every run and thread count (a work-
     // stealing reduction would add in a varying order). At most 2^23 partial loads and as many
@@ -330,14 +418,14 @@ pub fn allocate(points: &[Point], sites: &SiteIndex, weights: Weights<'_>) -> Al
         totals.cost.merge(block.cost);
         totals.demand.merge(block.demand);
     }
-    Allocation {
+    Ok(Allocation {
         index,
         distance: dist,
         load: totals.load,
         count: totals.count,
         cost: totals.cost.total(),
         total_load: totals.demand.total(),
-    }
+    })
 }
 
 /// Per-site loads and counts, the cost and the demand of a block of points.
@@ -383,6 +471,47 @@ mod tests {
             assert_eq!(other.cost.to_bits(), one.cost.to_bits());
             assert!(other.load.iter().zip(&one.load).all(|(a, b)| a.to_bits() == b.to_bits()));
         }
+    }
+
+    #[test]
+    fn watched_searches_count_every_point_and_a_cancel_leaves_no_answer() {
+        // 300,000 points and 50,000 sites (their triangulation in one strip), ungrouped and in
+        // three groups. Watching changes nothing in the allocation.
+        let mut random = crate::geometry::random::SplitMix64::new(11);
+        let mut next = || random.next_f64();
+        let pts: Vec<Point> = (0..300_000).map(|_| [next(), next()]).collect();
+        let sites: Vec<Point> = (0..50_000).map(|_| [next(), next()]).collect();
+        let watch = Watch::new();
+        let watched = nearest_site_watched(&pts, &sites, Weights::Unit, &watch).unwrap();
+        assert_eq!(watch.progress(), (300_000, 300_000));
+        assert_eq!(watched, nearest_site(&pts, &sites, Weights::Unit).unwrap());
+        crate::cancel::testing::cancelled_after(1, |watch| nearest_site_watched(&pts, &sites, Weights::Unit, watch));
+        let cancelled = Watch::new();
+        cancelled.cancel();
+        // Cancelled before the start: the sites' triangulation stops, no point is served.
+        assert!(nearest_site_watched(&pts, &sites, Weights::Unit, &cancelled).is_err());
+        assert_eq!(cancelled.progress(), (0, 300_000));
+        let labels: Vec<i64> = (0..pts.len()).map(|i| (i % 3) as i64).collect();
+        let site_labels: Vec<i64> = (0..sites.len()).map(|j| (j % 3) as i64).collect();
+        let watch = Watch::new();
+        let grouped = nearest_site_grouped_watched(
+            &pts,
+            Weights::Unit,
+            &labels,
+            &sites,
+            &site_labels,
+            OnGroupError::Raise,
+            &watch,
+        )
+        .unwrap();
+        assert_eq!(watch.progress(), (300_000, 300_000));
+        let plain =
+            nearest_site_grouped(&pts, Weights::Unit, &labels, &sites, &site_labels, OnGroupError::Raise).unwrap();
+        assert_eq!(grouped.grouped.results, plain.grouped.results);
+        crate::cancel::testing::cancelled_after(1, |watch| {
+            nearest_site_grouped_watched(&pts, Weights::Unit, &labels, &sites, &site_labels, OnGroupError::Raise, watch)
+                .map(drop)
+        });
     }
 
     fn brute_force(p: Point, sites: &[Point]) -> (usize, f64) {

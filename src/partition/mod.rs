@@ -17,12 +17,20 @@ mod power;
 mod voronoi;
 
 pub(crate) use allocate::grouped_by_kernel;
-pub use allocate::{allocate, nearest_site, nearest_site_grouped, Allocation, SiteAllocations, SiteIndex};
-pub use delaunay::{check_triangulation, delaunay, delaunay_grouped, delaunay_watched, Triangulation, STRIPS_FROM};
+pub use allocate::{
+    allocate, nearest_site, nearest_site_grouped, nearest_site_grouped_watched, nearest_site_watched, Allocation,
+    SiteAllocations, SiteIndex,
+};
+pub use delaunay::{
+    check_triangulation, delaunay, delaunay_grouped, delaunay_grouped_watched, delaunay_watched, Triangulation,
+    STRIPS_FROM,
+};
 pub(crate) use delaunay::{hilbert_index, triangulated_positions, HILBERT_SIDE};
 pub use power::{power_cells, power_cells_grouped, power_nearest, PowerCells};
 pub(crate) use voronoi::default_rings;
-pub use voronoi::{voronoi_cells, voronoi_cells_grouped, voronoi_cells_watched, Region, VoronoiCells};
+pub use voronoi::{
+    voronoi_cells, voronoi_cells_grouped, voronoi_cells_grouped_watched, voronoi_cells_watched, Region, VoronoiCells,
+};
 
 /// Helpers shared by the tests of this family.
 #[cfg(test)]

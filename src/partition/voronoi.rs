@@ -24,7 +24,7 @@ use rstar::primitives::{GeomWithData, Line};
 use rstar::{RTree, AABB};
 
 use super::delaunay::{delaunay_watched, neighbour_lists};
-use crate::batch::{run_grouped_placed, Grouped, OnGroupError, RowPlaces};
+use crate::batch::{run_grouped_placed, GroupWatch, Grouped, OnGroupError, RowPlaces};
 use crate::cancel::{cancelled, each_watched, Watch};
 use crate::error::{Error, Result};
 use crate::geometry::predicates::{all_collinear, orient2d};
@@ -559,10 +559,30 @@ pub fn voronoi_cells_grouped(
     region: Option<Region<'_>>,
     on_error: OnGroupError,
 ) -> Result<(Grouped<VoronoiCells>, RowPlaces)> {
+    voronoi_cells_grouped_watched(sites, labels, region, on_error, &Watch::new())
+}
+
+/// [`voronoi_cells_grouped`] watched: progress counts the sites of finished groups, and once
+/// `watch` is cancelled the groups not yet begun are skipped and a running group stops as
+/// [`voronoi_cells_watched`] does, with an outcome the caller drops ([`Watch::finish`]).
+/// Watching changes nothing in the cells.
+///
+/// # Errors
+/// As [`voronoi_cells_grouped`].
+pub fn voronoi_cells_grouped_watched(
+    sites: &[Point],
+    labels: &[i64],
+    region: Option<Region<'_>>,
+    on_error: OnGroupError,
+    watch: &Watch,
+) -> Result<(Grouped<VoronoiCells>, RowPlaces)> {
     let rings = region.map(region_rings).transpose()?;
-    run_grouped_placed("sites", sites, Weights::Unit, labels, on_error, |group| {
-        cells_within(group.points, rings.as_deref(), &Watch::new())
-    })
+    let groups = GroupWatch::new(watch, sites.len());
+    let outcome = run_grouped_placed("sites", sites, Weights::Unit, labels, on_error, |group| {
+        groups.finished(group.points.len(), |quiet| cells_within(group.points, rings.as_deref(), quiet))
+    });
+    groups.close();
+    outcome
 }
 
 /// The cells of `sites` within the region `rings` (checked by [`region_rings`]), or within
@@ -658,11 +678,20 @@ pub(super) fn clipped_cells(
                 .into_par_iter()
                 .map(|cell| if watch.is_cancelled() { Vec::new() } else { region.clip(cell) })
                 .collect();
-            stop()?;
-            for ring in clipped.iter_mut().flatten().flatten() {
-                welder.ring(ring);
+            // The second weld and the repair pass over every cell as the first weld does, so
+            // they look at the watch as it does (a cancelled run's cells are never read).
+            for block in clipped.chunks_mut(CELL_BLOCK) {
+                stop()?;
+                for ring in block.iter_mut().flatten().flatten() {
+                    welder.ring(ring);
+                }
             }
-            clipped.into_par_iter().map(repair).collect()
+            let repaired = clipped
+                .into_par_iter()
+                .map(|cell| if watch.is_cancelled() { Vec::new() } else { repair(cell) })
+                .collect();
+            stop()?;
+            repaired
         }
     };
 
@@ -722,6 +751,24 @@ mod tests {
                 crate::cancel::testing::cancelled_after(mark, |watch| voronoi_cells_watched(&sites, region, watch));
             }
         }
+    }
+
+    #[test]
+    fn a_watched_grouped_run_counts_every_site_and_a_cancel_leaves_no_answer() {
+        // Three groups of 50,000 sites cut by an L-shaped region; watching changes nothing.
+        let sites = lcg_cloud(150_000, 37, [0.0, 0.0], 1.0);
+        let labels: Vec<i64> = (0..sites.len()).map(|i| (i % 3) as i64).collect();
+        let (vertices, offsets) =
+            (vec![[0.0, 0.0], [1.0, 0.0], [1.0, 0.5], [0.5, 0.5], [0.5, 1.0], [0.0, 1.0]], [0, 6]);
+        let region = Some(Region { vertices: &vertices, ring_offsets: &offsets });
+        let watch = Watch::new();
+        let (watched, _) = voronoi_cells_grouped_watched(&sites, &labels, region, OnGroupError::Raise, &watch).unwrap();
+        assert_eq!(watch.progress(), (150_000, 150_000));
+        let (plain, _) = voronoi_cells_grouped(&sites, &labels, region, OnGroupError::Raise).unwrap();
+        assert_eq!(watched.results, plain.results);
+        crate::cancel::testing::cancelled_after(1, |watch| {
+            voronoi_cells_grouped_watched(&sites, &labels, region, OnGroupError::Raise, watch).map(drop)
+        });
     }
 
     fn ring_of(cells: &VoronoiCells, i: usize) -> Vec<&[Point]> {

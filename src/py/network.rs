@@ -7,12 +7,12 @@ use pyo3::types::{PyBool, PyDict, PyString};
 use super::convert::{as_point_slice, index_values, on_error_arg, optional_float_arg, seed_arg, Cloud};
 use super::errors::argument_error;
 use super::fields::Fields;
+use super::points_arg;
 use super::runtime::{progress_arg, run_on_points, run_watched};
-use super::{points_arg, run_detached};
 use crate::cancel::Watch;
 use crate::geometry::Point;
 use crate::network::{
-    spanning_tree_watched, spanning_trees, steiner_tree, steiner_trees, EdgeEnd, SteinerMethod, SteinerOptions,
+    spanning_tree_watched, spanning_trees_watched, steiner_tree, steiner_trees, EdgeEnd, SteinerMethod, SteinerOptions,
 };
 
 fn point_array<'py>(py: Python<'py>, points: &[Point]) -> PyResult<Bound<'py, PyArray2<f64>>> {
@@ -103,17 +103,20 @@ fn spanning_tree_single<'py>(
 /// Fields: labels, problem (G,), edge_offsets (G + 1,), end_a, end_b (E,) input rows of the
 /// whole cloud, edge_length (E,), length (G,). A skipped group has no edges and NaN length.
 #[pyfunction]
-#[pyo3(signature = (points, groups, errors))]
+#[pyo3(signature = (points, groups, errors, progress=None))]
 fn spanning_tree_grouped<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     groups: &Bound<'py, PyAny>,
     errors: &str,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
+    let mut progress = progress_arg(progress, "spanning_tree (points of finished groups)")?;
     let on_error = on_error_arg(errors)?;
     let cloud = Cloud::read(points, None, Some(groups))?;
     let (pts, l) = (cloud.points(), cloud.labels()?);
-    let g = run_detached(py, || spanning_trees(pts, l, on_error))?;
+    let watch = Watch::new();
+    let g = run_watched(py, &watch, &mut progress, || spanning_trees_watched(pts, l, on_error, &watch))?;
     let (offsets, edges) = g.csr(|t| t.edges.as_slice());
     let (_, edge_length) = g.csr(|t| t.edge_length.as_slice());
     let (end_a, end_b) = spanning_ends(&edges);

@@ -12,13 +12,15 @@ use rayon::prelude::*;
 
 use super::convert::{as_point_slice, index_rows, index_values, on_error_arg, region_arg, Cloud};
 use super::fields::Fields;
-use super::runtime::run_on_points;
+use super::runtime::{progress_arg, run_on_points, run_watched};
 use super::{labels_arg, points_arg, run_detached, weights_arg};
 use crate::batch::RowPlaces;
+use crate::cancel::Watch;
 use crate::geometry::{Point, Weights};
 use crate::partition::{
-    delaunay_grouped as delaunay_groups, delaunay_watched, nearest_site, nearest_site_grouped as nearest_site_groups,
-    voronoi_cells_grouped as voronoi_cells_groups, voronoi_cells_watched, Region, Triangulation, VoronoiCells,
+    delaunay_grouped_watched as delaunay_groups, delaunay_watched, nearest_site_grouped_watched as nearest_site_groups,
+    nearest_site_watched, voronoi_cells_grouped_watched as voronoi_cells_groups, voronoi_cells_watched, Region,
+    Triangulation, VoronoiCells,
 };
 use crate::partition::{power_cells, power_cells_grouped as power_cells_groups, PowerCells};
 
@@ -79,17 +81,20 @@ fn delaunay_single<'py>(
 /// `corners` (-1 on an outline), area (M,), outline (H,) with outline_offsets (G + 1,),
 /// representative (n,) (-1 for rows of a skipped group), row_group (n,).
 #[pyfunction]
-#[pyo3(signature = (points, groups, errors))]
+#[pyo3(signature = (points, groups, errors, progress=None))]
 fn delaunay_grouped<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     groups: &Bound<'py, PyAny>,
     errors: &str,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
+    let mut progress = progress_arg(progress, "delaunay (points of finished groups)")?;
     let on_error = on_error_arg(errors)?;
     let cloud = Cloud::read(points, None, Some(groups))?;
     let (pts, l) = (cloud.points(), cloud.labels()?);
-    let (g, places) = run_detached(py, || delaunay_groups(pts, l, on_error))?;
+    let watch = Watch::new();
+    let (g, places) = run_watched(py, &watch, &mut progress, || delaunay_groups(pts, l, on_error, &watch))?;
     let (triangle_offsets, corners) = g.csr(|t| t.triangles.as_slice());
     let (edge_offsets, edges) = g.csr(|t| t.edges.as_slice());
     let (outline_offsets, outline) = g.csr(|t| t.hull.as_slice());
@@ -149,7 +154,7 @@ fn voronoi_cells_single<'py>(
 /// vertices (V, 2), offsets (k + 1,), parts (R + 1,), area (k,), exterior (R,) (a skipped group's sites have
 /// empty cells and NaN area), site_group (k,).
 #[pyfunction]
-#[pyo3(signature = (sites, groups, region_vertices, ring_offsets, errors))]
+#[pyo3(signature = (sites, groups, region_vertices, ring_offsets, errors, progress=None))]
 fn voronoi_cells_grouped<'py>(
     py: Python<'py>,
     sites: &Bound<'py, PyAny>,
@@ -157,7 +162,9 @@ fn voronoi_cells_grouped<'py>(
     region_vertices: Option<&Bound<'py, PyAny>>,
     ring_offsets: Option<&Bound<'py, PyAny>>,
     errors: &str,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
+    let mut progress = progress_arg(progress, "voronoi_cells (sites of finished groups)")?;
     let on_error = on_error_arg(errors)?;
     let sites = points_arg(sites, "sites")?;
     let labels = labels_arg(groups, "groups")?;
@@ -165,11 +172,9 @@ fn voronoi_cells_grouped<'py>(
     let l = labels.as_slice()?;
     let region = region_arg(region_vertices, ring_offsets)?;
     let region = region.as_ref().map(|(v, o)| Region { vertices: as_point_slice(v), ring_offsets: o });
-    let (g, places, cells) = run_detached(py, || {
-        let (g, places) = voronoi_cells_groups(s, l, region, on_error)?;
-        let cells = VoronoiCells::by_row(&g, &places);
-        Ok((g, places, cells))
-    })?;
+    let watch = Watch::new();
+    let (g, places) = run_watched(py, &watch, &mut progress, || voronoi_cells_groups(s, l, region, on_error, &watch))?;
+    let cells = run_detached(py, || Ok(VoronoiCells::by_row(&g, &places)))?;
     let fields = Fields::new(py).grouped(&g)?;
     Ok(cell_fields(py, fields, cells)?.put("site_group", PyArray1::from_vec(py, positions(&places)))?.done())
 }
@@ -247,19 +252,24 @@ fn power_cells_grouped<'py>(
 
 /// Fields: assignment (n,), distance (n,), load (k,), count (k,), cost, total_load.
 #[pyfunction]
-#[pyo3(signature = (points, sites, weights))]
+#[pyo3(signature = (points, sites, weights, progress=None))]
 fn nearest_site_single<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     sites: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
+    let mut progress = progress_arg(progress, "nearest_site (points)")?;
     let points = points_arg(points, "points")?;
     let sites = points_arg(sites, "sites")?;
     let weights = weights_arg(weights, "weights")?;
     let (p, s) = (as_point_slice(&points), as_point_slice(&sites));
     let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
-    let a = run_detached(py, || nearest_site(p, s, Weights::from_option(w)))?;
+    // Watched: Ctrl-C stops the sites' indexing, or the search within one chunk of points
+    // per worker thread.
+    let watch = Watch::new();
+    let a = run_watched(py, &watch, &mut progress, || nearest_site_watched(p, s, Weights::from_option(w), &watch))?;
     Ok(Fields::new(py)
         .put("assignment", PyArray1::from_vec(py, index_values(a.index)))?
         .put("distance", PyArray1::from_vec(py, a.distance))?
@@ -275,7 +285,7 @@ fn nearest_site_single<'py>(
 /// (NaN in a skipped group), count (k,) (0 there), site_group (k,); per group cost,
 /// total_load (G,) (NaN when skipped), point_count, site_count (G,).
 #[pyfunction]
-#[pyo3(signature = (points, sites, weights, groups, site_groups, errors))]
+#[pyo3(signature = (points, sites, weights, groups, site_groups, errors, progress=None))]
 #[allow(clippy::too_many_arguments)]
 fn nearest_site_grouped<'py>(
     py: Python<'py>,
@@ -285,7 +295,9 @@ fn nearest_site_grouped<'py>(
     groups: &Bound<'py, PyAny>,
     site_groups: &Bound<'py, PyAny>,
     errors: &str,
+    progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
+    let mut progress = progress_arg(progress, "nearest_site (points)")?;
     let on_error = on_error_arg(errors)?;
     let points = points_arg(points, "points")?;
     let sites = points_arg(sites, "sites")?;
@@ -295,7 +307,12 @@ fn nearest_site_grouped<'py>(
     let (p, s) = (as_point_slice(&points), as_point_slice(&sites));
     let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
     let (l, sl) = (labels.as_slice()?, site_labels.as_slice()?);
-    let r = run_detached(py, || nearest_site_groups(p, Weights::from_option(w), l, s, sl, on_error))?;
+    // Watched: Ctrl-C skips the groups not begun and stops the running ones as the
+    // ungrouped search stops.
+    let watch = Watch::new();
+    let r = run_watched(py, &watch, &mut progress, || {
+        nearest_site_groups(p, Weights::from_option(w), l, s, sl, on_error, &watch)
+    })?;
     let g = &r.grouped;
     let assignment = r.points.by_row(g, -1i64, |a, k| a.index[k] as i64);
     let distance = r.points.by_row(g, f64::NAN, |a, k| a.distance[k]);

@@ -29,19 +29,12 @@ from ._io import (
 
 
 def _site_watch(args: argparse.Namespace, frame: Any, place: dict[str, Any]) -> dict[str, Any]:
-    """The progress bar (see ``_progress``) for a single-site or nearest-site run solved on
-    the ellipsoid (``frame``: the points, or the sites); a planar run is exact and quick and
-    refuses one."""
+    """The progress bar (see ``_progress``) for a single-site run solved on the ellipsoid
+    (``frame``: the points); a planar run is exact and quick and refuses one."""
     from ..gis.sites import watched_on_earth
 
     on_earth = watched_on_earth(frame, work_crs=args.work_crs, region=place.get("region")) and not args.planar
     return _progress(args) if on_earth else {}
-
-
-def _ungrouped_watch(args: argparse.Namespace) -> dict[str, Any]:
-    """The progress bar (see ``_progress``) for a kernel that reports progress on an
-    ungrouped run, planar or spherical; a run with ``--by`` reports none and refuses one."""
-    return _progress(args) if getattr(args, "by", None) is None else {}
 
 
 def _cmd_weber_point(args: argparse.Namespace) -> None:
@@ -98,7 +91,7 @@ def _cmd_voronoi_cells(args: argparse.Namespace) -> None:
     region = None if args.region is None else read_points(args.region, args, "the region", (), main=False)
     demand = None if args.demand is None else read_points(args.demand, args, "the demand", ("weight",), main=False)
     out = gis.voronoi_cells(sites, region, demand=demand, weight=args.weight, **_common(args),
-                            **_ungrouped_watch(args))
+                            **_progress(args))
     write_frame(out, args.output, args, "cells")
     area, unit = _measure(out, "area")
     _note(args, f"{len(out)} cell(s); total area {out[area].sum():.6g} {_unit_text(unit[:-1])} squared")
@@ -108,7 +101,7 @@ def _cmd_delaunay(args: argparse.Namespace) -> None:
     from .. import gis
 
     out = gis.delaunay(read_points(args.input, args, flags=("by",)), args.by, errors=args.errors, **_common(args),
-                       **_ungrouped_watch(args))
+                       **_progress(args))
     write_frame(out, args.output, args, "triangles")
     area, unit = _measure(out, "area")
     _note(args, f"{_solved(out)} triangle(s); total area {out[area].sum():.6g} {_unit_text(unit[:-1])} squared"
@@ -120,7 +113,7 @@ def _cmd_nearest_site(args: argparse.Namespace) -> None:
 
     demand = read_points(args.input, args, "the demand")
     sites = read_points(args.sites, args, "the sites", (), main=False)
-    plan = gis.nearest_site(demand, sites, args.weight, **_common(args), **_site_watch(args, sites, {}))
+    plan = gis.nearest_site(demand, sites, args.weight, **_common(args), **_progress(args))
     write_frame(plan.demand, args.output, args, "assignment")
     if args.site_loads is not None:
         write_frame(plan.sites, args.site_loads, args, "site_loads")
@@ -148,7 +141,7 @@ def _network_note(args: argparse.Namespace, net: Any) -> None:
 def _cmd_spanning_tree(args: argparse.Namespace) -> None:
     from .. import gis
 
-    net = gis.spanning_tree(read_points(args.input, args), **_by(args), **_common(args), **_ungrouped_watch(args))
+    net = gis.spanning_tree(read_points(args.input, args), **_by(args), **_common(args), **_progress(args))
     write_frame(net.edges, args.output, args, "edges")
     _write_summary(net.summary, args)
     _network_note(args, net)

@@ -100,9 +100,9 @@ def delaunay(
     by : str, optional
         A column whose values split the rows into groups; one triangulation each.
     progress : bool or callable
-        Without ``by``: a progress bar on stderr (True) or a callable ``(done, total)``, on
-        the sphere and in the plane alike; Ctrl-C stops the run either way. With ``by``, an
-        ``InputError`` naming it: a grouped run reports no progress.
+        A progress bar on stderr (True) or a callable ``(done, total)``, on the sphere and in
+        the plane alike (with ``by``: the points of finished groups); Ctrl-C stops the run
+        either way.
 
     Returns
     -------
@@ -157,14 +157,13 @@ def voronoi_cells(
     weight : str or array_like, optional
         Demand weight column (or values); default 1 per demand row.
     progress : bool or callable
-        Without ``by``: a progress bar on stderr (True) or a callable ``(done, total)`` for
-        the cells, on the sphere and in the plane alike. On the sphere (see below) with
+        A progress bar on stderr (True) or a callable ``(done, total)`` for the cells (with
+        ``by``: the sites of finished groups), on the sphere and in the plane alike. With
         ``demand``, the demand rows served follow as one count with the cells: a callable
         sees the cells' steps, then one step per demand row added on (while the cells are
         made, the total holds them and one step for the demand; it grows by the demand rows
         when their search starts, and ``done`` reaches ``total`` only at the end); True draws
-        a bar for each. Ctrl-C stops the run either way. With ``by``, an ``InputError``
-        naming it: a grouped run reports no progress.
+        a bar for each. Ctrl-C stops the run either way.
 
     Geographic sites that no working frame holds within ``max_scale_error`` (global, polar,
     wide across the antimeridian; without ``by`` and ``work_crs``) get spherical Voronoi
@@ -206,7 +205,8 @@ def voronoi_cells(
     groups = groups_of(pf.frame, by, "sites")
     rows = {"sites": pf.rows}
     grouped = {} if groups is None else {"errors": errors}
-    result = call(_pw.voronoi_cells, pf.xy, geom, groups=groups, rows=rows, progress=progress, **grouped)
+    stages = Stages(progress, 1 if demand is None else 2)
+    result = call(_pw.voronoi_cells, pf.xy, geom, groups=groups, rows=rows, progress=stages.next(), **grouped)
     # The kernel's rows are the sites in input order: one row per site, with its own columns.
     cells = framed(result, pf, groups, rows)
     out = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=cells.geometry.values,
@@ -215,7 +215,9 @@ def voronoi_cells(
         if name.startswith("area_") or name == "problem":
             out[name] = cells[name].to_numpy()
     if demand is not None:
-        served = nearest_site(demand, sites, weight, by=by, planar=planar, centroids=centroids, errors=errors, **model)
+        served = nearest_site(demand, sites, weight, by=by, planar=planar, centroids=centroids, errors=errors,
+                              progress=stages.next(), **model)
+        stages.close()
         out["load"] = served.sites["load"].to_numpy()
         out["points"] = served.sites["points"].to_numpy()
     return out

@@ -78,9 +78,9 @@ def spanning_tree(
     Parameters
     ----------
     progress : bool or callable
-        Without ``by``: a progress bar on stderr (True) or a callable ``(done, total)``, on
-        the sphere and in the plane alike; Ctrl-C stops the run either way. With ``by``, an
-        ``InputError`` naming it: a grouped run reports no progress.
+        A progress bar on stderr (True) or a callable ``(done, total)``, on the sphere and in
+        the plane alike (with ``by``: the points of finished groups); Ctrl-C stops the run
+        either way.
 
     Returns
     -------

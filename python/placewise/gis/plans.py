@@ -19,7 +19,6 @@ from ._frames import (
     call,
     groups_of,
     in_user_terms,
-    on_earth_only,
     prepare,
     shared_groups,
     weights,
@@ -91,10 +90,9 @@ def nearest_site(
     by : str, optional
         A column of both frames: each demand group is served only by the sites of its group.
     progress : bool or callable
-        On the ellipsoid: a progress bar on stderr (True) or a callable ``(done, total)``
-        counting demand rows; Ctrl-C stops the run within a fraction of a second either way.
-        On a planar run (a projected CRS, ``work_crs`` or ``planar``), which is exact and
-        ends in well under a second, an ``InputError`` naming it.
+        A progress bar on stderr (True) or a callable ``(done, total)`` counting demand rows
+        (of every group, with ``by``), on the ellipsoid and in the plane alike; Ctrl-C stops
+        the run within a fraction of a second either way.
 
     Returns
     -------
@@ -122,8 +120,7 @@ def nearest_site(
     sf = prepare(sites, "sites", planar=planar, centroids=centroids, ellipsoid=True, **model)
     df = prepare(demand, "demand", planar=planar, centroids=centroids, work=ELLIPSOID if sf.ellipsoid else sf.work,
                  **model)
-    kernel = _geodesic.nearest_site if sf.ellipsoid else on_earth_only(
-        _pw.nearest_site, "on the ellipsoid only (geographic sites without work_crs)")
+    kernel = _geodesic.nearest_site if sf.ellipsoid else _pw.nearest_site
     rows = {"points": df.rows, "weights": df.rows, "sites": sf.rows}
     w = weights(df, weight, "demand")
     groups = None

@@ -61,8 +61,7 @@ def _geodesic_circle(points: Any, *, seed: Any = None, **options: Any) -> Any:
 def watched_on_earth(frame: Any, *, work_crs: Any = None, region: Any = None) -> bool:
     """True when :func:`minimax_point`, :func:`enclosing_circle` or :func:`weber_point` would
     solve ``frame`` on the ellipsoid (a geographic CRS, no ``work_crs``, no ``region``): the
-    runs that take ``time_limit`` and ``progress`` (the command line shows its bar for those).
-    The same holds for the sites of :func:`placewise.gis.nearest_site` (no ``region``)."""
+    runs that take ``time_limit`` and ``progress`` (the command line shows its bar for those)."""
     return region is None and goes_on_ellipsoid(getattr(frame, "crs", None), work_crs)
 
 

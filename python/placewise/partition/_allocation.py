@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import dataclasses
+from collections.abc import Callable
 from typing import Any, Literal, overload
 
 import numpy as np
@@ -200,6 +201,7 @@ def nearest_site(
     groups: None = None,
     site_groups: None = None,
     errors: Literal["raise", "skip"] = "raise",
+    progress: bool | Callable[[int, int], object] | None = False,
 ) -> Allocation: ...
 
 
@@ -212,6 +214,7 @@ def nearest_site(
     groups: ArrayLike,
     site_groups: ArrayLike,
     errors: Literal["raise", "skip"] = "raise",
+    progress: bool | Callable[[int, int], object] | None = False,
 ) -> Allocations: ...
 
 
@@ -223,6 +226,7 @@ def nearest_site(
     groups: ArrayLike | None = None,
     site_groups: ArrayLike | None = None,
     errors: Literal["raise", "skip"] = "raise",
+    progress: bool | Callable[[int, int], object] | None = False,
 ) -> Allocation | Allocations:
     """Allocate every demand point to its nearest site.
 
@@ -246,6 +250,14 @@ def nearest_site(
     errors : {"raise", "skip"}
         With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
         label); ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
+    progress : bool or callable
+        True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
+        callable is called as ``progress(done, total)`` from the calling thread, counting
+        points (of every group, with ``groups``). Ctrl-C (or an exception from the callable)
+        stops the run within a fraction of a second and raises ``KeyboardInterrupt``: while
+        the sites are indexed, or within one chunk of points per worker thread (grouped:
+        groups not begun are skipped). The answer exists only once every point is allocated,
+        so there is no time limit.
 
     Returns
     -------
@@ -289,7 +301,7 @@ def nearest_site(
     if groups is None or site_groups is None:
         if groups is not None or site_groups is not None:
             raise InputError("groups and site_groups must be given together (labels of the points and of the sites)")
-        return Allocation(**_core.nearest_site_single(points, sites, weights), points=as_points(points),
+        return Allocation(**_core.nearest_site_single(points, sites, weights, progress), points=as_points(points),
                           sites=as_points(sites))
-    fields = _core.nearest_site_grouped(points, sites, weights, groups, site_groups, errors)
+    fields = _core.nearest_site_grouped(points, sites, weights, groups, site_groups, errors, progress)
     return Allocations._from_core(fields, points=as_points(points), sites=as_points(sites))

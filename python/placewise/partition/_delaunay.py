@@ -10,7 +10,6 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .. import _core
-from .._errors import refuse_grouped_progress
 from .._results import Grouped, Result, as_points
 from ._rows import _group_slice, _members
 
@@ -169,7 +168,7 @@ def delaunay(points: ArrayLike, *, groups: None = None, errors: Literal["raise",
 
 @overload
 def delaunay(points: ArrayLike, *, groups: ArrayLike, errors: Literal["raise", "skip"] = "raise",
-             progress: Literal[False] | None = False) -> DelaunayMeshes: ...
+             progress: bool | Callable[[int, int], object] | None = False) -> DelaunayMeshes: ...
 
 
 def delaunay(
@@ -196,12 +195,13 @@ def delaunay(
         With ``groups``: ``"raise"`` fails on the first group without a triangulation
         (smallest label); ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
     progress : bool or callable
-        Without ``groups``: True shows a progress bar on stderr (tqdm's when installed, else a
-        plain line); a callable is called as ``progress(done, total)`` from the calling
-        thread: a step per point, counted as the strip holding it is triangulated. Ctrl-C (or
-        an exception from the callable) stops the run within a fraction of a second and raises
-        ``KeyboardInterrupt``. A triangulation exists only once it is whole, so there is no
-        partial answer and no time limit. With ``groups``, an ``InputError`` naming it.
+        True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
+        callable is called as ``progress(done, total)`` from the calling thread: a step per
+        point, counted as the strip holding it is triangulated, or with ``groups`` the points
+        of finished groups. Ctrl-C (or an exception from the callable) stops the run within a
+        fraction of a second and raises ``KeyboardInterrupt`` (grouped: groups not begun are
+        skipped, and a large group stops as an ungrouped run does). A triangulation exists
+        only once it is whole, so there is no partial answer and no time limit.
 
     Returns
     -------
@@ -246,7 +246,7 @@ def delaunay(
     --------
     voronoi_cells : the dual subdivision, clipped to a region.
     """
-    refuse_grouped_progress(progress, groups)
     if groups is None:
         return DelaunayMesh(**_core.delaunay_single(points, progress), points=as_points(points))
-    return DelaunayMeshes._from_core(_core.delaunay_grouped(points, groups, errors), points=as_points(points))
+    return DelaunayMeshes._from_core(_core.delaunay_grouped(points, groups, errors, progress),
+                                     points=as_points(points))

@@ -10,7 +10,6 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .. import _core
-from .._errors import refuse_grouped_progress
 from .._region import region_rings
 from .._results import Grouped, Result, as_points
 from ._rows import _cell_rings_of, _members
@@ -227,7 +226,7 @@ def voronoi_cells(
 @overload
 def voronoi_cells(
     sites: ArrayLike, region: Any = None, *, groups: ArrayLike, errors: Literal["raise", "skip"] = "raise",
-    progress: Literal[False] | None = False,
+    progress: bool | Callable[[int, int], object] | None = False,
 ) -> VoronoiCellSets: ...
 
 
@@ -264,12 +263,13 @@ def voronoi_cells(
         With ``groups``: ``"raise"`` fails on the first group without cells (smallest label);
         ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
     progress : bool or callable
-        Without ``groups``: True shows a progress bar on stderr (tqdm's when installed, else a
-        plain line); a callable is called as ``progress(done, total)`` from the calling
-        thread: ``3n`` steps (a site triangulated, its cell cut, its cell written). Ctrl-C (or
-        an exception from the callable) stops the run within a fraction of a second and raises
-        ``KeyboardInterrupt``. Cells are only an answer when all are done, so there is no
-        partial answer and no time limit. With ``groups``, an ``InputError`` naming it.
+        True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
+        callable is called as ``progress(done, total)`` from the calling thread: ``3n`` steps
+        (a site triangulated, its cell cut, its cell written), or with ``groups`` the sites of
+        finished groups. Ctrl-C (or an exception from the callable) stops the run within a
+        fraction of a second and raises ``KeyboardInterrupt`` (grouped: groups not begun are
+        skipped, and a large group stops as an ungrouped run does). Cells are only an answer
+        when all are done, so there is no partial answer and no time limit.
 
     Returns
     -------
@@ -315,9 +315,8 @@ def voronoi_cells(
     nearest_site : which site serves each demand point.
     delaunay : the triangulation dual to the cells.
     """
-    refuse_grouped_progress(progress, groups)
     vertices, offsets = region_rings(region)
     if groups is None:
         return VoronoiCells(**_core.voronoi_cells_single(sites, vertices, offsets, progress), sites=as_points(sites))
-    fields = _core.voronoi_cells_grouped(sites, groups, vertices, offsets, errors)
+    fields = _core.voronoi_cells_grouped(sites, groups, vertices, offsets, errors, progress)
     return VoronoiCellSets._from_core(fields, sites=as_points(sites))

@@ -8,11 +8,17 @@
 use spade::{DelaunayTriangulation, Point2, Triangulation as SpadeTriangulation};
 
 use super::adapter::Vertex;
+use crate::cancel::Watch;
 use crate::geometry::random::SplitMix64;
 
+/// Insertions between two looks at the watch (about a millisecond of work).
+const INSERT_BLOCK: usize = 1 << 12;
+
 /// The Delaunay triangulation of `vertices` by biased randomised incremental insertion;
-/// `None` when spade refuses a position (never after validation and scaling).
-pub(super) fn insert_biased(vertices: Vec<Vertex>) -> Option<DelaunayTriangulation<Vertex>> {
+/// `None` when spade refuses a position (never after validation and scaling), or once
+/// `watch` is cancelled (looked at every [`INSERT_BLOCK`] insertions: a million points take
+/// seconds, and the set triangulated whole when strips do not suit it is this large).
+pub(super) fn insert_biased(vertices: Vec<Vertex>, watch: &Watch) -> Option<DelaunayTriangulation<Vertex>> {
     let n = vertices.len();
     let (mut low, mut high) = ([f64::INFINITY; 2], [f64::NEG_INFINITY; 2]);
     for v in &vertices {
@@ -38,7 +44,10 @@ pub(super) fn insert_biased(vertices: Vec<Vertex>) -> Option<DelaunayTriangulati
     order.sort_unstable();
     let mut dt = DelaunayTriangulation::<Vertex>::with_capacity(n, 3 * n, 2 * n);
     let mut previous = None;
-    for &(_, _, i) in &order {
+    for (k, &(_, _, i)) in order.iter().enumerate() {
+        if k % INSERT_BLOCK == 0 && watch.is_cancelled() {
+            return None;
+        }
         let v = vertices[i as usize];
         previous = Some(match previous {
             Some(hint) => dt.insert_with_hint(v, hint).ok()?,

@@ -26,7 +26,7 @@ use std::collections::HashMap;
 use rayon::prelude::*;
 use spade::Point2;
 
-use crate::batch::{run_grouped_placed, Grouped, OnGroupError, RowPlaces};
+use crate::batch::{run_grouped_placed, GroupWatch, Grouped, OnGroupError, RowPlaces};
 use crate::cancel::{cancelled, Watch};
 use crate::error::Result;
 use crate::geometry::{ring_signed_area, validate_points, Point, Weights};
@@ -110,9 +110,29 @@ pub fn delaunay_grouped(
     labels: &[i64],
     on_error: OnGroupError,
 ) -> Result<(Grouped<Triangulation>, RowPlaces)> {
-    run_grouped_placed("points", points, Weights::Unit, labels, on_error, |group| {
-        Ok(delaunay(group.points)?.in_rows(group.members))
-    })
+    delaunay_grouped_watched(points, labels, on_error, &Watch::new())
+}
+
+/// [`delaunay_grouped`] watched: progress counts the points of finished groups, and once
+/// `watch` is cancelled the groups not yet begun are skipped and a running group stops as
+/// [`delaunay_watched`] does (when its strips under way end), with an outcome the caller
+/// drops ([`Watch::finish`]). Watching changes nothing in the triangulations.
+///
+/// # Errors
+/// As [`delaunay_grouped`].
+pub fn delaunay_grouped_watched(
+    points: &[Point],
+    labels: &[i64],
+    on_error: OnGroupError,
+    watch: &Watch,
+) -> Result<(Grouped<Triangulation>, RowPlaces)> {
+    let groups = GroupWatch::new(watch, points.len());
+    let outcome = run_grouped_placed("points", points, Weights::Unit, labels, on_error, |group| {
+        let t = groups.finished(group.points.len(), |quiet| delaunay_watched(group.points, quiet))?;
+        Ok(t.in_rows(group.members))
+    });
+    groups.close();
+    outcome
 }
 
 /// The positions the triangulation is built on: `points` scaled by a power of two (exact)
@@ -153,7 +173,9 @@ fn delaunay_in_strips(points: &[Point], strips: usize, watch: &Watch) -> Result<
         Some(mesh) => Ok(mesh),
         // A cancel also ends the strips without a mesh: it must not start the whole set.
         None if watch.is_cancelled() => return Err(cancelled("points")),
-        None => whole::whole(&positions),
+        // Refused strips (one on a single line, a seam the check rejects): the whole set,
+        // watched when it is inserted along its lines (the circle sweep is not).
+        None => whole::whole(&positions, watch),
     };
     // Every point is counted once whatever the path: here, those of a set triangulated whole
     // or refused (strips whose stitch was not accepted were counted as they ended).
@@ -319,6 +341,40 @@ mod tests {
         assert_eq!(cancelled.progress(), (0, 300_000));
         let (done, total) = crate::cancel::testing::cancelled_after(1, |watch| delaunay_watched(&pts, watch));
         assert!(done <= total && total == 300_000);
+    }
+
+    #[test]
+    fn a_watched_grouped_run_counts_every_point_and_a_cancel_leaves_no_answer() {
+        // Three groups of 100,000 points (one strip each) and a small one. Watching changes
+        // nothing in the triangulations: each group's is the ungrouped call's on its points.
+        let pts = lcg_cloud(300_400, 19, [0.0, 0.0], 1.0);
+        let labels: Vec<i64> = (0..pts.len()).map(|i| if i < 400 { 9 } else { (i % 3) as i64 }).collect();
+        let watch = Watch::new();
+        let (watched, _) = delaunay_grouped_watched(&pts, &labels, OnGroupError::Raise, &watch).unwrap();
+        assert_eq!(watch.progress(), (300_400, 300_400));
+        let (plain, _) = delaunay_grouped(&pts, &labels, OnGroupError::Raise).unwrap();
+        assert_eq!(watched.results, plain.results);
+        let (done, total) = crate::cancel::testing::cancelled_after(1, |watch| {
+            delaunay_grouped_watched(&pts, &labels, OnGroupError::Raise, watch).map(drop)
+        });
+        assert!(done <= total && total == 300_400);
+    }
+
+    #[test]
+    fn the_whole_set_on_lines_stops_on_a_cancel_and_watching_changes_nothing() {
+        // Points on four vertical lines: each of four strips is one line, so the strips are
+        // refused and the set is triangulated whole, by insertion along its lines, which
+        // looks at the watch. Closed form: a strip of two lines of m points each has
+        // 2 (m - 1) triangles, so three strips between four lines of 10,000 have 59,994.
+        let pts: Vec<Point> = (0..40_000).map(|i| [(i % 4) as f64, (i / 4) as f64]).collect();
+        let watch = Watch::new();
+        let watched = delaunay_in_strips(&pts, 4, &watch).unwrap();
+        assert_eq!(watch.progress(), (40_000, 40_000));
+        assert_eq!(watched, delaunay(&pts).unwrap());
+        assert_eq!(watched.triangles.len(), 3 * 2 * (10_000 - 1));
+        let cancelled = Watch::new();
+        cancelled.cancel();
+        assert!(whole::whole(&testing::positions(&pts), &cancelled).is_err());
     }
 
     #[test]

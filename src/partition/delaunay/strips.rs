@@ -108,7 +108,7 @@ pub(super) fn by_strips(positions: &[Point2<f64>], strips: usize, watch: &Watch,
                 return None;
             }
             let size = vertices.len();
-            let dt = triangulate(vertices)?;
+            let dt = triangulate(vertices, watch)?;
             watch.advance(size as u64);
             done.fetch_add(size, Ordering::Relaxed);
             // A cancelled run drops the mesh: its faces need not be read.
