@@ -12,21 +12,15 @@ import sys
 from pathlib import Path
 
 import numpy as np
-import scipy.spatial
 
 import placewise as pw
+from _instances import coordinate_instances, uniform_costs
 from harness import Case
 from placewise import discrete
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "tests"))
 
 from test_discrete import milp_cover_all, milp_cover_most, milp_p_center, milp_p_median  # noqa: E402
-
-
-def _costs(n: int, m: int, seed: int) -> tuple[np.ndarray, np.ndarray]:
-    rng = np.random.default_rng(seed)
-    points, candidates = rng.uniform(0, 100, (n, 2)), rng.uniform(0, 100, (m, 2))
-    return scipy.spatial.distance.cdist(points, candidates), rng.integers(1, 10, n).astype(float)
 
 
 def _note(objective: str, maximise: bool = False):  # noqa: ANN202
@@ -42,7 +36,7 @@ def _sparse(n: int, m: int, k: int, seed: int):  # noqa: ANN202
     """Costs where each point may use only its k nearest candidates: (dense, allowed, sparse, w)."""
     import scipy.sparse
 
-    costs, w = _costs(n, m, seed)
+    costs, w = uniform_costs(n, m, seed)
     near = np.argsort(costs, axis=1, kind="stable")[:, :k]
     allowed = np.zeros_like(costs, dtype=bool)
     np.put_along_axis(allowed, near, True, axis=1)
@@ -59,14 +53,12 @@ def _gap_only(objective: str):  # noqa: ANN202
 
 def cases(quick: bool) -> list[Case]:
     n, m = (300, 60) if quick else (600, 80)
-    costs, w = _costs(n, m, 0)
-    small, ws = _costs(60, 20, 1)
+    costs, w = uniform_costs(n, m, 0)
+    small, ws = uniform_costs(60, 20, 1)
     radius = 15.0
     dense2, allowed, sparse, ws2 = _sparse(n, m, 10, 2)
-    rng = np.random.default_rng(3)
     big, mid = (20_000, 2_000) if quick else (100_000, 10_000)
-    bp, bc, bw = rng.uniform(0, 100, (big, 2)), rng.uniform(0, 100, (2000, 2)), rng.integers(1, 10, big).astype(float)
-    mp, mc, mw = rng.uniform(0, 100, (mid, 2)), rng.uniform(0, 100, (1000, 2)), rng.integers(1, 10, mid).astype(float)
+    (bp, bc, bw), (mp, mc, mw) = coordinate_instances(big, mid)
     # Sites anywhere at the density of the 20,000 points above (2 per unit area), at full size.
     wide = np.random.default_rng(4).uniform(0, 100 * np.sqrt(5), (100_000, 2))
     cover_note = (lambda ours, _: f"{ours.chosen} sites, {len(ours.candidates):,} candidates, lower bound "

@@ -1,7 +1,7 @@
 """Discrete p-median: placewise's plan and bound against the LP relaxation and the optimum.
 
 Uniform demand points and candidates in [0, 100]², integer weights 1 to 9, straight-line
-costs (the generator of ``tests/test_discrete.py`` and ``bench_discrete.py``). References, all
+costs (``_instances.py``, shared with ``bench_discrete.py``). References, all
 on the textbook p-median program (ReVelle & Swain 1970: ``Σⱼ xᵢⱼ = 1``, ``xᵢⱼ ≤ yⱼ``,
 ``Σⱼ yⱼ = p``) solved by HiGHS through scipy:
 
@@ -40,21 +40,13 @@ import scipy.optimize
 import scipy.sparse
 import scipy.spatial
 
+from _instances import coordinate_instances, uniform_costs
+
 
 def bench_instance() -> tuple[np.ndarray, np.ndarray]:
-    """The cost matrix and weights of ``bench_discrete.py``'s "p_median coordinates p=50"."""
-    rng = np.random.default_rng(3)
-    big = 100_000
-    rng.uniform(0, 100, (big, 2)), rng.uniform(0, 100, (2000, 2)), rng.integers(1, 10, big)
-    mp, mc, mw = rng.uniform(0, 100, (10_000, 2)), rng.uniform(0, 100, (1000, 2)), rng.integers(1, 10, 10_000)
-    return scipy.spatial.distance.cdist(mp, mc), mw.astype(float)
-
-
-def random_instance(n: int, m: int, seed: int) -> tuple[np.ndarray, np.ndarray]:
-    """``tests/test_discrete.py``'s ``instance``: points, candidates, weights, in that order."""
-    rng = np.random.default_rng(seed)
-    points, candidates = rng.uniform(0, 100, (n, 2)), rng.uniform(0, 100, (m, 2))
-    weights = rng.integers(1, 10, n).astype(float)
+    """The cost matrix and weights of ``bench_discrete.py``'s "p_median coordinates p=50" (at
+    full size)."""
+    _, (points, candidates, weights) = coordinate_instances(100_000, 10_000)
     return scipy.spatial.distance.cdist(points, candidates), weights
 
 
@@ -217,7 +209,7 @@ def main() -> None:
         name = "bench_discrete.py p_median coordinates p=50"
     else:
         n, m, p = args.shape
-        costs, w = random_instance(n, m, args.seed)
+        costs, w = uniform_costs(n, m, args.seed)
         name = f"seed {args.seed}"
     n, m = costs.shape
     print(f"{n} x {m}, p = {p}, {name} ({load()})", flush=True)

@@ -9,7 +9,7 @@ from scipy.optimize import linprog
 from scipy.spatial.distance import cdist
 
 import placewise as pw
-from interrupting import Enough, check_progress_reports, check_prompt_interrupt, stop_at_first_report
+from interrupting import Enough, check_progress_reports, check_prompt_interrupt, child_code, stop_at_first_report
 
 RNG = np.random.default_rng(23)
 POINTS = RNG.uniform(0, 1000, (1500, 2))
@@ -33,6 +33,20 @@ MODELS = {
 }
 
 
+def _transport_optimum(sites: np.ndarray, caps: np.ndarray) -> float:
+    """The least Σ d_ij x_ij serving every point from ``sites`` within ``caps`` (Σ_j x_ij = 1,
+    Σ_i x_ij <= cap_j, x >= 0), by scipy's HiGHS LP (an outside reference)."""
+    import scipy.sparse as sparse
+
+    d = cdist(POINTS, sites)
+    n, m = d.shape
+    rows = sparse.kron(sparse.eye(n), np.ones((1, m)), format="csr")
+    columns = sparse.kron(np.ones((1, n)), sparse.eye(m), format="csr")
+    lp = linprog(d.ravel(), A_ub=columns, b_ub=caps, A_eq=rows, b_eq=np.ones(n), method="highs")
+    assert lp.status == 0
+    return float(lp.fun)
+
+
 @pytest.mark.parametrize("name", MODELS)
 def test_progress_counts_grow_and_end_at_the_total(name: str) -> None:
     check_progress_reports(MODELS[name])
@@ -43,16 +57,8 @@ def test_a_watched_allocation_is_the_transportation_optimum_within_its_capacitie
     # Loads within the capacities, every unit of demand served.
     assert (plan.load <= CAPS + 1e-9).all() and plan.total_unserved == 0
     # The optimum of the same transportation problem by scipy's HiGHS LP (an outside
-    # reference): min Σ d_ij x_ij, Σ_j x_ij = 1, Σ_i x_ij <= cap_j, x >= 0.
-    import scipy.sparse as sparse
-
-    d = cdist(POINTS, SITES)
-    n, m = d.shape
-    rows = sparse.kron(sparse.eye(n), np.ones((1, m)), format="csr")
-    columns = sparse.kron(np.ones((1, n)), sparse.eye(m), format="csr")
-    lp = linprog(d.ravel(), A_ub=columns, b_ub=CAPS, A_eq=rows, b_eq=np.ones(n), method="highs")
-    assert lp.status == 0
-    np.testing.assert_allclose(plan.total_cost, lp.fun, rtol=1e-9)
+    # reference).
+    np.testing.assert_allclose(plan.total_cost, _transport_optimum(SITES, CAPS), rtol=1e-9)
 
 
 @pytest.mark.parametrize("name", MODELS)
@@ -71,20 +77,6 @@ def test_a_limit_too_short_for_any_plan_is_a_clear_error(name: str) -> None:
 def test_a_raising_progress_callable_stops_the_run(name: str) -> None:
     with pytest.raises(Enough):
         MODELS[name](progress=stop_at_first_report)
-
-
-def _transport_optimum(sites: np.ndarray, caps: np.ndarray) -> float:
-    """The least Σ d_ij x_ij serving every point from ``sites`` within ``caps``, by scipy's
-    HiGHS LP (an outside reference)."""
-    import scipy.sparse as sparse
-
-    d = cdist(POINTS, sites)
-    n, m = d.shape
-    rows = sparse.kron(sparse.eye(n), np.ones((1, m)), format="csr")
-    columns = sparse.kron(np.ones((1, n)), sparse.eye(m), format="csr")
-    lp = linprog(d.ravel(), A_ub=columns, b_ub=caps, A_eq=rows, b_eq=np.ones(n), method="highs")
-    assert lp.status == 0
-    return float(lp.fun)
 
 
 @pytest.mark.parametrize("name", ["capacitated_p_median", "capacitated_p_median candidates"])
@@ -125,26 +117,10 @@ def test_p_median_with_capacities_passes_the_watch_on() -> None:
     assert caught.value.argument == "time_limit"
 
 
-_INTERRUPTED_CHILD = r"""
-import signal, sys, time
-import numpy as np
-import placewise as pw
-
-# Ctrl-C as a terminal delivers it, whatever the parent left: a job started in the
-# background of a shell ignores SIGINT, Python keeps an ignored SIGINT ignored, and a
-# blocked one stays blocked across exec.
-signal.signal(signal.SIGINT, signal.default_int_handler)
-signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGINT})
-
+_INTERRUPTED_CHILD = child_code("""
 rng = np.random.default_rng(10)
 pts = rng.uniform(0, 20_000, (2_000, 2))
-print("started", flush=True)
-try:
-    pw.capacitated_p_median(pts, 6, np.full(6, 350.0))
-    print("finished", time.time(), flush=True)
-except KeyboardInterrupt:
-    print("interrupted", time.time(), flush=True)
-"""
+""", "pw.capacitated_p_median(pts, 6, np.full(6, 350.0))")
 
 
 def test_ctrl_c_stops_the_capacitated_p_median_promptly() -> None:

@@ -8,7 +8,7 @@ import pytest
 from scipy.spatial.distance import cdist
 
 import placewise as pw
-from interrupting import Enough, check_progress_reports, interrupt, stop_at_first_report
+from interrupting import Enough, check_progress_reports, child_code, interrupt, stop_at_first_report
 
 RNG = np.random.default_rng(17)
 POINTS = RNG.uniform(0, 100, (3000, 2))
@@ -84,26 +84,10 @@ def test_a_raising_progress_callable_stops_the_model(name: str) -> None:
         MODELS[name](progress=stop_at_first_report)
 
 
-_INTERRUPTED_CHILD = r"""
-import signal, sys, time
-import numpy as np
-import placewise as pw
-
-# Ctrl-C as a terminal delivers it, whatever the parent left: a job started in the
-# background of a shell ignores SIGINT, Python keeps an ignored SIGINT ignored, and a
-# blocked one stays blocked across exec.
-signal.signal(signal.SIGINT, signal.default_int_handler)
-signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGINT})
-
+_INTERRUPTED_CHILD = child_code("""
 rng = np.random.default_rng(7)
 pts, cands = rng.random((10_000, 2)) * 100, rng.random((1_000, 2)) * 100
-print("started", flush=True)
-try:
-    pw.p_median(pts, 50, candidates=cands)
-    print("finished", time.time(), flush=True)
-except KeyboardInterrupt:
-    print("interrupted", time.time(), flush=True)
-"""
+""", "pw.p_median(pts, 50, candidates=cands)")
 
 
 def test_ctrl_c_stops_the_discrete_p_median_promptly() -> None:

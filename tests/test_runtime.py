@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 
 import placewise as pw
-from interrupting import interrupt
+from interrupting import Enough, child_code, interrupt, stop_at_first_report
 
 
 def test_concurrent_calls_match_sequential() -> None:
@@ -106,25 +106,9 @@ def test_skipped_groups_keep_their_place_with_the_reason() -> None:
 
 # ----------------------------------------------------------------- long runs: stop, limit, watch
 
-_INTERRUPTED_CHILD = r"""
-import signal, sys, time
-import numpy as np
-import placewise as pw
-
-# Ctrl-C as a terminal delivers it, whatever the parent left: a job started in the
-# background of a shell ignores SIGINT, Python keeps an ignored SIGINT ignored, and a
-# blocked one stays blocked across exec.
-signal.signal(signal.SIGINT, signal.default_int_handler)
-signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGINT})
-
+_INTERRUPTED_CHILD = child_code("""
 points = np.random.default_rng(1).random((1_000_000, 2))
-print("started", flush=True)
-try:
-    pw.p_median(points, 50, effort="thorough")
-    print("finished", time.time(), flush=True)
-except KeyboardInterrupt:
-    print("interrupted", time.time(), flush=True)
-"""
+""", 'pw.p_median(points, 50, effort="thorough")')
 
 
 def test_ctrl_c_stops_a_long_p_median_promptly() -> None:
@@ -213,15 +197,8 @@ def test_progress_true_draws_on_stderr_and_bad_progress_is_refused(capsys: pytes
 
 def test_a_raising_progress_callable_stops_the_run() -> None:
     pts = np.random.default_rng(5).random((100_000, 2))
-
-    class Enough(Exception):
-        pass
-
-    def stop(done: int, total: int) -> None:
-        raise Enough
-
     with pytest.raises(Enough):
-        pw.p_median(pts, 10, progress=stop)
+        pw.p_median(pts, 10, progress=stop_at_first_report)
 
 
 def test_more_effort_never_gives_a_worse_plan() -> None:

@@ -344,14 +344,9 @@ pub fn discrete_p_median(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::discrete::testing::{least_median_total, median_total};
     use crate::discrete::CostMatrix;
     use crate::geometry::random::SplitMix64 as Rng;
-
-    fn total(costs: &Costs<'_>, w: &[f64], open: &[usize]) -> f64 {
-        (0..costs.rows())
-            .map(|i| w[i] * open.iter().map(|&j| costs.cost(i, j).unwrap()).fold(f64::INFINITY, f64::min))
-            .sum()
-    }
 
     #[test]
     fn swap_optimal_and_bound_below_brute_force() {
@@ -364,16 +359,10 @@ mod tests {
             for p in 1..4 {
                 let r = discrete_p_median(&costs, Weights::Given(&w), p, &[], &Default::default()).unwrap();
                 let open = &r.service.open;
-                let ours = total(&costs, &w, open);
+                let ours = median_total(&values, m, &w, open);
                 assert!((ours - r.service.total_cost).abs() <= 1e-9 * ours);
                 // Brute-force enumeration of every p-subset (independent): bound <= optimum <= ours.
-                let mut exact = f64::INFINITY;
-                for mask in 0u32..(1 << m) {
-                    if mask.count_ones() as usize == p {
-                        let set: Vec<usize> = (0..m).filter(|j| mask >> j & 1 == 1).collect();
-                        exact = exact.min(total(&costs, &w, &set));
-                    }
-                }
+                let exact = least_median_total(&values, m, &w, p, &[]);
                 assert!(r.lower_bound <= exact + 1e-9 * exact, "{} > {exact}", r.lower_bound);
                 assert!(r.lower_bound >= 0.8 * exact, "weak bound {} for {exact}", r.lower_bound);
                 assert!(ours >= exact - 1e-9);
@@ -382,7 +371,7 @@ mod tests {
                     for u in (0..m).filter(|u| !open.contains(u)) {
                         let mut other = open.clone();
                         other[k] = u;
-                        assert!(total(&costs, &w, &other) >= ours - 1e-9, "swap {k} -> {u} improves");
+                        assert!(median_total(&values, m, &w, &other) >= ours - 1e-9, "swap {k} -> {u} improves");
                     }
                 }
             }

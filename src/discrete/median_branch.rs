@@ -194,29 +194,10 @@ pub(super) fn branch_and_bound(
 #[cfg(test)]
 mod tests {
     use crate::discrete::median::{discrete_p_median, DiscreteMedianOptions};
+    use crate::discrete::testing::least_median_total;
     use crate::discrete::{CostMatrix, Costs};
     use crate::geometry::random::SplitMix64 as Rng;
     use crate::geometry::Weights;
-
-    fn total(values: &[f64], m: usize, w: &[f64], open: &[usize]) -> f64 {
-        w.iter()
-            .enumerate()
-            .map(|(i, wi)| wi * open.iter().map(|&j| values[i * m + j]).fold(f64::INFINITY, f64::min))
-            .sum()
-    }
-
-    /// The least cost over every set of `p` candidates besides `fixed` (enumeration).
-    fn brute_force(values: &[f64], m: usize, w: &[f64], p: usize, fixed: &[usize]) -> f64 {
-        let mut best = f64::INFINITY;
-        for mask in 0u32..(1 << m) {
-            let set: Vec<usize> = (0..m).filter(|j| mask >> j & 1 == 1).collect();
-            if set.len() == p && !set.iter().any(|j| fixed.contains(j)) {
-                let open: Vec<usize> = fixed.iter().chain(&set).copied().collect();
-                best = best.min(total(values, m, w, &open));
-            }
-        }
-        best
-    }
 
     /// Planar instances: `n` points and `m` candidates uniform in the unit square.
     fn planar(rng: &mut Rng, n: usize, m: usize) -> (Vec<f64>, Vec<f64>) {
@@ -242,7 +223,7 @@ mod tests {
             let options =
                 DiscreteMedianOptions { bound_iterations: 5, search_rounds: 0, ..DiscreteMedianOptions::default() };
             let r = discrete_p_median(&costs, Weights::Given(&w), p, &fixed, &options).unwrap();
-            let exact = brute_force(&values, m, &w, p, &fixed);
+            let exact = least_median_total(&values, m, &w, p, &fixed);
             assert!(
                 (r.service.total_cost - exact).abs() <= 1e-9 * exact,
                 "case {case}: {} vs {exact}",
@@ -268,7 +249,7 @@ mod tests {
             let p = 2 + case % 3;
             let options = DiscreteMedianOptions { bound_iterations: 10, ..DiscreteMedianOptions::default() };
             let r = discrete_p_median(&costs, Weights::Given(&w), p, &[], &options).unwrap();
-            let exact = brute_force(&values, m, &w, p, &[]);
+            let exact = least_median_total(&values, m, &w, p, &[]);
             assert!((r.service.total_cost - exact).abs() <= 1e-9 * exact.max(1.0), "case {case}");
             assert!(r.lower_bound <= exact + 1e-9 * exact.max(1.0), "case {case}: bound above the optimum");
             assert!(r.service.total_cost - r.lower_bound <= 1e-9 * exact.max(1.0), "case {case}: not proven");
@@ -281,7 +262,7 @@ mod tests {
         let (n, m) = (40, 14);
         let (values, w) = planar(&mut rng, n, m);
         let costs = Costs::from(CostMatrix::new(&values, n, m).unwrap());
-        let exact = brute_force(&values, m, &w, 4, &[]);
+        let exact = least_median_total(&values, m, &w, 4, &[]);
         let root_only = DiscreteMedianOptions {
             bound_iterations: 3,
             search_rounds: 0,

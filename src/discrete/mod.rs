@@ -400,6 +400,33 @@ fn relative_gap(upper: f64, lower: f64) -> f64 {
     }
 }
 
+/// Brute-force references shared by the tests of this family.
+#[cfg(test)]
+pub(crate) mod testing {
+    /// `Σᵢ wᵢ · minⱼ∈open values[i·m + j]`: the p-median cost of `open`, read straight from a
+    /// dense row-major matrix of `m` columns (independent of the kernels' cost lists).
+    pub(crate) fn median_total(values: &[f64], m: usize, w: &[f64], open: &[usize]) -> f64 {
+        w.iter()
+            .enumerate()
+            .map(|(i, &wi)| wi * open.iter().map(|&j| values[i * m + j]).fold(f64::INFINITY, f64::min))
+            .sum()
+    }
+
+    /// The least [`median_total`] over every plan of the `fixed` sites and `p` others, by
+    /// enumeration of every subset of the `m` columns (`m` ≤ 31).
+    pub(crate) fn least_median_total(values: &[f64], m: usize, w: &[f64], p: usize, fixed: &[usize]) -> f64 {
+        let mut best = f64::INFINITY;
+        for mask in 0u32..(1 << m) {
+            let set: Vec<usize> = (0..m).filter(|j| mask >> j & 1 == 1).collect();
+            if set.len() == p && !set.iter().any(|j| fixed.contains(j)) {
+                let open: Vec<usize> = fixed.iter().chain(&set).copied().collect();
+                best = best.min(median_total(values, m, w, &open));
+            }
+        }
+        best
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -173,16 +173,9 @@ fn shake_region(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::discrete::testing::{least_median_total, median_total};
     use crate::discrete::{CostMatrix, PlanarCosts};
     use crate::geometry::Point;
-
-    /// `Σᵢ wᵢ · minⱼ∈open costs[i, j]` read straight from the matrix.
-    fn direct(values: &[f64], m: usize, w: &[f64], open: &[usize]) -> f64 {
-        w.iter()
-            .enumerate()
-            .map(|(i, &wi)| wi * open.iter().map(|&j| values[i * m + j]).fold(f64::INFINITY, f64::min))
-            .sum()
-    }
 
     #[test]
     fn plan_cost_matches_direct_sum_with_short_lists() {
@@ -197,7 +190,7 @@ mod tests {
             for open in [vec![0], vec![4, 9, 17], (0..m).collect()] {
                 let ours = plan_cost(&costs, &near, Weights::Given(&w), &open, 1e9);
                 // Direct evaluation of the definition (independent of the lists).
-                let reference = direct(&values, m, &w, &open);
+                let reference = median_total(&values, m, &w, &open);
                 assert!((ours - reference).abs() <= 1e-9 * reference.max(1.0), "keep {keep}: {ours} vs {reference}");
             }
         }
@@ -236,16 +229,9 @@ mod tests {
             assert_eq!(sorted.len(), fixed + p, "distinct sites");
             // Brute force over every choice of p free sites (independent of the search): on
             // instances this small, 200 rounds of shaking find the optimum.
-            let mut exact = f64::INFINITY;
-            for mask in 0u32..(1 << (m - fixed)) {
-                if mask.count_ones() as usize == p {
-                    let mut set: Vec<usize> = (0..fixed).collect();
-                    set.extend((fixed..m).filter(|&j| mask >> (j - fixed) & 1 == 1));
-                    exact = exact.min(direct(&values, m, &w, &set));
-                }
-            }
-            let ours = direct(&values, m, &w, &open);
-            assert!(ours <= direct(&values, m, &w, &start) + 1e-9, "never dearer than the start");
+            let exact = least_median_total(&values, m, &w, p, &start[..fixed]);
+            let ours = median_total(&values, m, &w, &open);
+            assert!(ours <= median_total(&values, m, &w, &start) + 1e-9, "never dearer than the start");
             assert!((ours - exact).abs() <= 1e-9 * exact.max(1.0), "round {round}: {ours} vs optimum {exact}");
         }
     }

@@ -47,34 +47,35 @@ impl TravelGraph {
     /// The nodes travel from `spot` reaches first, with the cost of getting there (along
     /// the edge, only in the directions it allows).
     pub(crate) fn leave(&self, spot: Spot) -> Links {
-        let mut out = Links { pairs: [(0, 0.0); 2], len: 0 };
-        match spot {
-            Spot::Node(u) => out.push(u, 0.0),
-            Spot::OnEdge { edge, fraction } => {
-                let e = edge as usize;
-                if self.forward[e].is_finite() {
-                    out.push(self.head[e], (1.0 - fraction) * self.forward[e]);
-                }
-                if self.backward[e].is_finite() {
-                    out.push(self.tail[e], fraction * self.backward[e]);
-                }
-            }
-        }
-        out
+        self.links(spot, true)
     }
 
     /// The nodes travel to `spot` comes through last, with the cost from there.
     pub(crate) fn arrive(&self, spot: Spot) -> Links {
+        self.links(spot, false)
+    }
+
+    /// The ends of `spot`'s edge that travel may use, each with the cost of the part of the
+    /// edge between it and the spot. On the way out (`outward`) the forward direction leads
+    /// to the head and the backward one to the tail; on the way in the forward direction
+    /// comes from the tail and the backward one from the head. Forward first, then backward.
+    fn links(&self, spot: Spot, outward: bool) -> Links {
         let mut out = Links { pairs: [(0, 0.0); 2], len: 0 };
         match spot {
             Spot::Node(u) => out.push(u, 0.0),
             Spot::OnEdge { edge, fraction } => {
                 let e = edge as usize;
+                // The share of the edge between the spot and its head, and its tail.
+                let (to_head, to_tail) = (1.0 - fraction, fraction);
+                let (forward_end, forward_share) =
+                    if outward { (self.head[e], to_head) } else { (self.tail[e], to_tail) };
+                let (backward_end, backward_share) =
+                    if outward { (self.tail[e], to_tail) } else { (self.head[e], to_head) };
                 if self.forward[e].is_finite() {
-                    out.push(self.tail[e], fraction * self.forward[e]);
+                    out.push(forward_end, forward_share * self.forward[e]);
                 }
                 if self.backward[e].is_finite() {
-                    out.push(self.head[e], (1.0 - fraction) * self.backward[e]);
+                    out.push(backward_end, backward_share * self.backward[e]);
                 }
             }
         }

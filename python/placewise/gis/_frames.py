@@ -469,6 +469,22 @@ def prepare_or_sphere(obj: Any, name: str, *, planar: bool, centroids: bool, wor
         return prepare(obj, name, planar=planar, centroids=centroids, work=ELLIPSOID)
 
 
+def plane_or_sphere(obj: Any, name: str, kernel: Callable[..., Any], sphere: Callable[..., Any] | None, *,
+                    planar: bool, centroids: bool, work_crs: Any, max_scale_error: float,
+                    by: str | None = None) -> tuple[Prepared, Callable[..., Any]]:
+    """A frame's points and the kernel that solves them: ``kernel`` in the working frame
+    :func:`prepare` chooses (a UTM zone, the frame's own projected CRS, ``work_crs``, or none
+    with ``planar=True``), or — when ``sphere``, the kernel's spherical form, is given and no
+    working frame holds the geographic points (:func:`prepare_or_sphere`) — ``sphere`` on
+    their WGS84 longitude/latitude. Without ``sphere`` such points are refused
+    (:class:`TooWide`)."""
+    model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
+    if sphere is None:
+        return prepare(obj, name, planar=planar, centroids=centroids, by=by, **model), kernel
+    prepared = prepare_or_sphere(obj, name, planar=planar, centroids=centroids, by=by, **model)
+    return prepared, sphere if prepared.ellipsoid else kernel
+
+
 def on_earth_only(kernel: Callable[..., Any],
                   where: str = "on the ellipsoid only (geographic input without work_crs or region)"
                   ) -> Callable[..., Any]:
@@ -596,6 +612,22 @@ def call(
         return kernel(*args, groups=groups.codes, **options)
     except InputError as exc:
         raise restate(exc, None if groups is None else groups.values, rows) from None
+
+
+def solve_points(obj: Any, name: str, kernel: Callable[..., Any], sphere: Callable[..., Any] | None = None, /, *,
+                 planar: bool, centroids: bool, work_crs: Any, max_scale_error: float, by: str | None,
+                 errors: str, **options: Any) -> tuple[Prepared, Any, dict[str, Any]]:
+    """The one step of the functions that solve a frame's points alone (Delaunay
+    triangulation, spanning and Steiner trees): the points and their kernel from
+    :func:`plane_or_sphere`, the kernel run once on them (its grouped form with ``by``, which
+    alone takes ``errors``), its errors restated with the frame's row labels. Returns the
+    prepared points, the kernel's result and those labels (``{"points": ...}``)."""
+    prepared, kernel = plane_or_sphere(obj, name, kernel, sphere, planar=planar, centroids=centroids,
+                                       work_crs=work_crs, max_scale_error=max_scale_error, by=by)
+    rows = {"points": prepared.rows}
+    grouped = {} if prepared.groups is None else {"errors": errors}
+    result = call(kernel, prepared.xy, groups=prepared.groups, rows=rows, **grouped, **options)
+    return prepared, result, rows
 
 
 def in_user_terms(

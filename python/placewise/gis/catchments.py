@@ -10,7 +10,6 @@ import numpy as np
 try:
     import geopandas as gpd
     import shapely
-    from pyproj import CRS
     from shapely.geometry.polygon import orient
 except ImportError:  # pragma: no cover - exercised only without the extra
     raise ImportError("placewise.gis needs geopandas and pyproj: pip install 'placewise[geo]'") from None
@@ -29,6 +28,7 @@ from ._frames import (
     groups_of,
     prepare,
     prepare_or_sphere,
+    solve_points,
 )
 from ._together import region_geometry, region_lonlat
 from .plans import nearest_site
@@ -70,10 +70,8 @@ def _sphere_cells(pf: Prepared, region: Any, progress: Any) -> Any:
         clip = region_lonlat(region, pf)
         geoms = shapely.intersection(geoms, clip)
         area = np.array([_ellipsoid_area(g) for g in geoms])
-    back = gpd.GeoSeries(geoms, crs=4326)
-    if not CRS(pf.crs).equals(CRS.from_epsg(4326)):
-        back = back.to_crs(pf.crs)
-    out = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=back.values, crs=pf.crs)
+    out = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=pf.back(geoms).values,
+                           crs=pf.crs)
     out["area_m2"] = area
     out["work_crs"] = SPHERE_MODEL
     return out
@@ -121,14 +119,10 @@ def delaunay(
     >>> len(mesh), float(mesh["area_u2"].sum())   # two triangles fill the 2 x 1 rectangle
     (2, 2.0)
     """
-    pf = prepare_or_sphere(frame, "frame", planar=planar, centroids=centroids, by=by, work_crs=work_crs,
-                           max_scale_error=max_scale_error)
-    kernel = _pw.geodesic.delaunay if pf.ellipsoid else _pw.delaunay
-    groups = pf.groups
-    rows = {"points": pf.rows}
-    grouped = {} if groups is None else {"errors": errors}
-    result = call(kernel, pf.xy, groups=groups, rows=rows, progress=progress, **grouped)
-    out = framed(result, pf, groups, rows, row_columns=("corner_a", "corner_b", "corner_c"))
+    pf, result, rows = solve_points(frame, "frame", _pw.delaunay, _pw.geodesic.delaunay, planar=planar,
+                                    centroids=centroids, work_crs=work_crs, max_scale_error=max_scale_error, by=by,
+                                    errors=errors, progress=progress)
+    out = framed(result, pf, pf.groups, rows, row_columns=("corner_a", "corner_b", "corner_c"))
     if pf.ellipsoid:
         out["work_crs"] = SPHERE_MODEL
     return out

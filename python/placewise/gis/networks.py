@@ -7,15 +7,7 @@ from typing import Any, Literal, NamedTuple
 import placewise as _pw
 
 from .._sphere import SPHERE_MODEL
-from ._frames import (
-    MAX_SCALE_ERROR,
-    call,
-    framed,
-    in_user_terms,
-    prepare,
-    prepare_or_sphere,
-    with_unit,
-)
+from ._frames import MAX_SCALE_ERROR, framed, in_user_terms, solve_points, with_unit
 
 __all__ = ["Network", "spanning_tree", "steiner_tree"]
 
@@ -42,15 +34,9 @@ class Network(NamedTuple):
 
 def _network(kernel: Any, frame: Any, by: str | None, planar: bool, centroids: bool, errors: str,
              options: dict[str, Any], model: dict[str, Any], sphere: Any = None) -> Network:
-    if sphere is not None:
-        pf = prepare_or_sphere(frame, "frame", planar=planar, centroids=centroids, by=by, **model)
-        kernel = sphere if pf.ellipsoid else kernel
-    else:
-        pf = prepare(frame, "frame", planar=planar, centroids=centroids, by=by, **model)
+    pf, result, rows = solve_points(frame, "frame", kernel, sphere, planar=planar, centroids=centroids, by=by,
+                                    errors=errors, **model, **options)
     groups = pf.groups
-    rows = {"points": pf.rows}
-    grouped = {} if groups is None else {"errors": errors}
-    result = call(kernel, pf.xy, groups=groups, rows=rows, **grouped, **options)
     edges = framed(result, pf, groups, rows, row_columns=("end_a", "end_b"))
     summary = with_unit(result, pf).summary()
     if groups is None:
