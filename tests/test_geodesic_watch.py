@@ -155,6 +155,26 @@ def test_a_cut_weber_point_is_a_true_flagged_answer() -> None:
     assert not frame["converged"].iloc[0] and frame["cost_m"].iloc[0] == cut.cost
 
 
+@pytest.mark.parametrize("kernel", ["minimax_point", "enclosing_circle"])
+def test_a_converged_centre_run_counts_its_iterations_to_the_total(kernel: str) -> None:
+    # Each iteration is planned as it begins: the count of a converged run ends at its total,
+    # the iterations made (never at max_iter, 200), on the centre of the unwatched run, whose
+    # largest (weighted) distance is pyproj's there.
+    calls: list[tuple[int, int]] = []
+    watched = MODELS[kernel](progress=lambda done, total: calls.append((done, total)))
+    plain = MODELS[kernel]()
+    check_counts(calls)
+    assert watched.converged and calls[-1] == (watched.iterations, watched.iterations)
+    assert watched.iterations < 200
+    if kernel == "minimax_point":
+        np.testing.assert_array_equal(watched.location, plain.location)
+        radius, truth = watched.weighted_radius, _largest(plain.location, POINTS, WEIGHTS)
+    else:
+        np.testing.assert_array_equal(watched.center, plain.center)
+        radius, truth = watched.radius, _largest(plain.center, POINTS)
+    assert radius == pytest.approx(truth, rel=1e-9)
+
+
 def test_a_converged_weber_run_counts_its_exact_passes_to_the_total() -> None:
     # Each exact pass is planned as it begins: the count of a converged run ends at its
     # total, the passes made (never at max_iter), on the site of the unwatched run, whose

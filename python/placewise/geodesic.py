@@ -345,8 +345,9 @@ def minimax_point(
     progress : bool or callable
         True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
         callable is called as ``progress(done, total)`` from the calling thread while the
-        run works. It counts iterations against ``max_iter`` (closed at the total when the
-        run ends), or with ``groups`` the points of finished groups. Ctrl-C stops the run
+        run works. It counts iterations, each planned as it begins (the total is the
+        iterations made and the one under way, at most ``max_iter``), so a run's count ends
+        at its total; with ``groups``, the points of finished groups. Ctrl-C stops the run
         within a fraction of a second and raises ``KeyboardInterrupt``.
 
     Returns

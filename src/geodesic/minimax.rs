@@ -196,10 +196,14 @@ fn lower_bound(
 
 /// Solve. Inputs validated (longitude/latitude, weights); at least one weight positive.
 /// Stops early when `options.limits` say so (see the module's "Stopping early"); every
-/// iteration is a step of the watch, planned as `max_iter` and closed at the end.
+/// iteration is a step of the watch, planned as it begins (the first from the start), so
+/// the count is the iterations made and the one under way: how many a run needs is known
+/// only once it has converged, and a converged run's count ends at its total (at most
+/// `max_iter`) instead of jumping there from a small share of it; a stopped run's is
+/// closed there.
 pub(crate) fn solve(points: &[Point], weights: Weights<'_>, options: &CenterOptions) -> Result<GeodesicCenter> {
     let clock = options.limits.clock();
-    let mut steps = Steps::new(&clock.watch, options.max_iter as u64);
+    let mut steps = Steps::new(&clock.watch, 1);
     let result = descend(points, weights, options, &clock, &mut steps);
     steps.finish();
     result
@@ -238,6 +242,9 @@ fn descend(
     let mut lower = 0.0f64;
     let w_max = frame.weights.iter().cloned().fold(0.0, f64::max);
     'descent: while iterations < options.max_iter && !clock.stop() {
+        if iterations > 0 {
+            steps.plan(1);
+        }
         iterations += 1;
         steps.step();
         let local: Vec<Point> =

@@ -183,8 +183,15 @@ fn a_spent_time_limit_returns_the_start_with_its_true_radius_and_a_valid_gap() {
     assert_eq!(cut.iterations, 0);
     assert!(!cut.converged && (cut.radius - largest).abs() <= 1e-9 * largest, "{cut:?} {largest}");
     assert!(cut.radius - cut.gap <= full.radius && full.radius - full.gap <= cut.radius, "{cut:?} {full:?}");
-    // Progress closes at the total planned (max_iter) whatever path the run took.
-    assert_eq!(watch.progress(), (200, 200));
+    // Progress plans each iteration as it begins (the first from the start) and closes at
+    // the total: a run stopped before its first iteration ends at (1, 1), not at max_iter.
+    assert_eq!(watch.progress(), (1, 1));
+    // Unstopped, the count ends at its total, the iterations made, on the unwatched centre.
+    let counted = CenterOptions::default();
+    let again = geodesic_minimax_point(&pts, Weights::Given(&w), &counted).unwrap();
+    assert!(again.iterations < counted.max_iter && again.location == full.location && again.radius == full.radius);
+    let n = again.iterations as u64;
+    assert_eq!(counted.limits.watch.progress(), (n, n));
     // A cancelled watch also stops the run; the caller drops its answer (Watch::finish).
     watch.cancel();
     let cancelled = CenterOptions {
