@@ -424,14 +424,16 @@ impl<'a> GroupWatch<'a> {
 
     /// `kernel` on one group of `points` points, handed the watch itself: the kernel counts
     /// the group's points as it goes (without planning them: they are planned here). A group
-    /// whose kernel fails has its points counted when the run is closed.
+    /// whose kernel fails before counting has its points counted when the run is closed; a
+    /// group stopped by a cancel has counted some already and is not counted again (the
+    /// cancelled run's count may end short of its total, never past it).
     ///
     /// # Errors
     /// As [`GroupWatch::finished`].
     pub(crate) fn counting<T>(&self, points: usize, kernel: impl FnOnce(&Watch) -> Result<T>) -> Result<T> {
         self.begin()?;
         let outcome = kernel(self.watch);
-        if outcome.is_ok() {
+        if outcome.is_ok() || self.watch.is_cancelled() {
             self.counted.fetch_add(points as u64, Ordering::Relaxed);
         }
         outcome

@@ -325,8 +325,8 @@ pub(crate) mod testing {
 
     /// `run(watch)` while another thread cancels `watch` as soon as `mark` steps are done:
     /// the outcome is cancelled ([`Watch::finish`]), and unless the run ended before the
-    /// cancel reached it (every planned step done), the kernel itself stopped with an error.
-    /// Returns the progress at the end.
+    /// cancel reached it (every planned step done), the kernel itself stopped with an error;
+    /// the count never passes the total. Returns the progress at the end.
     pub(crate) fn cancelled_after<T>(mark: u64, run: impl FnOnce(&Watch) -> crate::Result<T>) -> (u64, u64) {
         let watch = Watch::new();
         let outcome = std::thread::scope(|scope| {
@@ -344,6 +344,7 @@ pub(crate) mod testing {
             outcome
         });
         let (done, total) = watch.progress();
+        assert!(done <= total, "a cancelled run counted {done} steps of {total} planned");
         assert!(outcome.is_err() || done == total, "a cancelled run answered at {done} of {total} steps");
         assert_eq!(watch.finish(()), Err(Cancelled));
         (done, total)

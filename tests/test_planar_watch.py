@@ -102,9 +102,10 @@ def test_a_watched_grouped_run_equals_the_ungrouped_call_on_each_group(name: str
             assert mine.length == single.length
 
 
-def _brute_nearest(points: np.ndarray, sites: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def _kdtree_nearest(points: np.ndarray, sites: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Nearest site by scipy's k-d tree (scipy.spatial.cKDTree), ties to the smaller row:
-    the two nearest are asked for and an equal second with a smaller row wins."""
+    the two nearest are asked for and an equal second with a smaller row wins (a tie of three
+    or more sites is not settled; random real coordinates make even two-way ties rare)."""
     d, j = cKDTree(sites).query(points, k=2)
     tie = (d[:, 1] == d[:, 0]) & (j[:, 1] < j[:, 0])
     return np.where(tie, j[:, 1], j[:, 0]), d[:, 0]
@@ -113,7 +114,7 @@ def _brute_nearest(points: np.ndarray, sites: np.ndarray) -> tuple[np.ndarray, n
 def test_the_watched_nearest_site_search_matches_scipy() -> None:
     # Reference: scipy.spatial.cKDTree on the same points and sites (exact Euclidean nearest).
     a = WATCHED["nearest_site"](progress=lambda done, total: None)
-    index, distance = _brute_nearest(POINTS, SITES)
+    index, distance = _kdtree_nearest(POINTS, SITES)
     np.testing.assert_array_equal(a.assignment, index)
     np.testing.assert_allclose(a.distance, distance, rtol=1e-15)
     # Loads: numpy's bincount of the weights by the reference's assignment.
@@ -126,7 +127,7 @@ def test_the_watched_grouped_nearest_site_search_matches_scipy_per_group() -> No
     grouped = WATCHED["nearest_site grouped"](progress=lambda done, total: None)
     for label in (0, 1, 2):
         rows, site_rows = np.flatnonzero(GROUPS == label), np.flatnonzero(SITE_GROUPS == label)
-        index, distance = _brute_nearest(POINTS[rows], SITES[site_rows])
+        index, distance = _kdtree_nearest(POINTS[rows], SITES[site_rows])
         np.testing.assert_array_equal(grouped.assignment[rows], site_rows[index])
         np.testing.assert_allclose(grouped.distance[rows], distance, rtol=1e-15)
         alone = pw.nearest_site(POINTS[rows], SITES[site_rows], WEIGHTS[rows])

@@ -238,7 +238,8 @@ def capacity_allocation(
     unit : str
         Name of the coordinates' length unit, used in column names.
     time_limit : float, optional
-        Seconds (finite, above zero) the exact solve may take. No plan meeting the
+        Seconds (finite, above zero) the exact solve may take, counted from the call's start
+        (reading the arguments included). No plan meeting the
         capacities exists before it ends, so when they pass the call fails with an
         ``InputError`` naming ``time_limit`` (the limit was too short). Default: no limit.
     progress : bool or callable
@@ -315,7 +316,8 @@ def capacitated_p_median(
     unit : str
         Name of the coordinates' length unit.
     time_limit : float, optional
-        Seconds (finite, above zero) the run may take. When they pass after the first
+        Seconds (finite, above zero) the run may take, counted from the call's start (reading
+        the arguments included). When they pass after the first
         transportation plan, the best plan so far is returned with ``converged`` False
         (with candidates and no time left for the relaxation, ``median_lower_bound`` and
         ``median_relative_gap`` are NaN: nothing is proven); before it, no plan meeting the
@@ -609,7 +611,8 @@ def capacity_cells(
     unit : str
         Name of the coordinates' length unit, used in column names.
     time_limit : float, optional
-        Seconds (finite, above zero) the computation may take. No plan meeting the
+        Seconds (finite, above zero) the computation may take, counted from the call's start
+        (reading the arguments included). No plan meeting the
         capacities exists before the exact finish ends, so when they pass the call fails with an
         ``InputError`` naming ``time_limit`` (the limit was too short). Default: no limit.
     progress : bool or callable

@@ -345,8 +345,10 @@ pub fn with_planar_costs<T>(
         let costs = Costs::Planar(PlanarCosts::new(points, candidates)?);
         let answer = f(&costs);
         if let Costs::Planar(planar) = costs {
-            // A node per few candidates: freed aside, so a stopped run returns at its stop.
-            drop(FreedAside::new(planar.tree, candidates.len()));
+            // One allocation per node, and a bulk-loaded node holds up to six entries (rstar's
+            // default): about one per five candidates. Freed aside when that is many, so a
+            // stopped run returns at its stop.
+            drop(FreedAside::new(planar.tree, candidates.len() / 5));
         }
         answer
     }

@@ -47,7 +47,8 @@ pub struct CenterOptions {
     /// Largest number of recentred planar solves.
     pub max_iter: usize,
     /// Deadline and cancel flag (see the module's "Stopping early"); progress counts
-    /// iterations against `max_iter`, closed at the total when the run ends.
+    /// iterations, each planned as it begins, so a converged run's count ends at its total
+    /// (the iterations made, at most `max_iter`) and a stopped run's is closed there.
     pub limits: RunLimits,
 }
 
