@@ -385,7 +385,7 @@ where
 
 /// The watch of a grouped run: every point of the run planned at its start, the groups not
 /// yet begun skipped once the watch is cancelled, and the count closed at the total when the
-/// run ends. Each group's kernel is watched as its ungrouped form is (so a large group stops
+/// guard is dropped (at the end of the grouped run's scope, on every path out of it). Each group's kernel is watched as its ungrouped form is (so a large group stops
 /// inside its kernel), either quietly with its points counted when it ends
 /// ([`GroupWatch::finished`]) or counting its own points as it goes ([`GroupWatch::counting`]).
 ///
@@ -439,12 +439,6 @@ impl<'a> GroupWatch<'a> {
         outcome
     }
 
-    /// Close the count at the total: the points no group counted (groups that failed
-    /// before counting, were skipped, or had no kernel run) count as done.
-    pub(crate) fn close(self) {
-        self.watch.advance(self.planned.saturating_sub(self.counted.into_inner()));
-    }
-
     fn begin(&self) -> Result<()> {
         if self.watch.is_cancelled() {
             return Err(Error::InvalidParameter {
@@ -453,6 +447,14 @@ impl<'a> GroupWatch<'a> {
             });
         }
         Ok(())
+    }
+}
+
+impl Drop for GroupWatch<'_> {
+    /// Close the count at the total: the points no group counted (groups that failed
+    /// before counting, were skipped, or had no kernel run) count as done.
+    fn drop(&mut self) {
+        self.watch.advance(self.planned.saturating_sub(*self.counted.get_mut()));
     }
 }
 
@@ -501,7 +503,7 @@ mod tests {
             _ => groups.counting(g.points.len(), |_| Err(Error::Degenerate { argument: "points", reason: "x".into() })),
         })
         .unwrap();
-        groups.close();
+        drop(groups);
         assert_eq!(watch.progress(), (10, 10));
         assert_eq!(r.column(0, |&n| n), vec![2, 3, 2, 0]);
         // Cancelled before the start: no kernel runs, every group has an error, the count closes.
@@ -512,7 +514,7 @@ mod tests {
             groups.finished(g.points.len(), |_| -> Result<usize> { unreachable!("a cancelled run starts no group") })
         })
         .unwrap();
-        groups.close();
+        drop(groups);
         assert!(r.results.iter().all(|o| o.is_err()));
         assert_eq!(cancelled.progress(), (10, 10));
     }

@@ -171,14 +171,12 @@ pub fn geodesic_weber_points_watched(
 ) -> Result<Grouped<WeberPoint>> {
     check_weber(options)?;
     let groups = GroupWatch::new(&limits.watch, points.len());
-    let outcome = run_grouped(points, weights, labels, on_error, |g| {
+    run_grouped(points, weights, labels, on_error, |g| {
         groups.finished(g.points.len(), |quiet| {
             let inner = RunLimits { time_limit: limits.time_limit, watch: quiet.clone(), since: None };
             geodesic_weber_point_watched(g.points, g.weights, options, &inner)
         })
-    });
-    groups.close();
-    outcome
+    })
 }
 
 fn check_center(options: &CenterOptions) -> Result<()> {
@@ -234,14 +232,12 @@ pub fn geodesic_minimax_points(
     check_center(options)?;
     let inner = group_options(options);
     let groups = GroupWatch::new(&options.limits.watch, points.len());
-    let outcome = run_grouped(points, weights, labels, on_error, |g| {
+    run_grouped(points, weights, labels, on_error, |g| {
         // `inner` holds the quiet watch already, with the group's own deadline.
         let mut r = groups.finished(g.points.len(), |_| geodesic_minimax_point(g.points, g.weights, &inner))?;
         r.support.iter_mut().for_each(|s| *s = g.members[*s]);
         Ok(r)
-    });
-    groups.close();
-    outcome
+    })
 }
 
 /// The smallest geodesic circle covering longitude/latitude points on the WGS84 ellipsoid.
@@ -285,13 +281,11 @@ pub fn geodesic_enclosing_circles(
     check_center(options)?;
     let inner = group_options(options);
     let groups = GroupWatch::new(&options.limits.watch, points.len());
-    let outcome = run_grouped(points, Weights::Unit, labels, on_error, |g| {
+    run_grouped(points, Weights::Unit, labels, on_error, |g| {
         let mut r = groups.finished(g.points.len(), |_| geodesic_enclosing_circle(g.points, &inner))?;
         r.center.support.iter_mut().for_each(|s| *s = g.members[*s]);
         Ok(r)
-    });
-    groups.close();
-    outcome
+    })
 }
 
 /// Vertices of the geodesic circle of `radius` metres about `center`: `vertices` points at

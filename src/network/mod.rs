@@ -90,16 +90,14 @@ pub fn spanning_trees_watched(
     watch: &Watch,
 ) -> Result<Grouped<SpanningTree>> {
     let groups = GroupWatch::new(watch, points.len());
-    let outcome = run_grouped(points, Weights::Unit, labels, on_error, |group| {
+    run_grouped(points, Weights::Unit, labels, on_error, |group| {
         let mut tree = groups.finished(group.points.len(), |quiet| spanning_tree_watched(group.points, quiet))?;
         for e in &mut tree.edges {
             // Members ascend (the grouping is stable), so the smaller row stays first.
             *e = [group.members[e[0]], group.members[e[1]]];
         }
         Ok(tree)
-    });
-    groups.close();
-    outcome
+    })
 }
 
 /// How [`steiner_tree`] solves.
@@ -263,7 +261,7 @@ pub fn steiner_trees(
     validate_options(options)?;
     // Progress counts the points of finished groups; each group's own solve is quiet.
     let groups = GroupWatch::new(&options.watch, points.len());
-    let outcome = run_grouped(points, Weights::Unit, labels, on_error, |group| {
+    run_grouped(points, Weights::Unit, labels, on_error, |group| {
         let mut tree = groups.finished(group.points.len(), |quiet| {
             steiner_tree(group.points, &SteinerOptions { watch: quiet.clone(), ..options.clone() })
         })?;
@@ -275,9 +273,7 @@ pub fn steiner_trees(
             }
         }
         Ok(tree)
-    });
-    groups.close();
-    outcome
+    })
 }
 
 fn validate_options(options: &SteinerOptions) -> Result<()> {

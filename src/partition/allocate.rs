@@ -333,18 +333,17 @@ pub(crate) fn grouped_by_kernel(
     kernel: impl Fn(&[Point], &[Point], Weights<'_>, &Watch) -> Result<Allocation> + Sync,
 ) -> Result<SiteAllocations> {
     let groups = GroupWatch::new(watch, points.len());
-    let outcome = run_paired(points, weights, labels, "sites", sites, site_labels, on_error, |group, served| {
-        if group.points.is_empty() {
-            let k = served.points.len();
-            let (load, count) = (vec![0.0; k], vec![0; k]);
-            return Ok(Allocation { index: vec![], distance: vec![], load, count, cost: 0.0, total_load: 0.0 });
-        }
-        let allocation =
-            groups.counting(group.points.len(), |watch| kernel(group.points, served.points, group.weights, watch))?;
-        Ok(allocation.in_rows(served.members))
-    });
-    groups.close();
-    let (grouped, points, sites) = outcome?;
+    let (grouped, points, sites) =
+        run_paired(points, weights, labels, "sites", sites, site_labels, on_error, |group, served| {
+            if group.points.is_empty() {
+                let k = served.points.len();
+                let (load, count) = (vec![0.0; k], vec![0; k]);
+                return Ok(Allocation { index: vec![], distance: vec![], load, count, cost: 0.0, total_load: 0.0 });
+            }
+            let allocation = groups
+                .counting(group.points.len(), |watch| kernel(group.points, served.points, group.weights, watch))?;
+            Ok(allocation.in_rows(served.members))
+        })?;
     Ok(SiteAllocations { grouped, points, sites })
 }
 

@@ -578,11 +578,9 @@ pub fn voronoi_cells_grouped_watched(
 ) -> Result<(Grouped<VoronoiCells>, RowPlaces)> {
     let rings = region.map(region_rings).transpose()?;
     let groups = GroupWatch::new(watch, sites.len());
-    let outcome = run_grouped_placed("sites", sites, Weights::Unit, labels, on_error, |group| {
+    run_grouped_placed("sites", sites, Weights::Unit, labels, on_error, |group| {
         groups.finished(group.points.len(), |quiet| cells_within(group.points, rings.as_deref(), quiet))
-    });
-    groups.close();
-    outcome
+    })
 }
 
 /// The cells of `sites` within the region `rings` (checked by [`region_rings`]), or within

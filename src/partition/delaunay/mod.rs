@@ -127,12 +127,10 @@ pub fn delaunay_grouped_watched(
     watch: &Watch,
 ) -> Result<(Grouped<Triangulation>, RowPlaces)> {
     let groups = GroupWatch::new(watch, points.len());
-    let outcome = run_grouped_placed("points", points, Weights::Unit, labels, on_error, |group| {
+    run_grouped_placed("points", points, Weights::Unit, labels, on_error, |group| {
         let t = groups.finished(group.points.len(), |quiet| delaunay_watched(group.points, quiet))?;
         Ok(t.in_rows(group.members))
-    });
-    groups.close();
-    outcome
+    })
 }
 
 /// The positions the triangulation is built on: `points` scaled by a power of two (exact)
