@@ -2,6 +2,7 @@
 //! reduction, greedy covering, a packing bound, a quick Lagrangian bound and an exact
 //! branching search.
 
+use crate::cancel::FreedAside;
 use crate::discrete::{Costs, StepControl};
 use crate::geometry::CompensatedSum;
 
@@ -24,6 +25,14 @@ impl Incidence {
         covers: impl Fn(usize, f64) -> bool + Sync,
     ) -> Incidence {
         Incidence::build_watched(costs, demand, usable, reach, covers, &|| false).expect("never stopped")
+    }
+
+    /// These lists, freed on a thread of their own when dropped ([`FreedAside`]: a list per
+    /// point and per candidate, tenths of a second to free), so a run stopped by its deadline
+    /// or a cancel returns at its stop.
+    pub(in crate::discrete) fn freed_aside(self) -> FreedAside<Incidence> {
+        let lists = self.by_point.len() + self.by_site.len();
+        FreedAside::new(self, lists)
     }
 
     /// [`Incidence::build`] asking `stop()` before every row: `None` once it is true (the

@@ -32,7 +32,7 @@ use lagrangian::Covering;
 pub use most::{cover_most, CoverMost};
 
 use super::{check_radius, relative_gap, Costs, SiteService};
-use crate::cancel::{cancelled, Clock, FreedAside, RunLimits, Steps};
+use crate::cancel::{cancelled, Clock, RunLimits, Steps};
 use crate::error::{Error, Result};
 use crate::geometry::{validate_weights, Weights};
 
@@ -165,9 +165,7 @@ pub fn cover_all(
         steps.finish();
         return Err(stopped_before_a_plan(&clock, "cover"));
     };
-    // A list per point and per candidate: freed aside, so a stopped run returns at its stop.
-    let lists = incidence.by_point.len() + incidence.by_site.len();
-    let mut incidence = FreedAside::new(incidence, lists);
+    let mut incidence = incidence.freed_aside();
     if let Some(a) = incidence.uncoverable() {
         let i = demand[a];
         let (column, cost) = costs.cheapest(i);

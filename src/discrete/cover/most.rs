@@ -2,7 +2,7 @@
 //! a radius, by greedy addition, best-swap interchange and a Lagrangian upper bound.
 
 use super::{not_fixed, outside, Incidence};
-use crate::cancel::{Clock, FreedAside, RunLimits, Steps};
+use crate::cancel::{Clock, RunLimits, Steps};
 use crate::discrete::cover_bound::maximal_covering_bound;
 use crate::discrete::{check_choice, check_radius, relative_gap, Costs, SiteService};
 use crate::error::Result;
@@ -60,9 +60,7 @@ pub fn cover_most(
         steps.finish();
         return Err(super::stopped_before_a_plan(&clock, "plan"));
     };
-    // As in `cover_all`: the lists are freed aside, so a stopped run returns at its stop.
-    let lists = inc.by_point.len() + inc.by_site.len();
-    let inc = FreedAside::new(inc, lists);
+    let inc = inc.freed_aside();
 
     // Greedy addition.
     let mut gain: Vec<f64> = inc.by_site.iter().map(|s| s.iter().map(|&a| w[a]).sum()).collect();
