@@ -137,7 +137,11 @@ impl Watch {
 
 /// The stopping rule a caller gives a kernel that takes no other options: a deadline
 /// `time_limit` seconds from the call's start (`None`: none) and the [`Watch`] to poll.
+///
+/// Built with [`RunLimits::new`] or [`RunLimits::from_now`] (the struct is
+/// `#[non_exhaustive]`, so a field added later breaks no caller outside the crate).
 #[derive(Debug, Clone, Default, PartialEq)]
+#[non_exhaustive]
 pub struct RunLimits {
     /// Wall-clock budget in seconds (`None`: none). When it passes, the kernel returns the
     /// best answer it has, flagged as not proven.
@@ -151,6 +155,11 @@ pub struct RunLimits {
 }
 
 impl RunLimits {
+    /// `time_limit` seconds counted from the kernel's own start, polling `watch`.
+    pub fn new(time_limit: Option<f64>, watch: Watch) -> RunLimits {
+        RunLimits { time_limit, watch, since: None }
+    }
+
     /// A fresh watch and a `time_limit` counted from now: for a call that starts here and
     /// may work before its kernel starts.
     pub fn from_now(time_limit: Option<f64>) -> RunLimits {
@@ -312,10 +321,23 @@ impl<T: Send + 'static> Drop for FreedAside<T> {
     fn drop(&mut self) {
         let Some(value) = self.value.take() else { return };
         if self.aside {
-            // When no thread can be started, the refused closure drops the value here.
-            let _ = std::thread::Builder::new().name("placewise-free".into()).spawn(move || drop(value));
+            spawn_free(value);
         }
     }
+}
+
+/// Frees `value`, held in `allocations` separate allocations, now: on another thread when
+/// they are at least [`FREE_ASIDE_ALLOCATIONS`] (as [`FreedAside`] does when dropped), else
+/// in place. For a structure the kernel no longer needs once it has answered.
+pub(crate) fn free_aside<T: Send + 'static>(value: T, allocations: usize) {
+    if allocations >= FREE_ASIDE_ALLOCATIONS {
+        spawn_free(value);
+    }
+}
+
+fn spawn_free<T: Send + 'static>(value: T) {
+    // When no thread can be started, the refused closure drops the value here.
+    let _ = std::thread::Builder::new().name("placewise-free".into()).spawn(move || drop(value));
 }
 
 /// Helpers for the tests of watched kernels.
@@ -385,7 +407,7 @@ mod tests {
         assert_eq!(watch.progress(), (3, 5));
         steps.finish();
         assert_eq!(watch.progress(), (5, 5));
-        let limits = RunLimits { time_limit: Some(0.0), watch: watch.clone(), since: None };
+        let limits = RunLimits::new(Some(0.0), watch.clone());
         assert!(limits.clock().stop() && !RunLimits::default().clock().stop());
     }
 

@@ -334,19 +334,13 @@ mod tests {
         let caps = [2000.0 / 12.0; 12];
         let cancelled = crate::cancel::Watch::new();
         cancelled.cancel();
-        for limits in [
-            RunLimits { time_limit: Some(0.0), ..Default::default() },
-            RunLimits { time_limit: None, watch: cancelled, since: None },
-        ] {
+        for limits in [RunLimits { time_limit: Some(0.0), ..Default::default() }, RunLimits::new(None, cancelled)] {
             let options = AllocationOptions { limits: limits.clone(), ..Default::default() };
             let e = capacity_allocation(&points, &sites, &caps, Weights::Unit, &options).unwrap_err();
             assert!(matches!(e, Error::InvalidParameter { name: "time_limit", .. }), "{e}");
         }
         let watch = crate::cancel::Watch::new();
-        let options = AllocationOptions {
-            limits: RunLimits { time_limit: None, watch: watch.clone(), since: None },
-            ..Default::default()
-        };
+        let options = AllocationOptions { limits: RunLimits::new(None, watch.clone()), ..Default::default() };
         let a = capacity_allocation(&points, &sites, &caps, Weights::Unit, &options).unwrap();
         assert!(a.augmentations > 0);
         assert_eq!(watch.progress(), (2, 2));

@@ -285,7 +285,7 @@ pub fn discrete_p_center(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::discrete::CostMatrix;
+    use crate::discrete::{testing::p_subsets, CostMatrix};
     use crate::geometry::random::SplitMix64;
 
     #[test]
@@ -299,20 +299,13 @@ mod tests {
             for p in 1..4 {
                 let r = discrete_p_center(&costs, Weights::Given(&w), p, &[], &RunLimits::default()).unwrap();
                 // Brute-force enumeration of every p-subset (independent).
-                let mut exact = f64::INFINITY;
-                for mask in 0u32..(1 << m) {
-                    if mask.count_ones() as usize == p {
-                        let worst = (0..n)
-                            .map(|i| {
-                                w[i] * (0..m)
-                                    .filter(|j| mask >> j & 1 == 1)
-                                    .map(|j| values[i * m + j])
-                                    .fold(f64::INFINITY, f64::min)
-                            })
-                            .fold(0.0, f64::max);
-                        exact = exact.min(worst);
-                    }
-                }
+                let exact = p_subsets(m, p)
+                    .map(|open| {
+                        (0..n)
+                            .map(|i| w[i] * open.iter().map(|&j| values[i * m + j]).fold(f64::INFINITY, f64::min))
+                            .fold(0.0, f64::max)
+                    })
+                    .fold(f64::INFINITY, f64::min);
                 // Small instances: the exact search settles every trial.
                 assert_eq!(r.service.weighted_worst, exact);
                 assert_eq!((r.lower_bound, r.relative_gap), (exact, 0.0));

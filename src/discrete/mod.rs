@@ -412,18 +412,25 @@ pub(crate) mod testing {
             .sum()
     }
 
+    /// Every `p`-subset of the columns `0..m` (`m` ≤ 31), each in increasing order: the
+    /// plans a brute-force reference enumerates.
+    pub(crate) fn p_subsets(m: usize, p: usize) -> impl Iterator<Item = Vec<usize>> {
+        assert!(m <= 31, "brute force over at most 31 columns");
+        (0u32..1 << m)
+            .filter(move |mask| mask.count_ones() as usize == p)
+            .map(move |mask| (0..m).filter(|j| mask >> j & 1 == 1).collect())
+    }
+
     /// The least [`median_total`] over every plan of the `fixed` sites and `p` others, by
     /// enumeration of every subset of the `m` columns (`m` ≤ 31).
     pub(crate) fn least_median_total(values: &[f64], m: usize, w: &[f64], p: usize, fixed: &[usize]) -> f64 {
-        let mut best = f64::INFINITY;
-        for mask in 0u32..(1 << m) {
-            let set: Vec<usize> = (0..m).filter(|j| mask >> j & 1 == 1).collect();
-            if set.len() == p && !set.iter().any(|j| fixed.contains(j)) {
+        p_subsets(m, p)
+            .filter(|set| !set.iter().any(|j| fixed.contains(j)))
+            .map(|set| {
                 let open: Vec<usize> = fixed.iter().chain(&set).copied().collect();
-                best = best.min(median_total(values, m, w, &open));
-            }
-        }
-        best
+                median_total(values, m, w, &open)
+            })
+            .fold(f64::INFINITY, f64::min)
     }
 }
 
@@ -569,11 +576,11 @@ mod tests {
         // (every point served) and a bound that holds: on the same side of the full run's
         // plan as its own bound. The covering models stop while they list the coverage,
         // before any plan exists, and say so.
-        let expired = || RunLimits { time_limit: Some(0.0), watch: Watch::new(), since: None };
+        let expired = || RunLimits::new(Some(0.0), Watch::new());
         let cancelled = || {
             let watch = Watch::new();
             watch.cancel();
-            RunLimits { time_limit: None, watch, since: None }
+            RunLimits::new(None, watch)
         };
         for limits in [expired(), cancelled()] {
             let options = DiscreteMedianOptions { limits: limits.clone(), ..Default::default() };

@@ -14,7 +14,7 @@
 use rstar::primitives::GeomWithData;
 use rstar::RTree;
 
-use crate::cancel::FreedAside;
+use crate::cancel::free_aside;
 use crate::error::{Error, Result};
 use crate::geometry::{distance, validate_points, Point};
 
@@ -348,7 +348,7 @@ pub fn with_planar_costs<T>(
             // One allocation per node, and a bulk-loaded node holds up to six entries (rstar's
             // default): about one per five candidates. Freed aside when that is many, so a
             // stopped run returns at its stop.
-            drop(FreedAside::new(planar.tree, candidates.len() / 5));
+            free_aside(planar.tree, candidates.len() / 5);
         }
         answer
     }

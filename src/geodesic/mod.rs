@@ -173,7 +173,7 @@ pub fn geodesic_weber_points_watched(
     let groups = GroupWatch::new(&limits.watch, points.len());
     run_grouped(points, weights, labels, on_error, |g| {
         groups.finished(g.points.len(), |quiet| {
-            let inner = RunLimits { time_limit: limits.time_limit, watch: quiet.clone(), since: None };
+            let inner = RunLimits::new(limits.time_limit, quiet.clone());
             geodesic_weber_point_watched(g.points, g.weights, options, &inner)
         })
     })
@@ -187,7 +187,7 @@ fn check_center(options: &CenterOptions) -> Result<()> {
 /// time limit (each group's own, from its start), the caller's cancel flag, and no progress
 /// of its own (the grouped run counts the points of finished groups).
 fn group_options(options: &CenterOptions) -> CenterOptions {
-    let limits = RunLimits { time_limit: options.limits.time_limit, watch: options.limits.watch.quiet(), since: None };
+    let limits = RunLimits::new(options.limits.time_limit, options.limits.watch.quiet());
     CenterOptions { limits, ..options.clone() }
 }
 

@@ -173,10 +173,8 @@ fn a_spent_time_limit_returns_the_start_with_its_true_radius_and_a_valid_gap() {
     let w: Vec<f64> = (0..pts.len()).map(|_| 1.0 + rng.next_f64()).collect();
     let full = geodesic_minimax_point(&pts, Weights::Given(&w), &CenterOptions::default()).unwrap();
     let watch = crate::cancel::Watch::new();
-    let spent = CenterOptions {
-        limits: crate::cancel::RunLimits { time_limit: Some(0.0), watch: watch.clone(), since: None },
-        ..CenterOptions::default()
-    };
+    let spent =
+        CenterOptions { limits: crate::cancel::RunLimits::new(Some(0.0), watch.clone()), ..CenterOptions::default() };
     let cut = geodesic_minimax_point(&pts, Weights::Given(&w), &spent).unwrap();
     let earth = Earth::wgs84();
     let largest = pts.iter().zip(&w).map(|(&p, &wi)| wi * earth.distance(cut.location, p)).fold(0.0, f64::max);
@@ -194,10 +192,8 @@ fn a_spent_time_limit_returns_the_start_with_its_true_radius_and_a_valid_gap() {
     assert_eq!(counted.limits.watch.progress(), (n, n));
     // A cancelled watch also stops the run; the caller drops its answer (Watch::finish).
     watch.cancel();
-    let cancelled = CenterOptions {
-        limits: crate::cancel::RunLimits { time_limit: None, watch: watch.clone(), since: None },
-        ..CenterOptions::default()
-    };
+    let cancelled =
+        CenterOptions { limits: crate::cancel::RunLimits::new(None, watch.clone()), ..CenterOptions::default() };
     let r = geodesic_enclosing_circle(&pts, &cancelled).unwrap();
     assert!(!r.center.converged && watch.finish(r).is_err());
 }
@@ -210,7 +206,7 @@ fn a_weber_run_out_of_time_returns_its_measured_start_uncertified() {
     let points: Vec<Point> = (0..49).map(|i| [10.0 + f64::from(i % 7) * 0.3, 45.0 + f64::from(i / 7) * 0.2]).collect();
     let weights: Vec<f64> = (0..49).map(|i| 1.0 + f64::from(i % 5)).collect();
     let full = geodesic_weber_point(&points, Weights::Given(&weights), &WeberOptions::default()).unwrap();
-    let limits = RunLimits { time_limit: Some(0.0), watch: Watch::new(), since: None };
+    let limits = RunLimits::new(Some(0.0), Watch::new());
     let cut =
         geodesic_weber_point_watched(&points, Weights::Given(&weights), &WeberOptions::default(), &limits).unwrap();
     assert!(!cut.converged && cut.iterations == 1, "{cut:?}");

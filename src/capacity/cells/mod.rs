@@ -659,10 +659,7 @@ mod tests {
         let e = capacity_cells(&points, &sites, &caps, Weights::Unit, None, &expired).unwrap_err();
         assert!(matches!(e, Error::InvalidParameter { name: "time_limit", .. }), "{e}");
         let watch = crate::cancel::Watch::new();
-        let watched = CellsOptions {
-            limits: RunLimits { time_limit: None, watch: watch.clone(), since: None },
-            ..Default::default()
-        };
+        let watched = CellsOptions { limits: RunLimits::new(None, watch.clone()), ..Default::default() };
         let c = capacity_cells(&points, &sites, &caps, Weights::Unit, None, &watched).unwrap();
         let (done, total) = watch.progress();
         assert!(c.newton_steps > 0 && done == total && total == NEWTON_STEPS as u64 + 1);

@@ -180,7 +180,7 @@ fn improve_cover(inc: &Incidence, w: &[f64], free: &[bool], chosen: &mut [usize]
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::discrete::CostMatrix;
+    use crate::discrete::{testing::p_subsets, CostMatrix};
     use crate::geometry::random::SplitMix64;
 
     #[test]
@@ -194,16 +194,11 @@ mod tests {
             for p in 1..4 {
                 let r = cover_most(&costs, Weights::Given(&w), p, 3.0, &[], &RunLimits::default()).unwrap();
                 // Brute-force enumeration of every p-subset (independent).
-                let mut exact = 0.0f64;
-                for mask in 0u32..(1 << m) {
-                    if mask.count_ones() as usize == p {
-                        let got: f64 = (0..n)
-                            .filter(|&i| (0..m).any(|j| mask >> j & 1 == 1 && values[i * m + j] <= 3.0))
-                            .map(|i| w[i])
-                            .sum();
-                        exact = exact.max(got);
-                    }
-                }
+                let exact = p_subsets(m, p)
+                    .map(|open| {
+                        (0..n).filter(|&i| open.iter().any(|&j| values[i * m + j] <= 3.0)).map(|i| w[i]).sum::<f64>()
+                    })
+                    .fold(0.0, f64::max);
                 let covered = r.service.coverage.unwrap().covered_weight;
                 assert!(covered <= exact + 1e-9 && covered >= 0.9 * exact, "{covered} vs {exact}");
                 assert!(r.upper_bound >= exact - 1e-9, "{} < {exact}", r.upper_bound);
