@@ -28,3 +28,17 @@ def test_package_is_marked_typed():
     import placewise
 
     assert (Path(placewise.__file__).parent / "py.typed").is_file()
+
+
+def test_dir_lists_each_public_name_once():
+    # Reference: the package's own __all__ and its lazily loaded modules. A lazy module
+    # becomes a global once loaded (placewise.discrete is loaded by coverage), and was then
+    # listed twice.
+    import placewise
+
+    placewise.discrete  # noqa: B018 - load the lazy module so it is a global too
+    names = dir(placewise)
+    assert len(names) == len(set(names))
+    assert set(placewise.__all__) <= set(names)
+    assert {"gis", "cluster", "cli", "demo", "plotting", "discrete", "geodesic"} <= set(names)
+    assert "annotations" not in names and "Any" not in names

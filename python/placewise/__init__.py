@@ -75,7 +75,9 @@ def __getattr__(name: str) -> Any:
 
 
 def __dir__() -> list[str]:
-    return sorted([*globals(), *_LAZY_MODULES])
+    # Each name once (a lazy module is also a global once loaded), without the names this
+    # file imports only for its own annotations.
+    return sorted({*globals(), *_LAZY_MODULES} - {"annotations", "Any"})
 
 __all__ = [
     "Allocation",
