@@ -11,10 +11,11 @@ use super::convert::{
     as_point_slice, count_arg, float_arg, index_array, index_values, on_error_arg, time_limit_arg, Cloud,
 };
 use super::fields::Fields;
+use super::partition::{nearest_site_binding, nearest_site_grouped_binding};
 use super::runtime::{progress_arg, run_watched, Progress};
-use super::{labels_arg, points_arg, run_detached, weights_arg};
-use crate::batch::{Grouped, RowPlaces};
-use crate::cancel::{RunLimits, Watch};
+use super::{points_arg, run_detached};
+use crate::batch::Grouped;
+use crate::cancel::RunLimits;
 use crate::geodesic::{
     geodesic_area, geodesic_circle, geodesic_distances, geodesic_enclosing_circle, geodesic_enclosing_circles,
     geodesic_length, geodesic_minimax_point, geodesic_minimax_points, geodesic_nearest_site_grouped_watched,
@@ -47,10 +48,6 @@ fn center_options<'py>(
 fn point_column<'py, T>(py: Python<'py>, g: &Grouped<T>, at: impl Fn(&T) -> [f64; 2]) -> PyResult<Bound<'py, PyAny>> {
     let flat: Vec<f64> = g.column([f64::NAN; 2], at).into_iter().flatten().collect();
     Ok(PyArray1::from_vec(py, flat).reshape([g.labels.len(), 2])?.into_any())
-}
-
-fn positions(places: &RowPlaces) -> Vec<i64> {
-    places.group.iter().map(|&g| g as i64).collect()
 }
 
 /// Fields: distance (n,), metres.
@@ -310,25 +307,9 @@ fn geodesic_nearest_single<'py>(
     weights: Option<&Bound<'py, PyAny>>,
     progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
-    let mut progress = progress_arg(progress, "geodesic nearest_site (points)")?;
-    let points = points_arg(points, "points")?;
-    let sites = points_arg(sites, "sites")?;
-    let weights = weights_arg(weights, "weights")?;
-    let (p, s) = (as_point_slice(&points), as_point_slice(&sites));
-    let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
     // Watched: Ctrl-C stops the search within one chunk of points per worker thread.
-    let watch = Watch::new();
-    let a = run_watched(py, &watch, &mut progress, || {
-        geodesic_nearest_site_watched(p, s, Weights::from_option(w), &watch)
-    })?;
-    Ok(Fields::new(py)
-        .put("assignment", PyArray1::from_vec(py, index_values(a.index)))?
-        .put("distance", PyArray1::from_vec(py, a.distance))?
-        .put("load", PyArray1::from_vec(py, a.load))?
-        .put("count", PyArray1::from_vec(py, index_values(a.count)))?
-        .put("cost", a.cost)?
-        .put("total_load", a.total_load)?
-        .done())
+    let progress = progress_arg(progress, "geodesic nearest_site (points)")?;
+    nearest_site_binding(py, (points, sites, weights), progress, geodesic_nearest_site_watched)
 }
 
 /// Fields as `nearest_site_grouped` (distances and costs in metres).
@@ -345,42 +326,11 @@ fn geodesic_nearest_grouped<'py>(
     errors: &str,
     progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
-    let mut progress = progress_arg(progress, "geodesic nearest_site (points)")?;
-    let on_error = on_error_arg(errors)?;
-    let points = points_arg(points, "points")?;
-    let sites = points_arg(sites, "sites")?;
-    let weights = weights_arg(weights, "weights")?;
-    let labels = labels_arg(groups, "groups")?;
-    let site_labels = labels_arg(site_groups, "site_groups")?;
-    let (p, s) = (as_point_slice(&points), as_point_slice(&sites));
-    let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
-    let (l, sl) = (labels.as_slice()?, site_labels.as_slice()?);
     // Watched: Ctrl-C skips the groups not begun and stops the running ones within one
     // chunk of points per worker thread.
-    let watch = Watch::new();
-    let r = run_watched(py, &watch, &mut progress, || {
-        geodesic_nearest_site_grouped_watched(p, Weights::from_option(w), l, s, sl, on_error, &watch)
-    })?;
-    let g = &r.grouped;
-    let assignment = r.points.by_row(g, -1i64, |a, k| a.index[k] as i64);
-    let distance = r.points.by_row(g, f64::NAN, |a, k| a.distance[k]);
-    let load = r.sites.by_row(g, f64::NAN, |a, k| a.load[k]);
-    let count = r.sites.by_row(g, 0i64, |a, k| a.count[k] as i64);
-    let groups = g.labels.len();
-    let sizes = |places: &RowPlaces| index_values(places.sizes(groups));
-    Ok(Fields::new(py)
-        .grouped(g)?
-        .put("assignment", PyArray1::from_vec(py, assignment))?
-        .put("distance", PyArray1::from_vec(py, distance))?
-        .put("point_group", PyArray1::from_vec(py, positions(&r.points)))?
-        .put("load", PyArray1::from_vec(py, load))?
-        .put("count", PyArray1::from_vec(py, count))?
-        .put("site_group", PyArray1::from_vec(py, positions(&r.sites)))?
-        .put("cost", PyArray1::from_vec(py, g.column(f64::NAN, |a| a.cost)))?
-        .put("total_load", PyArray1::from_vec(py, g.column(f64::NAN, |a| a.total_load)))?
-        .put("point_count", PyArray1::from_vec(py, sizes(&r.points)))?
-        .put("site_count", PyArray1::from_vec(py, sizes(&r.sites)))?
-        .done())
+    let progress = progress_arg(progress, "geodesic nearest_site (points)")?;
+    let arguments = (points, sites, weights, groups, site_groups);
+    nearest_site_grouped_binding(py, arguments, errors, progress, geodesic_nearest_site_grouped_watched)
 }
 
 pub(super) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {

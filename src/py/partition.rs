@@ -12,15 +12,15 @@ use rayon::prelude::*;
 
 use super::convert::{as_point_slice, index_rows, index_values, on_error_arg, region_arg, Cloud};
 use super::fields::Fields;
-use super::runtime::{progress_arg, run_on_points, run_watched};
+use super::runtime::{progress_arg, run_on_points, run_watched, Progress};
 use super::{labels_arg, points_arg, run_detached, weights_arg};
-use crate::batch::RowPlaces;
+use crate::batch::{OnGroupError, RowPlaces};
 use crate::cancel::Watch;
 use crate::geometry::{Point, Weights};
 use crate::partition::{
     delaunay_grouped_watched as delaunay_groups, delaunay_watched, nearest_site_grouped_watched as nearest_site_groups,
-    nearest_site_watched, voronoi_cells_grouped_watched as voronoi_cells_groups, voronoi_cells_watched, Region,
-    Triangulation, VoronoiCells,
+    nearest_site_watched, voronoi_cells_grouped_watched as voronoi_cells_groups, voronoi_cells_watched, Allocation,
+    Region, SiteAllocations, Triangulation, VoronoiCells,
 };
 use crate::partition::{power_cells, power_cells_grouped as power_cells_groups, PowerCells};
 
@@ -260,16 +260,28 @@ fn nearest_site_single<'py>(
     weights: Option<&Bound<'py, PyAny>>,
     progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
-    let mut progress = progress_arg(progress, "nearest_site (points)")?;
+    // Watched: Ctrl-C stops the sites' indexing, or the search within one chunk of points
+    // per worker thread.
+    let progress = progress_arg(progress, "nearest_site (points)")?;
+    nearest_site_binding(py, (points, sites, weights), progress, nearest_site_watched)
+}
+
+/// The binding of a nearest-site kernel (planar here, geodesic in `geodesic.rs`): reads
+/// `(points, sites, weights)`, runs `kernel` watched and lays its allocation out as the
+/// fields of `nearest_site_single`.
+pub(super) fn nearest_site_binding<'py>(
+    py: Python<'py>,
+    (points, sites, weights): (&Bound<'py, PyAny>, &Bound<'py, PyAny>, Option<&Bound<'py, PyAny>>),
+    mut progress: Progress<'py>,
+    kernel: impl FnOnce(&[Point], &[Point], Weights<'_>, &Watch) -> crate::Result<Allocation> + Send,
+) -> PyResult<Bound<'py, PyDict>> {
     let points = points_arg(points, "points")?;
     let sites = points_arg(sites, "sites")?;
     let weights = weights_arg(weights, "weights")?;
     let (p, s) = (as_point_slice(&points), as_point_slice(&sites));
     let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
-    // Watched: Ctrl-C stops the sites' indexing, or the search within one chunk of points
-    // per worker thread.
     let watch = Watch::new();
-    let a = run_watched(py, &watch, &mut progress, || nearest_site_watched(p, s, Weights::from_option(w), &watch))?;
+    let a = run_watched(py, &watch, &mut progress, || kernel(p, s, Weights::from_option(w), &watch))?;
     Ok(Fields::new(py)
         .put("assignment", PyArray1::from_vec(py, index_values(a.index)))?
         .put("distance", PyArray1::from_vec(py, a.distance))?
@@ -297,7 +309,38 @@ fn nearest_site_grouped<'py>(
     errors: &str,
     progress: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyDict>> {
-    let mut progress = progress_arg(progress, "nearest_site (points)")?;
+    // Watched: Ctrl-C skips the groups not begun and stops the running ones as the
+    // ungrouped search stops.
+    let progress = progress_arg(progress, "nearest_site (points)")?;
+    let arguments = (points, sites, weights, groups, site_groups);
+    nearest_site_grouped_binding(py, arguments, errors, progress, nearest_site_groups)
+}
+
+/// The arguments of a grouped nearest-site binding: points, sites, weights, groups,
+/// site_groups.
+pub(super) type GroupedSiteArguments<'a, 'py> = (
+    &'a Bound<'py, PyAny>,
+    &'a Bound<'py, PyAny>,
+    Option<&'a Bound<'py, PyAny>>,
+    &'a Bound<'py, PyAny>,
+    &'a Bound<'py, PyAny>,
+);
+
+/// A grouped nearest-site kernel: points, weights, groups, sites, site groups, what to do with
+/// a failing group, and the watch.
+pub(super) type GroupedSiteKernel =
+    fn(&[Point], Weights<'_>, &[i64], &[Point], &[i64], OnGroupError, &Watch) -> crate::Result<SiteAllocations>;
+
+/// The binding of a grouped nearest-site kernel (planar here, geodesic in `geodesic.rs`):
+/// reads the arguments, runs `kernel` watched and lays the groups' allocations out as the
+/// fields of `nearest_site_grouped`.
+pub(super) fn nearest_site_grouped_binding<'py>(
+    py: Python<'py>,
+    (points, sites, weights, groups, site_groups): GroupedSiteArguments<'_, 'py>,
+    errors: &str,
+    mut progress: Progress<'py>,
+    kernel: GroupedSiteKernel,
+) -> PyResult<Bound<'py, PyDict>> {
     let on_error = on_error_arg(errors)?;
     let points = points_arg(points, "points")?;
     let sites = points_arg(sites, "sites")?;
@@ -307,12 +350,8 @@ fn nearest_site_grouped<'py>(
     let (p, s) = (as_point_slice(&points), as_point_slice(&sites));
     let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
     let (l, sl) = (labels.as_slice()?, site_labels.as_slice()?);
-    // Watched: Ctrl-C skips the groups not begun and stops the running ones as the
-    // ungrouped search stops.
     let watch = Watch::new();
-    let r = run_watched(py, &watch, &mut progress, || {
-        nearest_site_groups(p, Weights::from_option(w), l, s, sl, on_error, &watch)
-    })?;
+    let r = run_watched(py, &watch, &mut progress, || kernel(p, Weights::from_option(w), l, s, sl, on_error, &watch))?;
     let g = &r.grouped;
     let assignment = r.points.by_row(g, -1i64, |a, k| a.index[k] as i64);
     let distance = r.points.by_row(g, f64::NAN, |a, k| a.distance[k]);
