@@ -870,6 +870,47 @@ def test_a_group_on_the_date_line_gets_a_frame_on_its_own_side_of_the_earth() ->
         assert abs(cost - metres.sum()) <= error * metres.sum() * (1 + 1e-9)
 
 
+# S-JTSK counts longitude from Ferro (17°40' west of Greenwich); NTF from Paris, in grads.
+@pytest.mark.parametrize("crs", ["EPSG:4818", "EPSG:4807"])
+def test_a_geographic_crs_on_another_meridian_or_unit_is_solved_where_its_points_are(crs) -> None:
+    from pyproj import Geod, Proj
+
+    rng = np.random.default_rng(14)
+    lon = np.r_[rng.uniform(14.2, 14.7, 40), rng.uniform(16.2, 16.7, 40)]
+    lat = np.r_[rng.uniform(49.9, 50.2, 40), rng.uniform(49.1, 49.3, 40)]
+    town = np.repeat(["west", "east"], 40)
+    frame = _lonlat_frame(lon, lat, town=town).to_crs(crs)
+    # The points' WGS84 places as pyproj reads the frame back (its datum shift included).
+    back = frame.to_crs("EPSG:4326")
+    lon, lat = back.geometry.x.to_numpy(), back.geometry.y.to_numpy()
+    geod = Geod(ellps="WGS84")  # outside reference: GeographicLib geodesics
+    for by in (None, "town"):
+        plan = gis.p_median(frame, 1, by=by)  # a frame-model function
+        sites = plan.sites.to_crs("EPSG:4326")
+        for k in range(len(sites)):
+            mine = np.ones(len(lon), bool) if by is None else town == sites[by].iloc[k]
+            site = sites.geometry.iloc[k]
+            _, _, metres = geod.inv(np.full(mine.sum(), site.x), np.full(mine.sum(), site.y), lon[mine], lat[mine])
+            # The stated scale error is PROJ's, of the working frame at the points' true places...
+            factors = Proj("EPSG:32633").get_factors(lon[mine], lat[mine])
+            assert plan.sites["work_crs"].iloc[k] == "WGS 84 / UTM zone 33N"
+            expected = np.abs(np.asarray(factors.parallel_scale) - 1).max()
+            error = float(plan.sites["scale_error"].iloc[k])
+            assert error == pytest.approx(expected, rel=1e-6)
+            # ...and the reported cost is the geodesic cost within it (the site where the data are).
+            cost = float(plan.summary["cost_m"].iloc[k])
+            assert abs(cost - metres.sum()) <= error * metres.sum() * (1 + 1e-9)
+    if crs == "EPSG:4807":
+        # 85.4 and 85.5 degrees are about 94.9 grads: inside the globe, in the frame's unit.
+        north = _lonlat_frame([10.0, 10.5], [85.4, 85.5]).to_crs(crs)
+        assert north.geometry.y.min() > 90
+        out = gis.weber_point(north)
+        # Closed form: two points' Fermat–Weber cost is the distance between them.
+        places = north.to_crs("EPSG:4326").geometry
+        _, _, metres = geod.inv(places.x.iloc[0], places.y.iloc[0], places.x.iloc[1], places.y.iloc[1])
+        assert float(out["cost_m"].iloc[0]) == pytest.approx(metres, rel=1e-9)
+
+
 def test_a_geographic_region_is_densified_before_it_is_projected() -> None:
     # A lon/lat box projected by its four corners alone loses the curved bands along its
     # edges; densified, the cells tile the box: their areas sum to the box's own area in the
