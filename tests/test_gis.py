@@ -554,6 +554,36 @@ def test_voronoi_cells_by_group_each_tile_the_region():
         assert bool(shapely.covers(mine.geometry.values, sites[sites["firm"] == firm].geometry.values).all())
 
 
+def test_geographic_groups_in_two_utm_zones_each_tile_the_region_where_it_lies():
+    from pyproj import Geod
+
+    # Two firms' sites in UTM zones 32 and 33, one lon/lat study region across both: every
+    # firm's cells must cover that region (not one moved into the other firm's frame).
+    rng = np.random.default_rng(15)
+    lon = np.r_[rng.uniform(10.0, 10.3, 4), rng.uniform(15.0, 15.3, 4)]
+    lat = rng.uniform(50.0, 50.2, 8)
+    sites = gpd.GeoDataFrame({"firm": np.repeat(["blue", "red"], 4)}, geometry=gpd.points_from_xy(lon, lat),
+                             crs="EPSG:4326")
+    box = shapely.box(9.5, 49.5, 16.0, 50.7)
+    cells = gis.voronoi_cells(sites, gpd.GeoSeries([box], crs="EPSG:4326"), by="firm")
+    # Outside reference: the region's area on the WGS84 ellipsoid (pyproj.Geod, densified).
+    truth = abs(Geod(ellps="WGS84").geometry_area_perimeter(shapely.segmentize(box, 0.001))[0])
+    for firm in ("blue", "red"):
+        mine = cells[cells["firm"] == firm]
+        assert np.allclose(shapely.union_all(mine.geometry.values).bounds, box.bounds, atol=1e-6)  # shapely
+    assert cells["work_crs"].nunique() == 1  # one frame, chosen over the sites and the region
+    error = float(cells["scale_error"].iloc[0])
+    assert 0 < error <= 1e-3
+    for firm in ("blue", "red"):
+        # Areas true within the stated scale error (squared, for an area).
+        assert abs(cells.loc[cells["firm"] == firm, "area_m2"].sum() / truth - 1) <= 2.0 * error
+    # Sites in one town and a region across half a continent: the frame distorts the region
+    # by far more than 0.1 %, so the region counts in the refusal (power cells have no sphere).
+    town = sites[sites["firm"] == "blue"].assign(power=0.0)
+    with pytest.raises(pw.InputError, match="sites with region: .* distorts distances"):
+        gis.power_cells(town, "power", gpd.GeoSeries([shapely.box(3.0, 45.0, 17.0, 55.0)], crs="EPSG:4326"))
+
+
 def test_nearest_site_matches_ckdtree_in_metres():
     demand = lonlat_frame(n=500)
     sites = lonlat_frame(n=7, seed=3).set_index(np.array(list("ABCDEFG")))

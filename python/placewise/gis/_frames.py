@@ -476,14 +476,21 @@ def _refuse_unprojected(frame: Any, xy: np.ndarray, name: str, work: Any, kind: 
 
 
 def prepare_or_sphere(obj: Any, name: str, *, planar: bool, centroids: bool, work_crs: Any,
-                      max_scale_error: float, by: str | None = None) -> Prepared:
+                      max_scale_error: float, by: str | None = None, region: Any = None) -> Prepared:
     """:func:`prepare`, or — for geographic input no working frame holds within
     ``max_scale_error`` (global, polar, wide across the antimeridian), ungrouped and without a
     chosen ``work_crs`` — the points as WGS84 lon/lat for the spherical kernels
-    (``Prepared.ellipsoid``)."""
+    (``Prepared.ellipsoid``). With a ``region`` the working frame is chosen over the points
+    and the region together (:func:`~placewise.gis._together.prepare_together`), one frame
+    for every group: the region is clipped in it, so its distortion counts too."""
     try:
-        return prepare(obj, name, planar=planar, centroids=centroids, work_crs=work_crs,
-                       max_scale_error=max_scale_error, by=by)
+        if region is None:
+            return prepare(obj, name, planar=planar, centroids=centroids, work_crs=work_crs,
+                           max_scale_error=max_scale_error, by=by)
+        from ._together import prepare_together  # built on this module
+
+        return prepare_together(obj, name, {}, planar=planar, centroids=centroids, region=region, work_crs=work_crs,
+                                max_scale_error=max_scale_error, by=by)[0]
     except TooWide:
         if by is not None:
             raise
