@@ -223,6 +223,28 @@ def test_enclosing_circle_around_the_pole_is_closed_through_it():
     assert geom.is_valid and shapely.covers(geom, shapely.points(pts)).all()  # shapely
 
 
+def test_circles_holding_a_pole_are_drawn_whole():
+    # Points round the north pole off its axis: the smallest circle holds the pole, and the
+    # drawn ring's longitudes (unwrapped from the centre's) run a whole turn beyond +-180.
+    rng = np.random.default_rng(41)
+    pts = np.column_stack([rng.uniform(-180, 180, 20), rng.uniform(75, 85, 20)])
+    c = pw.geodesic.enclosing_circle(pts)
+    geom = c.to_geodataframe(crs="EPSG:4326").geometry.iloc[0]
+    assert geom.is_valid and shapely.covers(geom, shapely.points(pts)).all()  # shapely
+    # pyproj.Geod: the geodesic circles just inside and just outside the radius, in 720
+    # directions, lie inside and outside the drawn polygon (shapely covers).
+    cases = [(c.center, c.radius), ([30.0, 85.0], 1.2e6), ([85.156, 87.287], 3.13e6), ([9.0, 64.3], 6.35e6),
+             ([-120.0, -82.0], 2.0e6), ([179.9, 89.5], 5e5)]
+    az = np.linspace(0, 360, 720, endpoint=False)
+    for centre, radius in cases:
+        drawn = pw.geodesic.circle_polygon(centre, radius)
+        for factor, inside in ((0.995, True), (1.01, False)):
+            lon, lat, _ = GEOD.fwd(np.full(az.size, centre[0]), np.full(az.size, centre[1]), az,
+                                   np.full(az.size, factor * radius))
+            ring = shapely.points(np.column_stack([(np.asarray(lon) + 180) % 360 - 180, lat]))
+            assert (shapely.covers(drawn, ring) == inside).all(), (centre, radius, factor)
+
+
 # ------------------------------------------------------------------ nearest site
 
 

@@ -554,6 +554,36 @@ def test_voronoi_cells_by_group_each_tile_the_region():
         assert bool(shapely.covers(mine.geometry.values, sites[sites["firm"] == firm].geometry.values).all())
 
 
+def test_geographic_groups_in_two_utm_zones_each_tile_the_region_where_it_lies():
+    from pyproj import Geod
+
+    # Two firms' sites in UTM zones 32 and 33, one lon/lat study region across both: every
+    # firm's cells must cover that region (not one moved into the other firm's frame).
+    rng = np.random.default_rng(15)
+    lon = np.r_[rng.uniform(10.0, 10.3, 4), rng.uniform(15.0, 15.3, 4)]
+    lat = rng.uniform(50.0, 50.2, 8)
+    sites = gpd.GeoDataFrame({"firm": np.repeat(["blue", "red"], 4)}, geometry=gpd.points_from_xy(lon, lat),
+                             crs="EPSG:4326")
+    box = shapely.box(9.5, 49.5, 16.0, 50.7)
+    cells = gis.voronoi_cells(sites, gpd.GeoSeries([box], crs="EPSG:4326"), by="firm")
+    # Outside reference: the region's area on the WGS84 ellipsoid (pyproj.Geod, densified).
+    truth = abs(Geod(ellps="WGS84").geometry_area_perimeter(shapely.segmentize(box, 0.001))[0])
+    for firm in ("blue", "red"):
+        mine = cells[cells["firm"] == firm]
+        assert np.allclose(shapely.union_all(mine.geometry.values).bounds, box.bounds, atol=1e-6)  # shapely
+    assert cells["work_crs"].nunique() == 1  # one frame, chosen over the sites and the region
+    error = float(cells["scale_error"].iloc[0])
+    assert 0 < error <= 1e-3
+    for firm in ("blue", "red"):
+        # Areas true within the stated scale error (squared, for an area).
+        assert abs(cells.loc[cells["firm"] == firm, "area_m2"].sum() / truth - 1) <= 2.0 * error
+    # Sites in one town and a region across half a continent: the frame distorts the region
+    # by far more than 0.1 %, so the region counts in the refusal (power cells have no sphere).
+    town = sites[sites["firm"] == "blue"].assign(power=0.0)
+    with pytest.raises(pw.InputError, match="sites with region: .* distorts distances"):
+        gis.power_cells(town, "power", gpd.GeoSeries([shapely.box(3.0, 45.0, 17.0, 55.0)], crs="EPSG:4326"))
+
+
 def test_nearest_site_matches_ckdtree_in_metres():
     demand = lonlat_frame(n=500)
     sites = lonlat_frame(n=7, seed=3).set_index(np.array(list("ABCDEFG")))
@@ -868,6 +898,47 @@ def test_a_group_on_the_date_line_gets_a_frame_on_its_own_side_of_the_earth() ->
         cost = float(plan.summary["cost_m"].iloc[0]) if "cost_m" in plan.summary else float(
             plan.sites["cost_m"].iloc[0])
         assert abs(cost - metres.sum()) <= error * metres.sum() * (1 + 1e-9)
+
+
+# S-JTSK counts longitude from Ferro (17°40' west of Greenwich); NTF from Paris, in grads.
+@pytest.mark.parametrize("crs", ["EPSG:4818", "EPSG:4807"])
+def test_a_geographic_crs_on_another_meridian_or_unit_is_solved_where_its_points_are(crs) -> None:
+    from pyproj import Geod, Proj
+
+    rng = np.random.default_rng(14)
+    lon = np.r_[rng.uniform(14.2, 14.7, 40), rng.uniform(16.2, 16.7, 40)]
+    lat = np.r_[rng.uniform(49.9, 50.2, 40), rng.uniform(49.1, 49.3, 40)]
+    town = np.repeat(["west", "east"], 40)
+    frame = _lonlat_frame(lon, lat, town=town).to_crs(crs)
+    # The points' WGS84 places as pyproj reads the frame back (its datum shift included).
+    back = frame.to_crs("EPSG:4326")
+    lon, lat = back.geometry.x.to_numpy(), back.geometry.y.to_numpy()
+    geod = Geod(ellps="WGS84")  # outside reference: GeographicLib geodesics
+    for by in (None, "town"):
+        plan = gis.p_median(frame, 1, by=by)  # a frame-model function
+        sites = plan.sites.to_crs("EPSG:4326")
+        for k in range(len(sites)):
+            mine = np.ones(len(lon), bool) if by is None else town == sites[by].iloc[k]
+            site = sites.geometry.iloc[k]
+            _, _, metres = geod.inv(np.full(mine.sum(), site.x), np.full(mine.sum(), site.y), lon[mine], lat[mine])
+            # The stated scale error is PROJ's, of the working frame at the points' true places...
+            factors = Proj("EPSG:32633").get_factors(lon[mine], lat[mine])
+            assert plan.sites["work_crs"].iloc[k] == "WGS 84 / UTM zone 33N"
+            expected = np.abs(np.asarray(factors.parallel_scale) - 1).max()
+            error = float(plan.sites["scale_error"].iloc[k])
+            assert error == pytest.approx(expected, rel=1e-6)
+            # ...and the reported cost is the geodesic cost within it (the site where the data are).
+            cost = float(plan.summary["cost_m"].iloc[k])
+            assert abs(cost - metres.sum()) <= error * metres.sum() * (1 + 1e-9)
+    if crs == "EPSG:4807":
+        # 85.4 and 85.5 degrees are about 94.9 grads: inside the globe, in the frame's unit.
+        north = _lonlat_frame([10.0, 10.5], [85.4, 85.5]).to_crs(crs)
+        assert north.geometry.y.min() > 90
+        out = gis.weber_point(north)
+        # Closed form: two points' Fermat–Weber cost is the distance between them.
+        places = north.to_crs("EPSG:4326").geometry
+        _, _, metres = geod.inv(places.x.iloc[0], places.y.iloc[0], places.x.iloc[1], places.y.iloc[1])
+        assert float(out["cost_m"].iloc[0]) == pytest.approx(metres, rel=1e-9)
 
 
 def test_a_geographic_region_is_densified_before_it_is_projected() -> None:

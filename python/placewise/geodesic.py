@@ -385,8 +385,9 @@ def minimax_point(
 def circle_polygon(center: ArrayLike, radius: float) -> Any:
     """The geodesic circle of ``radius`` metres about ``center`` (lon/lat) as a shapely
     polygon in longitude/latitude: a 256-gon whose vertices lie ``radius / cos(pi / 256)``
-    from the centre. A circle crossing the antimeridian is split there into a MultiPolygon
-    (as GeoJSON, RFC 7946 §3.1.9, asks); one around a pole is closed through the pole.
+    from the centre, drawn by :func:`lonlat_polygon`. A circle crossing the antimeridian is
+    split there into a MultiPolygon (as GeoJSON, RFC 7946 §3.1.9, asks); one around a pole is
+    closed through the pole.
 
     Examples
     --------
@@ -397,29 +398,11 @@ def circle_polygon(center: ArrayLike, radius: float) -> Any:
     >>> cap.geom_type, round(cap.bounds[3], 6)
     ('Polygon', 90.0)
     """
-    import shapely
-    from shapely import affinity
-
+    # The kernel's ring runs counter-clockwise seen from outside the Earth, with longitudes
+    # unwrapped from the centre's: round a pole they run over a whole turn, up to 540° away.
     ring = _core.geodesic_circle_ring(np.asarray(center, dtype=np.float64).reshape(1, 2), radius,
                                       _CIRCLE_VERTICES)["ring"]
-    lon, lat = ring[:, 0].copy(), ring[:, 1].copy()
-    # Winding of the unwrapped longitudes once round: ±360 when the circle holds a pole.
-    closing = lon[0] - lon[-1]
-    closing -= 360.0 * np.round(closing / 360.0)
-    turn = lon[-1] + closing - lon[0]
-    if abs(turn) > 180.0:
-        pole = 90.0 if np.mean(lat) > 0 else -90.0
-        end = lon[0] + turn
-        coords = np.vstack([np.column_stack([lon, lat]), [[end, lat[0]], [end, pole], [lon[0], pole]]])
-    else:
-        coords = np.column_stack([lon, lat])
-    shape = shapely.make_valid(shapely.Polygon(coords))
-    world = shapely.box(-180.0, -90.0, 180.0, 90.0)
-    parts = [shapely.intersection(affinity.translate(shape, xoff=shift), world) for shift in (-360.0, 0.0, 360.0)]
-    parts = [p for p in parts if not p.is_empty and p.area > 0]
-    merged = shapely.union_all(parts)
-    polygons = [g for g in getattr(merged, "geoms", [merged]) if g.geom_type == "Polygon"]
-    return polygons[0] if len(polygons) == 1 else shapely.MultiPolygon(polygons)
+    return lonlat_polygon(ring)
 
 
 class _GeodesicCircleTable:

@@ -184,9 +184,18 @@ def _points_of(frame: Any, name: str, centroids: bool) -> np.ndarray:
     return np.column_stack([shapely.get_x(geoms), shapely.get_y(geoms)]).astype(np.float64)
 
 
+def _degrees_per_unit(crs: Any) -> float:
+    """Degrees in one unit of a geographic CRS's axes: 1 for degrees, 0.9 for grads."""
+    axes = CRS(crs).axis_info
+    degrees = float(np.degrees(axes[0].unit_conversion_factor)) if axes else 1.0
+    return 1.0 if abs(degrees - 1.0) < 1e-12 or not degrees > 0 else degrees
+
+
 def _check_lonlat(frame: Any, lonlat: np.ndarray, name: str) -> None:
-    """Refuse coordinates that cannot be longitude/latitude, naming the rows."""
-    lon, lat = lonlat[:, 0], lonlat[:, 1]
+    """Refuse coordinates that cannot be longitude/latitude, naming the rows (the frame's
+    coordinates in its own angular unit, compared with the limits in degrees)."""
+    scale = 1.0 if frame.crs is None else _degrees_per_unit(frame.crs)
+    lon, lat = scale * lonlat[:, 0], scale * lonlat[:, 1]
 
     def rows(mask: np.ndarray) -> str:
         labels = [repr(plain(v)) for v in frame.index[mask][:5]]
@@ -203,6 +212,19 @@ def _check_lonlat(frame: Any, lonlat: np.ndarray, name: str) -> None:
     if bad_lon.any():
         raise InputError(f"{name}: longitude (x) outside -540..540 at rows {rows(bad_lon)}; are these projected "
                          "coordinates? set the frame's real CRS")
+
+
+def _wgs84_lonlat(frame: Any, name: str, centroids: bool) -> np.ndarray:
+    """A geographic frame's points, checked (:func:`_check_lonlat`), as WGS84 longitude and
+    latitude in degrees: what the zone choice, PROJ's scale factors and the per-group
+    transforms from EPSG:4326 read. Why transform: a geographic CRS may count longitude from
+    another prime meridian (Ferro, Paris) or in another unit (grads), and read as WGS84
+    degrees its coordinates would be places hundreds of kilometres away."""
+    lonlat = _points_of(frame, name, centroids)
+    _check_lonlat(frame, lonlat, name)
+    if CRS(frame.crs).equals(_WGS84):
+        return lonlat
+    return _points_of(frame.to_crs(_WGS84), name, centroids)
 
 
 def _warn_degrees_in_projected(frame: Any, xy: np.ndarray, name: str, crs: Any) -> None:
@@ -397,9 +419,8 @@ def prepare(
     on_earth = work is ELLIPSOID or (ellipsoid and isinstance(work, str) and goes_on_ellipsoid(frame.crs, work_crs))
     if on_earth:
         return _on_ellipsoid(frame, name, centroids, groups)
-    lonlat = _points_of(frame, name, centroids) if geographic else None
+    lonlat = _wgs84_lonlat(frame, name, centroids) if geographic else None
     if lonlat is not None:
-        _check_lonlat(frame, lonlat, name)
         if groups is not None and isinstance(work, str) and work_crs is None and not planar:
             xy, frames, frame_of_group, group_error = _frames_per_group(lonlat, groups, name, max_scale_error)
             return Prepared(frame, xy, frame.crs, frames[0], float(group_error.max()), groups, frames,
@@ -455,14 +476,21 @@ def _refuse_unprojected(frame: Any, xy: np.ndarray, name: str, work: Any, kind: 
 
 
 def prepare_or_sphere(obj: Any, name: str, *, planar: bool, centroids: bool, work_crs: Any,
-                      max_scale_error: float, by: str | None = None) -> Prepared:
+                      max_scale_error: float, by: str | None = None, region: Any = None) -> Prepared:
     """:func:`prepare`, or — for geographic input no working frame holds within
     ``max_scale_error`` (global, polar, wide across the antimeridian), ungrouped and without a
     chosen ``work_crs`` — the points as WGS84 lon/lat for the spherical kernels
-    (``Prepared.ellipsoid``)."""
+    (``Prepared.ellipsoid``). With a ``region`` the working frame is chosen over the points
+    and the region together (:func:`~placewise.gis._together.prepare_together`), one frame
+    for every group: the region is clipped in it, so its distortion counts too."""
     try:
-        return prepare(obj, name, planar=planar, centroids=centroids, work_crs=work_crs,
-                       max_scale_error=max_scale_error, by=by)
+        if region is None:
+            return prepare(obj, name, planar=planar, centroids=centroids, work_crs=work_crs,
+                           max_scale_error=max_scale_error, by=by)
+        from ._together import prepare_together  # built on this module
+
+        return prepare_together(obj, name, {}, planar=planar, centroids=centroids, region=region, work_crs=work_crs,
+                                max_scale_error=max_scale_error, by=by)[0]
     except TooWide:
         if by is not None:
             raise

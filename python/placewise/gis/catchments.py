@@ -26,11 +26,10 @@ from ._frames import (
     call,
     framed,
     groups_of,
-    prepare,
     prepare_or_sphere,
     solve_points,
 )
-from ._together import region_geometry, region_lonlat
+from ._together import prepare_together, region_geometry, region_lonlat
 from .plans import nearest_site
 
 __all__ = ["delaunay", "power_cells", "voronoi_cells"]
@@ -172,7 +171,9 @@ def voronoi_cells(
     GeoDataFrame
         The sites' columns with Polygon / MultiPolygon cells as geometry and
         ``area_<unit>2`` (in the working CRS's unit: ``area_m2``), plus ``load`` and
-        ``points`` with ``demand``, and ``problem`` with ``by``.
+        ``points`` with ``demand``, and ``problem`` with ``by``; for geographic input
+        ``work_crs`` and ``scale_error``, of the one working frame chosen over the sites and
+        the region together (every group shares it when a region is given).
 
     Examples
     --------
@@ -185,7 +186,7 @@ def voronoi_cells(
     [4.0, 4.0]
     """
     model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
-    pf = prepare_or_sphere(sites, "sites", planar=planar, centroids=centroids, by=by, **model)
+    pf = prepare_or_sphere(sites, "sites", planar=planar, centroids=centroids, by=by, region=region, **model)
     if pf.ellipsoid:
         stages = Stages(progress, 1 if demand is None else 2)
         out = _sphere_cells(pf, region, stages.next())
@@ -206,7 +207,7 @@ def voronoi_cells(
     out = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=cells.geometry.values,
                            crs=pf.crs)
     for name in cells.columns:
-        if name.startswith("area_") or name == "problem":
+        if name.startswith("area_") or name in ("problem", "work_crs", "scale_error"):
             out[name] = cells[name].to_numpy()
     if demand is not None:
         served = nearest_site(demand, sites, weight, by=by, planar=planar, centroids=centroids, errors=errors,
@@ -238,7 +239,8 @@ def power_cells(
     GeoDataFrame
         The sites' columns with the cells as geometry (empty for an empty cell) and
         ``area_<unit>2``, ``empty``, ``redundant`` (see :func:`placewise.power_cells`), plus
-        ``problem`` with ``by``.
+        ``problem`` with ``by``; for geographic input ``work_crs`` and ``scale_error``, of the
+        working frame chosen over the sites and the region together.
 
     Examples
     --------
@@ -251,7 +253,7 @@ def power_cells(
     [5.0, 3.0]
     """
     model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
-    pf = prepare(sites, "sites", planar=planar, centroids=centroids, **model)
+    pf, _ = prepare_together(sites, "sites", {}, planar=planar, centroids=centroids, region=region, **model)
     if power_column not in pf.frame.columns:
         raise InputError(f"sites has no power column {power_column!r}; columns: {list(pf.frame.columns)}")
     powers = pf.frame[power_column].to_numpy(dtype=np.float64, na_value=np.nan)
@@ -264,6 +266,6 @@ def power_cells(
     out = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=cells.geometry.values,
                            crs=pf.crs)
     for name in cells.columns:
-        if name.startswith("area_") or name in ("empty", "redundant", "problem"):
+        if name.startswith("area_") or name in ("empty", "redundant", "problem", "work_crs", "scale_error"):
             out[name] = cells[name].to_numpy()
     return out
