@@ -9,14 +9,21 @@ name also checks that positions never leak.
 
 from __future__ import annotations
 
+import re
 import subprocess
 import sys
+import warnings
 
 import numpy as np
 import pytest
 
 gpd = pytest.importorskip("geopandas")
 pyproj = pytest.importorskip("pyproj")
+
+# Many frames below hold toy coordinates (0 to 50 m) in UTM zone 32N, 500 km west of its
+# central meridian, where the zone errs by 0.27 %: the warning that says so is checked in
+# test_a_projected_crs_that_distorts_the_data_is_named_with_its_figure, not on every toy.
+pytestmark = pytest.mark.filterwarnings("ignore:.*distorts distances by up to:UserWarning")
 import pandas as pd  # noqa: E402
 import shapely  # noqa: E402
 from scipy.optimize import minimize  # noqa: E402
@@ -168,7 +175,10 @@ def test_one_degree_of_latitude_is_the_geodesic_length():
 
 def test_projected_input_is_used_as_is():
     frame = lonlat_frame().to_crs("EPSG:3035")
-    out = gis.weber_point(frame, "people")
+    # Oslo lies 8° from LAEA Europe's centre (10°E, 52°N), where its scale errs by about
+    # 0.25 %: used as it is, and said.
+    with pytest.warns(UserWarning, match="LAEA Europe' distorts distances by up to 0.2"):
+        out = gis.weber_point(frame, "people")
     assert out.crs == frame.crs
     xy = shapely.get_coordinates(frame.geometry.values)
     assert out["cost_m"].iloc[0] == pytest.approx(weber_cost_scipy(xy, frame["people"].to_numpy()), rel=1e-7)
@@ -1112,3 +1122,28 @@ def test_planar_true_on_a_geographic_frame_is_refused_by_every_model(solve):
     frame = lonlat_frame(20, seed=24)
     with pytest.raises(pw.InputError, match="planar=True is only for frames without one"):
         getattr(gis, solve)(frame, planar=True)
+
+
+def test_a_projected_crs_that_distorts_the_data_is_named_with_its_figure() -> None:
+    # Web Mercator around New York: distances in its metres are sec(latitude) times true
+    # ones (the Mercator scale factor, a closed form; Snyder 1987, Map Projections: A Working
+    # Manual, eq. 7-8 on the sphere), about 32 % too long there. Solved as it is, but said.
+    rng = np.random.default_rng(12)
+    lon, lat = -74.0 + 0.05 * rng.normal(size=200), 40.7 + 0.05 * rng.normal(size=200)
+    mercator = _lonlat_frame(lon, lat).to_crs("EPSG:3857")
+    with pytest.warns(UserWarning, match=r"Pseudo-Mercator' distorts distances by up to ([\d.]+) %") as caught:
+        gis.weber_point(mercator)
+    stated = float(re.search(r"up to ([\d.]+) %", str(caught[0].message)).group(1)) / 100
+    # PROJ evaluates Web Mercator's factors on the ellipsoid: within 0.3 % of the sphere's.
+    assert stated == pytest.approx(1 / np.cos(np.radians(lat.max())) - 1, rel=3e-3)
+    # The same points in their UTM zone (scale error below 0.1 % inside the zone, the
+    # design of UTM: k0 = 0.9996) and in a state plane grid in US survey feet: no warning.
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        gis.weber_point(mercator.to_crs("EPSG:32618"))
+        gis.weber_point(mercator.to_crs("EPSG:2263"))
+    # work_crs= moves the work into a frame that holds: no warning either.
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        out = gis.weber_point(mercator, work_crs="EPSG:32618")
+    assert out.crs.to_epsg() == 3857

@@ -199,6 +199,9 @@ def test_gis_planar_runs_in_a_working_frame_report_progress_and_answer_alike(run
     ("EPSG:3857", None, None, False),
     ("EPSG:32632", None, None, False),
 ], ids=["wgs84", "nad83", "wgs84 work_crs", "wgs84 region", "pseudo-mercator", "utm 32n"])
+# The Oslo points read in Web Mercator or UTM 32N as they are: the distortion warning
+# (tested in test_gis.py) is not what this test is about.
+@pytest.mark.filterwarnings("ignore:.*distorts distances by up to:UserWarning")
 def test_watched_on_earth_says_where_the_single_site_functions_solve(crs, work_crs, region, on_earth) -> None:  # noqa: ANN001
     # The command line shows its bar exactly for the runs solved on the ellipsoid: what the
     # rule says agrees with the EPSG kind of the CRS and with the model the run reports.

@@ -4,7 +4,11 @@ Each function takes a ``GeoDataFrame`` (or ``GeoSeries``) of points and returns
 GeoDataFrames in the input's CRS. Coordinates are handled as follows:
 
 * a **projected** CRS is used as it is — distances, costs and areas come out in its units,
-  named in the columns (``distance_m``, ``area_m2``; ``_ft`` for feet);
+  named in the columns (``distance_m``, ``area_m2``; ``_ft`` for feet). Its scale error
+  over the data is measured too (PROJ's scale factors): beyond ``max_scale_error`` (Web
+  Mercator away from the equator, a zone used far outside its area) a ``UserWarning``
+  states the figure, since those units then differ from true lengths by that much;
+  ``work_crs=`` solves in a frame that holds;
 * a **geographic** CRS (degrees) is checked (latitudes within ±90, longitudes within
   ±540, swapped columns named). :func:`weber_point`, :func:`minimax_point`,
   :func:`enclosing_circle` and :func:`nearest_site` then solve on the WGS84 ellipsoid itself

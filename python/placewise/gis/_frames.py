@@ -249,18 +249,57 @@ def scale_error_over(work: Any, lonlat: np.ndarray, xy: np.ndarray) -> float:
     the working frame — where a transverse Mercator or azimuthal frame distorts most — and
     at a fixed sample of up to 20,000 points for any other projection.
     """
-    n = len(xy)
     if not np.isfinite(xy).all():
         # Points the projection cannot reach (beyond a transverse Mercator's range).
         return float("inf")
+    return float(np.nanmax(_scale_errors(work, lonlat[_measured_rows(xy)])))
+
+
+def _measured_rows(xy: np.ndarray) -> np.ndarray:
+    """The rows :func:`scale_error_over` measures: the convex hull's vertices and a fixed
+    sample of up to 20,000 rows."""
+    n = len(xy)
     hull = shapely.convex_hull(shapely.multipoints(xy))
     if hull.geom_type == "Polygon":
         corners = np.asarray(hull.exterior.coords)[:-1]
         at = np.unique(np.concatenate([np.flatnonzero(np.isin(xy[:, 0], corners[:, 0])), [0]]))
     else:
         at = np.array([int(np.argmin(xy[:, 0])), int(np.argmax(xy[:, 0]))])
-    sample = np.unique(np.concatenate([at, np.linspace(0, n - 1, min(n, 20_000)).astype(np.int64)]))
-    return float(np.nanmax(_scale_errors(work, lonlat[sample])))
+    return np.unique(np.concatenate([at, np.linspace(0, n - 1, min(n, 20_000)).astype(np.int64)]))
+
+
+def _warn_distorting_crs(xy: np.ndarray, name: str, work: Any, max_scale_error: float) -> None:
+    """Projected input is solved in its own CRS, as it is; when that CRS distorts distances
+    over the data beyond ``max_scale_error`` (Web Mercator away from the equator, an
+    equal-area projection over a continent, a zone used far outside its area), every
+    distance and cost comes out scaled by up to that much, so say so with the measured figure
+    instead of letting ``cost_m`` pass for true metres."""
+    import warnings
+
+    from pyproj import Transformer
+
+    finite = np.isfinite(xy).all(axis=1)
+    if not finite.any():
+        return
+    rows = _measured_rows(xy[finite])
+    try:
+        lon, lat = Transformer.from_crs(CRS(work), CRS("EPSG:4326"), always_xy=True).transform(
+            xy[finite][rows, 0], xy[finite][rows, 1])
+        errors = _scale_errors(work, np.column_stack([lon, lat]))
+    except Exception:  # noqa: BLE001 - a CRS PROJ cannot measure is used as it is, unmeasured
+        return
+    if not np.isfinite(errors).any():
+        return
+    error = float(np.nanmax(errors))
+    if error > max_scale_error:
+        warnings.warn(
+            f"{name}: its CRS {CRS(work).name!r} distorts distances by up to {100 * error:.3g} % over "
+            f"these points (more than the {100 * max_scale_error:.3g} % of max_scale_error); distances, "
+            f"costs and radii are in its units ({unit_of(work)}) and differ from true lengths by that much. Pass "
+            "work_crs= with a projection suited to the area (a UTM zone, a national grid) for true lengths, "
+            "or raise max_scale_error= to accept them",
+            UserWarning, stacklevel=4,
+        )
 
 
 def _centres(lonlat: np.ndarray, codes: np.ndarray, count: int) -> np.ndarray:
@@ -438,6 +477,7 @@ def prepare(
     if lonlat is None:
         if frame.crs is not None:
             _warn_degrees_in_projected(frame, xy, name, frame.crs)
+            _warn_distorting_crs(xy, name, work, max_scale_error)
         return Prepared(frame, xy, frame.crs, work, groups=groups)
     error = scale_error_over(work, lonlat, xy)
     if error > max_scale_error and work_crs is None and not companion:
