@@ -213,6 +213,26 @@ def test_capacitated_p_median_with_candidates_against_brute_force():
         transport_program(points, cands[plan.chosen], caps[plan.chosen], np.ones(40)), rel=1e-9)
 
 
+def test_capacitated_p_median_with_candidates_may_need_more_sites_than_demand_locations():
+    # Two towns of 10 units each and depot lots holding 4: five sites for two locations.
+    # The run was refused ("points must hold at least 5 distinct points") although plans
+    # exist. Outside check: linprog on every subset of 5 of the 6 lots (all have room).
+    towns = np.array([[0.0, 0.0], [10.0, 0.0]])
+    demand = np.array([10.0, 10.0])
+    lots = np.array([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0], [10.0, 0.0], [9.0, 0.0], [10.0, 1.0]])
+    caps = np.full(6, 4.0)
+    plan = pw.capacitated_p_median(towns, 5, caps, demand, candidates=lots)
+    assert len(plan.chosen) == len(set(plan.chosen.tolist())) == 5
+    best = min(transport_program(towns, lots[list(s)], caps[list(s)], demand)
+               for s in itertools.combinations(range(6), 5))
+    chosen = transport_program(towns, lots[plan.chosen], caps[plan.chosen], demand)
+    assert plan.total_cost == pytest.approx(chosen, rel=1e-9)
+    assert plan.total_cost == pytest.approx(best, rel=1e-9)
+    assert plan.median_lower_bound <= best * (1 + 1e-9)
+    assert np.all(plan.load <= caps[plan.chosen] * (1 + 1e-12))
+    assert plan.load.sum() == pytest.approx(demand.sum(), rel=1e-12)
+
+
 def test_capacitated_p_median_continuous_sites_are_weber_points_of_their_demand():
     rng = np.random.default_rng(9)
     points = np.vstack([rng.normal([0, 0], 1, size=(60, 2)), rng.normal([8, 0], 1, size=(20, 2))])
