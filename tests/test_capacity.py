@@ -254,6 +254,21 @@ def test_capacitated_p_median_continuous_sites_are_weber_points_of_their_demand(
         assert weber(plan.sites[j]) <= ref.fun * (1 + 1e-6)
 
 
+def test_capacitated_p_median_continuous_sites_may_meet_at_a_heavy_point():
+    # A town of 20 units and three homes, two sites holding 12 and 11: both belong at the
+    # town. The second site's move there was refused as "one location, two capacities" and
+    # the run stopped, reporting convergence at cost 69.37 with that site at (5, 5).
+    # Outside checks: linprog on the plan's sites, and the closed form of both sites at the
+    # town: the homes travel 1 + 1 + √50 and the town nothing.
+    points = np.array([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0], [5.0, 5.0]])
+    demand = np.array([20.0, 1.0, 1.0, 1.0])
+    plan = pw.capacitated_p_median(points, 2, [12.0, 11.0], demand)
+    assert plan.total_cost == pytest.approx(
+        transport_program(points, plan.sites, np.array([12.0, 11.0]), demand), rel=1e-9)
+    assert plan.total_cost <= (2 + np.sqrt(50)) * (1 + 1e-9)
+    assert plan.load.sum() == pytest.approx(demand.sum(), rel=1e-12)
+
+
 def test_capacitated_p_median_refuses_short_capacity():
     with pytest.raises(pw.InputError, match="short"):
         pw.capacitated_p_median([[0, 0], [1, 1], [2, 2]], 2, [1, 1])

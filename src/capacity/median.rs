@@ -27,7 +27,7 @@
 
 use std::time::Instant;
 
-use super::allocation::{allocate_on_clock, split_plan, AllocationOptions, CapacityAllocation};
+use super::allocation::{allocate_on_clock, allocate_validated, split_plan, AllocationOptions, CapacityAllocation};
 use super::transport::Flows;
 use super::{check_capacities, relative_gap, shortfall, validate};
 use crate::cancel::{Clock, RunLimits, Steps};
@@ -160,6 +160,20 @@ fn allocate(points: &[Point], sites: &[Point], caps: &[f64], weights: Weights<'_
     allocate_on_clock(points, sites, caps, weights, &AllocationOptions::default(), &clock.quiet())
 }
 
+/// [`allocate`] to sites the run has moved, with the totals checked at its start: moved
+/// sites may meet at one location (several sites serving one heavy point), which the
+/// input check refuses for sites of different capacities.
+fn allocate_moved(
+    points: &[Point],
+    sites: &[Point],
+    caps: &[f64],
+    weights: Weights<'_>,
+    clock: &Clock,
+    totals: (f64, f64),
+) -> Result<Allocated> {
+    allocate_validated(points, sites, caps, weights, &AllocationOptions::default(), &clock.quiet(), totals)
+}
+
 /// The first plan: without it there is no answer, so a stop before it ends is the error of
 /// [`super::stopped`].
 fn first_plan(run: &mut Run<'_, '_>, sites: &[Point], caps: &[f64]) -> Result<Allocated> {
@@ -199,7 +213,7 @@ fn continuous(mut run: Run<'_, '_>, capacities: &[f64], mut sites: Vec<Point>) -
             })
             .collect::<Result<_>>()?;
         // A plan cut short by the limits is an error here: the best plan so far stands.
-        let Ok(next) = allocate(points, &moved, capacities, weights, run.clock) else {
+        let Ok(next) = allocate_moved(points, &moved, capacities, weights, run.clock, (demand, capacity)) else {
             converged = !run.clock.stop();
             break;
         };
