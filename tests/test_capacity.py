@@ -213,6 +213,26 @@ def test_capacitated_p_median_with_candidates_against_brute_force():
         transport_program(points, cands[plan.chosen], caps[plan.chosen], np.ones(40)), rel=1e-9)
 
 
+def test_capacitated_p_median_with_candidates_may_need_more_sites_than_demand_locations():
+    # Two towns of 10 units each and depot lots holding 4: five sites for two locations.
+    # The run was refused ("points must hold at least 5 distinct points") although plans
+    # exist. Outside check: linprog on every subset of 5 of the 6 lots (all have room).
+    towns = np.array([[0.0, 0.0], [10.0, 0.0]])
+    demand = np.array([10.0, 10.0])
+    lots = np.array([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0], [10.0, 0.0], [9.0, 0.0], [10.0, 1.0]])
+    caps = np.full(6, 4.0)
+    plan = pw.capacitated_p_median(towns, 5, caps, demand, candidates=lots)
+    assert len(plan.chosen) == len(set(plan.chosen.tolist())) == 5
+    best = min(transport_program(towns, lots[list(s)], caps[list(s)], demand)
+               for s in itertools.combinations(range(6), 5))
+    chosen = transport_program(towns, lots[plan.chosen], caps[plan.chosen], demand)
+    assert plan.total_cost == pytest.approx(chosen, rel=1e-9)
+    assert plan.total_cost == pytest.approx(best, rel=1e-9)
+    assert plan.median_lower_bound <= best * (1 + 1e-9)
+    assert np.all(plan.load <= caps[plan.chosen] * (1 + 1e-12))
+    assert plan.load.sum() == pytest.approx(demand.sum(), rel=1e-12)
+
+
 def test_capacitated_p_median_continuous_sites_are_weber_points_of_their_demand():
     rng = np.random.default_rng(9)
     points = np.vstack([rng.normal([0, 0], 1, size=(60, 2)), rng.normal([8, 0], 1, size=(20, 2))])
@@ -232,6 +252,21 @@ def test_capacitated_p_median_continuous_sites_are_weber_points_of_their_demand(
         ref = minimize(weber, points[amounts[:, j] > 0].mean(axis=0), method="Nelder-Mead",
                        options={"xatol": 1e-9, "fatol": 1e-12, "maxiter": 5000})
         assert weber(plan.sites[j]) <= ref.fun * (1 + 1e-6)
+
+
+def test_capacitated_p_median_continuous_sites_may_meet_at_a_heavy_point():
+    # A town of 20 units and three homes, two sites holding 12 and 11: both belong at the
+    # town. The second site's move there was refused as "one location, two capacities" and
+    # the run stopped, reporting convergence at cost 69.37 with that site at (5, 5).
+    # Outside checks: linprog on the plan's sites, and the closed form of both sites at the
+    # town: the homes travel 1 + 1 + √50 and the town nothing.
+    points = np.array([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0], [5.0, 5.0]])
+    demand = np.array([20.0, 1.0, 1.0, 1.0])
+    plan = pw.capacitated_p_median(points, 2, [12.0, 11.0], demand)
+    assert plan.total_cost == pytest.approx(
+        transport_program(points, plan.sites, np.array([12.0, 11.0]), demand), rel=1e-9)
+    assert plan.total_cost <= (2 + np.sqrt(50)) * (1 + 1e-9)
+    assert plan.load.sum() == pytest.approx(demand.sum(), rel=1e-12)
 
 
 def test_capacitated_p_median_refuses_short_capacity():

@@ -186,6 +186,59 @@ def test_k_nearest_agrees_with_dense_costs():
         np.testing.assert_allclose(near.data[near.indptr[i] : near.indptr[i + 1]], full[i, kept], rtol=1e-12)
 
 
+def tied_graph(seed: int, n: int = 40, m: int = 90):
+    """A graph whose costs are small integers, zeros included (exact sums, so many ties),
+    and its scipy matrix built densely: csgraph reads a dense entry of 0 as an arc only
+    through ``csgraph_from_dense`` with another null value."""
+    rng = np.random.default_rng(seed)
+    tail, head = rng.integers(0, n, m), rng.integers(0, n, m)
+    cost = rng.integers(0, 3, m).astype(float)
+    one_way = rng.random(m) < 0.3
+    dense = np.full((n, n), np.inf)
+    for a, b, c, o in zip(tail, head, cost, one_way):
+        for u, v in [(a, b)] + ([] if o else [(b, a)]):
+            if u != v:
+                dense[u, v] = min(dense[u, v], c)
+    graph = pw.TravelGraph.from_edges(tail, head, cost, one_way=one_way, nodes=n)
+    return graph, csgraph.csgraph_from_dense(dense, null_value=np.inf)
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_k_nearest_ties_go_to_the_lower_row_by_scipy(seed):
+    # A destination tied with a lower row was kept when it was offered first (k = 1 from a
+    # node kept the node itself over a lower node across a zero-cost edge). Reference: the
+    # k least (cost, row) pairs of scipy.sparse.csgraph.dijkstra's costs.
+    g, matrix = tied_graph(seed)
+    n = g.nodes
+    ref = csgraph.dijkstra(matrix, indices=np.arange(n))
+    for k in (1, 2, 5):
+        near = g.costs(np.arange(n), np.arange(n), k=k)
+        for i in range(n):
+            reached = np.flatnonzero(np.isfinite(ref[i]))
+            expected = reached[np.lexsort((reached, ref[i, reached]))][:k]
+            kept = near.indices[near.indptr[i] : near.indptr[i + 1]]
+            assert kept.tolist() == sorted(expected.tolist()), (seed, k, i)
+            np.testing.assert_array_equal(near.data[near.indptr[i] : near.indptr[i + 1]], ref[i, kept])
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_nearest_site_ties_go_to_the_lower_site_row_by_scipy(seed):
+    # A node tied between sites went to the site whose search reached it first (the site
+    # at the lower node number), not the lower site row. Reference: the first row of the
+    # least cost (numpy.argmin) over scipy.sparse.csgraph.dijkstra from every site.
+    g, matrix = tied_graph(seed)
+    n = g.nodes
+    sites = np.random.default_rng(seed).permutation(n)[:6]
+    ref = csgraph.dijkstra(matrix, indices=sites)
+    c = g.nearest_site(np.arange(n), sites)
+    reached = np.isfinite(ref).any(axis=0)
+    np.testing.assert_array_equal(c.site, np.where(reached, np.argmin(ref, axis=0), -1))
+    np.testing.assert_array_equal(c.node_site, c.site)
+    np.testing.assert_array_equal(c.cost[reached], ref.min(axis=0)[reached])
+    # Loads by numpy.bincount of the reference sites.
+    np.testing.assert_array_equal(c.load, np.bincount(np.argmin(ref, axis=0)[reached], minlength=len(sites)))
+
+
 # ------------------------------------------------------------------ one-way, part-way
 
 

@@ -301,7 +301,9 @@ def capacitated_p_median(
     points : array_like, shape (n, 2)
         Demand locations.
     p : int
-        Number of sites, at least 1 (and at most the number of candidates).
+        Number of sites, at least 1: with candidates, at most their number (it may exceed
+        the number of demand locations, when small capacities need several sites for one
+        point); without, at most the number of distinct points of positive weight.
     capacities : array_like
         Without candidates: shape (p,), the capacity of each site to place. With
         candidates: shape (m,), the capacity of each candidate.

@@ -581,7 +581,8 @@ class TravelGraph:
         One multi-source Dijkstra search labels every node with its cheapest site; each point
         then takes the cheaper end of its edge (in the directions the edge allows) or a site
         on the same edge. A point no site reaches (another component, one-way edges, beyond
-        ``limit``) gets site -1 and cost NaN and is counted in ``unreachable``.
+        ``limit``) gets site -1 and cost NaN and is counted in ``unreachable``. Equally cheap
+        sites go to the lower site row, for points and nodes alike.
 
         Examples
         --------

@@ -151,6 +151,22 @@ pub(crate) fn allocate_on_clock(
     clock: &Clock,
 ) -> Result<(CapacityAllocation, Flows)> {
     let (demand, capacity) = validate(points, sites, capacities, weights)?;
+    allocate_validated(points, sites, capacities, weights, options, clock, (demand, capacity))
+}
+
+/// [`allocate_on_clock`] for input already checked by [`validate`], which gave the total
+/// demand and capacity: a kernel that moves its own sites allocates to them round after
+/// round without checking again, and two of its sites may then share a location with
+/// different capacities (to the transportation problem they are one site holding both).
+pub(crate) fn allocate_validated(
+    points: &[Point],
+    sites: &[Point],
+    capacities: &[f64],
+    weights: Weights<'_>,
+    options: &AllocationOptions,
+    clock: &Clock,
+    (demand, capacity): (f64, f64),
+) -> Result<(CapacityAllocation, Flows)> {
     let short = shortfall(demand, capacity, options.allow_unserved)?;
     let mut steps = Steps::new(&clock.watch, 2);
     let plan = split_plan(points, sites, capacities, weights, short, plain_distance, clock)?;

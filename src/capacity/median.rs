@@ -9,8 +9,9 @@
 //!   a site moves to the weighted Fermat–Weber point of its allocated amounts (Weiszfeld).
 //!   No cheap relaxation bounds this problem, so no gap is claimed.
 //! - Candidate sites (each with its own capacity): the start snaps the uncapacitated plan to
-//!   the nearest distinct candidates, swapping in larger candidates while their total
-//!   capacity is short; a site moves to the free candidate that serves its allocated amounts
+//!   the nearest distinct candidates (one site per demand location at most; when `p` is
+//!   larger, the largest free candidates make up the rest), swapping in larger candidates
+//!   while their total capacity is short; a site moves to the free candidate that serves its allocated amounts
 //!   most cheaply and has room for them. The transportation plan with *every* candidate
 //!   open is a relaxation (it drops the limit of `p` sites), so its cost is a proven lower
 //!   bound and the gap is reported.
@@ -26,14 +27,14 @@
 
 use std::time::Instant;
 
-use super::allocation::{allocate_on_clock, split_plan, AllocationOptions, CapacityAllocation};
+use super::allocation::{allocate_on_clock, allocate_validated, split_plan, AllocationOptions, CapacityAllocation};
 use super::transport::Flows;
 use super::{check_capacities, relative_gap, shortfall, validate};
 use crate::cancel::{Clock, RunLimits, Steps};
 use crate::error::{Error, Result};
 use crate::geometry::{distance, validate_points, CompensatedSum, Point, Weights};
 use crate::median::{weber_point, WeberOptions};
-use crate::multi::{p_median, MedianOptions};
+use crate::multi::{distinct_weighted, p_median, MedianOptions};
 
 /// Options of [`capacitated_p_median`].
 #[derive(Debug, Clone)]
@@ -126,7 +127,14 @@ fn plan(
     let half = clock.deadline().map(|d| (d.saturating_duration_since(Instant::now()).as_secs_f64() / 2.0).max(1e-9));
     let start_options =
         MedianOptions { seed: options.seed, time_limit: half, watch: clock.watch.clone(), ..MedianOptions::default() };
-    let start = p_median(points, weights, p, &[], &start_options)?;
+    // With candidates, small capacities can call for more sites than there are demand
+    // locations (several sites serving one heavy point): the uncapacitated start places one
+    // site per location at most, and the rest are filled in from the candidates below.
+    let start_p = match candidates {
+        Some(_) => p.min(distinct_weighted(points, weights).len()).max(1),
+        None => p,
+    };
+    let start = p_median(points, weights, start_p, &[], &start_options)?;
     steps.step();
     let run = Run { points, weights, clock, steps, max_rounds: options.max_rounds };
     match candidates {
@@ -150,6 +158,20 @@ type Allocated = (CapacityAllocation, Flows);
 /// The exact split allocation under the run's clock (the run counts its own steps).
 fn allocate(points: &[Point], sites: &[Point], caps: &[f64], weights: Weights<'_>, clock: &Clock) -> Result<Allocated> {
     allocate_on_clock(points, sites, caps, weights, &AllocationOptions::default(), &clock.quiet())
+}
+
+/// [`allocate`] to sites the run has moved, with the totals checked at its start: moved
+/// sites may meet at one location (several sites serving one heavy point), which the
+/// input check refuses for sites of different capacities.
+fn allocate_moved(
+    points: &[Point],
+    sites: &[Point],
+    caps: &[f64],
+    weights: Weights<'_>,
+    clock: &Clock,
+    totals: (f64, f64),
+) -> Result<Allocated> {
+    allocate_validated(points, sites, caps, weights, &AllocationOptions::default(), &clock.quiet(), totals)
 }
 
 /// The first plan: without it there is no answer, so a stop before it ends is the error of
@@ -191,7 +213,7 @@ fn continuous(mut run: Run<'_, '_>, capacities: &[f64], mut sites: Vec<Point>) -
             })
             .collect::<Result<_>>()?;
         // A plan cut short by the limits is an error here: the best plan so far stands.
-        let Ok(next) = allocate(points, &moved, capacities, weights, run.clock) else {
+        let Ok(next) = allocate_moved(points, &moved, capacities, weights, run.clock, (demand, capacity)) else {
             converged = !run.clock.stop();
             break;
         };
@@ -263,6 +285,17 @@ fn discrete(
             .expect("p ≤ m leaves a free candidate");
         used[j] = true;
         chosen.push(j);
+    }
+    // Sites the start could not place (p above the demand locations): the largest free
+    // candidates, which the rounds then move.
+    for &big in &by_size {
+        if chosen.len() == p {
+            break;
+        }
+        if !used[big] {
+            used[big] = true;
+            chosen.push(big);
+        }
     }
     let mut held: f64 = chosen.iter().map(|&j| capacities[j]).sum();
     for &big in &by_size {

@@ -33,7 +33,7 @@ use crate::geometry::{location_key, Point, Weights};
 
 /// A distinct location carrying positive weight.
 #[derive(Debug, Clone, Copy, PartialEq)]
-struct Location {
+pub(crate) struct Location {
     /// The first input row at this location.
     first: usize,
     /// The largest weight found at this location (the only one a largest weighted distance
@@ -66,7 +66,7 @@ fn check_site_count(points: &[Point], weights: Weights<'_>, p: usize) -> Result<
 /// The distinct locations carrying positive weight, in input order of their first row.
 /// Locations are compared with the one exact key ([`location_key`]: `-0.0` and `0.0` are
 /// the same coordinate).
-fn distinct_weighted(points: &[Point], weights: Weights<'_>) -> Vec<Location> {
+pub(crate) fn distinct_weighted(points: &[Point], weights: Weights<'_>) -> Vec<Location> {
     let mut order: Vec<usize> = (0..points.len()).filter(|&i| weights.get(i) > 0.0).collect();
     // The key ends in the row, so an unstable (parallel) sort gives the one order.
     order.par_sort_unstable_by_key(|&i| (location_key(points[i]), i));

@@ -242,13 +242,19 @@ impl Workspace {
         }
     }
 
-    /// Settle the destinations whose best cost is at most `bound` in cost order, up to `k`
-    /// in all; returns how many are settled.
-    fn settle_up_to(&mut self, bound: f64, k: usize, out: &mut Vec<(u32, f64)>) -> usize {
+    /// Settle the destinations whose best cost is below `bound` (at most `bound` when
+    /// `inclusive`) in (cost, destination) order, up to `k` in all; returns how many are
+    /// settled.
+    ///
+    /// While nodes of cost `bound` remain to be scanned, a destination of cost `bound` is not
+    /// yet settled: a lower destination row may still be offered at the same cost (through a
+    /// zero-cost arc or an end on that node), and ties go to the lower row. Once the search
+    /// is over, every offer is in and `inclusive` settles up to the limit.
+    fn settle_up_to(&mut self, bound: f64, inclusive: bool, k: usize, out: &mut Vec<(u32, f64)>) -> usize {
         while out.len() < k {
             let Some(&Reverse((bits, d))) = self.nearest.peek() else { break };
             let c = unkey(bits);
-            if c > bound {
+            if c > bound || (c == bound && !inclusive) {
                 break;
             }
             self.nearest.pop();
@@ -330,7 +336,7 @@ impl Workspace {
             if d > self.dist[u as usize] {
                 continue; // stale heap entry
             }
-            if k_mode && self.settle_up_to(d, k, &mut chosen) >= k {
+            if k_mode && self.settle_up_to(d, false, k, &mut chosen) >= k {
                 break;
             }
             for &(t, extra) in targets.at(u) {
@@ -339,7 +345,7 @@ impl Workspace {
             self.relax_from(graph, u, d, limit);
         }
         let mut out = if k_mode {
-            self.settle_up_to(limit, k, &mut chosen);
+            self.settle_up_to(limit, true, k, &mut chosen);
             chosen
         } else {
             self.reached.iter().map(|&d| (d, self.best[d as usize])).filter(|&(_, c)| c <= limit).collect()
@@ -416,36 +422,39 @@ pub fn travel_costs(
 }
 
 /// Every node's cheapest site and the cost from it (one multi-source Dijkstra search:
-/// all sites start at once, each node keeps the site whose search reached it first).
-/// Unreached nodes (another component, beyond `limit`, or cut off by one-way edges) keep
-/// cost `f64::INFINITY` and site `u32::MAX`.
+/// all sites start at once). Ties go to the lower site row: labels are (cost, site) pairs
+/// compared in that order, and an arc adds its cost and keeps the site, so Dijkstra's
+/// argument holds for the pairs as for costs and each node ends with the least pair over
+/// all sites. Unreached nodes (another component, beyond `limit`, or cut off by one-way
+/// edges) keep cost `f64::INFINITY` and site `u32::MAX`.
 pub(crate) fn label_nodes(graph: &TravelGraph, sites: &[Spot], limit: f64) -> (Vec<f64>, Vec<u32>) {
     let n = graph.node_count();
     let mut dist = vec![f64::INFINITY; n];
     let mut site = vec![u32::MAX; n];
     let mut heap = BinaryHeap::new();
+    let better = |c: f64, s: u32, dist: f64, site: u32| c < dist || (c == dist && s < site);
     for (s, spot) in sites.iter().enumerate() {
+        let s = s as u32;
         for (u, c) in graph.leave(*spot).iter() {
-            if c <= limit && c < dist[u as usize] {
+            if c <= limit && better(c, s, dist[u as usize], site[u as usize]) {
                 dist[u as usize] = c;
-                site[u as usize] = s as u32;
-                heap.push(Reverse((key(c), u)));
+                site[u as usize] = s;
+                heap.push(Reverse((key(c), s, u)));
             }
         }
     }
-    while let Some(Reverse((bits, u))) = heap.pop() {
+    while let Some(Reverse((bits, s, u))) = heap.pop() {
         let d = unkey(bits);
-        if d > dist[u as usize] {
-            continue;
+        if d != dist[u as usize] || s != site[u as usize] {
+            continue; // stale: the node was labelled with a smaller pair since
         }
-        let s = site[u as usize];
         for a in graph.first[u as usize] as usize..graph.first[u as usize + 1] as usize {
             let v = graph.arc_head[a] as usize;
             let nd = d + graph.arc_cost[a];
-            if nd <= limit && nd < dist[v] {
+            if nd <= limit && better(nd, s, dist[v], site[v]) {
                 dist[v] = nd;
                 site[v] = s;
-                heap.push(Reverse((key(nd), v as u32)));
+                heap.push(Reverse((key(nd), s, v as u32)));
             }
         }
     }
