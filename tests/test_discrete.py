@@ -434,6 +434,23 @@ def test_sparse_errors_are_named():
     assert now.to_frame()["candidate"].tolist() == [0, -1]
 
 
+def test_totals_with_an_unserved_point_are_infinite_not_nan():
+    # A sparse plan leaving a weighted point without an allowed site: its total and mean cost
+    # are the sums of the reported per-point terms, +inf (numpy's sum is the reference), not
+    # NaN; a zero-weight unserved point adds nothing.
+    apart = scipy.sparse.coo_array(([1.0, 2.0], ([0, 1], [0, 1])), shape=(2, 2))
+    for weights in ([1.0, 1.0], [3.0, 0.0]):
+        now = discrete.evaluate_sites(apart, [0], weights)
+        terms = np.array([w * c if w > 0 else 0.0 for w, c in zip(weights, now.cost)])
+        assert now.total_cost == np.sum(terms) and now.mean_cost == np.sum(terms) / np.sum(weights)
+        summary = now.summary()
+        assert summary["cost_u"].iloc[0] == np.sum(terms) and not summary.isna().any(axis=None)
+    # cover_most may leave a point unserved too: its totals are the evaluation's, line by line.
+    most = discrete.cover_most(apart, 1, 1.5, [1.0, 1.0])
+    again = discrete.evaluate_sites(apart, most.open, [1.0, 1.0], radius=1.5)
+    assert most.total_cost == again.total_cost == np.inf
+
+
 # ------------------------------------------------------------------ coordinates
 
 

@@ -550,6 +550,10 @@ mod tests {
         let s = evaluate_sites(&costs, Weights::Unit, &[0], None).unwrap();
         assert_eq!(s.assignment[3], UNSERVED);
         assert!(s.cost[3].is_infinite());
+        // The totals are the IEEE sums of the per-point terms (the reference): +∞, not NaN.
+        let summed: f64 = s.cost.iter().sum();
+        assert_eq!((s.total_cost, s.mean_cost), (summed, summed / 6.0));
+        assert_eq!(s.total_cost, f64::INFINITY);
     }
 
     #[test]
