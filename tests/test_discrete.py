@@ -513,6 +513,24 @@ def test_continuous_cover_against_milp():
     assert most.upper_bound >= best * (1 - 1e-9) and most.covered_weight >= best * 0.98
 
 
+def test_cover_most_anywhere_with_more_sites_than_coverage_sets():
+    # Three villages, two clusters within 1.5: sites anywhere, p = 3 (or more) covers every
+    # village (closed form: a site on each village covers it). The dominating set holds two
+    # distinct coverage sets; p above that used to be refused as "more than the candidates".
+    villages = np.array([[0.0, 0.0], [1.0, 0.0], [9.0, 0.0]])
+    w = np.array([2.0, 1.0, 4.0])
+    for p in (2, 3, 10):
+        most = pw.cover_most(villages, p, 1.5, w)
+        assert most.covered_weight == w.sum() and most.covered.all()
+        assert len(most.open) == 2  # every candidate of the dominating set; a third site adds nothing
+        assert (scipy.spatial.distance.cdist(villages, most.sites) <= 1.5).any(axis=1).all()  # scipy cdist
+    # Existing sites among the dominating candidates: p is counted beside them.
+    assert pw.cover_most(villages, 5, 1.5, w, fixed=[0]).covered_weight == w.sum()
+    # Given candidates keep the refusal: p more than the parcels offered.
+    with pytest.raises(pw.InputError, match="p: must be at most"):
+        pw.cover_most(villages, 3, 1.5, w, candidates=villages[:2])
+
+
 def test_coverage_plot_draws_disks():
     import matplotlib
 
