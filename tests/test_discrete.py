@@ -591,6 +591,22 @@ def test_structured_errors_carry_the_row() -> None:
     assert "points[1] has no candidate within radius 5; its cheapest candidate, column 1, costs 7" in str(caught.value)
 
 
+def test_shape_and_dtype_errors_name_their_argument() -> None:
+    # Every InputError names its argument in ``argument``, as the kernel's own ones do
+    # (``costs`` for a NaN cell above); the binding's shape and dtype checks set it too.
+    for call, argument in [
+        (lambda: discrete.p_median([1.0, 2.0, 3.0], 1), "costs"),
+        (lambda: discrete.cover_all(np.ones((2, 2, 2)), 1.0), "costs"),
+        (lambda: discrete.p_center([["a", "b"]], 1), "costs"),
+        (lambda: discrete.p_median(np.ones((2, 2)), 1, np.ones((2, 2))), "weights"),
+        (lambda: pw.p_median([[0.0, 0.0]], 1, candidates=[[0.0, 0.0, 0.0]]), "candidates"),
+        (lambda: pw.cover_most([[0.0, 0.0, 1.0]], 1, 1.0, candidates=[[0.0, 0.0]]), "points"),
+    ]:
+        with pytest.raises(pw.InputError, match=f"^{argument} must") as caught:
+            call()
+        assert caught.value.argument == argument
+
+
 def test_candidates_outside_a_region_never_open_and_keep_their_numbers() -> None:
     import itertools
 
