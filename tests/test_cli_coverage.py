@@ -172,6 +172,23 @@ def test_region_holding_no_candidate_is_one_line(files, tmp_path, capsys):
     assert_user_error(code, err, "region holds none")
 
 
+def test_covering_commands_offer_no_region(files, tmp_path, capsys):
+    # The covering models take no region: --region is not offered (argparse's one-line usage
+    # error, status 2) rather than accepted by the parser and failing inside with a TypeError.
+    homes, parcels = files
+    region = tmp_path / "zone.gpkg"
+    gpd.GeoDataFrame(geometry=[shapely.box(*CXY.min(axis=0), *CXY.max(axis=0))], crs="EPSG:32632").to_file(region)
+    for command in (["cover-all"], ["cover-most", "-p", 1]):
+        with pytest.raises(SystemExit) as info:
+            main([command[0], str(homes), "--crs", "EPSG:32632", "--radius", "9000", *map(str, command[1:]),
+                  "--candidates", str(parcels), "--region", str(region)])
+        _, err = capsys.readouterr()
+        assert_user_error(info.value.code, err, "--region")
+        with pytest.raises(SystemExit):
+            main([command[0], "--help"])
+        assert "--region" not in capsys.readouterr().out
+
+
 def test_candidates_file_without_coordinates_is_one_line(files, tmp_path, capsys):
     homes, _ = files
     bad = tmp_path / "bad.csv"

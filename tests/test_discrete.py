@@ -434,6 +434,23 @@ def test_sparse_errors_are_named():
     assert now.to_frame()["candidate"].tolist() == [0, -1]
 
 
+def test_totals_with_an_unserved_point_are_infinite_not_nan():
+    # A sparse plan leaving a weighted point without an allowed site: its total and mean cost
+    # are the sums of the reported per-point terms, +inf (numpy's sum is the reference), not
+    # NaN; a zero-weight unserved point adds nothing.
+    apart = scipy.sparse.coo_array(([1.0, 2.0], ([0, 1], [0, 1])), shape=(2, 2))
+    for weights in ([1.0, 1.0], [3.0, 0.0]):
+        now = discrete.evaluate_sites(apart, [0], weights)
+        terms = np.array([w * c if w > 0 else 0.0 for w, c in zip(weights, now.cost)])
+        assert now.total_cost == np.sum(terms) and now.mean_cost == np.sum(terms) / np.sum(weights)
+        summary = now.summary()
+        assert summary["cost_u"].iloc[0] == np.sum(terms) and not summary.isna().any(axis=None)
+    # cover_most may leave a point unserved too: its totals are the evaluation's, line by line.
+    most = discrete.cover_most(apart, 1, 1.5, [1.0, 1.0])
+    again = discrete.evaluate_sites(apart, most.open, [1.0, 1.0], radius=1.5)
+    assert most.total_cost == again.total_cost == np.inf
+
+
 # ------------------------------------------------------------------ coordinates
 
 
@@ -496,6 +513,24 @@ def test_continuous_cover_against_milp():
     assert most.upper_bound >= best * (1 - 1e-9) and most.covered_weight >= best * 0.98
 
 
+def test_cover_most_anywhere_with_more_sites_than_coverage_sets():
+    # Three villages, two clusters within 1.5: sites anywhere, p = 3 (or more) covers every
+    # village (closed form: a site on each village covers it). The dominating set holds two
+    # distinct coverage sets; p above that used to be refused as "more than the candidates".
+    villages = np.array([[0.0, 0.0], [1.0, 0.0], [9.0, 0.0]])
+    w = np.array([2.0, 1.0, 4.0])
+    for p in (2, 3, 10):
+        most = pw.cover_most(villages, p, 1.5, w)
+        assert most.covered_weight == w.sum() and most.covered.all()
+        assert len(most.open) == 2  # every candidate of the dominating set; a third site adds nothing
+        assert (scipy.spatial.distance.cdist(villages, most.sites) <= 1.5).any(axis=1).all()  # scipy cdist
+    # Existing sites among the dominating candidates: p is counted beside them.
+    assert pw.cover_most(villages, 5, 1.5, w, fixed=[0]).covered_weight == w.sum()
+    # Given candidates keep the refusal: p more than the parcels offered.
+    with pytest.raises(pw.InputError, match="p: must be at most"):
+        pw.cover_most(villages, 3, 1.5, w, candidates=villages[:2])
+
+
 def test_coverage_plot_draws_disks():
     import matplotlib
 
@@ -554,6 +589,22 @@ def test_structured_errors_carry_the_row() -> None:
         discrete.cover_all(costs, 5.0)
     assert caught.value.row == 1
     assert "points[1] has no candidate within radius 5; its cheapest candidate, column 1, costs 7" in str(caught.value)
+
+
+def test_shape_and_dtype_errors_name_their_argument() -> None:
+    # Every InputError names its argument in ``argument``, as the kernel's own ones do
+    # (``costs`` for a NaN cell above); the binding's shape and dtype checks set it too.
+    for call, argument in [
+        (lambda: discrete.p_median([1.0, 2.0, 3.0], 1), "costs"),
+        (lambda: discrete.cover_all(np.ones((2, 2, 2)), 1.0), "costs"),
+        (lambda: discrete.p_center([["a", "b"]], 1), "costs"),
+        (lambda: discrete.p_median(np.ones((2, 2)), 1, np.ones((2, 2))), "weights"),
+        (lambda: pw.p_median([[0.0, 0.0]], 1, candidates=[[0.0, 0.0, 0.0]]), "candidates"),
+        (lambda: pw.cover_most([[0.0, 0.0, 1.0]], 1, 1.0, candidates=[[0.0, 0.0]]), "points"),
+    ]:
+        with pytest.raises(pw.InputError, match=f"^{argument} must") as caught:
+            call()
+        assert caught.value.argument == argument
 
 
 def test_candidates_outside_a_region_never_open_and_keep_their_numbers() -> None:

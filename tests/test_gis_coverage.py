@@ -152,6 +152,19 @@ def test_cover_most_with_existing_sites():
     assert (plan.sites["source"] == "candidates").sum() == p
 
 
+def test_cover_most_anywhere_with_more_sites_than_needed():
+    # Two houses 1 apart and an old clinic far off; 4 new sites anywhere within 1.5: one covers
+    # both houses (closed form), and the rest could cover nothing more, so none is placed.
+    homes = gpd.GeoDataFrame({"people": [3, 2]}, geometry=gpd.points_from_xy([0, 1], [0, 0]))
+    clinic = gpd.GeoSeries(gpd.points_from_xy([50], [50]), index=["old"])
+    plan = gis.cover_most(homes, 4, 1.5, "people", fixed=clinic, planar=True)
+    assert float(plan.summary["covered_share"].iloc[0]) == 1.0
+    assert plan.sites["source"].tolist() == ["anywhere", "fixed"]
+    new = plan.sites[~plan.sites["fixed"]]
+    xy = np.column_stack([homes.geometry.x, homes.geometry.y])
+    assert (cdist(xy, np.column_stack([new["x"], new["y"]])) <= 1.5).all()  # scipy cdist
+
+
 @pytest.mark.parametrize("seed", [11, 12])
 def test_p_median_with_candidates_matches_the_integer_program(seed):
     demand, candidates, xy, cxy = planar_case(seed, n=15, m=8)

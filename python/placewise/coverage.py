@@ -45,6 +45,17 @@ def _candidates(points: ArrayLike, radius: float, candidates: ArrayLike | None,
     return _core.discrete_circle_candidates(points, radius, time_limit)
 
 
+def _new_sites_anywhere(p: object, free: int) -> object:
+    """``p`` new sites anywhere, at most the ``free`` candidates of the dominating set (those
+    not fixed). That set holds an optimal plan of every size (Church 1984) and covers every
+    point once all of it is open, so a further site could cover nothing more and none is
+    placed. A ``p`` that is not an integer above zero goes to the kernel as given, which
+    refuses it by name."""
+    if isinstance(p, bool) or not isinstance(p, (int, np.integer)) or p < 1 or free < 1:
+        return p
+    return min(int(p), free)
+
+
 def _left(time_limit: float | None, since: float) -> float | None:
     """What remains of ``time_limit`` seconds counted from ``since`` (``time.monotonic``):
     at least a millisecond, so the model still returns its first feasible plan. A value
@@ -152,11 +163,14 @@ def cover_most(
     Returns
     -------
     placewise.discrete.CoverMostSelection
+        With sites anywhere, at most as many new sites as the dominating set has candidates
+        (not fixed): once ``p`` reaches that, they are all open and every point is covered,
+        so a further site is not placed.
 
     Raises
     ------
     InputError
-        As :func:`cover_all`, and for ``p`` larger than the candidates not fixed.
+        As :func:`cover_all`, and for ``p`` larger than the given candidates not fixed.
 
     Examples
     --------
@@ -167,9 +181,13 @@ def cover_most(
     (array([0]), 10.0, [1, 1, 0, 0, 0])
     >>> float(pw.cover_most(villages, 1, 1.5, [1, 1, 1, 1, 1]).covered_weight)   # anywhere: 3 villages
     3.0
+    >>> pw.cover_most([[0, 0], [1, 0], [9, 0]], 3, 1.5).sites.tolist()   # two sites anywhere cover all
+    [[0.0, 0.0], [9.0, 0.0]]
     """
     since = time.monotonic()
-    candidates = _candidates(points, radius, candidates, time_limit)
+    if candidates is None:
+        candidates = _candidates(points, radius, None, time_limit)
+        p = _new_sites_anywhere(p, len(candidates) - (0 if fixed is None else int(np.size(fixed))))
     return discrete.cover_most_planar(points, candidates, p, radius, weights, fixed=fixed, unit=unit,
                                       time_limit=_left(time_limit, since), progress=progress)
 

@@ -251,6 +251,7 @@ impl SiteService {
         let (mut total, mut total_weight, mut covered_weight) =
             (CompensatedSum::default(), CompensatedSum::default(), CompensatedSum::default());
         let (mut worst_cost, mut weighted_worst) = (0.0f64, 0.0f64);
+        let mut unserved_demand = false;
         let served: Vec<(usize, f64, usize)> = {
             use rayon::prelude::*;
             let mut position = vec![UNSERVED; costs.columns()];
@@ -265,9 +266,15 @@ impl SiteService {
                 load[at] += w;
                 count[at] += 1;
             }
-            // A point of weight 0 adds nothing, even when no open site may serve it.
+            // A point of weight 0 adds nothing, even when no open site may serve it; one of
+            // positive weight that none may serve makes the total +∞, as the IEEE sum of the
+            // terms is (added to the compensated sum, ∞ − ∞ in its compensation gives NaN).
             if w > 0.0 {
-                total.add(w * best);
+                if best.is_finite() {
+                    total.add(w * best);
+                } else {
+                    unserved_demand = true;
+                }
             }
             total_weight.add(w);
             worst_cost = worst_cost.max(best);
@@ -286,6 +293,7 @@ impl SiteService {
             Coverage { radius, covered, covering, covered_weight, covered_share: covered_weight / total_weight }
         });
         let fixed_flags = open.iter().map(|j| fixed.contains(j)).collect();
+        let total = if unserved_demand { f64::INFINITY } else { total.total() };
         SiteService {
             open,
             fixed: fixed_flags,
@@ -293,8 +301,8 @@ impl SiteService {
             cost,
             load,
             count,
-            total_cost: total.total(),
-            mean_cost: total.total() / total_weight,
+            total_cost: total,
+            mean_cost: total / total_weight,
             worst_cost,
             weighted_worst,
             total_weight,
@@ -557,6 +565,10 @@ mod tests {
         let s = evaluate_sites(&costs, Weights::Unit, &[0], None).unwrap();
         assert_eq!(s.assignment[3], UNSERVED);
         assert!(s.cost[3].is_infinite());
+        // The totals are the IEEE sums of the per-point terms (the reference): +∞, not NaN.
+        let summed: f64 = s.cost.iter().sum();
+        assert_eq!((s.total_cost, s.mean_cost), (summed, summed / 6.0));
+        assert_eq!(s.total_cost, f64::INFINITY);
     }
 
     #[test]

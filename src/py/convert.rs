@@ -11,7 +11,7 @@ use numpy::{
 use pyo3::prelude::*;
 use pyo3::types::PyDict;
 
-use super::errors::input_error;
+use super::errors::{argument_error, input_error};
 use crate::geometry::{FeasibleRegion, Point};
 
 /// True when the array can be viewed as a slice as it is: C-contiguous and aligned.
@@ -28,10 +28,16 @@ fn contiguous<'py>(obj: &Bound<'py, PyAny>, argument: &str, dtype: &str) -> PyRe
     kwargs.set_item("dtype", dtype)?;
     kwargs.set_item("requirements", ["C", "A"])?;
     let as_array = numpy.call_method1("asarray", (obj,)).map_err(|e| {
-        input_error(format!("{argument} must be a numeric array; it could not be converted to {dtype}: {e}"))
+        argument_error(
+            argument,
+            format!("{argument} must be a numeric array; it could not be converted to {dtype}: {e}"),
+        )
     })?;
     numpy.call_method("require", (as_array,), Some(&kwargs)).map_err(|e| {
-        input_error(format!("{argument} must be a numeric array; it could not be converted to {dtype}: {e}"))
+        argument_error(
+            argument,
+            format!("{argument} must be a numeric array; it could not be converted to {dtype}: {e}"),
+        )
     })
 }
 
@@ -54,13 +60,14 @@ pub(crate) fn points_arg<'py>(obj: &Bound<'py, PyAny>, argument: &str) -> PyResu
     }
     match converted.cast_into::<PyArray2<f64>>() {
         Ok(array) if array.shape()[1] == 2 => Ok(array.readonly()),
-        Ok(array) => {
-            Err(input_error(format!("{argument} must have shape (n, 2); got shape {}", shape_of(array.as_any()))))
-        }
-        Err(e) => Err(input_error(format!(
-            "{argument} must have shape (n, 2); got shape {}",
-            shape_of(e.into_inner().as_any())
-        ))),
+        Ok(array) => Err(argument_error(
+            argument,
+            format!("{argument} must have shape (n, 2); got shape {}", shape_of(array.as_any())),
+        )),
+        Err(e) => Err(argument_error(
+            argument,
+            format!("{argument} must have shape (n, 2); got shape {}", shape_of(e.into_inner().as_any())),
+        )),
     }
 }
 
@@ -74,10 +81,10 @@ pub(crate) fn matrix_arg<'py>(obj: &Bound<'py, PyAny>, argument: &str) -> PyResu
     }
     match contiguous(obj, argument, "float64")?.cast_into::<PyArray2<f64>>() {
         Ok(array) => Ok(array.readonly()),
-        Err(e) => Err(input_error(format!(
-            "{argument} must have shape (n, m); got shape {}",
-            shape_of(e.into_inner().as_any())
-        ))),
+        Err(e) => Err(argument_error(
+            argument,
+            format!("{argument} must have shape (n, m); got shape {}", shape_of(e.into_inner().as_any())),
+        )),
     }
 }
 
@@ -101,10 +108,10 @@ pub(crate) fn weights_arg<'py>(
     let converted = contiguous(obj, argument, "float64")?;
     match converted.cast_into::<PyArray1<f64>>() {
         Ok(array) => Ok(Some(array.readonly())),
-        Err(e) => Err(input_error(format!(
-            "{argument} must have shape (n,); got shape {}",
-            shape_of(e.into_inner().as_any())
-        ))),
+        Err(e) => Err(argument_error(
+            argument,
+            format!("{argument} must have shape (n,); got shape {}", shape_of(e.into_inner().as_any())),
+        )),
     }
 }
 
@@ -121,18 +128,21 @@ pub(crate) fn labels_arg<'py>(obj: &Bound<'py, PyAny>, argument: &str) -> PyResu
     let size: usize = as_array.getattr("size")?.extract()?;
     if !matches!(kind.as_str(), "i" | "u" | "b") && size > 0 {
         let dtype = as_array.getattr("dtype")?.str()?.to_string();
-        return Err(input_error(format!(
-            "{argument} must hold integer labels; got dtype {dtype} (codes such as \
+        return Err(argument_error(
+            argument,
+            format!(
+                "{argument} must hold integer labels; got dtype {dtype} (codes such as \
              pandas.factorize(column)[0] will do; placewise.gis and placewise.cluster take a column of any values)"
-        )));
+            ),
+        ));
     }
     let converted = contiguous(&as_array, argument, "int64")?;
     match converted.cast_into::<PyArray1<i64>>() {
         Ok(array) => Ok(array.readonly()),
-        Err(e) => Err(input_error(format!(
-            "{argument} must have shape (n,); got shape {}",
-            shape_of(e.into_inner().as_any())
-        ))),
+        Err(e) => Err(argument_error(
+            argument,
+            format!("{argument} must have shape (n,); got shape {}", shape_of(e.into_inner().as_any())),
+        )),
     }
 }
 

@@ -32,14 +32,16 @@ def place_options(args: argparse.Namespace) -> dict[str, Any]:
     return options
 
 
-def add_place_options(parser: argparse.ArgumentParser, candidates: bool = True) -> None:
-    """``--candidates FILE`` (when the subcommand can choose among them) and ``--region FILE``."""
+def add_place_options(parser: argparse.ArgumentParser, candidates: bool = True, region: bool = True) -> None:
+    """``--candidates FILE`` (when the subcommand can choose among them) and ``--region FILE``
+    (when its model takes a region)."""
     if candidates:
         parser.add_argument("--candidates", metavar="FILE",
                             help="points where sites may go (e.g. parcels; --centroids for polygons); the sites "
                                  "output names the chosen rows (source_row)")
-    parser.add_argument("--region", metavar="FILE",
-                        help="polygons where the new sites must lie (their union, boundary included)")
+    if region:
+        parser.add_argument("--region", metavar="FILE",
+                            help="polygons where the new sites must lie (their union, boundary included)")
 
 
 def _write_plan(plan: Any, args: argparse.Namespace) -> None:
@@ -110,13 +112,15 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
     p = command("cover-all", _cmd_cover_all, "the fewest sites putting every point within a radius (set covering)",
                 [weight, summary, watch])
     p.add_argument("--radius", type=_positive_float, required=True, help=radius_help)
-    add_place_options(p)
+    # The covering models have no region (gis.cover_all and gis.cover_most take none).
+    add_place_options(p, region=False)
     _add_assignment(p)
     p = command("cover-most", _cmd_cover_most, "p sites covering the most weight within a radius (maximal covering)",
                 [weight, summary, watch])
     p.add_argument("-p", type=_positive_int, required=True, help="number of new sites")
     p.add_argument("--radius", type=_positive_float, required=True, help=radius_help)
-    add_place_options(p)
+    # The covering models have no region (gis.cover_all and gis.cover_most take none).
+    add_place_options(p, region=False)
     p.add_argument("--fixed", metavar="FILE", help="existing sites, open whatever the plan")
     _add_assignment(p)
     p = command("evaluate-sites", _cmd_evaluate_sites, "how today's sites serve the points: distances, loads and "

@@ -230,7 +230,8 @@ def cover_most(
     ----------
     frame : GeoDataFrame or GeoSeries of demand points
     p : int
-        Number of new sites.
+        Number of new sites (anywhere: at most the candidates of the dominating set, as in
+        :func:`placewise.cover_most`).
     radius : float
         Metres for geographic input, else the CRS's unit (see :func:`cover_all`).
     weight : str or array_like, optional
@@ -279,9 +280,11 @@ def cover_most(
     sources = Sources()
     if cf is None:
         from ..coverage import _candidates as _anywhere
+        from ..coverage import _new_sites_anywhere
 
         where = np.asarray(call(_anywhere, pf.xy, radius, None, rows=_rows(pf)), dtype=np.float64).reshape(-1, 2)
         sources.add("anywhere", count=len(where))
+        p = _new_sites_anywhere(p, len(where))  # the fixed sites come after these
     else:
         where = cf.xy
         sources.add("candidates", cf)
