@@ -136,6 +136,21 @@ impl WorkingFrame {
         }
     }
 
+    /// This frame with its scale widened (by a power of two, the origin kept) so that the
+    /// points `also` lie within unit size of the origin too.
+    ///
+    /// Why keep the origin: points of tiny extent next to a far feature (a region a unit
+    /// away from points within 1e-160) would all round onto one local point if the origin
+    /// moved to the middle of both; kept at their own centre they stay distinct, while the
+    /// feature no longer sits so far out that squared distances to it overflow.
+    pub fn holding(self, also: &[Point]) -> WorkingFrame {
+        let reach = also
+            .iter()
+            .map(|p| (p[0] - self.origin[0]).abs().max((p[1] - self.origin[1]).abs()))
+            .fold(0.0f64, f64::max);
+        WorkingFrame { factor: self.factor.min(power_of_two_factor(2.0 * reach)), ..self }
+    }
+
     /// A world point in local coordinates.
     pub fn to_local(self, p: Point) -> Point {
         scale(sub(p, self.origin), self.factor)

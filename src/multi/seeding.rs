@@ -13,8 +13,9 @@ use crate::geometry::{distance, Point, Weights};
 /// `count` sites by D-sampling among the demand locations `points[candidates[..]]`, where
 /// the existing sites `fixed` count as already chosen.
 ///
-/// Invariant: the sites are distinct candidate locations; `count` never exceeds the number
-/// of candidates.
+/// Invariant: the sites are candidate locations, distinct ones while the candidates' locations
+/// allow (`count` never exceeds the number of candidates, but two of them may share a
+/// location in a working frame that rounded them together).
 pub(super) fn d_sampling(
     points: &[Point],
     weights: Weights<'_>,
@@ -37,12 +38,10 @@ pub(super) fn d_sampling(
         let chosen = match draw_weighted(&scores, rng) {
             Some(c) => points[candidates[c]],
             // Every candidate already has a site (fixed ones cover the demand): the remaining
-            // sites go to the first candidates not yet used by a new site.
-            None => *candidates
-                .iter()
-                .map(|&i| &points[i])
-                .find(|a| !sites.contains(a))
-                .expect("count never exceeds the number of candidates"),
+            // sites go to the first candidates not yet used by a new site. Distinct demand
+            // locations can still coincide in the caller's working frame (subnormal
+            // coordinates scaled to hold a far region): then a used one takes the site too.
+            None => candidates.iter().map(|&i| points[i]).find(|a| !sites.contains(a)).unwrap_or(points[candidates[0]]),
         };
         for (d, &i) in nearest.iter_mut().zip(candidates) {
             *d = d.min(distance(points[i], chosen));

@@ -206,7 +206,13 @@ pub fn p_median(
         // region to it): each point pays its least possible distance, so the plan is optimal.
         distinct.iter().map(|l| region.map_or(points[l.first], |r| r.project(points[l.first]))).collect()
     } else {
-        let frame = WorkingFrame::of(points);
+        // The frame holds the region too: sites live there, and a region far from points of
+        // tiny extent would otherwise sit so far out in the points' unit frame that squared
+        // distances to its sites overflow (points near 1e-160, a region near 1).
+        let frame = match region {
+            None => WorkingFrame::of(points),
+            Some(r) => WorkingFrame::of(points).holding(&[r.bounds().min, r.bounds().max]),
+        };
         let local = frame.local(points);
         let fixed_local = frame.local(fixed);
         let local_region = region.map(|r| r.mapped(|v| frame.to_local(v)));
@@ -710,5 +716,45 @@ mod p654 {
             let plan = p_median(&points, Weights::Unit, p, &[], &options).unwrap();
             assert!(plan.service.cost <= known * 1.001, "p = {p}: {} vs best known {known}", plan.service.cost);
         }
+    }
+}
+
+#[cfg(test)]
+mod far_region_tests {
+    use super::*;
+    use crate::geometry::{distance, FeasibleRegion};
+
+    #[test]
+    fn a_region_far_from_tiny_points_is_held_by_the_working_frame() {
+        // Points within 1e-159 of the origin and an L-shaped lot in [1, 4]²: in the points'
+        // own unit frame the lot sat near 1e160, where squared distances overflow and no
+        // site was nearest to any point (an index past the sites). Closed form: every point
+        // of the lot is at least as far from such a point as the lot's corner (1, 1), so
+        // the optimum puts the sites there and costs Σ |a − (1, 1)|.
+        let points: Vec<Point> = (0..8)
+            .map(|i| {
+                let t = i as f64;
+                [(t - 3.5) * 3e-161, (t * t - 12.0) * 1e-161]
+            })
+            .collect();
+        let lot = [[1.0, 1.0], [4.0, 1.0], [4.0, 2.0], [2.0, 2.0], [2.0, 4.0], [1.0, 4.0]];
+        let region = Arc::new(FeasibleRegion::new(&lot, &[0, lot.len()]).unwrap());
+        let options = MedianOptions { region: Some(region.clone()), ..MedianOptions::default() };
+        let plan = p_median(&points, Weights::Unit, 2, &[], &options).unwrap();
+        let corner_cost: f64 = points.iter().map(|&a| distance(a, [1.0, 1.0])).sum();
+        assert!(plan.sites.iter().all(|&s| region.contains(s)), "{:?}", plan.sites);
+        assert!(plan.service.cost <= corner_cost * (1.0 + 1e-12), "{} > {corner_cost}", plan.service.cost);
+        assert!(plan.service.cost >= corner_cost * (1.0 - 1e-12), "{} < {corner_cost}", plan.service.cost);
+        // Subnormal coordinates (multiples of 5e-324): in the frame that holds the lot they
+        // round together, and the seeding put two sites on one location instead of failing.
+        let subnormal: Vec<Point> = (0..30).map(|i| [(i % 7) as f64 * 5e-324, (i % 5) as f64 * -5e-324]).collect();
+        let plan = p_median(&subnormal, Weights::Unit, 2, &[], &options).unwrap();
+        let corner_cost: f64 = subnormal.iter().map(|&a| distance(a, [1.0, 1.0])).sum();
+        assert!(plan.sites.iter().all(|&s| region.contains(s)), "{:?}", plan.sites);
+        assert!(
+            (plan.service.cost - corner_cost).abs() <= 1e-12 * corner_cost,
+            "{} vs {corner_cost}",
+            plan.service.cost
+        );
     }
 }
