@@ -76,8 +76,20 @@ impl SiteGrid {
         let span = w.max(h);
         // About two sites per bucket over the box (a flat box: along its length).
         let area = if w > 0.0 && h > 0.0 { w * h } else { span * span / sites.len() as f64 };
-        let cell = if span > 0.0 { (2.0 * area / sites.len() as f64).sqrt().max(span * 1e-9) } else { 1.0 };
-        let count = |extent: f64| ((extent / cell).floor() as usize + 1).min(1 << 12);
+        // A span in the subnormal range underflows the area and `span · 1e-9`: the whole
+        // span is then one bucket (a cell of 0 would divide the extent to infinity).
+        let fine = (2.0 * area / sites.len() as f64).sqrt().max(span * 1e-9);
+        let cell = if span > 0.0 {
+            if fine > 0.0 {
+                fine
+            } else {
+                span
+            }
+        } else {
+            1.0
+        };
+        // At most 4,096 buckets a side, clamped before the cast (a huge ratio would wrap).
+        let count = |extent: f64| (extent / cell).floor().min(4095.0) as usize + 1;
         let (columns, rows) = (count(w), count(h));
         let mut grid =
             SiteGrid { origin: b.min, cell, columns, rows, start: vec![0; columns * rows + 1], members: Vec::new() };
@@ -204,7 +216,9 @@ mod tests {
         clustered.extend(lcg_cloud(40, 4, [50.0, 50.0], 0.1));
         let line: Vec<Point> = (0..30).map(|j| [j as f64, 2.0]).collect();
         let repeated = vec![[1.0, 1.0]; 20];
-        for sites in [clustered, line, repeated, vec![[0.0, 0.0], [1e6, -1e6], [3.0, 4.0]]] {
+        // Subnormal sites: a span of 5e-324 once left the grid without buckets.
+        let subnormal = vec![[5e-324, 0.0], [0.0, 0.0], [0.0, 1e-323]];
+        for sites in [clustered, line, repeated, vec![[0.0, 0.0], [1e6, -1e6], [3.0, 4.0]], subnormal] {
             let points = lcg_cloud(500, 9, [-20.0, -20.0], 100.0);
             let c = Candidates::new(&points, &sites, &vec![0.0; sites.len()]);
             for (i, &p) in points.iter().enumerate() {
