@@ -137,11 +137,15 @@ pub(crate) fn allocate_with_flows(
     weights: Weights<'_>,
     options: &AllocationOptions,
 ) -> Result<(CapacityAllocation, Flows)> {
-    allocate_on_clock(points, sites, capacities, weights, options, &options.limits.clock())
+    allocate_on_clock(points, sites, capacities, weights, options, &options.limits.clock(), None)
 }
 
 /// [`allocate_with_flows`] stopped by `clock` instead of `options.limits` (for a kernel that
-/// allocates inside a run of its own, under the run's deadline).
+/// allocates inside a run of its own, under the run's deadline). `checked` holds the total
+/// demand and capacity when [`validate`] has passed the input already (`None`: check it
+/// here): a kernel that moves its own sites allocates to them round after round without
+/// checking again, and two of its sites may then share a location with different capacities
+/// (to the transportation problem they are one site holding both), which the check refuses.
 pub(crate) fn allocate_on_clock(
     points: &[Point],
     sites: &[Point],
@@ -149,24 +153,12 @@ pub(crate) fn allocate_on_clock(
     weights: Weights<'_>,
     options: &AllocationOptions,
     clock: &Clock,
+    checked: Option<(f64, f64)>,
 ) -> Result<(CapacityAllocation, Flows)> {
-    let (demand, capacity) = validate(points, sites, capacities, weights)?;
-    allocate_validated(points, sites, capacities, weights, options, clock, (demand, capacity))
-}
-
-/// [`allocate_on_clock`] for input already checked by [`validate`], which gave the total
-/// demand and capacity: a kernel that moves its own sites allocates to them round after
-/// round without checking again, and two of its sites may then share a location with
-/// different capacities (to the transportation problem they are one site holding both).
-pub(crate) fn allocate_validated(
-    points: &[Point],
-    sites: &[Point],
-    capacities: &[f64],
-    weights: Weights<'_>,
-    options: &AllocationOptions,
-    clock: &Clock,
-    (demand, capacity): (f64, f64),
-) -> Result<(CapacityAllocation, Flows)> {
+    let (demand, capacity) = match checked {
+        Some(totals) => totals,
+        None => validate(points, sites, capacities, weights)?,
+    };
     let short = shortfall(demand, capacity, options.allow_unserved)?;
     let mut steps = Steps::new(&clock.watch, 2);
     let plan = split_plan(points, sites, capacities, weights, short, plain_distance, clock)?;

@@ -27,7 +27,7 @@
 
 use std::time::Instant;
 
-use super::allocation::{allocate_on_clock, allocate_validated, split_plan, AllocationOptions, CapacityAllocation};
+use super::allocation::{allocate_on_clock, split_plan, AllocationOptions, CapacityAllocation};
 use super::transport::Flows;
 use super::{check_capacities, relative_gap, shortfall, validate};
 use crate::cancel::{Clock, RunLimits, Steps};
@@ -157,7 +157,7 @@ type Allocated = (CapacityAllocation, Flows);
 
 /// The exact split allocation under the run's clock (the run counts its own steps).
 fn allocate(points: &[Point], sites: &[Point], caps: &[f64], weights: Weights<'_>, clock: &Clock) -> Result<Allocated> {
-    allocate_on_clock(points, sites, caps, weights, &AllocationOptions::default(), &clock.quiet())
+    allocate_on_clock(points, sites, caps, weights, &AllocationOptions::default(), &clock.quiet(), None)
 }
 
 /// [`allocate`] to sites the run has moved, with the totals checked at its start: moved
@@ -171,7 +171,7 @@ fn allocate_moved(
     clock: &Clock,
     totals: (f64, f64),
 ) -> Result<Allocated> {
-    allocate_validated(points, sites, caps, weights, &AllocationOptions::default(), &clock.quiet(), totals)
+    allocate_on_clock(points, sites, caps, weights, &AllocationOptions::default(), &clock.quiet(), Some(totals))
 }
 
 /// The first plan: without it there is no answer, so a stop before it ends is the error of
