@@ -189,8 +189,11 @@ def weber_point(
     -------
     WeberPoint or WeberPoints
         ``location`` is ``[longitude, latitude]``; ``cost`` and ``gap`` are weight × metres
-        (columns ``cost_m``, ``gap_m``). ``gap`` is infinite (and ``converged`` false) for
-        points beyond the convex cap (see the module notes).
+        (columns ``cost_m``, ``gap_m``). ``converged`` is true when ``gap`` is within
+        ``tol * cost`` of the fixed allowance for GeographicLib's accuracy (about 3e-8 m per
+        point's distance, which outweighs ``tol * cost`` for points within a few hundred
+        metres). ``gap`` is infinite (and ``converged`` false) for points beyond the convex
+        cap (see the module notes).
 
     Raises
     ------
@@ -267,7 +270,9 @@ class GeodesicCenter(_CenterTable, Result):
         Input rows of the points that fix the answer.
     iterations : int
     converged : bool
-        True when ``gap <= tol * weighted_radius``.
+        True when ``gap <= tol * weighted_radius`` plus the allowance for GeographicLib's
+        accuracy (about 3e-8 m times the largest weight, which outweighs the first term for
+        a radius of a few metres).
 
     ``to_frame()`` gives ``x`` (longitude), ``y`` (latitude), ``weighted_radius_m``,
     ``gap_m``, ``relative_gap``, ``iterations``, ``converged``.

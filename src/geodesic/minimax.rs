@@ -72,8 +72,9 @@ pub struct GeodesicCenter {
     pub support: Vec<usize>,
     /// Recentred planar solves used.
     pub iterations: usize,
-    /// True when `gap ≤ tol · radius` (a run stopped early may still be converged when its
-    /// certificate holds).
+    /// True when `gap ≤ tol · radius` plus the allowance for the distances' accuracy (about
+    /// `w_max · 3e-8` m; a run stopped early may still be converged when its certificate
+    /// holds).
     pub converged: bool,
 }
 
@@ -190,9 +191,15 @@ fn lower_bound(
         let reach = 2.0 * radius / w_max;
         lower = lower.max(value - resultant[0].hypot(resultant[1]) * reach);
     }
-    // Allowance for the inverse problem's accuracy and rounding.
+    (lower - allowance(frame, radius)).max(0.0)
+}
+
+/// The part of the gap that the inverse problem's accuracy and rounding leave whatever the
+/// centre: about `w_max · 3e-8` m, which outweighs `tol · radius` for a radius of a few
+/// metres at the default tolerance.
+fn allowance(frame: &Frame, radius: f64) -> f64 {
     let w_max = frame.weights.iter().cloned().fold(0.0, f64::max);
-    (lower - w_max * DISTANCE_ACCURACY_M - 8.0 * f64::EPSILON * radius).max(0.0)
+    w_max * DISTANCE_ACCURACY_M + 8.0 * f64::EPSILON * radius
 }
 
 /// Solve. Inputs validated (longitude/latitude, weights); at least one weight positive.
@@ -259,7 +266,9 @@ fn descend(
         // certified radius alone leaves the centre free to drift across a flat valley (two
         // support points fix the radius to first order only along their geodesic).
         let settled = step[0].hypot(step[1]) * w_max <= options.tol * radius;
-        if (radius - lower <= options.tol * radius && settled) || radius == 0.0 {
+        // The gap within `tol · radius` of what the distances' accuracy allows.
+        let certified = radius - lower <= options.tol * radius + allowance(&frame, radius);
+        if (certified && settled) || radius == 0.0 {
             break;
         }
         let mut moved = false;
@@ -295,7 +304,7 @@ fn descend(
         gap,
         support: rows_support,
         iterations,
-        converged: gap <= options.tol * radius || radius == 0.0,
+        converged: gap <= options.tol * radius + allowance(&frame, radius) || radius == 0.0,
     })
 }
 

@@ -276,3 +276,39 @@ fn a_watched_grouped_nearest_site_counts_every_point_and_skips_groups_once_cance
     assert!(stopped.grouped.results.iter().all(|o| o.is_err()));
     assert_eq!(cancelled.progress(), (6_000, 6_000));
 }
+
+#[test]
+fn a_cluster_of_a_few_metres_converges_at_the_distances_accuracy() {
+    // Points within about 60 m (and a 6 m cluster for the minimax point): `tol · cost` at
+    // the default tolerance is below the gap's fixed allowance for GeographicLib's accuracy
+    // (about 3e-8 m per distance; Karney 2013, §1), so no run could reach it and every one
+    // ended unconverged after its passes ran out of progress. Converged now means the gap
+    // is within `tol` of that allowance. Reference: brute force, no site 1 cm away in eight
+    // directions is better than the returned one by more than its gap.
+    let earth = Earth::wgs84();
+    let mut rng = SplitMix64::new(23);
+    let near = |spread: f64, rng: &mut SplitMix64| -> Vec<Point> {
+        (0..40)
+            .map(|_| earth.exp([10.75, 59.9], [spread * (rng.next_f64() - 0.5), spread * (rng.next_f64() - 0.5)]))
+            .collect()
+    };
+    let pts = near(60.0, &mut rng);
+    let r = geodesic_weber_point(&pts, Weights::Unit, &WeberOptions::default()).unwrap();
+    assert!(r.converged && r.iterations <= 4, "{r:?}");
+    assert!(r.gap <= 1e-10 * r.cost + 40.0 * 4e-8, "{r:?}");
+    for k in 0..8 {
+        let a = k as f64 * std::f64::consts::FRAC_PI_4;
+        let q = earth.exp(r.location, [0.01 * a.sin(), 0.01 * a.cos()]);
+        assert!(cost(&pts, q) >= r.cost - r.gap, "{k}");
+    }
+    let pts = near(6.0, &mut rng);
+    let c = geodesic_minimax_point(&pts, Weights::Unit, &CenterOptions::default()).unwrap();
+    assert!(c.converged, "{c:?}");
+    let radius_at = |x: Point| pts.iter().map(|&p| earth.distance(x, p)).fold(0.0, f64::max);
+    assert!((radius_at(c.location) - c.radius).abs() <= 1e-9, "{c:?}");
+    for k in 0..8 {
+        let a = k as f64 * std::f64::consts::FRAC_PI_4;
+        let q = earth.exp(c.location, [0.001 * a.sin(), 0.001 * a.cos()]);
+        assert!(radius_at(q) >= c.radius - c.gap, "{k}");
+    }
+}

@@ -57,7 +57,8 @@ pub struct WeberPoint {
     pub gap: f64,
     /// Objective evaluations (passes over the points) used.
     pub iterations: usize,
-    /// True when `gap ≤ tol · cost` was reached within `max_iter`.
+    /// True when `gap ≤ tol · cost` was reached within `max_iter` (on the ellipsoid: plus the
+    /// gap's allowance for the distances' accuracy, which no step can remove).
     pub converged: bool,
 }
 

@@ -290,16 +290,32 @@ impl Problem<'_> {
         if !(self.certified && self.spread.holds(x)) {
             return f64::INFINITY;
         }
-        let cost = pass.sums.cost();
-        let radius = pass.sums.max_dist.min(2.0 * cost / self.total_weight);
-        pass.sums.subgradient_norm() * radius
-            + ROUNDING * (cost + self.total_weight * radius)
+        pass.sums.subgradient_norm() * self.reach(pass) + self.allowance(pass)
+    }
+
+    /// The distance from `x` to an optimum the certificate allows: `min(maxᵢ sᵢ, 2f/W)`.
+    fn reach(&self, pass: &Pass) -> f64 {
+        pass.sums.max_dist.min(2.0 * pass.sums.cost() / self.total_weight)
+    }
+
+    /// The part of the gap that rounding and the inverse problem's accuracy leave whatever
+    /// the location: about `W · 3e-8` m, which outweighs `tol · cost` for points within a
+    /// few hundred metres at the default tolerance.
+    fn allowance(&self, pass: &Pass) -> f64 {
+        let (cost, radius) = (pass.sums.cost(), self.reach(pass));
+        ROUNDING * (cost + self.total_weight * radius)
             + self.total_weight * DISTANCE_ACCURACY_M
             + if self.quick {
                 DISTANCE_RELATIVE_ACCURACY * cost + AZIMUTH_ACCURACY * self.total_weight * radius
             } else {
                 0.0
             }
+    }
+
+    /// Converged: the gap is within `tol · cost` of what the distances' accuracy allows (no
+    /// step can take it below [`Problem::allowance`]).
+    fn settles(&self, gap: f64, pass: &Pass, tol: f64) -> bool {
+        gap <= tol * pass.sums.cost() + self.allowance(pass)
     }
 
     /// Stationary to the precision a step can still show.
@@ -440,7 +456,7 @@ fn descend(
             cost: pass.sums.cost(),
             gap,
             iterations,
-            converged: gap <= tol * pass.sums.cost() || pass.sums.cost() == 0.0,
+            converged: problem.settles(gap, pass, tol) || pass.sums.cost() == 0.0,
         }
     };
     // Majority theorem (Witzgall 1964; its proof uses only the triangle inequality, so it
@@ -483,7 +499,7 @@ fn descend(
     let mut last_tested: Option<(usize, f64)> = None;
     loop {
         let done = if problem.certified {
-            problem.gap(x, &current) <= tol * current.sums.cost()
+            problem.settles(problem.gap(x, &current), &current, tol)
         } else {
             problem.stationary(&current, tol)
         };
