@@ -627,3 +627,22 @@ def test_candidates_outside_a_region_never_open_and_keep_their_numbers() -> None
     outside = int(np.flatnonzero(candidates[:, 1] > 5)[0])
     with pytest.raises(pw.InputError, match="outside the region"):
         pw.p_median(points, 1, candidates=candidates, fixed=[outside], region=region)
+
+
+def test_evaluate_sites_names_bad_sites_by_the_callers_argument() -> None:
+    # pw.evaluate_sites(points, sites): the planar kernel takes the sites as its
+    # candidates, and its errors used to name "candidates", an argument the caller never
+    # gave. Reference: the function's own signature.
+    import inspect
+
+    assert "sites" in inspect.signature(pw.evaluate_sites).parameters
+    with pytest.raises(pw.InputError, match=r"^sites\[1\] has a NaN coordinate") as caught:
+        pw.evaluate_sites([[0.0, 0.0], [1.0, 1.0]], [[0.0, 0.0], [1.0, np.nan]])
+    assert (caught.value.argument, caught.value.row) == ("sites", 1)
+    with pytest.raises(pw.DegenerateInputError, match=r"^sites must hold at least 1 point") as caught:
+        pw.evaluate_sites([[0.0, 0.0]], np.empty((0, 2)))
+    assert caught.value.argument == "sites"
+    # Errors about other arguments pass through as they were.
+    with pytest.raises(pw.InputError, match=r"^points\[1\]") as caught:
+        pw.evaluate_sites([[0.0, 0.0], [np.nan, 1.0]], [[0.0, 0.0]])
+    assert caught.value.argument == "points"

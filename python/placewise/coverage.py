@@ -21,6 +21,7 @@ professional judgement.
 from __future__ import annotations
 
 import math
+import re
 import time
 from collections.abc import Callable
 
@@ -28,6 +29,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from . import discrete
+from ._core import InputError
 
 __all__ = ["cover_all", "cover_most", "evaluate_sites"]
 
@@ -231,4 +233,12 @@ def evaluate_sites(
         rows = np.arange(len(sites))  # type: ignore[arg-type]
     except TypeError:
         rows = np.arange(0)
-    return discrete.evaluate_sites_planar(points, sites, rows, weights, radius=radius, unit=unit)
+    try:
+        return discrete.evaluate_sites_planar(points, sites, rows, weights, radius=radius, unit=unit)
+    except InputError as error:
+        if getattr(error, "argument", None) != "candidates":
+            raise
+        # The planar form takes the sites as its candidates: name them as the caller did.
+        renamed = type(error)(re.sub(r"\bcandidates\b", "sites", str(error)))
+        renamed.argument, renamed.row, renamed.group = "sites", error.row, error.group
+        raise renamed from None
