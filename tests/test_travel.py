@@ -679,3 +679,14 @@ def test_split_crossings_off_keeps_crossing_lines_apart_and_one_way_carries_over
     assert (tee.edges, tee.components) == (3, 1)
     with pytest.raises(pw.InputError, match=r"row 1|\[1\]"):
         pw.TravelGraph.from_lines(cross, cost=[1.0, -1.0], split_crossings=True)
+
+
+def test_a_node_count_that_disagrees_with_the_coordinates_is_refused() -> None:
+    # One coordinate per node: nodes=5 beside three points was dropped without a word
+    # (the graph had 3 nodes). Reference: the caller's own three coordinates.
+    three = [[0.0, 0.0], [1.0, 0.0], [2.0, 0.0]]
+    with pytest.raises(pw.InputError, match=r"nodes: 5 given, but coordinates hold 3 points") as caught:
+        pw.TravelGraph.from_edges([0, 1], [1, 2], [1.0, 1.0], nodes=5, coordinates=three)
+    assert caught.value.argument == "nodes"
+    graph = pw.TravelGraph.from_edges([0, 1], [1, 2], [1.0, 1.0], nodes=3, coordinates=three)
+    assert "nodes=3" in repr(graph)

@@ -47,7 +47,7 @@ def _candidates(points: ArrayLike, radius: float, candidates: ArrayLike | None,
     return _core.discrete_circle_candidates(points, radius, time_limit)
 
 
-def _new_sites_anywhere(p: object, free: int) -> object:
+def _new_sites_anywhere(p: int, free: int) -> int:
     """``p`` new sites anywhere, at most the ``free`` candidates of the dominating set (those
     not fixed). That set holds an optimal plan of every size (Church 1984) and covers every
     point once all of it is open, so a further site could cover nothing more and none is
@@ -189,7 +189,8 @@ def cover_most(
     since = time.monotonic()
     if candidates is None:
         candidates = _candidates(points, radius, None, time_limit)
-        p = _new_sites_anywhere(p, len(candidates) - (0 if fixed is None else int(np.size(fixed))))
+        free = int(np.shape(candidates)[0]) - (0 if fixed is None else int(np.size(fixed)))
+        p = _new_sites_anywhere(p, free)
     return discrete.cover_most_planar(points, candidates, p, radius, weights, fixed=fixed, unit=unit,
                                       time_limit=_left(time_limit, since), progress=progress)
 

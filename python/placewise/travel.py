@@ -320,7 +320,8 @@ class TravelGraph:
             True / 1 / ``"forward"``: tail to head only; -1 / ``"backward"``: head to tail
             only; False / 0 / ``"both"``: both ways.
         nodes : int, optional
-            Number of nodes (isolated nodes included). Default: largest number + 1.
+            Number of nodes (isolated nodes included). Default: largest number + 1, or
+            with ``coordinates`` their count (a different ``nodes`` is an ``InputError``).
         coordinates : array_like, shape (nodes, 2), optional
             Node coordinates: edges become straight segments, so points can be attached.
         unit : str

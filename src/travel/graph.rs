@@ -117,7 +117,8 @@ impl TravelGraph {
     /// [`Error::LengthMismatch`] when the arrays disagree in length; [`Error::InvalidEdge`]
     /// naming the row of a node index out of range, a NaN, infinite or negative cost, or an
     /// unknown one-way code; [`Error::NonFiniteCoordinate`] for a bad node coordinate;
-    /// [`Error::InvalidParameter`] beyond 32-bit indices.
+    /// [`Error::InvalidParameter`] naming `nodes` when it disagrees with the coordinates'
+    /// count, and beyond 32-bit indices.
     pub fn from_edges(
         tail: &[i64],
         head: &[i64],
@@ -139,6 +140,14 @@ impl TravelGraph {
         }
         let largest = tail.iter().chain(head).copied().max().unwrap_or(-1);
         let n = match (nodes, coordinates) {
+            // Both given, they must agree: one coordinate per node (a count that differs
+            // was dropped without a word before).
+            (Some(n), Some(c)) if n != c.len() => {
+                return Err(Error::InvalidParameter {
+                    name: "nodes",
+                    reason: format!("{n} given, but coordinates hold {} points (one per node)", c.len()),
+                })
+            }
             (_, Some(c)) => c.len(),
             (Some(n), None) => n,
             (None, None) => (largest + 1).max(0) as usize,

@@ -144,6 +144,13 @@ fn bad_rows_are_named() {
     assert_eq!((e.argument(), e.row()), ("one_way", Some(1)));
     let e = TravelGraph::from_edges(&[0], &[7], &[1.0], None, None, Some(3), None).unwrap_err();
     assert_eq!((e.argument(), e.row()), ("head", Some(0)));
+    // A node count that disagrees with the coordinates' (one point per node) is refused.
+    let three = [[0.0, 0.0], [1.0, 0.0], [2.0, 0.0]];
+    let e = TravelGraph::from_edges(&[0, 1], &[1, 2], &[1.0, 1.0], None, None, Some(5), Some(&three)).unwrap_err();
+    assert_eq!(e.argument(), "nodes");
+    assert!(e.to_string().contains("coordinates hold 3 points"), "{e}");
+    let g = TravelGraph::from_edges(&[0, 1], &[1, 2], &[1.0, 1.0], None, None, Some(3), Some(&three)).unwrap();
+    assert_eq!(g.node_count(), 3);
     let e =
         TravelGraph::from_lines(&[[0.0, 0.0], [1.0, 0.0], [2.0, 2.0]], &[0, 2, 3], &Default::default()).unwrap_err();
     assert_eq!((e.argument(), e.row()), ("lines", Some(1)));
