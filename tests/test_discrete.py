@@ -449,6 +449,11 @@ def test_totals_with_an_unserved_point_are_infinite_not_nan():
     most = discrete.cover_most(apart, 1, 1.5, [1.0, 1.0])
     again = discrete.evaluate_sites(apart, most.open, [1.0, 1.0], radius=1.5)
     assert most.total_cost == again.total_cost == np.inf
+    # A finite weight times a finite cost that overflows: numpy's sum of the terms is +inf.
+    with np.errstate(over="ignore"):
+        terms = np.array([1e300 * 1e300, 1.0 * 1.0])
+    now = discrete.evaluate_sites(np.array([[1e300], [1.0]]), [0], [1e300, 1.0])
+    assert now.total_cost == np.sum(terms) == np.inf and now.mean_cost == np.inf
 
 
 # ------------------------------------------------------------------ coordinates

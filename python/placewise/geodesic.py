@@ -160,7 +160,8 @@ def weber_point(
     groups : array_like of int, shape (n,), optional
         Group labels: solve every group at once and return ``WeberPoints``.
     tol : float
-        Stop when the certified gap is at most ``tol * cost``.
+        Stop when the certified gap is at most ``tol * cost`` plus the allowance for
+        GeographicLib's accuracy (see ``converged`` below).
     max_iter : int
         Largest number of exact geodesic passes over the points (``iterations`` counts
         them; the start is found on Gauss's conformal sphere, and from 262,144 points on
@@ -190,9 +191,10 @@ def weber_point(
     WeberPoint or WeberPoints
         ``location`` is ``[longitude, latitude]``; ``cost`` and ``gap`` are weight × metres
         (columns ``cost_m``, ``gap_m``). ``converged`` is true when ``gap`` is within
-        ``tol * cost`` of the fixed allowance for GeographicLib's accuracy (about 3e-8 m per
-        point's distance, which outweighs ``tol * cost`` for points within a few hundred
-        metres). ``gap`` is infinite (and ``converged`` false) for points beyond the convex
+        ``tol * cost`` of the allowance ``gap`` carries for GeographicLib's accuracy and
+        rounding: 3e-8 m times the total weight, plus up to 5e-15 of the cost (4e-13 at
+        tolerances of 1e-11 or more), which outweighs ``tol * cost`` for points within a few
+        hundred metres. ``gap`` is infinite (and ``converged`` false) for points beyond the convex
         cap (see the module notes).
 
     Raises
@@ -270,9 +272,9 @@ class GeodesicCenter(_CenterTable, Result):
         Input rows of the points that fix the answer.
     iterations : int
     converged : bool
-        True when ``gap <= tol * weighted_radius`` plus the allowance for GeographicLib's
-        accuracy (about 3e-8 m times the largest weight, which outweighs the first term for
-        a radius of a few metres).
+        True when ``gap <= tol * weighted_radius`` plus the allowance ``gap`` carries for
+        GeographicLib's accuracy and rounding (3e-8 m times the largest weight plus about
+        2e-15 of the radius, which outweighs the first term for a radius of a few metres).
 
     ``to_frame()`` gives ``x`` (longitude), ``y`` (latitude), ``weighted_radius_m``,
     ``gap_m``, ``relative_gap``, ``iterations``, ``converged``.
@@ -333,7 +335,8 @@ def minimax_point(
     groups : array_like of int, shape (n,), optional
         Group labels: solve every group at once and return ``GeodesicCenters``.
     tol : float
-        Stop when the certified gap is at most ``tol * weighted_radius``.
+        Stop when the certified gap is at most ``tol * weighted_radius`` plus the allowance
+        for GeographicLib's accuracy (see ``converged`` below).
     max_iter : int
         Largest number of iterations (recentred planar solves, each after one exact
         geodesic pass over the points).

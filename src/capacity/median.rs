@@ -11,8 +11,8 @@
 //! - Candidate sites (each with its own capacity): the start snaps the uncapacitated plan to
 //!   the nearest distinct candidates (one site per demand location at most; when `p` is
 //!   larger, the largest free candidates make up the rest), swapping in larger candidates
-//!   while their total capacity is short; a site moves to the free candidate that serves its allocated amounts
-//!   most cheaply and has room for them. The transportation plan with *every* candidate
+//!   while their total capacity is short; a site moves to the free candidate that serves
+//!   its allocated amounts most cheaply and has room for them. The transportation plan with *every* candidate
 //!   open is a relaxation (it drops the limit of `p` sites), so its cost is a proven lower
 //!   bound and the gap is reported.
 //!
@@ -212,9 +212,10 @@ fn continuous(mut run: Run<'_, '_>, capacities: &[f64], mut sites: Vec<Point>) -
                 Ok(weber_point(&pts, Weights::Given(&amounts), &WeberOptions::default())?.location)
             })
             .collect::<Result<_>>()?;
-        // A plan cut short by the limits is an error here: the best plan so far stands.
+        // A plan cut short by the limits is an error here, and so is any other refusal: the
+        // best plan so far stands, never flagged converged.
         let Ok(next) = allocate_moved(points, &moved, capacities, weights, run.clock, (demand, capacity)) else {
-            converged = !run.clock.stop();
+            converged = false;
             break;
         };
         if next.0.total_cost < best.0.total_cost * (1.0 - 1e-12) {

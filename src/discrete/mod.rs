@@ -251,7 +251,7 @@ impl SiteService {
         let (mut total, mut total_weight, mut covered_weight) =
             (CompensatedSum::default(), CompensatedSum::default(), CompensatedSum::default());
         let (mut worst_cost, mut weighted_worst) = (0.0f64, 0.0f64);
-        let mut unserved_demand = false;
+        let mut infinite_total = false;
         let served: Vec<(usize, f64, usize)> = {
             use rayon::prelude::*;
             let mut position = vec![UNSERVED; costs.columns()];
@@ -267,13 +267,15 @@ impl SiteService {
                 count[at] += 1;
             }
             // A point of weight 0 adds nothing, even when no open site may serve it; one of
-            // positive weight that none may serve makes the total +∞, as the IEEE sum of the
-            // terms is (added to the compensated sum, ∞ − ∞ in its compensation gives NaN).
+            // positive weight that none may serve, or whose weighted cost overflows, makes
+            // the total +∞, as the IEEE sum of the terms is (added to the compensated sum,
+            // ∞ − ∞ in its compensation gives NaN).
             if w > 0.0 {
-                if best.is_finite() {
-                    total.add(w * best);
+                let term = w * best;
+                if term.is_finite() {
+                    total.add(term);
                 } else {
-                    unserved_demand = true;
+                    infinite_total = true;
                 }
             }
             total_weight.add(w);
@@ -293,7 +295,7 @@ impl SiteService {
             Coverage { radius, covered, covering, covered_weight, covered_share: covered_weight / total_weight }
         });
         let fixed_flags = open.iter().map(|j| fixed.contains(j)).collect();
-        let total = if unserved_demand { f64::INFINITY } else { total.total() };
+        let total = if infinite_total { f64::INFINITY } else { total.total() };
         SiteService {
             open,
             fixed: fixed_flags,

@@ -42,7 +42,8 @@ use crate::geometry::{Point, Weights};
 /// Options of the geodesic minimax point and enclosing circle.
 #[derive(Debug, Clone, PartialEq)]
 pub struct CenterOptions {
-    /// Stop when the certified gap is at most `tol · radius`.
+    /// Stop when the certified gap is at most `tol · radius` plus its allowance for the
+    /// distances' accuracy (see `converged`).
     pub tol: f64,
     /// Largest number of recentred planar solves.
     pub max_iter: usize,

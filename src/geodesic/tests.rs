@@ -294,8 +294,12 @@ fn a_cluster_of_a_few_metres_converges_at_the_distances_accuracy() {
     };
     let pts = near(60.0, &mut rng);
     let r = geodesic_weber_point(&pts, Weights::Unit, &WeberOptions::default()).unwrap();
+    // Seven passes before this rule; a Newton step and a certifying pass are typical.
     assert!(r.converged && r.iterations <= 4, "{r:?}");
-    assert!(r.gap <= 1e-10 * r.cost + 40.0 * 4e-8, "{r:?}");
+    // The allowance: W · DISTANCE_ACCURACY_M (GeographicLib's accuracy, Karney 2013, §1)
+    // plus rounding and the quick inverse problem's relative terms (below 1e-12 of the cost).
+    let allowance = 40.0 * super::weber::DISTANCE_ACCURACY_M + 1e-12 * r.cost;
+    assert!(r.gap <= 1e-10 * r.cost + allowance, "{r:?}");
     for k in 0..8 {
         let a = k as f64 * std::f64::consts::FRAC_PI_4;
         let q = earth.exp(r.location, [0.01 * a.sin(), 0.01 * a.cos()]);

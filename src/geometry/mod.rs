@@ -148,7 +148,8 @@ impl WorkingFrame {
             .iter()
             .map(|p| (p[0] - self.origin[0]).abs().max((p[1] - self.origin[1]).abs()))
             .fold(0.0f64, f64::max);
-        WorkingFrame { factor: self.factor.min(power_of_two_factor(2.0 * reach)), ..self }
+        // Half the factor of `reach` is that of `2 · reach`, which overflows past 9e307.
+        WorkingFrame { factor: self.factor.min(0.5 * power_of_two_factor(reach)), ..self }
     }
 
     /// A world point in local coordinates.

@@ -268,12 +268,12 @@ def _measured_rows(xy: np.ndarray) -> np.ndarray:
     return np.unique(np.concatenate([at, np.linspace(0, n - 1, min(n, 20_000)).astype(np.int64)]))
 
 
-def _warn_distorting_crs(xy: np.ndarray, name: str, work: Any, max_scale_error: float) -> None:
-    """Projected input is solved in its own CRS, as it is; when that CRS distorts distances
-    over the data beyond ``max_scale_error`` (Web Mercator away from the equator, an
-    equal-area projection over a continent, a zone used far outside its area), every
-    distance and cost comes out scaled by up to that much, so say so with the measured figure
-    instead of letting ``cost_m`` pass for true metres."""
+def _warn_distorting_crs(xy: np.ndarray, name: str, work: Any, max_scale_error: float, chosen: bool) -> None:
+    """Projected input is solved in its own CRS (or the ``work_crs`` the caller ``chosen``),
+    as it is; when that CRS distorts distances over the data beyond ``max_scale_error`` (Web
+    Mercator away from the equator, an equal-area projection over a continent, a zone used
+    far outside its area), every distance and cost comes out scaled by up to that much, so
+    say so with the measured figure instead of letting ``cost_m`` pass for true metres."""
     import warnings
 
     from pyproj import Transformer
@@ -292,14 +292,29 @@ def _warn_distorting_crs(xy: np.ndarray, name: str, work: Any, max_scale_error: 
         return
     error = float(np.nanmax(errors))
     if error > max_scale_error:
+        advice = ("choose a work_crs suited to the area" if chosen else
+                  "pass work_crs= with a projection suited to the area (a UTM zone, a national grid)")
         warnings.warn(
-            f"{name}: its CRS {CRS(work).name!r} distorts distances by up to {100 * error:.3g} % over "
+            f"{name}: the working CRS {CRS(work).name!r} distorts distances by up to {100 * error:.3g} % over "
             f"these points (more than the {100 * max_scale_error:.3g} % of max_scale_error); distances, "
-            f"costs and radii are in its units ({unit_of(work)}) and differ from true lengths by that much. Pass "
-            "work_crs= with a projection suited to the area (a UTM zone, a national grid) for true lengths, "
-            "or raise max_scale_error= to accept them",
-            UserWarning, stacklevel=4,
+            f"costs and radii are in its units ({unit_of(work)}) and differ from true lengths by that much. "
+            f"For true lengths {advice}, or raise max_scale_error= to accept them",
+            UserWarning, stacklevel=_caller_level(),
         )
+
+
+def _caller_level() -> int:
+    """The ``stacklevel`` that makes a warning point at the first caller outside placewise
+    (the gis functions reach :func:`prepare` by paths of different depths)."""
+    import os
+    import sys
+
+    package = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
+    frame: Any = sys._getframe(1)
+    level = 1
+    while frame is not None and os.path.abspath(frame.f_code.co_filename).startswith(package + os.sep):
+        frame, level = frame.f_back, level + 1
+    return level
 
 
 def _centres(lonlat: np.ndarray, codes: np.ndarray, count: int) -> np.ndarray:
@@ -477,7 +492,7 @@ def prepare(
     if lonlat is None:
         if frame.crs is not None:
             _warn_degrees_in_projected(frame, xy, name, frame.crs)
-            _warn_distorting_crs(xy, name, work, max_scale_error)
+            _warn_distorting_crs(xy, name, work, max_scale_error, chosen=work_crs is not None)
         return Prepared(frame, xy, frame.crs, work, groups=groups)
     error = scale_error_over(work, lonlat, xy)
     if error > max_scale_error and work_crs is None and not companion:

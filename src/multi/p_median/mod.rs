@@ -756,5 +756,20 @@ mod far_region_tests {
             "{} vs {corner_cost}",
             plan.service.cost
         );
+        // A region whose far corner lies beyond 9e307: twice its reach overflows, which left
+        // the frame unscaled. Closed form as above, with the box's near corner.
+        let points: Vec<Point> = (0..20).map(|i| [(i % 5) as f64 * 1e-3, (i / 5) as f64 * 1e-3]).collect();
+        let far = [[6e307, 6e307], [1e308, 6e307], [1e308, 1e308], [6e307, 1e308]];
+        let boxed = Arc::new(FeasibleRegion::new(&far, &[0, far.len()]).unwrap());
+        let options = MedianOptions { region: Some(boxed.clone()), ..MedianOptions::default() };
+        let w = vec![1e-10; points.len()];
+        let plan = p_median(&points, Weights::Given(&w), 2, &[], &options).unwrap();
+        let corner_cost: f64 = points.iter().map(|&a| 1e-10 * distance(a, [6e307, 6e307])).sum();
+        assert!(plan.sites.iter().all(|&s| boxed.contains(s)), "{:?}", plan.sites);
+        assert!(
+            (plan.service.cost - corner_cost).abs() <= 1e-12 * corner_cost,
+            "{} vs {corner_cost}",
+            plan.service.cost
+        );
     }
 }
