@@ -156,29 +156,25 @@ struct Run<'a, 'b> {
 type Allocated = (CapacityAllocation, Flows);
 
 /// The exact split allocation under the run's clock (the run counts its own steps).
-fn allocate(points: &[Point], sites: &[Point], caps: &[f64], weights: Weights<'_>, clock: &Clock) -> Result<Allocated> {
-    allocate_on_clock(points, sites, caps, weights, &AllocationOptions::default(), &clock.quiet(), None)
-}
-
-/// [`allocate`] to sites the run has moved, with the totals checked at its start: moved
-/// sites may meet at one location (several sites serving one heavy point), which the
-/// input check refuses for sites of different capacities.
-fn allocate_moved(
+/// `checked` holds the totals of the input check made at the run's start, for sites the run
+/// has moved: they may meet at one location (several sites serving one heavy point), which
+/// the input check refuses for sites of different capacities.
+fn allocate(
     points: &[Point],
     sites: &[Point],
     caps: &[f64],
     weights: Weights<'_>,
     clock: &Clock,
-    totals: (f64, f64),
+    checked: Option<(f64, f64)>,
 ) -> Result<Allocated> {
-    allocate_on_clock(points, sites, caps, weights, &AllocationOptions::default(), &clock.quiet(), Some(totals))
+    allocate_on_clock(points, sites, caps, weights, &AllocationOptions::default(), &clock.quiet(), checked)
 }
 
 /// The first plan: without it there is no answer, so a stop before it ends is the error of
 /// [`super::stopped`].
 fn first_plan(run: &mut Run<'_, '_>, sites: &[Point], caps: &[f64]) -> Result<Allocated> {
     // The transportation plan fails with [`stopped`] when the limits cut it short.
-    let plan = allocate(run.points, sites, caps, run.weights, run.clock)?;
+    let plan = allocate(run.points, sites, caps, run.weights, run.clock, None)?;
     run.steps.step();
     Ok(plan)
 }
@@ -214,7 +210,7 @@ fn continuous(mut run: Run<'_, '_>, capacities: &[f64], mut sites: Vec<Point>) -
             .collect::<Result<_>>()?;
         // A plan cut short by the limits is an error here, and so is any other refusal: the
         // best plan so far stands, never flagged converged.
-        let Ok(next) = allocate_moved(points, &moved, capacities, weights, run.clock, (demand, capacity)) else {
+        let Ok(next) = allocate(points, &moved, capacities, weights, run.clock, Some((demand, capacity))) else {
             converged = false;
             break;
         };
@@ -358,7 +354,7 @@ fn discrete(
             break;
         }
         let (sites, caps) = picked(&next);
-        let Ok(plan) = allocate(points, &sites, &caps, weights, run.clock) else {
+        let Ok(plan) = allocate(points, &sites, &caps, weights, run.clock, None) else {
             // Cut short by the limits (the sites' capacities hold the demand: no other
             // error is possible once the first plan exists); the best plan so far stands.
             break;

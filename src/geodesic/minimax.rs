@@ -84,6 +84,8 @@ struct Frame {
     rows: Vec<usize>,
     /// Their weights.
     weights: Vec<f64>,
+    /// The largest of them.
+    w_max: f64,
 }
 
 impl Frame {
@@ -188,18 +190,16 @@ fn lower_bound(
             resultant[0] += l * gi[0];
             resultant[1] += l * gi[1];
         }
-        let w_max = frame.weights.iter().cloned().fold(0.0, f64::max);
-        let reach = 2.0 * radius / w_max;
+        let reach = 2.0 * radius / frame.w_max;
         lower = lower.max(value - resultant[0].hypot(resultant[1]) * reach);
     }
-    (lower - allowance(frame, radius)).max(0.0)
+    (lower - allowance(frame.w_max, radius)).max(0.0)
 }
 
 /// The part of the gap that the inverse problem's accuracy and rounding leave whatever the
 /// centre: about `w_max · 3e-8` m, which outweighs `tol · radius` for a radius of a few
 /// metres at the default tolerance.
-fn allowance(frame: &Frame, radius: f64) -> f64 {
-    let w_max = frame.weights.iter().cloned().fold(0.0, f64::max);
+fn allowance(w_max: f64, radius: f64) -> f64 {
     w_max * DISTANCE_ACCURACY_M + 8.0 * f64::EPSILON * radius
 }
 
@@ -230,7 +230,9 @@ fn descend(
     let convex = spread.radius_degrees <= CONVEX_CAP_DEGREES;
     let earth = Earth::wgs84();
     let rows: Vec<usize> = (0..points.len()).filter(|&i| weights.get(i) > 0.0).collect();
-    let frame = Frame { weights: rows.iter().map(|&i| weights.get(i)).collect(), rows };
+    let frame_weights: Vec<f64> = rows.iter().map(|&i| weights.get(i)).collect();
+    let w_max = frame_weights.iter().cloned().fold(0.0, f64::max);
+    let frame = Frame { weights: frame_weights, rows, w_max };
     let mut c = spread.centre;
     // The first pass gives the start its radius: only a cancel stops it (the caller then
     // drops the answer), so a run out of time still has a measured centre to return.
@@ -249,7 +251,6 @@ fn descend(
     let mut support: Vec<usize> = Vec::new();
     // Lower bounds hold for the optimum whatever the centre they were computed at: keep the best.
     let mut lower = 0.0f64;
-    let w_max = frame.weights.iter().cloned().fold(0.0, f64::max);
     'descent: while iterations < options.max_iter && !clock.stop() {
         if iterations > 0 {
             steps.plan(1);
@@ -268,7 +269,7 @@ fn descend(
         // support points fix the radius to first order only along their geodesic).
         let settled = step[0].hypot(step[1]) * w_max <= options.tol * radius;
         // The gap within `tol · radius` of what the distances' accuracy allows.
-        let certified = radius - lower <= options.tol * radius + allowance(&frame, radius);
+        let certified = radius - lower <= options.tol * radius + allowance(w_max, radius);
         if (certified && settled) || radius == 0.0 {
             break;
         }
@@ -305,7 +306,7 @@ fn descend(
         gap,
         support: rows_support,
         iterations,
-        converged: gap <= options.tol * radius + allowance(&frame, radius) || radius == 0.0,
+        converged: gap <= options.tol * radius + allowance(w_max, radius) || radius == 0.0,
     })
 }
 
