@@ -96,7 +96,23 @@ def test_cover_all_planar_anywhere(tmp_path, capsys):
     assert len(sites) == 3 and set(sites["source"]) == {"anywhere"}
     d = cdist([[0, 0], [2, 0], [9, 0], [20, 0]], sites[["x", "y"]].to_numpy())
     assert (d.min(axis=1) <= 1.5 * (1 + 1e-9)).all()
-    assert "within 1.5 coordinate units" in err and "at least 3 needed" in err
+    assert "within 1.5 coordinate units" in err and "at least 3 new needed" in err
+
+
+def test_cover_all_with_existing_sites_read_back(tmp_path, capsys):
+    path, old, out = tmp_path / "pts.csv", tmp_path / "old.csv", tmp_path / "sites.csv"
+    pd.DataFrame({"x": [0, 2, 9, 20, 21], "y": [0, 0, 0, 0, 0]}).to_csv(path, index=False)
+    pd.DataFrame({"x": [20.5], "y": [0.0]}).to_csv(old, index=False)
+    code, _, err = run(["cover-all", path, "--planar", "--radius", 1.5, "--fixed", old, "-o", out], capsys)
+    assert code == 0, err
+    sites = pd.read_csv(out)
+    # Closed form: the old site at 20.5 serves 20 and 21; (0, 0) and (2, 0) share one new
+    # site and 9 needs another: 2 new beside the existing one.
+    assert sorted(sites["source"]) == ["anywhere", "anywhere", "fixed"]
+    assert sites.loc[sites["fixed"], ["x", "y"]].to_numpy().tolist() == [[20.5, 0.0]]
+    d = cdist([[0, 0], [2, 0], [9, 0], [20, 0], [21, 0]], sites[["x", "y"]].to_numpy())  # scipy cdist
+    assert (d.min(axis=1) <= 1.5 * (1 + 1e-9)).all()
+    assert "2 new site(s) and 1 existing, at least 2 new needed" in err
 
 
 def test_evaluate_sites_lonlat_against_geodesics(tmp_path, capsys):

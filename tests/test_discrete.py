@@ -529,11 +529,90 @@ def test_cover_most_anywhere_with_more_sites_than_coverage_sets():
         assert most.covered_weight == w.sum() and most.covered.all()
         assert len(most.open) == 2  # every candidate of the dominating set; a third site adds nothing
         assert (scipy.spatial.distance.cdist(villages, most.sites) <= 1.5).any(axis=1).all()  # scipy cdist
-    # Existing sites among the dominating candidates: p is counted beside them.
-    assert pw.cover_most(villages, 5, 1.5, w, fixed=[0]).covered_weight == w.sum()
+    # An existing site anywhere: p is counted beside it.
+    assert pw.cover_most(villages, 5, 1.5, w, fixed=[[0, 0]]).covered_weight == w.sum()
     # Given candidates keep the refusal: p more than the parcels offered.
     with pytest.raises(pw.InputError, match="p: must be at most"):
         pw.cover_most(villages, 3, 1.5, w, candidates=villages[:2])
+
+
+def dominating_set(points: np.ndarray, radius: float) -> np.ndarray:
+    """The finite dominating set of Church (1984), built here with numpy alone: the points and
+    both intersection points of every pair of circles of ``radius`` around them that meet,
+    pulled a relative 1e-9 toward the pair's midpoint so that rounding never leaves one of
+    the pair outside."""
+    out = [points]
+    for i, j in itertools.combinations(range(len(points)), 2):
+        a, b = points[i], points[j]
+        half = np.linalg.norm(b - a) / 2
+        if half == 0 or half > radius:
+            continue
+        mid, along = (a + b) / 2, (b - a) / (2 * half)
+        across = np.array([-along[1], along[0]]) * np.sqrt(max(radius**2 - half**2, 0.0)) * (1 - 1e-9)
+        out.append(np.array([mid + across, mid - across]))
+    return np.vstack(out)
+
+
+@pytest.mark.parametrize("seed", [3, 4, 5])
+def test_coverage_anywhere_beside_existing_sites_against_milp(seed):
+    # Sites anywhere beside two existing clinics (coordinates): the fewest new sites and the
+    # most weight p new sites cover, against scipy.optimize.milp (HiGHS) on a dominating set
+    # built independently (above), the points the clinics reach already covered.
+    rng = np.random.default_rng(seed)
+    points = rng.uniform(0, 30, (60, 2))
+    w = rng.integers(1, 10, 60).astype(float)
+    clinics = rng.uniform(0, 30, (2, 2))
+    radius = 5.0
+    reach = radius * (1 + 1e-12)
+    served = (scipy.spatial.distance.cdist(points, clinics) <= radius).any(axis=1)
+    assert 0 < served.sum() < len(points)  # the clinics cover some points, not all
+    rest = points[~served]
+    costs = scipy.spatial.distance.cdist(rest, dominating_set(points, radius))
+
+    cover = pw.cover_all(points, radius, fixed=clinics)
+    assert cover.chosen == milp_cover_all(costs, reach)  # scipy.optimize.milp (HiGHS)
+    assert cover.lower_bound <= cover.chosen
+    assert np.array_equal(cover.sites[cover.fixed], clinics)  # the clinics, where they stand
+    assert (scipy.spatial.distance.cdist(points, cover.sites) <= reach).any(axis=1).all()  # every point, by cdist
+    assert len(cover.open) == cover.chosen + 2
+
+    for p in (1, 3):
+        most = pw.cover_most(points, p, radius, w, fixed=clinics)
+        best = w[served].sum() + milp_cover_most(costs, w[~served], p, reach)  # scipy.optimize.milp (HiGHS)
+        assert most.upper_bound >= best * (1 - 1e-9)
+        assert best * 0.98 <= most.covered_weight <= best * (1 + 1e-9)
+        within = (scipy.spatial.distance.cdist(points, most.sites) <= reach).any(axis=1)
+        assert most.covered_weight == pytest.approx(w[within].sum())  # numpy directly
+        assert len(most.open) == p + 2 and np.array_equal(most.sites[most.fixed], clinics)
+
+
+def test_coverage_with_given_candidates_and_existing_sites_against_milp():
+    # Candidates given: fixed indexes them. milp (HiGHS) with the existing columns forced open.
+    pts, cands = np.random.default_rng(6).uniform(0, 100, (80, 2)), np.random.default_rng(7).uniform(0, 100, (25, 2))
+    costs = scipy.spatial.distance.cdist(pts, cands)
+    fixed = [2, 11]
+    radius = 30.0
+    rest = ~(costs[:, fixed] <= radius).any(axis=1)
+    others = np.setdiff1d(np.arange(25), fixed)
+    cover = pw.cover_all(pts, radius, candidates=cands, fixed=fixed)
+    need = costs[np.ix_(rest, others)]
+    assert (need <= radius).any(axis=1).all() and rest.sum() < len(pts)  # a new site is needed, and can serve
+    assert cover.chosen == milp_cover_all(need, radius)  # scipy.optimize.milp (HiGHS)
+    assert set(fixed) <= set(cover.open.tolist())
+
+
+def test_coverage_refuses_bad_existing_sites_anywhere():
+    points = [[0.0, 0.0], [3.0, 0.0]]
+    with pytest.raises(pw.InputError, match=r"fixed\[1\] has a NaN") as caught:
+        pw.cover_all(points, 1.0, fixed=[[0, 0], [np.nan, 1]])
+    assert caught.value.argument == "fixed" and caught.value.row == 1
+    with pytest.raises(pw.InputError, match="shape \\(f, 2\\)") as caught:
+        pw.cover_most(points, 1, 1.0, fixed=[0])   # an index, where coordinates are needed
+    assert caught.value.argument == "fixed"
+    with pytest.raises(pw.InputError, match="as numbers"):
+        pw.cover_all(points, 1.0, fixed=[["a", "b"]])
+    # No existing sites: the same plan as without the argument.
+    assert np.array_equal(pw.cover_all(points, 1.0, fixed=np.empty((0, 2))).sites, pw.cover_all(points, 1.0).sites)
 
 
 def test_coverage_plot_draws_disks():

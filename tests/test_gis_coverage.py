@@ -152,6 +152,61 @@ def test_cover_most_with_existing_sites():
     assert (plan.sites["source"] == "candidates").sum() == p
 
 
+@pytest.mark.parametrize("seed", [1, 2])
+def test_cover_all_with_existing_sites_matches_the_set_covering_program(seed):
+    demand, candidates, xy, cxy = planar_case(seed)
+    radius = 30.0
+    existing = gpd.GeoDataFrame({"name": ["old A", "old B"]}, geometry=gpd.points_from_xy([25, 75], [25, 75]),
+                                index=["A", "B"])
+    plan = gis.cover_all(demand, radius, "people", candidates, fixed=existing, planar=True)
+    # scipy.optimize.milp: the fewest parcels covering the rows the two old sites leave.
+    left = (cdist(xy, [[25, 25], [75, 75]]) > radius).all(axis=1)
+    assert 0 < left.sum() < len(xy)
+    need = milp_set_cover(cdist(xy[left], cxy) <= radius)
+    s = plan.summary
+    assert int(s["chosen"].iloc[0]) == need and int(s["lower_bound"].iloc[0]) <= need
+    old = plan.sites[plan.sites["fixed"]]
+    assert old["source"].tolist() == ["fixed", "fixed"] and old["source_row"].tolist() == ["A", "B"]
+    assert (plan.sites["source"] == "candidates").sum() == need
+    # Every row within the radius of a site (scipy cdist), as the covering column counts.
+    sites = np.column_stack([plan.sites["x"], plan.sites["y"]])
+    d = cdist(xy, sites)
+    assert (d.min(axis=1) <= radius).all() and plan.demand["covered"].all()
+    assert plan.demand["covering"].tolist() == (d <= radius).sum(axis=1).tolist()
+    # Anywhere beside the same old sites: never more new sites than from the parcels.
+    free = gis.cover_all(demand, radius, "people", fixed=existing, planar=True)
+    assert set(free.sites["source"]) == {"anywhere", "fixed"} and free.sites["fixed"].sum() == 2
+    d = cdist(xy, np.column_stack([free.sites["x"], free.sites["y"]]))
+    assert (d.min(axis=1) <= radius * (1 + 1e-9)).all()  # scipy cdist
+    assert int(free.summary["chosen"].iloc[0]) <= need
+
+
+def test_cover_all_lonlat_with_an_existing_site_checked_with_geodesics():
+    # Homes in two towns 30 km apart near Oslo; a clinic stands in the first. Radius 3 km:
+    # pyproj.Geod says which homes the clinic reaches, and every home ends within 3 km
+    # (up to the frame's stated scale error) of a site.
+    rng = np.random.default_rng(31)
+    lon = np.concatenate([10.70 + 0.03 * rng.random(30), 11.20 + 0.03 * rng.random(30)])
+    lat = 59.90 + 0.02 * rng.random(60)
+    demand = gpd.GeoDataFrame(geometry=gpd.points_from_xy(lon, lat), crs="EPSG:4326")
+    clinic = gpd.GeoSeries(gpd.points_from_xy([10.715], [59.91]), crs="EPSG:4326", index=["clinic"])
+    radius = 3000.0
+    plan = gis.cover_all(demand, radius, fixed=clinic)
+    error = float(plan.summary["scale_error"].iloc[0])
+    sites = plan.sites.to_crs("EPSG:4326")
+    slon, slat = shapely.get_x(sites.geometry.values), shapely.get_y(sites.geometry.values)
+    assert plan.sites["source_row"].tolist()[-1] == "clinic" and plan.sites["fixed"].tolist()[-1]
+    np.testing.assert_allclose([slon[-1], slat[-1]], [10.715, 59.91], atol=1e-9)  # the clinic did not move
+    _, _, d = GEOD.inv(np.repeat(lon, len(slon)), np.repeat(lat, len(slon)), np.tile(slon, 60), np.tile(slat, 60))
+    near = d.reshape(60, len(slon)).min(axis=1)
+    assert (near <= radius * (1 + 2 * error)).all()  # pyproj.Geod
+    # The first town lies within the clinic's reach (Geod), so the new sites serve the second.
+    _, _, to_clinic = GEOD.inv(lon, lat, np.full(60, 10.715), np.full(60, 59.91))
+    assert (to_clinic[:30] < radius * (1 - 2 * error)).all()
+    new = ~plan.sites["fixed"].to_numpy()
+    assert (slon[new] > 11.0).all() and int(plan.summary["chosen"].iloc[0]) == new.sum() >= 1
+
+
 def test_cover_most_anywhere_with_more_sites_than_needed():
     # Two houses 1 apart and an old clinic far off; 4 new sites anywhere within 1.5: one covers
     # both houses (closed form), and the rest could cover nothing more, so none is placed.

@@ -30,6 +30,7 @@ from numpy.typing import ArrayLike
 
 from . import discrete
 from ._core import InputError
+from ._errors import refuse
 
 __all__ = ["cover_all", "cover_most", "evaluate_sites"]
 
@@ -45,6 +46,35 @@ def _candidates(points: ArrayLike, radius: float, candidates: ArrayLike | None,
     from . import _core
 
     return _core.discrete_circle_candidates(points, radius, time_limit)
+
+
+def _anywhere_with_fixed(points: ArrayLike, radius: float, fixed: ArrayLike | None,
+                         time_limit: float | None) -> tuple[np.ndarray, np.ndarray | None]:
+    """The candidates for sites anywhere beside existing sites at the coordinates ``fixed``:
+    the finite dominating set of the points, then the existing sites, and the indices of
+    those (``None`` without them). The set still dominates every new site: whatever an
+    existing site covers, any location's covered points are a subset of one of the set's
+    (Church 1984), so a plan that keeps the existing sites open loses nothing by it."""
+    where = np.asarray(_candidates(points, radius, None, time_limit), dtype=np.float64).reshape(-1, 2)
+    if fixed is None:
+        return where, None
+    try:
+        existing = np.asarray(fixed, dtype=np.float64)
+    except (TypeError, ValueError):
+        refuse("fixed", "fixed must hold the (x, y) coordinates of the existing sites as numbers when sites may "
+               "go anywhere")
+    if existing.size == 0:
+        existing = existing.reshape(0, 2)
+    if existing.ndim != 2 or existing.shape[1] != 2:
+        refuse("fixed", "fixed must hold the (x, y) coordinates of the existing sites, shape (f, 2), when sites "
+               f"may go anywhere; got shape {existing.shape}")
+    bad = ~np.isfinite(existing).all(axis=1)
+    if bad.any():
+        row = int(np.argmax(bad))
+        error = InputError(f"fixed[{row}] has a NaN or infinite coordinate: {existing[row].tolist()}")
+        error.argument, error.row = "fixed", row
+        raise error
+    return np.concatenate([where, existing]), np.arange(len(where), len(where) + len(existing))
 
 
 def _new_sites_anywhere(p: int, free: int) -> int:
@@ -70,7 +100,8 @@ def _left(time_limit: float | None, since: float) -> float | None:
 
 def cover_all(
     points: ArrayLike, radius: float, *, weights: ArrayLike | None = None, candidates: ArrayLike | None = None,
-    unit: str = "u", time_limit: float | None = None, progress: bool | Callable[[int, int], object] = False,
+    fixed: ArrayLike | None = None, unit: str = "u", time_limit: float | None = None,
+    progress: bool | Callable[[int, int], object] = False,
 ) -> discrete.CoverAllSelection:
     """The fewest sites among ``candidates`` such that every point is within ``radius``.
 
@@ -91,6 +122,11 @@ def cover_all(
         midpoint so rounding never uncovers a point), kept once per distinct set of covered
         points; the result's ``candidates`` then holds that set and ``open`` indexes it.
         Refused when over 4 million such candidates arise.
+    fixed : array_like, optional
+        Existing sites, open whatever the plan; only the new sites they leave needed are
+        chosen (``chosen`` and ``lower_bound`` count new sites). With ``candidates``: their
+        indices. With sites anywhere: their coordinates, shape (f, 2), appended to the
+        result's ``candidates`` after the dominating set.
     unit : str
         Name of the coordinates' unit, used in column names.
     time_limit : float, optional
@@ -130,11 +166,19 @@ def cover_all(
     >>> anywhere = pw.cover_all([[0, 0], [2, 0], [9, 0]], 1.5)     # sites anywhere in the plane
     >>> anywhere.chosen, anywhere.lower_bound, anywhere.covering.tolist()
     (2, 2, [1, 1, 1])
+
+    A clinic already stands at (1, 0), within reach of the first two homes: one new site
+    covers the third.
+
+    >>> more = pw.cover_all([[0, 0], [2, 0], [9, 0]], 1.5, fixed=[[1, 0]])
+    >>> more.chosen, more.sites.tolist()
+    (1, [[9.0, 0.0], [1.0, 0.0]])
     """
     since = time.monotonic()
-    where = _candidates(points, radius, candidates, time_limit)
-    return discrete.cover_all_planar(points, where, radius, weights, unit=unit, time_limit=_left(time_limit, since),
-                                     progress=progress)
+    if candidates is None:
+        candidates, fixed = _anywhere_with_fixed(points, radius, fixed, time_limit)
+    return discrete.cover_all_planar(points, candidates, radius, weights, fixed=fixed, unit=unit,
+                                     time_limit=_left(time_limit, since), progress=progress)
 
 
 def cover_most(
@@ -154,8 +198,11 @@ def cover_most(
         Number of new sites.
     weights : array_like, shape (n,), optional
         Demand per point. Default: all 1.
-    fixed : array_like of int, optional
-        Indices of candidates that are open already (existing sites).
+    fixed : array_like, optional
+        Existing sites, open whatever the plan and counted in the coverage (``p`` counts only
+        new sites). With ``candidates``: their indices. With sites anywhere: their
+        coordinates, shape (f, 2), appended to the result's ``candidates`` after the
+        dominating set.
     time_limit : float, optional
         As :func:`cover_all`: when the seconds pass, the best ``p`` sites found so far are
         returned with the upper bound proven so far (``InputError`` before any plan exists).
@@ -188,9 +235,8 @@ def cover_most(
     """
     since = time.monotonic()
     if candidates is None:
-        candidates = _candidates(points, radius, None, time_limit)
-        free = int(np.shape(candidates)[0]) - (0 if fixed is None else int(np.size(fixed)))
-        p = _new_sites_anywhere(p, free)
+        candidates, fixed = _anywhere_with_fixed(points, radius, fixed, time_limit)
+        p = _new_sites_anywhere(p, len(candidates) - (0 if fixed is None else len(fixed)))
     return discrete.cover_most_planar(points, candidates, p, radius, weights, fixed=fixed, unit=unit,
                                       time_limit=_left(time_limit, since), progress=progress)
 

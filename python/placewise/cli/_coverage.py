@@ -59,14 +59,26 @@ def _coverage_text(s: Any) -> str:
             f"{int(s['uncovered_points'].iloc[0])} row(s) uncovered")
 
 
+def _existing_sites(args: argparse.Namespace) -> Any:
+    """The frame of existing sites read from ``--fixed`` (None without it)."""
+    return None if args.fixed is None else read_points(args.fixed, args, "the existing sites", (), main=False)
+
+
+def _sites_text(plan: Any) -> str:
+    """How many new sites the plan opens, and how many existing ones it keeps."""
+    existing = int(plan.sites["fixed"].sum())
+    return f"{len(plan.sites) - existing} new site(s)" + (f" and {existing} existing" if existing else "")
+
+
 def _cmd_cover_all(args: argparse.Namespace) -> None:
     from .. import gis
 
     frame = read_points(args.input, args, flags=("weight",))
-    plan = gis.cover_all(frame, args.radius, args.weight, **place_options(args), **_common(args), **_progress(args))
+    plan = gis.cover_all(frame, args.radius, args.weight, fixed=_existing_sites(args), **place_options(args),
+                         **_common(args), **_progress(args))
     _write_plan(plan, args)
     s = plan.summary
-    _note(args, f"{int(s['sites'].iloc[0])} site(s), at least {int(s['lower_bound'].iloc[0])} needed (proven); "
+    _note(args, f"{_sites_text(plan)}, at least {int(s['lower_bound'].iloc[0])} new needed (proven); "
                 + _coverage_text(s))
 
 
@@ -74,15 +86,12 @@ def _cmd_cover_most(args: argparse.Namespace) -> None:
     from .. import gis
 
     frame = read_points(args.input, args, flags=("weight",))
-    fixed = None if args.fixed is None else read_points(args.fixed, args, "the existing sites", (), main=False)
-    plan = gis.cover_most(frame, args.p, args.radius, args.weight, fixed=fixed, **place_options(args),
+    plan = gis.cover_most(frame, args.p, args.radius, args.weight, fixed=_existing_sites(args), **place_options(args),
                           **_common(args), **_progress(args))
     _write_plan(plan, args)
     s = plan.summary
-    existing = int(plan.sites["fixed"].sum())
-    _note(args, f"{len(plan.sites) - existing} new site(s)" + (f" and {existing} existing" if existing else "")
-                + f"; {_coverage_text(s)}; no plan covers more than {float(s['upper_bound'].iloc[0]):.6g} "
-                f"(proven; gap {100 * float(s['relative_gap'].iloc[0]):.2f} %)")
+    _note(args, f"{_sites_text(plan)}; {_coverage_text(s)}; no plan covers more than "
+                f"{float(s['upper_bound'].iloc[0]):.6g} (proven; gap {100 * float(s['relative_gap'].iloc[0]):.2f} %)")
 
 
 def _cmd_evaluate_sites(args: argparse.Namespace) -> None:
@@ -114,6 +123,7 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
     p.add_argument("--radius", type=_positive_float, required=True, help=radius_help)
     # The covering models have no region (gis.cover_all and gis.cover_most take none).
     add_place_options(p, region=False)
+    p.add_argument("--fixed", metavar="FILE", help="existing sites, open whatever the plan")
     _add_assignment(p)
     p = command("cover-most", _cmd_cover_most, "p sites covering the most weight within a radius (maximal covering)",
                 [weight, summary, watch])

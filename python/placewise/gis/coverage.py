@@ -108,18 +108,54 @@ def _radius(radius: Any) -> float:
     return float(radius)
 
 
-def _candidate_named(exc: InputError, labels: np.ndarray | None) -> InputError:
-    """``exc`` with the kernel's candidate column (a position in the candidates frame) named
-    by the candidate's row label, as every other row in the message is."""
+def _candidate_named(exc: InputError, cf: Prepared | None, ff: Prepared | None) -> InputError:
+    """``exc`` with the kernel's candidate column (a position among the candidates, then the
+    existing sites) named by its frame and row label, as every other row in the message is."""
     text = str(exc)
     match = re.search(r"cheapest candidate, column (\d+)", text)
-    if labels is None or match is None or int(match[1]) >= len(labels):
+    if match is None:
         return exc
-    out = type(exc)(text.replace(match[0], f"cheapest candidate, row {plain(labels[int(match[1])])!r}"))
+    column = int(match[1])
+    offered = 0 if cf is None else len(cf.rows)
+    if cf is not None and column < offered:
+        named = f"cheapest candidate, row {plain(cf.rows[column])!r}"
+    elif ff is not None and column - offered < len(ff.rows):
+        named = f"nearest existing site, fixed row {plain(ff.rows[column - offered])!r}"
+    else:
+        return exc
+    out = type(exc)(text.replace(match[0], named))
     for name in ("argument", "group", "row", "detail"):
         if hasattr(exc, name):
             setattr(out, name, getattr(exc, name))
     return out
+
+
+def _sites_offered(cf: Prepared | None, ff: Prepared | None) -> tuple[Any, Any, dict[str, Any]]:
+    """The ``candidates`` and ``fixed`` arguments of the coordinate models for a candidates
+    frame (None: sites anywhere) and a frame of existing sites, and the row labels of the
+    candidates. Given candidates, the existing sites follow them and ``fixed`` indexes them;
+    anywhere, ``fixed`` holds their coordinates (the model appends them to its dominating
+    set)."""
+    if cf is None:
+        return None, None if ff is None else ff.xy, {}
+    if ff is None:
+        return cf.xy, None, {"candidates": cf.rows}
+    offered = len(cf.xy)
+    return (np.concatenate([cf.xy, ff.xy]), np.arange(offered, offered + len(ff.xy)),
+            {"candidates": cf.rows})
+
+
+def _sources(result: Any, cf: Prepared | None, ff: Prepared | None) -> Sources:
+    """Where each of ``result.candidates`` came from, in the order of :func:`_sites_offered`."""
+    sources = Sources()
+    existing = 0 if ff is None else len(ff.xy)
+    if cf is None:
+        sources.add("anywhere", count=len(result.candidates) - existing)
+    else:
+        sources.add("candidates", cf)
+    if ff is not None:
+        sources.add("fixed", ff)
+    return sources
 
 
 def _rows(pf: Prepared) -> dict[str, Any]:
@@ -127,15 +163,16 @@ def _rows(pf: Prepared) -> dict[str, Any]:
 
 
 def cover_all(
-    frame: Any, radius: float, weight: Any = None, candidates: Any = None, *, planar: bool = False,
-    centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
+    frame: Any, radius: float, weight: Any = None, candidates: Any = None, fixed: Any = None, *,
+    planar: bool = False, centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
     time_limit: float | None = None, progress: Any = False,
 ) -> Any:
     """The fewest sites putting every demand row within ``radius`` (location set covering).
 
     Sites are chosen among the rows of ``candidates``, or anywhere (exactly, among the
-    finite dominating set of Church 1984; see :func:`placewise.cover_all`). Straight-line
-    distance in the working CRS.
+    finite dominating set of Church 1984; see :func:`placewise.cover_all`); existing sites
+    in ``fixed`` stay open, and only the new sites the rows beyond their reach need are
+    chosen. Straight-line distance in the working CRS.
 
     Parameters
     ----------
@@ -150,9 +187,12 @@ def cover_all(
     candidates : GeoDataFrame or GeoSeries of points, optional
         Where sites may go (e.g. parcels; ``centroids=True`` takes polygons' centroids), in
         any CRS. Default: anywhere.
+    fixed : GeoDataFrame or GeoSeries of points, optional
+        Existing sites, open whatever the plan, in any CRS; ``chosen`` and ``lower_bound``
+        count only new sites.
     planar, centroids, work_crs, max_scale_error
         As in :func:`placewise.gis.weber_point`; for geographic input the working frame is
-        chosen over the demand and the candidates together.
+        chosen over the demand, the candidates and the existing sites together.
     time_limit, progress
         As in :func:`placewise.cover_all`: seconds after which the cover found so far comes
         back with the bound proven so far, and a progress bar (True) or callable.
@@ -160,15 +200,15 @@ def cover_all(
     Returns
     -------
     SitePlan
-        ``sites``: one point per site, index ``site``, with ``source`` ("candidates", or
-        "anywhere" for a constructed location), ``source_row`` (the candidate's row label:
+        ``sites``: one point per site, index ``site``, with ``source`` ("candidates",
+        "fixed", or "anywhere" for a constructed location), ``source_row`` (the candidate's row label:
         which parcel), ``x``/``y`` (working CRS), ``load``, ``points``, ``fixed``.
         ``demand``: the frame with ``site``, ``distance_<unit>``, ``covered`` and
         ``covering`` (how many sites are within the radius: backup coverage).
         ``summary``: ``sites``, ``cost_<unit>`` (total weighted distance),
         ``mean_cost_<unit>``, ``worst_cost_<unit>``, ``weighted_worst_<unit>``, ``load``,
-        ``points``, ``radius_<unit>``, ``covered_load``, ``covered_share``, ``chosen``,
-        ``lower_bound`` (proven least number of sites), ``relative_gap``,
+        ``points``, ``radius_<unit>``, ``covered_load``, ``covered_share``, ``chosen``
+        (new sites), ``lower_bound`` (proven least number of new sites), ``relative_gap``,
         ``uncovered_points`` (0), and for geographic input ``work_crs`` and ``scale_error``.
 
     Raises
@@ -194,24 +234,27 @@ def cover_all(
     (['p1', 'p3'], 2)
     >>> plan.demand["covering"].tolist()
     [1, 1, 1, 1]
+
+    A clinic already stands beside the first two homes; one new parcel covers the rest:
+
+    >>> clinic = gpd.GeoSeries(gpd.points_from_xy([0.5], [0]), index=["old clinic"])
+    >>> more = gis.cover_all(homes, 1.5, candidates=parcels, fixed=clinic, planar=True)
+    >>> more.sites[["source", "source_row"]].values.tolist(), int(more.summary["chosen"].iloc[0])
+    ([['candidates', 'p3'], ['fixed', 'old clinic']], 1)
     """
     radius = _radius(radius)
     model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
-    pf, companions = prepare_together(frame, "frame", {"candidates": candidates}, planar=planar,
+    pf, companions = prepare_together(frame, "frame", {"candidates": candidates, "fixed": fixed}, planar=planar,
                                       centroids=centroids, **model)
-    cf = companions.get("candidates")
+    cf, ff = companions.get("candidates"), companions.get("fixed")
+    where, existing, rows = _sites_offered(cf, ff)
     try:
-        result = call(_pw.cover_all, pf.xy, radius, rows={**_rows(pf), "radius": pf.rows},
-                      weights=weights(pf, weight, "frame"), candidates=None if cf is None else cf.xy,
+        result = call(_pw.cover_all, pf.xy, radius, rows={**_rows(pf), **rows, "radius": pf.rows},
+                      weights=weights(pf, weight, "frame"), candidates=where, fixed=existing,
                       time_limit=time_limit, progress=progress)
     except InputError as exc:
-        raise _candidate_named(exc, None if cf is None else cf.rows) from None
-    sources = Sources()
-    if cf is None:
-        sources.add("anywhere", count=len(result.candidates))
-    else:
-        sources.add("candidates", cf)
-    return selection_plan(result, pf, sources)
+        raise _candidate_named(exc, cf, ff) from None
+    return selection_plan(result, pf, _sources(result, cf, ff))
 
 
 def cover_most(
@@ -241,8 +284,8 @@ def cover_most(
     fixed : GeoDataFrame or GeoSeries of points, optional
         Existing sites, open whatever the plan (``p`` counts only new ones).
     planar, centroids, work_crs, max_scale_error, time_limit, progress
-        As in :func:`cover_all` (the time limit counts from the start of the model, after
-        the candidates anywhere are found).
+        As in :func:`cover_all` (the time limit counts from the call's start, finding the
+        candidates anywhere included).
 
     Returns
     -------
@@ -277,26 +320,10 @@ def cover_most(
     pf, companions = prepare_together(frame, "frame", {"candidates": candidates, "fixed": fixed}, planar=planar,
                                       centroids=centroids, **model)
     cf, ff = companions.get("candidates"), companions.get("fixed")
-    sources = Sources()
-    if cf is None:
-        from ..coverage import _candidates as _anywhere
-        from ..coverage import _new_sites_anywhere
-
-        where = np.asarray(call(_anywhere, pf.xy, radius, None, rows=_rows(pf)), dtype=np.float64).reshape(-1, 2)
-        sources.add("anywhere", count=len(where))
-        p = _new_sites_anywhere(p, len(where))  # the fixed sites come after these
-    else:
-        where = cf.xy
-        sources.add("candidates", cf)
-    rows = {**_rows(pf), **({} if cf is None else {"candidates": cf.rows})}
-    options: dict[str, Any] = {}
-    if ff is not None:
-        options["fixed"] = np.arange(len(where), len(where) + len(ff.xy))
-        where = np.concatenate([where, ff.xy])
-        sources.add("fixed", ff)
-    result = call(_pw.cover_most, pf.xy, p, radius, weights(pf, weight, "frame"), rows=rows, candidates=where,
-                  time_limit=time_limit, progress=progress, **options)
-    return selection_plan(result, pf, sources)
+    where, existing, rows = _sites_offered(cf, ff)
+    result = call(_pw.cover_most, pf.xy, p, radius, weights(pf, weight, "frame"), rows={**_rows(pf), **rows},
+                  candidates=where, fixed=existing, time_limit=time_limit, progress=progress)
+    return selection_plan(result, pf, _sources(result, cf, ff))
 
 
 def evaluate_sites(
