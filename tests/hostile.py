@@ -33,6 +33,11 @@ BAD_POINTS = [
     ("three_d", np.zeros((2, 3, 2))),
     ("strings", [["a", "b"], ["c", "d"]]),
     ("ragged", [[0.0, 1.0], [2.0]]),
+    # numpy would take these as numbers (with a warning at most): the imaginary part dropped,
+    # digits parsed, dates counted in days.
+    ("complex", _cloud[:6] + 1j),
+    ("numeric_strings", [["0", "1"], ["2", "3"], ["4", "0"]]),
+    ("dates", np.array([["2026-01-01", "2026-01-02"], ["2026-01-03", "2026-01-05"]], dtype="datetime64[D]")),
 ]
 
 AWKWARD_POINTS = [
@@ -61,4 +66,5 @@ BAD_WEIGHTS = [
     ("too_short", lambda n: np.ones(n - 1)),
     ("too_long", lambda n: np.ones(n + 1)),
     ("two_d", lambda n: np.ones((n, 1))),
+    ("complex", lambda n: np.ones(n) + 0.5j),
 ]

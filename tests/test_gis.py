@@ -184,6 +184,19 @@ def test_projected_input_is_used_as_is():
     assert out["cost_m"].iloc[0] == pytest.approx(weber_cost_scipy(xy, frame["people"].to_numpy()), rel=1e-7)
 
 
+def test_degrees_in_a_projected_crs_warning_points_at_the_callers_line():
+    # Longitude/latitude values labelled UTM 32N: the warning must name this file and line,
+    # whichever path (a single-site model, a site plan) reaches the check.
+    frame = gpd.GeoDataFrame(geometry=gpd.points_from_xy([10.7, 10.8, 10.75], [59.9, 59.95, 59.92]),
+                             crs="EPSG:32632")
+    for call in (lambda: gis.weber_point(frame), lambda: gis.p_median(frame, 1), lambda: gis.enclosing_circle(frame)):
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")
+            call()
+        said = [w for w in caught if "if these are degrees" in str(w.message)]
+        assert len(said) == 1 and said[0].filename == __file__, [(w.filename, w.lineno) for w in said]
+
+
 def test_a_feet_crs_names_its_unit():
     # EPSG:2263 (New York Long Island) is in US survey feet: columns say so, values are feet.
     frame = lonlat_frame(n=40, lon=-73.9, lat=40.75, spread=0.02).to_crs("EPSG:2263")

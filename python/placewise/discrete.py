@@ -76,6 +76,9 @@ def _matrix(costs: Any) -> Any:
     import scipy.sparse
 
     n, m = costs.shape
+    if costs.dtype.kind not in "biuf":
+        # As for dense costs: complex values would lose their imaginary part with a warning only.
+        raise _input_error("costs", f"costs must hold real numbers; got a sparse matrix of dtype {costs.dtype}")
     csr = scipy.sparse.csr_array(costs, dtype=np.float64, copy=True)
     if costs.format == "coo" and csr.nnz < costs.nnz:
         raise _input_error("costs", "costs: the sparse matrix stores some pair twice; store each allowed pair once")

@@ -33,6 +33,20 @@ fn contiguous<'py>(obj: &Bound<'py, PyAny>, argument: &str, dtype: &str) -> PyRe
             format!("{argument} must be a numeric array; it could not be converted to {dtype}: {e}"),
         )
     })?;
+    // numpy would cast complex values to real with only a warning (dropping the imaginary
+    // part) and parse numeric strings or timestamps as numbers: refused, so a value that is
+    // not a real number never becomes one silently.
+    let kind: String = as_array.getattr("dtype")?.getattr("kind")?.extract()?;
+    let refused = match kind.as_str() {
+        "c" => Some("complex values (drop the imaginary part first if it is meant to go)"),
+        "U" | "S" => Some("text"),
+        "M" | "m" => Some("dates or durations (convert them to numbers in a stated unit first)"),
+        "V" => Some("structured records"),
+        _ => None,
+    };
+    if let Some(what) = refused {
+        return Err(argument_error(argument, format!("{argument} must hold real numbers; got {what}")));
+    }
     numpy.call_method("require", (as_array,), Some(&kwargs)).map_err(|e| {
         argument_error(
             argument,

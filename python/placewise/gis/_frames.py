@@ -238,7 +238,7 @@ def _warn_degrees_in_projected(frame: Any, xy: np.ndarray, name: str, crs: Any) 
                 f"{name}: every coordinate lies within ±180 / ±90 and the data span {extent:.3g} "
                 f"{unit_of(crs)} in the projected CRS {CRS(crs).name!r}; if these are degrees, set the "
                 "frame's CRS to a geographic one (e.g. EPSG:4326)",
-                UserWarning, stacklevel=4,
+                UserWarning, stacklevel=_caller_level(),
             )
 
 
@@ -620,9 +620,12 @@ def column(frame: Any, spec: Any, name: str, what: str) -> np.ndarray:
         if values.shape != (len(frame),):
             raise InputError(f"{name}: {what} must have one value per row ({len(frame)}); got shape {values.shape}")
     try:
-        out = np.asarray(pd.to_numeric(pd.Series(np.asarray(values)), errors="raise"), dtype=np.float64)
+        numbers = pd.to_numeric(pd.Series(np.asarray(values)), errors="raise")
     except (ValueError, TypeError) as exc:
         raise InputError(f"{name}: {label} is not numeric ({exc})") from exc
+    if numbers.dtype.kind == "c":  # the cast below would drop the imaginary part with a warning only
+        raise InputError(f"{name}: {label} holds complex values; it must hold real numbers")
+    out = np.asarray(numbers, dtype=np.float64)
     bad = ~np.isfinite(out)
     if bad.any():
         row = plain(frame.index[int(np.argmax(bad))])
