@@ -354,6 +354,20 @@ def test_by_with_candidates_is_refused():
         gis.p_median(demand, 1, by="zone", candidates=candidates, planar=True)
 
 
+def test_evaluate_sites_names_a_bad_site_by_its_row_label():
+    # A site at infinity in a frame labelled 'a', 'b': named by its label, as a bad demand
+    # row is (it was named by its position, sites[1]). Reference: the frame's own index.
+    homes = gpd.GeoSeries(gpd.points_from_xy([0, 3, 10], [0, 4, 0]), index=["x", "y", "z"])
+    sites = gpd.GeoSeries(gpd.points_from_xy([0, np.inf], [0, 0]), index=["a", "b"])
+    with pytest.raises(InputError, match=r"^sites\['b'\] has an infinite") as caught:
+        gis.evaluate_sites(homes, sites, planar=True)
+    assert (caught.value.argument, caught.value.row) == ("sites", "b")
+    homes = gpd.GeoSeries(gpd.points_from_xy([0, np.nan, 10], [0, 4, 0]), index=["x", "y", "z"])
+    with pytest.raises(InputError, match=r"^points\['y'\] has a NaN") as caught:
+        gis.evaluate_sites(homes, sites.iloc[:1], planar=True)
+    assert caught.value.row == "y"
+
+
 def test_uncoverable_row_names_its_label_and_its_nearest_candidate():
     demand, candidates, xy, cxy = planar_case(2)
     d = cdist(xy, cxy)  # scipy: the first row beyond 0.5 of every candidate, and its nearest one

@@ -21,7 +21,6 @@ professional judgement.
 from __future__ import annotations
 
 import math
-import re
 import time
 from collections.abc import Callable
 
@@ -275,17 +274,11 @@ def evaluate_sites(
     >>> float(now.total_cost), float(now.worst_cost), now.covered.tolist()
     (5.0, 5.0, [True, False, True])
     """
-    # Every given site is open; the kernel checks the coordinates themselves.
+    # Every given site is open; the kernel checks the coordinates themselves, naming them
+    # "sites" as the caller does.
     try:
         rows = np.arange(len(sites))  # type: ignore[arg-type]
     except TypeError:
         rows = np.arange(0)
-    try:
-        return discrete.evaluate_sites_planar(points, sites, rows, weights, radius=radius, unit=unit)
-    except InputError as error:
-        if getattr(error, "argument", None) != "candidates":
-            raise
-        # The planar form takes the sites as its candidates: name them as the caller did.
-        renamed = type(error)(re.sub(r"\bcandidates\b", "sites", str(error)))
-        renamed.argument, renamed.row, renamed.group = "sites", error.row, error.group
-        raise renamed from None
+    now = discrete.evaluate_sites(discrete._planar(points, sites, "sites"), rows, weights, radius=radius, unit=unit)
+    return discrete._placed(now, points, sites)

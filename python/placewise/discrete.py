@@ -86,10 +86,11 @@ def _matrix(costs: Any) -> Any:
     return ("csr", csr.indptr, csr.indices, csr.data, int(n), int(m))
 
 
-def _planar(points: ArrayLike, candidates: ArrayLike) -> tuple:
+def _planar(points: ArrayLike, candidates: ArrayLike, name: str = "candidates") -> tuple:
     """Straight-line costs from ``points`` to ``candidates``, computed by the kernel (held as
-    a matrix only when it is small)."""
-    return ("planar", points, candidates)
+    a matrix only when it is small); its errors call the columns ``name`` ("candidates", or
+    "sites" for existing sites evaluated as they are)."""
+    return ("planar", points, candidates, name)
 
 
 def _placed(result: Any, points: ArrayLike, candidates: ArrayLike) -> Any:

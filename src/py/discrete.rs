@@ -18,7 +18,7 @@ use crate::discrete::{
     circle_intersections, cover_all, cover_most, discrete_p_center, discrete_p_median, euclidean_costs, evaluate_sites,
     with_planar_costs, CostMatrix, Costs, DiscreteMedianOptions, SiteService, SparseCosts, MAX_DOMINATING_CANDIDATES,
 };
-use crate::geometry::Weights;
+use crate::geometry::{validate_points, Weights};
 
 /// The cost matrix as a C-contiguous, aligned `(n, m)` float64 array.
 fn costs_arg<'py>(obj: &Bound<'py, PyAny>) -> PyResult<PyReadonlyArray2<'py, f64>> {
@@ -133,11 +133,21 @@ fn with_costs<'py, T: Send>(
                 kernel(&Costs::from(source), Weights::from_option(w))
             });
         }
-        if tag == "planar" && tagged.len() == 3 {
+        if tag == "planar" && (3..=4).contains(&tagged.len()) {
+            // An optional fourth item names the columns as the caller's argument: "sites"
+            // when the caller's existing sites serve as the candidates.
+            let name = match tagged.get_item(3).ok().map(|n| n.extract::<String>()).transpose()?.as_deref() {
+                None | Some("candidates") => "candidates",
+                Some("sites") => "sites",
+                Some(other) => return Err(argument_error("costs", format!("unknown name of the columns: {other:?}"))),
+            };
             let pts = points_arg(&tagged.get_item(1)?, "points")?;
-            let cands = points_arg(&tagged.get_item(2)?, "candidates")?;
+            let cands = points_arg(&tagged.get_item(2)?, name)?;
             let (a, b) = (as_point_slice(&pts), as_point_slice(&cands));
             return run_watched(py, watch, progress, || {
+                // The kernel checks the columns as "candidates": checked first under the caller's name.
+                validate_points("points", a, 1)?;
+                validate_points(name, b, 1)?;
                 with_planar_costs(a, b, |c| kernel(c, Weights::from_option(w)))
             });
         }
