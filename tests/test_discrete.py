@@ -675,6 +675,25 @@ def test_structured_errors_carry_the_row() -> None:
     assert "points[1] has no candidate within radius 5; its cheapest candidate, column 1, costs 7" in str(caught.value)
 
 
+def test_weighted_costs_that_overflow_are_refused() -> None:
+    # 1e10 x 3e300 overflows float64 (numpy: inf): every plan's total would be infinite and
+    # alike, so the model cannot honour its objective and says so instead of a gap of 0.
+    costs = np.array([[1e300, 2e300], [3e300, 1e300], [1.0, 2.0]])
+    w = np.array([1e10, 1.0, 1.0])
+    with np.errstate(over="ignore"):
+        assert np.isinf((w[:, None] * costs).sum(axis=0)).all()
+    for call in (lambda: discrete.p_median(costs, 1, w), lambda: discrete.p_center(costs, 1, w),
+                 lambda: pw.p_median([[0.0, 0.0], [1e300, 0.0], [0.0, 1e300]], 1, [1e10, 1, 1],
+                                     candidates=[[0.0, 0.0], [1e300, 1e300]])):
+        with pytest.raises(pw.InputError, match="rescale the costs or the weights") as caught:
+            call()
+        assert caught.value.argument == "costs"
+    # The same instance in units 1e10 times larger: site 0, by numpy's own totals.
+    scaled = costs * 1e-10
+    plan = discrete.p_median(scaled, 1, w)
+    assert plan.open.tolist() == [int(np.argmin((w[:, None] * scaled).sum(axis=0)))] == [0]
+
+
 def test_shape_and_dtype_errors_name_their_argument() -> None:
     # Every InputError names its argument in ``argument``, as the kernel's own ones do
     # (``costs`` for a NaN cell above); the binding's shape and dtype checks set it too.

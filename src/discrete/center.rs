@@ -18,7 +18,7 @@
 
 use super::cover::{serving_cover, Incidence, EXACT_BUDGET};
 use super::median::{fill_open, greedy_add};
-use super::{check_choice, relative_gap, Costs, SiteService};
+use super::{check_choice, check_weighted_range, relative_gap, Costs, SiteService};
 use crate::cancel::{Clock, RunLimits, Steps};
 use crate::error::Result;
 use crate::geometry::{validate_weights, Weights};
@@ -154,6 +154,7 @@ pub fn discrete_p_center(
 ) -> Result<DiscreteCenter> {
     validate_weights("weights", weights, costs.rows())?;
     check_choice(costs, p, fixed)?;
+    check_weighted_range(costs, weights, false)?;
     let clock = limits.clock();
     // The trials at the largest value and at the floor.
     let mut steps = Steps::new(&clock.watch, 2);

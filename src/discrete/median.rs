@@ -23,7 +23,7 @@ use super::median_branch::branch_and_bound;
 use super::near::NearLists;
 use super::neighbourhood::neighbourhood_search;
 use super::swap::fast_swap;
-use super::{check_choice, relative_gap, sum_rows, Costs, SiteService};
+use super::{check_choice, check_weighted_range, relative_gap, sum_rows, Costs, SiteService};
 use crate::cancel::{RunLimits, Steps};
 use crate::error::Result;
 use crate::geometry::{validate_weights, Weights};
@@ -237,6 +237,7 @@ pub fn discrete_p_median(
 ) -> Result<DiscreteMedian> {
     validate_weights("weights", weights, costs.rows())?;
     check_choice(costs, p, fixed)?;
+    check_weighted_range(costs, weights, true)?;
     let clock = options.limits.clock();
     let mut steps = Steps::new(&clock.watch, (p + options.search_rounds + options.bound_iterations) as u64);
     let mut go = || {

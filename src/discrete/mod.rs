@@ -101,6 +101,41 @@ fn check_choice(costs: &Costs<'_>, p: usize, fixed: &[usize]) -> Result<()> {
     Ok(())
 }
 
+/// The largest weighted cost the p-median and p-center work with: far enough below
+/// `f64::MAX` that totals of weighted costs, the doubled ceilings standing for an unserved
+/// point, and the differences the swaps and gaps take of them all stay finite.
+const WEIGHTED_LIMIT: f64 = f64::MAX / 64.0;
+
+/// Check that weighted costs stay within [`WEIGHTED_LIMIT`]: the largest allowed cost times
+/// the total weight (`summed`, for a total such as the p-median's) or the largest weight (for
+/// a largest weighted cost such as the p-center's). Beyond it a plan's objective overflows
+/// to infinity, every plan then looks alike, and a gap of 0 would be claimed for any of
+/// them: refused instead. Weights must be valid already.
+///
+/// # Errors
+/// [`Error::InvalidParameter`] (`costs`) naming the product and how to rescale.
+fn check_weighted_range(costs: &Costs<'_>, weights: Weights<'_>, summed: bool) -> Result<()> {
+    let weight = (0..costs.rows()).map(|i| weights.get(i));
+    let (weight, what) = if summed {
+        (weight.sum::<f64>(), "the total weight")
+    } else {
+        (weight.fold(0.0, f64::max), "the largest weight")
+    };
+    let top = costs.ceiling();
+    // Written so that a NaN product (0 × inf) is refused too.
+    if !(top * weight <= WEIGHTED_LIMIT) {
+        return Err(Error::InvalidParameter {
+            name: "costs",
+            reason: format!(
+                "the largest cost ({top:e}) times {what} ({weight:e}) exceeds {WEIGHTED_LIMIT:e}, beyond which \
+                 weighted totals overflow float64; rescale the costs or the weights (e.g. kilometres instead of \
+                 metres, thousands of people instead of people)"
+            ),
+        });
+    }
+    Ok(())
+}
+
 /// Check an optional coverage radius: finite and positive.
 fn check_radius(radius: f64) -> Result<()> {
     if !(radius > 0.0) || !radius.is_finite() {
@@ -448,6 +483,35 @@ pub(crate) mod testing {
 mod tests {
     use super::*;
     use crate::cancel::{RunLimits, Watch};
+
+    #[test]
+    fn weighted_costs_beyond_the_float_range_are_refused_not_called_optimal() {
+        // Costs near 1e300 and a weight of 1e10: every plan's total overflows to infinity
+        // (1e310), so no plan could be told from another and a gap of 0 was claimed.
+        let values = [1e300, 2e300, 3e300, 1e300, 1.0, 2.0];
+        let costs = Costs::from(CostMatrix::new(&values, 3, 2).unwrap());
+        let w = [1e10, 1.0, 1.0];
+        let options = DiscreteMedianOptions::default();
+        for e in [
+            discrete_p_median(&costs, Weights::Given(&w), 1, &[], &options).unwrap_err(),
+            discrete_p_center(&costs, Weights::Given(&w), 1, &[], &RunLimits::default()).unwrap_err(),
+        ] {
+            assert!(matches!(e, Error::InvalidParameter { name: "costs", .. }), "{e}");
+            assert!(e.to_string().contains("rescale"), "{e}");
+        }
+        // Rescaled by 1e-10 (closed form: site 0 costs 1e300 + 3e290 + 1, site 1 costs
+        // 2e300 + 1e290 + 2), the same instance is answered, and exactly.
+        let scaled: Vec<f64> = values.iter().map(|v| v * 1e-10).collect();
+        let costs = Costs::from(CostMatrix::new(&scaled, 3, 2).unwrap());
+        let plan = discrete_p_median(&costs, Weights::Given(&w), 1, &[], &options).unwrap();
+        assert_eq!(plan.service.open, vec![0]);
+        assert!(plan.service.total_cost.is_finite());
+        // The p-center's objective is a largest product (3e290 × 1e10 at most): site 0, whose
+        // worst is 1e10 × 1e290 against site 1's 2e300 (closed form).
+        let center = discrete_p_center(&costs, Weights::Given(&w), 1, &[], &RunLimits::default()).unwrap();
+        assert_eq!(center.service.open, vec![0]);
+        assert!(center.service.weighted_worst.is_finite());
+    }
 
     #[test]
     fn evaluation_of_a_hand_checked_network() {
