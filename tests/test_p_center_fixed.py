@@ -22,6 +22,7 @@ from hypothesis import strategies as st
 from hypothesis.extra.numpy import arrays
 
 import placewise as pw
+from interrupting import Enough, check_progress_reports, stop_at_first_report
 from test_multi import enclosing_radius_brute_force
 
 
@@ -160,7 +161,7 @@ def test_property_bounds_of_the_conditional_plan(pts: np.ndarray, fixed: np.ndar
     assert plan.optimal
     alone = pw.p_center(pts, p, w).weighted_radius
     assert plan.weighted_radius <= alone * (1 + 1e-9) + 1e-12 * scale
-    assert plan.weighted_radius <= float(np.max(w * to_nearest(pts, fixed))) * (1 + 1e-12)
+    assert plan.weighted_radius <= float(np.max(w * to_nearest(pts, fixed))) * (1 + 1e-12) + 1e-12 * scale
     # Fixed sites far beyond every point serve nobody better than new ones: the plain value.
     far = pw.p_center(pts, p, w, fixed=fixed + 1e6)
     assert far.weighted_radius == pytest.approx(alone, rel=1e-9, abs=1e-12 * scale)
@@ -178,6 +179,16 @@ def test_same_input_same_plan_and_a_time_limit_keeps_a_plan() -> None:
     # Whatever the cut, the reported value is its sites' objective (scipy cdist).
     assert cut.weighted_radius == pytest.approx(float(to_nearest(pts, np.vstack([cut.sites, fixed])).max()),
                                                 rel=1e-12)
+
+
+def test_progress_counts_the_search_and_a_raising_callable_stops_it() -> None:
+    rng = np.random.default_rng(6)
+    pts = rng.uniform(0, 100, (20_000, 2))
+    fixed = [[0, 0], [50, 50]]
+    check_progress_reports(lambda progress: pw.p_center(pts, 5, fixed=fixed, effort="fast", progress=progress))
+    # The callable's exception cancels the watch the threshold search polls, and reaches the caller.
+    with pytest.raises(Enough):
+        pw.p_center(pts, 5, fixed=fixed, progress=stop_at_first_report)
 
 
 def test_points_all_on_fixed_sites() -> None:

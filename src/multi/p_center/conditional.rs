@@ -173,20 +173,21 @@ impl<'a> Search<'a> {
         let mut taken: HashSet<_> = sites.iter().map(|&s| location_key(s)).collect();
         let mut picked = vec![false; self.at.len()];
         while sites.len() < self.p {
-            // A location whose site would not repeat one; failing that (a region folding
-            // several onto one point), any location not picked yet: there are at least p.
-            let pick = |fresh: bool| {
-                (0..self.at.len())
-                    .filter(|&j| !picked[j] && (!fresh || !taken.contains(&location_key(place(self.at[j])))))
-                    .fold(None, |b: Option<usize>, j| match b {
-                        Some(b) if (worst[b], !self.on_fixed[b]) >= (worst[j], !self.on_fixed[j]) => Some(b),
-                        _ => Some(j),
-                    })
+            let next = (0..self.at.len()).filter(|&j| !picked[j]).fold(None, |b: Option<usize>, j| match b {
+                Some(b) if (worst[b], !self.on_fixed[b]) >= (worst[j], !self.on_fixed[j]) => Some(b),
+                _ => Some(j),
+            });
+            let Some(j) = next else {
+                // Every location tried and their sites repeat ones taken (a region folding
+                // several onto one point): the plan cannot gain, a repeat keeps p sites.
+                sites.push(sites[0]);
+                continue;
             };
-            let j = pick(true).or_else(|| pick(false)).expect("at least p distinct locations");
             picked[j] = true;
             let site = place(self.at[j]);
-            taken.insert(location_key(site));
+            if !taken.insert(location_key(site)) {
+                continue;
+            }
             sites.push(site);
             for (r, (&a, &w)) in worst.iter_mut().zip(self.at.iter().zip(&self.weights)) {
                 *r = r.min(w * distance(a, site));
@@ -383,6 +384,19 @@ mod tests {
         assert_eq!(plan.service.weighted_radius, objective(&pts, &[1.0; 3_000], &plan));
         let full = p_center(&pts, Weights::Unit, 4, &fixed, &plain()).unwrap();
         assert!(full.converged && full.service.weighted_radius <= plan.service.weighted_radius);
+    }
+
+    #[test]
+    fn a_cancelled_run_still_returns_p_sites_unconverged() {
+        let pts = cloud(2_000, 6);
+        let options = plain();
+        options.watch.cancel();
+        let plan = p_center(&pts, Weights::Unit, 3, &[[5.0, 3.0]], &options).unwrap();
+        assert!(!plan.converged && !plan.optimal);
+        assert_eq!(plan.sites.len(), 3);
+        // Counted progress closes at its total whatever the path.
+        let (done, total) = options.watch.progress();
+        assert!(total > 0 && done == total);
     }
 
     #[test]
