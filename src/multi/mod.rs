@@ -5,7 +5,8 @@
 //!   j-means jumps; optional fixed (existing) sites.
 //! - [`p_center`]: `p` sites minimising `maxᵢ wᵢ · minⱼ ‖sⱼ − aᵢ‖` — Drezner's alternating
 //!   cluster / minimax-point improvement with restarts, exact by branch and bound for tiny
-//!   instances.
+//!   instances; optional fixed (existing) sites, by a threshold search over their service
+//!   (the conditional p-center, Drezner 1989).
 //! - [`p_medians`], [`p_centers`]: the same for every group of a point cloud at once
 //!   ([`crate::batch::run_grouped_placed`], which also says where every input row sits, so
 //!   per-point values return in input order); a grouped run gives exactly what separate calls
