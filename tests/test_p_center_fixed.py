@@ -243,6 +243,15 @@ def test_grouped_fixed_sites_serve_only_their_group() -> None:
     with pytest.raises(pw.InputError, match="fixed_groups must be given") as caught:
         pw.p_center(pts, 1, groups=groups, fixed=[[0.0, 0.0]])
     assert caught.value.argument == "fixed_groups"
+    # A bad fixed site is named by its row in ``fixed``, before the groups split them.
+    with pytest.raises(pw.InputError) as caught:
+        pw.p_center(pts, 1, groups=groups, fixed=[[0, 0], [np.inf, 0]], fixed_groups=[1, 2])
+    assert caught.value.argument == "fixed" and caught.value.row == 1
+    with pytest.raises(pw.InputError, match=r"fixed_groups: must hold the group label of every fixed site \(1\)"):
+        pw.p_center(pts, 1, groups=groups, fixed=[[0, 0]], fixed_groups=[1, 2])
+    # An empty fixed array needs no labels and changes nothing.
+    np.testing.assert_array_equal(pw.p_center(pts, 1, groups=groups, fixed=np.empty((0, 2))).sites,
+                                  pw.p_center(pts, 1, groups=groups).sites)
 
 
 # ------------------------------------------------------------------ gis and the command line
