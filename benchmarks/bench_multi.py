@@ -1,5 +1,5 @@
 """p-median on the published p654 benchmark, on 100,000 and 1,000,000 weighted points;
-p-center on 10,000 and 1,000,000 weighted points.
+p-center on 10,000 and 1,000,000 weighted points, and beside 10 fixed sites on 100,000.
 
 placewise's search (single and grouped) against a plain scipy/numpy Cooper alternation
 (k-means++ starts from ``scipy.cluster.vq.kmeans2``, allocation by ``scipy.spatial.cKDTree``,
@@ -137,6 +137,7 @@ def cases(quick: bool) -> list[Case]:
         None, "no reference (radius only)",
         compare=lambda ours, _: f"weighted radius {ours.weighted_radius:.6g}", repeat=1,
     ))
+    out.extend(beside_fixed_cases(quick))
 
     # Many small groups at once (one call, groups planned in parallel) against the scipy
     # Cooper reference looping over the groups.
@@ -157,6 +158,35 @@ def cases(quick: bool) -> list[Case]:
         compare=grouped_note, repeat=1,
     ))
     return out
+
+
+def beside_fixed_cases(quick: bool) -> list[Case]:
+    """The conditional p-center: 10 new sites beside 10 existing ones (drawn among the
+    points), on 100,000 weighted clustered points (20,000 quick). No outside reference times
+    this problem; the note compares the radius with the existing sites' own and with 10 new
+    sites alone (the plain p-center, timed in the same run)."""
+    n = 20_000 if quick else 100_000
+    pts, w = _weighted_cloud(n, 8)
+    fixed = pts[np.random.default_rng(9).choice(n, 10, replace=False)]
+    by_fixed = float(np.max(w * scipy.spatial.cKDTree(fixed).query(pts)[0]))
+    alone: dict[str, float] = {}
+
+    def plain() -> object:
+        plan = pw.p_center(pts, 10, w)
+        alone["radius"] = plan.weighted_radius
+        return plan
+
+    def note(ours: pw.CenterPlan, _: object) -> str:
+        return (f"weighted radius {ours.weighted_radius:.6g}; existing sites alone {by_fixed:.6g}; "
+                f"10 new sites alone {alone['radius']:.6g}; {ours.iterations} rounds, "
+                f"converged {ours.converged}")
+
+    return [Case(
+        "p_center weighted fixed=", f"{n:,} weighted points, p = 10 beside 10 fixed",
+        lambda: pw.p_center(pts, 10, w, fixed=fixed),
+        plain, "plain p_center, p = 10, no fixed sites (same data)",
+        compare=note, repeat=1,
+    )]
 
 
 def million_cases(quick: bool) -> list[Case]:

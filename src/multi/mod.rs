@@ -5,7 +5,8 @@
 //!   j-means jumps; optional fixed (existing) sites.
 //! - [`p_center`]: `p` sites minimising `maxᵢ wᵢ · minⱼ ‖sⱼ − aᵢ‖` — Drezner's alternating
 //!   cluster / minimax-point improvement with restarts, exact by branch and bound for tiny
-//!   instances.
+//!   instances; optional fixed (existing) sites, by a threshold search over their service
+//!   (the conditional p-center, Drezner 1989).
 //! - [`p_medians`], [`p_centers`]: the same for every group of a point cloud at once
 //!   ([`crate::batch::run_grouped_placed`], which also says where every input row sits, so
 //!   per-point values return in input order); a grouped run gives exactly what separate calls
@@ -165,7 +166,7 @@ mod properties {
         /// The p-center radius covers every point and never exceeds the one-circle radius.
         #[test]
         fn p_center_radius_covers_and_beats_one_circle(points in cloud(), p in 1usize..4) {
-            let plan = p_center(&points, Weights::Unit, p, &CenterOptions::default()).unwrap();
+            let plan = p_center(&points, Weights::Unit, p, &[], &CenterOptions::default()).unwrap();
             for (i, &a) in points.iter().enumerate() {
                 let nearest = plan.sites.iter().map(|&s| distance(a, s)).fold(f64::INFINITY, f64::min);
                 prop_assert!(nearest <= plan.service.weighted_radius * (1.0 + 1e-9) + 1e-9);
@@ -198,17 +199,37 @@ mod properties {
         fn p_centers_equal_separate_calls((points, labels) in labelled(), p in 1usize..3) {
             let w: Vec<f64> = (0..points.len()).map(|i| 1.0 + (i % 3) as f64).collect();
             let options = CenterOptions { seed: 2, effort: Effort::Fast, ..CenterOptions::default() };
-            let (grouped, _) = p_centers(&points, Weights::Given(&w), &labels, p, &options, OnGroupError::Skip).unwrap();
+            let (grouped, _) = p_centers(&points, Weights::Given(&w), &labels, p, &[], &[], &options, OnGroupError::Skip).unwrap();
             for (g, &label) in grouped.labels.iter().enumerate() {
                 let rows = members(&labels, label);
                 let own: Vec<Point> = rows.iter().map(|&i| points[i]).collect();
                 let own_w: Vec<f64> = rows.iter().map(|&i| w[i]).collect();
-                match (p_center(&own, Weights::Given(&own_w), p, &options), &grouped.results[g]) {
+                match (p_center(&own, Weights::Given(&own_w), p, &[], &options), &grouped.results[g]) {
                     (Ok(single), Ok(plan)) => prop_assert_eq!(&single, plan),
                     (Err(single), Err(e)) => prop_assert_eq!(&single.in_group(label), e),
                     (single, plan) => prop_assert!(false, "{:?} vs {:?}", single, plan),
                 }
             }
+        }
+
+        /// The same for the p-center beside fixed sites.
+        #[test]
+        fn p_centers_with_fixed_groups_equal_separate_calls((points, labels) in labelled()) {
+            let fixed = [[0.0, 0.0], [500.0, -500.0], [-300.0, 200.0]];
+            let fixed_labels = [-5, 9, -5];
+            let options = CenterOptions { effort: Effort::Fast, seed: 1, ..CenterOptions::default() };
+            let (grouped, _) =
+                p_centers(&points, Weights::Unit, &labels, 1, &fixed, &fixed_labels, &options, OnGroupError::Raise)
+                    .unwrap();
+            for (g, &label) in grouped.labels.iter().enumerate() {
+                let own: Vec<Point> = members(&labels, label).iter().map(|&i| points[i]).collect();
+                let own_fixed: Vec<Point> = (0..3).filter(|&k| fixed_labels[k] == label).map(|k| fixed[k]).collect();
+                let single = p_center(&own, Weights::Unit, 1, &own_fixed, &options).unwrap();
+                prop_assert_eq!(&single, grouped.results[g].as_ref().unwrap());
+            }
+            let wrong = p_centers(&points, Weights::Unit, &labels, 1, &fixed, &[1], &options, OnGroupError::Raise);
+            let refused = matches!(wrong, Err(Error::InvalidParameter { name: "fixed_groups", .. }));
+            prop_assert!(refused, "{:?}", wrong);
         }
 
         /// With fixed sites per group, each group's plan equals a separate call given only

@@ -121,6 +121,30 @@ fn grouped_service_fields<'py, T: Sync>(
         .put("total_load", PyArray1::from_vec(py, grouped.column(f64::NAN, |r| service(r).total_load)))
 }
 
+/// The fixed sites `(f, 2)` and their group labels `(f,)` of a grouped plan; labels are
+/// required when there are fixed sites.
+#[allow(clippy::type_complexity)]
+fn fixed_args<'py>(
+    fixed: Option<&Bound<'py, PyAny>>,
+    fixed_groups: Option<&Bound<'py, PyAny>>,
+) -> PyResult<(Option<numpy::PyReadonlyArray2<'py, f64>>, Option<numpy::PyReadonlyArray1<'py, i64>>)> {
+    let fixed = fixed.filter(|f| !f.is_none()).map(|f| points_arg(f, "fixed")).transpose()?;
+    let fixed_groups = fixed_groups.filter(|f| !f.is_none()).map(|f| labels_arg(f, "fixed_groups")).transpose()?;
+    if fixed.as_ref().is_some_and(|f| !as_point_slice(f).is_empty()) && fixed_groups.is_none() {
+        return Err(argument_error(
+            "fixed_groups",
+            "fixed_groups must be given with fixed and groups: the group label each fixed site serves".into(),
+        ));
+    }
+    Ok((fixed, fixed_groups))
+}
+
+/// Per site of a grouped plan (every group's new sites, then its fixed ones): true for a
+/// fixed site; `counts` holds each solved group's (new, fixed) site counts.
+fn fixed_flags(counts: impl Iterator<Item = (usize, usize)>) -> Vec<bool> {
+    counts.flat_map(|(new, fixed)| std::iter::repeat_n(false, new).chain(std::iter::repeat_n(true, fixed))).collect()
+}
+
 /// Fields: sites (p, 2), fixed (f, 2), assignment (n,), distance (n,), load (p + f,),
 /// count (p + f,), cost, total_load, iterations, converged.
 #[pyfunction]
@@ -190,16 +214,9 @@ fn p_median_grouped<'py>(
     let points = points_arg(points, "points")?;
     let weights = weights_arg(weights, "weights")?;
     let labels = labels_arg(groups, "groups")?;
-    let fixed = fixed.filter(|f| !f.is_none()).map(|f| points_arg(f, "fixed")).transpose()?;
-    let fixed_groups = fixed_groups.filter(|f| !f.is_none()).map(|f| labels_arg(f, "fixed_groups")).transpose()?;
+    let (fixed, fixed_groups) = fixed_args(fixed, fixed_groups)?;
     let fixed_sites: &[Point] = fixed.as_ref().map_or(&[], as_point_slice);
     let fixed_labels: &[i64] = fixed_groups.as_ref().map(|f| f.as_slice()).transpose()?.unwrap_or(&[]);
-    if !fixed_sites.is_empty() && fixed_groups.is_none() {
-        return Err(argument_error(
-            "fixed_groups",
-            "fixed_groups must be given with fixed and groups: the group label each fixed site serves".into(),
-        ));
-    }
     let pts = as_point_slice(&points);
     let w = weights.as_ref().map(|w| w.as_slice()).transpose()?;
     let l = labels.as_slice()?;
@@ -208,9 +225,7 @@ fn p_median_grouped<'py>(
     })?;
     let solved = || g.results.iter().filter_map(|r| r.as_ref().ok());
     let sites = points_array(py, solved().flat_map(|r| r.sites.iter().chain(&r.fixed).copied()))?;
-    let is_fixed: Vec<bool> = solved()
-        .flat_map(|r| std::iter::repeat_n(false, r.sites.len()).chain(std::iter::repeat_n(true, r.fixed.len())))
-        .collect();
+    let is_fixed = fixed_flags(solved().map(|r| (r.sites.len(), r.fixed.len())));
     let fields = Fields::new(py)
         .grouped(&g)?
         .put("sites", sites)?
@@ -221,16 +236,17 @@ fn p_median_grouped<'py>(
     Ok(grouped_service_fields(py, fields, &g, &places, |r| &r.service)?.done())
 }
 
-/// Fields: sites (p, 2), assignment (n,), distance (n,), load (p,), count (p,),
-/// weighted_radius, radius, total_load, optimal, converged, iterations.
+/// Fields: sites (p, 2), fixed (f, 2), assignment (n,), distance (n,), load (p + f,),
+/// count (p + f,), weighted_radius, radius, total_load, optimal, converged, iterations.
 #[pyfunction]
-#[pyo3(signature = (points, p, weights, seed, effort, time_limit, progress, region_vertices=None, ring_offsets=None))]
+#[pyo3(signature = (points, p, weights, fixed, seed, effort, time_limit, progress, region_vertices=None, ring_offsets=None))]
 #[allow(clippy::too_many_arguments)]
 fn p_center_single<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     p: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
+    fixed: Option<&Bound<'py, PyAny>>,
     seed: &Bound<'py, PyAny>,
     effort: &str,
     time_limit: Option<&Bound<'py, PyAny>>,
@@ -242,10 +258,14 @@ fn p_center_single<'py>(
     let (options, mut progress) = center_options(effort, seed, time_limit, progress, (region_vertices, ring_offsets))?;
     let watch = options.watch.clone();
     let cloud = Cloud::read(points, weights, None)?;
+    let fixed = fixed.filter(|f| !f.is_none()).map(|f| points_arg(f, "fixed")).transpose()?;
+    let fixed_sites: &[Point] = fixed.as_ref().map_or(&[], as_point_slice);
     let (pts, w) = (cloud.points(), cloud.weights()?);
-    let plan = run_watched(py, &watch, &mut progress, || p_center(pts, Weights::from_option(w), p, &options))?;
+    let plan =
+        run_watched(py, &watch, &mut progress, || p_center(pts, Weights::from_option(w), p, fixed_sites, &options))?;
     let fields = Fields::new(py)
         .put("sites", points_array(py, plan.sites.iter().copied())?)?
+        .put("fixed", points_array(py, plan.fixed.iter().copied())?)?
         .put("weighted_radius", plan.service.weighted_radius)?
         .put("radius", plan.service.radius)?
         .put("optimal", plan.optimal)?
@@ -254,11 +274,12 @@ fn p_center_single<'py>(
     Ok(service_fields(py, fields, &plan.service)?.done())
 }
 
-/// Fields: labels (G,), problem (G,); per site sites (S, 2), load, count, site_offsets
-/// (G + 1,); per point point_group, assignment (row in the per-site arrays), distance; per
-/// group weighted_radius, radius, total_load, optimal, converged, iterations.
+/// Fields: labels (G,), problem (G,); per site (S = every group's new sites then its fixed
+/// ones) sites (S, 2), fixed (S,) bool, load, count, site_offsets (G + 1,); per point
+/// point_group, assignment (row in the per-site arrays), distance; per group
+/// weighted_radius, radius, total_load, optimal, converged, iterations.
 #[pyfunction]
-#[pyo3(signature = (points, p, weights, groups, seed, effort, errors, time_limit, progress, region_vertices=None, ring_offsets=None))]
+#[pyo3(signature = (points, p, weights, groups, fixed, fixed_groups, seed, effort, errors, time_limit, progress, region_vertices=None, ring_offsets=None))]
 #[allow(clippy::too_many_arguments)]
 fn p_center_grouped<'py>(
     py: Python<'py>,
@@ -266,6 +287,8 @@ fn p_center_grouped<'py>(
     p: &Bound<'py, PyAny>,
     weights: Option<&Bound<'py, PyAny>>,
     groups: &Bound<'py, PyAny>,
+    fixed: Option<&Bound<'py, PyAny>>,
+    fixed_groups: Option<&Bound<'py, PyAny>>,
     seed: &Bound<'py, PyAny>,
     effort: &str,
     errors: &str,
@@ -279,14 +302,19 @@ fn p_center_grouped<'py>(
     let watch = options.watch.clone();
     let on_error = on_error_arg(errors)?;
     let cloud = Cloud::read(points, weights, Some(groups))?;
+    let (fixed, fixed_groups) = fixed_args(fixed, fixed_groups)?;
+    let fixed_sites: &[Point] = fixed.as_ref().map_or(&[], as_point_slice);
+    let fixed_labels: &[i64] = fixed_groups.as_ref().map(|f| f.as_slice()).transpose()?.unwrap_or(&[]);
     let (pts, w, l) = (cloud.points(), cloud.weights()?, cloud.labels()?);
-    let (g, places) =
-        run_watched(py, &watch, &mut progress, || p_centers(pts, Weights::from_option(w), l, p, &options, on_error))?;
-    let sites =
-        points_array(py, g.results.iter().filter_map(|r| r.as_ref().ok()).flat_map(|r| r.sites.iter().copied()))?;
+    let (g, places) = run_watched(py, &watch, &mut progress, || {
+        p_centers(pts, Weights::from_option(w), l, p, fixed_sites, fixed_labels, &options, on_error)
+    })?;
+    let solved = || g.results.iter().filter_map(|r| r.as_ref().ok());
+    let sites = points_array(py, solved().flat_map(|r| r.sites.iter().chain(&r.fixed).copied()))?;
     let fields = Fields::new(py)
         .grouped(&g)?
         .put("sites", sites)?
+        .put("fixed", PyArray1::from_vec(py, fixed_flags(solved().map(|r| (r.sites.len(), r.fixed.len())))))?
         .put("weighted_radius", PyArray1::from_vec(py, g.column(f64::NAN, |r| r.service.weighted_radius)))?
         .put("radius", PyArray1::from_vec(py, g.column(f64::NAN, |r| r.service.radius)))?
         .put("optimal", PyArray1::from_vec(py, g.column(false, |r| r.optimal)))?

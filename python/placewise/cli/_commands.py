@@ -164,9 +164,9 @@ def _plan_command(kind: str, args: argparse.Namespace) -> None:
 
     frame = read_points(args.input, args)
     options: dict[str, Any] = {"seed": args.seed, "effort": args.effort, **place_options(args)}
+    if args.fixed is not None:
+        options["fixed"] = read_points(args.fixed, args, "the existing sites", (), main=False)
     if kind == "median":
-        if args.fixed is not None:
-            options["fixed"] = read_points(args.fixed, args, "the existing sites", (), main=False)
         options.update(_capacity.capacity_options(args, options))
         options.update(_progress(args))
         plan = gis.p_median(frame, args.p, args.weight, **_by(args), **_common(args), **options)
@@ -241,6 +241,6 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
         p.add_argument("--effort", choices=["fast", "normal", "thorough"], default="normal",
                        help="time against quality: fast is one short search; thorough runs more and "
                             "longer searches [normal]")
+        p.add_argument("--fixed", metavar="FILE", help="existing sites that stay where they are")
         if kind == "median":
-            p.add_argument("--fixed", metavar="FILE", help="existing sites that stay where they are")
             _capacity.add_capacity_options(p)

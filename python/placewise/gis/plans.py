@@ -329,18 +329,21 @@ def p_median(
 
 
 def p_center(
-    frame: Any, p: int, weight: Any = None, by: str | None = None, *,
+    frame: Any, p: int, weight: Any = None, by: str | None = None, *, fixed: Any = None,
     candidates: Any = None, region: Any = None,
     planar: bool = False, centroids: bool = False, work_crs: Any = None, max_scale_error: float = MAX_SCALE_ERROR,
     errors: Literal["raise", "skip"] = "raise", **options: Any,
 ) -> SitePlan:
     """The p sites minimising the largest weighted straight-line trip (continuous p-center).
 
-    Parameters and result are those of :func:`p_median` (without ``fixed``), with
-    ``weighted_radius_<unit>`` (the largest weight × distance to the nearest site) in the
-    summary in place of the cost. With ``candidates`` the discrete p-center
-    (:func:`placewise.discrete.p_center`) chooses among them: the summary's objective is
-    ``weighted_worst_<unit>``, with a proven ``lower_bound_<unit>`` and ``relative_gap``.
+    Parameters and result are those of :func:`p_median` (without ``capacities``), with
+    ``weighted_radius_<unit>`` (the largest weight × distance to the nearest site, new or
+    existing) in the summary in place of the cost. ``fixed`` existing sites stay where they
+    are and serve too (the conditional p-center of :func:`placewise.p_center`); with ``by``
+    each serves only the rows of its own group value. With ``candidates`` the discrete
+    p-center (:func:`placewise.discrete.p_center`) chooses among them, existing sites open
+    beside them: the summary's objective is ``weighted_worst_<unit>``, with a proven
+    ``lower_bound_<unit>`` and ``relative_gap``.
 
     Examples
     --------
@@ -353,6 +356,16 @@ def p_center(
     >>> chosen = gis.p_center(homes, 2, candidates=depots, planar=True)
     >>> chosen.sites["source_row"].tolist(), float(chosen.summary["weighted_worst_u"].iloc[0])
     (['n', 's'], 1.0)
+
+    An existing depot at the first pair of homes: the one new site serves the other pair.
+
+    >>> old = gpd.GeoSeries(gpd.points_from_xy([0], [1]), index=["old"])
+    >>> beside = gis.p_center(homes, 1, fixed=old, planar=True)
+    >>> beside.sites[["x", "y", "fixed"]]
+             x    y  fixed
+    site
+    0     10.0  1.0  False
+    1      0.0  1.0   True
     """
     return _plan("center", frame, p, weight, by, planar, centroids, errors, options,
-                 {"work_crs": work_crs, "max_scale_error": max_scale_error}, None, candidates, region)
+                 {"work_crs": work_crs, "max_scale_error": max_scale_error}, fixed, candidates, region)

@@ -10,6 +10,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .. import _core
+from .._errors import refuse
 from .._region import region_rings
 from .._results import as_points
 from ._forms import _on_candidates
@@ -18,18 +19,20 @@ from ._plans import _GroupedPlan, _Plan
 
 @dataclasses.dataclass(frozen=True, repr=False, eq=False)
 class CenterPlan(_Plan):
-    """A p-center plan: sites and how every point is served.
+    """A p-center plan: new sites and how every point is served.
 
     Attributes
     ----------
     sites : ndarray, shape (p, 2)
+        The new sites.
     assignment : ndarray of int64, shape (n,)
-        The nearest site of each point.
+        The nearest site of each point, indexing the new sites followed by the fixed ones
+        (``0 .. p-1`` new, ``p .. p+f-1`` fixed).
     distance : ndarray, shape (n,)
         Distance from each point to its site.
-    load : ndarray, shape (p,)
-        Summed weight served by each site.
-    count : ndarray of int64, shape (p,)
+    load : ndarray, shape (p + f,)
+        Summed weight served by each site, in the order of ``assignment``.
+    count : ndarray of int64, shape (p + f,)
         Points served by each site (weight zero included).
     total_load : float
         Summed weight of all points.
@@ -39,24 +42,35 @@ class CenterPlan(_Plan):
         Allocation–minimax rounds performed.
     points : ndarray, shape (n, 2)
         The demand points (not shown in the repr).
+    fixed : ndarray, shape (f, 2)
+        The existing sites that served demand beside the new ones.
     weighted_radius : float
-        The objective: the largest weighted distance ``w_i * distance_i``.
+        The objective: the largest weighted distance ``w_i * distance_i``, fixed sites
+        included.
     radius : float
         The largest distance ``distance_i`` (every point lies within it of its site); equal
         to ``weighted_radius`` for unit weights.
     optimal : bool
         True when the plan is proven optimal (instances of at most 10 distinct points of
-        positive weight are solved exactly, as are ``p = 1`` and ``p`` = that count).
+        positive weight are solved exactly, as are ``p = 1`` and ``p`` = that count; beside
+        fixed sites, when every inner p-center of the threshold search was).
 
     ``to_frame()`` has one row per point (``assignment``, ``distance_<unit>``),
-    ``sites_frame()`` one row per site (``x``, ``y``, ``load``, ``points``, ``fixed``, always
-    False) and ``summary()`` one row (``weighted_radius_<unit>``, ``radius_<unit>``,
-    ``optimal``, ``sites``, ``load``, ``points``, ``iterations``).
+    ``sites_frame()`` one row per site (``x``, ``y``, ``load``, ``points``, ``fixed``) and
+    ``summary()`` one row (``weighted_radius_<unit>``, ``radius_<unit>``, ``optimal``,
+    ``sites``, ``load``, ``points``, ``iterations``).
     """
 
+    fixed: np.ndarray
     weighted_radius: float
     radius: float
     optimal: bool
+
+    def _site_xy(self) -> np.ndarray:
+        return np.vstack([self.sites, self.fixed])
+
+    def _site_fixed(self) -> np.ndarray:
+        return np.arange(len(self.load)) >= len(self.sites)
 
     def _objective(self) -> dict[str, Any]:
         return {
@@ -77,7 +91,8 @@ class CenterPlans(_GroupedPlan):
     labels : ndarray of int64, shape (G,)
         Sorted unique group labels.
     sites : ndarray, shape (S, 2)
-        Every group's ``p`` sites, groups in label order; a skipped group has none.
+        Every group's sites, groups in label order: its ``p`` new sites, then its fixed
+        sites (in their order in ``fixed``); a skipped group has none.
     load : ndarray, shape (S,)
     count : ndarray of int64, shape (S,)
     total_load : ndarray, shape (G,)
@@ -95,14 +110,20 @@ class CenterPlans(_GroupedPlan):
         Distance from each input point to its site; NaN in a skipped group.
     points : ndarray, shape (n, 2)
         The demand points (not shown in the repr).
+    fixed : ndarray of bool, shape (S,)
+        True for an existing (fixed) site.
     weighted_radius, radius : ndarray, shape (G,)
         Per group (NaN when skipped).
     optimal : ndarray of bool, shape (G,)
     """
 
+    fixed: np.ndarray
     weighted_radius: np.ndarray
     radius: np.ndarray
     optimal: np.ndarray
+
+    def _site_fixed(self) -> np.ndarray:
+        return self.fixed
 
     def _objective(self) -> dict[str, Any]:
         return {
@@ -113,8 +134,10 @@ class CenterPlans(_GroupedPlan):
 
     def _item(self, position: int) -> CenterPlan:
         at, served = self._served(position)
+        fixed = self.fixed[at]
         return CenterPlan(
-            sites=self.sites[at].copy(),
+            sites=self.sites[at][~fixed].copy(),
+            fixed=self.sites[at][fixed].copy(),
             weighted_radius=float(self.weighted_radius[position]),
             radius=float(self.radius[position]),
             optimal=bool(self.optimal[position]),
@@ -130,6 +153,8 @@ def p_center(
     *,
     candidates: ArrayLike | None = None,
     groups: None = None,
+    fixed: ArrayLike | None = None,
+    fixed_groups: None = None,
     seed: int = 0,
     effort: Literal["fast", "normal", "thorough"] = "normal",
     errors: Literal["raise", "skip"] = "raise",
@@ -147,6 +172,8 @@ def p_center(
     *,
     candidates: ArrayLike | None = None,
     groups: ArrayLike,
+    fixed: ArrayLike | None = None,
+    fixed_groups: ArrayLike | None = None,
     seed: int = 0,
     effort: Literal["fast", "normal", "thorough"] = "normal",
     errors: Literal["raise", "skip"] = "raise",
@@ -163,6 +190,8 @@ def p_center(
     *,
     candidates: ArrayLike | None = None,
     groups: ArrayLike | None = None,
+    fixed: ArrayLike | None = None,
+    fixed_groups: ArrayLike | None = None,
     seed: int = 0,
     effort: Literal["fast", "normal", "thorough"] = "normal",
     errors: Literal["raise", "skip"] = "raise",
@@ -181,6 +210,12 @@ def p_center(
     with at most 10 distinct points of positive weight are solved exactly by branch and bound
     over all splits into ``p`` clusters. ``p = 1`` is :func:`minimax_point`.
 
+    Beside ``fixed`` existing sites (the conditional p-center) the new sites serve the points
+    the existing ones serve worst: with ``c_i = w_i * d(a_i, fixed)``, the best plan is the
+    least ``max(t, g(t))`` over thresholds ``t`` in ``{0} ∪ {c_i}``, ``g(t)`` being the
+    p-center value of the points with ``c_i > t`` (Drezner 1989); a binary search over the
+    sorted ``c_i`` finds it with about ``log2(n)`` such p-centers, each solved as above.
+
     Parameters
     ----------
     points : array_like, shape (n, 2)
@@ -195,11 +230,18 @@ def p_center(
         Candidate locations: choose the ``p`` sites among them (the discrete p-center, see
         :func:`placewise.discrete.p_center`) and return a
         ``placewise.discrete.CenterSelection`` whose ``open`` holds the candidate index of
-        each site; ``groups`` is refused with candidates; ``time_limit`` and ``progress``
-        work as there.
+        each site; ``fixed`` then holds candidate indices; ``groups`` is refused with
+        candidates; ``time_limit`` and ``progress`` work as there.
     groups : array_like of int, shape (n,), optional
         Group labels: plan every group at once (in parallel, the same ``p`` for each) and
         return ``CenterPlans``.
+    fixed : array_like, shape (f, 2), optional
+        Existing sites that stay where they are and serve demand too; ``p`` counts only the
+        new ones. They may lie outside ``region``. An empty array is the same as none.
+    fixed_groups : array_like of int, shape (f,), optional
+        With ``groups`` and ``fixed`` (and required then): the group label of each fixed
+        site. A fixed site serves only its own group; one whose label has no points serves
+        nobody.
     seed : int
         Seed of the restarts, from 0 to 2**64 - 1.
     effort : {"fast", "normal", "thorough"}
@@ -211,14 +253,15 @@ def p_center(
         label); ``"skip"`` keeps such a group with its ``problem`` and plans the rest.
     time_limit : float, optional
         Seconds (finite, above zero) that one plan (each group's, with ``groups``) may take;
-        when they pass, the best plan found so far is returned with ``converged`` False.
+        when they pass, the best plan found so far is returned with ``converged`` False
+        (beside fixed sites the limit bounds the whole threshold search).
     progress : bool or callable
         True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
         callable is called as ``progress(done, total)`` from the calling thread while the
         search runs. Ctrl-C stops the search within a fraction of a second and raises
         ``KeyboardInterrupt``.
     region : shapely Polygon or MultiPolygon, or array_like of shape (m, 2), optional
-        Where the sites may go: a polygon with holes (or several), or one ring, in the
+        Where the new sites may go: a polygon with holes (or several), or one ring, in the
         points' coordinates; its rings must not cross. Every site then lies in the region
         (boundary included): each cluster's site is its restricted minimax point (the free
         one when the region holds it, else the best boundary point; Hamacher and Nickel
@@ -233,9 +276,10 @@ def p_center(
     ------
     InputError
         For NaN/inf coordinates, bad shapes, bad weights, ``p`` or ``seed`` not an integer
-        in range, an unknown ``effort``, a ``time_limit`` that is not a number above zero, or a
-        ``progress`` that is neither a bool nor callable. Its ``group`` and ``row`` attributes
-        name the group label and input row concerned.
+        in range, an unknown ``effort``, a ``time_limit`` that is not a number above zero, a
+        ``progress`` that is neither a bool nor callable, NaN/inf coordinates in ``fixed``, or
+        ``fixed`` with ``groups`` but without ``fixed_groups``. Its ``group`` and ``row``
+        attributes name the group label and input row concerned.
     DegenerateInputError
         When fewer than ``p`` distinct points carry positive weight (in a group).
         Also for a region without area or whose rings cross or overlap (``argument`` is
@@ -260,6 +304,18 @@ def p_center(
     (array([[1., 0.]]), 3.0, 3.0)
     >>> pw.p_center(square + far, 2, candidates=[[1, 1], [11, 1], [21, 1]]).open
     array([0, 2])
+
+    An existing site at the first square's centre: the one new site goes to the other.
+
+    >>> kept_on = pw.p_center(square + far, 1, fixed=[[1, 1]])
+    >>> kept_on.sites, round(kept_on.weighted_radius, 12), kept_on.optimal
+    (array([[21.,  1.]]), 1.414213562373, True)
+    >>> kept_on.sites_frame()
+          x    y  load  points  fixed
+    0  21.0  1.0   4.0       4  False
+    1   1.0  1.0   4.0       4   True
+    >>> pw.p_center(square + far, 1, candidates=[[1, 1], [11, 1], [21, 1]], fixed=[0]).open
+    array([0, 2])
     >>> plans = pw.p_center(square + far, 1, groups=[0] * 4 + [1] * 4)
     >>> plans.summary()[["group", "weighted_radius_u", "sites", "points"]].round(6)
        group  weighted_radius_u  sites  points
@@ -281,14 +337,17 @@ def p_center(
     p_median : the ``p`` sites minimising the total weighted trip.
     """
     if candidates is not None:
-        return _on_candidates("p_center", points, p, weights, candidates, fixed=None, groups=groups,
+        return _on_candidates("p_center", points, p, weights, candidates, fixed=fixed, groups=groups,
                               time_limit=time_limit, progress=progress, region=region)
     vertices, offsets = region_rings(region)
     shown = None if vertices is None else (vertices, offsets)
     if groups is None:
-        fields = _core.p_center_single(points, p, weights, seed, effort, time_limit, progress, vertices, offsets)
+        if fixed_groups is not None:
+            refuse("fixed_groups", "fixed_groups is given without groups: it names the group each fixed site serves")
+        fields = _core.p_center_single(points, p, weights, fixed, seed, effort, time_limit, progress, vertices,
+                                       offsets)
         return CenterPlan(**fields, points=as_points(points), region=shown)
     fields = _core.p_center_grouped(
-        points, p, weights, groups, seed, effort, errors, time_limit, progress, vertices, offsets
+        points, p, weights, groups, fixed, fixed_groups, seed, effort, errors, time_limit, progress, vertices, offsets
     )
     return CenterPlans._from_core(fields, points=as_points(points), region=shown)

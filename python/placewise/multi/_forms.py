@@ -44,7 +44,7 @@ def _on_candidates(model: str, points: ArrayLike, p: int, weights: ArrayLike | N
     if model == "p_median":
         chosen: Any = discrete.p_median_planar(points, candidates, p, weights, fixed=fixed, seed=seed, **watch)
     else:
-        chosen = discrete.p_center_planar(points, candidates, p, weights, **watch)
+        chosen = discrete.p_center_planar(points, candidates, p, weights, fixed=fixed, **watch)
     if region is None:
         return chosen
     return dataclasses.replace(chosen, open=rows[chosen.open], candidates=every)

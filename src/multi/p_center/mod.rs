@@ -9,20 +9,24 @@
 //!   the starts, too, are drawn from the working set.
 //! - `exact` — tiny instances (at most [`EXACT_MAX_POINTS`] distinct points of positive
 //!   weight) by branch and bound over all splits into at most `p` clusters.
+//! - `conditional` — beside fixed existing sites (the conditional p-center): a search over
+//!   thresholds of the fixed sites' service, each step an unconditional p-center of the
+//!   points the fixed sites serve worse than the threshold (Drezner 1989).
 //!
 //! Only the distinct locations of positive weight matter, each with the largest weight found
 //! there (a largest weighted distance depends on nothing else): the search runs on those.
 
+mod conditional;
 mod drezner;
 mod exact;
 
 use std::sync::Arc;
 
 use super::{check_site_count, Effort, Location, Service};
-use crate::batch::{run_grouped_placed, Grouped, OnGroupError, RowPlaces};
+use crate::batch::{run_grouped_placed, GroupIndex, Grouped, OnGroupError, RowPlaces};
 use crate::cancel::Watch;
 use crate::enclose::{minimax_point, minimax_point_in_region, MinimaxPoint};
-use crate::error::Result;
+use crate::error::{Error, Result};
 use crate::geometry::{distance, validate_points, validate_weights, FeasibleRegion, Point, Weights};
 use crate::partition::{allocate, SiteIndex};
 
@@ -44,8 +48,8 @@ pub struct CenterOptions {
     pub time_limit: Option<f64>,
     /// Cancel flag and progress count shared with the caller ([`crate::cancel`]).
     pub watch: Watch,
-    /// Where the sites may go (`None`: anywhere); every site lies in the region (boundary
-    /// included).
+    /// Where the new sites may go (`None`: anywhere); every new site lies in the region
+    /// (boundary included); fixed sites are not moved.
     pub region: Option<Arc<FeasibleRegion>>,
 }
 
@@ -58,11 +62,16 @@ impl Default for CenterOptions {
 /// A p-center plan.
 #[derive(Debug, Clone, PartialEq)]
 pub struct CenterPlan {
-    /// The `p` sites.
+    /// The `p` new sites.
     pub sites: Vec<Point>,
-    /// How the sites serve the demand; the plan's objective is `service.weighted_radius`.
+    /// The fixed (existing) sites that served the demand beside the new ones.
+    pub fixed: Vec<Point>,
+    /// How the sites serve the demand. Site indices (`assignment`, `load`, `count`) run over
+    /// the new sites followed by the fixed ones (`0..p` new, `p..p + f` fixed); the plan's
+    /// objective is `service.weighted_radius`.
     pub service: Service,
-    /// True when the plan is proven optimal (tiny instances, solved exactly).
+    /// True when the plan is proven optimal (tiny instances, solved exactly; beside fixed
+    /// sites, when every inner p-center of the threshold search was).
     pub optimal: bool,
     /// False when the heuristic was cut short (time limit or cancellation): the plan is the
     /// best found so far.
@@ -76,20 +85,27 @@ const MAX_ROUNDS: usize = 200;
 /// A plan replaces the incumbent only when its radius is smaller by this relative margin.
 const IMPROVEMENT: f64 = 1e-12;
 
-/// `p` sites minimising the largest weighted distance from a point to its nearest site.
+/// `p` new sites minimising the largest weighted distance from a point to its nearest site,
+/// new or `fixed`.
 ///
-/// `p = 1` is the weighted minimax point itself ([`minimax_point`], or
+/// `p = 1` without fixed sites is the weighted minimax point itself ([`minimax_point`], or
 /// [`minimax_point_in_region`] with `options.region`). With a region, every cluster's site is
 /// its restricted minimax point and every start is moved to the nearest point of the region;
 /// the exact search stays exact (a cluster's restricted radius, too, never shrinks as points
 /// join it). Points of weight zero
 /// are served (they get an assignment) but do not influence the sites.
 ///
+/// Beside fixed sites (the conditional p-center) the plan comes from a search over
+/// thresholds `t` of the fixed sites' service `cᵢ = wᵢ · d(aᵢ, fixed)`, each step an
+/// unconditional p-center of the points with `cᵢ > t` (Drezner 1989; see `conditional`).
+/// An empty `fixed` is the same as none.
+///
 /// # Errors
 /// - [`crate::Error::TooFewPoints`] when `points` is empty, or when fewer than `p` distinct
 ///   points carry positive weight;
 /// - [`crate::Error::InvalidParameter`] when `p = 0`;
-/// - [`crate::Error::NonFiniteCoordinate`] for a NaN or infinite coordinate;
+/// - [`crate::Error::NonFiniteCoordinate`] for a NaN or infinite coordinate in `points` or
+///   `fixed`;
 /// - [`crate::Error::LengthMismatch`], [`crate::Error::InvalidWeight`],
 ///   [`crate::Error::AllWeightsZero`] for bad weights.
 ///
@@ -100,12 +116,35 @@ const IMPROVEMENT: f64 = 1e-12;
 /// working set of them (starts included) that grows only by the locations its plans leave
 /// worst served, each growth step costing one allocation of all of them. The exact
 /// search on at most [`EXACT_MAX_POINTS`] points visits at most the Bell number
-/// B₁₀ = 115 975 splits, usually far fewer.
-pub fn p_center(points: &[Point], weights: Weights<'_>, p: usize, options: &CenterOptions) -> Result<CenterPlan> {
+/// B₁₀ = 115 975 splits, usually far fewer. Beside fixed sites, about log₂ n such
+/// p-centers, each on the points the fixed sites serve worse than its threshold.
+pub fn p_center(
+    points: &[Point],
+    weights: Weights<'_>,
+    p: usize,
+    fixed: &[Point],
+    options: &CenterOptions,
+) -> Result<CenterPlan> {
     validate_points("points", points, 1)?;
     validate_weights("weights", weights, points.len())?;
+    validate_points("fixed", fixed, 0)?;
     let distinct = check_site_count(points, weights, p)?;
+    if fixed.is_empty() {
+        unconditional(points, weights, p, &distinct, options)
+    } else {
+        conditional::p_center_beside(points, weights, p, &distinct, fixed, options)
+    }
+}
 
+/// [`p_center`] without fixed sites, on validated input whose distinct locations of positive
+/// weight are `distinct` (at least `p`).
+fn unconditional(
+    points: &[Point],
+    weights: Weights<'_>,
+    p: usize,
+    distinct: &[Location],
+    options: &CenterOptions,
+) -> Result<CenterPlan> {
     let mut iterations = 0;
     let mut stopped = false;
     let region = options.region.clone();
@@ -116,7 +155,7 @@ pub fn p_center(points: &[Point], weights: Weights<'_>, p: usize, options: &Cent
         };
         (vec![single], true)
     } else {
-        let demand = Demand::of(points, &distinct, region);
+        let demand = Demand::of(points, distinct, region);
         if demand.len() == p {
             // Each location its own site, as near as the region allows: every point pays its
             // least possible weighted distance, so the plan is optimal.
@@ -134,30 +173,57 @@ pub fn p_center(points: &[Point], weights: Weights<'_>, p: usize, options: &Cent
         }
     };
     let service = Service::of(points, weights, &sites)?;
-    Ok(CenterPlan { sites, service, optimal, converged: !stopped, iterations })
+    Ok(CenterPlan { sites, fixed: Vec::new(), service, optimal, converged: !stopped, iterations })
 }
 
 /// [`p_center`] on every group of `points` (labels `labels`), in parallel, with the same `p`
-/// for every group. Every group's plan equals a separate [`p_center`] call on its points; the
-/// [`RowPlaces`] say where every input row sits.
+/// for every group.
+///
+/// Fixed sites serve only their own group: `fixed_labels[k]` is the group label of
+/// `fixed[k]` (one label per fixed site; both empty for none). A group's fixed sites are the
+/// fixed sites with its label, in their input order; a fixed site whose label has no points
+/// serves nobody. Every group's plan equals a separate [`p_center`] call on that group's
+/// points and fixed sites; the [`RowPlaces`] say where every input row sits.
 ///
 /// # Errors
-/// The errors of [`run_grouped_placed`]; with [`OnGroupError::Raise`] the first
-/// group's error of [`p_center`].
+/// [`crate::Error::InvalidParameter`] (`fixed_groups`) when `fixed_labels` does not have one
+/// label per fixed site; [`crate::Error::NonFiniteCoordinate`] for a bad fixed site (naming
+/// its row in `fixed`); the errors of [`run_grouped_placed`]; with [`OnGroupError::Raise`]
+/// the first group's error of [`p_center`].
+#[allow(clippy::too_many_arguments)]
 pub fn p_centers(
     points: &[Point],
     weights: Weights<'_>,
     labels: &[i64],
     p: usize,
+    fixed: &[Point],
+    fixed_labels: &[i64],
     options: &CenterOptions,
     on_error: OnGroupError,
 ) -> Result<(Grouped<CenterPlan>, RowPlaces)> {
+    if fixed_labels.len() != fixed.len() {
+        return Err(Error::InvalidParameter {
+            name: "fixed_groups",
+            reason: format!(
+                "must hold the group label of every fixed site ({}); got {}",
+                fixed.len(),
+                fixed_labels.len()
+            ),
+        });
+    }
+    // Rows of `fixed` are named before grouping: inside a group they would be renumbered.
+    validate_points("fixed", fixed, 0)?;
+    let by_group = GroupIndex::new(fixed_labels);
     // Progress counts the points of finished groups; each group's own restarts are quiet.
     let watch = &options.watch;
     watch.plan(points.len() as u64);
     let inner = CenterOptions { watch: watch.quiet(), ..options.clone() };
     run_grouped_placed("points", points, weights, labels, on_error, |group| {
-        let plan = p_center(group.points, group.weights, p, &inner);
+        let own: Vec<Point> = match by_group.labels().binary_search(&group.label) {
+            Ok(g) => by_group.members(g).iter().map(|&k| fixed[k]).collect(),
+            Err(_) => Vec::new(),
+        };
+        let plan = p_center(group.points, group.weights, p, &own, &inner);
         watch.advance(group.points.len() as u64);
         plan
     })
@@ -319,7 +385,7 @@ mod tests {
         // p = 1 is the weighted 1-center by definition.
         let pts = cloud(30, 1);
         let w: Vec<f64> = (0..30).map(|i| 1.0 + (i % 4) as f64).collect();
-        let plan = p_center(&pts, Weights::Given(&w), 1, &CenterOptions::default()).unwrap();
+        let plan = p_center(&pts, Weights::Given(&w), 1, &[], &CenterOptions::default()).unwrap();
         let single = minimax_point(&pts, Weights::Given(&w)).unwrap();
         assert_eq!(plan.sites, vec![single.location]);
         assert!((plan.service.weighted_radius - single.radius).abs() <= 1e-12 * single.radius);
@@ -330,7 +396,7 @@ mod tests {
         for seed in 0..6 {
             let pts = cloud(7, seed);
             for p in 2..=3 {
-                let plan = p_center(&pts, Weights::Unit, p, &CenterOptions::default()).unwrap();
+                let plan = p_center(&pts, Weights::Unit, p, &[], &CenterOptions::default()).unwrap();
                 let reference = brute_force(&pts, p);
                 let r = plan.service.weighted_radius;
                 assert!(plan.optimal);
@@ -343,7 +409,7 @@ mod tests {
     fn heuristic_is_never_worse_than_its_farthest_first_start() {
         // Gonzalez (1985): farthest-first is a 2-approximation; our descent only improves on it.
         let pts = cloud(400, 3);
-        let plan = p_center(&pts, Weights::Unit, 6, &CenterOptions::default()).unwrap();
+        let plan = p_center(&pts, Weights::Unit, 6, &[], &CenterOptions::default()).unwrap();
         let demand = Demand::of(&pts, &check_site_count(&pts, Weights::Unit, 6).unwrap(), None);
         let start: Vec<Point> = demand.farthest_first(demand.heaviest(), 6).iter().map(|&i| demand.points[i]).collect();
         assert!(plan.service.weighted_radius <= demand.radius(&start).unwrap());
@@ -355,7 +421,7 @@ mod tests {
         // Closed form: two unit squares' corner sets far apart; each square's circle has
         // radius √2 / 2.
         let pts = [[0.0, 0.0], [1.0, 0.0], [0.0, 1.0], [1.0, 1.0], [50.0, 0.0], [51.0, 0.0], [50.0, 1.0], [51.0, 1.0]];
-        let plan = p_center(&pts, Weights::Unit, 2, &CenterOptions::default()).unwrap();
+        let plan = p_center(&pts, Weights::Unit, 2, &[], &CenterOptions::default()).unwrap();
         assert!((plan.service.weighted_radius - 0.5f64.sqrt()).abs() < 1e-12);
         assert_eq!(plan.service.count, vec![4, 4]);
     }
@@ -366,7 +432,7 @@ mod tests {
         // site sets the plain radius, no weighted one.
         let pts = [[0.0, 0.0], [10.0, 0.0], [3.0, 0.0]];
         let w = [2.0, 1.0, 0.0];
-        let plan = p_center(&pts, Weights::Given(&w), 2, &CenterOptions::default()).unwrap();
+        let plan = p_center(&pts, Weights::Given(&w), 2, &[], &CenterOptions::default()).unwrap();
         assert_eq!((plan.service.weighted_radius, plan.service.radius), (0.0, 3.0));
         assert_eq!(plan.service.load, vec![2.0, 1.0]);
     }
@@ -375,7 +441,7 @@ mod tests {
     fn a_time_limit_returns_a_covering_plan_not_converged() {
         let pts = cloud(3_000, 4);
         let options = CenterOptions { time_limit: Some(1e-9), ..CenterOptions::default() };
-        let plan = p_center(&pts, Weights::Unit, 5, &options).unwrap();
+        let plan = p_center(&pts, Weights::Unit, 5, &[], &options).unwrap();
         assert!(!plan.converged && !plan.optimal);
         // Every point is within the reported radius of its nearest site.
         for (i, &a) in pts.iter().enumerate() {
@@ -383,18 +449,21 @@ mod tests {
             assert_eq!(plan.service.distance[i], nearest);
             assert!(nearest <= plan.service.radius);
         }
-        assert!(p_center(&pts, Weights::Unit, 5, &CenterOptions::default()).unwrap().converged);
+        assert!(p_center(&pts, Weights::Unit, 5, &[], &CenterOptions::default()).unwrap().converged);
     }
 
     #[test]
     fn bad_p_is_refused() {
         let pts = [[0.0, 0.0], [1.0, 0.0], [1.0, 0.0]];
         assert!(matches!(
-            p_center(&pts, Weights::Unit, 0, &CenterOptions::default()),
+            p_center(&pts, Weights::Unit, 0, &[], &CenterOptions::default()),
             Err(Error::InvalidParameter { .. })
         ));
-        assert!(matches!(p_center(&pts, Weights::Unit, 3, &CenterOptions::default()), Err(Error::TooFewPoints { .. })));
-        let plan = p_center(&pts, Weights::Unit, 2, &CenterOptions::default()).unwrap();
+        assert!(matches!(
+            p_center(&pts, Weights::Unit, 3, &[], &CenterOptions::default()),
+            Err(Error::TooFewPoints { .. })
+        ));
+        let plan = p_center(&pts, Weights::Unit, 2, &[], &CenterOptions::default()).unwrap();
         assert_eq!(plan.service.weighted_radius, 0.0);
     }
 }
