@@ -60,9 +60,10 @@ def milp_p_median(costs: np.ndarray, w: np.ndarray, p: int, fixed: tuple[int, ..
     return solve(c, cons, integrality, scipy.optimize.Bounds(lower, upper))
 
 
-def milp_p_center(costs: np.ndarray, w: np.ndarray, p: int, allowed: np.ndarray | None = None) -> float:
+def milp_p_center(costs: np.ndarray, w: np.ndarray, p: int, allowed: np.ndarray | None = None,
+                  fixed: tuple[int, ...] = ()) -> float:
     """The textbook p-center integer program (Daskin 1995): min z, Σⱼ xᵢⱼ = 1, xᵢⱼ <= yⱼ,
-    Σ yⱼ = p, wᵢ Σⱼ cᵢⱼxᵢⱼ <= z."""
+    Σ yⱼ = p + |fixed|, yⱼ = 1 for j fixed, wᵢ Σⱼ cᵢⱼxᵢⱼ <= z."""
     n, m = costs.shape
     nx = n * m
     c = np.zeros(nx + m + 1)
@@ -78,10 +79,13 @@ def milp_p_center(costs: np.ndarray, w: np.ndarray, p: int, allowed: np.ndarray 
                                  scipy.sparse.csr_matrix((n, m)), -np.ones((n, 1))])
     count = np.concatenate([np.zeros(nx), np.ones(m), [0]])[None, :]
     cons = [scipy.optimize.LinearConstraint(assign, 1, 1), scipy.optimize.LinearConstraint(link, -np.inf, 0),
-            scipy.optimize.LinearConstraint(worst, -np.inf, 0), scipy.optimize.LinearConstraint(count, p, p)]
+            scipy.optimize.LinearConstraint(worst, -np.inf, 0),
+            scipy.optimize.LinearConstraint(count, p + len(fixed), p + len(fixed))]
     integrality = np.concatenate([np.zeros(nx), np.ones(m), [0]])
     upper = np.concatenate([np.ones(nx) if allowed is None else allowed.ravel().astype(float), np.ones(m), [np.inf]])
-    return solve(c, cons, integrality, scipy.optimize.Bounds(0, upper))
+    lower = np.zeros(nx + m + 1)
+    lower[nx + np.asarray(fixed, dtype=int)] = 1
+    return solve(c, cons, integrality, scipy.optimize.Bounds(lower, upper))
 
 
 def milp_cover_all(costs: np.ndarray, radius: float, allowed: np.ndarray | None = None) -> float:

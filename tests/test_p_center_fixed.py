@@ -23,6 +23,7 @@ from hypothesis.extra.numpy import arrays
 
 import placewise as pw
 from interrupting import Enough, check_progress_reports, stop_at_first_report
+from test_discrete import milp_p_center
 from test_multi import enclosing_radius_brute_force
 
 
@@ -48,36 +49,6 @@ def conditional_brute_force(points: np.ndarray, fixed: np.ndarray, p: int) -> fl
             worst = max(worst, radius[sum(1 << i for i in range(n) if labels[i] == part)])
         best = min(best, worst)
     return float(best)
-
-
-def milp_p_center_with_fixed(costs: np.ndarray, w: np.ndarray, p: int, fixed: list[int]) -> float:
-    """The textbook p-center integer program (Daskin 1995) with the fixed candidates open:
-    min z, Σⱼ xᵢⱼ = 1, xᵢⱼ <= yⱼ, Σ yⱼ = p + |fixed|, yⱼ = 1 for j fixed, wᵢ Σⱼ cᵢⱼxᵢⱼ <= z;
-    solved by scipy.optimize.milp (HiGHS)."""
-    n, m = costs.shape
-    nx = n * m
-    c = np.zeros(nx + m + 1)
-    c[-1] = 1
-    assign = scipy.sparse.hstack([scipy.sparse.kron(scipy.sparse.eye(n), np.ones((1, m))),
-                                  scipy.sparse.csr_matrix((n, m + 1))])
-    link = scipy.sparse.hstack([scipy.sparse.eye(nx), -scipy.sparse.kron(np.ones((n, 1)), scipy.sparse.eye(m)),
-                                scipy.sparse.csr_matrix((nx, 1))])
-    rows = np.repeat(np.arange(n), m)
-    worst = scipy.sparse.hstack([scipy.sparse.csr_matrix(((w[:, None] * costs).ravel(), (rows, np.arange(nx))),
-                                                         shape=(n, nx)),
-                                 scipy.sparse.csr_matrix((n, m)), -np.ones((n, 1))])
-    count = np.concatenate([np.zeros(nx), np.ones(m), [0]])[None, :]
-    lower = np.zeros(nx + m + 1)
-    lower[nx + np.asarray(fixed, dtype=int)] = 1
-    upper = np.concatenate([np.ones(nx + m), [np.inf]])
-    cons = [scipy.optimize.LinearConstraint(assign, 1, 1), scipy.optimize.LinearConstraint(link, -np.inf, 0),
-            scipy.optimize.LinearConstraint(worst, -np.inf, 0),
-            scipy.optimize.LinearConstraint(count, p + len(fixed), p + len(fixed))]
-    integrality = np.concatenate([np.zeros(nx), np.ones(m), [0]])
-    res = scipy.optimize.milp(c, constraints=cons, integrality=integrality,
-                              bounds=scipy.optimize.Bounds(lower, upper), options={"time_limit": 120})
-    assert res.status == 0, res.message
-    return float(res.fun)
 
 
 SQUARE = np.array([[0.0, 0.0], [2.0, 0.0], [0.0, 2.0], [2.0, 2.0]])
@@ -108,7 +79,7 @@ def test_candidates_with_fixed_match_milp(seed: int) -> None:
     fixed = [3, 7]
     chosen = pw.p_center(pts, 2, w, candidates=cands, fixed=fixed)
     costs = scipy.spatial.distance.cdist(pts, cands)
-    best = milp_p_center_with_fixed(costs, w, 2, fixed)  # scipy.optimize.milp (HiGHS)
+    best = milp_p_center(costs, w, 2, fixed=tuple(fixed))  # scipy.optimize.milp (HiGHS)
     assert float(chosen.weighted_worst) == pytest.approx(best, rel=1e-9)
     assert float(chosen.relative_gap) == 0.0
     assert set(fixed) <= set(chosen.open.tolist()) and len(chosen.open) == 4

@@ -30,7 +30,9 @@ pub use service::Service;
 use crate::error::{Error, Result};
 use rayon::prelude::*;
 
-use crate::geometry::{location_key, Point, Weights};
+use crate::batch::{run_grouped_placed, GroupIndex, Grouped, OnGroupError, RowPlaces};
+use crate::cancel::Watch;
+use crate::geometry::{location_key, validate_points, Point, Weights};
 
 /// A distinct location carrying positive weight.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -85,6 +87,50 @@ pub(crate) fn distinct_weighted(points: &[Point], weights: Weights<'_>) -> Vec<L
     }
     distinct.sort_unstable_by_key(|l| l.first);
     distinct
+}
+
+/// Run `plan(group points, group weights, the group's fixed sites)` on every group of
+/// `points` (labels `labels`), in parallel: the p-median's and the p-center's grouped form.
+/// `fixed_labels[k]` is the group label of `fixed[k]` (both empty for none); a group's fixed
+/// sites are those with its label, in their input order. Progress counts the points of
+/// finished groups (each group's own run should watch quietly).
+///
+/// # Errors
+/// [`Error::InvalidParameter`] (`fixed_groups`) when `fixed_labels` does not hold one label
+/// per fixed site; [`Error::NonFiniteCoordinate`] for a bad fixed site, naming its row in
+/// `fixed`; the errors of [`run_grouped_placed`] and of `plan`.
+pub(crate) fn run_grouped_beside<T: Send>(
+    points: &[Point],
+    weights: Weights<'_>,
+    labels: &[i64],
+    (fixed, fixed_labels): (&[Point], &[i64]),
+    watch: &Watch,
+    on_error: OnGroupError,
+    plan: impl Fn(&[Point], Weights<'_>, &[Point]) -> Result<T> + Sync,
+) -> Result<(Grouped<T>, RowPlaces)> {
+    if fixed_labels.len() != fixed.len() {
+        return Err(Error::InvalidParameter {
+            name: "fixed_groups",
+            reason: format!(
+                "must hold the group label of every fixed site ({}); got {}",
+                fixed.len(),
+                fixed_labels.len()
+            ),
+        });
+    }
+    // Rows of `fixed` are named before grouping: inside a group they would be renumbered.
+    validate_points("fixed", fixed, 0)?;
+    let by_group = GroupIndex::new(fixed_labels);
+    watch.plan(points.len() as u64);
+    run_grouped_placed("points", points, weights, labels, on_error, |group| {
+        let own: Vec<Point> = match by_group.labels().binary_search(&group.label) {
+            Ok(g) => by_group.members(g).iter().map(|&k| fixed[k]).collect(),
+            Err(_) => Vec::new(),
+        };
+        let answer = plan(group.points, group.weights, &own);
+        watch.advance(group.points.len() as u64);
+        answer
+    })
 }
 
 #[cfg(test)]

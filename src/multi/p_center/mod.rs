@@ -22,11 +22,11 @@ mod exact;
 
 use std::sync::Arc;
 
-use super::{check_site_count, Effort, Location, Service};
-use crate::batch::{run_grouped_placed, GroupIndex, Grouped, OnGroupError, RowPlaces};
+use super::{check_site_count, run_grouped_beside, Effort, Location, Service};
+use crate::batch::{Grouped, OnGroupError, RowPlaces};
 use crate::cancel::Watch;
 use crate::enclose::{minimax_point, minimax_point_in_region, MinimaxPoint};
-use crate::error::{Error, Result};
+use crate::error::Result;
 use crate::geometry::{distance, validate_points, validate_weights, FeasibleRegion, Point, Weights};
 use crate::partition::{allocate, SiteIndex};
 
@@ -188,7 +188,7 @@ fn unconditional(
 /// # Errors
 /// [`crate::Error::InvalidParameter`] (`fixed_groups`) when `fixed_labels` does not have one
 /// label per fixed site; [`crate::Error::NonFiniteCoordinate`] for a bad fixed site (naming
-/// its row in `fixed`); the errors of [`run_grouped_placed`]; with [`OnGroupError::Raise`]
+/// its row in `fixed`); the errors of [`crate::batch::run_grouped_placed`]; with [`OnGroupError::Raise`]
 /// the first group's error of [`p_center`].
 #[allow(clippy::too_many_arguments)]
 pub fn p_centers(
@@ -201,31 +201,10 @@ pub fn p_centers(
     options: &CenterOptions,
     on_error: OnGroupError,
 ) -> Result<(Grouped<CenterPlan>, RowPlaces)> {
-    if fixed_labels.len() != fixed.len() {
-        return Err(Error::InvalidParameter {
-            name: "fixed_groups",
-            reason: format!(
-                "must hold the group label of every fixed site ({}); got {}",
-                fixed.len(),
-                fixed_labels.len()
-            ),
-        });
-    }
-    // Rows of `fixed` are named before grouping: inside a group they would be renumbered.
-    validate_points("fixed", fixed, 0)?;
-    let by_group = GroupIndex::new(fixed_labels);
-    // Progress counts the points of finished groups; each group's own restarts are quiet.
-    let watch = &options.watch;
-    watch.plan(points.len() as u64);
-    let inner = CenterOptions { watch: watch.quiet(), ..options.clone() };
-    run_grouped_placed("points", points, weights, labels, on_error, |group| {
-        let own: Vec<Point> = match by_group.labels().binary_search(&group.label) {
-            Ok(g) => by_group.members(g).iter().map(|&k| fixed[k]).collect(),
-            Err(_) => Vec::new(),
-        };
-        let plan = p_center(group.points, group.weights, p, &own, &inner);
-        watch.advance(group.points.len() as u64);
-        plan
+    // Each group's own restarts are quiet; progress counts the points of finished groups.
+    let inner = CenterOptions { watch: options.watch.quiet(), ..options.clone() };
+    run_grouped_beside(points, weights, labels, (fixed, fixed_labels), &options.watch, on_error, |at, w, own| {
+        p_center(at, w, p, own, &inner)
     })
 }
 

@@ -30,10 +30,10 @@ mod search;
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::Arc;
 
-use super::{check_site_count, Location, Service};
-use crate::batch::{run_grouped_placed, GroupIndex, Grouped, OnGroupError, RowPlaces};
+use super::{check_site_count, run_grouped_beside, Location, Service};
+use crate::batch::{Grouped, OnGroupError, RowPlaces};
 use crate::cancel::{Clock, Watch};
-use crate::error::{Error, Result};
+use crate::error::Result;
 use crate::geometry::random::SplitMix64;
 use crate::geometry::{validate_points, validate_weights, FeasibleRegion, Point, Weights, WorkingFrame};
 use crate::median::{weber_point, weber_point_in_region, WeberOptions};
@@ -252,7 +252,7 @@ pub fn p_median(
 /// # Errors
 /// [`crate::Error::InvalidParameter`] (`fixed_groups`) when `fixed_labels` does not have one
 /// label per fixed site; [`crate::Error::NonFiniteCoordinate`] for a bad fixed site (naming
-/// its row in `fixed`); the errors of [`run_grouped_placed`]; with
+/// its row in `fixed`); the errors of [`crate::batch::run_grouped_placed`]; with
 /// [`OnGroupError::Raise`] the first group's error of [`p_median`].
 #[allow(clippy::too_many_arguments)]
 pub fn p_medians(
@@ -265,31 +265,10 @@ pub fn p_medians(
     options: &MedianOptions,
     on_error: OnGroupError,
 ) -> Result<(Grouped<MedianPlan>, RowPlaces)> {
-    if fixed_labels.len() != fixed.len() {
-        return Err(Error::InvalidParameter {
-            name: "fixed_groups",
-            reason: format!(
-                "must hold the group label of every fixed site ({}); got {}",
-                fixed.len(),
-                fixed_labels.len()
-            ),
-        });
-    }
-    // Rows of `fixed` are named before grouping: inside a group they would be renumbered.
-    validate_points("fixed", fixed, 0)?;
-    let by_group = GroupIndex::new(fixed_labels);
-    // Progress counts the points of finished groups; each group's own search is quiet.
-    let watch = &options.watch;
-    watch.plan(points.len() as u64);
-    let inner = MedianOptions { watch: watch.quiet(), ..options.clone() };
-    run_grouped_placed("points", points, weights, labels, on_error, |group| {
-        let own: Vec<Point> = match by_group.labels().binary_search(&group.label) {
-            Ok(g) => by_group.members(g).iter().map(|&k| fixed[k]).collect(),
-            Err(_) => Vec::new(),
-        };
-        let plan = p_median(group.points, group.weights, p, &own, &inner);
-        watch.advance(group.points.len() as u64);
-        plan
+    // Each group's own search is quiet; progress counts the points of finished groups.
+    let inner = MedianOptions { watch: options.watch.quiet(), ..options.clone() };
+    run_grouped_beside(points, weights, labels, (fixed, fixed_labels), &options.watch, on_error, |at, w, own| {
+        p_median(at, w, p, own, &inner)
     })
 }
 
@@ -459,6 +438,7 @@ impl Problem<'_> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::error::Error;
     use crate::geometry::distance;
 
     fn cost(points: &[Point], sites: &[Point]) -> f64 {
