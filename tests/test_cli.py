@@ -284,6 +284,20 @@ def test_usage_errors_are_one_line(argv, capsys):
     assert_user_error(info.value.code, err)
 
 
+@pytest.mark.parametrize("extra, words", [
+    # Reference: each option's own --help text, which gives it effect only beside another.
+    (["enclosing-circle", "--errors", "skip"], ("--errors skip", "--by")),  # "with --by: ..."
+    (["delaunay", "--errors", "skip"], ("--errors skip", "--by")),
+    (["voronoi-cells", "--weight", "people"], ("--weight", "--demand")),  # weighs the demand rows
+    (["steiner-tree", "--heuristic", "--time-limit", "5"], ("--time-limit", "--heuristic")),  # "for the exact search"
+])
+def test_options_that_would_act_on_nothing_are_refused(csv_path, capsys, extra, words):
+    # Before, each run ended with status 0 and a result the option had no part in: the
+    # option was read and dropped without a word.
+    code, _, err = run([extra[0], *utm(csv_path), *extra[1:]], capsys)
+    assert_user_error(code, err, *words)
+
+
 def test_every_kernel_has_a_subcommand(capsys):
     with pytest.raises(SystemExit):
         main(["--help"])

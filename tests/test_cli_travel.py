@@ -109,6 +109,21 @@ def test_network_siting_p_median_is_optimal_on_scipy_costs(files, capsys):
 
 
 
+@pytest.mark.parametrize("extra, words", [
+    # Reference: the --help text: -p is the p-median's number of sites, --within the cover's cost.
+    (["--model", "cover", "--within", "500", "-p", "2"], ("-p", "--model p-median")),
+    (["-p", "2", "--within", "500"], ("--within", "--model cover")),
+])
+def test_network_siting_refuses_the_other_models_option(files, capsys, extra, words):
+    # Before, the other model's option was accepted and dropped: status 0, a plan it had no part in.
+    path, *_ = files
+    code = main(["network-siting", str(path / "homes.csv"), "--crs", CRS, "--network", str(path / "streets.geojson"),
+                 "--candidates", str(path / "depots.csv"), *extra])
+    err = capsys.readouterr().err
+    assert code == 2 and len(err.strip().splitlines()) == 1, err
+    assert all(word in err for word in words), err
+
+
 def test_network_siting_names_each_homes_depot_and_tallies_its_sites(files, capsys):
     """The candidates listed last first, so the open sites are not the first rows: every home's
     ``site`` is the CSV line of a chosen depot it reaches at least cost on scipy's costs, and

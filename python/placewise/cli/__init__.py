@@ -168,6 +168,8 @@ def main(argv: Sequence[str] | None = None) -> int:
 
         try:
             _check_crs(args)
+            if getattr(args, "errors", "raise") == "skip" and getattr(args, "by", None) is None:
+                raise UserError("--errors skip keeps groups without an answer: it needs --by COLUMN")
             args.run(args)
             sys.stdout.flush()
         except BrokenPipeError:

@@ -67,6 +67,11 @@ def _cmd_travel_costs(args: argparse.Namespace) -> None:
 def _cmd_network_siting(args: argparse.Namespace) -> None:
     from ..gis.travel import _points, _restated
 
+    if args.model == "p-median" and args.within is not None:
+        raise UserError("--within is for --model cover; --model p-median opens -p sites")
+    if args.model == "cover" and args.p is not None:
+        raise UserError("-p is for --model p-median; --model cover opens the fewest sites reaching every row "
+                        "within --within")
     graph = _network(args)
     demand = read_points(args.input, args, "the demand", ("weight",))
     candidates = read_points(args.candidates, args, "the candidates", (), main=False)
