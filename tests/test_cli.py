@@ -284,6 +284,17 @@ def test_usage_errors_are_one_line(argv, capsys):
     assert_user_error(info.value.code, err)
 
 
+def test_a_weight_that_is_not_a_number_is_named_by_its_line(tmp_path, capsys):
+    path = tmp_path / "w.csv"
+    path.write_text("x,y,w\n0,0,1\n1,0,abc\n0,1,2\n")
+    # Reference: the file as written: 'abc' is on line 3 (the header is line 1). Before, the
+    # message said "at position 1", pandas' count from 0, which is no line of the file.
+    assert path.read_text().splitlines()[2].endswith(",abc")
+    code, _, err = run(["weber-point", path, "--planar", "--weight", "w"], capsys)
+    line = assert_user_error(code, err, "'abc' at row 3", "line numbers of")
+    assert "position" not in line
+
+
 @pytest.mark.parametrize("extra, words", [
     # Reference: each option's own --help text, which gives it effect only beside another.
     (["enclosing-circle", "--errors", "skip"], ("--errors skip", "--by")),  # "with --by: ..."
