@@ -284,6 +284,17 @@ def test_usage_errors_are_one_line(argv, capsys):
     assert_user_error(info.value.code, err)
 
 
+def test_a_file_with_a_crs_beside_planar_input_reads_as_english(tmp_path, capsys):
+    planar = tmp_path / "p.csv"
+    pd.DataFrame({"x": [0.0, 10, 0, 10], "y": [0.0, 0, 10, 10]}).to_csv(planar, index=False)
+    sites = tmp_path / "s.gpkg"
+    gpd.GeoDataFrame(geometry=gpd.points_from_xy([5.0], [5.0]), crs="EPSG:32632").to_file(sites)
+    code, _, err = run(["cover-most", planar, "--planar", "-p", "1", "--radius", "3", "--candidates", sites], capsys)
+    # Before: "candidates has one while the first the input has none".
+    line = assert_user_error(code, err, "while the first input has none")
+    assert "the first the input" not in line
+
+
 def test_a_weight_that_is_not_a_number_is_named_by_its_line(tmp_path, capsys):
     path = tmp_path / "w.csv"
     path.write_text("x,y,w\n0,0,1\n1,0,abc\n0,1,2\n")

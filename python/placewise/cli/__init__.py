@@ -126,6 +126,7 @@ def _in_cli_terms(exc: BaseException, args: argparse.Namespace) -> str:
     text = _one_line(exc).replace("planar=True is only for frames without one",
                                   "--planar is only for files without one")
     text = re.sub(r"\b(working|planar) frame\b", r"\1 projection", text).replace("every frame", "every input")
+    text = text.replace("the first frame", "the first input")
     text = re.sub(r"\bframes?\b", "the input", text).replace("planar=True", "--planar")
     # A kernel's argument names at the start of its message, as the command line spells them.
     text = re.sub(r"^(seed|p|tol|time_limit)\b", lambda m: "-p" if m[1] == "p" else "--" + m[1].replace("_", "-"),
