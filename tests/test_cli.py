@@ -295,6 +295,22 @@ def test_a_file_with_a_crs_beside_planar_input_reads_as_english(tmp_path, capsys
     assert "the first the input" not in line
 
 
+@pytest.mark.parametrize("command, extra, offers_by", [
+    (["cover-all"], ["--radius", "100000"], False), (["p-median"], ["-p", "2"], True)])
+def test_too_wide_data_advises_only_the_options_the_subcommand_has(tmp_path, capsys, command, extra, offers_by):
+    # 20 degrees of longitude at 45-55 N: beyond 0.1 % in any one transverse Mercator frame.
+    rng = np.random.default_rng(1)
+    path = tmp_path / "wide.csv"
+    pd.DataFrame({"lon": rng.uniform(0, 20, 50), "lat": rng.uniform(45, 55, 50)}).to_csv(path, index=False)
+    code, _, err = run([*command, path, *extra], capsys)
+    line = assert_user_error(code, err, "distorts distances", "--work-crs", "--max-scale-error")
+    # Reference: the subcommand's own --help, which lists --by for p-median and not for cover-all.
+    with pytest.raises(SystemExit):
+        main([*command, "--help"])
+    has_by = "--by" in capsys.readouterr().out
+    assert has_by == offers_by and ("--by" in line) == has_by
+
+
 def test_a_weight_that_is_not_a_number_is_named_by_its_line(tmp_path, capsys):
     path = tmp_path / "w.csv"
     path.write_text("x,y,w\n0,0,1\n1,0,abc\n0,1,2\n")

@@ -133,6 +133,8 @@ def _in_cli_terms(exc: BaseException, args: argparse.Namespace) -> str:
                   text)
     text = re.sub(r"^points\b", "the input", text)
     text = re.sub(r"\bby=", "--by", text)
+    if not hasattr(args, "by"):  # advice to split into groups only where the subcommand offers --by
+        text = re.sub(r"split the data into smaller groups \((by=|--by)\), ", "", text)
     text = re.sub(r"\b(work_crs|max_scale_error)\b=?", lambda m: "--" + m[1].replace("_", "-"), text)
     if args.labels and (getattr(exc, "row", None) is not None or re.search(r"\brows? \S|\w\[[^\]]+\]", text)):
         text += " (rows are " + "; ".join(f"{how} of {path}" for path, how in args.labels.items()) + ")"
