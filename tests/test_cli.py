@@ -311,6 +311,32 @@ def test_too_wide_data_advises_only_the_options_the_subcommand_has(tmp_path, cap
     assert has_by == offers_by and ("--by" in line) == has_by
 
 
+def test_a_distortion_warning_is_one_line_in_the_commands_terms(tmp_path, capsys):
+    # Parcels near easting 0 of UTM 32N, some 500 km west of its central meridian (9 E), where
+    # the zone's scale errs by about 0.3 % (from memory: k = k0 (1 + x^2 / 2R^2), k0 = 0.9996).
+    path = tmp_path / "parcels.gpkg"
+    boxes = [shapely.box(x, y, x + 40, y + 60) for x, y in [(0, 0), (500, 200), (900, 800), (300, 600)]]
+    gpd.GeoDataFrame({"w": [1.0, 2, 3, 4]}, geometry=boxes, crs="EPSG:32632").to_file(path)
+    # Without --centroids: the refusal names the option as the command line spells it.
+    code, _, err = run(["weber-point", path, "--weight", "w"], capsys)
+    line = assert_user_error(code, err, "--centroids")
+    assert "centroids=True" not in line
+    code, _, err = run(["weber-point", path, "--weight", "w", "--centroids", "-o", tmp_path / "best.csv"], capsys)
+    assert code == 0, err
+    warning = [line for line in err.splitlines() if "distorts distances" in line]
+    # Before: the interpreter's two lines, naming the placewise script's file and line, then
+    # "sys.exit(main())", and the library's keywords (work_crs=, max_scale_error=).
+    assert len(warning) == 1 and warning[0].startswith("placewise: warning: "), err
+    assert all(line.startswith("placewise") or line[0].isdigit() for line in err.splitlines()), err
+    assert "--work-crs" in warning[0] and "--max-scale-error" in warning[0] and "work_crs=" not in warning[0]
+    stated = float(re.search(r"up to ([\d.]+) %", warning[0]).group(1)) / 100
+    # Outside reference: PROJ's scale factors of UTM 32N at the parcels' centroids.
+    from pyproj import Proj, Transformer
+    lon, lat = Transformer.from_crs(32632, 4326, always_xy=True).transform([20.0, 520, 920, 320], [30.0, 230, 830, 630])
+    factors = Proj("EPSG:32632").get_factors(lon, lat)
+    assert stated == pytest.approx(float(np.max(np.abs(np.asarray(factors.meridional_scale) - 1))), rel=2e-2)
+
+
 def test_a_weight_that_is_not_a_number_is_named_by_its_line(tmp_path, capsys):
     path = tmp_path / "w.csv"
     path.write_text("x,y,w\n0,0,1\n1,0,abc\n0,1,2\n")
