@@ -180,6 +180,16 @@ def test_points_meet_the_kernel_in_the_tables_order(client, table):
         np.testing.assert_array_equal(summary["cost_u"].to_numpy(), ref.summary()["cost_u"].to_numpy())
 
 
+@pytest.mark.parametrize("kernel, by", [("enclosing_circle", "radius_u"), ("enclosing_circle", "problem"),
+                                        ("p_median", "site")])
+def test_a_group_column_named_as_a_result_column_is_refused(client, table, kernel, by):
+    # Before: a bare pandas ValueError ("cannot insert radius_u, already exists") on compute.
+    renamed = table.rename(columns={"district": by})
+    options = {"p": 2, "table": "sites"} if kernel == "p_median" else {}
+    with pytest.raises(pw.InputError, match=f"group column '{by}' has the name of a column of the result"):
+        pc.grouped(distributed_frame(renamed), kernel, x="east", y="north", by=by, **options).compute()
+
+
 def test_reserved_order_columns_are_refused(client, table):
     with pytest.raises(pw.InputError, match="reserved"):
         pc.grouped(distributed_frame(table.assign(__placewise_position=1)), "enclosing_circle", x="east",

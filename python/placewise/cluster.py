@@ -160,6 +160,9 @@ def _meta_frame(ddf: Any, kernel: str, weighted: bool, by: str, table: str, opti
     y = np.r_[0.0, 0.0, 1.0, 1.5, 0.4, 3 + np.sqrt(turn + 1) * np.sin(turn)]
     small = pd.DataFrame({"x": x, "y": y, "w": 1.0, "g": 0})
     frame = _solve(small, kernel, "x", "y", "w" if weighted else None, "g", table, "raise", options)
+    if by in frame.columns.drop("g"):
+        raise InputError(f"group column {by!r} has the name of a column of the result ({list(frame.columns[1:])}); "
+                         "rename it")
     frame = frame.rename(columns={"g": by}).iloc[:0]
     frame[by] = pd.Series(pd.array([], dtype=ddf._meta[by].dtype))
     frame["problem"] = frame["problem"].astype(object)
