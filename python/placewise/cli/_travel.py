@@ -14,10 +14,12 @@ from __future__ import annotations
 import argparse
 import warnings
 from collections.abc import Callable
+from types import SimpleNamespace
 from typing import Any
 
 import numpy as np
 
+from .._core import InputError
 from ._io import UserError, _note, _positive_float, _positive_int, _progress, read_points, write_frame
 
 
@@ -87,8 +89,18 @@ def _cmd_network_siting(args: argparse.Namespace) -> None:
             raise UserError("--within is needed with --model cover")
         model, options = "cover_all", {"radius": args.within}
     labels = {"points": p_labels, "weights": p_labels}
-    plan = _restated(lambda: graph.choose_sites(model, p, c, weights, limit=args.limit, max_gap=args.max_gap,
-                                                **options, **_progress(args)), labels)
+    try:
+        plan = _restated(lambda: graph.choose_sites(model, p, c, weights, limit=args.limit, max_gap=args.max_gap,
+                                                    **options, **_progress(args)), labels)
+    except InputError as exc:
+        from ..gis.coverage import _candidate_named
+
+        # The kernel's candidate column named by the candidates' row label (as gis.cover_all
+        # does); the covering model's "radius" is --within here.
+        named = _candidate_named(exc, SimpleNamespace(rows=c_labels), None)
+        if args.model != "cover" or not str(named).startswith("radius: "):
+            raise named from None
+        raise UserError("--within: " + str(named)[len("radius: "):].replace("within radius ", "within ")) from None
     opened = np.asarray(plan.open)
     out = candidates.iloc[opened].copy()
     # The plan's own per-site tallies; ``assignment`` is a row of the open sites (-1: none).
