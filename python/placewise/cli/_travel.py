@@ -97,7 +97,8 @@ def _cmd_network_siting(args: argparse.Namespace) -> None:
 
         # The kernel's candidate column named by the candidates' row label (as gis.cover_all
         # does); the covering model's "radius" is --within here.
-        named = _candidate_named(exc, SimpleNamespace(rows=c_labels), None)
+        candidates_rows: Any = SimpleNamespace(rows=c_labels)  # what the helper reads of a prepared frame
+        named = _candidate_named(exc, candidates_rows, None)
         if args.model != "cover" or not str(named).startswith("radius: "):
             raise named from None
         raise UserError("--within: " + str(named)[len("radius: "):].replace("within radius ", "within ")) from None
