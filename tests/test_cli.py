@@ -284,6 +284,84 @@ def test_usage_errors_are_one_line(argv, capsys):
     assert_user_error(info.value.code, err)
 
 
+def test_a_file_with_a_crs_beside_planar_input_reads_as_english(tmp_path, capsys):
+    planar = tmp_path / "p.csv"
+    pd.DataFrame({"x": [0.0, 10, 0, 10], "y": [0.0, 0, 10, 10]}).to_csv(planar, index=False)
+    sites = tmp_path / "s.gpkg"
+    gpd.GeoDataFrame(geometry=gpd.points_from_xy([5.0], [5.0]), crs="EPSG:32632").to_file(sites)
+    code, _, err = run(["cover-most", planar, "--planar", "-p", "1", "--radius", "3", "--candidates", sites], capsys)
+    # Before: "candidates has one while the first the input has none".
+    line = assert_user_error(code, err, "while the first input has none")
+    assert "the first the input" not in line
+
+
+@pytest.mark.parametrize("command, extra, offers_by", [
+    (["cover-all"], ["--radius", "100000"], False), (["p-median"], ["-p", "2"], True)])
+def test_too_wide_data_advises_only_the_options_the_subcommand_has(tmp_path, capsys, command, extra, offers_by):
+    # 20 degrees of longitude at 45-55 N: beyond 0.1 % in any one transverse Mercator frame.
+    rng = np.random.default_rng(1)
+    path = tmp_path / "wide.csv"
+    pd.DataFrame({"lon": rng.uniform(0, 20, 50), "lat": rng.uniform(45, 55, 50)}).to_csv(path, index=False)
+    code, _, err = run([*command, path, *extra], capsys)
+    line = assert_user_error(code, err, "distorts distances", "--work-crs", "--max-scale-error")
+    # Reference: the subcommand's own --help, which lists --by for p-median and not for cover-all.
+    with pytest.raises(SystemExit):
+        main([*command, "--help"])
+    has_by = "--by" in capsys.readouterr().out
+    assert has_by == offers_by and ("--by" in line) == has_by
+
+
+def test_a_distortion_warning_is_one_line_in_the_commands_terms(tmp_path, capsys):
+    # Parcels near easting 0 of UTM 32N, some 500 km west of its central meridian (9 E), where
+    # the zone's scale errs by about 0.3 % (from memory: k = k0 (1 + x^2 / 2R^2), k0 = 0.9996).
+    path = tmp_path / "parcels.gpkg"
+    boxes = [shapely.box(x, y, x + 40, y + 60) for x, y in [(0, 0), (500, 200), (900, 800), (300, 600)]]
+    gpd.GeoDataFrame({"w": [1.0, 2, 3, 4]}, geometry=boxes, crs="EPSG:32632").to_file(path)
+    # Without --centroids: the refusal names the option as the command line spells it.
+    code, _, err = run(["weber-point", path, "--weight", "w"], capsys)
+    line = assert_user_error(code, err, "--centroids")
+    assert "centroids=True" not in line
+    code, _, err = run(["weber-point", path, "--weight", "w", "--centroids", "-o", tmp_path / "best.csv"], capsys)
+    assert code == 0, err
+    warning = [line for line in err.splitlines() if "distorts distances" in line]
+    # Before: the interpreter's two lines, naming the placewise script's file and line, then
+    # "sys.exit(main())", and the library's keywords (work_crs=, max_scale_error=).
+    assert len(warning) == 1 and warning[0].startswith("placewise: warning: "), err
+    assert all(line.startswith("placewise") or line[0].isdigit() for line in err.splitlines()), err
+    assert "--work-crs" in warning[0] and "--max-scale-error" in warning[0] and "work_crs=" not in warning[0]
+    stated = float(re.search(r"up to ([\d.]+) %", warning[0]).group(1)) / 100
+    # Outside reference: PROJ's scale factors of UTM 32N at the parcels' centroids.
+    from pyproj import Proj, Transformer
+    lon, lat = Transformer.from_crs(32632, 4326, always_xy=True).transform([20.0, 520, 920, 320], [30.0, 230, 830, 630])
+    factors = Proj("EPSG:32632").get_factors(lon, lat)
+    assert stated == pytest.approx(float(np.max(np.abs(np.asarray(factors.meridional_scale) - 1))), rel=2e-2)
+
+
+def test_a_weight_that_is_not_a_number_is_named_by_its_line(tmp_path, capsys):
+    path = tmp_path / "w.csv"
+    path.write_text("x,y,w\n0,0,1\n1,0,abc\n0,1,2\n")
+    # Reference: the file as written: 'abc' is on line 3 (the header is line 1). Before, the
+    # message said "at position 1", pandas' count from 0, which is no line of the file.
+    assert path.read_text().splitlines()[2].endswith(",abc")
+    code, _, err = run(["weber-point", path, "--planar", "--weight", "w"], capsys)
+    line = assert_user_error(code, err, "'abc' at row 3", "line numbers of")
+    assert "position" not in line
+
+
+@pytest.mark.parametrize("extra, words", [
+    # Reference: each option's own --help text, which gives it effect only beside another.
+    (["enclosing-circle", "--errors", "skip"], ("--errors skip", "--by")),  # "with --by: ..."
+    (["delaunay", "--errors", "skip"], ("--errors skip", "--by")),
+    (["voronoi-cells", "--weight", "people"], ("--weight", "--demand")),  # weighs the demand rows
+    (["steiner-tree", "--heuristic", "--time-limit", "5"], ("--time-limit", "--heuristic")),  # "for the exact search"
+])
+def test_options_that_would_act_on_nothing_are_refused(csv_path, capsys, extra, words):
+    # Before, each run ended with status 0 and a result the option had no part in: the
+    # option was read and dropped without a word.
+    code, _, err = run([extra[0], *utm(csv_path), *extra[1:]], capsys)
+    assert_user_error(code, err, *words)
+
+
 def test_every_kernel_has_a_subcommand(capsys):
     with pytest.raises(SystemExit):
         main(["--help"])

@@ -3,6 +3,8 @@ scipy.sparse.csgraph.dijkstra on a graph built here from the same lines."""
 
 from __future__ import annotations
 
+import re
+
 import numpy as np
 import pytest
 
@@ -107,6 +109,39 @@ def test_network_siting_p_median_is_optimal_on_scipy_costs(files, capsys):
     assert np.isclose(float((got["people"] * got["cost_m"]).sum()), best, rtol=1e-12)
     assert len(chosen) == 2 and chosen["load"].sum() == w.sum()
 
+
+
+@pytest.mark.parametrize("extra, words", [
+    # Reference: the --help text: -p is the p-median's number of sites, --within the cover's cost.
+    (["--model", "cover", "--within", "500", "-p", "2"], ("-p", "--model p-median")),
+    (["-p", "2", "--within", "500"], ("--within", "--model cover")),
+])
+def test_network_siting_refuses_the_other_models_option(files, capsys, extra, words):
+    # Before, the other model's option was accepted and dropped: status 0, a plan it had no part in.
+    path, *_ = files
+    code = main(["network-siting", str(path / "homes.csv"), "--crs", CRS, "--network", str(path / "streets.geojson"),
+                 "--candidates", str(path / "depots.csv"), *extra])
+    err = capsys.readouterr().err
+    assert code == 2 and len(err.strip().splitlines()) == 1, err
+    assert all(word in err for word in words), err
+
+
+def test_network_siting_cover_names_the_cheapest_candidate_by_its_line(files, capsys):
+    path, homes, depots, costs = files
+    c = costs[np.ix_(depots, homes)]  # scipy's costs, candidate -> home (as the p-median test reads them)
+    within = float(c.min(axis=0).max()) - 1.0  # the worst-served home is out of reach
+    first = int(np.flatnonzero(c.min(axis=0) > within)[0])
+    code = main(["network-siting", str(path / "homes.csv"), "--crs", CRS, "--network", str(path / "streets.geojson"),
+                 "--one-way", "oneway", "--candidates", str(path / "depots.csv"), "--model", "cover",
+                 "--within", str(within)])
+    err = capsys.readouterr().err
+    assert code == 2 and len(err.strip().splitlines()) == 1, err
+    # Rows are CSV line numbers (header on line 1). Before: "radius: ... within radius ...;
+    # its cheapest candidate, column 2", a position among the candidates.
+    assert f"--within: points[{first + 2}] has no candidate within" in err, err
+    named = re.search(r"its cheapest candidate, row (\d+), costs ([\d.]+)", err)
+    assert named is not None, err
+    assert c[int(named[1]) - 2, first] == c[:, first].min() == float(named[2])  # a cheapest one (ties alike)
 
 
 def test_network_siting_names_each_homes_depot_and_tallies_its_sites(files, capsys):

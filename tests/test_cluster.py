@@ -149,8 +149,8 @@ def test_p_median_sites_are_numbered_per_group_and_serve_the_nearest_rows(client
 
 
 def test_partitioning_changes_nothing(client, table):
-    # Reference: the in-memory groups= call on the whole table (rows in index order).
-    ordered = table.sort_index()
+    # Reference: the in-memory groups= call on the whole table (rows in the table's order).
+    ordered = table
     ref = pw.minimax_point(ordered[["east", "north"]].to_numpy(), ordered["people"].to_numpy(),
                            groups=ordered["district"].to_numpy())
     for partitions in (1, 4, 9):
@@ -159,6 +159,41 @@ def test_partitioning_changes_nothing(client, table):
         np.testing.assert_array_equal(out["district"].to_numpy(), ref.labels)
         np.testing.assert_array_equal(out["weighted_radius_u"].to_numpy(), ref.weighted_radius)
         np.testing.assert_array_equal(out[["x", "y"]].to_numpy(), ref.location)
+
+
+def test_points_meet_the_kernel_in_the_tables_order(client, table):
+    # The table's index is shuffled (not sorted): the in-memory groups= call on the table as it
+    # stands (pw.p_median, itself checked against scipy.optimize.milp in its own tests) sees
+    # each group's points in row order, and the distributed run must answer bit for bit the
+    # same. Before, each partition re-sorted its rows by index label, so the randomised search
+    # met the points in another order and the plans differed in their last bits.
+    assert not table.index.is_monotonic_increasing
+    ref = pw.p_median(table[["east", "north"]].to_numpy(), 2, table["people"].to_numpy(),
+                      groups=table["district"].to_numpy())
+    own = ref.to_frame().set_index(table.index)
+    for partitions in (1, 4):
+        rows = computed(pc.grouped(distributed_frame(table, partitions), "p_median", x="east", y="north",
+                                   weight="people", by="district", p=2))
+        np.testing.assert_array_equal(rows.loc[table.index, "distance_u"].to_numpy(), own["distance_u"].to_numpy())
+        summary = computed(pc.grouped(distributed_frame(table, partitions), "p_median", x="east", y="north",
+                                      weight="people", by="district", p=2, table="summary")).sort_values("district")
+        np.testing.assert_array_equal(summary["cost_u"].to_numpy(), ref.summary()["cost_u"].to_numpy())
+
+
+@pytest.mark.parametrize("kernel, by", [("enclosing_circle", "radius_u"), ("enclosing_circle", "problem"),
+                                        ("p_median", "site")])
+def test_a_group_column_named_as_a_result_column_is_refused(client, table, kernel, by):
+    # Before: a bare pandas ValueError ("cannot insert radius_u, already exists") on compute.
+    renamed = table.rename(columns={"district": by})
+    options = {"p": 2, "table": "sites"} if kernel == "p_median" else {}
+    with pytest.raises(pw.InputError, match=f"group column '{by}' has the name of a column of the result"):
+        pc.grouped(distributed_frame(renamed), kernel, x="east", y="north", by=by, **options).compute()
+
+
+def test_reserved_order_columns_are_refused(client, table):
+    with pytest.raises(pw.InputError, match="reserved"):
+        pc.grouped(distributed_frame(table.assign(__placewise_position=1)), "enclosing_circle", x="east",
+                   y="north", by="district")
 
 
 # ---------------------------------------------------------------- one- and two-point groups

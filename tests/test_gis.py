@@ -298,6 +298,16 @@ def test_non_numeric_weight_column():
         gis.weber_point(frame, "label")
 
 
+def test_a_value_that_is_not_a_number_is_named_by_its_row_label():
+    # The frame's own label of the row (as the user's frame prints it), not pandas' count of
+    # positions from 0 (which named position 2 here: a row the frame has no label for).
+    frame = lonlat_frame().iloc[:4].set_axis(["a", "b", "c", "d"])
+    frame["visits"] = pd.Series([1, 2, "three", 4], index=frame.index, dtype=object)
+    with pytest.raises(pw.InputError, match=r"weight column 'visits' is not numeric: 'three' at row 'c'") as info:
+        gis.weber_point(frame, "visits")
+    assert info.value.row == "c" and frame.loc["c", "visits"] == "three"
+
+
 @pytest.mark.parametrize("name,make", BAD_WEIGHTS, ids=[b[0] for b in BAD_WEIGHTS])
 def test_bad_weights_are_input_errors_with_plain_numbers(name, make):
     frame = lonlat_frame(n=20)

@@ -42,6 +42,9 @@ _WEIGHTED = {"weber_point", "minimax_point", "p_median", "p_center"}
 # labels), and their sites are numbered within each group.
 _PLANS = {"p_median", "p_center"}
 _TABLES = ("frame", "summary", "sites")
+# Each row's place in the table (its partition, its position there), carried through the
+# shuffle so that every group sees its points in the table's own order.
+_ORDER = ["__placewise_partition", "__placewise_position"]
 
 
 def _require_dask() -> Any:
@@ -104,9 +107,11 @@ def _solve(part: Any, kernel: str, x: str, y: str, weight: str | None, by: str, 
     import pandas as pd
 
     fn = _kernel(kernel)
-    # The shuffle does not keep row order; restoring the table's index order makes every
-    # group see its points in the order the in-memory call would, whatever the partitioning.
-    part = part.sort_index(kind="stable")
+    # The shuffle does not keep row order; restoring the table's own order (partition by
+    # partition, as ``ddf.compute()`` lists the rows) makes every group see its points in the
+    # order the in-memory call on the table would, whatever the partitioning and the index.
+    if _ORDER[0] in part.columns:
+        part = part.sort_values(_ORDER, kind="stable").drop(columns=_ORDER)
     missing = part[by].isna().to_numpy()
     if missing.any():
         row = plain(part.index[int(np.argmax(missing))])
@@ -155,6 +160,9 @@ def _meta_frame(ddf: Any, kernel: str, weighted: bool, by: str, table: str, opti
     y = np.r_[0.0, 0.0, 1.0, 1.5, 0.4, 3 + np.sqrt(turn + 1) * np.sin(turn)]
     small = pd.DataFrame({"x": x, "y": y, "w": 1.0, "g": 0})
     frame = _solve(small, kernel, "x", "y", "w" if weighted else None, "g", table, "raise", options)
+    if by in frame.columns.drop("g"):
+        raise InputError(f"group column {by!r} has the name of a column of the result ({list(frame.columns[1:])}); "
+                         "rename it")
     frame = frame.rename(columns={"g": by}).iloc[:0]
     frame[by] = pd.Series(pd.array([], dtype=ddf._meta[by].dtype))
     frame["problem"] = frame["problem"].astype(object)
@@ -182,7 +190,8 @@ def grouped(
 
     The frame may be partitioned any way: it is shuffled so that each group's rows meet in
     one partition, then every partition runs the in-memory ``groups=`` call once. The
-    result equals that call's table on the whole table.
+    result equals that call's table on the whole table (``ddf.compute()``, its rows in that
+    order: each group sees its points in the table's order, whatever the index).
 
     Parameters
     ----------
@@ -241,7 +250,16 @@ def grouped(
     meta = _meta_frame(ddf, kernel, weight is not None, by, table, options)
     run = functools.partial(_solve_or_meta, kernel=kernel, x=x, y=y, weight=weight, by=by, table=table,
                             errors=errors, options=options, meta=meta)
-    return ddf.shuffle(on=by).map_partitions(run, meta=meta)
+    if any(name in ddf.columns for name in _ORDER):
+        raise InputError(f"columns {_ORDER} are reserved for the row order; rename them")
+    return ddf.map_partitions(_numbered).shuffle(on=by).map_partitions(run, meta=meta)
+
+
+def _numbered(part: Any, partition_info: dict[str, Any] | None = None) -> Any:
+    """The partition with each row's place in the table (partition number, position)."""
+    number = 0 if partition_info is None else int(partition_info["number"])
+    return part.assign(**{_ORDER[0]: np.full(len(part), number, dtype=np.int64),
+                          _ORDER[1]: np.arange(len(part), dtype=np.int64)})
 
 
 def _solve_or_meta(part: Any, meta: Any, **arguments: Any) -> Any:

@@ -29,6 +29,7 @@ import argparse
 import os
 import re
 import sys
+import warnings
 from collections.abc import Callable, Sequence
 from types import SimpleNamespace
 
@@ -126,16 +127,29 @@ def _in_cli_terms(exc: BaseException, args: argparse.Namespace) -> str:
     text = _one_line(exc).replace("planar=True is only for frames without one",
                                   "--planar is only for files without one")
     text = re.sub(r"\b(working|planar) frame\b", r"\1 projection", text).replace("every frame", "every input")
+    text = text.replace("the first frame", "the first input").replace("centroids=True", "--centroids")
     text = re.sub(r"\bframes?\b", "the input", text).replace("planar=True", "--planar")
     # A kernel's argument names at the start of its message, as the command line spells them.
     text = re.sub(r"^(seed|p|tol|time_limit)\b", lambda m: "-p" if m[1] == "p" else "--" + m[1].replace("_", "-"),
                   text)
     text = re.sub(r"^points\b", "the input", text)
     text = re.sub(r"\bby=", "--by", text)
+    if not hasattr(args, "by"):  # advice to split into groups only where the subcommand offers --by
+        text = re.sub(r"split the data into smaller groups \((by=|--by)\), ", "", text)
     text = re.sub(r"\b(work_crs|max_scale_error)\b=?", lambda m: "--" + m[1].replace("_", "-"), text)
     if args.labels and (getattr(exc, "row", None) is not None or re.search(r"\brows? \S|\w\[[^\]]+\]", text)):
         text += " (rows are " + "; ".join(f"{how} of {path}" for path, how in args.labels.items()) + ")"
     return text
+
+
+def _warning_line(args: argparse.Namespace) -> Callable[..., None]:
+    """A warning raised during a run, shown as one line in the command line's terms (the
+    interpreter's form names a file and line of the ``placewise`` script, then prints it)."""
+
+    def show(message: Warning | str, category: type[Warning], *_: object, **__: object) -> None:
+        print(f"placewise: warning: {_in_cli_terms(Exception(str(message)), args)}", file=sys.stderr)
+
+    return show
 
 
 def _quiet_stdout() -> None:
@@ -168,7 +182,11 @@ def main(argv: Sequence[str] | None = None) -> int:
 
         try:
             _check_crs(args)
-            args.run(args)
+            if getattr(args, "errors", "raise") == "skip" and getattr(args, "by", None) is None:
+                raise UserError("--errors skip keeps groups without an answer: it needs --by COLUMN")
+            with warnings.catch_warnings():
+                warnings.showwarning = _warning_line(args)
+                args.run(args)
             sys.stdout.flush()
         except BrokenPipeError:
             raise

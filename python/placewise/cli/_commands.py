@@ -87,6 +87,8 @@ def _cmd_enclosing_ellipse(args: argparse.Namespace) -> None:
 def _cmd_voronoi_cells(args: argparse.Namespace) -> None:
     from .. import gis
 
+    if args.weight is not None and args.demand is None:
+        raise UserError("--weight weighs the rows of --demand: give --demand FILE with it")
     sites = read_points(args.input, args, "the sites", ())
     region = None if args.region is None else read_points(args.region, args, "the region", (), main=False)
     demand = None if args.demand is None else read_points(args.demand, args, "the demand", ("weight",), main=False)
@@ -151,6 +153,8 @@ def _cmd_steiner_tree(args: argparse.Namespace) -> None:
     from .. import gis
 
     options: dict[str, Any] = {"exact": args.exact, "seed": args.seed, **_progress(args)}
+    if args.time_limit is not None and args.exact is False:
+        raise UserError("--time-limit bounds the exact search, which --heuristic skips: give one of them")
     if args.time_limit is not None:
         options["time_limit"] = args.time_limit
     net = gis.steiner_tree(read_points(args.input, args), **_by(args), **_common(args), **options)

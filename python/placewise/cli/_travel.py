@@ -14,10 +14,12 @@ from __future__ import annotations
 import argparse
 import warnings
 from collections.abc import Callable
+from types import SimpleNamespace
 from typing import Any
 
 import numpy as np
 
+from .._core import InputError
 from ._io import UserError, _note, _positive_float, _positive_int, _progress, read_points, write_frame
 
 
@@ -67,6 +69,11 @@ def _cmd_travel_costs(args: argparse.Namespace) -> None:
 def _cmd_network_siting(args: argparse.Namespace) -> None:
     from ..gis.travel import _points, _restated
 
+    if args.model == "p-median" and args.within is not None:
+        raise UserError("--within is for --model cover; --model p-median opens -p sites")
+    if args.model == "cover" and args.p is not None:
+        raise UserError("-p is for --model p-median; --model cover opens the fewest sites reaching every row "
+                        "within --within")
     graph = _network(args)
     demand = read_points(args.input, args, "the demand", ("weight",))
     candidates = read_points(args.candidates, args, "the candidates", (), main=False)
@@ -82,8 +89,19 @@ def _cmd_network_siting(args: argparse.Namespace) -> None:
             raise UserError("--within is needed with --model cover")
         model, options = "cover_all", {"radius": args.within}
     labels = {"points": p_labels, "weights": p_labels}
-    plan = _restated(lambda: graph.choose_sites(model, p, c, weights, limit=args.limit, max_gap=args.max_gap,
-                                                **options, **_progress(args)), labels)
+    try:
+        plan = _restated(lambda: graph.choose_sites(model, p, c, weights, limit=args.limit, max_gap=args.max_gap,
+                                                    **options, **_progress(args)), labels)
+    except InputError as exc:
+        from ..gis.coverage import _candidate_named
+
+        # The kernel's candidate column named by the candidates' row label (as gis.cover_all
+        # does); the covering model's "radius" is --within here.
+        candidates_rows: Any = SimpleNamespace(rows=c_labels)  # what the helper reads of a prepared frame
+        named = _candidate_named(exc, candidates_rows, None)
+        if args.model != "cover" or not str(named).startswith("radius: "):
+            raise named from None
+        raise UserError("--within: " + str(named)[len("radius: "):].replace("within radius ", "within ")) from None
     opened = np.asarray(plan.open)
     out = candidates.iloc[opened].copy()
     # The plan's own per-site tallies; ``assignment`` is a row of the open sites (-1: none).

@@ -622,6 +622,19 @@ def column(frame: Any, spec: Any, name: str, what: str) -> np.ndarray:
     try:
         numbers = pd.to_numeric(pd.Series(np.asarray(values)), errors="raise")
     except (ValueError, TypeError) as exc:
+        # Name the first value that is not a number by the frame's own row label (pandas'
+        # message counts positions from 0, which name no row the caller knows).
+        raw = pd.Series(np.asarray(values, dtype=object))
+        try:
+            failed = (pd.to_numeric(raw, errors="coerce").isna() & raw.notna()).to_numpy()
+        except (ValueError, TypeError):
+            failed = np.zeros(len(raw), dtype=bool)
+        if failed.any():
+            at = int(np.argmax(failed))
+            error = InputError(f"{name}: {label} is not numeric: {plain(raw.iloc[at])!r} at row "
+                               f"{plain(frame.index[at])!r}")
+            error.row = plain(frame.index[at])
+            raise error from None
         raise InputError(f"{name}: {label} is not numeric ({exc})") from exc
     if numbers.dtype.kind == "c":  # the cast below would drop the imaginary part with a warning only
         raise InputError(f"{name}: {label} holds complex values; it must hold real numbers")
