@@ -197,6 +197,24 @@ def test_degrees_in_a_projected_crs_warning_points_at_the_callers_line():
         assert len(said) == 1 and said[0].filename == __file__, [(w.filename, w.lineno) for w in said]
 
 
+def test_a_chosen_work_crs_that_distorts_lonlat_data_is_said():
+    # Longitude/latitude input at 60-61° N with work_crs Web Mercator: its scale factor is
+    # sec(latitude), so distances there are up to sec(61°) - 1 = 106 % long (closed form).
+    # It was only in the scale_error column; now also a warning, as for projected input.
+    rng = np.random.default_rng(1)
+    lat = 60 + rng.random(30)
+    frame = gpd.GeoSeries(gpd.points_from_xy(10 + 3 * rng.random(30), lat), crs="EPSG:4326")
+    expected = 1 / np.cos(np.radians(lat.max())) - 1
+    with pytest.warns(UserWarning, match=r"'WGS 84 / Pseudo-Mercator' distorts distances by up to 10[56] %") as said:
+        out = gis.weber_point(frame, work_crs="EPSG:3857")
+    assert out["scale_error"].iloc[0] == pytest.approx(expected, rel=0.01)
+    assert said[0].filename == __file__
+    # A suitable zone stays silent (UTM 33N over 10-13° E: at most about 5e-4).
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        assert gis.weber_point(frame, work_crs="EPSG:32633")["scale_error"].iloc[0] < 1e-3
+
+
 def test_a_feet_crs_names_its_unit():
     # EPSG:2263 (New York Long Island) is in US survey feet: columns say so, values are feet.
     frame = lonlat_frame(n=40, lon=-73.9, lat=40.75, spread=0.02).to_crs("EPSG:2263")

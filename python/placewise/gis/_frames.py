@@ -274,8 +274,6 @@ def _warn_distorting_crs(xy: np.ndarray, name: str, work: Any, max_scale_error: 
     Mercator away from the equator, an equal-area projection over a continent, a zone used
     far outside its area), every distance and cost comes out scaled by up to that much, so
     say so with the measured figure instead of letting ``cost_m`` pass for true metres."""
-    import warnings
-
     from pyproj import Transformer
 
     finite = np.isfinite(xy).all(axis=1)
@@ -290,17 +288,25 @@ def _warn_distorting_crs(xy: np.ndarray, name: str, work: Any, max_scale_error: 
         return
     if not np.isfinite(errors).any():
         return
-    error = float(np.nanmax(errors))
-    if error > max_scale_error:
-        advice = ("choose a work_crs suited to the area" if chosen else
-                  "pass work_crs= with a projection suited to the area (a UTM zone, a national grid)")
-        warnings.warn(
-            f"{name}: the working CRS {CRS(work).name!r} distorts distances by up to {100 * error:.3g} % over "
-            f"these points (more than the {100 * max_scale_error:.3g} % of max_scale_error); distances, "
-            f"costs and radii are in its units ({unit_of(work)}) and differ from true lengths by that much. "
-            f"For true lengths {advice}, or raise max_scale_error= to accept them",
-            UserWarning, stacklevel=_caller_level(),
-        )
+    _say_distortion(name, work, float(np.nanmax(errors)), max_scale_error, chosen)
+
+
+def _say_distortion(name: str, work: Any, error: float, max_scale_error: float, chosen: bool) -> None:
+    """Warn when the working CRS ``work`` (the caller's own, or ``chosen`` as ``work_crs``)
+    distorts distances over the data by ``error`` (relative) beyond ``max_scale_error``."""
+    import warnings
+
+    if not error > max_scale_error:
+        return
+    advice = ("choose a work_crs suited to the area" if chosen else
+              "pass work_crs= with a projection suited to the area (a UTM zone, a national grid)")
+    warnings.warn(
+        f"{name}: the working CRS {CRS(work).name!r} distorts distances by up to {100 * error:.3g} % over "
+        f"these points (more than the {100 * max_scale_error:.3g} % of max_scale_error); distances, "
+        f"costs and radii are in its units ({unit_of(work)}) and differ from true lengths by that much. "
+        f"For true lengths {advice}, or raise max_scale_error= to accept them",
+        UserWarning, stacklevel=_caller_level(),
+    )
 
 
 def _caller_level() -> int:
@@ -512,6 +518,10 @@ def prepare(
             "the whole area, or raise max_scale_error="
         )
     _refuse_unprojected(frame, xy, name, work, InputError)
+    if work_crs is not None:
+        # The caller's own working CRS is used as given, wide or not: said when it distorts,
+        # as for projected input, not only in the scale_error column.
+        _say_distortion(name, work, error, max_scale_error, chosen=True)
     return Prepared(frame, xy, frame.crs, work, error, groups)
 
 
