@@ -582,6 +582,30 @@ def test_voronoi_cells_tile_a_region_with_a_hole_and_carry_loads():
     assert cells["points"].tolist() == np.bincount(nearest, minlength=4).tolist()
 
 
+def test_a_group_column_named_like_a_result_column_is_refused():
+    # by="problem" overwrote the group values with the problem text (None), and by="load" on
+    # a plan failed with pandas' "cannot insert load, already exists". Reference: the
+    # result's own column names, listed in the message.
+    rng = np.random.default_rng(1)
+    frame = gpd.GeoDataFrame({"problem": [0] * 10 + [1] * 10, "load": [0] * 10 + [1] * 10,
+                              "zone": [0] * 10 + [1] * 10},
+                             geometry=gpd.points_from_xy(rng.random(20), rng.random(20)))
+    for call in (lambda: gis.enclosing_circle(frame, by="problem", planar=True),
+                 lambda: gis.p_median(frame, 1, by="load", planar=True)):
+        with pytest.raises(pw.InputError, match="by: the group column .* has the name of a column of the result"):
+            call()
+    out = gis.enclosing_circle(frame, by="zone", planar=True)
+    assert out["zone"].tolist() == [0, 1] and out["problem"].isna().all()
+
+
+def test_voronoi_weight_without_demand_is_refused():
+    # Weights weigh demand rows; without demand= they used to be dropped without a word.
+    sites = gpd.GeoDataFrame({"people": [3.0, 4.0]}, geometry=gpd.points_from_xy([1, 3], [1, 1]))
+    with pytest.raises(pw.InputError, match="weight applies to the demand rows") as caught:
+        gis.voronoi_cells(sites, shapely.box(0, 0, 4, 2), weight="people", planar=True)
+    assert caught.value.argument == "weight"
+
+
 def test_voronoi_region_in_another_crs_is_projected():
     sites = lonlat_frame(n=12)
     region = gpd.GeoSeries([sites.union_all().convex_hull.buffer(0.05)], crs="EPSG:4326").to_crs("EPSG:3035")

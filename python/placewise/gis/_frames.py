@@ -754,6 +754,12 @@ def in_user_terms(
     code = table["group"].to_numpy(dtype=np.int64)
     problems = restate_problems(result.problem_detail, groups.values, rows)
     table = table.drop(columns=["group", "problem"])
+    taken = {*table.columns, "problem", *(["points"] if count else []),
+             *(prepared.model(code) if prepared is not None else {})}
+    if groups.name in taken:
+        # The group values would overwrite, or be overwritten by, a result column.
+        raise InputError(f"by: the group column {groups.name!r} has the name of a column of the result "
+                         f"({', '.join(sorted(map(str, taken)))}); rename it")
     table.insert(0, groups.name, groups.values.take(code).to_numpy())
     if count:
         table.insert(1, "points", groups.counts[code])

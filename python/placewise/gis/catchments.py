@@ -18,6 +18,7 @@ except ImportError:  # pragma: no cover - exercised only without the extra
 import placewise as _pw
 
 from .._core import InputError
+from .._errors import refuse
 from .._progress import Stages
 from .._sphere import SPHERE_MODEL
 from ._frames import (
@@ -185,6 +186,10 @@ def voronoi_cells(
     >>> cells["area_u2"].round(9).tolist()
     [4.0, 4.0]
     """
+    if weight is not None and demand is None:
+        # The weights belong to the demand rows; without them they would weigh nothing.
+        refuse("weight", "weight applies to the demand rows: pass demand= with it (the cells' loads are the "
+               "summed weight of the demand each cell serves)")
     model = {"work_crs": work_crs, "max_scale_error": max_scale_error}
     pf = prepare_or_sphere(sites, "sites", planar=planar, centroids=centroids, by=by, region=region, **model)
     if pf.ellipsoid:
