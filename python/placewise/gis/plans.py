@@ -37,8 +37,10 @@ class SitePlan(NamedTuple):
     ----------
     sites : GeoDataFrame
         One point per site with its ``load`` (summed weight) and ``points`` (rows served);
-        for plans also ``x``, ``y`` and ``fixed`` (an existing site). Its index labels name
-        the sites.
+        for plans also ``x``, ``y`` (the site's coordinates in the working CRS: metres of the
+        UTM zone or other frame named by the summary's ``work_crs`` for longitude/latitude
+        input, whose geometry stays in degrees) and ``fixed`` (an existing site). Its index
+        labels name the sites.
     demand : GeoDataFrame
         A copy of the demand frame with ``site`` (the index label of the serving row of
         ``sites``) and ``distance_<unit>`` (to that site, in the working CRS's unit).
@@ -284,7 +286,8 @@ def p_median(
     Returns
     -------
     SitePlan
-        ``sites`` (points with ``x``, ``y``, ``load``, ``points``, ``fixed``), ``demand``
+        ``sites`` (points with ``x``, ``y`` in the working CRS, ``load``, ``points``,
+        ``fixed``), ``demand``
         (a copy with ``site`` and ``distance_<unit>``) and ``summary`` (``cost_<unit>``).
         With candidates the tables are those of :func:`placewise.gis.cover_all`: every
         site names its ``source`` ("candidates" or "fixed") and ``source_row`` (its row
