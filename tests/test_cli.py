@@ -572,6 +572,17 @@ def test_planar_with_crs_is_refused(csv_path, capsys):
     assert_user_error(info.value.code, err, "--planar", "--crs")
 
 
+def test_max_scale_error_with_planar_is_refused(tmp_path, capsys):
+    # Nothing is projected with --planar, so the bound had no part in the run (status 0
+    # before). Reference: the option's own --help (a bound on the working projection).
+    path = tmp_path / "pts.csv"
+    path.write_text("x,y\n0,0\n4,0\n0,3\n")
+    code, _, err = run(["weber-point", path, "--planar", "--max-scale-error", "0.01"], capsys)
+    assert_user_error(code, err, "--max-scale-error", "--planar")
+    code, _, err = run(["weber-point", path, "--planar"], capsys)
+    assert code == 0, err
+
+
 def test_planar_geojson_is_refused_and_gpkg_keeps_no_crs(csv_path, tmp_path, capsys):
     code, _, err = run(["enclosing-circle", csv_path, "--planar", "-o", tmp_path / "c.geojson"], capsys)
     assert_user_error(code, err, "GeoJSON", "longitude/latitude", ".gpkg")

@@ -82,7 +82,7 @@ def build_parser() -> argparse.ArgumentParser:
                        "coordinate units")
     io.add_argument("--work-crs", metavar="CRS", help="projected CRS to compute in for longitude/latitude input "
                     "[each group's own UTM zone]")
-    io.add_argument("--max-scale-error", type=_positive_float, default=1e-3, metavar="FRACTION",
+    io.add_argument("--max-scale-error", type=_positive_float, metavar="FRACTION",
                     help="largest distortion of distances allowed in the working projection, as a fraction "
                          "(0.001 is 0.1 %%) [0.001]")
     io.add_argument("--centroids", action="store_true", help="use centroids of non-point geometries")

@@ -329,8 +329,14 @@ def _check_crs(args: argparse.Namespace) -> None:
 
 
 def _common(args: argparse.Namespace) -> dict[str, Any]:
+    from ..gis._frames import MAX_SCALE_ERROR
+
+    if args.planar and args.max_scale_error is not None:
+        # Planar coordinates are used as they are: no projection whose distortion to bound.
+        raise UserError("--max-scale-error bounds the distortion of a projection; with --planar nothing is "
+                        "projected (lengths are in coordinate units)")
     return {"planar": args.planar, "centroids": args.centroids, "work_crs": args.work_crs,
-            "max_scale_error": args.max_scale_error}
+            "max_scale_error": MAX_SCALE_ERROR if args.max_scale_error is None else args.max_scale_error}
 
 
 def _progress(args: argparse.Namespace) -> dict[str, Any]:
