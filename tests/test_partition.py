@@ -871,3 +871,20 @@ def test_pickled_result_names_the_package() -> None:
     assert b"placewise.partition" in data and b"placewise.partition._" not in data
     back = pickle.loads(data)
     assert type(back) is DelaunayMesh and np.array_equal(back.corners, result.corners)
+
+
+@pytest.mark.parametrize("scale", [1e-300, 1e-160, 1e200])
+def test_nearest_site_at_extreme_scales_matches_cdist_at_unit_scale(scale) -> None:
+    # Squared distances underflow near 1e-300 and overflow near 1e200: 953 of 1,000 points
+    # went to the wrong site. Reference: scipy's cdist on the same points at unit scale
+    # (scaling by a constant keeps every nearest site), and the distances scaled back.
+    rng = np.random.default_rng(0)
+    pts, sites = rng.random((1000, 2)), rng.random((20, 2))
+    out = pw.nearest_site(pts * scale, sites * scale)
+    d = scipy.spatial.distance.cdist(pts, sites)
+    assert np.array_equal(out.assignment, d.argmin(axis=1))
+    np.testing.assert_allclose(out.distance / scale, d.min(axis=1), rtol=1e-12)
+    # The p-center, whose allocations go through the same index: the same plan's radius.
+    unit = pw.p_center(pts[:200], 2).weighted_radius
+    assert pw.p_center(pts[:200] * scale, 2).weighted_radius / scale == pytest.approx(unit, rel=1e-9)
+

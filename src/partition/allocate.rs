@@ -19,7 +19,8 @@ use crate::cancel::{cancelled, Watch};
 use crate::error::Result;
 use crate::geometry::predicates::all_collinear;
 use crate::geometry::{
-    distance, distance_squared, validate_points, validate_weights, BoundingBox, CompensatedSum, Point, Weights,
+    distance, distance_squared, power_of_two_factor, validate_points, validate_weights, BoundingBox, CompensatedSum,
+    Point, Weights,
 };
 
 /// Which site serves each point, how far away it is and how much demand each site gets.
@@ -155,11 +156,38 @@ impl SiteGraph {
 }
 
 /// The sites indexed for nearest-site queries, built once and queried many times.
+///
+/// Nearness is compared on squared distances. For coordinates beyond about 2^±200 those
+/// underflow (points near 1e-300: every square 0, every site "equally near") or overflow
+/// (near 1e200), so there the index holds the sites scaled by a power of two
+/// ([`power_of_two_factor`] of the largest coordinate) and scales every query the same way:
+/// exact, so the order of distances is that of the given coordinates. Distances are always
+/// measured between the given coordinates. In between nothing is scaled.
 #[derive(Debug, Clone)]
 pub struct SiteIndex {
     tree: RTree<Site>,
     graph: Option<SiteGraph>,
     len: usize,
+    /// The power of two the compared coordinates are multiplied by (1: none).
+    scale: f64,
+    /// The sites as given, when `scale` is not 1 (the index holds them scaled).
+    given: Vec<Point>,
+}
+
+/// Largest coordinate magnitude compared without scaling: squared differences of
+/// coordinates up to 2^200 stay below 2^401 and, the differences being at least a unit in
+/// the last place of coordinates above 2^-200, above 2^-505 — far from both ends of `f64`.
+const UNSCALED: f64 = 1.6069380442589903e60; // 2^200
+
+/// The power of two [`SiteIndex`] compares `sites` at: 1 when their largest coordinate
+/// magnitude lies within [2^-200, 2^200] (or is 0), else the factor bringing it below 1.
+fn comparison_scale(sites: &[Point]) -> f64 {
+    let largest = sites.iter().flat_map(|s| [s[0].abs(), s[1].abs()]).fold(0.0f64, f64::max);
+    if largest == 0.0 || (1.0 / UNSCALED..=UNSCALED).contains(&largest) {
+        1.0
+    } else {
+        power_of_two_factor(largest)
+    }
 }
 
 impl SiteIndex {
@@ -181,10 +209,19 @@ impl SiteIndex {
     /// As [`SiteIndex::new`], and [`cancelled`] once `watch` is cancelled.
     fn watched(sites: &[Point], watch: &Watch) -> Result<SiteIndex> {
         validate_points("sites", sites, 1)?;
-        let items = sites.iter().enumerate().map(|(j, &s)| GeomWithData::new(s, j)).collect();
+        let scale = comparison_scale(sites);
+        let scaled: Vec<Point>;
+        let compared = if scale == 1.0 {
+            sites
+        } else {
+            scaled = sites.iter().map(|&[x, y]| [x * scale, y * scale]).collect();
+            &scaled
+        };
+        let items = compared.iter().enumerate().map(|(j, &s)| GeomWithData::new(s, j)).collect();
         let tree = RTree::bulk_load(items);
-        let graph = SiteGraph::new(sites, &tree, watch)?;
-        Ok(SiteIndex { tree, graph, len: sites.len() })
+        let graph = SiteGraph::new(compared, &tree, watch)?;
+        let given = if scale == 1.0 { Vec::new() } else { sites.to_vec() };
+        Ok(SiteIndex { tree, graph, len: sites.len(), scale, given })
     }
 
     /// Number of sites.
@@ -200,6 +237,9 @@ impl SiteIndex {
     /// The nearest site to `p` (smallest index among equally near ones) and its distance.
     #[inline]
     pub fn nearest(&self, p: Point) -> (usize, f64) {
+        if self.scale != 1.0 {
+            return self.nearest_scaled(p);
+        }
         if let Some(graph) = &self.graph {
             let j = graph.nearest(p);
             return (j, distance(p, graph.sites[j]));
@@ -210,6 +250,34 @@ impl SiteIndex {
         let best = candidates.take_while(|&(_, e2)| e2 == d2).fold(first.data, |b, (s, _)| b.min(s.data));
         // Tied sites share the squared distance; the first one's position gives the distance.
         (best, distance(p, *first.geom()))
+    }
+
+    /// [`SiteIndex::nearest`] for an index of scaled sites: the query scaled alike, the
+    /// distance measured between the given coordinates. A query so far out that its scaled
+    /// coordinates overflow is compared with every site by [`distance`] (which does not
+    /// square), the smallest index winning ties.
+    #[cold]
+    fn nearest_scaled(&self, p: Point) -> (usize, f64) {
+        let q = [p[0] * self.scale, p[1] * self.scale];
+        if !(q[0].is_finite() && q[1].is_finite()) {
+            let mut best = (0, distance(p, self.given[0]));
+            for (j, &s) in self.given.iter().enumerate().skip(1) {
+                let d = distance(p, s);
+                if d < best.1 {
+                    best = (j, d);
+                }
+            }
+            return best;
+        }
+        let j = match &self.graph {
+            Some(graph) => graph.nearest(q),
+            None => {
+                let mut candidates = self.tree.nearest_neighbor_iter_with_distance_2(q);
+                let (first, d2) = candidates.next().expect("a site index is never empty");
+                candidates.take_while(|&(_, e2)| e2 == d2).fold(first.data, |b, (s, _)| b.min(s.data))
+            }
+        };
+        (j, distance(p, self.given[j]))
     }
 }
 
@@ -451,6 +519,42 @@ mod tests {
     use super::*;
     use crate::error::Error;
     use proptest::prelude::*;
+
+    #[test]
+    fn nearest_sites_at_extreme_scales_match_a_brute_force_without_squares() {
+        // Coordinates near 1e-300 (squares underflow to 0) and near 1e200 (they overflow):
+        // 953 of 1,000 points went to the wrong site before the index compared scaled
+        // coordinates. Reference: the least `distance` (hypot, never squared) over every site,
+        // smallest index on ties. Few sites use the R-tree, many the Delaunay graph walk.
+        let mut rng = crate::geometry::random::SplitMix64::new(7);
+        let unit: Vec<Point> = (0..1_000).map(|_| [rng.next_f64(), rng.next_f64()]).collect();
+        for k in [20, 300] {
+            let base: Vec<Point> = (0..k).map(|_| [rng.next_f64(), rng.next_f64()]).collect();
+            for scale in [1.0, 1e-300, 1e-160, 2f64.powi(-1000), 1e200, 1e300] {
+                let pts: Vec<Point> = unit.iter().map(|&[x, y]| [x * scale, y * scale]).collect();
+                let sites: Vec<Point> = base.iter().map(|&[x, y]| [x * scale, y * scale]).collect();
+                let index = SiteIndex::new(&sites).unwrap();
+                for &p in &pts {
+                    let brute = (0..k).fold((0, f64::INFINITY), |b, j| {
+                        let d = distance(p, sites[j]);
+                        if d < b.1 {
+                            (j, d)
+                        } else {
+                            b
+                        }
+                    });
+                    assert_eq!(index.nearest(p), brute, "k {k}, scale {scale:e}, point {p:?}");
+                }
+            }
+        }
+        // A query whose scaled coordinates overflow (sites near 1e-300, a point near 1e300):
+        // compared unsquared; both sites lie at the same rounded distance, so the first wins.
+        let sites = [[1e-300, 0.0], [0.0, 2e-300]];
+        let index = SiteIndex::new(&sites).unwrap();
+        let far = [-1e300, 1e300];
+        assert_eq!(index.nearest(far), (0, distance(far, sites[0])));
+        assert!((index.nearest(far).1 / 1e300 - std::f64::consts::SQRT_2).abs() < 1e-15);
+    }
 
     #[test]
     fn loads_and_cost_are_bit_identical_on_any_thread_count() {

@@ -27,7 +27,7 @@ use crate::batch::{Grouped, OnGroupError, RowPlaces};
 use crate::cancel::Watch;
 use crate::enclose::{minimax_point, minimax_point_in_region, MinimaxPoint};
 use crate::error::Result;
-use crate::geometry::{distance, validate_points, validate_weights, FeasibleRegion, Point, Weights};
+use crate::geometry::{distance, validate_points, validate_weights, FeasibleRegion, Point, Weights, WorkingFrame};
 use crate::partition::{allocate, SiteIndex};
 
 /// Instances with at most this many distinct points of positive weight are solved exactly.
@@ -129,11 +129,37 @@ pub fn p_center(
     validate_weights("weights", weights, points.len())?;
     validate_points("fixed", fixed, 0)?;
     let distinct = check_site_count(points, weights, p)?;
-    if fixed.is_empty() {
-        unconditional(points, weights, p, &distinct, options)
-    } else {
-        conditional::p_center_beside(points, weights, p, &distinct, fixed, options)
+    if p == 1 && fixed.is_empty() {
+        // The minimax point, which keeps its own scale.
+        return unconditional(points, weights, p, &distinct, options);
     }
+    // The search runs in the instance's working frame, of unit size and holding the fixed
+    // sites and the region too, so that squared distances (the nearest-site searches) neither
+    // underflow nor overflow: on points near 1e-300 they all rounded to 0 and the plan was
+    // worse than the same points' at unit scale. The frame scales by a power of two, so
+    // nothing is lost but the rounding of the shift; the plan is measured on the given points.
+    let region = options.region.as_deref();
+    let mut also: Vec<Point> = fixed.to_vec();
+    if let Some(r) = region {
+        also.extend([r.bounds().min, r.bounds().max]);
+    }
+    let frame = WorkingFrame::of(points).holding(&also);
+    let local = frame.local(points);
+    let fixed_local = frame.local(fixed);
+    let local_options =
+        CenterOptions { region: region.map(|r| Arc::new(r.mapped(|v| frame.to_local(v)))), ..options.clone() };
+    let plan = if fixed.is_empty() {
+        unconditional(&local, weights, p, &distinct, &local_options)?
+    } else {
+        conditional::p_center_beside(&local, weights, p, &distinct, &fixed_local, &local_options)?
+    };
+    // Back in world coordinates, a site of the local region may sit a unit in the last place
+    // outside the given one: the exact test settles it.
+    let sites: Vec<Point> =
+        plan.sites.iter().map(|&s| region.map_or(frame.to_world(s), |r| r.project(frame.to_world(s)))).collect();
+    let all_sites: Vec<Point> = sites.iter().chain(fixed).copied().collect();
+    let service = Service::of(points, weights, &all_sites)?;
+    Ok(CenterPlan { sites, fixed: fixed.to_vec(), service, ..plan })
 }
 
 /// [`p_center`] without fixed sites, on validated input whose distinct locations of positive
@@ -357,6 +383,27 @@ mod tests {
     fn cloud(n: usize, seed: u64) -> Vec<Point> {
         let mut rng = SplitMix64::new(seed);
         (0..n).map(|_| [rng.next_f64() * 10.0, rng.next_f64() * 6.0]).collect()
+    }
+
+    #[test]
+    fn the_plan_does_not_depend_on_the_scale() {
+        // The same cloud at unit scale, near 1e-300 (squared distances underflow there) and
+        // near 1e150 (they overflow): the working frame scales by powers of two, so the
+        // weighted radius scales with the points (it was 23 % worse near 1e-300).
+        let unit = cloud(60, 11);
+        let w: Vec<f64> = (0..60).map(|i| 1.0 + (i % 3) as f64).collect();
+        let base = p_center(&unit, Weights::Given(&w), 3, &[], &CenterOptions::default()).unwrap();
+        for scale in [1e-300, 2f64.powi(-1000), 1e150] {
+            let scaled: Vec<Point> = unit.iter().map(|&[x, y]| [x * scale, y * scale]).collect();
+            let fixed = [[unit[0][0] * scale, unit[0][1] * scale]];
+            let plan = p_center(&scaled, Weights::Given(&w), 3, &[], &CenterOptions::default()).unwrap();
+            let ratio = plan.service.weighted_radius / scale / base.service.weighted_radius;
+            assert!((ratio - 1.0).abs() < 1e-9, "scale {scale:e}: ratio {ratio}");
+            let beside = p_center(&scaled, Weights::Given(&w), 2, &fixed, &CenterOptions::default()).unwrap();
+            let unit_beside = p_center(&unit, Weights::Given(&w), 2, &unit[..1], &CenterOptions::default()).unwrap();
+            let ratio = beside.service.weighted_radius / scale / unit_beside.service.weighted_radius;
+            assert!((ratio - 1.0).abs() < 1e-9, "scale {scale:e}, fixed: ratio {ratio}");
+        }
     }
 
     #[test]
