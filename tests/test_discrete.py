@@ -613,8 +613,12 @@ def test_coverage_refuses_bad_existing_sites_anywhere():
     with pytest.raises(pw.InputError, match="shape \\(f, 2\\)") as caught:
         pw.cover_most(points, 1, 1.0, fixed=[0])   # an index, where coordinates are needed
     assert caught.value.argument == "fixed"
-    with pytest.raises(pw.InputError, match="as numbers"):
-        pw.cover_all(points, 1.0, fixed=[["a", "b"]])
+    # Not real numbers: refused as the binding refuses them for every other array (complex
+    # values lost their imaginary part, digits were parsed).
+    for bad in ([["a", "b"]], [["1", "0"]], np.array([[1 + 5j, 0]])):
+        with pytest.raises(pw.InputError, match="as real numbers") as caught:
+            pw.cover_all(points, 1.0, fixed=bad)
+        assert caught.value.argument == "fixed"
     # No existing sites: the same plan as without the argument.
     assert np.array_equal(pw.cover_all(points, 1.0, fixed=np.empty((0, 2))).sites, pw.cover_all(points, 1.0).sites)
 

@@ -598,6 +598,19 @@ def test_a_group_column_named_like_a_result_column_is_refused():
     assert out["zone"].tolist() == [0, 1] and out["problem"].isna().all()
 
 
+def test_a_weight_column_of_dates_or_durations_is_refused():
+    # pandas counts them in nanoseconds: a load of 6.3e15 came back for a column of dates.
+    # Reference: the core's own refusal of the same values as weights.
+    frame = gpd.GeoDataFrame({"when": pd.to_datetime(["2026-01-01", "2026-01-02", "2026-01-03"]),
+                              "hours": pd.to_timedelta([1, 2, 4], unit="h")},
+                             geometry=gpd.points_from_xy([0, 4, 2], [0, 0, 3]))
+    with pytest.raises(pw.InputError, match="got dates or durations"):
+        pw.weber_point(np.array([[0, 0], [4, 0], [2, 3]]), frame["when"].to_numpy())
+    for column in ("when", "hours"):
+        with pytest.raises(pw.InputError, match="holds dates or durations"):
+            gis.p_median(frame, 1, weight=column, planar=True)
+
+
 def test_voronoi_weight_without_demand_is_refused():
     # Weights weigh demand rows; without demand= they used to be dropped without a word.
     sites = gpd.GeoDataFrame({"people": [3.0, 4.0]}, geometry=gpd.points_from_xy([1, 3], [1, 1]))

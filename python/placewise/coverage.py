@@ -57,11 +57,17 @@ def _anywhere_with_fixed(points: ArrayLike, radius: float, fixed: ArrayLike | No
     where = np.asarray(_candidates(points, radius, None, time_limit), dtype=np.float64).reshape(-1, 2)
     if fixed is None:
         return where, None
+    # Refused as the binding refuses any array that is not real numbers (numpy would drop
+    # an imaginary part with a warning, parse digits, count dates).
+    raw = np.asarray(fixed)
+    if raw.dtype.kind not in "biufO":
+        refuse("fixed", f"fixed must hold the (x, y) coordinates of the existing sites as real numbers when sites "
+               f"may go anywhere; got dtype {raw.dtype}")
     try:
-        existing = np.asarray(fixed, dtype=np.float64)
+        existing = raw.astype(np.float64)
     except (TypeError, ValueError):
-        refuse("fixed", "fixed must hold the (x, y) coordinates of the existing sites as numbers when sites may "
-               "go anywhere")
+        refuse("fixed", "fixed must hold the (x, y) coordinates of the existing sites as real numbers when sites "
+               "may go anywhere")
     if existing.size == 0:
         existing = existing.reshape(0, 2)
     if existing.ndim != 2 or existing.shape[1] != 2:

@@ -175,8 +175,10 @@ pub struct SiteIndex {
 }
 
 /// Largest coordinate magnitude compared without scaling: squared differences of
-/// coordinates up to 2^200 stay below 2^401 and, the differences being at least a unit in
-/// the last place of coordinates above 2^-200, above 2^-505 — far from both ends of `f64`.
+/// coordinates up to 2^200 stay below 2^401, and when the largest coordinate is at least
+/// 2^-200 the differences near it (at least a unit in its last place) square above 2^-505.
+/// The guarantee is about the scale of the largest coordinate only: sites near 1e-300 beside
+/// one near 1 are compared unscaled, and their squared differences can still underflow.
 const UNSCALED: f64 = 1.6069380442589903e60; // 2^200
 
 /// The power of two [`SiteIndex`] compares `sites` at: 1 when their largest coordinate

@@ -629,6 +629,9 @@ def column(frame: Any, spec: Any, name: str, what: str) -> np.ndarray:
         label = what
         if values.shape != (len(frame),):
             raise InputError(f"{name}: {what} must have one value per row ({len(frame)}); got shape {values.shape}")
+    if pd.Series(np.asarray(values)).dtype.kind in "mM":
+        # pandas would count dates and durations in nanoseconds.
+        raise InputError(f"{name}: {label} holds dates or durations; convert them to numbers in a stated unit first")
     try:
         numbers = pd.to_numeric(pd.Series(np.asarray(values)), errors="raise")
     except (ValueError, TypeError) as exc:

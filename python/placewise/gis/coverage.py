@@ -115,9 +115,13 @@ def _candidate_named(exc: InputError, cf: Prepared | None, ff: Prepared | None) 
     match = re.search(r"cheapest candidate, column (\d+)", text)
     if match is None:
         return exc
+    if cf is None:
+        # Sites anywhere: the column indexes the dominating set, whose size is not known
+        # here (and every point is a candidate there, so no point is left uncovered).
+        return exc
     column = int(match[1])
-    offered = 0 if cf is None else len(cf.rows)
-    if cf is not None and column < offered:
+    offered = len(cf.rows)
+    if column < offered:
         named = f"cheapest candidate, row {plain(cf.rows[column])!r}"
     elif ff is not None and column - offered < len(ff.rows):
         named = f"nearest existing site, fixed row {plain(ff.rows[column - offered])!r}"
