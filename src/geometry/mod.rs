@@ -148,6 +148,11 @@ impl WorkingFrame {
             .iter()
             .map(|p| (p[0] - self.origin[0]).abs().max((p[1] - self.origin[1]).abs()))
             .fold(0.0f64, f64::max);
+        if reach == 0.0 {
+            // Nothing to hold beyond the origin (no points at all): the frame as it is, not
+            // one capped at the factor `power_of_two_factor` gives a zero extent.
+            return self;
+        }
         // Half the factor of `reach` is that of `2 · reach`, which overflows past 9e307.
         WorkingFrame { factor: self.factor.min(0.5 * power_of_two_factor(reach)), ..self }
     }

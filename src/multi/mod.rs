@@ -32,7 +32,7 @@ use rayon::prelude::*;
 
 use crate::batch::{run_grouped_placed, GroupIndex, Grouped, OnGroupError, RowPlaces};
 use crate::cancel::Watch;
-use crate::geometry::{location_key, validate_points, Point, Weights};
+use crate::geometry::{location_key, validate_points, FeasibleRegion, Point, Weights, WorkingFrame};
 
 /// A distinct location carrying positive weight.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -87,6 +87,29 @@ pub(crate) fn distinct_weighted(points: &[Point], weights: Weights<'_>) -> Vec<L
     }
     distinct.sort_unstable_by_key(|l| l.first);
     distinct
+}
+
+/// The working frame of a plan ([`WorkingFrame`]: unit size, so squared distances neither
+/// underflow nor overflow) over `points`, widened to hold `also` and the region's box, and
+/// the region mapped into it.
+fn plan_frame(
+    points: &[Point],
+    also: &[Point],
+    region: Option<&FeasibleRegion>,
+) -> (WorkingFrame, Option<FeasibleRegion>) {
+    let mut held = also.to_vec();
+    if let Some(r) = region {
+        held.extend([r.bounds().min, r.bounds().max]);
+    }
+    let frame = WorkingFrame::of(points).holding(&held);
+    (frame, region.map(|r| r.mapped(|v| frame.to_local(v))))
+}
+
+/// Sites found in `frame` back in world coordinates. With a region, each is projected onto
+/// it: a site of the mapped region may sit a unit in the last place outside the given one,
+/// and the exact test settles it.
+fn world_sites(frame: WorkingFrame, region: Option<&FeasibleRegion>, sites: &[Point]) -> Vec<Point> {
+    sites.iter().map(|&s| region.map_or(frame.to_world(s), |r| r.project(frame.to_world(s)))).collect()
 }
 
 /// Run `plan(group points, group weights, the group's fixed sites)` on every group of

@@ -22,12 +22,12 @@ mod exact;
 
 use std::sync::Arc;
 
-use super::{check_site_count, run_grouped_beside, Effort, Location, Service};
+use super::{check_site_count, plan_frame, run_grouped_beside, world_sites, Effort, Location, Service};
 use crate::batch::{Grouped, OnGroupError, RowPlaces};
 use crate::cancel::Watch;
 use crate::enclose::{minimax_point, minimax_point_in_region, MinimaxPoint};
 use crate::error::Result;
-use crate::geometry::{distance, validate_points, validate_weights, FeasibleRegion, Point, Weights, WorkingFrame};
+use crate::geometry::{distance, validate_points, validate_weights, FeasibleRegion, Point, Weights};
 use crate::partition::{allocate, SiteIndex};
 
 /// Instances with at most this many distinct points of positive weight are solved exactly.
@@ -139,24 +139,16 @@ pub fn p_center(
     // worse than the same points' at unit scale. The frame scales by a power of two, so
     // nothing is lost but the rounding of the shift; the plan is measured on the given points.
     let region = options.region.as_deref();
-    let mut also: Vec<Point> = fixed.to_vec();
-    if let Some(r) = region {
-        also.extend([r.bounds().min, r.bounds().max]);
-    }
-    let frame = WorkingFrame::of(points).holding(&also);
+    let (frame, local_region) = plan_frame(points, fixed, region);
     let local = frame.local(points);
     let fixed_local = frame.local(fixed);
-    let local_options =
-        CenterOptions { region: region.map(|r| Arc::new(r.mapped(|v| frame.to_local(v)))), ..options.clone() };
+    let local_options = CenterOptions { region: local_region.map(Arc::new), ..options.clone() };
     let plan = if fixed.is_empty() {
         unconditional(&local, weights, p, &distinct, &local_options)?
     } else {
         conditional::p_center_beside(&local, weights, p, &distinct, &fixed_local, &local_options)?
     };
-    // Back in world coordinates, a site of the local region may sit a unit in the last place
-    // outside the given one: the exact test settles it.
-    let sites: Vec<Point> =
-        plan.sites.iter().map(|&s| region.map_or(frame.to_world(s), |r| r.project(frame.to_world(s)))).collect();
+    let sites = world_sites(frame, region, &plan.sites);
     let all_sites: Vec<Point> = sites.iter().chain(fixed).copied().collect();
     let service = Service::of(points, weights, &all_sites)?;
     Ok(CenterPlan { sites, fixed: fixed.to_vec(), service, ..plan })

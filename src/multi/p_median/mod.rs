@@ -30,12 +30,12 @@ mod search;
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::Arc;
 
-use super::{check_site_count, run_grouped_beside, Location, Service};
+use super::{check_site_count, plan_frame, run_grouped_beside, world_sites, Location, Service};
 use crate::batch::{Grouped, OnGroupError, RowPlaces};
 use crate::cancel::{Clock, Watch};
 use crate::error::Result;
 use crate::geometry::random::SplitMix64;
-use crate::geometry::{validate_points, validate_weights, FeasibleRegion, Point, Weights, WorkingFrame};
+use crate::geometry::{validate_points, validate_weights, FeasibleRegion, Point, Weights};
 use crate::median::{weber_point, weber_point_in_region, WeberOptions};
 use sample::{Sample, LARGE_INPUT};
 
@@ -209,13 +209,9 @@ pub fn p_median(
         // The frame holds the region too: sites live there, and a region far from points of
         // tiny extent would otherwise sit so far out in the points' unit frame that squared
         // distances to its sites overflow (points near 1e-160, a region near 1).
-        let frame = match region {
-            None => WorkingFrame::of(points),
-            Some(r) => WorkingFrame::of(points).holding(&[r.bounds().min, r.bounds().max]),
-        };
+        let (frame, local_region) = plan_frame(points, &[], region);
         let local = frame.local(points);
         let fixed_local = frame.local(fixed);
-        let local_region = region.map(|r| r.mapped(|v| frame.to_local(v)));
         let candidates: Vec<usize> = distinct.iter().map(|l: &Location| l.first).collect();
         let clock = options.watch.clock(options.time_limit);
         let problem = Problem {
@@ -229,9 +225,7 @@ pub fn p_median(
             region: local_region.as_ref(),
         };
         let best = problem.solve(options, &mut iterations)?;
-        // Back in world coordinates, a site of the local region may sit a unit in the last
-        // place outside the given one: the exact test settles it.
-        best.sites.iter().map(|&s| region.map_or(frame.to_world(s), |r| r.project(frame.to_world(s)))).collect()
+        world_sites(frame, region, &best.sites)
     };
 
     let all_sites: Vec<Point> = sites.iter().chain(fixed).copied().collect();
