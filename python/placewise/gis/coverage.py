@@ -142,11 +142,15 @@ def _sites_offered(cf: Prepared | None, ff: Prepared | None) -> tuple[Any, Any, 
     set)."""
     if cf is None:
         return None, None if ff is None else ff.xy, {}
+    return (*followed_by_existing(cf.xy, ff), {"candidates": cf.rows})
+
+
+def followed_by_existing(where: np.ndarray, ff: Prepared | None) -> tuple[np.ndarray, np.ndarray | None]:
+    """The candidate coordinates ``where`` with the existing sites of ``ff`` appended, and the
+    indices of those (the models' ``fixed``; None without existing sites)."""
     if ff is None:
-        return cf.xy, None, {"candidates": cf.rows}
-    offered = len(cf.xy)
-    return (np.concatenate([cf.xy, ff.xy]), np.arange(offered, offered + len(ff.xy)),
-            {"candidates": cf.rows})
+        return where, None
+    return np.concatenate([where, ff.xy]), np.arange(len(where), len(where) + len(ff.xy))
 
 
 def _sources(result: Any, cf: Prepared | None, ff: Prepared | None) -> Sources:

@@ -206,7 +206,7 @@ def _plan_on_candidates(kind: str, frame: Any, p: int, weight: Any, by: str | No
     distances to the rows of ``candidates`` that the region holds; existing sites are
     appended to them as open candidates (they may lie outside the region)."""
     from .._region import candidates_in_region
-    from .coverage import Sources, selection_plan
+    from .coverage import Sources, followed_by_existing, selection_plan
 
     if by is not None:
         raise InputError("by= is not supported with candidates (sites chosen from a list); run each group on its own")
@@ -218,10 +218,10 @@ def _plan_on_candidates(kind: str, frame: Any, p: int, weight: Any, by: str | No
         where, kept = candidates_in_region(cf.xy, region_geometry(region, pf, "frame"))
     sources = Sources()
     sources.add("candidates", cf, kept)
+    where, existing = followed_by_existing(where, ff)
     options: dict[str, Any] = {}
     if ff is not None:
-        options["fixed"] = np.arange(len(where), len(where) + len(ff.xy))
-        where = np.concatenate([where, ff.xy])
+        options["fixed"] = existing
         sources.add("fixed", ff)
     kernel = _pw.p_median if kind == "median" else _pw.p_center
     rows = {"points": pf.rows, "weights": pf.rows}
