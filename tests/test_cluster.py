@@ -316,3 +316,14 @@ def test_nearest_site_errors_name_the_row_label(client, table):
     result = pc.nearest_site(dd.from_pandas(zero, npartitions=3), SITES, x="east", y="north", weight="people")
     with pytest.raises(pw.InputError, match="'people' is zero in every row"):
         result.cost.compute()
+
+
+def test_nearest_site_names_a_column_of_the_tables_it_replaces(client, table):
+    # A table with a column of its own called "site" lost it in the result's frame without a
+    # word. Reference for the values that replace it: scipy cKDTree's nearest site.
+    ordered = table.sort_index().assign(site="depot-row")
+    with pytest.warns(UserWarning, match=r"ddf: the result replaces the table's own column 'site'; rename it"):
+        result = pc.nearest_site(dd.from_pandas(ordered, npartitions=3), SITES, x="east", y="north")
+    frame = result.frame.compute()
+    i = cKDTree(SITES).query(ordered[["east", "north"]].to_numpy())[1]
+    np.testing.assert_array_equal(frame.loc[ordered.index, "site"].to_numpy(), i)

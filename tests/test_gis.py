@@ -1225,3 +1225,49 @@ def test_a_projected_crs_that_distorts_the_data_is_named_with_its_figure() -> No
         warnings.simplefilter("error")
         out = gis.weber_point(mercator, work_crs="EPSG:32618")
     assert out.crs.to_epsg() == 3857
+
+
+def test_a_column_of_the_callers_replaced_by_a_result_column_is_named():
+    # A demand frame with a column of its own called "site" (its survey site) and a sites
+    # frame with one called "load" lost them in the result without a word: the result wrote
+    # its own columns over them. Reference for the values written: scipy cKDTree's nearest
+    # site and distance; numpy.bincount for the loads.
+    rng = np.random.default_rng(7)
+    demand = gpd.GeoDataFrame({"site": [f"survey-{i}" for i in range(40)], "w": rng.uniform(1, 2, 40)},
+                              geometry=gpd.points_from_xy(rng.uniform(5e5, 501e3, 40), rng.uniform(5e6, 5.001e6, 40)),
+                              crs="EPSG:32632")
+    sites = gpd.GeoDataFrame({"load": ["heavy", "light", "none"]},
+                             geometry=gpd.points_from_xy([500_100, 500_500, 500_900], [5_000_100, 5_000_800, 5_000_300]),
+                             crs="EPSG:32632", index=["A", "B", "C"])
+    before = demand.copy()
+    with pytest.warns(UserWarning) as caught:
+        plan = gis.nearest_site(demand, sites, "w")
+    said = [str(w.message) for w in caught]
+    assert "sites: the result replaces the frame's own column 'load', whose values differ; rename it to keep both" in said
+    assert "demand: the result replaces the frame's own column 'site', whose values differ; rename it to keep both" in said
+    distance, nearest = cKDTree(shapely.get_coordinates(sites.geometry.values)).query(
+        shapely.get_coordinates(demand.geometry.values))
+    assert plan.demand["site"].tolist() == list(np.array(["A", "B", "C"])[nearest])
+    np.testing.assert_allclose(plan.demand["distance_m"], distance, rtol=1e-12)
+    np.testing.assert_allclose(plan.sites["load"], np.bincount(nearest, weights=demand["w"], minlength=3),
+                               rtol=1e-12)
+    pd.testing.assert_frame_equal(demand, before)  # the caller's frame is untouched
+
+    # The plan's own output fed back in: the same values, so nothing of the caller's is lost
+    # and nothing is said.
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        again = gis.nearest_site(plan.demand, plan.sites, "w")
+    pd.testing.assert_frame_equal(again.demand, plan.demand)
+
+    # Coverage and capacities write through the same path: "covered" and "share" of the
+    # caller's are named.
+    with pytest.warns(UserWarning, match=r"frame: the result replaces the frame's own columns 'site', 'covered'"):
+        gis.cover_most(demand.assign(covered="yes"), 1, 300, "w", candidates=sites)
+    with pytest.warns(UserWarning, match=r"demand: the result replaces the frame's own columns 'site', 'share'"):
+        gis.capacity_allocation(demand.assign(share=0.5), sites.assign(cap=[30.0, 30.0, 30.0]), "cap", "w")
+
+    # A geometry column named like a result column cannot be replaced: refused.
+    odd = demand.drop(columns="site").rename_geometry("site")
+    with pytest.raises(pw.InputError, match="demand: the geometry column is named 'site'"):
+        gis.nearest_site(odd, sites.drop(columns="load"), "w")

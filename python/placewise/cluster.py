@@ -410,6 +410,14 @@ def nearest_site(ddf: Any, sites: Any, *, x: str, y: str, weight: str | None = N
         if column not in ddf.columns:
             raise InputError(f"column {column!r} not found; the frame has {list(ddf.columns)}")
     distance = "distance_u"  # the table's coordinates are planar, in their own unit
+    taken = [name for name in ("site", distance) if name in ddf.columns]
+    if taken:
+        # Said when the graph is built: the partitions are computed later, elsewhere.
+        import warnings
+
+        warnings.warn(f"ddf: the result replaces the table's own column{'s' if len(taken) > 1 else ''} "
+                      f"{', '.join(map(repr, taken))}; rename {'them' if len(taken) > 1 else 'it'} to keep both",
+                      UserWarning, stacklevel=2)
     meta = ddf._meta.copy()
     meta["site"] = np.zeros(0, dtype=np.int64)
     meta[distance] = np.zeros(0)

@@ -38,7 +38,10 @@ Grouped runs (``by=``) call the kernel's grouped form once and return rows sorte
 group value, with a ``problem`` column (``None``, or why a group was skipped with
 ``errors="skip"``). Errors name the user's group values and row labels. Totals (a plan's
 cost, a tree's length and saving) are columns of a ``summary`` table, never only
-attributes, so every file writer keeps them.
+attributes, so every file writer keeps them. Layers that copy the caller's frame (a plan's
+``demand``, an allocation's ``sites``) add the result's columns after the frame's own; a
+column of the frame with the same name (``site``, ``load``) is replaced, and when its values
+differ a ``UserWarning`` names it.
 
 Results are planning aids under the model (straight-line distance in the working CRS, or
 geodesic distance on the ellipsoid, and the given weights); check them against local

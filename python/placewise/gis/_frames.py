@@ -805,6 +805,38 @@ def framed(
     return in_user_terms(out, result, groups, rows, count=count, prepared=prepared)
 
 
+def annotated(frame: Any, columns: Mapping[str, Any], name: str) -> Any:
+    """A copy of the caller's ``frame`` with a result's ``columns`` (name to values, one per
+    row) set on it, in order.
+
+    A column of the frame that has a result column's name is replaced. When the values it
+    held differ from the result's (a column of the caller's own that happens to be called
+    ``site`` or ``load``, not the result of an earlier run of the same plan), a warning
+    names it, so a column of the caller's is never lost without a word; the geometry column
+    cannot be replaced.
+    """
+    import warnings
+
+    if frame.geometry.name in columns:
+        raise InputError(f"{name}: the geometry column is named {frame.geometry.name!r}, the name of a column "
+                         f"of the result ({', '.join(map(str, columns))}); rename it")
+    out = frame.copy()
+    replaced = []
+    for key, values in columns.items():
+        if key in out.columns and not pd.Series(out[key].to_numpy(dtype=object)).equals(
+                pd.Series(np.asarray(values, dtype=object))):
+            replaced.append(key)
+        out[key] = values
+    if replaced:
+        warnings.warn(
+            f"{name}: the result replaces the frame's own column{'s' if len(replaced) > 1 else ''} "
+            f"{', '.join(map(repr, replaced))}, whose values differ; rename "
+            f"{'them' if len(replaced) > 1 else 'it'} to keep both",
+            UserWarning, stacklevel=_caller_level(),
+        )
+    return out
+
+
 def row_labels(table: Any, prepared: Prepared, columns: Sequence[str]) -> None:
     """Replace columns of input row positions (-1 for none) by the frame's index labels (None)."""
     for name in columns:

@@ -11,7 +11,7 @@ import numpy as np
 import placewise as _pw
 
 from .._errors import labelled
-from ._frames import MAX_SCALE_ERROR, call, column, framed, in_user_terms, prepare, weights, with_unit
+from ._frames import MAX_SCALE_ERROR, annotated, call, column, framed, in_user_terms, prepare, weights, with_unit
 from ._together import region_geometry
 
 __all__ = ["AllocationLayers", "CellLayers", "capacity_allocation", "capacity_cells"]
@@ -133,14 +133,12 @@ def capacity_allocation(
     result = with_unit(result, df)
     site_labels = sf.rows
     site_table = result.sites_frame()
-    out_sites = sf.frame.copy()
-    for name in site_table.columns.drop(["x", "y"]):
-        out_sites[name] = site_table[name].to_numpy()
+    out_sites = annotated(sf.frame, {name: site_table[name].to_numpy() for name in site_table.columns.drop(["x", "y"])},
+                          "sites")
     points = result.to_frame()
-    out_demand = df.frame.copy()
-    out_demand["site"] = labelled(points["assignment"].to_numpy(), site_labels)
-    for name in points.columns.drop("assignment"):
-        out_demand[name] = points[name].to_numpy()
+    out_demand = annotated(df.frame, {"site": labelled(points["assignment"].to_numpy(), site_labels),
+                                      **{name: points[name].to_numpy() for name in points.columns.drop("assignment")}},
+                           "demand")
     parts = result.parts_frame()
     parts.insert(0, "demand", labelled(parts.pop("point").to_numpy(), df.rows))
     parts["site"] = labelled(parts["site"].to_numpy(), site_labels)
@@ -212,13 +210,10 @@ def capacity_cells(
     result = with_unit(call(_pw.capacity_cells, df.xy, sf.xy, caps, weights(df, weight, "demand"), region=geom,
                             tol=tol, rows=rows, time_limit=time_limit, progress=progress), df)
     table = result.sites_frame()
-    out_sites = sf.frame.copy()
-    for name in table.columns.drop(["x", "y"]):
-        out_sites[name] = table[name].to_numpy()
-    out_demand = df.frame.copy()
-    out_demand["site"] = sf.frame.index.to_numpy(dtype=object)[result.assignment]
-    out_demand["share"] = result.share
-    out_demand[f"cost_{df.unit}2"] = result.cost
+    out_sites = annotated(sf.frame, {name: table[name].to_numpy() for name in table.columns.drop(["x", "y"])},
+                          "sites")
+    out_demand = annotated(df.frame, {"site": sf.frame.index.to_numpy(dtype=object)[result.assignment],
+                                      "share": result.share, f"cost_{df.unit}2": result.cost}, "demand")
     polygons = framed(with_unit(result.cells, sf), sf, None, rows, row_columns=("cell_site",))
     out_cells = _cells_layer(sf, polygons)
     summary = in_user_terms(result.summary(), result, None, rows, prepared=df)

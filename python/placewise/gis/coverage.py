@@ -25,7 +25,7 @@ import placewise as _pw
 
 from .._core import InputError
 from .._errors import labelled, plain
-from ._frames import MAX_SCALE_ERROR, Prepared, call, in_user_terms, weights, with_unit
+from ._frames import MAX_SCALE_ERROR, Prepared, annotated, call, in_user_terms, weights, with_unit
 from ._together import prepare_together
 
 __all__ = ["cover_all", "cover_most", "evaluate_sites"]
@@ -82,13 +82,13 @@ def selection_plan(result: Any, pf: Prepared, sources: Sources) -> Any:
     sites.index.name = "site"
 
     rows = result.to_frame()
-    demand = pf.frame.copy()
     assignment = rows["assignment"].to_numpy(dtype=np.int64)
-    demand["site"] = np.where(assignment >= 0, assignment, None)  # -1: no site may serve the row
-    demand[f"distance_{pf.unit}"] = rows[f"cost_{pf.unit}"].to_numpy()
+    columns = {"site": np.where(assignment >= 0, assignment, None),  # -1: no site may serve the row
+               f"distance_{pf.unit}": rows[f"cost_{pf.unit}"].to_numpy()}
     if "covered" in rows.columns:
-        demand["covered"] = rows["covered"].to_numpy(dtype=bool)
-        demand["covering"] = rows["covering"].to_numpy(dtype=np.int64)
+        columns["covered"] = rows["covered"].to_numpy(dtype=bool)
+        columns["covering"] = rows["covering"].to_numpy(dtype=np.int64)
+    demand = annotated(pf.frame, columns, "frame")
 
     summary = result.summary()
     if "covered" in rows.columns:

@@ -16,6 +16,7 @@ from ._frames import (
     ELLIPSOID,
     MAX_SCALE_ERROR,
     Prepared,
+    annotated,
     call,
     groups_of,
     in_user_terms,
@@ -55,21 +56,19 @@ class SitePlan(NamedTuple):
     summary: Any
 
 
-def _demand_layer(pf: Prepared, result: Any, site_labels: np.ndarray) -> Any:
+def _demand_layer(pf: Prepared, result: Any, site_labels: np.ndarray, name: str) -> Any:
     """The demand frame with its serving site (by the sites frame's label) and distance."""
     points = with_unit(result, pf).to_frame()
-    out = pf.frame.copy()
     assignment = points["assignment"].to_numpy(dtype=np.int64)
     served = assignment >= 0  # a point of a skipped group has no site
-    site = np.full(len(out), None, dtype=object)
+    site = np.full(len(points), None, dtype=object)
     site[served] = site_labels[assignment[served]]
-    out["site"] = site
     distance = [c for c in points.columns if c.startswith("distance_")][0]
-    out[distance] = points[distance].to_numpy()
+    columns = {"site": site, distance: points[distance].to_numpy()}
     if "share" in points.columns:  # a capacitated plan: the share served by ``site``, cost, unserved
         for name in points.columns.drop(["assignment", distance]):
-            out[name] = points[name].to_numpy()
-    return out
+            columns[name] = points[name].to_numpy()
+    return annotated(pf.frame, columns, name)
 
 
 def _summary(result: Any, pf: Prepared, groups: Any, rows: Any) -> Any:
@@ -136,10 +135,9 @@ def nearest_site(
         result = call(kernel, df.xy, sf.xy, w, groups=groups, rows=rows,
                       site_groups=site_codes, errors=errors, progress=progress)
     site_table = with_unit(result, sf).sites_frame()
-    out_sites = sf.frame.copy()
-    out_sites["load"] = site_table["load"].to_numpy()
-    out_sites["points"] = site_table["points"].to_numpy()
-    return SitePlan(out_sites, _demand_layer(df, result, sf.frame.index.to_numpy(dtype=object)),
+    out_sites = annotated(sf.frame, {"load": site_table["load"].to_numpy(),
+                                     "points": site_table["points"].to_numpy()}, "sites")
+    return SitePlan(out_sites, _demand_layer(df, result, sf.frame.index.to_numpy(dtype=object), "demand"),
                     _summary(result, df, groups, rows))
 
 
@@ -195,7 +193,7 @@ def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bo
         sites.insert(0, "source_row", cf.rows[result.chosen])
         sites.insert(0, "source", "candidates")
     site_layer = framed_sites(sites, pf, result, groups, rows)
-    return SitePlan(site_layer, _demand_layer(pf, result, site_layer.index.to_numpy(dtype=object)),
+    return SitePlan(site_layer, _demand_layer(pf, result, site_layer.index.to_numpy(dtype=object), "frame"),
                     _summary(result, pf, groups, rows))
 
 
