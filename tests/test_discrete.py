@@ -535,6 +535,20 @@ def test_cover_most_anywhere_with_more_sites_than_coverage_sets():
         assert (scipy.spatial.distance.cdist(villages, most.sites) <= 1.5).any(axis=1).all()  # scipy cdist
     # An existing site anywhere: p is counted beside it.
     assert pw.cover_most(villages, 5, 1.5, w, fixed=[[0, 0]]).covered_weight == w.sum()
+    # Beside an existing site at the third village, p = 3 placed a second site on top of it
+    # (the dominating set's candidate there added nothing). Now every new site covers a
+    # village the existing one does not (scipy cdist), and one suffices.
+    beside = pw.cover_most(villages, 3, 1.5, w, fixed=[[9, 0]])
+    new = beside.sites[~beside.fixed]
+    reach = scipy.spatial.distance.cdist(villages, new) <= 1.5
+    fixed_reach = scipy.spatial.distance.cdist(villages, [[9, 0]]).ravel() <= 1.5
+    assert len(new) == 1 and (reach & ~fixed_reach[:, None]).any(axis=0).all()
+    assert beside.covered_weight == w.sum()
+    # Existing sites covering every village leave nothing for a new site to do: said.
+    with pytest.raises(pw.InputError, match="the existing sites already cover every point within radius 1.5") as caught:
+        pw.cover_most(villages, 1, 1.5, w, fixed=[[0.5, 0], [9, 0]])
+    assert caught.value.argument == "p"
+    assert pw.cover_all(villages, 1.5, fixed=[[0.5, 0], [9, 0]]).chosen == 0
     # Given candidates keep the refusal: p more than the parcels offered.
     with pytest.raises(pw.InputError, match="p: must be at most"):
         pw.cover_most(villages, 3, 1.5, w, candidates=villages[:2])
@@ -588,6 +602,9 @@ def test_coverage_anywhere_beside_existing_sites_against_milp(seed):
         within = (scipy.spatial.distance.cdist(points, most.sites) <= reach).any(axis=1)
         assert most.covered_weight == pytest.approx(w[within].sum())  # numpy directly
         assert len(most.open) == p + 2 and np.array_equal(most.sites[most.fixed], clinics)
+        # No new site merely repeats what the clinics cover (numpy, cdist).
+        adds = (scipy.spatial.distance.cdist(points[~served], most.sites[~most.fixed]) <= reach).any(axis=0)
+        assert adds.all()
 
 
 def test_coverage_with_given_candidates_and_existing_sites_against_milp():

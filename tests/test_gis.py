@@ -1237,14 +1237,16 @@ def test_a_column_of_the_callers_replaced_by_a_result_column_is_named():
                               geometry=gpd.points_from_xy(rng.uniform(5e5, 501e3, 40), rng.uniform(5e6, 5.001e6, 40)),
                               crs="EPSG:32632")
     sites = gpd.GeoDataFrame({"load": ["heavy", "light", "none"]},
-                             geometry=gpd.points_from_xy([500_100, 500_500, 500_900], [5_000_100, 5_000_800, 5_000_300]),
+                             geometry=gpd.points_from_xy([500_100, 500_500, 500_900],
+                                                         [5_000_100, 5_000_800, 5_000_300]),
                              crs="EPSG:32632", index=["A", "B", "C"])
     before = demand.copy()
     with pytest.warns(UserWarning) as caught:
         plan = gis.nearest_site(demand, sites, "w")
     said = [str(w.message) for w in caught]
-    assert "sites: the result replaces the frame's own column 'load', whose values differ; rename it to keep both" in said
-    assert "demand: the result replaces the frame's own column 'site', whose values differ; rename it to keep both" in said
+    tail = "whose values differ; rename it to keep both"
+    assert f"sites: the result replaces the frame's own column 'load', {tail}" in said
+    assert f"demand: the result replaces the frame's own column 'site', {tail}" in said
     distance, nearest = cKDTree(shapely.get_coordinates(sites.geometry.values)).query(
         shapely.get_coordinates(demand.geometry.values))
     assert plan.demand["site"].tolist() == list(np.array(["A", "B", "C"])[nearest])

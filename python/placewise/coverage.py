@@ -35,7 +35,7 @@ __all__ = ["cover_all", "cover_most", "evaluate_sites"]
 
 
 def _candidates(points: ArrayLike, radius: float, candidates: ArrayLike | None,
-                time_limit: float | None = None) -> ArrayLike:
+                time_limit: float | None = None, fixed: np.ndarray | None = None) -> ArrayLike:
     """The given candidates, or for sites anywhere the finite dominating set of Church (1984):
     the points and the intersections of the circles of ``radius`` around them, one per
     distinct set of covered points (computed by the kernel; with ``time_limit``, those found
@@ -44,19 +44,19 @@ def _candidates(points: ArrayLike, radius: float, candidates: ArrayLike | None,
         return candidates
     from . import _core
 
-    return _core.discrete_circle_candidates(points, radius, time_limit)
+    return _core.discrete_circle_candidates(points, radius, time_limit, fixed)
 
 
 def _anywhere_with_fixed(points: ArrayLike, radius: float, fixed: ArrayLike | None,
                          time_limit: float | None) -> tuple[np.ndarray, np.ndarray | None]:
     """The candidates for sites anywhere beside existing sites at the coordinates ``fixed``:
     the finite dominating set of the points, then the existing sites, and the indices of
-    those (``None`` without them). The set still dominates every new site: whatever an
-    existing site covers, any location's covered points are a subset of one of the set's
-    (Church 1984), so a plan that keeps the existing sites open loses nothing by it."""
-    where = np.asarray(_candidates(points, radius, None, time_limit), dtype=np.float64).reshape(-1, 2)
+    those (``None`` without them). The set still dominates every new site: any location's
+    covered points are a subset of one of the set's (Church 1984), and a plan keeps the
+    existing sites open, so the set leaves out the locations that would add nothing to what
+    they cover (a new site on top of an existing one)."""
     if fixed is None:
-        return where, None
+        return np.asarray(_candidates(points, radius, None, time_limit), dtype=np.float64).reshape(-1, 2), None
     # Refused as the binding refuses any array that is not real numbers (numpy would drop
     # an imaginary part with a warning, parse digits, count dates).
     raw = np.asarray(fixed)
@@ -79,6 +79,7 @@ def _anywhere_with_fixed(points: ArrayLike, radius: float, fixed: ArrayLike | No
         error = InputError(f"fixed[{row}] has a NaN or infinite coordinate: {existing[row].tolist()}")
         error.argument, error.row = "fixed", row
         raise error
+    where = np.asarray(_candidates(points, radius, None, time_limit, existing), dtype=np.float64).reshape(-1, 2)
     return np.concatenate([where, existing]), np.arange(len(where), len(where) + len(existing))
 
 
@@ -219,12 +220,14 @@ def cover_most(
     placewise.discrete.CoverMostSelection
         With sites anywhere, at most as many new sites as the dominating set has candidates
         (not fixed): once ``p`` reaches that, they are all open and every point is covered,
-        so a further site is not placed.
+        so a further site is not placed. Beside existing sites, that set leaves out the
+        locations that would cover nothing they do not already cover.
 
     Raises
     ------
     InputError
-        As :func:`cover_all`, and for ``p`` larger than the given candidates not fixed.
+        As :func:`cover_all`, for ``p`` larger than the given candidates not fixed, and with
+        sites anywhere when the existing sites already cover every point.
 
     Examples
     --------
@@ -241,7 +244,11 @@ def cover_most(
     since = time.monotonic()
     if candidates is None:
         candidates, fixed = _anywhere_with_fixed(points, radius, fixed, time_limit)
-        p = _new_sites_anywhere(p, len(candidates) - (0 if fixed is None else len(fixed)))
+        free = len(candidates) - (0 if fixed is None else len(fixed))
+        if free == 0 and isinstance(p, (int, np.integer)) and not isinstance(p, bool) and p >= 1:
+            refuse("p", f"p: the existing sites already cover every point within radius {radius}, so no new "
+                   "site can add coverage; the plan is the existing sites (evaluate_sites measures them)")
+        p = _new_sites_anywhere(p, free)
     return discrete.cover_most_planar(points, candidates, p, radius, weights, fixed=fixed, unit=unit,
                                       time_limit=_left(time_limit, since), progress=progress)
 

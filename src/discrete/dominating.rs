@@ -28,20 +28,32 @@ pub const MAX_DOMINATING_CANDIDATES: usize = 4_000_000;
 /// The demand points and the pairwise intersection points of the circles of radius `radius`
 /// around them, one per distinct set of covered points (see the module docs).
 ///
+/// Beside existing sites at `fixed` (always open), a candidate counts only the points no
+/// existing site covers: one that adds nothing to them is left out, and of candidates that
+/// add the same points one is kept. Whatever the existing sites cover is covered in every
+/// plan, so the set still holds an optimal choice of new sites.
+///
 /// Each intersection point is moved toward the midpoint of its two points by a relative
 /// `1e-9` of its distance to it, so rounding never leaves either point outside the radius
 /// (the midpoint is within the radius of both, and both disks are convex).
 ///
 /// # Errors
-/// Bad `points`; [`Error::InvalidParameter`] naming `radius` when it is not finite and
+/// Bad `points` or `fixed`; [`Error::InvalidParameter`] naming `radius` when it is not finite and
 /// positive, or when more than `limit` candidates arise (dense points for the radius).
 ///
 /// # Runtime
 /// O(n log n + K log n) for K pairs within `2 · radius`. The clock of `limits` is polled
 /// every [`POLL_POINTS`] points; stopped, the candidates found so far are returned (every
 /// demand point is among them, so every point can still be covered). Progress counts points.
-pub fn circle_intersections(points: &[Point], radius: f64, limit: usize, limits: &RunLimits) -> Result<Vec<Point>> {
+pub fn circle_intersections(
+    points: &[Point],
+    fixed: &[Point],
+    radius: f64,
+    limit: usize,
+    limits: &RunLimits,
+) -> Result<Vec<Point>> {
     validate_points("points", points, 1)?;
+    validate_points("fixed", fixed, 0)?;
     check_radius(radius)?;
     let clock = limits.clock();
     let mut steps = Steps::new(&clock.watch, points.len() as u64);
@@ -79,22 +91,37 @@ pub fn circle_intersections(points: &[Point], radius: f64, limit: usize, limits:
         }
     }
     steps.finish();
-    // Dominance: one candidate per distinct set of covered points (the first, so demand
-    // points come before intersection points).
+    let covered_before = |c: Point| -> Vec<usize> {
+        tree.locate_within_distance(c, radius * radius * (1.0 + 1e-12))
+            .filter(|q| distance(c, *q.geom()) <= radius)
+            .map(|q| q.data)
+            .collect()
+    };
+    // The points an existing site covers, by the same test as every candidate's.
+    let mut served = vec![false; points.len()];
+    for &f in fixed {
+        for i in covered_before(f) {
+            served[i] = true;
+        }
+    }
+    // Dominance: one candidate per distinct set of points it adds to the existing sites'
+    // (the first, so demand points come before intersection points); none adding nothing.
     let sets: Vec<Vec<usize>> = candidates
         .par_iter()
         .map(|&c| {
-            let mut set: Vec<usize> = tree
-                .locate_within_distance(c, radius * radius * (1.0 + 1e-12))
-                .filter(|q| distance(c, *q.geom()) <= radius)
-                .map(|q| q.data)
-                .collect();
+            let mut set = covered_before(c);
+            set.retain(|&i| !served[i]);
             set.sort_unstable();
             set
         })
         .collect();
     let mut seen = HashSet::with_capacity(sets.len());
-    Ok(candidates.into_iter().zip(sets).filter(|(_, set)| seen.insert(set.clone())).map(|(c, _)| c).collect())
+    Ok(candidates
+        .into_iter()
+        .zip(sets)
+        .filter(|(_, set)| !set.is_empty() && seen.insert(set.clone()))
+        .map(|(c, _)| c)
+        .collect())
 }
 
 #[cfg(test)]
@@ -105,7 +132,7 @@ mod tests {
     fn two_points_closer_than_the_diameter_meet_twice() {
         // Closed form: points (0, 0) and (2, 0), radius √2: circles meet at (1, ±1), each
         // covering both points; the two points cover only themselves.
-        let c = circle_intersections(&[[0.0, 0.0], [2.0, 0.0]], 2f64.sqrt(), 100, &RunLimits::default()).unwrap();
+        let c = circle_intersections(&[[0.0, 0.0], [2.0, 0.0]], &[], 2f64.sqrt(), 100, &RunLimits::default()).unwrap();
         // (1, 1) and (1, -1) cover the same pair: one is kept.
         assert_eq!(c.len(), 3);
         assert!((c[2][0] - 1.0).abs() < 1e-8 && (c[2][1].abs() - 1.0).abs() < 1e-8, "{c:?}");
@@ -117,8 +144,27 @@ mod tests {
     #[test]
     fn too_many_intersections_are_refused() {
         let points: Vec<Point> = (0..30).map(|i| [f64::from(i) * 0.01, 0.0]).collect();
-        let e = circle_intersections(&points, 1.0, 50, &RunLimits::default()).unwrap_err();
+        let e = circle_intersections(&points, &[], 1.0, 50, &RunLimits::default()).unwrap_err();
         assert!(e.to_string().starts_with("radius: the circles of radius 1 around the points meet in more than 50"));
-        assert!(circle_intersections(&points, 0.0, 50, &RunLimits::default()).is_err());
+        assert!(circle_intersections(&points, &[], 0.0, 50, &RunLimits::default()).is_err());
+    }
+
+    #[test]
+    fn existing_sites_leave_out_the_candidates_that_add_nothing() {
+        // Closed form: points (0, 0), (2, 0) and (9, 0), radius √2, an existing site at
+        // (9, 0). Without it: the three points and one of (1, ±1). With it: (9, 0) adds
+        // nothing; (0, 0) and (2, 0) add one point each and (1, 1) adds both.
+        let points = [[0.0, 0.0], [2.0, 0.0], [9.0, 0.0]];
+        let all = circle_intersections(&points, &[], 2f64.sqrt(), 100, &RunLimits::default()).unwrap();
+        assert_eq!(all.len(), 4);
+        let beside = circle_intersections(&points, &[[9.0, 0.0]], 2f64.sqrt(), 100, &RunLimits::default()).unwrap();
+        assert_eq!(beside.len(), 3);
+        assert!(beside.iter().all(|c| distance(*c, [9.0, 0.0]) > 2.0), "{beside:?}");
+        // An existing site covering both (0, 0) and (2, 0) leaves (9, 0) alone; a bad one
+        // is refused by name.
+        let beside = circle_intersections(&points, &[[1.0, 0.5]], 2f64.sqrt(), 100, &RunLimits::default()).unwrap();
+        assert_eq!(beside, vec![[9.0, 0.0]]);
+        let e = circle_intersections(&points, &[[f64::NAN, 0.0]], 1.0, 100, &RunLimits::default()).unwrap_err();
+        assert!(e.to_string().starts_with("fixed[0]"), "{e}");
     }
 }

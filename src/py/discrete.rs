@@ -176,22 +176,26 @@ fn discrete_euclidean_costs<'py>(
 }
 
 /// Candidate sites for coverage anywhere in the plane within `radius` of `points` (the
-/// finite dominating set), `(k, 2)`; with `time_limit`, the candidates found by then (the
-/// points among them: still a set every point can be covered from).
+/// finite dominating set), `(k, 2)`, beside existing sites at `fixed` (those adding nothing
+/// to them left out); with `time_limit`, the candidates found by then (the points among
+/// them: still a set every point can be covered from).
 #[pyfunction]
-#[pyo3(signature = (points, radius, time_limit=None))]
+#[pyo3(signature = (points, radius, time_limit=None, fixed=None))]
 fn discrete_circle_candidates<'py>(
     py: Python<'py>,
     points: &Bound<'py, PyAny>,
     radius: &Bound<'py, PyAny>,
     time_limit: Option<&Bound<'py, PyAny>>,
+    fixed: Option<&Bound<'py, PyAny>>,
 ) -> PyResult<Bound<'py, PyArray2<f64>>> {
     let radius = radius_arg(radius)?;
     let (limits, mut progress) = watched(time_limit, None, "candidates")?;
     let pts = points_arg(points, "points")?;
     let a = as_point_slice(&pts);
+    let held = fixed.map(|f| points_arg(f, "fixed")).transpose()?;
+    let f = held.as_ref().map_or(&[][..], |h| as_point_slice(h));
     let out = run_watched(py, &limits.watch, &mut progress, || {
-        circle_intersections(a, radius, MAX_DOMINATING_CANDIDATES, &limits)
+        circle_intersections(a, f, radius, MAX_DOMINATING_CANDIDATES, &limits)
     })?;
     let k = out.len();
     PyArray1::from_vec(py, out.into_iter().flatten().collect()).reshape([k, 2])
