@@ -169,6 +169,8 @@ pub enum Error {
         demand: f64,
         /// Total capacity.
         capacity: f64,
+        /// Whether the model can leave demand unserved (and so the advice offers it).
+        may_leave_unserved: bool,
     },
     /// An error inside one group of a grouped run.
     InGroup {
@@ -312,12 +314,16 @@ impl Error {
                 namer.row("points", *row)
             ),
             Error::InvalidParameter { name, reason } => format!("{name}: {reason}"),
-            Error::Shortfall { demand, capacity } => format!(
-                "capacities: total capacity {} is below total demand {}, {} short; raise capacities or \
-                 allow unserved demand",
+            Error::Shortfall { demand, capacity, may_leave_unserved } => format!(
+                "capacities: total capacity {} is below total demand {}, {} short; {}",
                 plain(*capacity),
                 plain(*demand),
-                plain(*demand - *capacity)
+                plain(*demand - *capacity),
+                if *may_leave_unserved {
+                    "raise capacities or allow unserved demand"
+                } else {
+                    "raise capacities (this model serves all the demand)"
+                }
             ),
             Error::InGroup { label, source } => format!("group {}: {}", namer.group(*label), source.describe(namer)),
         }

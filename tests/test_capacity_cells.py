@@ -147,6 +147,11 @@ def test_inputs_are_checked():
     with pytest.raises(pw.InputError, match="1 is below total demand 4, 3 short") as e:
         pw.capacity_cells(points, sites, [0.5, 0.5], [2, 2])
     assert e.value.argument == "capacities"
+    # The cells share out all the demand: the advice does not offer unserved demand, which
+    # this model has no option for (it did).
+    assert str(e.value).endswith("raise capacities (this model serves all the demand)")
+    with pytest.raises(pw.InputError, match="raise capacities or allow unserved demand"):
+        pw.capacity_allocation(points, sites, [0.5, 0.5], [2, 2])
     with pytest.raises(pw.InputError, match=r"capacities\[1\] = -1"):
         pw.capacity_cells(points, sites, [1, -1])
     with pytest.raises(pw.InputError, match="one entry per site"):

@@ -391,7 +391,7 @@ mod tests {
         let sites = [[0.0, 0.0], [1.0, 1.0]];
         let e = capacity_allocation(&points, &sites, &[10.0, 15.0], Weights::Unit, &AllocationOptions::default())
             .unwrap_err();
-        assert_eq!(e, Error::Shortfall { demand: 50.0, capacity: 25.0 });
+        assert_eq!(e, Error::Shortfall { demand: 50.0, capacity: 25.0, may_leave_unserved: true });
         assert!(e.to_string().contains("25 short"));
         let a = capacity_allocation(
             &points,

@@ -99,7 +99,7 @@ pub(crate) fn shortfall(demand: f64, capacity: f64, allow_unserved: bool) -> Res
     if allow_unserved {
         Ok(short)
     } else {
-        Err(Error::Shortfall { demand, capacity })
+        Err(Error::Shortfall { demand, capacity, may_leave_unserved: true })
     }
 }
 

@@ -160,7 +160,7 @@ pub fn capacity_cells(
     let clock = options.limits.clock();
     let mut progress = Steps::new(&clock.watch, NEWTON_STEPS as u64 + 1);
     if capacity_total < demand_total * (1.0 - tol) {
-        return Err(Error::Shortfall { demand: demand_total, capacity: capacity_total });
+        return Err(Error::Shortfall { demand: demand_total, capacity: capacity_total, may_leave_unserved: false });
     }
     let default_box = match region {
         Some(r) => {
@@ -646,7 +646,8 @@ mod tests {
         let e =
             capacity_cells(&points, &sites, &[10.0, 10.0, 10.0, 0.0], Weights::Unit, None, &CellsOptions::default())
                 .unwrap_err();
-        assert_eq!(e, Error::Shortfall { demand: 400.0, capacity: 30.0 });
+        assert_eq!(e, Error::Shortfall { demand: 400.0, capacity: 30.0, may_leave_unserved: false });
+        assert!(e.to_string().ends_with("raise capacities (this model serves all the demand)"), "{e}");
     }
 
     #[test]
