@@ -710,7 +710,9 @@ def test_weighted_costs_that_overflow_are_refused() -> None:
     for call in (lambda: discrete.p_median(costs, 1, w), lambda: discrete.p_center(costs, 1, w),
                  lambda: pw.p_median([[0.0, 0.0], [1e300, 0.0], [0.0, 1e300]], 1, [1e10, 1, 1],
                                      candidates=[[0.0, 0.0], [1e300, 1e300]])):
-        with pytest.raises(pw.InputError, match="rescale the costs or the weights") as caught:
+        # Coordinates' costs are distances the caller never wrote: the advice names both.
+        with pytest.raises(pw.InputError, match=r"rescale the costs \(or the coordinates they are distances "
+                           r"between\) or the weights") as caught:
             call()
         assert caught.value.argument == "costs"
     # The same instance in units 1e10 times larger: site 0, by numpy's own totals.
