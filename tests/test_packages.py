@@ -18,7 +18,7 @@ import pytest
 
 import placewise as pw
 
-PACKAGES = ["placewise.enclose"]
+PACKAGES = ["placewise.enclose", "placewise.network"]
 
 
 def _public(packages: list[str]) -> list[tuple[str, str]]:
@@ -68,6 +68,7 @@ def test_every_written_example_is_collected_once(package: str) -> None:
     ("package", "make"),
     [
         ("placewise.enclose", lambda: pw.enclosing_circle([[0, 0], [4, 0], [2, 1]])),
+        ("placewise.network", lambda: pw.steiner_tree([[0, 0], [1, 0], [1, 1], [0, 1]])),
     ],
 )
 def test_pickled_result_names_the_package(package: str, make: typing.Callable[[], typing.Any]) -> None:
