@@ -18,7 +18,7 @@ import pytest
 
 import placewise as pw
 
-PACKAGES = ["placewise.capacity", "placewise.enclose", "placewise.network"]
+PACKAGES = ["placewise.capacity", "placewise.discrete", "placewise.enclose", "placewise.network"]
 
 
 def _public(packages: list[str]) -> list[tuple[str, str]]:
@@ -68,6 +68,7 @@ def test_every_written_example_is_collected_once(package: str) -> None:
     ("package", "make"),
     [
         ("placewise.capacity", lambda: pw.capacity_cells([[0, 0], [1, 0], [2, 0]], [[0, 0], [2, 0]], [1.5, 1.5])),
+        ("placewise.discrete", lambda: pw.discrete.p_median_planar([[0, 0], [1, 0], [9, 0]], [[0, 0], [10, 0]], 1)),
         ("placewise.enclose", lambda: pw.enclosing_circle([[0, 0], [4, 0], [2, 1]])),
         ("placewise.network", lambda: pw.steiner_tree([[0, 0], [1, 0], [1, 1], [0, 1]])),
     ],
