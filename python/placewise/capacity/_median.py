@@ -1,0 +1,130 @@
+"""The capacitated p-median: CapacitatedMedianPlan, capacitated_p_median."""
+
+from __future__ import annotations
+
+import dataclasses
+from collections.abc import Callable
+from typing import Any
+
+import numpy as np
+from numpy.typing import ArrayLike
+
+from .. import _core
+from .._results import as_points
+from ._allocation import CapacityPlan
+
+
+@dataclasses.dataclass(frozen=True, repr=False, eq=False)
+class CapacitatedMedianPlan(CapacityPlan):
+    """A capacitated p-median plan: the sites and how they serve the demand.
+
+    Besides the :class:`CapacityPlan` fields (the exact split allocation to these sites):
+
+    Attributes
+    ----------
+    chosen : ndarray of int64, shape (p,)
+        With candidates: the candidate row of each site (else empty).
+    median_lower_bound, median_relative_gap : float
+        With candidates: the cost of the transportation plan with every candidate open (a
+        proven lower bound on any plan of ``p`` sites) and the gap to it; NaN for
+        continuous sites, where no cheap relaxation is known.
+    rounds : int
+        Location–allocation rounds run.
+    converged : bool
+        True when the rounds ended because moving the sites no longer lowered the cost;
+        False when ``max_rounds`` or ``time_limit`` cut them short (the plan is then the
+        best found, its allocation still exact and within the capacities).
+    """
+
+    chosen: np.ndarray = dataclasses.field(default_factory=lambda: np.zeros(0, dtype=np.int64), repr=False)
+    median_lower_bound: float = dataclasses.field(default=float("nan"), repr=False)
+    median_relative_gap: float = float("nan")
+    rounds: int = dataclasses.field(default=0, repr=False)
+    converged: bool = True
+
+    def summary(self) -> Any:
+        """As :meth:`CapacityPlan.summary`, with ``median_lower_bound_<unit>``,
+        ``median_relative_gap``, ``rounds`` and ``converged``."""
+        frame = super().summary()
+        frame[self._u("median_lower_bound")] = [self.median_lower_bound]
+        frame["median_relative_gap"] = [self.median_relative_gap]
+        frame["rounds"] = [self.rounds]
+        frame["converged"] = [self.converged]
+        return frame
+
+
+def capacitated_p_median(
+    points: ArrayLike, p: int, capacities: ArrayLike, weights: ArrayLike | None = None, *,
+    candidates: ArrayLike | None = None, seed: int = 0, max_rounds: int = 100, unit: str = "u",
+    time_limit: float | None = None, progress: bool | Callable[[int, int], object] = False,
+) -> CapacitatedMedianPlan:
+    """``p`` sites with capacities and the least total distance ``Σ amount × distance``.
+
+    Location–allocation (Cooper 1964) with a capacitated allocation step: allocate by the
+    exact transportation plan, move each site to the best location for the demand it
+    serves, and repeat while the cost falls. The start is the uncapacitated p-median plan.
+    Without candidates a site moves to the weighted Fermat–Weber point of its demand; with
+    candidates to the free candidate serving that demand most cheaply with room for it,
+    and the plan with every candidate open gives a proven lower bound.
+
+    Parameters
+    ----------
+    points : array_like, shape (n, 2)
+        Demand locations.
+    p : int
+        Number of sites, at least 1: with candidates, at most their number (it may exceed
+        the number of demand locations, when small capacities need several sites for one
+        point); without, at most the number of distinct points of positive weight.
+    capacities : array_like
+        Without candidates: shape (p,), the capacity of each site to place. With
+        candidates: shape (m,), the capacity of each candidate.
+    weights : array_like, shape (n,), optional
+        Demand per point. Default: all 1.
+    candidates : array_like, shape (m, 2), optional
+        Locations the sites must be chosen from.
+    seed : int
+        Seed of the uncapacitated start.
+    max_rounds : int
+        Most location–allocation rounds.
+    unit : str
+        Name of the coordinates' length unit.
+    time_limit : float, optional
+        Seconds (finite, above zero) the run may take, counted from the call's start (reading
+        the arguments included). When they pass after the first
+        transportation plan, the best plan so far is returned with ``converged`` False
+        (with candidates and no time left for the relaxation, ``median_lower_bound`` and
+        ``median_relative_gap`` are NaN: nothing is proven); before it, no plan meeting the
+        capacities exists yet and an ``InputError`` names ``time_limit``. Default: no limit.
+    progress : bool or callable
+        True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
+        callable is called as ``progress(done, total)`` from the calling thread while the
+        run works, counting the start, the first plan and the rounds against
+        ``max_rounds`` (closed at the total when the run ends). Ctrl-C stops the run
+        within a fraction of a second and raises ``KeyboardInterrupt``.
+
+    Returns
+    -------
+    CapacitatedMedianPlan
+
+    Raises
+    ------
+    InputError
+        As :func:`capacity_allocation`; for ``p`` out of range; when the capacities (with
+        candidates: the ``p`` largest) cannot hold the demand; naming ``time_limit`` when
+        it passed before the first plan.
+
+    Examples
+    --------
+    Two of three depot lots, 3 units each, for clusters of 4 and 2 shops:
+
+    >>> import placewise as pw
+    >>> shops = [[0, 0], [0, 1], [1, 0], [1, 1], [9, 9], [9, 8]]
+    >>> plan = pw.capacitated_p_median(shops, 2, [3, 3, 3], candidates=[[0, 0], [1, 1], [9, 9]])
+    >>> plan.chosen.tolist(), plan.load.tolist()
+    ([0, 2], [3.0, 3.0])
+    """
+    fields = _core.capacity_p_median(points, p, capacities, weights, candidates, seed, max_rounds, time_limit,
+                                     progress)
+    sites = fields.pop("sites")
+    caps = fields.pop("capacities")
+    return CapacitatedMedianPlan(**fields, points=as_points(points), sites=sites, capacities=caps, unit=unit)
