@@ -18,7 +18,8 @@ import pytest
 
 import placewise as pw
 
-PACKAGES = ["placewise.capacity", "placewise.demo", "placewise.discrete", "placewise.enclose", "placewise.network"]
+PACKAGES = ["placewise.capacity", "placewise.demo", "placewise.discrete", "placewise.enclose", "placewise.multi",
+            "placewise.network", "placewise.partition"]
 
 
 def _public(packages: list[str]) -> list[tuple[str, str]]:

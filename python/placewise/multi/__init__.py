@@ -28,6 +28,7 @@ from __future__ import annotations
 # class names, which is this package (see the end): the names they use must be here.
 import numpy as np  # noqa: F401
 
+from .._package import adopt
 from ._center import CenterPlan, CenterPlans, p_center
 from ._median import MedianPlan, MedianPlans, p_median
 
@@ -35,6 +36,4 @@ __all__ = ["CenterPlan", "CenterPlans", "MedianPlan", "MedianPlans", "p_center",
 
 # The public objects live in the private modules above but belong to this package: their
 # reprs, pickles and reference entries name it, as they did when it was one module.
-for _name in __all__:
-    globals()[_name].__module__ = __name__
-del _name
+adopt(globals())

@@ -17,6 +17,7 @@ from __future__ import annotations
 # class names, which is this package (see the end): the names they use must be here.
 import numpy as np  # noqa: F401
 
+from .._package import adopt
 from ._allocation import Allocation, Allocations, nearest_site
 from ._delaunay import DelaunayMesh, DelaunayMeshes, delaunay
 from ._power import PowerCells, PowerCellSets, power_cells
@@ -42,6 +43,4 @@ __all__ = [
 
 # The public objects live in the private modules above but belong to this package: their
 # reprs, pickles and reference entries name it, as they did when it was one module.
-for _name in __all__:
-    globals()[_name].__module__ = __name__
-del _name
+adopt(globals())
