@@ -69,6 +69,7 @@ def test_a_limit_too_short_for_any_plan_is_a_clear_error(name: str) -> None:
         MODELS[name](time_limit=1e-9)
     assert caught.value.argument == "time_limit"
     assert "allow more time" in str(caught.value)
+    assert "  " not in str(caught.value)  # one sentence (a run of 18 spaces stood in its middle)
     with pytest.raises(pw.InputError, match="time_limit must be finite and > 0"):
         MODELS[name](time_limit=-1.0)
 

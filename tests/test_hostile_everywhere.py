@@ -95,8 +95,16 @@ def test_every_public_kernel_is_in_the_catalogue() -> None:
 @pytest.mark.parametrize("kernel", NAMES)
 @pytest.mark.parametrize("case, points", BAD_POINTS, ids=[n for n, _ in BAD_POINTS])
 def test_bad_points_raise_input_error(kernel: str, case: str, points: Any) -> None:
-    with pytest.raises(pw.InputError):
+    with pytest.raises(pw.InputError) as caught:
         KERNELS[kernel](points)
+    well_written(caught.value)
+
+
+def well_written(error: Exception) -> None:
+    """A message reads as written: no run of spaces from a broken line continuation, no
+    blank start or end."""
+    text = str(error)
+    assert text == text.strip() and "  " not in text, repr(text)
 
 
 @pytest.mark.parametrize("kernel", NAMES)
@@ -104,7 +112,8 @@ def test_bad_points_raise_input_error(kernel: str, case: str, points: Any) -> No
 def test_awkward_points_answer_or_input_error(kernel: str, case: str, points: Any) -> None:
     try:
         result = KERNELS[kernel](points)
-    except pw.InputError:
+    except pw.InputError as error:
+        well_written(error)
         return
     assert result is not None
     repr(result)  # every result prints
@@ -114,8 +123,9 @@ def test_awkward_points_answer_or_input_error(kernel: str, case: str, points: An
 @pytest.mark.parametrize("case, make", BAD_WEIGHTS, ids=[n for n, _ in BAD_WEIGHTS])
 def test_bad_weights_raise_input_error(kernel: str, case: str, make: Callable[[int], np.ndarray]) -> None:
     pts = np.random.default_rng(1).normal(size=(8, 2))
-    with pytest.raises(pw.InputError):
+    with pytest.raises(pw.InputError) as caught:
         KERNELS[kernel](pts, make(8))
+    well_written(caught.value)
 
 
 hostile_floats = st.one_of(
@@ -140,5 +150,5 @@ def test_property_never_anything_but_answer_or_input_error(kernel: str, points: 
         points = np.asfortranarray(points)
     try:
         KERNELS[kernel](points)
-    except pw.InputError:
-        pass
+    except pw.InputError as error:
+        well_written(error)

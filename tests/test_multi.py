@@ -837,3 +837,23 @@ def test_pickled_result_names_the_package() -> None:
     assert b"placewise.multi" in data and b"placewise.multi._" not in data
     back = pickle.loads(data)
     assert type(back) is pw.MedianPlan and np.array_equal(back.sites, result.sites)
+
+
+def test_points_whose_extent_passes_the_float_range_are_answered():
+    # Finite points at -f64::MAX and 1e300: their extent overflows to infinity, the working
+    # frame stayed unscaled, and the p-median stopped with "placewise internal error: index
+    # out of bounds" (a point with no nearest site). Closed forms on a line of three points
+    # (unit weights): p = 2 leaves the two nearest (0 and 1e300) to one site, cost 1e300;
+    # the p-center puts a site midway between them (radius 5e299) or serves them from one
+    # end at the other's distance, whichever is smaller: 5e299.
+    top = np.finfo(np.float64).max
+    pts = np.array([[1e300, 0.0], [-top, 0.0], [0.0, 0.0]])
+    median = pw.p_median(pts, 2)
+    assert median.cost == pytest.approx(1e300, rel=1e-12)
+    assert -top in median.sites[:, 0]
+    center = pw.p_center(pts, 2)
+    assert center.weighted_radius == pytest.approx(5e299, rel=1e-9)
+    # Both ends near ±1.7e308 (their difference 3.4e308 is beyond the range): cost 1.7e308.
+    wide = np.array([[1.7e308, 0.0], [-1.7e308, 0.0], [0.0, 0.0]])
+    assert pw.p_median(wide, 2).cost == pytest.approx(1.7e308, rel=1e-12)
+    assert pw.p_center(wide, 2).weighted_radius == pytest.approx(8.5e307, rel=1e-9)

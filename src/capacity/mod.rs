@@ -28,7 +28,8 @@ use crate::geometry::{validate_points, validate_weights, CompensatedSum, Point, 
 pub(crate) fn stopped() -> Error {
     Error::InvalidParameter {
         name: "time_limit",
-        reason: "the time limit passed before any plan meeting the capacities was found (a plan exists only once                  the transportation problem is solved); allow more time, or none"
+        reason: "the time limit passed before any plan meeting the capacities was found (a plan exists only once \
+                 the transportation problem is solved); allow more time, or none"
             .into(),
     }
 }

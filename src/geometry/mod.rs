@@ -108,6 +108,14 @@ pub fn power_of_two_factor(extent: f64) -> f64 {
     2f64.powi(-exponent.clamp(-1020, 1020))
 }
 
+/// [`power_of_two_factor`] of `half · 2^halvings` for a `half` whose doubling overflows: the
+/// factor of `half · 2^-64`, then `2^-(64 + halvings)`, each step exact (the result may be
+/// subnormal, which a power of two still is exactly).
+fn beyond_the_range_factor(half: f64, halvings: i32) -> f64 {
+    let step = 2f64.powi(-64);
+    power_of_two_factor(half * step) * step * 2f64.powi(-halvings)
+}
+
 /// The one working frame: points shifted so the centre of their bounding box is the origin,
 /// then scaled by a power of two ([`power_of_two_factor`]) so the frame has unit size.
 ///
@@ -127,12 +135,21 @@ pub struct WorkingFrame {
 impl WorkingFrame {
     /// The frame of `points` (the identity for an empty set).
     pub fn of(points: &[Point]) -> WorkingFrame {
-        match BoundingBox::of(points) {
-            Some(b) => WorkingFrame {
-                origin: b.center(),
-                factor: power_of_two_factor((b.max[0] - b.min[0]).max(b.max[1] - b.min[1])),
-            },
-            None => WorkingFrame { origin: [0.0, 0.0], factor: 1.0 },
+        let Some(b) = BoundingBox::of(points) else {
+            return WorkingFrame { origin: [0.0, 0.0], factor: 1.0 };
+        };
+        let extent = (b.max[0] - b.min[0]).max(b.max[1] - b.min[1]);
+        if extent.is_finite() && b.center().iter().all(|c| c.is_finite()) {
+            return WorkingFrame { origin: b.center(), factor: power_of_two_factor(extent) };
+        }
+        // Finite coordinates whose extent (or sum) passes f64::MAX (points near -1.8e308 and
+        // +1e300): halved first, which cannot overflow. The factor of the extent is that of
+        // half of it, halved, taken in two exact steps because [`power_of_two_factor`] stops
+        // at 2^-1020. Every point then lies within a unit of the origin.
+        let half = |k: usize| 0.5 * b.max[k] - 0.5 * b.min[k];
+        WorkingFrame {
+            origin: [0.5 * b.min[0] + 0.5 * b.max[0], 0.5 * b.min[1] + 0.5 * b.max[1]],
+            factor: beyond_the_range_factor(half(0).max(half(1)), 1),
         }
     }
 
@@ -144,27 +161,38 @@ impl WorkingFrame {
     /// moved to the middle of both; kept at their own centre they stay distinct, while the
     /// feature no longer sits so far out that squared distances to it overflow.
     pub fn holding(self, also: &[Point]) -> WorkingFrame {
-        let reach = also
+        // Halved first, so that a distance from the origin beyond f64::MAX stays finite.
+        let half_reach = also
             .iter()
-            .map(|p| (p[0] - self.origin[0]).abs().max((p[1] - self.origin[1]).abs()))
+            .map(|p| (0.5 * p[0] - 0.5 * self.origin[0]).abs().max((0.5 * p[1] - 0.5 * self.origin[1]).abs()))
             .fold(0.0f64, f64::max);
-        if reach == 0.0 {
+        if half_reach == 0.0 {
             // Nothing to hold beyond the origin (no points at all): the frame as it is, not
             // one capped at the factor `power_of_two_factor` gives a zero extent.
             return self;
         }
-        // Half the factor of `reach` is that of `2 · reach`, which overflows past 9e307.
-        WorkingFrame { factor: self.factor.min(0.5 * power_of_two_factor(reach)), ..self }
+        let reach = 2.0 * half_reach;
+        // Half the factor of `reach` is that of `2 · reach`, which overflows past 9e307; for a
+        // reach beyond f64::MAX, the same from half the reach.
+        let factor =
+            if reach.is_finite() { 0.5 * power_of_two_factor(reach) } else { beyond_the_range_factor(half_reach, 2) };
+        WorkingFrame { factor: self.factor.min(factor), ..self }
     }
 
     /// A world point in local coordinates.
     pub fn to_local(self, p: Point) -> Point {
-        scale(sub(p, self.origin), self.factor)
+        let d = sub(p, self.origin);
+        if d[0].is_finite() && d[1].is_finite() {
+            return scale(d, self.factor);
+        }
+        // A difference beyond f64::MAX (a point held far across the origin): halved first.
+        scale(sub(scale(p, 0.5), scale(self.origin, 0.5)), 2.0 * self.factor)
     }
 
     /// A local point in world coordinates.
     pub fn to_world(self, q: Point) -> Point {
-        add(scale(q, 1.0 / self.factor), self.origin)
+        // Divided, not multiplied by the reciprocal: that overflows for a subnormal factor.
+        add([q[0] / self.factor, q[1] / self.factor], self.origin)
     }
 
     /// Every point in local coordinates.
@@ -204,6 +232,34 @@ pub fn ring_signed_area(ring: &[Point]) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_frame_holds_finite_points_whose_extent_passes_the_float_range() {
+        // Points at -f64::MAX and 1e300: their extent overflows to infinity, which left the
+        // frame unscaled and every squared distance infinite (the p-median then met a point
+        // with no nearest site). Closed form: halved, the extent is 0.5 · MAX + 5e299, just
+        // above 2^1023, so the factor is 2^-1025 (subnormal, still exact) and every local
+        // coordinate lies within one unit.
+        let points = [[-f64::MAX, 0.0], [1e300, 0.0], [0.0, 0.0]];
+        let frame = WorkingFrame::of(&points);
+        assert_eq!(frame.factor, 2f64.powi(-1000) * 2f64.powi(-25));
+        for p in points {
+            let q = frame.to_local(p);
+            assert!(q[0].abs() <= 1.0 && q[1].abs() <= 1.0, "{q:?}");
+            let back = frame.to_world(q);
+            assert!((back[0] - p[0]).abs() <= 1e-15 * f64::MAX, "{back:?} {p:?}");
+        }
+        // Both near +MAX: their sum overflowed the centre.
+        let high = WorkingFrame::of(&[[f64::MAX, 0.0], [0.9 * f64::MAX, 1.0]]);
+        assert!(high.origin[0].is_finite() && high.to_local([f64::MAX, 0.0])[0].abs() <= 1.0);
+        // A far point to hold beyond f64::MAX from the origin.
+        let held = WorkingFrame::of(&[[f64::MAX, 0.0], [f64::MAX, 1.0]]).holding(&[[-f64::MAX, 0.0]]);
+        assert!(held.to_local([-f64::MAX, 0.0])[0].abs() <= 1.0, "{held:?}");
+        // Ordinary extents keep the exact frame they had.
+        let usual = WorkingFrame::of(&[[500_000.0, 6e6], [500_100.0, 6.0001e6]]);
+        assert_eq!(usual.origin, [500_050.0, 6_000_050.0]);
+        assert_eq!(usual.factor, 2f64.powi(-7));
+    }
 
     #[test]
     fn ring_area_of_unit_square_is_one_ccw_and_minus_one_cw() {
