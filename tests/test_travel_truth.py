@@ -16,6 +16,26 @@ import placewise as pw
 shapely = pytest.importorskip("shapely")
 
 
+# ------------------------------------------------------------------ costs of zero
+
+
+def test_negative_zero_costs_are_zero_and_the_k_nearest_are_the_cheapest():
+    # A street of cost -0.0 (equal to 0 by IEEE 754): the destination on it costs 0 and is
+    # the cheapest (brute force over the dense row). Its sign bit made its heap key the
+    # largest of all, so k=1 gave the destination on the next street (cost 0.5).
+    g = pw.TravelGraph.from_lines([[(0, 0), (10, 0)], [(10, 0), (20, 0)]], cost=[-0.0, 1.0])
+    dense = g.costs([[5, 0]], [[15, 0], [2, 0]])
+    assert np.array_equal(dense, [[0.5, 0.0]]) and not np.signbit(dense).any()
+    near = g.costs([[5, 0]], [[15, 0], [2, 0]], k=1)
+    assert list(near.indices) == [int(np.argmin(dense[0]))] and list(near.data) == [0.0]
+    # Many sites: the one on the zero-cost street labels it (multi-source search).
+    c = g.nearest_site([[3, 0], [18, 0]], [[15, 0], [6, 0]])
+    assert list(c.site) == [1, 0] and c.cost[0] == 0.0
+    assert c.cost[1] == pytest.approx(0.3, rel=1e-12)
+    edges = pw.TravelGraph.from_edges([0, 1], [1, 2], [-0.0, 2.0], reverse_cost=[1.0, -0.0])
+    assert not np.signbit(edges.edges_frame().filter(like="cost").to_numpy()).any()
+
+
 # ------------------------------------------------------------------ units of length
 
 

@@ -216,8 +216,10 @@ impl TravelGraph {
                 })?,
                 None => OneWay::Both,
             };
-            forward.push(if way == OneWay::Backward { f64::INFINITY } else { cost[row] });
-            backward.push(if way == OneWay::Forward { f64::INFINITY } else { back });
+            // `+ 0.0` turns a cost of -0.0 (allowed: it equals 0) into +0.0: searches order
+            // costs by their bits, where the sign bit put -0.0 after every positive cost.
+            forward.push(if way == OneWay::Backward { f64::INFINITY } else { cost[row] + 0.0 });
+            backward.push(if way == OneWay::Forward { f64::INFINITY } else { back + 0.0 });
         }
         // CSR by counting: arcs out of each node, in edge order.
         let mut first = vec![0u32; nodes + 1];

@@ -352,3 +352,21 @@ fn costs_count_one_step_per_origin_and_a_cancelled_run_searches_nothing_more() {
     assert_eq!(watch.progress(), (n, 2 * n));
     assert!(watch.finish(()).is_err());
 }
+
+#[test]
+fn a_cost_of_negative_zero_is_zero_and_its_destination_the_nearest() {
+    // A street of cost -0.0 (equal to 0): the destination on it is the cheapest (brute force
+    // over the destinations' costs). Its sign bit ordered it after every positive cost.
+    let coords = [[0.0, 0.0], [10.0, 0.0], [10.0, 0.0], [20.0, 0.0]];
+    let options = LineOptions { cost: Some(&[-0.0, 1.0]), ..Default::default() };
+    let graph = TravelGraph::from_lines(&coords, &[0, 2, 4], &options).unwrap();
+    assert!(graph.edge_costs().0.iter().chain(graph.edge_costs().1).all(|c| c.is_sign_positive()));
+    let origin = [Spot::OnEdge { edge: 0, fraction: 0.5 }];
+    let destinations = [Spot::OnEdge { edge: 1, fraction: 0.5 }, Spot::OnEdge { edge: 0, fraction: 0.2 }];
+    let all = travel_costs(&graph, &origin, &destinations, &CostOptions::default()).unwrap();
+    let cheapest = (0..2).min_by(|&a, &b| all.costs[a].total_cmp(&all.costs[b])).unwrap();
+    let options = CostOptions { k: Some(1), ..Default::default() };
+    let nearest = travel_costs(&graph, &origin, &destinations, &options).unwrap();
+    assert_eq!(nearest.columns, vec![cheapest as u32]);
+    assert_eq!(nearest.costs, vec![0.0]);
+}
