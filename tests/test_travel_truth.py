@@ -36,6 +36,42 @@ def test_negative_zero_costs_are_zero_and_the_k_nearest_are_the_cheapest():
     assert not np.signbit(edges.edges_frame().filter(like="cost").to_numpy()).any()
 
 
+# ------------------------------------------------------------------ geographic coordinates
+
+
+def test_geodesic_pieces_have_the_geodesic_length_of_their_costs():
+    # Reference: pyproj.Geod(ellps="WGS84").line_length of each piece's shape (Karney 2013
+    # through PROJ). A street at 60 degrees north, 0.02 degrees east then 0.01 north: both legs
+    # are about 1.1 km, so shares of length in degrees (2:1) are not shares in metres (1:1).
+    pyproj = pytest.importorskip("pyproj")
+    geod = pyproj.Geod(ellps="WGS84")
+    line = np.array([[10.0, 60.0], [10.02, 60.0], [10.02, 60.01]])
+    g = pw.TravelGraph.from_lines([line], geodesic=True)
+    total = geod.line_length(line[:, 0], line[:, 1])
+    assert g.edges_frame()["cost_forward_m"][0] == pytest.approx(total, rel=1e-12)
+
+    def lengths(pieces):
+        return np.array([geod.line_length(*pieces.coords[a:b].T) for a, b in zip(pieces.offsets, pieces.offsets[1:])])
+
+    reach = g.reach([line[0]], 1500.0)
+    np.testing.assert_allclose(lengths(reach), [1500.0], rtol=1e-9)
+    np.testing.assert_allclose(lengths(reach), (reach.end - reach.start) * total, rtol=1e-9)
+    split = g.catchment_edges([line[0], line[-1]])
+    np.testing.assert_allclose(lengths(split), [total / 2, total / 2], rtol=1e-9)
+    # The meeting point: as far from either end by pyproj.Geod.inv (shares in degrees put it
+    # 0.005 degrees east of that, 278 m nearer the east end).
+    meet = split.coords[split.offsets[1]]
+    assert geod.inv(*line[0], *meet)[2] == pytest.approx(total / 2, rel=1e-9)
+    # A site part-way: its piece starts at its attachment point.
+    site = np.array([[10.01, 60.0001]])
+    a = g.snap(site)
+    around = g.reach(site, 300.0)
+    # (rtol 1e-7: three points of one straight lon/lat segment are not on one geodesic, so
+    # the geodesic lengths of its parts add up only to about 1e-9 of their length.)
+    np.testing.assert_allclose(lengths(around), [300.0, 300.0], rtol=1e-7)
+    assert np.allclose(around.coords[around.offsets[1]], a.on_edge[0], rtol=0, atol=1e-12)
+
+
 # ------------------------------------------------------------------ units of length
 
 
