@@ -5,8 +5,10 @@ pyproj.Geod lengths, and the axis unit pyproj names for each CRS."""
 
 from __future__ import annotations
 
+import itertools
 import subprocess
 import sys
+import warnings
 
 import numpy as np
 import pytest
@@ -14,6 +16,184 @@ import pytest
 import placewise as pw
 
 shapely = pytest.importorskip("shapely")
+csgraph = pytest.importorskip("scipy.sparse.csgraph")
+
+
+# ------------------------------------------------------------------ the reference
+
+
+def _reference(lines, points, one_way=None, cost=None):
+    """Travel costs between ``points`` (rows) and ``points`` (columns) on an independent
+    graph: nodes at exactly equal line ends; every point attached to its nearest line by
+    shapely (distance to every line of positive length, lowest row on ties) at shapely.line_locate_point; each
+    line cut at the points on it, a piece costing its share of the line's cost by length;
+    all pairs by scipy.sparse.csgraph.dijkstra. Also returns each point's line and gap."""
+    geoms = [shapely.LineString(x) for x in lines]
+    length = shapely.length(geoms)
+    cost = length if cost is None else np.asarray(cost, dtype=float)
+    one_way = np.zeros(len(lines), dtype=int) if one_way is None else np.asarray(one_way)
+    node_of: dict[tuple[float, float], int] = {}
+    ends = [[node_of.setdefault(tuple(np.asarray(x, float)[i]), len(node_of)) for i in (0, -1)] for x in lines]
+    pts = shapely.points(points)
+    # Lines of zero length are never attached to (they lead nowhere but their own end).
+    dist = np.stack([shapely.distance(pts, g) if n > 0 else np.full(len(points), np.inf)
+                     for g, n in zip(geoms, length)], axis=1)
+    line = np.argmin(dist, axis=1)
+    gap = dist[np.arange(len(points)), line]
+    at = shapely.line_locate_point(np.array(geoms, dtype=object)[line], pts)
+    first_point_node = len(node_of)
+    n = first_point_node + len(points)
+    dense = np.full((n, n), np.inf)
+
+    def link(a, b, c_fwd, c_bwd, way):
+        if way >= 0:
+            dense[a, b] = min(dense[a, b], c_fwd)
+        if way <= 0:
+            dense[b, a] = min(dense[b, a], c_bwd)
+
+    for row, (tail, head) in enumerate(ends):
+        on = sorted((at[i], first_point_node + i) for i in np.flatnonzero(line == row))
+        stops = [(0.0, tail), *on, (length[row], head)]
+        for (s0, u), (s1, v) in zip(stops, stops[1:]):
+            share = (s1 - s0) / length[row] if length[row] > 0 else 0.0
+            # A point attached at a line's end (or where another point is) is at that place:
+            # no length between them, whichever way the line runs.
+            link(u, v, share * cost[row], share * cost[row], one_way[row] if s1 > s0 else 0)
+    np.fill_diagonal(dense, np.inf)
+    between = csgraph.dijkstra(csgraph.csgraph_from_dense(dense, null_value=np.inf),
+                               indices=np.arange(first_point_node, n))
+    return between[:, first_point_node:], line, gap
+
+
+def _awkward_network(seed):
+    """Random streets on a 10 x 10 lattice of corners, with duplicates, a zero-length line, a
+    ring (a self-loop), a separate component and one-way streets."""
+    rng = np.random.default_rng(seed)
+    lines, one_way = [], []
+    for _ in range(40):
+        a = rng.integers(0, 10, 2)
+        b = np.clip(a + rng.integers(-2, 3, 2), 0, 9)
+        if (a == b).all():
+            b = (a + [1, 0]) % 10
+        bend = (a + b) / 2 + rng.uniform(-0.3, 0.3, 2)
+        lines.append(np.array([a, bend, b], dtype=float) * 10)
+        one_way.append(int(rng.choice([-1, 0, 0, 0, 1])))
+    lines.append(lines[3].copy())                                    # a duplicate street
+    one_way.append(0)
+    lines.append(np.array([[50.0, 50.0], [50.0, 50.0]]))             # zero length
+    one_way.append(0)
+    lines.append(np.array([[20.0, 20.0], [25, 20], [25, 25], [20.0, 20.0]]))  # a ring
+    one_way.append(0)
+    lines.append(np.array([[200.0, 200.0], [230.0, 200.0]]))         # far away, alone
+    one_way.append(0)
+    return lines, np.array(one_way)
+
+
+def _demand(seed, count):
+    rng = np.random.default_rng(seed + 100)
+    points = rng.uniform(-5, 95, (count, 2))
+    # One point by the lone street, one far from every street (its gap is no cost).
+    return np.vstack([points, [[600.0, -400.0], [215.0, 203.0]]])
+
+
+# ------------------------------------------------------------------ costs, catchments, siting
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_costs_on_awkward_networks_match_scipy_on_a_graph_built_from_the_lines(seed):
+    lines, one_way = _awkward_network(seed)
+    points = _demand(seed, 30)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        g = pw.TravelGraph.from_lines(lines, one_way=one_way)
+    expected, line, gap = _reference(lines, points, one_way)
+    a = g.snap(points)
+    # Attachment: shapely's nearest line and distance (ties between lines would be ambiguous;
+    # random points have none).
+    np.testing.assert_array_equal(a.edge, line)
+    np.testing.assert_allclose(a.gap, gap, rtol=1e-9, atol=1e-9)
+    ours = g.costs(points, points)
+    assert np.array_equal(np.isnan(ours), np.isinf(expected))  # unreachable pairs flagged, never guessed
+    ok = np.isfinite(expected)
+    np.testing.assert_allclose(ours[ok], expected[ok], rtol=1e-9, atol=1e-9)
+    # The k cheapest destinations: the same costs as the k smallest of scipy's row.
+    for k in (1, 3):
+        near = g.costs(points, points, k=k)
+        for i in range(len(points)):
+            row = np.sort(expected[i][np.isfinite(expected[i])])[:k]
+            got = near.data[near.indptr[i]:near.indptr[i + 1]]
+            np.testing.assert_allclose(np.sort(got), row, rtol=1e-9, atol=1e-9)
+    # Within a limit: the pairs scipy finds within it, with its costs.
+    limit = 40.0
+    within = g.costs(points, points, limit=limit).toarray()
+    kept = g.costs(points, points, limit=limit)
+    mask = np.zeros(ours.shape, dtype=bool)
+    mask[np.repeat(np.arange(len(points)), np.diff(kept.indptr)), kept.indices] = True
+    near_enough = expected <= limit
+    boundary = np.isclose(expected, limit, rtol=1e-9)
+    assert np.array_equal(mask[~boundary], near_enough[~boundary])
+    np.testing.assert_allclose(within[mask], expected[mask], rtol=1e-9, atol=1e-9)
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_nearest_site_on_awkward_networks_matches_scipy(seed):
+    # Reference: the cheapest of scipy's costs from every site; no site at all: flagged.
+    lines, one_way = _awkward_network(seed)
+    places = _demand(seed, 36)
+    sites, points = places[:5], places[5:]
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        g = pw.TravelGraph.from_lines(lines, one_way=one_way)
+    expected, _, _ = _reference(lines, np.vstack([sites, points]), one_way)
+    from_sites = expected[:5, 5:]
+    best = from_sites.min(axis=0)
+    weights = np.arange(1.0, len(points) + 1)
+    c = g.nearest_site(points, sites, weights)
+    reached = np.isfinite(best)
+    np.testing.assert_array_equal(c.reachable, reached)
+    assert np.all(c.site[~reached] == -1) and np.isnan(c.cost[~reached]).all()
+    np.testing.assert_allclose(c.cost[reached], best[reached], rtol=1e-9, atol=1e-9)
+    # The site given is one that costs that much (by scipy), the lowest row among equals.
+    chosen = from_sites[c.site[reached], np.flatnonzero(reached)]
+    np.testing.assert_allclose(chosen, best[reached], rtol=1e-9, atol=1e-9)
+    assert c.unreachable == int((~reached).sum())
+    assert c.unreachable_weight == pytest.approx(weights[~reached].sum())
+    assert c.total_cost == pytest.approx(float((weights * np.where(reached, best, 0)).sum()), rel=1e-9)
+    np.testing.assert_allclose(c.load, [weights[reached][c.site[reached] == s].sum() for s in range(5)])
+    # Within a limit: scipy's costs above it count as unreached.
+    costs = np.unique(best[reached])
+    limit = float(costs[len(costs) // 2] + costs[len(costs) // 2 + 1]) / 2   # between two costs
+    within = g.nearest_site(points, sites, limit=limit)
+    np.testing.assert_array_equal(within.reachable, best <= limit)
+
+
+@pytest.mark.parametrize("seed", range(3))
+def test_p_median_on_network_costs_is_the_brute_force_optimum(seed):
+    # Reference: every choice of p candidates on scipy's costs (brute force).
+    lines, _ = _awkward_network(seed)
+    # One component is needed here: the lone street goes, a grid of streets joins the rest.
+    grid = [np.array([[x, y], [x + 10, y]], float) for x in range(0, 90, 10) for y in range(0, 100, 10)]
+    grid += [np.array([[x, y], [x, y + 10]], float) for x in range(0, 100, 10) for y in range(0, 90, 10)]
+    lines = lines[:-1] + grid
+    places = _demand(seed, 24)[:-2]
+    candidates, points = places[:7], places[7:]
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        g = pw.TravelGraph.from_lines(lines, tolerance=0.0)
+    expected, _, _ = _reference(lines, np.vstack([candidates, points]))
+    matrix = expected[:7, 7:].T
+    assert np.isfinite(matrix).all()
+    weights = np.linspace(1.0, 2.0, len(points))
+    for p in (1, 2, 3):
+        plan = g.choose_sites("p_median", points, candidates, weights, p=p)
+        best = min((weights * matrix[:, list(s)].min(axis=1)).sum() for s in itertools.combinations(range(7), p))
+        assert float(plan.total_cost) == pytest.approx(best, rel=1e-9)
+    radius = float(np.sort(matrix.min(axis=1))[-1]) + 1e-6
+    cover = g.choose_sites("cover_all", points, candidates, radius=radius)
+    fewest = next(p for p in range(1, 8) for s in itertools.combinations(range(7), p)
+                  if (matrix[:, list(s)] <= radius).any(axis=1).all())
+    assert len(cover.open) == fewest
+    assert (matrix[:, cover.open] <= radius).any(axis=1).all()
 
 
 # ------------------------------------------------------------------ costs of zero
@@ -131,3 +311,24 @@ def test_travel_imports_and_answers_without_geopandas_or_pyproj():
         "assert (g.unit, g.length_unit) == ('u', 'u') and g.costs([[0, 0]], [[3, 4]])[0, 0] == 5.0\n"
     )
     subprocess.run([sys.executable, "-c", code], check=True)
+
+
+# ------------------------------------------------------------------ shapes refused
+
+
+def test_multi_part_lines_are_refused_by_row_and_their_parts_answer_as_lines():
+    # Reference: shapely's lengths of the parts (GeoDataFrame.explode splits them).
+    gpd = pytest.importorskip("geopandas")
+    multi = shapely.MultiLineString([[(0, 0), (3, 4)], [(3, 4), (3, 10)]])
+    frame = gpd.GeoDataFrame(geometry=[shapely.LineString([(0, 0), (-5, 0)]), multi], index=["a", "b"],
+                             crs="EPSG:32631")
+    with pytest.raises(pw.InputError, match=r"lines\['b'\]: expected a LineString; got MultiLineString.*explode"):
+        pw.TravelGraph.from_lines(frame)
+    gone = gpd.GeoDataFrame(geometry=[shapely.LineString([(0, 0), (1, 0)]), None], index=["a", "gone"])
+    with pytest.raises(pw.InputError, match=r"lines\['gone'\]: expected a LineString; got missing") as caught:
+        pw.TravelGraph.from_lines(gone)
+    assert caught.value.row == "gone"
+    parts = frame.explode(index_parts=False)
+    g = pw.TravelGraph.from_lines(parts)
+    np.testing.assert_allclose(g.edges_frame()["cost_forward_m"], shapely.length(parts.geometry), rtol=1e-12)
+    assert g.costs([[-5, 0]], [[3, 10]])[0, 0] == pytest.approx(5 + 5 + 6, rel=1e-12)

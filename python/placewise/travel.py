@@ -87,9 +87,10 @@ def _one_way_codes(one_way: Any, labels: Any = None) -> np.ndarray | None:
     return codes
 
 
-def _ragged_lines(lines: Any) -> tuple[np.ndarray, np.ndarray]:
+def _ragged_lines(lines: Any, labels: Any = None) -> tuple[np.ndarray, np.ndarray]:
     """Coordinates and offsets of a sequence of lines (shapely LineStrings or ``(k, 2)``
-    arrays); a geometry that is not a LineString is refused naming its row."""
+    arrays); a geometry that is not a LineString is refused naming its row (its label in
+    ``labels`` when given)."""
     items = list(lines)
     if any(hasattr(item, "geom_type") or item is None for item in items):
         import shapely
@@ -99,7 +100,8 @@ def _ragged_lines(lines: Any) -> tuple[np.ndarray, np.ndarray]:
             if g is None or g.geom_type not in ("LineString", "LinearRing"):
                 kind = "missing" if g is None else g.geom_type
                 hint = "; split multi-part lines first (GeoDataFrame.explode())" if kind.startswith("Multi") else ""
-                raise _input_error("lines", f"lines[{row}]: expected a LineString; got {kind}{hint}", row)
+                name = row if labels is None else labels[row]
+                raise _input_error("lines", f"lines[{name!r}]: expected a LineString; got {kind}{hint}", name)
         coords, index = shapely.get_coordinates(geoms, return_index=True)
         counts = np.bincount(index, minlength=len(geoms))
     else:
@@ -417,7 +419,7 @@ class TravelGraph:
             geodesic = geodesic or crs.is_geographic
             length_unit = length_unit_of(crs)
         try:
-            coords, offsets = _ragged_lines(lines)
+            coords, offsets = _ragged_lines(lines, labels)
             codes = _one_way_codes(one_way, labels)
             core = _core.travel_from_lines(coords, offsets, cost, reverse_cost, codes, tolerance, split_crossings,
                                            geodesic)
