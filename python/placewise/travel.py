@@ -40,7 +40,7 @@ from numpy.typing import ArrayLike
 
 from . import _core
 from ._core import InputError
-from ._errors import restate
+from ._errors import plain, restate
 from ._progress import Stages
 from ._results import Result
 from ._units import length_unit_of
@@ -55,6 +55,40 @@ def _input_error(argument: str, message: str, row: Any = None) -> InputError:
     error = InputError(message)
     error.argument = argument
     error.row = row
+    return error
+
+
+def _shown(rows: Any, labels: Any = None) -> str:
+    """Up to ten rows, by position or by their labels, for a message."""
+    names = [repr(r) if labels is None else repr(plain(labels[r])) for r in (int(x) for x in rows[:10])]
+    return ", ".join(names) + (", ..." if len(rows) > 10 else "")
+
+
+def _unreached_error(lost: np.ndarray, weight: float, labels: Any = None) -> InputError:
+    """The points no candidate reaches (positions ``lost``), named by position or by
+    ``labels``; ``error.relabel(row_labels)`` restates it with the caller's row labels."""
+    error = _input_error(
+        "points",
+        f"points[{_shown(lost, labels)}]: no candidate reaches {len(lost)} point(s) (weight {weight:g}) "
+        f"(another component, one-way streets or beyond the limit); drop them or add candidates there",
+        int(lost[0]) if labels is None else plain(labels[int(lost[0])]))
+    error.relabel = lambda names: _unreached_error(lost, weight, names.get("points"))  # type: ignore[attr-defined]
+    return error
+
+
+def _missing_pair_error(i: int, j: int, others: int, reason: str, labels: Any = None,
+                        candidate_labels: Any = None) -> InputError:
+    """A candidate without a cost to a point (positions ``j`` and ``i``) that the discrete
+    model needs; ``error.relabel(row_labels)`` restates it with the caller's row labels."""
+    candidate = j if candidate_labels is None else plain(candidate_labels[j])
+    point = i if labels is None else plain(labels[i])
+    error = _input_error(
+        "costs",
+        f"candidate {candidate!r} cannot reach points[{point!r}] (and {others} other pairs); "
+        f"the discrete models need a cost for every pair they are given: {reason}",
+        point)
+    error.relabel = lambda names: _missing_pair_error(  # type: ignore[attr-defined]
+        i, j, others, reason, names.get("points"), names.get("candidates"))
     return error
 
 
@@ -718,12 +752,7 @@ class TravelGraph:
         lost = np.flatnonzero(per_point == 0)
         if len(lost):
             w = np.ones(n) if weights is None else np.asarray(weights, dtype=np.float64)
-            shown = ", ".join(str(int(r)) for r in lost[:10]) + (", ..." if len(lost) > 10 else "")
-            raise _input_error(
-                "points",
-                f"points[{shown}]: no candidate reaches {len(lost)} point(s) (weight {float(w[lost].sum()):g}) "
-                f"(another component, one-way streets or beyond the limit); drop them or add candidates there",
-                int(lost[0]))
+            raise _unreached_error(lost, float(w[lost].sum()))
         if every_pair and not isinstance(matrix, np.ndarray):
             matrix = matrix.toarray()
         elif not every_pair and isinstance(matrix, np.ndarray):
@@ -744,8 +773,4 @@ class TravelGraph:
             # The first point with a missing pair, and its first candidate without a cost.
             i = int(np.flatnonzero(np.diff(matrix.indptr) < m)[0])
             j = int(np.setdiff1d(np.arange(m), matrix.indices[matrix.indptr[i]:matrix.indptr[i + 1]])[0])
-            raise _input_error(
-                "costs",
-                f"candidate {j} cannot reach points[{i}] (and {n * m - matrix.nnz - 1} other pairs); "
-                f"the discrete models need a cost for every pair they are given: {exc}",
-                int(i)) from exc
+            raise _missing_pair_error(i, j, n * m - matrix.nnz - 1, str(exc)) from exc

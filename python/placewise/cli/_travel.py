@@ -87,7 +87,7 @@ def _cmd_network_siting(args: argparse.Namespace) -> None:
         if args.within is None:
             raise UserError("--within is needed with --model cover")
         model, options = "cover_all", {"radius": args.within}
-    labels = {"points": p_labels, "weights": p_labels}
+    labels = {"points": p_labels, "weights": p_labels, "candidates": c_labels}
     try:
         plan = _restated(lambda: graph.choose_sites(model, p, c, weights, limit=args.limit, max_gap=args.max_gap,
                                                     **options, **_progress(args)), labels)
