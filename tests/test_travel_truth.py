@@ -17,6 +17,7 @@ import placewise as pw
 
 shapely = pytest.importorskip("shapely")
 csgraph = pytest.importorskip("scipy.sparse.csgraph")
+sparse = pytest.importorskip("scipy.sparse")
 
 
 # ------------------------------------------------------------------ the reference
@@ -194,6 +195,96 @@ def test_p_median_on_network_costs_is_the_brute_force_optimum(seed):
                   if (matrix[:, list(s)] <= radius).any(axis=1).all())
     assert len(cover.open) == fewest
     assert (matrix[:, cover.open] <= radius).any(axis=1).all()
+
+
+@pytest.mark.parametrize("seed", range(3))
+def test_catchment_and_reach_pieces_cost_what_scipy_says_at_their_midpoints(seed):
+    # Reference: scipy's costs (the graph built from the lines) from the sites to the middle
+    # of every piece (shapely.line_interpolate_point), where the cost is the mean of the
+    # piece's end costs (costs are linear along an edge).
+    lines, one_way = _awkward_network(seed)
+    sites = _demand(seed, 4)[:4]
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        g = pw.TravelGraph.from_lines(lines, one_way=one_way)
+    for pieces, limit in ((g.catchment_edges(sites), np.inf), (g.reach(sites, 25.0), 25.0)):
+        shapes = pieces._geometry()
+        keep = shapely.length(shapes) > 1e-6
+        middles = shapely.get_coordinates(shapely.line_interpolate_point(shapes[keep], 0.5, normalized=True))
+        expected, _, _ = _reference(lines, np.vstack([sites, middles]), one_way)
+        ours = ((pieces.cost_start + pieces.cost_end) / 2)[keep]
+        if np.isinf(limit):
+            # Catchments: the cheapest site, and the piece's own site costs that much.
+            np.testing.assert_allclose(ours, expected[:4, 4:].min(axis=0), rtol=1e-9, atol=1e-9)
+            np.testing.assert_allclose(expected[pieces.site[keep], 4 + np.arange(keep.sum())], ours, rtol=1e-9,
+                                       atol=1e-9)
+        else:
+            # Reach: the piece's site, within the limit.
+            np.testing.assert_allclose(expected[pieces.site[keep], 4 + np.arange(keep.sum())], ours, rtol=1e-9,
+                                       atol=1e-9)
+            assert (ours <= limit * (1 + 1e-12)).all()
+
+
+@pytest.mark.parametrize("seed", range(3))
+def test_reach_covers_every_place_scipy_finds_within_the_limit(seed):
+    # Reference: places along the streets (shapely.line_interpolate_point) whose cost from a
+    # site by scipy (the graph built from the lines) is within the limit lie on that site's
+    # reach pieces; the pieces' lengths add up to at most the street length (shapely).
+    lines, one_way = _awkward_network(seed)
+    sites = _demand(seed, 3)[:3]
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        g = pw.TravelGraph.from_lines(lines, one_way=one_way)
+    limit = 30.0
+    pieces = g.reach(sites, limit)
+    rng = np.random.default_rng(seed)
+    rows = rng.integers(0, len(lines), 300)
+    places = shapely.get_coordinates(shapely.line_interpolate_point(
+        [shapely.LineString(lines[r]) for r in rows], rng.uniform(0, 1, 300), normalized=True))
+    expected, _, _ = _reference(lines, np.vstack([sites, places]), one_way)
+    shapes = pieces._geometry()
+    for s in range(3):
+        within = expected[s, 3:] < limit - 1e-6
+        assert within.any()
+        covered = shapely.distance(shapely.points(places[within]), shapely.union_all(shapes[pieces.site == s]))
+        assert (covered < 1e-7).all()
+        assert shapely.length(shapes[pieces.site == s]).sum() <= sum(shapely.length(shapely.linestrings(x))
+                                                                     for x in lines) + 1e-9
+
+
+@pytest.mark.parametrize("scale", [1e300, 1e-300, 1e12])
+def test_networks_at_extreme_scales_answer_as_at_unit_scale(scale):
+    # Reference: scipy on the graph built from the unit-scale lines, its costs times the
+    # scale (lengths scale with the coordinates). Near 1e300 squared distances overflow and
+    # near 1e-300 they underflow: every attachment then failed with an internal error (an
+    # index out of bounds in the compiled core) instead of an answer.
+    lines, one_way = _awkward_network(0)
+    points = _demand(0, 20)
+    expected, line, _ = _reference(lines, points, one_way)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        g = pw.TravelGraph.from_lines([x * scale for x in lines], one_way=one_way)
+    a = g.snap(points * scale)
+    np.testing.assert_array_equal(a.edge, line)
+    ours = g.costs(points * scale, points * scale)
+    assert np.array_equal(np.isnan(ours), np.isinf(expected))
+    ok = np.isfinite(expected)
+    np.testing.assert_allclose(ours[ok], expected[ok] * scale, rtol=1e-9, atol=1e-9 * scale)
+
+
+def test_costs_whose_sum_could_overflow_are_refused_and_large_ones_are_exact():
+    # Two edges of 1e308 in a chain: the path costs 2e308, beyond the largest float, and the
+    # pair was reported unreachable (NaN) although the graph is connected
+    # (scipy.sparse.csgraph.connected_components: one component).
+    tail, head = np.array([0, 1]), np.array([1, 2])
+    links = sparse.csr_array((np.ones(2), (tail, head)), shape=(3, 3))
+    assert csgraph.connected_components(links, directed=False)[0] == 1
+    with pytest.raises(pw.InputError, match="add up to") as caught:
+        pw.TravelGraph.from_edges(tail, head, [1e308, 1e308])
+    assert caught.value.argument == "cost"
+    # Below a quarter of the largest float in all: the sum, exactly (closed form).
+    g = pw.TravelGraph.from_edges(tail, head, [1e307, 1e307])
+    assert g.costs([0], [2])[0, 0] == 2e307
 
 
 # ------------------------------------------------------------------ costs of zero

@@ -7,7 +7,7 @@ use rayon::prelude::*;
 
 use super::graph::TravelGraph;
 use crate::error::{Error, Result};
-use crate::geometry::{distance_squared, dot, sub, validate_points, BoundingBox, Point};
+use crate::geometry::{distance_squared, dot, sub, validate_points, BoundingBox, Point, WorkingFrame};
 
 /// Where travel starts or ends: at a node, or part-way along an edge.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -39,7 +39,7 @@ pub struct Snap {
     pub on_edge: Point,
 }
 
-/// One segment of an edge's shape.
+/// One segment of an edge's shape, in the index's working frame.
 #[derive(Clone, Copy)]
 struct Segment {
     a: Point,
@@ -52,9 +52,10 @@ struct Segment {
 }
 
 impl Segment {
-    /// The nearest point of the segment to `p` and its squared distance.
+    /// The nearest point of the segment to `p`, as its share `t` of the way from `a` to `b`,
+    /// and its squared distance.
     #[inline]
-    fn nearest(&self, p: Point) -> (Point, f64) {
+    fn nearest(&self, p: Point) -> (f64, f64) {
         let d = self.d;
         let t = (dot(sub(p, self.a), d) / self.len2).clamp(0.0, 1.0);
         let q = if t <= 0.0 {
@@ -64,7 +65,7 @@ impl Segment {
         } else {
             [self.a[0] + t * d[0], self.a[1] + t * d[1]]
         };
-        (q, distance_squared(p, q))
+        (t, distance_squared(p, q))
     }
 }
 
@@ -85,6 +86,10 @@ pub struct SegmentIndex<'g> {
     /// roughly equal units (an approximation for networks spanning a few degrees; gaps and
     /// positions are then measured on the ellipsoid).
     scale_x: f64,
+    /// The working frame of the segments (after `scale_x`): shifted to their centre and
+    /// scaled by a power of two to unit size, so that squared distances neither overflow
+    /// (coordinates near 1e300) nor underflow (near 1e-300).
+    frame: WorkingFrame,
 }
 
 impl<'g> SegmentIndex<'g> {
@@ -114,14 +119,23 @@ impl<'g> SegmentIndex<'g> {
         } else {
             1.0
         };
+        let scaled = |p: Point| [p[0] * scale_x, p[1]];
+        let mut corners = Vec::new();
+        for e in 0..graph.edge_count() {
+            corners.extend(graph.line(e).expect("graph has geometry").points().iter().map(|&p| scaled(p)));
+        }
+        let frame = WorkingFrame::of(&corners);
+        drop(corners);
         let mut segments = Vec::new();
         for e in 0..graph.edge_count() {
             let line = graph.line(e).expect("graph has geometry");
             for (k, w) in line.points().windows(2).enumerate() {
-                if w[0] != w[1] {
-                    let w = [[w[0][0] * scale_x, w[0][1]], [w[1][0] * scale_x, w[1][1]]];
-                    let d = sub(w[1], w[0]);
-                    segments.push(Segment { a: w[0], b: w[1], d, len2: dot(d, d), edge: e as u32, k: k as u32 });
+                let (a, b) = (frame.to_local(scaled(w[0])), frame.to_local(scaled(w[1])));
+                let d = sub(b, a);
+                let len2 = dot(d, d);
+                // Zero-length segments (and those too short to square in the frame) are left out.
+                if len2 > 0.0 && len2.is_finite() {
+                    segments.push(Segment { a, b, d, len2, edge: e as u32, k: k as u32 });
                 }
             }
         }
@@ -153,6 +167,7 @@ impl<'g> SegmentIndex<'g> {
             first: vec![0; nx * ny + 1],
             items: Vec::new(),
             scale_x,
+            frame,
         };
         let span = |s: &Segment, index: &SegmentIndex<'_>| {
             let (i0, j0) = index.cell_of([s.a[0].min(s.b[0]), s.a[1].min(s.b[1])]);
@@ -195,11 +210,19 @@ impl<'g> SegmentIndex<'g> {
         (i, j)
     }
 
+    /// A point in the working frame of the segments.
+    #[inline]
+    fn local(&self, p: Point) -> Point {
+        self.frame.to_local([p[0] * self.scale_x, p[1]])
+    }
+
     /// Attach one point: the nearest segment (ties: the lowest segment number).
     pub fn snap(&self, point: Point) -> Snap {
-        let p = [point[0] * self.scale_x, point[1]];
+        let p = self.local(point);
         let (ci, cj) = self.cell_of(p);
-        let mut best = (f64::INFINITY, u32::MAX, p);
+        // (squared distance, segment, share along it); a point so far out of the frame that
+        // its squared distances overflow takes the first segment seen rather than none.
+        let mut best = (f64::INFINITY, u32::MAX, 0.0);
         let rings = self.nx.max(self.ny);
         for r in 0..=rings {
             // Every cell at Chebyshev distance r from (ci, cj), within the grid.
@@ -213,9 +236,9 @@ impl<'g> SegmentIndex<'g> {
                     if i >= 0 && (i as usize) < self.nx {
                         let c = j as usize * self.nx + i as usize;
                         for &n in &self.items[self.first[c] as usize..self.first[c + 1] as usize] {
-                            let (q, d2) = self.segments[n as usize].nearest(p);
-                            if d2 < best.0 || (d2 == best.0 && n < best.1) {
-                                best = (d2, n, q);
+                            let (t, d2) = self.segments[n as usize].nearest(p);
+                            if best.1 == u32::MAX || d2 < best.0 || (d2 == best.0 && n < best.1) {
+                                best = (d2, n, t);
                             }
                         }
                     }
@@ -230,9 +253,17 @@ impl<'g> SegmentIndex<'g> {
         }
         let seg = self.segments[best.1 as usize];
         let (edge, k) = (seg.edge, seg.k);
-        let on_edge = if self.scale_x == 1.0 { best.2 } else { [best.2[0] / self.scale_x, best.2[1]] };
         let line = self.graph.line(edge as usize).expect("graph has geometry");
         let pts = line.points();
+        // Back in the input's coordinates: the segment's own ends at shares 0 and 1 exactly.
+        let (a, b, t) = (pts[k as usize], pts[k as usize + 1], best.2);
+        let on_edge = if t <= 0.0 {
+            a
+        } else if t >= 1.0 {
+            b
+        } else {
+            [a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1])]
+        };
         // Planar or geodesic, as the graph measures its edges.
         let g = self.graph;
         let along = g.path_length(&pts[..=k as usize]) + g.path_length(&[pts[k as usize], on_edge]);
@@ -279,7 +310,7 @@ pub fn snap_points(
         .par_iter()
         .enumerate()
         .map(|(i, p)| {
-            let (ci, cj) = index.cell_of([p[0] * index.scale_x, p[1]]);
+            let (ci, cj) = index.cell_of(index.local(*p));
             (((cj * index.nx + ci) as u64) << 32) | i as u64
         })
         .collect();
