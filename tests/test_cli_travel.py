@@ -215,3 +215,35 @@ def test_network_siting_names_unreached_homes_by_their_csv_line(tmp_path, capsys
                  "--limit", "1200"])
     err = capsys.readouterr().err
     assert code == 2 and "candidate 3 cannot reach points[2]" in err, err
+
+
+def test_the_summary_lines_agree_with_scipy_and_with_the_files(files, capsys):
+    # Reference: scipy.sparse.csgraph.dijkstra on the grid built here (the fixture): the
+    # p-median's total (brute force over pairs of depots), the count of homes a depot
+    # reaches and the largest cost among them; the pairs line counts the rows written.
+    path, homes, depots, costs = files
+    common = ["--crs", CRS, "--network", str(path / "streets.geojson"), "--one-way", "oneway"]
+    code = main(["network-siting", str(path / "homes.csv"), *common, "--candidates", str(path / "depots.csv"),
+                 "-p", "2", "-o", str(path / "sites.csv")])
+    err = capsys.readouterr().err
+    c = costs[np.ix_(depots, homes)]
+    best = min(float(np.minimum(c[i], c[j]).sum()) for i in range(4) for j in range(i + 1, 4))
+    total = re.search(r"total weighted travel cost ([\d.e+]+) \(weight x m\)", err)
+    assert code == 0 and total is not None, err
+    assert float(total[1]) == pytest.approx(best, rel=1e-6)  # printed to 6 significant digits
+    code = main(["network-catchments", str(path / "homes.csv"), *common, "--sites", str(path / "depots.csv"),
+                 "-o", str(path / "catchments.csv")])
+    err = capsys.readouterr().err
+    reach = c.min(axis=0)
+    ok = np.isfinite(reach)
+    line = re.search(r"(\d+) of (\d+) row\(s\) reach one of (\d+) site\(s\) along the network; largest travel "
+                     r"cost ([\d.e+]+) m", err)
+    assert code == 0 and line is not None, err
+    assert (int(line[1]), int(line[2]), int(line[3])) == (int(ok.sum()), len(homes), len(depots))
+    assert float(line[4]) == pytest.approx(reach[ok].max(), rel=1e-6)
+    code = main(["travel-costs", str(path / "homes.csv"), *common, "--limit", "450", "-o", str(path / "c.csv")])
+    err = capsys.readouterr().err
+    pairs = re.search(r"(\d+) pair\(s\) of (\d+) origin\(s\) x (\d+) destination\(s\) kept", err)
+    within = costs[np.ix_(homes, homes)] <= 450
+    assert code == 0 and pairs is not None, err
+    assert int(pairs[1]) == int(within.sum()) == len(pd.read_csv(path / "c.csv"))

@@ -161,6 +161,15 @@ def test_nearest_site_on_awkward_networks_matches_scipy(seed):
     assert c.unreachable_weight == pytest.approx(weights[~reached].sum())
     assert c.total_cost == pytest.approx(float((weights * np.where(reached, best, 0)).sum()), rel=1e-9)
     np.testing.assert_allclose(c.load, [weights[reached][c.site[reached] == s].sum() for s in range(5)])
+    # Every node's catchment: scipy's cost from the cheapest site to a point at the node.
+    nodes = g._info["node_xy"]
+    at_nodes, _, _ = _reference(lines, np.vstack([sites, nodes]), one_way)
+    node_best = at_nodes[:5, 5:].min(axis=0)
+    assert np.array_equal(np.isnan(c.node_cost), np.isinf(node_best))
+    ok = np.isfinite(node_best)
+    np.testing.assert_allclose(c.node_cost[ok], node_best[ok], rtol=1e-9, atol=1e-9)
+    np.testing.assert_allclose(at_nodes[c.node_site[ok], 5 + np.flatnonzero(ok)], node_best[ok], rtol=1e-9,
+                               atol=1e-9)
     # Within a limit: scipy's costs above it count as unreached.
     costs = np.unique(best[reached])
     limit = float(costs[len(costs) // 2] + costs[len(costs) // 2 + 1]) / 2   # between two costs
@@ -189,6 +198,9 @@ def test_p_median_on_network_costs_is_the_brute_force_optimum(seed):
         plan = g.choose_sites("p_median", points, candidates, weights, p=p)
         best = min((weights * matrix[:, list(s)].min(axis=1)).sum() for s in itertools.combinations(range(7), p))
         assert float(plan.total_cost) == pytest.approx(best, rel=1e-9)
+    worst = min(matrix[:, list(s)].min(axis=1).max() for s in itertools.combinations(range(7), 2))
+    center = g.choose_sites("p_center", points, candidates, p=2)
+    assert float(center.worst_cost) == pytest.approx(worst, rel=1e-9)
     radius = float(np.sort(matrix.min(axis=1))[-1]) + 1e-6
     cover = g.choose_sites("cover_all", points, candidates, radius=radius)
     fewest = next(p for p in range(1, 8) for s in itertools.combinations(range(7), p)
