@@ -138,8 +138,10 @@ class TravelGraph:
             Coordinates are longitude/latitude (degrees, WGS84): default costs, attachment
             gaps and positions are geodesic lengths in metres on the WGS84 ellipsoid (Karney
             2013); ``tolerance`` is in degrees. Set by itself for a GeoDataFrame in a
-            geographic CRS. The nearest edge is sought in a local frame (longitudes scaled by
-            the cosine of the mean latitude), which suits networks spanning a few degrees.
+            geographic CRS. Edges are sought in a local frame (longitudes scaled by the
+            cosine of the mean latitude); those as near there as that frame's distortion over
+            the network's latitudes allows are compared by geodesic distance, so a point goes
+            to the geodesically nearest edge (its point on the edge is the frame's nearest).
 
         Raises
         ------
@@ -495,3 +497,8 @@ class TravelGraph:
             i = int(np.flatnonzero(np.diff(matrix.indptr) < m)[0])
             j = int(np.setdiff1d(np.arange(m), matrix.indices[matrix.indptr[i]:matrix.indptr[i + 1]])[0])
             raise _missing_pair_error(i, j, n * m - matrix.nnz - 1, str(exc)) from exc
+
+
+# The package names TravelGraph as its own (its __module__), where the doctest finder then
+# skips its methods (their globals are this module's); listed here, their examples run.
+__test__ = {"TravelGraph": TravelGraph}
