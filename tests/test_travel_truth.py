@@ -355,6 +355,28 @@ def test_geodesic_pieces_have_the_geodesic_length_of_their_costs():
     assert np.allclose(around.coords[around.offsets[1]], a.on_edge[0], rtol=0, atol=1e-12)
 
 
+def test_lon_lat_points_attach_to_the_geodesically_nearest_street():
+    # Reference: pyproj.Geod.inv from each point to 401 places along every street (the
+    # straight lon/lat segment), brute force. The network spans 59-61 N, where the local frame
+    # the index searches in (longitudes scaled by the cosine of 60 N) is off by up to 3 %.
+    pyproj = pytest.importorskip("pyproj")
+    geod = pyproj.Geod(ellps="WGS84")
+    rng = np.random.default_rng(1)
+    starts = np.column_stack([rng.uniform(9, 11, 60), rng.uniform(59, 61, 60)])
+    lines = [np.array([a, a + rng.uniform(-0.02, 0.02, 2)]) for a in starts]
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        g = pw.TravelGraph.from_lines(lines, geodesic=True)
+    points = np.column_stack([rng.uniform(9, 11, 60), rng.uniform(59, 61, 60)])
+    a = g.snap(points)
+    t = np.linspace(0, 1, 401)[:, None]
+    for i, p in enumerate(points):
+        sampled = [geod.inv(np.full(401, p[0]), np.full(401, p[1]), *(x[0] + t * (x[1] - x[0])).T)[2].min()
+                   for x in lines]
+        assert a.edge[i] == int(np.argmin(sampled))
+        assert a.gap[i] <= min(sampled) * (1 + 1e-3)
+
+
 # ------------------------------------------------------------------ units of length
 
 

@@ -82,10 +82,13 @@ pub struct SegmentIndex<'g> {
     first: Vec<u32>,
     items: Vec<u32>,
     /// Factor on x (1 for planar graphs): a geodesic graph's longitudes are scaled by the
-    /// cosine of its mean latitude, so that the nearest edge is sought in a local frame of
-    /// roughly equal units (an approximation for networks spanning a few degrees; gaps and
-    /// positions are then measured on the ellipsoid).
+    /// cosine of its mean latitude, so that edges are sought in a local frame of roughly
+    /// equal units; the candidates that frame's distortion leaves open are then compared by
+    /// geodesic distance (gaps and positions are measured on the ellipsoid).
     scale_x: f64,
+    /// Least and greatest latitude of a geodesic graph's vertices: where the local frame's
+    /// scale departs from the true one, and by how much at most.
+    latitudes: (f64, f64),
     /// The working frame of the segments (after `scale_x`): shifted to their centre and
     /// scaled by a power of two to unit size, so that squared distances neither overflow
     /// (coordinates near 1e300) nor underflow (near 1e-300).
@@ -107,12 +110,14 @@ impl<'g> SegmentIndex<'g> {
                     .into(),
             });
         }
+        let mut latitudes = (f64::INFINITY, f64::NEG_INFINITY);
         let scale_x = if graph.is_geodesic() {
             let (mut sum, mut count) = (0.0, 0usize);
             for e in 0..graph.edge_count() {
                 for p in graph.line(e).expect("graph has geometry").points() {
                     sum += p[1];
                     count += 1;
+                    latitudes = (latitudes.0.min(p[1]), latitudes.1.max(p[1]));
                 }
             }
             (sum / count.max(1) as f64).to_radians().cos().max(1e-6)
@@ -167,6 +172,7 @@ impl<'g> SegmentIndex<'g> {
             first: vec![0; nx * ny + 1],
             items: Vec::new(),
             scale_x,
+            latitudes,
             frame,
         };
         let span = |s: &Segment, index: &SegmentIndex<'_>| {
@@ -216,13 +222,54 @@ impl<'g> SegmentIndex<'g> {
         self.frame.to_local([p[0] * self.scale_x, p[1]])
     }
 
-    /// Attach one point: the nearest segment (ties: the lowest segment number).
+    /// How much farther than the nearest segment in the local frame a segment may lie there
+    /// and still be the nearest on the ellipsoid, as a factor on squared distances: 1 on the
+    /// plane. A length east-west in the frame is its true length times `cos φ / scale_x` at
+    /// latitude `φ`, which between the point and any segment lies within the network's span
+    /// of latitudes (widened to the point's); a margin of 1e-3 on lengths allows for the rest
+    /// of the flat view's error at the distances a street network spans.
+    fn widening(&self, latitude: f64) -> f64 {
+        if !self.graph.is_geodesic() {
+            return 1.0;
+        }
+        let (lo, hi) = (self.latitudes.0.min(latitude), self.latitudes.1.max(latitude));
+        let nearest_equator = if lo <= 0.0 && hi >= 0.0 { 0.0 } else { lo.abs().min(hi.abs()) };
+        let farthest = lo.abs().max(hi.abs()).min(90.0);
+        let most = (nearest_equator.to_radians().cos() / self.scale_x).max(1.0);
+        let least = (farthest.to_radians().cos().max(1e-6) / self.scale_x).min(1.0);
+        let ratio = most / least * (1.0 + 1e-3);
+        ratio * ratio
+    }
+
+    /// The point at share `t` of segment `n`, in the input's coordinates (the segment's own
+    /// ends at shares 0 and 1 exactly), with the segment's edge and place in the edge's shape.
+    fn place(&self, n: u32, t: f64) -> (u32, u32, Point) {
+        let seg = self.segments[n as usize];
+        let line = self.graph.line(seg.edge as usize).expect("graph has geometry");
+        let pts = line.points();
+        let (a, b) = (pts[seg.k as usize], pts[seg.k as usize + 1]);
+        let q = if t <= 0.0 {
+            a
+        } else if t >= 1.0 {
+            b
+        } else {
+            [a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1])]
+        };
+        (seg.edge, seg.k, q)
+    }
+
+    /// Attach one point: the nearest segment (ties: the lowest segment number). On a
+    /// geodesic graph the segments nearest in the local frame, up to its distortion
+    /// ([`SegmentIndex::widening`]), are compared by geodesic distance.
     pub fn snap(&self, point: Point) -> Snap {
         let p = self.local(point);
         let (ci, cj) = self.cell_of(p);
+        let widen = self.widening(point[1]);
         // (squared distance, segment, share along it); a point so far out of the frame that
         // its squared distances overflow takes the first segment seen rather than none.
         let mut best = (f64::INFINITY, u32::MAX, 0.0);
+        // On a geodesic graph: every segment seen that may be the nearest on the ellipsoid.
+        let mut near: Vec<(f64, u32, f64)> = Vec::new();
         let rings = self.nx.max(self.ny);
         for r in 0..=rings {
             // Every cell at Chebyshev distance r from (ci, cj), within the grid.
@@ -240,6 +287,9 @@ impl<'g> SegmentIndex<'g> {
                             if best.1 == u32::MAX || d2 < best.0 || (d2 == best.0 && n < best.1) {
                                 best = (d2, n, t);
                             }
+                            if widen > 1.0 && d2 <= best.0 * widen {
+                                near.push((d2, n, t));
+                            }
                         }
                     }
                     i += step as isize;
@@ -247,23 +297,25 @@ impl<'g> SegmentIndex<'g> {
             }
             // Cells beyond ring r lie at least r cells away from the point.
             let reach = r as f64 * self.cell;
-            if best.1 != u32::MAX && best.0 <= reach * reach {
+            if best.1 != u32::MAX && best.0 * widen <= reach * reach {
                 break;
             }
         }
-        let seg = self.segments[best.1 as usize];
-        let (edge, k) = (seg.edge, seg.k);
-        let line = self.graph.line(edge as usize).expect("graph has geometry");
-        let pts = line.points();
-        // Back in the input's coordinates: the segment's own ends at shares 0 and 1 exactly.
-        let (a, b, t) = (pts[k as usize], pts[k as usize + 1], best.2);
-        let on_edge = if t <= 0.0 {
-            a
-        } else if t >= 1.0 {
-            b
-        } else {
-            [a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1])]
-        };
+        let (mut n, mut t) = (best.1, best.2);
+        if widen > 1.0 {
+            let mut least = f64::INFINITY;
+            near.sort_unstable_by_key(|c| c.1);
+            near.dedup_by_key(|c| c.1);
+            for &(_, m, u) in near.iter().filter(|c| c.0 <= best.0 * widen) {
+                let gap = self.graph.path_length(&[point, self.place(m, u).2]);
+                if gap < least || (gap == least && m < n) {
+                    (least, n, t) = (gap, m, u);
+                }
+            }
+        }
+        let (edge, k, on_edge) = self.place(n, t);
+        let pts = self.graph.line(edge as usize).expect("graph has geometry");
+        let pts = pts.points();
         // Planar or geodesic, as the graph measures its edges.
         let g = self.graph;
         let along = g.path_length(&pts[..=k as usize]) + g.path_length(&[pts[k as usize], on_edge]);
