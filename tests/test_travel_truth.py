@@ -377,6 +377,30 @@ def test_lon_lat_points_attach_to_the_geodesically_nearest_street():
         assert a.gap[i] <= min(sampled) * (1 + 1e-3)
 
 
+def test_lines_in_a_geographic_crs_in_grads_have_their_geodesic_length():
+    # Reference: pyproj.Geod(ellps="WGS84").line_length of the same street in WGS84 degrees
+    # (pyproj.Transformer from EPSG:4326). In NTF (Paris), EPSG:4807, angles are grads from
+    # the Paris meridian: read as degrees they gave 9,523 m for a street of 9,211 m.
+    gpd = pytest.importorskip("geopandas")
+    pyproj = pytest.importorskip("pyproj")
+    lonlat = np.array([[2.30, 48.80], [2.40, 48.85], [2.42, 48.90]])
+    assert pyproj.CRS("EPSG:4807").axis_info[0].unit_name == "grad"
+    to_grads = pyproj.Transformer.from_crs("EPSG:4326", "EPSG:4807", always_xy=True)
+    grads = np.column_stack(to_grads.transform(*lonlat.T))
+    frame = gpd.GeoDataFrame(geometry=[shapely.LineString(grads)], crs="EPSG:4807")
+    expected = pyproj.Geod(ellps="WGS84").line_length(*lonlat.T)
+    for lines in (frame, frame.geometry):
+        g = pw.TravelGraph.from_lines(lines)
+        assert g.edges_frame()["cost_forward_m"][0] == pytest.approx(expected, rel=1e-6)
+        assert g.crs == pyproj.CRS("EPSG:4326") and g.unit == "m"
+    # Points in the lines' CRS are brought to the graph's by the frame functions.
+    from placewise.gis import travel as gt
+
+    ends = gpd.GeoDataFrame(geometry=gpd.points_from_xy(*grads[[0, -1]].T), crs="EPSG:4807")
+    table = gt.travel_costs(gt.travel_graph(frame), ends.iloc[:1], ends.iloc[1:])
+    assert table["cost_m"][0] == pytest.approx(expected, rel=1e-6)
+
+
 # ------------------------------------------------------------------ units of length
 
 

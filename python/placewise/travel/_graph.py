@@ -18,6 +18,7 @@ from .._units import length_unit_of
 from ._inputs import (
     _MODELS,
     _frame_lines,
+    _in_degrees,
     _input_error,
     _missing_pair_error,
     _one_way_codes,
@@ -138,10 +139,12 @@ class TravelGraph:
             Coordinates are longitude/latitude (degrees, WGS84): default costs, attachment
             gaps and positions are geodesic lengths in metres on the WGS84 ellipsoid (Karney
             2013); ``tolerance`` is in degrees. Set by itself for a GeoDataFrame in a
-            geographic CRS. Edges are sought in a local frame (longitudes scaled by the
-            cosine of the mean latitude); those as near there as that frame's distortion over
-            the network's latitudes allows are compared by geodesic distance, so a point goes
-            to the geodesically nearest edge (its point on the edge is the frame's nearest).
+            geographic CRS (one whose angles are not degrees, such as grads, is first
+            transformed to EPSG:4326, which becomes the graph's ``crs``). Edges are sought
+            in a local frame (longitudes scaled by the cosine of the mean latitude); those as
+            near there as that frame's distortion over the network's latitudes allows are
+            compared by geodesic distance, so a point goes to the geodesically nearest edge
+            (its point on the edge is the frame's nearest).
 
         Raises
         ------
@@ -172,6 +175,7 @@ class TravelGraph:
                 lines, cost, reverse_cost, one_way)
             geodesic = geodesic or (crs is not None and crs.is_geographic)
         elif hasattr(lines, "crs") and getattr(lines, "crs", None) is not None:
+            lines = _in_degrees(lines)
             crs = lines.crs
             geodesic = geodesic or crs.is_geographic
             length_unit = length_unit_of(crs)

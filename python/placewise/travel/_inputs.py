@@ -112,8 +112,21 @@ def _ragged_lines(lines: Any, labels: Any = None) -> tuple[np.ndarray, np.ndarra
     return np.ascontiguousarray(coords, dtype=np.float64), offsets
 
 
+def _in_degrees(lines: Any) -> Any:
+    """Lines (GeoDataFrame or GeoSeries) in a geographic CRS whose angles are not degrees
+    (grads, radians) transformed to WGS84 longitude/latitude in degrees (EPSG:4326), which the
+    geodesic lengths read; other lines as they are."""
+    crs = lines.crs
+    if crs is None or not crs.is_geographic:
+        return lines
+    if all(axis.unit_name.lower() == "degree" for axis in crs.axis_info):
+        return lines
+    return lines.to_crs("EPSG:4326")
+
+
 def _frame_lines(frame: Any, cost: Any, reverse_cost: Any, one_way: Any) -> tuple[Any, ...]:
     """A GeoDataFrame's lines and columns (a column name or values), its CRS's length unit."""
+    frame = _in_degrees(frame)
     crs = frame.crs
     unit = length_unit_of(crs)
 
