@@ -198,6 +198,9 @@ def test_p_median_on_network_costs_is_the_brute_force_optimum(seed):
         plan = g.choose_sites("p_median", points, candidates, weights, p=p)
         best = min((weights * matrix[:, list(s)].min(axis=1)).sum() for s in itertools.combinations(range(7), p))
         assert float(plan.total_cost) == pytest.approx(best, rel=1e-9)
+        # The same sites evaluated: scipy's cheapest open site for every point.
+        given = g.choose_sites("evaluate_sites", points, candidates, weights, sites=plan.open)
+        np.testing.assert_allclose(given.cost, matrix[:, plan.open].min(axis=1), rtol=1e-9)
     worst = min(matrix[:, list(s)].min(axis=1).max() for s in itertools.combinations(range(7), 2))
     center = g.choose_sites("p_center", points, candidates, p=2)
     assert float(center.worst_cost) == pytest.approx(worst, rel=1e-9)
@@ -473,6 +476,8 @@ def test_multi_part_lines_are_refused_by_row_and_their_parts_answer_as_lines():
                              crs="EPSG:32631")
     with pytest.raises(pw.InputError, match=r"lines\['b'\]: expected a LineString; got MultiLineString.*explode"):
         pw.TravelGraph.from_lines(frame)
+    with pytest.raises(pw.InputError, match=r"lines\[1\]: a line needs at least 2 points; got 1"):
+        pw.TravelGraph.from_lines([[(0, 0), (1, 0)], [(5, 5)]])
     gone = gpd.GeoDataFrame(geometry=[shapely.LineString([(0, 0), (1, 0)]), None], index=["a", "gone"])
     with pytest.raises(pw.InputError, match=r"lines\['gone'\]: expected a LineString; got missing") as caught:
         pw.TravelGraph.from_lines(gone)
