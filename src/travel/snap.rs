@@ -303,10 +303,25 @@ impl<'g> SegmentIndex<'g> {
         }
         let (mut n, mut t) = (best.1, best.2);
         if widen > 1.0 {
-            let mut least = f64::INFINITY;
             near.sort_unstable_by_key(|c| c.1);
             near.dedup_by_key(|c| c.1);
-            for &(_, m, u) in near.iter().filter(|c| c.0 <= best.0 * widen) {
+            // A close, cheap measure first: degrees with longitudes scaled by the cosine of the
+            // latitude half-way between the point and each candidate's nearest point (off by
+            // far less than 1e-3 at street-network distances); then geodesic distances for
+            // the candidates within 1e-3 of its least.
+            let measured: Vec<(f64, u32, f64)> = near
+                .iter()
+                .filter(|c| c.0 <= best.0 * widen)
+                .map(|&(_, m, u)| {
+                    let q = self.place(m, u).2;
+                    let east = (q[0] - point[0]) * (0.5 * (q[1] + point[1])).to_radians().cos();
+                    let north = q[1] - point[1];
+                    (east * east + north * north, m, u)
+                })
+                .collect();
+            let closest = measured.iter().map(|c| c.0).fold(f64::INFINITY, f64::min);
+            let mut least = f64::INFINITY;
+            for &(_, m, u) in measured.iter().filter(|c| c.0 <= closest * (1.0 + 1e-3) * (1.0 + 1e-3)) {
                 let gap = self.graph.path_length(&[point, self.place(m, u).2]);
                 if gap < least || (gap == least && m < n) {
                     (least, n, t) = (gap, m, u);
