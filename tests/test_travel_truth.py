@@ -404,6 +404,20 @@ def test_lines_in_a_geographic_crs_in_grads_have_their_geodesic_length():
     assert table["cost_m"][0] == pytest.approx(expected, rel=1e-6)
 
 
+def test_lon_lat_points_beyond_the_poles_are_refused_by_row():
+    # Reference: pyproj.Geod.inv has no distance from a latitude of 95 degrees (NaN); the
+    # attachment gave that NaN as the point's gap without a word, where every other lon/lat
+    # input of the package refuses it naming the row.
+    pyproj = pytest.importorskip("pyproj")
+    assert np.isnan(pyproj.Geod(ellps="WGS84").inv(10.0, 95.0, 10.0, 60.0)[2])
+    g = pw.TravelGraph.from_lines([[(10, 60), (10.01, 60)]], geodesic=True)
+    with pytest.raises(pw.InputError, match=r"points\[1\].*latitude") as caught:
+        g.snap([[10.005, 60.001], [10.0, 95.0]])
+    assert caught.value.row == 1
+    with pytest.raises(pw.InputError, match="latitude"):
+        g.nearest_site([[10.005, 60.001]], [[10.0, -91.0]])
+
+
 # ------------------------------------------------------------------ units of length
 
 

@@ -349,7 +349,8 @@ impl<'g> SegmentIndex<'g> {
 /// Attach every point of `points` to `graph`; `argument` names them in errors.
 ///
 /// # Errors
-/// [`Error::NonFiniteCoordinate`] for a bad point; [`Error::BeyondGap`] naming the first
+/// [`Error::NonFiniteCoordinate`] for a bad point, [`Error::OutOfRange`] for a latitude beyond
+/// ±90 or a longitude beyond ±540 on a geodesic graph; [`Error::BeyondGap`] naming the first
 /// point farther than `max_gap` from every edge; those of [`SegmentIndex::new`].
 ///
 /// # Runtime
@@ -361,7 +362,12 @@ pub fn snap_points(
     argument: &'static str,
     max_gap: Option<f64>,
 ) -> Result<Vec<Snap>> {
-    validate_points(argument, points, 1)?;
+    if graph.is_geodesic() {
+        // Latitudes beyond ±90 have no geodesic to the network (their gap came out NaN).
+        crate::geodesic::validate_lonlat(argument, points, 1)?;
+    } else {
+        validate_points(argument, points, 1)?;
+    }
     if let Some(g) = max_gap {
         if !(g >= 0.0) || g.is_nan() {
             return Err(Error::InvalidParameter { name: "max_gap", reason: format!("max_gap must be >= 0; got {g}") });
