@@ -178,3 +178,72 @@ def test_missing_network_column_is_one_line(files, capsys):
                  str(path / "streets.geojson"), "--sites", str(path / "depots.csv"), "--cost", "minutes"])
     err = capsys.readouterr().err
     assert code == 2 and "minutes" in err and len(err.strip().splitlines()) == 1
+
+
+def test_network_siting_names_unreached_homes_by_their_csv_line(tmp_path, capsys):
+    # Two streets 4000 ft apart that share no end, in a US-foot CRS: the home on the far
+    # street (CSV line 4) reaches no depot. Before, the message named "the input[2]": its
+    # position, which reads as CSV line 2 (a home on the depot's street).
+    gpd.GeoDataFrame(geometry=[shapely.LineString([(0, 0), (1000, 0)]), shapely.LineString([(5000, 0), (6000, 0)])],
+                     crs="EPSG:2263").to_file(tmp_path / "streets.gpkg")
+    pd.DataFrame({"x": [100.0, 900.0, 5500.0], "y": [30.0, 0.0, 0.0]}).to_csv(tmp_path / "homes.csv", index=False)
+    pd.DataFrame({"x": [0.0], "y": [0.0]}).to_csv(tmp_path / "depots.csv", index=False)
+    common = [str(tmp_path / "homes.csv"), "--crs", "EPSG:2263", "--network", str(tmp_path / "streets.gpkg")]
+    code = main(["network-siting", *common, "--candidates", str(tmp_path / "depots.csv"), "-p", "1"])
+    err = capsys.readouterr().err
+    assert code == 2 and "the input[4]: no candidate reaches 1 point(s)" in err, err
+    # The catchments read back: the far home unreached (no site), the others at their distance
+    # along the street (closed form: x from the depot at the street's west end), in US feet.
+    out = tmp_path / "catchments.csv"
+    code = main(["network-catchments", *common, "--sites", str(tmp_path / "depots.csv"), "-o", str(out)])
+    err = capsys.readouterr().err
+    got = pd.read_csv(out)
+    assert code == 0 and list(got["reachable"]) == [True, True, False] and got["site"].isna().tolist()[2]
+    np.testing.assert_allclose(got["cost_usft"][:2], [100.0, 900.0], rtol=1e-12)
+    np.testing.assert_allclose(got["gap_usft"], [30.0, 0.0, 0.0], atol=1e-9)
+    assert "2 of 3 row(s) reach one of 1 site(s) along the network; largest travel cost 900 usft" in err, err
+    # Within --limit 1200 the second depot (CSV line 3, at the top of a side street 800 ft
+    # long) cannot reach the home at CSV line 2 (closed form: 800 + 900 = 1700
+    # ft); one site cannot serve both homes, and the message names both by their lines
+    # (before: "candidate 1 cannot reach points[0]", positions).
+    gpd.GeoDataFrame(geometry=[shapely.LineString([(0, 0), (1000, 0)]), shapely.LineString([(1000, 0), (1000, 800)])],
+                     crs="EPSG:2263").to_file(tmp_path / "corner.gpkg")
+    pd.DataFrame({"x": [100.0, 1000.0], "y": [30.0, 700.0]}).to_csv(tmp_path / "two.csv", index=False)
+    pd.DataFrame({"x": [0.0, 1000.0], "y": [0.0, 800.0]}).to_csv(tmp_path / "ends.csv", index=False)
+    code = main(["network-siting", str(tmp_path / "two.csv"), "--crs", "EPSG:2263", "--network",
+                 str(tmp_path / "corner.gpkg"), "--candidates", str(tmp_path / "ends.csv"), "-p", "1",
+                 "--limit", "1200"])
+    err = capsys.readouterr().err
+    assert code == 2 and "candidate 3 cannot reach points[2]" in err, err
+
+
+def test_the_summary_lines_agree_with_scipy_and_with_the_files(files, capsys):
+    # Reference: scipy.sparse.csgraph.dijkstra on the grid built here (the fixture): the
+    # p-median's total (brute force over pairs of depots), the count of homes a depot
+    # reaches and the largest cost among them; the pairs line counts the rows written.
+    path, homes, depots, costs = files
+    common = ["--crs", CRS, "--network", str(path / "streets.geojson"), "--one-way", "oneway"]
+    code = main(["network-siting", str(path / "homes.csv"), *common, "--candidates", str(path / "depots.csv"),
+                 "-p", "2", "-o", str(path / "sites.csv")])
+    err = capsys.readouterr().err
+    c = costs[np.ix_(depots, homes)]
+    best = min(float(np.minimum(c[i], c[j]).sum()) for i in range(4) for j in range(i + 1, 4))
+    total = re.search(r"total weighted travel cost ([\d.e+]+) \(weight x m\)", err)
+    assert code == 0 and total is not None, err
+    assert float(total[1]) == pytest.approx(best, rel=1e-6)  # printed to 6 significant digits
+    code = main(["network-catchments", str(path / "homes.csv"), *common, "--sites", str(path / "depots.csv"),
+                 "-o", str(path / "catchments.csv")])
+    err = capsys.readouterr().err
+    reach = c.min(axis=0)
+    ok = np.isfinite(reach)
+    line = re.search(r"(\d+) of (\d+) row\(s\) reach one of (\d+) site\(s\) along the network; largest travel "
+                     r"cost ([\d.e+]+) m", err)
+    assert code == 0 and line is not None, err
+    assert (int(line[1]), int(line[2]), int(line[3])) == (int(ok.sum()), len(homes), len(depots))
+    assert float(line[4]) == pytest.approx(reach[ok].max(), rel=1e-6)
+    code = main(["travel-costs", str(path / "homes.csv"), *common, "--limit", "450", "-o", str(path / "c.csv")])
+    err = capsys.readouterr().err
+    pairs = re.search(r"(\d+) pair\(s\) of (\d+) origin\(s\) x (\d+) destination\(s\) kept", err)
+    within = costs[np.ix_(homes, homes)] <= 450
+    assert code == 0 and pairs is not None, err
+    assert int(pairs[1]) == int(within.sum()) == len(pd.read_csv(path / "c.csv"))

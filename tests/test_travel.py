@@ -556,7 +556,7 @@ def test_real_street_network_matches_scipy_with_shapely_attachment():
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
         g = pw.TravelGraph.from_lines(streets)
-    assert g.unit == "ftUS" and g.edges == len(streets)
+    assert g.unit == "usft" and g.edges == len(streets)
 
     lines = streets.geometry.values
     node_of: dict[tuple[float, float], int] = {}

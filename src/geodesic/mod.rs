@@ -29,7 +29,9 @@ use crate::geometry::{validate_iteration, validate_weights, Point, Weights};
 use crate::median::{Metric, WeberOptions, WeberPoint};
 use crate::partition::{grouped_by_kernel, Allocation, SiteAllocations};
 
-use earth::{validate_lonlat, Earth};
+/// Longitude/latitude checks, shared with the families that take lon/lat input (travel).
+pub(crate) use earth::validate_lonlat;
+use earth::Earth;
 pub use minimax::{CenterOptions, GeodesicCenter};
 pub use sphere::{
     sphere_delaunay, sphere_delaunay_watched, sphere_spanning_tree, sphere_spanning_tree_watched, sphere_voronoi_cells,

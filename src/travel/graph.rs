@@ -216,8 +216,25 @@ impl TravelGraph {
                 })?,
                 None => OneWay::Both,
             };
-            forward.push(if way == OneWay::Backward { f64::INFINITY } else { cost[row] });
-            backward.push(if way == OneWay::Forward { f64::INFINITY } else { back });
+            // `+ 0.0` turns a cost of -0.0 (allowed: it equals 0) into +0.0: searches order
+            // costs by their bits, where the sign bit put -0.0 after every positive cost.
+            forward.push(if way == OneWay::Backward { f64::INFINITY } else { cost[row] + 0.0 });
+            backward.push(if way == OneWay::Forward { f64::INFINITY } else { back + 0.0 });
+        }
+        // No path may cost more than a float holds: a cheapest path passes each edge at most
+        // once, plus parts of the edges it starts and ends on, so a quarter of the largest
+        // float over all edges bounds every cost (beyond it sums overflowed to infinity and the
+        // pair read as unreachable).
+        let allowed = |c: f64| if c.is_finite() { c } else { 0.0 };
+        let total: f64 = forward.iter().zip(&backward).map(|(&f, &b)| allowed(f).max(allowed(b))).sum();
+        if !(total <= f64::MAX / 4.0) {
+            return Err(Error::InvalidParameter {
+                name: "cost",
+                reason: format!(
+                    "the edge costs add up to {total:e}, beyond a quarter of the largest float (about 4.5e307), \
+                     so a path's cost could overflow; give them in a larger unit"
+                ),
+            });
         }
         // CSR by counting: arcs out of each node, in edge order.
         let mut first = vec![0u32; nodes + 1];

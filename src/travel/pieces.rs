@@ -5,11 +5,11 @@
 
 use rayon::prelude::*;
 
-use super::graph::{polyline_length, TravelGraph};
+use super::graph::TravelGraph;
 use super::search::{check_limit, label_nodes, Workspace};
 use super::snap::Spot;
 use crate::error::Result;
-use crate::geometry::{distance, Point};
+use crate::geometry::Point;
 
 /// A part of an edge reached from one site: from `start` to `end` (shares of the edge's
 /// length from its tail, `start < end`), with the travel cost at each end.
@@ -127,19 +127,21 @@ fn envelope(e: u32, fs: &[Linear], limit: f64, out: &mut Vec<EdgePiece>) {
     }
 }
 
-/// The part of `line` between shares `a < b` of its length.
-fn substring(line: &[Point], a: f64, b: f64, out: &mut Vec<Point>) {
-    let total = polyline_length(line);
+/// The part of `line` (an edge of `graph`) between shares `a < b` of its length, measured as
+/// the graph measures its edges: planar, or WGS84 geodesic metres for a geodesic graph (the
+/// shares are shares of that length, as the costs and attachments are).
+fn substring(graph: &TravelGraph, line: &[Point], a: f64, b: f64, out: &mut Vec<Point>) {
+    let lengths: Vec<f64> = line.windows(2).map(|w| graph.path_length(w)).collect();
+    let total: f64 = lengths.iter().sum();
     let (from, to) = (a * total, b * total);
     let mut walked = 0.0;
-    let lerp = |p: Point, q: Point, s: f64| [p[0] + (q[0] - p[0]) * s, p[1] + (q[1] - p[1]) * s];
     let start = out.len();
-    for w in line.windows(2) {
-        let len = distance(w[0], w[1]);
+    for (w, &len) in line.windows(2).zip(&lengths) {
         let (s0, s1) = (walked, walked + len);
         if s1 >= from && s0 <= to {
-            let u0 = if len > 0.0 { ((from - s0) / len).clamp(0.0, 1.0) } else { 0.0 };
-            let u1 = if len > 0.0 { ((to - s0) / len).clamp(0.0, 1.0) } else { 1.0 };
+            let u0 =
+                if len > 0.0 { share_of_segment(graph, w[0], w[1], (from - s0).clamp(0.0, len), len) } else { 0.0 };
+            let u1 = if len > 0.0 { share_of_segment(graph, w[0], w[1], (to - s0).clamp(0.0, len), len) } else { 1.0 };
             let p = lerp(w[0], w[1], u0);
             if out.len() == start {
                 out.push(p);
@@ -157,13 +159,35 @@ fn substring(line: &[Point], a: f64, b: f64, out: &mut Vec<Point>) {
     }
 }
 
+fn lerp(p: Point, q: Point, s: f64) -> Point {
+    [p[0] + (q[0] - p[0]) * s, p[1] + (q[1] - p[1]) * s]
+}
+
+/// The share `u` of the segment `p q` (drawn straight in the coordinates) whose point lies
+/// `target` from `p`, of `len` in all: `target / len` on the plane; on the ellipsoid the
+/// geodesic length from `p` is not linear in `u` (a degree of longitude shrinks with the
+/// latitude), so Newton steps on it from that guess (its slope is about `len`).
+fn share_of_segment(graph: &TravelGraph, p: Point, q: Point, target: f64, len: f64) -> f64 {
+    let mut u = (target / len).clamp(0.0, 1.0);
+    if graph.is_geodesic() && u > 0.0 && u < 1.0 {
+        for _ in 0..8 {
+            let step = (target - graph.path_length(&[p, lerp(p, q, u)])) / len;
+            u = (u + step).clamp(0.0, 1.0);
+            if !(step.abs() > 1e-15) {
+                break;
+            }
+        }
+    }
+    u
+}
+
 fn with_shapes(graph: &TravelGraph, pieces: Vec<EdgePiece>) -> Pieces {
     let mut offsets = Vec::with_capacity(pieces.len() + 1);
     let mut coords = Vec::new();
     offsets.push(0);
     for p in &pieces {
         if let Some(line) = graph.line(p.edge as usize) {
-            substring(line.points(), p.start, p.end, &mut coords);
+            substring(graph, line.points(), p.start, p.end, &mut coords);
         }
         offsets.push(coords.len());
     }

@@ -14,10 +14,11 @@ use crate::cancel::Watch;
 use crate::error::{Error, Result};
 
 /// Heap key of a non-negative cost: the bit pattern of a non-negative `f64` orders as the
-/// number does, so the heap compares integers.
+/// number does, so the heap compares integers. Not for -0.0, whose sign bit sets the top bit
+/// (the graph stores every cost of zero as +0.0).
 #[inline]
 fn key(cost: f64) -> u64 {
-    debug_assert!(cost >= 0.0);
+    debug_assert!(cost >= 0.0 && cost.is_sign_positive());
     cost.to_bits()
 }
 

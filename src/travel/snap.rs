@@ -7,7 +7,7 @@ use rayon::prelude::*;
 
 use super::graph::TravelGraph;
 use crate::error::{Error, Result};
-use crate::geometry::{distance_squared, dot, sub, validate_points, BoundingBox, Point};
+use crate::geometry::{distance_squared, dot, sub, validate_points, BoundingBox, Point, WorkingFrame};
 
 /// Where travel starts or ends: at a node, or part-way along an edge.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -39,7 +39,7 @@ pub struct Snap {
     pub on_edge: Point,
 }
 
-/// One segment of an edge's shape.
+/// One segment of an edge's shape, in the index's working frame.
 #[derive(Clone, Copy)]
 struct Segment {
     a: Point,
@@ -52,9 +52,10 @@ struct Segment {
 }
 
 impl Segment {
-    /// The nearest point of the segment to `p` and its squared distance.
+    /// The nearest point of the segment to `p`, as its share `t` of the way from `a` to `b`,
+    /// and its squared distance.
     #[inline]
-    fn nearest(&self, p: Point) -> (Point, f64) {
+    fn nearest(&self, p: Point) -> (f64, f64) {
         let d = self.d;
         let t = (dot(sub(p, self.a), d) / self.len2).clamp(0.0, 1.0);
         let q = if t <= 0.0 {
@@ -64,7 +65,7 @@ impl Segment {
         } else {
             [self.a[0] + t * d[0], self.a[1] + t * d[1]]
         };
-        (q, distance_squared(p, q))
+        (t, distance_squared(p, q))
     }
 }
 
@@ -81,10 +82,17 @@ pub struct SegmentIndex<'g> {
     first: Vec<u32>,
     items: Vec<u32>,
     /// Factor on x (1 for planar graphs): a geodesic graph's longitudes are scaled by the
-    /// cosine of its mean latitude, so that the nearest edge is sought in a local frame of
-    /// roughly equal units (an approximation for networks spanning a few degrees; gaps and
-    /// positions are then measured on the ellipsoid).
+    /// cosine of its mean latitude, so that edges are sought in a local frame of roughly
+    /// equal units; the candidates that frame's distortion leaves open are then compared by
+    /// geodesic distance (gaps and positions are measured on the ellipsoid).
     scale_x: f64,
+    /// Least and greatest latitude of a geodesic graph's vertices: where the local frame's
+    /// scale departs from the true one, and by how much at most.
+    latitudes: (f64, f64),
+    /// The working frame of the segments (after `scale_x`): shifted to their centre and
+    /// scaled by a power of two to unit size, so that squared distances neither overflow
+    /// (coordinates near 1e300) nor underflow (near 1e-300).
+    frame: WorkingFrame,
 }
 
 impl<'g> SegmentIndex<'g> {
@@ -102,26 +110,37 @@ impl<'g> SegmentIndex<'g> {
                     .into(),
             });
         }
+        let mut latitudes = (f64::INFINITY, f64::NEG_INFINITY);
         let scale_x = if graph.is_geodesic() {
             let (mut sum, mut count) = (0.0, 0usize);
             for e in 0..graph.edge_count() {
                 for p in graph.line(e).expect("graph has geometry").points() {
                     sum += p[1];
                     count += 1;
+                    latitudes = (latitudes.0.min(p[1]), latitudes.1.max(p[1]));
                 }
             }
             (sum / count.max(1) as f64).to_radians().cos().max(1e-6)
         } else {
             1.0
         };
+        let scaled = |p: Point| [p[0] * scale_x, p[1]];
+        let mut corners = Vec::new();
+        for e in 0..graph.edge_count() {
+            corners.extend(graph.line(e).expect("graph has geometry").points().iter().map(|&p| scaled(p)));
+        }
+        let frame = WorkingFrame::of(&corners);
+        drop(corners);
         let mut segments = Vec::new();
         for e in 0..graph.edge_count() {
             let line = graph.line(e).expect("graph has geometry");
             for (k, w) in line.points().windows(2).enumerate() {
-                if w[0] != w[1] {
-                    let w = [[w[0][0] * scale_x, w[0][1]], [w[1][0] * scale_x, w[1][1]]];
-                    let d = sub(w[1], w[0]);
-                    segments.push(Segment { a: w[0], b: w[1], d, len2: dot(d, d), edge: e as u32, k: k as u32 });
+                let (a, b) = (frame.to_local(scaled(w[0])), frame.to_local(scaled(w[1])));
+                let d = sub(b, a);
+                let len2 = dot(d, d);
+                // Zero-length segments (and those too short to square in the frame) are left out.
+                if len2 > 0.0 && len2.is_finite() {
+                    segments.push(Segment { a, b, d, len2, edge: e as u32, k: k as u32 });
                 }
             }
         }
@@ -153,6 +172,8 @@ impl<'g> SegmentIndex<'g> {
             first: vec![0; nx * ny + 1],
             items: Vec::new(),
             scale_x,
+            latitudes,
+            frame,
         };
         let span = |s: &Segment, index: &SegmentIndex<'_>| {
             let (i0, j0) = index.cell_of([s.a[0].min(s.b[0]), s.a[1].min(s.b[1])]);
@@ -195,11 +216,60 @@ impl<'g> SegmentIndex<'g> {
         (i, j)
     }
 
-    /// Attach one point: the nearest segment (ties: the lowest segment number).
+    /// A point in the working frame of the segments.
+    #[inline]
+    fn local(&self, p: Point) -> Point {
+        self.frame.to_local([p[0] * self.scale_x, p[1]])
+    }
+
+    /// How much farther than the nearest segment in the local frame a segment may lie there
+    /// and still be the nearest on the ellipsoid, as a factor on squared distances: 1 on the
+    /// plane. A length east-west in the frame is its true length times `cos φ / scale_x` at
+    /// latitude `φ`, which between the point and any segment lies within the network's span
+    /// of latitudes (widened to the point's); a margin of 1e-3 on lengths allows for the rest
+    /// of the flat view's error at the distances a street network spans.
+    fn widening(&self, latitude: f64) -> f64 {
+        if !self.graph.is_geodesic() {
+            return 1.0;
+        }
+        let (lo, hi) = (self.latitudes.0.min(latitude), self.latitudes.1.max(latitude));
+        let nearest_equator = if lo <= 0.0 && hi >= 0.0 { 0.0 } else { lo.abs().min(hi.abs()) };
+        let farthest = lo.abs().max(hi.abs()).min(90.0);
+        let most = (nearest_equator.to_radians().cos() / self.scale_x).max(1.0);
+        let least = (farthest.to_radians().cos().max(1e-6) / self.scale_x).min(1.0);
+        let ratio = most / least * (1.0 + 1e-3);
+        ratio * ratio
+    }
+
+    /// The point at share `t` of segment `n`, in the input's coordinates (the segment's own
+    /// ends at shares 0 and 1 exactly), with the segment's edge and place in the edge's shape.
+    fn place(&self, n: u32, t: f64) -> (u32, u32, Point) {
+        let seg = self.segments[n as usize];
+        let line = self.graph.line(seg.edge as usize).expect("graph has geometry");
+        let pts = line.points();
+        let (a, b) = (pts[seg.k as usize], pts[seg.k as usize + 1]);
+        let q = if t <= 0.0 {
+            a
+        } else if t >= 1.0 {
+            b
+        } else {
+            [a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1])]
+        };
+        (seg.edge, seg.k, q)
+    }
+
+    /// Attach one point: the nearest segment (ties: the lowest segment number). On a
+    /// geodesic graph the segments nearest in the local frame, up to its distortion
+    /// ([`SegmentIndex::widening`]), are compared by geodesic distance.
     pub fn snap(&self, point: Point) -> Snap {
-        let p = [point[0] * self.scale_x, point[1]];
+        let p = self.local(point);
         let (ci, cj) = self.cell_of(p);
-        let mut best = (f64::INFINITY, u32::MAX, p);
+        let widen = self.widening(point[1]);
+        // (squared distance, segment, share along it); a point so far out of the frame that
+        // its squared distances overflow takes the first segment seen rather than none.
+        let mut best = (f64::INFINITY, u32::MAX, 0.0);
+        // On a geodesic graph: every segment seen that may be the nearest on the ellipsoid.
+        let mut near: Vec<(f64, u32, f64)> = Vec::new();
         let rings = self.nx.max(self.ny);
         for r in 0..=rings {
             // Every cell at Chebyshev distance r from (ci, cj), within the grid.
@@ -213,9 +283,12 @@ impl<'g> SegmentIndex<'g> {
                     if i >= 0 && (i as usize) < self.nx {
                         let c = j as usize * self.nx + i as usize;
                         for &n in &self.items[self.first[c] as usize..self.first[c + 1] as usize] {
-                            let (q, d2) = self.segments[n as usize].nearest(p);
-                            if d2 < best.0 || (d2 == best.0 && n < best.1) {
-                                best = (d2, n, q);
+                            let (t, d2) = self.segments[n as usize].nearest(p);
+                            if best.1 == u32::MAX || d2 < best.0 || (d2 == best.0 && n < best.1) {
+                                best = (d2, n, t);
+                            }
+                            if widen > 1.0 && d2 <= best.0 * widen {
+                                near.push((d2, n, t));
                             }
                         }
                     }
@@ -224,15 +297,40 @@ impl<'g> SegmentIndex<'g> {
             }
             // Cells beyond ring r lie at least r cells away from the point.
             let reach = r as f64 * self.cell;
-            if best.1 != u32::MAX && best.0 <= reach * reach {
+            if best.1 != u32::MAX && best.0 * widen <= reach * reach {
                 break;
             }
         }
-        let seg = self.segments[best.1 as usize];
-        let (edge, k) = (seg.edge, seg.k);
-        let on_edge = if self.scale_x == 1.0 { best.2 } else { [best.2[0] / self.scale_x, best.2[1]] };
-        let line = self.graph.line(edge as usize).expect("graph has geometry");
-        let pts = line.points();
+        let (mut n, mut t) = (best.1, best.2);
+        if widen > 1.0 {
+            near.sort_unstable_by_key(|c| c.1);
+            near.dedup_by_key(|c| c.1);
+            // A close, cheap measure first: degrees with longitudes scaled by the cosine of the
+            // latitude half-way between the point and each candidate's nearest point (off by
+            // far less than 1e-3 at street-network distances); then geodesic distances for
+            // the candidates within 1e-3 of its least.
+            let measured: Vec<(f64, u32, f64)> = near
+                .iter()
+                .filter(|c| c.0 <= best.0 * widen)
+                .map(|&(_, m, u)| {
+                    let q = self.place(m, u).2;
+                    let east = (q[0] - point[0]) * (0.5 * (q[1] + point[1])).to_radians().cos();
+                    let north = q[1] - point[1];
+                    (east * east + north * north, m, u)
+                })
+                .collect();
+            let closest = measured.iter().map(|c| c.0).fold(f64::INFINITY, f64::min);
+            let mut least = f64::INFINITY;
+            for &(_, m, u) in measured.iter().filter(|c| c.0 <= closest * (1.0 + 1e-3) * (1.0 + 1e-3)) {
+                let gap = self.graph.path_length(&[point, self.place(m, u).2]);
+                if gap < least || (gap == least && m < n) {
+                    (least, n, t) = (gap, m, u);
+                }
+            }
+        }
+        let (edge, k, on_edge) = self.place(n, t);
+        let pts = self.graph.line(edge as usize).expect("graph has geometry");
+        let pts = pts.points();
         // Planar or geodesic, as the graph measures its edges.
         let g = self.graph;
         let along = g.path_length(&pts[..=k as usize]) + g.path_length(&[pts[k as usize], on_edge]);
@@ -251,7 +349,8 @@ impl<'g> SegmentIndex<'g> {
 /// Attach every point of `points` to `graph`; `argument` names them in errors.
 ///
 /// # Errors
-/// [`Error::NonFiniteCoordinate`] for a bad point; [`Error::BeyondGap`] naming the first
+/// [`Error::NonFiniteCoordinate`] for a bad point, [`Error::OutOfRange`] for a latitude beyond
+/// ±90 or a longitude beyond ±540 on a geodesic graph; [`Error::BeyondGap`] naming the first
 /// point farther than `max_gap` from every edge; those of [`SegmentIndex::new`].
 ///
 /// # Runtime
@@ -263,7 +362,12 @@ pub fn snap_points(
     argument: &'static str,
     max_gap: Option<f64>,
 ) -> Result<Vec<Snap>> {
-    validate_points(argument, points, 1)?;
+    if graph.is_geodesic() {
+        // Latitudes beyond ±90 have no geodesic to the network (their gap came out NaN).
+        crate::geodesic::validate_lonlat(argument, points, 1)?;
+    } else {
+        validate_points(argument, points, 1)?;
+    }
     if let Some(g) = max_gap {
         if !(g >= 0.0) || g.is_nan() {
             return Err(Error::InvalidParameter { name: "max_gap", reason: format!("max_gap must be >= 0; got {g}") });
@@ -279,7 +383,7 @@ pub fn snap_points(
         .par_iter()
         .enumerate()
         .map(|(i, p)| {
-            let (ci, cj) = index.cell_of([p[0] * index.scale_x, p[1]]);
+            let (ci, cj) = index.cell_of(index.local(*p));
             (((cj * index.nx + ci) as u64) << 32) | i as u64
         })
         .collect();

@@ -352,3 +352,46 @@ fn costs_count_one_step_per_origin_and_a_cancelled_run_searches_nothing_more() {
     assert_eq!(watch.progress(), (n, 2 * n));
     assert!(watch.finish(()).is_err());
 }
+
+#[test]
+fn a_cost_of_negative_zero_is_zero_and_its_destination_the_nearest() {
+    // A street of cost -0.0 (equal to 0): the destination on it is the cheapest (brute force
+    // over the destinations' costs). Its sign bit ordered it after every positive cost.
+    let coords = [[0.0, 0.0], [10.0, 0.0], [10.0, 0.0], [20.0, 0.0]];
+    let options = LineOptions { cost: Some(&[-0.0, 1.0]), ..Default::default() };
+    let graph = TravelGraph::from_lines(&coords, &[0, 2, 4], &options).unwrap();
+    assert!(graph.edge_costs().0.iter().chain(graph.edge_costs().1).all(|c| c.is_sign_positive()));
+    let origin = [Spot::OnEdge { edge: 0, fraction: 0.5 }];
+    let destinations = [Spot::OnEdge { edge: 1, fraction: 0.5 }, Spot::OnEdge { edge: 0, fraction: 0.2 }];
+    let all = travel_costs(&graph, &origin, &destinations, &CostOptions::default()).unwrap();
+    let cheapest = (0..2).min_by(|&a, &b| all.costs[a].total_cmp(&all.costs[b])).unwrap();
+    let options = CostOptions { k: Some(1), ..Default::default() };
+    let nearest = travel_costs(&graph, &origin, &destinations, &options).unwrap();
+    assert_eq!(nearest.columns, vec![cheapest as u32]);
+    assert_eq!(nearest.costs, vec![0.0]);
+}
+
+#[test]
+fn points_attach_at_extreme_scales_as_at_unit_scale() {
+    // A found crash (an index out of bounds): near 1e300 squared distances overflowed and
+    // near 1e-300 they underflowed, so no segment was ever nearest. Reference: the unit-scale
+    // closed form (the point above the street's 4, gap 3), times the scale.
+    for scale in [1e300, 1e-300, 1.0] {
+        let coords = [[0.0, 0.0], [10.0 * scale, 0.0]];
+        let graph = TravelGraph::from_lines(&coords, &[0, 2], &LineOptions::default()).unwrap();
+        let snaps = snap_points(&graph, &[[4.0 * scale, 3.0 * scale]], "points", None).unwrap();
+        assert_eq!(snaps[0].edge, 0);
+        assert!((snaps[0].along / scale - 4.0).abs() < 1e-12, "{scale}: {:?}", snaps[0]);
+        assert!((snaps[0].gap / scale - 3.0).abs() < 1e-12, "{scale}: {:?}", snaps[0]);
+    }
+}
+
+#[test]
+fn costs_whose_sum_could_overflow_are_refused() {
+    // Two edges of 1e308 in a chain cost 2e308 together, beyond the largest float.
+    let refused = TravelGraph::from_edges(&[0, 1], &[1, 2], &[1e308, 1e308], None, None, None, None);
+    assert!(matches!(refused, Err(crate::Error::InvalidParameter { name: "cost", .. })));
+    let graph = TravelGraph::from_edges(&[0, 1], &[1, 2], &[1e307, 1e307], None, None, None, None).unwrap();
+    let rows = travel_costs(&graph, &[Spot::Node(0)], &[Spot::Node(2)], &CostOptions::default()).unwrap();
+    assert_eq!(rows.costs, vec![2e307]);
+}

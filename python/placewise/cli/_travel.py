@@ -14,7 +14,6 @@ from __future__ import annotations
 import argparse
 import warnings
 from collections.abc import Callable
-from types import SimpleNamespace
 from typing import Any
 
 import numpy as np
@@ -88,17 +87,16 @@ def _cmd_network_siting(args: argparse.Namespace) -> None:
         if args.within is None:
             raise UserError("--within is needed with --model cover")
         model, options = "cover_all", {"radius": args.within}
-    labels = {"points": p_labels, "weights": p_labels}
+    labels = {"points": p_labels, "weights": p_labels, "candidates": c_labels}
     try:
         plan = _restated(lambda: graph.choose_sites(model, p, c, weights, limit=args.limit, max_gap=args.max_gap,
                                                     **options, **_progress(args)), labels)
     except InputError as exc:
-        from ..gis.coverage import _candidate_named
+        from ..gis.coverage import with_candidate_labels
 
         # The kernel's candidate column named by the candidates' row label (as gis.cover_all
         # does); the covering model's "radius" is --within here.
-        candidates_rows: Any = SimpleNamespace(rows=c_labels)  # what the helper reads of a prepared frame
-        named = _candidate_named(exc, candidates_rows, None)
+        named = with_candidate_labels(exc, c_labels)
         if args.model != "cover" or not str(named).startswith("radius: "):
             raise named from None
         raise UserError("--within: " + str(named)[len("radius: "):].replace("within radius ", "within ")) from None

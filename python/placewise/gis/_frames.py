@@ -25,27 +25,7 @@ except ImportError:  # pragma: no cover - exercised only without the extra
 
 from .._core import InputError
 from .._errors import labelled, plain, refuse, restate, restate_problems
-
-# Short unit names for column names (``distance_m``), by the CRS axis unit's name.
-_UNIT_NAMES = {
-    "metre": "m",
-    "meter": "m",
-    "kilometre": "km",
-    "foot": "ft",
-    "us survey foot": "usft",
-    "foot_us": "usft",
-}
-
-
-def unit_of(crs: Any) -> str:
-    """The short name of a projected CRS's length unit (``"m"``, ``"ft"``, ``"usft"``);
-    ``"u"`` (the coordinates' own unit) without a CRS."""
-    if crs is None:
-        return "u"
-    axes = CRS(crs).axis_info
-    name = (axes[0].unit_name if axes else "").strip().lower()
-    return _UNIT_NAMES.get(name, "".join(ch for ch in name if ch.isalnum()) or "u")
-
+from .._units import unit_of
 
 # The model of geographic input solved on the ellipsoid (the ``work_crs`` column's value).
 ELLIPSOID = "WGS84 ellipsoid"

@@ -111,20 +111,27 @@ def _radius(radius: Any) -> float:
 def _candidate_named(exc: InputError, cf: Prepared | None, ff: Prepared | None) -> InputError:
     """``exc`` with the kernel's candidate column (a position among the candidates, then the
     existing sites) named by its frame and row label, as every other row in the message is."""
-    text = str(exc)
-    match = re.search(r"cheapest candidate, column (\d+)", text)
-    if match is None:
-        return exc
     if cf is None:
         # Sites anywhere: the column indexes the dominating set, whose size is not known
         # here (and every point is a candidate there, so no point is left uncovered).
         return exc
+    return with_candidate_labels(exc, cf.rows, None if ff is None else ff.rows)
+
+
+def with_candidate_labels(exc: InputError, rows: np.ndarray, fixed_rows: np.ndarray | None = None) -> InputError:
+    """``exc`` with the kernel's candidate column named by its row label: a column below
+    ``len(rows)`` is a candidate of row label ``rows[column]``, the next ones the existing
+    sites of ``fixed_rows``; other errors come back unchanged."""
+    text = str(exc)
+    match = re.search(r"cheapest candidate, column (\d+)", text)
+    if match is None:
+        return exc
     column = int(match[1])
-    offered = len(cf.rows)
+    offered = len(rows)
     if column < offered:
-        named = f"cheapest candidate, row {plain(cf.rows[column])!r}"
-    elif ff is not None and column - offered < len(ff.rows):
-        named = f"nearest existing site, fixed row {plain(ff.rows[column - offered])!r}"
+        named = f"cheapest candidate, row {plain(rows[column])!r}"
+    elif fixed_rows is not None and column - offered < len(fixed_rows):
+        named = f"nearest existing site, fixed row {plain(fixed_rows[column - offered])!r}"
     else:
         return exc
     out = type(exc)(text.replace(match[0], named))

@@ -62,10 +62,14 @@ def _points(graph: TravelGraph, frame: Any, argument: str) -> tuple[np.ndarray, 
 
 
 def _restated(call: Any, labels: dict[str, np.ndarray]) -> Any:
+    """``call()``, its input errors naming rows by ``labels`` (per argument name): the
+    kernels' errors through :func:`restate`, the travel graph's own through their
+    ``relabel``."""
     try:
         return call()
     except InputError as exc:
-        raise restate(exc, row_labels=labels) from None
+        relabel = getattr(exc, "relabel", None)
+        raise (relabel(labels) if relabel is not None else restate(exc, row_labels=labels)) from None
 
 
 def travel_costs(graph: TravelGraph, origins: Any, destinations: Any, *, limit: float | None = None,

@@ -1,32 +1,4 @@
-"""Travel along a street network: shortest travel costs, network catchments and reach.
-
-Straight-line distance is a model; by road is another. :class:`TravelGraph` holds a street
-network the user supplies — built from line shapes (:meth:`TravelGraph.from_lines`: arrays
-of coordinates, shapely LineStrings or a GeoDataFrame) or from edge
-arrays (:meth:`TravelGraph.from_edges`) — with a cost each way on every edge (length by
-default, or a column such as travel time) and one-way edges. Points are attached to the
-nearest point of the nearest edge and travel starts and ends part-way along edges, in the
-directions the edges allow.
-
-* :meth:`TravelGraph.costs` — the travel-cost matrix between origins and destinations
-  (Dijkstra 1959, parallel over origins), dense or sparse with a ``limit`` or ``k``;
-* :meth:`TravelGraph.nearest_site` — every point's cheapest site by travel cost, with loads;
-* :meth:`TravelGraph.catchment_edges`, :meth:`TravelGraph.reach` — the network cut into the
-  parts each site reaches first, and the parts within a cost of each site, as lines;
-* :meth:`TravelGraph.choose_sites` — the discrete siting models of :mod:`placewise.discrete`
-  on travel costs.
-
-Costs along an edge are in proportion to its length (uniform speed along each edge). The
-off-network gap between a point and the network is reported, never added to a cost.
-Unreachable pairs (separate components, one-way edges) are explicit: ``NaN`` in a dense
-matrix, absent from a sparse one, site ``-1`` in a catchment. Results are planning aids under
-this model; they defer to local regulations and licensed professional judgement.
-
-Coordinates are planar, or longitude/latitude with ``geodesic=True`` (set by itself for a
-GeoDataFrame in a geographic CRS): edge lengths, gaps and positions along edges are then
-WGS84 geodesic lengths in metres. Lines drawn crossing each other meet there only with
-``split_crossings=True`` (a bridge crosses a street without meeting it).
-"""
+"""The travel graph: construction from edges or lines, description, searches and siting."""
 
 from __future__ import annotations
 
@@ -38,238 +10,22 @@ from typing import Any
 import numpy as np
 from numpy.typing import ArrayLike
 
-from . import _core
-from ._core import InputError
-from ._errors import restate
-from ._progress import Stages
-from ._results import Result
-
-__all__ = ["Attachments", "EdgePieces", "NetworkCatchments", "TravelGraph"]
-
-_ONE_WAY_WORDS = {"both": 0, "forward": 1, "backward": -1}
-_MODELS = ("evaluate_sites", "p_median", "p_center", "cover_all", "cover_most")
-
-
-def _input_error(argument: str, message: str, row: Any = None) -> InputError:
-    error = InputError(message)
-    error.argument = argument
-    error.row = row
-    return error
-
-
-def _one_way_codes(one_way: Any, labels: Any = None) -> np.ndarray | None:
-    """Direction codes 0 / 1 / -1 from booleans (True: forward only), integers or the words
-    ``"both"``, ``"forward"``, ``"backward"``; anything else is refused naming its row."""
-    if one_way is None:
-        return None
-    values = np.asarray(one_way)
-    if values.dtype.kind == "b":
-        return values.astype(np.int64)
-    if values.dtype.kind in "iu":
-        return values.astype(np.int64)
-    codes = np.empty(len(values), dtype=np.int64)
-    for row, value in enumerate(values.tolist()):
-        if isinstance(value, str) and value.lower() in _ONE_WAY_WORDS:
-            codes[row] = _ONE_WAY_WORDS[value.lower()]
-        elif isinstance(value, bool):
-            codes[row] = int(value)
-        elif isinstance(value, (int, float)) and not isinstance(value, bool) and float(value) in (0.0, 1.0, -1.0):
-            codes[row] = int(value)
-        else:
-            name = row if labels is None else labels[row]
-            raise _input_error(
-                "one_way",
-                f"one_way[{name!r}]: unknown direction {value!r}; expected True/False, 0/1/-1 or "
-                f"'both'/'forward'/'backward'",
-                name,
-            )
-    return codes
-
-
-def _ragged_lines(lines: Any) -> tuple[np.ndarray, np.ndarray]:
-    """Coordinates and offsets of a sequence of lines (shapely LineStrings or ``(k, 2)``
-    arrays); a geometry that is not a LineString is refused naming its row."""
-    items = list(lines)
-    if any(hasattr(item, "geom_type") or item is None for item in items):
-        import shapely
-
-        geoms = np.asarray(items, dtype=object)
-        for row, g in enumerate(geoms):
-            if g is None or g.geom_type not in ("LineString", "LinearRing"):
-                kind = "missing" if g is None else g.geom_type
-                raise _input_error("lines", f"lines[{row}]: expected a LineString; got {kind}", row)
-        coords, index = shapely.get_coordinates(geoms, return_index=True)
-        counts = np.bincount(index, minlength=len(geoms))
-    else:
-        arrays = [np.asarray(item, dtype=np.float64).reshape(-1, 2) if np.size(item) else np.empty((0, 2))
-                  for item in items]
-        counts = np.array([len(a) for a in arrays], dtype=np.int64)
-        coords = np.concatenate(arrays) if arrays else np.empty((0, 2))
-    offsets = np.zeros(len(counts) + 1, dtype=np.int64)
-    np.cumsum(counts, out=offsets[1:])
-    return np.ascontiguousarray(coords, dtype=np.float64), offsets
-
-
-def _frame_lines(frame: Any, cost: Any, reverse_cost: Any, one_way: Any) -> tuple[Any, ...]:
-    """A GeoDataFrame's lines and columns (a column name or values), its CRS's length unit."""
-    crs = frame.crs
-    unit = "u"
-    if crs is not None and crs.is_geographic:
-        unit = "m"  # geodesic lengths on the WGS84 ellipsoid
-    elif crs is not None and crs.axis_info:
-        unit = {"metre": "m", "meter": "m", "foot": "ft", "US survey foot": "ftUS"}.get(crs.axis_info[0].unit_name, "u")
-
-    def column(value: Any) -> Any:
-        return frame[value].to_numpy() if isinstance(value, str) else value
-
-    return (list(frame.geometry.values), column(cost), column(reverse_cost), column(one_way), unit, crs,
-            frame.index.to_numpy())
-
-
-# ------------------------------------------------------------------------------ results
-
-
-@dataclasses.dataclass(frozen=True, repr=False, eq=False)
-class Attachments(Result):
-    """Points attached to the network: one row per point.
-
-    Attributes
-    ----------
-    edge : ndarray of int64, shape (n,)
-        The edge (input row) each point went to.
-    along : ndarray, shape (n,)
-        Length along that edge's shape from its first point to the attachment point.
-    gap : ndarray, shape (n,)
-        Distance from the point to the network (not a travel cost).
-    on_edge : ndarray, shape (n, 2)
-        The attachment points.
-    node : ndarray of int64, shape (n,)
-        The node the point sits on when it is attached at an edge's end; -1 part-way along.
-    """
-
-    edge: np.ndarray
-    along: np.ndarray = dataclasses.field(repr=False)
-    gap: np.ndarray
-    on_edge: np.ndarray = dataclasses.field(repr=False)
-    node: np.ndarray = dataclasses.field(repr=False)
-
-    def _columns(self) -> dict[str, Any]:
-        return {"edge": self.edge, self._u("along"): self.along, self._u("gap"): self.gap, "node": self.node}
-
-    def _geometry(self) -> Any:
-        import shapely
-
-        return shapely.points(self.on_edge)
-
-
-@dataclasses.dataclass(frozen=True, repr=False, eq=False)
-class NetworkCatchments(Result):
-    """Every point's cheapest site by travel cost from the site (one row per point).
-
-    ``unit`` names the cost unit (``cost_min``); ``length_unit`` the coordinates' unit.
-
-    Attributes
-    ----------
-    site : ndarray of int64, shape (n,)
-        The site row serving each point; -1 where no site reaches it (``reachable`` False).
-    cost : ndarray, shape (n,)
-        Travel cost from that site; NaN where unreachable.
-    load, count : ndarray, shape (s,)
-        Weight and number of points each site serves.
-    node_site, node_cost : ndarray, shape (nodes,)
-        The catchment of every node: its site (-1 unreached) and the cost from it (NaN).
-    unreachable, unreachable_weight : int, float
-        How many points, and how much weight, no site reaches.
-    total_cost, worst_cost : float
-        ``Σ wᵢ costᵢ`` and ``max costᵢ`` over the reached points.
-    point_edge, point_gap : ndarray, shape (n,)
-        The edge each point was attached to and its gap (empty when given as nodes).
-    """
-
-    site: np.ndarray
-    cost: np.ndarray = dataclasses.field(repr=False)
-    load: np.ndarray = dataclasses.field(repr=False)
-    count: np.ndarray = dataclasses.field(repr=False)
-    node_site: np.ndarray = dataclasses.field(repr=False)
-    node_cost: np.ndarray = dataclasses.field(repr=False)
-    unreachable: int
-    unreachable_weight: float = dataclasses.field(repr=False)
-    total_cost: float
-    worst_cost: float
-    point_edge: np.ndarray = dataclasses.field(repr=False)
-    point_gap: np.ndarray = dataclasses.field(repr=False)
-    site_edge: np.ndarray = dataclasses.field(repr=False)
-    site_gap: np.ndarray = dataclasses.field(repr=False)
-    length_unit: str = dataclasses.field(default="u", repr=False, kw_only=True)
-
-    @property
-    def reachable(self) -> np.ndarray:
-        """Whether some site reaches each point."""
-        return self.site >= 0
-
-    def _columns(self) -> dict[str, Any]:
-        columns = {"site": self.site, "reachable": self.reachable, self._u("cost"): self.cost}
-        if len(self.point_edge) == len(self.site):
-            columns |= {"edge": self.point_edge, f"gap_{self.length_unit}": self.point_gap}
-        return columns
-
-    def sites_frame(self) -> Any:
-        """One row per site: ``site``, ``load``, ``points``."""
-        import pandas as pd
-
-        return pd.DataFrame({"site": np.arange(len(self.load)), "load": self.load, "points": self.count})
-
-    def summary(self) -> Any:
-        """Totals in one row: ``sites``, ``points``, ``cost_<unit>`` (Σ weight × cost),
-        ``worst_cost_<unit>``, ``unreachable`` points and ``unreachable_load``."""
-        import pandas as pd
-
-        return pd.DataFrame({
-            "sites": [len(self.load)], "points": [len(self.site)], self._u("cost"): [self.total_cost],
-            self._u("worst_cost"): [self.worst_cost], "unreachable": [self.unreachable],
-            "unreachable_load": [self.unreachable_weight],
-        })
-
-
-@dataclasses.dataclass(frozen=True, repr=False, eq=False)
-class EdgePieces(Result):
-    """Parts of edges, each reached from one site, with the travel cost at both ends.
-
-    Attributes
-    ----------
-    site, edge : ndarray of int64, shape (k,)
-        The site reaching the piece and the edge (input row) it lies on.
-    start, end : ndarray, shape (k,)
-        Where the piece starts and ends, as shares of the edge's length from its first point.
-    cost_start, cost_end : ndarray, shape (k,)
-        Travel cost from the site to the piece's start and end.
-    offsets, coords : ndarray
-        The pieces' shapes (piece ``i`` is ``coords[offsets[i]:offsets[i + 1]]``; empty when
-        the graph has no coordinates).
-    """
-
-    site: np.ndarray
-    edge: np.ndarray
-    start: np.ndarray = dataclasses.field(repr=False)
-    end: np.ndarray = dataclasses.field(repr=False)
-    cost_start: np.ndarray = dataclasses.field(repr=False)
-    cost_end: np.ndarray = dataclasses.field(repr=False)
-    offsets: np.ndarray = dataclasses.field(repr=False)
-    coords: np.ndarray = dataclasses.field(repr=False)
-
-    def _columns(self) -> dict[str, Any]:
-        return {"site": self.site, "edge": self.edge, "start": self.start, "end": self.end,
-                self._u("cost_start"): self.cost_start, self._u("cost_end"): self.cost_end}
-
-    def _geometry(self) -> Any:
-        import shapely
-
-        if len(self.coords) == 0 and len(self.site):
-            raise TypeError("the graph has no coordinates, so its pieces have no shape; use to_frame()")
-        return shapely.from_ragged_array(shapely.GeometryType.LINESTRING, self.coords, (self.offsets,))
-
-
-# ------------------------------------------------------------------------------ the graph
+from .. import _core
+from .._core import InputError
+from .._errors import restate
+from .._progress import Stages
+from .._units import length_unit_of
+from ._inputs import (
+    _MODELS,
+    _frame_lines,
+    _in_degrees,
+    _input_error,
+    _missing_pair_error,
+    _one_way_codes,
+    _ragged_lines,
+    _unreached_error,
+)
+from ._results import Attachments, EdgePieces, NetworkCatchments
 
 
 class TravelGraph:
@@ -383,8 +139,12 @@ class TravelGraph:
             Coordinates are longitude/latitude (degrees, WGS84): default costs, attachment
             gaps and positions are geodesic lengths in metres on the WGS84 ellipsoid (Karney
             2013); ``tolerance`` is in degrees. Set by itself for a GeoDataFrame in a
-            geographic CRS. The nearest edge is sought in a local frame (longitudes scaled by
-            the cosine of the mean latitude), which suits networks spanning a few degrees.
+            geographic CRS (one whose angles are not degrees, such as grads, is first
+            transformed to EPSG:4326, which becomes the graph's ``crs``). Edges are sought
+            in a local frame (longitudes scaled by the cosine of the mean latitude); those as
+            near there as that frame's distortion over the network's latitudes allows are
+            compared by geodesic distance, so a point goes to the geodesically nearest edge
+            (its point on the edge is the frame's nearest).
 
         Raises
         ------
@@ -415,11 +175,12 @@ class TravelGraph:
                 lines, cost, reverse_cost, one_way)
             geodesic = geodesic or (crs is not None and crs.is_geographic)
         elif hasattr(lines, "crs") and getattr(lines, "crs", None) is not None:
+            lines = _in_degrees(lines)
             crs = lines.crs
             geodesic = geodesic or crs.is_geographic
-            length_unit = "m" if geodesic else length_unit
+            length_unit = length_unit_of(crs)
         try:
-            coords, offsets = _ragged_lines(lines)
+            coords, offsets = _ragged_lines(lines, labels)
             codes = _one_way_codes(one_way, labels)
             core = _core.travel_from_lines(coords, offsets, cost, reverse_cost, codes, tolerance, split_crossings,
                                            geodesic)
@@ -503,7 +264,9 @@ class TravelGraph:
     # -------------------------------------------------------------- searches
 
     def snap(self, points: ArrayLike, *, max_gap: float | None = None) -> Attachments:
-        """Attach points to the nearest point of the nearest edge (an R*-tree over segments).
+        """Attach points to the nearest point of the nearest edge (a grid of buckets over the
+        edges' segments). Edges of zero length are never attached to: they lead nowhere but
+        to their own end, which the point reaches through the edges that meet there.
 
         Raises
         ------
@@ -698,7 +461,7 @@ class TravelGraph:
         >>> plan.open, float(plan.total_cost)
         (array([0]), 22.0)
         """
-        from . import discrete
+        from .. import discrete
 
         if model not in _MODELS:
             raise _input_error("model", f"model must be one of {', '.join(map(repr, _MODELS))}; got {model!r}")
@@ -716,12 +479,7 @@ class TravelGraph:
         lost = np.flatnonzero(per_point == 0)
         if len(lost):
             w = np.ones(n) if weights is None else np.asarray(weights, dtype=np.float64)
-            shown = ", ".join(str(int(r)) for r in lost[:10]) + (", ..." if len(lost) > 10 else "")
-            raise _input_error(
-                "points",
-                f"points[{shown}]: no candidate reaches {len(lost)} point(s) (weight {float(w[lost].sum()):g}) "
-                f"(another component, one-way streets or beyond the limit); drop them or add candidates there",
-                int(lost[0]))
+            raise _unreached_error(lost, float(w[lost].sum()))
         if every_pair and not isinstance(matrix, np.ndarray):
             matrix = matrix.toarray()
         elif not every_pair and isinstance(matrix, np.ndarray):
@@ -742,8 +500,9 @@ class TravelGraph:
             # The first point with a missing pair, and its first candidate without a cost.
             i = int(np.flatnonzero(np.diff(matrix.indptr) < m)[0])
             j = int(np.setdiff1d(np.arange(m), matrix.indices[matrix.indptr[i]:matrix.indptr[i + 1]])[0])
-            raise _input_error(
-                "costs",
-                f"candidate {j} cannot reach points[{i}] (and {n * m - matrix.nnz - 1} other pairs); "
-                f"the discrete models need a cost for every pair they are given: {exc}",
-                int(i)) from exc
+            raise _missing_pair_error(i, j, n * m - matrix.nnz - 1, str(exc)) from exc
+
+
+# The package names TravelGraph as its own (its __module__), where the doctest finder then
+# skips its methods (their globals are this module's); listed here, their examples run.
+__test__ = {"TravelGraph": TravelGraph}
