@@ -19,7 +19,7 @@ import pytest
 import placewise as pw
 
 PACKAGES = ["placewise.capacity", "placewise.demo", "placewise.discrete", "placewise.enclose", "placewise.multi",
-            "placewise.network", "placewise.partition"]
+            "placewise.network", "placewise.partition", "placewise.travel"]
 
 
 def _public(packages: list[str]) -> list[tuple[str, str]]:

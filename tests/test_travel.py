@@ -690,3 +690,27 @@ def test_a_node_count_that_disagrees_with_the_coordinates_is_refused() -> None:
     assert caught.value.argument == "nodes"
     graph = pw.TravelGraph.from_edges([0, 1], [1, 2], [1.0, 1.0], nodes=3, coordinates=three)
     assert "nodes=3" in repr(graph)
+
+
+def test_network_catchments_of_a_geoseries_is_a_frame_and_names_a_replaced_column():
+    # A GeoSeries of homes came back as the series with four more "rows" holding the result
+    # arrays. Closed form on one straight street from (0, 0) to (300, 0) with depots at both
+    # ends: the home at (10, 5) meets the street at x = 10, 10 m from the west depot, 5 m
+    # off the street; the home at (250, -5) is 50 m from the east depot.
+    gpd = pytest.importorskip("geopandas")
+    shapely = pytest.importorskip("shapely")
+    from placewise.gis.travel import network_catchments, travel_graph
+
+    graph = travel_graph(gpd.GeoDataFrame(geometry=[shapely.LineString([(0, 0), (300, 0)])], crs="EPSG:32630"))
+    homes = gpd.GeoSeries(gpd.points_from_xy([10, 250], [5, -5]), index=["a", "b"], crs="EPSG:32630")
+    depots = gpd.GeoDataFrame(geometry=gpd.points_from_xy([0, 300], [0, 0]), index=["west", "east"], crs="EPSG:32630")
+    out = network_catchments(graph, homes, depots)
+    assert isinstance(out, gpd.GeoDataFrame) and out.index.tolist() == ["a", "b"]
+    assert out["site"].tolist() == ["west", "east"]
+    np.testing.assert_allclose(out["cost_m"], [10.0, 50.0], rtol=1e-12)
+    np.testing.assert_allclose(out["gap_m"], [5.0, 5.0], rtol=1e-12)
+    # A column of the caller's called "site" is replaced, and said so.
+    frame = gpd.GeoDataFrame({"site": ["home 1", "home 2"]}, geometry=homes.values, index=homes.index)
+    with pytest.warns(UserWarning, match="points: the result replaces the frame's own column 'site'"):
+        again = network_catchments(graph, frame, depots)
+    assert again["site"].tolist() == ["west", "east"]

@@ -18,6 +18,7 @@ import numpy as np
 from .._core import InputError
 from .._errors import restate
 from ..travel import TravelGraph
+from ._frames import annotated, as_frame, column
 
 __all__ = ["network_catchments", "network_reach", "travel_costs", "travel_graph"]
 
@@ -133,19 +134,18 @@ def network_catchments(graph: TravelGraph, points: Any, sites: Any, *, weight: s
     a  west    10.0
     b  east    50.0
     """
-    p, p_labels = _points(graph, points, "points")
+    # A GeoSeries of points gets its columns in a frame (set on the series, they became four
+    # more rows holding arrays).
+    frame = as_frame(points, "points")
+    p, p_labels = _points(graph, frame, "points")
     s, s_labels = _points(graph, sites, "sites")
-    weights = None if weight is None else points[weight].to_numpy(dtype=np.float64)
+    weights = None if weight is None else column(frame, weight, "points", "weight")
     labels = {"points": p_labels, "sites": s_labels, "weights": p_labels}
     result = _restated(lambda: graph.nearest_site(p, s, weights, limit=limit, max_gap=max_gap), labels)
-    out = points.copy()
     site = np.full(len(p), None, dtype=object)
     site[result.reachable] = s_labels[result.site[result.reachable]]
-    out["site"] = site
-    out["reachable"] = result.reachable
-    out[f"cost_{graph.unit}"] = result.cost
-    out[f"gap_{graph.length_unit}"] = result.point_gap
-    return out
+    return annotated(frame, {"site": site, "reachable": result.reachable, f"cost_{graph.unit}": result.cost,
+                             f"gap_{graph.length_unit}": result.point_gap}, "points")
 
 
 def network_reach(graph: TravelGraph, sites: Any, limit: float, *, max_gap: float | None = None) -> Any:

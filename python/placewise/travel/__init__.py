@@ -34,6 +34,7 @@ from __future__ import annotations
 # class names, which is this package (see the end): the names they use must be here.
 import numpy as np  # noqa: F401
 
+from .._package import adopt
 from ._graph import TravelGraph
 from ._results import Attachments, EdgePieces, NetworkCatchments
 
@@ -41,6 +42,4 @@ __all__ = ["Attachments", "EdgePieces", "NetworkCatchments", "TravelGraph"]
 
 # The public objects live in the private modules above but belong to this package: their
 # reprs, pickles and reference entries name it, as they did when it was one module.
-for _name in __all__:
-    globals()[_name].__module__ = __name__
-del _name
+adopt(globals())

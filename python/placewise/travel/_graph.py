@@ -502,7 +502,3 @@ class TravelGraph:
             j = int(np.setdiff1d(np.arange(m), matrix.indices[matrix.indptr[i]:matrix.indptr[i + 1]])[0])
             raise _missing_pair_error(i, j, n * m - matrix.nnz - 1, str(exc)) from exc
 
-
-# The package names TravelGraph as its own (its __module__), where the doctest finder then
-# skips its methods (their globals are this module's); listed here, their examples run.
-__test__ = {"TravelGraph": TravelGraph}
