@@ -329,7 +329,7 @@ def _check_crs(args: argparse.Namespace) -> None:
 
 
 def _common(args: argparse.Namespace) -> dict[str, Any]:
-    from ..gis._frames import MAX_SCALE_ERROR
+    from ..gis._crs import MAX_SCALE_ERROR
 
     if args.planar and args.max_scale_error is not None:
         # Planar coordinates are used as they are: no projection whose distortion to bound.

@@ -24,8 +24,26 @@ except ImportError:  # pragma: no cover - exercised only without the extra
     raise ImportError("placewise.gis needs geopandas and pyproj: pip install 'placewise[geo]'") from None
 
 from .._core import InputError
-from .._errors import labelled, plain, refuse, restate, restate_problems
+from .._errors import labelled, refuse, restate, restate_problems
 from .._units import unit_of
+from ._columns import Groups, _points_of, as_frame, column, groups_of
+from ._crs import (
+    _WGS84,
+    MAX_SCALE_ERROR,
+    _caller_level,
+    _centre,
+    _centred_frame,
+    _check_lonlat,
+    _frames_per_group,
+    _refuse_unprojected,
+    _say_distortion,
+    _utm_for,
+    _warn_degrees_in_projected,
+    _warn_distorting_crs,
+    _wgs84_lonlat,
+    _working_crs,
+    scale_error_over,
+)
 
 # The model of geographic input solved on the ellipsoid (the ``work_crs`` column's value).
 ELLIPSOID = "WGS84 ellipsoid"
@@ -34,11 +52,6 @@ ELLIPSOID = "WGS84 ellipsoid"
 class TooWide(InputError):
     """Geographic data that no working frame holds within ``max_scale_error`` (the functions
     with a spherical form answer on the sphere instead of refusing)."""
-_WGS84 = CRS.from_epsg(4326)
-
-# Default bound on the relative scale error a working projection may introduce over the
-# data of geographic input (0.1 %); beyond it the functions refuse rather than distort.
-MAX_SCALE_ERROR = 1e-3
 
 
 @dataclasses.dataclass
@@ -106,322 +119,6 @@ class Prepared:
         if self.scale_error is None:
             return {}
         return {"work_crs": CRS(self.work).name, "scale_error": self.scale_error}
-
-
-def as_frame(obj: Any, name: str) -> Any:
-    if isinstance(obj, gpd.GeoDataFrame):
-        return obj
-    if isinstance(obj, gpd.GeoSeries):
-        return gpd.GeoDataFrame(geometry=obj)
-    raise InputError(f"{name} must be a GeoDataFrame or GeoSeries; got {type(obj).__name__}")
-
-
-def _working_crs(frame: Any, name: str, planar: bool, work_crs: Any = None, lonlat: np.ndarray | None = None) -> Any:
-    """The CRS to solve in: ``work_crs``, the frame's own projected CRS, none (planar), or for a
-    geographic frame the UTM zone at the centre of its points ``lonlat`` (already read)."""
-    crs = frame.crs
-    if work_crs is not None:
-        if crs is None:
-            raise InputError(f"{name} has no CRS; work_crs= needs one to project from")
-        forced = CRS(work_crs)
-        if not forced.is_projected:
-            raise InputError(f"work_crs must be a projected CRS; got {forced.name!r}")
-        return forced
-    if crs is None:
-        if not planar:
-            raise InputError(
-                f"{name} has no CRS: set one with .set_crs(...), or pass planar=True if the "
-                "coordinates are already planar"
-            )
-        return None
-    crs = CRS(crs)
-    if crs.is_geographic:
-        assert lonlat is not None, "a geographic frame's points are read before its frame is chosen"
-        return _utm_at_centre(lonlat)
-    if not crs.is_projected:
-        raise InputError(f"{name}: CRS {crs.name!r} is neither geographic nor projected")
-    return crs
-
-
-def _points_of(frame: Any, name: str, centroids: bool) -> np.ndarray:
-    geoms = frame.geometry.values
-    missing = shapely.is_missing(geoms) | shapely.is_empty(geoms)
-    if missing.any():
-        row = plain(frame.index[int(np.argmax(missing))])
-        raise InputError(f"{name}: row {row!r} has a missing or empty geometry")
-    kinds = shapely.get_type_id(geoms)
-    not_point = kinds != shapely.GeometryType.POINT
-    if not_point.any():
-        if not centroids:
-            at = int(np.argmax(not_point))
-            row = plain(frame.index[at])
-            kind = shapely.GeometryType(int(kinds[at])).name.title()
-            raise InputError(
-                f"{name}: row {row!r} is a {kind}, not a Point; pass centroids=True to use the "
-                "centroids of non-point geometries"
-            )
-        geoms = shapely.centroid(geoms)
-    return np.column_stack([shapely.get_x(geoms), shapely.get_y(geoms)]).astype(np.float64)
-
-
-def _degrees_per_unit(crs: Any) -> float:
-    """Degrees in one unit of a geographic CRS's axes: 1 for degrees, 0.9 for grads."""
-    axes = CRS(crs).axis_info
-    degrees = float(np.degrees(axes[0].unit_conversion_factor)) if axes else 1.0
-    return 1.0 if abs(degrees - 1.0) < 1e-12 or not degrees > 0 else degrees
-
-
-def _check_lonlat(frame: Any, lonlat: np.ndarray, name: str) -> None:
-    """Refuse coordinates that cannot be longitude/latitude, naming the rows (the frame's
-    coordinates in its own angular unit, compared with the limits in degrees)."""
-    scale = 1.0 if frame.crs is None else _degrees_per_unit(frame.crs)
-    lon, lat = scale * lonlat[:, 0], scale * lonlat[:, 1]
-
-    def rows(mask: np.ndarray) -> str:
-        labels = [repr(plain(v)) for v in frame.index[mask][:5]]
-        more = int(mask.sum()) - len(labels)
-        return ", ".join(labels) + (f" and {more} more" if more > 0 else "")
-
-    bad_lat = np.abs(lat) > 90
-    if bad_lat.any():
-        swapped = bool(np.all(np.abs(lat) <= 180) and np.all(np.abs(lon) <= 90))
-        hint = ("; the columns look swapped (x must be longitude, y latitude)" if swapped
-                else "; are these projected coordinates? set the frame's real CRS")
-        raise InputError(f"{name}: latitude (y) outside -90..90 at rows {rows(bad_lat)}{hint}")
-    bad_lon = np.abs(lon) > 540
-    if bad_lon.any():
-        raise InputError(f"{name}: longitude (x) outside -540..540 at rows {rows(bad_lon)}; are these projected "
-                         "coordinates? set the frame's real CRS")
-
-
-def _wgs84_lonlat(frame: Any, name: str, centroids: bool) -> np.ndarray:
-    """A geographic frame's points, checked (:func:`_check_lonlat`), as WGS84 longitude and
-    latitude in degrees: what the zone choice, PROJ's scale factors and the per-group
-    transforms from EPSG:4326 read. Why transform: a geographic CRS may count longitude from
-    another prime meridian (Ferro, Paris) or in another unit (grads), and read as WGS84
-    degrees its coordinates would be places hundreds of kilometres away."""
-    lonlat = _points_of(frame, name, centroids)
-    _check_lonlat(frame, lonlat, name)
-    if CRS(frame.crs).equals(_WGS84):
-        return lonlat
-    return _points_of(frame.to_crs(_WGS84), name, centroids)
-
-
-def _warn_degrees_in_projected(frame: Any, xy: np.ndarray, name: str, crs: Any) -> None:
-    """A projected frame whose coordinates all look like degrees is probably mislabelled."""
-    if len(xy) >= 3 and np.all(np.abs(xy[:, 0]) <= 180) and np.all(np.abs(xy[:, 1]) <= 90):
-        extent = float(np.ptp(xy, axis=0).max())
-        if 0 < extent < 10:
-            import warnings
-
-            warnings.warn(
-                f"{name}: every coordinate lies within ±180 / ±90 and the data span {extent:.3g} "
-                f"{unit_of(crs)} in the projected CRS {CRS(crs).name!r}; if these are degrees, set the "
-                "frame's CRS to a geographic one (e.g. EPSG:4326)",
-                UserWarning, stacklevel=_caller_level(),
-            )
-
-
-def scale_error_over(work: Any, lonlat: np.ndarray, xy: np.ndarray) -> float:
-    """The largest relative scale error of the projection ``work`` over the data.
-
-    Evaluated (pyproj's ``Proj.get_factors``) at the vertices of the data's convex hull in
-    the working frame — where a transverse Mercator or azimuthal frame distorts most — and
-    at a fixed sample of up to 20,000 points for any other projection.
-    """
-    if not np.isfinite(xy).all():
-        # Points the projection cannot reach (beyond a transverse Mercator's range).
-        return float("inf")
-    return float(np.nanmax(_scale_errors(work, lonlat[_measured_rows(xy)])))
-
-
-def _measured_rows(xy: np.ndarray) -> np.ndarray:
-    """The rows :func:`scale_error_over` measures: the convex hull's vertices and a fixed
-    sample of up to 20,000 rows."""
-    n = len(xy)
-    hull = shapely.convex_hull(shapely.multipoints(xy))
-    if hull.geom_type == "Polygon":
-        corners = np.asarray(hull.exterior.coords)[:-1]
-        at = np.unique(np.concatenate([np.flatnonzero(np.isin(xy[:, 0], corners[:, 0])), [0]]))
-    else:
-        at = np.array([int(np.argmin(xy[:, 0])), int(np.argmax(xy[:, 0]))])
-    return np.unique(np.concatenate([at, np.linspace(0, n - 1, min(n, 20_000)).astype(np.int64)]))
-
-
-def _warn_distorting_crs(xy: np.ndarray, name: str, work: Any, max_scale_error: float, chosen: bool) -> None:
-    """Projected input is solved in its own CRS (or the ``work_crs`` the caller ``chosen``),
-    as it is; when that CRS distorts distances over the data beyond ``max_scale_error`` (Web
-    Mercator away from the equator, an equal-area projection over a continent, a zone used
-    far outside its area), every distance and cost comes out scaled by up to that much, so
-    say so with the measured figure instead of letting ``cost_m`` pass for true metres."""
-    from pyproj import Transformer
-
-    finite = np.isfinite(xy).all(axis=1)
-    if not finite.any():
-        return
-    rows = _measured_rows(xy[finite])
-    try:
-        lon, lat = Transformer.from_crs(CRS(work), CRS("EPSG:4326"), always_xy=True).transform(
-            xy[finite][rows, 0], xy[finite][rows, 1])
-        errors = _scale_errors(work, np.column_stack([lon, lat]))
-    except Exception:  # noqa: BLE001 - a CRS PROJ cannot measure is used as it is, unmeasured
-        return
-    if not np.isfinite(errors).any():
-        return
-    _say_distortion(name, work, float(np.nanmax(errors)), max_scale_error, chosen)
-
-
-def _say_distortion(name: str, work: Any, error: float, max_scale_error: float, chosen: bool) -> None:
-    """Warn when the working CRS ``work`` (the caller's own, or ``chosen`` as ``work_crs``)
-    distorts distances over the data by ``error`` (relative) beyond ``max_scale_error``."""
-    import warnings
-
-    if not error > max_scale_error:
-        return
-    advice = ("choose a work_crs suited to the area" if chosen else
-              "pass work_crs= with a projection suited to the area (a UTM zone, a national grid)")
-    warnings.warn(
-        f"{name}: the working CRS {CRS(work).name!r} distorts distances by up to {100 * error:.3g} % over "
-        f"these points (more than the {100 * max_scale_error:.3g} % of max_scale_error); distances, "
-        f"costs and radii are in its units ({unit_of(work)}) and differ from true lengths by that much. "
-        f"For true lengths {advice}, or raise max_scale_error= to accept them",
-        UserWarning, stacklevel=_caller_level(),
-    )
-
-
-def _caller_level() -> int:
-    """The ``stacklevel`` that makes a warning point at the first caller outside placewise
-    (the gis functions reach :func:`prepare` by paths of different depths)."""
-    import os
-    import sys
-
-    package = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
-    frame: Any = sys._getframe(1)
-    level = 1
-    while frame is not None and os.path.abspath(frame.f_code.co_filename).startswith(package + os.sep):
-        frame, level = frame.f_back, level + 1
-    return level
-
-
-def _centres(lonlat: np.ndarray, codes: np.ndarray, count: int) -> np.ndarray:
-    """Longitude/latitude of the mean unit vector of each group's points (``codes`` in ``0..count-1``).
-
-    Why not the middle of the bounding box: a group on both sides of the 180° meridian has
-    longitudes near -180 and +180, whose box middle lies near 0°, on the other side of the Earth.
-    The mean direction is where the group is, whatever meridian it straddles (a group spread
-    evenly round a pole or the globe has no such centre, and its scale error refuses it).
-    """
-    lon, lat = np.radians(lonlat[:, 0]), np.radians(lonlat[:, 1])
-    unit = np.column_stack([np.cos(lat) * np.cos(lon), np.cos(lat) * np.sin(lon), np.sin(lat)])
-    total = np.zeros((count, 3))
-    np.add.at(total, codes, unit)
-    return np.column_stack([np.degrees(np.arctan2(total[:, 1], total[:, 0])),
-                            np.degrees(np.arctan2(total[:, 2], np.hypot(total[:, 0], total[:, 1])))])
-
-
-def _centre(lonlat: np.ndarray) -> np.ndarray:
-    """Longitude/latitude of the mean unit vector of all the points (:func:`_centres`)."""
-    return _centres(lonlat, np.zeros(len(lonlat), dtype=np.int64), 1)[0]
-
-
-def _utm_at_centre(lonlat: np.ndarray) -> CRS:
-    """The UTM zone at the centre of the points (:func:`_centre`)."""
-    centre = _centre(lonlat)
-    return _utm_of(float(centre[0]), float(centre[1]))
-
-
-def _utm_for(frame: Any, name: str) -> CRS:
-    """The UTM zone at a frame's centre, its geometries read as WGS 84 (centroids stand for
-    other geometries here, as this only picks the zone)."""
-    return _utm_at_centre(_points_of(frame if CRS(frame.crs).equals(_WGS84) else frame.to_crs(_WGS84), name,
-                                     centroids=True))
-
-
-def _utm_of(lon: float, lat: float) -> CRS:
-    """The WGS 84 UTM zone of a point (EPSG 326zz north, 327zz south)."""
-    zone = int(np.floor((lon + 180.0) / 6.0)) % 60 + 1
-    return CRS.from_epsg((32600 if lat >= 0 else 32700) + zone)
-
-
-def _centred_frame(lon: float) -> CRS:
-    """A transverse Mercator frame on the WGS 84 ellipsoid whose central meridian is ``lon``
-    (scale 1 on it): for a group too wide for its UTM zone, whose central meridian can lie up
-    to 3° from the group's centre, this halves or better the largest distance from the
-    central meridian, and the scale error grows with its square."""
-    from pyproj.crs import GeographicCRS, ProjectedCRS
-    from pyproj.crs.coordinate_operation import TransverseMercatorConversion
-
-    conversion = TransverseMercatorConversion(latitude_natural_origin=0.0, longitude_natural_origin=lon,
-                                              false_easting=500_000.0, false_northing=10_000_000.0,
-                                              scale_factor_natural_origin=1.0)
-    east = f"{abs(lon):.2f}°{'E' if lon >= 0 else 'W'}"
-    return ProjectedCRS(conversion, name=f"WGS 84 / transverse Mercator on {east}",
-                        geodetic_crs=GeographicCRS(datum="WGS84"))
-
-
-def _scale_errors(work: Any, lonlat: np.ndarray) -> np.ndarray:
-    """PROJ's worst scale error (meridional or parallel) of ``work`` at every point."""
-    from pyproj import Proj
-
-    factors = Proj(work).get_factors(lonlat[:, 0], lonlat[:, 1])
-    return np.maximum(np.abs(np.asarray(factors.meridional_scale) - 1.0),
-                      np.abs(np.asarray(factors.parallel_scale) - 1.0))
-
-
-def _frames_per_group(
-    lonlat: np.ndarray, groups: Groups, name: str, max_scale_error: float,
-) -> tuple[np.ndarray, list[Any], np.ndarray, np.ndarray]:
-    """Each group in the UTM zone of its own centre: the points in their group's frame, the
-    distinct frames, each group's frame and each group's worst scale error.
-
-    Why per group: one projection shared by groups far apart distorts the distant ones; a
-    group's own zone keeps its scale error within UTM's (about 0.1 % across a zone). A group
-    that its zone distorts beyond ``max_scale_error`` gets a transverse Mercator frame on its
-    own centre (:func:`_centred_frame`) before it is refused.
-    """
-    from pyproj import Transformer
-
-    count = len(groups.values)
-    centre = _centres(lonlat, groups.codes, count)
-    epsg = np.array([_utm_of(float(c[0]), float(c[1])).to_epsg() for c in centre])
-    frames: list[Any] = [CRS.from_epsg(int(e)) for e in np.unique(epsg)]
-    frame_of_group = np.searchsorted(np.unique(epsg), epsg)
-    error = np.zeros(count)
-    row_frame = frame_of_group[groups.codes]
-    for k, work in enumerate(frames):
-        # PROJ's scale factors at every point of the zone's groups (a transverse Mercator
-        # frame distorts most far from its central meridian, least on it: k0 = 0.9996).
-        mine = np.flatnonzero(row_frame == k)
-        np.maximum.at(error, groups.codes[mine], _scale_errors(work, lonlat[mine]))
-    for g in np.flatnonzero(error > max_scale_error):
-        centred = _centred_frame(float(centre[g, 0]))
-        mine = np.flatnonzero(groups.codes == g)
-        centred_error = float(_scale_errors(centred, lonlat[mine]).max())
-        if centred_error < error[g]:
-            frames.append(centred)
-            frame_of_group[g] = len(frames) - 1
-            error[g] = centred_error
-    xy = np.empty_like(lonlat)
-    row_frame = frame_of_group[groups.codes]
-    for k, work in enumerate(frames):
-        mine = np.flatnonzero(row_frame == k)
-        if len(mine):
-            to_work = Transformer.from_crs("EPSG:4326", work, always_xy=True)
-            xy[mine, 0], xy[mine, 1] = to_work.transform(lonlat[mine, 0], lonlat[mine, 1])
-    # A group its frame cannot project (infinite coordinates, NaN scale factors) is as far
-    # beyond the limit as a group can be: never let a NaN error compare as within it.
-    unreachable = ~np.isfinite(xy).all(axis=1)
-    error[np.isnan(error)] = np.inf
-    error[np.unique(groups.codes[unreachable])] = np.inf
-    worst = int(np.argmax(error))
-    if error[worst] > max_scale_error:
-        raise InputError(
-            f"{name}: group {plain(groups.values[worst])!r} spans too much of the globe for one planar frame: "
-            f"{CRS(frames[frame_of_group[worst]]).name!r} distorts its distances by up to "
-            f"{100 * error[worst]:.3g} % (more than the {100 * max_scale_error:.3g} % allowed); split it into "
-            "smaller groups, pass work_crs= with a projection suited to it, or raise max_scale_error="
-        )
-    return xy, frames, frame_of_group, error
 
 
 def goes_on_ellipsoid(crs: Any, work_crs: Any = None) -> bool:
@@ -505,21 +202,6 @@ def prepare(
     return Prepared(frame, xy, frame.crs, work, error, groups)
 
 
-def _refuse_unprojected(frame: Any, xy: np.ndarray, name: str, work: Any, kind: type[InputError]) -> None:
-    """Points the working projection cannot reach (PROJ gives them infinite coordinates: a
-    transverse Mercator frame holds about 90° of longitude either side of its meridian at
-    most) are refused by row, never passed on as infinite coordinates of the input."""
-    bad = np.flatnonzero(~np.isfinite(xy).all(axis=1))
-    if len(bad) == 0:
-        return
-    rows = ", ".join(repr(plain(v)) for v in frame.index[bad[:5]]) + (", ..." if len(bad) > 5 else "")
-    raise kind(
-        f"{name}: {len(bad)} point(s) (rows {rows}) lie where the working frame {CRS(work).name!r} cannot "
-        "project them (it gives them infinite coordinates); split the data into smaller groups (by=), or "
-        "pass work_crs= with a projection that holds the whole area"
-    )
-
-
 def prepare_or_sphere(obj: Any, name: str, *, planar: bool, centroids: bool, work_crs: Any,
                       max_scale_error: float, by: str | None = None, region: Any = None) -> Prepared:
     """:func:`prepare`, or — for geographic input no working frame holds within
@@ -597,99 +279,8 @@ def _on_ellipsoid(frame: Any, name: str, centroids: bool, groups: Groups | None)
     return Prepared(frame, lonlat, frame.crs, _WGS84, 0.0, groups, ellipsoid=True)
 
 
-def column(frame: Any, spec: Any, name: str, what: str) -> np.ndarray:
-    """A numeric column named ``spec`` (or an array of the frame's length), as float64."""
-    if isinstance(spec, str):
-        if spec not in frame.columns:
-            raise InputError(f"{name} has no {what} column {spec!r}; columns: {list(frame.columns)}")
-        values = frame[spec]
-        label = f"{what} column {spec!r}"
-    else:
-        values = np.asarray(spec)
-        label = what
-        if values.shape != (len(frame),):
-            raise InputError(f"{name}: {what} must have one value per row ({len(frame)}); got shape {values.shape}")
-    if pd.Series(np.asarray(values)).dtype.kind in "mM":
-        # pandas would count dates and durations in nanoseconds.
-        raise InputError(f"{name}: {label} holds dates or durations; convert them to numbers in a stated unit first")
-    try:
-        numbers = pd.to_numeric(pd.Series(np.asarray(values)), errors="raise")
-    except (ValueError, TypeError) as exc:
-        # Name the first value that is not a number by the frame's own row label (pandas'
-        # message counts positions from 0, which name no row the caller knows).
-        raw = pd.Series(np.asarray(values, dtype=object))
-        try:
-            failed = (pd.to_numeric(raw, errors="coerce").isna() & raw.notna()).to_numpy()
-        except (ValueError, TypeError):
-            failed = np.zeros(len(raw), dtype=bool)
-        if failed.any():
-            at = int(np.argmax(failed))
-            error = InputError(f"{name}: {label} is not numeric: {plain(raw.iloc[at])!r} at row "
-                               f"{plain(frame.index[at])!r}")
-            error.row = plain(frame.index[at])
-            raise error from None
-        raise InputError(f"{name}: {label} is not numeric ({exc})") from exc
-    if numbers.dtype.kind == "c":  # the cast below would drop the imaginary part with a warning only
-        raise InputError(f"{name}: {label} holds complex values; it must hold real numbers")
-    out = np.asarray(numbers, dtype=np.float64)
-    bad = ~np.isfinite(out)
-    if bad.any():
-        row = plain(frame.index[int(np.argmax(bad))])
-        raise InputError(f"{name}: {label} has a missing or non-finite value at row {row!r}")
-    return out
-
-
 def weights(prepared: Prepared, weight: Any, name: str) -> np.ndarray | None:
     return None if weight is None else column(prepared.frame, weight, name, "weight")
-
-
-@dataclasses.dataclass
-class Groups:
-    """A frame's ``by`` column coded as integer labels ``0..G-1`` in sorted order of its values."""
-
-    name: str
-    values: Any  # pandas Index of the G sorted group values
-    codes: np.ndarray  # (n,) int64
-
-    @property
-    def counts(self) -> np.ndarray:
-        return np.bincount(self.codes, minlength=len(self.values))
-
-
-def groups_of(frame: Any, by: str | None, name: str) -> Groups | None:
-    if by is None:
-        return None
-    if by not in frame.columns:
-        raise InputError(f"{name} has no group column {by!r}; columns: {list(frame.columns)}")
-    values = frame[by]
-    if values.isna().any():
-        row = plain(frame.index[int(np.argmax(values.isna().to_numpy()))])
-        raise InputError(f"{name}: group column {by!r} has a missing value at row {row!r}")
-    try:
-        codes, uniques = pd.factorize(values, sort=True)
-    except TypeError as exc:
-        raise InputError(f"{name}: group column {by!r} mixes values that cannot be sorted ({exc})") from exc
-    return Groups(by, pd.Index(uniques, name=by), codes.astype(np.int64))
-
-
-def shared_groups(first: Any, second: Any, by: str, names: tuple[str, str]) -> tuple[Groups, np.ndarray]:
-    """Code the ``by`` column of two frames (demand and sites) on the union of their values.
-
-    Returns the first frame's :class:`Groups` (whose ``values`` are the union, so a value
-    found only in the second frame is a group of its own) and the second frame's codes.
-    """
-    a = groups_of(first, by, names[0])
-    b = groups_of(second, by, names[1])
-    assert a is not None and b is not None
-    try:
-        values = a.values.append(b.values).unique().sort_values()
-    except TypeError as exc:
-        raise InputError(f"{names[0]} and {names[1]}: group column {by!r} mixes values that cannot be sorted "
-                         f"({exc})") from None
-    values = values.rename(by)
-    first_codes = values.get_indexer(a.values.take(a.codes)).astype(np.int64)
-    second_codes = values.get_indexer(b.values.take(b.codes)).astype(np.int64)
-    return Groups(by, values, first_codes), second_codes
 
 
 def call(

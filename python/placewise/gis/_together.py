@@ -16,7 +16,9 @@ import shapely
 from pyproj import CRS
 
 from .._core import InputError
-from ._frames import MAX_SCALE_ERROR, Prepared, _check_lonlat, _points_of, as_frame, groups_of, prepare
+from ._columns import _points_of, as_frame, groups_of
+from ._crs import MAX_SCALE_ERROR, _check_lonlat
+from ._frames import Prepared, prepare
 
 # Longest edge, in degrees, of a geographic region before it is projected: a straight edge in
 # lon/lat is a curve in the working frame, so projecting only its vertices would cut the

@@ -11,7 +11,9 @@ import numpy as np
 import placewise as _pw
 
 from .._errors import labelled
-from ._frames import MAX_SCALE_ERROR, annotated, call, column, framed, in_user_terms, prepare, weights, with_unit
+from ._columns import column
+from ._crs import MAX_SCALE_ERROR
+from ._frames import annotated, call, framed, in_user_terms, prepare, weights, with_unit
 from ._together import region_geometry
 
 __all__ = ["AllocationLayers", "CellLayers", "capacity_allocation", "capacity_cells"]

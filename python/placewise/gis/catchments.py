@@ -21,12 +21,12 @@ from .._core import InputError
 from .._errors import refuse
 from .._progress import Stages
 from .._sphere import SPHERE_MODEL
+from ._columns import groups_of
+from ._crs import MAX_SCALE_ERROR
 from ._frames import (
-    MAX_SCALE_ERROR,
     Prepared,
     call,
     framed,
-    groups_of,
     prepare_or_sphere,
     solve_points,
 )

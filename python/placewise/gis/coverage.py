@@ -25,7 +25,8 @@ import placewise as _pw
 
 from .._core import InputError
 from .._errors import labelled, plain
-from ._frames import MAX_SCALE_ERROR, Prepared, annotated, call, in_user_terms, weights, with_unit
+from ._crs import MAX_SCALE_ERROR
+from ._frames import Prepared, annotated, call, in_user_terms, weights, with_unit
 from ._together import prepare_together
 
 __all__ = ["cover_all", "cover_most", "evaluate_sites"]

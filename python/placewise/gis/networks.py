@@ -7,7 +7,8 @@ from typing import Any, Literal, NamedTuple
 import placewise as _pw
 
 from .._sphere import SPHERE_MODEL
-from ._frames import MAX_SCALE_ERROR, framed, in_user_terms, solve_points, with_unit
+from ._crs import MAX_SCALE_ERROR
+from ._frames import framed, in_user_terms, solve_points, with_unit
 
 __all__ = ["Network", "spanning_tree", "steiner_tree"]
 

@@ -12,16 +12,15 @@ from placewise import geodesic as _geodesic
 
 from .._core import InputError
 from .._errors import plain
+from ._columns import groups_of, shared_groups
+from ._crs import MAX_SCALE_ERROR
 from ._frames import (
     ELLIPSOID,
-    MAX_SCALE_ERROR,
     Prepared,
     annotated,
     call,
-    groups_of,
     in_user_terms,
     prepare,
-    shared_groups,
     weights,
     with_unit,
 )

@@ -9,7 +9,8 @@ import placewise as _pw
 from placewise import geodesic as _geodesic
 
 from .._core import DegenerateInputError, InputError
-from ._frames import MAX_SCALE_ERROR, call, framed, goes_on_ellipsoid, on_earth_only, prepare, weights
+from ._crs import MAX_SCALE_ERROR
+from ._frames import call, framed, goes_on_ellipsoid, on_earth_only, prepare, weights
 from ._together import prepare_together, region_geometry
 
 __all__ = ["enclosing_circle", "enclosing_ellipse", "minimax_point", "weber_point"]

@@ -18,7 +18,8 @@ import numpy as np
 from .._core import InputError
 from .._errors import restate
 from ..travel import TravelGraph
-from ._frames import annotated, as_frame, column
+from ._columns import as_frame, column
+from ._frames import annotated
 
 __all__ = ["network_catchments", "network_reach", "travel_costs", "travel_graph"]
 
