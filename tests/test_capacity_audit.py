@@ -1,0 +1,92 @@
+"""Capacities: hostile and tight instances checked against outside references.
+
+References: ``scipy.optimize.milp`` (HiGHS) on the single-source assignment program and on
+the capacitated p-median program written out here, ``scipy.optimize.linprog`` (HiGHS) on the
+transportation program, and closed forms where the answer is evident by hand.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from scipy.optimize import Bounds, LinearConstraint, linprog, milp
+from scipy.spatial.distance import cdist
+
+import placewise as pw
+
+
+def single_source_milp(points, sites, caps, weights):
+    """min Σ w_i c_ij y_ij with Σ_j y_ij = 1, Σ_i w_i y_ij ≤ cap_j, y binary (HiGHS); None
+    when no single-source plan exists."""
+    c = cdist(points, sites)
+    n, m = c.shape
+    one_site = np.kron(np.eye(n), np.ones(m))
+    load = np.hstack([np.eye(m) * w for w in weights])
+    res = milp((c * weights[:, None]).ravel(), integrality=np.ones(n * m), bounds=Bounds(0, 1),
+               constraints=[LinearConstraint(one_site, 1, 1), LinearConstraint(load, 0, caps)])
+    return res.fun if res.status == 0 else None
+
+
+def split_linprog(points, sites, caps, weights):
+    """min Σ c_ij x_ij with Σ_j x_ij = w_i, Σ_i x_ij ≤ cap_j, x ≥ 0 (HiGHS)."""
+    c = cdist(points, sites)
+    n, m = c.shape
+    res = linprog(c.ravel(), A_ub=np.kron(np.ones(n), np.eye(m)), b_ub=caps,
+                  A_eq=np.kron(np.eye(n), np.ones(m)), b_eq=weights, method="highs")
+    assert res.status == 0
+    return res.fun
+
+
+def test_single_source_finds_the_plan_a_hand_count_shows():
+    # Two heavy points beside site 0, two light ones beside site 1, 3 units at each: the
+    # split plan shares one heavy point, and rounding it alone found no room ("no site has
+    # room for the whole demand of points[1]"). By hand: one heavy and one light point at
+    # each site; the best such plan costs 2·4.9 + 1·5 + 0.1 = 14.9, as milp finds.
+    points = np.array([[0.0, 0.0], [0.1, 0.0], [5.0, 0.0], [5.1, 0.0]])
+    weights = np.array([2.0, 2.0, 1.0, 1.0])
+    sites = np.array([[0.0, 0.0], [5.0, 0.0]])
+    plan = pw.capacity_allocation(points, sites, [3, 3], weights, split=False)
+    best = single_source_milp(points, sites, np.array([3.0, 3.0]), weights)  # scipy.optimize.milp
+    assert np.all(plan.share == 1.0)
+    assert plan.load.tolist() == [3.0, 3.0]
+    assert plan.total_cost == pytest.approx(best, rel=1e-12) and best == pytest.approx(14.9, rel=1e-12)
+    assert plan.lower_bound <= best * (1 + 1e-12)
+    assert plan.relative_gap == pytest.approx((plan.total_cost - plan.lower_bound) / plan.total_cost)
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_single_source_on_tight_capacities_is_never_refused_when_milp_finds_a_plan(seed):
+    # Integral demand of 1–5 units, capacities a little above a third of it each: a quarter
+    # of such instances were refused although a single-source plan exists.
+    rng = np.random.default_rng(seed)
+    refused = 0
+    for _ in range(25):
+        points = rng.uniform(0, 10, size=(8, 2))
+        sites = rng.uniform(0, 10, size=(3, 2))
+        weights = rng.integers(1, 6, size=8).astype(float)
+        caps = np.full(3, np.ceil(weights.sum() / 3) + rng.integers(0, 3))
+        best = single_source_milp(points, sites, caps, weights)  # scipy.optimize.milp
+        try:
+            plan = pw.capacity_allocation(points, sites, caps, weights, split=False)
+        except pw.InputError:
+            refused += best is not None
+            continue
+        assert best is not None
+        assert np.all(plan.share == 1.0) and np.all(plan.load <= caps)
+        assert plan.total_cost >= best * (1 - 1e-12)
+        # The gap is proven: the split optimum (scipy.optimize.linprog) bounds every plan.
+        assert plan.lower_bound == pytest.approx(split_linprog(points, sites, caps, weights), rel=1e-9)
+        assert plan.relative_gap >= (plan.total_cost - best) / plan.total_cost - 1e-12
+    assert refused == 0
+
+
+def test_single_source_refusal_says_the_heuristic_did_not_find_a_plan():
+    # No single-source plan exists at all (a point of 3 units, sites of 2): the refusal
+    # must not claim more than the heuristic knows, nor less.
+    with pytest.raises(pw.InputError, match="single-source heuristic") as info:
+        pw.capacity_allocation([[0, 0], [1, 0]], [[0, 0], [1, 0]], [2, 2], [3, 1], split=False)
+    assert info.value.argument == "capacities"
+    plan = pw.capacity_allocation([[0, 0], [1, 0]], [[0, 0], [1, 0]], [2, 2], [3, 1], split=False,
+                                  allow_unserved=True)
+    # By hand: the 3-unit point fits nowhere whole, the 1-unit one stays at its own site.
+    assert plan.unserved.tolist() == [3.0, 0.0] and plan.total_cost == 0.0
