@@ -90,3 +90,44 @@ def test_single_source_refusal_says_the_heuristic_did_not_find_a_plan():
                                   allow_unserved=True)
     # By hand: the 3-unit point fits nowhere whole, the 1-unit one stays at its own site.
     assert plan.unserved.tolist() == [3.0, 0.0] and plan.total_cost == 0.0
+
+
+@pytest.mark.parametrize("p_median", [pw.capacitated_p_median,
+                                      lambda *a, **k: pw.p_median(a[0], a[1], capacities=a[2], **k)])
+def test_capacitated_p_median_shortfall_does_not_offer_unserved_demand(p_median):
+    # The capacitated p-median has no option to leave demand unserved (p_median refuses
+    # allow_unserved with capacities), so its shortfall advice must not offer one.
+    points = [[0, 0], [1, 0], [2, 0], [4, 0]]
+    with pytest.raises(pw.InputError, match="short") as info:
+        p_median(points, 2, [1, 1])
+    assert "unserved" not in str(info.value)
+    assert "this model serves all the demand" in str(info.value)
+    with pytest.raises(pw.InputError, match="short") as info:
+        p_median(points, 1, [3, 3], candidates=[[0, 0], [1, 0]])
+    assert "unserved" not in str(info.value)
+
+
+def test_continuous_capacitated_p_median_places_several_sites_at_one_heavy_point():
+    # All the demand (5 units) at one point, two sites of 3: both at that point, cost 0, by
+    # hand. The run was refused ("points must hold at least 2 distinct points").
+    plan = pw.capacitated_p_median([[0, 0], [1, 0], [2, 0], [4, 0]], 2, [3, 3], [0, 0, 0, 5])
+    assert plan.sites.tolist() == [[4.0, 0.0], [4.0, 0.0]]
+    assert plan.total_cost == 0.0 and plan.load.sum() == 5.0 and np.all(plan.load <= 3.0)
+    # Four coincident points, sites of different capacities: both at the point, cost 0.
+    plan = pw.p_median([[1, 1]] * 4, 2, capacities=[1, 3])
+    assert plan.sites.tolist() == [[1.0, 1.0], [1.0, 1.0]]
+    assert plan.load.tolist() == [1.0, 3.0] and plan.total_cost == 0.0
+
+
+def test_continuous_capacitated_p_median_with_a_heavy_town_beside_light_ones():
+    # A town of 10 units at the origin and two of 1 unit far out, sites of 4: three sites
+    # must share the town (12 units of room for its 10 beside 2 far off), the fourth serves
+    # the light towns. Outside check: the plan's cost is the transportation optimum for its
+    # own sites (scipy.optimize.linprog), and every capacity holds.
+    towns = np.array([[0.0, 0.0], [20.0, 0.0], [20.0, 2.0]])
+    demand = np.array([10.0, 1.0, 1.0])
+    plan = pw.capacitated_p_median(towns, 4, [4, 4, 4, 4], demand)
+    assert np.all(plan.load <= 4.0 * (1 + 1e-12)) and plan.load.sum() == pytest.approx(12.0)
+    assert plan.total_cost == pytest.approx(split_linprog(towns, plan.sites, np.full(4, 4.0), demand), abs=1e-9)
+    # By hand: three sites at the town and one between the far ones cost 2·1 = 2 at best.
+    assert plan.total_cost == pytest.approx(2.0, rel=1e-6)

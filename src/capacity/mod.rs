@@ -65,9 +65,7 @@ pub(crate) fn check_capacities(sites: &[Point], capacities: &[f64]) -> Result<()
             reason: format!("capacities must have one entry per site ({}); got {}", sites.len(), capacities.len()),
         });
     }
-    if let Some(index) = capacities.iter().position(|c| !c.is_finite() || *c < 0.0) {
-        return Err(Error::InvalidWeight { argument: "capacities", index, value: capacities[index] });
-    }
+    check_capacity_values(capacities)?;
     let mut order: Vec<usize> = (0..sites.len()).collect();
     order.sort_by(|&a, &b| {
         sites[a][0].total_cmp(&sites[b][0]).then(sites[a][1].total_cmp(&sites[b][1])).then(a.cmp(&b))
@@ -88,6 +86,14 @@ pub(crate) fn check_capacities(sites: &[Point], capacities: &[f64]) -> Result<()
     Ok(())
 }
 
+/// Every capacity finite and ≥ 0.
+pub(crate) fn check_capacity_values(capacities: &[f64]) -> Result<()> {
+    match capacities.iter().position(|c| !c.is_finite() || *c < 0.0) {
+        Some(index) => Err(Error::InvalidWeight { argument: "capacities", index, value: capacities[index] }),
+        None => Ok(()),
+    }
+}
+
 /// Refuse a shortfall unless unserved demand is allowed; returns the shortfall (≥ 0).
 ///
 /// Totals that agree to 1e-12 relative count as equal (rounding of the sums).
@@ -101,6 +107,15 @@ pub(crate) fn shortfall(demand: f64, capacity: f64, allow_unserved: bool) -> Res
     } else {
         Err(Error::Shortfall { demand, capacity, may_leave_unserved: true })
     }
+}
+
+/// Refuse a shortfall in a model that must serve all the demand (it has no option to leave
+/// any unserved, so the advice does not offer one).
+pub(crate) fn serve_all(demand: f64, capacity: f64) -> Result<()> {
+    shortfall(demand, capacity, false).map(|_| ()).map_err(|e| match e {
+        Error::Shortfall { demand, capacity, .. } => Error::Shortfall { demand, capacity, may_leave_unserved: false },
+        other => other,
+    })
 }
 
 /// Euclidean distance as `√(dx² + dy²)`, falling back to `hypot` only when the squares
