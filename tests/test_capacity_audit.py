@@ -131,3 +131,61 @@ def test_continuous_capacitated_p_median_with_a_heavy_town_beside_light_ones():
     assert plan.total_cost == pytest.approx(split_linprog(towns, plan.sites, np.full(4, 4.0), demand), abs=1e-9)
     # By hand: three sites at the town and one between the far ones cost 2·1 = 2 at best.
     assert plan.total_cost == pytest.approx(2.0, rel=1e-6)
+
+
+@pytest.mark.parametrize("scale", [1e-300, 1e-200, 1e200, 1e300])
+def test_allocation_and_p_median_are_scale_free(scale):
+    # Input: coordinates scaled by 1e-300. Wrong answer: a plan 1.42 times the optimum (the
+    # squared differences underflowed to 0, so every distance read as 0 to the solver).
+    # Outside check: scipy.optimize.linprog (HiGHS) on the unscaled program; the optimum
+    # scales with the coordinates.
+    rng = np.random.default_rng(2)
+    points = rng.uniform(0, 10, size=(50, 2))
+    sites = rng.uniform(0, 10, size=(3, 2))
+    caps = np.array([20.0, 20.0, 10.0])
+    best = split_linprog(points, sites, caps, np.ones(50))
+    plan = pw.capacity_allocation(points * scale, sites * scale, caps)
+    assert plan.total_cost / scale == pytest.approx(best, rel=1e-9)
+    assert plan.load == pytest.approx(caps, rel=1e-12)
+    unscaled = pw.capacity_allocation(points, sites, caps)
+    assert np.array_equal(plan.assignment, unscaled.assignment)
+
+
+@pytest.mark.parametrize("scale", [1e-300, 1e-200, 1e120, 1e150])
+def test_capacity_cells_are_scale_free(scale):
+    # Input: coordinates scaled by 1e-300. Wrong answer: a refusal naming "powers", an
+    # argument the caller never passed (the squared distances underflowed); at 1e150 the
+    # cells' areas and the cost scale as they should, checked here against shapely.
+    # Outside checks: scipy.optimize.linprog (HiGHS) on the squared-distance transportation
+    # program of the unscaled data; shapely for the polygons' areas, their tiling of the
+    # region and each point lying in its site's cell.
+    import shapely
+
+    rng = np.random.default_rng(2)
+    points = rng.uniform(0, 10, size=(50, 2))
+    sites = rng.uniform(0, 10, size=(3, 2))
+    caps = np.array([20.0, 20.0, 10.0])
+    c = cdist(points, sites) ** 2
+    res = linprog(c.ravel(), A_ub=np.kron(np.ones(50), np.eye(3)), b_ub=caps,
+                  A_eq=np.kron(np.eye(50), np.ones(3)), b_eq=np.ones(50), method="highs")
+    cells = pw.capacity_cells(points * scale, sites * scale, caps)
+    assert cells.load == pytest.approx(caps, rel=1e-12)
+    if scale > 1e-150:  # below, demand × squared distance underflows to 0 in these units
+        assert cells.total_cost / scale**2 == pytest.approx(res.fun, rel=1e-9)
+    polygons = [shapely.affinity.scale(g, 1 / scale, 1 / scale, origin=(0, 0)) for g in cells.cells.to_shapely()]
+    region = shapely.box(*shapely.union_all(polygons).bounds)
+    assert sum(g.area for g in polygons) == pytest.approx(region.area, rel=1e-9)
+    assert shapely.union_all(polygons).area == pytest.approx(region.area, rel=1e-9)
+    for i, j in enumerate(cells.assignment):
+        assert polygons[j].distance(shapely.Point(points[i])) <= 1e-9 * 10
+
+
+def test_capacity_cells_refuse_coordinates_whose_squares_overflow():
+    # Input: coordinates near 1e200. Wrong answer: total_cost NaN and areas inf, returned
+    # without a word. Reference: float64's range (squares of 1e200 exceed 1.8e308).
+    rng = np.random.default_rng(2)
+    points = rng.uniform(0, 10, size=(50, 2)) * 1e200
+    sites = rng.uniform(0, 10, size=(3, 2)) * 1e200
+    with pytest.raises(pw.InputError, match="rescale the coordinates") as info:
+        pw.capacity_cells(points, sites, [20, 20, 10])
+    assert info.value.argument == "points"

@@ -119,12 +119,14 @@ pub(crate) fn serve_all(demand: f64, capacity: f64) -> Result<()> {
 }
 
 /// Euclidean distance as `√(dx² + dy²)`, falling back to `hypot` only when the squares
-/// overflow: the solver evaluates it `n·m` times, and `hypot`'s care costs a third of it.
+/// overflow or fall below the normal range (coordinates near 1e-160 and smaller, where the
+/// squares round to subnormals or 0 and every distance there would read as equal): the
+/// solver evaluates it `n·m` times, and `hypot`'s care costs a third of it.
 #[inline]
 pub(crate) fn plain_distance(a: Point, b: Point) -> f64 {
     let (dx, dy) = (a[0] - b[0], a[1] - b[1]);
     let s = dx * dx + dy * dy;
-    if s.is_finite() {
+    if s.is_finite() && (s >= f64::MIN_POSITIVE || s == 0.0 && dx == 0.0 && dy == 0.0) {
         s.sqrt()
     } else {
         dx.hypot(dy)
