@@ -189,3 +189,42 @@ def test_capacity_cells_refuse_coordinates_whose_squares_overflow():
     with pytest.raises(pw.InputError, match="rescale the coordinates") as info:
         pw.capacity_cells(points, sites, [20, 20, 10])
     assert info.value.argument == "points"
+
+
+def heavy_and_unit_demand():
+    """Three points of 1e15 beside 44 points of 1 and three of 1e-15."""
+    rng = np.random.default_rng(2)
+    points = rng.uniform(0, 10, size=(50, 2))
+    sites = rng.uniform(0, 10, size=(3, 2))
+    weights = np.ones(50)
+    weights[:3] = 1e15
+    weights[3:6] = 1e-15
+    return points, sites, weights
+
+
+def test_unit_demand_beside_huge_demand_does_not_overfill_a_site():
+    # Input: capacities [1e15, 1e15, 1e15 + 50] for 3e15 + 44 units (3 points of 1e15, 44
+    # of 1). Wrong answer: site 0 loaded 1e15 + 21 (slack -21) while site 2 had 40 to spare:
+    # an imbalance below 1e-12 of the total counted as rounding. Reference: by hand, the
+    # capacities hold the demand with 6 units to spare, and every value here is an integer
+    # below 2**53, exact in float64, so a plan within the capacities is representable.
+    points, sites, weights = heavy_and_unit_demand()
+    caps = np.array([1e15, 1e15, 1e15 + 50])
+    for split in (True, False):
+        plan = pw.capacity_allocation(points, sites, caps, weights, split=split)
+        assert np.all(plan.load <= caps), (split, plan.load - caps)
+        assert plan.load.sum() == pytest.approx(weights.sum(), rel=1e-15)
+        assert plan.total_unserved == 0.0
+
+
+def test_a_shortfall_of_whole_units_beside_huge_demand_is_not_rounding():
+    # Input: capacities [1e15] * 3 for 3e15 + 44 units. Wrong answer: no shortfall reported
+    # (44 short counted as rounding of the totals), and a plan overfilling the sites by 44.
+    # Reference: by hand, 44 units more demand than capacity, integers exact in float64.
+    points, sites, weights = heavy_and_unit_demand()
+    caps = np.full(3, 1e15)
+    with pytest.raises(pw.InputError, match="short"):
+        pw.capacity_allocation(points, sites, caps, weights)
+    plan = pw.capacity_allocation(points, sites, caps, weights, allow_unserved=True)
+    assert plan.total_unserved == pytest.approx(44.0, abs=1e-9)
+    assert np.all(plan.load <= caps)

@@ -13,7 +13,7 @@
 //!   the shortfall there, `C` does not change the optimum: the plan serves the most demand
 //!   possible at least cost, and what it leaves unserved is reported per point.
 
-use super::transport::{transport_watched, Flows, Plan};
+use super::transport::{transport_watched, Flows, Plan, SITE_ROUNDING};
 use super::{plain_distance, relative_gap, shortfall, validate};
 use crate::cancel::{Clock, RunLimits, Steps};
 use crate::error::{Error, Result};
@@ -219,8 +219,6 @@ fn single_source(
 ) -> Result<()> {
     let m = sites.len();
     let n = points.len();
-    let total: f64 = capacities.iter().sum();
-    let slop = 1e-12 * total.max(1.0);
     let mut heavy: Vec<usize> = (0..n).filter(|&i| weights.get(i) > 0.0).collect();
     heavy.sort_by(|&a, &b| weights.get(b).total_cmp(&weights.get(a)).then(a.cmp(&b)));
     // Start 1: the split plan rounded.
@@ -236,9 +234,9 @@ fn single_source(
     }
     let shared: Vec<usize> = heavy.iter().copied().filter(|&i| !kept[i]).collect();
     let starts = [
-        Packing::new(points, sites, capacities, weights, slop).place(&rounded, &shared, Fit::Cheapest),
-        Packing::new(points, sites, capacities, weights, slop).place(&vec![None; n], &heavy, Fit::Cheapest),
-        Packing::new(points, sites, capacities, weights, slop).place(&vec![None; n], &heavy, Fit::Tightest),
+        Packing::new(points, sites, capacities, weights).place(&rounded, &shared, Fit::Cheapest),
+        Packing::new(points, sites, capacities, weights).place(&vec![None; n], &heavy, Fit::Cheapest),
+        Packing::new(points, sites, capacities, weights).place(&vec![None; n], &heavy, Fit::Tightest),
     ];
     let best = starts
         .into_iter()
@@ -284,29 +282,25 @@ struct Packing<'a> {
     sites: &'a [Point],
     capacities: &'a [f64],
     weights: Weights<'a>,
-    slop: f64,
     at: Vec<Option<usize>>,
     load: Vec<f64>,
 }
 
 impl<'a> Packing<'a> {
-    fn new(
-        points: &'a [Point],
-        sites: &'a [Point],
-        capacities: &'a [f64],
-        weights: Weights<'a>,
-        slop: f64,
-    ) -> Packing<'a> {
+    fn new(points: &'a [Point], sites: &'a [Point], capacities: &'a [f64], weights: Weights<'a>) -> Packing<'a> {
         let (n, m) = (points.len(), sites.len());
-        Packing { points, sites, capacities, weights, slop, at: vec![None; n], load: vec![0.0; m] }
+        Packing { points, sites, capacities, weights, at: vec![None; n], load: vec![0.0; m] }
     }
 
     fn room(&self, j: usize) -> f64 {
         self.capacities[j] - self.load[j]
     }
 
+    /// Room for point `i` at site `j`, up to the rounding of that site's own amounts (a
+    /// slop relative to all the capacity let whole small points into full large sites).
     fn fits(&self, i: usize, j: usize) -> bool {
-        self.room(j) >= self.weights.get(i) - self.slop
+        let w = self.weights.get(i);
+        self.room(j) >= w - SITE_ROUNDING * self.capacities[j].max(w)
     }
 
     fn cost_of(&self, i: usize, j: usize) -> f64 {
@@ -358,7 +352,9 @@ impl<'a> Packing<'a> {
         for j in order {
             let mut best: Option<(f64, usize, usize)> = None;
             for k in 0..self.points.len() {
-                if self.at[k] != Some(j) || self.room(j) + self.weights.get(k) < w - self.slop {
+                if self.at[k] != Some(j)
+                    || self.room(j) + self.weights.get(k) < w - SITE_ROUNDING * self.capacities[j].max(w)
+                {
                     continue;
                 }
                 for l in (0..m).filter(|&l| l != j && self.fits(k, l)) {

@@ -329,7 +329,7 @@ fn discrete(
     }
     let mut held: f64 = chosen.iter().map(|&j| capacities[j]).sum();
     for &big in &by_size {
-        if held >= demand * (1.0 - 1e-12) {
+        if serve_all(demand, held).is_ok() {
             break;
         }
         if used[big] {

@@ -96,10 +96,12 @@ pub(crate) fn check_capacity_values(capacities: &[f64]) -> Result<()> {
 
 /// Refuse a shortfall unless unserved demand is allowed; returns the shortfall (≥ 0).
 ///
-/// Totals that agree to 1e-12 relative count as equal (rounding of the sums).
+/// Totals that agree to a few ulps count as equal (rounding of the sums): a looser rule
+/// (1e-12 relative, say) lets a shortfall of whole units beside a total near 1e15 pass as
+/// none, and the plan then overfills the sites.
 pub(crate) fn shortfall(demand: f64, capacity: f64, allow_unserved: bool) -> Result<f64> {
     let short = demand - capacity;
-    if short <= 1e-12 * demand {
+    if short <= transport::SITE_ROUNDING * demand {
         return Ok(0.0);
     }
     if allow_unserved {
