@@ -134,3 +134,23 @@ def test_p_median_capacity_needs_candidates(files, capsys):
     code, _, err = run(["p-median", homes, "--x", "east", "--y", "north", "--crs", "EPSG:32632", "-p", "2",
                         "--capacity", "seats"], capsys)
     assert code == 2 and "--candidates" in err
+
+
+def test_single_source_summary_line_says_heuristic_and_when_no_gap_is_proven(files, tmp_path, capsys):
+    # Input: --single-source --allow-unserved on half the seats. Wrong answer: the summary
+    # line read "relative gap to the split plan nan". Reference: the summary file read
+    # back (relative_gap NaN: whole rows leave more unserved than the split plan, whose
+    # unserved amount linprog confirms) and the split plan's unserved total by hand.
+    homes, schools = files
+    short = tmp_path / "small.csv"
+    pd.DataFrame({"east": SITES[:, 0], "north": SITES[:, 1], "seats": SEATS / 2}).to_csv(short, index=False)
+    out, summary = tmp_path / "alloc.csv", tmp_path / "totals.csv"
+    code, _, err = run([*base(homes, short), "--single-source", "--allow-unserved", "-o", out, "--summary", summary],
+                       capsys)
+    assert code == 0, err
+    totals = pd.read_csv(summary)
+    assert totals["unserved"].iloc[0] > W.sum() - SEATS.sum() / 2 + 1e-9
+    assert np.isnan(totals["relative_gap"].iloc[0])
+    assert "nan" not in err and "heuristic" in err and "no gap is proven" in err
+    code, _, err = run([*base(homes, schools), "--single-source"], capsys)
+    assert code == 0 and "heuristic, relative gap to the split plan" in err

@@ -29,10 +29,10 @@ use std::time::Instant;
 
 use super::allocation::{allocate_on_clock, split_plan, AllocationOptions, CapacityAllocation};
 use super::transport::Flows;
-use super::{check_capacities, relative_gap, shortfall, validate};
+use super::{check_capacities, check_capacity_values, relative_gap, serve_all, validate};
 use crate::cancel::{Clock, RunLimits, Steps};
 use crate::error::{Error, Result};
-use crate::geometry::{distance, validate_points, CompensatedSum, Point, Weights};
+use crate::geometry::{distance, location_key, validate_points, validate_weights, CompensatedSum, Point, Weights};
 use crate::median::{weber_point, WeberOptions};
 use crate::multi::{distinct_weighted, p_median, MedianOptions};
 
@@ -130,15 +130,15 @@ fn plan(
     // With candidates, small capacities can call for more sites than there are demand
     // locations (several sites serving one heavy point): the uncapacitated start places one
     // site per location at most, and the rest are filled in from the candidates below.
-    let start_p = match candidates {
-        Some(_) => p.min(distinct_weighted(points, weights).len()).max(1),
-        None => p,
-    };
+    // Without candidates the same holds: the sites beyond the demand locations start at the
+    // heaviest locations (see `fill_sites`).
+    validate_weights("weights", weights, points.len())?;
+    let start_p = p.min(distinct_weighted(points, weights).len()).max(1);
     let start = p_median(points, weights, start_p, &[], &start_options)?;
     steps.step();
     let run = Run { points, weights, clock, steps, max_rounds: options.max_rounds };
     match candidates {
-        None => continuous(run, capacities, start.sites),
+        None => continuous(run, p, capacities, start.sites),
         Some(c) => discrete(run, p, capacities, c, &start.sites),
     }
 }
@@ -179,21 +179,27 @@ fn first_plan(run: &mut Run<'_, '_>, sites: &[Point], caps: &[f64]) -> Result<Al
     Ok(plan)
 }
 
-fn continuous(mut run: Run<'_, '_>, capacities: &[f64], mut sites: Vec<Point>) -> Result<CapacitatedMedian> {
+fn continuous(run: Run<'_, '_>, p: usize, capacities: &[f64], start: Vec<Point>) -> Result<CapacitatedMedian> {
     let (points, weights) = (run.points, run.weights);
-    if capacities.len() != sites.len() {
+    if capacities.len() != p {
         return Err(Error::InvalidParameter {
             name: "capacities",
-            reason: format!(
-                "capacities must have one entry per site to place ({}); got {}",
-                sites.len(),
-                capacities.len()
-            ),
+            reason: format!("capacities must have one entry per site to place ({p}); got {}", capacities.len()),
         });
     }
-    let (demand, capacity) = validate(points, &sites, capacities, weights)?;
-    shortfall(demand, capacity, false)?;
-    let mut best = first_plan(&mut run, &sites, capacities)?;
+    check_capacity_values(capacities)?;
+    let mut demand = CompensatedSum::default();
+    (0..points.len()).for_each(|i| demand.add(weights.get(i)));
+    let mut capacity = CompensatedSum::default();
+    capacities.iter().for_each(|&c| capacity.add(c));
+    let (demand, capacity) = (demand.total(), capacity.total());
+    serve_all(demand, capacity)?;
+    let mut sites = fill_sites(points, weights, start, p);
+    // The sites are the model's own: several may share a location (a heavy point needing
+    // more than one site's capacity), whatever their capacities, so the location check of
+    // the input is skipped.
+    let mut best = allocate(points, &sites, capacities, weights, run.clock, Some((demand, capacity)))?;
+    run.steps.step();
     let mut rounds = 0;
     let mut converged = false;
     while rounds < run.max_rounds && !run.clock.stop() {
@@ -234,6 +240,33 @@ fn continuous(mut run: Run<'_, '_>, capacities: &[f64], mut sites: Vec<Point>) -
     })
 }
 
+/// `start` grown to `p` sites when the demand has fewer locations than `p`: the extra sites
+/// start at the locations of most demand (then the lowest first row), in turn, so that a
+/// location holding more than one site's capacity gets several.
+fn fill_sites(points: &[Point], weights: Weights<'_>, mut start: Vec<Point>, p: usize) -> Vec<Point> {
+    if start.len() >= p {
+        return start;
+    }
+    let mut at: std::collections::HashMap<_, usize> = std::collections::HashMap::new();
+    let mut places: Vec<(Point, usize, CompensatedSum)> = Vec::new();
+    for (i, &q) in points.iter().enumerate() {
+        if weights.get(i) > 0.0 {
+            let g = *at.entry(location_key(q)).or_insert_with(|| {
+                places.push((q, i, CompensatedSum::default()));
+                places.len() - 1
+            });
+            places[g].2.add(weights.get(i));
+        }
+    }
+    places.sort_by(|a, b| b.2.total().total_cmp(&a.2.total()).then(a.1.cmp(&b.1)));
+    let mut k = 0;
+    while start.len() < p {
+        start.push(places[k % places.len()].0);
+        k += 1;
+    }
+    start
+}
+
 /// The points site `j` serves and the amounts.
 fn served_by(points: &[Point], flows: &Flows, j: usize) -> (Vec<Point>, Vec<f64>) {
     let mut pts = Vec::new();
@@ -267,11 +300,11 @@ fn discrete(
         });
     }
     let (demand, all) = validate(points, candidates, capacities, weights)?;
-    shortfall(demand, all, false)?;
+    serve_all(demand, all)?;
     let mut by_size: Vec<usize> = (0..m).collect();
     by_size.sort_by(|&a, &b| capacities[b].total_cmp(&capacities[a]).then(a.cmp(&b)));
     let largest: f64 = by_size[..p].iter().map(|&j| capacities[j]).sum();
-    shortfall(demand, largest, false)?;
+    serve_all(demand, largest)?;
     // Start: snap to the nearest free candidates, then grow capacity where short.
     let mut chosen: Vec<usize> = Vec::with_capacity(p);
     let mut used = vec![false; m];
@@ -296,7 +329,7 @@ fn discrete(
     }
     let mut held: f64 = chosen.iter().map(|&j| capacities[j]).sum();
     for &big in &by_size {
-        if held >= demand * (1.0 - 1e-12) {
+        if serve_all(demand, held).is_ok() {
             break;
         }
         if used[big] {

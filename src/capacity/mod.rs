@@ -66,9 +66,7 @@ pub(crate) fn check_capacities(sites: &[Point], capacities: &[f64]) -> Result<()
             reason: format!("capacities must have one entry per site ({}); got {}", sites.len(), capacities.len()),
         });
     }
-    if let Some(index) = capacities.iter().position(|c| !c.is_finite() || *c < 0.0) {
-        return Err(Error::InvalidWeight { argument: "capacities", index, value: capacities[index] });
-    }
+    check_capacity_values(capacities)?;
     let mut order: Vec<usize> = (0..sites.len()).collect();
     order.sort_by(|&a, &b| {
         sites[a][0].total_cmp(&sites[b][0]).then(sites[a][1].total_cmp(&sites[b][1])).then(a.cmp(&b))
@@ -89,12 +87,22 @@ pub(crate) fn check_capacities(sites: &[Point], capacities: &[f64]) -> Result<()
     Ok(())
 }
 
+/// Every capacity finite and ≥ 0.
+pub(crate) fn check_capacity_values(capacities: &[f64]) -> Result<()> {
+    match capacities.iter().position(|c| !c.is_finite() || *c < 0.0) {
+        Some(index) => Err(Error::InvalidWeight { argument: "capacities", index, value: capacities[index] }),
+        None => Ok(()),
+    }
+}
+
 /// Refuse a shortfall unless unserved demand is allowed; returns the shortfall (≥ 0).
 ///
-/// Totals that agree to 1e-12 relative count as equal (rounding of the sums).
+/// Totals that agree to a few ulps count as equal (rounding of the sums): a looser rule
+/// (1e-12 relative, say) lets a shortfall of whole units beside a total near 1e15 pass as
+/// none, and the plan then overfills the sites.
 pub(crate) fn shortfall(demand: f64, capacity: f64, allow_unserved: bool) -> Result<f64> {
     let short = demand - capacity;
-    if short <= 1e-12 * demand {
+    if short <= transport::SITE_ROUNDING * demand {
         return Ok(0.0);
     }
     if allow_unserved {
@@ -104,13 +112,24 @@ pub(crate) fn shortfall(demand: f64, capacity: f64, allow_unserved: bool) -> Res
     }
 }
 
+/// Refuse a shortfall in a model that must serve all the demand (it has no option to leave
+/// any unserved, so the advice does not offer one).
+pub(crate) fn serve_all(demand: f64, capacity: f64) -> Result<()> {
+    shortfall(demand, capacity, false).map(|_| ()).map_err(|e| match e {
+        Error::Shortfall { demand, capacity, .. } => Error::Shortfall { demand, capacity, may_leave_unserved: false },
+        other => other,
+    })
+}
+
 /// Euclidean distance as `√(dx² + dy²)`, falling back to `hypot` only when the squares
-/// overflow: the solver evaluates it `n·m` times, and `hypot`'s care costs a third of it.
+/// overflow or fall below the normal range (coordinates near 1e-160 and smaller, where the
+/// squares round to subnormals or 0 and every distance there would read as equal): the
+/// solver evaluates it `n·m` times, and `hypot`'s care costs a third of it.
 #[inline]
 pub(crate) fn plain_distance(a: Point, b: Point) -> f64 {
     let (dx, dy) = (a[0] - b[0], a[1] - b[1]);
     let s = dx * dx + dy * dy;
-    if s.is_finite() {
+    if s.is_finite() && (s >= f64::MIN_POSITIVE || s == 0.0 && dx == 0.0 && dy == 0.0) {
         s.sqrt()
     } else {
         dx.hypot(dy)

@@ -42,6 +42,10 @@ use crate::error::{Error, Result};
 /// millisecond at a thousand sites).
 const POLL_PATHS: usize = 64;
 
+/// Relative rounding allowed in a site's balance: a few ulps of its capacity or load (below one
+/// unit at 1e15, where whole units are still exact in float64).
+pub(crate) const SITE_ROUNDING: f64 = 4.0 * f64::EPSILON;
+
 /// How many cheapest points each condensed arc keeps sorted before it refills.
 const ARC_LIST: usize = 64;
 
@@ -399,7 +403,15 @@ pub(crate) fn solve_from_watched(
     let total: f64 = demand.iter().sum();
     let mut balance: Vec<f64> = (0..m).map(|k| load[k] - out[k]).collect();
     balance.push(out.iter().sum::<f64>() - total);
-    let tolerance = 1e-12 * total;
+    // What counts as balanced: at a site, rounding of its own amounts (a few ulps of its
+    // capacity or load), so that no whole point of small demand is left overfilling a large
+    // site; the sink takes any excess it lacks, and is itself in excess only beyond the
+    // rounding of the totals. Excess left with no path to room is accepted only within that
+    // rounding (the caller guarantees the capacity).
+    let loose = 1e-12 * total;
+    let tolerance: Vec<f64> =
+        (0..m).map(|k| SITE_ROUNDING * capacity[k].max(load[k])).chain(std::iter::once(loose)).collect();
+    let room_tolerance: Vec<f64> = tolerance[..m].iter().copied().chain(std::iter::once(0.0)).collect();
 
     let mut pi: Vec<f64> = prices.to_vec();
     pi.push(0.0);
@@ -410,7 +422,7 @@ pub(crate) fn solve_from_watched(
     let mut via: Vec<(u32, u32)> = vec![(0, NONE); nodes];
     let mut augmentations = 0usize;
     let mut cursor = 0usize;
-    while let Some(s) = (0..nodes).map(|v| (cursor + v) % nodes).find(|&v| balance[v] > tolerance) {
+    while let Some(s) = (0..nodes).map(|v| (cursor + v) % nodes).find(|&v| balance[v] > tolerance[v]) {
         if augmentations.is_multiple_of(POLL_PATHS) && clock.stop() {
             return Err(super::stopped());
         }
@@ -444,7 +456,7 @@ pub(crate) fn solve_from_watched(
                 break;
             }
             done[u] = true;
-            if balance[u] < -tolerance {
+            if balance[u] < -room_tolerance[u] {
                 target = u;
                 break;
             }
@@ -493,6 +505,9 @@ pub(crate) fn solve_from_watched(
         }
         if target == usize::MAX {
             let left: f64 = balance.iter().filter(|&&b| b > 0.0).sum();
+            if left <= loose {
+                break;
+            }
             return Err(Error::Degenerate {
                 argument: "capacities",
                 reason: format!("{left} units of demand find no site with room (total capacity is short)"),

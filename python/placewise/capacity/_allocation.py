@@ -150,8 +150,13 @@ def capacity_allocation(
     With ``split=True`` the plan is the exact optimum of the transportation problem (a
     point's demand may be shared between sites); at most ``m - 1`` points are shared in a
     vertex solution, and with integral weights and capacities the plan is integral. With
-    ``split=False`` the shared points are placed whole, heaviest first, at the cheapest
-    site with room; the split optimum is a proven lower bound, reported with the gap.
+    ``split=False`` every point is served whole by one site: that single-source problem is
+    NP-hard, and the plan is a heuristic one, not a proven optimum. It is the best of three
+    starts (the split plan with its shared points placed whole, heaviest first, at the
+    cheapest site with room; every point, heaviest first, at the cheapest site with room;
+    and at the site with least room that holds it), each improved by moving points to
+    cheaper sites with room. The split optimum is a proven lower bound
+    (``lower_bound``), so ``relative_gap`` bounds how far the plan can be from the best.
 
     Parameters
     ----------
@@ -164,7 +169,8 @@ def capacity_allocation(
     weights : array_like, shape (n,), optional
         Finite, non-negative demand per point, not all zero. Default: all 1.
     split : bool
-        Allow a point's demand to be shared between sites.
+        Allow a point's demand to be shared between sites (exact); False serves each point
+        whole from one site (heuristic, with the proven ``relative_gap``).
     allow_unserved : bool
         When total capacity is below total demand, serve what fits and report the rest
         (``unserved``) instead of refusing.
@@ -191,7 +197,8 @@ def capacity_allocation(
         For bad points, sites or weights; a negative, NaN or infinite capacity (naming its
         row); capacities of the wrong length; one location with two capacities; total
         capacity below total demand (the message gives the shortfall) unless
-        ``allow_unserved``; with ``split=False``, a point no site has room for whole; a
+        ``allow_unserved``; with ``split=False``, a point the heuristic found no site with
+        room for whole (a single-source plan may still exist on very tight capacities); a
         ``time_limit`` that is not a number above zero, or that passed before the plan.
 
     Examples

@@ -290,7 +290,11 @@ def capacity_cells(
         row); capacities of the wrong length; one location with two capacities; ``tol``
         outside (0, 1); total capacity below total demand (the message gives the shortfall);
         a point outside ``region`` (naming the first such row); a region without area or
-        whose rings cross; points and sites all at one location without a region.
+        whose rings cross; points and sites all at one location without a region;
+        coordinates so large (near 1e154 and beyond) that the cost, the powers or the
+        cells' areas overflow float64 (naming ``points``). Coordinates that small or large
+        are otherwise solved in an exactly scaled frame, so the plan does not depend on
+        the scale.
 
     Examples
     --------

@@ -72,9 +72,10 @@ def capacitated_p_median(
     points : array_like, shape (n, 2)
         Demand locations.
     p : int
-        Number of sites, at least 1: with candidates, at most their number (it may exceed
+        Number of sites, at least 1; with candidates, at most their number. It may exceed
         the number of demand locations, when small capacities need several sites for one
-        point); without, at most the number of distinct points of positive weight.
+        point: without candidates, the sites beyond them start at the locations of most
+        demand (several sites may end at one location).
     capacities : array_like
         Without candidates: shape (p,), the capacity of each site to place. With
         candidates: shape (m,), the capacity of each candidate.

@@ -39,7 +39,10 @@ def _cmd_capacity_allocation(args: argparse.Namespace) -> None:
             f"{float(s[cost].iloc[0]):.6g} (weight x {_unit_text(unit)}); "
             f"{int(s['split_points'].iloc[0])} row(s) split between sites; unserved {float(s['unserved'].iloc[0]):.6g}")
     if args.single_source:
-        text += f"; relative gap to the split plan {float(s['relative_gap'].iloc[0]):.3g}"
+        gap = float(s["relative_gap"].iloc[0])
+        text += "; single-source plan by heuristic, "
+        text += (f"relative gap to the split plan {gap:.3g}" if gap == gap else
+                 "which leaves more demand unserved than the split plan: no gap is proven")
     _note(args, text)
 
 

@@ -42,7 +42,9 @@ use super::transport::{solve_from_watched, Reach};
 use super::validate;
 use crate::cancel::{Clock, RunLimits, Steps};
 use crate::error::{Error, Result};
-use crate::geometry::{distance_squared, location_key, BoundingBox, CompensatedSum, FeasibleRegion, Point, Weights};
+use crate::geometry::{
+    distance_squared, location_key, power_of_two_factor, BoundingBox, CompensatedSum, FeasibleRegion, Point, Weights,
+};
 use crate::partition::{default_rings, power_cells, Region, VoronoiCells};
 
 /// Stage timings on stderr, in test builds with `CELLS_STAGES` set (the `timing_stages`
@@ -145,6 +147,61 @@ const FINISH_ROUNDS: usize = 24;
 /// open, which bounds the rounds); O(m log m) for the cells (O(r) more per cell meeting an r-vertex region
 /// boundary) and O(n log r) to check the points against a given region.
 pub fn capacity_cells(
+    points: &[Point],
+    sites: &[Point],
+    capacities: &[f64],
+    weights: Weights<'_>,
+    region: Option<Region<'_>>,
+    options: &CellsOptions,
+) -> Result<CapacityCells> {
+    validate(points, sites, capacities, weights)?;
+    // Squared distances and areas overflow past coordinates near 1e154 and underflow below
+    // 1e-154: there the problem is solved with every coordinate scaled by one power of two
+    // (exact), and mapped back.
+    let reach = points
+        .iter()
+        .chain(sites)
+        .chain(region.iter().flat_map(|r| r.vertices))
+        .map(|p| p[0].abs().max(p[1].abs()))
+        .fold(0.0f64, f64::max);
+    if reach <= 1e100 && (reach >= 1e-100 || reach == 0.0) {
+        return cells_in_frame(points, sites, capacities, weights, region, options);
+    }
+    let factor = power_of_two_factor(reach);
+    let local = |q: &[Point]| -> Vec<Point> { q.iter().map(|p| [p[0] * factor, p[1] * factor]).collect() };
+    let (points_local, sites_local) = (local(points), local(sites));
+    let ring = region.map(|r| local(r.vertices));
+    let region_local = region.zip(ring.as_deref()).map(|(r, v)| Region { vertices: v, ring_offsets: r.ring_offsets });
+    let mut out = cells_in_frame(&points_local, &sites_local, capacities, weights, region_local, options).map_err(
+        |e| match e {
+            Error::OutsideRegion { argument, row, .. } => Error::OutsideRegion { argument, row, point: points[row] },
+            other => other,
+        },
+    )?;
+    let (length, area) = (1.0 / factor, 1.0 / (factor * factor));
+    out.power.iter_mut().for_each(|w| *w *= area);
+    out.cost.iter_mut().for_each(|c| *c *= area);
+    out.total_cost *= area;
+    out.total_distance_cost *= length;
+    out.cells.vertices.iter_mut().for_each(|v| *v = [v[0] * length, v[1] * length]);
+    out.cells.area.iter_mut().for_each(|a| *a *= area);
+    let finite = out.total_cost.is_finite()
+        && out.power.iter().chain(&out.cells.area).all(|x| x.is_finite())
+        && out.cells.vertices.iter().all(|v| v[0].is_finite() && v[1].is_finite());
+    if !finite {
+        return Err(Error::InvalidParameter {
+            name: "points",
+            reason: format!(
+                "the coordinates reach {reach:e}: demand × squared distance, the powers and the cells' areas \
+                 overflow float64 in these units; rescale the coordinates (e.g. kilometres instead of metres)"
+            ),
+        });
+    }
+    Ok(out)
+}
+
+/// [`capacity_cells`] on coordinates whose squares neither overflow nor underflow.
+fn cells_in_frame(
     points: &[Point],
     sites: &[Point],
     capacities: &[f64],

@@ -1,0 +1,230 @@
+"""Capacities: hostile and tight instances checked against outside references.
+
+References: ``scipy.optimize.milp`` (HiGHS) on the single-source assignment program and on
+the capacitated p-median program written out here, ``scipy.optimize.linprog`` (HiGHS) on the
+transportation program, and closed forms where the answer is evident by hand.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from scipy.optimize import Bounds, LinearConstraint, linprog, milp
+from scipy.spatial.distance import cdist
+
+import placewise as pw
+
+
+def single_source_milp(points, sites, caps, weights):
+    """min Σ w_i c_ij y_ij with Σ_j y_ij = 1, Σ_i w_i y_ij ≤ cap_j, y binary (HiGHS); None
+    when no single-source plan exists."""
+    c = cdist(points, sites)
+    n, m = c.shape
+    one_site = np.kron(np.eye(n), np.ones(m))
+    load = np.hstack([np.eye(m) * w for w in weights])
+    res = milp((c * weights[:, None]).ravel(), integrality=np.ones(n * m), bounds=Bounds(0, 1),
+               constraints=[LinearConstraint(one_site, 1, 1), LinearConstraint(load, 0, caps)])
+    return res.fun if res.status == 0 else None
+
+
+def split_linprog(points, sites, caps, weights):
+    """min Σ c_ij x_ij with Σ_j x_ij = w_i, Σ_i x_ij ≤ cap_j, x ≥ 0 (HiGHS)."""
+    c = cdist(points, sites)
+    n, m = c.shape
+    res = linprog(c.ravel(), A_ub=np.kron(np.ones(n), np.eye(m)), b_ub=caps,
+                  A_eq=np.kron(np.eye(n), np.ones(m)), b_eq=weights, method="highs")
+    assert res.status == 0
+    return res.fun
+
+
+def test_single_source_finds_the_plan_a_hand_count_shows():
+    # Two heavy points beside site 0, two light ones beside site 1, 3 units at each: the
+    # split plan shares one heavy point, and rounding it alone found no room ("no site has
+    # room for the whole demand of points[1]"). By hand: one heavy and one light point at
+    # each site; the best such plan costs 2·4.9 + 1·5 + 0.1 = 14.9, as milp finds.
+    points = np.array([[0.0, 0.0], [0.1, 0.0], [5.0, 0.0], [5.1, 0.0]])
+    weights = np.array([2.0, 2.0, 1.0, 1.0])
+    sites = np.array([[0.0, 0.0], [5.0, 0.0]])
+    plan = pw.capacity_allocation(points, sites, [3, 3], weights, split=False)
+    best = single_source_milp(points, sites, np.array([3.0, 3.0]), weights)  # scipy.optimize.milp
+    assert np.all(plan.share == 1.0)
+    assert plan.load.tolist() == [3.0, 3.0]
+    assert plan.total_cost == pytest.approx(best, rel=1e-12) and best == pytest.approx(14.9, rel=1e-12)
+    assert plan.lower_bound <= best * (1 + 1e-12)
+    assert plan.relative_gap == pytest.approx((plan.total_cost - plan.lower_bound) / plan.total_cost)
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_single_source_on_tight_capacities_is_never_refused_when_milp_finds_a_plan(seed):
+    # Integral demand of 1–5 units, capacities a little above a third of it each: a quarter
+    # of such instances were refused although a single-source plan exists.
+    rng = np.random.default_rng(seed)
+    refused = 0
+    for _ in range(25):
+        points = rng.uniform(0, 10, size=(8, 2))
+        sites = rng.uniform(0, 10, size=(3, 2))
+        weights = rng.integers(1, 6, size=8).astype(float)
+        caps = np.full(3, np.ceil(weights.sum() / 3) + rng.integers(0, 3))
+        best = single_source_milp(points, sites, caps, weights)  # scipy.optimize.milp
+        try:
+            plan = pw.capacity_allocation(points, sites, caps, weights, split=False)
+        except pw.InputError:
+            refused += best is not None
+            continue
+        assert best is not None
+        assert np.all(plan.share == 1.0) and np.all(plan.load <= caps)
+        assert plan.total_cost >= best * (1 - 1e-12)
+        # The gap is proven: the split optimum (scipy.optimize.linprog) bounds every plan.
+        assert plan.lower_bound == pytest.approx(split_linprog(points, sites, caps, weights), rel=1e-9)
+        assert plan.relative_gap >= (plan.total_cost - best) / plan.total_cost - 1e-12
+    assert refused == 0
+
+
+def test_single_source_refusal_says_the_heuristic_did_not_find_a_plan():
+    # No single-source plan exists at all (a point of 3 units, sites of 2): the refusal
+    # must not claim more than the heuristic knows, nor less.
+    with pytest.raises(pw.InputError, match="single-source heuristic") as info:
+        pw.capacity_allocation([[0, 0], [1, 0]], [[0, 0], [1, 0]], [2, 2], [3, 1], split=False)
+    assert info.value.argument == "capacities"
+    plan = pw.capacity_allocation([[0, 0], [1, 0]], [[0, 0], [1, 0]], [2, 2], [3, 1], split=False,
+                                  allow_unserved=True)
+    # By hand: the 3-unit point fits nowhere whole, the 1-unit one stays at its own site.
+    assert plan.unserved.tolist() == [3.0, 0.0] and plan.total_cost == 0.0
+
+
+@pytest.mark.parametrize("p_median", [pw.capacitated_p_median,
+                                      lambda *a, **k: pw.p_median(a[0], a[1], capacities=a[2], **k)])
+def test_capacitated_p_median_shortfall_does_not_offer_unserved_demand(p_median):
+    # The capacitated p-median has no option to leave demand unserved (p_median refuses
+    # allow_unserved with capacities), so its shortfall advice must not offer one.
+    points = [[0, 0], [1, 0], [2, 0], [4, 0]]
+    with pytest.raises(pw.InputError, match="short") as info:
+        p_median(points, 2, [1, 1])
+    assert "unserved" not in str(info.value)
+    assert "this model serves all the demand" in str(info.value)
+    with pytest.raises(pw.InputError, match="short") as info:
+        p_median(points, 1, [3, 3], candidates=[[0, 0], [1, 0]])
+    assert "unserved" not in str(info.value)
+
+
+def test_continuous_capacitated_p_median_places_several_sites_at_one_heavy_point():
+    # All the demand (5 units) at one point, two sites of 3: both at that point, cost 0, by
+    # hand. The run was refused ("points must hold at least 2 distinct points").
+    plan = pw.capacitated_p_median([[0, 0], [1, 0], [2, 0], [4, 0]], 2, [3, 3], [0, 0, 0, 5])
+    assert plan.sites.tolist() == [[4.0, 0.0], [4.0, 0.0]]
+    assert plan.total_cost == 0.0 and plan.load.sum() == 5.0 and np.all(plan.load <= 3.0)
+    # Four coincident points, sites of different capacities: both at the point, cost 0.
+    plan = pw.p_median([[1, 1]] * 4, 2, capacities=[1, 3])
+    assert plan.sites.tolist() == [[1.0, 1.0], [1.0, 1.0]]
+    assert plan.load.tolist() == [1.0, 3.0] and plan.total_cost == 0.0
+
+
+def test_continuous_capacitated_p_median_with_a_heavy_town_beside_light_ones():
+    # A town of 10 units at the origin and two of 1 unit far out, sites of 4: three sites
+    # must share the town (12 units of room for its 10 beside 2 far off), the fourth serves
+    # the light towns. Outside check: the plan's cost is the transportation optimum for its
+    # own sites (scipy.optimize.linprog), and every capacity holds.
+    towns = np.array([[0.0, 0.0], [20.0, 0.0], [20.0, 2.0]])
+    demand = np.array([10.0, 1.0, 1.0])
+    plan = pw.capacitated_p_median(towns, 4, [4, 4, 4, 4], demand)
+    assert np.all(plan.load <= 4.0 * (1 + 1e-12)) and plan.load.sum() == pytest.approx(12.0)
+    assert plan.total_cost == pytest.approx(split_linprog(towns, plan.sites, np.full(4, 4.0), demand), abs=1e-9)
+    # By hand: three sites at the town and one between the far ones cost 2·1 = 2 at best.
+    assert plan.total_cost == pytest.approx(2.0, rel=1e-6)
+
+
+@pytest.mark.parametrize("scale", [1e-300, 1e-200, 1e200, 1e300])
+def test_allocation_and_p_median_are_scale_free(scale):
+    # Input: coordinates scaled by 1e-300. Wrong answer: a plan 1.42 times the optimum (the
+    # squared differences underflowed to 0, so every distance read as 0 to the solver).
+    # Outside check: scipy.optimize.linprog (HiGHS) on the unscaled program; the optimum
+    # scales with the coordinates.
+    rng = np.random.default_rng(2)
+    points = rng.uniform(0, 10, size=(50, 2))
+    sites = rng.uniform(0, 10, size=(3, 2))
+    caps = np.array([20.0, 20.0, 10.0])
+    best = split_linprog(points, sites, caps, np.ones(50))
+    plan = pw.capacity_allocation(points * scale, sites * scale, caps)
+    assert plan.total_cost / scale == pytest.approx(best, rel=1e-9)
+    assert plan.load == pytest.approx(caps, rel=1e-12)
+    unscaled = pw.capacity_allocation(points, sites, caps)
+    assert np.array_equal(plan.assignment, unscaled.assignment)
+
+
+@pytest.mark.parametrize("scale", [1e-300, 1e-200, 1e120, 1e150])
+def test_capacity_cells_are_scale_free(scale):
+    # Input: coordinates scaled by 1e-300. Wrong answer: a refusal naming "powers", an
+    # argument the caller never passed (the squared distances underflowed); at 1e150 the
+    # cells' areas and the cost scale as they should, checked here against shapely.
+    # Outside checks: scipy.optimize.linprog (HiGHS) on the squared-distance transportation
+    # program of the unscaled data; shapely for the polygons' areas, their tiling of the
+    # region and each point lying in its site's cell.
+    import shapely
+
+    rng = np.random.default_rng(2)
+    points = rng.uniform(0, 10, size=(50, 2))
+    sites = rng.uniform(0, 10, size=(3, 2))
+    caps = np.array([20.0, 20.0, 10.0])
+    c = cdist(points, sites) ** 2
+    res = linprog(c.ravel(), A_ub=np.kron(np.ones(50), np.eye(3)), b_ub=caps,
+                  A_eq=np.kron(np.eye(50), np.ones(3)), b_eq=np.ones(50), method="highs")
+    cells = pw.capacity_cells(points * scale, sites * scale, caps)
+    assert cells.load == pytest.approx(caps, rel=1e-12)
+    if scale > 1e-150:  # below, demand × squared distance underflows to 0 in these units
+        assert cells.total_cost / scale**2 == pytest.approx(res.fun, rel=1e-9)
+    polygons = [shapely.affinity.scale(g, 1 / scale, 1 / scale, origin=(0, 0)) for g in cells.cells.to_shapely()]
+    region = shapely.box(*shapely.union_all(polygons).bounds)
+    assert sum(g.area for g in polygons) == pytest.approx(region.area, rel=1e-9)
+    assert shapely.union_all(polygons).area == pytest.approx(region.area, rel=1e-9)
+    for i, j in enumerate(cells.assignment):
+        assert polygons[j].distance(shapely.Point(points[i])) <= 1e-9 * 10
+
+
+def test_capacity_cells_refuse_coordinates_whose_squares_overflow():
+    # Input: coordinates near 1e200. Wrong answer: total_cost NaN and areas inf, returned
+    # without a word. Reference: float64's range (squares of 1e200 exceed 1.8e308).
+    rng = np.random.default_rng(2)
+    points = rng.uniform(0, 10, size=(50, 2)) * 1e200
+    sites = rng.uniform(0, 10, size=(3, 2)) * 1e200
+    with pytest.raises(pw.InputError, match="rescale the coordinates") as info:
+        pw.capacity_cells(points, sites, [20, 20, 10])
+    assert info.value.argument == "points"
+
+
+def heavy_and_unit_demand():
+    """Three points of 1e15 beside 44 points of 1 and three of 1e-15."""
+    rng = np.random.default_rng(2)
+    points = rng.uniform(0, 10, size=(50, 2))
+    sites = rng.uniform(0, 10, size=(3, 2))
+    weights = np.ones(50)
+    weights[:3] = 1e15
+    weights[3:6] = 1e-15
+    return points, sites, weights
+
+
+def test_unit_demand_beside_huge_demand_does_not_overfill_a_site():
+    # Input: capacities [1e15, 1e15, 1e15 + 50] for 3e15 + 44 units (3 points of 1e15, 44
+    # of 1). Wrong answer: site 0 loaded 1e15 + 21 (slack -21) while site 2 had 40 to spare:
+    # an imbalance below 1e-12 of the total counted as rounding. Reference: by hand, the
+    # capacities hold the demand with 6 units to spare, and every value here is an integer
+    # below 2**53, exact in float64, so a plan within the capacities is representable.
+    points, sites, weights = heavy_and_unit_demand()
+    caps = np.array([1e15, 1e15, 1e15 + 50])
+    for split in (True, False):
+        plan = pw.capacity_allocation(points, sites, caps, weights, split=split)
+        assert np.all(plan.load <= caps), (split, plan.load - caps)
+        assert plan.load.sum() == pytest.approx(weights.sum(), rel=1e-15)
+        assert plan.total_unserved == 0.0
+
+
+def test_a_shortfall_of_whole_units_beside_huge_demand_is_not_rounding():
+    # Input: capacities [1e15] * 3 for 3e15 + 44 units. Wrong answer: no shortfall reported
+    # (44 short counted as rounding of the totals), and a plan overfilling the sites by 44.
+    # Reference: by hand, 44 units more demand than capacity, integers exact in float64.
+    points, sites, weights = heavy_and_unit_demand()
+    caps = np.full(3, 1e15)
+    with pytest.raises(pw.InputError, match="short"):
+        pw.capacity_allocation(points, sites, caps, weights)
+    plan = pw.capacity_allocation(points, sites, caps, weights, allow_unserved=True)
+    assert plan.total_unserved == pytest.approx(44.0, abs=1e-9)
+    assert np.all(plan.load <= caps)
