@@ -172,6 +172,28 @@ def test_network_siting_names_each_homes_depot_and_tallies_its_sites(files, caps
         mine = got["site"] == line
         assert points == mine.sum() and load == got.loc[mine, "people"].sum()
 
+
+def test_network_siting_names_a_column_of_the_homes_it_replaces(files, capsys):
+    """A homes file with its own "site" column lost it in the assignment file without a word;
+    now one warning line names it, and the file's sites are still depots of least cost on
+    scipy's costs."""
+    path, homes, depots, costs = files
+    table = pd.read_csv(path / "homes.csv").assign(site="survey")
+    table.to_csv(path / "homes_site.csv", index=False)
+    assignment = path / "assigned_site.csv"
+    code = main(["network-siting", str(path / "homes_site.csv"), "--crs", CRS, "--network",
+                 str(path / "streets.geojson"), "--one-way", "oneway", "--candidates", str(path / "depots.csv"),
+                 "-p", "2", "--weight", "people", "-o", str(path / "sites_site.csv"), "--assignment",
+                 str(assignment), "-q"])
+    err = capsys.readouterr().err
+    assert code == 0, err
+    assert "placewise: warning: the demand: the result replaces your column 'site'" in err
+    got, chosen = pd.read_csv(assignment), pd.read_csv(path / "sites_site.csv")
+    assert set(got["site"]) <= set(chosen["line"])
+    c = costs[np.ix_(depots[chosen["line"].to_numpy() - 2], homes)]  # scipy, chosen depot -> home
+    np.testing.assert_allclose(got["cost_m"].to_numpy(), c.min(axis=0), rtol=1e-12)
+
+
 def test_missing_network_column_is_one_line(files, capsys):
     path, *_ = files
     code = main(["network-catchments", str(path / "homes.csv"), "--crs", CRS, "--network",

@@ -554,6 +554,20 @@ def test_cover_most_anywhere_with_more_sites_than_coverage_sets():
         pw.cover_most(villages, 3, 1.5, w, candidates=villages[:2])
 
 
+@pytest.mark.parametrize("exponent", [0, 540, -540])
+def test_coverage_anywhere_is_the_same_at_every_scale(exponent):
+    # Closed form: an equilateral triangle of side 1.7 has circumradius 1.7/√3 ≈ 0.981 < 1,
+    # so one site anywhere covers it within radius 1. Scaled by 2^±540 (an exact change of
+    # scale), the squares in the dominating set overflowed or underflowed and it took two.
+    s = 2.0**exponent
+    pts = np.array([[0.0, 0.0], [1.7, 0.0], [0.85, 1.7 * np.sqrt(0.75)]]) * s
+    cover = pw.cover_all(pts, s)
+    assert cover.chosen == 1
+    site = cover.sites[0]
+    assert (np.hypot(pts[:, 0] - site[0], pts[:, 1] - site[1]) <= s).all()  # numpy hypot (cdist squares overflow)
+    assert pw.cover_most(pts, 1, s).covered_weight == 3.0
+
+
 def dominating_set(points: np.ndarray, radius: float) -> np.ndarray:
     """The finite dominating set of Church (1984), built here with numpy alone: the points and
     both intersection points of every pair of circles of ``radius`` around them that meet,

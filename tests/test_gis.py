@@ -1245,8 +1245,8 @@ def test_a_column_of_the_callers_replaced_by_a_result_column_is_named():
         plan = gis.nearest_site(demand, sites, "w")
     said = [str(w.message) for w in caught]
     tail = "whose values differ; rename it to keep both"
-    assert f"sites: the result replaces the frame's own column 'load', {tail}" in said
-    assert f"demand: the result replaces the frame's own column 'site', {tail}" in said
+    assert f"sites: the result replaces your column 'load', {tail}" in said
+    assert f"demand: the result replaces your column 'site', {tail}" in said
     distance, nearest = cKDTree(shapely.get_coordinates(sites.geometry.values)).query(
         shapely.get_coordinates(demand.geometry.values))
     assert plan.demand["site"].tolist() == list(np.array(["A", "B", "C"])[nearest])
@@ -1264,12 +1264,39 @@ def test_a_column_of_the_callers_replaced_by_a_result_column_is_named():
 
     # Coverage and capacities write through the same path: "covered" and "share" of the
     # caller's are named.
-    with pytest.warns(UserWarning, match=r"frame: the result replaces the frame's own columns 'site', 'covered'"):
+    with pytest.warns(UserWarning, match=r"frame: the result replaces your columns 'site', 'covered'"):
         gis.cover_most(demand.assign(covered="yes"), 1, 300, "w", candidates=sites)
-    with pytest.warns(UserWarning, match=r"demand: the result replaces the frame's own columns 'site', 'share'"):
+    with pytest.warns(UserWarning, match=r"demand: the result replaces your columns 'site', 'share'"):
         gis.capacity_allocation(demand.assign(share=0.5), sites.assign(cap=[30.0, 30.0, 30.0]), "cap", "w")
+
+    # Two columns of the frame named "site": pandas could not compare them with one result
+    # column (a bare ValueError); refused by name.
+    doubled = gpd.GeoDataFrame(pd.concat([demand[["site"]], demand], axis=1), geometry="geometry", crs=demand.crs)
+    with pytest.raises(pw.InputError, match="demand: more than one of your columns is named 'site'"):
+        gis.nearest_site(doubled, sites.drop(columns="load"), "w")
 
     # A geometry column named like a result column cannot be replaced: refused.
     odd = demand.drop(columns="site").rename_geometry("site")
     with pytest.raises(pw.InputError, match="demand: the geometry column is named 'site'"):
         gis.nearest_site(odd, sites.drop(columns="load"), "w")
+
+
+def test_catchment_cells_name_the_columns_of_the_callers_they_replace():
+    # A sites frame with its own "area_m2" and "load" columns lost them to the cells' without
+    # a word (and the nearest-site plan used for the loads spoke of a demand layer the cells
+    # never return). Reference: shapely areas of the cells; numpy.bincount over scipy
+    # cKDTree's nearest sites for the loads.
+    rng = np.random.default_rng(11)
+    at = gpd.points_from_xy([500_100, 500_500, 500_900], [5_000_100, 5_000_800, 5_000_300])
+    sites = gpd.GeoDataFrame({"area_m2": [1, 2, 3], "load": ["x", "y", "z"]}, geometry=at, crs="EPSG:32632")
+    xy = np.column_stack([rng.uniform(5e5, 501e3, 50), rng.uniform(5e6, 5.001e6, 50)])
+    demand = gpd.GeoDataFrame({"site": np.arange(50)}, geometry=gpd.points_from_xy(*xy.T), crs="EPSG:32632")
+    region = gpd.GeoSeries([shapely.box(5e5, 5e6, 501e3, 5.001e6)], crs="EPSG:32632")
+    with pytest.warns(UserWarning) as caught:
+        cells = gis.voronoi_cells(sites, region, demand=demand)
+    said = sorted(str(w.message) for w in caught)
+    assert said == [f"sites: the result replaces your column '{c}', whose values differ; rename it to "
+                    "keep both" for c in ("area_m2", "load")]
+    np.testing.assert_allclose(cells["area_m2"], shapely.area(cells.geometry.values), rtol=1e-9)
+    nearest = cKDTree(shapely.get_coordinates(sites.geometry.values)).query(xy)[1]
+    assert cells["load"].tolist() == np.bincount(nearest, minlength=3).astype(float).tolist()

@@ -711,6 +711,6 @@ def test_network_catchments_of_a_geoseries_is_a_frame_and_names_a_replaced_colum
     np.testing.assert_allclose(out["gap_m"], [5.0, 5.0], rtol=1e-12)
     # A column of the caller's called "site" is replaced, and said so.
     frame = gpd.GeoDataFrame({"site": ["home 1", "home 2"]}, geometry=homes.values, index=homes.index)
-    with pytest.warns(UserWarning, match="points: the result replaces the frame's own column 'site'"):
+    with pytest.warns(UserWarning, match="points: the result replaces your column 'site'"):
         again = network_catchments(graph, frame, depots)
     assert again["site"].tolist() == ["west", "east"]

@@ -16,7 +16,7 @@ use rstar::RTree;
 use super::check_radius;
 use crate::cancel::{RunLimits, Steps};
 use crate::error::{Error, Result};
-use crate::geometry::{distance, validate_points, Point};
+use crate::geometry::{distance, validate_points, Point, WorkingFrame};
 
 /// Points between two polls of the clock in [`circle_intersections`]: a few milliseconds of
 /// neighbour queries even where the circles overlap densely.
@@ -57,8 +57,17 @@ pub fn circle_intersections(
     check_radius(radius)?;
     let clock = limits.clock();
     let mut steps = Steps::new(&clock.watch, points.len() as u64);
+    // The tree holds the points in their working frame (unit size), where the squared
+    // search distances neither overflow nor underflow at coordinates near 1e±160 and
+    // beyond; every test that decides coverage is made on the caller's coordinates, by
+    // the same `distance(..) <= radius` as the covering models'.
+    let frame = WorkingFrame::of(points);
     let tree: RTree<GeomWithData<Point, usize>> =
-        RTree::bulk_load(points.iter().enumerate().map(|(i, &p)| GeomWithData::new(p, i)).collect());
+        RTree::bulk_load(points.iter().enumerate().map(|(i, &p)| GeomWithData::new(frame.to_local(p), i)).collect());
+    let within = |c: Point, r: f64| {
+        let reach = r * frame.factor * (1.0 + 1e-9) + f64::MIN_POSITIVE;
+        tree.locate_within_distance(frame.to_local(c), reach * reach).map(|q| q.data)
+    };
     let reach = 2.0 * radius;
     let mut candidates: Vec<Point> = points.to_vec();
     for (i, &a) in points.iter().enumerate() {
@@ -66,14 +75,17 @@ pub fn circle_intersections(
             break;
         }
         steps.step();
-        for q in tree.locate_within_distance(a, reach * reach) {
-            let (j, b) = (q.data, *q.geom());
+        for j in within(a, reach) {
+            let b = points[j];
             let d = distance(a, b);
             if j <= i || d == 0.0 || d > reach {
                 continue;
             }
-            let mid = [(a[0] + b[0]) / 2.0, (a[1] + b[1]) / 2.0];
-            let h = (radius * radius - d * d / 4.0).max(0.0).sqrt();
+            // Halves and a product of factors near 1: no square of a coordinate or of the
+            // radius, which overflow or underflow at extreme scales.
+            let mid = [0.5 * a[0] + 0.5 * b[0], 0.5 * a[1] + 0.5 * b[1]];
+            let share = 0.5 * d / radius;
+            let h = radius * ((1.0 - share) * (1.0 + share)).max(0.0).sqrt();
             let normal = [-(b[1] - a[1]) / d, (b[0] - a[0]) / d];
             for sign in [1.0, -1.0] {
                 let c = [mid[0] + sign * h * normal[0], mid[1] + sign * h * normal[1]];
@@ -91,12 +103,8 @@ pub fn circle_intersections(
         }
     }
     steps.finish();
-    let covered_before = |c: Point| -> Vec<usize> {
-        tree.locate_within_distance(c, radius * radius * (1.0 + 1e-12))
-            .filter(|q| distance(c, *q.geom()) <= radius)
-            .map(|q| q.data)
-            .collect()
-    };
+    let covered_before =
+        |c: Point| -> Vec<usize> { within(c, radius).filter(|&i| distance(c, points[i]) <= radius).collect() };
     // The points an existing site covers, by the same test as every candidate's.
     let mut served = vec![false; points.len()];
     for &f in fixed {
@@ -147,6 +155,21 @@ mod tests {
         let e = circle_intersections(&points, &[], 1.0, 50, &RunLimits::default()).unwrap_err();
         assert!(e.to_string().starts_with("radius: the circles of radius 1 around the points meet in more than 50"));
         assert!(circle_intersections(&points, &[], 0.0, 50, &RunLimits::default()).is_err());
+    }
+
+    #[test]
+    fn one_disk_covers_a_small_triangle_at_every_scale() {
+        // Closed form: an equilateral triangle of side 1.7 has circumradius 1.7/√3 ≈ 0.981,
+        // so one disk of radius 1 covers it, pinned by two of its circles' intersections.
+        // Scaled by 2^±540 (exact) the squares of the radius and of the distances overflow
+        // or underflow, and every intersection fell onto its pair's midpoint.
+        for exponent in [0, 540, -540] {
+            let s = 2f64.powi(exponent);
+            let points = [[0.0, 0.0], [1.7 * s, 0.0], [0.85 * s, 1.7 * 0.75f64.sqrt() * s]];
+            let c = circle_intersections(&points, &[], s, 100, &RunLimits::default()).unwrap();
+            let all = c.iter().any(|&x| points.iter().all(|&p| distance(x, p) <= s));
+            assert!(all, "2^{exponent}: {c:?}");
+        }
     }
 
     #[test]

@@ -101,18 +101,17 @@ def _cmd_network_siting(args: argparse.Namespace) -> None:
             raise named from None
         raise UserError("--within: " + str(named)[len("radius: "):].replace("within radius ", "within ")) from None
     opened = np.asarray(plan.open)
-    out = candidates.iloc[opened].copy()
+    from ..gis._frames import annotated
+
     # The plan's own per-site tallies; ``assignment`` is a row of the open sites (-1: none).
-    out["points"] = np.asarray(plan.count)
-    out["load"] = np.asarray(plan.load)
+    out = annotated(candidates.iloc[opened], {"points": np.asarray(plan.count), "load": np.asarray(plan.load)},
+                    "the candidates")
     write_frame(out, args.output, args, "sites")
     if args.assignment is not None:
-        assigned = demand.copy()
         assignment = np.asarray(plan.assignment)
         site = np.full(len(assignment), None, dtype=object)
         site[assignment >= 0] = c_labels[opened[assignment[assignment >= 0]]]
-        assigned["site"] = site
-        assigned[f"cost_{graph.unit}"] = np.asarray(plan.cost)
+        assigned = annotated(demand, {"site": site, f"cost_{graph.unit}": np.asarray(plan.cost)}, "the demand")
         write_frame(assigned, args.assignment, args, "assignment")
     _note(args, f"{len(out)} site(s) of {len(c)} candidate(s); total weighted travel cost "
                 f"{float(plan.total_cost):.6g} (weight x {graph.unit})")

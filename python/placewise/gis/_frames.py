@@ -391,6 +391,10 @@ def annotated(frame: Any, columns: Mapping[str, Any], name: str) -> Any:
     if frame.geometry.name in columns:
         raise InputError(f"{name}: the geometry column is named {frame.geometry.name!r}, the name of a column "
                          f"of the result ({', '.join(map(str, columns))}); rename it")
+    twice = sorted({str(key) for key in columns if (frame.columns == key).sum() > 1})
+    if twice:
+        raise InputError(f"{name}: more than one of your columns is named {', '.join(map(repr, twice))}, the "
+                         "name of a column of the result; rename them")
     out = frame.copy()
     replaced = []
     for key, values in columns.items():
@@ -400,7 +404,7 @@ def annotated(frame: Any, columns: Mapping[str, Any], name: str) -> Any:
         out[key] = values
     if replaced:
         warnings.warn(
-            f"{name}: the result replaces the frame's own column{'s' if len(replaced) > 1 else ''} "
+            f"{name}: the result replaces your column{'s' if len(replaced) > 1 else ''} "
             f"{', '.join(map(repr, replaced))}, whose values differ; rename "
             f"{'them' if len(replaced) > 1 else 'it'} to keep both",
             UserWarning, stacklevel=_caller_level(),

@@ -3,6 +3,9 @@ demand it serves, and the cells' dual, the Delaunay triangulation of the sites."
 
 from __future__ import annotations
 
+import contextlib
+import warnings
+from collections.abc import Iterator
 from typing import Any, Literal
 
 import numpy as np
@@ -25,6 +28,7 @@ from ._columns import groups_of
 from ._crs import MAX_SCALE_ERROR
 from ._frames import (
     Prepared,
+    annotated,
     call,
     framed,
     prepare_or_sphere,
@@ -196,10 +200,11 @@ def voronoi_cells(
         stages = Stages(progress, 1 if demand is None else 2)
         out = _sphere_cells(pf, region, stages.next())
         if demand is not None:
-            served = nearest_site(demand, sites, weight, centroids=centroids, errors=errors, progress=stages.next())
+            with _layers_not_returned():
+                served = nearest_site(demand, sites, weight, centroids=centroids, errors=errors,
+                                      progress=stages.next())
             stages.close()
-            out["load"] = served.sites["load"].to_numpy()
-            out["points"] = served.sites["points"].to_numpy()
+            out = _with_loads(out, served)
         return out
     geom = region_geometry(region, pf)
     groups = groups_of(pf.frame, by, "sites")
@@ -209,18 +214,32 @@ def voronoi_cells(
     result = call(_pw.voronoi_cells, pf.xy, geom, groups=groups, rows=rows, progress=stages.next(), **grouped)
     # The kernel's rows are the sites in input order: one row per site, with its own columns.
     cells = framed(result, pf, groups, rows)
-    out = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=cells.geometry.values,
-                           crs=pf.crs)
-    for name in cells.columns:
-        if name.startswith("area_") or name in ("problem", "work_crs", "scale_error"):
-            out[name] = cells[name].to_numpy()
+    base = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=cells.geometry.values,
+                            crs=pf.crs)
+    out = annotated(base, {name: cells[name].to_numpy() for name in cells.columns
+                           if name.startswith("area_") or name in ("problem", "work_crs", "scale_error")}, "sites")
     if demand is not None:
-        served = nearest_site(demand, sites, weight, by=by, planar=planar, centroids=centroids, errors=errors,
-                              progress=stages.next(), **model)
+        with _layers_not_returned():
+            served = nearest_site(demand, sites, weight, by=by, planar=planar, centroids=centroids, errors=errors,
+                                  progress=stages.next(), **model)
         stages.close()
-        out["load"] = served.sites["load"].to_numpy()
-        out["points"] = served.sites["points"].to_numpy()
+        out = _with_loads(out, served)
     return out
+
+
+def _with_loads(cells: Any, served: Any) -> Any:
+    """The cells with each site's ``load`` and ``points`` from a nearest-site plan."""
+    return annotated(cells, {"load": served.sites["load"].to_numpy(), "points": served.sites["points"].to_numpy()},
+                     "sites")
+
+
+@contextlib.contextmanager
+def _layers_not_returned() -> Iterator[None]:
+    """A context in which a plan's warnings about the layers it copies are not shown: the
+    cells use its loads only, and say themselves which of the caller's columns they replace."""
+    with warnings.catch_warnings():
+        warnings.filterwarnings("ignore", message=r".*: the result replaces your column")
+        yield
 
 
 def power_cells(
