@@ -127,7 +127,7 @@ fn check_weighted_range(costs: &Costs<'_>, weights: Weights<'_>, summed: bool) -
         return Err(Error::InvalidParameter {
             name: "costs",
             reason: format!(
-                "the largest cost ({top:e}) times {what} ({weight:e}) exceeds {WEIGHTED_LIMIT:e}, beyond which \
+                "the largest cost ({top:e}) times {what} ({weight:e}) exceeds {WEIGHTED_LIMIT:.3e}, beyond which \
                  weighted totals overflow float64; rescale the costs (or the coordinates they are distances \
                  between) or the weights (e.g. kilometres instead of metres, thousands of people instead of people)"
             ),
