@@ -299,8 +299,12 @@ impl<'a> Packing<'a> {
     /// Room for point `i` at site `j`, up to the rounding of that site's own amounts (a
     /// slop relative to all the capacity let whole small points into full large sites).
     fn fits(&self, i: usize, j: usize) -> bool {
-        let w = self.weights.get(i);
-        self.room(j) >= w - SITE_ROUNDING * self.capacities[j].max(w)
+        self.holds(j, self.room(j), self.weights.get(i))
+    }
+
+    /// Whether `room` at site `j` holds a demand `w`, by the rule of [`Packing::fits`].
+    fn holds(&self, j: usize, room: f64, w: f64) -> bool {
+        room >= w - SITE_ROUNDING * self.capacities[j].max(w)
     }
 
     fn cost_of(&self, i: usize, j: usize) -> f64 {
@@ -352,9 +356,7 @@ impl<'a> Packing<'a> {
         for j in order {
             let mut best: Option<(f64, usize, usize)> = None;
             for k in 0..self.points.len() {
-                if self.at[k] != Some(j)
-                    || self.room(j) + self.weights.get(k) < w - SITE_ROUNDING * self.capacities[j].max(w)
-                {
+                if self.at[k] != Some(j) || !self.holds(j, self.room(j) + self.weights.get(k), w) {
                     continue;
                 }
                 for l in (0..m).filter(|&l| l != j && self.fits(k, l)) {
