@@ -28,7 +28,6 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from . import discrete
-from ._core import InputError
 from ._errors import refuse
 
 __all__ = ["cover_all", "cover_most", "evaluate_sites"]
@@ -73,12 +72,7 @@ def _anywhere_with_fixed(points: ArrayLike, radius: float, fixed: ArrayLike | No
     if existing.ndim != 2 or existing.shape[1] != 2:
         refuse("fixed", "fixed must hold the (x, y) coordinates of the existing sites, shape (f, 2), when sites "
                f"may go anywhere; got shape {existing.shape}")
-    bad = ~np.isfinite(existing).all(axis=1)
-    if bad.any():
-        row = int(np.argmax(bad))
-        error = InputError(f"fixed[{row}] has a NaN or infinite coordinate: {existing[row].tolist()}")
-        error.argument, error.row = "fixed", row
-        raise error
+    # NaN and infinite coordinates: refused by the kernel, which checks `fixed` by row.
     where = np.asarray(_candidates(points, radius, None, time_limit, existing), dtype=np.float64).reshape(-1, 2)
     return np.concatenate([where, existing]), np.arange(len(where), len(where) + len(existing))
 
