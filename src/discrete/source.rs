@@ -16,7 +16,7 @@ use rstar::RTree;
 
 use crate::cancel::free_aside;
 use crate::error::{Error, Result};
-use crate::geometry::{distance, validate_points, Point};
+use crate::geometry::{distance, validate_points, Point, WorkingFrame};
 
 /// A dense row-major `rows × columns` matrix of finite, non-negative costs: row `i` is a
 /// demand point, column `j` a candidate site.
@@ -151,9 +151,17 @@ type Indexed = GeomWithData<Point, usize>;
 pub struct PlanarCosts<'a> {
     points: &'a [Point],
     candidates: &'a [Point],
+    /// The candidates in `frame`'s local coordinates: the tree compares squared
+    /// distances, which overflow or underflow in the caller's units near 1e±154.
     tree: RTree<Indexed>,
+    frame: WorkingFrame,
     ceiling: f64,
 }
+
+/// Absolute slack of a tree query in the working frame, whose coordinates lie within a unit
+/// of the origin: a few roundings of the shift and scale. It also keeps the squared reach a
+/// normal number, so pairs whose squared local distance underflows are still returned.
+const LOCAL_SLACK: f64 = 4.0 * f64::EPSILON;
 
 impl<'a> PlanarCosts<'a> {
     /// Check the coordinates and index the candidates.
@@ -167,7 +175,10 @@ impl<'a> PlanarCosts<'a> {
     pub fn new(points: &'a [Point], candidates: &'a [Point]) -> Result<PlanarCosts<'a>> {
         validate_points("points", points, 1)?;
         validate_points("candidates", candidates, 1)?;
-        let tree = RTree::bulk_load(candidates.iter().enumerate().map(|(j, &c)| GeomWithData::new(c, j)).collect());
+        let frame = WorkingFrame::of(points).holding(candidates);
+        let tree = RTree::bulk_load(
+            candidates.iter().enumerate().map(|(j, &c)| GeomWithData::new(frame.to_local(c), j)).collect(),
+        );
         // The diagonal of the joint bounding box bounds every distance.
         let (mut lo, mut hi) = ([f64::INFINITY; 2], [f64::NEG_INFINITY; 2]);
         for p in points.iter().chain(candidates) {
@@ -177,7 +188,14 @@ impl<'a> PlanarCosts<'a> {
             }
         }
         let ceiling = distance(lo, hi) * (1.0 + 1e-9);
-        Ok(PlanarCosts { points, candidates, tree, ceiling })
+        Ok(PlanarCosts { points, candidates, tree, frame, ceiling })
+    }
+
+    /// The candidates whose local distance to point `i` may be within `radius` (caller's
+    /// units): a superset of those whose [`distance`] is, which callers then test exactly.
+    fn near(&self, i: usize, radius: f64) -> impl Iterator<Item = &Indexed> {
+        let reach = radius * self.frame.factor * (1.0 + 1e-12) + LOCAL_SLACK;
+        self.tree.locate_within_distance(self.frame.to_local(self.points[i]), reach * reach)
     }
 }
 
@@ -261,9 +279,8 @@ impl Costs<'_> {
         match self {
             Costs::Planar(c) if radius.is_finite() => {
                 let a = c.points[i];
-                let reach = radius * (1.0 + 1e-12) + f64::MIN_POSITIVE;
-                for s in c.tree.locate_within_distance(a, reach * reach) {
-                    let d = distance(a, *s.geom());
+                for s in c.near(i, radius) {
+                    let d = distance(a, c.candidates[s.data]);
                     if d <= radius {
                         f(s.data, d);
                     }
@@ -295,12 +312,13 @@ impl Costs<'_> {
     pub fn cheapest(&self, i: usize) -> (usize, f64) {
         if let Costs::Planar(c) = self {
             let a = c.points[i];
-            let near = c.tree.nearest_neighbor(a).expect("a candidate");
-            let d = distance(a, *near.geom());
-            // Every candidate as near (ties): the smallest column.
+            let near = c.tree.nearest_neighbor(c.frame.to_local(a)).expect("a candidate");
+            let d = distance(a, c.candidates[near.data]);
+            // Every candidate as near in the caller's units (ties, and the frame's rounding):
+            // the smallest column.
             let mut best = (near.data, d);
-            for s in c.tree.locate_within_distance(a, d * d * (1.0 + 1e-12)) {
-                let e = distance(a, *s.geom());
+            for s in c.near(i, d) {
+                let e = distance(a, c.candidates[s.data]);
                 if e < best.1 || (e == best.1 && s.data < best.0) {
                     best = (s.data, e);
                 }
@@ -392,6 +410,57 @@ mod tests {
             assert_eq!(sparse.cost(i, 3), dense.cost(i, 3));
             assert!(planar.ceiling() >= pairs(&dense, i).iter().map(|p| p.1).fold(0.0, f64::max));
         }
+    }
+
+    #[test]
+    fn the_planar_tree_agrees_with_every_pair_at_extreme_scales() {
+        // The tree once held the caller's coordinates and compared squared distances: scaled
+        // by 2^-540 every square underflowed (to 0 or a subnormal), so a radius query missed
+        // pairs within the radius and the nearest candidate was picked among rounded zeros.
+        // Reference: the full row filtered by `distance` (hypot, which neither overflows nor
+        // underflows), i.e. brute force over all pairs.
+        let mut rng = SplitMix64::new(11);
+        let base_points: Vec<Point> = (0..60).map(|_| [rng.next_f64() * 10.0, rng.next_f64() * 10.0]).collect();
+        let base_candidates: Vec<Point> = (0..15).map(|_| [rng.next_f64() * 10.0, rng.next_f64() * 10.0]).collect();
+        for scale in [2f64.powi(-540), 2f64.powi(-1000), 1e-300, 1.0, 1e200, 2f64.powi(540), 1e300] {
+            let points: Vec<Point> = base_points.iter().map(|p| [p[0] * scale, p[1] * scale]).collect();
+            let candidates: Vec<Point> = base_candidates.iter().map(|p| [p[0] * scale, p[1] * scale]).collect();
+            let planar = Costs::from(PlanarCosts::new(&points, &candidates).unwrap());
+            for i in 0..points.len() {
+                let row = pairs(&planar, i);
+                for r in [0.5, 2.0, 4.0, 20.0] {
+                    let radius = r * scale;
+                    let mut want: Vec<usize> = row.iter().filter(|p| p.1 <= radius).map(|p| p.0).collect();
+                    let mut got = Vec::new();
+                    planar.for_each_within(i, radius, |j, _| got.push(j));
+                    got.sort_unstable();
+                    want.sort_unstable();
+                    assert_eq!(got, want, "scale {scale:e}, point {i}, radius {r}");
+                }
+                let least = row.iter().map(|p| p.1).fold(f64::INFINITY, f64::min);
+                let first = row.iter().find(|p| p.1 == least).unwrap();
+                assert_eq!(planar.cheapest(i), (first.0, first.1), "scale {scale:e}, point {i}");
+            }
+        }
+    }
+
+    #[test]
+    fn a_pair_whose_squares_are_subnormal_is_within_its_radius() {
+        // Closed form: a candidate at (c, c) with c = √0.6 · 2^-537 lies at √1.2 · 2^-537 from
+        // the origin, inside a radius of √1.3 · 2^-537. In the caller's units each square is
+        // 0.6 of the least subnormal, so the tree's squared distance rounded to 2 of them
+        // against 1 for the squared radius, and the pair was missed.
+        let unit = 2f64.powi(-537);
+        let c = 0.6f64.sqrt() * unit;
+        let points = [[0.0, 0.0], [4.0 * unit, 0.0]];
+        let candidates = [[c, c], [9.0 * unit, 9.0 * unit]];
+        let planar = Costs::from(PlanarCosts::new(&points, &candidates).unwrap());
+        let radius = 1.3f64.sqrt() * unit;
+        assert!(distance(points[0], candidates[0]) <= radius);
+        let mut got = Vec::new();
+        planar.for_each_within(0, radius, |j, d| got.push((j, d)));
+        assert_eq!(got, vec![(0, distance(points[0], candidates[0]))]);
+        assert_eq!(planar.cheapest(0).0, 0);
     }
 
     #[test]

@@ -145,9 +145,11 @@ fn cells_within(sites: &[Point], powers: &[f64], rings: Option<&[Vec<Point>]>) -
     let mut overflow = None;
     let mut collapsed = None;
     let cells = clipped_cells(sites, rings, &Watch::new(), |cf| {
-        // Powers are squared lengths: they scale by the frame's factor squared.
-        let f2 = cf.frame.factor * cf.frame.factor;
-        let local_powers: Vec<f64> = shifted.iter().map(|&w| w * f2).collect();
+        // Powers are squared lengths: they scale by the frame's factor squared, applied once
+        // and again: the square itself is subnormal (losing digits) for extents beyond 2^511
+        // and zero beyond 2^537, where every power would vanish and the cells be Voronoi cells.
+        let factor = cf.frame.factor;
+        let local_powers: Vec<f64> = shifted.iter().map(|&w| w * factor * factor).collect();
         let lifted: Vec<[f64; 3]> =
             cf.sites.iter().zip(&local_powers).map(|(p, &w)| [p[0], p[1], dot(*p, *p) - w]).collect();
         if let Some(index) = lifted.iter().position(|l| !l[2].is_finite()) {

@@ -109,6 +109,27 @@ fn every_sample_point_lies_in_the_cell_of_its_least_power_site() {
 }
 
 #[test]
+fn powers_keep_their_weight_in_a_region_wider_than_2_to_the_537() {
+    // Closed form: sites at (∓d, 0) with powers W and 0 meet where (x + d)² − W = (x − d)²,
+    // at x = W / (4d); with d = 2^504 and W = 2^1009, at x = 2^503. The square region is 2^541
+    // across, so the frame's factor is 2^-541, whose square (2^-1082) underflowed to zero:
+    // the powers were dropped and the cells met at x = 0. The areas overflow (2^1082), so
+    // the test reads the vertices.
+    let (d, w, half) = (2f64.powi(504), 2f64.powi(1009), 2f64.powi(540));
+    let region_vertices = square(-half, half);
+    let region = Region { vertices: &region_vertices, ring_offsets: &[0, 4] };
+    let p = power_cells(&[[-d, 0.0], [d, 0.0]], &[w, 0.0], Some(region)).unwrap();
+    let xs = |i: usize| cell_rings(&p.cells, i).into_iter().flatten().map(|v| v[0]).collect::<Vec<f64>>();
+    let left_end = xs(0).into_iter().fold(f64::MIN, f64::max);
+    let right_start = xs(1).into_iter().fold(f64::MAX, f64::min);
+    let meet = 2f64.powi(503);
+    // The meeting line is 2^-38 of the frame across: a few local roundings are 2^-15 of it.
+    for got in [left_end, right_start] {
+        assert!((got - meet).abs() <= 1e-3 * meet, "cells meet at {got:e}, not {meet:e}");
+    }
+}
+
+#[test]
 fn degenerate_inputs() {
     let sq = square(-10.0, 10.0);
     let region = Region { vertices: &sq, ring_offsets: &[0, 4] };
