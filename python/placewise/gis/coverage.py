@@ -26,7 +26,7 @@ import placewise as _pw
 from .._core import InputError
 from .._errors import labelled, plain
 from ._crs import MAX_SCALE_ERROR
-from ._frames import Prepared, annotated, call, in_user_terms, weights, with_unit
+from ._frames import Prepared, annotated, call, in_user_terms, refuse_geometry_named, weights, with_unit
 from ._together import prepare_together
 
 __all__ = ["cover_all", "cover_most", "evaluate_sites"]
@@ -95,6 +95,13 @@ def selection_plan(result: Any, pf: Prepared, sources: Sources) -> Any:
     if "covered" in rows.columns:
         summary["uncovered_points"] = int((~demand["covered"].to_numpy(dtype=bool)).sum())
     return SitePlan(sites, demand, in_user_terms(summary, result, None, prepared=pf))
+
+
+def refuse_geometry_before(pf: Prepared, radius: bool) -> None:
+    """Refuse, before the solve, a demand frame whose geometry column has the name of a
+    column :func:`selection_plan` writes onto it (with a radius: the coverage ones too)."""
+    covering = ["covered", "covering"] if radius else []
+    refuse_geometry_named(pf.frame, ["site", f"distance_{pf.unit}", *covering], "frame")
 
 
 def _radius(radius: Any) -> float:
@@ -279,6 +286,7 @@ def cover_all(
                                       centroids=centroids, **model)
     cf, ff = companions.get("candidates"), companions.get("fixed")
     where, existing, rows = _sites_offered(cf, ff)
+    refuse_geometry_before(pf, radius=True)
     try:
         result = call(_pw.cover_all, pf.xy, radius, rows={**_rows(pf), **rows, "radius": pf.rows},
                       weights=weights(pf, weight, "frame"), candidates=where, fixed=existing,
@@ -352,6 +360,7 @@ def cover_most(
                                       centroids=centroids, **model)
     cf, ff = companions.get("candidates"), companions.get("fixed")
     where, existing, rows = _sites_offered(cf, ff)
+    refuse_geometry_before(pf, radius=True)
     result = call(_pw.cover_most, pf.xy, p, radius, weights(pf, weight, "frame"), rows={**_rows(pf), **rows},
                   candidates=where, fixed=existing, time_limit=time_limit, progress=progress)
     return selection_plan(result, pf, _sources(result, cf, ff))
@@ -401,6 +410,7 @@ def evaluate_sites(
     pf, companions = prepare_together(frame, "frame", {"sites": sites_frame}, planar=planar, centroids=centroids,
                                       **model)
     sf = companions["sites"]
+    refuse_geometry_before(pf, radius=radius is not None)
     result = call(_pw.evaluate_sites, pf.xy, sf.xy, weights(pf, weight, "frame"), radius=radius,
                   rows={**_rows(pf), "sites": sf.rows})
     sources = Sources()
