@@ -118,6 +118,27 @@ pub enum Error {
         column: usize,
         /// That candidate's cost.
         cost: f64,
+        /// The argument holding the candidates' coordinates (`"candidates"`, `"sites"`) when
+        /// the costs are straight-line distances from coordinates; `None` for a cost matrix.
+        /// With coordinates the message names the candidate's row and its distance, not a
+        /// column and a cost.
+        coordinates: Option<&'static str>,
+    },
+    /// Weighted costs beyond the range in which totals stay finite: the largest cost times
+    /// the total (or the largest) weight exceeds `limit`.
+    WeightedOverflow {
+        /// The largest cost (a value at or above every cost).
+        largest: f64,
+        /// The total weight, or the largest weight when `summed` is false.
+        weight: f64,
+        /// True when the weight is a total (a p-median's objective), false when it is the
+        /// largest one (a p-center's).
+        summed: bool,
+        /// The largest weighted cost allowed.
+        limit: f64,
+        /// As in [`Error::Uncoverable`]: the candidates' argument when the costs are distances
+        /// from coordinates (the message then names the coordinates), `None` for a matrix.
+        coordinates: Option<&'static str>,
     },
     /// A row of a network's input that cannot be an edge: an empty or one-point line, a
     /// negative or NaN cost, an unknown one-way code, a node index out of range.
@@ -286,13 +307,38 @@ impl Error {
                 namer.row(argument, *row),
                 plain(*value)
             ),
-            Error::Uncoverable { row, radius, column, cost } => format!(
+            Error::Uncoverable { row, radius, column, cost, coordinates: None } => format!(
                 "radius: points[{}] has no candidate within radius {}; its cheapest candidate, column {column}, \
                  costs {}",
                 namer.row("points", *row),
                 plain(*radius),
                 plain(*cost)
             ),
+            Error::Uncoverable { row, radius, column, cost, coordinates: Some(name) } => format!(
+                "radius: points[{}] has no candidate within radius {}; its nearest candidate, {name}[{}], lies at \
+                 distance {}",
+                namer.row("points", *row),
+                plain(*radius),
+                namer.row(name, *column),
+                plain(*cost)
+            ),
+            Error::WeightedOverflow { largest, weight, summed, limit, coordinates } => {
+                let what = if *summed { "the total weight" } else { "the largest weight" };
+                match coordinates {
+                    None => format!(
+                        "costs: the largest cost ({largest:e}) times {what} ({weight:e}) exceeds {limit:.3e}, beyond \
+                         which weighted totals overflow float64; rescale the costs (or the coordinates they are \
+                         distances between) or the weights (e.g. kilometres instead of metres, thousands of people \
+                         instead of people)"
+                    ),
+                    Some(name) => format!(
+                        "points, {name}: distances between points and {name} of up to {largest:e} times {what} \
+                         ({weight:e}) exceed {limit:.3e}, beyond which weighted totals overflow float64; rescale the \
+                         coordinates of points and {name} (e.g. kilometres instead of metres) or the weights (e.g. \
+                         thousands of people instead of people)"
+                    ),
+                }
+            }
             Error::InvalidEdge { argument, row, reason } => {
                 format!("{argument}[{}]: {reason}", namer.row(argument, *row))
             }
@@ -347,6 +393,8 @@ impl Error {
             | Error::OutsideRegion { argument, .. }
             | Error::NoCandidate { argument, .. } => argument,
             Error::Uncoverable { .. } => "points",
+            Error::WeightedOverflow { coordinates: None, .. } => "costs",
+            Error::WeightedOverflow { coordinates: Some(_), .. } => "points",
             Error::Shortfall { .. } => "capacities",
             Error::InvalidParameter { name, .. } => name,
             Error::InGroup { source, .. } => source.argument(),
@@ -377,6 +425,26 @@ impl Error {
         match self {
             Error::InGroup { label, .. } => Some(*label),
             _ => None,
+        }
+    }
+
+    /// This error as raised on straight-line costs from coordinates, the candidates given as
+    /// the argument `candidates` (`"candidates"`, `"sites"`): an uncoverable point names
+    /// its nearest candidate's row and distance, and the overflow refusal names the
+    /// coordinates, instead of a cost matrix's column and cost. Other errors come back
+    /// unchanged.
+    pub fn on_coordinates(self, candidates: &'static str) -> Error {
+        match self {
+            Error::Uncoverable { row, radius, column, cost, .. } => {
+                Error::Uncoverable { row, radius, column, cost, coordinates: Some(candidates) }
+            }
+            Error::WeightedOverflow { largest, weight, summed, limit, .. } => {
+                Error::WeightedOverflow { largest, weight, summed, limit, coordinates: Some(candidates) }
+            }
+            Error::InGroup { label, source } => {
+                Error::InGroup { label, source: Box::new(source.on_coordinates(candidates)) }
+            }
+            other => other,
         }
     }
 
@@ -437,5 +505,35 @@ mod tests {
         let e = Error::Degenerate { argument: "points", reason: "all points are collinear".into() }.in_group(4);
         assert_eq!(e.to_string(), "group 4: points: all points are collinear");
         assert!(e.is_degenerate());
+    }
+
+    #[test]
+    fn refusals_on_coordinates_name_rows_and_distances_not_columns_and_costs() {
+        let e = Error::Uncoverable { row: 2, radius: 1.0, column: 1, cost: 6.5, coordinates: None };
+        assert_eq!(
+            e.to_string(),
+            "radius: points[2] has no candidate within radius 1; its cheapest candidate, column 1, costs 6.5"
+        );
+        let e = e.on_coordinates("candidates");
+        assert_eq!(
+            e.to_string(),
+            "radius: points[2] has no candidate within radius 1; its nearest candidate, candidates[1], lies at \
+             distance 6.5"
+        );
+        assert_eq!((e.argument(), e.row()), ("points", Some(2)));
+        let e =
+            Error::WeightedOverflow { largest: 1e306, weight: 3.0, summed: true, limit: 2.5e306, coordinates: None };
+        assert!(e.to_string().starts_with("costs: the largest cost (1e306) times the total weight (3e0) exceeds"));
+        assert_eq!(e.argument(), "costs");
+        let e = e.on_coordinates("candidates").in_group(3);
+        assert!(
+            e.to_string().starts_with(
+                "group 3: points, candidates: distances between points and candidates of up to 1e306 times the \
+                 total weight (3e0) exceed 2.500e306"
+            ),
+            "{e}"
+        );
+        assert!(e.to_string().contains("rescale the coordinates of points and candidates"), "{e}");
+        assert_eq!(e.argument(), "points");
     }
 }

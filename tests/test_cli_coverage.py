@@ -223,7 +223,12 @@ def test_uncoverable_row_is_one_line_naming_the_line(files, capsys):
     # scipy cdist: the first home beyond 1 m of every parcel, and its nearest parcel (CSV line numbers).
     d = cdist(XY, CXY)
     first = int(np.argmax(d.min(axis=1) > 1))
-    assert_user_error(code, err, f"points[{first + 2}]", f"row {int(d[first].argmin()) + 2}", "line numbers")
+    nearest = int(d[first].argmin()) + 2
+    assert_user_error(code, err, f"points[{first + 2}]", f"its nearest candidate, candidates[{nearest}], lies at "
+                      "distance ", "line numbers")
+    # The distance in metres (the CRS's unit), as scipy measures it.
+    said = err.split("lies at distance ")[1].split(" ")[0].rstrip(";,")
+    assert float(said) == pytest.approx(d[first].min(), rel=1e-12), err
 
 
 @pytest.mark.parametrize("command, label", [(["cover-most", "--radius", 2500], "cover_most"),

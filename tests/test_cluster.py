@@ -322,8 +322,26 @@ def test_nearest_site_names_a_column_of_the_tables_it_replaces(client, table):
     # A table with a column of its own called "site" lost it in the result's frame without a
     # word. Reference for the values that replace it: scipy cKDTree's nearest site.
     ordered = table.sort_index().assign(site="depot-row")
-    with pytest.warns(UserWarning, match=r"ddf: the result replaces the table's own column 'site'; rename it"):
+    said = (r"ddf: the result will replace your column 'site' whatever it holds \(the result is computed later, "
+            r"partition by partition, and not compared with it\); drop it first if it is an earlier result, or "
+            r"rename it to keep both")
+    with pytest.warns(UserWarning, match=said):
         result = pc.nearest_site(dd.from_pandas(ordered, npartitions=3), SITES, x="east", y="north")
     frame = result.frame.compute()
     i = cKDTree(SITES).query(ordered[["east", "north"]].to_numpy())[1]
     np.testing.assert_array_equal(frame.loc[ordered.index, "site"].to_numpy(), i)
+
+    # The values are known only once computed, so the warning cannot say they differ (it
+    # said nothing of them, and read as if they did): it comes when the call is made,
+    # without computing the table (a partition that fails when computed proves it), and
+    # says the column is replaced whatever it holds, the table's own earlier result too.
+    def never(*args):
+        raise AssertionError("the table was computed when the call was made")
+
+    lazy = dd.from_delayed([dask.delayed(never)()], meta=frame.iloc[:0])
+    with pytest.warns(UserWarning) as caught:
+        pc.nearest_site(lazy, SITES, x="east", y="north")
+    assert [str(w.message) for w in caught] == [
+        "ddf: the result will replace your columns 'site', 'distance_u' whatever they hold (the result is computed "
+        "later, partition by partition, and not compared with them); drop them first if they are an earlier "
+        "result, or rename them to keep both"]

@@ -482,7 +482,8 @@ def test_coordinate_forms_against_cdist_matrix():
 
 def test_coordinate_forms_refuse_what_they_cannot_do():
     points = [[0.0, 0.0], [1.0, 0.0], [50.0, 0.0]]
-    with pytest.raises(pw.InputError, match=r"points\[2\] has no candidate within radius 5; .* column 0, costs 49"):
+    with pytest.raises(pw.InputError, match=r"points\[2\] has no candidate within radius 5; its nearest "
+                       r"candidate, candidates\[0\], lies at distance 49$"):
         pw.cover_all(points, 5.0, candidates=[[1.0, 0.0]])
     with pytest.raises(pw.InputError, match="meet in more than"):
         pw.cover_all(np.column_stack([np.linspace(0, 1, 3000), np.zeros(3000)]), 5.0)
@@ -714,6 +715,55 @@ def test_structured_errors_carry_the_row() -> None:
     assert "points[1] has no candidate within radius 5; its cheapest candidate, column 1, costs 7" in str(caught.value)
 
 
+def test_coordinate_refusals_name_rows_and_distances_not_columns_and_costs() -> None:
+    # On coordinates the caller wrote no cost matrix: an uncoverable point was refused as
+    # "its cheapest candidate, column j, costs c" and an overflow as "costs: ...". They now
+    # name the candidate's row and its distance in the coordinates' unit, and the
+    # coordinates. Reference: scipy.spatial.distance.cdist for the distances.
+    import re
+
+    from scipy.spatial.distance import cdist
+
+    rng = np.random.default_rng(41)
+    points = np.vstack([rng.uniform(0, 10, (30, 2)), [[40.0, 3.0]]])  # the last one far off
+    candidates = rng.uniform(0, 10, (12, 2))
+    d = cdist(points, candidates)
+    radius = 6.0
+    assert (d.min(axis=1) > radius).tolist() == [False] * 30 + [True]  # exactly one uncoverable: row 30
+    with pytest.raises(pw.InputError) as caught:
+        pw.cover_all(points, radius, candidates=candidates)
+    said = str(caught.value)
+    got = re.fullmatch(r"radius: points\[30\] has no candidate within radius 6; its nearest candidate, "
+                       r"candidates\[(\d+)\], lies at distance (\S+)", said)
+    assert got, said
+    assert int(got[1]) == int(np.argmin(d[30])) and float(got[2]) == pytest.approx(d[30].min(), rel=1e-12)
+    assert (caught.value.argument, caught.value.row) == ("points", 30)
+    assert "column" not in said and "cost" not in said
+    # The cost-matrix form keeps its own words (its columns and costs are the caller's).
+    with pytest.raises(pw.InputError, match=rf"^radius: points\[30\] has no candidate within radius 6; its cheapest "
+                       rf"candidate, column {int(np.argmin(d[30]))}, costs "):
+        discrete.cover_all(d, radius)
+
+    # Weighted distances beyond float64: the p-median (total weight) and the p-center (largest
+    # weight) on coordinates near 1e150 (cdist's squares still finite) and a weight of 1e157.
+    points = np.array([[0.0, 0.0], [1e150, 0.0], [0.0, 1e150]])
+    candidates = np.array([[0.0, 0.0], [1e150, 1e150]])
+    w = np.array([1e157, 1.0, 1.0])
+    top = cdist(points, candidates).max()
+    for model, weight, what in ((pw.p_median, w.sum(), "total"), (pw.p_center, w.max(), "largest")):
+        with pytest.raises(pw.InputError) as caught:
+            model(points, 1, w, candidates=candidates)
+        said = str(caught.value)
+        got = re.match(r"points, candidates: distances between points and candidates of up to (\S+) times the "
+                       rf"{what} weight \((\S+)\) exceed (\S+), beyond which weighted totals overflow float64; "
+                       r"rescale the coordinates of points and candidates \(e\.g\. kilometres instead of metres\) "
+                       r"or the weights", said)
+        assert got, said
+        assert float(got[1]) == pytest.approx(top, rel=1e-12) and float(got[2]) == pytest.approx(weight, rel=1e-15)
+        assert float(got[1]) * float(got[2]) > float(got[3])
+        assert caught.value.argument == "points" and "costs" not in said
+
+
 def test_weighted_costs_that_overflow_are_refused() -> None:
     # 1e10 x 3e300 overflows float64 (numpy: inf): every plan's total would be infinite and
     # alike, so the model cannot honour its objective and says so instead of a gap of 0.
@@ -721,12 +771,10 @@ def test_weighted_costs_that_overflow_are_refused() -> None:
     w = np.array([1e10, 1.0, 1.0])
     with np.errstate(over="ignore"):
         assert np.isinf((w[:, None] * costs).sum(axis=0)).all()
-    for call in (lambda: discrete.p_median(costs, 1, w), lambda: discrete.p_center(costs, 1, w),
-                 lambda: pw.p_median([[0.0, 0.0], [1e300, 0.0], [0.0, 1e300]], 1, [1e10, 1, 1],
-                                     candidates=[[0.0, 0.0], [1e300, 1e300]])):
-        # Coordinates' costs are distances the caller never wrote: the advice names both.
-        with pytest.raises(pw.InputError, match=r"rescale the costs \(or the coordinates they are distances "
-                           r"between\) or the weights") as caught:
+    for call in (lambda: discrete.p_median(costs, 1, w), lambda: discrete.p_center(costs, 1, w)):
+        with pytest.raises(pw.InputError, match=r"^costs: the largest cost \(3e300\) times the (total|largest) "
+                           r"weight .* rescale the costs \(or the coordinates they are distances between\) or the "
+                           r"weights") as caught:
             call()
         assert caught.value.argument == "costs"
     # The same instance in units 1e10 times larger: site 0, by numpy's own totals.

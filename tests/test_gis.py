@@ -1281,6 +1281,149 @@ def test_a_column_of_the_callers_replaced_by_a_result_column_is_named():
         gis.nearest_site(odd, sites.drop(columns="load"), "w")
 
 
+def test_a_plans_own_output_in_nullable_dtypes_is_not_said_to_differ():
+    # The plan's own output fed back in after a round trip through nullable dtypes (as
+    # pandas' convert_dtypes or a file reader gives it: Int64 and Float64 holding pd.NA,
+    # string holding pd.NA, object holding None for NaN) holds the same values: nothing of
+    # the caller's is lost, and nothing is said. Before, the comparison took pd.NA against
+    # NaN or None, and Int64 against float, as a difference. Group "east" has demand but no
+    # site, so its rows have no site (None) and no distance (NaN): missing in every dtype.
+    demand = gpd.GeoDataFrame({"w": [1, 2, 3, 4, 5], "zone": ["west", "west", "west", "east", "east"]},
+                              geometry=gpd.points_from_xy([0, 1, 9, 20, 21], [0, 0, 0, 0, 1]))
+    sites = gpd.GeoDataFrame({"zone": ["west", "west"]}, geometry=gpd.points_from_xy([0, 10], [0, 0]),
+                             index=["A", "B"])
+    plan = gis.nearest_site(demand, sites, "w", by="zone", planar=True, errors="skip")
+    assert plan.demand[["site", "distance_u"]].isna().to_numpy().tolist() == [[False, False]] * 3 + [[True, True]] * 2
+    # The loads are whole numbers (integer weights): Int64 holds them.
+    assert plan.sites["load"].tolist() == [3.0, 3.0] and plan.sites["points"].dtype == np.int64
+
+    nullable_demand = plan.demand.astype({"site": "string", "distance_u": "Float64"})
+    nullable_sites = plan.sites.astype({"load": "Int64", "points": "Int64"})
+    assert nullable_demand["site"].isna().tolist() == [False, False, False, True, True]
+    object_none = plan.demand.assign(site=pd.Series([*plan.demand["site"][:3], None, None], dtype=object))
+    float_points = plan.sites.astype({"points": float})
+    for again_demand, again_sites in ((nullable_demand, nullable_sites), (object_none, float_points)):
+        with warnings.catch_warnings():
+            warnings.simplefilter("error", UserWarning)
+            again = gis.nearest_site(again_demand, again_sites, "w", by="zone", planar=True, errors="skip")
+        assert again.demand["site"].tolist() == plan.demand["site"].tolist()
+
+    # One value changed, in each dtype: the column is named.
+    for column, frame, value in (("site", nullable_demand, "B"), ("distance_u", nullable_demand, 7.5)):
+        changed = frame.copy()
+        changed.loc[0, column] = value
+        with pytest.warns(UserWarning) as caught:
+            gis.nearest_site(changed, nullable_sites, "w", by="zone", planar=True, errors="skip")
+        said = [str(w.message) for w in caught]
+        assert f"demand: the result replaces your column {column!r}, whose values differ; rename it to keep both" \
+            in said, said
+    for column in ("load", "points"):
+        changed = nullable_sites.copy()
+        changed.loc["B", column] = 99
+        with pytest.warns(UserWarning) as caught:
+            gis.nearest_site(nullable_demand, changed, "w", by="zone", planar=True, errors="skip")
+        said = [str(w.message) for w in caught]
+        assert f"sites: the result replaces your column {column!r}, whose values differ; rename it to keep both" \
+            in said, said
+    # A missing value where the result has one (and the reverse) differs too.
+    gone = nullable_demand.copy()
+    gone.loc[1, "distance_u"] = pd.NA
+    with pytest.warns(UserWarning, match="replaces your column 'distance_u', whose values differ"):
+        gis.nearest_site(gone, nullable_sites, "w", by="zone", planar=True, errors="skip")
+
+
+def _geometry_refused_before(monkeypatch, kernel: str, call) -> str:
+    """The refusal of ``call`` with ``placewise.<kernel>`` made to fail if it is ever run."""
+    def solver_run(*args, **kwargs):
+        raise AssertionError(f"{kernel} ran before the refusal")
+
+    monkeypatch.setattr(pw, kernel, solver_run)
+    with pytest.raises(pw.InputError) as caught:
+        call()
+    monkeypatch.undo()
+    return str(caught.value)
+
+
+def _planar_points(x, y, **columns):
+    return gpd.GeoDataFrame(columns, geometry=gpd.points_from_xy(x, y))
+
+
+_HOMES = _planar_points([0, 1, 2, 9, 10], [0, 0, 1, 0, 1], w=[1.0, 2, 1, 1, 3])
+_DEPOTS = _planar_points([0, 10, 5], [0, 0, 1], seats=[6.0, 6.0, 6.0]).set_axis(["n", "s", "m"])
+_BOX = shapely.box(-1, -1, 11, 2)
+# Function, the input it copies (0: the demand, 1: the sites) and the layer holding the
+# copy, its name in messages, the kernel that solves it (placewise.<name>, made to fail),
+# and how to call it on (demand, sites).
+_SOLVED_THEN_COPIED = [
+    ("nearest_site", 0, "demand", "demand", "nearest_site", lambda d, s: gis.nearest_site(d, s, "w", planar=True)),
+    ("nearest_site", 1, "sites", "sites", "nearest_site", lambda d, s: gis.nearest_site(d, s, "w", planar=True)),
+    ("p_median", 0, "demand", "frame", "p_median", lambda d, s: gis.p_median(d, 2, "w", planar=True)),
+    ("p_center", 0, "demand", "frame", "p_center", lambda d, s: gis.p_center(d, 2, "w", planar=True)),
+    ("p_median-candidates", 0, "demand", "frame", "p_median",
+     lambda d, s: gis.p_median(d, 2, "w", candidates=s, planar=True)),
+    ("p_median-capacities", 0, "demand", "frame", "p_median",
+     lambda d, s: gis.p_median(d, 2, "w", capacities="seats", candidates=s, planar=True)),
+    ("cover_all", 0, "demand", "frame", "cover_all", lambda d, s: gis.cover_all(d, 3, "w", candidates=s, planar=True)),
+    ("cover_most", 0, "demand", "frame", "cover_most", lambda d, s: gis.cover_most(d, 1, 3, "w", planar=True)),
+    ("evaluate_sites", 0, "demand", "frame", "evaluate_sites",
+     lambda d, s: gis.evaluate_sites(d, s, "w", planar=True)),
+    ("evaluate_sites-radius", 0, "demand", "frame", "evaluate_sites",
+     lambda d, s: gis.evaluate_sites(d, s, "w", radius=3, planar=True)),
+    ("capacity_allocation", 0, "demand", "demand", "capacity_allocation",
+     lambda d, s: gis.capacity_allocation(d, s, "seats", "w", planar=True)),
+    ("capacity_allocation", 1, "sites", "sites", "capacity_allocation",
+     lambda d, s: gis.capacity_allocation(d, s, "seats", "w", planar=True)),
+    ("capacity_cells", 0, "demand", "demand", "capacity_cells",
+     lambda d, s: gis.capacity_cells(d, s, "seats", "w", region=_BOX, planar=True)),
+    ("capacity_cells", 1, "sites", "sites", "capacity_cells",
+     lambda d, s: gis.capacity_cells(d, s, "seats", "w", region=_BOX, planar=True)),
+]
+
+
+@pytest.mark.parametrize(("what", "which", "layer", "name", "kernel", "run"), _SOLVED_THEN_COPIED,
+                         ids=[f"{case[0]}-{case[3]}" for case in _SOLVED_THEN_COPIED])
+def test_a_geometry_column_named_like_a_result_column_is_refused_before_the_solve(monkeypatch, what, which, layer,
+                                                                                 name, kernel, run):
+    # A geometry column called like a column the result writes onto a copy of the frame
+    # cannot be replaced: it was refused, but only after the solve (which may take long).
+    # The refusal now comes first: the solver is made to fail if it runs. The columns the
+    # message names are those the unhindered run writes (its output's columns beyond the
+    # input's), so the early refusal cannot drift from the result.
+    frames = [_HOMES, _DEPOTS]
+    copied = getattr(run(*frames), layer)
+    written = [c for c in copied.columns if c not in frames[which].columns]
+    assert written
+    for column in written:
+        odd = list(frames)
+        odd[which] = frames[which].rename_geometry(column)
+        said = _geometry_refused_before(monkeypatch, kernel, lambda: run(*odd))
+        assert said == (f"{name}: the geometry column is named {column!r}, the name of a column of the result "
+                        f"({', '.join(written)}); rename it")
+
+
+def test_network_catchments_refuse_a_geometry_named_like_their_columns_before_the_search(monkeypatch):
+    # As the plans above: the refusal came after the network search, and now comes first
+    # (the search is made to fail if it runs). Its columns: those the unhindered run writes.
+    from placewise.gis.travel import network_catchments, travel_graph
+    from placewise.travel import TravelGraph
+
+    streets = gpd.GeoDataFrame(geometry=[shapely.LineString([(0, 0), (300, 0)])], crs="EPSG:32630")
+    homes = gpd.GeoDataFrame({"w": [1.0, 2.0]}, geometry=gpd.points_from_xy([10, 250], [5, -5]), crs="EPSG:32630")
+    depots = gpd.GeoDataFrame(geometry=gpd.points_from_xy([0, 300], [0, 0]), crs="EPSG:32630")
+    graph = travel_graph(streets)
+    written = [c for c in network_catchments(graph, homes, depots).columns if c not in homes.columns]
+
+    def searched(*args, **kwargs):
+        raise AssertionError("the search ran before the refusal")
+
+    monkeypatch.setattr(TravelGraph, "nearest_site", searched)
+    for column in written:
+        with pytest.raises(pw.InputError) as caught:
+            network_catchments(graph, homes.rename_geometry(column), depots)
+        assert str(caught.value) == (f"points: the geometry column is named {column!r}, the name of a column of the "
+                                     f"result ({', '.join(written)}); rename it")
+
+
 def test_catchment_cells_name_the_columns_of_the_callers_they_replace():
     # A sites frame with its own "area_m2" and "load" columns lost them to the cells' without
     # a word (and the nearest-site plan used for the loads spoke of a demand layer the cells

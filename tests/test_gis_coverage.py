@@ -375,7 +375,26 @@ def test_uncoverable_row_names_its_label_and_its_nearest_candidate():
     with pytest.raises(InputError) as info:
         gis.cover_all(demand, 0.5, candidates=candidates, planar=True)
     text = str(info.value)
-    assert f"'h{first}'" in text and f"row 'parcel-{int(d[first].argmin())}'" in text
+    # In the coordinates' words: the candidate's row label and its distance (not a column of
+    # a cost matrix and its cost).
+    head = (f"radius: points['h{first}'] has no candidate within radius 0.5; its nearest candidate, "
+            f"candidates['parcel-{int(d[first].argmin())}'], lies at distance ")
+    assert text.startswith(head) and float(text[len(head):]) == pytest.approx(d[first].min(), rel=1e-12), text
+    assert info.value.row == f"h{first}"
+
+    # Beside existing sites, which follow the candidates in the model: a far row nearest to
+    # an existing one names it in the frame it came from. Reference: cdist again; every
+    # other row lies within 200 of every candidate (both in the 100 x 100 square).
+    far = gpd.GeoDataFrame({"people": [1.0]}, geometry=gpd.points_from_xy([500.0], [0.0]), index=["far"])
+    demand = gpd.GeoDataFrame(np.concatenate([demand.geometry.values, far.geometry.values]),
+                              columns=["geometry"], geometry="geometry", index=[*demand.index, "far"])
+    fixed = gpd.GeoSeries(gpd.points_from_xy([280.0, 50.0], [0.0, 50.0]), index=["depot-a", "depot-b"])
+    reach = cdist([[500.0, 0.0]], np.vstack([cxy, shapely.get_coordinates(fixed.values)]))[0]
+    assert int(reach.argmin()) == len(cxy) and reach.min() == 220 > 200
+    with pytest.raises(InputError) as info:
+        gis.cover_all(demand, 200, candidates=candidates, fixed=fixed, planar=True)
+    assert str(info.value) == ("radius: points['far'] has no candidate within radius 200; its nearest existing "
+                               "site, fixed['depot-a'], lies at distance 220")
 
 
 @settings(max_examples=25)

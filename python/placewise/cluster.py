@@ -381,6 +381,14 @@ def nearest_site(ddf: Any, sites: Any, *, x: str, y: str, weight: str | None = N
     -------
     DistributedAllocation
 
+    Warns
+    -----
+    UserWarning
+        When ``ddf`` has a column named ``site`` or ``distance_u``, when the call is made
+        (not on ``.compute()``): the result's column replaces it whatever it holds. Its
+        values are not compared with the result's, which exist only once computed; drop it
+        first if it is an earlier result, or rename it to keep both.
+
     Raises
     ------
     InputError
@@ -412,12 +420,18 @@ def nearest_site(ddf: Any, sites: Any, *, x: str, y: str, weight: str | None = N
     distance = "distance_u"  # the table's coordinates are planar, in their own unit
     taken = [name for name in ("site", distance) if name in ddf.columns]
     if taken:
-        # Said when the graph is built: the partitions are computed later, elsewhere.
+        # Said when the graph is built, where the caller's code runs: the values are computed
+        # later, partition by partition on the workers (whose warnings a distributed client
+        # never shows), and comparing them here would compute the table. So the warning
+        # cannot know whether they differ, and says that the column is replaced as it is.
         import warnings
 
-        warnings.warn(f"ddf: the result replaces the table's own column{'s' if len(taken) > 1 else ''} "
-                      f"{', '.join(map(repr, taken))}; rename {'them' if len(taken) > 1 else 'it'} to keep both",
-                      UserWarning, stacklevel=2)
+        many = len(taken) > 1
+        warnings.warn(f"ddf: the result will replace your column{'s' if many else ''} {', '.join(map(repr, taken))} "
+                      f"whatever {'they hold' if many else 'it holds'} (the result is computed later, partition by "
+                      f"partition, and not compared with {'them' if many else 'it'}); drop "
+                      f"{'them' if many else 'it'} first if {'they are' if many else 'it is'} an earlier result, or "
+                      f"rename {'them' if many else 'it'} to keep both", UserWarning, stacklevel=2)
     meta = ddf._meta.copy()
     meta["site"] = np.zeros(0, dtype=np.int64)
     meta[distance] = np.zeros(0)

@@ -113,25 +113,14 @@ const WEIGHTED_LIMIT: f64 = f64::MAX / 64.0;
 /// them: refused instead. Weights must be valid already.
 ///
 /// # Errors
-/// [`Error::InvalidParameter`] (`costs`) naming the product and how to rescale.
+/// [`Error::WeightedOverflow`] naming the product and how to rescale.
 fn check_weighted_range(costs: &Costs<'_>, weights: Weights<'_>, summed: bool) -> Result<()> {
     let weight = (0..costs.rows()).map(|i| weights.get(i));
-    let (weight, what) = if summed {
-        (weight.sum::<f64>(), "the total weight")
-    } else {
-        (weight.fold(0.0, f64::max), "the largest weight")
-    };
+    let weight = if summed { weight.sum::<f64>() } else { weight.fold(0.0, f64::max) };
     let top = costs.ceiling();
     // Written so that a NaN product (0 × inf) is refused too.
     if !(top * weight <= WEIGHTED_LIMIT) {
-        return Err(Error::InvalidParameter {
-            name: "costs",
-            reason: format!(
-                "the largest cost ({top:e}) times {what} ({weight:e}) exceeds {WEIGHTED_LIMIT:.3e}, beyond which \
-                 weighted totals overflow float64; rescale the costs (or the coordinates they are distances \
-                 between) or the weights (e.g. kilometres instead of metres, thousands of people instead of people)"
-            ),
-        });
+        return Err(Error::WeightedOverflow { largest: top, weight, summed, limit: WEIGHTED_LIMIT, coordinates: None });
     }
     Ok(())
 }
@@ -496,7 +485,7 @@ mod tests {
             discrete_p_median(&costs, Weights::Given(&w), 1, &[], &options).unwrap_err(),
             discrete_p_center(&costs, Weights::Given(&w), 1, &[], &RunLimits::default()).unwrap_err(),
         ] {
-            assert!(matches!(e, Error::InvalidParameter { name: "costs", .. }), "{e}");
+            assert!(matches!(e, Error::WeightedOverflow { coordinates: None, .. }), "{e}");
             assert!(e.to_string().contains("rescale"), "{e}");
         }
         // Rescaled by 1e-10 (closed form: site 0 costs 1e300 + 3e290 + 1, site 1 costs

@@ -148,7 +148,9 @@ fn with_costs<'py, T: Send>(
                 // The kernel checks the columns as "candidates": checked first under the caller's name.
                 validate_points("points", a, 1)?;
                 validate_points(name, b, 1)?;
-                with_planar_costs(a, b, |c| kernel(c, Weights::from_option(w)))
+                // Refusals in the coordinates' terms: a candidate's row and distance, not a
+                // column and a cost of a matrix the caller never wrote.
+                with_planar_costs(a, b, |c| kernel(c, Weights::from_option(w))).map_err(|e| e.on_coordinates(name))
             });
         }
         return Err(argument_error("costs", "costs must be a matrix of shape (n, m)".to_string()));

@@ -376,6 +376,38 @@ def framed(
     return in_user_terms(out, result, groups, rows, count=count, prepared=prepared)
 
 
+def refuse_geometry_named(frame: Any, columns: Sequence[str], name: str) -> None:
+    """Refuse a frame whose geometry column has the name of one of ``columns``, the columns a
+    result writes onto a copy of it (:func:`annotated`), which cannot replace the geometry.
+
+    Called before solving, so the refusal comes before the (possibly long) run, not after
+    it; ``columns`` are those the result will write, in the order it writes them."""
+    if frame.geometry.name in columns:
+        raise InputError(f"{name}: the geometry column is named {frame.geometry.name!r}, the name of a column "
+                         f"of the result ({', '.join(map(str, columns))}); rename it")
+
+
+def same_values(held: Any, values: Any) -> bool:
+    """True when a caller's column ``held`` holds the values ``values`` (one per row).
+
+    Missing is missing whatever spells it (None, NaN, ``pd.NA``, ``NaT``), and the values
+    are compared as values, whatever the dtypes: an ``Int64`` column of 1, 2 and ``pd.NA``
+    holds the result's 1.0, 2.0 and NaN, a ``string`` column the result's Python strings."""
+    old = pd.Series(held).to_numpy(dtype=object)
+    new = np.asarray(pd.Series(values, dtype=object), dtype=object)
+    if old.shape != new.shape:
+        return False
+    missing = pd.isna(old)
+    if not np.array_equal(missing, pd.isna(new)):
+        return False
+    try:
+        with np.errstate(all="ignore"):
+            equal = old[~missing] == new[~missing]
+        return bool(np.all(np.asarray(equal, dtype=bool)))
+    except (TypeError, ValueError):  # values that do not compare as one truth value
+        return False
+
+
 def annotated(frame: Any, columns: Mapping[str, Any], name: str) -> Any:
     """A copy of the caller's ``frame`` with a result's ``columns`` (name to values, one per
     row) set on it, in order.
@@ -383,14 +415,14 @@ def annotated(frame: Any, columns: Mapping[str, Any], name: str) -> Any:
     A column of the frame that has a result column's name is replaced. When the values it
     held differ from the result's (a column of the caller's own that happens to be called
     ``site`` or ``load``, not the result of an earlier run of the same plan), a warning
-    names it, so a column of the caller's is never lost without a word; the geometry column
-    cannot be replaced.
+    names it, so a column of the caller's is never lost without a word; values are compared
+    as values (:func:`same_values`: missing equals missing, ``Int64`` holds the result's
+    integers or floats alike). The geometry column cannot be replaced: refused here, and by
+    the functions that solve first with :func:`refuse_geometry_named` before the solve.
     """
     import warnings
 
-    if frame.geometry.name in columns:
-        raise InputError(f"{name}: the geometry column is named {frame.geometry.name!r}, the name of a column "
-                         f"of the result ({', '.join(map(str, columns))}); rename it")
+    refuse_geometry_named(frame, list(columns), name)
     twice = sorted({str(key) for key in columns if (frame.columns == key).sum() > 1})
     if twice:
         raise InputError(f"{name}: more than one of your columns is named {', '.join(map(repr, twice))}, the "
@@ -398,8 +430,7 @@ def annotated(frame: Any, columns: Mapping[str, Any], name: str) -> Any:
     out = frame.copy()
     replaced = []
     for key, values in columns.items():
-        if key in out.columns and not pd.Series(out[key].to_numpy(dtype=object)).equals(
-                pd.Series(np.asarray(values, dtype=object))):
+        if key in out.columns and not same_values(out[key], values):
             replaced.append(key)
         out[key] = values
     if replaced:

@@ -13,7 +13,7 @@ import placewise as _pw
 from .._errors import labelled
 from ._columns import column
 from ._crs import MAX_SCALE_ERROR
-from ._frames import annotated, call, framed, in_user_terms, prepare, weights, with_unit
+from ._frames import annotated, call, framed, in_user_terms, prepare, refuse_geometry_named, weights, with_unit
 from ._together import region_geometry
 
 __all__ = ["AllocationLayers", "CellLayers", "capacity_allocation", "capacity_cells"]
@@ -129,6 +129,9 @@ def capacity_allocation(
     sf = prepare(sites, "sites", planar=planar, centroids=centroids, **model)
     df = prepare(demand, "demand", planar=planar, centroids=centroids, work=sf.work, **model)
     caps = column(sf.frame, capacity, "sites", "capacity")
+    # A geometry column the result's columns would replace: refused before the solve.
+    refuse_geometry_named(sf.frame, ["capacity", "load", "slack", f"price_{df.unit}"], "sites")
+    refuse_geometry_named(df.frame, ["site", "share", f"distance_{df.unit}", f"cost_{df.unit}", "unserved"], "demand")
     rows = {"points": df.rows, "weights": df.rows, "sites": sf.rows, "capacities": sf.rows}
     result = call(_pw.capacity_allocation, df.xy, sf.xy, caps, weights(df, weight, "demand"), rows=rows,
                   split=split, allow_unserved=allow_unserved, time_limit=time_limit, progress=progress)
@@ -208,6 +211,8 @@ def capacity_cells(
     sf = prepare(sites, "sites", planar=planar, centroids=centroids, work=df.work, **model)
     caps = column(sf.frame, capacity, "sites", "capacity")
     geom = region_geometry(region, df, "demand")
+    refuse_geometry_named(sf.frame, ["capacity", "load", "slack", f"power_{df.unit}2"], "sites")
+    refuse_geometry_named(df.frame, ["site", "share", f"cost_{df.unit}2"], "demand")
     rows = {"points": df.rows, "weights": df.rows, "sites": sf.rows, "capacities": sf.rows}
     result = with_unit(call(_pw.capacity_cells, df.xy, sf.xy, caps, weights(df, weight, "demand"), region=geom,
                             tol=tol, rows=rows, time_limit=time_limit, progress=progress), df)

@@ -26,7 +26,7 @@ import placewise as _pw
 from .._core import InputError
 from .._errors import labelled, plain
 from ._crs import MAX_SCALE_ERROR
-from ._frames import Prepared, annotated, call, in_user_terms, weights, with_unit
+from ._frames import Prepared, annotated, call, in_user_terms, refuse_geometry_named, weights, with_unit
 from ._together import prepare_together
 
 __all__ = ["cover_all", "cover_most", "evaluate_sites"]
@@ -97,6 +97,13 @@ def selection_plan(result: Any, pf: Prepared, sources: Sources) -> Any:
     return SitePlan(sites, demand, in_user_terms(summary, result, None, prepared=pf))
 
 
+def refuse_geometry_before(pf: Prepared, radius: bool) -> None:
+    """Refuse, before the solve, a demand frame whose geometry column has the name of a
+    column :func:`selection_plan` writes onto it (with a radius: the coverage ones too)."""
+    covering = ["covered", "covering"] if radius else []
+    refuse_geometry_named(pf.frame, ["site", f"distance_{pf.unit}", *covering], "frame")
+
+
 def _radius(radius: Any) -> float:
     """A coverage radius: a finite number above zero (checked here so the message names it
     in this layer's terms, units included)."""
@@ -110,19 +117,38 @@ def _radius(radius: Any) -> float:
 
 
 def _candidate_named(exc: InputError, cf: Prepared | None, ff: Prepared | None) -> InputError:
-    """``exc`` with the kernel's candidate column (a position among the candidates, then the
-    existing sites) named by its frame and row label, as every other row in the message is."""
-    if cf is None:
-        # Sites anywhere: the column indexes the dominating set, whose size is not known
-        # here (and every point is a candidate there, so no point is left uncovered).
+    """``exc`` with an uncoverable point's nearest candidate named by its frame and row label.
+
+    The coordinate models name it ``candidates[j]`` (restated by :func:`call` with the
+    candidates' row labels); here the candidates are followed by the existing sites, so a
+    position past the candidates is an existing site, named as ``fixed`` and its label."""
+    detail = getattr(exc, "detail", None)
+    if cf is None or ff is None or detail is None:
+        # Without existing sites every position is a candidate's, named already; sites
+        # anywhere: every point is a candidate, so no point is left uncovered.
         return exc
-    return with_candidate_labels(exc, cf.rows, None if ff is None else ff.rows)
+    positions = detail.describe(str, lambda argument, row: str(row))
+    match = re.search(r"its nearest candidate, candidates\[(\d+)\]", positions)
+    if match is None or int(match[1]) < len(cf.rows):
+        return exc
+    k = int(match[1]) - len(cf.rows)
+    text = str(exc).replace(f"its nearest candidate, candidates[{match[1]}]",
+                            f"its nearest existing site, fixed[{plain(ff.rows[k])!r}]")
+    return _with_attributes(type(exc)(text), exc)
+
+
+def _with_attributes(out: InputError, exc: InputError) -> InputError:
+    for name in ("argument", "group", "row", "detail"):
+        if hasattr(exc, name):
+            setattr(out, name, getattr(exc, name))
+    return out
 
 
 def with_candidate_labels(exc: InputError, rows: np.ndarray, fixed_rows: np.ndarray | None = None) -> InputError:
-    """``exc`` with the kernel's candidate column named by its row label: a column below
-    ``len(rows)`` is a candidate of row label ``rows[column]``, the next ones the existing
-    sites of ``fixed_rows``; other errors come back unchanged."""
+    """``exc`` of a cost-matrix model (network costs) with the kernel's candidate column named
+    by its row label: a column below ``len(rows)`` is a candidate of row label
+    ``rows[column]``, the next ones the existing sites of ``fixed_rows``; other errors come
+    back unchanged."""
     text = str(exc)
     match = re.search(r"cheapest candidate, column (\d+)", text)
     if match is None:
@@ -135,11 +161,7 @@ def with_candidate_labels(exc: InputError, rows: np.ndarray, fixed_rows: np.ndar
         named = f"nearest existing site, fixed row {plain(fixed_rows[column - offered])!r}"
     else:
         return exc
-    out = type(exc)(text.replace(match[0], named))
-    for name in ("argument", "group", "row", "detail"):
-        if hasattr(exc, name):
-            setattr(out, name, getattr(exc, name))
-    return out
+    return _with_attributes(type(exc)(text.replace(match[0], named)), exc)
 
 
 def _sites_offered(cf: Prepared | None, ff: Prepared | None) -> tuple[Any, Any, dict[str, Any]]:
@@ -264,6 +286,7 @@ def cover_all(
                                       centroids=centroids, **model)
     cf, ff = companions.get("candidates"), companions.get("fixed")
     where, existing, rows = _sites_offered(cf, ff)
+    refuse_geometry_before(pf, radius=True)
     try:
         result = call(_pw.cover_all, pf.xy, radius, rows={**_rows(pf), **rows, "radius": pf.rows},
                       weights=weights(pf, weight, "frame"), candidates=where, fixed=existing,
@@ -337,6 +360,7 @@ def cover_most(
                                       centroids=centroids, **model)
     cf, ff = companions.get("candidates"), companions.get("fixed")
     where, existing, rows = _sites_offered(cf, ff)
+    refuse_geometry_before(pf, radius=True)
     result = call(_pw.cover_most, pf.xy, p, radius, weights(pf, weight, "frame"), rows={**_rows(pf), **rows},
                   candidates=where, fixed=existing, time_limit=time_limit, progress=progress)
     return selection_plan(result, pf, _sources(result, cf, ff))
@@ -386,6 +410,7 @@ def evaluate_sites(
     pf, companions = prepare_together(frame, "frame", {"sites": sites_frame}, planar=planar, centroids=centroids,
                                       **model)
     sf = companions["sites"]
+    refuse_geometry_before(pf, radius=radius is not None)
     result = call(_pw.evaluate_sites, pf.xy, sf.xy, weights(pf, weight, "frame"), radius=radius,
                   rows={**_rows(pf), "sites": sf.rows})
     sources = Sources()

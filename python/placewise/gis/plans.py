@@ -21,6 +21,7 @@ from ._frames import (
     call,
     in_user_terms,
     prepare,
+    refuse_geometry_named,
     weights,
     with_unit,
 )
@@ -68,6 +69,11 @@ def _demand_layer(pf: Prepared, result: Any, site_labels: np.ndarray, name: str)
         for name in points.columns.drop(["assignment", distance]):
             columns[name] = points[name].to_numpy()
     return annotated(pf.frame, columns, name)
+
+
+def _demand_columns(pf: Prepared, capacitated: bool = False) -> list[str]:
+    """The columns :func:`_demand_layer` writes onto the demand frame, known before the solve."""
+    return ["site", f"distance_{pf.unit}", *(["share", f"cost_{pf.unit}", "unserved"] if capacitated else [])]
 
 
 def _summary(result: Any, pf: Prepared, groups: Any, rows: Any) -> Any:
@@ -121,6 +127,9 @@ def nearest_site(
     df = prepare(demand, "demand", planar=planar, centroids=centroids, work=ELLIPSOID if sf.ellipsoid else sf.work,
                  **model)
     kernel = _geodesic.nearest_site if sf.ellipsoid else _pw.nearest_site
+    # A geometry column the result's columns would replace: refused before the solve.
+    refuse_geometry_named(sf.frame, ["load", "points"], "sites")
+    refuse_geometry_named(df.frame, _demand_columns(df), "demand")
     rows = {"points": df.rows, "weights": df.rows, "sites": sf.rows}
     w = weights(df, weight, "demand")
     groups = None
@@ -185,6 +194,7 @@ def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bo
             options["fixed_groups"] = codes
     grouped = {} if groups is None else {"errors": errors}
     kernel = _pw.p_median if kind == "median" else _pw.p_center
+    refuse_geometry_named(pf.frame, _demand_columns(pf, options.get("capacities") is not None), "frame")
     result = call(kernel, pf.xy, p, weights(pf, weight, "frame"), groups=groups, rows=rows, **grouped, **options)
     sites = with_unit(result, pf).sites_frame()
     if cf is not None:
@@ -222,6 +232,7 @@ def _plan_on_candidates(kind: str, frame: Any, p: int, weight: Any, by: str | No
         sources.add("fixed", ff)
     kernel = _pw.p_median if kind == "median" else _pw.p_center
     rows = {"points": pf.rows, "weights": pf.rows}
+    refuse_geometry_named(pf.frame, _demand_columns(pf), "frame")
     result = call(kernel, pf.xy, p, weights(pf, weight, "frame"), candidates=where, rows=rows, **options, **watch)
     return selection_plan(result, pf, sources)
 

@@ -19,7 +19,7 @@ from .._core import InputError
 from .._errors import restate
 from ..travel import TravelGraph
 from ._columns import as_frame, column
-from ._frames import annotated
+from ._frames import annotated, refuse_geometry_named
 
 __all__ = ["network_catchments", "network_reach", "travel_costs", "travel_graph"]
 
@@ -142,11 +142,12 @@ def network_catchments(graph: TravelGraph, points: Any, sites: Any, *, weight: s
     s, s_labels = _points(graph, sites, "sites")
     weights = None if weight is None else column(frame, weight, "points", "weight")
     labels = {"points": p_labels, "sites": s_labels, "weights": p_labels}
+    columns = ["site", "reachable", f"cost_{graph.unit}", f"gap_{graph.length_unit}"]
+    refuse_geometry_named(frame, columns, "points")  # before the search, not after it
     result = _restated(lambda: graph.nearest_site(p, s, weights, limit=limit, max_gap=max_gap), labels)
     site = np.full(len(p), None, dtype=object)
     site[result.reachable] = s_labels[result.site[result.reachable]]
-    return annotated(frame, {"site": site, "reachable": result.reachable, f"cost_{graph.unit}": result.cost,
-                             f"gap_{graph.length_unit}": result.point_gap}, "points")
+    return annotated(frame, dict(zip(columns, [site, result.reachable, result.cost, result.point_gap])), "points")
 
 
 def network_reach(graph: TravelGraph, sites: Any, limit: float, *, max_gap: float | None = None) -> Any:

@@ -169,7 +169,7 @@ pub fn cover_all(
     if let Some(a) = incidence.uncoverable() {
         let i = demand[a];
         let (column, cost) = costs.cheapest(i);
-        return Err(Error::Uncoverable { row: i, radius, column, cost });
+        return Err(Error::Uncoverable { row: i, radius, column, cost, coordinates: None });
     }
     steps.step();
     incidence.drop_dominated(&|| clock.stop());
