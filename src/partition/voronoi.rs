@@ -125,7 +125,8 @@ impl VoronoiCells {
     }
 }
 
-/// The default region: the sites' bounding box grown by 10 % on every side.
+/// The default region: the sites' bounding box grown by 10 % on every side (by at least
+/// 2^-20 of its longest side, and by a tenth of it across a flat box).
 pub(crate) fn default_rings(sites: &[Point]) -> Result<Vec<Vec<Point>>> {
     let b = BoundingBox::of(sites).expect("sites validated non-empty");
     let (w, h) = (b.max[0] - b.min[0], b.max[1] - b.min[1]);
@@ -138,7 +139,11 @@ pub(crate) fn default_rings(sites: &[Point]) -> Result<Vec<Vec<Point>>> {
             reason: "the sites' bounding box has no extent (all sites coincide); pass a region".into(),
         });
     }
-    let (dx, dy) = (if w > 0.0 { 0.1 * w } else { grow }, if h > 0.0 { 0.1 * h } else { grow });
+    // A nearly flat box grows across by at least 2^-20 of its length, far above the weld's
+    // reach (2^-40 of the region's size), so its cells keep their area.
+    let floor = grow * 2f64.powi(-20);
+    let (dx, dy) =
+        (if w > 0.0 { (0.1 * w).max(floor) } else { grow }, if h > 0.0 { (0.1 * h).max(floor) } else { grow });
     let (lo, hi) = ([b.min[0] - dx, b.min[1] - dy], [b.max[0] + dx, b.max[1] + dy]);
     Ok(vec![vec![lo, [hi[0], lo[1]], hi, [lo[0], hi[1]]]])
 }
@@ -295,6 +300,8 @@ type Edge = GeomWithData<Line<Point>, ()>;
 /// of its edges.
 struct ClipRegion {
     shapes: Vec<Vec<Vec<Point>>>,
+    /// The area of `shapes` (local units).
+    area: f64,
     edges: RTree<Edge>,
     adapter: FloatPointAdapter<Point, i64>,
     max_x: f64,
@@ -322,7 +329,7 @@ impl ClipRegion {
             .flat_map(|ring| (0..ring.len()).map(move |k| Line::new(ring[k], ring[(k + 1) % ring.len()])))
             .map(|line| GeomWithData::new(line, ()))
             .collect();
-        Ok(ClipRegion { shapes, edges: RTree::bulk_load(segments), adapter, max_x: bounds.max[0] })
+        Ok(ClipRegion { shapes, area, edges: RTree::bulk_load(segments), adapter, max_x: bounds.max[0] })
     }
 
     /// Point-in-region by crossing parity of a ray towards +x (exact orientation tests).
@@ -591,13 +598,45 @@ fn cells_within(sites: &[Point], rings: Option<&[Vec<Point>]>, watch: &Watch) ->
     // The cuts and the cells written; the triangulation plans its own steps.
     watch.plan(2 * sites.len() as u64);
     let (offsets, adjacent) = neighbours(sites, watch)?;
-    clipped_cells(sites, rings, watch, |frame| {
+    clipped_cells(sites, rings, true, watch, |frame| {
         let scratch = || (Vec::with_capacity(16), Vec::with_capacity(16));
         let cut = |buffers: &mut _, i: usize| {
             convex_cell(i, &frame.sites, &adjacent[offsets[i]..offsets[i + 1]], &frame.start, buffers)
         };
         // A cancelled outcome is told by the watch (`clipped_cells` looks right after).
         each_watched(sites.len(), watch, "sites", scratch, cut).unwrap_or_default()
+    })
+}
+
+/// Largest share of the region's area the cells may fail to cover (they tile it): cuts
+/// lose about 1e-14 of it; a region thinner than the weld's reach loses most of it.
+const TILING_TOLERANCE: f64 = 1e-6;
+
+/// Refuse a Voronoi cell that came out empty although its site lies in the region (a
+/// Voronoi cell always holds its site): a cell narrower than the weld's reach (2^-40 of the
+/// region's size) was welded away. Names the site and the distance to its nearest site.
+fn lost_cell(
+    sites: &[Point],
+    frame: &WorkingFrame,
+    weld_reach: f64,
+    pieces: &[Vec<Vec<Vec<Point>>>],
+    in_region: impl Fn(Point) -> bool,
+) -> Result<()> {
+    let Some(i) = (0..sites.len()).find(|&i| pieces[i].is_empty() && in_region(frame.to_local(sites[i]))) else {
+        return Ok(());
+    };
+    let nearest = (0..sites.len())
+        .filter(|&j| j != i)
+        .map(|j| crate::geometry::distance(sites[i], sites[j]))
+        .fold(f64::INFINITY, f64::min);
+    Err(Error::Degenerate {
+        argument: "sites",
+        reason: format!(
+            "the cell of sites[{i}] is lost: its nearest site lies {nearest:.3e} away, about the {:.3e} to which a \
+             region this large is cut at double precision (2^-40 of its size); pass a smaller region around \
+             these sites",
+            frame.world_length(weld_reach)
+        ),
     })
 }
 
@@ -625,6 +664,7 @@ pub(super) struct CellFrame {
 pub(super) fn clipped_cells(
     sites: &[Point],
     rings: Option<&[Vec<Point>]>,
+    cells_hold_their_sites: bool,
     watch: &Watch,
     convex: impl FnOnce(&CellFrame) -> Vec<Vec<Point>>,
 ) -> Result<VoronoiCells> {
@@ -650,6 +690,7 @@ pub(super) fn clipped_cells(
     let start = [b.min, [b.max[0], b.min[1]], b.max, [b.min[0], b.max[1]]];
     let rectangle = is_axis_rectangle(rings);
     let clip_region = if rectangle { None } else { Some(ClipRegion::new(&local_rings, b)?) };
+    let region_area = clip_region.as_ref().map_or((b.max[0] - b.min[0]) * (b.max[1] - b.min[1]), |r| r.area);
 
     let convex: Vec<Vec<Point>> = convex(&CellFrame { frame, sites: local_sites, start });
     stop()?;
@@ -657,7 +698,9 @@ pub(super) fn clipped_cells(
     // 2^-40 of the region's size: far above the rounding of independently computed copies of
     // one vertex, far below any feature of a meaningful region. Welding before the region cut
     // hands the clipper bit-identical shared edges, so it cuts them alike in both cells.
-    let mut welder = Welder::new((b.max[0] - b.min[0]).max(b.max[1] - b.min[1]) * 2f64.powi(-40));
+    let size = (b.max[0] - b.min[0]).max(b.max[1] - b.min[1]);
+    let weld_reach = size * 2f64.powi(-40);
+    let mut welder = Welder::new(weld_reach);
     let mut convex = convex;
     for block in convex.chunks_mut(CELL_BLOCK) {
         stop()?;
@@ -693,6 +736,30 @@ pub(super) fn clipped_cells(
         }
     };
 
+    // Each cell's area in local units, summed over its pieces (holes count negative).
+    // Folded from +0.0, not summed (which starts at -0.0): an empty cell's area is 0.
+    let local_areas: Vec<f64> =
+        pieces.iter().map(|cell| cell.iter().flatten().fold(0.0, |a, ring| a + ring_signed_area(ring))).collect();
+    let covered: f64 = local_areas.iter().sum();
+    if region_area.is_finite() && (covered - region_area).abs() > TILING_TOLERANCE * region_area {
+        // Cells tile the region; cuts that lose a share of it were below the weld's reach.
+        return Err(Error::Degenerate {
+            argument: "region",
+            reason: format!(
+                "the cells cover {:.4} % of the region's area, not all of it: the region is too thin for its length \
+                 to be cut at double precision (its area is {:.1e} of the square of its longest side); pass a wider \
+                 region",
+                100.0 * covered / region_area,
+                region_area / (size * size)
+            ),
+        });
+    }
+    if cells_hold_their_sites {
+        lost_cell(sites, &frame, weld_reach, &pieces, |p| match &clip_region {
+            None => (b.min[0]..=b.max[0]).contains(&p[0]) && (b.min[1]..=b.max[1]).contains(&p[1]),
+            Some(region) => region.contains(p),
+        })?;
+    }
     let total_vertices = pieces.iter().flatten().flatten().map(Vec::len).sum();
     let mut cells = VoronoiCells {
         vertices: Vec::with_capacity(total_vertices),
@@ -702,15 +769,13 @@ pub(super) fn clipped_cells(
         exterior: Vec::new(),
     };
     cells.offsets.push(0);
-    for (k, cell) in pieces.iter().enumerate() {
+    for (k, (cell, &area)) in pieces.iter().zip(&local_areas).enumerate() {
         if k % CELL_BLOCK == 0 {
             stop()?;
             watch.advance(CELL_BLOCK.min(pieces.len() - k) as u64);
         }
-        let mut area = 0.0;
         for piece in cell {
             for (r, ring) in piece.iter().enumerate() {
-                area += ring_signed_area(ring);
                 cells.vertices.extend(ring.iter().map(|&p| frame.to_world(p)));
                 cells.parts.push(cells.vertices.len());
                 cells.exterior.push(r == 0);
@@ -727,6 +792,54 @@ pub(super) fn clipped_cells(
 mod tests {
     use super::*;
     use crate::partition::testing::lcg_cloud;
+
+    fn square(half: f64) -> Vec<Point> {
+        vec![[-half, -half], [half, -half], [half, half], [-half, half]]
+    }
+
+    #[test]
+    fn a_cell_below_the_weld_is_refused_not_dropped() {
+        // Closed form: the Voronoi cell of (0, 0) among (±1, 0) and (0, ±1) is the unit
+        // square |x|, |y| <= 0.5. In a region 2e9 across it has area 1; in one 2e12 across it
+        // is narrower than the weld (2^-40 of 2e12 is 1.82) and came out empty, without a word.
+        let sites = [[0.0, 0.0], [1.0, 0.0], [0.0, 1.0], [-1.0, 0.0], [0.0, -1.0]];
+        let near = square(1e9);
+        let cells = voronoi_cells(&sites, Some(Region { vertices: &near, ring_offsets: &[0, 4] })).unwrap();
+        assert!((cells.area[0] - 1.0).abs() < 1e-6, "{}", cells.area[0]);
+        assert!((cells.area.iter().sum::<f64>() - 4e18).abs() <= 1e-9 * 4e18);
+        let far = square(1e12);
+        let e = voronoi_cells(&sites, Some(Region { vertices: &far, ring_offsets: &[0, 4] })).unwrap_err();
+        assert!(matches!(e, Error::Degenerate { argument: "sites", .. }), "{e:?}");
+        assert!(
+            e.to_string().starts_with("sites: the cell of sites[0] is lost: its nearest site lies 1.000e0 away"),
+            "{e}"
+        );
+        // The same region cut by the clipper (an L shape, not a rectangle) finds it too.
+        let l_shape = [[-1e12, -1e12], [1e12, -1e12], [1e12, 0.5e12], [0.5e12, 1e12], [-1e12, 1e12]];
+        let e = voronoi_cells(&sites, Some(Region { vertices: &l_shape, ring_offsets: &[0, 5] })).unwrap_err();
+        assert!(e.to_string().contains("the cell of sites[0] is lost"), "{e}");
+    }
+
+    #[test]
+    fn a_region_too_thin_to_cut_is_refused_and_a_flat_default_box_is_widened() {
+        // A strip 2e12 long and 1 high: thinner than the weld (2^-40 of its length), every
+        // cell came out empty. Reference: the cells tile the region, so their areas must sum
+        // to its area (2e12).
+        let sites = [[-5e11, 0.5], [0.0, 0.5], [5e11, 0.5]];
+        let strip = [[-1e12, 0.0], [1e12, 0.0], [1e12, 1.0], [-1e12, 1.0]];
+        let e = voronoi_cells(&sites, Some(Region { vertices: &strip, ring_offsets: &[0, 4] })).unwrap_err();
+        assert!(matches!(e, Error::Degenerate { argument: "region", .. }), "{e:?}");
+        assert!(e.to_string().contains("too thin for its length"), "{e}");
+        // Without a region, sites nearly on one line: the box grown by 10 % of its height was
+        // as thin, and every cell was empty. Now it grows across by 2^-20 of its length.
+        let flat = [[-1e12, 0.0], [0.0, 0.0], [1e12, 0.0], [0.0, 1.0]];
+        let cells = voronoi_cells(&flat, None).unwrap();
+        let across = 0.1 * 2e12 * 2f64.powi(-20);
+        let box_area = 2.4e12 * (1.0 + 2.0 * across);
+        let total: f64 = cells.area.iter().sum();
+        assert!((total - box_area).abs() <= 1e-9 * box_area, "{total} against {box_area}");
+        assert!(cells.area.iter().all(|&a| a > 0.0), "{:?}", cells.area);
+    }
 
     #[test]
     fn watched_cells_count_three_steps_per_site_and_a_cancel_leaves_no_answer() {

@@ -144,7 +144,8 @@ fn cells_within(sites: &[Point], powers: &[f64], rings: Option<&[Vec<Point>]>) -
     let mut triangulation = None;
     let mut overflow = None;
     let mut collapsed = None;
-    let cells = clipped_cells(sites, rings, &Watch::new(), |cf| {
+    // A power cell need not hold its site (nor be non-empty), so only the tiling is checked.
+    let cells = clipped_cells(sites, rings, false, &Watch::new(), |cf| {
         // Powers are squared lengths: they scale by the frame's factor squared, applied once
         // and again: the square itself is subnormal (losing digits) for extents beyond 2^511
         // and zero beyond 2^537, where every power would vanish and the cells be Voronoi cells.
