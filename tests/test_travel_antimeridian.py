@@ -276,6 +276,12 @@ def test_station_lines_by_the_pole_join_there_and_points_attach_as_brute_force_s
     assert np.array_equal(np.isnan(ours), np.isinf(expected))
     ok = np.isfinite(expected)
     np.testing.assert_allclose(ours[ok], expected[ok], rtol=1e-7, atol=2e-2)
+    # Reach and catchment pieces by the pole: each piece as long by pyproj.Geod.line_length
+    # as its cost grows along it (costs are lengths here), and within the limit.
+    for pieces in (g.reach(points[[2, 16]], 12000.0), g.catchment_edges(points[[2, 16]])):
+        lengths = [GEOD.line_length(*pieces.coords[a:b].T) for a, b in zip(pieces.offsets, pieces.offsets[1:])]
+        np.testing.assert_allclose(lengths, np.abs(pieces.cost_end - pieces.cost_start), rtol=1e-7, atol=1e-3)
+    assert (g.reach(points[[2, 16]], 12000.0).cost_end <= 12000.0 * (1 + 1e-12)).all()
 
 
 def test_segments_over_or_near_a_pole_are_refused_by_row():

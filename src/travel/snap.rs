@@ -295,8 +295,8 @@ impl<'g> SegmentIndex<'g> {
     /// the current point `q`, where the segment runs along `v = dq/dt` (metres east and north:
     /// its longitude and latitude spans times the parallel's and the meridian's radii of
     /// curvature at `q`) and `point` lies `s` away in the direction `e` of the geodesic from
-    /// `q` (Karney 2013's inverse problem): `t += s (e · v) / |v|²`, until the step is below a
-    /// nanometre, `t` held in [0, 1]. At the nearest point inside the segment the geodesic to
+    /// `q` (Karney 2013's inverse problem, by the geodesic family's quick Newton loop):
+    /// `t += s (e · v) / |v|²`, until the step is below a nanometre, `t` held in [0, 1]. At the nearest point inside the segment the geodesic to
     /// `point` meets it at a right angle (`e · v = 0`).
     fn nearest_on_earth(&self, point: Point, n: u32, t: f64) -> (f64, f64) {
         let seg = self.segments[n as usize];
@@ -306,7 +306,7 @@ impl<'g> SegmentIndex<'g> {
         let earth = self.earth;
         let e2 = WGS84_F * (2.0 - WGS84_F);
         let mut t = t;
-        let mut seen = earth.seen_from(self.graph.point_on_segment(a, b, t), point);
+        let mut seen = earth.seen_from_quickly(self.graph.point_on_segment(a, b, t), point);
         for _ in 0..50 {
             if seen.distance == 0.0 {
                 break;
@@ -321,12 +321,11 @@ impl<'g> SegmentIndex<'g> {
                 break;
             }
             let next = (t + seen.distance * dot(seen.direction, v) / v2).clamp(0.0, 1.0);
-            let moved = (next - t).abs() * v2.sqrt();
-            t = next;
-            seen = earth.seen_from(self.graph.point_on_segment(a, b, t), point);
-            if !(moved > 1e-9) {
+            if !((next - t).abs() * v2.sqrt() > 1e-9) {
                 break;
             }
+            t = next;
+            seen = earth.seen_from_quickly(self.graph.point_on_segment(a, b, t), point);
         }
         (t, seen.distance)
     }
