@@ -302,6 +302,11 @@ def test_segments_over_or_near_a_pole_are_refused_by_row():
     assert GEOD.inv(0.0, 0.0, 180.0, 0.0)[2] < 2 * np.pi * 6378137.0 / 2
     with pytest.raises(pw.InputError, match=r"lines\[0\].*antipodal"):
         pw.TravelGraph.from_lines([[(0.0, 0.0), (180.0, 0.0)]], geodesic=True)
+    # A segment from the pole under another longitude than its other end's (pyproj.Geod.inv:
+    # the geodesic reaches (180, 89.9) heading due north, along that end's meridian).
+    assert GEOD.inv(0.0, 90.0, 180.0, 89.9)[1] == pytest.approx(0.0, abs=1e-9)
+    with pytest.raises(pw.InputError, match=r"lines\[0\].*give the pole the longitude"):
+        pw.TravelGraph.from_lines([[(0.0, 90.0), (180.0, 89.9)]], geodesic=True)
     # The same street split along the meridians through the pole is followed.
     g = pw.TravelGraph.from_lines([[(0.0, 89.9), (0.0, 90.0)], [(180.0, 90.0), (180.0, 89.9)]], geodesic=True)
     assert g.costs([[0.0, 89.9]], [[180.0, 89.9]])[0, 0] == pytest.approx(GEOD.line_length([0, 180], [89.9, 89.9]),

@@ -123,23 +123,31 @@ impl TravelGraph {
                 for (k, w) in line.windows(2).enumerate() {
                     let off = departure(w[0], w[1]);
                     if off > MAX_DEPARTURE {
-                        let why = if off.is_finite() {
+                        let why = if w[0][1].abs() == 90.0 || w[1][1].abs() == 90.0 {
+                            format!(
+                                "it meets a pole under another longitude than its other end's, so drawn straight \
+                                 in longitude/latitude it strays from the geodesic (a meridian) between its ends by \
+                                 {:.1}% of its length: give the pole the longitude of the segment's other end",
+                                100.0 * off
+                            )
+                        } else if off.is_finite() {
                             format!(
                                 "drawn straight in longitude/latitude it strays from the geodesic between its ends \
                                  (which its length measures) by {:.1}% of its length, more than {}% (it passes over \
-                                 or near a pole, or is long for its latitude)",
+                                 or near a pole, or is long for its latitude): add vertices along it, or project \
+                                 the lines (to a polar CRS such as EPSG:3413 or EPSG:3031 near a pole)",
                                 100.0 * off,
                                 100.0 * MAX_DEPARTURE
                             )
                         } else {
-                            "its ends are (nearly) antipodal, so no one geodesic joins them".to_string()
+                            "its ends are (nearly) antipodal, so no one geodesic joins them: add vertices along it"
+                                .to_string()
                         };
                         return Err(Error::InvalidEdge {
                             argument: "lines",
                             row,
                             reason: format!(
-                                "segment {k}, from ({}, {}) to ({}, {}): {why}; add vertices along it, or project \
-                                 the lines to a polar CRS (such as EPSG:3413 or EPSG:3031) near a pole",
+                                "segment {k}, from ({}, {}) to ({}, {}): {why}",
                                 w[0][0], w[0][1], w[1][0], w[1][1]
                             ),
                         });
