@@ -31,7 +31,8 @@ use crate::partition::{grouped_by_kernel, Allocation, SiteAllocations};
 
 /// Longitude/latitude checks, shared with the families that take lon/lat input (travel).
 pub(crate) use earth::validate_lonlat;
-use earth::Earth;
+/// Longitude reduction and unit vectors, shared with the travel family's lon/lat shapes.
+pub(crate) use earth::{angle_between, normalised_longitude, unit_normal, Earth, WGS84_A, WGS84_F};
 pub use minimax::{CenterOptions, GeodesicCenter};
 pub use sphere::{
     sphere_delaunay, sphere_delaunay_watched, sphere_spanning_tree, sphere_spanning_tree_watched, sphere_voronoi_cells,

@@ -8,7 +8,9 @@ use rstar::RTree;
 
 use super::crossings::split_at_crossings;
 use super::graph::{polyline_length, Shapes, TravelGraph, MAX_GRAPH_INDEX};
+use super::lonlat::{departure, place_of, short_way, Unwrapped, MAX_DEPARTURE};
 use crate::error::{Error, Result};
+use crate::geodesic::normalised_longitude;
 use crate::geometry::{distance, location_key, Point};
 
 /// Options of [`TravelGraph::from_lines`].
@@ -30,7 +32,10 @@ pub struct LineOptions<'a> {
     pub split_crossings: bool,
     /// Coordinates are longitude/latitude in degrees: default costs (and snapping gaps and
     /// positions) are WGS84 geodesic lengths in metres (Karney 2013, through the geodesic
-    /// family), and `tolerance` is in degrees.
+    /// family), and `tolerance` is in degrees. Segments run the shorter way round in
+    /// longitude (across the antimeridian where that is shorter) and ends at one place join
+    /// whatever turn their longitudes are given in; a segment that strays from its geodesic
+    /// by more than 1% of its length (over or near a pole) is refused (see `lonlat`).
     pub geodesic: bool,
 }
 
@@ -47,7 +52,8 @@ impl TravelGraph {
     ///
     /// # Errors
     /// [`Error::InvalidEdge`] naming the row of a line with fewer than two points or a
-    /// non-finite coordinate, a bad cost or one-way code; [`Error::LengthMismatch`] for
+    /// non-finite coordinate, a bad cost or one-way code, or (geodesic) a segment that strays
+    /// from its geodesic over or near a pole; [`Error::LengthMismatch`] for
     /// columns of the wrong length; [`Error::InvalidParameter`] for a negative or NaN
     /// tolerance, or beyond 32-bit indices.
     ///
@@ -114,6 +120,39 @@ impl TravelGraph {
                     row,
                     reason: format!("not a longitude/latitude line: {e}"),
                 })?;
+                for (k, w) in line.windows(2).enumerate() {
+                    let off = departure(w[0], w[1]);
+                    if off > MAX_DEPARTURE {
+                        let why = if w[0][1].abs() == 90.0 || w[1][1].abs() == 90.0 {
+                            format!(
+                                "it meets a pole under another longitude than its other end's, so drawn straight \
+                                 in longitude/latitude it strays from the geodesic (a meridian) between its ends by \
+                                 {:.1}% of its length: give the pole the longitude of the segment's other end",
+                                100.0 * off
+                            )
+                        } else if off.is_finite() {
+                            format!(
+                                "drawn straight in longitude/latitude it strays from the geodesic between its ends \
+                                 (which its length measures) by {:.1}% of its length, more than {}% (it passes over \
+                                 or near a pole, or is long for its latitude): add vertices along it, or project \
+                                 the lines (to a polar CRS such as EPSG:3413 or EPSG:3031 near a pole)",
+                                100.0 * off,
+                                100.0 * MAX_DEPARTURE
+                            )
+                        } else {
+                            "its ends are (nearly) antipodal, so no one geodesic joins them: add vertices along it"
+                                .to_string()
+                        };
+                        return Err(Error::InvalidEdge {
+                            argument: "lines",
+                            row,
+                            reason: format!(
+                                "segment {k}, from ({}, {}) to ({}, {}): {why}",
+                                w[0][0], w[0][1], w[1][0], w[1][1]
+                            ),
+                        });
+                    }
+                }
                 lengths.push(length);
             } else {
                 lengths.push(polyline_length(line));
@@ -125,10 +164,14 @@ impl TravelGraph {
         let mut tail = Vec::with_capacity(m);
         let mut head = Vec::with_capacity(m);
         let mut nodes = 0u32;
+        // Where an end lies: on a geodesic graph one longitude per place (180° is -180°, any
+        // longitude at a pole is that pole), so ends across the antimeridian join.
+        let geodesic = options.geodesic;
+        let place = |p: Point| if geodesic { place_of(p) } else { p };
         if tolerance == 0.0 {
             let mut seen: HashMap<(u64, u64), u32> = HashMap::with_capacity(2 * m);
             let mut node_of = |p: Point| {
-                *seen.entry(location_key(p)).or_insert_with(|| {
+                *seen.entry(location_key(place(p))).or_insert_with(|| {
                     nodes += 1;
                     nodes - 1
                 })
@@ -139,12 +182,24 @@ impl TravelGraph {
             }
         } else {
             let mut tree: RTree<GeomWithData<Point, u32>> = RTree::new();
-            let mut node_of = |p: Point| match tree.nearest_neighbor(p) {
-                Some(near) if distance(*near.geom(), p) <= tolerance => near.data,
-                _ => {
-                    tree.insert(GeomWithData::new(p, nodes));
-                    nodes += 1;
-                    nodes - 1
+            let mut node_of = |p: Point| {
+                let p = place(p);
+                // Across the antimeridian, a node a turn of longitude away in the coordinates.
+                let turns: &[f64] = if geodesic { &[0.0, 360.0, -360.0] } else { &[0.0] };
+                let near = turns
+                    .iter()
+                    .filter_map(|&turn| {
+                        let q = [p[0] + turn, p[1]];
+                        tree.nearest_neighbor(q).map(|near| (distance(*near.geom(), q), near.data))
+                    })
+                    .min_by(|x, y| x.0.total_cmp(&y.0).then(x.1.cmp(&y.1)));
+                match near {
+                    Some((d, node)) if d <= tolerance => node,
+                    _ => {
+                        tree.insert(GeomWithData::new(p, nodes));
+                        nodes += 1;
+                        nodes - 1
+                    }
                 }
             };
             for row in 0..m {
@@ -163,7 +218,24 @@ impl TravelGraph {
     /// [`TravelGraph::from_lines`] on the lines split where they cross: the pieces' costs are
     /// their shares of their lines' costs, their one-way codes their lines' codes.
     fn from_split_lines(coords: &[Point], offsets: &[usize], options: &LineOptions<'_>) -> Result<TravelGraph> {
-        let split = split_at_crossings(coords, offsets);
+        // Lon/lat lines are split in one turn of longitude (see `lonlat`), each segment the
+        // shorter way round, so that lines across the antimeridian cross where they are drawn;
+        // the pieces come back with longitudes in [-180, 180].
+        let unwrapped;
+        let coords = if options.geodesic {
+            unwrapped = unwrap_lines(coords, offsets)?;
+            &unwrapped[..]
+        } else {
+            coords
+        };
+        let mut split = split_at_crossings(coords, offsets);
+        if options.geodesic {
+            for p in &mut split.coords {
+                if p[0].abs() > 180.0 {
+                    p[0] = normalised_longitude(p[0]);
+                }
+            }
+        }
         let pieces = split.source.len();
         if split.coords.len() > MAX_GRAPH_INDEX || 2 * pieces > MAX_GRAPH_INDEX {
             return Err(Error::InvalidParameter {
@@ -196,4 +268,36 @@ impl TravelGraph {
         graph.source_line = split.source;
         Ok(graph)
     }
+}
+
+/// Lon/lat lines with their longitudes in one turn ([`Unwrapped`]), each segment the shorter
+/// way round.
+///
+/// # Errors
+/// [`Error::InvalidEdge`] naming a line that leaves the turn: the network circles the globe
+/// (round a pole, say), so no meridian is free of it.
+fn unwrap_lines(coords: &[Point], offsets: &[usize]) -> Result<Vec<Point>> {
+    let turn = Unwrapped::around(coords.iter());
+    let mut out = Vec::with_capacity(coords.len());
+    for row in 0..offsets.len() - 1 {
+        let line = &coords[offsets[row]..offsets[row + 1]];
+        out.push(turn.point(line[0]));
+        for (k, w) in line.windows(2).enumerate() {
+            let b = short_way(*out.last().expect("a line has a point"), w[1]);
+            if !turn.holds(b[0]) {
+                return Err(Error::InvalidEdge {
+                    argument: "lines",
+                    row,
+                    reason: format!(
+                        "segment {k}, from ({}, {}) to ({}, {}), closes a ring of lines round the globe in \
+                         longitude (round a pole, say), so crossings cannot be found in one flat view of the \
+                         network; split the network into parts that leave a meridian free, or project it",
+                        w[0][0], w[0][1], w[1][0], w[1][1]
+                    ),
+                });
+            }
+            out.push(b);
+        }
+    }
+    Ok(out)
 }

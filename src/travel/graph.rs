@@ -391,6 +391,23 @@ impl TravelGraph {
         }
     }
 
+    /// The point at share `t` of the segment `a b` of an edge's shape, as the graph draws
+    /// it: straight in the coordinates, and for a geodesic graph the shorter way round in
+    /// longitude (across the antimeridian where that is shorter), its longitude in
+    /// [-180, 180]. The ends at shares 0 and 1 exactly.
+    pub(crate) fn point_on_segment(&self, a: Point, b: Point, t: f64) -> Point {
+        if self.geodesic {
+            return super::lonlat::on_segment(a, b, t);
+        }
+        if t <= 0.0 {
+            a
+        } else if t >= 1.0 {
+            b
+        } else {
+            [a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1])]
+        }
+    }
+
     /// Whether the edges have shapes (points can be snapped).
     pub fn has_geometry(&self) -> bool {
         !matches!(self.shapes, Shapes::None)

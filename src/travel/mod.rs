@@ -21,6 +21,7 @@ mod build;
 mod catchment;
 mod crossings;
 mod graph;
+mod lonlat;
 mod pieces;
 mod search;
 mod snap;

@@ -6,7 +6,9 @@
 use rayon::prelude::*;
 
 use super::graph::TravelGraph;
+use super::lonlat::Unwrapped;
 use crate::error::{Error, Result};
+use crate::geodesic::{normalised_longitude, Earth, WGS84_A, WGS84_F};
 use crate::geometry::{distance_squared, dot, sub, validate_points, BoundingBox, Point, WorkingFrame};
 
 /// Where travel starts or ends: at a node, or part-way along an edge.
@@ -93,6 +95,12 @@ pub struct SegmentIndex<'g> {
     /// scaled by a power of two to unit size, so that squared distances neither overflow
     /// (coordinates near 1e300) nor underflow (near 1e-300).
     frame: WorkingFrame,
+    /// A geodesic graph's turn of longitudes (see `lonlat`): every segment the shorter way
+    /// round, the network in one piece across the antimeridian, and points taken in the same
+    /// turn.
+    turn: Option<Unwrapped>,
+    /// The WGS84 ellipsoid, for attaching points to a geodesic graph's candidates.
+    earth: Earth,
 }
 
 impl<'g> SegmentIndex<'g> {
@@ -124,10 +132,34 @@ impl<'g> SegmentIndex<'g> {
         } else {
             1.0
         };
-        let scaled = |p: Point| [p[0] * scale_x, p[1]];
+        let turn = graph.is_geodesic().then(|| {
+            let mut vertices = Vec::new();
+            for e in 0..graph.edge_count() {
+                vertices.extend_from_slice(graph.line(e).expect("graph has geometry").points());
+            }
+            Unwrapped::around(vertices.iter())
+        });
+        // Every segment's ends in the turn of longitudes (a geodesic graph), scaled.
+        let ends = |e: usize, w: &[Point]| -> Result<(Point, Point)> {
+            let (a, b) = match turn {
+                None => (w[0], w[1]),
+                Some(turn) => turn.segment(w[0], w[1]).ok_or_else(|| Error::InvalidParameter {
+                    name: "points",
+                    reason: format!(
+                        "the network circles the globe in longitude (edge {e} closes a ring round a pole, say), so \
+                         points cannot be attached to it in one longitude/latitude view; give node numbers, or \
+                         project the network (to a polar CRS such as EPSG:3413 or EPSG:3031 near a pole)"
+                    ),
+                })?,
+            };
+            Ok(([a[0] * scale_x, a[1]], [b[0] * scale_x, b[1]]))
+        };
         let mut corners = Vec::new();
         for e in 0..graph.edge_count() {
-            corners.extend(graph.line(e).expect("graph has geometry").points().iter().map(|&p| scaled(p)));
+            for w in graph.line(e).expect("graph has geometry").points().windows(2) {
+                let (a, b) = ends(e, w)?;
+                corners.extend([a, b]);
+            }
         }
         let frame = WorkingFrame::of(&corners);
         drop(corners);
@@ -135,7 +167,8 @@ impl<'g> SegmentIndex<'g> {
         for e in 0..graph.edge_count() {
             let line = graph.line(e).expect("graph has geometry");
             for (k, w) in line.points().windows(2).enumerate() {
-                let (a, b) = (frame.to_local(scaled(w[0])), frame.to_local(scaled(w[1])));
+                let (a, b) = ends(e, w)?;
+                let (a, b) = (frame.to_local(a), frame.to_local(b));
                 let d = sub(b, a);
                 let len2 = dot(d, d);
                 // Zero-length segments (and those too short to square in the frame) are left out.
@@ -174,6 +207,8 @@ impl<'g> SegmentIndex<'g> {
             scale_x,
             latitudes,
             frame,
+            turn,
+            earth: Earth::wgs84(),
         };
         let span = |s: &Segment, index: &SegmentIndex<'_>| {
             let (i0, j0) = index.cell_of([s.a[0].min(s.b[0]), s.a[1].min(s.b[1])]);
@@ -219,6 +254,10 @@ impl<'g> SegmentIndex<'g> {
     /// A point in the working frame of the segments.
     #[inline]
     fn local(&self, p: Point) -> Point {
+        let p = match self.turn {
+            Some(turn) => turn.point(p),
+            None => p,
+        };
         self.frame.to_local([p[0] * self.scale_x, p[1]])
     }
 
@@ -248,14 +287,47 @@ impl<'g> SegmentIndex<'g> {
         let line = self.graph.line(seg.edge as usize).expect("graph has geometry");
         let pts = line.points();
         let (a, b) = (pts[seg.k as usize], pts[seg.k as usize + 1]);
-        let q = if t <= 0.0 {
-            a
-        } else if t >= 1.0 {
-            b
-        } else {
-            [a[0] + t * (b[0] - a[0]), a[1] + t * (b[1] - a[1])]
-        };
-        (seg.edge, seg.k, q)
+        (seg.edge, seg.k, self.graph.point_on_segment(a, b, t))
+    }
+
+    /// The share of segment `n` (as the graph draws it) geodesically nearest `point`, from the
+    /// frame's share `t`, and its geodesic distance: Gauss–Newton steps in the tangent plane at
+    /// the current point `q`, where the segment runs along `v = dq/dt` (metres east and north:
+    /// its longitude and latitude spans times the parallel's and the meridian's radii of
+    /// curvature at `q`) and `point` lies `s` away in the direction `e` of the geodesic from
+    /// `q` (Karney 2013's inverse problem, by the geodesic family's quick Newton loop):
+    /// `t += s (e · v) / |v|²`, until the step is below a nanometre, `t` held in [0, 1]. At the nearest point inside the segment the geodesic to
+    /// `point` meets it at a right angle (`e · v = 0`).
+    fn nearest_on_earth(&self, point: Point, n: u32, t: f64) -> (f64, f64) {
+        let seg = self.segments[n as usize];
+        let line = self.graph.line(seg.edge as usize).expect("graph has geometry");
+        let (a, b) = (line.points()[seg.k as usize], line.points()[seg.k as usize + 1]);
+        let span = [normalised_longitude(b[0] - a[0]).to_radians(), (b[1] - a[1]).to_radians()];
+        let earth = self.earth;
+        let e2 = WGS84_F * (2.0 - WGS84_F);
+        let mut t = t;
+        let mut seen = earth.seen_from_quickly(self.graph.point_on_segment(a, b, t), point);
+        for _ in 0..50 {
+            if seen.distance == 0.0 {
+                break;
+            }
+            let q = self.graph.point_on_segment(a, b, t);
+            let (sin, cos) = q[1].to_radians().sin_cos();
+            let w = 1.0 - e2 * sin * sin;
+            let (east, north) = (WGS84_A / w.sqrt() * cos, WGS84_A * (1.0 - e2) / (w * w.sqrt()));
+            let v = [span[0] * east, span[1] * north];
+            let v2 = dot(v, v);
+            if !(v2 > 0.0) {
+                break;
+            }
+            let next = (t + seen.distance * dot(seen.direction, v) / v2).clamp(0.0, 1.0);
+            if !((next - t).abs() * v2.sqrt() > 1e-9) {
+                break;
+            }
+            t = next;
+            seen = earth.seen_from_quickly(self.graph.point_on_segment(a, b, t), point);
+        }
+        (t, seen.distance)
     }
 
     /// Attach one point: the nearest segment (ties: the lowest segment number). On a
@@ -314,15 +386,19 @@ impl<'g> SegmentIndex<'g> {
                 .filter(|c| c.0 <= best.0 * widen)
                 .map(|&(_, m, u)| {
                     let q = self.place(m, u).2;
-                    let east = (q[0] - point[0]) * (0.5 * (q[1] + point[1])).to_radians().cos();
+                    let east = normalised_longitude(q[0] - point[0]) * (0.5 * (q[1] + point[1])).to_radians().cos();
                     let north = q[1] - point[1];
                     (east * east + north * north, m, u)
                 })
                 .collect();
+            // The frame's nearest point of a segment is off the geodesically nearest one by as
+            // much as the frame's distortion at the point (near a pole, by far more than 1e-3),
+            // so every candidate within that distortion of the closest is attached on the
+            // ellipsoid ([`SegmentIndex::nearest_on_earth`]) and their true gaps compared.
             let closest = measured.iter().map(|c| c.0).fold(f64::INFINITY, f64::min);
             let mut least = f64::INFINITY;
-            for &(_, m, u) in measured.iter().filter(|c| c.0 <= closest * (1.0 + 1e-3) * (1.0 + 1e-3)) {
-                let gap = self.graph.path_length(&[point, self.place(m, u).2]);
+            for &(_, m, u) in measured.iter().filter(|c| c.0 <= closest * widen * (1.0 + 1e-3) * (1.0 + 1e-3)) {
+                let (u, gap) = self.nearest_on_earth(point, m, u);
                 if gap < least || (gap == least && m < n) {
                     (least, n, t) = (gap, m, u);
                 }

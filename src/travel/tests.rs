@@ -395,3 +395,57 @@ fn costs_whose_sum_could_overflow_are_refused() {
     let rows = travel_costs(&graph, &[Spot::Node(0)], &[Spot::Node(2)], &CostOptions::default()).unwrap();
     assert_eq!(rows.costs, vec![2e307]);
 }
+
+/// Geodesic lon/lat lines from `lines`, joined at equal places.
+fn lonlat_graph(lines: &[&[[f64; 2]]], tolerance: f64) -> Result<TravelGraph, crate::error::Error> {
+    let mut coords = Vec::new();
+    let mut offsets = vec![0];
+    for line in lines {
+        coords.extend_from_slice(line);
+        offsets.push(coords.len());
+    }
+    TravelGraph::from_lines(&coords, &offsets, &LineOptions { geodesic: true, tolerance, ..Default::default() })
+}
+
+#[test]
+fn lonlat_ends_at_180_and_minus_180_join_and_travel_across() {
+    let halves: [&[[f64; 2]]; 2] = [&[[179.9, -16.7], [180.0, -16.7]], &[[-180.0, -16.7], [-179.9, -16.7]]];
+    for tolerance in [0.0, 1e-6] {
+        let g = lonlat_graph(&halves, tolerance).expect("valid lines");
+        assert_eq!((g.node_count(), g.component_count()), (3, 1));
+    }
+    // A pole is one place whatever its longitude.
+    let spokes: [&[[f64; 2]]; 2] = [&[[0.0, 89.9], [0.0, 90.0]], &[[180.0, 90.0], [180.0, 89.9]]];
+    assert_eq!(lonlat_graph(&spokes, 0.0).expect("valid lines").node_count(), 3);
+}
+
+#[test]
+fn lonlat_points_attach_across_the_antimeridian_and_by_the_pole_in_closed_form() {
+    // The equator is a geodesic: from (180, 0.01) the nearest place of the equatorial ferry
+    // from 179.9 to -179.9 is (180, 0), half-way, 0.01 degree of meridian away.
+    let ferry: [&[[f64; 2]]; 1] = [&[[179.9, 0.0], [-179.9, 0.0]]];
+    let g = lonlat_graph(&ferry, 0.0).expect("valid lines");
+    let s = snap_points(&g, &[[180.0, 0.01]], "points", None).expect("attached")[0];
+    let meridian = crate::geodesic::geodesic_distances(&[[180.0, 0.01]], &[[180.0, 0.0]]).expect("valid")[0];
+    assert!((s.gap - meridian).abs() < 1e-6 * meridian, "{} vs {meridian}", s.gap);
+    assert!(matches!(s.spot, Spot::OnEdge { fraction, .. } if (fraction - 0.5).abs() < 1e-9));
+    assert!((s.on_edge[0].abs() - 180.0).abs() < 1e-9 && s.on_edge[1].abs() < 1e-12);
+    // On the meridian opposite a street out from the pole, the nearest place is the pole.
+    let spoke: [&[[f64; 2]]; 1] = [&[[45.0, 90.0], [45.0, 89.7]]];
+    let g = lonlat_graph(&spoke, 0.0).expect("valid lines");
+    let s = snap_points(&g, &[[-135.0, 89.9]], "points", None).expect("attached")[0];
+    let to_pole = crate::geodesic::geodesic_distances(&[[-135.0, 89.9]], &[[0.0, 90.0]]).expect("valid")[0];
+    assert!((s.gap - to_pole).abs() < 1e-6 * to_pole, "{} vs {to_pole}", s.gap);
+    assert_eq!(s.spot, Spot::Node(g.ends().0[0]));
+}
+
+#[test]
+fn lonlat_segments_over_a_pole_are_refused_by_row() {
+    let lines: [&[[f64; 2]]; 2] = [&[[0.0, 89.5], [0.0, 89.9]], &[[0.0, 89.9], [180.0, 89.9]]];
+    match lonlat_graph(&lines, 0.0) {
+        Err(crate::error::Error::InvalidEdge { argument: "lines", row: 1, reason }) => {
+            assert!(reason.contains("pole"), "{reason}")
+        }
+        other => panic!("expected a refusal of row 1, got {other:?}"),
+    }
+}

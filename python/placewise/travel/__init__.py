@@ -24,8 +24,12 @@ this model; they defer to local regulations and licensed professional judgement.
 
 Coordinates are planar, or longitude/latitude with ``geodesic=True`` (set by itself for a
 GeoDataFrame in a geographic CRS): edge lengths, gaps and positions along edges are then
-WGS84 geodesic lengths in metres. Lines drawn crossing each other meet there only with
-``split_crossings=True`` (a bridge crosses a street without meeting it).
+WGS84 geodesic lengths in metres. Lon/lat lines may cross the antimeridian (each segment
+runs the shorter way round in longitude, and ends at 180 and -180, or at a pole under any
+longitude, join) and reach the poles along meridians, while a segment that strays from its
+geodesic by more than 1 % of its length (over or near a pole) is refused by row, as is
+attaching points to a network that circles a pole. Lines drawn crossing each other meet there
+only with ``split_crossings=True`` (a bridge crosses a street without meeting it).
 """
 
 from __future__ import annotations

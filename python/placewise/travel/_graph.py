@@ -140,17 +140,23 @@ class TravelGraph:
             gaps and positions are geodesic lengths in metres on the WGS84 ellipsoid (Karney
             2013); ``tolerance`` is in degrees. Set by itself for a GeoDataFrame in a
             geographic CRS (one whose angles are not degrees, such as grads, is first
-            transformed to EPSG:4326, which becomes the graph's ``crs``). Edges are sought
-            in a local frame (longitudes scaled by the cosine of the mean latitude); those as
-            near there as that frame's distortion over the network's latitudes allows are
-            compared by geodesic distance, so a point goes to the geodesically nearest edge
-            (its point on the edge is the frame's nearest).
+            transformed to EPSG:4326, which becomes the graph's ``crs``). Each segment runs
+            straight in longitude/latitude the shorter way round (a ferry from 179.9 to
+            -179.9 crosses the antimeridian), and ends at one place join whatever turn
+            their longitudes are given in (180 and -180; any longitude at a pole). Edges
+            are sought in a local frame (longitudes taken in one turn opposite the network
+            and scaled by the cosine of the mean latitude); those as near there as that
+            frame's distortion over the network's latitudes allows are attached on the
+            ellipsoid, so a point goes to the geodesically nearest point of the nearest
+            edge.
 
         Raises
         ------
         InputError
             Naming the row of a missing, empty or non-line geometry, a bad cost or an unknown
-            one-way value.
+            one-way value; with ``geodesic``, of a segment that strays from the geodesic
+            between its ends by more than 1 % of its length (over or near a pole: add
+            vertices, or project to a polar CRS).
 
         Examples
         --------
@@ -272,7 +278,8 @@ class TravelGraph:
         ------
         InputError
             Naming the first point farther than ``max_gap`` from every edge, or when the
-            graph has no coordinates.
+            graph has no coordinates, or when a lon/lat network circles a pole (no longitude
+            is free of it, so it has no one flat view to search in).
 
         Examples
         --------
