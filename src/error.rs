@@ -97,6 +97,18 @@ pub enum Error {
         /// Row of the earlier point at the same location.
         first: usize,
     },
+    /// A site's Voronoi cell is narrower than the precision at which a region this large is
+    /// cut (its nearest site closer than about the weld's reach), so it would come out empty.
+    LostCell {
+        /// Argument name, e.g. `"sites"`.
+        argument: &'static str,
+        /// Row of the site.
+        row: usize,
+        /// Distance to its nearest site (caller's units).
+        nearest: f64,
+        /// The weld's reach, 2^-40 of the region's size (caller's units).
+        reach: f64,
+    },
     /// A cost matrix holds a NaN, infinite or negative cost: `costs[3, 7] = NaN`.
     InvalidCost {
         /// Argument name, e.g. `"costs"`.
@@ -206,7 +218,10 @@ impl Error {
     /// True when the input is well-formed but geometrically degenerate for the kernel.
     pub fn is_degenerate(&self) -> bool {
         match self {
-            Error::Degenerate { .. } | Error::TooFewPoints { .. } | Error::RepeatedPoint { .. } => true,
+            Error::Degenerate { .. }
+            | Error::TooFewPoints { .. }
+            | Error::RepeatedPoint { .. }
+            | Error::LostCell { .. } => true,
             Error::InGroup { source, .. } => source.is_degenerate(),
             _ => false,
         }
@@ -302,6 +317,12 @@ impl Error {
                 namer.row(argument, *row),
                 namer.row(argument, *first)
             ),
+            Error::LostCell { argument, row, nearest, reach } => format!(
+                "{argument}: the cell of {argument}[{}] is lost: its nearest site lies {nearest:.3e} away, about the \
+                 {reach:.3e} to which a region this large is cut at double precision (2^-40 of its size); pass a \
+                 smaller region around these sites",
+                namer.row(argument, *row)
+            ),
             Error::InvalidCost { argument, row, column, value } => format!(
                 "{argument}[{}, {column}] = {}; every cost must be finite and >= 0",
                 namer.row(argument, *row),
@@ -332,7 +353,7 @@ impl Error {
                          instead of people)"
                     ),
                     Some(name) => format!(
-                        "points, {name}: distances between points and {name} of up to {largest:e} times {what} \
+                        "points, {name}: distances between points and {name} of at most {largest:e} times {what} \
                          ({weight:e}) exceed {limit:.3e}, beyond which weighted totals overflow float64; rescale the \
                          coordinates of points and {name} (e.g. kilometres instead of metres) or the weights (e.g. \
                          thousands of people instead of people)"
@@ -387,6 +408,7 @@ impl Error {
             | Error::TooFewPoints { argument, .. }
             | Error::Degenerate { argument, .. }
             | Error::RepeatedPoint { argument, .. }
+            | Error::LostCell { argument, .. }
             | Error::InvalidCost { argument, .. }
             | Error::InvalidEdge { argument, .. }
             | Error::BeyondGap { argument, .. }
@@ -409,6 +431,7 @@ impl Error {
             | Error::InvalidWeight { index, .. }
             | Error::NonFiniteValue { index, .. } => Some(*index),
             Error::RepeatedPoint { row, .. }
+            | Error::LostCell { row, .. }
             | Error::InvalidCost { row, .. }
             | Error::Uncoverable { row, .. }
             | Error::InvalidEdge { row, .. }
@@ -467,6 +490,9 @@ impl Error {
             }
             Error::RepeatedPoint { argument, row, first } => {
                 Error::RepeatedPoint { argument, row: map(row), first: map(first) }
+            }
+            Error::LostCell { argument, row, nearest, reach } => {
+                Error::LostCell { argument, row: map(row), nearest, reach }
             }
             Error::InGroup { label, source } => Error::InGroup { label, source: Box::new(source.rows_from(members)) },
             other => other,
@@ -528,7 +554,7 @@ mod tests {
         let e = e.on_coordinates("candidates").in_group(3);
         assert!(
             e.to_string().starts_with(
-                "group 3: points, candidates: distances between points and candidates of up to 1e306 times the \
+                "group 3: points, candidates: distances between points and candidates of at most 1e306 times the \
                  total weight (3e0) exceed 2.500e306"
             ),
             "{e}"

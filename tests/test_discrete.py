@@ -754,7 +754,7 @@ def test_coordinate_refusals_name_rows_and_distances_not_columns_and_costs() -> 
         with pytest.raises(pw.InputError) as caught:
             model(points, 1, w, candidates=candidates)
         said = str(caught.value)
-        got = re.match(r"points, candidates: distances between points and candidates of up to (\S+) times the "
+        got = re.match(r"points, candidates: distances between points and candidates of at most (\S+) times the "
                        rf"{what} weight \((\S+)\) exceed (\S+), beyond which weighted totals overflow float64; "
                        r"rescale the coordinates of points and candidates \(e\.g\. kilometres instead of metres\) "
                        r"or the weights", said)

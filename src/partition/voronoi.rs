@@ -126,7 +126,7 @@ impl VoronoiCells {
 }
 
 /// The default region: the sites' bounding box grown by 10 % on every side (by at least
-/// 2^-20 of its longest side, and by a tenth of it across a flat box).
+/// 2^-20 of a tenth of its longest side, and by that tenth across a flat box).
 pub(crate) fn default_rings(sites: &[Point]) -> Result<Vec<Vec<Point>>> {
     let b = BoundingBox::of(sites).expect("sites validated non-empty");
     let (w, h) = (b.max[0] - b.min[0], b.max[1] - b.min[1]);
@@ -139,7 +139,7 @@ pub(crate) fn default_rings(sites: &[Point]) -> Result<Vec<Vec<Point>>> {
             reason: "the sites' bounding box has no extent (all sites coincide); pass a region".into(),
         });
     }
-    // A nearly flat box grows across by at least 2^-20 of its length, far above the weld's
+    // A nearly flat box grows across by at least 2^-20 of its growth along, far above the weld's
     // reach (2^-40 of the region's size), so its cells keep their area.
     let floor = grow * 2f64.powi(-20);
     let (dx, dy) =
@@ -629,15 +629,7 @@ fn lost_cell(
         .filter(|&j| j != i)
         .map(|j| crate::geometry::distance(sites[i], sites[j]))
         .fold(f64::INFINITY, f64::min);
-    Err(Error::Degenerate {
-        argument: "sites",
-        reason: format!(
-            "the cell of sites[{i}] is lost: its nearest site lies {nearest:.3e} away, about the {:.3e} to which a \
-             region this large is cut at double precision (2^-40 of its size); pass a smaller region around \
-             these sites",
-            frame.world_length(weld_reach)
-        ),
-    })
+    Err(Error::LostCell { argument: "sites", row: i, nearest, reach: frame.world_length(weld_reach) })
 }
 
 /// Cells [`clipped_cells`] welds or writes out between two looks at the watch.
@@ -809,11 +801,19 @@ mod tests {
         assert!((cells.area.iter().sum::<f64>() - 4e18).abs() <= 1e-9 * 4e18);
         let far = square(1e12);
         let e = voronoi_cells(&sites, Some(Region { vertices: &far, ring_offsets: &[0, 4] })).unwrap_err();
-        assert!(matches!(e, Error::Degenerate { argument: "sites", .. }), "{e:?}");
+        assert!(matches!(e, Error::LostCell { argument: "sites", row: 0, .. }), "{e:?}");
         assert!(
             e.to_string().starts_with("sites: the cell of sites[0] is lost: its nearest site lies 1.000e0 away"),
             "{e}"
         );
+        // In a grouped run the input row is named: the same sites behind two others of group 5.
+        let mut rows = vec![[7.0, 7.0], [8.0, 8.0]];
+        rows.extend_from_slice(&sites);
+        let labels = [4, 4, 5, 5, 5, 5, 5];
+        let region = Region { vertices: &far, ring_offsets: &[0, 4] };
+        let e = voronoi_cells_grouped(&rows, &labels, Some(region), OnGroupError::Raise).unwrap_err();
+        assert_eq!((e.row(), e.argument()), (Some(2), "sites"), "{e}");
+        assert!(e.to_string().contains("the cell of sites[2] is lost"), "{e}");
         // The same region cut by the clipper (an L shape, not a rectangle) finds it too.
         let l_shape = [[-1e12, -1e12], [1e12, -1e12], [1e12, 0.5e12], [0.5e12, 1e12], [-1e12, 1e12]];
         let e = voronoi_cells(&sites, Some(Region { vertices: &l_shape, ring_offsets: &[0, 5] })).unwrap_err();
@@ -831,7 +831,7 @@ mod tests {
         assert!(matches!(e, Error::Degenerate { argument: "region", .. }), "{e:?}");
         assert!(e.to_string().contains("too thin for its length"), "{e}");
         // Without a region, sites nearly on one line: the box grown by 10 % of its height was
-        // as thin, and every cell was empty. Now it grows across by 2^-20 of its length.
+        // as thin, and every cell was empty. Now it grows across by 2^-20 of its growth along.
         let flat = [[-1e12, 0.0], [0.0, 0.0], [1e12, 0.0], [0.0, 1.0]];
         let cells = voronoi_cells(&flat, None).unwrap();
         let across = 0.1 * 2e12 * 2f64.powi(-20);

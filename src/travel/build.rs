@@ -183,7 +183,13 @@ impl TravelGraph {
         } else {
             let mut tree: RTree<GeomWithData<Point, u32>> = RTree::new();
             let mut node_of = |p: Point| {
-                let p = place(p);
+                // An end within `tolerance` degrees of latitude of a pole joins at the pole,
+                // whatever its longitude: there longitudes far apart are one place.
+                let p = if geodesic && 90.0 - p[1].abs() <= tolerance {
+                    place([0.0, 90f64.copysign(p[1])])
+                } else {
+                    place(p)
+                };
                 // Across the antimeridian, a node a turn of longitude away in the coordinates.
                 let turns: &[f64] = if geodesic { &[0.0, 360.0, -360.0] } else { &[0.0] };
                 let near = turns
@@ -277,7 +283,7 @@ impl TravelGraph {
 /// [`Error::InvalidEdge`] naming a line that leaves the turn: the network circles the globe
 /// (round a pole, say), so no meridian is free of it.
 fn unwrap_lines(coords: &[Point], offsets: &[usize]) -> Result<Vec<Point>> {
-    let turn = Unwrapped::around(coords.iter());
+    let turn = Unwrapped::around(offsets.windows(2).map(|w| &coords[w[0]..w[1]]));
     let mut out = Vec::with_capacity(coords.len());
     for row in 0..offsets.len() - 1 {
         let line = &coords[offsets[row]..offsets[row + 1]];

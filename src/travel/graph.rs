@@ -61,6 +61,12 @@ impl EdgeLine<'_> {
     }
 }
 
+impl AsRef<[Point]> for EdgeLine<'_> {
+    fn as_ref(&self) -> &[Point] {
+        self.points()
+    }
+}
+
 /// Planar length of a polyline: the sum of its segment lengths, in order.
 pub(crate) fn polyline_length(line: &[Point]) -> f64 {
     line.windows(2).map(|w| distance(w[0], w[1])).sum()

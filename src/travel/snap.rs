@@ -132,13 +132,9 @@ impl<'g> SegmentIndex<'g> {
         } else {
             1.0
         };
-        let turn = graph.is_geodesic().then(|| {
-            let mut vertices = Vec::new();
-            for e in 0..graph.edge_count() {
-                vertices.extend_from_slice(graph.line(e).expect("graph has geometry").points());
-            }
-            Unwrapped::around(vertices.iter())
-        });
+        let turn = graph
+            .is_geodesic()
+            .then(|| Unwrapped::around((0..graph.edge_count()).map(|e| graph.line(e).expect("graph has geometry"))));
         // Every segment's ends in the turn of longitudes (a geodesic graph), scaled.
         let ends = |e: usize, w: &[Point]| -> Result<(Point, Point)> {
             let (a, b) = match turn {

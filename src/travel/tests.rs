@@ -417,6 +417,17 @@ fn lonlat_ends_at_180_and_minus_180_join_and_travel_across() {
     // A pole is one place whatever its longitude.
     let spokes: [&[[f64; 2]]; 2] = [&[[0.0, 89.9], [0.0, 90.0]], &[[180.0, 90.0], [180.0, 89.9]]];
     assert_eq!(lonlat_graph(&spokes, 0.0).expect("valid lines").node_count(), 3);
+    // Within the tolerance of a pole, ends join there whatever their longitudes: (45, 90)
+    // and (45, 89.9999999) are 1e-7 degree apart (before, the pole end was moved to
+    // longitude 0 first and the two were 45 degrees apart); so are (-135, 89.9999999) and
+    // (45, 89.9999999), across the pole. Four spokes, one shared end: 5 nodes.
+    let near: [&[[f64; 2]]; 4] = [
+        &[[45.0, 89.0], [45.0, 90.0]],
+        &[[45.0, 89.9999999], [45.0, 89.5]],
+        &[[-135.0, 89.9999999], [-135.0, 89.5]],
+        &[[90.0, 89.2], [90.0, 90.0]],
+    ];
+    assert_eq!(lonlat_graph(&near, 1e-6).expect("valid lines").node_count(), 5);
 }
 
 #[test]

@@ -281,7 +281,10 @@ def voronoi_cells(
         For NaN/inf coordinates, bad shapes, or a region of another geometry type.
     DegenerateInputError
         For repeated sites, a region without area, or (without a region) sites that all
-        coincide.
+        coincide; for a region too thin for its length to be cut at double precision (the
+        cells would not cover it); and for a site whose cell is narrower than 2^-40 of the
+        region's size (naming the site and its nearest site's distance), which would come
+        out empty.
 
     Examples
     --------

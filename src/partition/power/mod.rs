@@ -179,7 +179,9 @@ fn cells_within(sites: &[Point], powers: &[f64], rings: Option<&[Vec<Point>]>) -
             .collect();
         triangulation = Some(t);
         convex
-    })?;
+    });
+    // Read before the cells' own outcome: a closure that stopped early left every cell empty,
+    // which the tiling check would report as a region too thin.
     if let Some(index) = overflow {
         return Err(Error::Degenerate {
             argument: "powers",
@@ -198,6 +200,7 @@ fn cells_within(sites: &[Point], powers: &[f64], rings: Option<&[Vec<Point>]>) -
             ),
         });
     }
+    let cells = cells?;
     let t = triangulation.expect("the cell builder ran");
     Ok(PowerCells { cells, redundant: t.redundant, triangles: t.triangles, adjacent: t.adjacent, edges: t.edges })
 }

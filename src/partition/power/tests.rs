@@ -130,6 +130,24 @@ fn powers_keep_their_weight_in_a_region_wider_than_2_to_the_537() {
 }
 
 #[test]
+fn overflowing_powers_and_sites_that_round_together_are_named_as_such() {
+    // Both stop the cell builder early with every cell empty; the region is not to blame.
+    let e = power_cells(&[[0.0, 0.0], [1e-200, 0.0], [0.0, 1e-200]], &[0.0, 1e300, 0.0], None).unwrap_err();
+    assert!(matches!(e, Error::Degenerate { argument: "powers", .. }), "{e:?}");
+    assert!(e.to_string().contains("powers[1] is too large"), "{e}");
+    // 1e-20 and 2e-20 both round to the frame's -1 once shifted to the centre (1, 1).
+    let wide = square(-1.0, 3.0);
+    let e = power_cells(
+        &[[1e-20, 0.0], [2e-20, 0.0], [0.5, 2.0]],
+        &[0.0, 0.0, 0.0],
+        Some(Region { vertices: &wide, ring_offsets: &[0, 4] }),
+    )
+    .unwrap_err();
+    assert!(matches!(e, Error::Degenerate { argument: "sites", .. }), "{e:?}");
+    assert!(e.to_string().contains("too close together"), "{e}");
+}
+
+#[test]
 fn degenerate_inputs() {
     let sq = square(-10.0, 10.0);
     let region = Region { vertices: &sq, ring_offsets: &[0, 4] };
