@@ -190,7 +190,7 @@ def power_cells(
         power 0 split the line between them as circles of radius ``r`` and 0 would.
     region : shapely Polygon or MultiPolygon, or array_like of shape (m, 2), optional
         The study region, as for :func:`voronoi_cells`. Default: the sites' bounding box
-        grown by 10 % on every side.
+        grown by 10 % on every side (a nearly flat box widened as for :func:`voronoi_cells`).
     groups : array_like of int, shape (n,), optional
         Group labels: each group's sites split the region on their own (in parallel); returns
         ``PowerCellSets``.

@@ -255,7 +255,8 @@ def voronoi_cells(
     region : shapely Polygon or MultiPolygon, or array_like of shape (m, 2), optional
         The study region: non-convex, with holes, in several parts; or one ring of vertices.
         Default: the sites' bounding box (of each group, with ``groups``) grown by 10 % on
-        every side.
+        every side; a nearly flat box grows across by at least 2^-20 of its growth along, so
+        that sites almost on one line still get cells with area.
     groups : array_like of int, shape (n,), optional
         Group labels: split the region among every group's sites on their own (in parallel)
         and return ``VoronoiCellSets``.
