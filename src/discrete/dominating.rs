@@ -10,13 +10,11 @@
 use std::collections::HashSet;
 
 use rayon::prelude::*;
-use rstar::primitives::GeomWithData;
-use rstar::RTree;
 
 use super::check_radius;
 use crate::cancel::{RunLimits, Steps};
 use crate::error::{Error, Result};
-use crate::geometry::{distance, validate_points, Point, WorkingFrame};
+use crate::geometry::{distance, validate_points, LocalTree, Point, WorkingFrame};
 
 /// Points between two polls of the clock in [`circle_intersections`]: a few milliseconds of
 /// neighbour queries even where the circles overlap densely.
@@ -61,13 +59,7 @@ pub fn circle_intersections(
     // search distances neither overflow nor underflow at coordinates near 1e±160 and
     // beyond; every test that decides coverage is made on the caller's coordinates, by
     // the same `distance(..) <= radius` as the covering models'.
-    let frame = WorkingFrame::of(points);
-    let tree: RTree<GeomWithData<Point, usize>> =
-        RTree::bulk_load(points.iter().enumerate().map(|(i, &p)| GeomWithData::new(frame.to_local(p), i)).collect());
-    let within = |c: Point, r: f64| {
-        let reach = r * frame.factor * (1.0 + 1e-9) + f64::MIN_POSITIVE;
-        tree.locate_within_distance(frame.to_local(c), reach * reach).map(|q| q.data)
-    };
+    let tree = LocalTree::new(points, WorkingFrame::of(points));
     let reach = 2.0 * radius;
     let mut candidates: Vec<Point> = points.to_vec();
     for (i, &a) in points.iter().enumerate() {
@@ -75,7 +67,7 @@ pub fn circle_intersections(
             break;
         }
         steps.step();
-        for j in within(a, reach) {
+        for j in tree.within(a, reach) {
             let b = points[j];
             let d = distance(a, b);
             if j <= i || d == 0.0 || d > reach {
@@ -104,7 +96,7 @@ pub fn circle_intersections(
     }
     steps.finish();
     let covered_before =
-        |c: Point| -> Vec<usize> { within(c, radius).filter(|&i| distance(c, points[i]) <= radius).collect() };
+        |c: Point| -> Vec<usize> { tree.within(c, radius).filter(|&i| distance(c, points[i]) <= radius).collect() };
     // The points an existing site covers, by the same test as every candidate's.
     let mut served = vec![false; points.len()];
     for &f in fixed {
@@ -170,6 +162,22 @@ mod tests {
             let all = c.iter().any(|&x| points.iter().all(|&p| distance(x, p) <= s));
             assert!(all, "2^{exponent}: {c:?}");
         }
+    }
+
+    #[test]
+    fn a_pair_whose_squares_are_subnormal_in_the_frame_still_meets() {
+        // Closed form: (0, 0) and (c, c) with c = √0.6 · 2^-536 lie √1.2 · 2^-536 apart, within
+        // 2r for r = √1.3 · 2^-537, so their circles meet at points covering both. Far points
+        // at (±1, ±1) put the frame's origin at 0 and its factor at 1/2. The tree's squared
+        // reach, taken with a slack of the least normal number (whose square is 0), rounded
+        // to one least subnormal against two for the pair's squared local distance, and the
+        // pair was never met.
+        let c = 0.6f64.sqrt() * 2f64.powi(-536);
+        let points = [[0.0, 0.0], [c, c], [-1.0, -1.0], [1.0, 1.0]];
+        let r = 1.3f64.sqrt() * 2f64.powi(-537);
+        let found = circle_intersections(&points, &[], r, 100, &RunLimits::default()).unwrap();
+        let both = found.iter().any(|&x| distance(x, points[0]) <= r && distance(x, points[1]) <= r);
+        assert!(both, "{found:?}");
     }
 
     #[test]

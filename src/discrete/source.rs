@@ -11,12 +11,9 @@
 //!   coordinates, with the candidates in an R*-tree (Beckmann et al. 1990, on `rstar`) for
 //!   the candidates within a radius, so no `n × m` matrix is ever held.
 
-use rstar::primitives::GeomWithData;
-use rstar::RTree;
-
 use crate::cancel::free_aside;
 use crate::error::{Error, Result};
-use crate::geometry::{distance, validate_points, Point, WorkingFrame};
+use crate::geometry::{distance, validate_points, LocalTree, Point, WorkingFrame};
 
 /// A dense row-major `rows × columns` matrix of finite, non-negative costs: row `i` is a
 /// demand point, column `j` a candidate site.
@@ -144,24 +141,15 @@ impl<'a> SparseCosts<'a> {
     }
 }
 
-type Indexed = GeomWithData<Point, usize>;
-
 /// Straight-line costs between demand points and candidate sites, computed when asked.
 #[derive(Debug, Clone)]
 pub struct PlanarCosts<'a> {
     points: &'a [Point],
     candidates: &'a [Point],
-    /// The candidates in `frame`'s local coordinates: the tree compares squared
-    /// distances, which overflow or underflow in the caller's units near 1e±154.
-    tree: RTree<Indexed>,
-    frame: WorkingFrame,
+    /// The candidates in the working frame of the points and candidates.
+    tree: LocalTree,
     ceiling: f64,
 }
-
-/// Absolute slack of a tree query in the working frame, whose coordinates lie within a unit
-/// of the origin: a few roundings of the shift and scale. It also keeps the squared reach a
-/// normal number, so pairs whose squared local distance underflows are still returned.
-const LOCAL_SLACK: f64 = 4.0 * f64::EPSILON;
 
 impl<'a> PlanarCosts<'a> {
     /// Check the coordinates and index the candidates.
@@ -175,10 +163,7 @@ impl<'a> PlanarCosts<'a> {
     pub fn new(points: &'a [Point], candidates: &'a [Point]) -> Result<PlanarCosts<'a>> {
         validate_points("points", points, 1)?;
         validate_points("candidates", candidates, 1)?;
-        let frame = WorkingFrame::of(points).holding(candidates);
-        let tree = RTree::bulk_load(
-            candidates.iter().enumerate().map(|(j, &c)| GeomWithData::new(frame.to_local(c), j)).collect(),
-        );
+        let tree = LocalTree::new(candidates, WorkingFrame::of(points).holding(candidates));
         // The diagonal of the joint bounding box bounds every distance.
         let (mut lo, mut hi) = ([f64::INFINITY; 2], [f64::NEG_INFINITY; 2]);
         for p in points.iter().chain(candidates) {
@@ -188,14 +173,7 @@ impl<'a> PlanarCosts<'a> {
             }
         }
         let ceiling = distance(lo, hi) * (1.0 + 1e-9);
-        Ok(PlanarCosts { points, candidates, tree, frame, ceiling })
-    }
-
-    /// The candidates whose local distance to point `i` may be within `radius` (caller's
-    /// units): a superset of those whose [`distance`] is, which callers then test exactly.
-    fn near(&self, i: usize, radius: f64) -> impl Iterator<Item = &Indexed> {
-        let reach = radius * self.frame.factor * (1.0 + 1e-12) + LOCAL_SLACK;
-        self.tree.locate_within_distance(self.frame.to_local(self.points[i]), reach * reach)
+        Ok(PlanarCosts { points, candidates, tree, ceiling })
     }
 }
 
@@ -279,10 +257,10 @@ impl Costs<'_> {
         match self {
             Costs::Planar(c) if radius.is_finite() => {
                 let a = c.points[i];
-                for s in c.near(i, radius) {
-                    let d = distance(a, c.candidates[s.data]);
+                for j in c.tree.within(a, radius) {
+                    let d = distance(a, c.candidates[j]);
                     if d <= radius {
-                        f(s.data, d);
+                        f(j, d);
                     }
                 }
             }
@@ -312,15 +290,15 @@ impl Costs<'_> {
     pub fn cheapest(&self, i: usize) -> (usize, f64) {
         if let Costs::Planar(c) = self {
             let a = c.points[i];
-            let near = c.tree.nearest_neighbor(c.frame.to_local(a)).expect("a candidate");
-            let d = distance(a, c.candidates[near.data]);
+            let near = c.tree.nearest(a).expect("a candidate");
+            let d = distance(a, c.candidates[near]);
             // Every candidate as near in the caller's units (ties, and the frame's rounding):
             // the smallest column.
-            let mut best = (near.data, d);
-            for s in c.near(i, d) {
-                let e = distance(a, c.candidates[s.data]);
-                if e < best.1 || (e == best.1 && s.data < best.0) {
-                    best = (s.data, e);
+            let mut best = (near, d);
+            for j in c.tree.within(a, d) {
+                let e = distance(a, c.candidates[j]);
+                if e < best.1 || (e == best.1 && j < best.0) {
+                    best = (j, e);
                 }
             }
             return best;
@@ -366,7 +344,7 @@ pub fn with_planar_costs<T>(
             // One allocation per node, and a bulk-loaded node holds up to six entries (rstar's
             // default): about one per five candidates. Freed aside when that is many, so a
             // stopped run returns at its stop.
-            free_aside(planar.tree, candidates.len() / 5);
+            free_aside(planar.tree.into_tree(), candidates.len() / 5);
         }
         answer
     }

@@ -4,12 +4,14 @@
 //! `&[Point]` without a copy by the binding layer.
 
 pub mod hull;
+pub mod local_tree;
 pub mod predicates;
 pub mod random;
 pub mod region;
 pub mod sum;
 pub mod validate;
 
+pub use local_tree::LocalTree;
 pub use region::FeasibleRegion;
 pub use sum::CompensatedSum;
 pub use validate::{validate_iteration, validate_points, validate_weights, Weights};
