@@ -142,11 +142,11 @@ fn substring(graph: &TravelGraph, line: &[Point], a: f64, b: f64, out: &mut Vec<
             let u0 =
                 if len > 0.0 { share_of_segment(graph, w[0], w[1], (from - s0).clamp(0.0, len), len) } else { 0.0 };
             let u1 = if len > 0.0 { share_of_segment(graph, w[0], w[1], (to - s0).clamp(0.0, len), len) } else { 1.0 };
-            let p = along(graph, w[0], w[1], u0);
+            let p = graph.point_on_segment(w[0], w[1], u0);
             if out.len() == start {
                 out.push(p);
             }
-            let q = along(graph, w[0], w[1], u1);
+            let q = graph.point_on_segment(w[0], w[1], u1);
             if out.last() != Some(&q) {
                 out.push(q);
             }
@@ -159,20 +159,6 @@ fn substring(graph: &TravelGraph, line: &[Point], a: f64, b: f64, out: &mut Vec<
     }
 }
 
-fn lerp(p: Point, q: Point, s: f64) -> Point {
-    [p[0] + (q[0] - p[0]) * s, p[1] + (q[1] - p[1]) * s]
-}
-
-/// The point at share `s` of the segment `p q` as the graph draws it: on a geodesic graph the
-/// shorter way round in longitude (across the antimeridian), longitudes in [-180, 180].
-fn along(graph: &TravelGraph, p: Point, q: Point, s: f64) -> Point {
-    if graph.is_geodesic() {
-        graph.point_on_segment(p, q, s)
-    } else {
-        lerp(p, q, s)
-    }
-}
-
 /// The share `u` of the segment `p q` (drawn straight in the coordinates) whose point lies
 /// `target` from `p`, of `len` in all: `target / len` on the plane; on the ellipsoid the
 /// geodesic length from `p` is not linear in `u` (a degree of longitude shrinks with the
@@ -181,7 +167,7 @@ fn share_of_segment(graph: &TravelGraph, p: Point, q: Point, target: f64, len: f
     let mut u = (target / len).clamp(0.0, 1.0);
     if graph.is_geodesic() && u > 0.0 && u < 1.0 {
         for _ in 0..8 {
-            let step = (target - graph.path_length(&[p, along(graph, p, q, u)])) / len;
+            let step = (target - graph.path_length(&[p, graph.point_on_segment(p, q, u)])) / len;
             u = (u + step).clamp(0.0, 1.0);
             if !(step.abs() > 1e-15) {
                 break;
