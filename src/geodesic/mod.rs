@@ -34,6 +34,7 @@ pub(crate) use earth::validate_lonlat;
 /// Longitude reduction and unit vectors, shared with the travel family's lon/lat shapes.
 pub(crate) use earth::{angle_between, normalised_longitude, unit_normal, Earth, WGS84_A, WGS84_F};
 pub use minimax::{CenterOptions, GeodesicCenter};
+pub(crate) use sphere::{cross, dot, sub};
 pub use sphere::{
     sphere_delaunay, sphere_delaunay_watched, sphere_spanning_tree, sphere_spanning_tree_watched, sphere_voronoi_cells,
     sphere_voronoi_cells_watched, SphereCellOptions, SphereCells, SphereTree, SphereTriangulation,

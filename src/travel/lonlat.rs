@@ -13,7 +13,7 @@
 //!   that strays from that geodesic by more than [`MAX_DEPARTURE`] of its length — over or
 //!   near a pole, or with (nearly) antipodal ends — is refused ([`departure`]).
 
-use crate::geodesic::{angle_between, normalised_longitude, unit_normal};
+use crate::geodesic::{angle_between, cross, dot, normalised_longitude, sub, unit_normal};
 use crate::geometry::Point;
 
 /// Largest distance, as a share of its length, by which a segment drawn straight in
@@ -67,11 +67,9 @@ pub(crate) fn departure(a: Point, b: Point) -> f64 {
     // measured from u: both work on the chord v − u, so a street of centimetres keeps its
     // digits (u × v and the midpoint's own direction cancel to rounding noise of about
     // 1e-16 / arc², which called a 9 cm street 33 % off its geodesic).
-    let chord = [v[0] - u[0], v[1] - u[1], v[2] - u[2]];
-    let n = [u[1] * chord[2] - u[2] * chord[1], u[2] * chord[0] - u[0] * chord[2], u[0] * chord[1] - u[1] * chord[0]];
-    let sine = (n[0] * n[0] + n[1] * n[1] + n[2] * n[2]).sqrt();
-    let cosine = u[0] * v[0] + u[1] * v[1] + u[2] * v[2];
-    if cosine < 0.0 && sine < 1e-9 {
+    let n = cross(u, sub(v, u));
+    let sine = dot(n, n).sqrt();
+    if dot(u, v) < 0.0 && sine < 1e-9 {
         // (Nearly) antipodal ends: no one geodesic joins them.
         return f64::INFINITY;
     }
@@ -79,8 +77,7 @@ pub(crate) fn departure(a: Point, b: Point) -> f64 {
         return 0.0;
     }
     let m = unit_normal([0.5 * (a[0] + b[0]), 0.5 * (a[1] + b[1])]);
-    let w = [m[0] - u[0], m[1] - u[1], m[2] - u[2]];
-    let off = ((w[0] * n[0] + w[1] * n[1] + w[2] * n[2]) / sine).clamp(-1.0, 1.0).asin().abs();
+    let off = (dot(sub(m, u), n) / sine).clamp(-1.0, 1.0).asin().abs();
     // The midpoint must also lie between the ends (not on the far side of the great circle).
     let beyond = (angle_between(m, u).max(angle_between(m, v)) - arc).max(0.0);
     off.max(beyond) / arc

@@ -39,8 +39,9 @@ use crate::cancel::{cancelled, each_watched, Watch};
 use crate::error::{Error, Result};
 use crate::geometry::Point;
 use crate::network::union_find::UnionFind;
-pub(crate) use hull::Vec3;
-use hull::{convex_hull, cross, dot, flat_faces, orient, Hull, Span};
+use hull::{convex_hull, flat_faces, orient, Hull, Span};
+/// Three-vector arithmetic, shared with the travel family's lon/lat shapes.
+pub(crate) use hull::{cross, dot, sub, Vec3};
 
 pub use cells::{sphere_voronoi_cells, sphere_voronoi_cells_watched, SphereCellOptions, SphereCells};
 
