@@ -133,16 +133,20 @@ def test_continuous_capacitated_p_median_with_a_heavy_town_beside_light_ones():
     assert plan.total_cost == pytest.approx(2.0, rel=1e-6)
 
 
+def _fifty_points_three_sites():
+    """The unscaled instance of the scale checks: 50 points and 3 sites uniform in a 10 x 10
+    square (seed 2), capacities 20, 20 and 10 (exactly the demand)."""
+    rng = np.random.default_rng(2)
+    return rng.uniform(0, 10, size=(50, 2)), rng.uniform(0, 10, size=(3, 2)), np.array([20.0, 20.0, 10.0])
+
+
 @pytest.mark.parametrize("scale", [1e-300, 1e-200, 1e200, 1e300])
 def test_allocation_and_p_median_are_scale_free(scale):
     # Input: coordinates scaled by 1e-300. Wrong answer: a plan 1.42 times the optimum (the
     # squared differences underflowed to 0, so every distance read as 0 to the solver).
     # Outside check: scipy.optimize.linprog (HiGHS) on the unscaled program; the optimum
     # scales with the coordinates.
-    rng = np.random.default_rng(2)
-    points = rng.uniform(0, 10, size=(50, 2))
-    sites = rng.uniform(0, 10, size=(3, 2))
-    caps = np.array([20.0, 20.0, 10.0])
+    points, sites, caps = _fifty_points_three_sites()
     best = split_linprog(points, sites, caps, np.ones(50))
     plan = pw.capacity_allocation(points * scale, sites * scale, caps)
     assert plan.total_cost / scale == pytest.approx(best, rel=1e-9)
@@ -161,10 +165,7 @@ def test_capacity_cells_are_scale_free(scale):
     # region and each point lying in its site's cell.
     import shapely
 
-    rng = np.random.default_rng(2)
-    points = rng.uniform(0, 10, size=(50, 2))
-    sites = rng.uniform(0, 10, size=(3, 2))
-    caps = np.array([20.0, 20.0, 10.0])
+    points, sites, caps = _fifty_points_three_sites()
     c = cdist(points, sites) ** 2
     res = linprog(c.ravel(), A_ub=np.kron(np.ones(50), np.eye(3)), b_ub=caps,
                   A_eq=np.kron(np.eye(50), np.ones(3)), b_eq=np.ones(50), method="highs")
