@@ -170,12 +170,50 @@ def limited_reference(n: int, seconds: float, m: int = 200) -> None:
           f"{res.fun if res.status == 0 else '-'} | {note}", flush=True)
 
 
+def single_source_quality(sets: list[tuple[int, int, int, float]]) -> None:
+    """Single-source plans against ``scipy.optimize.milp`` (HiGHS) on the single-source
+    program, one line per instance set ``(count, points, sites, slack)``: how far the plans
+    lie above milp's optimum (worst, mean, how many above it), how many the search proved
+    optimal, and the time of placewise's calls and of milp's."""
+    import time
+
+    from test_capacity_audit import single_source_milp, tight_instances
+
+    print("| instances | above milp (worst / mean) | above it | refused | proven optimal | placewise | milp",
+          flush=True)
+    for count, n, m, slack in sets:
+        excess, proven, refused, ours_s, milp_s = [], 0, 0, 0.0, 0.0
+        for points, sites, caps, weights in tight_instances(20, count, n, m, slack):
+            start = time.perf_counter()
+            best = single_source_milp(points, sites, caps, weights)
+            milp_s += time.perf_counter() - start
+            if best is None:
+                continue
+            start = time.perf_counter()
+            try:
+                plan = pw.capacity_allocation(points, sites, caps, weights, split=False)
+            except pw.InputError:  # no plan found although milp has one
+                refused += 1
+                continue
+            finally:
+                ours_s += time.perf_counter() - start
+            excess.append(plan.total_cost / best - 1)
+            proven += plan.relative_gap == 0.0
+        e = np.array(excess)
+        print(f"| {len(e) + refused} of {n} x {m}, slack {slack} | {e.max():.3%} / {e.mean():.3%} | "
+              f"{np.sum(e > 1e-9)} | {refused} | {proven} | {ours_s:.2f} s | {milp_s:.2f} s", flush=True)
+
+
 if __name__ == "__main__":
     # python bench_capacity.py 2000,5000,10000,100000 2000,5000,10000
     # python bench_capacity.py cells 100000x100,300000x300,1000000x1000
     # python bench_capacity.py limit 100000 1200
+    # python bench_capacity.py single
     if sys.argv[1] == "limit":
         limited_reference(int(sys.argv[2]), float(sys.argv[3]))
+        sys.exit()
+    if sys.argv[1] == "single":
+        single_source_quality([(200, 8, 3, 1.0), (50, 40, 5, 1.05), (20, 100, 8, 1.05), (20, 100, 8, 1.2)])
         sys.exit()
     if sys.argv[1] == "cells":
         cells_scaling([tuple(int(v) for v in size.split("x")) for size in sys.argv[2].split(",")])

@@ -4,19 +4,20 @@
 //!   [`super::transport`]. The optimal capacity prices `y_j` certify it: every point is served
 //!   only by sites minimising `distance + y_j`, and `y_j = 0` wherever a site has slack.
 //! - Single source (`split = false`): a heuristic (the problem is NP-hard), the best of the
-//!   split plan rounded and two packing starts, each improved by shifts (see
-//!   [`single_source`]). The split plan's cost is a lower bound on any single-source plan (it
+//!   split plan rounded, two packing starts and a regret-first start, each improved by
+//!   shifts and swaps (see [`super::single_source`]). The split plan's cost is a lower bound on any single-source plan (it
 //!   is the linear-programming relaxation), so the reported `relative_gap` is proven.
 //! - Shortfall: when the capacities cannot hold the demand, the caller either gets
-//!   [`Error::Shortfall`] or, with `allow_unserved`, a virtual site of capacity equal to the
-//!   shortfall and the same cost `C` from every point takes it. As every plan sends exactly
+//!   [`Error::Shortfall`](crate::error::Error::Shortfall) or, with `allow_unserved`, a
+//!   virtual site of capacity equal to the shortfall and the same cost `C` from every point takes it. As every plan sends exactly
 //!   the shortfall there, `C` does not change the optimum: the plan serves the most demand
 //!   possible at least cost, and what it leaves unserved is reported per point.
 
-use super::transport::{transport_watched, Flows, Plan, SITE_ROUNDING};
+use super::single_source::single_source;
+use super::transport::{transport_watched, Flows, Plan};
 use super::{plain_distance, relative_gap, shortfall, validate};
 use crate::cancel::{Clock, RunLimits, Steps};
-use crate::error::{Error, Result};
+use crate::error::Result;
 use crate::geometry::{distance, BoundingBox, CompensatedSum, Point, Weights};
 
 /// Options of [`capacity_allocation`].
@@ -68,7 +69,9 @@ pub struct CapacityAllocation {
     pub total_demand: f64,
     /// `Σ unserved`.
     pub total_unserved: f64,
-    /// Cost of the optimal split plan: a proven lower bound on `total_cost`.
+    /// A proven lower bound on `total_cost`: the cost of the optimal split plan, or, for a
+    /// single-source plan the exhaustive search proved optimal (small instances), that
+    /// plan's own cost.
     pub lower_bound: f64,
     /// `(total_cost − lower_bound) / total_cost`: 0 for the split plan; NaN when a
     /// single-source plan leaves more demand unserved than the split plan (costs of
@@ -109,8 +112,9 @@ pub(crate) fn split_plan(
 ///
 /// # Errors
 /// Bad points, sites, weights or capacities (see [`super::validate`]);
-/// [`Error::Shortfall`] when total capacity is below total demand and
-/// `options.allow_unserved` is false; [`Error::Degenerate`] naming `capacities` when
+/// [`Error::Shortfall`](crate::error::Error::Shortfall) when total capacity is below total
+/// demand and `options.allow_unserved` is false;
+/// [`Error::Degenerate`](crate::error::Error::Degenerate) naming `capacities` when
 /// `split = false` finds no single-source placement for a point (no site has room for it
 /// whole) and unserved demand is not allowed.
 ///
@@ -164,13 +168,19 @@ pub(crate) fn allocate_on_clock(
     steps.step();
     let m = sites.len();
     let mut flows = plan.flows;
-    let lower_bound = served_cost(points, sites, &flows, m);
+    let mut lower_bound = served_cost(points, sites, &flows, m);
+    let mut proven = false;
     if !options.split {
-        single_source(points, sites, capacities, weights, &mut flows, options.allow_unserved)?;
+        let prices = (short == 0.0).then(|| &plan.price[..m]);
+        proven = single_source(points, sites, capacities, weights, &mut flows, prices, options.allow_unserved)?;
     }
     steps.finish();
     let mut out = describe(points, sites, capacities, weights, &flows, demand);
     out.price = plan.price[..m].to_vec();
+    if proven {
+        // The exhaustive search closed the gap: no single-source plan costs less.
+        lower_bound = out.total_cost;
+    }
     out.lower_bound = lower_bound;
     out.split = options.split;
     out.augmentations = plan.augmentations;
@@ -190,227 +200,6 @@ fn served_cost(points: &[Point], sites: &[Point], flows: &[Vec<(u32, f64)>], m: 
         }
     }
     sum.total()
-}
-
-/// Single sources: every point served whole by one site (or, with `allow_unserved`, left
-/// unserved whole). This is the single-source (generalised assignment) problem, NP-hard, so
-/// the plan is a heuristic one; the split plan's cost bounds it from below.
-///
-/// Three starts, each completed by the same improvement:
-/// 1. the split plan rounded: points it serves whole stay, the shared ones go whole, heaviest
-///    first (then by row), to the cheapest site with room;
-/// 2. every point, heaviest first, to the cheapest site with room;
-/// 3. every point, heaviest first, to the site with least room that still holds it (best
-///    fit decreasing, the bin-packing rule), nearest first among equal rooms.
-///
-/// A point with no site left for it is first offered one ejection: a point at one of its
-/// sites moves to another site with room, freeing enough for it. Then shifts (a point to a
-/// cheaper site with room, an unserved point to any) run until none lowers the cost. The
-/// plan kept serves the most demand, then costs least; rounding alone fails on tight
-/// capacities (the points it keeps can leave no site room for the shared ones), where the
-/// packing starts still find a plan.
-fn single_source(
-    points: &[Point],
-    sites: &[Point],
-    capacities: &[f64],
-    weights: Weights<'_>,
-    flows: &mut [Vec<(u32, f64)>],
-    allow_unserved: bool,
-) -> Result<()> {
-    let m = sites.len();
-    let n = points.len();
-    let mut heavy: Vec<usize> = (0..n).filter(|&i| weights.get(i) > 0.0).collect();
-    heavy.sort_by(|&a, &b| weights.get(b).total_cmp(&weights.get(a)).then(a.cmp(&b)));
-    // Start 1: the split plan rounded.
-    let mut rounded: Vec<Option<usize>> = vec![None; n];
-    let mut kept = vec![false; n];
-    for (i, f) in flows.iter().enumerate() {
-        if let [(j, _)] = f.as_slice() {
-            if (*j as usize) < m {
-                rounded[i] = Some(*j as usize);
-                kept[i] = true;
-            }
-        }
-    }
-    let shared: Vec<usize> = heavy.iter().copied().filter(|&i| !kept[i]).collect();
-    let starts = [
-        Packing::new(points, sites, capacities, weights).place(&rounded, &shared, Fit::Cheapest),
-        Packing::new(points, sites, capacities, weights).place(&vec![None; n], &heavy, Fit::Cheapest),
-        Packing::new(points, sites, capacities, weights).place(&vec![None; n], &heavy, Fit::Tightest),
-    ];
-    let best = starts
-        .into_iter()
-        .map(|mut packing| {
-            packing.improve(&heavy);
-            packing
-        })
-        .min_by(|a, b| a.unserved().total_cmp(&b.unserved()).then(a.cost().total_cmp(&b.cost())))
-        .expect("three starts");
-    if !allow_unserved {
-        if let Some(&i) = heavy.iter().find(|&&i| best.at[i].is_none()) {
-            return Err(Error::Degenerate {
-                argument: "capacities",
-                reason: format!(
-                    "the single-source heuristic found no site with room for the whole demand of points[{i}] ({}) \
-                     once the others were placed (a single-source plan may still exist: finding one is a packing \
-                     problem this heuristic does not solve exactly); allow split demand or unserved demand",
-                    weights.get(i)
-                ),
-            });
-        }
-    }
-    for (i, f) in flows.iter_mut().enumerate() {
-        if weights.get(i) > 0.0 {
-            *f = vec![(best.at[i].unwrap_or(m) as u32, weights.get(i))];
-        }
-    }
-    Ok(())
-}
-
-/// Where a point goes among the sites with room for it.
-#[derive(Clone, Copy)]
-enum Fit {
-    /// The nearest (then the lowest row).
-    Cheapest,
-    /// The least room left after it (then the nearest, then the lowest row).
-    Tightest,
-}
-
-/// A single-source plan under construction: each point's site and each site's load.
-struct Packing<'a> {
-    points: &'a [Point],
-    sites: &'a [Point],
-    capacities: &'a [f64],
-    weights: Weights<'a>,
-    at: Vec<Option<usize>>,
-    load: Vec<f64>,
-}
-
-impl<'a> Packing<'a> {
-    fn new(points: &'a [Point], sites: &'a [Point], capacities: &'a [f64], weights: Weights<'a>) -> Packing<'a> {
-        let (n, m) = (points.len(), sites.len());
-        Packing { points, sites, capacities, weights, at: vec![None; n], load: vec![0.0; m] }
-    }
-
-    fn room(&self, j: usize) -> f64 {
-        self.capacities[j] - self.load[j]
-    }
-
-    /// Room for point `i` at site `j`, up to the rounding of that site's own amounts (a
-    /// slop relative to all the capacity let whole small points into full large sites).
-    fn fits(&self, i: usize, j: usize) -> bool {
-        self.holds(j, self.room(j), self.weights.get(i))
-    }
-
-    /// Whether `room` at site `j` holds a demand `w`, by the rule of [`Packing::fits`].
-    fn holds(&self, j: usize, room: f64, w: f64) -> bool {
-        room >= w - SITE_ROUNDING * self.capacities[j].max(w)
-    }
-
-    fn cost_of(&self, i: usize, j: usize) -> f64 {
-        distance(self.points[i], self.sites[j])
-    }
-
-    fn put(&mut self, i: usize, j: Option<usize>) {
-        let w = self.weights.get(i);
-        if let Some(old) = self.at[i] {
-            self.load[old] -= w;
-        }
-        if let Some(new) = j {
-            self.load[new] += w;
-        }
-        self.at[i] = j;
-    }
-
-    /// Keep the points `fixed` places, then place `order` by `fit`; a point that fits
-    /// nowhere tries one ejection, else stays unserved.
-    fn place(mut self, fixed: &[Option<usize>], order: &[usize], fit: Fit) -> Packing<'a> {
-        for (i, j) in fixed.iter().enumerate() {
-            if j.is_some() {
-                self.put(i, *j);
-            }
-        }
-        for &i in order {
-            let pick = (0..self.sites.len()).filter(|&j| self.fits(i, j)).min_by(|&a, &b| {
-                let near = self.cost_of(i, a).total_cmp(&self.cost_of(i, b));
-                match fit {
-                    Fit::Cheapest => near.then(a.cmp(&b)),
-                    Fit::Tightest => self.room(a).total_cmp(&self.room(b)).then(near).then(a.cmp(&b)),
-                }
-            });
-            match pick {
-                Some(j) => self.put(i, Some(j)),
-                None => self.eject_for(i),
-            }
-        }
-        self
-    }
-
-    /// Make room for unplaced point `i`: at its sites nearest first, move one point that
-    /// frees enough to another site with room for it (the cheapest such move).
-    fn eject_for(&mut self, i: usize) {
-        let w = self.weights.get(i);
-        let m = self.sites.len();
-        let mut order: Vec<usize> = (0..m).collect();
-        order.sort_by(|&a, &b| self.cost_of(i, a).total_cmp(&self.cost_of(i, b)).then(a.cmp(&b)));
-        for j in order {
-            let mut best: Option<(f64, usize, usize)> = None;
-            for k in 0..self.points.len() {
-                if self.at[k] != Some(j) || !self.holds(j, self.room(j) + self.weights.get(k), w) {
-                    continue;
-                }
-                for l in (0..m).filter(|&l| l != j && self.fits(k, l)) {
-                    let extra = self.cost_of(k, l) - self.cost_of(k, j);
-                    if best.is_none_or(|(e, _, _)| extra < e) {
-                        best = Some((extra, k, l));
-                    }
-                }
-            }
-            if let Some((_, k, l)) = best {
-                self.put(k, Some(l));
-                self.put(i, Some(j));
-                return;
-            }
-        }
-    }
-
-    /// Shift points while that serves more or costs less: an unserved point to its
-    /// cheapest site with room, a served one to a cheaper site with room.
-    fn improve(&mut self, order: &[usize]) {
-        let m = self.sites.len();
-        for _ in 0..64 {
-            let mut moved = false;
-            for &i in order {
-                let here = self.at[i].map_or(f64::INFINITY, |j| self.cost_of(i, j));
-                let better = (0..m)
-                    .filter(|&j| Some(j) != self.at[i] && self.fits(i, j) && self.cost_of(i, j) < here)
-                    .min_by(|&a, &b| self.cost_of(i, a).total_cmp(&self.cost_of(i, b)).then(a.cmp(&b)));
-                if let Some(j) = better {
-                    self.put(i, Some(j));
-                    moved = true;
-                }
-            }
-            if !moved {
-                break;
-            }
-        }
-    }
-
-    fn unserved(&self) -> f64 {
-        let mut sum = CompensatedSum::default();
-        (0..self.points.len()).filter(|&i| self.at[i].is_none()).for_each(|i| sum.add(self.weights.get(i)));
-        sum.total()
-    }
-
-    fn cost(&self) -> f64 {
-        let mut sum = CompensatedSum::default();
-        for (i, j) in self.at.iter().enumerate() {
-            if let Some(j) = j {
-                sum.add(self.weights.get(i) * self.cost_of(i, *j));
-            }
-        }
-        sum.total()
-    }
 }
 
 /// The per-point and per-site tables of a plan (sites `0..m` real, `m` virtual).
@@ -491,6 +280,7 @@ fn describe(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::error::Error;
     use crate::partition::testing::lcg_cloud;
 
     #[test]

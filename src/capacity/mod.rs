@@ -13,6 +13,7 @@
 mod allocation;
 mod cells;
 mod median;
+mod single_source;
 mod transport;
 
 pub use allocation::{capacity_allocation, AllocationOptions, CapacityAllocation};

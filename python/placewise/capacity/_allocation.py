@@ -39,9 +39,11 @@ class CapacityPlan(Result):
     total_cost, total_demand, total_unserved : float
         ``Σ cost``, ``Σ weights`` and ``Σ unserved``.
     lower_bound, relative_gap : float
-        The split plan's cost (a proven lower bound) and
-        ``(total_cost - lower_bound) / total_cost``: 0 for a split plan; NaN when a
-        single-source plan leaves more demand unserved than the split one.
+        A proven lower bound on the cost of any plan of the same kind (the split plan's
+        cost; for a single-source plan the exhaustive search proved optimal, that plan's
+        own cost) and ``(total_cost - lower_bound) / total_cost``: 0 for a split plan and a
+        proven single-source optimum; NaN when a single-source plan leaves more demand
+        unserved than the split one.
     split : bool
         Whether demand was allowed to split.
     augmentations : int
@@ -150,13 +152,17 @@ def capacity_allocation(
     With ``split=True`` the plan is the exact optimum of the transportation problem (a
     point's demand may be shared between sites); at most ``m - 1`` points are shared in a
     vertex solution, and with integral weights and capacities the plan is integral. With
-    ``split=False`` every point is served whole by one site: that single-source problem is
-    NP-hard, and the plan is a heuristic one, not a proven optimum. It is the best of three
-    starts (the split plan with its shared points placed whole, heaviest first, at the
-    cheapest site with room; every point, heaviest first, at the cheapest site with room;
-    and at the site with least room that holds it), each improved by moving points to
-    cheaper sites with room. The split optimum is a proven lower bound
-    (``lower_bound``), so ``relative_gap`` bounds how far the plan can be from the best.
+    ``split=False`` every point is served whole by one site: that single-source problem
+    (the generalised assignment problem) is NP-hard. The plan is the best of three starts
+    (the split plan with its shared points placed whole, heaviest first, at the cheapest
+    site with room; every point, heaviest first, at the cheapest site with room; and at the
+    site with least room that holds it), each improved by moving a point to a cheaper site
+    with room and by two points trading sites (Osman 1995), within a fixed budget of work.
+    The split optimum is a proven lower bound (``lower_bound``), so ``relative_gap`` bounds
+    how far the plan can be from the best. With at most 256 points with demand and
+    capacity for all of it, an exhaustive search (branch and bound under the split plan's
+    capacity prices) follows within a fixed budget of work: when it finishes, the plan is
+    the proven single-source optimum, ``lower_bound`` its cost and ``relative_gap`` 0.
 
     Parameters
     ----------
@@ -170,7 +176,8 @@ def capacity_allocation(
         Finite, non-negative demand per point, not all zero. Default: all 1.
     split : bool
         Allow a point's demand to be shared between sites (exact); False serves each point
-        whole from one site (heuristic, with the proven ``relative_gap``).
+        whole from one site (heuristic with the proven ``relative_gap``, proven optimal on
+        small instances when the gap is 0).
     allow_unserved : bool
         When total capacity is below total demand, serve what fits and report the rest
         (``unserved``) instead of refusing.

@@ -40,9 +40,13 @@ def _cmd_capacity_allocation(args: argparse.Namespace) -> None:
             f"{int(s['split_points'].iloc[0])} row(s) split between sites; unserved {float(s['unserved'].iloc[0]):.6g}")
     if args.single_source:
         gap = float(s["relative_gap"].iloc[0])
-        text += "; single-source plan by heuristic, "
-        text += (f"relative gap to the split plan {gap:.3g}" if gap == gap else
-                 "which leaves more demand unserved than the split plan: no gap is proven")
+        if gap == 0.0:
+            text += "; single-source plan proven optimal (its cost meets the proven lower bound)"
+        elif gap == gap:
+            text += f"; single-source plan by heuristic, relative gap to the split plan {gap:.3g}"
+        else:
+            text += ("; single-source plan by heuristic, which leaves more demand unserved than the split plan: "
+                     "no gap is proven")
     _note(args, text)
 
 
