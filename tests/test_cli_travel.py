@@ -194,6 +194,34 @@ def test_network_siting_names_a_column_of_the_homes_it_replaces(files, capsys):
     np.testing.assert_allclose(got["cost_m"].to_numpy(), c.min(axis=0), rtol=1e-12)
 
 
+def test_a_network_of_multi_part_streets_travels_as_its_blocks(files, capsys):
+    # Each east-west street stored as one MultiLineString of its blocks, each block-long
+    # minute column shared among them by length: the costs are scipy's dijkstra on the
+    # blocks (all both ways, one minute per block).
+    path, homes, depots, _ = files
+    ends, _ = _grid()
+    rows, minutes = [], []
+    for y in range(SIDE):
+        blocks = [[np.multiply(a, STEP), np.multiply(b, STEP)] for a, b in ends if a[1] == b[1] == y]
+        rows.append(shapely.MultiLineString(blocks))
+        minutes.append(float(len(blocks)))
+    for a, b in ends:
+        if a[0] == b[0]:
+            rows.append(shapely.LineString([np.multiply(a, STEP), np.multiply(b, STEP)]))
+            minutes.append(1.0)
+    gpd.GeoDataFrame({"minutes": minutes}, geometry=rows, crs=CRS).to_file(path / "streets_multi.geojson")
+    out = path / "costs_multi.csv"
+    code = main(["travel-costs", str(path / "homes.csv"), "--crs", CRS, "--network",
+                 str(path / "streets_multi.geojson"), "--destinations", str(path / "depots.csv"), "--cost",
+                 "minutes", "-o", str(out), "-q"])
+    assert code == 0, capsys.readouterr().err
+    got = pd.read_csv(out)
+    ref = _reference(ends, np.zeros(len(ends), dtype=int))[np.ix_(homes, depots)] / STEP
+    mine = np.full(ref.shape, np.inf)
+    mine[got["origin"].to_numpy() - 2, got["destination"].to_numpy() - 2] = got["cost_u"].to_numpy()
+    np.testing.assert_allclose(mine, ref, rtol=1e-12)
+
+
 def test_missing_network_column_is_one_line(files, capsys):
     path, *_ = files
     code = main(["network-catchments", str(path / "homes.csv"), "--crs", CRS, "--network",

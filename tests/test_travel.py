@@ -399,7 +399,7 @@ def test_bad_edges_are_named(kwargs, argument, row):
 
 def test_bad_lines_are_named():
     shapely = pytest.importorskip("shapely")
-    with pytest.raises(pw.InputError, match=r"lines\[1\]: expected a LineString; got Point"):
+    with pytest.raises(pw.InputError, match=r"lines\[1\]: expected a LineString or MultiLineString; got Point"):
         pw.TravelGraph.from_lines([shapely.LineString([(0, 0), (1, 0)]), shapely.Point(0, 0)])
     with pytest.raises(pw.InputError, match=r"lines\[1\]: a line needs at least 2 points; got 0"):
         pw.TravelGraph.from_lines([shapely.LineString([(0, 0), (1, 0)]), shapely.LineString()])

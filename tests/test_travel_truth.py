@@ -482,21 +482,22 @@ def test_travel_imports_and_answers_without_geopandas_or_pyproj():
 # ------------------------------------------------------------------ shapes refused
 
 
-def test_multi_part_lines_are_refused_by_row_and_their_parts_answer_as_lines():
-    # Reference: shapely's lengths of the parts (GeoDataFrame.explode splits them).
+def test_missing_and_short_lines_are_refused_by_row_and_multi_part_rows_answer_as_their_parts():
+    # Reference: shapely's lengths of the parts (GeoDataFrame.explode splits them); the
+    # multi-part row travels as its parts do (more in test_travel_multipart).
     gpd = pytest.importorskip("geopandas")
     multi = shapely.MultiLineString([[(0, 0), (3, 4)], [(3, 4), (3, 10)]])
     frame = gpd.GeoDataFrame(geometry=[shapely.LineString([(0, 0), (-5, 0)]), multi], index=["a", "b"],
                              crs="EPSG:32631")
-    with pytest.raises(pw.InputError, match=r"lines\['b'\]: expected a LineString; got MultiLineString.*explode"):
-        pw.TravelGraph.from_lines(frame)
     with pytest.raises(pw.InputError, match=r"lines\[1\]: a line needs at least 2 points; got 1"):
         pw.TravelGraph.from_lines([[(0, 0), (1, 0)], [(5, 5)]])
     gone = gpd.GeoDataFrame(geometry=[shapely.LineString([(0, 0), (1, 0)]), None], index=["a", "gone"])
-    with pytest.raises(pw.InputError, match=r"lines\['gone'\]: expected a LineString; got missing") as caught:
+    with pytest.raises(pw.InputError, match=r"lines\['gone'\]: expected a LineString or MultiLineString; got missing"
+                       ) as caught:
         pw.TravelGraph.from_lines(gone)
     assert caught.value.row == "gone"
     parts = frame.explode(index_parts=False)
-    g = pw.TravelGraph.from_lines(parts)
-    np.testing.assert_allclose(g.edges_frame()["cost_forward_m"], shapely.length(parts.geometry), rtol=1e-12)
-    assert g.costs([[-5, 0]], [[3, 10]])[0, 0] == pytest.approx(5 + 5 + 6, rel=1e-12)
+    for lines in (parts, frame):
+        g = pw.TravelGraph.from_lines(lines)
+        np.testing.assert_allclose(g.edges_frame()["cost_forward_m"], shapely.length(parts.geometry), rtol=1e-12)
+        assert g.costs([[-5, 0]], [[3, 10]])[0, 0] == pytest.approx(5 + 5 + 6, rel=1e-12)

@@ -332,4 +332,5 @@ def travel_from_lines(
     tolerance: Any,
     split_crossings: bool = ...,
     geodesic: bool = ...,
+    parts: ArrayLike | None = ...,
 ) -> TravelNetwork: ...

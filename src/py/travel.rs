@@ -175,11 +175,21 @@ fn travel_from_edges(
     Ok(TravelNetwork { graph })
 }
 
+/// Offsets (`offsets`, `parts`) as non-negative positions.
+fn positions_arg(obj: &Bound<'_, PyAny>, argument: &str) -> PyResult<Vec<usize>> {
+    labels_arg(obj, argument)?
+        .as_slice()?
+        .iter()
+        .map(|&o| usize::try_from(o).map_err(|_| argument_error(argument, format!("{argument} must be >= 0; got {o}"))))
+        .collect()
+}
+
 /// A graph from lines given as coordinates and offsets (line `i` is
-/// `coords[offsets[i]:offsets[i + 1]]`).
+/// `coords[offsets[i]:offsets[i + 1]]`); with `parts`, row `r` is made of the lines
+/// `parts[r]:parts[r + 1]` (multi-part geometries) and the columns hold one value per row.
 #[pyfunction]
 #[allow(clippy::too_many_arguments)]
-#[pyo3(signature = (coords, offsets, cost, reverse_cost, one_way, tolerance, split_crossings=false, geodesic=false))]
+#[pyo3(signature = (coords, offsets, cost, reverse_cost, one_way, tolerance, split_crossings=false, geodesic=false, parts=None))]
 fn travel_from_lines(
     py: Python<'_>,
     coords: &Bound<'_, PyAny>,
@@ -190,14 +200,11 @@ fn travel_from_lines(
     tolerance: &Bound<'_, PyAny>,
     split_crossings: bool,
     geodesic: bool,
+    parts: Option<&Bound<'_, PyAny>>,
 ) -> PyResult<TravelNetwork> {
     let coords = points_arg(coords, "lines")?;
-    let offsets = labels_arg(offsets, "offsets")?;
-    let offsets: Vec<usize> = offsets
-        .as_slice()?
-        .iter()
-        .map(|&o| usize::try_from(o).map_err(|_| argument_error("offsets", format!("offsets must be >= 0; got {o}"))))
-        .collect::<PyResult<_>>()?;
+    let offsets = positions_arg(offsets, "offsets")?;
+    let parts = parts.filter(|o| !o.is_none()).map(|p| positions_arg(p, "parts")).transpose()?;
     let cost = optional_costs(cost, "cost")?;
     let reverse = optional_costs(reverse_cost, "reverse_cost")?;
     let one_way = optional_codes(one_way, "one_way")?;
@@ -212,6 +219,7 @@ fn travel_from_lines(
             tolerance,
             split_crossings,
             geodesic,
+            parts: parts.as_deref(),
         };
         TravelGraph::from_lines(xy, &offsets, &options)
     })?;

@@ -7,7 +7,7 @@ use rstar::primitives::GeomWithData;
 use rstar::RTree;
 
 use super::crossings::split_at_crossings;
-use super::graph::{polyline_length, Shapes, TravelGraph, MAX_GRAPH_INDEX};
+use super::graph::{check_cost, polyline_length, shape_length, Shapes, TravelGraph, MAX_GRAPH_INDEX};
 use super::lonlat::{departure, place_of, short_way, Unwrapped, MAX_DEPARTURE};
 use crate::error::{Error, Result};
 use crate::geodesic::normalised_longitude;
@@ -37,6 +37,15 @@ pub struct LineOptions<'a> {
     /// whatever turn their longitudes are given in; a segment that strays from its geodesic
     /// by more than 1% of its length (over or near a pole) is refused (see `lonlat`).
     pub geodesic: bool,
+    /// Input rows of several lines each (multi-part geometries): row `r` is made of the lines
+    /// `parts[r]..parts[r + 1]`, each its own chain of vertices joined to others only at its
+    /// ends (as separate lines are). `cost`, `reverse_cost` and `one_way` then hold one value
+    /// per row: every part keeps the row's one-way code, and a row's cost is shared among its
+    /// parts in proportion to their lengths (planar, or geodesic with `geodesic`), equally
+    /// when they all have length zero, so the parts' costs add up to the row's.
+    /// [`TravelGraph::edge_lines`] maps edges to rows, and errors name rows. `None`: each line
+    /// is its own row.
+    pub parts: Option<&'a [usize]>,
 }
 
 impl TravelGraph {
@@ -50,12 +59,16 @@ impl TravelGraph {
     /// apart unless an end between them came first. Lines are split where they cross only
     /// with [`LineOptions::split_crossings`] (see `crossings` for the method).
     ///
+    /// With [`LineOptions::parts`], rows of several lines (multi-part geometries) share their
+    /// costs among their parts by length.
+    ///
     /// # Errors
     /// [`Error::InvalidEdge`] naming the row of a line with fewer than two points or a
-    /// non-finite coordinate, a bad cost or one-way code, or (geodesic) a segment that strays
-    /// from its geodesic over or near a pole; [`Error::LengthMismatch`] for
+    /// non-finite coordinate (a row without parts, or with a part of fewer than two points,
+    /// too: the part is named), a bad cost or one-way code, or (geodesic) a segment that
+    /// strays from its geodesic over or near a pole; [`Error::LengthMismatch`] for
     /// columns of the wrong length; [`Error::InvalidParameter`] for a negative or NaN
-    /// tolerance, or beyond 32-bit indices.
+    /// tolerance, offsets or parts out of order, or beyond 32-bit indices.
     ///
     /// # Runtime
     /// O(V + L log L) for V vertices and L lines.
@@ -73,6 +86,21 @@ impl TravelGraph {
                 reason: "offsets must start at 0 and end at the number of coordinates".into(),
             });
         }
+        match options.parts {
+            Some(parts) => Self::from_multipart_lines(coords, offsets, parts, options),
+            None => Self::from_single_lines(coords, offsets, options, None),
+        }
+    }
+
+    /// [`TravelGraph::from_lines`] with one line per row (`offsets` and `tolerance` checked;
+    /// `checked`: the lines' lengths from [`line_lengths`], when already measured).
+    fn from_single_lines(
+        coords: &[Point],
+        offsets: &[usize],
+        options: &LineOptions<'_>,
+        checked: Option<Vec<f64>>,
+    ) -> Result<TravelGraph> {
+        let tolerance = options.tolerance;
         let m = offsets.len() - 1;
         if m == 0 {
             return Err(Error::TooFewPoints { argument: "lines", needed: 1, got: 0, counted: "lines" });
@@ -95,69 +123,10 @@ impl TravelGraph {
                 return Err(Error::LengthMismatch { argument: "one_way", expected: m, got: o.len() });
             }
         }
-        let mut lengths = Vec::with_capacity(m);
-        for row in 0..m {
-            let (a, b) = (offsets[row], offsets[row + 1]);
-            if b < a + 2 {
-                let got = b.saturating_sub(a);
-                return Err(Error::InvalidEdge {
-                    argument: "lines",
-                    row,
-                    reason: format!("a line needs at least 2 points; got {got}"),
-                });
-            }
-            let line = &coords[a..b];
-            if let Some(p) = line.iter().find(|p| !(p[0].is_finite() && p[1].is_finite())) {
-                return Err(Error::InvalidEdge {
-                    argument: "lines",
-                    row,
-                    reason: format!("coordinate ({}, {}) is not finite", p[0], p[1]),
-                });
-            }
-            if options.geodesic {
-                let length = crate::geodesic::geodesic_length(line).map_err(|e| Error::InvalidEdge {
-                    argument: "lines",
-                    row,
-                    reason: format!("not a longitude/latitude line: {e}"),
-                })?;
-                for (k, w) in line.windows(2).enumerate() {
-                    let off = departure(w[0], w[1]);
-                    if off > MAX_DEPARTURE {
-                        let why = if w[0][1].abs() == 90.0 || w[1][1].abs() == 90.0 {
-                            format!(
-                                "it meets a pole under another longitude than its other end's, so drawn straight \
-                                 in longitude/latitude it strays from the geodesic (a meridian) between its ends by \
-                                 {:.1}% of its length: give the pole the longitude of the segment's other end",
-                                100.0 * off
-                            )
-                        } else if off.is_finite() {
-                            format!(
-                                "drawn straight in longitude/latitude it strays from the geodesic between its ends \
-                                 (which its length measures) by {:.1}% of its length, more than {}% (it passes over \
-                                 or near a pole, or is long for its latitude): add vertices along it, or project \
-                                 the lines (to a polar CRS such as EPSG:3413 or EPSG:3031 near a pole)",
-                                100.0 * off,
-                                100.0 * MAX_DEPARTURE
-                            )
-                        } else {
-                            "its ends are (nearly) antipodal, so no one geodesic joins them: add vertices along it"
-                                .to_string()
-                        };
-                        return Err(Error::InvalidEdge {
-                            argument: "lines",
-                            row,
-                            reason: format!(
-                                "segment {k}, from ({}, {}) to ({}, {}): {why}",
-                                w[0][0], w[0][1], w[1][0], w[1][1]
-                            ),
-                        });
-                    }
-                }
-                lengths.push(length);
-            } else {
-                lengths.push(polyline_length(line));
-            }
-        }
+        let lengths = match checked {
+            Some(lengths) => lengths,
+            None => line_lengths(coords, offsets, options.geodesic)?,
+        };
         if options.split_crossings {
             return Self::from_split_lines(coords, offsets, options);
         }
@@ -221,6 +190,101 @@ impl TravelGraph {
         Ok(graph)
     }
 
+    /// [`TravelGraph::from_lines`] on rows of several lines ([`LineOptions::parts`]): each
+    /// part becomes a line of its own with its share of its row's costs, and edges and errors
+    /// name rows.
+    fn from_multipart_lines(
+        coords: &[Point],
+        offsets: &[usize],
+        parts: &[usize],
+        options: &LineOptions<'_>,
+    ) -> Result<TravelGraph> {
+        let m = offsets.len() - 1;
+        if parts.is_empty() || parts[0] != 0 || parts[parts.len() - 1] != m || parts.windows(2).any(|w| w[1] < w[0]) {
+            return Err(Error::InvalidParameter {
+                name: "parts",
+                reason: "parts must start at 0, never decrease and end at the number of lines".into(),
+            });
+        }
+        let rows = parts.len() - 1;
+        if rows == 0 {
+            return Err(Error::TooFewPoints { argument: "lines", needed: 1, got: 0, counted: "lines" });
+        }
+        for (argument, column) in [("cost", options.cost), ("reverse_cost", options.reverse_cost)] {
+            if let Some(c) = column {
+                if c.len() != rows {
+                    return Err(Error::LengthMismatch { argument, expected: rows, got: c.len() });
+                }
+                for (row, &value) in c.iter().enumerate() {
+                    check_cost(argument, row, value)?;
+                }
+            }
+        }
+        if let Some(o) = options.one_way {
+            if o.len() != rows {
+                return Err(Error::LengthMismatch { argument: "one_way", expected: rows, got: o.len() });
+            }
+        }
+        // An empty geometry (no parts) is refused as an empty line is.
+        if let Some(row) = (0..rows).find(|&r| parts[r] == parts[r + 1]) {
+            return Err(Error::InvalidEdge {
+                argument: "lines",
+                row,
+                reason: "a line needs at least 2 points; got 0".into(),
+            });
+        }
+        if m > MAX_GRAPH_INDEX {
+            return Err(Error::InvalidParameter {
+                name: "lines",
+                reason: format!("{m} parts exceed the 32-bit indices of the graph"),
+            });
+        }
+        let row_of: Vec<u32> = (0..rows).flat_map(|r| std::iter::repeat_n(r as u32, parts[r + 1] - parts[r])).collect();
+        // Errors about a part (or a piece of it, already named by part) name its row, and
+        // for its shape the part within it when the row has several.
+        let named = |e: Error| match e {
+            Error::InvalidEdge { argument, row: part, reason } => {
+                let row = row_of[part] as usize;
+                let reason = if argument == "lines" && parts[row + 1] - parts[row] > 1 {
+                    format!("part {}: {reason}", part - parts[row])
+                } else {
+                    reason
+                };
+                Error::InvalidEdge { argument, row, reason }
+            }
+            other => other,
+        };
+        let lengths = line_lengths(coords, offsets, options.geodesic).map_err(named)?;
+        let mut share = vec![0.0; m];
+        for r in 0..rows {
+            let own = parts[r]..parts[r + 1];
+            let total: f64 = lengths[own.clone()].iter().sum();
+            let count = own.len() as f64;
+            for p in own {
+                share[p] = if total > 0.0 { lengths[p] / total } else { 1.0 / count };
+            }
+        }
+        let spread = |column: &[f64]| -> Vec<f64> { (0..m).map(|p| column[row_of[p] as usize] * share[p]).collect() };
+        let cost = options.cost.map(spread);
+        let reverse = options.reverse_cost.map(spread);
+        let one_way: Option<Vec<i64>> = options.one_way.map(|o| row_of.iter().map(|&r| o[r as usize]).collect());
+        let inner = LineOptions {
+            cost: cost.as_deref(),
+            reverse_cost: reverse.as_deref(),
+            one_way: one_way.as_deref(),
+            parts: None,
+            ..options.clone()
+        };
+        let mut graph = Self::from_single_lines(coords, offsets, &inner, Some(lengths)).map_err(named)?;
+        // One map from edges to input rows: through the pieces' parts when split.
+        graph.source_line = if graph.source_line.is_empty() {
+            row_of
+        } else {
+            graph.source_line.iter().map(|&part| row_of[part as usize]).collect()
+        };
+        Ok(graph)
+    }
+
     /// [`TravelGraph::from_lines`] on the lines split where they cross: the pieces' costs are
     /// their shares of their lines' costs, their one-way codes their lines' codes.
     fn from_split_lines(coords: &[Point], offsets: &[usize], options: &LineOptions<'_>) -> Result<TravelGraph> {
@@ -249,8 +313,23 @@ impl TravelGraph {
                 reason: format!("{pieces} pieces exceed the 32-bit indices of the graph"),
             });
         }
+        // Each piece's share of its line: its length over the sum of its line's pieces'
+        // lengths, measured as the graph measures them (planar, or geodesic metres on the
+        // ellipsoid for lon/lat lines: degrees shrink with latitude, metres do not).
+        let measured: Vec<f64> =
+            split.offsets.windows(2).map(|w| shape_length(&split.coords[w[0]..w[1]], options.geodesic)).collect();
+        let mut whole = vec![0.0; offsets.len() - 1];
+        for (&i, &length) in split.source.iter().zip(&measured) {
+            whole[i as usize] += length;
+        }
+        let shares: Vec<f64> = split
+            .source
+            .iter()
+            .zip(&measured)
+            .map(|(&i, &length)| if whole[i as usize] > 0.0 { length / whole[i as usize] } else { 1.0 })
+            .collect();
         let share = |column: &[f64]| -> Vec<f64> {
-            split.source.iter().zip(&split.share).map(|(&i, &f)| column[i as usize] * f).collect()
+            split.source.iter().zip(&shares).map(|(&i, &f)| column[i as usize] * f).collect()
         };
         // Without costs each piece measures itself (planar or geodesic length).
         let cost = options.cost.map(share);
@@ -263,6 +342,7 @@ impl TravelGraph {
             tolerance: options.tolerance,
             split_crossings: false,
             geodesic: options.geodesic,
+            parts: None,
         };
         // Errors about a piece (a bad cost or code) name its input line.
         let mut graph = TravelGraph::from_lines(&split.coords, &split.offsets, &inner).map_err(|e| match e {
@@ -274,6 +354,81 @@ impl TravelGraph {
         graph.source_line = split.source;
         Ok(graph)
     }
+}
+
+/// The length of every line `coords[offsets[i]..offsets[i + 1]]` (planar, or WGS84 geodesic
+/// metres with `geodesic`), each checked first.
+///
+/// # Errors
+/// [`Error::InvalidEdge`] naming the line (its index) with fewer than two points or a
+/// non-finite coordinate, or (geodesic) a segment that strays from its geodesic over or near
+/// a pole or has (nearly) antipodal ends.
+fn line_lengths(coords: &[Point], offsets: &[usize], geodesic: bool) -> Result<Vec<f64>> {
+    let m = offsets.len() - 1;
+    let mut lengths = Vec::with_capacity(m);
+    for row in 0..m {
+        let (a, b) = (offsets[row], offsets[row + 1]);
+        if b < a + 2 {
+            let got = b.saturating_sub(a);
+            return Err(Error::InvalidEdge {
+                argument: "lines",
+                row,
+                reason: format!("a line needs at least 2 points; got {got}"),
+            });
+        }
+        let line = &coords[a..b];
+        if let Some(p) = line.iter().find(|p| !(p[0].is_finite() && p[1].is_finite())) {
+            return Err(Error::InvalidEdge {
+                argument: "lines",
+                row,
+                reason: format!("coordinate ({}, {}) is not finite", p[0], p[1]),
+            });
+        }
+        if geodesic {
+            let length = crate::geodesic::geodesic_length(line).map_err(|e| Error::InvalidEdge {
+                argument: "lines",
+                row,
+                reason: format!("not a longitude/latitude line: {e}"),
+            })?;
+            for (k, w) in line.windows(2).enumerate() {
+                let off = departure(w[0], w[1]);
+                if off > MAX_DEPARTURE {
+                    let why = if w[0][1].abs() == 90.0 || w[1][1].abs() == 90.0 {
+                        format!(
+                            "it meets a pole under another longitude than its other end's, so drawn straight \
+                             in longitude/latitude it strays from the geodesic (a meridian) between its ends by \
+                             {:.1}% of its length: give the pole the longitude of the segment's other end",
+                            100.0 * off
+                        )
+                    } else if off.is_finite() {
+                        format!(
+                            "drawn straight in longitude/latitude it strays from the geodesic between its ends \
+                             (which its length measures) by {:.1}% of its length, more than {}% (it passes over \
+                             or near a pole, or is long for its latitude): add vertices along it, or project \
+                             the lines (to a polar CRS such as EPSG:3413 or EPSG:3031 near a pole)",
+                            100.0 * off,
+                            100.0 * MAX_DEPARTURE
+                        )
+                    } else {
+                        "its ends are (nearly) antipodal, so no one geodesic joins them: add vertices along it"
+                            .to_string()
+                    };
+                    return Err(Error::InvalidEdge {
+                        argument: "lines",
+                        row,
+                        reason: format!(
+                            "segment {k}, from ({}, {}) to ({}, {}): {why}",
+                            w[0][0], w[0][1], w[1][0], w[1][1]
+                        ),
+                    });
+                }
+            }
+            lengths.push(length);
+        } else {
+            lengths.push(polyline_length(line));
+        }
+    }
+    Ok(lengths)
 }
 
 /// Lon/lat lines with their longitudes in one turn ([`Unwrapped`]), each segment the shorter

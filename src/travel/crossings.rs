@@ -13,7 +13,6 @@ use rayon::prelude::*;
 use rstar::primitives::{GeomWithData, Rectangle};
 use rstar::{RTree, AABB};
 
-use super::graph::polyline_length;
 use crate::geometry::predicates::orient2d;
 use crate::geometry::Point;
 
@@ -27,12 +26,12 @@ struct Cut {
 }
 
 /// Lines cut where they cross: line `i` of the output is `coords[offsets[i]..offsets[i+1]]`,
-/// a piece of input line `source[i]` covering the share `share[i]` of its length.
+/// a piece of input line `source[i]` (its share of the line's costs is measured by the
+/// caller, as the graph measures lengths).
 pub(crate) struct SplitLines {
     pub(crate) coords: Vec<Point>,
     pub(crate) offsets: Vec<usize>,
     pub(crate) source: Vec<u32>,
-    pub(crate) share: Vec<f64>,
 }
 
 /// Where segments `a-b` and `c-d` meet in a single point, as (parameter on a-b, parameter on
@@ -116,7 +115,7 @@ pub(crate) fn split_at_crossings(coords: &[Point], offsets: &[usize]) -> SplitLi
         })
         .collect();
     cuts.sort_by(|x, y| (x.line, x.k).cmp(&(y.line, y.k)).then(x.t.total_cmp(&y.t)));
-    let mut out = SplitLines { coords: Vec::new(), offsets: vec![0], source: Vec::new(), share: Vec::new() };
+    let mut out = SplitLines { coords: Vec::new(), offsets: vec![0], source: Vec::new() };
     let mut next = 0;
     for i in 0..m {
         let line = &coords[offsets[i]..offsets[i + 1]];
@@ -130,10 +129,8 @@ pub(crate) fn split_at_crossings(coords: &[Point], offsets: &[usize]) -> SplitLi
             out.coords.extend_from_slice(line);
             out.offsets.push(out.coords.len());
             out.source.push(i as u32);
-            out.share.push(1.0);
             continue;
         }
-        let total = polyline_length(line);
         // Vertices and cuts in order along the line: vertex k, then the cuts on segment k.
         let mut stops: Vec<(Point, bool)> = Vec::with_capacity(line.len() + here.len());
         let mut c = 0;
@@ -151,8 +148,6 @@ pub(crate) fn split_at_crossings(coords: &[Point], offsets: &[usize]) -> SplitLi
                 out.coords.push(p);
             }
             if is_cut && p != first && p != last && out.coords.len() - start >= 2 {
-                let piece = &out.coords[start..];
-                out.share.push(if total > 0.0 { polyline_length(piece) / total } else { 1.0 });
                 out.offsets.push(out.coords.len());
                 out.source.push(i as u32);
                 start = out.coords.len();
@@ -160,8 +155,6 @@ pub(crate) fn split_at_crossings(coords: &[Point], offsets: &[usize]) -> SplitLi
             }
         }
         if out.coords.len() - start >= 2 {
-            let piece = &out.coords[start..];
-            out.share.push(if total > 0.0 { polyline_length(piece) / total } else { 1.0 });
             out.offsets.push(out.coords.len());
             out.source.push(i as u32);
         } else {

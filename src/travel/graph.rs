@@ -72,6 +72,17 @@ pub(crate) fn polyline_length(line: &[Point]) -> f64 {
     line.windows(2).map(|w| distance(w[0], w[1])).sum()
 }
 
+/// Length of a piece of a line as a graph measures it: planar, or (`geodesic`) metres on
+/// the WGS84 ellipsoid (Karney 2013, through the geodesic family; NaN for coordinates that
+/// are not longitude/latitude).
+pub(crate) fn shape_length(path: &[Point], geodesic: bool) -> f64 {
+    if geodesic {
+        crate::geodesic::geodesic_length(path).unwrap_or(f64::NAN)
+    } else {
+        polyline_length(path)
+    }
+}
+
 /// A street network ready for shortest-path searches.
 ///
 /// Edges keep their input order and row numbers; an edge runs from `tail` to `head` (for a
@@ -93,15 +104,15 @@ pub struct TravelGraph {
     pub(crate) shapes: Shapes,
     /// Per node, whether it is the end of exactly one edge (a dangling end).
     pub(crate) dangling: usize,
-    /// The input line of every edge when lines were split where they cross (empty: edge
-    /// `e` is input row `e`).
+    /// The input row of every edge when lines were split where they cross or rows held
+    /// several parts (empty: edge `e` is input row `e`).
     pub(crate) source_line: Vec<u32>,
     /// Whether coordinates are longitude/latitude (degrees) and lengths geodesic metres on
     /// the WGS84 ellipsoid.
     pub(crate) geodesic: bool,
 }
 
-fn check_cost(argument: &'static str, row: usize, value: f64) -> Result<()> {
+pub(crate) fn check_cost(argument: &'static str, row: usize, value: f64) -> Result<()> {
     if value.is_nan() || value < 0.0 || value == f64::INFINITY {
         return Err(Error::InvalidEdge {
             argument,
@@ -312,9 +323,9 @@ impl TravelGraph {
         })
     }
 
-    /// The input line of every edge when the lines were split where they cross
-    /// ([`LineOptions::split_crossings`](super::LineOptions)); `None` when edge `e` is input
-    /// row `e`.
+    /// The input row of every edge when the lines were split where they cross
+    /// ([`LineOptions::split_crossings`](super::LineOptions)) or rows held several parts
+    /// ([`LineOptions::parts`](super::LineOptions)); `None` when edge `e` is input row `e`.
     pub fn edge_lines(&self) -> Option<&[u32]> {
         (!self.source_line.is_empty()).then_some(&self.source_line[..])
     }
@@ -390,11 +401,7 @@ impl TravelGraph {
     /// Length of a piece of an edge's shape: planar, or geodesic metres on the WGS84
     /// ellipsoid (Karney 2013, through the geodesic family) for a geodesic graph.
     pub(crate) fn path_length(&self, path: &[Point]) -> f64 {
-        if self.geodesic {
-            crate::geodesic::geodesic_length(path).unwrap_or(f64::NAN)
-        } else {
-            polyline_length(path)
-        }
+        shape_length(path, self.geodesic)
     }
 
     /// The point at share `t` of the segment `a b` of an edge's shape, as the graph draws

@@ -140,11 +140,12 @@ impl<'g> SegmentIndex<'g> {
             let (a, b) = match turn {
                 None => (w[0], w[1]),
                 Some(turn) => turn.segment(w[0], w[1]).ok_or_else(|| Error::InvalidParameter {
-                    name: "points",
+                    name: "lines",
                     reason: format!(
-                        "the network circles the globe in longitude (edge {e} closes a ring round a pole, say), so \
-                         points cannot be attached to it in one longitude/latitude view; give node numbers, or \
-                         project the network (to a polar CRS such as EPSG:3413 or EPSG:3031 near a pole)"
+                        "the network the lines make circles the globe in longitude (edge {e} closes a ring round \
+                         a pole, say), so points cannot be attached to it in one longitude/latitude view; give \
+                         node numbers, or project the lines (to a polar CRS such as EPSG:3413 or EPSG:3031 near a \
+                         pole)"
                     ),
                 })?,
             };

@@ -460,3 +460,58 @@ fn lonlat_segments_over_a_pole_are_refused_by_row() {
         other => panic!("expected a refusal of row 1, got {other:?}"),
     }
 }
+
+#[test]
+fn parts_of_a_row_share_its_cost_by_length_and_name_the_row() {
+    // Row 0 is two parts end to end, 3 and 4 long (closed form: a row cost of 14 goes 6 and
+    // 8, adding up to 14); row 1 is one line. Every edge names its row, and the parts keep the
+    // row's one-way code.
+    let coords = [[0.0, 0.0], [3.0, 0.0], [3.0, 0.0], [3.0, 4.0], [3.0, 4.0], [0.0, 4.0]];
+    let options =
+        LineOptions { cost: Some(&[14.0, 1.0]), one_way: Some(&[1, 0]), parts: Some(&[0, 2, 3]), ..Default::default() };
+    let g = TravelGraph::from_lines(&coords, &[0, 2, 4, 6], &options).unwrap();
+    assert_eq!((g.edge_count(), g.node_count()), (3, 4));
+    assert_eq!(g.edge_lines(), Some(&[0u32, 0, 1][..]));
+    let (forward, backward) = g.edge_costs();
+    assert_eq!(forward, &[6.0, 8.0, 1.0]);
+    assert!(backward[0].is_infinite() && backward[1].is_infinite() && backward[2] == 1.0);
+    // Split where they cross (row 1 crosses row 0's first part at x = 1), the pieces still
+    // name the rows, not the parts.
+    let coords = [[0.0, 0.0], [3.0, 0.0], [3.0, 0.0], [3.0, 4.0], [1.0, -1.0], [1.0, 1.0]];
+    let split = LineOptions { parts: Some(&[0, 2, 3]), split_crossings: true, ..Default::default() };
+    let g = TravelGraph::from_lines(&coords, &[0, 2, 4, 6], &split).unwrap();
+    assert_eq!(g.edge_lines(), Some(&[0u32, 0, 0, 1, 1][..]));
+}
+
+#[test]
+fn a_row_without_parts_or_with_a_short_part_is_refused_naming_the_row() {
+    let coords = [[0.0, 0.0], [1.0, 0.0], [2.0, 0.0]];
+    // Row 1 has no parts (an empty geometry), as an empty line is refused.
+    let empty = LineOptions { parts: Some(&[0, 1, 1]), ..Default::default() };
+    match TravelGraph::from_lines(&coords[..2], &[0, 2], &empty).unwrap_err() {
+        crate::Error::InvalidEdge { argument: "lines", row: 1, reason } => assert!(reason.contains("got 0")),
+        other => panic!("{other:?}"),
+    }
+    // Row 0's second part has one point: named by row and part.
+    let short = LineOptions { parts: Some(&[0, 2]), ..Default::default() };
+    match TravelGraph::from_lines(&coords, &[0, 2, 3], &short).unwrap_err() {
+        crate::Error::InvalidEdge { argument: "lines", row: 0, reason } => {
+            assert!(reason.starts_with("part 1: a line needs at least 2 points"), "{reason}")
+        }
+        other => panic!("{other:?}"),
+    }
+    // A bad one-way code names its row (one code per row, so no part).
+    let coords4 = [[0.0, 0.0], [1.0, 0.0], [1.0, 0.0], [2.0, 0.0]];
+    let code = LineOptions { parts: Some(&[0, 2]), one_way: Some(&[5]), ..Default::default() };
+    match TravelGraph::from_lines(&coords4, &[0, 2, 4], &code).unwrap_err() {
+        crate::Error::InvalidEdge { argument: "one_way", row: 0, reason } => assert!(!reason.starts_with("part")),
+        other => panic!("{other:?}"),
+    }
+    // A bad cost names its row, with the row's own value.
+    let bad = LineOptions { parts: Some(&[0, 1, 2]), cost: Some(&[1.0, -2.0]), ..Default::default() };
+    let coords = [[0.0, 0.0], [1.0, 0.0], [1.0, 0.0], [2.0, 0.0]];
+    match TravelGraph::from_lines(&coords, &[0, 2, 4], &bad).unwrap_err() {
+        crate::Error::InvalidEdge { argument: "cost", row: 1, reason } => assert!(reason.contains("-2")),
+        other => panic!("{other:?}"),
+    }
+}

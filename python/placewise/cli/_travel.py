@@ -1,10 +1,12 @@
 """The subcommands of travel along a street network: network catchments, travel costs and
 siting by travel cost.
 
-The network is a file of lines (GeoPackage, Shapefile, GeoParquet or GeoJSON) in a projected
-CRS; points in another CRS are projected to it. Costs are the lines' lengths unless
-``--cost`` names a column; ``--one-way`` names a column of direction codes (0 both ways, 1
-along the drawing direction, -1 against it). Results are planning aids under the stated model
+The network is a file of lines, LineStrings or MultiLineStrings (GeoPackage, Shapefile,
+GeoParquet or GeoJSON), in a projected CRS; points in another CRS are projected to it. Each
+part of a MultiLineString is a line of its own. Costs are the lines' lengths unless
+``--cost`` names a column (a multi-part line's cost shared among its parts by length);
+``--one-way`` names a column of direction codes (0 both ways, 1 along the drawing direction,
+-1 against it). Results are planning aids under the stated model
 (travel along the given network at the given costs); check them against local regulations
 and licensed professional judgement.
 """
@@ -121,9 +123,10 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
     """Add this family's subcommands through ``command(name, run, help, parent_parsers)``."""
     network = argparse.ArgumentParser(add_help=False)
     network.add_argument("--network", metavar="FILE", required=True,
-                         help="lines of the street network (GeoPackage, Shapefile, GeoParquet, GeoJSON) in a "
-                              "projected CRS")
-    network.add_argument("--cost", metavar="COLUMN", help="column of each line's travel cost [its length]")
+                         help="lines of the street network, LineStrings or MultiLineStrings (GeoPackage, "
+                              "Shapefile, GeoParquet, GeoJSON) in a projected CRS")
+    network.add_argument("--cost", metavar="COLUMN", help="column of each line's travel cost, shared among the parts "
+                         "of a MultiLineString by length [its length]")
     network.add_argument("--one-way", metavar="COLUMN", help="column of direction codes: 0 both ways, 1 along the "
                          "line's drawing direction only, -1 against it only [both ways]")
     network.add_argument("--tolerance", type=float, default=0.0, metavar="DISTANCE",

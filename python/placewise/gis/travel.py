@@ -26,10 +26,12 @@ __all__ = ["network_catchments", "network_reach", "travel_costs", "travel_graph"
 
 def travel_graph(lines: Any, *, cost: Any = None, reverse_cost: Any = None, one_way: Any = None,
                  tolerance: float = 0.0, unit: str | None = None, split_crossings: bool = False) -> TravelGraph:
-    """A :class:`placewise.TravelGraph` from a GeoDataFrame of lines (projected, or lon/lat
-    with geodesic lengths in metres);
+    """A :class:`placewise.TravelGraph` from a GeoDataFrame of LineStrings and
+    MultiLineStrings (projected, or lon/lat with geodesic lengths in metres);
     ``cost``, ``reverse_cost`` and ``one_way`` may name columns (see
-    :meth:`placewise.TravelGraph.from_lines`).
+    :meth:`placewise.TravelGraph.from_lines`). Each part of a MultiLineString is a line of
+    its own, with the row's one-way value and its share of the row's costs by length; empty
+    geometries and empty parts are refused naming the row's label, as empty LineStrings are.
 
     Examples
     --------
@@ -39,6 +41,13 @@ def travel_graph(lines: Any, *, cost: Any = None, reverse_cost: Any = None, one_
     ...                                      shapely.LineString([(300, 0), (300, 400)])], crs="EPSG:32630")
     >>> travel_graph(streets)
     TravelGraph(nodes=3, edges=2, arcs=4, components=1)
+    >>> road = shapely.MultiLineString([[(0, 0), (300, 0)], [(300, 0), (300, 100)]])
+    >>> g = travel_graph(gpd.GeoDataFrame({"minutes": [2.0]}, geometry=[road], crs="EPSG:32630"), cost="minutes",
+    ...                  unit="min")
+    >>> g.edges_frame()[["cost_forward_min", "line"]]
+       cost_forward_min  line
+    0               1.5     0
+    1               0.5     0
     """
     return TravelGraph.from_lines(lines, cost=cost, reverse_cost=reverse_cost, one_way=one_way,
                                   tolerance=tolerance, unit=unit, split_crossings=split_crossings)

@@ -2,9 +2,10 @@
 
 Straight-line distance is a model; by road is another. :class:`TravelGraph` holds a street
 network the user supplies — built from line shapes (:meth:`TravelGraph.from_lines`: arrays
-of coordinates, shapely LineStrings or a GeoDataFrame) or from edge
-arrays (:meth:`TravelGraph.from_edges`) — with a cost each way on every edge (length by
-default, or a column such as travel time) and one-way edges. Points are attached to the
+of coordinates, shapely LineStrings or MultiLineStrings, or a GeoDataFrame of them) or from
+edge arrays (:meth:`TravelGraph.from_edges`) — with a cost each way on every edge (length by
+default, or a column such as travel time, shared among a MultiLineString's parts by length)
+and one-way edges. Points are attached to the
 nearest point of the nearest edge and travel starts and ends part-way along edges, in the
 directions the edges allow.
 
@@ -27,9 +28,10 @@ GeoDataFrame in a geographic CRS): edge lengths, gaps and positions along edges 
 WGS84 geodesic lengths in metres. Lon/lat lines may cross the antimeridian (each segment
 runs the shorter way round in longitude, and ends at 180 and -180, or at a pole under any
 longitude, join) and reach the poles along meridians, while a segment that strays from its
-geodesic by more than 1 % of its length (over or near a pole) is refused by row, as is
-attaching points to a network that circles a pole. Lines drawn crossing each other meet there
-only with ``split_crossings=True`` (a bridge crosses a street without meeting it).
+geodesic by more than 1 % of its length (over or near a pole) is refused by row, and
+attaching points to a network that circles a pole is refused naming the lines. Lines drawn
+crossing each other meet there only with ``split_crossings=True`` (a bridge crosses a street
+without meeting it).
 """
 
 from __future__ import annotations

@@ -33,7 +33,9 @@ class TravelGraph:
     :meth:`from_edges`).
 
     Stored compactly in the compiled core (CSR arcs with 32-bit indices; see
-    :attr:`memory_bytes`). Nodes are numbered from 0; edges keep their input rows.
+    :attr:`memory_bytes`). Nodes are numbered from 0; edges keep their input order (one
+    edge per row, unless rows have several parts or lines are split where they cross: then
+    :meth:`edges_frame` names each edge's row).
 
     Attributes
     ----------
@@ -111,14 +113,27 @@ class TravelGraph:
         order: an end within ``tolerance`` of an existing node joins the nearest one. Lines
         are joined only at their ends unless ``split_crossings`` is set.
 
+        A MultiLineString row is several lines: each part is its own chain of vertices from
+        its first point to its last, joined to other lines (and to the row's other parts)
+        only at its ends, exactly as separate lines are. The row's ``one_way`` value holds
+        for every part, and its ``cost`` and ``reverse_cost`` are shared among the parts in
+        proportion to their lengths (planar, or geodesic with ``geodesic``; equally when all
+        have length zero), so the parts' costs add up to the row's. :meth:`edges_frame`
+        and errors name the row, not the part. An empty geometry, or an empty part of a
+        MultiLineString, is refused naming its row (and the part), as an empty LineString
+        is: a line needs at least two points.
+
         Parameters
         ----------
-        lines : GeoDataFrame, GeoSeries or sequence of LineStrings or ``(k, 2)`` arrays
-            Planar coordinates (a GeoDataFrame in a geographic CRS is refused).
+        lines : GeoDataFrame, GeoSeries or sequence of LineStrings, MultiLineStrings or ``(k, 2)`` arrays
+            Planar coordinates, or longitude/latitude with ``geodesic`` (set by itself for a
+            GeoDataFrame or GeoSeries in a geographic CRS).
         cost, reverse_cost : array_like or str, optional
-            Cost per line each way (a column name for a GeoDataFrame). Default: planar length.
+            Cost per row each way (a column name for a GeoDataFrame), such as minutes.
+            Default: length (planar, or geodesic metres).
         one_way : array_like or str, optional
-            As :meth:`from_edges`, relative to the drawing direction of each line.
+            As :meth:`from_edges`, relative to the drawing direction of each line (of each
+            part of a MultiLineString).
         tolerance : float
             Joining distance for line ends (coordinate units), >= 0. With 0 (only equal
             ends join) and lines in more than one component, a warning counts the
@@ -132,7 +147,9 @@ class TravelGraph:
             a street in the drawing without meeting it, so only set it for networks drawn
             without grade separation (or after removing those lines). Each piece keeps its
             line's one-way value and the share of its cost in proportion to length;
-            :meth:`edges_frame` gives each edge's input ``line``. Crossing points are decided
+            :meth:`edges_frame` gives each edge's input ``line``. In lon/lat with
+            ``geodesic``, the share goes by geodesic length on the WGS84 ellipsoid (a degree
+            of longitude is shorter away from the equator). Crossing points are decided
             exactly (orientation tests) and rounded once; three lines through one point may
             need a small ``tolerance`` to meet in one node. Collinear overlaps are not split.
         geodesic : bool
@@ -153,10 +170,11 @@ class TravelGraph:
         Raises
         ------
         InputError
-            Naming the row of a missing, empty or non-line geometry, a bad cost or an unknown
-            one-way value; with ``geodesic``, of a segment that strays from the geodesic
-            between its ends by more than 1 % of its length (over or near a pole: add
-            vertices, or project to a polar CRS).
+            Naming the row of a missing, empty or non-line geometry (or of a MultiLineString
+            with an empty part, and the part), a bad cost or an unknown one-way value; with
+            ``geodesic``, of a segment that strays from the geodesic between its ends by more
+            than 1 % of its length (over or near a pole: add vertices, or project to a polar
+            CRS).
 
         Examples
         --------
@@ -174,6 +192,19 @@ class TravelGraph:
         1     1     2     0
         2     3     1     1
         3     1     4     1
+
+        A street stored as two parts (a MultiLineString) and a side street; the row's 14
+        minutes go 6 and 8 to parts 3 and 4 long:
+
+        >>> import shapely
+        >>> main = shapely.MultiLineString([[(0, 0), (3, 0)], [(3, 0), (3, 4)]])
+        >>> side = shapely.LineString([(3, 0), (6, 0)])
+        >>> g = pw.TravelGraph.from_lines([main, side], cost=[14.0, 2.0], unit="min")
+        >>> g.edges_frame()[["tail", "head", "cost_forward_min", "line"]]
+           tail  head  cost_forward_min  line
+        0     0     1               6.0     0
+        1     1     2               8.0     0
+        2     1     3               2.0     1
         """
         length_unit, crs, labels = "u", None, None
         if hasattr(lines, "geometry") and hasattr(lines, "crs") and hasattr(lines, "columns"):
@@ -186,10 +217,10 @@ class TravelGraph:
             geodesic = geodesic or crs.is_geographic
             length_unit = length_unit_of(crs)
         try:
-            coords, offsets = _ragged_lines(lines, labels)
+            coords, offsets, parts = _ragged_lines(lines, labels)
             codes = _one_way_codes(one_way, labels)
             core = _core.travel_from_lines(coords, offsets, cost, reverse_cost, codes, tolerance, split_crossings,
-                                           geodesic)
+                                           geodesic, parts)
         except InputError as exc:
             if labels is None:
                 raise
@@ -215,7 +246,7 @@ class TravelGraph:
 
     @property
     def edges(self) -> int:
-        """Number of edges (input rows)."""
+        """Number of edges (input rows, or their parts and pieces: see :meth:`edges_frame`)."""
         return int(self._info["edges"])
 
     @property
@@ -246,7 +277,8 @@ class TravelGraph:
     def edges_frame(self) -> Any:
         """One row per edge: ``tail``, ``head``, ``cost_forward_<unit>``,
         ``cost_backward_<unit>`` (NaN where the direction is not allowed), ``component``, and
-        ``line`` (the input row) when the lines were split where they cross."""
+        ``line`` (the input row, by position) when some rows had several parts
+        (MultiLineStrings) or the lines were split where they cross."""
         import pandas as pd
 
         i = self._info
@@ -278,8 +310,9 @@ class TravelGraph:
         ------
         InputError
             Naming the first point farther than ``max_gap`` from every edge, or when the
-            graph has no coordinates, or when a lon/lat network circles a pole (no longitude
-            is free of it, so it has no one flat view to search in).
+            graph has no coordinates; naming ``lines`` when a lon/lat network circles a pole
+            (no longitude is free of it, so it has no one flat view to search in: the fault
+            is the network's, not the points').
 
         Examples
         --------

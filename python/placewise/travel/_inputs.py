@@ -85,21 +85,31 @@ def _one_way_codes(one_way: Any, labels: Any = None) -> np.ndarray | None:
     return codes
 
 
-def _ragged_lines(lines: Any, labels: Any = None) -> tuple[np.ndarray, np.ndarray]:
-    """Coordinates and offsets of a sequence of lines (shapely LineStrings or ``(k, 2)``
-    arrays); a geometry that is not a LineString is refused naming its row (its label in
-    ``labels`` when given)."""
+def _ragged_lines(lines: Any, labels: Any = None) -> tuple[np.ndarray, np.ndarray, np.ndarray | None]:
+    """Coordinates and offsets of a sequence of lines (shapely LineStrings or
+    MultiLineStrings, or ``(k, 2)`` arrays), and for rows of several parts the parts of every
+    row (row ``r`` is lines ``parts[r]:parts[r + 1]``; None when every row is one line). A
+    geometry that is not a line is refused naming its row (its label in ``labels`` when
+    given); an empty one passes through with no coordinates (or no parts), for the core to
+    refuse by row as it refuses any line of fewer than two points."""
     items = list(lines)
+    parts = None
     if any(hasattr(item, "geom_type") or item is None for item in items):
         import shapely
 
         geoms = np.asarray(items, dtype=object)
         for row, g in enumerate(geoms):
-            if g is None or g.geom_type not in ("LineString", "LinearRing"):
+            if g is None or g.geom_type not in ("LineString", "LinearRing", "MultiLineString"):
                 kind = "missing" if g is None else g.geom_type
-                hint = "; split multi-part lines first (GeoDataFrame.explode())" if kind.startswith("Multi") else ""
                 name = row if labels is None else labels[row]
-                raise _input_error("lines", f"lines[{name!r}]: expected a LineString; got {kind}{hint}", name)
+                raise _input_error("lines", f"lines[{name!r}]: expected a LineString or MultiLineString; got {kind}",
+                                   name)
+        if any(g.geom_type == "MultiLineString" for g in geoms):
+            # Every part its own line; ``parts`` maps them back to their rows.
+            pieces, owner = shapely.get_parts(geoms, return_index=True)
+            parts = np.zeros(len(geoms) + 1, dtype=np.int64)
+            np.cumsum(np.bincount(owner, minlength=len(geoms)), out=parts[1:])
+            geoms = pieces
         coords, index = shapely.get_coordinates(geoms, return_index=True)
         counts = np.bincount(index, minlength=len(geoms))
     else:
@@ -109,7 +119,7 @@ def _ragged_lines(lines: Any, labels: Any = None) -> tuple[np.ndarray, np.ndarra
         coords = np.concatenate(arrays) if arrays else np.empty((0, 2))
     offsets = np.zeros(len(counts) + 1, dtype=np.int64)
     np.cumsum(counts, out=offsets[1:])
-    return np.ascontiguousarray(coords, dtype=np.float64), offsets
+    return np.ascontiguousarray(coords, dtype=np.float64), offsets, parts
 
 
 def _in_degrees(lines: Any) -> Any:
