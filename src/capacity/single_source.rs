@@ -93,7 +93,11 @@ pub(super) fn single_source(
     // Shifts first (cheap), then shifts and swaps, the most promising start first: the
     // swaps share one budget of pairs, and a start far behind rarely overtakes.
     for packing in &mut starts {
-        while packing.shift(&heavy) {}
+        for _ in 0..MAX_ROUNDS {
+            if !packing.shift(&heavy) {
+                break;
+            }
+        }
     }
     let ranked =
         |a: &Packing<'_>, b: &Packing<'_>| a.unserved().total_cmp(&b.unserved()).then(a.cost().total_cmp(&b.cost()));
@@ -104,10 +108,13 @@ pub(super) fn single_source(
     }
     let mut best = starts.into_iter().min_by(ranked).expect("three starts");
     let mut proven = false;
+    // The search ran to the end without a plan serving everything, and none was known.
+    let mut none_exists = false;
     if let Some(prices) = prices.filter(|_| heavy.len() <= SEARCH_MAX_POINTS) {
         let incumbent = (best.unserved() == 0.0).then(|| best.cost());
         let search = Search::new(&best, &heavy, prices);
         let (found, finished) = search.run(incumbent);
+        none_exists = finished && found.is_none() && incumbent.is_none();
         if let Some(at) = found {
             for &i in &heavy {
                 best.put(i, None);
@@ -120,12 +127,18 @@ pub(super) fn single_source(
     }
     if !allow_unserved {
         if let Some(&i) = heavy.iter().find(|&&i| best.at[i].is_none()) {
+            let why = if none_exists {
+                "no single-source plan exists: an exhaustive search found no way to serve every point whole \
+                 within the capacities"
+            } else {
+                "a single-source plan may still exist: finding one is a packing problem this heuristic does not \
+                 solve exactly"
+            };
             return Err(Error::Degenerate {
                 argument: "capacities",
                 reason: format!(
                     "the single-source heuristic found no site with room for the whole demand of points[{i}] ({}) \
-                     once the others were placed (a single-source plan may still exist: finding one is a packing \
-                     problem this heuristic does not solve exactly); allow split demand or unserved demand",
+                     once the others were placed ({why}); allow split demand or unserved demand",
                     weights.get(i)
                 ),
             });
