@@ -250,6 +250,26 @@ def test_errors_and_edges_name_the_callers_row_not_the_part():
     np.testing.assert_allclose(split.edges_frame()["cost_forward_u"], [0.5] * 4 + [1.0] * 4, rtol=1e-15)
 
 
+
+def test_edges_of_a_frame_carry_the_index_label_of_their_row():
+    # Labelled rows (road ids), one of them in two parts: each edge's ``line_label`` is its
+    # row's label. Reference: the caller's own cost column — the edges under each label must
+    # add up to that row's minutes, which differ row by row, so a misaligned label cannot.
+    frame = gpd.GeoDataFrame(
+        {"minutes": [4.0, 9.0, 2.0]},
+        geometry=[shapely.LineString([(0, 0), (1, 0)]),
+                  shapely.MultiLineString([[(1, 0), (2, 0)], [(2, 0), (2, 2)]]),
+                  shapely.LineString([(2, 2), (3, 2)])],
+        index=["r-17", "r-4", "r-9"], crs=PROJECTED)
+    edges = pw.TravelGraph.from_lines(frame, cost="minutes").edges_frame()
+    assert list(edges["line_label"]) == [frame.index[k] for k in edges["line"]]
+    totals = edges.groupby("line_label")["cost_forward_u"].sum()
+    for label, minutes in frame["minutes"].items():
+        assert totals[label] == pytest.approx(minutes, rel=1e-14)
+    # Lines given as plain geometries have no labels: positions only.
+    assert "line_label" not in pw.TravelGraph.from_lines(list(frame.geometry)).edges_frame()
+
+
 # ------------------------------------------------------------------ split_crossings in lon/lat
 
 

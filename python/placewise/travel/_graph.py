@@ -53,6 +53,8 @@ class TravelGraph:
         self.unit = unit
         self.length_unit = length_unit
         self.crs = crs
+        # The caller's row labels (a GeoDataFrame's index), for the edges' ``line_label``.
+        self._row_labels = None if row_labels is None else np.asarray(row_labels, dtype=object)
         info = core.info()
         self._info = info
 
@@ -228,7 +230,7 @@ class TravelGraph:
             raise restate(exc, row_labels=names) from None
         length_unit = "m" if geodesic else length_unit
         cost_unit = unit if unit is not None else (length_unit if cost is None else "u")
-        graph = cls(core, unit=cost_unit, length_unit=length_unit, crs=crs)
+        graph = cls(core, unit=cost_unit, length_unit=length_unit, crs=crs, row_labels=labels)
         if tolerance == 0 and graph.components > 1:
             warnings.warn(
                 f"the lines form {graph.components} separate components and {graph.dangling_ends} line ends "
@@ -278,7 +280,8 @@ class TravelGraph:
         """One row per edge: ``tail``, ``head``, ``cost_forward_<unit>``,
         ``cost_backward_<unit>`` (NaN where the direction is not allowed), ``component``, and
         ``line`` (the input row, by position) when some rows had several parts
-        (MultiLineStrings) or the lines were split where they cross."""
+        (MultiLineStrings) or the lines were split where they cross; then, for lines from a
+        GeoDataFrame, also ``line_label`` (that row's index label)."""
         import pandas as pd
 
         i = self._info
@@ -286,6 +289,8 @@ class TravelGraph:
                               f"cost_backward_{self.unit}": i["backward"], "component": i["edge_component"]})
         if i.get("edge_line") is not None:
             frame["line"] = i["edge_line"]
+            if self._row_labels is not None:
+                frame["line_label"] = self._row_labels[np.asarray(i["edge_line"], dtype=np.int64)]
         return frame
 
     def components_frame(self) -> Any:
