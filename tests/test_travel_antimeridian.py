@@ -331,3 +331,32 @@ def test_a_ring_round_the_pole_travels_by_node_and_refuses_points():
     np.testing.assert_allclose(g.costs(at, at), expected, rtol=1e-9)
     with pytest.raises(pw.InputError, match=r"lines\[\d+\].*round the globe"):
         pw.TravelGraph.from_lines(ring, geodesic=True, split_crossings=True)
+
+
+def test_lines_on_another_body_are_refused_not_measured_as_the_earth():
+    # Input: a 1-degree street along the equator in Mars's geographic CRS (IAU_2015:49900).
+    # Wrong answer before: it was measured on WGS84, 111,319 m instead of about 59,275 m
+    # (pyproj.Geod with Mars's radius 3,396,190 m, read from the CRS), without a word.
+    gpd = pytest.importorskip("geopandas")
+    shapely = pytest.importorskip("shapely")
+    mars = pyproj.CRS("IAU_2015:49900")
+    radius = mars.ellipsoid.semi_major_metre
+    true = pyproj.Geod(a=radius, b=mars.ellipsoid.semi_minor_metre).line_length([0, 1], [0, 0])
+    assert true == pytest.approx(radius * np.pi / 180, rel=1e-12)
+    lines = gpd.GeoDataFrame(geometry=[shapely.LineString([(0, 0), (1, 0)])], crs=mars)
+    with pytest.raises(pw.InputError, match="not the Earth") as info:
+        pw.TravelGraph.from_lines(lines)
+    assert info.value.argument == "lines"
+    # The GeoDataFrame functions refuse such points too (before: PROJ's own error on the
+    # way to WGS84), naming their argument.
+    gis = pytest.importorskip("placewise.gis")
+    homes = gpd.GeoDataFrame(geometry=shapely.points([(0, 0), (1, 0), (0, 1)]), crs=mars)
+    with pytest.raises(pw.InputError, match="not the Earth") as info:
+        gis.weber_point(homes)
+    assert info.value.argument == "frame"
+    # Earth datums other than WGS84 are still accepted: NAD27 (Clarke 1866) differs from its own
+    # ellipsoid's length (pyproj.Geod, clrk66) by 1.3e-5 here, far below any projection's error.
+    nad27 = gpd.GeoDataFrame(geometry=[shapely.LineString([(-100, 40), (-99.9, 40.05)])], crs="EPSG:4267")
+    graph = pw.TravelGraph.from_lines(nad27)
+    own = pyproj.Geod(ellps="clrk66").line_length([-100, -99.9], [40, 40.05])
+    assert graph.edges_frame()["cost_forward_m"].iloc[0] == pytest.approx(own, rel=2e-5)

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from typing import Any
 
-__all__ = ["length_unit_of", "unit_of"]
+__all__ = ["check_on_earth", "length_unit_of", "unit_of"]
 
 # By the axis unit's name as PROJ gives it, lower-cased.
 _UNIT_NAMES = {
@@ -45,3 +45,26 @@ def length_unit_of(crs: Any) -> str:
     if crs is not None and getattr(crs, "is_geographic", False):
         return "m"
     return unit_of(crs)
+
+
+# WGS84's semi-major axis (EPSG:7030); every Earth ellipsoid in use lies within 0.02 % of it.
+_WGS84_SEMI_MAJOR_METRE = 6378137.0
+
+
+def check_on_earth(crs: Any, argument: str) -> None:
+    """Refuse a geographic CRS of another body (Mars, the Moon): longitude/latitude data are
+    measured on the WGS84 ellipsoid (or transformed to it), so their lengths would be the
+    Earth's, wrong by the ratio of the radii. An ``InputError`` naming ``argument``."""
+    if crs is None or not getattr(crs, "is_geographic", False):
+        return
+    ellipsoid = crs.ellipsoid
+    if ellipsoid is None or abs(ellipsoid.semi_major_metre / _WGS84_SEMI_MAJOR_METRE - 1) <= 0.01:
+        return
+    from ._core import InputError
+
+    error = InputError(
+        f"{argument}: the CRS {crs.name!r} lies on {ellipsoid.name!r} (semi-major axis "
+        f"{ellipsoid.semi_major_metre:.6g} m), not the Earth; longitude/latitude data are measured on WGS84, so "
+        f"give {argument} in a projected CRS of that body")
+    error.argument = argument
+    raise error

@@ -19,7 +19,7 @@ except ImportError:  # pragma: no cover - exercised only without the extra
 
 from .._core import InputError
 from .._errors import plain
-from .._units import unit_of
+from .._units import check_on_earth, unit_of
 from ._columns import Groups, _points_of
 
 _WGS84 = CRS.from_epsg(4326)
@@ -92,6 +92,7 @@ def _wgs84_lonlat(frame: Any, name: str, centroids: bool) -> np.ndarray:
     transforms from EPSG:4326 read. Why transform: a geographic CRS may count longitude from
     another prime meridian (Ferro, Paris) or in another unit (grads), and read as WGS84
     degrees its coordinates would be places hundreds of kilometres away."""
+    check_on_earth(CRS(frame.crs), name)
     lonlat = _points_of(frame, name, centroids)
     _check_lonlat(frame, lonlat, name)
     if CRS(frame.crs).equals(_WGS84):

@@ -25,7 +25,7 @@ except ImportError:  # pragma: no cover - exercised only without the extra
 
 from .._core import InputError
 from .._errors import labelled, refuse, restate, restate_problems
-from .._units import unit_of
+from .._units import check_on_earth, unit_of
 from ._columns import Groups, _points_of, as_frame, column, groups_of
 from ._crs import (
     _WGS84,
@@ -266,6 +266,7 @@ def _on_ellipsoid(frame: Any, name: str, centroids: bool, groups: Groups | None)
         raise InputError(f"{name} has no CRS; geographic sites need their companion frames to have one too")
     crs = CRS(frame.crs)
     if crs.is_geographic:
+        check_on_earth(crs, name)
         _check_lonlat(frame, _points_of(frame, name, centroids), name)
     points = frame
     if centroids and (shapely.get_type_id(frame.geometry.values) != shapely.GeometryType.POINT).any():

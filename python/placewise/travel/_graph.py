@@ -176,7 +176,9 @@ class TravelGraph:
             with an empty part, and the part), a bad cost or an unknown one-way value; with
             ``geodesic``, of a segment that strays from the geodesic between its ends by more
             than 1 % of its length (over or near a pole: add vertices, or project to a polar
-            CRS).
+            CRS). Naming ``lines`` when their geographic CRS is of another body than the Earth
+            (lengths are measured on WGS84; Earth datums other than WGS84 differ from it by
+            about 1e-5 of a length).
 
         Examples
         --------

@@ -9,7 +9,7 @@ import numpy as np
 
 from .._core import InputError
 from .._errors import plain
-from .._units import length_unit_of
+from .._units import check_on_earth, length_unit_of
 
 _ONE_WAY_WORDS = {"both": 0, "forward": 1, "backward": -1}
 _MODELS = ("evaluate_sites", "p_median", "p_center", "cover_all", "cover_most")
@@ -129,6 +129,7 @@ def _in_degrees(lines: Any) -> Any:
     crs = lines.crs
     if crs is None or not crs.is_geographic:
         return lines
+    check_on_earth(crs, "lines")
     if all(axis.unit_name.lower() == "degree" for axis in crs.axis_info):
         return lines
     return lines.to_crs("EPSG:4326")
