@@ -263,7 +263,8 @@ def capacity_cells(
     region : shapely Polygon or MultiPolygon, or array_like of shape (r, 2), optional
         The study region the cells are clipped to (holes and several parts allowed), as for
         :func:`~placewise.voronoi_cells`; it must hold every point. Default: the bounding
-        box of the points and sites together, grown by 10 % on every side.
+        box of the points and sites together, grown by 10 % on every side (a nearly flat box
+        widened as for :func:`~placewise.voronoi_cells`).
     tol : float
         Relative tolerance on the totals, in (0, 1).
     unit : str

@@ -178,7 +178,8 @@ def capacity_cells(
     region : GeoDataFrame, GeoSeries or shapely geometry, optional
         The study region the cells are clipped to, in any CRS (a bare shapely geometry is
         taken to be in the demand's CRS), as for :func:`voronoi_cells`; it must hold every
-        demand row. Default: the bounding box of the demand and sites grown by 10 %.
+        demand row. Default: the bounding box of the demand and sites grown by 10 % (a nearly
+        flat box widened as for :func:`~placewise.voronoi_cells`).
     tol : float
         Relative tolerance on the totals.
     planar, centroids, work_crs, max_scale_error
