@@ -20,6 +20,7 @@ from harness import Case
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "tests"))
 
 from test_capacity import transport_matrices, transport_program  # noqa: E402
+from test_capacity_audit import capacitated_median_instance, capacitated_median_program  # noqa: E402
 from test_capacity_cells import squared_transport  # noqa: E402
 
 
@@ -170,10 +171,64 @@ def limited_reference(n: int, seconds: float, m: int = 200) -> None:
           f"{res.fun if res.status == 0 else '-'} | {note}", flush=True)
 
 
+# The capacitated p-median audit sets: (label, n, m, p, capacity tightness, seeds). Tightness
+# is the capacity of the p largest candidates over the demand.
+MEDIAN_AUDIT_SETS = [
+    *(("40 x 12, p = 4", 40, 12, 4, t, range(30)) for t in (1.1, 1.3, 1.6, 2.0)),
+    *(("100 x 25, p = 8", 100, 25, 8, t, range(5)) for t in (1.1, 1.5)),
+]
+
+
+def median_audit(sets=MEDIAN_AUDIT_SETS, per_instance: bool = False) -> list[dict]:  # noqa: ANN001
+    """``capacitated_p_median`` with candidates against ``scipy.optimize.milp`` (HiGHS) on the
+    textbook program (``tests/test_capacity_audit.capacitated_median_program``) and its LP
+    relaxation, per instance: plan / optimum - 1, bound / optimum, the reported gap, the LP
+    relaxation / optimum and both solvers' wall seconds. Prints one summary line per set
+    (worst and mean) and returns the rows."""
+    import os
+
+    rows = []
+    for label, n, m, p, tight, seeds in sets:
+        for seed in seeds:
+            points, cands, caps, w = capacitated_median_instance(n, m, p, tight, seed)
+            wall, _, ours = _timed(lambda: pw.capacitated_p_median(points, p, caps, w, candidates=cands))  # noqa: B023
+            ref_wall, _, best = _timed(lambda: capacitated_median_program(points, cands, caps, w, p))  # noqa: B023
+            lp = capacitated_median_program(points, cands, caps, w, p, relaxed=True)
+            if best is None:
+                print(f"{label} tight {tight} seed {seed}: milp did not finish", flush=True)
+                continue
+            row = dict(set=label, tightness=tight, seed=seed, plan=ours.total_cost / best - 1,
+                       bound=ours.median_lower_bound / best, gap=ours.median_relative_gap, lp=lp / best,
+                       ours_s=wall, milp_s=ref_wall)
+            rows.append(row)
+            if per_instance:
+                print(" ".join(f"{k}={v:.4g}" if isinstance(v, float) else f"{k}={v}" for k, v in row.items()),
+                      flush=True)
+        mine = [r for r in rows if r["set"] == label and r["tightness"] == tight]
+        if not mine:
+            continue
+
+        def col(key: str) -> np.ndarray:
+            return np.array([r[key] for r in mine])  # noqa: B023
+
+        print(f"| {label} | {tight} | {len(mine)} | {col('plan').max():.2%} / {col('plan').mean():.2%} | "
+              f"{1 - col('bound').min():.2%} / {1 - col('bound').mean():.2%} | "
+              f"{col('gap').max():.2%} / {col('gap').mean():.2%} | {1 - col('lp').min():.2%} / "
+              f"{1 - col('lp').mean():.2%} | {col('ours_s').max() * 1e3:.1f} / {col('ours_s').mean() * 1e3:.1f} ms | "
+              f"{col('milp_s').mean():.2f} s | {os.getloadavg()[0]:.2f}", flush=True)
+    return rows
+
+
 if __name__ == "__main__":
     # python bench_capacity.py 2000,5000,10000,100000 2000,5000,10000
     # python bench_capacity.py cells 100000x100,300000x300,1000000x1000
     # python bench_capacity.py limit 100000 1200
+    # python bench_capacity.py median_audit [-v]
+    if sys.argv[1] == "median_audit":
+        print("| set | tightness | instances | plan / optimum - 1 (worst / mean) | 1 - bound / optimum | "
+              "reported gap | 1 - LP relaxation / optimum | ours (worst / mean) | milp (mean) | load", flush=True)
+        median_audit(per_instance="-v" in sys.argv)
+        sys.exit()
     if sys.argv[1] == "limit":
         limited_reference(int(sys.argv[2]), float(sys.argv[3]))
         sys.exit()

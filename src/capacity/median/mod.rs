@@ -12,20 +12,38 @@
 //!   the nearest distinct candidates (one site per demand location at most; when `p` is
 //!   larger, the largest free candidates make up the rest), swapping in larger candidates
 //!   while their total capacity is short; a site moves to the free candidate that serves
-//!   its allocated amounts most cheaply and has room for them. The transportation plan with *every* candidate
-//!   open is a relaxation (it drops the limit of `p` sites), so its cost is a proven lower
-//!   bound and the gap is reported.
+//!   its allocated amounts most cheaply and has room for them. The plan is then improved
+//!   ([`swap`]) by the swap interchange (close one site, open one candidate, re-solve the
+//!   transportation plan), by the Lagrangian heuristic (the sites of the relaxation below,
+//!   repaired to hold the demand, each costed by its transportation plan) and by the
+//!   interchange again from the best of those.
+//!
+//!   Two proven lower bounds, the larger reported with its gap: the transportation plan
+//!   with *every* candidate open (a relaxation dropping the limit of `p` sites), and the
+//!   Lagrangian relaxation of the assignment constraints with subgradient optimisation
+//!   ([`lagrange`]; Mulvey & Beck 1984, Lorena & Senne 2004), which approaches the
+//!   program's linear-programming relaxation and passes it where the valid inequality "the
+//!   open capacities hold the demand" binds. With `p` equal to the number of candidates
+//!   the only plan is every candidate open, and the first bound is its cost (gap 0).
 //!
 //! # Stopping early
 //! [`CapacitatedMedianOptions::limits`] are polled between rounds, between the sites of a
-//! candidate round, and inside every transportation plan. A run stopped after its first
-//! plan returns the best plan found (every plan it keeps meets the capacities exactly),
-//! flagged `converged` false; stopped before it (no plan meeting the capacities exists
-//! yet) it fails with [`super::stopped`]. The uncapacitated start may take half of the
-//! time limit. Progress counts the start's own steps, then the first plan and every round
-//! against `max_rounds`, closed at the total when the run ends.
+//! candidate round, inside every transportation plan, between the swaps of the interchange
+//! and between subgradient steps. A run stopped after its first plan returns the best plan
+//! found (every plan it keeps meets the capacities exactly), flagged `converged` false; its
+//! bound is the best proven before the stop (NaN when neither bound was reached). Stopped
+//! before the first plan (no plan meeting the capacities exists yet) it fails with
+//! [`super::stopped`]. The uncapacitated start may take half of the time limit. Progress
+//! counts the start's own steps, then the first plan and every round against `max_rounds`,
+//! the bound and the improvement, closed at the total when the run ends.
 
 use std::time::Instant;
+
+mod lagrange;
+mod swap;
+
+use lagrange::Relaxation;
+use swap::{lower, Sets};
 
 use super::allocation::{allocate_on_clock, split_plan, AllocationOptions, CapacityAllocation};
 use super::transport::Flows;
@@ -41,7 +59,8 @@ use crate::multi::{distinct_weighted, p_median, MedianOptions};
 pub struct CapacitatedMedianOptions {
     /// Seed of the uncapacitated start.
     pub seed: u64,
-    /// Most location–allocation rounds.
+    /// Most rounds: location–allocation rounds and, with candidates, swap-interchange passes
+    /// together.
     pub max_rounds: usize,
     /// Deadline and cancel flag (see the module's "Stopping early").
     pub limits: RunLimits,
@@ -64,16 +83,17 @@ pub struct CapacitatedMedian {
     pub capacities: Vec<f64>,
     /// How the sites serve the demand (split, exact for these sites).
     pub allocation: CapacityAllocation,
-    /// With candidates: the cost of the transportation plan with every candidate open, a
-    /// proven lower bound on the optimum; NaN for continuous sites.
+    /// With candidates: a proven lower bound on the optimum, the larger of the transportation
+    /// plan with every candidate open and the Lagrangian bound (see the module's doc); NaN
+    /// for continuous sites, and when the limits stopped the run before either was proven.
     pub lower_bound: f64,
     /// `(cost − lower_bound) / cost`, NaN without a bound.
     pub relative_gap: f64,
-    /// Location–allocation rounds run.
+    /// Location–allocation rounds run, and with candidates the swap-interchange passes.
     pub rounds: usize,
     /// True when the rounds ended because moving the sites no longer lowered the cost (a
-    /// local optimum of location–allocation); false when `max_rounds` or the limits cut
-    /// them short.
+    /// local optimum of location–allocation; with candidates, of the swap interchange);
+    /// false when `max_rounds` or the limits cut them short.
     pub converged: bool,
 }
 
@@ -90,7 +110,9 @@ pub struct CapacitatedMedian {
 ///
 /// # Runtime
 /// Each round is one transportation plan (see [`capacity_allocation`]) plus O(n) Weiszfeld
-/// steps, or O(n·m) with `m` candidates.
+/// steps, or O(n·m) with `m` candidates. With candidates, each interchange pass (a round)
+/// solves up to `6·p` transportation plans (warm-started from the current plan's prices),
+/// and the bound takes up to 1,000 subgradient steps of O(n·m log n) each.
 pub fn capacitated_p_median(
     points: &[Point],
     weights: Weights<'_>,
@@ -402,17 +424,72 @@ fn discrete(
         }
     }
     // Relaxation: every candidate open. Stopped by the limits, it proves nothing (NaN).
-    let lower_bound = match split_plan(points, candidates, capacities, weights, 0.0, super::plain_distance, run.clock) {
-        Ok(relaxed) if !run.clock.stop() => {
-            let mut lower = CompensatedSum::default();
-            for (i, f) in relaxed.flows.iter().enumerate() {
-                for &(j, x) in f {
-                    lower.add(x * distance(points[i], candidates[j as usize]));
+    run.steps.plan(2);
+    let transport_bound =
+        match split_plan(points, candidates, capacities, weights, 0.0, super::plain_distance, run.clock) {
+            Ok(relaxed) if !run.clock.stop() => {
+                let mut lower = CompensatedSum::default();
+                for (i, f) in relaxed.flows.iter().enumerate() {
+                    for &(j, x) in f {
+                        lower.add(x * distance(points[i], candidates[j as usize]));
+                    }
+                }
+                lower.total()
+            }
+            _ => f64::NAN,
+        };
+    // Better plans and a stronger bound: the swap interchange from the location–allocation
+    // plan, the Lagrangian relaxation offering its sites (repaired to hold the demand) as
+    // plans, and the interchange again from the best of those when it is new.
+    let mut sets = Sets::new(points, weights, candidates, capacities, demand, run.clock);
+    sets.seen(&chosen);
+    let mut set = chosen.clone();
+    let mut cost = best.0.total_cost;
+    let mut prices = best.0.price.clone();
+    let mut lagrangian = f64::NAN;
+    if p < m {
+        let (passes, local) = sets.interchange(&mut set, &mut cost, &mut prices, run.max_rounds.saturating_sub(rounds));
+        rounds += passes;
+        converged = local;
+        let relaxation = Relaxation { points, weights, candidates, capacities, p, demand };
+        let mut offered: Option<(Vec<usize>, Vec<f64>)> = None;
+        let (value, _) = relaxation.bound(cost, lagrange::MAX_STEPS, run.clock, |relaxed| {
+            let repaired = sets.repair(relaxed, &by_size);
+            let (v, y) = sets.cost(&repaired, None)?;
+            if lower(v, cost) {
+                cost = v;
+                offered = Some((repaired, y));
+                Some(v)
+            } else {
+                None
+            }
+        });
+        run.steps.step();
+        if value.is_finite() {
+            lagrangian = value;
+        }
+        if let Some((mut from, mut y)) = offered {
+            let (passes, local) = sets.interchange(&mut from, &mut cost, &mut y, run.max_rounds.saturating_sub(rounds));
+            rounds += passes;
+            converged = local;
+            set = from;
+        }
+        run.steps.step();
+        if set != chosen {
+            let (sites, caps) = picked(&set);
+            // Cut short by the limits, the location–allocation plan stands.
+            if let Ok(plan) = allocate(points, &sites, &caps, weights, run.clock, None) {
+                if lower(plan.0.total_cost, best.0.total_cost) {
+                    chosen = set;
+                    best = plan;
                 }
             }
-            lower.total().min(best.0.total_cost)
         }
-        _ => f64::NAN,
+    }
+    // Both bounds are proven; either may be missing (stopped by the limits).
+    let lower_bound = match (transport_bound.is_nan(), lagrangian.is_nan()) {
+        (true, true) => f64::NAN,
+        _ => transport_bound.max(lagrangian).min(best.0.total_cost),
     };
     Ok(CapacitatedMedian {
         sites: chosen.iter().map(|&j| candidates[j]).collect(),
@@ -424,4 +501,122 @@ fn discrete(
         rounds,
         converged,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::geometry::random::SplitMix64;
+
+    /// A seeded instance: `n` points and `m` candidates in a 100 × 100 square, demand 1–5,
+    /// capacities scaled so that the `p` largest hold `tight` × the demand.
+    fn instance(n: usize, m: usize, p: usize, tight: f64, seed: u64) -> (Vec<Point>, Vec<Point>, Vec<f64>, Vec<f64>) {
+        let mut rng = SplitMix64::new(seed);
+        let mut draw =
+            |k: usize| -> Vec<Point> { (0..k).map(|_| [rng.next_f64() * 100.0, rng.next_f64() * 100.0]).collect() };
+        let (points, cands) = (draw(n), draw(m));
+        let weights: Vec<f64> = (0..n).map(|_| 1.0 + rng.below(5) as f64).collect();
+        let mut caps: Vec<f64> = (0..m).map(|_| 0.5 + rng.next_f64()).collect();
+        let mut sorted = caps.clone();
+        sorted.sort_by(|a, b| b.total_cmp(a));
+        let scale = tight * weights.iter().sum::<f64>() / sorted[..p].iter().sum::<f64>();
+        caps.iter_mut().for_each(|c| *c *= scale);
+        (points, cands, caps, weights)
+    }
+
+    /// Brute force: the least transportation cost over every set of `p` candidates holding
+    /// the demand (each set's plan by the exact solver).
+    fn brute_force(points: &[Point], cands: &[Point], caps: &[f64], weights: &[f64], p: usize) -> f64 {
+        let m = cands.len();
+        let demand: f64 = weights.iter().sum();
+        let mut best = f64::INFINITY;
+        for mask in 0u32..(1 << m) {
+            if mask.count_ones() as usize != p {
+                continue;
+            }
+            let set: Vec<usize> = (0..m).filter(|j| mask >> j & 1 == 1).collect();
+            let held: f64 = set.iter().map(|&j| caps[j]).sum();
+            if held < demand {
+                continue;
+            }
+            let sites: Vec<Point> = set.iter().map(|&j| cands[j]).collect();
+            let c: Vec<f64> = set.iter().map(|&j| caps[j]).collect();
+            let plan =
+                crate::capacity::transport::transport(weights, &c, &|i, j| distance(points[i], sites[j])).unwrap();
+            let mut cost = 0.0;
+            for (i, f) in plan.flows.iter().enumerate() {
+                for &(j, x) in f {
+                    cost += x * distance(points[i], sites[j as usize]);
+                }
+            }
+            best = best.min(cost);
+        }
+        best
+    }
+
+    #[test]
+    fn candidate_bound_never_passes_the_brute_force_optimum_and_the_plan_meets_it_closely() {
+        for (seed, tight) in (0..12).zip([1.05, 1.2, 1.6, 2.0].iter().cycle()) {
+            let (points, cands, caps, weights) = instance(30, 10, 3, *tight, seed);
+            let best = brute_force(&points, &cands, &caps, &weights, 3);
+            let plan = capacitated_p_median(
+                &points,
+                Weights::Given(&weights),
+                3,
+                &caps,
+                Some(&cands),
+                &CapacitatedMedianOptions::default(),
+            )
+            .unwrap();
+            let cost = plan.allocation.total_cost;
+            assert!(
+                plan.lower_bound <= best * (1.0 + 1e-9),
+                "seed {seed}: bound {} > optimum {best}",
+                plan.lower_bound
+            );
+            assert!(cost >= best * (1.0 - 1e-9));
+            // The interchange and the Lagrangian heuristic reach the optimum on these.
+            assert!(cost <= best * (1.0 + 1e-9), "seed {seed}: plan {cost}, optimum {best}");
+            for (k, &j) in plan.chosen.iter().enumerate() {
+                assert!(plan.allocation.load[k] <= caps[j] * (1.0 + 1e-12));
+            }
+        }
+    }
+
+    #[test]
+    fn every_candidate_open_has_no_gap() {
+        let (points, cands, caps, weights) = instance(25, 5, 5, 1.0, 7);
+        let plan = capacitated_p_median(
+            &points,
+            Weights::Given(&weights),
+            5,
+            &caps,
+            Some(&cands),
+            &CapacitatedMedianOptions::default(),
+        )
+        .unwrap();
+        let best = brute_force(&points, &cands, &caps, &weights, 5);
+        assert!((plan.allocation.total_cost - best).abs() <= 1e-9 * best);
+        assert_eq!(plan.relative_gap, 0.0);
+    }
+
+    #[test]
+    fn lagrangian_bound_alone_is_a_bound() {
+        for seed in 0..6 {
+            let (points, cands, caps, weights) = instance(20, 8, 3, 1.1, 100 + seed);
+            let best = brute_force(&points, &cands, &caps, &weights, 3);
+            let demand = weights.iter().sum();
+            let relax = Relaxation {
+                points: &points,
+                weights: Weights::Given(&weights),
+                candidates: &cands,
+                capacities: &caps,
+                p: 3,
+                demand,
+            };
+            let (value, steps) = relax.bound(best * 1.2, lagrange::MAX_STEPS, &Clock::unlimited(), |_| None);
+            assert!(steps >= 1 && value.is_finite());
+            assert!(value <= best * (1.0 + 1e-9), "seed {seed}: {value} > {best}");
+        }
+    }
 }

@@ -1,0 +1,163 @@
+//! Plans over candidate sets for the capacitated p-median: the cost of a set of `p`
+//! candidates (its exact transportation plan, [`crate::capacity::transport`]), the repair of a
+//! set whose capacities cannot hold the demand, and the swap interchange (Teitz & Bart 1968,
+//! with the allocation made capacitated): close one open site, open one closed candidate,
+//! keep the first change that lowers the cost, and repeat while a pass finds one. A site is
+//! tried against the [`NEAR`] closed candidates nearest to it, and every solve starts from
+//! the capacity prices of the plan it changes (exact from any start, see
+//! [`crate::capacity::transport`]), which leaves only the points near the changed site to move.
+
+use std::collections::HashSet;
+
+use crate::cancel::Clock;
+use crate::capacity::transport::{solve_from_watched, Reach};
+use crate::capacity::{plain_distance, serve_all};
+use crate::geometry::{CompensatedSum, Point, Weights};
+
+/// Closed candidates, nearest first, each open site is tried against in a pass.
+pub(super) const NEAR: usize = 6;
+
+/// A strict improvement: below the best cost by more than rounding.
+pub(super) fn lower(cost: f64, best: f64) -> bool {
+    cost < best * (1.0 - 1e-12)
+}
+
+/// The candidate sets of one run and their costs.
+pub(super) struct Sets<'a> {
+    pub(super) points: &'a [Point],
+    pub(super) candidates: &'a [Point],
+    pub(super) capacities: &'a [f64],
+    pub(super) demand: f64,
+    pub(super) clock: &'a Clock,
+    /// Per point, its demand.
+    amounts: Vec<f64>,
+    /// Sets already costed (sorted).
+    seen: HashSet<Vec<usize>>,
+}
+
+impl<'a> Sets<'a> {
+    pub(super) fn new(
+        points: &'a [Point],
+        weights: Weights<'a>,
+        candidates: &'a [Point],
+        capacities: &'a [f64],
+        demand: f64,
+        clock: &'a Clock,
+    ) -> Sets<'a> {
+        let amounts = (0..points.len()).map(|i| weights.get(i)).collect();
+        Sets { points, candidates, capacities, demand, clock, amounts, seen: HashSet::new() }
+    }
+
+    /// Mark `set` as costed (its plan is known).
+    pub(super) fn seen(&mut self, set: &[usize]) {
+        let mut key = set.to_vec();
+        key.sort_unstable();
+        self.seen.insert(key);
+    }
+
+    /// The cost of the transportation plan of `set` and its capacity prices (per site of
+    /// `set`), its solve started from `prices` (zero when `None`); `None` when `set` was
+    /// costed before, its capacities cannot hold the demand, or the clock stopped the solve.
+    pub(super) fn cost(&mut self, set: &[usize], prices: Option<&[f64]>) -> Option<(f64, Vec<f64>)> {
+        let mut key = set.to_vec();
+        key.sort_unstable();
+        if !self.seen.insert(key) {
+            return None;
+        }
+        let caps: Vec<f64> = set.iter().map(|&j| self.capacities[j]).collect();
+        let held: f64 = caps.iter().sum();
+        serve_all(self.demand, held).ok()?;
+        let sites: Vec<Point> = set.iter().map(|&j| self.candidates[j]).collect();
+        let zero = vec![0.0; set.len()];
+        let cost = |i: usize, j: usize| plain_distance(self.points[i], sites[j]);
+        let plan =
+            solve_from_watched(&self.amounts, &caps, &cost, prices.unwrap_or(&zero), Reach::All, &self.clock.quiet())
+                .ok()?;
+        let mut sum = CompensatedSum::default();
+        for (i, f) in plan.flows.iter().enumerate() {
+            for &(j, x) in f {
+                sum.add(x * cost(i, j as usize));
+            }
+        }
+        Some((sum.total(), plan.price))
+    }
+
+    /// `set` made to hold the demand: while its capacity is short, its smallest site gives
+    /// way to the largest closed candidate (`by_size`: candidates by capacity, largest first).
+    pub(super) fn repair(&self, set: &[usize], by_size: &[usize]) -> Vec<usize> {
+        let mut set = set.to_vec();
+        let mut held: f64 = set.iter().map(|&j| self.capacities[j]).sum();
+        for &big in by_size {
+            if serve_all(self.demand, held).is_ok() {
+                break;
+            }
+            if set.contains(&big) {
+                continue;
+            }
+            let (k, &small) = set
+                .iter()
+                .enumerate()
+                .min_by(|a, b| self.capacities[*a.1].total_cmp(&self.capacities[*b.1]).then(a.0.cmp(&b.0)))
+                .expect("p ≥ 1");
+            if self.capacities[small] >= self.capacities[big] {
+                break;
+            }
+            held += self.capacities[big] - self.capacities[small];
+            set[k] = big;
+        }
+        set
+    }
+
+    /// Swap interchange from `set` of cost `cost` (its plan's capacity prices `prices`): in
+    /// each pass, every open site (in order) against its [`NEAR`] nearest closed candidates
+    /// (nearest first, then by index); the first swap lowering the cost is kept and the pass
+    /// goes on. Stops after a pass without a change, after `max_passes` (none at 0), or when
+    /// the clock stops. Returns the passes run and whether the last found nothing (a local
+    /// optimum of the interchange).
+    pub(super) fn interchange(
+        &mut self,
+        set: &mut [usize],
+        cost: &mut f64,
+        prices: &mut Vec<f64>,
+        max_passes: usize,
+    ) -> (usize, bool) {
+        let m = self.candidates.len();
+        let mut passes = 0;
+        while passes < max_passes {
+            passes += 1;
+            let mut changed = false;
+            for k in 0..set.len() {
+                let here = self.candidates[set[k]];
+                let mut near: Vec<usize> = (0..m).filter(|c| !set.contains(c)).collect();
+                near.sort_by(|&a, &b| {
+                    plain_distance(here, self.candidates[a])
+                        .total_cmp(&plain_distance(here, self.candidates[b]))
+                        .then(a.cmp(&b))
+                });
+                near.truncate(NEAR);
+                for c in near {
+                    if self.clock.stop() {
+                        return (passes, false);
+                    }
+                    let mut next = set.to_vec();
+                    next[k] = c;
+                    let mut start = prices.clone();
+                    start[k] = 0.0;
+                    if let Some((v, y)) = self.cost(&next, Some(&start)) {
+                        if lower(v, *cost) {
+                            set[k] = c;
+                            *cost = v;
+                            *prices = y;
+                            changed = true;
+                            break;
+                        }
+                    }
+                }
+            }
+            if !changed {
+                return (passes, true);
+            }
+        }
+        (passes, false)
+    }
+}
