@@ -39,11 +39,11 @@ use crate::geometry::{CompensatedSum, Point, Weights};
 /// Most subgradient steps.
 pub(super) const MAX_STEPS: usize = 1_000;
 /// Steps without a better bound before `π` halves.
-const STALL: usize = 20;
+const STALL: usize = 10;
 /// Most nodes of the search for the sites holding the demand in one evaluation.
 const COVER_NODES: usize = 20_000;
 /// `π` below which the steps stop (they no longer move `λ`).
-const MIN_PI: f64 = 1e-4;
+const MIN_PI: f64 = 1e-3;
 
 /// What the bound needs: the demand and the candidates.
 pub(super) struct Relaxation<'a> {
