@@ -353,6 +353,17 @@ def test_capacitated_median_degenerate_candidates():
     assert sorted(plan.chosen.tolist()) == [0, 1]
     assert plan.total_cost == pytest.approx(18.0, rel=1e-12)
     assert plan.median_lower_bound == pytest.approx(18.0, rel=1e-9)
+    # Points of no demand (a third of them) change nothing: the plan and the optimum are
+    # those of the demand alone (scipy.optimize.milp), and a second call gives the same plan.
+    spread, lots, room, demand = capacitated_median_instance(30, 10, 3, 1.2, 3)
+    demand[::3] = 0.0
+    plan = pw.capacitated_p_median(spread, 3, room, demand, candidates=lots)
+    best = capacitated_median_program(spread, lots, room, demand, 3)
+    assert best * (1 - 1e-9) <= plan.total_cost <= best * 1.01
+    assert plan.median_lower_bound <= best * (1 + 1e-9)
+    again = pw.capacitated_p_median(spread, 3, room, demand, candidates=lots)
+    assert again.chosen.tolist() == plan.chosen.tolist() and again.total_cost == plan.total_cost
+    assert again.median_lower_bound == plan.median_lower_bound
     # Errors name the argument.
     with pytest.raises(pw.InputError, match="p") as info:
         pw.capacitated_p_median(points, 6, np.full(5, 10.0), w, candidates=cands)

@@ -123,7 +123,7 @@ impl<'a> Sets<'a> {
     ) -> (usize, bool) {
         let m = self.candidates.len();
         let mut passes = 0;
-        while passes < max_passes {
+        while passes < max_passes && !self.clock.stop() {
             passes += 1;
             let mut changed = false;
             for k in 0..set.len() {
