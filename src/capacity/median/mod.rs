@@ -43,9 +43,9 @@ mod lagrange;
 mod swap;
 
 use lagrange::Relaxation;
-use swap::{lower, Sets};
+use swap::{hold_demand, lower, Sets};
 
-use super::allocation::{allocate_on_clock, split_plan, AllocationOptions, CapacityAllocation};
+use super::allocation::{allocate_on_clock, served_cost, split_plan, AllocationOptions, CapacityAllocation};
 use super::transport::Flows;
 use super::{check_capacities, check_capacity_values, relative_gap, serve_all, validate};
 use crate::cancel::{Clock, RunLimits, Steps};
@@ -349,24 +349,9 @@ fn discrete(
             chosen.push(big);
         }
     }
-    let mut held: f64 = chosen.iter().map(|&j| capacities[j]).sum();
-    for &big in &by_size {
-        if serve_all(demand, held).is_ok() {
-            break;
-        }
-        if used[big] {
-            continue;
-        }
-        let (k, &small) =
-            chosen.iter().enumerate().min_by(|a, b| capacities[*a.1].total_cmp(&capacities[*b.1])).expect("p ≥ 1");
-        if capacities[small] >= capacities[big] {
-            break;
-        }
-        used[small] = false;
-        used[big] = true;
-        chosen[k] = big;
-        held += capacities[big] - capacities[small];
-    }
+    hold_demand(&mut chosen, &by_size, capacities, demand);
+    used.fill(false);
+    chosen.iter().for_each(|&j| used[j] = true);
     let picked = |chosen: &[usize]| -> (Vec<Point>, Vec<f64>) {
         (chosen.iter().map(|&j| candidates[j]).collect(), chosen.iter().map(|&j| capacities[j]).collect())
     };
@@ -427,15 +412,7 @@ fn discrete(
     run.steps.plan(2);
     let transport_bound =
         match split_plan(points, candidates, capacities, weights, 0.0, super::plain_distance, run.clock) {
-            Ok(relaxed) if !run.clock.stop() => {
-                let mut lower = CompensatedSum::default();
-                for (i, f) in relaxed.flows.iter().enumerate() {
-                    for &(j, x) in f {
-                        lower.add(x * distance(points[i], candidates[j as usize]));
-                    }
-                }
-                lower.total()
-            }
+            Ok(relaxed) if !run.clock.stop() => served_cost(points, candidates, &relaxed.flows, m),
             _ => f64::NAN,
         };
     // Better plans and a stronger bound: the swap interchange from the location–allocation
@@ -454,7 +431,8 @@ fn discrete(
         let relaxation = Relaxation { points, weights, candidates, capacities, p, demand };
         let mut offered: Option<(Vec<usize>, Vec<f64>)> = None;
         let (value, _) = relaxation.bound(cost, lagrange::MAX_STEPS, run.clock, |relaxed| {
-            let repaired = sets.repair(relaxed, &by_size);
+            let mut repaired = relaxed.to_vec();
+            hold_demand(&mut repaired, &by_size, capacities, demand);
             let (v, y) = sets.cost(&repaired, None)?;
             if lower(v, cost) {
                 cost = v;

@@ -1,6 +1,6 @@
 //! Plans over candidate sets for the capacitated p-median: the cost of a set of `p`
 //! candidates (its exact transportation plan, [`crate::capacity::transport`]), the repair of a
-//! set whose capacities cannot hold the demand, and the swap interchange (Teitz & Bart 1968,
+//! set whose capacities cannot hold the demand (shared with the start), and the swap interchange (Teitz & Bart 1968,
 //! with the allocation made capacitated): close one open site, open one closed candidate,
 //! keep the first change that lowers the cost, and repeat while a pass finds one. A site is
 //! tried against the [`NEAR`] closed candidates nearest to it, and every solve starts from
@@ -10,12 +10,38 @@
 use std::collections::HashSet;
 
 use crate::cancel::Clock;
+use crate::capacity::allocation::served_cost;
 use crate::capacity::transport::{solve_from_watched, Reach};
 use crate::capacity::{plain_distance, serve_all};
-use crate::geometry::{CompensatedSum, Point, Weights};
+use crate::geometry::{Point, Weights};
 
 /// Closed candidates, nearest first, each open site is tried against in a pass.
 pub(super) const NEAR: usize = 6;
+
+/// `set` made to hold `demand`: while its capacity is short, its smallest site (the first
+/// of equals) gives way to the largest closed candidate (`by_size`: candidates by capacity,
+/// largest first), as long as that one is larger.
+pub(super) fn hold_demand(set: &mut [usize], by_size: &[usize], capacities: &[f64], demand: f64) {
+    let mut held: f64 = set.iter().map(|&j| capacities[j]).sum();
+    for &big in by_size {
+        if serve_all(demand, held).is_ok() {
+            break;
+        }
+        if set.contains(&big) {
+            continue;
+        }
+        let (k, &small) = set
+            .iter()
+            .enumerate()
+            .min_by(|a, b| capacities[*a.1].total_cmp(&capacities[*b.1]).then(a.0.cmp(&b.0)))
+            .expect("p ≥ 1");
+        if capacities[small] >= capacities[big] {
+            break;
+        }
+        held += capacities[big] - capacities[small];
+        set[k] = big;
+    }
+}
 
 /// A strict improvement: below the best cost by more than rounding.
 pub(super) fn lower(cost: f64, best: f64) -> bool {
@@ -73,39 +99,7 @@ impl<'a> Sets<'a> {
         let plan =
             solve_from_watched(&self.amounts, &caps, &cost, prices.unwrap_or(&zero), Reach::All, &self.clock.quiet())
                 .ok()?;
-        let mut sum = CompensatedSum::default();
-        for (i, f) in plan.flows.iter().enumerate() {
-            for &(j, x) in f {
-                sum.add(x * cost(i, j as usize));
-            }
-        }
-        Some((sum.total(), plan.price))
-    }
-
-    /// `set` made to hold the demand: while its capacity is short, its smallest site gives
-    /// way to the largest closed candidate (`by_size`: candidates by capacity, largest first).
-    pub(super) fn repair(&self, set: &[usize], by_size: &[usize]) -> Vec<usize> {
-        let mut set = set.to_vec();
-        let mut held: f64 = set.iter().map(|&j| self.capacities[j]).sum();
-        for &big in by_size {
-            if serve_all(self.demand, held).is_ok() {
-                break;
-            }
-            if set.contains(&big) {
-                continue;
-            }
-            let (k, &small) = set
-                .iter()
-                .enumerate()
-                .min_by(|a, b| self.capacities[*a.1].total_cmp(&self.capacities[*b.1]).then(a.0.cmp(&b.0)))
-                .expect("p ≥ 1");
-            if self.capacities[small] >= self.capacities[big] {
-                break;
-            }
-            held += self.capacities[big] - self.capacities[small];
-            set[k] = big;
-        }
-        set
+        Some((served_cost(self.points, &sites, &plan.flows, sites.len()), plan.price))
     }
 
     /// Swap interchange from `set` of cost `cost` (its plan's capacity prices `prices`): in
