@@ -20,6 +20,7 @@ from harness import Case
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "tests"))
 
 from test_capacity import transport_matrices, transport_program  # noqa: E402
+from test_capacity_audit import capacitated_median_instance, capacitated_median_program  # noqa: E402
 from test_capacity_cells import squared_transport  # noqa: E402
 
 
@@ -38,6 +39,11 @@ def _instance(n: int, m: int, seed: int) -> tuple[np.ndarray, np.ndarray, np.nda
 def _compare(ours, best) -> str:  # noqa: ANN001
     return (f"cost ours/HiGHS - 1 = {ours.total_cost / best - 1:+.1e}; {ours.augmentations} augmenting paths, "
             f"{len(np.unique(ours.part_point))} points split")
+
+
+def _median_note(ours, best) -> str:  # noqa: ANN001
+    return (f"plan / optimum - 1 = {ours.total_cost / best - 1:.2%}; bound / optimum = "
+            f"{ours.median_lower_bound / best:.4f}; reported gap {ours.median_relative_gap:.2%}")
 
 
 def _cells_note(ours, best) -> str:  # noqa: ANN001
@@ -96,6 +102,7 @@ def cases(quick: bool) -> list[Case]:
     nc, mc = (5_000, 60) if quick else (20_000, 100)
     cpoints, csites, ccaps, cw = _instance(nc, mc, 1)
     ccaps = ccaps * mc / 20 * 1.2  # any 20 candidates of average size hold the demand
+    apoints, acands, acaps, aw = capacitated_median_instance(100, 25, 8, 1.1, 0)
     return [
         Case("capacity_allocation split", f"{n:,} points x {m} sites",
              lambda: pw.capacity_allocation(points, sites, caps, w),
@@ -107,9 +114,13 @@ def cases(quick: bool) -> list[Case]:
              compare=lambda ours, _: f"relative gap {ours.relative_gap:.2e}", repeat=1),
         Case("capacitated_p_median candidates", f"{nc:,} points, {mc} candidates, p = 20",
              lambda: pw.capacitated_p_median(cpoints, 20, ccaps, cw, candidates=csites), None,
-             "no reference (proven gap from every candidate open)",
+             "no reference (proven gap from the Lagrangian bound)",
              compare=lambda ours, _: f"relative gap {ours.median_relative_gap:.2e}, {ours.rounds} rounds",
              repeat=1),
+        Case("capacitated_p_median candidates", "100 points, 25 candidates, p = 8, tight (1.1)",
+             lambda: pw.capacitated_p_median(apoints, 8, acaps, aw, candidates=acands),
+             lambda: capacitated_median_program(apoints, acands, acaps, aw, 8),
+             "scipy.optimize.milp (HiGHS) on the textbook program", compare=_median_note, repeat=1),
         *_cells_cases(quick),
     ]
 
@@ -204,11 +215,65 @@ def single_source_quality(sets: list[tuple[int, int, int, float]]) -> None:
               f"{np.sum(e > 1e-9)} | {refused} | {proven} | {ours_s:.2f} s | {milp_s:.2f} s", flush=True)
 
 
+# The capacitated p-median audit sets: (label, n, m, p, capacity tightness, seeds). Tightness
+# is the capacity of the p largest candidates over the demand.
+MEDIAN_AUDIT_SETS = [
+    *(("40 x 12, p = 4", 40, 12, 4, t, range(30)) for t in (1.1, 1.3, 1.6, 2.0)),
+    *(("100 x 25, p = 8", 100, 25, 8, t, range(5)) for t in (1.1, 1.5)),
+]
+
+
+def median_audit(sets=MEDIAN_AUDIT_SETS, per_instance: bool = False) -> list[dict]:  # noqa: ANN001
+    """``capacitated_p_median`` with candidates against ``scipy.optimize.milp`` (HiGHS) on the
+    textbook program (``tests/test_capacity_audit.capacitated_median_program``) and its LP
+    relaxation, per instance: plan / optimum - 1, bound / optimum, the reported gap, the LP
+    relaxation / optimum and both solvers' wall seconds. Prints one summary line per set
+    (worst and mean) and returns the rows."""
+    import os
+
+    rows = []
+    for label, n, m, p, tight, seeds in sets:
+        for seed in seeds:
+            points, cands, caps, w = capacitated_median_instance(n, m, p, tight, seed)
+            wall, _, ours = _timed(lambda: pw.capacitated_p_median(points, p, caps, w, candidates=cands))  # noqa: B023
+            ref_wall, _, best = _timed(lambda: capacitated_median_program(points, cands, caps, w, p))  # noqa: B023
+            lp = capacitated_median_program(points, cands, caps, w, p, relaxed=True)
+            if best is None:
+                print(f"{label} tight {tight} seed {seed}: milp did not finish", flush=True)
+                continue
+            row = dict(set=label, tightness=tight, seed=seed, plan=ours.total_cost / best - 1,
+                       bound=ours.median_lower_bound / best, gap=ours.median_relative_gap, lp=lp / best,
+                       ours_s=wall, milp_s=ref_wall)
+            rows.append(row)
+            if per_instance:
+                print(" ".join(f"{k}={v:.4g}" if isinstance(v, float) else f"{k}={v}" for k, v in row.items()),
+                      flush=True)
+        mine = [r for r in rows if r["set"] == label and r["tightness"] == tight]
+        if not mine:
+            continue
+
+        def col(key: str) -> np.ndarray:
+            return np.array([r[key] for r in mine])  # noqa: B023
+
+        print(f"| {label} | {tight} | {len(mine)} | {col('plan').max():.2%} / {col('plan').mean():.2%} | "
+              f"{1 - col('bound').min():.2%} / {1 - col('bound').mean():.2%} | "
+              f"{col('gap').max():.2%} / {col('gap').mean():.2%} | {1 - col('lp').min():.2%} / "
+              f"{1 - col('lp').mean():.2%} | {col('ours_s').max() * 1e3:.1f} / {col('ours_s').mean() * 1e3:.1f} ms | "
+              f"{col('milp_s').mean():.2f} s | {os.getloadavg()[0]:.2f}", flush=True)
+    return rows
+
+
 if __name__ == "__main__":
     # python bench_capacity.py 2000,5000,10000,100000 2000,5000,10000
     # python bench_capacity.py cells 100000x100,300000x300,1000000x1000
     # python bench_capacity.py limit 100000 1200
     # python bench_capacity.py single
+    # python bench_capacity.py median_audit [-v]
+    if sys.argv[1] == "median_audit":
+        print("| set | tightness | instances | plan / optimum - 1 (worst / mean) | 1 - bound / optimum | "
+              "reported gap | 1 - LP relaxation / optimum | ours (worst / mean) | milp (mean) | load", flush=True)
+        median_audit(per_instance="-v" in sys.argv)
+        sys.exit()
     if sys.argv[1] == "limit":
         limited_reference(int(sys.argv[2]), float(sys.argv[3]))
         sys.exit()

@@ -274,3 +274,147 @@ def test_a_shortfall_of_whole_units_beside_huge_demand_is_not_rounding():
     plan = pw.capacity_allocation(points, sites, caps, weights, allow_unserved=True)
     assert plan.total_unserved == pytest.approx(44.0, abs=1e-9)
     assert np.all(plan.load <= caps)
+
+
+# ------------------------------------------------- the capacitated p-median against milp
+
+
+def capacitated_median_program(points, cands, caps, weights, p, *, relaxed=False, time_limit=120.0):
+    """The textbook capacitated p-median program, solved by ``scipy.optimize.milp`` (HiGHS):
+    min Σ w_i d_ij x_ij with y_j binary, Σ_j y_j = p, Σ_j x_ij = 1, Σ_i w_i x_ij ≤ Q_j y_j,
+    0 ≤ x_ij ≤ y_j (d Euclidean). ``relaxed`` drops the integrality (the LP relaxation).
+    Returns the optimal value; None when HiGHS did not prove it within ``time_limit``."""
+    from scipy.sparse import coo_matrix, hstack, vstack
+
+    d = cdist(points, cands)
+    n, m = d.shape
+    nx = n * m
+    cols = np.arange(nx)
+    rows_i, cols_j = np.repeat(np.arange(n), m), np.tile(np.arange(m), n)
+    assign = coo_matrix((np.ones(nx), (rows_i, cols)), shape=(n, nx))
+    load = coo_matrix((np.repeat(weights, m), (cols_j, cols)), shape=(m, nx))
+    open_cap = coo_matrix((-np.asarray(caps, float), (np.arange(m), np.arange(m))), shape=(m, m))
+    link = coo_matrix((-np.ones(nx), (cols, cols_j)), shape=(nx, m))
+    a = vstack([
+        hstack([assign, coo_matrix((n, m))]),
+        hstack([load, open_cap]),
+        hstack([coo_matrix(np.eye(nx)), link]),
+        hstack([coo_matrix((1, nx)), coo_matrix(np.ones((1, m)))]),
+    ]).tocsr()
+    lo = np.r_[np.ones(n), np.full(m, -np.inf), np.full(nx, -np.inf), [p]]
+    hi = np.r_[np.ones(n), np.zeros(m), np.zeros(nx), [p]]
+    cost = np.r_[(d * np.asarray(weights, float)[:, None]).ravel(), np.zeros(m)]
+    integrality = np.r_[np.zeros(nx), np.zeros(m) if relaxed else np.ones(m)]
+    res = milp(cost, constraints=LinearConstraint(a, lo, hi), integrality=integrality, bounds=Bounds(0, 1),
+               options={"time_limit": time_limit})
+    return res.fun if res.status == 0 else None
+
+
+def capacitated_median_instance(n, m, p, tightness, seed):
+    """A seeded audit instance: n points and m candidates uniform in a 100 × 100 square,
+    integral demand 1–5, candidate capacities uniform(0.5, 1.5) scaled so that the p largest
+    hold ``tightness`` × the demand."""
+    rng = np.random.default_rng(seed)
+    points = rng.uniform(0, 100, size=(n, 2))
+    cands = rng.uniform(0, 100, size=(m, 2))
+    weights = rng.integers(1, 6, size=n).astype(float)
+    caps = rng.uniform(0.5, 1.5, size=m)
+    caps *= tightness * weights.sum() / np.sort(caps)[-p:].sum()
+    return points, cands, caps, weights
+
+
+@pytest.mark.parametrize("tightness", [1.1, 1.3, 2.0])
+def test_capacitated_median_bound_and_plan_against_milp(tightness):
+    # Outside check: scipy.optimize.milp (HiGHS) on the textbook program above, its LP
+    # relaxation (integrality off), and scipy.optimize.linprog on the transportation program
+    # with every candidate open (the bound reported before the Lagrangian one). Wrong answers
+    # seen: plans up to 50 % above the optimum and bounds at 45 % of it (every candidate open
+    # drops the limit of p sites).
+    for seed in range(8):
+        points, cands, caps, w = capacitated_median_instance(40, 12, 4, tightness, seed)
+        best = capacitated_median_program(points, cands, caps, w, 4)
+        lp = capacitated_median_program(points, cands, caps, w, 4, relaxed=True)
+        all_open = split_linprog(points, cands, caps, w)
+        assert best is not None and lp is not None
+        plan = pw.capacitated_p_median(points, 4, caps, w, candidates=cands)
+        assert np.all(plan.load <= caps[plan.chosen] * (1 + 1e-12))
+        assert plan.load.sum() == pytest.approx(w.sum(), rel=1e-12)
+        assert plan.total_cost >= best * (1 - 1e-9)
+        # Proven: never above the optimum.
+        assert plan.median_lower_bound <= best * (1 + 1e-9)
+        # Stronger than both the bound with every candidate open and (to the subgradient's
+        # tolerance) the linear-programming relaxation.
+        assert plan.median_lower_bound >= all_open * (1 - 1e-9)
+        assert plan.median_lower_bound >= lp * (1 - 5e-3)
+        # The plan: within 1 % of the optimum (the interchange and the Lagrangian heuristic).
+        assert plan.total_cost <= best * 1.01
+        assert plan.median_relative_gap == pytest.approx(1 - plan.median_lower_bound / plan.total_cost, abs=1e-12)
+
+
+def test_capacitated_median_at_scale_against_milp():
+    # 100 points, 25 candidates, p = 8, tight capacities: the same claims as above against
+    # scipy.optimize.milp (HiGHS), and a gap below the one of every candidate open.
+    points, cands, caps, w = capacitated_median_instance(100, 25, 8, 1.1, 0)
+    best = capacitated_median_program(points, cands, caps, w, 8)
+    assert best is not None
+    plan = pw.capacitated_p_median(points, 8, caps, w, candidates=cands)
+    assert best * (1 - 1e-9) <= plan.total_cost <= best * 1.01
+    assert plan.median_lower_bound <= best * (1 + 1e-9)
+    all_open = split_linprog(points, cands, caps, w)
+    assert plan.median_relative_gap < 0.5 * (1 - all_open / plan.total_cost)
+
+
+def test_capacitated_median_degenerate_candidates():
+    rng = np.random.default_rng(4)
+    points = rng.uniform(0, 10, size=(20, 2))
+    cands = rng.uniform(0, 10, size=(5, 2))
+    w = np.ones(20)
+    # p = every candidate: the only plan, its transportation optimum (scipy.optimize.linprog),
+    # gap 0.
+    caps = np.array([4.0, 4.0, 4.0, 4.0, 4.0])  # exactly the demand
+    plan = pw.capacitated_p_median(points, 5, caps, w, candidates=cands)
+    assert sorted(plan.chosen.tolist()) == [0, 1, 2, 3, 4]
+    assert plan.total_cost == pytest.approx(split_linprog(points, cands, caps, w), rel=1e-9)
+    assert plan.median_relative_gap == 0.0 and plan.load == pytest.approx(caps, rel=1e-12)
+    # Exactly tight: the p largest hold the demand exactly; checked against milp.
+    caps = np.array([10.0, 10.0, 3.0, 3.0, 2.0])
+    plan = pw.capacitated_p_median(points, 2, caps, w, candidates=cands)
+    assert sorted(plan.chosen.tolist()) == [0, 1]  # by hand: no other pair holds 20
+    best = capacitated_median_program(points, cands, caps, w, 2)  # scipy.optimize.milp
+    assert plan.total_cost == pytest.approx(best, rel=1e-9)
+    assert plan.median_lower_bound <= best * (1 + 1e-9)
+    # A candidate of capacity 0 is never chosen while others hold the demand, and the bound
+    # holds (scipy.optimize.milp).
+    caps = np.array([0.0, 12.0, 12.0, 12.0, 12.0])
+    plan = pw.capacitated_p_median(points, 2, caps, w, candidates=cands)
+    assert 0 not in plan.chosen.tolist()
+    best = capacitated_median_program(points, cands, caps, w, 2)
+    assert best * (1 - 1e-9) <= plan.total_cost <= best * 1.01
+    assert plan.median_lower_bound <= best * (1 + 1e-9)
+    # All the demand at one place: the nearest candidates with room serve it; by hand with
+    # candidates on a line, 2 sites of 6 for 12 units at the origin cost 6·1 + 6·2 = 18.
+    line = np.array([[1.0, 0.0], [2.0, 0.0], [3.0, 0.0]])
+    plan = pw.capacitated_p_median([[0, 0]] * 4, 2, [6, 6, 6], [3, 3, 3, 3], candidates=line)
+    assert sorted(plan.chosen.tolist()) == [0, 1]
+    assert plan.total_cost == pytest.approx(18.0, rel=1e-12)
+    assert plan.median_lower_bound == pytest.approx(18.0, rel=1e-9)
+    # Points of no demand (a third of them) change nothing: the plan and the optimum are
+    # those of the demand alone (scipy.optimize.milp), and a second call gives the same plan.
+    spread, lots, room, demand = capacitated_median_instance(30, 10, 3, 1.2, 3)
+    demand[::3] = 0.0
+    plan = pw.capacitated_p_median(spread, 3, room, demand, candidates=lots)
+    best = capacitated_median_program(spread, lots, room, demand, 3)
+    assert best * (1 - 1e-9) <= plan.total_cost <= best * 1.01
+    assert plan.median_lower_bound <= best * (1 + 1e-9)
+    again = pw.capacitated_p_median(spread, 3, room, demand, candidates=lots)
+    assert again.chosen.tolist() == plan.chosen.tolist() and again.total_cost == plan.total_cost
+    assert again.median_lower_bound == plan.median_lower_bound
+    # Errors name the argument.
+    with pytest.raises(pw.InputError, match="p") as info:
+        pw.capacitated_p_median(points, 6, np.full(5, 10.0), w, candidates=cands)
+    assert info.value.argument == "p"
+    with pytest.raises(pw.InputError, match="short"):
+        pw.capacitated_p_median(points, 2, [9.0, 9.0, 1.0, 1.0, 1.0], w, candidates=cands)
+    with pytest.raises(pw.InputError) as info:
+        pw.capacitated_p_median(points, 2, [9.0, -1.0, 12.0, 1.0, 1.0], w, candidates=cands)
+    assert info.value.argument == "capacities"

@@ -190,7 +190,7 @@ pub(crate) fn allocate_on_clock(
 }
 
 /// `Σ amount · distance` over the real sites (compensated).
-fn served_cost(points: &[Point], sites: &[Point], flows: &[Vec<(u32, f64)>], m: usize) -> f64 {
+pub(crate) fn served_cost(points: &[Point], sites: &[Point], flows: &[Vec<(u32, f64)>], m: usize) -> f64 {
     let mut sum = CompensatedSum::default();
     for (i, f) in flows.iter().enumerate() {
         for &(j, x) in f {

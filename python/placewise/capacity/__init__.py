@@ -6,7 +6,8 @@
 * :func:`capacity_cells` — capacity-constrained catchments: the powers for which every
   site's power cell holds exactly its capacity of demand (squared-distance cost);
 * :func:`capacitated_p_median` — ``p`` sites with capacities, continuous or chosen among
-  candidates (location–allocation), with a proven gap where a cheap relaxation exists.
+  candidates (location–allocation; with candidates also the swap interchange and a
+  Lagrangian heuristic), with a proven gap (Lagrangian bound) where candidates are given.
 
 The exact plan comes from successive shortest paths with node potentials (Edmonds & Karp
 1972; Tomizawa 1971) run on the residual network condensed over the sites, so each step

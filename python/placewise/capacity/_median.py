@@ -25,15 +25,22 @@ class CapacitatedMedianPlan(CapacityPlan):
     chosen : ndarray of int64, shape (p,)
         With candidates: the candidate row of each site (else empty).
     median_lower_bound, median_relative_gap : float
-        With candidates: the cost of the transportation plan with every candidate open (a
-        proven lower bound on any plan of ``p`` sites) and the gap to it; NaN for
-        continuous sites, where no cheap relaxation is known.
+        With candidates: a proven lower bound on any plan of ``p`` sites and the gap
+        ``(total_cost - median_lower_bound) / total_cost`` to it. The bound is the larger of
+        the transportation plan with every candidate open and a Lagrangian bound (the
+        assignment constraints relaxed, subgradient optimisation; Mulvey & Beck 1984,
+        Lorena & Senne 2004), which reaches the linear-programming relaxation of the
+        capacitated p-median and passes it where "the open capacities hold the demand"
+        binds. NaN for continuous sites, where no cheap relaxation is known, and when
+        ``time_limit`` passed before either bound was proven.
     rounds : int
-        Location–allocation rounds run.
+        Rounds run: location–allocation rounds, then with candidates the passes of the
+        swap interchange.
     converged : bool
-        True when the rounds ended because moving the sites no longer lowered the cost;
-        False when ``max_rounds`` or ``time_limit`` cut them short (the plan is then the
-        best found, its allocation still exact and within the capacities).
+        True when the rounds ended at a local optimum (moving the sites, and with candidates
+        swapping one open site for a closed candidate, no longer lowered the cost); False
+        when ``max_rounds`` or ``time_limit`` cut them short (the plan is then the best
+        found, its allocation still exact and within the capacities).
     """
 
     chosen: np.ndarray = dataclasses.field(default_factory=lambda: np.zeros(0, dtype=np.int64), repr=False)
@@ -63,9 +70,12 @@ def capacitated_p_median(
     Location–allocation (Cooper 1964) with a capacitated allocation step: allocate by the
     exact transportation plan, move each site to the best location for the demand it
     serves, and repeat while the cost falls. The start is the uncapacitated p-median plan.
-    Without candidates a site moves to the weighted Fermat–Weber point of its demand; with
-    candidates to the free candidate serving that demand most cheaply with room for it,
-    and the plan with every candidate open gives a proven lower bound.
+    Without candidates a site moves to the weighted Fermat–Weber point of its demand. With
+    candidates a site moves to the free candidate serving that demand most cheaply with
+    room for it; the plan is then improved by the swap interchange (close one site, open
+    one of the candidates nearest to it, re-solve the transportation plan) and by the
+    Lagrangian heuristic (the sites of the Lagrangian relaxation, made to hold the demand),
+    and the run proves a lower bound (see ``median_lower_bound``) and reports the gap.
 
     Parameters
     ----------
@@ -86,22 +96,24 @@ def capacitated_p_median(
     seed : int
         Seed of the uncapacitated start.
     max_rounds : int
-        Most location–allocation rounds.
+        Most rounds: location–allocation rounds and, with candidates, swap-interchange
+        passes together.
     unit : str
         Name of the coordinates' length unit.
     time_limit : float, optional
         Seconds (finite, above zero) the run may take, counted from the call's start (reading
         the arguments included). When they pass after the first
         transportation plan, the best plan so far is returned with ``converged`` False
-        (with candidates and no time left for the relaxation, ``median_lower_bound`` and
-        ``median_relative_gap`` are NaN: nothing is proven); before it, no plan meeting the
+        (with candidates, the bound is the best proven before the limit; with no time
+        left for either bound, ``median_lower_bound`` and ``median_relative_gap`` are NaN:
+        nothing is proven); before it, no plan meeting the
         capacities exists yet and an ``InputError`` names ``time_limit``. Default: no limit.
     progress : bool or callable
         True shows a progress bar on stderr (tqdm's when installed, else a plain line); a
         callable is called as ``progress(done, total)`` from the calling thread while the
-        run works, counting the start, the first plan and the rounds against
-        ``max_rounds`` (closed at the total when the run ends). Ctrl-C stops the run
-        within a fraction of a second and raises ``KeyboardInterrupt``.
+        run works, counting the start, the first plan, the rounds against ``max_rounds``,
+        the bound and the improvement (closed at the total when the run ends). Ctrl-C stops
+        the run within a fraction of a second and raises ``KeyboardInterrupt``.
 
     Returns
     -------

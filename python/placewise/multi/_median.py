@@ -269,10 +269,11 @@ def p_median(
     capacities : array_like, optional
         Demand each site can serve (in weight units): the capacitated p-median, solved by
         :func:`placewise.capacitated_p_median` (location–allocation with the exact
-        transportation plan as allocation step; a point's demand may be split between
-        sites). Without ``candidates``: shape (p,), one capacity per site to place. With
-        ``candidates``: shape (m,), one per candidate; the plan then reports a proven lower
-        bound and gap (``median_relative_gap``). Returns a
+        transportation plan as allocation step, and with candidates the swap interchange
+        and a Lagrangian heuristic; a point's demand may be split between sites). Without
+        ``candidates``: shape (p,), one capacity per site to place. With ``candidates``:
+        shape (m,), one per candidate; the plan then reports a proven lower bound and gap
+        (``median_relative_gap``). Returns a
         :class:`placewise.CapacitatedMedianPlan`, whose ``sites_frame()`` has every site's
         ``capacity``, ``load`` and ``slack``. ``time_limit`` and ``progress`` work as in
         :func:`placewise.capacitated_p_median` (a plan cut short has ``converged`` False).

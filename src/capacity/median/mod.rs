@@ -12,22 +12,40 @@
 //!   the nearest distinct candidates (one site per demand location at most; when `p` is
 //!   larger, the largest free candidates make up the rest), swapping in larger candidates
 //!   while their total capacity is short; a site moves to the free candidate that serves
-//!   its allocated amounts most cheaply and has room for them. The transportation plan with *every* candidate
-//!   open is a relaxation (it drops the limit of `p` sites), so its cost is a proven lower
-//!   bound and the gap is reported.
+//!   its allocated amounts most cheaply and has room for them. The plan is then improved
+//!   ([`swap`]) by the swap interchange (close one site, open one candidate, re-solve the
+//!   transportation plan), by the Lagrangian heuristic (the sites of the relaxation below,
+//!   repaired to hold the demand, each costed by its transportation plan) and by the
+//!   interchange again from the best of those.
+//!
+//!   Two proven lower bounds, the larger reported with its gap: the transportation plan
+//!   with *every* candidate open (a relaxation dropping the limit of `p` sites), and the
+//!   Lagrangian relaxation of the assignment constraints with subgradient optimisation
+//!   ([`lagrange`]; Mulvey & Beck 1984, Lorena & Senne 2004), which approaches the
+//!   program's linear-programming relaxation and passes it where the valid inequality "the
+//!   open capacities hold the demand" binds. With `p` equal to the number of candidates
+//!   the only plan is every candidate open, and the first bound is its cost (gap 0).
 //!
 //! # Stopping early
 //! [`CapacitatedMedianOptions::limits`] are polled between rounds, between the sites of a
-//! candidate round, and inside every transportation plan. A run stopped after its first
-//! plan returns the best plan found (every plan it keeps meets the capacities exactly),
-//! flagged `converged` false; stopped before it (no plan meeting the capacities exists
-//! yet) it fails with [`super::stopped`]. The uncapacitated start may take half of the
-//! time limit. Progress counts the start's own steps, then the first plan and every round
-//! against `max_rounds`, closed at the total when the run ends.
+//! candidate round, inside every transportation plan, between the swaps of the interchange
+//! and between subgradient steps. A run stopped after its first plan returns the best plan
+//! found (every plan it keeps meets the capacities exactly), flagged `converged` false; its
+//! bound is the best proven before the stop (NaN when neither bound was reached). Stopped
+//! before the first plan (no plan meeting the capacities exists yet) it fails with
+//! [`super::stopped`]. The uncapacitated start may take half of the time limit. Progress
+//! counts the start's own steps, then the first plan and every round against `max_rounds`,
+//! the bound and the improvement, closed at the total when the run ends.
 
 use std::time::Instant;
 
-use super::allocation::{allocate_on_clock, split_plan, AllocationOptions, CapacityAllocation};
+mod lagrange;
+mod swap;
+
+use lagrange::Relaxation;
+use swap::{hold_demand, lower, Sets};
+
+use super::allocation::{allocate_on_clock, served_cost, split_plan, AllocationOptions, CapacityAllocation};
 use super::transport::Flows;
 use super::{check_capacities, check_capacity_values, relative_gap, serve_all, validate};
 use crate::cancel::{Clock, RunLimits, Steps};
@@ -41,7 +59,8 @@ use crate::multi::{distinct_weighted, p_median, MedianOptions};
 pub struct CapacitatedMedianOptions {
     /// Seed of the uncapacitated start.
     pub seed: u64,
-    /// Most location–allocation rounds.
+    /// Most rounds: location–allocation rounds and, with candidates, swap-interchange passes
+    /// together.
     pub max_rounds: usize,
     /// Deadline and cancel flag (see the module's "Stopping early").
     pub limits: RunLimits,
@@ -64,16 +83,17 @@ pub struct CapacitatedMedian {
     pub capacities: Vec<f64>,
     /// How the sites serve the demand (split, exact for these sites).
     pub allocation: CapacityAllocation,
-    /// With candidates: the cost of the transportation plan with every candidate open, a
-    /// proven lower bound on the optimum; NaN for continuous sites.
+    /// With candidates: a proven lower bound on the optimum, the larger of the transportation
+    /// plan with every candidate open and the Lagrangian bound (see the module's doc); NaN
+    /// for continuous sites, and when the limits stopped the run before either was proven.
     pub lower_bound: f64,
     /// `(cost − lower_bound) / cost`, NaN without a bound.
     pub relative_gap: f64,
-    /// Location–allocation rounds run.
+    /// Location–allocation rounds run, and with candidates the swap-interchange passes.
     pub rounds: usize,
     /// True when the rounds ended because moving the sites no longer lowered the cost (a
-    /// local optimum of location–allocation); false when `max_rounds` or the limits cut
-    /// them short.
+    /// local optimum of location–allocation; with candidates, of the swap interchange);
+    /// false when `max_rounds` or the limits cut them short.
     pub converged: bool,
 }
 
@@ -90,7 +110,9 @@ pub struct CapacitatedMedian {
 ///
 /// # Runtime
 /// Each round is one transportation plan (see [`capacity_allocation`]) plus O(n) Weiszfeld
-/// steps, or O(n·m) with `m` candidates.
+/// steps, or O(n·m) with `m` candidates. With candidates, each interchange pass (a round)
+/// solves up to `6·p` transportation plans (warm-started from the current plan's prices),
+/// and the bound takes up to 1,000 subgradient steps of O(n·m log n) each.
 pub fn capacitated_p_median(
     points: &[Point],
     weights: Weights<'_>,
@@ -327,24 +349,9 @@ fn discrete(
             chosen.push(big);
         }
     }
-    let mut held: f64 = chosen.iter().map(|&j| capacities[j]).sum();
-    for &big in &by_size {
-        if serve_all(demand, held).is_ok() {
-            break;
-        }
-        if used[big] {
-            continue;
-        }
-        let (k, &small) =
-            chosen.iter().enumerate().min_by(|a, b| capacities[*a.1].total_cmp(&capacities[*b.1])).expect("p ≥ 1");
-        if capacities[small] >= capacities[big] {
-            break;
-        }
-        used[small] = false;
-        used[big] = true;
-        chosen[k] = big;
-        held += capacities[big] - capacities[small];
-    }
+    hold_demand(&mut chosen, &by_size, capacities, demand);
+    used.fill(false);
+    chosen.iter().for_each(|&j| used[j] = true);
     let picked = |chosen: &[usize]| -> (Vec<Point>, Vec<f64>) {
         (chosen.iter().map(|&j| candidates[j]).collect(), chosen.iter().map(|&j| capacities[j]).collect())
     };
@@ -402,17 +409,65 @@ fn discrete(
         }
     }
     // Relaxation: every candidate open. Stopped by the limits, it proves nothing (NaN).
-    let lower_bound = match split_plan(points, candidates, capacities, weights, 0.0, super::plain_distance, run.clock) {
-        Ok(relaxed) if !run.clock.stop() => {
-            let mut lower = CompensatedSum::default();
-            for (i, f) in relaxed.flows.iter().enumerate() {
-                for &(j, x) in f {
-                    lower.add(x * distance(points[i], candidates[j as usize]));
+    run.steps.plan(2);
+    let transport_bound =
+        match split_plan(points, candidates, capacities, weights, 0.0, super::plain_distance, run.clock) {
+            Ok(relaxed) if !run.clock.stop() => served_cost(points, candidates, &relaxed.flows, m),
+            _ => f64::NAN,
+        };
+    // Better plans and a stronger bound: the swap interchange from the location–allocation
+    // plan, the Lagrangian relaxation offering its sites (repaired to hold the demand) as
+    // plans, and the interchange again from the best of those when it is new.
+    let mut sets = Sets::new(points, weights, candidates, capacities, demand, run.clock);
+    sets.seen(&chosen);
+    let mut set = chosen.clone();
+    let mut cost = best.0.total_cost;
+    let mut prices = best.0.price.clone();
+    let mut lagrangian = f64::NAN;
+    if p < m {
+        let (passes, local) = sets.interchange(&mut set, &mut cost, &mut prices, run.max_rounds.saturating_sub(rounds));
+        rounds += passes;
+        converged = local;
+        let relaxation = Relaxation { points, weights, candidates, capacities, p, demand };
+        let mut offered: Option<(Vec<usize>, Vec<f64>)> = None;
+        let (value, _) = relaxation.bound(cost, lagrange::MAX_STEPS, run.clock, |relaxed| {
+            let mut repaired = relaxed.to_vec();
+            hold_demand(&mut repaired, &by_size, capacities, demand);
+            let (v, y) = sets.cost(&repaired, None)?;
+            if lower(v, cost) {
+                cost = v;
+                offered = Some((repaired, y));
+                Some(v)
+            } else {
+                None
+            }
+        });
+        run.steps.step();
+        if value.is_finite() {
+            lagrangian = value;
+        }
+        if let Some((mut from, mut y)) = offered {
+            let (passes, local) = sets.interchange(&mut from, &mut cost, &mut y, run.max_rounds.saturating_sub(rounds));
+            rounds += passes;
+            converged = local;
+            set = from;
+        }
+        run.steps.step();
+        if set != chosen {
+            let (sites, caps) = picked(&set);
+            // Cut short by the limits, the location–allocation plan stands.
+            if let Ok(plan) = allocate(points, &sites, &caps, weights, run.clock, None) {
+                if lower(plan.0.total_cost, best.0.total_cost) {
+                    chosen = set;
+                    best = plan;
                 }
             }
-            lower.total().min(best.0.total_cost)
         }
-        _ => f64::NAN,
+    }
+    // Both bounds are proven; either may be missing (stopped by the limits).
+    let lower_bound = match (transport_bound.is_nan(), lagrangian.is_nan()) {
+        (true, true) => f64::NAN,
+        _ => transport_bound.max(lagrangian).min(best.0.total_cost),
     };
     Ok(CapacitatedMedian {
         sites: chosen.iter().map(|&j| candidates[j]).collect(),
@@ -425,3 +480,6 @@ fn discrete(
         converged,
     })
 }
+
+#[cfg(test)]
+mod tests;
