@@ -19,6 +19,12 @@ fn instance(n: usize, m: usize, p: usize, tight: f64, seed: u64) -> (Vec<Point>,
     (points, cands, caps, weights)
 }
 
+/// The capacitated p-median of `p` among `cands` with the default options.
+fn on_candidates(points: &[Point], cands: &[Point], caps: &[f64], weights: &[f64], p: usize) -> CapacitatedMedian {
+    capacitated_p_median(points, Weights::Given(weights), p, caps, Some(cands), &CapacitatedMedianOptions::default())
+        .unwrap()
+}
+
 /// Brute force: the least transportation cost over every set of `p` candidates holding
 /// the demand (each set's plan by the exact solver).
 fn brute_force(points: &[Point], cands: &[Point], caps: &[f64], weights: &[f64], p: usize) -> f64 {
@@ -53,15 +59,7 @@ fn candidate_bound_never_passes_the_brute_force_optimum_and_the_plan_meets_it_cl
     for (seed, tight) in (0..12).zip([1.05, 1.2, 1.6, 2.0].iter().cycle()) {
         let (points, cands, caps, weights) = instance(30, 10, 3, *tight, seed);
         let best = brute_force(&points, &cands, &caps, &weights, 3);
-        let plan = capacitated_p_median(
-            &points,
-            Weights::Given(&weights),
-            3,
-            &caps,
-            Some(&cands),
-            &CapacitatedMedianOptions::default(),
-        )
-        .unwrap();
+        let plan = on_candidates(&points, &cands, &caps, &weights, 3);
         let cost = plan.allocation.total_cost;
         assert!(plan.lower_bound <= best * (1.0 + 1e-9), "seed {seed}: bound {} > optimum {best}", plan.lower_bound);
         assert!(cost >= best * (1.0 - 1e-9));
@@ -76,15 +74,7 @@ fn candidate_bound_never_passes_the_brute_force_optimum_and_the_plan_meets_it_cl
 #[test]
 fn every_candidate_open_has_no_gap() {
     let (points, cands, caps, weights) = instance(25, 5, 5, 1.0, 7);
-    let plan = capacitated_p_median(
-        &points,
-        Weights::Given(&weights),
-        5,
-        &caps,
-        Some(&cands),
-        &CapacitatedMedianOptions::default(),
-    )
-    .unwrap();
+    let plan = on_candidates(&points, &cands, &caps, &weights, 5);
     let best = brute_force(&points, &cands, &caps, &weights, 5);
     assert!((plan.allocation.total_cost - best).abs() <= 1e-9 * best);
     assert_eq!(plan.relative_gap, 0.0);
