@@ -182,6 +182,11 @@ struct Search<'p, 'a> {
     tail_demand: Vec<f64>,
     /// `Σ_j y_j Q_j`.
     priced_capacity: f64,
+    /// Relative rounding of the bound: it is the difference of sums as large as
+    /// `Σ_j y_j Q_j`, which can dwarf the costs (a heavy point filling a priced site), and
+    /// loads may pass the capacities by [`SITE_ROUNDING`]; a node is cut only when the bound
+    /// passes the incumbent by more than this times the sums' magnitude.
+    bound_rounding: f64,
 }
 
 /// The state of one search: the plan being built and the best one found.
@@ -214,7 +219,8 @@ impl<'p, 'a> Search<'p, 'a> {
             tail_demand[t] = tail_demand[t + 1] + w;
         }
         let priced_capacity = (0..m).map(|j| prices[j] * packing.capacities[j]).sum();
-        Search { packing, order, prices, choices, tail, tail_demand, priced_capacity }
+        let bound_rounding = (order.len() + m + 8) as f64 * f64::EPSILON;
+        Search { packing, order, prices, choices, tail, tail_demand, priced_capacity, bound_rounding }
     }
 
     /// Search below `incumbent` (the cost of a plan serving everything, if one is known).
@@ -234,6 +240,13 @@ impl<'p, 'a> Search<'p, 'a> {
         (found, !walk.stopped)
     }
 
+    /// The bound below a node of priced cost `priced` with `tail` to come, less its rounding
+    /// (nondecreasing in `priced`, so the sites' order still allows the `break` below).
+    fn bound(&self, priced: f64, tail: f64) -> f64 {
+        let sums = priced + tail + self.priced_capacity;
+        (priced + tail - self.priced_capacity) - self.bound_rounding * sums
+    }
+
     /// Place `order[t..]` below a plan of cost `cost` and priced cost `priced` so far.
     fn descend(&self, walk: &mut Walk, t: usize, cost: f64, priced: f64) {
         if walk.stopped {
@@ -248,7 +261,7 @@ impl<'p, 'a> Search<'p, 'a> {
         }
         let room: f64 = (0..walk.load.len()).map(|j| (self.packing.capacities[j] - walk.load[j]).max(0.0)).sum();
         let slop = SITE_ROUNDING * walk.load.len() as f64 * self.tail_demand[t].max(room);
-        if priced + self.tail[t] - self.priced_capacity >= limit || self.tail_demand[t] > room + slop {
+        if self.bound(priced, self.tail[t]) >= limit || self.tail_demand[t] > room + slop {
             return;
         }
         let i = self.order[t];
@@ -265,7 +278,7 @@ impl<'p, 'a> Search<'p, 'a> {
             }
             let d = self.packing.cost_of(i, j);
             let priced_here = priced + w * (d + self.prices[j]);
-            if priced_here + self.tail[t + 1] - self.priced_capacity >= limit {
+            if self.bound(priced_here, self.tail[t + 1]) >= limit {
                 // The sites come in order of priced distance, so no later one passes either.
                 break;
             }
@@ -588,4 +601,50 @@ mod tests {
         assert!((plan.total_cost - best).abs() <= 1e-12 * best, "{} vs {best}", plan.total_cost);
         assert!(plan.load.iter().zip(&caps).all(|(l, c)| l <= c));
     }
+
+    #[test]
+    fn the_bound_holds_when_priced_capacity_dwarfs_the_cost() {
+        // A point of demand 1e12 on site 0, which holds it and one unit more, and three unit
+        // points near it: sites 1 and 2 hold one each. Site 0's price (about 7.6) times its
+        // capacity is near 8e12, while the plans cost about 19.5 and the best two differ by
+        // 1.8e-6: the bound is a difference of sums near 8e12, rounded by about 1e-3. Given
+        // the second-best plan as its incumbent, the search must still find the best.
+        // Reference: enumeration of all 3^4 plans (brute_force).
+        let d = |k: f64| k * 1e-7;
+        let points = [[0.0, 0.0], [1.0 + d(16.0), 1.0], [1.0, 1.0 + d(8.0)], [1.0 + d(0.0), 1.0 + d(0.0)]];
+        let sites = [[0.0, 0.0], [10.0, 0.0], [0.0, 10.0]];
+        let caps = [1e12 + 1.0, 1.0, 1.0];
+        let w = [1e12, 1.0, 1.0, 1.0];
+        let weights = Weights::from_option(Some(&w));
+        let split = super::super::capacity_allocation(&points, &sites, &caps, weights, &Default::default()).unwrap();
+        let best = brute_force(&points, &sites, &caps, &w).expect("a plan exists");
+        let packing = Packing::new(&points, &sites, &caps, weights);
+        let order = [0, 1, 2, 3];
+        let search = Search::new(&packing, &order, &split.price);
+        let mut at_best = None;
+        let mut second = f64::INFINITY;
+        for code in 0..81usize {
+            let at: Vec<usize> = (0..4).map(|i| code / 3usize.pow(i) % 3).collect();
+            let mut load = [0.0; 3];
+            for i in 0..4 {
+                load[at[i]] += w[i];
+            }
+            if (0..3).any(|j| load[j] > caps[j]) {
+                continue;
+            }
+            let cost: f64 = (0..4).map(|i| w[i] * distance(points[i], sites[at[i]])).sum();
+            if cost == best {
+                at_best = Some(at);
+            } else if cost < second {
+                second = cost;
+            }
+        }
+        assert!(at_best.is_some() && second > best && second - best < 1e-5, "{best} {second}");
+        let (found, finished) = search.run(Some(second));
+        assert!(finished);
+        let found = found.expect("the search finds the plan enumeration finds");
+        let cost: f64 = (0..4).map(|i| w[i] * distance(points[i], sites[found[i].unwrap()])).sum();
+        assert!((cost - best).abs() <= 1e-12 * best, "{cost} vs {best}");
+    }
 }
+
