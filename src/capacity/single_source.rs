@@ -647,4 +647,3 @@ mod tests {
         assert!((cost - best).abs() <= 1e-12 * best, "{cost} vs {best}");
     }
 }
-
