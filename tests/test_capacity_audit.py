@@ -418,3 +418,44 @@ def test_capacitated_median_degenerate_candidates():
     with pytest.raises(pw.InputError) as info:
         pw.capacitated_p_median(points, 2, [9.0, -1.0, 12.0, 1.0, 1.0], w, candidates=cands)
     assert info.value.argument == "capacities"
+
+
+def test_single_source_refusal_says_no_plan_exists_when_the_search_proved_it():
+    # Three points of 2 and two sites holding 3 each: capacity meets demand, but no site holds
+    # two points, so no single-source plan exists (scipy.optimize.milp finds none). The
+    # exhaustive search covers every plan here, so the refusal must not say one may exist.
+    points = np.array([[0.0, 0.0], [1.0, 0.0], [2.0, 0.0]])
+    sites = np.array([[0.0, 1.0], [2.0, 1.0]])
+    caps, weights = np.array([3.0, 3.0]), np.array([2.0, 2.0, 2.0])
+    assert single_source_milp(points, sites, caps, weights) is None  # scipy.optimize.milp
+    with pytest.raises(pw.DegenerateInputError, match="no single-source plan exists") as err:
+        pw.capacity_allocation(points, sites, caps, weights, split=False)
+    assert "may still exist" not in str(err.value)
+
+
+@pytest.mark.parametrize("split", [True, False])
+def test_capacity_costs_beyond_float64_are_refused_not_returned_as_nan(split):
+    # Input: three points 1e10 apart carrying 1e300 each. Wrong answer before: total_cost NaN,
+    # lower_bound NaN and relative_gap 0.0, returned as a plan. Reference: float64's range,
+    # 3e300 of demand times distances of 1e10 exceed 1.8e308 (by hand).
+    points = [[0, 0], [1e10, 0], [0, 1e10]]
+    sites = [[0, 0], [1e10, 1e10]]
+    weights = [1e300, 1e300, 1e300]
+    with pytest.raises(pw.InputError, match="overflow") as info:
+        pw.capacity_allocation(points, sites, [2e300, 1e300], weights, split=split)
+    assert info.value.argument == "points"
+    # The same demand a million times lighter fits, and its cost is finite and exact to the
+    # hand count: site 0 serves points 0 and 2 (1e294 · 1e10), site 1 point 1 (1e294 · 1e10).
+    plan = pw.capacity_allocation(points, sites, [2e294, 1e294], [1e294] * 3, split=split)
+    assert plan.total_cost == pytest.approx(2e304, rel=1e-12) and plan.relative_gap == 0.0
+
+
+def test_capacitated_p_median_costs_beyond_float64_are_refused():
+    # The same overflow through the capacitated p-median, with sites anywhere and on
+    # candidates. Reference: float64's range (by hand, as above).
+    points = [[0, 0], [1e10, 0], [0, 1e10]]
+    weights = [1e300, 1e300, 1e300]
+    with pytest.raises(pw.InputError, match="overflow"):
+        pw.capacitated_p_median(points, 2, [2e300, 2e300], weights)
+    with pytest.raises(pw.InputError, match="overflow"):
+        pw.capacitated_p_median(points, 2, [2e300, 2e300], weights, candidates=[[0, 0], [1e10, 1e10]])

@@ -4,9 +4,11 @@
 //!   [`super::transport`]. The optimal capacity prices `y_j` certify it: every point is served
 //!   only by sites minimising `distance + y_j`, and `y_j = 0` wherever a site has slack.
 //! - Single source (`split = false`): a heuristic (the problem is NP-hard), the best of the
-//!   split plan rounded, two packing starts and a regret-first start, each improved by
-//!   shifts and swaps (see [`super::single_source`]). The split plan's cost is a lower bound on any single-source plan (it
-//!   is the linear-programming relaxation), so the reported `relative_gap` is proven.
+//!   split plan rounded and two packing starts, each improved by shifts and swaps (see
+//!   [`super::single_source`]). The split plan's cost is a lower bound on any single-source
+//!   plan (it is the linear-programming relaxation), so the reported `relative_gap` is
+//!   proven; on small instances an exhaustive search that finishes proves the plan optimal
+//!   (then `lower_bound` is its cost).
 //! - Shortfall: when the capacities cannot hold the demand, the caller either gets
 //!   [`Error::Shortfall`](crate::error::Error::Shortfall) or, with `allow_unserved`, a
 //!   virtual site of capacity equal to the shortfall and the same cost `C` from every point takes it. As every plan sends exactly

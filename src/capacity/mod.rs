@@ -21,7 +21,8 @@ pub use cells::{capacity_cells, CapacityCells, CellsOptions};
 pub use median::{capacitated_p_median, CapacitatedMedian, CapacitatedMedianOptions};
 
 use crate::error::{Error, Result};
-use crate::geometry::{validate_points, validate_weights, CompensatedSum, Point, Weights};
+use crate::geometry::validate::WEIGHTED_LIMIT;
+use crate::geometry::{validate_points, validate_weights, BoundingBox, CompensatedSum, Point, Weights};
 
 /// The error of a run stopped (deadline passed, or cancelled) before it had a plan meeting
 /// the capacities: such a plan exists only once the transportation problem is solved, so
@@ -41,7 +42,8 @@ pub(crate) fn stopped() -> Error {
 /// Bad coordinates ([`Error::NonFiniteCoordinate`], [`Error::TooFewPoints`]); bad weights;
 /// [`Error::InvalidParameter`] naming `capacities` for a wrong length or for a location
 /// listed twice with different capacities; [`Error::InvalidWeight`] naming `capacities` for
-/// a negative, NaN or infinite capacity.
+/// a negative, NaN or infinite capacity; [`Error::WeightedOverflow`] when the demand times
+/// the points' and sites' extent overflows.
 pub(crate) fn validate(
     points: &[Point],
     sites: &[Point],
@@ -56,7 +58,32 @@ pub(crate) fn validate(
     (0..points.len()).for_each(|i| demand.add(weights.get(i)));
     let mut capacity = CompensatedSum::default();
     capacities.iter().for_each(|&c| capacity.add(c));
+    check_weighted_distances(points, sites, demand.total())?;
     Ok((demand.total(), capacity.total()))
+}
+
+/// Check that the demand times the longest distance between any point and site (at most the
+/// diagonal of their common box) stays within [`WEIGHTED_LIMIT`]: beyond it the plan's cost
+/// overflows, and a NaN total with a gap of 0 would be returned as an answer. (The cells'
+/// squared costs have their own frame; this bounds their plain-distance report.)
+///
+/// # Errors
+/// [`Error::WeightedOverflow`] naming the points and sites and how to rescale.
+pub(crate) fn check_weighted_distances(points: &[Point], sites: &[Point], demand: f64) -> Result<()> {
+    let both = BoundingBox::of(points).into_iter().chain(BoundingBox::of(sites)).flat_map(|b| [b.min, b.max]);
+    let corners: Vec<Point> = both.collect();
+    let largest = BoundingBox::of(&corners).map_or(0.0, |b| b.diagonal());
+    // Written so that a NaN product (0 × inf) is refused too.
+    if !(largest * demand <= WEIGHTED_LIMIT) {
+        return Err(Error::WeightedOverflow {
+            largest,
+            weight: demand,
+            summed: true,
+            limit: WEIGHTED_LIMIT,
+            coordinates: Some("sites"),
+        });
+    }
+    Ok(())
 }
 
 /// One finite capacity ≥ 0 per site, and one capacity per location.

@@ -37,6 +37,7 @@ pub use median::{discrete_p_median, DiscreteMedian, DiscreteMedianOptions};
 pub use source::{with_planar_costs, CostMatrix, Costs, PlanarCosts, SparseCosts, PLANAR_DENSE_CELLS};
 
 use crate::error::{Error, Result};
+use crate::geometry::validate::WEIGHTED_LIMIT;
 use crate::geometry::{distance, validate_points, CompensatedSum, Point, Weights};
 
 /// Largest cost matrix [`euclidean_costs`] builds (cells): 8 bytes each, so about 800 MB.
@@ -100,11 +101,6 @@ fn check_choice(costs: &Costs<'_>, p: usize, fixed: &[usize]) -> Result<()> {
     }
     Ok(())
 }
-
-/// The largest weighted cost the p-median and p-center work with: far enough below
-/// `f64::MAX` that totals of weighted costs, the doubled ceilings standing for an unserved
-/// point, and the differences the swaps and gaps take of them all stay finite.
-const WEIGHTED_LIMIT: f64 = f64::MAX / 64.0;
 
 /// Check that weighted costs stay within [`WEIGHTED_LIMIT`]: the largest allowed cost times
 /// the total weight (`summed`, for a total such as the p-median's) or the largest weight (for

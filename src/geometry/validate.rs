@@ -7,6 +7,13 @@
 use super::Point;
 use crate::error::{Error, Result};
 
+/// The largest weighted cost (weight × distance, and totals of them) the models that sum or
+/// compare weighted costs work with: far enough below `f64::MAX` that totals of weighted
+/// costs, the doubled ceilings standing for an unserved point, and the differences the swaps
+/// and gaps take of them all stay finite. Beyond it a plan's objective overflows to
+/// infinity, every plan looks alike, and a gap of 0 would be claimed for any of them.
+pub(crate) const WEIGHTED_LIMIT: f64 = f64::MAX / 64.0;
+
 /// Check the settings of an iterative solver: at least one iteration, a finite tolerance >= 0.
 ///
 /// # Errors

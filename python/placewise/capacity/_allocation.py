@@ -205,8 +205,11 @@ def capacity_allocation(
         row); capacities of the wrong length; one location with two capacities; total
         capacity below total demand (the message gives the shortfall) unless
         ``allow_unserved``; with ``split=False``, a point the heuristic found no site with
-        room for whole (a single-source plan may still exist on very tight capacities); a
-        ``time_limit`` that is not a number above zero, or that passed before the plan.
+        room for whole (when the exhaustive search finished, no single-source plan exists
+        and the message says so; otherwise one may still exist on very tight capacities);
+        total demand times the points' and sites' extent beyond about 2.8e306, where costs
+        overflow float64 (rescale the coordinates or the weights); a ``time_limit`` that is
+        not a number above zero, or that passed before the plan.
 
     Examples
     --------

@@ -47,7 +47,7 @@ use swap::{hold_demand, lower, Sets};
 
 use super::allocation::{allocate_on_clock, served_cost, split_plan, AllocationOptions, CapacityAllocation};
 use super::transport::Flows;
-use super::{check_capacities, check_capacity_values, relative_gap, serve_all, validate};
+use super::{check_capacities, check_capacity_values, check_weighted_distances, relative_gap, serve_all, validate};
 use crate::cancel::{Clock, RunLimits, Steps};
 use crate::error::{Error, Result};
 use crate::geometry::{distance, location_key, validate_points, validate_weights, CompensatedSum, Point, Weights};
@@ -216,6 +216,8 @@ fn continuous(run: Run<'_, '_>, p: usize, capacities: &[f64], start: Vec<Point>)
     capacities.iter().for_each(|&c| capacity.add(c));
     let (demand, capacity) = (demand.total(), capacity.total());
     serve_all(demand, capacity)?;
+    // The sites move within the points' hull, so the points' own extent bounds every distance.
+    check_weighted_distances(points, points, demand)?;
     let mut sites = fill_sites(points, weights, start, p);
     // The sites are the model's own: several may share a location (a heavy point needing
     // more than one site's capacity), whatever their capacities, so the location check of
