@@ -297,3 +297,21 @@ def test_the_summary_lines_agree_with_scipy_and_with_the_files(files, capsys):
     within = costs[np.ix_(homes, homes)] <= 450
     assert code == 0 and pairs is not None, err
     assert int(pairs[1]) == int(within.sum()) == len(pd.read_csv(path / "c.csv"))
+
+
+def test_a_longitude_latitude_network_travels_in_geodesic_metres(tmp_path, capsys):
+    # Streets drawn in EPSG:4326 near 60° N: the costs are geodesic metres along them.
+    # Reference: pyproj.Geod (WGS84) lengths of the two streets, summed along the only path.
+    pyproj = pytest.importorskip("pyproj")
+    net, homes, out = tmp_path / "net.gpkg", tmp_path / "homes.gpkg", tmp_path / "costs.csv"
+    gpd.GeoDataFrame(geometry=[shapely.LineString([(10.0, 60.0), (10.01, 60.0)]),
+                               shapely.LineString([(10.01, 60.0), (10.01, 60.01)])], crs="EPSG:4326").to_file(net)
+    gpd.GeoDataFrame({"name": ["a", "b"]}, geometry=[shapely.Point(10.0, 60.0), shapely.Point(10.01, 60.01)],
+                     crs="EPSG:4326").to_file(homes)
+    code = main(["travel-costs", str(homes), "--network", str(net), "--destinations", str(homes), "-o", str(out)])
+    assert code == 0, capsys.readouterr().err
+    costs = pd.read_csv(out)
+    geod = pyproj.Geod(ellps="WGS84")
+    along = geod.line_length([10.0, 10.01], [60.0, 60.0]) + geod.line_length([10.01, 10.01], [60.0, 60.01])
+    across = costs[costs["origin"] != costs["destination"]]["cost_m"]
+    assert len(across) == 2 and np.allclose(across, along, rtol=1e-12)

@@ -2,7 +2,8 @@
 siting by travel cost.
 
 The network is a file of lines, LineStrings or MultiLineStrings (GeoPackage, Shapefile,
-GeoParquet or GeoJSON), in a projected CRS; points in another CRS are projected to it. Each
+GeoParquet or GeoJSON), in a projected CRS or in longitude/latitude (lengths then geodesic
+metres on the WGS84 ellipsoid); points in another CRS are transformed to it. Each
 part of a MultiLineString is a line of its own. Costs are the lines' lengths unless
 ``--cost`` names a column (a multi-part line's cost shared among its parts by length);
 ``--one-way`` names a column of direction codes (0 both ways, 1 along the drawing direction,
@@ -124,7 +125,8 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
     network = argparse.ArgumentParser(add_help=False)
     network.add_argument("--network", metavar="FILE", required=True,
                          help="lines of the street network, LineStrings or MultiLineStrings (GeoPackage, "
-                              "Shapefile, GeoParquet, GeoJSON) in a projected CRS")
+                              "Shapefile, GeoParquet, GeoJSON) in a projected CRS, or in longitude/latitude "
+                              "(lengths in metres on the WGS84 ellipsoid)")
     network.add_argument("--cost", metavar="COLUMN", help="column of each line's travel cost, shared among the parts "
                          "of a MultiLineString by length [its length]")
     network.add_argument("--one-way", metavar="COLUMN", help="column of direction codes: 0 both ways, 1 along the "
