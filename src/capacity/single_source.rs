@@ -74,16 +74,14 @@ pub(super) fn single_source(
     heavy.sort_by(|&a, &b| weights.get(b).total_cmp(&weights.get(a)).then(a.cmp(&b)));
     // Start 1: the split plan rounded.
     let mut rounded: Vec<Option<usize>> = vec![None; n];
-    let mut kept = vec![false; n];
     for (i, f) in flows.iter().enumerate() {
         if let [(j, _)] = f.as_slice() {
             if (*j as usize) < m {
                 rounded[i] = Some(*j as usize);
-                kept[i] = true;
             }
         }
     }
-    let shared: Vec<usize> = heavy.iter().copied().filter(|&i| !kept[i]).collect();
+    let shared: Vec<usize> = heavy.iter().copied().filter(|&i| rounded[i].is_none()).collect();
     let fresh = || Packing::new(points, sites, capacities, weights);
     let mut starts = vec![
         fresh().place(&rounded, &shared, Fit::Cheapest),

@@ -401,7 +401,7 @@ fn discrete(
             // error is possible once the first plan exists); the best plan so far stands.
             break;
         };
-        if plan.0.total_cost < best.0.total_cost * (1.0 - 1e-12) {
+        if lower(plan.0.total_cost, best.0.total_cost) {
             chosen = next;
             used = taken;
             best = plan;

@@ -74,20 +74,18 @@ impl<'a> Sets<'a> {
         Sets { points, candidates, capacities, demand, clock, amounts, seen: HashSet::new() }
     }
 
-    /// Mark `set` as costed (its plan is known).
-    pub(super) fn seen(&mut self, set: &[usize]) {
+    /// Mark `set` as costed (its plan is known); false when it was already.
+    pub(super) fn seen(&mut self, set: &[usize]) -> bool {
         let mut key = set.to_vec();
         key.sort_unstable();
-        self.seen.insert(key);
+        self.seen.insert(key)
     }
 
     /// The cost of the transportation plan of `set` and its capacity prices (per site of
     /// `set`), its solve started from `prices` (zero when `None`); `None` when `set` was
     /// costed before, its capacities cannot hold the demand, or the clock stopped the solve.
     pub(super) fn cost(&mut self, set: &[usize], prices: Option<&[f64]>) -> Option<(f64, Vec<f64>)> {
-        let mut key = set.to_vec();
-        key.sort_unstable();
-        if !self.seen.insert(key) {
+        if !self.seen(set) {
             return None;
         }
         let caps: Vec<f64> = set.iter().map(|&j| self.capacities[j]).collect();
