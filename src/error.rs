@@ -253,6 +253,17 @@ pub trait Namer {
     fn row(&self, argument: &str, row: usize) -> String;
     /// The name of the group with integer label `label`: `7` or `'north'`.
     fn group(&self, label: i64) -> String;
+    /// A length (a distance, a gap to a network) written as `number`, with its unit when the
+    /// caller knows it (`12.5 m`). The kernels know no units, so by default the number stands
+    /// alone.
+    fn length(&self, number: String) -> String {
+        number
+    }
+    /// A cost of a cost matrix (a travel time, a price) written as `number`, with its unit
+    /// when the caller knows it (`7 min`); on coordinates the costs are lengths.
+    fn cost(&self, number: String) -> String {
+        number
+    }
 }
 
 /// Rows and groups named by their positions and integer labels.
@@ -318,10 +329,12 @@ impl Error {
                 namer.row(argument, *first)
             ),
             Error::LostCell { argument, row, nearest, reach } => format!(
-                "{argument}: the cell of {argument}[{}] is lost: its nearest site lies {nearest:.3e} away, about the \
-                 {reach:.3e} to which a region this large is cut at double precision (2^-40 of its size); pass a \
-                 smaller region around these sites",
-                namer.row(argument, *row)
+                "{argument}: the cell of {argument}[{}] is lost: its nearest site lies {} away, about the {} to \
+                 which a region this large is cut at double precision (2^-40 of its size); pass a smaller region \
+                 around these sites",
+                namer.row(argument, *row),
+                namer.length(format!("{nearest:.3e}")),
+                namer.length(format!("{reach:.3e}"))
             ),
             Error::InvalidCost { argument, row, column, value } => format!(
                 "{argument}[{}, {column}] = {}; every cost must be finite and >= 0",
@@ -332,31 +345,33 @@ impl Error {
                 "radius: points[{}] has no candidate within radius {}; its cheapest candidate, column {column}, \
                  costs {}",
                 namer.row("points", *row),
-                plain(*radius),
-                plain(*cost)
+                namer.cost(plain(*radius)),
+                namer.cost(plain(*cost))
             ),
             Error::Uncoverable { row, radius, column, cost, coordinates: Some(name) } => format!(
                 "radius: points[{}] has no candidate within radius {}; its nearest candidate, {name}[{}], lies at \
                  distance {}",
                 namer.row("points", *row),
-                plain(*radius),
+                namer.length(plain(*radius)),
                 namer.row(name, *column),
-                plain(*cost)
+                namer.length(plain(*cost))
             ),
             Error::WeightedOverflow { largest, weight, summed, limit, coordinates } => {
                 let what = if *summed { "the total weight" } else { "the largest weight" };
                 match coordinates {
                     None => format!(
-                        "costs: the largest cost ({largest:e}) times {what} ({weight:e}) exceeds {limit:.3e}, beyond \
-                         which weighted totals overflow float64; rescale the costs (or the coordinates they are \
-                         distances between) or the weights (e.g. kilometres instead of metres, thousands of people \
-                         instead of people)"
+                        "costs: the largest cost ({}) times {what} ({weight:e}) exceeds {limit:.3e}, beyond which \
+                         weighted totals overflow float64; rescale the costs (or the coordinates they are distances \
+                         between) or the weights (e.g. kilometres instead of metres, thousands of people instead of \
+                         people)",
+                        namer.cost(format!("{largest:e}"))
                     ),
                     Some(name) => format!(
-                        "points, {name}: distances between points and {name} of at most {largest:e} times {what} \
+                        "points, {name}: distances between points and {name} of at most {} times {what} \
                          ({weight:e}) exceed {limit:.3e}, beyond which weighted totals overflow float64; rescale the \
                          coordinates of points and {name} (e.g. kilometres instead of metres) or the weights (e.g. \
-                         thousands of people instead of people)"
+                         thousands of people instead of people)",
+                        namer.length(format!("{largest:e}"))
                     ),
                 }
             }
@@ -366,8 +381,8 @@ impl Error {
             Error::BeyondGap { argument, row, gap, max_gap } => format!(
                 "{argument}[{}] lies {} from the nearest edge, farther than max_gap = {}",
                 namer.row(argument, *row),
-                plain(*gap),
-                plain(*max_gap)
+                namer.length(plain(*gap)),
+                namer.length(plain(*max_gap))
             ),
             Error::OutsideRegion { argument, row, point } => format!(
                 "{argument}[{}] at ({}, {}) lies outside the region; every point must lie in the region or on \
@@ -561,5 +576,54 @@ mod tests {
         );
         assert!(e.to_string().contains("rescale the coordinates of points and candidates"), "{e}");
         assert_eq!(e.argument(), "points");
+    }
+
+    /// A caller that knows the units of lengths (km) and costs (min).
+    struct InKilometres;
+    impl Namer for InKilometres {
+        fn row(&self, _argument: &str, row: usize) -> String {
+            row.to_string()
+        }
+        fn group(&self, label: i64) -> String {
+            label.to_string()
+        }
+        fn length(&self, number: String) -> String {
+            format!("{number} km")
+        }
+        fn cost(&self, number: String) -> String {
+            format!("{number} min")
+        }
+    }
+
+    #[test]
+    fn lengths_and_costs_carry_the_callers_units_and_nothing_else_does() {
+        let e = Error::Uncoverable { row: 2, radius: 1.0, column: 1, cost: 6.5, coordinates: None };
+        assert_eq!(
+            e.describe(&InKilometres),
+            "radius: points[2] has no candidate within radius 1 min; its cheapest candidate, column 1, costs 6.5 min"
+        );
+        let e = e.on_coordinates("candidates").in_group(3);
+        assert_eq!(
+            e.describe(&InKilometres),
+            "group 3: radius: points[2] has no candidate within radius 1 km; its nearest candidate, candidates[1], \
+             lies at distance 6.5 km"
+        );
+        let e = Error::BeyondGap { argument: "sites", row: 4, gap: 120.5, max_gap: 50.0 };
+        assert_eq!(
+            e.describe(&InKilometres),
+            "sites[4] lies 120.5 km from the nearest edge, farther than max_gap = 50 km"
+        );
+        let e = Error::LostCell { argument: "sites", row: 0, nearest: 2e-9, reach: 3e-9 };
+        assert!(e.describe(&InKilometres).contains("lies 2.000e-9 km away, about the 3.000e-9 km to which"), "{e}");
+        let e =
+            Error::WeightedOverflow { largest: 1e306, weight: 3.0, summed: true, limit: 2.5e306, coordinates: None };
+        assert!(e
+            .describe(&InKilometres)
+            .starts_with("costs: the largest cost (1e306 min) times the total weight (3e0)"));
+        let e = e.on_coordinates("candidates");
+        assert!(e.describe(&InKilometres).contains("candidates of at most 1e306 km times the total weight"), "{e}");
+        // Weights, counts and positions are not lengths: they stay bare.
+        let e = Error::InvalidWeight { argument: "weights", index: 3, value: -1.0 };
+        assert_eq!(e.describe(&InKilometres), e.to_string());
     }
 }

@@ -8,7 +8,8 @@ __version__: str
 
 @final
 class ErrorDetail:
-    def describe(self, name_group: Any, name_row: Any) -> str: ...
+    def describe(self, name_group: Any, name_row: Any, length_unit: str | None = None,
+                 cost_unit: str | None = None) -> str: ...
     @property
     def argument(self) -> str: ...
     @property

@@ -3,21 +3,22 @@
 The kernels know rows by position and groups by integer label. The GeoPandas layer, the
 Dask layer and the command line know the user's own names: a DataFrame's index labels and
 the values of a group column. :func:`restate` rewrites a kernel's ``InputError`` with those
-names (one message layout, built by the kernel's own error description), and
-:func:`restate_problems` does the same for the ``problem`` column of groups skipped with
-``errors="skip"``.
+names (one message layout, built by the kernel's own error description) and writes the
+call's unit after each length and cost (``radius 500 m``), and :func:`restate_problems` does
+the same for the ``problem`` column of groups skipped with ``errors="skip"``.
 """
 
 from __future__ import annotations
 
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Iterator, Mapping
+from contextlib import contextmanager
 from typing import Any, NoReturn
 
 import numpy as np
 
 from ._core import DegenerateInputError, InputError
 
-__all__ = ["labelled", "plain", "refuse", "restate", "restate_problems"]
+__all__ = ["in_unit", "labelled", "plain", "refuse", "restate", "restate_problems"]
 
 
 def refuse(argument: str, text: str) -> NoReturn:
@@ -57,8 +58,19 @@ class _Names:
         return lambda argument, row: repr(self.row_label(argument, row))
 
 
-def restate(exc: InputError, group_values: Any = None, row_labels: Mapping[str, Any] | None = None) -> InputError:
-    """``exc`` restated with the user's group values and row labels.
+def _stated(unit: str | None) -> str | None:
+    """The unit to write after a number: none for the unnamed default ``"u"``."""
+    return None if unit in (None, "", "u") else unit
+
+
+def _units(unit: str | None, length_unit: str | None) -> tuple[str | None, str | None]:
+    """``(length_unit, cost_unit)`` as :meth:`ErrorDetail.describe` takes them."""
+    return _stated(unit if length_unit is None else length_unit), _stated(unit)
+
+
+def restate(exc: InputError, group_values: Any = None, row_labels: Mapping[str, Any] | None = None,
+            unit: str | None = None, length_unit: str | None = None) -> InputError:
+    """``exc`` restated with the user's group values, row labels and unit.
 
     Parameters
     ----------
@@ -69,6 +81,12 @@ def restate(exc: InputError, group_values: Any = None, row_labels: Mapping[str, 
     row_labels : mapping of str to sequence, optional
         Per argument name (``"points"``, ``"weights"``, ``"sites"``), the user's label of
         each input row.
+    unit : str, optional
+        The unit of the call's costs (``"min"``; on coordinates the costs are distances, so
+        ``"m"``), written after each of them in the message (``radius 500 m``). None, or the
+        unnamed default ``"u"``: bare numbers.
+    length_unit : str, optional
+        The unit of its lengths (a gap to a street network) when it is not ``unit``.
 
     Returns
     -------
@@ -81,7 +99,7 @@ def restate(exc: InputError, group_values: Any = None, row_labels: Mapping[str, 
         return exc
     names = _Names(group_values, row_labels)
     kind = DegenerateInputError if isinstance(exc, DegenerateInputError) else InputError
-    out = kind(detail.describe(names.group(), names.row()))
+    out = kind(detail.describe(names.group(), names.row(), *_units(unit, length_unit)))
     out.argument = detail.argument
     out.group = names.group_value(detail.group)
     out.row = names.row_label(detail.argument, detail.row)
@@ -89,13 +107,27 @@ def restate(exc: InputError, group_values: Any = None, row_labels: Mapping[str, 
     return out
 
 
-def restate_problems(details: Any, group_values: Any = None, row_labels: Mapping[str, Any] | None = None) -> np.ndarray:
+def restate_problems(details: Any, group_values: Any = None, row_labels: Mapping[str, Any] | None = None,
+                     unit: str | None = None) -> np.ndarray:
     """The ``problem`` messages of a grouped result, restated as :func:`restate` does."""
     names = _Names(group_values, row_labels)
     out = np.empty(len(details), dtype=object)
     for g, detail in enumerate(details):
-        out[g] = None if detail is None else str(detail.describe(names.group(), names.row()))
+        out[g] = None if detail is None else str(detail.describe(names.group(), names.row(), *_units(unit, None)))
     return out
+
+
+@contextmanager
+def in_unit(unit: str | None, length_unit: str | None = None) -> Iterator[None]:
+    """Run a kernel call, restating its ``InputError`` with ``unit`` after every cost and
+    ``length_unit`` (default ``unit``) after every length (see :func:`restate`); other
+    errors pass unchanged."""
+    try:
+        yield
+    except InputError as exc:
+        if _units(unit, length_unit) == (None, None) or getattr(exc, "detail", None) is None:
+            raise
+        raise restate(exc, unit=unit, length_unit=length_unit) from None
 
 
 def labelled(positions: Any, labels: np.ndarray) -> np.ndarray:

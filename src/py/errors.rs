@@ -54,6 +54,17 @@ impl ErrorDetail {
 struct PythonNamer<'a, 'py> {
     group: &'a Bound<'py, PyAny>,
     row: &'a Bound<'py, PyAny>,
+    /// The units of the call's lengths (`"m"`) and costs (`"min"`), written after each of them.
+    length_unit: Option<&'a str>,
+    cost_unit: Option<&'a str>,
+}
+
+/// `number` followed by `unit`, when there is one.
+fn with_unit(number: String, unit: Option<&str>) -> String {
+    match unit {
+        Some(unit) if !unit.is_empty() => format!("{number} {unit}"),
+        _ => number,
+    }
 }
 
 impl Namer for PythonNamer<'_, '_> {
@@ -63,15 +74,31 @@ impl Namer for PythonNamer<'_, '_> {
     fn group(&self, label: i64) -> String {
         self.group.call1((label,)).and_then(|s| s.extract::<String>()).unwrap_or_else(|_| label.to_string())
     }
+    fn length(&self, number: String) -> String {
+        with_unit(number, self.length_unit)
+    }
+    fn cost(&self, number: String) -> String {
+        with_unit(number, self.cost_unit)
+    }
 }
 
 #[pymethods]
 impl ErrorDetail {
-    /// The message with groups named by `name_group(label) -> str` and rows by
-    /// `name_row(argument, row) -> str` (a restored detail: its message as it was).
-    fn describe(&self, name_group: &Bound<'_, PyAny>, name_row: &Bound<'_, PyAny>) -> String {
+    /// The message with groups named by `name_group(label) -> str`, rows by
+    /// `name_row(argument, row) -> str`, lengths followed by `length_unit` and costs by
+    /// `cost_unit` when given (a restored detail: its message as it was).
+    #[pyo3(signature = (name_group, name_row, length_unit=None, cost_unit=None))]
+    fn describe(
+        &self,
+        name_group: &Bound<'_, PyAny>,
+        name_row: &Bound<'_, PyAny>,
+        length_unit: Option<&str>,
+        cost_unit: Option<&str>,
+    ) -> String {
         match &self.form {
-            DetailForm::Live(error) => error.describe(&PythonNamer { group: name_group, row: name_row }),
+            DetailForm::Live(error) => {
+                error.describe(&PythonNamer { group: name_group, row: name_row, length_unit, cost_unit })
+            }
             DetailForm::Restored { message, .. } => message.clone(),
         }
     }

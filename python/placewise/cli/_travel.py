@@ -93,7 +93,7 @@ def _cmd_network_siting(args: argparse.Namespace) -> None:
     labels = {"points": p_labels, "weights": p_labels, "candidates": c_labels}
     try:
         plan = _restated(lambda: graph.choose_sites(model, p, c, weights, limit=args.limit, max_gap=args.max_gap,
-                                                    **options, **_progress(args)), labels)
+                                                    **options, **_progress(args)), labels, graph)
     except InputError as exc:
         from ..gis.coverage import with_candidate_labels
 

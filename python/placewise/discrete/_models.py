@@ -7,6 +7,7 @@ from collections.abc import Callable
 from numpy.typing import ArrayLike
 
 from .. import _core
+from .._errors import in_unit
 from ._costs import _matrix
 from ._selections import CenterSelection, CoverAllSelection, CoverMostSelection, MedianSelection, SiteEvaluation
 
@@ -64,7 +65,8 @@ def evaluate_sites(
     A point that no given site may serve (a pair a sparse matrix does not store) has
     ``assignment`` -1 and an infinite cost.
     """
-    fields = _core.discrete_evaluate(_matrix(costs), weights, sites, radius)
+    with in_unit(unit):
+        fields = _core.discrete_evaluate(_matrix(costs), weights, sites, radius)
     return SiteEvaluation(**fields, unit=unit)
 
 
@@ -156,8 +158,9 @@ def p_median(
     >>> quick.open, seen == sorted(seen)
     (array([1, 4]), True)
     """
-    fields = _core.discrete_p_median_single(_matrix(costs), p, weights, fixed, bound_iterations, search_rounds,
-                                            time_limit, progress, branch_iterations, seed)
+    with in_unit(unit):
+        fields = _core.discrete_p_median_single(_matrix(costs), p, weights, fixed, bound_iterations, search_rounds,
+                                                time_limit, progress, branch_iterations, seed)
     return MedianSelection(**fields, unit=unit)
 
 
@@ -202,7 +205,8 @@ def p_center(
     >>> float(pw.discrete.p_center(line, 7).weighted_worst)   # a site on every point
     0.0
     """
-    fields = _core.discrete_p_center_single(_matrix(costs), p, weights, fixed, time_limit, progress)
+    with in_unit(unit):
+        fields = _core.discrete_p_center_single(_matrix(costs), p, weights, fixed, time_limit, progress)
     return CenterSelection(**fields, unit=unit)
 
 
@@ -262,7 +266,8 @@ def cover_all(
     >>> pw.discrete.cover_all(line, 1).chosen       # radius s / 2: a site per point
     7
     """
-    fields = _core.discrete_cover_all(_matrix(costs), radius, weights, fixed, time_limit, progress)
+    with in_unit(unit):
+        fields = _core.discrete_cover_all(_matrix(costs), radius, weights, fixed, time_limit, progress)
     return CoverAllSelection(**fields, unit=unit)
 
 
@@ -309,5 +314,6 @@ def cover_most(
     >>> float(pw.discrete.cover_most(line, 1, 0.5).covered_share)   # only its own point
     0.16666666666666666
     """
-    fields = _core.discrete_cover_most(_matrix(costs), p, radius, weights, fixed, time_limit, progress)
+    with in_unit(unit):
+        fields = _core.discrete_cover_most(_matrix(costs), p, radius, weights, fixed, time_limit, progress)
     return CoverMostSelection(**fields, unit=unit)

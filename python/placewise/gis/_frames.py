@@ -286,16 +286,17 @@ def weights(prepared: Prepared, weight: Any, name: str) -> np.ndarray | None:
 
 def call(
     kernel: Callable[..., Any], *args: Any, groups: Groups | None = None,
-    rows: Mapping[str, Any] | None = None, **options: Any,
+    rows: Mapping[str, Any] | None = None, measured_in: str | None = None, **options: Any,
 ) -> Any:
     """Run a kernel once (its grouped form when ``groups`` is given), restating any
-    ``InputError`` with the user's group values and row labels."""
+    ``InputError`` with the user's group values and row labels, and its lengths with
+    ``measured_in``, the working unit (``Prepared.unit``)."""
     try:
         if groups is None:
             return kernel(*args, **options)
         return kernel(*args, groups=groups.codes, **options)
     except InputError as exc:
-        raise restate(exc, None if groups is None else groups.values, rows) from None
+        raise restate(exc, None if groups is None else groups.values, rows, measured_in) from None
 
 
 def solve_points(obj: Any, name: str, kernel: Callable[..., Any], sphere: Callable[..., Any] | None = None, /, *,
@@ -310,7 +311,8 @@ def solve_points(obj: Any, name: str, kernel: Callable[..., Any], sphere: Callab
                                        work_crs=work_crs, max_scale_error=max_scale_error, by=by)
     rows = {"points": prepared.rows}
     grouped = {} if prepared.groups is None else {"errors": errors}
-    result = call(kernel, prepared.xy, groups=prepared.groups, rows=rows, **grouped, **options)
+    result = call(kernel, prepared.xy, groups=prepared.groups, rows=rows, measured_in=prepared.unit, **grouped,
+                  **options)
     return prepared, result, rows
 
 
@@ -327,7 +329,7 @@ def in_user_terms(
                 table[name] = value
         return table
     code = table["group"].to_numpy(dtype=np.int64)
-    problems = restate_problems(result.problem_detail, groups.values, rows)
+    problems = restate_problems(result.problem_detail, groups.values, rows, None if prepared is None else prepared.unit)
     table = table.drop(columns=["group", "problem"])
     taken = {*table.columns, "problem", *(["points"] if count else []),
              *(prepared.model(code) if prepared is not None else {})}

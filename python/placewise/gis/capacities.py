@@ -134,6 +134,7 @@ def capacity_allocation(
     refuse_geometry_named(df.frame, ["site", "share", f"distance_{df.unit}", f"cost_{df.unit}", "unserved"], "demand")
     rows = {"points": df.rows, "weights": df.rows, "sites": sf.rows, "capacities": sf.rows}
     result = call(_pw.capacity_allocation, df.xy, sf.xy, caps, weights(df, weight, "demand"), rows=rows,
+                  measured_in=df.unit,
                   split=split, allow_unserved=allow_unserved, time_limit=time_limit, progress=progress)
     result = with_unit(result, df)
     site_labels = sf.rows
@@ -216,6 +217,7 @@ def capacity_cells(
     refuse_geometry_named(df.frame, ["site", "share", f"cost_{df.unit}2"], "demand")
     rows = {"points": df.rows, "weights": df.rows, "sites": sf.rows, "capacities": sf.rows}
     result = with_unit(call(_pw.capacity_cells, df.xy, sf.xy, caps, weights(df, weight, "demand"), region=geom,
+                                  measured_in=df.unit,
                             tol=tol, rows=rows, time_limit=time_limit, progress=progress), df)
     table = result.sites_frame()
     out_sites = annotated(sf.frame, {name: table[name].to_numpy() for name in table.columns.drop(["x", "y"])},

@@ -211,7 +211,8 @@ def voronoi_cells(
     rows = {"sites": pf.rows}
     grouped = {} if groups is None else {"errors": errors}
     stages = Stages(progress, 1 if demand is None else 2)
-    result = call(_pw.voronoi_cells, pf.xy, geom, groups=groups, rows=rows, progress=stages.next(), **grouped)
+    result = call(_pw.voronoi_cells, pf.xy, geom, groups=groups, rows=rows, measured_in=pf.unit,
+                  progress=stages.next(), **grouped)
     # The kernel's rows are the sites in input order: one row per site, with its own columns.
     cells = framed(result, pf, groups, rows)
     base = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=cells.geometry.values,
@@ -285,7 +286,8 @@ def power_cells(
     groups = groups_of(pf.frame, by, "sites")
     rows = {"sites": pf.rows, "powers": pf.rows}
     grouped = {} if groups is None else {"errors": errors}
-    result = call(_pw.power_cells, pf.xy, powers, geom, groups=groups, rows=rows, **grouped)
+    result = call(_pw.power_cells, pf.xy, powers, geom, groups=groups, rows=rows, measured_in=pf.unit,
+                  **grouped)
     cells = framed(result, pf, groups, rows)
     out = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=cells.geometry.values,
                            crs=pf.crs)

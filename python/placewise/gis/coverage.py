@@ -288,7 +288,7 @@ def cover_all(
     where, existing, rows = _sites_offered(cf, ff)
     refuse_geometry_before(pf, radius=True)
     try:
-        result = call(_pw.cover_all, pf.xy, radius, rows={**_rows(pf), **rows, "radius": pf.rows},
+        result = call(_pw.cover_all, pf.xy, radius, measured_in=pf.unit, rows={**_rows(pf), **rows, "radius": pf.rows},
                       weights=weights(pf, weight, "frame"), candidates=where, fixed=existing,
                       time_limit=time_limit, progress=progress)
     except InputError as exc:
@@ -361,7 +361,8 @@ def cover_most(
     cf, ff = companions.get("candidates"), companions.get("fixed")
     where, existing, rows = _sites_offered(cf, ff)
     refuse_geometry_before(pf, radius=True)
-    result = call(_pw.cover_most, pf.xy, p, radius, weights(pf, weight, "frame"), rows={**_rows(pf), **rows},
+    result = call(_pw.cover_most, pf.xy, p, radius, weights(pf, weight, "frame"), measured_in=pf.unit,
+                  rows={**_rows(pf), **rows},
                   candidates=where, fixed=existing, time_limit=time_limit, progress=progress)
     return selection_plan(result, pf, _sources(result, cf, ff))
 
@@ -411,7 +412,7 @@ def evaluate_sites(
                                       **model)
     sf = companions["sites"]
     refuse_geometry_before(pf, radius=radius is not None)
-    result = call(_pw.evaluate_sites, pf.xy, sf.xy, weights(pf, weight, "frame"), radius=radius,
+    result = call(_pw.evaluate_sites, pf.xy, sf.xy, weights(pf, weight, "frame"), radius=radius, measured_in=pf.unit,
                   rows={**_rows(pf), "sites": sf.rows})
     sources = Sources()
     sources.add("sites", sf)

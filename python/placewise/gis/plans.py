@@ -134,13 +134,13 @@ def nearest_site(
     w = weights(df, weight, "demand")
     groups = None
     if by is None:
-        result = call(kernel, df.xy, sf.xy, w, rows=rows, progress=progress)
+        result = call(kernel, df.xy, sf.xy, w, rows=rows, measured_in=sf.unit, progress=progress)
     else:
         # Both frames coded on the union of their group values: a demand group without
         # sites is a problem (raise or skip); the sites of a value without demand serve
         # nobody and keep their row (load 0, count 0), with a summary row of their own.
         groups, site_codes = shared_groups(df.frame, sf.frame, by, ("demand", "sites"))
-        result = call(kernel, df.xy, sf.xy, w, groups=groups, rows=rows,
+        result = call(kernel, df.xy, sf.xy, w, groups=groups, rows=rows, measured_in=sf.unit,
                       site_groups=site_codes, errors=errors, progress=progress)
     site_table = with_unit(result, sf).sites_frame()
     out_sites = annotated(sf.frame, {"load": site_table["load"].to_numpy(),
@@ -195,7 +195,8 @@ def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bo
     grouped = {} if groups is None else {"errors": errors}
     kernel = _pw.p_median if kind == "median" else _pw.p_center
     refuse_geometry_named(pf.frame, _demand_columns(pf, options.get("capacities") is not None), "frame")
-    result = call(kernel, pf.xy, p, weights(pf, weight, "frame"), groups=groups, rows=rows, **grouped, **options)
+    result = call(kernel, pf.xy, p, weights(pf, weight, "frame"), groups=groups, rows=rows, measured_in=pf.unit,
+                  **grouped, **options)
     sites = with_unit(result, pf).sites_frame()
     if cf is not None:
         # Named as every other plan on candidates names its sites (the table contract).
@@ -233,7 +234,8 @@ def _plan_on_candidates(kind: str, frame: Any, p: int, weight: Any, by: str | No
     kernel = _pw.p_median if kind == "median" else _pw.p_center
     rows = {"points": pf.rows, "weights": pf.rows}
     refuse_geometry_named(pf.frame, _demand_columns(pf), "frame")
-    result = call(kernel, pf.xy, p, weights(pf, weight, "frame"), candidates=where, rows=rows, **options, **watch)
+    result = call(kernel, pf.xy, p, weights(pf, weight, "frame"), candidates=where, rows=rows, measured_in=pf.unit,
+                  **options, **watch)
     return selection_plan(result, pf, sources)
 
 

@@ -37,7 +37,7 @@ def _one_per_group(kernel: Any, frame: Any, weight: Any, by: str | None, planar:
     grouped = {} if groups is None else {"errors": errors}
     arguments = (pf.xy, weights(pf, weight, "frame")) if weighted else (pf.xy,)
     try:
-        result = call(kernel, *arguments, groups=groups, rows=rows, **grouped, **options)
+        result = call(kernel, *arguments, groups=groups, rows=rows, measured_in=pf.unit, **grouped, **options)
     except DegenerateInputError as exc:
         if not pf.ellipsoid:
             raise

@@ -72,15 +72,17 @@ def _points(graph: TravelGraph, frame: Any, argument: str) -> tuple[np.ndarray, 
     return np.column_stack([geometry.x.to_numpy(), geometry.y.to_numpy()]), frame.index.to_numpy()
 
 
-def _restated(call: Any, labels: dict[str, np.ndarray]) -> Any:
+def _restated(call: Any, labels: dict[str, np.ndarray], graph: TravelGraph) -> Any:
     """``call()``, its input errors naming rows by ``labels`` (per argument name): the
-    kernels' errors through :func:`restate`, the travel graph's own through their
-    ``relabel``."""
+    kernels' errors through :func:`restate` (with ``graph``'s units), the travel graph's own
+    through their ``relabel``."""
     try:
         return call()
     except InputError as exc:
         relabel = getattr(exc, "relabel", None)
-        raise (relabel(labels) if relabel is not None else restate(exc, row_labels=labels)) from None
+        if relabel is not None:
+            raise relabel(labels) from None
+        raise restate(exc, row_labels=labels, unit=graph.unit, length_unit=graph.length_unit) from None
 
 
 def travel_costs(graph: TravelGraph, origins: Any, destinations: Any, *, limit: float | None = None,
@@ -113,7 +115,8 @@ def travel_costs(graph: TravelGraph, origins: Any, destinations: Any, *, limit: 
     o, o_labels = _points(graph, origins, "origins")
     d, d_labels = _points(graph, destinations, "destinations")
     labels = {"origins": o_labels, "destinations": d_labels}
-    matrix = _restated(lambda: graph.costs(o, d, limit=limit, k=k, max_gap=max_gap, progress=progress), labels)
+    matrix = _restated(lambda: graph.costs(o, d, limit=limit, k=k, max_gap=max_gap, progress=progress), labels,
+                       graph)
     if isinstance(matrix, np.ndarray):
         rows, cols = np.nonzero(~np.isnan(matrix))
         values = matrix[rows, cols]
@@ -153,7 +156,7 @@ def network_catchments(graph: TravelGraph, points: Any, sites: Any, *, weight: s
     labels = {"points": p_labels, "sites": s_labels, "weights": p_labels}
     columns = ["site", "reachable", f"cost_{graph.unit}", f"gap_{graph.length_unit}"]
     refuse_geometry_named(frame, columns, "points")  # before the search, not after it
-    result = _restated(lambda: graph.nearest_site(p, s, weights, limit=limit, max_gap=max_gap), labels)
+    result = _restated(lambda: graph.nearest_site(p, s, weights, limit=limit, max_gap=max_gap), labels, graph)
     site = np.full(len(p), None, dtype=object)
     site[result.reachable] = s_labels[result.site[result.reachable]]
     return annotated(frame, dict(zip(columns, [site, result.reachable, result.cost, result.point_gap])), "points")
@@ -175,7 +178,7 @@ def network_reach(graph: TravelGraph, sites: Any, limit: float, *, max_gap: floa
     (['west'], 100.0)
     """
     s, s_labels = _points(graph, sites, "sites")
-    pieces = _restated(lambda: graph.reach(s, limit, max_gap=max_gap), {"sites": s_labels})
+    pieces = _restated(lambda: graph.reach(s, limit, max_gap=max_gap), {"sites": s_labels}, graph)
     frame = pieces.to_geodataframe(crs=graph.crs)
     frame["site"] = s_labels[pieces.site]
     return frame

@@ -12,7 +12,7 @@ from numpy.typing import ArrayLike
 
 from .. import _core
 from .._core import InputError
-from .._errors import restate
+from .._errors import in_unit, restate
 from .._progress import Stages
 from .._units import length_unit_of
 from ._inputs import (
@@ -308,6 +308,11 @@ class TravelGraph:
 
     # -------------------------------------------------------------- searches
 
+    def _measured(self) -> Any:
+        """A context in which the kernel's errors write this network's units after their
+        costs and lengths (``max_gap = 50 m``)."""
+        return in_unit(self.unit, self.length_unit)
+
     def snap(self, points: ArrayLike, *, max_gap: float | None = None) -> Attachments:
         """Attach points to the nearest point of the nearest edge (a grid of buckets over the
         edges' segments). Edges of zero length are never attached to: they lead nowhere but
@@ -329,7 +334,8 @@ class TravelGraph:
         >>> a.edge, a.along, a.gap
         (array([0]), array([4.]), array([3.]))
         """
-        return Attachments(**self._core.snap(points, max_gap), unit=self.length_unit)
+        with self._measured():
+            return Attachments(**self._core.snap(points, max_gap), unit=self.length_unit)
 
     def costs(self, origins: ArrayLike, destinations: ArrayLike, *, limit: float | None = None,
               k: int | None = None, max_gap: float | None = None,
@@ -374,7 +380,8 @@ class TravelGraph:
         array([[1., 0.],
                [0., 0.]])
         """
-        f = self._core.costs(origins, destinations, limit, k, max_gap, progress)
+        with self._measured():
+            f = self._core.costs(origins, destinations, limit, k, max_gap, progress)
         n, m = len(f["offsets"]) - 1, int(f["destinations"])
         if limit is None and k is None:
             dense = np.full((n, m), np.nan)
@@ -408,7 +415,8 @@ class TravelGraph:
         >>> c.unreachable
         1
         """
-        f = self._core.catchments(points, sites, weights, limit, max_gap)
+        with self._measured():
+            f = self._core.catchments(points, sites, weights, limit, max_gap)
         keep = {x.name for x in dataclasses.fields(NetworkCatchments)}
         return NetworkCatchments(**{k: v for k, v in f.items() if k in keep}, unit=self.unit,
                                  length_unit=self.length_unit)
@@ -427,7 +435,8 @@ class TravelGraph:
         0     0     0    0.0  0.5           0.0         5.0
         1     1     0    0.5  1.0           5.0         0.0
         """
-        return EdgePieces(**self._core.catchment_edges(sites, limit, max_gap), unit=self.unit)
+        with self._measured():
+            return EdgePieces(**self._core.catchment_edges(sites, limit, max_gap), unit=self.unit)
 
     def reach(self, sites: ArrayLike, limit: float, *, max_gap: float | None = None) -> EdgePieces:
         """For every site, the parts of the network within travel cost ``limit`` of it, as
@@ -442,7 +451,8 @@ class TravelGraph:
         0     0     0    0.1  0.4           3.0         0.0
         1     0     0    0.4  0.7           0.0         3.0
         """
-        return EdgePieces(**self._core.reach(sites, limit, max_gap), unit=self.unit)
+        with self._measured():
+            return EdgePieces(**self._core.reach(sites, limit, max_gap), unit=self.unit)
 
     # -------------------------------------------------------------- siting
 
