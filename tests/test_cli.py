@@ -812,3 +812,55 @@ def test_readme_commands_run_as_written(tmp_path):
     import pyogrio
 
     assert sorted(pyogrio.list_layers(tmp_path / "plan.gpkg")[:, 0]) == ["assignment", "sites", "summary"]
+
+
+# ---------------------------------------------------------------- destinations checked first
+
+
+@pytest.mark.parametrize("extra, words", [
+    (["--summary", "-"], ["--summary", "cannot tell the format"]),
+    (["--summary", "totals.txt"], ["--summary", "cannot tell the format"]),
+    (["--assignment", "{tmp}/no-such-folder/a.csv"], ["--assignment", "does not exist"]),
+    (["-o", "{tmp}/s.csv", "--assignment", "{tmp}/s.csv"], ["--assignment", "-o/--output writes there too"]),
+    (["-o", "{tmp}/p.gpkg:plan", "--summary", "{tmp}/p.gpkg:plan"], ["--summary", "own file or layer"]),
+])
+def test_an_unwritable_destination_is_refused_before_any_output(csv_path, tmp_path, capsys, extra, words):
+    # Reference: the file system and standard output after the call -- nothing was written,
+    # where the table used to reach standard output before the summary failed.
+    argv = ["p-median", *utm(csv_path), "-p", "2", *[a.format(tmp=tmp_path) for a in extra]]
+    before = sorted(p.name for p in tmp_path.iterdir())
+    code, out, err = run(argv, capsys)
+    assert_user_error(code, err, *words)
+    assert out == ""
+    assert sorted(p.name for p in tmp_path.iterdir()) == before
+
+
+def test_outputs_to_one_geopackage_take_layers_of_their_own(csv_path, tmp_path, capsys):
+    code, _, err = run(["p-median", *utm(csv_path), "-p", "3", "--weight", "people", "-o", tmp_path / "plan.gpkg",
+                        "--assignment", tmp_path / "plan.gpkg", "--summary", tmp_path / "plan.gpkg", "-q"], capsys)
+    assert code == 0, err
+    import geopandas as gpd
+    import pyogrio
+
+    assert sorted(name for name, _ in pyogrio.list_layers(tmp_path / "plan.gpkg")) == ["assignment", "sites",
+                                                                                    "summary"]
+    sites = gpd.read_file(tmp_path / "plan.gpkg", layer="sites")
+    assigned = gpd.read_file(tmp_path / "plan.gpkg", layer="assignment")
+    # Reference: scipy's cKDTree, each row's nearest site among those written.
+    _, nearest = cKDTree(np.column_stack([sites.geometry.x, sites.geometry.y])).query(XY)
+    assert assigned["site"].tolist() == sites["site"].to_numpy()[nearest].tolist()
+
+
+def test_longitude_latitude_columns_under_a_projected_crs_are_a_question_not_a_plan(tmp_path, capsys):
+    path = tmp_path / "ll.csv"
+    pd.DataFrame({"lon": [10.0, 10.1, 10.05], "lat": [50.0, 50.0, 50.1]}).to_csv(path, index=False)
+    code, out, err = run(["weber-point", path, "--crs", "EPSG:32632"], capsys)
+    assert_user_error(code, err, "'lon', 'lat'", "longitude/latitude", "EPSG:32632 is projected", "--x and --y")
+    assert out == ""
+    # Named explicitly, the columns are taken as the CRS's own coordinates (metres), as asked;
+    # reference: scipy's Nelder-Mead on the same numbers as planar coordinates.
+    code, out, err = run(["weber-point", path, "--crs", "EPSG:32632", "--x", "lon", "--y", "lat", "-q",
+                          "--max-scale-error", "0.01"], capsys)
+    assert code == 0, err
+    xy = np.array([[10.0, 50.0], [10.1, 50.0], [10.05, 50.1]])
+    assert table_of(out)["cost_m"].iloc[0] == pytest.approx(weber_cost_scipy(xy, np.ones(3)), rel=1e-6)

@@ -34,7 +34,7 @@ from collections.abc import Callable, Sequence
 from types import SimpleNamespace
 
 from . import _capacity, _commands, _coverage, _travel
-from ._io import _FORMATS, UserError, _check_crs, _one_line, _Parser, _positive_float
+from ._io import _FORMATS, UserError, _check_crs, _check_destinations, _one_line, _Parser, _positive_float
 
 __all__ = ["main"]
 
@@ -182,6 +182,7 @@ def main(argv: Sequence[str] | None = None) -> int:
 
         try:
             _check_crs(args)
+            _check_destinations(args)
             if getattr(args, "errors", "raise") == "skip" and getattr(args, "by", None) is None:
                 raise UserError("--errors skip keeps groups without an answer: it needs --by COLUMN")
             with warnings.catch_warnings():

@@ -110,6 +110,12 @@ def _read_csv_points(path: Path, args: argparse.Namespace, main: bool) -> Any:
                             f"{plain(table[column].iloc[row])!r} on {_where(table.index[row], 'csv')}")
         coords.append(values)
     crs = args.crs
+    if what == "longitude/latitude" and crs is not None and _projected(crs):
+        # The columns' names say degrees, the CRS says metres (or feet): one of them is wrong,
+        # and reading degrees as metres gives a plan on an invented map, so ask which.
+        raise UserError(f"{path}: columns {x!r}, {y!r} are named as longitude/latitude, but --crs {crs} is "
+                        "projected; for degrees drop --crs (or give a geographic one), and if the columns do "
+                        "hold projected coordinates, name them with --x and --y")
     if what == "longitude/latitude" and crs is None and not args.planar:
         crs = "EPSG:4326"
         for column, values, limit in zip((x, y), coords, (180.0, 90.0)):
@@ -129,6 +135,13 @@ def _read_csv_points(path: Path, args: argparse.Namespace, main: bool) -> Any:
         args.x_out, args.y_out = x, y
     geometry = gpd.points_from_xy(coords[0], coords[1], crs=crs)
     return gpd.GeoDataFrame(table.drop(columns=[x, y]), geometry=geometry, crs=crs)
+
+
+def _projected(crs: str) -> bool:
+    """Whether ``crs`` (already checked to be one) is projected rather than geographic."""
+    from pyproj import CRS
+
+    return not CRS(crs).is_geographic
 
 
 def _read_layer(path: Path, layer: str | None, kind: str) -> Any:
@@ -311,6 +324,34 @@ def _one_line(exc: BaseException) -> str:
 
 # --------------------------------------------------------------------------- shared by the subcommands
 
+
+
+# Every option naming a file the command writes, with the flag a message names it by.
+_DESTINATIONS = {"output": "-o/--output", "summary": "--summary", "sites_out": "--sites-out", "parts": "--parts",
+                 "demand_out": "--demand-out", "site_loads": "--site-loads", "assignment": "--assignment"}
+
+
+def _check_destinations(args: argparse.Namespace) -> None:
+    """Refuse, before any work and any output, a file the command could not write: one whose
+    format its extension does not tell, one in a folder that does not exist, or two outputs
+    in the same file (the same layer of a GeoPackage), of which the second would replace the
+    first."""
+    taken: dict[tuple[str, str | None], str] = {}
+    for attribute, flag in _DESTINATIONS.items():
+        text = getattr(args, attribute, None)
+        if text is None:
+            continue
+        path, layer = _split_layer(text)
+        kind = _kind(path, flag)
+        if not path.parent.exists():
+            raise UserError(f"{flag} {text}: the folder {path.parent} does not exist")
+        # Outputs of one GeoPackage go to layers of their own unless FILE.gpkg:LAYER names one.
+        key = (str(path.resolve()), layer if kind == "gpkg" and layer is not None else
+               (f"default {attribute}" if kind == "gpkg" else None))
+        if key in taken:
+            raise UserError(f"{flag} {text}: {taken[key]} writes there too, and the second would replace the first; "
+                            "give each output its own file" + (" or layer" if kind == "gpkg" else ""))
+        taken[key] = flag
 
 
 def _check_crs(args: argparse.Namespace) -> None:
