@@ -315,3 +315,36 @@ def test_a_longitude_latitude_network_travels_in_geodesic_metres(tmp_path, capsy
     along = geod.line_length([10.0, 10.01], [60.0, 60.0]) + geod.line_length([10.01, 10.01], [60.0, 60.01])
     across = costs[costs["origin"] != costs["destination"]]["cost_m"]
     assert len(across) == 2 and np.allclose(across, along, rtol=1e-12)
+
+
+def test_a_cost_column_carries_the_unit_named_by_cost_unit(files, capsys):
+    path, homes, depots, costs = files
+    streets = gpd.read_file(path / "streets.geojson")
+    streets.assign(minutes=streets.geometry.length / 100.0 * 1.5).to_file(path / "timed.geojson")
+    base = ["network-catchments", str(path / "homes.csv"), "--crs", CRS, "--network", str(path / "timed.geojson"),
+            "--sites", str(path / "depots.csv"), "--one-way", "oneway", "--cost", "minutes"]
+    code = main([*base, "--cost-unit", "min", "-o", str(path / "c.csv")])
+    captured = capsys.readouterr()
+    assert code == 0, captured.err
+    got = pd.read_csv(path / "c.csv")
+    # scipy dijkstra in metres, 1.5 minutes per 100 m block side.
+    best = costs[np.ix_(depots, homes)].min(axis=0) * 1.5 / STEP
+    reached = np.isfinite(best)
+    assert np.allclose(got["cost_min"].to_numpy()[reached], best[reached], rtol=1e-12)
+    assert re.search(rf"largest travel cost {best[reached].max():.6g} min$", captured.err.strip()), captured.err
+    # Without a name the summary says the costs are in unnamed cost units, not coordinate units.
+    code = main([*base, "-o", str(path / "c2.csv")])
+    captured = capsys.readouterr()
+    assert code == 0 and "cost units (name them with --cost-unit)" in captured.err, captured.err
+    code = main([*base[:-2], "--cost-unit", "min"])
+    captured = capsys.readouterr()
+    assert code == 2 and "--cost-unit names the unit of the --cost column" in captured.err, captured.err
+
+
+def test_planar_points_beside_a_network_with_a_crs_are_refused(files, capsys):
+    path, *_ = files
+    code = main(["network-catchments", str(path / "homes.csv"), "--planar", "--network", str(path / "streets.geojson"),
+                 "--sites", str(path / "depots.csv")])
+    captured = capsys.readouterr()
+    assert code == 2 and captured.out == "", captured
+    assert "has no CRS" in captured.err and "WGS 84 / UTM zone 30N" in captured.err, captured.err

@@ -143,10 +143,13 @@ def test_island_lines_across_the_antimeridian_have_their_geodesic_lengths_and_jo
     assert (g.nodes, g.components) == (len(places), components) == (9, 1)
     split_ferry = sum(GEOD.line_length(*np.asarray(ISLANDS[i], float).T) for i in (7, 8))
     assert g.costs([[179.8, -16.75]], [[-179.6, -17.0]])[0, 0] == pytest.approx(split_ferry, rel=1e-12)
-    # Joining within a tolerance works across the antimeridian too, whatever the turn the
-    # longitudes are given in (-180 written as 540, a hair short of it).
+    # Joining within a tolerance (metres) works across the antimeridian too, whatever the
+    # turn the longitudes are given in (-180 written as 540, a hair short of it: 1e-7 degree
+    # of longitude, 0.011 m by pyproj.Geod).
     moved = [x if i != 8 else [(540.0 - 1e-7, -16.7), (-179.6, -17.0)] for i, x in enumerate(ISLANDS)]
-    assert pw.TravelGraph.from_lines(moved, geodesic=True, tolerance=1e-6).nodes == len(places)
+    hair = GEOD.inv(180.0 - 1e-7, -16.7, 180.0, -16.7)[2]
+    assert pw.TravelGraph.from_lines(moved, geodesic=True, tolerance=2 * hair).nodes == len(places)
+    assert pw.TravelGraph.from_lines(moved, geodesic=True, tolerance=hair / 2).nodes == len(places) + 1
 
 
 @pytest.mark.parametrize("seed", range(2))

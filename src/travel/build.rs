@@ -22,8 +22,8 @@ pub struct LineOptions<'a> {
     pub reverse_cost: Option<&'a [f64]>,
     /// Direction codes: 0 both ways, 1 along the drawing direction only, -1 against it only.
     pub one_way: Option<&'a [i64]>,
-    /// Line ends closer than this (coordinate units, >= 0) are joined into one node; 0 joins
-    /// only ends with equal coordinates.
+    /// Line ends closer than this (coordinate units, >= 0; metres with `geodesic`) are joined
+    /// into one node; 0 joins only ends with equal coordinates.
     pub tolerance: f64,
     /// Split lines where they cross or where one ends on another (off by default: a bridge
     /// or tunnel crosses a street without meeting it). Each piece keeps its line's one-way
@@ -32,7 +32,7 @@ pub struct LineOptions<'a> {
     pub split_crossings: bool,
     /// Coordinates are longitude/latitude in degrees: default costs (and snapping gaps and
     /// positions) are WGS84 geodesic lengths in metres (Karney 2013, through the geodesic
-    /// family), and `tolerance` is in degrees. Segments run the shorter way round in
+    /// family), and so is `tolerance`. Segments run the shorter way round in
     /// longitude (across the antimeridian where that is shorter) and ends at one place join
     /// whatever turn their longitudes are given in; a segment that strays from its geodesic
     /// by more than 1% of its length (over or near a pole) is refused (see `lonlat`).
@@ -149,25 +149,43 @@ impl TravelGraph {
                 tail.push(node_of(coords[offsets[row]]));
                 head.push(node_of(coords[offsets[row + 1] - 1]));
             }
+        } else if geodesic {
+            // `tolerance` is metres on the ellipsoid, as every other length of a lon/lat graph.
+            // The R*-tree holds degrees: it lists the nodes within a radius of degrees that
+            // holds every place within `tolerance` metres ([`degrees_within`]), and the
+            // geodesic distance (Karney 2013) picks the nearest of them.
+            let mut tree: RTree<GeomWithData<Point, u32>> = RTree::new();
+            let metres = |a: Point, b: Point| crate::geodesic::geodesic_length(&[a, b]).unwrap_or(f64::INFINITY);
+            let mut node_of = |p: Point| {
+                let p = place(p);
+                // An end within `tolerance` of a pole joins at the pole, whatever its
+                // longitude: there longitudes far apart are one place.
+                let pole = [0.0, 90f64.copysign(p[1])];
+                let p = if metres(p, pole) <= tolerance { place(pole) } else { p };
+                let reach = degrees_within(p[1], tolerance);
+                // Across the antimeridian, a node a turn of longitude away in the coordinates.
+                let near = [0.0, 360.0, -360.0]
+                    .iter()
+                    .flat_map(|&turn| tree.locate_within_distance([p[0] + turn, p[1]], reach * reach))
+                    .map(|near| (metres(p, *near.geom()), near.data))
+                    .min_by(|x, y| x.0.total_cmp(&y.0).then(x.1.cmp(&y.1)));
+                match near {
+                    Some((d, node)) if d <= tolerance => node,
+                    _ => {
+                        tree.insert(GeomWithData::new(p, nodes));
+                        nodes += 1;
+                        nodes - 1
+                    }
+                }
+            };
+            for row in 0..m {
+                tail.push(node_of(coords[offsets[row]]));
+                head.push(node_of(coords[offsets[row + 1] - 1]));
+            }
         } else {
             let mut tree: RTree<GeomWithData<Point, u32>> = RTree::new();
             let mut node_of = |p: Point| {
-                // An end within `tolerance` degrees of latitude of a pole joins at the pole,
-                // whatever its longitude: there longitudes far apart are one place.
-                let p = if geodesic && 90.0 - p[1].abs() <= tolerance {
-                    place([0.0, 90f64.copysign(p[1])])
-                } else {
-                    place(p)
-                };
-                // Across the antimeridian, a node a turn of longitude away in the coordinates.
-                let turns: &[f64] = if geodesic { &[0.0, 360.0, -360.0] } else { &[0.0] };
-                let near = turns
-                    .iter()
-                    .filter_map(|&turn| {
-                        let q = [p[0] + turn, p[1]];
-                        tree.nearest_neighbor(q).map(|near| (distance(*near.geom(), q), near.data))
-                    })
-                    .min_by(|x, y| x.0.total_cmp(&y.0).then(x.1.cmp(&y.1)));
+                let near = tree.nearest_neighbor(p).map(|near| (distance(*near.geom(), p), near.data));
                 match near {
                     Some((d, node)) if d <= tolerance => node,
                     _ => {
@@ -363,6 +381,25 @@ impl TravelGraph {
 /// [`Error::InvalidEdge`] naming the line (its index) with fewer than two points or a
 /// non-finite coordinate, or (geodesic) a segment that strays from its geodesic over or near
 /// a pole or has (nearly) antipodal ends.
+/// A radius in the plane of longitude and latitude (degrees) that holds every place within
+/// `metres` of a place at latitude `lat` on WGS84.
+///
+/// A geodesic of length `metres` stays within `metres` of its start, so it never passes the
+/// latitude `φ = |lat| + Δlat`. Along it a degree of latitude is at least `a(1 − e²)·π/180`
+/// = 110,574.27 m (the meridian's radius of curvature is least at the equator), and a degree
+/// of longitude at least `a·cos φ·π/180` (the prime vertical's radius is at least `a`), so
+/// the latitude changes by at most `Δlat = metres / 110,574` degrees and the longitude by at
+/// most `metres / (a·cos φ·π/180)`; past a pole every longitude is within reach.
+pub(super) fn degrees_within(lat: f64, metres: f64) -> f64 {
+    const METRES_PER_DEGREE_OF_LATITUDE_AT_LEAST: f64 = 110_574.0;
+    let dlat = metres / METRES_PER_DEGREE_OF_LATITUDE_AT_LEAST;
+    let farthest = (lat.abs() + dlat).min(90.0);
+    let per_degree_of_longitude = crate::geodesic::WGS84_A * farthest.to_radians().cos() * std::f64::consts::PI / 180.0;
+    let dlon = if per_degree_of_longitude > 0.0 { (metres / per_degree_of_longitude).min(360.0) } else { 360.0 };
+    // A little more than the box's half-diagonal, so that rounding never drops a node.
+    (dlat.hypot(dlon) * (1.0 + 1e-9)).min(720.0)
+}
+
 fn line_lengths(coords: &[Point], offsets: &[usize], geodesic: bool) -> Result<Vec<f64>> {
     let m = offsets.len() - 1;
     let mut lengths = Vec::with_capacity(m);

@@ -417,17 +417,66 @@ fn lonlat_ends_at_180_and_minus_180_join_and_travel_across() {
     // A pole is one place whatever its longitude.
     let spokes: [&[[f64; 2]]; 2] = [&[[0.0, 89.9], [0.0, 90.0]], &[[180.0, 90.0], [180.0, 89.9]]];
     assert_eq!(lonlat_graph(&spokes, 0.0).expect("valid lines").node_count(), 3);
-    // Within the tolerance of a pole, ends join there whatever their longitudes: (45, 90)
-    // and (45, 89.9999999) are 1e-7 degree apart (before, the pole end was moved to
-    // longitude 0 first and the two were 45 degrees apart); so are (-135, 89.9999999) and
-    // (45, 89.9999999), across the pole. Four spokes, one shared end: 5 nodes.
+    // Within the tolerance (metres) of a pole, ends join there whatever their longitudes:
+    // (45, 90) and (45, 89.9999999) are 1e-7 degree of meridian apart, 0.011 m (before, the
+    // pole end was moved to longitude 0 first and the two were 45 degrees apart); so are
+    // (-135, 89.9999999) and (45, 89.9999999), across the pole. Four spokes, one shared end:
+    // 5 nodes.
     let near: [&[[f64; 2]]; 4] = [
         &[[45.0, 89.0], [45.0, 90.0]],
         &[[45.0, 89.9999999], [45.0, 89.5]],
         &[[-135.0, 89.9999999], [-135.0, 89.5]],
         &[[90.0, 89.2], [90.0, 90.0]],
     ];
-    assert_eq!(lonlat_graph(&near, 1e-6).expect("valid lines").node_count(), 5);
+    assert_eq!(lonlat_graph(&near, 0.05).expect("valid lines").node_count(), 5);
+    assert_eq!(lonlat_graph(&near, 0.005).expect("valid lines").node_count(), 7);
+}
+
+#[test]
+fn lonlat_tolerance_is_metres_on_the_ellipsoid() {
+    // Two streets whose ends are 1e-3 degree of longitude apart at 60° N: 55.8 m by the
+    // geodesic inverse (Karney 2013), against 1e-3 in degrees. They join at a tolerance just
+    // above the geodesic distance and stay apart just below it; before, a tolerance of 1
+    // (read as degrees) merged every end within 111 km into one node.
+    let a: &[[f64; 2]] = &[[10.0, 60.0], [10.01, 60.0]];
+    let b: &[[f64; 2]] = &[[10.011, 60.0], [10.02, 60.0]];
+    let gap = crate::geodesic::geodesic_distances(&[[10.01, 60.0]], &[[10.011, 60.0]]).expect("valid")[0];
+    assert!((gap - 55.8).abs() < 0.1, "{gap}");
+    let joined = lonlat_graph(&[a, b], gap * (1.0 + 1e-9)).expect("valid lines");
+    assert_eq!((joined.node_count(), joined.component_count()), (3, 1));
+    let apart = lonlat_graph(&[a, b], gap * (1.0 - 1e-9)).expect("valid lines");
+    assert_eq!((apart.node_count(), apart.component_count()), (4, 2));
+    // The 1 m tolerance a planner would type keeps these streets apart too.
+    assert_eq!(lonlat_graph(&[a, b], 1.0).expect("valid lines").node_count(), 4);
+}
+
+#[test]
+fn the_degree_radius_holds_every_place_within_the_metres() {
+    // Property: for seeded random places and distances, a place reached by the geodesic
+    // direct problem (GeographicLib through the geodesic family) at that distance in any
+    // direction lies within `degrees_within` of the start in the plane of lon/lat, taking
+    // the shorter way round in longitude. Latitudes up to the poles, distances 1 m to 500 km.
+    use geographiclib_rs::{DirectGeodesic, Geodesic};
+    let wgs84 = Geodesic::wgs84();
+    let mut state = 0x2545_f491_4f6c_dd1du64;
+    let mut uniform = || {
+        state ^= state << 13;
+        state ^= state >> 7;
+        state ^= state << 17;
+        (state >> 11) as f64 / (1u64 << 53) as f64
+    };
+    for _ in 0..20_000 {
+        let (lon, lat) = (360.0 * uniform() - 180.0, 180.0 * uniform() - 90.0);
+        let metres = 10f64.powf(5.7 * uniform());
+        let azimuth = 360.0 * uniform() - 180.0;
+        let (lat2, lon2): (f64, f64) = wgs84.direct(lat, lon, azimuth, metres);
+        let mut dlon = (lon2 - lon).rem_euclid(360.0);
+        if dlon > 180.0 {
+            dlon = 360.0 - dlon;
+        }
+        let radius = super::build::degrees_within(lat, metres);
+        assert!(dlon.hypot(lat2 - lat) <= radius, "{lon} {lat} {azimuth} {metres}: {dlon} {} > {radius}", lat2 - lat);
+    }
 }
 
 #[test]

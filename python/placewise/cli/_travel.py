@@ -29,6 +29,9 @@ def _network(args: argparse.Namespace) -> Any:
     """The travel graph of ``--network``, with the named cost and one-way columns."""
     from ..gis.travel import travel_graph
 
+    if args.cost_unit is not None and args.cost is None:
+        raise UserError("--cost-unit names the unit of the --cost column; without --cost the costs are the lines' "
+                        "lengths, in the network's length unit")
     lines = read_points(args.network, args, "the network", (), main=False)
     for option, column in (("--cost", args.cost), ("--one-way", args.one_way)):
         if column is not None and column not in lines.columns:
@@ -36,10 +39,15 @@ def _network(args: argparse.Namespace) -> Any:
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         graph = travel_graph(lines, cost=args.cost, one_way=args.one_way, tolerance=args.tolerance,
-                             split_crossings=args.split_crossings)
+                             unit=args.cost_unit, split_crossings=args.split_crossings)
     for w in caught:
         _note(args, f"note: {w.message}")
     return graph
+
+
+def _cost_unit(graph: Any) -> str:
+    """The travel costs' unit as a summary line writes it."""
+    return "cost units (name them with --cost-unit)" if graph.unit == "u" else graph.unit
 
 
 def _cmd_network_catchments(args: argparse.Namespace) -> None:
@@ -52,7 +60,7 @@ def _cmd_network_catchments(args: argparse.Namespace) -> None:
     write_frame(out, args.output, args, "catchments")
     reached = int(out["reachable"].sum())
     _note(args, f"{reached} of {len(out)} row(s) reach one of {len(sites)} site(s) along the network; "
-                f"largest travel cost {out[f'cost_{graph.unit}'].max():.6g} {graph.unit}")
+                f"largest travel cost {out[f'cost_{graph.unit}'].max():.6g} {_cost_unit(graph)}")
 
 
 def _cmd_travel_costs(args: argparse.Namespace) -> None:
@@ -117,7 +125,7 @@ def _cmd_network_siting(args: argparse.Namespace) -> None:
         assigned = annotated(demand, {"site": site, f"cost_{graph.unit}": np.asarray(plan.cost)}, "the demand")
         write_frame(assigned, args.assignment, args, "assignment")
     _note(args, f"{len(out)} site(s) of {len(c)} candidate(s); total weighted travel cost "
-                f"{float(plan.total_cost):.6g} (weight x {graph.unit})")
+                f"{float(plan.total_cost):.6g} (weight x {_cost_unit(graph)})")
 
 
 def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> None:
@@ -129,10 +137,13 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
                               "(lengths in metres on the WGS84 ellipsoid)")
     network.add_argument("--cost", metavar="COLUMN", help="column of each line's travel cost, shared among the parts "
                          "of a MultiLineString by length [its length]")
+    network.add_argument("--cost-unit", metavar="NAME", help="unit of the --cost column (e.g. min), named in the "
+                         "cost columns (cost_min) and summaries [u]")
     network.add_argument("--one-way", metavar="COLUMN", help="column of direction codes: 0 both ways, 1 along the "
                          "line's drawing direction only, -1 against it only [both ways]")
     network.add_argument("--tolerance", type=float, default=0.0, metavar="DISTANCE",
-                         help="line ends closer than this join into one node [0: equal ends only]")
+                         help="line ends closer than this join into one node, in the network's length unit "
+                              "(metres for longitude/latitude lines) [0: equal ends only]")
     network.add_argument("--split-crossings", action="store_true",
                          help="join lines where they cross (not for networks with bridges or tunnels drawn as "
                               "crossing lines)")

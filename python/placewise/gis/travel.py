@@ -2,7 +2,9 @@
 costs, network catchments and reach with the user's row labels and CRS.
 
 Lines in a geographic CRS (lon/lat) have WGS84 geodesic edge lengths and attachment gaps in
-metres; point frames in another CRS are transformed to the lines' CRS. Errors name the user's row labels.
+metres; point frames in another CRS are transformed to the lines' CRS, and a point frame
+without a CRS beside lines with one (or the reverse) is refused. Errors name the user's row
+labels.
 Results are planning aids under the stated model (travel along the given network at the
 given costs); check them against local regulations and licensed professional judgement.
 
@@ -27,7 +29,8 @@ __all__ = ["network_catchments", "network_reach", "travel_costs", "travel_graph"
 def travel_graph(lines: Any, *, cost: Any = None, reverse_cost: Any = None, one_way: Any = None,
                  tolerance: float = 0.0, unit: str | None = None, split_crossings: bool = False) -> TravelGraph:
     """A :class:`placewise.TravelGraph` from a GeoDataFrame of LineStrings and
-    MultiLineStrings (projected, or lon/lat with geodesic lengths in metres);
+    MultiLineStrings (projected, or lon/lat with geodesic lengths in metres; ``tolerance``
+    is in the same length unit, so metres for lon/lat);
     ``cost``, ``reverse_cost`` and ``one_way`` may name columns (see
     :meth:`placewise.TravelGraph.from_lines`). Each part of a MultiLineString is a line of
     its own, with the row's one-way value and its share of the row's costs by length; empty
@@ -54,13 +57,29 @@ def travel_graph(lines: Any, *, cost: Any = None, reverse_cost: Any = None, one_
 
 
 def _points(graph: TravelGraph, frame: Any, argument: str) -> tuple[np.ndarray, np.ndarray]:
-    """A point frame's coordinates in the graph's CRS and its row labels."""
+    """A point frame's coordinates in the graph's CRS and its row labels; a frame without a
+    CRS beside a network with one (or the reverse) is refused."""
+    from pyproj import CRS
+
     if not hasattr(frame, "geometry"):
         error = InputError(f"{argument} must be a GeoDataFrame or GeoSeries of points")
         error.argument = argument
         raise error
     geometry = frame.geometry if hasattr(frame, "columns") else frame
-    if graph.crs is not None and geometry.crs is not None and geometry.crs != graph.crs:
+    if (graph.crs is None) != (geometry.crs is None):
+        # One side without a CRS: its coordinates cannot be placed against the other's (a
+        # lon/lat frame read as metres is 6,000 km off), as the other GeoDataFrame functions
+        # refuse (either every frame has a CRS or none has).
+        if geometry.crs is None:
+            text = (f"{argument}: the network's lines are in {CRS(graph.crs).name} and {argument} has no CRS; "
+                    f"give it its CRS (GeoDataFrame.set_crs) so it can be transformed to the lines'")
+        else:
+            text = (f"{argument}: {argument} is in {CRS(geometry.crs).name} and the network's lines have no CRS; "
+                    "build the network from lines with their CRS, or drop both CRSs for planar coordinates")
+        error = InputError(text)
+        error.argument = argument
+        raise error
+    if graph.crs is not None and geometry.crs != graph.crs:
         geometry = geometry.to_crs(graph.crs)
     kinds = geometry.geom_type.to_numpy()
     bad = np.flatnonzero(kinds != "Point")

@@ -137,9 +137,10 @@ class TravelGraph:
             As :meth:`from_edges`, relative to the drawing direction of each line (of each
             part of a MultiLineString).
         tolerance : float
-            Joining distance for line ends (coordinate units), >= 0. With 0 (only equal
-            ends join) and lines in more than one component, a warning counts the
-            components and the dangling ends.
+            Joining distance for line ends, >= 0: in coordinate units, and in metres on the
+            ellipsoid for lon/lat lines (``geodesic``), as every other length of such a
+            graph. With 0 (only equal ends join) and lines in more than one component, a
+            warning counts the components and the dangling ends.
         unit : str, optional
             Name of the cost unit. Default: the CRS's length unit with length costs, else
             ``"u"``.
@@ -157,7 +158,7 @@ class TravelGraph:
         geodesic : bool
             Coordinates are longitude/latitude (degrees, WGS84): default costs, attachment
             gaps and positions are geodesic lengths in metres on the WGS84 ellipsoid (Karney
-            2013); ``tolerance`` is in degrees. Set by itself for a GeoDataFrame in a
+            2013), and so is ``tolerance``. Set by itself for a GeoDataFrame in a
             geographic CRS (one whose angles are not degrees, such as grads, is first
             transformed to EPSG:4326, which becomes the graph's ``crs``). Each segment runs
             straight in longitude/latitude the shorter way round (a ferry from 179.9 to
@@ -234,10 +235,11 @@ class TravelGraph:
         cost_unit = unit if unit is not None else (length_unit if cost is None else "u")
         graph = cls(core, unit=cost_unit, length_unit=length_unit, crs=crs, row_labels=labels)
         if tolerance == 0 and graph.components > 1:
+            in_unit = "coordinate units" if length_unit == "u" else length_unit
             warnings.warn(
                 f"the lines form {graph.components} separate components and {graph.dangling_ends} line ends "
                 f"meet no other line end; with tolerance=0 only ends with equal coordinates join (pass "
-                f"tolerance= to join ends closer than a distance)",
+                f"tolerance= to join ends closer than a distance, in {in_unit})",
                 UserWarning, stacklevel=2)
         return graph
 
