@@ -20,19 +20,32 @@ GeoDataFrames in the input's CRS. Coordinates are handled as follows:
   is measured (PROJ's scale factors) and stated in the ``scale_error`` and ``work_crs``
   columns; beyond ``max_scale_error`` (default 0.1 %) the call is refused with an
   ``InputError`` saying how to proceed (split with ``by=``, or choose ``work_crs=``), never
-  answered with silently distorted metres. Geographic regions are densified along their
-  edges before projection. Ungrouped data too wide for any frame (global, polar, wide
-  across the antimeridian) is answered on the sphere by :func:`voronoi_cells`,
-  :func:`delaunay` and :func:`spanning_tree` (:mod:`placewise.geodesic`), with ``work_crs``
-  stating that model;
+  answered with silently distorted metres. Ungrouped data too wide for any frame (global,
+  polar, wide across the antimeridian) is answered on the sphere by :func:`voronoi_cells`,
+  :func:`delaunay` and :func:`spanning_tree` (:mod:`placewise.geodesic`), with
+  ``work_crs`` stating that model;
 * **candidates, existing sites and regions** come as frames of their own, in any CRS, and
   are brought into the points' working CRS; for geographic input that frame is chosen over
   all of them together, so its ``scale_error`` covers every location the model uses. A
-  coverage ``radius`` is in **metres** for geographic input and in the CRS's unit otherwise.
+  region in another CRS than the working one, geographic or projected, is densified along
+  its edges in its own CRS before it is projected: a straight edge in one CRS is a curve in
+  another (a 200 km edge in Web Mercator sags some 350 m in UTM when only its ends are
+  projected), and the pieces, at most a thousandth of the region's extent and about 1 km
+  long, keep the projected region within about 2 cm of its true edges. A coverage
+  ``radius`` is in **metres** for geographic input and in the CRS's unit otherwise.
   :func:`weber_point` and :func:`minimax_point` with a ``region`` solve in a projected
   working frame (the ellipsoid forms take no region);
 * **no CRS** raises ``InputError`` unless ``planar=True`` says the coordinates are already
   planar (columns then end in ``_u``: the coordinates' own unit).
+
+**Rows.** Every frame's row labels (its index) must be unique: the results name rows by
+them (a plan's ``source_row``, the ``site`` a demand row goes to, a tree's ends, the rows an
+error names), so a repeated label, which would name two rows at once, is refused with an
+``InputError`` naming the argument and the label (``reset_index()`` numbers the rows
+afresh). Per-row values (``weight``, ``capacity``) are a column's name; a pandas Series,
+matched to the rows by index label as pandas assignment matches it (labels the frame lacks
+are left out; a row label the Series lacks, or a label it repeats, is refused, naming the
+labels); or an array or list of one value per row, taken by position.
 
 Grouped runs (``by=``) call the kernel's grouped form once and return rows sorted by the
 group value, with a ``problem`` column (``None``, or why a group was skipped with

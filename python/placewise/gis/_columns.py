@@ -1,6 +1,6 @@
-"""Reading the caller's frame for the kernels: the frame itself, its points (or centroids),
-a numeric column of it, and its ``by`` column coded as integer group labels, each error
-naming the frame's own row labels.
+"""Reading the caller's frame for the kernels: the frame itself (its row labels unique), its
+points (or centroids), a numeric column of it, and its ``by`` column coded as integer group
+labels, each error naming the frame's own row labels.
 """
 
 from __future__ import annotations
@@ -18,15 +18,61 @@ except ImportError:  # pragma: no cover - exercised only without the extra
     raise ImportError("placewise.gis needs geopandas and pyproj: pip install 'placewise[geo]'") from None
 
 from .._core import InputError
-from .._errors import plain
+from .._errors import plain, refuse
 
 
 def as_frame(obj: Any, name: str) -> Any:
+    """The caller's frame (a GeoSeries as a GeoDataFrame of its geometry), its row labels
+    checked to be unique (:func:`unique_labels`).
+
+    Every frame argument of :mod:`placewise.gis` (demand, sites, candidates, existing sites,
+    travel origins and destinations) comes through here, so the check is made once for all.
+    """
     if isinstance(obj, gpd.GeoDataFrame):
-        return obj
-    if isinstance(obj, gpd.GeoSeries):
-        return gpd.GeoDataFrame(geometry=obj)
-    raise InputError(f"{name} must be a GeoDataFrame or GeoSeries; got {type(obj).__name__}")
+        frame = obj
+    elif isinstance(obj, gpd.GeoSeries):
+        frame = gpd.GeoDataFrame(geometry=obj)
+    else:
+        refuse(name, f"{name} must be a GeoDataFrame or GeoSeries; got {type(obj).__name__}")
+    unique_labels(frame.index, name, isinstance(obj, gpd.GeoSeries))
+    return frame
+
+
+def _label(value: Any) -> Any:
+    """A row label as the user wrote it (numpy scalars as Python ones, in a tuple of a
+    MultiIndex too)."""
+    return tuple(plain(v) for v in value) if isinstance(value, tuple) else plain(value)
+
+
+def _listed(labels: Any, limit: int = 5) -> str:
+    """Up to ``limit`` labels as the user wrote them, and how many more there are."""
+    shown = ", ".join(repr(_label(v)) for v in labels[:limit])
+    return shown + (f" and {len(labels) - limit} more" if len(labels) > limit else "")
+
+
+def unique_labels(index: Any, name: str, series: bool = False) -> None:
+    """Refuse a frame (``series``: a GeoSeries) whose index repeats a label.
+
+    Why: the results name rows by their labels (a plan's ``source_row``, a demand row's
+    ``site``, a tree's ends, the rows an error names), and a repeated label would name two
+    rows at once, so which parcel was chosen could not be told. The message names the
+    argument and the first repeated label, and says how to number the rows afresh.
+    """
+    if index.is_unique:
+        return
+    codes = pd.factorize(index, use_na_sentinel=False)[0]
+    repeated = index.duplicated(keep=False)
+    at = int(np.argmax(repeated))
+    first = _label(index[at])
+    times = int((codes == codes[at]).sum())
+    others = np.unique(codes[repeated]).size - 1
+    fix = ("reset_index(drop=True)" if series else
+           "reset_index() (the old labels become a column), or set a column of unique names as the index")
+    more = f" (and {others} more labels repeat)" if others else ""
+    error = InputError(f"{name}: row label {first!r} is used by {times} rows{more}; results name rows by their index "
+                       f"label, so each must be unique: pass {name}.{fix}")
+    error.argument, error.row = name, first
+    raise error
 
 
 def _points_of(frame: Any, name: str, centroids: bool) -> np.ndarray:
@@ -51,12 +97,17 @@ def _points_of(frame: Any, name: str, centroids: bool) -> np.ndarray:
 
 
 def column(frame: Any, spec: Any, name: str, what: str) -> np.ndarray:
-    """A numeric column named ``spec`` (or an array of the frame's length), as float64."""
+    """A numeric column of ``frame`` (called ``name`` in errors) as float64: the column named
+    ``spec``; a pandas Series matched to the rows by its index labels (:func:`_aligned`); or
+    values by position (an array or list of the frame's length)."""
     if isinstance(spec, str):
         if spec not in frame.columns:
             raise InputError(f"{name} has no {what} column {spec!r}; columns: {list(frame.columns)}")
         values = frame[spec]
         label = f"{what} column {spec!r}"
+    elif isinstance(spec, pd.Series):
+        values = _aligned(frame, spec, name, what)
+        label = what
     else:
         values = np.asarray(spec)
         label = what
@@ -90,6 +141,34 @@ def column(frame: Any, spec: Any, name: str, what: str) -> np.ndarray:
         row = plain(frame.index[int(np.argmax(bad))])
         raise InputError(f"{name}: {label} has a missing or non-finite value at row {row!r}")
     return out
+
+
+def _aligned(frame: Any, spec: Any, name: str, what: str) -> Any:
+    """The Series ``spec`` in the order of the frame's rows, matched by index label.
+
+    Why by label: pandas matches a Series to a frame by its index (``frame.assign(w=spec)``),
+    so a Series in another order, or of a frame filtered or sorted since, means its values
+    for those labels; taken by position it would weigh the wrong rows without a word. Labels
+    of ``spec`` that the frame lacks are left out, as pandas assignment leaves them; a row
+    label ``spec`` lacks (pandas would give it NaN), or a label ``spec`` repeats (one row,
+    two values), is refused, naming the labels.
+    """
+    labels = spec.index
+    if not labels.is_unique:
+        repeated = labels[labels.duplicated(keep=False)]
+        error = InputError(f"{name}: the {what} Series repeats the label {_label(repeated[0])!r}, so that row would "
+                           "have two values; a Series is matched to the rows by its index labels")
+        error.row = _label(repeated[0])
+        raise error
+    missing = frame.index[~frame.index.isin(labels)]
+    if len(missing):
+        error = InputError(
+            f"{name}: the {what} Series has no value for row label{'s' if len(missing) > 1 else ''} "
+            f"{_listed(missing)}; a Series is matched to the rows by its index labels (as pandas assignment "
+            "does): give it one value per row label, or pass its .to_numpy() to use its values by position")
+        error.row = _label(missing[0])
+        raise error
+    return spec.reindex(frame.index)
 
 
 @dataclasses.dataclass

@@ -91,10 +91,13 @@ def capacity_allocation(
     Parameters
     ----------
     demand, sites : GeoDataFrame or GeoSeries of points
-    capacity : str or array_like
-        The sites' capacity column (or one value per site), in the demand's weight units.
-    weight : str or array_like, optional
-        Demand column of ``demand`` (or values); default 1 per row.
+    capacity : str, Series or array_like
+        The sites' capacity column, in the demand's weight units: its name, a Series
+        matched to the sites by index label, or one value per site by position.
+    weight : str, Series or array_like, optional
+        Demand column of ``demand``: its name, a Series matched to the rows by index label
+        (a row label it lacks, or a label it repeats, is an ``InputError`` naming it), or
+        one value per row by position; default 1 per row.
     split : bool
         Allow a row's demand to be shared between sites (the exact transportation plan); with
         False every row is served whole by one site and the gap to the split plan is reported.
@@ -172,10 +175,11 @@ def capacity_cells(
     Parameters
     ----------
     demand, sites : GeoDataFrame or GeoSeries of points
-    capacity : str or array_like
-        The sites' capacity column (or values), in weight units.
-    weight : str or array_like, optional
-        Demand weight column (or values); default 1 per row.
+    capacity : str, Series or array_like
+        The sites' capacity column (or values), in weight units, as ``capacity`` of
+        :func:`capacity_allocation`.
+    weight : str, Series or array_like, optional
+        Demand weight column (or values) as in :func:`capacity_allocation`; default 1 per row.
     region : GeoDataFrame, GeoSeries or shapely geometry, optional
         The study region the cells are clipped to, in any CRS (a bare shapely geometry is
         taken to be in the demand's CRS), as for :func:`voronoi_cells`; it must hold every

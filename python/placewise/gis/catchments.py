@@ -152,8 +152,10 @@ def voronoi_cells(
     demand : GeoDataFrame or GeoSeries of points, optional
         When given, each cell gets the ``load`` (summed weight) and ``points`` of the demand
         nearest to its site (within its group with ``by``).
-    weight : str or array_like, optional
-        Demand weight column (or values); default 1 per demand row.
+    weight : str, Series or array_like, optional
+        Demand weight column: its name, a Series matched to the demand rows by index label,
+        or one value per row by position (as in :func:`weber_point`); default 1 per demand
+        row.
     progress : bool or callable
         A progress bar on stderr (True) or a callable ``(done, total)`` for the cells (with
         ``by``: the sites of finished groups), on the sphere and in the plane alike. With

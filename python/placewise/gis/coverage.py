@@ -220,8 +220,10 @@ def cover_all(
         is solved in a projected working frame (its UTM zone; see :mod:`placewise.gis`),
         and the CRS's own unit otherwise (the coordinates' unit with ``planar=True``).
         Finite and above zero.
-    weight : str or array_like, optional
-        Demand weight column (or values), for the loads and the covered weight; default 1.
+    weight : str, Series or array_like, optional
+        Demand weight column, for the loads and the covered weight: its name, a Series
+        matched to the rows by index label, or one value per row by position (as in
+        :func:`placewise.gis.weber_point`); default 1.
     candidates : GeoDataFrame or GeoSeries of points, optional
         Where sites may go (e.g. parcels; ``centroids=True`` takes polygons' centroids), in
         any CRS. Default: anywhere.
@@ -316,8 +318,8 @@ def cover_most(
         :func:`placewise.cover_most`).
     radius : float
         Metres for geographic input, else the CRS's unit (see :func:`cover_all`).
-    weight : str or array_like, optional
-        Demand weight column (or values); default 1 per row.
+    weight : str, Series or array_like, optional
+        Demand weight column (or values, as in :func:`cover_all`); default 1 per row.
     candidates : GeoDataFrame or GeoSeries of points, optional
         Where new sites may go. Default: anywhere.
     fixed : GeoDataFrame or GeoSeries of points, optional
@@ -379,8 +381,8 @@ def evaluate_sites(
     frame : GeoDataFrame or GeoSeries of demand points
     sites_frame : GeoDataFrame or GeoSeries of points
         The sites as they are (any CRS).
-    weight : str or array_like, optional
-        Demand weight column (or values); default 1 per row.
+    weight : str, Series or array_like, optional
+        Demand weight column (or values, as in :func:`cover_all`); default 1 per row.
     radius : float, optional
         A coverage standard: metres for geographic input, else the CRS's unit (see
         :func:`cover_all`); adds the coverage columns.

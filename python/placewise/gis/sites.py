@@ -80,8 +80,11 @@ def weber_point(
     Parameters
     ----------
     frame : GeoDataFrame or GeoSeries of points
-    weight : str or array_like, optional
-        Column name (or values) of the non-negative demand per row. Default: all 1.
+    weight : str, Series or array_like, optional
+        The non-negative demand per row: a column's name; a pandas Series, matched to the
+        rows by index label as pandas assignment matches it (its labels the frame lacks are
+        left out; a row label it lacks, or a label it repeats, is an ``InputError`` naming
+        the labels); or an array or list of one value per row, by position. Default: all 1.
     by : str, optional
         Column whose values split the rows into groups; one result row per group, sorted
         by the group value.

@@ -57,15 +57,13 @@ def travel_graph(lines: Any, *, cost: Any = None, reverse_cost: Any = None, one_
 
 
 def _points(graph: TravelGraph, frame: Any, argument: str) -> tuple[np.ndarray, np.ndarray]:
-    """A point frame's coordinates in the graph's CRS and its row labels; a frame without a
-    CRS beside a network with one (or the reverse) is refused."""
+    """A point frame's coordinates in the graph's CRS and its row labels (unique: checked by
+    :func:`~placewise.gis._columns.as_frame`, as for every frame of :mod:`placewise.gis`); a
+    frame without a CRS beside a network with one (or the reverse) is refused."""
     from pyproj import CRS
 
-    if not hasattr(frame, "geometry"):
-        error = InputError(f"{argument} must be a GeoDataFrame or GeoSeries of points")
-        error.argument = argument
-        raise error
-    geometry = frame.geometry if hasattr(frame, "columns") else frame
+    frame = as_frame(frame, argument)
+    geometry = frame.geometry
     if (graph.crs is None) != (geometry.crs is None):
         # One side without a CRS: its coordinates cannot be placed against the other's (a
         # lon/lat frame read as metres is 6,000 km off), as the other GeoDataFrame functions
@@ -146,11 +144,12 @@ def travel_costs(graph: TravelGraph, origins: Any, destinations: Any, *, limit: 
     return pd.DataFrame({"origin": o_labels[rows], "destination": d_labels[cols], f"cost_{graph.unit}": values})
 
 
-def network_catchments(graph: TravelGraph, points: Any, sites: Any, *, weight: str | None = None,
+def network_catchments(graph: TravelGraph, points: Any, sites: Any, *, weight: Any = None,
                        limit: float | None = None, max_gap: float | None = None) -> Any:
     """Every point's cheapest site by travel cost, as the points frame with ``site`` (the
     sites frame's row label, None where unreachable), ``reachable``, ``cost_<unit>`` and
-    ``gap_<unit>`` columns; ``weight`` names a column of demand.
+    ``gap_<unit>`` columns; ``weight`` names a column of demand (or is a Series matched to
+    the points by index label, or values by position, as in :func:`placewise.gis.weber_point`).
 
     Examples
     --------
