@@ -24,6 +24,8 @@ from hostile import AWKWARD_POINTS, BAD_POINTS, BAD_WEIGHTS
 SITES = np.array([[0.0, 0.0], [3.0, 1.0], [-2.0, 2.0]])
 # A feasible region beside the catalogue's clouds: an L-shaped lot (non-convex).
 LOT = [[1.0, 1.0], [4.0, 1.0], [4.0, 2.0], [2.0, 2.0], [2.0, 4.0], [1.0, 4.0]]
+# A square holding most of the catalogue's clouds, for candidates filtered by a region.
+WIDE = [[-1e6, -1e6], [1e6, -1e6], [1e6, 1e6], [-1e6, 1e6]]
 
 # name -> how to call it with a points argument (and, where it takes them, weights)
 KERNELS: dict[str, Callable[..., Any]] = {
@@ -65,6 +67,9 @@ KERNELS: dict[str, Callable[..., Any]] = {
         p, SITES, np.full(3, np.sum(np.ones(len(p)) if w is None else w) / 3), w),
     "capacity_cells(sites)": lambda p, w=None: pw.capacity_cells(SITES, p, np.full(len(p), 10.0)),
     "p_median(candidates)": lambda p, w=None: pw.p_median(p, 2, w, candidates=p),
+    # Candidates filtered by a region are checked as those without one (they once were not).
+    "p_median(candidates, region)": lambda p, w=None: pw.p_median(SITES, 1, candidates=p, region=WIDE),
+    "p_center(candidates, region)": lambda p, w=None: pw.p_center(SITES, 1, candidates=p, region=WIDE),
     "cover_all": lambda p, w=None: pw.cover_all(p, 2.0, weights=w, candidates=p),
     "cover_all(candidates)": lambda p, w=None: pw.cover_all(SITES, 50.0, candidates=p),
     "cover_most": lambda p, w=None: pw.cover_most(p, 2, 2.0, w, candidates=p),

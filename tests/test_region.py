@@ -249,10 +249,15 @@ def test_plots_draw_the_region():
 
 def test_candidates_outside_the_region_are_dropped():
     cands = np.array([[0, 0], [5, 4], [12.5, 5], [5, 10]], dtype=float)
-    kept, rows = candidates_in_region(cands, HOLED)
+    kept, rows, fixed = candidates_in_region(cands, HOLED)
     # shapely covers, candidate by candidate.
     assert rows.tolist() == [i for i, c in enumerate(cands) if HOLED.covers(Point(c))]
-    assert kept.tolist() == cands[rows].tolist()
+    assert kept.tolist() == cands[rows].tolist() and fixed is None
+    # An existing site among them stays wherever it lies (shapely: the last one is outside).
+    assert not HOLED.covers(Point(cands[3]))
+    kept, rows, fixed = candidates_in_region(cands, HOLED, [3])
+    assert rows.tolist() == [i for i, c in enumerate(cands) if HOLED.covers(Point(c))] + [3]
+    assert rows[fixed].tolist() == [3]
     with pytest.raises(pw.InputError, match="region holds none") as e:
         candidates_in_region([[100, 100]], HOLED)
     assert e.value.argument == "region"

@@ -60,21 +60,33 @@ def draw_region(ax: Any, region: tuple[np.ndarray, np.ndarray] | None) -> None:
                 label="feasible region" if r == 0 else "_nolegend_")
 
 
-def candidates_in_region(candidates: Any, region: Any) -> tuple[np.ndarray, np.ndarray]:
-    """The candidate sites the region holds (boundary included, exact test) and their rows.
+def candidates_in_region(candidates: Any, region: Any,
+                         fixed: Any = None) -> tuple[np.ndarray, np.ndarray, np.ndarray | None]:
+    """The candidate sites the region holds (boundary included, exact test), their rows, and
+    the positions among them of the existing sites ``fixed`` (candidate rows), which stay
+    wherever they lie (None without ``fixed``).
 
-    Raises an ``InputError`` naming ``region`` when it holds none of them.
+    ``candidates`` and ``fixed`` are checked as the models check them: shape ``(m, 2)``, at
+    least one candidate, finite coordinates; ``fixed`` a one-dimensional sequence of distinct
+    candidate rows. An ``InputError`` names the argument (and the row).
+
+    Raises an ``InputError`` naming ``region`` when it holds none of the candidates.
     """
     from . import _core
+    from ._results import as_points
 
     vertices, offsets = region_rings(region)
     if vertices is None or offsets is None:
         raise InputError("region must be given to filter candidates")
-    points = np.ascontiguousarray(candidates, dtype=np.float64).reshape(-1, 2)
-    inside = _core.region_covers(points, vertices, offsets)
-    rows = np.flatnonzero(inside)
-    if len(rows) == 0:
-        error = InputError(f"region holds none of the {len(points)} candidates; every site must lie in the region")
+    inside = _core.region_covers(candidates, vertices, offsets)
+    points = as_points(candidates)
+    kept = None if fixed is None else _core.discrete_columns(fixed, "fixed", len(points))
+    if not inside.any():
+        error = InputError(f"region holds none of the {len(points)} candidates; every new site must lie in the "
+                           "region")
         error.argument = "region"
         raise error
-    return points[rows], rows
+    if kept is not None:
+        inside[kept] = True
+    rows = np.flatnonzero(inside)
+    return points[rows], rows, None if kept is None else np.searchsorted(rows, kept)

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from typing import Any
 
-__all__ = ["check_on_earth", "length_unit_of", "unit_of"]
+__all__ = ["check_on_earth", "check_unit", "length_unit_of", "unit_of"]
 
 # By the axis unit's name as PROJ gives it, lower-cased.
 _UNIT_NAMES = {
@@ -37,6 +37,31 @@ def unit_of(crs: Any) -> str:
     axes = crs.axis_info
     name = (axes[0].unit_name if axes else "").strip().lower()
     return _UNIT_NAMES.get(name, "".join(ch for ch in name if ch.isalnum()) or "u")
+
+
+def check_unit(unit: Any, argument: str = "unit") -> str:
+    """``unit`` when it can name a column's unit (``cost_<unit>``): a non-empty string of
+    letters, digits and underscores, as :func:`unit_of` makes them; else an ``InputError``
+    naming ``argument``.
+
+    Examples
+    --------
+    >>> from placewise._units import check_unit
+    >>> check_unit("min")
+    'min'
+    >>> check_unit("")
+    Traceback (most recent call last):
+        ...
+    placewise.InputError: unit must be a non-empty name of letters, digits and underscores ...; got ''
+    """
+    if isinstance(unit, str) and unit and all(ch.isalnum() or ch == "_" for ch in unit):
+        return unit
+    from ._core import InputError
+
+    error = InputError(f"{argument} must be a non-empty name of letters, digits and underscores (it ends column "
+                       f"names such as cost_min); got {unit!r}")
+    error.argument = argument
+    raise error
 
 
 def length_unit_of(crs: Any) -> str:

@@ -66,7 +66,10 @@ pub fn euclidean_costs(points: &[Point], candidates: &[Point]) -> Result<Vec<f64
 }
 
 /// Check that `sites` are distinct candidate columns below `columns`.
-fn check_sites(argument: &'static str, sites: &[usize], columns: usize) -> Result<()> {
+///
+/// # Errors
+/// [`Error::InvalidParameter`] naming `argument` and the entry out of range or repeated.
+pub fn check_sites(argument: &'static str, sites: &[usize], columns: usize) -> Result<()> {
     let mut seen = vec![false; columns];
     for (k, &j) in sites.iter().enumerate() {
         if j >= columns {

@@ -15,8 +15,9 @@ use super::run_detached;
 use super::runtime::{progress_arg, run_watched, Progress};
 use crate::cancel::RunLimits;
 use crate::discrete::{
-    circle_intersections, cover_all, cover_most, discrete_p_center, discrete_p_median, euclidean_costs, evaluate_sites,
-    with_planar_costs, CostMatrix, Costs, DiscreteMedianOptions, SiteService, SparseCosts, MAX_DOMINATING_CANDIDATES,
+    check_sites, circle_intersections, cover_all, cover_most, discrete_p_center, discrete_p_median, euclidean_costs,
+    evaluate_sites, with_planar_costs, CostMatrix, Costs, DiscreteMedianOptions, SiteService, SparseCosts,
+    MAX_DOMINATING_CANDIDATES,
 };
 use crate::geometry::{validate_points, Weights};
 
@@ -25,22 +26,51 @@ fn costs_arg<'py>(obj: &Bound<'py, PyAny>) -> PyResult<PyReadonlyArray2<'py, f64
     matrix_arg(obj, "costs")
 }
 
-/// Candidate columns (`sites`, `fixed`) as non-negative integers; range and repeats are
-/// checked by the kernel.
+/// Candidate columns (`sites`, `fixed`): a one-dimensional sequence of non-negative
+/// integers (an empty one of any shape is none); range and repeats are checked by the
+/// kernel. A two-column array is refused with a word on coordinates: beside candidate
+/// coordinates, `fixed` holds their indices, while the continuous models take `fixed` as
+/// `(f, 2)` coordinates.
 fn columns_arg(obj: Option<&Bound<'_, PyAny>>, argument: &str) -> PyResult<Vec<usize>> {
     let Some(obj) = obj.filter(|o| !o.is_none()) else { return Ok(Vec::new()) };
     let numpy = obj.py().import("numpy")?;
-    let array = numpy.call_method1("asarray", (obj,))?;
-    let kind: String = array.getattr("dtype")?.getattr("kind")?.extract()?;
+    let array = numpy.call_method1("asarray", (obj,)).map_err(|e| {
+        argument_error(argument, format!("{argument} must be a sequence of candidate indices (integers): {e}"))
+    })?;
     let size: usize = array.getattr("size")?.extract()?;
-    if size > 0 && !matches!(kind.as_str(), "i" | "u") {
-        let dtype = array.getattr("dtype")?.str()?.to_string();
+    if size == 0 {
+        return Ok(Vec::new());
+    }
+    let shape: Vec<usize> = array.getattr("shape")?.extract()?;
+    if shape.len() != 1 {
+        let shown = match shape.as_slice() {
+            [] => "a single value (write it as a list of one)".to_string(),
+            dims => format!("shape ({})", dims.iter().map(|d| d.to_string()).collect::<Vec<_>>().join(", ")),
+        };
+        let coordinates = if matches!(shape.as_slice(), [_, 2]) {
+            format!(
+                "; {argument} holds the indices of candidate sites (rows of candidates, columns of costs), not \
+                 coordinates: an existing site is one of the candidates"
+            )
+        } else {
+            String::new()
+        };
         return Err(argument_error(
             argument,
-            format!("{argument} must hold candidate columns (integers); got dtype {dtype}"),
+            format!("{argument} must be a one-dimensional sequence of candidate indices; got {shown}{coordinates}"),
         ));
     }
-    let flat = array.call_method1("astype", ("int64",))?.call_method1("reshape", (-1,))?;
+    let kind: String = array.getattr("dtype")?.getattr("kind")?.extract()?;
+    if !matches!(kind.as_str(), "i" | "u") {
+        let dtype = array.getattr("dtype")?.str()?.to_string();
+        // The entry as the caller wrote it (a Python value, not a numpy scalar's repr).
+        let first = array.call_method0("tolist")?.get_item(0)?.repr()?.to_string();
+        return Err(argument_error(
+            argument,
+            format!("{argument} must hold candidate indices (integers); got dtype {dtype} ({argument}[0] = {first})"),
+        ));
+    }
+    let flat = array.call_method1("astype", ("int64",))?;
     let values: PyReadonlyArray1<'_, i64> = flat.cast_into::<PyArray1<i64>>()?.readonly();
     values
         .as_array()
@@ -203,6 +233,27 @@ fn discrete_circle_candidates<'py>(
     PyArray1::from_vec(py, out.into_iter().flatten().collect()).reshape([k, 2])
 }
 
+/// Candidate columns `values` (`fixed` or `sites`) checked as the models check them: a
+/// one-dimensional sequence of distinct integers below `columns`, as int64. For callers
+/// that renumber the candidates before a model runs (a region's filter).
+#[pyfunction]
+#[pyo3(signature = (values, argument, columns))]
+fn discrete_columns<'py>(
+    py: Python<'py>,
+    values: Option<&Bound<'py, PyAny>>,
+    argument: &str,
+    columns: usize,
+) -> PyResult<Bound<'py, PyArray1<i64>>> {
+    let argument: &'static str = match argument {
+        "fixed" => "fixed",
+        "sites" => "sites",
+        other => return Err(argument_error("argument", format!("unknown candidate argument {other:?}"))),
+    };
+    let chosen = columns_arg(values, argument)?;
+    check_sites(argument, &chosen, columns)?;
+    Ok(PyArray1::from_vec(py, index_values(chosen)))
+}
+
 /// Fields: the service (open, fixed, assignment, cost, load, count, totals, coverage).
 #[pyfunction]
 #[pyo3(signature = (costs, weights, sites, radius))]
@@ -339,6 +390,7 @@ fn discrete_cover_most<'py>(
 pub(super) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(discrete_euclidean_costs, m)?)?;
     m.add_function(wrap_pyfunction!(discrete_evaluate, m)?)?;
+    m.add_function(wrap_pyfunction!(discrete_columns, m)?)?;
     m.add_function(wrap_pyfunction!(discrete_circle_candidates, m)?)?;
     m.add_function(wrap_pyfunction!(discrete_p_median_single, m)?)?;
     m.add_function(wrap_pyfunction!(discrete_p_center_single, m)?)?;

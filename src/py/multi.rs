@@ -15,7 +15,7 @@ use super::runtime::{progress_arg, run_watched, Progress};
 use super::{labels_arg, points_arg, run_detached, weights_arg};
 use crate::batch::{Grouped, RowPlaces};
 use crate::cancel::Watch;
-use crate::geometry::{Point, Weights};
+use crate::geometry::{validate_points, Point, Weights};
 use crate::multi::{p_center, p_centers, p_median, p_medians, CenterOptions, Effort, MedianOptions, Service};
 use rayon::prelude::*;
 
@@ -324,7 +324,8 @@ fn p_center_grouped<'py>(
 }
 
 /// Whether the feasible region holds each point (boundary included; exact test), as a bool
-/// array: the filter of candidate sites by a region.
+/// array: the filter of candidate sites by a region. The points are checked as candidates
+/// first (shape `(m, 2)`, at least one, finite coordinates), as the models check them.
 #[pyfunction]
 #[pyo3(signature = (points, region_vertices, ring_offsets))]
 fn region_covers<'py>(
@@ -337,7 +338,10 @@ fn region_covers<'py>(
         .ok_or_else(|| argument_error("region", "region must be given".into()))?;
     let points = points_arg(points, "candidates")?;
     let pts = as_point_slice(&points);
-    let inside = run_detached(py, || Ok(pts.par_iter().map(|&a| region.contains(a)).collect::<Vec<bool>>()))?;
+    let inside = run_detached(py, || {
+        validate_points("candidates", pts, 1)?;
+        Ok(pts.par_iter().map(|&a| region.contains(a)).collect::<Vec<bool>>())
+    })?;
     Ok(PyArray1::from_vec(py, inside))
 }
 

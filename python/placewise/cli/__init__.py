@@ -130,8 +130,8 @@ def _in_cli_terms(exc: BaseException, args: argparse.Namespace) -> str:
     text = text.replace("the first frame", "the first input").replace("centroids=True", "--centroids")
     text = re.sub(r"\bframes?\b", "the input", text).replace("planar=True", "--planar")
     # A kernel's argument names at the start of its message, as the command line spells them.
-    text = re.sub(r"^(seed|p|tol|time_limit)\b", lambda m: "-p" if m[1] == "p" else "--" + m[1].replace("_", "-"),
-                  text)
+    text = re.sub(r"^(seed|p|tol|time_limit|effort)\b",
+                  lambda m: "-p" if m[1] == "p" else "--" + m[1].replace("_", "-"), text)
     text = re.sub(r"^points\b", "the input", text)
     text = re.sub(r"\bby=", "--by", text)
     if not hasattr(args, "by"):  # advice to split into groups only where the subcommand offers --by

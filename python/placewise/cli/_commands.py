@@ -244,7 +244,8 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
         add_place_options(p)
         p.add_argument("--effort", choices=["fast", "normal", "thorough"], default="normal",
                        help="time against quality: fast is one short search; thorough runs more and "
-                            "longer searches [normal]")
+                            "longer searches [normal]; not with --candidates (refused there: the choice among "
+                            "candidates runs its own search to a proven bound)")
         p.add_argument("--fixed", metavar="FILE", help="existing sites that stay where they are")
         if kind == "median":
             _capacity.add_capacity_options(p)

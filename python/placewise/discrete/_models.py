@@ -8,6 +8,7 @@ from numpy.typing import ArrayLike
 
 from .. import _core
 from .._errors import in_unit
+from .._units import check_unit
 from ._costs import _matrix
 from ._selections import CenterSelection, CoverAllSelection, CoverMostSelection, MedianSelection, SiteEvaluation
 
@@ -29,13 +30,15 @@ def evaluate_sites(
         note that ``csr_matrix(dense)`` drops zeros): a pair it does not store may not be
         used, and every row must store at least one pair. It is never densified.
     sites : array_like of int, shape (k,)
-        Distinct open candidate columns.
+        Distinct open candidate columns, a one-dimensional sequence of integers (bools,
+        floats, text and two-column arrays such as coordinates are refused).
     weights : array_like, shape (n,), optional
         Finite, non-negative demand per point, not all zero. Default: all 1.
     radius : float, optional
         Coverage standard (in the cost unit), finite and > 0.
     unit : str
-        Name of the cost unit, used in column names (``cost_min``).
+        Name of the cost unit, used in column names (``cost_min``): letters, digits and
+        underscores, not empty.
 
     Returns
     -------
@@ -45,7 +48,9 @@ def evaluate_sites(
     ------
     InputError
         For a NaN, infinite or negative cost (naming the cell), a shape mismatch with
-        ``weights``, bad weights, a column out of range or repeated, or ``radius <= 0``.
+        ``weights``, bad weights, columns that are not a one-dimensional sequence of
+        integers, a column out of range or repeated, ``radius <= 0``, or a ``unit`` that is
+        not a non-empty name of letters, digits and underscores.
 
     Examples
     --------
@@ -65,7 +70,7 @@ def evaluate_sites(
     A point that no given site may serve (a pair a sparse matrix does not store) has
     ``assignment`` -1 and an infinite cost.
     """
-    with in_unit(unit):
+    with in_unit(check_unit(unit)):
         fields = _core.discrete_evaluate(_matrix(costs), weights, sites, radius)
     return SiteEvaluation(**fields, unit=unit)
 
@@ -100,8 +105,10 @@ def p_median(
         Number of new sites, from 1 to the number of candidates not in ``fixed``.
     weights : array_like, shape (n,), optional
         Demand per point. Default: all 1.
-    fixed : array_like of int, optional
-        Candidate columns that stay open (existing sites); ``p`` counts only new ones.
+    fixed : array_like of int, shape (f,), optional
+        Candidate columns that stay open (existing sites); ``p`` counts only new ones. A
+        one-dimensional sequence of integers, as ``sites`` of :func:`evaluate_sites`: these
+        are indices of candidates, not coordinates, so an ``(f, 2)`` array is refused.
     bound_iterations : int
         Most subgradient iterations for the lower bound (0: bound 0).
     search_rounds : int
@@ -117,7 +124,7 @@ def p_median(
         Seed of the search's random jumps, from 0 to 2**64 - 1: the same seed gives the same
         plan; other seeds explore other plans (restarts).
     unit : str
-        Name of the cost unit.
+        Name of the cost unit, as in :func:`evaluate_sites`.
     time_limit : float, optional
         Seconds (finite, above zero) the call may take, counted from its start (reading the
         costs and, for costs from coordinates, indexing the candidates included). When they
@@ -151,6 +158,10 @@ def p_median(
        candidate  load  points  fixed
     0          1   4.0       4  False
     1          5   2.0       2   True
+    >>> pw.discrete.p_median(line, 1, fixed=[[5, 0]])      # coordinates are no candidate index
+    Traceback (most recent call last):
+        ...
+    placewise.InputError: fixed must be a one-dimensional sequence of candidate indices; got shape (1, 2); ...
     >>> float(pw.discrete.p_median([[3.0, 3.0]], 2).total_cost)   # every candidate: p = m
     3.0
     >>> seen = []
@@ -158,7 +169,7 @@ def p_median(
     >>> quick.open, seen == sorted(seen)
     (array([1, 4]), True)
     """
-    with in_unit(unit):
+    with in_unit(check_unit(unit)):
         fields = _core.discrete_p_median_single(_matrix(costs), p, weights, fixed, bound_iterations, search_rounds,
                                                 time_limit, progress, branch_iterations, seed)
     return MedianSelection(**fields, unit=unit)
@@ -205,7 +216,7 @@ def p_center(
     >>> float(pw.discrete.p_center(line, 7).weighted_worst)   # a site on every point
     0.0
     """
-    with in_unit(unit):
+    with in_unit(check_unit(unit)):
         fields = _core.discrete_p_center_single(_matrix(costs), p, weights, fixed, time_limit, progress)
     return CenterSelection(**fields, unit=unit)
 
@@ -266,7 +277,7 @@ def cover_all(
     >>> pw.discrete.cover_all(line, 1).chosen       # radius s / 2: a site per point
     7
     """
-    with in_unit(unit):
+    with in_unit(check_unit(unit)):
         fields = _core.discrete_cover_all(_matrix(costs), radius, weights, fixed, time_limit, progress)
     return CoverAllSelection(**fields, unit=unit)
 
@@ -314,6 +325,6 @@ def cover_most(
     >>> float(pw.discrete.cover_most(line, 1, 0.5).covered_share)   # only its own point
     0.16666666666666666
     """
-    with in_unit(unit):
+    with in_unit(check_unit(unit)):
         fields = _core.discrete_cover_most(_matrix(costs), p, radius, weights, fixed, time_limit, progress)
     return CoverMostSelection(**fields, unit=unit)

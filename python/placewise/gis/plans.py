@@ -153,12 +153,10 @@ def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bo
           errors: str, options: dict[str, Any], model: dict[str, Any], fixed: Any = None,
           candidates: Any = None, region: Any = None) -> SitePlan:
     if candidates is not None and options.get("capacities") is None:
-        # Of the search options, the stopping rule, the progress report and (for the p-median)
-        # the seed of its search apply to the discrete models.
-        taken = ("time_limit", "progress", "seed") if kind == "median" else ("time_limit", "progress")
-        watch: dict[str, Any] = {k: options[k] for k in taken if k in options}
+        # Every option goes on to the model, which takes those that apply with candidates and
+        # refuses the rest by name (a misspelt one is a TypeError, as without candidates).
         return _plan_on_candidates(kind, frame, p, weight, by, planar, centroids, model, fixed, candidates, region,
-                                   watch)
+                                   {k: v for k, v in options.items() if k != "capacities"}, errors)
     # Each group in a frame of its own, unless existing sites or a region must share the
     # demand's frame (chosen over all of them).
     pf, companions = prepare_together(frame, "frame", {"fixed": fixed}, planar=planar, centroids=centroids,
@@ -209,7 +207,7 @@ def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bo
 
 def _plan_on_candidates(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bool, centroids: bool,
                         model: dict[str, Any], fixed: Any, candidates: Any, region: Any,
-                        watch: dict[str, Any]) -> SitePlan:
+                        options: dict[str, Any], errors: str) -> SitePlan:
     """The discrete p-median or p-center (:mod:`placewise.discrete`) on straight-line
     distances to the rows of ``candidates`` that the region holds; existing sites are
     appended to them as open candidates (they may lie outside the region)."""
@@ -223,11 +221,11 @@ def _plan_on_candidates(kind: str, frame: Any, p: int, weight: Any, by: str | No
     cf, ff = companions["candidates"], companions.get("fixed")
     where, kept = cf.xy, None
     if region is not None:
-        where, kept = candidates_in_region(cf.xy, region_geometry(region, pf, "frame"))
+        where, kept, _ = candidates_in_region(cf.xy, region_geometry(region, pf, "frame"))
     sources = Sources()
     sources.add("candidates", cf, kept)
     where, existing = followed_by_existing(where, ff)
-    options: dict[str, Any] = {}
+    options = {**options, "errors": errors}
     if ff is not None:
         options["fixed"] = existing
         sources.add("fixed", ff)
@@ -235,7 +233,7 @@ def _plan_on_candidates(kind: str, frame: Any, p: int, weight: Any, by: str | No
     rows = {"points": pf.rows, "weights": pf.rows}
     refuse_geometry_named(pf.frame, _demand_columns(pf), "frame")
     result = call(kernel, pf.xy, p, weights(pf, weight, "frame"), candidates=where, rows=rows, measured_in=pf.unit,
-                  **options, **watch)
+                  **options)
     return selection_plan(result, pf, sources)
 
 
@@ -291,7 +289,9 @@ def p_median(
         are those described below.
     **options
         Passed to :func:`placewise.p_median` (``seed``, ``effort``, ``time_limit``,
-        ``progress``; with candidates only ``time_limit`` and ``progress`` apply).
+        ``progress``); a name it does not take is a ``TypeError``. With candidates ``seed``,
+        ``time_limit`` and ``progress`` apply; an ``effort`` other than "normal" (and an
+        ``errors`` other than "raise") is refused with an ``InputError``.
 
     Returns
     -------
@@ -356,7 +356,9 @@ def p_center(
     each serves only the rows of its own group value. With ``candidates`` the discrete
     p-center (:func:`placewise.discrete.p_center`) chooses among them, existing sites open
     beside them: the summary's objective is ``weighted_worst_<unit>``, with a proven
-    ``lower_bound_<unit>`` and ``relative_gap``.
+    ``lower_bound_<unit>`` and ``relative_gap``. Of the options only
+    ``time_limit`` and ``progress`` apply then: the discrete p-center has no random step, so a
+    ``seed`` other than 0 is refused, as is an ``effort`` other than "normal".
 
     Examples
     --------

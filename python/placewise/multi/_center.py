@@ -230,14 +230,19 @@ def p_center(
         Candidate locations: choose the ``p`` sites among them (the discrete p-center, see
         :func:`placewise.discrete.p_center`) and return a
         ``placewise.discrete.CenterSelection`` whose ``open`` holds the candidate index of
-        each site; ``fixed`` then holds candidate indices; ``groups`` is refused with
-        candidates; ``time_limit`` and ``progress`` work as there.
+        each site; ``fixed`` then holds candidate indices; ``time_limit`` and ``progress``
+        work as there. ``groups``, ``fixed_groups``, ``errors``, a ``seed`` other than 0 (the
+        discrete search has no random step) and an ``effort`` other than "normal" do not
+        apply with candidates and are refused with an ``InputError``.
     groups : array_like of int, shape (n,), optional
         Group labels: plan every group at once (in parallel, the same ``p`` for each) and
         return ``CenterPlans``.
     fixed : array_like, shape (f, 2), optional
         Existing sites that stay where they are and serve demand too; ``p`` counts only the
-        new ones. They may lie outside ``region``. An empty array is the same as none.
+        new ones. They may lie outside ``region``. An empty array is the same as none. With
+        ``candidates``: shape (f,), the indices of the candidates that are existing sites
+        (a two-column array is refused: the candidates hold the coordinates); such a
+        candidate too may lie outside ``region``.
     fixed_groups : array_like of int, shape (f,), optional
         With ``groups`` and ``fixed`` (and required then): the group label of each fixed
         site. A fixed site serves only its own group; one whose label has no points serves
@@ -277,8 +282,10 @@ def p_center(
     InputError
         For NaN/inf coordinates, bad shapes, bad weights, ``p`` or ``seed`` not an integer
         in range, an unknown ``effort``, a ``time_limit`` that is not a number above zero, a
-        ``progress`` that is neither a bool nor callable, NaN/inf coordinates in ``fixed``, or
-        ``fixed`` with ``groups`` but without ``fixed_groups``. Its ``group`` and ``row``
+        ``progress`` that is neither a bool nor callable, NaN/inf coordinates in ``fixed``,
+        ``fixed`` with ``groups`` but without ``fixed_groups``, or with ``candidates`` a
+        ``fixed`` that is not a one-dimensional sequence of distinct candidate indices or an
+        option that does not apply there (see ``candidates``). Its ``group`` and ``row``
         attributes name the group label and input row concerned.
     DegenerateInputError
         When fewer than ``p`` distinct points carry positive weight (in a group).
@@ -316,6 +323,9 @@ def p_center(
     1   1.0  1.0   4.0       4   True
     >>> pw.p_center(square + far, 1, candidates=[[1, 1], [11, 1], [21, 1]], fixed=[0]).open
     array([0, 2])
+    >>> from shapely import box          # new sites east of x = 5; the existing one stays west
+    >>> pw.p_center(square + far, 1, candidates=[[1, 1], [11, 1], [21, 1]], fixed=[0], region=box(5, -5, 30, 7)).open
+    array([0, 2])
     >>> plans = pw.p_center(square + far, 1, groups=[0] * 4 + [1] * 4)
     >>> plans.summary()[["group", "weighted_radius_u", "sites", "points"]].round(6)
        group  weighted_radius_u  sites  points
@@ -338,7 +348,8 @@ def p_center(
     """
     if candidates is not None:
         return _on_candidates("p_center", points, p, weights, candidates, fixed=fixed, groups=groups,
-                              time_limit=time_limit, progress=progress, region=region)
+                              time_limit=time_limit, progress=progress, region=region, seed=seed, effort=effort,
+                              errors=errors, fixed_groups=fixed_groups)
     vertices, offsets = region_rings(region)
     shown = None if vertices is None else (vertices, offsets)
     if groups is None:

@@ -7,39 +7,42 @@ from typing import Any
 import numpy as np
 from numpy.typing import ArrayLike
 
-from .. import _core
 from .._errors import refuse
+from .._results import as_points
 from ..capacity import CapacitatedMedianPlan, capacitated_p_median
 
 
 def _on_candidates(model: str, points: ArrayLike, p: int, weights: ArrayLike | None, candidates: ArrayLike, *,
                    fixed: ArrayLike | None, groups: Any, time_limit: Any, progress: Any, region: Any = None,
-                   seed: int = 0) -> Any:
+                   seed: Any = 0, effort: Any = "normal", errors: Any = "raise", fixed_groups: Any = None) -> Any:
     """The discrete form of ``model`` on straight-line costs to ``candidates``; with a
-    ``region``, only the candidates it holds may open (indices stay the caller's). ``seed``
-    seeds the p-median's search (the p-center's has no random step)."""
+    ``region``, only the candidates it holds may open as new sites, while the ``fixed`` ones
+    (existing sites) stay wherever they lie (indices stay the caller's). ``seed`` seeds the
+    p-median's search; the options of the continuous search that have no meaning here
+    (``effort``, ``errors`` and ``fixed_groups`` without groups, the p-center's ``seed``) are
+    refused by name rather than ignored."""
     import dataclasses
 
     from .. import discrete
     from .._region import candidates_in_region
 
     if groups is not None:
-        error = _core.InputError("groups is not supported with candidates (sites chosen from a list)")
-        error.argument = "groups"
-        raise error
+        refuse("groups", "groups is not supported with candidates (sites chosen from a list)")
+    if fixed_groups is not None:
+        refuse("fixed_groups", "fixed_groups does not apply with candidates (it needs groups, which candidates do "
+                "not take)")
+    if errors != "raise":
+        refuse("errors", f"errors does not apply with candidates (it says what to do with groups, which candidates "
+                f"do not take); got {errors!r}")
+    if effort != "normal":
+        refuse("effort", f"effort does not apply with candidates (the choice among candidates runs its own search "
+                f"to a proven bound; bound it with time_limit); got {effort!r}")
+    if model == "p_center" and not (isinstance(seed, (int, np.integer)) and not isinstance(seed, bool) and seed == 0):
+        refuse("seed", f"seed does not apply to the p-center with candidates (its search has no random step); "
+                f"got {seed!r}")
     if region is not None:
-        every = np.ascontiguousarray(candidates, dtype=np.float64).reshape(-1, 2)
-        candidates, rows = candidates_in_region(every, region)
-        if fixed is not None:
-            wanted = np.asarray(fixed, dtype=np.int64).reshape(-1)
-            at = np.searchsorted(rows, wanted)
-            outside = (at >= len(rows)) | (rows[np.minimum(at, len(rows) - 1)] != wanted)
-            if outside.any():
-                error = _core.InputError(f"fixed[{int(np.argmax(outside))}] = candidate {int(wanted[outside][0])} "
-                                         "lies outside the region; an existing site must lie in it")
-                error.argument = "fixed"
-                raise error
-            fixed = at
+        every = candidates
+        candidates, rows, fixed = candidates_in_region(every, region, fixed)
     watch = {"time_limit": time_limit, "progress": progress}
     if model == "p_median":
         chosen: Any = discrete.p_median_planar(points, candidates, p, weights, fixed=fixed, seed=seed, **watch)
@@ -47,7 +50,7 @@ def _on_candidates(model: str, points: ArrayLike, p: int, weights: ArrayLike | N
         chosen = discrete.p_center_planar(points, candidates, p, weights, fixed=fixed, **watch)
     if region is None:
         return chosen
-    return dataclasses.replace(chosen, open=rows[chosen.open], candidates=every)
+    return dataclasses.replace(chosen, open=rows[chosen.open], candidates=as_points(every))
 
 
 def _capacitated(points: ArrayLike, p: int, weights: ArrayLike | None, capacities: ArrayLike | None, *,

@@ -228,15 +228,17 @@ def p_median(
         :func:`placewise.discrete.p_median`, on straight-line distances computed when
         asked) and return a ``placewise.discrete.MedianSelection`` whose ``open`` holds the
         candidate index of each site; ``fixed`` then holds candidate indices. ``seed`` seeds
-        its search's random jumps; ``effort`` does not apply; ``groups`` is refused with
-        candidates; ``time_limit`` and ``progress`` work as there (a plan cut short by the
-        limit has a ``relative_gap`` above 0).
+        its search's random jumps; ``time_limit`` and ``progress`` work as there (a plan cut
+        short by the limit has a ``relative_gap`` above 0). ``groups``, ``fixed_groups``,
+        ``errors`` and an ``effort`` other than "normal" do not apply with candidates and
+        are refused with an ``InputError``.
     groups : array_like of int, shape (n,), optional
         Group labels: plan every group at once (in parallel, the same ``p`` for each) and
         return ``MedianPlans``.
     fixed : array_like, shape (f, 2), optional
         Existing sites that stay where they are and serve demand too; ``p`` counts only the
-        new ones.
+        new ones. With ``candidates``: shape (f,), the indices of the candidates that are
+        existing sites (a two-column array is refused: the candidates hold the coordinates).
     fixed_groups : array_like of int, shape (f,), optional
         With ``groups`` and ``fixed`` (and required then): the group label of each fixed
         site. A fixed site serves only its own group; one whose label has no points serves
@@ -265,7 +267,8 @@ def p_median(
         Fermat–Weber point (the free one when the region holds it, else the best boundary
         point; Hamacher and Nickel 1995), and every start, jump and shake target is moved to
         the nearest point of the region. Fixed sites stay where they are. One region serves
-        every group.
+        every group. With ``candidates``, only those the region holds may open as new sites;
+        a fixed candidate (an existing site) is kept wherever it lies.
     capacities : array_like, optional
         Demand each site can serve (in weight units): the capacitated p-median, solved by
         :func:`placewise.capacitated_p_median` (location–allocation with the exact
@@ -297,8 +300,9 @@ def p_median(
         For NaN/inf coordinates, bad shapes, negative, all-zero or wrong-length weights,
         ``p`` or ``seed`` not an integer in range, an unknown ``effort``, a ``time_limit``
         that is not a number above zero, a ``progress`` that is neither a bool nor callable,
-        or ``fixed`` with
-        ``groups`` but without ``fixed_groups``. Its ``group`` and ``row`` attributes name
+        ``fixed`` with ``groups`` but without ``fixed_groups``, or with ``candidates`` a
+        ``fixed`` that is not a one-dimensional sequence of distinct candidate indices or an
+        option that does not apply there (see ``candidates``). Its ``group`` and ``row`` attributes name
         the group label and input row concerned.
     DegenerateInputError
         When fewer than ``p`` distinct points carry positive weight (in a group).
@@ -346,6 +350,15 @@ def p_median(
     >>> pick.open, pick.sites.tolist()
     (array([0, 2]), [[1.0, 1.0], [10.0, 1.0]])
 
+    The same parcels with a zoning box that holds only the first two, and an existing depot
+    on the third: it stays, outside the box, and one new site opens inside it.
+
+    >>> import shapely
+    >>> zoned = pw.p_median([[0, 0], [2, 0], [9, 0], [11, 0]], 1, candidates=parcels, fixed=[2],
+    ...                     region=shapely.box(0, 0, 6, 6))
+    >>> zoned.open, zoned.fixed
+    (array([0, 2]), array([False,  True]))
+
     Two depots that may only stand on a strip of land along y = 3 (the demand lies off it):
 
     >>> strip = [[-1, 3], [12, 3], [12, 4], [-1, 4]]
@@ -376,7 +389,8 @@ def p_median(
                             time_limit=time_limit, progress=progress, region=region)
     if candidates is not None:
         return _on_candidates("p_median", points, p, weights, candidates, fixed=fixed, groups=groups,
-                              time_limit=time_limit, progress=progress, region=region, seed=seed)
+                              time_limit=time_limit, progress=progress, region=region, seed=seed, effort=effort,
+                              errors=errors, fixed_groups=fixed_groups)
     vertices, offsets = region_rings(region)
     shown = None if vertices is None else (vertices, offsets)
     if groups is None:

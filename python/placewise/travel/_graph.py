@@ -14,7 +14,7 @@ from .. import _core
 from .._core import InputError
 from .._errors import in_unit, restate
 from .._progress import Stages
-from .._units import length_unit_of
+from .._units import check_unit, length_unit_of
 from ._inputs import (
     _MODELS,
     _frame_lines,
@@ -50,7 +50,7 @@ class TravelGraph:
     def __init__(self, core: Any, *, unit: str = "u", length_unit: str = "u", crs: Any = None,
                  row_labels: Any = None) -> None:
         self._core = core
-        self.unit = unit
+        self.unit = check_unit(unit)
         self.length_unit = length_unit
         self.crs = crs
         # The caller's row labels (a GeoDataFrame's index), for the edges' ``line_label``.
