@@ -146,9 +146,15 @@ def candidates_held(cf: Prepared, region: Any, pf: Prepared, points: str = "fram
 
         x, y = Transformer.from_crs(pf.work, series.crs, always_xy=True).transform(xy[:, 0], xy[:, 1])
         xy = np.column_stack([x, y])
-    # A candidate PROJ cannot bring into the region's CRS has infinite coordinates there,
-    # which the exact test holds in no region.
-    _, rows = candidates_in_region(xy, geom)
+    # A candidate PROJ cannot bring into the region's CRS has infinite coordinates there:
+    # no region holds it, and the exact test (which refuses them) sees only the others.
+    representable = np.flatnonzero(np.isfinite(xy).all(axis=1))
+    if len(representable) == 0:
+        error = InputError(f"region holds none of the {len(xy)} candidates; every new site must lie in the region")
+        error.argument = "region"
+        raise error
+    _, rows, _ = candidates_in_region(xy[representable], geom)
+    rows = representable[rows]
     return cf.xy[rows], rows
 
 

@@ -25,7 +25,7 @@ from ._frames import (
     weights,
     with_unit,
 )
-from ._together import prepare_together, region_geometry
+from ._together import candidates_held, prepare_together, region_geometry
 from .capacities import capacities_of
 
 __all__ = ["SitePlan", "nearest_site", "p_center", "p_median"]
@@ -91,8 +91,10 @@ def nearest_site(
     Parameters
     ----------
     demand, sites : GeoDataFrame or GeoSeries of points
-    weight : str or array_like, optional
-        Demand weight column (or values); default 1 per row.
+    weight : str, Series or array_like, optional
+        Demand weight column's name; a pandas Series, matched to the rows by index label (see
+        :func:`placewise.gis.weber_point`); or one value per row, by position. Default 1 per
+        row.
     by : str, optional
         A column of both frames: each demand group is served only by the sites of its group.
     progress : bool or callable
@@ -211,7 +213,6 @@ def _plan_on_candidates(kind: str, frame: Any, p: int, weight: Any, by: str | No
     """The discrete p-median or p-center (:mod:`placewise.discrete`) on straight-line
     distances to the rows of ``candidates`` that the region holds; existing sites are
     appended to them as open candidates (they may lie outside the region)."""
-    from .._region import candidates_in_region
     from .coverage import Sources, followed_by_existing, selection_plan
 
     if by is not None:
@@ -221,7 +222,8 @@ def _plan_on_candidates(kind: str, frame: Any, p: int, weight: Any, by: str | No
     cf, ff = companions["candidates"], companions.get("fixed")
     where, kept = cf.xy, None
     if region is not None:
-        where, kept, _ = candidates_in_region(cf.xy, region_geometry(region, pf, "frame"))
+        # Tested in the region's own CRS, where its edges are straight as drawn.
+        where, kept = candidates_held(cf, region, pf, "frame")
     sources = Sources()
     sources.add("candidates", cf, kept)
     where, existing = followed_by_existing(where, ff)
