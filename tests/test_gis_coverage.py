@@ -118,6 +118,21 @@ def test_cover_all_anywhere_needs_no_more_sites_than_the_candidates_program():
     assert len(plan.sites) <= milp_set_cover(cdist(xy, xy) <= radius)
 
 
+def test_cover_all_anywhere_on_a_circle_of_the_radius_in_utm():
+    # Closed form: three homes exactly 5 m from (500000, 5000000) in UTM zone 33N (offsets
+    # (3, 4), (-3, 4), (0, -5)), an acute triangle, so one site at that centre covers them
+    # within 5 m and no other location does. Two sites were proven optimal.
+    xy = np.array([[500_003.0, 5_000_004.0], [499_997.0, 5_000_004.0], [500_000.0, 4_999_995.0]])
+    homes = gpd.GeoDataFrame({"people": [1.0, 2.0, 3.0]}, geometry=gpd.points_from_xy(xy[:, 0], xy[:, 1]),
+                             crs="EPSG:32633", index=["a", "b", "c"])
+    plan = gis.cover_all(homes, 5.0)
+    assert len(plan.sites) == 1 and int(plan.summary["lower_bound"].iloc[0]) == 1
+    site = np.column_stack([shapely.get_x(plan.sites.geometry.values), shapely.get_y(plan.sites.geometry.values)])
+    assert (cdist(xy, site) <= 5.0).all()  # scipy cdist
+    best = gis.cover_most(homes, 1, 5.0, "people")
+    assert float(best.summary["covered_share"].iloc[0]) == 1.0
+
+
 @pytest.mark.parametrize("seed", [4, 5, 6])
 def test_cover_most_matches_the_maximal_covering_program(seed):
     demand, candidates, xy, cxy = planar_case(seed, n=30, m=14)

@@ -118,9 +118,12 @@ def cover_all(
     candidates : array_like, shape (m, 2), optional
         Possible site locations. Default: sites anywhere in the plane, chosen exactly among
         the finite dominating set of Church (1984) — the points and the intersection points
-        of the circles of ``radius`` around them (pulled a relative 1e-9 toward their pair's
-        midpoint so rounding never uncovers a point), kept once per distinct set of covered
-        points; the result's ``candidates`` then holds that set and ``open`` indexes it.
+        of the circles of ``radius`` around them (each where it lies, exactly when it is
+        representable, so points exactly on its circle stay covered, and pulled a relative
+        1e-9 toward its pair's midpoint so rounding never uncovers the pair; both when each
+        covers a point the other misses), kept once per distinct set of covered points by the
+        same distance test as the result's coverage; the result's ``candidates`` then holds
+        that set and ``open`` indexes it.
         Refused when over 4 million such candidates arise.
     fixed : array_like, optional
         Existing sites, open whatever the plan; only the new sites they leave needed are

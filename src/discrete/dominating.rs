@@ -12,9 +12,11 @@ use std::collections::HashSet;
 use rayon::prelude::*;
 
 use super::check_radius;
+use super::source::planar_cost;
 use crate::cancel::{RunLimits, Steps};
 use crate::error::{Error, Result};
-use crate::geometry::{distance, validate_points, LocalTree, Point, WorkingFrame};
+use crate::geometry::sum::{two_product, two_sum};
+use crate::geometry::{distance, power_of_two_factor, validate_points, LocalTree, Point, WorkingFrame};
 
 /// Points between two polls of the clock in [`circle_intersections`]: a few milliseconds of
 /// neighbour queries even where the circles overlap densely.
@@ -31,9 +33,21 @@ pub const MAX_DOMINATING_CANDIDATES: usize = 4_000_000;
 /// add the same points one is kept. Whatever the existing sites cover is covered in every
 /// plan, so the set still holds an optimal choice of new sites.
 ///
-/// Each intersection point is moved toward the midpoint of its two points by a relative
-/// `1e-9` of its distance to it, so rounding never leaves either point outside the radius
-/// (the midpoint is within the radius of both, and both disks are convex).
+/// Each intersection point is offered twice, and a candidate's covered points are always
+/// those of [`planar_cost`] `<= radius`, the test of the covering models and of evaluating
+/// sites:
+///
+/// - where it lies, by [`meeting_points`]: exactly, for integer or grid coordinates with a
+///   whole radius, whenever that point is representable, so points lying exactly on its
+///   circle stay covered — three or more such points around it not within a half-circle
+///   (the circumcentre of an acute triangle whose circumradius is the radius) are covered
+///   by no other location at all;
+/// - moved toward the midpoint of its two points by a relative `1e-9` of its distance to it,
+///   so rounding never leaves either point outside the radius (the midpoint is within the
+///   radius of both, and both disks are convex). Moving toward that midpoint also keeps
+///   every other point on the arc between the two (in exact arithmetic).
+///
+/// Of the two, one is kept when its covered points hold the other's, both otherwise.
 ///
 /// # Errors
 /// Bad `points` or `fixed`; [`Error::InvalidParameter`] naming `radius` when it is not finite and
@@ -58,10 +72,11 @@ pub fn circle_intersections(
     // The tree holds the points in their working frame (unit size), where the squared
     // search distances neither overflow nor underflow at coordinates near 1e±160 and
     // beyond; every test that decides coverage is made on the caller's coordinates, by
-    // the same `distance(..) <= radius` as the covering models'.
+    // the covering models' own test (`planar_cost(..) <= radius`).
     let tree = LocalTree::new(points, WorkingFrame::of(points));
     let reach = 2.0 * radius;
-    let mut candidates: Vec<Point> = points.to_vec();
+    // Per place where two circles meet: the point as computed, and moved toward the midpoint.
+    let mut meets: Vec<[Point; 2]> = Vec::new();
     for (i, &a) in points.iter().enumerate() {
         if i.is_multiple_of(POLL_POINTS) && clock.stop() {
             break;
@@ -73,17 +88,11 @@ pub fn circle_intersections(
             if j <= i || d == 0.0 || d > reach {
                 continue;
             }
-            // Halves and a product of factors near 1: no square of a coordinate or of the
-            // radius, which overflow or underflow at extreme scales.
             let mid = [0.5 * a[0] + 0.5 * b[0], 0.5 * a[1] + 0.5 * b[1]];
-            let share = 0.5 * d / radius;
-            let h = radius * ((1.0 - share) * (1.0 + share)).max(0.0).sqrt();
-            let normal = [-(b[1] - a[1]) / d, (b[0] - a[0]) / d];
-            for sign in [1.0, -1.0] {
-                let c = [mid[0] + sign * h * normal[0], mid[1] + sign * h * normal[1]];
-                candidates.push([c[0] + (mid[0] - c[0]) * 1e-9, c[1] + (mid[1] - c[1]) * 1e-9]);
+            for c in meeting_points(a, b, d, radius) {
+                meets.push([c, [c[0] + (mid[0] - c[0]) * 1e-9, c[1] + (mid[1] - c[1]) * 1e-9]]);
             }
-            if candidates.len() > limit {
+            if points.len() + meets.len() > limit {
                 return Err(Error::InvalidParameter {
                     name: "radius",
                     reason: format!(
@@ -95,38 +104,205 @@ pub fn circle_intersections(
         }
     }
     steps.finish();
-    let covered_before =
-        |c: Point| -> Vec<usize> { tree.within(c, radius).filter(|&i| distance(c, points[i]) <= radius).collect() };
+    // Coverage by the covering models' test, on the caller's coordinates.
+    let covers = |site: Point, i: usize| planar_cost(points[i], site) <= radius;
     // The points an existing site covers, by the same test as every candidate's.
     let mut served = vec![false; points.len()];
     for &f in fixed {
-        for i in covered_before(f) {
-            served[i] = true;
+        for i in tree.within(f, radius) {
+            served[i] |= covers(f, i);
         }
     }
+    // The points a site adds to the existing sites', ascending, among the rows `near` it.
+    let adds = |site: Point, near: &[usize]| -> Vec<usize> {
+        let mut set: Vec<usize> = near.iter().copied().filter(|&i| !served[i] && covers(site, i)).collect();
+        set.sort_unstable();
+        set
+    };
+    let at_points = points.par_iter().map(|&c| [Some((c, adds(c, &tree.within(c, radius).collect::<Vec<_>>()))), None]);
+    let at_meets = meets.par_iter().map(|&[exact, nudged]| {
+        // One query serves both: what the nudged point covers lies within their distance more.
+        let near: Vec<usize> = tree.within(exact, radius + distance(exact, nudged)).collect();
+        let (on, inside) = (adds(exact, &near), adds(nudged, &near));
+        if is_subset(&on, &inside) {
+            [Some((nudged, inside)), None]
+        } else if is_subset(&inside, &on) {
+            [Some((exact, on)), None]
+        } else {
+            [Some((nudged, inside)), Some((exact, on))]
+        }
+    });
+    let found: Vec<Offered> = at_points.chain(at_meets).collect();
     // Dominance: one candidate per distinct set of points it adds to the existing sites'
     // (the first, so demand points come before intersection points); none adding nothing.
-    let sets: Vec<Vec<usize>> = candidates
-        .par_iter()
-        .map(|&c| {
-            let mut set = covered_before(c);
-            set.retain(|&i| !served[i]);
-            set.sort_unstable();
-            set
-        })
-        .collect();
-    let mut seen = HashSet::with_capacity(sets.len());
-    Ok(candidates
+    let mut seen = HashSet::with_capacity(found.len());
+    Ok(found
         .into_iter()
-        .zip(sets)
+        .flatten()
+        .flatten()
         .filter(|(_, set)| !set.is_empty() && seen.insert(set.clone()))
         .map(|(c, _)| c)
         .collect())
 }
 
+/// Up to two candidate sites for one place, each with the points it adds (ascending).
+type Offered = [Option<(Point, Vec<usize>)>; 2];
+
+/// Whether every element of the ascending `small` is in the ascending `large`.
+fn is_subset(small: &[usize], large: &[usize]) -> bool {
+    let mut rest = large.iter();
+    small.iter().all(|x| rest.any(|y| y == x))
+}
+
+/// The two points where the circles of radius `radius` around `a` and `b` (`d > 0` apart,
+/// `d <= 2 · radius`) meet: `m ± u · √(E·D) / (2D)` for the midpoint `m`, `u` the difference
+/// `b − a` turned a quarter, `D = |b − a|²` and `E = 4r² − D`.
+///
+/// Why this form: where the meeting point is representable — integer or grid coordinates
+/// with a whole radius, pairs closer than about 2^26 grid steps, the centre of three points
+/// on a circle of the radius — it comes out exactly, so points exactly on its circle stay
+/// within the radius by the covering models' test. The squares are taken after scaling by a power of two near `1 / radius` (exact),
+/// so they neither overflow nor underflow at extreme scales; the product `E·D`, its square
+/// root and the quotient are carried with their rounding errors (error-free products by
+/// fused multiply–add; Dekker 1971, Ogita, Rump & Oishi 2005), so only the last rounding of
+/// each coordinate remains. A pair far closer than the radius (`D` below `2^-600` in the
+/// scaled units, where the squares of its difference would lose digits) uses the form
+/// without squares: the midpoint plus `√((r − d/2)(r + d/2))` along the quarter-turned unit
+/// difference.
+fn meeting_points(a: Point, b: Point, d: f64, radius: f64) -> [Point; 2] {
+    let mid = [0.5 * a[0] + 0.5 * b[0], 0.5 * a[1] + 0.5 * b[1]];
+    let f = power_of_two_factor(radius);
+    let delta = [(b[0] - a[0]) * f, (b[1] - a[1]) * f];
+    let rho = radius * f;
+    let dd = delta[0] * delta[0] + delta[1] * delta[1];
+    let across = [-delta[1], delta[0]];
+    if !(dd >= 2f64.powi(-600)) {
+        let share = 0.5 * d / radius;
+        let h = radius * ((1.0 - share) * (1.0 + share)).max(0.0).sqrt();
+        let normal = [-(b[1] - a[1]) / d, (b[0] - a[0]) / d];
+        return [1.0, -1.0].map(|sign| [mid[0] + sign * h * normal[0], mid[1] + sign * h * normal[1]]);
+    }
+    // D and E to about twice the working precision, as unevaluated sums (exact for integer
+    // coordinates and radii below 2^26 times a power of two).
+    let (dd_hi, dd_lo) = {
+        let (x, ex) = two_product(delta[0], delta[0]);
+        let (y, ey) = two_product(delta[1], delta[1]);
+        let (s, es) = two_sum(x, y);
+        (s, es + ex + ey)
+    };
+    let (rr, err) = two_product(2.0 * rho, 2.0 * rho);
+    let (e_hi, e_err) = two_sum(rr, -dd_hi);
+    let e_lo = e_err + err - dd_lo;
+    if !(e_hi + e_lo > 0.0) {
+        // Tangent circles (or rounding past them): the midpoint, both ways.
+        return [mid, mid];
+    }
+    // √(E·D) as root + root_lo.
+    let (p, p_err) = two_product(e_hi, dd_hi);
+    let p_lo = p_err + e_lo * dd_hi + e_hi * dd_lo;
+    let root = p.sqrt();
+    let root_lo = ((-root).mul_add(root, p) + p_lo) / (2.0 * root);
+    let two_d = 2.0 * dd_hi;
+    let offset = across.map(|u| {
+        let (n, n_err) = two_product(u, root);
+        let n_lo = n_err + u * root_lo;
+        let q = n / two_d;
+        // The quotient corrected by its remainder, so that only its last rounding is left.
+        let q = q + (((-q).mul_add(two_d, n) + n_lo) - q * 2.0 * dd_lo) / two_d;
+        q / f
+    });
+    [[mid[0] + offset[0], mid[1] + offset[1]], [mid[0] - offset[0], mid[1] - offset[1]]]
+}
+
 #[cfg(test)]
 mod tests {
+    use proptest::prelude::*;
+
     use super::*;
+    use crate::discrete::{cover_all, cover_most, with_planar_costs};
+    use crate::geometry::Weights;
+
+    /// Whether some candidate covers every one of `group` by the covering models' test.
+    fn one_covers(candidates: &[Point], group: &[Point], radius: f64) -> bool {
+        candidates.iter().any(|&c| group.iter().all(|&p| planar_cost(p, c) <= radius))
+    }
+
+    #[test]
+    fn three_points_exactly_on_a_circle_of_the_radius_take_one_site() {
+        // Closed form: (3, 4), (-3, 4) and (0, -5) all lie exactly 5 from (0, 0), their
+        // circumcentre, so one site covers them within radius 5 — and no site covers them
+        // with room to spare (the triangle is acute: its smallest enclosing circle is that
+        // circumcircle). The intersection points were moved 1e-9 toward their pair's
+        // midpoint, (0, 4e-9) took the place of (0, 0), and two sites were proven optimal.
+        let points = [[3.0, 4.0], [-3.0, 4.0], [0.0, -5.0]];
+        let c = circle_intersections(&points, &[], 5.0, 100, &RunLimits::default()).unwrap();
+        assert!(c.contains(&[0.0, 0.0]), "{c:?}");
+        with_planar_costs(&points, &c, |costs| {
+            let all = cover_all(costs, Weights::Unit, 5.0, &[], &RunLimits::default())?;
+            assert_eq!((all.chosen, all.lower_bound), (1, 1));
+            let most = cover_most(costs, Weights::Unit, 1, 5.0, &[], &RunLimits::default())?;
+            assert_eq!(most.service.coverage.as_ref().map(|v| v.covered_weight), Some(3.0));
+            assert!(most.upper_bound >= 3.0, "{most:?}");
+            Ok(())
+        })
+        .unwrap();
+    }
+
+    /// The lattice points exactly `radius` from the origin for Pythagorean radii (closed
+    /// form: the triples (3, 4, 5), (6, 8, 10), (5, 12, 13), (7, 24, 25), (15, 20, 25),
+    /// (16, 63, 65), (25, 60, 65), (33, 56, 65), (39, 52, 65) with their signs and swaps, and
+    /// the axis points).
+    fn on_circle(radius: i32) -> Vec<[i32; 2]> {
+        let triples: &[(i32, i32, i32)] = &[
+            (3, 4, 5),
+            (6, 8, 10),
+            (5, 12, 13),
+            (7, 24, 25),
+            (15, 20, 25),
+            (16, 63, 65),
+            (25, 60, 65),
+            (33, 56, 65),
+            (39, 52, 65),
+        ];
+        let mut out = vec![[radius, 0], [-radius, 0], [0, radius], [0, -radius]];
+        for &(x, y, _) in triples.iter().filter(|t| t.2 == radius) {
+            for [u, v] in [[x, y], [y, x]] {
+                for [su, sv] in [[1, 1], [1, -1], [-1, 1], [-1, -1]] {
+                    out.push([su * u, sv * v]);
+                }
+            }
+        }
+        out
+    }
+
+    proptest! {
+        #[test]
+        fn co_circular_integer_points_are_covered_by_one_candidate(
+            radius in prop::sample::select(vec![5, 10, 13, 25, 65]),
+            centre in (-1000i32..1000, -1000i32..1000),
+            offset in prop::sample::select(vec![0.0, 500_000.0, 6_000_000.0]),
+            picks in prop::collection::vec(any::<prop::sample::Index>(), 3..7),
+            extra in prop::collection::vec((-150i32..150, -150i32..150), 0..12),
+            twice in any::<bool>(),
+        ) {
+            // Closed form: every point of `group` lies exactly `radius` from `centre`, so
+            // the site there covers the group; the dominating set must hold a candidate
+            // covering it too (Church 1984), whatever other points lie around (random
+            // integer points, duplicates), and at projected-coordinate offsets.
+            let lattice = on_circle(radius);
+            let at = |x: i32, y: i32| [f64::from(centre.0 + x) + offset, f64::from(centre.1 + y) + offset];
+            let group: Vec<Point> = picks.iter().map(|k| { let [x, y] = lattice[k.index(lattice.len())]; at(x, y) }).collect();
+            let mut points = group.clone();
+            points.extend(extra.iter().map(|&(x, y)| at(x, y)));
+            if twice {
+                points.extend(group.iter().copied());
+            }
+            let r = f64::from(radius);
+            let c = circle_intersections(&points, &[], r, 1_000_000, &RunLimits::default()).unwrap();
+            prop_assert!(group.iter().all(|&p| planar_cost(p, at(0, 0)) <= r));
+            prop_assert!(one_covers(&c, &group, r), "{group:?} {c:?}");
+        }
+    }
 
     #[test]
     fn two_points_closer_than_the_diameter_meet_twice() {

@@ -38,7 +38,8 @@ pub use source::{with_planar_costs, CostMatrix, Costs, PlanarCosts, SparseCosts,
 
 use crate::error::{Error, Result};
 use crate::geometry::validate::WEIGHTED_LIMIT;
-use crate::geometry::{distance, validate_points, CompensatedSum, Point, Weights};
+use crate::geometry::{validate_points, CompensatedSum, Point, Weights};
+use source::planar_cost;
 
 /// Largest cost matrix [`euclidean_costs`] builds (cells): 8 bytes each, so about 800 MB.
 pub const MAX_COST_CELLS: usize = 100_000_000;
@@ -62,7 +63,7 @@ pub fn euclidean_costs(points: &[Point], candidates: &[Point]) -> Result<Vec<f64
             ),
         });
     }
-    Ok(points.iter().flat_map(|&a| candidates.iter().map(move |&c| distance(a, c))).collect())
+    Ok(points.iter().flat_map(|&a| candidates.iter().map(move |&c| planar_cost(a, c))).collect())
 }
 
 /// Check that `sites` are distinct candidate columns below `columns`.

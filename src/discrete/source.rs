@@ -141,6 +141,16 @@ impl<'a> SparseCosts<'a> {
     }
 }
 
+/// The straight-line cost of serving `point` from `site`: every cost of the planar sources
+/// (the dense matrix of [`super::euclidean_costs`] and [`PlanarCosts`]). A site covers a
+/// point within a radius when this cost is at most the radius — the test of the covering
+/// models and of evaluating sites — so whatever else decides coverage on coordinates (the
+/// dominating set) asks this function too.
+#[inline]
+pub(crate) fn planar_cost(point: Point, site: Point) -> f64 {
+    distance(point, site)
+}
+
 /// Straight-line costs between demand points and candidate sites, computed when asked.
 #[derive(Debug, Clone)]
 pub struct PlanarCosts<'a> {
@@ -245,20 +255,20 @@ impl Costs<'_> {
             }
             Costs::Planar(c) => {
                 let a = c.points[i];
-                c.candidates.iter().enumerate().for_each(|(j, &s)| f(j, distance(a, s)));
+                c.candidates.iter().enumerate().for_each(|(j, &s)| f(j, planar_cost(a, s)));
             }
         }
     }
 
     /// `f(j, cost)` for every allowed candidate `j` of row `i` with `cost <= radius`, in
     /// no particular order. The planar source asks its tree, then keeps exactly the pairs
-    /// whose [`distance`] is within `radius`, so it agrees with [`Costs::for_each`].
+    /// whose [`planar_cost`] is within `radius`, so it agrees with [`Costs::for_each`].
     pub fn for_each_within(&self, i: usize, radius: f64, mut f: impl FnMut(usize, f64)) {
         match self {
             Costs::Planar(c) if radius.is_finite() => {
                 let a = c.points[i];
                 for j in c.tree.within(a, radius) {
-                    let d = distance(a, c.candidates[j]);
+                    let d = planar_cost(a, c.candidates[j]);
                     if d <= radius {
                         f(j, d);
                     }
@@ -281,7 +291,7 @@ impl Costs<'_> {
                 let r = c.range(i);
                 c.indices[r.clone()].binary_search(&j).ok().map(|k| c.values[r.start + k])
             }
-            Costs::Planar(c) => Some(distance(c.points[i], c.candidates[j])),
+            Costs::Planar(c) => Some(planar_cost(c.points[i], c.candidates[j])),
         }
     }
 
@@ -291,12 +301,12 @@ impl Costs<'_> {
         if let Costs::Planar(c) = self {
             let a = c.points[i];
             let near = c.tree.nearest(a).expect("a candidate");
-            let d = distance(a, c.candidates[near]);
+            let d = planar_cost(a, c.candidates[near]);
             // Every candidate as near in the caller's units (ties, and the frame's rounding):
             // the smallest column.
             let mut best = (near, d);
             for j in c.tree.within(a, d) {
-                let e = distance(a, c.candidates[j]);
+                let e = planar_cost(a, c.candidates[j]);
                 if e < best.1 || (e == best.1 && j < best.0) {
                     best = (j, e);
                 }

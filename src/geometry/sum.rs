@@ -1,4 +1,21 @@
-//! Compensated summation.
+//! Compensated summation, and the error-free sum and product it and others build on.
+
+/// `a + b` as the rounded sum and its exact error: `s + e == a + b` (Knuth's branch-free
+/// TwoSum).
+#[inline]
+pub fn two_sum(a: f64, b: f64) -> (f64, f64) {
+    let s = a + b;
+    let back = s - a;
+    (s, (a - (s - back)) + (b - back))
+}
+
+/// `a · b` as the rounded product and its exact error: `p + e == a · b` unless the product
+/// overflows or its error underflows (Dekker 1971; here by one fused multiply–add).
+#[inline]
+pub fn two_product(a: f64, b: f64) -> (f64, f64) {
+    let p = a * b;
+    (p, a.mul_add(b, -p))
+}
 
 /// Compensated summation: Ogita, Rump and Oishi's `Sum2` (2005, "Accurate sum and dot
 /// product"), built on Knuth's branch-free TwoSum. The total is as accurate as if summed in
@@ -15,10 +32,7 @@ impl CompensatedSum {
     /// Add one term.
     #[inline]
     pub fn add(&mut self, value: f64) {
-        // TwoSum: t + e == self.sum + value exactly.
-        let t = self.sum + value;
-        let back = t - self.sum;
-        let e = (self.sum - (t - back)) + (value - back);
+        let (t, e) = two_sum(self.sum, value);
         self.compensation += e;
         self.sum = t;
     }
