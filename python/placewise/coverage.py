@@ -37,8 +37,8 @@ def _candidates(points: ArrayLike, radius: float, candidates: ArrayLike | None,
                 time_limit: float | None = None, fixed: np.ndarray | None = None) -> ArrayLike:
     """The given candidates, or for sites anywhere the finite dominating set of Church (1984):
     the points and the intersections of the circles of ``radius`` around them, one per
-    distinct set of covered points (computed by the kernel; with ``time_limit``, those found
-    by then, the points always among them)."""
+    distinct set of covered points (computed by the kernel, which refuses, naming
+    ``time_limit``, when the time passes before the set is complete)."""
     if candidates is not None:
         return candidates
     from . import _core

@@ -13,7 +13,7 @@ use rayon::prelude::*;
 
 use super::check_radius;
 use super::source::planar_cost;
-use crate::cancel::{RunLimits, Steps};
+use crate::cancel::{cancelled, Clock, RunLimits, Steps};
 use crate::error::{Error, Result};
 use crate::geometry::sum::{two_product, two_sum};
 use crate::geometry::{distance, power_of_two_factor, validate_points, LocalTree, Point, WorkingFrame};
@@ -22,8 +22,27 @@ use crate::geometry::{distance, power_of_two_factor, validate_points, LocalTree,
 /// neighbour queries even where the circles overlap densely.
 const POLL_POINTS: usize = 256;
 
+/// Meeting places whose coverage is tested between two polls of the clock (tens of
+/// milliseconds on two cores).
+const POLL_MEETS: usize = 65_536;
+
 /// Most candidate sites [`circle_intersections`] generates before refusing.
 pub const MAX_DOMINATING_CANDIDATES: usize = 4_000_000;
+
+/// The error of a listing stopped by the clock: a set short of some meeting places is not
+/// dominating, so no plan chosen from it (nor its bound) would hold for sites anywhere. A
+/// cancelled run's error is never seen (the caller drops its outcome).
+fn stopped_listing(clock: &Clock) -> Error {
+    if clock.watch.is_cancelled() {
+        return cancelled("points");
+    }
+    Error::InvalidParameter {
+        name: "time_limit",
+        reason: "the time limit passed while the places where the circles meet were being listed, before any plan \
+                 existed (a plan for sites anywhere is chosen from all of them); allow more time, or none"
+            .into(),
+    }
+}
 
 /// The demand points and the pairwise intersection points of the circles of radius `radius`
 /// around them, one per distinct set of covered points (see the module docs).
@@ -51,12 +70,14 @@ pub const MAX_DOMINATING_CANDIDATES: usize = 4_000_000;
 ///
 /// # Errors
 /// Bad `points` or `fixed`; [`Error::InvalidParameter`] naming `radius` when it is not finite and
-/// positive, or when more than `limit` candidates arise (dense points for the radius).
+/// positive, or when more than `limit` candidates arise (dense points for the radius), and
+/// naming `time_limit` when the clock stops the listing.
 ///
 /// # Runtime
 /// O(n log n + K log n) for K pairs within `2 · radius`. The clock of `limits` is polled
-/// every [`POLL_POINTS`] points; stopped, the candidates found so far are returned (every
-/// demand point is among them, so every point can still be covered). Progress counts points.
+/// every [`POLL_POINTS`] points and every [`POLL_MEETS`] meeting places of the coverage
+/// tests; stopped, the listing is refused (`time_limit`), as a partial set would not
+/// dominate. Progress counts points.
 pub fn circle_intersections(
     points: &[Point],
     fixed: &[Point],
@@ -79,7 +100,7 @@ pub fn circle_intersections(
     let mut meets: Vec<[Point; 2]> = Vec::new();
     for (i, &a) in points.iter().enumerate() {
         if i.is_multiple_of(POLL_POINTS) && clock.stop() {
-            break;
+            return Err(stopped_listing(&clock));
         }
         steps.step();
         for j in tree.within(a, reach) {
@@ -120,7 +141,7 @@ pub fn circle_intersections(
         set
     };
     let at_points = points.par_iter().map(|&c| [Some((c, adds(c, &tree.within(c, radius).collect::<Vec<_>>()))), None]);
-    let at_meets = meets.par_iter().map(|&[exact, nudged]| {
+    let offer = |&[exact, nudged]: &[Point; 2]| {
         // One query serves both: what the nudged point covers lies within their distance more.
         let near: Vec<usize> = tree.within(exact, radius + distance(exact, nudged)).collect();
         let (on, inside) = (adds(exact, &near), adds(nudged, &near));
@@ -131,8 +152,16 @@ pub fn circle_intersections(
         } else {
             [Some((nudged, inside)), Some((exact, on))]
         }
-    });
-    let found: Vec<Offered> = at_points.chain(at_meets).collect();
+    };
+    // Collected in slices between polls of the clock: at a million meeting places the
+    // coverage tests take tens of seconds, which a time limit must be able to cut.
+    let mut found: Vec<Offered> = at_points.collect();
+    for slice in meets.chunks(POLL_MEETS) {
+        if clock.stop() {
+            return Err(stopped_listing(&clock));
+        }
+        found.par_extend(slice.par_iter().map(&offer));
+    }
     // Dominance: one candidate per distinct set of points it adds to the existing sites'
     // (the first, so demand points come before intersection points); none adding nothing.
     let mut seen = HashSet::with_capacity(found.len());
@@ -219,12 +248,31 @@ mod tests {
     use proptest::prelude::*;
 
     use super::*;
+    use crate::cancel::Watch;
     use crate::discrete::{cover_all, cover_most, with_planar_costs};
     use crate::geometry::Weights;
 
     /// Whether some candidate covers every one of `group` by the covering models' test.
     fn one_covers(candidates: &[Point], group: &[Point], radius: f64) -> bool {
         candidates.iter().any(|&c| group.iter().all(|&p| planar_cost(p, c) <= radius))
+    }
+
+    #[test]
+    fn a_listing_the_clock_stops_is_refused_not_returned_in_part() {
+        // A set short of some meeting places is not dominating (a plan and bound chosen from
+        // it would not hold for sites anywhere), so a stopped listing names `time_limit`;
+        // the same call without a limit lists them all.
+        let points: Vec<Point> = (0..2_000).map(|i| [(i % 50) as f64, (i / 50) as f64]).collect();
+        let stopped = circle_intersections(&points, &[], 1.5, usize::MAX, &RunLimits::new(Some(0.0), Watch::new()));
+        match stopped {
+            Err(Error::InvalidParameter { name, reason }) => {
+                assert_eq!(name, "time_limit");
+                assert!(reason.contains("before any plan existed"), "{reason}");
+            }
+            other => panic!("{other:?}"),
+        }
+        let whole = circle_intersections(&points, &[], 1.5, usize::MAX, &RunLimits::default()).unwrap();
+        assert!(whole.len() > points.len());
     }
 
     #[test]

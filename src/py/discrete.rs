@@ -209,8 +209,8 @@ fn discrete_euclidean_costs<'py>(
 
 /// Candidate sites for coverage anywhere in the plane within `radius` of `points` (the
 /// finite dominating set), `(k, 2)`, beside existing sites at `fixed` (those adding nothing
-/// to them left out); with `time_limit`, the candidates found by then (the points among
-/// them: still a set every point can be covered from).
+/// to them left out); refused (naming `time_limit`) when the time passes before the set is
+/// complete, as a partial set does not dominate.
 #[pyfunction]
 #[pyo3(signature = (points, radius, time_limit=None, fixed=None))]
 fn discrete_circle_candidates<'py>(
