@@ -97,6 +97,18 @@ pub enum Error {
         /// Row of the earlier point at the same location.
         first: usize,
     },
+    /// A site repeats the location of an earlier one with another capacity (capacitated
+    /// models): `candidates[1] repeats the location of candidates[0]`.
+    TwoCapacities {
+        /// Argument name of the locations (`"sites"` or `"candidates"`).
+        argument: &'static str,
+        /// Row of the repeat.
+        row: usize,
+        /// Row of the earlier site at the same location.
+        first: usize,
+        /// The capacity of the earlier site and of the repeat.
+        capacities: (f64, f64),
+    },
     /// A site's Voronoi cell is narrower than the precision at which a region this large is
     /// cut (its nearest site closer than about the weld's reach), so it would come out empty.
     LostCell {
@@ -328,6 +340,14 @@ impl Error {
                 namer.row(argument, *row),
                 namer.row(argument, *first)
             ),
+            Error::TwoCapacities { argument, row, first, capacities } => format!(
+                "{argument}: {argument}[{}] repeats the location of {argument}[{}] with another capacity ({} there, {} \
+                 here); give each location one capacity",
+                namer.row(argument, *row),
+                namer.row(argument, *first),
+                plain(capacities.0),
+                plain(capacities.1)
+            ),
             Error::LostCell { argument, row, nearest, reach } => format!(
                 "{argument}: the cell of {argument}[{}] is lost: its nearest site lies {} away, about the {} to \
                  which a region this large is cut at double precision (2^-40 of its size); pass a smaller region \
@@ -423,6 +443,7 @@ impl Error {
             | Error::TooFewPoints { argument, .. }
             | Error::Degenerate { argument, .. }
             | Error::RepeatedPoint { argument, .. }
+            | Error::TwoCapacities { argument, .. }
             | Error::LostCell { argument, .. }
             | Error::InvalidCost { argument, .. }
             | Error::InvalidEdge { argument, .. }
@@ -446,6 +467,7 @@ impl Error {
             | Error::InvalidWeight { index, .. }
             | Error::NonFiniteValue { index, .. } => Some(*index),
             Error::RepeatedPoint { row, .. }
+            | Error::TwoCapacities { row, .. }
             | Error::LostCell { row, .. }
             | Error::InvalidCost { row, .. }
             | Error::Uncoverable { row, .. }

@@ -162,6 +162,14 @@ def test_one_location_with_two_capacities_is_refused():
     assert plan.total_cost == pytest.approx(1.0)
 
 
+def test_one_candidate_location_with_two_capacities_names_candidates_and_rows():
+    points = [[0, 0], [1, 0], [5, 0], [6, 0]]
+    with pytest.raises(pw.InputError, match=r"candidates\[1\] repeats the location of candidates\[0\]") as info:
+        pw.capacitated_p_median(points, 2, [1, 3, 2], candidates=[[0, 0], [0, 0], [6, 0]])
+    assert info.value.argument == "candidates" and info.value.row == 1
+    assert "sites" not in str(info.value)
+
+
 def test_tables_and_plot():
     points, sites, caps, weights = instance(3)
     plan = pw.capacity_allocation(points, sites, caps, weights, unit="m")

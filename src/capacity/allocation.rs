@@ -282,6 +282,7 @@ fn describe(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::capacity::transport::SITE_ROUNDING;
     use crate::error::Error;
     use crate::partition::testing::lcg_cloud;
 
@@ -382,5 +383,74 @@ mod tests {
         assert!(run(&[1.0, f64::NAN, 1.0]).starts_with("capacities must be finite"));
         assert!(run(&[1.0, 1.0]).contains("one entry per site (3); got 2"));
         assert!(run(&[1.0, 1.0, 2.0]).contains("sites[2] repeats the location of sites[0]"));
+        let e = capacity_allocation(&points, &sites, &[1.0, 1.0, 2.0], Weights::Unit, &AllocationOptions::default());
+        assert_eq!(
+            e.unwrap_err(),
+            Error::TwoCapacities { argument: "sites", row: 2, first: 0, capacities: (1.0, 2.0) }
+        );
+    }
+
+    /// Every point's amounts, summed.
+    fn served(a: &CapacityAllocation, w: &[f64]) -> f64 {
+        w.iter().zip(&a.unserved).map(|(w, u)| w - u).sum()
+    }
+
+    #[test]
+    fn a_site_of_capacity_zero_neither_stalls_the_solve_nor_keeps_a_residue() {
+        // A float instance on which the solve once moved the excess a few ulps per path
+        // forever: a residue at the site of capacity 0 bounded a detour through it that
+        // refilled the residue. Under a time limit, a stall fails instead of blocking.
+        let points = [
+            [9.956638831635857, 1.0040240554275015],
+            [5.823277999342019, 6.191817653351129],
+            [7.257109157361324, 0.4526105481567022],
+            [2.5977236118159794, 8.632425527291202],
+            [5.386807388548711, 5.035137183098404],
+            [1.092375321749196, 7.626396124696746],
+            [3.9217465753290437, 3.34625231162358],
+        ];
+        let sites = [
+            [3.7504131669466343, 6.522472578915303],
+            [5.517217158171494, 7.856199003543808],
+            [2.149301640492993, 4.341264156610876],
+        ];
+        let caps = [0.0, 1.1504083180083717, 3.6243803772603935];
+        let w = [0.0, 2.0, 0.0, 3.0, 1.0, 1.0, 3.0];
+        let limits = RunLimits { time_limit: Some(30.0), ..Default::default() };
+        for split in [true, false] {
+            let options = AllocationOptions { split, allow_unserved: true, limits: limits.clone() };
+            let a = capacity_allocation(&points, &sites, &caps, Weights::Given(&w), &options).unwrap();
+            assert_eq!(a.load[0], 0.0);
+            assert!(a.load.iter().zip(&caps).all(|(l, c)| l <= c), "{:?}", a.load);
+            // The split plan uses every unit of capacity (the demand of 10 exceeds it).
+            let capacity: f64 = caps.iter().sum();
+            assert!(served(&a, &w) <= capacity + 1e-12 * 10.0);
+            assert!(!split || (served(&a, &w) - capacity).abs() <= 1e-12 * 10.0);
+        }
+        // The same without the points of weight 0 once left 4.4e-16 at the site of capacity 0.
+        let keep = [1, 3, 4, 5, 6];
+        let (p2, w2): (Vec<Point>, Vec<f64>) = keep.iter().map(|&i| (points[i], w[i])).unzip();
+        let options = AllocationOptions { allow_unserved: true, limits, ..Default::default() };
+        let a = capacity_allocation(&p2, &sites, &caps, Weights::Given(&w2), &options).unwrap();
+        assert_eq!(a.load[0], 0.0);
+        assert!(a.load.iter().zip(&caps).all(|(l, c)| l <= c), "{:?}", a.load);
+    }
+
+    #[test]
+    fn capacities_met_to_the_ulp_leave_no_load_past_them() {
+        // 0.1 + 0.2 + 0.3 meets 0.6 + 0 only to rounding (binary 0.1, 0.2, 0.3 sum above
+        // binary 0.6): the site of capacity 0 once kept 5.55e-17.
+        let points = [[0.0, 0.0], [1.0, 0.0], [2.0, 0.0]];
+        let sites = [[0.0, 0.0], [2.0, 0.0]];
+        let w = [0.1, 0.2, 0.3];
+        let a = capacity_allocation(&points, &sites, &[0.6, 0.0], Weights::Given(&w), &AllocationOptions::default())
+            .unwrap();
+        assert_eq!(a.load, vec![0.6, 0.0]);
+        // 0.1 + 0.2 passes 0.3 by one ulp and neither point uses another site: the residue
+        // stays, within 4 ulps of the demand, and no part is made of it.
+        let a = capacity_allocation(&points, &sites, &[0.3, 0.4], Weights::Given(&w), &AllocationOptions::default())
+            .unwrap();
+        assert!(a.load[0] <= 0.3 + SITE_ROUNDING * 0.6 && a.load[1] <= 0.4, "{:?}", a.load);
+        assert!(a.parts.is_empty());
     }
 }

@@ -40,8 +40,9 @@ pub(crate) fn stopped() -> Error {
 ///
 /// # Errors
 /// Bad coordinates ([`Error::NonFiniteCoordinate`], [`Error::TooFewPoints`]); bad weights;
-/// [`Error::InvalidParameter`] naming `capacities` for a wrong length or for a location
-/// listed twice with different capacities; [`Error::InvalidWeight`] naming `capacities` for
+/// [`Error::InvalidParameter`] naming `capacities` for a wrong length;
+/// [`Error::TwoCapacities`] naming `sites` and the row for a location listed twice with
+/// different capacities; [`Error::InvalidWeight`] naming `capacities` for
 /// a negative, NaN or infinite capacity; [`Error::WeightedOverflow`] when the demand times
 /// the points' and sites' extent overflows.
 pub(crate) fn validate(
@@ -53,7 +54,7 @@ pub(crate) fn validate(
     validate_points("points", points, 1)?;
     validate_points("sites", sites, 1)?;
     validate_weights("weights", weights, points.len())?;
-    check_capacities(sites, capacities)?;
+    check_capacities("sites", sites, capacities)?;
     let mut demand = CompensatedSum::default();
     (0..points.len()).for_each(|i| demand.add(weights.get(i)));
     let mut capacity = CompensatedSum::default();
@@ -86,8 +87,9 @@ pub(crate) fn check_weighted_distances(points: &[Point], sites: &[Point], demand
     Ok(())
 }
 
-/// One finite capacity ≥ 0 per site, and one capacity per location.
-pub(crate) fn check_capacities(sites: &[Point], capacities: &[f64]) -> Result<()> {
+/// One finite capacity ≥ 0 per site, and one capacity per location; `argument` names the
+/// locations (`"sites"` or `"candidates"`).
+pub(crate) fn check_capacities(argument: &'static str, sites: &[Point], capacities: &[f64]) -> Result<()> {
     if capacities.len() != sites.len() {
         return Err(Error::InvalidParameter {
             name: "capacities",
@@ -102,13 +104,11 @@ pub(crate) fn check_capacities(sites: &[Point], capacities: &[f64]) -> Result<()
     for w in order.windows(2) {
         let (a, b) = (w[0], w[1]);
         if sites[a] == sites[b] && capacities[a] != capacities[b] {
-            return Err(Error::InvalidParameter {
-                name: "capacities",
-                reason: format!(
-                    "sites[{b}] repeats the location of sites[{a}] with another capacity ({} there, {} here); \
-                     give each location one capacity",
-                    capacities[a], capacities[b]
-                ),
+            return Err(Error::TwoCapacities {
+                argument,
+                row: b,
+                first: a,
+                capacities: (capacities[a], capacities[b]),
             });
         }
     }

@@ -37,6 +37,7 @@ use rayon::prelude::*;
 
 use crate::cancel::Clock;
 use crate::error::{Error, Result};
+use crate::geometry::CompensatedSum;
 
 /// Augmenting paths between two polls of the clock: each costs O(m²) (microseconds to a
 /// millisecond at a thousand sites).
@@ -517,12 +518,26 @@ pub(crate) fn solve_from_watched(
         for v in 0..nodes {
             pi[v] -= if done[v] { dist[v].min(reach) } else { reach };
         }
-        // Bottleneck along the path target ← … ← s.
-        let mut delta = balance[s].min(-balance[target]);
+        // The path target ← … ← s as arcs `(from, to, point)`. Two consecutive arcs
+        // `j → k → l` through the same point `i` are one move of `i` from `j` to `l`: its
+        // amount at `k` is unchanged, so it is no bottleneck. Read as two arcs, that amount
+        // bounded the path although the path itself refills it, and a rounding residue of
+        // `i` at `k` then carried the whole excess a few ulps per path (ties make such
+        // detours shortest; a site of capacity 0 is one at no extra cost).
+        let mut path: Vec<(usize, usize, u32)> = Vec::new();
         let mut k = target;
         while k != s {
             let (j, i) = via[k];
             let j = j as usize;
+            match path.last_mut() {
+                Some(last) if i != NONE && last.2 == i => last.0 = j,
+                _ => path.push((j, k, i)),
+            }
+            k = j;
+        }
+        // Bottleneck along the path.
+        let mut delta = balance[s].min(-balance[target]);
+        for &(j, k, i) in &path {
             delta = delta.min(if i != NONE {
                 solver.flow(i, j)
             } else if k == t {
@@ -530,47 +545,169 @@ pub(crate) fn solve_from_watched(
             } else {
                 out[k]
             });
-            k = j;
         }
         // Apply.
-        let mut k = target;
-        while k != s {
-            let (j, i) = via[k];
-            let j = j as usize;
+        for &(j, k, i) in &path {
             if i == NONE {
                 if k == t {
                     out[j] = if capacity[j] - out[j] <= delta { capacity[j] } else { out[j] + delta };
                 } else {
                     out[k] = if out[k] <= delta { 0.0 } else { out[k] - delta };
                 }
-                k = j;
                 continue;
             }
             let f = &mut solver.flows[i as usize];
             let pos = f.iter().position(|&(s, _)| s as usize == j).expect("path arcs carry flow");
-            let left = f[pos].1 <= delta;
-            if left {
-                f.swap_remove(pos);
-            } else {
+            // A remainder within the rounding of the point's own demand goes along: left
+            // behind, it would be a residue at `j` that no balance accounts for.
+            let left = f[pos].1 - delta <= SITE_ROUNDING * demand[i as usize];
+            let moved = if left { f.swap_remove(pos).1 } else { delta };
+            if !left {
                 f[pos].1 -= delta;
             }
             if let Some(e) = f.iter_mut().find(|e| e.0 as usize == k) {
-                e.1 += delta;
+                e.1 += moved;
             } else {
-                f.push((k as u32, delta));
+                f.push((k as u32, moved));
                 solver.join(i, k);
             }
             if left {
                 solver.leave(i, j);
             }
-            k = j;
         }
         balance[s] = if balance[s] <= delta { 0.0 } else { balance[s] - delta };
         balance[target] = if -balance[target] <= delta { 0.0 } else { balance[target] + delta };
         augmentations += 1;
     }
-    let price = (0..m).map(|j| (pi[j] - pi[t]).max(0.0)).collect();
-    Ok(Plan { flows: solver.flows, price, augmentations })
+    let price: Vec<f64> = (0..m).map(|j| (pi[j] - pi[t]).max(0.0)).collect();
+    let mut flows = solver.flows;
+    settle(&mut flows, capacity, cost, &price, reach);
+    Ok(Plan { flows, price, augmentations })
+}
+
+/// Per site, the amount the flows send it, summed (compensated) in point order: the loads a
+/// plan reports.
+pub(crate) fn site_loads(flows: &[Vec<(u32, f64)>], sites: usize) -> Vec<f64> {
+    let mut loads = vec![CompensatedSum::default(); sites];
+    for f in flows {
+        for &(j, x) in f {
+            loads[j as usize].add(x);
+        }
+    }
+    loads.iter().map(CompensatedSum::total).collect()
+}
+
+/// The load of site `j` from its `members` (ascending points), summed as [`site_loads`] does.
+fn load_of(flows: &[Vec<(u32, f64)>], members: &[u32], j: usize) -> f64 {
+    let mut sum = CompensatedSum::default();
+    for &i in members {
+        if let Some(&(_, x)) = flows[i as usize].iter().find(|e| e.0 as usize == j) {
+            sum.add(x);
+        }
+    }
+    sum.total()
+}
+
+/// Move the rounding residues of an optimal plan off the sites they leave loaded past their
+/// capacity: a site's summed load may pass its capacity by a few ulps (of the point amounts
+/// moved through it), and a site of capacity 0 may hold such a residue. Each residue goes,
+/// smallest amounts first, to another site its point already uses that has room, cheapest
+/// at the optimal prices (`cost + price`, which the point's sites minimise), so the plan
+/// keeps its parts and stays optimal to rounding.
+///
+/// A residue with no such site stays where it is (a few ulps past a positive capacity);
+/// from a site of capacity 0 it goes to the point's other site, else to the cheapest with
+/// room, else to the cheapest of positive capacity: a site of capacity 0 always ends with
+/// load 0. So every load ([`site_loads`]) is within its capacity except by rounding where
+/// the point amounts at a full site sum past it and its points have no room elsewhere
+/// (totals that agree only to rounding, which the caller accepts to [`SITE_ROUNDING`] of
+/// the demand).
+fn settle(
+    flows: &mut [Vec<(u32, f64)>],
+    capacity: &[f64],
+    cost: &(dyn Fn(usize, usize) -> f64 + Sync),
+    price: &[f64],
+    reach: Reach<'_>,
+) {
+    let m = capacity.len();
+    let mut loads = site_loads(flows, m);
+    if loads.iter().zip(capacity).all(|(l, c)| l <= c) {
+        return;
+    }
+    let mut members: Vec<Vec<u32>> = vec![Vec::new(); m];
+    for (i, f) in flows.iter().enumerate() {
+        for &(j, _) in f {
+            members[j as usize].push(i as u32);
+        }
+    }
+    // Each pass moves at least one ulp of some amount; bounded for safety.
+    let mut budget = 8 * (flows.len() + m) + 64;
+    let mut again = true;
+    while again && budget > 0 {
+        again = false;
+        for j in 0..m {
+            while loads[j] > capacity[j] && budget > 0 {
+                budget -= 1;
+                let excess = loads[j] - capacity[j];
+                // The smallest amount at `j` (ties: lowest point).
+                let Some((i, x)) = members[j]
+                    .iter()
+                    .filter_map(|&i| flows[i as usize].iter().find(|e| e.0 as usize == j).map(|e| (i, e.1)))
+                    .min_by(|a, b| a.1.total_cmp(&b.1).then(a.0.cmp(&b.0)))
+                else {
+                    break;
+                };
+                // Take the excess (at least one ulp of `x`, so every step changes the sum), or
+                // all of `x` when that is less or the rest would be rounding of it.
+                let mut keep = x - excess;
+                if keep >= x {
+                    keep = f64::from_bits(x.to_bits() - 1);
+                }
+                if keep <= SITE_ROUNDING * x || capacity[j] == 0.0 {
+                    keep = 0.0;
+                }
+                let moved = x - keep;
+                let allowed = |k: usize| k != j && reach.of(i).is_none_or(|list| list.contains(&(k as u32)));
+                let reduced = |k: usize| cost(i as usize, k) + price.get(k).copied().unwrap_or(0.0);
+                let cheapest = |room: &dyn Fn(usize) -> bool, own: bool| {
+                    (0..m)
+                        .filter(|&k| allowed(k) && room(k))
+                        .filter(|&k| !own || flows[i as usize].iter().any(|e| e.0 as usize == k))
+                        .min_by(|&a, &b| reduced(a).total_cmp(&reduced(b)).then(a.cmp(&b)))
+                };
+                // A site the point already uses with room: no new part, and the prices still
+                // certify the plan. Otherwise the residue stays (a few ulps past a positive
+                // capacity) unless its site has capacity 0: then the point's other site, or
+                // the cheapest with room, or the cheapest of positive capacity.
+                let has_room = |k: usize| capacity[k] - loads[k] >= moved;
+                let mut to = cheapest(&has_room, true);
+                if to.is_none() && capacity[j] == 0.0 {
+                    to = cheapest(&|k| capacity[k] > 0.0, true)
+                        .or_else(|| cheapest(&has_room, false))
+                        .or_else(|| cheapest(&|k| capacity[k] > 0.0, false));
+                }
+                let Some(k) = to else { break };
+                let f = &mut flows[i as usize];
+                let pos = f.iter().position(|e| e.0 as usize == j).expect("a member's amount");
+                if keep > 0.0 {
+                    f[pos].1 = keep;
+                } else {
+                    f.remove(pos);
+                    members[j].retain(|&p| p != i);
+                }
+                if let Some(e) = f.iter_mut().find(|e| e.0 as usize == k) {
+                    e.1 += moved;
+                } else {
+                    f.push((k as u32, moved));
+                    let at = members[k].partition_point(|&p| p < i);
+                    members[k].insert(at, i);
+                }
+                loads[j] = load_of(flows, &members[j], j);
+                loads[k] = load_of(flows, &members[k], k);
+                again |= loads[k] > capacity[k];
+            }
+        }
+    }
 }
 
 /// The condensed arcs by tail site (compressed rows, heads ascending): every `k ≠ j` with

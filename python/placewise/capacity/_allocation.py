@@ -35,7 +35,12 @@ class CapacityPlan(Result):
         of an unserved part); see :meth:`parts_frame`.
     load, slack, price : ndarray, shape (m,)
         Per site: demand served, ``capacity - load``, and the optimal capacity price of the
-        split plan (distance units per unit of demand; 0 where a site has slack).
+        split plan (distance units per unit of demand; 0 where a site has slack). A split
+        plan's loads stay within the capacities, and a site of capacity 0 serves nothing: the
+        rounding residues of the solve move to another site their point uses that has room.
+        Only where the amounts at a site sum past its capacity by rounding and its points use
+        no other site with room does a load pass its capacity, by at most 4 ulps of the total
+        demand; a single-source plan, whose points cannot split, may do the same.
     total_cost, total_demand, total_unserved : float
         ``Σ cost``, ``Σ weights`` and ``Σ unserved``.
     lower_bound, relative_gap : float

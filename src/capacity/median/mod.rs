@@ -315,7 +315,7 @@ fn discrete(
 ) -> Result<CapacitatedMedian> {
     let (points, weights) = (run.points, run.weights);
     validate_points("candidates", candidates, 1)?;
-    check_capacities(candidates, capacities)?;
+    check_capacities("candidates", candidates, capacities)?;
     let m = candidates.len();
     if p > m {
         return Err(Error::InvalidParameter {

@@ -99,3 +99,13 @@ fn lagrangian_bound_alone_is_a_bound() {
         assert!(value <= best * (1.0 + 1e-9), "seed {seed}: {value} > {best}");
     }
 }
+
+#[test]
+fn a_candidate_location_with_two_capacities_names_the_candidates_and_rows() {
+    let points = [[0.0, 0.0], [1.0, 0.0], [5.0, 0.0], [6.0, 0.0]];
+    let cands = [[0.0, 0.0], [0.0, 0.0], [6.0, 0.0]];
+    let e = capacitated_p_median(&points, Weights::Unit, 2, &[1.0, 3.0, 2.0], Some(&cands), &Default::default())
+        .unwrap_err();
+    assert_eq!(e, Error::TwoCapacities { argument: "candidates", row: 1, first: 0, capacities: (1.0, 3.0) });
+    assert!(e.to_string().starts_with("candidates: candidates[1] repeats the location of candidates[0]"), "{e}");
+}
