@@ -149,43 +149,32 @@ impl TravelGraph {
                 tail.push(node_of(coords[offsets[row]]));
                 head.push(node_of(coords[offsets[row + 1] - 1]));
             }
-        } else if geodesic {
-            // `tolerance` is metres on the ellipsoid, as every other length of a lon/lat graph.
-            // The R*-tree holds degrees: it lists the nodes within a radius of degrees that
+        } else {
+            // An end within `tolerance` of the nearest node joins it. On a lon/lat graph
+            // `tolerance` is metres on the ellipsoid, as every other length there: the
+            // R*-tree holds degrees, so it lists the nodes within a radius of degrees that
             // holds every place within `tolerance` metres ([`degrees_within`]), and the
             // geodesic distance (Karney 2013) picks the nearest of them.
             let mut tree: RTree<GeomWithData<Point, u32>> = RTree::new();
             let metres = |a: Point, b: Point| crate::geodesic::geodesic_length(&[a, b]).unwrap_or(f64::INFINITY);
             let mut node_of = |p: Point| {
-                let p = place(p);
-                // An end within `tolerance` of a pole joins at the pole, whatever its
-                // longitude: there longitudes far apart are one place.
-                let pole = [0.0, 90f64.copysign(p[1])];
-                let p = if metres(p, pole) <= tolerance { place(pole) } else { p };
-                let reach = degrees_within(p[1], tolerance);
-                // Across the antimeridian, a node a turn of longitude away in the coordinates.
-                let near = [0.0, 360.0, -360.0]
-                    .iter()
-                    .flat_map(|&turn| tree.locate_within_distance([p[0] + turn, p[1]], reach * reach))
-                    .map(|near| (metres(p, *near.geom()), near.data))
-                    .min_by(|x, y| x.0.total_cmp(&y.0).then(x.1.cmp(&y.1)));
-                match near {
-                    Some((d, node)) if d <= tolerance => node,
-                    _ => {
-                        tree.insert(GeomWithData::new(p, nodes));
-                        nodes += 1;
-                        nodes - 1
-                    }
-                }
-            };
-            for row in 0..m {
-                tail.push(node_of(coords[offsets[row]]));
-                head.push(node_of(coords[offsets[row + 1] - 1]));
-            }
-        } else {
-            let mut tree: RTree<GeomWithData<Point, u32>> = RTree::new();
-            let mut node_of = |p: Point| {
-                let near = tree.nearest_neighbor(p).map(|near| (distance(*near.geom(), p), near.data));
+                let (p, near) = if geodesic {
+                    let p = place(p);
+                    // An end within `tolerance` of a pole joins at the pole, whatever its
+                    // longitude: there longitudes far apart are one place.
+                    let pole = [0.0, 90f64.copysign(p[1])];
+                    let p = if metres(p, pole) <= tolerance { place(pole) } else { p };
+                    let reach = degrees_within(p[1], tolerance);
+                    // Across the antimeridian, a node a turn of longitude away in the coordinates.
+                    let near = [0.0, 360.0, -360.0]
+                        .iter()
+                        .flat_map(|&turn| tree.locate_within_distance([p[0] + turn, p[1]], reach * reach))
+                        .map(|near| (metres(p, *near.geom()), near.data))
+                        .min_by(|x, y| x.0.total_cmp(&y.0).then(x.1.cmp(&y.1)));
+                    (p, near)
+                } else {
+                    (p, tree.nearest_neighbor(p).map(|near| (distance(*near.geom(), p), near.data)))
+                };
                 match near {
                     Some((d, node)) if d <= tolerance => node,
                     _ => {
