@@ -238,7 +238,7 @@ def _parcels(crs=None):
     return gpd.GeoSeries(gpd.points_from_xy([0.0, 10.0], [0.0, 0.0]), index=["A", "B"], crs=crs)
 
 
-def test_the_audits_example_matches_pandas_assignment_and_brute_force():
+def test_a_weight_series_in_another_order_matches_pandas_assignment_and_brute_force():
     homes = _homes().iloc[:2]
     w = pd.Series({"b": 100, "a": 1})
     by_series = gis.p_median(homes, 1, w, candidates=_parcels(), planar=True).sites["source_row"].tolist()
