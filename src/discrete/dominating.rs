@@ -11,9 +11,9 @@ use std::collections::HashSet;
 
 use rayon::prelude::*;
 
-use super::check_radius;
 use super::source::planar_cost;
-use crate::cancel::{cancelled, Clock, RunLimits, Steps};
+use super::{check_radius, stopped_listing};
+use crate::cancel::{RunLimits, Steps};
 use crate::error::{Error, Result};
 use crate::geometry::sum::{two_product, two_sum};
 use crate::geometry::{distance, power_of_two_factor, validate_points, LocalTree, Point, WorkingFrame};
@@ -28,21 +28,6 @@ const POLL_MEETS: usize = 65_536;
 
 /// Most candidate sites [`circle_intersections`] generates before refusing.
 pub const MAX_DOMINATING_CANDIDATES: usize = 4_000_000;
-
-/// The error of a listing stopped by the clock: a set short of some meeting places is not
-/// dominating, so no plan chosen from it (nor its bound) would hold for sites anywhere. A
-/// cancelled run's error is never seen (the caller drops its outcome).
-fn stopped_listing(clock: &Clock) -> Error {
-    if clock.watch.is_cancelled() {
-        return cancelled("points");
-    }
-    Error::InvalidParameter {
-        name: "time_limit",
-        reason: "the time limit passed while the places where the circles meet were being listed, before any plan \
-                 existed (a plan for sites anywhere is chosen from all of them); allow more time, or none"
-            .into(),
-    }
-}
 
 /// The demand points and the pairwise intersection points of the circles of radius `radius`
 /// around them, one per distinct set of covered points (see the module docs).
@@ -100,7 +85,7 @@ pub fn circle_intersections(
     let mut meets: Vec<[Point; 2]> = Vec::new();
     for (i, &a) in points.iter().enumerate() {
         if i.is_multiple_of(POLL_POINTS) && clock.stop() {
-            return Err(stopped_listing(&clock));
+            return Err(stopped_listing(&clock, "the places where the circles meet", "plan"));
         }
         steps.step();
         for j in tree.within(a, reach) {
@@ -158,7 +143,7 @@ pub fn circle_intersections(
     let mut found: Vec<Offered> = at_points.collect();
     for slice in meets.chunks(POLL_MEETS) {
         if clock.stop() {
-            return Err(stopped_listing(&clock));
+            return Err(stopped_listing(&clock, "the places where the circles meet", "plan"));
         }
         found.par_extend(slice.par_iter().map(&offer));
     }

@@ -36,6 +36,7 @@ pub use dominating::{circle_intersections, MAX_DOMINATING_CANDIDATES};
 pub use median::{discrete_p_median, DiscreteMedian, DiscreteMedianOptions};
 pub use source::{with_planar_costs, CostMatrix, Costs, PlanarCosts, SparseCosts, PLANAR_DENSE_CELLS};
 
+use crate::cancel::{cancelled, Clock};
 use crate::error::{Error, Result};
 use crate::geometry::validate::WEIGHTED_LIMIT;
 use crate::geometry::{validate_points, CompensatedSum, Point, Weights};
@@ -123,6 +124,24 @@ fn check_weighted_range(costs: &Costs<'_>, weights: Weights<'_>, summed: bool) -
         return Err(Error::WeightedOverflow { largest: top, weight, summed, limit: WEIGHTED_LIMIT, coordinates: None });
     }
     Ok(())
+}
+
+/// The refusal of a run whose clock stopped while it listed `listed`, before any `what`
+/// ("cover", "plan") existed: every `what` is built from the complete lists (a set of sites
+/// anywhere short of some meeting places does not dominate; coverage lists short of some
+/// points leave them out), so none is made from part of them. A cancelled run's error is
+/// never seen (the caller drops its outcome).
+fn stopped_listing(clock: &Clock, listed: &str, what: &str) -> Error {
+    if clock.watch.is_cancelled() {
+        return cancelled("points");
+    }
+    Error::InvalidParameter {
+        name: "time_limit",
+        reason: format!(
+            "the time limit passed while listing {listed}, before any {what} existed (every {what} is built from \
+             the complete lists); allow more time, or none"
+        ),
+    }
 }
 
 /// Check an optional coverage radius: finite and positive.

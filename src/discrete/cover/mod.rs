@@ -31,8 +31,8 @@ pub(super) use incidence::{FlatLists, Incidence};
 use lagrangian::Covering;
 pub use most::{cover_most, CoverMost};
 
-use super::{check_radius, relative_gap, Costs, SiteService};
-use crate::cancel::{cancelled, Clock, RunLimits, Steps};
+use super::{check_radius, relative_gap, stopped_listing, Costs, SiteService};
+use crate::cancel::{cancelled, RunLimits, Steps};
 use crate::error::{Error, Result};
 use crate::geometry::{validate_weights, Weights};
 
@@ -100,22 +100,6 @@ fn not_fixed(columns: usize, fixed: &[usize]) -> Vec<bool> {
     usable
 }
 
-/// The error of a covering run stopped while it listed the coverage, before any plan
-/// (`what`: "cover", "plan") exists: every plan is built from the complete lists. A
-/// cancelled run's error is never seen (the caller drops its outcome).
-fn stopped_before_a_plan(clock: &Clock, what: &str) -> Error {
-    if clock.watch.is_cancelled() {
-        return cancelled("costs");
-    }
-    Error::InvalidParameter {
-        name: "time_limit",
-        reason: format!(
-            "the time limit passed while the coverage of the points was being listed, before any {what} \
-             existed (every {what} is built from the complete lists); allow more time, or none"
-        ),
-    }
-}
-
 /// A set-covering plan: the fewest new sites putting every point within the radius.
 #[derive(Debug, Clone, PartialEq)]
 pub struct CoverAll {
@@ -163,7 +147,7 @@ pub fn cover_all(
         &stop,
     ) else {
         steps.finish();
-        return Err(stopped_before_a_plan(&clock, "cover"));
+        return Err(stopped_listing(&clock, "the coverage of the points", "cover"));
     };
     let mut incidence = incidence.freed_aside();
     if let Some(a) = incidence.uncoverable() {

@@ -58,7 +58,7 @@ pub fn cover_most(
         Incidence::build_watched(costs, &demand, &not_fixed(m, fixed), |_| radius, |_, c| c <= radius, &stop)
     else {
         steps.finish();
-        return Err(super::stopped_before_a_plan(&clock, "plan"));
+        return Err(super::stopped_listing(&clock, "the coverage of the points", "plan"));
     };
     let inc = inc.freed_aside();
 
