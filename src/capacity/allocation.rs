@@ -16,7 +16,7 @@
 //!   possible at least cost, and what it leaves unserved is reported per point.
 
 use super::single_source::single_source;
-use super::transport::{transport_watched, Flows, Plan};
+use super::transport::{site_loads, transport_watched, Flows, Plan};
 use super::{plain_distance, relative_gap, shortfall, validate};
 use crate::cancel::{Clock, RunLimits, Steps};
 use crate::error::Result;
@@ -234,7 +234,6 @@ fn describe(
     };
     let mut total = CompensatedSum::default();
     let mut unserved = CompensatedSum::default();
-    let mut loads = vec![CompensatedSum::default(); m];
     for i in 0..n {
         let w = weights.get(i);
         let mut f = flows[i].clone();
@@ -248,7 +247,6 @@ fn describe(
                 continue;
             }
             cost.add(x * distance(points[i], sites[j]));
-            loads[j].add(x);
             if best.is_none_or(|(_, bx)| x > bx) {
                 best = Some((j, x));
             }
@@ -270,8 +268,10 @@ fn describe(
         total.add(out.cost[i]);
         unserved.add(out.unserved[i]);
     }
+    // The loads the solve settled within the capacities, summed as it summed them.
+    let loads = site_loads(flows, m + 1);
     for j in 0..m {
-        out.load[j] = loads[j].total();
+        out.load[j] = loads[j];
         out.slack[j] = capacities[j] - out.load[j];
     }
     out.total_cost = total.total();
