@@ -146,15 +146,14 @@ def candidates_held(cf: Prepared, region: Any, pf: Prepared, points: str = "fram
 
         x, y = Transformer.from_crs(pf.work, series.crs, always_xy=True).transform(xy[:, 0], xy[:, 1])
         xy = np.column_stack([x, y])
-    # A candidate PROJ cannot bring into the region's CRS has infinite coordinates there:
-    # no region holds it, and the exact test (which refuses them) sees only the others.
-    representable = np.flatnonzero(np.isfinite(xy).all(axis=1))
-    if len(representable) == 0:
-        error = InputError(f"region holds none of the {len(xy)} candidates; every new site must lie in the region")
-        error.argument = "region"
-        raise error
-    _, rows, _ = candidates_in_region(xy[representable], geom)
-    rows = representable[rows]
+    # A candidate PROJ cannot bring into the region's CRS has infinite coordinates there,
+    # which the exact test refuses: it lies in no region, so it stands beyond the region's
+    # box instead, where the test holds it nowhere and every count stays the caller's.
+    lost = ~np.isfinite(xy).all(axis=1)
+    if lost.any():
+        west, south, east, north = geom.bounds
+        xy = np.where(lost[:, None], [2 * east - west + 1, 2 * north - south + 1], xy)
+    _, rows, _ = candidates_in_region(xy, geom)
     return cf.xy[rows], rows
 
 
