@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from typing import Any
 
-__all__ = ["check_on_earth", "check_unit", "length_unit_of", "unit_of"]
+__all__ = ["check_on_earth", "check_unit", "length_unit_of", "unit_of", "unit_words"]
 
 # By the axis unit's name as PROJ gives it, lower-cased.
 _UNIT_NAMES = {
@@ -37,6 +37,19 @@ def unit_of(crs: Any) -> str:
     axes = crs.axis_info
     name = (axes[0].unit_name if axes else "").strip().lower()
     return _UNIT_NAMES.get(name, "".join(ch for ch in name if ch.isalnum()) or "u")
+
+
+def unit_words(unit: str) -> str:
+    """A length unit as a sentence writes it: the unnamed default ``"u"`` (planar input
+    without a CRS) as "coordinate units", any other as it is named.
+
+    Examples
+    --------
+    >>> from placewise._units import unit_words
+    >>> unit_words("u"), unit_words("m")
+    ('coordinate units', 'm')
+    """
+    return "coordinate units" if unit == "u" else unit
 
 
 def check_unit(unit: Any, argument: str = "unit") -> str:

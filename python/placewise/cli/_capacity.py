@@ -7,13 +7,13 @@ import argparse
 from collections.abc import Callable
 from typing import Any
 
+from .._units import unit_words
 from ._io import (
     UserError,
     _common,
     _measure,
     _note,
     _progress,
-    _unit_text,
     _write_summary,
     read_points,
     write_frame,
@@ -36,7 +36,7 @@ def _cmd_capacity_allocation(args: argparse.Namespace) -> None:
     s = plan.summary
     cost, unit = _measure(s, "cost")
     text = (f"{len(plan.demand)} row(s) served by {len(plan.sites)} site(s); total weighted distance "
-            f"{float(s[cost].iloc[0]):.6g} (weight x {_unit_text(unit)}); "
+            f"{float(s[cost].iloc[0]):.6g} (weight x {unit_words(unit)}); "
             f"{int(s['split_points'].iloc[0])} row(s) split between sites; unserved {float(s['unserved'].iloc[0]):.6g}")
     if args.single_source:
         gap = float(s["relative_gap"].iloc[0])
@@ -65,7 +65,7 @@ def _cmd_capacity_cells(args: argparse.Namespace) -> None:
     s = plan.summary
     cost, unit = _measure(s, "cost")
     _note(args, f"{len(plan.cells)} cell(s) holding {len(plan.demand)} row(s); total weighted squared distance "
-                f"{float(s[cost].iloc[0]):.6g} (weight x {_unit_text(unit[:-1])} squared); "
+                f"{float(s[cost].iloc[0]):.6g} (weight x {unit_words(unit[:-1])} squared); "
                 f"{int(s['split_points'].iloc[0])} row(s) split between sites")
 
 

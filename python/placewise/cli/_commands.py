@@ -8,6 +8,7 @@ from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
+from .._units import unit_words
 from . import _capacity
 from ._coverage import add_place_options, place_options
 from ._io import (
@@ -21,7 +22,6 @@ from ._io import (
     _progress,
     _skipped,
     _solved,
-    _unit_text,
     _write_summary,
     read_points,
     write_frame,
@@ -47,7 +47,7 @@ def _cmd_weber_point(args: argparse.Namespace) -> None:
     write_frame(out, args.output, args, "weber_point")
     cost, unit = _measure(out, "cost")
     _note(args, f"{_solved(out)} site(s); total weighted distance {out[cost].sum():.6g} "
-                f"(weight x {_unit_text(unit)}){_skipped(args, out)}")
+                f"(weight x {unit_words(unit)}){_skipped(args, out)}")
 
 
 def _cmd_minimax_point(args: argparse.Namespace) -> None:
@@ -60,7 +60,7 @@ def _cmd_minimax_point(args: argparse.Namespace) -> None:
     write_frame(out, args.output, args, "minimax_point")
     radius, unit = _measure(out, "weighted_radius")
     _note(args, f"{_solved(out)} site(s); largest weighted distance {out[radius].max():.6g} "
-                f"(weight x {_unit_text(unit)}){_skipped(args, out)}")
+                f"(weight x {unit_words(unit)}){_skipped(args, out)}")
 
 
 def _cmd_enclosing_circle(args: argparse.Namespace) -> None:
@@ -70,7 +70,7 @@ def _cmd_enclosing_circle(args: argparse.Namespace) -> None:
     out = gis.enclosing_circle(frame, **_by(args), **_common(args), **_site_watch(args, frame, {}))
     write_frame(out, args.output, args, "circles")
     radius, unit = _measure(out, "radius")
-    _note(args, f"{_solved(out)} circle(s); largest radius {out[radius].max():.6g} {_unit_text(unit)}"
+    _note(args, f"{_solved(out)} circle(s); largest radius {out[radius].max():.6g} {unit_words(unit)}"
                 f"{_skipped(args, out)}")
 
 
@@ -80,7 +80,7 @@ def _cmd_enclosing_ellipse(args: argparse.Namespace) -> None:
     out = gis.enclosing_ellipse(read_points(args.input, args), tol=args.tol, **_by(args), **_common(args))
     write_frame(out, args.output, args, "ellipses")
     area, unit = _measure(out, "area")
-    _note(args, f"{_solved(out)} ellipse(s); total area {out[area].sum():.6g} {_unit_text(unit[:-1])} squared"
+    _note(args, f"{_solved(out)} ellipse(s); total area {out[area].sum():.6g} {unit_words(unit[:-1])} squared"
                 f"{_skipped(args, out)}")
 
 
@@ -96,7 +96,7 @@ def _cmd_voronoi_cells(args: argparse.Namespace) -> None:
                             **_progress(args))
     write_frame(out, args.output, args, "cells")
     area, unit = _measure(out, "area")
-    _note(args, f"{len(out)} cell(s); total area {out[area].sum():.6g} {_unit_text(unit[:-1])} squared")
+    _note(args, f"{len(out)} cell(s); total area {out[area].sum():.6g} {unit_words(unit[:-1])} squared")
 
 
 def _cmd_delaunay(args: argparse.Namespace) -> None:
@@ -106,7 +106,7 @@ def _cmd_delaunay(args: argparse.Namespace) -> None:
                        **_progress(args))
     write_frame(out, args.output, args, "triangles")
     area, unit = _measure(out, "area")
-    _note(args, f"{_solved(out)} triangle(s); total area {out[area].sum():.6g} {_unit_text(unit[:-1])} squared"
+    _note(args, f"{_solved(out)} triangle(s); total area {out[area].sum():.6g} {unit_words(unit[:-1])} squared"
                 f"{_skipped(args, out)}")
 
 
@@ -122,19 +122,19 @@ def _cmd_nearest_site(args: argparse.Namespace) -> None:
     _write_summary(plan.summary, args)
     cost, unit = _measure(plan.summary, "cost")
     _note(args, f"{len(plan.demand)} row(s) assigned to {len(plan.sites)} site(s); total weighted distance "
-                f"{plan.summary[cost].sum():.6g} (weight x {_unit_text(unit)})")
+                f"{plan.summary[cost].sum():.6g} (weight x {unit_words(unit)})")
 
 
 def _network_note(args: argparse.Namespace, net: Any) -> None:
     s = net.summary
     length, unit = _measure(s, "length")
-    text = f"{_solved(net.edges)} edge(s); length {s[length].sum():.6g} {_unit_text(unit)}"
+    text = f"{_solved(net.edges)} edge(s); length {s[length].sum():.6g} {unit_words(unit)}"
     if "optimal" in s.columns:  # a Steiner tree (a spanning tree's summary has no proof column)
         mst, _ = _measure(s, "mst_length")
         total, reference = float(s[length].sum()), float(s[mst].sum())
         saving = 1.0 - total / reference if reference > 0 else 0.0
         text = (f"{_solved(net.edges)} edge(s), {int(s['junctions'].sum())} junction(s); length {total:.6g} "
-                f"{_unit_text(unit)} against minimum spanning tree {reference:.6g} {_unit_text(unit)}: "
+                f"{unit_words(unit)} against minimum spanning tree {reference:.6g} {unit_words(unit)}: "
                 f"saving {100 * saving:.2f} %"
                 + ("" if bool(s["optimal"].fillna(False).all()) else " (not proven optimal)"))
     _note(args, text + _skipped(args, s))
@@ -183,12 +183,12 @@ def _plan_command(kind: str, args: argparse.Namespace) -> None:
     if kind == "median":
         cost, unit = _measure(plan.summary, "cost")
         _note(args, f"{_solved(plan.sites)} site(s); total weighted distance {plan.summary[cost].sum():.6g} "
-                    f"(weight x {_unit_text(unit)}){_skipped(args, plan.summary)}")
+                    f"(weight x {unit_words(unit)}){_skipped(args, plan.summary)}")
     else:
         # Chosen among candidates, the objective is the discrete p-center's weighted_worst.
         radius, unit = _measure(plan.summary, "weighted_radius" if args.candidates is None else "weighted_worst")
         _note(args, f"{_solved(plan.sites)} site(s); largest weighted distance {plan.summary[radius].max():.6g} "
-                    f"(weight x {_unit_text(unit)}){_skipped(args, plan.summary)}")
+                    f"(weight x {unit_words(unit)}){_skipped(args, plan.summary)}")
 
 
 def _cmd_demo(args: argparse.Namespace) -> None:

@@ -7,6 +7,7 @@ import argparse
 from collections.abc import Callable
 from typing import Any
 
+from .._units import unit_words
 from ._io import (
     _common,
     _measure,
@@ -14,7 +15,6 @@ from ._io import (
     _positive_float,
     _positive_int,
     _progress,
-    _unit_text,
     _write_summary,
     read_points,
     write_frame,
@@ -55,7 +55,7 @@ def _coverage_text(s: Any) -> str:
     """Covered weight and share, uncovered rows and the radius, with its unit."""
     radius, unit = _measure(s, "radius")
     return (f"{100 * float(s['covered_share'].iloc[0]):.2f} % of the weight ({float(s['covered_load'].iloc[0]):.6g} "
-            f"of {float(s['load'].iloc[0]):.6g}) within {float(s[radius].iloc[0]):.6g} {_unit_text(unit)}; "
+            f"of {float(s['load'].iloc[0]):.6g}) within {float(s[radius].iloc[0]):.6g} {unit_words(unit)}; "
             f"{int(s['uncovered_points'].iloc[0])} row(s) uncovered")
 
 
@@ -108,8 +108,8 @@ def _cmd_evaluate_sites(args: argparse.Namespace) -> None:
     cost, unit = _measure(s, "cost")
     worst, _ = _measure(s, "worst_cost")
     text = (f"{len(plan.sites)} site(s) serve {len(plan.demand)} row(s); total weighted distance "
-            f"{float(s[cost].iloc[0]):.6g} (weight x {_unit_text(unit)}), farthest row {float(s[worst].iloc[0]):.6g} "
-            f"{_unit_text(unit)}")
+            f"{float(s[cost].iloc[0]):.6g} (weight x {unit_words(unit)}), farthest row {float(s[worst].iloc[0]):.6g} "
+            f"{unit_words(unit)}")
     _note(args, text + ("; " + _coverage_text(s) if args.radius is not None else ""))
 
 

@@ -399,10 +399,6 @@ def _measure(frame: Any, prefix: str) -> tuple[str, str]:
     return name, str(name)[len(prefix) + 1:]
 
 
-def _unit_text(unit: str) -> str:
-    return "coordinate units" if unit == "u" else unit
-
-
 def _skipped(args: argparse.Namespace, frame: Any) -> str:
     if "problem" not in frame.columns:
         return ""

@@ -14,7 +14,7 @@ from .. import _core
 from .._core import InputError
 from .._errors import in_unit, restate
 from .._progress import Stages
-from .._units import check_unit, length_unit_of
+from .._units import check_unit, length_unit_of, unit_words
 from ._inputs import (
     _MODELS,
     _frame_lines,
@@ -235,11 +235,10 @@ class TravelGraph:
         cost_unit = unit if unit is not None else (length_unit if cost is None else "u")
         graph = cls(core, unit=cost_unit, length_unit=length_unit, crs=crs, row_labels=labels)
         if tolerance == 0 and graph.components > 1:
-            in_unit = "coordinate units" if length_unit == "u" else length_unit
             warnings.warn(
                 f"the lines form {graph.components} separate components and {graph.dangling_ends} line ends "
                 f"meet no other line end; with tolerance=0 only ends with equal coordinates join (pass "
-                f"tolerance= to join ends closer than a distance, in {in_unit})",
+                f"tolerance= to join ends closer than a distance, in {unit_words(length_unit)})",
                 UserWarning, stacklevel=2)
         return graph
 
