@@ -41,6 +41,13 @@ def _reference(lines, points, one_way=None, cost=None):
                      for g, n in zip(geoms, length)], axis=1)
     line = np.argmin(dist, axis=1)
     gap = dist[np.arange(len(points)), line]
+    # Lines drawn along one shape (equal point for point, either way: a two-way street as two
+    # one-way records) all carry a point attached to that shape; it is named by the lowest
+    # row of them.
+    coords = [np.asarray(x, float) for x in lines]
+    same = np.array([[a.shape == b.shape and (np.array_equal(a, b) or np.array_equal(a, b[::-1]))
+                      and e[0] != e[1] for b in coords] for a, e in zip(coords, ends)]) | np.eye(len(lines), dtype=bool)
+    line = np.array([np.flatnonzero(same[r])[0] if same[r].any() else r for r in line], dtype=int)
     at = shapely.line_locate_point(np.array(geoms, dtype=object)[line], pts)
     first_point_node = len(node_of)
     n = first_point_node + len(points)
@@ -53,7 +60,10 @@ def _reference(lines, points, one_way=None, cost=None):
             dense[b, a] = min(dense[b, a], c_bwd)
 
     for row, (tail, head) in enumerate(ends):
-        on = sorted((at[i], first_point_node + i) for i in np.flatnonzero(line == row))
+        # Positions along this row: along its shape's lowest row, read backwards when drawn
+        # the other way.
+        on = sorted((at[i] if np.array_equal(coords[row], coords[line[i]]) else length[row] - at[i],
+                     first_point_node + i) for i in np.flatnonzero(same[row, line]))
         stops = [(0.0, tail), *on, (length[row], head)]
         for (s0, u), (s1, v) in zip(stops, stops[1:]):
             share = (s1 - s0) / length[row] if length[row] > 0 else 0.0
@@ -85,6 +95,9 @@ def _awkward_network(seed):
     one_way.append(0)
     lines.append(np.array([[20.0, 20.0], [25, 20], [25, 25], [20.0, 20.0]]))  # a ring
     one_way.append(0)
+    street = np.array([[30.0, 70.0], [45.0, 72.0], [60.0, 70.0]])    # a two-way street as two
+    lines += [street, street[::-1].copy()]                           # one-way records, one
+    one_way += [1, 1]                                                # each way
     lines.append(np.array([[200.0, 200.0], [230.0, 200.0]]))         # far away, alone
     one_way.append(0)
     return lines, np.array(one_way)
@@ -253,9 +266,9 @@ def test_reach_covers_every_place_scipy_finds_within_the_limit(seed):
     limit = 30.0
     pieces = g.reach(sites, limit)
     rng = np.random.default_rng(seed)
-    rows = rng.integers(0, len(lines), 300)
+    rows = rng.integers(0, len(lines), 1000)
     places = shapely.get_coordinates(shapely.line_interpolate_point(
-        [shapely.LineString(lines[r]) for r in rows], rng.uniform(0, 1, 300), normalized=True))
+        [shapely.LineString(lines[r]) for r in rows], rng.uniform(0, 1, 1000), normalized=True))
     expected, _, _ = _reference(lines, np.vstack([sites, places]), one_way)
     shapes = pieces._geometry()
     for s in range(3):
@@ -356,6 +369,40 @@ def test_geodesic_pieces_have_the_geodesic_length_of_their_costs():
     # the geodesic lengths of its parts add up only to about 1e-9 of their length.)
     np.testing.assert_allclose(lengths(around), [300.0, 300.0], rtol=1e-7)
     assert np.allclose(around.coords[around.offsets[1]], a.on_edge[0], rtol=0, atol=1e-12)
+
+
+def test_a_street_drawn_as_two_one_way_records_is_travelled_both_ways_from_a_point_on_it():
+    # A two-way street drawn as two one-way records over the same line, one each way, and a
+    # side street at its west end. Closed form (lengths along the axes): from (7, 1) to the
+    # side street's end (0, 5) is 7 west then 5 north, 12; to (2, 0.5) on the street, 5. The
+    # point lay on the eastbound record only and was routed east and back (18 and 15).
+    street = np.array([[0.0, 0.0], [10.0, 0.0]])
+    lines = [street, street[::-1].copy(), np.array([[0.0, 0.0], [0.0, 5.0]])]
+    g = pw.TravelGraph.from_lines(lines, one_way=[1, 1, 0])
+    points = np.array([[7.0, 1.0], [3.0, -1.0]])
+    targets = np.array([[0.0, 5.0], [10.0, 0.0], [2.0, 0.5]])
+    np.testing.assert_allclose(g.costs(points, targets), [[12.0, 3.0, 5.0], [8.0, 7.0, 1.0]], rtol=1e-12)
+    np.testing.assert_allclose(g.costs(targets, points), [[12.0, 8.0], [3.0, 7.0], [5.0, 1.0]], rtol=1e-12)
+    # Both points lie on the street's shape: named by its lowest row, measured along it.
+    a = g.snap(points)
+    np.testing.assert_array_equal(a.edge, [0, 0])
+    np.testing.assert_allclose(a.along, [7.0, 3.0], rtol=1e-12)
+    # The independent graph built from the lines (scipy.sparse.csgraph.dijkstra) agrees.
+    expected, line, _ = _reference(lines, np.vstack([points, targets]), one_way=[1, 1, 0])
+    np.testing.assert_allclose(g.costs(points, targets), expected[:2, 2:], rtol=1e-12)
+    # A site on the street serves both ways: (3, -1) serves (7, 1) at 4 and (0, 5) at 8.
+    c = g.nearest_site(np.array([[7.0, 1.0], [0.0, 5.0]]), np.array([[3.0, -1.0]]))
+    np.testing.assert_allclose(c.cost, [4.0, 8.0], rtol=1e-12)
+    # Reach 4 from (3, -1): 4 east and 3 west on each record (both drawn along the street),
+    # 1 up the side street. Each piece's cost is its distance from the site, both ends.
+    r = g.reach(np.array([[3.0, -1.0]]), 4.0)
+    shapes = r._geometry()
+    length = shapely.length(shapes)
+    assert length.sum() == pytest.approx(2 * 7.0 + 1.0, rel=1e-12)
+    for shape, start, end in zip(shapes, r.cost_start, r.cost_end):
+        first, last = shapely.get_coordinates(shape)[[0, -1]]
+        for place, cost in ((first, start), (last, end)):
+            assert cost == pytest.approx(abs(place[0] - 3.0) + place[1], abs=1e-12)
 
 
 def test_lon_lat_points_attach_to_the_geodesically_nearest_street():

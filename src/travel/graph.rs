@@ -4,8 +4,10 @@
 //! Memory (invariant, see [`TravelGraph::memory_bytes`]): 12 bytes per directed arc (head
 //! `u32`, cost `f64`), 24 bytes per edge (tail, head `u32`; cost forward and backward
 //! `f64`), 8 bytes per node (arc offset and component `u32`), plus the edge shapes (a copy of
-//! the input coordinates) when the graph has geometry.
+//! the input coordinates) when the graph has geometry, and 24 more bytes per edge when some
+//! shape is drawn by more than one edge ([`Twins`]).
 
+use super::twins::Twins;
 use crate::error::{Error, Result};
 use crate::geometry::{distance, Point};
 use crate::network::union_find::UnionFind;
@@ -110,6 +112,8 @@ pub struct TravelGraph {
     /// Whether coordinates are longitude/latitude (degrees) and lengths geodesic metres on
     /// the WGS84 ellipsoid.
     pub(crate) geodesic: bool,
+    /// Edges drawn along one shape, and the cheapest costs along each shape.
+    pub(crate) twins: Twins,
 }
 
 pub(crate) fn check_cost(argument: &'static str, row: usize, value: f64) -> Result<()> {
@@ -305,7 +309,7 @@ impl TravelGraph {
             *c = number[root];
         }
         let dangling = degree.iter().filter(|&&d| d == 1).count();
-        Ok(TravelGraph {
+        let mut graph = TravelGraph {
             nodes,
             tail,
             head,
@@ -320,7 +324,10 @@ impl TravelGraph {
             dangling,
             source_line: Vec::new(),
             geodesic: false,
-        })
+            twins: Twins::default(),
+        };
+        graph.twins = Twins::find(&graph);
+        Ok(graph)
     }
 
     /// The input row of every edge when the lines were split where they cross
@@ -444,7 +451,8 @@ impl TravelGraph {
             + self.arc_cost.len() * 8
             + (self.tail.len() + self.head.len()) * 4
             + (self.forward.len() + self.backward.len()) * 8
-            + (self.first.len() + self.component.len()) * 4;
+            + (self.first.len() + self.component.len()) * 4
+            + self.twins.memory_bytes();
         let shapes = match &self.shapes {
             Shapes::None => 0,
             Shapes::Straight(c) => c.len() * 16,

@@ -14,7 +14,8 @@
 //! - [`catchment_pieces`], [`reach`] (`pieces`): edges cut where catchments meet, and the
 //!   parts of the network within a cost of each site.
 //!
-//! Costs along an edge are in proportion to length (uniform speed along each edge). Costs
+//! A point on a shape drawn by several edges (a two-way street as two one-way records) lies
+//! on all of them (`twins`). Costs along an edge are in proportion to length (uniform speed along each edge). Costs
 //! are never summed with the off-network gap: the gap is reported for the caller to judge.
 
 mod build;
@@ -25,6 +26,7 @@ mod lonlat;
 mod pieces;
 mod search;
 mod snap;
+mod twins;
 
 #[cfg(test)]
 mod tests;

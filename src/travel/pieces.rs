@@ -59,7 +59,8 @@ impl Linear {
 
 /// The linear costs along edge `e` given node costs and labels and the sites on the edge.
 fn linears(graph: &TravelGraph, e: usize, tail: (f64, u32), head: (f64, u32), on_edge: &[(u32, f64)]) -> Vec<Linear> {
-    let (cf, cb) = (graph.forward[e], graph.backward[e]);
+    // A place on the edge is reached along any edge drawn along its shape ([`super::twins`]).
+    let (cf, cb) = graph.along_costs(e);
     let mut out = Vec::with_capacity(2 + 2 * on_edge.len());
     if cf.is_finite() && tail.0.is_finite() {
         out.push(Linear { site: tail.1, lo: 0.0, hi: 1.0, c0: tail.0, slope: cf });
@@ -204,10 +205,13 @@ fn sites_by_edge(sites: &[Spot]) -> Vec<(u32, u32, f64)> {
     out
 }
 
-fn on(by_edge: &[(u32, u32, f64)], e: u32) -> Vec<(u32, f64)> {
-    let lo = by_edge.partition_point(|x| x.0 < e);
-    let hi = by_edge.partition_point(|x| x.0 <= e);
-    by_edge[lo..hi].iter().map(|x| (x.1, x.2)).collect()
+/// The sites on edge `e` with their fractions along it: those on its shape's representative
+/// edge ([`super::twins`]), read backwards when `e` is drawn the other way.
+fn on(graph: &TravelGraph, by_edge: &[(u32, u32, f64)], e: u32) -> Vec<(u32, f64)> {
+    let (r, reversed) = graph.shape_edge(e);
+    let lo = by_edge.partition_point(|x| x.0 < r);
+    let hi = by_edge.partition_point(|x| x.0 <= r);
+    by_edge[lo..hi].iter().map(|x| (x.1, if reversed { 1.0 - x.2 } else { x.2 })).collect()
 }
 
 /// Every edge cut where the catchments of two sites meet: each piece is reached cheapest
@@ -222,7 +226,7 @@ pub fn catchment_pieces(graph: &TravelGraph, sites: &[Spot], limit: Option<f64>)
         .with_min_len(4096)
         .flat_map_iter(|e| {
             let (a, b) = (graph.tail[e] as usize, graph.head[e] as usize);
-            let fs = linears(graph, e, (dist[a], site[a]), (dist[b], site[b]), &on(&by_edge, e as u32));
+            let fs = linears(graph, e, (dist[a], site[a]), (dist[b], site[b]), &on(graph, &by_edge, e as u32));
             let mut out = Vec::new();
             envelope(e as u32, &fs, limit, &mut out);
             out
@@ -267,6 +271,13 @@ pub fn reach(graph: &TravelGraph, sites: &[Spot], limit: f64) -> Result<Pieces> 
                     .collect();
                 let own = match spot {
                     Spot::OnEdge { edge, fraction } => {
+                        // The site lies on every edge drawn along its edge's shape.
+                        let t = graph.tail[edge as usize] as usize;
+                        edges.extend(
+                            incident[first[t] as usize..first[t + 1] as usize]
+                                .iter()
+                                .filter(|&&x| graph.shape_edge(x).0 == edge),
+                        );
                         edges.push(edge);
                         Some((edge, fraction))
                     }
@@ -277,7 +288,15 @@ pub fn reach(graph: &TravelGraph, sites: &[Spot], limit: f64) -> Result<Pieces> 
                 let mut out = Vec::new();
                 for e in edges {
                     let (a, b) = (graph.tail[e as usize] as usize, graph.head[e as usize] as usize);
-                    let here: Vec<(u32, f64)> = own.filter(|o| o.0 == e).map(|o| (s as u32, o.1)).into_iter().collect();
+                    let here: Vec<(u32, f64)> = own
+                        .and_then(|(edge, fraction)| match graph.shape_edge(e) {
+                            (r, reversed) if r == edge => {
+                                Some((s as u32, if reversed { 1.0 - fraction } else { fraction }))
+                            }
+                            _ => None,
+                        })
+                        .into_iter()
+                        .collect();
                     let fs = linears(graph, e as usize, (ws.dist[a], s as u32), (ws.dist[b], s as u32), &here);
                     envelope(e, &fs, limit, &mut out);
                 }

@@ -57,7 +57,7 @@ impl TravelGraph {
     }
 
     /// The ends of `spot`'s edge that travel may use, each with the cost of the part of the
-    /// edge between it and the spot. On the way out (`outward`) the forward direction leads
+    /// edge between it and the spot (the cheapest of the edges drawn along its shape). On the way out (`outward`) the forward direction leads
     /// to the head and the backward one to the tail; on the way in the forward direction
     /// comes from the tail and the backward one from the head. Forward first, then backward.
     fn links(&self, spot: Spot, outward: bool) -> Links {
@@ -72,11 +72,14 @@ impl TravelGraph {
                     if outward { (self.head[e], to_head) } else { (self.tail[e], to_tail) };
                 let (backward_end, backward_share) =
                     if outward { (self.tail[e], to_tail) } else { (self.head[e], to_head) };
-                if self.forward[e].is_finite() {
-                    out.push(forward_end, forward_share * self.forward[e]);
+                // Over every edge drawn along the spot's shape (a spot lies on the shape's
+                // representative edge).
+                let (forward, backward) = self.along_costs(e);
+                if forward.is_finite() {
+                    out.push(forward_end, forward_share * forward);
                 }
-                if self.backward[e].is_finite() {
-                    out.push(backward_end, backward_share * self.backward[e]);
+                if backward.is_finite() {
+                    out.push(backward_end, backward_share * backward);
                 }
             }
         }
@@ -88,11 +91,11 @@ impl TravelGraph {
     pub(crate) fn direct(&self, from: Spot, to: Spot) -> Option<f64> {
         match (from, to) {
             (Spot::OnEdge { edge: a, fraction: s }, Spot::OnEdge { edge: b, fraction: t }) if a == b => {
-                let e = a as usize;
-                if t >= s && self.forward[e].is_finite() {
-                    Some((t - s) * self.forward[e])
-                } else if t <= s && self.backward[e].is_finite() {
-                    Some((s - t) * self.backward[e])
+                let (forward, backward) = self.along_costs(a as usize);
+                if t >= s && forward.is_finite() {
+                    Some((t - s) * forward)
+                } else if t <= s && backward.is_finite() {
+                    Some((s - t) * backward)
                 } else {
                     None
                 }

@@ -31,7 +31,7 @@ pub enum Spot {
 pub struct Snap {
     /// Where travel starts or ends.
     pub spot: Spot,
-    /// The edge the point went to.
+    /// The edge the point went to (of edges drawn along one shape, the lowest-numbered).
     pub edge: u32,
     /// Length along the edge's shape from its tail to the attachment point.
     pub along: f64,
@@ -327,7 +327,8 @@ impl<'g> SegmentIndex<'g> {
         (t, seen.distance)
     }
 
-    /// Attach one point: the nearest segment (ties: the lowest segment number). On a
+    /// Attach one point: the nearest segment (ties: the lowest segment number), on the
+    /// lowest-numbered edge drawn along that segment's shape. On a
     /// geodesic graph the segments nearest in the local frame, up to its distortion
     /// ([`SegmentIndex::widening`]), are compared by geodesic distance.
     pub fn snap(&self, point: Point) -> Snap {
@@ -408,6 +409,12 @@ impl<'g> SegmentIndex<'g> {
         let g = self.graph;
         let along = g.path_length(&pts[..=k as usize]) + g.path_length(&[pts[k as usize], on_edge]);
         let (length, gap) = (g.path_length(pts), g.path_length(&[point, on_edge]));
+        // A point on a shape that several edges draw lies on the shape's representative edge,
+        // measured along that edge's direction ([`super::twins`]).
+        let (edge, along) = match g.shape_edge(edge) {
+            (r, true) => (r, length - along),
+            (r, false) => (r, along),
+        };
         let spot = if along <= 0.0 || length <= 0.0 {
             Spot::Node(self.graph.tail[edge as usize])
         } else if along >= length {

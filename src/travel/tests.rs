@@ -122,6 +122,64 @@ fn one_way_edge_is_travelled_one_way_only() {
 }
 
 #[test]
+fn edges_drawn_along_one_shape_carry_a_point_on_it_both_ways() {
+    // Nodes (0, 0), (10, 0), (0, 5). Edge 0 runs 0 -> 1 one way, edge 1 runs 1 -> 0 one way
+    // along the same segment (a two-way street as two one-way records), edge 2 joins 0 and 2
+    // both ways, edge 3 is a faster lane 0 -> 1 (cost 4) on the same segment again.
+    // Closed form: from (7, 0) east to node 1 costs 0.3 of the cheapest eastbound edge (4),
+    // west to node 0 0.7 of the westbound edge (10), then 5 to node 2.
+    let xy = [[0.0, 0.0], [10.0, 0.0], [0.0, 5.0]];
+    let g = TravelGraph::from_edges(
+        &[0, 1, 0, 0],
+        &[1, 0, 2, 1],
+        &[10.0, 10.0, 5.0, 4.0],
+        None,
+        Some(&[1, 1, 0, 1]),
+        None,
+        Some(&xy),
+    )
+    .unwrap();
+    let snaps = snap_points(&g, &[[7.0, 1.0], [3.0, -1.0]], "points", None).unwrap();
+    // Both on the shape's lowest edge, measured along it.
+    assert_eq!(snaps[0].spot, Spot::OnEdge { edge: 0, fraction: 0.7 });
+    assert_eq!(snaps[1].spot, Spot::OnEdge { edge: 0, fraction: 0.3 });
+    let spots: Vec<Spot> = snaps.iter().map(|s| s.spot).collect();
+    let to = [Spot::Node(1), Spot::Node(2), spots[1]];
+    let rows = travel_costs(&g, &spots[..1], &to, &CostOptions::default()).unwrap();
+    let expected = [0.3 * 4.0, 0.7 * 10.0 + 5.0, 0.4 * 10.0];
+    for (got, want) in rows.costs.iter().zip(expected) {
+        assert!((got - want).abs() < 1e-12, "{:?} against {expected:?}", rows.costs);
+    }
+    // From (3, 0) east to (7, 0): 0.4 of the faster lane.
+    let rows = travel_costs(&g, &spots[1..], &spots[..1], &CostOptions::default()).unwrap();
+    assert!((rows.costs[0] - 0.4 * 4.0).abs() < 1e-12);
+    // Against Floyd–Warshall through the nodes (spot_cost, which leaves and arrives by the
+    // same shape costs): equal.
+    let all = floyd(&g);
+    for &from in &spots {
+        for &dest in &to {
+            let rows = travel_costs(&g, &[from], &[dest], &CostOptions::default()).unwrap();
+            assert!((rows.costs[0] - spot_cost(&g, &all, from, dest)).abs() < 1e-12);
+        }
+    }
+    // Catchments: the site at (3, 0) serves every place of the street, at its distance by
+    // the cheapest edge each way.
+    let pieces = catchment_pieces(&g, &spots[1..], None).unwrap();
+    for p in &pieces.pieces {
+        assert_eq!(p.site, 0);
+        if p.edge != 2 {
+            // x along the street of a share of edge `p.edge` (edge 1 is drawn from x = 10).
+            let x = |share: f64| if p.edge == 1 { 10.0 * (1.0 - share) } else { 10.0 * share };
+            let cost = |x: f64| if x >= 3.0 { (x - 3.0) * 0.4 } else { 3.0 - x };
+            assert!((p.cost_start - cost(x(p.start))).abs() < 1e-9, "{p:?}");
+            assert!((p.cost_end - cost(x(p.end))).abs() < 1e-9, "{p:?}");
+        }
+    }
+    let street: f64 = pieces.pieces.iter().filter(|p| p.edge != 2).map(|p| (p.end - p.start) * 10.0).sum::<f64>() / 3.0;
+    assert!((street - 10.0).abs() < 1e-9, "each of the three edges of the street is covered once: {street}");
+}
+
+#[test]
 fn separate_components_are_found_and_unreachable_pairs_absent() {
     let g = TravelGraph::from_edges(&[0, 2], &[1, 3], &[1.0, 1.0], None, None, Some(5), None).unwrap();
     assert_eq!(g.component_count(), 3); // {0,1}, {2,3}, {4}

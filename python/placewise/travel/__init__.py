@@ -7,7 +7,10 @@ edge arrays (:meth:`TravelGraph.from_edges`) — with a cost each way on every e
 default, or a column such as travel time, shared among a MultiLineString's parts by length)
 and one-way edges. Points are attached to the
 nearest point of the nearest edge and travel starts and ends part-way along edges, in the
-directions the edges allow.
+directions the edges allow. A line drawn by several rows (a two-way street given as two one-way
+records, one each way, or a lane repeated with another cost) carries a point on it along every
+one of them: it is reported on the lowest of those rows, and travel part-way along the line
+costs the cheapest of them in each direction.
 
 * :meth:`TravelGraph.costs` — the travel-cost matrix between origins and destinations
   (Dijkstra 1959, parallel over origins), dense or sparse with a ``limit`` or ``k``;
