@@ -222,6 +222,30 @@ def test_cover_all_lonlat_with_an_existing_site_checked_with_geodesics():
     assert (slon[new] > 11.0).all() and int(plan.summary["chosen"].iloc[0]) == new.sum() >= 1
 
 
+@pytest.mark.parametrize("work_crs", [None, "EPSG:32618", "EPSG:2263"])
+def test_a_lonlat_radius_is_metres_whatever_the_working_unit(work_crs):
+    # Five homes along a street in New York, 0.0071 degrees of longitude apart: 599.6 m by
+    # pyproj.Geod. Closed form: with spacing s <= r < 2 s a disk holds at most three
+    # consecutive homes, so two sites cover five; with r < s / 2 each home needs its own.
+    # EPSG:2263 (New York State Plane) measures in US survey feet, where 700 was read as
+    # 700 ft (213 m): five sites instead of two.
+    lon = -73.98 + 0.0071 * np.arange(5)
+    homes = gpd.GeoDataFrame(geometry=gpd.points_from_xy(lon, np.full(5, 40.75)), crs="EPSG:4326")
+    _, _, spacing = GEOD.inv(lon[:-1], np.full(4, 40.75), lon[1:], np.full(4, 40.75))
+    assert 599 < spacing.min() <= spacing.max() < 600  # pyproj.Geod
+    for radius, sites in ((700.0, 2), (290.0, 5)):
+        plan = gis.cover_all(homes, radius, candidates=homes, work_crs=work_crs)
+        assert int(plan.summary["sites"].iloc[0]) == sites
+        most = gis.cover_most(homes, 1, radius, candidates=homes, work_crs=work_crs)
+        assert float(most.summary["covered_share"].iloc[0]) == pytest.approx(3 / 5 if sites == 2 else 1 / 5)
+        now = gis.evaluate_sites(homes, homes.iloc[[2]], radius=radius, work_crs=work_crs)
+        assert float(now.summary["covered_share"].iloc[0]) == pytest.approx(3 / 5 if sites == 2 else 1 / 5)
+    # The radius column states the standard in the working unit: 700 m in feet there.
+    unit = "usft" if work_crs == "EPSG:2263" else "m"
+    stated = float(plan.summary[f"radius_{unit}"].iloc[0])
+    assert stated == pytest.approx(290.0 / (1200 / 3937) if unit == "usft" else 290.0, rel=1e-9)
+
+
 def test_cover_most_anywhere_with_more_sites_than_needed():
     # Two houses 1 apart and an old clinic far off; 4 new sites anywhere within 1.5: one covers
     # both houses (closed form), and the rest could cover nothing more, so none is placed.

@@ -80,6 +80,17 @@ class Prepared:
     def unit(self) -> str:
         return "m" if self.frames is not None or self.ellipsoid else unit_of(self.work)
 
+    def from_metres(self, length: float) -> float:
+        """A length the caller gives in metres for geographic input, in the working CRS's
+        unit (``length`` itself for projected or planar input, whose lengths are in their own
+        unit, and on the ellipsoid). A working CRS in feet gets feet (a ``work_crs`` such as a
+        US State Plane zone)."""
+        if self.crs is None or self.work is None or self.ellipsoid or not CRS(self.crs).is_geographic:
+            return length
+        axes = CRS(self.work).axis_info
+        per_unit = axes[0].unit_conversion_factor if axes else 1.0
+        return length / per_unit
+
     @property
     def rows(self) -> np.ndarray:
         """The frame's index labels, by row position."""

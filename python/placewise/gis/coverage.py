@@ -217,9 +217,10 @@ def cover_all(
     frame : GeoDataFrame or GeoSeries of demand points
     radius : float
         The coverage standard: **metres** for geographic (longitude/latitude) input, which
-        is solved in a projected working frame (its UTM zone; see :mod:`placewise.gis`),
-        and the CRS's own unit otherwise (the coordinates' unit with ``planar=True``).
-        Finite and above zero.
+        is solved in a projected working frame (its UTM zone; see :mod:`placewise.gis`;
+        with a ``work_crs`` in another unit, such as US survey feet, the radius is converted
+        to it and the ``radius_<unit>`` column states it there), and the CRS's own unit
+        otherwise (the coordinates' unit with ``planar=True``). Finite and above zero.
     weight : str, Series or array_like, optional
         Demand weight column, for the loads and the covered weight: its name, a Series
         matched to the rows by index label, or one value per row by position (as in
@@ -289,6 +290,7 @@ def cover_all(
     cf, ff = companions.get("candidates"), companions.get("fixed")
     where, existing, rows = _sites_offered(cf, ff)
     refuse_geometry_before(pf, radius=True)
+    radius = pf.from_metres(radius)
     try:
         result = call(_pw.cover_all, pf.xy, radius, measured_in=pf.unit, rows={**_rows(pf), **rows, "radius": pf.rows},
                       weights=weights(pf, weight, "frame"), candidates=where, fixed=existing,
@@ -363,6 +365,7 @@ def cover_most(
     cf, ff = companions.get("candidates"), companions.get("fixed")
     where, existing, rows = _sites_offered(cf, ff)
     refuse_geometry_before(pf, radius=True)
+    radius = pf.from_metres(radius)
     result = call(_pw.cover_most, pf.xy, p, radius, weights(pf, weight, "frame"), measured_in=pf.unit,
                   rows={**_rows(pf), **rows},
                   candidates=where, fixed=existing, time_limit=time_limit, progress=progress)
@@ -414,6 +417,8 @@ def evaluate_sites(
                                       **model)
     sf = companions["sites"]
     refuse_geometry_before(pf, radius=radius is not None)
+    if radius is not None:
+        radius = pf.from_metres(radius)
     result = call(_pw.evaluate_sites, pf.xy, sf.xy, weights(pf, weight, "frame"), radius=radius, measured_in=pf.unit,
                   rows={**_rows(pf), "sites": sf.rows})
     sources = Sources()
