@@ -350,3 +350,22 @@ def test_gis_enclosing_circle_and_minimax_across_the_antimeridian():
     mm = gis.minimax_point(f)
     assert mm["weighted_radius_m"].iloc[0] == pytest.approx(circle["radius_m"].iloc[0], rel=1e-9)
     assert mm["work_crs"].iloc[0] == "WGS84 ellipsoid"
+
+
+def test_a_skipped_group_has_no_relative_gap_rather_than_a_proven_zero():
+    # A group spread over the whole equator has no geodesic median here (refused, skipped):
+    # its cost and gap are NaN, so its relative gap is NaN too (NaN / NaN), never the 0.0
+    # that reads as proven optimal. The other group answers as a call of its own does.
+    points = np.array([[0, 0], [90, 0], [180, 0], [-90, 0], [10, 50], [11, 51], [12, 50]], float)
+    groups = [1, 1, 1, 1, 2, 2, 2]
+    for solve in (pw.geodesic.weber_point, pw.geodesic.minimax_point):
+        table = solve(points, groups=groups, errors="skip").to_frame()
+        assert isinstance(table["problem"].iloc[0], str) and np.isnan(table["relative_gap"].iloc[0])
+        alone = solve(points[4:]).to_frame()
+        assert table["relative_gap"].iloc[1] == alone["relative_gap"].iloc[0]
+    planar = pw.weber_point(np.array([[np.nan, 0], [1, 1], [2, 0], [0, 2], [3, 3]]), groups=[1, 1, 2, 2, 2],
+                            errors="skip")
+    assert np.isnan(planar.relative_gap[0]) and np.isnan(planar.to_frame()["relative_gap"].iloc[0])
+    # A group met exactly (every point at one place) keeps its proven 0.
+    met = pw.weber_point(np.array([[1.0, 1.0]] * 3 + [[0, 0], [2, 0], [0, 2]]), groups=[1, 1, 1, 2, 2, 2])
+    assert met.relative_gap[0] == 0.0

@@ -244,7 +244,9 @@ class _CenterTable:
         radius = _one(self.weighted_radius).astype(np.float64)
         gap = _one(self.gap).astype(np.float64)
         with np.errstate(divide="ignore", invalid="ignore"):
-            relative = np.where(radius > 0, gap / np.where(radius > 0, radius, 1.0), 0.0)
+            # A group without an answer (skipped) has no gap either: NaN, never 0 ("proven").
+            met = np.where(np.isnan(radius) | np.isnan(gap), np.nan, 0.0)
+            relative = np.where(radius > 0, gap / np.where(radius > 0, radius, 1.0), met)
         return {**_xy(self.location), self._u("weighted_radius"): radius, self._u("gap"): gap,
                 "relative_gap": relative, "iterations": _one(self.iterations), "converged": _one(self.converged)}
 

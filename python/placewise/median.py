@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import dataclasses
+import math
 from typing import Any, Literal, overload
 
 import numpy as np
@@ -72,7 +73,10 @@ class WeberPoint(Result):
 
     @property
     def relative_gap(self) -> float:
-        return self.gap / self.cost if self.cost > 0 else 0.0
+        if self.cost > 0:
+            return self.gap / self.cost
+        # No answer (a skipped group): no gap either; else a zero cost is met exactly.
+        return math.nan if math.isnan(self.cost) or math.isnan(self.gap) else 0.0
 
     def _columns(self) -> dict[str, Any]:
         return {
@@ -142,7 +146,9 @@ class WeberPoints(Grouped):
     @property
     def relative_gap(self) -> np.ndarray:
         with np.errstate(divide="ignore", invalid="ignore"):
-            return np.where(self.cost > 0, self.gap / np.where(self.cost > 0, self.cost, 1.0), 0.0)
+            # A group without an answer (skipped) has no gap either: NaN, never 0 ("proven").
+            met = np.where(np.isnan(self.cost) | np.isnan(self.gap), np.nan, 0.0)
+            return np.where(self.cost > 0, self.gap / np.where(self.cost > 0, self.cost, 1.0), met)
 
     def _item(self, position: int) -> WeberPoint:
         return WeberPoint(
