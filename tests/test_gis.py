@@ -197,6 +197,25 @@ def test_degrees_in_a_projected_crs_warning_points_at_the_callers_line():
         assert len(said) == 1 and said[0].filename == __file__, [(w.filename, w.lineno) for w in said]
 
 
+@pytest.mark.parametrize("crs", ["EPSG:3857", "EPSG:3035"])
+def test_degrees_spanning_a_continent_in_a_projected_crs_are_said(crs):
+    # Lisbon, Paris, Berlin, Warsaw and Madrid in lon/lat labelled as metres: 1,100 to
+    # 2,900 km apart by pyproj.Geod, read as 56 "m" of cost. The warning was given only for
+    # data spanning under 10 units; the same cities projected to the CRS by pyproj are not
+    # questioned.
+    lon, lat = [-9.1, 2.35, 13.4, 21.0, -3.7], [38.7, 48.85, 52.5, 52.2, 40.4]
+    frame = gpd.GeoDataFrame(geometry=gpd.points_from_xy(lon, lat), crs=crs)
+    with pytest.warns(UserWarning, match="if these are degrees"):
+        gis.enclosing_circle(frame)
+    _, _, far = pyproj.Geod(ellps="WGS84").inv(lon[0], lat[0], lon[3], lat[3])
+    assert far > 2.5e6  # pyproj.Geod: Lisbon to Warsaw, so "56 m" cannot be metres
+    true = gpd.GeoDataFrame(geometry=gpd.points_from_xy(lon, lat), crs="EPSG:4326").to_crs(crs)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        gis.enclosing_circle(true)
+    assert not [w for w in caught if "if these are degrees" in str(w.message)]
+
+
 def test_a_chosen_work_crs_that_distorts_lonlat_data_is_said():
     # Longitude/latitude input at 60-61° N with work_crs Web Mercator: its scale factor is
     # sec(latitude), so distances there are up to sec(61°) - 1 = 106 % long (closed form).

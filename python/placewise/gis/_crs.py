@@ -101,10 +101,14 @@ def _wgs84_lonlat(frame: Any, name: str, centroids: bool) -> np.ndarray:
 
 
 def _warn_degrees_in_projected(frame: Any, xy: np.ndarray, name: str, crs: Any) -> None:
-    """A projected frame whose coordinates all look like degrees is probably mislabelled."""
+    """A projected frame whose coordinates all look like degrees is probably mislabelled.
+
+    At any span: projected data within ±180 / ±90 of a CRS's origin is a site a few hundred
+    units across at that origin (for most CRSs far out at sea or off the zone), while degrees
+    that span a country or a continent are the common form of this mistake."""
     if len(xy) >= 3 and np.all(np.abs(xy[:, 0]) <= 180) and np.all(np.abs(xy[:, 1]) <= 90):
         extent = float(np.ptp(xy, axis=0).max())
-        if 0 < extent < 10:
+        if extent > 0:
             import warnings
 
             warnings.warn(
