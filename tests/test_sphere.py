@@ -206,6 +206,10 @@ def test_gis_answers_global_input_on_the_sphere():
     cells = gis.voronoi_cells(frame)
     assert cells.is_valid.all() and (cells["work_crs"] == pw.geodesic.SPHERE_MODEL).all()
     assert cells["area_m2"].sum() == pytest.approx(_globe_area(), rel=1e-9)
+    # The columns the docstring promises for geographic input, as delaunay gives them on
+    # the same path (no projection, so no scale error).
+    assert (cells["scale_error"] == 0.0).all()
+    assert (gis.delaunay(frame)["scale_error"] == 0.0).all()
     # A region: its densified edges (0.01°) bound the cells; pyproj.Geod on the same ring.
     region = shapely.box(-100, -60, 120, 70)
     clipped = gis.voronoi_cells(frame, region)

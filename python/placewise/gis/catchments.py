@@ -78,6 +78,7 @@ def _sphere_cells(pf: Prepared, region: Any, progress: Any) -> Any:
                            crs=pf.crs)
     out["area_m2"] = area
     out["work_crs"] = SPHERE_MODEL
+    out["scale_error"] = 0.0  # no projection: the cells are drawn and measured on the ellipsoid
     return out
 
 
