@@ -157,3 +157,43 @@ def test_property_never_anything_but_answer_or_input_error(kernel: str, points: 
         KERNELS[kernel](points)
     except pw.InputError as error:
         well_written(error)
+
+
+# Every function that takes ``errors=`` (found by its signature, so a new one joins) refuses
+# anything but the two documented values, with or without groups: a misspelt value passed
+# unnoticed on the ungrouped path until the data gained groups.
+def _takes_errors() -> list[tuple[str, Callable[..., Any]]]:
+    import inspect
+
+    from placewise import gis
+
+    found = []
+    for module in (pw, pw.geodesic, gis):
+        for name in module.__all__:
+            f = getattr(module, name)
+            if callable(f) and name[0].islower() and "errors" in inspect.signature(f).parameters:
+                found.append((f"{module.__name__}.{name}", f))
+    return found
+
+
+@pytest.mark.parametrize("name, function", _takes_errors(), ids=[n for n, _ in _takes_errors()])
+@pytest.mark.parametrize("errors", ["ignore", "Skip", None, 1])
+def test_errors_other_than_raise_or_skip_are_refused_without_groups(name: str, function: Callable[..., Any],
+                                                                     errors: Any) -> None:
+    gpd = pytest.importorskip("geopandas")
+    points = np.array([[0.0, 0.0], [3.0, 1.0], [1.0, 4.0], [2.0, 2.0], [5.0, 3.0]])
+    if name.startswith("placewise.gis."):
+        frame = gpd.GeoDataFrame({"power": np.zeros(5)}, geometry=gpd.points_from_xy(*points.T))
+        first = {"power_cells": (frame, "power"), "nearest_site": (frame, frame.iloc[:2])}
+        args: tuple[Any, ...] = first.get(name.rsplit(".", 1)[1], (frame,))
+        options: dict[str, Any] = {"planar": True}
+    else:
+        if name.startswith("placewise.geodesic."):
+            points = points + [10.0, 50.0]
+        first = {"power_cells": (points, np.zeros(5)), "nearest_site": (points, points[:2])}
+        args = first.get(name.rsplit(".", 1)[1], (points,))
+        options = {}
+    if name.rsplit(".", 1)[1] in ("p_median", "p_center"):
+        args = (*args, 2)
+    with pytest.raises(pw.InputError, match='errors must be "raise" or "skip"'):
+        function(*args, errors=errors, **options)

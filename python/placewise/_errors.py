@@ -18,7 +18,7 @@ import numpy as np
 
 from ._core import DegenerateInputError, InputError
 
-__all__ = ["in_unit", "labelled", "plain", "refuse", "restate", "restate_problems"]
+__all__ = ["check_errors", "in_unit", "labelled", "plain", "refuse", "restate", "restate_problems"]
 
 
 def refuse(argument: str, text: str) -> NoReturn:
@@ -26,6 +26,24 @@ def refuse(argument: str, text: str) -> NoReturn:
     error = InputError(text)
     error.argument = argument
     raise error
+
+
+def check_errors(errors: Any) -> None:
+    """Refuse an ``errors=`` other than "raise" or "skip" on every path of a function that
+    takes it, grouped or not (a misspelt "skipp" would otherwise pass unnoticed until the
+    data gained groups).
+
+    Examples
+    --------
+    >>> from placewise._errors import check_errors
+    >>> check_errors("skip")
+    >>> check_errors("ignore")
+    Traceback (most recent call last):
+        ...
+    placewise.InputError: errors must be "raise" or "skip"; got 'ignore'
+    """
+    if not (isinstance(errors, str) and errors in ("raise", "skip")):
+        refuse("errors", f'errors must be "raise" or "skip"; got {errors!r}')
 
 
 def plain(value: Any) -> Any:

@@ -42,6 +42,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from . import _core
+from ._errors import check_errors
 from ._results import Grouped, Result, as_points
 from ._sphere import (
     SPHERE_MODEL,
@@ -222,6 +223,7 @@ def weber_point(
     ...
     placewise.DegenerateInputError: points: the points reach ...
     """
+    check_errors(errors)
     if groups is None:
         return WeberPoint(**_core.geodesic_weber_single(points, weights, tol, max_iter, time_limit, progress),
                           unit="m")
@@ -382,6 +384,7 @@ def minimax_point(
     >>> bool(abs(r.weighted_radius - d / 2) < 1e-6), bool(r.converged)
     (True, True)
     """
+    check_errors(errors)
     if groups is None:
         return GeodesicCenter(**_core.geodesic_minimax_single(points, weights, tol, max_iter, time_limit, progress),
                               unit="m")
@@ -528,6 +531,7 @@ def enclosing_circle(
     >>> c.to_geodataframe(crs="EPSG:4326").geometry.iloc[0].geom_type   # split at ±180°
     'MultiPolygon'
     """
+    check_errors(errors)
     if groups is None:
         return GeodesicCircle(**_core.geodesic_circle_single(points, tol, max_iter, time_limit, progress), unit="m")
     fields = _core.geodesic_circle_grouped(points, groups, tol, max_iter, errors, time_limit, progress)
@@ -584,6 +588,7 @@ def nearest_site(
     >>> a.assignment.tolist(), round(float(a.distance[0]) / 1000, 3)
     ([0, 0], 111.319)
     """
+    check_errors(errors)
     if groups is None and site_groups is None:
         return Allocation(**_core.geodesic_nearest_single(points, sites, weights, progress),
                           points=as_points(points), sites=as_points(sites), unit="m")

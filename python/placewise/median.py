@@ -10,6 +10,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from . import _core
+from ._errors import check_errors
 from ._region import draw_region, region_rings
 from ._results import Grouped, Result
 
@@ -348,6 +349,7 @@ def weber_point(
     """
     vertices, offsets = region_rings(region)
     shown = None if vertices is None else (vertices, offsets)
+    check_errors(errors)
     if groups is None:
         return WeberPoint(**_core.weber_point_single(points, weights, metric, tol, max_iter, vertices, offsets),
                           region=shown)

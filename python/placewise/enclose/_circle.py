@@ -9,6 +9,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .. import _core
+from .._errors import check_errors
 from .._results import Grouped, Result
 from ._shapes import _GroupedWithSupport, _one, _Outlined, _plot_enclosing, _shown, _xy
 
@@ -176,6 +177,7 @@ def enclosing_circle(
     minimax_point : the weighted form (the site minimising the largest weighted distance).
     enclosing_ellipse : the smallest covering ellipse.
     """
+    check_errors(errors)
     if groups is None:
         return Circle(**_core.enclosing_circle_single(points, seed))
     fields = _core.enclosing_circle_grouped(points, groups, seed, errors)

@@ -9,6 +9,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .. import _core
+from .._errors import check_errors
 from .._results import Grouped, Result
 from ._shapes import _GroupedWithSupport, _one, _Outlined, _plot_enclosing, _shown, _xy
 
@@ -221,6 +222,7 @@ def enclosing_ellipse(
     --------
     enclosing_circle : the smallest covering circle.
     """
+    check_errors(errors)
     if groups is None:
         return Ellipse(**_core.enclosing_ellipse_single(points, tol))
     fields = _core.enclosing_ellipse_grouped(points, groups, tol, errors)

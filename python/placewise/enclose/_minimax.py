@@ -9,6 +9,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .. import _core
+from .._errors import check_errors
 from .._region import region_rings
 from .._results import Grouped, Result
 from ._shapes import _geometries, _GroupedWithSupport, _one, _plot_enclosing, _shown, _xy
@@ -255,6 +256,7 @@ def minimax_point(
     """
     vertices, offsets = region_rings(region)
     shown = None if vertices is None else (vertices, offsets)
+    check_errors(errors)
     if groups is None:
         return MinimaxPoint(**_core.minimax_point_single(points, weights, vertices, offsets), region=shown)
     fields = _core.minimax_point_grouped(points, weights, groups, errors, vertices, offsets)

@@ -24,7 +24,7 @@ except ImportError:  # pragma: no cover - exercised only without the extra
     raise ImportError("placewise.gis needs geopandas and pyproj: pip install 'placewise[geo]'") from None
 
 from .._core import InputError
-from .._errors import labelled, refuse, restate, restate_problems
+from .._errors import check_errors, labelled, refuse, restate, restate_problems
 from .._units import check_on_earth, unit_of
 from ._columns import Groups, _points_of, as_frame, column, groups_of
 from ._crs import (
@@ -321,6 +321,7 @@ def solve_points(obj: Any, name: str, kernel: Callable[..., Any], sphere: Callab
     prepared, kernel = plane_or_sphere(obj, name, kernel, sphere, planar=planar, centroids=centroids,
                                        work_crs=work_crs, max_scale_error=max_scale_error, by=by)
     rows = {"points": prepared.rows}
+    check_errors(errors)  # also without groups, where it is not passed on
     grouped = {} if prepared.groups is None else {"errors": errors}
     result = call(kernel, prepared.xy, groups=prepared.groups, rows=rows, measured_in=prepared.unit, **grouped,
                   **options)

@@ -21,7 +21,7 @@ except ImportError:  # pragma: no cover - exercised only without the extra
 import placewise as _pw
 
 from .._core import InputError
-from .._errors import refuse
+from .._errors import check_errors, refuse
 from .._progress import Stages
 from .._sphere import SPHERE_MODEL
 from ._columns import groups_of
@@ -212,6 +212,7 @@ def voronoi_cells(
     geom = region_geometry(region, pf)
     groups = groups_of(pf.frame, by, "sites")
     rows = {"sites": pf.rows}
+    check_errors(errors)  # also without groups, where it is not passed on
     grouped = {} if groups is None else {"errors": errors}
     stages = Stages(progress, 1 if demand is None else 2)
     result = call(_pw.voronoi_cells, pf.xy, geom, groups=groups, rows=rows, measured_in=pf.unit,
@@ -288,6 +289,7 @@ def power_cells(
     geom = region_geometry(region, pf)
     groups = groups_of(pf.frame, by, "sites")
     rows = {"sites": pf.rows, "powers": pf.rows}
+    check_errors(errors)  # also without groups, where it is not passed on
     grouped = {} if groups is None else {"errors": errors}
     result = call(_pw.power_cells, pf.xy, powers, geom, groups=groups, rows=rows, measured_in=pf.unit,
                   **grouped)

@@ -11,7 +11,7 @@ import placewise as _pw
 from placewise import geodesic as _geodesic
 
 from .._core import InputError
-from .._errors import plain
+from .._errors import check_errors, plain
 from ._columns import groups_of, shared_groups
 from ._crs import MAX_SCALE_ERROR
 from ._frames import (
@@ -135,6 +135,7 @@ def nearest_site(
     rows = {"points": df.rows, "weights": df.rows, "sites": sf.rows}
     w = weights(df, weight, "demand")
     groups = None
+    check_errors(errors)
     if by is None:
         result = call(kernel, df.xy, sf.xy, w, rows=rows, measured_in=sf.unit, progress=progress)
     else:
@@ -192,6 +193,7 @@ def _plan(kind: str, frame: Any, p: int, weight: Any, by: str | None, planar: bo
                     "would serve nobody; drop them or add their demand"
                 )
             options["fixed_groups"] = codes
+    check_errors(errors)  # also without groups, where it is not passed on
     grouped = {} if groups is None else {"errors": errors}
     kernel = _pw.p_median if kind == "median" else _pw.p_center
     refuse_geometry_named(pf.frame, _demand_columns(pf, options.get("capacities") is not None), "frame")

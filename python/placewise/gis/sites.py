@@ -9,6 +9,7 @@ import placewise as _pw
 from placewise import geodesic as _geodesic
 
 from .._core import DegenerateInputError, InputError
+from .._errors import check_errors
 from ._crs import MAX_SCALE_ERROR
 from ._frames import call, framed, goes_on_ellipsoid, on_earth_only, prepare, weights
 from ._together import prepare_together, region_geometry
@@ -34,6 +35,7 @@ def _one_per_group(kernel: Any, frame: Any, weight: Any, by: str | None, planar:
         kernel = on_earth
     groups = pf.groups
     rows = {"points": pf.rows, "weights": pf.rows}
+    check_errors(errors)  # also without groups, where it is not passed on
     grouped = {} if groups is None else {"errors": errors}
     arguments = (pf.xy, weights(pf, weight, "frame")) if weighted else (pf.xy,)
     try:

@@ -10,7 +10,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .. import _core
-from .._errors import refuse
+from .._errors import check_errors, refuse
 from .._region import region_rings
 from .._results import as_points
 from ._forms import _on_candidates
@@ -352,6 +352,7 @@ def p_center(
                               errors=errors, fixed_groups=fixed_groups)
     vertices, offsets = region_rings(region)
     shown = None if vertices is None else (vertices, offsets)
+    check_errors(errors)
     if groups is None:
         if fixed_groups is not None:
             refuse("fixed_groups", "fixed_groups is given without groups: it names the group each fixed site serves")

@@ -10,6 +10,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .. import _core
+from .._errors import check_errors
 from .._region import region_rings
 from .._results import as_points
 from ..capacity import CapacitatedMedianPlan
@@ -393,6 +394,7 @@ def p_median(
                               errors=errors, fixed_groups=fixed_groups)
     vertices, offsets = region_rings(region)
     shown = None if vertices is None else (vertices, offsets)
+    check_errors(errors)
     if groups is None:
         if fixed_groups is not None:
             error = _core.InputError("fixed_groups is given without groups: it names the group each fixed site serves")

@@ -10,6 +10,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .. import _core
+from .._errors import check_errors
 from .._results import Grouped, Result, _require_pandas, as_points
 from ._edges import _edge_groups, _Edges, _group_summary, _plot, _summary_columns
 
@@ -190,6 +191,7 @@ def spanning_tree(
     --------
     steiner_tree : shorter networks with added junctions.
     """
+    check_errors(errors)
     if groups is None:
         return SpanningTree(**_core.spanning_tree_single(points, progress), points=as_points(points))
     fields = _core.spanning_tree_grouped(points, groups, errors, progress)

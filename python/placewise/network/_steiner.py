@@ -10,6 +10,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .. import _core
+from .._errors import check_errors
 from .._results import Grouped, Result, _require_pandas, as_points
 from ._edges import _edge_groups, _group_summary, _plot, _SteinerEdges, _summary_columns
 
@@ -302,6 +303,7 @@ def steiner_tree(
     spanning_tree : the network without junctions.
     weber_point : the best single junction for all sites.
     """
+    check_errors(errors)
     if groups is None:
         fields = _core.steiner_tree_single(points, exact, seed, time_limit, progress)
         return SteinerTree(**fields, points=as_points(points))

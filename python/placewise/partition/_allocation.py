@@ -11,6 +11,7 @@ from numpy.typing import ArrayLike
 
 from .. import _core
 from .._core import InputError
+from .._errors import check_errors
 from .._results import Grouped, Result, _require_pandas, as_points
 from ._rows import _members
 
@@ -298,6 +299,7 @@ def nearest_site(
     --------
     voronoi_cells : the catchment of each site as a region.
     """
+    check_errors(errors)
     if groups is None or site_groups is None:
         if groups is not None or site_groups is not None:
             raise InputError("groups and site_groups must be given together (labels of the points and of the sites)")

@@ -10,6 +10,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .. import _core
+from .._errors import check_errors
 from .._results import Grouped, Result, as_points
 from ._rows import _group_slice, _members
 
@@ -246,6 +247,7 @@ def delaunay(
     --------
     voronoi_cells : the dual subdivision, clipped to a region.
     """
+    check_errors(errors)
     if groups is None:
         return DelaunayMesh(**_core.delaunay_single(points, progress), points=as_points(points))
     return DelaunayMeshes._from_core(_core.delaunay_grouped(points, groups, errors, progress),

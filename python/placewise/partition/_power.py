@@ -9,6 +9,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .. import _core
+from .._errors import check_errors
 from .._region import region_rings
 from .._results import Grouped, Result, _require_pandas, as_points
 from ._rows import _cell_rings_of, _group_slice, _members
@@ -235,6 +236,7 @@ def power_cells(
     """
     vertices, offsets = region_rings(region)
     w = np.asarray(powers, dtype=np.float64)
+    check_errors(errors)
     if groups is None:
         fields = _core.power_cells_single(sites, w, vertices, offsets)
         return PowerCells(**fields, powers=w, sites=as_points(sites))

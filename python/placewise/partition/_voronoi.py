@@ -10,6 +10,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from .. import _core
+from .._errors import check_errors
 from .._region import region_rings
 from .._results import Grouped, Result, as_points
 from ._rows import _cell_rings_of, _members
@@ -320,6 +321,7 @@ def voronoi_cells(
     delaunay : the triangulation dual to the cells.
     """
     vertices, offsets = region_rings(region)
+    check_errors(errors)
     if groups is None:
         return VoronoiCells(**_core.voronoi_cells_single(sites, vertices, offsets, progress), sites=as_points(sites))
     fields = _core.voronoi_cells_grouped(sites, groups, vertices, offsets, errors, progress)
