@@ -864,3 +864,13 @@ def test_longitude_latitude_columns_under_a_projected_crs_are_a_question_not_a_p
     assert code == 0, err
     xy = np.array([[10.0, 50.0], [10.1, 50.0], [10.05, 50.1]])
     assert table_of(out)["cost_m"].iloc[0] == pytest.approx(weber_cost_scipy(xy, np.ones(3)), rel=1e-6)
+
+
+def test_a_metric_without_a_geodesic_form_says_how_to_use_it(tmp_path, capsys):
+    # Longitude/latitude rows with --metric manhattan: the advice names the option and reads
+    # as a sentence (the restating of "frame" once turned it into "a projected the input").
+    path = tmp_path / "towns.csv"
+    pd.DataFrame({"lon": [10.70, 10.75, 10.80], "lat": [59.90, 59.92, 59.91]}).to_csv(path, index=False)
+    code, _, err = run(["weber-point", path, "--metric", "manhattan"], capsys)
+    line = assert_user_error(code, err, "pass --work-crs (a projected CRS) to use this metric")
+    assert "the input" not in line

@@ -52,7 +52,7 @@ def _one_per_group(kernel: Any, frame: Any, weight: Any, by: str | None, planar:
 def _geodesic_weber(points: Any, weights: Any = None, *, metric: str = "euclidean", **options: Any) -> Any:
     if metric != "euclidean":
         raise InputError(f"metric={metric!r} has no geodesic form: geographic input is solved on the ellipsoid "
-                         "(geodesic distance); pass work_crs= to use a projected frame")
+                         "(geodesic distance); pass work_crs= (a projected CRS) to use this metric")
     return _geodesic.weber_point(points, weights, **options)
 
 
