@@ -714,3 +714,31 @@ def test_network_catchments_of_a_geoseries_is_a_frame_and_names_a_replaced_colum
     with pytest.warns(UserWarning, match="points: the result replaces your column 'site'"):
         again = network_catchments(graph, frame, depots)
     assert again["site"].tolist() == ["west", "east"]
+
+
+def test_a_one_way_streets_missing_reverse_cost_is_accepted_and_never_used():
+    # A reverse-cost column left empty (NaN) on one-way streets, as street data often is:
+    # it was refused by row. Closed form: (0, 0) east to (10, 0) costs 10 on the one-way
+    # street, then 5 north; the way back is not allowed (NaN, unreachable). The second row
+    # is a MultiLineString (each part a line of its own, sharing the row's costs by length).
+    gpd = pytest.importorskip("geopandas")
+    shapely = pytest.importorskip("shapely")
+    from placewise.gis.travel import travel_graph
+
+    streets = gpd.GeoDataFrame(
+        {"minutes": [10.0, 5.0, 4.0], "back": [np.nan, 6.0, np.nan], "oneway": [1, 0, -1]},
+        geometry=[shapely.LineString([(0, 0), (10, 0)]),
+                  shapely.MultiLineString([[(10, 0), (10, 2)], [(10, 2), (10, 5)]]),
+                  shapely.LineString([(0, 5), (10, 5)])], crs="EPSG:32632")
+    streets.loc[2, "back"] = 4.0          # backward only: its reverse cost is travelled ...
+    streets.loc[2, "minutes"] = np.nan    # ... and its forward one is not
+    g = travel_graph(streets, cost="minutes", reverse_cost="back", one_way="oneway", unit="min")
+    ends = np.array([[0.0, 0.0], [10.0, 5.0], [0.0, 5.0]])
+    got = g.costs(ends, ends)
+    np.testing.assert_allclose(got[0, 1], 15.0, rtol=1e-12)     # 10 + 5
+    np.testing.assert_allclose(got[1, 2], 4.0, rtol=1e-12)      # back along the third row
+    assert np.isnan(got[1, 0]) and np.isnan(got[2, 1])           # against the one-way streets
+    # Where the direction is travelled a cost must be given: refused naming the row.
+    streets.loc[1, "back"] = np.nan
+    with pytest.raises(pw.InputError, match="reverse_cost"):
+        travel_graph(streets, cost="minutes", reverse_cost="back", one_way="oneway")

@@ -7,7 +7,7 @@ use rstar::primitives::GeomWithData;
 use rstar::RTree;
 
 use super::crossings::split_at_crossings;
-use super::graph::{check_cost, polyline_length, shape_length, Shapes, TravelGraph, MAX_GRAPH_INDEX};
+use super::graph::{check_cost, polyline_length, shape_length, OneWay, Shapes, TravelGraph, MAX_GRAPH_INDEX};
 use super::lonlat::{departure, place_of, short_way, Unwrapped, MAX_DEPARTURE};
 use crate::error::{Error, Result};
 use crate::geodesic::normalised_longitude;
@@ -217,19 +217,30 @@ impl TravelGraph {
         if rows == 0 {
             return Err(Error::TooFewPoints { argument: "lines", needed: 1, got: 0, counted: "lines" });
         }
+        if let Some(o) = options.one_way {
+            if o.len() != rows {
+                return Err(Error::LengthMismatch { argument: "one_way", expected: rows, got: o.len() });
+            }
+        }
+        // As the graph checks them: only a direction the row may be travelled in needs a cost
+        // (an unknown direction code is refused by the graph, naming it).
+        let way = |row: usize| options.one_way.and_then(|o| OneWay::from_code(o[row])).unwrap_or(OneWay::Both);
+        let reverse_given = options.reverse_cost.is_some();
         for (argument, column) in [("cost", options.cost), ("reverse_cost", options.reverse_cost)] {
             if let Some(c) = column {
                 if c.len() != rows {
                     return Err(Error::LengthMismatch { argument, expected: rows, got: c.len() });
                 }
                 for (row, &value) in c.iter().enumerate() {
-                    check_cost(argument, row, value)?;
+                    let travelled = match (argument, way(row)) {
+                        ("cost", OneWay::Backward) => !reverse_given,
+                        ("reverse_cost", OneWay::Forward) => false,
+                        _ => true,
+                    };
+                    if travelled {
+                        check_cost(argument, row, value)?;
+                    }
                 }
-            }
-        }
-        if let Some(o) = options.one_way {
-            if o.len() != rows {
-                return Err(Error::LengthMismatch { argument: "one_way", expected: rows, got: o.len() });
             }
         }
         // An empty geometry (no parts) is refused as an empty line is.

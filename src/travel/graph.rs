@@ -218,14 +218,6 @@ impl TravelGraph {
         let mut forward = Vec::with_capacity(m);
         let mut backward = Vec::with_capacity(m);
         for row in 0..m {
-            check_cost("cost", row, cost[row])?;
-            let back = match reverse_cost {
-                Some(r) => {
-                    check_cost("reverse_cost", row, r[row])?;
-                    r[row]
-                }
-                None => cost[row],
-            };
             let way = match one_way {
                 Some(o) => OneWay::from_code(o[row]).ok_or_else(|| Error::InvalidEdge {
                     argument: "one_way",
@@ -237,6 +229,24 @@ impl TravelGraph {
                 })?,
                 None => OneWay::Both,
             };
+            // A cost is checked only where the edge may be travelled that way: a one-way
+            // street's column for the other way is often left empty (NaN) in data.
+            if way != OneWay::Backward {
+                check_cost("cost", row, cost[row])?;
+            }
+            let back = match reverse_cost {
+                Some(r) => {
+                    if way != OneWay::Forward {
+                        check_cost("reverse_cost", row, r[row])?;
+                    }
+                    r[row]
+                }
+                None => cost[row],
+            };
+            if way == OneWay::Backward && reverse_cost.is_none() {
+                // Backward only, priced by `cost` (no reverse column): that cost is travelled.
+                check_cost("cost", row, cost[row])?;
+            }
             // `+ 0.0` turns a cost of -0.0 (allowed: it equals 0) into +0.0: searches order
             // costs by their bits, where the sign bit put -0.0 after every positive cost.
             forward.push(if way == OneWay::Backward { f64::INFINITY } else { cost[row] + 0.0 });

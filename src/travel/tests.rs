@@ -180,6 +180,39 @@ fn edges_drawn_along_one_shape_carry_a_point_on_it_both_ways() {
 }
 
 #[test]
+fn a_cost_for_a_direction_not_travelled_may_be_missing() {
+    // Edge 0 runs 0 -> 1 only, with no reverse cost (NaN); edge 1 both ways; edge 2 runs
+    // 1 -> 0 only (backward), with no forward cost (NaN) but a reverse cost of 5.
+    let g = TravelGraph::from_edges(
+        &[0, 1, 0],
+        &[1, 2, 1],
+        &[1.0, 2.0, f64::NAN],
+        Some(&[f64::NAN, 3.0, 5.0]),
+        Some(&[1, 0, -1]),
+        None,
+        None,
+    )
+    .unwrap();
+    g.check().unwrap();
+    // Floyd–Warshall over the directions travelled: 0 -> 1 costs 1, 1 -> 0 costs 5.
+    let all = floyd(&g);
+    assert_eq!((all[0][1], all[1][0], all[2][0]), (1.0, 5.0, 8.0));
+    // Where the direction is travelled the cost must be given: named by row.
+    for (cost, reverse, way, argument) in [
+        ([f64::NAN, 2.0], [1.0, 3.0], [0, 0], "cost"),
+        ([1.0, 2.0], [f64::NAN, 3.0], [-1, 0], "reverse_cost"),
+        ([f64::NAN, 2.0], [1.0, 3.0], [1, 0], "cost"),
+    ] {
+        match TravelGraph::from_edges(&[0, 1], &[1, 2], &cost, Some(&reverse), Some(&way), None, None) {
+            Err(crate::error::Error::InvalidEdge { argument: a, row: 0, .. }) => assert_eq!(a, argument),
+            other => panic!("{other:?}"),
+        }
+    }
+    // Backward only without a reverse column: `cost` prices the travelled direction.
+    assert!(TravelGraph::from_edges(&[0], &[1], &[f64::NAN], None, Some(&[-1]), None, None).is_err());
+}
+
+#[test]
 fn separate_components_are_found_and_unreachable_pairs_absent() {
     let g = TravelGraph::from_edges(&[0, 2], &[1, 3], &[1.0, 1.0], None, None, Some(5), None).unwrap();
     assert_eq!(g.component_count(), 3); // {0,1}, {2,3}, {4}

@@ -73,9 +73,12 @@ class TravelGraph:
         tail, head : array_like of int, shape (m,)
             Node numbers from 0.
         cost : array_like, shape (m,)
-            Finite, non-negative cost from tail to head.
+            Finite, non-negative cost from tail to head. Only the directions an edge may be
+            travelled need a cost: it may be NaN on an edge travelled backward only (when
+            ``reverse_cost`` is given).
         reverse_cost : array_like, shape (m,), optional
-            Cost from head to tail. Default: ``cost``.
+            Cost from head to tail. Default: ``cost``. It may be NaN on an edge travelled
+            forward only (a one-way street's empty reverse column).
         one_way : array_like, shape (m,), optional
             True / 1 / ``"forward"``: tail to head only; -1 / ``"backward"``: head to tail
             only; False / 0 / ``"both"``: both ways.
@@ -90,8 +93,8 @@ class TravelGraph:
         Raises
         ------
         InputError
-            Naming the row of a node number out of range, a NaN, infinite or negative cost or
-            an unknown one-way value.
+            Naming the row of a node number out of range, a NaN, infinite or negative cost
+            for a direction the edge may be travelled, or an unknown one-way value.
 
         Examples
         --------
@@ -132,7 +135,8 @@ class TravelGraph:
             GeoDataFrame or GeoSeries in a geographic CRS).
         cost, reverse_cost : array_like or str, optional
             Cost per row each way (a column name for a GeoDataFrame), such as minutes.
-            Default: length (planar, or geodesic metres).
+            Default: length (planar, or geodesic metres). As in :meth:`from_edges`, a
+            direction the row's ``one_way`` forbids may have no cost (NaN).
         one_way : array_like or str, optional
             As :meth:`from_edges`, relative to the drawing direction of each line (of each
             part of a MultiLineString).
