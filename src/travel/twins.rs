@@ -75,8 +75,7 @@ impl Twins {
             return Twins::default();
         }
         let mut along: Vec<(f64, f64)> = (0..m).map(|e| (graph.forward[e], graph.backward[e])).collect();
-        for e in 0..m {
-            let (r, reversed) = of[e];
+        for (e, &(r, reversed)) in of.iter().enumerate() {
             let r = r as usize;
             if r != e {
                 let (f, b) = if reversed {
@@ -87,8 +86,7 @@ impl Twins {
                 along[r] = (along[r].0.min(f), along[r].1.min(b));
             }
         }
-        for e in 0..m {
-            let (r, reversed) = of[e];
+        for (e, &(r, reversed)) in of.iter().enumerate() {
             let (f, b) = along[r as usize];
             along[e] = if reversed { (b, f) } else { (f, b) };
         }
