@@ -660,6 +660,88 @@ def test_bad_ids(tmp_path, capsys):
     assert_user_error(code, err, "empty on line 3")
 
 
+# Ids above 2**53 (64-bit keys such as H3 cells): as floating point, ...993 and ...995 would
+# both read 9007199254740992 or ...996.
+BIG_IDS = ["9007199254740993", "9007199254740995", "9007199254740997", "9007199254740999"]
+SQUARE = [(0.0, 0.0), (1.0, 0.0), (1.0, 1.0), (0.0, 1.0)]
+
+
+def _read_rows(path):
+    import csv
+
+    with open(path, newline="") as fh:
+        return list(csv.DictReader(fh))
+
+
+def _edge_ends_match_their_ids(ends, lines, where):
+    """Every named end of an edge is the input point of that id (shapely's line coordinates)."""
+    for name, line in zip(ends, lines):
+        if name in ("", None):
+            continue
+        assert name in where, name  # the id exists in the input, as the input spells it
+        assert where[name] in [tuple(c) for c in shapely.get_coordinates(line)], (name, line)
+
+
+@pytest.mark.parametrize("ids", [BIG_IDS, None], ids=["big-ids", "line-numbers"])
+def test_tree_ends_with_junctions_keep_the_ids_as_read(tmp_path, capsys, ids):
+    path = tmp_path / "square.csv"
+    path.write_text("x,y" + (",id" if ids else "") + "\n"
+                    + "".join(f"{x:g},{y:g}" + (f",{i}" if ids else "") + "\n" for (x, y), i in
+                              zip(SQUARE, ids or [None] * 4)))
+    # Reference: the input file read as text: ids as written there, or its line numbers.
+    names = [row["id"] for row in _read_rows(path)] if ids else ["2", "3", "4", "5"]
+    where = dict(zip(names, SQUARE))
+    id_flag = ["--id", "id"] if ids else []
+    out_csv = tmp_path / "edges.csv"
+    code, _, err = run(["steiner-tree", path, "--planar", "-q", *id_flag, "-o", out_csv], capsys)
+    assert code == 0, err
+    rows = _read_rows(out_csv)
+    # The unit square's Steiner tree: 4 terminal edges and one between the two junctions.
+    assert len(rows) == 5
+    assert sorted(r["end_a"] for r in rows if r["end_a"]) == sorted(names)
+    _edge_ends_match_their_ids([r["end_a"] for r in rows], shapely.from_wkt([r["wkt"] for r in rows]), where)
+    assert all(r["end_b"] == "" for r in rows) and sum(r["end_a"] == "" for r in rows) == 1
+    # GeoPackage: read with sqlite3 (a GeoPackage is an SQLite file), not through our writer's library.
+    import sqlite3
+
+    code, _, err = run(["steiner-tree", path, "--planar", "-q", *id_flag, "-o", tmp_path / "edges.gpkg"], capsys)
+    assert code == 0, err
+    with sqlite3.connect(tmp_path / "edges.gpkg") as db:
+        stored = [r[0] for r in db.execute("SELECT end_a FROM edges ORDER BY fid")]
+    assert sorted(str(v) for v in stored if v is not None) == sorted(names)
+    assert all(v is None or isinstance(v, int) for v in stored)
+    # GeoJSON (a projected CRS, so it may be written): read with the json module.
+    import json
+
+    code, _, err = run(["steiner-tree", path, "--crs", "EPSG:32632", "-q", *id_flag, "-o",
+                        tmp_path / "edges.geojson"], capsys)
+    assert code == 0, err
+    features = json.loads((tmp_path / "edges.geojson").read_text())["features"]
+    ends = [f["properties"]["end_a"] for f in features]
+    assert sorted(str(v) for v in ends if v is not None) == sorted(names)
+    assert all(v is None or isinstance(v, int) for v in ends)
+
+
+def test_triangle_corners_beside_a_skipped_group_keep_the_ids_as_read(tmp_path, capsys):
+    path = tmp_path / "groups.csv"
+    path.write_text("x,y,id,g\n0,0,9007199254740993,1\n1,0,9007199254740995,1\n0,1,9007199254740997,1\n"
+                    "5,5,9007199254740999,2\n6,6,9007199254741001,2\n7,7,9007199254741003,2\n")
+    where = {r["id"]: (float(r["x"]), float(r["y"])) for r in _read_rows(path)}  # reference: the input as text
+    out = tmp_path / "mesh.csv"
+    code, _, err = run(["delaunay", path, "--planar", "--id", "id", "--by", "g", "--errors", "skip", "-q",
+                        "-o", out], capsys)
+    assert code == 0, err
+    rows = _read_rows(out)
+    good = [r for r in rows if r["g"] == "1"]
+    assert len(good) == 1
+    corners = [good[0][c] for c in ("corner_a", "corner_b", "corner_c")]
+    assert sorted(corners) == sorted(k for k in where if where[k][0] < 2)  # three distinct input ids
+    triangle = shapely.from_wkt(good[0]["wkt"])  # shapely: the polygon's vertices are those ids' points
+    assert {tuple(c) for c in shapely.get_coordinates(triangle)} == {where[c] for c in corners}
+    skipped = [r for r in rows if r["g"] == "2"]
+    assert [r["corner_a"] for r in skipped] == [""] and skipped[0]["problem"]
+
+
 def test_delaunay_command_against_scipy(tmp_path, capsys):
     from scipy.spatial import Delaunay
 

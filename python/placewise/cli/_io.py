@@ -238,9 +238,7 @@ def write_frame(frame: Any, out: str | None, args: argparse.Namespace, layer: st
 
     import geopandas as gpd
 
-    # Label columns (a plan's sites, --id values) arrive as Python objects: give them their
-    # own dtype, so typed formats (GeoPackage, Parquet) store numbers as numbers.
-    frame = _named_index(frame).infer_objects()
+    frame = _typed(_named_index(frame))
     if out is None:
         _as_table(frame, args).to_csv(sys.stdout, index=False)
         return
@@ -273,6 +271,40 @@ def write_frame(frame: Any, out: str | None, args: argparse.Namespace, layer: st
                                 "(.gpkg keeps them)")
     except OSError as exc:
         raise UserError(f"{path}: cannot write ({exc.strerror or exc})") from None
+
+
+def _typed(frame: Any) -> Any:
+    """``frame`` with its columns of Python objects in a dtype of their own.
+
+    Label columns (a plan's sites, --id values, tree ends) arrive as Python objects: typed
+    formats (GeoPackage, Parquet) store numbers as numbers. A column of whole numbers with
+    gaps (``None``: a junction end of a tree, a row of a skipped group) becomes a nullable
+    integer column, written as the numbers read (``2``, not ``2.0``) with the gaps empty; as
+    floating point, ids above 2**53 would be rounded, and two rows could name one site.
+    """
+    import numpy as np
+    import pandas as pd
+
+    out = frame.infer_objects()
+    for position in range(frame.shape[1]):
+        column = frame.iloc[:, position]
+        if column.dtype != object:
+            continue
+        present = column[column.notna()].tolist()
+        if not present or len(present) == len(column):  # no gaps: infer_objects keeps whole numbers whole
+            continue
+        if not all(isinstance(v, (int, np.integer)) and not isinstance(v, (bool, np.bool_)) for v in present):
+            continue
+        values = [None if pd.isna(v) else int(v) for v in column.tolist()]
+        for dtype in ("Int64", "UInt64"):
+            try:
+                out.isetitem(position, pd.Series(pd.array(values, dtype=dtype), index=column.index))
+                break
+            except (OverflowError, TypeError, ValueError):
+                continue
+        else:  # beyond 64 bits: kept as the Python integers they are (CSV writes them exactly)
+            out.isetitem(position, column)
+    return out
 
 
 def _named_index(frame: Any) -> Any:
