@@ -660,6 +660,88 @@ def test_bad_ids(tmp_path, capsys):
     assert_user_error(code, err, "empty on line 3")
 
 
+# Ids above 2**53 (64-bit keys such as H3 cells): as floating point, ...993 and ...995 would
+# both read 9007199254740992 or ...996.
+BIG_IDS = ["9007199254740993", "9007199254740995", "9007199254740997", "9007199254740999"]
+SQUARE = [(0.0, 0.0), (1.0, 0.0), (1.0, 1.0), (0.0, 1.0)]
+
+
+def _read_rows(path):
+    import csv
+
+    with open(path, newline="") as fh:
+        return list(csv.DictReader(fh))
+
+
+def _edge_ends_match_their_ids(ends, lines, where):
+    """Every named end of an edge is the input point of that id (shapely's line coordinates)."""
+    for name, line in zip(ends, lines):
+        if name in ("", None):
+            continue
+        assert name in where, name  # the id exists in the input, as the input spells it
+        assert where[name] in [tuple(c) for c in shapely.get_coordinates(line)], (name, line)
+
+
+@pytest.mark.parametrize("ids", [BIG_IDS, None], ids=["big-ids", "line-numbers"])
+def test_tree_ends_with_junctions_keep_the_ids_as_read(tmp_path, capsys, ids):
+    path = tmp_path / "square.csv"
+    path.write_text("x,y" + (",id" if ids else "") + "\n"
+                    + "".join(f"{x:g},{y:g}" + (f",{i}" if ids else "") + "\n" for (x, y), i in
+                              zip(SQUARE, ids or [None] * 4)))
+    # Reference: the input file read as text: ids as written there, or its line numbers.
+    names = [row["id"] for row in _read_rows(path)] if ids else ["2", "3", "4", "5"]
+    where = dict(zip(names, SQUARE))
+    id_flag = ["--id", "id"] if ids else []
+    out_csv = tmp_path / "edges.csv"
+    code, _, err = run(["steiner-tree", path, "--planar", "-q", *id_flag, "-o", out_csv], capsys)
+    assert code == 0, err
+    rows = _read_rows(out_csv)
+    # The unit square's Steiner tree: 4 terminal edges and one between the two junctions.
+    assert len(rows) == 5
+    assert sorted(r["end_a"] for r in rows if r["end_a"]) == sorted(names)
+    _edge_ends_match_their_ids([r["end_a"] for r in rows], shapely.from_wkt([r["wkt"] for r in rows]), where)
+    assert all(r["end_b"] == "" for r in rows) and sum(r["end_a"] == "" for r in rows) == 1
+    # GeoPackage: read with sqlite3 (a GeoPackage is an SQLite file), not through our writer's library.
+    import sqlite3
+
+    code, _, err = run(["steiner-tree", path, "--planar", "-q", *id_flag, "-o", tmp_path / "edges.gpkg"], capsys)
+    assert code == 0, err
+    with sqlite3.connect(tmp_path / "edges.gpkg") as db:
+        stored = [r[0] for r in db.execute("SELECT end_a FROM edges ORDER BY fid")]
+    assert sorted(str(v) for v in stored if v is not None) == sorted(names)
+    assert all(v is None or isinstance(v, int) for v in stored)
+    # GeoJSON (a projected CRS, so it may be written): read with the json module.
+    import json
+
+    code, _, err = run(["steiner-tree", path, "--crs", "EPSG:32632", "-q", *id_flag, "-o",
+                        tmp_path / "edges.geojson"], capsys)
+    assert code == 0, err
+    features = json.loads((tmp_path / "edges.geojson").read_text())["features"]
+    ends = [f["properties"]["end_a"] for f in features]
+    assert sorted(str(v) for v in ends if v is not None) == sorted(names)
+    assert all(v is None or isinstance(v, int) for v in ends)
+
+
+def test_triangle_corners_beside_a_skipped_group_keep_the_ids_as_read(tmp_path, capsys):
+    path = tmp_path / "groups.csv"
+    path.write_text("x,y,id,g\n0,0,9007199254740993,1\n1,0,9007199254740995,1\n0,1,9007199254740997,1\n"
+                    "5,5,9007199254740999,2\n6,6,9007199254741001,2\n7,7,9007199254741003,2\n")
+    where = {r["id"]: (float(r["x"]), float(r["y"])) for r in _read_rows(path)}  # reference: the input as text
+    out = tmp_path / "mesh.csv"
+    code, _, err = run(["delaunay", path, "--planar", "--id", "id", "--by", "g", "--errors", "skip", "-q",
+                        "-o", out], capsys)
+    assert code == 0, err
+    rows = _read_rows(out)
+    good = [r for r in rows if r["g"] == "1"]
+    assert len(good) == 1
+    corners = [good[0][c] for c in ("corner_a", "corner_b", "corner_c")]
+    assert sorted(corners) == sorted(k for k in where if where[k][0] < 2)  # three distinct input ids
+    triangle = shapely.from_wkt(good[0]["wkt"])  # shapely: the polygon's vertices are those ids' points
+    assert {tuple(c) for c in shapely.get_coordinates(triangle)} == {where[c] for c in corners}
+    skipped = [r for r in rows if r["g"] == "2"]
+    assert [r["corner_a"] for r in skipped] == [""] and skipped[0]["problem"]
+
+
 def test_delaunay_command_against_scipy(tmp_path, capsys):
     from scipy.spatial import Delaunay
 
@@ -812,6 +894,136 @@ def test_readme_commands_run_as_written(tmp_path):
     import pyogrio
 
     assert sorted(pyogrio.list_layers(tmp_path / "plan.gpkg")[:, 0]) == ["assignment", "sites", "summary"]
+
+
+def _geodesic_nearest(lon, lat, site_lon, site_lat):
+    """Each point's nearest site and the margin to the second, by pyproj.Geod (WGS84 geodesics)."""
+    import pyproj
+
+    n, k = len(lon), len(site_lon)
+    _, _, d = pyproj.Geod(ellps="WGS84").inv(np.repeat(lon, k), np.repeat(lat, k), np.tile(site_lon, n),
+                                             np.tile(site_lat, n))
+    d = d.reshape(n, k)
+    ordered = np.sort(d, axis=1)
+    return d.argmin(axis=1), ordered[:, 1] - ordered[:, 0]
+
+
+def test_readme_pipeline_joins_every_town_to_its_nearest_depot(tmp_path):
+    """The README's p-median, then nearest-site on its sites layer: a town's site in the
+    assignment, in the loads file and in the plan all name the depot nearest to it."""
+    import sqlite3
+
+    commands = [c for c in readme_commands() if c.split()[1] in ("p-median", "nearest-site")]
+    assert len(commands) == 2 and "--site-loads loads.csv" in commands[1]
+    towns_csv(tmp_path)
+    env = {**os.environ, "PATH": f"{Path(sys.executable).parent}{os.pathsep}{os.environ.get('PATH', '')}"}
+    for command in commands:
+        done = subprocess.run(["bash", "-c", command], cwd=tmp_path, env=env, capture_output=True, text=True,
+                              timeout=120)
+        assert done.returncode == 0, (command, done.stderr)
+    # The plan's own site numbers read with sqlite3 (a GeoPackage is an SQLite file), by feature
+    # id, and the depots' longitude/latitude read by GDAL in the same order.
+    with sqlite3.connect(tmp_path / "plan.gpkg") as db:
+        numbers = [r[0] for r in db.execute("SELECT site FROM sites ORDER BY fid")]
+        planned = dict(db.execute("SELECT name, site FROM assignment"))
+    depots = gpd.read_file(tmp_path / "plan.gpkg", layer="sites", fid_as_index=True).sort_index()
+    nearest, margin = _geodesic_nearest(TOWNS["lon"].to_numpy(), TOWNS["lat"].to_numpy(), depots.geometry.x.to_numpy(),
+                                        depots.geometry.y.to_numpy())
+    expected = np.array(numbers)[nearest]
+    clear = margin > 1.0  # metres: a near tie may go either way in a projection
+    assert clear.sum() >= len(TOWNS) - 1
+    assigned = pd.read_csv(tmp_path / "assigned.csv")
+    assert assigned["name"].tolist() == TOWNS["name"].tolist()
+    assert (assigned["site"].to_numpy()[clear] == expected[clear]).all()
+    # The plan's assignment layer numbers the same depots the same way.
+    assert [planned[name] for name in assigned["name"]] == assigned["site"].tolist()
+    # Joined on site, every town meets its own depot's row of the loads file, which counts the
+    # towns nearest to that depot.
+    loads = pd.read_csv(tmp_path / "loads.csv")
+    assert sorted(loads["site"]) == sorted(numbers) and list(loads.columns).count("site") == 1
+    joined = assigned.merge(loads, on="site", suffixes=("", "_site"))
+    assert len(joined) == len(TOWNS)
+    np.testing.assert_allclose(joined[["lon_site", "lat_site"]].to_numpy()[clear],
+                               shapely.get_coordinates(depots.geometry.values)[nearest][clear], atol=1e-9)
+    if clear.all():  # the README's nearest-site has no --weight: a town weighs 1
+        counts = dict(zip(loads["site"], loads["points"]))
+        assert [counts[number] for number in numbers] == np.bincount(nearest, minlength=len(numbers)).tolist()
+
+
+def test_sites_with_a_site_column_of_their_own_need_site_id(tmp_path, capsys):
+    towns = towns_csv(tmp_path)
+    code, _, err = run(["p-median", towns, "-p", "2", "--weight", "people", "--id", "name", "-o",
+                        tmp_path / "plan.gpkg", "-q"], capsys)
+    assert code == 0, err
+    for command in ("nearest-site", "evaluate-sites"):
+        code, out, err = run([command, towns, "--sites", f"{tmp_path / 'plan.gpkg'}:sites", "--id", "name"], capsys)
+        assert_user_error(code, err, "column 'site' of its own", "feature ids", "--site-id site")
+        assert out == ""
+
+
+@pytest.mark.parametrize("site_id", [None, "name"])
+def test_evaluate_sites_and_nearest_site_name_the_same_sites_alike(tmp_path, capsys, site_id):
+    import csv
+
+    rng = np.random.default_rng(3)
+    demand_xy = rng.uniform(-1000, 1000, size=(40, 2))
+    homes = tmp_path / "homes.csv"
+    pd.DataFrame({"id": [f"h{k}" for k in range(40)], "x": demand_xy[:, 0], "y": demand_xy[:, 1],
+                  "w": rng.integers(1, 5, 40)}).to_csv(homes, index=False)
+    depots = tmp_path / "depots.csv"
+    depots.write_text("x,y,name\n0,0,A\n800,-900,B\n-1000,500,C\n")
+    with open(depots, newline="") as fh:  # reference: the sites file as text, its header on line 1
+        records = list(csv.DictReader(fh))
+    site_xy = np.array([[float(r["x"]), float(r["y"])] for r in records])
+    labels = [r["name"] for r in records] if site_id else [str(line) for line in range(2, 2 + len(records))]
+    d = cdist(demand_xy, site_xy)  # scipy: the nearest site by brute force
+    expected = [labels[k] for k in d.argmin(axis=1)]
+    w = pd.read_csv(homes)["w"].to_numpy()
+    named = {}
+    for command in ("evaluate-sites", "nearest-site"):
+        out, loads = tmp_path / f"{command}.csv", tmp_path / f"{command}-loads.csv"
+        code, _, err = run([command, homes, "--planar", "--weight", "w", "--id", "id", "--sites", depots,
+                            *(["--site-id", site_id] if site_id else []), "-o", out, "--site-loads", loads, "-q"],
+                           capsys)
+        assert code == 0, err
+        with open(out, newline="") as fh:
+            named[command] = [r["site"] for r in csv.DictReader(fh)]
+        assert named[command] == expected, command
+        table = pd.read_csv(loads, dtype={"site": str})
+        assert sorted(table["site"]) == sorted(labels), command
+        np.testing.assert_allclose(table.set_index("site").loc[labels, "load"],
+                                   [w[np.array(expected) == label].sum() for label in labels])
+    assert named["evaluate-sites"] == named["nearest-site"]
+
+
+def test_evaluate_sites_warns_when_it_replaces_the_inputs_site_column(tmp_path, capsys):
+    homes = tmp_path / "homes.csv"
+    # The rows' own 'site' (numbered from 0, as a plan numbers its sites) beside sites named by line.
+    homes.write_text("x,y,site\n0,1,0\n10,1,1\n")
+    depots = tmp_path / "depots.csv"
+    depots.write_text("x,y\n0,0\n10,0\n")
+    out = tmp_path / "rows.csv"
+    code, _, err = run(["evaluate-sites", homes, "--planar", "--sites", depots, "-o", out], capsys)
+    assert code == 0, err
+    assert "replaces your column 'site'" in err
+    # Reference: the sites file's line numbers (header on line 1) of the nearest depot, by hand.
+    assert pd.read_csv(out)["site"].tolist() == [2, 3]
+
+
+@pytest.mark.parametrize("sites, site_id, words", [
+    ("x,y,code\n0,0,a\n1,0,\n", "code", ["s.csv", "--site-id column 'code' is empty on line 3"]),
+    ("x,y,code\n0,0,a\n1,0,a\n", "code", ["--site-id column 'code' repeats 'a'", "line 2", "line 3"]),
+    ("x,y,code\n0,0,a\n1,0,b\n", "name", ["no column 'name' for --site-id"]),
+    ("x,y,site\n0,0,4\n1,0,5\n", None, ["column 'site' of its own", "line numbers", "--site-id site"]),
+])
+@pytest.mark.parametrize("command", ["nearest-site", "evaluate-sites"])
+def test_site_names_that_cannot_name_the_sites_are_refused(tmp_path, capsys, command, sites, site_id, words):
+    (tmp_path / "s.csv").write_text(sites)
+    (tmp_path / "d.csv").write_text("x,y\n0,1\n2,1\n")
+    argv = [command, tmp_path / "d.csv", "--planar", "--sites", tmp_path / "s.csv", "-o", tmp_path / "out.csv"]
+    code, out, err = run(argv + (["--site-id", site_id] if site_id else []), capsys)
+    assert_user_error(code, err, *words)
+    assert out == "" and not (tmp_path / "out.csv").exists()
 
 
 # ---------------------------------------------------------------- destinations checked first

@@ -109,6 +109,53 @@ def test_geojson_is_wgs84_and_standard(ran):
         assert (-29 < xy[:, 0]).all() and (xy[:, 0] < -26).all() and (45 < xy[:, 1]).all() and (xy[:, 1] < 46.5).all()
 
 
+def _geojson_layer(out, name):
+    """A GeoJSON layer read with the json module: its properties, and its geometries by shapely."""
+    import pandas as pd
+
+    features = json.loads((out / f"{name}.geojson").read_text())["features"]
+    table = pd.DataFrame([f["properties"] for f in features])
+    return table, [shapely.from_geojson(json.dumps(f["geometry"])) for f in features]
+
+
+# Layers carrying coordinate columns beside their geometry, and what those columns locate.
+COORDINATE_LAYERS = {"catchments": "the depot of the cell", "demand_ellipse": "the ellipse's centre"}
+
+
+def test_coordinate_columns_agree_with_the_geometry_in_every_file(ran):
+    import pandas as pd
+    import pyproj
+
+    out, _, _ = ran
+    to_lonlat = pyproj.Transformer.from_crs("EPSG:32626", "EPSG:4326", always_xy=True)
+    for name in LAYERS:  # no other layer has coordinate columns, in either format
+        columns = set(package(out, name).columns) | set(_geojson_layer(out, name)[0].columns)
+        found = columns & {"x", "y", "lon", "lat", "easting", "northing"}
+        assert found == ({"x", "y"} if name in COORDINATE_LAYERS else set()), (name, found)
+    for table in (pd.read_csv(out / n) for n in ("summary.csv", "catchments.csv", "network.csv")):
+        assert not set(table.columns) & {"x", "y", "lon", "lat"}
+
+    # Catchments: x, y is the cell's depot, the point of the same depot in the depots layer
+    # (GeoPackage: EPSG:32626 metres; GeoJSON: longitude, latitude), read by shapely.
+    cells, depots = package(out, "catchments"), package(out, "depots_p_median").set_index("depot")
+    where = shapely.get_coordinates(depots.loc[cells["depot"]].geometry.values)
+    np.testing.assert_allclose(cells[["x", "y"]].to_numpy(), where, rtol=0, atol=1e-6)
+    cells_json, _ = _geojson_layer(out, "catchments")
+    depots_json, points = _geojson_layer(out, "depots_p_median")
+    lonlat = dict(zip(depots_json["depot"], shapely.get_coordinates(points).tolist()))
+    np.testing.assert_allclose(cells_json[["x", "y"]].to_numpy(), [lonlat[d] for d in cells_json["depot"]],
+                               rtol=0, atol=1e-9)
+
+    # Demand ellipse: x, y is the centre, the centroid of the (point-symmetric) polygon by shapely;
+    # in GeoJSON that centre converted to longitude/latitude by pyproj.
+    ellipse = package(out, "demand_ellipse")
+    centre = shapely.get_coordinates(shapely.centroid(ellipse.geometry.values))
+    np.testing.assert_allclose(ellipse[["x", "y"]].to_numpy(), centre, rtol=0, atol=1e-3)
+    ellipse_json, _ = _geojson_layer(out, "demand_ellipse")
+    lon, lat = to_lonlat.transform(centre[:, 0], centre[:, 1])
+    np.testing.assert_allclose(ellipse_json[["x", "y"]].to_numpy(), np.column_stack([lon, lat]), rtol=0, atol=1e-7)
+
+
 def test_maps_are_real_images(ran):
     import matplotlib.image as mpimg
 

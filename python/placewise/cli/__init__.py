@@ -5,11 +5,14 @@ Shapefile, GeoParquet or GeoJSON (chosen by the file's extension), runs the func
 :mod:`placewise.gis` (one grouped call) and writes the same formats (by the extension of
 ``-o``; a GeoPackage output is a layer named after what it holds; CSV on standard output
 without ``-o``). Rows are named as the file counts them (CSV line numbers, feature ids) or by
-``--id COLUMN``. CSV coordinate columns are found by their usual spellings (``x``/``y``,
-``lon``/``lat``, ``easting``/``northing``) unless ``--x``/``--y`` name them; longitude and
-latitude mean EPSG:4326 unless ``--crs`` or ``--planar`` says otherwise. A user error -- a
-missing file, a missing column, bad values, conflicting options -- prints one plain line on
-stderr and exits with status 2; a closed output pipe ends the command quietly.
+``--id COLUMN``; the commands serving points from a ``--sites`` file name each point's site
+by the same rule (``--site-id COLUMN`` of the sites file first), in the points' ``site``
+column and the ``--site-loads`` file's ``site`` column alike. CSV coordinate columns are
+found by their usual spellings (``x``/``y``, ``lon``/``lat``, ``easting``/``northing``)
+unless ``--x``/``--y`` name them; longitude and latitude mean EPSG:4326 unless ``--crs``
+or ``--planar`` says otherwise. A user error -- a missing file, a missing column, bad
+values, conflicting options -- prints one plain line on stderr and exits with status 2; a
+closed output pipe ends the command quietly.
 
 Examples
 --------

@@ -23,7 +23,9 @@ from ._io import (
     _skipped,
     _solved,
     _write_summary,
+    add_sites_options,
     read_points,
+    read_sites,
     write_frame,
 )
 
@@ -114,7 +116,7 @@ def _cmd_nearest_site(args: argparse.Namespace) -> None:
     from .. import gis
 
     demand = read_points(args.input, args, "the demand")
-    sites = read_points(args.sites, args, "the sites", (), main=False)
+    sites = read_sites(args)
     plan = gis.nearest_site(demand, sites, args.weight, **_common(args), **_progress(args))
     write_frame(plan.demand, args.output, args, "assignment")
     if args.site_loads is not None:
@@ -223,9 +225,7 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
     p.add_argument("--demand", metavar="FILE", help="demand points; adds each cell's load and number of demand points")
     p = command("nearest-site", _cmd_nearest_site, "assign every point to its nearest site",
                 [weight, summary, watch])
-    p.add_argument("--sites", metavar="FILE", required=True, help="the sites to assign to")
-    p.add_argument("--site-loads", metavar="FILE",
-                   help="also write the sites with their load and number of demand points")
+    add_sites_options(p, "the sites to assign to", "their load and number of demand points")
     command("spanning-tree", _cmd_spanning_tree, "the Euclidean minimum spanning tree linking the points",
             [by, summary, watch])
     p = command("steiner-tree", _cmd_steiner_tree,

@@ -16,7 +16,9 @@ from ._io import (
     _positive_int,
     _progress,
     _write_summary,
+    add_sites_options,
     read_points,
+    read_sites,
     write_frame,
 )
 
@@ -98,8 +100,13 @@ def _cmd_evaluate_sites(args: argparse.Namespace) -> None:
     from .. import gis
 
     demand = read_points(args.input, args, "the demand", flags=("weight",))
-    sites = read_points(args.sites, args, "the sites", (), main=False)
-    plan = gis.evaluate_sites(demand, sites, args.weight, args.radius, **_common(args))
+    sites = read_sites(args)
+    # The demand's own 'site' column is compared with the sites' labels below, after the model
+    # (which numbers the sites from 0) has been named in the command line's terms.
+    held = demand["site"] if "site" in demand.columns else None
+    plan = gis.evaluate_sites(demand if held is None else demand.drop(columns="site"), sites, args.weight,
+                              args.radius, **_common(args))
+    plan = _named_by_label(plan, held, list(demand.columns))
     write_frame(plan.demand, args.output, args, "assignment")
     if args.site_loads is not None:
         write_frame(plan.sites, args.site_loads, args, "site_loads")
@@ -111,6 +118,31 @@ def _cmd_evaluate_sites(args: argparse.Namespace) -> None:
             f"{float(s[cost].iloc[0]):.6g} (weight x {unit_words(unit)}), farthest row {float(s[worst].iloc[0]):.6g} "
             f"{unit_words(unit)}")
     _note(args, text + ("; " + _coverage_text(s) if args.radius is not None else ""))
+
+
+def _named_by_label(plan: Any, held: Any, order: list[Any]) -> Any:
+    """An evaluation with each site named by its row label in the sites file (the model's
+    ``source_row``), as nearest-site names it, in the demand's ``site`` and the sites'
+    ``site``; a demand column ``site`` of the user's (``held``, in its place in ``order``)
+    whose values differ is replaced with a warning, as the library does for its own columns."""
+    import warnings
+
+    import pandas as pd
+
+    from ..gis._frames import same_values
+
+    label = dict(zip(plan.sites.index, plan.sites["source_row"]))
+    site = pd.Series([None if pd.isna(v) else label[v] for v in plan.demand["site"]], index=plan.demand.index,
+                     dtype=object)
+    demand = plan.demand.assign(site=site)
+    if held is not None:
+        demand = demand[order + [c for c in demand.columns if c not in order]]
+        if not same_values(held, site):
+            warnings.warn("the input: the result replaces your column 'site', whose values differ; rename it to "
+                          "keep both", UserWarning, stacklevel=2)
+    sites = plan.sites.drop(columns=["source", "source_row"])
+    sites.index = pd.Index(plan.sites["source_row"].to_numpy(dtype=object), name="site")
+    return plan._replace(demand=demand, sites=sites)
 
 
 def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> None:
@@ -135,10 +167,8 @@ def register(command: Callable[..., argparse.ArgumentParser], parents: Any) -> N
     _add_assignment(p)
     p = command("evaluate-sites", _cmd_evaluate_sites, "how today's sites serve the points: distances, loads and "
                 "coverage", [weight, summary])
-    p.add_argument("--sites", metavar="FILE", required=True, help="the sites as they are")
+    add_sites_options(p, "the sites as they are", "their load and number of points served")
     p.add_argument("--radius", type=_positive_float, help=radius_help + "; adds the coverage columns")
-    p.add_argument("--site-loads", metavar="FILE",
-                   help="also write the sites with their load and number of points served")
 
 
 def _add_assignment(p: argparse.ArgumentParser) -> None:

@@ -178,34 +178,38 @@ def _check_columns(frame: Any, path: Path, args: argparse.Namespace, flags: Sequ
         column = getattr(args, flag, None)
         if column is not None and column not in frame.columns:
             shown = ", ".join(str(c) for c in frame.columns if c != frame.geometry.name)
-            raise UserError(f"{path}: no column {column!r} for --{flag} (columns: {shown or 'none'})")
+            raise UserError(f"{path}: no column {column!r} for --{flag.replace('_', '-')} "
+                            f"(columns: {shown or 'none'})")
 
 
-def _with_ids(frame: Any, path: Path, kind: str, args: argparse.Namespace, main: bool) -> Any:
-    """Rows labelled by the --id column (required in the main input, used where present in others)."""
-    column = getattr(args, "id", None)
+def _with_ids(frame: Any, path: Path, kind: str, args: argparse.Namespace, main: bool, flag: str = "id") -> Any:
+    """Rows labelled by the column of ``flag`` (--id: required in the main input, used where
+    present in others; --site-id: required in the sites file)."""
+    column = getattr(args, flag, None)
     if column is None or (column not in frame.columns and not main):
         return frame
-    _check_columns(frame, path, args, ("id",))
+    _check_columns(frame, path, args, (flag,))
+    option = "--" + flag.replace("_", "-")
     values = frame[column]
     if values.isna().any():
         at = frame.index[int(values.isna().to_numpy().argmax())]
-        raise UserError(f"{path}: --id column {column!r} is empty on {_where(at, kind)}")
+        raise UserError(f"{path}: {option} column {column!r} is empty on {_where(at, kind)}")
     repeated = values.duplicated(keep=False).to_numpy()
     if repeated.any():
         first = values[repeated].iloc[0]
         rows = frame.index[(values == first).to_numpy()]
-        raise UserError(f"{path}: --id column {column!r} repeats {plain(first)!r} (on {_where(rows[0], kind)} and "
-                        f"{_where(rows[1], kind)}); ids must be unique")
+        raise UserError(f"{path}: {option} column {column!r} repeats {plain(first)!r} (on {_where(rows[0], kind)} "
+                        f"and {_where(rows[1], kind)}); ids must be unique")
     return frame.set_index(column)
 
 
 def read_points(path_text: str, args: argparse.Namespace, what: str = "input",
-                flags: Sequence[str] = ("weight", "by"), main: bool = True) -> Any:
+                flags: Sequence[str] = ("weight", "by"), main: bool = True, ids: str = "id") -> Any:
     """Read a GeoDataFrame from CSV, GeoPackage, Shapefile, GeoParquet or GeoJSON.
 
     Rows are labelled as the file counts them (CSV line numbers, feature ids) or by the
-    ``--id`` column, so every output and message about a row names it the user's way.
+    ``--id`` column (``ids`` names another option's column, required then), so every output
+    and message about a row names it the user's way.
     """
     path, layer = _split_layer(path_text)
     kind = _kind(path, what)
@@ -220,9 +224,48 @@ def read_points(path_text: str, args: argparse.Namespace, what: str = "input",
         if args.crs is not None and frame.crs is None:  # a file's own CRS wins; frames are reconciled later
             frame = frame.set_crs(args.crs)
     _check_columns(frame, path, args, flags)
-    args.labels[str(path)] = ("the --id values" if getattr(args, "id", None) in frame.columns
-                              else {"csv": "line numbers", "parquet": "row numbers from 0"}.get(kind, "feature ids"))
-    return _with_ids(frame, path, kind, args, main)
+    args.labels[str(path)] = (f"the --{ids.replace('_', '-')} values" if getattr(args, ids, None) in frame.columns
+                              else _LABELS.get(kind, "feature ids"))
+    return _with_ids(frame, path, kind, args, main or ids != "id", ids)
+
+
+# How a file without an --id column counts its rows.
+_LABELS = {"csv": "line numbers", "parquet": "row numbers from 0"}
+
+
+def read_sites(args: argparse.Namespace) -> Any:
+    """The ``--sites`` file of the commands that serve points from given sites, its rows
+    labelled ``site`` by one rule: the ``--site-id`` column where given, else the ``--id``
+    column where the file has it, else its CSV line numbers, feature ids or GeoParquet row
+    numbers (as any row). Every point's ``site`` and the ``--site-loads`` file's ``site``
+    column hold these labels, so the two join on ``site``.
+
+    A sites file with a ``site`` column of its own that does not label the rows (the sites
+    layer a plan writes, read without ``--site-id site``) is refused: the outputs' ``site``
+    would mean something else than the file's column of the same name.
+    """
+    site_id = getattr(args, "site_id", None)
+    frame = read_points(args.sites, args, "the sites", (), main=False, ids="site_id" if site_id else "id")
+    path, _ = _split_layer(args.sites)
+    if "site" in frame.columns:
+        how = args.labels[str(path)].removeprefix("the ")
+        raise UserError(f"{path}: has a column 'site' of its own, but the outputs' site column names these sites by "
+                        f"their {how}; to name them by that column give --site-id site, else rename it")
+    return frame.rename_axis("site")
+
+
+def add_sites_options(parser: argparse.ArgumentParser, sites: str, loads: str) -> None:
+    """``--sites``, ``--site-id`` and ``--site-loads`` of the commands that serve points from
+    given sites (see :func:`read_sites`)."""
+    parser.add_argument("--sites", metavar="FILE", required=True,
+                        help=f"{sites}; each point's site column names its site by the --site-id column, else "
+                             "the sites file's --id column where it has one, else its line number or feature id")
+    parser.add_argument("--site-id", metavar="COLUMN",
+                        help="column of the sites file naming the sites (unique values), e.g. site for the sites "
+                             "a plan writes; needed when the sites file has a column named site")
+    parser.add_argument("--site-loads", metavar="FILE",
+                        help=f"also write the sites with {loads}, each named in a site column as the points "
+                             "name it")
 
 
 def write_frame(frame: Any, out: str | None, args: argparse.Namespace, layer: str) -> None:
@@ -238,9 +281,7 @@ def write_frame(frame: Any, out: str | None, args: argparse.Namespace, layer: st
 
     import geopandas as gpd
 
-    # Label columns (a plan's sites, --id values) arrive as Python objects: give them their
-    # own dtype, so typed formats (GeoPackage, Parquet) store numbers as numbers.
-    frame = _named_index(frame).infer_objects()
+    frame = _typed(_named_index(frame))
     if out is None:
         _as_table(frame, args).to_csv(sys.stdout, index=False)
         return
@@ -273,6 +314,40 @@ def write_frame(frame: Any, out: str | None, args: argparse.Namespace, layer: st
                                 "(.gpkg keeps them)")
     except OSError as exc:
         raise UserError(f"{path}: cannot write ({exc.strerror or exc})") from None
+
+
+def _typed(frame: Any) -> Any:
+    """``frame`` with its columns of Python objects in a dtype of their own.
+
+    Label columns (a plan's sites, --id values, tree ends) arrive as Python objects: typed
+    formats (GeoPackage, Parquet) store numbers as numbers. A column of whole numbers with
+    gaps (``None``: a junction end of a tree, a row of a skipped group) becomes a nullable
+    integer column, written as the numbers read (``2``, not ``2.0``) with the gaps empty; as
+    floating point, ids above 2**53 would be rounded, and two rows could name one site.
+    """
+    import numpy as np
+    import pandas as pd
+
+    out = frame.infer_objects()
+    for position in range(frame.shape[1]):
+        column = frame.iloc[:, position]
+        if column.dtype != object:
+            continue
+        present = column[column.notna()].tolist()
+        if not present or len(present) == len(column):  # no gaps: infer_objects keeps whole numbers whole
+            continue
+        if not all(isinstance(v, (int, np.integer)) and not isinstance(v, (bool, np.bool_)) for v in present):
+            continue
+        values = [None if pd.isna(v) else int(v) for v in column.tolist()]
+        for dtype in ("Int64", "UInt64"):
+            try:
+                out.isetitem(position, pd.Series(pd.array(values, dtype=dtype), index=column.index))
+                break
+            except (OverflowError, TypeError, ValueError):
+                continue
+        else:  # beyond 64 bits: kept as the Python integers they are (CSV writes them exactly)
+            out.isetitem(position, column)
+    return out
 
 
 def _named_index(frame: Any) -> Any:

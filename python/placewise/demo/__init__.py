@@ -22,10 +22,11 @@ depot it is paired with (nearest pairs first).
 
 It writes maps (PNG), the layers as one GeoPackage in the scenario's projected CRS
 (``orsavel.gpkg``, WGS 84 / UTM zone 26N) and as GeoJSON in WGS 84 longitude/latitude
-(RFC 7946), and tidy tables (CSV: one number per cell, units in the header; and Markdown),
-and prints the summary. Everything is invented; results are planning aids under the model
-(straight-line distance, the given weights), to be checked against local regulations and
-licensed professional judgement.
+(RFC 7946), a layer's coordinate columns (``x``, ``y``: a catchment's depot, the demand
+ellipse's centre) in the same CRS as its geometry; tidy tables (CSV: one number per cell,
+units in the header; and Markdown); and prints the summary. Everything is invented;
+results are planning aids under the model (straight-line distance, the given weights), to
+be checked against local regulations and licensed professional judgement.
 
 Examples
 --------

@@ -13,6 +13,9 @@ import numpy as np
 from .._scenario import Scenario
 from ._district import DISCLAIMER
 
+# The coordinate columns a layer may carry beside its geometry (a cell's site, an ellipse's centre).
+_XY = {"x", "y"}
+
 
 class _Writer:
     """Writes the demo's files; with ``keep`` the figures stay open in ``figures`` (for tests)."""
@@ -36,12 +39,19 @@ class _Writer:
     def layer(self, name: str, frame: Any) -> None:
         """Write a GeoDataFrame on the local grid as a layer of the GeoPackage, in the
         scenario's projected CRS (the grid shifted to its origin), and as GeoJSON in WGS 84
-        (RFC 7946: longitude, latitude; no CRS member), both carrying the model note."""
-        placed = frame.set_geometry(frame.geometry.translate(*self.s.origin)).set_crs(self.s.crs, allow_override=True)
+        (RFC 7946: longitude, latitude; no CRS member), both carrying the model note.
+
+        Coordinate columns (``x``, ``y``: a catchment's depot, an ellipse's centre) move with
+        the geometry, so in every file they are in the layer's own CRS: eastings and
+        northings in the GeoPackage, longitude and latitude in GeoJSON."""
+        shifted = frame.set_geometry(frame.geometry.translate(*self.s.origin))
+        if _XY <= set(frame.columns):
+            shifted = shifted.assign(x=frame["x"] + self.s.origin[0], y=frame["y"] + self.s.origin[1])
+        placed = shifted.set_crs(self.s.crs, allow_override=True)
         placed.to_file(self.gpkg, layer=name, driver="GPKG", layer_options={"DESCRIPTION": DISCLAIMER})
         if self.gpkg.name not in self.files:
             self.files.append(self.gpkg.name)
-        features = json.loads(placed.to_crs("EPSG:4326").to_json(drop_id=True))["features"]
+        features = json.loads(_to_crs(placed, "EPSG:4326").to_json(drop_id=True))["features"]
         doc = {"type": "FeatureCollection", "name": name, "description": DISCLAIMER, "features": features}
         path = self.out / f"{name}.geojson"
         path.write_text(json.dumps(doc, separators=(",", ":")))
@@ -57,6 +67,17 @@ class _Writer:
             import matplotlib.pyplot as plt
 
             plt.close(fig)
+
+
+def _to_crs(frame: Any, crs: str) -> Any:
+    """``frame`` in ``crs``, its coordinate columns (``x``, ``y``) transformed with the geometry."""
+    import geopandas as gpd
+
+    out = frame.to_crs(crs)
+    if _XY <= set(frame.columns):
+        points = gpd.GeoSeries(gpd.points_from_xy(frame["x"], frame["y"]), crs=frame.crs).to_crs(crs)
+        out = out.assign(x=points.x.to_numpy(), y=points.y.to_numpy())
+    return out
 
 
 def _table(path: Path, columns: dict[str, list[Any]]) -> None:
