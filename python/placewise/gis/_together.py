@@ -135,6 +135,12 @@ def candidates_held(cf: Prepared, region: Any, pf: Prepared, points: str = "fram
     the region's edges are curves, which the densified polygon of :func:`region_geometry`
     follows to within about 2 cm only, so a candidate that close to the boundary could be
     counted either way. A candidate the region's CRS cannot represent is not held.
+
+    In a geographic CRS a longitude and the same longitude plus or minus a full turn are
+    one meridian: a region drawn across the antimeridian with longitudes beyond 180 (a box
+    from 179 to 181) holds a candidate at -179.5, which PROJ (and the caller) may write in
+    [-180, 180]. Each candidate is therefore tested at every turn of its longitude that
+    reaches the region's longitudes (:func:`_turns`), and held when one of them lies in it.
     """
     from .._region import candidates_in_region
 
@@ -146,15 +152,32 @@ def candidates_held(cf: Prepared, region: Any, pf: Prepared, points: str = "fram
 
         x, y = Transformer.from_crs(pf.work, series.crs, always_xy=True).transform(xy[:, 0], xy[:, 1])
         xy = np.column_stack([x, y])
+    west, south, east, north = geom.bounds
     # A candidate PROJ cannot bring into the region's CRS has infinite coordinates there,
     # which the exact test refuses: it lies in no region, so it stands beyond the region's
     # box instead, where the test holds it nowhere and every count stays the caller's.
     lost = ~np.isfinite(xy).all(axis=1)
+    turns = _turns(xy[~lost, 0], west, east, series.crs)
+    tried = np.concatenate([xy + [shift, 0.0] for shift in turns])
     if lost.any():
-        west, south, east, north = geom.bounds
-        xy = np.where(lost[:, None], [2 * east - west + 1, 2 * north - south + 1], xy)
-    _, rows, _ = candidates_in_region(xy, geom)
+        tried[np.tile(lost, len(turns))] = [2 * east - west + 1, 2 * north - south + 1]
+    _, rows, _ = candidates_in_region(tried, geom)
+    rows = np.unique(rows % len(xy))
     return cf.xy[rows], rows
+
+
+def _turns(lon: np.ndarray, west: float, east: float, crs: Any) -> list[float]:
+    """The shifts of whole turns of longitude (in the CRS's angular unit: 360 degrees, 400
+    grads) that bring some of the longitudes ``lon`` within ``west..east``, the longitudes
+    of a region in the geographic CRS ``crs``; only ``[0.0]`` for a projected CRS or none."""
+    if crs is None or not CRS(crs).is_geographic or len(lon) == 0:
+        return [0.0]
+    axes = CRS(crs).axis_info
+    factor = float(axes[0].unit_conversion_factor) if axes else np.pi / 180.0  # radians per unit
+    turn = 2.0 * np.pi / factor if np.isfinite(factor) and factor > 0 else 360.0
+    low = int(np.floor((west - lon.max()) / turn))
+    high = int(np.ceil((east - lon.min()) / turn))
+    return [0.0] + [k * turn for k in range(low, high + 1) if k != 0]
 
 
 def prepare_together(
