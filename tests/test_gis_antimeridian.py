@@ -109,3 +109,60 @@ def test_the_continuous_solvers_keep_to_a_region_beyond_180(solve):
     box = shapely.box(180.3, -18, 181, -16)
     point = solve(_islands(), region=box).geometry.iloc[0]
     assert box.buffer(1e-9).covers(shapely.Point(point.x % 360, point.y))
+
+
+# --- 2. a study region across 180 degrees clips the cells answered on the sphere ---------
+
+
+def _pacific_sites() -> gpd.GeoDataFrame:
+    """30 sites from 150 E to 120 W and 30 S to 30 N: too wide for one planar frame, so
+    their cells are answered on the sphere."""
+    rng = np.random.default_rng(3)
+    lon = rng.uniform(150, 240, 30)
+    return gpd.GeoDataFrame(geometry=gpd.points_from_xy(np.where(lon > 180, lon - 360, lon), rng.uniform(-30, 30, 30)),
+                            crs=4326)
+
+
+def _geod_region_area(region: gpd.GeoSeries, step: float) -> float:
+    """The region's WGS84 area (pyproj.Geod.geometry_area_perimeter) with its edges as
+    drawn in its own CRS: densified there every ``step`` (its unit), then brought to lon/lat.
+    Geod takes a ring by its longitudes' steps, so it neither cares for +-180 nor for 250."""
+    to_lonlat = pyproj.Transformer.from_crs(region.crs, 4326, always_xy=True)
+    lonlat = shapely.transform(shapely.segmentize(region.union_all(), step), lambda xy: np.column_stack(
+        to_lonlat.transform(xy[:, 0], xy[:, 1])))
+    return abs(GEOD.geometry_area_perimeter(shapely.geometry.polygon.orient(lonlat))[0])
+
+
+_PACIFIC = {
+    # 140 E to 110 W, 40 S to 40 N, in PDC Mercator (EPSG:3832, Pacific-centred): the
+    # region crosses the antimeridian in lon/lat, not in its own CRS.
+    "EPSG:3832": (gpd.GeoSeries([shapely.box(*_PDC.transform(140, -40), *_PDC.transform(-110, 40))], crs=3832),
+                  1000.0),
+    # The same box in lon/lat, drawn to 250 degrees.
+    "lon to 250": (gpd.GeoSeries([shapely.box(140, -40, 250, 40)], crs=4326), 0.01),
+}
+
+
+@pytest.mark.parametrize("written", sorted(_PACIFIC))
+def test_sphere_cells_clipped_to_a_region_across_180_cover_that_region(written):
+    sites = _pacific_sites()
+    region, step = _PACIFIC[written]
+    cells = gis.voronoi_cells(sites, region)
+    assert (cells["work_crs"] == gis.voronoi_cells(sites)["work_crs"]).all()  # the sphere path
+    # The cells tile the region: their areas add up to its WGS84 area (pyproj.Geod; before
+    # the fix 2.675e14 m2 of the other side of the Earth for EPSG:3832, 3.63e13 for 250).
+    assert cells["area_m2"].sum() == pytest.approx(_geod_region_area(region, step), rel=1e-6)
+    # Every site lies in the region, so every cell holds its own site (shapely).
+    assert all(cell.buffer(1e-9).covers(site) for cell, site in zip(cells.geometry, sites.geometry, strict=True))
+
+
+@pytest.mark.parametrize("crs", [3413, 3031])
+def test_sphere_cells_clipped_to_a_polar_cap_drawn_round_the_pole(crs):
+    # A 2000 km disc round the pole in a polar stereographic CRS: in lon/lat its ring winds
+    # round the pole (it crashed GEOS before); the cells add up to its pyproj.Geod area.
+    rng = np.random.default_rng(13)
+    lon, lat = rng.uniform(-180, 180, 40), np.degrees(np.arcsin(rng.uniform(-1, 1, 40)))
+    sites = gpd.GeoDataFrame(geometry=gpd.points_from_xy(lon, lat), crs=4326)
+    region = gpd.GeoSeries([shapely.Point(0, 0).buffer(2e6, 64)], crs=crs)
+    cells = gis.voronoi_cells(sites, region)
+    assert cells["area_m2"].sum() == pytest.approx(_geod_region_area(region, 1000.0), rel=1e-6)  # pyproj.Geod
