@@ -166,3 +166,83 @@ def test_sphere_cells_clipped_to_a_polar_cap_drawn_round_the_pole(crs):
     region = gpd.GeoSeries([shapely.Point(0, 0).buffer(2e6, 64)], crs=crs)
     cells = gis.voronoi_cells(sites, region)
     assert cells["area_m2"].sum() == pytest.approx(_geod_region_area(region, 1000.0), rel=1e-6)  # pyproj.Geod
+
+
+# --- 3. centroids of polygons split at the antimeridian ----------------------------------
+
+# Parcels round 180 degrees, 16 to 17 degrees south, each (west, east, south, north): the
+# degrees it reaches west and east of 180, and its latitudes.
+_PARCELS = [(0.1, 0.1, -17.1, -17.0), (0.05, 0.15, -16.6, -16.5), (0.2, 0.02, -16.2, -16.1)]
+
+
+def _box(west: float, south: float, east: float, north: float) -> shapely.Polygon:
+    """A lon/lat box with a vertex every 0.001 degree along its edges, so that it keeps its
+    shape in any frame it is projected to vertex by vertex."""
+    return shapely.segmentize(shapely.box(west, south, east, north), 0.001)
+
+
+def _whole_parcels() -> gpd.GeoDataFrame:
+    """The parcels drawn whole, with longitudes beyond 180."""
+    return gpd.GeoDataFrame(geometry=[_box(180 - w, s, 180 + e, n) for w, e, s, n in _PARCELS], crs=4326,
+                            index=["a", "b", "c"])
+
+
+def _split_parcels() -> gpd.GeoDataFrame:
+    """The parcels as GeoJSON stores them (RFC 7946 §3.1.9): MultiPolygons split at +-180."""
+    return gpd.GeoDataFrame(geometry=[shapely.MultiPolygon([_box(180 - w, s, 180, n), _box(-180, s, -180 + e, n)])
+                                      for w, e, s, n in _PARCELS], crs=4326, index=["a", "b", "c"])
+
+
+def _reference_centroids() -> np.ndarray:
+    """The parcels' centroids by shapely in a transverse Mercator frame on 180 degrees
+    (pyproj), the parcels drawn whole there, as lon/lat."""
+    local = pyproj.CRS("+proj=tmerc +lon_0=180 +datum=WGS84")
+    centres = _whole_parcels().to_crs(local).centroid.to_crs(4326)
+    return np.column_stack([centres.x, centres.y])
+
+
+# Centroids taken in two conformal frames differ by the frames' differing scale over the
+# parcel: about a metre for these 20 km parcels between a UTM zone and the frame on 180.
+_CENTROID_M = 3.0
+
+
+def test_a_split_parcel_is_no_distance_from_itself_and_true_distances_from_the_others():
+    parcels = _split_parcels()
+    demand = gis.nearest_site(parcels, parcels.iloc[:1], centroids=True).demand
+    ref = _reference_centroids()
+    n = len(ref)
+    _, _, true = GEOD.inv(np.full(n, ref[0, 0]), np.full(n, ref[0, 1]), ref[:, 0], ref[:, 1])  # pyproj.Geod
+    # A parcel is 0 m from itself (before the fix: 19.83 m, its centroid taken in two UTM
+    # zones chosen from lon/lat centroids on the other side of the Earth).
+    assert demand["distance_m"].iloc[0] == pytest.approx(0.0, abs=1e-6)
+    np.testing.assert_allclose(demand["distance_m"], true, atol=_CENTROID_M)
+
+
+def test_split_parcels_are_planned_where_they_lie_not_refused():
+    # Before the fix: TooWide, "the data span 191 km" in UTM zone 19S (69 W), from lon/lat
+    # centroids at 0, -89.95 and 147.18 degrees. Now the brute-force plan over the parcels'
+    # reference centroids with pyproj.Geod distances.
+    parcels = _split_parcels()
+    plan = gis.p_median(parcels, 1, candidates=parcels, centroids=True)
+    ref = _reference_centroids()
+    costs = np.array([GEOD.inv(ref[:, 0], ref[:, 1], np.full(len(ref), x), np.full(len(ref), y))[2].sum()
+                      for x, y in ref])
+    assert plan.sites["source_row"].tolist() == [parcels.index[int(np.argmin(costs))]]  # brute force, pyproj.Geod
+    error = float(plan.summary["scale_error"].iloc[0])
+    assert plan.summary["cost_m"].iloc[0] == pytest.approx(costs.min(), rel=2 * error, abs=len(ref) * _CENTROID_M)
+    # The continuous plan's site lies among the parcels, not across the globe (shapely).
+    site = gis.p_median(parcels, 1, centroids=True).sites.geometry.iloc[0]
+    hull = shapely.MultiPoint(np.column_stack([ref[:, 0] % 360, ref[:, 1]])).convex_hull  # lon in [0, 360)
+    assert hull.buffer(1e-3).covers(shapely.Point(site.x % 360, site.y))
+
+
+def test_a_parcel_split_or_whole_has_one_centroid():
+    # Property: the same parcels drawn whole (longitudes beyond 180) or split at +-180 are
+    # the same places, so every distance agrees, up to the frame a centroid is taken in
+    # (parcel 'a', centred on 180 degrees, lies on the boundary of two UTM zones, and
+    # rounding may put either form in either zone: 0.14 m apart).
+    split, whole = _split_parcels(), _whole_parcels()
+    a = gis.nearest_site(split, split.iloc[1:2], centroids=True).demand["distance_m"]
+    b = gis.nearest_site(whole, whole.iloc[1:2], centroids=True).demand["distance_m"]
+    np.testing.assert_allclose(a, b, atol=_CENTROID_M)
+    assert a.iloc[1] == b.iloc[1] == 0.0

@@ -25,7 +25,7 @@ from pyproj import CRS
 
 from .._core import InputError
 from .._errors import refuse
-from ._columns import _points_of, as_frame, groups_of
+from ._columns import _points_of, as_frame, groups_of, turn_of
 from ._crs import MAX_SCALE_ERROR, _check_lonlat
 from ._frames import Prepared, prepare
 
@@ -237,9 +237,7 @@ def _turns(lon: np.ndarray, west: float, east: float, crs: Any) -> list[float]:
     of a region in the geographic CRS ``crs``; only ``[0.0]`` for a projected CRS or none."""
     if crs is None or not CRS(crs).is_geographic or len(lon) == 0:
         return [0.0]
-    axes = CRS(crs).axis_info
-    factor = float(axes[0].unit_conversion_factor) if axes else np.pi / 180.0  # radians per unit
-    turn = 2.0 * np.pi / factor if np.isfinite(factor) and factor > 0 else 360.0
+    turn = turn_of(crs)
     low = int(np.floor((west - lon.max()) / turn))
     high = int(np.ceil((east - lon.min()) / turn))
     return [0.0] + [k * turn for k in range(low, high + 1) if k != 0]
