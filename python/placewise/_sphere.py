@@ -52,6 +52,22 @@ def _pole_safe(lon: np.ndarray, lat: np.ndarray) -> tuple[np.ndarray, np.ndarray
     return np.asarray(out_lon), np.asarray(out_lat)
 
 
+def _unwrapped(lon: np.ndarray) -> np.ndarray:
+    """Longitudes along a line or ring, each moved by whole turns to lie within 180 degrees
+    of the one before it (the line never jumps across the antimeridian)."""
+    steps = np.diff(lon)
+    return lon[0] + np.concatenate([[0.0], np.cumsum(steps - 360.0 * np.round(steps / 360.0))])
+
+
+def _turn(lon: np.ndarray) -> float:
+    """Degrees of longitude a ring of unwrapped longitudes (:func:`_unwrapped`) covers once
+    closed: 0 for a ring that does not wind round a pole, about +-360 for one that does
+    (positive eastward)."""
+    closing = lon[0] - lon[-1]
+    closing -= 360.0 * np.round(closing / 360.0)
+    return float(lon[-1] + closing - lon[0])
+
+
 def lonlat_polygon(ring: ArrayLike) -> Any:
     """A ring of lon/lat vertices (counter-clockwise seen from outside the Earth, edges drawn
     straight in lon/lat) as a valid shapely polygon in [-180, 180] × [-90, 90]: longitudes
@@ -73,11 +89,8 @@ def lonlat_polygon(ring: ArrayLike) -> Any:
 
     ring = np.asarray(ring, dtype=np.float64).reshape(-1, 2)
     lon, lat = _pole_safe(ring[:, 0].copy(), ring[:, 1].copy())
-    steps = np.diff(lon)
-    lon = lon[0] + np.concatenate([[0.0], np.cumsum(steps - 360.0 * np.round(steps / 360.0))])
-    closing = lon[0] - lon[-1]
-    closing -= 360.0 * np.round(closing / 360.0)
-    turn = lon[-1] + closing - lon[0]
+    lon = _unwrapped(lon)
+    turn = _turn(lon)
     if abs(turn) > 180.0:
         # Counter-clockwise seen from outside: eastward round the north pole.
         pole = 90.0 if turn > 0 else -90.0
@@ -125,9 +138,7 @@ def _arc_line(a: np.ndarray, b: np.ndarray) -> Any:
     import shapely
 
     pts = _arc_points(a, b)
-    lon = pts[:, 0].copy()
-    steps = np.diff(lon)
-    lon = lon[0] + np.concatenate([[0.0], np.cumsum(steps - 360.0 * np.round(steps / 360.0))])
+    lon = _unwrapped(pts[:, 0].copy())
     line = shapely.LineString(np.column_stack([lon, pts[:, 1]]))
     if lon.min() >= -180.0 and lon.max() <= 180.0:
         return line

@@ -14,6 +14,7 @@ try:
     import geopandas as gpd
     import pandas as pd
     import shapely
+    from pyproj import CRS
 except ImportError:  # pragma: no cover - exercised only without the extra
     raise ImportError("placewise.gis needs geopandas and pyproj: pip install 'placewise[geo]'") from None
 
@@ -75,7 +76,46 @@ def unique_labels(index: Any, name: str, series: bool = False) -> None:
     raise error
 
 
+def turn_of(crs: Any) -> float:
+    """A whole turn of longitude in a geographic CRS's own angular unit (360 degrees, 400
+    grads), read from its first axis."""
+    axes = CRS(crs).axis_info
+    factor = float(axes[0].unit_conversion_factor) if axes else np.pi / 180.0  # radians per unit
+    return 2.0 * np.pi / factor if np.isfinite(factor) and factor > 0 else 360.0
+
+
+def joined_across_antimeridian(geoms: np.ndarray, turn: float) -> np.ndarray:
+    """Multi-part lon/lat geometries with each part moved by whole turns of longitude
+    (``turn``, in the CRS's unit) to lie beside the largest part (by area, else length):
+    a polygon split at the antimeridian, as GeoJSON stores it (RFC 7946 §3.1.9), becomes one
+    piece again, so that its centroid is taken where it lies (180, not 0 degrees). Parts
+    already within half a turn of the largest are left as they are, as is every single-part
+    geometry."""
+    out = np.array(geoms, dtype=object)
+    bounds = shapely.bounds(out)
+    wide = np.flatnonzero((shapely.get_num_geometries(out) > 1) & (bounds[:, 2] - bounds[:, 0] > turn / 2))
+    for i in wide:
+        parts = shapely.get_parts(out[i])
+        size = shapely.area(parts)
+        if not (size > 0).any():
+            size = shapely.length(parts)
+        box = shapely.bounds(parts)
+        middle = (box[:, 0] + box[:, 2]) / 2
+        shifts = turn * np.round((middle[int(np.argmax(size))] - middle) / turn)
+        if not shifts.any():
+            continue
+        moved = [shapely.transform(part, lambda xy, shift=shift: xy + [shift, 0.0]) if shift else part
+                 for part, shift in zip(parts, shifts, strict=True)]
+        out[i] = (shapely.geometrycollections(moved) if out[i].geom_type == "GeometryCollection"
+                  else type(out[i])(moved))
+    return out
+
+
 def _points_of(frame: Any, name: str, centroids: bool) -> np.ndarray:
+    """A frame's points as an ``(n, 2)`` array in its own CRS, or with ``centroids`` the
+    centroids of its other geometries there (those of a geographic frame taken after
+    :func:`joined_across_antimeridian`, in degrees: where a geometry lies, to choose and
+    measure a working frame; metric centroids are taken in a projected CRS)."""
     geoms = frame.geometry.values
     missing = shapely.is_missing(geoms) | shapely.is_empty(geoms)
     if missing.any():
@@ -92,6 +132,8 @@ def _points_of(frame: Any, name: str, centroids: bool) -> np.ndarray:
                 f"{name}: row {row!r} is a {kind}, not a Point; pass centroids=True to use the "
                 "centroids of non-point geometries"
             )
+        if frame.crs is not None and CRS(frame.crs).is_geographic:
+            geoms = joined_across_antimeridian(geoms, turn_of(frame.crs))
         geoms = shapely.centroid(geoms)
     return np.column_stack([shapely.get_x(geoms), shapely.get_y(geoms)]).astype(np.float64)
 

@@ -227,17 +227,42 @@ def _utm_at_centre(lonlat: np.ndarray) -> CRS:
     return _utm_of(float(centre[0]), float(centre[1]))
 
 
-def _utm_for(frame: Any, name: str) -> CRS:
-    """The UTM zone at a frame's centre, its geometries read as WGS 84 (centroids stand for
-    other geometries here, as this only picks the zone)."""
-    return _utm_at_centre(_points_of(frame if CRS(frame.crs).equals(_WGS84) else frame.to_crs(_WGS84), name,
-                                     centroids=True))
+def _areal_lonlat(frame: Any, name: str, centroids: bool) -> np.ndarray:
+    """A geographic frame's points as WGS84 longitude/latitude, or with ``centroids`` the
+    centroids of its other geometries, each taken in the UTM zone of its own geometry's
+    centre (a centroid is areal, so it is taken in a metric frame, not in degrees).
+
+    Why each in its own zone: a zone chosen over the whole frame would move a parcel's
+    centroid with the other rows that share the frame (demand and sites in different zones
+    put a parcel metres from itself), and a polygon split at the antimeridian would give a
+    zone on the other side of the Earth. The centre that picks the zone is taken after the
+    parts are joined across the antimeridian (:func:`_points_of`)."""
+    import geopandas as gpd
+
+    wgs84 = frame if CRS(frame.crs).equals(_WGS84) else frame.to_crs(_WGS84)
+    lonlat = _points_of(wgs84, name, centroids)
+    geoms = wgs84.geometry.values
+    areal = np.flatnonzero(shapely.get_type_id(geoms) != shapely.GeometryType.POINT) if centroids else []
+    if len(areal) == 0:
+        return lonlat
+    zones = _utm_epsg(lonlat[areal, 0], lonlat[areal, 1])
+    for zone in np.unique(zones):
+        mine = areal[zones == zone]
+        utm = CRS.from_epsg(int(zone))
+        centres = gpd.GeoSeries(geoms[mine], crs=_WGS84).to_crs(utm).centroid.to_crs(_WGS84)
+        lonlat[mine, 0], lonlat[mine, 1] = centres.x.to_numpy(), centres.y.to_numpy()
+    return lonlat
+
+
+def _utm_epsg(lon: np.ndarray, lat: np.ndarray) -> np.ndarray:
+    """The EPSG code of the WGS 84 UTM zone of each point (326zz north, 327zz south)."""
+    zone = np.floor((np.asarray(lon, dtype=np.float64) + 180.0) / 6.0).astype(np.int64) % 60 + 1
+    return np.where(np.asarray(lat) >= 0, 32600, 32700) + zone
 
 
 def _utm_of(lon: float, lat: float) -> CRS:
     """The WGS 84 UTM zone of a point (EPSG 326zz north, 327zz south)."""
-    zone = int(np.floor((lon + 180.0) / 6.0)) % 60 + 1
-    return CRS.from_epsg((32600 if lat >= 0 else 32700) + zone)
+    return CRS.from_epsg(int(_utm_epsg(np.array([lon]), np.array([lat]))[0]))
 
 
 def _centred_frame(lon: float) -> CRS:

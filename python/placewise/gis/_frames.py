@@ -18,7 +18,6 @@ import numpy as np
 try:
     import geopandas as gpd
     import pandas as pd
-    import shapely
     from pyproj import CRS
 except ImportError:  # pragma: no cover - exercised only without the extra
     raise ImportError("placewise.gis needs geopandas and pyproj: pip install 'placewise[geo]'") from None
@@ -30,6 +29,7 @@ from ._columns import Groups, _points_of, as_frame, column, groups_of
 from ._crs import (
     _WGS84,
     MAX_SCALE_ERROR,
+    _areal_lonlat,
     _caller_level,
     _centre,
     _centred_frame,
@@ -37,7 +37,6 @@ from ._crs import (
     _frames_per_group,
     _refuse_unprojected,
     _say_distortion,
-    _utm_for,
     _warn_degrees_in_projected,
     _warn_distorting_crs,
     _wgs84_lonlat,
@@ -279,15 +278,9 @@ def _on_ellipsoid(frame: Any, name: str, centroids: bool, groups: Groups | None)
     if crs.is_geographic:
         check_on_earth(crs, name)
         _check_lonlat(frame, _points_of(frame, name, centroids), name)
-    points = frame
-    if centroids and (shapely.get_type_id(frame.geometry.values) != shapely.GeometryType.POINT).any():
-        # Centroids are areal, so they are taken in a metric frame (the data's UTM zone), not
-        # in degrees; only the points go on to the ellipsoid.
-        utm = _utm_for(frame, name)
-        points = gpd.GeoDataFrame(geometry=frame.to_crs(utm).geometry.centroid, crs=utm, index=frame.index)
-    if not CRS(points.crs).equals(_WGS84):
-        points = points.to_crs(_WGS84)
-    lonlat = _points_of(points, name, centroids)
+    # Centroids are areal, so they are taken in a metric frame (each geometry's UTM zone),
+    # not in degrees; only the points go on to the ellipsoid.
+    lonlat = _areal_lonlat(frame, name, centroids)
     return Prepared(frame, lonlat, frame.crs, _WGS84, 0.0, groups, ellipsoid=True)
 
 

@@ -24,7 +24,8 @@ import shapely
 from pyproj import CRS
 
 from .._core import InputError
-from ._columns import _points_of, as_frame, groups_of
+from .._errors import refuse
+from ._columns import _points_of, as_frame, groups_of, turn_of
 from ._crs import MAX_SCALE_ERROR, _check_lonlat
 from ._frames import Prepared, prepare
 
@@ -114,13 +115,77 @@ def region_geometry(region: Any, pf: Prepared, points: str = "sites") -> Any:
 
 
 def region_lonlat(region: Any, pf: Prepared, points: str = "sites") -> Any:
-    """The region as one lon/lat shapely geometry (its rows' union), its edges densified
-    first in its own CRS (:func:`densified`) so that reprojecting only its vertices does not
-    cut it short. A region in WGS84 already is densified too: the cells' areas on the
-    ellipsoid take an edge between two vertices as a geodesic, and short pieces keep the
-    region on its straight lon/lat edges."""
+    """The region as one lon/lat shapely geometry (its rows' union) in [-180, 180] x [-90, 90],
+    split at the antimeridian where it crosses it (GeoJSON's form, RFC 7946 §3.1.9, which
+    the spherical cells it clips have too).
+
+    Its edges are densified first in its own CRS (:func:`densified`) so that reprojecting
+    only its vertices does not cut it short. A region in WGS84 already is densified too: the
+    cells' areas on the ellipsoid take an edge between two vertices as a geodesic, and short
+    pieces keep the region on its straight lon/lat edges.
+
+    Why each ring is rebuilt (:func:`_lonlat_ring`): a region that crosses the antimeridian
+    in its own CRS (a Pacific-centred projection, a lon/lat box drawn to 250 degrees) comes
+    back from PROJ with longitudes jumping between +180 and -180 along an edge, or beyond
+    180, and read as a plain polygon it would hold the other side of the Earth, or lose its
+    part beyond 180.
+    """
+    from pyproj import Transformer
+
     series = _region_series(region, pf.crs, points)
-    return _polygonal(densified(series).to_crs(4326))
+    geom = _polygonal(series)
+    step = region_step(series)
+    to_lonlat = Transformer.from_crs(series.crs, 4326, always_xy=True)
+    poles = np.column_stack(Transformer.from_crs(4326, series.crs, always_xy=True).transform([0.0, 0.0],
+                                                                                             [90.0, -90.0]))
+    pieces = []
+    for polygon in shapely.get_parts(geom):
+        if polygon.geom_type != "Polygon" or polygon.is_empty:
+            continue
+        rings = [_lonlat_ring(r, step, to_lonlat, poles, points) for r in (polygon.exterior, *polygon.interiors)]
+        holes = [r for r in rings[1:] if not r.is_empty]
+        pieces.append(shapely.difference(rings[0], shapely.union_all(holes)) if holes else rings[0])
+    out = shapely.union_all(pieces)
+    if out.is_empty or out.area <= 0.0:
+        raise InputError("region has no area (it must be polygonal)")
+    return out
+
+
+def _lonlat_ring(ring: Any, step: float, to_lonlat: Any, poles: np.ndarray, points: str) -> Any:
+    """The part of the globe a ring of the region (in its own CRS) bounds, as a lon/lat
+    polygon split at the antimeridian (:func:`placewise._sphere.lonlat_polygon`).
+
+    The ring is densified in its own CRS (pieces of ``step``) and its vertices brought to
+    lon/lat (``to_lonlat``), where their longitudes are unwrapped along it. A ring that does
+    not wind round a pole bounds what lies inside it there, whichever way it runs. One that
+    winds round a pole (a polar cap drawn in a polar projection) bounds the cap of the pole
+    it holds in its own CRS (``poles``: the north and south pole there, infinite where the
+    CRS cannot show them); one that holds neither is refused.
+    """
+    from .._sphere import _pole_safe, _turn, _unwrapped, lonlat_polygon
+
+    own = np.asarray(shapely.segmentize(ring, step).coords)[:-1, :2]
+    lon, lat = to_lonlat.transform(own[:, 0], own[:, 1])
+    lonlat = np.column_stack([lon, lat])
+    if len(lonlat) < 3 or not np.isfinite(lonlat).all():
+        refuse("region", f"region: a vertex of the region has no longitude/latitude (PROJ cannot bring it from its "
+                         f"CRS), so it cannot be clipped with the {points} on the sphere; give the region in "
+                         "longitude/latitude")
+    safe_lon, safe_lat = _pole_safe(lonlat[:, 0].copy(), lonlat[:, 1].copy())
+    safe_lon = _unwrapped(safe_lon)
+    turn = _turn(safe_lon)
+    if abs(turn) > 180.0:
+        # Counter-clockwise seen from outside the Earth: eastward round the north pole.
+        shape = shapely.Polygon(own)
+        held = [np.isfinite(pole).all() and shape.covers(shapely.Point(pole)) for pole in poles]
+        if not any(held):
+            refuse("region", "region: a ring of the region winds round a pole in longitude but holds neither pole in "
+                             "its own CRS, so which side of it the region lies on is unknown; give the region in "
+                             "longitude/latitude")
+        forward = (turn > 0) == bool(held[0])
+    else:
+        forward = bool(shapely.LinearRing(np.column_stack([safe_lon, safe_lat])).is_ccw)
+    return lonlat_polygon(lonlat if forward else lonlat[::-1])
 
 
 def candidates_held(cf: Prepared, region: Any, pf: Prepared, points: str = "frame") -> tuple[np.ndarray, np.ndarray]:
@@ -135,6 +200,12 @@ def candidates_held(cf: Prepared, region: Any, pf: Prepared, points: str = "fram
     the region's edges are curves, which the densified polygon of :func:`region_geometry`
     follows to within about 2 cm only, so a candidate that close to the boundary could be
     counted either way. A candidate the region's CRS cannot represent is not held.
+
+    In a geographic CRS a longitude and the same longitude plus or minus a full turn are
+    one meridian: a region drawn across the antimeridian with longitudes beyond 180 (a box
+    from 179 to 181) holds a candidate at -179.5, which PROJ (and the caller) may write in
+    [-180, 180]. Each candidate is therefore tested at every turn of its longitude that
+    reaches the region's longitudes (:func:`_turns`), and held when one of them lies in it.
     """
     from .._region import candidates_in_region
 
@@ -146,15 +217,30 @@ def candidates_held(cf: Prepared, region: Any, pf: Prepared, points: str = "fram
 
         x, y = Transformer.from_crs(pf.work, series.crs, always_xy=True).transform(xy[:, 0], xy[:, 1])
         xy = np.column_stack([x, y])
+    west, south, east, north = geom.bounds
     # A candidate PROJ cannot bring into the region's CRS has infinite coordinates there,
     # which the exact test refuses: it lies in no region, so it stands beyond the region's
     # box instead, where the test holds it nowhere and every count stays the caller's.
     lost = ~np.isfinite(xy).all(axis=1)
+    turns = _turns(xy[~lost, 0], west, east, series.crs)
+    tried = np.concatenate([xy + [shift, 0.0] for shift in turns])
     if lost.any():
-        west, south, east, north = geom.bounds
-        xy = np.where(lost[:, None], [2 * east - west + 1, 2 * north - south + 1], xy)
-    _, rows, _ = candidates_in_region(xy, geom)
+        tried[np.tile(lost, len(turns))] = [2 * east - west + 1, 2 * north - south + 1]
+    _, rows, _ = candidates_in_region(tried, geom)
+    rows = np.unique(rows % len(xy))
     return cf.xy[rows], rows
+
+
+def _turns(lon: np.ndarray, west: float, east: float, crs: Any) -> list[float]:
+    """The shifts of whole turns of longitude (in the CRS's angular unit: 360 degrees, 400
+    grads) that bring some of the longitudes ``lon`` within ``west..east``, the longitudes
+    of a region in the geographic CRS ``crs``; only ``[0.0]`` for a projected CRS or none."""
+    if crs is None or not CRS(crs).is_geographic or len(lon) == 0:
+        return [0.0]
+    turn = turn_of(crs)
+    low = int(np.floor((west - lon.max()) / turn))
+    high = int(np.ceil((east - lon.min()) / turn))
+    return [0.0] + [k * turn for k in range(low, high + 1) if k != 0]
 
 
 def prepare_together(

@@ -170,7 +170,9 @@ def voronoi_cells(
     wide across the antimeridian; without ``by`` and ``work_crs``) get spherical Voronoi
     cells (:func:`placewise.geodesic.voronoi_cells`) instead of a refusal: cells in lon/lat
     split at the antimeridian, clipped to the region in lon/lat after its edges are
-    densified (no region: the cells cover the globe), ``area_m2`` the WGS84 area of each
+    densified (no region: the cells cover the globe; a region may cross the antimeridian
+    or wind round a pole in its own CRS, or be drawn in lon/lat with longitudes beyond
+    180), ``area_m2`` the WGS84 area of each
     piece (geodesic edges through its vertices, so the cells' areas add up to the region's),
     and ``work_crs`` stating the model. ``demand`` is then served on the ellipsoid.
 

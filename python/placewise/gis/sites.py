@@ -93,7 +93,9 @@ def weber_point(
     planar : bool
         The coordinates are planar; allowed only for frames without a CRS.
     centroids : bool
-        Use the centroids of non-point geometries instead of raising.
+        Use the centroids of non-point geometries instead of raising: taken in the working
+        frame, or on the ellipsoid each in the UTM zone of its own place; a polygon of
+        longitude/latitude split at the antimeridian (as GeoJSON stores it) is taken whole.
     errors : {"raise", "skip"}
         With ``by``: fail on the first group without an answer, or keep it as a row whose
         ``problem`` says why and solve the rest.
