@@ -20,7 +20,9 @@ GeoDataFrames in the input's CRS. Coordinates are handled as follows:
   working frame, so vertices are put along them there before they are projected back,
   until every edge drawn in the caller's CRS lies within 1 cm of its course in the working
   frame (a spatial join of points to the returned cells then agrees with the cells the
-  kernel made). The zone's worst scale error over the data
+  kernel made); a shape crossing the antimeridian is cut there into a MultiPolygon or
+  MultiLineString, and a cell or ellipse holding a pole is closed through it, as GeoJSON
+  (RFC 7946 §3.1.9) asks. The zone's worst scale error over the data
   is measured (PROJ's scale factors) and stated in the ``scale_error`` and ``work_crs``
   columns; beyond ``max_scale_error`` (default 0.1 %) the call is refused with an
   ``InputError`` saying how to proceed (split with ``by=``, or choose ``work_crs=``), never

@@ -7,6 +7,11 @@ metres off over a long edge, so a point near a cell's boundary would be joined t
 cell. :func:`drawn` therefore puts vertices along every edge, in the working frame, until
 the drawn shape lies within :data:`DRAW_TOLERANCE_M` of the true one (see
 :func:`_densified`), then reprojects them.
+
+Into a geographic CRS the shapes are also made valid there, as GeoJSON (RFC 7946 §3.1.9)
+asks: a shape crossing the antimeridian is cut there into a MultiPolygon or
+MultiLineString, and a ring holding a pole in the working frame is closed through the
+pole (:func:`placewise._sphere.lonlat_area`, the one home of both rules).
 """
 
 from __future__ import annotations
@@ -17,6 +22,8 @@ import numpy as np
 import shapely
 from pyproj import CRS, Transformer
 
+from .._sphere import lonlat_area, lonlat_line
+
 #: Largest distance, metres in the working frame, between a drawn edge and the true one.
 DRAW_TOLERANCE_M = 0.01
 
@@ -26,7 +33,8 @@ _MOST_HALVINGS = 60
 
 def drawn(geoms: Any, work: Any, crs: Any) -> np.ndarray:
     """Working-frame geometries (in ``work``) as geometries in ``crs``, with edges kept
-    within :data:`DRAW_TOLERANCE_M` of their course in the working frame."""
+    within :data:`DRAW_TOLERANCE_M` of their course in the working frame and, for a
+    geographic ``crs``, cut at the antimeridian and closed through a pole they hold."""
     geoms = np.asarray(geoms, dtype=object)
     if crs is None or work is None or CRS(crs).equals(work):
         return geoms
@@ -37,9 +45,10 @@ def drawn(geoms: Any, work: Any, crs: Any) -> np.ndarray:
     paths: list[np.ndarray] = []
     recipes = [_recipe(g, paths) for g in geoms]
     ends = _densified(paths, forward, backward, DRAW_TOLERANCE_M / _metres_per_unit(source), half_turn)
+    poles = _poles_in(source, target, half_turn, backward) if half_turn is not None else []
     out = np.empty(len(geoms), dtype=object)
     for k, recipe in enumerate(recipes):
-        out[k] = _built(recipe, ends, forward)
+        out[k] = _built(recipe, paths, ends, forward, half_turn, poles)
     return out
 
 
@@ -86,7 +95,8 @@ def _densified(paths: list[np.ndarray], forward: Any, backward: Any, tol: float,
     ``tol``. For a smooth reprojection the chord strays most at its middle, by about
     ``k s**2 / 8`` for a piece ``s`` long and a curvature ``k`` of the mapped edge; near a
     pole a lon/lat chord of a short piece runs round the pole, and halving goes on there
-    until the piece is shorter than the tolerance itself."""
+    until the piece is shorter than the tolerance itself. Longitudes of a geographic target
+    are unwrapped along each path (each step the short way round)."""
     if not paths:
         return []
     counts = np.array([len(p) - 1 for p in paths])
@@ -141,6 +151,14 @@ def _densified(paths: list[np.ndarray], forward: Any, backward: Any, tol: float,
     body = np.ones(offsets[-1], dtype=bool)
     body[at_last] = False
     vertices[body], vertices[at_last] = firsts, lasts
+    if half_turn is not None:
+        # Each step the short way round, within each path (unwrapped, in one pass).
+        turn = 2 * half_turn
+        steps = np.diff(vertices[:, 0])
+        fix = -turn * np.round(steps / turn)
+        fix[offsets[1:-1] - 1] = 0.0  # no step from one path to the next
+        shift = np.concatenate([[0.0], np.cumsum(fix)])
+        vertices[:, 0] += shift - np.repeat(shift[offsets[:-1]], sizes)
     return np.split(vertices, offsets[1:-1])
 
 
@@ -149,21 +167,66 @@ def _moved(transformer: Any, xy: np.ndarray) -> np.ndarray:
     return np.column_stack([np.asarray(x, dtype=np.float64), np.asarray(y, dtype=np.float64)])
 
 
-def _built(recipe: Any, ends: list[np.ndarray], forward: Any) -> Any:
+def _poles_in(source: Any, target: Any, half_turn: float, backward: Any) -> list[tuple[float, Any]]:
+    """The poles (+1 north, -1 south) as points of the working frame, where it holds them."""
+    out = []
+    for sign in (1.0, -1.0):
+        x, y = _moved(backward, np.array([[0.0, sign * half_turn / 2]]))[0]
+        if np.isfinite(x) and np.isfinite(y):
+            out.append((sign, shapely.Point(x, y)))
+    return out
+
+
+def _built(recipe: Any, paths: list[np.ndarray], ends: list[np.ndarray], forward: Any,
+           half_turn: float | None, poles: list[tuple[float, Any]]) -> Any:
     kind = recipe[0]
     if kind == "as is":
         return recipe[1]
     if kind == "points":
         return shapely.transform(recipe[1], lambda xy: _moved(forward, xy))
     if kind == "line":
-        return shapely.LineString(ends[recipe[1]])
+        path = ends[recipe[1]]
+        return shapely.LineString(path) if half_turn is None else lonlat_line(path, half_turn)
     if kind == "polygon":
         rings = [ends[i] for i in recipe[1]]
-        return shapely.Polygon(rings[0], rings[1:])
+        if half_turn is None:
+            return shapely.Polygon(rings[0], rings[1:])
+        if not all(np.isfinite(ring).all() for ring in rings):
+            return shapely.Polygon(rings[0], rings[1:])  # a skipped group's placeholder
+        if all(_plain(ring, half_turn) for ring in rings):
+            # Within the world, winding round no pole: drawn as it is, when valid so.
+            plain = shapely.Polygon(rings[0], rings[1:])
+            if plain.is_valid:
+                return plain
+        shapes = []
+        for i, ring in zip(recipe[1], rings, strict=True):
+            held = [sign for sign, pole in poles if shapely.Polygon(paths[i]).contains(pole)]
+            shapes.append(lonlat_area(ring, pole=held[0] if len(held) == 1 else None, outside=len(held) == 2,
+                                      half_turn=half_turn))
+        shape = shapes[0]
+        if len(shapes) > 1:
+            shape = shapely.difference(shape, shapely.union_all(shapes[1:]))
+        return _polygonal(shape)
     _, whole, parts = recipe
-    built = [_built(part, ends, forward) for part in parts]
+    built = [_built(part, paths, ends, forward, half_turn, poles) for part in parts]
     if whole == "MultiPolygon":
-        return shapely.MultiPolygon(built)
+        return _polygonal(shapely.union_all([g for g in built if g is not None]))
     if whole == "MultiLineString":
-        return shapely.MultiLineString(built)
+        lines = [line for g in built for line in getattr(g, "geoms", [g])]
+        return shapely.MultiLineString(lines)
     return shapely.GeometryCollection(built)
+
+
+def _plain(ring: np.ndarray, half_turn: float) -> bool:
+    """True when a lon/lat ring (longitudes unwrapped) lies within the world's longitudes,
+    winds round no pole and cannot hold both (it stays off one half of the latitudes)."""
+    lon, lat = ring[:, 0], ring[:, 1]
+    quarter = half_turn / 2
+    return bool(lon.min() >= -half_turn and lon.max() <= half_turn and abs(lon[-1] - lon[0]) < half_turn
+                and (lat.max() < quarter / 2 or lat.min() > -quarter / 2))
+
+
+def _polygonal(shape: Any) -> Any:
+    """A Polygon, or a MultiPolygon of several, from a shape's polygons with area."""
+    polygons = [g for g in getattr(shape, "geoms", [shape]) if g.geom_type == "Polygon" and g.area > 0]
+    return polygons[0] if len(polygons) == 1 else shapely.MultiPolygon(polygons)
