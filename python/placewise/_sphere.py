@@ -33,10 +33,10 @@ SPHERE_MODEL = "sphere (lon/lat as spherical coordinates); WGS84 geodesic length
 _DRAW_STEP_DEGREES = 1.0
 
 
-def _pole_safe(lon: np.ndarray, lat: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """A ring with every vertex at a pole replaced by two, at the longitudes of its
-    neighbours (a pole has no longitude of its own)."""
-    at_pole = np.abs(lat) == 90.0
+def _pole_safe(lon: np.ndarray, lat: np.ndarray, pole: float = 90.0) -> tuple[np.ndarray, np.ndarray]:
+    """A ring with every vertex at a pole (latitude ``±pole``) replaced by two, at the
+    longitudes of its neighbours (a pole has no longitude of its own)."""
+    at_pole = np.abs(lat) == pole
     if not at_pole.any() or at_pole.all():
         return lon, lat
     out_lon: list[float] = []
@@ -52,15 +52,8 @@ def _pole_safe(lon: np.ndarray, lat: np.ndarray) -> tuple[np.ndarray, np.ndarray
     return np.asarray(out_lon), np.asarray(out_lat)
 
 
-def _unwrapped(lon: np.ndarray) -> np.ndarray:
-    """Longitudes along a line or ring, each moved by whole turns to lie within 180 degrees
-    of the one before it (the line never jumps across the antimeridian)."""
-    steps = np.diff(lon)
-    return lon[0] + np.concatenate([[0.0], np.cumsum(steps - 360.0 * np.round(steps / 360.0))])
-
-
 def _turn(lon: np.ndarray) -> float:
-    """Degrees of longitude a ring of unwrapped longitudes (:func:`_unwrapped`) covers once
+    """Degrees of longitude a ring of unwrapped longitudes (:func:`unwrapped`) covers once
     closed: 0 for a ring that does not wind round a pole, about +-360 for one that does
     (positive eastward)."""
     closing = lon[0] - lon[-1]
@@ -84,31 +77,85 @@ def lonlat_polygon(ring: ArrayLike) -> Any:
     >>> cap.geom_type, cap.bounds[3]
     ('Polygon', 90.0)
     """
+    shape = lonlat_area(np.asarray(ring, dtype=np.float64).reshape(-1, 2))
+    polygons = [g for g in getattr(shape, "geoms", [shape]) if g.geom_type == "Polygon" and g.area > 0]
+    import shapely
+
+    return polygons[0] if len(polygons) == 1 else shapely.MultiPolygon(polygons)
+
+
+def unwrapped(lon: np.ndarray, half_turn: float = 180.0) -> np.ndarray:
+    """Longitudes along a path with each step taken the short way round (within half a
+    turn), so that the path runs on past ±180° instead of jumping back."""
+    turn = 2.0 * half_turn
+    steps = np.diff(lon)
+    return lon[0] + np.concatenate([[0.0], np.cumsum(steps - turn * np.round(steps / turn))])
+
+
+def _in_world(shape: Any, west: float, east: float, half_turn: float) -> Any:
+    """The parts of a lon/lat shape drawn with unwrapped longitudes (between ``west`` and
+    ``east``) brought into [-half_turn, half_turn], each whole turn cut off and shifted
+    back: one piece per side of the antimeridian it crosses."""
     import shapely
     from shapely import affinity
 
-    ring = np.asarray(ring, dtype=np.float64).reshape(-1, 2)
-    lon, lat = _pole_safe(ring[:, 0].copy(), ring[:, 1].copy())
-    lon = _unwrapped(lon)
-    turn = _turn(lon)
-    if abs(turn) > 180.0:
-        # Counter-clockwise seen from outside: eastward round the north pole.
-        pole = 90.0 if turn > 0 else -90.0
-        end = lon[0] + turn
-        coords = np.vstack([np.column_stack([lon, lat]), [[end, lat[0]], [end, pole], [lon[0], pole]]])
-    else:
-        coords = np.column_stack([lon, lat])
-    shape = shapely.make_valid(shapely.Polygon(coords))
-    world = shapely.box(-180.0, -90.0, 180.0, 90.0)
-    parts = [shapely.intersection(affinity.translate(shape, xoff=shift), world) for shift in (-720.0, -360.0, 0.0,
-                                                                                                 360.0, 720.0)]
-    merged = shapely.union_all([p for p in parts if not p.is_empty])
-    if abs(turn) <= 180.0 and shapely.Polygon(coords).exterior.is_ccw is False:
-        # Clockwise in lon/lat without winding round a pole: the ring bounds the rest of
-        # the globe (a region holding both poles), which is the world outside it.
-        merged = shapely.difference(world, merged)
-    polygons = [g for g in getattr(merged, "geoms", [merged]) if g.geom_type == "Polygon" and g.area > 0]
-    return polygons[0] if len(polygons) == 1 else shapely.MultiPolygon(polygons)
+    turn = 2.0 * half_turn
+    world = shapely.box(-half_turn, -half_turn / 2, half_turn, half_turn / 2)
+    first, last = int(np.floor((west + half_turn) / turn)), int(np.floor((east + half_turn) / turn))
+    parts = [shapely.intersection(affinity.translate(shape, xoff=-k * turn), world) for k in range(first, last + 1)]
+    return shapely.union_all([p for p in parts if not p.is_empty])
+
+
+def lonlat_area(ring: np.ndarray, pole: float | None = None, outside: bool | None = None,
+                half_turn: float = 180.0) -> Any:
+    """The area a closed or open ring of lon/lat vertices (edges straight in lon/lat) bounds,
+    valid in the world's box and cut at the antimeridian (a Polygon or MultiPolygon, empty
+    when it has no area).
+
+    A ring whose longitudes wind a whole turn holds a pole and is closed through it:
+    ``pole`` (+1 north, -1 south), or — when None — the pole it runs round counter-clockwise
+    seen from outside the Earth. A ring that does not wind bounds either its inside in
+    lon/lat or, when ``outside`` is true, the rest of the world (a ring around both poles);
+    when None, a clockwise ring is taken to bound the rest. ``half_turn`` is the longitude
+    of the antimeridian in the ring's unit (180 for degrees, 200 for grads)."""
+    import shapely
+
+    lon, lat = _pole_safe(ring[:, 0].copy(), ring[:, 1].copy(), half_turn / 2)
+    lon = unwrapped(lon, half_turn)
+    closing = lon[0] - lon[-1]
+    closing -= 2.0 * half_turn * np.round(closing / (2.0 * half_turn))
+    turn = lon[-1] + closing - lon[0]
+    coords = np.column_stack([lon, lat])
+    winds = abs(turn) > half_turn
+    if winds:
+        if pole is None:
+            # Counter-clockwise seen from outside: eastward round the north pole.
+            pole = 1.0 if turn > 0 else -1.0
+        end, top = lon[0] + turn, np.copysign(half_turn / 2, pole)
+        coords = np.vstack([coords, [[end, lat[0]], [end, top], [lon[0], top]]])
+    drawn = shapely.Polygon(coords)
+    west, east = float(coords[:, 0].min()), float(coords[:, 0].max())
+    merged = _in_world(shapely.make_valid(drawn), west, east, half_turn)
+    if not winds and (outside if outside is not None else drawn.exterior.is_ccw is False):
+        # The ring bounds the rest of the globe (a region holding both poles), which is
+        # the world outside it.
+        merged = shapely.difference(shapely.box(-half_turn, -half_turn / 2, half_turn, half_turn / 2), merged)
+    return merged
+
+
+def lonlat_line(path: np.ndarray, half_turn: float = 180.0) -> Any:
+    """A path of lon/lat vertices (edges straight in lon/lat, each step the short way
+    round) as a LineString in the world's box, or a MultiLineString cut at the antimeridian
+    where it crosses it (as GeoJSON, RFC 7946 §3.1.9, asks)."""
+    import shapely
+
+    lon = unwrapped(np.asarray(path[:, 0], dtype=np.float64), half_turn)
+    line = shapely.LineString(np.column_stack([lon, path[:, 1]]))
+    if lon.min() >= -half_turn and lon.max() <= half_turn:
+        return line
+    parts = _in_world(line, float(lon.min()), float(lon.max()), half_turn)
+    lines = [g for g in getattr(parts, "geoms", [parts]) if g.geom_type == "LineString" and g.length > 0]
+    return lines[0] if len(lines) == 1 else shapely.MultiLineString(lines)
 
 
 def _unit(lonlat: np.ndarray) -> np.ndarray:
@@ -135,19 +182,7 @@ def _arc_points(a: np.ndarray, b: np.ndarray) -> np.ndarray:
 
 def _arc_line(a: np.ndarray, b: np.ndarray) -> Any:
     """The great-circle arc as a LineString, or a MultiLineString split at the antimeridian."""
-    import shapely
-
-    pts = _arc_points(a, b)
-    lon = _unwrapped(pts[:, 0].copy())
-    line = shapely.LineString(np.column_stack([lon, pts[:, 1]]))
-    if lon.min() >= -180.0 and lon.max() <= 180.0:
-        return line
-    from shapely import affinity
-
-    world = shapely.box(-180.0, -90.0, 180.0, 90.0)
-    parts = [shapely.intersection(affinity.translate(line, xoff=s), world) for s in (-360.0, 0.0, 360.0)]
-    lines = [g for p in parts for g in getattr(p, "geoms", [p]) if g.geom_type == "LineString" and g.length > 0]
-    return lines[0] if len(lines) == 1 else shapely.MultiLineString(lines)
+    return lonlat_line(_arc_points(a, b))
 
 
 # --------------------------------------------------------------------------- Delaunay

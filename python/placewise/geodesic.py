@@ -86,9 +86,16 @@ __all__ = [
 #: Fermat–Weber objective is certified convex (see the module notes).
 CONVEX_CAP_DEGREES = 44.0
 
-# Vertices of the polygon standing for a geodesic circle (each at radius / cos(pi / N) from
-# the centre, so the edges pass outside the circle in the tangent plane).
+# The polygon standing for a geodesic circle (:func:`circle_polygon`): at first a 256-gon,
+# its vertex count doubled (up to 16384) while its edges must be pushed out by more than
+# 0.02 % of the radius to clear the circle; each edge, straight in lon/lat, is checked at 9
+# points along it and must clear the circle by 1 mm (after at most 8 pushes outward).
 _CIRCLE_VERTICES = 256
+_CIRCLE_MOST_VERTICES = 16384
+_CIRCLE_SLACK = 2e-4
+_CIRCLE_CHECKS = 9  # odd: the middle of each edge is one of them
+_CIRCLE_CLEARANCE_M = 1e-3
+_CIRCLE_PUSHES = 8
 
 
 def distance(a: ArrayLike, b: ArrayLike) -> np.ndarray:
@@ -397,10 +404,27 @@ def minimax_point(
 
 def circle_polygon(center: ArrayLike, radius: float) -> Any:
     """The geodesic circle of ``radius`` metres about ``center`` (lon/lat) as a shapely
-    polygon in longitude/latitude: a 256-gon whose vertices lie ``radius / cos(pi / 256)``
-    from the centre, drawn by :func:`lonlat_polygon`. A circle crossing the antimeridian is
-    split there into a MultiPolygon (as GeoJSON, RFC 7946 §3.1.9, asks); one around a pole is
-    closed through the pole.
+    polygon in longitude/latitude that holds the whole disc: every point at most ``radius``
+    from the centre lies inside it, so a spatial join to it keeps every point the circle
+    covers. A circle crossing the antimeridian is split there into a MultiPolygon (as
+    GeoJSON, RFC 7946 §3.1.9, asks); one around a pole is closed through the pole.
+
+    How it is drawn: the vertices lie on a geodesic circle about the centre, at equal
+    azimuth steps, and the edges between them are straight in longitude/latitude (as every
+    GIS draws a polygon), which is not the circle's course: between its ends such an edge
+    bends towards the centre, most near the poles. Each edge is therefore checked at 9
+    points along it (geodesic distance from the centre, Karney 2013), and the vertices
+    pushed out until every one lies at least 1 mm beyond ``radius``. The polygon starts as a
+    256-gon and its vertex count doubles (up to 16384) while that push exceeds 0.02 % of the
+    radius, so it reaches at most about ``radius * 1.0002`` from the centre (more only for a
+    circle passing within a few kilometres of a pole, where even 16384 straight edges bend
+    farther).
+
+    Raises
+    ------
+    DegenerateInputError
+        The circle's edges cannot be pushed clear of it (a circle reaching round the
+        Earth to its own centre's antipode).
 
     Examples
     --------
@@ -410,12 +434,59 @@ def circle_polygon(center: ArrayLike, radius: float) -> Any:
     >>> cap = pw.geodesic.circle_polygon([0.0, 89.0], 300_000)            # holds the pole
     >>> cap.geom_type, round(cap.bounds[3], 6)
     ('Polygon', 90.0)
+    >>> import shapely
+    >>> towns = [[0.0, 45.0], [30.0, 65.0], [40.0, 40.0]]        # all three on the smallest circle
+    >>> c = pw.geodesic.enclosing_circle(towns)
+    >>> bool(pw.geodesic.circle_polygon(c.center, c.radius).covers(shapely.points(towns)).all())
+    True
     """
-    # The kernel's ring runs counter-clockwise seen from outside the Earth, with longitudes
-    # unwrapped from the centre's: round a pole they run over a whole turn, up to 540° away.
-    ring = _core.geodesic_circle_ring(np.asarray(center, dtype=np.float64).reshape(1, 2), radius,
-                                      _CIRCLE_VERTICES)["ring"]
+    centre = np.asarray(center, dtype=np.float64).reshape(1, 2)
+    radius = float(radius)
+    goal = radius + _CIRCLE_CLEARANCE_M
+    vertices = _CIRCLE_VERTICES
+    while True:
+        ring, reach = _circle_ring_clear_of(centre, goal, vertices)
+        if vertices >= _CIRCLE_MOST_VERTICES or (ring is not None and reach - goal <= _CIRCLE_SLACK * goal):
+            break
+        vertices *= 2
+    if ring is None:
+        from ._core import DegenerateInputError
+
+        raise DegenerateInputError(
+            f"radius: a lon/lat polygon cannot hold the geodesic circle of {radius:,.0f} m about "
+            f"({centre[0, 0]:g}, {centre[0, 1]:g}); its edges cannot be pushed clear of it")
     return lonlat_polygon(ring)
+
+
+def _circle_ring_clear_of(centre: np.ndarray, goal: float, vertices: int) -> tuple[Any, float]:
+    """The ring of ``vertices`` points on a geodesic circle about ``centre`` whose lon/lat
+    edges all stay at least ``goal`` metres from it (checked at ``_CIRCLE_CHECKS`` points
+    each), and the vertices' distance; (None, inf) when ``_CIRCLE_PUSHES`` pushes outward do
+    not clear it. The kernel puts the vertices at ``radius / cos(pi / vertices)``, so it is
+    asked for ``reach * cos(pi / vertices)`` to put them at ``reach``."""
+    shrink = float(np.cos(np.pi / vertices))
+    reach = goal / shrink  # the planar polygon's own reach: a first guess
+    along = np.arange(1, _CIRCLE_CHECKS + 1)[:, None, None] / (_CIRCLE_CHECKS + 1)
+    for _ in range(_CIRCLE_PUSHES):
+        ring = _core.geodesic_circle_ring(centre, reach * shrink, vertices)["ring"]
+        # Each edge as lonlat_polygon draws it: straight from a vertex to the next, the
+        # next's longitude taken within 180° of it.
+        ends = np.roll(ring, -1, axis=0)
+        step = ends[:, 0] - ring[:, 0]
+        ends[:, 0] = ring[:, 0] + step - 360.0 * np.round(step / 360.0)
+        checks = (ring + along * (ends - ring)).reshape(-1, 2)
+        checks[:, 0] = (checks[:, 0] + 180.0) % 360.0 - 180.0
+        low = float(distance(np.broadcast_to(centre, checks.shape), checks).min())
+        # Along an edge the distance from the centre dips about as a parabola, by at most
+        # ``reach - low``; between checks ``h`` of the edge apart it dips at most
+        # ``(reach - low) * h**2`` below the lowest check, so that much is asked for too.
+        short = goal + (reach - low) / (_CIRCLE_CHECKS + 1) ** 2 - low
+        if short <= 0.0:
+            return ring, reach
+        # An edge bends inward by about as much at any nearby reach: push out by the
+        # shortfall, and a quarter more so that the next check clears it.
+        reach += 1.25 * short
+    return None, float("inf")
 
 
 class _GeodesicCircleTable:

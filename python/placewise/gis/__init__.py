@@ -16,7 +16,13 @@ GeoDataFrames in the input's CRS. Coordinates are handled as follows:
   near the poles, with ``work_crs`` reading "WGS84 ellipsoid" and ``scale_error`` 0. The
   other functions project to a UTM zone — the frame's, or with ``by=``
   each group's own — the kernel runs there, and geometries are projected back: distances
-  and costs are metres and areas square metres. The zone's worst scale error over the data
+  and costs are metres and areas square metres. A shape's edges are straight in the
+  working frame, so vertices are put along them there before they are projected back,
+  until every edge drawn in the caller's CRS lies within 1 cm of its course in the working
+  frame (a spatial join of points to the returned cells then agrees with the cells the
+  kernel made); a shape crossing the antimeridian is cut there into a MultiPolygon or
+  MultiLineString, and a cell or ellipse holding a pole is closed through it, as GeoJSON
+  (RFC 7946 §3.1.9) asks. The zone's worst scale error over the data
   is measured (PROJ's scale factors) and stated in the ``scale_error`` and ``work_crs``
   columns; beyond ``max_scale_error`` (default 0.1 %) the call is refused with an
   ``InputError`` saying how to proceed (split with ``by=``, or choose ``work_crs=``), never

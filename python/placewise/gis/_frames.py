@@ -43,6 +43,7 @@ from ._crs import (
     _working_crs,
     scale_error_over,
 )
+from ._drawn import drawn
 
 # The model of geographic input solved on the ellipsoid (the ``work_crs`` column's value).
 ELLIPSOID = "WGS84 ellipsoid"
@@ -97,20 +98,19 @@ class Prepared:
 
     def back(self, geoms: Any, codes: np.ndarray | None = None) -> Any:
         """Working-CRS geometries as a GeoSeries in the caller's CRS (``codes``: the group of
-        each geometry, when every group has its own frame)."""
+        each geometry, when every group has its own frame), drawn by
+        :func:`~placewise.gis._drawn.drawn`: edges kept on their working-frame course, and
+        in a geographic CRS cut at the antimeridian and closed through a pole they hold."""
         geoms = np.asarray(geoms, dtype=object)
         if self.frames is None or codes is None:
-            series = gpd.GeoSeries(geoms, crs=self.work)
-            if self.crs is not None and self.work is not None and not CRS(self.crs).equals(self.work):
-                series = series.to_crs(self.crs)
-            return series.reset_index(drop=True)
+            return gpd.GeoSeries(drawn(geoms, self.work, self.crs), crs=self.crs if self.work is not None else None)
         assert self.frame_of_group is not None
         out = np.empty(len(geoms), dtype=object)
         which = self.frame_of_group[np.asarray(codes, dtype=np.int64)]
         for k, work in enumerate(self.frames):
             mine = which == k
             if mine.any():
-                out[mine] = gpd.GeoSeries(geoms[mine], crs=work).to_crs(self.crs).values
+                out[mine] = drawn(geoms[mine], work, self.crs)
         return gpd.GeoSeries(out, crs=self.crs)
 
     def model(self, codes: np.ndarray | None = None) -> dict[str, Any]:

@@ -162,7 +162,7 @@ def _lonlat_ring(ring: Any, step: float, to_lonlat: Any, poles: np.ndarray, poin
     it holds in its own CRS (``poles``: the north and south pole there, infinite where the
     CRS cannot show them); one that holds neither is refused.
     """
-    from .._sphere import _pole_safe, _turn, _unwrapped, lonlat_polygon
+    from .._sphere import _pole_safe, _turn, lonlat_polygon, unwrapped
 
     own = np.asarray(shapely.segmentize(ring, step).coords)[:-1, :2]
     lon, lat = to_lonlat.transform(own[:, 0], own[:, 1])
@@ -172,7 +172,7 @@ def _lonlat_ring(ring: Any, step: float, to_lonlat: Any, poles: np.ndarray, poin
                          f"CRS), so it cannot be clipped with the {points} on the sphere; give the region in "
                          "longitude/latitude")
     safe_lon, safe_lat = _pole_safe(lonlat[:, 0].copy(), lonlat[:, 1].copy())
-    safe_lon = _unwrapped(safe_lon)
+    safe_lon = unwrapped(safe_lon)
     turn = _turn(safe_lon)
     if abs(turn) > 180.0:
         # Counter-clockwise seen from outside the Earth: eastward round the north pole.

@@ -231,8 +231,10 @@ def enclosing_circle(
         Geographic input without ``work_crs`` gets the smallest geodesic circle on the
         WGS84 ellipsoid (:func:`placewise.geodesic.enclosing_circle`): ``radius_m`` and
         ``area_m2`` on the ellipsoid, ``gap_m``, ``iterations``, ``converged``, and as
-        geometry a 256-gon in longitude/latitude split at the antimeridian into a
-        MultiPolygon where it crosses it (closed through the pole when it holds one).
+        geometry the polygon of :func:`placewise.geodesic.circle_polygon` in
+        longitude/latitude, which holds the whole geodesic disc (so it covers every point),
+        split at the antimeridian into a MultiPolygon where it crosses it (closed through
+        the pole when it holds one).
 
     Examples
     --------
