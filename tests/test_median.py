@@ -256,3 +256,39 @@ def test_property_groups_equal_separate_calls(pts: np.ndarray, data: st.DataObje
     for g, label in enumerate(grouped.labels):
         single = pw.weber_point(pts[labels == label])
         np.testing.assert_array_equal(grouped.location[g], single.location)
+
+
+def test_iterating_a_result_with_a_skipped_group_reaches_every_solved_group() -> None:
+    # Group 2 has a NaN coordinate and is skipped; iterating stopped there with an
+    # InputError, so group 3 (solved) could not be reached by a loop. Now the skipped group
+    # yields None in its place and every other group equals a call of its own.
+    points = np.array([[0, 0], [4, 0], [0, 3], [np.nan, 1], [2, 2], [10, 10], [12, 10], [10, 13]], float)
+    groups = np.array([1, 1, 1, 2, 2, 3, 3, 3])
+    result = pw.weber_point(points, groups=groups, errors="skip")
+    items = list(result)
+    assert len(items) == len(result) == 3 and items[1] is None
+    for label, item in zip(result.labels, items):
+        if label == 2:
+            continue
+        alone = pw.weber_point(points[groups == label])
+        assert item.cost == alone.cost and np.array_equal(item.location, alone.location)
+    with pytest.raises(pw.InputError, match="group 2 was skipped"):
+        result[2]
+
+
+def test_a_geoseries_or_geodataframe_region_is_the_union_of_its_rows() -> None:
+    # A region given as a GeoSeries (two lots side by side) or a GeoDataFrame failed inside
+    # pandas ("truth value of a Series is ambiguous"). It is the union of its rows: the same
+    # answers as the union drawn by shapely (union_all), the reference.
+    gpd = pytest.importorskip("geopandas")
+    shapely = pytest.importorskip("shapely")
+    points = np.random.default_rng(4).uniform(0, 10, (30, 2))
+    lots = gpd.GeoSeries([shapely.box(6, 0, 8, 4), shapely.box(8, 0, 9, 4)])
+    union = shapely.union_all(lots.values)
+    for region in (lots, gpd.GeoDataFrame(geometry=lots)):
+        got = pw.weber_point(points, region=region)
+        ref = pw.weber_point(points, region=union)
+        assert np.array_equal(got.location, ref.location) and got.cost == ref.cost
+        assert pw.voronoi_cells(points, region).area.sum() == pytest.approx(union.area, rel=1e-12)
+    with pytest.raises(pw.InputError, match="region"):
+        pw.weber_point(points, region=gpd.GeoSeries([], dtype="geometry"))

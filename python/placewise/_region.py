@@ -17,6 +17,13 @@ def region_rings(region: Any) -> tuple[np.ndarray | None, np.ndarray | None]:
     if region is None:
         return None, None
     kind = getattr(region, "geom_type", None)
+    if kind is not None and hasattr(kind, "iloc"):
+        # A GeoSeries or GeoDataFrame (its geom_type is a Series): the region its rows make
+        # together, in its coordinates as they are (these functions are planar).
+        if len(region) == 0:
+            raise InputError("region must be a Polygon, MultiPolygon or an (m, 2) ring; got an empty GeoSeries")
+        region = region.union_all() if hasattr(region, "union_all") else region.unary_union
+        kind = region.geom_type
     if kind is not None:
         if kind == "Polygon":
             polygons = [region]

@@ -145,8 +145,9 @@ class Grouped(Result):
 
     Sized, iterable (single results in label order) and indexable by label
     (``trees[7]`` is group 7's tree). A group skipped with ``errors="skip"`` keeps its
-    place: its ``problem`` says why, its values are NaN (or empty), and indexing it raises
-    ``InputError`` with that reason.
+    place: its ``problem`` says why, its values are NaN (or empty), indexing it raises
+    ``InputError`` with that reason, and iterating yields ``None`` in its place (so that
+    ``zip(result.labels, result)`` stays aligned and the solved groups stay reachable).
 
     Attributes
     ----------
@@ -173,7 +174,7 @@ class Grouped(Result):
 
     def __iter__(self) -> Iterator[Any]:
         for position in range(len(self)):
-            yield self._solved(position)
+            yield None if self.problem[position] is not None else self._item(position)
 
     def __getitem__(self, label: Any) -> Any:
         position = self.position(label)

@@ -296,7 +296,7 @@ def weber_point(
     errors : {"raise", "skip"}
         With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
         label); ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
-    region : shapely Polygon or MultiPolygon, or array_like of shape (m, 2), optional
+    region : shapely Polygon or MultiPolygon, GeoSeries or GeoDataFrame (its rows' union), or (m, 2) ring, optional
         Where the site may go: a polygon with holes (or several), or one ring of vertices,
         in the points' coordinates. Its rings must not cross. One region serves every group.
         A region holding none of the demand is allowed (``region_holds_demand`` is False).

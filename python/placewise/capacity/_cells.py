@@ -260,7 +260,7 @@ def capacity_cells(
         Finite, non-negative demand each site serves at most (in weight units).
     weights : array_like, shape (n,), optional
         Finite, non-negative demand per point, not all zero. Default: all 1.
-    region : shapely Polygon or MultiPolygon, or array_like of shape (r, 2), optional
+    region : shapely Polygon or MultiPolygon, GeoSeries or GeoDataFrame (its rows' union), or (r, 2) ring, optional
         The study region the cells are clipped to (holes and several parts allowed), as for
         :func:`~placewise.voronoi_cells`; it must hold every point. Default: the bounding
         box of the points and sites together, grown by 10 % on every side (a nearly flat box

@@ -210,7 +210,7 @@ def minimax_point(
     errors : {"raise", "skip"}
         With ``groups``: ``"raise"`` fails on the first group without an answer (smallest
         label); ``"skip"`` keeps such a group with its ``problem`` and solves the rest.
-    region : shapely Polygon or MultiPolygon, or array_like of shape (m, 2), optional
+    region : shapely Polygon or MultiPolygon, GeoSeries or GeoDataFrame (its rows' union), or (m, 2) ring, optional
         Where the site may go (a polygon with holes, or one ring), in the points'
         coordinates; its rings must not cross. One region serves every group.
 

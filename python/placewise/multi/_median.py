@@ -261,7 +261,7 @@ def p_median(
         callable is called as ``progress(done, total)`` from the calling thread while the
         search runs. Ctrl-C stops the search within a fraction of a second and raises
         ``KeyboardInterrupt``.
-    region : shapely Polygon or MultiPolygon, or array_like of shape (m, 2), optional
+    region : shapely Polygon or MultiPolygon, GeoSeries or GeoDataFrame (its rows' union), or (m, 2) ring, optional
         Where the new sites may go: a polygon with holes (or several), or one ring, in the
         points' coordinates; its rings must not cross. Every new site then lies in the
         region (boundary included): each site's location step is the restricted

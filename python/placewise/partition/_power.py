@@ -189,7 +189,7 @@ def power_cells(
         Finite power of each site, in squared coordinate units (any sign; only differences
         matter: adding a constant to all changes nothing). A site of power ``r**2`` and one of
         power 0 split the line between them as circles of radius ``r`` and 0 would.
-    region : shapely Polygon or MultiPolygon, or array_like of shape (m, 2), optional
+    region : shapely Polygon or MultiPolygon, GeoSeries or GeoDataFrame (its rows' union), or (m, 2) ring, optional
         The study region, as for :func:`voronoi_cells`. Default: the sites' bounding box
         grown by 10 % on every side (a nearly flat box widened as for :func:`voronoi_cells`).
     groups : array_like of int, shape (n,), optional

@@ -253,7 +253,7 @@ def voronoi_cells(
     ----------
     sites : array_like, shape (n, 2)
         Distinct site locations.
-    region : shapely Polygon or MultiPolygon, or array_like of shape (m, 2), optional
+    region : shapely Polygon or MultiPolygon, GeoSeries or GeoDataFrame (its rows' union), or (m, 2) ring, optional
         The study region: non-convex, with holes, in several parts; or one ring of vertices.
         Default: the sites' bounding box (of each group, with ``groups``) grown by 10 % on
         every side; a nearly flat box grows across by at least 2^-20 of its growth along, so
