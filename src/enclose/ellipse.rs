@@ -43,7 +43,7 @@ pub struct Ellipse {
     /// Length of the semi-minor axis (`≤ semi_major`).
     pub semi_minor: f64,
     /// Direction of the major axis in degrees counter-clockwise from the +x axis, in
-    /// `(−90, 90]`; 0 for a circle.
+    /// `(−90, 90]`; 0 for a circle (semi-axes equal to within the gap or [`ROUND_WITHIN`]).
     pub angle: f64,
     /// `π · semi_major · semi_minor`.
     pub area: f64,
@@ -266,7 +266,13 @@ fn solve(points: &[Point], tol: f64) -> Result<Ellipse> {
     let area = std::f64::consts::PI / det.sqrt();
     // Relative gap in the unit frame (the ratio is scale-free): π/√det(local) over 2π√det Σ.
     let relative_gap = (0.5 / (local_det.sqrt() * m.det.sqrt()) - 1.0).max(0.0);
-    let (semi_major, semi_minor, angle) = axes(shape, det);
+    let (semi_major, semi_minor, mut angle) = axes(shape, det);
+    // So round an ellipse (semi-axes equal to within the certified gap, or a part in 10⁹)
+    // has no axis direction the data fix: what the solve reports is rounding and iteration
+    // noise (tens of degrees on a regular polygon). A circle's angle is 0.
+    if semi_major / semi_minor - 1.0 <= relative_gap.max(ROUND_WITHIN) {
+        angle = 0.0;
+    }
     let mut support: Vec<usize> = (0..h).filter(|&k| u[k] > 0.0).map(|k| hull[k]).collect();
     support.sort_unstable();
     Ok(Ellipse {
@@ -282,6 +288,11 @@ fn solve(points: &[Point], tol: f64) -> Result<Ellipse> {
         converged: converged && relative_gap <= tol,
     })
 }
+
+/// Relative difference of the semi-axes below which (with the certified gap) an ellipse is
+/// reported as a circle, angle 0: coordinates offset from their origin by 10⁴ times the
+/// ellipse's size carry rounding of about 10⁻¹² into its axes.
+const ROUND_WITHIN: f64 = 1e-9;
 
 /// Semi-major axis, semi-minor axis and the major axis's direction (degrees
 /// counter-clockwise from +x, in `(−90, 90]`) of `{d : dᵀ A d ≤ 1}`, from the
@@ -343,6 +354,36 @@ mod tests {
         assert!((e.area - want_area).abs() < 1e-9 * want_area);
         assert_eq!(e.support, vec![0, 1, 2]);
         assert!(e.converged && e.relative_gap <= 1e-10);
+    }
+
+    #[test]
+    fn regular_polygons_give_their_circumcircle_at_angle_zero() {
+        // Closed form: the minimum-area ellipse of a regular polygon is its circumcircle
+        // (radius 5 here, far from the origin); its angle was iteration noise (36.6° for
+        // the triangle, 53.6° for the square). A cloud 1 % longer along 30° keeps its axis.
+        for n in [3usize, 4, 5, 6, 12] {
+            for tol in [1e-7, 1e-10] {
+                let pts: Vec<Point> = (0..n)
+                    .map(|k| {
+                        let t = 0.3 + k as f64 * std::f64::consts::TAU / n as f64;
+                        [1e5 + 5.0 * t.cos(), 2e5 + 5.0 * t.sin()]
+                    })
+                    .collect();
+                let e = enclosing_ellipse(&pts, tol).unwrap();
+                assert!((e.semi_major - 5.0).abs() < 1e-6 && (e.semi_minor - 5.0).abs() < 1e-6, "{n}: {e:?}");
+                assert_eq!(e.angle, 0.0, "{n} sides, tol {tol}");
+            }
+        }
+        let th = 30f64.to_radians();
+        let pts: Vec<Point> = (0..40)
+            .map(|k| {
+                let t = k as f64 * std::f64::consts::TAU / 40.0;
+                let (x, y) = (1.01 * t.cos(), t.sin());
+                [x * th.cos() - y * th.sin(), x * th.sin() + y * th.cos()]
+            })
+            .collect();
+        let e = enclosing_ellipse(&pts, 1e-10).unwrap();
+        assert!((e.angle - 30.0).abs() < 1e-3, "{}", e.angle);
     }
 
     #[test]

@@ -55,7 +55,8 @@ class Ellipse(_EllipseTable, Result):
         Semi-axis lengths (``semi_major >= semi_minor``).
     angle : float
         Direction of the major axis in degrees counter-clockwise from the +x axis, in
-        (-90, 90]; 0 for a circle.
+        (-90, 90]; 0 for a circle (semi-axes equal to within ``relative_gap`` or 1e-9,
+        where the direction is rounding noise).
     area : float
         ``pi * semi_major * semi_minor``.
     support : ndarray of int
