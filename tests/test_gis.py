@@ -643,7 +643,13 @@ def test_voronoi_region_in_another_crs_is_projected():
     region = gpd.GeoSeries([sites.union_all().convex_hull.buffer(0.05)], crs="EPSG:4326").to_crs("EPSG:3035")
     cells = gis.voronoi_cells(sites, region)
     assert cells.crs == sites.crs
-    assert cells["area_m2"].sum() == pytest.approx(region.to_crs(utm_of(sites)).area.iloc[0], rel=1e-6)  # pyproj
+    # pyproj: the region in the working UTM zone, edges kept there (segmentized every 10 m)
+    # and brought to lon/lat, measured on the ellipsoid by pyproj.Geod (the cells' areas
+    # are WGS84 areas for geographic input).
+    there = region.to_crs(utm_of(sites))
+    drawn = gpd.GeoSeries(shapely.segmentize(there.values, 10.0), crs=there.crs).to_crs(4326).iloc[0]
+    on_earth = abs(pyproj.Geod(ellps="WGS84").geometry_area_perimeter(drawn)[0])
+    assert cells["area_m2"].sum() == pytest.approx(on_earth, rel=1e-6)
 
 
 def test_voronoi_cells_by_group_each_tile_the_region():
@@ -1050,14 +1056,14 @@ def test_a_geographic_crs_on_another_meridian_or_unit_is_solved_where_its_points
 
 def test_a_geographic_region_is_densified_before_it_is_projected() -> None:
     # A lon/lat box projected by its four corners alone loses the curved bands along its
-    # edges; densified, the cells tile the box: their areas sum to the box's own area in the
-    # working frame (shapely on the same box densified finely, as the outside reference).
+    # edges; densified, the cells tile the box: their areas sum to the box's own area on
+    # the ellipsoid (pyproj.Geod on the same box densified finely, as the outside reference).
     sites = _lonlat_frame([10.2, 10.8, 10.5], [59.7, 59.8, 60.2])
     box = shapely.box(10.0, 59.5, 11.0, 60.5)
     cells = gis.voronoi_cells(sites, gpd.GeoSeries([box], crs="EPSG:4326"))
-    work = sites.estimate_utm_crs()
-    fine = gpd.GeoSeries([shapely.segmentize(box, 0.001)], crs="EPSG:4326").to_crs(work).iloc[0]
-    assert cells["area_m2"].sum() == pytest.approx(fine.area, rel=1e-6)
+    fine = shapely.segmentize(box, 0.001)
+    on_earth = abs(pyproj.Geod(ellps="WGS84").geometry_area_perimeter(fine)[0])
+    assert cells["area_m2"].sum() == pytest.approx(on_earth, rel=1e-6)
 
 
 def test_max_scale_error_must_be_a_fraction() -> None:
@@ -1155,7 +1161,15 @@ def test_delaunay_of_a_regional_frame_matches_scipy_in_the_utm_zone():
     a, b, c = xy[corners[:, 0]], xy[corners[:, 1]], xy[corners[:, 2]]
     shoelace = 0.5 * ((b[:, 0] - a[:, 0]) * (c[:, 1] - a[:, 1]) - (c[:, 0] - a[:, 0]) * (b[:, 1] - a[:, 1]))
     assert (shoelace > 0).all()  # counter-clockwise, as documented
-    np.testing.assert_allclose(mesh["area_m2"].to_numpy(), shoelace, rtol=1e-9)
+    # The areas are those of the triangles as drawn (edges straight in the zone) on the
+    # ellipsoid: pyproj.Geod on scipy's triangles segmentized every 10 m in the zone and
+    # brought to lon/lat by pyproj; the planar shoelace areas differ by the frame's scale.
+    utm = utm_of(frame)
+    drawn = gpd.GeoSeries(shapely.segmentize(shapely.polygons(np.stack([a, b, c], axis=1)), 10.0),
+                          crs=utm).to_crs(4326)
+    geod_drawn = np.array([pyproj.Geod(ellps="WGS84").geometry_area_perimeter(g) for g in drawn])
+    # Within the drawing's stated 1 cm of each edge: 1 cm times the perimeter, in m².
+    assert (np.abs(mesh["area_m2"].to_numpy() - np.abs(geod_drawn[:, 0])) <= 0.01 * geod_drawn[:, 1]).all()
     geod = pyproj.Geod(ellps="WGS84")
     lon, lat = shapely.get_x(frame.geometry.values), shapely.get_y(frame.geometry.values)
     on_earth = np.array([abs(geod.polygon_area_perimeter(lon[t], lat[t])[0]) for t in corners])

@@ -22,7 +22,9 @@ GeoDataFrames in the input's CRS. Coordinates are handled as follows:
   frame (a spatial join of points to the returned cells then agrees with the cells the
   kernel made); a shape crossing the antimeridian is cut there into a MultiPolygon or
   MultiLineString, and a cell or ellipse holding a pole is closed through it, as GeoJSON
-  (RFC 7946 §3.1.9) asks. The zone's worst scale error over the data
+  (RFC 7946 §3.1.9) asks. The areas of cells and triangles (``area_m2``) are those of the
+  shapes drawn back, on the WGS84 ellipsoid (a planar area in the frame would err by about
+  twice its scale error). The zone's worst scale error over the data
   is measured (PROJ's scale factors) and stated in the ``scale_error`` and ``work_crs``
   columns; beyond ``max_scale_error`` (default 0.1 %) the call is refused with an
   ``InputError`` saying how to proceed (split with ``by=``, or choose ``work_crs=``), never

@@ -363,22 +363,74 @@ def with_unit(result: Any, prepared: Prepared) -> Any:
     return dataclasses.replace(result, unit=prepared.unit)
 
 
+def ellipsoid_area(geom: Any) -> float:
+    """WGS84 area of a lon/lat (Multi)Polygon whose edges are taken as geodesics between its
+    vertices: exteriors counter-clockwise minus holes, square metres."""
+    from shapely.geometry.polygon import orient
+
+    from ..geodesic import ring_area
+
+    # A ring's signed area is reduced to within half the ellipsoid's; a counter-clockwise
+    # ring with a negative area holds more than half of it. The ellipsoid's area is eight
+    # times an octant's (by symmetry).
+    globe = 8.0 * ring_area([[0.0, 0.0], [90.0, 0.0], [0.0, 90.0]])
+
+    def ccw(ring: Any) -> float:
+        area = ring_area(np.asarray(ring.coords)[:-1])
+        return area + globe if area < 0 else area
+
+    total = 0.0
+    for part in getattr(geom, "geoms", [geom]):
+        if part.geom_type != "Polygon" or part.is_empty:
+            continue
+        part = orient(part, 1.0)
+        total += ccw(part.exterior)
+        total -= sum(ccw(h.reverse()) for h in part.interiors)
+    return total
+
+
+def _drawn_areas(out: Any, prepared: Prepared) -> Any:
+    """``out`` with its area column replaced by the WGS84 area of each shape as drawn back
+    (``area_m2``), for geographic input solved in a projected working frame.
+
+    The working frame's area scale is the square of its length scale, so planar areas
+    there err by about twice the frame's ``scale_error``; the shapes drawn back follow the
+    frame's straight edges to 1 cm (:mod:`placewise.gis._drawn`), and their ellipsoidal
+    area (Karney 2013, through :func:`placewise.geodesic.ring_area`) is the area the cell
+    or triangle covers on the Earth."""
+    if prepared.ellipsoid or prepared.crs is None or not CRS(prepared.crs).is_geographic:
+        return out
+    names = [c for c in out.columns if str(c).startswith("area_") and str(c).endswith("2")]
+    if not names:
+        return out
+    shapes = out.geometry if CRS(out.crs).equals(CRS("EPSG:4326")) else out.geometry.to_crs("EPSG:4326")
+    areas = np.array([np.nan if g is None or g.is_empty else ellipsoid_area(g) for g in shapes.values])
+    at = list(out.columns).index(names[0])
+    out = out.drop(columns=names)
+    out.insert(at, "area_m2", areas)
+    return out
+
+
 def framed(
     result: Any, prepared: Prepared, groups: Groups | None, rows: Mapping[str, Any] | None = None,
-    *, count: bool = False, row_columns: Sequence[str] = (),
+    *, count: bool = False, row_columns: Sequence[str] = (), drawn_areas: bool = False,
 ) -> Any:
     """A kernel result as a GeoDataFrame in the caller's CRS, in the user's terms.
 
     Lengths are named with the working CRS's unit; the ``group`` column becomes the ``by``
     column holding the user's values, the ``problem`` column speaks of the user's groups and
     rows, and ``row_columns`` (input row positions, -1 for none) become the frame's index
-    labels (None for none). ``count=True`` adds the rows used (per group).
+    labels (None for none). ``count=True`` adds the rows used (per group). With
+    ``drawn_areas`` (shapes with straight edges in the working frame: cells, triangles),
+    geographic input gets the WGS84 area of each shape drawn back (:func:`_drawn_areas`).
     """
     out = with_unit(result, prepared).to_geodataframe(crs=None if prepared.frames else prepared.work)
     codes = out["group"].to_numpy(dtype=np.int64) if groups is not None else None
     out = gpd.GeoDataFrame(out.drop(columns=out.geometry.name),
                            geometry=prepared.back(out.geometry.values, codes).values, crs=prepared.crs)
     row_labels(out, prepared, row_columns)
+    if drawn_areas:
+        out = _drawn_areas(out, prepared)
     if groups is None and count:
         out.insert(0, "points", len(prepared.xy))
     return in_user_terms(out, result, groups, rows, count=count, prepared=prepared)

@@ -61,7 +61,8 @@ class CellLayers(NamedTuple):
         largest share), ``share`` and ``cost_<unit>2``.
     cells : GeoDataFrame
         The sites' columns with each site's cell (clipped to the region) as geometry, in the
-        sites' CRS: ``area_<unit>2`` (in the working CRS), ``capacity``, ``load``,
+        sites' CRS: ``area_<unit>2`` (in the working CRS; for geographic input
+        ``area_m2``, the WGS84 area of the cell drawn back), ``capacity``, ``load``,
         ``power_<unit>2`` and ``cell_site`` (the index label of the site whose geometry is
         this site's cell: sites at one location share one; None for a site without
         capacity, whose cell is empty).
@@ -228,7 +229,7 @@ def capacity_cells(
                           "sites")
     out_demand = annotated(df.frame, {"site": sf.frame.index.to_numpy(dtype=object)[result.assignment],
                                       "share": result.share, f"cost_{df.unit}2": result.cost}, "demand")
-    polygons = framed(with_unit(result.cells, sf), sf, None, rows, row_columns=("cell_site",))
+    polygons = framed(with_unit(result.cells, sf), sf, None, rows, row_columns=("cell_site",), drawn_areas=True)
     out_cells = _cells_layer(sf, polygons)
     summary = in_user_terms(result.summary(), result, None, rows, prepared=df)
     return CellLayers(out_sites, out_demand, out_cells, summary)

@@ -13,7 +13,6 @@ import numpy as np
 try:
     import geopandas as gpd
     import shapely
-    from shapely.geometry.polygon import orient
 except ImportError:  # pragma: no cover - exercised only without the extra
     raise ImportError("placewise.gis needs geopandas and pyproj: pip install 'placewise[geo]'") from None
 
@@ -30,6 +29,7 @@ from ._frames import (
     Prepared,
     annotated,
     call,
+    ellipsoid_area,
     framed,
     prepare_or_sphere,
     solve_points,
@@ -38,30 +38,6 @@ from ._together import prepare_together, region_geometry, region_lonlat
 from .plans import nearest_site
 
 __all__ = ["delaunay", "power_cells", "voronoi_cells"]
-
-
-def _ellipsoid_area(geom: Any) -> float:
-    """WGS84 area of a lon/lat (Multi)Polygon whose edges are taken as geodesics between its
-    vertices: exteriors counter-clockwise minus holes, square metres."""
-    from ..geodesic import ring_area
-
-    # A ring's signed area is reduced to within half the ellipsoid's; a counter-clockwise
-    # ring with a negative area holds more than half of it. The ellipsoid's area is eight
-    # times an octant's (by symmetry).
-    globe = 8.0 * ring_area([[0.0, 0.0], [90.0, 0.0], [0.0, 90.0]])
-
-    def ccw(ring: Any) -> float:
-        area = ring_area(np.asarray(ring.coords)[:-1])
-        return area + globe if area < 0 else area
-
-    total = 0.0
-    for part in getattr(geom, "geoms", [geom]):
-        if part.geom_type != "Polygon" or part.is_empty:
-            continue
-        part = orient(part, 1.0)
-        total += ccw(part.exterior)
-        total -= sum(ccw(h.reverse()) for h in part.interiors)
-    return total
 
 
 def _sphere_cells(pf: Prepared, region: Any, progress: Any) -> Any:
@@ -73,7 +49,7 @@ def _sphere_cells(pf: Prepared, region: Any, progress: Any) -> Any:
     else:
         clip = region_lonlat(region, pf)
         geoms = shapely.intersection(geoms, clip)
-        area = np.array([_ellipsoid_area(g) for g in geoms])
+        area = np.array([ellipsoid_area(g) for g in geoms])
     out = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=pf.back(geoms).values,
                            crs=pf.crs)
     out["area_m2"] = area
@@ -111,9 +87,10 @@ def delaunay(
     -------
     GeoDataFrame
         One Polygon per triangle: ``corner_a``, ``corner_b``, ``corner_c`` (the corners'
-        index labels, counter-clockwise), ``area_<unit>2`` (in the working CRS's unit:
-        ``area_m2``), plus the ``by`` column and ``problem`` for grouped runs, and
-        ``work_crs`` / ``scale_error`` for geographic input.
+        index labels, counter-clockwise), ``area_<unit>2`` (in the working CRS's unit;
+        for geographic input ``area_m2``, the WGS84 area of the shape drawn back), plus
+        the ``by`` column and ``problem`` for grouped runs, and ``work_crs`` /
+        ``scale_error`` for geographic input.
 
     Examples
     --------
@@ -127,7 +104,7 @@ def delaunay(
     pf, result, rows = solve_points(frame, "frame", _pw.delaunay, _pw.geodesic.delaunay, planar=planar,
                                     centroids=centroids, work_crs=work_crs, max_scale_error=max_scale_error, by=by,
                                     errors=errors, progress=progress)
-    out = framed(result, pf, pf.groups, rows, row_columns=("corner_a", "corner_b", "corner_c"))
+    out = framed(result, pf, pf.groups, rows, row_columns=("corner_a", "corner_b", "corner_c"), drawn_areas=True)
     if pf.ellipsoid:
         out["work_crs"] = SPHERE_MODEL
     return out
@@ -180,7 +157,8 @@ def voronoi_cells(
     -------
     GeoDataFrame
         The sites' columns with Polygon / MultiPolygon cells as geometry and
-        ``area_<unit>2`` (in the working CRS's unit: ``area_m2``), plus ``load`` and
+        ``area_<unit>2`` (in the working CRS's unit; for geographic input ``area_m2``, the
+        WGS84 area of the cell drawn back), plus ``load`` and
         ``points`` with ``demand``, and ``problem`` with ``by``; for geographic input
         ``work_crs`` and ``scale_error``, of the one working frame chosen over the sites and
         the region together (every group shares it when a region is given).
@@ -220,7 +198,7 @@ def voronoi_cells(
     result = call(_pw.voronoi_cells, pf.xy, geom, groups=groups, rows=rows, measured_in=pf.unit,
                   progress=stages.next(), **grouped)
     # The kernel's rows are the sites in input order: one row per site, with its own columns.
-    cells = framed(result, pf, groups, rows)
+    cells = framed(result, pf, groups, rows, drawn_areas=True)
     base = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=cells.geometry.values,
                             crs=pf.crs)
     out = annotated(base, {name: cells[name].to_numpy() for name in cells.columns
@@ -295,7 +273,7 @@ def power_cells(
     grouped = {} if groups is None else {"errors": errors}
     result = call(_pw.power_cells, pf.xy, powers, geom, groups=groups, rows=rows, measured_in=pf.unit,
                   **grouped)
-    cells = framed(result, pf, groups, rows)
+    cells = framed(result, pf, groups, rows, drawn_areas=True)
     out = gpd.GeoDataFrame(pf.frame.drop(columns=pf.frame.geometry.name), geometry=cells.geometry.values,
                            crs=pf.crs)
     for name in cells.columns:
