@@ -317,6 +317,22 @@ def test_cell_areas_equal_shapely_voronoi_intersected_with_region(region_name: s
             assert ours[i].covers(shapely.Point(s))
 
 
+@pytest.mark.parametrize("scale", [1e-170, 1e-250, 1e150])
+def test_cells_at_tiny_and_huge_scales_are_the_scaled_cells(scale: float) -> None:
+    # Points within 1e-170 read as collinear (the orientation determinant underflowed), so
+    # every cell was a strip and the cells covered 676 % of the region ("too thin").
+    # Reference: shapely's Voronoi cells of the unit-scale sites in the unit-scale region
+    # (the diagram is scale invariant); ours are scaled back by shapely (their areas in world
+    # units would underflow below 1e-154).
+    sites = np.random.default_rng(3).random((20, 2))
+    region = shapely.box(-0.5, -0.5, 1.5, 1.5)
+    ref = reference_cells(sites, region)
+    cells = pw.voronoi_cells(sites * scale, shapely.affinity.scale(region, scale, scale, origin=(0, 0)))
+    for ours, theirs in zip(cells.to_shapely(), ref):
+        back = shapely.affinity.scale(ours, 1 / scale, 1 / scale, origin=(0, 0))
+        assert back.symmetric_difference(theirs).area <= 1e-9 * region.area
+
+
 def test_cells_cut_into_pieces_are_multipolygons_with_exterior_first() -> None:
     # One site between two islands: its cell meets both, so it is stored in two pieces.
     sites = np.array([[20.0, 20.0], [70.0, 10.0], [45.0, 20.0]])
