@@ -442,6 +442,49 @@ def test_voronoi_refusals_name_the_problem(sites, region, error, words: str) -> 
         pw.voronoi_cells(sites, region)
 
 
+CROSSING_SITES = np.array([[1, 1], [9, 9], [5, 5], [3, 7]], dtype=float)
+CROSSING_REGIONS = {
+    # Parts overlapping on [4, 6]²: the even-odd rule made the overlap a hole (area 64, not
+    # the union's 68) and the site at (5, 5) got a cell excluding its own location.
+    "overlapping parts": shapely.MultiPolygon([shapely.box(0, 0, 6, 6), shapely.box(4, 4, 10, 10)]),
+    # A bow-tie ring, as an array and as a shapely Polygon.
+    "bow tie": [[0, 0], [10, 10], [10, 0], [0, 10]],
+    "bow tie polygon": shapely.Polygon([(0, 0), (10, 10), (10, 0), (0, 10)]),
+}
+
+
+@pytest.mark.parametrize("name", CROSSING_REGIONS)
+@pytest.mark.parametrize("solve", ["voronoi", "voronoi grouped", "power", "capacity"])
+def test_regions_whose_rings_cross_are_refused_alike(name: str, solve: str) -> None:
+    region = CROSSING_REGIONS[name]
+    # Reference: shapely finds each region invalid (its rings cross), so no tiling of it
+    # has the polygon's area.
+    assert not shapely.is_valid(shapely.Polygon(region) if isinstance(region, list) else region)
+    call = {
+        "voronoi": lambda: pw.voronoi_cells(CROSSING_SITES, region),
+        "voronoi grouped": lambda: pw.voronoi_cells(CROSSING_SITES, region, groups=[0, 0, 1, 1]),
+        "power": lambda: pw.power_cells(CROSSING_SITES, np.zeros(4), region),
+        "capacity": lambda: pw.capacity_cells(CROSSING_SITES, CROSSING_SITES, [1, 1, 1, 1], region=region),
+    }[solve]
+    with pytest.raises(pw.DegenerateInputError, match="boundary edges .* cross .* must not intersect") as e:
+        call()
+    assert e.value.argument == "region"
+
+
+@pytest.mark.parametrize(
+    "region",
+    [
+        shapely.MultiPolygon([shapely.box(0, 0, 5, 5), shapely.box(5, 5, 10, 10)]),  # parts touch at a corner
+        shapely.Polygon([(0, 0), (10, 0), (10, 10), (0, 10)], [[(0, 5), (4, 3), (4, 7)]]),  # hole touches shell
+    ],
+)
+def test_valid_regions_whose_rings_touch_are_still_tiled(region) -> None:
+    # Reference: shapely's validity and area.
+    assert shapely.is_valid(region)
+    for cells in (pw.voronoi_cells(CROSSING_SITES, region), pw.power_cells(CROSSING_SITES, np.zeros(4), region)):
+        assert cells.area.sum() == pytest.approx(region.area, rel=1e-12)
+
+
 @pytest.mark.parametrize("case, points", BAD_POINTS, ids=[n for n, _ in BAD_POINTS])
 def test_voronoi_bad_sites_raise_input_error(case, points) -> None:
     with pytest.raises(pw.InputError):

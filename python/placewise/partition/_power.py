@@ -206,8 +206,9 @@ def power_cells(
     InputError
         For NaN/inf coordinates or powers (naming the row), or bad shapes.
     DegenerateInputError
-        For two sites at one location (whatever their powers), a region without area, or
-        (without a region) sites that all coincide; for a region too thin for its length to
+        For two sites at one location (whatever their powers), a region without area or
+        whose rings cross or overlap (naming the edges), or (without a region) sites that all
+        coincide; for a region too thin for its length to
         be cut at double precision (the cells would not cover it).
 
     Examples
