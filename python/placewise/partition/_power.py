@@ -191,7 +191,7 @@ def power_cells(
     region : shapely Polygon or MultiPolygon, or array_like of shape (m, 2), optional
         The study region, as for :func:`voronoi_cells`. Default: the sites' bounding box
         grown by 10 % on every side (a nearly flat box widened as for :func:`voronoi_cells`).
-    groups : array_like of int, shape (n,), optional
+    groups : array_like of int (int64 range), shape (n,), optional
         Group labels: each group's sites split the region on their own (in parallel); returns
         ``PowerCellSets``.
     errors : {"raise", "skip"}

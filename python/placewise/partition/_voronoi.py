@@ -258,7 +258,7 @@ def voronoi_cells(
         Default: the sites' bounding box (of each group, with ``groups``) grown by 10 % on
         every side; a nearly flat box grows across by at least 2^-20 of its growth along, so
         that sites almost on one line still get cells with area.
-    groups : array_like of int, shape (n,), optional
+    groups : array_like of int (int64 range), shape (n,), optional
         Group labels: split the region among every group's sites on their own (in parallel)
         and return ``VoronoiCellSets``.
     errors : {"raise", "skip"}
