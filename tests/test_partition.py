@@ -471,6 +471,25 @@ def test_regions_whose_rings_cross_are_refused_alike(name: str, solve: str) -> N
     assert e.value.argument == "region"
 
 
+HOLE_OUTSIDE = shapely.Polygon([(0, 0), (10, 0), (10, 10), (0, 10)], [[(20, 20), (30, 20), (30, 30)]])
+
+
+@pytest.mark.parametrize("solve", ["voronoi", "power", "capacity", "weber"])
+def test_a_hole_outside_its_shell_is_refused_not_tiled_as_a_piece(solve: str) -> None:
+    # The even-odd layout read the hole as one more piece: cells of area 150, not 50.
+    # Reference: shapely.is_valid_reason ("Hole lies outside shell") and area 50.
+    assert shapely.is_valid_reason(HOLE_OUTSIDE).startswith("Hole lies outside shell")
+    call = {
+        "voronoi": lambda: pw.voronoi_cells(CROSSING_SITES, HOLE_OUTSIDE),
+        "power": lambda: pw.power_cells(CROSSING_SITES, np.zeros(4), HOLE_OUTSIDE),
+        "capacity": lambda: pw.capacity_cells(CROSSING_SITES, CROSSING_SITES, [1, 1, 1, 1], region=HOLE_OUTSIDE),
+        "weber": lambda: pw.weber_point(CROSSING_SITES, region=HOLE_OUTSIDE),
+    }[solve]
+    with pytest.raises(pw.DegenerateInputError, match=r"hole 0 of polygon 0 is not inside its exterior ring") as e:
+        call()
+    assert e.value.argument == "region"
+
+
 @pytest.mark.parametrize(
     "region",
     [

@@ -207,8 +207,8 @@ def power_cells(
         For NaN/inf coordinates or powers (naming the row), or bad shapes.
     DegenerateInputError
         For two sites at one location (whatever their powers), a region without area or
-        whose rings cross or overlap (naming the edges), or (without a region) sites that all
-        coincide; for a region too thin for its length to
+        whose rings cross or overlap (naming the edges) or with a hole outside its exterior, or
+        (without a region) sites that all coincide; for a region too thin for its length to
         be cut at double precision (the cells would not cover it).
 
     Examples
