@@ -197,3 +197,64 @@ def test_errors_other_than_raise_or_skip_are_refused_without_groups(name: str, f
         args = (*args, 2)
     with pytest.raises(pw.InputError, match='errors must be "raise" or "skip"'):
         function(*args, errors=errors, **options)
+
+
+# --- group labels beyond int64 -------------------------------------------------------------
+
+LABEL_POINTS = np.random.default_rng(22).random((12, 2))
+LABEL_LONLAT = LABEL_POINTS * [2.0, 1.0] + [9.5, 60.0]
+#: A 64-bit hashed id beyond int64 (numpy: a valid uint64, above np.iinfo(np.int64).max).
+BIG = 2**63 + 5
+BIG_GROUPS = np.array([BIG] * 6 + [1] * 6, dtype=np.uint64)
+SMALL_GROUPS = np.array([7] * 6 + [1] * 6, dtype=np.uint64)
+GROUPED: dict[str, Callable[[np.ndarray], Any]] = {
+    "spanning_tree": lambda g: pw.spanning_tree(LABEL_POINTS, groups=g),
+    "steiner_tree": lambda g: pw.steiner_tree(LABEL_POINTS, groups=g),
+    "delaunay": lambda g: pw.delaunay(LABEL_POINTS, groups=g),
+    "voronoi_cells": lambda g: pw.voronoi_cells(LABEL_POINTS, groups=g),
+    "power_cells": lambda g: pw.power_cells(LABEL_POINTS, np.zeros(12), groups=g),
+    "nearest_site": lambda g: pw.nearest_site(LABEL_POINTS, LABEL_POINTS[[0, 7]], groups=g,
+                                              site_groups=g[[0, 7]]),
+    "weber_point": lambda g: pw.weber_point(LABEL_POINTS, groups=g),
+    "enclosing_circle": lambda g: pw.enclosing_circle(LABEL_POINTS, groups=g),
+    "minimax_point": lambda g: pw.minimax_point(LABEL_POINTS, groups=g),
+    "enclosing_ellipse": lambda g: pw.enclosing_ellipse(LABEL_POINTS, groups=g),
+    "p_median": lambda g: pw.p_median(LABEL_POINTS, 1, groups=g),
+    "p_center": lambda g: pw.p_center(LABEL_POINTS, 1, groups=g),
+    "geodesic.weber_point": lambda g: pw.geodesic.weber_point(LABEL_LONLAT, groups=g),
+    "geodesic.enclosing_circle": lambda g: pw.geodesic.enclosing_circle(LABEL_LONLAT, groups=g),
+    "geodesic.minimax_point": lambda g: pw.geodesic.minimax_point(LABEL_LONLAT, groups=g),
+    "geodesic.nearest_site": lambda g: pw.geodesic.nearest_site(LABEL_LONLAT, LABEL_LONLAT[[0, 7]], groups=g,
+                                                                site_groups=g[[0, 7]]),
+}
+
+
+@pytest.mark.parametrize("name", GROUPED)
+def test_uint64_labels_beyond_int64_are_refused_by_value(name: str) -> None:
+    # Such labels were wrapped to negative int64 labels (2**63 + 5 -> -9223372036854775803):
+    # results then named groups the caller never gave, and indexing by the real label failed.
+    assert BIG > np.iinfo(np.int64).max  # numpy: no int64 holds it
+    with pytest.raises(pw.InputError, match=rf"groups\[0\] is {BIG}, above the largest int64 label") as e:
+        GROUPED[name](BIG_GROUPS)
+    assert e.value.argument == "groups"
+    # uint64 labels within int64 keep their values (reference: numpy.unique of the labels).
+    result = GROUPED[name](SMALL_GROUPS)
+    assert np.array_equal(np.asarray(result.labels), np.unique(SMALL_GROUPS).astype(np.int64))
+
+
+@pytest.mark.parametrize("solve", ["nearest_site", "geodesic.nearest_site"])
+def test_uint64_site_labels_beyond_int64_are_refused_by_value(solve: str) -> None:
+    sites = (LABEL_POINTS if solve == "nearest_site" else LABEL_LONLAT)[[0, 7]]
+    points = LABEL_POINTS if solve == "nearest_site" else LABEL_LONLAT
+    fn = pw.nearest_site if solve == "nearest_site" else pw.geodesic.nearest_site
+    site_groups = np.array([1, 2**64 - 1], dtype=np.uint64)  # wrapped to [1, -1] before
+    with pytest.raises(pw.InputError, match=rf"site_groups\[1\] is {2**64 - 1}") as e:
+        fn(points, sites, groups=np.ones(12, dtype=np.uint64), site_groups=site_groups)
+    assert e.value.argument == "site_groups"
+
+
+def test_uint64_fixed_labels_beyond_int64_are_refused_by_value() -> None:
+    fixed_groups = np.array([2**63], dtype=np.uint64)  # wrapped to -2**63 before
+    with pytest.raises(pw.InputError, match=rf"fixed_groups\[0\] is {2**63}") as e:
+        pw.p_median(LABEL_POINTS, 1, groups=SMALL_GROUPS, fixed=LABEL_POINTS[:1], fixed_groups=fixed_groups)
+    assert e.value.argument == "fixed_groups"

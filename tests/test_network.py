@@ -157,6 +157,26 @@ def test_grid_mst_has_length_k_squared_minus_one(k: int) -> None:
     assert pw.spanning_tree(pts).length == pytest.approx(k * k - 1, rel=1e-14)
 
 
+@pytest.mark.parametrize("scale", [1e160, 1e250, 1e-170, 1e-200, 1e-300])
+def test_mst_and_steiner_saving_are_scale_invariant_at_huge_and_tiny_coordinates(scale: float) -> None:
+    # Squared lengths overflowed beyond about 1e154 and underflowed below about 1e-162, so
+    # every edge tied and the "tree" took a square's diagonal (3.414 instead of 3).
+    square = np.array([[0, 0], [1, 0], [1, 1], [0, 1]], dtype=float) * scale
+    # Closed form: the unit square's MST is three sides, its Steiner tree 1 + √3 long.
+    assert pw.spanning_tree(square).length / scale == pytest.approx(3.0, rel=1e-14)
+    tree = pw.steiner_tree(square)
+    assert tree.mst_length / scale == pytest.approx(3.0, rel=1e-14)
+    assert tree.saving == pytest.approx(1 - (1 + math.sqrt(3)) / 3, rel=1e-9)
+    pts = np.random.default_rng(3).random((20, 2))
+    # Reference: scipy.sparse.csgraph.minimum_spanning_tree on the complete graph of the same
+    # points at scale 1 (a minimum spanning tree is scale invariant).
+    reference = scipy_mst_length(pts)
+    assert pw.spanning_tree(pts * scale).length / scale == pytest.approx(reference, rel=1e-12)
+    tree = pw.steiner_tree(pts * scale)
+    assert tree.mst_length / scale == pytest.approx(reference, rel=1e-12)
+    assert tree.saving == pytest.approx(1 - tree.length / scale / reference, rel=1e-9)
+
+
 def test_mst_degenerate_inputs() -> None:
     one = pw.spanning_tree([[1.0, 2.0]])
     assert len(one.end_a) == 0 and one.length == 0.0

@@ -317,6 +317,22 @@ def test_cell_areas_equal_shapely_voronoi_intersected_with_region(region_name: s
             assert ours[i].covers(shapely.Point(s))
 
 
+@pytest.mark.parametrize("scale", [1e-170, 1e-250, 1e150])
+def test_cells_at_tiny_and_huge_scales_are_the_scaled_cells(scale: float) -> None:
+    # Points within 1e-170 read as collinear (the orientation determinant underflowed), so
+    # every cell was a strip and the cells covered 676 % of the region ("too thin").
+    # Reference: shapely's Voronoi cells of the unit-scale sites in the unit-scale region
+    # (the diagram is scale invariant); ours are scaled back by shapely (their areas in world
+    # units would underflow below 1e-154).
+    sites = np.random.default_rng(3).random((20, 2))
+    region = shapely.box(-0.5, -0.5, 1.5, 1.5)
+    ref = reference_cells(sites, region)
+    cells = pw.voronoi_cells(sites * scale, shapely.affinity.scale(region, scale, scale, origin=(0, 0)))
+    for ours, theirs in zip(cells.to_shapely(), ref):
+        back = shapely.affinity.scale(ours, 1 / scale, 1 / scale, origin=(0, 0))
+        assert back.symmetric_difference(theirs).area <= 1e-9 * region.area
+
+
 def test_cells_cut_into_pieces_are_multipolygons_with_exterior_first() -> None:
     # One site between two islands: its cell meets both, so it is stored in two pieces.
     sites = np.array([[20.0, 20.0], [70.0, 10.0], [45.0, 20.0]])
@@ -424,6 +440,68 @@ def test_to_geojson_round_trips_through_shapely() -> None:
 def test_voronoi_refusals_name_the_problem(sites, region, error, words: str) -> None:
     with pytest.raises(error, match=words):
         pw.voronoi_cells(sites, region)
+
+
+CROSSING_SITES = np.array([[1, 1], [9, 9], [5, 5], [3, 7]], dtype=float)
+CROSSING_REGIONS = {
+    # Parts overlapping on [4, 6]²: the even-odd rule made the overlap a hole (area 64, not
+    # the union's 68) and the site at (5, 5) got a cell excluding its own location.
+    "overlapping parts": shapely.MultiPolygon([shapely.box(0, 0, 6, 6), shapely.box(4, 4, 10, 10)]),
+    # A bow-tie ring, as an array and as a shapely Polygon.
+    "bow tie": [[0, 0], [10, 10], [10, 0], [0, 10]],
+    "bow tie polygon": shapely.Polygon([(0, 0), (10, 10), (10, 0), (0, 10)]),
+}
+
+
+@pytest.mark.parametrize("name", CROSSING_REGIONS)
+@pytest.mark.parametrize("solve", ["voronoi", "voronoi grouped", "power", "capacity"])
+def test_regions_whose_rings_cross_are_refused_alike(name: str, solve: str) -> None:
+    region = CROSSING_REGIONS[name]
+    # Reference: shapely finds each region invalid (its rings cross), so no tiling of it
+    # has the polygon's area.
+    assert not shapely.is_valid(shapely.Polygon(region) if isinstance(region, list) else region)
+    call = {
+        "voronoi": lambda: pw.voronoi_cells(CROSSING_SITES, region),
+        "voronoi grouped": lambda: pw.voronoi_cells(CROSSING_SITES, region, groups=[0, 0, 1, 1]),
+        "power": lambda: pw.power_cells(CROSSING_SITES, np.zeros(4), region),
+        "capacity": lambda: pw.capacity_cells(CROSSING_SITES, CROSSING_SITES, [1, 1, 1, 1], region=region),
+    }[solve]
+    with pytest.raises(pw.DegenerateInputError, match="boundary edges .* cross .* must not intersect") as e:
+        call()
+    assert e.value.argument == "region"
+
+
+HOLE_OUTSIDE = shapely.Polygon([(0, 0), (10, 0), (10, 10), (0, 10)], [[(20, 20), (30, 20), (30, 30)]])
+
+
+@pytest.mark.parametrize("solve", ["voronoi", "power", "capacity", "weber"])
+def test_a_hole_outside_its_shell_is_refused_not_tiled_as_a_piece(solve: str) -> None:
+    # The even-odd layout read the hole as one more piece: cells of area 150, not 50.
+    # Reference: shapely.is_valid_reason ("Hole lies outside shell") and area 50.
+    assert shapely.is_valid_reason(HOLE_OUTSIDE).startswith("Hole lies outside shell")
+    call = {
+        "voronoi": lambda: pw.voronoi_cells(CROSSING_SITES, HOLE_OUTSIDE),
+        "power": lambda: pw.power_cells(CROSSING_SITES, np.zeros(4), HOLE_OUTSIDE),
+        "capacity": lambda: pw.capacity_cells(CROSSING_SITES, CROSSING_SITES, [1, 1, 1, 1], region=HOLE_OUTSIDE),
+        "weber": lambda: pw.weber_point(CROSSING_SITES, region=HOLE_OUTSIDE),
+    }[solve]
+    with pytest.raises(pw.DegenerateInputError, match=r"hole 0 of polygon 0 is not inside its exterior ring") as e:
+        call()
+    assert e.value.argument == "region"
+
+
+@pytest.mark.parametrize(
+    "region",
+    [
+        shapely.MultiPolygon([shapely.box(0, 0, 5, 5), shapely.box(5, 5, 10, 10)]),  # parts touch at a corner
+        shapely.Polygon([(0, 0), (10, 0), (10, 10), (0, 10)], [[(0, 5), (4, 3), (4, 7)]]),  # hole touches shell
+    ],
+)
+def test_valid_regions_whose_rings_touch_are_still_tiled(region) -> None:
+    # Reference: shapely's validity and area.
+    assert shapely.is_valid(region)
+    for cells in (pw.voronoi_cells(CROSSING_SITES, region), pw.power_cells(CROSSING_SITES, np.zeros(4), region)):
+        assert cells.area.sum() == pytest.approx(region.area, rel=1e-12)
 
 
 @pytest.mark.parametrize("case, points", BAD_POINTS, ids=[n for n, _ in BAD_POINTS])

@@ -7,7 +7,7 @@ from typing import Any
 
 import numpy as np
 
-from ._core import InputError
+from ._core import DegenerateInputError, InputError
 
 __all__ = ["candidates_in_region", "draw_region", "region_rings"]
 
@@ -31,12 +31,14 @@ def region_rings(region: Any) -> tuple[np.ndarray | None, np.ndarray | None]:
             polygons = list(region.geoms)
         else:
             raise InputError(f"region must be a Polygon, MultiPolygon or an (m, 2) ring; got a {kind}")
-        rings = [
-            np.asarray(ring.coords, dtype=np.float64)[:, :2]
-            for polygon in polygons
-            if not polygon.is_empty
-            for ring in (polygon.exterior, *polygon.interiors)
-        ]
+        rings = []
+        for p, polygon in enumerate(polygons):
+            if polygon.is_empty:
+                continue
+            shell, *holes = (np.asarray(ring.coords, dtype=np.float64)[:, :2]
+                             for ring in (polygon.exterior, *polygon.interiors))
+            _check_holes_inside(shell, holes, p)
+            rings += [shell, *holes]
     else:
         try:
             ring = np.asarray(region, dtype=np.float64)
@@ -49,6 +51,36 @@ def region_rings(region: Any) -> tuple[np.ndarray | None, np.ndarray | None]:
     np.cumsum([len(r) for r in rings], out=offsets[1:])
     vertices = np.concatenate(rings) if rings else np.empty((0, 2))
     return vertices, offsets
+
+
+def _check_holes_inside(shell: np.ndarray, holes: list[np.ndarray], polygon: int) -> None:
+    """Refuse a hole of polygon ``polygon`` with a vertex outside its exterior ring.
+
+    The compiled layout reads rings by the even-odd rule, where a hole outside its shell
+    would count as one more piece of the region; only here is it known which ring is a hole.
+    The test is the kernels' exact one on the hole's vertices (boundary included, so holes
+    touching the shell pass); a hole whose vertices lie inside but whose edges leave the shell
+    crosses it, which the kernels' crossing check refuses, as it does a shell it cannot read.
+    """
+    if not holes:
+        return
+    from . import _core
+
+    vertices = np.concatenate(holes)
+    try:
+        inside = _core.region_covers(vertices, shell, np.array([0, len(shell)], dtype=np.int64))
+    except InputError:
+        return
+    if inside.all():
+        return
+    first = int(np.flatnonzero(~inside)[0])
+    hole = int(np.searchsorted(np.cumsum([len(h) for h in holes]), first, side="right"))
+    x, y = (float(c) for c in vertices[first])
+    error = DegenerateInputError(
+        f"region: hole {hole} of polygon {polygon} is not inside its exterior ring (its vertex ({x!r}, {y!r}) lies "
+        "outside it); a polygon's holes must lie inside its exterior")
+    error.argument, error.group, error.row, error.detail = "region", None, None, None
+    raise error
 
 
 def draw_region(ax: Any, region: tuple[np.ndarray, np.ndarray] | None) -> None:

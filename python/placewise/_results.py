@@ -211,7 +211,7 @@ class Grouped(Result):
     @staticmethod
     def _row_groups_of(labels: np.ndarray, groups: Any) -> np.ndarray:
         """The group position of every input row, from the sorted labels and the ``groups=``
-        argument the kernel accepted."""
+        argument the kernel accepted (it refuses labels beyond int64, so the cast is exact)."""
         return np.searchsorted(labels, np.asarray(groups).astype(np.int64).ravel())
 
     @property

@@ -165,7 +165,7 @@ def weber_point(
         ``[longitude, latitude]`` in degrees.
     weights : array_like, shape (n,), optional
         Finite, non-negative demand per point, not all zero. Default: all 1.
-    groups : array_like of int, shape (n,), optional
+    groups : array_like of int (int64 range), shape (n,), optional
         Group labels: solve every group at once and return ``WeberPoints``.
     tol : float
         Stop when the certified gap is at most ``tol * cost`` plus the allowance for
@@ -343,7 +343,7 @@ def minimax_point(
         ``[longitude, latitude]`` in degrees.
     weights : array_like, shape (n,), optional
         Finite, non-negative weight per point, not all zero. Default: all 1.
-    groups : array_like of int, shape (n,), optional
+    groups : array_like of int (int64 range), shape (n,), optional
         Group labels: solve every group at once and return ``GeodesicCenters``.
     tol : float
         Stop when the certified gap is at most ``tol * weighted_radius`` plus the allowance

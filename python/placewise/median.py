@@ -286,7 +286,7 @@ def weber_point(
         Demand locations (planar coordinates, e.g. projected metres).
     weights : array_like, shape (n,), optional
         Finite, non-negative demand per point, not all zero. Default: all 1.
-    groups : array_like of int, shape (n,), optional
+    groups : array_like of int (int64 range), shape (n,), optional
         Group labels: solve every group at once (in parallel) and return ``WeberPoints``.
     metric : {"euclidean", "manhattan"}
     tol : float

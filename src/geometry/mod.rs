@@ -202,6 +202,21 @@ impl WorkingFrame {
         points.iter().map(|&p| self.to_local(p)).collect()
     }
 
+    /// `a − b` in local units: the world difference scaled by the frame's factor, without the
+    /// shift (a difference needs none, and shifting first would round far-offset coordinates).
+    ///
+    /// Why: lengths compared in local units neither overflow (coordinates near 1e160, whose
+    /// squared differences pass f64::MAX) nor underflow (near 1e-170), and since the scale is
+    /// a power of two they order exactly as the world lengths do.
+    pub fn local_difference(self, a: Point, b: Point) -> Point {
+        let d = sub(a, b);
+        if d[0].is_finite() && d[1].is_finite() {
+            return scale(d, self.factor);
+        }
+        // A difference beyond f64::MAX (points far across the origin): halved first.
+        scale(sub(scale(a, 0.5), scale(b, 0.5)), 2.0 * self.factor)
+    }
+
     /// A local length in world units.
     pub fn world_length(self, length: f64) -> f64 {
         length / self.factor

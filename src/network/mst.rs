@@ -10,7 +10,7 @@ use super::union_find::UnionFind;
 use crate::cancel::{cancelled, Steps, Watch};
 use crate::error::Result;
 use crate::geometry::predicates::all_collinear;
-use crate::geometry::{distance, distance_squared, Point};
+use crate::geometry::{distance, dot, Point, WorkingFrame};
 use crate::partition::{delaunay_watched, triangulated_positions};
 
 /// Above this many candidate edges the sort runs on all cores.
@@ -81,11 +81,18 @@ const EDGE_BLOCK: usize = 1 << 16;
 fn kruskal_watched(points: &[Point], candidates: Vec<[usize; 2]>, watch: &Watch) -> Result<Vec<[usize; 2]>> {
     let n = points.len();
     let mut steps = Steps::new(watch, candidates.len() as u64);
+    // Lengths in the points' working frame (unit size, power-of-two scale): squared world
+    // lengths overflow to infinity beyond about 1e154 and underflow to zero below about
+    // 1e-162, which tied every edge. In the frame, lengths are at most about 1.5 and edges
+    // of the triangulation no shorter than about 2^-142 of the extent (positions closer to
+    // the origin are flushed, see `triangulated_positions`), so their squares stay normal.
     // Squared lengths are non-negative, so their bit patterns sort as the numbers do; the
     // candidate's position breaks ties, which makes the order total and the result
     // independent of the sort's (parallel) schedule.
+    let frame = WorkingFrame::of(points);
     let key = |k: usize, e: &[usize; 2]| -> u128 {
-        ((distance_squared(points[e[0]], points[e[1]]).to_bits() as u128) << 64) | k as u128
+        let d = frame.local_difference(points[e[0]], points[e[1]]);
+        ((dot(d, d).to_bits() as u128) << 64) | k as u128
     };
     let mut keyed: Vec<u128> = if candidates.len() > PARALLEL_SORT {
         candidates.par_iter().enumerate().map(|(k, e)| key(k, e)).collect()
@@ -199,6 +206,29 @@ mod tests {
             }
         }
         length
+    }
+
+    #[test]
+    fn huge_and_tiny_coordinates_keep_the_minimum_tree() {
+        // Squared lengths overflowed (beyond about 1e154) or underflowed (below about 1e-162),
+        // tying every edge: a square scaled by 1e-200 got a diagonal into its tree. Reference:
+        // the MST is scale invariant, so its length is the scale times that of the unit-scale
+        // points; closed form for the unit square (3 sides), Prim on the complete graph
+        // (hypot does not overflow or underflow at these scales) for a random cloud.
+        let square = [[0.0, 0.0], [1.0, 0.0], [1.0, 1.0], [0.0, 1.0]];
+        let cloud = crate::partition::testing::lcg_cloud(40, 7, [0.0, 0.0], 1.0);
+        let unit = prim_length(&cloud);
+        for s in [1e160, 1e250, 1e300, 1e-170, 1e-200, 1e-300] {
+            let sq: Vec<Point> = square.iter().map(|p| [p[0] * s, p[1] * s]).collect();
+            let edges = mst_edges(&sq).unwrap();
+            assert!(is_spanning_tree(4, &edges));
+            assert!((total(&sq, &edges) / s - 3.0).abs() <= 1e-12, "scale {s}: {edges:?}");
+            let pts: Vec<Point> = cloud.iter().map(|p| [p[0] * s, p[1] * s]).collect();
+            let edges = mst_edges(&pts).unwrap();
+            assert!(is_spanning_tree(pts.len(), &edges));
+            assert!((total(&pts, &edges) / s - unit).abs() <= 1e-12 * unit, "scale {s}");
+            assert!((total(&pts, &edges) - prim_length(&pts)).abs() <= 1e-12 * prim_length(&pts), "scale {s}");
+        }
     }
 
     #[test]

@@ -28,13 +28,15 @@ use crate::batch::{run_grouped_placed, GroupWatch, Grouped, OnGroupError, RowPla
 use crate::cancel::{cancelled, each_watched, Watch};
 use crate::error::{Error, Result};
 use crate::geometry::predicates::{all_collinear, orient2d};
+use crate::geometry::region::checked_rings;
 use crate::geometry::{
     dot, location_key, ring_signed_area, sub, validate_points, BoundingBox, Point, Weights, WorkingFrame,
 };
 
 /// A study region as closed rings (exteriors and holes alike; a point is inside when it is
 /// enclosed by an odd number of rings). Ring `r` is `vertices[ring_offsets[r]..ring_offsets[r + 1]]`;
-/// a ring may repeat its first vertex at its end.
+/// a ring may repeat its first vertex at its end. Rings may touch at vertices but must not
+/// cross or overlap along an edge (checked: see [`checked_rings`]).
 #[derive(Debug, Clone, Copy)]
 pub struct Region<'a> {
     /// Every ring's vertices, one ring after another.
@@ -148,33 +150,11 @@ pub(crate) fn default_rings(sites: &[Point]) -> Result<Vec<Vec<Point>>> {
     Ok(vec![vec![lo, [hi[0], lo[1]], hi, [lo[0], hi[1]]]])
 }
 
-/// The region's rings with closing repeats removed (rings of fewer than three vertices
-/// dropped), after checking its vertices and ring offsets.
+/// The region's rings, checked as every region is ([`checked_rings`]: vertices, offsets,
+/// rings with area, and no edges that cross or overlap, which would make the even-odd
+/// set differ from the polygon the rings draw).
 pub(super) fn region_rings(region: Region<'_>) -> Result<Vec<Vec<Point>>> {
-    validate_points("region", region.vertices, 0)?;
-    let offsets = region.ring_offsets;
-    let bad = |reason: String| Error::InvalidParameter { name: "region", reason };
-    if offsets.first() != Some(&0) || offsets.last() != Some(&region.vertices.len()) {
-        return Err(bad(format!("ring offsets must run from 0 to the number of vertices ({})", region.vertices.len())));
-    }
-    if let Some(r) = offsets.windows(2).position(|w| w[0] > w[1]) {
-        return Err(bad(format!("ring offsets must be ascending; offset {} > offset {}", r, r + 1)));
-    }
-    let rings: Vec<Vec<Point>> = offsets
-        .windows(2)
-        .map(|w| {
-            let mut ring = region.vertices[w[0]..w[1]].to_vec();
-            while ring.len() > 1 && ring.first() == ring.last() {
-                ring.pop();
-            }
-            ring
-        })
-        .filter(|ring| ring.len() >= 3)
-        .collect();
-    if rings.is_empty() {
-        return Err(Error::Degenerate { argument: "region", reason: "the region has no area".into() });
-    }
-    Ok(rings)
+    checked_rings(region.vertices, region.ring_offsets)
 }
 
 /// True when the rings are one rectangle with axis-aligned sides.
@@ -518,8 +498,9 @@ fn repair(cell: Vec<Vec<Vec<Point>>>) -> Vec<Vec<Vec<Point>>> {
 /// # Errors
 /// - [`Error::TooFewPoints`] when `sites` is empty;
 /// - [`Error::NonFiniteCoordinate`] for a NaN or infinite coordinate (sites or region);
-/// - [`Error::Degenerate`] for repeated sites, a region without area, or (without a region)
-///   sites that all coincide;
+/// - [`Error::Degenerate`] for repeated sites, a region without area or with edges that
+///   cross or overlap (a self-crossing ring, overlapping parts), or (without a region) sites
+///   that all coincide;
 /// - [`Error::InvalidParameter`] for ring offsets that do not describe the vertices.
 ///
 /// # Runtime
@@ -553,7 +534,7 @@ pub fn voronoi_cells_watched(sites: &[Point], region: Option<Region<'_>>, watch:
 ///
 /// # Errors
 /// The region's own errors ([`Error::NonFiniteCoordinate`], [`Error::InvalidParameter`],
-/// [`Error::Degenerate`] for a region without rings) for the whole run;
+/// [`Error::Degenerate`] for a region without area or with crossing edges) for the whole run;
 /// [`Error::LengthMismatch`] when `labels` does not have one entry per site; with
 /// [`OnGroupError::Raise`], the errors of [`voronoi_cells`] for the failing group with the
 /// smallest label (with `Skip`, they are that group's outcome).
@@ -962,6 +943,36 @@ mod tests {
         ));
         let region = Region { vertices: &flat, ring_offsets: &[0, 2] };
         assert!(matches!(voronoi_cells(&[[0.0, 0.0]], Some(region)), Err(Error::InvalidParameter { .. })));
+    }
+
+    #[test]
+    fn regions_whose_rings_cross_are_refused_not_tiled_even_odd() {
+        // Closed forms: the bow tie's diagonals (0,0)-(10,10) and (10,0)-(0,10) cross at
+        // (5, 5); the boxes [0, 6]² and [4, 10]² overlap on [4, 6]², their edges crossing at
+        // (6, 4) and (4, 6). Their even-odd sets (areas 50 and 64) are not the polygons drawn
+        // (no simple polygon, and a union of area 68), so cells of them were no answer.
+        let sites = [[1.0, 1.0], [9.0, 9.0], [5.0, 5.0], [3.0, 7.0]];
+        let bow_tie = [[0.0, 0.0], [10.0, 10.0], [10.0, 0.0], [0.0, 10.0]];
+        let mut boxes = vec![[0.0, 0.0], [6.0, 0.0], [6.0, 6.0], [0.0, 6.0]];
+        boxes.extend([[4.0, 4.0], [10.0, 4.0], [10.0, 10.0], [4.0, 10.0]]);
+        let cases = [
+            Region { vertices: &bow_tie, ring_offsets: &[0, 4] },
+            Region { vertices: &boxes, ring_offsets: &[0, 4, 8] },
+        ];
+        for region in cases {
+            for e in [
+                voronoi_cells(&sites, Some(region)).unwrap_err(),
+                crate::partition::power_cells(&sites, &[0.0; 4], Some(region)).unwrap_err(),
+            ] {
+                assert!(matches!(e, Error::Degenerate { argument: "region", .. }), "{e:?}");
+                assert!(e.to_string().contains("cross"), "{e}");
+            }
+        }
+        // Parts touching at a corner are a valid region: closed form 25 + 25.
+        let touching =
+            [[0.0, 0.0], [5.0, 0.0], [5.0, 5.0], [0.0, 5.0], [5.0, 5.0], [10.0, 5.0], [10.0, 10.0], [5.0, 10.0]];
+        let cells = voronoi_cells(&sites, Some(Region { vertices: &touching, ring_offsets: &[0, 4, 8] })).unwrap();
+        assert!((cells.area.iter().sum::<f64>() - 50.0).abs() < 1e-9);
     }
 
     /// The L-shaped region with a hole of the Python property test, in its scaled frame.

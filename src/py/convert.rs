@@ -129,7 +129,8 @@ pub(crate) fn weights_arg<'py>(
     }
 }
 
-/// Group labels of shape `(n,)`: any integer (or boolean) dtype, converted to int64 once.
+/// Group labels of shape `(n,)`: any integer (or boolean) dtype, converted to int64 once; a
+/// uint64 value beyond the int64 range is refused, naming the argument, the row and the value.
 pub(crate) fn labels_arg<'py>(obj: &Bound<'py, PyAny>, argument: &str) -> PyResult<PyReadonlyArray1<'py, i64>> {
     if let Ok(array) = obj.cast::<PyArray1<i64>>() {
         if borrowable(array) {
@@ -149,6 +150,25 @@ pub(crate) fn labels_arg<'py>(obj: &Bound<'py, PyAny>, argument: &str) -> PyResu
              pandas.factorize(column)[0] will do; placewise.gis and placewise.cluster take a column of any values)"
             ),
         ));
+    }
+    if kind == "u" && size > 0 && as_array.getattr("ndim")?.extract::<usize>()? == 1 {
+        // Labels are int64: a uint64 label at or above 2^63 has no int64 value, and the cast
+        // below would wrap it to a negative label the caller never gave.
+        let row: usize = as_array.call_method0("argmax")?.extract()?;
+        let largest: u64 = as_array.get_item(row)?.extract()?;
+        if largest > i64::MAX as u64 {
+            let err = argument_error(
+                argument,
+                format!(
+                    "{argument}[{row}] is {largest}, above the largest int64 label ({}); labels must fit in int64 \
+                     (codes such as pandas.factorize(column)[0] will do; placewise.gis and placewise.cluster take a \
+                     column of any values)",
+                    i64::MAX
+                ),
+            );
+            err.value(obj.py()).setattr("row", row)?;
+            return Err(err);
+        }
     }
     let converted = contiguous(&as_array, argument, "int64")?;
     match converted.cast_into::<PyArray1<i64>>() {

@@ -135,7 +135,7 @@ def enclosing_circle(
     ----------
     points : array_like, shape (n, 2)
         Planar coordinates (e.g. projected metres).
-    groups : array_like of int, shape (n,), optional
+    groups : array_like of int (int64 range), shape (n,), optional
         Group labels: one circle per group, computed in parallel, returned as ``Circles``.
     seed : int, optional
         Seed of the shuffle, from 0 to 2**64 - 1 (default: a fixed seed). The circle is

@@ -176,7 +176,7 @@ def enclosing_ellipse(
     points : array_like, shape (n, 2)
     tol : float
         Target bound on ``area / minimum_area - 1``; ``0 < tol < 1``.
-    groups : array_like of int, shape (n,), optional
+    groups : array_like of int (int64 range), shape (n,), optional
         Group labels: one ellipse per group, returned as ``Ellipses``.
     errors : {"raise", "skip"}
         With ``groups``: ``"raise"`` fails on the first group without an answer (smallest

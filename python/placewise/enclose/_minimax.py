@@ -205,7 +205,7 @@ def minimax_point(
     points : array_like, shape (n, 2)
     weights : array_like, shape (n,), optional
         Finite, non-negative, not all zero (per group with ``groups``). Default: all 1.
-    groups : array_like of int, shape (n,), optional
+    groups : array_like of int (int64 range), shape (n,), optional
         Group labels: one site per group, returned as ``MinimaxPoints``.
     errors : {"raise", "skip"}
         With ``groups``: ``"raise"`` fails on the first group without an answer (smallest

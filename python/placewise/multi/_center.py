@@ -234,7 +234,7 @@ def p_center(
         work as there. ``groups``, ``fixed_groups``, ``errors``, a ``seed`` other than 0 (the
         discrete search has no random step) and an ``effort`` other than "normal" do not
         apply with candidates and are refused with an ``InputError``.
-    groups : array_like of int, shape (n,), optional
+    groups : array_like of int (int64 range), shape (n,), optional
         Group labels: plan every group at once (in parallel, the same ``p`` for each) and
         return ``CenterPlans``.
     fixed : array_like, shape (f, 2), optional
@@ -243,7 +243,7 @@ def p_center(
         ``candidates``: shape (f,), the indices of the candidates that are existing sites
         (a two-column array is refused: the candidates hold the coordinates); such a
         candidate too may lie outside ``region``.
-    fixed_groups : array_like of int, shape (f,), optional
+    fixed_groups : array_like of int (int64 range), shape (f,), optional
         With ``groups`` and ``fixed`` (and required then): the group label of each fixed
         site. A fixed site serves only its own group; one whose label has no points serves
         nobody.

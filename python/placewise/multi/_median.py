@@ -233,14 +233,14 @@ def p_median(
         short by the limit has a ``relative_gap`` above 0). ``groups``, ``fixed_groups``,
         ``errors`` and an ``effort`` other than "normal" do not apply with candidates and
         are refused with an ``InputError``.
-    groups : array_like of int, shape (n,), optional
+    groups : array_like of int (int64 range), shape (n,), optional
         Group labels: plan every group at once (in parallel, the same ``p`` for each) and
         return ``MedianPlans``.
     fixed : array_like, shape (f, 2), optional
         Existing sites that stay where they are and serve demand too; ``p`` counts only the
         new ones. With ``candidates``: shape (f,), the indices of the candidates that are
         existing sites (a two-column array is refused: the candidates hold the coordinates).
-    fixed_groups : array_like of int, shape (f,), optional
+    fixed_groups : array_like of int (int64 range), shape (f,), optional
         With ``groups`` and ``fixed`` (and required then): the group label of each fixed
         site. A fixed site serves only its own group; one whose label has no points serves
         nobody.

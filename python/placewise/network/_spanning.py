@@ -134,7 +134,7 @@ def spanning_tree(
     ----------
     points : array_like, shape (n, 2)
         Site locations (planar coordinates).
-    groups : array_like of int, shape (n,), optional
+    groups : array_like of int (int64 range), shape (n,), optional
         Group labels: one tree per group (in parallel), returned as ``SpanningTrees``.
     errors : {"raise", "skip"}
         With ``groups``: ``"raise"`` fails on the first group without an answer (smallest

@@ -246,7 +246,7 @@ def steiner_tree(
         proven ``lower_bound``: the branch and cut's LP bound at the stop when every full
         Steiner tree had been generated, else ``0.824 * mst_length`` (Chung and Graham
         1985). ``gap`` and ``relative_gap`` say how far from optimal the tree may be.
-    groups : array_like of int, shape (n,), optional
+    groups : array_like of int (int64 range), shape (n,), optional
         Group labels: one tree per group (in parallel), returned as ``SteinerTrees``.
     errors : {"raise", "skip"}
         With ``groups``: ``"raise"`` fails on the first group without an answer (smallest

@@ -243,7 +243,7 @@ def nearest_site(
         Site locations (repeats allowed; the first copy serves).
     weights : array_like, shape (n,), optional
         Finite, non-negative demand per point, not all zero. Default: all 1.
-    groups, site_groups : array_like of int, shapes (n,) and (k,), optional
+    groups, site_groups : array_like of int (int64 range), shapes (n,) and (k,), optional
         Labels of the points and of the sites, given together: every group of points is
         served by the sites with the same label (in parallel), and ``Allocations`` is
         returned. A label with points but no sites is that group's problem; the sites of a

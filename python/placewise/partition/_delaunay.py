@@ -189,7 +189,7 @@ def delaunay(
     ----------
     points : array_like, shape (n, 2)
         Planar coordinates. Repeated locations are allowed; see ``representative``.
-    groups : array_like of int, shape (n,), optional
+    groups : array_like of int (int64 range), shape (n,), optional
         Group labels: triangulate every group's points on their own (in parallel) and return
         ``DelaunayMeshes``.
     errors : {"raise", "skip"}

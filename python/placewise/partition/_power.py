@@ -192,7 +192,7 @@ def power_cells(
     region : shapely Polygon or MultiPolygon, GeoSeries or GeoDataFrame (its rows' union), or (m, 2) ring, optional
         The study region, as for :func:`voronoi_cells`. Default: the sites' bounding box
         grown by 10 % on every side (a nearly flat box widened as for :func:`voronoi_cells`).
-    groups : array_like of int, shape (n,), optional
+    groups : array_like of int (int64 range), shape (n,), optional
         Group labels: each group's sites split the region on their own (in parallel); returns
         ``PowerCellSets``.
     errors : {"raise", "skip"}
@@ -207,7 +207,8 @@ def power_cells(
     InputError
         For NaN/inf coordinates or powers (naming the row), or bad shapes.
     DegenerateInputError
-        For two sites at one location (whatever their powers), a region without area, or
+        For two sites at one location (whatever their powers), a region without area or
+        whose rings cross or overlap (naming the edges) or with a hole outside its exterior, or
         (without a region) sites that all coincide; for a region too thin for its length to
         be cut at double precision (the cells would not cover it).
 

@@ -255,10 +255,12 @@ def voronoi_cells(
         Distinct site locations.
     region : shapely Polygon or MultiPolygon, GeoSeries or GeoDataFrame (its rows' union), or (m, 2) ring, optional
         The study region: non-convex, with holes, in several parts; or one ring of vertices.
+        Rings may touch at vertices but not cross or overlap, and a polygon's holes lie
+        inside its exterior.
         Default: the sites' bounding box (of each group, with ``groups``) grown by 10 % on
         every side; a nearly flat box grows across by at least 2^-20 of its growth along, so
         that sites almost on one line still get cells with area.
-    groups : array_like of int, shape (n,), optional
+    groups : array_like of int (int64 range), shape (n,), optional
         Group labels: split the region among every group's sites on their own (in parallel)
         and return ``VoronoiCellSets``.
     errors : {"raise", "skip"}
@@ -282,11 +284,12 @@ def voronoi_cells(
     InputError
         For NaN/inf coordinates, bad shapes, or a region of another geometry type.
     DegenerateInputError
-        For repeated sites, a region without area, or (without a region) sites that all
-        coincide; for a region too thin for its length to be cut at double precision (the
-        cells would not cover it); and for a site whose cell is narrower than 2^-40 of the
-        region's size (naming the site and its nearest site's distance), which would come
-        out empty.
+        For repeated sites, a region without area, a region whose rings cross or overlap (a
+        self-crossing ring, overlapping parts: naming the edges) or with a hole outside its
+        exterior, or (without a region) sites that all coincide; for a region too thin for
+        its length to be cut at double precision (the cells would not cover it); and for a
+        site whose cell is narrower than 2^-40 of the region's size (naming the site and its
+        nearest site's distance), which would come out empty.
 
     Examples
     --------

@@ -18,7 +18,7 @@ pub mod search;
 use rstar::primitives::{GeomWithData, Line};
 use rstar::{RTree, AABB};
 
-use super::predicates::orient2d;
+use super::predicates::{all_collinear, orient2d, orientation};
 use super::{add, distance, dot, ring_signed_area, scale, sub, validate_points, BoundingBox, Point};
 use crate::error::{Error, Result};
 
@@ -41,8 +41,50 @@ impl PartialEq for FeasibleRegion {
     }
 }
 
+/// The rings of a region given as `vertices` split at `ring_offsets` (exteriors and holes
+/// alike, inside by the even-odd rule), checked: finite vertices, offsets that describe
+/// them, every ring with area, at least one ring, and no two edges that cross or overlap
+/// (rings may touch at vertices). Closing repeats and consecutive repeated vertices are
+/// removed.
+///
+/// Why here: the even-odd rule reads rings that cross (a bow-tie ring, overlapping parts of
+/// a multi-part region) as a different set than the polygon they draw, so every family that
+/// takes a region checks it with this one test (each edge against those whose boxes meet
+/// its own, found in an R-tree of edges, `rstar`).
+///
+/// # Errors
+/// - [`Error::NonFiniteCoordinate`] (`region`) for a NaN or infinite vertex;
+/// - [`Error::InvalidParameter`] (`region`) for ring offsets that do not describe the
+///   vertices;
+/// - [`Error::Degenerate`] (`region`) for a ring without area, no rings at all, or two
+///   edges that cross or overlap, naming the edges.
+///
+/// # Runtime
+/// O(m log m) for m vertices, plus the edge pairs whose boxes overlap.
+pub fn checked_rings(vertices: &[Point], ring_offsets: &[usize]) -> Result<Vec<Vec<Point>>> {
+    let rings = rings_of(vertices, ring_offsets)?;
+    let segments = segments_of(&rings);
+    if let Some((k, j, how)) = first_conflict(&segments, &index_of(&segments)) {
+        let at = segments[k][0];
+        return Err(Error::Degenerate {
+            argument: "region",
+            reason: format!(
+                "boundary edges {k} and {j} {how} (edge {k} starts at ({}, {})); a region's rings must not \
+                 intersect themselves or each other",
+                at[0], at[1]
+            ),
+        });
+    }
+    Ok(rings)
+}
+
 /// The rings of `vertices` split at `ring_offsets`, with closing repeats and consecutive
-/// repeated vertices removed, after checking the vertices and offsets.
+/// repeated vertices removed, after checking the vertices and offsets and that no ring lies
+/// on one line.
+///
+/// Why "on one line" (exact at any scale) rather than "signed area zero": a bow-tie ring's
+/// lobes cancel, and its fault is the crossing; and the shoelace sum underflows to zero for
+/// rings within about 1e-162.
 fn rings_of(vertices: &[Point], ring_offsets: &[usize]) -> Result<Vec<Vec<Point>>> {
     validate_points("region", vertices, 0)?;
     let bad = |reason: String| Error::InvalidParameter { name: "region", reason };
@@ -62,7 +104,7 @@ fn rings_of(vertices: &[Point], ring_offsets: &[usize]) -> Result<Vec<Vec<Point>
         if ring.is_empty() {
             continue;
         }
-        if ring.len() < 3 || ring_signed_area(&ring) == 0.0 {
+        if ring.len() < 3 || all_collinear(&ring) {
             return Err(Error::Degenerate {
                 argument: "region",
                 reason: format!("ring {r} has no area (fewer than three distinct vertices, or all on one line)"),
@@ -74,6 +116,27 @@ fn rings_of(vertices: &[Point], ring_offsets: &[usize]) -> Result<Vec<Vec<Point>
         return Err(Error::Degenerate { argument: "region", reason: "the region has no area (no rings)".into() });
     }
     Ok(rings)
+}
+
+/// The boundary edges `[from, to]` of `rings`, ring after ring.
+fn segments_of(rings: &[Vec<Point>]) -> Vec<[Point; 2]> {
+    rings.iter().flat_map(|ring| (0..ring.len()).map(move |k| [ring[k], ring[(k + 1) % ring.len()]])).collect()
+}
+
+/// An R-tree of `segments`, each carrying its position.
+fn index_of(segments: &[[Point; 2]]) -> RTree<Edge> {
+    RTree::bulk_load(segments.iter().enumerate().map(|(k, s)| GeomWithData::new(Line::new(s[0], s[1]), k)).collect())
+}
+
+/// The first pair of edges `k < j` that cross or overlap ([`conflict`]), and how.
+fn first_conflict(segments: &[[Point; 2]], edges: &RTree<Edge>) -> Option<(usize, usize, &'static str)> {
+    segments.iter().enumerate().find_map(|(k, s)| {
+        let envelope = AABB::from_corners(s[0], s[1]);
+        edges
+            .locate_in_envelope_intersecting(envelope)
+            .filter(|other| other.data > k)
+            .find_map(|other| conflict(*s, segments[other.data]).map(|how| (k, other.data, how)))
+    })
 }
 
 /// True when the ray from `p` towards +x crosses segment `a b` (half-open in y, so a ray
@@ -99,8 +162,9 @@ fn on_segment(a: Point, b: Point, p: Point) -> bool {
 /// crossing or an overlap along a stretch (both make the even-odd region ill-defined).
 fn conflict(e: [Point; 2], f: [Point; 2]) -> Option<&'static str> {
     let (a, b, c, d) = (e[0], e[1], f[0], f[1]);
-    let (o1, o2) = (orient2d(a, b, c), orient2d(a, b, d));
-    let (o3, o4) = (orient2d(c, d, a), orient2d(c, d, b));
+    // Signs (exact at any scale): a product of two tiny determinants would underflow to 0.
+    let (o1, o2) = (orientation(a, b, c), orientation(a, b, d));
+    let (o3, o4) = (orientation(c, d, a), orientation(c, d, b));
     if o1 * o2 < 0.0 && o3 * o4 < 0.0 {
         return Some("cross");
     }
@@ -130,9 +194,8 @@ impl FeasibleRegion {
     /// # Runtime
     /// O(m log m) for m vertices, plus the edge pairs whose boxes overlap.
     pub fn new(vertices: &[Point], ring_offsets: &[usize]) -> Result<FeasibleRegion> {
-        let rings = rings_of(vertices, ring_offsets)?;
+        let rings = checked_rings(vertices, ring_offsets)?;
         let region = FeasibleRegion::of_rings(&rings);
-        region.check_simple()?;
         if !(region.area > 0.0) {
             return Err(Error::Degenerate { argument: "region", reason: "the region has no area".into() });
         }
@@ -141,11 +204,8 @@ impl FeasibleRegion {
 
     /// The region of checked rings (no validation).
     fn of_rings(rings: &[Vec<Point>]) -> FeasibleRegion {
-        let segments: Vec<[Point; 2]> =
-            rings.iter().flat_map(|ring| (0..ring.len()).map(move |k| [ring[k], ring[(k + 1) % ring.len()]])).collect();
-        let edges = RTree::bulk_load(
-            segments.iter().enumerate().map(|(k, s)| GeomWithData::new(Line::new(s[0], s[1]), k)).collect(),
-        );
+        let segments = segments_of(rings);
+        let edges = index_of(&segments);
         let all: Vec<Point> = rings.iter().flatten().copied().collect();
         let bounds = BoundingBox::of(&all).expect("at least one ring");
         let mut region = FeasibleRegion { segments, edges, bounds, area: 0.0 };
@@ -172,31 +232,6 @@ impl FeasibleRegion {
         let bounds = BoundingBox::of(&all).expect("at least one edge");
         let scale_factor = distance(f([0.0, 0.0]), f([1.0, 0.0]));
         FeasibleRegion { segments, edges, bounds, area: self.area * scale_factor * scale_factor }
-    }
-
-    /// Refuse edges that cross or overlap.
-    fn check_simple(&self) -> Result<()> {
-        for (k, s) in self.segments.iter().enumerate() {
-            let envelope = AABB::from_corners(s[0], s[1]);
-            for other in self.edges.locate_in_envelope_intersecting(envelope) {
-                let j = other.data;
-                if j <= k {
-                    continue;
-                }
-                if let Some(how) = conflict(*s, self.segments[j]) {
-                    let at = s[0];
-                    return Err(Error::Degenerate {
-                        argument: "region",
-                        reason: format!(
-                            "boundary edges {k} and {j} {how} (edge {k} starts at ({}, {})); a region's rings must \
-                             not intersect themselves or each other",
-                            at[0], at[1]
-                        ),
-                    });
-                }
-            }
-        }
-        Ok(())
     }
 
     /// The boundary edges `[from, to]`.

@@ -53,6 +53,10 @@ fn bad_regions_are_refused_by_name() {
     // A bow tie crosses itself.
     let e = FeasibleRegion::new(&[[0.0, 0.0], [4.0, 4.0], [4.0, 0.0], [0.0, 1.0]], &[0, 4]).unwrap_err();
     assert!(e.to_string().contains("cross"), "{e}");
+    // A symmetric bow tie's lobes cancel (signed area 0), yet it has area: the reason is the
+    // crossing of its diagonals at (5, 5) (closed form), not a lack of area.
+    let e = FeasibleRegion::new(&[[0.0, 0.0], [10.0, 10.0], [10.0, 0.0], [0.0, 10.0]], &[0, 4]).unwrap_err();
+    assert!(e.to_string().contains("boundary edges 0 and 2 cross"), "{e}");
     // Two squares sharing part of an edge overlap along it.
     let mut v = square(0.0, 2.0);
     v.extend([[2.0, 1.0], [3.0, 1.0], [3.0, 3.0], [2.0, 3.0]]);

@@ -73,8 +73,9 @@ pub(crate) fn validate_powers(powers: &[f64], site_count: usize) -> Result<()> {
 /// - [`Error::LengthMismatch`] / [`Error::NonFiniteValue`] for powers that are not one finite
 ///   value per site;
 /// - [`Error::RepeatedPoint`] for two sites at one location (whatever their powers);
-/// - [`Error::Degenerate`] for a region without area, powers spanning more than the float
-///   range, or (without a region) sites that all coincide;
+/// - [`Error::Degenerate`] for a region without area or with edges that cross or overlap,
+///   powers spanning more than the float range, or (without a region) sites that all
+///   coincide;
 /// - [`Error::InvalidParameter`] for ring offsets that do not describe the vertices.
 ///
 /// # Runtime
