@@ -59,7 +59,7 @@ pub enum Error {
         /// Argument name.
         argument: &'static str,
     },
-    /// Two arguments that must have one entry per point disagree in length.
+    /// Two arguments that must have one entry per point (or site, or row) disagree in length.
     LengthMismatch {
         /// Argument whose length is wrong.
         argument: &'static str,
@@ -327,7 +327,15 @@ impl Error {
                 format!("{argument} are all zero; at least one weight must be positive")
             }
             Error::LengthMismatch { argument, expected, got } => {
-                format!("{argument} must have one entry per point ({expected}); got {got}")
+                // What each entry belongs to: a site, a row of a network's edge arrays or
+                // lines, a point of the first set, or a point.
+                let per = match *argument {
+                    "powers" | "site_groups" => "site",
+                    "cost" | "reverse_cost" | "one_way" | "head" => "row",
+                    "b" => "point of a",
+                    _ => "point",
+                };
+                format!("{argument} must have one entry per {per} ({expected}); got {got}")
             }
             Error::TooFewPoints { argument, needed, got, counted } => {
                 // "at least 1 point", "at least 3 distinct points".

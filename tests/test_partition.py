@@ -966,3 +966,15 @@ def test_nearest_site_at_extreme_scales_matches_cdist_at_unit_scale(scale) -> No
     unit = pw.p_center(pts[:200], 2).weighted_radius
     assert pw.p_center(pts[:200] * scale, 2).weighted_radius / scale == pytest.approx(unit, rel=1e-9)
 
+
+
+def test_a_length_mismatch_names_what_each_entry_belongs_to() -> None:
+    # site_groups and powers hold one entry per site, not per point as the message said.
+    points = np.array([[0.0, 0.0], [1.0, 0.0], [0.0, 1.0]])
+    sites = np.array([[0.0, 0.0], [1.0, 1.0]])
+    with pytest.raises(pw.InputError, match=r"site_groups must have one entry per site \(2\); got 1"):
+        pw.nearest_site(points, sites, groups=[1, 1, 1], site_groups=[1])
+    with pytest.raises(pw.InputError, match=r"powers must have one entry per site \(2\); got 3"):
+        pw.power_cells(sites, [0.0, 0.0, 0.0])
+    with pytest.raises(pw.InputError, match=r"groups must have one entry per point \(3\); got 2"):
+        pw.nearest_site(points, sites, groups=[1, 1], site_groups=[1, 1])

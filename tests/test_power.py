@@ -140,7 +140,7 @@ def test_refusals_name_the_row():
         pw.power_cells([[0, 0], [1, 0]], [0.0, np.nan])
     with pytest.raises(pw.InputError, match=r"powers\[0\] = inf"):
         pw.power_cells([[0, 0], [1, 0]], [np.inf, 0.0])
-    with pytest.raises(pw.InputError, match="powers must have one entry per point"):
+    with pytest.raises(pw.InputError, match="powers must have one entry per site"):
         pw.power_cells([[0, 0], [1, 0]], [0.0])
 
 

@@ -742,3 +742,9 @@ def test_a_one_way_streets_missing_reverse_cost_is_accepted_and_never_used():
     streets.loc[1, "back"] = np.nan
     with pytest.raises(pw.InputError, match="reverse_cost"):
         travel_graph(streets, cost="minutes", reverse_cost="back", one_way="oneway")
+
+
+def test_edge_arrays_of_different_lengths_name_the_row_count():
+    # The cost column holds one entry per edge row, not per point as the message said.
+    with pytest.raises(pw.InputError, match=r"cost must have one entry per row \(2\); got 1"):
+        pw.TravelGraph.from_edges([0, 1], [1, 2], [1.0])

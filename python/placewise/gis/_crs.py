@@ -242,7 +242,8 @@ def _areal_lonlat(frame: Any, name: str, centroids: bool) -> np.ndarray:
     wgs84 = frame if CRS(frame.crs).equals(_WGS84) else frame.to_crs(_WGS84)
     lonlat = _points_of(wgs84, name, centroids)
     geoms = wgs84.geometry.values
-    areal = np.flatnonzero(shapely.get_type_id(geoms) != shapely.GeometryType.POINT) if centroids else []
+    areal = (np.flatnonzero(shapely.get_type_id(geoms) != shapely.GeometryType.POINT) if centroids
+             else np.empty(0, dtype=np.int64))
     if len(areal) == 0:
         return lonlat
     zones = _utm_epsg(lonlat[areal, 0], lonlat[areal, 1])
