@@ -23,6 +23,7 @@ import shapely
 from pyproj import CRS, Transformer
 
 from .._sphere import lonlat_area, lonlat_line
+from ._columns import turn_of
 
 #: Largest distance, metres in the working frame, between a drawn edge and the true one.
 DRAW_TOLERANCE_M = 0.01
@@ -41,7 +42,8 @@ def drawn(geoms: Any, work: Any, crs: Any) -> np.ndarray:
     source, target = CRS(work), CRS(crs)
     forward = Transformer.from_crs(source, target, always_xy=True)
     backward = Transformer.from_crs(target, source, always_xy=True)
-    half_turn = _half_turn(target) if target.is_geographic else None
+    # The antimeridian's longitude in the CRS's unit: 180 degrees, 200 grads.
+    half_turn = turn_of(target) / 2 if target.is_geographic else None
     paths: list[np.ndarray] = []
     recipes = [_recipe(g, paths) for g in geoms]
     ends = _densified(paths, forward, backward, DRAW_TOLERANCE_M / _metres_per_unit(source), half_turn)
@@ -50,13 +52,6 @@ def drawn(geoms: Any, work: Any, crs: Any) -> np.ndarray:
     for k, recipe in enumerate(recipes):
         out[k] = _built(recipe, paths, ends, forward, half_turn, poles)
     return out
-
-
-def _half_turn(crs: Any) -> float:
-    """The antimeridian's longitude in a geographic CRS's unit: 180 degrees, 200 grads."""
-    axes = crs.axis_info
-    factor = float(axes[0].unit_conversion_factor) if axes else np.pi / 180.0  # radians per unit
-    return float(np.pi / factor) if np.isfinite(factor) and factor > 0 else 180.0
 
 
 def _metres_per_unit(crs: Any) -> float:
