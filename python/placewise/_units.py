@@ -10,7 +10,9 @@ from __future__ import annotations
 
 from typing import Any
 
-__all__ = ["check_on_earth", "check_unit", "length_unit_of", "unit_of", "unit_words"]
+import numpy as np
+
+__all__ = ["check_on_earth", "check_unit", "length_unit_of", "si_per_unit", "unit_of", "unit_words"]
 
 # By the axis unit's name as PROJ gives it, lower-cased.
 _UNIT_NAMES = {
@@ -37,6 +39,26 @@ def unit_of(crs: Any) -> str:
     axes = crs.axis_info
     name = (axes[0].unit_name if axes else "").strip().lower()
     return _UNIT_NAMES.get(name, "".join(ch for ch in name if ch.isalnum()) or "u")
+
+
+def si_per_unit(crs: Any, default: float = 1.0) -> float:
+    """Metres (projected) or radians (geographic) in one unit of a CRS's first axis, as PROJ
+    gives it: 0.3048006 for US survey feet, pi/200 for grads; ``default`` where the CRS has no
+    axis or no usable factor.
+
+    Examples
+    --------
+    >>> from placewise._units import si_per_unit
+    >>> round(si_per_unit("EPSG:2263"), 7), si_per_unit("EPSG:32632")
+    (0.3048006, 1.0)
+    """
+    if not hasattr(crs, "axis_info"):
+        from pyproj import CRS
+
+        crs = CRS(crs)
+    axes = crs.axis_info
+    factor = float(axes[0].unit_conversion_factor) if axes else default
+    return factor if np.isfinite(factor) and factor > 0 else default
 
 
 def unit_words(unit: str) -> str:

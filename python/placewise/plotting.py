@@ -20,6 +20,8 @@ from typing import Any
 
 import numpy as np
 
+from ._units import unit_words
+
 __all__ = [
     "LAKE",
     "LAND",
@@ -208,16 +210,9 @@ def draw_segments(ax: Any, starts: np.ndarray, ends: np.ndarray, **style: Any) -
 # --------------------------------------------------------------------------- axes dressing
 
 
-def unit_name(unit: str) -> str:
-    """How a result's ``unit`` reads on an axis: ``"u"`` is the input's coordinate unit.
-
-    Examples
-    --------
-    >>> from placewise.plotting import unit_name
-    >>> unit_name("u"), unit_name("m")
-    ('coordinate units', 'm')
-    """
-    return "coordinate units" if unit == "u" else unit
+# How a result's ``unit`` reads on an axis ("u", the input's coordinate unit, as
+# "coordinate units"): the words every message uses.
+unit_name = unit_words
 
 
 def quantity(value: float, unit: str, power: int = 1) -> str:

@@ -20,6 +20,7 @@ except ImportError:  # pragma: no cover - exercised only without the extra
 
 from .._core import InputError
 from .._errors import plain, refuse
+from .._units import si_per_unit
 
 
 def as_frame(obj: Any, name: str) -> Any:
@@ -79,9 +80,7 @@ def unique_labels(index: Any, name: str, series: bool = False) -> None:
 def turn_of(crs: Any) -> float:
     """A whole turn of longitude in a geographic CRS's own angular unit (360 degrees, 400
     grads), read from its first axis."""
-    axes = CRS(crs).axis_info
-    factor = float(axes[0].unit_conversion_factor) if axes else np.pi / 180.0  # radians per unit
-    return 2.0 * np.pi / factor if np.isfinite(factor) and factor > 0 else 360.0
+    return 2.0 * np.pi / si_per_unit(CRS(crs), default=np.pi / 180.0)
 
 
 def joined_across_antimeridian(geoms: np.ndarray, turn: float) -> np.ndarray:

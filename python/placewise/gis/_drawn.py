@@ -23,6 +23,7 @@ import shapely
 from pyproj import CRS, Transformer
 
 from .._sphere import lonlat_area, lonlat_line
+from .._units import si_per_unit
 from ._columns import turn_of
 
 #: Largest distance, metres in the working frame, between a drawn edge and the true one.
@@ -46,18 +47,12 @@ def drawn(geoms: Any, work: Any, crs: Any) -> np.ndarray:
     half_turn = turn_of(target) / 2 if target.is_geographic else None
     paths: list[np.ndarray] = []
     recipes = [_recipe(g, paths) for g in geoms]
-    ends = _densified(paths, forward, backward, DRAW_TOLERANCE_M / _metres_per_unit(source), half_turn)
+    ends = _densified(paths, forward, backward, DRAW_TOLERANCE_M / si_per_unit(source), half_turn)
     poles = _poles_in(source, target, half_turn, backward) if half_turn is not None else []
     out = np.empty(len(geoms), dtype=object)
     for k, recipe in enumerate(recipes):
         out[k] = _built(recipe, paths, ends, forward, half_turn, poles)
     return out
-
-
-def _metres_per_unit(crs: Any) -> float:
-    axes = crs.axis_info
-    factor = float(axes[0].unit_conversion_factor) if axes else 1.0
-    return factor if np.isfinite(factor) and factor > 0 else 1.0
 
 
 def _recipe(geom: Any, paths: list[np.ndarray]) -> Any:

@@ -24,7 +24,7 @@ except ImportError:  # pragma: no cover - exercised only without the extra
 
 from .._core import InputError
 from .._errors import check_errors, labelled, refuse, restate, restate_problems
-from .._units import check_on_earth, unit_of
+from .._units import check_on_earth, si_per_unit, unit_of
 from ._columns import Groups, _points_of, as_frame, column, groups_of
 from ._crs import (
     _WGS84,
@@ -87,9 +87,7 @@ class Prepared:
         US State Plane zone)."""
         if self.crs is None or self.work is None or self.ellipsoid or not CRS(self.crs).is_geographic:
             return length
-        axes = CRS(self.work).axis_info
-        per_unit = axes[0].unit_conversion_factor if axes else 1.0
-        return length / per_unit
+        return length / si_per_unit(CRS(self.work))
 
     @property
     def rows(self) -> np.ndarray:

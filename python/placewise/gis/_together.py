@@ -25,6 +25,7 @@ from pyproj import CRS
 
 from .._core import InputError
 from .._errors import refuse
+from .._units import si_per_unit
 from ._columns import _points_of, as_frame, groups_of, turn_of
 from ._crs import MAX_SCALE_ERROR, _check_lonlat
 from ._frames import Prepared, prepare
@@ -52,10 +53,7 @@ def region_step(series: Any) -> float:
     grads), read from its first axis.
     """
     crs = CRS(series.crs)
-    axes = crs.axis_info
-    factor = float(axes[0].unit_conversion_factor) if axes else 1.0  # metres (or radians) per unit
-    if not (np.isfinite(factor) and factor > 0):
-        factor = 1.0
+    factor = si_per_unit(crs)  # metres (or radians) per unit
     most = (np.radians(_REGION_STEP_DEGREES) if crs.is_geographic else _REGION_STEP_METRES) / factor
     west, south, east, north = series.total_bounds
     piece = float(np.hypot(east - west, north - south)) / _REGION_PIECES
